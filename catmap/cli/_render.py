@@ -1,0 +1,38 @@
+"""Shared rendering helpers for the CLI: one rich console, JSON output for --json."""
+
+from __future__ import annotations
+
+import json
+from collections.abc import Mapping
+from datetime import date, datetime
+from decimal import Decimal
+from pathlib import Path
+from typing import Any
+
+import click
+from rich.console import Console
+
+console = Console(highlight=False)
+err_console = Console(stderr=True, highlight=False)
+
+
+def _default(value: Any) -> Any:
+    if isinstance(value, Decimal):
+        return str(value)
+    if isinstance(value, (datetime, date)):
+        return value.isoformat()
+    if isinstance(value, Path):
+        return str(value)
+    if isinstance(value, (set, frozenset, tuple)):
+        return list(value)
+    raise TypeError(f"not JSON serialisable: {type(value).__name__}")
+
+
+def echo_json(facts: Mapping[str, Any]) -> None:
+    """Print the facts of a report as one JSON document on stdout (for --json)."""
+    click.echo(json.dumps(facts, default=_default, ensure_ascii=False, indent=2))
+
+
+json_option = click.option(
+    "--json", "as_json", is_flag=True, help="Print the same facts as JSON, for scripts and CI."
+)
