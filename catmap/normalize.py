@@ -1,0 +1,521 @@
+"""Pure normalisers for raw feed values: text, price, currency, GTIN, availability, category path.
+
+Every public function here takes any ``str`` and never raises (except :func:`gs1_check_digit`,
+which is a helper for digit strings only), has no I/O, and returns the same result when applied
+to its own output. They run once per field of every record, so plain values take fast paths:
+HTML work only when the text has ``<`` or ``&``, NFKC only when the text is not already in
+NFKC form, mojibake repair only when typical mojibake pairs ("Ã©", "â€™") appear. Functions
+whose inputs repeat a lot across a feed (currency, availability, category path, price) are
+cached.
+"""
+
+from __future__ import annotations
+
+import html
+import re
+import unicodedata
+from decimal import Decimal, InvalidOperation
+from functools import lru_cache
+
+import ftfy
+
+from catmap._currency import (
+    DOLLAR_CURRENCIES,
+    ISO_4217_CODES,
+    KRONA_CURRENCIES,
+    MINOR_UNITS,
+    SYMBOLS,
+    WORDS,
+    YEN_CURRENCIES,
+)
+
+__all__ = [
+    "clean_line",
+    "clean_text",
+    "gs1_check_digit",
+    "normalize_availability",
+    "normalize_currency",
+    "normalize_gtin",
+    "parse_price",
+    "split_category_path",
+]
+
+# ---------------------------------------------------------------------------------------------
+# Text
+
+# Characters that carry no text: C0/C1 controls other than the whitespace ones (which the
+# whitespace collapse handles), soft hyphen, zero-width space, direction marks and embeddings,
+# word joiner and invisible operators, byte order mark, lone surrogates, U+FFFE/U+FFFF.
+_INVISIBLE_RE = re.compile(
+    "[\x00-\x08\x0e-\x1b\x7f-\x84\x86-\x9f\u00ad\u200b\u200e\u200f\u202a-\u202e"
+    "\u2060-\u2064\ufeff\ufffe\uffff\ud800-\udfff]"
+)
+_ASCII_INVISIBLE_RE = re.compile("[\x00-\x08\x0e-\x1b\x7f]")
+
+# A UTF-8 lead byte read as Latin-1/cp1252 (Â..ô) followed by a continuation byte read the same
+# way: the signature of UTF-8 text decoded with the wrong single-byte codec.
+_MOJIBAKE_RE = re.compile(
+    "[\u00c2-\u00f4][\u0080-\u00bf\u0152\u0153\u0160\u0161\u0178\u017d\u017e\u0192\u02c6"
+    "\u02dc\u2013\u2014\u2018\u2019\u201a\u201c\u201d\u201e\u2020\u2021\u2022\u2026\u2030"
+    "\u2039\u203a\u20ac\u2122]"
+)
+
+_DROPPED_BLOCK_RE = re.compile(
+    r"<(script|style|noscript|template)\b[^>]*>.*?(?:</\1\s*>|\Z)", re.IGNORECASE | re.DOTALL
+)
+_COMMENT_RE = re.compile(r"<!--.*?(?:-->|\Z)", re.DOTALL)
+_LINE_TAG_RE = re.compile(
+    r"<\s*/?\s*(?:br|p|div|li|ul|ol|tr|table|thead|tbody|h[1-6]|dt|dd|dl|section|article|"
+    r"header|footer|blockquote|pre|hr)\b[^<>]*>",
+    re.IGNORECASE,
+)
+_CELL_TAG_RE = re.compile(r"<\s*/?\s*(?:td|th)\b[^<>]*>", re.IGNORECASE)
+_OTHER_TAG_RE = re.compile(r"</?[A-Za-z][^<>]*>|<[!?][^<>]*>")
+
+# Passes of the full pipeline before giving up on reaching a fixed point. Real text settles in
+# one or two passes; the cap only bounds pathological input built to unfold layer by layer.
+_MAX_PASSES = 8
+
+
+def _strip_html(text: str) -> str:
+    text = _DROPPED_BLOCK_RE.sub(" ", text)
+    text = _COMMENT_RE.sub(" ", text)
+    text = _LINE_TAG_RE.sub("\n", text)
+    text = _CELL_TAG_RE.sub(" ", text)
+    return _OTHER_TAG_RE.sub("", text)
+
+
+def _unescape(text: str) -> str:
+    # Feeds often escape twice ("&amp;eacute;"); three rounds cover what is seen in practice.
+    for _ in range(3):
+        unescaped = html.unescape(text)
+        if unescaped == text:
+            break
+        text = unescaped
+    return text
+
+
+def _collapse(text: str, one_line: bool) -> str:
+    if one_line:
+        return " ".join(text.split())
+    lines = (" ".join(line.split()) for line in text.splitlines())
+    return "\n".join(line for line in lines if line)
+
+
+def _one_pass(text: str, one_line: bool) -> tuple[str, bool]:
+    """Run the pipeline once; also tell whether a step other than whitespace changed the text."""
+    text = _INVISIBLE_RE.sub("", text)
+    before = text
+    if _MOJIBAKE_RE.search(text):
+        text = ftfy.fix_encoding(text)
+    if "&" in text:
+        text = _unescape(text)
+    if "<" in text:
+        text = _strip_html(text)
+    if not unicodedata.is_normalized("NFKC", text):
+        text = unicodedata.normalize("NFKC", text)
+    changed = text != before
+    return _collapse(text, one_line), changed
+
+
+def _clean(value: str, one_line: bool) -> str:
+    if value.isascii() and "<" not in value and "&" not in value:
+        if _ASCII_INVISIBLE_RE.search(value):
+            value = _ASCII_INVISIBLE_RE.sub("", value)
+        return _collapse(value, one_line)
+    text = value
+    for _ in range(_MAX_PASSES):
+        text, changed = _one_pass(text, one_line)
+        if not changed:
+            break
+    return text
+
+
+def clean_text(value: str) -> str:
+    """Turn a raw feed value into clean multi-line text.
+
+    HTML tags are dropped (``<br>``, ``<p>``, ``<li>`` and other block tags become line breaks;
+    ``<script>``/``<style>`` content goes), entities are unescaped (double-escaped ones too),
+    mojibake is repaired, the text is put in Unicode NFKC form, invisible control characters are
+    removed, runs of spaces become one space, empty lines go and the ends are trimmed.
+
+    Args:
+        value: any string.
+
+    Returns:
+        The cleaned text, lines separated by ``"\\n"``; ``clean_text(clean_text(x)) ==
+        clean_text(x)``.
+
+    Example:
+        >>> clean_text("<p>Caf&amp;eacute; <b>cr&egrave;me</b></p><p>2nd</p>")
+        'Café crème\\n2nd'
+    """
+    return _clean(value, one_line=False)
+
+
+def clean_line(value: str) -> str:
+    """Like :func:`clean_text` for one-line fields (titles, brands): line breaks become spaces.
+
+    Args:
+        value: any string.
+
+    Returns:
+        The cleaned single line.
+    """
+    return _clean(value, one_line=True)
+
+
+# ---------------------------------------------------------------------------------------------
+# Currency
+
+
+def _strip_accents(text: str) -> str:
+    decomposed = unicodedata.normalize("NFKD", text)
+    return "".join(ch for ch in decomposed if not unicodedata.combining(ch))
+
+
+@lru_cache(maxsize=4096)
+def normalize_currency(value: str) -> str | None:
+    """Return the ISO 4217 alphabetic code for a currency code, symbol or common word.
+
+    A bare ``$`` is read as ``USD`` and a bare ``¥`` as ``JPY`` (both are shared by several
+    currencies; :func:`parse_price` prefers the feed's default when it uses the same symbol).
+
+    Args:
+        value: e.g. ``"€"``, ``"eur"``, ``"EUR"``, ``"euros"``, ``"Schweizer Franken"``.
+
+    Returns:
+        The code, or None when the value names no currency catmap knows.
+    """
+    text = " ".join(unicodedata.normalize("NFKC", value).split()).casefold().strip(" .:")
+    if not text:
+        return None
+    if len(text) == 3 and text.isascii() and text.upper() in ISO_4217_CODES:
+        return text.upper()
+    for key in (text, text + "."):
+        if key in SYMBOLS:
+            return SYMBOLS[key]
+    if text in WORDS:
+        return WORDS[text]
+    plain = _strip_accents(text)
+    return WORDS.get(plain)
+
+
+# ---------------------------------------------------------------------------------------------
+# Price
+
+# Digit groups separated by one space, apostrophe, point or comma; an optional ",-" / ".–"
+# ("12,-" means 12.00 in German and Swiss price tags).
+_NUMBER_RE = re.compile(r"\d+(?:[ '\u2019.,]\d+)*(?:[.,][-\u2013\u2014](?!\d))?")
+_SEPARATOR_RE = re.compile(r"[ '\u2019.,]")
+_GAP_RE = re.compile(r"[\s:()\[\]/*]+")
+_MAX_DIGITS = 18  # no retail price needs more; also keeps Decimal well inside its precision
+
+
+def _number_parts(number: str) -> tuple[str, str] | None:
+    """Split a number written with separators into (integer digits, fraction digits).
+
+    Rule: the last separator is the decimal mark when it is a point or comma that appears once
+    and is followed by anything but exactly three digits (or follows a lone "0", as in "0.500");
+    every other separator must group three digits. Spaces and apostrophes only group thousands.
+    """
+    number = number.rstrip("-\u2013\u2014")
+    number = number.rstrip(".,")
+    groups = _SEPARATOR_RE.split(number)
+    separators = _SEPARATOR_RE.findall(number)
+    if not separators:
+        return number, ""
+    last = separators[-1]
+
+    def thousands(parts: list[str]) -> bool:
+        return 1 <= len(parts[0]) <= 3 and all(len(part) == 3 for part in parts[1:])
+
+    if len(set(separators)) == 1:
+        if last in " '\u2019" or len(separators) > 1:
+            return ("".join(groups), "") if thousands(groups) else None
+        head, tail = groups
+        if len(tail) == 3 and len(head) <= 3 and head.strip("0"):
+            return head + tail, ""
+        return head, tail
+    if last not in ".," or separators.count(last) != 1:
+        return None
+    if len(set(separators[:-1])) != 1 or not thousands(groups[:-1]):
+        return None
+    return "".join(groups[:-1]), groups[-1]
+
+
+def _currency_in(text: str, default: str | None) -> tuple[str | None, bool]:
+    """Find a currency in the non-number part of a price; (code, found in text)."""
+    text = text.strip(" \t:-\u2013()[]/*").casefold()
+    if not text:
+        return None, False
+    tokens = [text] + [token for token in _GAP_RE.split(text) if token]
+    for token in tokens:
+        if token in ("$", "\uffe5", "¥") or token in ("kr", "kr."):
+            if token == "$":
+                return (default if default in DOLLAR_CURRENCIES else "USD"), True
+            if token.startswith("kr"):
+                return (default if default in KRONA_CURRENCIES else None), True
+            return (default if default in YEN_CURRENCIES else "JPY"), True
+        code = normalize_currency(token)
+        if code is not None:
+            return code, True
+    return None, False
+
+
+@lru_cache(maxsize=8192)
+def parse_price(
+    value: str, default_currency: str | None = None
+) -> tuple[Decimal | None, str | None]:
+    """Read an amount and its currency from a price as feeds write it.
+
+    Accepts a thousands separator (point, comma, space, apostrophe) and a decimal point or comma,
+    decided from the last separator and the digit group lengths: "1.234,56 €", "€1,234.56",
+    "EUR 12,50", "12.50 USD", "1 299,00", "1'299.00", "12", "12,5", "12,-", "¥1200". A single
+    point or comma followed by exactly three digits groups thousands ("1.234" is 1234), except
+    after a lone zero ("0.500"). A bare ``$`` is USD unless ``default_currency`` is another
+    dollar currency, a bare ``¥`` JPY unless the default is CNY, a bare "kr" the default krona.
+
+    Args:
+        value: the raw price text.
+        default_currency: currency (code, symbol or word) to use when the text names none.
+
+    Returns:
+        ``(amount, code)``: the amount quantized to the currency's minor units (more places are
+        kept when the text has them; 2 when the currency is unknown), the ISO 4217 code or None.
+        ``(None, None)`` when the text holds no single non-negative amount.
+    """
+    if len(value) > 100:
+        return None, None
+    text = value
+    if "&" in text:
+        text = html.unescape(text)
+    if not unicodedata.is_normalized("NFKC", text):
+        text = unicodedata.normalize("NFKC", text)
+    text = " ".join(text.split())
+    matches = list(_NUMBER_RE.finditer(text))
+    if len(matches) != 1:
+        return None, None
+    match = matches[0]
+    before, after = text[: match.start()], text[match.end() :]
+    if before.rstrip().endswith(("-", "\u2212")) or after.lstrip().startswith("%"):
+        return None, None
+    parts = _number_parts(match.group())
+    if parts is None:
+        return None, None
+    whole, fraction = parts
+    if not whole or len(whole) + len(fraction) > _MAX_DIGITS:
+        return None, None
+    default = normalize_currency(default_currency) if default_currency else None
+    currency, found = _currency_in(before + " " + after, default)
+    if not found:
+        currency = default
+    places = max(MINOR_UNITS.get(currency or "", 2), len(fraction))
+    try:
+        amount = Decimal(f"{whole}.{fraction or '0'}").quantize(Decimal(1).scaleb(-places))
+    except InvalidOperation:
+        return None, None
+    return amount, currency
+
+
+# ---------------------------------------------------------------------------------------------
+# GTIN
+
+
+def gs1_check_digit(body: str) -> int:
+    """Compute the GS1 mod-10 check digit of a GTIN body (every digit but the check digit).
+
+    GS1 General Specifications: from the rightmost body digit leftwards, weights 3, 1, 3, 1...;
+    the check digit brings the weighted sum up to the next multiple of ten.
+
+    Args:
+        body: ASCII digits only.
+
+    Returns:
+        The check digit, 0-9.
+
+    Raises:
+        ValueError: when ``body`` is not a non-empty string of ASCII digits.
+    """
+    if not body or not (body.isascii() and body.isdigit()):
+        raise ValueError(f"a GTIN body is made of digits, got {body!r}")
+    total = 0
+    for position, char in enumerate(reversed(body)):
+        total += int(char) * (3 if position % 2 == 0 else 1)
+    return (10 - total % 10) % 10
+
+
+_GTIN_LENGTHS = frozenset({8, 12, 13, 14})
+_GTIN_NOISE_RE = re.compile(r"[\s\-\u2010-\u2015]")
+
+
+def normalize_gtin(value: str) -> tuple[str | None, str | None]:
+    """Check a GTIN-8/12/13/14 and return it as a GTIN-14.
+
+    Spaces and hyphens are ignored, and so is a trailing ".0" left by a spreadsheet.
+
+    Args:
+        value: the raw code.
+
+    Returns:
+        ``(gtin14, None)`` when valid (left zero-padded to 14 digits); otherwise ``(None,
+        problem)`` with problem one of "gtin_not_digits", "gtin_bad_length",
+        "gtin_invalid_check_digit".
+    """
+    digits = _GTIN_NOISE_RE.sub("", value)
+    if digits.endswith(".0"):
+        digits = digits[:-2]
+    if not (digits.isascii() and digits.isdigit()):
+        return None, ("gtin_not_digits" if digits else "gtin_bad_length")
+    if len(digits) not in _GTIN_LENGTHS:
+        return None, "gtin_bad_length"
+    if gs1_check_digit(digits[:-1]) != int(digits[-1]):
+        return None, "gtin_invalid_check_digit"
+    return digits.zfill(14), None
+
+
+# ---------------------------------------------------------------------------------------------
+# Availability
+
+# Whole values (after lower-casing, removing accents, "_"/"-" as spaces). Common practice, no
+# source: feeds export booleans and stock counts as availability.
+_AVAILABILITY_EXACT: dict[str, str] = {
+    **dict.fromkeys(
+        [
+            "true", "yes", "y", "oui", "ja", "si", "available", "disponible", "instock",
+            "in stock", "en stock", "auf lager", "lieferbar", "sofort lieferbar", "verfugbar",
+            "vorratig", "lagernd", "en existencia", "hay stock", "con stock",
+        ],
+        "available",
+    ),
+    **dict.fromkeys(
+        [
+            "false", "no", "n", "non", "nein", "sold out", "soldout", "out of stock",
+            "outofstock", "unavailable", "indisponible", "epuise", "ausverkauft", "agotado",
+            "agotada", "vergriffen",
+        ],
+        "sold_out",
+    ),
+    **dict.fromkeys(
+        [
+            "preorder", "pre order", "precommande", "pre commande", "vorbestellbar",
+            "vorbestellung", "preventa", "reserva", "coming soon", "backorder", "back order",
+            "demnachst", "proximamente",
+        ],
+        "coming_soon",
+    ),
+    **dict.fromkeys(
+        ["limited", "low stock", "few left", "limitee", "limitado", "begrenzt"], "limited"
+    ),
+}
+
+# Searched in this order: announcements first ("available from", "disponible prochainement"),
+# then scarcity ("only 2 left in stock"), then negations ("not available", "indisponible"),
+# then plain availability.
+_AVAILABILITY_PATTERNS: tuple[tuple[str, re.Pattern[str]], ...] = (
+    (
+        "coming_soon",
+        re.compile(
+            r"pre ?order|pre ?commande|precommander|vorbestell|pre ?venta|\breserva|"
+            r"coming soon|bientot|prochainement|demnachst|in kurze|proximamente|"
+            r"back ?order|reapprovisionnement|available (?:from|on)|lieferbar ab|"
+            r"disponible (?:a partir|des le|desde|el)|sur commande|auf bestellung|bajo pedido"
+        ),
+    ),
+    (
+        "limited",
+        re.compile(
+            r"limited|limitee?s?\b|limitad[oa]|few left|only \d+ left|low stock|"
+            r"last (?:items|units|pieces)|derni(?:er|ere)s? (?:articles|exemplaires|pieces)|"
+            r"plus que \d+|quelques|wenige|nur noch|geringer bestand|begrenzt|"
+            r"ultimas unidades|pocas unidades|quedan \d+|almost gone|selling fast"
+        ),
+    ),
+    (
+        "sold_out",
+        re.compile(
+            r"out of stock|sold ?out|not (?:available|in stock)|unavailable|no stock|"
+            r"discontinued|rupture|epuise|indisponible|(?:non|pas|plus|n'est pas) disponible|"
+            r"pas en stock|hors stock|ausverkauft|vergriffen|nicht (?:mehr )?(?:auf lager|"
+            r"verfugbar|lieferbar|vorratig|erhaltlich)|agotad[oa]|sin (?:stock|existencias)|"
+            r"no disponible|fuera de stock|no hay stock"
+        ),
+    ),
+    (
+        "available",
+        re.compile(
+            r"in ?stock|en stock|auf lager|lagernd|vorratig|verfugbar|lieferbar|available|"
+            r"disponible|en existencia|hay stock|con stock|ships in|expedie sous|"
+            r"versandbereit|sofort"
+        ),
+    ),
+)
+_COUNT_RE = re.compile(
+    r"(?:(?:stock|lager|bestand|qty|quantity|quantite|cantidad|existencias)\s*:?\s*)?"
+    r"(\d+)(?:\.0+)?(?:\s*(?:pcs|pieces|stuck|unidades|units|items))?"
+)
+
+
+@lru_cache(maxsize=4096)
+def normalize_availability(value: str) -> str:
+    """Map free availability text (English, French, German, Spanish) to catmap's own values.
+
+    Stock counts count too: "0" is sold out, a positive whole number is available.
+
+    Args:
+        value: the raw text, e.g. "auf Lager", "rupture de stock", "pre-order", "3", "yes".
+
+    Returns:
+        One of ``catmap.records.AVAILABILITY_VALUES``; "unknown" for anything not recognised.
+    """
+    text = _strip_accents(clean_line(value).casefold())
+    text = " ".join(text.replace("_", " ").replace("-", " ").strip(" .!:").split())
+    if not text:
+        return "unknown"
+    exact = _AVAILABILITY_EXACT.get(text)
+    if exact is not None:
+        return exact
+    count = _COUNT_RE.fullmatch(text)
+    if count is not None:
+        return "sold_out" if int(count.group(1)) == 0 else "available"
+    for result, pattern in _AVAILABILITY_PATTERNS:
+        if pattern.search(text):
+            return result
+    return "unknown"
+
+
+# ---------------------------------------------------------------------------------------------
+# Category path
+
+_STRONG_SEPARATOR_RE = re.compile(r"[>|\u00bb\u203a\u2192\u21d2\u27a4\u25b8]")
+_SLASH_RE = re.compile(r"(?<!\d)/|/(?!\d)")  # a slash between two digits is a fraction ("1/2")
+_DASH_RE = re.compile(r" [-\u2013\u2014] ")
+
+
+@lru_cache(maxsize=8192)
+def split_category_path(value: str) -> tuple[str, ...]:
+    """Split a retailer's category path into cleaned levels.
+
+    Separators: ``>``, ``|``, ``»``, ``›``, ``→``. When none of these appears, ``/`` separates
+    levels unless it sits between two digits ("1/2 sleeve") or the value is a URL; when neither
+    appears, " - " separates levels (never a bare hyphen: "T-shirts" stays whole).
+
+    Args:
+        value: e.g. "Women > Shoes > Boots", "Damen/Schuhe", "Hommes - Chemises".
+
+    Returns:
+        The non-empty levels, each cleaned with :func:`clean_line`; ``()`` for an empty value.
+    """
+    text = clean_line(value)
+    if not text:
+        return ()
+    if _STRONG_SEPARATOR_RE.search(text):
+        parts = _STRONG_SEPARATOR_RE.split(text)
+    elif "/" in text and "://" not in text and not text.casefold().startswith("www."):
+        parts = _SLASH_RE.split(text)
+        if len(parts) == 1:
+            parts = _DASH_RE.split(text)
+    else:
+        parts = _DASH_RE.split(text)
+    levels = (clean_line(part) for part in parts)
+    return tuple(level for level in levels if level)
