@@ -697,12 +697,6 @@ def load_tree(path: str | Path) -> CategoryTree:
                 )
             if version is not None:
                 raise TreeError("second '@tree-version' header", path=shown, line=number)
-            if nodes:
-                raise TreeError(
-                    "the '@tree-version' header must come before the first node",
-                    path=shown,
-                    line=number,
-                )
             value = value.strip()
             if not value.isdigit() or not value.isascii():
                 raise TreeError(
