@@ -1,0 +1,130 @@
+"""Open a feed file as a byte stream, decompressing gzip or single-member zip on the fly.
+
+Compression is recognised by its magic bytes, never by the file name: retailers send
+``feed.csv`` files that are really gzip, and ``.gz`` files that are not.
+"""
+
+from __future__ import annotations
+
+import gzip
+import io
+import zipfile
+from pathlib import Path
+from typing import IO
+
+from catmap.errors import FeedFormatError
+
+_GZIP_MAGIC = b"\x1f\x8b"
+_ZIP_MAGIC = b"PK\x03\x04"
+_ZIP_EMPTY_MAGIC = b"PK\x05\x06"
+
+
+def detect_compression(path: str | Path) -> str | None:
+    """Return "gzip", "zip" or None from the first bytes of ``path``.
+
+    Raises:
+        FeedFormatError: the file cannot be opened.
+    """
+    try:
+        with open(path, "rb") as handle:
+            magic = handle.read(4)
+    except OSError as exc:
+        raise FeedFormatError(
+            f"cannot open the feed: {exc.strerror or exc}", path=path,
+            hint="check the path and the file's permissions",
+        ) from exc
+    if magic.startswith(_GZIP_MAGIC):
+        return "gzip"
+    if magic in (_ZIP_MAGIC, _ZIP_EMPTY_MAGIC):
+        return "zip"
+    return None
+
+
+class _ZipMember(io.BufferedReader):
+    """A zip member's bytes that also closes the archive when closed."""
+
+    def __init__(self, archive: zipfile.ZipFile, member: str) -> None:
+        super().__init__(archive.open(member))  # type: ignore[arg-type]
+        self._archive = archive
+
+    def close(self) -> None:
+        try:
+            super().close()
+        finally:
+            self._archive.close()
+
+
+def _zip_member_name(archive: zipfile.ZipFile, path: str | Path) -> str:
+    members = [
+        info.filename
+        for info in archive.infolist()
+        if not info.is_dir() and not info.filename.startswith("__MACOSX/")
+    ]
+    if not members:
+        raise FeedFormatError(
+            "the zip archive holds no file", path=path, hint="send the feed itself or a zip of it"
+        )
+    if len(members) > 1:
+        listed = ", ".join(members[:10]) + (", ..." if len(members) > 10 else "")
+        raise FeedFormatError(
+            f"the zip archive holds {len(members)} files, catmap reads one feed per archive",
+            path=path,
+            hint=f"unzip it and give catmap one of: {listed}",
+        )
+    return members[0]
+
+
+def open_binary(path: str | Path) -> tuple[IO[bytes], str | None]:
+    """Open ``path`` for reading as decompressed bytes.
+
+    Args:
+        path: the feed file.
+
+    Returns:
+        The byte stream (the caller closes it) and the compression found ("gzip", "zip", None).
+
+    Raises:
+        FeedFormatError: the file cannot be opened, or a zip holds no file or several files.
+    """
+    compression = detect_compression(path)
+    if compression == "gzip":
+        return gzip.open(path, "rb"), compression
+    if compression == "zip":
+        try:
+            archive = zipfile.ZipFile(path)
+        except zipfile.BadZipFile as exc:
+            raise FeedFormatError(
+                f"the zip archive is damaged: {exc}", path=path,
+                hint="ask the sender for the file again",
+            ) from exc
+        try:
+            member = _zip_member_name(archive, path)
+            return _ZipMember(archive, member), compression
+        except BaseException:
+            archive.close()
+            raise
+    return open(path, "rb"), None
+
+
+def read_head(path: str | Path, size: int) -> tuple[bytes, bool, str | None]:
+    """Read the first ``size`` decompressed bytes of ``path``.
+
+    Returns:
+        The bytes, whether they are the whole file, and the compression.
+
+    Raises:
+        FeedFormatError: the file cannot be opened or decompressed.
+    """
+    stream, compression = open_binary(path)
+    try:
+        try:
+            head = stream.read(size + 1)
+        except (OSError, EOFError, zipfile.BadZipFile) as exc:
+            raise FeedFormatError(
+                f"cannot decompress the feed ({compression}): {exc}", path=path,
+                hint="the file may be truncated; ask the sender for it again",
+            ) from exc
+    finally:
+        stream.close()
+    complete = len(head) <= size
+    return head[:size], complete, compression

@@ -1,0 +1,232 @@
+"""Find a feed's encoding and format from its first bytes, and track undecodable bytes.
+
+Encoding, in order: a byte-order mark; strict UTF-8 on the sample; otherwise charset-normalizer
+on the sample, preferring cp1252 to latin-1 because Western feeds that are not UTF-8 are nearly
+always Windows-1252 (common practice, no source). The stream is then decoded with an error
+handler that turns each undecodable byte into a lone surrogate (as ``surrogateescape`` does) and
+counts them, so one bad byte deep in a big file rejects one record instead of stopping the run.
+"""
+
+from __future__ import annotations
+
+import codecs
+import json
+import re
+import unicodedata
+from pathlib import Path
+
+import charset_normalizer
+
+from catmap.errors import FeedFormatError
+
+SAMPLE_SIZE = 1 << 20
+FORMATS = ("delimited", "xml", "jsonl")
+_FORMAT_ALIASES = {
+    "delimited": "delimited", "csv": "delimited", "tsv": "delimited", "txt": "delimited",
+    "text": "delimited", "xml": "xml", "jsonl": "jsonl", "ndjson": "jsonl", "json": "jsonl",
+    "jsonlines": "jsonl",
+}
+_BOMS = (
+    (codecs.BOM_UTF32_LE, "utf-32"),
+    (codecs.BOM_UTF32_BE, "utf-32"),
+    (codecs.BOM_UTF8, "utf-8-sig"),
+    (codecs.BOM_UTF16_LE, "utf-16"),
+    (codecs.BOM_UTF16_BE, "utf-16"),
+)
+SURROGATES = re.compile("[\ud800-\udfff]")
+ERROR_HANDLER = "catmap-escape"
+
+
+class _EscapeCounter:
+    """Counts lone surrogates produced by the decoding error handler, for all streams.
+
+    Readers remember the count they last saw; when it moves they scan records for surrogates
+    until they have found as many as were produced. Interleaved streams can only make a reader
+    scan more than needed, never miss a bad record.
+    """
+
+    produced = 0
+
+
+ESCAPES = _EscapeCounter()
+
+
+def _escape(exc: UnicodeError) -> tuple[str, int]:
+    if not isinstance(exc, UnicodeDecodeError):
+        raise exc
+    bad = exc.object[exc.start : exc.end]
+    ESCAPES.produced += len(bad)
+    # Bytes >= 0x80 as surrogateescape does; lower ones (odd UTF-16 tails) likewise in U+DC00..
+    return "".join(chr(0xDC00 + b) for b in bad), exc.end
+
+
+codecs.register_error(ERROR_HANDLER, _escape)
+
+
+def normalize_format(value: str, path: str | Path) -> str:
+    """Map a user's format name ("csv", "xml", "jsonl", ...) onto one of :data:`FORMATS`.
+
+    Raises:
+        FeedFormatError: an unknown format name.
+    """
+    found = _FORMAT_ALIASES.get(value.strip().lower())
+    if found is None:
+        raise FeedFormatError(
+            f"unknown feed format {value!r}", path=path,
+            hint="use --format delimited, xml or jsonl",
+        )
+    return found
+
+
+def codec_name(encoding: str, path: str | Path) -> str:
+    """Return Python's canonical codec name for ``encoding``.
+
+    Raises:
+        FeedFormatError: Python knows no such encoding.
+    """
+    try:
+        return codecs.lookup(encoding).name
+    except LookupError as exc:
+        raise FeedFormatError(
+            f"unknown encoding {encoding!r}", path=path,
+            hint="use --encoding utf-8, cp1252, latin-1, utf-16 ...",
+        ) from exc
+
+
+def _looks_utf16(head: bytes) -> str | None:
+    """Return "utf-16-le"/"utf-16-be" for BOM-less UTF-16 of mostly ASCII text, else None."""
+    sample = head[:4096]
+    if len(sample) < 4:
+        return None
+    even, odd = sample[0::2], sample[1::2]
+    if odd.count(0) > 0.9 * len(odd) and even.count(0) < 0.1 * len(even):
+        return "utf-16-le"
+    if even.count(0) > 0.9 * len(even) and odd.count(0) < 0.1 * len(odd):
+        return "utf-16-be"
+    return None
+
+
+def check_text(head: bytes, path: str | Path) -> None:
+    """Refuse binary data (NUL bytes or many control characters) that is not a text feed.
+
+    Raises:
+        FeedFormatError: the sample is not text.
+    """
+    sample = head[:65536]
+    controls = sum(sample.count(bytes([c])) for c in range(32) if c not in (9, 10, 12, 13))
+    if b"\x00" in sample or (sample and controls > 0.05 * len(sample)):
+        raise FeedFormatError(
+            "the file holds binary data, it is not a text feed", path=path,
+            hint="give catmap a CSV / XML / JSON Lines file, or its gzip or zip",
+        )
+
+
+def detect_encoding(head: bytes, given: str | None, path: str | Path) -> tuple[str, str]:
+    """Choose the codec for a feed.
+
+    Args:
+        head: the first decompressed bytes of the feed.
+        given: the user's ``--encoding``, if any.
+        path: the feed, for error messages.
+
+    Returns:
+        (Python codec name, source) with source "bom", "detected" or "given".
+
+    Raises:
+        FeedFormatError: binary data, or an unknown given encoding.
+    """
+    if given:
+        name = codec_name(given, path)
+        if name == "utf-8" and head.startswith(codecs.BOM_UTF8):
+            name = "utf-8-sig"
+        if not name.startswith(("utf-16", "utf-32")):
+            check_text(head, path)
+        return name, "given"
+    for bom, name in _BOMS:
+        if head.startswith(bom):
+            return name, "bom"
+    utf16 = _looks_utf16(head)
+    if utf16:
+        return utf16, "detected"
+    check_text(head, path)
+    decoder = codecs.getincrementaldecoder("utf-8")("strict")
+    try:
+        decoder.decode(head, final=False)  # a sample cut mid-character is still UTF-8
+        return "utf-8", "detected"
+    except UnicodeDecodeError:
+        pass
+    matches = list(charset_normalizer.from_bytes(head))
+    if not matches:
+        return ("cp1252" if _western_cp1252(head) else "latin-1"), "detected"
+    best = codec_name(matches[0].encoding, path)
+    if not _latin_family(best):
+        return best, "detected"
+    if _western_cp1252(head):
+        return "cp1252", "detected"
+    for match in matches:
+        name = codec_name(match.encoding, path)
+        if _latin_family(name) and name not in ("cp1252", "latin_1", "iso8859_15"):
+            return name, "detected"
+    return best, "detected"
+
+
+def _latin_family(name: str) -> bool:
+    """Tell whether a codec is a single-byte encoding for Latin-script languages."""
+    non_latin = {"cp1251", "cp1253", "cp1255", "cp1256", "iso8859_5", "iso8859_6",
+                 "iso8859_7", "iso8859_8", "iso8859_11"}
+    if name in non_latin:
+        return False
+    return name.startswith(("cp125", "iso8859_", "mac_", "cp85", "cp437", "cp775")) or name in (
+        "latin_1", "hp_roman8")
+
+
+def _western_cp1252(head: bytes) -> bool:
+    """Tell whether ``head`` reads as Western European text in cp1252.
+
+    True when cp1252 decodes it and nearly all non-ASCII characters are Latin letters or the
+    punctuation and symbols Western feeds use (€, quotes, dashes, °, ×...); text in cp1250 or
+    another Latin-script code page shows stray symbols such as "³" or "¹" instead.
+    """
+    try:
+        text = head.decode("cp1252")
+    except UnicodeDecodeError:
+        return False
+    others = [c for c in text if ord(c) > 127]
+    if not others:
+        return True
+    good = sum(
+        1 for c in others if c in _WESTERN_SYMBOLS or unicodedata.name(c, "").startswith("LATIN")
+    )
+    return good >= 0.95 * len(others)
+
+
+_WESTERN_SYMBOLS = set("€‚„…†‡‰‹›‘’“”•–—™«»°±×÷§©®¿¡ª£¥¢\xa0·")
+
+
+def decode_head(head: bytes, encoding: str) -> str:
+    """Decode a sample, dropping a character cut at its end; bad bytes become surrogates."""
+    decoder = codecs.getincrementaldecoder(encoding)("surrogateescape")
+    return decoder.decode(head, final=False)
+
+
+def detect_format(text: str) -> str:
+    """Return "xml", "jsonl" or "delimited" from the start of the decoded feed."""
+    stripped = text.lstrip("\ufeff \t\r\n")
+    if stripped.startswith("<"):
+        return "xml"
+    if stripped.startswith("{"):
+        first = stripped.split("\n", 1)[0].strip()
+        try:
+            if isinstance(json.loads(first), dict):
+                return "jsonl"
+        except ValueError:
+            pass
+        # A first line cut by the sample, or a damaged first record: still JSON Lines.
+        if "\n" not in stripped or first.endswith("}"):
+            return "jsonl"
+    return "delimited"
+
+
+def suggest_other_encoding(encoding: str) -> str:
+    """Name the encoding to try with --encoding when ``encoding`` failed on some bytes."""
+    return "cp1252" if encoding.startswith("utf") else "utf-8"

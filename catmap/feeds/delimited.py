@@ -1,0 +1,233 @@
+"""Read delimited text feeds (comma, semicolon, tab or pipe) as a stream of records.
+
+Parsing is the standard library's C ``csv`` reader over the decoded text stream, so the
+per-row Python work is one dict build. Each record keeps only its non-empty cells (a missing
+value is an absent key, as :class:`~catmap.records.SourceRecord` says), which saves memory on
+wide, sparse feeds.
+"""
+
+from __future__ import annotations
+
+import csv
+import io
+import re
+from collections import Counter
+from collections.abc import Iterator
+from pathlib import Path
+
+from catmap.errors import FeedFormatError
+from catmap.feeds import _sniff
+from catmap.feeds._compression import open_binary
+from catmap.records import Reject, SourceRecord
+
+DELIMITERS = (",", ";", "\t", "|")
+_DELIMITER_NAMES = {"tab": "\t", "\\t": "\t", "comma": ",", "semicolon": ";", "pipe": "|"}
+# Large enough for a 5 MB product description, small enough that an unterminated quote in a
+# huge file stops with an error instead of swallowing it all into memory.
+FIELD_SIZE_LIMIT = 64 * 1024 * 1024
+csv.field_size_limit(max(csv.field_size_limit(), FIELD_SIZE_LIMIT))
+
+_NUMBER = re.compile(r"^[-+]?[\d\s.,]*\d[\d\s.,]*\s*(%|[A-Za-z]{3}|[€$£¥])?$")
+_URL = re.compile(r"^(https?://|www\.)", re.IGNORECASE)
+_EXCERPT = 200
+
+
+def parse_delimiter(value: str, path: str | Path) -> str:
+    """Turn a user's ``--delimiter`` ("tab", "\\t", ";", ...) into one character.
+
+    Raises:
+        FeedFormatError: not a single character.
+    """
+    found = _DELIMITER_NAMES.get(value.lower(), value)
+    if len(found) != 1:
+        raise FeedFormatError(
+            f"the delimiter must be one character, got {value!r}", path=path,
+            hint="use --delimiter ',' ';' '|' or tab",
+        )
+    return found
+
+
+def sample_rows(text: str, delimiter: str, limit: int) -> list[list[str]]:
+    """Parse up to ``limit`` non-empty rows of a decoded sample (the last one may be cut short)."""
+    rows: list[list[str]] = []
+    reader = csv.reader(io.StringIO(text, newline=""), delimiter=delimiter)
+    try:
+        for row in reader:
+            if row:
+                rows.append(row)
+            if len(rows) >= limit:
+                break
+    except csv.Error:
+        pass  # the sample may end inside a quoted field
+    return rows
+
+
+def sniff_delimiter(text: str) -> str:
+    """Choose the delimiter whose cell count is most consistent over the first lines.
+
+    Counting is done by the csv parser itself, so delimiters inside quotes are ignored. The
+    score is (share of rows with the most common cell count, that count); a candidate giving
+    one cell per row never wins. Comma is the fallback.
+    """
+    if "\n" in text:
+        text = text[: text.rfind("\n") + 1] or text
+    best: tuple[float, int] = (0.0, 1)
+    chosen = ","
+    for delimiter in DELIMITERS:
+        if delimiter not in text:
+            continue
+        counts = [len(row) for row in sample_rows(text, delimiter, 50)]
+        if not counts:
+            continue
+        mode, times = Counter(counts).most_common(1)[0]
+        if mode < 2:
+            continue
+        score = (round(times / len(counts), 2), mode)
+        if score > best:
+            best, chosen = score, delimiter
+    return chosen
+
+
+def _looks_like_value(cell: str) -> bool:
+    cell = cell.strip()
+    return bool(
+        _NUMBER.match(cell) or _URL.match(cell) or len(cell) > 60 or cell.count(" ") > 6
+    )
+
+
+def sniff_header(text: str, delimiter: str) -> bool:
+    """Tell whether the first row names the columns.
+
+    A header row has no empty cell, no cell that looks like a value (a number, a URL, long
+    text), no repeated cell; and when a second row exists, either it has a value-looking cell
+    or its cells differ from the first row's (common practice, no source).
+    """
+    rows = sample_rows(text, delimiter, 2)
+    if not rows:
+        return False
+    first = rows[0]
+    if any(not cell.strip() or _looks_like_value(cell) for cell in first):
+        return False
+    if len(set(first)) != len(first):
+        return False
+    if len(rows) == 1:
+        return True
+    second = rows[1]
+    return any(_looks_like_value(cell) for cell in second) or second != first
+
+
+def header_names(row: list[str]) -> tuple[str, ...]:
+    """Clean header cells into unique column names ("column_N" for blanks, "_2" for repeats)."""
+    names: list[str] = []
+    seen: set[str] = set()
+    for index, cell in enumerate(row, start=1):
+        name = cell.strip().lstrip("\ufeff") or f"column_{index}"
+        base, suffix = name, 2
+        while name in seen:
+            name = f"{base}_{suffix}"
+            suffix += 1
+        seen.add(name)
+        names.append(name)
+    return tuple(names)
+
+
+def _excerpt(row: list[str], delimiter: str) -> str:
+    text = delimiter.join(row)
+    return text[:_EXCERPT] + ("..." if len(text) > _EXCERPT else "")
+
+
+def read_first_row(path: str | Path, encoding: str, delimiter: str) -> list[str] | None:
+    """Return the first non-empty row of the feed (the full header, however wide)."""
+    stream, _ = open_binary(path)
+    with io.TextIOWrapper(stream, encoding=encoding, errors=_sniff.ERROR_HANDLER, newline="") as text:
+        try:
+            for row in csv.reader(text, delimiter=delimiter, strict=True):
+                if row:
+                    return row
+        except csv.Error:
+            return None
+    return None
+
+
+def iter_delimited(
+    path: str | Path,
+    *,
+    encoding: str,
+    delimiter: str,
+    columns: tuple[str, ...],
+    has_header: bool,
+) -> Iterator[SourceRecord | Reject]:
+    """Yield one :class:`SourceRecord` per data row, or a :class:`Reject` for a bad row.
+
+    Args:
+        path: the feed file (gzip / zip are opened transparently).
+        encoding: the codec to decode with.
+        delimiter: the cell separator.
+        columns: the column names (the cleaned header, or "column_N").
+        has_header: skip the first non-empty row.
+
+    Yields:
+        Records with the line each starts on; rejects "ragged_row", "bad_encoding" or
+        "unparseable_record".
+
+    Raises:
+        FeedFormatError: an unterminated quote, or a field larger than the limit.
+    """
+    width = len(columns)
+    other = _sniff.suggest_other_encoding(encoding)
+    escapes = _sniff.ESCAPES
+    seen = escapes.produced
+    pending = 0
+    header_pending = has_header
+    stream, _ = open_binary(path)
+    with io.TextIOWrapper(stream, encoding=encoding, errors=_sniff.ERROR_HANDLER, newline="") as text:
+        reader = csv.reader(text, delimiter=delimiter, strict=True)
+        previous = 0  # reader.line_num after the previous row: the next row starts one later
+        while True:
+            try:
+                row = next(reader)
+            except StopIteration:
+                return
+            except csv.Error as exc:
+                start = previous + 1
+                previous = reader.line_num
+                message = str(exc)
+                if "unexpected end of data" in message or "field larger" in message:
+                    raise FeedFormatError(
+                        "a quoted field opened here is never closed"
+                        + (" (it grew past the field size limit)" if "larger" in message else ""),
+                        path=path, line=start,
+                        hint='a stray " swallowed the rest of the file; double it ("") inside '
+                        "quoted text or remove it",
+                    ) from exc
+                yield Reject("unparseable_record", f"cannot split the row: {message}",
+                             start, f"line {start}", "")
+                continue
+            start = previous + 1
+            previous = reader.line_num
+            if not row:
+                continue
+            if header_pending:
+                header_pending = False
+                continue
+            if escapes.produced != seen:
+                pending += escapes.produced - seen
+                seen = escapes.produced
+            if pending:
+                found = sum(len(_sniff.SURROGATES.findall(cell)) for cell in row)
+                if found:
+                    pending = max(0, pending - found)
+                    excerpt = _sniff.SURROGATES.sub("\ufffd", _excerpt(row, delimiter))
+                    yield Reject(
+                        "bad_encoding",
+                        f"bytes that are not valid {encoding}; try --encoding {other}",
+                        start, f"line {start}", excerpt,
+                    )
+                    continue
+            if len(row) != width:
+                yield Reject(
+                    "ragged_row", f"expected {width} cells, found {len(row)}",
+                    start, f"line {start}", _excerpt(row, delimiter),
+                )
+                continue
+            yield SourceRecord({k: v for k, v in zip(columns, row) if v}, start, f"line {start}")

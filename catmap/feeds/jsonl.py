@@ -1,0 +1,90 @@
+"""Read JSON Lines feeds: one JSON object per line, flattened into text fields.
+
+Nested objects become dotted names ("shipping.price"); list items are joined with " | " (a list
+of objects gives one joined field per key: "images.url"). Numbers keep their written form
+("9.90" stays "9.90"), booleans become "true" / "false", and null is an absent field.
+"""
+
+from __future__ import annotations
+
+import io
+import json
+from collections.abc import Iterator
+from pathlib import Path
+from typing import Any
+
+from catmap.feeds import _sniff
+from catmap.feeds._compression import open_binary
+from catmap.records import Reject, SourceRecord
+
+JOIN = " | "
+_EXCERPT = 200
+_decoder = json.JSONDecoder(parse_float=str, parse_int=str, parse_constant=str)
+
+
+def _add(out: dict[str, str], key: str, value: str) -> None:
+    out[key] = out[key] + JOIN + value if key in out else value
+
+
+def flatten(value: Any, prefix: str, out: dict[str, str]) -> None:
+    """Flatten a decoded JSON value into ``out`` under the dotted name ``prefix``."""
+    if isinstance(value, dict):
+        for key, item in value.items():
+            flatten(item, f"{prefix}.{key}" if prefix else str(key), out)
+    elif isinstance(value, list):
+        for item in value:
+            flatten(item, prefix, out)
+    elif value is None:
+        return
+    elif value is True:
+        _add(out, prefix, "true")
+    elif value is False:
+        _add(out, prefix, "false")
+    else:
+        text = str(value)
+        if text:
+            _add(out, prefix, text)
+
+
+def iter_jsonl(path: str | Path, *, encoding: str) -> Iterator[SourceRecord | Reject]:
+    """Yield one :class:`SourceRecord` per JSON object line, a :class:`Reject` per bad line.
+
+    Args:
+        path: the feed file (gzip / zip are opened transparently).
+        encoding: the codec to decode with.
+
+    Yields:
+        Records, or rejects "unparseable_record" (not JSON, or not an object) and
+        "bad_encoding".
+    """
+    other = _sniff.suggest_other_encoding(encoding)
+    stream, _ = open_binary(path)
+    with io.TextIOWrapper(stream, encoding=encoding, errors=_sniff.ERROR_HANDLER, newline="\n") as text:
+        for number, raw in enumerate(text, start=1):
+            line = raw.strip()
+            if not line:
+                continue
+            location = f"line {number}"
+            excerpt = line[:_EXCERPT]
+            if _sniff.SURROGATES.search(line):
+                yield Reject(
+                    "bad_encoding", f"bytes that are not valid {encoding}; try --encoding {other}",
+                    number, location, _sniff.SURROGATES.sub("\ufffd", excerpt),
+                )
+                continue
+            try:
+                value = _decoder.decode(line)
+            except ValueError as exc:
+                yield Reject("unparseable_record", f"not valid JSON: {exc}", number, location,
+                             excerpt)
+                continue
+            if not isinstance(value, dict):
+                yield Reject(
+                    "unparseable_record",
+                    f"the line holds a JSON {type(value).__name__}, not an object",
+                    number, location, excerpt,
+                )
+                continue
+            fields: dict[str, str] = {}
+            flatten(value, "", fields)
+            yield SourceRecord(fields, number, location)
