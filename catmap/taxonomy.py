@@ -498,7 +498,7 @@ class CategoryTree:
         return self._search_index
 
     def search_matches(
-        self, text: str, *, limit: int = 10, under: str | None = None
+        self, text: str, *, limit: int = 10, under: str | None = None, min_score: float = 0.0
     ) -> list[SearchMatch]:
         """Find the nodes whose name or terms (any language) resemble ``text``.
 
@@ -509,9 +509,11 @@ class CategoryTree:
             text: what to look for.
             limit: at most this many nodes.
             under: only nodes in this node's subtree (itself included).
+            min_score: leave out nodes scoring below this (nodes scoring 0 are always left out).
 
         Returns:
-            Matches, best first; on equal scores the longer matched term first, then file order.
+            Matches, best first; on equal scores the term closest to the whole query first, then
+            file order.
         """
         query = fold_text(text)
         if not query or limit <= 0:
@@ -520,19 +522,27 @@ class CategoryTree:
         if under is not None:
             allowed = {under, *(n.id for n in self.descendants(under))}
         choices, owners, lengths = self._build_search_index()
-        scores = _score_terms(query, choices, lengths)
+        scores, whole = _score_terms(query, choices, lengths)
         best: dict[str, tuple[float, int]] = {}
         for position in np.flatnonzero(scores > 0).tolist():
             node_id = owners[position][0]
             if allowed is not None and node_id not in allowed:
                 continue
             score = float(scores[position])
-            if node_id not in best or score > best[node_id][0]:
+            if score < min_score:
+                continue
+            kept = best.get(node_id)
+            if (
+                kept is None
+                or score > kept[0]
+                or (score == kept[0] and whole[position] > whole[kept[1]])
+            ):
                 best[node_id] = (score, position)
-        # Ties: the longer matched term is the more specific evidence, then file order.
+        # Ties (frequent: a term whose words all occur in the query scores 95): the term most
+        # like the whole query first, then file order.
         ranked = sorted(
             best.items(),
-            key=lambda item: (-item[1][0], -lengths[item[1][1]], self._index[item[0]]),
+            key=lambda item: (-item[1][0], -whole[item[1][1]], self._index[item[0]]),
         )
         matches = []
         for node_id, (score, position) in ranked[:limit]:
@@ -559,15 +569,19 @@ _PARTIAL_WEIGHT = 0.8
 _PARTIAL_MIN_LENGTH = 4
 
 
-def _score_terms(query: str, choices: list[str], lengths: np.ndarray[Any, Any]) -> Any:
-    """Score a folded query against every folded term at once: an array of 0..100.
+def _score_terms(query: str, choices: list[str], lengths: np.ndarray[Any, Any]) -> tuple[Any, Any]:
+    """Score a folded query against every folded term at once.
 
     rapidfuzz's ``cdist`` runs each measure over all terms in C. Partial matching is only used
     for queries of four characters or more and only when the query is the shorter string, so
     that a short term hidden inside a long query ("te" in "vetements") does not score high.
+
+    Returns:
+        Two arrays of 0..100: the score, and the plain whole-string similarity used to break
+        ties.
     """
     if not choices:
-        return np.zeros(0)
+        return np.zeros(0), np.zeros(0)
     whole = process.cdist([query], choices, scorer=fuzz.ratio, dtype=np.float32)[0]
     tokens = process.cdist([query], choices, scorer=fuzz.token_set_ratio, dtype=np.float32)[0]
     scores = np.maximum(whole, tokens * _TOKEN_SET_WEIGHT)
@@ -575,7 +589,7 @@ def _score_terms(query: str, choices: list[str], lengths: np.ndarray[Any, Any]) 
         partial = process.cdist([query], choices, scorer=fuzz.partial_ratio, dtype=np.float32)[0]
         partial[lengths < len(query)] = 0
         scores = np.maximum(scores, partial * _PARTIAL_WEIGHT)
-    return np.round(scores.astype(np.float64), 1)
+    return np.round(scores.astype(np.float64), 1), whole
 
 
 def _parents_first(nodes: list[Node]) -> list[Node]:

@@ -1,0 +1,269 @@
+"""The ``catmap tree`` commands: check the category tree, show a part of it, search it."""
+
+from __future__ import annotations
+
+from collections.abc import Callable, Mapping
+from typing import Any, TypeVar
+
+import click
+from rich.table import Table
+from rich.text import Text
+from rich.tree import Tree
+
+from catmap.cli._render import console, echo_json, json_option
+from catmap.errors import UnknownNode
+from catmap.taxonomy import (
+    CategoryTree,
+    Node,
+    default_tree_path,
+    load_default_tree,
+    load_tree,
+    summarize_tree,
+)
+
+F = TypeVar("F", bound=Callable[..., Any])
+
+
+def _tree_version_option(func: F) -> F:
+    return click.option(
+        "--tree-version",
+        type=click.IntRange(min=1),
+        default=1,
+        show_default=True,
+        metavar="N",
+        help="Use the shared tree of this version (taxonomies/tree-vN.txt).",
+    )(func)
+
+
+def _tree_file_option(func: F) -> F:
+    return click.option(
+        "--tree-file",
+        type=click.Path(dir_okay=False),
+        default=None,
+        metavar="FILE",
+        help="Use this tree file instead of the shared tree.",
+    )(func)
+
+
+def _open_tree(tree_file: str | None, tree_version: int) -> CategoryTree:
+    if tree_file is not None:
+        return load_tree(tree_file)
+    return load_default_tree(tree_version)
+
+
+def _resolve_node(tree: CategoryTree, text: str) -> Node:
+    """Find a node by id, or by a path of names separated by '>'."""
+    text = text.strip()
+    if text in tree:
+        return tree[text]
+    if text.isdigit():
+        raise UnknownNode(
+            f"no node with id '{text}' in tree version {tree.version}",
+            path=tree.path,
+            hint="find ids with `catmap tree search TEXT`",
+        )
+    return tree.find_path(text)
+
+
+@click.group("tree")
+def tree_group() -> None:
+    """Check, show and search the shared category tree."""
+
+
+@tree_group.command("validate")
+@click.argument("tree_file", required=False, type=click.Path(dir_okay=False))
+@_tree_version_option
+@json_option
+def validate_command(tree_file: str | None, tree_version: int, as_json: bool) -> None:
+    """Check a tree file and count its nodes.
+
+    TREE_FILE defaults to the shared tree (see --tree-version). A broken file stops with one
+    line naming the file and line of the first problem.
+    """
+    path = tree_file if tree_file is not None else default_tree_path(tree_version)
+    facts = summarize_tree(load_tree(path))
+    if as_json:
+        echo_json(facts)
+        return
+    console.print(f"Tree file: {facts['path']}")
+    console.print(f"Tree version: {facts['version']}")
+    console.print(f"Nodes: {facts['nodes']}")
+    levels = ", ".join(f"level {level}: {count}" for level, count in facts["levels"].items())
+    console.print(f"Nodes per level: {levels}")
+    table = Table(title="Nodes per department", title_justify="left")
+    table.add_column("Id")
+    table.add_column("Department")
+    table.add_column("Nodes", justify="right")
+    table.add_column("Leaves", justify="right")
+    for dept in facts["departments"]:
+        table.add_row(dept["id"], dept["name"], str(dept["nodes"]), str(dept["leaves"]))
+    console.print(table)
+    console.print(f"Leaves: {facts['leaves']}")
+    kinds = ", ".join(f"{kind}: {count}" for kind, count in facts["restricted"].items())
+    console.print(
+        f"Restricted nodes: {facts['restricted_nodes']}" + (f" ({kinds})" if kinds else "")
+    )
+    console.print("valid")
+
+
+def render_tree(
+    tree: CategoryTree,
+    root: str | None,
+    depth: int,
+    counts: Mapping[str, int] | None = None,
+) -> Tree:
+    """Build a rich Tree of a part of the category tree.
+
+    Each line reads ``name  [id]``. A node whose children are cut off by ``depth`` also says how
+    many nodes lie below it; a leaf shows nothing more. With ``counts`` every line ends with the
+    count given for its node id (missing ids count 0), e.g. products mapped there.
+
+    Args:
+        tree: the category tree.
+        root: the node to start from, or None for the whole tree (departments first).
+        depth: how many levels below the root to show (at least 1).
+        counts: optional node id -> number to show beside each node.
+
+    Returns:
+        The rich Tree, ready for ``console.print``.
+    """
+
+    def label(node: Node, cut_below: bool) -> Text:
+        text = Text(node.name)
+        text.append(f"  [{node.id}]", style="dim")
+        if counts is not None:
+            text.append(f"  {counts.get(node.id, 0)}", style="bold")
+        if cut_below and not tree.is_leaf(node.id):
+            text.append(f"  (+{len(tree.descendants(node.id))} below)", style="dim italic")
+        return text
+
+    def grow(branch: Tree, nodes: list[Node], level: int) -> None:
+        for child in nodes:
+            twig = branch.add(label(child, cut_below=level >= depth))
+            if level < depth:
+                grow(twig, tree.children(child.id), level + 1)
+
+    if root is None:
+        title = Text(f"Category tree v{tree.version}")
+        if counts is not None:
+            title.append(f"  {sum(counts.values())}", style="bold")
+        top = Tree(title)
+        if depth >= 1:
+            grow(top, tree.departments(), 1)
+        return top
+    node = tree[root]
+    head = label(node, cut_below=depth < 1)
+    parents = tree.path_names(root)[:-1]
+    if parents:
+        head = Text(" > ".join(parents) + " > ", style="dim") + head
+    top = Tree(head)
+    if depth >= 1:
+        grow(top, tree.children(node.id), 1)
+    return top
+
+
+@tree_group.command("show")
+@click.argument("node", required=False)
+@click.option(
+    "--depth",
+    type=click.IntRange(min=1),
+    default=1,
+    show_default=True,
+    metavar="N",
+    help="How many levels below NODE (or below the top) to show.",
+)
+@_tree_version_option
+@_tree_file_option
+def show_command(node: str | None, depth: int, tree_version: int, tree_file: str | None) -> None:
+    """Show the tree as an indented outline.
+
+    NODE is a node id (e.g. 1520) or a path of names such as "Food and drink > Drinks".
+    Without NODE the departments are shown; use --depth to go deeper.
+    """
+    tree = _open_tree(tree_file, tree_version)
+    root = _resolve_node(tree, node).id if node is not None else None
+    console.print(render_tree(tree, root, depth))
+
+
+@tree_group.command("search")
+@click.argument("text")
+@click.option(
+    "--limit",
+    type=click.IntRange(min=1),
+    default=10,
+    show_default=True,
+    metavar="N",
+    help="Show at most this many nodes.",
+)
+@click.option(
+    "--under",
+    metavar="NODE",
+    default=None,
+    help="Only search below this node (an id or a path of names).",
+)
+@click.option(
+    "--min-score",
+    type=click.FloatRange(0, 100),
+    default=40.0,
+    show_default=True,
+    metavar="SCORE",
+    help="Leave out nodes scoring below this (0 to 100).",
+)
+@_tree_version_option
+@_tree_file_option
+@json_option
+def search_command(
+    text: str,
+    limit: int,
+    under: str | None,
+    min_score: float,
+    tree_version: int,
+    tree_file: str | None,
+    as_json: bool,
+) -> None:
+    """Find nodes whose name or keywords resemble TEXT, in any of the tree's languages.
+
+    Accents and letter case do not matter; small typing mistakes are forgiven. The score runs
+    from 0 to 100.
+    """
+    tree = _open_tree(tree_file, tree_version)
+    under_id = _resolve_node(tree, under).id if under is not None else None
+    matches = tree.search_matches(text, limit=limit, under=under_id, min_score=min_score)
+    rows = [
+        {
+            "score": m.score,
+            "id": m.node.id,
+            "path": tree.path_text(m.node.id),
+            "term": m.term,
+            "language": m.language,
+            "matched_name": m.is_name,
+        }
+        for m in matches
+    ]
+    if as_json:
+        echo_json({"query": text, "tree_version": tree.version, "matches": rows})
+        return
+    if not rows:
+        console.print(f"No node resembles '{text}'.")
+        return
+    table = Table(title=f"Nodes resembling '{text}'", title_justify="left")
+    table.add_column("Score", justify="right")
+    table.add_column("Id")
+    table.add_column("Path")
+    table.add_column("Matched term")
+    table.add_column("Language")
+    for match in matches:
+        language = f"{match.language} (name)" if match.is_name else match.language
+        table.add_row(
+            f"{match.score:.0f}",
+            match.node.id,
+            tree.path_text(match.node.id),
+            match.term,
+            language,
+        )
+    console.print(table)
+
+
+def register(main: click.Group) -> None:
+    """Add the ``tree`` command group to catmap's command line."""
+    main.add_command(tree_group)
