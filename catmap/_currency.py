@@ -7,17 +7,19 @@ tests check every code against pycountry's copy of the ISO 4217 list.
 from __future__ import annotations
 
 # ISO 4217 alphabetic codes (written from memory; checked in tests/test_normalize.py against
-# pycountry). Includes fund codes and the X.. codes for precious metals and special units.
+# pycountry, which settled BGN and ZWL (withdrawn), XAD, XCG and ZWG (new)). Includes fund
+# codes and the X.. codes for precious metals and special units.
 ISO_4217_CODES: frozenset[str] = frozenset(
     """
-    AED AFN ALL AMD AOA ARS AUD AWG AZN BAM BBD BDT BGN BHD BIF BMD BND BOB BOV BRL BSD BTN
+    AED AFN ALL AMD AOA ARS AUD AWG AZN BAM BBD BDT BHD BIF BMD BND BOB BOV BRL BSD BTN
     BWP BYN BZD CAD CDF CHE CHF CHW CLF CLP CNY COP COU CRC CUP CVE CZK DJF DKK DOP DZD EGP
     ERN ETB EUR FJD FKP GBP GEL GHS GIP GMD GNF GTQ GYD HKD HNL HTG HUF IDR ILS INR IQD IRR
     ISK JMD JOD JPY KES KGS KHR KMF KPW KRW KWD KYD KZT LAK LBP LKR LRD LSL LYD MAD MDL MGA
     MKD MMK MNT MOP MRU MUR MVR MWK MXN MXV MYR MZN NAD NGN NIO NOK NPR NZD OMR PAB PEN PGK
     PHP PKR PLN PYG QAR RON RSD RUB RWF SAR SBD SCR SDG SEK SGD SHP SLE SOS SRD SSP STN SVC
     SYP SZL THB TJS TMT TND TOP TRY TTD TWD TZS UAH UGX USD USN UYI UYU UYW UZS VED VES VND
-    VUV WST XAF XAG XAU XBA XBB XBC XBD XCD XDR XOF XPD XPF XPT XSU XTS XUA XXX YER ZAR ZMW
+    VUV WST XAD XAF XAG XAU XBA XBB XBC XBD XCD XCG XDR XOF XPD XPF XPT XSU XTS XUA XXX YER
+    ZAR ZMW ZWG
     """.split()
 )
 
@@ -82,7 +84,7 @@ SYMBOLS: dict[str, str] = {
 # currency when the default is one of these.
 DOLLAR_CURRENCIES = frozenset(
     "USD CAD AUD NZD HKD SGD MXN TWD BSD BBD BZD BMD BND FJD GYD JMD KYD LRD NAD SBD SRD TTD "
-    "XCD ZWL ARS CLP COP CUP DOP UYU".split()
+    "XCD ARS CLP COP CUP DOP UYU".split()
 )
 YEN_CURRENCIES = frozenset({"JPY", "CNY"})
 KRONA_CURRENCIES = frozenset({"SEK", "NOK", "DKK", "ISK"})

@@ -212,12 +212,13 @@ _GAP_RE = re.compile(r"[\s:()\[\]/*]+")
 _MAX_DIGITS = 18  # no retail price needs more; also keeps Decimal well inside its precision
 
 
-def _number_parts(number: str) -> tuple[str, str] | None:
+def _number_parts(number: str, minor_units: int) -> tuple[str, str] | None:
     """Split a number written with separators into (integer digits, fraction digits).
 
     Rule: the last separator is the decimal mark when it is a point or comma that appears once
-    and is followed by anything but exactly three digits (or follows a lone "0", as in "0.500");
-    every other separator must group three digits. Spaces and apostrophes only group thousands.
+    and is followed by anything but exactly three digits (or follows a lone "0", as in "0.500",
+    or the currency has three minor units); every other separator must group three digits.
+    Spaces and apostrophes only group thousands.
     """
     number = number.rstrip("-\u2013\u2014")
     number = number.rstrip(".,")
@@ -234,7 +235,7 @@ def _number_parts(number: str) -> tuple[str, str] | None:
         if last in " '\u2019" or len(separators) > 1:
             return ("".join(groups), "") if thousands(groups) else None
         head, tail = groups
-        if len(tail) == 3 and len(head) <= 3 and head.strip("0"):
+        if len(tail) == 3 and len(head) <= 3 and head.strip("0") and minor_units != 3:
             return head + tail, ""
         return head, tail
     if last not in ".," or separators.count(last) != 1:
@@ -273,8 +274,9 @@ def parse_price(
     decided from the last separator and the digit group lengths: "1.234,56 €", "€1,234.56",
     "EUR 12,50", "12.50 USD", "1 299,00", "1'299.00", "12", "12,5", "12,-", "¥1200". A single
     point or comma followed by exactly three digits groups thousands ("1.234" is 1234), except
-    after a lone zero ("0.500"). A bare ``$`` is USD unless ``default_currency`` is another
-    dollar currency, a bare ``¥`` JPY unless the default is CNY, a bare "kr" the default krona.
+    after a lone zero ("0.500") or for a currency with three minor units ("KWD 4.250"). A bare
+    ``$`` is USD unless ``default_currency`` is another dollar currency, a bare ``¥`` JPY
+    unless the default is CNY, a bare "kr" the default krona.
 
     Args:
         value: the raw price text.
@@ -300,17 +302,18 @@ def parse_price(
     before, after = text[: match.start()], text[match.end() :]
     if before.rstrip().endswith(("-", "\u2212")) or after.lstrip().startswith("%"):
         return None, None
-    parts = _number_parts(match.group())
+    default = normalize_currency(default_currency) if default_currency else None
+    currency, found = _currency_in(before + " " + after, default)
+    if not found:
+        currency = default
+    minor_units = MINOR_UNITS.get(currency or "", 2)
+    parts = _number_parts(match.group(), minor_units)
     if parts is None:
         return None, None
     whole, fraction = parts
     if not whole or len(whole) + len(fraction) > _MAX_DIGITS:
         return None, None
-    default = normalize_currency(default_currency) if default_currency else None
-    currency, found = _currency_in(before + " " + after, default)
-    if not found:
-        currency = default
-    places = max(MINOR_UNITS.get(currency or "", 2), len(fraction))
+    places = max(minor_units, len(fraction))
     try:
         amount = Decimal(f"{whole}.{fraction or '0'}").quantize(Decimal(1).scaleb(-places))
     except InvalidOperation:
@@ -469,6 +472,8 @@ def normalize_availability(value: str) -> str:
         One of ``catmap.records.AVAILABILITY_VALUES``; "unknown" for anything not recognised.
     """
     text = _strip_accents(clean_line(value).casefold())
+    if text.startswith(("-", "\u2212")):  # a negative stock count says nothing reliable
+        return "unknown"
     text = " ".join(text.replace("_", " ").replace("-", " ").strip(" .!:").split())
     if not text:
         return "unknown"
