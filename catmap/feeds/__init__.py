@@ -18,6 +18,7 @@ from __future__ import annotations
 from collections.abc import Iterator
 from dataclasses import dataclass, field
 from pathlib import Path
+from typing import Any
 
 from catmap.errors import CatmapError, FeedFormatError
 from catmap.feeds import _sniff, delimited, jsonl, xml
@@ -83,13 +84,17 @@ class Feed:
         if info.format == "delimited":
             assert info.delimiter is not None
             return delimited.iter_delimited(
-                info.path, encoding=info.encoding, delimiter=info.delimiter,
-                columns=info.columns, has_header=info.has_header,
+                info.path,
+                encoding=info.encoding,
+                delimiter=info.delimiter,
+                columns=info.columns,
+                has_header=info.has_header,
             )
         if info.format == "xml":
             assert info.record_path is not None
-            return xml.iter_xml(info.path, record_path=info.record_path,
-                                encoding=self._xml_encoding)
+            return xml.iter_xml(
+                info.path, record_path=info.record_path, encoding=self._xml_encoding
+            )
         return jsonl.iter_jsonl(info.path, encoding=info.encoding)
 
     def sample(self, n: int = 200) -> list[SourceRecord]:
@@ -156,19 +161,25 @@ def open_feed(
     path_text = str(path)
     head, complete, compression = read_head(path, _sniff.SAMPLE_SIZE)
     if not head.strip(b" \t\r\n\xef\xbb\xbf\xff\xfe\x00"):
-        raise FeedFormatError("the feed is empty", path=path_text,
-                              hint="ask the sender for the file again")
+        raise FeedFormatError(
+            "the feed is empty", path=path_text, hint="ask the sender for the file again"
+        )
     chosen_encoding, source = _sniff.detect_encoding(head, encoding, path_text)
     text = _sniff.decode_head(head, chosen_encoding)
     kind = _sniff.normalize_format(format, path_text) if format else _sniff.detect_format(text)
-    common = {"path": path_text, "encoding": chosen_encoding, "encoding_source": source,
-              "compression": compression}
+    common: dict[str, Any] = {
+        "path": path_text,
+        "encoding": chosen_encoding,
+        "encoding_source": source,
+        "compression": compression,
+    }
     if kind == "delimited":
         return _open_delimited(text, complete, common, delimiter, has_header)
     if kind == "xml":
         return _open_xml(text, complete, common, record_path)
-    feed = Feed(FeedInfo(format="jsonl", delimiter=None, has_header=False, record_path=None,
-                         **common))  # type: ignore[arg-type]
+    feed = Feed(
+        FeedInfo(format="jsonl", delimiter=None, has_header=False, record_path=None, **common)
+    )
     return _with_columns(feed)
 
 
@@ -177,46 +188,65 @@ def _with_columns(feed: Feed) -> Feed:
     columns = _first_seen_columns(feed)
     return Feed(
         FeedInfo(
-            path=info.path, format=info.format, encoding=info.encoding,
-            encoding_source=info.encoding_source, compression=info.compression,
-            delimiter=info.delimiter, has_header=info.has_header, record_path=info.record_path,
-            namespaces=info.namespaces, columns=columns,
+            path=info.path,
+            format=info.format,
+            encoding=info.encoding,
+            encoding_source=info.encoding_source,
+            compression=info.compression,
+            delimiter=info.delimiter,
+            has_header=info.has_header,
+            record_path=info.record_path,
+            namespaces=info.namespaces,
+            columns=columns,
         ),
         xml_encoding=feed._xml_encoding,
     )
 
 
 def _open_delimited(
-    text: str, complete: bool, common: dict[str, object], delimiter: str | None,
+    text: str,
+    complete: bool,
+    common: dict[str, Any],
+    delimiter: str | None,
     has_header: bool | None,
 ) -> Feed:
     path = str(common["path"])
     encoding = str(common["encoding"])
-    chosen = (delimited.parse_delimiter(delimiter, path) if delimiter
-              else delimited.sniff_delimiter(text))
+    chosen = (
+        delimited.parse_delimiter(delimiter, path) if delimiter else delimited.sniff_delimiter(text)
+    )
     header = delimited.sniff_header(text, chosen) if has_header is None else has_header
     first = delimited.read_first_row(path, encoding, chosen)
     if first is None:
         raise FeedFormatError(
-            "no row could be read", path=path,
+            "no row could be read",
+            path=path,
             hint="a quoted field may never close; check the first lines",
         )
     if header:
         columns = delimited.header_names(first)
         if complete and len(delimited.sample_rows(text, chosen, 2)) < 2:
             raise FeedFormatError(
-                "the feed has a header row but no records", path=path, line=1,
+                "the feed has a header row but no records",
+                path=path,
+                line=1,
                 hint=f"columns found: {', '.join(columns[:20])}",
             )
     else:
         columns = tuple(f"column_{i}" for i in range(1, len(first) + 1))
-    return Feed(FeedInfo(format="delimited", delimiter=chosen, has_header=header,
-                         record_path=None, columns=columns, **common))  # type: ignore[arg-type]
+    return Feed(
+        FeedInfo(
+            format="delimited",
+            delimiter=chosen,
+            has_header=header,
+            record_path=None,
+            columns=columns,
+            **common,
+        )
+    )
 
 
-def _open_xml(
-    text: str, complete: bool, common: dict[str, object], record_path: str | None
-) -> Feed:
+def _open_xml(text: str, complete: bool, common: dict[str, Any], record_path: str | None) -> Feed:
     path = str(common["path"])
     xml.check_prolog(text, path, complete)
     declared = xml.declared_encoding(text)
@@ -241,12 +271,21 @@ def _open_xml(
             if error is not None:
                 raise error
             raise FeedFormatError(
-                "no repeating record element found", path=path,
+                "no repeating record element found",
+                path=path,
                 hint="use --record-path; elements found: "
                 + ", ".join(sorted(counts, key=lambda p: (p.count("/"), p))[:15]),
             )
         chosen = found
-    feed = Feed(FeedInfo(format="xml", delimiter=None, has_header=False, record_path=chosen,
-                         namespaces=namespaces, **common),  # type: ignore[arg-type]
-                xml_encoding=xml_encoding)
+    feed = Feed(
+        FeedInfo(
+            format="xml",
+            delimiter=None,
+            has_header=False,
+            record_path=chosen,
+            namespaces=namespaces,
+            **common,
+        ),
+        xml_encoding=xml_encoding,
+    )
     return _with_columns(feed)

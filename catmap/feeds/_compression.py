@@ -10,7 +10,7 @@ import gzip
 import io
 import zipfile
 from pathlib import Path
-from typing import IO
+from typing import IO, cast
 
 from catmap.errors import FeedFormatError
 
@@ -30,7 +30,8 @@ def detect_compression(path: str | Path) -> str | None:
             magic = handle.read(4)
     except OSError as exc:
         raise FeedFormatError(
-            f"cannot open the feed: {exc.strerror or exc}", path=path,
+            f"cannot open the feed: {exc.strerror or exc}",
+            path=path,
             hint="check the path and the file's permissions",
         ) from exc
     if magic.startswith(_GZIP_MAGIC):
@@ -88,13 +89,14 @@ def open_binary(path: str | Path) -> tuple[IO[bytes], str | None]:
     """
     compression = detect_compression(path)
     if compression == "gzip":
-        return gzip.open(path, "rb"), compression
+        return cast(IO[bytes], gzip.open(path, "rb")), compression
     if compression == "zip":
         try:
             archive = zipfile.ZipFile(path)
         except zipfile.BadZipFile as exc:
             raise FeedFormatError(
-                f"the zip archive is damaged: {exc}", path=path,
+                f"the zip archive is damaged: {exc}",
+                path=path,
                 hint="ask the sender for the file again",
             ) from exc
         try:
@@ -121,7 +123,8 @@ def read_head(path: str | Path, size: int) -> tuple[bytes, bool, str | None]:
             head = stream.read(size + 1)
         except (OSError, EOFError, zipfile.BadZipFile) as exc:
             raise FeedFormatError(
-                f"cannot decompress the feed ({compression}): {exc}", path=path,
+                f"cannot decompress the feed ({compression}): {exc}",
+                path=path,
                 hint="the file may be truncated; ask the sender for it again",
             ) from exc
     finally:

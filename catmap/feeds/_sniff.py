@@ -22,8 +22,15 @@ from catmap.errors import FeedFormatError
 SAMPLE_SIZE = 1 << 20
 FORMATS = ("delimited", "xml", "jsonl")
 _FORMAT_ALIASES = {
-    "delimited": "delimited", "csv": "delimited", "tsv": "delimited", "txt": "delimited",
-    "text": "delimited", "xml": "xml", "jsonl": "jsonl", "ndjson": "jsonl", "json": "jsonl",
+    "delimited": "delimited",
+    "csv": "delimited",
+    "tsv": "delimited",
+    "txt": "delimited",
+    "text": "delimited",
+    "xml": "xml",
+    "jsonl": "jsonl",
+    "ndjson": "jsonl",
+    "json": "jsonl",
     "jsonlines": "jsonl",
 }
 _BOMS = (
@@ -72,7 +79,8 @@ def normalize_format(value: str, path: str | Path) -> str:
     found = _FORMAT_ALIASES.get(value.strip().lower())
     if found is None:
         raise FeedFormatError(
-            f"unknown feed format {value!r}", path=path,
+            f"unknown feed format {value!r}",
+            path=path,
             hint="use --format delimited, xml or jsonl",
         )
     return found
@@ -88,7 +96,8 @@ def codec_name(encoding: str, path: str | Path) -> str:
         return codecs.lookup(encoding).name
     except LookupError as exc:
         raise FeedFormatError(
-            f"unknown encoding {encoding!r}", path=path,
+            f"unknown encoding {encoding!r}",
+            path=path,
             hint="use --encoding utf-8, cp1252, latin-1, utf-16 ...",
         ) from exc
 
@@ -116,7 +125,8 @@ def check_text(head: bytes, path: str | Path) -> None:
     controls = sum(sample.count(bytes([c])) for c in range(32) if c not in (9, 10, 12, 13))
     if b"\x00" in sample or (sample and controls > 0.05 * len(sample)):
         raise FeedFormatError(
-            "the file holds binary data, it is not a text feed", path=path,
+            "the file holds binary data, it is not a text feed",
+            path=path,
             hint="give catmap a CSV / XML / JSON Lines file, or its gzip or zip",
         )
 
@@ -172,12 +182,23 @@ def detect_encoding(head: bytes, given: str | None, path: str | Path) -> tuple[s
 
 def _latin_family(name: str) -> bool:
     """Tell whether a codec is a single-byte encoding for Latin-script languages."""
-    non_latin = {"cp1251", "cp1253", "cp1255", "cp1256", "iso8859_5", "iso8859_6",
-                 "iso8859_7", "iso8859_8", "iso8859_11"}
+    non_latin = {
+        "cp1251",
+        "cp1253",
+        "cp1255",
+        "cp1256",
+        "iso8859_5",
+        "iso8859_6",
+        "iso8859_7",
+        "iso8859_8",
+        "iso8859_11",
+    }
     if name in non_latin:
         return False
     return name.startswith(("cp125", "iso8859_", "mac_", "cp85", "cp437", "cp775")) or name in (
-        "latin_1", "hp_roman8")
+        "latin_1",
+        "hp_roman8",
+    )
 
 
 def _western_cp1252(head: bytes) -> bool:

@@ -41,7 +41,8 @@ def parse_delimiter(value: str, path: str | Path) -> str:
     found = _DELIMITER_NAMES.get(value.lower(), value)
     if len(found) != 1:
         raise FeedFormatError(
-            f"the delimiter must be one character, got {value!r}", path=path,
+            f"the delimiter must be one character, got {value!r}",
+            path=path,
             hint="use --delimiter ',' ';' '|' or tab",
         )
     return found
@@ -90,9 +91,7 @@ def sniff_delimiter(text: str) -> str:
 
 def _looks_like_value(cell: str) -> bool:
     cell = cell.strip()
-    return bool(
-        _NUMBER.match(cell) or _URL.match(cell) or len(cell) > 60 or cell.count(" ") > 6
-    )
+    return bool(_NUMBER.match(cell) or _URL.match(cell) or len(cell) > 60 or cell.count(" ") > 6)
 
 
 def sniff_header(text: str, delimiter: str) -> bool:
@@ -139,7 +138,9 @@ def _excerpt(row: list[str], delimiter: str) -> str:
 def read_first_row(path: str | Path, encoding: str, delimiter: str) -> list[str] | None:
     """Return the first non-empty row of the feed (the full header, however wide)."""
     stream, _ = open_binary(path)
-    with io.TextIOWrapper(stream, encoding=encoding, errors=_sniff.ERROR_HANDLER, newline="") as text:
+    with io.TextIOWrapper(
+        stream, encoding=encoding, errors=_sniff.ERROR_HANDLER, newline=""
+    ) as text:
         try:
             for row in csv.reader(text, delimiter=delimiter, strict=True):
                 if row:
@@ -180,7 +181,9 @@ def iter_delimited(
     pending = 0
     header_pending = has_header
     stream, _ = open_binary(path)
-    with io.TextIOWrapper(stream, encoding=encoding, errors=_sniff.ERROR_HANDLER, newline="") as text:
+    with io.TextIOWrapper(
+        stream, encoding=encoding, errors=_sniff.ERROR_HANDLER, newline=""
+    ) as text:
         reader = csv.reader(text, delimiter=delimiter, strict=True)
         previous = 0  # reader.line_num after the previous row: the next row starts one later
         while True:
@@ -196,12 +199,18 @@ def iter_delimited(
                     raise FeedFormatError(
                         "a quoted field opened here is never closed"
                         + (" (it grew past the field size limit)" if "larger" in message else ""),
-                        path=path, line=start,
+                        path=path,
+                        line=start,
                         hint='a stray " swallowed the rest of the file; double it ("") inside '
                         "quoted text or remove it",
                     ) from exc
-                yield Reject("unparseable_record", f"cannot split the row: {message}",
-                             start, f"line {start}", "")
+                yield Reject(
+                    "unparseable_record",
+                    f"cannot split the row: {message}",
+                    start,
+                    f"line {start}",
+                    "",
+                )
                 continue
             start = previous + 1
             previous = reader.line_num
@@ -221,13 +230,19 @@ def iter_delimited(
                     yield Reject(
                         "bad_encoding",
                         f"bytes that are not valid {encoding}; try --encoding {other}",
-                        start, f"line {start}", excerpt,
+                        start,
+                        f"line {start}",
+                        excerpt,
                     )
                     continue
             if len(row) != width:
                 yield Reject(
-                    "ragged_row", f"expected {width} cells, found {len(row)}",
-                    start, f"line {start}", _excerpt(row, delimiter),
+                    "ragged_row",
+                    f"expected {width} cells, found {len(row)}",
+                    start,
+                    f"line {start}",
+                    _excerpt(row, delimiter),
                 )
                 continue
-            yield SourceRecord({k: v for k, v in zip(columns, row) if v}, start, f"line {start}")
+            fields = {k: v for k, v in zip(columns, row, strict=True) if v}
+            yield SourceRecord(fields, start, f"line {start}")

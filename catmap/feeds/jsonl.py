@@ -59,7 +59,9 @@ def iter_jsonl(path: str | Path, *, encoding: str) -> Iterator[SourceRecord | Re
     """
     other = _sniff.suggest_other_encoding(encoding)
     stream, _ = open_binary(path)
-    with io.TextIOWrapper(stream, encoding=encoding, errors=_sniff.ERROR_HANDLER, newline="\n") as text:
+    with io.TextIOWrapper(
+        stream, encoding=encoding, errors=_sniff.ERROR_HANDLER, newline="\n"
+    ) as text:
         for number, raw in enumerate(text, start=1):
             line = raw.strip()
             if not line:
@@ -68,21 +70,27 @@ def iter_jsonl(path: str | Path, *, encoding: str) -> Iterator[SourceRecord | Re
             excerpt = line[:_EXCERPT]
             if _sniff.SURROGATES.search(line):
                 yield Reject(
-                    "bad_encoding", f"bytes that are not valid {encoding}; try --encoding {other}",
-                    number, location, _sniff.SURROGATES.sub("\ufffd", excerpt),
+                    "bad_encoding",
+                    f"bytes that are not valid {encoding}; try --encoding {other}",
+                    number,
+                    location,
+                    _sniff.SURROGATES.sub("\ufffd", excerpt),
                 )
                 continue
             try:
                 value = _decoder.decode(line)
             except ValueError as exc:
-                yield Reject("unparseable_record", f"not valid JSON: {exc}", number, location,
-                             excerpt)
+                yield Reject(
+                    "unparseable_record", f"not valid JSON: {exc}", number, location, excerpt
+                )
                 continue
             if not isinstance(value, dict):
                 yield Reject(
                     "unparseable_record",
                     f"the line holds a JSON {type(value).__name__}, not an object",
-                    number, location, excerpt,
+                    number,
+                    location,
+                    excerpt,
                 )
                 continue
             fields: dict[str, str] = {}

@@ -43,7 +43,10 @@ _ENTITY = re.compile(r"<!ENTITY\b")
 _COMMENT = re.compile(r"<!--.*?-->", re.DOTALL)
 _ELEMENT_START = re.compile(r"<[A-Za-z_]")
 _DECLARED_ENCODING = re.compile(r"""^\s*<\?xml[^>]*encoding\s*=\s*["']([A-Za-z0-9._-]+)["']""")
-_UNSAFE_HINT = "the feed declares XML entities; catmap never expands them; ask the sender for a feed without a DTD"
+_UNSAFE_HINT = (
+    "the feed declares XML entities; catmap never expands them; "
+    "ask the sender for a feed without a DTD"
+)
 
 
 def declared_encoding(text: str) -> str | None:
@@ -73,7 +76,9 @@ def check_prolog(text: str, path: str | Path, complete: bool) -> None:
         line = blanked.count("\n", 0, entity.start()) + 1
         raise UnsafeFeedError(
             "the feed declares XML entities, which catmap refuses to read",
-            path=path, line=line, hint=_UNSAFE_HINT,
+            path=path,
+            line=line,
+            hint=_UNSAFE_HINT,
         )
     if end < 0 and not complete:
         line = blanked.count("\n", 0, doctype.start()) + 1
@@ -119,7 +124,9 @@ def _syntax_error(exc: etree.XMLSyntaxError, path: str | Path, read: int) -> Fee
     line, column = exc.position if exc.position else (exc.lineno, 0)
     message = exc.msg or str(exc)
     if "encoding" in message.lower() or "utf-8" in message.lower():
-        hint = "the bytes do not match the feed's encoding; use --encoding cp1252 (or the right one)"
+        hint = (
+            "the bytes do not match the feed's encoding; use --encoding cp1252 (or the right one)"
+        )
     else:
         hint = (
             f"{read} records before it were read; the file may be truncated or hand-edited, "
@@ -185,7 +192,7 @@ def choose_record_path(counts: Counter[str], parents: set[str]) -> str | None:
 def _steps_match(given: list[str], actual: list[str]) -> bool:
     if len(given) != len(actual):
         return False
-    for want, have in zip(given, actual):
+    for want, have in zip(given, actual, strict=True):
         if want == have:
             continue
         if ":" not in want and have.split(":")[-1] == want:
@@ -211,7 +218,8 @@ def resolve_record_path(given: str, counts: Counter[str], path: str | Path) -> s
     if not matches:
         found = ", ".join(sorted(counts, key=lambda p: (p.count("/"), p))[:15])
         raise FeedFormatError(
-            f"no element matches the record path {given!r}", path=path,
+            f"no element matches the record path {given!r}",
+            path=path,
             hint=f"use --record-path with one of: {found}",
         )
     return min(matches, key=lambda p: (p.count("/"), -counts[p]))
@@ -259,7 +267,10 @@ def iter_xml(
     stream, _ = open_binary(path)
     try:
         events = etree.iterparse(
-            stream, events=("end",), tag=("{*}" + local, local), encoding=encoding,
+            stream,
+            events=("end",),
+            tag=("{*}" + local, local),
+            encoding=encoding,
             **_PARSER_OPTIONS,
         )
         for _, element in events:

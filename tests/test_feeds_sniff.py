@@ -1,0 +1,217 @@
+"""Tests for feed opening: compression, encoding and format detection, and broken feeds."""
+
+from __future__ import annotations
+
+import gzip
+import shutil
+import zipfile
+from pathlib import Path
+from typing import Any
+
+import pytest
+
+from catmap.errors import FeedFormatError, UnsafeFeedError
+from catmap.feeds import Feed, FeedInfo, open_feed
+from catmap.records import Reject, SourceRecord
+
+DATA = Path(__file__).parent / "data"
+GOOD = DATA / "feeds"
+BAD = DATA / "bad"
+
+ACCENTED_TITLES = ["Café crème mug", "Überjacke für Kinder", "Crêpe pan"]
+
+
+def _read(feed: Feed) -> list[SourceRecord | Reject]:
+    return list(feed)
+
+
+def _titles(feed: Feed) -> list[str]:
+    return [r.fields["title"] for r in feed if isinstance(r, SourceRecord)]
+
+
+# --- encodings --------------------------------------------------------------------------------
+
+
+@pytest.mark.parametrize(
+    ("name", "encoding", "source"),
+    [
+        ("utf8.csv", "utf-8", "detected"),
+        ("utf8_bom.csv", "utf-8-sig", "bom"),
+        ("utf16.csv", "utf-16", "bom"),
+    ],
+)
+def test_unicode_encodings_are_detected(name: str, encoding: str, source: str) -> None:
+    feed = open_feed(GOOD / name)
+    assert (feed.info.encoding, feed.info.encoding_source) == (encoding, source)
+    assert feed.info.columns == ("id", "title", "price")  # no BOM left in the first name
+    assert _titles(feed) == ACCENTED_TITLES
+    prices = [r.fields["price"] for r in feed if isinstance(r, SourceRecord)]
+    assert prices == ["8.50 €", "45.00 €", "21.00 €"]
+
+
+def test_utf16_without_bom_is_detected(tmp_path: Path) -> None:
+    path = tmp_path / "le.csv"
+    path.write_bytes("id,title\nK-1,Crème brûlée dish\nK-2,Teapot\n".encode("utf-16-le"))
+    feed = open_feed(path)
+    assert feed.info.encoding == "utf-16-le"
+    assert _titles(feed) == ["Crème brûlée dish", "Teapot"]
+
+
+def test_cp1252_is_detected_with_euro_and_accents() -> None:
+    feed = open_feed(GOOD / "cp1252.csv")
+    assert (feed.info.encoding, feed.info.encoding_source) == ("cp1252", "detected")
+    records = [r for r in feed if isinstance(r, SourceRecord)]
+    assert records[0].fields["title"] == "Pull en laine mérinos, col roulé"
+    assert records[1].fields["title"] == "Chaussures à lacets, cuir verni"
+    assert records[2].fields["colour"] == "Écru"
+    assert records[0].fields["price"] == "49,00 €"
+
+
+def test_cyrillic_single_byte_text_is_not_taken_for_cp1252(tmp_path: Path) -> None:
+    path = tmp_path / "ru.csv"
+    text = "id;название;цена\n1;Красная куртка для детей;100\n2;Синие брюки мужские;200\n"
+    path.write_bytes(text.encode("cp1251"))
+    assert open_feed(path).info.encoding == "cp1251"
+
+
+def test_given_encoding_wins(tmp_path: Path) -> None:
+    path = tmp_path / "latin.csv"
+    path.write_bytes("id,title\nW-1,Ma\u00f1ana chair\n".encode("latin-1"))
+    feed = open_feed(path, encoding="latin-1")
+    assert (feed.info.encoding, feed.info.encoding_source) == ("iso8859-1", "given")
+    assert _titles(feed) == ["Mañana chair"]
+
+
+def test_unknown_given_encoding_is_a_feed_error() -> None:
+    with pytest.raises(FeedFormatError, match="unknown encoding"):
+        open_feed(GOOD / "comma.csv", encoding="no-such-codec")
+
+
+def test_bad_byte_after_the_sample_rejects_only_its_record(tmp_path: Path) -> None:
+    # The sample is the first megabyte: put the bad byte well after it.
+    path = tmp_path / "late.csv"
+    rows = [f"N-{i},Plain item number {i},{i}.00\n" for i in range(1, 60_001)]
+    data = ("id,title,price\n" + "".join(rows)).encode() + b"N-X,Caf\xe9 table,60.00\nN-Y,Last,1\n"
+    assert len(data) > 1.2 * (1 << 20)
+    path.write_bytes(data)
+    feed = open_feed(path)
+    assert feed.info.encoding == "utf-8"
+    results = list(feed)
+    rejects = [r for r in results if isinstance(r, Reject)]
+    assert len(rejects) == 1
+    assert rejects[0].reason == "bad_encoding"
+    assert rejects[0].line == 60_002
+    assert "--encoding cp1252" in rejects[0].detail
+    assert sum(isinstance(r, SourceRecord) for r in results) == 60_001
+
+
+# --- compression ------------------------------------------------------------------------------
+
+
+def test_gzip_is_found_by_magic_bytes_not_name(tmp_path: Path) -> None:
+    path = tmp_path / "feed.csv"  # no .gz suffix on purpose
+    path.write_bytes(gzip.compress((GOOD / "semicolon.csv").read_bytes()))
+    feed = open_feed(path)
+    assert feed.info.compression == "gzip"
+    assert feed.info.delimiter == ";"
+    assert _titles(feed) == ["Garden hose", "Watering can; 10 l", "Pruning shears"]
+
+
+def test_single_member_zip_is_read(tmp_path: Path) -> None:
+    path = tmp_path / "feed.bin"
+    with zipfile.ZipFile(path, "w", compression=zipfile.ZIP_DEFLATED) as archive:
+        archive.write(GOOD / "catalog.xml", "export/catalog.xml")
+    feed = open_feed(path)
+    assert (feed.info.compression, feed.info.format) == ("zip", "xml")
+    assert len(feed.sample(10)) == 3
+
+
+def test_plain_file_has_no_compression() -> None:
+    assert open_feed(GOOD / "comma.csv").info.compression is None
+
+
+# --- format -----------------------------------------------------------------------------------
+
+
+@pytest.mark.parametrize(
+    ("name", "kind"),
+    [("comma.csv", "delimited"), ("catalog.xml", "xml"), ("nested.jsonl", "jsonl")],
+)
+def test_format_is_detected_by_content(tmp_path: Path, name: str, kind: str) -> None:
+    renamed = tmp_path / "feed.dat"  # the name says nothing
+    shutil.copy(GOOD / name, renamed)
+    assert open_feed(renamed).info.format == kind
+
+
+def test_format_override(tmp_path: Path) -> None:
+    path = tmp_path / "odd.txt"
+    path.write_text('{"a": 1}\n{"a": 2}\n')
+    feed = open_feed(path, format="csv", delimiter="|")
+    assert feed.info.format == "delimited"
+    with pytest.raises(FeedFormatError, match="unknown feed format"):
+        open_feed(path, format="spreadsheet")
+
+
+def test_feed_info_fields() -> None:
+    info = open_feed(GOOD / "tab.tsv").info
+    assert isinstance(info, FeedInfo)
+    assert info.path == str(GOOD / "tab.tsv")
+    assert (info.format, info.delimiter, info.has_header) == ("delimited", "\t", True)
+    assert (info.record_path, info.namespaces) == (None, {})
+
+
+def test_missing_file_is_a_feed_error(tmp_path: Path) -> None:
+    with pytest.raises(FeedFormatError, match="cannot open"):
+        open_feed(tmp_path / "nowhere.csv")
+
+
+# --- broken feeds in tests/data/bad -----------------------------------------------------------
+
+# file name -> what must happen. "raises": (error class, line or None, message pattern) at open
+# or while reading; "reads": the reasons of the rejects in order and the number of good records.
+BAD_EXPECTATIONS: dict[str, dict[str, Any]] = {
+    "ragged_rows.csv": {"reads": (["ragged_row", "ragged_row"], 2)},
+    "unterminated_quote.csv": {
+        "raises": (FeedFormatError, 3, "never closed"),
+        "good_before": 1,
+    },
+    "empty.csv": {"raises": (FeedFormatError, None, "empty")},
+    "header_only.csv": {"raises": (FeedFormatError, 1, "header row but no records")},
+    "binary.dat": {"raises": (FeedFormatError, None, "not a text feed")},
+    # Small enough to be all in the sample, so the encoding must be given to hit the bad byte.
+    "invalid_utf8_mid_file.csv": {"reads": (["bad_encoding"], 6), "kwargs": {"encoding": "utf-8"}},
+    "billion_laughs.xml": {"raises": (UnsafeFeedError, 3, "declares XML entities")},
+    "external_entity.xml": {"raises": (UnsafeFeedError, 3, "declares XML entities")},
+    "truncated.xml": {"raises": (FeedFormatError, 7, "XML is broken"), "good_before": 3},
+    "mismatched_tag.xml": {"raises": (FeedFormatError, 5, "XML is broken"), "good_before": 2},
+    "bad_lines.jsonl": {"reads": (["unparseable_record", "unparseable_record"], 2)},
+    "two_members.zip": {"raises": (FeedFormatError, None, "feed-a.csv, feed-b.csv")},
+}
+
+
+def test_every_bad_file_has_an_expectation() -> None:
+    assert sorted(p.name for p in BAD.iterdir()) == sorted(BAD_EXPECTATIONS)
+
+
+@pytest.mark.parametrize("path", sorted(BAD.iterdir()), ids=lambda p: p.name)
+def test_bad_feed(path: Path) -> None:
+    expected = BAD_EXPECTATIONS[path.name]
+    kwargs = expected.get("kwargs", {})
+    if "reads" in expected:
+        reasons, good = expected["reads"]
+        results = list(open_feed(path, **kwargs))
+        assert [r.reason for r in results if isinstance(r, Reject)] == reasons
+        assert sum(isinstance(r, SourceRecord) for r in results) == good
+        for reject in results:
+            if isinstance(reject, Reject):
+                assert reject.line > 0 and reject.detail
+        return
+    error_class, line, pattern = expected["raises"]
+    yielded: list[SourceRecord | Reject] = []
+    with pytest.raises(error_class, match=pattern) as info:
+        for record in open_feed(path, **kwargs):
+            yielded.append(record)
+    assert info.value.path == str(path)
+    assert info.value.hint
+    assert info.value.line == line
+    assert len(yielded) == expected.get("good_before", 0)
