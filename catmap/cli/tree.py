@@ -45,6 +45,11 @@ def _tree_file_option(func: F) -> F:
     )(func)
 
 
+def _say(text: str) -> None:
+    """Print one plain line: no markup (names may hold brackets), no wrapping of long paths."""
+    console.print(text, markup=False, soft_wrap=True)
+
+
 def _open_tree(tree_file: str | None, tree_version: int) -> CategoryTree:
     if tree_file is not None:
         return load_tree(tree_file)
@@ -85,25 +90,24 @@ def validate_command(tree_file: str | None, tree_version: int, as_json: bool) ->
     if as_json:
         echo_json(facts)
         return
-    console.print(f"Tree file: {facts['path']}")
-    console.print(f"Tree version: {facts['version']}")
-    console.print(f"Nodes: {facts['nodes']}")
+    _say(f"Tree file: {facts['path']}")
+    _say(f"Tree version: {facts['version']}")
+    _say(f"Nodes: {facts['nodes']}")
     levels = ", ".join(f"level {level}: {count}" for level, count in facts["levels"].items())
-    console.print(f"Nodes per level: {levels}")
+    _say(f"Nodes per level: {levels}")
     table = Table(title="Nodes per department", title_justify="left")
     table.add_column("Id")
     table.add_column("Department")
     table.add_column("Nodes", justify="right")
     table.add_column("Leaves", justify="right")
     for dept in facts["departments"]:
-        table.add_row(dept["id"], dept["name"], str(dept["nodes"]), str(dept["leaves"]))
+        table.add_row(dept["id"], Text(dept["name"]), str(dept["nodes"]), str(dept["leaves"]))
     console.print(table)
-    console.print(f"Leaves: {facts['leaves']}")
+    _say(f"Leaves: {facts['leaves']}")
     kinds = ", ".join(f"{kind}: {count}" for kind, count in facts["restricted"].items())
-    console.print(
-        f"Restricted nodes: {facts['restricted_nodes']}" + (f" ({kinds})" if kinds else "")
-    )
-    console.print("valid")
+    restricted = f"Restricted nodes: {facts['restricted_nodes']}"
+    _say(restricted + (f" ({kinds})" if kinds else ""))
+    _say("valid")
 
 
 def render_tree(
@@ -244,9 +248,9 @@ def search_command(
         echo_json({"query": text, "tree_version": tree.version, "matches": rows})
         return
     if not rows:
-        console.print(f"No node resembles '{text}'.")
+        _say(f"No node resembles '{text}'.")
         return
-    table = Table(title=f"Nodes resembling '{text}'", title_justify="left")
+    table = Table(title=Text(f"Nodes resembling '{text}'"), title_justify="left")
     table.add_column("Score", justify="right")
     table.add_column("Id")
     table.add_column("Path")
@@ -257,8 +261,8 @@ def search_command(
         table.add_row(
             f"{match.score:.0f}",
             match.node.id,
-            tree.path_text(match.node.id),
-            match.term,
+            Text(tree.path_text(match.node.id)),
+            Text(match.term),
             language,
         )
     console.print(table)
