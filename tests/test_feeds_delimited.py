@@ -1,0 +1,175 @@
+"""Tests for the delimited text reader (catmap.feeds.delimited)."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import pytest
+
+from catmap.errors import FeedFormatError
+from catmap.feeds import open_feed
+from catmap.feeds.delimited import header_names, sniff_delimiter, sniff_header
+from catmap.records import Reject, SourceRecord
+
+GOOD = Path(__file__).parent / "data" / "feeds"
+
+
+def _records(path: Path, **kwargs: object) -> list[SourceRecord]:
+    results = list(open_feed(path, **kwargs))  # type: ignore[arg-type]
+    assert all(isinstance(r, SourceRecord) for r in results)
+    return [r for r in results if isinstance(r, SourceRecord)]
+
+
+@pytest.mark.parametrize(
+    ("name", "delimiter", "second_title"),
+    [
+        ("comma.csv", ",", "Rain jacket, hooded"),
+        ("semicolon.csv", ";", "Watering can; 10 l"),
+        ("tab.tsv", "\t", "Office chair"),
+        ("pipe.txt", "|", "Teething ring"),
+    ],
+)
+def test_each_delimiter_is_detected(name: str, delimiter: str, second_title: str) -> None:
+    feed = open_feed(GOOD / name)
+    assert feed.info.delimiter == delimiter
+    assert feed.info.has_header is True
+    assert feed.info.columns == ("id", "title", "price", "brand")
+    records = _records(GOOD / name)
+    assert len(records) == 3
+    assert records[1].fields["title"] == second_title
+
+
+def test_semicolon_feed_with_decimal_commas_is_not_taken_for_comma() -> None:
+    text = "id;title;price\n1;Mug;9,99\n2;Plate;12,50\n3;Bowl;7,00\n"
+    assert sniff_delimiter(text) == ";"
+
+
+def test_delimiter_inside_quotes_is_not_counted() -> None:
+    text = 'id|title\n1|"a, b, c, d"\n2|"e, f, g"\n3|"h, i"\n'
+    assert sniff_delimiter(text) == "|"
+
+
+def test_delimiter_override() -> None:
+    feed = open_feed(GOOD / "comma.csv", delimiter="tab")
+    assert feed.info.delimiter == "\t"
+    assert feed.info.columns == ("id,title,price,brand",)
+
+
+def test_empty_lines_are_skipped_and_lines_counted() -> None:
+    records = _records(GOOD / "comma.csv")
+    assert [r.line for r in records] == [2, 3, 5]  # line 4 is empty
+    assert records[2].location == "line 5"
+
+
+def test_multiline_quoted_fields_start_lines_and_doubled_quotes() -> None:
+    records = _records(GOOD / "multiline.csv")
+    assert [r.line for r in records] == [2, 5, 6]
+    assert records[0].fields["description"] == "Two burners.\nFolds flat.\nWeighs 2 kg."
+    assert records[1].fields["title"] == 'The "Summit" tent'
+    assert records[2].fields["description"] == "Line one\nline two"
+
+
+def test_crlf_line_endings(tmp_path: Path) -> None:
+    path = tmp_path / "crlf.csv"
+    path.write_bytes(b'id,title\r\nQ-1,"Two\r\nlines"\r\nQ-2,One\r\n')
+    records = _records(path)
+    assert [r.line for r in records] == [2, 4]
+    assert records[0].fields["title"] == "Two\r\nlines"
+
+
+def test_no_header_gives_numbered_columns() -> None:
+    feed = open_feed(GOOD / "noheader.csv")
+    assert feed.info.has_header is False
+    assert feed.info.columns == ("column_1", "column_2", "column_3")
+    records = _records(GOOD / "noheader.csv")
+    assert records[0].fields == {"column_1": "F-1", "column_2": "Kettle", "column_3": "29.00"}
+    assert records[0].line == 1
+
+
+def test_has_header_override() -> None:
+    feed = open_feed(GOOD / "noheader.csv", has_header=True)
+    assert feed.info.columns == ("F-1", "Kettle", "29.00")
+    assert len(list(feed)) == 2
+
+
+@pytest.mark.parametrize(
+    ("text", "expected"),
+    [
+        ("sku,name,price\nA1,Lamp,10.00\n", True),
+        ("A1,Lamp,10.00\nA2,Chair,20.00\n", False),
+        ("sku,name,url\nA1,Lamp,https://x.example/a\n", True),
+        ("sku,,price\nA1,Lamp,10.00\n", False),  # an empty cell is no column name
+        ("name,name\nx,y\n", False),  # repeated names
+    ],
+)
+def test_header_detection(text: str, expected: bool) -> None:
+    assert sniff_header(text, ",") is expected
+
+
+def test_header_names_are_made_unique() -> None:
+    assert header_names(["id", " title ", "", "id"]) == ("id", "title", "column_3", "id_2")
+
+
+def test_empty_cells_are_left_out(tmp_path: Path) -> None:
+    path = tmp_path / "sparse.csv"
+    path.write_text("id,title,brand,colour\nS-1,Lamp,,Red\nS-2,Chair,,\n")
+    records = _records(path)
+    assert records[0].fields == {"id": "S-1", "title": "Lamp", "colour": "Red"}
+    assert records[1].fields == {"id": "S-2", "title": "Chair"}
+
+
+def test_ragged_rows_are_rejected_with_counts(tmp_path: Path) -> None:
+    path = tmp_path / "ragged.csv"
+    path.write_text('id,title,price\nR-1,"Multi\nline",1\nR-2,Short\nR-3,Ok,3\n')
+    results = list(open_feed(path))
+    reject = results[1]
+    assert isinstance(reject, Reject)
+    assert (reject.reason, reject.line) == ("ragged_row", 4)
+    assert reject.detail == "expected 3 cells, found 2"
+    assert reject.excerpt == "R-2,Short"
+    assert [r.line for r in results] == [2, 4, 5]
+
+
+def test_unterminated_quote_names_the_line_where_it_opened(tmp_path: Path) -> None:
+    path = tmp_path / "quote.csv"
+    lines = ["id,title"] + [f"Y-{i},Item {i}" for i in range(1, 11)]
+    lines.insert(6, 'Y-X,"Broken')
+    path.write_text("\n".join(lines) + "\n")
+    feed = open_feed(path)
+    seen = []
+    with pytest.raises(FeedFormatError, match="never closed") as info:
+        for record in feed:
+            seen.append(record)
+    assert info.value.line == 7
+    assert info.value.hint and 'double it ("")' in info.value.hint
+    assert len(seen) == 5
+
+
+def test_five_megabyte_field(tmp_path: Path) -> None:
+    big = "x" * (5 * 1024 * 1024)
+    path = tmp_path / "big.csv"
+    path.write_text(f'id,title,description\nB-1,Big,"{big}"\nB-2,Small,tiny\n')
+    records = _records(path)
+    assert len(records[0].fields["description"]) == len(big)
+    assert records[1].fields == {"id": "B-2", "title": "Small", "description": "tiny"}
+    assert records[1].line == 3
+
+
+def test_twenty_thousand_columns(tmp_path: Path) -> None:
+    width = 20_000
+    path = tmp_path / "wide.csv"
+    header = ",".join(f"attribute_{i}" for i in range(width))
+    row = ",".join(str(i) for i in range(width))
+    path.write_text(f"{header}\n{row}\n{row}\n")
+    feed = open_feed(path)
+    assert len(feed.info.columns) == width
+    records = _records(path)
+    assert len(records) == 2
+    assert records[0].fields["attribute_19999"] == "19999"
+
+
+def test_sample_returns_the_first_good_records(tmp_path: Path) -> None:
+    path = tmp_path / "with_bad.csv"
+    path.write_text("id,title\nO-1,One\nO-2,Two,extra\nO-3,Three\nO-4,Four\n")
+    sample = open_feed(path).sample(2)
+    assert [r.fields["id"] for r in sample] == ["O-1", "O-3"]
