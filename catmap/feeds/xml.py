@@ -232,6 +232,8 @@ def _flatten(element: Any, prefix: str, out: dict[str, str]) -> None:
             out[key] = out[key] + JOIN + value if key in out else value
     for child in element:
         tag = child.tag
+        if not isinstance(tag, str):
+            continue  # an unexpanded entity reference: never resolved, so nothing to keep
         if tag[0] == "{":
             local = tag[tag.index("}") + 1 :]
             child_prefix = child.prefix

@@ -1,0 +1,218 @@
+"""Tests for the XML reader (catmap.feeds.xml)."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import pytest
+
+from catmap.errors import FeedFormatError, UnsafeFeedError
+from catmap.feeds import open_feed
+from catmap.records import SourceRecord
+
+DATA = Path(__file__).parent / "data"
+CATALOG = DATA / "feeds" / "catalog.xml"
+
+
+def _records(path: Path, **kwargs: str) -> list[SourceRecord]:
+    return [r for r in open_feed(path, **kwargs) if isinstance(r, SourceRecord)]
+
+
+def test_record_path_is_detected() -> None:
+    info = open_feed(CATALOG).info
+    assert info.format == "xml"
+    assert info.record_path == "/catalog/products/product"
+    assert info.namespaces == {"": "urn:example:catalog", "ext": "urn:example:extra"}
+
+
+def test_fields_use_local_names_prefixes_attributes_and_dots() -> None:
+    first = _records(CATALOG)[0]
+    assert first.fields["@id"] == "P-1"
+    assert first.fields["@ext:origin"] == "EU"
+    assert first.fields["title"] == "Trail runner shoe"
+    assert first.fields["price"] == "59.90"
+    assert first.fields["price.@currency"] == "EUR"
+    assert first.fields["shipping.price"] == "4.90"
+    assert first.fields["shipping.days"] == "2"
+    assert first.fields["ext:colour"] == "Moss green"
+    assert first.line == 8
+    assert first.location == "<product> #1 at line 8"
+
+
+def test_repeated_children_are_joined() -> None:
+    first = _records(CATALOG)[0]
+    assert first.fields["image"] == (
+        "https://img.example.com/p1-a.jpg | https://img.example.com/p1-b.jpg"
+    )
+
+
+def test_cdata_and_escaped_html_are_kept_raw() -> None:
+    first, second, third = _records(CATALOG)
+    assert first.fields["description"] == "<p>Light <b>trail</b> shoe &amp; grip</p>"
+    assert second.fields["description"] == "<ul><li>Taped seams</li></ul>"
+    assert second.fields["title"] == "Rain jacket & hood"
+    assert "description" not in third.fields
+
+
+def test_columns_in_first_seen_order() -> None:
+    assert open_feed(CATALOG).info.columns == (
+        "@id",
+        "@ext:origin",
+        "title",
+        "price.@currency",
+        "price",
+        "description",
+        "shipping.price",
+        "shipping.days",
+        "ext:colour",
+        "image",
+    )
+
+
+@pytest.mark.parametrize(
+    "given",
+    ["product", "products/product", "/catalog/products/product", "/catalog/products/product/"],
+)
+def test_record_path_override_forms(given: str) -> None:
+    feed = open_feed(CATALOG, record_path=given)
+    assert feed.info.record_path == "/catalog/products/product"
+    assert len(list(feed)) == 3
+
+
+def test_record_path_override_chooses_another_element() -> None:
+    feed = open_feed(CATALOG, record_path="header")
+    assert feed.info.record_path == "/catalog/header"
+    records = list(feed)
+    assert len(records) == 1
+    assert isinstance(records[0], SourceRecord)
+    assert records[0].fields["sender"] == "Quillmoor Outdoor"
+
+
+def test_unknown_record_path_lists_the_paths_found() -> None:
+    with pytest.raises(FeedFormatError, match="no element matches") as info:
+        open_feed(CATALOG, record_path="item")
+    assert info.value.hint and "/catalog/products/product" in info.value.hint
+
+
+def test_prefixed_record_elements(tmp_path: Path) -> None:
+    path = tmp_path / "prefixed.xml"
+    path.write_text(
+        '<?xml version="1.0"?>\n'
+        '<x:feed xmlns:x="urn:example:x" xmlns:y="urn:example:y">\n'
+        '  <x:item y:code="1"><x:name>One</x:name><y:size>M</y:size></x:item>\n'
+        '  <x:item y:code="2"><x:name>Two</x:name></x:item>\n'
+        "</x:feed>\n"
+    )
+    feed = open_feed(path)
+    assert feed.info.record_path == "/x:feed/x:item"
+    records = _records(path, record_path="item")
+    assert records[0].fields == {"@y:code": "1", "x:name": "One", "y:size": "M"}
+    assert [r.line for r in records] == [3, 4]
+
+
+def test_nested_element_with_the_record_name_stays_inside_its_record(tmp_path: Path) -> None:
+    path = tmp_path / "nested.xml"
+    path.write_text(
+        "<shop>\n"
+        "<product><id>1</id><related><product><id>9</id></product></related></product>\n"
+        "<product><id>2</id></product>\n"
+        "</shop>\n"
+    )
+    records = _records(path)
+    assert [r.fields["id"] for r in records] == ["1", "2"]
+    assert records[0].fields["related.product.id"] == "9"
+
+
+def test_entity_bomb_is_refused_before_parsing() -> None:
+    with pytest.raises(UnsafeFeedError, match="declares XML entities") as info:
+        open_feed(DATA / "bad" / "billion_laughs.xml")
+    assert info.value.line == 3
+    assert info.value.hint and "without a DTD" in info.value.hint
+
+
+def test_external_entity_is_refused_and_never_read(tmp_path: Path) -> None:
+    secret = tmp_path / "secret.txt"
+    secret.write_text("TOP-SECRET-VALUE")
+    path = tmp_path / "xxe.xml"
+    path.write_text(
+        f'<?xml version="1.0"?>\n<!DOCTYPE shop [\n<!ENTITY s SYSTEM "{secret.as_uri()}">\n]>\n'
+        "<shop><product><t>&s;</t></product><product><t>b</t></product></shop>\n"
+    )
+    with pytest.raises(UnsafeFeedError) as info:
+        open_feed(path)
+    assert info.value.line == 3
+    assert "TOP-SECRET-VALUE" not in str(info.value)
+
+
+def test_external_entity_is_not_expanded_even_when_the_format_check_is_bypassed(
+    tmp_path: Path,
+) -> None:
+    from catmap.feeds.xml import iter_xml
+
+    secret = tmp_path / "secret.txt"
+    secret.write_text("TOP-SECRET-VALUE")
+    path = tmp_path / "xxe.xml"
+    path.write_text(
+        f'<?xml version="1.0"?>\n<!DOCTYPE shop [\n<!ENTITY s SYSTEM "{secret.as_uri()}">\n]>\n'
+        "<shop><product><t>&s;</t></product><product><t>b</t></product></shop>\n"
+    )
+    try:
+        values = [str(r) for r in iter_xml(path, record_path="/shop/product", encoding=None)]
+    except FeedFormatError:
+        values = []
+    assert not any("TOP-SECRET-VALUE" in value for value in values)
+
+
+def test_doctype_without_entities_is_accepted(tmp_path: Path) -> None:
+    path = tmp_path / "dtd.xml"
+    path.write_text(
+        '<?xml version="1.0"?>\n<!DOCTYPE shop SYSTEM "shop.dtd">\n'
+        "<shop><product><t>a</t></product><product><t>b</t></product></shop>\n"
+    )
+    assert len(_records(path)) == 2
+
+
+def test_truncated_feed_yields_good_records_then_raises() -> None:
+    seen = []
+    with pytest.raises(FeedFormatError, match="XML is broken") as info:
+        for record in open_feed(DATA / "bad" / "truncated.xml"):
+            seen.append(record)
+    assert [r.fields["id"] for r in seen if isinstance(r, SourceRecord)] == ["T-1", "T-2", "T-3"]
+    assert info.value.line == 7
+    assert info.value.hint and "3 records before it were read" in info.value.hint
+
+
+def test_declared_latin1_encoding(tmp_path: Path) -> None:
+    path = tmp_path / "latin.xml"
+    path.write_bytes(
+        '<?xml version="1.0" encoding="ISO-8859-1"?>\n<shop><p><t>Crème</t></p><p><t>Thé</t></p>'
+        "</shop>\n".encode("latin-1")
+    )
+    feed = open_feed(path)
+    assert feed.info.encoding == "iso8859-1"
+    assert [r.fields["t"] for r in feed if isinstance(r, SourceRecord)] == ["Crème", "Thé"]
+
+
+def test_undeclared_cp1252_is_decoded_with_the_detected_encoding(tmp_path: Path) -> None:
+    path = tmp_path / "cp.xml"
+    path.write_bytes(
+        "<shop><p><t>Écharpe légère 15 €</t></p><p><t>Thé</t></p></shop>\n".encode("cp1252")
+    )
+    feed = open_feed(path)
+    assert feed.info.encoding == "cp1252"
+    titles = [r.fields["t"] for r in feed if isinstance(r, SourceRecord)]
+    assert titles == ["Écharpe légère 15 €", "Thé"]
+
+
+def test_many_records_stream(tmp_path: Path) -> None:
+    path = tmp_path / "many.xml"
+    with path.open("w") as handle:
+        handle.write("<catalog>\n")
+        for i in range(5000):
+            handle.write(f'<product id="{i}"><title>Item {i}</title></product>\n')
+        handle.write("</catalog>\n")
+    feed = open_feed(path)
+    assert feed.info.record_path == "/catalog/product"
+    records = list(feed)
+    assert len(records) == 5000
+    assert records[-1].line == 5001
