@@ -179,6 +179,13 @@ def _parse_restriction(cell: str) -> str | None:
     return cell
 
 
+# The search index: folded terms; their (node id, term, language, is name); term lengths; the
+# file-order rank of each term's node.
+_SearchIndex = tuple[
+    list[str], list[tuple[str, str, str, bool]], np.ndarray[Any, Any], np.ndarray[Any, Any]
+]
+
+
 class CategoryTree:
     """A validated category tree with fast look-ups and fuzzy search.
 
@@ -272,9 +279,7 @@ class CategoryTree:
                 self._ages[node.id] = self._ages[parent] if ages is None else ages
                 self._restriction[node.id] = node.restriction or self._restriction[parent]
 
-        self._search_index: (
-            tuple[list[str], list[tuple[str, str, str, bool]], np.ndarray[Any, Any]] | None
-        ) = None
+        self._search_index: _SearchIndex | None = None
 
     # -- construction helpers -------------------------------------------------------------
 
@@ -476,9 +481,7 @@ class CategoryTree:
                 terms.extend(words)
         return terms
 
-    def _build_search_index(
-        self,
-    ) -> tuple[list[str], list[tuple[str, str, str, bool]], np.ndarray[Any, Any]]:
+    def _build_search_index(self) -> _SearchIndex:
         if self._search_index is None:
             choices: list[str] = []
             owners: list[tuple[str, str, str, bool]] = []  # node id, term, language, is name
@@ -494,7 +497,10 @@ class CategoryTree:
                         choices.append(folded)
                         owners.append((node.id, term, code, is_name))
             lengths = np.fromiter((len(c) for c in choices), dtype=np.int32, count=len(choices))
-            self._search_index = (choices, owners, lengths)
+            node_rank = np.fromiter(
+                (self._index[owner[0]] for owner in owners), dtype=np.int32, count=len(owners)
+            )
+            self._search_index = (choices, owners, lengths, node_rank)
         return self._search_index
 
     def search_matches(
@@ -518,36 +524,29 @@ class CategoryTree:
         query = fold_text(text)
         if not query or limit <= 0:
             return []
-        allowed: set[str] | None = None
-        if under is not None:
-            allowed = {under, *(n.id for n in self.descendants(under))}
-        choices, owners, lengths = self._build_search_index()
+        choices, owners, lengths, node_rank = self._build_search_index()
         scores, whole = _score_terms(query, choices, lengths)
-        best: dict[str, tuple[float, int]] = {}
-        for position in np.flatnonzero(scores > 0).tolist():
-            node_id = owners[position][0]
-            if allowed is not None and node_id not in allowed:
+        keep = scores >= max(min_score, 0.05)
+        if under is not None:
+            inside = np.zeros(len(self._order), dtype=bool)
+            inside[[self._index[under], *(self._index[n.id] for n in self.descendants(under))]] = 1
+            keep &= inside[node_rank]
+        candidates = np.flatnonzero(keep)
+        # Best score first; ties (frequent: a term whose words all occur in the query scores 95)
+        # go to the term most like the whole query, then to file order (terms are indexed in
+        # file order, so the position breaks the last tie).
+        ranked = candidates[np.lexsort((candidates, -whole[candidates], -scores[candidates]))]
+        matches: list[SearchMatch] = []
+        seen: set[str] = set()
+        for position in ranked.tolist():
+            node_id, term, code, is_name = owners[position]
+            if node_id in seen:
                 continue
-            score = float(scores[position])
-            if score < min_score:
-                continue
-            kept = best.get(node_id)
-            if (
-                kept is None
-                or score > kept[0]
-                or (score == kept[0] and whole[position] > whole[kept[1]])
-            ):
-                best[node_id] = (score, position)
-        # Ties (frequent: a term whose words all occur in the query scores 95): the term most
-        # like the whole query first, then file order.
-        ranked = sorted(
-            best.items(),
-            key=lambda item: (-item[1][0], -whole[item[1][1]], self._index[item[0]]),
-        )
-        matches = []
-        for node_id, (score, position) in ranked[:limit]:
-            _, term, code, is_name = owners[position]
-            matches.append(SearchMatch(self._nodes[node_id], score, term, code, is_name))
+            seen.add(node_id)
+            node = self._nodes[node_id]
+            matches.append(SearchMatch(node, float(scores[position]), term, code, is_name))
+            if len(matches) == limit:
+                break
         return matches
 
     def search(
