@@ -215,3 +215,14 @@ def test_bad_feed(path: Path) -> None:
     assert info.value.hint
     assert info.value.line == line
     assert len(yielded) == expected.get("good_before", 0)
+
+
+@pytest.mark.parametrize("name", ["comma.csv", "catalog.xml", "nested.jsonl"])
+def test_truncated_gzip_is_a_feed_error(tmp_path: Path, name: str) -> None:
+    whole = gzip.compress((GOOD / name).read_bytes() * 1)
+    path = tmp_path / "cut.gz"
+    path.write_bytes(whole[: len(whole) - 12])  # drop the trailer and some data
+    with pytest.raises(FeedFormatError) as info:
+        feed = open_feed(path)
+        list(feed)
+    assert info.value.path == str(path)

@@ -14,8 +14,8 @@ DATA = Path(__file__).parent / "data"
 CATALOG = DATA / "feeds" / "catalog.xml"
 
 
-def _records(path: Path, **kwargs: str) -> list[SourceRecord]:
-    return [r for r in open_feed(path, **kwargs) if isinstance(r, SourceRecord)]
+def _records(path: Path, record_path: str | None = None) -> list[SourceRecord]:
+    return [r for r in open_feed(path, record_path=record_path) if isinstance(r, SourceRecord)]
 
 
 def test_record_path_is_detected() -> None:

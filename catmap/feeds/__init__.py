@@ -221,6 +221,7 @@ def _open_delimited(
         raise FeedFormatError(
             "no row could be read",
             path=path,
+            line=1,
             hint="a quoted field may never close; check the first lines",
         )
     if header:

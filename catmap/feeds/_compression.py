@@ -9,6 +9,7 @@ from __future__ import annotations
 import gzip
 import io
 import zipfile
+import zlib
 from pathlib import Path
 from typing import IO, cast
 
@@ -55,6 +56,46 @@ class _ZipMember(io.BufferedReader):
             self._archive.close()
 
 
+class _Checked(io.BufferedIOBase):
+    """A decompressing stream whose read errors become :class:`FeedFormatError`.
+
+    A truncated gzip or a damaged zip member is found only when reading reaches the damage,
+    possibly after many good records; the user then gets one clear error instead of a
+    traceback.
+    """
+
+    def __init__(self, inner: IO[bytes], path: str | Path, compression: str) -> None:
+        super().__init__()
+        self._inner = inner
+        self._path = path
+        self._compression = compression
+
+    def _failed(self, exc: Exception) -> FeedFormatError:
+        return FeedFormatError(
+            f"the {self._compression} data is damaged or cut short: {exc}",
+            path=self._path,
+            hint="the records before the damage were read; ask the sender for the file again",
+        )
+
+    def readable(self) -> bool:
+        return True
+
+    def read(self, size: int | None = -1) -> bytes:
+        try:
+            return self._inner.read(-1 if size is None else size)
+        except (OSError, EOFError, zlib.error, zipfile.BadZipFile) as exc:
+            raise self._failed(exc) from exc
+
+    def read1(self, size: int = -1) -> bytes:
+        return self.read(size)
+
+    def close(self) -> None:
+        try:
+            self._inner.close()
+        finally:
+            super().close()
+
+
 def _zip_member_name(archive: zipfile.ZipFile, path: str | Path) -> str:
     members = [
         info.filename
@@ -89,7 +130,8 @@ def open_binary(path: str | Path) -> tuple[IO[bytes], str | None]:
     """
     compression = detect_compression(path)
     if compression == "gzip":
-        return cast(IO[bytes], gzip.open(path, "rb")), compression
+        inner = cast(IO[bytes], gzip.open(path, "rb"))
+        return cast(IO[bytes], _Checked(inner, path, "gzip")), compression
     if compression == "zip":
         try:
             archive = zipfile.ZipFile(path)
@@ -101,7 +143,7 @@ def open_binary(path: str | Path) -> tuple[IO[bytes], str | None]:
             ) from exc
         try:
             member = _zip_member_name(archive, path)
-            return _ZipMember(archive, member), compression
+            return cast(IO[bytes], _Checked(_ZipMember(archive, member), path, "zip")), compression
         except BaseException:
             archive.close()
             raise
