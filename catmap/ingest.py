@@ -1,0 +1,526 @@
+"""Turn a feed's source records into products, with the row accounting that proves none vanished.
+
+:func:`to_product` applies a feed profile (which source column feeds which field) and the
+normalisers of :mod:`catmap.normalize` to one record. :func:`iter_products` streams a whole feed,
+rejects later records whose product id was already seen, and keeps an :class:`Accounting` up to
+date so that ``read == kept + rejected`` holds at every moment. :func:`normalize_feed_to` writes
+the products, the rejects and the accounting to a folder and survives a fatal feed error
+half-way: what was read before it is written and counted, then the error is raised again.
+
+Speed: the profile is compiled once into a :class:`ProductBuilder` (the column of each field and
+the function that cleans it), so that per record only ``dict.get`` and the normalisers run.
+
+Memory: everything streams. The one structure that grows with the feed is the index of product
+ids already seen, used to find duplicates. It holds an 8-byte BLAKE2b digest of each id (as a
+Python int) mapped to the line where that id was first seen: about 100 bytes per distinct id on
+64-bit CPython (key int ~32 B, line int ~28 B, dict slot ~40 B), i.e. ~100 MB per million
+products. Two different ids share a 64-bit digest with probability about n² / 2⁶⁵
+(~3·10⁻⁸ for a million ids), which would reject the second one as a duplicate.
+"""
+
+from __future__ import annotations
+
+import json
+from collections.abc import Callable, Iterable, Iterator
+from dataclasses import dataclass, field
+from functools import lru_cache
+from hashlib import blake2b
+from pathlib import Path
+from typing import TYPE_CHECKING, Any
+
+from catmap.errors import FeedEncodingError, FeedFormatError, ProfileError, UnsafeFeedError
+from catmap.normalize import (
+    clean_line,
+    clean_text,
+    normalize_availability,
+    normalize_currency,
+    normalize_gtin,
+    parse_price,
+    split_category_path,
+)
+from catmap.records import Product, Reject, SourceRecord
+from catmap.writers import EXCERPT_LENGTH, EXTENSIONS, open_product_writer, open_reject_writer
+
+if TYPE_CHECKING:
+    from catmap.feeds import FeedInfo
+    from catmap.fieldmap import FeedProfile
+
+REQUIRED = ("product_id", "title")
+
+# Reject reasons of this stage (the readers add "ragged_row", "bad_encoding", "unparseable_record").
+MISSING_ID = "missing_id"
+MISSING_TITLE = "missing_title"
+DUPLICATE_ID = "duplicate_id"
+
+# Flags a product can carry (normalisation noticed something but kept the product).
+FLAG_GTIN_INVALID = "gtin_invalid"
+FLAG_PRICE_UNPARSED = "price_unparsed"
+FLAG_CURRENCY_UNKNOWN = "currency_unknown"
+FLAG_CURRENCY_MISSING = "currency_missing"
+FLAG_CURRENCY_CONFLICT = "currency_conflict"
+
+# The accounting lists at most this many duplicated ids, each with at most this many later lines;
+# the full count is in ``by_reason["duplicate_id"]`` and every duplicate is in the rejects file.
+MAX_DUPLICATE_IDS_LISTED = 1000
+MAX_LINES_PER_DUPLICATE_ID = 20
+
+# The fatal errors a reader may raise after yielding good records.
+FATAL_FEED_ERRORS = (FeedFormatError, FeedEncodingError, UnsafeFeedError)
+
+
+@dataclass
+class Accounting:
+    """What happened to every record of a feed: ``read == kept + rejected`` at all times.
+
+    Attributes:
+        read: records (and reader-level rejects) the reader gave.
+        kept: products made.
+        rejected: rejects, whatever stage made them.
+        by_reason: reject reason → count.
+        duplicate_ids: product id → the later lines where it appeared again (bounded: at most
+            :data:`MAX_DUPLICATE_IDS_LISTED` ids and :data:`MAX_LINES_PER_DUPLICATE_ID` lines each).
+        stopped_early: the message of a fatal feed error after which reading stopped, else None.
+    """
+
+    read: int = 0
+    kept: int = 0
+    rejected: int = 0
+    by_reason: dict[str, int] = field(default_factory=dict)
+    duplicate_ids: dict[str, list[int]] = field(default_factory=dict)
+    stopped_early: str | None = None
+
+    @property
+    def balanced(self) -> bool:
+        """True when ``read == kept + rejected``."""
+        return self.read == self.kept + self.rejected
+
+    def count_reject(self, reason: str) -> None:
+        """Count one reject of ``reason`` (``read`` is counted by the caller)."""
+        self.rejected += 1
+        self.by_reason[reason] = self.by_reason.get(reason, 0) + 1
+
+    def to_dict(self) -> dict[str, Any]:
+        """Return the accounting as JSON-ready values (reasons most frequent first)."""
+        return {
+            "read": self.read,
+            "kept": self.kept,
+            "rejected": self.rejected,
+            "by_reason": dict(sorted(self.by_reason.items(), key=lambda item: (-item[1], item[0]))),
+            "duplicate_ids": {key: list(lines) for key, lines in self.duplicate_ids.items()},
+            "stopped_early": self.stopped_early,
+        }
+
+
+def record_excerpt(record: SourceRecord) -> str:
+    """Return the start of a raw record as ``column=value; ...``, at most 300 characters."""
+    text = "; ".join(f"{key}={value}" for key, value in record.fields.items())
+    return text[:EXCERPT_LENGTH]
+
+
+def _strip(value: str) -> str:
+    return value.strip()
+
+
+# Brands, colours, sizes and gender words repeat across a feed: cleaning each distinct value once
+# saves a normaliser call per field per record. Bounded, so memory stays flat.
+_clean_repeated_line = lru_cache(maxsize=16_384)(clean_line)
+
+
+class ProductBuilder:
+    """A feed profile compiled for speed: call it with a source record to get a Product or Reject.
+
+    Args:
+        profile: the feed profile; it must map ``product_id`` and ``title``.
+
+    Raises:
+        ProfileError: when a required field has no column.
+    """
+
+    def __init__(self, profile: FeedProfile) -> None:
+        columns: dict[str, str] = dict(profile.columns)
+        missing = [name for name in REQUIRED if not columns.get(name)]
+        if missing:
+            raise ProfileError(
+                f"the profile maps no column to the required field '{missing[0]}'",
+                field=missing[0],
+                hint="add a line for it under [columns] in the profile",
+            )
+        self.columns = columns
+        self.default_currency: str | None = profile.default_currency
+        self.id_column = columns["product_id"]
+        self.title_column = columns["title"]
+        self.mapped_columns = frozenset(columns.values())
+        # (Product field, source column, cleaner) for the plain text fields. IDs and URLs are only
+        # stripped: an id must stay exactly as the retailer knows it, and a URL is not prose.
+        cleaners: dict[str, Callable[[str], str]] = {
+            "description": clean_text,
+            "brand": _clean_repeated_line,
+            "gender_text": _clean_repeated_line,
+            "colour": _clean_repeated_line,
+            "size": _clean_repeated_line,
+            "url": _strip,
+            "image_url": _strip,
+            "availability": normalize_availability,
+        }
+        self.text_steps: tuple[tuple[str, str, Callable[[str], str]], ...] = tuple(
+            (name, columns[name], cleaner) for name, cleaner in cleaners.items() if name in columns
+        )
+        self.category_column = columns.get("category_path")
+        self.price_column = columns.get("price")
+        self.currency_column = columns.get("currency")
+        self.gtin_column = columns.get("gtin")
+
+    def __call__(self, record: SourceRecord) -> Product | Reject:
+        """Normalise one source record."""
+        fields = record.fields
+        get = fields.get
+        product_id = get(self.id_column, "").strip()
+        if not product_id:
+            return Reject(
+                MISSING_ID,
+                f"no product id in column '{self.id_column}'",
+                record.line,
+                record.location,
+                record_excerpt(record),
+            )
+        raw_title = get(self.title_column, "")
+        title = clean_line(raw_title) if raw_title else ""
+        if not title:
+            return Reject(
+                MISSING_TITLE,
+                f"no title in column '{self.title_column}'"
+                + (" after cleaning" if raw_title.strip() else ""),
+                record.line,
+                record.location,
+                record_excerpt(record),
+                product_id,
+            )
+
+        values: dict[str, Any] = {}
+        flags: list[str] = []
+        for name, column, cleaner in self.text_steps:
+            raw = get(column)
+            if raw:
+                values[name] = cleaner(raw)
+
+        if self.category_column is not None:
+            raw = get(self.category_column)
+            if raw:
+                values["category_path"] = split_category_path(raw)
+
+        if self.price_column is not None or self.currency_column is not None:
+            self._price(get, values, flags)
+
+        if self.gtin_column is not None:
+            raw = get(self.gtin_column)
+            if raw:
+                raw = raw.strip()
+            if raw:
+                gtin, problem = normalize_gtin(raw)
+                values["gtin_raw"] = raw
+                if problem is None and gtin is not None:
+                    values["gtin"] = gtin
+                else:
+                    flags.append(FLAG_GTIN_INVALID)
+                    if problem:
+                        flags.append(problem)
+
+        mapped = self.mapped_columns
+        extra = {key: value for key, value in fields.items() if key not in mapped}
+        return Product(
+            product_id=product_id,
+            title=title,
+            extra=extra,
+            flags=tuple(flags),
+            source_line=record.line,
+            **values,
+        )
+
+    def _price(
+        self, get: Callable[[str], str | None], values: dict[str, Any], flags: list[str]
+    ) -> None:
+        column_currency: str | None = None
+        if self.currency_column is not None:
+            raw_currency = get(self.currency_column)
+            if raw_currency and raw_currency.strip():
+                column_currency = normalize_currency(raw_currency)
+                if column_currency is None:
+                    flags.append(FLAG_CURRENCY_UNKNOWN)
+        raw_price = get(self.price_column) if self.price_column is not None else None
+        if not raw_price or not raw_price.strip():
+            if column_currency is not None:
+                values["currency"] = column_currency
+            return
+        price, currency = parse_price(raw_price, self.default_currency)
+        if price is None:
+            flags.append(FLAG_PRICE_UNPARSED)
+        else:
+            values["price"] = price
+        if column_currency is not None:
+            # The currency column is explicit; a different symbol in the price text (not merely
+            # the profile's default) is worth a flag.
+            if currency is not None and currency not in (column_currency, self.default_currency):
+                flags.append(FLAG_CURRENCY_CONFLICT)
+            currency = column_currency
+        if currency is not None:
+            values["currency"] = currency
+        elif price is not None:
+            flags.append(FLAG_CURRENCY_MISSING)
+
+
+# One compiled profile is kept: to_product is called record after record with the same profile.
+_last_builder: tuple[Any, dict[str, str], str | None, ProductBuilder] | None = None
+
+
+def compile_profile(profile: FeedProfile) -> ProductBuilder:
+    """Compile a profile into a :class:`ProductBuilder` (see :func:`to_product`)."""
+    return ProductBuilder(profile)
+
+
+def to_product(record: SourceRecord, profile: FeedProfile) -> Product | Reject:
+    """Apply a feed profile and the normalisers to one source record.
+
+    Titles, brands, colours, sizes and the gender text are cleaned with ``clean_line``, the
+    description with ``clean_text``; the price is parsed with the profile's default currency (a
+    mapped currency column wins); an invalid GTIN leaves ``gtin`` None, keeps ``gtin_raw`` and adds
+    the ``gtin_invalid`` flag and the problem code; every unmapped column goes to ``extra``.
+
+    Args:
+        record: one record from a feed reader.
+        profile: the feed profile.
+
+    Returns:
+        The product, or a Reject with reason ``missing_id`` or ``missing_title``.
+
+    Raises:
+        ProfileError: when the profile maps no column to ``product_id`` or ``title``.
+    """
+    global _last_builder
+    cached = _last_builder
+    if (
+        cached is not None
+        and cached[0] is profile
+        and cached[1] == profile.columns
+        and cached[2] == profile.default_currency
+    ):
+        builder = cached[3]
+    else:
+        builder = ProductBuilder(profile)
+        _last_builder = (profile, dict(profile.columns), profile.default_currency, builder)
+    return builder(record)
+
+
+def _id_key(product_id: str) -> int:
+    return int.from_bytes(blake2b(product_id.encode("utf-8"), digest_size=8).digest(), "little")
+
+
+def iter_products(
+    feed: Iterable[SourceRecord | Reject], profile: FeedProfile, accounting: Accounting
+) -> Iterator[Product | Reject]:
+    """Stream a feed as products and rejects, keeping ``accounting`` up to date.
+
+    Reader-level rejects pass through and are counted. A product whose id was already seen is
+    rejected as ``duplicate_id`` (the first one is kept; the detail names its line). A fatal
+    reader error propagates after the records before it were yielded and counted.
+
+    Args:
+        feed: an open feed (anything that yields SourceRecord / Reject).
+        profile: the feed profile.
+        accounting: updated in place; ``read == kept + rejected`` after each yielded item.
+
+    Yields:
+        Products and rejects, in feed order.
+
+    Raises:
+        ProfileError: when the profile maps no column to ``product_id`` or ``title``.
+    """
+    build = ProductBuilder(profile)
+    seen: dict[int, int] = {}
+    duplicates = accounting.duplicate_ids
+    for item in feed:
+        accounting.read += 1
+        if type(item) is Reject:
+            accounting.count_reject(item.reason)
+            yield item
+            continue
+        assert isinstance(item, SourceRecord)
+        result = build(item)
+        if type(result) is Reject:
+            accounting.count_reject(result.reason)
+            yield result
+            continue
+        assert isinstance(result, Product)
+        product_id = result.product_id
+        key = _id_key(product_id)
+        first_line = seen.get(key)
+        if first_line is None:
+            seen[key] = item.line
+            accounting.kept += 1
+            yield result
+            continue
+        where = f"line {first_line}" if first_line else "earlier in the feed"
+        reject = Reject(
+            DUPLICATE_ID,
+            f"product id '{product_id}' was already seen at {where}; the first one is kept",
+            item.line,
+            item.location,
+            record_excerpt(item),
+            product_id,
+        )
+        lines = duplicates.get(product_id)
+        if lines is None:
+            if len(duplicates) < MAX_DUPLICATE_IDS_LISTED:
+                duplicates[product_id] = [item.line]
+        elif len(lines) < MAX_LINES_PER_DUPLICATE_ID:
+            lines.append(item.line)
+        accounting.count_reject(DUPLICATE_ID)
+        yield reject
+
+
+@dataclass(frozen=True)
+class OutputPaths:
+    """The files :func:`normalize_feed_to` writes."""
+
+    products: Path
+    rejects: Path
+    accounting: Path
+
+    def to_dict(self) -> dict[str, str]:
+        """Return the paths as text."""
+        return {
+            "products": str(self.products),
+            "rejects": str(self.rejects),
+            "accounting": str(self.accounting),
+        }
+
+
+def output_paths(out_dir: str | Path, format: str = "jsonl") -> OutputPaths:
+    """Return the files a normalisation run writes in ``out_dir``.
+
+    Products go to ``products.<ext>``; rejects to ``rejects.csv`` when the format is CSV, else
+    ``rejects.jsonl``; the accounting to ``accounting.json``.
+
+    Raises:
+        ValueError: for an unknown format.
+    """
+    if format not in EXTENSIONS:
+        raise ValueError(f"unknown output format {format!r}")
+    folder = Path(out_dir)
+    reject_ext = "csv" if format == "csv" else "jsonl"
+    return OutputPaths(
+        products=folder / f"products.{EXTENSIONS[format]}",
+        rejects=folder / f"rejects.{reject_ext}",
+        accounting=folder / "accounting.json",
+    )
+
+
+def check_profile(
+    profile: FeedProfile, info: FeedInfo | None = None, *, profile_path: str | Path | None = None
+) -> None:
+    """Check that a profile can make products from a feed before reading it.
+
+    Args:
+        profile: the feed profile.
+        info: what the reader found (its ``columns`` are listed in the message), if known.
+        profile_path: where the profile is saved, named in the hint.
+
+    Raises:
+        ProfileError: when ``product_id`` or ``title`` has no column, or (for a feed whose columns
+            are known) its column is not in the feed. The message names the field, the hint
+            lists the columns found and says which file to edit.
+    """
+    found = tuple(info.columns) if info is not None else ()
+    found_text = ", ".join(found) if found else "none"
+    where = f"edit the profile at {profile_path}" if profile_path else "edit the profile"
+    for name in REQUIRED:
+        if not profile.columns.get(name):
+            raise ProfileError(
+                f"the profile maps no column to the required field '{name}'",
+                path=profile_path,
+                field=name,
+                hint=f"columns found: {found_text}; {where}",
+            )
+    for name in REQUIRED:
+        column = profile.columns[name]
+        if found and column not in found:
+            raise ProfileError(
+                f"the profile maps the required field '{name}' to column '{column}', "
+                "which the feed does not have",
+                path=profile_path,
+                field=name,
+                hint=f"columns found: {found_text}; {where}",
+            )
+
+
+def normalize_feed_to(
+    feed: Iterable[SourceRecord | Reject],
+    profile: FeedProfile,
+    out_dir: str | Path,
+    *,
+    format: str = "jsonl",
+    accounting: Accounting | None = None,
+    on_progress: Callable[[Accounting], None] | None = None,
+    progress_every: int = 10_000,
+) -> tuple[Accounting, OutputPaths]:
+    """Normalise a whole feed and write products, rejects and the accounting to ``out_dir``.
+
+    When the reader stops on a fatal feed error (FeedFormatError, FeedEncodingError,
+    UnsafeFeedError) after some records, ``accounting.stopped_early`` records its message, every
+    output file is finished and closed, and then the error is raised again. Pass your own
+    ``accounting`` to see the counts in that case.
+
+    Args:
+        feed: an open feed.
+        profile: the feed profile.
+        out_dir: the output folder (created if needed).
+        format: ``"jsonl"``, ``"csv"`` or ``"parquet"`` for the products.
+        accounting: filled in place (a new one when None).
+        on_progress: called with the accounting every ``progress_every`` records.
+        progress_every: see ``on_progress``.
+
+    Returns:
+        The accounting and the paths written.
+
+    Raises:
+        FeedFormatError, FeedEncodingError, UnsafeFeedError: after the outputs are written.
+        ProfileError: when the profile maps no column to ``product_id`` or ``title``.
+    """
+    accounting = accounting if accounting is not None else Accounting()
+    paths = output_paths(out_dir, format)
+    ProductBuilder(profile)  # a bad profile fails before any file is created
+    paths.products.parent.mkdir(parents=True, exist_ok=True)
+    fatal: BaseException | None = None
+    products = open_product_writer(paths.products, format)
+    try:
+        rejects = open_reject_writer(paths.rejects, "csv" if format == "csv" else "jsonl")
+        try:
+            write_product = products.write
+            write_reject = rejects.write
+            next_progress = progress_every
+            try:
+                for item in iter_products(feed, profile, accounting):
+                    if type(item) is Reject:
+                        write_reject(item)
+                    else:
+                        write_product(item)
+                    if on_progress is not None and accounting.read >= next_progress:
+                        next_progress += progress_every
+                        on_progress(accounting)
+            except FATAL_FEED_ERRORS as error:
+                accounting.stopped_early = str(error)
+                fatal = error
+        finally:
+            rejects.close()
+    finally:
+        products.close()
+        facts = accounting.to_dict()
+        facts["outputs"] = paths.to_dict()
+        facts["format"] = format
+        paths.accounting.write_text(
+            json.dumps(facts, ensure_ascii=False, indent=2) + "\n", encoding="utf-8"
+        )
+    if on_progress is not None:
+        on_progress(accounting)
+    if fatal is not None:
+        raise fatal
+    return accounting, paths
