@@ -1,0 +1,699 @@
+"""Which source column feeds which catmap field: suggested from names and values, kept as a profile.
+
+:func:`suggest_profile` scores every (field, column) pair twice, once from the column's name
+against a multilingual synonym table (English, French, German, Spanish and common export
+styles, compared with rapidfuzz) and once from the column's values in a sample of records (GTIN
+check digits, image URLs, prices, category paths...), combines the two into one confidence and
+gives each column to at most one field, most confident pair first.
+
+A :class:`FeedProfile` is saved as a small TOML file with comments, meant to be read and edited
+by hand; :func:`load_profile` reads it back and reports a bad line with :class:`ProfileError`.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import re
+import tomllib
+import unicodedata
+from collections import Counter
+from collections.abc import Sequence
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any
+
+from rapidfuzz import fuzz
+
+from catmap.errors import ProfileError
+from catmap.feeds import FeedInfo
+from catmap.normalize import (
+    clean_line,
+    normalize_availability,
+    normalize_currency,
+    normalize_gtin,
+    parse_price,
+    split_category_path,
+)
+from catmap.records import SourceRecord
+
+__all__ = [
+    "REQUIRED_FIELDS",
+    "TARGET_FIELDS",
+    "FeedProfile",
+    "FieldSuggestion",
+    "load_profile",
+    "normalize_header",
+    "profile_text",
+    "save_profile",
+    "suggest_profile",
+]
+
+TARGET_FIELDS: tuple[str, ...] = (
+    "product_id", "title", "description", "brand", "category_path", "price", "currency", "gtin",
+    "gender_text", "colour", "size", "url", "image_url", "availability",
+)  # fmt: skip
+REQUIRED_FIELDS: tuple[str, ...] = ("product_id", "title")
+
+# A pair below this confidence is not suggested (the field stays unmapped for the user to set).
+MIN_CONFIDENCE = 0.5
+# A header must resemble a synonym at least this much (rapidfuzz score, 0-100) to count.
+HEADER_THRESHOLD = 82
+# A header word that is a one-word synonym ("price_eur") scores this much.
+WORD_SCORE = 86.0
+NESTED_FACTOR = 0.95
+SAMPLES_KEPT = 3
+
+
+@dataclass
+class FieldSuggestion:
+    """Why catmap thinks a column feeds a field.
+
+    Attributes:
+        field: the target field.
+        column: the source column, or None when nothing fits.
+        confidence: 0..1.
+        evidence: short human text, e.g. "header 'prix' ~ price (96); 100% price-like values".
+        samples: up to three distinct non-empty values of the column.
+    """
+
+    field: str
+    column: str | None
+    confidence: float
+    evidence: str
+    samples: list[str] = dataclasses.field(default_factory=list)
+
+
+@dataclass
+class FeedProfile:
+    """How to read one feed: the column of each field and the reader options to reuse.
+
+    Attributes:
+        columns: target field -> source column (only the mapped fields).
+        default_currency: ISO 4217 code for prices that name no currency.
+        encoding: remembered reader encoding (None = detect).
+        delimiter: remembered cell separator (None = detect).
+        record_path: remembered XML record element (None = detect).
+        suggestions: what :func:`suggest_profile` found (not saved in the file).
+        source_columns: the columns the feed had when the profile was made (saved, and used by
+            :func:`load_profile` to catch a misspelt column).
+    """
+
+    columns: dict[str, str]
+    default_currency: str | None = None
+    encoding: str | None = None
+    delimiter: str | None = None
+    record_path: str | None = None
+    suggestions: list[FieldSuggestion] = dataclasses.field(default_factory=list)
+    source_columns: tuple[str, ...] = ()
+
+    def missing(self) -> list[str]:
+        """Return the target fields that have no column, in :data:`TARGET_FIELDS` order."""
+        return [name for name in TARGET_FIELDS if not self.columns.get(name)]
+
+
+# ---------------------------------------------------------------------------------------------
+# Header names
+
+# Normalised header names (lower case, no accents, words separated by one space) per field.
+# Common practice, no source: words seen in shop exports in English, French, German, Spanish.
+_SYNONYMS: dict[str, tuple[str, ...]] = {
+    "product_id": (
+        "id", "product id", "item id", "article id", "sku", "article number", "item number",
+        "product number", "product code", "item code", "reference", "ref", "offer id",
+        "id produit", "identifiant", "reference produit", "ref produit", "code article",
+        "numero article", "artikelnummer", "artikel nr", "art nr", "artnr", "artikel id",
+        "produkt id", "produktnummer", "bestellnummer", "referencia", "id producto",
+        "codigo", "codigo producto", "codigo articulo", "numero de articulo",
+    ),
+    "title": (
+        "title", "name", "product name", "product title", "item name", "item title",
+        "titre", "nom", "nom produit", "nom du produit", "libelle", "designation",
+        "titel", "name des produkts", "produktname", "produkt name", "artikelname",
+        "bezeichnung", "produktbezeichnung", "titulo", "nombre", "nombre producto",
+        "nombre del producto", "titulo producto",
+    ),
+    "description": (
+        "description", "desc", "long description", "product description", "details",
+        "description produit", "descriptif", "description longue", "beschreibung",
+        "produktbeschreibung", "artikelbeschreibung", "langtext", "descripcion",
+        "descripcion producto", "descripcion larga", "body", "text",
+    ),
+    "brand": (
+        "brand", "brand name", "manufacturer", "maker", "make", "label", "marque", "fabricant",
+        "marke", "hersteller", "markenname", "marca", "fabricante",
+    ),
+    "category_path": (
+        "category", "categories", "category path", "product category", "breadcrumb",
+        "breadcrumbs", "department", "categorie", "categories produit", "rayon", "chemin",
+        "kategorie", "kategorien", "warengruppe", "produktkategorie", "kategoriepfad",
+        "categoria", "categorias", "ruta categoria", "seccion", "shop category",
+    ),
+    "price": (
+        "price", "sale price", "current price", "unit price", "amount", "cost", "prix",
+        "prix ttc", "prix de vente", "tarif", "montant", "preis", "verkaufspreis", "vk preis",
+        "bruttopreis", "precio", "precio venta", "importe", "pvp",
+    ),
+    "currency": (
+        "currency", "currency code", "curr", "devise", "monnaie", "wahrung", "waehrung",
+        "moneda", "divisa",
+    ),
+    "gtin": (
+        "gtin", "ean", "ean13", "ean 13", "ean8", "upc", "upc a", "barcode", "bar code",
+        "gtin13", "gtin14", "gtin 14", "isbn", "code barre", "code barres", "code ean",
+        "strichcode", "barcode nummer", "ean code", "ean nummer", "codigo de barras",
+        "codigo barras", "codigo ean",
+    ),
+    "gender_text": (
+        "gender", "sex", "target gender", "audience", "genre", "sexe", "geschlecht",
+        "zielgruppe", "sexo", "genero",
+    ),
+    "colour": (
+        "colour", "color", "colour name", "color name", "couleur", "coloris", "farbe",
+        "farbton", "colores",
+    ),
+    "size": (
+        "size", "sizes", "taille", "tailles", "pointure", "grosse", "groesse", "konfektionsgrosse",
+        "talla", "tallas", "tamano", "medida",
+    ),
+    "url": (
+        "url", "link", "product url", "product link", "page url", "deeplink", "deep link",
+        "lien", "lien produit", "url produit", "produkt url", "produktlink", "artikel url",
+        "enlace", "url producto", "enlace producto",
+    ),
+    "image_url": (
+        "image", "image url", "image link", "picture", "picture url", "photo", "img",
+        "img url", "main image", "thumbnail", "url image", "lien image", "image produit",
+        "bild", "bild url", "bildlink", "produktbild", "bild link", "imagen", "url imagen",
+        "foto", "enlace imagen",
+    ),
+    "availability": (
+        "availability", "available", "stock", "stock status", "in stock", "inventory",
+        "stock level", "quantity", "qty", "disponibilite", "dispo", "etat du stock",
+        "verfugbarkeit", "lagerbestand", "lagerstatus", "bestand", "lieferstatus",
+        "disponibilidad", "existencias", "inventario",
+    ),
+}  # fmt: skip
+
+_CAMEL_RE = re.compile(r"(?<=[a-z0-9])(?=[A-Z])")
+_HEADER_SEPARATOR_RE = re.compile(r"[\s_\-./:]+")
+
+
+def normalize_header(name: str) -> str:
+    """Reduce a column name to plain lower-case words for comparison with the synonym table.
+
+    Dotted paths keep their last part ("offer.price" -> "price"), an attribute keeps its name
+    ("price.@currency" -> "currency"), a namespace prefix goes ("x:title" -> "title"),
+    camelCase is split, accents and separators go.
+
+    Args:
+        name: a source column name.
+
+    Returns:
+        e.g. "Produkt-Name" -> "produkt name", "nom_produit" -> "nom produit".
+    """
+    last = name.strip().rsplit(".", 1)[-1] if "." in name.strip(".") else name.strip()
+    last = last.lstrip("@")
+    if ":" in last:
+        last = last.rsplit(":", 1)[-1]
+    last = _CAMEL_RE.sub(" ", last)
+    last = unicodedata.normalize("NFKD", last.replace("ß", "ss"))
+    last = "".join(ch for ch in last if not unicodedata.combining(ch)).casefold()
+    return " ".join(_HEADER_SEPARATOR_RE.sub(" ", last).split())
+
+
+_SYNONYM_INDEX: dict[str, str] = {
+    synonym: name for name, synonyms in _SYNONYMS.items() for synonym in synonyms
+}
+
+
+def _header_scores(column: str) -> dict[str, tuple[float, str]]:
+    """Best rapidfuzz score (0..100) of a column name per field, with the synonym it matched."""
+    header = normalize_header(column)
+    # A nested name ("shipping.price") is less likely the record's own field than a plain one.
+    nested = "." in column.strip(".").replace(".@", "@")
+    scores: dict[str, tuple[float, str]] = {}
+    if not header:
+        return scores
+    compact = header.replace(" ", "")
+    for synonym, name in _SYNONYM_INDEX.items():
+        if synonym == header:
+            score = 100.0
+        elif min(len(header), len(synonym)) <= 3:
+            continue  # short names ("id", "ean") only count when they match exactly
+        else:
+            score = max(
+                fuzz.ratio(header, synonym),
+                fuzz.ratio(compact, synonym.replace(" ", "")),
+                fuzz.token_sort_ratio(header, synonym),
+            )
+            if " " not in synonym and synonym in header.split():
+                score = max(score, WORD_SCORE)  # "price eur", "old price": a word is the name
+        if nested:
+            score *= NESTED_FACTOR
+        if score >= HEADER_THRESHOLD and score > scores.get(name, (0.0, ""))[0]:
+            scores[name] = (score, synonym)
+    return scores
+
+
+# ---------------------------------------------------------------------------------------------
+# Values
+
+_URL_RE = re.compile(r"^(?:https?:)?//\S+$", re.IGNORECASE)
+_IMAGE_URL_RE = re.compile(
+    r"\.(?:jpe?g|png|gif|webp|avif|bmp|tiff?|svg)(?:[?#]\S*)?$|/(?:images?|img|media|photos?|"
+    r"pictures?|thumbnails?|bilder|imagenes|fotos)/",
+    re.IGNORECASE,
+)
+_HTML_RE = re.compile(r"</?[A-Za-z][^<>]*>|&[a-zA-Z]+;|&#\d+;")
+_CODE_RE = re.compile(r"^[A-Za-z0-9][A-Za-z0-9_.\-/:#]{0,39}$")
+_DECIMAL_PRICE_RE = re.compile(r"\d[.,]\d{1,2}(?:\D|$)|\d[.,][-\u2013]")
+
+# Common practice, no source: how feeds write who a product is for.
+_GENDER_TOKENS = frozenset(
+    "w m f u h d women men woman man female male unisex ladies gents girls boys kids "
+    "femme femmes homme hommes fille filles garcon garcons enfant enfants mixte "
+    "damen herren frauen manner madchen jungen kinder "
+    "mujer mujeres hombre hombres nina ninas nino ninos infantil".split()
+)
+_COLOUR_TOKENS = frozenset(
+    "black white red blue green yellow grey gray brown pink purple orange beige navy "
+    "noir blanc rouge bleu vert jaune gris marron rose violet "
+    "schwarz weiss rot blau grun gelb grau braun lila "
+    "negro blanco rojo azul verde amarillo gris marron rosa morado naranja multicolour "
+    "multicolor bunt multi".split()
+)
+_SIZE_RE = re.compile(
+    r"^(?:x{0,3}s|m|x{0,4}l|\d?xl|\d{1,3}(?:[.,]5)?|\d{2}/\d{2}|w\d{2}(?: ?l\d{2})?|"
+    r"(?:eu|uk|us|fr|it) ?\d{1,2}(?:[.,]5)?|one size|onesize|taille unique|einheitsgrosse|"
+    r"talla unica|tu|os|\d{1,3} ?(?:cm|ml|l|g|kg|mm))$",
+    re.IGNORECASE,
+)
+
+
+def _plain_token(value: str) -> str:
+    decomposed = unicodedata.normalize("NFKD", value.strip().casefold().replace("ß", "ss"))
+    return "".join(ch for ch in decomposed if not unicodedata.combining(ch)).strip(" .")
+
+
+def _share(values: Sequence[str], test: Any) -> float:
+    return sum(1 for value in values if test(value)) / len(values) if values else 0.0
+
+
+def _value_scores(values: list[str]) -> dict[str, tuple[float, str]]:
+    """Score 0..100 per field from a column's non-empty sample values, with evidence text."""
+    scores: dict[str, tuple[float, str]] = {}
+    if not values:
+        return scores
+    total = len(values)
+    distinct = len(set(values))
+    unique_ratio = distinct / total
+    lengths = [len(value) for value in values]
+    mean_length = sum(lengths) / total
+
+    def put(name: str, share: float, evidence: str, weight: float = 100.0) -> None:
+        if share > 0:
+            scores[name] = (share * weight, evidence)
+
+    urls = [value for value in values if _URL_RE.match(value)]
+    if urls:
+        images = _share(urls, _IMAGE_URL_RE.search) * len(urls) / total
+        others = (len(urls) / total) - images
+        put("image_url", images, f"{images:.0%} image URLs")
+        put("url", others, f"{others:.0%} page URLs")
+        return scores  # a column of links is nothing else
+
+    gtin_share = _share(values, lambda value: normalize_gtin(value)[0] is not None)
+    put("gtin", gtin_share, f"{gtin_share:.0%} valid GTIN check digits")
+
+    priced = [parse_price(value) for value in values]
+    price_share = sum(
+        1
+        for value, (amount, currency) in zip(values, priced, strict=True)
+        if amount is not None and (currency is not None or _DECIMAL_PRICE_RE.search(value))
+    ) / total
+    put("price", price_share, f"{price_share:.0%} price-like values", 95)
+
+    currency_share = _share(
+        values, lambda value: len(value) <= 20 and normalize_currency(value) is not None
+    )
+    put("currency", currency_share, f"{currency_share:.0%} currency codes or symbols", 95)
+
+    path_share = _share(values, lambda value: len(split_category_path(value)) >= 2)
+    put("category_path", path_share, f"{path_share:.0%} category paths with separators", 90)
+
+    tokens = [_plain_token(value) for value in values]
+    few_distinct = distinct <= 12 and (total < 10 or unique_ratio <= 0.5)
+    if few_distinct:
+        share = _share(tokens, _GENDER_TOKENS.__contains__)
+        put("gender_text", share, f"{share:.0%} who words, {distinct} distinct values", 90)
+        colour = _share(tokens, _COLOUR_TOKENS.__contains__)
+        put("colour", colour, f"{colour:.0%} colour words", 85)
+    size = _share(values, lambda value: bool(_SIZE_RE.match(value.strip())))
+    if distinct <= 40:
+        put("size", size, f"{size:.0%} size-like values", 80)
+    availability = _share(
+        values, lambda value: not value.isdigit() and normalize_availability(value) != "unknown"
+    )
+    put("availability", availability, f"{availability:.0%} availability words", 90)
+
+    code_like = _share(values, lambda value: bool(_CODE_RE.match(value)))
+    if code_like and not price_share >= 0.5:
+        put("product_id", code_like * unique_ratio,
+            f"{unique_ratio:.0%} unique short codes", 80)  # fmt: skip
+
+    html_share = _share(values, lambda value: bool(_HTML_RE.search(value)))
+    worded = _share(values, lambda value: " " in value.strip())
+    if mean_length >= 80 or (html_share >= 0.3 and mean_length >= 30):
+        put("description", max(html_share, min(mean_length / 160, 1.0)),
+            f"long text (mean {mean_length:.0f} characters"
+            + (f", {html_share:.0%} with HTML)" if html_share else ")"), 75)  # fmt: skip
+    elif 10 <= mean_length < 120 and worded >= 0.6 and html_share < 0.3:
+        put("title", worded * unique_ratio, f"medium text (mean {mean_length:.0f} characters, "
+            f"{unique_ratio:.0%} distinct)", 70)  # fmt: skip
+    if (
+        mean_length <= 30
+        and unique_ratio <= 0.6
+        and distinct >= 2
+        and gtin_share < 0.5
+        and price_share < 0.5
+        and max(
+            scores.get(other, (0.0, ""))[0]
+            for other in ("gender_text", "colour", "size", "availability")
+        )
+        < 30
+    ):
+        letters = _share(values, lambda value: any(ch.isalpha() for ch in value))
+        put("brand", letters, "short repeated names", 55)
+    return scores
+
+
+# ---------------------------------------------------------------------------------------------
+# Suggestion
+
+
+def _combine(header: float, values: float) -> float:
+    """One confidence (0..1) from a header score and a value score (both 0..100).
+
+    The header is the stronger clue; values confirm it or, alone, stand in for a missing name.
+    """
+    best = max(header * 0.9, values * 0.8)
+    return min(1.0, (best + 0.15 * min(header, values)) / 100)
+
+
+def _column_values(sample: Sequence[SourceRecord], column: str) -> list[str]:
+    values = []
+    for record in sample:
+        value = record.fields.get(column)
+        if value is not None and value.strip():
+            values.append(value.strip())
+    return values
+
+
+def _samples(values: list[str]) -> list[str]:
+    kept: list[str] = []
+    for value in values:
+        short = clean_line(value)
+        short = short if len(short) <= 80 else short[:77] + "..."
+        if short and short not in kept:
+            kept.append(short)
+        if len(kept) == SAMPLES_KEPT:
+            break
+    return kept
+
+
+def suggest_profile(info: FeedInfo, sample: Sequence[SourceRecord]) -> FeedProfile:
+    """Suggest which column feeds which field, from column names and sample values.
+
+    Args:
+        info: what the reader found out about the feed (columns, encoding, delimiter...).
+        sample: the first records of the feed (about 200 are plenty).
+
+    Returns:
+        A profile with the suggested columns, the reader options to remember and one
+        :class:`FieldSuggestion` per target field (``column`` None when nothing fits).
+    """
+    columns = list(info.columns)
+    for record in sample:
+        for name in record.fields:
+            if name not in columns:
+                columns.append(name)
+    values = {column: _column_values(sample, column) for column in columns}
+    candidates: list[tuple[float, int, str, str, str]] = []
+    for position, column in enumerate(columns):
+        by_header = _header_scores(column)
+        by_value = _value_scores(values[column])
+        for name in TARGET_FIELDS:
+            header_score, synonym = by_header.get(name, (0.0, ""))
+            value_score, value_evidence = by_value.get(name, (0.0, ""))
+            confidence = _combine(header_score, value_score)
+            if confidence <= 0:
+                continue
+            clues = []
+            if header_score:
+                clues.append(f"header '{column}' ~ {synonym} ({header_score:.0f})")
+            if value_score:
+                clues.append(value_evidence)
+            candidates.append((confidence, -position, name, column, "; ".join(clues)))
+    candidates.sort(reverse=True)
+
+    chosen: dict[str, FieldSuggestion] = {}
+    used: set[str] = set()
+    best_rejected: dict[str, tuple[float, str]] = {}
+    for confidence, _, name, column, evidence in candidates:
+        if name in chosen or column in used:
+            continue
+        if confidence < MIN_CONFIDENCE:
+            best_rejected.setdefault(name, (confidence, column))
+            continue
+        chosen[name] = FieldSuggestion(
+            name, column, round(confidence, 3), evidence, _samples(values[column])
+        )
+        used.add(column)
+
+    price = chosen.get("price")
+    if "currency" not in chosen and price is not None:
+        found = Counter(
+            currency
+            for currency in (parse_price(value)[1] for value in values[price.column or ""])
+            if currency
+        )
+        if found:
+            code, count = found.most_common(1)[0]
+            share = count / max(1, len(values[price.column or ""]))
+            chosen["currency"] = FieldSuggestion(
+                "currency", None, round(share, 3),
+                f"currency inside the price values ({code} in {share:.0%}); no column needed",
+                [],
+            )  # fmt: skip
+
+    suggestions = []
+    for name in TARGET_FIELDS:
+        if name in chosen:
+            suggestions.append(chosen[name])
+        elif name in best_rejected:
+            confidence, column = best_rejected[name]
+            suggestions.append(FieldSuggestion(
+                name, None, 0.0,
+                f"no column fits; best was '{column}' ({confidence:.2f}, below {MIN_CONFIDENCE})",
+            ))  # fmt: skip
+        else:
+            suggestions.append(FieldSuggestion(name, None, 0.0, "no column fits"))
+    mapped = {s.field: s.column for s in suggestions if s.column is not None}
+    return FeedProfile(
+        columns=mapped,
+        encoding=info.encoding or None,
+        delimiter=info.delimiter,
+        record_path=info.record_path,
+        suggestions=suggestions,
+        source_columns=tuple(columns),
+    )
+
+
+# ---------------------------------------------------------------------------------------------
+# Profile file
+
+_FEED_KEYS = ("default_currency", "encoding", "delimiter", "record_path", "columns")
+
+
+def _toml_string(value: str) -> str:
+    escaped = []
+    for char in value:
+        if char == "\\":
+            escaped.append("\\\\")
+        elif char == '"':
+            escaped.append('\\"')
+        elif char in "\b\t\n\f\r":
+            escaped.append({"\b": "\\b", "\t": "\\t", "\n": "\\n", "\f": "\\f", "\r": "\\r"}[char])
+        elif ord(char) < 0x20 or ord(char) == 0x7F:
+            escaped.append(f"\\u{ord(char):04x}")
+        else:
+            escaped.append(char)
+    return '"' + "".join(escaped) + '"'
+
+
+def _comment(text: str) -> str:
+    return " ".join(text.split())
+
+
+def profile_text(profile: FeedProfile) -> str:
+    """Return the TOML text :func:`save_profile` writes (comments included).
+
+    Args:
+        profile: the profile to write.
+
+    Returns:
+        The file content.
+    """
+    by_field = {s.field: s for s in profile.suggestions}
+    lines = [
+        "# catmap feed profile: which column of the feed feeds which catmap field.",
+        "# Edit by hand: change a column name, comment a line out (#) to leave a field unmapped.",
+        "# catmap reuses this file on the next run of the same feed.",
+        "",
+        "[feed]",
+        "# Currency for prices that name none (ISO 4217 code such as \"EUR\"); omit if prices",
+        "# always say it or a currency column is mapped.",
+    ]
+
+    def option(key: str, value: str | None) -> None:
+        lines.append(f"{key} = {_toml_string(value)}" if value is not None else f"# {key} = \"\"")
+
+    option("default_currency", profile.default_currency)
+    lines.append("# Reader options to reuse; comment out to let catmap detect them again.")
+    option("encoding", profile.encoding)
+    option("delimiter", profile.delimiter)
+    option("record_path", profile.record_path)
+    if profile.source_columns:
+        lines.append("# The feed's columns when this profile was made (mapped ones must be here).")
+        lines.append("columns = [")
+        lines.extend(f"    {_toml_string(column)}," for column in profile.source_columns)
+        lines.append("]")
+    lines += ["", "[columns]", "# catmap field = \"source column\""]
+    for name in TARGET_FIELDS:
+        column = profile.columns.get(name)
+        suggestion = by_field.get(name)
+        note = ""
+        if suggestion is not None and suggestion.evidence:
+            prefix = f"{suggestion.confidence:.2f}: " if suggestion.column else ""
+            note = "  # " + _comment(prefix + suggestion.evidence)
+        required = " (required)" if name in REQUIRED_FIELDS else ""
+        if column:
+            lines.append(f"{name} = {_toml_string(column)}{note}")
+        else:
+            lines.append(f"# {name} = \"\"{required}{note}")
+    unused = [c for c in profile.source_columns if c not in set(profile.columns.values())]
+    if unused:
+        lines += ["", "# Columns not used (kept in each product's extra fields):"]
+        lines.extend(f"#   {_comment(column)}" for column in unused)
+    return "\n".join(lines) + "\n"
+
+
+def save_profile(profile: FeedProfile, path: str | Path) -> None:
+    """Write a profile as a commented TOML file (parent folders are created).
+
+    Args:
+        profile: the profile.
+        path: the file to write.
+    """
+    target = Path(path)
+    target.parent.mkdir(parents=True, exist_ok=True)
+    target.write_text(profile_text(profile), encoding="utf-8")
+
+
+def _line_of(text: str, table: str, key: str) -> int | None:
+    """1-based line of ``key = ...`` inside ``[table]`` (None if not found)."""
+    current = ""
+    pattern = re.compile(r"^\s*(?:\"([^\"]*)\"|'([^']*)'|([A-Za-z0-9_-]+))\s*=")
+    for number, line in enumerate(text.splitlines(), start=1):
+        stripped = line.strip()
+        if stripped.startswith("[") and not stripped.startswith("[["):
+            current = stripped.strip("[] ")
+            continue
+        match = pattern.match(line)
+        if match and current == table and key in match.groups():
+            return number
+    return None
+
+
+def load_profile(path: str | Path) -> FeedProfile:
+    """Read a profile written by :func:`save_profile` (possibly edited by hand).
+
+    Args:
+        path: the profile file.
+
+    Returns:
+        The profile (without suggestions).
+
+    Raises:
+        ProfileError: the file cannot be read, is not valid TOML, names an unknown field,
+            option or column, or gives a value of the wrong kind; with the line when known.
+    """
+    source = Path(path)
+    try:
+        text = source.read_text(encoding="utf-8")
+    except (OSError, UnicodeDecodeError) as error:
+        raise ProfileError(
+            f"cannot read the profile: {error}", path=source,
+            hint="delete it to let catmap suggest a new one",
+        ) from error  # fmt: skip
+    try:
+        data = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as error:
+        found = re.search(r"line (\d+)", str(error))
+        raise ProfileError(
+            f"not valid TOML: {error}", path=source,
+            line=int(found.group(1)) if found else None,
+            hint="fix the line or delete the file to let catmap suggest a new profile",
+        ) from error  # fmt: skip
+
+    def fail(message: str, table: str, key: str, hint: str) -> ProfileError:
+        return ProfileError(
+            message, path=source, line=_line_of(text, table, key), field=key, hint=hint
+        )
+
+    for table in data:
+        if table not in ("feed", "columns"):
+            raise fail(f"unknown section [{table}]", "", table, "use [feed] and [columns]")
+    feed = data.get("feed", {})
+    mapped = data.get("columns", {})
+    if not isinstance(feed, dict) or not isinstance(mapped, dict):
+        raise ProfileError("[feed] and [columns] must be tables", path=source)
+    for key, value in feed.items():
+        if key not in _FEED_KEYS:
+            raise fail(f"unknown option '{key}'", "feed", key,
+                       "options are " + ", ".join(_FEED_KEYS))  # fmt: skip
+        if key == "columns":
+            if not isinstance(value, list) or not all(isinstance(v, str) for v in value):
+                raise fail("'columns' must be a list of column names", "feed", key,
+                           'write columns = ["id", "title", ...]')  # fmt: skip
+        elif not isinstance(value, str) or not value:
+            raise fail(f"'{key}' must be a non-empty text in quotes", "feed", key,
+                       "comment the line out to let catmap detect it")  # fmt: skip
+    default_currency = feed.get("default_currency")
+    if default_currency is not None:
+        code = normalize_currency(default_currency)
+        if code is None:
+            raise fail(f"unknown currency '{default_currency}'", "feed", "default_currency",
+                       'use an ISO 4217 code such as "EUR"')  # fmt: skip
+        default_currency = code
+    source_columns = tuple(feed.get("columns", ()))
+    columns: dict[str, str] = {}
+    for name, column in mapped.items():
+        if name not in TARGET_FIELDS:
+            raise fail(f"unknown field '{name}'", "columns", name,
+                       "fields are " + ", ".join(TARGET_FIELDS))  # fmt: skip
+        if not isinstance(column, str) or not column:
+            raise fail(f"the column for '{name}' must be a non-empty text in quotes", "columns",
+                       name, "comment the line out to leave the field unmapped")  # fmt: skip
+        if source_columns and column not in source_columns:
+            raise fail(f"unknown column '{column}' for field '{name}'", "columns", name,
+                       "columns found: " + ", ".join(source_columns))  # fmt: skip
+        columns[name] = column
+    return FeedProfile(
+        columns=columns,
+        default_currency=default_currency,
+        encoding=feed.get("encoding"),
+        delimiter=feed.get("delimiter"),
+        record_path=feed.get("record_path"),
+        source_columns=source_columns,
+    )
