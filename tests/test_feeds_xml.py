@@ -216,3 +216,19 @@ def test_many_records_stream(tmp_path: Path) -> None:
     records = list(feed)
     assert len(records) == 5000
     assert records[-1].line == 5001
+
+
+def test_bad_byte_after_the_sample_stops_with_an_encoding_hint(tmp_path: Path) -> None:
+    path = tmp_path / "late.xml"
+    body = "".join(
+        f"<product><id>{i}</id><title>Item {i}</title></product>\n" for i in range(30000)
+    )
+    bad = b"<product><id>x</id><title>Caf\xe9</title></product>\n</catalog>\n"
+    path.write_bytes(b"<catalog>\n" + body.encode() + bad)
+    count = 0
+    with pytest.raises(FeedFormatError) as info:
+        for _record in open_feed(path):
+            count += 1
+    assert count == 30000
+    assert info.value.line == 30002
+    assert info.value.hint and "--encoding cp1252" in info.value.hint
