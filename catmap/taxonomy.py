@@ -529,7 +529,8 @@ class CategoryTree:
         keep = scores >= max(min_score, 0.05)
         if under is not None:
             inside = np.zeros(len(self._order), dtype=bool)
-            inside[[self._index[under], *(self._index[n.id] for n in self.descendants(under))]] = 1
+            below = self.descendants(under)  # raises UnknownNode for an unknown id
+            inside[[self._index[under], *(self._index[n.id] for n in below)]] = True
             keep &= inside[node_rank]
         candidates = np.flatnonzero(keep)
         # Best score first; ties (frequent: a term whose words all occur in the query scores 95)

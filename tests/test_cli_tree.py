@@ -183,6 +183,19 @@ def test_render_tree_with_counts() -> None:
     )
 
 
+def test_render_whole_tree_with_counts() -> None:
+    tree = load_tree(GOOD)
+    buffer = io.StringIO()
+    Console(file=buffer, width=80, color_system=None).print(
+        render_tree(tree, None, 1, counts={"1500": 12})
+    )
+    assert buffer.getvalue() == (
+        "Category tree v1\n"
+        "├── Apparel  [1000]  0  (+6 below)\n"
+        "└── Food and drink  [1500]  12  (+15 below)\n"
+    )
+
+
 # -- search -------------------------------------------------------------------------------
 
 

@@ -313,6 +313,8 @@ def test_search_limit_and_under(tree: CategoryTree) -> None:
     found = tree.search("drinks", limit=50, under="1000")
     assert all(node.id in under for node, _ in found)
     assert tree.search("", limit=5) == []
+    with pytest.raises(UnknownNode):
+        tree.search("drinks", under="4242")
     assert tree.search("tea", limit=0) == []
 
 

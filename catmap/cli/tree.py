@@ -148,10 +148,7 @@ def render_tree(
                 grow(twig, tree.children(child.id), level + 1)
 
     if root is None:
-        title = Text(f"Category tree v{tree.version}")
-        if counts is not None:
-            title.append(f"  {sum(counts.values())}", style="bold")
-        top = Tree(title)
+        top = Tree(Text(f"Category tree v{tree.version}"))
         if depth >= 1:
             grow(top, tree.departments(), 1)
         return top
