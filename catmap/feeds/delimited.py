@@ -4,6 +4,10 @@ Parsing is the standard library's C ``csv`` reader over the decoded text stream,
 per-row Python work is one dict build. Each record keeps only its non-empty cells (a missing
 value is an absent key, as :class:`~catmap.records.SourceRecord` says), which saves memory on
 wide, sparse feeds.
+
+Importing this module raises the process-wide ``csv.field_size_limit`` to 64 MiB (never lowers
+it): a 5 MB description must fit, while a stray quote that would swallow a huge file still
+stops with an error instead of filling memory.
 """
 
 from __future__ import annotations
