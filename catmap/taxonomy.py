@@ -20,12 +20,18 @@ from collections import Counter
 from collections.abc import Iterable, Iterator, Mapping
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Any
-
-import numpy as np
-from rapidfuzz import fuzz, process
+from typing import TYPE_CHECKING, Any
 
 from catmap.errors import TreeError, UnknownNode
+
+if TYPE_CHECKING:
+    import numpy as np
+
+    # The search index: folded terms; their (node id, term, language, is name); term lengths;
+    # the file-order rank of each term's node.
+    _SearchIndex = tuple[
+        list[str], list[tuple[str, str, str, bool]], np.ndarray[Any, Any], np.ndarray[Any, Any]
+    ]
 
 __all__ = [
     "AGE_VALUES",
@@ -177,13 +183,6 @@ def _parse_restriction(cell: str) -> str | None:
             f"bad restriction '{cell}' (use '-' or one of {', '.join(RESTRICTION_VALUES)})"
         )
     return cell
-
-
-# The search index: folded terms; their (node id, term, language, is name); term lengths; the
-# file-order rank of each term's node.
-_SearchIndex = tuple[
-    list[str], list[tuple[str, str, str, bool]], np.ndarray[Any, Any], np.ndarray[Any, Any]
-]
 
 
 class CategoryTree:
@@ -482,6 +481,10 @@ class CategoryTree:
         return terms
 
     def _build_search_index(self) -> _SearchIndex:
+        # numpy and rapidfuzz are imported on first search, so that commands that only look
+        # nodes up start faster.
+        import numpy as np
+
         if self._search_index is None:
             choices: list[str] = []
             owners: list[tuple[str, str, str, bool]] = []  # node id, term, language, is name
@@ -521,6 +524,8 @@ class CategoryTree:
             Matches, best first; on equal scores the term closest to the whole query first, then
             file order.
         """
+        import numpy as np
+
         query = fold_text(text)
         if not query or limit <= 0:
             return []
@@ -580,6 +585,9 @@ def _score_terms(query: str, choices: list[str], lengths: np.ndarray[Any, Any]) 
         Two arrays of 0..100: the score, and the plain whole-string similarity used to break
         ties.
     """
+    import numpy as np
+    from rapidfuzz import fuzz, process
+
     if not choices:
         return np.zeros(0), np.zeros(0)
     whole = process.cdist([query], choices, scorer=fuzz.ratio, dtype=np.float32)[0]
