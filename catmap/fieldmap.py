@@ -653,7 +653,15 @@ def load_profile(path: str | Path) -> FeedProfile:
 
     for table in data:
         if table not in ("feed", "columns"):
-            raise fail(f"unknown section [{table}]", "", table, "use [feed] and [columns]")
+            header = re.compile(r"^\s*\[+\s*" + re.escape(table) + r"\s*\]")
+            line = next(
+                (n for n, row in enumerate(text.splitlines(), start=1) if header.match(row)),
+                _line_of(text, "", table),
+            )
+            raise ProfileError(
+                f"unknown section [{table}]", path=source, line=line, field=table,
+                hint="use [feed] and [columns]",
+            )  # fmt: skip
     feed = data.get("feed", {})
     mapped = data.get("columns", {})
     if not isinstance(feed, dict) or not isinstance(mapped, dict):
