@@ -1,0 +1,98 @@
+"""Tests for `catmap inspect`: what the feed is, the suggested mapping, the saved profile."""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+import pytest
+from click.testing import CliRunner
+
+from catmap.cli import main
+
+FEED = (
+    "id;title;price;brand;material\n"
+    "A-1;Corvane trail boot;89,90;Corvane;leather\n"
+    "A-2;Quillo mug;12,50;Quillo;stoneware\n"
+    "A-3;Ledger refill;3,20;Tamsel;paper\n"
+)
+
+
+@pytest.fixture()
+def feed(tmp_path: Path) -> Path:
+    path = tmp_path / "shop-b.csv"
+    path.write_text(FEED, encoding="utf-8")
+    return path
+
+
+def _run(*args: str) -> object:
+    return CliRunner().invoke(main, list(args), catch_exceptions=False)
+
+
+def test_inspect_shows_feed_and_saves_profile(feed: Path, tmp_path: Path) -> None:
+    project = tmp_path / "project"
+    result = _run("inspect", str(feed), "--project", str(project))
+    assert result.exit_code == 0, result.output  # type: ignore[attr-defined]
+    text = result.stdout  # type: ignore[attr-defined]
+    assert "delimited" in text
+    assert "utf-8" in text
+    assert "';'" in text
+    assert "Profile saved to" in text
+    assert "material" in text  # an extra column
+    saved = project / "profiles" / "shop-b.toml"
+    assert saved.exists()
+
+    again = _run("inspect", str(feed), "--project", str(project))
+    assert again.exit_code == 0  # type: ignore[attr-defined]
+    assert "Using the saved profile" in again.stdout  # type: ignore[attr-defined]
+
+
+def test_inspect_json(feed: Path, tmp_path: Path) -> None:
+    result = _run("inspect", str(feed), "--project", str(tmp_path), "--json")
+    assert result.exit_code == 0  # type: ignore[attr-defined]
+    facts = json.loads(result.stdout)  # type: ignore[attr-defined]
+    assert facts["format"] == "delimited"
+    assert facts["delimiter"] == ";"
+    assert facts["columns"] == ["id", "title", "price", "brand", "material"]
+    mapping = {row["field"]: row["column"] for row in facts["mapping"]}
+    assert mapping["product_id"] == "id"
+    assert mapping["title"] == "title"
+    assert facts["missing_required"] == []
+    assert "material" in facts["extras"]
+    assert facts["profile_status"] == "saved"
+    assert Path(facts["profile"]).exists()
+
+    second = json.loads(_run("inspect", str(feed), "--project", str(tmp_path), "--json").stdout)  # type: ignore[attr-defined]
+    assert second["profile_status"] == "existing"
+    fresh = json.loads(
+        _run("inspect", str(feed), "--project", str(tmp_path), "--json", "--fresh").stdout  # type: ignore[attr-defined]
+    )
+    assert fresh["profile_status"] == "saved"
+
+
+def test_inspect_project_from_environment(
+    feed: Path, tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    monkeypatch.setenv("CATMAP_PROJECT", str(tmp_path / "env-project"))
+    result = _run("inspect", str(feed), "--json")
+    assert result.exit_code == 0  # type: ignore[attr-defined]
+    assert (tmp_path / "env-project" / "profiles" / "shop-b.toml").exists()
+
+
+def test_inspect_missing_file_is_a_usage_error(tmp_path: Path) -> None:
+    result = _run("inspect", str(tmp_path / "nope.csv"))
+    assert result.exit_code == 2  # type: ignore[attr-defined]
+
+
+def test_inspect_unreadable_feed_exits_3(tmp_path: Path) -> None:
+    binary = tmp_path / "blob.csv"
+    binary.write_bytes(bytes(range(256)) * 8)
+    result = _run("inspect", str(binary), "--project", str(tmp_path))
+    assert result.exit_code == 3  # type: ignore[attr-defined]
+    assert result.stderr.startswith("catmap: error:")  # type: ignore[attr-defined]
+
+
+def test_help_text() -> None:
+    result = _run("inspect", "--help")
+    assert result.exit_code == 0  # type: ignore[attr-defined]
+    assert "profile" in result.stdout  # type: ignore[attr-defined]

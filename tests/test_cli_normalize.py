@@ -1,0 +1,152 @@
+"""Tests for `catmap normalize`: outputs, summary, --json, profile errors, fatal feed errors."""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+import pandas as pd
+import pytest
+from click.testing import CliRunner
+
+from catmap.cli import main
+from catmap.fieldmap import FeedProfile, save_profile
+
+FEED = (
+    "id,title,price,brand,material\n"
+    'A-1,Corvane trail boot,"89,90 €",Corvane,leather\n'
+    "A-2,Quillo mug,12.50,Quillo,stoneware\n"
+    "A-1,Corvane trail boot again,89.90,Corvane,leather\n"
+    "A-3,,5.00,Quillo,paper\n"
+    "A-4,Ledger refill,3.20,Tamsel,paper\n"
+)
+
+
+@pytest.fixture()
+def feed(tmp_path: Path) -> Path:
+    path = tmp_path / "shop-a.csv"
+    path.write_text(FEED, encoding="utf-8")
+    return path
+
+
+def _run(*args: str) -> object:
+    return CliRunner().invoke(main, list(args), catch_exceptions=False)
+
+
+def test_normalize_writes_products_rejects_and_accounting(feed: Path, tmp_path: Path) -> None:
+    out = tmp_path / "out"
+    result = _run("normalize", str(feed), "--out", str(out), "--project", str(tmp_path / "p"))
+    assert result.exit_code == 0, result.output  # type: ignore[attr-defined]
+    text = result.stdout  # type: ignore[attr-defined]
+    assert "read 5 = kept 3 + rejected 2" in text
+    assert "duplicate_id" in text and "missing_title" in text
+    assert "A-1 (line 4)" in text
+    assert str(out / "products.jsonl") in text.replace("\n", "")
+    products = [
+        json.loads(line) for line in (out / "products.jsonl").read_text("utf-8").splitlines()
+    ]
+    assert [p["product_id"] for p in products] == ["A-1", "A-2", "A-4"]
+    assert products[0]["price"] == "89.90"
+    rejects = [json.loads(line) for line in (out / "rejects.jsonl").read_text("utf-8").splitlines()]
+    assert sorted(r["reason"] for r in rejects) == ["duplicate_id", "missing_title"]
+    facts = json.loads((out / "accounting.json").read_text("utf-8"))
+    assert (facts["read"], facts["kept"], facts["rejected"]) == (5, 3, 2)
+    # The suggested profile was saved for the next run.
+    assert (tmp_path / "p" / "profiles" / "shop-a.toml").exists()
+
+
+def test_normalize_json(feed: Path, tmp_path: Path) -> None:
+    result = _run(
+        "normalize",
+        str(feed),
+        "--out",
+        str(tmp_path / "o"),
+        "--project",
+        str(tmp_path / "p"),
+        "--json",
+    )
+    assert result.exit_code == 0  # type: ignore[attr-defined]
+    facts = json.loads(result.stdout)  # type: ignore[attr-defined]
+    assert (facts["read"], facts["kept"], facts["rejected"]) == (5, 3, 2)
+    assert facts["by_reason"] == {"duplicate_id": 1, "missing_title": 1}
+    assert facts["duplicate_ids"] == {"A-1": [4]}
+    assert facts["stopped_early"] is None
+    assert facts["outputs"]["products"].endswith("products.jsonl")
+
+
+@pytest.mark.parametrize(
+    ("fmt", "products", "rejects"),
+    [("csv", "products.csv", "rejects.csv"), ("parquet", "products.parquet", "rejects.jsonl")],
+)
+def test_normalize_formats(
+    feed: Path, tmp_path: Path, fmt: str, products: str, rejects: str
+) -> None:
+    out = tmp_path / "o"
+    result = _run(
+        "normalize", str(feed), "--out", str(out), "--format", fmt, "--project", str(tmp_path)
+    )
+    assert result.exit_code == 0  # type: ignore[attr-defined]
+    frame = (
+        pd.read_csv(out / products, dtype=str) if fmt == "csv" else pd.read_parquet(out / products)
+    )
+    assert frame["product_id"].tolist() == ["A-1", "A-2", "A-4"]
+    assert (out / rejects).exists()
+
+
+def test_profile_without_title_is_a_clear_error(feed: Path, tmp_path: Path) -> None:
+    profile_file = tmp_path / "broken.toml"
+    save_profile(FeedProfile(columns={"product_id": "id"}), profile_file)
+    result = _run(
+        "normalize", str(feed), "--out", str(tmp_path / "o"), "--profile", str(profile_file)
+    )
+    assert result.exit_code == 3  # type: ignore[attr-defined]
+    error = result.stderr  # type: ignore[attr-defined]
+    assert error.startswith("catmap: error:")
+    assert "'title'" in error
+    assert "id, title, price, brand, material" in error
+    assert str(profile_file) in error
+
+
+def test_unknown_currency_is_a_usage_error(feed: Path, tmp_path: Path) -> None:
+    result = _run("normalize", str(feed), "--out", str(tmp_path / "o"), "--currency", "zorkmid")
+    assert result.exit_code == 2  # type: ignore[attr-defined]
+    assert "--currency" in result.stderr  # type: ignore[attr-defined]
+
+
+def test_fatal_feed_error_keeps_good_records_and_exits_3(tmp_path: Path) -> None:
+    good = "".join(
+        f"<product><id>P{n}</id><title>Item {n}</title></product>\n" for n in range(1, 1001)
+    )
+    feed = tmp_path / "broken.xml"
+    feed.write_text(
+        f'<?xml version="1.0" encoding="utf-8"?>\n<catalog>\n{good}'
+        "<product><id>P1001</id><title>Item</wrong></product>\n</catalog>\n",
+        encoding="utf-8",
+    )
+    out = tmp_path / "o"
+    result = _run("normalize", str(feed), "--out", str(out), "--project", str(tmp_path), "--json")
+    assert result.exit_code == 3  # type: ignore[attr-defined]
+    assert result.stderr.startswith("catmap: error:")  # type: ignore[attr-defined]
+    facts = json.loads(result.stdout)  # type: ignore[attr-defined]
+    assert facts["kept"] >= 1000
+    assert facts["read"] == facts["kept"] + facts["rejected"]
+    assert facts["stopped_early"]
+    written = (out / "products.jsonl").read_text("utf-8").splitlines()
+    assert len(written) == facts["kept"]
+    saved = json.loads((out / "accounting.json").read_text("utf-8"))
+    assert saved["stopped_early"] == facts["stopped_early"]
+
+
+def test_unreadable_feed_exits_3(tmp_path: Path) -> None:
+    empty = tmp_path / "empty.csv"
+    empty.write_text("", encoding="utf-8")
+    result = _run("normalize", str(empty), "--out", str(tmp_path / "o"), "--project", str(tmp_path))
+    assert result.exit_code == 3  # type: ignore[attr-defined]
+    assert result.stderr.startswith("catmap: error:")  # type: ignore[attr-defined]
+    assert len(result.stderr.strip().splitlines()) == 1  # type: ignore[attr-defined]
+
+
+def test_help_text() -> None:
+    result = _run("normalize", "--help")
+    assert result.exit_code == 0  # type: ignore[attr-defined]
+    assert "read = kept + rejected" in " ".join(result.stdout.split())  # type: ignore[attr-defined]
