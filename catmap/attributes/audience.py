@@ -1,0 +1,448 @@
+"""Who and age: whom a product is for, from the feed's gender column, the text and the node.
+
+catmap's values are ``who`` ∈ female, male, unisex, not_applicable and ``age`` ∈ adult, kids,
+baby, not_applicable (:data:`catmap.records.WHO_VALUES` / :data:`~catmap.records.AGE_VALUES`).
+
+The node decides where gender and age apply at all (``tree.who`` / ``tree.ages``; empty means
+not applicable) and which values are possible. Within that, the feed's gender column wins; the
+title and the retailer's category path are read next (the description only when they say
+nothing). A column that disagrees with the text, or a text that disagrees with a node allowing a
+single value, sets the conflict flag and the evidence names both: nothing is silently resolved.
+
+Traps handled before looking for words: brand names holding a gender word (the brand span is
+removed first), "boyfriend" fits (a women's style), "baby pink" / "baby blue" (colours),
+"girls' night" (an occasion), "for her" gifts (a weak cue that counts only where the node lets
+gender apply), and kids' sizes ("8 ans", "age 4-5", "116 cm", "6-12 mois").
+"""
+
+from __future__ import annotations
+
+import re
+from collections.abc import Iterable
+from dataclasses import dataclass
+
+from catmap.attributes._text import PhraseIndex, fold
+
+FEMALE, MALE, UNISEX, NA = "female", "male", "unisex", "not_applicable"
+ADULT, KIDS, BABY = "adult", "kids", "baby"
+ALL_WHO = frozenset({FEMALE, MALE, UNISEX})
+ALL_AGES = frozenset({ADULT, KIDS, BABY})
+
+STRONG, WEAK, TRAP = "strong", "weak", "trap"
+
+# (who, age, strength) per phrase, four languages. Matching is on folded text (no case, no
+# accents, no apostrophes), so "Men's", "mens" and "MENS" are one entry.
+_CUES: dict[tuple[str | None, str | None, str], tuple[str, ...]] = {
+    (FEMALE, ADULT, STRONG): (
+        "women", "womens", "woman", "ladies", "lady", "wmns", "womenswear", "female",
+        "femme", "femmes", "pour femme", "dame", "dames",
+        "damen", "fur damen", "frauen", "frau",
+        "mujer", "mujeres", "de mujer", "para mujer", "senora", "senoras", "dama",
+    ),
+    (MALE, ADULT, STRONG): (
+        "men", "mens", "man", "gents", "menswear", "male", "gentlemen", "gentleman",
+        "homme", "hommes", "pour homme",
+        "herren", "fur herren", "manner",
+        "hombre", "hombres", "de hombre", "para hombre", "caballero", "caballeros",
+    ),
+    (UNISEX, None, STRONG): ("unisex", "unisexe", "mixte", "unisex adult", "unisex adulto"),
+    (FEMALE, KIDS, STRONG): (
+        "girls", "girl", "girlswear", "fille", "filles", "pour fille", "fillette",
+        "madchen", "nina", "ninas", "de nina", "para nina",
+    ),
+    (MALE, KIDS, STRONG): (
+        "boys", "boy", "boyswear", "garcon", "garcons", "pour garcon",
+        "jungen", "junge", "knaben", "nino", "de nino", "para nino",
+    ),
+    (None, KIDS, STRONG): (
+        "kids", "kid", "kidswear", "children", "childrens", "child", "junior", "juniors",
+        "toddler", "toddlers", "youth",
+        "enfant", "enfants", "pour enfant", "junior",
+        "kinder", "fur kinder", "kleinkind",
+        "ninos", "infantil", "para ninos", "juvenil",
+    ),
+    (None, BABY, STRONG): (
+        "baby", "babies", "babys", "infant", "infants", "newborn", "new born",
+        "bebe", "bebes", "naissance", "nourrisson",
+        "saugling", "neugeborene", "erstlings",
+        "recien nacido", "bebes",
+    ),
+    # Weak cues: a style or a gift, not a statement of whom the item fits.
+    (FEMALE, None, WEAK): (
+        "boyfriend", "for her", "pour elle", "fur sie", "para ella", "gift for her",
+        "cadeau pour elle", "geschenk fur sie", "regalo para ella",
+    ),
+    (MALE, None, WEAK): (
+        "for him", "pour lui", "fur ihn", "gift for him", "cadeau pour lui",
+        "geschenk fur ihn", "regalo para el",
+    ),
+    # Traps: phrases holding an audience word that says nothing about the audience.
+    (None, None, TRAP): (
+        "baby pink", "baby blue", "baby rose", "bleu bebe", "rose bebe", "babyblau",
+        "babyrosa", "azul bebe", "rosa bebe", "baby doll", "babydoll",
+        "girls night", "girls night out", "girls weekend", "girls trip", "soiree entre filles",
+        "madelsabend", "noche de chicas", "boys night", "man made", "man made fibre",
+        "bebe fille", "bebe garcon",  # handled by the two cues below
+        "baby girl", "baby boy", "baby girls", "baby boys", "nina bebe", "nino bebe",
+    ),
+}
+# Phrases that map to both a who and the baby age (override the trap list above).
+_BABY_PAIRS: dict[str, str] = {
+    "bebe fille": FEMALE, "baby girl": FEMALE, "baby girls": FEMALE, "nina bebe": FEMALE,
+    "bebe garcon": MALE, "baby boy": MALE, "baby boys": MALE, "nino bebe": MALE,
+}
+
+# German compounds: "Damenjacke", "Herrenschuhe", "Kinderhose", "Mädchenkleid", "Babybody".
+_COMPOUND = re.compile(r"\b(damen|herren|kinder|madchen|jungen|baby)([a-z]{3,})\b")
+_COMPOUND_CUES = {
+    "damen": (FEMALE, ADULT), "herren": (MALE, ADULT), "kinder": (None, KIDS),
+    "madchen": (FEMALE, KIDS), "jungen": (MALE, KIDS), "baby": (None, BABY),
+}
+_COMPOUND_EXCEPTIONS = frozenset({"babyblau", "babyrosa", "babydoll", "kindergarten"})
+
+# Single letters and codes only a gender column uses.
+_COLUMN_CODES = {
+    "w": (FEMALE, None), "f": (FEMALE, None), "d": (FEMALE, None), "m": (MALE, None),
+    "h": (MALE, None), "u": (UNISEX, None), "k": (None, KIDS), "b": (None, BABY),
+}
+
+# Kids' sizes. EU children's sizes are body heights in cm: 50-86 baby, 92-176 kids
+# (common practice, no source). Bare numbers 50 and 56 are left out: also men's suit sizes.
+_BABY_HEIGHTS = frozenset({62, 68, 74, 80, 86})
+_KIDS_HEIGHTS = frozenset(range(92, 177, 6))
+_MONTHS = r"(?:months?|mths?|mois|monate?n?|meses|mes|m)"
+_YEARS = r"(?:ans?|jahren?|anos?|years?\s+old|yrs?|y|j)"
+_SIZE_PATTERNS: tuple[tuple[re.Pattern[str], str], ...] = (
+    (re.compile(rf"\b(\d{{1,2}})\s(?:to\s|a\s|bis\s)?(\d{{1,2}})\s{_MONTHS}\b"), BABY),
+    (re.compile(rf"\b(\d{{1,2}})\s{_MONTHS}\b"), BABY),
+    (re.compile(r"\b(?:age|ages|alter|edad|taille)\s(\d{1,2})(?:\s(?:to\s|a\s)?(\d{1,2}))?\b"), KIDS),
+    (re.compile(rf"\b(\d{{1,2}})(?:\s(?:to\s|a\s|bis\s)?(\d{{1,2}}))?\s{_YEARS}\b"), KIDS),
+    (re.compile(r"\b(\d{2,3})\scm\b"), "height"),
+)
+
+
+@dataclass(frozen=True, slots=True)
+class Audience:
+    """Who and age of a product, with the evidence and whether sources disagreed."""
+
+    who: str = NA
+    age: str = NA
+    evidence: str = ""
+    conflict: bool = False
+    who_confidence: float = 0.0
+    age_confidence: float = 0.0
+
+
+def _build_index() -> PhraseIndex:
+    phrases: list[tuple[str, object]] = []
+    for (who, age, strength), words in _CUES.items():
+        for word in words:
+            if word in _BABY_PAIRS:
+                phrases.append((word, (_BABY_PAIRS[word], BABY, STRONG)))
+            else:
+                phrases.append((word, (who, age, strength)))
+    return PhraseIndex(phrases)
+
+
+_INDEX = _build_index()
+
+
+@dataclass(frozen=True, slots=True)
+class Cues:
+    """What one text (or the gender column) says: who and age values, each with a word."""
+
+    who: tuple[tuple[str, str], ...] = ()  # (value, word)
+    age: tuple[tuple[str, str], ...] = ()
+    weak_who: tuple[tuple[str, str], ...] = ()
+
+    def who_value(self) -> str | None:
+        """Return the one who value the strong cues give (female + male → unisex)."""
+        return _combine_who({v for v, _w in self.who})
+
+    def age_value(self) -> str | None:
+        """Return the age the cues give (baby over kids over adult: the most specific)."""
+        values = {v for v, _w in self.age}
+        for value in (BABY, KIDS, ADULT):
+            if value in values:
+                return value
+        return None
+
+    def word_for(self, kind: str, value: str) -> str:
+        """Return the word that gave a value (for the evidence)."""
+        pool = self.who + self.weak_who if kind == "who" else self.age
+        return next((w for v, w in pool if v == value), "")
+
+
+def _combine_who(values: set[str]) -> str | None:
+    if not values:
+        return None
+    if FEMALE in values and MALE in values:
+        return UNISEX
+    if len(values) == 1:
+        return next(iter(values))
+    return next(v for v in (FEMALE, MALE) if v in values)  # X + unisex: the specific one
+
+
+def _select(matches: list[tuple[int, int, str, object]]) -> list[tuple[int, int, str, object]]:
+    """Keep non-overlapping matches, the longest at each position, earliest first."""
+    chosen: list[tuple[int, int, str, object]] = []
+    last_end = -1
+    for match in sorted(matches, key=lambda m: (m[0], m[0] - m[1])):
+        if match[0] >= last_end:
+            chosen.append(match)
+            last_end = match[1]
+    return chosen
+
+
+def blank_spans(folded: str, spans: Iterable[tuple[int, int]]) -> str:
+    """Replace spans of a folded text by spaces (e.g. the brand, before looking for gender)."""
+    chars = list(folded)
+    touched = False
+    for start, end in spans:
+        for i in range(max(0, start), min(len(chars), end)):
+            chars[i] = " "
+            touched = True
+    return "".join(chars) if touched else folded
+
+
+def read_cues(folded: str, *, column: bool = False) -> Cues:
+    """Return the audience cues of a folded text (or of a gender column value).
+
+    Args:
+        folded: text folded by :func:`catmap.attributes._text.fold`.
+        column: read it as a gender column (single-letter codes allowed).
+    """
+    who: list[tuple[str, str]] = []
+    age: list[tuple[str, str]] = []
+    weak: list[tuple[str, str]] = []
+    for _start, _end, key, payload in _select(_INDEX.find(folded)):
+        w, a, strength = payload  # type: ignore[misc]
+        if strength == TRAP:
+            continue
+        if strength == WEAK:
+            if w:
+                weak.append((w, key))
+            continue
+        if w:
+            who.append((w, key))
+        if a:
+            age.append((a, key))
+    if "damen" in folded or "herren" in folded or "kinder" in folded or "jungen" in folded or (
+        "madchen" in folded or "baby" in folded
+    ):
+        for found in _COMPOUND.finditer(folded):
+            if found.group(0) in _COMPOUND_EXCEPTIONS:
+                continue
+            w, a = _COMPOUND_CUES[found.group(1)]
+            if w:
+                who.append((w, found.group(0)))
+            if a:
+                age.append((a, found.group(0)))
+    if column:
+        for token in folded.split():
+            code = _COLUMN_CODES.get(token)
+            if code:
+                if code[0]:
+                    who.append((code[0], token))
+                if code[1]:
+                    age.append((code[1], token))
+    return Cues(tuple(who), tuple(age), tuple(weak))
+
+
+def age_from_size(folded: str, *, bare_numbers: bool = False) -> tuple[str, str] | None:
+    """Return (age, the text that says it) when a size implies kids or baby.
+
+    Args:
+        folded: a folded size field or title.
+        bare_numbers: read a lone number as an EU children's height ("128"): size fields only.
+    """
+    if not folded or not any(c.isdigit() for c in folded):
+        return None
+    for pattern, value in _SIZE_PATTERNS:
+        for found in pattern.finditer(folded):
+            numbers = [int(g) for g in found.groups() if g]
+            if value == "height":
+                height = numbers[0]
+                if 50 <= height <= 86:
+                    return BABY, found.group(0)
+                if height in _KIDS_HEIGHTS or 92 <= height <= 176 and bare_numbers:
+                    return KIDS, found.group(0)
+                continue
+            top = max(numbers)
+            if value == BABY and top <= 36:
+                return (BABY if top <= 24 else KIDS), found.group(0)
+            if value == KIDS and 1 <= top <= 16:
+                return (BABY if top <= 1 else KIDS), found.group(0)
+    if bare_numbers:
+        stripped = folded.strip()
+        if stripped.isdigit():
+            number = int(stripped)
+            if number in _BABY_HEIGHTS:
+                return BABY, stripped
+            if number in _KIDS_HEIGHTS:
+                return KIDS, stripped
+    return None
+
+
+def decide_audience(
+    *,
+    allowed_who: frozenset[str] | None,
+    allowed_ages: frozenset[str] | None,
+    column: Cues,
+    text: Cues,
+    size_age: tuple[str, str] | None,
+    column_text: str = "",
+) -> Audience:
+    """Combine the column, the text, the size and the node into who and age.
+
+    Args:
+        allowed_who: ``tree.who(node)``; empty = gender does not apply; None = no node known.
+        allowed_ages: ``tree.ages(node)``; likewise.
+        column: cues of the gender column.
+        text: cues of the title / category path (or description).
+        size_age: what the size says, if anything.
+        column_text: the raw column value, for the evidence.
+
+    Returns:
+        The audience, with evidence and the conflict flag.
+    """
+    notes: list[str] = []
+    conflict = False
+
+    # -- who
+    who, who_conf = NA, 0.0
+    col_who = column.who_value()
+    text_who = text.who_value()
+    weak_who = _combine_who({v for v, _w in text.weak_who})
+    if allowed_who is not None and not allowed_who:
+        notes.append("node: gender does not apply")
+    else:
+        allowed = allowed_who if allowed_who is not None else ALL_WHO
+        if col_who:
+            who, who_conf = col_who, 0.95
+            notes.append(f"column '{column_text}' → {col_who}")
+            if text_who and text_who != col_who:
+                conflict = True
+                word = text.word_for("who", text_who)
+                notes.append(f"conflict: text '{word}' says {text_who}")
+            if col_who not in allowed:
+                conflict = True
+                notes.append(f"conflict: node allows {_listed(allowed)}")
+        elif text_who:
+            who, who_conf = text_who, 0.85
+            notes.append(f"text '{text.word_for('who', text_who)}' → {text_who}")
+            if text_who not in allowed:
+                conflict = True
+                notes.append(f"conflict: node allows {_listed(allowed)}")
+        elif len(allowed) == 1:
+            who, who_conf = next(iter(allowed)), 0.9
+            notes.append(f"node allows only {who}")
+        elif weak_who and weak_who in allowed:
+            who, who_conf = weak_who, 0.6
+            notes.append(f"text '{text.word_for('who', weak_who)}' → {weak_who} (weak)")
+        elif UNISEX in allowed and allowed_who is not None:
+            who, who_conf = UNISEX, 0.3
+            notes.append("nothing said: unisex by default")
+
+    # -- age
+    age, age_conf = NA, 0.0
+    col_age = column.age_value()
+    text_age = text.age_value()
+    if size_age and (text_age is None or text_age == ADULT):
+        text_age, text_age_word = size_age
+    else:
+        text_age_word = text.word_for("age", text_age) if text_age else ""
+    if allowed_ages is not None and not allowed_ages:
+        notes.append("node: age does not apply")
+    else:
+        allowed_a = allowed_ages if allowed_ages is not None else ALL_AGES
+        if col_age:
+            age, age_conf = col_age, 0.95
+            notes.append(f"column '{column_text}' → {col_age}")
+            if text_age and text_age != col_age:
+                conflict = True
+                notes.append(f"conflict: text '{text_age_word}' says {text_age}")
+        elif text_age:
+            age, age_conf = text_age, 0.85
+            notes.append(f"text '{text_age_word}' → {text_age}")
+        elif len(allowed_a) == 1:
+            age, age_conf = next(iter(allowed_a)), 0.9
+            notes.append(f"node allows only {age}")
+        elif ADULT in allowed_a and allowed_ages is not None:
+            age, age_conf = ADULT, 0.4
+            notes.append("nothing said: adult by default")
+        if age != NA and age not in allowed_a:
+            if age == BABY and KIDS in allowed_a and not col_age:
+                age = KIDS
+            else:
+                conflict = True
+                notes.append(f"conflict: node allows ages {_listed(allowed_a)}")
+    return Audience(who, age, "; ".join(notes), conflict, who_conf, age_conf)
+
+
+def _listed(values: Iterable[str]) -> str:
+    return ",".join(sorted(values))
+
+
+def extract_audience(
+    *,
+    gender_text: str = "",
+    title: str = "",
+    category_path: Iterable[str] = (),
+    description: str = "",
+    size: str = "",
+    allowed_who: frozenset[str] | None = None,
+    allowed_ages: frozenset[str] | None = None,
+    brand_spans: Iterable[tuple[int, int]] = (),
+) -> Audience:
+    """Return who and age of one product (pure; never raises on any strings).
+
+    Args:
+        gender_text: the feed's gender column.
+        title: the title (raw; folded here).
+        category_path: the retailer's own category path.
+        description: the description, read only when title and path say nothing.
+        size: the size field.
+        allowed_who: ``tree.who(node)`` or None when no node is known.
+        allowed_ages: ``tree.ages(node)`` or None.
+        brand_spans: spans of the brand in the folded title, removed before reading it.
+    """
+    folded_title = blank_spans(fold(title), brand_spans)
+    return extract_audience_folded(
+        gender_text=gender_text,
+        folded_title=folded_title,
+        folded_path=fold(" / ".join(category_path)),
+        folded_description=fold(description),
+        size=size,
+        allowed_who=allowed_who,
+        allowed_ages=allowed_ages,
+    )
+
+
+def extract_audience_folded(
+    *,
+    gender_text: str,
+    folded_title: str,
+    folded_path: str,
+    folded_description: str,
+    size: str,
+    allowed_who: frozenset[str] | None,
+    allowed_ages: frozenset[str] | None,
+) -> Audience:
+    """As :func:`extract_audience`, with title, path and description already folded."""
+    column = read_cues(fold(gender_text), column=True) if gender_text else Cues()
+    text = read_cues(f"{folded_title} {folded_path}".strip())
+    if not text.who and not text.age and folded_description:
+        described = read_cues(folded_description)
+        text = Cues(described.who, described.age, text.weak_who + described.weak_who)
+    size_age = age_from_size(fold(size), bare_numbers=True) if size else None
+    if size_age is None:
+        size_age = age_from_size(folded_title)
+    return decide_audience(
+        allowed_who=allowed_who,
+        allowed_ages=allowed_ages,
+        column=column,
+        text=text,
+        size_age=size_age,
+        column_text=" ".join(gender_text.split()),
+    )
