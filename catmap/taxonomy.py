@@ -662,7 +662,7 @@ def _parse_node(cells: list[str], line: int, path: str) -> Node:
                     f"(language cells go {', '.join(LANGUAGES)})"
                 )
             raise fail(f"missing language cell '{lang}:' (cell {position} is '{cell[:30]}')")
-        terms[lang] = tuple(w.strip() for w in words.split(";") if w.strip())
+        terms[lang] = tuple(filter(None, map(str.strip, words.split(";"))))
     return Node(
         id=node_id,
         parent=None if parent == "-" else parent,
