@@ -20,6 +20,7 @@ from __future__ import annotations
 import re
 from collections.abc import Iterable
 from dataclasses import dataclass
+from typing import cast
 
 from catmap.attributes._text import PhraseIndex, fold
 
@@ -115,7 +116,10 @@ _YEARS = r"(?:ans?|jahren?|anos?|years?\s+old|yrs?|y|j)"
 _SIZE_PATTERNS: tuple[tuple[re.Pattern[str], str], ...] = (
     (re.compile(rf"\b(\d{{1,2}})\s(?:to\s|a\s|bis\s)?(\d{{1,2}})\s{_MONTHS}\b"), BABY),
     (re.compile(rf"\b(\d{{1,2}})\s{_MONTHS}\b"), BABY),
-    (re.compile(r"\b(?:age|ages|alter|edad|taille)\s(\d{1,2})(?:\s(?:to\s|a\s)?(\d{1,2}))?\b"), KIDS),
+    (
+        re.compile(r"\b(?:age|ages|alter|edad|taille)\s(\d{1,2})(?:\s(?:to\s|a\s)?(\d{1,2}))?\b"),
+        KIDS,
+    ),
     (re.compile(rf"\b(\d{{1,2}})(?:\s(?:to\s|a\s|bis\s)?(\d{{1,2}}))?\s{_YEARS}\b"), KIDS),
     (re.compile(r"\b(\d{2,3})\scm\b"), "height"),
 )
@@ -216,7 +220,7 @@ def read_cues(folded: str, *, column: bool = False) -> Cues:
     age: list[tuple[str, str]] = []
     weak: list[tuple[str, str]] = []
     for _start, _end, key, payload in _select(_INDEX.find(folded)):
-        w, a, strength = payload  # type: ignore[misc]
+        w, a, strength = cast("tuple[str | None, str | None, str]", payload)
         if strength == TRAP:
             continue
         if strength == WEAK:

@@ -14,7 +14,6 @@ from __future__ import annotations
 
 import csv
 import re
-from collections import Counter
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path

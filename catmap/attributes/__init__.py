@@ -1,0 +1,210 @@
+"""Product attributes: brand, who / age, colour family and restriction flag.
+
+:class:`AttributeExtractor` fills a :class:`catmap.records.Attributes` for a product and the node
+it was mapped to. The pure functions behind it are exported too, for tests and other stages.
+
+Speed: text is folded once per product and shared by every extractor; brand look-ups are cached
+per distinct brand field and per distinct leading title words, colour per distinct colour field,
+and everything the node says per node.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterable
+from dataclasses import dataclass
+from typing import TYPE_CHECKING
+
+from catmap.attributes._text import fold
+from catmap.attributes.audience import (
+    Audience,
+    age_from_size,
+    blank_spans,
+    decide_audience,
+    extract_audience,
+    extract_audience_folded,
+    read_cues,
+)
+from catmap.attributes.brand import (
+    FUZZY_THRESHOLD,
+    LEGAL_SUFFIXES,
+    SHORT_NAME_LENGTH,
+    BrandCandidate,
+    BrandCandidates,
+    BrandDictionary,
+    BrandEntry,
+    BrandFinder,
+    BrandMatch,
+    brand_variants,
+    compact_key,
+    normalize_brand,
+)
+from catmap.attributes.colour import FAMILIES, colour_family, colour_family_folded
+from catmap.attributes.restriction import (
+    RESTRICTION_CAUTION,
+    RESTRICTIONS,
+    is_generic_node,
+    restriction_from_text,
+    restriction_from_text_folded,
+)
+from catmap.records import Attributes, Product
+
+if TYPE_CHECKING:
+    from catmap.taxonomy import CategoryTree
+
+__all__ = [
+    "FAMILIES",
+    "FUZZY_THRESHOLD",
+    "LEGAL_SUFFIXES",
+    "RESTRICTIONS",
+    "RESTRICTION_CAUTION",
+    "SHORT_NAME_LENGTH",
+    "AttributeExtractor",
+    "Audience",
+    "BrandCandidate",
+    "BrandCandidates",
+    "BrandDictionary",
+    "BrandEntry",
+    "BrandFinder",
+    "BrandMatch",
+    "age_from_size",
+    "blank_spans",
+    "brand_variants",
+    "colour_family",
+    "compact_key",
+    "decide_audience",
+    "extract_audience",
+    "fold",
+    "normalize_brand",
+    "colour_family_folded",
+    "extract_audience_folded",
+    "read_cues",
+    "restriction_from_text",
+    "restriction_from_text_folded",
+]
+
+
+@dataclass(frozen=True, slots=True)
+class _NodeFacts:
+    who: frozenset[str] | None
+    ages: frozenset[str] | None
+    restriction: str | None
+    read_keywords: bool  # the node cannot say: read restriction keywords
+
+
+class AttributeExtractor:
+    """Extract brand, who, age, colour family and restriction for products.
+
+    Args:
+        brands: the brand dictionary.
+        tree: the category tree the node ids belong to (None: decide from the text only).
+        retailer_names: the retailer's own names; a brand field holding one counts as empty.
+
+    Example:
+        >>> extractor = AttributeExtractor(brands=BrandDictionary([]), tree=None)
+        >>> extractor.extract(Product("1", "Ladies navy wool coat"), None).colour_family
+        'blue'
+    """
+
+    def __init__(
+        self,
+        *,
+        brands: BrandDictionary,
+        tree: CategoryTree | None,
+        retailer_names: Iterable[str] = (),
+    ) -> None:
+        self.brands = brands
+        self.tree = tree
+        self.retailer_names = tuple(retailer_names)
+        self._finder = BrandFinder(brands, retailer_names=self.retailer_names)
+        self._nodes: dict[str | None, _NodeFacts] = {}
+        self._colour_cache: dict[str, tuple[str, str]] = {}
+
+    def _node(self, node_id: str | None) -> _NodeFacts:
+        facts = self._nodes.get(node_id)
+        if facts is None:
+            if node_id is None or self.tree is None or node_id not in self.tree:
+                facts = _NodeFacts(None, None, None, True)
+            else:
+                tree = self.tree
+                node = tree[node_id]
+                generic = is_generic_node(node.name)
+                facts = _NodeFacts(
+                    tree.who(node_id),
+                    tree.ages(node_id),
+                    tree.restriction(node_id),
+                    generic or not tree.is_leaf(node_id),
+                )
+            self._nodes[node_id] = facts
+        return facts
+
+    def extract(self, product: Product, node_id: str | None) -> Attributes:
+        """Return the attributes of one product mapped to ``node_id`` (None: not mapped yet)."""
+        facts = self._node(node_id)
+        folded_title = fold(product.title)
+        folded_description = ""
+
+        # brand
+        match = self._finder.from_field(product.brand) if product.brand else None
+        if match is not None:
+            spans = tuple(
+                (s, e)
+                for s, e, _k, name in self.brands.find_in_text(folded_title)
+                if name == match.brand
+            )
+        else:
+            match = self._finder.from_text(folded_title, "title")
+            if match is None and product.description:
+                folded_description = fold(product.description)
+                found = self._finder.from_text(folded_description, "description")
+                if found is not None:
+                    confidence = round(found.confidence - 0.1, 3)
+                    match = BrandMatch(found.brand, confidence, found.evidence)
+            spans = match.spans if match is not None else ()
+        if match is None:
+            match = BrandMatch(evidence="no brand found")
+
+        # who and age
+        folded_path = fold(" / ".join(product.category_path)) if product.category_path else ""
+        if not folded_description and product.description:
+            folded_description = fold(product.description)
+        audience = extract_audience_folded(
+            gender_text=product.gender_text,
+            folded_title=blank_spans(folded_title, spans),
+            folded_path=folded_path,
+            folded_description=folded_description,
+            size=product.size,
+            allowed_who=facts.who,
+            allowed_ages=facts.ages,
+        )
+
+        # colour
+        if product.colour:
+            colour = self._colour_cache.get(product.colour)
+            if colour is None:
+                colour = colour_family_folded(fold(product.colour))
+                if len(self._colour_cache) > 100_000:
+                    self._colour_cache.clear()
+                self._colour_cache[product.colour] = colour
+            if not colour[0]:
+                colour = colour_family_folded("", folded_title)
+        else:
+            colour = colour_family_folded("", folded_title)
+
+        # restriction
+        restriction = facts.restriction or ""
+        if not restriction and facts.read_keywords:
+            restriction, _why = restriction_from_text_folded(
+                f"{blank_spans(folded_title, spans)} {folded_path}".strip()
+            )
+
+        return Attributes(
+            brand=match.brand,
+            brand_confidence=match.confidence,
+            brand_evidence=match.evidence,
+            who=audience.who,
+            age=audience.age,
+            audience_evidence=audience.evidence,
+            audience_conflict=audience.conflict,
+            colour_family=colour[0],
+            restriction=restriction,
+        )

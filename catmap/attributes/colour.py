@@ -1,0 +1,210 @@
+"""Colour family: colour words in English, French, German and Spanish → a small set of families.
+
+The families are catmap's own: black, white, grey, beige, brown, red, pink, orange, yellow,
+green, blue, purple, gold, silver, multicolour. The colour field is read first; two or more
+families there make "multicolour". Without a colour field the title is read, skipping words
+that are colours only sometimes ("cream", "orange", "rose", "wine", ...): in a title they are
+more often a product (face cream, orange juice, rosé wine).
+"""
+
+from __future__ import annotations
+
+from catmap.attributes._text import PhraseIndex, fold
+
+FAMILIES: tuple[str, ...] = (
+    "black", "white", "grey", "beige", "brown", "red", "pink", "orange", "yellow", "green",
+    "blue", "purple", "gold", "silver", "multicolour",
+)
+
+# family → colour words per language (written for catmap; fashion names included).
+COLOUR_WORDS: dict[str, dict[str, tuple[str, ...]]] = {
+    "black": {
+        "en": ("black", "jet black", "onyx", "ebony", "matte black", "jet", "noir"),
+        "fr": ("noir", "noire", "noirs", "ebene", "noir mat"),
+        "de": ("schwarz", "tiefschwarz", "mattschwarz", "schwarze", "schwarzer"),
+        "es": ("negro", "negra", "negros", "azabache", "negro mate"),
+    },
+    "white": {
+        "en": ("white", "off-white", "off white", "ivory", "snow", "snow white", "optic white",
+               "chalk", "whitesmoke", "ghostwhite", "floralwhite", "seashell", "linen"),
+        "fr": ("blanc", "blanche", "blanc casse", "ivoire", "ecru blanc"),
+        "de": ("weiss", "weisse", "weisser", "wollweiss", "cremeweiss", "elfenbein"),
+        "es": ("blanco", "blanca", "blanco roto", "marfil", "hueso"),
+    },
+    "grey": {
+        "en": ("grey", "gray", "charcoal", "anthracite", "heather grey", "slate", "graphite",
+               "ash", "dark grey", "light grey", "silver grey", "dimgray", "dimgrey",
+               "darkgray", "darkgrey", "lightgray", "lightgrey", "gainsboro", "slategray",
+               "slategrey", "gunmetal"),
+        "fr": ("gris", "grise", "anthracite", "gris chine", "ardoise", "gris fonce", "gris clair"),
+        "de": ("grau", "anthrazit", "hellgrau", "dunkelgrau", "grau meliert", "graue"),
+        "es": ("gris", "antracita", "gris jaspeado", "gris marengo", "gris oscuro", "marengo"),
+    },
+    "beige": {
+        "en": ("beige", "sand", "stone", "ecru", "oatmeal", "nude", "cream",
+               "wheat", "oat", "natural", "champagne beige", "bisque", "blanchedalmond",
+               "moccasin", "navajowhite", "cornsilk", "oldlace", "antiquewhite", "papayawhip"),
+        "fr": ("beige", "sable", "ecru", "grege", "creme", "naturel"),
+        "de": ("beige", "sand", "natur", "creme", "ecru", "sandfarben"),
+        "es": ("beige", "arena", "crudo", "piedra", "crema", "caqui claro"),
+    },
+    "brown": {
+        "en": ("brown", "chocolate", "cognac", "camel", "taupe", "walnut", "coffee", "mocha",
+               "chestnut", "espresso", "tobacco", "sienna", "tan", "saddlebrown", "sandybrown",
+               "rosybrown", "peru", "burlywood", "dark brown", "maroon brown"),
+        "fr": ("marron", "chocolat", "cognac", "camel", "taupe", "brun", "brune", "noisette",
+               "caramel"),
+        "de": ("braun", "cognac", "camel", "dunkelbraun", "taupe", "hellbraun", "nussbraun"),
+        "es": ("marron", "chocolate", "conac", "camel", "topo", "cuero", "cafe", "avellana"),
+    },
+    "red": {
+        "en": ("red", "burgundy", "wine", "wine red", "cherry", "scarlet", "brick red", "crimson",
+               "maroon", "oxblood", "bordeaux", "ruby", "darkred", "firebrick", "indianred",
+               "tomato"),
+        "fr": ("rouge", "bordeaux", "cerise", "rouge brique", "grenat", "carmin"),
+        "de": ("rot", "rote", "roter", "bordeaux", "weinrot", "kirschrot", "dunkelrot"),
+        "es": ("rojo", "roja", "burdeos", "granate", "rojo cereza", "carmesi"),
+    },
+    "pink": {
+        "en": ("pink", "blush", "rose", "fuchsia", "dusty pink", "salmon", "hot pink",
+               "baby pink", "magenta", "lightpink", "hotpink", "deeppink", "palevioletred",
+               "mediumvioletred", "powder pink", "old rose", "dusky pink"),
+        "fr": ("rose", "rose poudre", "fuchsia", "vieux rose", "rose pale", "framboise"),
+        "de": ("rosa", "pink", "altrosa", "pudrig rosa", "pudrosa", "babyrosa", "fuchsia"),
+        "es": ("rosa", "fucsia", "rosa palo", "rosa empolvado", "rosado"),
+    },
+    "orange": {
+        "en": ("orange", "coral", "rust", "terracotta", "burnt orange", "apricot", "peach",
+               "tangerine", "darkorange", "orangered", "copper"),
+        "fr": ("orange", "corail", "rouille", "terracotta", "abricot", "peche"),
+        "de": ("orange", "koralle", "rost", "terrakotta", "apricot", "kupfer"),
+        "es": ("naranja", "coral", "teja", "terracota", "melocoton", "albaricoque"),
+    },
+    "yellow": {
+        "en": ("yellow", "mustard", "lemon", "ochre", "canary", "lightyellow", "lemonchiffon",
+               "goldenrod", "khaki yellow"),
+        "fr": ("jaune", "moutarde", "ocre", "jaune citron", "citron"),
+        "de": ("gelb", "senfgelb", "ocker", "zitronengelb", "senf"),
+        "es": ("amarillo", "amarilla", "mostaza", "ocre", "amarillo limon"),
+    },
+    "green": {
+        "en": ("green", "olive", "sage", "forest green", "mint", "bottle green", "emerald",
+               "lime", "teal green", "army green", "darkgreen", "forestgreen", "seagreen",
+               "olivedrab", "darkolivegreen", "lawngreen", "limegreen", "springgreen",
+               "mediumseagreen", "yellowgreen", "darkkhaki"),
+        "fr": ("vert", "verte", "kaki", "olive", "vert sapin", "vert deau", "vert bouteille",
+               "menthe", "emeraude"),
+        "de": ("grun", "grune", "oliv", "khaki", "dunkelgrun", "salbei", "mint", "hellgrun",
+               "flaschengrun", "olivgrun"),
+        "es": ("verde", "caqui", "verde oliva", "verde menta", "verde botella", "verde militar",
+               "esmeralda"),
+    },
+    "blue": {
+        "en": ("blue", "navy", "navy blue", "royal blue", "sky blue", "denim blue", "petrol",
+               "cobalt", "baby blue", "light blue", "dark blue", "indigo blue", "teal",
+               "turquoise", "aqua", "cyan", "midnight blue", "steel blue", "powder blue",
+               "midnightblue", "royalblue", "skyblue", "steelblue", "powderblue", "lightblue",
+               "darkblue", "cornflowerblue", "dodgerblue", "deepskyblue", "mediumblue",
+               "cadetblue", "aquamarine", "darkturquoise", "lightseagreen"),
+        "fr": ("bleu", "bleue", "bleu marine", "bleu ciel", "marine", "bleu roi", "petrole",
+               "turquoise", "bleu nuit", "bleu clair", "bleu fonce"),
+        "de": ("blau", "blaue", "marineblau", "dunkelblau", "hellblau", "navy", "petrol",
+               "turkis", "himmelblau", "konigsblau", "babyblau"),
+        "es": ("azul", "azul marino", "azul cielo", "azul celeste", "azul klein", "turquesa",
+               "azul oscuro", "azul claro", "celeste"),
+    },
+    "purple": {
+        "en": ("purple", "lilac", "lavender", "plum", "violet", "mauve", "aubergine", "indigo",
+               "orchid", "grape", "darkviolet", "darkorchid", "mediumpurple", "blueviolet",
+               "thistle", "rebeccapurple"),
+        "fr": ("violet", "violette", "lilas", "prune", "lavande", "mauve", "aubergine", "parme"),
+        "de": ("lila", "violett", "flieder", "aubergine", "pflaume", "lavendel"),
+        "es": ("morado", "morada", "lila", "malva", "violeta", "berenjena", "purpura"),
+    },
+    "gold": {
+        "en": ("gold", "gold tone", "golden", "champagne", "brass", "rose gold", "gold plated"),
+        "fr": ("dore", "doree", "or", "champagne", "laiton", "or rose", "plaque or"),
+        "de": ("gold", "goldfarben", "champagner", "messing", "rosegold", "vergoldet"),
+        "es": ("dorado", "dorada", "oro", "champan", "laton", "oro rosa"),
+    },
+    "silver": {
+        "en": ("silver", "silver tone", "chrome", "metallic silver", "platinum", "steel",
+               "stainless steel", "silver plated", "pewter"),
+        "fr": ("argent", "argente", "argentee", "chrome", "acier"),
+        "de": ("silber", "silberfarben", "chrom", "versilbert", "edelstahl"),
+        "es": ("plata", "plateado", "plateada", "cromado", "acero"),
+    },
+    "multicolour": {
+        "en": ("multicolour", "multicolor", "multi", "multicoloured", "rainbow",
+               "assorted colours", "assorted", "multi colour", "mixed colours"),
+        "fr": ("multicolore", "multi", "arc en ciel", "couleurs assorties"),
+        "de": ("bunt", "mehrfarbig", "regenbogen", "farbig sortiert"),
+        "es": ("multicolor", "varios colores", "arcoiris", "colores surtidos"),
+    },
+}
+
+# Colour words that in a title more often name a product, a material or a flavour.
+AMBIGUOUS_IN_TITLE = frozenset(
+    fold(w) for w in (
+        "cream", "creme", "crema", "orange", "naranja", "rose", "wine", "cherry", "lime",
+        "mint", "menthe", "lemon", "citron", "peach", "peche", "chocolate", "chocolat", "coffee",
+        "cafe", "caramel", "salmon", "tomato", "grape", "plum", "prune", "apricot", "abricot",
+        "olive", "sand", "sable", "arena", "stone", "piedra", "steel", "acier", "acero",
+        "edelstahl", "stainless steel", "copper", "kupfer", "brass", "laiton", "messing",
+        "laton", "tobacco", "cognac", "champagne", "champagner", "champan", "natural", "natur",
+        "naturel", "linen", "ash", "snow", "chalk", "jet", "rust", "rost", "multi", "assorted",
+        "or", "oro", "aqua", "ruby", "emerald", "walnut", "chestnut", "honey", "camel",
+        "petrol", "marine", "tan", "oat", "wheat", "platinum", "coral", "lilac", "lavender",
+        "lavande", "lavendel", "violet", "peru", "thistle", "seashell", "teal", "noisette",
+        "avellana", "espresso", "mocha", "senf", "mostaza", "moutarde", "cuero", "topo",
+        "salbei", "sage", "framboise", "indigo",
+    )
+)
+
+
+def _build_index() -> PhraseIndex:
+    phrases: list[tuple[str, object]] = []
+    for family, by_lang in COLOUR_WORDS.items():
+        for words in by_lang.values():
+            phrases.extend((word, family) for word in words)
+    return PhraseIndex(phrases)
+
+
+_INDEX = _build_index()
+
+
+def _matches(folded: str) -> list[tuple[int, int, str, str]]:
+    chosen: list[tuple[int, int, str, str]] = []
+    last_end = -1
+    for start, end, key, family in sorted(_INDEX.find(folded), key=lambda m: (m[0], m[0] - m[1])):
+        if start >= last_end:
+            chosen.append((start, end, key, str(family)))
+            last_end = end
+    return chosen
+
+
+def colour_family_folded(folded_colour: str, folded_title: str = "") -> tuple[str, str]:
+    """As :func:`colour_family`, on folded texts."""
+    if folded_colour:
+        families = list(dict.fromkeys(family for _s, _e, _k, family in _matches(folded_colour)))
+        if len(families) == 1:
+            return families[0], f"colour field '{folded_colour}'"
+        if len(families) > 1:
+            return "multicolour", f"colour field names {', '.join(families)}"
+    if folded_title:
+        for _s, _e, key, family in _matches(folded_title):
+            if key not in AMBIGUOUS_IN_TITLE:
+                return family, f"title '{key}'"
+    return "", ""
+
+
+def colour_family(colour: str, title: str = "") -> tuple[str, str]:
+    """Return (family, evidence) from the colour field, else from the title ("" when none).
+
+    Never raises.
+
+    Example:
+        >>> colour_family("Vieux rose")
+        ('pink', "colour field 'vieux rose'")
+    """
+    return colour_family_folded(fold(colour), fold(title))
