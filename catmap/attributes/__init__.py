@@ -167,9 +167,10 @@ class AttributeExtractor:
         folded_path = fold(" / ".join(product.category_path)) if product.category_path else ""
         if not folded_description and product.description:
             folded_description = fold(product.description)
+        title_without_brand = blank_spans(folded_title, spans)
         audience = extract_audience_folded(
             gender_text=product.gender_text,
-            folded_title=blank_spans(folded_title, spans),
+            folded_title=title_without_brand,
             folded_path=folded_path,
             folded_description=folded_description,
             size=product.size,
@@ -194,7 +195,7 @@ class AttributeExtractor:
         restriction = facts.restriction or ""
         if not restriction and facts.read_keywords:
             restriction, _why = restriction_from_text_folded(
-                f"{blank_spans(folded_title, spans)} {folded_path}".strip()
+                f"{title_without_brand} {folded_path}".strip()
             )
 
         return Attributes(

@@ -70,9 +70,8 @@ class PhraseIndex:
         """Return all whole-word occurrences in a folded text, in order of their end."""
         if self._empty or not folded:
             return []
-        out = []
-        for end, (key, payload) in self._automaton.iter(f" {folded} "):
-            # Positions in the padded text: the match ends at `end` (a space); map back.
-            start = end - len(key) - 1
-            out.append((start, start + len(key), key, payload))
-        return out
+        # In the padded text a match ends at `end` (its closing space); map back to `folded`.
+        return [
+            (end - len(key) - 1, end - 1, key, payload)
+            for end, (key, payload) in self._automaton.iter(f" {folded} ")
+        ]

@@ -18,7 +18,7 @@ gender apply), and kids' sizes ("8 ans", "age 4-5", "116 cm", "6-12 mois").
 from __future__ import annotations
 
 import re
-from collections.abc import Iterable
+from collections.abc import Iterable, Sequence
 from dataclasses import dataclass
 from typing import cast
 
@@ -125,6 +125,9 @@ _SIZE_PATTERNS: tuple[tuple[re.Pattern[str], str], ...] = (
 )
 
 
+_DIGIT = re.compile(r"\d")
+
+
 @dataclass(frozen=True, slots=True)
 class Audience:
     """Who and age of a product, with the evidence and whether sources disagreed."""
@@ -198,8 +201,10 @@ def _select(matches: list[tuple[int, int, str, object]]) -> list[tuple[int, int,
     return chosen
 
 
-def blank_spans(folded: str, spans: Iterable[tuple[int, int]]) -> str:
+def blank_spans(folded: str, spans: Sequence[tuple[int, int]]) -> str:
     """Replace spans of a folded text by spaces (e.g. the brand, before looking for gender)."""
+    if not spans:
+        return folded
     chars = list(folded)
     touched = False
     for start, end in spans:
@@ -260,7 +265,7 @@ def age_from_size(folded: str, *, bare_numbers: bool = False) -> tuple[str, str]
         folded: a folded size field or title.
         bare_numbers: read a lone number as an EU children's height ("128"): size fields only.
     """
-    if not folded or not any(c.isdigit() for c in folded):
+    if not folded or _DIGIT.search(folded) is None:
         return None
     for pattern, value in _SIZE_PATTERNS:
         for found in pattern.finditer(folded):
@@ -397,7 +402,7 @@ def extract_audience(
     size: str = "",
     allowed_who: frozenset[str] | None = None,
     allowed_ages: frozenset[str] | None = None,
-    brand_spans: Iterable[tuple[int, int]] = (),
+    brand_spans: Sequence[tuple[int, int]] = (),
 ) -> Audience:
     """Return who and age of one product (pure; never raises on any strings).
 

@@ -34,6 +34,7 @@ LEGAL_SUFFIXES: tuple[str, ...] = (
     "srl", "spa", "snc", "oy", "oyj", "ab", "as", "aps", "pty", "pty ltd", "sro", "kft",
 )
 _SUFFIX_TOKENS = sorted((tuple(s.split()) for s in LEGAL_SUFFIXES), key=len, reverse=True)
+_SUFFIX_LAST = frozenset(s[-1] for s in _SUFFIX_TOKENS)
 
 # Names this short (space-free key length) only ever match exactly: a one-letter slip between
 # four-letter words is as likely another word ("Ace" / "Acme") as a typo.
@@ -56,7 +57,7 @@ UNKNOWN_FIELD_CONFIDENCE = 0.5
 
 def _strip_suffixes(tokens: list[str]) -> list[str]:
     changed = True
-    while changed and len(tokens) > 1:
+    while changed and len(tokens) > 1 and tokens[-1] in _SUFFIX_LAST:
         changed = False
         for suffix in _SUFFIX_TOKENS:
             n = len(suffix)
@@ -162,6 +163,7 @@ class BrandDictionary:
         self._exact: dict[str, str] = {}
         self._compact: dict[str, str] = {}
         self._buckets: dict[tuple[str, int], list[str]] = {}
+        self._windows: dict[tuple[str, int], list[str]] = {}
         self._fuzzy_cache: dict[str, tuple[str, float, str] | None] = {}
         for entry in entries:
             self.add(entry)
@@ -191,6 +193,7 @@ class BrandDictionary:
                 bucket = self._buckets.setdefault((compact[0], len(compact)), [])
                 if compact not in bucket:
                     bucket.append(compact)
+        self._windows.clear()
         self._title_index = None
         self._fuzzy_cache.clear()
 
@@ -268,9 +271,7 @@ class BrandDictionary:
             return self._fuzzy_cache[compact]
         result = None
         if len(compact) > SHORT_NAME_LENGTH:
-            choices: list[str] = []
-            for length in range(len(compact) - _LENGTH_WINDOW, len(compact) + _LENGTH_WINDOW + 1):
-                choices.extend(self._buckets.get((compact[0], length), ()))
+            choices = self._window(compact[0], len(compact))
             if choices:
                 best = process.extractOne(
                     compact,
@@ -285,6 +286,16 @@ class BrandDictionary:
             self._fuzzy_cache.clear()
         self._fuzzy_cache[compact] = result
         return result
+
+    def _window(self, first: str, length: int) -> list[str]:
+        """Return the aliases starting with ``first`` whose length is within the window."""
+        choices = self._windows.get((first, length))
+        if choices is None:
+            choices = []
+            for size in range(length - _LENGTH_WINDOW, length + _LENGTH_WINDOW + 1):
+                choices.extend(self._buckets.get((first, size), ()))
+            self._windows[(first, length)] = choices
+        return choices
 
     def _index(self) -> PhraseIndex:
         if self._title_index is None:
@@ -326,6 +337,7 @@ class BrandFinder:
     def __init__(self, dictionary: BrandDictionary, *, retailer_names: Iterable[str] = ()) -> None:
         self.dictionary = dictionary
         self.retailer_keys = {normalize_brand(n) for n in retailer_names} - {""}
+        self.retailer_keys |= {compact_key(k) for k in self.retailer_keys}
         self._field_cache: dict[str, BrandMatch] = {}
         self._lead_cache: dict[str, BrandMatch | None] = {}
 
@@ -336,9 +348,7 @@ class BrandFinder:
             return cached if cached.evidence else None
         key = normalize_brand(value)
         match: BrandMatch
-        if not key or key in self.retailer_keys or compact_key(key) in {
-            compact_key(k) for k in self.retailer_keys
-        }:
+        if not key or key in self.retailer_keys or compact_key(key) in self.retailer_keys:
             match = BrandMatch()
         else:
             exact = self.dictionary.lookup_exact(value)
