@@ -64,33 +64,39 @@ _DROPPED_BLOCK_RE = re.compile(
     r"<(script|style|noscript|template)\b[^>]*>.*?(?:</\1\s*>|\Z)", re.IGNORECASE | re.DOTALL
 )
 _COMMENT_RE = re.compile(r"<!--.*?(?:-->|\Z)", re.DOTALL)
-_LINE_TAG_RE = re.compile(
-    r"<\s*/?\s*(?:br|p|div|li|ul|ol|tr|table|thead|tbody|h[1-6]|dt|dd|dl|section|article|"
-    r"header|footer|blockquote|pre|hr)\b[^<>]*>",
-    re.IGNORECASE,
+# One pattern for every tag; the replacement depends on the tag name (see _tag_replacement).
+_TAG_RE = re.compile(r"<\s*/?\s*([A-Za-z][A-Za-z0-9:-]*)[^<>]*>|<[!?][^<>]*>")
+_LINE_TAGS = frozenset(
+    "br p div li ul ol tr table thead tbody h1 h2 h3 h4 h5 h6 dt dd dl section article header "
+    "footer blockquote pre hr".split()
 )
-_CELL_TAG_RE = re.compile(r"<\s*/?\s*(?:td|th)\b[^<>]*>", re.IGNORECASE)
-_OTHER_TAG_RE = re.compile(r"</?[A-Za-z][^<>]*>|<[!?][^<>]*>")
+_CELL_TAGS = frozenset({"td", "th"})
 
 # Passes of the full pipeline before giving up on reaching a fixed point. Real text settles in
 # one or two passes; the cap only bounds pathological input built to unfold layer by layer.
 _MAX_PASSES = 8
 
 
+def _tag_replacement(match: re.Match[str]) -> str:
+    name = (match.group(1) or "").lower()
+    if name in _LINE_TAGS:
+        return "\n"
+    return " " if name in _CELL_TAGS else ""
+
+
 def _strip_html(text: str) -> str:
+    if "<!--" in text:
+        text = _COMMENT_RE.sub(" ", text)
     text = _DROPPED_BLOCK_RE.sub(" ", text)
-    text = _COMMENT_RE.sub(" ", text)
-    text = _LINE_TAG_RE.sub("\n", text)
-    text = _CELL_TAG_RE.sub(" ", text)
-    return _OTHER_TAG_RE.sub("", text)
+    return _TAG_RE.sub(_tag_replacement, text)
 
 
 def _unescape(text: str) -> str:
     # Feeds often escape twice ("&amp;eacute;"); three rounds cover what is seen in practice.
     for _ in range(3):
         unescaped = html.unescape(text)
-        if unescaped == text:
-            break
+        if unescaped == text or "&" not in unescaped:
+            return unescaped
         text = unescaped
     return text
 
@@ -102,20 +108,28 @@ def _collapse(text: str, one_line: bool) -> str:
     return "\n".join(line for line in lines if line)
 
 
-def _one_pass(text: str, one_line: bool) -> tuple[str, bool]:
-    """Run the pipeline once; also tell whether a step other than whitespace changed the text."""
-    text = _INVISIBLE_RE.sub("", text)
-    before = text
-    if _MOJIBAKE_RE.search(text):
-        text = ftfy.fix_encoding(text)
+def _one_pass(text: str, one_line: bool) -> str:
+    """Run the whole pipeline once."""
     if "&" in text:
         text = _unescape(text)
     if "<" in text:
         text = _strip_html(text)
+    if _MOJIBAKE_RE.search(text):
+        text = ftfy.fix_encoding(text)
     if not unicodedata.is_normalized("NFKC", text):
         text = unicodedata.normalize("NFKC", text)
-    changed = text != before
-    return _collapse(text, one_line), changed
+    text = _INVISIBLE_RE.sub("", text)
+    return _collapse(text, one_line)
+
+
+def _settled(text: str) -> bool:
+    """True when no step of the pipeline can change ``text`` any more (cheap checks only)."""
+    return (
+        "<" not in text
+        and "&" not in text
+        and not _MOJIBAKE_RE.search(text)
+        and unicodedata.is_normalized("NFKC", text)
+    )
 
 
 def _clean(value: str, one_line: bool) -> str:
@@ -125,9 +139,10 @@ def _clean(value: str, one_line: bool) -> str:
         return _collapse(value, one_line)
     text = value
     for _ in range(_MAX_PASSES):
-        text, changed = _one_pass(text, one_line)
-        if not changed:
-            break
+        cleaned = _one_pass(text, one_line)
+        if cleaned == text or _settled(cleaned):
+            return cleaned
+        text = cleaned
     return text
 
 
