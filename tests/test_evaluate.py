@@ -2,11 +2,15 @@
 
 from __future__ import annotations
 
+import json
 import random
+from collections.abc import Sequence
+from pathlib import Path
 
 import pytest
 from sklearn.metrics import accuracy_score, f1_score, precision_recall_fscore_support
 
+from catmap.errors import InputError
 from catmap.evaluate import (
     accuracy,
     brand_scores,
@@ -20,6 +24,10 @@ from catmap.evaluate import (
     risk_coverage,
     top_confusions,
 )
+from catmap.evaluate.run import Gold, collect, evaluation_report, read_gold_csv
+from catmap.records import Attributes, Mapping, Product, Reject
+from catmap.report_html import write_report
+from catmap.taxonomy import CategoryTree, load_tree
 
 
 def _random_labels(seed: int, n: int, classes: int) -> tuple[list[str], list[str]]:
@@ -38,9 +46,7 @@ def test_flat_scores_match_sklearn(seed: int) -> None:
     y_true, y_pred = _random_labels(seed, 300, 12)
     macro, weighted = f1_scores(y_true, y_pred)
     assert macro == pytest.approx(f1_score(y_true, y_pred, average="macro", zero_division=0))
-    assert weighted == pytest.approx(
-        f1_score(y_true, y_pred, average="weighted", zero_division=0)
-    )
+    assert weighted == pytest.approx(f1_score(y_true, y_pred, average="weighted", zero_division=0))
     assert accuracy(y_true, y_pred) == pytest.approx(accuracy_score(y_true, y_pred))
 
 
@@ -211,9 +217,155 @@ def test_brand_scores_by_hand() -> None:
 
 def test_label_accuracy_and_confusion_by_hand() -> None:
     # By hand: 3 products with gold (the empty gold is left out), 2 right.
-    scores = label_accuracy(
-        ["female", "male", "male", ""], ["female", "female", "male", "unisex"]
-    )
+    scores = label_accuracy(["female", "male", "male", ""], ["female", "female", "male", "unisex"])
     assert scores.products == 3
     assert scores.accuracy == pytest.approx(2 / 3)
     assert scores.confusion == {"female": {"female": 1}, "male": {"female": 1, "male": 1}}
+
+
+# -- report data and the HTML report ----------------------------------------------------------
+
+AUDIENCE_ALL = "who=female,male,unisex age=adult,kids,baby"
+TREE_TEXT = "\n".join(
+    [
+        "@tree-version 1",
+        f"1000 | - | Apparel | {AUDIENCE_ALL} | - | en: clothing | fr: habits | de: Kleidung"
+        " | es: ropa",
+        "1010 | 1000 | Tops | . | - | en: tops | fr: hauts | de: Oberteile | es: tops",
+        "1011 | 1010 | T-shirts | . | - | en: tee | fr: tee-shirt | de: T-Shirt | es: camiseta",
+        "1012 | 1010 | Blouses | who=female | - | en: blouse | fr: chemisier | de: Bluse"
+        " | es: blusa",
+        "1500 | - | Kitchen | none | - | en: kitchen | fr: cuisine | de: Küche | es: cocina",
+        "1505 | 1500 | Cookware | . | - | en: cookware | fr: batterie | de: Kochgeschirr"
+        " | es: menaje",
+        "1510 | 1505 | Pans | . | - | en: pan | fr: poêle | de: Pfanne | es: sartén",
+        "",
+    ]
+)
+
+
+@pytest.fixture()
+def small_tree(tmp_path: Path) -> CategoryTree:
+    path = tmp_path / "tree.txt"
+    path.write_text(TREE_TEXT, encoding="utf-8")
+    return load_tree(path)
+
+
+def _mapping(node: str, confidence: float, method: str = "model") -> Mapping:
+    return Mapping(node_id=node, confidence=confidence, method=method)
+
+
+def test_evaluation_report_figures(small_tree: CategoryTree) -> None:
+    # Four products worked by hand:
+    #   gold 1011, answer 1011 @0.9  → right (leaf and under-gold)
+    #   gold 1012, answer 1011 @0.8  → wrong
+    #   gold 1012, answer 1010 @0.6 (back-off) → leaf-wrong, but 1012 lies under 1010
+    #   gold 1510, answer 1510 @0.7  → right
+    # leaf accuracy 2/4; answered under gold 3/4; ECE over 15 bins:
+    #   0.9 → bin 14 ((13/15, 14/15]) right: |1 − 0.9| = 0.1;  0.8 → bin 12 wrong: 0.8
+    #   0.6 → bin 9 right: 0.4;  0.7 → bin 11 right: 0.3;  ECE = (0.1+0.8+0.4+0.3)/4 = 0.4
+    gold = [Gold("1011"), Gold("1012"), Gold("1012"), Gold("1510")]
+    mappings = [
+        _mapping("1011", 0.9),
+        _mapping("1011", 0.8),
+        _mapping("1010", 0.6, "backoff"),
+        _mapping("1510", 0.7),
+    ]
+    report = evaluation_report(tree=small_tree, gold=gold, mappings=mappings)
+    assert report["products"] == 4
+    assert report["mapping"]["accuracy"] == pytest.approx(0.5)
+    assert report["mapping"]["answered_under_gold"] == pytest.approx(0.75)
+    assert report["mapping"]["ece"] == pytest.approx(0.4)
+    assert report["mapping"]["by_method"] == {"backoff": 1, "model": 3}
+    assert report["confusions"][0] == {
+        "true": "1012",
+        "true_path": "Apparel > Tops > Blouses",
+        "predicted": "1010",
+        "predicted_path": "Apparel > Tops",
+        "count": 1,
+    }
+    assert {d["node_id"]: d["accuracy"] for d in report["departments"]} == {
+        "1000": pytest.approx(1 / 3),
+        "1500": pytest.approx(1.0),
+    }
+    assert report["attributes"] is None
+    json.dumps(report)  # the report must be JSON-ready as it is
+
+
+def test_evaluation_report_attributes(small_tree: CategoryTree) -> None:
+    # By hand: brands Alvero=alvero (TP), Brimsel vs "" (FN); who 1 of 2 right; age 2 of 2.
+    gold = [Gold("1011", "Alvero", "male", "adult"), Gold("1012", "Brimsel", "female", "adult")]
+    attributes = [
+        Attributes(brand="Alvero", who="male", age="adult"),
+        Attributes(brand="", who="unisex", age="adult"),
+    ]
+    mappings = [_mapping("1011", 0.9), _mapping("1012", 0.9)]
+    report = evaluation_report(tree=small_tree, gold=gold, mappings=mappings, attributes=attributes)
+    brand = report["attributes"]["brand"]
+    assert (brand["precision"], brand["recall"]) == (pytest.approx(1.0), pytest.approx(0.5))
+    assert report["attributes"]["who"]["accuracy"] == pytest.approx(0.5)
+    assert report["attributes"]["who"]["confusion"] == {
+        "female": {"unisex": 1},
+        "male": {"male": 1},
+    }
+    assert report["attributes"]["age"]["accuracy"] == pytest.approx(1.0)
+
+
+def test_html_report_is_self_contained_and_escaped(
+    small_tree: CategoryTree, tmp_path: Path
+) -> None:
+    gold = [Gold("1011"), Gold("1012"), Gold("1510")]
+    mappings = [_mapping("1011", 0.9), _mapping("1011", 0.4), _mapping("1510", 0.7)]
+    report = evaluation_report(tree=small_tree, gold=gold, mappings=mappings)
+    report["feed"] = "<shop & co>.csv"
+    html_path, json_path = write_report(report, tmp_path / "out")
+    html = html_path.read_text(encoding="utf-8")
+    assert html.count('src="data:image/png;base64,') == 3
+    assert "&lt;shop &amp; co&gt;.csv" in html and "<shop & co>" not in html
+    assert "http://" not in html and "https://" not in html  # nothing fetched when opened
+    assert json.loads(json_path.read_text(encoding="utf-8"))["products"] == 3
+
+
+def test_read_gold_csv(tmp_path: Path) -> None:
+    path = tmp_path / "gold.csv"
+    path.write_text(
+        "\ufeffproduct_id,gold_node,gold_brand,gold_who,gold_age\n"
+        "a1,1011,Alvero,male,adult\n"
+        "a2,1510,,not_applicable,not_applicable\n"
+        "a1,1012,Other,female,adult\n",
+        encoding="utf-8",
+    )
+    gold = read_gold_csv(path)
+    assert gold == {
+        "a1": Gold("1011", "Alvero", "male", "adult"),
+        "a2": Gold("1510", "", "not_applicable", "not_applicable"),
+    }
+
+
+def test_read_gold_csv_names_missing_column(tmp_path: Path) -> None:
+    path = tmp_path / "gold.csv"
+    path.write_text("product_id,node\na1,1011\n", encoding="utf-8")
+    with pytest.raises(InputError, match="no 'gold_node' column") as caught:
+        read_gold_csv(path)
+    assert caught.value.line == 1 and "columns found: product_id, node" in str(caught.value)
+
+
+def test_collect_joins_gold_and_counts_left_out(small_tree: CategoryTree) -> None:
+    products: list[Product | Reject] = [
+        Product("a1", "Tee", extra={"gold_node": "1011", "split": "test"}),
+        Product("a2", "Pan", extra={"gold_node": "1510", "split": "train"}),
+        Product("a3", "Thing", extra={"gold_node": "", "split": "test"}),
+        Product("a4", "Thing", extra={"gold_node": "7777", "split": "test"}),
+        Reject("missing_title", "no title", 5, "line 5", "a5,,"),
+    ]
+    seen: list[str] = []
+
+    def mapper(chunk: Sequence[Product]) -> list[Mapping]:
+        seen.extend(p.product_id for p in chunk)
+        return [_mapping("1011", 0.5) for _ in chunk]
+
+    collected = collect(iter(products), tree=small_tree, mapper=mapper, split="test")
+    assert seen == ["a1"]
+    assert collected.product_ids == ["a1"]
+    assert (collected.other_split, collected.without_gold, collected.rejected) == (1, 1, 1)
+    assert collected.unknown_gold == {"7777": 1}

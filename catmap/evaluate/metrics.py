@@ -492,9 +492,7 @@ class LabelScores:
     confusion: dict[str, dict[str, int]]
 
 
-def confusion_table(
-    gold: Iterable[str], predicted: Iterable[str]
-) -> dict[str, dict[str, int]]:
+def confusion_table(gold: Iterable[str], predicted: Iterable[str]) -> dict[str, dict[str, int]]:
     """Return gold value → predicted value → count (both levels sorted)."""
     counts: Counter[tuple[str, str]] = Counter(zip(gold, predicted, strict=True))
     table: dict[str, dict[str, int]] = {}
