@@ -535,3 +535,88 @@ class BrandCandidates:
         """Return the names seen at least ``min_count`` times, most frequent first."""
         found = [c for c in self._seen.values() if c.count >= min_count]
         return sorted(found, key=lambda c: (-c.count, c.name.lower()))
+
+
+# -- the dictionary file -----------------------------------------------------------------------
+
+DICTIONARY_FILE = "brands.csv"
+_DEMO_DICTIONARY = Path(__file__).resolve().parent.parent.parent / "feeds_demo" / DICTIONARY_FILE
+_HEADER = ("brand", "variants", "departments")
+
+
+def demo_dictionary_path() -> Path:
+    """Return the demo brand dictionary shipped in ``feeds_demo/brands.csv``."""
+    return _DEMO_DICTIONARY
+
+
+def project_dictionary_path(project: str | Path) -> Path:
+    """Return the project's own brand dictionary, ``<project>/brands.csv`` (may not exist)."""
+    return Path(project) / DICTIONARY_FILE
+
+
+def dictionary_in_use(project: str | Path, given: str | Path | None = None) -> Path | None:
+    """Return the dictionary to read: the given one, the project's, the demo one, or None."""
+    if given is not None:
+        return Path(given)
+    for path in (project_dictionary_path(project), demo_dictionary_path()):
+        if path.exists():
+            return path
+    return None
+
+
+def append_brand(
+    path: str | Path,
+    name: str,
+    *,
+    variants: Iterable[str] = (),
+    departments: Iterable[str] = (),
+    seed_from: str | Path | None = None,
+) -> BrandEntry:
+    """Add a brand to a dictionary CSV (created, from ``seed_from`` if given, when missing).
+
+    The stored variants are the ones given plus :func:`brand_variants` (case, joined and
+    legal-suffix forms).
+
+    Args:
+        path: the dictionary CSV.
+        name: the canonical name.
+        variants: other spellings seen in feeds.
+        departments: department node ids it sells in.
+        seed_from: a dictionary to copy when ``path`` does not exist yet.
+
+    Returns:
+        The entry written.
+
+    Raises:
+        InputError: the name is empty or already in the dictionary (as a brand or a variant).
+    """
+    name = " ".join(name.split())
+    if not normalize_brand(name):
+        raise InputError("a brand name needs letters or digits", field="brand")
+    path = Path(path)
+    if not path.exists():
+        path.parent.mkdir(parents=True, exist_ok=True)
+        if seed_from is not None and Path(seed_from).exists():
+            path.write_bytes(Path(seed_from).read_bytes())
+        else:
+            with open(path, "w", encoding="utf-8", newline="") as handle:
+                csv.writer(handle).writerow(_HEADER)
+    existing = BrandDictionary.from_csv(path)
+    known = existing.lookup_exact(name)
+    if known is not None:
+        raise InputError(
+            f"'{name}' is already in the brand dictionary as '{known}'",
+            path=path,
+            hint="edit the file to change an existing brand",
+        )
+    all_variants = list(dict.fromkeys([*(" ".join(v.split()) for v in variants if v.strip()),
+                                       *brand_variants(name)]))
+    entry = BrandEntry(name, tuple(v for v in all_variants if v != name), tuple(departments))
+    text = path.read_text(encoding="utf-8-sig")
+    with open(path, "a", encoding="utf-8", newline="") as handle:
+        if text and not text.endswith("\n"):
+            handle.write("\n")
+        csv.writer(handle).writerow(
+            (entry.name, ";".join(entry.variants), ";".join(entry.departments))
+        )
+    return entry
