@@ -1,0 +1,510 @@
+"""Tests of the project store: round trips, the review queue, decisions, undo, audit, migration."""
+
+from __future__ import annotations
+
+import sqlite3
+from collections.abc import Iterator
+from datetime import UTC, datetime, timedelta
+from decimal import Decimal
+from pathlib import Path
+
+import pytest
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
+
+from catmap.errors import StoreError
+from catmap.records import AGE_VALUES, WHO_VALUES, Alternative, Attributes, Mapping, Product
+from catmap.store import (
+    MIGRATIONS,
+    SCHEMA_VERSION,
+    MappedRow,
+    Store,
+    migrate,
+    product_from_json,
+    product_to_json,
+    store_path,
+)
+
+
+class FakeClock:
+    """A clock the test moves by hand, to expire leases without waiting."""
+
+    def __init__(self) -> None:
+        self.now = datetime(2026, 1, 1, 12, 0, tzinfo=UTC)
+
+    def __call__(self) -> datetime:
+        return self.now
+
+    def advance(self, seconds: float) -> None:
+        self.now += timedelta(seconds=seconds)
+
+
+@pytest.fixture
+def clock() -> FakeClock:
+    return FakeClock()
+
+
+@pytest.fixture
+def memory_store(clock: FakeClock) -> Iterator[Store]:
+    with Store.open(":memory:", clock=clock) as store:
+        yield store
+
+
+@pytest.fixture
+def file_store(tmp_path: Path, clock: FakeClock) -> Iterator[Store]:
+    with Store.open(store_path(tmp_path / "project"), clock=clock) as store:
+        yield store
+
+
+@pytest.fixture(params=["memory", "file"])
+def store(request: pytest.FixtureRequest) -> Store:
+    return request.getfixturevalue(f"{request.param}_store")
+
+
+def make_row(
+    index: int,
+    *,
+    group: str = "Shoes > Boots",
+    node: str = "1523",
+    confidence: float = 0.5,
+    status: str = "queued",
+    reasons: tuple[str, ...] = (),
+    priority: float | None = None,
+) -> MappedRow:
+    product = Product(
+        product_id=f"p{index:04d}",
+        title=f"Lindor walking boot {index}",
+        description="Sturdy boot. " * 60,
+        brand="Lindor",
+        category_path=tuple(group.split(" > ")) if group else (),
+        price=Decimal("59.90"),
+        currency="EUR",
+    )
+    mapping = Mapping(node, confidence, "model", (Alternative("1524", 0.2),))
+    return MappedRow(
+        product=product,
+        mapping=mapping,
+        attributes=Attributes(brand="Lindor", brand_confidence=0.9, who="female", age="adult"),
+        status=status,
+        group_key=group,
+        priority=1.0 - confidence if priority is None else priority,
+        reasons=reasons,
+    )
+
+
+def seed(store: Store, rows: list[MappedRow], name: str = "shop-a") -> int:
+    feed = store.add_feed(name, source_path=f"{name}.csv")
+    run = store.start_run("onboard", feed=feed)
+    store.save_mapped(feed, run, rows)
+    store.finish_run(run, summary={"read": len(rows) + 1, "kept": len(rows), "rejected": 1})
+    return feed
+
+
+# --- opening, pragmas, schema ---------------------------------------------------------------
+
+
+def test_file_store_uses_wal_foreign_keys_and_current_schema(file_store: Store) -> None:
+    assert Path(file_store.path).name == "store.sqlite"
+    conn = file_store._conn
+    assert conn.execute("PRAGMA journal_mode").fetchone()[0] == "wal"
+    assert conn.execute("PRAGMA foreign_keys").fetchone()[0] == 1
+    assert conn.execute("PRAGMA busy_timeout").fetchone()[0] > 0
+    assert file_store.schema_version == SCHEMA_VERSION == len(MIGRATIONS)
+
+
+def test_not_a_store_is_a_store_error(tmp_path: Path) -> None:
+    path = tmp_path / "store.sqlite"
+    path.write_bytes(b"this is not a database at all, just some text" * 20)
+    with pytest.raises(StoreError, match="not a usable catmap store"):
+        Store.open(path)
+
+
+def test_newer_schema_is_refused(tmp_path: Path) -> None:
+    path = tmp_path / "store.sqlite"
+    conn = sqlite3.connect(path)
+    conn.execute(f"PRAGMA user_version = {SCHEMA_VERSION + 1}")
+    conn.close()
+    with pytest.raises(StoreError, match="upgrade catmap"):
+        Store.open(path)
+
+
+def test_migration_from_version_1_keeps_the_data(tmp_path: Path) -> None:
+    path = tmp_path / "store.sqlite"
+    conn = sqlite3.connect(path, isolation_level=None)
+    assert migrate(conn, target=1) == 1
+    conn.execute(
+        "INSERT INTO feeds (name, source_path, profile_path, created_at) "
+        "VALUES ('old-shop', 'old.csv', '', '2025-01-01T00:00:00.000000Z')"
+    )
+    product = Product(product_id="x1", title="Old lamp", price=Decimal("9.50"))
+    conn.execute(
+        "INSERT INTO products (feed_id, product_id, data, title, brand, retailer_path) "
+        "VALUES (1, 'x1', ?, 'Old lamp', '', '')",
+        (product_to_json(product),),
+    )
+    conn.execute(
+        "INSERT INTO mappings (feed_id, product_id, node_id, confidence, method, status) "
+        "VALUES (1, 'x1', '4100', 0.4, 'model', 'queued')"
+    )
+    conn.execute(
+        "INSERT INTO review_items (feed_id, product_id, reason, priority, created_at) "
+        "VALUES (1, 'x1', 'low_confidence', 0.6, '2025-01-01T00:00:00.000000Z')"
+    )
+    conn.close()
+
+    with Store.open(path) as store:
+        assert store.schema_version == SCHEMA_VERSION
+        assert store.product("old-shop", "x1") == product
+        item = store.claim_next("ann")
+        assert item is not None and item.skips == 0  # column added by version 2
+        decision = store.decide(item.id, "ann", "choose", node_id="4101")
+        assert decision.undone_at is None and decision.bulk_id is None
+        assert store.undo_last("ann") == [item.id]
+
+
+def test_migrating_twice_changes_nothing(tmp_path: Path) -> None:
+    path = tmp_path / "store.sqlite"
+    Store.open(path).close()
+    with Store.open(path) as store:
+        assert store.schema_version == SCHEMA_VERSION
+
+
+# --- round trips ----------------------------------------------------------------------------
+
+_text = st.text(max_size=30)
+_products = st.builds(
+    Product,
+    product_id=st.text(min_size=1, max_size=20),
+    title=_text,
+    description=st.text(max_size=200),
+    brand=_text,
+    category_path=st.lists(_text, max_size=4).map(tuple),
+    price=st.none() | st.decimals(allow_nan=False, allow_infinity=False, places=2),
+    currency=st.none() | st.sampled_from(["EUR", "GBP", "CHF"]),
+    gtin=st.none() | st.from_regex(r"\d{14}", fullmatch=True),
+    gtin_raw=_text,
+    gender_text=_text,
+    colour=_text,
+    size=_text,
+    url=_text,
+    image_url=_text,
+    availability=st.sampled_from(["available", "limited", "sold_out", "coming_soon", "unknown"]),
+    extra=st.dictionaries(_text, _text, max_size=4),
+    flags=st.lists(_text, max_size=3).map(tuple),
+    source_line=st.integers(min_value=0, max_value=10**9),
+)
+_unit = st.floats(min_value=0.0, max_value=1.0, allow_nan=False)
+_mappings = st.builds(
+    Mapping,
+    node_id=st.from_regex(r"[1-9]\d{3}", fullmatch=True),
+    confidence=_unit,
+    method=st.sampled_from(["rule", "model", "backoff", "cold_start"]),
+    alternatives=st.lists(
+        st.builds(Alternative, st.from_regex(r"[1-9]\d{3}", fullmatch=True), _unit), max_size=3
+    ).map(tuple),
+    reason=_text,
+)
+_attributes = st.builds(
+    Attributes,
+    brand=_text,
+    brand_confidence=_unit,
+    brand_evidence=_text,
+    who=st.sampled_from(WHO_VALUES),
+    age=st.sampled_from(AGE_VALUES),
+    audience_evidence=_text,
+    audience_conflict=st.booleans(),
+    colour_family=_text,
+    restriction=_text,
+)
+
+
+@given(product=_products)
+def test_product_json_round_trip(product: Product) -> None:
+    assert product_from_json(product_to_json(product)) == product
+
+
+@settings(max_examples=60, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@given(
+    product=_products,
+    mapping=_mappings,
+    attributes=_attributes,
+    status=st.sampled_from(["accepted", "queued", "audit"]),
+    group_key=_text,
+)
+def test_whatever_the_store_saves_comes_back_unchanged(
+    memory_store: Store,
+    product: Product,
+    mapping: Mapping,
+    attributes: Attributes,
+    status: str,
+    group_key: str,
+) -> None:
+    feed = memory_store.add_feed("round-trip")
+    row = MappedRow(product, mapping, attributes, status, group_key, 0.3)
+    memory_store.save_mapped(feed, None, [row], model_version="m7", tree_version="1")
+    assert memory_store.product(feed, product.product_id) == product
+    stored = memory_store.mapping(feed, product.product_id)
+    assert stored.mapping == mapping
+    assert stored.attributes == attributes
+    assert (stored.status, stored.group_key) == (status, group_key)
+    assert (stored.model_version, stored.tree_version) == ("m7", "1")
+    pairs = dict((p.product_id, (p, m)) for p, m in memory_store.mappings(feed))
+    assert pairs[product.product_id] == (product, stored)
+
+
+def test_runs_and_feeds_round_trip(store: Store) -> None:
+    feed = store.add_feed("shop-b", source_path="in/shop-b.xml", profile_path="p/shop-b.toml")
+    again = store.add_feed("shop-b", source_path="in/shop-b.xml.gz", profile_path="p/b.toml")
+    assert again == feed
+    assert store.feed("shop-b").source_path == "in/shop-b.xml.gz"
+    run = store.start_run("onboard", feed=feed, params={"threshold": 0.8, "max_error": 0.02})
+    store.finish_run(run, summary={"read": 10, "kept": 9, "rejected": 1})
+    (record,) = store.runs("shop-b")
+    assert record.params == {"threshold": 0.8, "max_error": 0.02}
+    assert record.summary == {"read": 10, "kept": 9, "rejected": 1}
+    assert record.status == "done" and record.finished_at is not None
+    with pytest.raises(StoreError, match="no feed 'nope'"):
+        store.feed("nope")
+
+
+def test_rerun_is_idempotent_and_keeps_reviewed_mappings(store: Store) -> None:
+    rows = [make_row(i) for i in range(6)]
+    feed = seed(store, rows)
+    item = store.claim_next("ann")
+    assert item is not None
+    store.decide(item.id, "ann", "choose", node_id="1530")
+    before = store.queue_summary()
+    # The same feed onboarded again with a new model: reviewed mapping stays, nothing doubles.
+    store.save_mapped(feed, None, [make_row(i, confidence=0.6) for i in range(6)])
+    assert store.queue_summary().total == before.total
+    assert store.mapping(feed, item.product_id).mapping.node_id == "1530"
+    other = next(r for r in rows if r.product.product_id != item.product_id)
+    assert store.mapping(feed, other.product.product_id).mapping.confidence == 0.6
+
+
+def test_save_mapped_queues_by_status_and_reasons(store: Store) -> None:
+    rows = [
+        make_row(1, status="accepted"),
+        make_row(2, status="queued"),
+        make_row(3, status="audit"),
+        make_row(4, status="accepted", reasons=("brand_conflict",)),
+        make_row(5, status="queued", reasons=("low_confidence", "audience_conflict")),
+    ]
+    seed(store, rows)
+    summary = store.queue_summary("shop-a")
+    assert summary.open == 5
+    assert {reason: counts["open"] for reason, counts in summary.by_reason.items()} == {
+        "low_confidence": 2,
+        "audit_sample": 1,
+        "brand_conflict": 1,
+        "audience_conflict": 1,
+    }
+
+
+def test_enqueue_needs_a_saved_product(store: Store) -> None:
+    feed = seed(store, [make_row(1, status="accepted")])
+    item_id = store.enqueue(feed, "p0001", "remap", priority=0.4)
+    assert store.enqueue(feed, "p0001", "remap", priority=0.7) == item_id
+    assert store.item(item_id).priority == 0.7
+    assert store.item(item_id).group_key == "Shoes > Boots"
+    with pytest.raises(StoreError, match="no such product"):
+        store.enqueue(feed, "missing", "remap")
+
+
+# --- claims and leases ----------------------------------------------------------------------
+
+
+def test_claim_order_and_resume(store: Store) -> None:
+    seed(store, [make_row(i, confidence=0.1 * i) for i in range(1, 5)])
+    first = store.claim_next("ann")
+    assert first is not None and first.product_id == "p0001"  # lowest confidence, highest gain
+    second = store.claim_next("bob")
+    assert second is not None and second.product_id == "p0002"
+    # Ann comes back (screen restarted): her own claimed item first.
+    again = store.claim_next("ann")
+    assert again is not None and again.id == first.id
+
+
+def test_expired_lease_is_reclaimable(store: Store, clock: FakeClock) -> None:
+    seed(store, [make_row(1)])
+    item = store.claim_next("ann", lease_seconds=60)
+    assert item is not None
+    assert store.claim_next("bob") is None
+    with pytest.raises(StoreError, match="claimed by ann"):
+        store.decide(item.id, "bob", "accept")
+    clock.advance(61)
+    taken = store.claim_next("bob")
+    assert taken is not None and taken.id == item.id and taken.claimed_by == "bob"
+
+
+def test_release_and_skip_send_items_back(store: Store) -> None:
+    seed(store, [make_row(1, confidence=0.1), make_row(2, confidence=0.2)])
+    item = store.claim_next("ann")
+    assert item is not None
+    assert store.release(item.id, "bob") is False
+    assert store.release(item.id, "ann") is True
+    assert store.item(item.id).state == "open"
+    item = store.claim_next("ann")
+    assert item is not None and item.product_id == "p0001"
+    store.decide(item.id, "ann", "skip")
+    # A skipped item goes behind the items never skipped.
+    nxt = store.claim_next("ann")
+    assert nxt is not None and nxt.product_id == "p0002"
+
+
+# --- decisions ------------------------------------------------------------------------------
+
+
+def test_decisions_update_the_mapping_and_are_listed(store: Store) -> None:
+    feed = seed(store, [make_row(i, confidence=0.1 * i) for i in range(1, 5)])
+    a = store.claim_next("ann")
+    assert a is not None
+    store.decide(a.id, "ann", "accept", brand="Lindor Outdoor", note="brand has a line name")
+    b = store.claim_next("ann")
+    assert b is not None
+    store.decide(b.id, "ann", "choose", node_id="1530", who="unisex")
+    c = store.claim_next("ann")
+    assert c is not None
+    store.decide(c.id, "ann", "no_fit")
+
+    ma = store.mapping(feed, a.product_id)
+    assert (ma.status, ma.mapping.node_id, ma.mapping.method) == ("reviewed", "1523", "model")
+    assert ma.attributes.brand == "Lindor Outdoor"
+    mb = store.mapping(feed, b.product_id)
+    assert (mb.mapping.node_id, mb.mapping.method, mb.mapping.confidence) == ("1530", "review", 1.0)
+    assert mb.attributes.who == "unisex"
+    assert store.mapping(feed, c.product_id).mapping.node_id == ""
+
+    decisions = store.decisions("shop-a")
+    assert [d.action for d in decisions] == ["accept", "choose", "no_fit"]
+    assert (decisions[0].brand_from, decisions[0].brand_to) == ("Lindor", "Lindor Outdoor")
+    assert (decisions[1].from_node, decisions[1].to_node) == ("1523", "1530")
+    assert (decisions[1].who_from, decisions[1].who_to) == ("female", "unisex")
+    assert decisions[0].at.endswith("Z")
+    examples = store.training_examples()
+    assert [(e.product.product_id, e.node_id) for e in examples] == [
+        (a.product_id, "1523"),
+        (b.product_id, "1530"),
+    ]
+    with pytest.raises(StoreError, match="already decided"):
+        store.decide(a.id, "ann", "accept")
+
+
+def test_bad_decisions_are_refused(store: Store) -> None:
+    seed(store, [make_row(1)])
+    item = store.claim_next("ann")
+    assert item is not None
+    with pytest.raises(ValueError, match="needs a node_id"):
+        store.decide(item.id, "ann", "choose")
+    with pytest.raises(ValueError, match="unknown action"):
+        store.decide(item.id, "ann", "maybe")
+    with pytest.raises(ValueError, match="unknown who"):
+        store.decide(item.id, "ann", "fix_attributes", who="everyone")
+    with pytest.raises(StoreError, match="no review item 999"):
+        store.decide(999, "ann", "accept")
+
+
+def test_undo_restores_the_mapping_and_reclaims_the_item(store: Store) -> None:
+    feed = seed(store, [make_row(1), make_row(2)])
+    item = store.claim_next("ann")
+    assert item is not None
+    before = store.mapping(feed, item.product_id)
+    store.decide(item.id, "ann", "choose", node_id="1600", age="kids")
+    assert store.undo_last("ann") == [item.id]
+    assert store.mapping(feed, item.product_id) == before
+    reopened = store.item(item.id)
+    assert (reopened.state, reopened.claimed_by) == ("claimed", "ann")
+    assert store.decisions() == []
+    (undone,) = store.decisions(include_undone=True)
+    assert undone.undone_at is not None
+    assert [e.action for e in store.audit_log()][-2:] == ["decision", "undo"]
+    assert store.undo_last("ann") == []
+
+
+def test_review_item_gives_the_screen_everything(store: Store) -> None:
+    rows = [make_row(i, confidence=0.6) for i in range(9)] + [make_row(9, node="1700", confidence=0.7)]
+    seed(store, rows)
+    item = store.claim_next("ann")
+    assert item is not None
+    view = store.review_item(item.id)
+    assert view.title.startswith("Lindor walking boot")
+    assert (view.brand, view.price, view.currency) == ("Lindor", Decimal("59.90"), "EUR")
+    assert view.retailer_path == "Shoes > Boots"
+    assert (view.suggested_node, view.confidence) == ("1523", 0.6)
+    assert view.alternatives == (Alternative("1524", 0.2),)
+    assert view.attributes.who == "female"
+    assert len(view.description_excerpt) <= 400 and view.description_excerpt.endswith("…")
+    assert (view.group.size, view.group.top_node, view.group.top_share) == (10, "1523", 0.9)
+    assert view.group.strong and view.group.open_items == 10
+
+
+# --- groups ---------------------------------------------------------------------------------
+
+
+def test_accept_group_one_decision_per_item_one_audit_entry(store: Store) -> None:
+    rows = [make_row(i) for i in range(6)] + [make_row(9, group="Bags")]
+    rows.append(make_row(10, status="audit"))  # audit samples are judged one by one
+    feed = seed(store, rows)
+    taken = store.claim_next("bob")  # bob holds one item of the group
+    assert taken is not None
+    decisions = store.accept_group("ann", feed, "Shoes > Boots", node_id="1523")
+    assert len(decisions) == 5 and all(d.action == "accept" for d in decisions)
+    assert len({d.bulk_id for d in decisions}) == 1
+    bulk = [e for e in store.audit_log() if e.action == "bulk_accept"]
+    assert len(bulk) == 1 and len(bulk[0].detail["items"]) == 5
+    assert store.item(taken.id).claimed_by == "bob"
+    # Undo takes the whole bulk back.
+    assert sorted(store.undo_last("ann")) == sorted(d.item_id for d in decisions)
+    assert store.decisions() == []
+
+
+def test_accept_group_with_another_node_records_choices(store: Store) -> None:
+    rows = [make_row(i) for i in range(4)] + [make_row(4, node="1530")]
+    feed = seed(store, rows)
+    claimed = store.claim_group("ann", feed, "Shoes > Boots")
+    assert len(claimed) == 5
+    decisions = store.accept_group("ann", feed, "Shoes > Boots", node_id="1530")
+    assert sorted(d.action for d in decisions) == ["accept"] + ["choose"] * 4
+    assert {m.mapping.node_id for _, m in store.mappings(feed)} == {"1530"}
+
+
+# --- audit log, summaries, status -----------------------------------------------------------
+
+
+def test_audit_log_refuses_update_and_delete(store: Store) -> None:
+    store.record_event("import", "ann", detail={"file": "decisions.csv", "rows": 3})
+    with pytest.raises(sqlite3.IntegrityError, match="append-only"):
+        store._conn.execute("UPDATE audit_log SET actor = 'mallory'")
+    with pytest.raises(sqlite3.IntegrityError, match="append-only"):
+        store._conn.execute("DELETE FROM audit_log")
+    (entry,) = store.audit_log()
+    assert (entry.actor, entry.action, entry.detail["rows"]) == ("ann", "import", 3)
+
+
+def test_feed_status_counts_and_audit_error(store: Store) -> None:
+    rows = [make_row(i, status="accepted") for i in range(5)]
+    rows += [make_row(i, status="audit") for i in range(5, 9)]
+    rows += [make_row(9, status="queued")]
+    seed(store, rows)
+    for action in ("accept", "accept", "accept", "choose"):
+        item = store.claim_next("ann")
+        assert item is not None and item.reason == "audit_sample"
+        store.decide(item.id, "ann", action, node_id="1600" if action == "choose" else None)
+    status = store.feed_status("shop-a")
+    assert (status.read, status.kept, status.rejected) == (11, 10, 1)
+    assert (status.products, status.accepted, status.queued, status.reviewed) == (10, 5, 1, 4)
+    assert (status.open_items, status.done_items) == (1, 4)
+    assert (status.audit_checked, status.audit_wrong) == (4, 1)
+    assert status.audit_error is not None and status.audit_error.rate == 0.25
+    assert status.audit_error.low < 0.25 < status.audit_error.high
+
+
+def test_queue_summary_by_group(store: Store) -> None:
+    seed(store, [make_row(i) for i in range(3)] + [make_row(7, group="Bags")])
+    item = store.claim_next("ann")
+    assert item is not None
+    summary = store.queue_summary()
+    assert (summary.open, summary.claimed, summary.done) == (3, 1, 0)
+    groups = {g.group_key: (g.open, g.claimed, g.done) for g in summary.by_group}
+    assert groups[item.group_key][1] == 1
+    assert sum(sum(v) for v in groups.values()) == 4
