@@ -422,7 +422,9 @@ def test_undo_restores_the_mapping_and_reclaims_the_item(store: Store) -> None:
 
 
 def test_review_item_gives_the_screen_everything(store: Store) -> None:
-    rows = [make_row(i, confidence=0.6) for i in range(9)] + [make_row(9, node="1700", confidence=0.7)]
+    rows = [make_row(i, confidence=0.6) for i in range(9)] + [
+        make_row(9, node="1700", confidence=0.7)
+    ]
     seed(store, rows)
     item = store.claim_next("ann")
     assert item is not None
