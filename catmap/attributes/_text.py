@@ -14,7 +14,9 @@ from collections.abc import Iterable
 
 import ahocorasick
 
-_DELETE = re.compile(r"['’`´.®™©]")
+_DELETE = re.compile(r"['’`´.]")
+# Removed before Unicode decomposition, which would turn "™" into the letters "TM".
+_MARKS = re.compile(r"[®™©℠]")
 _AND = re.compile(r"\s*[&+]\s*")
 _NON_WORD = re.compile(r"[^0-9a-z]+")
 # Letters NFKD does not decompose into a base letter plus a mark.
@@ -36,6 +38,7 @@ def fold(text: str) -> str:
     """
     text = text.lower()
     if not text.isascii():
+        text = _MARKS.sub("", text)
         text = text.translate(_SPECIAL)
         text = "".join(
             c for c in unicodedata.normalize("NFKD", text) if not unicodedata.combining(c)
