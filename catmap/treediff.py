@@ -1,0 +1,644 @@
+"""What changed between two versions of the category tree, as a crosswalk from old ids to new.
+
+:func:`diff_trees` compares two trees and says, for every old node, where its products go in the
+new tree and why: unchanged, renamed (same id, new name), moved (same id, new parent), split
+(one old node into several new ones), merged (several old nodes into one) or removed; and which
+new nodes were added. Ids decide first. Where ids changed (an old id missing from the new tree,
+a new id missing from the old) the nodes are matched on their words (names and keywords in all
+languages), their place in the tree and, when mapped products are given, on the products
+themselves: the products under an old node are re-scored on the new tree and the overlap of
+product sets shows where they went (instance-based matching; simple Jaccard overlap is a strong
+method: Isaac et al., "An empirical study of instance-based ontology matching", ISWC 2007).
+
+The diff only ever sees the two trees (and the products); :func:`score_against_changelog`
+then measures it against a documented change log, with precision, recall and F1 per change
+type, the way ontology alignment evaluations report them.
+
+The crosswalk file is a tab-separated text file of catmap's own (see :func:`save_crosswalk`).
+"""
+
+from __future__ import annotations
+
+import csv
+from collections import Counter, defaultdict
+from collections.abc import Iterable, Sequence
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any, Protocol
+
+from catmap.changelog import Change
+from catmap.errors import InputError
+from catmap.taxonomy import CategoryTree, Node, fold_text
+
+__all__ = [
+    "CHANGE_TYPES",
+    "Correspondence",
+    "Crosswalk",
+    "ProductScorer",
+    "diff_trees",
+    "label_equality_crosswalk",
+    "load_crosswalk",
+    "reference_items",
+    "save_crosswalk",
+    "score_against_changelog",
+]
+
+CHANGE_TYPES: tuple[str, ...] = (
+    "unchanged",
+    "renamed",
+    "moved",
+    "split",
+    "merged",
+    "added",
+    "removed",
+)
+
+# A removed and an added node are linked when their similarity reaches this (0..1). Chosen on
+# the hand-made pairs in tests/data/treediff (common practice, no source).
+LINK_THRESHOLD = 0.5
+# A removed node is merged into a kept node when this share of its words is found there.
+MERGE_COVER = 0.6
+# Words that say nothing about what a node holds.
+_STOP_WORDS = frozenset({"and", "or", "for", "with", "the", "of", "other"})
+
+_HEADER = "@crosswalk"
+_COLUMNS = ("old_id", "new_ids", "change", "confidence", "evidence")
+
+
+@dataclass(frozen=True, slots=True)
+class Correspondence:
+    """One line of a crosswalk: an old node, the new nodes its products go to, and why.
+
+    Attributes:
+        old_id: the old node's id; None for a node added in the new tree.
+        new_ids: where the old node's products go (several for a split; for a removed node, the
+            nearest surviving ancestor; empty if none survives); the new id for an added node.
+        changes: the change types (see :data:`CHANGE_TYPES`); a node can be both renamed and
+            moved.
+        confidence: 0..1; 1.0 when ids alone decide.
+        evidence: a short human-readable account of what decided.
+    """
+
+    old_id: str | None
+    new_ids: tuple[str, ...]
+    changes: tuple[str, ...]
+    confidence: float
+    evidence: str = ""
+
+
+@dataclass(slots=True)
+class Crosswalk:
+    """Every old node's correspondence in the new tree, and the added nodes.
+
+    Attributes:
+        old_version: the old tree's version.
+        new_version: the new tree's version.
+        correspondences: old nodes first (in the old tree's order), then added nodes.
+    """
+
+    old_version: str
+    new_version: str
+    correspondences: list[Correspondence] = field(default_factory=list)
+
+    def changed(self) -> list[Correspondence]:
+        """Return the correspondences that are not "unchanged"."""
+        return [c for c in self.correspondences if c.changes != ("unchanged",)]
+
+    def counts(self) -> dict[str, int]:
+        """Return how many correspondences carry each change type (all types listed)."""
+        found = Counter(kind for c in self.correspondences for kind in c.changes)
+        return {kind: found.get(kind, 0) for kind in CHANGE_TYPES}
+
+    def new_ids_for(self, old_id: str) -> tuple[str, ...]:
+        """Return where an old node's products go (empty when the old id is unknown)."""
+        for corr in self.correspondences:
+            if corr.old_id == old_id:
+                return corr.new_ids
+        return ()
+
+
+class ProductScorer(Protocol):
+    """Anything that can map product texts onto a category tree (e.g. catmap's classifier)."""
+
+    def predict_nodes(self, texts: Sequence[str], tree: CategoryTree) -> Sequence[str | None]:
+        """Return, for each text, the id of the node of ``tree`` it belongs to (None: unsure)."""
+        ...
+
+
+# -- similarity -----------------------------------------------------------------------------
+
+
+def _terms(node: Node) -> frozenset[str]:
+    words = [node.name, *(t for terms in node.terms.values() for t in terms)]
+    return frozenset(f for f in map(fold_text, words) if f)
+
+
+def _name_words(node: Node) -> str:
+    return " ".join(w for w in fold_text(node.name).split() if w not in _STOP_WORDS)
+
+
+def _name_similarity(a: Node, b: Node) -> float:
+    from rapidfuzz import fuzz
+
+    return float(fuzz.token_set_ratio(_name_words(a), _name_words(b))) / 100.0
+
+
+@dataclass(frozen=True, slots=True)
+class _Link:
+    score: float
+    evidence: str
+
+
+class _Matcher:
+    """Similarity between an old node and a new node, from words, place and products."""
+
+    def __init__(
+        self,
+        old: CategoryTree,
+        new: CategoryTree,
+        old_of_product: Sequence[str] | None,
+        new_of_product: Sequence[str | None] | None,
+    ) -> None:
+        self.old = old
+        self.new = new
+        self._terms: dict[tuple[int, str], frozenset[str]] = {}
+        self.products_old: dict[str, set[int]] = defaultdict(set)
+        self.products_new: dict[str, set[int]] = defaultdict(set)
+        self.with_products = old_of_product is not None and new_of_product is not None
+        if old_of_product is not None and new_of_product is not None:
+            for index, (before, after) in enumerate(
+                zip(old_of_product, new_of_product, strict=True)
+            ):
+                self.products_old[before].add(index)
+                if after is not None:
+                    self.products_new[after].add(index)
+
+    def terms(self, tree: CategoryTree, node_id: str) -> frozenset[str]:
+        key = (id(tree), node_id)
+        if key not in self._terms:
+            self._terms[key] = _terms(tree[node_id])
+        return self._terms[key]
+
+    def label_link(self, old_id: str, new_id: str) -> _Link:
+        """Similarity of a removed old node and an added new node from words and place."""
+        before, after = self.old[old_id], self.new[new_id]
+        t_old, t_new = self.terms(self.old, old_id), self.terms(self.new, new_id)
+        shared = len(t_old & t_new)
+        overlap = shared / min(len(t_old), len(t_new)) if t_old and t_new else 0.0
+        same_parent = before.parent is not None and before.parent == after.parent
+        same_department = self.old.department(old_id).id == self.new.department(new_id).id
+        name = _name_similarity(before, after)
+        # A name alone links nodes only close together in the tree: far apart, "Ovens" and
+        # "Pizza ovens" are different things; there shared keywords must speak.
+        if same_parent:
+            score = min(1.0, max(overlap, 0.9 * name) + 0.1)
+            place = "same parent"
+        elif same_department:
+            score = max(overlap, 0.75 * name)
+            place = "same department"
+        else:
+            score = overlap
+            place = "other department"
+        evidence = f"words {overlap:.2f} ({shared} shared), name {name:.2f}, {place}"
+        return _Link(score, evidence)
+
+    def product_link(self, old_id: str, new_id: str) -> _Link | None:
+        """Share of the new node's re-scored products that came from the old node."""
+        if not self.with_products:
+            return None
+        before = self.products_old.get(old_id, set())
+        after = self.products_new.get(new_id, set())
+        if not before or not after:
+            return None
+        common = len(before & after)
+        jaccard = common / len(before | after)
+        from_old = common / len(after)
+        return _Link(from_old, f"products: jaccard {jaccard:.2f}, {common} of {len(after)} moved")
+
+    def link(self, old_id: str, new_id: str) -> _Link:
+        label = self.label_link(old_id, new_id)
+        products = self.product_link(old_id, new_id)
+        if products is None or products.score <= label.score:
+            return label
+        return _Link(products.score, f"{products.evidence}; {label.evidence}")
+
+    def cover(self, old_id: str, new_id: str) -> _Link:
+        """How much of a removed old node lives on in a kept new node (words or products)."""
+        t_old, t_new = self.terms(self.old, old_id), self.terms(self.new, new_id)
+        words = len(t_old & t_new) / len(t_old) if t_old else 0.0
+        link = _Link(words, f"{words:.2f} of its words there")
+        before = self.products_old.get(old_id, set())
+        if self.with_products and before:
+            share = len(before & self.products_new.get(new_id, set())) / len(before)
+            if share > words:
+                link = _Link(share, f"{share:.2f} of its products there; {link.evidence}")
+        return link
+
+
+# -- the diff -------------------------------------------------------------------------------
+
+
+def diff_trees(
+    old: CategoryTree,
+    new: CategoryTree,
+    *,
+    products: Iterable[tuple[str, str]] | None = None,
+    scorer: ProductScorer | None = None,
+) -> Crosswalk:
+    """Find what changed between two trees and where each old node's products go.
+
+    Args:
+        old: the older tree.
+        new: the newer tree.
+        products: optional (product text, old node id) pairs, products mapped on the old tree.
+        scorer: re-scores the product texts on the new tree; needed with ``products``.
+
+    Returns:
+        The crosswalk: one correspondence per old node (in the old tree's order), then one per
+        added node.
+
+    Raises:
+        ValueError: products are given without a scorer.
+    """
+    old_of_product: list[str] | None = None
+    new_of_product: list[str | None] | None = None
+    if products is not None:
+        if scorer is None:
+            raise ValueError("products need a scorer to re-score them on the new tree")
+        pairs = [(text, node_id) for text, node_id in products if node_id in old]
+        old_of_product = [node_id for _, node_id in pairs]
+        new_of_product = list(scorer.predict_nodes([text for text, _ in pairs], new))
+    matcher = _Matcher(old, new, old_of_product, new_of_product)
+
+    removed = [n.id for n in old if n.id not in new]
+    added = [n.id for n in new if n.id not in old]
+
+    links: dict[tuple[str, str], _Link] = {}
+    for old_id in removed:
+        for new_id in added:
+            link = matcher.link(old_id, new_id)
+            if link.score >= LINK_THRESHOLD:
+                links[(old_id, new_id)] = link
+
+    def best_new(old_id: str) -> str | None:
+        found = [(links[(old_id, a)].score, a) for a in added if (old_id, a) in links]
+        return max(found)[1] if found else None
+
+    def best_old(new_id: str) -> str | None:
+        found = [(links[(r, new_id)].score, r) for r in removed if (r, new_id) in links]
+        return max(found)[1] if found else None
+
+    result: dict[str, Correspondence] = {}
+    explained_new: set[str] = set()
+
+    # Merges into a new id: several removed nodes whose best match is the same added node.
+    sources_of: dict[str, list[str]] = defaultdict(list)
+    for old_id in removed:
+        target = best_new(old_id)
+        if target is not None:
+            sources_of[target].append(old_id)
+    for new_id, sources in sources_of.items():
+        if len(sources) >= 2:
+            explained_new.add(new_id)
+            for old_id in sources:
+                link = links[(old_id, new_id)]
+                result[old_id] = Correspondence(
+                    old_id, (new_id,), ("merged",), round(link.score, 3), link.evidence
+                )
+
+    # Splits and re-keyed nodes: the added nodes whose best source is this removed node.
+    for old_id in removed:
+        if old_id in result:
+            continue
+        parts = [
+            a
+            for a in added
+            if a not in explained_new and (old_id, a) in links and best_old(a) == old_id
+        ]
+        if not parts:
+            continue
+        explained_new.update(parts)
+        scores = [links[(old_id, a)].score for a in parts]
+        if len(parts) >= 2:
+            evidence = "; ".join(f"{a}: {links[(old_id, a)].evidence}" for a in parts)
+            result[old_id] = Correspondence(
+                old_id, tuple(parts), ("split",), round(min(scores), 3), evidence
+            )
+        else:
+            new_id = parts[0]
+            changes = []
+            if fold_text(old[old_id].name) != fold_text(new[new_id].name):
+                changes.append("renamed")
+            if old[old_id].parent != new[new_id].parent:
+                changes.append("moved")
+            evidence = f"new id {new_id}; {links[(old_id, new_id)].evidence}"
+            result[old_id] = Correspondence(
+                old_id, (new_id,), tuple(changes) or ("renamed",), round(scores[0], 3), evidence
+            )
+
+    # Merges into a kept node: a removed node whose words (or products) live on in a node
+    # present in both trees, preferably one whose keywords grew.
+    kept = [n.id for n in new if n.id in old]
+    grown = {k for k in kept if matcher.terms(new, k) > matcher.terms(old, k)}
+    kept_targets: dict[str, list[str]] = defaultdict(list)
+    for old_id in removed:
+        if old_id in result:
+            continue
+        best: tuple[float, str, _Link] | None = None
+        for new_id in kept:
+            cover = matcher.cover(old_id, new_id)
+            needed = MERGE_COVER * (0.5 if new_id in grown else 1.0)
+            if cover.score >= needed and (best is None or cover.score > best[0]):
+                best = (cover.score, new_id, cover)
+        if best is None:
+            continue
+        score, new_id, cover = best
+        kept_targets[new_id].append(old_id)
+        grew = "; its keywords grew" if new_id in grown else ""
+        result[old_id] = Correspondence(
+            old_id,
+            (new_id,),
+            ("merged",),
+            round(min(1.0, score), 3),
+            f"into kept node {new_id}: {cover.evidence}{grew}",
+        )
+
+    # Nodes present in both trees.
+    for node in old:
+        if node.id not in new:
+            continue
+        after = new[node.id]
+        changes = []
+        notes = []
+        if node.id in kept_targets:
+            changes.append("merged")
+            notes.append(f"takes in {', '.join(kept_targets[node.id])}")
+        if node.name != after.name:
+            changes.append("renamed")
+            notes.append(f"name '{node.name}' -> '{after.name}'")
+        if node.parent != after.parent:
+            changes.append("moved")
+            notes.append(f"parent {node.parent or '-'} -> {after.parent or '-'}")
+        result[node.id] = Correspondence(
+            node.id,
+            (node.id,),
+            tuple(changes) or ("unchanged",),
+            1.0,
+            "same id" + (f"; {'; '.join(notes)}" if notes else ""),
+        )
+
+    # Removed: products go to the nearest ancestor that survives.
+    for old_id in removed:
+        if old_id in result:
+            continue
+        home = next((a.id for a in reversed(old.ancestors(old_id)) if a.id in new), None)
+        result[old_id] = Correspondence(
+            old_id,
+            (home,) if home else (),
+            ("removed",),
+            1.0,
+            "no similar new node" + (f"; products go to ancestor {home}" if home else ""),
+        )
+
+    correspondences = [result[n.id] for n in old]
+    for new_id in added:
+        if new_id not in explained_new:
+            correspondences.append(
+                Correspondence(None, (new_id,), ("added",), 1.0, "no similar old node")
+            )
+    return Crosswalk(old.version, new.version, correspondences)
+
+
+def label_equality_crosswalk(old: CategoryTree, new: CategoryTree) -> Crosswalk:
+    """The baseline: nodes correspond only where their names are equal (case and accents aside).
+
+    Same id preferred among equal names; several old nodes on one new node count as merged; an
+    old node without an equal name is removed, a new one added. Renames and splits are never
+    found.
+    """
+    by_name: dict[str, list[str]] = defaultdict(list)
+    for node in new:
+        by_name[fold_text(node.name)].append(node.id)
+    target: dict[str, str] = {}
+    for node in old:
+        same = by_name.get(fold_text(node.name), [])
+        if same:
+            target[node.id] = node.id if node.id in same else same[0]
+    arrivals = Counter(target.values())
+    correspondences = []
+    for node in old:
+        new_id = target.get(node.id)
+        if new_id is None:
+            correspondences.append(Correspondence(node.id, (), ("removed",), 1.0, "no equal name"))
+            continue
+        changes = []
+        if arrivals[new_id] >= 2:
+            changes.append("merged")
+        if node.parent != new[new_id].parent:
+            changes.append("moved")
+        correspondences.append(
+            Correspondence(node.id, (new_id,), tuple(changes) or ("unchanged",), 1.0, "equal name")
+        )
+    reached = set(target.values())
+    for node in new:
+        if node.id not in reached:
+            correspondences.append(
+                Correspondence(None, (node.id,), ("added",), 1.0, "no equal name")
+            )
+    return Crosswalk(old.version, new.version, correspondences)
+
+
+# -- evaluation -----------------------------------------------------------------------------
+
+_Item = tuple[str, str | None, frozenset[str]]  # change type, old id, new ids
+
+
+def _items_of(corr: Correspondence) -> list[_Item]:
+    items: list[_Item] = []
+    for kind in corr.changes:
+        if kind == "unchanged":
+            continue
+        if kind == "removed":
+            items.append((kind, corr.old_id, frozenset()))  # where products go is not judged
+        elif kind == "added":
+            items.append((kind, None, frozenset(corr.new_ids)))
+        else:
+            items.append((kind, corr.old_id, frozenset(corr.new_ids)))
+    return items
+
+
+def reference_items(changes: Sequence[Change]) -> list[_Item]:
+    """Turn a change log into the reference correspondences the diff should find."""
+    items: list[_Item] = []
+    for change in changes:
+        if change.kind == "rename":
+            items.append(("renamed", change.node_id, frozenset({change.node_id})))
+        elif change.kind == "move":
+            items.append(("moved", change.node_id, frozenset({change.node_id})))
+        elif change.kind == "split":
+            items.append(("split", change.node_id, frozenset(change.targets)))
+        elif change.kind == "merge":
+            for source in change.sources:
+                items.append(("merged", source, frozenset({change.node_id})))
+        elif change.kind == "add":
+            items.append(("added", None, frozenset({change.node_id})))
+        elif change.kind == "remove":
+            items.append(("removed", change.node_id, frozenset()))
+    return items
+
+
+def _prf(found: set[_Item], reference: set[_Item]) -> dict[str, float | int]:
+    right = len(found & reference)
+    precision = right / len(found) if found else 1.0
+    recall = right / len(reference) if reference else 1.0
+    f1 = 2 * precision * recall / (precision + recall) if precision + recall else 0.0
+    return {
+        "found": len(found),
+        "reference": len(reference),
+        "correct": right,
+        "precision": round(precision, 4),
+        "recall": round(recall, 4),
+        "f1": round(f1, 4),
+    }
+
+
+def score_against_changelog(
+    crosswalk: Crosswalk,
+    changes: Sequence[Change],
+    *,
+    old: CategoryTree | None = None,
+    new: CategoryTree | None = None,
+) -> dict[str, Any]:
+    """Score a crosswalk against a change log taken as the reference alignment.
+
+    A correspondence counts as correct when its change type, old id and new ids all agree with
+    the log (for a removal, only the old id). Precision, recall and F1 are given per change
+    type and over all correspondences, as ontology alignment evaluations report them. With both
+    trees given, recall is also given on the non-trivial correspondences: those whose old and
+    new names differ.
+
+    Args:
+        crosswalk: what a diff found.
+        changes: the change log.
+        old: the old tree (for the non-trivial recall).
+        new: the new tree (for the non-trivial recall).
+
+    Returns:
+        ``{"per_type": {type: {found, reference, correct, precision, recall, f1}},
+        "overall": {...}, "non_trivial": {...} or None}``.
+    """
+    found = {item for corr in crosswalk.correspondences for item in _items_of(corr)}
+    reference = set(reference_items(changes))
+    per_type = {
+        kind: _prf({i for i in found if i[0] == kind}, {i for i in reference if i[0] == kind})
+        for kind in CHANGE_TYPES
+        if kind != "unchanged"
+    }
+    non_trivial: dict[str, float | int] | None = None
+    if old is not None and new is not None:
+
+        def differs(item: _Item) -> bool:
+            kind, old_id, new_ids = item
+            if old_id is None or not new_ids or old_id not in old:
+                return False
+            before = fold_text(old[old_id].name)
+            return any(n in new and fold_text(new[n].name) != before for n in new_ids)
+
+        hard = {i for i in reference if differs(i)}
+        right = len(hard & found)
+        non_trivial = {
+            "reference": len(hard),
+            "correct": right,
+            "recall": round(right / len(hard), 4) if hard else 1.0,
+        }
+    return {"per_type": per_type, "overall": _prf(found, reference), "non_trivial": non_trivial}
+
+
+# -- the crosswalk file ---------------------------------------------------------------------
+
+
+def save_crosswalk(crosswalk: Crosswalk, path: str | Path) -> None:
+    """Write a crosswalk as tab-separated text with a header comment.
+
+    The file starts with ``@crosswalk OLD -> NEW``, comment lines (``#``) describing the
+    columns, then a header row and one row per correspondence: old_id (``-`` for an added
+    node), new_ids (comma-separated, ``-`` for none), change (types joined by ``+``),
+    confidence (0..1) and evidence.
+    """
+    with Path(path).open("w", encoding="utf-8", newline="") as handle:
+        handle.write(f"{_HEADER} {crosswalk.old_version} -> {crosswalk.new_version}\n")
+        handle.write("# catmap crosswalk: where each old node's products go in the new tree.\n")
+        handle.write("# old_id '-' = a node added in the new tree; new_ids '-' = nowhere;\n")
+        handle.write("# change: " + ", ".join(CHANGE_TYPES) + " (joined by '+');")
+        handle.write(" confidence 0..1.\n")
+        writer = csv.writer(handle, delimiter="\t", lineterminator="\n")
+        writer.writerow(_COLUMNS)
+        for corr in crosswalk.correspondences:
+            writer.writerow(
+                [
+                    corr.old_id or "-",
+                    ",".join(corr.new_ids) or "-",
+                    "+".join(corr.changes),
+                    f"{corr.confidence:.3f}",
+                    corr.evidence.replace("\t", " ").replace("\n", " "),
+                ]
+            )
+
+
+def load_crosswalk(path: str | Path) -> Crosswalk:
+    """Read a crosswalk written by :func:`save_crosswalk` (or by hand in the same format).
+
+    Raises:
+        InputError: the file is missing or a row is malformed; the error names the line.
+    """
+    shown = str(path)
+    try:
+        text = Path(path).read_text(encoding="utf-8-sig")
+    except FileNotFoundError:
+        raise InputError("crosswalk file not found", path=shown) from None
+    except (OSError, UnicodeDecodeError) as error:
+        raise InputError(f"cannot read the crosswalk: {error}", path=shown) from None
+    hint = "see catmap.treediff.save_crosswalk for the format"
+
+    def fail(message: str, line: int) -> InputError:
+        return InputError(message, path=shown, line=line, hint=hint)
+
+    versions: tuple[str, str] | None = None
+    header_seen = False
+    correspondences: list[Correspondence] = []
+    for number, raw in enumerate(text.splitlines(), start=1):
+        if not raw.strip() or raw.startswith("#"):
+            continue
+        if raw.startswith("@"):
+            keyword, _, value = raw.strip().partition(" ")
+            left, arrow, right = (p.strip() for p in value.partition("->"))
+            if keyword != _HEADER or not arrow or not left or not right:
+                raise fail(f"bad header '{raw.strip()}' (expected '{_HEADER} OLD -> NEW')", number)
+            versions = (left, right)
+            continue
+        cells = raw.split("\t")
+        if not header_seen:
+            if tuple(c.strip() for c in cells) != _COLUMNS:
+                raise fail(f"expected the header row {' '.join(_COLUMNS)}", number)
+            header_seen = True
+            continue
+        if len(cells) != len(_COLUMNS):
+            raise fail(f"expected {len(_COLUMNS)} tab-separated cells, found {len(cells)}", number)
+        old_id, new_ids, change, confidence, evidence = (c.strip() for c in cells)
+        kinds = tuple(change.split("+"))
+        unknown = [k for k in kinds if k not in CHANGE_TYPES]
+        if unknown:
+            raise fail(f"unknown change '{unknown[0]}' (one of {', '.join(CHANGE_TYPES)})", number)
+        try:
+            value = float(confidence)
+        except ValueError:
+            raise fail(f"confidence '{confidence}' is not a number", number) from None
+        if not 0.0 <= value <= 1.0:
+            raise fail(f"confidence {value} is outside 0..1", number)
+        ids = () if new_ids == "-" else tuple(p.strip() for p in new_ids.split(","))
+        correspondences.append(
+            Correspondence(None if old_id == "-" else old_id, ids, kinds, value, evidence)
+        )
+    if versions is None:
+        raise fail(f"missing header '{_HEADER} OLD -> NEW'", 1)
+    return Crosswalk(versions[0], versions[1], correspondences)
