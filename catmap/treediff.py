@@ -630,14 +630,14 @@ def load_crosswalk(path: str | Path) -> Crosswalk:
         if unknown:
             raise fail(f"unknown change '{unknown[0]}' (one of {', '.join(CHANGE_TYPES)})", number)
         try:
-            value = float(confidence)
+            certainty = float(confidence)
         except ValueError:
             raise fail(f"confidence '{confidence}' is not a number", number) from None
-        if not 0.0 <= value <= 1.0:
-            raise fail(f"confidence {value} is outside 0..1", number)
+        if not 0.0 <= certainty <= 1.0:
+            raise fail(f"confidence {certainty} is outside 0..1", number)
         ids = () if new_ids == "-" else tuple(p.strip() for p in new_ids.split(","))
         correspondences.append(
-            Correspondence(None if old_id == "-" else old_id, ids, kinds, value, evidence)
+            Correspondence(None if old_id == "-" else old_id, ids, kinds, certainty, evidence)
         )
     if versions is None:
         raise fail(f"missing header '{_HEADER} OLD -> NEW'", 1)
