@@ -1,0 +1,189 @@
+"""A tiny project store of invented products, for trying the review screen and for its tests.
+
+Everything goes through the store's public API (:meth:`~catmap.store.Store.add_feed`,
+:meth:`~catmap.store.Store.start_run`, :meth:`~catmap.store.Store.save_mapped`), on nodes of the
+shared tree version 1. Brands and products are invented.
+
+Queue order (priority, highest first): the six boots of one retailer category (a strong group),
+the red wine, the T-shirt, the jumper with a brand conflict, the kids' hoodie with an audience
+conflict, then the audit sample.
+"""
+
+from __future__ import annotations
+
+from decimal import Decimal
+from pathlib import Path
+
+from catmap.records import Alternative, Attributes, Mapping, Product
+from catmap.store import MappedRow, Store
+
+SAMPLE_FEED = "shop-sample"
+
+# Node ids of the shared tree, version 1.
+ANKLE_BOOTS = "1511"
+CHELSEA_BOOTS = "1512"
+RUNNING_SHOES = "1533"
+T_SHIRTS = "1011"
+LONG_SLEEVE_TOPS = "1016"
+TANK_TOPS = "1013"
+JUMPERS = "1051"
+HOODIES = "1053"
+SWEATSHIRTS = "1054"
+RED_WINE = "8211"
+
+BOOT_GROUP = "Shoes > Boots"
+
+
+def _row(
+    product_id: str,
+    title: str,
+    *,
+    path: tuple[str, ...],
+    node: str,
+    confidence: float,
+    alternatives: tuple[tuple[str, float], ...] = (),
+    brand: str = "Quillmere",
+    price: str = "49.90",
+    status: str = "queued",
+    priority: float = 0.0,
+    reasons: tuple[str, ...] = (),
+    attributes: Attributes | None = None,
+    description: str = "",
+) -> MappedRow:
+    product = Product(
+        product_id=product_id,
+        title=title,
+        description=description or f"{title}. Invented product for the sample store.",
+        brand=brand,
+        category_path=path,
+        price=Decimal(price),
+        currency="EUR",
+    )
+    mapping = Mapping(
+        node_id=node,
+        confidence=confidence,
+        method="model",
+        alternatives=tuple(Alternative(n, c) for n, c in alternatives),
+    )
+    return MappedRow(
+        product=product,
+        mapping=mapping,
+        attributes=attributes or Attributes(brand=brand, brand_confidence=0.9),
+        status=status,
+        group_key=" > ".join(path),
+        priority=priority,
+        reasons=reasons,
+    )
+
+
+def sample_rows() -> list[MappedRow]:
+    """Return the sample products with their mappings and queue placement."""
+    boot_alternatives = ((CHELSEA_BOOTS, 0.22), (RUNNING_SHOES, 0.06), (T_SHIRTS, 0.01))
+    rows = [
+        _row(
+            f"BT-{n:03d}",
+            title,
+            path=("Shoes", "Boots"),
+            node=ANKLE_BOOTS,
+            confidence=0.62 + n / 100,
+            alternatives=boot_alternatives,
+            brand="Ostravel",
+            price="89.00",
+            priority=3.0 - n / 100,
+        )
+        for n, title in enumerate(
+            (
+                "Ostravel suede ankle boot, block heel",
+                "Ostravel leather boot with side zip",
+                "Ostravel lace-up boot, cognac",
+                "Ostravel short boot, black nubuck",
+                "Ostravel heeled bootie, taupe",
+                "Ostravel lined winter boot",
+            ),
+            start=1,
+        )
+    ]
+    rows += [
+        _row(
+            "WN-001",
+            "Valle Serena red blend 2019, 75 cl",
+            path=("Drinks", "Wine"),
+            node=RED_WINE,
+            confidence=0.55,
+            brand="Valle Serena",
+            price="12.50",
+            priority=2.0,
+            attributes=Attributes(brand="Valle Serena", brand_confidence=0.8, restriction="alcohol"),
+        ),
+        _row(
+            "TS-001",
+            "Quillmere organic cotton tee, crew neck",
+            path=("Clothing", "Tops"),
+            node=T_SHIRTS,
+            confidence=0.48,
+            alternatives=((LONG_SLEEVE_TOPS, 0.31), (TANK_TOPS, 0.12), (SWEATSHIRTS, 0.04)),
+            price="19.90",
+            priority=1.5,
+            attributes=Attributes(brand="Quillmere", brand_confidence=0.9, who="unisex",
+                                  age="adult", colour_family="white"),
+        ),
+        _row(
+            "JP-001",
+            "Fennick merino jumper, roll neck",
+            path=("Clothing", "Knitwear"),
+            node=JUMPERS,
+            confidence=0.93,
+            alternatives=((SWEATSHIRTS, 0.04),),
+            brand="Fenwick Loom",
+            price="79.00",
+            priority=1.0,
+            reasons=("brand_conflict",),
+            attributes=Attributes(brand="Fennick", brand_confidence=0.7, who="male", age="adult",
+                                  colour_family="grey"),
+        ),
+        _row(
+            "HD-001",
+            "Brisk Otter girls' zip hoodie, age 8-9",
+            path=("Kids", "Hoodies"),
+            node=HOODIES,
+            confidence=0.9,
+            alternatives=((SWEATSHIRTS, 0.07),),
+            brand="Brisk Otter",
+            price="29.00",
+            priority=0.8,
+            reasons=("audience_conflict",),
+            attributes=Attributes(brand="Brisk Otter", brand_confidence=0.95, who="female",
+                                  age="adult", audience_conflict=True, colour_family="pink"),
+        ),
+        _row(
+            "HD-002",
+            "Quillmere heavyweight hoodie, navy",
+            path=("Clothing", "Hoodies"),
+            node=HOODIES,
+            confidence=0.97,
+            alternatives=((SWEATSHIRTS, 0.02),),
+            price="59.00",
+            status="audit",
+            priority=0.5,
+        ),
+        _row(
+            "TS-002",
+            "Quillmere striped tee, long sleeves",
+            path=("Clothing", "Tops"),
+            node=LONG_SLEEVE_TOPS,
+            confidence=0.98,
+            status="accepted",
+        ),
+    ]
+    return rows
+
+
+def build_sample_store(path: str | Path) -> Store:
+    """Create (or fill again) a store at ``path`` with the sample products; return it open."""
+    store = Store.open(path)
+    feed = store.add_feed(SAMPLE_FEED, source_path=f"{SAMPLE_FEED}.csv")
+    run = store.start_run("onboard", feed=feed)
+    rows = sample_rows()
+    store.save_mapped(feed, run, rows, model_version="sample", tree_version="1")
+    store.finish_run(run, summary={"read": len(rows), "kept": len(rows), "rejected": 0})
+    return store

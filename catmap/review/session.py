@@ -1,0 +1,380 @@
+"""The review screen's logic, kept out of the widgets: one reviewer working through the queue.
+
+:class:`ReviewSession` claims items from the project store, turns the reviewer's keys into
+store calls (one transaction each: :meth:`~catmap.store.Store.decide`,
+:meth:`~catmap.store.Store.accept_group`, :meth:`~catmap.store.Store.undo_last`, ...) and keeps
+the few things only a session knows: the item on screen, attribute corrections typed but not
+yet decided, and the pace of this session.
+
+Attribute corrections (brand, who, age) travel with the reviewer's decision on the item, in the
+same transaction: a correction alone does not close an item whose node still needs judging.
+Everything the store holds comes back from the store after each action, never from screen
+state.
+
+No textual import here: the session can be driven and tested without a terminal.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable
+from dataclasses import dataclass
+from datetime import UTC, datetime, timedelta
+
+from catmap.errors import StoreError, UnknownNode
+from catmap.records import AGE_VALUES, WHO_VALUES
+from catmap.store import (
+    DEFAULT_LEASE_SECONDS,
+    GROUP_REASONS,
+    Decision,
+    ReviewView,
+    Store,
+)
+from catmap.taxonomy import CategoryTree, SearchMatch, load_default_tree
+
+# What each queue reason means, in the words the screen shows.
+REASON_TEXT = {
+    "low_confidence": "low confidence: the model is unsure of the node",
+    "audit_sample": "audit sample: auto-accepted, checked to measure the real error rate",
+    "brand_conflict": "brand conflict: the brand found disagrees with the feed's brand",
+    "audience_conflict": "audience conflict: who / age from the text contradict the node",
+    "remap": "remap: the category tree changed under this product",
+}
+
+# Alternatives offered by number (keys 1..3).
+MAX_ALTERNATIVES = 3
+
+Clock = Callable[[], datetime]
+
+
+def _now() -> datetime:
+    return datetime.now(UTC)
+
+
+@dataclass(frozen=True, slots=True)
+class Pace:
+    """How this session is going.
+
+    Attributes:
+        done: items decided in this session (undone ones not counted).
+        left: items still to review in the queue (open or claimed, any reviewer).
+        per_minute: items decided per minute in this session (None before the first).
+        finish: when the queue would be empty at this pace (None when unknown).
+    """
+
+    done: int
+    left: int
+    per_minute: float | None
+    finish: datetime | None
+
+
+@dataclass(frozen=True, slots=True)
+class Pending:
+    """Attribute corrections typed for the item on screen, saved with the next decision."""
+
+    brand: str | None = None
+    who: str | None = None
+    age: str | None = None
+
+    def any(self) -> bool:
+        """True when at least one correction is waiting."""
+        return self.brand is not None or self.who is not None or self.age is not None
+
+
+class ReviewSession:
+    """One reviewer's pass over the review queue of a project store.
+
+    Args:
+        store: the open project store.
+        reviewer: the reviewer's name (claims and decisions are made in it).
+        feed: only review this feed's items (name or id); None for every feed.
+        tree: the category tree to show paths and search in; None loads the shared tree of
+            the version each mapping was made with.
+        lease_seconds: how long a claim holds without a decision.
+        clock: the current UTC time (tests pass a fake one).
+    """
+
+    def __init__(
+        self,
+        store: Store,
+        reviewer: str,
+        *,
+        feed: int | str | None = None,
+        tree: CategoryTree | None = None,
+        lease_seconds: float = DEFAULT_LEASE_SECONDS,
+        clock: Clock = _now,
+    ) -> None:
+        if not reviewer.strip():
+            raise ValueError("a reviewer name is needed")
+        self.store = store
+        self.reviewer = reviewer
+        self.feed = feed
+        self.lease_seconds = lease_seconds
+        self._tree = tree
+        self._trees: dict[str, CategoryTree] = {}
+        self._clock = clock
+        self.started = clock()
+        self.first_decision_at: datetime | None = None
+        self.done = 0
+        self.current: ReviewView | None = None
+        self.pending = Pending()
+
+    # -- the tree ------------------------------------------------------------------------------
+
+    @property
+    def tree(self) -> CategoryTree:
+        """The category tree of the item on screen (or the one given)."""
+        if self._tree is not None:
+            return self._tree
+        version = "1"
+        if self.current is not None:
+            stored = self.store.mapping(self.current.item.feed_id, self.current.item.product_id)
+            version = stored.tree_version or "1"
+        if version not in self._trees:
+            self._trees[version] = load_default_tree(version)
+        return self._trees[version]
+
+    def path_text(self, node_id: str) -> str:
+        """The full path of a node, or a plain note when the tree does not know it."""
+        if not node_id:
+            return "(no fitting node)"
+        try:
+            return self.tree.path_text(node_id)
+        except UnknownNode:
+            return f"node {node_id} (not in tree version {self.tree.version})"
+
+    def search(self, text: str, *, limit: int = 12) -> list[SearchMatch]:
+        """Fuzzy search of the tree's names and synonyms, in all its languages."""
+        return self.tree.search_matches(text, limit=limit)
+
+    # -- moving through the queue --------------------------------------------------------------
+
+    def next(self) -> ReviewView | None:
+        """Claim the next item (the reviewer's own claimed item first) and show it.
+
+        Returns:
+            The item on screen, or None when the queue has nothing left for this reviewer.
+        """
+        self.pending = Pending()
+        item = self.store.claim_next(
+            self.reviewer, lease_seconds=self.lease_seconds, feed=self.feed
+        )
+        self.current = self.store.review_item(item.id) if item is not None else None
+        return self.current
+
+    def refresh(self) -> ReviewView | None:
+        """Read the item on screen again from the store."""
+        if self.current is not None:
+            self.current = self.store.review_item(self.current.item.id)
+        return self.current
+
+    def _require(self) -> ReviewView:
+        if self.current is None:
+            raise StoreError("no item on screen", hint="the queue is empty")
+        return self.current
+
+    def _counted(self, decisions: int) -> None:
+        if decisions and self.first_decision_at is None:
+            self.first_decision_at = self._clock()
+        self.done += decisions
+
+    # -- deciding ------------------------------------------------------------------------------
+
+    def _decide(self, action: str, node_id: str | None = None) -> Decision:
+        view = self._require()
+        pending = self.pending if action != "skip" else Pending()
+        decision = self.store.decide(
+            view.item.id,
+            self.reviewer,
+            action,
+            node_id=node_id,
+            brand=pending.brand,
+            who=pending.who,
+            age=pending.age,
+        )
+        if action != "skip":
+            self._counted(1)
+        self.next()
+        return decision
+
+    def accept(self) -> Decision:
+        """The suggested node is right (attribute corrections go with it)."""
+        return self._decide("accept")
+
+    def choose(self, node_id: str) -> Decision:
+        """Put the product on ``node_id`` (from an alternative or the tree search).
+
+        Raises:
+            UnknownNode: the node is not in the tree.
+        """
+        self.tree[node_id]  # an unknown node fails here, before anything is written
+        view = self._require()
+        if node_id == view.mapping.node_id:
+            return self._decide("accept")
+        return self._decide("choose", node_id)
+
+    def alternative(self, number: int) -> str | None:
+        """The node id of alternative ``number`` (1-based), None when there is none."""
+        view = self._require()
+        alternatives = view.mapping.alternatives[:MAX_ALTERNATIVES]
+        if 1 <= number <= len(alternatives):
+            return alternatives[number - 1].node_id
+        return None
+
+    def choose_alternative(self, number: int) -> Decision | None:
+        """Choose alternative ``number`` (1-based); None (nothing written) when there is none."""
+        node_id = self.alternative(number)
+        if node_id is None:
+            return None
+        return self.choose(node_id)
+
+    def no_fit(self) -> Decision:
+        """No node of the tree fits this product."""
+        return self._decide("no_fit")
+
+    def skip(self) -> Decision:
+        """Put the item back in the queue (behind the items never skipped) and move on."""
+        return self._decide("skip")
+
+    def undo(self) -> list[int]:
+        """Undo this reviewer's last decision (a group decision as a whole).
+
+        The item on screen is released; a reopened item comes on screen (the others stay
+        claimed by the reviewer and come next).
+
+        Returns:
+            The ids of the items reopened (empty when there was nothing to undo).
+        """
+        reopened = self.store.undo_last(self.reviewer, lease_seconds=self.lease_seconds)
+        if not reopened:
+            return []
+        if self.current is not None and self.current.item.id not in reopened:
+            self.store.release(self.current.item.id, self.reviewer)
+        self.done = max(0, self.done - len(reopened))
+        # The reopened items are claimed by this reviewer, so the next claim returns one of
+        # them (the highest priority: the one that was on screen for a group decision).
+        self.next()
+        return reopened
+
+    # -- the group -----------------------------------------------------------------------------
+
+    def group_targets(self) -> int:
+        """How many items a group decision on the item on screen would settle."""
+        view = self._require()
+        now = self._clock().astimezone(UTC).strftime("%Y-%m-%dT%H:%M:%S.%fZ")
+        count = 0
+        for state in ("open", "claimed"):
+            for item in self.store.items(feed=view.item.feed_id, state=state):
+                if item.group_key != view.item.group_key or item.id == view.item.id:
+                    continue
+                if item.reason not in GROUP_REASONS:
+                    continue
+                if state == "claimed" and item.claimed_by != self.reviewer:
+                    if (item.lease_until or "") >= now:
+                        continue  # another reviewer holds it
+                count += 1
+        return count + 1  # the item on screen is decided too
+
+    def decide_group(self, node_id: str | None = None) -> list[Decision]:
+        """Put every open item of the on-screen item's group on one node.
+
+        The item on screen is decided first, with its attribute corrections (when it has some
+        or when its reason is judged one by one, such as an audit sample); the rest of the
+        group goes in one bulk decision (undone as a whole).
+
+        Args:
+            node_id: the node for the whole group; None means the on-screen suggestion.
+
+        Returns:
+            Every decision written.
+        """
+        view = self._require()
+        target = node_id or view.mapping.node_id
+        self.tree[target]
+        decisions: list[Decision] = []
+        if self.pending.any() or view.item.reason not in GROUP_REASONS:
+            action = "accept" if target == view.mapping.node_id else "choose"
+            decisions.append(
+                self.store.decide(
+                    view.item.id,
+                    self.reviewer,
+                    action,
+                    node_id=target if action == "choose" else None,
+                    brand=self.pending.brand,
+                    who=self.pending.who,
+                    age=self.pending.age,
+                )
+            )
+        decisions.extend(
+            self.store.accept_group(
+                self.reviewer,
+                view.item.feed_id,
+                view.item.group_key,
+                node_id=target,
+                lease_seconds=self.lease_seconds,
+            )
+        )
+        self._counted(len(decisions))
+        self.next()
+        return decisions
+
+    # -- attribute corrections -----------------------------------------------------------------
+
+    def set_brand(self, brand: str) -> None:
+        """Correct the brand (saved with the next decision on this item)."""
+        self._require()
+        self.pending = Pending(brand.strip(), self.pending.who, self.pending.age)
+
+    def cycle_who(self) -> str:
+        """Move who to the next allowed value (saved with the next decision on this item)."""
+        view = self._require()
+        current = self.pending.who if self.pending.who is not None else view.attributes.who
+        value = _next_value(WHO_VALUES, current)
+        self.pending = Pending(self.pending.brand, value, self.pending.age)
+        return value
+
+    def cycle_age(self) -> str:
+        """Move age to the next allowed value (saved with the next decision on this item)."""
+        view = self._require()
+        current = self.pending.age if self.pending.age is not None else view.attributes.age
+        value = _next_value(AGE_VALUES, current)
+        self.pending = Pending(self.pending.brand, self.pending.who, value)
+        return value
+
+    # -- progress and leaving ------------------------------------------------------------------
+
+    def pace(self) -> Pace:
+        """Items done this session, left in the queue, items per minute, projected finish."""
+        summary = self.store.queue_summary(self.feed)
+        left = summary.open + summary.claimed
+        if not self.done or self.first_decision_at is None:
+            return Pace(self.done, left, None, None)
+        # From the session start: reading the first item is part of the work.
+        minutes = max((self._clock() - self.started).total_seconds() / 60.0, 1 / 60)
+        rate = self.done / minutes
+        finish = self._clock() + timedelta(minutes=left / rate) if left else self._clock()
+        return Pace(self.done, left, rate, finish)
+
+    def close(self) -> None:
+        """Leave: give back every claim but keep the on-screen item marked as this reviewer's.
+
+        Other items claimed by the reviewer (e.g. reopened by a group undo) go back to the
+        queue. The on-screen item keeps its mark with a lease that ends now: another reviewer
+        may take it at once, and if nobody does, the next session resumes on it.
+        """
+        current = self.current.item.id if self.current is not None else None
+        for item in self.store.items(feed=self.feed, state="claimed"):
+            if item.claimed_by == self.reviewer and item.id != current:
+                self.store.release(item.id, self.reviewer)
+        if current is not None:
+            item = self.store.item(current)
+            if item.state == "claimed" and item.claimed_by == self.reviewer:
+                # claim_next gives the reviewer's own claim back first: renewing it with a lease
+                # of zero keeps the mark and frees the item for others.
+                self.store.claim_next(self.reviewer, lease_seconds=0, feed=self.feed)
+        self.current = None
+
+
+def _next_value(values: tuple[str, ...], current: str) -> str:
+    if current not in values:
+        return values[0]
+    return values[(values.index(current) + 1) % len(values)]
