@@ -1,8 +1,9 @@
-"""The ``catmap tree`` commands: check the category tree, show a part of it, search it."""
+"""The ``catmap tree`` commands: check the category tree, show a part of it, search it, diff it."""
 
 from __future__ import annotations
 
 from collections.abc import Callable, Mapping
+from pathlib import Path
 from typing import Any, TypeVar
 
 import click
@@ -263,6 +264,96 @@ def search_command(
             language,
         )
     console.print(table)
+
+
+def _tree_from_argument(text: str) -> CategoryTree:
+    """A tree file, or a version number of the shared tree ("1", "2", "v2")."""
+    stripped = text.strip()
+    if stripped.removeprefix("v").isdigit() and not Path(stripped).exists():
+        return load_tree(default_tree_path(stripped))
+    return load_tree(stripped)
+
+
+@tree_group.command("diff")
+@click.argument("old")
+@click.argument("new")
+@click.option(
+    "--out",
+    type=click.Path(dir_okay=False),
+    default=None,
+    metavar="FILE",
+    help="Write the crosswalk (tab-separated: old_id, new_ids, change, confidence, evidence).",
+)
+@json_option
+def diff_command(old: str, new: str, out: str | None, as_json: bool) -> None:
+    """Show what changed between two trees and where each old node's products go.
+
+    OLD and NEW are tree files or versions of the shared tree ("1", "2"). Ids decide first;
+    where ids changed, nodes are matched on their words in all languages and their place.
+    """
+    from catmap.treediff import diff_trees, save_crosswalk
+
+    old_tree, new_tree = _tree_from_argument(old), _tree_from_argument(new)
+    crosswalk = diff_trees(old_tree, new_tree)
+    if out is not None:
+        save_crosswalk(crosswalk, out)
+
+    def paths(tree: CategoryTree, ids: tuple[str, ...] | list[str]) -> list[str]:
+        return [tree.path_text(i) for i in ids if i in tree]
+
+    rows: list[dict[str, Any]] = [
+        {
+            "old_id": c.old_id,
+            "new_ids": list(c.new_ids),
+            "change": "+".join(c.changes),
+            "confidence": c.confidence,
+            "old_path": old_tree.path_text(c.old_id) if c.old_id else None,
+            "new_paths": paths(new_tree, c.new_ids),
+            "evidence": c.evidence,
+        }
+        for c in crosswalk.changed()
+    ]
+    if as_json:
+        echo_json(
+            {
+                "old": {"path": old_tree.path, "version": old_tree.version},
+                "new": {"path": new_tree.path, "version": new_tree.version},
+                "counts": crosswalk.counts(),
+                "changes": rows,
+                "crosswalk_file": out,
+            }
+        )
+        return
+    _say(f"Old tree: {old_tree.path} (version {old_tree.version}, {len(old_tree)} nodes)")
+    _say(f"New tree: {new_tree.path} (version {new_tree.version}, {len(new_tree)} nodes)")
+    counts = Table(title="Changes per type", title_justify="left")
+    counts.add_column("Change")
+    counts.add_column("Nodes", justify="right")
+    for kind, count in crosswalk.counts().items():
+        counts.add_row(kind, str(count))
+    console.print(counts)
+    if rows:
+        table = Table(title="Changes", title_justify="left")
+        table.add_column("Change")
+        table.add_column("Old")
+        table.add_column("New")
+        table.add_column("Conf.", justify="right")
+        for row in rows:
+            old_text = f"{row['old_path']} [{row['old_id']}]" if row["old_id"] else "-"
+            new_text = "\n".join(
+                f"{p} [{i}]" for p, i in zip(row["new_paths"], row["new_ids"], strict=False)
+            )
+            table.add_row(
+                str(row["change"]),
+                Text(old_text),
+                Text(new_text or "-"),
+                f"{row['confidence']:.2f}",
+            )
+        console.print(table)
+    else:
+        _say("No changes.")
+    if out is not None:
+        _say(f"Crosswalk written to {out}")
 
 
 def register(main: click.Group) -> None:
