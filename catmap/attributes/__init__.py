@@ -167,6 +167,16 @@ class AttributeExtractor:
         folded_path = fold(" / ".join(product.category_path)) if product.category_path else ""
         if not folded_description and product.description:
             folded_description = fold(product.description)
+        if folded_description and match.brand:
+            # A brand named like "Herrenhof" or "Niña ..." must not speak for the audience.
+            folded_description = blank_spans(
+                folded_description,
+                [
+                    (s, e)
+                    for s, e, _k, name in self.brands.find_in_text(folded_description)
+                    if name == match.brand
+                ],
+            )
         title_without_brand = blank_spans(folded_title, spans)
         audience = extract_audience_folded(
             gender_text=product.gender_text,

@@ -50,6 +50,16 @@ FUZZY_THRESHOLD = 80.0
 # How far the length of an alias may differ from the query to be compared at all.
 _LENGTH_WINDOW = 2
 
+# Brand-field values that mean "no brand" (four languages); common practice, no source.
+NO_BRAND_VALUES = frozenset(
+    {
+        "", "na", "n a", "none", "no brand", "nobrand", "unbranded", "generic", "unknown",
+        "not applicable", "other", "various", "sans marque", "aucune", "aucune marque",
+        "generique", "ohne marke", "keine marke", "markenlos", "no name", "noname",
+        "sin marca", "generico", "ninguna", "varios", "0",
+    }
+)
+
 FIELD_EXACT_CONFIDENCE = 0.98
 TITLE_EXACT_CONFIDENCE = 0.9
 UNKNOWN_FIELD_CONFIDENCE = 0.5
@@ -348,7 +358,11 @@ class BrandFinder:
             return cached if cached.evidence else None
         key = normalize_brand(value)
         match: BrandMatch
-        if not key or key in self.retailer_keys or compact_key(key) in self.retailer_keys:
+        if (
+            key in NO_BRAND_VALUES
+            or key in self.retailer_keys
+            or compact_key(key) in self.retailer_keys
+        ):
             match = BrandMatch()
         else:
             exact = self.dictionary.lookup_exact(value)
