@@ -113,7 +113,9 @@ def sample_rows() -> list[MappedRow]:
             brand="Valle Serena",
             price="12.50",
             priority=2.0,
-            attributes=Attributes(brand="Valle Serena", brand_confidence=0.8, restriction="alcohol"),
+            attributes=Attributes(
+                brand="Valle Serena", brand_confidence=0.8, restriction="alcohol"
+            ),
         ),
         _row(
             "TS-001",
@@ -124,8 +126,13 @@ def sample_rows() -> list[MappedRow]:
             alternatives=((LONG_SLEEVE_TOPS, 0.31), (TANK_TOPS, 0.12), (SWEATSHIRTS, 0.04)),
             price="19.90",
             priority=1.5,
-            attributes=Attributes(brand="Quillmere", brand_confidence=0.9, who="unisex",
-                                  age="adult", colour_family="white"),
+            attributes=Attributes(
+                brand="Quillmere",
+                brand_confidence=0.9,
+                who="unisex",
+                age="adult",
+                colour_family="white",
+            ),
         ),
         _row(
             "JP-001",
@@ -138,8 +145,9 @@ def sample_rows() -> list[MappedRow]:
             price="79.00",
             priority=1.0,
             reasons=("brand_conflict",),
-            attributes=Attributes(brand="Fennick", brand_confidence=0.7, who="male", age="adult",
-                                  colour_family="grey"),
+            attributes=Attributes(
+                brand="Fennick", brand_confidence=0.7, who="male", age="adult", colour_family="grey"
+            ),
         ),
         _row(
             "HD-001",
@@ -152,8 +160,14 @@ def sample_rows() -> list[MappedRow]:
             price="29.00",
             priority=0.8,
             reasons=("audience_conflict",),
-            attributes=Attributes(brand="Brisk Otter", brand_confidence=0.95, who="female",
-                                  age="adult", audience_conflict=True, colour_family="pink"),
+            attributes=Attributes(
+                brand="Brisk Otter",
+                brand_confidence=0.95,
+                who="female",
+                age="adult",
+                audience_conflict=True,
+                colour_family="pink",
+            ),
         ),
         _row(
             "HD-002",

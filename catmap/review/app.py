@@ -1,0 +1,513 @@
+"""The review screen (textual): one product at a time, decided with single keys.
+
+The screen only shows and asks; every action is a call on :class:`ReviewSession`, which writes
+through the store (one transaction each) and reads the item back. Layout, from top to bottom:
+
+- the top line: feed, reviewer, and the pace (done this session, left, per minute, finish);
+- left column: the product (title, brand, price, retailer path, id, why it is queued, a
+  description excerpt) and its attributes (brand, who, age, colour family, restriction);
+- right column: the suggested node (path, confidence as a percentage and a bar), the
+  numbered alternatives, and the retailer category group with its consensus;
+- a message line, then the keys.
+
+Product text is shown as plain text (never read as markup): feeds contain brackets.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable
+from typing import ClassVar
+
+from rich.text import Text
+from textual.app import App, ComposeResult
+from textual.binding import Binding, BindingType
+from textual.containers import Horizontal, Vertical
+from textual.screen import ModalScreen
+from textual.widgets import Footer, Input, OptionList, Static
+from textual.widgets.option_list import Option
+
+from catmap.errors import CatmapError
+from catmap.review.session import MAX_ALTERNATIVES, REASON_TEXT, ReviewSession
+from catmap.store import ReviewView
+
+BAR_WIDTH = 20
+SEARCH_LIMIT = 12
+
+
+def confidence_bar(confidence: float, width: int = BAR_WIDTH) -> str:
+    """A bar of ``width`` cells, filled in proportion to ``confidence`` (0..1)."""
+    filled = round(max(0.0, min(1.0, confidence)) * width)
+    return "█" * filled + "·" * (width - filled)
+
+
+def _restriction_caution() -> str:
+    try:
+        from catmap.attributes import RESTRICTION_CAUTION
+    except ImportError:  # the attributes stage is optional for the screen
+        return (
+            "A restriction flag is an aid, not legal advice: local rules and the advertiser's "
+            "policy decide."
+        )
+    return RESTRICTION_CAUTION
+
+
+class ConfirmScreen(ModalScreen[bool]):
+    """A yes / no question (used before a group decision)."""
+
+    BINDINGS: ClassVar[list[BindingType]] = [
+        Binding("y", "answer(True)", "Yes"),
+        Binding("enter", "answer(True)", "Yes", show=False),
+        Binding("n", "answer(False)", "No"),
+        Binding("escape", "answer(False)", "No", show=False),
+    ]
+
+    def __init__(self, question: str) -> None:
+        super().__init__()
+        self.question = question
+
+    def compose(self) -> ComposeResult:
+        with Vertical(id="dialog"):
+            yield Static(Text(self.question), id="question")
+            yield Static(Text("y / Enter: yes     n / Esc: no"), classes="hint")
+
+    def action_answer(self, answer: bool) -> None:
+        self.dismiss(answer)
+
+
+class BrandScreen(ModalScreen[str | None]):
+    """A one-line input for the corrected brand."""
+
+    BINDINGS: ClassVar[list[BindingType]] = [Binding("escape", "cancel", "Cancel")]
+
+    def __init__(self, brand: str) -> None:
+        super().__init__()
+        self.brand = brand
+
+    def compose(self) -> ComposeResult:
+        with Vertical(id="dialog"):
+            yield Static(Text("Correct brand (Enter saves with your decision, Esc cancels)"))
+            yield Input(value=self.brand, id="brand-input")
+
+    def on_input_submitted(self, event: Input.Submitted) -> None:
+        self.dismiss(event.value)
+
+    def action_cancel(self) -> None:
+        self.dismiss(None)
+
+
+class SearchScreen(ModalScreen[str | None]):
+    """Fuzzy search over the tree's names and synonyms; results update as you type."""
+
+    BINDINGS: ClassVar[list[BindingType]] = [
+        Binding("escape", "cancel", "Cancel"),
+        Binding("down", "move(1)", "Next", priority=True),
+        Binding("up", "move(-1)", "Previous", priority=True),
+    ]
+
+    def __init__(self, session: ReviewSession) -> None:
+        super().__init__()
+        self.session = session
+
+    def compose(self) -> ComposeResult:
+        with Vertical(id="search-dialog"):
+            yield Static(Text("Find a node: type words in any language; ↑↓ move, Enter picks"))
+            yield Input(placeholder="e.g. ankle boot, bottines, Stiefelette", id="search-input")
+            yield OptionList(id="search-results")
+
+    def on_input_changed(self, event: Input.Changed) -> None:
+        results = self.query_one("#search-results", OptionList)
+        results.clear_options()
+        tree = self.session.tree
+        for match in self.session.search(event.value, limit=SEARCH_LIMIT):
+            label = Text(f"{match.score:5.1f}  {tree.path_text(match.node.id)}")
+            if not match.is_name:
+                label.append(f"   ({match.language}: {match.term})", style="dim")
+            results.add_option(Option(label, id=match.node.id))
+        if results.option_count:
+            results.highlighted = 0
+
+    def on_input_submitted(self, event: Input.Submitted) -> None:
+        results = self.query_one("#search-results", OptionList)
+        if results.highlighted is None:
+            return
+        self.dismiss(results.get_option_at_index(results.highlighted).id)
+
+    def on_option_list_option_selected(self, event: OptionList.OptionSelected) -> None:
+        self.dismiss(event.option.id)
+
+    def action_move(self, step: int) -> None:
+        results = self.query_one("#search-results", OptionList)
+        if not results.option_count:
+            return
+        current = results.highlighted if results.highlighted is not None else -1
+        results.highlighted = max(0, min(results.option_count - 1, current + step))
+
+    def action_cancel(self) -> None:
+        self.dismiss(None)
+
+
+class ReviewApp(App[None]):
+    """The review screen on top of a :class:`ReviewSession`.
+
+    Args:
+        session: the session; the app claims its first item when it starts unless one is
+            already on screen.
+    """
+
+    TITLE = "catmap review"
+    CSS = """
+    Screen { layout: vertical; }
+    #topbar { height: 1; background: $primary-darken-2; color: $text; padding: 0 1; }
+    #columns { height: 1fr; }
+    #left, #right { width: 1fr; }
+    .panel { border: round $secondary; padding: 0 1; height: auto; }
+    #product { height: 1fr; }
+    #group { height: 1fr; }
+    #message { height: 2; padding: 0 1; color: $warning; }
+    ConfirmScreen, BrandScreen, SearchScreen { align: center middle; }
+    #dialog { width: 70; height: auto; border: thick $accent; padding: 1 2;
+              background: $surface; }
+    #search-dialog { width: 90; height: 24; border: thick $accent; padding: 0 1;
+                     background: $surface; }
+    #search-results { height: 1fr; }
+    .hint { color: $text-muted; margin-top: 1; }
+    """
+
+    BINDINGS: ClassVar[list[BindingType]] = [
+        Binding("enter", "accept", "Accept", key_display="Enter"),
+        Binding("1", "alternative(1)", "Alternative", key_display="1-3"),
+        Binding("2", "alternative(2)", "Alternative 2", show=False),
+        Binding("3", "alternative(3)", "Alternative 3", show=False),
+        Binding("slash", "search", "Search tree", key_display="/"),
+        Binding("n", "no_fit", "No fit"),
+        Binding("s", "skip", "Skip"),
+        Binding("u", "undo", "Undo"),
+        Binding("g", "group_mode", "Whole group"),
+        Binding("b", "brand", "Brand"),
+        Binding("w", "who", "Who"),
+        Binding("a", "age", "Age"),
+        Binding("escape", "cancel_group", "Cancel group", show=False),
+        Binding("q", "leave", "Quit"),
+    ]
+
+    def __init__(self, session: ReviewSession) -> None:
+        super().__init__()
+        self.session = session
+        self.group_mode = False
+        self.message = ""
+        self._closed = False
+
+    # -- layout --------------------------------------------------------------------------------
+
+    def compose(self) -> ComposeResult:
+        yield Static(id="topbar")
+        with Horizontal(id="columns"):
+            with Vertical(id="left"):
+                yield Static(id="product", classes="panel")
+                yield Static(id="attributes", classes="panel")
+            with Vertical(id="right"):
+                yield Static(id="suggestion", classes="panel")
+                yield Static(id="group", classes="panel")
+        yield Static(id="message")
+        yield Footer()
+
+    def on_mount(self) -> None:
+        for widget_id, title in (
+            ("product", "Product"),
+            ("attributes", "Attributes"),
+            ("suggestion", "Suggested node"),
+            ("group", "Retailer category group"),
+        ):
+            self.query_one(f"#{widget_id}", Static).border_title = title
+        if self.session.current is None:
+            self._run(self.session.next)
+        self.render_item()
+        self.set_interval(15, self._render_topbar)
+
+    # -- drawing -------------------------------------------------------------------------------
+
+    def _render_topbar(self) -> None:
+        session = self.session
+        pace = session.pace()
+        view = session.current
+        feed = view.item.feed_name if view is not None else (str(session.feed or "all feeds"))
+        line = Text(f"catmap review  ·  feed {feed}  ·  reviewer {session.reviewer}")
+        line.append(f"    done {pace.done}  ·  left {pace.left}")
+        if pace.per_minute is not None:
+            line.append(f"  ·  {pace.per_minute:.1f}/min")
+        if pace.finish is not None:
+            line.append(f"  ·  finish ≈ {pace.finish.astimezone().strftime('%H:%M')}")
+        self.query_one("#topbar", Static).update(line)
+
+    def render_item(self) -> None:
+        """Draw the item on screen (or the empty queue) and the message line."""
+        self._render_topbar()
+        view = self.session.current
+        panels = {
+            name: self.query_one(f"#{name}", Static)
+            for name in ("product", "attributes", "suggestion", "group")
+        }
+        message = Text(self.message)
+        if self.group_mode:
+            message = Text(
+                "WHOLE GROUP: your next node decision (Enter, 1-3, /) applies to the group; "
+                "Esc cancels.",
+                style="bold",
+            )
+        self.query_one("#message", Static).update(message)
+        if view is None:
+            panels["product"].update(
+                Text("The review queue is empty: nothing left to review. Press q to leave.")
+            )
+            for name in ("attributes", "suggestion", "group"):
+                panels[name].update("")
+            return
+        panels["product"].update(self._product_text(view))
+        panels["attributes"].update(self._attributes_text(view))
+        panels["suggestion"].update(self._suggestion_text(view))
+        panels["group"].update(self._group_text(view))
+
+    def _product_text(self, view: ReviewView) -> Text:
+        product = view.product
+        text = Text()
+        text.append(product.title + "\n", style="bold")
+        price = f"{product.price} {product.currency or ''}".strip() if product.price else "—"
+        text.append(f"brand    {product.brand or '—'}\n")
+        text.append(f"price    {price}\n")
+        text.append(f"retailer {view.retailer_path or '—'}\n")
+        text.append(f"id       {product.product_id}   feed {view.item.feed_name}\n")
+        reason = REASON_TEXT.get(view.item.reason, view.item.reason)
+        text.append("queued   ", style="bold")
+        text.append(reason + "\n", style="bold yellow")
+        if view.item.skips:
+            text.append(f"skipped {view.item.skips}×\n", style="dim")
+        if view.description_excerpt:
+            text.append("\n" + view.description_excerpt, style="italic")
+        return text
+
+    def _attributes_text(self, view: ReviewView) -> Text:
+        attributes, pending = view.attributes, self.session.pending
+        text = Text()
+
+        def row(label: str, value: str, fixed: str | None) -> None:
+            text.append(f"{label:<12}{value or '—'}")
+            if fixed is not None and fixed != value:
+                text.append(f"  → {fixed or '—'}", style="bold green")
+            text.append("\n")
+
+        brand = attributes.brand
+        if attributes.brand_confidence:
+            brand = f"{brand} ({attributes.brand_confidence:.0%})" if brand else brand
+        row("brand", brand, pending.brand)
+        row("who", attributes.who, pending.who)
+        row("age", attributes.age, pending.age)
+        if attributes.audience_conflict:
+            text.append("            text and node disagree on who / age\n", style="yellow")
+        row("colour", attributes.colour_family, None)
+        row("restriction", attributes.restriction or "none", None)
+        if attributes.restriction:
+            text.append(_restriction_caution() + "\n", style="italic yellow")
+        if pending.any():
+            text.append("corrections are saved with your decision on this item", style="dim")
+        return text
+
+    def _suggestion_text(self, view: ReviewView) -> Text:
+        session = self.session
+        mapping = view.mapping
+        text = Text()
+        text.append(session.path_text(mapping.node_id) + "\n", style="bold")
+        text.append(f"{mapping.confidence:6.1%}  {confidence_bar(mapping.confidence)}")
+        text.append(f"  {mapping.method}\n")
+        if mapping.reason:
+            text.append(mapping.reason + "\n", style="dim")
+        alternatives = mapping.alternatives[:MAX_ALTERNATIVES]
+        if alternatives:
+            text.append("\nalternatives\n", style="underline")
+        for number, alternative in enumerate(alternatives, start=1):
+            text.append(f" {number}  ", style="bold")
+            text.append(
+                f"{alternative.confidence:6.1%}  {session.path_text(alternative.node_id)}\n"
+            )
+        return text
+
+    def _group_text(self, view: ReviewView) -> Text:
+        group = view.group
+        text = Text()
+        text.append((group.key or "(no retailer category)") + "\n", style="bold")
+        products = "product" if group.size == 1 else "products"
+        text.append(f"{group.size} {products}")
+        if group.top_node:
+            text.append(f", {group.top_share:.0%} → {self.session.path_text(group.top_node)}")
+        text.append(f"\n{group.open_items} still to review in this group\n")
+        if group.strong:
+            text.append(
+                "strong consensus: g then Enter settles the group in one step", style="green"
+            )
+        return text
+
+    # -- running actions -----------------------------------------------------------------------
+
+    def _run(self, action: Callable[..., object], *args: object) -> bool:
+        """Call a session action; a store error becomes the message and the next item."""
+        try:
+            action(*args)
+        except CatmapError as error:
+            self.message = f"could not do that: {error}"
+            try:
+                self.session.next()
+            except CatmapError:
+                pass
+            return False
+        return True
+
+    def _node_decision(self, node_id: str | None, label: str) -> None:
+        """Decide the item (or, in group mode, its whole group) on ``node_id`` (None: accept)."""
+        session = self.session
+        view = session.current
+        if view is None:
+            return
+        if not self.group_mode:
+            if node_id is None:
+                done = self._run(session.accept)
+            else:
+                done = self._run(session.choose, node_id)
+            if done:
+                self.message = f"{label}: {view.product.product_id}"
+            self.render_item()
+            return
+        target = node_id or view.mapping.node_id
+        count = session.group_targets()
+        question = (
+            f"Put {count} product{'s' if count != 1 else ''} of group "
+            f"'{view.item.group_key or '(none)'}' on\n{session.path_text(target)}?"
+        )
+
+        def answered(yes: bool | None) -> None:
+            self.group_mode = False
+            if yes:
+                before = session.done
+                if self._run(session.decide_group, target):
+                    self.message = f"group decided: {session.done - before} products"
+            else:
+                self.message = "group decision cancelled"
+            self.render_item()
+
+        self.push_screen(ConfirmScreen(question), answered)
+
+    def action_accept(self) -> None:
+        self._node_decision(None, "accepted")
+
+    def action_alternative(self, number: int) -> None:
+        if self.session.current is None:
+            return
+        node_id = self.session.alternative(number)
+        if node_id is None:
+            self.message = f"there is no alternative {number}"
+            self.render_item()
+            return
+        self._node_decision(node_id, f"alternative {number} chosen")
+
+    def action_search(self) -> None:
+        if self.session.current is None:
+            return
+
+        def picked(node_id: str | None) -> None:
+            if node_id:
+                self._node_decision(node_id, "node chosen")
+            else:
+                self.message = "search cancelled"
+                self.render_item()
+
+        self.push_screen(SearchScreen(self.session), picked)
+
+    def action_no_fit(self) -> None:
+        if self.session.current is None:
+            return
+        if self.group_mode:
+            self.message = "a whole group takes a node: Enter, 1-3 or /"
+            self.render_item()
+            return
+        product_id = self.session.current.product.product_id
+        if self._run(self.session.no_fit):
+            self.message = f"no fitting node: {product_id}"
+        self.render_item()
+
+    def action_skip(self) -> None:
+        if self.session.current is None:
+            return
+        self.group_mode = False
+        product_id = self.session.current.product.product_id
+        if self._run(self.session.skip):
+            self.message = f"skipped {product_id}: it comes back later"
+        self.render_item()
+
+    def action_undo(self) -> None:
+        self.group_mode = False
+        reopened: list[int] = []
+
+        def undo() -> None:
+            reopened.extend(self.session.undo())
+
+        if self._run(undo):
+            self.message = (
+                f"undone: {len(reopened)} item{'s' if len(reopened) != 1 else ''} reopened"
+                if reopened
+                else "nothing to undo"
+            )
+        self.render_item()
+
+    def action_group_mode(self) -> None:
+        if self.session.current is None:
+            return
+        self.group_mode = not self.group_mode
+        self.message = ""
+        self.render_item()
+
+    def action_cancel_group(self) -> None:
+        if self.group_mode:
+            self.group_mode = False
+            self.message = "group mode off"
+            self.render_item()
+
+    def action_brand(self) -> None:
+        view = self.session.current
+        if view is None:
+            return
+        current = self.session.pending.brand
+        if current is None:
+            current = view.attributes.brand or view.product.brand
+
+        def typed(brand: str | None) -> None:
+            if brand is not None:
+                self.session.set_brand(brand)
+                self.message = "brand corrected: saved with your decision"
+            self.render_item()
+
+        self.push_screen(BrandScreen(current), typed)
+
+    def action_who(self) -> None:
+        if self.session.current is None:
+            return
+        self.message = f"who → {self.session.cycle_who()} (saved with your decision)"
+        self.render_item()
+
+    def action_age(self) -> None:
+        if self.session.current is None:
+            return
+        self.message = f"age → {self.session.cycle_age()} (saved with your decision)"
+        self.render_item()
+
+    def action_leave(self) -> None:
+        self._close_session()
+        self.exit()
+
+    async def action_quit(self) -> None:
+        self.action_leave()
+
+    def _close_session(self) -> None:
+        if not self._closed:
+            self._closed = True
+            self.session.close()
+
+    def on_unmount(self) -> None:
+        self._close_session()
