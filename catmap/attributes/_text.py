@@ -14,12 +14,15 @@ from collections.abc import Iterable
 
 import ahocorasick
 
+_DECIMAL = re.compile(r"(?<=\d)[.,](?=\d)")
 _DELETE = re.compile(r"['’`´.]")
 # Removed before Unicode decomposition, which would turn "™" into the letters "TM".
 _MARKS = re.compile(r"[®™©℠]")
 _AND = re.compile(r"\s*[&+]\s*")
 _NON_WORD = re.compile(r"[^0-9a-z]+")
 # Letters NFKD does not decompose into a base letter plus a mark.
+# A trade mark written in letters and glued to the name: "KentonTM", "Priso(R)".
+_GLUED_MARK = re.compile(r"(?<=[a-z])TM\b|\((?:TM|tm|R|r|C|c)\)")
 _SPECIAL = str.maketrans({"ß": "ss", "ø": "o", "æ": "ae", "œ": "oe", "ł": "l", "đ": "d", "ı": "i"})
 
 
@@ -36,6 +39,8 @@ def fold(text: str) -> str:
         >>> fold("Mädchen-Jacke, Bébé's ROSE!")
         'madchen jacke bebes rose'
     """
+    if "TM" in text or "(" in text:
+        text = _GLUED_MARK.sub("", text)
     text = text.lower()
     if not text.isascii():
         text = _MARKS.sub("", text)
@@ -44,6 +49,9 @@ def fold(text: str) -> str:
             c for c in unicodedata.normalize("NFKD", text) if not unicodedata.combining(c)
         )
         text = text.lower()
+    if "." in text or "," in text:
+        # "1.5 m" must not read as "15 m": a decimal point stays inside its number as "d".
+        text = _DECIMAL.sub("d", text)
     text = _DELETE.sub("", text)
     text = _AND.sub(" and ", text)
     return _NON_WORD.sub(" ", text).strip()

@@ -111,17 +111,21 @@ _COLUMN_CODES = {
 # (common practice, no source). Bare numbers 50 and 56 are left out: also men's suit sizes.
 _BABY_HEIGHTS = frozenset({62, 68, 74, 80, 86})
 _KIDS_HEIGHTS = frozenset(range(92, 177, 6))
-_MONTHS = r"(?:months?|mths?|mois|monate?n?|meses|mes|m)"
+_MONTHS = r"(?:months?|mths?|mois|monate?n?|meses|mes)"
 _YEARS = r"(?:ans?|jahren?|anos?|years?\s+old|yrs?|y|j)"
 _SIZE_PATTERNS: tuple[tuple[re.Pattern[str], str], ...] = (
-    (re.compile(rf"\b(\d{{1,2}})\s(?:to\s|a\s|bis\s)?(\d{{1,2}})\s{_MONTHS}\b"), BABY),
-    (re.compile(rf"\b(\d{{1,2}})\s{_MONTHS}\b"), BABY),
+    # "3-6 months", "6-12 mois", "12-18M"
+    (re.compile(rf"\b(\d{{1,2}})\s(?:to\s|a\s|bis\s)?(\d{{1,2}})\s?(?:{_MONTHS}|m)\b"), BABY),
+    # "6 months", "18m"
+    (re.compile(rf"\b(\d{{1,2}})(?:\s{_MONTHS}|m)\b"), BABY),
     (
         re.compile(r"\b(?:age|ages|alter|edad|taille)\s(\d{1,2})(?:\s(?:to\s|a\s)?(\d{1,2}))?\b"),
         KIDS,
     ),
-    (re.compile(rf"\b(\d{{1,2}})(?:\s(?:to\s|a\s|bis\s)?(\d{{1,2}}))?\s{_YEARS}\b"), KIDS),
-    (re.compile(r"\b(\d{2,3})\scm\b"), "height"),
+    (re.compile(rf"\b(\d{{1,2}})(?:\s(?:to\s|a\s|bis\s)?(\d{{1,2}}))?\s?{_YEARS}\b"), KIDS),
+    (re.compile(r"\b(\d{2,3})\s?cm\b"), "height"),
+    # Shoe sizes: EU 16-21 baby, 22-34 kids (common practice, no source).
+    (re.compile(r"\b(?:eu|pointure|gr|grosse|talla|size|taille)\s(\d{2})\b"), "shoe"),
 )
 
 
@@ -270,6 +274,12 @@ def age_from_size(folded: str, *, bare_numbers: bool = False) -> tuple[str, str]
     for pattern, value in _SIZE_PATTERNS:
         for found in pattern.finditer(folded):
             numbers = [int(g) for g in found.groups() if g]
+            if value == "shoe":
+                if 16 <= numbers[0] <= 21:
+                    return BABY, found.group(0)
+                if 22 <= numbers[0] <= 34:
+                    return KIDS, found.group(0)
+                continue
             if value == "height":
                 height = numbers[0]
                 if 50 <= height <= 86:
@@ -357,7 +367,9 @@ def decide_audience(
     age, age_conf = NA, 0.0
     col_age = column.age_value()
     text_age = text.age_value()
-    if size_age and (text_age is None or text_age == ADULT):
+    if size_age and allowed_ages is not None and size_age[0] not in allowed_ages:
+        size_age = None  # a size is weak evidence: "120 cm" on a tie is a length
+    if size_age and text_age is None:
         text_age, text_age_word = size_age
     else:
         text_age_word = text.word_for("age", text_age) if text_age else ""
@@ -440,11 +452,12 @@ def extract_audience_folded(
 ) -> Audience:
     """As :func:`extract_audience`, with title, path and description already folded."""
     column = read_cues(fold(gender_text), column=True) if gender_text else Cues()
-    text = read_cues(f"{folded_title} {folded_path}".strip())
+    folded_size = fold(size) if size else ""
+    text = read_cues(f"{folded_title} {folded_path} {folded_size}".strip())
     if not text.who and not text.age and folded_description:
         described = read_cues(folded_description)
         text = Cues(described.who, described.age, text.weak_who + described.weak_who)
-    size_age = age_from_size(fold(size), bare_numbers=True) if size else None
+    size_age = age_from_size(folded_size, bare_numbers=True) if folded_size else None
     if size_age is None:
         size_age = age_from_size(folded_title)
     return decide_audience(
