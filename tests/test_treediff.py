@@ -1,0 +1,197 @@
+"""Tests of catmap.treediff: one small hand-made pair of trees per change type."""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from pathlib import Path
+
+import pytest
+
+from catmap.changelog import Change
+from catmap.errors import InputError
+from catmap.taxonomy import CategoryTree, load_tree
+from catmap.treediff import (
+    Correspondence,
+    Crosswalk,
+    diff_trees,
+    label_equality_crosswalk,
+    load_crosswalk,
+    save_crosswalk,
+    score_against_changelog,
+)
+
+DATA = Path(__file__).parent / "data" / "treediff"
+
+
+def _old() -> CategoryTree:
+    return load_tree(DATA / "old.txt")
+
+
+def _changed(crosswalk: Crosswalk) -> list[tuple[str | None, tuple[str, ...], tuple[str, ...]]]:
+    return [(c.old_id, c.new_ids, c.changes) for c in crosswalk.changed()]
+
+
+# Expected changes written by hand from each file's header comment.
+@pytest.mark.parametrize(
+    ("name", "expected"),
+    [
+        ("renamed.txt", [("120", ("120",), ("renamed",))]),
+        ("moved.txt", [("122", ("122",), ("moved",))]),
+        ("split.txt", [("211", ("214", "215"), ("split",))]),
+        (
+            "merged_kept.txt",
+            [("123", ("123",), ("merged",)), ("124", ("123",), ("merged",))],
+        ),
+        (
+            "merged_new.txt",
+            [("123", ("125",), ("merged",)), ("124", ("125",), ("merged",))],
+        ),
+        ("added.txt", [(None, ("216",), ("added",))]),
+        ("removed.txt", [("213", ("210",), ("removed",))]),
+        ("rekeyed.txt", [("112", ("114",), ("renamed",))]),
+    ],
+)
+def test_each_change_type_is_found(
+    name: str, expected: list[tuple[str | None, tuple[str, ...], tuple[str, ...]]]
+) -> None:
+    crosswalk = diff_trees(_old(), load_tree(DATA / name))
+    assert _changed(crosswalk) == expected
+
+
+def test_identical_trees_have_no_changes() -> None:
+    crosswalk = diff_trees(_old(), _old())
+    assert crosswalk.changed() == []
+    assert crosswalk.counts()["unchanged"] == 15
+
+
+def test_every_old_node_has_one_correspondence() -> None:
+    old = _old()
+    crosswalk = diff_trees(old, load_tree(DATA / "split.txt"))
+    assert [c.old_id for c in crosswalk.correspondences if c.old_id] == [n.id for n in old]
+
+
+def test_rekeyed_node_found_by_words_has_evidence() -> None:
+    crosswalk = diff_trees(_old(), load_tree(DATA / "rekeyed.txt"))
+    (corr,) = crosswalk.changed()
+    assert "new id 114" in corr.evidence
+    assert 0.5 <= corr.confidence <= 1.0
+
+
+def test_far_apart_name_alone_does_not_link(tmp_path: Path) -> None:
+    # "Snow boots" retired under Boots; a "Snow boots" with other words added under Audio:
+    # the same name in another department is not the same node.
+    text = (DATA / "old.txt").read_text(encoding="utf-8")
+    text = text.replace(
+        "113 | 110 | Snow boots | . | - | en: snow boots; winter boots | fr: bottes de neige"
+        " | de: Schneestiefel | es: botas de nieve\n",
+        "",
+    ).replace("@tree-version 1", "@tree-version 2")
+    text += "217 | 210 | Snow boots | . | - | en: x | fr: y | de: z | es: w\n"
+    path = tmp_path / "far.txt"
+    path.write_text(text, encoding="utf-8")
+    changes = _changed(diff_trees(_old(), load_tree(path)))
+    assert changes == [("113", ("110",), ("removed",)), (None, ("217",), ("added",))]
+
+
+class _LookupScorer:
+    """Maps each product text to a fixed node: stands in for a trained classifier."""
+
+    def __init__(self, table: dict[str, str]) -> None:
+        self.table = table
+
+    def predict_nodes(self, texts: Sequence[str], tree: CategoryTree) -> list[str | None]:
+        return [self.table.get(t) if self.table.get(t) in tree else None for t in texts]
+
+
+def test_products_find_a_rekeyed_node_without_shared_words() -> None:
+    old, new = _old(), load_tree(DATA / "rekeyed_new_words.txt")
+    assert _changed(diff_trees(old, new)) == [
+        ("213", ("210",), ("removed",)),
+        (None, ("220",), ("added",)),
+    ]
+    products = [("tape deck one", "213"), ("tape deck two", "213"), ("red radio", "212")]
+    scorer = _LookupScorer({"tape deck one": "220", "tape deck two": "220", "red radio": "212"})
+    crosswalk = diff_trees(old, new, products=products, scorer=scorer)
+    (corr,) = crosswalk.changed()
+    assert (corr.old_id, corr.new_ids, corr.changes) == ("213", ("220",), ("renamed",))
+    assert "products: jaccard 1.00" in corr.evidence
+
+
+def test_products_without_scorer_is_an_error() -> None:
+    with pytest.raises(ValueError, match="scorer"):
+        diff_trees(_old(), _old(), products=[("a", "111")])
+
+
+def test_label_equality_baseline_misses_renames() -> None:
+    crosswalk = label_equality_crosswalk(_old(), load_tree(DATA / "renamed.txt"))
+    assert _changed(crosswalk) == [("120", (), ("removed",)), (None, ("120",), ("added",))]
+
+
+def test_crosswalk_round_trip(tmp_path: Path) -> None:
+    crosswalk = diff_trees(_old(), load_tree(DATA / "split.txt"))
+    path = tmp_path / "crosswalk.tsv"
+    save_crosswalk(crosswalk, path)
+    assert path.read_text(encoding="utf-8").startswith("@crosswalk 1 -> 2\n")
+    again = load_crosswalk(path)
+    assert again.old_version == "1" and again.new_version == "2"
+    assert [(c.old_id, c.new_ids, c.changes) for c in again.correspondences] == [
+        (c.old_id, c.new_ids, c.changes) for c in crosswalk.correspondences
+    ]
+    assert again.new_ids_for("211") == ("214", "215")
+
+
+@pytest.mark.parametrize(
+    ("body", "message"),
+    [
+        (
+            "old_id\tnew_ids\tchange\tconfidence\tevidence\n1\t1\tunchanged\t1.0\tx\n",
+            "missing header",
+        ),
+        ("@crosswalk 1 -> 2\n1\t1\tunchanged\t1.0\tx\n", "expected the header row"),
+        (
+            "@crosswalk 1 -> 2\nold_id\tnew_ids\tchange\tconfidence\tevidence\n1\t1\tgone\t1\tx\n",
+            "unknown change 'gone'",
+        ),
+        (
+            "@crosswalk 1 -> 2\nold_id\tnew_ids\tchange\tconfidence\tevidence\n1\t1\tmoved\t2\tx\n",
+            "outside 0..1",
+        ),
+        (
+            "@crosswalk 1 -> 2\nold_id\tnew_ids\tchange\tconfidence\tevidence\n1\t1\tmoved\n",
+            "expected 5 tab-separated cells",
+        ),
+    ],
+)
+def test_bad_crosswalk_files(tmp_path: Path, body: str, message: str) -> None:
+    path = tmp_path / "bad.tsv"
+    path.write_text(body, encoding="utf-8")
+    with pytest.raises(InputError, match=message):
+        load_crosswalk(path)
+
+
+def test_score_against_changelog_worked_example() -> None:
+    # Reference: rename 1, move 2, split 3 -> 4, 5. Found: rename 1 (right), move 9 (wrong),
+    # split 3 -> 4 only (wrong). By hand: 1 of 3 found right, 1 of 3 reference items found:
+    # precision 1/3, recall 1/3, F1 1/3.
+    changes = [
+        Change("rename", "1", old="A", new="B"),
+        Change("move", "2", old="7", new="8"),
+        Change("split", "3", sources=("3",), targets=("4", "5")),
+    ]
+    crosswalk = Crosswalk(
+        "1",
+        "2",
+        [
+            Correspondence("1", ("1",), ("renamed",), 1.0),
+            Correspondence("9", ("9",), ("moved",), 1.0),
+            Correspondence("3", ("4",), ("renamed",), 0.7),
+            Correspondence("6", ("6",), ("unchanged",), 1.0),
+        ],
+    )
+    scores = score_against_changelog(crosswalk, changes)
+    assert scores["overall"]["precision"] == pytest.approx(1 / 3, abs=1e-4)
+    assert scores["overall"]["recall"] == pytest.approx(1 / 3, abs=1e-4)
+    assert scores["per_type"]["renamed"]["precision"] == 0.5
+    assert scores["per_type"]["renamed"]["recall"] == 1.0
+    assert scores["per_type"]["split"]["recall"] == 0.0
+    assert scores["non_trivial"] is None
