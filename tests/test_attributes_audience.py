@@ -1,0 +1,180 @@
+"""Tests for catmap.attributes.audience: who and age from column, text, sizes and the node."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import pytest
+from hypothesis import given
+from hypothesis import strategies as st
+
+from catmap.attributes import AttributeExtractor, BrandDictionary, extract_audience
+from catmap.records import AGE_VALUES, WHO_VALUES, Product
+from catmap.taxonomy import CategoryTree, load_tree
+
+TREE = """\
+@tree-version 1
+1000 | - | Apparel | who=female,male,unisex age=adult,kids,baby | - | en: clothing | fr: vêtements | de: Kleidung | es: ropa
+1010 | 1000 | Dresses | who=female | - | en: dresses | fr: robes | de: Kleider | es: vestidos
+1011 | 1010 | Maxi dresses | . | - | en: maxi dress | fr: robe longue | de: Maxikleid | es: vestido largo
+1020 | 1000 | Trousers | . | - | en: trousers | fr: pantalons | de: Hosen | es: pantalones
+1021 | 1020 | Jeans | . | - | en: jeans | fr: jean | de: Jeans | es: vaqueros
+1030 | 1000 | Ties | who=male,unisex age=adult | - | en: ties | fr: cravates | de: Krawatten | es: corbatas
+1031 | 1030 | Neck ties | . | - | en: neck tie | fr: cravate | de: Krawatte | es: corbata
+2000 | - | Home and games | none | - | en: home | fr: maison | de: Haus | es: casa
+2010 | 2000 | Games | . | - | en: games | fr: jeux | de: Spiele | es: juegos
+2011 | 2010 | Board games | . | - | en: board game | fr: jeu de société | de: Brettspiel | es: juego de mesa
+2020 | 2000 | Gifts | . | - | en: gifts | fr: cadeaux | de: Geschenke | es: regalos
+2021 | 2020 | Mugs | . | - | en: mug | fr: tasse | de: Becher | es: taza
+"""
+
+ALL_WHO = frozenset({"female", "male", "unisex"})
+ALL_AGES = frozenset({"adult", "kids", "baby"})
+
+
+@pytest.fixture(scope="module")
+def tree(tmp_path_factory: pytest.TempPathFactory) -> CategoryTree:
+    path = Path(tmp_path_factory.mktemp("tree")) / "tree.txt"
+    path.write_text(TREE, encoding="utf-8")
+    return load_tree(path)
+
+
+@pytest.fixture(scope="module")
+def extractor(tree: CategoryTree) -> AttributeExtractor:
+    brands = BrandDictionary.from_rows(
+        [("Lady Corvell", "", "1000"), ("Herrenhof Kavik", "", "1000"), ("Vellomar", "", "1000")]
+    )
+    return AttributeExtractor(brands=brands, tree=tree, retailer_names=["Shopwell"])
+
+
+def _apparel(**fields: str) -> tuple[str, str]:
+    audience = extract_audience(allowed_who=ALL_WHO, allowed_ages=ALL_AGES, **fields)  # type: ignore[arg-type]
+    return audience.who, audience.age
+
+
+@pytest.mark.parametrize(
+    ("column", "who", "age"),
+    [
+        ("W", "female", None), ("Womens", "female", "adult"), ("Ladies", "female", "adult"),
+        ("Damen", "female", "adult"), ("Femme", "female", "adult"), ("F", "female", None),
+        ("M", "male", None), ("Men's", "male", "adult"), ("Herren", "male", "adult"),
+        ("H", "male", None), ("Hombre", "male", "adult"), ("Mujer", "female", "adult"),
+        ("Unisex", "unisex", None), ("Kids", None, "kids"), ("Girls", "female", "kids"),
+        ("Boys", "male", "kids"), ("Mädchen", "female", "kids"), ("Jungen", "male", "kids"),
+        ("Fille", "female", "kids"), ("Garçon", "male", "kids"), ("niña", "female", "kids"),
+        ("niño", "male", "kids"), ("Baby", None, "baby"), ("Bébé", None, "baby"),
+        ("infant", None, "baby"), ("Baby Girls", "female", "baby"),
+    ],
+)
+def test_gender_column_words(column: str, who: str | None, age: str | None) -> None:
+    got_who, got_age = _apparel(gender_text=column, title="Cotton top")
+    assert got_who == (who or "unisex")
+    assert got_age == (age or "adult")
+
+
+def test_boyfriend_jeans_are_for_women(extractor: AttributeExtractor) -> None:
+    attributes = extractor.extract(Product("1", "Boyfriend jeans washed denim"), "1021")
+    assert attributes.who == "female"
+    assert attributes.who != "male"
+
+
+@pytest.mark.parametrize("title", ["Baby pink hoodie", "Baby blue cardigan", "Pull rose bébé"])
+def test_baby_colours_are_not_babies(title: str) -> None:
+    assert _apparel(title=title)[1] == "adult"
+
+
+def test_girls_night_on_a_game_is_not_about_girls(extractor: AttributeExtractor) -> None:
+    attributes = extractor.extract(Product("1", "Girls' night out party game"), "2011")
+    assert (attributes.who, attributes.age) == ("not_applicable", "not_applicable")
+
+
+def test_girls_night_phrase_is_not_a_cue_even_where_gender_applies() -> None:
+    assert _apparel(title="Girls night out sequin top") == ("unisex", "adult")
+
+
+def test_brand_holding_a_gender_word_does_not_decide(extractor: AttributeExtractor) -> None:
+    attributes = extractor.extract(Product("1", "Herrenhof Kavik slim jeans"), "1021")
+    assert attributes.brand == "Herrenhof Kavik"
+    assert attributes.who == "unisex"
+    product = Product("2", "Lady Corvell jeans", description="Jeans by Lady Corvell.")
+    assert extractor.extract(product, "1021").who == "unisex"
+
+
+@pytest.mark.parametrize("title", ["Gift for her mug", "Tasse cadeau pour elle", "Becher für Sie"])
+def test_for_her_gifts_that_are_not_apparel(extractor: AttributeExtractor, title: str) -> None:
+    attributes = extractor.extract(Product("1", title), "2021")
+    assert attributes.who == "not_applicable"
+
+
+def test_for_her_counts_weakly_where_gender_applies(extractor: AttributeExtractor) -> None:
+    attributes = extractor.extract(Product("1", "Silk scarf jeans, a gift for her"), "1021")
+    assert attributes.who == "female"
+
+
+@pytest.mark.parametrize(
+    ("size", "age"),
+    [
+        ("8 ans", "kids"), ("8 Jahre", "kids"), ("8 años", "kids"), ("age 4-5", "kids"),
+        ("116 cm", "kids"), ("128", "kids"), ("3-6 months", "baby"), ("6-12 mois", "baby"),
+        ("12-18M", "baby"), ("EU 28", "kids"), ("M", "adult"), ("42", "adult"),
+    ],
+)
+def test_sizes_that_imply_kids_or_baby(size: str, age: str) -> None:
+    # EU children's sizes are heights in cm; common practice, no source.
+    assert _apparel(title="Cotton trousers", size=size)[1] == age
+
+
+def test_a_length_is_not_a_height() -> None:
+    assert _apparel(title="Wool rug", size="2x 1.5 m")[1] == "adult"
+
+
+def test_the_node_allowing_one_value_decides(extractor: AttributeExtractor) -> None:
+    attributes = extractor.extract(Product("1", "Floral maxi dress"), "1011")
+    assert (attributes.who, attributes.audience_conflict) == ("female", False)
+
+
+def test_text_against_a_single_value_node_is_a_conflict(extractor: AttributeExtractor) -> None:
+    attributes = extractor.extract(Product("1", "Men's maxi dress costume"), "1011")
+    assert attributes.who == "male"
+    assert attributes.audience_conflict
+    assert "node allows female" in attributes.audience_evidence
+
+
+def test_column_wins_over_text_but_the_conflict_is_flagged(extractor: AttributeExtractor) -> None:
+    product = Product("1", "Women's slim jeans", gender_text="Herren")
+    attributes = extractor.extract(product, "1021")
+    assert attributes.who == "male"
+    assert attributes.audience_conflict
+    assert "Herren" in attributes.audience_evidence and "womens" in attributes.audience_evidence
+
+
+def test_nothing_said_defaults_only_where_the_node_allows(extractor: AttributeExtractor) -> None:
+    jeans = extractor.extract(Product("1", "Slim jeans"), "1021")
+    assert (jeans.who, jeans.age) == ("unisex", "adult")
+    assert "by default" in jeans.audience_evidence
+    tie = extractor.extract(Product("2", "Silk tie 120 cm"), "1031")
+    assert tie.age == "adult" and not tie.audience_conflict
+    mug = extractor.extract(Product("3", "Women's mug"), "2021")
+    assert (mug.who, mug.age) == ("not_applicable", "not_applicable")
+
+
+def test_compound_german_words(extractor: AttributeExtractor) -> None:
+    assert _apparel(title="Damenjacke gesteppt") == ("female", "adult")
+    assert _apparel(title="Kinderhose") == ("unisex", "kids")
+
+
+@given(st.text(max_size=30), st.text(max_size=80), st.text(max_size=20))
+def test_never_raises_and_ignores_case_and_outer_spaces(column: str, title: str, size: str) -> None:
+    plain = extract_audience(
+        gender_text=column, title=title, size=size, allowed_who=ALL_WHO, allowed_ages=ALL_AGES
+    )
+    assert plain.who in WHO_VALUES and plain.age in AGE_VALUES
+    if all(t.upper().lower() == t.lower() for t in (column, title, size)):
+        loud = extract_audience(
+            gender_text=f" {column.upper()}  ",
+            title=f"  {title.upper()} ",
+            size=f" {size.upper()} ",
+            allowed_who=ALL_WHO,
+            allowed_ages=ALL_AGES,
+        )
+        assert (loud.who, loud.age, loud.conflict) == (plain.who, plain.age, plain.conflict)

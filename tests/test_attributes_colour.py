@@ -1,0 +1,115 @@
+"""Tests for catmap.attributes.colour: colour words in four languages → catmap's families."""
+
+from __future__ import annotations
+
+import colorsys
+
+import pytest
+import webcolors
+from hypothesis import given
+from hypothesis import strategies as st
+
+from catmap.attributes import FAMILIES, colour_family, fold
+from catmap.attributes.colour import COLOUR_WORDS
+
+
+@pytest.mark.parametrize(
+    ("word", "family"),
+    [
+        ("vieux rose", "pink"), ("navy", "blue"), ("anthracite", "grey"), ("bordeaux", "red"),
+        ("khaki", "green"), ("taupe", "brown"), ("écru", "beige"), ("dunkelblau", "blue"),
+        ("azul marino", "blue"), ("off-white", "white"), ("rose gold", "gold"),
+        ("Weiß", "white"), ("gris chiné", "grey"), ("Bleu Marine", "blue"), ("rosa palo", "pink"),
+        ("jaune moutarde", "yellow"), ("Mehrfarbig", "multicolour"), ("plateado", "silver"),
+        ("burdeos", "red"), ("lila", "purple"), ("marrón", "brown"), ("terracotta", "orange"),
+    ],
+)
+def test_colour_field_words(word: str, family: str) -> None:
+    assert colour_family(word)[0] == family
+
+
+def test_two_families_in_the_field_make_multicolour() -> None:
+    family, evidence = colour_family("Navy/White")
+    assert family == "multicolour"
+    assert "blue" in evidence and "white" in evidence
+
+
+def test_field_first_then_title() -> None:
+    assert colour_family("Noir", "Red wool coat")[0] == "black"
+    assert colour_family("", "Red wool coat")[0] == "red"
+    assert colour_family("Sizzle", "Red wool coat")[0] == "red"
+
+
+@pytest.mark.parametrize("title", ["Orange juice 1 l", "Face cream 50 ml", "Olive oil", "Rosé wine"])
+def test_words_that_are_often_products_are_not_read_in_titles(title: str) -> None:
+    assert colour_family("", title) == ("", "")
+
+
+def test_every_family_is_declared() -> None:
+    assert set(COLOUR_WORDS) == set(FAMILIES)
+
+
+def test_no_word_belongs_to_two_families() -> None:
+    seen: dict[str, str] = {}
+    for family, by_lang in COLOUR_WORDS.items():
+        for words in by_lang.values():
+            for word in words:
+                key = fold(word)
+                assert seen.setdefault(key, family) == family, word
+
+
+def _consistent(family: str, hue: float, lightness: float, saturation: float) -> bool:
+    """A simple rule of thumb for hue (degrees) and HLS lightness/saturation (0..1)."""
+    def within(low: float, high: float) -> bool:
+        return low <= hue <= high if low <= high else hue >= low or hue <= high
+
+    if family == "black":
+        return lightness < 0.2
+    if family == "white":
+        return lightness > 0.85
+    if family in ("grey", "silver"):
+        return saturation < 0.25 or lightness < 0.35 and saturation < 0.45
+    if family == "beige":
+        return within(15, 65) and lightness > 0.6
+    if family == "brown":
+        return within(0, 50) and lightness < 0.75
+    if family == "red":
+        return within(335, 15) and saturation > 0.3
+    if family == "pink":
+        return within(290, 20) and lightness > 0.4
+    if family == "orange":
+        return within(5, 45)
+    if family in ("yellow", "gold"):
+        return within(35, 65)
+    if family == "green":
+        return within(55, 185)
+    if family == "blue":
+        return within(170, 250)
+    if family == "purple":
+        return within(230, 330)
+    return False
+
+
+def test_css_named_colours_agree_with_their_rgb() -> None:
+    # CSS Color Module Level 3/4 named colours, via webcolors (names and hex values).
+    english = {
+        fold(word): family for family, by_lang in COLOUR_WORDS.items() for word in by_lang["en"]
+    }
+    checked = 0
+    for name in webcolors.names("css3"):
+        if name not in english:
+            continue
+        red, green, blue = webcolors.name_to_rgb(name, spec="css3")
+        hue, lightness, saturation = colorsys.rgb_to_hls(red / 255, green / 255, blue / 255)
+        family = english[name]
+        assert _consistent(family, hue * 360, lightness, saturation), (name, family)
+        checked += 1
+    assert checked >= 60
+
+
+@given(st.text(max_size=40), st.text(max_size=80))
+def test_never_raises_and_ignores_case_and_outer_spaces(colour: str, title: str) -> None:
+    plain = colour_family(colour, title)
+    assert plain[0] in FAMILIES or plain[0] == ""
+    if colour.upper().lower() == colour.lower() and title.upper().lower() == title.lower():
+        assert colour_family(f"  {colour.upper()} ", f" {title.upper()}  ")[0] == plain[0]
