@@ -149,17 +149,26 @@ def choose_threshold(
     wrong_cumulative = np.cumsum(~right[order])
     n_min = min_accepted_for(max_error, delta)
 
+    grid = np.linspace(1.0, 0.0, GRID_STEPS + 1)
+    # Items with confidence ≥ t are the first n of the descending order.
+    accepted = np.searchsorted(-sorted_conf, -grid, side="right")
+    # The grid starts where a rejection is possible at all (uses the confidences only).
+    grid, accepted = grid[accepted >= n_min], accepted[accepted >= n_min]
     best: tuple[float, int, int, float] | None = None
-    for threshold in np.linspace(1.0, 0.0, GRID_STEPS + 1):
-        # Items with confidence ≥ threshold are the first n of the descending order.
-        n = int(np.searchsorted(-sorted_conf, -threshold, side="right"))
-        if n < n_min:
-            continue  # the grid starts where a rejection is possible (uses confidences only)
-        k = int(wrong_cumulative[n - 1])
-        p_value = float(binom.cdf(k, n, max_error))
-        if p_value > delta:
-            break  # fixed-sequence testing: the first failure ends the sequence
-        best = (float(threshold), n, k, p_value)
+    if accepted.size:
+        errors = wrong_cumulative[accepted - 1]
+        p_values = binom.cdf(errors, accepted, max_error)
+        failed = np.flatnonzero(p_values > delta)
+        # Fixed-sequence testing: the first failure ends the sequence.
+        passed = int(failed[0]) if failed.size else int(grid.size)
+        if passed:
+            last = passed - 1
+            best = (
+                float(grid[last]),
+                int(accepted[last]),
+                int(errors[last]),
+                float(p_values[last]),
+            )
 
     if best is None:
         statement = (
