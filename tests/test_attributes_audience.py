@@ -14,16 +14,16 @@ from catmap.taxonomy import CategoryTree, load_tree
 
 TREE = """\
 @tree-version 1
-1000 | - | Apparel | who=female,male,unisex age=adult,kids,baby | - | en: clothing | fr: vêtements | de: Kleidung | es: ropa
+1000 | - | Apparel | who=female,male,unisex age=adult,kids,baby | - | en: x | fr: x | de: x | es: x
 1010 | 1000 | Dresses | who=female | - | en: dresses | fr: robes | de: Kleider | es: vestidos
-1011 | 1010 | Maxi dresses | . | - | en: maxi dress | fr: robe longue | de: Maxikleid | es: vestido largo
+1011 | 1010 | Maxi dresses | . | - | en: maxi dress | fr: robe longue | de: Maxikleid | es: x
 1020 | 1000 | Trousers | . | - | en: trousers | fr: pantalons | de: Hosen | es: pantalones
 1021 | 1020 | Jeans | . | - | en: jeans | fr: jean | de: Jeans | es: vaqueros
-1030 | 1000 | Ties | who=male,unisex age=adult | - | en: ties | fr: cravates | de: Krawatten | es: corbatas
-1031 | 1030 | Neck ties | . | - | en: neck tie | fr: cravate | de: Krawatte | es: corbata
+1030 | 1000 | Ties | who=male,unisex age=adult | - | en: ties | fr: x | de: x | es: x
+1031 | 1030 | Neck ties | . | - | en: neck tie | fr: cravate | de: Krawatte | es: x
 2000 | - | Home and games | none | - | en: home | fr: maison | de: Haus | es: casa
 2010 | 2000 | Games | . | - | en: games | fr: jeux | de: Spiele | es: juegos
-2011 | 2010 | Board games | . | - | en: board game | fr: jeu de société | de: Brettspiel | es: juego de mesa
+2011 | 2010 | Board games | . | - | en: board game | fr: jeu | de: Brettspiel | es: juego
 2020 | 2000 | Gifts | . | - | en: gifts | fr: cadeaux | de: Geschenke | es: regalos
 2021 | 2020 | Mugs | . | - | en: mug | fr: tasse | de: Becher | es: taza
 """
@@ -48,7 +48,9 @@ def extractor(tree: CategoryTree) -> AttributeExtractor:
 
 
 def _apparel(**fields: str) -> tuple[str, str]:
-    audience = extract_audience(allowed_who=ALL_WHO, allowed_ages=ALL_AGES, **fields)  # type: ignore[arg-type]
+    audience = extract_audience(
+        allowed_who=ALL_WHO, allowed_ages=ALL_AGES, **fields  # type: ignore[arg-type]
+    )
     return audience.who, audience.age
 
 

@@ -1,4 +1,4 @@
-"""Tests for catmap.attributes.brand: normalisation, dictionary look-up, title search, candidates."""
+"""Tests for catmap.attributes.brand: normalising, dictionary look-up, title search, candidates."""
 
 from __future__ import annotations
 

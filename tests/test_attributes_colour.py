@@ -40,7 +40,9 @@ def test_field_first_then_title() -> None:
     assert colour_family("Sizzle", "Red wool coat")[0] == "red"
 
 
-@pytest.mark.parametrize("title", ["Orange juice 1 l", "Face cream 50 ml", "Olive oil", "Rosé wine"])
+@pytest.mark.parametrize(
+    "title", ["Orange juice 1 l", "Face cream 50 ml", "Olive oil", "Rosé wine"]
+)
 def test_words_that_are_often_products_are_not_read_in_titles(title: str) -> None:
     assert colour_family("", title) == ("", "")
 

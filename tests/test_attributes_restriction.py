@@ -21,7 +21,7 @@ from catmap.taxonomy import CategoryTree, load_tree
 
 TREE = """\
 @tree-version 1
-1000 | - | Food and drink | none | - | en: food | fr: alimentation | de: Lebensmittel | es: alimentación
+1000 | - | Food and drink | none | - | en: food | fr: alimentation | de: Lebensmittel | es: x
 1010 | 1000 | Drinks | . | - | en: drinks | fr: boissons | de: Getränke | es: bebidas
 1011 | 1010 | Wine | . | alcohol | en: wine | fr: vin | de: Wein | es: vino
 1012 | 1010 | Juices | . | - | en: juice | fr: jus | de: Saft | es: zumo
@@ -29,7 +29,7 @@ TREE = """\
 2010 | 2000 | Gifts | . | - | en: gifts | fr: cadeaux | de: Geschenke | es: regalos
 2011 | 2010 | Gift sets | . | - | en: gift set | fr: coffret | de: Geschenkset | es: set de regalo
 2020 | 2000 | Kitchen | . | - | en: kitchen | fr: cuisine | de: Küche | es: cocina
-2021 | 2020 | Kitchen knives | . | - | en: kitchen knife | fr: couteau | de: Küchenmesser | es: cuchillo
+2021 | 2020 | Kitchen knives | . | - | en: kitchen knife | fr: couteau | de: Messer | es: x
 """
 
 
