@@ -1,0 +1,118 @@
+"""Cold start: map products from the tree's own names and multilingual keywords.
+
+Each leaf gets a document: its name and terms in all four languages (twice, so that a leaf's own
+words outweigh its ancestors'), then the names and terms of its ancestors. A product's title and
+retailer path are compared with every document by cosine similarity over character n-grams
+(inside word boundaries, which survive plurals and inflection across languages), and a softmax
+with a temperature turns the similarities into probabilities. It needs no labelled data, so
+mapping works on day one.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from typing import Any
+
+import numpy as np
+import scipy.sparse as sp
+from sklearn.feature_extraction.text import TfidfVectorizer
+
+from catmap.classify.calibration import softmax
+from catmap.classify.features import ProductTexts
+from catmap.errors import ModelNotTrained
+from catmap.taxonomy import CategoryTree
+
+__all__ = ["KeywordMapper", "node_document"]
+
+DEFAULT_TEMPERATURE = 0.04
+
+
+def _words(tree: CategoryTree, node_id: str) -> list[str]:
+    node = tree[node_id]
+    words = [node.name]
+    for terms in node.terms.values():
+        words.extend(terms)
+    return words
+
+
+def node_document(tree: CategoryTree, node_id: str) -> str:
+    """Return the text a node is recognised by: its own words twice, then its ancestors'."""
+    own = _words(tree, node_id)
+    parts = own + own
+    for ancestor in reversed(tree.ancestors(node_id)):
+        parts.extend(_words(tree, ancestor.id))
+    return " ; ".join(parts)
+
+
+def make_keyword_vectorizer() -> TfidfVectorizer:
+    """Return the unfitted vectorizer of the keyword mapper."""
+    return TfidfVectorizer(
+        analyzer="char_wb", ngram_range=(3, 5), sublinear_tf=True, lowercase=True, dtype=np.float32
+    )
+
+
+class KeywordMapper:
+    """Leaf probabilities from the similarity of product text to the tree's own words.
+
+    Args:
+        tree: the category tree.
+        temperature: softmax temperature over cosine similarities (smaller = sharper).
+        path_weight: weight of the retailer path next to the title in the query text.
+
+    Attributes:
+        classes_: the leaf ids (columns of the probabilities).
+        vectorizer_: the fitted character n-gram TF-IDF.
+        documents_: (leaves, features) L2-normalised leaf documents, CSR.
+    """
+
+    def __init__(
+        self, *, tree: CategoryTree, temperature: float = DEFAULT_TEMPERATURE, path_weight: float = 0.5
+    ) -> None:
+        self.tree = tree
+        self.temperature = temperature
+        self.path_weight = path_weight
+
+    def fit(self, texts: ProductTexts | None = None, labels: Sequence[str] | None = None) -> KeywordMapper:
+        """Build the leaf documents from the tree (no labelled data needed).
+
+        Args:
+            texts: unused; accepted for the estimator contract.
+            labels: unused.
+
+        Raises:
+            ValueError: a non-positive temperature.
+        """
+        if self.temperature <= 0:
+            raise ValueError("the temperature must be > 0")
+        leaves = [node.id for node in self.tree.leaves()]
+        vectorizer = make_keyword_vectorizer()
+        documents = vectorizer.fit_transform([node_document(self.tree, leaf) for leaf in leaves])
+        self.classes_ = np.array(leaves)
+        self.vectorizer_ = vectorizer
+        self.documents_ = sp.csr_matrix(documents, dtype=np.float32)
+        return self
+
+    def _check(self) -> None:
+        if not hasattr(self, "documents_"):
+            raise ModelNotTrained("the keyword mapper is not fitted")
+
+    def similarities(self, texts: ProductTexts) -> np.ndarray[Any, Any]:
+        """Return (n, leaves) cosine similarities of the products to the leaf documents."""
+        self._check()
+        query = self.vectorizer_.transform(texts.title)
+        if self.path_weight > 0:
+            index: dict[str, int] = {}
+            rows = np.fromiter(
+                (index.setdefault(v, len(index)) for v in texts.path), dtype=np.int64, count=len(texts)
+            )
+            paths = self.vectorizer_.transform(list(index))[rows]
+            query = query + paths * np.float32(self.path_weight)
+        norms = np.sqrt(np.asarray(query.multiply(query).sum(axis=1)).ravel())
+        norms[norms == 0] = 1.0
+        query = sp.diags((1.0 / norms).astype(np.float32)) @ query
+        result: np.ndarray[Any, Any] = (query @ self.documents_.T).toarray()
+        return result
+
+    def predict_proba(self, texts: ProductTexts) -> np.ndarray[Any, Any]:
+        """Return (n, leaves) probabilities: softmax of the similarities / temperature."""
+        return softmax(self.similarities(texts), self.temperature)

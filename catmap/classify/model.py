@@ -1,0 +1,375 @@
+"""The mapping model: weighted TF-IDF features, a linear model per level, calibrated, blended.
+
+Structure (hierarchical decomposition): one linear classifier picks the department, and one per
+department picks the class (leaf) inside it; a leaf's probability is
+``P(department) · P(leaf | department)``. Each level is trained only on what it needs (a
+department's classifier sees only that department's products), which makes training much faster
+than one classifier over every leaf, and the learned weights are naturally sparse (a word never
+seen in a department gets weight 0 there); tiny weights are pruned as well.
+
+Confidence: each level's scores are temperature-scaled (one temperature per level, fitted on the
+validation split), then blended with the keyword mapper's probabilities,
+``p = (1 − w)·p_model + w·p_keywords``, with ``w`` chosen on the validation split.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from concurrent.futures import ThreadPoolExecutor
+from typing import Any
+
+import numpy as np
+import scipy.sparse as sp
+from sklearn.linear_model import LogisticRegression, SGDClassifier
+from sklearn.svm import LinearSVC
+
+from catmap.classify.calibration import expected_calibration_error, fit_temperature, softmax
+from catmap.classify.features import ProductFeaturizer, ProductTexts
+from catmap.classify.keywords import KeywordMapper
+from catmap.errors import ModelNotTrained
+from catmap.taxonomy import CategoryTree
+
+__all__ = ["CLASSIFIERS", "CategoryModel"]
+
+CLASSIFIERS = ("linear_svc", "sgd", "logistic")
+_ALL = "*"  # the single group of a flat (non-hierarchical) model
+KEYWORD_WEIGHT_GRID = (0.0, 0.05, 0.1, 0.2, 0.3, 0.4, 0.5, 0.6, 0.7)
+
+Array = np.ndarray[Any, Any]
+
+
+def _linear(classifier: str, c: float, random_state: int, n: int) -> Any:
+    if classifier == "linear_svc":
+        return LinearSVC(C=c, random_state=random_state, dual=True, max_iter=2000)
+    if classifier == "sgd":
+        return SGDClassifier(
+            loss="hinge", alpha=1.0 / (c * max(n, 1)), max_iter=30, tol=None,
+            random_state=random_state,
+        )
+    return LogisticRegression(C=c * 10, max_iter=300)
+
+
+class CategoryModel:
+    """Map product texts to class (leaf) probabilities.
+
+    Args:
+        tree: the category tree the labels belong to.
+        classifier: "linear_svc", "sgd" or "logistic".
+        C: regularisation strength (larger = less regularised).
+        hierarchical: department classifier × per-department classifiers (else one flat one).
+        feature_weights: block name -> weight (see :mod:`catmap.classify.features`).
+        min_df: minimum document frequency of a feature term.
+        max_features: per block vocabulary cap.
+        prune_below: weights with a smaller absolute value are dropped.
+        keyword_weight: fixed keyword blend weight; None = chosen on validation data.
+        random_state: seed.
+        n_jobs: threads training the per-department classifiers.
+
+    Attributes:
+        featurizer_: the fitted :class:`ProductFeaturizer`.
+        keywords_: the fitted :class:`KeywordMapper`.
+        classes_: ids of the probability columns (all tree leaves, then any other labelled node).
+        groups_: group (department) ids; ``group_coef_`` (features, groups) CSR and
+            ``group_intercept_`` score them.
+        linear_classes_: column index (in ``classes_``) of each linear class; ``class_group_``
+            its group index; ``class_coef_`` (features, linear classes) CSR and
+            ``class_intercept_`` score them.
+        temperatures_: (group level, class level) temperatures (1.0 before calibration).
+        keyword_weight_: the blend weight of the keyword mapper.
+        blend_temperature_: temperature applied to the blend's log-probabilities.
+        metrics_: validation metrics (after :meth:`calibrate`).
+    """
+
+    def __init__(
+        self,
+        *,
+        tree: CategoryTree,
+        classifier: str = "linear_svc",
+        C: float = 0.5,
+        hierarchical: bool = True,
+        feature_weights: dict[str, float] | None = None,
+        min_df: int = 2,
+        max_features: int | None = 400_000,
+        prune_below: float = 0.01,
+        keyword_weight: float | None = None,
+        random_state: int = 0,
+        n_jobs: int = 2,
+    ) -> None:
+        self.tree = tree
+        self.classifier = classifier
+        self.C = C
+        self.hierarchical = hierarchical
+        self.feature_weights = feature_weights
+        self.min_df = min_df
+        self.max_features = max_features
+        self.prune_below = prune_below
+        self.keyword_weight = keyword_weight
+        self.random_state = random_state
+        self.n_jobs = n_jobs
+
+    # ---- training -------------------------------------------------------------------------
+
+    def _group_of(self, node_id: str) -> str:
+        return self.tree.department(node_id).id if self.hierarchical else _ALL
+
+    def fit(self, texts: ProductTexts, labels: Sequence[str]) -> CategoryModel:
+        """Train the featurizer and the linear classifiers.
+
+        Args:
+            texts: training product texts.
+            labels: the node id of each product (must be in the tree).
+
+        Returns:
+            self.
+
+        Raises:
+            ValueError: bad parameters, mismatched lengths, fewer than two classes.
+            UnknownNode: a label that is not in the tree.
+        """
+        if self.classifier not in CLASSIFIERS:
+            raise ValueError(f"classifier must be one of {', '.join(CLASSIFIERS)}")
+        if self.C <= 0:
+            raise ValueError("C must be > 0")
+        if len(texts) != len(labels):
+            raise ValueError("one label per product is needed")
+        labels = [str(label) for label in labels]
+        for label in set(labels):
+            self.tree[label]  # raises UnknownNode
+        if len(set(labels)) < 2:
+            raise ValueError("training needs products of at least two different nodes")
+
+        leaves = [node.id for node in self.tree.leaves()]
+        extra = sorted(set(labels) - set(leaves))
+        self.classes_ = np.array(leaves + extra)
+        column = {c: i for i, c in enumerate(self.classes_.tolist())}
+
+        self.featurizer_ = ProductFeaturizer(
+            weights=self.feature_weights, min_df=self.min_df, max_features=self.max_features
+        )
+        features = self.featurizer_.fit_transform(texts)
+        n_features = features.shape[1]
+
+        label_array = np.array(labels)
+        group_of = {label: self._group_of(label) for label in set(labels)}
+        groups = sorted(set(group_of.values()), key=lambda g: (g == _ALL, g))
+        group_index = {g: i for i, g in enumerate(groups)}
+        row_group = np.array([group_index[group_of[label]] for label in labels])
+
+        self.groups_ = np.array(groups)
+        if len(groups) > 1:
+            coef, intercept = self._train_level(features, row_group, len(groups))
+        else:
+            coef = sp.csr_matrix((n_features, 1), dtype=np.float32)
+            intercept = np.zeros(1, dtype=np.float32)
+        self.group_coef_, self.group_intercept_ = coef, intercept
+
+        class_columns: list[int] = []
+        class_groups: list[int] = []
+        jobs = []
+        for g in range(len(groups)):
+            rows = np.flatnonzero(row_group == g)
+            group_labels = sorted(set(label_array[rows].tolist()))
+            class_columns.extend(column[label] for label in group_labels)
+            class_groups.extend([g] * len(group_labels))
+            local = {label: i for i, label in enumerate(group_labels)}
+            y = np.array([local[label] for label in label_array[rows]])
+            jobs.append((rows, y, len(group_labels)))
+
+        def train_group(job: tuple[Array, Array, int]) -> tuple[sp.csr_matrix, Array]:
+            rows, y, k = job
+            if k == 1:
+                return sp.csr_matrix((n_features, 1), dtype=np.float32), np.zeros(1, np.float32)
+            return self._train_level(features[rows], y, k)
+
+        # liblinear releases the GIL while it trains: threads use both cores, no copies.
+        with ThreadPoolExecutor(max_workers=self.n_jobs) as pool:
+            trained = list(pool.map(train_group, sorted(jobs, key=lambda j: -len(j[0]))))
+        by_size = sorted(range(len(jobs)), key=lambda i: -len(jobs[i][0]))
+        ordered: list[tuple[sp.csr_matrix, Array]] = [trained[0]] * len(jobs)
+        for position, i in enumerate(by_size):
+            ordered[i] = trained[position]
+        coefs = [c for c, _ in ordered]
+        intercepts = [b for _, b in ordered]
+        self.linear_classes_ = np.array(class_columns, dtype=np.int64)
+        self.class_group_ = np.array(class_groups, dtype=np.int64)
+        self.class_coef_ = sp.hstack(coefs, format="csr", dtype=np.float32)
+        self.class_intercept_ = np.concatenate(intercepts).astype(np.float32)
+        self.temperatures_ = (1.0, 1.0)
+        self.keywords_ = KeywordMapper(tree=self.tree).fit()
+        self.keyword_weight_ = float(self.keyword_weight or 0.0)
+        self.blend_temperature_ = 1.0
+        self.metrics_: dict[str, Any] = {}
+        return self
+
+    def _train_level(self, features: sp.csr_matrix, y: Array, k: int) -> tuple[sp.csr_matrix, Array]:
+        """Fit one linear classifier; return its (features, k) pruned weights and intercepts."""
+        model = _linear(self.classifier, self.C, self.random_state, features.shape[0])
+        model.fit(features, y)
+        coef = np.asarray(model.coef_, dtype=np.float32)
+        intercept = np.atleast_1d(np.asarray(model.intercept_, dtype=np.float32))
+        if coef.shape[0] == 1 and k == 2:
+            # A binary classifier scores only the second class; [0, s] keeps the softmax exact.
+            coef = np.vstack([np.zeros_like(coef), coef])
+            intercept = np.array([0.0, intercept[0]], dtype=np.float32)
+        coef[np.abs(coef) < self.prune_below] = 0.0
+        return sp.csr_matrix(coef.T), intercept
+
+    # ---- scoring --------------------------------------------------------------------------
+
+    def _check(self) -> None:
+        if not hasattr(self, "class_coef_"):
+            raise ModelNotTrained("the model is not trained", hint="run `catmap train` first")
+
+    def scores(self, texts: ProductTexts) -> tuple[Array, Array]:
+        """Return raw (group scores, class scores) of the linear part, before any softmax."""
+        self._check()
+        features = self.featurizer_.transform(texts)
+        return self.scores_from_features(features)
+
+    def scores_from_features(self, features: sp.csr_matrix) -> tuple[Array, Array]:
+        """As :meth:`scores`, from an already computed feature matrix."""
+        group = (features @ self.group_coef_).toarray() + self.group_intercept_
+        klass = (features @ self.class_coef_).toarray() + self.class_intercept_
+        return group, klass
+
+    def linear_proba(self, group: Array, klass: Array, temperatures: tuple[float, float] | None = None) -> Array:
+        """Return (n, linear classes) probabilities P(group)·P(class | group)."""
+        t_group, t_class = temperatures or self.temperatures_
+        p_group = softmax(group, t_group)
+        result = np.empty(klass.shape, dtype=np.float64)
+        for g in range(len(self.groups_)):
+            cols = np.flatnonzero(self.class_group_ == g)
+            result[:, cols] = softmax(klass[:, cols], t_class) * p_group[:, [g]]
+        return result
+
+    def _expand(self, linear: Array) -> Array:
+        full = np.zeros((linear.shape[0], len(self.classes_)), dtype=np.float64)
+        full[:, self.linear_classes_] = linear
+        return full
+
+    def _keyword_full(self, texts: ProductTexts) -> Array:
+        kw = self.keywords_.predict_proba(texts)
+        if kw.shape[1] == len(self.classes_):
+            return kw
+        full = np.zeros((kw.shape[0], len(self.classes_)), dtype=np.float64)
+        full[:, : kw.shape[1]] = kw  # leaves come first in classes_, in the same order
+        return full
+
+    def predict_proba(self, texts: ProductTexts) -> Array:
+        """Return (n, classes) calibrated probabilities (linear model blended with keywords)."""
+        group, klass = self.scores(texts)
+        model_p = self._expand(self.linear_proba(group, klass))
+        keyword_p = self._keyword_full(texts) if self.keyword_weight_ > 0 else None
+        return self._blend(model_p, keyword_p)
+
+    def _blend(self, model_p: Array, keyword_p: Array | None) -> Array:
+        w = self.keyword_weight_
+        p = model_p if keyword_p is None or w == 0 else (1.0 - w) * model_p + w * keyword_p
+        if self.blend_temperature_ == 1.0:
+            return p
+        return softmax(_log(p), self.blend_temperature_)
+
+    def predict(self, texts: ProductTexts) -> Array:
+        """Return the most probable class id of each product."""
+        return np.asarray(self.classes_[self.predict_proba(texts).argmax(axis=1)])
+
+    # ---- calibration ----------------------------------------------------------------------
+
+    def calibrate(self, texts: ProductTexts, labels: Sequence[str]) -> CategoryModel:
+        """Fit the temperatures and the keyword weight on held-out data; record metrics.
+
+        Args:
+            texts: validation product texts.
+            labels: their node ids.
+
+        Returns:
+            self.
+        """
+        self._check()
+        if len(texts) == 0:
+            return self
+        column = {c: i for i, c in enumerate(self.classes_.tolist())}
+        linear_pos = {int(c): i for i, c in enumerate(self.linear_classes_)}
+        y = np.array([column.get(str(label), -1) for label in labels])
+        group, klass = self.scores(texts)
+        known = np.array([c in linear_pos for c in y])
+
+        before = self._expand(self.linear_proba(group, klass, (1.0, 1.0)))
+
+        # Level 1: the group temperature, on the true group of each known product.
+        y_lin = np.array([linear_pos.get(int(c), -1) for c in y])
+        t_group = 1.0
+        if len(self.groups_) > 1 and known.any():
+            t_group = fit_temperature(group[known], self.class_group_[y_lin[known]])
+        # Level 2: one class temperature, on the scores inside each product's true group.
+        t_class = 1.0
+        if known.any():
+            t_class = _fit_block_temperature(klass[known], y_lin[known], self.class_group_)
+        self.temperatures_ = (t_group, t_class)
+        model_p = self._expand(self.linear_proba(group, klass))
+
+        # The blend of two calibrated distributions is not calibrated itself: a final
+        # temperature on the blend's log-probabilities is fitted for each candidate weight.
+        keyword_p = self._keyword_full(texts)
+        grid = KEYWORD_WEIGHT_GRID if self.keyword_weight is None else (self.keyword_weight,)
+        best: tuple[float, float, float] = (np.inf, 0.0, 1.0)
+        for w in grid:
+            log_p = _log((1 - w) * model_p + w * keyword_p)
+            t_final = fit_temperature(log_p[y >= 0], y[y >= 0]) if (y >= 0).any() else 1.0
+            nll = _nll(softmax(log_p, t_final), y)
+            if nll < best[0]:
+                best = (nll, w, t_final)
+        self.keyword_weight_, self.blend_temperature_ = float(best[1]), float(best[2])
+        blended = self._blend(model_p, keyword_p)
+
+        self.metrics_ = {
+            "valid_products": int(len(y)),
+            "valid_accuracy_before_calibration": _accuracy(before, y),
+            "valid_ece_before_calibration": _ece(before, y),
+            "valid_accuracy_model": _accuracy(model_p, y),
+            "valid_ece_model": _ece(model_p, y),
+            "valid_accuracy": _accuracy(blended, y),
+            "valid_ece": _ece(blended, y),
+            "temperatures": [float(t) for t in self.temperatures_],
+            "blend_temperature": self.blend_temperature_,
+            "keyword_weight": self.keyword_weight_,
+        }
+        return self
+
+
+def _fit_block_temperature(klass: Array, y_lin: Array, class_group: Array) -> float:
+    """One temperature for the class level: each product scored within its true group."""
+    width = int(np.bincount(class_group).max())
+    padded = np.full((len(y_lin), width), -np.inf)
+    targets = np.zeros(len(y_lin), dtype=np.int64)
+    for g in np.unique(class_group[y_lin]):
+        cols = np.flatnonzero(class_group == g)
+        rows = np.flatnonzero(class_group[y_lin] == g)
+        padded[np.ix_(rows, np.arange(len(cols)))] = klass[np.ix_(rows, cols)]
+        targets[rows] = np.searchsorted(cols, y_lin[rows])
+    single = np.isfinite(padded).sum(axis=1) > 1
+    if not single.any():
+        return 1.0
+    return fit_temperature(np.where(np.isfinite(padded), padded, -1e9)[single], targets[single])
+
+
+def _log(p: Array) -> Array:
+    # Classes with probability 0 (no training data, no keyword match) stay far below the rest.
+    return np.log(np.maximum(p, 1e-12))
+
+
+def _nll(p: Array, y: Array) -> float:
+    known = y >= 0
+    if not known.any():
+        return 0.0
+    picked = p[np.flatnonzero(known), y[known]]
+    return float(-np.log(np.maximum(picked, 1e-12)).mean())
+
+
+def _accuracy(p: Array, y: Array) -> float:
+    return float((p.argmax(axis=1) == y).mean()) if len(y) else 0.0
+
+
+def _ece(p: Array, y: Array) -> float:
+    best = p.argmax(axis=1)
+    return float(expected_calibration_error(p.max(axis=1), best == y))

@@ -1,0 +1,255 @@
+"""Model files users can trust: a folder with a JSON manifest and NumPy arrays, never pickle.
+
+Layout of a model folder (``<project>/models/current/`` by default)::
+
+    manifest.json        format version, versions, tree fingerprint, data fingerprint, metrics,
+                         temperatures, keyword weight, feature weights, settings
+    classes.npy          class node ids (unicode array)
+    vocab-<block>.npy    a vectorizer's terms, UTF-8 bytes joined by NUL; idf-<block>.npy its idf
+    *.npz                sparse weight matrices (scipy's own format, loaded with allow_pickle=False)
+    *.npy                intercepts, group ids, class columns
+
+Vectorizers are rebuilt on load by setting ``vocabulary_`` and ``idf_``.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import json
+import os
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+import scipy.sparse as sp
+import sklearn
+from sklearn.feature_extraction.text import TfidfVectorizer
+
+from catmap.classify.features import ProductFeaturizer
+from catmap.classify.keywords import KeywordMapper, make_keyword_vectorizer
+from catmap.classify.model import CategoryModel
+from catmap.errors import ModelError, ModelNotTrained, ModelTreeMismatch
+from catmap.taxonomy import CategoryTree
+
+__all__ = ["FORMAT_VERSION", "file_fingerprint", "load_model", "read_manifest", "save_model"]
+
+FORMAT_VERSION = 1
+MANIFEST = "manifest.json"
+
+
+def file_fingerprint(path: str | Path | None) -> str:
+    """Return the SHA-256 of a file's bytes ("" when there is no file)."""
+    if path is None or not Path(path).is_file():
+        return ""
+    digest = hashlib.sha256()
+    with open(path, "rb") as handle:
+        for block in iter(lambda: handle.read(1 << 20), b""):
+            digest.update(block)
+    return digest.hexdigest()
+
+
+def _catmap_version() -> str:
+    try:
+        from importlib.metadata import version
+
+        return version("catmap")
+    except Exception:  # noqa: BLE001 - a source checkout without metadata
+        return "unknown"
+
+
+def _save_vocabulary(folder: Path, name: str, vectorizer: TfidfVectorizer) -> None:
+    terms = sorted(vectorizer.vocabulary_, key=vectorizer.vocabulary_.__getitem__)
+    # Terms never contain NUL (text is cleaned), so NUL-joined UTF-8 is compact and exact.
+    joined = "\0".join(terms).encode("utf-8")
+    np.save(folder / f"vocab-{name}.npy", np.frombuffer(joined, dtype=np.uint8), allow_pickle=False)
+    np.save(folder / f"idf-{name}.npy", np.asarray(vectorizer.idf_, dtype=np.float64), allow_pickle=False)
+
+
+def _load_vocabulary(folder: Path, name: str, vectorizer: TfidfVectorizer) -> TfidfVectorizer:
+    raw = np.load(folder / f"vocab-{name}.npy", allow_pickle=False).tobytes().decode("utf-8")
+    terms = raw.split("\0") if raw else []
+    vectorizer.vocabulary_ = {term: i for i, term in enumerate(terms)}
+    vectorizer.idf_ = np.load(folder / f"idf-{name}.npy", allow_pickle=False)
+    return vectorizer
+
+
+def save_model(
+    model: CategoryModel, folder: str | Path, *, extra: dict[str, Any] | None = None
+) -> Path:
+    """Write a trained model to a folder (created; files in it are replaced).
+
+    Args:
+        model: a trained model.
+        folder: the model folder.
+        extra: more manifest facts (training data fingerprint, timings, consensus weight...).
+
+    Returns:
+        The manifest path.
+
+    Raises:
+        ModelNotTrained: the model is not trained.
+    """
+    model._check()
+    out = Path(folder)
+    out.mkdir(parents=True, exist_ok=True)
+    for block, vectorizer in model.featurizer_.vectorizers_.items():
+        _save_vocabulary(out, block, vectorizer)
+    _save_vocabulary(out, "keywords", model.keywords_.vectorizer_)
+    sp.save_npz(out / "keyword-documents.npz", model.keywords_.documents_)
+    np.save(out / "keyword-classes.npy", model.keywords_.classes_, allow_pickle=False)
+    np.save(out / "classes.npy", model.classes_, allow_pickle=False)
+    np.save(out / "groups.npy", model.groups_, allow_pickle=False)
+    np.save(out / "linear-classes.npy", model.linear_classes_, allow_pickle=False)
+    np.save(out / "class-group.npy", model.class_group_, allow_pickle=False)
+    sp.save_npz(out / "group-coef.npz", model.group_coef_.tocsr())
+    np.save(out / "group-intercept.npy", model.group_intercept_, allow_pickle=False)
+    sp.save_npz(out / "class-coef.npz", model.class_coef_.tocsr())
+    np.save(out / "class-intercept.npy", model.class_intercept_, allow_pickle=False)
+    manifest: dict[str, Any] = {
+        "format": "catmap-model",
+        "format_version": FORMAT_VERSION,
+        "catmap_version": _catmap_version(),
+        "sklearn_version": sklearn.__version__,
+        "tree_version": model.tree.version,
+        "tree_fingerprint": file_fingerprint(model.tree.path),
+        "settings": {
+            "classifier": model.classifier,
+            "C": model.C,
+            "hierarchical": model.hierarchical,
+            "min_df": model.min_df,
+            "max_features": model.max_features,
+            "prune_below": model.prune_below,
+            "random_state": model.random_state,
+        },
+        "feature_weights": {
+            block: float((model.feature_weights or {}).get(block, 1.0))
+            for block in model.featurizer_.vectorizers_
+        },
+        "feature_blocks": list(model.featurizer_.vectorizers_),
+        "temperatures": [float(t) for t in model.temperatures_],
+        "blend_temperature": float(model.blend_temperature_),
+        "keyword_weight": float(model.keyword_weight_),
+        "keyword_temperature": float(model.keywords_.temperature),
+        "keyword_path_weight": float(model.keywords_.path_weight),
+        "metrics": model.metrics_,
+        "class_ids": model.classes_.tolist(),
+        **(extra or {}),
+    }
+    manifest_path = out / MANIFEST
+    temporary = manifest_path.with_suffix(".tmp")
+    temporary.write_text(json.dumps(manifest, indent=2, ensure_ascii=False) + "\n", encoding="utf-8")
+    os.replace(temporary, manifest_path)  # the manifest last: a half-written folder never loads
+    return manifest_path
+
+
+def read_manifest(folder: str | Path) -> dict[str, Any]:
+    """Read a model folder's manifest.
+
+    Raises:
+        ModelNotTrained: no manifest in the folder.
+        ModelError: the manifest is not a catmap model manifest.
+    """
+    path = Path(folder) / MANIFEST
+    if not path.is_file():
+        raise ModelNotTrained(
+            "no trained model here", path=folder, hint="run `catmap train` first"
+        )
+    try:
+        manifest: dict[str, Any] = json.loads(path.read_text(encoding="utf-8"))
+    except (OSError, ValueError) as error:
+        raise ModelError(f"the model manifest cannot be read: {error}", path=path) from None
+    if manifest.get("format") != "catmap-model":
+        raise ModelError("this is not a catmap model manifest", path=path)
+    if manifest.get("format_version") != FORMAT_VERSION:
+        raise ModelError(
+            f"model format version {manifest.get('format_version')} is not supported "
+            f"(this catmap reads version {FORMAT_VERSION})",
+            path=path,
+            hint="run `catmap train` again",
+        )
+    return manifest
+
+
+def load_model(folder: str | Path, tree: CategoryTree) -> tuple[CategoryModel, dict[str, Any]]:
+    """Load a model folder for a tree.
+
+    Args:
+        folder: the model folder.
+        tree: the tree the model will map to; its version must be the model's.
+
+    Returns:
+        The model and its manifest.
+
+    Raises:
+        ModelNotTrained: no model in the folder.
+        ModelTreeMismatch: the model was trained for another tree version.
+        ModelError: a damaged model folder.
+    """
+    src = Path(folder)
+    manifest = read_manifest(src)
+    if str(manifest.get("tree_version")) != str(tree.version):
+        raise ModelTreeMismatch(
+            f"the model was trained for tree version {manifest.get('tree_version')}, "
+            f"but the tree in use is version {tree.version}",
+            path=src / MANIFEST,
+            hint=f"run `catmap train --tree-version {tree.version}`",
+        )
+    settings = manifest["settings"]
+    try:
+        model = CategoryModel(
+            tree=tree,
+            classifier=settings["classifier"],
+            C=settings["C"],
+            hierarchical=settings["hierarchical"],
+            feature_weights=manifest["feature_weights"],
+            min_df=settings["min_df"],
+            max_features=settings["max_features"],
+            prune_below=settings["prune_below"],
+            keyword_weight=manifest["keyword_weight"],
+            random_state=settings["random_state"],
+        )
+        featurizer = ProductFeaturizer(
+            weights=manifest["feature_weights"], min_df=settings["min_df"],
+            max_features=settings["max_features"],
+        )
+        featurizer.vectorizers_ = {
+            block: _load_vocabulary(src, block, ProductFeaturizer.make_vectorizer(block))
+            for block in manifest["feature_blocks"]
+        }
+        featurizer.n_features_ = sum(len(v.vocabulary_) for v in featurizer.vectorizers_.values())
+        model.featurizer_ = featurizer
+        keywords = KeywordMapper(
+            tree=tree,
+            temperature=manifest["keyword_temperature"],
+            path_weight=manifest["keyword_path_weight"],
+        )
+        keywords.vectorizer_ = _load_vocabulary(src, "keywords", make_keyword_vectorizer())
+        keywords.documents_ = sp.load_npz(src / "keyword-documents.npz").tocsr()
+        keywords.classes_ = np.load(src / "keyword-classes.npy", allow_pickle=False)
+        model.keywords_ = keywords
+        model.classes_ = np.load(src / "classes.npy", allow_pickle=False)
+        model.groups_ = np.load(src / "groups.npy", allow_pickle=False)
+        model.linear_classes_ = np.load(src / "linear-classes.npy", allow_pickle=False)
+        model.class_group_ = np.load(src / "class-group.npy", allow_pickle=False)
+        model.group_coef_ = sp.load_npz(src / "group-coef.npz").tocsr()
+        model.group_intercept_ = np.load(src / "group-intercept.npy", allow_pickle=False)
+        model.class_coef_ = sp.load_npz(src / "class-coef.npz").tocsr()
+        model.class_intercept_ = np.load(src / "class-intercept.npy", allow_pickle=False)
+        model.temperatures_ = (float(manifest["temperatures"][0]), float(manifest["temperatures"][1]))
+        model.blend_temperature_ = float(manifest["blend_temperature"])
+        model.keyword_weight_ = float(manifest["keyword_weight"])
+        model.metrics_ = dict(manifest.get("metrics", {}))
+    except (KeyError, OSError, ValueError) as error:
+        raise ModelError(
+            f"the model folder is damaged or incomplete: {error}",
+            path=src,
+            hint="run `catmap train` again",
+        ) from None
+    unknown = [c for c in model.classes_.tolist() if c not in tree]
+    if unknown:
+        raise ModelTreeMismatch(
+            f"the model knows node {unknown[0]}, which tree version {tree.version} lacks",
+            path=src / MANIFEST,
+            hint=f"run `catmap train --tree-version {tree.version}`",
+        )
+    return model, manifest
