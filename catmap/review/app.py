@@ -155,13 +155,14 @@ class ReviewApp(App[None]):
     """
 
     TITLE = "catmap review"
+    ENABLE_COMMAND_PALETTE = False
     CSS = """
     Screen { layout: vertical; }
     #topbar { height: 1; background: $primary-darken-2; color: $text; padding: 0 1; }
     #columns { height: 1fr; }
     #left, #right { width: 1fr; }
     .panel { border: round $secondary; padding: 0 1; height: auto; }
-    #product { height: 1fr; }
+    #product { height: auto; }
     #group { height: 1fr; }
     #message { height: 2; padding: 0 1; color: $warning; }
     ConfirmScreen, BrandScreen, SearchScreen { align: center middle; }
@@ -175,14 +176,14 @@ class ReviewApp(App[None]):
 
     BINDINGS: ClassVar[list[BindingType]] = [
         Binding("enter", "accept", "Accept", key_display="Enter"),
-        Binding("1", "alternative(1)", "Alternative", key_display="1-3"),
+        Binding("1", "alternative(1)", "Alt", key_display="1-3"),
         Binding("2", "alternative(2)", "Alternative 2", show=False),
         Binding("3", "alternative(3)", "Alternative 3", show=False),
-        Binding("slash", "search", "Search tree", key_display="/"),
+        Binding("slash", "search", "Search", key_display="/"),
         Binding("n", "no_fit", "No fit"),
         Binding("s", "skip", "Skip"),
         Binding("u", "undo", "Undo"),
-        Binding("g", "group_mode", "Whole group"),
+        Binding("g", "group_mode", "Group"),
         Binding("b", "brand", "Brand"),
         Binding("w", "who", "Who"),
         Binding("a", "age", "Age"),

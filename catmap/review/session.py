@@ -115,6 +115,9 @@ class ReviewSession:
         self.started = clock()
         self.first_decision_at: datetime | None = None
         self.done = 0
+        # Items each store-level decision of this session settled (0 for a skip), newest last:
+        # undo takes back what the last one counted, and nothing for an older session's.
+        self._history: list[int] = []
         self.current: ReviewView | None = None
         self.pending = Pending()
 
@@ -176,6 +179,7 @@ class ReviewSession:
         if decisions and self.first_decision_at is None:
             self.first_decision_at = self._clock()
         self.done += decisions
+        self._history.append(decisions)
 
     # -- deciding ------------------------------------------------------------------------------
 
@@ -191,8 +195,7 @@ class ReviewSession:
             who=pending.who,
             age=pending.age,
         )
-        if action != "skip":
-            self._counted(1)
+        self._counted(0 if action == "skip" else 1)
         self.next()
         return decision
 
@@ -249,7 +252,8 @@ class ReviewSession:
             return []
         if self.current is not None and self.current.item.id not in reopened:
             self.store.release(self.current.item.id, self.reviewer)
-        self.done = max(0, self.done - len(reopened))
+        if self._history:
+            self.done -= self._history.pop()
         # The reopened items are claimed by this reviewer, so the next claim returns one of
         # them (the highest priority: the one that was on screen for a group decision).
         self.next()
@@ -291,7 +295,8 @@ class ReviewSession:
         target = node_id or view.mapping.node_id
         self.tree[target]
         decisions: list[Decision] = []
-        if self.pending.any() or view.item.reason not in GROUP_REASONS:
+        single = self.pending.any() or view.item.reason not in GROUP_REASONS
+        if single:
             action = "accept" if target == view.mapping.node_id else "choose"
             decisions.append(
                 self.store.decide(
@@ -313,7 +318,10 @@ class ReviewSession:
                 lease_seconds=self.lease_seconds,
             )
         )
-        self._counted(len(decisions))
+        if single:
+            self._counted(1)
+        if len(decisions) > int(single):
+            self._counted(len(decisions) - int(single))  # the bulk: undone as a whole
         self.next()
         return decisions
 

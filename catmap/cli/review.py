@@ -1,0 +1,71 @@
+"""``catmap review``: work through the review queue in a full-screen terminal view."""
+
+from __future__ import annotations
+
+import getpass
+
+import click
+
+from catmap.cli._render import console
+from catmap.errors import StoreError
+from catmap.project import project_dir
+from catmap.review.session import ReviewSession
+from catmap.store import Store, store_path
+
+
+def _default_reviewer() -> str:
+    try:
+        return getpass.getuser()
+    except (KeyError, OSError):  # no login name (e.g. a container without a passwd entry)
+        return "reviewer"
+
+
+def run_screen(session: ReviewSession) -> None:
+    """Open the review screen on a session whose first item is claimed (kept apart for tests)."""
+    from catmap.review.app import ReviewApp
+
+    ReviewApp(session).run()
+
+
+def register(main: click.Group) -> None:
+    """Add ``catmap review`` to the command group."""
+
+    @main.command("review")
+    @click.option(
+        "--project",
+        "project",
+        default=None,
+        help="Project folder (default: $CATMAP_PROJECT or ./catmap-work).",
+    )
+    @click.option("--feed", default=None, help="Only review the items of this feed.")
+    @click.option(
+        "--reviewer",
+        default=None,
+        help="Your name on claims and decisions (default: your login name).",
+    )
+    def review(project: str | None, feed: str | None, reviewer: str | None) -> None:
+        """Review uncertain mappings one product at a time, with single keys.
+
+        Items are claimed with a lease, so several reviewers can share one project. Quit with
+        q; the next `catmap review` resumes on the item you left.
+        """
+        folder = project_dir(project)
+        path = store_path(folder)
+        if not path.is_file():
+            raise StoreError(f"no project store in {folder}: run `catmap onboard FEED` first")
+        name = reviewer or _default_reviewer()
+        with Store.open(path) as store:
+            if feed is not None:
+                store.feed(feed)  # an unknown feed fails here, with a hint
+            session = ReviewSession(store, name, feed=feed)
+            if session.next() is None:
+                where = f"feed {feed}" if feed else str(folder)
+                console.print(f"The review queue of {where} is empty: nothing to review.")
+                return
+            run_screen(session)
+            session.close()  # idempotent; the screen closes it too
+            pace = session.pace()
+            console.print(
+                f"Reviewed {pace.done} item{'s' if pace.done != 1 else ''} this session; "
+                f"{pace.left} left in the queue."
+            )

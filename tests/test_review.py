@@ -1,0 +1,439 @@
+"""Tests for the review screen: keys pressed through textual's test pilot, results read from the
+store. Plus the session logic on its own (pace, attribute corrections, leaving)."""
+
+from __future__ import annotations
+
+import asyncio
+import functools
+from collections.abc import Callable, Coroutine, Iterator
+from datetime import UTC, datetime, timedelta
+from pathlib import Path
+from typing import Any
+
+import pytest
+from textual.widgets import Static
+
+from catmap.attributes import RESTRICTION_CAUTION
+from catmap.review.app import ReviewApp, confidence_bar
+from catmap.review.sample import (
+    ANKLE_BOOTS,
+    BOOT_GROUP,
+    CHELSEA_BOOTS,
+    RUNNING_SHOES,
+    SAMPLE_FEED,
+    build_sample_store,
+)
+from catmap.review.session import ReviewSession
+from catmap.store import ReviewItem, Store
+from catmap.taxonomy import CategoryTree, load_default_tree
+
+SIZE = (120, 40)
+
+
+def sync(test: Callable[..., Coroutine[Any, Any, None]]) -> Callable[..., None]:
+    """Run an async test with asyncio (no async pytest plugin needed); fixtures pass through."""
+
+    @functools.wraps(test)
+    def run(*args: Any, **kwargs: Any) -> None:
+        asyncio.run(test(*args, **kwargs))
+
+    return run
+
+
+@pytest.fixture(scope="module")
+def tree() -> CategoryTree:
+    return load_default_tree(1)
+
+
+@pytest.fixture()
+def store(tmp_path: Path) -> Iterator[Store]:
+    """A store file in tmp_path with the sample products, made through the store's API."""
+    opened = build_sample_store(tmp_path / "store.sqlite")
+    yield opened
+    opened.close()
+
+
+@pytest.fixture()
+def memory_store() -> Iterator[Store]:
+    opened = build_sample_store(":memory:")
+    yield opened
+    opened.close()
+
+
+def _session(store: Store, tree: CategoryTree, reviewer: str = "ana") -> ReviewSession:
+    return ReviewSession(store, reviewer, tree=tree)
+
+
+def _item_of(store: Store, product_id: str) -> ReviewItem:
+    (item,) = [i for i in store.items() if i.product_id == product_id]
+    return item
+
+
+def _screen_text(app: ReviewApp, widget_id: str) -> str:
+    return str(app.query_one(f"#{widget_id}", Static).render())
+
+
+# -- the screen, driven by keys --------------------------------------------------------------
+
+
+@sync
+async def test_first_item_is_shown_and_claimed(store: Store, tree: CategoryTree) -> None:
+    app = ReviewApp(_session(store, tree))
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.pause()
+        assert "Ostravel suede ankle boot" in _screen_text(app, "product")
+        assert "low confidence" in _screen_text(app, "product")
+        assert "Footwear > Boots > Ankle boots" in _screen_text(app, "suggestion")
+        assert "6 products, 100% → Footwear > Boots > Ankle boots" in _screen_text(app, "group")
+        item = store.item(app.session.current.item.id)  # type: ignore[union-attr]
+        assert (item.state, item.claimed_by) == ("claimed", "ana")
+        await pilot.press("q")
+
+
+@sync
+async def test_accept_writes_a_decision(store: Store, tree: CategoryTree) -> None:
+    app = ReviewApp(_session(store, tree))
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("enter")
+        await pilot.pause()
+        (decision,) = store.decisions()
+        assert (decision.product_id, decision.action, decision.reviewer) == (
+            "BT-001",
+            "accept",
+            "ana",
+        )
+        stored = store.mapping(SAMPLE_FEED, "BT-001")
+        assert (stored.status, stored.mapping.node_id) == ("reviewed", ANKLE_BOOTS)
+        assert app.session.current is not None
+        assert app.session.current.product.product_id == "BT-002"
+        await pilot.press("q")
+
+
+@sync
+async def test_alternative_two_writes_that_node(store: Store, tree: CategoryTree) -> None:
+    app = ReviewApp(_session(store, tree))
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("2")
+        await pilot.pause()
+        (decision,) = store.decisions()
+        assert (decision.action, decision.from_node, decision.to_node) == (
+            "choose",
+            ANKLE_BOOTS,
+            RUNNING_SHOES,
+        )
+        assert store.mapping(SAMPLE_FEED, "BT-001").mapping.node_id == RUNNING_SHOES
+        await pilot.press("q")
+
+
+@sync
+async def test_search_and_enter_picks_the_node(store: Store, tree: CategoryTree) -> None:
+    app = ReviewApp(_session(store, tree))
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("slash")
+        await pilot.pause()
+        await pilot.press(*"chelsea boot")
+        await pilot.pause()
+        await pilot.press("enter")
+        await pilot.pause()
+        (decision,) = store.decisions()
+        assert (decision.product_id, decision.action, decision.to_node) == (
+            "BT-001",
+            "choose",
+            CHELSEA_BOOTS,
+        )
+        assert store.mapping(SAMPLE_FEED, "BT-001").mapping.node_id == CHELSEA_BOOTS
+        await pilot.press("q")
+
+
+@sync
+async def test_search_escape_writes_nothing(store: Store, tree: CategoryTree) -> None:
+    app = ReviewApp(_session(store, tree))
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("slash")
+        await pilot.pause()
+        await pilot.press(*"boot")
+        await pilot.press("escape")
+        await pilot.pause()
+        assert store.decisions() == []
+        assert app.session.current is not None
+        assert app.session.current.product.product_id == "BT-001"
+        await pilot.press("q")
+
+
+@sync
+async def test_no_fit(store: Store, tree: CategoryTree) -> None:
+    app = ReviewApp(_session(store, tree))
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("n")
+        await pilot.pause()
+        (decision,) = store.decisions()
+        assert (decision.action, decision.to_node) == ("no_fit", "")
+        assert store.mapping(SAMPLE_FEED, "BT-001").mapping.node_id == ""
+        await pilot.press("q")
+
+
+@sync
+async def test_skip_leaves_the_item_open(store: Store, tree: CategoryTree) -> None:
+    app = ReviewApp(_session(store, tree))
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("s")
+        await pilot.pause()
+        item = _item_of(store, "BT-001")
+        assert (item.state, item.claimed_by, item.skips) == ("open", None, 1)
+        assert store.mapping(SAMPLE_FEED, "BT-001").status == "queued"
+        assert app.session.current is not None
+        assert app.session.current.product.product_id == "BT-002"
+        await pilot.press("q")
+
+
+@sync
+async def test_undo_reverts(store: Store, tree: CategoryTree) -> None:
+    app = ReviewApp(_session(store, tree))
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("2")
+        await pilot.pause()
+        await pilot.press("u")
+        await pilot.pause()
+        assert store.decisions() == []
+        (undone,) = store.decisions(include_undone=True)
+        assert undone.undone_at is not None
+        stored = store.mapping(SAMPLE_FEED, "BT-001")
+        assert (stored.status, stored.mapping.node_id) == ("queued", ANKLE_BOOTS)
+        item = _item_of(store, "BT-001")
+        assert (item.state, item.claimed_by) == ("claimed", "ana")
+        assert app.session.current is not None
+        assert app.session.current.product.product_id == "BT-001"
+        # BT-002 was on screen: given back to the queue.
+        assert _item_of(store, "BT-002").state == "open"
+        assert [e.action for e in store.audit_log()][-1] == "undo"
+        await pilot.press("q")
+
+
+@sync
+async def test_group_decision_settles_every_item(store: Store, tree: CategoryTree) -> None:
+    app = ReviewApp(_session(store, tree))
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("g", "1")
+        await pilot.pause()
+        assert "Put 6 products of group 'Shoes > Boots'" in str(
+            app.screen.query_one("#question", Static).render()
+        )
+        await pilot.press("y")
+        await pilot.pause()
+        decisions = store.decisions()
+        assert sorted(d.product_id for d in decisions) == [f"BT-00{n}" for n in range(1, 7)]
+        assert {d.to_node for d in decisions} == {CHELSEA_BOOTS}
+        assert len({d.bulk_id for d in decisions}) == 1
+        boots = [i for i in store.items() if i.group_key == BOOT_GROUP]
+        assert {i.state for i in boots} == {"done"}
+        assert app.session.current is not None
+        assert app.session.current.product.product_id == "WN-001"
+        assert "bulk_accept" in [e.action for e in store.audit_log()]
+        await pilot.press("q")
+
+
+@sync
+async def test_group_decision_cancelled_writes_nothing(store: Store, tree: CategoryTree) -> None:
+    app = ReviewApp(_session(store, tree))
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("g", "enter")
+        await pilot.pause()
+        await pilot.press("n")
+        await pilot.pause()
+        assert store.decisions() == []
+        assert app.group_mode is False
+        await pilot.press("q")
+
+
+@sync
+async def test_brand_fix_and_who_and_age_cycling_are_stored(
+    store: Store, tree: CategoryTree
+) -> None:
+    app = ReviewApp(_session(store, tree))
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("b")
+        await pilot.pause()
+        await pilot.press("ctrl+u")  # clear the input (textual's delete to line start)
+        await pilot.press("end", *["backspace"] * 20, *"Ostravel Works", "enter")
+        await pilot.pause()
+        # WHO_VALUES order: female, male, unisex, not_applicable (catmap.records)
+        await pilot.press("w", "w")
+        await pilot.press("a")
+        await pilot.pause()
+        assert "→ male" in _screen_text(app, "attributes")
+        assert store.decisions() == []  # corrections travel with the decision
+        await pilot.press("enter")
+        await pilot.pause()
+        (decision,) = store.decisions()
+        assert (decision.brand_from, decision.brand_to) == ("Ostravel", "Ostravel Works")
+        assert (decision.who_from, decision.who_to) == ("not_applicable", "male")
+        assert (decision.age_from, decision.age_to) == ("not_applicable", "adult")
+        attributes = store.mapping(SAMPLE_FEED, "BT-001").attributes
+        assert (attributes.brand, attributes.who, attributes.age) == (
+            "Ostravel Works",
+            "male",
+            "adult",
+        )
+        await pilot.press("q")
+
+
+@sync
+async def test_quit_and_reopen_resumes_on_the_claimed_item(
+    store: Store, tree: CategoryTree
+) -> None:
+    app = ReviewApp(_session(store, tree))
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("enter")
+        await pilot.pause()
+        await pilot.press("q")
+        await pilot.pause()
+    left = _item_of(store, "BT-002")
+    assert (left.state, left.claimed_by) == ("claimed", "ana")
+    # The lease ended on quit.
+    assert left.lease_until <= datetime.now(UTC).strftime("%Y-%m-%dT%H:%M:%S.%fZ")
+
+    again = ReviewApp(_session(store, tree))
+    async with again.run_test(size=SIZE) as pilot:
+        await pilot.pause()
+        assert again.session.current is not None
+        assert again.session.current.product.product_id == "BT-002"
+        assert "Ostravel leather boot" in _screen_text(again, "product")
+        await pilot.press("q")
+
+
+@sync
+async def test_after_quit_another_reviewer_may_take_the_item(
+    store: Store, tree: CategoryTree
+) -> None:
+    app = ReviewApp(_session(store, tree))
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("q")
+    other = _session(store, tree, "bo")
+    view = other.next()
+    assert view is not None and view.product.product_id == "BT-001"
+
+
+@sync
+async def test_two_reviewers_see_different_items(store: Store, tree: CategoryTree) -> None:
+    app = ReviewApp(_session(store, tree))
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.pause()
+        other = _session(store, tree, "bo").next()
+        assert other is not None
+        assert app.session.current is not None
+        assert other.item.id != app.session.current.item.id
+        await pilot.press("q")
+
+
+@sync
+async def test_restricted_product_shows_the_caution(store: Store, tree: CategoryTree) -> None:
+    session = _session(store, tree)
+    store.accept_group("setup", SAMPLE_FEED, BOOT_GROUP)  # the boots are settled: the wine is next
+    app = ReviewApp(session)
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.pause()
+        assert session.current is not None and session.current.product.product_id == "WN-001"
+        text = " ".join(_screen_text(app, "attributes").split())
+        assert "alcohol" in text
+        assert " ".join(RESTRICTION_CAUTION.split()) in text
+        await pilot.press("q")
+
+
+@sync
+async def test_empty_queue_is_said(memory_store: Store, tree: CategoryTree) -> None:
+    for item in memory_store.items():
+        memory_store.decide(item.id, "setup", "accept")
+    app = ReviewApp(_session(memory_store, tree))
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.pause()
+        assert "review queue is empty" in _screen_text(app, "product")
+        await pilot.press("enter")  # nothing to accept: nothing happens
+        await pilot.press("q")
+    assert len(memory_store.decisions()) == 11
+
+
+# -- the session on its own ------------------------------------------------------------------
+
+
+class FakeClock:
+    def __init__(self) -> None:
+        self.now = datetime(2026, 1, 5, 9, 0, tzinfo=UTC)
+
+    def __call__(self) -> datetime:
+        return self.now
+
+
+def test_pace_counts_decisions_and_projects_the_finish(
+    memory_store: Store, tree: CategoryTree
+) -> None:
+    clock = FakeClock()
+    session = ReviewSession(memory_store, "ana", tree=tree, clock=clock)
+    session.next()
+    assert session.pace().per_minute is None
+    clock.now += timedelta(minutes=1)
+    session.accept()
+    session.accept()
+    pace = session.pace()
+    # 2 items in 1 minute; 11 queued - 2 done = 9 left (one of them on screen): 4.5 minutes.
+    assert (pace.done, pace.left, pace.per_minute) == (2, 9, 2.0)
+    assert pace.finish == clock.now + timedelta(minutes=4.5)
+    session.skip()
+    assert session.pace().done == 2  # a skip is not a decision on the node
+    session.undo()  # undoes the skip (the last decision)
+    session.undo()
+    assert session.pace().done == 1
+
+
+def test_choose_an_unknown_node_writes_nothing(memory_store: Store, tree: CategoryTree) -> None:
+    from catmap.errors import UnknownNode
+
+    session = _session(memory_store, tree)
+    session.next()
+    with pytest.raises(UnknownNode):
+        session.choose("999999")
+    assert memory_store.decisions() == []
+
+
+def test_missing_alternative_writes_nothing(memory_store: Store, tree: CategoryTree) -> None:
+    memory_store.accept_group("setup", SAMPLE_FEED, BOOT_GROUP)
+    session = _session(memory_store, tree)
+    view = session.next()
+    assert view is not None and view.product.product_id == "WN-001"  # no alternatives
+    assert session.choose_alternative(1) is None
+    assert len(memory_store.decisions()) == 6
+
+
+def test_group_decision_with_corrections_decides_the_item_first(
+    memory_store: Store, tree: CategoryTree
+) -> None:
+    session = _session(memory_store, tree)
+    session.next()
+    session.set_brand("Ostravel Works")
+    assert session.group_targets() == 6
+    decisions = session.decide_group()
+    assert len(decisions) == 6
+    first = decisions[0]
+    assert (first.product_id, first.brand_to, first.bulk_id) == ("BT-001", "Ostravel Works", None)
+    assert {d.bulk_id for d in decisions[1:]} != {None}
+    assert memory_store.mapping(SAMPLE_FEED, "BT-002").attributes.brand == "Ostravel"
+
+
+def test_group_targets_leave_out_items_another_reviewer_holds(
+    memory_store: Store, tree: CategoryTree
+) -> None:
+    other = _session(memory_store, tree, "bo")
+    ana = _session(memory_store, tree, "ana")
+    ana.next()  # BT-001
+    other.next()  # BT-002, held by bo with a live lease
+    assert ana.group_targets() == 5
+
+
+def test_reviewer_name_is_required(memory_store: Store) -> None:
+    with pytest.raises(ValueError, match="reviewer"):
+        ReviewSession(memory_store, "  ")
+
+
+def test_confidence_bar() -> None:
+    assert confidence_bar(0.0, 10) == "·" * 10
+    assert confidence_bar(1.0, 10) == "█" * 10
+    assert confidence_bar(0.5, 10) == "█" * 5 + "·" * 5
