@@ -28,10 +28,23 @@ def test_colour_field_words(word: str, family: str) -> None:
     assert colour_family(word)[0] == family
 
 
-def test_two_families_in_the_field_make_multicolour() -> None:
+def test_the_first_of_several_field_colours_is_the_main_one() -> None:
+    # The first colour named is the main colour: common practice, no source.
     family, evidence = colour_family("Navy/White")
-    assert family == "multicolour"
-    assert "blue" in evidence and "white" in evidence
+    assert family == "blue"
+    assert "main colour of 2" in evidence
+
+
+@pytest.mark.parametrize(
+    "title", ["Gold plated charm bracelet", "Bague argent 925", "Black ink pens, pack of 10"]
+)
+def test_materials_and_inks_are_not_the_colour(title: str) -> None:
+    assert colour_family("", title) == ("", "")
+
+
+def test_an_often_a_product_word_ending_the_item_is_a_colour() -> None:
+    assert colour_family("", "Robot vacuum marine #1735")[0] == "blue"
+    assert colour_family("", "Leather backpack 40L cognac")[0] == "brown"
 
 
 def test_field_first_then_title() -> None:

@@ -197,9 +197,9 @@ class AttributeExtractor:
                     self._colour_cache.clear()
                 self._colour_cache[product.colour] = colour
             if not colour[0]:
-                colour = colour_family_folded("", folded_title)
+                colour = colour_family_folded("", title_without_brand)
         else:
-            colour = colour_family_folded("", folded_title)
+            colour = colour_family_folded("", title_without_brand)
 
         # restriction
         restriction = facts.restriction or ""

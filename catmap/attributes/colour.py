@@ -2,7 +2,7 @@
 
 The families are catmap's own: black, white, grey, beige, brown, red, pink, orange, yellow,
 green, blue, purple, gold, silver, multicolour. The colour field is read first; two or more
-families there make "multicolour". Without a colour field the title is read, skipping words
+families there: the first one named is the main colour ("multicolour" only when said). Without a colour field the title is read, skipping words
 that are colours only sometimes ("cream", "orange", "rose", "wine", ...): in a title they are
 more often a product (face cream, orange juice, rosé wine).
 """
@@ -122,14 +122,14 @@ COLOUR_WORDS: dict[str, dict[str, tuple[str, ...]]] = {
         "es": ("morado", "morada", "lila", "malva", "violeta", "berenjena", "purpura"),
     },
     "gold": {
-        "en": ("gold", "gold tone", "golden", "champagne", "brass", "rose gold", "gold plated"),
-        "fr": ("dore", "doree", "or", "champagne", "laiton", "or rose", "plaque or"),
+        "en": ("gold", "gold tone", "golden", "champagne", "brass", "rose gold"),
+        "fr": ("dore", "doree", "or", "champagne", "laiton", "or rose"),
         "de": ("gold", "goldfarben", "champagner", "messing", "rosegold", "vergoldet"),
         "es": ("dorado", "dorada", "oro", "champan", "laton", "oro rosa"),
     },
     "silver": {
         "en": ("silver", "silver tone", "chrome", "metallic silver", "platinum", "steel",
-               "stainless steel", "silver plated", "pewter"),
+               "stainless steel", "pewter"),
         "fr": ("argent", "argente", "argentee", "chrome", "acier"),
         "de": ("silber", "silberfarben", "chrom", "versilbert", "edelstahl"),
         "es": ("plata", "plateado", "plateada", "cromado", "acero"),
@@ -162,8 +162,27 @@ AMBIGUOUS_IN_TITLE = frozenset(
 )
 
 
+# Phrases that name a material or an ink, not the product's colour; they hide their words.
+MATERIAL_PHRASES: tuple[str, ...] = (
+    "gold plated", "plaque or", "vergoldet", "chapado en oro", "silver plated", "plaque argent",
+    "versilbert", "sterling silver", "silver 925", "925 silver", "argent 925", "silber 925",
+    "plata 925", "plata de ley", "argent massif", "or massif", "18k gold", "or 18 carats",
+    "black ink", "blue ink", "encre noire", "encre bleue", "schwarze tinte", "tinta negra",
+    "white noise", "bruit blanc", "black friday", "white goods", "red wine", "white wine",
+    "vin rouge", "vin blanc", "rotwein", "weisswein", "vino tinto", "vino blanco",
+    "green tea", "the vert", "gruner tee", "te verde", "black tea", "the noir",
+)
+# After an often-a-product colour word, these tokens show it ends the description of the item
+# ("... robot marine #1735", "... cognac | Brand"): then it is read as the colour.
+_END_TOKENS = frozenset(
+    {"ref", "sku", "item", "mod", "art", "nr", "gr", "taille", "size", "talla", "pointure",
+     "eu", "uk", "us", "x", "set", "pack", "lot", "new", "neu", "nouveau", "nuevo", "sale",
+     "edition", "by", "par", "von", "de", "und", "and", "et", "y", "with", "avec", "mit", "con"}
+)
+
+
 def _build_index() -> PhraseIndex:
-    phrases: list[tuple[str, object]] = []
+    phrases: list[tuple[str, object]] = [(p, "") for p in MATERIAL_PHRASES]
     for family, by_lang in COLOUR_WORDS.items():
         for words in by_lang.values():
             phrases.extend((word, family) for word in words)
@@ -178,9 +197,16 @@ def _matches(folded: str) -> list[tuple[int, int, str, str]]:
     last_end = -1
     for start, end, key, family in sorted(_INDEX.find(folded), key=lambda m: (m[0], m[0] - m[1])):
         if start >= last_end:
-            chosen.append((start, end, key, str(family)))
             last_end = end
+            if family:
+                chosen.append((start, end, key, str(family)))
     return chosen
+
+
+def _ends_item(folded: str, end: int) -> bool:
+    rest = folded[end:].split(" ", 2)
+    following = rest[1] if len(rest) > 1 else ""
+    return not following or following in _END_TOKENS or any(c.isdigit() for c in following)
 
 
 def colour_family_folded(folded_colour: str, folded_title: str = "") -> tuple[str, str]:
@@ -190,10 +216,11 @@ def colour_family_folded(folded_colour: str, folded_title: str = "") -> tuple[st
         if len(families) == 1:
             return families[0], f"colour field '{folded_colour}'"
         if len(families) > 1:
-            return "multicolour", f"colour field names {', '.join(families)}"
+            # "Navy/White": the first colour named is the main one (common practice, no source).
+            return families[0], f"colour field '{folded_colour}': main colour of {len(families)}"
     if folded_title:
-        for _s, _e, key, family in _matches(folded_title):
-            if key not in AMBIGUOUS_IN_TITLE:
+        for _s, end, key, family in _matches(folded_title):
+            if key not in AMBIGUOUS_IN_TITLE or _ends_item(folded_title, end):
                 return family, f"title '{key}'"
     return "", ""
 
