@@ -1,0 +1,317 @@
+"""Review decisions through a spreadsheet: export the queue to CSV, import the filled rows.
+
+:func:`export_decisions` writes one row per review item: the open ones with empty columns for
+the reviewer (``reviewer_node``, ``action``, ``brand``, ``who``, ``age``, ``note``), and the
+decided ones with what was decided (``decided_*`` columns, for reference only). Cells are made
+safe against formula injection.
+
+:func:`import_decisions` applies the filled rows as decisions through the store (each one
+audited). A row is bad when its item is unknown or already decided, its node is not in the tree,
+its action / who / age is not one catmap knows, or the store refuses it; bad rows are counted,
+reported with their line and reason, and written to a rejects CSV. Good rows are applied even
+when others are bad.
+"""
+
+from __future__ import annotations
+
+import csv
+from collections.abc import Iterator
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+from catmap.errors import InputError, StoreError
+from catmap.records import AGE_VALUES, WHO_VALUES
+from catmap.store import DECISION_ACTIONS, Store
+from catmap.taxonomy import CategoryTree
+from catmap.writers import CsvWriter
+
+__all__ = [
+    "DECISION_COLUMNS",
+    "INPUT_COLUMNS",
+    "BadRow",
+    "ExportCounts",
+    "ImportResult",
+    "export_decisions",
+    "import_decisions",
+]
+
+INPUT_COLUMNS = ("reviewer_node", "action", "brand", "who", "age", "note")
+DECISION_COLUMNS = (
+    "item_id",
+    "feed",
+    "product_id",
+    "reason",
+    "state",
+    "title",
+    "brand_in_feed",
+    "retailer_path",
+    "suggested_node",
+    "suggested_path",
+    "confidence",
+    "alternatives",
+    *INPUT_COLUMNS,
+    "decided_action",
+    "decided_node",
+    "decided_by",
+)
+# Actions a spreadsheet row may carry; "skip" means nothing in a file: leave the row empty.
+IMPORT_ACTIONS = tuple(a for a in DECISION_ACTIONS if a != "skip")
+REJECT_COLUMNS = ("line", "item_id", "reason", *INPUT_COLUMNS)
+
+
+def _unquote(value: str) -> str:
+    """Undo the formula-injection quote the export added ("'=x" → "=x")."""
+    value = value.strip()
+    if len(value) > 1 and value[0] == "'" and value[1] in "=+-@\t\r":
+        return value[1:]
+    return value
+
+
+@dataclass
+class ExportCounts:
+    """What :func:`export_decisions` wrote."""
+
+    path: Path
+    open: int = 0
+    done: int = 0
+
+    def to_dict(self) -> dict[str, Any]:
+        """Return the facts as JSON-ready values."""
+        return {"path": str(self.path), "open": self.open, "done": self.done}
+
+
+def _export_rows(store: Store, tree: CategoryTree, feed: str | None) -> Iterator[dict[str, str]]:
+    decided = {d.item_id: d for d in store.decisions(feed)}
+    for item in store.items(feed=feed):
+        if item.state == "claimed":
+            # Someone is on it in the review screen right now; the sheet would race them.
+            continue
+        view = store.review_item(item.id)
+        node = view.mapping.node_id
+        alternatives = "; ".join(
+            f"{a.node_id} {tree.path_text(a.node_id) if a.node_id in tree else ''} "
+            f"({a.confidence:.2f})"
+            for a in view.mapping.alternatives
+        )
+        decision = decided.get(item.id)
+        yield {
+            "item_id": str(item.id),
+            "feed": item.feed_name,
+            "product_id": item.product_id,
+            "reason": item.reason,
+            "state": item.state,
+            "title": view.title,
+            "brand_in_feed": view.brand,
+            "retailer_path": view.retailer_path,
+            "suggested_node": node,
+            "suggested_path": tree.path_text(node) if node and node in tree else "",
+            "confidence": f"{view.mapping.confidence:.3f}",
+            "alternatives": alternatives,
+            **{column: "" for column in INPUT_COLUMNS},
+            "decided_action": decision.action if decision else "",
+            "decided_node": (decision.to_node or "") if decision else "",
+            "decided_by": decision.reviewer if decision else "",
+        }
+
+
+def export_decisions(
+    store: Store, out: str | Path, *, tree: CategoryTree, feed: str | None = None
+) -> ExportCounts:
+    """Write the review queue (open and decided items) to a CSV for reviewers.
+
+    Args:
+        store: the open project store.
+        out: the CSV file (created or replaced, UTF-8).
+        tree: the category tree (for node paths).
+        feed: only this feed's items (default: every feed).
+
+    Returns:
+        How many open and decided items were written.
+    """
+    path = Path(out)
+    path.parent.mkdir(parents=True, exist_ok=True)
+    counts = ExportCounts(path)
+    with CsvWriter(path, DECISION_COLUMNS, lambda row: [row[c] for c in DECISION_COLUMNS]) as w:
+        for row in _export_rows(store, tree, feed):
+            w.write(row)
+            if row["state"] == "done":
+                counts.done += 1
+            else:
+                counts.open += 1
+    return counts
+
+
+@dataclass(frozen=True, slots=True)
+class BadRow:
+    """A row that was not applied, and why."""
+
+    line: int
+    item_id: str
+    reason: str
+    values: dict[str, str]
+
+
+@dataclass
+class ImportResult:
+    """What :func:`import_decisions` did."""
+
+    rows: int = 0
+    applied: int = 0
+    empty: int = 0
+    by_action: dict[str, int] = field(default_factory=dict)
+    bad: list[BadRow] = field(default_factory=list)
+    rejects_file: Path | None = None
+
+    def to_dict(self) -> dict[str, Any]:
+        """Return the facts as JSON-ready values."""
+        return {
+            "rows": self.rows,
+            "applied": self.applied,
+            "empty": self.empty,
+            "bad": len(self.bad),
+            "by_action": self.by_action,
+            "bad_rows": [
+                {"line": b.line, "item_id": b.item_id, "reason": b.reason} for b in self.bad
+            ],
+            "rejects_file": str(self.rejects_file) if self.rejects_file else None,
+        }
+
+
+def _check_row(
+    values: dict[str, str], store: Store, tree: CategoryTree
+) -> tuple[int, str, str | None, dict[str, str | None]] | str:
+    """Return (item id, action, node, corrections) or the reason the row is bad."""
+    raw_id = values.get("item_id", "")
+    if not raw_id.isdigit():
+        return f"item_id '{raw_id}' is not a number"
+    item_id = int(raw_id)
+    try:
+        view = store.review_item(item_id)
+    except StoreError:
+        return f"no review item {item_id} in the store"
+    if view.item.state == "done":
+        return f"item {item_id} is already decided"
+    node = values.get("reviewer_node", "") or None
+    action = values.get("action", "").lower() or None
+    if node is not None and node not in tree:
+        return f"node '{node}' is not in the category tree (version {tree.version})"
+    if action is None:
+        # A node alone means "this node": accept when it is the suggestion, else choose it.
+        if node is not None:
+            action = "accept" if node == view.mapping.node_id else "choose"
+        else:
+            action = "fix_attributes"
+    if action not in IMPORT_ACTIONS:
+        return f"action '{action}' is not one of {', '.join(IMPORT_ACTIONS)}"
+    if action == "choose" and node is None:
+        return "action 'choose' needs a reviewer_node"
+    if action in ("accept", "no_fit", "fix_attributes") and node is not None:
+        if node != view.mapping.node_id:
+            return f"action '{action}' with reviewer_node {node}: use 'choose' to change the node"
+    who = values.get("who", "").lower() or None
+    age = values.get("age", "").lower() or None
+    if who is not None and who not in WHO_VALUES:
+        return f"who '{who}' is not one of {', '.join(WHO_VALUES)}"
+    if age is not None and age not in AGE_VALUES:
+        return f"age '{age}' is not one of {', '.join(AGE_VALUES)}"
+    brand = values.get("brand", "") or None
+    if action == "fix_attributes" and who is None and age is None and brand is None:
+        return "nothing to apply"
+    return item_id, action, node if action == "choose" else None, {
+        "brand": brand,
+        "who": who,
+        "age": age,
+    }
+
+
+def _reject_cells(bad: BadRow) -> list[str]:
+    return [str(bad.line), bad.item_id, bad.reason, *(bad.values.get(c, "") for c in INPUT_COLUMNS)]
+
+
+def import_decisions(
+    store: Store,
+    path: str | Path,
+    *,
+    tree: CategoryTree,
+    reviewer: str,
+    rejects: str | Path | None = None,
+) -> ImportResult:
+    """Apply the filled rows of a decisions CSV through the store.
+
+    Rows whose input columns are all empty are skipped (counted as ``empty``). Each other row
+    is validated and applied as one audited decision; a bad row is reported and written to the
+    rejects CSV (default: ``<file stem>.rejects.csv`` beside the file) with its line and reason.
+
+    Args:
+        store: the open project store.
+        path: the CSV (as :func:`export_decisions` wrote it, filled in).
+        tree: the category tree node ids are checked against.
+        reviewer: who the decisions are recorded for.
+        rejects: where to write the bad rows.
+
+    Returns:
+        Counts, and the bad rows with their line and reason.
+
+    Raises:
+        InputError: the file cannot be read or lacks the ``item_id`` column.
+    """
+    source = Path(path)
+    result = ImportResult()
+    try:
+        handle = source.open(encoding="utf-8-sig", newline="")
+    except OSError as error:
+        raise InputError(f"cannot read the decisions file: {error.strerror}", path=source) from None
+    with handle:
+        reader = csv.DictReader(handle)
+        header = reader.fieldnames or []
+        if "item_id" not in header:
+            raise InputError(
+                "the decisions file has no 'item_id' column",
+                path=source,
+                line=1,
+                field="item_id",
+                hint=f"columns found: {', '.join(header) or 'none'}; "
+                "start from `catmap decisions export`",
+            )
+        for raw in reader:
+            line = reader.line_num
+            values = {k: _unquote(v or "") for k, v in raw.items() if k is not None}
+            if not any(values.get(c) for c in INPUT_COLUMNS):
+                result.empty += 1
+                continue
+            result.rows += 1
+            checked = _check_row(values, store, tree)
+            if isinstance(checked, str):
+                result.bad.append(BadRow(line, values.get("item_id", ""), checked, values))
+                continue
+            item_id, action, node, corrections = checked
+            try:
+                store.decide(
+                    item_id,
+                    reviewer,
+                    action,
+                    node_id=node,
+                    brand=corrections["brand"],
+                    who=corrections["who"],
+                    age=corrections["age"],
+                    note=values.get("note", ""),
+                )
+            except (StoreError, ValueError) as error:
+                message = error.message if isinstance(error, StoreError) else str(error)
+                result.bad.append(BadRow(line, str(item_id), message, values))
+                continue
+            result.applied += 1
+            result.by_action[action] = result.by_action.get(action, 0) + 1
+    store.record_event(
+        "decisions_import",
+        reviewer,
+        detail={"file": str(source), "applied": result.applied, "bad": len(result.bad)},
+    )
+    if result.bad:
+        target = Path(rejects) if rejects else source.with_name(f"{source.stem}.rejects.csv")
+        with CsvWriter(target, REJECT_COLUMNS, _reject_cells) as writer:
+            for bad in result.bad:
+                writer.write(bad)
+        result.rejects_file = target
+    return result

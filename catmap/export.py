@@ -1,0 +1,238 @@
+"""Export an onboarded feed from the project store: the enriched products, rejects, accounting.
+
+One row per product: its fields, the node (id and path), confidence, method, status
+(``accepted`` / ``reviewed`` / ``queued``), and the attributes (brand, who, age, colour family,
+restriction flag). Beside it: the feed's rejects from its last onboarding run and that run's
+row accounting. CSV cells are made safe against formula injection (:mod:`catmap.writers`).
+"""
+
+from __future__ import annotations
+
+import json
+import shutil
+from collections.abc import Iterator
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+from catmap.attributes import RESTRICTION_CAUTION
+from catmap.onboard import rejects_path
+from catmap.records import Product
+from catmap.store import Store, StoredMapping
+from catmap.taxonomy import CategoryTree
+from catmap.writers import FORMATS, CsvWriter, JsonLinesWriter, RecordWriter
+
+__all__ = ["EXPORT_COLUMNS", "ExportResult", "export_feed", "export_row", "export_status"]
+
+EXPORT_COLUMNS = (
+    "product_id",
+    "title",
+    "brand",
+    "price",
+    "currency",
+    "gtin",
+    "retailer_path",
+    "node_id",
+    "node_path",
+    "confidence",
+    "method",
+    "status",
+    "extracted_brand",
+    "who",
+    "age",
+    "colour_family",
+    "restriction",
+)
+
+
+def export_status(stored_status: str) -> str:
+    """Return the status users see: an audit sample not yet reviewed is still accepted."""
+    return {"audit": "accepted"}.get(stored_status, stored_status)
+
+
+def export_row(product: Product, stored: StoredMapping, tree: CategoryTree) -> dict[str, Any]:
+    """Return one export row (plain values, in :data:`EXPORT_COLUMNS` order)."""
+    node_id = stored.mapping.node_id
+    path = tree.path_text(node_id) if node_id and node_id in tree else ""
+    attributes = stored.attributes
+    return {
+        "product_id": product.product_id,
+        "title": product.title,
+        "brand": product.brand,
+        "price": str(product.price) if product.price is not None else None,
+        "currency": product.currency,
+        "gtin": product.gtin,
+        "retailer_path": " > ".join(product.category_path),
+        "node_id": node_id,
+        "node_path": path,
+        "confidence": round(stored.mapping.confidence, 4),
+        "method": stored.mapping.method,
+        "status": export_status(stored.status),
+        "extracted_brand": attributes.brand,
+        "who": attributes.who,
+        "age": attributes.age,
+        "colour_family": attributes.colour_family,
+        "restriction": attributes.restriction,
+    }
+
+
+def _csv_cells(row: dict[str, Any]) -> list[str]:
+    return ["" if row[c] is None else str(row[c]) for c in EXPORT_COLUMNS]
+
+
+class _ParquetRows(RecordWriter):
+    """Export rows to Parquet, every column as text except confidence (one row group per 50k)."""
+
+    def __init__(self, path: Path, batch: int = 50_000) -> None:
+        import pyarrow as pa
+        import pyarrow.parquet as pq
+
+        self._pa = pa
+        self.path = path
+        self.count = 0
+        self._batch = batch
+        self._rows: list[dict[str, Any]] = []
+        fields = [(c, pa.float64() if c == "confidence" else pa.string()) for c in EXPORT_COLUMNS]
+        self._schema = pa.schema(fields)
+        self._writer: Any = pq.ParquetWriter(str(path), self._schema)
+
+    def write(self, record: Any) -> None:
+        self._rows.append(record)
+        self.count += 1
+        if len(self._rows) >= self._batch:
+            self._flush()
+
+    def _flush(self) -> None:
+        if self._rows:
+            self._writer.write_table(self._pa.Table.from_pylist(self._rows, schema=self._schema))
+            self._rows = []
+
+    def close(self) -> None:
+        if self._writer is not None:
+            self._flush()
+            self._writer.close()
+            self._writer = None
+
+
+def _open_writer(path: Path, format: str) -> RecordWriter:
+    if format == "csv":
+        return CsvWriter(path, EXPORT_COLUMNS, _csv_cells)
+    if format == "jsonl":
+        return JsonLinesWriter(path, lambda row: row)
+    return _ParquetRows(path)
+
+
+@dataclass
+class ExportResult:
+    """What :func:`export_feed` wrote for one feed."""
+
+    feed: str
+    products: Path
+    rejects: Path | None
+    accounting: Path
+    rows: int = 0
+    by_status: dict[str, int] = field(default_factory=dict)
+    restricted: dict[str, int] = field(default_factory=dict)
+    caution: str = ""
+
+    def to_dict(self) -> dict[str, Any]:
+        """Return the facts as JSON-ready values."""
+        return {
+            "feed": self.feed,
+            "products": str(self.products),
+            "rejects": str(self.rejects) if self.rejects else None,
+            "accounting": str(self.accounting),
+            "rows": self.rows,
+            "by_status": self.by_status,
+            "restricted": self.restricted,
+            "caution": self.caution,
+        }
+
+
+def _rows(store: Store, feed: str, tree: CategoryTree) -> Iterator[dict[str, Any]]:
+    for product, stored in store.mappings(feed):
+        yield export_row(product, stored, tree)
+
+
+def _last_accounting(store: Store, feed: str) -> dict[str, Any]:
+    for run in reversed(store.runs(feed)):
+        if run.kind == "onboard" and run.finished_at and "read" in run.summary:
+            keys = ("read", "kept", "rejected", "by_reason", "stopped_early")
+            facts = {key: run.summary.get(key) for key in keys}
+            facts.update(run_id=run.id, finished_at=run.finished_at, status=run.status)
+            return facts
+    return {}
+
+
+def _write_rejects(source: Path, target: Path, format: str) -> Path:
+    if format != "csv":
+        shutil.copyfile(source, target)
+        return target
+    from catmap.writers import REJECT_COLUMNS
+
+    with (
+        source.open(encoding="utf-8") as lines,
+        CsvWriter(target, REJECT_COLUMNS, lambda r: [str(r.get(c, "")) for c in REJECT_COLUMNS])
+        as writer,
+    ):
+        for line in lines:
+            if line.strip():
+                writer.write(json.loads(line))
+    return target
+
+
+def export_feed(
+    store: Store,
+    feed: str,
+    out_dir: str | Path,
+    *,
+    tree: CategoryTree,
+    project: str | Path,
+    format: str = "csv",
+) -> ExportResult:
+    """Write a feed's enriched products, its rejects and its accounting to ``out_dir``.
+
+    Files: ``<feed>.products.<ext>``, ``<feed>.rejects.<csv|jsonl>`` (when the last run wrote
+    rejects) and ``<feed>.accounting.json``.
+
+    Args:
+        store: the open project store.
+        feed: the feed's name.
+        out_dir: the output folder (created).
+        tree: the category tree the nodes belong to.
+        project: the project folder (where onboarding left the rejects).
+        format: ``csv``, ``jsonl`` or ``parquet``.
+
+    Returns:
+        What was written.
+
+    Raises:
+        ValueError: an unknown format.
+        StoreError: no such feed.
+    """
+    if format not in FORMATS:
+        raise ValueError(f"unknown format {format!r}; use one of {', '.join(FORMATS)}")
+    store.feed(feed)  # raises StoreError for an unknown feed
+    out = Path(out_dir)
+    out.mkdir(parents=True, exist_ok=True)
+    products_file = out / f"{feed}.products.{format}"
+    result = ExportResult(feed, products_file, None, out / f"{feed}.accounting.json")
+    with _open_writer(products_file, format) as writer:
+        for row in _rows(store, feed, tree):
+            writer.write(row)
+            result.rows += 1
+            result.by_status[row["status"]] = result.by_status.get(row["status"], 0) + 1
+            if row["restriction"]:
+                flag = row["restriction"]
+                result.restricted[flag] = result.restricted.get(flag, 0) + 1
+    result.caution = RESTRICTION_CAUTION if result.restricted else ""
+    source = rejects_path(project, feed)
+    if source.exists():
+        suffix = "csv" if format == "csv" else "jsonl"
+        result.rejects = _write_rejects(source, out / f"{feed}.rejects.{suffix}", format)
+    accounting = _last_accounting(store, feed)
+    accounting["rejects_file"] = str(result.rejects) if result.rejects else None
+    result.accounting.write_text(
+        json.dumps(accounting, indent=2, ensure_ascii=False) + "\n", encoding="utf-8"
+    )
+    return result

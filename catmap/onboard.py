@@ -1,0 +1,633 @@
+"""Onboard a feed end to end: read → normalise → map → attributes → decide → store.
+
+:func:`onboard_feed` streams a feed through the saved (or suggested) profile, maps products in
+chunks with the trained model (rules first, then the model with retailer-path consensus and
+hierarchical back-off), extracts attributes, and saves every product into the project store:
+
+- a mapping whose confidence reaches the accept threshold is *accepted*; the rest are
+  *queued* (``low_confidence``); a brand or audience conflict queues a product too;
+- after the feed is read, :func:`catmap.queue.plan_queue` draws the seeded audit slice of the
+  accepted part (``audit_sample``) and gives strong retailer-category groups their group gain.
+
+The accept threshold comes from :func:`catmap.decide.choose_threshold` on held-out labelled
+data: the model's validation split mapped exactly as a feed is mapped (same blend, consensus and
+back-off), saved once beside the model (``validation-confidences.npz``) and reused.
+
+Running onboard again on the same feed updates in place: the store upserts by product id, review
+items are unique per product and reason, and a person's decision is never overwritten. A run
+killed mid-way leaves the committed batches; the next run completes the feed.
+"""
+
+from __future__ import annotations
+
+import time
+from collections import Counter
+from collections.abc import Callable, Iterable, Iterator, Sequence
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+
+from catmap.attributes import AttributeExtractor, BrandDictionary
+from catmap.attributes._text import fold
+from catmap.attributes.brand import dictionary_in_use, normalize_brand
+from catmap.classify.backoff import NodeIndex, backoff_rows
+from catmap.classify.features import product_texts
+from catmap.classify.model import CategoryModel
+from catmap.classify.rules import RuleSet, load_rules
+from catmap.classify.storage import file_fingerprint, load_model
+from catmap.classify.training import consensus_blend, feed_profile, read_labelled
+from catmap.decide import DEFAULT_DELTA, DEFAULT_MAX_ERROR, ThresholdChoice, choose_threshold
+from catmap.errors import InputError, ModelError
+from catmap.feeds import open_feed
+from catmap.ingest import FATAL_FEED_ERRORS, Accounting, check_profile, iter_products
+from catmap.project import feed_stem, subfolder
+from catmap.queue import Candidate, expected_gain, plan_queue
+from catmap.records import Alternative, Attributes, Mapping, Product, Reject
+from catmap.store import MappedRow, Store, store_path
+from catmap.taxonomy import CategoryTree
+from catmap.writers import open_reject_writer
+
+__all__ = [
+    "CHUNK_SIZE",
+    "DEFAULT_BACKOFF_THRESHOLD",
+    "FeedMapper",
+    "OnboardOptions",
+    "OnboardSummary",
+    "ValidationPredictions",
+    "accept_threshold",
+    "default_model_dir",
+    "default_rules_path",
+    "onboard_feed",
+    "rejects_path",
+    "review_examples",
+    "validation_predictions",
+]
+
+# Products mapped together: retailer-path consensus is computed inside one chunk, so a chunk
+# should hold a whole feed of usual size (the demo feeds have a few thousand products).
+CHUNK_SIZE = 20_000
+DEFAULT_BACKOFF_THRESHOLD = 0.5
+ALTERNATIVES = 3
+VALIDATION_FILE = "validation-confidences.npz"
+DEFAULT_AUDIT_SHARE = 0.02
+# An extracted brand below this confidence that disagrees with the feed's brand field is worth a
+# look (common practice, no source).
+BRAND_CONFLICT_CONFIDENCE = 0.75
+
+
+def default_model_dir(project: str | Path) -> Path:
+    """Return where ``catmap train`` saves the model: ``<project>/models/current``."""
+    return Path(project) / "models" / "current"
+
+
+def default_rules_path(project: str | Path, feed_path: str | Path) -> Path:
+    """Return a feed's default rules file: ``<project>/rules/<feed stem>.rules``."""
+    return Path(project) / "rules" / f"{feed_stem(feed_path)}.rules"
+
+
+def rejects_path(project: str | Path, feed_name: str) -> Path:
+    """Return where onboarding writes a feed's rejects: ``<project>/rejects/<feed>.jsonl``."""
+    return Path(project) / "rejects" / f"{feed_name}.jsonl"
+
+
+# --------------------------------------------------------------------------------------------
+# Mapping a chunk of products
+# --------------------------------------------------------------------------------------------
+
+
+class FeedMapper:
+    """Map products to nodes: rules first, then the model with consensus and back-off.
+
+    Args:
+        model: a trained model.
+        manifest: its manifest (the consensus weight is read from it).
+        tree: the category tree.
+        rules: per-feed rules applied before the model (None: no rules).
+        backoff_threshold: a best leaf below this climbs to the deepest node reaching it.
+    """
+
+    def __init__(
+        self,
+        model: CategoryModel,
+        manifest: dict[str, Any],
+        tree: CategoryTree,
+        *,
+        rules: RuleSet | None = None,
+        backoff_threshold: float = DEFAULT_BACKOFF_THRESHOLD,
+    ) -> None:
+        self.model = model
+        self.tree = tree
+        self.rules = rules
+        self.backoff_threshold = backoff_threshold
+        self.consensus_weight = float(manifest.get("consensus_weight", 0.0))
+        self.classes: list[str] = [str(c) for c in model.classes_.tolist()]
+        self.index = NodeIndex(tree, self.classes)
+
+    def map(self, products: Sequence[Product]) -> list[Mapping]:
+        """Return one mapping per product, in order."""
+        if not products:
+            return []
+        texts = product_texts(products)
+        probabilities = self.model.predict_proba(texts)
+        probabilities = consensus_blend(probabilities, texts.path, self.consensus_weight)
+        best_class, chosen, chosen_p, backed = backoff_rows(
+            probabilities, self.index, self.backoff_threshold
+        )
+        width = min(ALTERNATIVES + 1, probabilities.shape[1])
+        top = np.argsort(-probabilities, axis=1)[:, :width]
+        result: list[Mapping] = []
+        for row, product in enumerate(products):
+            matched = self.rules.match(product) if self.rules is not None else None
+            if matched is not None:
+                result.append(Mapping(matched.rule.node_id, 1.0, "rule", (), matched.reason))
+                continue
+            leaf = self.classes[int(best_class[row])]
+            alternatives = tuple(
+                Alternative(self.classes[int(c)], float(probabilities[row, c]))
+                for c in top[row]
+                if int(c) != int(best_class[row])
+            )[:ALTERNATIVES]
+            if backed[row]:
+                node_id = self.index.nodes[int(chosen[row])]
+                result.append(
+                    Mapping(
+                        node_id,
+                        float(min(1.0, chosen_p[row])),
+                        "backoff",
+                        (Alternative(leaf, float(probabilities[row, best_class[row]])),)
+                        + alternatives[: ALTERNATIVES - 1],
+                        f"backed off from {leaf}",
+                    )
+                )
+            else:
+                result.append(
+                    Mapping(leaf, float(min(1.0, chosen_p[row])), "model", alternatives)
+                )
+        return result
+
+
+def acceptance_score(mapping: Mapping) -> float:
+    """Return the score compared with the accept threshold.
+
+    A rule is the team's own decision (always accepted); a backed-off mapping names an inner
+    node, which is not a finished mapping, so it is never auto-accepted (score 0).
+    """
+    if mapping.method == "rule":
+        return 1.0
+    if mapping.method == "backoff":
+        return 0.0
+    return mapping.confidence
+
+
+# --------------------------------------------------------------------------------------------
+# The accept threshold from the validation split
+# --------------------------------------------------------------------------------------------
+
+
+@dataclass(frozen=True, slots=True)
+class ValidationPredictions:
+    """Held-out mappings of the model: acceptance score and whether the node was right."""
+
+    scores: np.ndarray[Any, Any]
+    correct: np.ndarray[Any, Any]
+    source: str
+
+    def __len__(self) -> int:
+        return int(self.scores.size)
+
+
+def _reference_feed() -> Path:
+    from catmap.demo import ensure_demo_world
+
+    root = Path(__file__).resolve().parent.parent / "feeds_demo"
+    return ensure_demo_world(root).reference
+
+
+def validation_predictions(
+    mapper: FeedMapper,
+    model_dir: str | Path,
+    *,
+    project: str | Path,
+    labelled_feeds: Sequence[Path] | None = None,
+) -> ValidationPredictions:
+    """Return the model's validation predictions, computing and caching them when missing.
+
+    The cache is ``validation-confidences.npz`` in the model folder, tied to the model by its
+    manifest's fingerprint: a retrained model gets new predictions.
+
+    Args:
+        mapper: the mapper built on the model (the same mapping as onboarding uses).
+        model_dir: the model folder.
+        project: the project folder (feed profiles of the labelled feeds are kept there).
+        labelled_feeds: feeds with ``gold_node`` and ``split`` columns (default: the demo
+            reference catalog, built when missing).
+
+    Returns:
+        The scores and correctness of the validation products.
+
+    Raises:
+        ModelError: no labelled validation products are available.
+    """
+    folder = Path(model_dir)
+    cache = folder / VALIDATION_FILE
+    stamp = file_fingerprint(folder / "manifest.json")
+    if cache.exists():
+        with np.load(cache, allow_pickle=False) as saved:
+            if str(saved["manifest"]) == stamp:
+                return ValidationPredictions(
+                    saved["scores"], saved["correct"].astype(bool), str(saved["source"])
+                )
+    feeds = list(labelled_feeds) if labelled_feeds else [_reference_feed()]
+    data = read_labelled(feeds, tree=mapper.tree, project=Path(project))
+    valid = data.valid
+    if not valid:
+        raise ModelError(
+            "no labelled validation products to choose the accept threshold from",
+            path=feeds[0],
+            hint="give a labelled feed with a split column holding 'valid' rows",
+        )
+    scores: list[float] = []
+    correct: list[bool] = []
+    for start in range(0, len(valid), CHUNK_SIZE):
+        chunk = valid[start : start + CHUNK_SIZE]
+        for (_product, label), mapping in zip(
+            chunk, mapper.map([p for p, _ in chunk]), strict=True
+        ):
+            scores.append(acceptance_score(mapping))
+            correct.append(mapping.node_id == label)
+    source = ", ".join(str(f) for f in feeds)
+    result = ValidationPredictions(np.array(scores), np.array(correct, dtype=bool), source)
+    np.savez(
+        cache,
+        scores=result.scores,
+        correct=result.correct,
+        source=np.array(source),
+        manifest=np.array(stamp),
+    )
+    return result
+
+
+def accept_threshold(
+    validation: ValidationPredictions,
+    *,
+    max_error: float = DEFAULT_MAX_ERROR,
+    delta: float = DEFAULT_DELTA,
+) -> ThresholdChoice:
+    """Choose the accept threshold on the validation predictions (Learn-then-Test)."""
+    return choose_threshold(validation.scores, validation.correct, max_error=max_error, delta=delta)
+
+
+# --------------------------------------------------------------------------------------------
+# Onboarding
+# --------------------------------------------------------------------------------------------
+
+
+@dataclass(frozen=True)
+class OnboardOptions:
+    """How to onboard a feed.
+
+    Attributes:
+        max_error: error rate allowed among auto-accepted mappings.
+        delta: 1 − the confidence of that guarantee.
+        audit_share: share of auto-accepted products queued as audit samples.
+        rules: rules file (None: ``<project>/rules/<feed stem>.rules`` when it exists).
+        backoff_threshold: see :class:`FeedMapper`.
+        chunk_size: products mapped together.
+        random_state: seed of the audit sample.
+    """
+
+    max_error: float = DEFAULT_MAX_ERROR
+    delta: float = DEFAULT_DELTA
+    audit_share: float = DEFAULT_AUDIT_SHARE
+    rules: Path | None = None
+    backoff_threshold: float = DEFAULT_BACKOFF_THRESHOLD
+    chunk_size: int = CHUNK_SIZE
+    random_state: int = 0
+
+
+@dataclass
+class OnboardSummary:
+    """What one onboarding run did to one feed (the facts ``catmap onboard`` prints)."""
+
+    feed: str
+    path: str
+    run_id: int
+    accounting: dict[str, Any]
+    mapped: int = 0
+    accepted: int = 0
+    queued: int = 0
+    queued_by_reason: dict[str, int] = field(default_factory=dict)
+    audit: int = 0
+    by_method: dict[str, int] = field(default_factory=dict)
+    by_department: dict[str, dict[str, Any]] = field(default_factory=dict)
+    threshold: float | None = None
+    coverage_validation: float = 0.0
+    validation_products: int = 0
+    statement: str = ""
+    max_error: float = DEFAULT_MAX_ERROR
+    delta: float = DEFAULT_DELTA
+    restricted: dict[str, int] = field(default_factory=dict)
+    rules_file: str | None = None
+    rule_conflicts: int = 0
+    rejects_file: str = ""
+    store: str = ""
+    seconds: float = 0.0
+    stopped_early: str | None = None
+
+    @property
+    def coverage(self) -> float:
+        """Share of mapped products auto-accepted (audit samples count as accepted)."""
+        return (self.accepted + self.audit) / self.mapped if self.mapped else 0.0
+
+    def to_dict(self) -> dict[str, Any]:
+        """Return the facts as JSON-ready values."""
+        facts = dict(self.__dict__)
+        facts["coverage"] = round(self.coverage, 4)
+        return facts
+
+
+def _chunks(items: Iterable[Product], size: int) -> Iterator[list[Product]]:
+    chunk: list[Product] = []
+    for item in items:
+        chunk.append(item)
+        if len(chunk) >= size:
+            yield chunk
+            chunk = []
+    if chunk:
+        yield chunk
+
+
+def _brand_conflict(product: Product, attributes: Attributes, brands: BrandDictionary) -> bool:
+    """The feed names a brand the dictionary does not know, and the title names another one."""
+    if not product.brand or not attributes.brand_evidence.startswith("field not in dictionary"):
+        return False
+    mentions = brands.find_in_text(fold(product.title))
+    field_key = normalize_brand(product.brand)
+    return any(normalize_brand(name) != field_key for _s, _e, _k, name in mentions)
+
+
+def load_extractor(project: str | Path, tree: CategoryTree) -> AttributeExtractor:
+    """Return the attribute extractor with the project's (or the demo) brand dictionary."""
+    path = dictionary_in_use(project)
+    brands = BrandDictionary.from_csv(path) if path is not None else BrandDictionary([])
+    return AttributeExtractor(brands=brands, tree=tree)
+
+
+def review_examples(store: Store, feed: str | None = None) -> list[tuple[Product, str]]:
+    """Return reviewed products with the node a person chose, as extra training examples."""
+    return [(example.product, example.node_id) for example in store.training_examples(feed)]
+
+
+def onboard_feed(
+    feed_path: str | Path,
+    *,
+    project: str | Path,
+    tree: CategoryTree,
+    model_dir: str | Path | None = None,
+    options: OnboardOptions | None = None,
+    validation: ValidationPredictions | None = None,
+    extractor: AttributeExtractor | None = None,
+    on_progress: Callable[[str, int], None] | None = None,
+) -> OnboardSummary:
+    """Onboard one feed into the project store.
+
+    Args:
+        feed_path: the feed file.
+        project: the project folder (profile, rules, model, store, rejects live there).
+        tree: the category tree of the model.
+        model_dir: the model folder (default: ``<project>/models/current``).
+        options: thresholds, audit share, rules file.
+        validation: precomputed validation predictions (default: from the model folder).
+        extractor: attribute extractor (default: with the project's brand dictionary).
+        on_progress: called with a stage name and the records read so far.
+
+    Returns:
+        The run's summary.
+
+    Raises:
+        ModelNotTrained: no model in the model folder.
+        InputError: the feed, its profile or the rules file cannot be used; a fatal feed error
+            is raised after the records before it were saved (the run is recorded as stopped).
+    """
+    started = time.perf_counter()
+    options = options or OnboardOptions()
+    project = Path(project)
+    feed_path = Path(feed_path)
+    folder = Path(model_dir) if model_dir else default_model_dir(project)
+    model, manifest = load_model(folder, tree)
+    rules_file = options.rules
+    if rules_file is None and default_rules_path(project, feed_path).exists():
+        rules_file = default_rules_path(project, feed_path)
+    rules = load_rules(rules_file, tree=tree) if rules_file is not None else None
+    mapper = FeedMapper(
+        model, manifest, tree, rules=rules, backoff_threshold=options.backoff_threshold
+    )
+    progress = on_progress or (lambda _stage, _count: None)
+    if validation is None:
+        progress("choosing the accept threshold", 0)
+        validation = validation_predictions(mapper, folder, project=project)
+    choice = accept_threshold(validation, max_error=options.max_error, delta=options.delta)
+    threshold = choice.threshold
+    extractor = extractor or load_extractor(project, tree)
+
+    profile, saved_profile = feed_profile(feed_path, project)
+    opened = open_feed(
+        feed_path,
+        encoding=profile.encoding,
+        record_path=profile.record_path,
+        delimiter=profile.delimiter,
+    )
+    check_profile(profile, opened.info, profile_path=saved_profile)
+
+    name = feed_stem(feed_path)
+    store = Store.for_project(project)
+    try:
+        store.add_feed(name, source_path=feed_path, profile_path=saved_profile)
+        run_id = store.start_run(
+            "onboard",
+            feed=name,
+            params={
+                "max_error": options.max_error,
+                "delta": options.delta,
+                "audit_share": options.audit_share,
+                "threshold": threshold,
+                "rules": str(rules_file) if rules_file else None,
+                "model": str(folder),
+            },
+        )
+        summary = OnboardSummary(
+            feed=name,
+            path=str(feed_path),
+            run_id=run_id,
+            accounting={},
+            threshold=threshold,
+            coverage_validation=choice.coverage,
+            validation_products=choice.n_calibration,
+            statement=choice.statement,
+            max_error=options.max_error,
+            delta=options.delta,
+            rules_file=str(rules_file) if rules_file else None,
+            store=str(store_path(project)),
+        )
+        accounting = Accounting()
+        reject_file = rejects_path(project, name)
+        subfolder(project, "rejects")
+        summary.rejects_file = str(reject_file)
+        candidates: list[Candidate] = []
+        model_version = str(manifest.get("training_data_fingerprint", ""))[:12]
+
+        fatal_errors: list[InputError] = []
+
+        def products() -> Iterator[Product]:
+            with open_reject_writer(reject_file, "jsonl") as rejects:
+                try:
+                    for item in iter_products(opened, profile, accounting):
+                        if isinstance(item, Reject):
+                            rejects.write(item)
+                        else:
+                            yield item
+                        if accounting.read % 1000 == 0:
+                            progress("reading", accounting.read)
+                except FATAL_FEED_ERRORS as fatal:
+                    # The records before the error are kept and saved; the run says it stopped.
+                    fatal_errors.append(fatal)
+                    accounting.stopped_early = str(fatal)
+
+        def rows() -> Iterator[MappedRow]:
+            for chunk in _chunks(products(), options.chunk_size):
+                progress("mapping", accounting.read)
+                for product, mapping in zip(chunk, mapper.map(chunk), strict=True):
+                    row = _first_row(product, mapping, threshold, extractor, tree)
+                    candidates.append(
+                        Candidate(
+                            product.product_id,
+                            row.group_key,
+                            mapping.node_id,
+                            mapping.confidence,
+                            row.status == "accepted",
+                            brand_conflict="brand_conflict" in row.reasons,
+                            brand_confidence=row.attributes.brand_confidence,
+                            audience_conflict=row.attributes.audience_conflict,
+                        )
+                    )
+                    _count(summary, product, row, tree)
+                    yield row
+
+        store.save_mapped(
+            name,
+            run_id,
+            rows(),
+            model_version=model_version,
+            tree_version=str(tree.version),
+            on_batch=lambda total: progress("saving", total),
+        )
+        error = fatal_errors[0] if fatal_errors else None
+
+        progress("planning the review queue", accounting.read)
+        _apply_plan(store, name, run_id, candidates, options, summary, model_version, tree)
+        summary.accounting = accounting.to_dict()
+        summary.stopped_early = accounting.stopped_early
+        summary.rule_conflicts = rules.conflicts if rules is not None else 0
+        summary.seconds = round(time.perf_counter() - started, 2)
+        facts = summary.to_dict()
+        facts.update(accounting.to_dict())
+        facts.pop("duplicate_ids", None)
+        store.finish_run(run_id, status="stopped" if error else "done", summary=facts)
+    finally:
+        store.close()
+    if error is not None:
+        raise error
+    return summary
+
+
+def _first_row(
+    product: Product,
+    mapping: Mapping,
+    threshold: float | None,
+    extractor: AttributeExtractor,
+    tree: CategoryTree,
+) -> MappedRow:
+    """The row as known before the whole feed is seen (no audit slice, no group gain yet)."""
+    attributes = extractor.extract(product, mapping.node_id or None)
+    accepted = threshold is not None and acceptance_score(mapping) >= threshold
+    reasons: list[str] = [] if accepted else ["low_confidence"]
+    if _brand_conflict(product, attributes, extractor.brands):
+        reasons.append("brand_conflict")
+    if attributes.audience_conflict:
+        reasons.append("audience_conflict")
+    return MappedRow(
+        product=product,
+        mapping=mapping,
+        attributes=attributes,
+        status="accepted" if accepted else "queued",
+        group_key=" > ".join(product.category_path),
+        priority=expected_gain(mapping.confidence) if reasons else 0.0,
+        reasons=tuple(reasons),
+    )
+
+
+def _count(summary: OnboardSummary, product: Product, row: MappedRow, tree: CategoryTree) -> None:
+    summary.mapped += 1
+    method = row.mapping.method
+    summary.by_method[method] = summary.by_method.get(method, 0) + 1
+    node_id = row.mapping.node_id
+    department = tree.department(node_id).name if node_id in tree else "(none)"
+    entry = summary.by_department.setdefault(department, {"products": 0, "accepted": 0})
+    entry["products"] += 1
+    if row.status == "accepted":
+        entry["accepted"] += 1
+    if row.attributes.restriction:
+        restriction = row.attributes.restriction
+        summary.restricted[restriction] = summary.restricted.get(restriction, 0) + 1
+
+
+def _apply_plan(
+    store: Store,
+    feed: str,
+    run_id: int,
+    candidates: list[Candidate],
+    options: OnboardOptions,
+    summary: OnboardSummary,
+    model_version: str,
+    tree: CategoryTree,
+) -> None:
+    """Draw the audit slice and the group gains; rewrite only the rows whose plan changed."""
+    plan = plan_queue(
+        candidates, audit_rate=options.audit_share, random_state=options.random_state
+    )
+    first = {c.product_id: c for c in candidates}
+    changed: dict[str, tuple[str, tuple[str, ...], float]] = {}
+    reasons_count: Counter[str] = Counter()
+    for product_id, planned in plan.reviews.items():
+        reasons_count.update(planned.reasons)
+        was_accepted = first[product_id].accepted
+        if planned.status == "audit" or (planned.group_offer and not was_accepted):
+            changed[product_id] = (planned.status, planned.reasons, planned.priority)
+    summary.audit = len(plan.audit_ids)
+    summary.accepted = sum(1 for c in candidates if c.accepted) - summary.audit
+    summary.queued = sum(1 for c in candidates if not c.accepted)
+    summary.queued_by_reason = dict(sorted(reasons_count.items()))
+    if not changed:
+        return
+
+    def rows() -> Iterator[MappedRow]:
+        for product, stored in store.mappings(feed):
+            update = changed.get(product.product_id)
+            if update is None or stored.status == "reviewed":
+                continue
+            status, reasons, priority = update
+            yield MappedRow(
+                product=product,
+                mapping=stored.mapping,
+                attributes=stored.attributes,
+                status=status,
+                group_key=stored.group_key,
+                priority=priority,
+                reasons=reasons,
+            )
+
+    store.save_mapped(
+        feed, run_id, rows(), model_version=model_version, tree_version=str(tree.version)
+    )
