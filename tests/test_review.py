@@ -290,6 +290,7 @@ async def test_quit_and_reopen_resumes_on_the_claimed_item(
     left = _item_of(store, "BT-002")
     assert (left.state, left.claimed_by) == ("claimed", "ana")
     # The lease ended on quit.
+    assert left.lease_until is not None
     assert left.lease_until <= datetime.now(UTC).strftime("%Y-%m-%dT%H:%M:%S.%fZ")
 
     again = ReviewApp(_session(store, tree))

@@ -6,7 +6,6 @@ import getpass
 
 import click
 
-from catmap.cli._render import console
 from catmap.errors import StoreError
 from catmap.project import project_dir
 from catmap.review.session import ReviewSession
@@ -60,12 +59,12 @@ def register(main: click.Group) -> None:
             session = ReviewSession(store, name, feed=feed)
             if session.next() is None:
                 where = f"feed {feed}" if feed else str(folder)
-                console.print(f"The review queue of {where} is empty: nothing to review.")
+                click.echo(f"The review queue of {where} is empty: nothing to review.")
                 return
             run_screen(session)
             session.close()  # idempotent; the screen closes it too
             pace = session.pace()
-            console.print(
+            click.echo(
                 f"Reviewed {pace.done} item{'s' if pace.done != 1 else ''} this session; "
                 f"{pace.left} left in the queue."
             )
