@@ -2,12 +2,15 @@
 
 The families are catmap's own: black, white, grey, beige, brown, red, pink, orange, yellow,
 green, blue, purple, gold, silver, multicolour. The colour field is read first; two or more
-families there: the first one named is the main colour ("multicolour" only when said). Without a colour field the title is read, skipping words
+families there: the first one named is the main colour
+("multicolour" only when said). Without a colour field the title is read, skipping words
 that are colours only sometimes ("cream", "orange", "rose", "wine", ...): in a title they are
 more often a product (face cream, orange juice, rosé wine).
 """
 
 from __future__ import annotations
+
+import re
 
 from catmap.attributes._text import PhraseIndex, fold
 
@@ -169,7 +172,8 @@ MATERIAL_PHRASES: tuple[str, ...] = (
     "plata 925", "plata de ley", "argent massif", "or massif", "18k gold", "or 18 carats",
     "black ink", "blue ink", "encre noire", "encre bleue", "schwarze tinte", "tinta negra",
     "white noise", "bruit blanc", "black friday", "white goods", "red wine", "white wine",
-    "vin rouge", "vin blanc", "rotwein", "weisswein", "vino tinto", "vino blanco",
+    "rose wine", "vin rose", "vino rosado", "rosewein", "vin rouge", "vin blanc", "rotwein",
+    "weisswein", "vino tinto", "vino blanco",
     "green tea", "the vert", "gruner tee", "te verde", "black tea", "the noir",
 )
 # After an often-a-product colour word, these tokens show it ends the description of the item
@@ -203,10 +207,21 @@ def _matches(folded: str) -> list[tuple[int, int, str, str]]:
     return chosen
 
 
+_QUANTITY = re.compile(r"^\d+(?:d\d+)?(?:ml|cl|l|g|kg|mg|oz|m)?$")
+_UNITS = frozenset({"ml", "cl", "l", "g", "kg", "mg", "oz", "litre", "liter", "litres", "gr"})
+
+
 def _ends_item(folded: str, end: int) -> bool:
-    rest = folded[end:].split(" ", 2)
+    rest = folded[end:].split(" ", 3)
     following = rest[1] if len(rest) > 1 else ""
-    return not following or following in _END_TOKENS or any(c.isdigit() for c in following)
+    if not following or following in _END_TOKENS:
+        return True
+    if not any(c.isdigit() for c in following):
+        return False
+    # A code or a size ends the item; a quantity ("50 ml", "1l") says it is a product.
+    after = rest[2] if len(rest) > 2 else ""
+    quantity = _QUANTITY.match(following) and (not following.isdigit() or after in _UNITS)
+    return not quantity
 
 
 def colour_family_folded(folded_colour: str, folded_title: str = "") -> tuple[str, str]:
