@@ -1,0 +1,539 @@
+"""Onboarding commands: ``catmap onboard`` (a feed end to end into the project store),
+``catmap status``, ``catmap export``, ``catmap decisions export / import`` (review in a
+spreadsheet) and ``catmap demo`` (the whole job on the invented demo world)."""
+
+from __future__ import annotations
+
+import time
+from pathlib import Path
+from typing import Any
+
+import click
+from rich.markup import escape
+from rich.progress import Progress, SpinnerColumn, TextColumn, TimeElapsedColumn
+from rich.table import Table
+
+from catmap.cli._render import console, echo_json, err_console, json_option
+from catmap.decide import DEFAULT_DELTA, DEFAULT_MAX_ERROR
+from catmap.decisions_io import export_decisions, import_decisions
+from catmap.errors import ModelNotTrained
+from catmap.export import export_feed
+from catmap.onboard import (
+    DEFAULT_AUDIT_SHARE,
+    OnboardOptions,
+    OnboardSummary,
+    check_against_gold,
+    default_model_dir,
+    onboard_feed,
+    validation_predictions,
+)
+from catmap.project import project_dir
+from catmap.store import Store, store_path
+from catmap.taxonomy import CategoryTree, load_default_tree
+from catmap.writers import FORMATS
+
+_project_option = click.option(
+    "--project",
+    "project",
+    default=None,
+    help="Project folder (default: $CATMAP_PROJECT or ./catmap-work).",
+)
+
+
+def _tree_for(project: Path) -> CategoryTree:
+    """The tree of the project's model (version 1 when there is no model yet)."""
+    from catmap.classify.storage import read_manifest
+
+    try:
+        version = str(read_manifest(default_model_dir(project)).get("tree_version", "1"))
+    except ModelNotTrained:
+        version = "1"
+    return load_default_tree(version)
+
+
+def _progress() -> Progress:
+    return Progress(
+        SpinnerColumn(),
+        TextColumn("{task.description}"),
+        TextColumn("{task.completed:,.0f} records"),
+        TimeElapsedColumn(),
+        console=err_console,
+        transient=True,
+        disable=not err_console.is_terminal,
+    )
+
+
+def _onboard_with_progress(
+    feed: Path, project: Path, tree: CategoryTree, options: OnboardOptions, **more: Any
+) -> OnboardSummary:
+    with _progress() as progress:
+        task = progress.add_task(feed.name, total=None)
+
+        def show(stage: str, count: int) -> None:
+            progress.update(task, description=f"{feed.name}: {stage}", completed=count)
+
+        return onboard_feed(
+            feed, project=project, tree=tree, options=options, on_progress=show, **more
+        )
+
+
+# -- onboard ----------------------------------------------------------------------------------
+
+
+@click.command("onboard")
+@click.argument("feed", type=click.Path(exists=True, dir_okay=False, path_type=Path))
+@click.option(
+    "--max-error",
+    default=DEFAULT_MAX_ERROR,
+    show_default=True,
+    type=click.FloatRange(0, 1, min_open=True, max_open=True),
+    help="Error rate allowed among auto-accepted mappings.",
+)
+@click.option(
+    "--confidence",
+    default=1 - DEFAULT_DELTA,
+    show_default=True,
+    type=click.FloatRange(0, 1, min_open=True, max_open=True),
+    help="How sure the error bound must be (1 - the chance it fails).",
+)
+@click.option(
+    "--audit-share",
+    default=DEFAULT_AUDIT_SHARE,
+    show_default=True,
+    type=click.FloatRange(0, 1),
+    help="Share of auto-accepted products queued as audit samples.",
+)
+@click.option(
+    "--rules",
+    "rules",
+    default=None,
+    type=click.Path(exists=True, dir_okay=False, path_type=Path),
+    help="Rules file applied before the model (default: <project>/rules/<feed>.rules).",
+)
+@_project_option
+@json_option
+def onboard_command(
+    feed: Path,
+    max_error: float,
+    confidence: float,
+    audit_share: float,
+    rules: Path | None,
+    project: str | None,
+    as_json: bool,
+) -> None:
+    """Read, normalise, map and store a feed; auto-accept what is safe, queue the rest.
+
+    The accept threshold keeps the error of auto-accepted mappings at or below --max-error
+    with the stated --confidence, on the model's held-out validation products. Running it
+    again on the same feed updates the store in place (reviewed mappings are kept).
+    """
+    folder = project_dir(project)
+    tree = _tree_for(folder)
+    options = OnboardOptions(
+        max_error=max_error, delta=1 - confidence, audit_share=audit_share, rules=rules
+    )
+    summary = _onboard_with_progress(feed, folder, tree, options)
+    facts = summary.to_dict()
+    if as_json:
+        echo_json(facts)
+    else:
+        _render_onboard(facts)
+
+
+def _render_onboard(facts: dict[str, Any]) -> None:
+    console.print(f"[bold]{escape(facts['feed'])}[/bold]  ({escape(facts['path'])})")
+    a = facts["accounting"]
+    console.print(f"  read {a['read']:,} = kept {a['kept']:,} + rejected {a['rejected']:,}")
+    if a["by_reason"]:
+        reasons = ", ".join(f"{k} {v:,}" for k, v in a["by_reason"].items())
+        console.print(f"  rejects: {escape(reasons)} → {escape(facts['rejects_file'])}")
+    mapped = facts["mapped"]
+    accepted = facts["accepted"] + facts["audit"]
+    console.print(
+        f"  auto-accepted {accepted:,} of {mapped:,} ({facts['coverage']:.1%}), "
+        f"queued {facts['queued']:,}, audit sample {facts['audit']:,}"
+    )
+    if facts["queued_by_reason"]:
+        reasons = ", ".join(f"{k} {v:,}" for k, v in facts["queued_by_reason"].items())
+        console.print(f"  review items by reason: {escape(reasons)}")
+    if facts["threshold"] is None:
+        console.print("  [bold red]accept threshold: none[/bold red]")
+    else:
+        console.print(
+            f"  accept threshold {facts['threshold']:.3f} (validation coverage "
+            f"{facts['coverage_validation']:.1%} of {facts['validation_products']:,})"
+        )
+    console.print(f"  {escape(facts['statement'])}")
+    if facts["by_department"]:
+        table = Table(title="By department", title_justify="left")
+        table.add_column("department")
+        table.add_column("products", justify="right")
+        table.add_column("accepted", justify="right")
+        rows = sorted(facts["by_department"].items(), key=lambda i: -i[1]["products"])
+        for name, entry in rows:
+            table.add_row(escape(name), f"{entry['products']:,}", f"{entry['accepted']:,}")
+        console.print(table)
+    if facts["restricted"]:
+        flags = ", ".join(f"{k} {v:,}" for k, v in sorted(facts["restricted"].items()))
+        console.print(f"  restriction flags: {escape(flags)}")
+    if facts["rule_conflicts"]:
+        console.print(f"  rule conflicts: {facts['rule_conflicts']:,}")
+    if facts["stopped_early"]:
+        stopped = escape(facts["stopped_early"])
+        console.print(f"  [bold red]reading stopped early:[/bold red] {stopped}")
+    console.print(f"  store: {escape(facts['store'])}  ({facts['seconds']:.1f} s)")
+
+
+# -- status -----------------------------------------------------------------------------------
+
+
+def _status_facts(store: Store, feed: str | None, confidence: float) -> list[dict[str, Any]]:
+    names = [feed] if feed else [record.name for record in store.feeds()]
+    out = []
+    for name in names:
+        status = store.feed_status(name, confidence=confidence)
+        error = status.audit_error
+        out.append(
+            {
+                "feed": name,
+                "read": status.read,
+                "kept": status.kept,
+                "rejected": status.rejected,
+                "products": status.products,
+                "accepted": status.accepted + status.audit,
+                "queued": status.queued,
+                "reviewed": status.reviewed,
+                "open_items": status.open_items + status.claimed_items,
+                "done_items": status.done_items,
+                "audit_checked": status.audit_checked,
+                "audit_wrong": status.audit_wrong,
+                "audit_error": None
+                if error is None
+                else {
+                    "rate": error.rate,
+                    "low": error.low,
+                    "high": error.high,
+                    "confidence": error.confidence,
+                    "text": error.describe(),
+                },
+            }
+        )
+    return out
+
+
+@click.command("status")
+@_project_option
+@click.option("--feed", default=None, help="Only this feed (its name: the file stem).")
+@json_option
+def status_command(project: str | None, feed: str | None, as_json: bool) -> None:
+    """Show where each feed stands: rows, accepted, queue, reviews and the audited error.
+
+    The audited error is the share of reviewed audit samples that were wrong, with its exact
+    (Clopper-Pearson) 95% interval: the real error of the auto-accepted part.
+    """
+    folder = project_dir(project)
+    path = store_path(folder)
+    if not path.exists():
+        from catmap.errors import StoreError
+
+        raise StoreError(
+            "no project store here", path=path, hint="run `catmap onboard FEED` first"
+        )
+    with Store.open(path) as store:
+        feeds = _status_facts(store, feed, 0.95)
+    if as_json:
+        echo_json({"store": str(path), "feeds": feeds})
+        return
+    table = Table(title=f"Feeds in {escape(str(path))}", title_justify="left")
+    for header in ("feed", "read", "kept", "rejected", "accepted", "queued", "reviewed",
+                   "open", "done"):
+        table.add_column(header, justify="left" if header == "feed" else "right")
+
+    def number(value: int | None) -> str:
+        return "-" if value is None else f"{value:,}"
+
+    for f in feeds:
+        table.add_row(
+            escape(f["feed"]), number(f["read"]), number(f["kept"]), number(f["rejected"]),
+            number(f["accepted"]), number(f["queued"]), number(f["reviewed"]),
+            number(f["open_items"]), number(f["done_items"]),
+        )
+    console.print(table)
+    for f in feeds:
+        if f["audit_error"] is None:
+            console.print(f"{escape(f['feed'])}: no audit sample reviewed yet")
+        else:
+            console.print(
+                f"{escape(f['feed'])}: audited error of the auto-accepted part: "
+                f"{escape(f['audit_error']['text'])}"
+            )
+
+
+# -- export -----------------------------------------------------------------------------------
+
+
+@click.command("export")
+@click.option("--feed", default=None, help="Only this feed (default: every feed).")
+@click.option(
+    "--out",
+    "out_dir",
+    required=True,
+    type=click.Path(file_okay=False, path_type=Path),
+    help="Folder for the enriched products, rejects and accounting.",
+)
+@click.option(
+    "--format",
+    "output_format",
+    type=click.Choice(FORMATS),
+    default="csv",
+    show_default=True,
+    help="File format of the products.",
+)
+@_project_option
+@json_option
+def export_command(
+    feed: str | None, out_dir: Path, output_format: str, project: str | None, as_json: bool
+) -> None:
+    """Write each feed's enriched products (node, confidence, status, attributes), its rejects
+    and the accounting of its last run."""
+    folder = project_dir(project)
+    tree = _tree_for(folder)
+    with Store.open(store_path(folder)) as store:
+        names = [feed] if feed else [record.name for record in store.feeds()]
+        results = [
+            export_feed(store, name, out_dir, tree=tree, project=folder, format=output_format)
+            for name in names
+        ]
+    exported = [r.to_dict() for r in results]
+    if as_json:
+        echo_json({"out": str(out_dir), "feeds": exported})
+        return
+    _render_export(exported)
+
+
+def _render_export(feeds: list[dict[str, Any]]) -> None:
+    caution = ""
+    for f in feeds:
+        statuses = ", ".join(f"{k} {v:,}" for k, v in sorted(f["by_status"].items()))
+        console.print(f"{escape(f['feed'])}: {f['rows']:,} products ({escape(statuses)})")
+        console.print(f"  products:   {escape(f['products'])}")
+        if f["rejects"]:
+            console.print(f"  rejects:    {escape(f['rejects'])}")
+        console.print(f"  accounting: {escape(f['accounting'])}")
+        if f["restricted"]:
+            flags = ", ".join(f"{k} {v:,}" for k, v in sorted(f["restricted"].items()))
+            console.print(f"  restriction flags: {escape(flags)}")
+            caution = f["caution"]
+    if caution:
+        console.print(f"Note: {escape(caution)}")
+
+
+# -- decisions --------------------------------------------------------------------------------
+
+
+@click.group("decisions")
+def decisions_group() -> None:
+    """Review in a spreadsheet: export the queue to CSV, import the filled rows."""
+
+
+@decisions_group.command("export")
+@click.option(
+    "--out",
+    "out",
+    required=True,
+    type=click.Path(dir_okay=False, path_type=Path),
+    help="The CSV file to write.",
+)
+@click.option("--feed", default=None, help="Only this feed's items.")
+@_project_option
+@json_option
+def decisions_export_command(
+    out: Path, feed: str | None, project: str | None, as_json: bool
+) -> None:
+    """Write the review queue to a CSV: open items with empty columns to fill (reviewer_node,
+    action, brand, who, age, note), and the items already decided."""
+    folder = project_dir(project)
+    tree = _tree_for(folder)
+    with Store.open(store_path(folder)) as store:
+        counts = export_decisions(store, out, tree=tree, feed=feed)
+    if as_json:
+        echo_json(counts.to_dict())
+        return
+    console.print(
+        f"Wrote {counts.open:,} open and {counts.done:,} decided items to {escape(str(out))}"
+    )
+    console.print(
+        "Fill reviewer_node (a node id) and/or action (accept, choose, no_fit, "
+        "fix_attributes), then run `catmap decisions import FILE`."
+    )
+
+
+@decisions_group.command("import")
+@click.argument("file", type=click.Path(exists=True, dir_okay=False, path_type=Path))
+@click.option("--reviewer", default="spreadsheet", show_default=True,
+              help="Who the decisions are recorded for.")
+@click.option(
+    "--rejects",
+    default=None,
+    type=click.Path(dir_okay=False, path_type=Path),
+    help="Where to write bad rows (default: <file>.rejects.csv beside the file).",
+)
+@_project_option
+@json_option
+def decisions_import_command(
+    file: Path, reviewer: str, rejects: Path | None, project: str | None, as_json: bool
+) -> None:
+    """Apply the filled rows of a decisions CSV (each one audited); bad rows are reported with
+    their line and reason and written to a rejects CSV, good rows are applied."""
+    folder = project_dir(project)
+    tree = _tree_for(folder)
+    with Store.open(store_path(folder)) as store:
+        result = import_decisions(store, file, tree=tree, reviewer=reviewer, rejects=rejects)
+    facts = result.to_dict()
+    if as_json:
+        echo_json(facts)
+        return
+    actions = ", ".join(f"{k} {v:,}" for k, v in sorted(result.by_action.items()))
+    console.print(
+        f"Applied {result.applied:,} decisions ({escape(actions) or 'none'}); "
+        f"{len(result.bad):,} bad rows; {result.empty:,} rows left empty."
+    )
+    for bad in result.bad[:20]:
+        console.print(f"  {escape(str(file))}:{bad.line}: {escape(bad.reason)}")
+    if result.rejects_file:
+        console.print(f"Bad rows written to {escape(str(result.rejects_file))}")
+
+
+# -- demo -------------------------------------------------------------------------------------
+
+
+def _default_world() -> Path:
+    return Path(__file__).resolve().parent.parent.parent / "feeds_demo"
+
+
+@click.command("demo")
+@_project_option
+@click.option(
+    "--world",
+    default=None,
+    type=click.Path(file_okay=False, path_type=Path),
+    help="Demo world folder (default: feeds_demo of this checkout; built when missing).",
+)
+@click.option(
+    "--max-error",
+    default=DEFAULT_MAX_ERROR,
+    show_default=True,
+    type=click.FloatRange(0, 1, min_open=True, max_open=True),
+    help="Error rate allowed among auto-accepted mappings.",
+)
+@json_option
+def demo_command(
+    project: str | None, world: Path | None, max_error: float, as_json: bool
+) -> None:
+    """Run the whole job on the invented demo world: build it, train, onboard, measure, export.
+
+    Trains a model on the demo reference catalog if the project has none, onboards each demo
+    feed, compares the auto-accepted part with the feeds' gold labels and exports the result to
+    <project>/export/.
+    """
+    from catmap.classify.training import train_model
+    from catmap.demo import ensure_demo_world
+    from catmap.evaluate.run import read_gold_csv
+
+    started = time.perf_counter()
+    folder = project_dir(project)
+    root = world or _default_world()
+    err_console.print(f"demo world: {root}")
+    paths = ensure_demo_world(root)
+    tree = load_default_tree(1)
+    model_dir = default_model_dir(folder)
+    trained: dict[str, Any] | None = None
+    if not (model_dir / "manifest.json").exists():
+        with err_console.status("training on the demo reference catalog") as status:
+            report = train_model(
+                [paths.reference],
+                tree=tree,
+                project=folder,
+                model_dir=model_dir,
+                on_stage=lambda text: status.update(f"training: {text}"),
+            )
+        trained = report.to_dict()
+    from catmap.classify.storage import load_model
+    from catmap.onboard import FeedMapper
+
+    model, manifest = load_model(model_dir, tree)
+    validation = validation_predictions(
+        FeedMapper(model, manifest, tree), model_dir, project=folder,
+        labelled_feeds=[paths.reference],
+    )
+    options = OnboardOptions(max_error=max_error)
+    feeds: list[dict[str, Any]] = []
+    export_dir = folder / "export"
+    for name, gold_file in paths.gold.items():
+        summary = _onboard_with_progress(
+            paths.feeds[name], folder, tree, options, validation=validation
+        )
+        gold = {pid: g.node for pid, g in read_gold_csv(gold_file).items()}
+        with Store.open(store_path(folder)) as store:
+            check = check_against_gold(store, summary.feed, gold)
+            exported = export_feed(store, summary.feed, export_dir, tree=tree, project=folder)
+        feeds.append(
+            {
+                **summary.to_dict(),
+                "gold": check.to_dict(),
+                "export": exported.to_dict(),
+            }
+        )
+    facts = {
+        "project": str(folder),
+        "world": str(root),
+        "trained": trained,
+        "feeds": feeds,
+        "export": str(export_dir),
+        "seconds": round(time.perf_counter() - started, 1),
+        "review_command": f"catmap review --project {folder}",
+    }
+    if as_json:
+        echo_json(facts)
+        return
+    _render_demo(facts)
+
+
+def _render_demo(facts: dict[str, Any]) -> None:
+    if facts["trained"]:
+        t = facts["trained"]
+        console.print(
+            f"Trained on {t['products_train']:,} products, {t['classes']:,} classes "
+            f"in {t['training_seconds']:.0f} s"
+        )
+    table = Table(title="Demo feeds", title_justify="left")
+    for header in ("feed", "read", "kept", "rejected", "accepted", "queued", "coverage",
+                   "error vs gold"):
+        table.add_column(header, justify="left" if header == "feed" else "right")
+    for f in facts["feeds"]:
+        a, g = f["accounting"], f["gold"]
+        table.add_row(
+            escape(f["feed"]),
+            f"{a['read']:,}",
+            f"{a['kept']:,}",
+            f"{a['rejected']:,}",
+            f"{f['accepted'] + f['audit']:,}",
+            f"{f['queued']:,}",
+            f"{g['coverage']:.1%}",
+            f"{g['error']:.2%} ({g['wrong']}/{g['accepted']})",
+        )
+    console.print(table)
+    if facts["feeds"]:
+        console.print(escape(facts["feeds"][0]["statement"]))
+    console.print(f"Exported to {escape(facts['export'])}/")
+    console.print(f"Review the queue: [bold]{escape(facts['review_command'])}[/bold]")
+    console.print(f"({facts['seconds']:.0f} s)")
+
+
+def register(main: click.Group) -> None:
+    """Add ``onboard``, ``status``, ``export``, ``decisions`` and ``demo`` to catmap."""
+    main.add_command(onboard_command)
+    main.add_command(status_command)
+    main.add_command(export_command)
+    main.add_command(decisions_group)
+    main.add_command(demo_command)
