@@ -118,6 +118,7 @@ class AttributeExtractor:
         self._finder = BrandFinder(brands, retailer_names=self.retailer_names)
         self._nodes: dict[str | None, _NodeFacts] = {}
         self._colour_cache: dict[str, tuple[str, str]] = {}
+        self._path_cache: dict[tuple[str, ...], str] = {}
 
     def _node(self, node_id: str | None) -> _NodeFacts:
         facts = self._nodes.get(node_id)
@@ -164,7 +165,14 @@ class AttributeExtractor:
             match = BrandMatch(evidence="no brand found")
 
         # who and age
-        folded_path = fold(" / ".join(product.category_path)) if product.category_path else ""
+        folded_path = ""
+        if product.category_path:
+            folded_path = self._path_cache.get(product.category_path, "")
+            if not folded_path:
+                folded_path = fold(" / ".join(product.category_path))
+                if len(self._path_cache) > 100_000:
+                    self._path_cache.clear()
+                self._path_cache[product.category_path] = folded_path
         if not folded_description and product.description:
             folded_description = fold(product.description)
         if folded_description and match.brand:
