@@ -39,6 +39,7 @@ from types import TracebackType
 from typing import Any
 
 from catmap.errors import StoreError
+from catmap.queue import STRONG_GROUP_MIN_SIZE, STRONG_GROUP_SHARE
 from catmap.records import AGE_VALUES, WHO_VALUES, Alternative, Attributes, Mapping, Product
 
 STORE_FILE_NAME = "store.sqlite"
@@ -51,10 +52,6 @@ DECISION_ACTIONS = ("accept", "choose", "no_fit", "skip", "fix_attributes")
 # are judged one product at a time (an audit sample accepted in bulk would measure nothing).
 GROUP_REASONS = ("low_confidence", "remap")
 
-# A group is offered as one item when this share of its products sits on one node and it has at
-# least this many products (common practice, no source; see catmap.queue).
-STRONG_GROUP_SHARE = 0.9
-STRONG_GROUP_MIN_SIZE = 5
 
 DEFAULT_BATCH_SIZE = 5000
 DEFAULT_LEASE_SECONDS = 600
@@ -661,6 +658,23 @@ _DECISION_SELECT = (
 # --------------------------------------------------------------------------------------------
 
 
+class _Fetched:
+    """Rows already fetched, with the two cursor methods the store uses."""
+
+    def __init__(self, rows: list[Any]) -> None:
+        self._rows = rows
+
+    def fetchone(self) -> Any:
+        return self._rows[0] if self._rows else None
+
+    def fetchall(self) -> list[Any]:
+        return self._rows
+
+
+# Rows per page when streaming products and mappings out of the store.
+_PAGE = 2000
+
+
 class Store:
     """A project's SQLite store. Open with :meth:`open`; use as a context manager.
 
@@ -720,6 +734,7 @@ class Store:
             # FULL: a commit is on disk before the call returns (a killed process loses nothing
             # committed; with WAL, NORMAL would already survive a kill but not a power cut).
             conn.execute("PRAGMA synchronous=FULL")
+            conn.execute("PRAGMA cache_size=-65536")
             if migrate_schema:
                 migrate(conn)
         except sqlite3.DatabaseError as error:
@@ -784,9 +799,10 @@ class Store:
             else:
                 self._conn.execute("COMMIT")
 
-    def _read(self, sql: str, params: Sequence[Any] = ()) -> sqlite3.Cursor:
+    def _read(self, sql: str, params: Sequence[Any] | dict[str, Any] = ()) -> _Fetched:
+        # Rows are fetched under the lock: the connection may be shared between threads.
         with self._lock:
-            return self._conn.execute(sql, params)
+            return _Fetched(self._conn.execute(sql, params).fetchall())
 
     def _feed_id(self, feed: int | str) -> int:
         if isinstance(feed, int):
@@ -1143,14 +1159,20 @@ class Store:
         return product_from_json(row[0])
 
     def products(self, feed: int | str) -> Iterator[Product]:
-        """Yield a feed's saved products in id order (streamed)."""
+        """Yield a feed's saved products in id order, a page at a time (memory stays flat)."""
         fid = self._feed_id(feed)
-        with self._lock:
-            rows = self._conn.execute(
-                "SELECT data FROM products WHERE feed_id = ? ORDER BY product_id", (fid,)
+        last = ""
+        while True:
+            rows = self._read(
+                "SELECT product_id, data FROM products WHERE feed_id = ? AND product_id > ? "
+                "ORDER BY product_id LIMIT ?",
+                (fid, last, _PAGE),
             ).fetchall()
-        for row in rows:
-            yield product_from_json(row[0])
+            for row in rows:
+                yield product_from_json(row["data"])
+            if len(rows) < _PAGE:
+                return
+            last = rows[-1]["product_id"]
 
     def mapping(self, feed: int | str, product_id: str) -> StoredMapping:
         """Return a product's stored mapping. Raises StoreError when absent."""
@@ -1165,7 +1187,10 @@ class Store:
     def mappings(
         self, feed: int | str, *, status: str | None = None
     ) -> Iterator[tuple[Product, StoredMapping]]:
-        """Yield a feed's products with their mappings (for export), in product id order."""
+        """Yield a feed's products with their mappings (for export), in product id order.
+
+        Read a page at a time, so memory stays flat in feed size.
+        """
         fid = self._feed_id(feed)
         sql = (
             "SELECT products.data AS data, "
@@ -1176,10 +1201,15 @@ class Store:
         if status is not None:
             sql += " AND mappings.status = ?"
             params.append(status)
-        sql += " ORDER BY mappings.product_id"
-        rows = self._read(sql, params).fetchall()
-        for row in rows:
-            yield product_from_json(row["data"]), _mapping_from_row(row)
+        sql += " AND mappings.product_id > ? ORDER BY mappings.product_id LIMIT ?"
+        last = ""
+        while True:
+            rows = self._read(sql, [*params, last, _PAGE]).fetchall()
+            for row in rows:
+                yield product_from_json(row["data"]), _mapping_from_row(row)
+            if len(rows) < _PAGE:
+                return
+            last = rows[-1]["product_id"]
 
     # -- the review queue ---------------------------------------------------------------------
 
