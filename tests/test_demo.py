@@ -1,0 +1,307 @@
+"""Tests of the demo world generator and of the committed demo files (feeds_demo/)."""
+
+from __future__ import annotations
+
+import csv
+import gzip
+import io
+import re
+import xml.etree.ElementTree as ET
+from collections import Counter, defaultdict
+from pathlib import Path
+
+import pytest
+
+from catmap.demo import build_demo_world, demo_paths, ensure_demo_world, split_of
+from catmap.demo.__main__ import main as demo_main
+from catmap.demo._blocklist import BLOCKED_DIGESTS, is_blocked
+from catmap.demo._names import HARD_CASES
+from catmap.demo._retailers import ALL_RETAILERS
+from catmap.demo.world import XML_EXT_NAMESPACE, XML_NAMESPACE
+from catmap.records import AGE_VALUES, WHO_VALUES
+from catmap.taxonomy import CategoryTree, default_tree_path, load_tree
+
+REPO = Path(__file__).resolve().parents[1]
+DEMO = REPO / "feeds_demo"
+SMALL_FEEDS = {"ferravelle": 80, "quorvane": 60, "tallimbra": 90, "oskelund_labelled": 40}
+
+SMALL_TREE = """\
+@tree-version 1
+# a tiny tree for generator tests
+1000 | - | Apparel | who=female,male,unisex age=adult,kids,baby | - | en: clothing; clothes | fr: vêtements; habits | de: Bekleidung; Kleidung | es: ropa; prendas
+1010 | 1000 | Tops | . | - | en: tops; tees | fr: hauts; tops | de: Oberteile; Tops | es: tops; camisetas
+1011 | 1010 | T-shirts | . | - | en: t-shirt; tee; crew neck tee | fr: t-shirt; tee-shirt | de: T-Shirt; Shirt | es: camiseta; camiseta básica
+1012 | 1010 | Blouses | who=female | - | en: blouse; tunic blouse; chiffon blouse | fr: chemisier; blouse | de: Bluse; Damenbluse | es: blusa; blusa fluida
+1020 | 1000 | Dresses | who=female | - | en: dresses; frocks | fr: robes; robe | de: Kleider; Kleid | es: vestidos; vestido
+1021 | 1020 | Maxi dresses | . | - | en: maxi dress; long dress; floor-length dress | fr: robe longue; robe maxi | de: Maxikleid; langes Kleid | es: vestido largo; vestido maxi
+1022 | 1020 | Mini dresses | . | - | en: mini dress; short dress; skater dress | fr: robe courte; mini robe | de: Minikleid; kurzes Kleid | es: vestido corto; minivestido
+1500 | - | Footwear | who=female,male,unisex age=adult,kids | - | en: shoes; footwear | fr: chaussures; souliers | de: Schuhe; Schuhwerk | es: calzado; zapatos
+1520 | 1500 | Boots | . | - | en: boots; boot | fr: bottes; boots | de: Stiefel; Boots | es: botas; bota
+1521 | 1520 | Ankle boots | . | - | en: ankle boots; booties; chelsea boots | fr: bottines; boots courtes | de: Stiefeletten; Chelsea Boots | es: botines; botas bajas
+1522 | 1520 | Knee-high boots | . | - | en: knee-high boots; tall boots; riding boots | fr: bottes hautes; cuissardes | de: Langschaftstiefel; Reitstiefel | es: botas altas; botas de montar
+4000 | - | Home and kitchen | none | - | en: home; kitchen | fr: maison; cuisine | de: Haushalt; Küche | es: hogar; cocina
+4010 | 4000 | Cookware | . | - | en: cookware; pots and pans | fr: batterie de cuisine; casseroles | de: Kochgeschirr; Töpfe | es: menaje; batería de cocina
+4011 | 4010 | Frying pans | . | - | en: frying pan; skillet; fry pan | fr: poêle; poêle à frire | de: Bratpfanne; Pfanne | es: sartén; sartén antiadherente
+4012 | 4010 | Saucepans | . | - | en: saucepan; sauce pan; milk pan | fr: casserole; poêlon | de: Kochtopf; Stieltopf | es: cazo; cacerola
+"""  # noqa: E501
+
+
+@pytest.fixture(scope="module")
+def small_tree(tmp_path_factory: pytest.TempPathFactory) -> CategoryTree:
+    path = tmp_path_factory.mktemp("tree") / "tree-small.txt"
+    path.write_text(SMALL_TREE, encoding="utf-8")
+    return load_tree(path)
+
+
+@pytest.fixture(scope="module")
+def tree_v1() -> CategoryTree:
+    path = default_tree_path(1)
+    if not path.exists():
+        pytest.skip("taxonomies/tree-v1.txt is not there yet")
+    return load_tree(path)
+
+
+def _read_csv(data: bytes, *, encoding: str = "utf-8",
+              delimiter: str = ",") -> list[dict[str, str]]:
+    return list(csv.DictReader(io.StringIO(data.decode(encoding)), delimiter=delimiter))
+
+
+def _read_reference(path: Path) -> list[dict[str, str]]:
+    with gzip.open(path, "rt", encoding="utf-8", newline="") as fh:
+        return list(csv.DictReader(fh))
+
+
+def _disagreement(pairs: list[tuple[str, str]]) -> float:
+    """Share of products whose gold node differs from their category's most common gold node."""
+    by_category: dict[str, Counter[str]] = defaultdict(Counter)
+    for category, gold in pairs:
+        by_category[category][gold] += 1
+    agree = sum(c.most_common(1)[0][1] for c in by_category.values())
+    return 1 - agree / len(pairs)
+
+
+# -- the generator, on a small tree --------------------------------------------------------------
+
+def test_same_seed_gives_same_bytes(tmp_path: Path, small_tree: CategoryTree) -> None:
+    a = build_demo_world(tmp_path / "a", seed=0, reference_size=400, feed_sizes=SMALL_FEEDS,
+                         tree=small_tree)
+    b = build_demo_world(tmp_path / "b", seed=0, reference_size=400, feed_sizes=SMALL_FEEDS,
+                         tree=small_tree)
+    c = build_demo_world(tmp_path / "c", seed=1, reference_size=400, feed_sizes=SMALL_FEEDS,
+                         tree=small_tree)
+    files_a, files_b, files_c = a.all_files(), b.all_files(), c.all_files()
+    assert len(files_a) == 9
+    for fa, fb in zip(files_a, files_b, strict=True):
+        assert fa.read_bytes() == fb.read_bytes(), fa.name
+    assert files_a[1].read_bytes() != files_c[1].read_bytes()
+
+
+def test_ensure_builds_only_what_is_missing(tmp_path: Path, small_tree: CategoryTree) -> None:
+    full = build_demo_world(tmp_path / "full", seed=0, tree=small_tree)
+    root = tmp_path / "partial"
+    paths = ensure_demo_world(root, tree=small_tree)
+    assert [p.read_bytes() for p in paths.all_files()] == [
+        p.read_bytes() for p in full.all_files()]
+    paths.brands.write_text("kept\n", encoding="utf-8")
+    paths.reference.unlink()
+    ensure_demo_world(root, tree=small_tree)
+    assert paths.brands.read_text(encoding="utf-8") == "kept\n"
+    assert paths.reference.read_bytes() == full.reference.read_bytes()
+
+
+def test_small_tree_world_is_labelled_consistently(tmp_path: Path,
+                                                   small_tree: CategoryTree) -> None:
+    paths = build_demo_world(tmp_path, reference_size=1500, feed_sizes=SMALL_FEEDS,
+                             tree=small_tree)
+    rows = _read_reference(paths.reference)
+    leaves = {n.id for n in small_tree.leaves()}
+    assert {r["gold_node"] for r in rows} == leaves
+    for r in rows:
+        assert r["gold_who"] in WHO_VALUES and r["gold_age"] in AGE_VALUES
+        node = r["gold_node"]
+        expected_who = small_tree.who(node)
+        assert (r["gold_who"] in expected_who) or (
+            not expected_who and r["gold_who"] == "not_applicable")
+        if r["gold_node"] in ("4011", "4012"):  # audience "none" in the tree
+            assert (r["gold_who"], r["gold_age"]) == ("not_applicable", "not_applicable")
+
+
+# -- the committed files -------------------------------------------------------------------------
+
+def test_brands_file_has_400_invented_brands_with_variants(tree_v1: CategoryTree) -> None:
+    rows = _read_csv(demo_paths(DEMO).brands.read_bytes())
+    assert len(rows) >= 400
+    names = [r["brand"] for r in rows]
+    assert len(set(names)) == len(names)
+    departments = {d.id for d in tree_v1.departments()}
+    for r in rows:
+        variants = r["variants"].split(";")
+        assert len(variants) >= 3, r["brand"]
+        assert r["brand"] not in variants
+        assert r["brand"].upper() in variants or len(r["brand"]) <= 3
+        assert set(r["departments"].split(";")) <= departments
+    assert {d for r in rows for d in r["departments"].split(";")} == departments
+    # the hard cases: very short names, a shared first word, legal suffixes and ®/™ forms
+    assert any(len(n) <= 3 for n in names)
+    firsts = Counter(n.split()[0] for n in names if " " in n)
+    assert firsts.most_common(1)[0][1] >= 2
+    all_variants = ";".join(r["variants"] for r in rows)
+    for mark in ("GmbH", "Ltd", "S.A.S.", "Inc.", "®", "™"):
+        assert mark in all_variants
+    assert set(HARD_CASES) <= set(names)
+
+
+def test_no_generated_name_is_on_the_blocklist() -> None:
+    assert len(BLOCKED_DIGESTS) >= 300
+    rows = _read_csv(demo_paths(DEMO).brands.read_bytes())
+    for r in rows:
+        assert not is_blocked(r["brand"]), r["brand"]
+    for retailer in ALL_RETAILERS:
+        assert not is_blocked(retailer.name), retailer.name
+
+
+def test_french_feed_is_cp1252_semicolon_with_decimal_commas() -> None:
+    data = demo_paths(DEMO).feeds["ferravelle"].read_bytes()
+    with pytest.raises(UnicodeDecodeError):
+        data.decode("utf-8")
+    rows = _read_csv(data, encoding="cp1252", delimiter=";")
+    assert 2000 <= len(rows) <= 5000
+    assert b"\r\n" in data[:2000]
+    assert list(rows[0])[:2] == ["ref", "désignation"]
+    prices = [r["prix"] for r in rows]
+    assert all(re.fullmatch(r"\d{1,3}([ \u00a0]\d{3})*,\d\d €", p) for p in prices)
+    assert any(" " in p[:-2] or "\u00a0" in p for p in prices)  # thousands separators
+
+
+def test_xml_feed_has_namespaces_attributes_and_cdata() -> None:
+    path = demo_paths(DEMO).feeds["quorvane"]
+    data = path.read_bytes()
+    assert b"<![CDATA[<p>" in data
+    root = ET.fromstring(data)
+    assert root.tag == f"{{{XML_NAMESPACE}}}catalogue"
+    offers = root.findall(f"{{{XML_NAMESPACE}}}offers/{{{XML_NAMESPACE}}}offer")
+    assert 2000 <= len(offers) <= 5000
+    assert all(o.get("id") for o in offers)
+    assert all(o.get(f"{{{XML_EXT_NAMESPACE}}}lang") for o in offers)
+    prices = [o.find(f"{{{XML_NAMESPACE}}}price") for o in offers]
+    assert all(p is not None and p.get("currency") for p in prices)
+    assert any(o.find(f"{{{XML_EXT_NAMESPACE}}}audience") is not None for o in offers)
+    levels = offers[0].findall(f"{{{XML_NAMESPACE}}}category/{{{XML_NAMESPACE}}}level")
+    assert levels and offers[0].find(f"{{{XML_NAMESPACE}}}category").get("breadcrumb")
+
+
+def test_tsv_feed_has_bom_tabs_and_a_sparse_messy_gender_column() -> None:
+    data = demo_paths(DEMO).feeds["tallimbra"].read_bytes()
+    assert data.startswith(b"\xef\xbb\xbf")
+    rows = _read_csv(data, encoding="utf-8-sig", delimiter="\t")
+    assert 2000 <= len(rows) <= 5000
+    assert list(rows[0])[:3] == ["id", "title", "brand"]
+    filled = [r["gender"] for r in rows if r["gender"]]
+    assert 0.2 <= len(filled) / len(rows) <= 0.4
+    assert len(set(filled)) >= 20
+    assert "Ã" in data.decode("utf-8-sig")  # some mojibake
+
+
+@pytest.mark.parametrize("name", ["ferravelle", "quorvane", "tallimbra"])
+def test_gold_covers_every_feed_product_and_uses_tree_leaves(
+        name: str, tree_v1: CategoryTree) -> None:
+    paths = demo_paths(DEMO)
+    ids = _feed_ids(name, paths.feeds[name])
+    gold = _read_csv(paths.gold[name].read_bytes())
+    gold_ids = [g["product_id"] for g in gold]
+    assert len(gold_ids) == len(set(gold_ids))
+    assert set(ids) == set(gold_ids)
+    assert 1 <= len(ids) - len(set(ids)) <= 20  # a handful of duplicate ids
+    for g in gold:
+        assert tree_v1.is_leaf(g["gold_node"])
+        assert g["gold_who"] in WHO_VALUES and g["gold_age"] in AGE_VALUES
+
+
+def _feed_ids(name: str, path: Path) -> list[str]:
+    data = path.read_bytes()
+    if name == "ferravelle":
+        return [r["ref"] for r in _read_csv(data, encoding="cp1252", delimiter=";")]
+    if name == "tallimbra":
+        return [r["id"] for r in _read_csv(data, encoding="utf-8-sig", delimiter="\t")]
+    root = ET.fromstring(data)
+    return [o.get("id", "") for o in root.iter(f"{{{XML_NAMESPACE}}}offer")]
+
+
+def _feed_categories(name: str, path: Path) -> dict[str, str]:
+    data = path.read_bytes()
+    if name == "ferravelle":
+        return {r["ref"]: r["rayon"] for r in _read_csv(data, encoding="cp1252", delimiter=";")}
+    if name == "tallimbra":
+        return {r["id"]: r["category"]
+                for r in _read_csv(data, encoding="utf-8-sig", delimiter="\t")}
+    root = ET.fromstring(data)
+    cat = f"{{{XML_NAMESPACE}}}category"
+    return {o.get("id", ""): o.find(cat).get("breadcrumb", "")  # type: ignore[union-attr]
+            for o in root.iter(f"{{{XML_NAMESPACE}}}offer")}
+
+
+@pytest.mark.parametrize("name", ["ferravelle", "quorvane", "tallimbra"])
+def test_retailer_categories_disagree_with_gold_often_enough(name: str) -> None:
+    paths = demo_paths(DEMO)
+    categories = _feed_categories(name, paths.feeds[name])
+    gold = {g["product_id"]: g["gold_node"] for g in _read_csv(paths.gold[name].read_bytes())}
+    pairs = [(categories[pid], node) for pid, node in gold.items()]
+    assert _disagreement(pairs) >= 0.15
+
+
+def test_labelled_feed_has_gold_columns() -> None:
+    rows = _read_csv(demo_paths(DEMO).feeds["oskelund_labelled"].read_bytes())
+    assert 2000 <= len(rows) <= 5000
+    assert {"gold_node", "gold_brand", "gold_who", "gold_age", "gold_colour"} <= set(rows[0])
+
+
+# -- the reference catalog on tree v1 --------------------------------------------------------------
+
+def test_reference_on_tree_v1_covers_every_leaf(tmp_path: Path, tree_v1: CategoryTree) -> None:
+    n_leaves = len(tree_v1.leaves())
+    paths = build_demo_world(tmp_path, reference_size=3 * n_leaves, feed_sizes=SMALL_FEEDS,
+                             tree=tree_v1)
+    rows = _read_reference(paths.reference)
+    assert {r["gold_node"] for r in rows} == {n.id for n in tree_v1.leaves()}
+    assert len({r["retailer"] for r in rows}) >= 5
+    assert _disagreement([(r["retailer_category"], r["gold_node"]) for r in rows]) >= 0.15
+
+
+@pytest.mark.slow
+def test_full_size_reference_counts(tmp_path: Path, tree_v1: CategoryTree) -> None:
+    paths = build_demo_world(tmp_path, tree=tree_v1)
+    rows = _read_reference(paths.reference)
+    assert len(rows) >= 60000
+    per_leaf = Counter(r["gold_node"] for r in rows)
+    assert set(per_leaf) == {n.id for n in tree_v1.leaves()}
+    assert min(per_leaf.values()) >= 40
+    assert max(per_leaf.values()) >= 3 * min(per_leaf.values())  # unequal sizes
+    splits = Counter(r["split"] for r in rows)
+    assert set(splits) == {"train", "valid", "test"}
+    # realism checks on titles and labels
+    titles = [(r["title"], r) for r in rows]
+    womens = [r for t, r in titles if re.search(r"\b(Women's|Damen|Femme|Mujer)\b", t)]
+    assert womens and all(r["gold_who"] == "female" for r in womens)
+    mens = [r for t, r in titles if re.search(r"\b(Men's|Herren|Homme|Hombre)\b", t)]
+    assert mens and all(r["gold_who"] == "male" for r in mens)
+    kids_sized = [r for t, r in titles if re.search(r"\b(\d+ ans|age \d+-\d+|\d+ años)\b", t)]
+    assert kids_sized and all(r["gold_age"] == "kids" for r in kids_sized)
+    assert any(r["brand"] == "" and r["gold_brand"] and r["gold_brand"] in r["title"]
+               for _, r in titles)
+
+
+def test_split_rule_is_fixed_by_product_id() -> None:
+    # the declared rule (feeds_demo/README.md): 70 / 10 / 20 by a hash of the product id
+    ids = [f"X{i}" for i in range(20000)]
+    counts = Counter(split_of(i) for i in ids)
+    assert abs(counts["train"] / 20000 - 0.7) < 0.02
+    assert abs(counts["valid"] / 20000 - 0.1) < 0.02
+    assert abs(counts["test"] / 20000 - 0.2) < 0.02
+    assert [split_of(i) for i in ids[:50]] == [split_of(i) for i in ids[:50]]
+
+
+def test_module_entry_point_has_help(capsys: pytest.CaptureFixture[str]) -> None:
+    with pytest.raises(SystemExit) as exc:
+        demo_main(["--help"])
+    assert exc.value.code == 0
+    assert "--reference-size" in capsys.readouterr().out
