@@ -20,6 +20,7 @@ from __future__ import annotations
 import re
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass
+from functools import lru_cache
 from typing import cast
 
 from catmap.attributes._text import PhraseIndex, fold
@@ -440,6 +441,18 @@ def extract_audience(
     )
 
 
+@lru_cache(maxsize=4096)
+def _column_cues(gender_text: str) -> Cues:
+    # Gender columns hold a handful of distinct values: read each once.
+    return read_cues(fold(gender_text), column=True)
+
+
+@lru_cache(maxsize=4096)
+def _size_facts(size: str) -> tuple[str, tuple[str, str] | None]:
+    folded = fold(size)
+    return folded, age_from_size(folded, bare_numbers=True)
+
+
 def extract_audience_folded(
     *,
     gender_text: str,
@@ -451,13 +464,12 @@ def extract_audience_folded(
     allowed_ages: frozenset[str] | None,
 ) -> Audience:
     """As :func:`extract_audience`, with title, path and description already folded."""
-    column = read_cues(fold(gender_text), column=True) if gender_text else Cues()
-    folded_size = fold(size) if size else ""
+    column = _column_cues(gender_text) if gender_text else Cues()
+    folded_size, size_age = _size_facts(size) if size else ("", None)
     text = read_cues(f"{folded_title} {folded_path} {folded_size}".strip())
     if not text.who and not text.age and folded_description:
         described = read_cues(folded_description)
         text = Cues(described.who, described.age, text.weak_who + described.weak_who)
-    size_age = age_from_size(folded_size, bare_numbers=True) if folded_size else None
     if size_age is None:
         size_age = age_from_size(folded_title)
     return decide_audience(
