@@ -1,0 +1,480 @@
+"""Benchmark catmap's mapping model against what a user would write instead, and fastText.
+
+One run on the demo reference catalog's fixed split (train / valid / test): catmap's model
+(trained through the library, calibrated on the valid split) against
+
+* TF-IDF + logistic regression over the same text fields concatenated, and over the title alone
+  (scikit-learn defaults a user would reach for);
+* fastText supervised (wordNgrams=2), on the title and on the concatenated fields, when the
+  ``fasttext`` module imports (``pip install fasttext-wheel``); else the rows say why not.
+
+Per model: test accuracy, weighted F1, hierarchical F1, ECE (15 bins), training time, size on
+disk and in memory, and mapping speed. Speeds are measured on one core and say what they cover:
+catmap's is the full path from the CSV file (reading + normalising + mapping); the baselines'
+is ``predict_proba`` on already extracted text; fastText's is ``predict`` per product in Python.
+
+Usage:
+    python benchmarks/bench_model.py                   # the 60k demo catalog
+    python benchmarks/bench_model.py --quick           # a small run (a few thousand products)
+    python benchmarks/bench_model.py --train-size 1000000 --only catmap   # training-time check
+"""
+
+from __future__ import annotations
+
+import argparse
+import copy
+import csv
+import gc
+import os
+import pickle
+import sys
+import tempfile
+import time
+import tracemalloc
+from collections.abc import Callable, Sequence
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+
+ROOT = Path(__file__).resolve().parent.parent
+sys.path.insert(0, str(ROOT))
+
+from catmap.evaluate import (  # noqa: E402
+    accuracy,
+    expected_calibration_error,
+    f1_scores,
+    hierarchical_scores,
+    parent_map,
+)
+from catmap.records import Product  # noqa: E402
+from catmap.taxonomy import CategoryTree, load_default_tree  # noqa: E402
+
+GOLD_COLUMNS = ("gold_node", "gold_brand", "gold_who", "gold_age", "gold_colour", "split")
+
+
+@dataclass
+class Row:
+    """One model's figures."""
+
+    name: str
+    accuracy: float = float("nan")
+    weighted_f1: float = float("nan")
+    hierarchical_f1: float = float("nan")
+    ece: float = float("nan")
+    train_seconds: float = float("nan")
+    disk_mb: float = float("nan")
+    memory_mb: float = float("nan")
+    per_second: float = float("nan")
+    notes: list[str] = field(default_factory=list)
+
+
+# -- data -----------------------------------------------------------------------------------
+
+
+def _reference_path(train_size: int | None, workdir: Path) -> Path:
+    if train_size is None:
+        from catmap.demo import ensure_demo_world
+
+        return ensure_demo_world(ROOT / "feeds_demo").reference
+    from catmap.demo import build_demo_world
+
+    sizes = {"ferravelle": 10, "quorvane": 10, "tallimbra": 10, "oskelund_labelled": 10}
+    print(f"generating a {train_size:,}-product catalog in {workdir} ...", file=sys.stderr)
+    started = time.perf_counter()
+    paths = build_demo_world(workdir / "demo", reference_size=train_size, feed_sizes=sizes)
+    print(f"  generated in {time.perf_counter() - started:.0f} s", file=sys.stderr)
+    return paths.reference
+
+
+def _read_products(path: Path) -> list[Product]:
+    """Read a labelled catalog through catmap's own reader and normaliser (gold kept in extra)."""
+    from catmap.evaluate.run import profile_without_gold
+    from catmap.feeds import open_feed
+    from catmap.fieldmap import suggest_profile
+    from catmap.ingest import Accounting, iter_products
+
+    feed = open_feed(path)
+    profile = profile_without_gold(suggest_profile(feed.info, feed.sample(200)), "gold_node")
+    return [p for p in iter_products(feed, profile, Accounting()) if isinstance(p, Product)]
+
+
+def _write_feed(products: Sequence[Product], path: Path, source: Path) -> None:
+    """Write the test products' raw source rows (gold columns dropped) as a plain CSV feed."""
+    wanted = {p.product_id for p in products}
+    import gzip
+
+    opener: Callable[..., Any] = gzip.open if source.suffix == ".gz" else open
+    with (
+        opener(source, "rt", encoding="utf-8", newline="") as src,
+        path.open("w", encoding="utf-8", newline="") as out,
+    ):
+        reader = csv.DictReader(src)
+        columns = [c for c in (reader.fieldnames or []) if c not in GOLD_COLUMNS]
+        writer = csv.DictWriter(out, fieldnames=columns, extrasaction="ignore")
+        writer.writeheader()
+        for row in reader:
+            if row["product_id"] in wanted:
+                writer.writerow(row)
+
+
+def _joined(p: Product) -> str:
+    return " ".join([p.title, " > ".join(p.category_path), p.brand, p.description[:300]]).strip()
+
+
+# -- measuring ------------------------------------------------------------------------------
+
+
+def _rss_mb() -> float:
+    with open("/proc/self/status", encoding="ascii") as status:
+        for line in status:
+            if line.startswith("VmRSS:"):
+                return int(line.split()[1]) / 1024
+    return float("nan")
+
+
+def _deep_size_mb(obj: Any, shared: Sequence[Any] = ()) -> float:
+    """Bytes allocated by a deep copy of ``obj`` (shared objects such as the tree excluded)."""
+    gc.collect()
+    tracemalloc.start()
+    before = tracemalloc.get_traced_memory()[0]
+    clone = copy.deepcopy(obj, {id(s): s for s in shared})
+    after = tracemalloc.get_traced_memory()[0]
+    tracemalloc.stop()
+    del clone
+    return (after - before) / 1e6
+
+
+def _scores(
+    row: Row,
+    tree: CategoryTree,
+    parents: dict[str, str | None],
+    gold: list[str],
+    predicted: list[str],
+    confidence: Sequence[float],
+) -> None:
+    row.accuracy = accuracy(gold, predicted)
+    row.weighted_f1 = f1_scores(gold, predicted)[1]
+    row.hierarchical_f1 = hierarchical_scores(gold, predicted, parents).f1
+    # an answer is right for calibration when the gold leaf lies under it (back-off answers)
+    right = [
+        p == g or (p in tree and any(a.id == p for a in tree.ancestors(g)))
+        for g, p in zip(gold, predicted, strict=True)
+    ]
+    row.ece = expected_calibration_error(np.clip(confidence, 0.0, 1.0).tolist(), right)
+
+
+def _one_thread() -> Any:
+    from threadpoolctl import threadpool_limits
+
+    return threadpool_limits(limits=1)
+
+
+# -- catmap ---------------------------------------------------------------------------------
+
+
+def run_catmap(
+    tree: CategoryTree,
+    parents: dict[str, str | None],
+    train: list[Product],
+    valid: list[Product],
+    test: list[Product],
+    test_feed: Path,
+    workdir: Path,
+) -> Row:
+    from catmap.classify.features import product_texts
+    from catmap.classify.model import CategoryModel
+
+    row = Row("catmap model")
+    labels = [p.extra["gold_node"] for p in train]
+    started = time.perf_counter()
+    model = CategoryModel(tree=tree, random_state=0).fit(product_texts(train), labels)
+    model.calibrate(product_texts(valid), [p.extra["gold_node"] for p in valid])
+    row.train_seconds = time.perf_counter() - started
+    row.notes.append("training: fit + calibration on the valid split, 2 threads")
+
+    disk = _save_catmap(model, workdir / "catmap-model")
+    if disk is not None:
+        row.disk_mb = disk
+    else:
+        row.disk_mb = len(pickle.dumps(model)) / 1e6
+        row.notes.append("disk: pickled size (no model folder writer found)")
+    row.memory_mb = _deep_size_mb(model, shared=[tree])
+    row.notes.append("memory: bytes allocated by a deep copy, tree excluded (tracemalloc)")
+
+    gold = [p.extra["gold_node"] for p in test]
+    proba = model.predict_proba(product_texts(test))
+    best = proba.argmax(axis=1)
+    _scores(row, tree, parents, gold, model.classes_[best].tolist(), proba.max(axis=1).tolist())
+    row.notes.append("scores: best leaf (no back-off)")
+
+    row.per_second = _catmap_speed(model, test_feed)
+    row.notes.append("speed: CSV file → read → normalise → map, one core")
+    return row
+
+
+def _save_catmap(model: Any, folder: Path) -> float | None:
+    """Save with the model package's own writer when there is one; return the MB on disk."""
+    try:
+        import catmap.classify as package
+    except ImportError:
+        return None
+    for name in ("save_model", "save"):
+        writer = getattr(package, name, None)
+        if callable(writer):
+            writer(model, folder)
+            return sum(f.stat().st_size for f in folder.rglob("*") if f.is_file()) / 1e6
+    return None
+
+
+def _catmap_speed(model: Any, feed_path: Path, chunk: int = 20_000) -> float:
+    from catmap.classify.features import product_texts
+    from catmap.feeds import open_feed
+    from catmap.fieldmap import suggest_profile
+    from catmap.ingest import Accounting, iter_products
+
+    with _one_thread():
+        started = time.perf_counter()
+        feed = open_feed(feed_path)
+        profile = suggest_profile(feed.info, feed.sample(200))
+        mapped = 0
+        batch: list[Product] = []
+        for item in iter_products(feed, profile, Accounting()):
+            if isinstance(item, Product):
+                batch.append(item)
+            if len(batch) >= chunk:
+                mapped += int(model.predict_proba(product_texts(batch)).argmax(axis=1).size)
+                batch = []
+        if batch:
+            mapped += int(model.predict_proba(product_texts(batch)).argmax(axis=1).size)
+        elapsed = time.perf_counter() - started
+    return mapped / elapsed
+
+
+# -- scikit-learn baselines -----------------------------------------------------------------
+
+
+def run_sklearn(
+    name: str,
+    text: Callable[[Product], str],
+    tree: CategoryTree,
+    parents: dict[str, str | None],
+    train: list[Product],
+    test: list[Product],
+    workdir: Path,
+) -> Row:
+    from sklearn.feature_extraction.text import TfidfVectorizer
+    from sklearn.linear_model import LogisticRegression
+    from sklearn.pipeline import make_pipeline
+
+    row = Row(name)
+    x_train = [text(p) for p in train]
+    y_train = [p.extra["gold_node"] for p in train]
+    pipeline = make_pipeline(TfidfVectorizer(), LogisticRegression(max_iter=1000))
+    started = time.perf_counter()
+    pipeline.fit(x_train, y_train)
+    row.train_seconds = time.perf_counter() - started
+    row.notes.append("TfidfVectorizer() + LogisticRegression(max_iter=1000), defaults")
+
+    path = workdir / f"{name.replace(' ', '_')}.pkl"
+    path.write_bytes(pickle.dumps(pipeline))  # written and measured here only, never loaded
+    row.disk_mb = path.stat().st_size / 1e6
+    row.memory_mb = _deep_size_mb(pipeline)
+
+    x_test = [text(p) for p in test]
+    with _one_thread():
+        started = time.perf_counter()
+        proba = pipeline.predict_proba(x_test)
+        best = proba.argmax(axis=1)
+        elapsed = time.perf_counter() - started
+    row.per_second = len(x_test) / elapsed
+    row.notes.append("speed: predict_proba on already extracted text, one thread")
+    classes = pipeline.classes_
+    _scores(
+        row,
+        tree,
+        parents,
+        [p.extra["gold_node"] for p in test],
+        [str(c) for c in classes[best]],
+        proba.max(axis=1).tolist(),
+    )
+    return row
+
+
+# -- fastText -------------------------------------------------------------------------------
+
+
+def run_fasttext(
+    name: str,
+    text: Callable[[Product], str],
+    tree: CategoryTree,
+    parents: dict[str, str | None],
+    train: list[Product],
+    test: list[Product],
+    workdir: Path,
+) -> Row:
+    row = Row(name)
+    try:
+        import fasttext
+    except ImportError as error:
+        row.notes.append(f"skipped: fasttext does not import ({error}); pip install fasttext-wheel")
+        return row
+
+    def clean(value: str) -> str:
+        return " ".join(value.lower().split())
+
+    train_file = workdir / f"{name.replace(' ', '_')}.train.txt"
+    with train_file.open("w", encoding="utf-8") as out:
+        for p in train:
+            out.write(f"__label__{p.extra['gold_node']} {clean(text(p))}\n")
+    started = time.perf_counter()
+    model = fasttext.train_supervised(
+        input=str(train_file), wordNgrams=2, epoch=25, lr=0.5, thread=2, seed=0, verbose=0
+    )
+    row.train_seconds = time.perf_counter() - started
+    row.notes.append("train_supervised(wordNgrams=2, epoch=25, lr=0.5, thread=2)")
+    model_file = workdir / f"{name.replace(' ', '_')}.bin"
+    model.save_model(str(model_file))
+    row.disk_mb = model_file.stat().st_size / 1e6
+    del model
+    gc.collect()
+    before = _rss_mb()
+    model = fasttext.load_model(str(model_file))
+    row.memory_mb = _rss_mb() - before
+    row.notes.append("memory: RSS growth when loading the saved model")
+
+    texts = [clean(text(p)) for p in test]
+    predicted: list[str] = []
+    confidence: list[float] = []
+    started = time.perf_counter()
+    # The wrapper's predict() breaks under NumPy 2 (np.array(copy=False)); its C++ object
+    # answers the same call with a list of (probability, label) pairs.
+    predict = model.f.predict
+    for t in texts:
+        found = predict(t, 1, 0.0, "strict")
+        if not found:  # no known word: no answer
+            predicted.append("")
+            confidence.append(0.0)
+            continue
+        prob, label = found[0]
+        predicted.append(label.removeprefix("__label__"))
+        confidence.append(float(prob))
+    row.per_second = len(texts) / (time.perf_counter() - started)
+    row.notes.append("speed: predict per product in Python, one thread, text already extracted")
+    _scores(row, tree, parents, [p.extra["gold_node"] for p in test], predicted, confidence)
+    return row
+
+
+# -- main -----------------------------------------------------------------------------------
+
+
+def _print_table(rows: list[Row], sizes: tuple[int, int, int]) -> None:
+    print(f"\ntrain {sizes[0]:,}  valid {sizes[1]:,}  test {sizes[2]:,} products")
+    header = (
+        f"{'model':<28} {'acc':>6} {'wF1':>6} {'hF1':>6} {'ECE':>7} {'train s':>8} "
+        f"{'disk MB':>8} {'mem MB':>8} {'products/s':>11}"
+    )
+    print(header)
+    print("-" * len(header))
+
+    def f(value: float, spec: str) -> str:
+        return "-" if value != value else format(value, spec)  # NaN → "-"
+
+    for r in rows:
+        print(
+            f"{r.name:<28} {f(r.accuracy, '.3f'):>6} {f(r.weighted_f1, '.3f'):>6} "
+            f"{f(r.hierarchical_f1, '.3f'):>6} {f(r.ece, '.4f'):>7} "
+            f"{f(r.train_seconds, '.1f'):>8} {f(r.disk_mb, '.1f'):>8} {f(r.memory_mb, '.1f'):>8} "
+            f"{f(r.per_second, ',.0f'):>11}"
+        )
+    print("\nnotes:")
+    for r in rows:
+        for note in r.notes:
+            print(f"  {r.name}: {note}")
+
+
+def main(argv: list[str] | None = None) -> int:
+    parser = argparse.ArgumentParser(description=__doc__.split("\n\n")[0])
+    parser.add_argument("--quick", action="store_true", help="a small run: 6k train, 2k test")
+    parser.add_argument(
+        "--train-size",
+        type=int,
+        default=None,
+        help="generate a catalog of this many products (seeded) instead of the 60k demo one",
+    )
+    parser.add_argument(
+        "--only",
+        default="catmap,tfidf-all,tfidf-title,fasttext",
+        help="comma-separated subset of: catmap, tfidf-all, tfidf-title, fasttext",
+    )
+    args = parser.parse_args(argv)
+    chosen = {name.strip() for name in args.only.split(",")}
+
+    tree = load_default_tree(1)
+    parents = parent_map(tree)
+    with tempfile.TemporaryDirectory(prefix="catmap-bench-") as tmp:
+        workdir = Path(tmp)
+        source = _reference_path(args.train_size, workdir)
+        started = time.perf_counter()
+        products = _read_products(source)
+        print(
+            f"read {len(products):,} products in {time.perf_counter() - started:.1f} s",
+            file=sys.stderr,
+        )
+        split: dict[str, list[Product]] = {"train": [], "valid": [], "test": []}
+        for p in products:
+            split.setdefault(p.extra.get("split", ""), []).append(p)
+        train, valid, test = split["train"], split["valid"], split["test"]
+        if args.quick:
+            train, valid, test = train[:6000], valid[:1000], test[:2000]
+        del products
+        test_feed = workdir / "test-feed.csv"
+        _write_feed(test, test_feed, source)
+
+        rows: list[Row] = []
+
+        def title(p: Product) -> str:
+            return p.title
+
+        steps: list[tuple[str, Callable[[], Row]]] = [
+            (
+                "catmap",
+                lambda: run_catmap(tree, parents, train, valid, test, test_feed, workdir),
+            ),
+            (
+                "tfidf-all",
+                lambda: run_sklearn(
+                    "tfidf+logreg (all fields)", _joined, tree, parents, train, test, workdir
+                ),
+            ),
+            (
+                "tfidf-title",
+                lambda: run_sklearn(
+                    "tfidf+logreg (title)", title, tree, parents, train, test, workdir
+                ),
+            ),
+            (
+                "fasttext",
+                lambda: run_fasttext(
+                    "fastText (title)", title, tree, parents, train, test, workdir
+                ),
+            ),
+            (
+                "fasttext",
+                lambda: run_fasttext(
+                    "fastText (all fields)", _joined, tree, parents, train, test, workdir
+                ),
+            ),
+        ]
+        for key, step in steps:
+            if key in chosen:
+                print(f"running {key} ...", file=sys.stderr)
+                rows.append(step())
+        _print_table(rows, (len(train), len(valid), len(test)))
+    return 0
+
+
+if __name__ == "__main__":
+    os.environ.setdefault("PYTHONHASHSEED", "0")
+    raise SystemExit(main())
