@@ -1,0 +1,446 @@
+"""Map a whole feed: read → normalise → rules → model (or keywords) → consensus → back-off → write.
+
+Streaming in chunks. Pass 1 reads the feed, applies the rules, and has worker processes compute
+each chunk's class probabilities (the featurisation and the sparse products are the costly part);
+it keeps only each product's ``TOP_K`` most probable classes in a temporary folder and counts
+the retailer-path consensus. Pass 2 blends each product with its path's share vector, backs off,
+and writes the mappings. Memory stays flat in feed size apart from the per-path counts.
+"""
+
+from __future__ import annotations
+
+import csv
+import json
+import multiprocessing
+import tempfile
+from collections import Counter, deque
+from collections.abc import Callable, Iterable, Iterator
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import IO, Any
+
+import numpy as np
+import scipy.sparse as sp
+
+from catmap.classify.backoff import NodeIndex, backoff_rows
+from catmap.classify.consensus import MIN_PRODUCTS, PathConsensus, path_consensus
+from catmap.classify.features import ProductTexts, product_texts
+from catmap.classify.keywords import KeywordMapper
+from catmap.classify.model import CategoryModel
+from catmap.classify.rules import RuleSet
+from catmap.fieldmap import FeedProfile
+from catmap.ingest import FATAL_FEED_ERRORS, Accounting, iter_products
+from catmap.records import Product, Reject, SourceRecord
+from catmap.taxonomy import CategoryTree
+from catmap.writers import neutralise_cell, open_reject_writer
+
+__all__ = ["MAPPING_COLUMNS", "CONFIDENCE_BANDS", "MapSummary", "Mapper", "map_feed"]
+
+TOP_K = 10
+CHUNK_SIZE = 20_000
+CONFIDENCE_BANDS = ((0.0, 0.5), (0.5, 0.8), (0.8, 0.95), (0.95, 1.0))
+MAPPING_COLUMNS = (
+    "product_id", "title", "node_id", "node_path", "confidence", "method",
+    "alt1_node", "alt1_confidence", "alt2_node", "alt2_confidence", "alt3_node",
+    "alt3_confidence", "reason",
+)
+
+
+class Mapper:
+    """Class probabilities for product texts, from a trained model or from keywords alone.
+
+    Args:
+        tree: the category tree.
+        model: a trained model, or None for cold start (keywords only).
+        consensus_weight: weight of the retailer-path share vector in pass 2.
+    """
+
+    def __init__(
+        self, tree: CategoryTree, model: CategoryModel | None = None, *, consensus_weight: float = 0.0
+    ) -> None:
+        self.tree = tree
+        self.model = model
+        self.consensus_weight = consensus_weight
+        if model is not None:
+            self.classes: list[str] = model.classes_.tolist()
+            self.keywords: KeywordMapper | None = None
+        else:
+            self.keywords = KeywordMapper(tree=tree).fit()
+            self.classes = self.keywords.classes_.tolist()
+        self.method = "model" if model is not None else "cold_start"
+        self.index = NodeIndex(tree, self.classes)
+        self.column = {c: i for i, c in enumerate(self.classes)}
+
+    def predict_proba(self, texts: ProductTexts) -> np.ndarray[Any, Any]:
+        """Return (n, classes) probabilities."""
+        if self.model is not None:
+            return self.model.predict_proba(texts)
+        assert self.keywords is not None
+        return self.keywords.predict_proba(texts)
+
+    def top_k(self, texts: ProductTexts, k: int = TOP_K) -> tuple[np.ndarray[Any, Any], np.ndarray[Any, Any]]:
+        """Return the k most probable class columns and their probabilities, best first."""
+        p = self.predict_proba(texts)
+        k = min(k, p.shape[1])
+        idx = np.argpartition(-p, k - 1, axis=1)[:, :k]
+        vals = np.take_along_axis(p, idx, axis=1)
+        order = np.argsort(-vals, axis=1)
+        return (
+            np.take_along_axis(idx, order, axis=1).astype(np.int32),
+            np.take_along_axis(vals, order, axis=1).astype(np.float32),
+        )
+
+
+# The mapper a worker process uses: set before the pool forks, so it is shared, not copied.
+_WORKER_MAPPER: Mapper | None = None
+
+
+def _worker_top_k(
+    fields: tuple[list[str], list[str], list[str], list[str]]
+) -> tuple[np.ndarray[Any, Any], np.ndarray[Any, Any]]:
+    assert _WORKER_MAPPER is not None
+    return _WORKER_MAPPER.top_k(ProductTexts(*fields))
+
+
+@dataclass
+class MapSummary:
+    """The facts of a mapping run (what ``catmap map`` prints)."""
+
+    products: int = 0
+    by_method: dict[str, int] = field(default_factory=dict)
+    confidence_bands: dict[str, int] = field(default_factory=dict)
+    by_department: dict[str, int] = field(default_factory=dict)
+    retailer_paths: list[dict[str, Any]] = field(default_factory=list)
+    rules: dict[str, Any] = field(default_factory=dict)
+    accounting: dict[str, Any] = field(default_factory=dict)
+    outputs: dict[str, str] = field(default_factory=dict)
+    threshold: float = 0.5
+    mode: str = "model"
+
+    def to_dict(self) -> dict[str, Any]:
+        """Return the facts as JSON-ready values."""
+        return dict(self.__dict__)
+
+
+class _MappingWriter:
+    """Write mapping rows as JSON Lines, CSV (formula-safe) or Parquet (one row group a chunk)."""
+
+    def __init__(self, path: Path, format: str) -> None:
+        self.path, self.format = path, format
+        self._handle: IO[str] | None = None
+        self._parquet: Any = None
+        if format == "jsonl":
+            self._handle = open(path, "w", encoding="utf-8", newline="\n")
+        elif format == "csv":
+            self._handle = open(path, "w", encoding="utf-8", newline="")
+            self._csv = csv.writer(self._handle)
+            self._csv.writerow(MAPPING_COLUMNS)
+
+    def write_rows(self, rows: list[dict[str, Any]]) -> None:
+        if self.format == "jsonl":
+            assert self._handle is not None
+            self._handle.writelines(json.dumps(r, ensure_ascii=False) + "\n" for r in rows)
+        elif self.format == "csv":
+            for r in rows:
+                self._csv.writerow(
+                    [neutralise_cell("" if r[c] is None else str(r[c])) for c in MAPPING_COLUMNS]
+                )
+        elif rows:
+            import pyarrow as pa
+            import pyarrow.parquet as pq
+
+            table = pa.Table.from_pylist(rows, schema=_parquet_schema())
+            if self._parquet is None:
+                self._parquet = pq.ParquetWriter(self.path, table.schema)
+            self._parquet.write_table(table)
+
+    def close(self) -> None:
+        if self._handle is not None:
+            self._handle.close()
+        if self.format == "parquet":
+            import pyarrow.parquet as pq
+
+            if self._parquet is None:
+                pq.write_table(_parquet_schema().empty_table(), self.path)
+            else:
+                self._parquet.close()
+
+
+def _parquet_schema() -> Any:
+    import pyarrow as pa
+
+    types = {"confidence": pa.float64(), "alt1_confidence": pa.float64(),
+             "alt2_confidence": pa.float64(), "alt3_confidence": pa.float64()}
+    return pa.schema([(c, types.get(c, pa.string())) for c in MAPPING_COLUMNS])
+
+
+def _chunks(items: Iterable[Product | Reject], size: int, on_reject: Callable[[Reject], None]) -> Iterator[list[Product]]:
+    chunk: list[Product] = []
+    for item in items:
+        if isinstance(item, Reject):
+            on_reject(item)
+            continue
+        chunk.append(item)
+        if len(chunk) >= size:
+            yield chunk
+            chunk = []
+    if chunk:
+        yield chunk
+
+
+def _band(confidence: float) -> str:
+    for low, high in CONFIDENCE_BANDS:
+        if confidence < high:
+            return f"{low:.2f}-{high:.2f}"
+    low, high = CONFIDENCE_BANDS[-1]
+    return f"{low:.2f}-{high:.2f}"
+
+
+def map_feed(
+    feed: Iterable[SourceRecord | Reject],
+    profile: FeedProfile,
+    out_dir: str | Path,
+    *,
+    mapper: Mapper,
+    rules: RuleSet | None = None,
+    threshold: float = 0.5,
+    format: str = "jsonl",
+    chunk_size: int = CHUNK_SIZE,
+    workers: int = 2,
+    accounting: Accounting | None = None,
+    on_progress: Callable[[int], None] | None = None,
+    top_paths: int = 10,
+) -> MapSummary:
+    """Map every product of a feed and write mappings, rejects and the accounting to ``out_dir``.
+
+    Args:
+        feed: an open feed.
+        profile: its profile.
+        out_dir: output folder (created).
+        mapper: the model (or cold-start keywords).
+        rules: per-feed rules, applied first.
+        threshold: back-off threshold.
+        format: "jsonl", "csv" or "parquet" for the mappings.
+        chunk_size: products per chunk.
+        workers: processes computing probabilities (1 = in this process).
+        accounting: filled in place.
+        on_progress: called with the number of records read so far.
+        top_paths: how many retailer paths the summary lists.
+
+    Returns:
+        The summary.
+
+    Raises:
+        FeedFormatError, FeedEncodingError, UnsafeFeedError: after what was read is written.
+    """
+    global _WORKER_MAPPER
+    accounting = accounting if accounting is not None else Accounting()
+    out = Path(out_dir)
+    out.mkdir(parents=True, exist_ok=True)
+    ext = {"jsonl": "jsonl", "csv": "csv", "parquet": "parquet"}[format]
+    mappings_path = out / f"mappings.{ext}"
+    rejects_path = out / ("rejects.csv" if format == "csv" else "rejects.jsonl")
+    accounting_path = out / "accounting.json"
+    rules = rules if rules is not None else RuleSet([])
+    summary = MapSummary(threshold=threshold, mode=mapper.method)
+    pairs: list[tuple[str, str]] = []  # (retailer path, first-pass node) per product
+    fatal: BaseException | None = None
+
+    rejects = open_reject_writer(rejects_path, "csv" if format == "csv" else "jsonl")
+    temporary = tempfile.TemporaryDirectory(prefix="catmap-map-")
+    chunk_files: list[tuple[Path, Path]] = []
+    pool = None
+    try:
+        if workers > 1:
+            _WORKER_MAPPER = mapper
+            pool = multiprocessing.get_context("fork").Pool(workers)
+        pending: deque[tuple[int, list[dict[str, Any]], Any]] = deque()
+
+        def finish(number: int, rows: list[dict[str, Any]], result: Any) -> None:
+            idx, vals = result.get() if pool is not None else result
+            for row, top in zip(rows, idx[:, 0]):
+                pairs.append((row["path"], row["rule_node"] or mapper.classes[int(top)]))
+            base = Path(temporary.name) / f"chunk-{number:06d}"
+            np.savez(base.with_suffix(".npz"), idx=idx, vals=vals)
+            rows_path = base.with_suffix(".jsonl")
+            rows_path.write_text("".join(json.dumps(r, ensure_ascii=False) + "\n" for r in rows), encoding="utf-8")
+            chunk_files.append((base.with_suffix(".npz"), rows_path))
+
+        try:
+            products = iter_products(feed, profile, accounting)
+            for number, chunk in enumerate(_chunks(products, chunk_size, rejects.write)):
+                rows = []
+                for product in chunk:
+                    match = rules.match(product)
+                    rows.append({
+                        "product_id": product.product_id,
+                        "title": product.title,
+                        "path": " > ".join(product.category_path),
+                        "rule_node": match.rule.node_id if match else "",
+                        "rule_reason": match.reason if match else "",
+                    })
+                texts = product_texts(chunk)
+                fields = (texts.title, texts.path, texts.brand, texts.description)
+                if pool is not None:
+                    pending.append((number, rows, pool.apply_async(_worker_top_k, (fields,))))
+                    while len(pending) > workers:
+                        finish(*pending.popleft())
+                else:
+                    finish(number, rows, mapper.top_k(texts))
+                if on_progress is not None:
+                    on_progress(accounting.read)
+        except FATAL_FEED_ERRORS as error:
+            accounting.stopped_early = str(error)
+            fatal = error
+        while pending:
+            finish(*pending.popleft())
+    finally:
+        if pool is not None:
+            pool.close()
+            pool.join()
+        _WORKER_MAPPER = None
+        rejects.close()
+
+    consensus = path_consensus(pairs)
+    del pairs
+    writer = _MappingWriter(mappings_path, format)
+    try:
+        _second_pass(chunk_files, mapper, consensus, threshold, writer, summary)
+    finally:
+        writer.close()
+        temporary.cleanup()
+
+    summary.retailer_paths = [_path_facts(c, mapper.tree) for c in list(consensus.values())[:top_paths]]
+    summary.rules = {
+        "file": rules.path,
+        "rules": len(rules),
+        "products_matched": sum(rules.matched.values()),
+        "conflicts": rules.conflicts,
+        "conflict_examples": [
+            {"product_id": pid, "rule_line": line, "other_rule_lines": others}
+            for pid, line, others in rules.conflict_examples
+        ],
+    }
+    summary.accounting = accounting.to_dict()
+    summary.outputs = {
+        "mappings": str(mappings_path), "rejects": str(rejects_path), "accounting": str(accounting_path),
+    }
+    facts = {**accounting.to_dict(), "outputs": summary.outputs, "format": format}
+    accounting_path.write_text(json.dumps(facts, ensure_ascii=False, indent=2) + "\n", encoding="utf-8")
+    if fatal is not None:
+        raise fatal
+    return summary
+
+
+def _path_facts(consensus: PathConsensus, tree: CategoryTree) -> dict[str, Any]:
+    return {
+        "path": consensus.path,
+        "count": consensus.count,
+        "top": [
+            {"node_id": node, "share": share, "node_path": tree.path_text(node) if node in tree else ""}
+            for node, share in consensus.top(3)
+        ],
+    }
+
+
+def _share_matrix(
+    consensus: dict[str, PathConsensus], mapper: Mapper
+) -> tuple[dict[str, int], sp.csr_matrix]:
+    """One sparse share row per retailer path with enough products (shares over classes)."""
+    rows: dict[str, int] = {}
+    data, indices, indptr = [], [], [0]
+    for path, c in consensus.items():
+        if c.count < MIN_PRODUCTS:
+            continue
+        rows[path] = len(rows)
+        for node, share in c.shares.items():
+            col = mapper.column.get(node)
+            if col is not None:
+                indices.append(col)
+                data.append(share)
+        indptr.append(len(indices))
+    matrix = sp.csr_matrix((data, indices, indptr), shape=(len(rows), len(mapper.classes)))
+    return rows, matrix
+
+
+def _second_pass(
+    chunk_files: list[tuple[Path, Path]],
+    mapper: Mapper,
+    consensus: dict[str, PathConsensus],
+    threshold: float,
+    writer: _MappingWriter,
+    summary: MapSummary,
+) -> None:
+    tree = mapper.tree
+    weight = mapper.consensus_weight
+    share_rows, shares = _share_matrix(consensus, mapper) if weight > 0 else ({}, None)
+    methods: Counter[str] = Counter()
+    bands: Counter[str] = Counter()
+    departments: Counter[str] = Counter()
+    node_path_cache: dict[str, str] = {}
+
+    def node_path(node: str) -> str:
+        text = node_path_cache.get(node)
+        if text is None:
+            text = node_path_cache[node] = tree.path_text(node)
+        return text
+
+    for npz_path, rows_path in chunk_files:
+        arrays = np.load(npz_path, allow_pickle=False)
+        idx, vals = arrays["idx"], arrays["vals"].astype(np.float64)
+        with open(rows_path, encoding="utf-8") as handle:
+            rows = [json.loads(line) for line in handle]
+        n, k = idx.shape
+        p = sp.csr_matrix(
+            (vals.ravel(), idx.ravel(), np.arange(0, n * k + 1, k)), shape=(n, len(mapper.classes))
+        )
+        if shares is not None and share_rows:
+            which = np.array([share_rows.get(r["path"], -1) for r in rows])
+            blend = which >= 0
+            if blend.any():
+                mixed = (1 - weight) * p[blend] + weight * shares[which[blend]]
+                p = sp.vstack([p[~blend], mixed]).tocsr()
+                order = np.concatenate([np.flatnonzero(~blend), np.flatnonzero(blend)])
+                p = p[np.argsort(order)]
+        best_class, chosen, chosen_p, backed = backoff_rows(p, mapper.index, threshold)
+        out_rows = []
+        for i, row in enumerate(rows):
+            prob_row = p.getrow(i)
+            order = np.argsort(-prob_row.data)
+            alternatives = [(mapper.classes[prob_row.indices[j]], float(prob_row.data[j])) for j in order]
+            if row["rule_node"]:
+                node, confidence, method, reason = row["rule_node"], 1.0, "rule", row["rule_reason"]
+                alternatives = [a for a in alternatives if a[0] != node]
+            elif backed[i]:
+                node = mapper.index.nodes[int(chosen[i])]
+                confidence = float(chosen_p[i])
+                method, reason = "backoff", f"backed off from {mapper.classes[int(best_class[i])]}"
+                if mapper.method == "cold_start":
+                    reason += " (cold start, keywords only)"
+                alternatives = [a for a in alternatives if a[0] != node]
+            else:
+                node, confidence = mapper.classes[int(best_class[i])], float(chosen_p[i])
+                method, reason = mapper.method, ""
+                alternatives = alternatives[1:]
+            record: dict[str, Any] = {
+                "product_id": row["product_id"],
+                "title": row["title"],
+                "node_id": node,
+                "node_path": node_path(node),
+                "confidence": round(min(confidence, 1.0), 4),
+                "method": method,
+            }
+            for a in range(3):
+                alt = alternatives[a] if a < len(alternatives) else None
+                record[f"alt{a + 1}_node"] = alt[0] if alt else None
+                record[f"alt{a + 1}_confidence"] = round(alt[1], 4) if alt else None
+            record["reason"] = reason
+            out_rows.append(record)
+            methods[method] += 1
+            bands[_band(confidence)] += 1
+            departments[tree.department(node).name] += 1
+        writer.write_rows(out_rows)
+    summary.products = sum(methods.values())
+    summary.by_method = dict(methods.most_common())
+    summary.confidence_bands = {_band(low): bands.get(_band(low), 0) for low, _ in CONFIDENCE_BANDS}
+    summary.by_department = dict(departments.most_common())

@@ -1,0 +1,231 @@
+"""Model commands: ``catmap train`` (learn a mapping model) and ``catmap map`` (map a feed)."""
+
+from __future__ import annotations
+
+from pathlib import Path
+from typing import Any
+
+import click
+from rich.markup import escape
+from rich.progress import Progress, SpinnerColumn, TextColumn, TimeElapsedColumn
+from rich.table import Table
+
+from catmap.classify.mapping import Mapper, MapSummary, map_feed
+from catmap.classify.rules import RuleSet, load_rules
+from catmap.classify.storage import MANIFEST, load_model
+from catmap.classify.training import feed_profile, train_model
+from catmap.cli._render import console, echo_json, err_console, json_option
+from catmap.errors import InputError
+from catmap.feeds import open_feed
+from catmap.ingest import Accounting, check_profile
+from catmap.project import feed_stem, project_dir, subfolder
+from catmap.taxonomy import load_default_tree
+from catmap.writers import FORMATS
+
+_project_option = click.option(
+    "--project", "project", default=None,
+    help="Project folder (default: $CATMAP_PROJECT or ./catmap-work).",
+)
+_tree_version_option = click.option(
+    "--tree-version", default="1", show_default=True, help="Version of the shared category tree."
+)
+
+
+def _model_dir(project: Path, model: Path | None) -> Path:
+    return model if model is not None else project / "models" / "current"
+
+
+@click.command("train")
+@click.argument("feeds", nargs=-1, type=click.Path(exists=True, dir_okay=False, path_type=Path))
+@click.option("--label-column", default="gold_node", show_default=True,
+              help="Column holding the node id of each product.")
+@_tree_version_option
+@click.option("--classifier", type=click.Choice(("linear_svc", "sgd", "logistic")),
+              default="linear_svc", show_default=True, help="Linear model to train.")
+@click.option("--model", "model_path", default=None, type=click.Path(file_okay=False, path_type=Path),
+              help="Model folder to write (default: <project>/models/current).")
+@_project_option
+@json_option
+def train_command(
+    feeds: tuple[Path, ...],
+    label_column: str,
+    tree_version: str,
+    classifier: str,
+    model_path: Path | None,
+    project: str | None,
+    as_json: bool,
+) -> None:
+    """Train the mapping model on labelled feeds (default: the demo reference catalog).
+
+    A labelled feed has a column of node ids (--label-column). Rows with split=train train and
+    rows with split=valid calibrate when a split column exists; else a seeded 90/10 split is made.
+    """
+    tree = load_default_tree(tree_version)
+    folder = project_dir(project)
+    sources = list(feeds)
+    if not sources:
+        from catmap.demo import ensure_demo_world
+
+        root = Path(__file__).resolve().parents[2] / "feeds_demo"
+        paths = ensure_demo_world(root, tree=tree)
+        sources = [Path(paths.reference)]
+    with Progress(SpinnerColumn(), TextColumn("{task.description}"), TimeElapsedColumn(),
+                  console=err_console, transient=True,
+                  disable=not err_console.is_terminal) as progress:
+        task = progress.add_task("starting", total=None)
+        report = train_model(
+            sources,
+            tree=tree,
+            project=folder,
+            model_dir=_model_dir(folder, model_path),
+            label_column=label_column,
+            model_options={"classifier": classifier},
+            on_stage=lambda text: progress.update(task, description=text),
+        )
+    facts = report.to_dict()
+    if as_json:
+        echo_json(facts)
+        return
+    metrics = facts["metrics"]
+    console.print(f"Trained on {facts['products_train']:,} products, {facts['classes']:,} classes "
+                  f"(tree version {facts['tree_version']})")
+    console.print(f"  validation products  {facts['products_valid']:,}")
+    console.print(f"  validation accuracy  {metrics.get('valid_accuracy', 0):.3f}")
+    console.print(f"  ECE (15 bins)        {metrics.get('valid_ece_before_calibration', 0):.3f} before "
+                  f"calibration, {metrics.get('valid_ece', 0):.3f} after")
+    console.print(f"  keyword weight       {metrics.get('keyword_weight', 0):.2f}")
+    console.print(f"  consensus weight     {metrics.get('consensus_weight', 0):.2f}")
+    console.print(f"  training time        {facts['training_seconds']:.1f} s")
+    console.print(f"  model size           {facts['model_bytes'] / 1e6:.1f} MB")
+    if facts["unknown_labels"] or facts["unlabelled"]:
+        console.print(f"  skipped              {facts['unknown_labels']:,} unknown node ids, "
+                      f"{facts['unlabelled']:,} without a label")
+    console.print(f"Model saved to {escape(facts['model_dir'])}")
+
+
+@click.command("map")
+@click.argument("feed", type=click.Path(exists=True, dir_okay=False, path_type=Path))
+@click.option("--out", "out_dir", required=True, type=click.Path(file_okay=False, path_type=Path),
+              help="Folder for mappings, rejects and accounting.json.")
+@click.option("--format", "output_format", type=click.Choice(FORMATS), default="jsonl",
+              show_default=True, help="File format of the mappings.")
+@click.option("--backoff-threshold", type=click.FloatRange(0.0, 1.0), default=0.5,
+              show_default=True, help="Below this confidence, answer the deepest sure parent node.")
+@click.option("--rules", "rules_file", default=None,
+              type=click.Path(exists=True, dir_okay=False, path_type=Path),
+              help="Rules file (default: <project>/rules/<feed name>.rules if it exists).")
+@click.option("--model", "model_path", default=None, type=click.Path(file_okay=False, path_type=Path),
+              help="Model folder (default: <project>/models/current; none = keywords only).")
+@_tree_version_option
+@click.option("--workers", type=click.IntRange(1, 64), default=2, show_default=True,
+              help="Processes computing probabilities.")
+@_project_option
+@json_option
+def map_command(
+    feed: Path,
+    out_dir: Path,
+    output_format: str,
+    backoff_threshold: float,
+    rules_file: Path | None,
+    model_path: Path | None,
+    tree_version: str,
+    workers: int,
+    project: str | None,
+    as_json: bool,
+) -> None:
+    """Map every product of a feed to a node of the tree, with a calibrated confidence.
+
+    Per-feed rules apply first (one per line, e.g. path contains "Bottines" => 1523; # comments),
+    then the trained model, or the tree's own keywords when no model is trained yet.
+    """
+    tree = load_default_tree(tree_version)
+    folder = project_dir(project)
+    model_folder = _model_dir(folder, model_path)
+    if model_path is not None or (model_folder / MANIFEST).exists():
+        model, manifest = load_model(model_folder, tree)
+        mapper = Mapper(tree, model, consensus_weight=float(manifest.get("consensus_weight", 0.0)))
+    else:
+        mapper = Mapper(tree, None)
+    if rules_file is None:
+        default_rules = subfolder(folder, "rules", create=False) / f"{feed_stem(feed)}.rules"
+        rules_file = default_rules if default_rules.exists() else None
+    rules = load_rules(rules_file, tree=tree) if rules_file is not None else RuleSet([])
+
+    profile, saved = feed_profile(feed, folder)
+    opened = open_feed(feed, encoding=profile.encoding, record_path=profile.record_path,
+                       delimiter=profile.delimiter)
+    check_profile(profile, opened.info, profile_path=saved)
+    accounting = Accounting()
+    error: InputError | None = None
+    summary = MapSummary()
+    with Progress(SpinnerColumn(), TextColumn("mapping {task.description}"),
+                  TextColumn("{task.completed:,.0f} records"), TimeElapsedColumn(),
+                  console=err_console, transient=True,
+                  disable=not err_console.is_terminal) as progress:
+        task = progress.add_task(feed.name, total=None)
+        try:
+            summary = map_feed(opened, profile, out_dir, mapper=mapper, rules=rules,
+                               threshold=backoff_threshold, format=output_format,
+                               workers=workers, accounting=accounting,
+                               on_progress=lambda read: progress.update(task, completed=read))
+        except InputError as fatal:
+            error = fatal
+    facts: dict[str, Any] = {"feed": str(feed), "model": str(model_folder)
+                             if mapper.model is not None else None, **summary.to_dict()}
+    if as_json:
+        echo_json(facts)
+    else:
+        _render_map(facts)
+    if error is not None:
+        raise error
+
+
+def _render_map(facts: dict[str, Any]) -> None:
+    acc = facts["accounting"]
+    console.print(f"read {acc.get('read', 0):,} = kept {acc.get('kept', 0):,} + "
+                  f"rejected {acc.get('rejected', 0):,}")
+    mode = "trained model" if facts["mode"] == "model" else "cold start (tree keywords only)"
+    console.print(f"Mapped {facts['products']:,} products with the {mode}, "
+                  f"back-off below {facts['threshold']:.2f}")
+    table = Table(title="By method")
+    table.add_column("method")
+    table.add_column("products", justify="right")
+    for method, count in facts["by_method"].items():
+        table.add_row(method, f"{count:,}")
+    console.print(table)
+    table = Table(title="Confidence")
+    table.add_column("band")
+    table.add_column("products", justify="right")
+    for band, count in facts["confidence_bands"].items():
+        table.add_row(band, f"{count:,}")
+    console.print(table)
+    table = Table(title="By department")
+    table.add_column("department")
+    table.add_column("products", justify="right")
+    for name, count in facts["by_department"].items():
+        table.add_row(escape(name), f"{count:,}")
+    console.print(table)
+    if facts["retailer_paths"]:
+        console.print("[bold]Largest retailer paths[/bold]")
+        for item in facts["retailer_paths"]:
+            top = item["top"][0] if item["top"] else None
+            where = (f"{top['share']:.0%} → {top['node_id']} {escape(top['node_path'])}"
+                     if top else "-")
+            console.print(f"  '{escape(item['path'])}': {item['count']:,} products, {where}")
+    rules = facts["rules"]
+    if rules.get("rules"):
+        console.print(f"Rules: {rules['rules']} from {escape(str(rules['file']))}, "
+                      f"{rules['products_matched']:,} products decided, "
+                      f"{rules['conflicts']:,} conflicts")
+        for example in rules["conflict_examples"][:5]:
+            console.print(f"  product {escape(example['product_id'])}: rule line "
+                          f"{example['rule_line']} wins over line(s) "
+                          f"{', '.join(str(n) for n in example['other_rule_lines'])}")
+    for name, path in facts["outputs"].items():
+        console.print(f"{name.capitalize() + ':':<12}{escape(path)}")
+
+
+def register(main: click.Group) -> None:
+    """Add ``train`` and ``map`` to the catmap command group."""
+    main.add_command(train_command)
+    main.add_command(map_command)

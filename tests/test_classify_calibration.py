@@ -1,0 +1,39 @@
+"""Temperature scaling and the expected calibration error."""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+
+from catmap.classify.calibration import expected_calibration_error, fit_temperature, softmax
+
+
+def test_ece_of_a_hand_worked_example() -> None:
+    # Guo et al. 2017, eq. 3, worked by hand: bin (0.8, 0.867] holds 0.85 ×2 (1 of 2 right),
+    # bin (0.933, 1] holds 0.95 ×2 (2 right): (2/4)·|0.5−0.85| + (2/4)·|1−0.95| = 0.2.
+    ece = expected_calibration_error(np.array([0.85, 0.85, 0.95, 0.95]), np.array([1, 0, 1, 1]))
+    assert ece == pytest.approx(0.2)
+
+
+def test_temperature_scaling_improves_ece_on_overconfident_scores() -> None:
+    rng = np.random.default_rng(0)
+    n, k = 4000, 5
+    labels = rng.integers(0, k, n)
+    logits = rng.normal(0, 1, (n, k))
+    logits[np.arange(n), labels] += 1.5
+    overconfident = logits * 6.0  # far too sharp
+    valid, test = slice(0, 2000), slice(2000, n)
+
+    def ece(scores: np.ndarray, t: float) -> float:
+        p = softmax(scores, t)
+        return expected_calibration_error(p.max(axis=1), p.argmax(axis=1) == labels[test])
+
+    t = fit_temperature(overconfident[valid], labels[valid])
+    assert t > 1.0
+    assert ece(overconfident[test], t) < ece(overconfident[test], 1.0) / 3
+
+
+def test_softmax_rows_sum_to_one() -> None:
+    p = softmax(np.array([[1.0, 2.0, 3.0], [1000.0, 0.0, -1000.0]]), 0.5)
+    assert np.allclose(p.sum(axis=1), 1.0)
+    assert p[1, 0] == pytest.approx(1.0)
