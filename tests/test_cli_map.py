@@ -1,0 +1,94 @@
+"""catmap map on a tiny feed: with a trained model, with rules, and cold start."""
+
+from __future__ import annotations
+
+import csv
+import json
+from pathlib import Path
+
+import pytest
+from click.testing import CliRunner
+
+from catmap.cli import main
+from tests._classify_fixtures import write_labelled_feed, write_tree
+
+
+@pytest.fixture()
+def setup(tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> tuple[Path, Path]:
+    write_tree(tmp_path / "taxonomies")
+    write_tree(tmp_path / "taxonomies", version=2)
+    monkeypatch.setenv("CATMAP_TAXONOMIES", str(tmp_path / "taxonomies"))
+    return write_labelled_feed(tmp_path / "shop.csv"), tmp_path / "project"
+
+
+def read_jsonl(path: Path) -> list[dict[str, object]]:
+    return [json.loads(line) for line in path.read_text(encoding="utf-8").splitlines()]
+
+
+def test_map_with_a_trained_model(setup: tuple[Path, Path], tmp_path: Path) -> None:
+    feed, project = setup
+    runner = CliRunner()
+    assert runner.invoke(main, ["train", str(feed), "--project", str(project)]).exit_code == 0
+    out = tmp_path / "out"
+    result = runner.invoke(
+        main, ["map", str(feed), "--out", str(out), "--project", str(project), "--json", "--workers", "1"]
+    )
+    assert result.exit_code == 0, result.output
+    facts = json.loads(result.stdout)
+    assert facts["products"] == 240
+    assert facts["accounting"]["read"] == 240
+    rows = read_jsonl(out / "mappings.jsonl")
+    assert len(rows) == 240
+    labels = {r["product_id"]: r["gold_node"] for r in csv.DictReader(feed.open(encoding="utf-8"))}
+    right = sum(r["node_id"] == labels[r["product_id"]] for r in rows if r["method"] == "model")
+    assert right >= 0.9 * sum(r["method"] == "model" for r in rows)
+    assert set(rows[0]) >= {"product_id", "node_path", "confidence", "alt1_node", "reason"}
+    assert (out / "accounting.json").exists()
+    paths = {p["path"]: p for p in facts["retailer_paths"]}
+    assert paths["Maison > Café"]["count"] == 80
+
+
+def test_map_applies_rules_and_reports_conflicts(setup: tuple[Path, Path], tmp_path: Path) -> None:
+    feed, project = setup
+    rules = tmp_path / "shop.rules"
+    rules.write_text(
+        '# test rules\npath contains "Bottines" => 1101\ntitle contains "botines" => 1102\n',
+        encoding="utf-8",
+    )
+    out = tmp_path / "out"
+    result = CliRunner().invoke(main, [
+        "map", str(feed), "--out", str(out), "--project", str(project), "--rules", str(rules),
+        "--format", "csv", "--json", "--workers", "1",
+    ])
+    assert result.exit_code == 0, result.output
+    facts = json.loads(result.stdout)
+    assert facts["mode"] == "cold_start"
+    assert facts["by_method"]["rule"] == 40
+    assert facts["rules"]["conflicts"] > 0
+    assert facts["rules"]["conflict_examples"][0]["rule_line"] == 2
+    with open(out / "mappings.csv", encoding="utf-8") as handle:
+        rows = list(csv.DictReader(handle))
+    ruled = [r for r in rows if r["method"] == "rule"]
+    assert all(r["node_id"] == "1101" and "rule line 2" in r["reason"] for r in ruled)
+
+
+def test_map_refuses_a_model_of_another_tree_version(setup: tuple[Path, Path], tmp_path: Path) -> None:
+    feed, project = setup
+    runner = CliRunner()
+    assert runner.invoke(main, ["train", str(feed), "--project", str(project)]).exit_code == 0
+    result = runner.invoke(main, [
+        "map", str(feed), "--out", str(tmp_path / "out"), "--project", str(project),
+        "--tree-version", "2",
+    ])
+    assert result.exit_code == 4
+    assert "run `catmap train --tree-version 2`" in result.stderr
+
+
+def test_map_summary_uses_two_workers(setup: tuple[Path, Path], tmp_path: Path) -> None:
+    feed, project = setup
+    result = CliRunner().invoke(
+        main, ["map", str(feed), "--out", str(tmp_path / "out"), "--project", str(project)]
+    )
+    assert result.exit_code == 0, result.output
+    assert "Mapped 240 products with the cold start" in result.stdout
+    assert "'Maison > Café': 80 products" in result.stdout
