@@ -503,9 +503,13 @@ class FeedStatus:
 # --------------------------------------------------------------------------------------------
 
 
+# One encoder reused for every row: bulk writes serialise hundreds of thousands of products.
+_ENCODER = json.JSONEncoder(ensure_ascii=False, separators=(",", ":"))
+
+
 def product_to_json(product: Product) -> str:
     """Return a product as JSON text that :func:`product_from_json` turns back into it."""
-    return json.dumps(
+    return _ENCODER.encode(
         {
             "product_id": product.product_id,
             "title": product.title,
@@ -526,8 +530,7 @@ def product_to_json(product: Product) -> str:
             "extra": dict(product.extra),
             "flags": list(product.flags),
             "source_line": product.source_line,
-        },
-        ensure_ascii=False,
+        }
     )
 
 
@@ -558,7 +561,9 @@ def product_from_json(text: str) -> Product:
 
 
 def _alternatives_json(alternatives: Sequence[Alternative]) -> str:
-    return json.dumps([[alt.node_id, alt.confidence] for alt in alternatives])
+    if not alternatives:
+        return "[]"
+    return _ENCODER.encode([[alt.node_id, alt.confidence] for alt in alternatives])
 
 
 def _alternatives_from_json(text: str) -> tuple[Alternative, ...]:
