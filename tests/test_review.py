@@ -353,6 +353,28 @@ async def test_empty_queue_is_said(memory_store: Store, tree: CategoryTree) -> N
     assert len(memory_store.decisions()) == 11
 
 
+@sync
+async def test_item_taken_after_the_lease_ran_out(tmp_path: Path, tree: CategoryTree) -> None:
+    path = tmp_path / "store.sqlite"
+    build_sample_store(path).close()
+    clock = FakeClock()
+    with Store.open(path, clock=clock) as ana_store, Store.open(path, clock=clock) as bo_store:
+        app = ReviewApp(ReviewSession(ana_store, "ana", tree=tree, clock=clock))
+        async with app.run_test(size=SIZE) as pilot:
+            await pilot.pause()
+            clock.now += timedelta(seconds=700)  # past the 600 s lease
+            taken = bo_store.claim_next("bo")
+            assert taken is not None and taken.product_id == "BT-001"
+            await pilot.press("enter")
+            await pilot.pause()
+            assert ana_store.decisions() == []
+            assert "claimed by bo" in _screen_text(app, "message")
+            assert app.session.current is not None
+            assert app.session.current.product.product_id == "BT-002"
+            await pilot.press("q")
+        assert bo_store.item(taken.id).claimed_by == "bo"
+
+
 # -- the session on its own ------------------------------------------------------------------
 
 

@@ -224,6 +224,13 @@ class ReviewApp(App[None]):
             self._run(self.session.next)
         self.render_item()
         self.set_interval(15, self._render_topbar)
+        # The tree's search index takes a moment to build: build it now, off the screen's
+        # thread, so that the first search keystroke answers at once.
+        self.run_worker(self._warm_search, thread=True, exclusive=True)
+
+    def _warm_search(self) -> None:
+        if self.session.current is not None:
+            self.session.search("warm", limit=1)
 
     # -- drawing -------------------------------------------------------------------------------
 
