@@ -6,19 +6,77 @@ import csv
 import random
 from pathlib import Path
 
-TINY_TREE = """@tree-version {version}
-1000 | - | Footwear | who=female,male,unisex age=adult,kids,baby | - | en: shoes; footwear | fr: chaussures | de: Schuhe | es: zapatos
-1100 | 1000 | Boots | . | - | en: boots | fr: bottes | de: Stiefel | es: botas
-1101 | 1100 | Ankle boots | . | - | en: ankle boots; booties | fr: bottines | de: Stiefeletten | es: botines
-1102 | 1100 | Rain boots | . | - | en: rain boots; wellies | fr: bottes de pluie | de: Gummistiefel | es: botas de agua
-1200 | 1000 | Sandals | . | - | en: sandals | fr: sandales | de: Sandalen | es: sandalias
-1201 | 1200 | Flip-flops | . | - | en: flip flops | fr: tongs | de: Zehentrenner | es: chanclas
-1202 | 1200 | Sport sandals | . | - | en: sport sandals; hiking sandals | fr: sandales de randonnée | de: Trekkingsandalen | es: sandalias deportivas
-2000 | - | Kitchen | none | - | en: kitchen | fr: cuisine | de: Küche | es: cocina
-2100 | 2000 | Coffee | . | - | en: coffee makers | fr: cafetières | de: Kaffeemaschinen | es: cafeteras
-2101 | 2100 | Espresso machines | . | - | en: espresso machine | fr: machine à expresso | de: Espressomaschine | es: cafetera espresso
-2102 | 2100 | Coffee grinders | . | - | en: coffee grinder | fr: moulin à café | de: Kaffeemühle | es: molinillo de café
-"""
+_NODES = (
+    (
+        "1000",
+        "-",
+        "Footwear",
+        "who=female,male,unisex age=adult,kids,baby",
+        "shoes; footwear",
+        "chaussures",
+        "Schuhe",
+        "zapatos",
+    ),
+    ("1100", "1000", "Boots", ".", "boots", "bottes", "Stiefel", "botas"),
+    (
+        "1101",
+        "1100",
+        "Ankle boots",
+        ".",
+        "ankle boots; booties",
+        "bottines",
+        "Stiefeletten",
+        "botines",
+    ),
+    (
+        "1102",
+        "1100",
+        "Rain boots",
+        ".",
+        "rain boots; wellies",
+        "bottes de pluie",
+        "Gummistiefel",
+        "botas de agua",
+    ),
+    ("1200", "1000", "Sandals", ".", "sandals", "sandales", "Sandalen", "sandalias"),
+    ("1201", "1200", "Flip-flops", ".", "flip flops", "tongs", "Zehentrenner", "chanclas"),
+    (
+        "1202",
+        "1200",
+        "Sport sandals",
+        ".",
+        "sport sandals; hiking sandals",
+        "sandales de randonnée",
+        "Trekkingsandalen",
+        "sandalias deportivas",
+    ),
+    ("2000", "-", "Kitchen", "none", "kitchen", "cuisine", "Küche", "cocina"),
+    ("2100", "2000", "Coffee", ".", "coffee makers", "cafetières", "Kaffeemaschinen", "cafeteras"),
+    (
+        "2101",
+        "2100",
+        "Espresso machines",
+        ".",
+        "espresso machine",
+        "machine à expresso",
+        "Espressomaschine",
+        "cafetera espresso",
+    ),
+    (
+        "2102",
+        "2100",
+        "Coffee grinders",
+        ".",
+        "coffee grinder",
+        "moulin à café",
+        "Kaffeemühle",
+        "molinillo de café",
+    ),
+)
+TINY_TREE = "@tree-version {version}\n" + "".join(
+    f"{i} | {parent} | {name} | {audience} | - | en: {en} | fr: {fr} | de: {de} | es: {es}\n"
+    for i, parent, name, audience, en, fr, de, es in _NODES
+)
 
 LEAF_WORDS = {
     "1101": ["ankle boots", "bottines", "Stiefeletten", "botines"],
@@ -56,17 +114,19 @@ def labelled_rows(count: int, seed: int = 0) -> list[dict[str, str]]:
         leaf = sorted(LEAF_WORDS)[i % len(LEAF_WORDS)]
         title = f"{rng.choice(brands)} {rng.choice(LEAF_WORDS[leaf])} {rng.choice(extras)}"
         split = ("train", "train", "train", "valid", "test")[i % 5]
-        rows.append({
-            "product_id": f"P{i:05d}",
-            "title": title,
-            "description": f"A {rng.choice(extras)} product.",
-            "brand": rng.choice(brands),
-            "retailer_category": RETAILER_PATHS[leaf],
-            "price": f"{rng.randint(5, 200)}.99",
-            "currency": "EUR",
-            "gold_node": leaf,
-            "split": split,
-        })
+        rows.append(
+            {
+                "product_id": f"P{i:05d}",
+                "title": title,
+                "description": f"A {rng.choice(extras)} product.",
+                "brand": rng.choice(brands),
+                "retailer_category": RETAILER_PATHS[leaf],
+                "price": f"{rng.randint(5, 200)}.99",
+                "currency": "EUR",
+                "gold_node": leaf,
+                "split": split,
+            }
+        )
     return rows
 
 

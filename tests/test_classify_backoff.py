@@ -50,7 +50,7 @@ def test_vectorised_backoff_agrees_with_the_pure_function(tree: CategoryTree) ->
     probabilities = rng.dirichlet(np.full(len(classes), 0.7), size=200)
     best, chosen, chosen_p, backed = backoff_rows(probabilities, index, 0.5)
     for row in range(len(probabilities)):
-        expected = backoff(dict(zip(classes, probabilities[row])), tree, 0.5)
+        expected = backoff(dict(zip(classes, probabilities[row], strict=True)), tree, 0.5)
         if backed[row]:
             assert index.nodes[chosen[row]] == expected.node_id
         else:

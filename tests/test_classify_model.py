@@ -46,7 +46,9 @@ def test_untrained_model_refuses_to_predict(tree: CategoryTree) -> None:
 
 
 def test_learns_the_tiny_catalog(trained: CategoryModel) -> None:
-    texts, labels = texts_and_labels([r for r in labelled_rows(300, seed=1) if r["split"] == "test"])
+    texts, labels = texts_and_labels(
+        [r for r in labelled_rows(300, seed=1) if r["split"] == "test"]
+    )
     assert (trained.predict(texts) == np.array(labels)).mean() > 0.9
     p = trained.predict_proba(texts)
     assert np.allclose(p.sum(axis=1), 1.0)

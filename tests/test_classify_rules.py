@@ -27,7 +27,12 @@ def product(title: str, path: tuple[str, ...] = (), brand: str = "") -> Product:
 
 def test_parses_rules_in_file_order_with_their_lines() -> None:
     rules = parse_rules(RULES)
-    assert [(r.line, r.node_id) for r in rules.rules] == [(2, "1101"), (4, "2101"), (5, "1201"), (6, "1102")]
+    assert [(r.line, r.node_id) for r in rules.rules] == [
+        (2, "1101"),
+        (4, "2101"),
+        (5, "1201"),
+        (6, "1102"),
+    ]
 
 
 def test_conditions_and_negation() -> None:
@@ -54,10 +59,10 @@ def test_first_rule_wins_and_conflict_is_counted_with_lines() -> None:
     ("text", "message"),
     [
         ('title has "x" => 1101', "expected 'contains'"),
-        ('title contains x => 1101', "double-quoted"),
+        ("title contains x => 1101", "double-quoted"),
         ('title contains "x" 1101', "'=>'"),
-        ('title matches /(/ => 1101', "bad regular expression"),
-        ('title matches /x/g => 1101', "flag"),
+        ("title matches /(/ => 1101", "bad regular expression"),
+        ("title matches /x/g => 1101", "flag"),
         ('colour contains "x" => 1101', "expected 'title'"),
         ('title contains "x" => 9999', "not in tree"),
         ('title contains "" => 1101', "empty text"),

@@ -31,7 +31,18 @@ def test_map_with_a_trained_model(setup: tuple[Path, Path], tmp_path: Path) -> N
     assert runner.invoke(main, ["train", str(feed), "--project", str(project)]).exit_code == 0
     out = tmp_path / "out"
     result = runner.invoke(
-        main, ["map", str(feed), "--out", str(out), "--project", str(project), "--json", "--workers", "1"]
+        main,
+        [
+            "map",
+            str(feed),
+            "--out",
+            str(out),
+            "--project",
+            str(project),
+            "--json",
+            "--workers",
+            "1",
+        ],
     )
     assert result.exit_code == 0, result.output
     facts = json.loads(result.stdout)
@@ -56,10 +67,24 @@ def test_map_applies_rules_and_reports_conflicts(setup: tuple[Path, Path], tmp_p
         encoding="utf-8",
     )
     out = tmp_path / "out"
-    result = CliRunner().invoke(main, [
-        "map", str(feed), "--out", str(out), "--project", str(project), "--rules", str(rules),
-        "--format", "csv", "--json", "--workers", "1",
-    ])
+    result = CliRunner().invoke(
+        main,
+        [
+            "map",
+            str(feed),
+            "--out",
+            str(out),
+            "--project",
+            str(project),
+            "--rules",
+            str(rules),
+            "--format",
+            "csv",
+            "--json",
+            "--workers",
+            "1",
+        ],
+    )
     assert result.exit_code == 0, result.output
     facts = json.loads(result.stdout)
     assert facts["mode"] == "cold_start"
@@ -72,14 +97,25 @@ def test_map_applies_rules_and_reports_conflicts(setup: tuple[Path, Path], tmp_p
     assert all(r["node_id"] == "1101" and "rule line 2" in r["reason"] for r in ruled)
 
 
-def test_map_refuses_a_model_of_another_tree_version(setup: tuple[Path, Path], tmp_path: Path) -> None:
+def test_map_refuses_a_model_of_another_tree_version(
+    setup: tuple[Path, Path], tmp_path: Path
+) -> None:
     feed, project = setup
     runner = CliRunner()
     assert runner.invoke(main, ["train", str(feed), "--project", str(project)]).exit_code == 0
-    result = runner.invoke(main, [
-        "map", str(feed), "--out", str(tmp_path / "out"), "--project", str(project),
-        "--tree-version", "2",
-    ])
+    result = runner.invoke(
+        main,
+        [
+            "map",
+            str(feed),
+            "--out",
+            str(tmp_path / "out"),
+            "--project",
+            str(project),
+            "--tree-version",
+            "2",
+        ],
+    )
     assert result.exit_code == 4
     assert "run `catmap train --tree-version 2`" in result.stderr
 

@@ -96,9 +96,7 @@ class NodeIndex:
 
 def backoff_rows(
     probabilities: np.ndarray[Any, Any] | sp.spmatrix, index: NodeIndex, threshold: float
-) -> tuple[
-    np.ndarray[Any, Any], np.ndarray[Any, Any], np.ndarray[Any, Any], np.ndarray[Any, Any]
-]:
+) -> tuple[np.ndarray[Any, Any], np.ndarray[Any, Any], np.ndarray[Any, Any], np.ndarray[Any, Any]]:
     """Back off many products at once; same answers as :func:`backoff` row by row.
 
     Args:

@@ -116,7 +116,9 @@ class ProductFeaturizer:
         return float((self.weights or {}).get(block, 1.0))
 
     @staticmethod
-    def make_vectorizer(block: str, min_df: int = 1, max_features: int | None = None) -> TfidfVectorizer:
+    def make_vectorizer(
+        block: str, min_df: int = 1, max_features: int | None = None
+    ) -> TfidfVectorizer:
         """Return the unfitted vectorizer of a block, with catmap's settings."""
         settings = next(s for name, _, s in FIELD_BLOCKS if name == block)
         extra: dict[str, Any] = {}
@@ -216,7 +218,9 @@ class ProductFeaturizer:
 def _transform_distinct(vectorizer: TfidfVectorizer, values: list[str]) -> sp.csr_matrix:
     """Vectorise each distinct value once, then gather rows back in order."""
     index: dict[str, int] = {}
-    rows = np.fromiter((index.setdefault(v, len(index)) for v in values), dtype=np.int64, count=len(values))
+    rows = np.fromiter(
+        (index.setdefault(v, len(index)) for v in values), dtype=np.int64, count=len(values)
+    )
     distinct = vectorizer.transform(list(index))
     result: sp.csr_matrix = distinct[rows]
     return result

@@ -66,13 +66,19 @@ class KeywordMapper:
     """
 
     def __init__(
-        self, *, tree: CategoryTree, temperature: float = DEFAULT_TEMPERATURE, path_weight: float = 0.5
+        self,
+        *,
+        tree: CategoryTree,
+        temperature: float = DEFAULT_TEMPERATURE,
+        path_weight: float = 0.5,
     ) -> None:
         self.tree = tree
         self.temperature = temperature
         self.path_weight = path_weight
 
-    def fit(self, texts: ProductTexts | None = None, labels: Sequence[str] | None = None) -> KeywordMapper:
+    def fit(
+        self, texts: ProductTexts | None = None, labels: Sequence[str] | None = None
+    ) -> KeywordMapper:
         """Build the leaf documents from the tree (no labelled data needed).
 
         Args:
@@ -103,7 +109,9 @@ class KeywordMapper:
         if self.path_weight > 0:
             index: dict[str, int] = {}
             rows = np.fromiter(
-                (index.setdefault(v, len(index)) for v in texts.path), dtype=np.int64, count=len(texts)
+                (index.setdefault(v, len(index)) for v in texts.path),
+                dtype=np.int64,
+                count=len(texts),
             )
             paths = self.vectorizer_.transform(list(index))[rows]
             query = query + paths * np.float32(self.path_weight)

@@ -40,9 +40,19 @@ TOP_K = 10
 CHUNK_SIZE = 20_000
 CONFIDENCE_BANDS = ((0.0, 0.5), (0.5, 0.8), (0.8, 0.95), (0.95, 1.0))
 MAPPING_COLUMNS = (
-    "product_id", "title", "node_id", "node_path", "confidence", "method",
-    "alt1_node", "alt1_confidence", "alt2_node", "alt2_confidence", "alt3_node",
-    "alt3_confidence", "reason",
+    "product_id",
+    "title",
+    "node_id",
+    "node_path",
+    "confidence",
+    "method",
+    "alt1_node",
+    "alt1_confidence",
+    "alt2_node",
+    "alt2_confidence",
+    "alt3_node",
+    "alt3_confidence",
+    "reason",
 )
 
 
@@ -56,7 +66,11 @@ class Mapper:
     """
 
     def __init__(
-        self, tree: CategoryTree, model: CategoryModel | None = None, *, consensus_weight: float = 0.0
+        self,
+        tree: CategoryTree,
+        model: CategoryModel | None = None,
+        *,
+        consensus_weight: float = 0.0,
     ) -> None:
         self.tree = tree
         self.model = model
@@ -78,7 +92,9 @@ class Mapper:
         assert self.keywords is not None
         return self.keywords.predict_proba(texts)
 
-    def top_k(self, texts: ProductTexts, k: int = TOP_K) -> tuple[np.ndarray[Any, Any], np.ndarray[Any, Any]]:
+    def top_k(
+        self, texts: ProductTexts, k: int = TOP_K
+    ) -> tuple[np.ndarray[Any, Any], np.ndarray[Any, Any]]:
         """Return the k most probable class columns and their probabilities, best first."""
         p = self.predict_proba(texts)
         k = min(k, p.shape[1])
@@ -96,7 +112,7 @@ _WORKER_MAPPER: Mapper | None = None
 
 
 def _worker_top_k(
-    fields: tuple[list[str], list[str], list[str], list[str]]
+    fields: tuple[list[str], list[str], list[str], list[str]],
 ) -> tuple[np.ndarray[Any, Any], np.ndarray[Any, Any]]:
     assert _WORKER_MAPPER is not None
     return _WORKER_MAPPER.top_k(ProductTexts(*fields))
@@ -169,12 +185,18 @@ class _MappingWriter:
 def _parquet_schema() -> Any:
     import pyarrow as pa
 
-    types = {"confidence": pa.float64(), "alt1_confidence": pa.float64(),
-             "alt2_confidence": pa.float64(), "alt3_confidence": pa.float64()}
+    types = {
+        "confidence": pa.float64(),
+        "alt1_confidence": pa.float64(),
+        "alt2_confidence": pa.float64(),
+        "alt3_confidence": pa.float64(),
+    }
     return pa.schema([(c, types.get(c, pa.string())) for c in MAPPING_COLUMNS])
 
 
-def _chunks(items: Iterable[Product | Reject], size: int, on_reject: Callable[[Reject], None]) -> Iterator[list[Product]]:
+def _chunks(
+    items: Iterable[Product | Reject], size: int, on_reject: Callable[[Reject], None]
+) -> Iterator[list[Product]]:
     chunk: list[Product] = []
     for item in items:
         if isinstance(item, Reject):
@@ -258,12 +280,14 @@ def map_feed(
 
         def finish(number: int, rows: list[dict[str, Any]], result: Any) -> None:
             idx, vals = result.get() if pool is not None else result
-            for row, top in zip(rows, idx[:, 0]):
+            for row, top in zip(rows, idx[:, 0], strict=True):
                 pairs.append((row["path"], row["rule_node"] or mapper.classes[int(top)]))
             base = Path(temporary.name) / f"chunk-{number:06d}"
             np.savez(base.with_suffix(".npz"), idx=idx, vals=vals)
             rows_path = base.with_suffix(".jsonl")
-            rows_path.write_text("".join(json.dumps(r, ensure_ascii=False) + "\n" for r in rows), encoding="utf-8")
+            rows_path.write_text(
+                "".join(json.dumps(r, ensure_ascii=False) + "\n" for r in rows), encoding="utf-8"
+            )
             chunk_files.append((base.with_suffix(".npz"), rows_path))
 
         try:
@@ -272,13 +296,15 @@ def map_feed(
                 rows = []
                 for product in chunk:
                     match = rules.match(product)
-                    rows.append({
-                        "product_id": product.product_id,
-                        "title": product.title,
-                        "path": " > ".join(product.category_path),
-                        "rule_node": match.rule.node_id if match else "",
-                        "rule_reason": match.reason if match else "",
-                    })
+                    rows.append(
+                        {
+                            "product_id": product.product_id,
+                            "title": product.title,
+                            "path": " > ".join(product.category_path),
+                            "rule_node": match.rule.node_id if match else "",
+                            "rule_reason": match.reason if match else "",
+                        }
+                    )
                 texts = product_texts(chunk)
                 fields = (texts.title, texts.path, texts.brand, texts.description)
                 if pool is not None:
@@ -302,7 +328,6 @@ def map_feed(
         rejects.close()
 
     consensus = path_consensus(pairs)
-    del pairs
     writer = _MappingWriter(mappings_path, format)
     try:
         _second_pass(chunk_files, mapper, consensus, threshold, writer, summary)
@@ -310,7 +335,9 @@ def map_feed(
         writer.close()
         temporary.cleanup()
 
-    summary.retailer_paths = [_path_facts(c, mapper.tree) for c in list(consensus.values())[:top_paths]]
+    summary.retailer_paths = [
+        _path_facts(c, mapper.tree) for c in list(consensus.values())[:top_paths]
+    ]
     summary.rules = {
         "file": rules.path,
         "rules": len(rules),
@@ -323,10 +350,14 @@ def map_feed(
     }
     summary.accounting = accounting.to_dict()
     summary.outputs = {
-        "mappings": str(mappings_path), "rejects": str(rejects_path), "accounting": str(accounting_path),
+        "mappings": str(mappings_path),
+        "rejects": str(rejects_path),
+        "accounting": str(accounting_path),
     }
     facts = {**accounting.to_dict(), "outputs": summary.outputs, "format": format}
-    accounting_path.write_text(json.dumps(facts, ensure_ascii=False, indent=2) + "\n", encoding="utf-8")
+    accounting_path.write_text(
+        json.dumps(facts, ensure_ascii=False, indent=2) + "\n", encoding="utf-8"
+    )
     if fatal is not None:
         raise fatal
     return summary
@@ -337,7 +368,11 @@ def _path_facts(consensus: PathConsensus, tree: CategoryTree) -> dict[str, Any]:
         "path": consensus.path,
         "count": consensus.count,
         "top": [
-            {"node_id": node, "share": share, "node_path": tree.path_text(node) if node in tree else ""}
+            {
+                "node_id": node,
+                "share": share,
+                "node_path": tree.path_text(node) if node in tree else "",
+            }
             for node, share in consensus.top(3)
         ],
     }
@@ -407,7 +442,9 @@ def _second_pass(
         for i, row in enumerate(rows):
             prob_row = p.getrow(i)
             order = np.argsort(-prob_row.data)
-            alternatives = [(mapper.classes[prob_row.indices[j]], float(prob_row.data[j])) for j in order]
+            alternatives = [
+                (mapper.classes[prob_row.indices[j]], float(prob_row.data[j])) for j in order
+            ]
             if row["rule_node"]:
                 node, confidence, method, reason = row["rule_node"], 1.0, "rule", row["rule_reason"]
                 alternatives = [a for a in alternatives if a[0] != node]

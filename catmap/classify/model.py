@@ -43,7 +43,10 @@ def _linear(classifier: str, c: float, random_state: int, n: int) -> Any:
         return LinearSVC(C=c, random_state=random_state, dual=True, max_iter=2000)
     if classifier == "sgd":
         return SGDClassifier(
-            loss="hinge", alpha=1.0 / (c * max(n, 1)), max_iter=30, tol=None,
+            loss="hinge",
+            alpha=1.0 / (c * max(n, 1)),
+            max_iter=30,
+            tol=None,
             random_state=random_state,
         )
     return LogisticRegression(C=c * 10, max_iter=300)
@@ -201,7 +204,9 @@ class CategoryModel:
         self.metrics_: dict[str, Any] = {}
         return self
 
-    def _train_level(self, features: sp.csr_matrix, y: Array, k: int) -> tuple[sp.csr_matrix, Array]:
+    def _train_level(
+        self, features: sp.csr_matrix, y: Array, k: int
+    ) -> tuple[sp.csr_matrix, Array]:
         """Fit one linear classifier; return its (features, k) pruned weights and intercepts."""
         model = _linear(self.classifier, self.C, self.random_state, features.shape[0])
         model.fit(features, y)
@@ -232,7 +237,9 @@ class CategoryModel:
         klass = (features @ self.class_coef_).toarray() + self.class_intercept_
         return group, klass
 
-    def linear_proba(self, group: Array, klass: Array, temperatures: tuple[float, float] | None = None) -> Array:
+    def linear_proba(
+        self, group: Array, klass: Array, temperatures: tuple[float, float] | None = None
+    ) -> Array:
         """Return (n, linear classes) probabilities P(group)·P(class | group)."""
         t_group, t_class = temperatures or self.temperatures_
         p_group = softmax(group, t_group)

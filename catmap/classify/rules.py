@@ -32,7 +32,7 @@ from catmap.taxonomy import CategoryTree
 __all__ = ["FIELDS", "Rule", "RuleMatch", "RuleSet", "load_rules", "parse_rules"]
 
 FIELDS = ("title", "path", "brand", "description", "id")
-_HINT = "rules look like: path contains \"Bottines\" => 1523 (see `catmap map --help`)"
+_HINT = 'rules look like: path contains "Bottines" => 1523 (see `catmap map --help`)'
 
 _TOKEN = re.compile(
     r"""\s*(?:
@@ -120,7 +120,7 @@ class RuleSet:
         return len(self.rules)
 
     def match(self, product: Product) -> RuleMatch | None:
-        """Return the first matching rule (and disagreeing later ones), counting it; None if none."""
+        """Return the first matching rule (and later disagreeing ones), counted; None if none."""
         if not self.rules:
             return None
         values = _values(product)
@@ -205,7 +205,10 @@ def _parse_line(text: str, line: int, path: str | None, tree: CategoryTree | Non
                 pattern = re.compile(body.replace("\\/", "/"), re.IGNORECASE if "i" in flags else 0)
             except re.error as error:
                 raise fail(f"bad regular expression {raw}: {error}") from None
-            test: Callable[[str], bool] = lambda value, p=pattern: p.search(value) is not None
+
+            def test(text: str, p: re.Pattern[str] = pattern) -> bool:
+                return p.search(text) is not None
+
             value = raw
         else:
             if kind != "string":
@@ -213,7 +216,7 @@ def _parse_line(text: str, line: int, path: str | None, tree: CategoryTree | Non
             value = re.sub(r"\\(.)", r"\1", raw[1:-1])
             if not value:
                 raise fail("an empty text matches everything; write the words to look for")
-            test = _text_test(operator, value)
+            test = _text_test(operator, value)  # type: ignore[assignment]
         conditions.append(Condition(name, operator, value, negated, test))
         if i < len(tokens) and tokens[i] == ("word", "and"):
             i += 1
@@ -234,9 +237,7 @@ def _parse_line(text: str, line: int, path: str | None, tree: CategoryTree | Non
     return Rule(line, f"{clean} => {node_id}", node_id, tuple(conditions))
 
 
-def parse_rules(
-    text: str, *, path: str | None = None, tree: CategoryTree | None = None
-) -> RuleSet:
+def parse_rules(text: str, *, path: str | None = None, tree: CategoryTree | None = None) -> RuleSet:
     """Parse the text of a rules file.
 
     Args:

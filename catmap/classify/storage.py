@@ -62,7 +62,11 @@ def _save_vocabulary(folder: Path, name: str, vectorizer: TfidfVectorizer) -> No
     # Terms never contain NUL (text is cleaned), so NUL-joined UTF-8 is compact and exact.
     joined = "\0".join(terms).encode("utf-8")
     np.save(folder / f"vocab-{name}.npy", np.frombuffer(joined, dtype=np.uint8), allow_pickle=False)
-    np.save(folder / f"idf-{name}.npy", np.asarray(vectorizer.idf_, dtype=np.float64), allow_pickle=False)
+    np.save(
+        folder / f"idf-{name}.npy",
+        np.asarray(vectorizer.idf_, dtype=np.float64),
+        allow_pickle=False,
+    )
 
 
 def _load_vocabulary(folder: Path, name: str, vectorizer: TfidfVectorizer) -> TfidfVectorizer:
@@ -137,7 +141,9 @@ def save_model(
     }
     manifest_path = out / MANIFEST
     temporary = manifest_path.with_suffix(".tmp")
-    temporary.write_text(json.dumps(manifest, indent=2, ensure_ascii=False) + "\n", encoding="utf-8")
+    temporary.write_text(
+        json.dumps(manifest, indent=2, ensure_ascii=False) + "\n", encoding="utf-8"
+    )
     os.replace(temporary, manifest_path)  # the manifest last: a half-written folder never loads
     return manifest_path
 
@@ -151,9 +157,7 @@ def read_manifest(folder: str | Path) -> dict[str, Any]:
     """
     path = Path(folder) / MANIFEST
     if not path.is_file():
-        raise ModelNotTrained(
-            "no trained model here", path=folder, hint="run `catmap train` first"
-        )
+        raise ModelNotTrained("no trained model here", path=folder, hint="run `catmap train` first")
     try:
         manifest: dict[str, Any] = json.loads(path.read_text(encoding="utf-8"))
     except (OSError, ValueError) as error:
@@ -209,7 +213,8 @@ def load_model(folder: str | Path, tree: CategoryTree) -> tuple[CategoryModel, d
             random_state=settings["random_state"],
         )
         featurizer = ProductFeaturizer(
-            weights=manifest["feature_weights"], min_df=settings["min_df"],
+            weights=manifest["feature_weights"],
+            min_df=settings["min_df"],
             max_features=settings["max_features"],
         )
         featurizer.vectorizers_ = {
@@ -235,7 +240,10 @@ def load_model(folder: str | Path, tree: CategoryTree) -> tuple[CategoryModel, d
         model.group_intercept_ = np.load(src / "group-intercept.npy", allow_pickle=False)
         model.class_coef_ = sp.load_npz(src / "class-coef.npz").tocsr()
         model.class_intercept_ = np.load(src / "class-intercept.npy", allow_pickle=False)
-        model.temperatures_ = (float(manifest["temperatures"][0]), float(manifest["temperatures"][1]))
+        model.temperatures_ = (
+            float(manifest["temperatures"][0]),
+            float(manifest["temperatures"][1]),
+        )
         model.blend_temperature_ = float(manifest["blend_temperature"])
         model.keyword_weight_ = float(manifest["keyword_weight"])
         model.metrics_ = dict(manifest.get("metrics", {}))

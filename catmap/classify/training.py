@@ -115,7 +115,9 @@ def read_labelled(
     for feed_path in feeds:
         profile, saved = feed_profile(feed_path, project)
         opened = open_feed(
-            feed_path, encoding=profile.encoding, record_path=profile.record_path,
+            feed_path,
+            encoding=profile.encoding,
+            record_path=profile.record_path,
             delimiter=profile.delimiter,
         )
         check_profile(profile, opened.info, profile_path=saved)

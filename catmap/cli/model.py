@@ -23,7 +23,9 @@ from catmap.taxonomy import load_default_tree
 from catmap.writers import FORMATS
 
 _project_option = click.option(
-    "--project", "project", default=None,
+    "--project",
+    "project",
+    default=None,
     help="Project folder (default: $CATMAP_PROJECT or ./catmap-work).",
 )
 _tree_version_option = click.option(
@@ -37,13 +39,27 @@ def _model_dir(project: Path, model: Path | None) -> Path:
 
 @click.command("train")
 @click.argument("feeds", nargs=-1, type=click.Path(exists=True, dir_okay=False, path_type=Path))
-@click.option("--label-column", default="gold_node", show_default=True,
-              help="Column holding the node id of each product.")
+@click.option(
+    "--label-column",
+    default="gold_node",
+    show_default=True,
+    help="Column holding the node id of each product.",
+)
 @_tree_version_option
-@click.option("--classifier", type=click.Choice(("linear_svc", "sgd", "logistic")),
-              default="linear_svc", show_default=True, help="Linear model to train.")
-@click.option("--model", "model_path", default=None, type=click.Path(file_okay=False, path_type=Path),
-              help="Model folder to write (default: <project>/models/current).")
+@click.option(
+    "--classifier",
+    type=click.Choice(("linear_svc", "sgd", "logistic")),
+    default="linear_svc",
+    show_default=True,
+    help="Linear model to train.",
+)
+@click.option(
+    "--model",
+    "model_path",
+    default=None,
+    type=click.Path(file_okay=False, path_type=Path),
+    help="Model folder to write (default: <project>/models/current).",
+)
 @_project_option
 @json_option
 def train_command(
@@ -69,9 +85,14 @@ def train_command(
         root = Path(__file__).resolve().parents[2] / "feeds_demo"
         paths = ensure_demo_world(root, tree=tree)
         sources = [Path(paths.reference)]
-    with Progress(SpinnerColumn(), TextColumn("{task.description}"), TimeElapsedColumn(),
-                  console=err_console, transient=True,
-                  disable=not err_console.is_terminal) as progress:
+    with Progress(
+        SpinnerColumn(),
+        TextColumn("{task.description}"),
+        TimeElapsedColumn(),
+        console=err_console,
+        transient=True,
+        disable=not err_console.is_terminal,
+    ) as progress:
         task = progress.add_task("starting", total=None)
         report = train_model(
             sources,
@@ -87,38 +108,74 @@ def train_command(
         echo_json(facts)
         return
     metrics = facts["metrics"]
-    console.print(f"Trained on {facts['products_train']:,} products, {facts['classes']:,} classes "
-                  f"(tree version {facts['tree_version']})")
+    console.print(
+        f"Trained on {facts['products_train']:,} products, {facts['classes']:,} classes "
+        f"(tree version {facts['tree_version']})"
+    )
     console.print(f"  validation products  {facts['products_valid']:,}")
     console.print(f"  validation accuracy  {metrics.get('valid_accuracy', 0):.3f}")
-    console.print(f"  ECE (15 bins)        {metrics.get('valid_ece_before_calibration', 0):.3f} before "
-                  f"calibration, {metrics.get('valid_ece', 0):.3f} after")
+    console.print(
+        f"  ECE (15 bins)        {metrics.get('valid_ece_before_calibration', 0):.3f} before "
+        f"calibration, {metrics.get('valid_ece', 0):.3f} after"
+    )
     console.print(f"  keyword weight       {metrics.get('keyword_weight', 0):.2f}")
     console.print(f"  consensus weight     {metrics.get('consensus_weight', 0):.2f}")
     console.print(f"  training time        {facts['training_seconds']:.1f} s")
     console.print(f"  model size           {facts['model_bytes'] / 1e6:.1f} MB")
     if facts["unknown_labels"] or facts["unlabelled"]:
-        console.print(f"  skipped              {facts['unknown_labels']:,} unknown node ids, "
-                      f"{facts['unlabelled']:,} without a label")
+        console.print(
+            f"  skipped              {facts['unknown_labels']:,} unknown node ids, "
+            f"{facts['unlabelled']:,} without a label"
+        )
     console.print(f"Model saved to {escape(facts['model_dir'])}")
 
 
 @click.command("map")
 @click.argument("feed", type=click.Path(exists=True, dir_okay=False, path_type=Path))
-@click.option("--out", "out_dir", required=True, type=click.Path(file_okay=False, path_type=Path),
-              help="Folder for mappings, rejects and accounting.json.")
-@click.option("--format", "output_format", type=click.Choice(FORMATS), default="jsonl",
-              show_default=True, help="File format of the mappings.")
-@click.option("--backoff-threshold", type=click.FloatRange(0.0, 1.0), default=0.5,
-              show_default=True, help="Below this confidence, answer the deepest sure parent node.")
-@click.option("--rules", "rules_file", default=None,
-              type=click.Path(exists=True, dir_okay=False, path_type=Path),
-              help="Rules file (default: <project>/rules/<feed name>.rules if it exists).")
-@click.option("--model", "model_path", default=None, type=click.Path(file_okay=False, path_type=Path),
-              help="Model folder (default: <project>/models/current; none = keywords only).")
+@click.option(
+    "--out",
+    "out_dir",
+    required=True,
+    type=click.Path(file_okay=False, path_type=Path),
+    help="Folder for mappings, rejects and accounting.json.",
+)
+@click.option(
+    "--format",
+    "output_format",
+    type=click.Choice(FORMATS),
+    default="jsonl",
+    show_default=True,
+    help="File format of the mappings.",
+)
+@click.option(
+    "--backoff-threshold",
+    type=click.FloatRange(0.0, 1.0),
+    default=0.5,
+    show_default=True,
+    help="Below this confidence, answer the deepest sure parent node.",
+)
+@click.option(
+    "--rules",
+    "rules_file",
+    default=None,
+    type=click.Path(exists=True, dir_okay=False, path_type=Path),
+    help="Rules file (default: <project>/rules/<feed name>.rules if it exists).",
+)
+@click.option(
+    "--model",
+    "model_path",
+    default=None,
+    type=click.Path(file_okay=False, path_type=Path),
+    help="Model folder (default: <project>/models/current; none = keywords only).",
+)
 @_tree_version_option
-@click.option("--workers", type=click.IntRange(1, 64), default=2, show_default=True,
-              help="Processes computing probabilities.")
+@click.option(
+    "--workers",
+    type=click.IntRange(1, 64),
+    default=2,
+    show_default=True,
+    help="Processes computing probabilities.",
+)
 @_project_option
 @json_option
 def map_command(
@@ -152,26 +209,46 @@ def map_command(
     rules = load_rules(rules_file, tree=tree) if rules_file is not None else RuleSet([])
 
     profile, saved = feed_profile(feed, folder)
-    opened = open_feed(feed, encoding=profile.encoding, record_path=profile.record_path,
-                       delimiter=profile.delimiter)
+    opened = open_feed(
+        feed,
+        encoding=profile.encoding,
+        record_path=profile.record_path,
+        delimiter=profile.delimiter,
+    )
     check_profile(profile, opened.info, profile_path=saved)
     accounting = Accounting()
     error: InputError | None = None
     summary = MapSummary()
-    with Progress(SpinnerColumn(), TextColumn("mapping {task.description}"),
-                  TextColumn("{task.completed:,.0f} records"), TimeElapsedColumn(),
-                  console=err_console, transient=True,
-                  disable=not err_console.is_terminal) as progress:
+    with Progress(
+        SpinnerColumn(),
+        TextColumn("mapping {task.description}"),
+        TextColumn("{task.completed:,.0f} records"),
+        TimeElapsedColumn(),
+        console=err_console,
+        transient=True,
+        disable=not err_console.is_terminal,
+    ) as progress:
         task = progress.add_task(feed.name, total=None)
         try:
-            summary = map_feed(opened, profile, out_dir, mapper=mapper, rules=rules,
-                               threshold=backoff_threshold, format=output_format,
-                               workers=workers, accounting=accounting,
-                               on_progress=lambda read: progress.update(task, completed=read))
+            summary = map_feed(
+                opened,
+                profile,
+                out_dir,
+                mapper=mapper,
+                rules=rules,
+                threshold=backoff_threshold,
+                format=output_format,
+                workers=workers,
+                accounting=accounting,
+                on_progress=lambda read: progress.update(task, completed=read),
+            )
         except InputError as fatal:
             error = fatal
-    facts: dict[str, Any] = {"feed": str(feed), "model": str(model_folder)
-                             if mapper.model is not None else None, **summary.to_dict()}
+    facts: dict[str, Any] = {
+        "feed": str(feed),
+        "model": str(model_folder) if mapper.model is not None else None,
+        **summary.to_dict(),
+    }
     if as_json:
         echo_json(facts)
     else:
@@ -182,11 +259,15 @@ def map_command(
 
 def _render_map(facts: dict[str, Any]) -> None:
     acc = facts["accounting"]
-    console.print(f"read {acc.get('read', 0):,} = kept {acc.get('kept', 0):,} + "
-                  f"rejected {acc.get('rejected', 0):,}")
+    console.print(
+        f"read {acc.get('read', 0):,} = kept {acc.get('kept', 0):,} + "
+        f"rejected {acc.get('rejected', 0):,}"
+    )
     mode = "trained model" if facts["mode"] == "model" else "cold start (tree keywords only)"
-    console.print(f"Mapped {facts['products']:,} products with the {mode}, "
-                  f"back-off below {facts['threshold']:.2f}")
+    console.print(
+        f"Mapped {facts['products']:,} products with the {mode}, "
+        f"back-off below {facts['threshold']:.2f}"
+    )
     table = Table(title="By method")
     table.add_column("method")
     table.add_column("products", justify="right")
@@ -209,18 +290,23 @@ def _render_map(facts: dict[str, Any]) -> None:
         console.print("[bold]Largest retailer paths[/bold]")
         for item in facts["retailer_paths"]:
             top = item["top"][0] if item["top"] else None
-            where = (f"{top['share']:.0%} → {top['node_id']} {escape(top['node_path'])}"
-                     if top else "-")
+            where = (
+                f"{top['share']:.0%} → {top['node_id']} {escape(top['node_path'])}" if top else "-"
+            )
             console.print(f"  '{escape(item['path'])}': {item['count']:,} products, {where}")
     rules = facts["rules"]
     if rules.get("rules"):
-        console.print(f"Rules: {rules['rules']} from {escape(str(rules['file']))}, "
-                      f"{rules['products_matched']:,} products decided, "
-                      f"{rules['conflicts']:,} conflicts")
+        console.print(
+            f"Rules: {rules['rules']} from {escape(str(rules['file']))}, "
+            f"{rules['products_matched']:,} products decided, "
+            f"{rules['conflicts']:,} conflicts"
+        )
         for example in rules["conflict_examples"][:5]:
-            console.print(f"  product {escape(example['product_id'])}: rule line "
-                          f"{example['rule_line']} wins over line(s) "
-                          f"{', '.join(str(n) for n in example['other_rule_lines'])}")
+            console.print(
+                f"  product {escape(example['product_id'])}: rule line "
+                f"{example['rule_line']} wins over line(s) "
+                f"{', '.join(str(n) for n in example['other_rule_lines'])}"
+            )
     for name, path in facts["outputs"].items():
         console.print(f"{name.capitalize() + ':':<12}{escape(path)}")
 
