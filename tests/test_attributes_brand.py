@@ -197,3 +197,16 @@ def test_finder_never_raises_and_ignores_case_and_outer_spaces(field: str, title
     if field.upper().lower() == field.lower() and title.upper().lower() == title.lower():
         if plain.evidence.startswith(("field exact", "title")) or not field.strip():
             assert plain.brand == shouted.brand
+
+
+@pytest.mark.parametrize("value", ["No brand", "n/a", "Sans marque", "Ohne Marke", "Sin marca"])
+def test_no_brand_placeholders_count_as_an_empty_field(
+    brands: BrandDictionary, value: str
+) -> None:
+    # Placeholder words retailers write for "no brand": common practice, no source.
+    assert BrandFinder(brands).find(value, fold("Wool scarf by Vellomar")).brand == "Vellomar"
+    assert BrandFinder(brands).find(value, fold("Wool scarf")).brand == ""
+    collector = BrandCandidates(brands)
+    for i in range(6):
+        collector.add(value, f"Scarf {i}")
+    assert collector.candidates(min_count=5) == []

@@ -464,7 +464,10 @@ _COMMON_LEAD_WORDS = frozenset(
         "original deluxe mini large small women's men's kids girls boys unisex baby ladies "
         "le la les un une des du de pour avec nouveau nouvelle "
         "der die das ein eine mit für neu neue damen herren kinder "
-        "el los las una unos con para nuevo nueva mujer hombre"
+        "el los las una unos con para nuevo nueva mujer hombre "
+        "item sale bestseller best top hot free limited exclusive gift offer deal promo "
+        "prix promo offre livraison soldes angebot bestseller oferta rebajas chollo envio "
+        "online gratis versand exclusive exklusiv refurbished"
     ).split()
 )
 _CAPITALISED = re.compile(r"^[A-ZÀ-ÖØ-Þ][\w'’&-]*$")
@@ -517,7 +520,7 @@ class BrandCandidates:
 
     def _count(self, name: str, source: str, title: str) -> None:
         key = normalize_brand(name)
-        if not key or self._known(key):
+        if key in NO_BRAND_VALUES or self._known(key):
             return
         candidate = self._seen.get(key)
         if candidate is None:
