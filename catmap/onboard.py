@@ -298,6 +298,8 @@ class OnboardOptions:
         backoff_threshold: see :class:`FeedMapper`.
         chunk_size: products mapped together.
         random_state: seed of the audit sample.
+        validation_feed: labelled feed whose ``split=valid`` rows choose the accept threshold
+            (None: the demo reference catalog); used once per model, then cached.
     """
 
     max_error: float = DEFAULT_MAX_ERROR
@@ -307,6 +309,7 @@ class OnboardOptions:
     backoff_threshold: float = DEFAULT_BACKOFF_THRESHOLD
     chunk_size: int = CHUNK_SIZE
     random_state: int = 0
+    validation_feed: Path | None = None
 
 
 @dataclass
@@ -429,7 +432,10 @@ def onboard_feed(
     progress = on_progress or (lambda _stage, _count: None)
     if validation is None:
         progress("choosing the accept threshold", 0)
-        validation = validation_predictions(mapper, folder, project=project)
+        labelled = [options.validation_feed] if options.validation_feed else None
+        validation = validation_predictions(
+            mapper, folder, project=project, labelled_feeds=labelled
+        )
     choice = accept_threshold(validation, max_error=options.max_error, delta=options.delta)
     threshold = choice.threshold
     extractor = extractor or load_extractor(project, tree)

@@ -110,6 +110,14 @@ def _onboard_with_progress(
     type=click.Path(exists=True, dir_okay=False, path_type=Path),
     help="Rules file applied before the model (default: <project>/rules/<feed>.rules).",
 )
+@click.option(
+    "--validation",
+    "validation_feed",
+    default=None,
+    type=click.Path(exists=True, dir_okay=False, path_type=Path),
+    help="Labelled feed whose split=valid rows set the accept threshold "
+    "(default: the demo reference catalog; computed once per model).",
+)
 @_project_option
 @json_option
 def onboard_command(
@@ -118,6 +126,7 @@ def onboard_command(
     confidence: float,
     audit_share: float,
     rules: Path | None,
+    validation_feed: Path | None,
     project: str | None,
     as_json: bool,
 ) -> None:
@@ -130,7 +139,11 @@ def onboard_command(
     folder = project_dir(project)
     tree = _tree_for(folder)
     options = OnboardOptions(
-        max_error=max_error, delta=1 - confidence, audit_share=audit_share, rules=rules
+        max_error=max_error,
+        delta=1 - confidence,
+        audit_share=audit_share,
+        rules=rules,
+        validation_feed=validation_feed,
     )
     summary = _onboard_with_progress(feed, folder, tree, options)
     facts = summary.to_dict()
