@@ -253,8 +253,8 @@ async def test_brand_fix_and_who_and_age_cycling_are_stored(
     async with app.run_test(size=SIZE) as pilot:
         await pilot.press("b")
         await pilot.pause()
-        await pilot.press("ctrl+u")  # clear the input (textual's delete to line start)
-        await pilot.press("end", *["backspace"] * 20, *"Ostravel Works", "enter")
+        await pilot.press("end", "ctrl+u")  # textual's Input: delete to the line start
+        await pilot.press(*"Ostravel Works", "enter")
         await pilot.pause()
         # WHO_VALUES order: female, male, unisex, not_applicable (catmap.records)
         await pilot.press("w", "w")
@@ -460,3 +460,12 @@ def test_confidence_bar() -> None:
     assert confidence_bar(0.0, 10) == "·" * 10
     assert confidence_bar(1.0, 10) == "█" * 10
     assert confidence_bar(0.5, 10) == "█" * 5 + "·" * 5
+
+
+def test_tree_follows_the_mapping_tree_version(memory_store: Store) -> None:
+    session = ReviewSession(memory_store, "ana")  # no tree given: the shared tree of the mapping
+    session.next()
+    assert session.tree.version == "1"  # sample_rows are saved with tree_version="1"
+    assert session.path_text(ANKLE_BOOTS) == "Footwear > Boots > Ankle boots"
+    assert session.path_text("") == "(no fitting node)"
+    assert session.path_text("999999").startswith("node 999999 (not in tree version 1)")

@@ -111,6 +111,7 @@ class ReviewSession:
         self.lease_seconds = lease_seconds
         self._tree = tree
         self._trees: dict[str, CategoryTree] = {}
+        self._tree_versions: dict[tuple[int, str], str] = {}
         self._clock = clock
         self.started = clock()
         self.first_decision_at: datetime | None = None
@@ -130,8 +131,11 @@ class ReviewSession:
             return self._tree
         version = "1"
         if self.current is not None:
-            stored = self.store.mapping(self.current.item.feed_id, self.current.item.product_id)
-            version = stored.tree_version or "1"
+            key = (self.current.item.feed_id, self.current.item.product_id)
+            if key not in self._tree_versions:
+                stored = self.store.mapping(*key)
+                self._tree_versions = {key: stored.tree_version or "1"}  # one item at a time
+            version = self._tree_versions[key]
         if version not in self._trees:
             self._trees[version] = load_default_tree(version)
         return self._trees[version]
