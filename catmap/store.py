@@ -193,7 +193,44 @@ _SCHEMA_V2: tuple[str, ...] = (
     "CREATE INDEX decisions_reviewer ON decisions (reviewer, id)",
 )
 
-MIGRATIONS: tuple[tuple[str, ...], ...] = (_SCHEMA_V1, _SCHEMA_V2)
+# Version 3: a remap onto a new tree version keeps what it changed until it is finalised, so
+# that it can be rolled back exactly: the previous mapping columns per product, and each review
+# item it created (before = NULL) or reopened (before = the item row as JSON).
+_SCHEMA_V3: tuple[str, ...] = (
+    """CREATE TABLE remaps (
+        id INTEGER PRIMARY KEY,
+        run_id INTEGER REFERENCES runs(id),
+        from_version TEXT NOT NULL,
+        to_version TEXT NOT NULL,
+        state TEXT NOT NULL CHECK (state IN ('running', 'pending', 'finalised', 'rolled_back')),
+        last_decision_id INTEGER NOT NULL DEFAULT 0,
+        started_at TEXT NOT NULL,
+        finished_at TEXT,
+        report TEXT NOT NULL DEFAULT '{}'
+    )""",
+    """CREATE TABLE remap_previous (
+        remap_id INTEGER NOT NULL REFERENCES remaps(id),
+        feed_id INTEGER NOT NULL,
+        product_id TEXT NOT NULL,
+        node_id TEXT NOT NULL,
+        confidence REAL NOT NULL,
+        method TEXT NOT NULL,
+        alternatives TEXT NOT NULL,
+        reason TEXT NOT NULL,
+        model_version TEXT NOT NULL,
+        tree_version TEXT NOT NULL,
+        status TEXT NOT NULL,
+        group_key TEXT NOT NULL,
+        PRIMARY KEY (feed_id, product_id)
+    ) WITHOUT ROWID""",
+    """CREATE TABLE remap_items (
+        item_id INTEGER PRIMARY KEY,
+        remap_id INTEGER NOT NULL REFERENCES remaps(id),
+        before TEXT
+    )""",
+)
+
+MIGRATIONS: tuple[tuple[str, ...], ...] = (_SCHEMA_V1, _SCHEMA_V2, _SCHEMA_V3)
 SCHEMA_VERSION = len(MIGRATIONS)
 
 
