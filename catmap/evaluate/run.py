@@ -36,7 +36,7 @@ from catmap.evaluate.metrics import (
     top_confusions,
 )
 from catmap.evaluate.tree import parent_map
-from catmap.records import Attributes, Mapping, Product, Reject
+from catmap.records import Alternative, Attributes, Mapping, Product, Reject
 
 if TYPE_CHECKING:
     from catmap.attributes import AttributeExtractor
@@ -53,6 +53,7 @@ __all__ = [
     "evaluation_report",
     "gold_from_product",
     "is_gold_column",
+    "model_mapper",
     "read_gold_csv",
 ]
 
@@ -433,3 +434,166 @@ def _attribute_report(
                 "confusion": labels.confusion,
             }
     return out
+
+
+def model_mapper(classifier: Any, threshold: float = 0.5, *, alternatives: int = 3) -> Mapper:
+    """Wrap a :class:`catmap.classify.mapping.Mapper` as a mapper: products → mappings.
+
+    The best leaf is answered when its probability reaches ``threshold``; otherwise the answer
+    backs off to the deepest node that reaches it (the model's own back-off). Per-feed rules
+    and the retailer-path consensus pass of ``catmap map`` are not applied here.
+
+    Args:
+        classifier: the model engineer's ``Mapper`` (trained model or keywords only).
+        threshold: the back-off threshold.
+        alternatives: how many next-best leaves each mapping lists.
+
+    Returns:
+        A function mapping a list of products to one mapping each.
+    """
+    import numpy as np
+
+    from catmap.classify.backoff import backoff_rows
+    from catmap.classify.features import product_texts
+
+    classes: list[str] = list(classifier.classes)
+    nodes: list[str] = list(classifier.index.nodes)
+    method: str = classifier.method
+
+    def run(products: Sequence[Product]) -> list[Mapping]:
+        if not products:
+            return []
+        p = classifier.predict_proba(product_texts(products))
+        best_class, chosen, chosen_p, backed = backoff_rows(p, classifier.index, threshold)
+        k = min(alternatives + 1, p.shape[1])
+        top = np.argsort(-p, axis=1)[:, :k]
+        out = []
+        for i in range(len(products)):
+            if backed[i]:
+                node = nodes[int(chosen[i])]
+                how = "backoff"
+                reason = f"backed off from {classes[int(best_class[i])]}"
+            else:
+                node = classes[int(best_class[i])]
+                how, reason = method, ""
+            alts = tuple(
+                Alternative(classes[int(c)], float(p[i, c]))
+                for c in top[i]
+                if classes[int(c)] != node
+            )[:alternatives]
+            out.append(Mapping(node, float(chosen_p[i]), how, alts, reason))
+        return out
+
+    return run
+
+
+def evaluate_feed(
+    feed_path: str | Path,
+    *,
+    project: str | Path,
+    gold_path: str | Path | None = None,
+    label_column: str = DEFAULT_LABEL_COLUMN,
+    model_folder: str | Path | None = None,
+    tree_version: int | str = 1,
+    split: str | None = None,
+    threshold: float = 0.5,
+    brands_path: str | Path | None = None,
+) -> dict[str, Any]:
+    """Map a labelled feed with the trained model and return the evaluation report.
+
+    Args:
+        feed_path: the feed (its own gold columns, or joined to ``gold_path`` by product id).
+        project: the project folder (feed profile, default model folder, brand dictionary).
+        gold_path: a gold CSV (product_id, the label column, gold_brand, gold_who, gold_age).
+        label_column: the column of the gold node id.
+        model_folder: the model folder (default ``<project>/models/current``); when it holds
+            no model, the tree's keywords alone map (cold start).
+        tree_version: the category tree version.
+        split: evaluate only rows whose ``split`` column has this value.
+        threshold: the back-off threshold.
+        brands_path: the brand dictionary (default: the project's, else the demo one).
+
+    Returns:
+        The report of :func:`evaluation_report` plus the run's facts (feed, gold, model,
+        left-out counts, accounting).
+
+    Raises:
+        InputError: the feed has no label column and no gold file was given, or unusable files.
+        ModelError: the model folder cannot be used (e.g. another tree version).
+    """
+    from catmap.attributes import AttributeExtractor, BrandDictionary
+    from catmap.attributes.brand import dictionary_in_use
+    from catmap.classify.mapping import Mapper as ClassMapper
+    from catmap.classify.storage import MANIFEST, load_model
+    from catmap.classify.training import feed_profile
+    from catmap.feeds import open_feed
+    from catmap.ingest import Accounting, check_profile
+    from catmap.taxonomy import load_default_tree
+
+    feed = Path(feed_path)
+    folder = Path(project)
+    tree = load_default_tree(tree_version)
+    models = Path(model_folder) if model_folder else folder / "models" / "current"
+    if model_folder is not None or (models / MANIFEST).exists():
+        model, _manifest = load_model(models, tree)
+        classifier = ClassMapper(tree, model)
+        model_text = str(models)
+    else:
+        classifier = ClassMapper(tree, None)
+        model_text = f"none (no model in {models}: the tree's keywords alone)"
+
+    profile, saved = feed_profile(feed, folder)
+    opened = open_feed(
+        feed,
+        encoding=profile.encoding,
+        record_path=profile.record_path,
+        delimiter=profile.delimiter,
+    )
+    check_profile(profile, opened.info, profile_path=saved)
+    gold = read_gold_csv(gold_path, label_column=label_column) if gold_path else None
+    if gold is None and label_column not in opened.info.columns:
+        raise InputError(
+            f"the feed has no gold column '{label_column}'",
+            path=feed,
+            field=label_column,
+            hint=f"columns found: {', '.join(opened.info.columns)}; give the gold labels "
+            "with --gold FILE or name the column with --label-column",
+        )
+    brands_file = dictionary_in_use(folder, brands_path)
+    extractor = AttributeExtractor(
+        brands=BrandDictionary.from_csv(brands_file) if brands_file else BrandDictionary([]),
+        tree=tree,
+    )
+    accounting = Accounting()
+    collected = collect(
+        read_labelled_feed(opened, profile, accounting, label_column=label_column),
+        tree=tree,
+        mapper=model_mapper(classifier, threshold),
+        gold=gold,
+        label_column=label_column,
+        extractor=extractor,
+        split=split,
+    )
+    report = evaluation_report(
+        tree=tree,
+        gold=collected.gold,
+        mappings=collected.mappings,
+        attributes=collected.attributes,
+    )
+    facts: dict[str, Any] = {
+        "feed": str(feed),
+        "gold": str(gold_path) if gold_path else f"the feed's '{label_column}' column",
+        "model": model_text,
+        "tree_version": str(tree.version),
+        "split": split,
+        "backoff_threshold": threshold,
+        "brand_dictionary": str(brands_file) if brands_file else None,
+        "left_out": {
+            "rejected": collected.rejected,
+            "without_gold": collected.without_gold,
+            "gold_not_in_tree": sum(collected.unknown_gold.values()),
+            "other_split": collected.other_split,
+        },
+        "accounting": accounting.to_dict(),
+    }
+    return {**facts, **report}

@@ -1,0 +1,170 @@
+"""``catmap evaluate``: map a labelled feed and compare with its gold labels; write the report."""
+
+from __future__ import annotations
+
+from pathlib import Path
+from typing import Any
+
+import click
+from rich.markup import escape
+from rich.table import Table
+
+from catmap.cli._render import console, echo_json, json_option
+from catmap.evaluate.run import evaluate_feed
+from catmap.project import project_dir
+from catmap.report_html import write_report
+
+CONFUSIONS_SHOWN = 10
+
+
+@click.command("evaluate")
+@click.argument("labelled_feed", type=click.Path(exists=True, dir_okay=False, path_type=Path))
+@click.option(
+    "--gold",
+    "gold_file",
+    default=None,
+    type=click.Path(exists=True, dir_okay=False, path_type=Path),
+    help="Gold labels CSV joined by product_id (default: the feed's own gold columns).",
+)
+@click.option(
+    "--label-column",
+    default="gold_node",
+    show_default=True,
+    help="Column holding the gold node id.",
+)
+@click.option(
+    "--model",
+    "model_path",
+    default=None,
+    type=click.Path(file_okay=False, path_type=Path),
+    help="Model folder (default: <project>/models/current; none = keywords only).",
+)
+@click.option(
+    "--out",
+    "out_dir",
+    default=None,
+    type=click.Path(file_okay=False, path_type=Path),
+    help="Folder for report.html and metrics.json (default: <project>/reports/<feed name>).",
+)
+@click.option("--split", default=None, help="Evaluate only rows whose 'split' column is this.")
+@click.option(
+    "--backoff-threshold",
+    type=click.FloatRange(0.0, 1.0),
+    default=0.5,
+    show_default=True,
+    help="Below this confidence, answer the deepest sure parent node.",
+)
+@click.option("--tree-version", default="1", show_default=True, help="Category tree version.")
+@click.option(
+    "--project",
+    "project",
+    default=None,
+    help="Project folder (default: $CATMAP_PROJECT or ./catmap-work).",
+)
+@json_option
+def evaluate_command(
+    labelled_feed: Path,
+    gold_file: Path | None,
+    label_column: str,
+    model_path: Path | None,
+    out_dir: Path | None,
+    split: str | None,
+    backoff_threshold: float,
+    tree_version: str,
+    project: str | None,
+    as_json: bool,
+) -> None:
+    """Measure mapping and attribute quality on a feed with gold labels.
+
+    Prints accuracy, F1, hierarchical F1, calibration error (ECE), AURC, the top confusions and
+    brand / who / age scores; writes report.html (with plots) and metrics.json.
+    """
+    folder = project_dir(project)
+    report = evaluate_feed(
+        labelled_feed,
+        project=folder,
+        gold_path=gold_file,
+        label_column=label_column,
+        model_folder=model_path,
+        tree_version=tree_version,
+        split=split,
+        threshold=backoff_threshold,
+    )
+    target = out_dir or folder / "reports" / labelled_feed.name.split(".")[0]
+    html_path, json_path = write_report(report, target)
+    if as_json:
+        echo_json(report)
+        return
+    _render(report, html_path, json_path)
+
+
+def _f(value: float) -> str:
+    return f"{value:.3f}"
+
+
+def _render(report: dict[str, Any], html_path: Path, json_path: Path) -> None:
+    mapping = report["mapping"]
+    left = ", ".join(f"{k.replace('_', ' ')} {v:,}" for k, v in report["left_out"].items() if v)
+    console.print(
+        f"[bold]{escape(report['feed'])}[/bold]: {report['products']:,} products evaluated"
+        + (f" (left out: {escape(left)})" if left else "")
+    )
+    console.print(f"Model: {escape(report['model'])}")
+    table = Table(title="Mapping")
+    table.add_column("metric")
+    table.add_column("value", justify="right")
+    for label, value in (
+        ("leaf accuracy", _f(mapping["accuracy"])),
+        ("macro-F1", _f(mapping["macro_f1"])),
+        ("weighted F1", _f(mapping["weighted_f1"])),
+        ("hierarchical precision", _f(mapping["hierarchical_precision"])),
+        ("hierarchical recall", _f(mapping["hierarchical_recall"])),
+        ("hierarchical F1", _f(mapping["hierarchical_f1"])),
+        (f"ECE ({mapping['ece_bins']} bins)", f"{mapping['ece']:.4f}"),
+        ("AURC", f"{mapping['aurc']:.4f}"),
+        *[(f"method {m}", f"{n:,}") for m, n in mapping["by_method"].items()],
+    ):
+        table.add_row(label, value)
+    console.print(table)
+
+    if report["confusions"]:
+        confusions = Table(title="Most frequent confusions")
+        confusions.add_column("count", justify="right")
+        confusions.add_column("gold")
+        confusions.add_column("mapped to")
+        for c in report["confusions"][:CONFUSIONS_SHOWN]:
+            confusions.add_row(
+                str(c["count"]),
+                escape(f"{c['true']} {c['true_path']}"),
+                escape(f"{c['predicted']} {c['predicted_path']}"),
+            )
+        console.print(confusions)
+
+    attributes = report.get("attributes") or {}
+    brand = attributes.get("brand")
+    if brand:
+        console.print(
+            f"Brand: precision {_f(brand['precision'])}, recall {_f(brand['recall'])}, "
+            f"F1 {_f(brand['f1'])} over {brand['products']:,} products"
+        )
+    for name in ("who", "age"):
+        section = attributes.get(name)
+        if not section:
+            continue
+        values = sorted({p for row in section["confusion"].values() for p in row})
+        grid = Table(
+            title=f"{name}: accuracy {_f(section['accuracy'])} over {section['products']:,}"
+        )
+        grid.add_column("gold \\ extracted")
+        for value in values:
+            grid.add_column(escape(value), justify="right")
+        for gold_value, row in section["confusion"].items():
+            grid.add_row(escape(gold_value), *[f"{row.get(v, 0):,}" for v in values])
+        console.print(grid)
+    console.print(f"Report:  {escape(str(html_path))}")
+    console.print(f"Metrics: {escape(str(json_path))}")
+
+
+def register(main: click.Group) -> None:
+    """Add ``evaluate`` to the catmap command group."""
+    main.add_command(evaluate_command)
