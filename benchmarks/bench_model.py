@@ -77,7 +77,11 @@ def _reference_path(train_size: int | None, workdir: Path) -> Path:
     if train_size is None:
         from catmap.demo import ensure_demo_world
 
-        return ensure_demo_world(ROOT / "feeds_demo").reference
+        reference = ensure_demo_world(ROOT / "feeds_demo").reference
+        # a private copy: the demo file may be rebuilt while the benchmark reads it
+        copy_path = workdir / reference.name
+        copy_path.write_bytes(reference.read_bytes())
+        return copy_path
     from catmap.demo import build_demo_world
 
     sizes = {"ferravelle": 10, "quorvane": 10, "tallimbra": 10, "oskelund_labelled": 10}
