@@ -1,0 +1,158 @@
+"""Tests of catmap.decisions_io: export the queue to CSV, fill it, import it back."""
+
+from __future__ import annotations
+
+import csv
+from pathlib import Path
+
+import pytest
+from test_onboard import SmallWorld, new_project, options, small_world
+
+from catmap.decisions_io import DECISION_COLUMNS, export_decisions, import_decisions
+from catmap.errors import InputError
+from catmap.onboard import OnboardOptions, onboard_feed
+from catmap.store import Store, store_path
+
+
+@pytest.fixture(scope="module")
+def world(tmp_path_factory: pytest.TempPathFactory) -> SmallWorld:
+    return small_world(tmp_path_factory)
+
+
+@pytest.fixture()
+def project(world: SmallWorld, tmp_path: Path) -> Path:
+    folder = new_project(world, tmp_path / "project")
+    opts = OnboardOptions(max_error=options().max_error, validation_feed=world.paths.reference)
+    onboard_feed(world.paths.feeds["ferravelle"], project=folder, tree=world.tree, options=opts)
+    return folder
+
+
+def _read(path: Path) -> list[dict[str, str]]:
+    with path.open(encoding="utf-8", newline="") as handle:
+        return list(csv.DictReader(handle))
+
+
+def _write(path: Path, rows: list[dict[str, str]]) -> None:
+    with path.open("w", encoding="utf-8", newline="") as handle:
+        writer = csv.DictWriter(handle, fieldnames=list(DECISION_COLUMNS))
+        writer.writeheader()
+        writer.writerows(rows)
+
+
+def _other_leaf(world: SmallWorld, node: str) -> str:
+    return next(leaf.id for leaf in world.tree.leaves() if leaf.id != node)
+
+
+def test_export_lists_every_open_item(world: SmallWorld, project: Path, tmp_path: Path) -> None:
+    with Store.open(store_path(project)) as store:
+        counts = export_decisions(store, tmp_path / "queue.csv", tree=world.tree)
+        open_items = store.queue_summary().open
+    rows = _read(tmp_path / "queue.csv")
+    assert tuple(rows[0]) == DECISION_COLUMNS
+    assert counts.open == open_items == len(rows)
+    assert counts.done == 0
+    for row in rows:
+        assert row["state"] == "open"
+        assert row["suggested_path"] == world.tree.path_text(row["suggested_node"])
+        assert all(row[c] == "" for c in ("reviewer_node", "action", "who", "age", "note"))
+
+
+def test_round_trip_with_a_bad_row(world: SmallWorld, project: Path, tmp_path: Path) -> None:
+    sheet = tmp_path / "queue.csv"
+    with Store.open(store_path(project)) as store:
+        export_decisions(store, sheet, tree=world.tree)
+    rows = _read(sheet)
+    assert len(rows) >= 5
+    accept, choose, bad_node, attributes, no_fit = rows[:5]
+    accept["action"] = "accept"
+    choose["reviewer_node"] = _other_leaf(world, choose["suggested_node"])
+    choose["note"] = "=not a formula"
+    bad_node["reviewer_node"] = "999999"
+    attributes["action"] = "fix_attributes"
+    attributes["who"] = "unisex"
+    attributes["age"] = "adult"
+    no_fit["action"] = "no_fit"
+    _write(sheet, rows)
+
+    with Store.open(store_path(project)) as store:
+        result = import_decisions(store, sheet, tree=world.tree, reviewer="sheet-reviewer")
+        assert result.applied == 4
+        assert result.by_action == {"accept": 1, "choose": 1, "fix_attributes": 1, "no_fit": 1}
+        assert result.empty == len(rows) - 5
+        assert [(b.line, b.item_id) for b in result.bad] == [(4, bad_node["item_id"])]
+        assert "not in the category tree" in result.bad[0].reason
+
+        chosen = store.mapping("ferravelle", choose["product_id"])
+        assert chosen.mapping.node_id == choose["reviewer_node"]
+        assert chosen.status == "reviewed"
+        fixed = store.mapping("ferravelle", attributes["product_id"])
+        assert (fixed.attributes.who, fixed.attributes.age) == ("unisex", "adult")
+        assert store.mapping("ferravelle", no_fit["product_id"]).mapping.node_id == ""
+        assert store.item(int(bad_node["item_id"])).state == "open"
+        decisions = {d.item_id: d for d in store.decisions()}
+        assert decisions[int(choose["item_id"])].note == "=not a formula"
+        assert {d.reviewer for d in decisions.values()} == {"sheet-reviewer"}
+        actions = [entry.action for entry in store.audit_log()]
+        assert actions.count("decision") == 4
+        assert "decisions_import" in actions
+
+    assert result.rejects_file == tmp_path / "queue.rejects.csv"
+    rejected = _read(result.rejects_file)
+    assert [(r["line"], r["item_id"], r["reviewer_node"]) for r in rejected] == [
+        ("4", bad_node["item_id"], "999999")
+    ]
+
+    # Importing the same sheet again: the decided rows are now bad ("already decided"), the bad
+    # row stays bad, nothing is applied twice.
+    with Store.open(store_path(project)) as store:
+        again = import_decisions(store, sheet, tree=world.tree, reviewer="sheet-reviewer")
+        assert again.applied == 0
+        assert len(again.bad) == 5
+        assert sum("already decided" in b.reason for b in again.bad) == 4
+        assert len(store.decisions()) == 4
+
+    # The decided items are exported with what was decided.
+    with Store.open(store_path(project)) as store:
+        counts = export_decisions(store, tmp_path / "after.csv", tree=world.tree)
+    after = {r["item_id"]: r for r in _read(tmp_path / "after.csv")}
+    assert counts.done == 4
+    assert after[choose["item_id"]]["decided_action"] == "choose"
+    assert after[choose["item_id"]]["decided_node"] == choose["reviewer_node"]
+
+
+@pytest.mark.parametrize(
+    ("change", "reason"),
+    [
+        ({"action": "shout"}, "action 'shout' is not one of"),
+        ({"action": "choose"}, "needs a reviewer_node"),
+        ({"who": "everyone"}, "who 'everyone' is not one of"),
+        ({"age": "ancient"}, "age 'ancient' is not one of"),
+        ({"item_id": "12x", "action": "accept"}, "is not a number"),
+        ({"item_id": "999999", "action": "accept"}, "no review item 999999"),
+    ],
+)
+def test_bad_rows_are_reported_with_their_reason(
+    world: SmallWorld, project: Path, tmp_path: Path, change: dict[str, str], reason: str
+) -> None:
+    sheet = tmp_path / "queue.csv"
+    with Store.open(store_path(project)) as store:
+        export_decisions(store, sheet, tree=world.tree)
+    rows = _read(sheet)[:2]
+    rows[0].update(change)
+    rows[1]["action"] = "accept"
+    _write(sheet, rows)
+    with Store.open(store_path(project)) as store:
+        result = import_decisions(store, sheet, tree=world.tree, reviewer="r")
+    assert result.applied == 1
+    assert len(result.bad) == 1
+    assert result.bad[0].line == 2
+    assert reason in result.bad[0].reason
+
+
+def test_a_file_without_item_ids_is_refused(
+    world: SmallWorld, project: Path, tmp_path: Path
+) -> None:
+    sheet = tmp_path / "other.csv"
+    sheet.write_text("product,node\nA,1011\n", encoding="utf-8")
+    with Store.open(store_path(project)) as store, pytest.raises(InputError, match="item_id"):
+        import_decisions(store, sheet, tree=world.tree, reviewer="r")
