@@ -24,7 +24,7 @@ from catmap.evaluate import (
     risk_coverage,
     top_confusions,
 )
-from catmap.evaluate.run import Gold, collect, evaluation_report, read_gold_csv
+from catmap.evaluate.run import Gold, collect, evaluation_report, model_mapper, read_gold_csv
 from catmap.records import Attributes, Mapping, Product, Reject
 from catmap.report_html import write_report
 from catmap.taxonomy import CategoryTree, load_tree
@@ -369,3 +369,34 @@ def test_collect_joins_gold_and_counts_left_out(small_tree: CategoryTree) -> Non
     assert collected.product_ids == ["a1"]
     assert (collected.other_split, collected.without_gold, collected.rejected) == (1, 1, 1)
     assert collected.unknown_gold == {"7777": 1}
+
+
+def test_model_mapper_backs_off_like_the_definition(small_tree: CategoryTree) -> None:
+    # Back-off as the model task defines it (a node's probability is the sum of its leaves';
+    # below the threshold, answer the deepest node reaching it). Worked by hand, threshold 0.5:
+    #   row 1: 1011 0.7 ≥ 0.5 → 1011, method "model"
+    #   row 2: leaves 1011 0.25, 1012 0.35, 1510 0.4 → best 0.4 < 0.5; node sums:
+    #          1010 = 0.6 (depth 2), 1000 = 0.6 (depth 1), 1505 = 1500 = 0.4 → 1010 at 0.6
+    import numpy as np
+
+    from catmap.classify.backoff import NodeIndex
+
+    classes = ["1011", "1012", "1510"]
+
+    class FakeClassifier:
+        method = "model"
+
+        def __init__(self) -> None:
+            self.classes = classes
+            self.index = NodeIndex(small_tree, classes)
+
+        def predict_proba(self, texts: object) -> np.ndarray:
+            return np.array([[0.7, 0.2, 0.1], [0.25, 0.35, 0.4]])
+
+    mappings = model_mapper(FakeClassifier(), 0.5)([Product("a", "x"), Product("b", "y")])
+    assert (mappings[0].node_id, mappings[0].method) == ("1011", "model")
+    assert mappings[0].confidence == pytest.approx(0.7)
+    assert (mappings[1].node_id, mappings[1].method) == ("1010", "backoff")
+    assert mappings[1].confidence == pytest.approx(0.6)
+    assert mappings[1].reason == "backed off from 1510"
+    assert [a.node_id for a in mappings[1].alternatives] == ["1510", "1012", "1011"]

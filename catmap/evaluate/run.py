@@ -50,6 +50,7 @@ __all__ = [
     "Gold",
     "Mapper",
     "collect",
+    "evaluate_feed",
     "evaluation_report",
     "gold_from_product",
     "is_gold_column",
