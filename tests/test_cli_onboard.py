@@ -1,0 +1,114 @@
+"""Tests for `catmap onboard`: summary, --json, idempotent re-run, no model."""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+from typing import Any
+
+import pytest
+from click.testing import CliRunner, Result
+from test_onboard import TEST_MAX_ERROR, SmallWorld, new_project, small_world
+
+from catmap.cli import main
+from catmap.errors import EXIT_MODEL
+from catmap.store import Store, store_path
+
+
+@pytest.fixture(scope="module")
+def world(tmp_path_factory: pytest.TempPathFactory) -> SmallWorld:
+    return small_world(tmp_path_factory)
+
+
+@pytest.fixture(autouse=True)
+def tiny_tree(world: SmallWorld, monkeypatch: pytest.MonkeyPatch) -> None:
+    monkeypatch.setenv("CATMAP_TAXONOMIES", str(world.tree_dir))
+
+
+def onboard(world: SmallWorld, project: Path, feed: str, *more: str) -> Result:
+    """Run `catmap onboard` on a demo feed of the small world."""
+    return CliRunner().invoke(
+        main,
+        [
+            "onboard",
+            str(world.paths.feeds[feed]),
+            "--project",
+            str(project),
+            "--max-error",
+            str(TEST_MAX_ERROR),
+            "--validation",
+            str(world.paths.reference),
+            *more,
+        ],
+        catch_exceptions=False,
+    )
+
+
+def _facts(result: Result) -> dict[str, Any]:
+    assert result.exit_code == 0, result.output
+    facts: dict[str, Any] = json.loads(result.stdout)
+    return facts
+
+
+def test_onboard_prints_the_summary(world: SmallWorld, tmp_path: Path) -> None:
+    project = new_project(world, tmp_path / "p")
+    result = onboard(world, project, "ferravelle")
+    assert result.exit_code == 0, result.output
+    # rich wraps long lines at the terminal width: compare with whitespace collapsed.
+    text = " ".join(result.stdout.split())
+    assert text.startswith("ferravelle (")
+    with Store.open(store_path(project)) as store:
+        status = store.feed_status("ferravelle")
+    assert f"read {status.read:,} = kept {status.kept:,} + rejected {status.rejected:,}" in text
+    assert "rejects: duplicate_id" in text
+    assert f"auto-accepted {status.accepted + status.audit:,} of {status.products:,}" in text
+    assert "accept threshold" in text
+    assert "with 95% confidence their error rate is at most 10.0%" in text
+    assert "By department" in text
+    assert f"store: {store_path(project)}" in text
+
+
+def test_onboard_json_matches_the_store_and_reruns_idempotently(
+    world: SmallWorld, tmp_path: Path
+) -> None:
+    project = new_project(world, tmp_path / "p")
+    first = _facts(onboard(world, project, "quorvane", "--json"))
+    accounting = first["accounting"]
+    assert accounting["read"] == accounting["kept"] + accounting["rejected"]
+    assert first["mapped"] == accounting["kept"]
+    with Store.open(store_path(project)) as store:
+        status = store.feed_status("quorvane")
+        items = store.queue_summary("quorvane").total
+    assert status.products == first["mapped"]
+    assert status.accepted + status.audit == first["accepted"] + first["audit"]
+    assert status.queued == first["queued"]
+
+    second = _facts(onboard(world, project, "quorvane", "--json"))
+    for key in ("mapped", "accepted", "queued", "audit", "threshold"):
+        assert second[key] == first[key]
+    with Store.open(store_path(project)) as store:
+        assert store.queue_summary("quorvane").total == items
+        assert sum(1 for _ in store.mappings("quorvane")) == first["mapped"]
+
+
+def test_audit_share_zero_still_audits_a_few(world: SmallWorld, tmp_path: Path) -> None:
+    project = new_project(world, tmp_path / "p")
+    facts = _facts(onboard(world, project, "tallimbra", "--audit-share", "0", "--json"))
+    accepted = facts["accepted"] + facts["audit"]
+    # The planner audits at least 5 accepted products however small the share (decide.py).
+    assert facts["audit"] == min(5, accepted)
+
+
+def test_onboard_without_a_model_says_train_first(world: SmallWorld, tmp_path: Path) -> None:
+    result = onboard(world, tmp_path / "empty", "ferravelle")
+    assert result.exit_code == EXIT_MODEL
+    assert "no trained model here" in result.stderr
+    assert "run `catmap train` first" in result.stderr
+
+
+def test_onboard_has_help() -> None:
+    result = CliRunner().invoke(main, ["onboard", "--help"])
+    assert result.exit_code == 0
+    for option in ("--max-error", "--confidence", "--audit-share", "--rules", "--project",
+                   "--json", "--validation"):
+        assert option in result.stdout
