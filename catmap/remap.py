@@ -35,6 +35,7 @@ import json
 from collections import Counter
 from collections.abc import Iterator, Sequence
 from dataclasses import dataclass, field
+from pathlib import Path
 from typing import Any
 
 import numpy as np
@@ -43,10 +44,10 @@ from catmap.classify.calibration import softmax
 from catmap.classify.features import product_texts
 from catmap.classify.keywords import DEFAULT_TEMPERATURE, KeywordMapper
 from catmap.classify.model import CategoryModel
-from catmap.errors import StoreError
+from catmap.errors import InputError, StoreError
 from catmap.records import Product
 from catmap.store import Store, product_from_json
-from catmap.taxonomy import CategoryTree
+from catmap.taxonomy import CategoryTree, load_default_tree, load_tree
 from catmap.treediff import Correspondence, Crosswalk, diff_trees
 
 __all__ = [
@@ -57,9 +58,12 @@ __all__ = [
     "finalise_remap",
     "latest_remap",
     "remap_group_key",
+    "open_tree",
     "remap_store",
     "remapped_examples",
     "rollback_remap",
+    "scorer_for_project",
+    "stored_tree_versions",
 ]
 
 # Used only when neither the option nor an onboarding run gives a threshold: a mapping right
@@ -193,6 +197,54 @@ class RemapScorer:
             usable
         ]
         return blended
+
+
+def open_tree(version_or_file: str) -> CategoryTree:
+    """Return a tree from a file path, or the shared tree of that version ("2")."""
+    path = Path(version_or_file)
+    if path.is_file():
+        return load_tree(path)
+    if not version_or_file.strip().isdigit():
+        raise InputError(
+            f"'{version_or_file}' is neither a tree file nor a tree version",
+            hint="give a version number such as 2, or the path of a tree file",
+        )
+    return load_default_tree(version_or_file.strip())
+
+
+def stored_tree_versions(store: Store) -> dict[str, int]:
+    """Return how many stored mappings use each tree version ('' = not recorded)."""
+    rows = store._read(
+        "SELECT tree_version, COUNT(*) FROM mappings GROUP BY tree_version ORDER BY tree_version"
+    ).fetchall()
+    return {str(r[0]): int(r[1]) for r in rows}
+
+
+def scorer_for_project(
+    model_dir: str | Path, old_tree: CategoryTree, new_tree: CategoryTree
+) -> RemapScorer:
+    """Build the re-scorer from the project's model folder, if it holds a usable model.
+
+    A model trained on the new tree re-scores; one trained on the old tree only helps on
+    split targets that keep an old id; without a model the new tree's keywords decide.
+    """
+    from catmap.classify.storage import load_model, read_manifest
+
+    folder = Path(model_dir)
+    if not (folder / "manifest.json").is_file():
+        return RemapScorer(new_tree)
+    version = str(read_manifest(folder).get("tree_version"))
+    if version == str(new_tree.version):
+        model, manifest = load_model(folder, new_tree)
+        return RemapScorer(
+            new_tree,
+            new_model=model,
+            model_version=str(manifest.get("training_data_fingerprint", ""))[:12],
+        )
+    if version == str(old_tree.version):
+        model, _ = load_model(folder, old_tree)
+        return RemapScorer(new_tree, old_model=model)
+    return RemapScorer(new_tree)
 
 
 # --------------------------------------------------------------------------------------------

@@ -1,0 +1,119 @@
+"""Tests for `catmap remap`, `remap-report`, `remap-rollback` and `remap-finalise`.
+
+The trees are the small hand-made pair tests/data/treediff/old.txt (version 1) and split.txt
+(version 2: node 211 Headphones split into 214 and 215).
+"""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+import pytest
+from click.testing import CliRunner, Result
+
+from catmap.cli import main
+from catmap.errors import EXIT_STORE
+from catmap.records import Mapping, Product
+from catmap.store import MappedRow, Store, store_path
+
+DATA = Path(__file__).parent / "data" / "treediff"
+OLD, NEW = str(DATA / "old.txt"), str(DATA / "split.txt")
+
+
+@pytest.fixture()
+def project(tmp_path: Path) -> Path:
+    folder = tmp_path / "project"
+    with Store.open(store_path(folder)) as store:
+        store.add_feed("shop-a")
+        run = store.start_run("onboard", feed="shop-a")
+        rows = [
+            MappedRow(
+                product=Product(product_id=pid, title=title),
+                mapping=Mapping(node_id=node, confidence=0.95, method="model"),
+                group_key="Audio",
+            )
+            for pid, title, node in (
+                ("p1", "Closed-back over-ear headphones", "211"),
+                ("p2", "Wireless in-ear earbuds", "211"),
+                ("p3", "Portable radio", "212"),
+            )
+        ]
+        store.save_mapped("shop-a", run, rows, tree_version="1")
+        store.finish_run(run, summary={"threshold": 0.5})
+    return folder
+
+
+def _run(*args: str) -> Result:
+    return CliRunner().invoke(main, list(args), catch_exceptions=False)
+
+
+def test_remap_prints_the_report(project: Path) -> None:
+    result = _run("remap", "--to", NEW, "--from", OLD, "--project", str(project))
+    assert result.exit_code == 0, result.output
+    lines = result.output.splitlines()
+    assert lines[0] == (
+        "Remap 1: tree version 1 -> 2 (computed crosswalk, re-scored with cold start)"
+    )
+    assert "  mappings             3" in lines
+    assert "  re-scored            2" in lines
+    assert "  accept threshold     0.500 for shop-a (onboard run 1)" in lines
+    assert lines[-1].startswith("Keep it with `catmap remap-finalise`")
+
+
+def test_remap_json_and_report_agree(project: Path) -> None:
+    result = _run(
+        "remap",
+        "--to",
+        NEW,
+        "--from",
+        OLD,
+        "--project",
+        str(project),
+        "--json",
+        "--min-confidence",
+        "1",
+    )
+    facts = json.loads(result.output)
+    assert facts["mappings"] == 3 and facts["requeued"] == 2
+    assert facts["by_change"]["split"] == {
+        "products": 2,
+        "automatic": 0,
+        "rescored": 2,
+        "requeued": 2,
+    }
+    assert facts["queue_groups"] == {"remap 211: Audio > Listening > Headphones": 2}
+    saved = json.loads(_run("remap-report", "--project", str(project), "--json").output)
+    assert saved["state"] == "pending"
+    assert {k: v for k, v in saved.items() if k != "state"} == facts
+
+
+def test_rollback_then_finalise_messages(project: Path) -> None:
+    _run("remap", "--to", NEW, "--from", OLD, "--project", str(project))
+    result = _run("remap-rollback", "--project", str(project))
+    assert result.output == "Rolled back: 3 mappings restored.\n"
+    with Store.open(store_path(project)) as store:
+        assert store.mapping("shop-a", "p1").mapping.node_id == "211"
+    _run("remap", "--to", NEW, "--from", OLD, "--project", str(project))
+    result = _run("remap-finalise", "--project", str(project))
+    assert result.output == "Finalised: 3 previous mappings dropped; no rollback now.\n"
+
+
+def test_nothing_to_roll_back_is_a_one_line_error(project: Path) -> None:
+    result = CliRunner().invoke(main, ["remap-rollback", "--project", str(project)])
+    assert result.exit_code == EXIT_STORE
+    assert result.output.startswith("catmap: error: ")
+    assert "no remap to roll back" in result.output
+    assert len(result.output.strip().splitlines()) == 1
+
+
+def test_version_detected_from_the_store(project: Path) -> None:
+    result = _run("remap", "--to", NEW, "--project", str(project), "--json")
+    # Without --from, the old tree is the version recorded with the stored mappings.
+    assert json.loads(result.output)["from_version"] == "1"
+
+
+def test_commands_have_help() -> None:
+    for command in ("remap", "remap-report", "remap-rollback", "remap-finalise"):
+        result = _run(command, "--help")
+        assert result.exit_code == 0 and "Usage:" in result.output
