@@ -40,6 +40,11 @@ _project_option = click.option(
 )
 
 
+def _say(*objects: Any) -> None:
+    """Print without wrapping long lines: paths stay whole and can be copied."""
+    console.print(*objects, soft_wrap=True)
+
+
 def _tree_for(project: Path) -> CategoryTree:
     """The tree of the project's model (version 1 when there is no model yet)."""
     from catmap.classify.storage import read_manifest
@@ -154,29 +159,29 @@ def onboard_command(
 
 
 def _render_onboard(facts: dict[str, Any]) -> None:
-    console.print(f"[bold]{escape(facts['feed'])}[/bold]  ({escape(facts['path'])})")
+    _say(f"[bold]{escape(facts['feed'])}[/bold]  ({escape(facts['path'])})")
     a = facts["accounting"]
-    console.print(f"  read {a['read']:,} = kept {a['kept']:,} + rejected {a['rejected']:,}")
+    _say(f"  read {a['read']:,} = kept {a['kept']:,} + rejected {a['rejected']:,}")
     if a["by_reason"]:
         reasons = ", ".join(f"{k} {v:,}" for k, v in a["by_reason"].items())
-        console.print(f"  rejects: {escape(reasons)} → {escape(facts['rejects_file'])}")
+        _say(f"  rejects: {escape(reasons)} → {escape(facts['rejects_file'])}")
     mapped = facts["mapped"]
     accepted = facts["accepted"] + facts["audit"]
-    console.print(
+    _say(
         f"  auto-accepted {accepted:,} of {mapped:,} ({facts['coverage']:.1%}), "
         f"queued {facts['queued']:,}, audit sample {facts['audit']:,}"
     )
     if facts["queued_by_reason"]:
         reasons = ", ".join(f"{k} {v:,}" for k, v in facts["queued_by_reason"].items())
-        console.print(f"  review items by reason: {escape(reasons)}")
+        _say(f"  review items by reason: {escape(reasons)}")
     if facts["threshold"] is None:
-        console.print("  [bold red]accept threshold: none[/bold red]")
+        _say("  [bold red]accept threshold: none[/bold red]")
     else:
-        console.print(
+        _say(
             f"  accept threshold {facts['threshold']:.3f} (validation coverage "
             f"{facts['coverage_validation']:.1%} of {facts['validation_products']:,})"
         )
-    console.print(f"  {escape(facts['statement'])}")
+    _say(f"  {escape(facts['statement'])}")
     if facts["by_department"]:
         table = Table(title="By department", title_justify="left")
         table.add_column("department")
@@ -185,16 +190,16 @@ def _render_onboard(facts: dict[str, Any]) -> None:
         rows = sorted(facts["by_department"].items(), key=lambda i: -i[1]["products"])
         for name, entry in rows:
             table.add_row(escape(name), f"{entry['products']:,}", f"{entry['accepted']:,}")
-        console.print(table)
+        _say(table)
     if facts["restricted"]:
         flags = ", ".join(f"{k} {v:,}" for k, v in sorted(facts["restricted"].items()))
-        console.print(f"  restriction flags: {escape(flags)}")
+        _say(f"  restriction flags: {escape(flags)}")
     if facts["rule_conflicts"]:
-        console.print(f"  rule conflicts: {facts['rule_conflicts']:,}")
+        _say(f"  rule conflicts: {facts['rule_conflicts']:,}")
     if facts["stopped_early"]:
         stopped = escape(facts["stopped_early"])
-        console.print(f"  [bold red]reading stopped early:[/bold red] {stopped}")
-    console.print(f"  store: {escape(facts['store'])}  ({facts['seconds']:.1f} s)")
+        _say(f"  [bold red]reading stopped early:[/bold red] {stopped}")
+    _say(f"  store: {escape(facts['store'])}  ({facts['seconds']:.1f} s)")
 
 
 # -- status -----------------------------------------------------------------------------------
@@ -271,12 +276,12 @@ def status_command(project: str | None, feed: str | None, as_json: bool) -> None
             number(f["accepted"]), number(f["queued"]), number(f["reviewed"]),
             number(f["open_items"]), number(f["done_items"]),
         )
-    console.print(table)
+    _say(table)
     for f in feeds:
         if f["audit_error"] is None:
-            console.print(f"{escape(f['feed'])}: no audit sample reviewed yet")
+            _say(f"{escape(f['feed'])}: no audit sample reviewed yet")
         else:
-            console.print(
+            _say(
                 f"{escape(f['feed'])}: audited error of the auto-accepted part: "
                 f"{escape(f['audit_error']['text'])}"
             )
@@ -328,17 +333,17 @@ def _render_export(feeds: list[dict[str, Any]]) -> None:
     caution = ""
     for f in feeds:
         statuses = ", ".join(f"{k} {v:,}" for k, v in sorted(f["by_status"].items()))
-        console.print(f"{escape(f['feed'])}: {f['rows']:,} products ({escape(statuses)})")
-        console.print(f"  products:   {escape(f['products'])}")
+        _say(f"{escape(f['feed'])}: {f['rows']:,} products ({escape(statuses)})")
+        _say(f"  products:   {escape(f['products'])}")
         if f["rejects"]:
-            console.print(f"  rejects:    {escape(f['rejects'])}")
-        console.print(f"  accounting: {escape(f['accounting'])}")
+            _say(f"  rejects:    {escape(f['rejects'])}")
+        _say(f"  accounting: {escape(f['accounting'])}")
         if f["restricted"]:
             flags = ", ".join(f"{k} {v:,}" for k, v in sorted(f["restricted"].items()))
-            console.print(f"  restriction flags: {escape(flags)}")
+            _say(f"  restriction flags: {escape(flags)}")
             caution = f["caution"]
     if caution:
-        console.print(f"Note: {escape(caution)}")
+        _say(f"Note: {escape(caution)}")
 
 
 # -- decisions --------------------------------------------------------------------------------
@@ -372,10 +377,10 @@ def decisions_export_command(
     if as_json:
         echo_json(counts.to_dict())
         return
-    console.print(
+    _say(
         f"Wrote {counts.open:,} open and {counts.done:,} decided items to {escape(str(out))}"
     )
-    console.print(
+    _say(
         "Fill reviewer_node (a node id) and/or action (accept, choose, no_fit, "
         "fix_attributes), then run `catmap decisions import FILE`."
     )
@@ -407,14 +412,14 @@ def decisions_import_command(
         echo_json(facts)
         return
     actions = ", ".join(f"{k} {v:,}" for k, v in sorted(result.by_action.items()))
-    console.print(
+    _say(
         f"Applied {result.applied:,} decisions ({escape(actions) or 'none'}); "
         f"{len(result.bad):,} bad rows; {result.empty:,} rows left empty."
     )
     for bad in result.bad[:20]:
-        console.print(f"  {escape(str(file))}:{bad.line}: {escape(bad.reason)}")
+        _say(f"  {escape(str(file))}:{bad.line}: {escape(bad.reason)}")
     if result.rejects_file:
-        console.print(f"Bad rows written to {escape(str(result.rejects_file))}")
+        _say(f"Bad rows written to {escape(str(result.rejects_file))}")
 
 
 # -- demo -------------------------------------------------------------------------------------
@@ -515,7 +520,7 @@ def demo_command(
 def _render_demo(facts: dict[str, Any]) -> None:
     if facts["trained"]:
         t = facts["trained"]
-        console.print(
+        _say(
             f"Trained on {t['products_train']:,} products, {t['classes']:,} classes "
             f"in {t['training_seconds']:.0f} s"
         )
@@ -535,12 +540,12 @@ def _render_demo(facts: dict[str, Any]) -> None:
             f"{g['coverage']:.1%}",
             f"{g['error']:.2%} ({g['wrong']}/{g['accepted']})",
         )
-    console.print(table)
+    _say(table)
     if facts["feeds"]:
-        console.print(escape(facts["feeds"][0]["statement"]))
-    console.print(f"Exported to {escape(facts['export'])}/")
-    console.print(f"Review the queue: [bold]{escape(facts['review_command'])}[/bold]")
-    console.print(f"({facts['seconds']:.0f} s)")
+        _say(escape(facts["feeds"][0]["statement"]))
+    _say(f"Exported to {escape(facts['export'])}/")
+    _say(f"Review the queue: [bold]{escape(facts['review_command'])}[/bold]")
+    _say(f"({facts['seconds']:.0f} s)")
 
 
 def register(main: click.Group) -> None:
