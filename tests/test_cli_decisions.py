@@ -1,0 +1,105 @@
+"""Tests for `catmap decisions export` and `catmap decisions import`."""
+
+from __future__ import annotations
+
+import csv
+import json
+from pathlib import Path
+
+import pytest
+from click.testing import CliRunner, Result
+from test_cli_onboard import onboard
+from test_onboard import SmallWorld, new_project, small_world
+
+from catmap.cli import main
+from catmap.decisions_io import DECISION_COLUMNS
+from catmap.store import Store, store_path
+
+
+@pytest.fixture(scope="module")
+def world(tmp_path_factory: pytest.TempPathFactory) -> SmallWorld:
+    return small_world(tmp_path_factory)
+
+
+@pytest.fixture(autouse=True)
+def tiny_tree(world: SmallWorld, monkeypatch: pytest.MonkeyPatch) -> None:
+    monkeypatch.setenv("CATMAP_TAXONOMIES", str(world.tree_dir))
+
+
+def _run(*args: str) -> Result:
+    return CliRunner().invoke(main, list(args), catch_exceptions=False)
+
+
+def test_export_edit_import_round_trip(world: SmallWorld, tmp_path: Path) -> None:
+    project = new_project(world, tmp_path / "p")
+    assert onboard(world, project, "ferravelle").exit_code == 0
+    sheet = tmp_path / "queue.csv"
+    result = _run("decisions", "export", "--out", str(sheet), "--project", str(project))
+    assert result.exit_code == 0, result.output
+    with sheet.open(encoding="utf-8", newline="") as handle:
+        rows = list(csv.DictReader(handle))
+    assert f"Wrote {len(rows):,} open and 0 decided items to {sheet}" in result.stdout
+
+    rows[0]["action"] = "accept"
+    rows[1]["reviewer_node"] = "not-a-node"
+    rows[2]["action"] = "fix_attributes"
+    rows[2]["who"] = "female"
+    with sheet.open("w", encoding="utf-8", newline="") as handle:
+        writer = csv.DictWriter(handle, fieldnames=list(DECISION_COLUMNS))
+        writer.writeheader()
+        writer.writerows(rows)
+
+    result = _run(
+        "decisions", "import", str(sheet), "--reviewer", "ana", "--project", str(project)
+    )
+    assert result.exit_code == 0, result.output
+    text = " ".join(result.stdout.split())
+    assert (
+        "Applied 2 decisions (accept 1, fix_attributes 1); 1 bad rows; "
+        f"{len(rows) - 3:,} rows left empty." in text
+    )
+    assert f"{sheet}:3: node 'not-a-node' is not in the category tree (version 1)" in text
+    assert f"Bad rows written to {tmp_path / 'queue.rejects.csv'}" in text
+
+    with Store.open(store_path(project)) as store:
+        decided = store.decisions()
+        assert [(d.item_id, d.reviewer, d.action) for d in decided] == [
+            (int(rows[0]["item_id"]), "ana", "accept"),
+            (int(rows[2]["item_id"]), "ana", "fix_attributes"),
+        ]
+        assert store.mapping("ferravelle", rows[2]["product_id"]).attributes.who == "female"
+
+    result = _run("decisions", "export", "--out", str(sheet), "--project", str(project),
+                  "--json")
+    assert json.loads(result.stdout) == {"path": str(sheet), "open": len(rows) - 2, "done": 2}
+
+
+def test_import_json_reports_bad_rows(world: SmallWorld, tmp_path: Path) -> None:
+    project = new_project(world, tmp_path / "p")
+    assert onboard(world, project, "quorvane").exit_code == 0
+    sheet = tmp_path / "queue.csv"
+    exported = _run("decisions", "export", "--out", str(sheet), "--project", str(project))
+    assert exported.exit_code == 0
+    with sheet.open(encoding="utf-8", newline="") as handle:
+        rows = list(csv.DictReader(handle))
+    rows[0]["action"] = "maybe"
+    with sheet.open("w", encoding="utf-8", newline="") as handle:
+        writer = csv.DictWriter(handle, fieldnames=list(DECISION_COLUMNS))
+        writer.writeheader()
+        writer.writerows(rows[:1])
+    result = _run("decisions", "import", str(sheet), "--project", str(project), "--json",
+                  "--rejects", str(tmp_path / "bad.csv"))
+    assert result.exit_code == 0, result.output
+    facts = json.loads(result.stdout)
+    assert (facts["applied"], facts["bad"]) == (0, 1)
+    assert facts["bad_rows"][0]["line"] == 2
+    assert facts["bad_rows"][0]["reason"].startswith("action 'maybe' is not one of")
+    assert facts["rejects_file"] == str(tmp_path / "bad.csv")
+    assert (tmp_path / "bad.csv").exists()
+
+
+def test_decisions_commands_have_help() -> None:
+    for command in (["decisions"], ["decisions", "export"], ["decisions", "import"]):
+        result = CliRunner().invoke(main, [*command, "--help"])
+        assert result.exit_code == 0
+        assert "Usage:" in result.stdout
