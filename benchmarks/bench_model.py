@@ -475,6 +475,14 @@ def main(argv: list[str] | None = None) -> int:
             if key in chosen:
                 print(f"running {key} ...", file=sys.stderr)
                 rows.append(step())
+                done = rows[-1]
+                print(  # each row as it finishes, so that a long run gives partial figures
+                    f"  {done.name}: acc {done.accuracy:.3f} wF1 {done.weighted_f1:.3f} "
+                    f"hF1 {done.hierarchical_f1:.3f} ECE {done.ece:.4f} "
+                    f"train {done.train_seconds:.1f} s disk {done.disk_mb:.1f} MB "
+                    f"mem {done.memory_mb:.1f} MB {done.per_second:,.0f} products/s",
+                    file=sys.stderr,
+                )
         _print_table(rows, (len(train), len(valid), len(test)))
     return 0
 
