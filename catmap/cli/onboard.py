@@ -525,9 +525,9 @@ def _render_demo(facts: dict[str, Any]) -> None:
             f"in {t['training_seconds']:.0f} s"
         )
     table = Table(title="Demo feeds", title_justify="left")
-    for header in ("feed", "read", "kept", "rejected", "accepted", "queued", "coverage",
-                   "error vs gold"):
-        table.add_column(header, justify="left" if header == "feed" else "right")
+    table.add_column("feed", no_wrap=True)
+    for header in ("read", "kept", "rejected", "accepted", "queued", "coverage", "gold error"):
+        table.add_column(header, justify="right")
     for f in facts["feeds"]:
         a, g = f["accounting"], f["gold"]
         table.add_row(

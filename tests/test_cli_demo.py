@@ -1,0 +1,77 @@
+"""Tests for `catmap demo` on a small demo world (tiny tree, a few hundred products)."""
+
+from __future__ import annotations
+
+import csv
+import json
+from pathlib import Path
+
+import pytest
+from click.testing import CliRunner, Result
+from test_onboard import TEST_MAX_ERROR, SmallWorld, new_project, small_world
+
+from catmap.cli import main
+
+
+@pytest.fixture(scope="module")
+def world(tmp_path_factory: pytest.TempPathFactory) -> SmallWorld:
+    return small_world(tmp_path_factory)
+
+
+@pytest.fixture(autouse=True)
+def tiny_tree(world: SmallWorld, monkeypatch: pytest.MonkeyPatch) -> None:
+    monkeypatch.setenv("CATMAP_TAXONOMIES", str(world.tree_dir))
+
+
+def _demo(world: SmallWorld, project: Path, *more: str) -> Result:
+    return CliRunner().invoke(
+        main,
+        ["demo", "--project", str(project), "--world", str(world.paths.root),
+         "--max-error", str(TEST_MAX_ERROR), *more],
+        catch_exceptions=False,
+    )
+
+
+def _gold(path: Path) -> dict[str, str]:
+    with path.open(encoding="utf-8", newline="") as handle:
+        return {row["product_id"]: row["gold_node"] for row in csv.DictReader(handle)}
+
+
+def test_demo_onboards_measures_and_exports(world: SmallWorld, tmp_path: Path) -> None:
+    project = new_project(world, tmp_path / "p")
+    result = _demo(world, project, "--json")
+    assert result.exit_code == 0, result.output
+    facts = json.loads(result.stdout)
+    assert facts["trained"] is None  # the project already had a model
+    assert [f["feed"] for f in facts["feeds"]] == ["ferravelle", "quorvane", "tallimbra"]
+    assert facts["review_command"] == f"catmap review --project {project}"
+    for feed in facts["feeds"]:
+        name = feed["feed"]
+        exported = project / "export" / f"{name}.products.csv"
+        assert feed["export"]["products"] == str(exported)
+        # Measure the error of the auto-accepted part again, from the export and the gold file.
+        gold = _gold(world.paths.gold[name])
+        with exported.open(encoding="utf-8", newline="") as handle:
+            rows = list(csv.DictReader(handle))
+        accepted = [r for r in rows if r["status"] == "accepted"]
+        wrong = sum(r["node_id"] != gold[r["product_id"]] for r in accepted)
+        assert feed["gold"]["accepted"] == len(accepted)
+        assert feed["gold"]["wrong"] == wrong
+        assert feed["gold"]["products"] == len(rows)
+        assert feed["gold"]["coverage"] == pytest.approx(len(accepted) / len(rows), abs=1e-4)
+
+
+def test_demo_trains_when_there_is_no_model_and_prints_the_summary(
+    world: SmallWorld, tmp_path: Path
+) -> None:
+    project = tmp_path / "fresh"
+    result = _demo(world, project)
+    assert result.exit_code == 0, result.output
+    text = " ".join(result.stdout.split())
+    assert text.startswith("Trained on ")
+    assert "Demo feeds" in text
+    for name in ("ferravelle", "quorvane", "tallimbra"):
+        assert name in text
+    assert f"Exported to {project / 'export'}/" in text
+    assert f"Review the queue: catmap review --project {project}" in text
+    assert (project / "models" / "current" / "manifest.json").exists()
