@@ -62,6 +62,7 @@ __all__ = [
     "default_model_dir",
     "default_rules_path",
     "onboard_feed",
+    "project_review_examples",
     "rejects_path",
     "review_examples",
     "validation_predictions",
@@ -380,9 +381,32 @@ def load_extractor(project: str | Path, tree: CategoryTree) -> AttributeExtracto
     return AttributeExtractor(brands=brands, tree=tree)
 
 
-def review_examples(store: Store, feed: str | None = None) -> list[tuple[Product, str]]:
-    """Return reviewed products with the node a person chose, as extra training examples."""
-    return [(example.product, example.node_id) for example in store.training_examples(feed)]
+def review_examples(
+    store: Store, feed: str | None = None, *, tree: CategoryTree | None = None
+) -> list[tuple[Product, str]]:
+    """Return reviewed products with the node a person chose, as extra training examples.
+
+    Args:
+        store: the project store.
+        feed: only this feed's decisions (default: every feed).
+        tree: when given, decisions naming a node this tree lacks are left out.
+    """
+    return [
+        (example.product, example.node_id)
+        for example in store.training_examples(feed)
+        if tree is None or example.node_id in tree
+    ]
+
+
+def project_review_examples(
+    project: str | Path, tree: CategoryTree
+) -> list[tuple[Product, str]]:
+    """Return the reviewed products of a project's store (none when it has no store yet)."""
+    path = store_path(project)
+    if not path.exists():
+        return []
+    with Store.open(path) as store:
+        return review_examples(store, tree=tree)
 
 
 def onboard_feed(

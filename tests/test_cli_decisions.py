@@ -103,3 +103,30 @@ def test_decisions_commands_have_help() -> None:
         result = CliRunner().invoke(main, [*command, "--help"])
         assert result.exit_code == 0
         assert "Usage:" in result.stdout
+
+
+def test_train_adds_the_reviewed_products(world: SmallWorld, tmp_path: Path) -> None:
+    project = new_project(world, tmp_path / "p")
+    assert onboard(world, project, "ferravelle").exit_code == 0
+    with Store.open(store_path(project)) as store:
+        items = store.items(feed="ferravelle", state="open")[:3]
+        for item in items:
+            store.decide(item.id, "ana", "accept")
+        store.decide(store.items(feed="ferravelle", state="open")[0].id, "ana", "no_fit")
+    # reviewed products with a node: the three accepted ones (no_fit has no node to learn)
+    reviewed_products = len({item.product_id for item in items})
+
+    def train(*more: str) -> dict[str, object]:
+        result = _run("train", str(world.paths.reference), "--project", str(project),
+                      "--json", *more)
+        assert result.exit_code == 0, result.output
+        facts: dict[str, object] = json.loads(result.stdout)
+        return facts
+
+    with_reviews = train()
+    without_reviews = train("--without-reviews")
+    assert with_reviews["reviewed_examples"] == reviewed_products
+    assert without_reviews["reviewed_examples"] == 0
+    assert with_reviews["products_train"] == (
+        int(str(without_reviews["products_train"])) + reviewed_products
+    )

@@ -18,6 +18,7 @@ from catmap.cli._render import console, echo_json, err_console, json_option
 from catmap.errors import InputError
 from catmap.feeds import open_feed
 from catmap.ingest import Accounting, check_profile
+from catmap.onboard import project_review_examples
 from catmap.project import feed_stem, project_dir, subfolder
 from catmap.taxonomy import load_default_tree
 from catmap.writers import FORMATS
@@ -60,6 +61,12 @@ def _model_dir(project: Path, model: Path | None) -> Path:
     type=click.Path(file_okay=False, path_type=Path),
     help="Model folder to write (default: <project>/models/current).",
 )
+@click.option(
+    "--with-reviews/--without-reviews",
+    default=True,
+    show_default=True,
+    help="Add the products reviewers decided in the project store as training examples.",
+)
 @_project_option
 @json_option
 def train_command(
@@ -68,6 +75,7 @@ def train_command(
     tree_version: str,
     classifier: str,
     model_path: Path | None,
+    with_reviews: bool,
     project: str | None,
     as_json: bool,
 ) -> None:
@@ -85,6 +93,7 @@ def train_command(
         root = Path(__file__).resolve().parents[2] / "feeds_demo"
         paths = ensure_demo_world(root, tree=tree)
         sources = [Path(paths.reference)]
+    reviewed = project_review_examples(folder, tree) if with_reviews else []
     with Progress(
         SpinnerColumn(),
         TextColumn("{task.description}"),
@@ -101,9 +110,11 @@ def train_command(
             model_dir=_model_dir(folder, model_path),
             label_column=label_column,
             model_options={"classifier": classifier},
+            extra_examples=reviewed,
             on_stage=lambda text: progress.update(task, description=text),
         )
     facts = report.to_dict()
+    facts["reviewed_examples"] = len(reviewed)
     if as_json:
         echo_json(facts)
         return
@@ -113,6 +124,7 @@ def train_command(
         f"(tree version {facts['tree_version']})"
     )
     console.print(f"  validation products  {facts['products_valid']:,}")
+    console.print(f"  reviewed examples    {len(reviewed):,} (from the project store)")
     console.print(f"  validation accuracy  {metrics.get('valid_accuracy', 0):.3f}")
     console.print(
         f"  ECE (15 bins)        {metrics.get('valid_ece_before_calibration', 0):.3f} before "
