@@ -30,6 +30,7 @@ from catmap.onboard import (
     onboard_feed,
     review_examples,
 )
+from catmap.records import Product
 from catmap.store import Store, store_path
 from catmap.taxonomy import load_default_tree
 
@@ -89,7 +90,7 @@ def _second_feed(world: Path, out: Path) -> tuple[Path, Path]:
     tree = load_default_tree(1)
     size = FEED_SIZES["ferravelle"]
     products = feed_products(tree, _brands(tree, 0), "ferravelle", seed=0, size=2 * size)
-    later = [p for p in products[size:]]
+    later = list(products[size:])
     first_ids = {p.product_id for p in products[:size]}
     later = [p for p in later if p.product_id not in first_ids]
     out.mkdir(parents=True, exist_ok=True)
@@ -99,7 +100,9 @@ def _second_feed(world: Path, out: Path) -> tuple[Path, Path]:
     return feed, gold
 
 
-def _train(project: Path, reference: Path, extra: list | None = None) -> float:  # type: ignore[type-arg]
+def _train(
+    project: Path, reference: Path, extra: list[tuple[Product, str]] | None = None
+) -> float:
     started = time.perf_counter()
     train_model(
         [reference],
