@@ -16,7 +16,7 @@ import pytest
 from catmap.classify.storage import load_model
 from catmap.classify.training import train_model
 from catmap.demo import DemoPaths, build_demo_world
-from catmap.errors import ModelNotTrained
+from catmap.errors import FeedFormatError, ModelNotTrained
 from catmap.evaluate.run import read_gold_csv
 from catmap.onboard import (
     FeedMapper,
@@ -251,3 +251,21 @@ def test_acceptance_score_never_accepts_a_backoff() -> None:
     assert acceptance_score(Mapping("1010", 0.99, "backoff")) == 0.0
     assert acceptance_score(Mapping("1011", 0.7, "model")) == 0.7
     assert acceptance_score(Mapping("1011", 1.0, "rule")) == 1.0
+
+
+def test_a_feed_cut_short_keeps_the_records_before_the_damage(
+    world: SmallWorld, project: Path, tmp_path: Path
+) -> None:
+    whole = world.paths.feeds["quorvane"].read_bytes()
+    cut = tmp_path / "quorvane_cut.xml"
+    cut.write_bytes(whole[: len(whole) // 2])
+    with pytest.raises(FeedFormatError):
+        onboard_feed(cut, project=project, tree=world.tree, options=options())
+    with Store.open(store_path(project)) as store:
+        runs = store.runs("quorvane_cut")
+        saved = sum(1 for _ in store.mappings("quorvane_cut"))
+    assert [run.status for run in runs] == ["stopped"]
+    summary = runs[0].summary
+    assert summary["stopped_early"]
+    assert saved == summary["kept"] > 0
+    assert summary["read"] == summary["kept"] + summary["rejected"]
