@@ -6,6 +6,7 @@ import csv
 import json
 from pathlib import Path
 
+import pyarrow.parquet as pq
 import pytest
 from click.testing import CliRunner
 
@@ -120,11 +121,18 @@ def test_map_refuses_a_model_of_another_tree_version(
     assert "run `catmap train --tree-version 2`" in result.stderr
 
 
-def test_map_summary_uses_two_workers(setup: tuple[Path, Path], tmp_path: Path) -> None:
+def test_map_summary_uses_two_workers_and_writes_parquet(
+    setup: tuple[Path, Path], tmp_path: Path
+) -> None:
     feed, project = setup
+    out = tmp_path / "out"
     result = CliRunner().invoke(
-        main, ["map", str(feed), "--out", str(tmp_path / "out"), "--project", str(project)]
+        main,
+        ["map", str(feed), "--out", str(out), "--project", str(project), "--format", "parquet"],
     )
     assert result.exit_code == 0, result.output
     assert "Mapped 240 products with the cold start" in result.stdout
     assert "'Maison > Café': 80 products" in result.stdout
+    table = pq.read_table(out / "mappings.parquet")
+    assert table.num_rows == 240
+    assert table.column_names[:3] == ["product_id", "title", "node_id"]
