@@ -9,6 +9,7 @@ from pathlib import Path
 from typing import Any
 
 import click
+from rich import box
 from rich.markup import escape
 from rich.progress import Progress, SpinnerColumn, TextColumn, TimeElapsedColumn
 from rich.table import Table
@@ -262,10 +263,18 @@ def status_command(project: str | None, feed: str | None, as_json: bool) -> None
     if as_json:
         echo_json({"store": str(path), "feeds": feeds})
         return
-    table = Table(title=f"Feeds in {escape(str(path))}", title_justify="left")
-    for header in ("feed", "read", "kept", "rejected", "accepted", "queued", "reviewed",
-                   "open", "done"):
-        table.add_column(header, justify="left" if header == "feed" else "right")
+    table = Table(
+        title=f"Feeds in {escape(str(path))}",
+        title_justify="left",
+        box=box.SIMPLE_HEAD,
+        padding=(0, 1),
+        pad_edge=False,
+        collapse_padding=True,
+    )
+    table.add_column("feed", no_wrap=True)
+    for header in ("read", "kept", "rejected", "accepted", "queued", "reviewed", "open",
+                   "done"):
+        table.add_column(header, justify="right", no_wrap=True)
 
     def number(value: int | None) -> str:
         return "-" if value is None else f"{value:,}"
@@ -524,10 +533,11 @@ def _render_demo(facts: dict[str, Any]) -> None:
             f"Trained on {t['products_train']:,} products, {t['classes']:,} classes "
             f"in {t['training_seconds']:.0f} s"
         )
-    table = Table(title="Demo feeds", title_justify="left")
+    table = Table(title="Demo feeds", title_justify="left", box=box.SIMPLE_HEAD,
+                  padding=(0, 1), pad_edge=False, collapse_padding=True)
     table.add_column("feed", no_wrap=True)
     for header in ("read", "kept", "rejected", "accepted", "queued", "coverage", "gold error"):
-        table.add_column(header, justify="right")
+        table.add_column(header, justify="right", no_wrap=True)
     for f in facts["feeds"]:
         a, g = f["accounting"], f["gold"]
         table.add_row(
