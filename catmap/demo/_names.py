@@ -99,6 +99,15 @@ def _misspell(name: str, rng: random.Random) -> str:
     return name[:i] + name[i + 1] + name[i] + name[i + 2:]
 
 
+_GENDER_TOKENS = frozenset({"men", "man", "mens", "homme", "hommes", "herren", "hombre", "boy",
+                            "boys", "women", "woman", "womens", "lady", "ladies", "femme",
+                            "femmes", "damen", "mujer", "girl", "girls", "fille", "garcon"})
+
+
+def _gender_tokens(text: str) -> set[str]:
+    return {w for w in re.split(r"[^a-zà-ÿ]+", text.lower()) if w in _GENDER_TOKENS}
+
+
 def make_variants(name: str, split_at: int, rng: random.Random) -> list[str]:
     """Return the spellings retailers use for a brand, canonical first.
 
@@ -114,7 +123,12 @@ def make_variants(name: str, split_at: int, rng: random.Random) -> list[str]:
     out.append(f"{name} {rng.choice(LEGAL_SUFFIXES)}")
     out.append(f"{name}{rng.choice(('®', '™'))}")
     if len(name) > 3:
-        out.append(_misspell(name, rng))
+        for _ in range(5):
+            typo = _misspell(name, rng)
+            # a typo must not create a gender word ("Home" -> "Homme")
+            if _gender_tokens(typo) <= _gender_tokens(name):
+                out.append(typo)
+                break
     if " " in name and "&" not in name:
         out.append(name.replace(" ", ""))
         out.append(name.replace(" ", "-"))

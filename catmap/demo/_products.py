@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import hashlib
 import random
+import re
 from dataclasses import dataclass
 from decimal import ROUND_HALF_UP, Decimal
 from typing import TYPE_CHECKING
@@ -24,10 +25,10 @@ if TYPE_CHECKING:
 # Share of titles that name only a parent or department ("Boots" for an ankle boot), and of
 # titles mentioning a neighbour leaf as an accessory or bundle ("... with dust bag"). These two
 # knobs set the difficulty of the catalog for a title-only classifier.
-P_PARENT_TERM = 0.16
-P_DEPARTMENT_TERM = 0.04
-P_NEIGHBOUR_MENTION = 0.12
-P_FOREIGN_TERM = 0.12
+P_PARENT_TERM = 0.07
+P_DEPARTMENT_TERM = 0.015
+P_NEIGHBOUR_MENTION = 0.05
+P_FOREIGN_TERM = 0.1
 
 _WHO_WEIGHTS = {"female": 0.45, "male": 0.35, "unisex": 0.2}
 _AGE_WEIGHTS = {"adult": 0.74, "kids": 0.18, "baby": 0.08}
@@ -201,9 +202,27 @@ def _entities(text: str) -> str:
             .replace("ü", "&uuml;").replace("ñ", "&ntilde;"))
 
 
-def _pick_term(terms: tuple[str, ...], rng: random.Random) -> str:
-    weights = [1.0 / (1 + 0.35 * i) for i in range(len(terms))]
-    return rng.choices(terms, weights=weights)[0]
+_FEMALE_WORDS = re.compile(r"\b(women|woman|ladies|lady|damen|femme|femmes|mujer|girls?|fille|"
+                           r"mädchen|niña|señora)\b", re.IGNORECASE)
+_MALE_WORDS = re.compile(r"\b(men|man|gents|herren|homme|hommes|hombre|boys?|garçon|jungen|"
+                         r"niño|caballero)\b", re.IGNORECASE)
+
+
+def _fits_audience(term: str, who: str) -> bool:
+    """A keyword holding a gender word is used only for products of that gender."""
+    female = bool(_FEMALE_WORDS.search(term))
+    male = bool(_MALE_WORDS.search(term))
+    if who == "female":
+        return not male
+    if who == "male":
+        return not female
+    return not (female or male)
+
+
+def _pick_term(terms: tuple[str, ...], rng: random.Random, who: str = "unisex") -> str:
+    usable = tuple(t for t in terms if _fits_audience(t, who)) or terms
+    weights = [1.0 / (1 + 0.35 * i) for i in range(len(usable))]
+    return rng.choices(usable, weights=weights)[0]
 
 
 class ProductFactory:
@@ -295,7 +314,7 @@ class ProductFactory:
             return ""
         if self.retailer.gender_wild:
             return self.rng.choice(V.GENDER_FIELD_WILD[key])
-        return V.GENDER_FIELD_TIDY[key][self.retailer.main_lang if lang == "en" else lang]
+        return V.GENDER_FIELD_TIDY[key][self.retailer.shop_lang(lang)]
 
     # -- the product --------------------------------------------------------------------------
     def make(self, leaf_id: str, product_id: str) -> DemoProduct:
@@ -320,11 +339,11 @@ class ProductFactory:
         # the product type words
         roll = rng.random()
         if roll < P_DEPARTMENT_TERM:
-            type_term = _pick_term(leaf.department_terms[term_lang], rng)
+            type_term = _pick_term(leaf.department_terms[term_lang], rng, who)
         elif roll < P_DEPARTMENT_TERM + P_PARENT_TERM:
-            type_term = _pick_term(leaf.parent_terms[term_lang], rng)
+            type_term = _pick_term(leaf.parent_terms[term_lang], rng, who)
         else:
-            type_term = _pick_term(leaf.own_terms[term_lang], rng)
+            type_term = _pick_term(leaf.own_terms[term_lang], rng, who)
         if rng.random() < 0.5:
             type_term = _cap(type_term)
         li = V.LANGS.index(lang)
@@ -333,7 +352,8 @@ class ProductFactory:
         extra = ""
         if leaf.neighbours and rng.random() < P_NEIGHBOUR_MENTION:
             other = self.leaves[rng.choice(leaf.neighbours)]
-            extra = f"{rng.choice(V.CONNECTORS[lang])} {_pick_term(other.own_terms[lang], rng)}"
+            neighbour_term = _pick_term(other.own_terms[lang], rng, who)
+            extra = f"{rng.choice(V.CONNECTORS[lang])} {neighbour_term}"
 
         # colour
         gold_colour = ""
@@ -390,8 +410,8 @@ class ProductFactory:
 
         description = self._description(lang, type_term, mods, shade, size, brand_title
                                         or gold_brand)
-        levels = self._category(leaf, lang, who, age)
-        value = Decimal(str(round(rng.lognormvariate(0, 0.7) * prof.price_median, 2) + 0.01))
+        levels = self._category(leaf, r.shop_lang(lang), who, age)
+        value = Decimal(str(round(rng.lognormvariate(0, 0.9) * prof.price_median, 2) + 0.01))
         if rng.random() < 0.5:
             value = value.to_integral_value() - Decimal("0.01") if value > 1 else value
         with_cur = rng.random() < r.currency_in_price_p
@@ -415,7 +435,7 @@ class ProductFactory:
             size=size,
             url=f"https://www.{r.slug}.example/p/{slug}-{product_id.lower()}",
             image_url=f"https://img.{r.slug}.example/{hashlib.sha1(product_id.encode()).hexdigest()[:12]}.jpg",
-            availability=rng.choice(V.AVAILABILITY_WORDS[lang]),
+            availability=rng.choice(V.AVAILABILITY_WORDS[r.shop_lang(lang)]),
             gold_node=leaf.id,
             gold_brand=gold_brand,
             gold_who=who,

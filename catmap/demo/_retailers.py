@@ -40,6 +40,7 @@ class Retailer:
     category_noise: float = 0.2
     currency_in_price_p: float = 0.0
     duplicates: int = 5
+    per_product_lang: bool = False  # category / availability in each product's own language
     weight: float = 1.0
     extra: dict[str, str] = field(default_factory=dict)
 
@@ -47,6 +48,10 @@ class Retailer:
         """Draw the language of one product's title."""
         langs = sorted(self.langs)
         return rng.choices(langs, weights=[self.langs[k] for k in langs])[0]
+
+    def shop_lang(self, product_lang: str) -> str:
+        """The language of the retailer's own words (categories, availability) for a product."""
+        return product_lang if self.per_product_lang else self.main_lang
 
     @property
     def main_lang(self) -> str:
@@ -87,7 +92,7 @@ FEED_C = Retailer("Tallimbra", "tallimbra", {"en": 0.45, "de": 0.3, "es": 0.25},
                   "thousands", " >> ", "dept_leaf", caps_p=0.12, lower_p=0.06, sku_p=0.35,
                   filler_p=0.25, emoji_p=0.1, mojibake_p=0.04, desc_missing_p=0.4,
                   gender_fill=0.6, gender_wild=True, category_noise=0.25, duplicates=7,
-                  currency_in_price_p=0.2)
+                  currency_in_price_p=0.2, per_product_lang=True)
 LABELLED_FEED = Retailer("Oskelund", "oskelund", {"en": 0.9, "de": 0.1}, "GBP", "OS", "symbol",
                          " > ", "full", sku_p=0.1, filler_p=0.1, gender_fill=0.6, duplicates=3)
 
