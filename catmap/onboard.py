@@ -331,6 +331,7 @@ class OnboardSummary:
     threshold: float | None = None
     coverage_validation: float = 0.0
     validation_products: int = 0
+    validation_source: str = ""
     statement: str = ""
     max_error: float = DEFAULT_MAX_ERROR
     delta: float = DEFAULT_DELTA
@@ -497,6 +498,7 @@ def onboard_feed(
             threshold=threshold,
             coverage_validation=choice.coverage,
             validation_products=choice.n_calibration,
+            validation_source=validation.source,
             statement=choice.statement,
             max_error=options.max_error,
             delta=options.delta,

@@ -183,6 +183,10 @@ def _render_onboard(facts: dict[str, Any]) -> None:
             f"{facts['coverage_validation']:.1%} of {facts['validation_products']:,})"
         )
     _say(f"  {escape(facts['statement'])}")
+    _say(
+        f"  (held-out products of {escape(facts['validation_source'])}; a new feed can differ "
+        "from them: the reviewed audit sample measures its real error, see `catmap status`)"
+    )
     if facts["by_department"]:
         table = Table(title="By department", title_justify="left")
         table.add_column("department")
