@@ -77,18 +77,34 @@ _CELL_TAGS = frozenset({"td", "th"})
 _MAX_PASSES = 8
 
 
-def _tag_replacement(match: re.Match[str]) -> str:
-    name = (match.group(1) or "").lower()
-    if name in _LINE_TAGS:
-        return "\n"
-    return " " if name in _CELL_TAGS else ""
+class _TagReplacements(dict[str | None, str]):
+    """Tag name (as written, or None for ``<!...>`` / ``<?...>``) → what replaces the tag.
+
+    Filled on first sight of each spelling; bounded, since tag names come from the feed.
+    """
+
+    def __missing__(self, name: str | None) -> str:
+        lowered = (name or "").lower()
+        value = "\n" if lowered in _LINE_TAGS else " " if lowered in _CELL_TAGS else ""
+        if len(self) < 4096:
+            self[name] = value
+        return value
+
+
+_TAG_REPLACEMENTS = _TagReplacements()
 
 
 def _strip_html(text: str) -> str:
     if "<!--" in text:
         text = _COMMENT_RE.sub(" ", text)
     text = _DROPPED_BLOCK_RE.sub(" ", text)
-    return _TAG_RE.sub(_tag_replacement, text)
+    # split() interleaves the text between tags with each tag's name (the pattern's one group):
+    # replacing the names through a dict does what a callback per tag did, at C speed.
+    parts = _TAG_RE.split(text)
+    if len(parts) == 1:
+        return text
+    parts[1::2] = map(_TAG_REPLACEMENTS.__getitem__, parts[1::2])
+    return "".join(parts)
 
 
 def _unescape(text: str) -> str:
@@ -104,8 +120,12 @@ def _unescape(text: str) -> str:
 def _collapse(text: str, one_line: bool) -> str:
     if one_line:
         return " ".join(text.split())
-    lines = (" ".join(line.split()) for line in text.splitlines())
-    return "\n".join(line for line in lines if line)
+    lines = text.splitlines()
+    if len(lines) == 1:
+        return " ".join(lines[0].split())
+    # Each line's whitespace runs made one space, empty lines dropped (map/filter: no Python
+    # frame per line).
+    return "\n".join(filter(None, map(" ".join, map(str.split, lines))))
 
 
 def _one_pass(text: str, one_line: bool) -> str:
@@ -114,6 +134,17 @@ def _one_pass(text: str, one_line: bool) -> str:
         text = _unescape(text)
     if "<" in text:
         text = _strip_html(text)
+    if not text.isascii() and "\xa0" in text:
+        # A no-break space (often from "&nbsp;") alone makes no mojibake pair, and NFKC turns it
+        # into a plain space: when it is the only non-ASCII character, the ASCII path applies.
+        replaced = text.replace("\xa0", " ")
+        if replaced.isascii():
+            text = replaced
+    if text.isascii():
+        # No mojibake pair and nothing NFKC changes in ASCII; only ASCII controls can be there.
+        if _ASCII_INVISIBLE_RE.search(text):
+            text = _ASCII_INVISIBLE_RE.sub("", text)
+        return _collapse(text, one_line)
     if _MOJIBAKE_RE.search(text):
         text = ftfy.fix_encoding(text)
     if not unicodedata.is_normalized("NFKC", text):
@@ -124,12 +155,11 @@ def _one_pass(text: str, one_line: bool) -> str:
 
 def _settled(text: str) -> bool:
     """True when no step of the pipeline can change ``text`` any more (cheap checks only)."""
-    return (
-        "<" not in text
-        and "&" not in text
-        and not _MOJIBAKE_RE.search(text)
-        and unicodedata.is_normalized("NFKC", text)
-    )
+    if "<" in text or "&" in text:
+        return False
+    if text.isascii():
+        return True
+    return not _MOJIBAKE_RE.search(text) and unicodedata.is_normalized("NFKC", text)
 
 
 def _clean(value: str, one_line: bool) -> str:
@@ -140,6 +170,7 @@ def _clean(value: str, one_line: bool) -> str:
     text = value
     for _ in range(_MAX_PASSES):
         cleaned = _one_pass(text, one_line)
+        # One pass is enough when the cheap checks prove no step can change the result.
         if cleaned == text or _settled(cleaned):
             return cleaned
         text = cleaned
@@ -279,7 +310,48 @@ def _currency_in(text: str, default: str | None) -> tuple[str | None, bool]:
     return None, False
 
 
-@lru_cache(maxsize=8192)
+# The shapes most feeds use, read without the general rules (same results): "12", "12,5",
+# "1234.56", "1,234.56", "1.234,56", with at most one "€"/"£" before or one "€"/"£"/ISO code
+# after, one optional space between. Groups: prefix symbol, plain whole digits, whole digits
+# with "," thousands (then a "." decimal mark), with "." thousands (then a "," decimal mark),
+# fraction, suffix.
+_FAST_PRICE_RE = re.compile(
+    r"(?:([€£]) ?)?"
+    r"(?:(\d{1,15})(?:[.,](\d{1,2}))?"
+    r"|(\d{1,3}(?:,\d{3}){1,4})\.(\d{1,2})"
+    r"|(\d{1,3}(?:\.\d{3}){1,4}),(\d{1,2}))"
+    r"(?: ?([€£]|[A-Z]{3}))?"
+)
+_FAST_SYMBOLS = {"€": "EUR", "£": "GBP"}
+
+
+def _fast_price(
+    match: re.Match[str], default_currency: str | None
+) -> tuple[Decimal | None, str | None] | None:
+    prefix, plain, plain_fraction, comma_whole, comma_fraction = match.group(1, 2, 3, 4, 5)
+    point_whole, point_fraction, suffix = match.group(6, 7, 8)
+    if prefix is not None:
+        if suffix is not None:
+            return None
+        currency: str | None = _FAST_SYMBOLS[prefix]
+    elif suffix is not None:
+        currency = _FAST_SYMBOLS.get(suffix) or (suffix if suffix in ISO_4217_CODES else None)
+        if currency is None:
+            return None
+    else:
+        currency = normalize_currency(default_currency) if default_currency else None
+    if plain is not None:
+        whole, fraction = plain, plain_fraction or ""
+    elif comma_whole is not None:
+        whole, fraction = comma_whole.replace(",", ""), comma_fraction
+    else:
+        whole, fraction = point_whole.replace(".", ""), point_fraction
+    places = MINOR_UNITS.get(currency or "", 2)
+    if places > len(fraction):
+        fraction = fraction.ljust(places, "0")
+    return Decimal(f"{whole}.{fraction}" if fraction else whole), currency
+
+
 def parse_price(
     value: str, default_currency: str | None = None
 ) -> tuple[Decimal | None, str | None]:
@@ -302,6 +374,20 @@ def parse_price(
         kept when the text has them; 2 when the currency is unknown), the ISO 4217 code or None.
         ``(None, None)`` when the text holds no single non-negative amount.
     """
+    if len(value) <= 40:
+        match = _FAST_PRICE_RE.fullmatch(value)
+        if match is not None:
+            fast = _fast_price(match, default_currency)
+            if fast is not None:
+                return fast
+    return _parse_price(value, default_currency)
+
+
+@lru_cache(maxsize=8192)
+def _parse_price(
+    value: str, default_currency: str | None = None
+) -> tuple[Decimal | None, str | None]:
+    """The general rules of :func:`parse_price` (cached: some feeds repeat a few prices)."""
     if len(value) > 100:
         return None, None
     text = value
@@ -357,9 +443,11 @@ def gs1_check_digit(body: str) -> int:
     """
     if not body or not (body.isascii() and body.isdigit()):
         raise ValueError(f"a GTIN body is made of digits, got {body!r}")
-    total = 0
-    for position, char in enumerate(reversed(body)):
-        total += int(char) * (3 if position % 2 == 0 else 1)
+    # Sum the byte values of each weight's digits (C loops), then take away the "0" offsets.
+    data = body.encode("ascii")
+    tripled = data[-1::-2]
+    single = data[-2::-2]
+    total = 3 * (sum(tripled) - 48 * len(tripled)) + sum(single) - 48 * len(single)
     return (10 - total % 10) % 10
 
 
@@ -380,9 +468,12 @@ def normalize_gtin(value: str) -> tuple[str | None, str | None]:
         problem)`` with problem one of "gtin_not_digits", "gtin_bad_length",
         "gtin_invalid_check_digit".
     """
-    digits = _GTIN_NOISE_RE.sub("", value)
-    if digits.endswith(".0"):
-        digits = digits[:-2]
+    if value.isdigit() and value.isascii():
+        digits = value
+    else:
+        digits = _GTIN_NOISE_RE.sub("", value)
+        if digits.endswith(".0"):
+            digits = digits[:-2]
     if not (digits.isascii() and digits.isdigit()):
         return None, ("gtin_not_digits" if digits else "gtin_bad_length")
     if len(digits) not in _GTIN_LENGTHS:
