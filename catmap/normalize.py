@@ -622,11 +622,16 @@ def split_category_path(value: str) -> tuple[str, ...]:
         return ()
     if _STRONG_SEPARATOR_RE.search(text):
         parts = _STRONG_SEPARATOR_RE.split(text)
-    elif "/" in text and "://" not in text and not text.casefold().startswith("www."):
+        levels = tuple(level for level in map(clean_line, parts) if level)
+        if len(levels) != 1 or _STRONG_SEPARATOR_RE.search(levels[0]):
+            return levels
+        # One level left ("Hommes - Chemises >", "/»"): it is read as a path without strong
+        # separators, as it would be on its own, so that the result reads back the same.
+        text = levels[0]
+    if "/" in text and "://" not in text and not text.casefold().startswith("www."):
         parts = _SLASH_RE.split(text)
         if len(parts) == 1:
             parts = _DASH_RE.split(text)
     else:
         parts = _DASH_RE.split(text)
-    levels = (clean_line(part) for part in parts)
-    return tuple(level for level in levels if level)
+    return tuple(level for level in map(clean_line, parts) if level)

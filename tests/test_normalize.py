@@ -367,6 +367,11 @@ def test_normalize_availability_never_raises_and_is_stable(raw: str) -> None:
         ("  <b>Toys</b>  ", ("Toys",)),
         ("", ()),
         (" / ", ()),
+        # A single level left by a strong separator reads as that level alone would, so that
+        # joining the levels again gives them back (found by the stability property below).
+        ("/»", ()),
+        ("Hommes - Chemises >", ("Hommes", "Chemises")),
+        ("Damen/Schuhe |", ("Damen", "Schuhe")),
     ],
 )
 def test_split_category_path(raw: str, levels: tuple[str, ...]) -> None:
