@@ -38,6 +38,7 @@ __all__ = ["MAPPING_COLUMNS", "CONFIDENCE_BANDS", "MapSummary", "Mapper", "map_f
 
 TOP_K = 10
 CHUNK_SIZE = 20_000
+SCORE_BATCH = 4_096
 CONFIDENCE_BANDS = ((0.0, 0.5), (0.5, 0.8), (0.8, 0.95), (0.95, 1.0))
 MAPPING_COLUMNS = (
     "product_id",
@@ -95,7 +96,23 @@ class Mapper:
     def top_k(
         self, texts: ProductTexts, k: int = TOP_K
     ) -> tuple[np.ndarray[Any, Any], np.ndarray[Any, Any]]:
-        """Return the k most probable class columns and their probabilities, best first."""
+        """Return the k most probable class columns and their probabilities, best first.
+
+        Rows are scored in batches of :data:`SCORE_BATCH`: the dense (rows, classes) arrays of
+        the blend stay small, whatever the chunk size.
+        """
+        parts = []
+        for start in range(0, len(texts), SCORE_BATCH):
+            rows = range(start, min(start + SCORE_BATCH, len(texts)))
+            parts.append(self._top_k(texts.subset(rows) if len(texts) > SCORE_BATCH else texts, k))
+        if not parts:
+            empty = np.zeros((0, k), dtype=np.int32)
+            return empty, empty.astype(np.float32)
+        return np.vstack([i for i, _ in parts]), np.vstack([v for _, v in parts])
+
+    def _top_k(
+        self, texts: ProductTexts, k: int
+    ) -> tuple[np.ndarray[Any, Any], np.ndarray[Any, Any]]:
         p = self.predict_proba(texts)
         k = min(k, p.shape[1])
         idx = np.argpartition(-p, k - 1, axis=1)[:, :k]
