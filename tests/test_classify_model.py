@@ -88,3 +88,17 @@ def test_cold_start_finds_nodes_for_multilingual_titles(tree: CategoryTree) -> N
     texts = ProductTexts(list(titles), [""] * len(titles), [""] * len(titles), [""] * len(titles))
     predicted = mapper.classes_[mapper.predict_proba(texts).argmax(axis=1)]
     assert predicted.tolist() == list(titles.values())
+
+
+def test_mapper_top_k_is_the_same_in_small_batches(
+    tree: CategoryTree, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    from catmap.classify import mapping
+
+    texts, _ = texts_and_labels(labelled_rows(10))
+    mapper = mapping.Mapper(tree, None)
+    whole = mapper.top_k(texts, k=3)
+    monkeypatch.setattr(mapping, "SCORE_BATCH", 3)
+    batched = mapper.top_k(texts, k=3)
+    assert np.array_equal(whole[0], batched[0])
+    assert np.allclose(whole[1], batched[1])
