@@ -552,7 +552,7 @@ def _render_demo(facts: dict[str, Any]) -> None:
             f"{f['accepted'] + f['audit']:,}",
             f"{f['queued']:,}",
             f"{g['coverage']:.1%}",
-            f"{g['error']:.2%} ({g['wrong']}/{g['accepted']})",
+            f"{g['error']:.2%}",
         )
     _say(table)
     if facts["feeds"]:
