@@ -16,21 +16,44 @@ import click
 
 from catmap.errors import EXIT_FAILURE, EXIT_INTERRUPTED, CatmapError
 
-# Command modules, each with a ``register(group)`` function. Kept as a list so that the order
-# of ``catmap --help`` follows the pipeline.
-COMMAND_MODULES = (
-    "feeds",  # inspect, normalize
-    "tree",  # tree validate/show/search/diff
-    "model",  # train, map, evaluate
-    "brands",  # brands candidates / accept
-    "onboard",  # onboard, status, export, decisions, demo
-    "review",  # review (terminal screen)
-    "remap",  # remap, remap-rollback, remap-finalise
-)
+# Every command, in the order a product flows through catmap, with the module that registers it
+# (``register(group)``). Modules are imported only when one of their commands runs, so that a quick
+# command does not pay for the model's imports.
+COMMANDS: dict[str, str] = {
+    "inspect": "feeds",
+    "normalize": "feeds",
+    "tree": "tree",
+    "train": "model",
+    "map": "model",
+    "evaluate": "evaluate",
+    "brands": "brands",
+    "onboard": "onboard",
+    "status": "onboard",
+    "review": "review",
+    "decisions": "onboard",
+    "export": "onboard",
+    "demo": "onboard",
+    "remap": "remap",
+    "remap-report": "remap",
+    "remap-rollback": "remap",
+    "remap-finalise": "remap",
+}
 
 
 class _Boundary(click.Group):
-    """A click group that turns catmap errors into one line and a named exit code."""
+    """The top-level group: loads command modules on demand, and is the one error boundary.
+
+    A catmap error becomes one line on stderr and the error's named exit code.
+    """
+
+    def list_commands(self, ctx: click.Context) -> list[str]:
+        return list(COMMANDS)
+
+    def get_command(self, ctx: click.Context, cmd_name: str) -> click.Command | None:
+        if cmd_name not in self.commands and cmd_name in COMMANDS:
+            module = importlib.import_module(f"catmap.cli.{COMMANDS[cmd_name]}")
+            module.register(self)
+        return self.commands.get(cmd_name)
 
     def invoke(self, ctx: click.Context) -> Any:
         debug = bool(ctx.params.get("debug")) or os.environ.get("CATMAP_DEBUG") == "1"
@@ -58,17 +81,3 @@ class _Boundary(click.Group):
 @click.version_option(package_name="catmap")
 def main(debug: bool) -> None:
     """catmap: map retailer product feeds onto one shared category tree."""
-
-
-def _register_commands() -> None:
-    for name in COMMAND_MODULES:
-        try:
-            module = importlib.import_module(f"catmap.cli.{name}")
-        except ModuleNotFoundError as error:
-            if error.name == f"catmap.cli.{name}":
-                continue  # not written yet
-            raise
-        module.register(main)
-
-
-_register_commands()
