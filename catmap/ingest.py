@@ -10,12 +10,19 @@ half-way: what was read before it is written and counted, then the error is rais
 Speed: the profile is compiled once into a :class:`ProductBuilder` (the column of each field and
 the function that cleans it), so that per record only ``dict.get`` and the normalisers run.
 
-Memory: everything streams. The one structure that grows with the feed is the index of product
-ids already seen, used to find duplicates. It holds an 8-byte BLAKE2b digest of each id (as a
-Python int) mapped to the line where that id was first seen: about 100 bytes per distinct id on
-64-bit CPython (key int ~32 B, line int ~28 B, dict slot ~40 B), i.e. ~100 MB per million
-products. Two different ids share a 64-bit digest with probability about n² / 2⁶⁵
-(~3·10⁻⁸ for a million ids), which would reject the second one as a duplicate.
+Memory: everything streams. The one structure that grows with the feed is :class:`IdIndex`, the
+index of product ids already seen, used to find duplicates. Records are handled in batches of
+:data:`BATCH_SIZE` (read, normalised, then yielded in order); each distinct id costs an 8-byte
+BLAKE2b digest (int64) plus its first line (uint32, or int64 once a line passes 2³²−1), i.e. 12
+bytes, kept in a few sorted NumPy runs merged LSM-style (the latest :data:`RECENT_IDS` ids wait
+in a dict, ~1.6 MB, then form a run; runs of similar size are merged, so there are O(log n)
+runs and a batch is checked with one ``np.searchsorted`` per run). A million products take
+~12 MB (a dict of digest → line took ~116 MB). A 200-million-product feed takes ~2.4 GB, and
+up to ~2.4 GB more for a moment while the two largest runs are merged (the merged arrays exist
+beside the old ones): such a feed needs ~5 GB of free memory, or should be split. Two
+different ids share a 64-bit digest with probability about n² / 2⁶⁵ (~3·10⁻⁸ for a million
+ids, ~10⁻³ for 200 million), which would reject the second one as a duplicate; digests are
+deterministic, so a run gives the same result every time.
 """
 
 from __future__ import annotations
@@ -25,8 +32,11 @@ from collections.abc import Callable, Iterable, Iterator
 from dataclasses import dataclass, field
 from functools import lru_cache
 from hashlib import blake2b
+from itertools import islice
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
+
+import numpy as np
 
 from catmap.errors import FeedEncodingError, FeedFormatError, ProfileError, UnsafeFeedError
 from catmap.normalize import (
@@ -310,8 +320,89 @@ def to_product(record: SourceRecord, profile: FeedProfile) -> Product | Reject:
     return builder(record)
 
 
-def _id_key(product_id: str) -> int:
-    return int.from_bytes(blake2b(product_id.encode("utf-8"), digest_size=8).digest(), "little")
+# Records read and normalised before the first of them is yielded: the index's sorted runs are
+# searched once per batch with NumPy. Small, so that the batch stays in the CPU caches.
+BATCH_SIZE = 64
+# Ids first kept in a dict, turned into a sorted run when this many have gathered.
+RECENT_IDS = 16_384
+_NOT_FOUND = -1
+_UINT32_MAX = 2**32 - 1
+
+
+class IdIndex:
+    """The product ids already seen (as 64-bit digests) with the line each was first seen on.
+
+    The latest ids sit in a dict (``recent``, at most about :data:`RECENT_IDS`); older ones in
+    sorted runs of int64 digests with their first lines beside them (uint32 while lines fit,
+    else int64). Every id is in one place only, because only ids not found are added. Making a
+    run merges the last runs while the one before the last is no more than twice as long, so
+    the number of runs grows like log2 of the ids seen.
+    """
+
+    def __init__(self) -> None:
+        self.recent: dict[int, int] = {}
+        self.runs: list[tuple[np.ndarray, np.ndarray]] = []
+
+    @staticmethod
+    def keys(product_ids: list[str]) -> list[int]:
+        """Return the 8-byte BLAKE2b digests of ``product_ids`` as (little-endian) int64."""
+        digests = b"".join(
+            [blake2b(pid.encode("utf-8"), digest_size=8).digest() for pid in product_ids]
+        )
+        keys: list[int] = np.frombuffer(digests, dtype="<i8").tolist()
+        return keys
+
+    def lookup_runs(self, keys: list[int]) -> list[int] | None:
+        """Return the first line of each key found in the runs (:data:`_NOT_FOUND` if absent).
+
+        None when no key is in the runs (``recent`` is not searched: use ``recent.get``).
+        """
+        if not self.runs or not keys:
+            return None
+        key_array = np.array(keys, dtype=np.int64)
+        found: np.ndarray | None = None
+        for run_keys, run_lines in self.runs:
+            positions = np.searchsorted(run_keys, key_array)
+            np.minimum(positions, len(run_keys) - 1, out=positions)
+            hit = run_keys[positions] == key_array
+            if hit.any():
+                if found is None:
+                    found = np.full(len(keys), _NOT_FOUND, dtype=np.int64)
+                found[hit] = run_lines[positions[hit]]
+        if found is None:
+            return None
+        lines: list[int] = found.tolist()
+        return lines
+
+    def settle(self) -> None:
+        """Turn ``recent`` into a sorted run once it is full (call between lookups only)."""
+        recent = self.recent
+        if len(recent) < RECENT_IDS:
+            return
+        key_array = np.fromiter(recent.keys(), dtype=np.int64, count=len(recent))
+        line_array = np.fromiter(recent.values(), dtype=np.int64, count=len(recent))
+        self.recent = {}
+        if int(line_array.max()) <= _UINT32_MAX and int(line_array.min()) >= 0:
+            line_array = line_array.astype(np.uint32)
+        order = np.argsort(key_array)
+        runs = self.runs
+        runs.append((key_array[order], line_array[order]))
+        while len(runs) >= 2 and len(runs[-2][0]) <= 2 * len(runs[-1][0]):
+            (keys_b, lines_b), (keys_a, lines_a) = runs.pop(), runs.pop()
+            # Merge two sorted, disjoint runs: insert b where it belongs in a.
+            positions = np.searchsorted(keys_a, keys_b)
+            lines_a = lines_a.astype(np.result_type(lines_a, lines_b), copy=False)
+            runs.append(
+                (np.insert(keys_a, positions, keys_b), np.insert(lines_a, positions, lines_b))
+            )
+
+    def __len__(self) -> int:
+        return len(self.recent) + sum(len(keys) for keys, _ in self.runs)
+
+    @property
+    def nbytes(self) -> int:
+        """Bytes held by the runs' arrays (the recent dict not counted)."""
+        return sum(keys.nbytes + lines.nbytes for keys, lines in self.runs)
 
 
 def iter_products(
@@ -322,6 +413,9 @@ def iter_products(
     Reader-level rejects pass through and are counted. A product whose id was already seen is
     rejected as ``duplicate_id`` (the first one is kept; the detail names its line). A fatal
     reader error propagates after the records before it were yielded and counted.
+
+    Records are read and normalised :data:`BATCH_SIZE` at a time, then yielded one by one
+    (the accounting counts each when it is yielded).
 
     Args:
         feed: an open feed (anything that yields SourceRecord / Reject).
@@ -335,46 +429,70 @@ def iter_products(
         ProfileError: when the profile maps no column to ``product_id`` or ``title``.
     """
     build = ProductBuilder(profile)
-    seen: dict[int, int] = {}
+    index = IdIndex()
     duplicates = accounting.duplicate_ids
-    for item in feed:
-        accounting.read += 1
-        if type(item) is Reject:
-            accounting.count_reject(item.reason)
-            yield item
-            continue
-        assert isinstance(item, SourceRecord)
-        result = build(item)
-        if type(result) is Reject:
-            accounting.count_reject(result.reason)
-            yield result
-            continue
-        assert isinstance(result, Product)
-        product_id = result.product_id
-        key = _id_key(product_id)
-        first_line = seen.get(key)
-        if first_line is None:
-            seen[key] = item.line
-            accounting.kept += 1
-            yield result
-            continue
-        where = f"line {first_line}" if first_line else "earlier in the feed"
-        reject = Reject(
-            DUPLICATE_ID,
-            f"product id '{product_id}' was already seen at {where}; the first one is kept",
-            item.line,
-            item.location,
-            record_excerpt(item),
-            product_id,
-        )
-        lines = duplicates.get(product_id)
-        if lines is None:
-            if len(duplicates) < MAX_DUPLICATE_IDS_LISTED:
-                duplicates[product_id] = [item.line]
-        elif len(lines) < MAX_LINES_PER_DUPLICATE_ID:
-            lines.append(item.line)
-        accounting.count_reject(DUPLICATE_ID)
-        yield reject
+    source = iter(feed)
+    while True:
+        batch: list[Product | Reject] = []
+        records: list[SourceRecord] = []
+        error: Exception | None = None
+        try:
+            for item in islice(source, BATCH_SIZE):
+                if type(item) is Reject:
+                    batch.append(item)
+                else:
+                    assert isinstance(item, SourceRecord)
+                    result = build(item)
+                    batch.append(result)
+                    if type(result) is Product:
+                        records.append(item)
+        except Exception as exc:  # yield what came before it, then raise it
+            error = exc
+        keys = IdIndex.keys([item.product_id for item in batch if type(item) is Product])
+        in_runs = index.lookup_runs(keys)
+        recent = index.recent
+        position = 0
+        for result in batch:
+            accounting.read += 1
+            if type(result) is Reject:
+                accounting.count_reject(result.reason)
+                yield result
+                continue
+            assert isinstance(result, Product)
+            key = keys[position]
+            first_line = in_runs[position] if in_runs is not None else _NOT_FOUND
+            record = records[position]
+            position += 1
+            if first_line == _NOT_FOUND:
+                first_line = recent.get(key, _NOT_FOUND)
+                if first_line == _NOT_FOUND:
+                    recent[key] = record.line
+                    accounting.kept += 1
+                    yield result
+                    continue
+            product_id = result.product_id
+            where = f"line {first_line}" if first_line else "earlier in the feed"
+            reject = Reject(
+                DUPLICATE_ID,
+                f"product id '{product_id}' was already seen at {where}; the first one is kept",
+                record.line,
+                record.location,
+                record_excerpt(record),
+                product_id,
+            )
+            lines = duplicates.get(product_id)
+            if lines is None:
+                if len(duplicates) < MAX_DUPLICATE_IDS_LISTED:
+                    duplicates[product_id] = [record.line]
+            elif len(lines) < MAX_LINES_PER_DUPLICATE_ID:
+                lines.append(record.line)
+            accounting.count_reject(DUPLICATE_ID)
+            yield reject
+        if error is not None:
+            raise error
+        if len(batch) < BATCH_SIZE:
+            return
+        index.settle()
 
 
 @dataclass(frozen=True)

@@ -14,6 +14,7 @@ from catmap.fieldmap import FeedProfile
 from catmap.ingest import (
     FATAL_FEED_ERRORS,
     Accounting,
+    IdIndex,
     check_profile,
     iter_products,
     normalize_feed_to,
@@ -241,6 +242,76 @@ def test_accounting_balances_at_every_step() -> None:
     for count, _item in enumerate(iter_products(_stream(items), _profile(), accounting), 1):
         assert accounting.read == count
         assert accounting.balanced
+
+
+def test_duplicates_across_many_batches_match_a_plain_dict(
+    monkeypatch: pytest.MonkeyPatch,
+) -> None:
+    # Small batches and runs, so that ids spread over many index runs that get merged.
+    monkeypatch.setattr("catmap.ingest.BATCH_SIZE", 7)
+    monkeypatch.setattr("catmap.ingest.RECENT_IDS", 10)
+    ids = [f"S{(n * 7919) % 613}" for n in range(2000)]  # every id repeats a few times
+    items: list[SourceRecord | Reject] = [
+        _record(line=line, sku=sku) for line, sku in enumerate(ids, start=2)
+    ]
+    # The expected outcome from a plain dict of id -> first line.
+    first: dict[str, int] = {}
+    expected: list[tuple[str, int | None]] = []
+    for line, sku in enumerate(ids, start=2):
+        if sku in first:
+            expected.append((sku, first[sku]))
+        else:
+            first[sku] = line
+            expected.append((sku, None))
+    accounting = Accounting()
+    out = list(iter_products(_stream(items), _profile(), accounting))
+    assert len(out) == len(ids)
+    for item, (sku, first_line) in zip(out, expected, strict=True):
+        if first_line is None:
+            assert isinstance(item, Product) and item.product_id == sku
+        else:
+            assert isinstance(item, Reject) and item.reason == "duplicate_id"
+            assert item.product_id == sku
+            assert f"already seen at line {first_line};" in item.detail
+    assert accounting.kept == len(first)
+    assert accounting.by_reason == {"duplicate_id": len(ids) - len(first)}
+    assert accounting.balanced
+
+
+def test_id_index_merges_runs_and_keeps_large_line_numbers(
+    monkeypatch: pytest.MonkeyPatch,
+) -> None:
+    keys = IdIndex.keys(["first", "second", "third"])
+    index = IdIndex()
+    index.recent[keys[0]] = 7
+    index.settle()  # fewer than RECENT_IDS: the id stays recent
+    assert index.runs == [] and index.recent == {keys[0]: 7}
+    monkeypatch.setattr("catmap.ingest.RECENT_IDS", 1)
+    index.settle()  # a run of one id, lines as uint32
+    big = 2**33 + 5  # past the uint32 range
+    index.recent[keys[1]] = big
+    index.settle()  # a second run of the same size: merged with the first
+    assert len(index.runs) == 1 and len(index) == 2
+    assert index.lookup_runs(keys) == [7, big, -1]
+    assert index.lookup_runs(IdIndex.keys(["absent"])) is None
+
+
+def test_fatal_error_after_a_full_batch_keeps_every_good_record(
+    monkeypatch: pytest.MonkeyPatch,
+) -> None:
+    monkeypatch.setattr("catmap.ingest.BATCH_SIZE", 2)
+    items: list[SourceRecord | Reject] = [
+        _record(line=2, sku="A"),
+        _record(line=3, sku="B"),
+        _record(line=4, sku="A"),
+    ]
+    accounting = Accounting()
+    seen: list[str] = []
+    with pytest.raises(FeedFormatError, match="unclosed element"):
+        for item in iter_products(_stream(items, fatal_after=True), _profile(), accounting):
+            seen.append(item.product_id)
+    assert seen == ["A", "B", "A"]
+    assert (accounting.read, accounting.kept, accounting.rejected) == (3, 2, 1)
 
 
 def test_fatal_error_midway_keeps_the_good_records(tmp_path: Path) -> None:
