@@ -43,6 +43,7 @@ _ENTITY = re.compile(r"<!ENTITY\b")
 _COMMENT = re.compile(r"<!--.*?-->", re.DOTALL)
 _ELEMENT_START = re.compile(r"<[A-Za-z_]")
 _DECLARED_ENCODING = re.compile(r"""^\s*<\?xml[^>]*encoding\s*=\s*["']([A-Za-z0-9._-]+)["']""")
+_NO_PARENT = object()
 _UNSAFE_HINT = (
     "the feed declares XML entities; catmap never expands them; "
     "ask the sender for a feed without a DTD"
@@ -226,22 +227,23 @@ def resolve_record_path(given: str, counts: Counter[str], path: str | Path) -> s
 
 
 def _flatten(element: Any, prefix: str, out: dict[str, str]) -> None:
-    for name, value in element.attrib.items():
-        if value:
-            key = f"{prefix}@{_attribute_name(name, element)}"
-            out[key] = out[key] + JOIN + value if key in out else value
+    # Runs for every record: lxml calls are the cost, so each is made once per child, cheap ones
+    # first (keys() rather than the attrib proxy; attributes only read when there are some).
+    if element.keys():
+        for name, value in element.items():
+            if value:
+                key = f"{prefix}@{_attribute_name(name, element)}"
+                out[key] = out[key] + JOIN + value if key in out else value
     for child in element:
         tag = child.tag
-        if not isinstance(tag, str):
+        if type(tag) is not str:
             continue  # an unexpanded entity reference: never resolved, so nothing to keep
         if tag[0] == "{":
             local = tag[tag.index("}") + 1 :]
             child_prefix = child.prefix
-            name = f"{child_prefix}:{local}" if child_prefix else local
-        else:
-            name = tag
-        key = prefix + name
-        if len(child) or child.attrib:
+            tag = f"{child_prefix}:{local}" if child_prefix else local
+        key = prefix + tag if prefix else tag
+        if len(child) or child.keys():
             _flatten(child, key + ".", out)
         text = child.text
         if text and not text.isspace():
@@ -264,7 +266,6 @@ def iter_xml(
     steps = record_path.split("/")[1:]
     local = steps[-1].split(":")[-1]
     name = steps[-1]
-    depth = len(steps)
     read = 0
     stream, _ = open_binary(path)
     try:
@@ -275,13 +276,24 @@ def iter_xml(
             encoding=encoding,
             **_PARSER_OPTIONS,
         )
+        # Records share their parent: its path is checked once per parent, not per record.
+        last_parent: Any = _NO_PARENT
+        parent_matches = False
+        parent_steps = steps[:-1]
         for _, element in events:
-            chain = [element]
             parent = element.getparent()
-            while parent is not None:
-                chain.append(parent)
-                parent = parent.getparent()
-            if len(chain) != depth or [_qname(e) for e in reversed(chain)] != steps:
+            if parent is not last_parent:
+                last_parent = parent
+                chain = []
+                while parent is not None:
+                    chain.append(parent)
+                    parent = parent.getparent()
+                parent_matches = [_qname(e) for e in reversed(chain)] == parent_steps
+                parent = last_parent
+            if not parent_matches:
+                continue
+            tag = element.tag
+            if (tag if tag[0] != "{" else _qname(element)) != name:
                 continue
             fields: dict[str, str] = {}
             _flatten(element, "", fields)
@@ -289,9 +301,9 @@ def iter_xml(
             line = element.sourceline or 0
             yield SourceRecord(fields, line, f"<{name}> #{read} at line {line}")
             element.clear(keep_tail=True)
-            owner = element.getparent()
-            while element.getprevious() is not None:
-                del owner[0]
+            if parent is not None:
+                while element.getprevious() is not None:
+                    del parent[0]
     except etree.XMLSyntaxError as exc:
         raise _syntax_error(exc, path, read) from exc
     finally:
