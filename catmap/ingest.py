@@ -27,12 +27,14 @@ deterministic, so a run gives the same result every time.
 
 from __future__ import annotations
 
+import dataclasses
 import json
+from collections import deque
 from collections.abc import Callable, Iterable, Iterator
 from dataclasses import dataclass, field
 from functools import lru_cache
 from hashlib import blake2b
-from itertools import islice
+from itertools import islice, repeat
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
@@ -136,6 +138,30 @@ def _strip(value: str) -> str:
 _clean_repeated_line = lru_cache(maxsize=16_384)(clean_line)
 
 
+# Products are made without the dataclass __init__ (which sets each of Product's fields through
+# a Python-level object.__setattr__ call): a new instance gets every field set from one list in
+# a C loop. Fields with a default factory get a fresh value per product.
+_PRODUCT_FIELDS = dataclasses.fields(Product)
+_PRODUCT_NAMES = tuple(f.name for f in _PRODUCT_FIELDS)
+_PRODUCT_INDEX = {name: index for index, name in enumerate(_PRODUCT_NAMES)}
+_PRODUCT_DEFAULTS = [
+    None if f.default is dataclasses.MISSING else f.default for f in _PRODUCT_FIELDS
+]
+_PRODUCT_FACTORIES = tuple(
+    (index, f.default_factory)
+    for index, f in enumerate(_PRODUCT_FIELDS)
+    if f.default_factory is not dataclasses.MISSING
+)
+_new_object = object.__new__
+_set_field = object.__setattr__
+
+
+def _make_product(values: list[Any]) -> Product:
+    product: Product = _new_object(Product)
+    deque(map(_set_field, repeat(product, len(values)), _PRODUCT_NAMES, values), 0)
+    return product
+
+
 class ProductBuilder:
     """A feed profile compiled for speed: call it with a source record to get a Product or Reject.
 
@@ -160,9 +186,10 @@ class ProductBuilder:
         self.id_column = columns["product_id"]
         self.title_column = columns["title"]
         self.mapped_columns = frozenset(columns.values())
-        # (Product field, source column, cleaner) for the plain text fields. IDs and URLs are only
-        # stripped: an id must stay exactly as the retailer knows it, and a URL is not prose.
-        cleaners: dict[str, Callable[[str], str]] = {
+        # (Product field index, source column, cleaner) for the fields cleaned by one function.
+        # IDs and URLs are only stripped: an id must stay exactly as the retailer knows it, and a
+        # URL is not prose.
+        cleaners: dict[str, Callable[[str], Any]] = {
             "description": clean_text,
             "brand": _clean_repeated_line,
             "gender_text": _clean_repeated_line,
@@ -171,14 +198,19 @@ class ProductBuilder:
             "url": _strip,
             "image_url": _strip,
             "availability": normalize_availability,
+            "category_path": split_category_path,
         }
-        self.text_steps: tuple[tuple[str, str, Callable[[str], str]], ...] = tuple(
-            (name, columns[name], cleaner) for name, cleaner in cleaners.items() if name in columns
+        self.text_steps: tuple[tuple[int, str, Callable[[str], Any]], ...] = tuple(
+            (_PRODUCT_INDEX[name], columns[name], cleaner)
+            for name, cleaner in cleaners.items()
+            if name in columns
         )
         self.category_column = columns.get("category_path")
         self.price_column = columns.get("price")
         self.currency_column = columns.get("currency")
         self.gtin_column = columns.get("gtin")
+        # The price step runs when either column is mapped.
+        self.has_price = self.price_column is not None or self.currency_column is not None
 
     def __call__(self, record: SourceRecord) -> Product | Reject:
         """Normalise one source record."""
@@ -206,19 +238,19 @@ class ProductBuilder:
                 product_id,
             )
 
-        values: dict[str, Any] = {}
+        values = _PRODUCT_DEFAULTS.copy()
+        for index, factory in _PRODUCT_FACTORIES:
+            values[index] = factory()
+        values[_PRODUCT_ID] = product_id
+        values[_TITLE] = title
+        values[_SOURCE_LINE] = record.line
         flags: list[str] = []
-        for name, column, cleaner in self.text_steps:
+        for index, column, cleaner in self.text_steps:
             raw = get(column)
             if raw:
-                values[name] = cleaner(raw)
+                values[index] = cleaner(raw)
 
-        if self.category_column is not None:
-            raw = get(self.category_column)
-            if raw:
-                values["category_path"] = split_category_path(raw)
-
-        if self.price_column is not None or self.currency_column is not None:
+        if self.has_price:
             self._price(get, values, flags)
 
         if self.gtin_column is not None:
@@ -227,28 +259,22 @@ class ProductBuilder:
                 raw = raw.strip()
             if raw:
                 gtin, problem = normalize_gtin(raw)
-                values["gtin_raw"] = raw
+                values[_GTIN_RAW] = raw
                 if problem is None and gtin is not None:
-                    values["gtin"] = gtin
+                    values[_GTIN] = gtin
                 else:
                     flags.append(FLAG_GTIN_INVALID)
                     if problem:
                         flags.append(problem)
 
         mapped = self.mapped_columns
-        extra = {key: value for key, value in fields.items() if key not in mapped}
-        return Product(
-            product_id=product_id,
-            title=title,
-            extra=extra,
-            flags=tuple(flags),
-            source_line=record.line,
-            **values,
-        )
+        if not mapped.issuperset(fields):
+            values[_EXTRA] = {key: value for key, value in fields.items() if key not in mapped}
+        if flags:
+            values[_FLAGS] = tuple(flags)
+        return _make_product(values)
 
-    def _price(
-        self, get: Callable[[str], str | None], values: dict[str, Any], flags: list[str]
-    ) -> None:
+    def _price(self, get: Callable[[str], str | None], values: list[Any], flags: list[str]) -> None:
         column_currency: str | None = None
         if self.currency_column is not None:
             raw_currency = get(self.currency_column)
@@ -259,13 +285,13 @@ class ProductBuilder:
         raw_price = get(self.price_column) if self.price_column is not None else None
         if not raw_price or not raw_price.strip():
             if column_currency is not None:
-                values["currency"] = column_currency
+                values[_CURRENCY] = column_currency
             return
         price, currency = parse_price(raw_price, self.default_currency)
         if price is None:
             flags.append(FLAG_PRICE_UNPARSED)
         else:
-            values["price"] = price
+            values[_PRICE] = price
         if column_currency is not None:
             # The currency column is explicit; a different symbol in the price text (not merely
             # the profile's default) is worth a flag.
@@ -273,9 +299,20 @@ class ProductBuilder:
                 flags.append(FLAG_CURRENCY_CONFLICT)
             currency = column_currency
         if currency is not None:
-            values["currency"] = currency
+            values[_CURRENCY] = currency
         elif price is not None:
             flags.append(FLAG_CURRENCY_MISSING)
+
+
+_PRODUCT_ID = _PRODUCT_INDEX["product_id"]
+_TITLE = _PRODUCT_INDEX["title"]
+_SOURCE_LINE = _PRODUCT_INDEX["source_line"]
+_GTIN = _PRODUCT_INDEX["gtin"]
+_GTIN_RAW = _PRODUCT_INDEX["gtin_raw"]
+_EXTRA = _PRODUCT_INDEX["extra"]
+_FLAGS = _PRODUCT_INDEX["flags"]
+_PRICE = _PRODUCT_INDEX["price"]
+_CURRENCY = _PRODUCT_INDEX["currency"]
 
 
 # One compiled profile is kept: to_product is called record after record with the same profile.

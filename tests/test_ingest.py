@@ -109,6 +109,18 @@ def test_unmapped_optional_fields_keep_their_defaults() -> None:
     assert product.extra == {}
 
 
+def test_built_product_equals_the_dataclass_made_one() -> None:
+    # Products are made without Product.__init__: every field must still be set, and each
+    # product must get its own extra dict.
+    first = to_product(_record(sku="A"), _profile())
+    second = to_product(_record(sku="B", lining="quilted"), _profile())
+    assert first == Product(product_id="A", title="Velloro field jacket", source_line=2)
+    assert second == Product(
+        product_id="B", title="Velloro field jacket", extra={"lining": "quilted"}, source_line=2
+    )
+    assert isinstance(first, Product) and first.extra is not to_product(_record(), _profile()).extra
+
+
 def test_invalid_gtin_is_kept_raw_and_flagged() -> None:
     # GS1 General Specifications: the check digit of 400638133393 is 1, so ...2 is wrong.
     product = to_product(_record(ean="4006381333932"), _profile())
