@@ -4,18 +4,27 @@ from __future__ import annotations
 
 import csv
 import gzip
+import html
 import io
 import re
 import xml.etree.ElementTree as ET
 from collections import Counter, defaultdict
 from pathlib import Path
 
+import ftfy
 import pytest
 
-from catmap.demo import build_demo_world, demo_paths, ensure_demo_world, split_of
+from catmap.demo import (
+    DemoPaths,
+    build_demo_world,
+    demo_paths,
+    ensure_demo_world,
+    split_of,
+)
 from catmap.demo.__main__ import main as demo_main
 from catmap.demo._blocklist import BLOCKED_DIGESTS, is_blocked
 from catmap.demo._names import HARD_CASES
+from catmap.demo._products import audience_said
 from catmap.demo._retailers import ALL_RETAILERS
 from catmap.demo.world import XML_EXT_NAMESPACE, XML_NAMESPACE
 from catmap.records import AGE_VALUES, WHO_VALUES
@@ -91,6 +100,105 @@ def _disagreement(pairs: list[tuple[str, str]], tree: CategoryTree) -> float:
     return wrong / len(pairs)
 
 
+# Words by which a shop says whom a product is for, in the four languages of the demo world
+# (common practice, no source). Written here apart from the generator's own word lists.
+_SAYS_WHO = {
+    "female": r"women|womens|woman|wmns|ladies|lady|for her|femmes?|damen\w*|frauen|mujer|"
+              r"señora|girls?|filles?|mädchen\w*|niñas?",
+    "male": r"men|mens|mns|man|gents|for him|hommes?|herren\w*|hombre|caballero|boys?|"
+            r"garçons?|jungen\w*|niño",
+}
+_SAYS_AGE = {
+    "kids": r"kids?|children|childrens|junior|enfants?|kinder\w*|niños|infantil|girls?|boys?|"
+            r"filles?|garçons?|mädchen\w*|jungen\w*|niñas?|niño|"
+            # children's sizes: "8 ans", "age 4-5", "Gr. 128", "116 cm", "104/110", "EU 30"
+            r"\d+ ?(?:ans|años|jahre|years|yrs|y)|age \d+|gr\. ?1\d\d|1\d\d ?cm|1\d\d/1\d\d|"
+            r"(?:eu|gr\.|pointure|talla) [23]\d",
+    "baby": r"bab(?:y|ys|ies)\w*|infant|newborn|bébé|bebé|naissance|recién nacido|"
+            r"neugeboren\w*|\d+ ?(?:months|mois|monate|meses|m)|gr\. [5-8]\d|\d\d/\d\d|0m\+",
+}
+_NOT_SAYING = r"baby (?:pink|blue)|babyblau|babyrosa|rose bébé|bleu bébé"
+# Gender column values that give a child's age but not whether the child is a girl or a boy.
+_AGE_ONLY_COLUMN = {"kids", "k-g", "k-b", "baby", "bébé", "bebé", "infant", "newborn", "kinder",
+                    "enfant", "niños", "children", "junior"}
+
+
+def _readable(text: str) -> str:
+    # as a reader sees it: mojibake repaired (as catmap's normaliser does, with ftfy), HTML
+    # entities and tags undone, case and apostrophes dropped
+    text = html.unescape(ftfy.fix_encoding(text)).casefold().replace("'", "")
+    return re.sub(_NOT_SAYING, " ", re.sub(r"<[^>]+>", " ", text))
+
+
+def _unsaid(rows: list[dict[str, str]], spellings: dict[str, list[str]],
+            tree: CategoryTree) -> tuple[list[dict[str, str]], list[dict[str, str]], Counter[str]]:
+    """Products whose gold who (female / male) or age (kids / baby) no field says.
+
+    Only nodes that leave several values open count (elsewhere the node says it). Rows hold
+    ``title, description, category, gender, size`` and the gold columns. Also returns, for the
+    gendered products, the one field that says it when only one does.
+    """
+    no_who, no_age = [], []
+    sole: Counter[str] = Counter()
+    for r in rows:
+        fields = {"title": r["title"], "category": r["category"], "description": r["description"]}
+        texts = {}
+        for key, value in fields.items():
+            text = _readable(value)
+            for name in sorted(spellings.get(r["gold_brand"], []), key=len, reverse=True):
+                text = text.replace(_readable(name), " ")
+            texts[key] = text
+        column = r["gender"].strip().casefold()
+        who, age, node = r["gold_who"], r["gold_age"], r["gold_node"]
+        if who in _SAYS_WHO and len(tree.who(node)) > 1:
+            saying = [k for k, t in texts.items() if re.search(rf"\b(?:{_SAYS_WHO[who]})\b", t)]
+            if column and column not in _AGE_ONLY_COLUMN:
+                saying.append("column")
+            if not saying:
+                no_who.append(r)
+            elif len(saying) == 1:
+                sole[saying[0]] += 1
+        if age in _SAYS_AGE and len(tree.ages(node)) > 1:
+            text = " | ".join([*texts.values(), _readable(r["size"])])
+            if not column and not re.search(rf"\b(?:{_SAYS_AGE[age]})\b", text):
+                no_age.append(r)
+    return no_who, no_age, sole
+
+
+def _spellings(path: Path) -> dict[str, list[str]]:
+    return {r["brand"]: [r["brand"], *r["variants"].split(";")]
+            for r in _read_csv(path.read_bytes())}
+
+
+def _feed_rows(name: str, paths: DemoPaths) -> list[dict[str, str]]:
+    """A feed's products (first of each id) as title / description / category / gender / size,
+    joined with their gold labels."""
+    data = paths.feeds[name].read_bytes()
+    columns = ("title", "description", "category", "gender", "size")
+    raw: list[tuple[str, ...]] = []
+    if name == "ferravelle":
+        for r in _read_csv(data, encoding="cp1252", delimiter=";"):
+            raw.append((r["ref"], r["désignation"], r["descriptif"], r["rayon"], r["genre"],
+                        r["taille"]))
+    elif name == "tallimbra":
+        for r in _read_csv(data, encoding="utf-8-sig", delimiter="\t"):
+            raw.append((r["id"], r["title"], r["description"], r["category"], r["gender"],
+                        r["size"]))
+    else:
+        ns = {"c": XML_NAMESPACE, "qv": XML_EXT_NAMESPACE}
+        for o in ET.fromstring(data).iter(f"{{{XML_NAMESPACE}}}offer"):
+            category = o.find("c:category", ns)
+            raw.append((o.get("id", ""), o.findtext("c:title", "", ns),
+                        o.findtext("c:description", "", ns),
+                        category.get("breadcrumb", "") if category is not None else "",
+                        o.findtext("qv:audience", "", ns), o.findtext("c:size", "", ns)))
+    gold = {g["product_id"]: g for g in _read_csv(paths.gold[name].read_bytes())}
+    rows: dict[str, dict[str, str]] = {}
+    for pid, *values in raw:
+        rows.setdefault(pid, {**dict(zip(columns, values, strict=True)), **gold[pid]})
+    return list(rows.values())
+
+
 # -- the generator, on a small tree --------------------------------------------------------------
 
 def test_same_seed_gives_same_bytes(tmp_path: Path, small_tree: CategoryTree) -> None:
@@ -135,6 +243,28 @@ def test_small_tree_world_is_labelled_consistently(tmp_path: Path,
             not expected_who and r["gold_who"] == "not_applicable")
         if r["gold_node"] in ("4011", "4012"):  # audience "none" in the tree
             assert (r["gold_who"], r["gold_age"]) == ("not_applicable", "not_applicable")
+
+
+def test_small_tree_products_say_whom_they_are_for(tmp_path: Path,
+                                                    small_tree: CategoryTree) -> None:
+    paths = build_demo_world(tmp_path, reference_size=3000, feed_sizes=SMALL_FEEDS,
+                             tree=small_tree)
+    rows = [{**r, "category": r["retailer_category"]} for r in _read_reference(paths.reference)]
+    no_who, no_age, _sole = _unsaid(rows, _spellings(paths.brands), small_tree)
+    assert no_who == [] and no_age == []
+    # the gendered products that remain are many: most got a cue, a few became unisex
+    who = Counter(r["gold_who"] for r in rows if r["gold_node"] in ("1011", "1521", "1522"))
+    assert who["female"] > who["unisex"] and who["male"] > who["unisex"] > 0
+
+
+def test_audience_reader_of_the_generator() -> None:
+    assert audience_said("Damenjacke wasserdicht") == {"female"}
+    assert audience_said("Chaussures pour gar&ccedil;on") == {"male", "kids"}
+    assert audience_said("MÃ¤dchen Kleid") == {"female", "kids"}  # mojibake read as repaired
+    assert audience_said("Baby pink knit jumper") == set()
+    assert audience_said("Girls' night out clutch") == set()
+    assert audience_said("Body bébé 3 mois") == {"baby"}
+    assert audience_said("Man-made fibre rug") == set()
 
 
 # -- the committed files -------------------------------------------------------------------------
@@ -198,7 +328,8 @@ def test_xml_feed_has_namespaces_attributes_and_cdata() -> None:
     assert all(p is not None and p.get("currency") for p in prices)
     assert any(o.find(f"{{{XML_EXT_NAMESPACE}}}audience") is not None for o in offers)
     levels = offers[0].findall(f"{{{XML_NAMESPACE}}}category/{{{XML_NAMESPACE}}}level")
-    assert levels and offers[0].find(f"{{{XML_NAMESPACE}}}category").get("breadcrumb")
+    category = offers[0].find(f"{{{XML_NAMESPACE}}}category")
+    assert levels and category is not None and category.get("breadcrumb")
 
 
 def test_tsv_feed_has_bom_tabs_and_a_sparse_messy_gender_column() -> None:
@@ -259,6 +390,18 @@ def test_retailer_categories_disagree_with_gold_often_enough(
     gold = {g["product_id"]: g["gold_node"] for g in _read_csv(paths.gold[name].read_bytes())}
     pairs = [(categories[pid], node) for pid, node in gold.items()]
     assert 0.15 <= _disagreement(pairs, tree_v1) <= 0.4
+
+
+@pytest.mark.parametrize("name", ["ferravelle", "quorvane", "tallimbra"])
+def test_feed_products_say_whom_they_are_for(name: str, tree_v1: CategoryTree) -> None:
+    # A female / male (kids / baby) product under a node leaving that open says so in its
+    # title, category path, gender column, description or (for age) size.
+    paths = demo_paths(DEMO)
+    rows = _feed_rows(name, paths)
+    no_who, no_age, sole = _unsaid(rows, _spellings(paths.brands), tree_v1)
+    assert no_who == [] and no_age == []
+    # not always in the same place
+    assert len(sole) >= 3 and max(sole.values()) < 0.9 * sum(sole.values()), sole
 
 
 def test_labelled_feed_has_gold_columns() -> None:

@@ -9,6 +9,7 @@ categories are right most of the time and wrong or vague for a stated share of p
 from __future__ import annotations
 
 import hashlib
+import html
 import random
 import re
 from dataclasses import dataclass
@@ -29,6 +30,14 @@ P_PARENT_TERM = 0.07
 P_DEPARTMENT_TERM = 0.015
 P_NEIGHBOUR_MENTION = 0.05
 P_FOREIGN_TERM = 0.1
+# Where the node leaves the gender (or a child's age) open and no field of a female / male
+# (kids / baby) product names it, the share of such products that become unisex (adult) instead
+# of getting a cue somewhere: real retailers nearly always say whom a product is for.
+P_NO_CUE_NEUTRAL = 0.35
+# Where that cue goes: weights per place (a place the product lacks is skipped). Retailers
+# with a wild gender column fill it rarely, so it is rarely the place of the added cue.
+_CUE_PLACES = {"title": 0.4, "path": 0.25, "column": 0.2, "description": 0.15}
+_WILD_COLUMN_WEIGHT = 0.06
 
 _WHO_WEIGHTS = {"female": 0.45, "male": 0.35, "unisex": 0.2}
 _AGE_WEIGHTS = {"adult": 0.74, "kids": 0.18, "baby": 0.08}
@@ -85,6 +94,36 @@ class DemoProduct:
     gold_who: str
     gold_age: str
     gold_colour: str
+
+
+@dataclass(slots=True)
+class _Fields:
+    """The fields of a product that can say whom it is for (changed in place by the cues)."""
+
+    title: str
+    description: str
+    levels: tuple[str, ...]
+    gender: str
+    size: str
+
+
+@dataclass(frozen=True, slots=True)
+class _TitlePieces:
+    """What a title is assembled from, kept to assemble it again with an audience word."""
+
+    brand: str
+    mods: tuple[str, ...]
+    type_term: str
+    shade: str
+    size: str
+    extra: str
+
+
+_KIDS_SIZE_VALUES = frozenset(
+    {v for values in V.KIDS_SIZES.values() for v in values} | set(V.KIDS_SHOE_SIZES))
+_BABY_SIZE_VALUES = frozenset(v for values in V.BABY_SIZES.values() for v in values)
+# A children's size that nothing in it marks as one (a bare shoe size).
+_SILENT_SIZES = frozenset({"33"})
 
 
 def _terms_of(name: str, terms: dict[str, tuple[str, ...]], lang: str, *,
@@ -202,25 +241,89 @@ def _entities(text: str) -> str:
             .replace("ü", "&uuml;").replace("ñ", "&ntilde;"))
 
 
-_FEMALE_WORDS = re.compile(r"\b(women|woman|ladies|lady|damen|femme|femmes|mujer|girls?|fille|"
-                           r"mädchen|niña|señora)\b", re.IGNORECASE)
-_MALE_WORDS = re.compile(r"\b(men|man|gents|herren|homme|hommes|hombre|boys?|garçon|jungen|"
-                         r"niño|caballero)\b", re.IGNORECASE)
+# What a reader takes from a product's words: whom it is for. Words are matched on lower-case
+# text without apostrophes; German compounds ("Damenjacke", "Kinderuhr") count; phrases that
+# only look like audience words ("baby pink", "girls' night", "man-made") do not.
+_NOT_AUDIENCE = re.compile(r"\b(?:baby ?(?:pink|blue|rose|doll)|babyblau|babyrosa|"
+                           r"(?:bleu|rose|azul|rosa) beb[eé]|girls? night|boys night|"
+                           r"man[- ]made)\b")
+_AUDIENCE_SAID: dict[str, re.Pattern[str]] = {
+    "female": re.compile(r"\b(?:women|womens|woman|wmns|womenswear|ladies|lady|female|for her|"
+                         r"femmes?|dames?|damen\w*|frauen|frau|mujer(?:es)?|señoras?|girls?|"
+                         r"filles?|fillette|mädchen\w*|niñas?)\b"),
+    "male": re.compile(r"\b(?:men|mens|mns|man|menswear|gents|male|gentlem[ae]n|for him|hommes?|"
+                       r"herren\w*|männer|hombres?|caballeros?|boys?|garçons?|jungen\w*|junge|"
+                       r"niño)\b"),
+    "kids": re.compile(r"\b(?:kids?|kidswear|children|childrens|child|junior|juniors|toddlers?|"
+                       r"youth|enfants?|kinder\w*|niños|infantil|juvenil|girls?|boys?|filles?|"
+                       r"fillette|garçons?|mädchen\w*|jungen\w*|niñas?|niño)\b"),
+    "baby": re.compile(r"\b(?:bab(?:y|ies|ys)\w*|infants?|newborns?|bébés?|bebés?|naissance|"
+                       r"nourrissons?|säugling\w*|neugeboren\w*|recién nacidos?)\b"),
+}
+# French shoe styles named "babies" (strapped flats): a style, not a baby's age.
+_STYLE_TERMS = frozenset({"babies", "babies à talon"})
 
 
-def _fits_audience(term: str, who: str) -> bool:
-    """A keyword holding a gender word is used only for products of that gender."""
-    female = bool(_FEMALE_WORDS.search(term))
-    male = bool(_MALE_WORDS.search(term))
-    if who == "female":
-        return not male
-    if who == "male":
-        return not female
-    return not (female or male)
+def _readable(text: str) -> str:
+    """Undo HTML entities and mojibake, as a reader (or catmap's normaliser) would."""
+    if "&" in text:
+        text = html.unescape(text)
+    if "Ã" in text:
+        text = " ".join(_unmangled(word) if "Ã" in word else word for word in text.split(" "))
+    return text
 
 
-def _pick_term(terms: tuple[str, ...], rng: random.Random, who: str = "unisex") -> str:
-    usable = tuple(t for t in terms if _fits_audience(t, who)) or terms
+def _unmangled(word: str) -> str:
+    try:
+        return word.encode("cp1252").decode("utf-8")
+    except (UnicodeEncodeError, UnicodeDecodeError):
+        return word
+
+
+def audience_said(text: str) -> set[str]:
+    """Return what a text tells about whom a product is for: female, male, kids, baby.
+
+    HTML entities and tags are undone, and mojibake ("MÃ¤dchen") is read as the reader would
+    repair it.
+
+    Args:
+        text: any product text (title, category path, description).
+
+    Returns:
+        The audience values the text names (empty when it names none).
+    """
+    low = _readable(text).casefold().replace("'", "").replace("\u2019", "")
+    low = _NOT_AUDIENCE.sub(" ", re.sub(r"<[^>]*>", " ", low))
+    return {value for value, words in _AUDIENCE_SAID.items() if words.search(low)}
+
+
+def _without(text: str, names: tuple[str, ...]) -> str:
+    """Blank every spelling of a brand in a text (a brand such as "Lady ..." says no gender)."""
+    for name in sorted(names, key=len, reverse=True):
+        if name.strip():
+            text = re.sub(re.escape(name), " ", text, flags=re.IGNORECASE)
+    return text
+
+
+def _fits_audience(term: str, who: str, age: str = "not_applicable") -> bool:
+    """A keyword naming a gender or a child's age is used only for products of that audience."""
+    if who == "not_applicable" and age == "not_applicable":
+        return True
+    said = audience_said(term)
+    if who != "not_applicable":
+        female, male = "female" in said, "male" in said
+        if (who == "female" and male) or (who == "male" and female) or (
+                who == "unisex" and (female or male)):
+            return False
+    if age != "not_applicable" and term.casefold() not in _STYLE_TERMS:
+        if ("kids" in said and age != "kids") or ("baby" in said and age != "baby"):
+            return False
+    return True
+
+
+def _pick_term(terms: tuple[str, ...], rng: random.Random, who: str = "unisex",
+               age: str = "not_applicable") -> str:
+    usable = tuple(t for t in terms if _fits_audience(t, who, age)) or terms
     weights = [1.0 / (1 + 0.35 * i) for i in range(len(usable))]
     return rng.choices(usable, weights=weights)[0]
 
@@ -233,13 +336,17 @@ class ProductFactory:
         brands: the invented brands.
         retailer: whose house style to write in.
         rng: the random source (one per artefact, so artefacts are independent).
+        cue_rng: the random source of the audience cues added afterwards (see
+            :meth:`_signal_audience`); kept apart so that the other fields do not depend on it.
+            By default one seeded from ``rng``'s state.
     """
 
     def __init__(self, leaves: list[LeafInfo], brands: list[Brand], retailer: Retailer,
-                 rng: random.Random) -> None:
+                 rng: random.Random, cue_rng: random.Random | None = None) -> None:
         self.leaves = {leaf.id: leaf for leaf in leaves}
         self.retailer = retailer
         self.rng = rng
+        self.cue_rng = cue_rng or random.Random(repr(rng.getstate()))
         self.by_dept: dict[str, list[Brand]] = {}
         for b in brands:
             for d in b.departments:
@@ -278,7 +385,7 @@ class ProductFactory:
         kind = leaf.profile.size_kind
         if age == "kids" and kind in ("apparel", "shoe", "baby", "pieces"):
             return rng.choice(V.KIDS_SIZES[lang]) if kind != "shoe" else rng.choice(
-                ("EU 30", "EU 28", "Gr. 31", "33", "UK 12 junior", "pointure 29", "talla 32"))
+                V.KIDS_SHOE_SIZES)
         if age == "baby" and kind in ("apparel", "shoe", "baby"):
             return rng.choice(V.BABY_SIZES[lang])
         if kind == "none" and rng.random() < 0.7:
@@ -316,6 +423,120 @@ class ProductFactory:
             return self.rng.choice(V.GENDER_FIELD_WILD[key])
         return V.GENDER_FIELD_TIDY[key][self.retailer.shop_lang(lang)]
 
+    def _audience_level(self, key: tuple[str, str], lang: str, need_who: bool) -> str:
+        """The word a category level or a tidy gender column uses for an audience."""
+        word = V.GENDER_FIELD_TIDY[key][lang]
+        if need_who and word.casefold() in V.NEUTRAL_GENDER_VALUES:
+            word = V.AUDIENCE_WORDS[key][lang][0]  # "Baby Girl", "Bébé fille"
+        return word
+
+    def _said(self, fields: _Fields, who: str, age: str, brand: Brand | None) -> set[str]:
+        """What a reader can tell of a product's audience from all its fields."""
+        text = _readable(f"{fields.title} | {' / '.join(fields.levels)} | {fields.description}")
+        if brand is not None:
+            text = _without(text, (brand.name, *brand.variants))
+        said = audience_said(text)
+        value = fields.gender.strip()
+        if value:  # the column was filled from the product's own audience
+            if who in ("female", "male") and value.casefold() not in V.NEUTRAL_GENDER_VALUES:
+                said.add(who)
+            if age in ("kids", "baby"):
+                said.add(age)
+        if fields.size in _KIDS_SIZE_VALUES and fields.size not in _SILENT_SIZES:
+            said.add("kids")
+        elif fields.size in _BABY_SIZE_VALUES:
+            said.add("baby")
+        return said
+
+    def _signal_audience(self, leaf: LeafInfo, lang: str, who: str, age: str, fields: _Fields,
+                         pieces: _TitlePieces, brand: Brand | None) -> tuple[str, str]:
+        """Make sure a reader can tell a product's gender and a child's age from its fields.
+
+        Where the node leaves several values open, a female / male product whose fields name
+        no gender, or a kids / baby product whose fields name no child's age, either becomes
+        unisex / adult (a share :data:`P_NO_CUE_NEUTRAL`, when the node allows that and the
+        gender column and size say nothing) or gets a cue: in the title, the category path,
+        the gender column or the description, the place drawn among those the product has.
+
+        Args:
+            leaf: the product's leaf.
+            lang: the title's language.
+            who: the gold who drawn for the product.
+            age: the gold age drawn for the product.
+            fields: the product's fields, changed in place.
+            pieces: what the title was assembled from.
+            brand: the product's brand (its name says nothing about the audience).
+
+        Returns:
+            The gold who and age (changed when the product became unisex / adult).
+        """
+        said = self._said(fields, who, age, brand)
+        need_who = who in ("female", "male") and len(leaf.who) > 1 and who not in said
+        need_age = age in ("kids", "baby") and len(leaf.ages) > 1 and age not in said
+        if not (need_who or need_age):
+            return who, age
+        rng = self.cue_rng
+        if need_who and not fields.gender and "unisex" in leaf.who and (
+                rng.random() < P_NO_CUE_NEUTRAL):
+            who, need_who = "unisex", False
+        if need_age and not fields.gender and fields.size not in (
+                _KIDS_SIZE_VALUES | _BABY_SIZE_VALUES) and "adult" in leaf.ages and (
+                rng.random() < P_NO_CUE_NEUTRAL):
+            age, need_age = "adult", False
+        key = self._audience_key(who, age)
+        if key is None or not (need_who or need_age):
+            return who, age
+        weights = dict(_CUE_PLACES)
+        if self.retailer.gender_wild:
+            weights["column"] = _WILD_COLUMN_WEIGHT
+        if len(fields.levels) < 2:
+            weights["path"] = 0.0  # a vague one-level category ("Sale") takes no audience
+        if not fields.description:
+            weights["description"] = 0.0
+        while True:
+            places = [place for place, weight in weights.items() if weight > 0]
+            if not places:  # every place tried and none read: fill the column plainly
+                fields.gender = V.AUDIENCE_WORDS[key][self.retailer.shop_lang(lang)][0]
+                break
+            place = rng.choices(places, weights=[weights[p] for p in places])[0]
+            weights[place] = 0.0
+            self._add_cue(place, key, lang, fields, pieces, need_who)
+            said = self._said(fields, who, age, brand)
+            if (not need_who or who in said) and (not need_age or age in said):
+                break
+        return who, age
+
+    def _add_cue(self, place: str, key: tuple[str, str], lang: str, fields: _Fields,
+                 pieces: _TitlePieces, need_who: bool) -> None:
+        """Write an audience cue into one place of a product's fields."""
+        rng = self.cue_rng
+        r = self.retailer
+        shop = r.shop_lang(lang)
+        if place == "title":
+            aud = rng.choice(V.AUDIENCE_WORDS[key][lang])
+            title = self._assemble(lang, pieces.brand, aud, pieces.mods, pieces.type_term,
+                                   pieces.shade, pieces.size, pieces.extra, rng)
+            fields.title = self._decorate(title, lang, rng)
+        elif place == "path":
+            word = self._audience_level(key, shop, need_who)
+            levels = fields.levels
+            if r.category_style == "full":
+                fields.levels = (levels[0], word, *levels[1:])  # "Apparel > Women > Coats"
+            else:
+                fields.levels = (word, *levels[1:])  # "Women | Coats", "Damen >> Mantel"
+        elif place == "column":
+            if r.gender_wild:
+                values = [v for v in V.GENDER_FIELD_WILD[key]
+                          if not need_who or v.casefold() not in V.NEUTRAL_GENDER_VALUES]
+                fields.gender = rng.choice(values) if values else V.AUDIENCE_WORDS[key][shop][0]
+            else:
+                fields.gender = self._audience_level(key, shop, need_who)
+        else:
+            sentence = rng.choice(V.DESCRIPTION_AUDIENCE[key][lang])
+            text = fields.description
+            fields.description = (f"{text}<p>{sentence}</p>" if text.startswith("<p>")
+                                  else f"{text} {sentence}")
+
     # -- the product --------------------------------------------------------------------------
     def make(self, leaf_id: str, product_id: str) -> DemoProduct:
         """Generate one product of a leaf.
@@ -339,11 +560,11 @@ class ProductFactory:
         # the product type words
         roll = rng.random()
         if roll < P_DEPARTMENT_TERM:
-            type_term = _pick_term(leaf.department_terms[term_lang], rng, who)
+            type_term = _pick_term(leaf.department_terms[term_lang], rng, who, age)
         elif roll < P_DEPARTMENT_TERM + P_PARENT_TERM:
-            type_term = _pick_term(leaf.parent_terms[term_lang], rng, who)
+            type_term = _pick_term(leaf.parent_terms[term_lang], rng, who, age)
         else:
-            type_term = _pick_term(leaf.own_terms[term_lang], rng, who)
+            type_term = _pick_term(leaf.own_terms[term_lang], rng, who, age)
         if rng.random() < 0.5:
             type_term = _cap(type_term)
         li = V.LANGS.index(lang)
@@ -352,7 +573,7 @@ class ProductFactory:
         extra = ""
         if leaf.neighbours and rng.random() < P_NEIGHBOUR_MENTION:
             other = self.leaves[rng.choice(leaf.neighbours)]
-            neighbour_term = _pick_term(other.own_terms[lang], rng, who)
+            neighbour_term = _pick_term(other.own_terms[lang], rng, who, age)
             extra = f"{rng.choice(V.CONNECTORS[lang])} {neighbour_term}"
 
         # colour
@@ -417,6 +638,16 @@ class ProductFactory:
         with_cur = rng.random() < r.currency_in_price_p
         self.counter += 1
         slug = "-".join(type_term.lower().split())[:40]
+        gtin = _gtin(rng, r)
+        gender = self._gender_field(who, age, lang)
+        availability = rng.choice(V.AVAILABILITY_WORDS[r.shop_lang(lang)])
+        fields = _Fields(title, description, levels, gender, size)
+        pieces = _TitlePieces(brand_title, tuple(mods), type_term,
+                              shade if colour_in_title else "", size if size_in_title else "",
+                              extra)
+        who, age = self._signal_audience(leaf, lang, who, age, fields, pieces, brand)
+        title, description, levels, gender = (fields.title, fields.description, fields.levels,
+                                              fields.gender)
         return DemoProduct(
             product_id=product_id,
             retailer=r.name,
@@ -429,13 +660,13 @@ class ProductFactory:
             price=format_price(value, r.price_style, r.currency, with_cur),
             price_value=value,
             currency=r.currency,
-            gtin=_gtin(rng, r),
-            gender=self._gender_field(who, age, lang),
+            gtin=gtin,
+            gender=gender,
             colour=colour_field,
             size=size,
             url=f"https://www.{r.slug}.example/p/{slug}-{product_id.lower()}",
             image_url=f"https://img.{r.slug}.example/{hashlib.sha1(product_id.encode()).hexdigest()[:12]}.jpg",
-            availability=rng.choice(V.AVAILABILITY_WORDS[r.shop_lang(lang)]),
+            availability=availability,
             gold_node=leaf.id,
             gold_brand=gold_brand,
             gold_who=who,
@@ -443,9 +674,10 @@ class ProductFactory:
             gold_colour=gold_colour if (colour_field or colour_in_title) else "",
         )
 
-    def _assemble(self, lang: str, brand: str, aud: str, mods: list[str], type_term: str,
-                  shade: str, size: str, extra: str) -> str:
-        rng = self.rng
+    def _assemble(self, lang: str, brand: str, aud: str, mods: list[str] | tuple[str, ...],
+                  type_term: str, shade: str, size: str, extra: str,
+                  rng: random.Random | None = None) -> str:
+        rng = rng or self.rng
         m = " ".join(mods)
         form = rng.randrange(6)
         if lang in ("fr", "es"):
@@ -489,8 +721,8 @@ class ProductFactory:
             out = out.replace(a, b)
         return out
 
-    def _decorate(self, title: str, lang: str) -> str:
-        rng = self.rng
+    def _decorate(self, title: str, lang: str, rng: random.Random | None = None) -> str:
+        rng = rng or self.rng
         r = self.retailer
         if rng.random() < r.sku_p:
             code = rng.choice(_SKU_FORMS).format(n=rng.randint(1000, 99999),

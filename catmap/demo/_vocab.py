@@ -193,12 +193,67 @@ GENDER_FIELD_WILD: dict[tuple[str, str], tuple[str, ...]] = {
     ("unisex", "baby"): ("baby", "Baby", "bébé", "bebé", "infant", "newborn"),
 }
 
+# Gender column values (tidy or wild) that say a child's age but not whether it is a girl or
+# a boy ("K-G" / "K-B" are codes a reader cannot be sure of).
+NEUTRAL_GENDER_VALUES = frozenset({"kids", "k-g", "k-b", "baby", "bébé", "bebé", "infant",
+                                   "newborn", "kinder", "enfant", "niños", "children", "junior"})
+
+# Sentences a description may carry to say whom a product is for (a size note, a fit).
+DESCRIPTION_AUDIENCE: dict[tuple[str, str], dict[str, tuple[str, ...]]] = {
+    ("female", "adult"): {
+        "en": ("Women's fit.", "Cut for women.", "Women's sizing: see the size guide."),
+        "fr": ("Coupe femme.", "Taillé pour les femmes.", "Guide des tailles femme disponible."),
+        "de": ("Damen-Passform.", "Für Damen geschnitten.", "Damengrößen: siehe Größentabelle."),
+        "es": ("Corte de mujer.", "Pensado para mujer.", "Tallas de mujer: ver la guía."),
+    },
+    ("male", "adult"): {
+        "en": ("Men's fit.", "Cut for men.", "Men's sizing: see the size guide."),
+        "fr": ("Coupe homme.", "Taillé pour les hommes.", "Guide des tailles homme disponible."),
+        "de": ("Herren-Passform.", "Für Herren geschnitten.", "Herrengrößen: siehe Größentabelle."),
+        "es": ("Corte de hombre.", "Pensado para hombre.", "Tallas de hombre: ver la guía."),
+    },
+    ("unisex", "adult"): {
+        "en": ("Unisex fit.",), "fr": ("Coupe mixte.",), "de": ("Unisex-Passform.",),
+        "es": ("Corte unisex.",),
+    },
+    ("female", "kids"): {
+        "en": ("For girls.", "Girls' sizes."), "fr": ("Pour fille.", "Tailles fille."),
+        "de": ("Für Mädchen.", "Mädchengrößen."), "es": ("Para niña.", "Tallas de niña."),
+    },
+    ("male", "kids"): {
+        "en": ("For boys.", "Boys' sizes."), "fr": ("Pour garçon.", "Tailles garçon."),
+        "de": ("Für Jungen.", "Jungengrößen."), "es": ("Para niño.", "Tallas de niño."),
+    },
+    ("unisex", "kids"): {
+        "en": ("For kids.", "Made for children."),
+        "fr": ("Pour enfant.", "Pensé pour les enfants."),
+        "de": ("Für Kinder.", "Kindergrößen."),
+        "es": ("Para niños.", "Pensado para los niños."),
+    },
+    ("female", "baby"): {
+        "en": ("For baby girls.",), "fr": ("Pour bébé fille.",), "de": ("Für Baby Mädchen.",),
+        "es": ("Para bebé niña.",),
+    },
+    ("male", "baby"): {
+        "en": ("For baby boys.",), "fr": ("Pour bébé garçon.",), "de": ("Für Baby Jungen.",),
+        "es": ("Para bebé niño.",),
+    },
+    ("unisex", "baby"): {
+        "en": ("For babies.", "Soft on newborn skin."),
+        "fr": ("Pour bébé.", "Idéal dès la naissance."),
+        "de": ("Für Babys.", "Für Neugeborene."),
+        "es": ("Para bebé.", "Ideal para el recién nacido."),
+    },
+}
+
 KIDS_SIZES: dict[str, tuple[str, ...]] = {
     "en": ("age 4-5", "age 6-7", "7-8 years", "9-10 yrs", "age 11-12", "128 cm", "140 cm", "3-4Y"),
     "fr": ("8 ans", "4 ans", "6 ans", "10-11 ans", "12 ans", "116 cm", "128 cm", "3-4 ans"),
     "de": ("Gr. 116", "Gr. 128", "3-4 Jahre", "6 Jahre", "Gr. 140", "104/110", "8-9 Jahre"),
     "es": ("6 años", "8-9 años", "4 años", "10 años", "12 años", "116 cm", "3-4 años"),
 }
+# Children's shoe sizes (a bare "33" is one too, though nothing in it says so).
+KIDS_SHOE_SIZES = ("EU 30", "EU 28", "Gr. 31", "33", "UK 12 junior", "pointure 29", "talla 32")
 BABY_SIZES: dict[str, tuple[str, ...]] = {
     "en": ("0-3 months", "3-6 months", "6-9M", "12-18M", "newborn", "up to 3 months"),
     "fr": ("3 mois", "6 mois", "naissance", "12 mois", "18 mois", "0-3 mois"),

@@ -137,8 +137,9 @@ def _with_duplicates(products: list[DemoProduct], count: int,
 
 
 def _make_products(leaves: list[LeafInfo], brands: list[Brand], retailer: Retailer,
-                   assignment: list[str], rng: random.Random, start: int) -> list[DemoProduct]:
-    factory = ProductFactory(leaves, brands, retailer, rng)
+                   assignment: list[str], rng: random.Random, start: int,
+                   cue_rng: random.Random) -> list[DemoProduct]:
+    factory = ProductFactory(leaves, brands, retailer, rng, cue_rng)
     out = []
     number = start
     for leaf_id in assignment:
@@ -162,7 +163,8 @@ def reference_products(tree: CategoryTree, brands: list[Brand], *, seed: int,
     products: list[DemoProduct] = []
     for k, r in enumerate(REFERENCE_RETAILERS):
         made = _make_products(leaves, brands, r, per_retailer[r.name],
-                              _rng(seed, f"reference:{r.slug}"), 100000 + 50000 * k)
+                              _rng(seed, f"reference:{r.slug}"), 100000 + 50000 * k,
+                              _rng(seed, f"cues:reference:{r.slug}"))
         products.extend(_with_duplicates(made, r.duplicates, _rng(seed, f"dups:{r.slug}")))
     order = _rng(seed, "reference:order")
     order.shuffle(products)
@@ -183,7 +185,8 @@ def feed_products(tree: CategoryTree, brands: list[Brand], name: str, *, seed: i
     pool = [leaf for leaf in leaves if leaf.department in chosen]
     weights = [rng.lognormvariate(0, 1.0) for _ in pool]
     assignment = [leaf.id for leaf in rng.choices(pool, weights=weights, k=size)]
-    made = _make_products(leaves, brands, retailer, assignment, rng, 200000)
+    made = _make_products(leaves, brands, retailer, assignment, rng, 200000,
+                          _rng(seed, f"cues:feed:{name}"))
     return _with_duplicates(made, retailer.duplicates, rng)
 
 
