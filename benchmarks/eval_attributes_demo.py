@@ -1,0 +1,136 @@
+"""Measure attribute extraction on the demo feeds' gold labels: who / age accuracy, brand F1.
+
+Reads each of the three demo feeds (``feeds_demo/``) the way catmap onboards a feed (detected
+reader, suggested field profile, normalised products), joins its gold labels by product id and
+runs :class:`catmap.attributes.AttributeExtractor` with the gold node of tree version 1, the
+demo brand list and the feed's retailer name. Prints one line per feed and an overall line.
+
+Brand F1 counts a product as a true positive when the extracted brand equals the gold brand,
+a false positive when a brand was extracted that is not the gold one, and a false negative when
+the gold brand was not extracted (a wrong brand counts as both).
+
+    python benchmarks/eval_attributes_demo.py [--root feeds_demo] [--errors 10]
+"""
+
+from __future__ import annotations
+
+import argparse
+import csv
+from collections import Counter
+from dataclasses import dataclass, field
+from pathlib import Path
+
+from catmap.attributes import AttributeExtractor, BrandDictionary
+from catmap.demo import demo_paths
+from catmap.feeds import open_feed
+from catmap.fieldmap import suggest_profile
+from catmap.ingest import Accounting, iter_products
+from catmap.records import Product
+from catmap.taxonomy import load_default_tree
+
+FEEDS = {"ferravelle": "Ferravelle", "quorvane": "Quorvane", "tallimbra": "Tallimbra"}
+SAMPLE_SIZE = 200
+
+
+@dataclass
+class Scores:
+    """Counts behind the figures of one feed (or of all of them)."""
+
+    products: int = 0
+    who_right: int = 0
+    age_right: int = 0
+    brand_tp: int = 0
+    brand_fp: int = 0
+    brand_fn: int = 0
+    who_errors: Counter[tuple[str, str]] = field(default_factory=Counter)
+    age_errors: Counter[tuple[str, str]] = field(default_factory=Counter)
+
+    def add(self, other: Scores) -> None:
+        """Add another feed's counts to these."""
+        self.products += other.products
+        self.who_right += other.who_right
+        self.age_right += other.age_right
+        self.brand_tp += other.brand_tp
+        self.brand_fp += other.brand_fp
+        self.brand_fn += other.brand_fn
+        self.who_errors.update(other.who_errors)
+        self.age_errors.update(other.age_errors)
+
+    def line(self, name: str) -> str:
+        """One table line: products, who accuracy, age accuracy, brand P / R / F1."""
+        n = max(1, self.products)
+        precision = self.brand_tp / max(1, self.brand_tp + self.brand_fp)
+        recall = self.brand_tp / max(1, self.brand_tp + self.brand_fn)
+        f1 = 2 * precision * recall / (precision + recall) if precision + recall else 0.0
+        return (f"{name:<12} {self.products:>8} {self.who_right / n:>8.3f} "
+                f"{self.age_right / n:>8.3f} {precision:>8.3f} {recall:>8.3f} {f1:>8.3f}")
+
+
+def _gold(path: Path) -> dict[str, dict[str, str]]:
+    with path.open(encoding="utf-8", newline="") as fh:
+        return {row["product_id"]: row for row in csv.DictReader(fh)}
+
+
+def score_feed(feed: Path, gold_path: Path, extractor: AttributeExtractor,
+               errors: list[tuple[str, Product, str, str, str]]) -> Scores:
+    """Extract attributes of every product of one feed and compare them with its gold."""
+    gold = _gold(gold_path)
+    opened = open_feed(feed)
+    profile = suggest_profile(opened.info, opened.sample(SAMPLE_SIZE))
+    scores = Scores()
+    for item in iter_products(opened, profile, Accounting()):
+        if not isinstance(item, Product) or item.product_id not in gold:
+            continue
+        g = gold[item.product_id]
+        got = extractor.extract(item, g["gold_node"])
+        scores.products += 1
+        if got.who == g["gold_who"]:
+            scores.who_right += 1
+        else:
+            scores.who_errors[(g["gold_who"], got.who)] += 1
+            errors.append(("who", item, g["gold_who"], got.who, got.audience_evidence))
+        if got.age == g["gold_age"]:
+            scores.age_right += 1
+        else:
+            scores.age_errors[(g["gold_age"], got.age)] += 1
+            errors.append(("age", item, g["gold_age"], got.age, got.audience_evidence))
+        if got.brand and got.brand == g["gold_brand"]:
+            scores.brand_tp += 1
+        else:
+            scores.brand_fp += bool(got.brand)
+            scores.brand_fn += bool(g["gold_brand"])
+    return scores
+
+
+def main(argv: list[str] | None = None) -> int:
+    """Score the three demo feeds and print the table."""
+    parser = argparse.ArgumentParser(description=__doc__.split("\n\n")[0])
+    parser.add_argument("--root", type=Path, default=Path("feeds_demo"),
+                        help="demo folder (default: feeds_demo)")
+    parser.add_argument("--errors", type=int, default=0,
+                        help="print this many who / age errors per feed")
+    args = parser.parse_args(argv)
+    paths = demo_paths(args.root)
+    tree = load_default_tree(1)
+    brands = BrandDictionary.from_csv(paths.brands)
+    total = Scores()
+    print(f"{'feed':<12} {'products':>8} {'who':>8} {'age':>8} "
+          f"{'brand P':>8} {'brand R':>8} {'brand F1':>8}")
+    for name, retailer in FEEDS.items():
+        extractor = AttributeExtractor(brands=brands, tree=tree, retailer_names=(retailer,))
+        errors: list[tuple[str, Product, str, str, str]] = []
+        scores = score_feed(paths.feeds[name], paths.gold[name], extractor, errors)
+        total.add(scores)
+        print(scores.line(name))
+        for kind, product, want, got, why in errors[: args.errors]:
+            print(f"    {kind} gold={want} got={got} | {product.title!r} | "
+                  f"gender={product.gender_text!r} path={' / '.join(product.category_path)!r} "
+                  f"size={product.size!r} | {why}")
+    print(total.line("all"))
+    print("who errors (gold → got):", dict(total.who_errors.most_common(6)))
+    print("age errors (gold → got):", dict(total.age_errors.most_common(6)))
+    return 0
+
+
+if __name__ == "__main__":
+    raise SystemExit(main())
