@@ -164,8 +164,12 @@ def _settled(text: str) -> bool:
 
 def _clean(value: str, one_line: bool) -> str:
     if value.isascii() and "<" not in value and "&" not in value:
-        if _ASCII_INVISIBLE_RE.search(value):
+        # isprintable() is False for every ASCII control character: the common case skips the
+        # search for invisible ones.
+        if not value.isprintable() and _ASCII_INVISIBLE_RE.search(value):
             value = _ASCII_INVISIBLE_RE.sub("", value)
+        if one_line:
+            return " ".join(value.split())
         return _collapse(value, one_line)
     text = value
     for _ in range(_MAX_PASSES):
@@ -443,6 +447,10 @@ def gs1_check_digit(body: str) -> int:
     """
     if not body or not (body.isascii() and body.isdigit()):
         raise ValueError(f"a GTIN body is made of digits, got {body!r}")
+    return _check_digit(body)
+
+
+def _check_digit(body: str) -> int:
     # Sum the byte values of each weight's digits (C loops), then take away the "0" offsets.
     data = body.encode("ascii")
     tripled = data[-1::-2]
@@ -478,7 +486,7 @@ def normalize_gtin(value: str) -> tuple[str | None, str | None]:
         return None, ("gtin_not_digits" if digits else "gtin_bad_length")
     if len(digits) not in _GTIN_LENGTHS:
         return None, "gtin_bad_length"
-    if gs1_check_digit(digits[:-1]) != int(digits[-1]):
+    if _check_digit(digits[:-1]) != int(digits[-1]):  # digits checked above
         return None, "gtin_invalid_check_digit"
     return digits.zfill(14), None
 

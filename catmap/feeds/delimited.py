@@ -248,5 +248,7 @@ def iter_delimited(
                     _excerpt(row, delimiter),
                 )
                 continue
-            fields = {k: v for k, v in zip(columns, row, strict=True) if v}
+            fields = dict(zip(columns, row, strict=True))
+            if "" in row:  # keep only the non-empty cells
+                fields = {k: v for k, v in fields.items() if v}
             yield SourceRecord(fields, start, f"line {start}")
