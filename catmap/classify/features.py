@@ -23,6 +23,7 @@ import numpy as np
 import scipy.sparse as sp
 from sklearn.feature_extraction.text import TfidfVectorizer
 
+from catmap.classify._wordcache import WordCachedTfidf, WordNgramTfidf, fast_transformer
 from catmap.errors import ModelNotTrained
 from catmap.records import Product
 
@@ -192,16 +193,28 @@ class ProductFeaturizer:
             if vectorizer is None:
                 continue
             values = texts.field(field_name)
+            fast = self._fast(block, vectorizer)
             if field_name in _REPEATED_FIELDS:
-                matrix = _transform_distinct(vectorizer, values)
+                matrix = _transform_distinct(fast or vectorizer, values)
             else:
-                matrix = vectorizer.transform(values)
+                matrix = (fast or vectorizer).transform(values)
             weight = self._weight(block)
             if weight != 1.0:
                 matrix = matrix * np.float32(weight)
             blocks.append(matrix)
         stacked = sp.hstack(blocks, format="csr", dtype=np.float32)
         return stacked
+
+    def _fast(
+        self, block: str, vectorizer: TfidfVectorizer
+    ) -> WordCachedTfidf | WordNgramTfidf | None:
+        # Not learned state: a per-process speed-up, rebuilt when the vectorizer changes.
+        caches: dict[str, Any] = self.__dict__.setdefault("_fast_transformers", {})
+        cached = caches.get(block)
+        if cached is None or cached[0] is not vectorizer:
+            cached = caches[block] = (vectorizer, fast_transformer(vectorizer))
+        fast: WordCachedTfidf | WordNgramTfidf | None = cached[1]
+        return fast
 
     def block_slices(self) -> dict[str, slice]:
         """Return the column range of each block in the stacked matrix."""
@@ -215,7 +228,7 @@ class ProductFeaturizer:
         return slices
 
 
-def _transform_distinct(vectorizer: TfidfVectorizer, values: list[str]) -> sp.csr_matrix:
+def _transform_distinct(vectorizer: Any, values: list[str]) -> sp.csr_matrix:
     """Vectorise each distinct value once, then gather rows back in order."""
     index: dict[str, int] = {}
     rows = np.fromiter(

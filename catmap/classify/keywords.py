@@ -17,6 +17,7 @@ import numpy as np
 import scipy.sparse as sp
 from sklearn.feature_extraction.text import TfidfVectorizer
 
+from catmap.classify._wordcache import WordCachedTfidf
 from catmap.classify.calibration import softmax
 from catmap.classify.features import ProductTexts
 from catmap.errors import ModelNotTrained
@@ -102,10 +103,18 @@ class KeywordMapper:
         if not hasattr(self, "documents_"):
             raise ModelNotTrained("the keyword mapper is not fitted")
 
-    def similarities(self, texts: ProductTexts) -> np.ndarray[Any, Any]:
-        """Return (n, leaves) cosine similarities of the products to the leaf documents."""
+    def _word_cache(self) -> WordCachedTfidf:
+        # Not learned state: a per-process speed-up, rebuilt when the vectorizer changes.
+        cache: WordCachedTfidf | None = self.__dict__.get("_cache")
+        if cache is None or cache.vectorizer is not self.vectorizer_:
+            cache = self.__dict__["_cache"] = WordCachedTfidf(self.vectorizer_)
+        return cache
+
+    def query(self, texts: ProductTexts) -> sp.csr_matrix:
+        """Return the (n, keyword features) L2-normalised query vectors (title + weighted path)."""
         self._check()
-        query = self.vectorizer_.transform(texts.title)
+        cache = self._word_cache()
+        query = cache.transform(texts.title)
         if self.path_weight > 0:
             index: dict[str, int] = {}
             rows = np.fromiter(
@@ -113,12 +122,18 @@ class KeywordMapper:
                 dtype=np.int64,
                 count=len(texts),
             )
-            paths = self.vectorizer_.transform(list(index))[rows]
+            paths = cache.transform(list(index))[rows]
             query = query + paths * np.float32(self.path_weight)
         norms = np.sqrt(np.asarray(query.multiply(query).sum(axis=1)).ravel())
         norms[norms == 0] = 1.0
-        query = sp.diags((1.0 / norms).astype(np.float32)) @ query
-        result: np.ndarray[Any, Any] = (query @ self.documents_.T).toarray()
+        result: sp.csr_matrix = sp.csr_matrix(
+            sp.diags((1.0 / norms).astype(np.float32)) @ query, dtype=np.float32
+        )
+        return result
+
+    def similarities(self, texts: ProductTexts) -> np.ndarray[Any, Any]:
+        """Return (n, leaves) cosine similarities of the products to the leaf documents."""
+        result: np.ndarray[Any, Any] = (self.query(texts) @ self.documents_.T).toarray()
         return result
 
     def predict_proba(self, texts: ProductTexts) -> np.ndarray[Any, Any]:

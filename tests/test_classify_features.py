@@ -1,0 +1,75 @@
+"""Fast vectorisers: the same matrices as the fitted scikit-learn vectorizers they stand for."""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+from sklearn.feature_extraction.text import TfidfVectorizer
+
+from catmap.classify._wordcache import WordCachedTfidf, WordNgramTfidf, fast_transformer
+
+TRAIN = [
+    "Bottines cuir femme noir",
+    "Ankle boots leather black, size 38",
+    "Stiefeletten Leder schwarz Gr. 38",
+    "Botines de piel negro talla 38",
+    "Espresso machine 15 bar",
+    "Machine à expresso 15 bars",
+    "a b c x",
+]
+QUERIES = [
+    "BOTTINES cuir cuir noir",  # a repeated word counts twice
+    "x",  # shorter than every n: counted once, as the whole padded word
+    "",
+    "   ",
+    "Kaffeemaschine Espresso 15\tbar\nneu",
+    "unseen words only: zzzq",
+    "Ankle  boots ankle boots",
+]
+
+
+@pytest.mark.parametrize("ngrams", [(2, 5), (3, 5), (1, 3)])
+def test_per_word_char_ngrams_equal_the_vectorizer(ngrams: tuple[int, int]) -> None:
+    vectorizer = TfidfVectorizer(
+        analyzer="char_wb", ngram_range=ngrams, sublinear_tf=True, dtype=np.float32
+    ).fit(TRAIN)
+    fast = WordCachedTfidf(vectorizer)
+    # reference: scikit-learn's own TfidfVectorizer.transform
+    expected = vectorizer.transform(QUERIES).toarray()
+    assert np.array_equal(fast.transform(QUERIES).toarray(), expected)
+    # A second batch is served from the word cache and still matches.
+    assert np.array_equal(fast.transform(QUERIES[::-1]).toarray(), expected[::-1])
+
+
+def test_a_full_word_cache_starts_again_and_stays_exact() -> None:
+    vectorizer = TfidfVectorizer(analyzer="char_wb", ngram_range=(3, 5), sublinear_tf=True).fit(
+        TRAIN
+    )
+    fast = WordCachedTfidf(vectorizer, max_words=3)
+    for _ in range(2):
+        got = fast.transform(QUERIES).toarray()
+        # reference: scikit-learn's own TfidfVectorizer.transform
+        assert np.allclose(got, vectorizer.transform(QUERIES).toarray(), atol=1e-6)
+
+
+@pytest.mark.parametrize("ngrams", [(1, 1), (1, 2), (2, 3)])
+def test_batched_word_ngrams_equal_the_vectorizer(ngrams: tuple[int, int]) -> None:
+    vectorizer = TfidfVectorizer(
+        analyzer="word",
+        ngram_range=ngrams,
+        token_pattern=r"(?u)\b\w+\b",
+        sublinear_tf=True,
+        dtype=np.float32,
+    ).fit(TRAIN)
+    fast = WordNgramTfidf(vectorizer)
+    # reference: scikit-learn's own TfidfVectorizer.transform
+    assert np.array_equal(
+        fast.transform(QUERIES).toarray(), vectorizer.transform(QUERIES).toarray()
+    )
+
+
+def test_unsupported_settings_fall_back_to_the_vectorizer() -> None:
+    stemmed = TfidfVectorizer(analyzer="word", stop_words=["de"]).fit(TRAIN)
+    assert fast_transformer(stemmed) is None
+    upper = TfidfVectorizer(analyzer="char_wb", lowercase=False).fit(TRAIN)
+    assert fast_transformer(upper) is None
