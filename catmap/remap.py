@@ -18,6 +18,14 @@
 - **removed** nodes (and any old node with no target): re-scored over the whole new tree with
   the keyword mapper (or the new-tree model).
 
+The attributes that the node decides follow the product to its new node
+(:class:`AttributeFollower`): when the new node's effective restriction, who / age applicability
+or generic-ness differs from the old node's, the restriction flag is recomputed on the new tree
+(``tree.restriction(node)``, or the restriction keywords where the node cannot say), and who /
+age are read again for the new node (``not_applicable`` where the new node says gender or age
+does not apply). A person's who / age correction is kept, unless the new node says it does not
+apply. A product moved under a restricted node gets the flag; one moved out loses it.
+
 A re-scored mapping whose score falls below the accept threshold (the one chosen when the feed
 was onboarded, read from that run's summary, unless ``min_confidence`` is given) goes back to
 the review queue with reason ``remap``, grouped by old node: its review group (and mapping
@@ -40,6 +48,8 @@ from typing import Any
 
 import numpy as np
 
+from catmap.attributes import AttributeExtractor, BrandDictionary
+from catmap.attributes.restriction import is_generic_node
 from catmap.classify.calibration import softmax
 from catmap.classify.features import product_texts
 from catmap.classify.keywords import DEFAULT_TEMPERATURE, KeywordMapper
@@ -52,6 +62,7 @@ from catmap.treediff import Correspondence, Crosswalk, diff_trees
 
 __all__ = [
     "DEFAULT_MIN_CONFIDENCE",
+    "AttributeFollower",
     "RemapReport",
     "RemapScorer",
     "RemapState",
@@ -84,7 +95,14 @@ _PREVIOUS_COLUMNS = (
     "tree_version",
     "status",
     "group_key",
+    "who",
+    "age",
+    "audience_evidence",
+    "audience_conflict",
+    "restriction",
 )
+# Previous columns saved only from schema version 4 on (NULL before: rollback keeps the value).
+_ATTRIBUTE_COLUMNS = ("who", "age", "audience_evidence", "audience_conflict", "restriction")
 _ITEM_COLUMNS = (
     "feed_id",
     "product_id",
@@ -197,6 +215,84 @@ class RemapScorer:
             usable
         ]
         return blended
+
+
+# What a node decides about its products' attributes: who and age applicability (empty = does
+# not apply), the restriction flag, and whether the node is too generic to say (then the
+# restriction keywords of the text are read).
+_NodeFacts = tuple[frozenset[str], frozenset[str], str, bool]
+
+
+class AttributeFollower:
+    """Make the node-decided attributes of a remapped product follow its new node.
+
+    Args:
+        old_tree: the tree the mappings come from.
+        new_tree: the tree they move to.
+        extractor: the attribute extractor on ``new_tree`` (default: one with no brand
+            dictionary; give the project's so that a brand's name is not read as an audience).
+    """
+
+    def __init__(
+        self,
+        old_tree: CategoryTree,
+        new_tree: CategoryTree,
+        *,
+        extractor: AttributeExtractor | None = None,
+    ) -> None:
+        if extractor is not None and (
+            extractor.tree is None or str(extractor.tree.version) != str(new_tree.version)
+        ):
+            raise ValueError("the extractor must work on the new tree")
+        self.old_tree = old_tree
+        self.new_tree = new_tree
+        self.extractor = extractor or AttributeExtractor(brands=BrandDictionary([]), tree=new_tree)
+        self._facts: dict[tuple[bool, str], _NodeFacts | None] = {}
+
+    def _node_facts(self, new: bool, node_id: str) -> _NodeFacts | None:
+        key = (new, node_id)
+        if key not in self._facts:
+            tree = self.new_tree if new else self.old_tree
+            if not node_id or node_id not in tree:
+                self._facts[key] = None
+            else:
+                self._facts[key] = (
+                    tree.who(node_id),
+                    tree.ages(node_id),
+                    tree.restriction(node_id) or "",
+                    is_generic_node(tree[node_id].name) or not tree.is_leaf(node_id),
+                )
+        return self._facts[key]
+
+    def changes(self, old_node: str, new_node: str) -> bool:
+        """Tell whether moving from ``old_node`` to ``new_node`` can change the attributes.
+
+        A move to no node ('') changes nothing: there is no node to read from.
+        """
+        if not new_node:
+            return False
+        new = self._node_facts(True, new_node)
+        return new is not None and self._node_facts(False, old_node) != new
+
+    def follow(self, row: dict[str, Any], product: Product, new_node: str) -> None:
+        """Set ``row``'s who, age, audience evidence / conflict and restriction for ``new_node``.
+
+        The restriction is always recomputed on the new tree. Who and age are read again for
+        the new node, except on a reviewed mapping, where the person's values stay unless the
+        new node says gender or age does not apply (then ``not_applicable``).
+        """
+        attributes = self.extractor.extract(product, new_node)
+        row["restriction"] = attributes.restriction
+        if row["status"] != "reviewed":
+            row["who"] = attributes.who
+            row["age"] = attributes.age
+            row["audience_evidence"] = attributes.audience_evidence
+            row["audience_conflict"] = int(attributes.audience_conflict)
+            return
+        if not self.new_tree.who(new_node):
+            row["who"] = "not_applicable"
+        if not self.new_tree.ages(new_node):
+            row["age"] = "not_applicable"
 
 
 def open_tree(version_or_file: str) -> CategoryTree:
@@ -415,6 +511,7 @@ def remap_store(
     min_confidence: float | None = None,
     actor: str = "catmap",
     batch_size: int = BATCH_SIZE,
+    extractor: AttributeExtractor | None = None,
 ) -> RemapReport:
     """Move every mapping stored under ``old_tree`` onto ``new_tree``.
 
@@ -429,6 +526,8 @@ def remap_store(
             onboarding threshold, else :data:`DEFAULT_MIN_CONFIDENCE`).
         actor: who runs it (for the audit log).
         batch_size: mappings per transaction.
+        extractor: the attribute extractor on ``new_tree`` used when a product's node changes
+            what its attributes may be (see :class:`AttributeFollower`).
 
     Returns:
         The report, also saved as the remap run's summary.
@@ -460,6 +559,7 @@ def remap_store(
         crosswalk = diff_trees(old_tree, new_tree)
         source = "computed"
     scorer = scorer or RemapScorer(new_tree)
+    follower = AttributeFollower(old_tree, new_tree, extractor=extractor)
     thresholds = _feed_thresholds(store, min_confidence)
     by_old = {c.old_id: c for c in crosswalk.correspondences if c.old_id is not None}
 
@@ -519,6 +619,7 @@ def remap_store(
             old_tree,
             new_tree,
             scorer,
+            follower,
             thresholds,
             report,
             before,
@@ -564,7 +665,8 @@ def _unremapped_batches(
     while True:
         rows = store._read(
             "SELECT m.feed_id, m.product_id, m.node_id, m.confidence, m.method, m.alternatives, "
-            "m.reason, m.model_version, m.tree_version, m.status, m.group_key FROM mappings AS m "
+            "m.reason, m.model_version, m.tree_version, m.status, m.group_key, m.who, m.age, "
+            "m.audience_evidence, m.audience_conflict, m.restriction FROM mappings AS m "
             "WHERE (m.feed_id, m.product_id) > (?, ?) "
             "ORDER BY m.feed_id, m.product_id LIMIT ?",
             (last[0], last[1], size),
@@ -591,6 +693,7 @@ def _remap_batch(
     old_tree: CategoryTree,
     new_tree: CategoryTree,
     scorer: RemapScorer,
+    follower: AttributeFollower,
     thresholds: dict[int, tuple[float, str]],
     report: RemapReport,
     before: Counter[str],
@@ -601,6 +704,8 @@ def _remap_batch(
     updates: list[tuple[Any, ...]] = []
     previous: list[tuple[Any, ...]] = []
     to_score: dict[tuple[str, ...] | None, list[dict[str, Any]]] = {}
+    # One-to-one moves whose new node decides the attributes differently: (row, changed, node).
+    to_follow: list[tuple[dict[str, Any], dict[str, Any], str]] = []
 
     for row in batch:
         node = row["node_id"]
@@ -631,9 +736,12 @@ def _remap_batch(
             new_id = corr.new_ids[0]
             changed = dict(row)
             changed["alternatives"] = _translate_alternatives(row["alternatives"], by_old, new_id)
-            updates.append(
-                _update(row, new_id, row["confidence"], row["method"], changed, new_version)
-            )
+            if follower.changes(node, new_id):
+                to_follow.append((row, changed, new_id))
+            else:
+                updates.append(
+                    _update(row, new_id, row["confidence"], row["method"], changed, new_version)
+                )
             after[new_tree.department(new_id).name] += 1
             counts["automatic"] += 1
             if corr.changes == ("unchanged",):
@@ -647,11 +755,19 @@ def _remap_batch(
         key = targets if "split" in corr.changes and len(targets) >= 2 else None
         to_score.setdefault(key, []).append(row)
 
+    if to_follow:
+        followed = _products(store, [row for row, _c, _n in to_follow])
+        for (row, changed, new_id), product in zip(to_follow, followed, strict=True):
+            follower.follow(changed, product, new_id)
+            updates.append(
+                _update(row, new_id, row["confidence"], row["method"], changed, new_version)
+            )
+
     queued: list[dict[str, Any]] = []
     for split_targets, rows in to_score.items():
         products = _products(store, rows)
         scored = scorer.score(products, list(split_targets) if split_targets is not None else None)
-        for row, ranking in zip(rows, scored, strict=True):
+        for row, ranking, product in zip(rows, scored, products, strict=True):
             report.rescored += 1
             change_counts = report.by_change.get(row["_kind"])
             if change_counts is not None:
@@ -698,6 +814,8 @@ def _remap_batch(
                 )
             if scorer.new_model is not None:
                 changed["model_version"] = scorer.model_version
+            if follower.changes(row["node_id"], new_id):
+                follower.follow(changed, product, new_id)
             updates.append(_update(row, new_id, confidence, scorer.method, changed, new_version))
             if new_id:
                 after[new_tree.department(new_id).name] += 1
@@ -708,12 +826,15 @@ def _remap_batch(
         conn.executemany(
             "INSERT OR IGNORE INTO remap_previous (remap_id, feed_id, product_id, "
             + ", ".join(_PREVIOUS_COLUMNS)
-            + ") VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)",
+            + ") VALUES (?, ?, ?, "
+            + ", ".join("?" for _ in _PREVIOUS_COLUMNS)
+            + ")",
             previous,
         )
         conn.executemany(
             "UPDATE mappings SET node_id = ?, confidence = ?, method = ?, alternatives = ?, "
-            "reason = ?, model_version = ?, tree_version = ?, status = ?, group_key = ? "
+            "reason = ?, model_version = ?, tree_version = ?, status = ?, group_key = ?, "
+            "who = ?, age = ?, audience_evidence = ?, audience_conflict = ?, restriction = ? "
             "WHERE feed_id = ? AND product_id = ?",
             updates,
         )
@@ -739,6 +860,11 @@ def _update(
         new_version,
         changed["status"],
         changed["group_key"],
+        changed["who"],
+        changed["age"],
+        changed["audience_evidence"],
+        changed["audience_conflict"],
+        changed["restriction"],
         row["feed_id"],
         row["product_id"],
     )
@@ -845,7 +971,12 @@ def rollback_remap(store: Store, *, actor: str = "catmap", batch_size: int = BAT
             )
         restored = conn.execute(
             "UPDATE mappings SET "
-            + ", ".join(f"{c} = p.{c}" for c in _PREVIOUS_COLUMNS)
+            + ", ".join(
+                f"{c} = COALESCE(p.{c}, mappings.{c})"
+                if c in _ATTRIBUTE_COLUMNS
+                else f"{c} = p.{c}"
+                for c in _PREVIOUS_COLUMNS
+            )
             + " FROM remap_previous AS p WHERE p.remap_id = ? "
             "AND mappings.feed_id = p.feed_id AND mappings.product_id = p.product_id",
             (remap_id,),

@@ -230,7 +230,18 @@ _SCHEMA_V3: tuple[str, ...] = (
     )""",
 )
 
-MIGRATIONS: tuple[tuple[str, ...], ...] = (_SCHEMA_V1, _SCHEMA_V2, _SCHEMA_V3)
+# Version 4: a remap also moves the attributes that follow the node (who / age applicability
+# and the restriction flag), so rollback must restore them. NULL = saved before version 4
+# (the remap then did not touch them; rollback keeps the current value).
+_SCHEMA_V4: tuple[str, ...] = (
+    "ALTER TABLE remap_previous ADD COLUMN who TEXT",
+    "ALTER TABLE remap_previous ADD COLUMN age TEXT",
+    "ALTER TABLE remap_previous ADD COLUMN audience_evidence TEXT",
+    "ALTER TABLE remap_previous ADD COLUMN audience_conflict INTEGER",
+    "ALTER TABLE remap_previous ADD COLUMN restriction TEXT",
+)
+
+MIGRATIONS: tuple[tuple[str, ...], ...] = (_SCHEMA_V1, _SCHEMA_V2, _SCHEMA_V3, _SCHEMA_V4)
 SCHEMA_VERSION = len(MIGRATIONS)
 
 

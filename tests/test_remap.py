@@ -13,6 +13,7 @@ from typing import Any
 
 import pytest
 
+from catmap.attributes import AttributeExtractor, BrandDictionary
 from catmap.classify.model import CategoryModel
 from catmap.classify.storage import load_model, save_model
 from catmap.errors import ModelTreeMismatch, StoreError
@@ -362,3 +363,123 @@ def test_old_tree_model_is_refused_on_the_new_tree(tmp_path: Path) -> None:
     assert "catmap train --tree-version 2" in str(error.value)
     with pytest.raises(ValueError, match="new tree"):
         RemapScorer(new, new_model=_tiny_model(old))
+
+
+# -- attributes follow the new node -----------------------------------------------------------
+
+_LANGS = "en: {w} | fr: {w} | de: {w} | es: {w}"
+# id, parent, name, audience, restriction (version 1); version 2 moves 311 under the restricted
+# Spirits (320), 321 out of it to Soft drinks (310) and 411 from Clothing to Gifts (no audience).
+_FLAG_TREE_V1 = (
+    ("300", "-", "Food and drink", "none", "-"),
+    ("310", "300", "Soft drinks", ".", "-"),
+    ("311", "310", "Cocktail mixers", ".", "-"),
+    ("320", "300", "Spirits", ".", "alcohol"),
+    ("321", "320", "Alcohol-free spirits", ".", "-"),
+    ("322", "320", "Gin", ".", "-"),
+    ("400", "-", "Clothing", "who=female,male,unisex age=adult,kids,baby", "-"),
+    ("410", "400", "Tops", ".", "-"),
+    ("411", "410", "T-shirts", ".", "-"),
+    ("412", "410", "Shirts", ".", "-"),
+    ("500", "-", "Gifts", "none", "-"),
+    ("510", "500", "Keepsake boxes", ".", "-"),
+    ("511", "510", "Memory boxes", ".", "-"),
+)
+_FLAG_MOVES = {"311": "320", "321": "310", "411": "510"}
+
+
+def _flag_tree(tmp_path: Path, version: int) -> CategoryTree:
+    lines = [f"@tree-version {version}"]
+    for node, parent, name, audience, restriction in _FLAG_TREE_V1:
+        if version == 2:
+            parent = _FLAG_MOVES.get(node, parent)
+        words = _LANGS.format(w=name.lower())
+        lines.append(f"{node} | {parent} | {name} | {audience} | {restriction} | {words}")
+    path = tmp_path / f"flags-v{version}.txt"
+    path.write_text("\n".join(lines) + "\n", encoding="utf-8")
+    return load_tree(path)
+
+
+def _save_with_attributes(
+    store: Store, tree: CategoryTree, products: list[tuple[str, str, str, str]]
+) -> None:
+    """Save (product id, title, node, status) with attributes extracted as onboarding does."""
+    extractor = AttributeExtractor(brands=BrandDictionary([]), tree=tree)
+    run = store.start_run("onboard", feed=FEED)
+    rows = []
+    for pid, title, node, status in products:
+        product = Product(product_id=pid, title=title, category_path=("Shop", "Things"))
+        rows.append(
+            MappedRow(
+                product=product,
+                mapping=Mapping(node_id=node, confidence=0.95, method="model"),
+                attributes=extractor.extract(product, node),
+                status=status,
+                group_key="Shop > Things",
+            )
+        )
+    store.save_mapped(FEED, run, rows, model_version="m1", tree_version=str(tree.version))
+    store.finish_run(run, summary={"threshold": 0.8})
+
+
+def _attributes(store: Store, product_id: str) -> tuple[str, str, str]:
+    stored = store.mapping(FEED, product_id).attributes
+    return stored.restriction, stored.who, stored.age
+
+
+def test_restriction_and_audience_follow_the_new_node(store: Store, tmp_path: Path) -> None:
+    old, new = _flag_tree(tmp_path, 1), _flag_tree(tmp_path, 2)
+    _save_with_attributes(
+        store,
+        old,
+        [
+            ("mixer", "Tonic water mixer", "311", "accepted"),
+            ("free", "Juniper botanical drink", "321", "accepted"),
+            ("gin", "Juniper gin", "322", "accepted"),
+            ("tee", "Women's cotton t-shirt", "411", "accepted"),
+        ],
+    )
+    # Before: the flag comes from Spirits (320) for its leaves; the t-shirt is for women adults.
+    assert _attributes(store, "mixer")[0] == ""
+    assert _attributes(store, "free")[0] == "alcohol"
+    assert _attributes(store, "tee") == ("", "female", "adult")
+
+    remap_store(store, old, new)
+
+    # Moved under the restricted Spirits node: flagged.
+    assert _attributes(store, "mixer")[0] == "alcohol"
+    # Moved out of it, to Soft drinks: no longer flagged.
+    assert _attributes(store, "free")[0] == ""
+    # Not moved: still flagged.
+    assert _attributes(store, "gin")[0] == "alcohol"
+    # Gifts says gender and age do not apply ("none" audience).
+    assert _attributes(store, "tee") == ("", "not_applicable", "not_applicable")
+
+
+def test_reviewed_audience_kept_only_where_it_applies(store: Store, tmp_path: Path) -> None:
+    old, new = _flag_tree(tmp_path, 1), _flag_tree(tmp_path, 2)
+    _save_with_attributes(store, old, [("tee", "Cotton t-shirt", "411", "queued")])
+    item = next(i for i in store.items() if i.product_id == "tee")
+    store.decide(item.id, "ana", "accept", who="male", age="kids")
+    remap_store(store, old, new)
+    stored = store.mapping(FEED, "tee")
+    assert stored.status == "reviewed" and stored.mapping.node_id == "411"
+    assert _attributes(store, "tee") == ("", "not_applicable", "not_applicable")
+
+
+def test_rollback_restores_the_attributes_too(store: Store, tmp_path: Path) -> None:
+    old, new = _flag_tree(tmp_path, 1), _flag_tree(tmp_path, 2)
+    _save_with_attributes(
+        store,
+        old,
+        [
+            ("mixer", "Tonic water mixer", "311", "accepted"),
+            ("free", "Juniper botanical drink", "321", "accepted"),
+            ("tee", "Women's cotton t-shirt", "411", "accepted"),
+        ],
+    )
+    before = _dump(store.path)
+    remap_store(store, old, new)
+    assert _dump(store.path) != before
+    rollback_remap(store)
+    assert _dump(store.path) == before

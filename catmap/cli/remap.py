@@ -15,7 +15,7 @@ from rich.markup import escape
 
 from catmap.cli._render import console, echo_json, json_option
 from catmap.errors import InputError, StoreError
-from catmap.onboard import default_model_dir
+from catmap.onboard import default_model_dir, load_extractor
 from catmap.project import project_dir
 from catmap.remap import (
     RemapReport,
@@ -173,6 +173,7 @@ def register(main: click.Group) -> None:
                 scorer=scorer,
                 min_confidence=min_confidence,
                 actor=_actor(),
+                extractor=load_extractor(project_dir(project), new_tree),
             )
         facts = report.to_dict()
         if as_json:
