@@ -102,3 +102,36 @@ def test_mapper_top_k_is_the_same_in_small_batches(
     batched = mapper.top_k(texts, k=3)
     assert np.array_equal(whole[0], batched[0])
     assert np.allclose(whole[1], batched[1])
+
+
+def test_model_top_k_equals_sorting_the_dense_probabilities(trained: CategoryModel) -> None:
+    texts, _ = texts_and_labels(labelled_rows(80, seed=3))
+    dense = trained.predict_proba(texts)
+    for k in (1, 3, 5):
+        idx, vals = trained.top_k(texts, k)
+        assert np.allclose(vals, np.take_along_axis(dense, idx.astype(np.int64), axis=1))
+        assert np.allclose(vals, -np.sort(-dense, axis=1)[:, :k], atol=1e-6)
+    sparse = trained.predict_sparse(texts)
+    assert np.array_equal(np.asarray(sparse.argmax(axis=1)).ravel(), dense.argmax(axis=1))
+
+
+def test_keyword_weight_is_searched_over_the_whole_range() -> None:
+    from catmap.classify.model import KEYWORD_WEIGHT_GRID
+
+    assert min(KEYWORD_WEIGHT_GRID) == 0.0
+    assert max(KEYWORD_WEIGHT_GRID) == 1.0
+
+
+def test_departments_below_the_floor_share_their_probability_evenly(
+    trained: CategoryModel,
+) -> None:
+    from catmap.classify.model import DEPARTMENT_FLOOR
+
+    texts, _ = texts_and_labels(labelled_rows(40, seed=4))
+    dense = trained.predict_proba(texts)
+    sparse = trained.predict_sparse(texts)
+    assert np.allclose(dense.sum(axis=1), 1.0)
+    # Every class left out of the sparse answer is below the department floor.
+    left_out = dense.copy()
+    left_out[sparse.nonzero()] = 0.0
+    assert left_out.max() < DEPARTMENT_FLOOR

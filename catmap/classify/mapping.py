@@ -38,7 +38,7 @@ __all__ = ["MAPPING_COLUMNS", "CONFIDENCE_BANDS", "MapSummary", "Mapper", "map_f
 
 TOP_K = 10
 CHUNK_SIZE = 20_000
-SCORE_BATCH = 4_096
+SCORE_BATCH = 20_000
 CONFIDENCE_BANDS = ((0.0, 0.5), (0.5, 0.8), (0.8, 0.95), (0.95, 1.0))
 MAPPING_COLUMNS = (
     "product_id",
@@ -113,6 +113,8 @@ class Mapper:
     def _top_k(
         self, texts: ProductTexts, k: int
     ) -> tuple[np.ndarray[Any, Any], np.ndarray[Any, Any]]:
+        if self.model is not None:
+            return self.model.top_k(texts, k)
         p = self.predict_proba(texts)
         k = min(k, p.shape[1])
         idx = np.argpartition(-p, k - 1, axis=1)[:, :k]
@@ -456,12 +458,16 @@ def _second_pass(
                 p = p[np.argsort(order)]
         best_class, chosen, chosen_p, backed = backoff_rows(p, mapper.index, threshold)
         out_rows = []
+        # Plain lists: reading a row's few entries from them is far cheaper than getrow().
+        p = sp.csr_matrix(p)
+        indptr, indices, data = p.indptr.tolist(), p.indices.tolist(), p.data.tolist()
+        classes = mapper.classes
         for i, row in enumerate(rows):
-            prob_row = p.getrow(i)
-            order = np.argsort(-prob_row.data)
-            alternatives = [
-                (mapper.classes[prob_row.indices[j]], float(prob_row.data[j])) for j in order
-            ]
+            start, end = indptr[i], indptr[i + 1]
+            alternatives = sorted(
+                zip((classes[c] for c in indices[start:end]), data[start:end], strict=True),
+                key=lambda item: -item[1],
+            )
             if row["rule_node"]:
                 node, confidence, method, reason = row["rule_node"], 1.0, "rule", row["rule_reason"]
                 alternatives = [a for a in alternatives if a[0] != node]

@@ -8,14 +8,21 @@ than one classifier over every leaf, and the learned weights are naturally spars
 seen in a department gets weight 0 there); tiny weights are pruned as well.
 
 Confidence: each level's scores are temperature-scaled (one temperature per level, fitted on the
-validation split), then blended with the keyword mapper's probabilities,
-``p = (1 − w)·p_model + w·p_keywords``, with ``w`` chosen on the validation split.
+validation split), then blended with the keyword mapper's probabilities inside each department,
+``p = P(department)·[(1 − w)·P_model(leaf | department) + w·P_keywords(leaf | department)]``,
+with ``w`` chosen on the validation split, and a last temperature on the blend. The department
+classifier is right far more often than either leaf ranker, so keywords help most inside it.
+
+Speed: a product is scored class by class only in its likely departments (probability at least
+:data:`DEPARTMENT_FLOOR`, about 1.1 departments a product on the demo catalog); the classes of
+the other departments share their department's (tiny) probability evenly.
 """
 
 from __future__ import annotations
 
 from collections.abc import Sequence
 from concurrent.futures import ThreadPoolExecutor
+from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
@@ -33,7 +40,13 @@ __all__ = ["CLASSIFIERS", "CategoryModel"]
 
 CLASSIFIERS = ("linear_svc", "sgd", "logistic")
 _ALL = "*"  # the single group of a flat (non-hierarchical) model
-KEYWORD_WEIGHT_GRID = (0.0, 0.05, 0.1, 0.2, 0.3, 0.4, 0.5, 0.6, 0.7)
+# The data decides how much keywords count, anywhere from nothing to everything.
+KEYWORD_WEIGHT_GRID = (0.0, 0.05, 0.1, 0.2, 0.3, 0.4, 0.5, 0.6, 0.7, 0.8, 0.9, 0.95, 1.0)
+# Departments below this probability are not scored class by class (see CategoryModel._parts).
+DEPARTMENT_FLOOR = 1e-3
+# Sharpness of the keyword similarities inside a department, in the blend.
+KEYWORD_BLEND_TEMPERATURE = 0.04
+_FLOOR = 1e-12
 
 Array = np.ndarray[Any, Any]
 
@@ -201,6 +214,7 @@ class CategoryModel:
         self.keywords_ = KeywordMapper(tree=self.tree).fit()
         self.keyword_weight_ = float(self.keyword_weight or 0.0)
         self.blend_temperature_ = 1.0
+        self.keyword_blend_temperature_ = KEYWORD_BLEND_TEMPERATURE
         self.metrics_: dict[str, Any] = {}
         return self
 
@@ -233,7 +247,8 @@ class CategoryModel:
 
     def scores_from_features(self, features: sp.csr_matrix) -> tuple[Array, Array]:
         """As :meth:`scores`, from an already computed feature matrix."""
-        group = (features @ self.group_coef_).toarray() + self.group_intercept_
+        self._check()
+        group = features @ self._layout().group_coef + self.group_intercept_
         klass = (features @ self.class_coef_).toarray() + self.class_intercept_
         return group, klass
 
@@ -254,31 +269,162 @@ class CategoryModel:
         full[:, self.linear_classes_] = linear
         return full
 
-    def _keyword_full(self, texts: ProductTexts) -> Array:
-        kw = self.keywords_.predict_proba(texts)
-        if kw.shape[1] == len(self.classes_):
-            return kw
-        full = np.zeros((kw.shape[0], len(self.classes_)), dtype=np.float64)
-        full[:, : kw.shape[1]] = kw  # leaves come first in classes_, in the same order
-        return full
+    def _layout(self) -> _Layout:
+        # Derived from the learned state, not learned itself: rebuilt when the weights change.
+        layout: _Layout | None = self.__dict__.get("_layout_cache")
+        if layout is None or layout.class_coef is not self.class_coef_:
+            layout = self.__dict__["_layout_cache"] = _Layout.build(self)
+        return layout
+
+    def _parts(self, texts: ProductTexts, *, keywords: bool) -> _Parts:
+        """Score each product in its likely departments only.
+
+        A department whose probability is below :data:`DEPARTMENT_FLOOR` cannot hold a class
+        above that probability, so its classes are not scored: they share the department's
+        probability evenly. This skips the per-department classifiers (and keyword documents)
+        of the ~18 unlikely departments of every product, the bulk of the work.
+        """
+        self._check()
+        layout = self._layout()
+        features = self.featurizer_.transform(texts)
+        n = features.shape[0]
+        group = features @ layout.group_coef + self.group_intercept_
+        p_group = softmax(group, self.temperatures_[0])
+        selected = p_group >= DEPARTMENT_FLOOR
+        selected[np.arange(n), p_group.argmax(axis=1)] = True
+        query = self.keywords_.query(texts) if keywords else None
+        blocks = []
+        for g, part in enumerate(layout.parts):
+            rows = np.flatnonzero(selected[:, g])
+            if not len(rows):
+                continue
+            scores = (features[rows] @ part.coef).toarray() + part.intercept
+            linear = np.zeros((len(rows), len(part.columns)), dtype=np.float64)
+            linear[:, part.linear_pos] = softmax(scores, self.temperatures_[1])
+            linear *= p_group[rows, g][:, None]
+            keyword = None
+            if query is not None and len(part.keyword_pos):
+                sims = (query[rows] @ part.documents_t).toarray()
+                keyword = np.zeros_like(linear)
+                keyword[:, part.keyword_pos] = softmax(sims, self.keyword_blend_temperature_)
+                keyword *= p_group[rows, g][:, None]
+            blocks.append(_Block(g, rows, linear, keyword))
+        return _Parts(n, p_group, selected, blocks)
+
+    def _final(self, parts: _Parts, w: float, t_blend: float) -> tuple[list[Array], Array, Array]:
+        """Blend, apply the final temperature; return per-block values, row sums, rest values.
+
+        The final temperature acts on log-probabilities: ``p ∝ max(p, 1e-12) ** (1 / T)``.
+        """
+        layout = self._layout()
+        inv_t = 1.0 / t_blend
+        total = np.zeros(parts.n, dtype=np.float64)
+        values = []
+        for block in parts.blocks:
+            mix = block.linear if block.keyword is None or w == 0 else (
+                (1.0 - w) * block.linear + w * block.keyword
+            )
+            powered = np.maximum(mix, _FLOOR) ** inv_t
+            total[block.rows] += powered.sum(axis=1)
+            values.append(powered)
+        # Unscored departments: their classes share the department's probability evenly.
+        sizes = layout.group_sizes[None, :]
+        rest = np.where(parts.selected, 0.0, np.maximum(parts.p_group / sizes, _FLOOR) ** inv_t)
+        total += (rest * sizes).sum(axis=1) + layout.ungrouped * _FLOOR**inv_t
+        return values, total, rest
+
+    def predict_sparse(self, texts: ProductTexts) -> sp.csr_matrix:
+        """Return (n, classes) probabilities of the classes of each product's likely departments.
+
+        The classes left out (departments below :data:`DEPARTMENT_FLOOR`) hold the small rest;
+        :meth:`predict_proba` fills them in.
+        """
+        matrix, _, _ = self._sparse_with_rest(texts)
+        return matrix
+
+    def _sparse_with_rest(self, texts: ProductTexts) -> tuple[sp.csr_matrix, Array, Array]:
+        self._check()
+        layout = self._layout()
+        parts = self._parts(texts, keywords=self.keyword_weight_ > 0)
+        values, total, rest = self._final(parts, self.keyword_weight_, self.blend_temperature_)
+        rows, cols, data = [], [], []
+        for block, powered in zip(parts.blocks, values, strict=True):
+            columns = layout.parts[block.group].columns
+            rows.append(np.repeat(block.rows, len(columns)))
+            cols.append(np.tile(columns, len(block.rows)))
+            data.append((powered / total[block.rows][:, None]).ravel())
+        matrix = sp.csr_matrix(
+            (
+                np.concatenate(data) if data else np.zeros(0),
+                (
+                    np.concatenate(rows) if rows else np.zeros(0, np.int64),
+                    np.concatenate(cols) if cols else np.zeros(0, np.int64),
+                ),
+            ),
+            shape=(parts.n, len(self.classes_)),
+        )
+        return matrix, rest / total[:, None], _FLOOR ** (1.0 / self.blend_temperature_) / total
 
     def predict_proba(self, texts: ProductTexts) -> Array:
         """Return (n, classes) calibrated probabilities (linear model blended with keywords)."""
-        group, klass = self.scores(texts)
-        model_p = self._expand(self.linear_proba(group, klass))
-        keyword_p = self._keyword_full(texts) if self.keyword_weight_ > 0 else None
-        return self._blend(model_p, keyword_p)
+        self._check()
+        layout = self._layout()
+        matrix, rest, floor = self._sparse_with_rest(texts)
+        # Every class first gets its department's even share (or the floor), then the scored
+        # classes are written over it.
+        fill = np.concatenate([rest, floor[:, None]], axis=1)
+        dense = fill[:, layout.class_group]
+        coo = matrix.tocoo()
+        dense[coo.row, coo.col] = coo.data
+        return dense
 
-    def _blend(self, model_p: Array, keyword_p: Array | None) -> Array:
-        w = self.keyword_weight_
-        p = model_p if keyword_p is None or w == 0 else (1.0 - w) * model_p + w * keyword_p
-        if self.blend_temperature_ == 1.0:
-            return p
-        return softmax(_log(p), self.blend_temperature_)
+    def top_k(self, texts: ProductTexts, k: int = 10) -> tuple[Array, Array]:
+        """Return each product's k most probable class columns and probabilities, best first.
+
+        Same answers as sorting :meth:`predict_proba` rows, without the dense matrix: the k best
+        of each scored department, then the k best of those.
+        """
+        self._check()
+        layout = self._layout()
+        parts = self._parts(texts, keywords=self.keyword_weight_ > 0)
+        values, total, _ = self._final(parts, self.keyword_weight_, self.blend_temperature_)
+        n, k = parts.n, min(k, len(self.classes_))
+        rows, cols, vals = [np.zeros(0, np.int64)], [np.zeros(0, np.int64)], [np.zeros(0)]
+        for block, powered in zip(parts.blocks, values, strict=True):
+            columns = layout.parts[block.group].columns
+            width = min(k, len(columns))
+            if width < len(columns):
+                best = np.argpartition(-powered, width - 1, axis=1)[:, :width]
+            else:
+                best = np.broadcast_to(np.arange(width), powered.shape)
+            rows.append(np.repeat(block.rows, width))
+            cols.append(columns[best].ravel())
+            picked = np.take_along_axis(powered, best, axis=1) / total[block.rows, None]
+            vals.append(picked.ravel())
+        row, col, val = np.concatenate(rows), np.concatenate(cols), np.concatenate(vals)
+        order = np.lexsort((-val, row))
+        row, col, val = row[order], col[order], val[order]
+        counts = np.bincount(row, minlength=n)
+        starts = np.concatenate([[0], np.cumsum(counts)[:-1]])
+        rank = np.arange(len(row)) - starts[row]
+        keep = rank < k
+        idx = np.zeros((n, k), dtype=np.int32)
+        top = np.zeros((n, k), dtype=np.float32)
+        idx[row[keep], rank[keep]] = col[keep]
+        top[row[keep], rank[keep]] = val[keep]
+        short = np.flatnonzero(counts < k)
+        if len(short):
+            # Rows whose likely departments hold fewer than k classes: the dense path.
+            dense = self.predict_proba(texts.subset(short))
+            best = np.argsort(-dense, axis=1, kind="stable")[:, :k]
+            idx[short] = best
+            top[short] = np.take_along_axis(dense, best, axis=1)
+        return idx, top
 
     def predict(self, texts: ProductTexts) -> Array:
         """Return the most probable class id of each product."""
-        return np.asarray(self.classes_[self.predict_proba(texts).argmax(axis=1)])
+        matrix = self.predict_sparse(texts)
+        return np.asarray(self.classes_[np.asarray(matrix.argmax(axis=1)).ravel()])
 
     # ---- calibration ----------------------------------------------------------------------
 
@@ -316,18 +462,24 @@ class CategoryModel:
         model_p = self._expand(self.linear_proba(group, klass))
 
         # The blend of two calibrated distributions is not calibrated itself: a final
-        # temperature on the blend's log-probabilities is fitted for each candidate weight.
-        keyword_p = self._keyword_full(texts)
+        # temperature on the blend's log-probabilities is fitted for each candidate weight,
+        # on the scored classes of each product (the rest is below the department floor).
+        parts = self._parts(texts, keywords=True)
+        columns, linear, keyword = _padded(parts, self._layout())
+        target = np.argmax(columns == y[:, None], axis=1)
+        found = (columns == y[:, None]).any(axis=1)
         grid = KEYWORD_WEIGHT_GRID if self.keyword_weight is None else (self.keyword_weight,)
         best: tuple[float, float, float] = (np.inf, 0.0, 1.0)
         for w in grid:
-            log_p = _log((1 - w) * model_p + w * keyword_p)
-            t_final = fit_temperature(log_p[y >= 0], y[y >= 0]) if (y >= 0).any() else 1.0
-            nll = _nll(softmax(log_p, t_final), y)
+            log_p = np.where(columns >= 0, _log((1 - w) * linear + w * keyword), -np.inf)
+            t_final = fit_temperature(log_p[found], target[found]) if found.any() else 1.0
+            nll = _nll(softmax(log_p, t_final), np.where(found, target, -1))
             if nll < best[0]:
                 best = (nll, w, t_final)
         self.keyword_weight_, self.blend_temperature_ = float(best[1]), float(best[2])
-        blended = self._blend(model_p, keyword_p)
+        blended = self.predict_sparse(texts)
+        blended_best = np.asarray(blended.argmax(axis=1)).ravel()
+        blended_p = np.asarray(blended.max(axis=1).todense()).ravel()
 
         self.metrics_ = {
             "valid_products": int(len(y)),
@@ -335,13 +487,118 @@ class CategoryModel:
             "valid_ece_before_calibration": _ece(before, y),
             "valid_accuracy_model": _accuracy(model_p, y),
             "valid_ece_model": _ece(model_p, y),
-            "valid_accuracy": _accuracy(blended, y),
-            "valid_ece": _ece(blended, y),
+            "valid_accuracy": float((blended_best == y).mean()),
+            "valid_ece": float(expected_calibration_error(blended_p, blended_best == y)),
             "temperatures": [float(t) for t in self.temperatures_],
             "blend_temperature": self.blend_temperature_,
             "keyword_weight": self.keyword_weight_,
+            "keyword_blend_temperature": self.keyword_blend_temperature_,
+            "department_floor": DEPARTMENT_FLOOR,
         }
         return self
+
+
+@dataclass(frozen=True, slots=True)
+class _GroupPart:
+    """What scoring one department needs: its classes, weights and keyword documents."""
+
+    columns: Array  # class columns (in classes_) of the group: linear classes ∪ keyword leaves
+    linear_pos: Array  # positions in ``columns`` of the linear classes, in weight order
+    coef: sp.csr_matrix  # (features, linear classes of the group)
+    intercept: Array
+    keyword_pos: Array  # positions in ``columns`` of the keyword leaves, in document order
+    documents_t: sp.csr_matrix  # (keyword features, keyword leaves of the group)
+
+
+@dataclass(frozen=True, slots=True)
+class _Layout:
+    class_coef: sp.csr_matrix  # the weights this layout was built from
+    group_coef: Array  # dense (features, groups): a sparse × dense product is the fast one
+    parts: list[_GroupPart]
+    class_group: Array  # group of every class column; len(groups) = no group (floor)
+    group_sizes: Array  # classes per group
+    ungrouped: int  # classes in no group
+
+    @staticmethod
+    def build(model: CategoryModel) -> _Layout:
+        groups = model.groups_.tolist()
+        index = {g: i for i, g in enumerate(groups)}
+        classes = model.classes_.tolist()
+        class_group = np.full(len(classes), len(groups), dtype=np.int64)
+        if len(groups) == 1 and groups[0] == _ALL:
+            class_group[:] = 0
+        else:
+            for c, node_id in enumerate(classes):
+                class_group[c] = index.get(model.tree.department(node_id).id, len(groups))
+        keyword_classes = model.keywords_.classes_.tolist()
+        # Leaves come first in classes_, in the keyword mapper's order.
+        keyword_column = np.arange(len(keyword_classes))
+        documents_t = model.keywords_.documents_.T.tocsc()
+        class_coef = model.class_coef_.tocsc()
+        parts = []
+        for g in range(len(groups)):
+            lin = np.flatnonzero(model.class_group_ == g)
+            lin_columns = model.linear_classes_[lin]
+            kw = keyword_column[class_group[: len(keyword_classes)] == g]
+            columns = np.union1d(lin_columns, kw)
+            parts.append(
+                _GroupPart(
+                    columns=columns,
+                    linear_pos=np.searchsorted(columns, lin_columns),
+                    coef=class_coef[:, lin].tocsr(),
+                    intercept=model.class_intercept_[lin],
+                    keyword_pos=np.searchsorted(columns, kw),
+                    documents_t=documents_t[:, kw].tocsr(),
+                )
+            )
+        sizes = np.bincount(class_group, minlength=len(groups) + 1)
+        return _Layout(
+            class_coef=model.class_coef_,
+            group_coef=np.asarray(model.group_coef_.toarray(), dtype=np.float32),
+            parts=parts,
+            class_group=class_group,
+            group_sizes=np.maximum(sizes[: len(groups)], 1).astype(np.float64),
+            ungrouped=int(sizes[len(groups)]),
+        )
+
+
+@dataclass(frozen=True, slots=True)
+class _Block:
+    group: int
+    rows: Array
+    linear: Array  # P(group)·P(class | group) of the linear model, (rows, group classes)
+    keyword: Array | None  # P(group)·P_keywords(leaf | group), same shape
+
+
+@dataclass(frozen=True, slots=True)
+class _Parts:
+    n: int
+    p_group: Array
+    selected: Array
+    blocks: list[_Block]
+
+
+def _padded(parts: _Parts, layout: _Layout) -> tuple[Array, Array, Array]:
+    """Rows of scored classes side by side: (class columns or -1, linear, keyword)."""
+    counts = np.zeros(parts.n, dtype=np.int64)
+    for block in parts.blocks:
+        counts[block.rows] += len(layout.parts[block.group].columns)
+    width = int(counts.max()) if parts.n else 0
+    columns = np.full((parts.n, width), -1, dtype=np.int64)
+    linear = np.zeros((parts.n, width), dtype=np.float64)
+    keyword = np.zeros((parts.n, width), dtype=np.float64)
+    filled = np.zeros(parts.n, dtype=np.int64)
+    for block in parts.blocks:
+        cols = layout.parts[block.group].columns
+        start = filled[block.rows]
+        positions = start[:, None] + np.arange(len(cols))[None, :]
+        rows = block.rows[:, None]
+        columns[rows, positions] = cols[None, :]
+        linear[rows, positions] = block.linear
+        # A department without keyword leaves keeps the linear model's answer in the blend.
+        keyword[rows, positions] = block.linear if block.keyword is None else block.keyword
+        filled[block.rows] += len(cols)
+    return columns, linear, keyword
 
 
 def _fit_block_temperature(klass: Array, y_lin: Array, class_group: Array) -> float:

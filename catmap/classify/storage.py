@@ -33,7 +33,8 @@ from catmap.taxonomy import CategoryTree
 
 __all__ = ["FORMAT_VERSION", "file_fingerprint", "load_model", "read_manifest", "save_model"]
 
-FORMAT_VERSION = 1
+# 2: keywords blend inside each department (keyword_blend_temperature); 1 is not read.
+FORMAT_VERSION = 2
 MANIFEST = "manifest.json"
 
 
@@ -133,6 +134,7 @@ def save_model(
         "temperatures": [float(t) for t in model.temperatures_],
         "blend_temperature": float(model.blend_temperature_),
         "keyword_weight": float(model.keyword_weight_),
+        "keyword_blend_temperature": float(model.keyword_blend_temperature_),
         "keyword_temperature": float(model.keywords_.temperature),
         "keyword_path_weight": float(model.keywords_.path_weight),
         "metrics": model.metrics_,
@@ -246,6 +248,7 @@ def load_model(folder: str | Path, tree: CategoryTree) -> tuple[CategoryModel, d
         )
         model.blend_temperature_ = float(manifest["blend_temperature"])
         model.keyword_weight_ = float(manifest["keyword_weight"])
+        model.keyword_blend_temperature_ = float(manifest["keyword_blend_temperature"])
         model.metrics_ = dict(manifest.get("metrics", {}))
     except (KeyError, OSError, ValueError) as error:
         raise ModelError(
