@@ -17,9 +17,10 @@ BLAKE2b digest (int64) plus its first line (uint32, or int64 once a line passes 
 bytes, kept in a few sorted NumPy runs merged LSM-style (the latest :data:`RECENT_IDS` ids wait
 in a dict, ~1.6 MB, then form a run; runs of similar size are merged, so there are O(log n)
 runs and a batch is checked with one ``np.searchsorted`` per run). A million products take
-~12 MB (a dict of digest → line took ~116 MB). A 200-million-product feed takes ~2.4 GB, and
-up to ~2.4 GB more for a moment while the two largest runs are merged (the merged arrays exist
-beside the old ones): such a feed needs ~5 GB of free memory, or should be split. Two
+~12 MB (a dict of digest → line took ~116 MB), with a peak about twice that while the two
+largest runs are merged (the merged arrays exist beside the old ones, plus one position per
+merged key). A 200-million-product feed takes ~2.4 GB, and ~5 GB at the peak of a merge:
+run it where that much memory is free, or split it. Two
 different ids share a 64-bit digest with probability about n² / 2⁶⁵ (~3·10⁻⁸ for a million
 ids, ~10⁻³ for 200 million), which would reject the second one as a duplicate; digests are
 deterministic, so a run gives the same result every time.
@@ -425,13 +426,7 @@ class IdIndex:
         runs = self.runs
         runs.append((key_array[order], line_array[order]))
         while len(runs) >= 2 and len(runs[-2][0]) <= 2 * len(runs[-1][0]):
-            (keys_b, lines_b), (keys_a, lines_a) = runs.pop(), runs.pop()
-            # Merge two sorted, disjoint runs: insert b where it belongs in a.
-            positions = np.searchsorted(keys_a, keys_b)
-            lines_a = lines_a.astype(np.result_type(lines_a, lines_b), copy=False)
-            runs.append(
-                (np.insert(keys_a, positions, keys_b), np.insert(lines_a, positions, lines_b))
-            )
+            runs.append(_merge_runs(runs.pop(-2), runs.pop()))
 
     def __len__(self) -> int:
         return len(self.recent) + sum(len(keys) for keys, _ in self.runs)
@@ -440,6 +435,31 @@ class IdIndex:
     def nbytes(self) -> int:
         """Bytes held by the runs' arrays (the recent dict not counted)."""
         return sum(keys.nbytes + lines.nbytes for keys, lines in self.runs)
+
+
+def _merge_runs(
+    older: tuple[np.ndarray, np.ndarray], newer: tuple[np.ndarray, np.ndarray]
+) -> tuple[np.ndarray, np.ndarray]:
+    """Merge two sorted, disjoint runs (keys, lines) into one, with few temporary arrays.
+
+    Each key of ``newer`` goes where it belongs among ``older``'s keys; the old keys fill the
+    remaining places in order. The old key arrays are released before the lines are merged.
+    """
+    keys_a, lines_a = older
+    keys_b, lines_b = newer
+    size = len(keys_a) + len(keys_b)
+    positions = np.searchsorted(keys_a, keys_b)
+    positions += np.arange(len(keys_b))  # places in the merged run
+    keys = np.empty(size, dtype=np.int64)
+    keys[positions] = keys_b
+    keep = np.ones(size, dtype=bool)
+    keep[positions] = False
+    keys[keep] = keys_a
+    del keys_a, keys_b, older, newer
+    lines = np.empty(size, dtype=np.result_type(lines_a, lines_b))
+    lines[positions] = lines_b
+    lines[keep] = lines_a
+    return keys, lines
 
 
 def iter_products(
