@@ -515,7 +515,6 @@ def iter_products(
                 accounting.count_reject(result.reason)
                 yield result
                 continue
-            assert isinstance(result, Product)
             key = keys[position]
             first_line = in_runs[position] if in_runs is not None else _NOT_FOUND
             record = records[position]
