@@ -84,8 +84,9 @@ class ExportCounts:
 def _export_rows(store: Store, tree: CategoryTree, feed: str | None) -> Iterator[dict[str, str]]:
     decided = {d.item_id: d for d in store.decisions(feed)}
     for item in store.items(feed=feed):
-        if item.state == "claimed":
-            # Someone is on it in the review screen right now; the sheet would race them.
+        if item.state == "claimed" or item.withdrawn:
+            # Claimed: someone is on it in the review screen right now; the sheet would race
+            # them. Withdrawn: a later run settled it, nobody needs to decide it.
             continue
         view = store.review_item(item.id)
         node = view.mapping.node_id
@@ -190,6 +191,8 @@ def _check_row(
         view = store.review_item(item_id)
     except StoreError:
         return f"no review item {item_id} in the store"
+    if view.item.withdrawn:
+        return f"item {item_id} was withdrawn ({view.item.withdrawn_reason})"
     if view.item.state == "done":
         return f"item {item_id} is already decided"
     node = values.get("reviewer_node", "") or None

@@ -7,7 +7,10 @@ hierarchical back-off), extracts attributes, and saves every product into the pr
 - a mapping whose confidence reaches the accept threshold is *accepted*; the rest are
   *queued* (``low_confidence``); a brand or audience conflict queues a product too;
 - after the feed is read, :func:`catmap.queue.plan_queue` draws the seeded audit slice of the
-  accepted part (``audit_sample``) and gives strong retailer-category groups their group gain.
+  accepted part (``audit_sample``) and gives strong retailer-category groups their group gain;
+- an open ``low_confidence`` item left by an earlier run (e.g. before retraining) whose product
+  this run accepts is withdrawn (:meth:`catmap.store.Store.withdraw_items`, audited), so the
+  queue holds only what is still uncertain.
 
 The accept threshold comes from :func:`catmap.decide.choose_threshold` on held-out labelled
 data: the model's validation split mapped exactly as a feed is mapped (same blend, consensus and
@@ -326,6 +329,7 @@ class OnboardSummary:
     queued: int = 0
     queued_by_reason: dict[str, int] = field(default_factory=dict)
     audit: int = 0
+    withdrawn: int = 0
     by_method: dict[str, int] = field(default_factory=dict)
     by_department: dict[str, dict[str, Any]] = field(default_factory=dict)
     threshold: float | None = None
@@ -561,6 +565,19 @@ def onboard_feed(
 
         progress("planning the review queue", accounting.read)
         _apply_plan(store, name, run_id, candidates, options, summary, model_version, tree)
+        # An earlier run (e.g. before retraining) may have queued products this run accepts:
+        # their open low_confidence items are stale, so they are withdrawn (audited).
+        summary.withdrawn = len(
+            store.withdraw_items(
+                name,
+                reason="low_confidence",
+                why=f"accepted by onboard run {run_id}: confidence reached the accept "
+                f"threshold {threshold:.3f}"
+                if threshold is not None
+                else f"accepted by onboard run {run_id}",
+                run_id=run_id,
+            )
+        )
         summary.accounting = accounting.to_dict()
         summary.stopped_early = accounting.stopped_early
         summary.rule_conflicts = rules.conflicts if rules is not None else 0

@@ -241,7 +241,17 @@ _SCHEMA_V4: tuple[str, ...] = (
     "ALTER TABLE remap_previous ADD COLUMN restriction TEXT",
 )
 
-MIGRATIONS: tuple[tuple[str, ...], ...] = (_SCHEMA_V1, _SCHEMA_V2, _SCHEMA_V3, _SCHEMA_V4)
+# Version 5: an item can be withdrawn without a decision (a later run settled what made it
+# uncertain): state 'done' with the reason it was withdrawn (NULL for items a person decided).
+_SCHEMA_V5: tuple[str, ...] = ("ALTER TABLE review_items ADD COLUMN withdrawn_reason TEXT",)
+
+MIGRATIONS: tuple[tuple[str, ...], ...] = (
+    _SCHEMA_V1,
+    _SCHEMA_V2,
+    _SCHEMA_V3,
+    _SCHEMA_V4,
+    _SCHEMA_V5,
+)
 SCHEMA_VERSION = len(MIGRATIONS)
 
 
@@ -369,6 +379,12 @@ class ReviewItem:
     claimed_by: str | None
     lease_until: str | None
     skips: int
+    withdrawn_reason: str | None = None
+
+    @property
+    def withdrawn(self) -> bool:
+        """The item was closed without a decision (see :meth:`Store.withdraw_items`)."""
+        return self.withdrawn_reason is not None
 
 
 @dataclass(frozen=True, slots=True)
@@ -483,18 +499,23 @@ class GroupCount:
 
 @dataclass(frozen=True, slots=True)
 class QueueSummary:
-    """How much of the review queue is open, claimed and done."""
+    """How much of the review queue is open, claimed and done.
+
+    ``done`` counts items a person decided; ``withdrawn`` those closed without a decision
+    because a later run settled them (they are in ``by_reason`` under ``"withdrawn"``).
+    """
 
     open: int
     claimed: int
     done: int
     by_reason: dict[str, dict[str, int]]
     by_group: list[GroupCount]
+    withdrawn: int = 0
 
     @property
     def total(self) -> int:
         """All items."""
-        return self.open + self.claimed + self.done
+        return self.open + self.claimed + self.done + self.withdrawn
 
 
 @dataclass(frozen=True, slots=True)
@@ -544,6 +565,7 @@ class FeedStatus:
     audit_checked: int
     audit_wrong: int
     audit_error: Any = None  # catmap.decide.ErrorEstimate | None
+    withdrawn_items: int = 0
 
 
 # --------------------------------------------------------------------------------------------
@@ -668,6 +690,7 @@ def _item_from_row(row: sqlite3.Row) -> ReviewItem:
         claimed_by=row["claimed_by"],
         lease_until=row["lease_until"],
         skips=row["skips"],
+        withdrawn_reason=row["withdrawn_reason"],
     )
 
 
@@ -694,6 +717,20 @@ def _decision_from_row(row: sqlite3.Row) -> Decision:
         undone_at=row["undone_at"],
     )
 
+
+# An item's state for counting: a withdrawn item is 'done' in the table but was never decided.
+_STATE_OR_WITHDRAWN = (
+    "CASE WHEN withdrawn_reason IS NOT NULL THEN 'withdrawn' ELSE state END"
+)
+
+# Queueing a product again reopens an item that a run had withdrawn (the product is uncertain
+# again); an item a person decided stays decided.
+_ITEM_UPSERT = (
+    "ON CONFLICT(feed_id, product_id, reason) DO UPDATE SET "
+    "group_key = excluded.group_key, priority = excluded.priority, state = 'open', "
+    "claimed_by = NULL, lease_until = NULL, withdrawn_reason = NULL "
+    "WHERE review_items.state = 'open' OR review_items.withdrawn_reason IS NOT NULL"
+)
 
 _ITEM_SELECT = (
     "SELECT review_items.*, feeds.name AS feed_name FROM review_items "
@@ -1123,9 +1160,7 @@ class Store:
                 "INSERT INTO review_items (feed_id, product_id, group_key, reason, priority, "
                 "created_at) SELECT ?1, ?2, ?3, ?4, ?5, ?6 WHERE NOT EXISTS (SELECT 1 FROM "
                 "mappings WHERE feed_id = ?1 AND product_id = ?2 AND status = 'reviewed') "
-                "ON CONFLICT(feed_id, product_id, reason) DO UPDATE SET "
-                "group_key = excluded.group_key, priority = excluded.priority "
-                "WHERE review_items.state = 'open'",
+                + _ITEM_UPSERT,
                 items,
             )
         return len(batch)
@@ -1169,10 +1204,7 @@ class Store:
             key = found[0] if group_key is None else group_key
             conn.execute(
                 "INSERT INTO review_items (feed_id, product_id, group_key, reason, priority, "
-                "created_at) VALUES (?, ?, ?, ?, ?, ?) "
-                "ON CONFLICT(feed_id, product_id, reason) DO UPDATE SET "
-                "group_key = excluded.group_key, priority = excluded.priority "
-                "WHERE review_items.state = 'open'",
+                "created_at) VALUES (?, ?, ?, ?, ?, ?) " + _ITEM_UPSERT,
                 (fid, product_id, key, reason, priority, self._now()),
             )
             row = conn.execute(
@@ -1180,6 +1212,78 @@ class Store:
                 (fid, product_id, reason),
             ).fetchone()
         return int(row[0])
+
+    def withdraw_items(
+        self,
+        feed: int | str,
+        product_ids: Iterable[str] | None = None,
+        *,
+        reason: str = "low_confidence",
+        why: str,
+        actor: str = "catmap",
+        only_settled: bool = True,
+        run_id: int | None = None,
+    ) -> list[int]:
+        """Close review items nobody decided yet, because what made them uncertain is settled.
+
+        An item is withdrawn when it is open (or its claim's lease ran out) and has no
+        decision: its state becomes ``done`` with ``why`` as its withdrawn reason, and one audit
+        entry (action ``withdraw``) lists every item closed. An item a reviewer holds with a
+        live lease is left to them. Queueing the product again later reopens the item.
+
+        Args:
+            feed: the feed (id or name).
+            product_ids: only these products (default: every product of the feed).
+            reason: the review reason of the items to withdraw.
+            why: the reason recorded on each item and in the audit log.
+            actor: who withdraws (for the audit log).
+            only_settled: only items whose mapping is no longer queued (status ``accepted`` or
+                ``audit``); a ``low_confidence`` item of a product still queued stays open.
+            run_id: the run that settled them (recorded in the audit log).
+
+        Returns:
+            The ids of the items withdrawn, in id order.
+        """
+        if reason not in REVIEW_REASONS:
+            raise ValueError(f"unknown review reason {reason!r}; expected one of {REVIEW_REASONS}")
+        fid = self._feed_id(feed)
+        wanted = None if product_ids is None else set(product_ids)
+        with self._transaction() as conn:
+            sql = (
+                "SELECT i.id, i.product_id FROM review_items AS i "
+                "JOIN mappings AS m USING (feed_id, product_id) "
+                "WHERE i.feed_id = ? AND i.reason = ? AND (i.state = 'open' OR "
+                "(i.state = 'claimed' AND i.lease_until < ?)) "
+                "AND NOT EXISTS (SELECT 1 FROM decisions AS d WHERE d.item_id = i.id "
+                "AND d.undone_at IS NULL AND d.action != 'skip')"
+            )
+            if only_settled:
+                sql += " AND m.status IN ('accepted', 'audit')"
+            rows = conn.execute(sql + " ORDER BY i.id", (fid, reason, self._now())).fetchall()
+            chosen = [
+                (int(r[0]), str(r[1])) for r in rows if wanted is None or r[1] in wanted
+            ]
+            if not chosen:
+                return []
+            conn.executemany(
+                "UPDATE review_items SET state = 'done', claimed_by = NULL, lease_until = NULL, "
+                "withdrawn_reason = ? WHERE id = ?",
+                [(why, item_id) for item_id, _p in chosen],
+            )
+            self._audit(
+                conn,
+                "withdraw",
+                actor,
+                feed_id=fid,
+                detail={
+                    "reason": reason,
+                    "why": why,
+                    "run_id": run_id,
+                    "items": [item_id for item_id, _p in chosen],
+                    "product_ids": [product_id for _i, product_id in chosen],
+                },
+            )
+        return [item_id for item_id, _p in chosen]
 
     def record_event(
         self,
@@ -1444,6 +1548,13 @@ class Store:
         item = conn.execute("SELECT * FROM review_items WHERE id = ?", (item_id,)).fetchone()
         if item is None:
             raise StoreError(f"no review item {item_id}", path=self.path)
+        if item["withdrawn_reason"] is not None:
+            raise StoreError(
+                f"review item {item_id} was withdrawn: {item['withdrawn_reason']}",
+                path=self.path,
+                product_id=item["product_id"],
+                hint="take the next item instead",
+            )
         if item["state"] == "done":
             raise StoreError(
                 f"review item {item_id} is already decided",
@@ -1759,24 +1870,34 @@ class Store:
             where, params = " WHERE feed_id = ?", [self._feed_id(feed)]
         with self._lock:
             reason_rows = self._conn.execute(
-                "SELECT reason, state, COUNT(*) FROM review_items"
+                f"SELECT reason, {_STATE_OR_WITHDRAWN}, COUNT(*) FROM review_items"
                 + where
-                + " GROUP BY reason, state",
+                + " GROUP BY 1, 2",
                 params,
             ).fetchall()
             group_rows = self._conn.execute(
                 "SELECT feed_id, group_key, SUM(state = 'open'), SUM(state = 'claimed'), "
-                "SUM(state = 'done') FROM review_items" + where + " GROUP BY feed_id, group_key "
+                "SUM(state = 'done' AND withdrawn_reason IS NULL) FROM review_items"
+                + where
+                + " GROUP BY feed_id, group_key "
                 "ORDER BY SUM(state != 'done') DESC, feed_id, group_key",
                 params,
             ).fetchall()
-        totals = {state: 0 for state in ITEM_STATES}
+        states = (*ITEM_STATES, "withdrawn")
+        totals = {state: 0 for state in states}
         by_reason: dict[str, dict[str, int]] = {}
         for reason, state, count in reason_rows:
             totals[state] += count
-            by_reason.setdefault(reason, {s: 0 for s in ITEM_STATES})[state] = count
+            by_reason.setdefault(reason, {s: 0 for s in states})[state] = count
         groups = [GroupCount(r[0], r[1], r[2], r[3], r[4]) for r in group_rows]
-        return QueueSummary(totals["open"], totals["claimed"], totals["done"], by_reason, groups)
+        return QueueSummary(
+            totals["open"],
+            totals["claimed"],
+            totals["done"],
+            by_reason,
+            groups,
+            withdrawn=totals["withdrawn"],
+        )
 
     def decisions(
         self, feed: int | str | None = None, *, include_undone: bool = False
@@ -1865,7 +1986,8 @@ class Store:
             )
             states = dict(
                 self._conn.execute(
-                    "SELECT state, COUNT(*) FROM review_items WHERE feed_id = ? GROUP BY state",
+                    f"SELECT {_STATE_OR_WITHDRAWN}, COUNT(*) FROM review_items WHERE feed_id = ? "
+                    "GROUP BY 1",
                     (fid,),
                 ).fetchall()
             )
@@ -1895,4 +2017,5 @@ class Store:
             audit_error=(
                 estimate_error(checked - wrong, checked, confidence=confidence) if checked else None
             ),
+            withdrawn_items=states.get("withdrawn", 0),
         )

@@ -186,6 +186,41 @@ def test_a_reviewed_mapping_survives_a_rerun(world: SmallWorld, project: Path) -
         assert store.item(item.id).state == "done"
 
 
+def test_rerun_withdraws_items_of_products_it_now_accepts(
+    world: SmallWorld, project: Path
+) -> None:
+    feed = world.paths.feeds["ferravelle"]
+    # A strict first run (1% error) queues more than the second run (10%) does.
+    strict = OnboardOptions(max_error=0.01)
+    first = onboard_feed(feed, project=project, tree=world.tree, options=strict)
+    with Store.open(store_path(project)) as store:
+        queued_first = {i.product_id for i in store.items(feed="ferravelle", state="open")}
+        item = next(
+            i for i in store.items(feed="ferravelle", state="open")
+            if i.reason == "low_confidence"
+        )
+        store.decide(item.id, "tester", "accept")
+    second = onboard_feed(feed, project=project, tree=world.tree, options=options())
+    assert second.accepted + second.audit > first.accepted + first.audit
+    with Store.open(store_path(project)) as store:
+        items = store.items(feed="ferravelle")
+        withdrawn = [i for i in items if i.withdrawn]
+        assert len(withdrawn) == second.withdrawn > 0
+        for stale in withdrawn:
+            assert stale.reason == "low_confidence" and stale.product_id in queued_first
+            assert store.mapping("ferravelle", stale.product_id).status in ("accepted", "audit")
+            assert f"onboard run {second.run_id}" in (stale.withdrawn_reason or "")
+        # Every open low_confidence item left is a product the second run still queues.
+        for open_item in items:
+            if open_item.state == "open" and open_item.reason == "low_confidence":
+                assert store.mapping("ferravelle", open_item.product_id).status == "queued"
+        # The decided item stays decided, with its decision.
+        assert store.item(item.id).state == "done" and not store.item(item.id).withdrawn
+        withdrawals = [e for e in store.audit_log("ferravelle") if e.action == "withdraw"]
+        assert len(withdrawals) == 1
+        assert sorted(withdrawals[0].detail["items"]) == sorted(i.id for i in withdrawn)
+
+
 def test_interrupted_run_leaves_a_store_that_opens_and_rerun_completes(
     world: SmallWorld, project: Path
 ) -> None:

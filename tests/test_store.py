@@ -301,6 +301,53 @@ def test_save_mapped_queues_by_status_and_reasons(store: Store) -> None:
     }
 
 
+def test_stale_low_confidence_items_are_withdrawn_audited_and_can_reopen(
+    store: Store, clock: FakeClock
+) -> None:
+    feed = seed(store, [make_row(i, confidence=0.5) for i in range(1, 6)])
+    decided = store.claim_next("ann")
+    assert decided is not None and decided.product_id == "p0001"
+    store.decide(decided.id, "ann", "accept")
+    held = store.claim_next("bob", lease_seconds=60)
+    assert held is not None and held.product_id == "p0002"
+    # A later run (a retrained model) accepts p0001..p0004; p0005 is still uncertain.
+    store.save_mapped(
+        feed,
+        None,
+        [make_row(i, confidence=0.97, status="accepted") for i in range(1, 5)]
+        + [make_row(5, confidence=0.6)],
+    )
+    withdrawn = store.withdraw_items(feed, why="accepted by run 2")
+    items = {i.product_id: i for i in store.items(feed=feed)}
+    # Decided stays decided; bob's live claim is left to him; the still-queued one stays open.
+    assert [items["p0003"].id, items["p0004"].id] == withdrawn
+    assert items["p0001"].state == "done" and not items["p0001"].withdrawn
+    assert items["p0002"].state == "claimed" and items["p0002"].claimed_by == "bob"
+    assert items["p0005"].state == "open"
+    assert items["p0003"].state == "done"
+    assert items["p0003"].withdrawn_reason == "accepted by run 2"
+    summary = store.queue_summary(feed)
+    assert (summary.open, summary.claimed, summary.done, summary.withdrawn) == (1, 1, 1, 2)
+    assert summary.by_reason["low_confidence"]["withdrawn"] == 2
+    assert store.feed_status(feed).withdrawn_items == 2
+    assert store.feed_status(feed).done_items == 1
+    entry = store.audit_log()[-1]
+    assert entry.action == "withdraw" and entry.detail["items"] == withdrawn
+    assert entry.detail["why"] == "accepted by run 2"
+    assert store.decisions(feed)[-1].product_id == "p0001"  # no decision was invented
+    with pytest.raises(StoreError, match="withdrawn"):
+        store.decide(items["p0003"].id, "ann", "accept")
+    # Bob's lease runs out: the next withdrawal takes his item too. Nothing is withdrawn twice.
+    clock.advance(120)
+    assert store.withdraw_items(feed, why="again") == [items["p0002"].id]
+    assert store.withdraw_items(feed, why="again") == []
+    # A run that is unsure again queues p0003 again: the same item reopens.
+    store.save_mapped(feed, None, [make_row(3, confidence=0.4)])
+    again = store.item(items["p0003"].id)
+    assert again.state == "open" and not again.withdrawn
+    assert store.queue_summary(feed).withdrawn == 2
+
+
 def test_enqueue_needs_a_saved_product(store: Store) -> None:
     feed = seed(store, [make_row(1, status="accepted")])
     item_id = store.enqueue(feed, "p0001", "remap", priority=0.4)

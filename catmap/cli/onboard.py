@@ -175,6 +175,11 @@ def _render_onboard(facts: dict[str, Any]) -> None:
     if facts["queued_by_reason"]:
         reasons = ", ".join(f"{k} {v:,}" for k, v in facts["queued_by_reason"].items())
         _say(f"  review items by reason: {escape(reasons)}")
+    if facts.get("withdrawn"):
+        _say(
+            f"  withdrawn from the queue: {facts['withdrawn']:,} items of an earlier run "
+            "now accepted"
+        )
     if facts["threshold"] is None:
         _say("  [bold red]accept threshold: none[/bold red]")
     else:
