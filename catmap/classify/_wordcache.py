@@ -147,6 +147,10 @@ class WordNgramTfidf:
 
     def _terms(self, text: str) -> list[str]:
         tokens: list[str] = self._findall(text.lower())
+        if self._low == 1 and self._high <= 2:
+            if self._high == 2:
+                tokens.extend([f"{a} {b}" for a, b in zip(tokens, tokens[1:])])  # noqa: B905
+            return tokens
         terms = tokens[:] if self._low == 1 else []
         for n in range(max(self._low, 2), min(self._high, len(tokens)) + 1):
             terms.extend(" ".join(tokens[i : i + n]) for i in range(len(tokens) - n + 1))
@@ -187,12 +191,20 @@ def fast_transformer(vectorizer: TfidfVectorizer) -> WordCachedTfidf | WordNgram
 def _weighted(vectorizer: TfidfVectorizer, idf: Any, matrix: sp.csr_matrix) -> sp.csr_matrix:
     """Counts → sublinear tf × idf → row norm, in float32, as TfidfTransformer does."""
     matrix.eliminate_zeros()
+    data = matrix.data
     if vectorizer.sublinear_tf:
-        np.log(matrix.data, matrix.data)
-        matrix.data += np.float32(1.0)
+        np.log(data, data)
+        data += np.float32(1.0)
     if vectorizer.use_idf:
-        matrix.data *= idf[matrix.indices]
-    if vectorizer.norm is not None:
+        data *= idf[matrix.indices]
+    if vectorizer.norm == "l2":
+        # Row norms without sklearn's input checks (the matrix is ours and finite).
+        row = np.repeat(np.arange(matrix.shape[0]), np.diff(matrix.indptr))
+        norms = np.sqrt(np.bincount(row, weights=data * data, minlength=matrix.shape[0]))
+        norms[norms == 0.0] = 1.0
+        # float32 / double, rounded to float32: the same arithmetic as scikit-learn's.
+        np.divide(data, norms[row], out=data, casting="unsafe")
+    elif vectorizer.norm is not None:
         matrix = normalize(matrix, norm=vectorizer.norm, copy=False)
     result: sp.csr_matrix = sp.csr_matrix(matrix, dtype=np.float32)
     return result
