@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import dataclasses
 import sqlite3
 from collections.abc import Iterator
 from datetime import UTC, datetime, timedelta
@@ -250,6 +251,75 @@ def test_whatever_the_store_saves_comes_back_unchanged(
     assert (stored.model_version, stored.tree_version) == ("m7", "1")
     pairs = dict((p.product_id, (p, m)) for p, m in memory_store.mappings(feed))
     assert pairs[product.product_id] == (product, stored)
+
+
+@settings(max_examples=25, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@given(product=_products, mapping=_mappings, attributes=_attributes)
+def test_the_bulk_write_path_of_a_file_store_round_trips(
+    file_store: Store, product: Product, mapping: Mapping, attributes: Attributes
+) -> None:
+    feed = file_store.add_feed("round-trip-file")
+    row = MappedRow(product, mapping, attributes, "queued", "Shop > Aisle", 0.3)
+    file_store.save_mapped(feed, None, [row], model_version="m7", tree_version="1")
+    assert file_store.product(feed, product.product_id) == product
+    stored = file_store.mapping(feed, product.product_id)
+    assert (stored.mapping, stored.attributes) == (mapping, attributes)
+
+
+def test_products_saved_in_the_older_object_format_still_read() -> None:
+    # Written by hand in the format of schema versions 1-5 (one JSON object per product).
+    text = (
+        '{"product_id":"x1","title":"Oak lamp","description":"","brand":"Lumo",'
+        '"category_path":["Home","Lamps"],"price":"19.90","currency":"EUR","gtin":null,'
+        '"gtin_raw":"","gender_text":"","colour":"","size":"","url":"","image_url":"",'
+        '"availability":"available","extra":{"wood":"oak"},"flags":["gtin_missing"],'
+        '"source_line":4}'
+    )
+    assert product_from_json(text) == Product(
+        product_id="x1",
+        title="Oak lamp",
+        brand="Lumo",
+        category_path=("Home", "Lamps"),
+        price=Decimal("19.90"),
+        currency="EUR",
+        availability="available",
+        extra={"wood": "oak"},
+        flags=("gtin_missing",),
+        source_line=4,
+    )
+
+
+def _pragmas(store: Store) -> tuple[int, int, int]:
+    return (
+        store._read("PRAGMA synchronous").fetchone()[0],
+        store._read("PRAGMA foreign_keys").fetchone()[0],
+        store._read("PRAGMA wal_autocheckpoint").fetchone()[0],
+    )
+
+
+def test_bulk_writes_leave_decisions_fully_synchronous(file_store: Store) -> None:
+    # synchronous 2 = FULL (SQLite documentation, PRAGMA synchronous); foreign keys on.
+    assert _pragmas(file_store) == (2, 1, 1000)
+    feed = seed(file_store, [make_row(i) for i in range(3)])
+    assert _pragmas(file_store) == (2, 1, 1000)
+    # A batch failing inside its transaction (NOT NULL group key) saves none of its rows and
+    # still gives the settings back.
+    broken = [make_row(10), dataclasses.replace(make_row(11), group_key=None)]
+    with pytest.raises(sqlite3.IntegrityError):
+        file_store.save_mapped(feed, None, broken)
+    assert _pragmas(file_store) == (2, 1, 1000)
+    with pytest.raises(StoreError):
+        file_store.product(feed, "p0010")
+    item = file_store.claim_next("ann")
+    assert item is not None
+    file_store.decide(item.id, "ann", "accept")
+    assert _pragmas(file_store) == (2, 1, 1000)
+
+
+def test_saving_for_an_unknown_run_is_refused(store: Store) -> None:
+    feed = store.add_feed("shop-a")
+    with pytest.raises(StoreError, match="no run 99"):
+        store.save_mapped(feed, 99, [make_row(1)])
 
 
 def test_runs_and_feeds_round_trip(store: Store) -> None:
