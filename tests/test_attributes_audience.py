@@ -180,3 +180,59 @@ def test_never_raises_and_ignores_case_and_outer_spaces(column: str, title: str,
             allowed_ages=ALL_AGES,
         )
         assert (loud.who, loud.age, loud.conflict) == (plain.who, plain.age, plain.conflict)
+
+
+@pytest.mark.parametrize(
+    ("title", "path", "description", "who", "age"),
+    [
+        ("Baby hat organic cotton", "", "Our baby hat. For baby girls.", "female", "baby"),
+        ("Trucker jacket newborn", "", "Everyday trucker jacket. For baby boys.", "male", "baby"),
+        ("Kids backpack royal blue", "", "Our kids backpack. Girls' sizes.", "female", "kids"),
+        ("Combinaison imprimée", "Bébé / Vêtements bébé", "Pour bébé fille.", "female", "baby"),
+    ],
+)
+def test_a_gender_said_only_in_the_description_is_read(
+    title: str, path: str, description: str, who: str, age: str
+) -> None:
+    audience = extract_audience(
+        title=title,
+        category_path=path.split(" / ") if path else (),
+        description=description,
+        allowed_who=ALL_WHO,
+        allowed_ages=ALL_AGES,
+    )
+    assert (audience.who, audience.age) == (who, age)
+
+
+def test_the_description_does_not_override_the_title() -> None:
+    audience = extract_audience(
+        title="Women's rain jacket",
+        description="A jacket for men and women.",
+        allowed_who=ALL_WHO,
+        allowed_ages=ALL_AGES,
+    )
+    assert audience.who == "female"
+
+
+@pytest.mark.parametrize(
+    ("title", "who"),
+    [("Kerdawick Mns short sleeve shorts", "male"), ("Wmns running tee", "female"),
+     ("Wms slim jeans", "female")],
+)
+def test_gender_abbreviations_in_titles(title: str, who: str) -> None:
+    # Shop abbreviations of men's / women's; common practice, no source.
+    assert _apparel(title=title) == (who, "adult")
+
+
+@pytest.mark.parametrize(
+    ("column", "who"),
+    [("Hr.", "male"), ("D.", "female"), ("Da.", "female"), ("Dam.", "female"),
+     ("Hom.", "male"), ("Hbre.", "male"), ("Muj.", "female"), ("Fem.", "female")],
+)
+def test_gender_abbreviations_in_the_column(column: str, who: str) -> None:
+    # Herren / Damen / Homme, Hombre / Mujer / Femme abbreviations; common practice, no source.
+    assert _apparel(gender_text=column, title="Cotton top") == (who, "adult")
+
+
+def test_column_abbreviations_are_not_read_in_titles() -> None:
+    assert _apparel(title="Vitamin D 24 hr cotton top")[0] == "unisex"

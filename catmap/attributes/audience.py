@@ -5,8 +5,8 @@ baby, not_applicable (:data:`catmap.records.WHO_VALUES` / :data:`~catmap.records
 
 The node decides where gender and age apply at all (``tree.who`` / ``tree.ages``; empty means
 not applicable) and which values are possible. Within that, the feed's gender column wins; the
-title and the retailer's category path are read next (the description only when they say
-nothing). A column that disagrees with the text, or a text that disagrees with a node allowing a
+title and the retailer's category path are read next (the description for whatever they leave
+open). A column that disagrees with the text, or a text that disagrees with a node allowing a
 single value, sets the conflict flag and the evidence names both: nothing is silently resolved.
 
 Traps handled before looking for words: brand names holding a gender word (the brand span is
@@ -36,13 +36,14 @@ STRONG, WEAK, TRAP = "strong", "weak", "trap"
 # accents, no apostrophes), so "Men's", "mens" and "MENS" are one entry.
 _CUES: dict[tuple[str | None, str | None, str], tuple[str, ...]] = {
     (FEMALE, ADULT, STRONG): (
-        "women", "womens", "woman", "ladies", "lady", "wmns", "womenswear", "female",
+        "women", "womens", "woman", "ladies", "lady", "wmns", "wmn", "wms", "womenswear",
+        "female",
         "femme", "femmes", "pour femme", "dame", "dames",
         "damen", "fur damen", "frauen", "frau",
         "mujer", "mujeres", "de mujer", "para mujer", "senora", "senoras", "dama",
     ),
     (MALE, ADULT, STRONG): (
-        "men", "mens", "man", "gents", "menswear", "male", "gentlemen", "gentleman",
+        "men", "mens", "mns", "man", "gents", "menswear", "male", "gentlemen", "gentleman",
         "homme", "hommes", "pour homme",
         "herren", "fur herren", "manner",
         "hombre", "hombres", "de hombre", "para hombre", "caballero", "caballeros",
@@ -102,10 +103,15 @@ _COMPOUND_CUES = {
 }
 _COMPOUND_EXCEPTIONS = frozenset({"babyblau", "babyrosa", "babydoll", "kindergarten"})
 
-# Single letters and codes only a gender column uses.
+# Single letters and abbreviations only a gender column uses (folded: "Hr." → "hr"). They
+# are too ambiguous in running text ("24 hr", "vitamin D", Spanish "da"); common practice,
+# no source.
 _COLUMN_CODES = {
     "w": (FEMALE, None), "f": (FEMALE, None), "d": (FEMALE, None), "m": (MALE, None),
     "h": (MALE, None), "u": (UNISEX, None), "k": (None, KIDS), "b": (None, BABY),
+    "da": (FEMALE, ADULT), "dam": (FEMALE, ADULT), "fem": (FEMALE, ADULT),
+    "muj": (FEMALE, ADULT), "sra": (FEMALE, ADULT), "hr": (MALE, ADULT), "hom": (MALE, ADULT),
+    "hbre": (MALE, ADULT), "hmbre": (MALE, ADULT), "cab": (MALE, ADULT),
 }
 
 # Kids' sizes. EU children's sizes are body heights in cm: 50-86 baby, 92-176 kids
@@ -467,9 +473,11 @@ def extract_audience_folded(
     column = _column_cues(gender_text) if gender_text else Cues()
     folded_size, size_age = _size_facts(size) if size else ("", None)
     text = read_cues(f"{folded_title} {folded_path} {folded_size}".strip())
-    if not text.who and not text.age and folded_description:
+    if folded_description and not text.who:
+        # The description speaks for whatever the title and path leave open: a baby hat whose
+        # title says only "baby" is for girls when the description says "for baby girls".
         described = read_cues(folded_description)
-        text = Cues(described.who, described.age, text.weak_who + described.weak_who)
+        text = Cues(described.who, text.age or described.age, text.weak_who + described.weak_who)
     if size_age is None:
         size_age = age_from_size(folded_title)
     return decide_audience(
