@@ -26,6 +26,16 @@ TREE = """\
 2011 | 2010 | Board games | . | - | en: board game | fr: jeu | de: Brettspiel | es: juego
 2020 | 2000 | Gifts | . | - | en: gifts | fr: cadeaux | de: Geschenke | es: regalos
 2021 | 2020 | Mugs | . | - | en: mug | fr: tasse | de: Becher | es: taza
+1500 | - | Footwear | who=female,male,unisex age=adult,kids,baby | - | en: x | fr: x | de: x | es: x
+1510 | 1500 | Shoes | . | - | en: shoes | fr: chaussures | de: Schuhe | es: zapatos
+1511 | 1510 | Flat shoes | . | - | en: flats | fr: chaussures plates | de: Halbschuhe | es: planos
+1512 | 1510 | Block heels | who=female age=adult | - | en: heels | fr: x | de: x | es: x
+3000 | - | Accessories | who=female,male,unisex age=adult,kids | - | en: x | fr: x | de: x | es: x
+3010 | 3000 | Scarves and hats | . | - | en: scarves | fr: foulards | de: Schals | es: x
+3011 | 3010 | Scarves | . | - | en: scarf | fr: foulard | de: Schal | es: pañuelo
+4000 | - | Toys and baby | age=kids,baby | - | en: toys | fr: jouets | de: Spielzeug | es: juguetes
+4010 | 4000 | Baby care | . | - | en: baby care | fr: puériculture | de: x | es: x
+4011 | 4010 | Baby safety | . | - | en: baby monitor | fr: babyphone | de: Babyphone | es: x
 """
 
 ALL_WHO = frozenset({"female", "male", "unisex"})
@@ -236,3 +246,89 @@ def test_gender_abbreviations_in_the_column(column: str, who: str) -> None:
 
 def test_column_abbreviations_are_not_read_in_titles() -> None:
     assert _apparel(title="Vitamin D 24 hr cotton top")[0] == "unisex"
+
+
+@pytest.mark.parametrize("size", ["120 cm", "116 cm", "128"])
+def test_a_length_off_apparel_is_not_a_height(extractor: AttributeExtractor, size: str) -> None:
+    # A scarf (bags and accessories, ages adult and kids) is measured, not sized by the body.
+    attributes = extractor.extract(Product("1", "Silk scarf", size=size), "3011")
+    assert attributes.age == "adult"
+
+
+@pytest.mark.parametrize(
+    ("size", "age"), [("116 cm", "kids"), ("120 cm", "adult"), ("200 cm", "adult")]
+)
+def test_heights_count_on_apparel_only_at_childrens_sizes(
+    extractor: AttributeExtractor, size: str, age: str
+) -> None:
+    # EU children's sizes are heights in steps of 6 cm, 92-176; common practice, no source.
+    assert extractor.extract(Product("1", "Slim jeans", size=size), "1021").age == age
+
+
+def test_a_height_in_the_title_needs_a_size_word() -> None:
+    assert _apparel(title="Cotton trousers 116 cm")[1] == "adult"
+    assert _apparel(title="Cotton trousers Gr. 116")[1] == "kids"
+
+
+@pytest.mark.parametrize(
+    ("size", "age"),
+    [
+        ("7-8 years", "kids"), ("9-10 years", "kids"), ("Gr. 140", "kids"), ("Gr. 116", "kids"),
+        ("taille 128", "kids"), ("104/110", "kids"), ("62/68", "baby"), ("74/80", "baby"),
+        ("Gr. 62", "baby"), ("Gr. 39", "adult"), ("40/42", "adult"), ("2 years warranty", "adult"),
+        ("2 ans de garantie", "adult"),
+    ],
+)
+def test_more_kids_sizes(size: str, age: str) -> None:
+    # EU children's sizes are heights in cm, doubled sizes are neighbours 6 cm apart;
+    # common practice, no source.
+    assert _apparel(title="Cotton trousers", size=size)[1] == age
+
+
+@pytest.mark.parametrize(
+    ("title", "age"),
+    [("Cocktailkleid Vintage Gr. 116", "kids"), ("Denim Bundhose 104/110", "kids"),
+     ("Padded jacket classic 7-8 years", "kids")],
+)
+def test_kids_sizes_in_titles(title: str, age: str) -> None:
+    assert _apparel(title=title)[1] == age
+
+
+@pytest.mark.parametrize(
+    ("column", "who", "age"), [("K-B", "male", "kids"), ("K-G", "female", "kids")]
+)
+def test_kids_boys_and_kids_girls_column_codes(column: str, who: str, age: str) -> None:
+    # "K-B" is kids-boys, not kids plus baby; common practice, no source.
+    audience = extract_audience(
+        gender_text=column, title="Swimsuit", allowed_who=ALL_WHO, allowed_ages=ALL_AGES
+    )
+    assert (audience.who, audience.age, audience.conflict) == (who, age, False)
+
+
+def test_french_babies_shoes_are_not_for_babies(extractor: AttributeExtractor) -> None:
+    heels = extractor.extract(Product("1", "Babies à talon montante à lacets"), "1512")
+    assert (heels.who, heels.age, heels.audience_conflict) == ("female", "adult", False)
+    flats = extractor.extract(Product("2", "Babies à lacets semelle épaisse Femme"), "1511")
+    assert (flats.who, flats.age) == ("female", "adult")
+
+
+def test_babies_still_counts_where_nothing_else_says_the_age(
+    extractor: AttributeExtractor,
+) -> None:
+    attributes = extractor.extract(Product("1", "Night light monitor for babies"), "4011")
+    assert attributes.age == "baby"
+
+
+@pytest.mark.parametrize(
+    ("title", "size", "age"),
+    [("Barrière de sécurité sonore junior 8 ans", "", "kids"),
+     ("Wooden socket cover", "3-4Y", "kids"),
+     ("Kids breathing monitor", "128 cm", "kids"),
+     ("Babyphone vidéo", "", "baby")],
+)
+def test_a_baby_word_in_the_shop_path_does_not_outvote_the_product(
+    extractor: AttributeExtractor, title: str, size: str, age: str
+) -> None:
+    path = ("Enfant", "Sécurité bébé", "Babyphone")
+    attributes = extractor.extract(Product("1", title, category_path=path, size=size), "4011")
+    assert attributes.age == age

@@ -22,6 +22,7 @@ from catmap.attributes.audience import (
     decide_audience,
     extract_audience,
     extract_audience_folded,
+    is_body_sized,
     read_cues,
 )
 from catmap.attributes.brand import (
@@ -77,6 +78,7 @@ __all__ = [
     "normalize_brand",
     "colour_family_folded",
     "extract_audience_folded",
+    "is_body_sized",
     "read_cues",
     "restriction_from_text",
     "restriction_from_text_folded",
@@ -89,6 +91,7 @@ class _NodeFacts:
     ages: frozenset[str] | None
     restriction: str | None
     read_keywords: bool  # the node cannot say: read restriction keywords
+    body_sizes: bool  # apparel / footwear (or unknown): heights and shoe sizes say kids / baby
 
 
 class AttributeExtractor:
@@ -124,7 +127,7 @@ class AttributeExtractor:
         facts = self._nodes.get(node_id)
         if facts is None:
             if node_id is None or self.tree is None or node_id not in self.tree:
-                facts = _NodeFacts(None, None, None, True)
+                facts = _NodeFacts(None, None, None, True, True)
             else:
                 tree = self.tree
                 node = tree[node_id]
@@ -134,6 +137,7 @@ class AttributeExtractor:
                     tree.ages(node_id),
                     tree.restriction(node_id),
                     generic or not tree.is_leaf(node_id),
+                    is_body_sized(tree.all_terms(tree.department(node_id).id)),
                 )
             self._nodes[node_id] = facts
         return facts
@@ -194,6 +198,7 @@ class AttributeExtractor:
             size=product.size,
             allowed_who=facts.who,
             allowed_ages=facts.ages,
+            body_sizes=facts.body_sizes,
         )
 
         # colour

@@ -5,14 +5,17 @@ baby, not_applicable (:data:`catmap.records.WHO_VALUES` / :data:`~catmap.records
 
 The node decides where gender and age apply at all (``tree.who`` / ``tree.ages``; empty means
 not applicable) and which values are possible. Within that, the feed's gender column wins; the
-title and the retailer's category path are read next (the description for whatever they leave
+title and the retailer's category path are read next (for the age the title, then the size,
+then the path: the most product-specific source; the description for whatever they leave
 open). A column that disagrees with the text, or a text that disagrees with a node allowing a
 single value, sets the conflict flag and the evidence names both: nothing is silently resolved.
 
 Traps handled before looking for words: brand names holding a gender word (the brand span is
 removed first), "boyfriend" fits (a women's style), "baby pink" / "baby blue" (colours),
 "girls' night" (an occasion), "for her" gifts (a weak cue that counts only where the node lets
-gender apply), and kids' sizes ("8 ans", "age 4-5", "116 cm", "6-12 mois").
+gender apply), "babies" (also a French shoe style: a weak cue), and kids' sizes ("8 ans",
+"7-8 years", "age 4-5", "6-12 mois"; heights such as "116 cm", "Gr. 140", "104/110" only on
+apparel and footwear nodes).
 """
 
 from __future__ import annotations
@@ -65,7 +68,7 @@ _CUES: dict[tuple[str | None, str | None, str], tuple[str, ...]] = {
         "ninos", "infantil", "para ninos", "juvenil",
     ),
     (None, BABY, STRONG): (
-        "baby", "babies", "babys", "infant", "infants", "newborn", "new born",
+        "baby", "babys", "infant", "infants", "newborn", "new born",
         "bebe", "bebes", "naissance", "nourrisson",
         "saugling", "neugeborene", "erstlings",
         "recien nacido", "bebes",
@@ -79,6 +82,9 @@ _CUES: dict[tuple[str | None, str | None, str], tuple[str, ...]] = {
         "for him", "pour lui", "fur ihn", "gift for him", "cadeau pour lui",
         "geschenk fur ihn", "regalo para el",
     ),
+    # "babies" is also a French shoe style (strap shoes): it counts only when nothing else
+    # speaks for the age and the node allows babies.
+    (None, BABY, WEAK): ("babies",),
     # Traps: phrases holding an audience word that says nothing about the audience.
     (None, None, TRAP): (
         "baby pink", "baby blue", "baby rose", "bleu bebe", "rose bebe", "babyblau",
@@ -106,21 +112,33 @@ _COMPOUND_EXCEPTIONS = frozenset({"babyblau", "babyrosa", "babydoll", "kindergar
 # Single letters and abbreviations only a gender column uses (folded: "Hr." → "hr"). They
 # are too ambiguous in running text ("24 hr", "vitamin D", Spanish "da"); common practice,
 # no source.
-_COLUMN_CODES = {
+_COLUMN_CODES: dict[str, tuple[str | None, str | None]] = {
     "w": (FEMALE, None), "f": (FEMALE, None), "d": (FEMALE, None), "m": (MALE, None),
     "h": (MALE, None), "u": (UNISEX, None), "k": (None, KIDS), "b": (None, BABY),
     "da": (FEMALE, ADULT), "dam": (FEMALE, ADULT), "fem": (FEMALE, ADULT),
     "muj": (FEMALE, ADULT), "sra": (FEMALE, ADULT), "hr": (MALE, ADULT), "hom": (MALE, ADULT),
     "hbre": (MALE, ADULT), "hmbre": (MALE, ADULT), "cab": (MALE, ADULT),
 }
+# Two-letter column codes: "K-B" is kids-boys, not kids and baby.
+_COLUMN_PAIRS: dict[tuple[str, str], tuple[str | None, str | None]] = {
+    ("k", "b"): (MALE, KIDS), ("k", "g"): (FEMALE, KIDS),
+}
 
-# Kids' sizes. EU children's sizes are body heights in cm: 50-86 baby, 92-176 kids
-# (common practice, no source). Bare numbers 50 and 56 are left out: also men's suit sizes.
+# Kids' sizes. EU children's sizes are body heights in cm: 50-86 baby, 92-176 kids, in steps of
+# 6 (common practice, no source). A height says "child" only on a node sized by the body
+# (apparel, footwear: see :func:`is_body_sized`), only at those exact sizes, and only with a
+# size context: the size field, a size word before it ("Gr. 140", "taille 116") or a pair of
+# neighbouring sizes ("104/110"); "120 cm" on a scarf or a table is a length. Bare numbers 50
+# and 56 are left out (also men's suit sizes); after a size word they count.
 _BABY_HEIGHTS = frozenset({62, 68, 74, 80, 86})
+_BABY_HEIGHTS_SAID = _BABY_HEIGHTS | {50, 56}
 _KIDS_HEIGHTS = frozenset(range(92, 177, 6))
 _MONTHS = r"(?:months?|mths?|mois|monate?n?|meses|mes)"
-_YEARS = r"(?:ans?|jahren?|anos?|years?\s+old|yrs?|y|j)"
-_SIZE_PATTERNS: tuple[tuple[re.Pattern[str], str], ...] = (
+_YEARS = r"(?:ans?|jahren?|anos?|years?(?:\sold)?|yrs?|y|j)"
+# "2 years warranty", "2 ans de garantie" are not ages.
+_NOT_AN_AGE = r"(?!\s(?:de\s)?(?:warranty|guarantee|garantie|garantia|gewahrleistung))"
+_SIZE_WORD = r"(?:gr|grosse|groesse|size|taille|talla|height|hauteur)"
+_AGE_PATTERNS: tuple[tuple[re.Pattern[str], str], ...] = (
     # "3-6 months", "6-12 mois", "12-18M"
     (re.compile(rf"\b(\d{{1,2}})\s(?:to\s|a\s|bis\s)?(\d{{1,2}})\s?(?:{_MONTHS}|m)\b"), BABY),
     # "6 months", "18m"
@@ -129,11 +147,52 @@ _SIZE_PATTERNS: tuple[tuple[re.Pattern[str], str], ...] = (
         re.compile(r"\b(?:age|ages|alter|edad|taille)\s(\d{1,2})(?:\s(?:to\s|a\s)?(\d{1,2}))?\b"),
         KIDS,
     ),
-    (re.compile(rf"\b(\d{{1,2}})(?:\s(?:to\s|a\s|bis\s)?(\d{{1,2}}))?\s?{_YEARS}\b"), KIDS),
-    (re.compile(r"\b(\d{2,3})\s?cm\b"), "height"),
+    # "8 ans", "7-8 years", "3-4Y"
+    (
+        re.compile(
+            rf"\b(\d{{1,2}})(?:\s(?:to\s|a\s|bis\s)?(\d{{1,2}}))?\s?{_YEARS}\b{_NOT_AN_AGE}"
+        ),
+        KIDS,
+    ),
+)
+# Sizes that are body measures: read only on nodes sized by the body.
+_BODY_PATTERNS: tuple[tuple[re.Pattern[str], str], ...] = (
     # Shoe sizes: EU 16-21 baby, 22-34 kids (common practice, no source).
     (re.compile(r"\b(?:eu|pointure|gr|grosse|talla|size|taille)\s(\d{2})\b"), "shoe"),
+    # "Gr. 140", "taille 116 cm"
+    (re.compile(rf"\b{_SIZE_WORD}\s(\d{{2,3}})(?:\scm)?\b"), "height"),
+    # "104/110", "62/68" (folded to "104 110")
+    (re.compile(r"\b(\d{2,3})\s(\d{2,3})\b"), "pair"),
 )
+# "116 cm": a height only where the text is the size field.
+_FIELD_HEIGHT = re.compile(r"\b(\d{2,3})\s?cm\b")
+
+# Department words of nodes sized by the body (the four languages); common practice, no source.
+_BODY_SIZED_WORDS = frozenset(
+    {
+        "apparel", "clothing", "clothes", "garments", "footwear", "shoes",
+        "vetements", "habillement", "chaussures",
+        "bekleidung", "kleidung", "schuhe", "schuhwerk",
+        "ropa", "prendas", "calzado", "zapatos",
+    }
+)
+
+
+def is_body_sized(department_words: Iterable[str]) -> bool:
+    """Return whether a department sells things sized by the body (apparel, footwear).
+
+    Args:
+        department_words: the department's name and terms, any language.
+    """
+    return any(fold(word) in _BODY_SIZED_WORDS for word in department_words)
+
+
+def _height_age(height: int) -> str | None:
+    if height in _BABY_HEIGHTS_SAID:
+        return BABY
+    if height in _KIDS_HEIGHTS:
+        return KIDS
+    return None
 
 
 _DIGIT = re.compile(r"\d")
@@ -172,6 +231,7 @@ class Cues:
     who: tuple[tuple[str, str], ...] = ()  # (value, word)
     age: tuple[tuple[str, str], ...] = ()
     weak_who: tuple[tuple[str, str], ...] = ()
+    weak_age: tuple[tuple[str, str], ...] = ()
 
     def who_value(self) -> str | None:
         """Return the one who value the strong cues give (female + male → unisex)."""
@@ -187,7 +247,7 @@ class Cues:
 
     def word_for(self, kind: str, value: str) -> str:
         """Return the word that gave a value (for the evidence)."""
-        pool = self.who + self.weak_who if kind == "who" else self.age
+        pool = self.who + self.weak_who if kind == "who" else self.age + self.weak_age
         return next((w for v, w in pool if v == value), "")
 
 
@@ -235,6 +295,7 @@ def read_cues(folded: str, *, column: bool = False) -> Cues:
     who: list[tuple[str, str]] = []
     age: list[tuple[str, str]] = []
     weak: list[tuple[str, str]] = []
+    weak_age: list[tuple[str, str]] = []
     for _start, _end, key, payload in _select(_INDEX.find(folded)):
         w, a, strength = cast("tuple[str | None, str | None, str]", payload)
         if strength == TRAP:
@@ -242,6 +303,8 @@ def read_cues(folded: str, *, column: bool = False) -> Cues:
         if strength == WEAK:
             if w:
                 weak.append((w, key))
+            if a:
+                weak_age.append((a, key))
             continue
         if w:
             who.append((w, key))
@@ -259,47 +322,69 @@ def read_cues(folded: str, *, column: bool = False) -> Cues:
             if a:
                 age.append((a, found.group(0)))
     if column:
-        for token in folded.split():
-            code = _COLUMN_CODES.get(token)
+        tokens = folded.split()
+        i = 0
+        while i < len(tokens):
+            token = tokens[i]
+            code = _COLUMN_PAIRS.get((token, tokens[i + 1])) if i + 1 < len(tokens) else None
+            if code:
+                token = f"{token} {tokens[i + 1]}"
+                i += 1
+            else:
+                code = _COLUMN_CODES.get(token)
+            i += 1
             if code:
                 if code[0]:
                     who.append((code[0], token))
                 if code[1]:
                     age.append((code[1], token))
-    return Cues(tuple(who), tuple(age), tuple(weak))
+    return Cues(tuple(who), tuple(age), tuple(weak), tuple(weak_age))
 
 
-def age_from_size(folded: str, *, bare_numbers: bool = False) -> tuple[str, str] | None:
+def age_from_size(
+    folded: str, *, size_field: bool = False, body_sizes: bool = True
+) -> tuple[str, str] | None:
     """Return (age, the text that says it) when a size implies kids or baby.
 
     Args:
         folded: a folded size field or title.
-        bare_numbers: read a lone number as an EU children's height ("128"): size fields only.
+        size_field: the text is the size field: a lone number ("128") or "116 cm" is a height.
+        body_sizes: the node is sized by the body (apparel, footwear; or unknown): heights and
+            shoe sizes count. Ages ("8 ans", "3-6 months") count everywhere.
     """
     if not folded or _DIGIT.search(folded) is None:
         return None
-    for pattern, value in _SIZE_PATTERNS:
+    for pattern, value in _AGE_PATTERNS:
         for found in pattern.finditer(folded):
-            numbers = [int(g) for g in found.groups() if g]
-            if value == "shoe":
-                if 16 <= numbers[0] <= 21:
-                    return BABY, found.group(0)
-                if 22 <= numbers[0] <= 34:
-                    return KIDS, found.group(0)
-                continue
-            if value == "height":
-                height = numbers[0]
-                if 50 <= height <= 86:
-                    return BABY, found.group(0)
-                if height in _KIDS_HEIGHTS or 92 <= height <= 176 and bare_numbers:
-                    return KIDS, found.group(0)
-                continue
-            top = max(numbers)
+            top = max(int(g) for g in found.groups() if g)
             if value == BABY and top <= 36:
                 return (BABY if top <= 24 else KIDS), found.group(0)
             if value == KIDS and 1 <= top <= 16:
                 return (BABY if top <= 1 else KIDS), found.group(0)
-    if bare_numbers:
+    if not body_sizes:
+        return None
+    for pattern, value in _BODY_PATTERNS:
+        for found in pattern.finditer(folded):
+            if value == "shoe":
+                number = int(found.group(1))
+                if 16 <= number <= 21:
+                    return BABY, found.group(0)
+                if 22 <= number <= 34:
+                    return KIDS, found.group(0)
+            elif value == "height":
+                age = _height_age(int(found.group(1)))
+                if age:
+                    return age, found.group(0)
+            else:
+                low, high = int(found.group(1)), int(found.group(2))
+                age = _height_age(high)
+                if age and high - low == 6 and _height_age(low):
+                    return age, found.group(0)
+    if size_field:
+        for found in _FIELD_HEIGHT.finditer(folded):
+            age = _height_age(int(found.group(1)))
+            if age:
+                return age, found.group(0)
         stripped = folded.strip()
         if stripped.isdigit():
             number = int(stripped)
@@ -396,6 +481,9 @@ def decide_audience(
         elif len(allowed_a) == 1:
             age, age_conf = next(iter(allowed_a)), 0.9
             notes.append(f"node allows only {age}")
+        elif text.weak_age and text.weak_age[0][0] in allowed_a:
+            (age, word), age_conf = text.weak_age[0], 0.6
+            notes.append(f"text '{word}' → {age} (weak)")
         elif ADULT in allowed_a and allowed_ages is not None:
             age, age_conf = ADULT, 0.4
             notes.append("nothing said: adult by default")
@@ -422,6 +510,7 @@ def extract_audience(
     allowed_who: frozenset[str] | None = None,
     allowed_ages: frozenset[str] | None = None,
     brand_spans: Sequence[tuple[int, int]] = (),
+    body_sizes: bool = True,
 ) -> Audience:
     """Return who and age of one product (pure; never raises on any strings).
 
@@ -429,11 +518,13 @@ def extract_audience(
         gender_text: the feed's gender column.
         title: the title (raw; folded here).
         category_path: the retailer's own category path.
-        description: the description, read only when title and path say nothing.
+        description: the description, read for what title, path and size leave open.
         size: the size field.
         allowed_who: ``tree.who(node)`` or None when no node is known.
         allowed_ages: ``tree.ages(node)`` or None.
         brand_spans: spans of the brand in the folded title, removed before reading it.
+        body_sizes: the node is sized by the body (:func:`is_body_sized`; True when unknown):
+            heights and shoe sizes may say kids or baby.
     """
     folded_title = blank_spans(fold(title), brand_spans)
     return extract_audience_folded(
@@ -444,6 +535,7 @@ def extract_audience(
         size=size,
         allowed_who=allowed_who,
         allowed_ages=allowed_ages,
+        body_sizes=body_sizes,
     )
 
 
@@ -454,9 +546,18 @@ def _column_cues(gender_text: str) -> Cues:
 
 
 @lru_cache(maxsize=4096)
-def _size_facts(size: str) -> tuple[str, tuple[str, str] | None]:
+def _size_facts(size: str, body_sizes: bool) -> tuple[str, tuple[str, str] | None]:
     folded = fold(size)
-    return folded, age_from_size(folded, bare_numbers=True)
+    return folded, age_from_size(folded, size_field=True, body_sizes=body_sizes)
+
+
+@lru_cache(maxsize=4096)
+def _path_cues(folded_path: str) -> Cues:
+    # Retailer category paths repeat across a feed: read each once.
+    return read_cues(folded_path)
+
+
+_NO_CUES = Cues()
 
 
 def extract_audience_folded(
@@ -468,23 +569,43 @@ def extract_audience_folded(
     size: str,
     allowed_who: frozenset[str] | None,
     allowed_ages: frozenset[str] | None,
+    body_sizes: bool = True,
 ) -> Audience:
-    """As :func:`extract_audience`, with title, path and description already folded."""
-    column = _column_cues(gender_text) if gender_text else Cues()
-    folded_size, size_age = _size_facts(size) if size else ("", None)
-    text = read_cues(f"{folded_title} {folded_path} {folded_size}".strip())
-    if folded_description and not text.who:
-        # The description speaks for whatever the title and path leave open: a baby hat whose
-        # title says only "baby" is for girls when the description says "for baby girls".
+    """As :func:`extract_audience`, with title, path and description already folded.
+
+    Who comes from the title and the path together, else from the description. Age comes from
+    the most product-specific source that says one: the title, then the size, then the path
+    (a path like "Enfant / Sécurité bébé" names a shop aisle, not this product), then the
+    description.
+    """
+    column = _column_cues(gender_text) if gender_text else _NO_CUES
+    folded_size, size_age = _size_facts(size, body_sizes) if size else ("", None)
+    title = read_cues(f"{folded_title} {folded_size}") if folded_size else read_cues(folded_title)
+    path = _path_cues(folded_path) if folded_path else _NO_CUES
+    who = title.who + path.who
+    weak_who = title.weak_who + path.weak_who
+    weak_age = title.weak_age + path.weak_age
+    age = title.age
+    if not age:
+        if size_age is None:
+            size_age = age_from_size(folded_title, body_sizes=body_sizes)
+        if size_age is not None and (allowed_ages is None or size_age[0] in allowed_ages):
+            age = (size_age,)
+        else:
+            age = path.age
+    if folded_description and (not who or not age):
+        # The description speaks for whatever the rest leaves open: a baby hat whose title
+        # says only "baby" is for girls when the description says "for baby girls".
         described = read_cues(folded_description)
-        text = Cues(described.who, text.age or described.age, text.weak_who + described.weak_who)
-    if size_age is None:
-        size_age = age_from_size(folded_title)
+        who = who or described.who
+        age = age or described.age
+        weak_who += described.weak_who
+        weak_age += described.weak_age
     return decide_audience(
         allowed_who=allowed_who,
         allowed_ages=allowed_ages,
         column=column,
-        text=text,
-        size_age=size_age,
+        text=Cues(who, age, weak_who, weak_age),
+        size_age=None,
         column_text=" ".join(gender_text.split()),
     )
