@@ -73,3 +73,29 @@ def test_unsupported_settings_fall_back_to_the_vectorizer() -> None:
     assert fast_transformer(stemmed) is None
     upper = TfidfVectorizer(analyzer="char_wb", lowercase=False).fit(TRAIN)
     assert fast_transformer(upper) is None
+
+
+def test_fitting_on_a_sample_transforms_every_row_like_the_sample_fitted_vectorizer() -> None:
+    from catmap.classify.features import ProductFeaturizer, ProductTexts
+
+    titles = [f"{t} {i % 7}" for i, t in enumerate(TRAIN * 6)]
+    texts = ProductTexts(
+        titles, ["A > B"] * len(titles), ["Kestrel"] * len(titles), [""] * len(titles)
+    )
+    featurizer = ProductFeaturizer(min_df=1, fit_sample=10)
+    matrix = featurizer.fit_transform(texts)
+    assert matrix.shape[0] == len(titles)
+    # The stacked training matrix is what transform() gives with the learned vocabularies.
+    assert np.allclose(matrix.toarray(), featurizer.transform(texts).toarray(), atol=1e-6)
+    with pytest.raises(ValueError, match="fit_sample"):
+        ProductFeaturizer(fit_sample=0).fit(texts)
+
+
+def test_class_cap_keeps_at_most_the_cap_of_each_label_and_every_small_class_whole() -> None:
+    from catmap.classify.model import _cap_per_class
+
+    labels = ["a"] * 10 + ["b"] * 3 + ["c"] * 7
+    keep = _cap_per_class(labels, 4, np.random.default_rng(0))
+    kept = [labels[i] for i in keep]
+    assert kept.count("a") == 4 and kept.count("b") == 3 and kept.count("c") == 4
+    assert list(keep) == sorted(set(keep.tolist()))

@@ -41,6 +41,8 @@ FIELD_BLOCKS: tuple[tuple[str, str, dict[str, Any]], ...] = (
 _REPEATED_FIELDS = frozenset({"path", "brand", "description"})
 # Keeps single letters and digits ("3", "xl" stays whole): sizes and counts are signal here.
 _TOKEN_PATTERN = r"(?u)\b\w+\b"
+# Rows transformed at once when fitting on many products (bounds the temporary matrices).
+_FIT_CHUNK = 50_000
 
 
 @dataclass(frozen=True, slots=True)
@@ -96,6 +98,9 @@ class ProductFeaturizer:
         weights: block name -> weight (missing blocks weigh 1.0; 0 drops the block).
         min_df: a term must occur in at least this many training products.
         max_features: per block, keep at most this many terms (most frequent first); None = all.
+        fit_sample: with more products than this, each block's vocabulary and idf are learned
+            from a seeded sample of this size (the analysers are Python; the sample holds every
+            term that matters), and all products are then transformed by the fast path.
 
     Attributes:
         vectorizers_: block name -> fitted TfidfVectorizer (only blocks with weight > 0).
@@ -108,10 +113,12 @@ class ProductFeaturizer:
         weights: dict[str, float] | None = None,
         min_df: int = 2,
         max_features: int | None = 400_000,
+        fit_sample: int = 200_000,
     ) -> None:
         self.weights = weights
         self.min_df = min_df
         self.max_features = max_features
+        self.fit_sample = fit_sample
 
     def _weight(self, block: str) -> float:
         return float((self.weights or {}).get(block, 1.0))
@@ -154,6 +161,8 @@ class ProductFeaturizer:
             raise ValueError("cannot fit the featurizer on no products")
         if self.min_df < 1:
             raise ValueError("min_df must be at least 1")
+        if self.fit_sample < 1:
+            raise ValueError("fit_sample must be at least 1")
         if any(w < 0 for w in (self.weights or {}).values()):
             raise ValueError("feature weights must be >= 0")
         vectorizers: dict[str, TfidfVectorizer] = {}
@@ -164,7 +173,27 @@ class ProductFeaturizer:
             values = texts.field(field_name)
             vectorizer = self.make_vectorizer(block, self.min_df, self.max_features)
             try:
-                matrix = vectorizer.fit_transform(values)
+                if len(values) > self.fit_sample:
+                    # Vocabulary and idf from a seeded sample; every row through the fast path.
+                    sample = np.random.default_rng(0).choice(
+                        len(values), self.fit_sample, replace=False
+                    )
+                    vectorizer.fit([values[i] for i in np.sort(sample)])
+                    fast = self._fast(block, vectorizer)
+                    transform = fast.transform if fast is not None else vectorizer.transform
+                    distinct = field_name in _REPEATED_FIELDS
+                    matrix = sp.vstack(
+                        [
+                            _transform_distinct(fast or vectorizer, values[i : i + _FIT_CHUNK])
+                            if distinct
+                            else transform(values[i : i + _FIT_CHUNK])
+                            for i in range(0, len(values), _FIT_CHUNK)
+                        ],
+                        format="csr",
+                        dtype=np.float32,
+                    )
+                else:
+                    matrix = vectorizer.fit_transform(values)
             except ValueError:
                 # Empty vocabulary (e.g. a feed with no brands): fall back to a lone placeholder
                 # term so the block keeps its place and contributes nothing.

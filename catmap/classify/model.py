@@ -46,6 +46,8 @@ KEYWORD_WEIGHT_GRID = (0.0, 0.05, 0.1, 0.2, 0.3, 0.4, 0.5, 0.6, 0.7, 0.8, 0.9, 0
 DEPARTMENT_FLOOR = 1e-3
 # Sharpness of the keyword similarities inside a department, in the blend.
 KEYWORD_BLEND_TEMPERATURE = 0.04
+# At most this many validation products calibrate (a seeded sample of larger sets).
+CALIBRATION_MAX = 30_000
 _FLOOR = 1e-12
 
 Array = np.ndarray[Any, Any]
@@ -78,6 +80,11 @@ class CategoryModel:
         max_features: per block vocabulary cap.
         prune_below: weights with a smaller absolute value are dropped.
         keyword_weight: fixed keyword blend weight; None = chosen on validation data.
+        max_per_class: train on at most this many products of one class (a seeded sample;
+            None = all): past a few hundred examples a linear class barely moves, while the
+            training time grows with every row.
+        department_sample: the department classifier learns from at most this many of the
+            training products (a seeded sample; None = all).
         random_state: seed.
         n_jobs: threads training the per-department classifiers.
 
@@ -108,6 +115,8 @@ class CategoryModel:
         max_features: int | None = 400_000,
         prune_below: float = 0.01,
         keyword_weight: float | None = None,
+        max_per_class: int | None = 500,
+        department_sample: int | None = 300_000,
         random_state: int = 0,
         n_jobs: int = 2,
     ) -> None:
@@ -120,6 +129,8 @@ class CategoryModel:
         self.max_features = max_features
         self.prune_below = prune_below
         self.keyword_weight = keyword_weight
+        self.max_per_class = max_per_class
+        self.department_sample = department_sample
         self.random_state = random_state
         self.n_jobs = n_jobs
 
@@ -153,6 +164,15 @@ class CategoryModel:
             self.tree[label]  # raises UnknownNode
         if len(set(labels)) < 2:
             raise ValueError("training needs products of at least two different nodes")
+        for name in ("max_per_class", "department_sample"):
+            value = getattr(self, name)
+            if value is not None and value < 1:
+                raise ValueError(f"{name} must be at least 1 (or None)")
+        rng = np.random.default_rng(self.random_state)
+        if self.max_per_class is not None:
+            keep = _cap_per_class(labels, self.max_per_class, rng)
+            if len(keep) < len(labels):
+                texts, labels = texts.subset(keep), [labels[i] for i in keep]
 
         leaves = [node.id for node in self.tree.leaves()]
         extra = sorted(set(labels) - set(leaves))
@@ -173,7 +193,10 @@ class CategoryModel:
 
         self.groups_ = np.array(groups)
         if len(groups) > 1:
-            coef, intercept = self._train_level(features, row_group, len(groups))
+            rows = np.arange(len(labels))
+            if self.department_sample is not None and len(rows) > self.department_sample:
+                rows = np.sort(rng.choice(len(rows), self.department_sample, replace=False))
+            coef, intercept = self._train_level(features[rows], row_group[rows], len(groups))
         else:
             coef = sp.csr_matrix((n_features, 1), dtype=np.float32)
             intercept = np.zeros(1, dtype=np.float32)
@@ -321,8 +344,10 @@ class CategoryModel:
         total = np.zeros(parts.n, dtype=np.float64)
         values = []
         for block in parts.blocks:
-            mix = block.linear if block.keyword is None or w == 0 else (
-                (1.0 - w) * block.linear + w * block.keyword
+            mix = (
+                block.linear
+                if block.keyword is None or w == 0
+                else ((1.0 - w) * block.linear + w * block.keyword)
             )
             powered = np.maximum(mix, _FLOOR) ** inv_t
             total[block.rows] += powered.sum(axis=1)
@@ -431,6 +456,8 @@ class CategoryModel:
     def calibrate(self, texts: ProductTexts, labels: Sequence[str]) -> CategoryModel:
         """Fit the temperatures and the keyword weight on held-out data; record metrics.
 
+        With more than :data:`CALIBRATION_MAX` products, a seeded sample of that size is used.
+
         Args:
             texts: validation product texts.
             labels: their node ids.
@@ -441,6 +468,14 @@ class CategoryModel:
         self._check()
         if len(texts) == 0:
             return self
+        if len(texts) > CALIBRATION_MAX:
+            # Dense (products × classes) arrays are made here: a seeded sample keeps them small.
+            keep = np.sort(
+                np.random.default_rng(self.random_state).choice(
+                    len(texts), CALIBRATION_MAX, replace=False
+                )
+            )
+            texts, labels = texts.subset(keep), [labels[i] for i in keep]
         column = {c: i for i, c in enumerate(self.classes_.tolist())}
         linear_pos = {int(c): i for i, c in enumerate(self.linear_classes_)}
         y = np.array([column.get(str(label), -1) for label in labels])
@@ -599,6 +634,16 @@ def _padded(parts: _Parts, layout: _Layout) -> tuple[Array, Array, Array]:
         keyword[rows, positions] = block.linear if block.keyword is None else block.keyword
         filled[block.rows] += len(cols)
     return columns, linear, keyword
+
+
+def _cap_per_class(labels: Sequence[str], cap: int, rng: np.random.Generator) -> Array:
+    """Return sorted row numbers keeping at most ``cap`` random rows of each label."""
+    _, codes = np.unique(np.asarray(labels), return_inverse=True)
+    order = np.lexsort((rng.random(len(codes)), codes))
+    sorted_codes = codes[order]
+    starts = np.searchsorted(sorted_codes, sorted_codes, side="left")
+    rank = np.arange(len(order)) - starts
+    return np.sort(order[rank < cap])
 
 
 def _fit_block_temperature(klass: Array, y_lin: Array, class_group: Array) -> float:

@@ -124,6 +124,8 @@ def save_model(
             "min_df": model.min_df,
             "max_features": model.max_features,
             "prune_below": model.prune_below,
+            "max_per_class": model.max_per_class,
+            "department_sample": model.department_sample,
             "random_state": model.random_state,
         },
         "feature_weights": {
@@ -212,6 +214,8 @@ def load_model(folder: str | Path, tree: CategoryTree) -> tuple[CategoryModel, d
             max_features=settings["max_features"],
             prune_below=settings["prune_below"],
             keyword_weight=manifest["keyword_weight"],
+            max_per_class=settings.get("max_per_class"),
+            department_sample=settings.get("department_sample"),
             random_state=settings["random_state"],
         )
         featurizer = ProductFeaturizer(

@@ -10,12 +10,13 @@ from __future__ import annotations
 import hashlib
 import random
 import time
-from collections.abc import Callable, Iterable, Sequence
+from collections.abc import Callable, Iterable, Iterator, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
 import numpy as np
+import scipy.sparse as sp
 
 from catmap.classify.consensus import MIN_PRODUCTS
 from catmap.classify.features import ProductTexts, product_texts
@@ -89,28 +90,17 @@ def feed_profile(feed_path: Path, project: Path) -> tuple[FeedProfile, Path]:
     return profile, saved
 
 
-def read_labelled(
+def _labelled_stream(
     feeds: Sequence[Path],
     *,
     tree: CategoryTree,
     project: Path,
-    label_column: str = "gold_node",
-    random_state: int = 0,
-) -> LabelledData:
-    """Read labelled feeds into train / valid / test lists of (product, node id).
-
-    Args:
-        feeds: feed files with a column of node ids.
-        tree: labels must be nodes of this tree (others are counted and skipped).
-        project: the project folder (feed profiles are reused / saved there).
-        label_column: the column holding node ids.
-        random_state: seed of the 90/10 split for feeds without a ``split`` column.
-
-    Raises:
-        InputError: a feed without the label column.
-    """
-    data = LabelledData()
-    digest = hashlib.sha256()
+    label_column: str,
+    random_state: int,
+    counts: dict[str, int],
+    digest: Any,
+) -> Iterator[tuple[Product, str, str]]:
+    """Yield (product, node id, split) of every labelled product, counting the skipped ones."""
     rng = random.Random(random_state)
     for feed_path in feeds:
         profile, saved = feed_profile(feed_path, project)
@@ -133,18 +123,120 @@ def read_labelled(
                 continue
             label = item.extra.get(label_column, "").strip()
             if not label:
-                data.unlabelled += 1
+                counts["unlabelled"] += 1
                 continue
             if label not in tree:
-                data.unknown_labels += 1
+                counts["unknown_labels"] += 1
                 continue
             digest.update(f"{item.product_id}\0{item.title}\0{label}\n".encode())
             split = item.extra.get("split", "").strip().lower()
             if split not in ("train", "valid", "test"):
                 split = "valid" if rng.random() < VALID_SHARE else "train"
-            getattr(data, split).append((item, label))
+            yield item, label, split
+
+
+def read_labelled(
+    feeds: Sequence[Path],
+    *,
+    tree: CategoryTree,
+    project: Path,
+    label_column: str = "gold_node",
+    random_state: int = 0,
+) -> LabelledData:
+    """Read labelled feeds into train / valid / test lists of (product, node id).
+
+    Args:
+        feeds: feed files with a column of node ids.
+        tree: labels must be nodes of this tree (others are counted and skipped).
+        project: the project folder (feed profiles are reused / saved there).
+        label_column: the column holding node ids.
+        random_state: seed of the 90/10 split for feeds without a ``split`` column.
+
+    Raises:
+        InputError: a feed without the label column.
+    """
+    data = LabelledData()
+    digest = hashlib.sha256()
+    counts = {"unlabelled": 0, "unknown_labels": 0}
+    for item, label, split in _labelled_stream(
+        feeds,
+        tree=tree,
+        project=project,
+        label_column=label_column,
+        random_state=random_state,
+        counts=counts,
+        digest=digest,
+    ):
+        getattr(data, split).append((item, label))
+    data.unlabelled, data.unknown_labels = counts["unlabelled"], counts["unknown_labels"]
     data.fingerprint = digest.hexdigest()
     return data
+
+
+@dataclass
+class _LabelledTexts:
+    """What training keeps of each labelled product: the four texts and the node id.
+
+    Products themselves are not kept (a million of them would take gigabytes); repeated texts
+    (paths, brands, boilerplate descriptions) share one string object.
+    """
+
+    title: list[str] = field(default_factory=list)
+    path: list[str] = field(default_factory=list)
+    brand: list[str] = field(default_factory=list)
+    description: list[str] = field(default_factory=list)
+    labels: list[str] = field(default_factory=list)
+
+    def add(self, product: Product, label: str, shared: dict[str, str]) -> None:
+        texts = product_texts([product])
+        self.title.append(texts.title[0])
+        self.path.append(shared.setdefault(texts.path[0], texts.path[0]))
+        self.brand.append(shared.setdefault(texts.brand[0], texts.brand[0]))
+        self.description.append(shared.setdefault(texts.description[0], texts.description[0]))
+        self.labels.append(shared.setdefault(label, label))
+
+    def texts(self) -> ProductTexts:
+        return ProductTexts(self.title, self.path, self.brand, self.description)
+
+
+def _read_training_texts(
+    feeds: Sequence[Path],
+    *,
+    tree: CategoryTree,
+    project: Path,
+    label_column: str,
+    extra_examples: Iterable[tuple[Product, str]],
+) -> tuple[_LabelledTexts, _LabelledTexts, dict[str, int], str]:
+    """Stream labelled feeds into compact train / valid texts (test rows are not kept)."""
+    train, valid = _LabelledTexts(), _LabelledTexts()
+    shared: dict[str, str] = {}
+    digest = hashlib.sha256()
+    counts = {"unlabelled": 0, "unknown_labels": 0}
+    for item, label, split in _labelled_stream(
+        feeds,
+        tree=tree,
+        project=project,
+        label_column=label_column,
+        random_state=0,
+        counts=counts,
+        digest=digest,
+    ):
+        if split == "train":
+            train.add(item, label, shared)
+        elif split == "valid":
+            valid.add(item, label, shared)
+    if not valid.labels:
+        # No validation rows: calibrate on the first tenth of the training rows.
+        for i in range(max(1, len(train.labels) // 10)):
+            if i < len(train.labels):
+                valid.title.append(train.title[i])
+                valid.path.append(train.path[i])
+                valid.brand.append(train.brand[i])
+                valid.description.append(train.description[i])
+                valid.labels.append(train.labels[i])
+    for product, label in extra_examples:
+        train.add(product, label, shared)
+    return train, valid, counts, digest.hexdigest()
 
 
 def consensus_blend(
@@ -182,17 +274,43 @@ def consensus_blend(
 def _choose_consensus_weight(
     model: CategoryModel, texts: ProductTexts, labels: Sequence[str]
 ) -> tuple[float, dict[str, float]]:
+    """Choose the path-consensus weight by log-likelihood on validation data.
+
+    Sparse throughout (the classes of each product's likely departments), so that a large
+    validation set never becomes a dense (products × classes) matrix.
+    """
     column = {c: i for i, c in enumerate(model.classes_.tolist())}
     y = np.array([column.get(label, -1) for label in labels])
-    p = model.predict_proba(texts)
+    p = model.predict_sparse(texts).tocsr()
+    n, width = p.shape
+    best = np.asarray(p.argmax(axis=1)).ravel()
+    groups: dict[str, list[int]] = {}
+    for row, path in enumerate(texts.path):
+        if path:
+            groups.setdefault(path, []).append(row)
+    share_rows, share_cols, share_vals = [], [], []
+    blended_rows = np.zeros(n, dtype=bool)
+    for rows in groups.values():
+        if len(rows) < MIN_PRODUCTS:
+            continue
+        counts = np.bincount(best[rows], minlength=width)
+        nodes = np.flatnonzero(counts)
+        for row in rows:
+            share_rows.extend([row] * len(nodes))
+            share_cols.extend(nodes.tolist())
+            share_vals.extend((counts[nodes] / len(rows)).tolist())
+        blended_rows[rows] = True
+    shares = sp.csr_matrix((share_vals, (share_rows, share_cols)), shape=(n, width))
+    keep = sp.diags(np.where(blended_rows, 1.0, 0.0))
+    known = y >= 0
     best_w, best_nll, best_acc = 0.0, np.inf, 0.0
     for w in CONSENSUS_WEIGHT_GRID:
-        blended = consensus_blend(p, texts.path, w)
-        picked = blended[np.arange(len(y)), np.maximum(y, 0)]
-        nll = float(-np.log(np.maximum(picked, 1e-12))[y >= 0].mean())
+        blended = (p - w * (keep @ p) + w * shares).tocsr()
+        picked = np.asarray(blended[np.flatnonzero(known), y[known]]).ravel()
+        nll = float(-np.log(np.maximum(picked, 1e-12)).mean()) if known.any() else 0.0
         if nll < best_nll:
             best_w, best_nll = w, nll
-            best_acc = float((blended.argmax(axis=1) == y).mean())
+            best_acc = float((np.asarray(blended.argmax(axis=1)).ravel() == y).mean())
     return best_w, {"valid_accuracy_with_consensus": best_acc}
 
 
@@ -233,23 +351,24 @@ def train_model(
     stage = on_stage or (lambda _text: None)
     started = time.perf_counter()
     stage("reading labelled products")
-    data = read_labelled(feeds, tree=tree, project=project, label_column=label_column)
-    train = data.train + list(extra_examples)
-    if len({label for _, label in train}) < 2:
+    train, valid, counts, fingerprint = _read_training_texts(
+        feeds, tree=tree, project=project, label_column=label_column, extra_examples=extra_examples
+    )
+    labels = train.labels
+    if len(set(labels)) < 2:
         raise InputError(
             "training needs labelled products of at least two different nodes",
             path=feeds[0] if feeds else None,
             field=label_column,
             hint="check the label column holds node ids of the tree",
         )
-    texts = product_texts([p for p, _ in train])
-    labels = [label for _, label in train]
-    stage(f"training on {len(train):,} products")
+    texts = train.texts()
+    stage(f"training on {len(labels):,} products")
     model = CategoryModel(tree=tree, **(model_options or {})).fit(texts, labels)
-    valid = data.valid or data.train[: max(1, len(data.train) // 10)]
-    stage(f"calibrating on {len(valid):,} products")
-    valid_texts = product_texts([p for p, _ in valid])
-    valid_labels = [label for _, label in valid]
+    del texts
+    stage(f"calibrating on {len(valid.labels):,} products")
+    valid_texts = valid.texts()
+    valid_labels = valid.labels
     model.calibrate(valid_texts, valid_labels)
     consensus_weight, consensus_metrics = _choose_consensus_weight(model, valid_texts, valid_labels)
     model.metrics_.update(consensus_metrics)
@@ -260,19 +379,19 @@ def train_model(
         model_dir,
         extra={
             "consensus_weight": consensus_weight,
-            "training_data_fingerprint": data.fingerprint,
-            "training_products": len(train),
+            "training_data_fingerprint": fingerprint,
+            "training_products": len(labels),
             "training_seconds": round(elapsed, 2),
             "label_column": label_column,
         },
     )
     return TrainingReport(
         feeds=[str(f) for f in feeds],
-        products_train=len(train),
-        products_valid=len(valid),
+        products_train=len(labels),
+        products_valid=len(valid.labels),
         classes=len(set(labels)),
-        unknown_labels=data.unknown_labels,
-        unlabelled=data.unlabelled,
+        unknown_labels=counts["unknown_labels"],
+        unlabelled=counts["unlabelled"],
         metrics={**model.metrics_, "consensus_weight": consensus_weight},
         training_seconds=round(elapsed, 2),
         model_dir=str(model_dir),
