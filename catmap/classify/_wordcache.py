@@ -30,6 +30,29 @@ __all__ = ["WordCachedTfidf", "WordNgramTfidf", "fast_transformer"]
 
 # Past this many cached words the cache starts again (bounded memory on endless feeds).
 MAX_CACHED_WORDS = 1_000_000
+# n-gram range -> the n-grams of the words most recently added to any cache of that range.
+_RECENT_GRAMS: dict[tuple[int, int], dict[str, list[str]]] = {}
+
+
+_LAST_SPLIT: list[Any] = [None, None]
+
+
+def _split_words(texts: Sequence[str]) -> tuple[list[str], list[str], Any]:
+    """Return every text's words in a row, the distinct words, and the per-text offsets.
+
+    The model's title n-grams and the keyword mapper's read the same list of titles one after
+    the other: the split of the latest list object is kept for the second reader.
+    """
+    if _LAST_SPLIT[0] is texts and _LAST_SPLIT[1][3] == len(texts):
+        split: tuple[list[str], list[str], Any] = _LAST_SPLIT[1][:3]
+        return split
+    words = [text.lower().split() for text in texts]
+    flat = list(chain.from_iterable(words))
+    indptr = np.zeros(len(words) + 1, dtype=np.int64)
+    np.cumsum(np.fromiter(map(len, words), dtype=np.int64, count=len(words)), out=indptr[1:])
+    distinct = list(dict.fromkeys(flat))
+    _LAST_SPLIT[0], _LAST_SPLIT[1] = texts, (flat, distinct, indptr, len(texts))
+    return flat, distinct, indptr
 
 
 class WordCachedTfidf:
@@ -69,7 +92,12 @@ class WordCachedTfidf:
         return grams
 
     def _add_words(self, words: Sequence[str]) -> None:
-        grams = [self._ngrams(word) for word in words]
+        # Two caches (the model's title n-grams, the keyword mapper's) meet the same new words
+        # in the same batch: the n-grams of the latest batch are kept for the other one.
+        recent = _RECENT_GRAMS.setdefault((self._low, self._high), {})
+        grams = [recent.get(word) or self._ngrams(word) for word in words]
+        recent.clear()
+        recent.update(zip(words, grams, strict=True))
         flat = list(chain.from_iterable(grams))
         ids = np.fromiter(
             map(self._vocabulary.get, flat, repeat(-1)), dtype=np.int64, count=len(flat)
@@ -96,25 +124,22 @@ class WordCachedTfidf:
 
     def counts(self, texts: Sequence[str]) -> sp.csr_matrix:
         """Return the (texts, features) n-gram count matrix (float32 CSR)."""
-        words = [text.lower().split() for text in texts]
-        flat = list(chain.from_iterable(words))
-        if len(self._word_row) + len(flat) > self.max_words:
+        flat, distinct, indptr = _split_words(texts)
+        if len(self._word_row) + len(distinct) > self.max_words:
             self._reset()
         row_of = self._word_row
-        new = [w for w in dict.fromkeys(flat) if w not in row_of]
+        new = [w for w in distinct if w not in row_of]
         if new:
             self._add_words(new)
         rows = np.fromiter(map(row_of.__getitem__, flat), dtype=np.int64, count=len(flat))
-        indptr = np.zeros(len(words) + 1, dtype=np.int64)
-        np.cumsum(np.fromiter(map(len, words), dtype=np.int64, count=len(words)), out=indptr[1:])
         cached = self._matrix()
         # (texts × cached words) occurrence counts, times (cached words × n-grams): per-text sums.
         pick = sp.csr_matrix(
             (np.ones(len(flat), dtype=np.float32), rows, indptr),
-            shape=(len(words), cached.shape[0]),
+            shape=(len(texts), cached.shape[0]),
         )
+        # A sparse product has no duplicate entries; its column order is left as it comes.
         result: sp.csr_matrix = (pick @ cached).tocsr()
-        result.sum_duplicates()
         return result
 
     def transform(self, texts: Sequence[str]) -> sp.csr_matrix:

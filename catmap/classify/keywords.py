@@ -128,12 +128,21 @@ class KeywordMapper:
                 count=len(texts),
             )
             paths = cache.transform(list(index))[rows]
-            query = query + paths * np.float32(self.path_weight)
-        norms = np.sqrt(np.asarray(query.multiply(query).sum(axis=1)).ravel())
+            paths.data *= np.float32(self.path_weight)
+            # title + weighted path, summed entry by entry: both side by side, then the path's
+            # columns folded onto the title's (cheaper than a sparse matrix addition).
+            width = query.shape[1]
+            query = sp.hstack([query, paths], format="csr", dtype=np.float32)
+            query.indices[query.indices >= width] -= width
+            query = sp.csr_matrix(
+                (query.data, query.indices, query.indptr), shape=(len(texts), width)
+            )
+            query.sum_duplicates()
+        row = np.repeat(np.arange(query.shape[0]), np.diff(query.indptr))
+        norms = np.sqrt(np.bincount(row, weights=query.data * query.data, minlength=len(texts)))
         norms[norms == 0] = 1.0
-        result: sp.csr_matrix = sp.csr_matrix(
-            sp.diags((1.0 / norms).astype(np.float32)) @ query, dtype=np.float32
-        )
+        query.data *= (1.0 / norms[row]).astype(np.float32)
+        result: sp.csr_matrix = query
         return result
 
     def similarities(self, texts: ProductTexts) -> np.ndarray[Any, Any]:
