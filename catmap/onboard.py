@@ -13,8 +13,16 @@ hierarchical back-off), extracts attributes, and saves every product into the pr
   queue holds only what is still uncertain.
 
 The accept threshold comes from :func:`catmap.decide.choose_threshold` on held-out labelled
-data: the model's validation split mapped exactly as a feed is mapped (same blend, consensus and
-back-off), saved once beside the model (``validation-confidences.npz``) and reused.
+data, mapped exactly as a feed is mapped (same blend, consensus and back-off), saved once beside
+the model and reused. Learn-then-Test bounds the error on data exchangeable with that
+calibration data. New feeds come from new retailers, so labelled products of a retailer the
+model never trained on are a calibration source (``OnboardOptions.validation_feed``; every
+labelled row of a feed without a ``split`` column calibrates); the model's own validation split
+of the reference catalog is another (the retailers it trained on). No single retailer stands
+for all new ones (on the demo, Oskelund's feed turned out easier than the reference's valid
+split), so with several sources the threshold must pass on each: the strictest is kept. By
+default the demo's two are used (reference valid split + Oskelund). Either way the seeded audit
+sample measures each feed's real error.
 
 Running onboard again on the same feed updates in place: the store upserts by product id, review
 items are unique per product and reason, and a person's decision is never overwritten. A run
@@ -61,6 +69,8 @@ __all__ = [
     "ValidationPredictions",
     "GoldCheck",
     "accept_threshold",
+    "calibration_sources",
+    "default_calibration_feeds",
     "check_against_gold",
     "default_model_dir",
     "default_rules_path",
@@ -77,6 +87,8 @@ CHUNK_SIZE = 20_000
 DEFAULT_BACKOFF_THRESHOLD = 0.5
 ALTERNATIVES = 3
 VALIDATION_FILE = "validation-confidences.npz"
+# The demo's labelled feed from a retailer (Oskelund) that is not in the reference catalog.
+OUTSIDE_RETAILER_FEED = "oskelund_labelled"
 DEFAULT_AUDIT_SHARE = 0.02
 # An extracted brand below this confidence that disagrees with the feed's brand field is worth a
 # look (common practice, no source).
@@ -194,7 +206,13 @@ def acceptance_score(mapping: Mapping) -> float:
 
 @dataclass(frozen=True, slots=True)
 class ValidationPredictions:
-    """Held-out mappings of the model: acceptance score and whether the node was right."""
+    """Held-out mappings of the model: acceptance score and whether the node was right.
+
+    Attributes:
+        scores: acceptance score per calibration product.
+        correct: whether the mapped node was the labelled one.
+        source: which data, in words (what the guarantee rests on).
+    """
 
     scores: np.ndarray[Any, Any]
     correct: np.ndarray[Any, Any]
@@ -211,78 +229,229 @@ def _reference_feed() -> Path:
     return ensure_demo_world(root).reference
 
 
+def _default_calibration_feed() -> Path:
+    """The demo's labelled feed of a retailer outside the reference catalog, if present."""
+    from catmap.demo import demo_paths
+
+    root = Path(__file__).resolve().parent.parent / "feeds_demo"
+    outside = demo_paths(root).feeds.get(OUTSIDE_RETAILER_FEED)
+    return outside if outside is not None and outside.is_file() else _reference_feed()
+
+
+def _calibration_rows(
+    feeds: Sequence[Path], tree: CategoryTree, project: Path
+) -> tuple[list[tuple[Product, str]], list[str]]:
+    """Labelled rows to calibrate on, and a description of each feed's part.
+
+    A feed with a ``split`` column gives its ``valid`` rows only (the others may have trained
+    the model); a feed without one is taken to be outside the training data and gives every
+    labelled row.
+    """
+    rows: list[tuple[Product, str]] = []
+    described: list[str] = []
+    for feed in feeds:
+        data = read_labelled([feed], tree=tree, project=project)
+        everything = data.train + data.valid + data.test
+        if any(product.extra.get("split") for product, _label in everything):
+            rows.extend(data.valid)
+            described.append(
+                f"{len(data.valid):,} split=valid products of {feed} (held out from "
+                "training, but from the retailers the model trained on)"
+            )
+        else:
+            rows.extend(everything)
+            retailers = sorted(
+                {product.extra.get("retailer", "") for product, _ in everything} - {""}
+            )
+            whose = f" (retailer {', '.join(retailers[:3])})" if retailers else ""
+            described.append(
+                f"{len(everything):,} labelled products of {feed}{whose}, "
+                "a feed the model was not trained on"
+            )
+    return rows, described
+
+
+def _cache_file(folder: Path, feeds: Sequence[Path] | None) -> Path:
+    if not feeds:
+        return folder / VALIDATION_FILE
+    stems = "+".join(feed_stem(feed) for feed in feeds)
+    return folder / f"calibration-{stems}.npz"
+
+
 def validation_predictions(
     mapper: FeedMapper,
     model_dir: str | Path,
     *,
     project: str | Path,
     labelled_feeds: Sequence[Path] | None = None,
+    as_default: bool = False,
 ) -> ValidationPredictions:
-    """Return the model's validation predictions, computing and caching them when missing.
+    """Return the model's held-out predictions, computing and caching them when missing.
 
-    The cache is ``validation-confidences.npz`` in the model folder, tied to the model by its
-    manifest's fingerprint: a retrained model gets new predictions.
+    The cache sits in the model folder, tied to the model by its manifest's fingerprint (a
+    retrained model gets new predictions): ``calibration-<feed>.npz`` for given feeds (tied to
+    their content too), ``validation-confidences.npz`` for the default, which is the demo's
+    labelled feed of a retailer outside the reference catalog, else the reference catalog's
+    valid split, unless ``as_default`` made other feeds the project's default.
 
     Args:
         mapper: the mapper built on the model (the same mapping as onboarding uses).
         model_dir: the model folder.
         project: the project folder (feed profiles of the labelled feeds are kept there).
-        labelled_feeds: feeds with ``gold_node`` and ``split`` columns (default: the demo
-            reference catalog, built when missing).
+        labelled_feeds: feeds with a ``gold_node`` column: one with a ``split`` column gives
+            its ``valid`` rows, one without gives every row (a feed the model was not trained
+            on, e.g. from another retailer). Default: see above.
+        as_default: also save the result as the default (what onboarding without a
+            validation feed uses from then on).
 
     Returns:
-        The scores and correctness of the validation products.
+        The scores and correctness of the calibration products.
 
     Raises:
-        ModelError: no labelled validation products are available.
+        ModelError: no labelled calibration products are available.
     """
     folder = Path(model_dir)
-    cache = folder / VALIDATION_FILE
-    stamp = file_fingerprint(folder / "manifest.json")
-    if cache.exists():
-        with np.load(cache, allow_pickle=False) as saved:
-            if str(saved["manifest"]) == stamp:
-                return ValidationPredictions(
-                    saved["scores"], saved["correct"].astype(bool), str(saved["source"])
-                )
-    feeds = list(labelled_feeds) if labelled_feeds else [_reference_feed()]
-    data = read_labelled(feeds, tree=mapper.tree, project=Path(project))
-    valid = data.valid
-    if not valid:
+    given = [Path(f) for f in labelled_feeds] if labelled_feeds else None
+    cache = _cache_file(folder, given)
+    model_stamp = file_fingerprint(folder / "manifest.json")
+    stamp = " ".join([model_stamp] + [file_fingerprint(feed) for feed in given or ()])
+    cached = _load_sources(cache, stamp)
+    if cached is not None and len(cached) == 1:
+        if as_default and given:
+            _save_sources(folder / VALIDATION_FILE, cached, model_stamp)
+        return cached[0]
+    feeds = given or [_default_calibration_feed()]
+    rows, described = _calibration_rows(feeds, mapper.tree, Path(project))
+    if not rows:
         raise ModelError(
-            "no labelled validation products to choose the accept threshold from",
+            "no labelled products to choose the accept threshold from",
             path=feeds[0],
-            hint="give a labelled feed with a split column holding 'valid' rows",
+            hint="give a labelled feed (gold_node column) the model was not trained on",
         )
     scores: list[float] = []
     correct: list[bool] = []
-    for start in range(0, len(valid), CHUNK_SIZE):
-        chunk = valid[start : start + CHUNK_SIZE]
+    for start in range(0, len(rows), CHUNK_SIZE):
+        chunk = rows[start : start + CHUNK_SIZE]
         for (_product, label), mapping in zip(
             chunk, mapper.map([p for p, _ in chunk]), strict=True
         ):
             scores.append(acceptance_score(mapping))
             correct.append(mapping.node_id == label)
-    source = ", ".join(str(f) for f in feeds)
+    source = "; ".join(described)
     result = ValidationPredictions(np.array(scores), np.array(correct, dtype=bool), source)
-    np.savez(
-        cache,
-        scores=result.scores,
-        correct=result.correct,
-        source=np.array(source),
-        manifest=np.array(stamp),
-    )
+    _save_sources(cache, [result], stamp)
+    if as_default and given:
+        _save_sources(folder / VALIDATION_FILE, [result], model_stamp)
     return result
 
 
+def _save_sources(path: Path, sources: Sequence[ValidationPredictions], stamp: str) -> None:
+    np.savez(
+        path,
+        scores=np.concatenate([v.scores for v in sources]),
+        correct=np.concatenate([v.correct for v in sources]),
+        sizes=np.array([len(v) for v in sources], dtype=np.int64),
+        sources=np.array([v.source for v in sources]),
+        manifest=np.array(stamp),
+    )
+
+
+def _load_sources(path: Path, stamp: str) -> list[ValidationPredictions] | None:
+    """Read saved calibration sources (None when missing or made for another model / data)."""
+    if not path.exists():
+        return None
+    with np.load(path, allow_pickle=False) as saved:
+        if str(saved["manifest"]) != stamp:
+            return None
+        scores, correct = saved["scores"], saved["correct"].astype(bool)
+        if "sizes" not in saved.files:  # one source, as saved before several were kept
+            return [ValidationPredictions(scores, correct, str(saved["source"]))]
+        result, start = [], 0
+        for size, source in zip(saved["sizes"].tolist(), saved["sources"].tolist(), strict=True):
+            part = slice(start, start + int(size))
+            result.append(ValidationPredictions(scores[part], correct[part], str(source)))
+            start += int(size)
+        return result
+
+
+def default_calibration_feeds() -> list[Path]:
+    """The demo's calibration feeds: the reference catalog and, when present, Oskelund's."""
+    feeds = [_reference_feed()]
+    outside = _default_calibration_feed()
+    if outside != feeds[0]:
+        feeds.append(outside)
+    return feeds
+
+
+def calibration_sources(
+    mapper: FeedMapper,
+    model_dir: str | Path,
+    *,
+    project: str | Path,
+    feeds: Sequence[Path] | None = None,
+    as_default: bool = False,
+) -> list[ValidationPredictions]:
+    """Return held-out predictions per calibration feed (each cached, see
+    :func:`validation_predictions`).
+
+    Without ``feeds``: the project's default sources (saved by ``as_default``), else
+    :func:`default_calibration_feeds`, which become the default.
+
+    Args:
+        mapper: the mapper built on the model.
+        model_dir: the model folder.
+        project: the project folder.
+        feeds: labelled feeds, one calibration source each.
+        as_default: make these the sources onboarding uses when given none.
+    """
+    folder = Path(model_dir)
+    model_stamp = file_fingerprint(folder / "manifest.json")
+    if not feeds:
+        saved = _load_sources(folder / VALIDATION_FILE, model_stamp)
+        if saved is not None:
+            return saved
+        feeds, as_default = default_calibration_feeds(), True
+    sources = [
+        validation_predictions(mapper, folder, project=project, labelled_feeds=[Path(feed)])
+        for feed in feeds
+    ]
+    if as_default:
+        _save_sources(folder / VALIDATION_FILE, sources, model_stamp)
+    return sources
+
+
 def accept_threshold(
-    validation: ValidationPredictions,
+    validation: ValidationPredictions | Sequence[ValidationPredictions],
     *,
     max_error: float = DEFAULT_MAX_ERROR,
     delta: float = DEFAULT_DELTA,
 ) -> ThresholdChoice:
-    """Choose the accept threshold on the validation predictions (Learn-then-Test)."""
-    return choose_threshold(validation.scores, validation.correct, max_error=max_error, delta=delta)
+    """Choose the accept threshold on held-out predictions (Learn-then-Test).
+
+    With several calibration sources (e.g. the training retailers' valid split and a feed of
+    a retailer the model never saw) the threshold must pass on each, so the strictest is
+    kept: fixed-sequence testing rejected the null for every threshold above each source's
+    own choice, so the bound holds for each source's population (each with probability
+    1 - delta). No feed is exchangeable with a single other retailer's products; requiring
+    all sources is the cautious reading. If one source passes no threshold, nothing is
+    accepted.
+    """
+    sources = [validation] if isinstance(validation, ValidationPredictions) else list(validation)
+    if not sources:
+        raise ValueError("no calibration source")
+    choices = [
+        choose_threshold(v.scores, v.correct, max_error=max_error, delta=delta) for v in sources
+    ]
+    _index, choice = _strictest(choices)
+    return choice
+
+
+def _strictest(choices: Sequence[ThresholdChoice]) -> tuple[int, ThresholdChoice]:
+    for index, choice in enumerate(choices):
+        if choice.threshold is None:
+            return index, choice
+    index = max(range(len(choices)), key=lambda i: choices[i].threshold or 0.0)
+    return index, choices[index]
 
 
 # --------------------------------------------------------------------------------------------
@@ -302,8 +471,11 @@ class OnboardOptions:
         backoff_threshold: see :class:`FeedMapper`.
         chunk_size: products mapped together.
         random_state: seed of the audit sample.
-        validation_feed: labelled feed whose ``split=valid`` rows choose the accept threshold
-            (None: the demo reference catalog); used once per model, then cached.
+        validation_feed: labelled feed(s) that choose the accept threshold, one calibration
+            source each (the strictest wins); best from retailers the model was not trained
+            on (all rows calibrate; a feed with a ``split`` column gives its ``valid`` rows).
+            None: the project's default sources (see :func:`calibration_sources`). Computed
+            once per model, then cached.
     """
 
     max_error: float = DEFAULT_MAX_ERROR
@@ -313,7 +485,7 @@ class OnboardOptions:
     backoff_threshold: float = DEFAULT_BACKOFF_THRESHOLD
     chunk_size: int = CHUNK_SIZE
     random_state: int = 0
-    validation_feed: Path | None = None
+    validation_feed: Path | Sequence[Path] | None = None
 
 
 @dataclass
@@ -421,7 +593,7 @@ def onboard_feed(
     tree: CategoryTree,
     model_dir: str | Path | None = None,
     options: OnboardOptions | None = None,
-    validation: ValidationPredictions | None = None,
+    validation: ValidationPredictions | Sequence[ValidationPredictions] | None = None,
     extractor: AttributeExtractor | None = None,
     on_progress: Callable[[str, int], None] | None = None,
 ) -> OnboardSummary:
@@ -433,7 +605,8 @@ def onboard_feed(
         tree: the category tree of the model.
         model_dir: the model folder (default: ``<project>/models/current``).
         options: thresholds, audit share, rules file.
-        validation: precomputed validation predictions (default: from the model folder).
+        validation: precomputed held-out predictions, one or several sources (default:
+            :func:`calibration_sources` for ``options.validation_feed``).
         extractor: attribute extractor (default: with the project's brand dictionary).
         on_progress: called with a stage name and the records read so far.
 
@@ -461,12 +634,23 @@ def onboard_feed(
     progress = on_progress or (lambda _stage, _count: None)
     if validation is None:
         progress("choosing the accept threshold", 0)
-        labelled = [options.validation_feed] if options.validation_feed else None
-        validation = validation_predictions(
-            mapper, folder, project=project, labelled_feeds=labelled
+        given = options.validation_feed
+        labelled = [given] if isinstance(given, (str, Path)) else list(given or ())
+        validation = calibration_sources(
+            mapper, folder, project=project, feeds=[Path(f) for f in labelled] or None
         )
-    choice = accept_threshold(validation, max_error=options.max_error, delta=options.delta)
+    sources = [validation] if isinstance(validation, ValidationPredictions) else list(validation)
+    choices = [
+        accept_threshold(v, max_error=options.max_error, delta=options.delta) for v in sources
+    ]
+    strictest, choice = _strictest(choices)
     threshold = choice.threshold
+    statement = choice.statement
+    if len(sources) > 1:
+        statement += (
+            f" The threshold is the strictest of {len(sources)} calibration sources; this "
+            f"one decided: {sources[strictest].source}."
+        )
     extractor = extractor or load_extractor(project, tree)
 
     profile, saved_profile = feed_profile(feed_path, project)
@@ -502,8 +686,8 @@ def onboard_feed(
             threshold=threshold,
             coverage_validation=choice.coverage,
             validation_products=choice.n_calibration,
-            validation_source=validation.source,
-            statement=choice.statement,
+            validation_source="; ".join(v.source for v in sources),
+            statement=statement,
             max_error=options.max_error,
             delta=options.delta,
             rules_file=str(rules_file) if rules_file else None,

@@ -6,6 +6,8 @@ reference catalog; it is built once per test session and copied into each test's
 
 from __future__ import annotations
 
+import csv
+import gzip
 import shutil
 from dataclasses import dataclass
 from pathlib import Path
@@ -21,6 +23,8 @@ from catmap.evaluate.run import read_gold_csv
 from catmap.onboard import (
     FeedMapper,
     OnboardOptions,
+    ValidationPredictions,
+    accept_threshold,
     acceptance_score,
     check_against_gold,
     default_model_dir,
@@ -113,6 +117,7 @@ def project(world: SmallWorld, tmp_path: Path) -> Path:
         default_model_dir(folder),
         project=folder,
         labelled_feeds=[world.paths.reference],
+        as_default=True,
     )
     return folder
 
@@ -275,11 +280,77 @@ def test_validation_predictions_are_cached_beside_the_model(
 ) -> None:
     model, manifest = load_model(default_model_dir(project), world.tree)
     mapper = FeedMapper(model, manifest, world.tree)
+    # The project fixture made the reference catalog's valid split the project's default.
     cached = validation_predictions(mapper, default_model_dir(project), project=project)
     assert (default_model_dir(project) / "validation-confidences.npz").exists()
+    assert (default_model_dir(project) / "calibration-reference.npz").exists()
     assert len(cached) > 100
     assert str(world.paths.reference) in cached.source
     assert np.all((cached.scores >= 0) & (cached.scores <= 1))
+
+
+def _csv_rows(path: Path) -> list[dict[str, str]]:
+    opener = gzip.open if path.suffix == ".gz" else open
+    with opener(path, "rt", encoding="utf-8", newline="") as handle:
+        return list(csv.DictReader(handle))
+
+
+def test_a_feed_with_a_split_column_calibrates_on_its_valid_rows_only(
+    world: SmallWorld, project: Path
+) -> None:
+    model, manifest = load_model(default_model_dir(project), world.tree)
+    mapper = FeedMapper(model, manifest, world.tree)
+    reference = validation_predictions(
+        mapper, default_model_dir(project), project=project,
+        labelled_feeds=[world.paths.reference],
+    )
+    valid = [r for r in _csv_rows(world.paths.reference) if r["split"] == "valid"]
+    assert len(reference) == len({r["product_id"] for r in valid})
+    assert "split=valid" in reference.source
+    assert "retailers the model trained on" in reference.source
+
+
+def test_a_labelled_feed_of_another_retailer_calibrates_on_all_its_rows(
+    world: SmallWorld, project: Path
+) -> None:
+    model, manifest = load_model(default_model_dir(project), world.tree)
+    mapper = FeedMapper(model, manifest, world.tree)
+    outside = world.paths.feeds["oskelund_labelled"]
+    rows = _csv_rows(outside)
+    training_retailers = {r["retailer"] for r in _csv_rows(world.paths.reference)}
+    assert {r["retailer"] for r in rows}.isdisjoint(training_retailers)
+    predictions = validation_predictions(
+        mapper, default_model_dir(project), project=project, labelled_feeds=[outside]
+    )
+    # Every product of the feed with a label counts (none of them trained the model); the
+    # reference's cached predictions are not handed out for another feed.
+    labelled = {r["product_id"] for r in rows if r["gold_node"] and r["title"].strip()}
+    assert len(predictions) == len(labelled)
+    assert "not trained on" in predictions.source and "Oskelund" in predictions.source
+    assert (default_model_dir(project) / "calibration-oskelund_labelled.npz").exists()
+    # The threshold follows the data it is given: onboarding with it names that data.
+    summary = onboard_feed(
+        world.paths.feeds["quorvane"], project=project, tree=world.tree,
+        options=OnboardOptions(max_error=TEST_MAX_ERROR, validation_feed=outside),
+    )
+    assert summary.validation_source == predictions.source
+    assert summary.validation_products == len(labelled)
+
+
+def test_several_calibration_sources_keep_the_strictest_threshold() -> None:
+    rng = np.random.default_rng(0)
+    scores = rng.uniform(0.5, 1.0, 4000)
+    # An easy source: wrong only below 0.6; a harder one: wrong 10% of the time below 0.9.
+    easy = ValidationPredictions(scores, scores >= 0.6, "easy")
+    hard = ValidationPredictions(scores, (scores >= 0.9) | (rng.random(4000) > 0.1), "hard")
+    alone = [accept_threshold(v, max_error=0.02) for v in (easy, hard)]
+    assert alone[0].threshold is not None and alone[1].threshold is not None
+    assert alone[1].threshold > alone[0].threshold
+    both = accept_threshold([easy, hard], max_error=0.02)
+    assert both.threshold == alone[1].threshold
+    # A source on which no threshold passes (half wrong everywhere) accepts nothing.
+    hopeless = ValidationPredictions(scores, np.arange(4000) % 2 == 0, "hopeless")
+    assert accept_threshold([easy, hopeless], max_error=0.02).threshold is None
 
 
 def test_acceptance_score_never_accepts_a_backoff() -> None:
