@@ -49,11 +49,17 @@ def fold(text: str) -> str:
             c for c in unicodedata.normalize("NFKD", text) if not unicodedata.combining(c)
         )
         text = text.lower()
+        deletions = True
+    else:
+        # Plain ASCII: the deletions are needed only when one of their characters is there.
+        deletions = "." in text or "'" in text or "`" in text
     if "." in text or "," in text:
         # "1.5 m" must not read as "15 m": a decimal point stays inside its number as "d".
         text = _DECIMAL.sub("d", text)
-    text = _DELETE.sub("", text)
-    text = _AND.sub(" and ", text)
+    if deletions:
+        text = _DELETE.sub("", text)
+    if "&" in text or "+" in text:
+        text = _AND.sub(" and ", text)
     return _NON_WORD.sub(" ", text).strip()
 
 

@@ -417,6 +417,20 @@ def decide_audience(
     Returns:
         The audience, with evidence and the conflict flag.
     """
+    return _decide(allowed_who, allowed_ages, column, text, size_age, column_text)
+
+
+# A feed holds few distinct combinations of node rules and cues (the cues keep only the words
+# that matched), so the decision is made once per combination.
+@lru_cache(maxsize=65_536)
+def _decide(
+    allowed_who: frozenset[str] | None,
+    allowed_ages: frozenset[str] | None,
+    column: Cues,
+    text: Cues,
+    size_age: tuple[str, str] | None,
+    column_text: str,
+) -> Audience:
     notes: list[str] = []
     conflict = False
 
@@ -546,6 +560,11 @@ def _column_cues(gender_text: str) -> Cues:
 
 
 @lru_cache(maxsize=4096)
+def _column_text(gender_text: str) -> str:
+    return " ".join(gender_text.split())
+
+
+@lru_cache(maxsize=4096)
 def _size_facts(size: str, body_sizes: bool) -> tuple[str, tuple[str, str] | None]:
     folded = fold(size)
     return folded, age_from_size(folded, size_field=True, body_sizes=body_sizes)
@@ -601,11 +620,11 @@ def extract_audience_folded(
         age = age or described.age
         weak_who += described.weak_who
         weak_age += described.weak_age
-    return decide_audience(
-        allowed_who=allowed_who,
-        allowed_ages=allowed_ages,
-        column=column,
-        text=Cues(who, age, weak_who, weak_age),
-        size_age=None,
-        column_text=" ".join(gender_text.split()),
+    return _decide(
+        allowed_who,
+        allowed_ages,
+        column,
+        Cues(who, age, weak_who, weak_age),
+        None,
+        _column_text(gender_text) if gender_text else "",
     )

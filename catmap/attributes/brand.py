@@ -175,6 +175,7 @@ class BrandDictionary:
         self._buckets: dict[tuple[str, int], list[str]] = {}
         self._windows: dict[tuple[str, int], list[str]] = {}
         self._fuzzy_cache: dict[str, tuple[str, float, str] | None] = {}
+        self.max_words = 1  # words in the longest alias key: longer title leads never match
         for entry in entries:
             self.add(entry)
         self._title_index: PhraseIndex | None = None
@@ -196,6 +197,7 @@ class BrandDictionary:
             if not key:
                 continue
             compact = compact_key(key)
+            self.max_words = max(self.max_words, key.count(" ") + 1)
             self._exact.setdefault(key, entry.name)
             if self._compact.setdefault(compact, entry.name) == entry.name and len(
                 compact
@@ -298,11 +300,18 @@ class BrandDictionary:
         return result
 
     def _window(self, first: str, length: int) -> list[str]:
-        """Return the aliases starting with ``first`` whose length is within the window."""
+        """Return the aliases starting with ``first`` whose length is within the window.
+
+        Within two letters, and no further than the threshold lets a match go: every edit
+        counts at least the length difference, so lengths m and n can only reach the
+        threshold when min(m, n) / max(m, n) is at or above it (an exact prune).
+        """
         choices = self._windows.get((first, length))
         if choices is None:
             choices = []
             for size in range(length - _LENGTH_WINDOW, length + _LENGTH_WINDOW + 1):
+                if min(size, length) * 100.0 < self.fuzzy_threshold * max(size, length):
+                    continue
                 choices.extend(self._buckets.get((first, size), ()))
             self._windows[(first, length)] = choices
         return choices
@@ -410,7 +419,7 @@ class BrandFinder:
             return self._lead_cache[lead]
         found: BrandMatch | None = None
         for n in (3, 2, 1):
-            if n > len(tokens):
+            if n > len(tokens) or n > self.dictionary.max_words:
                 continue
             words = tokens[:n]
             if n == 1 and words[0] in self.dictionary.common_words:
