@@ -210,3 +210,48 @@ def test_no_brand_placeholders_count_as_an_empty_field(
     for i in range(6):
         collector.add(value, f"Scarf {i}")
     assert collector.candidates(min_count=5) == []
+
+
+@pytest.mark.parametrize(
+    ("title", "brand"),
+    [
+        ("Wool coat by Velomar", "Vellomar"),
+        ("Women's wool coat by VELOMAR", "Vellomar"),
+        ("Navy Bleu Harbor rain jacket", "Blue Harbor"),
+        ("Slim jeans | Coper Vale Home | black", "Copper Vale Home"),
+    ],
+)
+def test_misspelt_capitalised_brand_away_from_the_start(
+    brands: BrandDictionary, title: str, brand: str
+) -> None:
+    match = BrandFinder(brands).from_text(fold(title), "title", title)
+    assert match is not None and match.brand == brand
+    assert match.evidence.startswith("title fuzzy ")
+    start, end = match.spans[0]
+    assert brands.lookup_fuzzy(fold(title)[start:end]) is not None
+
+
+def test_lower_case_words_away_from_the_start_are_not_read_fuzzily(
+    brands: BrandDictionary,
+) -> None:
+    title = "Wool coat by velomar"
+    assert BrandFinder(brands).from_text(fold(title), "title", title) is None
+
+
+def test_fuzzy_pass_leaves_other_attributes_words_alone() -> None:
+    # "Señora" is one letter from the invented brand "Serora"; it is an audience word.
+    dictionary = BrandDictionary.from_rows([("Serora", "", "1000"), ("Navarro Lune", "", "1000")])
+    extractor = AttributeExtractor(brands=dictionary, tree=None)
+    attributes = extractor.extract(Product("1", "tirantes nailon piel Señora 120 cm"), None)
+    assert (attributes.brand, attributes.who) == ("", "female")
+    exact = extractor.extract(Product("2", "tirantes nailon Serora"), None)
+    assert exact.brand == "Serora"
+
+
+def test_the_extractor_reads_capitalised_brands_away_from_the_start(
+    brands: BrandDictionary,
+) -> None:
+    extractor = AttributeExtractor(brands=brands, tree=None)
+    attributes = extractor.extract(Product("1", "Ladies wool coat by Velomar"), None)
+    assert attributes.brand == "Vellomar"
+    assert attributes.who == "female"

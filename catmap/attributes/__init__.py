@@ -16,6 +16,7 @@ from typing import TYPE_CHECKING
 
 from catmap.attributes._text import fold
 from catmap.attributes.audience import (
+    LEXICON_WORDS,
     Audience,
     age_from_size,
     blank_spans,
@@ -39,7 +40,12 @@ from catmap.attributes.brand import (
     compact_key,
     normalize_brand,
 )
-from catmap.attributes.colour import FAMILIES, colour_family, colour_family_folded
+from catmap.attributes.colour import (
+    COLOUR_WORDS,
+    FAMILIES,
+    colour_family,
+    colour_family_folded,
+)
 from catmap.attributes.restriction import (
     RESTRICTION_CAUTION,
     RESTRICTIONS,
@@ -85,6 +91,13 @@ __all__ = [
 ]
 
 
+# Words other extractors read: a title's fuzzy brand pass leaves them alone ("Señora" is not a
+# misspelt "Serora").
+_ATTRIBUTE_WORDS = LEXICON_WORDS | frozenset(
+    fold(word) for by_lang in COLOUR_WORDS.values() for words in by_lang.values() for word in words
+)
+
+
 @dataclass(frozen=True, slots=True)
 class _NodeFacts:
     who: frozenset[str] | None
@@ -118,7 +131,9 @@ class AttributeExtractor:
         self.brands = brands
         self.tree = tree
         self.retailer_names = tuple(retailer_names)
-        self._finder = BrandFinder(brands, retailer_names=self.retailer_names)
+        self._finder = BrandFinder(
+            brands, retailer_names=self.retailer_names, fuzzy_skip=_ATTRIBUTE_WORDS
+        )
         self._nodes: dict[str | None, _NodeFacts] = {}
         self._colour_cache: dict[str, tuple[str, str]] = {}
         self._path_cache: dict[tuple[str, ...], str] = {}
@@ -157,7 +172,7 @@ class AttributeExtractor:
                 if name == match.brand
             )
         else:
-            match = self._finder.from_text(folded_title, "title")
+            match = self._finder.from_text(folded_title, "title", product.title)
             if match is None and product.description:
                 folded_description = fold(product.description)
                 found = self._finder.from_text(folded_description, "description")

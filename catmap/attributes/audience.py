@@ -223,6 +223,11 @@ def _build_index() -> PhraseIndex:
 
 _INDEX = _build_index()
 
+# Every folded word and phrase the audience lexicon reads (never a fuzzy brand match).
+LEXICON_WORDS = frozenset(fold(word) for words in _CUES.values() for word in words) | frozenset(
+    _COMPOUND_CUES
+)
+
 
 @dataclass(frozen=True, slots=True)
 class Cues:

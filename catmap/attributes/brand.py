@@ -4,7 +4,9 @@ A :class:`BrandDictionary` holds canonical brand names, their variant spellings 
 departments they sell in. Look-up goes exact first (two keys: the normalised name and the same
 without spaces, so "Blue-Harbor", "blue harbor" and "BlueHarbor" meet), then fuzzy over the
 aliases of the same first letter and a similar length (rapidfuzz), cached per distinct input.
-Titles are searched in one Aho-Corasick pass over all aliases with whole-word matching.
+Titles are searched in one Aho-Corasick pass over all aliases with whole-word matching; when
+that finds nothing, the leading words and then capitalised words elsewhere in the title are
+looked up fuzzily (cached per distinct words).
 
 :class:`BrandCandidates` collects unknown brand-field values and leading title words that repeat
 over a feed, so that new brands can be added to the dictionary.
@@ -351,10 +353,19 @@ class BrandFinder:
     Args:
         dictionary: the known brands.
         retailer_names: names of the retailer itself; a brand field holding one is read as empty.
+        fuzzy_skip: folded words and phrases of other attributes ("senora", "navy") that a
+            title's fuzzy pass never reads as a misspelt brand.
     """
 
-    def __init__(self, dictionary: BrandDictionary, *, retailer_names: Iterable[str] = ()) -> None:
+    def __init__(
+        self,
+        dictionary: BrandDictionary,
+        *,
+        retailer_names: Iterable[str] = (),
+        fuzzy_skip: Iterable[str] = (),
+    ) -> None:
         self.dictionary = dictionary
+        self.fuzzy_skip = frozenset(fuzzy_skip)
         self.retailer_keys = {normalize_brand(n) for n in retailer_names} - {""}
         self.retailer_keys |= {compact_key(k) for k in self.retailer_keys}
         self._field_cache: dict[str, BrandMatch] = {}
@@ -394,12 +405,14 @@ class BrandFinder:
         self._field_cache[value] = match
         return match if match.evidence else None
 
-    def from_text(self, folded: str, where: str) -> BrandMatch | None:
+    def from_text(self, folded: str, where: str, raw: str = "") -> BrandMatch | None:
         """Find a brand in a folded title or description: exact pass, then fuzzy on the lead.
 
         Args:
             folded: the text, folded by :func:`catmap.attributes._text.fold`.
             where: "title" or "description", for the evidence.
+            raw: the title as written; when given, capitalised words elsewhere in the title
+                are looked up fuzzily too once the lead finds nothing.
         """
         mentions = self.dictionary.find_in_text(folded)
         if mentions:
@@ -410,7 +423,48 @@ class BrandFinder:
             return BrandMatch(name, confidence, f"{where} exact '{key}'", spans)
         if where != "title":
             return None
-        return self._from_lead(folded)
+        found = self._from_lead(folded)
+        if found is None and raw:
+            found = self._from_capitalised(raw, folded)
+        return found
+
+    def _from_capitalised(self, raw: str, folded: str) -> BrandMatch | None:
+        """Fuzzy look-up of capitalised words away from the title start ("... by Brelaxx").
+
+        Only runs of words written with a capital are tried (a brand keeps its capital in a
+        title; ordinary words mostly do not), each run's word groups longest first, up to the
+        dictionary's longest alias; common words and short names are skipped. Each look-up is
+        cached per distinct words by :meth:`BrandDictionary.lookup_fuzzy`.
+        """
+        if not _HAS_CAPITAL_AFTER_START.search(raw):
+            return None
+        dictionary = self.dictionary
+        skip = dictionary.common_words
+        for run in _CAPITALISED_RUN.findall(raw):
+            words = fold(run).split()
+            for first in range(len(words)):
+                for n in range(min(dictionary.max_words, len(words) - first), 0, -1):
+                    candidate = " ".join(words[first:first + n])
+                    if candidate in self.fuzzy_skip or n == 1 and (
+                        candidate in skip or candidate in _COMMON_LEAD_WORDS
+                    ):
+                        continue
+                    if len(candidate) - n + 1 <= SHORT_NAME_LENGTH:
+                        continue
+                    fuzzy = dictionary.lookup_fuzzy(candidate)
+                    if fuzzy is None:
+                        continue
+                    start = f" {folded} ".find(f" {candidate} ")
+                    if start < 0:
+                        continue
+                    name, score, _alias = fuzzy
+                    return BrandMatch(
+                        name,
+                        _fuzzy_confidence(score) - 0.2,
+                        f"title fuzzy {score:g} '{candidate}'",
+                        ((start, start + len(candidate)),),
+                    )
+        return None
 
     def _from_lead(self, folded: str) -> BrandMatch | None:
         tokens = folded.split(" ", 3)[:3]
@@ -425,6 +479,8 @@ class BrandFinder:
             if n == 1 and words[0] in self.dictionary.common_words:
                 continue
             candidate = " ".join(words)
+            if candidate in self.fuzzy_skip:
+                continue
             fuzzy = self.dictionary.lookup_fuzzy(candidate)
             if fuzzy is not None:
                 name, score, _alias = fuzzy
@@ -456,6 +512,13 @@ class BrandFinder:
             if found is not None:
                 found = BrandMatch(found.brand, found.confidence - 0.1, found.evidence)
         return found or BrandMatch(evidence="no brand found")
+
+
+# A run of capitalised words ("Brelaxx", "Ash Mill", "BRELAXX") not at the very start of a
+# title (the lead pass has read that). Upper-case letters of the four languages.
+_UPPER = "A-ZÀ-ÖØ-Þ"
+_CAPITALISED_RUN = re.compile(rf"(?<=\s)[{_UPPER}][\w'’&-]*(?:\s+[{_UPPER}][\w'’&-]*)*")
+_HAS_CAPITAL_AFTER_START = re.compile(rf"\s[{_UPPER}]")
 
 
 def _fuzzy_confidence(score: float) -> float:
