@@ -9,7 +9,9 @@ safe against formula injection.
 audited). A row is bad when its item is unknown or already decided, its node is not in the tree,
 its action / who / age is not one catmap knows, or the store refuses it; bad rows are counted,
 reported with their line and reason, and written to a rejects CSV. Good rows are applied even
-when others are bad.
+when others are bad. A row that moves a product to another node takes that node's restriction
+flag and who / age applicability with it (:mod:`catmap.review.follow`), in the decision's
+transaction; the row's own who / age are kept where they apply on that node.
 """
 
 from __future__ import annotations
@@ -20,9 +22,11 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
+from catmap.attributes import AttributeExtractor
 from catmap.errors import InputError, StoreError
 from catmap.records import AGE_VALUES, WHO_VALUES
-from catmap.store import DECISION_ACTIONS, Store
+from catmap.review.follow import NodeFollower
+from catmap.store import DECISION_ACTIONS, NodeAttributes, Store
 from catmap.taxonomy import CategoryTree
 from catmap.writers import CsvWriter
 
@@ -239,6 +243,7 @@ def import_decisions(
     tree: CategoryTree,
     reviewer: str,
     rejects: str | Path | None = None,
+    extractor: AttributeExtractor | None = None,
 ) -> ImportResult:
     """Apply the filled rows of a decisions CSV through the store.
 
@@ -252,6 +257,8 @@ def import_decisions(
         tree: the category tree node ids are checked against.
         reviewer: who the decisions are recorded for.
         rejects: where to write the bad rows.
+        extractor: the attribute extractor on ``tree``, used to read who / age again for a
+            chosen node (default: one with no brand dictionary).
 
     Returns:
         Counts, and the bad rows with their line and reason.
@@ -261,6 +268,7 @@ def import_decisions(
     """
     source = Path(path)
     result = ImportResult()
+    follower = NodeFollower(tree, extractor=extractor)
     try:
         handle = source.open(encoding="utf-8-sig", newline="")
     except OSError as error:
@@ -289,16 +297,26 @@ def import_decisions(
                 result.bad.append(BadRow(line, values.get("item_id", ""), checked, values))
                 continue
             item_id, action, node, corrections = checked
+            who, age = corrections["who"], corrections["age"]
+            follow: NodeAttributes | None = None
             try:
+                if action == "choose" and node is not None:
+                    item = store.item(item_id)
+                    stored = store.mapping(item.feed_id, item.product_id)
+                    if stored.mapping.node_id != node:
+                        product = store.product(item.feed_id, item.product_id)
+                        follow = follower.node_attributes(product, stored, node)
+                        who, age = follower.reviewer_values(node, who, age)
                 store.decide(
                     item_id,
                     reviewer,
                     action,
                     node_id=node,
                     brand=corrections["brand"],
-                    who=corrections["who"],
-                    age=corrections["age"],
+                    who=who,
+                    age=age,
                     note=values.get("note", ""),
+                    node_attributes=follow,
                 )
             except (StoreError, ValueError) as error:
                 message = error.message if isinstance(error, StoreError) else str(error)

@@ -366,6 +366,30 @@ class StoredMapping:
 
 
 @dataclass(frozen=True, slots=True)
+class NodeAttributes:
+    """The attributes a product's node decides, read for the node a reviewer moves it to.
+
+    The store holds no category tree: the caller reads these from the tree (see
+    :func:`catmap.review.follow.node_attributes`) and the store writes them in the same
+    transaction as the decision, so a product never sits on a new node with the old node's
+    restriction flag or who / age applicability.
+
+    Attributes:
+        restriction: the restriction flag on the new node ('' = none).
+        who: who on the new node (``not_applicable`` where the node says gender does not apply).
+        age: age on the new node (``not_applicable`` where the node says age does not apply).
+    """
+
+    restriction: str
+    who: str
+    age: str
+
+
+NodeAttributesFor = Callable[[Product, StoredMapping], NodeAttributes]
+"""Reads :class:`NodeAttributes` for a product (and its mapping as stored) on a group's node."""
+
+
+@dataclass(frozen=True, slots=True)
 class ReviewItem:
     """One entry of the review queue."""
 
@@ -1581,6 +1605,7 @@ class Store:
         who: str | None = None,
         age: str | None = None,
         note: str = "",
+        node_attributes: NodeAttributes | None = None,
     ) -> Decision:
         """Record a reviewer's decision on an item, update the mapping, close the item.
 
@@ -1588,6 +1613,11 @@ class Store:
         ``no_fit`` (no node fits; the mapping's node becomes ''), ``skip`` (back to the queue,
         behind the items never skipped) and ``fix_attributes`` (node kept). ``brand``, ``who``
         and ``age`` correct the attributes with any action but ``skip``.
+
+        When ``choose`` moves the product to another node, ``node_attributes`` (read by the
+        caller from the tree for that node) replace the restriction flag and who / age in the
+        same transaction; the reviewer's own ``who`` / ``age`` still win over them. Without
+        them the stored attributes stay as they were (the old behaviour).
 
         Args:
             item_id: the item.
@@ -1598,6 +1628,7 @@ class Store:
             who: the corrected audience (one of ``WHO_VALUES``).
             age: the corrected age (one of ``AGE_VALUES``).
             note: free text.
+            node_attributes: the restriction flag and who / age the chosen node decides.
 
         Returns:
             The decision as saved.
@@ -1607,18 +1638,28 @@ class Store:
             ValueError: an unknown action, ``choose`` without a node, bad who / age.
         """
         self._check_decision(action, node_id, who, age)
+        if node_attributes is not None:
+            self._check_decision("accept", None, node_attributes.who, node_attributes.age)
         with self._transaction() as conn:
             item = self._claimable_item(conn, item_id, reviewer)
-            decision_id = self._apply_decision(
-                conn, item, reviewer, action, node_id, brand, who, age, note, None
+            decision_id, followed = self._apply_decision(
+                conn, item, reviewer, action, node_id, brand, who, age, note, None,
+                node_attributes,
             )
+            detail: dict[str, Any] = {
+                "decision": decision_id,
+                "action": action,
+                "node_id": node_id,
+            }
+            if followed is not None:
+                detail["restriction"] = followed
             self._audit(
                 conn,
                 "decision",
                 reviewer,
                 feed_id=item["feed_id"],
                 item_id=item_id,
-                detail={"decision": decision_id, "action": action, "node_id": node_id},
+                detail=detail,
             )
             row = conn.execute(_DECISION_SELECT + " WHERE decisions.id = ?", (decision_id,))
             return _decision_from_row(row.fetchone())
@@ -1677,7 +1718,10 @@ class Store:
         age: str | None,
         note: str,
         bulk_id: str | None,
-    ) -> int:
+        node_attributes: NodeAttributes | None = None,
+    ) -> tuple[int, dict[str, str] | None]:
+        """Write one decision; return its id and, when the node's attributes were applied,
+        the restriction flag before and after (for the audit log)."""
         feed_id, product_id = item["feed_id"], item["product_id"]
         current = conn.execute(
             "SELECT * FROM mappings WHERE feed_id = ? AND product_id = ?", (feed_id, product_id)
@@ -1750,7 +1794,30 @@ class Store:
                     product_id,
                 ),
             )
-        return int(cursor.lastrowid or 0)
+            if node_attributes is not None and changed_node and to_node:
+                # The new node decides the flag and whether who / age apply; a reviewer's own
+                # who / age (written above) stay. The old node's audience conflict is moot:
+                # a person just judged this product's node.
+                conn.execute(
+                    "UPDATE mappings SET restriction = ?, "
+                    "who = CASE WHEN ? IS NULL THEN ? ELSE who END, "
+                    "age = CASE WHEN ? IS NULL THEN ? ELSE age END, audience_conflict = 0 "
+                    "WHERE feed_id = ? AND product_id = ?",
+                    (
+                        node_attributes.restriction,
+                        who,
+                        node_attributes.who,
+                        age,
+                        node_attributes.age,
+                        feed_id,
+                        product_id,
+                    ),
+                )
+                return int(cursor.lastrowid or 0), {
+                    "from": current["restriction"],
+                    "to": node_attributes.restriction,
+                }
+        return int(cursor.lastrowid or 0), None
 
     def accept_group(
         self,
@@ -1761,6 +1828,7 @@ class Store:
         node_id: str | None = None,
         note: str = "",
         lease_seconds: float = DEFAULT_LEASE_SECONDS,
+        node_attributes: NodeAttributesFor | None = None,
     ) -> list[Decision]:
         """Settle a whole retailer category group in one step.
 
@@ -1768,6 +1836,18 @@ class Store:
         item: ``accept`` when the item's node is ``node_id`` (or ``node_id`` is None), else
         ``choose`` ``node_id``. One audit entry covers the bulk; :meth:`undo_last` undoes it
         as a whole.
+
+        Args:
+            reviewer: who decides.
+            feed_id: the group's feed.
+            group_key: the retailer category path of the group.
+            node_id: the node for the whole group (None: each item's suggestion).
+            note: free text, on every decision.
+            lease_seconds: the lease of the claims taken.
+            node_attributes: called for each product moved to ``node_id`` (inside the
+                transaction: it must not use the store) to read the restriction flag and
+                who / age that node decides; they are written with the decision, as in
+                :meth:`decide`.
 
         Returns:
             The decisions, one per item.
@@ -1784,18 +1864,28 @@ class Store:
                     "SELECT * FROM review_items WHERE id = ?", (claimed.id,)
                 ).fetchone()
                 current = conn.execute(
-                    "SELECT node_id FROM mappings WHERE feed_id = ? AND product_id = ?",
+                    "SELECT * FROM mappings WHERE feed_id = ? AND product_id = ?",
                     (fid, claimed.product_id),
                 ).fetchone()
-                if node_id is None or node_id == current[0]:
+                followed: NodeAttributes | None = None
+                if node_id is None or node_id == current["node_id"]:
                     action, chosen = "accept", None
                 else:
                     action, chosen = "choose", node_id
-                ids.append(
-                    self._apply_decision(
-                        conn, item, reviewer, action, chosen, None, None, None, note, bulk_id
-                    )
+                    if node_attributes is not None:
+                        data = conn.execute(
+                            "SELECT data FROM products WHERE feed_id = ? AND product_id = ?",
+                            (fid, claimed.product_id),
+                        ).fetchone()
+                        followed = node_attributes(
+                            product_from_json(data[0]), _mapping_from_row(current)
+                        )
+                        self._check_decision("accept", None, followed.who, followed.age)
+                decision_id, _flag = self._apply_decision(
+                    conn, item, reviewer, action, chosen, None, None, None, note, bulk_id,
+                    followed,
                 )
+                ids.append(decision_id)
             if ids:
                 self._audit(
                     conn,

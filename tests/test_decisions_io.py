@@ -11,7 +11,9 @@ from test_onboard import SmallWorld, new_project, options, small_world
 from catmap.decisions_io import DECISION_COLUMNS, export_decisions, import_decisions
 from catmap.errors import InputError
 from catmap.onboard import OnboardOptions, onboard_feed
+from catmap.review.sample import RED_WINE, SAMPLE_FEED, T_SHIRTS, build_sample_store
 from catmap.store import Store, store_path
+from catmap.taxonomy import load_default_tree
 
 
 @pytest.fixture(scope="module")
@@ -156,3 +158,33 @@ def test_a_file_without_item_ids_is_refused(
     sheet.write_text("product,node\nA,1011\n", encoding="utf-8")
     with Store.open(store_path(project)) as store, pytest.raises(InputError, match="item_id"):
         import_decisions(store, sheet, tree=world.tree, reviewer="r")
+
+
+def test_import_moves_the_restriction_flag_and_who_age_with_the_node(tmp_path: Path) -> None:
+    # The sample store lives on the shared tree version 1; expected values come from that tree
+    # (tree.restriction, and an empty tree.who / tree.ages meaning "does not apply").
+    tree = load_default_tree(1)
+    assert tree.restriction(RED_WINE) == "alcohol" and tree.restriction(T_SHIRTS) is None
+    sheet = tmp_path / "queue.csv"
+    with build_sample_store(tmp_path / "store.sqlite") as store:
+        export_decisions(store, sheet, tree=tree)
+        rows = {r["product_id"]: r for r in _read(sheet)}
+        rows["WN-001"]["reviewer_node"] = T_SHIRTS  # a wine put on T-shirts loses the flag
+        rows["TS-001"]["reviewer_node"] = RED_WINE  # a T-shirt put on wine gets it
+        rows["TS-001"]["who"] = "female"  # gender does not apply on wine
+        rows["HD-002"]["reviewer_node"] = T_SHIRTS
+        rows["HD-002"]["age"] = "kids"  # kept: age applies on T-shirts
+        _write(sheet, list(rows.values()))
+        result = import_decisions(store, sheet, tree=tree, reviewer="sheet-reviewer")
+        assert (result.applied, result.bad) == (3, [])
+
+        wine = store.mapping(SAMPLE_FEED, "WN-001").attributes
+        assert wine.restriction == ""
+        assert wine.who in tree.who(T_SHIRTS) and wine.age in tree.ages(T_SHIRTS)
+        tee = store.mapping(SAMPLE_FEED, "TS-001").attributes
+        assert (tee.restriction, tee.who, tee.age) == (
+            "alcohol",
+            "not_applicable",
+            "not_applicable",
+        )
+        assert store.mapping(SAMPLE_FEED, "HD-002").attributes.age == "kids"

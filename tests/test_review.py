@@ -19,8 +19,10 @@ from catmap.review.sample import (
     ANKLE_BOOTS,
     BOOT_GROUP,
     CHELSEA_BOOTS,
+    RED_WINE,
     RUNNING_SHOES,
     SAMPLE_FEED,
+    T_SHIRTS,
     build_sample_store,
 )
 from catmap.review.session import ReviewSession
@@ -469,3 +471,92 @@ def test_tree_follows_the_mapping_tree_version(memory_store: Store) -> None:
     assert session.path_text(ANKLE_BOOTS) == "Footwear > Boots > Ankle boots"
     assert session.path_text("") == "(no fitting node)"
     assert session.path_text("999999").startswith("node 999999 (not in tree version 1)")
+
+
+# -- attributes that follow the chosen node ----------------------------------------------------
+# Expected values come from the tree itself: tree.restriction(node) is the node's flag, and an
+# empty tree.who(node) / tree.ages(node) means gender / age do not apply there.
+
+
+def test_choosing_a_wine_node_flags_alcohol(memory_store: Store, tree: CategoryTree) -> None:
+    assert tree.restriction(RED_WINE) == "alcohol"
+    assert not tree.who(RED_WINE) and not tree.ages(RED_WINE)
+    memory_store.accept_group("setup", SAMPLE_FEED, BOOT_GROUP)
+    session = _session(memory_store, tree)
+    session.next()
+    session.accept()  # the wine
+    view = session.current
+    assert view is not None and view.product.product_id == "TS-001"
+    assert (view.attributes.restriction, view.attributes.who) == ("", "unisex")
+    while session.pending.who != "female":  # an explicit who: gender does not apply on wine
+        session.cycle_who()
+    session.choose(RED_WINE)
+    stored = memory_store.mapping(SAMPLE_FEED, "TS-001")
+    assert stored.mapping.node_id == RED_WINE
+    assert stored.attributes.restriction == "alcohol"
+    assert (stored.attributes.who, stored.attributes.age) == ("not_applicable", "not_applicable")
+    entry = [e for e in memory_store.audit_log() if e.action == "decision"][-1]
+    assert entry.detail["restriction"] == {"from": "", "to": "alcohol"}
+
+
+def test_choosing_a_t_shirt_node_for_a_wine_clears_the_flag(
+    memory_store: Store, tree: CategoryTree
+) -> None:
+    assert tree.restriction(T_SHIRTS) is None
+    memory_store.accept_group("setup", SAMPLE_FEED, BOOT_GROUP)
+    session = _session(memory_store, tree)
+    view = session.next()
+    assert view is not None and view.product.product_id == "WN-001"
+    assert view.attributes.restriction == "alcohol"
+    session.choose(T_SHIRTS)
+    stored = memory_store.mapping(SAMPLE_FEED, "WN-001")
+    assert stored.attributes.restriction == ""
+    # Gender and age apply on T-shirts: they are read again, not left 'not_applicable'.
+    assert stored.attributes.who in tree.who(T_SHIRTS)
+    assert stored.attributes.age in tree.ages(T_SHIRTS)
+    # Undo puts the flag back with the node.
+    session.undo()
+    again = memory_store.mapping(SAMPLE_FEED, "WN-001")
+    assert (again.mapping.node_id, again.attributes.restriction) == (RED_WINE, "alcohol")
+
+
+def test_an_explicit_who_is_kept_where_it_applies(
+    memory_store: Store, tree: CategoryTree
+) -> None:
+    memory_store.accept_group("setup", SAMPLE_FEED, BOOT_GROUP)
+    session = _session(memory_store, tree)
+    session.next()  # the wine
+    while session.pending.who != "male":
+        session.cycle_who()
+    session.choose(T_SHIRTS)
+    stored = memory_store.mapping(SAMPLE_FEED, "WN-001")
+    assert (stored.attributes.who, stored.attributes.restriction) == ("male", "")
+
+
+def test_a_group_decision_moves_the_flag_for_every_item(
+    memory_store: Store, tree: CategoryTree
+) -> None:
+    session = _session(memory_store, tree)
+    session.next()  # BT-001, of the boot group
+    decisions = session.decide_group(RED_WINE)
+    assert len(decisions) == 6
+    boots = [f"BT-00{n}" for n in range(1, 7)]
+    for product_id in boots:
+        assert memory_store.mapping(SAMPLE_FEED, product_id).attributes.restriction == "alcohol"
+    session.undo()
+    for product_id in boots:
+        assert memory_store.mapping(SAMPLE_FEED, product_id).attributes.restriction == ""
+
+
+def test_a_group_decision_with_corrections_moves_the_flag_too(
+    memory_store: Store, tree: CategoryTree
+) -> None:
+    session = _session(memory_store, tree)
+    session.next()
+    session.set_brand("Ostravel Works")  # the on-screen item is decided on its own first
+    session.decide_group(T_SHIRTS)
+    for n in range(1, 7):
+        stored = memory_store.mapping(SAMPLE_FEED, f"BT-00{n}")
+        # The boots were saved with who / age 'not_applicable'; on T-shirts both apply.
+        assert stored.attributes.who in tree.who(T_SHIRTS)
+        assert stored.attributes.age in tree.ages(T_SHIRTS)

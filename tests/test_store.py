@@ -19,7 +19,9 @@ from catmap.store import (
     MIGRATIONS,
     SCHEMA_VERSION,
     MappedRow,
+    NodeAttributes,
     Store,
+    StoredMapping,
     migrate,
     product_from_json,
     product_to_json,
@@ -585,6 +587,76 @@ def test_accept_group_with_another_node_records_choices(store: Store) -> None:
     decisions = store.accept_group("ann", feed, "Shoes > Boots", node_id="1530")
     assert sorted(d.action for d in decisions) == ["accept"] + ["choose"] * 4
     assert {m.mapping.node_id for _, m in store.mappings(feed)} == {"1530"}
+
+
+def test_node_attributes_follow_a_chosen_node_and_undo_restores_them(store: Store) -> None:
+    feed = seed(store, [make_row(1), make_row(2), make_row(3)])
+    flagged = NodeAttributes(restriction="alcohol", who="not_applicable", age="not_applicable")
+    a = store.claim_next("ann")
+    assert a is not None
+    before = store.mapping(feed, a.product_id)
+    store.decide(a.id, "ann", "choose", node_id="8211", node_attributes=flagged)
+    moved = store.mapping(feed, a.product_id).attributes
+    assert (moved.restriction, moved.who, moved.age) == (
+        "alcohol",
+        "not_applicable",
+        "not_applicable",
+    )
+    assert store.audit_log()[-1].detail["restriction"] == {"from": "", "to": "alcohol"}
+    assert store.undo_last("ann") == [a.id]
+    assert store.mapping(feed, a.product_id) == before
+    store.release(a.id, "ann")
+
+    # The reviewer's own who wins over the node's; the node's age and flag are written.
+    b = store.claim_next("ann")
+    assert b is not None
+    store.decide(
+        b.id,
+        "ann",
+        "choose",
+        node_id="1011",
+        who="male",
+        node_attributes=NodeAttributes(restriction="", who="unisex", age="kids"),
+    )
+    chosen = store.mapping(feed, b.product_id).attributes
+    assert (chosen.restriction, chosen.who, chosen.age) == ("", "male", "kids")
+
+    # Accepting the suggestion keeps the node, so the node's attributes are not applied.
+    c = store.claim_next("ann")
+    assert c is not None
+    store.decide(c.id, "ann", "accept", node_attributes=flagged)
+    assert store.mapping(feed, c.product_id).attributes.restriction == ""
+    with pytest.raises(ValueError, match="unknown who"):
+        store.decide(
+            c.id,
+            "ann",
+            "choose",
+            node_id="8211",
+            node_attributes=NodeAttributes(restriction="", who="everyone", age="adult"),
+        )
+
+
+def test_accept_group_reads_node_attributes_for_each_moved_product(store: Store) -> None:
+    rows = [make_row(i) for i in range(4)] + [make_row(4, node="8211")]
+    feed = seed(store, rows)
+    asked: list[tuple[str, str]] = []
+
+    def read(product: Product, stored: StoredMapping) -> NodeAttributes:
+        asked.append((product.product_id, stored.mapping.node_id))
+        return NodeAttributes(restriction="alcohol", who="not_applicable", age="not_applicable")
+
+    decisions = store.accept_group(
+        "ann", feed, "Shoes > Boots", node_id="8211", node_attributes=read
+    )
+    assert sorted(d.action for d in decisions) == ["accept"] + ["choose"] * 4
+    # Only the products that move are asked about, each with its mapping before the move.
+    assert sorted(asked) == [(f"p{i:04d}", "1523") for i in range(4)]
+    for i in range(4):
+        assert store.mapping(feed, f"p{i:04d}").attributes.restriction == "alcohol"
+    # The one already on the node keeps what it had.
+    assert store.mapping(feed, "p0004").attributes.restriction == ""
+    store.undo_last("ann")
+    assert {m.attributes.restriction for _, m in store.mappings(feed)} == {""}
 
 
 # --- audit log, summaries, status -----------------------------------------------------------

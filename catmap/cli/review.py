@@ -6,6 +6,8 @@ import getpass
 
 import click
 
+from catmap.attributes import BrandDictionary
+from catmap.attributes.brand import dictionary_in_use
 from catmap.errors import StoreError
 from catmap.project import project_dir
 from catmap.review.session import ReviewSession
@@ -56,7 +58,11 @@ def register(main: click.Group) -> None:
         with Store.open(path) as store:
             if feed is not None:
                 store.feed(feed)  # an unknown feed fails here, with a hint
-            session = ReviewSession(store, name, feed=feed)
+            # A chosen node's who / age are read again with the project's brands, so that a
+            # brand's name is not read as an audience.
+            dictionary = dictionary_in_use(folder)
+            brands = BrandDictionary.from_csv(dictionary) if dictionary is not None else None
+            session = ReviewSession(store, name, feed=feed, brands=brands)
             if session.next() is None:
                 where = f"feed {feed}" if feed else str(folder)
                 click.echo(f"The review queue of {where} is empty: nothing to review.")

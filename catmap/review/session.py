@@ -8,6 +8,8 @@ yet decided, and the pace of this session.
 
 Attribute corrections (brand, who, age) travel with the reviewer's decision on the item, in the
 same transaction: a correction alone does not close an item whose node still needs judging.
+When a decision moves a product to another node, the restriction flag and who / age
+applicability follow the new node (:mod:`catmap.review.follow`), written in that transaction.
 Everything the store holds comes back from the store after each action, never from screen
 state.
 
@@ -20,12 +22,15 @@ from collections.abc import Callable
 from dataclasses import dataclass
 from datetime import UTC, datetime, timedelta
 
+from catmap.attributes import AttributeExtractor, BrandDictionary
 from catmap.errors import StoreError, UnknownNode
 from catmap.records import AGE_VALUES, WHO_VALUES
+from catmap.review.follow import NodeFollower
 from catmap.store import (
     DEFAULT_LEASE_SECONDS,
     GROUP_REASONS,
     Decision,
+    NodeAttributes,
     ReviewView,
     Store,
 )
@@ -91,6 +96,8 @@ class ReviewSession:
             the version each mapping was made with.
         lease_seconds: how long a claim holds without a decision.
         clock: the current UTC time (tests pass a fake one).
+        brands: the project's brand dictionary, used when who / age are read again for a
+            chosen node (so that a brand's name is not read as an audience); None for none.
     """
 
     def __init__(
@@ -102,6 +109,7 @@ class ReviewSession:
         tree: CategoryTree | None = None,
         lease_seconds: float = DEFAULT_LEASE_SECONDS,
         clock: Clock = _now,
+        brands: BrandDictionary | None = None,
     ) -> None:
         if not reviewer.strip():
             raise ValueError("a reviewer name is needed")
@@ -111,6 +119,8 @@ class ReviewSession:
         self.lease_seconds = lease_seconds
         self._tree = tree
         self._trees: dict[str, CategoryTree] = {}
+        self._brands = brands
+        self._followers: dict[str, NodeFollower] = {}
         self._tree_versions: dict[tuple[int, str], str] = {}
         self._clock = clock
         self.started = clock()
@@ -148,6 +158,28 @@ class ReviewSession:
             return self.tree.path_text(node_id)
         except UnknownNode:
             return f"node {node_id} (not in tree version {self.tree.version})"
+
+    def restriction(self, node_id: str | None) -> str:
+        """The restriction flag ``node_id`` carries in the tree ('' for none or no node)."""
+        if not node_id or node_id not in self.tree:
+            return ""
+        return self.tree.restriction(node_id) or ""
+
+    def _follower(self) -> NodeFollower:
+        tree = self.tree
+        key = str(tree.version)
+        follower = self._followers.get(key)
+        if follower is None or follower.tree is not tree:
+            extractor = AttributeExtractor(brands=self._brands or BrandDictionary([]), tree=tree)
+            follower = self._followers[key] = NodeFollower(tree, extractor=extractor)
+        return follower
+
+    def _node_attributes(self, view: ReviewView, node_id: str | None) -> NodeAttributes | None:
+        """What ``node_id`` decides for the product on screen (None: the node is unchanged)."""
+        if not node_id or node_id == view.mapping.node_id:
+            return None
+        stored = self.store.mapping(view.item.feed_id, view.item.product_id)
+        return self._follower().node_attributes(view.product, stored, node_id)
 
     def search(self, text: str, *, limit: int = 12) -> list[SearchMatch]:
         """Fuzzy search of the tree's names and synonyms, in all its languages."""
@@ -190,18 +222,29 @@ class ReviewSession:
     def _decide(self, action: str, node_id: str | None = None) -> Decision:
         view = self._require()
         pending = self.pending if action != "skip" else Pending()
-        decision = self.store.decide(
+        decision = self._decide_view(view, action, node_id, pending)
+        self._counted(0 if action == "skip" else 1)
+        self.next()
+        return decision
+
+    def _decide_view(
+        self, view: ReviewView, action: str, node_id: str | None, pending: Pending
+    ) -> Decision:
+        """One store decision on ``view``; a move to another node takes that node's attributes."""
+        who, age = pending.who, pending.age
+        follow = self._node_attributes(view, node_id) if action == "choose" else None
+        if follow is not None and node_id:
+            who, age = self._follower().reviewer_values(node_id, who, age)
+        return self.store.decide(
             view.item.id,
             self.reviewer,
             action,
             node_id=node_id,
             brand=pending.brand,
-            who=pending.who,
-            age=pending.age,
+            who=who,
+            age=age,
+            node_attributes=follow,
         )
-        self._counted(0 if action == "skip" else 1)
-        self.next()
-        return decision
 
     def accept(self) -> Decision:
         """The suggested node is right (attribute corrections go with it)."""
@@ -303,14 +346,8 @@ class ReviewSession:
         if single:
             action = "accept" if target == view.mapping.node_id else "choose"
             decisions.append(
-                self.store.decide(
-                    view.item.id,
-                    self.reviewer,
-                    action,
-                    node_id=target if action == "choose" else None,
-                    brand=self.pending.brand,
-                    who=self.pending.who,
-                    age=self.pending.age,
+                self._decide_view(
+                    view, action, target if action == "choose" else None, self.pending
                 )
             )
         decisions.extend(
@@ -320,6 +357,7 @@ class ReviewSession:
                 view.item.group_key,
                 node_id=target,
                 lease_seconds=self.lease_seconds,
+                node_attributes=self._follower().for_node(target),
             )
         )
         if single:
