@@ -11,9 +11,10 @@ from pathlib import Path
 from typing import Any
 
 import pytest
-from textual.widgets import Static
+from textual.widgets import OptionList, Static
 
 from catmap.attributes import RESTRICTION_CAUTION
+from catmap.records import Alternative, Attributes, Mapping, Product
 from catmap.review.app import ReviewApp, confidence_bar
 from catmap.review.sample import (
     ANKLE_BOOTS,
@@ -26,7 +27,7 @@ from catmap.review.sample import (
     build_sample_store,
 )
 from catmap.review.session import ReviewSession
-from catmap.store import ReviewItem, Store
+from catmap.store import MappedRow, ReviewItem, Store
 from catmap.taxonomy import CategoryTree, load_default_tree
 
 SIZE = (120, 40)
@@ -560,3 +561,103 @@ def test_a_group_decision_with_corrections_moves_the_flag_too(
         # The boots were saved with who / age 'not_applicable'; on T-shirts both apply.
         assert stored.attributes.who in tree.who(T_SHIRTS)
         assert stored.attributes.age in tree.ages(T_SHIRTS)
+
+
+# -- the restriction caution wherever a restricted node is in play ----------------------------
+
+
+def _flat(text: str) -> str:
+    return " ".join(text.split())
+
+
+@sync
+async def test_search_shows_the_caution_for_a_highlighted_restricted_node(
+    store: Store, tree: CategoryTree
+) -> None:
+    app = ReviewApp(_session(store, tree))
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("slash")
+        await pilot.pause()
+        await pilot.press(*"red wine")
+        await pilot.pause()
+        search = app.screen
+        results = search.query_one("#search-results", OptionList)
+        assert results.highlighted is not None
+        picked = results.get_option_at_index(results.highlighted).id
+        assert picked is not None and tree.restriction(picked) == "alcohol"
+        caution = _flat(str(search.query_one("#search-caution", Static).render()))
+        assert "alcohol" in caution
+        assert _flat(RESTRICTION_CAUTION) in caution
+        await pilot.press("enter")
+        await pilot.pause()
+        assert store.mapping(SAMPLE_FEED, "BT-001").attributes.restriction == "alcohol"
+        assert "flagged alcohol" in app.message
+        await pilot.press("q")
+
+
+@sync
+async def test_search_shows_no_caution_for_an_unrestricted_node(
+    store: Store, tree: CategoryTree
+) -> None:
+    app = ReviewApp(_session(store, tree))
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("slash")
+        await pilot.pause()
+        await pilot.press(*"chelsea boot")
+        await pilot.pause()
+        search = app.screen
+        results = search.query_one("#search-results", OptionList)
+        assert results.highlighted is not None
+        picked = results.get_option_at_index(results.highlighted).id
+        assert picked == CHELSEA_BOOTS and tree.restriction(CHELSEA_BOOTS) is None
+        assert str(search.query_one("#search-caution", Static).render()).strip() == ""
+        await pilot.press("escape")
+        await pilot.press("q")
+
+
+@sync
+async def test_group_confirmation_on_a_restricted_node_shows_the_caution(
+    store: Store, tree: CategoryTree
+) -> None:
+    app = ReviewApp(_session(store, tree))
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("g", "slash")
+        await pilot.pause()
+        await pilot.press(*"red wine")
+        await pilot.pause()
+        await pilot.press("enter")
+        await pilot.pause()
+        question = _flat(str(app.screen.query_one("#question", Static).render()))
+        assert "Put 6 products of group 'Shoes > Boots'" in question
+        assert _flat(RESTRICTION_CAUTION) in question
+        await pilot.press("n")
+        await pilot.pause()
+        assert store.decisions() == []
+        await pilot.press("q")
+
+
+@sync
+async def test_a_restricted_suggestion_shows_the_caution_before_the_flag_is_set(
+    tmp_path: Path, tree: CategoryTree
+) -> None:
+    with Store.open(tmp_path / "store.sqlite") as opened:
+        feed = opened.add_feed("shop-x")
+        run = opened.start_run("onboard", feed=feed)
+        product = Product("GX-1", "Hamper of assorted treats", category_path=("Gifts",))
+        row = MappedRow(
+            product=product,
+            mapping=Mapping(RED_WINE, 0.4, "model", (Alternative(RED_WINE, 0.4),)),
+            attributes=Attributes(),  # no flag stored
+            status="queued",
+            group_key="Gifts",
+            priority=1.0,
+        )
+        opened.save_mapped(feed, run, [row], tree_version="1")
+        app = ReviewApp(_session(opened, tree))
+        async with app.run_test(size=SIZE) as pilot:
+            await pilot.pause()
+            suggestion = _flat(_screen_text(app, "suggestion"))
+            assert "restricted node: alcohol" in suggestion
+            assert "[alcohol]" in suggestion  # the alternative is marked too
+            assert _flat(RESTRICTION_CAUTION) in _flat(_screen_text(app, "attributes"))
+            await pilot.press("q")

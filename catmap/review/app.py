@@ -11,6 +11,11 @@ through the store (one transaction each) and reads the item back. Layout, from t
 - a message line, then the keys.
 
 Product text is shown as plain text (never read as markup): feeds contain brackets.
+
+The restriction caution (:data:`catmap.attributes.RESTRICTION_CAUTION`) is shown wherever a
+restricted node is in play: with the product's flag, under a suggested node that is restricted,
+in the search dialog when the highlighted node is restricted, and in the group confirmation
+when the group's node is.
 """
 
 from __future__ import annotations
@@ -49,6 +54,14 @@ def _restriction_caution() -> str:
             "policy decide."
         )
     return RESTRICTION_CAUTION
+
+
+def _restricted_note(session: ReviewSession, node_id: str | None) -> str:
+    """The caution for a restricted node ('' when the node carries no restriction)."""
+    flag = session.restriction(node_id)
+    if not flag:
+        return ""
+    return f"Restricted node ({flag}). {_restriction_caution()}"
 
 
 class ConfirmScreen(ModalScreen[bool]):
@@ -113,6 +126,7 @@ class SearchScreen(ModalScreen[str | None]):
             yield Static(Text("Find a node: type words in any language; ↑↓ move, Enter picks"))
             yield Input(placeholder="e.g. ankle boot, bottines, Stiefelette", id="search-input")
             yield OptionList(id="search-results")
+            yield Static(id="search-caution")
 
     def on_input_changed(self, event: Input.Changed) -> None:
         results = self.query_one("#search-results", OptionList)
@@ -122,9 +136,25 @@ class SearchScreen(ModalScreen[str | None]):
             label = Text(f"{match.score:5.1f}  {tree.path_text(match.node.id)}")
             if not match.is_name:
                 label.append(f"   ({match.language}: {match.term})", style="dim")
+            flag = self.session.restriction(match.node.id)
+            if flag:
+                label.append(f"  [{flag}]", style="bold yellow")
             results.add_option(Option(label, id=match.node.id))
         if results.option_count:
             results.highlighted = 0
+        self._show_caution()
+
+    def _show_caution(self) -> None:
+        """Show the restriction caution when the highlighted node is restricted."""
+        results = self.query_one("#search-results", OptionList)
+        node_id = None
+        if results.highlighted is not None and results.option_count:
+            node_id = results.get_option_at_index(results.highlighted).id
+        note = _restricted_note(self.session, node_id)
+        self.query_one("#search-caution", Static).update(Text(note, style="italic yellow"))
+
+    def on_option_list_option_highlighted(self, event: OptionList.OptionHighlighted) -> None:
+        self._show_caution()
 
     def on_input_submitted(self, event: Input.Submitted) -> None:
         results = self.query_one("#search-results", OptionList)
@@ -141,6 +171,7 @@ class SearchScreen(ModalScreen[str | None]):
             return
         current = results.highlighted if results.highlighted is not None else -1
         results.highlighted = max(0, min(results.option_count - 1, current + step))
+        self._show_caution()
 
     def action_cancel(self) -> None:
         self.dismiss(None)
@@ -171,6 +202,7 @@ class ReviewApp(App[None]):
     #search-dialog { width: 90; height: 24; border: thick $accent; padding: 0 1;
                      background: $surface; }
     #search-results { height: 1fr; }
+    #search-caution { height: auto; }
     .hint { color: $text-muted; margin-top: 1; }
     """
 
@@ -313,7 +345,9 @@ class ReviewApp(App[None]):
             text.append("            text and node disagree on who / age\n", style="yellow")
         row("colour", attributes.colour_family, None)
         row("restriction", attributes.restriction or "none", None)
-        if attributes.restriction:
+        # The caution goes with the product's flag and with a restricted suggested node (the
+        # flag may not be set yet, e.g. when the node was suggested after the flag was read).
+        if attributes.restriction or self.session.restriction(view.mapping.node_id):
             text.append(_restriction_caution() + "\n", style="italic yellow")
         if pending.any():
             text.append("corrections are saved with your decision on this item", style="dim")
@@ -324,6 +358,9 @@ class ReviewApp(App[None]):
         mapping = view.mapping
         text = Text()
         text.append(session.path_text(mapping.node_id) + "\n", style="bold")
+        flag = session.restriction(mapping.node_id)
+        if flag:
+            text.append(f"restricted node: {flag} (see the caution beside)\n", style="bold yellow")
         text.append(f"{mapping.confidence:6.1%}  {confidence_bar(mapping.confidence)}")
         text.append(f"  {mapping.method}\n")
         if mapping.reason:
@@ -333,9 +370,11 @@ class ReviewApp(App[None]):
             text.append("\nalternatives\n", style="underline")
         for number, alternative in enumerate(alternatives, start=1):
             text.append(f" {number}  ", style="bold")
-            text.append(
-                f"{alternative.confidence:6.1%}  {session.path_text(alternative.node_id)}\n"
-            )
+            text.append(f"{alternative.confidence:6.1%}  {session.path_text(alternative.node_id)}")
+            flag = session.restriction(alternative.node_id)
+            if flag:
+                text.append(f"  [{flag}]", style="bold yellow")
+            text.append("\n")
         return text
 
     def _group_text(self, view: ReviewView) -> Text:
@@ -381,6 +420,9 @@ class ReviewApp(App[None]):
                 done = self._run(session.choose, node_id)
             if done:
                 self.message = f"{label}: {view.product.product_id}"
+                flag = session.restriction(node_id or view.mapping.node_id)
+                if flag:
+                    self.message += f" (restricted node: flagged {flag})"
             self.render_item()
             return
         target = node_id or view.mapping.node_id
@@ -389,6 +431,9 @@ class ReviewApp(App[None]):
             f"Put {count} product{'s' if count != 1 else ''} of group "
             f"'{view.item.group_key or '(none)'}' on\n{session.path_text(target)}?"
         )
+        note = _restricted_note(session, target)
+        if note:
+            question += f"\n\n{note}"
 
         def answered(yes: bool | None) -> None:
             self.group_mode = False
