@@ -54,6 +54,10 @@ DECISION_ACTIONS = ("accept", "choose", "no_fit", "skip", "fix_attributes")
 GROUP_REASONS = ("low_confidence", "remap")
 
 
+# The two places a claim looks, each read in queue order from the review_items_claim index.
+CLAIM_OPEN = "state = 'open'"
+CLAIM_EXPIRED = "state = 'claimed' AND lease_until < :now"
+
 DEFAULT_BATCH_SIZE = 5000
 DEFAULT_LEASE_SECONDS = 600
 DESCRIPTION_EXCERPT = 400
@@ -246,12 +250,21 @@ _SCHEMA_V4: tuple[str, ...] = (
 # uncertain): state 'done' with the reason it was withdrawn (NULL for items a person decided).
 _SCHEMA_V5: tuple[str, ...] = ("ALTER TABLE review_items ADD COLUMN withdrawn_reason TEXT",)
 
+# Version 6: the claim reads the queue in its order (skipped least, highest priority, oldest)
+# straight from an index and stops at the first row, instead of sorting every open item on each
+# claim. It replaces the (state, priority) index, which served no query the new one does not.
+_SCHEMA_V6: tuple[str, ...] = (
+    "DROP INDEX IF EXISTS review_items_queue",
+    "CREATE INDEX review_items_claim ON review_items (state, skips, priority DESC, id)",
+)
+
 MIGRATIONS: tuple[tuple[str, ...], ...] = (
     _SCHEMA_V1,
     _SCHEMA_V2,
     _SCHEMA_V3,
     _SCHEMA_V4,
     _SCHEMA_V5,
+    _SCHEMA_V6,
 )
 SCHEMA_VERSION = len(MIGRATIONS)
 
@@ -1518,15 +1531,21 @@ class Store:
                 params,
             ).fetchone()
             if row is None:
-                row = conn.execute(
-                    "SELECT id FROM review_items WHERE (state = 'open' OR (state = 'claimed' "
-                    "AND lease_until < :now))"
-                    + feed_clause
-                    + " ORDER BY skips, priority DESC, id LIMIT 1",
-                    params,
-                ).fetchone()
-            if row is None:
-                return None
+                # Two index walks that each stop at their first row (an OR of the two states
+                # would make SQLite sort every open item): the best open item and the best
+                # item whose lease ran out; the better of the two in queue order wins.
+                candidates = [
+                    conn.execute(
+                        "SELECT id, skips, priority FROM review_items WHERE " + where + feed_clause
+                        + " ORDER BY skips, priority DESC, id LIMIT 1",
+                        params,
+                    ).fetchone()
+                    for where in (CLAIM_OPEN, CLAIM_EXPIRED)
+                ]
+                found = [c for c in candidates if c is not None]
+                if not found:
+                    return None
+                row = min(found, key=lambda c: (c["skips"], -c["priority"], c["id"]))
             conn.execute(
                 "UPDATE review_items SET state = 'claimed', claimed_by = ?, lease_until = ? "
                 "WHERE id = ?",

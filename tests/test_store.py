@@ -456,6 +456,49 @@ def test_expired_lease_is_reclaimable(store: Store, clock: FakeClock) -> None:
     assert taken is not None and taken.id == item.id and taken.claimed_by == "bob"
 
 
+def test_an_expired_lease_and_an_open_item_are_taken_in_queue_order(
+    store: Store, clock: FakeClock
+) -> None:
+    # Queue order: skipped least, then highest priority, then oldest.
+    seed(store, [make_row(i, priority=p) for i, p in ((1, 0.9), (2, 0.5), (3, 0.1))])
+    held = store.claim_next("ann", lease_seconds=60)
+    assert held is not None and held.product_id == "p0001"
+    clock.advance(61)
+    # p0001's lease ran out and it outranks the open p0002: it comes first.
+    taken = store.claim_next("bob")
+    assert taken is not None and taken.id == held.id
+    store.decide(taken.id, "bob", "skip")  # p0001 now goes behind the items never skipped
+    other = store.claim_next("cy", lease_seconds=60)
+    assert other is not None and other.product_id == "p0002"
+    clock.advance(61)
+    # The expired p0002 (never skipped) outranks the open, skipped p0001 and the open p0003
+    # (lower priority).
+    again = store.claim_next("dee")
+    assert again is not None and again.id == other.id
+
+
+def test_the_claim_reads_the_queue_from_its_index(store: Store) -> None:
+    # reference: SQLite documentation, "EXPLAIN QUERY PLAN" (a USE TEMP B-TREE FOR ORDER BY
+    # line means the rows are sorted, not read in order from an index).
+    seed(store, [make_row(i, priority=0.1 * i) for i in range(20)])
+    seed(store, [make_row(i) for i in range(3)], name="shop-b")
+    seen: list[str] = []
+    store._conn.set_trace_callback(seen.append)
+    try:
+        store.claim_next("ann")
+        store.claim_next("bob", feed="shop-b")
+    finally:
+        store._conn.set_trace_callback(None)
+    queue_reads = [q for q in seen if q.startswith("SELECT") and "ORDER BY skips" in q]
+    assert len(queue_reads) == 4  # open and expired, with and without a feed
+    for query in queue_reads:
+        plan = " | ".join(r[3] for r in store._conn.execute("EXPLAIN QUERY PLAN " + query))
+        assert "USING COVERING INDEX review_items_claim" in plan or (
+            "USING INDEX review_items_claim" in plan
+        ), plan
+        assert "TEMP B-TREE" not in plan, plan
+
+
 def test_release_and_skip_send_items_back(store: Store) -> None:
     seed(store, [make_row(1, confidence=0.1), make_row(2, confidence=0.2)])
     item = store.claim_next("ann")
