@@ -26,6 +26,7 @@ from catmap.onboard import (
     calibration_sources,
     check_against_gold,
     default_model_dir,
+    load_extractor,
     onboard_feed,
 )
 from catmap.project import project_dir
@@ -429,7 +430,14 @@ def decisions_import_command(
     folder = project_dir(project)
     tree = _tree_for(folder)
     with Store.open(store_path(folder)) as store:
-        result = import_decisions(store, file, tree=tree, reviewer=reviewer, rejects=rejects)
+        result = import_decisions(
+            store,
+            file,
+            tree=tree,
+            reviewer=reviewer,
+            rejects=rejects,
+            extractor=load_extractor(folder, tree),
+        )
     facts = result.to_dict()
     if as_json:
         echo_json(facts)
