@@ -216,14 +216,15 @@ def test_same_seed_gives_same_bytes(tmp_path: Path, small_tree: CategoryTree) ->
 
 
 def test_ensure_builds_only_what_is_missing(tmp_path: Path, small_tree: CategoryTree) -> None:
-    full = build_demo_world(tmp_path / "full", seed=0, tree=small_tree)
+    sizes = {"reference_size": 1500, "feed_sizes": SMALL_FEEDS}
+    full = build_demo_world(tmp_path / "full", seed=0, tree=small_tree, **sizes)
     root = tmp_path / "partial"
-    paths = ensure_demo_world(root, tree=small_tree)
+    paths = ensure_demo_world(root, tree=small_tree, **sizes)
     assert [p.read_bytes() for p in paths.all_files()] == [
         p.read_bytes() for p in full.all_files()]
     paths.brands.write_text("kept\n", encoding="utf-8")
     paths.reference.unlink()
-    ensure_demo_world(root, tree=small_tree)
+    ensure_demo_world(root, tree=small_tree, **sizes)
     assert paths.brands.read_text(encoding="utf-8") == "kept\n"
     assert paths.reference.read_bytes() == full.reference.read_bytes()
 

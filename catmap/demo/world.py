@@ -373,6 +373,8 @@ def build_demo_world(root: str | Path, *, seed: int = 0, reference_size: int = R
 
 
 def ensure_demo_world(root: str | Path, *, seed: int = 0,
+                      reference_size: int = REFERENCE_SIZE,
+                      feed_sizes: Mapping[str, int] | None = None,
                       tree: CategoryTree | None = None) -> DemoPaths:
     """Build only the demo files that are missing under ``root`` (idempotent).
 
@@ -382,10 +384,13 @@ def ensure_demo_world(root: str | Path, *, seed: int = 0,
     Args:
         root: the demo folder, e.g. ``feeds_demo``.
         seed: the seed the committed files were built with (0).
+        reference_size: products in the reference catalog, when it has to be built.
+        feed_sizes: products per retailer feed, when one has to be built (default sizes
+            for any not named).
         tree: the category tree; tree version 1 by default.
 
     Returns:
         Where the files are.
     """
-    return _build(Path(root), seed=seed, reference_size=REFERENCE_SIZE, feed_sizes={},
-                  tree=tree, only_missing=True)
+    return _build(Path(root), seed=seed, reference_size=reference_size,
+                  feed_sizes=dict(feed_sizes or {}), tree=tree, only_missing=True)
