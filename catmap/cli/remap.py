@@ -97,10 +97,11 @@ def render_report(facts: dict[str, Any]) -> None:
             )
     names = sorted(set(facts["departments_before"]) | set(facts["departments_after"]))
     if names:
-        console.print("  per department        before     after")
+        width = max(20, *(len(name) for name in names))
+        console.print(f"  {'per department':<{width + 2}} {'before':>8} {'after':>9}")
         for name in names:
             console.print(
-                f"    {escape(name):<20} {facts['departments_before'].get(name, 0):>8,} "
+                f"    {escape(name):<{width}} {facts['departments_before'].get(name, 0):>8,} "
                 f"{facts['departments_after'].get(name, 0):>9,}"
             )
     for feed, chosen in facts["thresholds"].items():
