@@ -6,6 +6,7 @@ import json
 import random
 from collections.abc import Sequence
 from pathlib import Path
+from typing import Any
 
 import pytest
 from sklearn.metrics import accuracy_score, f1_score, precision_recall_fscore_support
@@ -400,3 +401,59 @@ def test_model_mapper_backs_off_like_the_definition(small_tree: CategoryTree) ->
     assert mappings[1].confidence == pytest.approx(0.6)
     assert mappings[1].reason == "backed off from 1510"
     assert [a.node_id for a in mappings[1].alternatives] == ["1510", "1012", "1011"]
+
+
+def test_model_mapper_scores_sparsely_and_falls_back_to_dense_rows(
+    small_tree: CategoryTree,
+) -> None:
+    # A trained model's products are scored sparsely; rows whose answer could depend on the
+    # classes left out are scored densely, so the answers are those of the dense rows.
+    # Worked by hand, threshold 0.5, one alternative (two classes listed):
+    #   r0: dense 1011 0.7, 1012 0.2, 1510 0.1; sparse keeps 1011, 1012 (0.1 left out);
+    #       second listed 0.2 > 0.1 left out → sparse: 1011 at 0.7, alternative 1012 0.2
+    #   r1: dense 1011 0.6, 1012 0.1, 1510 0.3; sparse keeps 1011, 1012 (0.3 left out);
+    #       0.1 < 0.3 → dense: 1011 at 0.6, alternative 1510 0.3
+    #   r2: dense 1011 0.25, 1012 0.35, 1510 0.4; sparse keeps 1012, 1510; best 0.4 < 0.5
+    #       → dense back-off: 1010 = 0.25 + 0.35 = 0.6 → 1010 at 0.6, alternative 1510 0.4
+    import numpy as np
+    import scipy.sparse as sp
+
+    from catmap.classify.backoff import NodeIndex
+
+    classes = ["1011", "1012", "1510"]
+    dense_rows = {
+        "r0": [0.7, 0.2, 0.1],
+        "r1": [0.6, 0.1, 0.3],
+        "r2": [0.25, 0.35, 0.4],
+    }
+    sparse_rows = {"r0": [0.7, 0.2, 0.0], "r1": [0.6, 0.1, 0.0], "r2": [0.0, 0.35, 0.4]}
+    densely_scored: list[str] = []
+
+    class FakeModel:
+        def predict_sparse(self, texts: Any) -> sp.csr_matrix:
+            return sp.csr_matrix(np.array([sparse_rows[t] for t in texts.title]))
+
+        def predict_proba(self, texts: Any) -> np.ndarray:
+            densely_scored.extend(texts.title)
+            return np.array([dense_rows[t] for t in texts.title])
+
+    class FakeClassifier:
+        method = "model"
+
+        def __init__(self) -> None:
+            self.classes = classes
+            self.index = NodeIndex(small_tree, classes)
+            self.model = FakeModel()
+
+    products = [Product(f"p{i}", f"r{i}") for i in range(3)]
+    mappings = model_mapper(FakeClassifier(), 0.5, alternatives=1)(products)
+    assert densely_scored == ["r1", "r2"]
+    got = [
+        (m.node_id, m.confidence, m.method, [(a.node_id, a.confidence) for a in m.alternatives])
+        for m in mappings
+    ]
+    assert got == [
+        ("1011", pytest.approx(0.7), "model", [("1012", pytest.approx(0.2))]),
+        ("1011", pytest.approx(0.6), "model", [("1510", pytest.approx(0.3))]),
+        ("1010", pytest.approx(0.6), "backoff", [("1510", pytest.approx(0.4))]),
+    ]

@@ -444,6 +444,12 @@ def model_mapper(classifier: Any, threshold: float = 0.5, *, alternatives: int =
     backs off to the deepest node that reaches it (the model's own back-off). Per-feed rules
     and the retailer-path consensus pass of ``catmap map`` are not applied here.
 
+    With a trained model, the products are scored sparsely (``predict_sparse``: the classes of
+    each product's likely departments); only the rows whose answer could depend on the classes
+    left out are scored densely: rows that back off (node sums need every class), rows with
+    fewer scored classes than the mapping lists, and rows where the probability mass left out
+    could outrank a listed alternative. The answers are those of the dense probabilities.
+
     Args:
         classifier: the model engineer's ``Mapper`` (trained model or keywords only).
         threshold: the back-off threshold.
@@ -453,6 +459,7 @@ def model_mapper(classifier: Any, threshold: float = 0.5, *, alternatives: int =
         A function mapping a list of products to one mapping each.
     """
     import numpy as np
+    import scipy.sparse as sp
 
     from catmap.classify.backoff import backoff_rows
     from catmap.classify.features import product_texts
@@ -460,30 +467,62 @@ def model_mapper(classifier: Any, threshold: float = 0.5, *, alternatives: int =
     classes: list[str] = list(classifier.classes)
     nodes: list[str] = list(classifier.index.nodes)
     method: str = classifier.method
+    model = getattr(classifier, "model", None)
+    k = min(alternatives + 1, len(classes))
+
+    def dense(p: Any, out: list[Mapping | None], rows: Sequence[int]) -> None:
+        best_class, chosen, chosen_p, backed = backoff_rows(p, classifier.index, threshold)
+        top = np.argsort(-p, axis=1)[:, :k]
+        for j, i in enumerate(rows):
+            if backed[j]:
+                node = nodes[int(chosen[j])]
+                how = "backoff"
+                reason = f"backed off from {classes[int(best_class[j])]}"
+            else:
+                node = classes[int(best_class[j])]
+                how, reason = method, ""
+            alts = tuple(
+                Alternative(classes[int(c)], float(p[j, c]))
+                for c in top[j]
+                if classes[int(c)] != node
+            )[:alternatives]
+            out[i] = Mapping(node, float(chosen_p[j]), how, alts, reason)
 
     def run(products: Sequence[Product]) -> list[Mapping]:
         if not products:
             return []
-        p = classifier.predict_proba(product_texts(products))
-        best_class, chosen, chosen_p, backed = backoff_rows(p, classifier.index, threshold)
-        k = min(alternatives + 1, p.shape[1])
-        top = np.argsort(-p, axis=1)[:, :k]
-        out = []
-        for i in range(len(products)):
-            if backed[i]:
-                node = nodes[int(chosen[i])]
-                how = "backoff"
-                reason = f"backed off from {classes[int(best_class[i])]}"
-            else:
-                node = classes[int(best_class[i])]
-                how, reason = method, ""
+        texts = product_texts(products)
+        out: list[Mapping | None] = [None] * len(products)
+        if model is None:
+            dense(classifier.predict_proba(texts), out, range(len(products)))
+            return [m for m in out if m is not None]
+        matrix = sp.csr_matrix(model.predict_sparse(texts))
+        n = matrix.shape[0]
+        counts = np.diff(matrix.indptr)
+        row_of = np.repeat(np.arange(n), counts)
+        order = np.lexsort((-matrix.data, row_of))
+        cols, vals = matrix.indices[order], matrix.data[order]
+        rank = np.arange(len(order)) - matrix.indptr[row_of]
+        keep = rank < k
+        idx = np.zeros((n, k), dtype=np.int64)
+        top = np.zeros((n, k), dtype=np.float64)
+        idx[row_of[keep], rank[keep]] = cols[keep]
+        top[row_of[keep], rank[keep]] = vals[keep]
+        # The mass of the classes left out bounds each of them: a row is safe when its last
+        # listed class is above that bound (the dense rows sum to 1).
+        left_out = 1.0 - np.asarray(matrix.sum(axis=1)).ravel()
+        safe = (counts >= k) & (top[:, 0] >= threshold) & (top[:, k - 1] > left_out)
+        for i in np.flatnonzero(safe):
+            node = classes[int(idx[i, 0])]
             alts = tuple(
-                Alternative(classes[int(c)], float(p[i, c]))
-                for c in top[i]
-                if classes[int(c)] != node
+                Alternative(classes[int(c)], float(v))
+                for c, v in zip(idx[i, 1:], top[i, 1:], strict=True)
             )[:alternatives]
-            out.append(Mapping(node, float(chosen_p[i]), how, alts, reason))
-        return out
+            out[i] = Mapping(node, float(top[i, 0]), method, alts, "")
+        unsafe = np.flatnonzero(~safe)
+        if len(unsafe):
+            dense(model.predict_proba(texts.subset(unsafe)), out, unsafe.tolist())
+        return [m for m in out if m is not None]
 
     return run
 
