@@ -237,6 +237,51 @@ def _band(confidence: float) -> str:
     return f"{low:.2f}-{high:.2f}"
 
 
+# Pass-1 results of at most this many products stay in memory; past it they go to a temporary
+# folder (flat memory whatever the feed size).
+IN_MEMORY_PRODUCTS = 200_000
+
+# What pass 2 needs of a product: (product_id, title, retailer path, rule node, rule reason).
+_Row = tuple[str, str, str, str, str]
+# One chunk's pass-1 results: top-k class columns, their probabilities, the rows.
+_Chunk = tuple[np.ndarray[Any, Any], np.ndarray[Any, Any], list[_Row]]
+
+
+class _PassOneStore:
+    """Each chunk's top-k arrays and rows, in memory up to a budget, then in a temporary folder."""
+
+    def __init__(self, folder: Path, budget: int = IN_MEMORY_PRODUCTS) -> None:
+        self.folder, self.budget = folder, budget
+        self.held = 0
+        self._chunks: list[_Chunk | Path] = []
+
+    def add(self, idx: np.ndarray[Any, Any], vals: np.ndarray[Any, Any], rows: list[_Row]) -> None:
+        """Keep one chunk's results (in order)."""
+        if self.held + len(rows) <= self.budget:
+            self.held += len(rows)
+            self._chunks.append((idx, vals, rows))
+            return
+        base = self.folder / f"chunk-{len(self._chunks):06d}"
+        np.save(base.with_suffix(".idx.npy"), idx, allow_pickle=False)
+        np.save(base.with_suffix(".vals.npy"), vals, allow_pickle=False)
+        base.with_suffix(".jsonl").write_text(
+            "".join(json.dumps(r, ensure_ascii=False) + "\n" for r in rows), encoding="utf-8"
+        )
+        self._chunks.append(base)
+
+    def chunks(self) -> Iterator[_Chunk]:
+        """Yield the chunks back in order, reading spilt ones from disk."""
+        for chunk in self._chunks:
+            if not isinstance(chunk, Path):
+                yield chunk
+                continue
+            idx = np.load(chunk.with_suffix(".idx.npy"), allow_pickle=False)
+            vals = np.load(chunk.with_suffix(".vals.npy"), allow_pickle=False)
+            with open(chunk.with_suffix(".jsonl"), encoding="utf-8") as handle:
+                rows: list[_Row] = [tuple(json.loads(line)) for line in handle]
+            yield idx, vals, rows
+
+
 def map_feed(
     feed: Iterable[SourceRecord | Reject],
     profile: FeedProfile,
@@ -289,49 +334,46 @@ def map_feed(
 
     rejects = open_reject_writer(rejects_path, "csv" if format == "csv" else "jsonl")
     temporary = tempfile.TemporaryDirectory(prefix="catmap-map-")
-    chunk_files: list[tuple[Path, Path]] = []
+    store = _PassOneStore(Path(temporary.name))
     pool = None
     try:
         if workers > 1:
             _WORKER_MAPPER = mapper
             pool = multiprocessing.get_context("fork").Pool(workers)
-        pending: deque[tuple[int, list[dict[str, Any]], Any]] = deque()
+        pending: deque[tuple[list[_Row], Any]] = deque()
 
-        def finish(number: int, rows: list[dict[str, Any]], result: Any) -> None:
+        def finish(rows: list[_Row], result: Any) -> None:
             idx, vals = result.get() if pool is not None else result
-            for row, top in zip(rows, idx[:, 0], strict=True):
-                pairs.append((row["path"], row["rule_node"] or mapper.classes[int(top)]))
-            base = Path(temporary.name) / f"chunk-{number:06d}"
-            np.savez(base.with_suffix(".npz"), idx=idx, vals=vals)
-            rows_path = base.with_suffix(".jsonl")
-            rows_path.write_text(
-                "".join(json.dumps(r, ensure_ascii=False) + "\n" for r in rows), encoding="utf-8"
+            classes = mapper.classes
+            pairs.extend(
+                (row[2], row[3] or classes[top])
+                for row, top in zip(rows, idx[:, 0].tolist(), strict=True)
             )
-            chunk_files.append((base.with_suffix(".npz"), rows_path))
+            store.add(idx, vals, rows)
 
         try:
             products = iter_products(feed, profile, accounting)
-            for number, chunk in enumerate(_chunks(products, chunk_size, rejects.write)):
-                rows = []
+            for chunk in _chunks(products, chunk_size, rejects.write):
+                rows: list[_Row] = []
                 for product in chunk:
                     match = rules.match(product)
                     rows.append(
-                        {
-                            "product_id": product.product_id,
-                            "title": product.title,
-                            "path": " > ".join(product.category_path),
-                            "rule_node": match.rule.node_id if match else "",
-                            "rule_reason": match.reason if match else "",
-                        }
+                        (
+                            product.product_id,
+                            product.title,
+                            " > ".join(product.category_path),
+                            match.rule.node_id if match else "",
+                            match.reason if match else "",
+                        )
                     )
                 texts = product_texts(chunk)
                 fields = (texts.title, texts.path, texts.brand, texts.description)
                 if pool is not None:
-                    pending.append((number, rows, pool.apply_async(_worker_top_k, (fields,))))
+                    pending.append((rows, pool.apply_async(_worker_top_k, (fields,))))
                     while len(pending) > workers:
                         finish(*pending.popleft())
                 else:
-                    finish(number, rows, mapper.top_k(texts))
+                    finish(rows, mapper.top_k(texts))
                 if on_progress is not None:
                     on_progress(accounting.read)
         except FATAL_FEED_ERRORS as error:
@@ -349,7 +391,7 @@ def map_feed(
     consensus = path_consensus(pairs)
     writer = _MappingWriter(mappings_path, format)
     try:
-        _second_pass(chunk_files, mapper, consensus, threshold, writer, summary)
+        _second_pass(store.chunks(), mapper, consensus, threshold, writer, summary)
     finally:
         writer.close()
         temporary.cleanup()
@@ -418,7 +460,7 @@ def _share_matrix(
 
 
 def _second_pass(
-    chunk_files: list[tuple[Path, Path]],
+    chunks: Iterable[_Chunk],
     mapper: Mapper,
     consensus: dict[str, PathConsensus],
     threshold: float,
@@ -439,17 +481,14 @@ def _second_pass(
             text = node_path_cache[node] = tree.path_text(node)
         return text
 
-    for npz_path, rows_path in chunk_files:
-        arrays = np.load(npz_path, allow_pickle=False)
-        idx, vals = arrays["idx"], arrays["vals"].astype(np.float64)
-        with open(rows_path, encoding="utf-8") as handle:
-            rows = [json.loads(line) for line in handle]
+    for idx, vals32, rows in chunks:
+        vals = vals32.astype(np.float64)
         n, k = idx.shape
         p = sp.csr_matrix(
             (vals.ravel(), idx.ravel(), np.arange(0, n * k + 1, k)), shape=(n, len(mapper.classes))
         )
         if shares is not None and share_rows:
-            which = np.array([share_rows.get(r["path"], -1) for r in rows])
+            which = np.array([share_rows.get(r[2], -1) for r in rows])
             blend = which >= 0
             if blend.any():
                 mixed = (1 - weight) * p[blend] + weight * shares[which[blend]]
@@ -462,14 +501,14 @@ def _second_pass(
         p = sp.csr_matrix(p)
         indptr, indices, data = p.indptr.tolist(), p.indices.tolist(), p.data.tolist()
         classes = mapper.classes
-        for i, row in enumerate(rows):
+        for i, (product_id, title, _, rule_node, rule_reason) in enumerate(rows):
             start, end = indptr[i], indptr[i + 1]
             alternatives = sorted(
                 zip((classes[c] for c in indices[start:end]), data[start:end], strict=True),
                 key=lambda item: -item[1],
             )
-            if row["rule_node"]:
-                node, confidence, method, reason = row["rule_node"], 1.0, "rule", row["rule_reason"]
+            if rule_node:
+                node, confidence, method, reason = rule_node, 1.0, "rule", rule_reason
                 alternatives = [a for a in alternatives if a[0] != node]
             elif backed[i]:
                 node = mapper.index.nodes[int(chosen[i])]
@@ -483,8 +522,8 @@ def _second_pass(
                 method, reason = mapper.method, ""
                 alternatives = alternatives[1:]
             record: dict[str, Any] = {
-                "product_id": row["product_id"],
-                "title": row["title"],
+                "product_id": product_id,
+                "title": title,
                 "node_id": node,
                 "node_path": node_path(node),
                 "confidence": round(min(confidence, 1.0), 4),
