@@ -60,6 +60,31 @@ def test_map_with_a_trained_model(setup: tuple[Path, Path], tmp_path: Path) -> N
     assert paths["Maison > Café"]["count"] == 80
 
 
+def test_map_spills_pass_one_to_disk_with_the_same_result(
+    setup: tuple[Path, Path], tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    import catmap.classify.mapping as mapping
+
+    feed, project = setup
+    runner = CliRunner()
+    assert runner.invoke(main, ["train", str(feed), "--project", str(project)]).exit_code == 0
+    outputs = []
+    for budget in (mapping.IN_MEMORY_PRODUCTS, 0):
+        monkeypatch.setattr(mapping, "IN_MEMORY_PRODUCTS", budget)
+        monkeypatch.setattr(mapping, "CHUNK_SIZE", 50)
+        monkeypatch.setattr(
+            mapping.map_feed,
+            "__kwdefaults__",
+            {**mapping.map_feed.__kwdefaults__, "chunk_size": 50},
+        )
+        out = tmp_path / f"out-{budget}"
+        args = ["map", str(feed), "--out", str(out), "--project", str(project), "--workers", "1"]
+        assert runner.invoke(main, args).exit_code == 0
+        outputs.append((out / "mappings.jsonl").read_text(encoding="utf-8"))
+    assert len(outputs[1].splitlines()) == 240
+    assert outputs[0] == outputs[1]
+
+
 def test_map_applies_rules_and_reports_conflicts(setup: tuple[Path, Path], tmp_path: Path) -> None:
     feed, project = setup
     rules = tmp_path / "shop.rules"

@@ -250,8 +250,9 @@ _Chunk = tuple[np.ndarray[Any, Any], np.ndarray[Any, Any], list[_Row]]
 class _PassOneStore:
     """Each chunk's top-k arrays and rows, in memory up to a budget, then in a temporary folder."""
 
-    def __init__(self, folder: Path, budget: int = IN_MEMORY_PRODUCTS) -> None:
-        self.folder, self.budget = folder, budget
+    def __init__(self, folder: Path, budget: int | None = None) -> None:
+        self.folder = folder
+        self.budget = IN_MEMORY_PRODUCTS if budget is None else budget
         self.held = 0
         self._chunks: list[_Chunk | Path] = []
 
