@@ -33,13 +33,14 @@ from __future__ import annotations
 
 import time
 from collections import Counter
-from collections.abc import Callable, Iterable, Iterator, Sequence
+from collections.abc import Callable, Iterator, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
 import numpy as np
 
+from catmap._iterate import chunked
 from catmap.attributes import AttributeExtractor, BrandDictionary
 from catmap.attributes._text import fold
 from catmap.attributes.brand import dictionary_in_use, normalize_brand
@@ -531,17 +532,6 @@ class OnboardSummary:
         return facts
 
 
-def _chunks(items: Iterable[Product], size: int) -> Iterator[list[Product]]:
-    chunk: list[Product] = []
-    for item in items:
-        chunk.append(item)
-        if len(chunk) >= size:
-            yield chunk
-            chunk = []
-    if chunk:
-        yield chunk
-
-
 def _brand_conflict(product: Product, attributes: Attributes, brands: BrandDictionary) -> bool:
     """The feed names a brand the dictionary does not know, and the title names another one."""
     if not product.brand or not attributes.brand_evidence.startswith("field not in dictionary"):
@@ -718,7 +708,7 @@ def onboard_feed(
                     accounting.stopped_early = str(fatal)
 
         def rows() -> Iterator[MappedRow]:
-            for chunk in _chunks(products(), options.chunk_size):
+            for chunk in chunked(products(), options.chunk_size):
                 progress("mapping", accounting.read)
                 for product, mapping in zip(chunk, mapper.map(chunk), strict=True):
                     row = _first_row(product, mapping, threshold, extractor, tree)

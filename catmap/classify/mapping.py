@@ -22,6 +22,7 @@ from typing import IO, Any
 import numpy as np
 import scipy.sparse as sp
 
+from catmap._iterate import chunked
 from catmap.classify.backoff import NodeIndex, backoff_rows
 from catmap.classify.consensus import MIN_PRODUCTS, PathConsensus, path_consensus
 from catmap.classify.features import ProductTexts, product_texts
@@ -216,17 +217,14 @@ def _parquet_schema() -> Any:
 def _chunks(
     items: Iterable[Product | Reject], size: int, on_reject: Callable[[Reject], None]
 ) -> Iterator[list[Product]]:
-    chunk: list[Product] = []
-    for item in items:
-        if isinstance(item, Reject):
-            on_reject(item)
-            continue
-        chunk.append(item)
-        if len(chunk) >= size:
-            yield chunk
-            chunk = []
-    if chunk:
-        yield chunk
+    def products() -> Iterator[Product]:
+        for item in items:
+            if isinstance(item, Reject):
+                on_reject(item)
+            else:
+                yield item
+
+    return chunked(products(), size)
 
 
 def _band(confidence: float) -> str:

@@ -21,6 +21,7 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
+from catmap._iterate import chunked
 from catmap.errors import InputError
 from catmap.evaluate.metrics import (
     ECE_BINS,
@@ -193,17 +194,6 @@ class Collected:
     rejected: int = 0
 
 
-def _chunks(items: Iterator[Product], size: int) -> Iterator[list[Product]]:
-    chunk: list[Product] = []
-    for item in items:
-        chunk.append(item)
-        if len(chunk) >= size:
-            yield chunk
-            chunk = []
-    if chunk:
-        yield chunk
-
-
 def collect(
     products: Iterator[Product | Reject],
     *,
@@ -256,7 +246,7 @@ def collect(
             out.gold.append(labels)
             yield item
 
-    for chunk in _chunks(usable(), chunk_size):
+    for chunk in chunked(usable(), chunk_size):
         mappings = list(mapper(chunk))
         if len(mappings) != len(chunk):
             raise ValueError(f"the mapper gave {len(mappings)} mappings for {len(chunk)} products")
