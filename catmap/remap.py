@@ -1046,6 +1046,50 @@ def finalise_remap(store: Store, *, actor: str = "catmap") -> int:
 # --------------------------------------------------------------------------------------------
 
 
+REMAPPED_CATALOG_COLUMNS = (
+    "product_id", "title", "description", "brand", "retailer_category", "gold_node", "split",
+)
+
+
+def write_remapped_catalog(store: Store, tree: CategoryTree, path: str | Path) -> int:
+    """Write the settled mappings on ``tree``'s version as a labelled CSV feed for training.
+
+    This is how the model follows the tree: after a remap, the accepted and reviewed mappings
+    of the new version are the labelled catalog ``catmap train --tree-version N`` learns from.
+    Columns: :data:`REMAPPED_CATALOG_COLUMNS`; ``split`` is a fixed 90/10 train / valid split by
+    a hash of the product id, so a rerun keeps the same validation products. The file is for
+    catmap's own reader, never a spreadsheet, so cells are written as they are.
+
+    Returns:
+        How many products were written.
+    """
+    import csv
+    import hashlib
+
+    target = Path(path)
+    target.parent.mkdir(parents=True, exist_ok=True)
+    count = 0
+    with target.open("w", encoding="utf-8", newline="") as handle:
+        writer = csv.writer(handle)
+        writer.writerow(REMAPPED_CATALOG_COLUMNS)
+        for product, node in remapped_examples(store, tree):
+            digest = hashlib.blake2b(product.product_id.encode("utf-8"), digest_size=8).digest()
+            split = "valid" if int.from_bytes(digest, "big") % 10 == 0 else "train"
+            writer.writerow(
+                (
+                    product.product_id,
+                    product.title,
+                    product.description,
+                    product.brand,
+                    " > ".join(product.category_path),
+                    node,
+                    split,
+                )
+            )
+            count += 1
+    return count
+
+
 def remapped_examples(
     store: Store, tree: CategoryTree, *, statuses: tuple[str, ...] = ("accepted", "reviewed")
 ) -> Iterator[tuple[Product, str]]:

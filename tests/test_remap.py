@@ -483,3 +483,26 @@ def test_rollback_restores_the_attributes_too(store: Store, tmp_path: Path) -> N
     assert _dump(store.path) != before
     rollback_remap(store)
     assert _dump(store.path) == before
+
+
+def test_remapped_catalog_is_a_labelled_feed_catmap_can_train_on(
+    store: Store, tmp_path: Path
+) -> None:
+    from catmap.classify.training import read_labelled
+    from catmap.remap import write_remapped_catalog
+
+    _save(
+        store,
+        [
+            ("p1", "Indoor court shoes", "124", 0.91, "accepted"),
+            ("p2", "Snow boots", "113", 0.5, "queued"),
+        ],
+    )
+    new = _tree("merged_kept.txt")
+    remap_store(store, _tree("old.txt"), new)
+    catalog = tmp_path / "remapped.csv"
+    assert write_remapped_catalog(store, new, catalog) == 1
+    data = read_labelled([catalog], tree=new, project=tmp_path)
+    rows = data.train + data.valid + data.test
+    assert [(product.product_id, label) for product, label in rows] == [("p1", "123")]
+    assert rows[0][0].title == "Indoor court shoes"

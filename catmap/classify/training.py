@@ -78,13 +78,23 @@ class TrainingReport:
         return dict(self.__dict__)
 
 
-def feed_profile(feed_path: Path, project: Path) -> tuple[FeedProfile, Path]:
-    """Return the feed's saved profile, or suggest one and save it in the project."""
+def feed_profile(
+    feed_path: Path, project: Path, *, reserved: Sequence[str] = ()
+) -> tuple[FeedProfile, Path]:
+    """Return the feed's saved profile, or suggest one and save it in the project.
+
+    Columns named in ``reserved`` (a label column, ``split``) are never suggested as a product
+    field: short node ids look like sizes to the value-based guess, and a label read as a size
+    would be lost to training.
+    """
     saved = profile_path(project, feed_path)
     if saved.exists():
         return load_profile(saved), saved
     opened = open_feed(feed_path)
     profile = suggest_profile(opened.info, opened.sample(SAMPLE_SIZE))
+    for target, column in list(profile.columns.items()):
+        if column in reserved:
+            del profile.columns[target]
     saved.parent.mkdir(parents=True, exist_ok=True)
     save_profile(profile, saved)
     return profile, saved
@@ -103,7 +113,7 @@ def _labelled_stream(
     """Yield (product, node id, split) of every labelled product, counting the skipped ones."""
     rng = random.Random(random_state)
     for feed_path in feeds:
-        profile, saved = feed_profile(feed_path, project)
+        profile, saved = feed_profile(feed_path, project, reserved=(label_column, "split"))
         opened = open_feed(
             feed_path,
             encoding=profile.encoding,

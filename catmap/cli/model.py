@@ -15,12 +15,13 @@ from catmap.classify.rules import RuleSet, load_rules
 from catmap.classify.storage import MANIFEST, load_model
 from catmap.classify.training import feed_profile, train_model
 from catmap.cli._render import console, echo_json, err_console, json_option
-from catmap.errors import InputError
+from catmap.errors import InputError, ModelNotTrained
 from catmap.feeds import open_feed
 from catmap.ingest import Accounting, check_profile
 from catmap.onboard import project_review_examples
 from catmap.project import feed_stem, project_dir, subfolder
-from catmap.taxonomy import load_default_tree
+from catmap.records import Product
+from catmap.taxonomy import CategoryTree, load_default_tree
 from catmap.writers import FORMATS
 
 _project_option = click.option(
@@ -36,6 +37,31 @@ _tree_version_option = click.option(
 
 def _model_dir(project: Path, model: Path | None) -> Path:
     return model if model is not None else project / "models" / "current"
+
+
+# The tree version the demo reference catalog is labelled with.
+DEMO_TREE_VERSION = "1"
+
+
+def _remapped_catalog(folder: Path, tree: CategoryTree) -> Path:
+    from catmap.remap import write_remapped_catalog
+    from catmap.store import Store, store_path
+
+    hint = f"run `catmap remap --to {tree.version}` first, or give labelled feeds"
+    if not store_path(folder).is_file():
+        raise ModelNotTrained(
+            f"no labelled products for tree version {tree.version}", path=folder, hint=hint
+        )
+    catalog = subfolder(folder, "models") / f"remapped-catalog-v{tree.version}.csv"
+    with Store.open(store_path(folder)) as store:
+        written = write_remapped_catalog(store, tree, catalog)
+    if written == 0:
+        raise ModelNotTrained(
+            f"the project store has no settled mappings on tree version {tree.version}",
+            path=store_path(folder),
+            hint=hint,
+        )
+    return catalog
 
 
 @click.command("train")
@@ -87,13 +113,19 @@ def train_command(
     tree = load_default_tree(tree_version)
     folder = project_dir(project)
     sources = list(feeds)
-    if not sources:
+    reviewed: list[tuple[Product, str]] = []
+    if not sources and str(tree.version) != DEMO_TREE_VERSION:
+        # A newer tree than the demo catalog's: learn from the project's remapped catalog.
+        sources = [_remapped_catalog(folder, tree)]
+    elif not sources:
         from catmap.demo import ensure_demo_world
 
         root = Path(__file__).resolve().parents[2] / "feeds_demo"
         paths = ensure_demo_world(root, tree=tree)
         sources = [Path(paths.reference)]
-    reviewed = project_review_examples(folder, tree) if with_reviews else []
+        reviewed = project_review_examples(folder, tree) if with_reviews else []
+    else:
+        reviewed = project_review_examples(folder, tree) if with_reviews else []
     with Progress(
         SpinnerColumn(),
         TextColumn("{task.description}"),
