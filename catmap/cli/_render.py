@@ -36,3 +36,10 @@ def echo_json(facts: Mapping[str, Any]) -> None:
 json_option = click.option(
     "--json", "as_json", is_flag=True, help="Print the same facts as JSON, for scripts and CI."
 )
+
+project_option = click.option(
+    "--project",
+    "project",
+    default=None,
+    help="Project folder (default: $CATMAP_PROJECT or ./catmap-work).",
+)

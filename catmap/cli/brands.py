@@ -18,18 +18,13 @@ from catmap.attributes.brand import (
     project_dictionary_path,
 )
 from catmap.cli._render import console, echo_json, json_option
+from catmap.cli._render import project_option as _project_option
 from catmap.cli.feeds import SAMPLE_SIZE, _open
 from catmap.fieldmap import load_profile, suggest_profile
 from catmap.ingest import FATAL_FEED_ERRORS, Accounting, iter_products
 from catmap.project import profile_path, project_dir
 from catmap.records import Product
 
-_project_option = click.option(
-    "--project",
-    "project",
-    default=None,
-    help="Project folder (default: $CATMAP_PROJECT or ./catmap-work).",
-)
 _dictionary_option = click.option(
     "--dictionary",
     "dictionary",

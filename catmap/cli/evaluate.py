@@ -9,7 +9,7 @@ import click
 from rich.markup import escape
 from rich.table import Table
 
-from catmap.cli._render import console, echo_json, json_option
+from catmap.cli._render import console, echo_json, json_option, project_option
 from catmap.evaluate.run import evaluate_feed
 from catmap.project import project_dir
 from catmap.report_html import write_report
@@ -55,12 +55,7 @@ CONFUSIONS_SHOWN = 10
     help="Below this confidence, answer the deepest sure parent node.",
 )
 @click.option("--tree-version", default="1", show_default=True, help="Category tree version.")
-@click.option(
-    "--project",
-    "project",
-    default=None,
-    help="Project folder (default: $CATMAP_PROJECT or ./catmap-work).",
-)
+@project_option
 @json_option
 def evaluate_command(
     labelled_feed: Path,

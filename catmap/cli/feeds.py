@@ -12,6 +12,7 @@ from rich.progress import Progress, SpinnerColumn, TextColumn, TimeElapsedColumn
 from rich.table import Table
 
 from catmap.cli._render import console, echo_json, err_console, json_option
+from catmap.cli._render import project_option as _project_option
 from catmap.errors import InputError
 from catmap.feeds import Feed, open_feed
 from catmap.fieldmap import (
@@ -53,12 +54,6 @@ _delimiter_option = click.option(
     "--delimiter",
     default=None,
     help="Delimited text only: the column separator (default: detected).",
-)
-_project_option = click.option(
-    "--project",
-    "project",
-    default=None,
-    help="Project folder (default: $CATMAP_PROJECT or ./catmap-work).",
 )
 
 

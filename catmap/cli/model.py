@@ -15,6 +15,7 @@ from catmap.classify.rules import RuleSet, load_rules
 from catmap.classify.storage import MANIFEST, load_model
 from catmap.classify.training import feed_profile, train_model
 from catmap.cli._render import console, echo_json, err_console, json_option
+from catmap.cli._render import project_option as _project_option
 from catmap.errors import InputError, ModelNotTrained
 from catmap.feeds import open_feed
 from catmap.ingest import Accounting, check_profile
@@ -24,12 +25,6 @@ from catmap.records import Product
 from catmap.taxonomy import CategoryTree, load_default_tree
 from catmap.writers import FORMATS
 
-_project_option = click.option(
-    "--project",
-    "project",
-    default=None,
-    help="Project folder (default: $CATMAP_PROJECT or ./catmap-work).",
-)
 _tree_version_option = click.option(
     "--tree-version", default="1", show_default=True, help="Version of the shared category tree."
 )

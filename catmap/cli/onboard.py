@@ -15,6 +15,7 @@ from rich.progress import Progress, SpinnerColumn, TextColumn, TimeElapsedColumn
 from rich.table import Table
 
 from catmap.cli._render import console, echo_json, err_console, json_option
+from catmap.cli._render import project_option as _project_option
 from catmap.decide import DEFAULT_DELTA, DEFAULT_MAX_ERROR
 from catmap.decisions_io import export_decisions, import_decisions
 from catmap.errors import ModelNotTrained
@@ -33,13 +34,6 @@ from catmap.project import project_dir
 from catmap.store import Store, store_path
 from catmap.taxonomy import CategoryTree, load_default_tree
 from catmap.writers import FORMATS
-
-_project_option = click.option(
-    "--project",
-    "project",
-    default=None,
-    help="Project folder (default: $CATMAP_PROJECT or ./catmap-work).",
-)
 
 
 def _say(*objects: Any) -> None:

@@ -14,6 +14,7 @@ import click
 from rich.markup import escape
 
 from catmap.cli._render import console, echo_json, json_option
+from catmap.cli._render import project_option as _project_option
 from catmap.errors import InputError, StoreError
 from catmap.onboard import default_model_dir, load_extractor
 from catmap.project import project_dir
@@ -29,13 +30,6 @@ from catmap.remap import (
 )
 from catmap.store import Store, store_path
 from catmap.treediff import load_crosswalk
-
-_project_option = click.option(
-    "--project",
-    "project",
-    default=None,
-    help="Project folder (default: $CATMAP_PROJECT or ./catmap-work).",
-)
 
 
 def _actor() -> str:

@@ -8,6 +8,7 @@ import click
 
 from catmap.attributes import BrandDictionary
 from catmap.attributes.brand import dictionary_in_use
+from catmap.cli._render import project_option
 from catmap.errors import StoreError
 from catmap.project import project_dir
 from catmap.review.session import ReviewSession
@@ -32,12 +33,7 @@ def register(main: click.Group) -> None:
     """Add ``catmap review`` to the command group."""
 
     @main.command("review")
-    @click.option(
-        "--project",
-        "project",
-        default=None,
-        help="Project folder (default: $CATMAP_PROJECT or ./catmap-work).",
-    )
+    @project_option
     @click.option("--feed", default=None, help="Only review the items of this feed.")
     @click.option(
         "--reviewer",
