@@ -35,25 +35,9 @@ from catmap.records import Mapping
 from catmap.store import Store, store_path
 from catmap.taxonomy import CategoryTree, load_tree
 
-TINY_TREE = """\
-@tree-version 1
-# a tiny tree for onboarding tests
-1000 | - | Apparel | who=female,male,unisex age=adult,kids,baby | - | en: clothing; clothes | fr: vêtements; habits | de: Bekleidung; Kleidung | es: ropa; prendas
-1010 | 1000 | Tops | . | - | en: tops; tees | fr: hauts; tops | de: Oberteile; Tops | es: tops; camisetas
-1011 | 1010 | T-shirts | . | - | en: t-shirt; tee; crew neck tee | fr: t-shirt; tee-shirt | de: T-Shirt; Shirt | es: camiseta; camiseta básica
-1012 | 1010 | Blouses | who=female | - | en: blouse; tunic blouse; chiffon blouse | fr: chemisier; blouse | de: Bluse; Damenbluse | es: blusa; blusa fluida
-1020 | 1000 | Dresses | who=female | - | en: dresses; frocks | fr: robes; robe | de: Kleider; Kleid | es: vestidos; vestido
-1021 | 1020 | Maxi dresses | . | - | en: maxi dress; long dress; floor-length dress | fr: robe longue; robe maxi | de: Maxikleid; langes Kleid | es: vestido largo; vestido maxi
-1022 | 1020 | Mini dresses | . | - | en: mini dress; short dress; skater dress | fr: robe courte; mini robe | de: Minikleid; kurzes Kleid | es: vestido corto; minivestido
-1500 | - | Footwear | who=female,male,unisex age=adult,kids | - | en: shoes; footwear | fr: chaussures; souliers | de: Schuhe; Schuhwerk | es: calzado; zapatos
-1520 | 1500 | Boots | . | - | en: boots; boot | fr: bottes; boots | de: Stiefel; Boots | es: botas; bota
-1521 | 1520 | Ankle boots | . | - | en: ankle boots; booties; chelsea boots | fr: bottines; boots courtes | de: Stiefeletten; Chelsea Boots | es: botines; botas bajas
-1522 | 1520 | Knee-high boots | . | - | en: knee-high boots; tall boots; riding boots | fr: bottes hautes; cuissardes | de: Langschaftstiefel; Reitstiefel | es: botas altas; botas de montar
-4000 | - | Home and kitchen | none | - | en: home; kitchen | fr: maison; cuisine | de: Haushalt; Küche | es: hogar; cocina
-4010 | 4000 | Cookware | . | - | en: cookware; pots and pans | fr: batterie de cuisine; casseroles | de: Kochgeschirr; Töpfe | es: menaje; batería de cocina
-4011 | 4010 | Frying pans | . | - | en: frying pan; skillet; fry pan | fr: poêle; poêle à frire | de: Bratpfanne; Pfanne | es: sartén; sartén antiadherente
-4012 | 4010 | Saucepans | . | - | en: saucepan; sauce pan; milk pan | fr: casserole; poêlon | de: Kochtopf; Stieltopf | es: cazo; cacerola
-"""  # noqa: E501
+TINY_TREE = (Path(__file__).parent / "data" / "trees" / "small_world.txt").read_text(
+    encoding="utf-8"
+)
 FEED_SIZES = {"ferravelle": 120, "quorvane": 80, "tallimbra": 100, "oskelund_labelled": 40}
 REFERENCE_SIZE = 1500
 # With ~150 validation products, 2% cannot be shown at 95% (at least 148 accepted and almost no
