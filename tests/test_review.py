@@ -570,20 +570,25 @@ def _flat(text: str) -> str:
     return " ".join(text.split())
 
 
+async def _search(pilot: Any, app: ReviewApp, text: str) -> tuple[Any, str | None]:
+    """Open the tree search, type ``text``; return the search screen and the highlighted id."""
+    await pilot.press("slash")
+    await pilot.pause()
+    await pilot.press(*text)
+    await pilot.pause()
+    search = app.screen
+    results = search.query_one("#search-results", OptionList)
+    assert results.highlighted is not None
+    return search, results.get_option_at_index(results.highlighted).id
+
+
 @sync
 async def test_search_shows_the_caution_for_a_highlighted_restricted_node(
     store: Store, tree: CategoryTree
 ) -> None:
     app = ReviewApp(_session(store, tree))
     async with app.run_test(size=SIZE) as pilot:
-        await pilot.press("slash")
-        await pilot.pause()
-        await pilot.press(*"red wine")
-        await pilot.pause()
-        search = app.screen
-        results = search.query_one("#search-results", OptionList)
-        assert results.highlighted is not None
-        picked = results.get_option_at_index(results.highlighted).id
+        search, picked = await _search(pilot, app, "red wine")
         assert picked is not None and tree.restriction(picked) == "alcohol"
         caution = _flat(str(search.query_one("#search-caution", Static).render()))
         assert "alcohol" in caution
@@ -601,14 +606,7 @@ async def test_search_shows_no_caution_for_an_unrestricted_node(
 ) -> None:
     app = ReviewApp(_session(store, tree))
     async with app.run_test(size=SIZE) as pilot:
-        await pilot.press("slash")
-        await pilot.pause()
-        await pilot.press(*"chelsea boot")
-        await pilot.pause()
-        search = app.screen
-        results = search.query_one("#search-results", OptionList)
-        assert results.highlighted is not None
-        picked = results.get_option_at_index(results.highlighted).id
+        search, picked = await _search(pilot, app, "chelsea boot")
         assert picked == CHELSEA_BOOTS and tree.restriction(CHELSEA_BOOTS) is None
         assert str(search.query_one("#search-caution", Static).render()).strip() == ""
         await pilot.press("escape")
