@@ -68,6 +68,28 @@ def test_batched_word_ngrams_equal_the_vectorizer(ngrams: tuple[int, int]) -> No
     )
 
 
+PUNCTUATED = [
+    "Réf.25639 (27446) kids' boots - black/white",
+    "boots—leather, black; REF:S-97258",
+    "cuir noir cuir-noir cuirnoir",
+    "— … ---",
+    "zzq boots leather zzq",  # a known bigram around unknown words
+]
+
+
+@pytest.mark.parametrize("pattern", [r"(?u)\b\w+\b", r"(?u)\b\w\w+\b"])
+def test_word_ngrams_by_token_number_equal_the_vectorizer_across_batches(pattern: str) -> None:
+    vectorizer = TfidfVectorizer(
+        analyzer="word", ngram_range=(1, 2), token_pattern=pattern, sublinear_tf=True
+    ).fit(TRAIN + PUNCTUATED[:3])
+    fast = WordNgramTfidf(vectorizer, max_words=12)  # small: the word cache starts again
+    assert fast._by_token  # the token-number path, not the per-text one
+    for batch in (PUNCTUATED, QUERIES, PUNCTUATED[::-1], QUERIES + PUNCTUATED):
+        # reference: scikit-learn's own TfidfVectorizer.transform
+        expected = vectorizer.transform(batch).toarray()
+        assert np.allclose(fast.transform(batch).toarray(), expected, atol=1e-6)
+
+
 def test_unsupported_settings_fall_back_to_the_vectorizer() -> None:
     stemmed = TfidfVectorizer(analyzer="word", stop_words=["de"]).fit(TRAIN)
     assert fast_transformer(stemmed) is None

@@ -26,6 +26,8 @@ import scipy.sparse as sp
 from sklearn.feature_extraction.text import TfidfVectorizer
 from sklearn.preprocessing import normalize
 
+from catmap.classify._kernels import sum_rows
+
 __all__ = ["WordCachedTfidf", "WordNgramTfidf", "fast_transformer"]
 
 # Past this many cached words the cache starts again (bounded memory on endless feeds).
@@ -83,12 +85,19 @@ class WordCachedTfidf:
     def _ngrams(self, word: str) -> list[str]:
         # The char_wb rule: pad with one space each side; a word shorter than n counts once.
         padded = f" {word} "
+        size = len(padded)
+        if size > self._high:  # the usual case: every n fits
+            return [
+                padded[i : i + n]
+                for n in range(self._low, self._high + 1)
+                for i in range(size - n + 1)
+            ]
         grams: list[str] = []
         for n in range(self._low, self._high + 1):
-            if n >= len(padded):
+            if n >= size:
                 grams.append(padded)
                 break
-            grams.extend(padded[i : i + n] for i in range(len(padded) - n + 1))
+            grams.extend([padded[i : i + n] for i in range(size - n + 1)])
         return grams
 
     def _add_words(self, words: Sequence[str]) -> None:
@@ -133,14 +142,12 @@ class WordCachedTfidf:
             self._add_words(new)
         rows = np.fromiter(map(row_of.__getitem__, flat), dtype=np.int64, count=len(flat))
         cached = self._matrix()
-        # (texts × cached words) occurrence counts, times (cached words × n-grams): per-text sums.
-        pick = sp.csr_matrix(
-            (np.ones(len(flat), dtype=np.float32), rows, indptr),
-            shape=(len(texts), cached.shape[0]),
+        # Each text's count row is the sum of its words' cached rows (no duplicate entries;
+        # the column order within a row is left as it comes).
+        return sp.csr_matrix(
+            sum_rows(indptr, rows, cached.indptr, cached.indices, cached.data, self._n_features),
+            shape=(len(texts), self._n_features),
         )
-        # A sparse product has no duplicate entries; its column order is left as it comes.
-        result: sp.csr_matrix = (pick @ cached).tocsr()
-        return result
 
     def transform(self, texts: Sequence[str]) -> sp.csr_matrix:
         """Return what ``vectorizer.transform(texts)`` returns (float32 CSR, rows L2-normalised)."""
@@ -150,11 +157,19 @@ class WordCachedTfidf:
 class WordNgramTfidf:
     """Apply a fitted word TfidfVectorizer (lowercasing, no stop words) to a batch at once.
 
+    For unigrams and bigrams (the ranges catmap uses), every distinct whitespace-separated word
+    is cut into tokens once and cached as token numbers; a text's unigrams and bigrams are then
+    looked up for the whole batch with NumPy (a bigram is a pair of token numbers, found by a
+    binary search among the vocabulary's pairs). The token pattern never matches whitespace, so
+    cutting word by word gives the same tokens as cutting the whole text. Other n-gram ranges
+    take the plain path (tokens and n-grams per text).
+
     Args:
         vectorizer: a fitted TfidfVectorizer with ``analyzer="word"``.
+        max_words: cache size limit (the word cache is emptied when it is reached).
     """
 
-    def __init__(self, vectorizer: TfidfVectorizer) -> None:
+    def __init__(self, vectorizer: TfidfVectorizer, *, max_words: int = MAX_CACHED_WORDS) -> None:
         if (
             vectorizer.analyzer != "word"
             or not vectorizer.lowercase
@@ -165,10 +180,68 @@ class WordNgramTfidf:
         ):
             raise ValueError("only a plain lowercasing word vectorizer is supported")
         self.vectorizer = vectorizer
+        self.max_words = max_words
         self._findall = re.compile(vectorizer.token_pattern).findall
         self._low, self._high = vectorizer.ngram_range
         self._vocabulary: dict[str, int] = vectorizer.vocabulary_
         self._idf = np.asarray(vectorizer.idf_, dtype=np.float64)
+        self._by_token = self._low == 1 and self._high <= 2 and self._tables()
+        if self._by_token:
+            self._reset()
+
+    def _tables(self) -> bool:
+        """Number the vocabulary's tokens; index its unigrams and bigrams by token numbers."""
+        token: dict[str, int] = {}
+        unigram_tokens: list[int] = []
+        unigram_features: list[int] = []
+        pair_keys: list[int] = []
+        pair_features: list[int] = []
+        for term, feature in self._vocabulary.items():
+            parts = term.split(" ")
+            if len(parts) > 2 or any(not part or self._findall(part) != [part] for part in parts):
+                return False  # a token pattern that keeps spaces: the plain path is exact
+            numbers = [token.setdefault(part, len(token)) for part in parts]
+            if len(numbers) == 1:
+                unigram_tokens.append(numbers[0])
+                unigram_features.append(feature)
+            else:
+                pair_keys.append((numbers[0] << 32) | numbers[1])
+                pair_features.append(feature)
+        self._known_tokens = token
+        self._unigram_base = np.full(len(token), -1, dtype=np.int64)
+        self._unigram_base[unigram_tokens] = unigram_features
+        order = np.argsort(np.array(pair_keys, dtype=np.int64), kind="stable")
+        self._pair_keys = np.array(pair_keys, dtype=np.int64)[order]
+        self._pair_features = np.array(pair_features, dtype=np.int64)[order]
+        return True
+
+    def _reset(self) -> None:
+        self._token = dict(self._known_tokens)
+        self._unigram = self._unigram_base
+        self._word_index: dict[str, int] = {}
+        self._word_start = np.zeros(0, dtype=np.int64)
+        self._word_length = np.zeros(0, dtype=np.int64)
+        self._tokens = np.zeros(0, dtype=np.int64)
+
+    def _add_words(self, words: Sequence[str]) -> None:
+        cut = [self._findall(word) for word in words]
+        flat = list(chain.from_iterable(cut))
+        numbers = np.fromiter(
+            (self._token.setdefault(t, len(self._token)) for t in flat),
+            dtype=np.int64,
+            count=len(flat),
+        )
+        lengths = np.fromiter(map(len, cut), dtype=np.int64, count=len(cut))
+        starts = len(self._tokens) + np.concatenate([[0], np.cumsum(lengths)[:-1]])
+        first = len(self._word_index)
+        self._word_index.update(zip(words, range(first, first + len(words)), strict=True))
+        self._word_start = np.concatenate([self._word_start, starts.astype(np.int64)])
+        self._word_length = np.concatenate([self._word_length, lengths])
+        self._tokens = np.concatenate([self._tokens, numbers])
+        if len(self._token) > len(self._unigram):  # tokens outside the vocabulary
+            grown = np.full(len(self._token), -1, dtype=np.int64)
+            grown[: len(self._unigram)] = self._unigram
+            self._unigram = grown
 
     def _terms(self, text: str) -> list[str]:
         tokens: list[str] = self._findall(text.lower())
@@ -181,8 +254,44 @@ class WordNgramTfidf:
             terms.extend(" ".join(tokens[i : i + n]) for i in range(len(tokens) - n + 1))
         return terms
 
+    def _token_counts(self, texts: Sequence[str]) -> sp.csr_matrix:
+        flat, distinct, indptr = _split_words(texts)
+        if len(self._word_index) + len(distinct) > self.max_words:
+            self._reset()
+        new = [w for w in distinct if w not in self._word_index]
+        if new:
+            self._add_words(new)
+        word = np.fromiter(map(self._word_index.__getitem__, flat), dtype=np.int64, count=len(flat))
+        lengths = self._word_length[word]
+        ends = np.cumsum(lengths)
+        # Each word's tokens in a row: position k of word w is _tokens[start(w) + k].
+        offsets = np.repeat(self._word_start[word] - (ends - lengths), lengths)
+        tokens = self._tokens[offsets + np.arange(int(ends[-1]) if len(ends) else 0)]
+        token_indptr = np.concatenate([[0], ends])[indptr]
+        row = np.repeat(np.arange(len(texts)), np.diff(token_indptr))
+        features = [self._unigram[tokens]]
+        rows = [row]
+        if self._high == 2 and len(tokens) > 1:
+            same_text = row[1:] == row[:-1]
+            keys = (tokens[:-1][same_text] << 32) | tokens[1:][same_text]
+            at = np.searchsorted(self._pair_keys, keys)
+            at[at == len(self._pair_keys)] = 0
+            found = self._pair_keys[at] == keys if len(self._pair_keys) else np.zeros(0, bool)
+            features.append(np.where(found, self._pair_features[at], -1))
+            rows.append(row[1:][same_text])
+        feature, row = np.concatenate(features), np.concatenate(rows)
+        known = feature >= 0
+        matrix = sp.csr_matrix(
+            (np.ones(int(known.sum()), dtype=np.float32), (row[known], feature[known])),
+            shape=(len(texts), len(self._vocabulary)),
+        )
+        matrix.sum_duplicates()
+        return matrix
+
     def counts(self, texts: Sequence[str]) -> sp.csr_matrix:
         """Return the (texts, features) term count matrix (float32 CSR)."""
+        if self._by_token:
+            return self._token_counts(texts)
         terms = [self._terms(text) for text in texts]
         flat = list(chain.from_iterable(terms))
         ids = np.fromiter(

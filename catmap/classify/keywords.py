@@ -17,6 +17,7 @@ import numpy as np
 import scipy.sparse as sp
 from sklearn.feature_extraction.text import TfidfVectorizer
 
+from catmap.classify._kernels import add_rows
 from catmap.classify._wordcache import WordCachedTfidf
 from catmap.classify.calibration import softmax
 from catmap.classify.features import ProductTexts
@@ -119,7 +120,7 @@ class KeywordMapper:
         """Return the (n, keyword features) L2-normalised query vectors (title + weighted path)."""
         self._check()
         cache = self._word_cache()
-        query = cache.transform(texts.title)
+        query = cache.transform(texts.title)  # L2-normalised rows
         if self.path_weight > 0:
             index: dict[str, int] = {}
             rows = np.fromiter(
@@ -127,21 +128,22 @@ class KeywordMapper:
                 dtype=np.int64,
                 count=len(texts),
             )
-            paths = cache.transform(list(index))[rows]
-            paths.data *= np.float32(self.path_weight)
-            # title + weighted path, summed entry by entry: both side by side, then the path's
-            # columns folded onto the title's (cheaper than a sparse matrix addition).
-            width = query.shape[1]
-            query = sp.hstack([query, paths], format="csr", dtype=np.float32)
-            query.indices[query.indices >= width] -= width
+            paths = cache.transform(list(index))
+            # title + weighted path of the row's distinct path, then the L2 norm, in one pass.
             query = sp.csr_matrix(
-                (query.data, query.indices, query.indptr), shape=(len(texts), width)
+                add_rows(
+                    query.indptr,
+                    query.indices,
+                    query.data,
+                    rows,
+                    paths.indptr,
+                    paths.indices,
+                    paths.data,
+                    self.path_weight,
+                    query.shape[1],
+                ),
+                shape=query.shape,
             )
-            query.sum_duplicates()
-        row = np.repeat(np.arange(query.shape[0]), np.diff(query.indptr))
-        norms = np.sqrt(np.bincount(row, weights=query.data * query.data, minlength=len(texts)))
-        norms[norms == 0] = 1.0
-        query.data *= (1.0 / norms[row]).astype(np.float32)
         result: sp.csr_matrix = query
         return result
 

@@ -78,6 +78,7 @@ class Mapper:
         self.model = model
         self.consensus_weight = consensus_weight
         if model is not None:
+            model.prepare()
             self.classes: list[str] = model.classes_.tolist()
             self.keywords: KeywordMapper | None = None
         else:
