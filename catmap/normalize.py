@@ -166,14 +166,27 @@ def _settled(text: str) -> bool:
 
 
 def _clean(value: str, one_line: bool) -> str:
-    if value.isascii() and "<" not in value and "&" not in value:
-        # isprintable() is False for every ASCII control character: the common case skips the
-        # search for invisible ones.
-        if not value.isprintable() and _ASCII_INVISIBLE_RE.search(value):
-            value = _ASCII_INVISIBLE_RE.sub("", value)
-        if one_line:
-            return " ".join(value.split())
-        return _collapse(value, one_line)
+    if "<" not in value and "&" not in value:
+        if value.isprintable():
+            # Printable text holds no control or invisible character (every character of
+            # _INVISIBLE_RE is a control, format or unassigned one) and no whitespace but " "
+            # (every other space and line break is a separator or control character). So
+            # cleaning printable ASCII only trims the ends and collapses runs of spaces, and
+            # other printable text with nothing to trim or collapse, no mojibake pair and
+            # nothing NFKC changes is a fixed point: one pass of the pipeline leaves it as it
+            # is, and the loop below would return it at once. Most feed values are one or the
+            # other.
+            tidy = value[:1] != " " and value[-1:] != " " and "  " not in value
+            if value.isascii():
+                return value if tidy else " ".join(value.split())
+            if tidy and not _MOJIBAKE_RE.search(value) and unicodedata.is_normalized("NFKC", value):
+                return value
+        elif value.isascii():
+            if _ASCII_INVISIBLE_RE.search(value):
+                value = _ASCII_INVISIBLE_RE.sub("", value)
+            if one_line:
+                return " ".join(value.split())
+            return _collapse(value, one_line)
     text = value
     for _ in range(_MAX_PASSES):
         cleaned = _one_pass(text, one_line)

@@ -14,6 +14,7 @@ from stdnum import ean
 
 from catmap._currency import ISO_4217_CODES, SYMBOLS, WORDS
 from catmap.normalize import (
+    _INVISIBLE_RE,
     clean_line,
     clean_text,
     gs1_check_digit,
@@ -48,10 +49,24 @@ from catmap.records import AVAILABILITY_VALUES
         ("Para one\r\n\r\n\r\nPara two", "Para one\nPara two"),
         ("", ""),
         ("   ", ""),
+        ("Crème brûlée", "Crème brûlée"),  # already clean: returned as it is
+        ("  Crème   brûlée ", "Crème brûlée"),
+        ("Crème\u00a0brûlée\u2003pot", "Crème brûlée pot"),
+        ("Ré\u00adsumé", "Résumé"),  # soft hyphen
+        ("Kaffee\u200bbecher", "Kaffeebecher"),
     ],
 )
 def test_clean_text_examples(raw: str, expected: str) -> None:
     assert clean_text(raw) == expected
+
+
+def test_invisible_characters_are_not_printable() -> None:
+    # The fast path for printable values skips the search for invisible characters: it relies
+    # on each of them being non-printable (reference: str.isprintable, Unicode general
+    # categories "Other" and "Separator").
+    invisible = [chr(code) for code in range(0x110000) if _INVISIBLE_RE.match(chr(code))]
+    assert len(invisible) > 2000
+    assert not [ch for ch in invisible if ch.isprintable()]
 
 
 def test_clean_line_joins_lines() -> None:
