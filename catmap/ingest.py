@@ -30,6 +30,7 @@ from __future__ import annotations
 
 import dataclasses
 import json
+import operator
 from collections import deque
 from collections.abc import Callable, Iterable, Iterator
 from dataclasses import dataclass, field
@@ -130,10 +131,6 @@ def record_excerpt(record: SourceRecord) -> str:
     return text[:EXCERPT_LENGTH]
 
 
-def _strip(value: str) -> str:
-    return value.strip()
-
-
 # Brands, colours, sizes and gender words repeat across a feed: cleaning each distinct value once
 # saves a normaliser call per field per record. Bounded, so memory stays flat.
 _clean_repeated_line = lru_cache(maxsize=16_384)(clean_line)
@@ -141,7 +138,9 @@ _clean_repeated_line = lru_cache(maxsize=16_384)(clean_line)
 
 # Products are made without the dataclass __init__ (which sets each of Product's fields through
 # a Python-level object.__setattr__ call): a new instance gets every field set from one list in
-# a C loop. Fields with a default factory get a fresh value per product.
+# a C loop, each value stored by its field's slot descriptor (what object.__setattr__ ends up
+# calling, without looking the name up). Fields with a default factory get a fresh value per
+# product.
 _PRODUCT_FIELDS = dataclasses.fields(Product)
 _PRODUCT_NAMES = tuple(f.name for f in _PRODUCT_FIELDS)
 _PRODUCT_INDEX = {name: index for index, name in enumerate(_PRODUCT_NAMES)}
@@ -154,12 +153,12 @@ _PRODUCT_FACTORIES = tuple(
     if f.default_factory is not dataclasses.MISSING
 )
 _new_object = object.__new__
-_set_field = object.__setattr__
+_SLOT_SETTERS = tuple(getattr(Product, name).__set__ for name in _PRODUCT_NAMES)
 
 
 def _make_product(values: list[Any]) -> Product:
     product: Product = _new_object(Product)
-    deque(map(_set_field, repeat(product, len(values)), _PRODUCT_NAMES, values), 0)
+    deque(map(operator.call, _SLOT_SETTERS, repeat(product, len(values)), values), 0)
     return product
 
 
@@ -196,8 +195,8 @@ class ProductBuilder:
             "gender_text": _clean_repeated_line,
             "colour": _clean_repeated_line,
             "size": _clean_repeated_line,
-            "url": _strip,
-            "image_url": _strip,
+            "url": str.strip,
+            "image_url": str.strip,
             "availability": normalize_availability,
             "category_path": split_category_path,
         }
