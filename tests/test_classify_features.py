@@ -41,6 +41,31 @@ def test_per_word_char_ngrams_equal_the_vectorizer(ngrams: tuple[int, int]) -> N
     assert np.array_equal(fast.transform(QUERIES[::-1]).toarray(), expected[::-1])
 
 
+def test_char_ngram_lookup_is_exact_on_a_large_vocabulary_of_mixed_scripts() -> None:
+    # Many similar n-grams (a small alphabet) fill the lookup table and make its probes meet;
+    # accents, a combining mark and characters outside the Basic Multilingual Plane included.
+    rng = np.random.default_rng(0)
+    alphabet = list("abcdeé") + ["e\u0301", "\U0001f525", "ß", "Σ"]
+
+    def texts(n: int) -> list[str]:
+        return [
+            " ".join(
+                "".join(rng.choice(alphabet, size=rng.integers(1, 9)))
+                for _ in range(rng.integers(0, 6))
+            )
+            for _ in range(n)
+        ]
+
+    vectorizer = TfidfVectorizer(
+        analyzer="char_wb", ngram_range=(2, 5), sublinear_tf=True, dtype=np.float32
+    ).fit(texts(3000))
+    assert len(vectorizer.vocabulary_) > 5000
+    queries = texts(500)
+    # reference: scikit-learn's own TfidfVectorizer.transform
+    expected = vectorizer.transform(queries).toarray()
+    assert np.array_equal(WordCachedTfidf(vectorizer).transform(queries).toarray(), expected)
+
+
 def test_a_full_word_cache_starts_again_and_stays_exact() -> None:
     vectorizer = TfidfVectorizer(analyzer="char_wb", ngram_range=(3, 5), sublinear_tf=True).fit(
         TRAIN

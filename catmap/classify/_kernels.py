@@ -24,7 +24,7 @@ from typing import Any
 import numpy as np
 from numba import njit
 
-__all__ = ["add_rows", "score_rows", "sum_rows"]
+__all__ = ["add_rows", "char_wb_features", "hash_table", "score_rows", "string_hashes", "sum_rows"]
 
 Array = np.ndarray[Any, Any]
 
@@ -173,3 +173,112 @@ def score_rows(
             value = x_data[p]
             for q in range(w_indptr[feature], w_indptr[feature + 1]):
                 out[i, w_indices[q]] += value * w_data[q]
+
+
+# 64-bit FNV-1a over code points: a fast first test; every hit is confirmed character by character.
+_FNV_OFFSET = np.uint64(14695981039346656037)
+_FNV_PRIME = np.uint64(1099511628211)
+_SPACE = np.uint32(32)
+
+
+@njit(cache=True, nogil=True)
+def string_hashes(codes: Array, offsets: Array) -> Array:
+    """Return the hash of each string ``codes[offsets[i]:offsets[i + 1]]`` (uint32 code points)."""
+    n = len(offsets) - 1
+    out = np.empty(n, dtype=np.uint64)
+    for i in range(n):
+        h = _FNV_OFFSET
+        for p in range(offsets[i], offsets[i + 1]):
+            h = (h ^ np.uint64(codes[p])) * _FNV_PRIME
+        out[i] = h
+    return out
+
+
+@njit(cache=True, nogil=True)
+def hash_table(hashes: Array) -> Array:
+    """Return an open-addressing table of the entries: slot → entry number, or -1 when free.
+
+    The table has a power-of-two size of at least twice the entries; an entry sits at the first
+    free slot from ``hash & (size - 1)`` on (linear probing).
+    """
+    size = 16
+    while size < 2 * len(hashes):
+        size *= 2
+    slots = np.full(size, -1, dtype=np.int64)
+    mask = np.uint64(size - 1)
+    for entry in range(len(hashes)):
+        slot = np.int64(hashes[entry] & mask)
+        while slots[slot] != -1:
+            slot = (slot + 1) & (size - 1)
+        slots[slot] = entry
+    return slots
+
+
+@njit(cache=True, nogil=True)
+def char_wb_features(
+    codes: Array,
+    offsets: Array,
+    low: int,
+    high: int,
+    slots: Array,
+    table_hashes: Array,
+    table_features: Array,
+    table_codes: Array,
+    table_offsets: Array,
+) -> tuple[Array, Array]:
+    """Look up the ``char_wb`` n-grams of each word in a vocabulary table.
+
+    A word is padded with one space on each side and cut into n-grams for n from ``low`` to
+    ``high``; a padded word no longer than n gives one n-gram, itself, and ends the cutting
+    (scikit-learn's ``char_wb`` rule). N-grams outside the vocabulary are left out. A hash match
+    is confirmed character by character, so the lookup is exact.
+
+    Args:
+        codes, offsets: the words, as uint32 code points; word i is
+            ``codes[offsets[i]:offsets[i + 1]]``.
+        low, high: the n-gram range.
+        slots: :func:`hash_table` of ``table_hashes``.
+        table_hashes: the hash of each vocabulary entry (:func:`string_hashes`).
+        table_features: the feature number of each vocabulary entry.
+        table_codes, table_offsets: the vocabulary entries' code points, as for the words.
+
+    Returns:
+        (word, feature) pairs, one per known n-gram occurrence, as two int64 arrays.
+    """
+    bound = 0
+    for i in range(len(offsets) - 1):
+        bound += (offsets[i + 1] - offsets[i] + 2) * (high - low + 1)
+    owners = np.empty(bound, dtype=np.int64)
+    features = np.empty(bound, dtype=np.int64)
+    mask = np.uint64(len(slots) - 1)
+    found = 0
+    for i in range(len(offsets) - 1):
+        start = offsets[i]
+        size = offsets[i + 1] - start + 2  # padded length
+        for n in range(low, high + 1):
+            width = min(n, size)
+            for first in range(size - width + 1):
+                h = _FNV_OFFSET
+                for p in range(first, first + width):
+                    code = _SPACE if p == 0 or p == size - 1 else codes[start + p - 1]
+                    h = (h ^ np.uint64(code)) * _FNV_PRIME
+                slot = np.int64(h & mask)
+                while slots[slot] != -1:
+                    entry = slots[slot]
+                    begin = table_offsets[entry]
+                    if table_hashes[entry] == h and table_offsets[entry + 1] - begin == width:
+                        same = True
+                        for p in range(first, first + width):
+                            code = _SPACE if p == 0 or p == size - 1 else codes[start + p - 1]
+                            if table_codes[begin + p - first] != code:
+                                same = False
+                                break
+                        if same:
+                            owners[found] = i
+                            features[found] = table_features[entry]
+                            found += 1
+                            break
+                    slot = (slot + 1) & (len(slots) - 1)
+            if width == size:
+                break
+    return owners[:found].copy(), features[:found].copy()

@@ -4,14 +4,15 @@ Character n-grams are computed once per distinct word, then summed per text.
 
 A ``char_wb`` analyzer pads each whitespace-separated word with spaces and cuts it into
 n-grams on its own, so a text's n-gram counts are the sum of its words' counts. Titles repeat
-the same few thousand words across millions of products: analysing each distinct word once
-(in Python) and summing the cached count rows with one sparse product (in C) gives exactly the
-fitted vectorizer's output — the same counts, the same sublinear tf, idf and L2 norm — for a
-fraction of the time the per-text analyzer takes.
+the same few thousand words across millions of products: analysing each distinct word once and
+summing the cached count rows per text gives exactly the fitted vectorizer's output — the same
+counts, the same sublinear tf, idf and L2 norm — for a fraction of the time the per-text
+analyzer takes. A new word's n-grams are looked up in a hash table of the vocabulary by compiled
+code (each hit confirmed character by character), without making a Python string per n-gram.
 
-Word n-grams are looked up for a whole batch of texts at once (one ``map`` over the vocabulary
-instead of a Python loop per term), with the same tokens, n-grams and weighting as the fitted
-vectorizer.
+Word unigrams and bigrams work the same way: each distinct word is cut into tokens once and
+cached as token numbers; a batch's unigrams and bigrams are then looked up with NumPy, with the
+same tokens, n-grams and weighting as the fitted vectorizer.
 """
 
 from __future__ import annotations
@@ -26,35 +27,49 @@ import scipy.sparse as sp
 from sklearn.feature_extraction.text import TfidfVectorizer
 from sklearn.preprocessing import normalize
 
-from catmap.classify._kernels import sum_rows
+from catmap.classify._kernels import char_wb_features, hash_table, string_hashes, sum_rows
 
 __all__ = ["WordCachedTfidf", "WordNgramTfidf", "fast_transformer"]
 
 # Past this many cached words the cache starts again (bounded memory on endless feeds).
 MAX_CACHED_WORDS = 1_000_000
-# n-gram range -> the n-grams of the words most recently added to any cache of that range.
-_RECENT_GRAMS: dict[tuple[int, int], dict[str, list[str]]] = {}
+Array = np.ndarray[Any, Any]
 
 
-_LAST_SPLIT: list[Any] = [None, None]
+# The latest few splits, as (text list, its length, its split): see _split_words.
+_RECENT_SPLITS: list[tuple[Sequence[str], int, tuple[list[str], list[str], Any]]] = []
+_RECENT_SPLITS_KEPT = 4
 
 
 def _split_words(texts: Sequence[str]) -> tuple[list[str], list[str], Any]:
     """Return every text's words in a row, the distinct words, and the per-text offsets.
 
-    The model's title n-grams and the keyword mapper's read the same list of titles one after
-    the other: the split of the latest list object is kept for the second reader.
+    Several readers split the same list of texts one after the other (the model's title words
+    and title n-grams, the keyword mapper's title n-grams): the splits of the latest few list
+    objects are kept, so each list is split once. A kept list is held, so its identity cannot
+    be reused by another; lists are not changed in place once built.
     """
-    if _LAST_SPLIT[0] is texts and _LAST_SPLIT[1][3] == len(texts):
-        split: tuple[list[str], list[str], Any] = _LAST_SPLIT[1][:3]
-        return split
+    for kept, length, split in _RECENT_SPLITS:
+        if kept is texts and length == len(texts):
+            return split
     words = [text.lower().split() for text in texts]
     flat = list(chain.from_iterable(words))
     indptr = np.zeros(len(words) + 1, dtype=np.int64)
     np.cumsum(np.fromiter(map(len, words), dtype=np.int64, count=len(words)), out=indptr[1:])
     distinct = list(dict.fromkeys(flat))
-    _LAST_SPLIT[0], _LAST_SPLIT[1] = texts, (flat, distinct, indptr, len(texts))
+    _RECENT_SPLITS.insert(0, (texts, len(texts), (flat, distinct, indptr)))
+    del _RECENT_SPLITS[_RECENT_SPLITS_KEPT:]
     return flat, distinct, indptr
+
+
+def _code_points(strings: Sequence[str]) -> tuple[Array, Array]:
+    """Return the strings' code points end to end (uint32) and each string's offsets."""
+    lengths = np.fromiter(map(len, strings), dtype=np.int64, count=len(strings))
+    offsets = np.zeros(len(strings) + 1, dtype=np.int64)
+    np.cumsum(lengths, out=offsets[1:])
+    # surrogatepass: a lone surrogate (from a badly decoded feed) is still one code point
+    raw = "".join(strings).encode("utf-32-le", "surrogatepass")
+    return np.frombuffer(raw, dtype=np.uint32), offsets
 
 
 class WordCachedTfidf:
@@ -82,40 +97,23 @@ class WordCachedTfidf:
         self._rows = sp.csr_matrix((0, self._n_features), dtype=np.float32)
         self._stale = False
 
-    def _ngrams(self, word: str) -> list[str]:
-        # The char_wb rule: pad with one space each side; a word shorter than n counts once.
-        padded = f" {word} "
-        size = len(padded)
-        if size > self._high:  # the usual case: every n fits
-            return [
-                padded[i : i + n]
-                for n in range(self._low, self._high + 1)
-                for i in range(size - n + 1)
-            ]
-        grams: list[str] = []
-        for n in range(self._low, self._high + 1):
-            if n >= size:
-                grams.append(padded)
-                break
-            grams.extend([padded[i : i + n] for i in range(size - n + 1)])
-        return grams
+    def _table(self) -> tuple[Array, ...]:
+        """The vocabulary as a lookup table for :func:`char_wb_features` (built once)."""
+        table: tuple[Array, ...] | None = self.__dict__.get("_lookup")
+        if table is None:
+            terms = list(self._vocabulary)
+            codes, offsets = _code_points(terms)
+            hashes = string_hashes(codes, offsets)
+            features = np.fromiter(self._vocabulary.values(), dtype=np.int64, count=len(terms))
+            table = (hash_table(hashes), hashes, features, codes, offsets)
+            self.__dict__["_lookup"] = table
+        return table
 
     def _add_words(self, words: Sequence[str]) -> None:
-        # Two caches (the model's title n-grams, the keyword mapper's) meet the same new words
-        # in the same batch: the n-grams of the latest batch are kept for the other one.
-        recent = _RECENT_GRAMS.setdefault((self._low, self._high), {})
-        grams = [recent.get(word) or self._ngrams(word) for word in words]
-        recent.clear()
-        recent.update(zip(words, grams, strict=True))
-        flat = list(chain.from_iterable(grams))
-        ids = np.fromiter(
-            map(self._vocabulary.get, flat, repeat(-1)), dtype=np.int64, count=len(flat)
-        )
-        lengths = np.fromiter(map(len, grams), dtype=np.int64, count=len(grams))
-        owner = np.repeat(np.arange(len(words)), lengths)
-        known = ids >= 0
+        codes, offsets = _code_points(words)
+        owner, feature = char_wb_features(codes, offsets, self._low, self._high, *self._table())
         block = sp.csr_matrix(
-            (np.ones(int(known.sum()), dtype=np.float32), (owner[known], ids[known])),
+            (np.ones(len(owner), dtype=np.float32), (owner, feature)),
             shape=(len(words), self._n_features),
         )
         block.sum_duplicates()
