@@ -114,7 +114,7 @@ class CategoryModel:
         feature_weights: dict[str, float] | None = None,
         min_df: int = 2,
         max_features: int | None = 400_000,
-        prune_below: float = 0.01,
+        prune_below: float = 0.05,
         keyword_weight: float | None = None,
         max_per_class: int | None = 500,
         department_sample: int | None = 300_000,
