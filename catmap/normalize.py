@@ -236,6 +236,8 @@ def clean_line(value: str) -> str:
 
 
 def _strip_accents(text: str) -> str:
+    if text.isascii():  # no ASCII character decomposes or combines
+        return text
     decomposed = unicodedata.normalize("NFKD", text)
     return "".join(ch for ch in decomposed if not unicodedata.combining(ch))
 
