@@ -139,19 +139,17 @@ _clean_repeated_line = lru_cache(maxsize=16_384)(clean_line)
 # Products are made without the dataclass __init__ (which sets each of Product's fields through
 # a Python-level object.__setattr__ call): a new instance gets every field set from one list in
 # a C loop, each value stored by its field's slot descriptor (what object.__setattr__ ends up
-# calling, without looking the name up). Fields with a default factory get a fresh value per
-# product.
+# calling, without looking the name up).
 _PRODUCT_FIELDS = dataclasses.fields(Product)
 _PRODUCT_NAMES = tuple(f.name for f in _PRODUCT_FIELDS)
 _PRODUCT_INDEX = {name: index for index, name in enumerate(_PRODUCT_NAMES)}
 _PRODUCT_DEFAULTS = [
     None if f.default is dataclasses.MISSING else f.default for f in _PRODUCT_FIELDS
 ]
-_PRODUCT_FACTORIES = tuple(
-    (index, f.default_factory)
-    for index, f in enumerate(_PRODUCT_FIELDS)
-    if f.default_factory is not dataclasses.MISSING
-)
+# ``extra`` is the one field with a default factory: ProductBuilder gives every product its own
+# dict. A new such field would need the same, so it stops the import instead of being shared.
+if [f.name for f in _PRODUCT_FIELDS if f.default_factory is not dataclasses.MISSING] != ["extra"]:
+    raise RuntimeError("ProductBuilder sets only 'extra' from a default factory")
 _new_object = object.__new__
 _SLOT_SETTERS = tuple(getattr(Product, name).__set__ for name in _PRODUCT_NAMES)
 
@@ -239,8 +237,6 @@ class ProductBuilder:
             )
 
         values = _PRODUCT_DEFAULTS.copy()
-        for index, factory in _PRODUCT_FACTORIES:
-            values[index] = factory()
         values[_PRODUCT_ID] = product_id
         values[_TITLE] = title
         values[_SOURCE_LINE] = record.line
@@ -267,9 +263,16 @@ class ProductBuilder:
                     if problem:
                         flags.append(problem)
 
-        mapped = self.mapped_columns
-        if not mapped.issuperset(fields):
-            values[_EXTRA] = {key: value for key, value in fields.items() if key not in mapped}
+        # The unmapped columns go to extra in the record's order. There are seldom more than one,
+        # so a set difference (in C) finds them instead of a test per column.
+        unmapped = fields.keys() - self.mapped_columns
+        if not unmapped:
+            values[_EXTRA] = {}
+        elif len(unmapped) == 1:
+            (column,) = unmapped
+            values[_EXTRA] = {column: fields[column]}
+        else:
+            values[_EXTRA] = {key: value for key, value in fields.items() if key in unmapped}
         if flags:
             values[_FLAGS] = tuple(flags)
         return _make_product(values)
