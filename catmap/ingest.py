@@ -34,6 +34,7 @@ import operator
 from collections import deque
 from collections.abc import Callable, Iterable, Iterator
 from dataclasses import dataclass, field
+from decimal import Decimal
 from functools import lru_cache
 from hashlib import blake2b
 from itertools import islice, repeat
@@ -60,6 +61,9 @@ if TYPE_CHECKING:
     from catmap.fieldmap import FeedProfile
 
 REQUIRED = ("product_id", "title")
+
+# Distinct raw prices a ProductBuilder remembers (see ProductBuilder._prices).
+PRICE_CACHE_SIZE = 8192
 
 # Reject reasons of this stage (the readers add "ragged_row", "bad_encoding", "unparseable_record").
 MISSING_ID = "missing_id"
@@ -209,6 +213,11 @@ class ProductBuilder:
         self.gtin_column = columns.get("gtin")
         # The price step runs when either column is mapped.
         self.has_price = self.price_column is not None or self.currency_column is not None
+        # Raw price text → parse_price's answer for this profile's default currency. Feeds repeat
+        # prices, and a dict hit costs a fraction of a parse; emptied when full (bounded memory;
+        # a plain dict because an LRU's bookkeeping costs more than it saves on feeds whose
+        # prices are mostly distinct).
+        self._prices: dict[str, tuple[Decimal | None, str | None]] = {}
 
     def __call__(self, record: SourceRecord) -> Product | Reject:
         """Normalise one source record."""
@@ -290,7 +299,13 @@ class ProductBuilder:
             if column_currency is not None:
                 values[_CURRENCY] = column_currency
             return
-        price, currency = parse_price(raw_price, self.default_currency)
+        parsed = self._prices.get(raw_price)
+        if parsed is None:
+            parsed = parse_price(raw_price, self.default_currency)
+            if len(self._prices) >= PRICE_CACHE_SIZE:
+                self._prices.clear()
+            self._prices[raw_price] = parsed
+        price, currency = parsed
         if price is None:
             flags.append(FLAG_PRICE_UNPARSED)
         else:

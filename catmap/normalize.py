@@ -382,9 +382,6 @@ def _fast_price(
     return Decimal(f"{whole}.{fraction}" if fraction else whole), currency
 
 
-# Cached: feeds repeat prices (a catalogue's "19.99" comes back again and again), and a hit
-# costs less than even the fast path's regex match. The amounts are immutable Decimals.
-@lru_cache(maxsize=16_384)
 def parse_price(
     value: str, default_currency: str | None = None
 ) -> tuple[Decimal | None, str | None]:
@@ -416,10 +413,11 @@ def parse_price(
     return _parse_price(value, default_currency)
 
 
+@lru_cache(maxsize=8192)
 def _parse_price(
     value: str, default_currency: str | None = None
 ) -> tuple[Decimal | None, str | None]:
-    """The general rules of :func:`parse_price`."""
+    """The general rules of :func:`parse_price` (cached: some feeds repeat a few prices)."""
     if len(value) > 100:
         return None, None
     text = value
