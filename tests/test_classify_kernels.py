@@ -9,9 +9,10 @@ from __future__ import annotations
 import numpy as np
 import pytest
 import scipy.sparse as sp
+from sklearn.feature_extraction.text import TfidfTransformer
 from sklearn.preprocessing import normalize
 
-from catmap.classify._kernels import add_rows, score_rows, sum_rows
+from catmap.classify._kernels import add_rows, idf_l2_rows, score_rows, sum_rows
 
 
 def _random_csr(rows: int, columns: int, density: float, seed: int) -> sp.csr_matrix:
@@ -71,3 +72,15 @@ def test_score_rows_adds_the_selected_rows_product_to_the_output() -> None:
     # reference: SciPy row indexing and sparse product
     expected = (x[rows] @ w).toarray() + intercept
     assert np.allclose(out, expected, rtol=1e-6)
+
+
+def test_idf_and_row_norm_equal_the_tfidf_transformer_bit_for_bit() -> None:
+    keep = np.ones(60, dtype=np.float32)
+    keep[[3, 9]] = 0  # rows with nothing stay zero
+    counts = sp.csr_matrix(sp.diags(keep) @ _random_csr(60, 80, 0.1, 8))
+    counts.eliminate_zeros()
+    transformer = TfidfTransformer(sublinear_tf=False).fit(_random_csr(200, 80, 0.1, 9))
+    got = counts.copy()
+    idf_l2_rows(got.indptr, got.indices, got.data, np.asarray(transformer.idf_, np.float64))
+    # reference: scikit-learn's TfidfTransformer on the same float32 counts
+    assert np.array_equal(got.toarray(), transformer.transform(counts).toarray())

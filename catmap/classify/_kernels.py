@@ -1,17 +1,20 @@
-"""Compiled inner loops of mapping: sparse sums and products written for their one use.
+"""Compiled inner loops of mapping: sparse sums, products and look-ups written for their one use.
 
-Mapping a chunk of products does three kinds of sparse arithmetic again and again:
+Mapping a chunk of products does a few kinds of work again and again:
 
-* summing the cached n-gram rows of each title's words (:func:`sum_rows`);
+* cutting new title words into character n-grams and finding them in the vocabulary
+  (:func:`char_wb_features`, with :func:`string_hashes` and :func:`hash_table`);
+* summing the cached n-gram rows of each title's words (:func:`sum_rows`), then the idf and the
+  row norm (:func:`idf_l2_rows`);
 * adding two normalised query vectors, one of them shared by many rows (:func:`add_rows`);
 * scoring a subset of rows against one department's weights, straight into a dense block
   (:func:`score_rows`).
 
-SciPy does each of them as general sparse × sparse products: two passes over the data (one to
-size the result, one to fill it), a sparse result converted to dense afterwards, and a row
-selection copied beforehand. The loops here do one pass each, into the layout the caller needs.
-They are compiled with Numba on first use and cached on disk (``cache=True``), and release the
-GIL (``nogil=True``) so that threads can map chunks side by side.
+In Python, the look-ups make one string per n-gram; SciPy does the sums and products as general
+sparse × sparse products, in two passes over the data (one to size the result, one to fill it),
+with a sparse result converted to dense afterwards and a row selection copied beforehand. The
+loops here do one pass each, into the layout the caller needs. They are compiled with Numba on
+first use and cached on disk (``cache=True``), and release the GIL (``nogil=True``).
 
 Each function is checked against the SciPy expression it replaces in
 ``tests/test_classify_kernels.py``.
@@ -24,7 +27,15 @@ from typing import Any
 import numpy as np
 from numba import njit
 
-__all__ = ["add_rows", "char_wb_features", "hash_table", "score_rows", "string_hashes", "sum_rows"]
+__all__ = [
+    "add_rows",
+    "char_wb_features",
+    "hash_table",
+    "idf_l2_rows",
+    "score_rows",
+    "string_hashes",
+    "sum_rows",
+]
 
 Array = np.ndarray[Any, Any]
 
@@ -282,3 +293,27 @@ def char_wb_features(
             if width == size:
                 break
     return owners[:found].copy(), features[:found].copy()
+
+
+@njit(cache=True, nogil=True)
+def idf_l2_rows(indptr: Array, indices: Array, data: Array, idf: Array) -> None:
+    """Multiply each entry by its column's idf, then L2-normalise each row, in place.
+
+    The arithmetic of scikit-learn's ``TfidfTransformer`` on float32 data, step for step:
+    ``float32(value · idf)`` with the idf in float64; the row norm summed in float64 over the
+    float32 squares, in entry order; ``float32(value / norm)``. A zero row stays zero.
+
+    Args:
+        indptr, indices, data: a CSR matrix (float32 data, changed in place).
+        idf: float64 idf of each column.
+    """
+    for i in range(len(indptr) - 1):
+        square = 0.0
+        for p in range(indptr[i], indptr[i + 1]):
+            value = np.float32(np.float64(data[p]) * idf[indices[p]])
+            data[p] = value
+            square += np.float64(value * value)
+        if square > 0.0:
+            norm = np.sqrt(square)
+            for p in range(indptr[i], indptr[i + 1]):
+                data[p] = np.float32(np.float64(data[p]) / norm)

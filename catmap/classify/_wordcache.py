@@ -27,7 +27,13 @@ import scipy.sparse as sp
 from sklearn.feature_extraction.text import TfidfVectorizer
 from sklearn.preprocessing import normalize
 
-from catmap.classify._kernels import char_wb_features, hash_table, string_hashes, sum_rows
+from catmap.classify._kernels import (
+    char_wb_features,
+    hash_table,
+    idf_l2_rows,
+    string_hashes,
+    sum_rows,
+)
 
 __all__ = ["WordCachedTfidf", "WordNgramTfidf", "fast_transformer"]
 
@@ -327,6 +333,9 @@ def _weighted(vectorizer: TfidfVectorizer, idf: Any, matrix: sp.csr_matrix) -> s
     if vectorizer.sublinear_tf:
         np.log(data, data)
         data += np.float32(1.0)
+    if vectorizer.use_idf and vectorizer.norm == "l2":
+        idf_l2_rows(matrix.indptr, matrix.indices, data, idf)  # the same arithmetic, one pass
+        return sp.csr_matrix(matrix, dtype=np.float32)
     if vectorizer.use_idf:
         data *= idf[matrix.indices]
     if vectorizer.norm == "l2":

@@ -259,10 +259,14 @@ class ProductFeaturizer:
 
 def _transform_distinct(vectorizer: Any, values: list[str]) -> sp.csr_matrix:
     """Vectorise each distinct value once, then gather rows back in order."""
-    index: dict[str, int] = {}
-    rows = np.fromiter(
-        (index.setdefault(v, len(index)) for v in values), dtype=np.int64, count=len(values)
-    )
-    distinct = vectorizer.transform(list(index))
-    result: sp.csr_matrix = distinct[rows]
+    distinct, rows = distinct_values(values)
+    result: sp.csr_matrix = vectorizer.transform(distinct)[rows]
     return result
+
+
+def distinct_values(values: Sequence[str]) -> tuple[list[str], np.ndarray[Any, Any]]:
+    """Return the distinct values in first-seen order, and each value's position among them."""
+    distinct = list(dict.fromkeys(values))
+    position = {value: i for i, value in enumerate(distinct)}
+    rows = np.fromiter(map(position.__getitem__, values), dtype=np.int64, count=len(values))
+    return distinct, rows

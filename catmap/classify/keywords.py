@@ -20,7 +20,7 @@ from sklearn.feature_extraction.text import TfidfVectorizer
 from catmap.classify._kernels import add_rows
 from catmap.classify._wordcache import WordCachedTfidf
 from catmap.classify.calibration import softmax
-from catmap.classify.features import ProductTexts
+from catmap.classify.features import ProductTexts, distinct_values
 from catmap.errors import ModelNotTrained
 from catmap.taxonomy import CategoryTree
 
@@ -122,13 +122,8 @@ class KeywordMapper:
         cache = self._word_cache()
         query = cache.transform(texts.title)  # L2-normalised rows
         if self.path_weight > 0:
-            index: dict[str, int] = {}
-            rows = np.fromiter(
-                (index.setdefault(v, len(index)) for v in texts.path),
-                dtype=np.int64,
-                count=len(texts),
-            )
-            paths = cache.transform(list(index))
+            distinct, rows = distinct_values(texts.path)
+            paths = cache.transform(distinct)
             # title + weighted path of the row's distinct path, then the L2 norm, in one pass.
             query = sp.csr_matrix(
                 add_rows(
