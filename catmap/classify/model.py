@@ -80,6 +80,9 @@ class CategoryModel:
         min_df: minimum document frequency of a feature term.
         max_features: per block vocabulary cap.
         prune_below: weights with a smaller absolute value are dropped.
+        keyword_prune_below: in the blend, keyword document entries (L2-normalised leaf
+            documents) below this are left out: the common n-grams that weigh little in every
+            document, but that most products share and so cost the most to score.
         keyword_weight: fixed keyword blend weight; None = chosen on validation data.
         max_per_class: train on at most this many products of one class (a seeded sample;
             None = all): past a few hundred examples a linear class barely moves, while the
@@ -115,6 +118,7 @@ class CategoryModel:
         min_df: int = 2,
         max_features: int | None = 400_000,
         prune_below: float = 0.05,
+        keyword_prune_below: float = 0.02,
         keyword_weight: float | None = None,
         max_per_class: int | None = 500,
         department_sample: int | None = 300_000,
@@ -129,6 +133,7 @@ class CategoryModel:
         self.min_df = min_df
         self.max_features = max_features
         self.prune_below = prune_below
+        self.keyword_prune_below = keyword_prune_below
         self.keyword_weight = keyword_weight
         self.max_per_class = max_per_class
         self.department_sample = department_sample
@@ -158,6 +163,8 @@ class CategoryModel:
             raise ValueError(f"classifier must be one of {', '.join(CLASSIFIERS)}")
         if self.C <= 0:
             raise ValueError("C must be > 0")
+        if self.prune_below < 0 or self.keyword_prune_below < 0:
+            raise ValueError("prune_below and keyword_prune_below must be >= 0")
         if len(texts) != len(labels):
             raise ValueError("one label per product is needed")
         labels = [str(label) for label in labels]
@@ -604,7 +611,10 @@ class _Layout:
         keyword_classes = model.keywords_.classes_.tolist()
         # Leaves come first in classes_, in the keyword mapper's order.
         keyword_column = np.arange(len(keyword_classes))
-        documents_t = model.keywords_.documents_.T.tocsc()
+        documents = model.keywords_.documents_.copy()
+        documents.data[documents.data < model.keyword_prune_below] = 0.0
+        documents.eliminate_zeros()
+        documents_t = documents.T.tocsc()
         class_coef = model.class_coef_.tocsc()
         parts = []
         for g in range(len(groups)):

@@ -124,6 +124,7 @@ def save_model(
             "min_df": model.min_df,
             "max_features": model.max_features,
             "prune_below": model.prune_below,
+            "keyword_prune_below": model.keyword_prune_below,
             "max_per_class": model.max_per_class,
             "department_sample": model.department_sample,
             "random_state": model.random_state,
@@ -213,6 +214,7 @@ def load_model(folder: str | Path, tree: CategoryTree) -> tuple[CategoryModel, d
             min_df=settings["min_df"],
             max_features=settings["max_features"],
             prune_below=settings["prune_below"],
+            keyword_prune_below=settings.get("keyword_prune_below", 0.0),  # older folders: none
             keyword_weight=manifest["keyword_weight"],
             max_per_class=settings.get("max_per_class"),
             department_sample=settings.get("department_sample"),
