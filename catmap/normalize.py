@@ -4,9 +4,10 @@ Every public function here takes any ``str`` and never raises (except :func:`gs1
 which is a helper for digit strings only), has no I/O, and returns the same result when applied
 to its own output. They run once per field of every record, so plain values take fast paths:
 HTML work only when the text has ``<`` or ``&``, NFKC only when the text is not already in
-NFKC form, mojibake repair only when typical mojibake pairs ("Ã©", "â€™") appear. Functions
-whose inputs repeat a lot across a feed (currency, availability, category path, price) are
-cached.
+NFKC form, mojibake repair only when typical mojibake pairs ("Ã©", "â€™") appear, and text that
+is already clean (printable, no markup, nothing to trim or collapse) comes back at once.
+Functions whose inputs repeat a lot across a feed (currency, availability, category path, the
+general price rules) are cached.
 """
 
 from __future__ import annotations
