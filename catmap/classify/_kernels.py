@@ -32,9 +32,11 @@ __all__ = [
     "char_wb_features",
     "hash_table",
     "idf_l2_rows",
+    "mix_keys",
     "score_rows",
     "string_hashes",
     "sum_rows",
+    "token_ngram_counts",
 ]
 
 Array = np.ndarray[Any, Any]
@@ -317,3 +319,92 @@ def idf_l2_rows(indptr: Array, indices: Array, data: Array, idf: Array) -> None:
             norm = np.sqrt(square)
             for p in range(indptr[i], indptr[i + 1]):
                 data[p] = np.float32(np.float64(data[p]) / norm)
+
+
+_MIX = np.uint64(0x9E3779B97F4A7C15)  # Fibonacci hashing: spreads nearby keys over the table
+
+
+@njit(cache=True, nogil=True)
+def mix_keys(keys: Array) -> Array:
+    """Return well-spread uint64 hashes of int64 keys, for :func:`hash_table`."""
+    out = np.empty(len(keys), dtype=np.uint64)
+    for i in range(len(keys)):
+        out[i] = np.uint64(keys[i]) * _MIX
+    return out
+
+
+@njit(cache=True, nogil=True)
+def token_ngram_counts(
+    groups: Array,
+    words: Array,
+    word_start: Array,
+    word_length: Array,
+    tokens: Array,
+    unigram: Array,
+    bigrams: bool,
+    slots: Array,
+    pair_keys: Array,
+    pair_features: Array,
+    n_columns: int,
+) -> tuple[Array, Array, Array]:
+    """Count each text's known unigrams (and bigrams) from its words' cached token numbers.
+
+    Args:
+        groups: (texts + 1,) offsets into ``words``.
+        words: the number of each word of each text, in order.
+        word_start, word_length: where each word's token numbers lie in ``tokens``.
+        tokens: token numbers, word after word.
+        unigram: the feature of each token number (-1: not in the vocabulary).
+        bigrams: count bigrams too (two tokens in a row in the same text).
+        slots: :func:`hash_table` of ``mix_keys(pair_keys)``.
+        pair_keys: ``first << 32 | second`` token numbers of each vocabulary bigram.
+        pair_features: the feature of each vocabulary bigram.
+        n_columns: the vocabulary size.
+
+    Returns:
+        (data, indices, indptr) of the (texts, n_columns) float32 count matrix (SciPy's order),
+        no duplicate entries.
+    """
+    n = len(groups) - 1
+    bound = 0
+    for j in range(len(words)):
+        bound += 2 * word_length[words[j]]
+    out_indptr = np.zeros(n + 1, dtype=np.int64)
+    out_indices = np.empty(bound, dtype=np.int32)
+    out_data = np.empty(bound, dtype=np.float32)
+    total = np.zeros(n_columns, dtype=np.float32)
+    last_row = np.full(n_columns, -1, dtype=np.int64)
+    mask = np.uint64(len(slots) - 1)
+    nnz = 0
+    for i in range(n):
+        start = nnz
+        previous = -1
+        for j in range(groups[i], groups[i + 1]):
+            w = words[j]
+            for k in range(word_start[w], word_start[w] + word_length[w]):
+                token = tokens[k]
+                for step in range(2):
+                    feature = -1
+                    if step == 0:
+                        if token < len(unigram):
+                            feature = unigram[token]
+                    elif bigrams and previous >= 0:
+                        key = (previous << 32) | token
+                        slot = np.int64((np.uint64(key) * _MIX) & mask)
+                        while slots[slot] != -1:
+                            if pair_keys[slots[slot]] == key:
+                                feature = pair_features[slots[slot]]
+                                break
+                            slot = (slot + 1) & (len(slots) - 1)
+                    if feature >= 0:
+                        if last_row[feature] != i:
+                            last_row[feature] = i
+                            total[feature] = 0.0
+                            out_indices[nnz] = feature
+                            nnz += 1
+                        total[feature] += 1.0
+                previous = token
+        for p in range(start, nnz):
+            out_data[p] = total[out_indices[p]]
+        out_indptr[i + 1] = nnz
+    return out_data[:nnz].copy(), out_indices[:nnz].copy(), out_indptr

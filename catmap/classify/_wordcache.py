@@ -31,8 +31,10 @@ from catmap.classify._kernels import (
     char_wb_features,
     hash_table,
     idf_l2_rows,
+    mix_keys,
     string_hashes,
     sum_rows,
+    token_ngram_counts,
 )
 
 __all__ = ["WordCachedTfidf", "WordNgramTfidf", "fast_transformer"]
@@ -214,12 +216,13 @@ class WordNgramTfidf:
         self._known_tokens = token
         self._unigram_base = np.full(len(token), -1, dtype=np.int64)
         self._unigram_base[unigram_tokens] = unigram_features
-        order = np.argsort(np.array(pair_keys, dtype=np.int64), kind="stable")
-        self._pair_keys = np.array(pair_keys, dtype=np.int64)[order]
-        self._pair_features = np.array(pair_features, dtype=np.int64)[order]
+        self._pair_keys = np.array(pair_keys, dtype=np.int64)
+        self._pair_features = np.array(pair_features, dtype=np.int64)
+        self._pair_slots = hash_table(mix_keys(self._pair_keys))
         return True
 
     def _reset(self) -> None:
+        # Tokens outside the vocabulary get numbers past the unigram table's end.
         self._token = dict(self._known_tokens)
         self._unigram = self._unigram_base
         self._word_index: dict[str, int] = {}
@@ -242,10 +245,6 @@ class WordNgramTfidf:
         self._word_start = np.concatenate([self._word_start, starts.astype(np.int64)])
         self._word_length = np.concatenate([self._word_length, lengths])
         self._tokens = np.concatenate([self._tokens, numbers])
-        if len(self._token) > len(self._unigram):  # tokens outside the vocabulary
-            grown = np.full(len(self._token), -1, dtype=np.int64)
-            grown[: len(self._unigram)] = self._unigram
-            self._unigram = grown
 
     def _terms(self, text: str) -> list[str]:
         tokens: list[str] = self._findall(text.lower())
@@ -266,31 +265,20 @@ class WordNgramTfidf:
         if new:
             self._add_words(new)
         word = np.fromiter(map(self._word_index.__getitem__, flat), dtype=np.int64, count=len(flat))
-        lengths = self._word_length[word]
-        ends = np.cumsum(lengths)
-        # Each word's tokens in a row: position k of word w is _tokens[start(w) + k].
-        offsets = np.repeat(self._word_start[word] - (ends - lengths), lengths)
-        tokens = self._tokens[offsets + np.arange(int(ends[-1]) if len(ends) else 0)]
-        token_indptr = np.concatenate([[0], ends])[indptr]
-        row = np.repeat(np.arange(len(texts)), np.diff(token_indptr))
-        features = [self._unigram[tokens]]
-        rows = [row]
-        if self._high == 2 and len(tokens) > 1:
-            same_text = row[1:] == row[:-1]
-            keys = (tokens[:-1][same_text] << 32) | tokens[1:][same_text]
-            at = np.searchsorted(self._pair_keys, keys)
-            at[at == len(self._pair_keys)] = 0
-            found = self._pair_keys[at] == keys if len(self._pair_keys) else np.zeros(0, bool)
-            features.append(np.where(found, self._pair_features[at], -1))
-            rows.append(row[1:][same_text])
-        feature, row = np.concatenate(features), np.concatenate(rows)
-        known = feature >= 0
-        matrix = sp.csr_matrix(
-            (np.ones(int(known.sum()), dtype=np.float32), (row[known], feature[known])),
-            shape=(len(texts), len(self._vocabulary)),
+        counted = token_ngram_counts(
+            indptr,
+            word,
+            self._word_start,
+            self._word_length,
+            self._tokens,
+            self._unigram,
+            self._high == 2,
+            self._pair_slots,
+            self._pair_keys,
+            self._pair_features,
+            len(self._vocabulary),
         )
-        matrix.sum_duplicates()
-        return matrix
+        return sp.csr_matrix(counted, shape=(len(texts), len(self._vocabulary)))
 
     def counts(self, texts: Sequence[str]) -> sp.csr_matrix:
         """Return the (texts, features) term count matrix (float32 CSR)."""
