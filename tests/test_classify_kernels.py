@@ -12,7 +12,7 @@ import scipy.sparse as sp
 from sklearn.feature_extraction.text import TfidfTransformer
 from sklearn.preprocessing import normalize
 
-from catmap.classify._kernels import add_rows, idf_l2_rows, score_rows, sum_rows
+from catmap.classify._kernels import add_rows, idf_l2_rows, pack_rows, score_rows, sum_rows
 
 
 def _random_csr(rows: int, columns: int, density: float, seed: int) -> sp.csr_matrix:
@@ -68,7 +68,7 @@ def test_score_rows_adds_the_selected_rows_product_to_the_output() -> None:
     rows = np.array([4, 0, 4, 49, 17], dtype=np.int64)  # any order, repeats allowed
     intercept = np.arange(9, dtype=np.float64)
     out = np.repeat(intercept[None, :], len(rows), axis=0)
-    score_rows(x.indptr, x.indices, x.data, rows, w.indptr, w.indices, w.data, out)
+    score_rows(x.indptr, x.indices, x.data, rows, *pack_rows(w), out)
     # reference: SciPy row indexing and sparse product
     expected = (x[rows] @ w).toarray() + intercept
     assert np.allclose(out, expected, rtol=1e-6)

@@ -30,7 +30,7 @@ import scipy.sparse as sp
 from sklearn.linear_model import LogisticRegression, SGDClassifier
 from sklearn.svm import LinearSVC
 
-from catmap.classify._kernels import score_rows
+from catmap.classify._kernels import pack_rows, score_rows
 from catmap.classify.calibration import expected_calibration_error, fit_temperature, softmax
 from catmap.classify.features import ProductFeaturizer, ProductTexts
 from catmap.classify.keywords import KeywordMapper
@@ -344,33 +344,14 @@ class CategoryModel:
             if not len(rows):
                 continue
             scores = np.repeat(part.intercept[None, :].astype(np.float64), len(rows), axis=0)
-            score_rows(
-                features.indptr,
-                features.indices,
-                features.data,
-                rows,
-                part.coef.indptr,
-                part.coef.indices,
-                part.coef.data,
-                scores,
-            )
+            score_rows(features.indptr, features.indices, features.data, rows, *part.coef, scores)
             linear = np.zeros((len(rows), len(part.columns)), dtype=np.float64)
             linear[:, part.linear_pos] = softmax(scores, self.temperatures_[1])
             linear *= p_group[rows, g][:, None]
             keyword = None
             if query is not None and len(part.keyword_pos):
-                sims = np.zeros((len(rows), part.documents_t.shape[1]))
-                documents = part.documents_t
-                score_rows(
-                    query.indptr,
-                    query.indices,
-                    query.data,
-                    rows,
-                    documents.indptr,
-                    documents.indices,
-                    documents.data,
-                    sims,
-                )
+                sims = np.zeros((len(rows), len(part.keyword_pos)))
+                score_rows(query.indptr, query.indices, query.data, rows, *part.documents_t, sims)
                 keyword = np.zeros_like(linear)
                 keyword[:, part.keyword_pos] = softmax(sims, self.keyword_blend_temperature_)
                 keyword *= p_group[rows, g][:, None]
@@ -582,10 +563,10 @@ class _GroupPart:
 
     columns: Array  # class columns (in classes_) of the group: linear classes ∪ keyword leaves
     linear_pos: Array  # positions in ``columns`` of the linear classes, in weight order
-    coef: sp.csr_matrix  # (features, linear classes of the group)
+    coef: tuple[Array, Array, Array]  # (features, linear classes of the group), pack_rows
     intercept: Array
     keyword_pos: Array  # positions in ``columns`` of the keyword leaves, in document order
-    documents_t: sp.csr_matrix  # (keyword features, keyword leaves of the group)
+    documents_t: tuple[Array, Array, Array]  # (keyword features, keyword leaves), pack_rows
 
 
 @dataclass(frozen=True, slots=True)
@@ -626,10 +607,10 @@ class _Layout:
                 _GroupPart(
                     columns=columns,
                     linear_pos=np.searchsorted(columns, lin_columns),
-                    coef=class_coef[:, lin].tocsr(),
+                    coef=pack_rows(class_coef[:, lin].tocsr()),
                     intercept=model.class_intercept_[lin],
                     keyword_pos=np.searchsorted(columns, kw),
-                    documents_t=documents_t[:, kw].tocsr(),
+                    documents_t=pack_rows(documents_t[:, kw].tocsr()),
                 )
             )
         sizes = np.bincount(class_group, minlength=len(groups) + 1)
