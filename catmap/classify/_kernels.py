@@ -44,6 +44,41 @@ __all__ = [
 Array = np.ndarray[Any, Any]
 
 
+# A sparse accumulator, shared by the loops that build a CSR result row by row: ``total`` holds
+# the running sums of the current row, ``last_row`` tells whether a column is already in it.
+
+
+@njit(cache=True, nogil=True)
+def _buffers(n: int, bound: int, n_columns: int) -> tuple[Array, Array, Array, Array, Array]:
+    return (
+        np.zeros(n + 1, dtype=np.int64),
+        np.empty(bound, dtype=np.int32),
+        np.empty(bound, dtype=np.float32),
+        np.zeros(n_columns, dtype=np.float32),
+        np.full(n_columns, -1, dtype=np.int64),
+    )
+
+
+@njit(cache=True, nogil=True, inline="always")
+def _add(
+    row: int, column: int, value: float, total: Array, last_row: Array, out: Array, nnz: int
+) -> int:
+    """Add ``value`` to (row, column); return the row's new entry count."""
+    if last_row[column] != row:
+        last_row[column] = row
+        total[column] = 0.0
+        out[nnz] = column
+        nnz += 1
+    total[column] += value
+    return nnz
+
+
+@njit(cache=True, nogil=True, inline="always")
+def _close_row(start: int, nnz: int, total: Array, indices: Array, data: Array) -> None:
+    for p in range(start, nnz):
+        data[p] = total[indices[p]]
+
+
 @njit(cache=True, nogil=True)
 def sum_rows(
     groups: Array,
@@ -72,26 +107,15 @@ def sum_rows(
     bound = 0
     for j in range(len(members)):
         bound += indptr[members[j] + 1] - indptr[members[j]]
-    out_indptr = np.zeros(n + 1, dtype=np.int64)
-    out_indices = np.empty(bound, dtype=np.int32)
-    out_data = np.empty(bound, dtype=np.float32)
-    total = np.zeros(n_columns, dtype=np.float32)
-    last_row = np.full(n_columns, -1, dtype=np.int64)
+    out_indptr, out_indices, out_data, total, last_row = _buffers(n, bound, n_columns)
     nnz = 0
     for i in range(n):
         start = nnz
         for j in range(groups[i], groups[i + 1]):
             row = members[j]
             for p in range(indptr[row], indptr[row + 1]):
-                column = indices[p]
-                if last_row[column] != i:
-                    last_row[column] = i
-                    total[column] = 0.0
-                    out_indices[nnz] = column
-                    nnz += 1
-                total[column] += data[p]
-        for p in range(start, nnz):
-            out_data[p] = total[out_indices[p]]
+                nnz = _add(i, indices[p], data[p], total, last_row, out_indices, nnz)
+        _close_row(start, nnz, total, out_indices, out_data)
         out_indptr[i + 1] = nnz
     return out_data[:nnz].copy(), out_indices[:nnz].copy(), out_indptr
 
@@ -124,36 +148,20 @@ def add_rows(
     bound = len(a_indices)
     for i in range(n):
         bound += b_indptr[b_rows[i] + 1] - b_indptr[b_rows[i]]
-    out_indptr = np.zeros(n + 1, dtype=np.int64)
-    out_indices = np.empty(bound, dtype=np.int32)
-    out_data = np.empty(bound, dtype=np.float32)
-    total = np.zeros(n_columns, dtype=np.float32)
-    last_row = np.full(n_columns, -1, dtype=np.int64)
+    out_indptr, out_indices, out_data, total, last_row = _buffers(n, bound, n_columns)
+    weight = np.float32(b_weight)
     nnz = 0
     for i in range(n):
         start = nnz
         for p in range(a_indptr[i], a_indptr[i + 1]):
-            column = a_indices[p]
-            if last_row[column] != i:
-                last_row[column] = i
-                total[column] = 0.0
-                out_indices[nnz] = column
-                nnz += 1
-            total[column] += a_data[p]
+            nnz = _add(i, a_indices[p], a_data[p], total, last_row, out_indices, nnz)
         row = b_rows[i]
         for p in range(b_indptr[row], b_indptr[row + 1]):
-            column = b_indices[p]
-            if last_row[column] != i:
-                last_row[column] = i
-                total[column] = 0.0
-                out_indices[nnz] = column
-                nnz += 1
-            total[column] += np.float32(b_weight) * b_data[p]
+            nnz = _add(i, b_indices[p], weight * b_data[p], total, last_row, out_indices, nnz)
+        _close_row(start, nnz, total, out_indices, out_data)
         square = 0.0
         for p in range(start, nnz):
-            value = total[out_indices[p]]
-            out_data[p] = value
-            square += float(value) * float(value)
+            square += float(out_data[p]) * float(out_data[p])
         if square > 0.0:
             scale = np.float32(1.0 / np.sqrt(square))
             for p in range(start, nnz):
@@ -384,11 +392,7 @@ def token_ngram_counts(
     bound = 0
     for j in range(len(words)):
         bound += 2 * word_length[words[j]]
-    out_indptr = np.zeros(n + 1, dtype=np.int64)
-    out_indices = np.empty(bound, dtype=np.int32)
-    out_data = np.empty(bound, dtype=np.float32)
-    total = np.zeros(n_columns, dtype=np.float32)
-    last_row = np.full(n_columns, -1, dtype=np.int64)
+    out_indptr, out_indices, out_data, total, last_row = _buffers(n, bound, n_columns)
     mask = np.uint64(len(slots) - 1)
     nnz = 0
     for i in range(n):
@@ -412,14 +416,8 @@ def token_ngram_counts(
                                 break
                             slot = (slot + 1) & (len(slots) - 1)
                     if feature >= 0:
-                        if last_row[feature] != i:
-                            last_row[feature] = i
-                            total[feature] = 0.0
-                            out_indices[nnz] = feature
-                            nnz += 1
-                        total[feature] += 1.0
+                        nnz = _add(i, feature, 1.0, total, last_row, out_indices, nnz)
                 previous = token
-        for p in range(start, nnz):
-            out_data[p] = total[out_indices[p]]
+        _close_row(start, nnz, total, out_indices, out_data)
         out_indptr[i + 1] = nnz
     return out_data[:nnz].copy(), out_indices[:nnz].copy(), out_indptr
