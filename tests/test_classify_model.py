@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import json
 from pathlib import Path
 
 import numpy as np
@@ -65,6 +66,22 @@ def test_saved_then_loaded_gives_identical_predictions(
     assert np.array_equal(loaded.predict_proba(texts), trained.predict_proba(texts))
     assert manifest["tree_version"] == "1"
     assert manifest["class_ids"] == trained.classes_.tolist()
+
+
+def test_a_folder_saved_before_keyword_pruning_loads_with_every_keyword_entry(
+    trained: CategoryModel, tree: CategoryTree, tmp_path: Path
+) -> None:
+    save_model(trained, tmp_path / "model")
+    manifest_path = tmp_path / "model" / "manifest.json"
+    manifest = json.loads(manifest_path.read_text(encoding="utf-8"))
+    assert manifest["settings"]["keyword_prune_below"] == trained.keyword_prune_below > 0
+    del manifest["settings"]["keyword_prune_below"]  # as written by an earlier catmap
+    manifest_path.write_text(json.dumps(manifest), encoding="utf-8")
+    loaded, _ = load_model(tmp_path / "model", tree)
+    assert loaded.keyword_prune_below == 0.0
+    pruned = sum(len(part.documents_t[1]) for part in trained._layout().parts)
+    unpruned = sum(len(part.documents_t[1]) for part in loaded._layout().parts)
+    assert unpruned > pruned  # the small entries are kept, as the model was calibrated with
 
 
 def test_model_for_another_tree_version_is_refused(trained: CategoryModel, tmp_path: Path) -> None:
