@@ -44,13 +44,33 @@ MAX_CACHED_WORDS = 1_000_000
 Array = np.ndarray[Any, Any]
 
 
+class _Split:
+    """A list of texts cut into words: every word in a row (lower-cased), per-text offsets."""
+
+    __slots__ = ("_distinct", "flat", "indptr")
+
+    def __init__(self, flat: list[str], indptr: Array) -> None:
+        self.flat = flat
+        self.indptr = indptr
+        self._distinct: list[str] | None = None
+
+    @property
+    def distinct(self) -> list[str]:
+        """The distinct words, in first-seen order (made once, when first asked for)."""
+        if self._distinct is None:
+            self._distinct = list(dict.fromkeys(self.flat))
+        return self._distinct
+
+
 # The latest few splits, as (text list, its length, its split): see _split_words.
-_RECENT_SPLITS: list[tuple[Sequence[str], int, tuple[list[str], list[str], Any]]] = []
+_RECENT_SPLITS: list[tuple[Sequence[str], int, _Split]] = []
 _RECENT_SPLITS_KEPT = 4
+# How many first words of a batch tell whether most of its words are new.
+_PROBE_WORDS = 64
 
 
-def _split_words(texts: Sequence[str]) -> tuple[list[str], list[str], Any]:
-    """Return every text's words in a row, the distinct words, and the per-text offsets.
+def _split_words(texts: Sequence[str]) -> _Split:
+    """Return the texts cut into words.
 
     Several readers split the same list of texts one after the other (the model's title words
     and title n-grams, the keyword mapper's title n-grams): the splits of the latest few list
@@ -61,13 +81,12 @@ def _split_words(texts: Sequence[str]) -> tuple[list[str], list[str], Any]:
         if kept is texts and length == len(texts):
             return split
     words = [text.lower().split() for text in texts]
-    flat = list(chain.from_iterable(words))
     indptr = np.zeros(len(words) + 1, dtype=np.int64)
     np.cumsum(np.fromiter(map(len, words), dtype=np.int64, count=len(words)), out=indptr[1:])
-    distinct = list(dict.fromkeys(flat))
-    _RECENT_SPLITS.insert(0, (texts, len(texts), (flat, distinct, indptr)))
+    split = _Split(list(chain.from_iterable(words)), indptr)
+    _RECENT_SPLITS.insert(0, (texts, len(texts), split))
     del _RECENT_SPLITS[_RECENT_SPLITS_KEPT:]
-    return flat, distinct, indptr
+    return split
 
 
 def _code_points(strings: Sequence[str]) -> tuple[Array, Array]:
@@ -80,7 +99,49 @@ def _code_points(strings: Sequence[str]) -> tuple[Array, Array]:
     return np.frombuffer(raw, dtype=np.uint32), offsets
 
 
-class WordCachedTfidf:
+class _PerWordCache:
+    """What the two cached transformers share: a number per cached word, grown batch by batch.
+
+    Subclasses keep ``_word_row`` (word → number), ``max_words``, and implement ``_reset`` and
+    ``_add_words``.
+    """
+
+    _word_row: dict[str, int]
+    max_words: int
+
+    def _reset(self) -> None:
+        raise NotImplementedError
+
+    def _add_words(self, words: Sequence[str]) -> None:
+        raise NotImplementedError
+
+    def _word_numbers(self, split: _Split) -> Array:
+        """Return the number of each word of a split, caching the words not seen yet first.
+
+        Past the first batches of a feed nearly every word is known: then one look-up per word,
+        and the new words are gathered only when there are some. Whether a batch is mostly new
+        is told from its first words.
+        """
+        flat, known = split.flat, self._word_row
+        sample = flat[:_PROBE_WORDS]
+        if 2 * sum(word not in known for word in sample) > len(sample):
+            # Mostly new words (a feed's first batches): find them among the distinct ones.
+            new = [word for word in split.distinct if word not in known]
+        else:
+            numbers = np.fromiter(map(known.get, flat, repeat(-1)), np.int64, count=len(flat))
+            missing = np.flatnonzero(numbers < 0)
+            if not len(missing):
+                return numbers
+            new = list(dict.fromkeys([flat[i] for i in missing]))
+        if len(self._word_row) + len(new) > self.max_words:
+            self._reset()
+            new = split.distinct
+        if new:
+            self._add_words(new)
+        return np.fromiter(map(self._word_row.__getitem__, flat), dtype=np.int64, count=len(flat))
+
+
+class WordCachedTfidf(_PerWordCache):
     """Apply a fitted ``char_wb`` TfidfVectorizer with a per-word cache of n-gram counts.
 
     Args:
@@ -139,19 +200,15 @@ class WordCachedTfidf:
 
     def counts(self, texts: Sequence[str]) -> sp.csr_matrix:
         """Return the (texts, features) n-gram count matrix (float32 CSR)."""
-        flat, distinct, indptr = _split_words(texts)
-        if len(self._word_row) + len(distinct) > self.max_words:
-            self._reset()
-        row_of = self._word_row
-        new = [w for w in distinct if w not in row_of]
-        if new:
-            self._add_words(new)
-        rows = np.fromiter(map(row_of.__getitem__, flat), dtype=np.int64, count=len(flat))
+        split = _split_words(texts)
+        rows = self._word_numbers(split)
         cached = self._matrix()
         # Each text's count row is the sum of its words' cached rows (no duplicate entries;
         # the column order within a row is left as it comes).
         return sp.csr_matrix(
-            sum_rows(indptr, rows, cached.indptr, cached.indices, cached.data, self._n_features),
+            sum_rows(
+                split.indptr, rows, cached.indptr, cached.indices, cached.data, self._n_features
+            ),
             shape=(len(texts), self._n_features),
         )
 
@@ -160,7 +217,7 @@ class WordCachedTfidf:
         return _weighted(self.vectorizer, self._idf, self.counts(texts))
 
 
-class WordNgramTfidf:
+class WordNgramTfidf(_PerWordCache):
     """Apply a fitted word TfidfVectorizer (lowercasing, no stop words) to a batch at once.
 
     For unigrams and bigrams (the ranges catmap uses), every distinct whitespace-separated word
@@ -225,7 +282,7 @@ class WordNgramTfidf:
         # Tokens outside the vocabulary get numbers past the unigram table's end.
         self._token = dict(self._known_tokens)
         self._unigram = self._unigram_base
-        self._word_index: dict[str, int] = {}
+        self._word_row = {}
         self._word_start = np.zeros(0, dtype=np.int64)
         self._word_length = np.zeros(0, dtype=np.int64)
         self._tokens = np.zeros(0, dtype=np.int64)
@@ -240,8 +297,8 @@ class WordNgramTfidf:
         )
         lengths = np.fromiter(map(len, cut), dtype=np.int64, count=len(cut))
         starts = len(self._tokens) + np.concatenate([[0], np.cumsum(lengths)[:-1]])
-        first = len(self._word_index)
-        self._word_index.update(zip(words, range(first, first + len(words)), strict=True))
+        first = len(self._word_row)
+        self._word_row.update(zip(words, range(first, first + len(words)), strict=True))
         self._word_start = np.concatenate([self._word_start, starts.astype(np.int64)])
         self._word_length = np.concatenate([self._word_length, lengths])
         self._tokens = np.concatenate([self._tokens, numbers])
@@ -258,15 +315,10 @@ class WordNgramTfidf:
         return terms
 
     def _token_counts(self, texts: Sequence[str]) -> sp.csr_matrix:
-        flat, distinct, indptr = _split_words(texts)
-        if len(self._word_index) + len(distinct) > self.max_words:
-            self._reset()
-        new = [w for w in distinct if w not in self._word_index]
-        if new:
-            self._add_words(new)
-        word = np.fromiter(map(self._word_index.__getitem__, flat), dtype=np.int64, count=len(flat))
+        split = _split_words(texts)
+        word = self._word_numbers(split)
         counted = token_ngram_counts(
-            indptr,
+            split.indptr,
             word,
             self._word_start,
             self._word_length,
