@@ -84,6 +84,23 @@ def test_a_folder_saved_before_keyword_pruning_loads_with_every_keyword_entry(
     assert unpruned > pruned  # the small entries are kept, as the model was calibrated with
 
 
+def test_a_folder_keeps_its_own_ngram_ranges_and_department_floor(
+    trained: CategoryModel, tree: CategoryTree, tmp_path: Path
+) -> None:
+    save_model(trained, tmp_path / "model")
+    manifest_path = tmp_path / "model" / "manifest.json"
+    manifest = json.loads(manifest_path.read_text(encoding="utf-8"))
+    assert manifest["feature_ngram_ranges"]["title_chars"] == [3, 4]
+    assert manifest["settings"]["department_floor"] == trained.department_floor
+    # As written by an earlier catmap: neither is in the manifest.
+    del manifest["feature_ngram_ranges"], manifest["settings"]["department_floor"]
+    manifest_path.write_text(json.dumps(manifest), encoding="utf-8")
+    loaded, _ = load_model(tmp_path / "model", tree)
+    assert loaded.featurizer_.vectorizers_["title_chars"].ngram_range == (3, 5)
+    assert loaded.featurizer_.vectorizers_["title_words"].ngram_range == (1, 2)
+    assert loaded.department_floor == 1e-3
+
+
 def test_model_for_another_tree_version_is_refused(trained: CategoryModel, tmp_path: Path) -> None:
     save_model(trained, tmp_path / "model")
     other = load_tree(write_tree(tmp_path / "v2", version=2))
@@ -142,8 +159,6 @@ def test_keyword_weight_is_searched_over_the_whole_range() -> None:
 def test_departments_below_the_floor_share_their_probability_evenly(
     trained: CategoryModel,
 ) -> None:
-    from catmap.classify.model import DEPARTMENT_FLOOR
-
     texts, _ = texts_and_labels(labelled_rows(40, seed=4))
     dense = trained.predict_proba(texts)
     sparse = trained.predict_sparse(texts)
@@ -151,4 +166,4 @@ def test_departments_below_the_floor_share_their_probability_evenly(
     # Every class left out of the sparse answer is below the department floor.
     left_out = dense.copy()
     left_out[sparse.nonzero()] = 0.0
-    assert left_out.max() < DEPARTMENT_FLOOR
+    assert left_out.max() < trained.department_floor

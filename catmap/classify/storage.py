@@ -36,6 +36,9 @@ __all__ = ["FORMAT_VERSION", "file_fingerprint", "load_model", "read_manifest", 
 # 2: keywords blend inside each department (keyword_blend_temperature); 1 is not read.
 FORMAT_VERSION = 2
 MANIFEST = "manifest.json"
+# What folders written before these settings were saved used.
+_EARLIER_NGRAM_RANGES: dict[str, tuple[int, int]] = {"title_chars": (3, 5)}
+_EARLIER_DEPARTMENT_FLOOR = 1e-3
 
 
 def file_fingerprint(path: str | Path | None) -> str:
@@ -125,6 +128,7 @@ def save_model(
             "max_features": model.max_features,
             "prune_below": model.prune_below,
             "keyword_prune_below": model.keyword_prune_below,
+            "department_floor": model.department_floor,
             "max_per_class": model.max_per_class,
             "department_sample": model.department_sample,
             "random_state": model.random_state,
@@ -134,6 +138,10 @@ def save_model(
             for block in model.featurizer_.vectorizers_
         },
         "feature_blocks": list(model.featurizer_.vectorizers_),
+        "feature_ngram_ranges": {
+            block: list(vectorizer.ngram_range)
+            for block, vectorizer in model.featurizer_.vectorizers_.items()
+        },
         "temperatures": [float(t) for t in model.temperatures_],
         "blend_temperature": float(model.blend_temperature_),
         "keyword_weight": float(model.keyword_weight_),
@@ -215,6 +223,7 @@ def load_model(folder: str | Path, tree: CategoryTree) -> tuple[CategoryModel, d
             max_features=settings["max_features"],
             prune_below=settings["prune_below"],
             keyword_prune_below=settings.get("keyword_prune_below", 0.0),  # older folders: none
+            department_floor=settings.get("department_floor", _EARLIER_DEPARTMENT_FLOOR),
             keyword_weight=manifest["keyword_weight"],
             max_per_class=settings.get("max_per_class"),
             department_sample=settings.get("department_sample"),
@@ -225,8 +234,13 @@ def load_model(folder: str | Path, tree: CategoryTree) -> tuple[CategoryModel, d
             min_df=settings["min_df"],
             max_features=settings["max_features"],
         )
+        ranges = {**_EARLIER_NGRAM_RANGES, **manifest.get("feature_ngram_ranges", {})}
         featurizer.vectorizers_ = {
-            block: _load_vocabulary(src, block, ProductFeaturizer.make_vectorizer(block))
+            block: _load_vocabulary(
+                src,
+                block,
+                ProductFeaturizer.make_vectorizer(block, ngram_range=ranges.get(block)),
+            )
             for block in manifest["feature_blocks"]
         }
         featurizer.n_features_ = sum(len(v.vocabulary_) for v in featurizer.vectorizers_.values())
