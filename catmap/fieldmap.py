@@ -291,6 +291,8 @@ _SIZE_RE = re.compile(
 
 
 def _plain_token(value: str) -> str:
+    if value.isascii():  # nothing to decompose, no combining marks
+        return value.strip().lower().strip(" .")
     decomposed = unicodedata.normalize("NFKD", value.strip().casefold().replace("ß", "ss"))
     return "".join(ch for ch in decomposed if not unicodedata.combining(ch)).strip(" .")
 

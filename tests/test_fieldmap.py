@@ -3,9 +3,12 @@
 from __future__ import annotations
 
 import random
+import unicodedata
 from pathlib import Path
 
 import pytest
+from hypothesis import given
+from hypothesis import strategies as st
 
 from catmap.errors import ProfileError
 from catmap.feeds import FeedInfo
@@ -314,3 +317,13 @@ def test_default_currency_is_normalised(tmp_path: Path) -> None:
 def test_missing_profile_file(tmp_path: Path) -> None:
     with pytest.raises(ProfileError, match="cannot read the profile"):
         load_profile(tmp_path / "absent.toml")
+
+
+@given(st.text(alphabet=st.characters(max_codepoint=127), max_size=20))
+def test_plain_token_of_ascii_text_equals_the_full_decomposition(value: str) -> None:
+    from catmap.fieldmap import _plain_token
+
+    # reference: unicodedata's NFKD with combining marks dropped (the path non-ASCII text takes)
+    decomposed = unicodedata.normalize("NFKD", value.strip().casefold().replace("ß", "ss"))
+    expected = "".join(ch for ch in decomposed if not unicodedata.combining(ch)).strip(" .")
+    assert _plain_token(value) == expected
