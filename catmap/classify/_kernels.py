@@ -193,19 +193,22 @@ def score_rows(
     w_columns: Array,
     w_values: Array,
     out: Array,
+    offset: int = 0,
 ) -> None:
-    """Add ``X[rows] @ W`` to the dense ``out`` (len(rows) × columns of W), in place.
+    """Add ``X[rows] @ W[offset:offset + columns of X]`` to the dense ``out``, in place.
 
     Args:
         x_indptr, x_indices, x_data: ``X`` in CSR form.
         rows: int64 rows of ``X`` to score, in output order.
-        w_indptr, w_columns, w_values: ``W`` (columns of X × k) from :func:`pack_rows`.
+        w_indptr, w_columns, w_values: ``W`` (features × k) from :func:`pack_rows`.
         out: float64 (len(rows), k) array, usually holding the intercepts already.
+        offset: the row of ``W`` that column 0 of ``X`` stands for (one block of features
+            among several side by side).
     """
     for i in range(len(rows)):
         row = rows[i]
         for p in range(x_indptr[row], x_indptr[row + 1]):
-            feature = x_indices[p]
+            feature = x_indices[p] + offset
             value = x_data[p]
             for q in range(w_indptr[feature], w_indptr[feature + 1]):
                 out[i, w_columns[2 * q]] += value * w_values[2 * q + 1]

@@ -229,8 +229,19 @@ class ProductFeaturizer:
 
     def transform(self, texts: ProductTexts) -> sp.csr_matrix:
         """Return the weighted, stacked feature matrix (float32 CSR, one row per product)."""
+        stacked: sp.csr_matrix = sp.hstack(
+            [matrix for matrix, _ in self.transform_blocks(texts)], format="csr", dtype=np.float32
+        )
+        return stacked
+
+    def transform_blocks(self, texts: ProductTexts) -> list[tuple[sp.csr_matrix, int]]:
+        """Return each block's weighted matrix with its first column in the stacked matrix.
+
+        What :meth:`transform` stacks, without the copy: scoring can read the blocks in turn.
+        """
         vectorizers = self._check()
         blocks = []
+        start = 0
         for block, field_name, _ in FIELD_BLOCKS:
             vectorizer = vectorizers.get(block)
             if vectorizer is None:
@@ -244,9 +255,9 @@ class ProductFeaturizer:
             weight = self._weight(block)
             if weight != 1.0:
                 matrix = matrix * np.float32(weight)
-            blocks.append(matrix)
-        stacked = sp.hstack(blocks, format="csr", dtype=np.float32)
-        return stacked
+            blocks.append((sp.csr_matrix(matrix, dtype=np.float32), start))
+            start += len(vectorizer.vocabulary_)
+        return blocks
 
     def _fast(
         self, block: str, vectorizer: TfidfVectorizer

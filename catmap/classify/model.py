@@ -338,9 +338,12 @@ class CategoryModel:
         """
         self._check()
         layout = self._layout()
-        features = self.featurizer_.transform(texts)
-        n = features.shape[0]
-        group = features @ layout.group_coef + self.group_intercept_
+        # The feature blocks are read in turn rather than stacked into one matrix (a copy).
+        features = self.featurizer_.transform_blocks(texts)
+        n = len(texts)
+        group = np.repeat(self.group_intercept_[None, :].astype(np.float64), n, axis=0)
+        for matrix, start in features:
+            group += matrix @ layout.group_coef[start : start + matrix.shape[1]]
         p_group = softmax(group, self.temperatures_[0])
         selected = p_group >= self.department_floor
         selected[np.arange(n), p_group.argmax(axis=1)] = True
@@ -351,7 +354,9 @@ class CategoryModel:
             if not len(rows):
                 continue
             scores = np.repeat(part.intercept[None, :].astype(np.float64), len(rows), axis=0)
-            score_rows(features.indptr, features.indices, features.data, rows, *part.coef, scores)
+            for matrix, start in features:
+                x = (matrix.indptr, matrix.indices, matrix.data)
+                score_rows(*x, rows, *part.coef, scores, start)
             linear = np.zeros((len(rows), len(part.columns)), dtype=np.float64)
             linear[:, part.linear_pos] = softmax(scores, self.temperatures_[1])
             linear *= p_group[rows, g][:, None]
