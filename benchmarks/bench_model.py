@@ -54,8 +54,8 @@ from catmap.evaluate import (  # noqa: E402
 from catmap.records import Product  # noqa: E402
 from catmap.taxonomy import CategoryTree, load_default_tree  # noqa: E402
 
-# Each speed is the median of this many timed runs (the machine may be shared).
-SPEED_REPEATS = 3
+# Each speed is the median of this many rounds, every model timed in each (see _speed_rounds).
+SPEED_REPEATS = 5
 GOLD_COLUMNS = ("gold_node", "gold_brand", "gold_who", "gold_age", "gold_colour", "split")
 
 
@@ -73,6 +73,8 @@ class Row:
     memory_mb: float = float("nan")
     per_second: float = float("nan")
     notes: list[str] = field(default_factory=list)
+    # One timed run (products/s), measured in the speed rounds at the end of the benchmark.
+    speed: Callable[[], float] | None = None
 
 
 # -- data -----------------------------------------------------------------------------------
@@ -210,13 +212,14 @@ def run_catmap(
     _scores(row, tree, parents, gold, model.classes_[best[:, 0]].tolist(), top[:, 0].tolist())
     row.notes.append("scores: best leaf (no back-off)")
 
-    row.per_second, row.memory_mb = _catmap_speed(workdir / "catmap-model", test_feed)
+    folder = workdir / "catmap-model"
+    _, row.memory_mb = _catmap_speed(folder, test_feed)
     row.notes.append("memory: RSS growth when loading and preparing the saved model")
+    row.speed = lambda: _catmap_speed(folder, test_feed)[0]
     row.notes.append(
         "speed: a new process loads the saved model, then CSV file → read → normalise → "
         "Mapper.top_k(texts, 1) (the scoring step of catmap map; rules, path consensus, back-off "
-        f"and writing not included), one core, per-word caches empty at the start; median of "
-        f"{SPEED_REPEATS} new processes"
+        "and writing not included), one core, per-word caches empty at the start"
     )
     return row
 
@@ -271,21 +274,15 @@ def _time_mapping(
 def _catmap_speed(folder: Path, feed_path: Path) -> tuple[float, float]:
     """Products per second and model memory (MB) of :func:`_time_mapping` in a new interpreter.
 
-    The medians of :data:`SPEED_REPEATS` runs, each in its own new process.
-
     A new process starts with empty per-word caches and none of the benchmark's own objects
     (tens of thousands of products held for the other models slow Python's garbage collector),
     as a ``catmap map`` process does.
     """
     import multiprocessing
 
-    speeds, memories = [], []
-    for _ in range(SPEED_REPEATS):
-        with multiprocessing.get_context("spawn").Pool(1) as pool:
-            mapped, seconds, _, memory = pool.apply(_time_mapping, (str(folder), str(feed_path)))
-        speeds.append(mapped / seconds)
-        memories.append(memory)
-    return float(np.median(speeds)), float(np.median(memories))
+    with multiprocessing.get_context("spawn").Pool(1) as pool:
+        mapped, seconds, _, memory = pool.apply(_time_mapping, (str(folder), str(feed_path)))
+    return mapped / seconds, memory
 
 
 # -- scikit-learn baselines -----------------------------------------------------------------
@@ -396,8 +393,8 @@ def run_fasttext(
     # The wrapper's predict() breaks under NumPy 2 (np.array(copy=False)); its C++ object
     # answers the same call with a list of (probability, label) pairs.
     predict = model.f.predict
-    speeds = []
-    for _ in range(SPEED_REPEATS):
+
+    def run() -> tuple[list[str], list[float], float]:
         predicted: list[str] = []
         confidence: list[float] = []
         started = time.perf_counter()
@@ -410,12 +407,11 @@ def run_fasttext(
             prob, label = found[0]
             predicted.append(label.removeprefix("__label__"))
             confidence.append(float(prob))
-        speeds.append(len(texts) / (time.perf_counter() - started))
-    row.per_second = float(np.median(speeds))
-    row.notes.append(
-        f"speed: predict per product in Python, one thread, text already extracted; median of "
-        f"{SPEED_REPEATS} passes"
-    )
+        return predicted, confidence, len(texts) / (time.perf_counter() - started)
+
+    predicted, confidence, _ = run()
+    row.speed = lambda: run()[2]
+    row.notes.append("speed: predict per product in Python, one thread, text already extracted")
     _scores(row, tree, parents, [p.extra["gold_node"] for p in test], predicted, confidence)
     return row
 
@@ -530,11 +526,38 @@ def main(argv: list[str] | None = None) -> int:
                     f"  {done.name}: acc {done.accuracy:.3f} wF1 {done.weighted_f1:.3f} "
                     f"hF1 {done.hierarchical_f1:.3f} ECE {done.ece:.4f} "
                     f"train {done.train_seconds:.1f} s disk {done.disk_mb:.1f} MB "
-                    f"mem {done.memory_mb:.1f} MB {done.per_second:,.0f} products/s",
+                    f"mem {done.memory_mb:.1f} MB",
                     file=sys.stderr,
                 )
+        _speed_rounds(rows)
         _print_table(rows, (len(train), len(valid), len(test)))
     return 0
+
+
+def _speed_rounds(rows: list[Row]) -> None:
+    """Time every model that has a speed in turn, :data:`SPEED_REPEATS` rounds; keep medians.
+
+    The speeds are measured side by side at the end, round after round, so that a machine whose
+    pace drifts during the run (a shared or virtual machine) slows every model alike.
+    """
+    timed = [row for row in rows if row.speed is not None]
+    speeds: dict[str, list[float]] = {row.name: [] for row in timed}
+    for round_number in range(SPEED_REPEATS):
+        for row in timed:
+            assert row.speed is not None
+            speeds[row.name].append(row.speed())
+        print(
+            f"speed round {round_number + 1}: "
+            + ", ".join(f"{name} {values[-1]:,.0f}/s" for name, values in speeds.items()),
+            file=sys.stderr,
+        )
+    for row in timed:
+        row.per_second = float(np.median(speeds[row.name]))
+        row.notes.append(
+            f"speed: median of {SPEED_REPEATS} rounds ("
+            + ", ".join(f"{value:,.0f}" for value in speeds[row.name])
+            + "); every model timed in each round, one after the other"
+        )
 
 
 if __name__ == "__main__":
