@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import json
 from pathlib import Path
+from typing import Any
 
 import numpy as np
 import pytest
@@ -68,15 +69,31 @@ def test_saved_then_loaded_gives_identical_predictions(
     assert manifest["class_ids"] == trained.classes_.tolist()
 
 
+def _saved_as_earlier(
+    model: CategoryModel, tmp_path: Path, left_out: list[tuple[str, ...]]
+) -> dict[str, Any]:
+    """Save to tmp_path/model, then drop manifest keys an earlier catmap did not write.
+
+    Returns the manifest as saved (before the keys were dropped).
+    """
+    save_model(model, tmp_path / "model")
+    path = tmp_path / "model" / "manifest.json"
+    saved = json.loads(path.read_text(encoding="utf-8"))
+    earlier = json.loads(path.read_text(encoding="utf-8"))
+    for *parents, key in left_out:
+        holder = earlier
+        for parent in parents:
+            holder = holder[parent]
+        del holder[key]
+    path.write_text(json.dumps(earlier), encoding="utf-8")
+    return dict(saved)
+
+
 def test_a_folder_saved_before_keyword_pruning_loads_with_every_keyword_entry(
     trained: CategoryModel, tree: CategoryTree, tmp_path: Path
 ) -> None:
-    save_model(trained, tmp_path / "model")
-    manifest_path = tmp_path / "model" / "manifest.json"
-    manifest = json.loads(manifest_path.read_text(encoding="utf-8"))
+    manifest = _saved_as_earlier(trained, tmp_path, [("settings", "keyword_prune_below")])
     assert manifest["settings"]["keyword_prune_below"] == trained.keyword_prune_below > 0
-    del manifest["settings"]["keyword_prune_below"]  # as written by an earlier catmap
-    manifest_path.write_text(json.dumps(manifest), encoding="utf-8")
     loaded, _ = load_model(tmp_path / "model", tree)
     assert loaded.keyword_prune_below == 0.0
     pruned = sum(len(part.documents_t[1]) for part in trained._layout().parts)
@@ -87,14 +104,11 @@ def test_a_folder_saved_before_keyword_pruning_loads_with_every_keyword_entry(
 def test_a_folder_keeps_its_own_ngram_ranges_and_department_floor(
     trained: CategoryModel, tree: CategoryTree, tmp_path: Path
 ) -> None:
-    save_model(trained, tmp_path / "model")
-    manifest_path = tmp_path / "model" / "manifest.json"
-    manifest = json.loads(manifest_path.read_text(encoding="utf-8"))
+    manifest = _saved_as_earlier(
+        trained, tmp_path, [("feature_ngram_ranges",), ("settings", "department_floor")]
+    )
     assert manifest["feature_ngram_ranges"]["title_chars"] == [3, 4]
     assert manifest["settings"]["department_floor"] == trained.department_floor
-    # As written by an earlier catmap: neither is in the manifest.
-    del manifest["feature_ngram_ranges"], manifest["settings"]["department_floor"]
-    manifest_path.write_text(json.dumps(manifest), encoding="utf-8")
     loaded, _ = load_model(tmp_path / "model", tree)
     assert loaded.featurizer_.vectorizers_["title_chars"].ngram_range == (3, 5)
     assert loaded.featurizer_.vectorizers_["title_words"].ngram_range == (1, 2)
