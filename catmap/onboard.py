@@ -49,11 +49,10 @@ from catmap.classify.features import product_texts
 from catmap.classify.model import CategoryModel
 from catmap.classify.rules import RuleSet, load_rules
 from catmap.classify.storage import file_fingerprint, load_model
-from catmap.classify.training import consensus_blend, feed_profile, read_labelled
+from catmap.classify.training import consensus_blend, open_profiled_feed, read_labelled
 from catmap.decide import DEFAULT_DELTA, DEFAULT_MAX_ERROR, ThresholdChoice, choose_threshold
 from catmap.errors import InputError, ModelError
-from catmap.feeds import open_feed
-from catmap.ingest import FATAL_FEED_ERRORS, Accounting, check_profile, iter_products
+from catmap.ingest import FATAL_FEED_ERRORS, Accounting, iter_products
 from catmap.project import feed_stem, subfolder
 from catmap.queue import Candidate, expected_gain, plan_queue
 from catmap.records import Alternative, Attributes, Mapping, Product, Reject
@@ -643,14 +642,7 @@ def onboard_feed(
         )
     extractor = extractor or load_extractor(project, tree)
 
-    profile, saved_profile = feed_profile(feed_path, project)
-    opened = open_feed(
-        feed_path,
-        encoding=profile.encoding,
-        record_path=profile.record_path,
-        delimiter=profile.delimiter,
-    )
-    check_profile(profile, opened.info, profile_path=saved_profile)
+    profile, saved_profile, opened = open_profiled_feed(feed_path, project)
 
     name = feed_stem(feed_path)
     store = Store.for_project(project)

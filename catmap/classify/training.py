@@ -36,6 +36,7 @@ __all__ = [
     "TrainingReport",
     "consensus_blend",
     "feed_profile",
+    "open_profiled_feed",
     "read_labelled",
     "train_model",
 ]
@@ -100,6 +101,28 @@ def feed_profile(
     return profile, saved
 
 
+def open_profiled_feed(
+    feed_path: Path, project: Path, *, reserved: Sequence[str] = ()
+) -> tuple[FeedProfile, Path, Any]:
+    """Open a feed with its profile (saved, or suggested and saved); check that they agree.
+
+    Returns:
+        (profile, where it is saved, the open feed).
+
+    Raises:
+        ProfileError: a saved profile names columns the feed does not have.
+    """
+    profile, saved = feed_profile(feed_path, project, reserved=reserved)
+    opened = open_feed(
+        feed_path,
+        encoding=profile.encoding,
+        record_path=profile.record_path,
+        delimiter=profile.delimiter,
+    )
+    check_profile(profile, opened.info, profile_path=saved)
+    return profile, saved, opened
+
+
 def _labelled_stream(
     feeds: Sequence[Path],
     *,
@@ -113,14 +136,9 @@ def _labelled_stream(
     """Yield (product, node id, split) of every labelled product, counting the skipped ones."""
     rng = random.Random(random_state)
     for feed_path in feeds:
-        profile, saved = feed_profile(feed_path, project, reserved=(label_column, "split"))
-        opened = open_feed(
-            feed_path,
-            encoding=profile.encoding,
-            record_path=profile.record_path,
-            delimiter=profile.delimiter,
+        profile, _, opened = open_profiled_feed(
+            feed_path, project, reserved=(label_column, "split")
         )
-        check_profile(profile, opened.info, profile_path=saved)
         if label_column not in opened.info.columns:
             raise InputError(
                 f"the feed has no label column '{label_column}'",

@@ -13,12 +13,11 @@ from rich.table import Table
 from catmap.classify.mapping import Mapper, MapSummary, map_feed
 from catmap.classify.rules import RuleSet, load_rules
 from catmap.classify.storage import MANIFEST, load_model
-from catmap.classify.training import feed_profile, train_model
+from catmap.classify.training import open_profiled_feed, train_model
 from catmap.cli._render import console, echo_json, err_console, json_option
 from catmap.cli._render import project_option as _project_option
 from catmap.errors import InputError, ModelNotTrained
-from catmap.feeds import open_feed
-from catmap.ingest import Accounting, check_profile
+from catmap.ingest import Accounting
 from catmap.onboard import project_review_examples
 from catmap.project import feed_stem, project_dir, subfolder
 from catmap.records import Product
@@ -247,14 +246,7 @@ def map_command(
         rules_file = default_rules if default_rules.exists() else None
     rules = load_rules(rules_file, tree=tree) if rules_file is not None else RuleSet([])
 
-    profile, saved = feed_profile(feed, folder)
-    opened = open_feed(
-        feed,
-        encoding=profile.encoding,
-        record_path=profile.record_path,
-        delimiter=profile.delimiter,
-    )
-    check_profile(profile, opened.info, profile_path=saved)
+    profile, _, opened = open_profiled_feed(feed, folder)
     accounting = Accounting()
     error: InputError | None = None
     summary = MapSummary()

@@ -555,9 +555,8 @@ def evaluate_feed(
     from catmap.attributes.brand import dictionary_in_use
     from catmap.classify.mapping import Mapper as ClassMapper
     from catmap.classify.storage import MANIFEST, load_model
-    from catmap.classify.training import feed_profile
-    from catmap.feeds import open_feed
-    from catmap.ingest import Accounting, check_profile
+    from catmap.classify.training import open_profiled_feed
+    from catmap.ingest import Accounting
     from catmap.taxonomy import load_default_tree
 
     feed = Path(feed_path)
@@ -572,14 +571,7 @@ def evaluate_feed(
         classifier = ClassMapper(tree, None)
         model_text = f"none (no model in {models}: the tree's keywords alone)"
 
-    profile, saved = feed_profile(feed, folder)
-    opened = open_feed(
-        feed,
-        encoding=profile.encoding,
-        record_path=profile.record_path,
-        delimiter=profile.delimiter,
-    )
-    check_profile(profile, opened.info, profile_path=saved)
+    profile, _, opened = open_profiled_feed(feed, folder)
     gold = read_gold_csv(gold_path, label_column=label_column) if gold_path else None
     if gold is None and label_column not in opened.info.columns:
         raise InputError(
