@@ -299,24 +299,17 @@ def _render_map(facts: dict[str, Any]) -> None:
         f"Mapped {facts['products']:,} products with the {mode}, "
         f"back-off below {facts['threshold']:.2f}"
     )
-    table = Table(title="By method")
-    table.add_column("method")
-    table.add_column("products", justify="right")
-    for method, count in facts["by_method"].items():
-        table.add_row(method, f"{count:,}")
-    console.print(table)
-    table = Table(title="Confidence")
-    table.add_column("band")
-    table.add_column("products", justify="right")
-    for band, count in facts["confidence_bands"].items():
-        table.add_row(band, f"{count:,}")
-    console.print(table)
-    table = Table(title="By department")
-    table.add_column("department")
-    table.add_column("products", justify="right")
-    for name, count in facts["by_department"].items():
-        table.add_row(escape(name), f"{count:,}")
-    console.print(table)
+    for title, column, counts in (
+        ("By method", "method", facts["by_method"]),
+        ("Confidence", "band", facts["confidence_bands"]),
+        ("By department", "department", facts["by_department"]),
+    ):
+        table = Table(title=title)
+        table.add_column(column)
+        table.add_column("products", justify="right")
+        for name, count in counts.items():
+            table.add_row(escape(name), f"{count:,}")
+        console.print(table)
     if facts["retailer_paths"]:
         console.print("[bold]Largest retailer paths[/bold]")
         for item in facts["retailer_paths"]:

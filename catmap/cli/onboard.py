@@ -81,15 +81,19 @@ def _onboard_with_progress(
 # -- onboard ----------------------------------------------------------------------------------
 
 
-@click.command("onboard")
-@click.argument("feed", type=click.Path(exists=True, dir_okay=False, path_type=Path))
-@click.option(
+# Shared by onboard and demo: the error rate allowed among auto-accepted mappings.
+_max_error_option = click.option(
     "--max-error",
     default=DEFAULT_MAX_ERROR,
     show_default=True,
     type=click.FloatRange(0, 1, min_open=True, max_open=True),
     help="Error rate allowed among auto-accepted mappings.",
 )
+
+
+@click.command("onboard")
+@click.argument("feed", type=click.Path(exists=True, dir_okay=False, path_type=Path))
+@_max_error_option
 @click.option(
     "--confidence",
     default=1 - DEFAULT_DELTA,
@@ -462,13 +466,7 @@ def _default_world() -> Path:
     type=click.Path(file_okay=False, path_type=Path),
     help="Demo world folder (default: feeds_demo of this checkout; built when missing).",
 )
-@click.option(
-    "--max-error",
-    default=DEFAULT_MAX_ERROR,
-    show_default=True,
-    type=click.FloatRange(0, 1, min_open=True, max_open=True),
-    help="Error rate allowed among auto-accepted mappings.",
-)
+@_max_error_option
 @click.option(
     "--validation",
     "validation_feed",
