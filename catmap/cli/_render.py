@@ -43,3 +43,14 @@ project_option = click.option(
     default=None,
     help="Project folder (default: $CATMAP_PROJECT or ./catmap-work).",
 )
+
+
+def model_option(help_text: str) -> Any:
+    """The ``--model DIR`` option (a model folder), with a command's own help text."""
+    return click.option(
+        "--model",
+        "model_path",
+        default=None,
+        type=click.Path(file_okay=False, path_type=Path),
+        help=help_text,
+    )

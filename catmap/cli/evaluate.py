@@ -9,7 +9,7 @@ import click
 from rich.markup import escape
 from rich.table import Table
 
-from catmap.cli._render import console, echo_json, json_option, project_option
+from catmap.cli._render import console, echo_json, json_option, model_option, project_option
 from catmap.evaluate.run import evaluate_feed
 from catmap.project import project_dir
 from catmap.report_html import write_report
@@ -32,13 +32,7 @@ CONFUSIONS_SHOWN = 10
     show_default=True,
     help="Column holding the gold node id.",
 )
-@click.option(
-    "--model",
-    "model_path",
-    default=None,
-    type=click.Path(file_okay=False, path_type=Path),
-    help="Model folder (default: <project>/models/current; none = keywords only).",
-)
+@model_option("Model folder (default: <project>/models/current; none = keywords only).")
 @click.option(
     "--out",
     "out_dir",

@@ -14,7 +14,7 @@ from catmap.classify.mapping import Mapper, MapSummary, map_feed
 from catmap.classify.rules import RuleSet, load_rules
 from catmap.classify.storage import MANIFEST, load_model
 from catmap.classify.training import open_profiled_feed, train_model
-from catmap.cli._render import console, echo_json, err_console, json_option
+from catmap.cli._render import console, echo_json, err_console, json_option, model_option
 from catmap.cli._render import project_option as _project_option
 from catmap.errors import InputError, ModelNotTrained
 from catmap.ingest import Accounting
@@ -74,13 +74,7 @@ def _remapped_catalog(folder: Path, tree: CategoryTree) -> Path:
     show_default=True,
     help="Linear model to train.",
 )
-@click.option(
-    "--model",
-    "model_path",
-    default=None,
-    type=click.Path(file_okay=False, path_type=Path),
-    help="Model folder to write (default: <project>/models/current).",
-)
+@model_option("Model folder to write (default: <project>/models/current).")
 @click.option(
     "--with-reviews/--without-reviews",
     default=True,
@@ -199,13 +193,7 @@ def train_command(
     type=click.Path(exists=True, dir_okay=False, path_type=Path),
     help="Rules file (default: <project>/rules/<feed name>.rules if it exists).",
 )
-@click.option(
-    "--model",
-    "model_path",
-    default=None,
-    type=click.Path(file_okay=False, path_type=Path),
-    help="Model folder (default: <project>/models/current; none = keywords only).",
-)
+@model_option("Model folder (default: <project>/models/current; none = keywords only).")
 @_tree_version_option
 @click.option(
     "--workers",

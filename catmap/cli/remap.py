@@ -13,7 +13,7 @@ from typing import Any
 import click
 from rich.markup import escape
 
-from catmap.cli._render import console, echo_json, json_option
+from catmap.cli._render import console, echo_json, json_option, model_option
 from catmap.cli._render import project_option as _project_option
 from catmap.errors import InputError, StoreError
 from catmap.onboard import default_model_dir, load_extractor
@@ -129,13 +129,7 @@ def register(main: click.Group) -> None:
         default=None,
         help="Accept threshold for re-scored mappings (default: each feed's onboarding one).",
     )
-    @click.option(
-        "--model",
-        "model_path",
-        default=None,
-        type=click.Path(file_okay=False, path_type=Path),
-        help="Model folder (default: <project>/models/current).",
-    )
+    @model_option("Model folder (default: <project>/models/current).")
     @_project_option
     @json_option
     def remap_command(
