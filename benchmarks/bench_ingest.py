@@ -114,7 +114,7 @@ class _World:
         return " ".join(self.rng.choice(self.words) for _ in range(n))
 
     def gtin(self) -> str:
-        from catmap.normalize import gs1_check_digit
+        from catmap.feeds.normalize import gs1_check_digit
 
         rng = self.rng
         body = "".join(rng.choice("0123456789") for _ in range(12))
@@ -208,8 +208,8 @@ def generate_xml(path: Path, records: int) -> None:
 def _measure(kind: str, path: str, mode: str) -> dict[str, Any]:
     """Run one measurement in this process (called in a fresh subprocess)."""
     from catmap.feeds import open_feed
-    from catmap.fieldmap import FeedProfile
-    from catmap.ingest import Accounting, iter_products, normalize_feed_to
+    from catmap.feeds.fieldmap import FeedProfile
+    from catmap.feeds.ingest import Accounting, iter_products, normalize_feed_to
 
     columns = CSV_PROFILE if kind == "csv" else XML_PROFILE
     profile = FeedProfile(columns=dict(columns), default_currency="EUR")

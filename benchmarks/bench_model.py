@@ -52,7 +52,7 @@ from catmap.evaluate import (  # noqa: E402
     parent_map,
 )
 from catmap.records import Product  # noqa: E402
-from catmap.taxonomy import CategoryTree, load_default_tree  # noqa: E402
+from catmap.tree.taxonomy import CategoryTree, load_default_tree  # noqa: E402
 
 # Each speed is the median of this many rounds, every model timed in each (see _speed_rounds).
 SPEED_REPEATS = 5
@@ -103,8 +103,8 @@ def _read_products(path: Path) -> list[Product]:
     """Read a labelled catalog through catmap's own reader and normaliser (gold kept in extra)."""
     from catmap.evaluate.run import profile_without_gold
     from catmap.feeds import open_feed
-    from catmap.fieldmap import suggest_profile
-    from catmap.ingest import Accounting, iter_products
+    from catmap.feeds.fieldmap import suggest_profile
+    from catmap.feeds.ingest import Accounting, iter_products
 
     feed = open_feed(path)
     profile = profile_without_gold(suggest_profile(feed.info, feed.sample(200)), "gold_node")
@@ -245,8 +245,8 @@ def _time_mapping(
     from catmap.classify.mapping import Mapper
     from catmap.classify.storage import load_model
     from catmap.feeds import open_feed
-    from catmap.fieldmap import suggest_profile
-    from catmap.ingest import Accounting, iter_products
+    from catmap.feeds.fieldmap import suggest_profile
+    from catmap.feeds.ingest import Accounting, iter_products
 
     tree = load_default_tree(1)
     gc.collect()

@@ -23,7 +23,7 @@ from catmap.classify.training import train_model
 from catmap.demo import ensure_demo_world
 from catmap.demo.world import FEED_SIZES, _brands, feed_products, write_feed_a, write_gold
 from catmap.evaluate.run import read_gold_csv
-from catmap.onboard import (
+from catmap.jobs.onboard import (
     OnboardOptions,
     check_against_gold,
     default_model_dir,
@@ -32,7 +32,7 @@ from catmap.onboard import (
 )
 from catmap.records import Product
 from catmap.store import Store, store_path
-from catmap.taxonomy import load_default_tree
+from catmap.tree.taxonomy import load_default_tree
 
 REPO = Path(__file__).resolve().parents[1]
 

@@ -35,14 +35,14 @@ import numpy as np
 ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT))
 
-from catmap.changelog import load_changes  # noqa: E402
 from catmap.classify.features import product_texts  # noqa: E402
 from catmap.classify.keywords import KeywordMapper  # noqa: E402
 from catmap.classify.training import read_labelled  # noqa: E402
+from catmap.jobs.remap import remap_store, rollback_remap  # noqa: E402
 from catmap.records import Mapping, Product  # noqa: E402
-from catmap.remap import remap_store, rollback_remap  # noqa: E402
 from catmap.store import MappedRow, Store  # noqa: E402
-from catmap.taxonomy import load_default_tree  # noqa: E402
+from catmap.tree.changelog import load_changes  # noqa: E402
+from catmap.tree.taxonomy import load_default_tree  # noqa: E402
 
 FEED = "bench"
 

@@ -13,9 +13,9 @@ import argparse
 import json
 from typing import Any
 
-from catmap.changelog import load_changes
-from catmap.taxonomy import default_tree_path, load_tree
-from catmap.treediff import diff_trees, label_equality_crosswalk, score_against_changelog
+from catmap.tree.changelog import load_changes
+from catmap.tree.diff import diff_trees, label_equality_crosswalk, score_against_changelog
+from catmap.tree.taxonomy import default_tree_path, load_tree
 
 
 def _print(title: str, scores: dict[str, Any]) -> None:

@@ -23,10 +23,10 @@ from pathlib import Path
 from catmap.attributes import AttributeExtractor, BrandDictionary
 from catmap.demo import demo_paths
 from catmap.feeds import open_feed
-from catmap.fieldmap import suggest_profile
-from catmap.ingest import Accounting, iter_products
+from catmap.feeds.fieldmap import suggest_profile
+from catmap.feeds.ingest import Accounting, iter_products
 from catmap.records import Product
-from catmap.taxonomy import load_default_tree
+from catmap.tree.taxonomy import load_default_tree
 
 FEEDS = {"ferravelle": "Ferravelle", "quorvane": "Quorvane", "tallimbra": "Tallimbra"}
 SAMPLE_SIZE = 200

@@ -10,7 +10,7 @@ from hypothesis import strategies as st
 
 from catmap.attributes import AttributeExtractor, BrandDictionary, extract_audience
 from catmap.records import AGE_VALUES, WHO_VALUES, Product
-from catmap.taxonomy import CategoryTree, load_tree
+from catmap.tree.taxonomy import CategoryTree, load_tree
 
 TREE = """\
 @tree-version 1

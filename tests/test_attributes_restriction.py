@@ -17,7 +17,7 @@ from catmap.attributes import (
 )
 from catmap.attributes.restriction import is_generic_node
 from catmap.records import Product
-from catmap.taxonomy import CategoryTree, load_tree
+from catmap.tree.taxonomy import CategoryTree, load_tree
 
 TREE = """\
 @tree-version 1

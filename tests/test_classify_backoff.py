@@ -8,7 +8,7 @@ import numpy as np
 import pytest
 
 from catmap.classify.backoff import NodeIndex, backoff, backoff_rows
-from catmap.taxonomy import CategoryTree, load_tree
+from catmap.tree.taxonomy import CategoryTree, load_tree
 from tests._classify_fixtures import write_tree
 
 

@@ -14,7 +14,7 @@ from catmap.classify.keywords import KeywordMapper
 from catmap.classify.model import CategoryModel
 from catmap.classify.storage import load_model, save_model
 from catmap.errors import ModelNotTrained, ModelTreeMismatch
-from catmap.taxonomy import CategoryTree, load_tree
+from catmap.tree.taxonomy import CategoryTree, load_tree
 from tests._classify_fixtures import labelled_rows, write_tree
 
 

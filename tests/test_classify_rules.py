@@ -9,7 +9,7 @@ import pytest
 from catmap.classify.rules import load_rules, parse_rules
 from catmap.errors import InputError
 from catmap.records import Product
-from catmap.taxonomy import load_tree
+from catmap.tree.taxonomy import load_tree
 from tests._classify_fixtures import write_tree
 
 RULES = """# trusted retailer paths

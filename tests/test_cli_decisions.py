@@ -12,7 +12,7 @@ from test_cli_onboard import onboard
 from test_onboard import SmallWorld, new_project, small_world
 
 from catmap.cli import main
-from catmap.decisions_io import DECISION_COLUMNS
+from catmap.jobs.decisions import DECISION_COLUMNS
 from catmap.store import Store, store_path
 
 

@@ -9,7 +9,7 @@ from click.testing import CliRunner
 
 from catmap.cli import main
 from catmap.cli.evaluate import register
-from catmap.taxonomy import load_default_tree
+from catmap.tree.taxonomy import load_default_tree
 
 if "evaluate" not in main.commands:
     register(main)

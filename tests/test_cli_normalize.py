@@ -10,7 +10,7 @@ import pytest
 from click.testing import CliRunner
 
 from catmap.cli import main
-from catmap.fieldmap import FeedProfile, save_profile
+from catmap.feeds.fieldmap import FeedProfile, save_profile
 
 FEED = (
     "id,title,price,brand,material\n"

@@ -14,7 +14,7 @@ from rich.console import Console
 
 from catmap.cli import main
 from catmap.cli.tree import render_tree, tree_group
-from catmap.taxonomy import load_tree
+from catmap.tree.taxonomy import load_tree
 
 TREES = Path(__file__).parent / "data" / "trees"
 GOOD = str(TREES / "good.txt")

@@ -9,7 +9,7 @@ from click.testing import CliRunner
 
 from catmap.cli import main
 from catmap.errors import EXIT_INPUT
-from catmap.treediff import load_crosswalk
+from catmap.tree.diff import load_crosswalk
 
 DATA = Path(__file__).parent / "data" / "treediff"
 

@@ -8,7 +8,7 @@ import numpy as np
 import pytest
 from scipy.stats import binomtest
 
-from catmap.decide import (
+from catmap.decide.threshold import (
     audit_sample_rate,
     choose_threshold,
     estimate_error,

@@ -1,4 +1,4 @@
-"""Tests of catmap.decisions_io: export the queue to CSV, fill it, import it back."""
+"""Tests of catmap.jobs.decisions: export the queue to CSV, fill it, import it back."""
 
 from __future__ import annotations
 
@@ -8,12 +8,12 @@ from pathlib import Path
 import pytest
 from test_onboard import SmallWorld, new_project, options, small_world
 
-from catmap.decisions_io import DECISION_COLUMNS, export_decisions, import_decisions
 from catmap.errors import InputError
-from catmap.onboard import OnboardOptions, onboard_feed
+from catmap.jobs.decisions import DECISION_COLUMNS, export_decisions, import_decisions
+from catmap.jobs.onboard import OnboardOptions, onboard_feed
 from catmap.review.sample import RED_WINE, SAMPLE_FEED, T_SHIRTS, build_sample_store
 from catmap.store import Store, store_path
-from catmap.taxonomy import load_default_tree
+from catmap.tree.taxonomy import load_default_tree
 
 
 @pytest.fixture(scope="module")

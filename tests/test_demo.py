@@ -28,7 +28,7 @@ from catmap.demo._products import audience_said
 from catmap.demo._retailers import ALL_RETAILERS
 from catmap.demo.world import XML_EXT_NAMESPACE, XML_NAMESPACE
 from catmap.records import AGE_VALUES, WHO_VALUES
-from catmap.taxonomy import CategoryTree, default_tree_path, load_tree
+from catmap.tree.taxonomy import CategoryTree, default_tree_path, load_tree
 
 REPO = Path(__file__).resolve().parents[1]
 DEMO = REPO / "feeds_demo"

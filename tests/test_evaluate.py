@@ -25,10 +25,10 @@ from catmap.evaluate import (
     risk_coverage,
     top_confusions,
 )
+from catmap.evaluate.report_html import write_report
 from catmap.evaluate.run import Gold, collect, evaluation_report, model_mapper, read_gold_csv
 from catmap.records import Attributes, Mapping, Product, Reject
-from catmap.report_html import write_report
-from catmap.taxonomy import CategoryTree, load_tree
+from catmap.tree.taxonomy import CategoryTree, load_tree
 
 
 def _random_labels(seed: int, n: int, classes: int) -> tuple[list[str], list[str]]:

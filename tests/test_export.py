@@ -1,4 +1,4 @@
-"""Tests of catmap.export: the enriched feed, its rejects and accounting, formula-safe CSV."""
+"""Tests of catmap.jobs.export: the enriched feed, its rejects and accounting, formula-safe CSV."""
 
 from __future__ import annotations
 
@@ -11,8 +11,8 @@ import pytest
 from test_onboard import SmallWorld, new_project, options, small_world
 
 from catmap.errors import StoreError
-from catmap.export import EXPORT_COLUMNS, export_feed
-from catmap.onboard import OnboardOptions, onboard_feed
+from catmap.jobs.export import EXPORT_COLUMNS, export_feed
+from catmap.jobs.onboard import OnboardOptions, onboard_feed
 from catmap.store import Store, store_path
 
 # Cells a spreadsheet would run as formulas (OWASP "CSV Injection" examples).

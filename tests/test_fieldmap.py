@@ -1,4 +1,4 @@
-"""Tests for catmap.fieldmap: column suggestions from names and values, and profile files."""
+"""Tests for catmap.feeds.fieldmap: column suggestions from names and values, and profile files."""
 
 from __future__ import annotations
 
@@ -12,7 +12,7 @@ from hypothesis import strategies as st
 
 from catmap.errors import ProfileError
 from catmap.feeds import FeedInfo
-from catmap.fieldmap import (
+from catmap.feeds.fieldmap import (
     REQUIRED_FIELDS,
     TARGET_FIELDS,
     FeedProfile,
@@ -321,7 +321,7 @@ def test_missing_profile_file(tmp_path: Path) -> None:
 
 @given(st.text(alphabet=st.characters(max_codepoint=127), max_size=20))
 def test_plain_token_of_ascii_text_equals_the_full_decomposition(value: str) -> None:
-    from catmap.fieldmap import _plain_token
+    from catmap.feeds.fieldmap import _plain_token
 
     # reference: unicodedata's NFKD with combining marks dropped (the path non-ASCII text takes)
     decomposed = unicodedata.normalize("NFKD", value.strip().casefold().replace("ß", "ss"))

@@ -1,4 +1,4 @@
-"""Tests for catmap.ingest: profile → product, reject reasons, duplicates and the row accounting."""
+"""Tests for catmap.feeds.ingest: profile → product, reject reasons, duplicates, row accounting."""
 
 from __future__ import annotations
 
@@ -10,8 +10,8 @@ from pathlib import Path
 import pytest
 
 from catmap.errors import CatmapError, FeedFormatError, ProfileError
-from catmap.fieldmap import FeedProfile
-from catmap.ingest import (
+from catmap.feeds.fieldmap import FeedProfile
+from catmap.feeds.ingest import (
     FATAL_FEED_ERRORS,
     Accounting,
     IdIndex,
@@ -260,8 +260,8 @@ def test_duplicates_across_many_batches_match_a_plain_dict(
     monkeypatch: pytest.MonkeyPatch,
 ) -> None:
     # Small batches and runs, so that ids spread over many index runs that get merged.
-    monkeypatch.setattr("catmap.ingest.BATCH_SIZE", 7)
-    monkeypatch.setattr("catmap.ingest.RECENT_IDS", 10)
+    monkeypatch.setattr("catmap.feeds.ingest.BATCH_SIZE", 7)
+    monkeypatch.setattr("catmap.feeds.ingest.RECENT_IDS", 10)
     ids = [f"S{(n * 7919) % 613}" for n in range(2000)]  # every id repeats a few times
     items: list[SourceRecord | Reject] = [
         _record(line=line, sku=sku) for line, sku in enumerate(ids, start=2)
@@ -298,7 +298,7 @@ def test_id_index_merges_runs_and_keeps_large_line_numbers(
     index.recent[keys[0]] = 7
     index.settle()  # fewer than RECENT_IDS: the id stays recent
     assert index.runs == [] and index.recent == {keys[0]: 7}
-    monkeypatch.setattr("catmap.ingest.RECENT_IDS", 1)
+    monkeypatch.setattr("catmap.feeds.ingest.RECENT_IDS", 1)
     index.settle()  # a run of one id, lines as uint32
     big = 2**33 + 5  # past the uint32 range
     index.recent[keys[1]] = big
@@ -311,7 +311,7 @@ def test_id_index_merges_runs_and_keeps_large_line_numbers(
 def test_fatal_error_after_a_full_batch_keeps_every_good_record(
     monkeypatch: pytest.MonkeyPatch,
 ) -> None:
-    monkeypatch.setattr("catmap.ingest.BATCH_SIZE", 2)
+    monkeypatch.setattr("catmap.feeds.ingest.BATCH_SIZE", 2)
     items: list[SourceRecord | Reject] = [
         _record(line=2, sku="A"),
         _record(line=3, sku="B"),
@@ -386,7 +386,7 @@ def test_real_xml_feed_broken_after_good_records(tmp_path: Path) -> None:
 
 def _profile_for(feed: object) -> FeedProfile | None:
     """The suggested profile, with the first columns standing in for missing required fields."""
-    from catmap.fieldmap import suggest_profile
+    from catmap.feeds.fieldmap import suggest_profile
 
     info = feed.info  # type: ignore[attr-defined]
     try:

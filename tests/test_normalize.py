@@ -1,4 +1,4 @@
-"""Tests for catmap.normalize: text, price, currency, GTIN, availability and category paths."""
+"""Tests for catmap.feeds.normalize: text, price, currency, GTIN, availability, category paths."""
 
 from __future__ import annotations
 
@@ -12,8 +12,8 @@ from hypothesis import assume, given, settings
 from hypothesis import strategies as st
 from stdnum import ean
 
-from catmap._currency import ISO_4217_CODES, SYMBOLS, WORDS
-from catmap.normalize import (
+from catmap.feeds._currency import ISO_4217_CODES, SYMBOLS, WORDS
+from catmap.feeds.normalize import (
     _INVISIBLE_RE,
     clean_line,
     clean_text,

@@ -1,4 +1,4 @@
-"""Tests of catmap.onboard: a small feed end to end into a store, idempotent re-runs, resume.
+"""Tests of catmap.jobs.onboard: a small feed end to end into a store, idempotent re-runs, resume.
 
 The world is the demo generator run on a tiny tree (11 leaves) with a tiny model trained on its
 reference catalog; it is built once per test session and copied into each test's project.
@@ -20,7 +20,7 @@ from catmap.classify.training import train_model
 from catmap.demo import DemoPaths, build_demo_world
 from catmap.errors import FeedFormatError, ModelNotTrained
 from catmap.evaluate.run import read_gold_csv
-from catmap.onboard import (
+from catmap.jobs.onboard import (
     FeedMapper,
     OnboardOptions,
     ValidationPredictions,
@@ -33,7 +33,7 @@ from catmap.onboard import (
 )
 from catmap.records import Mapping
 from catmap.store import Store, store_path
-from catmap.taxonomy import CategoryTree, load_tree
+from catmap.tree.taxonomy import CategoryTree, load_tree
 
 TINY_TREE = (Path(__file__).parent / "data" / "trees" / "small_world.txt").read_text(
     encoding="utf-8"

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import pytest
 
-from catmap.queue import (
+from catmap.decide.queue import (
     Candidate,
     audit_sample,
     expected_gain,

@@ -1,4 +1,4 @@
-"""Tests of catmap.remap: moving stored mappings onto a new tree version, rollback, finalise.
+"""Tests of catmap.jobs.remap: moving stored mappings onto a new tree version, rollback, finalise.
 
 The trees are the small hand-made pairs of tests/data/treediff (old.txt is version 1, each other
 file one change, version 2); the expected nodes are read from each file's header comment.
@@ -17,8 +17,7 @@ from catmap.attributes import AttributeExtractor, BrandDictionary
 from catmap.classify.model import CategoryModel
 from catmap.classify.storage import load_model, save_model
 from catmap.errors import ModelTreeMismatch, StoreError
-from catmap.records import Mapping, Product
-from catmap.remap import (
+from catmap.jobs.remap import (
     RemapScorer,
     finalise_remap,
     latest_remap,
@@ -27,8 +26,9 @@ from catmap.remap import (
     remapped_examples,
     rollback_remap,
 )
+from catmap.records import Mapping, Product
 from catmap.store import MappedRow, Store
-from catmap.taxonomy import CategoryTree, load_tree
+from catmap.tree.taxonomy import CategoryTree, load_tree
 from tests._classify_fixtures import labelled_rows, write_tree
 
 DATA = Path(__file__).parent / "data" / "treediff"
@@ -489,7 +489,7 @@ def test_remapped_catalog_is_a_labelled_feed_catmap_can_train_on(
     store: Store, tmp_path: Path
 ) -> None:
     from catmap.classify.training import read_labelled
-    from catmap.remap import write_remapped_catalog
+    from catmap.jobs.remap import write_remapped_catalog
 
     _save(
         store,

@@ -28,7 +28,7 @@ from catmap.review.sample import (
 )
 from catmap.review.session import ReviewSession
 from catmap.store import MappedRow, ReviewItem, Store
-from catmap.taxonomy import CategoryTree, load_default_tree
+from catmap.tree.taxonomy import CategoryTree, load_default_tree
 
 SIZE = (120, 40)
 

@@ -1,4 +1,4 @@
-"""Tests for catmap.taxonomy: validation of tree files, look-ups, inheritance, search, dump."""
+"""Tests for catmap.tree.taxonomy: validation of tree files, look-ups, inheritance, search, dump."""
 
 from __future__ import annotations
 
@@ -9,7 +9,7 @@ from pathlib import Path
 import pytest
 
 from catmap.errors import TreeError, UnknownNode
-from catmap.taxonomy import (
+from catmap.tree.taxonomy import (
     CategoryTree,
     Node,
     default_tree_path,

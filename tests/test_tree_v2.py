@@ -6,9 +6,9 @@ from pathlib import Path
 
 import pytest
 
-from catmap.changelog import apply_changes, load_change_log, load_changes
 from catmap.errors import TreeError
-from catmap.taxonomy import default_tree_path, load_tree
+from catmap.tree.changelog import apply_changes, load_change_log, load_changes
+from catmap.tree.taxonomy import default_tree_path, load_tree
 
 V1 = load_tree(default_tree_path(1))
 V2 = load_tree(default_tree_path(2))

@@ -1,4 +1,4 @@
-"""Tests of catmap.treediff: one small hand-made pair of trees per change type."""
+"""Tests of catmap.tree.diff: one small hand-made pair of trees per change type."""
 
 from __future__ import annotations
 
@@ -7,10 +7,9 @@ from pathlib import Path
 
 import pytest
 
-from catmap.changelog import Change
 from catmap.errors import InputError
-from catmap.taxonomy import CategoryTree, load_tree
-from catmap.treediff import (
+from catmap.tree.changelog import Change
+from catmap.tree.diff import (
     Correspondence,
     Crosswalk,
     diff_trees,
@@ -19,6 +18,7 @@ from catmap.treediff import (
     save_crosswalk,
     score_against_changelog,
 )
+from catmap.tree.taxonomy import CategoryTree, load_tree
 
 DATA = Path(__file__).parent / "data" / "treediff"
 

@@ -1,4 +1,4 @@
-"""Tests for catmap.writers: streaming JSON Lines / CSV / Parquet, and formula-safe CSV cells."""
+"""Tests for catmap.feeds.writers: streaming JSON Lines / CSV / Parquet, and formula-safe CSV cells."""
 
 from __future__ import annotations
 
@@ -9,14 +9,14 @@ from pathlib import Path
 import pandas as pd
 import pytest
 
-from catmap.records import Product, Reject
-from catmap.writers import (
+from catmap.feeds.writers import (
     PRODUCT_COLUMNS,
     REJECT_COLUMNS,
     neutralise_cell,
     open_product_writer,
     open_reject_writer,
 )
+from catmap.records import Product, Reject
 
 PRODUCTS = [
     Product(
@@ -120,7 +120,7 @@ def test_parquet_round_trip(tmp_path: Path) -> None:
 def test_parquet_writes_row_groups(tmp_path: Path) -> None:
     import pyarrow.parquet as pq
 
-    from catmap.writers import ParquetProductWriter
+    from catmap.feeds.writers import ParquetProductWriter
 
     path = tmp_path / "p.parquet"
     with ParquetProductWriter(path, row_group_size=2) as writer:

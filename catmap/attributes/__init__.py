@@ -56,7 +56,7 @@ from catmap.attributes.restriction import (
 from catmap.records import Attributes, Product
 
 if TYPE_CHECKING:
-    from catmap.taxonomy import CategoryTree
+    from catmap.tree.taxonomy import CategoryTree
 
 __all__ = [
     "FAMILIES",

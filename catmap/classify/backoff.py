@@ -15,7 +15,7 @@ from typing import Any
 import numpy as np
 import scipy.sparse as sp
 
-from catmap.taxonomy import CategoryTree
+from catmap.tree.taxonomy import CategoryTree
 
 __all__ = ["BackoffResult", "NodeIndex", "backoff", "backoff_rows"]
 

@@ -22,7 +22,7 @@ from catmap.classify._wordcache import WordCachedTfidf
 from catmap.classify.calibration import softmax
 from catmap.classify.features import ProductTexts, distinct_values
 from catmap.errors import ModelNotTrained
-from catmap.taxonomy import CategoryTree
+from catmap.tree.taxonomy import CategoryTree
 
 __all__ = ["KeywordMapper", "node_document"]
 

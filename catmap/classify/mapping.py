@@ -30,11 +30,11 @@ from catmap.classify.features import ProductTexts, product_texts
 from catmap.classify.keywords import KeywordMapper
 from catmap.classify.model import CategoryModel
 from catmap.classify.rules import RuleSet
-from catmap.fieldmap import FeedProfile
-from catmap.ingest import FATAL_FEED_ERRORS, Accounting, iter_products
-from catmap.records import Product, Reject, SourceRecord
-from catmap.taxonomy import CategoryTree
-from catmap.writers import neutralise_cell, open_reject_writer
+from catmap.feeds.ingest import FATAL_FEED_ERRORS
+from catmap.feeds.profiled import ProfiledFeed
+from catmap.feeds.writers import neutralise_cell, open_reject_writer
+from catmap.records import Product, Reject
+from catmap.tree.taxonomy import CategoryTree
 
 __all__ = ["MAPPING_COLUMNS", "CONFIDENCE_BANDS", "MapSummary", "Mapper", "map_feed"]
 
@@ -298,8 +298,7 @@ class _PassOneStore:
 
 
 def map_feed(
-    feed: Iterable[SourceRecord | Reject],
-    profile: FeedProfile,
+    source: ProfiledFeed,
     out_dir: str | Path,
     *,
     mapper: Mapper,
@@ -308,15 +307,13 @@ def map_feed(
     format: str = "jsonl",
     chunk_size: int = CHUNK_SIZE,
     workers: int = 2,
-    accounting: Accounting | None = None,
     on_progress: Callable[[int], None] | None = None,
     top_paths: int = 10,
 ) -> MapSummary:
     """Map every product of a feed and write mappings, rejects and the accounting to ``out_dir``.
 
     Args:
-        feed: an open feed.
-        profile: its profile.
+        source: the feed opened with its profile; its accounting is filled in place.
         out_dir: output folder (created).
         mapper: the model (or cold-start keywords).
         rules: per-feed rules, applied first.
@@ -324,7 +321,6 @@ def map_feed(
         format: "jsonl", "csv" or "parquet" for the mappings.
         chunk_size: products per chunk.
         workers: processes computing probabilities (1 = in this process).
-        accounting: filled in place.
         on_progress: called with the number of records read so far.
         top_paths: how many retailer paths the summary lists.
 
@@ -335,7 +331,7 @@ def map_feed(
         FeedFormatError, FeedEncodingError, UnsafeFeedError: after what was read is written.
     """
     global _WORKER_MAPPER
-    accounting = accounting if accounting is not None else Accounting()
+    accounting = source.accounting
     out = Path(out_dir)
     out.mkdir(parents=True, exist_ok=True)
     ext = {"jsonl": "jsonl", "csv": "csv", "parquet": "parquet"}[format]
@@ -367,7 +363,7 @@ def map_feed(
             store.add(idx, vals, rows)
 
         try:
-            products = iter_products(feed, profile, accounting)
+            products = source.products()
             for chunk in _chunks(products, chunk_size, rejects.write):
                 rows: list[_Row] = []
                 for product in chunk:

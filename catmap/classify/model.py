@@ -35,7 +35,7 @@ from catmap.classify.calibration import expected_calibration_error, fit_temperat
 from catmap.classify.features import ProductFeaturizer, ProductTexts
 from catmap.classify.keywords import KeywordMapper
 from catmap.errors import ModelNotTrained
-from catmap.taxonomy import CategoryTree
+from catmap.tree.taxonomy import CategoryTree
 
 __all__ = ["CLASSIFIERS", "CategoryModel"]
 

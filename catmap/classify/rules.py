@@ -27,7 +27,7 @@ from pathlib import Path
 
 from catmap.errors import InputError
 from catmap.records import Product
-from catmap.taxonomy import CategoryTree
+from catmap.tree.taxonomy import CategoryTree
 
 __all__ = ["FIELDS", "Rule", "RuleMatch", "RuleSet", "load_rules", "parse_rules"]
 

@@ -29,7 +29,7 @@ from catmap.classify.features import ProductFeaturizer
 from catmap.classify.keywords import KeywordMapper, make_keyword_vectorizer
 from catmap.classify.model import CategoryModel
 from catmap.errors import ModelError, ModelNotTrained, ModelTreeMismatch
-from catmap.taxonomy import CategoryTree
+from catmap.tree.taxonomy import CategoryTree
 
 __all__ = ["FORMAT_VERSION", "file_fingerprint", "load_model", "read_manifest", "save_model"]
 

@@ -23,26 +23,20 @@ from catmap.classify.features import ProductTexts, product_texts
 from catmap.classify.model import CategoryModel
 from catmap.classify.storage import save_model
 from catmap.errors import InputError
-from catmap.feeds import open_feed
-from catmap.fieldmap import FeedProfile, load_profile, save_profile, suggest_profile
-from catmap.ingest import Accounting, check_profile, iter_products
-from catmap.project import profile_path
+from catmap.feeds.profiled import open_profiled_feed
 from catmap.records import Product
-from catmap.taxonomy import CategoryTree
+from catmap.tree.taxonomy import CategoryTree
 
 __all__ = [
     "CONSENSUS_WEIGHT_GRID",
     "LabelledData",
     "TrainingReport",
     "consensus_blend",
-    "feed_profile",
-    "open_profiled_feed",
     "read_labelled",
     "train_model",
 ]
 
 CONSENSUS_WEIGHT_GRID = (0.0, 0.1, 0.2, 0.3, 0.4, 0.5)
-SAMPLE_SIZE = 200
 VALID_SHARE = 0.1
 
 
@@ -79,50 +73,6 @@ class TrainingReport:
         return dict(self.__dict__)
 
 
-def feed_profile(
-    feed_path: Path, project: Path, *, reserved: Sequence[str] = ()
-) -> tuple[FeedProfile, Path]:
-    """Return the feed's saved profile, or suggest one and save it in the project.
-
-    Columns named in ``reserved`` (a label column, ``split``) are never suggested as a product
-    field: short node ids look like sizes to the value-based guess, and a label read as a size
-    would be lost to training.
-    """
-    saved = profile_path(project, feed_path)
-    if saved.exists():
-        return load_profile(saved), saved
-    opened = open_feed(feed_path)
-    profile = suggest_profile(opened.info, opened.sample(SAMPLE_SIZE))
-    for target, column in list(profile.columns.items()):
-        if column in reserved:
-            del profile.columns[target]
-    saved.parent.mkdir(parents=True, exist_ok=True)
-    save_profile(profile, saved)
-    return profile, saved
-
-
-def open_profiled_feed(
-    feed_path: Path, project: Path, *, reserved: Sequence[str] = ()
-) -> tuple[FeedProfile, Path, Any]:
-    """Open a feed with its profile (saved, or suggested and saved); check that they agree.
-
-    Returns:
-        (profile, where it is saved, the open feed).
-
-    Raises:
-        ProfileError: a saved profile names columns the feed does not have.
-    """
-    profile, saved = feed_profile(feed_path, project, reserved=reserved)
-    opened = open_feed(
-        feed_path,
-        encoding=profile.encoding,
-        record_path=profile.record_path,
-        delimiter=profile.delimiter,
-    )
-    check_profile(profile, opened.info, profile_path=saved)
-    return profile, saved, opened
-
-
 def _labelled_stream(
     feeds: Sequence[Path],
     *,
@@ -136,9 +86,7 @@ def _labelled_stream(
     """Yield (product, node id, split) of every labelled product, counting the skipped ones."""
     rng = random.Random(random_state)
     for feed_path in feeds:
-        profile, _, opened = open_profiled_feed(
-            feed_path, project, reserved=(label_column, "split")
-        )
+        opened = open_profiled_feed(feed_path, project, reserved=(label_column, "split"))
         if label_column not in opened.info.columns:
             raise InputError(
                 f"the feed has no label column '{label_column}'",
@@ -146,7 +94,7 @@ def _labelled_stream(
                 field=label_column,
                 hint=f"columns found: {', '.join(opened.info.columns)}; use --label-column",
             )
-        for item in iter_products(opened, profile, Accounting()):
+        for item in opened.products():
             if not isinstance(item, Product):
                 continue
             label = item.extra.get(label_column, "").strip()

@@ -20,8 +20,8 @@ from catmap.attributes.brand import (
 from catmap.cli._render import console, echo_json, json_option
 from catmap.cli._render import project_option as _project_option
 from catmap.cli.feeds import SAMPLE_SIZE, _open
-from catmap.fieldmap import load_profile, suggest_profile
-from catmap.ingest import FATAL_FEED_ERRORS, Accounting, iter_products
+from catmap.feeds.fieldmap import load_profile, suggest_profile
+from catmap.feeds.ingest import FATAL_FEED_ERRORS, Accounting, iter_products
 from catmap.project import profile_path, project_dir
 from catmap.records import Product
 

@@ -10,9 +10,9 @@ from rich.markup import escape
 from rich.table import Table
 
 from catmap.cli._render import console, echo_json, json_option, model_option, project_option
+from catmap.evaluate.report_html import write_report
 from catmap.evaluate.run import evaluate_feed
 from catmap.project import project_dir
-from catmap.report_html import write_report
 
 CONFUSIONS_SHOWN = 10
 

@@ -14,8 +14,7 @@ from rich.table import Table
 from catmap.cli._render import console, echo_json, err_console, json_option
 from catmap.cli._render import project_option as _project_option
 from catmap.errors import InputError
-from catmap.feeds import Feed, open_feed
-from catmap.fieldmap import (
+from catmap.feeds.fieldmap import (
     REQUIRED_FIELDS,
     TARGET_FIELDS,
     FeedProfile,
@@ -23,7 +22,7 @@ from catmap.fieldmap import (
     save_profile,
     suggest_profile,
 )
-from catmap.ingest import (
+from catmap.feeds.ingest import (
     FATAL_FEED_ERRORS,
     Accounting,
     OutputPaths,
@@ -31,9 +30,10 @@ from catmap.ingest import (
     normalize_feed_to,
     output_paths,
 )
-from catmap.normalize import normalize_currency
+from catmap.feeds.normalize import normalize_currency
+from catmap.feeds.read import Feed, open_feed
+from catmap.feeds.writers import FORMATS
 from catmap.project import profile_path, project_dir
-from catmap.writers import FORMATS
 
 SAMPLE_SIZE = 200
 SAMPLES_SHOWN = 3

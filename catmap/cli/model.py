@@ -13,16 +13,16 @@ from rich.table import Table
 from catmap.classify.mapping import Mapper, MapSummary, map_feed
 from catmap.classify.rules import RuleSet, load_rules
 from catmap.classify.storage import MANIFEST, load_model
-from catmap.classify.training import open_profiled_feed, train_model
+from catmap.classify.training import train_model
 from catmap.cli._render import console, echo_json, err_console, json_option, model_option
 from catmap.cli._render import project_option as _project_option
 from catmap.errors import InputError, ModelNotTrained
-from catmap.ingest import Accounting
-from catmap.onboard import project_review_examples
+from catmap.feeds.profiled import open_profiled_feed
+from catmap.feeds.writers import FORMATS
+from catmap.jobs.onboard import project_review_examples
 from catmap.project import feed_stem, project_dir, subfolder
 from catmap.records import Product
-from catmap.taxonomy import CategoryTree, load_default_tree
-from catmap.writers import FORMATS
+from catmap.tree.taxonomy import CategoryTree, load_default_tree
 
 _tree_version_option = click.option(
     "--tree-version", default="1", show_default=True, help="Version of the shared category tree."
@@ -38,7 +38,7 @@ DEMO_TREE_VERSION = "1"
 
 
 def _remapped_catalog(folder: Path, tree: CategoryTree) -> Path:
-    from catmap.remap import write_remapped_catalog
+    from catmap.jobs.remap import write_remapped_catalog
     from catmap.store import Store, store_path
 
     hint = f"run `catmap remap --to {tree.version}` first, or give labelled feeds"
@@ -234,8 +234,7 @@ def map_command(
         rules_file = default_rules if default_rules.exists() else None
     rules = load_rules(rules_file, tree=tree) if rules_file is not None else RuleSet([])
 
-    profile, _, opened = open_profiled_feed(feed, folder)
-    accounting = Accounting()
+    source = open_profiled_feed(feed, folder)
     error: InputError | None = None
     summary = MapSummary()
     with Progress(
@@ -250,15 +249,13 @@ def map_command(
         task = progress.add_task(feed.name, total=None)
         try:
             summary = map_feed(
-                opened,
-                profile,
+                source,
                 out_dir,
                 mapper=mapper,
                 rules=rules,
                 threshold=backoff_threshold,
                 format=output_format,
                 workers=workers,
-                accounting=accounting,
                 on_progress=lambda read: progress.update(task, completed=read),
             )
         except InputError as fatal:

@@ -16,11 +16,12 @@ from rich.table import Table
 
 from catmap.cli._render import console, echo_json, err_console, json_option
 from catmap.cli._render import project_option as _project_option
-from catmap.decide import DEFAULT_DELTA, DEFAULT_MAX_ERROR
-from catmap.decisions_io import export_decisions, import_decisions
+from catmap.decide.threshold import DEFAULT_DELTA, DEFAULT_MAX_ERROR
 from catmap.errors import ModelNotTrained
-from catmap.export import export_feed
-from catmap.onboard import (
+from catmap.feeds.writers import FORMATS
+from catmap.jobs.decisions import export_decisions, import_decisions
+from catmap.jobs.export import export_feed
+from catmap.jobs.onboard import (
     DEFAULT_AUDIT_SHARE,
     OnboardOptions,
     OnboardSummary,
@@ -32,8 +33,7 @@ from catmap.onboard import (
 )
 from catmap.project import project_dir
 from catmap.store import Store, store_path
-from catmap.taxonomy import CategoryTree, load_default_tree
-from catmap.writers import FORMATS
+from catmap.tree.taxonomy import CategoryTree, load_default_tree
 
 
 def _say(*objects: Any) -> None:
@@ -515,11 +515,11 @@ def demo_command(
             )
         trained = report.to_dict()
     from catmap.classify.storage import load_model
-    from catmap.onboard import FeedMapper
+    from catmap.jobs.onboard import FeedMapper
 
     model, manifest = load_model(model_dir, tree)
     # New feeds come from new retailers: the threshold must also hold on labelled products
-    # of a retailer the model never saw (see catmap.onboard.accept_threshold).
+    # of a retailer the model never saw (see catmap.jobs.onboard.accept_threshold).
     calibration = list(validation_feed) or [paths.reference] + [
         paths.feeds[name] for name in ("oskelund_labelled",) if name in paths.feeds
     ]

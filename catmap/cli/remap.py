@@ -16,9 +16,8 @@ from rich.markup import escape
 from catmap.cli._render import console, echo_json, json_option, model_option
 from catmap.cli._render import project_option as _project_option
 from catmap.errors import InputError, StoreError
-from catmap.onboard import default_model_dir, load_extractor
-from catmap.project import project_dir
-from catmap.remap import (
+from catmap.jobs.onboard import default_model_dir, load_extractor
+from catmap.jobs.remap import (
     RemapReport,
     finalise_remap,
     latest_remap,
@@ -28,8 +27,9 @@ from catmap.remap import (
     scorer_for_project,
     stored_tree_versions,
 )
+from catmap.project import project_dir
 from catmap.store import Store, store_path
-from catmap.treediff import load_crosswalk
+from catmap.tree.diff import load_crosswalk
 
 
 def _actor() -> str:

@@ -13,7 +13,7 @@ from rich.tree import Tree
 
 from catmap.cli._render import console, echo_json, json_option
 from catmap.errors import UnknownNode
-from catmap.taxonomy import (
+from catmap.tree.taxonomy import (
     CategoryTree,
     Node,
     default_tree_path,
@@ -291,7 +291,7 @@ def diff_command(old: str, new: str, out: str | None, as_json: bool) -> None:
     OLD and NEW are tree files or versions of the shared tree ("1", "2"). Ids decide first;
     where ids changed, nodes are matched on their words in all languages and their place.
     """
-    from catmap.treediff import diff_trees, save_crosswalk
+    from catmap.tree.diff import diff_trees, save_crosswalk
 
     old_tree, new_tree = _tree_from_argument(old), _tree_from_argument(new)
     crosswalk = diff_trees(old_tree, new_tree)

@@ -21,7 +21,7 @@ from catmap.demo._names import Brand
 from catmap.demo._retailers import Retailer
 
 if TYPE_CHECKING:
-    from catmap.taxonomy import CategoryTree
+    from catmap.tree.taxonomy import CategoryTree
 
 # Share of titles that name only a parent or department ("Boots" for an ankle boot), and of
 # titles mentioning a neighbour leaf as an accessory or bundle ("... with dust bag"). These two
@@ -139,7 +139,7 @@ def leaf_infos(tree: CategoryTree) -> list[LeafInfo]:
     """Read every leaf of the tree into a :class:`LeafInfo`, in tree order.
 
     Args:
-        tree: the category tree (read through :mod:`catmap.taxonomy`).
+        tree: the category tree (read through :mod:`catmap.tree.taxonomy`).
 
     Returns:
         One entry per leaf.

@@ -1,7 +1,7 @@
 """Build the invented demo world: brands, the labelled reference catalog, new retailer feeds.
 
 Everything is derived from one seed and the category tree (read through
-:mod:`catmap.taxonomy`), each artefact from its own random stream, so that building only the
+:mod:`catmap.tree.taxonomy`), each artefact from its own random stream, so that building only the
 missing files gives the same bytes as a full rebuild.
 
 Example:
@@ -36,7 +36,7 @@ from catmap.demo._retailers import (
 )
 
 if TYPE_CHECKING:
-    from catmap.taxonomy import CategoryTree
+    from catmap.tree.taxonomy import CategoryTree
 
 BRAND_COUNT = 440
 MIN_PER_LEAF = 40
@@ -326,7 +326,7 @@ _FEED_WRITERS = {"ferravelle": write_feed_a, "quorvane": write_feed_b, "tallimbr
 def _build(root: Path, *, seed: int, reference_size: int, feed_sizes: Mapping[str, int],
            tree: CategoryTree | None, only_missing: bool) -> DemoPaths:
     if tree is None:
-        from catmap.taxonomy import load_default_tree
+        from catmap.tree.taxonomy import load_default_tree
 
         tree = load_default_tree(1)
     paths = demo_paths(root)

@@ -41,10 +41,8 @@ from catmap.records import Alternative, Attributes, Mapping, Product, Reject
 
 if TYPE_CHECKING:
     from catmap.attributes import AttributeExtractor
-    from catmap.feeds import Feed
-    from catmap.fieldmap import FeedProfile
-    from catmap.ingest import Accounting
-    from catmap.taxonomy import CategoryTree
+    from catmap.feeds.fieldmap import FeedProfile
+    from catmap.tree.taxonomy import CategoryTree
 
 __all__ = [
     "GOLD_PREFIX",
@@ -208,7 +206,7 @@ def collect(
     """Map the products that have a usable gold node and keep what the metrics need.
 
     Args:
-        products: products and rejects, as :func:`catmap.ingest.iter_products` yields them.
+        products: products and rejects, as :func:`catmap.feeds.ingest.iter_products` yields them.
         tree: the category tree of the gold labels and the model.
         mapper: maps a chunk of products to one mapping each.
         gold: the gold labels by product id; None to read them from the products' own columns.
@@ -257,19 +255,6 @@ def collect(
                 for product, mapping in zip(chunk, mappings, strict=True)
             )
     return out
-
-
-def read_labelled_feed(
-    feed: Feed,
-    profile: FeedProfile,
-    accounting: Accounting,
-    *,
-    label_column: str = DEFAULT_LABEL_COLUMN,
-) -> Iterator[Product | Reject]:
-    """Stream a labelled feed's products with the gold columns kept out of the product fields."""
-    from catmap.ingest import iter_products
-
-    return iter_products(feed, profile_without_gold(profile, label_column), accounting)
 
 
 # -- the report -----------------------------------------------------------------------------
@@ -555,9 +540,8 @@ def evaluate_feed(
     from catmap.attributes.brand import dictionary_in_use
     from catmap.classify.mapping import Mapper as ClassMapper
     from catmap.classify.storage import MANIFEST, load_model
-    from catmap.classify.training import open_profiled_feed
-    from catmap.ingest import Accounting
-    from catmap.taxonomy import load_default_tree
+    from catmap.feeds.profiled import open_profiled_feed
+    from catmap.tree.taxonomy import load_default_tree
 
     feed = Path(feed_path)
     folder = Path(project)
@@ -571,14 +555,14 @@ def evaluate_feed(
         classifier = ClassMapper(tree, None)
         model_text = f"none (no model in {models}: the tree's keywords alone)"
 
-    profile, _, opened = open_profiled_feed(feed, folder)
+    source = open_profiled_feed(feed, folder)
     gold = read_gold_csv(gold_path, label_column=label_column) if gold_path else None
-    if gold is None and label_column not in opened.info.columns:
+    if gold is None and label_column not in source.info.columns:
         raise InputError(
             f"the feed has no gold column '{label_column}'",
             path=feed,
             field=label_column,
-            hint=f"columns found: {', '.join(opened.info.columns)}; give the gold labels "
+            hint=f"columns found: {', '.join(source.info.columns)}; give the gold labels "
             "with --gold FILE or name the column with --label-column",
         )
     brands_file = dictionary_in_use(folder, brands_path)
@@ -586,9 +570,9 @@ def evaluate_feed(
         brands=BrandDictionary.from_csv(brands_file) if brands_file else BrandDictionary([]),
         tree=tree,
     )
-    accounting = Accounting()
+    accounting = source.accounting
     collected = collect(
-        read_labelled_feed(opened, profile, accounting, label_column=label_column),
+        source.products(profile=profile_without_gold(source.profile, label_column)),
         tree=tree,
         mapper=model_mapper(classifier, threshold),
         gold=gold,

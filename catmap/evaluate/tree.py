@@ -5,7 +5,7 @@ from __future__ import annotations
 from typing import TYPE_CHECKING
 
 if TYPE_CHECKING:
-    from catmap.taxonomy import CategoryTree
+    from catmap.tree.taxonomy import CategoryTree
 
 
 def parent_map(tree: CategoryTree) -> dict[str, str | None]:

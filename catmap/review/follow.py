@@ -12,7 +12,7 @@ says gender or age does not apply. A reviewer's explicit who / age, given with t
 is kept where it applies (:func:`reviewer_values`).
 
 The store has no tree, so the callers (:class:`catmap.review.ReviewSession`,
-:func:`catmap.decisions_io.import_decisions`) compute these and hand them to
+:func:`catmap.jobs.decisions.import_decisions`) compute these and hand them to
 :meth:`catmap.store.Store.decide` / :meth:`~catmap.store.Store.accept_group`.
 """
 
@@ -21,7 +21,7 @@ from __future__ import annotations
 from catmap.attributes import AttributeExtractor, BrandDictionary
 from catmap.records import Product
 from catmap.store import NodeAttributes, NodeAttributesFor, StoredMapping
-from catmap.taxonomy import CategoryTree
+from catmap.tree.taxonomy import CategoryTree
 
 __all__ = ["NodeFollower", "reviewer_values"]
 

@@ -34,7 +34,7 @@ from catmap.store import (
     ReviewView,
     Store,
 )
-from catmap.taxonomy import CategoryTree, SearchMatch, load_default_tree
+from catmap.tree.taxonomy import CategoryTree, SearchMatch, load_default_tree
 
 # What each queue reason means, in the words the screen shows.
 REASON_TEXT = {

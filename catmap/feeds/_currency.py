@@ -1,4 +1,4 @@
-"""Currency tables used by :mod:`catmap.normalize`: ISO 4217 codes, symbols and common words.
+"""Currency tables used by :mod:`catmap.feeds.normalize`: ISO 4217 codes, symbols and common words.
 
 The tables are written here from memory of ISO 4217 (alphabetic codes and minor units); the
 tests check every code against pycountry's copy of the ISO 4217 list.

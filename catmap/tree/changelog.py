@@ -19,7 +19,7 @@ from dataclasses import dataclass, replace
 from pathlib import Path
 
 from catmap.errors import TreeError
-from catmap.taxonomy import LANGUAGES, CategoryTree, Node, _parse_node, _split_cells
+from catmap.tree.taxonomy import LANGUAGES, CategoryTree, Node, _parse_node, _split_cells
 
 __all__ = [
     "CHANGE_KINDS",

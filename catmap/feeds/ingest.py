@@ -1,8 +1,8 @@
 """Turn a feed's source records into products, with the row accounting that proves none vanished.
 
 :func:`to_product` applies a feed profile (which source column feeds which field) and the
-normalisers of :mod:`catmap.normalize` to one record. :func:`iter_products` streams a whole feed,
-rejects later records whose product id was already seen, and keeps an :class:`Accounting` up to
+normalisers of :mod:`catmap.feeds.normalize` to one record. :func:`iter_products` streams a
+whole feed, rejects later records whose product id was already seen, and keeps an :class:`Accounting` up to
 date so that ``read == kept + rejected`` holds at every moment. :func:`normalize_feed_to` writes
 the products, the rejects and the accounting to a folder and survives a fatal feed error
 half-way: what was read before it is written and counted, then the error is raised again.
@@ -44,7 +44,7 @@ from typing import TYPE_CHECKING, Any
 import numpy as np
 
 from catmap.errors import FeedEncodingError, FeedFormatError, ProfileError, UnsafeFeedError
-from catmap.normalize import (
+from catmap.feeds.normalize import (
     clean_line,
     clean_text,
     normalize_availability,
@@ -53,12 +53,12 @@ from catmap.normalize import (
     parse_price,
     split_category_path,
 )
+from catmap.feeds.writers import EXCERPT_LENGTH, EXTENSIONS, open_product_writer, open_reject_writer
 from catmap.records import Product, Reject, SourceRecord
-from catmap.writers import EXCERPT_LENGTH, EXTENSIONS, open_product_writer, open_reject_writer
 
 if TYPE_CHECKING:
-    from catmap.feeds import FeedInfo
-    from catmap.fieldmap import FeedProfile
+    from catmap.feeds.fieldmap import FeedProfile
+    from catmap.feeds.read import FeedInfo
 
 REQUIRED = ("product_id", "title")
 

@@ -24,11 +24,11 @@ from typing import Any
 
 from catmap.attributes import AttributeExtractor
 from catmap.errors import InputError, StoreError
+from catmap.feeds.writers import CsvWriter
 from catmap.records import AGE_VALUES, WHO_VALUES
 from catmap.review.follow import NodeFollower
 from catmap.store import DECISION_ACTIONS, NodeAttributes, Store
-from catmap.taxonomy import CategoryTree
-from catmap.writers import CsvWriter
+from catmap.tree.taxonomy import CategoryTree
 
 __all__ = [
     "DECISION_COLUMNS",

@@ -39,8 +39,8 @@ from pathlib import Path
 from types import TracebackType
 from typing import Any
 
+from catmap.decide.queue import STRONG_GROUP_MIN_SIZE, STRONG_GROUP_SHARE
 from catmap.errors import StoreError
-from catmap.queue import STRONG_GROUP_MIN_SIZE, STRONG_GROUP_SHARE
 from catmap.records import AGE_VALUES, WHO_VALUES, Alternative, Attributes, Mapping, Product
 
 STORE_FILE_NAME = "store.sqlite"
@@ -349,7 +349,7 @@ class MappedRow:
         attributes: brand, who, age, colour family, restriction.
         status: one of :data:`MAPPING_STATUSES` (``accepted``, ``queued`` or ``audit``).
         group_key: the retailer category path text the product is grouped under for review.
-        priority: expected gain of reviewing it (see :mod:`catmap.queue`).
+        priority: expected gain of reviewing it (see :mod:`catmap.decide.queue`).
         reasons: review reasons to queue it for; when empty, ``queued`` means
             ``low_confidence`` and ``audit`` means ``audit_sample``.
     """
@@ -585,7 +585,8 @@ class FeedStatus:
     """Where a feed stands: rows read, products mapped, review progress, audited error.
 
     ``audit_error`` is the observed error among reviewed audit samples with its Clopper-Pearson
-    interval (:func:`catmap.decide.estimate_error`), None before any audit sample is reviewed.
+    interval (:func:`catmap.decide.threshold.estimate_error`), None before any audit sample is
+    reviewed.
     """
 
     feed: FeedRecord
@@ -602,7 +603,7 @@ class FeedStatus:
     done_items: int
     audit_checked: int
     audit_wrong: int
-    audit_error: Any = None  # catmap.decide.ErrorEstimate | None
+    audit_error: Any = None  # catmap.decide.threshold.ErrorEstimate | None
     withdrawn_items: int = 0
 
 
@@ -2165,7 +2166,7 @@ class Store:
         has them; the audit error counts a reviewed audit sample as wrong when the reviewer
         chose another node or said no node fits.
         """
-        from catmap.decide import estimate_error
+        from catmap.decide.threshold import estimate_error
 
         record = self.feed(feed)
         fid = record.id

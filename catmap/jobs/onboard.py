@@ -6,14 +6,14 @@ hierarchical back-off), extracts attributes, and saves every product into the pr
 
 - a mapping whose confidence reaches the accept threshold is *accepted*; the rest are
   *queued* (``low_confidence``); a brand or audience conflict queues a product too;
-- after the feed is read, :func:`catmap.queue.plan_queue` draws the seeded audit slice of the
+- after the feed is read, :func:`catmap.decide.queue.plan_queue` draws the seeded audit slice of the
   accepted part (``audit_sample``) and gives strong retailer-category groups their group gain;
 - an open ``low_confidence`` item left by an earlier run (e.g. before retraining) whose product
   this run accepts is withdrawn (:meth:`catmap.store.Store.withdraw_items`, audited), so the
   queue holds only what is still uncertain.
 
-The accept threshold comes from :func:`catmap.decide.choose_threshold` on held-out labelled
-data, mapped exactly as a feed is mapped (same blend, consensus and back-off), saved once beside
+The accept threshold comes from :func:`catmap.decide.threshold.choose_threshold` on held-out
+labelled data, mapped exactly as a feed is mapped (same blend, consensus and back-off), saved once beside
 the model and reused. Learn-then-Test bounds the error on data exchangeable with that
 calibration data. New feeds come from new retailers, so labelled products of a retailer the
 model never trained on are a calibration source (``OnboardOptions.validation_feed``; every
@@ -49,16 +49,22 @@ from catmap.classify.features import product_texts
 from catmap.classify.model import CategoryModel
 from catmap.classify.rules import RuleSet, load_rules
 from catmap.classify.storage import file_fingerprint, load_model
-from catmap.classify.training import consensus_blend, open_profiled_feed, read_labelled
-from catmap.decide import DEFAULT_DELTA, DEFAULT_MAX_ERROR, ThresholdChoice, choose_threshold
+from catmap.classify.training import consensus_blend, read_labelled
+from catmap.decide.queue import Candidate, expected_gain, plan_queue
+from catmap.decide.threshold import (
+    DEFAULT_DELTA,
+    DEFAULT_MAX_ERROR,
+    ThresholdChoice,
+    choose_threshold,
+)
 from catmap.errors import InputError, ModelError
-from catmap.ingest import FATAL_FEED_ERRORS, Accounting, iter_products
+from catmap.feeds.ingest import FATAL_FEED_ERRORS
+from catmap.feeds.profiled import open_profiled_feed
+from catmap.feeds.writers import open_reject_writer
 from catmap.project import feed_stem, subfolder
-from catmap.queue import Candidate, expected_gain, plan_queue
 from catmap.records import Alternative, Attributes, Mapping, Product, Reject
 from catmap.store import MappedRow, Store, store_path
-from catmap.taxonomy import CategoryTree
-from catmap.writers import open_reject_writer
+from catmap.tree.taxonomy import CategoryTree
 
 __all__ = [
     "CHUNK_SIZE",
@@ -225,7 +231,7 @@ class ValidationPredictions:
 def _reference_feed() -> Path:
     from catmap.demo import ensure_demo_world
 
-    root = Path(__file__).resolve().parent.parent / "feeds_demo"
+    root = Path(__file__).resolve().parents[2] / "feeds_demo"
     return ensure_demo_world(root).reference
 
 
@@ -233,7 +239,7 @@ def _default_calibration_feed() -> Path:
     """The demo's labelled feed of a retailer outside the reference catalog, if present."""
     from catmap.demo import demo_paths
 
-    root = Path(__file__).resolve().parent.parent / "feeds_demo"
+    root = Path(__file__).resolve().parents[2] / "feeds_demo"
     outside = demo_paths(root).feeds.get(OUTSIDE_RETAILER_FEED)
     return outside if outside is not None and outside.is_file() else _reference_feed()
 
@@ -642,12 +648,12 @@ def onboard_feed(
         )
     extractor = extractor or load_extractor(project, tree)
 
-    profile, saved_profile, opened = open_profiled_feed(feed_path, project)
+    source = open_profiled_feed(feed_path, project)
 
     name = feed_stem(feed_path)
     store = Store.for_project(project)
     try:
-        store.add_feed(name, source_path=feed_path, profile_path=saved_profile)
+        store.add_feed(name, source_path=feed_path, profile_path=source.profile_path)
         run_id = store.start_run(
             "onboard",
             feed=name,
@@ -675,7 +681,7 @@ def onboard_feed(
             rules_file=str(rules_file) if rules_file else None,
             store=str(store_path(project)),
         )
-        accounting = Accounting()
+        accounting = source.accounting
         reject_file = rejects_path(project, name)
         subfolder(project, "rejects")
         summary.rejects_file = str(reject_file)
@@ -687,7 +693,7 @@ def onboard_feed(
         def products() -> Iterator[Product]:
             with open_reject_writer(reject_file, "jsonl") as rejects:
                 try:
-                    for item in iter_products(opened, profile, accounting):
+                    for item in source.products():
                         if isinstance(item, Reject):
                             rejects.write(item)
                         else:

@@ -26,9 +26,9 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any, Protocol
 
-from catmap.changelog import Change
 from catmap.errors import InputError
-from catmap.taxonomy import CategoryTree, Node, fold_text
+from catmap.tree.changelog import Change
+from catmap.tree.taxonomy import CategoryTree, Node, fold_text
 
 __all__ = [
     "CHANGE_TYPES",
@@ -598,7 +598,7 @@ def load_crosswalk(path: str | Path) -> Crosswalk:
         raise InputError("crosswalk file not found", path=shown) from None
     except (OSError, UnicodeDecodeError) as error:
         raise InputError(f"cannot read the crosswalk: {error}", path=shown) from None
-    hint = "see catmap.treediff.save_crosswalk for the format"
+    hint = "see catmap.tree.diff.save_crosswalk for the format"
 
     def fail(message: str, line: int) -> InputError:
         return InputError(message, path=shown, line=line, hint=hint)

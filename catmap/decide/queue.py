@@ -13,7 +13,7 @@ auto-accepted, :func:`plan_queue` decides
   settles the whole group, so every queued item of the group carries the gain of the group;
 - an audit slice: a seeded random share (default 2%, at least a few) of the auto-accepted
   products is queued too, so that the real error on each new feed can be measured
-  (:func:`catmap.decide.estimate_error`).
+  (:func:`catmap.decide.threshold.estimate_error`).
 
 The result feeds :meth:`catmap.store.Store.save_mapped` (status, group key, priority, reasons).
 """
@@ -25,7 +25,7 @@ from collections import Counter, defaultdict
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass
 
-from catmap.decide import DEFAULT_AUDIT_MINIMUM, DEFAULT_AUDIT_RATE, audit_sample_rate
+from catmap.decide.threshold import DEFAULT_AUDIT_MINIMUM, DEFAULT_AUDIT_RATE, audit_sample_rate
 
 STRONG_GROUP_SHARE = 0.9
 STRONG_GROUP_MIN_SIZE = 5

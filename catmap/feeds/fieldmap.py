@@ -25,8 +25,7 @@ from typing import Any
 from rapidfuzz import fuzz
 
 from catmap.errors import ProfileError
-from catmap.feeds import FeedInfo
-from catmap.normalize import (
+from catmap.feeds.normalize import (
     clean_line,
     normalize_availability,
     normalize_currency,
@@ -34,6 +33,7 @@ from catmap.normalize import (
     parse_price,
     split_category_path,
 )
+from catmap.feeds.read import FeedInfo
 from catmap.records import SourceRecord
 
 __all__ = [

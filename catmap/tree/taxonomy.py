@@ -785,7 +785,7 @@ def default_tree_path(version: int | str = 1) -> Path:
     if not text.isdigit():
         raise TreeError(f"tree version '{version}' is not an integer", hint="use 1 or 2")
     folder = os.environ.get("CATMAP_TAXONOMIES")
-    base = Path(folder) if folder else Path(__file__).resolve().parent.parent / "taxonomies"
+    base = Path(folder) if folder else Path(__file__).resolve().parents[2] / "taxonomies"
     return base / f"tree-v{int(text)}.txt"
 
 

@@ -3,7 +3,7 @@
 One row per product: its fields, the node (id and path), confidence, method, status
 (``accepted`` / ``reviewed`` / ``queued``), and the attributes (brand, who, age, colour family,
 restriction flag). Beside it: the feed's rejects from its last onboarding run and that run's
-row accounting. CSV cells are made safe against formula injection (:mod:`catmap.writers`).
+row accounting. CSV cells are made safe against formula injection (:mod:`catmap.feeds.writers`).
 """
 
 from __future__ import annotations
@@ -16,11 +16,11 @@ from pathlib import Path
 from typing import Any
 
 from catmap.attributes import RESTRICTION_CAUTION
-from catmap.onboard import rejects_path
+from catmap.feeds.writers import FORMATS, CsvWriter, JsonLinesWriter, RecordWriter
+from catmap.jobs.onboard import rejects_path
 from catmap.records import Product
 from catmap.store import Store, StoredMapping
-from catmap.taxonomy import CategoryTree
-from catmap.writers import FORMATS, CsvWriter, JsonLinesWriter, RecordWriter
+from catmap.tree.taxonomy import CategoryTree
 
 __all__ = ["EXPORT_COLUMNS", "ExportResult", "export_feed", "export_row", "export_status"]
 
@@ -168,7 +168,7 @@ def _write_rejects(source: Path, target: Path, format: str) -> Path:
     if format != "csv":
         shutil.copyfile(source, target)
         return target
-    from catmap.writers import REJECT_COLUMNS
+    from catmap.feeds.writers import REJECT_COLUMNS
 
     with (
         source.open(encoding="utf-8") as lines,

@@ -20,7 +20,7 @@ from functools import lru_cache
 
 import ftfy
 
-from catmap._currency import (
+from catmap.feeds._currency import (
     DOLLAR_CURRENCIES,
     ISO_4217_CODES,
     KRONA_CURRENCIES,

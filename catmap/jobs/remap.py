@@ -1,7 +1,7 @@
 """Move every stored mapping onto a new version of the category tree, and undo or keep it.
 
 :func:`remap_store` reads the crosswalk from the old tree to the new one (computed with
-:func:`catmap.treediff.diff_trees`, or given) and walks the store's mappings in batches:
+:func:`catmap.tree.diff.diff_trees`, or given) and walks the store's mappings in batches:
 
 - **one-to-one** changes (unchanged, renamed, moved, merged into one node) move with no model
   call: the node id is translated, the confidence, method and status stay. A person's decision
@@ -57,8 +57,8 @@ from catmap.classify.model import CategoryModel
 from catmap.errors import InputError, StoreError
 from catmap.records import Product
 from catmap.store import Store, product_from_json
-from catmap.taxonomy import CategoryTree, load_default_tree, load_tree
-from catmap.treediff import Correspondence, Crosswalk, diff_trees
+from catmap.tree.diff import Correspondence, Crosswalk, diff_trees
+from catmap.tree.taxonomy import CategoryTree, load_default_tree, load_tree
 
 __all__ = [
     "DEFAULT_MIN_CONFIDENCE",
@@ -520,7 +520,7 @@ def remap_store(
         old_tree: the tree the stored mappings use (mappings of other versions are left alone;
             an empty tree version counts as the old tree's).
         new_tree: the tree to move to.
-        crosswalk: old id → new ids (default: :func:`catmap.treediff.diff_trees`).
+        crosswalk: old id → new ids (default: :func:`catmap.tree.diff.diff_trees`).
         scorer: scores re-scored products (default: keywords of the new tree).
         min_confidence: the accept threshold for re-scored mappings (default: each feed's
             onboarding threshold, else :data:`DEFAULT_MIN_CONFIDENCE`).
