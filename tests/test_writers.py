@@ -1,4 +1,4 @@
-"""Tests for catmap.feeds.writers: streaming JSON Lines / CSV / Parquet, and formula-safe CSV cells."""
+"""Tests for catmap.feeds.writers: streaming JSON Lines / CSV / Parquet, formula-safe CSV cells."""
 
 from __future__ import annotations
 

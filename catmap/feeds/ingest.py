@@ -2,10 +2,11 @@
 
 :func:`to_product` applies a feed profile (which source column feeds which field) and the
 normalisers of :mod:`catmap.feeds.normalize` to one record. :func:`iter_products` streams a
-whole feed, rejects later records whose product id was already seen, and keeps an :class:`Accounting` up to
-date so that ``read == kept + rejected`` holds at every moment. :func:`normalize_feed_to` writes
-the products, the rejects and the accounting to a folder and survives a fatal feed error
-half-way: what was read before it is written and counted, then the error is raised again.
+whole feed, rejects later records whose product id was already seen, and keeps an
+:class:`Accounting` up to date so that ``read == kept + rejected`` holds at every moment.
+:func:`normalize_feed_to` writes the products, the rejects and the accounting to a folder and
+survives a fatal feed error half-way: what was read before it is written and counted, then the
+error is raised again.
 
 Speed: the profile is compiled once into a :class:`ProductBuilder` (the column of each field and
 the function that cleans it), so that per record only ``dict.get`` and the normalisers run.

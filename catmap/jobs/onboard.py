@@ -13,8 +13,8 @@ hierarchical back-off), extracts attributes, and saves every product into the pr
   queue holds only what is still uncertain.
 
 The accept threshold comes from :func:`catmap.decide.threshold.choose_threshold` on held-out
-labelled data, mapped exactly as a feed is mapped (same blend, consensus and back-off), saved once beside
-the model and reused. Learn-then-Test bounds the error on data exchangeable with that
+labelled data, mapped exactly as a feed is mapped (same blend, consensus and back-off), saved
+once beside the model and reused. Learn-then-Test bounds the error on data exchangeable with that
 calibration data. New feeds come from new retailers, so labelled products of a retailer the
 model never trained on are a calibration source (``OnboardOptions.validation_feed``; every
 labelled row of a feed without a ``split`` column calibrates); the model's own validation split
