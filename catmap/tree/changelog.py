@@ -19,7 +19,8 @@ from dataclasses import dataclass, replace
 from pathlib import Path
 
 from catmap.errors import TreeError
-from catmap.tree.taxonomy import LANGUAGES, CategoryTree, Node, _parse_node, _split_cells
+from catmap.tree.taxonomy import CategoryTree
+from catmap.tree.treefile import LANGUAGES, Node, parse_node, split_cells
 
 __all__ = [
     "CHANGE_KINDS",
@@ -160,8 +161,8 @@ def load_change_log(path: str | Path) -> ChangeLog:
         if stripped.startswith("+"):
             if pending is None:
                 raise fail("a '+' node line must follow a split or merge", number)
-            cells, _ = _split_note(_split_cells(stripped[1:]))
-            node = _parse_node(cells, number, shown)
+            cells, _ = _split_note(split_cells(stripped[1:]))
+            node = parse_node(cells, number, shown)
             if node.id not in wanted:
                 raise fail(
                     f"node {node.id} is not one of the new ids of the {pending.kind} "
@@ -206,11 +207,11 @@ def _parse_change(kind: str, rest: str, line: int, path: str) -> Change:
         return TreeError(message, path=path, line=line, hint=hint)
 
     if kind == "add":
-        cells, note = _split_note(_split_cells(rest))
-        node = _parse_node(cells, line, path)
+        cells, note = _split_note(split_cells(rest))
+        node = parse_node(cells, line, path)
         return Change("add", node.id, targets=(node.id,), nodes=(node,), note=note, line=line)
 
-    cells, note = _split_note(_split_cells(rest))
+    cells, note = _split_note(split_cells(rest))
     if kind in ("rename", "move"):
         if len(cells) != 2 or "->" not in cells[1] or not cells[0].isdigit():
             example = (

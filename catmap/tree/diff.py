@@ -28,7 +28,9 @@ from typing import Any, Protocol
 
 from catmap.errors import InputError
 from catmap.tree.changelog import Change
-from catmap.tree.taxonomy import CategoryTree, Node, fold_text
+from catmap.tree.search import fold_text
+from catmap.tree.taxonomy import CategoryTree
+from catmap.tree.treefile import Node
 
 __all__ = [
     "CHANGE_TYPES",
