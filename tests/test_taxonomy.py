@@ -9,17 +9,16 @@ from pathlib import Path
 import pytest
 
 from catmap.errors import TreeError, UnknownNode
+from catmap.tree.search import fold_text
 from catmap.tree.taxonomy import (
     CategoryTree,
-    Node,
     default_tree_path,
     dump_tree,
-    fold_text,
     load_default_tree,
     load_tree,
-    parse_audience,
     summarize_tree,
 )
+from catmap.tree.treefile import Node, parse_audience
 
 TREES = Path(__file__).parent / "data" / "trees"
 GOOD = TREES / "good.txt"

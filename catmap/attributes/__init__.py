@@ -1,4 +1,13 @@
-"""Product attributes: brand, who / age, colour family and restriction flag.
+"""The attributes stage: a product and its mapped node in, brand / who / age / colour out.
+
+Input: a :class:`~catmap.records.Product`, the node it was mapped to (or None) and the tree,
+with a brand dictionary. Output: :class:`catmap.records.Attributes` (brand with confidence and
+evidence, who, age, colour family, restriction flag).
+
+- :mod:`~catmap.attributes.brand`: brand dictionary and finder (exact, variant, fuzzy).
+- :mod:`~catmap.attributes.audience`: who and age from text, path and size.
+- :mod:`~catmap.attributes.colour`: colour family.
+- :mod:`~catmap.attributes.restriction`: restriction flag from the node or keywords.
 
 :class:`AttributeExtractor` fills a :class:`catmap.records.Attributes` for a product and the node
 it was mapped to. The pure functions behind it are exported too, for tests and other stages.

@@ -1,6 +1,19 @@
-"""Map products onto the category tree: features, linear model, calibration, back-off, rules.
+"""The classify stage: normalised products in, a category tree node with a confidence out.
 
-The public names are re-exported here; see each module for details.
+Input: :class:`~catmap.records.Product` records, a :class:`~catmap.tree.CategoryTree` and, for
+training, products with known nodes. Output: a trained :class:`CategoryModel` (saved and loaded
+by :mod:`~catmap.classify.storage`) and, per product, the node it maps to with a calibrated
+confidence (backed off to a parent node when a leaf is too uncertain).
+
+- :mod:`~catmap.classify.features`: product texts → TF-IDF features.
+- :mod:`~catmap.classify.model`: the linear model and its temperature calibration.
+- :mod:`~catmap.classify.training`: train a model from labelled products.
+- :mod:`~catmap.classify.mapping`: map a feed's products, with rules and keywords first.
+- :mod:`~catmap.classify.calibration`, :mod:`~catmap.classify.backoff`: confidence and
+  back-off to a parent node.
+- :mod:`~catmap.classify.rules`, :mod:`~catmap.classify.keywords`,
+  :mod:`~catmap.classify.consensus`: the retailer's own rules, keyword matches, path consensus.
+- :mod:`~catmap.classify.storage`: save and load a model (no pickle).
 """
 
 from __future__ import annotations

@@ -330,7 +330,6 @@ def map_feed(
     Raises:
         FeedFormatError, FeedEncodingError, UnsafeFeedError: after what was read is written.
     """
-    global _WORKER_MAPPER
     accounting = source.accounting
     out = Path(out_dir)
     out.mkdir(parents=True, exist_ok=True)
@@ -340,12 +339,72 @@ def map_feed(
     accounting_path = out / "accounting.json"
     rules = rules if rules is not None else RuleSet([])
     summary = MapSummary(threshold=threshold, mode=mapper.method)
-    pairs: list[tuple[str, str]] = []  # (retailer path, first-pass node) per product
-    fatal: BaseException | None = None
 
     rejects = open_reject_writer(rejects_path, "csv" if format == "csv" else "jsonl")
     temporary = tempfile.TemporaryDirectory(prefix="catmap-map-")
     store = _PassOneStore(Path(temporary.name))
+    try:
+        pairs, fatal = _first_pass(
+            source,
+            mapper,
+            rules,
+            store,
+            rejects.write,
+            chunk_size=chunk_size,
+            workers=workers,
+            on_progress=on_progress,
+        )
+    finally:
+        rejects.close()
+
+    consensus = path_consensus(pairs)
+    writer = _MappingWriter(mappings_path, format)
+    try:
+        _second_pass(store.chunks(), mapper, consensus, threshold, writer, summary)
+    finally:
+        writer.close()
+        temporary.cleanup()
+
+    summary.retailer_paths = [
+        _path_facts(c, mapper.tree) for c in list(consensus.values())[:top_paths]
+    ]
+    summary.rules = _rule_facts(rules)
+    summary.accounting = accounting.to_dict()
+    summary.outputs = {
+        "mappings": str(mappings_path),
+        "rejects": str(rejects_path),
+        "accounting": str(accounting_path),
+    }
+    facts = {**accounting.to_dict(), "outputs": summary.outputs, "format": format}
+    accounting_path.write_text(
+        json.dumps(facts, ensure_ascii=False, indent=2) + "\n", encoding="utf-8"
+    )
+    if fatal is not None:
+        raise fatal
+    return summary
+
+
+def _first_pass(
+    source: ProfiledFeed,
+    mapper: Mapper,
+    rules: RuleSet,
+    store: _PassOneStore,
+    write_reject: Callable[[Reject], None],
+    *,
+    chunk_size: int,
+    workers: int,
+    on_progress: Callable[[int], None] | None,
+) -> tuple[list[tuple[str, str]], BaseException | None]:
+    """Read the feed in chunks, match the rules and store each chunk's top-k probabilities.
+
+    Returns:
+        (retailer path, first-pass node) per product, for the path consensus; and the fatal
+        feed error that stopped the reading early, if any (raised once the outputs are written).
+    """
+    global _WORKER_MAPPER
+    accounting = source.accounting
+    pairs: list[tuple[str, str]] = []
+    fatal: BaseException | None = None
     pool = None
     try:
         if workers > 1:
@@ -364,19 +423,8 @@ def map_feed(
 
         try:
             products = source.products()
-            for chunk in _chunks(products, chunk_size, rejects.write):
-                rows: list[_Row] = []
-                for product in chunk:
-                    match = rules.match(product)
-                    rows.append(
-                        (
-                            product.product_id,
-                            product.title,
-                            " > ".join(product.category_path),
-                            match.rule.node_id if match else "",
-                            match.reason if match else "",
-                        )
-                    )
+            for chunk in _chunks(products, chunk_size, write_reject):
+                rows = _rule_rows(chunk, rules)
                 texts = product_texts(chunk)
                 fields = (texts.title, texts.path, texts.brand, texts.description)
                 if pool is not None:
@@ -397,20 +445,29 @@ def map_feed(
             pool.close()
             pool.join()
         _WORKER_MAPPER = None
-        rejects.close()
+    return pairs, fatal
 
-    consensus = path_consensus(pairs)
-    writer = _MappingWriter(mappings_path, format)
-    try:
-        _second_pass(store.chunks(), mapper, consensus, threshold, writer, summary)
-    finally:
-        writer.close()
-        temporary.cleanup()
 
-    summary.retailer_paths = [
-        _path_facts(c, mapper.tree) for c in list(consensus.values())[:top_paths]
-    ]
-    summary.rules = {
+def _rule_rows(chunk: list[Product], rules: RuleSet) -> list[_Row]:
+    """One row per product: id, title, retailer path, and the node and reason of its rule."""
+    rows: list[_Row] = []
+    for product in chunk:
+        match = rules.match(product)
+        rows.append(
+            (
+                product.product_id,
+                product.title,
+                " > ".join(product.category_path),
+                match.rule.node_id if match else "",
+                match.reason if match else "",
+            )
+        )
+    return rows
+
+
+def _rule_facts(rules: RuleSet) -> dict[str, Any]:
+    """What the summary says about the rules: file, count, products matched, conflicts."""
+    return {
         "file": rules.path,
         "rules": len(rules),
         "products_matched": sum(rules.matched.values()),
@@ -420,19 +477,6 @@ def map_feed(
             for pid, line, others in rules.conflict_examples
         ],
     }
-    summary.accounting = accounting.to_dict()
-    summary.outputs = {
-        "mappings": str(mappings_path),
-        "rejects": str(rejects_path),
-        "accounting": str(accounting_path),
-    }
-    facts = {**accounting.to_dict(), "outputs": summary.outputs, "format": format}
-    accounting_path.write_text(
-        json.dumps(facts, ensure_ascii=False, indent=2) + "\n", encoding="utf-8"
-    )
-    if fatal is not None:
-        raise fatal
-    return summary
 
 
 def _path_facts(consensus: PathConsensus, tree: CategoryTree) -> dict[str, Any]:

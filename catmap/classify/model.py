@@ -164,6 +164,45 @@ class CategoryModel:
             ValueError: bad parameters, mismatched lengths, fewer than two classes.
             UnknownNode: a label that is not in the tree.
         """
+        labels = self._check_training_input(texts, labels)
+        rng = np.random.default_rng(self.random_state)
+        if self.max_per_class is not None:
+            keep = _cap_per_class(labels, self.max_per_class, rng)
+            if len(keep) < len(labels):
+                texts, labels = texts.subset(keep), [labels[i] for i in keep]
+
+        leaves = [node.id for node in self.tree.leaves()]
+        extra = sorted(set(labels) - set(leaves))
+        self.classes_ = np.array(leaves + extra)
+
+        self.featurizer_ = ProductFeaturizer(
+            weights=self.feature_weights, min_df=self.min_df, max_features=self.max_features
+        )
+        features = self.featurizer_.fit_transform(texts)
+
+        group_of = {label: self._group_of(label) for label in set(labels)}
+        groups = sorted(set(group_of.values()), key=lambda g: (g == _ALL, g))
+        group_index = {g: i for i, g in enumerate(groups)}
+        row_group = np.array([group_index[group_of[label]] for label in labels])
+        self.groups_ = np.array(groups)
+        self._fit_group_level(features, row_group, rng)
+        self._fit_class_level(features, np.array(labels), row_group)
+
+        self.temperatures_ = (1.0, 1.0)
+        self.keywords_ = KeywordMapper(tree=self.tree).fit()
+        self.keyword_weight_ = float(self.keyword_weight or 0.0)
+        self.blend_temperature_ = 1.0
+        self.keyword_blend_temperature_ = KEYWORD_BLEND_TEMPERATURE
+        self.metrics_: dict[str, Any] = {}
+        return self
+
+    def _check_training_input(self, texts: ProductTexts, labels: Sequence[str]) -> list[str]:
+        """Check the parameters and the labels; return the labels as strings.
+
+        Raises:
+            ValueError: bad parameters, mismatched lengths, fewer than two classes.
+            UnknownNode: a label that is not in the tree.
+        """
         if self.classifier not in CLASSIFIERS:
             raise ValueError(f"classifier must be one of {', '.join(CLASSIFIERS)}")
         if self.C <= 0:
@@ -174,53 +213,42 @@ class CategoryModel:
             raise ValueError("department_floor must be between 0 and 1")
         if len(texts) != len(labels):
             raise ValueError("one label per product is needed")
-        labels = [str(label) for label in labels]
-        for label in set(labels):
+        checked = [str(label) for label in labels]
+        for label in set(checked):
             self.tree[label]  # raises UnknownNode
-        if len(set(labels)) < 2:
+        if len(set(checked)) < 2:
             raise ValueError("training needs products of at least two different nodes")
         for name in ("max_per_class", "department_sample"):
             value = getattr(self, name)
             if value is not None and value < 1:
                 raise ValueError(f"{name} must be at least 1 (or None)")
-        rng = np.random.default_rng(self.random_state)
-        if self.max_per_class is not None:
-            keep = _cap_per_class(labels, self.max_per_class, rng)
-            if len(keep) < len(labels):
-                texts, labels = texts.subset(keep), [labels[i] for i in keep]
+        return checked
 
-        leaves = [node.id for node in self.tree.leaves()]
-        extra = sorted(set(labels) - set(leaves))
-        self.classes_ = np.array(leaves + extra)
-        column = {c: i for i, c in enumerate(self.classes_.tolist())}
-
-        self.featurizer_ = ProductFeaturizer(
-            weights=self.feature_weights, min_df=self.min_df, max_features=self.max_features
-        )
-        features = self.featurizer_.fit_transform(texts)
-        n_features = features.shape[1]
-
-        label_array = np.array(labels)
-        group_of = {label: self._group_of(label) for label in set(labels)}
-        groups = sorted(set(group_of.values()), key=lambda g: (g == _ALL, g))
-        group_index = {g: i for i, g in enumerate(groups)}
-        row_group = np.array([group_index[group_of[label]] for label in labels])
-
-        self.groups_ = np.array(groups)
-        if len(groups) > 1:
-            rows = np.arange(len(labels))
+    def _fit_group_level(
+        self, features: sp.csr_matrix, row_group: Array, rng: np.random.Generator
+    ) -> None:
+        """Train the group (department) classifier on a sample of the rows."""
+        n_groups = len(self.groups_)
+        if n_groups > 1:
+            rows = np.arange(len(row_group))
             if self.department_sample is not None and len(rows) > self.department_sample:
                 rows = np.sort(rng.choice(len(rows), self.department_sample, replace=False))
-            coef, intercept = self._train_level(features[rows], row_group[rows], len(groups))
+            coef, intercept = self._train_level(features[rows], row_group[rows], n_groups)
         else:
-            coef = sp.csr_matrix((n_features, 1), dtype=np.float32)
+            coef = sp.csr_matrix((features.shape[1], 1), dtype=np.float32)
             intercept = np.zeros(1, dtype=np.float32)
         self.group_coef_, self.group_intercept_ = coef, intercept
 
+    def _fit_class_level(
+        self, features: sp.csr_matrix, label_array: Array, row_group: Array
+    ) -> None:
+        """Train one classifier per group over that group's nodes, groups in parallel."""
+        n_features = features.shape[1]
+        column = {c: i for i, c in enumerate(self.classes_.tolist())}
         class_columns: list[int] = []
         class_groups: list[int] = []
         jobs = []
-        for g in range(len(groups)):
+        for g in range(len(self.groups_)):
             rows = np.flatnonzero(row_group == g)
             group_labels = sorted(set(label_array[rows].tolist()))
             class_columns.extend(column[label] for label in group_labels)
@@ -248,13 +276,6 @@ class CategoryModel:
         self.class_group_ = np.array(class_groups, dtype=np.int64)
         self.class_coef_ = sp.hstack(coefs, format="csr", dtype=np.float32)
         self.class_intercept_ = np.concatenate(intercepts).astype(np.float32)
-        self.temperatures_ = (1.0, 1.0)
-        self.keywords_ = KeywordMapper(tree=self.tree).fit()
-        self.keyword_weight_ = float(self.keyword_weight or 0.0)
-        self.blend_temperature_ = 1.0
-        self.keyword_blend_temperature_ = KEYWORD_BLEND_TEMPERATURE
-        self.metrics_: dict[str, Any] = {}
-        return self
 
     def _train_level(
         self, features: sp.csr_matrix, y: Array, k: int

@@ -557,43 +557,8 @@ class ProductFactory:
         brand = self._brand(leaf)
         prof = leaf.profile
 
-        # the product type words
-        roll = rng.random()
-        if roll < P_DEPARTMENT_TERM:
-            type_term = _pick_term(leaf.department_terms[term_lang], rng, who, age)
-        elif roll < P_DEPARTMENT_TERM + P_PARENT_TERM:
-            type_term = _pick_term(leaf.parent_terms[term_lang], rng, who, age)
-        else:
-            type_term = _pick_term(leaf.own_terms[term_lang], rng, who, age)
-        if rng.random() < 0.5:
-            type_term = _cap(type_term)
-        li = V.LANGS.index(lang)
-        mods = [m[li] for m in rng.sample(prof.modifiers, k=min(len(prof.modifiers),
-                                                                 rng.choice((0, 1, 1, 2, 2, 3))))]
-        extra = ""
-        if leaf.neighbours and rng.random() < P_NEIGHBOUR_MENTION:
-            other = self.leaves[rng.choice(leaf.neighbours)]
-            neighbour_term = _pick_term(other.own_terms[lang], rng, who, age)
-            extra = f"{rng.choice(V.CONNECTORS[lang])} {neighbour_term}"
-
-        # colour
-        gold_colour = ""
-        shade = ""
-        if rng.random() < prof.colour_p:
-            fams = sorted(_COLOUR_WEIGHTS)
-            gold_colour = rng.choices(fams, weights=[_COLOUR_WEIGHTS[f] for f in fams])[0]
-            shade = rng.choice(V.COLOURS[gold_colour][lang])
-        colour_field = ""
-        colour_in_title = False
-        if shade:
-            where = rng.random()
-            colour_in_title = where < 0.55
-            if where > 0.3:
-                colour_field = shade if rng.random() < 0.8 else _cap(shade)
-                if rng.random() < 0.06:
-                    second = rng.choice(V.COLOURS[rng.choice(("white", "black", "grey"))][lang])
-                    if second != shade:
-                        colour_field = f"{_cap(shade)}/{_cap(second)}"
+        type_term, mods, extra = self._type_words(leaf, lang, term_lang, who, age)
+        gold_colour, shade, colour_field, colour_in_title = self._colour(prof, lang)
 
         # audience words and size
         key = self._audience_key(who, age)
@@ -603,27 +568,8 @@ class ProductFactory:
         size = self._size(leaf, age, lang)
         size_in_title = bool(size) and (rng.random() < (0.45 if age in ("kids", "baby") else 0.22))
 
-        # brand fields
         gold_brand = brand.name if brand else ""
-        brand_field = ""
-        brand_in_title = False
-        if brand:
-            b_roll = rng.random()
-            if b_roll < 0.10:
-                brand_in_title = True
-            elif b_roll < 0.10 + r.own_label_p:
-                brand_field = r.name
-                brand_in_title = True
-            else:
-                spellings = (brand.name, *brand.variants)
-                brand_field = rng.choice(spellings) if rng.random() < r.variant_p else brand.name
-                brand_in_title = rng.random() < 0.45
-        elif rng.random() < 0.3:
-            brand_field = rng.choice(_UNBRANDED)
-        brand_title = ""
-        if brand and brand_in_title:
-            brand_title = brand.name if rng.random() < 0.7 else rng.choice(
-                (brand.name, *brand.variants))
+        brand_field, brand_title = self._brand_fields(brand)
 
         title = self._assemble(lang, brand_title, aud, mods, type_term, shade if colour_in_title
                                else "", size if size_in_title else "", extra)
@@ -673,6 +619,78 @@ class ProductFactory:
             gold_age=age,
             gold_colour=gold_colour if (colour_field or colour_in_title) else "",
         )
+
+    def _type_words(self, leaf: LeafInfo, lang: str, term_lang: str, who: str,
+                    age: str) -> tuple[str, list[str], str]:
+        """The product type words: the type term, modifiers, and a neighbour leaf's mention."""
+        rng = self.rng
+        roll = rng.random()
+        if roll < P_DEPARTMENT_TERM:
+            type_term = _pick_term(leaf.department_terms[term_lang], rng, who, age)
+        elif roll < P_DEPARTMENT_TERM + P_PARENT_TERM:
+            type_term = _pick_term(leaf.parent_terms[term_lang], rng, who, age)
+        else:
+            type_term = _pick_term(leaf.own_terms[term_lang], rng, who, age)
+        if rng.random() < 0.5:
+            type_term = _cap(type_term)
+        prof = leaf.profile
+        li = V.LANGS.index(lang)
+        mods = [m[li] for m in rng.sample(prof.modifiers, k=min(len(prof.modifiers),
+                                                                 rng.choice((0, 1, 1, 2, 2, 3))))]
+        extra = ""
+        if leaf.neighbours and rng.random() < P_NEIGHBOUR_MENTION:
+            other = self.leaves[rng.choice(leaf.neighbours)]
+            neighbour_term = _pick_term(other.own_terms[lang], rng, who, age)
+            extra = f"{rng.choice(V.CONNECTORS[lang])} {neighbour_term}"
+        return type_term, mods, extra
+
+    def _colour(self, prof: V.Profile, lang: str) -> tuple[str, str, str, bool]:
+        """The gold colour family, its shade word, the colour field, whether the title says it."""
+        rng = self.rng
+        gold_colour = ""
+        shade = ""
+        if rng.random() < prof.colour_p:
+            fams = sorted(_COLOUR_WEIGHTS)
+            gold_colour = rng.choices(fams, weights=[_COLOUR_WEIGHTS[f] for f in fams])[0]
+            shade = rng.choice(V.COLOURS[gold_colour][lang])
+        colour_field = ""
+        colour_in_title = False
+        if shade:
+            where = rng.random()
+            colour_in_title = where < 0.55
+            if where > 0.3:
+                colour_field = shade if rng.random() < 0.8 else _cap(shade)
+                if rng.random() < 0.06:
+                    second = rng.choice(V.COLOURS[rng.choice(("white", "black", "grey"))][lang])
+                    if second != shade:
+                        colour_field = f"{_cap(shade)}/{_cap(second)}"
+        return gold_colour, shade, colour_field, colour_in_title
+
+    def _brand_fields(self, brand: Brand | None) -> tuple[str, str]:
+        """The retailer's brand field (a variant, its own label, a filler or empty) and the
+        brand as the title writes it (empty when the title leaves it out)."""
+        rng = self.rng
+        r = self.retailer
+        brand_field = ""
+        brand_in_title = False
+        if brand:
+            b_roll = rng.random()
+            if b_roll < 0.10:
+                brand_in_title = True
+            elif b_roll < 0.10 + r.own_label_p:
+                brand_field = r.name
+                brand_in_title = True
+            else:
+                spellings = (brand.name, *brand.variants)
+                brand_field = rng.choice(spellings) if rng.random() < r.variant_p else brand.name
+                brand_in_title = rng.random() < 0.45
+        elif rng.random() < 0.3:
+            brand_field = rng.choice(_UNBRANDED)
+        brand_title = ""
+        if brand and brand_in_title:
+            brand_title = brand.name if rng.random() < 0.7 else rng.choice(
+                (brand.name, *brand.variants))
+        return brand_field, brand_title
 
     def _assemble(self, lang: str, brand: str, aud: str, mods: list[str] | tuple[str, ...],
                   type_term: str, shade: str, size: str, extra: str,

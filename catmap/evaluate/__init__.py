@@ -1,7 +1,13 @@
-"""Evaluation of mappings and attributes against gold labels: metrics, report data, HTML report.
+"""The evaluate stage: a labelled feed in, figures on how well mapping and attributes did out.
 
-:mod:`catmap.evaluate.metrics` holds the pure metric functions; :mod:`catmap.evaluate.run`
-maps a labelled feed and gathers every figure into one report dictionary.
+Input: a feed whose products carry gold nodes and attributes, a trained model and the tree.
+Output: one report dictionary (accuracy, hierarchical and per-node scores, calibration,
+risk / coverage, attribute scores, top confusions) and an HTML page of it.
+
+- :mod:`~catmap.evaluate.metrics`: the pure metric functions.
+- :mod:`~catmap.evaluate.run`: map the labelled feed and gather every figure into the report.
+- :mod:`~catmap.evaluate.report_html`: the report as one self-contained HTML page.
+- :mod:`~catmap.evaluate.tree`: the parent map the hierarchical scores walk.
 """
 
 from __future__ import annotations

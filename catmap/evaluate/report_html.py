@@ -165,22 +165,38 @@ def render_report_html(report: dict[str, Any], *, title: str = "catmap evaluatio
     Returns:
         One self-contained HTML document.
     """
-    mapping = report["mapping"]
     parts = [
         "<!DOCTYPE html>",
         '<html lang="en"><head><meta charset="utf-8">',
         f"<title>{escape(title)}</title><style>{_STYLE}</style></head><body>",
         f"<h1>{escape(title)}</h1>",
+        _facts_html(report),
+        *_mapping_html(report),
+        *_confusions_html(report["confusions"]),
     ]
+    attributes = report.get("attributes")
+    if attributes:
+        parts.extend(_attributes_html(attributes))
+    parts.extend(_nodes_html(report["nodes"]))
+    parts.append("</body></html>")
+    return "\n".join(parts)
+
+
+def _facts_html(report: dict[str, Any]) -> str:
+    """The run's facts: feed, gold, model, tree version, products evaluated and left out."""
     facts = [(k, report[k]) for k in ("feed", "gold", "model", "tree_version") if report.get(k)]
     facts.append(("products evaluated", report["products"]))
     left_out = report.get("left_out") or {}
     for key, value in left_out.items():
         if value:
             facts.append((f"left out: {key.replace('_', ' ')}", value))
-    parts.append(_table(["", ""], facts, {1}))
+    return _table(["", ""], facts, {1})
 
-    parts.append("<h2>Mapping</h2>")
+
+def _mapping_html(report: dict[str, Any]) -> list[str]:
+    """The mapping section: headline metrics, a note on how they count, and the plots."""
+    mapping = report["mapping"]
+    parts = ["<h2>Mapping</h2>"]
     headline = [
         ("leaf accuracy", _number(mapping["accuracy"])),
         ("macro-F1", _number(mapping["macro_f1"])),
@@ -217,46 +233,57 @@ def render_report_html(report: dict[str, Any], *, title: str = "catmap evaluatio
         plots.append(_image(department_png(report["departments"]), "accuracy per department"))
     parts.append('<div class="plots">' + "".join(plots) + "</div>")
 
-    parts.append("<h2>Most frequent confusions</h2>")
-    parts.append(
+    return parts
+
+
+def _confusions_html(confusions: list[dict[str, Any]]) -> list[str]:
+    """The most frequent confusions: gold node, the node mapped to instead, and how often."""
+    return [
+        "<h2>Most frequent confusions</h2>",
         _table(
             ["count", "gold", "gold path", "mapped to", "mapped path"],
             [
                 [c["count"], c["true"], c["true_path"], c["predicted"], c["predicted_path"]]
-                for c in report["confusions"]
+                for c in confusions
             ],
             {0},
-        )
-    )
+        ),
+    ]
 
-    attributes = report.get("attributes")
-    if attributes:
-        parts.append("<h2>Attributes</h2>")
-        brand = attributes.get("brand")
-        if brand:
-            parts.append(
-                _table(
-                    ["brand", "precision", "recall", "F1", "TP", "FP", "FN", "products"],
+
+def _attributes_html(attributes: dict[str, Any]) -> list[str]:
+    """The attributes section: brand precision / recall, who and age confusion tables."""
+    parts = ["<h2>Attributes</h2>"]
+    brand = attributes.get("brand")
+    if brand:
+        parts.append(
+            _table(
+                ["brand", "precision", "recall", "F1", "TP", "FP", "FN", "products"],
+                [
                     [
-                        [
-                            "",
-                            _number(brand["precision"]),
-                            _number(brand["recall"]),
-                            _number(brand["f1"]),
-                            brand["true_positives"],
-                            brand["false_positives"],
-                            brand["false_negatives"],
-                            brand["products"],
-                        ]
-                    ],
-                    set(range(1, 8)),
-                )
+                        "",
+                        _number(brand["precision"]),
+                        _number(brand["recall"]),
+                        _number(brand["f1"]),
+                        brand["true_positives"],
+                        brand["false_positives"],
+                        brand["false_negatives"],
+                        brand["products"],
+                    ]
+                ],
+                set(range(1, 8)),
             )
-        for name in ("who", "age"):
-            if attributes.get(name):
-                parts.append(_confusion_html(name, attributes[name]))
+        )
+    for name in ("who", "age"):
+        if attributes.get(name):
+            parts.append(_confusion_html(name, attributes[name]))
+    return parts
 
-    nodes = sorted(report["nodes"], key=lambda n: (-n["support"], n["node_id"]))
+
+def _nodes_html(node_scores: list[dict[str, Any]]) -> list[str]:
+    """The per-node table: the nodes with most gold products first."""
+    nodes = sorted(node_scores, key=lambda n: (-n["support"], n["node_id"]))
+    parts = []
     parts.append(
         f"<h2>Per node (the {min(len(nodes), NODES_SHOWN)} with most products; "
         "all in metrics.json)</h2>"
@@ -279,8 +306,7 @@ def render_report_html(report: dict[str, Any], *, title: str = "catmap evaluatio
             {2, 3, 4, 5, 6},
         )
     )
-    parts.append("</body></html>")
-    return "\n".join(parts)
+    return parts
 
 
 def write_report(report: dict[str, Any], out_dir: str | Path) -> tuple[Path, Path]:

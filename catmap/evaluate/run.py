@@ -41,6 +41,7 @@ from catmap.records import Alternative, Attributes, Mapping, Product, Reject
 
 if TYPE_CHECKING:
     from catmap.attributes import AttributeExtractor
+    from catmap.classify.mapping import Mapper as ClassMapper
     from catmap.feeds.fieldmap import FeedProfile
     from catmap.tree.taxonomy import CategoryTree
 
@@ -536,24 +537,13 @@ def evaluate_feed(
         InputError: the feed has no label column and no gold file was given, or unusable files.
         ModelError: the model folder cannot be used (e.g. another tree version).
     """
-    from catmap.attributes import AttributeExtractor, BrandDictionary
-    from catmap.attributes.brand import dictionary_in_use
-    from catmap.classify.mapping import Mapper as ClassMapper
-    from catmap.classify.storage import MANIFEST, load_model
     from catmap.feeds.profiled import open_profiled_feed
     from catmap.tree.taxonomy import load_default_tree
 
     feed = Path(feed_path)
     folder = Path(project)
     tree = load_default_tree(tree_version)
-    models = Path(model_folder) if model_folder else folder / "models" / "current"
-    if model_folder is not None or (models / MANIFEST).exists():
-        model, _manifest = load_model(models, tree)
-        classifier = ClassMapper(tree, model)
-        model_text = str(models)
-    else:
-        classifier = ClassMapper(tree, None)
-        model_text = f"none (no model in {models}: the tree's keywords alone)"
+    classifier, model_text = _classifier(tree, folder, model_folder)
 
     source = open_profiled_feed(feed, folder)
     gold = read_gold_csv(gold_path, label_column=label_column) if gold_path else None
@@ -565,11 +555,7 @@ def evaluate_feed(
             hint=f"columns found: {', '.join(source.info.columns)}; give the gold labels "
             "with --gold FILE or name the column with --label-column",
         )
-    brands_file = dictionary_in_use(folder, brands_path)
-    extractor = AttributeExtractor(
-        brands=BrandDictionary.from_csv(brands_file) if brands_file else BrandDictionary([]),
-        tree=tree,
-    )
+    extractor, brands_file = _attribute_extractor(tree, folder, brands_path)
     accounting = source.accounting
     collected = collect(
         source.products(profile=profile_without_gold(source.profile, label_column)),
@@ -603,3 +589,39 @@ def evaluate_feed(
         "accounting": accounting.to_dict(),
     }
     return {**facts, **report}
+
+
+def _classifier(
+    tree: CategoryTree, project: Path, model_folder: str | Path | None
+) -> tuple[ClassMapper, str]:
+    """Load the model to evaluate, or the tree's keywords alone when there is none.
+
+    Returns:
+        The mapper and how the report names it.
+
+    Raises:
+        ModelError: the model folder cannot be used (e.g. another tree version).
+    """
+    from catmap.classify.mapping import Mapper as ClassMapper
+    from catmap.classify.storage import MANIFEST, load_model
+
+    models = Path(model_folder) if model_folder else project / "models" / "current"
+    if model_folder is not None or (models / MANIFEST).exists():
+        model, _manifest = load_model(models, tree)
+        return ClassMapper(tree, model), str(models)
+    return ClassMapper(tree, None), f"none (no model in {models}: the tree's keywords alone)"
+
+
+def _attribute_extractor(
+    tree: CategoryTree, project: Path, brands_path: str | Path | None
+) -> tuple[AttributeExtractor, Path | None]:
+    """The attribute extractor with the brand dictionary in use, and that dictionary's file."""
+    from catmap.attributes import AttributeExtractor, BrandDictionary
+    from catmap.attributes.brand import dictionary_in_use
+
+    brands_file = dictionary_in_use(project, brands_path)
+    extractor = AttributeExtractor(
+        brands=BrandDictionary.from_csv(brands_file) if brands_file else BrandDictionary([]),
+        tree=tree,
+    )
+    return extractor, brands_file

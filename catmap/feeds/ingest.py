@@ -165,6 +165,21 @@ def _make_product(values: list[Any]) -> Product:
     return product
 
 
+# The fields cleaned by one function of their raw text. IDs and URLs are only stripped: an id
+# must stay exactly as the retailer knows it, and a URL is not prose.
+_CLEANERS: dict[str, Callable[[str], Any]] = {
+    "description": clean_text,
+    "brand": _clean_repeated_line,
+    "gender_text": _clean_repeated_line,
+    "colour": _clean_repeated_line,
+    "size": _clean_repeated_line,
+    "url": str.strip,
+    "image_url": str.strip,
+    "availability": normalize_availability,
+    "category_path": split_category_path,
+}
+
+
 class ProductBuilder:
     """A feed profile compiled for speed: call it with a source record to get a Product or Reject.
 
@@ -189,23 +204,10 @@ class ProductBuilder:
         self.id_column = columns["product_id"]
         self.title_column = columns["title"]
         self.mapped_columns = frozenset(columns.values())
-        # (Product field index, source column, cleaner) for the fields cleaned by one function.
-        # IDs and URLs are only stripped: an id must stay exactly as the retailer knows it, and a
-        # URL is not prose.
-        cleaners: dict[str, Callable[[str], Any]] = {
-            "description": clean_text,
-            "brand": _clean_repeated_line,
-            "gender_text": _clean_repeated_line,
-            "colour": _clean_repeated_line,
-            "size": _clean_repeated_line,
-            "url": str.strip,
-            "image_url": str.strip,
-            "availability": normalize_availability,
-            "category_path": split_category_path,
-        }
+        # (Product field index, source column, cleaner) for the mapped fields of _CLEANERS.
         self.text_steps: tuple[tuple[int, str, Callable[[str], Any]], ...] = tuple(
             (_PRODUCT_INDEX[name], columns[name], cleaner)
-            for name, cleaner in cleaners.items()
+            for name, cleaner in _CLEANERS.items()
             if name in columns
         )
         self.category_column = columns.get("category_path")
@@ -226,25 +228,14 @@ class ProductBuilder:
         get = fields.get
         product_id = get(self.id_column, "").strip()
         if not product_id:
-            return Reject(
-                MISSING_ID,
-                f"no product id in column '{self.id_column}'",
-                record.line,
-                record.location,
-                record_excerpt(record),
-            )
+            return self._reject_missing_id(record)
         raw_title = get(self.title_column, "")
         title = clean_line(raw_title) if raw_title else ""
         if not title:
-            return Reject(
-                MISSING_TITLE,
-                f"no title in column '{self.title_column}'"
-                + (" after cleaning" if raw_title.strip() else ""),
-                record.line,
-                record.location,
-                record_excerpt(record),
-                product_id,
-            )
+            return self._reject_missing_title(record, raw_title, product_id)
+
+        # The steps below stay inline (no call per step): this runs once per record, and a
+        # method call per field is a measurable share of the time on a large feed.
 
         values = _PRODUCT_DEFAULTS.copy()
         values[_PRODUCT_ID] = product_id
@@ -286,6 +277,28 @@ class ProductBuilder:
         if flags:
             values[_FLAGS] = tuple(flags)
         return _make_product(values)
+
+    def _reject_missing_id(self, record: SourceRecord) -> Reject:
+        return Reject(
+            MISSING_ID,
+            f"no product id in column '{self.id_column}'",
+            record.line,
+            record.location,
+            record_excerpt(record),
+        )
+
+    def _reject_missing_title(
+        self, record: SourceRecord, raw_title: str, product_id: str
+    ) -> Reject:
+        return Reject(
+            MISSING_TITLE,
+            f"no title in column '{self.title_column}'"
+            + (" after cleaning" if raw_title.strip() else ""),
+            record.line,
+            record.location,
+            record_excerpt(record),
+            product_id,
+        )
 
     def _price(self, get: Callable[[str], str | None], values: list[Any], flags: list[str]) -> None:
         column_currency: str | None = None

@@ -1,4 +1,12 @@
-"""The review screen: a reviewer works through the review queue of a project store.
+"""The review stage: the project store's review queue in, a reviewer's decisions out.
+
+Input: a :class:`catmap.store.Store` with products queued for review and the category tree.
+Output: decisions (accepted or corrected node, attribute corrections) written back to the store.
+
+- :mod:`~catmap.review.session`: the logic, without a screen.
+- :mod:`~catmap.review.app`: the textual screen.
+- :mod:`~catmap.review.follow`: the attributes that follow a product to its new node.
+- :mod:`~catmap.review.sample`: a tiny store of invented products to try the screen on.
 
 :class:`ReviewSession` holds the logic (claims, decisions, undo, group decisions, attribute
 corrections, pace) and talks to :class:`catmap.store.Store`; :class:`ReviewApp` is the textual

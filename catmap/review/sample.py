@@ -78,8 +78,13 @@ def _row(
 
 def sample_rows() -> list[MappedRow]:
     """Return the sample products with their mappings and queue placement."""
+    return [*_boot_group(), *_single_reviews(), *_audit_and_accepted()]
+
+
+def _boot_group() -> list[MappedRow]:
+    """Six boots of one retailer category, all mapped to ankle boots: a strong group."""
     boot_alternatives = ((CHELSEA_BOOTS, 0.22), (RUNNING_SHOES, 0.06), (T_SHIRTS, 0.01))
-    rows = [
+    return [
         _row(
             f"BT-{n:03d}",
             title,
@@ -103,7 +108,11 @@ def sample_rows() -> list[MappedRow]:
             start=1,
         )
     ]
-    rows += [
+
+
+def _single_reviews() -> list[MappedRow]:
+    """A restricted red wine, a doubtful T-shirt, a brand conflict and an audience conflict."""
+    return [
         _row(
             "WN-001",
             "Valle Serena red blend 2019, 75 cl",
@@ -169,6 +178,12 @@ def sample_rows() -> list[MappedRow]:
                 colour_family="pink",
             ),
         ),
+    ]
+
+
+def _audit_and_accepted() -> list[MappedRow]:
+    """A confident hoodie drawn for the audit sample and a T-shirt already accepted."""
+    return [
         _row(
             "HD-002",
             "Quillmere heavyweight hoodie, navy",
@@ -189,7 +204,6 @@ def sample_rows() -> list[MappedRow]:
             status="accepted",
         ),
     ]
-    return rows
 
 
 def build_sample_store(path: str | Path) -> Store:

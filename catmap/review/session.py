@@ -34,7 +34,8 @@ from catmap.store import (
     ReviewView,
     Store,
 )
-from catmap.tree.taxonomy import CategoryTree, SearchMatch, load_default_tree
+from catmap.tree.search import SearchMatch
+from catmap.tree.taxonomy import CategoryTree, load_default_tree
 
 # What each queue reason means, in the words the screen shows.
 REASON_TEXT = {

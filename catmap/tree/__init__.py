@@ -4,7 +4,9 @@ Input: tree files (``taxonomies/tree-v*.txt``) and change logs. Output: a
 :class:`CategoryTree` to look nodes up and search in, and a :class:`Crosswalk` from one
 version's nodes to the next one's.
 
-- :mod:`~catmap.tree.taxonomy`: the tree model, loading, look-ups, fuzzy search.
+- :mod:`~catmap.tree.treefile`: a :class:`Node` and the tree file's line format.
+- :mod:`~catmap.tree.taxonomy`: the tree model, loading, look-ups.
+- :mod:`~catmap.tree.search`: fuzzy search over node names and terms in every language.
 - :mod:`~catmap.tree.changelog`: the documented change log between two versions.
 - :mod:`~catmap.tree.diff`: diff two trees into a crosswalk (ids, labels, structure, products).
 """
@@ -13,7 +15,16 @@ from __future__ import annotations
 
 from catmap.tree.changelog import Change, ChangeLog, apply_changes, load_change_log
 from catmap.tree.diff import Correspondence, Crosswalk, diff_trees, load_crosswalk, save_crosswalk
-from catmap.tree.taxonomy import CategoryTree, Node, load_default_tree, load_tree
+from catmap.tree.search import SearchMatch, fold_text
+from catmap.tree.taxonomy import (
+    CategoryTree,
+    default_tree_path,
+    dump_tree,
+    load_default_tree,
+    load_tree,
+    summarize_tree,
+)
+from catmap.tree.treefile import Node, parse_audience
 
 __all__ = [
     "CategoryTree",
@@ -22,11 +33,17 @@ __all__ = [
     "Correspondence",
     "Crosswalk",
     "Node",
+    "SearchMatch",
     "apply_changes",
+    "default_tree_path",
     "diff_trees",
+    "dump_tree",
+    "fold_text",
     "load_change_log",
     "load_crosswalk",
     "load_default_tree",
     "load_tree",
+    "parse_audience",
     "save_crosswalk",
+    "summarize_tree",
 ]

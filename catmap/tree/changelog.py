@@ -19,7 +19,8 @@ from dataclasses import dataclass, replace
 from pathlib import Path
 
 from catmap.errors import TreeError
-from catmap.tree.taxonomy import LANGUAGES, CategoryTree, Node, _parse_node, _split_cells
+from catmap.tree.taxonomy import CategoryTree
+from catmap.tree.treefile import LANGUAGES, Node, parse_node, split_cells
 
 __all__ = [
     "CHANGE_KINDS",
@@ -116,89 +117,113 @@ def load_change_log(path: str | Path) -> ChangeLog:
     except (OSError, UnicodeDecodeError) as error:
         raise TreeError(f"cannot read the change log: {error}", path=shown) from None
 
-    def fail(message: str, line: int, hint: str = _FORMAT_HINT) -> TreeError:
-        return TreeError(message, path=shown, line=line, hint=hint)
-
-    versions: tuple[str, str] | None = None
-    changes: list[Change] = []
-    pending: Change | None = None  # a split or merge waiting for its '+' node lines
-    wanted: set[str] = set()
-
-    def close(line: int) -> None:
-        nonlocal pending
-        if pending is not None and wanted:
-            missing = ", ".join(sorted(wanted, key=int))
-            raise fail(
-                f"{pending.kind} on line {pending.line} lacks the node line of {missing}",
-                line,
-                "give each new id a '+ id | parent | name | ...' line below it",
-            )
-        pending = None
-
+    reader = _ChangeLogReader(shown)
     lines = text.splitlines()
     for number, raw in enumerate(lines, start=1):
         stripped = raw.strip()
         if not stripped or stripped.startswith("#"):
             continue
         if stripped.startswith("@"):
-            keyword, _, value = stripped.partition(" ")
-            if keyword != _HEADER:
-                raise fail(f"unknown header '{keyword}'", number)
-            if versions is not None:
-                raise fail(f"second '{_HEADER}' header", number)
-            match = re.fullmatch(r"(\d+)\s*->\s*(\d+)", value.strip())
-            if match is None:
-                raise fail(f"bad header '{stripped}'", number, "write '@tree-change 1 -> 2'")
-            versions = (str(int(match[1])), str(int(match[2])))
-            continue
-        if versions is None:
-            raise fail(
+            reader.header(stripped, number)
+        elif reader.versions is None:
+            raise reader.fail(
                 "missing header '@tree-change N -> M' before the first change",
                 number,
                 "add a line such as '@tree-change 1 -> 2' at the top",
             )
-        if stripped.startswith("+"):
-            if pending is None:
-                raise fail("a '+' node line must follow a split or merge", number)
-            cells, _ = _split_note(_split_cells(stripped[1:]))
-            node = _parse_node(cells, number, shown)
-            if node.id not in wanted:
-                raise fail(
-                    f"node {node.id} is not one of the new ids of the {pending.kind} "
-                    f"on line {pending.line}",
-                    number,
-                )
-            wanted.discard(node.id)
-            pending = replace(pending, nodes=(*pending.nodes, node))
-            changes[-1] = pending
-            continue
-        close(number)
-        kind, _, rest = stripped.partition(" ")
-        rest = rest.strip()
-        if kind not in CHANGE_KINDS:
-            raise fail(f"unknown change '{kind}' (one of {', '.join(CHANGE_KINDS)})", number)
-        change = _parse_change(kind, rest, number, shown)
-        changes.append(change)
-        if kind == "split":
-            wanted = set(change.targets)
-            pending = change
-        elif kind == "merge" and change.node_id not in change.sources:
-            wanted = {change.node_id}
-            pending = change
-    close(len(lines))
-    if versions is None:
-        raise fail(
+        elif stripped.startswith("+"):
+            reader.node_line(stripped, number)
+        else:
+            reader.change_line(stripped, number)
+    reader.close(len(lines))
+    if reader.versions is None:
+        raise reader.fail(
             "missing header '@tree-change N -> M'",
             1,
             "add a line such as '@tree-change 1 -> 2' at the top",
         )
-    seen: dict[str, int] = {}
-    for change in changes:
-        key = f"{change.kind} {change.node_id}"
-        if key in seen:
-            raise fail(f"'{key}' listed twice (first on line {seen[key]})", change.line)
-        seen[key] = change.line
-    return ChangeLog(versions[0], versions[1], tuple(changes), shown)
+    reader.check_repeats()
+    old_version, new_version = reader.versions
+    return ChangeLog(old_version, new_version, tuple(reader.changes), shown)
+
+
+class _ChangeLogReader:
+    """The state of reading a change log line by line: header, changes, a pending split / merge."""
+
+    def __init__(self, path: str) -> None:
+        self.path = path
+        self.versions: tuple[str, str] | None = None
+        self.changes: list[Change] = []
+        self.pending: Change | None = None  # a split or merge waiting for its '+' node lines
+        self.wanted: set[str] = set()
+
+    def fail(self, message: str, line: int, hint: str = _FORMAT_HINT) -> TreeError:
+        return TreeError(message, path=self.path, line=line, hint=hint)
+
+    def header(self, stripped: str, number: int) -> None:
+        """Read the ``@tree-change N -> M`` header."""
+        keyword, _, value = stripped.partition(" ")
+        if keyword != _HEADER:
+            raise self.fail(f"unknown header '{keyword}'", number)
+        if self.versions is not None:
+            raise self.fail(f"second '{_HEADER}' header", number)
+        match = re.fullmatch(r"(\d+)\s*->\s*(\d+)", value.strip())
+        if match is None:
+            raise self.fail(f"bad header '{stripped}'", number, "write '@tree-change 1 -> 2'")
+        self.versions = (str(int(match[1])), str(int(match[2])))
+
+    def node_line(self, stripped: str, number: int) -> None:
+        """Read a '+' line: a new node of the pending split or merge."""
+        pending = self.pending
+        if pending is None:
+            raise self.fail("a '+' node line must follow a split or merge", number)
+        cells, _ = _split_note(split_cells(stripped[1:]))
+        node = parse_node(cells, number, self.path)
+        if node.id not in self.wanted:
+            raise self.fail(
+                f"node {node.id} is not one of the new ids of the {pending.kind} "
+                f"on line {pending.line}",
+                number,
+            )
+        self.wanted.discard(node.id)
+        self.pending = replace(pending, nodes=(*pending.nodes, node))
+        self.changes[-1] = self.pending
+
+    def change_line(self, stripped: str, number: int) -> None:
+        """Read a change line; a split or a merge into a new id then waits for its node lines."""
+        self.close(number)
+        kind, _, rest = stripped.partition(" ")
+        rest = rest.strip()
+        if kind not in CHANGE_KINDS:
+            raise self.fail(f"unknown change '{kind}' (one of {', '.join(CHANGE_KINDS)})", number)
+        change = _parse_change(kind, rest, number, self.path)
+        self.changes.append(change)
+        if kind == "split":
+            self.wanted = set(change.targets)
+            self.pending = change
+        elif kind == "merge" and change.node_id not in change.sources:
+            self.wanted = {change.node_id}
+            self.pending = change
+
+    def close(self, line: int) -> None:
+        """End the pending split or merge: each of its new ids must have had its node line."""
+        if self.pending is not None and self.wanted:
+            missing = ", ".join(sorted(self.wanted, key=int))
+            raise self.fail(
+                f"{self.pending.kind} on line {self.pending.line} lacks the node line of {missing}",
+                line,
+                "give each new id a '+ id | parent | name | ...' line below it",
+            )
+        self.pending = None
+
+    def check_repeats(self) -> None:
+        """No change is listed twice for the same node."""
+        seen: dict[str, int] = {}
+        for change in self.changes:
+            key = f"{change.kind} {change.node_id}"
+            if key in seen:
+                raise self.fail(f"'{key}' listed twice (first on line {seen[key]})", change.line)
+            seen[key] = change.line
 
 
 def _parse_change(kind: str, rest: str, line: int, path: str) -> Change:
@@ -206,11 +231,11 @@ def _parse_change(kind: str, rest: str, line: int, path: str) -> Change:
         return TreeError(message, path=path, line=line, hint=hint)
 
     if kind == "add":
-        cells, note = _split_note(_split_cells(rest))
-        node = _parse_node(cells, line, path)
+        cells, note = _split_note(split_cells(rest))
+        node = parse_node(cells, line, path)
         return Change("add", node.id, targets=(node.id,), nodes=(node,), note=note, line=line)
 
-    cells, note = _split_note(_split_cells(rest))
+    cells, note = _split_note(split_cells(rest))
     if kind in ("rename", "move"):
         if len(cells) != 2 or "->" not in cells[1] or not cells[0].isdigit():
             example = (
@@ -300,98 +325,147 @@ def apply_changes(
             reused id, removing a node that still has children...); the error names the
             change's line.
     """
-    nodes: dict[str, Node] = {node.id: node for node in tree}
-    order: list[str] = [node.id for node in tree]
-    used: set[str] = set(nodes)
+    replay = _Replay(tree, path)
+    for change in changes:
+        replay.apply(change)
+    for change in changes:
+        if change.kind == "remove" and change.new is not None and change.new not in replay.nodes:
+            raise _change_error(
+                f"the products' new node {change.new} is not in the result", change, path
+            )
+    result = _parents_first(replay.nodes, replay.order, path)
+    new_version = version if version is not None else str(int(tree.version) + 1)
+    return CategoryTree(result, version=new_version, path=path)
 
-    def fail(message: str, change: Change, hint: str | None = None) -> TreeError:
-        return TreeError(
-            f"{change.kind} {change.node_id}: {message}",
-            path=path,
-            line=change.line or None,
-            hint=hint,
-        )
 
-    def need(node_id: str, change: Change) -> Node:
-        if node_id not in nodes:
-            raise fail(f"no node {node_id} at this point", change)
-        return nodes[node_id]
+def _change_error(
+    message: str, change: Change, path: str | None, hint: str | None = None
+) -> TreeError:
+    return TreeError(
+        f"{change.kind} {change.node_id}: {message}",
+        path=path,
+        line=change.line or None,
+        hint=hint,
+    )
 
-    def need_leaf(node_id: str, change: Change) -> None:
-        if any(n.parent == node_id for n in nodes.values()):
-            raise fail(
+
+class _Replay:
+    """A tree being changed one change at a time: its nodes and their order.
+
+    Args:
+        tree: the tree before the changes.
+        path: the change log's path, for error messages.
+    """
+
+    def __init__(self, tree: CategoryTree, path: str | None = None) -> None:
+        self.path = path
+        self.nodes: dict[str, Node] = {node.id: node for node in tree}
+        self.order: list[str] = [node.id for node in tree]
+        self.used: set[str] = set(self.nodes)
+
+    def apply(self, change: Change) -> None:
+        """Apply one change.
+
+        Raises:
+            TreeError: the change does not fit the tree as it is now.
+        """
+        if change.kind == "rename":
+            self.rename(change)
+        elif change.kind == "move":
+            self.move(change)
+        elif change.kind == "add":
+            self.create(change.nodes[0], change, None)
+        elif change.kind == "remove":
+            self.need(change.node_id, change)
+            self.need_leaf(change.node_id, change)
+            self.retire(change.node_id)
+        elif change.kind == "split":
+            self.split(change)
+        elif change.kind == "merge":
+            self.merge(change)
+        else:  # pragma: no cover - load_changes only makes the kinds above
+            raise self.fail("unknown change", change)
+
+    def rename(self, change: Change) -> None:
+        node = self.need(change.node_id, change)
+        if node.name != change.old:
+            raise self.fail(f"the old name is '{node.name}', not '{change.old}'", change)
+        self.nodes[node.id] = replace(node, name=change.new or node.name)
+
+    def move(self, change: Change) -> None:
+        node = self.need(change.node_id, change)
+        if (node.parent or "-") != change.old:
+            raise self.fail(f"the old parent is {node.parent or '-'}, not {change.old}", change)
+        new_parent = None if change.new == "-" else change.new
+        if new_parent is not None:
+            self.need(new_parent, change)
+        self.nodes[node.id] = replace(node, parent=new_parent)
+        self.order.remove(node.id)
+        self.order.append(node.id)
+
+    def split(self, change: Change) -> None:
+        self.need(change.node_id, change)
+        self.need_leaf(change.node_id, change)
+        position = self.retire(change.node_id)
+        for offset, part in enumerate(change.nodes):
+            self.create(part, change, position + offset)
+
+    def merge(self, change: Change) -> None:
+        sources = [self.need(source, change) for source in change.sources]
+        for source in change.sources:
+            self.need_leaf(source, change)
+        if change.node_id in change.sources:
+            target = self.nodes[change.node_id]
+            terms = _merge_terms([target, *(s for s in sources if s.id != target.id)])
+            self.nodes[target.id] = replace(target, terms=terms)
+            for source in change.sources:
+                if source != target.id:
+                    self.retire(source)
+        else:
+            position = min(self.order.index(source) for source in change.sources)
+            for source in change.sources:
+                self.retire(source)
+            self.create(change.nodes[0], change, position)
+
+    def fail(self, message: str, change: Change, hint: str | None = None) -> TreeError:
+        return _change_error(message, change, self.path, hint)
+
+    def need(self, node_id: str, change: Change) -> Node:
+        if node_id not in self.nodes:
+            raise self.fail(f"no node {node_id} at this point", change)
+        return self.nodes[node_id]
+
+    def need_leaf(self, node_id: str, change: Change) -> None:
+        if any(n.parent == node_id for n in self.nodes.values()):
+            raise self.fail(
                 f"node {node_id} still has children", change, "move or remove its children first"
             )
 
-    def create(new: Node, change: Change, at: int | None) -> None:
-        if new.id in used:
-            raise fail(f"id {new.id} is already used (ids are never reused)", change)
+    def create(self, new: Node, change: Change, at: int | None) -> None:
+        if new.id in self.used:
+            raise self.fail(f"id {new.id} is already used (ids are never reused)", change)
         if new.parent is not None:
-            need(new.parent, change)
-        used.add(new.id)
-        nodes[new.id] = new
+            self.need(new.parent, change)
+        self.used.add(new.id)
+        self.nodes[new.id] = new
         if at is None:
-            order.append(new.id)
+            self.order.append(new.id)
         else:
-            order.insert(at, new.id)
+            self.order.insert(at, new.id)
 
-    def retire(node_id: str) -> int:
-        position = order.index(node_id)
-        order.pop(position)
-        del nodes[node_id]
+    def retire(self, node_id: str) -> int:
+        position = self.order.index(node_id)
+        self.order.pop(position)
+        del self.nodes[node_id]
         return position
 
-    for change in changes:
-        if change.kind == "rename":
-            node = need(change.node_id, change)
-            if node.name != change.old:
-                raise fail(f"the old name is '{node.name}', not '{change.old}'", change)
-            nodes[node.id] = replace(node, name=change.new or node.name)
-        elif change.kind == "move":
-            node = need(change.node_id, change)
-            if (node.parent or "-") != change.old:
-                raise fail(f"the old parent is {node.parent or '-'}, not {change.old}", change)
-            new_parent = None if change.new == "-" else change.new
-            if new_parent is not None:
-                need(new_parent, change)
-            nodes[node.id] = replace(node, parent=new_parent)
-            order.remove(node.id)
-            order.append(node.id)
-        elif change.kind == "add":
-            create(change.nodes[0], change, None)
-        elif change.kind == "remove":
-            need(change.node_id, change)
-            need_leaf(change.node_id, change)
-            retire(change.node_id)
-        elif change.kind == "split":
-            need(change.node_id, change)
-            need_leaf(change.node_id, change)
-            position = retire(change.node_id)
-            for offset, part in enumerate(change.nodes):
-                create(part, change, position + offset)
-        elif change.kind == "merge":
-            sources = [need(source, change) for source in change.sources]
-            for source in change.sources:
-                need_leaf(source, change)
-            if change.node_id in change.sources:
-                target = nodes[change.node_id]
-                terms = _merge_terms([target, *(s for s in sources if s.id != target.id)])
-                nodes[target.id] = replace(target, terms=terms)
-                for source in change.sources:
-                    if source != target.id:
-                        retire(source)
-            else:
-                position = min(order.index(source) for source in change.sources)
-                for source in change.sources:
-                    retire(source)
-                create(change.nodes[0], change, position)
-        else:  # pragma: no cover - load_changes only makes the kinds above
-            raise fail("unknown change", change)
 
-    for change in changes:
-        if change.kind == "remove" and change.new is not None and change.new not in nodes:
-            raise fail(f"the products' new node {change.new} is not in the result", change)
+def _parents_first(nodes: dict[str, Node], order: list[str], path: str | None) -> list[Node]:
+    """Order the nodes depth first from the departments, siblings in ``order``.
 
+    Raises:
+        TreeError: some nodes cannot be reached from a department (a move cut them off).
+    """
     rank = {node_id: index for index, node_id in enumerate(order)}
     children: dict[str | None, list[str]] = {}
     for node_id in order:
@@ -409,5 +483,4 @@ def apply_changes(
             path=path,
             hint="check the moves",
         )
-    new_version = version if version is not None else str(int(tree.version) + 1)
-    return CategoryTree(result, version=new_version, path=path)
+    return result

@@ -28,7 +28,9 @@ from typing import Any, Protocol
 
 from catmap.errors import InputError
 from catmap.tree.changelog import Change
-from catmap.tree.taxonomy import CategoryTree, Node, fold_text
+from catmap.tree.search import fold_text
+from catmap.tree.taxonomy import CategoryTree
+from catmap.tree.treefile import Node
 
 __all__ = [
     "CHANGE_TYPES",
@@ -272,55 +274,105 @@ def diff_trees(
 
     removed = [n.id for n in old if n.id not in new]
     added = [n.id for n in new if n.id not in old]
-
-    links: dict[tuple[str, str], _Link] = {}
-    for old_id in removed:
-        for new_id in added:
-            link = matcher.link(old_id, new_id)
-            if link.score >= LINK_THRESHOLD:
-                links[(old_id, new_id)] = link
-
-    def best_new(old_id: str) -> str | None:
-        found = [(links[(old_id, a)].score, a) for a in added if (old_id, a) in links]
-        return max(found)[1] if found else None
-
-    def best_old(new_id: str) -> str | None:
-        found = [(links[(r, new_id)].score, r) for r in removed if (r, new_id) in links]
-        return max(found)[1] if found else None
+    links = _Links(matcher, removed, added)
 
     result: dict[str, Correspondence] = {}
-    explained_new: set[str] = set()
+    explained_new = _merges_into_new(links, result)
+    explained_new |= _splits_and_new_ids(old, new, links, result, explained_new)
+    kept_targets = _merges_into_kept(matcher, removed, result)
+    _kept_nodes(old, new, kept_targets, result)
+    _removed_nodes(old, new, removed, result)
 
-    # Merges into a new id: several removed nodes whose best match is the same added node.
+    correspondences = [result[n.id] for n in old]
+    for new_id in added:
+        if new_id not in explained_new:
+            correspondences.append(
+                Correspondence(None, (new_id,), ("added",), 1.0, "no similar old node")
+            )
+    return Crosswalk(old.version, new.version, correspondences)
+
+
+class _Links:
+    """The links strong enough to count between removed old nodes and added new nodes."""
+
+    def __init__(self, matcher: _Matcher, removed: list[str], added: list[str]) -> None:
+        self.removed = removed
+        self.added = added
+        self.found: dict[tuple[str, str], _Link] = {}
+        for old_id in removed:
+            for new_id in added:
+                link = matcher.link(old_id, new_id)
+                if link.score >= LINK_THRESHOLD:
+                    self.found[(old_id, new_id)] = link
+
+    def best_new(self, old_id: str) -> str | None:
+        """The added node most like a removed one, or None."""
+        found = [
+            (self.found[(old_id, a)].score, a) for a in self.added if (old_id, a) in self.found
+        ]
+        return max(found)[1] if found else None
+
+    def best_old(self, new_id: str) -> str | None:
+        """The removed node most like an added one, or None."""
+        found = [
+            (self.found[(r, new_id)].score, r) for r in self.removed if (r, new_id) in self.found
+        ]
+        return max(found)[1] if found else None
+
+
+def _merges_into_new(links: _Links, result: dict[str, Correspondence]) -> set[str]:
+    """Merges into a new id: several removed nodes whose best match is the same added node.
+
+    Returns:
+        The added nodes these explain.
+    """
+    explained_new: set[str] = set()
     sources_of: dict[str, list[str]] = defaultdict(list)
-    for old_id in removed:
-        target = best_new(old_id)
+    for old_id in links.removed:
+        target = links.best_new(old_id)
         if target is not None:
             sources_of[target].append(old_id)
     for new_id, sources in sources_of.items():
         if len(sources) >= 2:
             explained_new.add(new_id)
             for old_id in sources:
-                link = links[(old_id, new_id)]
+                link = links.found[(old_id, new_id)]
                 result[old_id] = Correspondence(
                     old_id, (new_id,), ("merged",), round(link.score, 3), link.evidence
                 )
+    return explained_new
 
-    # Splits and re-keyed nodes: the added nodes whose best source is this removed node.
-    for old_id in removed:
+
+def _splits_and_new_ids(
+    old: CategoryTree,
+    new: CategoryTree,
+    links: _Links,
+    result: dict[str, Correspondence],
+    explained_new: set[str],
+) -> set[str]:
+    """Splits and re-keyed nodes: the added nodes whose best source is this removed node.
+
+    Returns:
+        The added nodes these explain.
+    """
+    explained: set[str] = set()
+    for old_id in links.removed:
         if old_id in result:
             continue
         parts = [
             a
-            for a in added
-            if a not in explained_new and (old_id, a) in links and best_old(a) == old_id
+            for a in links.added
+            if a not in explained_new
+            and a not in explained
+            and (old_id, a) in links.found
+            and links.best_old(a) == old_id
         ]
         if not parts:
             continue
-        explained_new.update(parts)
-        scores = [links[(old_id, a)].score for a in parts]
+        explained.update(parts)
+        scores = [links.found[(old_id, a)].score for a in parts]
         if len(parts) >= 2:
-            evidence = "; ".join(f"{a}: {links[(old_id, a)].evidence}" for a in parts)
+            evidence = "; ".join(f"{a}: {links.found[(old_id, a)].evidence}" for a in parts)
             result[old_id] = Correspondence(
                 old_id, tuple(parts), ("split",), round(min(scores), 3), evidence
             )
@@ -331,13 +383,23 @@ def diff_trees(
                 changes.append("renamed")
             if old[old_id].parent != new[new_id].parent:
                 changes.append("moved")
-            evidence = f"new id {new_id}; {links[(old_id, new_id)].evidence}"
+            evidence = f"new id {new_id}; {links.found[(old_id, new_id)].evidence}"
             result[old_id] = Correspondence(
                 old_id, (new_id,), tuple(changes) or ("renamed",), round(scores[0], 3), evidence
             )
+    return explained
 
-    # Merges into a kept node: a removed node whose words (or products) live on in a node
-    # present in both trees, preferably one whose keywords grew.
+
+def _merges_into_kept(
+    matcher: _Matcher, removed: list[str], result: dict[str, Correspondence]
+) -> dict[str, list[str]]:
+    """Merges into a kept node: a removed node whose words (or products) live on in a node
+    present in both trees, preferably one whose keywords grew.
+
+    Returns:
+        Kept node id -> the removed nodes merged into it.
+    """
+    old, new = matcher.old, matcher.new
     kept = [n.id for n in new if n.id in old]
     grown = {k for k in kept if matcher.terms(new, k) > matcher.terms(old, k)}
     kept_targets: dict[str, list[str]] = defaultdict(list)
@@ -362,8 +424,16 @@ def diff_trees(
             round(min(1.0, score), 3),
             f"into kept node {new_id}: {cover.evidence}{grew}",
         )
+    return kept_targets
 
-    # Nodes present in both trees.
+
+def _kept_nodes(
+    old: CategoryTree,
+    new: CategoryTree,
+    kept_targets: dict[str, list[str]],
+    result: dict[str, Correspondence],
+) -> None:
+    """Nodes present in both trees: unchanged, or renamed, moved, or taking in merged nodes."""
     for node in old:
         if node.id not in new:
             continue
@@ -387,7 +457,11 @@ def diff_trees(
             "same id" + (f"; {'; '.join(notes)}" if notes else ""),
         )
 
-    # Removed: products go to the nearest ancestor that survives.
+
+def _removed_nodes(
+    old: CategoryTree, new: CategoryTree, removed: list[str], result: dict[str, Correspondence]
+) -> None:
+    """Removed nodes nothing explains: products go to the nearest ancestor that survives."""
     for old_id in removed:
         if old_id in result:
             continue
@@ -399,14 +473,6 @@ def diff_trees(
             1.0,
             "no similar new node" + (f"; products go to ancestor {home}" if home else ""),
         )
-
-    correspondences = [result[n.id] for n in old]
-    for new_id in added:
-        if new_id not in explained_new:
-            correspondences.append(
-                Correspondence(None, (new_id,), ("added",), 1.0, "no similar old node")
-            )
-    return Crosswalk(old.version, new.version, correspondences)
 
 
 def label_equality_crosswalk(old: CategoryTree, new: CategoryTree) -> Crosswalk:

@@ -4,6 +4,8 @@ A tree file (``taxonomies/tree-vN.txt``, format in ``taxonomies/README.md``) hol
 line. :func:`load_tree` reads and checks it and returns a :class:`CategoryTree`, which answers
 the questions later stages ask: a node's path, its ancestors and leaves, who and which ages its
 products are for, whether it is restricted, and which nodes a piece of text resembles.
+The line format lives in :mod:`catmap.tree.treefile`, the fuzzy search in
+:mod:`catmap.tree.search`.
 
 Example:
     >>> tree = load_tree("taxonomies/tree-v1.txt")  # doctest: +SKIP
@@ -14,175 +16,33 @@ Example:
 from __future__ import annotations
 
 import os
-import re
-import unicodedata
 from collections import Counter
-from collections.abc import Iterable, Iterator, Mapping
-from dataclasses import dataclass, field
+from collections.abc import Iterable, Iterator
 from pathlib import Path
-from typing import TYPE_CHECKING, Any
+from typing import Any
 
 from catmap.errors import TreeError, UnknownNode
-
-if TYPE_CHECKING:
-    import numpy as np
-
-    # The search index: folded terms; their (node id, term, language, is name); term lengths;
-    # the file-order rank of each term's node.
-    _SearchIndex = tuple[
-        list[str], list[tuple[str, str, str, bool]], np.ndarray[Any, Any], np.ndarray[Any, Any]
-    ]
+from catmap.tree.search import SearchMatch, TermIndex, fold_text
+from catmap.tree.treefile import (
+    FORMAT_HINT,
+    LANGUAGES,
+    MAX_LEAF_LEVEL,
+    MIN_LEAF_LEVEL,
+    Node,
+    format_tree,
+    parse_audience,
+    parse_restriction,
+    parse_tree_text,
+)
 
 __all__ = [
-    "AGE_VALUES",
-    "LANGUAGES",
-    "MAX_LEAF_LEVEL",
-    "MIN_LEAF_LEVEL",
-    "RESTRICTION_VALUES",
-    "WHO_VALUES",
     "CategoryTree",
-    "Node",
-    "SearchMatch",
     "default_tree_path",
     "dump_tree",
-    "fold_text",
     "load_default_tree",
     "load_tree",
-    "parse_audience",
     "summarize_tree",
 ]
-
-LANGUAGES: tuple[str, ...] = ("en", "fr", "de", "es")
-WHO_VALUES: tuple[str, ...] = ("female", "male", "unisex")
-AGE_VALUES: tuple[str, ...] = ("adult", "kids", "baby")
-RESTRICTION_VALUES: tuple[str, ...] = ("alcohol", "tobacco", "weapons", "adult", "medicine")
-MIN_LEAF_LEVEL = 3
-MAX_LEAF_LEVEL = 5
-
-_HEADER = "@tree-version"
-_CELLS = 5 + len(LANGUAGES)
-_FORMAT_HINT = "see taxonomies/README.md for the tree file format"
-
-
-@dataclass(frozen=True, slots=True)
-class Node:
-    """One node of the category tree, as its line in the tree file gives it.
-
-    Attributes:
-        id: stable identifier, digits only.
-        parent: the parent's id, None for a department (a top-level node).
-        name: English display name.
-        terms: language code ("en", "fr", "de", "es") -> the node's own keywords and synonyms.
-        audience: the raw audience cell: ".", "none" or "who=... age=...".
-        restriction: the node's own restriction, None for "-". Use
-            :meth:`CategoryTree.restriction` for the effective (inherited) value.
-        line: line of the node in the tree file (0 when built in code). Not part of equality,
-            so that a tree written back and read again compares equal.
-    """
-
-    id: str
-    parent: str | None
-    name: str
-    terms: Mapping[str, tuple[str, ...]]
-    audience: str = "."
-    restriction: str | None = None
-    line: int = field(default=0, compare=False)
-
-    def __hash__(self) -> int:
-        # ``terms`` is a mapping, so the generated hash would fail; equal nodes share an id.
-        return hash((self.id, self.parent, self.name))
-
-
-@dataclass(frozen=True, slots=True)
-class SearchMatch:
-    """One result of :meth:`CategoryTree.search_matches`.
-
-    Attributes:
-        node: the node found.
-        score: similarity 0..100 of its best term to the query.
-        term: that best term, as written in the tree file.
-        language: the term's language ("en" for the node name).
-        is_name: True when the best term is the node's display name.
-    """
-
-    node: Node
-    score: float
-    term: str
-    language: str
-    is_name: bool
-
-
-# Letters that Unicode decomposition leaves alone but a shopper types without the mark.
-_FOLD_EXTRA = str.maketrans({"ø": "o", "æ": "ae", "œ": "oe", "ł": "l", "đ": "d", "ð": "d"})
-_NON_WORD = re.compile(r"[\W_]+")
-
-
-def fold_text(text: str) -> str:
-    """Fold text for matching: case-folded, accents removed, punctuation turned into spaces.
-
-    Args:
-        text: any text.
-
-    Returns:
-        The folded text, words separated by single spaces.
-
-    Example:
-        >>> fold_text("Vêtements  d'Été")
-        'vetements d ete'
-    """
-    folded = unicodedata.normalize("NFKD", text.casefold())
-    folded = "".join(c for c in folded if not unicodedata.combining(c)).translate(_FOLD_EXTRA)
-    return _NON_WORD.sub(" ", folded).strip()
-
-
-def parse_audience(cell: str) -> tuple[frozenset[str] | None, frozenset[str] | None]:
-    """Parse an audience cell into (who, ages); None in either place means "inherit".
-
-    Args:
-        cell: ".", "none", or "who=A,B" and/or "age=C,D" separated by a space.
-
-    Returns:
-        ``(None, None)`` for ".", two empty sets for "none", otherwise the parts given.
-
-    Raises:
-        ValueError: the cell uses a value outside the format (the message says which).
-    """
-    cell = cell.strip()
-    if cell == ".":
-        return None, None
-    if cell == "none":
-        return frozenset(), frozenset()
-    if not cell:
-        raise ValueError("empty audience cell (use '.' to inherit the parent's)")
-    parts: dict[str, frozenset[str]] = {}
-    for token in cell.split():
-        key, sep, values = token.partition("=")
-        if not sep or key not in ("who", "age"):
-            raise ValueError(
-                f"bad audience part '{token}' (expected '.', 'none', 'who=...' or 'age=...')"
-            )
-        if key in parts:
-            raise ValueError(f"audience part '{key}=' given twice")
-        allowed = WHO_VALUES if key == "who" else AGE_VALUES
-        chosen = [v.strip() for v in values.split(",")]
-        for value in chosen:
-            if value not in allowed:
-                raise ValueError(
-                    f"bad audience value '{value}' for {key}= (one of {', '.join(allowed)})"
-                )
-        parts[key] = frozenset(chosen)
-    return parts.get("who"), parts.get("age")
-
-
-def _parse_restriction(cell: str) -> str | None:
-    cell = cell.strip()
-    if cell == "-":
-        return None
-    if cell not in RESTRICTION_VALUES:
-        raise ValueError(
-            f"bad restriction '{cell}' (use '-' or one of {', '.join(RESTRICTION_VALUES)})"
-        )
-    return cell
 
 
 class CategoryTree:
@@ -221,9 +81,9 @@ class CategoryTree:
             self._check_cells(node)
             try:
                 own_audience[node.id] = parse_audience(node.audience)
-                _parse_restriction(node.restriction or "-")
+                parse_restriction(node.restriction or "-")
             except ValueError as error:
-                raise self._error(str(error), node, _FORMAT_HINT) from None
+                raise self._error(str(error), node, FORMAT_HINT) from None
             if node.parent is not None and node.parent not in self._nodes:
                 raise self._error(
                     f"unknown parent {node.parent} of node {node.id}",
@@ -278,7 +138,7 @@ class CategoryTree:
                 self._ages[node.id] = self._ages[parent] if ages is None else ages
                 self._restriction[node.id] = node.restriction or self._restriction[parent]
 
-        self._search_index: _SearchIndex | None = None
+        self._term_index: TermIndex | None = None
 
     # -- construction helpers -------------------------------------------------------------
 
@@ -297,11 +157,11 @@ class CategoryTree:
         if not node.name.strip():
             raise self._error(f"node {node.id} has an empty name", node, "write the name")
         if "|" in node.name:
-            raise self._error(f"name of node {node.id} contains '|'", node, _FORMAT_HINT)
+            raise self._error(f"name of node {node.id} contains '|'", node, FORMAT_HINT)
         missing = [lang for lang in LANGUAGES if lang not in node.terms]
         if missing:
             raise self._error(
-                f"missing language cell '{missing[0]}:' for node {node.id}", node, _FORMAT_HINT
+                f"missing language cell '{missing[0]}:' for node {node.id}", node, FORMAT_HINT
             )
 
     def _compute_depth(self, start: Node) -> int:
@@ -480,39 +340,14 @@ class CategoryTree:
                 terms.extend(words)
         return terms
 
-    def _build_search_index(self) -> _SearchIndex:
-        # numpy and rapidfuzz are imported on first search, so that commands that only look
-        # nodes up start faster.
-        import numpy as np
-
-        if self._search_index is None:
-            choices: list[str] = []
-            owners: list[tuple[str, str, str, bool]] = []  # node id, term, language, is name
-            for node in self._order:
-                seen: set[str] = set()
-                candidates = [(node.name, "en", True)] + [
-                    (term, code, False) for code, words in node.terms.items() for term in words
-                ]
-                for term, code, is_name in candidates:
-                    folded = fold_text(term)
-                    if folded and folded not in seen:
-                        seen.add(folded)
-                        choices.append(folded)
-                        owners.append((node.id, term, code, is_name))
-            lengths = np.fromiter((len(c) for c in choices), dtype=np.int32, count=len(choices))
-            node_rank = np.fromiter(
-                (self._index[owner[0]] for owner in owners), dtype=np.int32, count=len(owners)
-            )
-            self._search_index = (choices, owners, lengths, node_rank)
-        return self._search_index
-
     def search_matches(
         self, text: str, *, limit: int = 10, under: str | None = None, min_score: float = 0.0
     ) -> list[SearchMatch]:
         """Find the nodes whose name or terms (any language) resemble ``text``.
 
         Matching is fuzzy on case- and accent-folded text, so "vetements" finds "vêtements"
-        (see :func:`_score_terms` for the score). Each node is ranked once, by its best term.
+        (:class:`~catmap.tree.search.TermIndex` scores it). Each node is ranked once, by its
+        best term.
 
         Args:
             text: what to look for.
@@ -524,36 +359,16 @@ class CategoryTree:
             Matches, best first; on equal scores the term closest to the whole query first, then
             file order.
         """
-        import numpy as np
-
         query = fold_text(text)
         if not query or limit <= 0:
             return []
-        choices, owners, lengths, node_rank = self._build_search_index()
-        scores, whole = _score_terms(query, choices, lengths)
-        keep = scores >= max(min_score, 0.05)
+        if self._term_index is None:
+            self._term_index = TermIndex(self._order)
+        within = None
         if under is not None:
-            inside = np.zeros(len(self._order), dtype=bool)
             below = self.descendants(under)  # raises UnknownNode for an unknown id
-            inside[[self._index[under], *(self._index[n.id] for n in below)]] = True
-            keep &= inside[node_rank]
-        candidates = np.flatnonzero(keep)
-        # Best score first; ties (frequent: a term whose words all occur in the query scores 95)
-        # go to the term most like the whole query, then to file order (terms are indexed in
-        # file order, so the position breaks the last tie).
-        ranked = candidates[np.lexsort((candidates, -whole[candidates], -scores[candidates]))]
-        matches: list[SearchMatch] = []
-        seen: set[str] = set()
-        for position in ranked.tolist():
-            node_id, term, code, is_name = owners[position]
-            if node_id in seen:
-                continue
-            seen.add(node_id)
-            node = self._nodes[node_id]
-            matches.append(SearchMatch(node, float(scores[position]), term, code, is_name))
-            if len(matches) == limit:
-                break
-        return matches
+            within = [self._index[under], *(self._index[n.id] for n in below)]
+        return self._term_index.matches(query, limit=limit, min_score=min_score, within=within)
 
     def search(
         self, text: str, *, limit: int = 10, under: str | None = None
@@ -563,41 +378,6 @@ class CategoryTree:
         See :meth:`search_matches`, which also tells which term matched.
         """
         return [(m.node, m.score) for m in self.search_matches(text, limit=limit, under=under)]
-
-
-# Weights of the three similarity measures. Whole-term similarity counts fully; a term whose
-# words all appear in the query (or the reverse) a little less, so that an exact term still
-# ranks first; a query typed as the start or a piece of a longer term less again. These are
-# tuning choices (common practice, no source), checked by the search tests.
-_TOKEN_SET_WEIGHT = 0.95
-_PARTIAL_WEIGHT = 0.8
-_PARTIAL_MIN_LENGTH = 4
-
-
-def _score_terms(query: str, choices: list[str], lengths: np.ndarray[Any, Any]) -> tuple[Any, Any]:
-    """Score a folded query against every folded term at once.
-
-    rapidfuzz's ``cdist`` runs each measure over all terms in C. Partial matching is only used
-    for queries of four characters or more and only when the query is the shorter string, so
-    that a short term hidden inside a long query ("te" in "vetements") does not score high.
-
-    Returns:
-        Two arrays of 0..100: the score, and the plain whole-string similarity used to break
-        ties.
-    """
-    import numpy as np
-    from rapidfuzz import fuzz, process
-
-    if not choices:
-        return np.zeros(0), np.zeros(0)
-    whole = process.cdist([query], choices, scorer=fuzz.ratio, dtype=np.float32)[0]
-    tokens = process.cdist([query], choices, scorer=fuzz.token_set_ratio, dtype=np.float32)[0]
-    scores = np.maximum(whole, tokens * _TOKEN_SET_WEIGHT)
-    if len(query) >= _PARTIAL_MIN_LENGTH:
-        partial = process.cdist([query], choices, scorer=fuzz.partial_ratio, dtype=np.float32)[0]
-        partial[lengths < len(query)] = 0
-        scores = np.maximum(scores, partial * _PARTIAL_WEIGHT)
-    return np.round(scores.astype(np.float64), 1), whole
 
 
 def _parents_first(nodes: list[Node]) -> list[Node]:
@@ -617,61 +397,6 @@ def _parents_first(nodes: list[Node]) -> list[Node]:
             placed.add(current.id)
             stack.extend(reversed(waiting.pop(current.id, [])))
     return order
-
-
-# -- reading and writing files ------------------------------------------------------------
-
-
-def _split_cells(text: str) -> list[str]:
-    return [cell.strip() for cell in text.split("|")]
-
-
-def _parse_node(cells: list[str], line: int, path: str) -> Node:
-    def fail(message: str, hint: str = _FORMAT_HINT) -> TreeError:
-        return TreeError(message, path=path, line=line, hint=hint)
-
-    if len(cells) != _CELLS:
-        present = {c.partition(":")[0].strip() for c in cells[5:] if ":" in c}
-        missing = [lang for lang in LANGUAGES if lang not in present]
-        message = f"expected {_CELLS} cells separated by ' | ', found {len(cells)}"
-        if len(cells) < _CELLS and missing:
-            message = f"missing language cell '{missing[0]}:' ({message})"
-        raise fail(message)
-    node_id, parent, name, audience, restriction = cells[:5]
-    if not node_id.isdigit() or not node_id.isascii():
-        raise fail(f"id '{node_id}' is not all digits", "ids are digits only")
-    if parent != "-" and (not parent.isdigit() or not parent.isascii()):
-        raise fail(
-            f"parent '{parent}' is not all digits", "give the parent's id, or '-' for a department"
-        )
-    if not name:
-        raise fail(f"node {node_id} has an empty name", "write the name")
-    try:
-        parse_audience(audience)
-        own_restriction = _parse_restriction(restriction)
-    except ValueError as error:
-        raise fail(str(error)) from None
-    terms: dict[str, tuple[str, ...]] = {}
-    for position, (lang, cell) in enumerate(zip(LANGUAGES, cells[5:], strict=True), start=6):
-        code, sep, words = cell.partition(":")
-        code = code.strip()
-        if not sep or code != lang:
-            if sep and code in LANGUAGES:
-                raise fail(
-                    f"cell {position} is '{code}:' but should be '{lang}:' "
-                    f"(language cells go {', '.join(LANGUAGES)})"
-                )
-            raise fail(f"missing language cell '{lang}:' (cell {position} is '{cell[:30]}')")
-        terms[lang] = tuple(filter(None, map(str.strip, words.split(";"))))
-    return Node(
-        id=node_id,
-        parent=None if parent == "-" else parent,
-        name=name,
-        terms=terms,
-        audience=audience,
-        restriction=own_restriction,
-        line=line,
-    )
 
 
 def load_tree(path: str | Path) -> CategoryTree:
@@ -704,58 +429,8 @@ def load_tree(path: str | Path) -> CategoryTree:
         raise TreeError(
             "the tree file is not valid UTF-8", path=shown, line=line, hint="save it as UTF-8"
         ) from None
-
-    version: str | None = None
-    nodes: list[Node] = []
-    for number, raw in enumerate(text.splitlines(), start=1):
-        stripped = raw.strip()
-        if not stripped or stripped.startswith("#"):
-            continue
-        if stripped.startswith("@"):
-            keyword, _, value = stripped.partition(" ")
-            if keyword != _HEADER:
-                raise TreeError(
-                    f"unknown header '{keyword}'", path=shown, line=number, hint=_FORMAT_HINT
-                )
-            if version is not None:
-                raise TreeError("second '@tree-version' header", path=shown, line=number)
-            value = value.strip()
-            if not value.isdigit() or not value.isascii():
-                raise TreeError(
-                    f"tree version '{value}' is not an integer", path=shown, line=number
-                )
-            version = str(int(value))
-            continue
-        if version is None:
-            raise TreeError(
-                "missing header '@tree-version N' before the first node",
-                path=shown,
-                line=number,
-                hint="add a line such as '@tree-version 1' at the top",
-            )
-        nodes.append(_parse_node(_split_cells(stripped), number, shown))
-    if version is None:
-        raise TreeError(
-            "missing header '@tree-version N' (the file has no nodes either)",
-            path=shown,
-            line=1,
-            hint="add a line such as '@tree-version 1' at the top",
-        )
+    version, nodes = parse_tree_text(text, shown)
     return CategoryTree(nodes, version=version, path=shown)
-
-
-def _node_line(node: Node) -> str:
-    cells = [
-        node.id,
-        node.parent if node.parent is not None else "-",
-        node.name,
-        node.audience,
-        node.restriction or "-",
-    ]
-    for lang in LANGUAGES:
-        words = "; ".join(node.terms.get(lang, ()))
-        cells.append(f"{lang}: {words}" if words else f"{lang}:")
-    return " | ".join(cells)
 
 
 def dump_tree(tree: CategoryTree, path: str | Path) -> None:
@@ -767,9 +442,7 @@ def dump_tree(tree: CategoryTree, path: str | Path) -> None:
         tree: the tree to write.
         path: the file to write (replaced if it exists).
     """
-    lines = [f"{_HEADER} {tree.version}"]
-    lines.extend(_node_line(node) for node in tree)
-    Path(path).write_text("\n".join(lines) + "\n", encoding="utf-8")
+    Path(path).write_text(format_tree(tree.version, tree), encoding="utf-8")
 
 
 def default_tree_path(version: int | str = 1) -> Path:
