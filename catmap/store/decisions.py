@@ -215,18 +215,38 @@ class DecisionsMixin(QueueMixin, ProductsMixin):
         current = conn.execute(
             "SELECT * FROM mappings WHERE feed_id = ? AND product_id = ?", (feed_id, product_id)
         ).fetchone()
-        before = {key: current[key] for key in current.keys()}
         from_node = current["node_id"]
-        to_node: str | None
-        if action == "choose":
-            to_node = node_id
-        elif action == "no_fit":
-            to_node = ""
-        elif action == "skip":
-            to_node = None
-        else:
-            to_node = from_node
-        now = self._now()
+        to_node = _node_after(action, node_id, from_node)
+        decision_id = self._record_decision(
+            conn, item, current, reviewer, action, to_node, brand, who, age, note, bulk_id
+        )
+        if action == "skip":
+            _send_to_back(conn, item["id"])
+            return decision_id, None
+        _close_item(conn, item["id"], reviewer)
+        changed_node = to_node != from_node
+        _mark_reviewed(conn, feed_id, product_id, to_node, changed_node, brand, who, age)
+        if node_attributes is not None and changed_node and to_node:
+            _follow_node(conn, feed_id, product_id, node_attributes, who, age)
+            return decision_id, {"from": current["restriction"], "to": node_attributes.restriction}
+        return decision_id, None
+
+    def _record_decision(
+        self,
+        conn: sqlite3.Connection,
+        item: sqlite3.Row,
+        current: sqlite3.Row,
+        reviewer: str,
+        action: str,
+        to_node: str | None,
+        brand: str | None,
+        who: str | None,
+        age: str | None,
+        note: str,
+        bulk_id: str | None,
+    ) -> int:
+        """Insert the decision row, with the mapping and skip count before it (for undo)."""
+        before = {key: current[key] for key in current.keys()}
         cursor = conn.execute(
             "INSERT INTO decisions (item_id, reviewer, at, action, from_node, to_node, "
             "brand_from, brand_to, who_from, who_to, age_from, age_to, note, before, bulk_id) "
@@ -234,9 +254,9 @@ class DecisionsMixin(QueueMixin, ProductsMixin):
             (
                 item["id"],
                 reviewer,
-                now,
+                self._now(),
                 action,
-                from_node,
+                current["node_id"],
                 to_node,
                 current["brand"] if brand is not None else None,
                 brand,
@@ -249,64 +269,7 @@ class DecisionsMixin(QueueMixin, ProductsMixin):
                 bulk_id,
             ),
         )
-        if action == "skip":
-            conn.execute(
-                "UPDATE review_items SET state = 'open', claimed_by = NULL, lease_until = NULL, "
-                "skips = skips + 1 WHERE id = ?",
-                (item["id"],),
-            )
-        else:
-            conn.execute(
-                "UPDATE review_items SET state = 'done', claimed_by = ?, lease_until = NULL "
-                "WHERE id = ?",
-                (reviewer, item["id"]),
-            )
-            changed_node = to_node != from_node
-            conn.execute(
-                "UPDATE mappings SET status = 'reviewed', node_id = ?, "
-                "confidence = CASE WHEN ? THEN 1.0 ELSE confidence END, "
-                "method = CASE WHEN ? THEN 'review' ELSE method END, "
-                "brand = COALESCE(?, brand), who = COALESCE(?, who), age = COALESCE(?, age), "
-                "audience_conflict = CASE WHEN ? IS NULL AND ? IS NULL "
-                "THEN audience_conflict ELSE 0 END "
-                "WHERE feed_id = ? AND product_id = ?",
-                (
-                    to_node,
-                    changed_node,
-                    changed_node,
-                    brand,
-                    who,
-                    age,
-                    who,
-                    age,
-                    feed_id,
-                    product_id,
-                ),
-            )
-            if node_attributes is not None and changed_node and to_node:
-                # The new node decides the flag and whether who / age apply; a reviewer's own
-                # who / age (written above) stay. The old node's audience conflict is moot:
-                # a person just judged this product's node.
-                conn.execute(
-                    "UPDATE mappings SET restriction = ?, "
-                    "who = CASE WHEN ? IS NULL THEN ? ELSE who END, "
-                    "age = CASE WHEN ? IS NULL THEN ? ELSE age END, audience_conflict = 0 "
-                    "WHERE feed_id = ? AND product_id = ?",
-                    (
-                        node_attributes.restriction,
-                        who,
-                        node_attributes.who,
-                        age,
-                        node_attributes.age,
-                        feed_id,
-                        product_id,
-                    ),
-                )
-                return int(cursor.lastrowid or 0), {
-                    "from": current["restriction"],
-                    "to": node_attributes.restriction,
-                }
-        return int(cursor.lastrowid or 0), None
+        return int(cursor.lastrowid or 0)
 
     def accept_group(
         self,
@@ -502,3 +465,96 @@ class DecisionsMixin(QueueMixin, ProductsMixin):
             )
             for r in self._read(sql, params).fetchall()
         ]
+
+
+def _node_after(action: str, node_id: str | None, from_node: str) -> str | None:
+    """Return the node a decision leaves the product on ('' = no node fits; None = a skip)."""
+    if action == "choose":
+        return node_id
+    if action == "no_fit":
+        return ""
+    if action == "skip":
+        return None
+    return from_node
+
+
+def _send_to_back(conn: sqlite3.Connection, item_id: int) -> None:
+    """Reopen a skipped item behind the items skipped fewer times."""
+    conn.execute(
+        "UPDATE review_items SET state = 'open', claimed_by = NULL, lease_until = NULL, "
+        "skips = skips + 1 WHERE id = ?",
+        (item_id,),
+    )
+
+
+def _close_item(conn: sqlite3.Connection, item_id: int, reviewer: str) -> None:
+    """Mark a decided item done, keeping who decided it."""
+    conn.execute(
+        "UPDATE review_items SET state = 'done', claimed_by = ?, lease_until = NULL "
+        "WHERE id = ?",
+        (reviewer, item_id),
+    )
+
+
+def _mark_reviewed(
+    conn: sqlite3.Connection,
+    feed_id: int,
+    product_id: str,
+    to_node: str | None,
+    changed_node: bool,
+    brand: str | None,
+    who: str | None,
+    age: str | None,
+) -> None:
+    """Write a person's verdict on the mapping: its node (full confidence when moved, method
+    ``review``), the corrected brand / who / age, and status ``reviewed``."""
+    conn.execute(
+        "UPDATE mappings SET status = 'reviewed', node_id = ?, "
+        "confidence = CASE WHEN ? THEN 1.0 ELSE confidence END, "
+        "method = CASE WHEN ? THEN 'review' ELSE method END, "
+        "brand = COALESCE(?, brand), who = COALESCE(?, who), age = COALESCE(?, age), "
+        "audience_conflict = CASE WHEN ? IS NULL AND ? IS NULL "
+        "THEN audience_conflict ELSE 0 END "
+        "WHERE feed_id = ? AND product_id = ?",
+        (
+            to_node,
+            changed_node,
+            changed_node,
+            brand,
+            who,
+            age,
+            who,
+            age,
+            feed_id,
+            product_id,
+        ),
+    )
+
+
+def _follow_node(
+    conn: sqlite3.Connection,
+    feed_id: int,
+    product_id: str,
+    node_attributes: NodeAttributes,
+    who: str | None,
+    age: str | None,
+) -> None:
+    """Give a product moved to a new node that node's restriction flag and who / age."""
+    # The new node decides the flag and whether who / age apply; a reviewer's own who / age
+    # (written by _mark_reviewed) stay. The old node's audience conflict is moot: a person just
+    # judged this product's node.
+    conn.execute(
+        "UPDATE mappings SET restriction = ?, "
+        "who = CASE WHEN ? IS NULL THEN ? ELSE who END, "
+        "age = CASE WHEN ? IS NULL THEN ? ELSE age END, audience_conflict = 0 "
+        "WHERE feed_id = ? AND product_id = ?",
+        (
+            node_attributes.restriction,
+            who,
+            node_attributes.who,
+            age,
+            node_attributes.age,
+            feed_id,
+            product_id,
+        ),
+    )
