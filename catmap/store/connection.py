@@ -17,7 +17,7 @@ import sqlite3
 import threading
 from collections.abc import Callable, Iterator, Sequence
 from contextlib import contextmanager
-from datetime import UTC, datetime
+from datetime import UTC, datetime, timedelta
 from pathlib import Path
 from types import TracebackType
 from typing import Any, Self
@@ -157,6 +157,10 @@ class StoreConnection:
 
     def _now(self) -> str:
         return _iso(self._clock())
+
+    def _lease_until(self, lease_seconds: float) -> str:
+        """The moment a claim taken now lapses."""
+        return _iso(self._clock() + timedelta(seconds=lease_seconds))
 
     @contextmanager
     def _transaction(self) -> Iterator[sqlite3.Connection]:

@@ -11,12 +11,10 @@ from __future__ import annotations
 import json
 import sqlite3
 import uuid
-from datetime import timedelta
 from typing import Any
 
 from catmap.errors import StoreError
 from catmap.records import AGE_VALUES, WHO_VALUES
-from catmap.store.connection import _iso
 from catmap.store.encoding import product_from_json
 from catmap.store.products import ProductsMixin, _mapping_from_row
 from catmap.store.queue import DEFAULT_LEASE_SECONDS, QueueMixin
@@ -388,7 +386,7 @@ class DecisionsMixin(QueueMixin, ProductsMixin):
                     "SELECT * FROM decisions WHERE id = ?", (last["id"],)
                 ).fetchall()
             now = self._now()
-            lease = _iso(self._clock() + timedelta(seconds=lease_seconds))
+            lease = self._lease_until(lease_seconds)
             item_ids: list[int] = []
             feed_id: int | None = None
             for decision in rows:

@@ -8,13 +8,11 @@ from __future__ import annotations
 
 import sqlite3
 from collections.abc import Iterable
-from datetime import timedelta
 from typing import Any
 
 from catmap.decide.queue import STRONG_GROUP_MIN_SIZE, STRONG_GROUP_SHARE
 from catmap.errors import StoreError
 from catmap.store.audit import AuditMixin
-from catmap.store.connection import _iso
 from catmap.store.records import (
     GROUP_REASONS,
     ITEM_STATES,
@@ -211,7 +209,7 @@ class QueueMixin(AuditMixin):
         feed_id = self._feed_id(feed) if feed is not None else None
         with self._transaction() as conn:
             now = self._now()
-            lease = _iso(self._clock() + timedelta(seconds=lease_seconds))
+            lease = self._lease_until(lease_seconds)
             feed_clause = "" if feed_id is None else " AND feed_id = :feed"
             params = {"me": reviewer, "now": now, "feed": feed_id}
             row = conn.execute(
@@ -273,7 +271,7 @@ class QueueMixin(AuditMixin):
         lease_seconds: float,
     ) -> list[ReviewItem]:
         now = self._now()
-        lease = _iso(self._clock() + timedelta(seconds=lease_seconds))
+        lease = self._lease_until(lease_seconds)
         marks = ", ".join("?" for _ in GROUP_REASONS)
         conn.execute(
             "UPDATE review_items SET state = 'claimed', claimed_by = ?, lease_until = ? "
