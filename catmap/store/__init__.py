@@ -12,7 +12,8 @@ One :class:`Store` class, composed of one module per concern:
 - :mod:`~catmap.store.feeds`: feeds, runs and where a feed stands.
 - :mod:`~catmap.store.products`: products and mappings, written in batches.
 - :mod:`~catmap.store.queue`: the review queue and its leases.
-- :mod:`~catmap.store.decisions`: reviewers' decisions, bulk accept and undo.
+- :mod:`~catmap.store.decisions`: reviewers' decisions and bulk accept.
+- :mod:`~catmap.store.undo`: taking the last decision back.
 - :mod:`~catmap.store.audit`: the append-only audit log.
 - :mod:`~catmap.store.records` and :mod:`~catmap.store.encoding`: what the store gives back,
   and how products are written as JSON.

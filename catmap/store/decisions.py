@@ -1,9 +1,9 @@
 """Reviewers' decisions: what the screen shows for an item, deciding one item or a whole group,
-undoing, and reading decisions back as history and as training examples.
+and reading decisions back as history and as training examples.
 
 A decision, the mapping it changes, the item it closes and its audit entry are written in one
-transaction. A decision is never deleted: undo marks it undone and restores the mapping it
-saved.
+transaction. Each decision saves the mapping it replaced, so that :mod:`catmap.store.undo` can
+restore it.
 """
 
 from __future__ import annotations
@@ -355,74 +355,6 @@ class DecisionsMixin(QueueMixin, ProductsMixin):
                 _DECISION_SELECT + f" WHERE decisions.id IN ({marks}) ORDER BY decisions.id", ids
             ).fetchall()
         return [_decision_from_row(r) for r in rows]
-
-    def undo_last(
-        self, reviewer: str, *, lease_seconds: float = DEFAULT_LEASE_SECONDS
-    ) -> list[int]:
-        """Undo the reviewer's last decision (or last bulk accept, as a whole).
-
-        The mapping goes back to what it was, the decision is marked undone (never deleted), the
-        item is reopened and claimed by the reviewer, and the undo is audited.
-
-        Returns:
-            The ids of the items reopened (empty when there is nothing to undo).
-        """
-        with self._transaction() as conn:
-            last = conn.execute(
-                "SELECT id, bulk_id FROM decisions WHERE reviewer = ? AND undone_at IS NULL "
-                "ORDER BY id DESC LIMIT 1",
-                (reviewer,),
-            ).fetchone()
-            if last is None:
-                return []
-            if last["bulk_id"]:
-                rows = conn.execute(
-                    "SELECT * FROM decisions WHERE bulk_id = ? AND undone_at IS NULL "
-                    "ORDER BY id DESC",
-                    (last["bulk_id"],),
-                ).fetchall()
-            else:
-                rows = conn.execute(
-                    "SELECT * FROM decisions WHERE id = ?", (last["id"],)
-                ).fetchall()
-            now = self._now()
-            lease = self._lease_until(lease_seconds)
-            item_ids: list[int] = []
-            feed_id: int | None = None
-            for decision in rows:
-                before = json.loads(decision["before"])
-                mapping = before["mapping"]
-                feed_id = mapping["feed_id"]
-                if decision["action"] != "skip":
-                    columns = [c for c in mapping if c not in ("feed_id", "product_id")]
-                    conn.execute(
-                        "UPDATE mappings SET "
-                        + ", ".join(f"{c} = ?" for c in columns)
-                        + " WHERE feed_id = ? AND product_id = ?",
-                        [mapping[c] for c in columns] + [mapping["feed_id"], mapping["product_id"]],
-                    )
-                conn.execute(
-                    "UPDATE review_items SET state = 'claimed', claimed_by = ?, lease_until = ?, "
-                    "skips = ? WHERE id = ?",
-                    (reviewer, lease, before.get("skips", 0), decision["item_id"]),
-                )
-                conn.execute(
-                    "UPDATE decisions SET undone_at = ? WHERE id = ?", (now, decision["id"])
-                )
-                item_ids.append(decision["item_id"])
-            self._audit(
-                conn,
-                "undo",
-                reviewer,
-                feed_id=feed_id,
-                item_id=item_ids[0] if len(item_ids) == 1 else None,
-                detail={
-                    "decisions": [d["id"] for d in rows],
-                    "items": item_ids,
-                    "bulk_id": last["bulk_id"],
-                },
-            )
-        return item_ids
 
     def decisions(
         self, feed: int | str | None = None, *, include_undone: bool = False
