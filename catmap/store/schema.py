@@ -1,0 +1,239 @@
+"""The store's schema and its migrations.
+
+The schema is versioned with ``PRAGMA user_version``: :data:`MIGRATIONS` holds one tuple of
+statements per version, applied in order by :func:`migrate`, each in one transaction. A store
+written by a newer catmap is refused rather than guessed at.
+"""
+
+from __future__ import annotations
+
+import sqlite3
+
+from catmap.errors import StoreError
+
+_SCHEMA_V1: tuple[str, ...] = (
+    """CREATE TABLE feeds (
+        id INTEGER PRIMARY KEY,
+        name TEXT NOT NULL UNIQUE,
+        source_path TEXT NOT NULL DEFAULT '',
+        profile_path TEXT NOT NULL DEFAULT '',
+        created_at TEXT NOT NULL
+    )""",
+    """CREATE TABLE runs (
+        id INTEGER PRIMARY KEY,
+        feed_id INTEGER REFERENCES feeds(id),
+        kind TEXT NOT NULL,
+        params TEXT NOT NULL DEFAULT '{}',
+        started_at TEXT NOT NULL,
+        finished_at TEXT,
+        status TEXT NOT NULL DEFAULT 'running',
+        summary TEXT NOT NULL DEFAULT '{}'
+    )""",
+    """CREATE TABLE products (
+        feed_id INTEGER NOT NULL REFERENCES feeds(id),
+        product_id TEXT NOT NULL,
+        run_id INTEGER REFERENCES runs(id),
+        data TEXT NOT NULL,
+        title TEXT NOT NULL,
+        brand TEXT NOT NULL,
+        retailer_path TEXT NOT NULL,
+        price TEXT,
+        currency TEXT,
+        PRIMARY KEY (feed_id, product_id)
+    )""",
+    """CREATE TABLE mappings (
+        feed_id INTEGER NOT NULL,
+        product_id TEXT NOT NULL,
+        run_id INTEGER REFERENCES runs(id),
+        node_id TEXT NOT NULL,
+        confidence REAL NOT NULL,
+        method TEXT NOT NULL,
+        alternatives TEXT NOT NULL DEFAULT '[]',
+        reason TEXT NOT NULL DEFAULT '',
+        model_version TEXT NOT NULL DEFAULT '',
+        tree_version TEXT NOT NULL DEFAULT '',
+        status TEXT NOT NULL CHECK (status IN ('accepted', 'queued', 'audit', 'reviewed')),
+        group_key TEXT NOT NULL DEFAULT '',
+        brand TEXT NOT NULL DEFAULT '',
+        brand_confidence REAL NOT NULL DEFAULT 0,
+        brand_evidence TEXT NOT NULL DEFAULT '',
+        who TEXT NOT NULL DEFAULT 'not_applicable',
+        age TEXT NOT NULL DEFAULT 'not_applicable',
+        audience_evidence TEXT NOT NULL DEFAULT '',
+        audience_conflict INTEGER NOT NULL DEFAULT 0,
+        colour_family TEXT NOT NULL DEFAULT '',
+        restriction TEXT NOT NULL DEFAULT '',
+        PRIMARY KEY (feed_id, product_id),
+        FOREIGN KEY (feed_id, product_id) REFERENCES products(feed_id, product_id)
+    )""",
+    """CREATE TABLE review_items (
+        id INTEGER PRIMARY KEY,
+        feed_id INTEGER NOT NULL,
+        product_id TEXT NOT NULL,
+        group_key TEXT NOT NULL DEFAULT '',
+        reason TEXT NOT NULL CHECK (reason IN ('low_confidence', 'audit_sample',
+            'brand_conflict', 'audience_conflict', 'remap')),
+        priority REAL NOT NULL DEFAULT 0,
+        state TEXT NOT NULL DEFAULT 'open' CHECK (state IN ('open', 'claimed', 'done')),
+        claimed_by TEXT,
+        lease_until TEXT,
+        created_at TEXT NOT NULL,
+        UNIQUE (feed_id, product_id, reason),
+        FOREIGN KEY (feed_id, product_id) REFERENCES products(feed_id, product_id)
+    )""",
+    "CREATE INDEX review_items_queue ON review_items (state, priority DESC)",
+    """CREATE TABLE decisions (
+        id INTEGER PRIMARY KEY,
+        item_id INTEGER NOT NULL REFERENCES review_items(id),
+        reviewer TEXT NOT NULL,
+        at TEXT NOT NULL,
+        action TEXT NOT NULL CHECK (action IN ('accept', 'choose', 'no_fit', 'skip',
+            'fix_attributes')),
+        from_node TEXT,
+        to_node TEXT,
+        brand_from TEXT,
+        brand_to TEXT,
+        who_from TEXT,
+        who_to TEXT,
+        age_from TEXT,
+        age_to TEXT,
+        note TEXT NOT NULL DEFAULT '',
+        before TEXT NOT NULL DEFAULT '{}'
+    )""",
+    """CREATE TABLE audit_log (
+        id INTEGER PRIMARY KEY,
+        at TEXT NOT NULL,
+        actor TEXT NOT NULL,
+        action TEXT NOT NULL,
+        feed_id INTEGER,
+        item_id INTEGER,
+        detail TEXT NOT NULL DEFAULT '{}'
+    )""",
+    """CREATE TRIGGER audit_log_no_update BEFORE UPDATE ON audit_log
+        BEGIN SELECT RAISE(ABORT, 'the audit log is append-only'); END""",
+    """CREATE TRIGGER audit_log_no_delete BEFORE DELETE ON audit_log
+        BEGIN SELECT RAISE(ABORT, 'the audit log is append-only'); END""",
+)
+
+# Version 2: undo and bulk accept need to know which decisions were undone and which belong
+# together; skipped items go to the back of the queue; group look-ups get an index.
+_SCHEMA_V2: tuple[str, ...] = (
+    "ALTER TABLE decisions ADD COLUMN undone_at TEXT",
+    "ALTER TABLE decisions ADD COLUMN bulk_id TEXT",
+    "ALTER TABLE review_items ADD COLUMN skips INTEGER NOT NULL DEFAULT 0",
+    "CREATE INDEX review_items_group ON review_items (feed_id, group_key)",
+    "CREATE INDEX mappings_group ON mappings (feed_id, group_key)",
+    "CREATE INDEX decisions_reviewer ON decisions (reviewer, id)",
+)
+
+# Version 3: a remap onto a new tree version keeps what it changed until it is finalised, so
+# that it can be rolled back exactly: the previous mapping columns per product, and each review
+# item it created (before = NULL) or reopened (before = the item row as JSON).
+_SCHEMA_V3: tuple[str, ...] = (
+    """CREATE TABLE remaps (
+        id INTEGER PRIMARY KEY,
+        run_id INTEGER REFERENCES runs(id),
+        from_version TEXT NOT NULL,
+        to_version TEXT NOT NULL,
+        state TEXT NOT NULL CHECK (state IN ('running', 'pending', 'finalised', 'rolled_back')),
+        last_decision_id INTEGER NOT NULL DEFAULT 0,
+        started_at TEXT NOT NULL,
+        finished_at TEXT,
+        report TEXT NOT NULL DEFAULT '{}'
+    )""",
+    """CREATE TABLE remap_previous (
+        remap_id INTEGER NOT NULL REFERENCES remaps(id),
+        feed_id INTEGER NOT NULL,
+        product_id TEXT NOT NULL,
+        node_id TEXT NOT NULL,
+        confidence REAL NOT NULL,
+        method TEXT NOT NULL,
+        alternatives TEXT NOT NULL,
+        reason TEXT NOT NULL,
+        model_version TEXT NOT NULL,
+        tree_version TEXT NOT NULL,
+        status TEXT NOT NULL,
+        group_key TEXT NOT NULL,
+        PRIMARY KEY (feed_id, product_id)
+    ) WITHOUT ROWID""",
+    """CREATE TABLE remap_items (
+        item_id INTEGER PRIMARY KEY,
+        remap_id INTEGER NOT NULL REFERENCES remaps(id),
+        before TEXT
+    )""",
+)
+
+# Version 4: a remap also moves the attributes that follow the node (who / age applicability
+# and the restriction flag), so rollback must restore them. NULL = saved before version 4
+# (the remap then did not touch them; rollback keeps the current value).
+_SCHEMA_V4: tuple[str, ...] = (
+    "ALTER TABLE remap_previous ADD COLUMN who TEXT",
+    "ALTER TABLE remap_previous ADD COLUMN age TEXT",
+    "ALTER TABLE remap_previous ADD COLUMN audience_evidence TEXT",
+    "ALTER TABLE remap_previous ADD COLUMN audience_conflict INTEGER",
+    "ALTER TABLE remap_previous ADD COLUMN restriction TEXT",
+)
+
+# Version 5: an item can be withdrawn without a decision (a later run settled what made it
+# uncertain): state 'done' with the reason it was withdrawn (NULL for items a person decided).
+_SCHEMA_V5: tuple[str, ...] = ("ALTER TABLE review_items ADD COLUMN withdrawn_reason TEXT",)
+
+# Version 6: the claim reads the queue in its order (skipped least, highest priority, oldest)
+# straight from an index and stops at the first row, instead of sorting every open item on each
+# claim. It replaces the (state, priority) index, which served no query the new one does not.
+_SCHEMA_V6: tuple[str, ...] = (
+    "DROP INDEX IF EXISTS review_items_queue",
+    "CREATE INDEX review_items_claim ON review_items (state, skips, priority DESC, id)",
+)
+
+MIGRATIONS: tuple[tuple[str, ...], ...] = (
+    _SCHEMA_V1,
+    _SCHEMA_V2,
+    _SCHEMA_V3,
+    _SCHEMA_V4,
+    _SCHEMA_V5,
+    _SCHEMA_V6,
+)
+SCHEMA_VERSION = len(MIGRATIONS)
+
+
+def migrate(conn: sqlite3.Connection, *, target: int = SCHEMA_VERSION) -> int:
+    """Bring a store's schema up to ``target``, one transaction per migration.
+
+    Args:
+        conn: a connection in autocommit mode (``isolation_level=None``).
+        target: the schema version wanted (default: the newest).
+
+    Returns:
+        The schema version after migrating.
+
+    Raises:
+        StoreError: the file was written by a newer catmap.
+    """
+    version = int(conn.execute("PRAGMA user_version").fetchone()[0])
+    if version > SCHEMA_VERSION:
+        raise StoreError(
+            f"the store has schema version {version}; this catmap knows up to {SCHEMA_VERSION}",
+            hint="upgrade catmap",
+        )
+    while version < target:
+        statements = MIGRATIONS[version]
+        conn.execute("BEGIN IMMEDIATE")
+        try:
+            # Read again under the write lock: another process may have just migrated.
+            current = int(conn.execute("PRAGMA user_version").fetchone()[0])
+            if current != version:
+                conn.execute("ROLLBACK")
+                version = current
+                continue
+            for statement in statements:
+                conn.execute(statement)
+            conn.execute(f"PRAGMA user_version = {version + 1}")
+            conn.execute("COMMIT")
+        except BaseException:
+            conn.execute("ROLLBACK")
+            raise
+        version += 1
+    return version
+
+
