@@ -63,7 +63,7 @@ from catmap.jobs._remap_record import (
     rollback_remap,
 )
 from catmap.jobs._remap_scoring import AttributeFollower, RemapScorer, scorer_for_project
-from catmap.store import Store
+from catmap.store import Store, store_path
 from catmap.tree.diff import Crosswalk, diff_trees
 from catmap.tree.taxonomy import CategoryTree, load_default_tree, load_tree
 
@@ -77,8 +77,12 @@ __all__ = [
     "RemapState",
     "finalise_remap",
     "latest_remap",
+    "old_tree_version",
+    "open_project_store",
+    "project_remap_state",
     "remap_group_key",
     "open_tree",
+    "remap_project",
     "remap_store",
     "remapped_examples",
     "rollback_remap",
@@ -334,3 +338,102 @@ def _unremapped_batches(
             yield batch
         if len(rows) < size:
             return
+
+
+# --------------------------------------------------------------------------------------------
+# A project's remap, as the commands run it
+# --------------------------------------------------------------------------------------------
+
+
+def open_project_store(project: Path) -> Store:
+    """Open the store of a project that has one.
+
+    Raises:
+        StoreError: the project has no store yet.
+    """
+    path = store_path(project)
+    if not path.is_file():
+        raise StoreError(f"no project store in {project}: run `catmap onboard FEED` first")
+    return Store.open(path)
+
+
+def old_tree_version(store: Store, new_version: str) -> str:
+    """Return the one tree version the stored mappings use other than ``new_version``.
+
+    Raises:
+        StoreError: every stored mapping is already on ``new_version``.
+        InputError: the mappings use several other versions (the caller must say which).
+    """
+    versions = {v for v in stored_tree_versions(store) if v != new_version}
+    if not versions:
+        raise StoreError(
+            f"no stored mapping is on another tree version than {new_version}",
+            path=store.path,
+            hint="nothing to remap",
+        )
+    known = sorted(v for v in versions if v)
+    if len(known) > 1:
+        raise InputError(
+            f"the store holds mappings of tree versions {', '.join(known)}",
+            hint="say which to move with --from",
+        )
+    return known[0] if known else "1"
+
+
+def remap_project(
+    project: Path,
+    to: str,
+    *,
+    from_: str | None = None,
+    crosswalk_file: Path | None = None,
+    min_confidence: float | None = None,
+    model_dir: Path | None = None,
+    actor: str = "catmap",
+) -> RemapReport:
+    """Move a project's stored mappings onto a new tree (see :func:`remap_store`).
+
+    Args:
+        project: the project folder.
+        to: the new tree: a version number or a tree file.
+        from_: the tree the stored mappings use (default: the version recorded with them).
+        crosswalk_file: the crosswalk to use (default: computed by comparing the two trees).
+        min_confidence: accept threshold for re-scored mappings (default: each feed's
+            onboarding one).
+        model_dir: the model folder that re-scores (default: the project's).
+        actor: who runs it (for the audit log).
+
+    Returns:
+        The remap's report.
+    """
+    from catmap.jobs.onboard import default_model_dir, load_extractor
+    from catmap.tree.diff import load_crosswalk
+
+    new_tree = open_tree(to)
+    with open_project_store(project) as store:
+        old_tree = open_tree(from_ or old_tree_version(store, str(new_tree.version)))
+        crosswalk = load_crosswalk(crosswalk_file) if crosswalk_file is not None else None
+        folder = model_dir or default_model_dir(project)
+        scorer = scorer_for_project(folder, old_tree, new_tree)
+        return remap_store(
+            store,
+            old_tree,
+            new_tree,
+            crosswalk=crosswalk,
+            scorer=scorer,
+            min_confidence=min_confidence,
+            actor=actor,
+            extractor=load_extractor(project, new_tree),
+        )
+
+
+def project_remap_state(project: Path) -> RemapState:
+    """Return the last remap of a project's store.
+
+    Raises:
+        StoreError: no store, or no remap in it.
+    """
+    with open_project_store(project) as store:
+        state = latest_remap(store)
+    if state is None:
+        raise StoreError("no remap in this store", hint="run `catmap remap --to VERSION`")
+    return state
