@@ -303,33 +303,11 @@ def onboard_feed(
     store = Store.for_project(project)
     try:
         store.add_feed(name, source_path=feed_path, profile_path=source.profile_path)
-        run_id = store.start_run(
-            "onboard",
-            feed=name,
-            params={
-                "max_error": options.max_error,
-                "delta": options.delta,
-                "audit_share": options.audit_share,
-                "threshold": choice.threshold,
-                "rules": str(rules_file) if rules_file else None,
-                "model": str(folder),
-            },
+        summary = _start_run(
+            store, name, feed_path, project, options, choice, statement, sources,
+            rules_file=rules_file, model_dir=folder,
         )
-        summary = OnboardSummary(
-            feed=name,
-            path=str(feed_path),
-            run_id=run_id,
-            accounting={},
-            threshold=choice.threshold,
-            coverage_validation=choice.coverage,
-            validation_products=choice.n_calibration,
-            validation_source="; ".join(v.source for v in sources),
-            statement=statement,
-            max_error=options.max_error,
-            delta=options.delta,
-            rules_file=str(rules_file) if rules_file else None,
-            store=str(store_path(project)),
-        )
+        run_id = summary.run_id
         reject_file = rejects_path(project, name)
         subfolder(project, "rejects")
         summary.rejects_file = str(reject_file)
@@ -356,6 +334,49 @@ def onboard_feed(
     if error is not None:
         raise error
     return summary
+
+
+def _start_run(
+    store: Store,
+    name: str,
+    feed_path: Path,
+    project: Path,
+    options: OnboardOptions,
+    choice: ThresholdChoice,
+    statement: str,
+    sources: Sequence[ValidationPredictions],
+    *,
+    rules_file: Path | None,
+    model_dir: Path,
+) -> OnboardSummary:
+    """Record the onboard run with its parameters; return its summary, facts known so far."""
+    run_id = store.start_run(
+        "onboard",
+        feed=name,
+        params={
+            "max_error": options.max_error,
+            "delta": options.delta,
+            "audit_share": options.audit_share,
+            "threshold": choice.threshold,
+            "rules": str(rules_file) if rules_file else None,
+            "model": str(model_dir),
+        },
+    )
+    return OnboardSummary(
+        feed=name,
+        path=str(feed_path),
+        run_id=run_id,
+        accounting={},
+        threshold=choice.threshold,
+        coverage_validation=choice.coverage,
+        validation_products=choice.n_calibration,
+        validation_source="; ".join(v.source for v in sources),
+        statement=statement,
+        max_error=options.max_error,
+        delta=options.delta,
+        rules_file=str(rules_file) if rules_file else None,
+        store=str(store_path(project)),
+    )
 
 
 def _rules_file(project: Path, feed_path: Path, options: OnboardOptions) -> Path | None:
