@@ -4,26 +4,15 @@
 from __future__ import annotations
 
 from pathlib import Path
-from typing import Any
 
 import click
 from rich.markup import escape
 from rich.table import Table
 
-from catmap.attributes import BrandCandidates, BrandDictionary
-from catmap.attributes.brand import (
-    append_brand,
-    demo_dictionary_path,
-    dictionary_in_use,
-    project_dictionary_path,
-)
 from catmap.cli._render import console, echo_json, json_option
 from catmap.cli._render import project_option as _project_option
-from catmap.cli.feeds import SAMPLE_SIZE, _open
-from catmap.feeds.fieldmap import load_profile, suggest_profile
-from catmap.feeds.ingest import FATAL_FEED_ERRORS, Accounting, iter_products
-from catmap.project import profile_path, project_dir
-from catmap.records import Product
+from catmap.jobs.brands import accept_brand, brand_candidates
+from catmap.project import project_dir
 
 _dictionary_option = click.option(
     "--dictionary",
@@ -69,35 +58,15 @@ def candidates_command(
 
     Uses the feed's saved profile (see `catmap inspect`), or suggests one without saving it.
     """
-    folder = project_dir(project)
-    dictionary_path = dictionary_in_use(folder, dictionary)
-    brands = BrandDictionary.from_csv(dictionary_path) if dictionary_path else BrandDictionary([])
-    saved = profile_path(folder, feed)
-    profile = load_profile(saved) if saved.exists() else None
-    opened = _open(feed, profile, None, None, None)
-    if profile is None:
-        profile = suggest_profile(opened.info, opened.sample(SAMPLE_SIZE))
-    collector = BrandCandidates(brands, retailer_names=retailers)
-    accounting = Accounting()
-    stopped: str | None = None
-    try:
-        for item in iter_products(opened, profile, accounting):
-            if isinstance(item, Product):
-                collector.add(item.brand, item.title)
-    except FATAL_FEED_ERRORS as error:
-        stopped = str(error)
-    found = collector.candidates(min_count)
-    facts: dict[str, Any] = {
-        "feed": str(feed),
-        "dictionary": str(dictionary_path) if dictionary_path else None,
-        "products": accounting.kept,
-        "min_count": min_count,
-        "candidates": [
-            {"name": c.name, "count": c.count, "source": c.source, "examples": c.examples}
-            for c in found
-        ],
-        "stopped_early": stopped,
-    }
+    facts = brand_candidates(
+        feed,
+        project=project_dir(project),
+        min_count=min_count,
+        retailers=retailers,
+        dictionary=dictionary,
+    )
+    found = facts["candidates"]
+    stopped = facts["stopped_early"]
     if as_json:
         echo_json(facts)
         return
@@ -111,7 +80,7 @@ def candidates_command(
             table.add_column(header, justify="right" if header == "count" else "left")
         for c in found:
             table.add_row(
-                escape(c.name), f"{c.count:,}", c.source, escape(" | ".join(c.examples))
+                escape(c["name"]), f"{c['count']:,}", c["source"], escape(" | ".join(c["examples"]))
             )
         console.print(table)
         console.print("Add one with: catmap brands accept NAME [--department ID]")
@@ -140,26 +109,21 @@ def accept_command(
 
     The project's dictionary <project>/brands.csv is created from the demo one on first use.
     """
-    path = dictionary or project_dictionary_path(project_dir(project))
-    created = not path.exists()
-    entry = append_brand(
-        path, name, variants=variants, departments=departments, seed_from=demo_dictionary_path()
+    facts = accept_brand(
+        name,
+        project=project_dir(project),
+        variants=variants,
+        departments=departments,
+        dictionary=dictionary,
     )
-    facts = {
-        "brand": entry.name,
-        "variants": list(entry.variants),
-        "departments": list(entry.departments),
-        "dictionary": str(path),
-        "created": created,
-    }
     if as_json:
         echo_json(facts)
         return
-    console.print(f"Added {escape(entry.name)} to {escape(str(path))}"
-                  + (" (created)" if created else ""))
-    console.print("Spellings: " + escape(", ".join(entry.variants)))
-    if entry.departments:
-        console.print("Departments: " + escape(", ".join(entry.departments)))
+    console.print(f"Added {escape(facts['brand'])} to {escape(facts['dictionary'])}"
+                  + (" (created)" if facts["created"] else ""))
+    console.print("Spellings: " + escape(", ".join(facts["variants"])))
+    if facts["departments"]:
+        console.print("Departments: " + escape(", ".join(facts["departments"])))
 
 
 def register(main: click.Group) -> None:

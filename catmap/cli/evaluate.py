@@ -10,8 +10,7 @@ from rich.markup import escape
 from rich.table import Table
 
 from catmap.cli._render import console, echo_json, json_option, model_option, project_option
-from catmap.evaluate.report_html import write_report
-from catmap.evaluate.run import evaluate_feed
+from catmap.jobs.evaluate import evaluate_and_report
 from catmap.project import project_dir
 
 CONFUSIONS_SHOWN = 10
@@ -68,23 +67,21 @@ def evaluate_command(
     Prints accuracy, F1, hierarchical F1, calibration error (ECE), AURC, the top confusions and
     brand / who / age scores; writes report.html (with plots) and metrics.json.
     """
-    folder = project_dir(project)
-    report = evaluate_feed(
+    result = evaluate_and_report(
         labelled_feed,
-        project=folder,
-        gold_path=gold_file,
+        project=project_dir(project),
+        gold_file=gold_file,
         label_column=label_column,
-        model_folder=model_path,
-        tree_version=tree_version,
+        model_dir=model_path,
+        out_dir=out_dir,
         split=split,
-        threshold=backoff_threshold,
+        backoff_threshold=backoff_threshold,
+        tree_version=tree_version,
     )
-    target = out_dir or folder / "reports" / labelled_feed.name.split(".")[0]
-    html_path, json_path = write_report(report, target)
     if as_json:
-        echo_json(report)
+        echo_json(result.report)
         return
-    _render(report, html_path, json_path)
+    _render(result.report, result.html_path, result.json_path)
 
 
 def _f(value: float) -> str:

@@ -13,30 +13,13 @@ from rich.table import Table
 
 from catmap.cli._render import console, echo_json, err_console, json_option
 from catmap.cli._render import project_option as _project_option
-from catmap.errors import InputError
-from catmap.feeds.fieldmap import (
-    REQUIRED_FIELDS,
-    TARGET_FIELDS,
-    FeedProfile,
-    load_profile,
-    save_profile,
-    suggest_profile,
-)
-from catmap.feeds.ingest import (
-    FATAL_FEED_ERRORS,
-    Accounting,
-    OutputPaths,
-    check_profile,
-    normalize_feed_to,
-    output_paths,
-)
+from catmap.feeds.ingest import Accounting, OutputPaths
 from catmap.feeds.normalize import normalize_currency
-from catmap.feeds.read import Feed, open_feed
 from catmap.feeds.writers import FORMATS
-from catmap.project import profile_path, project_dir
+from catmap.jobs.inspect import inspect_feed
+from catmap.jobs.normalize import normalize_project_feed
+from catmap.project import project_dir
 
-SAMPLE_SIZE = 200
-SAMPLES_SHOWN = 3
 DUPLICATES_SHOWN = 5
 
 _feed_argument = click.argument(
@@ -55,64 +38,6 @@ _delimiter_option = click.option(
     default=None,
     help="Delimited text only: the column separator (default: detected).",
 )
-
-
-def _open(
-    feed_path: Path,
-    profile: FeedProfile | None,
-    encoding: str | None,
-    record_path: str | None,
-    delimiter: str | None,
-) -> Feed:
-    """Open a feed; options given now win over the ones remembered in the profile."""
-    if profile is not None:
-        encoding = encoding or profile.encoding
-        record_path = record_path or profile.record_path
-        delimiter = delimiter or profile.delimiter
-    return open_feed(feed_path, encoding=encoding, record_path=record_path, delimiter=delimiter)
-
-
-def _remember_options(
-    profile: FeedProfile, encoding: str | None, record_path: str | None, delimiter: str | None
-) -> None:
-    if encoding:
-        profile.encoding = encoding
-    if record_path:
-        profile.record_path = record_path
-    if delimiter:
-        profile.delimiter = delimiter
-
-
-def _mapping_rows(profile: FeedProfile, feed: Feed, sample_needed: bool) -> list[dict[str, Any]]:
-    """One row per mapped field: column, confidence, evidence, sample values."""
-    by_field = {s.field: s for s in profile.suggestions if s.column}
-    samples: list[dict[str, str]] = []
-    if sample_needed:
-        samples = [record.fields for record in feed.sample(SAMPLE_SIZE)]
-    rows = []
-    for name in TARGET_FIELDS:
-        column = profile.columns.get(name)
-        if not column:
-            continue
-        suggestion = by_field.get(name)
-        if suggestion is not None and suggestion.column == column:
-            confidence: float | None = suggestion.confidence
-            evidence = suggestion.evidence
-            values = list(suggestion.samples[:SAMPLES_SHOWN])
-        else:
-            confidence = None
-            evidence = "from the saved profile"
-            values = [r[column] for r in samples if r.get(column)][:SAMPLES_SHOWN]
-        rows.append(
-            {
-                "field": name,
-                "column": column,
-                "confidence": confidence,
-                "evidence": evidence,
-                "samples": values,
-            }
-        )
-    return rows
 
 
 @click.command("inspect")
@@ -137,36 +62,14 @@ def inspect_command(
     The profile is saved in <project>/profiles/<feed name>.toml; edit it to fix the mapping.
     An existing profile is shown as it is (use --fresh to suggest a new one).
     """
-    saved_path = profile_path(project_dir(project), feed)
-    existing = saved_path.exists() and not fresh
-    profile = load_profile(saved_path) if existing else None
-    opened = _open(feed, profile, encoding, record_path, delimiter)
-    info = opened.info
-    if profile is None:
-        profile = suggest_profile(info, opened.sample(SAMPLE_SIZE))
-        _remember_options(profile, encoding, record_path, delimiter)
-        saved_path.parent.mkdir(parents=True, exist_ok=True)
-        save_profile(profile, saved_path)
-    rows = _mapping_rows(profile, opened, sample_needed=existing)
-    mapped_columns = set(profile.columns.values())
-    missing = profile.missing()
-    facts: dict[str, Any] = {
-        "feed": str(feed),
-        "format": info.format,
-        "encoding": info.encoding,
-        "encoding_source": info.encoding_source,
-        "compression": info.compression,
-        "delimiter": info.delimiter,
-        "has_header": info.has_header,
-        "record_path": info.record_path,
-        "columns": list(info.columns),
-        "mapping": rows,
-        "missing": missing,
-        "missing_required": [name for name in missing if name in REQUIRED_FIELDS],
-        "extras": [column for column in info.columns if column not in mapped_columns],
-        "profile": str(saved_path),
-        "profile_status": "existing" if existing else "saved",
-    }
+    facts = inspect_feed(
+        feed,
+        project=project_dir(project),
+        encoding=encoding,
+        record_path=record_path,
+        delimiter=delimiter,
+        fresh=fresh,
+    )
     if as_json:
         echo_json(facts)
         return
@@ -281,23 +184,6 @@ def normalize_command(
                 param_hint="--currency",
             )
 
-    path = profile_file or profile_path(project_dir(project), feed)
-    profile_status = "given" if profile_file else "existing"
-    profile = load_profile(path) if path.exists() else None
-    opened = _open(feed, profile, encoding, record_path, delimiter)
-    if profile is None:
-        profile = suggest_profile(opened.info, opened.sample(SAMPLE_SIZE))
-        _remember_options(profile, encoding, record_path, delimiter)
-        path.parent.mkdir(parents=True, exist_ok=True)
-        save_profile(profile, path)
-        profile_status = "saved"
-    if default_currency is not None:
-        profile.default_currency = default_currency
-    check_profile(profile, opened.info, profile_path=path)
-
-    accounting = Accounting()
-    paths = output_paths(out_dir, output_format)
-    error: InputError | None = None
     with Progress(
         SpinnerColumn(),
         TextColumn("normalising {task.description}"),
@@ -312,33 +198,24 @@ def normalize_command(
         def show(current: Accounting) -> None:
             progress.update(task, completed=current.read)
 
-        try:
-            normalize_feed_to(
-                opened,
-                profile,
-                out_dir,
-                format=output_format,
-                accounting=accounting,
-                on_progress=show,
-            )
-        except FATAL_FEED_ERRORS as fatal:
-            error = fatal
-
-    facts: dict[str, Any] = {
-        "feed": str(feed),
-        **accounting.to_dict(),
-        "duplicate_id_count": accounting.by_reason.get("duplicate_id", 0),
-        "outputs": paths.to_dict(),
-        "format": output_format,
-        "profile": str(path),
-        "profile_status": profile_status,
-    }
+        result = normalize_project_feed(
+            feed,
+            out_dir,
+            project=project_dir(project),
+            format=output_format,
+            encoding=encoding,
+            record_path=record_path,
+            delimiter=delimiter,
+            default_currency=default_currency,
+            profile_file=profile_file,
+            on_progress=show,
+        )
     if as_json:
-        echo_json(facts)
+        echo_json(result.facts)
     else:
-        _render_normalize(facts, paths)
-    if error is not None:
-        raise error
+        _render_normalize(result.facts, result.paths)
+    if result.error is not None:
+        raise result.error
 
 
 def _render_normalize(facts: dict[str, Any], paths: OutputPaths) -> None:

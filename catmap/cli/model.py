@@ -10,52 +10,16 @@ from rich.markup import escape
 from rich.progress import Progress, SpinnerColumn, TextColumn, TimeElapsedColumn
 from rich.table import Table
 
-from catmap.classify.mapping import Mapper, MapSummary, map_feed
-from catmap.classify.rules import RuleSet, load_rules
-from catmap.classify.storage import MANIFEST, load_model
-from catmap.classify.training import train_model
 from catmap.cli._render import console, echo_json, err_console, json_option, model_option
 from catmap.cli._render import project_option as _project_option
-from catmap.errors import InputError, ModelNotTrained
-from catmap.feeds.profiled import open_profiled_feed
 from catmap.feeds.writers import FORMATS
-from catmap.jobs.onboard import project_review_examples
-from catmap.project import feed_stem, project_dir, subfolder
-from catmap.records import Product
-from catmap.tree.taxonomy import CategoryTree, load_default_tree
+from catmap.jobs.map import map_project_feed
+from catmap.jobs.train import train_project
+from catmap.project import project_dir
 
 _tree_version_option = click.option(
     "--tree-version", default="1", show_default=True, help="Version of the shared category tree."
 )
-
-
-def _model_dir(project: Path, model: Path | None) -> Path:
-    return model if model is not None else project / "models" / "current"
-
-
-# The tree version the demo reference catalog is labelled with.
-DEMO_TREE_VERSION = "1"
-
-
-def _remapped_catalog(folder: Path, tree: CategoryTree) -> Path:
-    from catmap.jobs.remap import write_remapped_catalog
-    from catmap.store import Store, store_path
-
-    hint = f"run `catmap remap --to {tree.version}` first, or give labelled feeds"
-    if not store_path(folder).is_file():
-        raise ModelNotTrained(
-            f"no labelled products for tree version {tree.version}", path=folder, hint=hint
-        )
-    catalog = subfolder(folder, "models") / f"remapped-catalog-v{tree.version}.csv"
-    with Store.open(store_path(folder)) as store:
-        written = write_remapped_catalog(store, tree, catalog)
-    if written == 0:
-        raise ModelNotTrained(
-            f"the project store has no settled mappings on tree version {tree.version}",
-            path=store_path(folder),
-            hint=hint,
-        )
-    return catalog
 
 
 @click.command("train")
@@ -98,22 +62,6 @@ def train_command(
     A labelled feed has a column of node ids (--label-column). Rows with split=train train and
     rows with split=valid calibrate when a split column exists; else a seeded 90/10 split is made.
     """
-    tree = load_default_tree(tree_version)
-    folder = project_dir(project)
-    sources = list(feeds)
-    reviewed: list[tuple[Product, str]] = []
-    if not sources and str(tree.version) != DEMO_TREE_VERSION:
-        # A newer tree than the demo catalog's: learn from the project's remapped catalog.
-        sources = [_remapped_catalog(folder, tree)]
-    elif not sources:
-        from catmap.demo import ensure_demo_world
-
-        root = Path(__file__).resolve().parents[2] / "feeds_demo"
-        paths = ensure_demo_world(root, tree=tree)
-        sources = [Path(paths.reference)]
-        reviewed = project_review_examples(folder, tree) if with_reviews else []
-    else:
-        reviewed = project_review_examples(folder, tree) if with_reviews else []
     with Progress(
         SpinnerColumn(),
         TextColumn("{task.description}"),
@@ -123,18 +71,16 @@ def train_command(
         disable=not err_console.is_terminal,
     ) as progress:
         task = progress.add_task("starting", total=None)
-        report = train_model(
-            sources,
-            tree=tree,
-            project=folder,
-            model_dir=_model_dir(folder, model_path),
+        facts = train_project(
+            feeds,
+            project=project_dir(project),
+            tree_version=tree_version,
             label_column=label_column,
-            model_options={"classifier": classifier},
-            extra_examples=reviewed,
+            classifier=classifier,
+            model_dir=model_path,
+            with_reviews=with_reviews,
             on_stage=lambda text: progress.update(task, description=text),
         )
-    facts = report.to_dict()
-    facts["reviewed_examples"] = len(reviewed)
     if as_json:
         echo_json(facts)
         return
@@ -144,7 +90,9 @@ def train_command(
         f"(tree version {facts['tree_version']})"
     )
     console.print(f"  validation products  {facts['products_valid']:,}")
-    console.print(f"  reviewed examples    {len(reviewed):,} (from the project store)")
+    console.print(
+        f"  reviewed examples    {facts['reviewed_examples']:,} (from the project store)"
+    )
     console.print(f"  validation accuracy  {metrics.get('valid_accuracy', 0):.3f}")
     console.print(
         f"  ECE (15 bins)        {metrics.get('valid_ece_before_calibration', 0):.3f} before "
@@ -221,22 +169,6 @@ def map_command(
     Per-feed rules apply first (one per line, e.g. path contains "Bottines" => 1523; # comments),
     then the trained model, or the tree's own keywords when no model is trained yet.
     """
-    tree = load_default_tree(tree_version)
-    folder = project_dir(project)
-    model_folder = _model_dir(folder, model_path)
-    if model_path is not None or (model_folder / MANIFEST).exists():
-        model, manifest = load_model(model_folder, tree)
-        mapper = Mapper(tree, model, consensus_weight=float(manifest.get("consensus_weight", 0.0)))
-    else:
-        mapper = Mapper(tree, None)
-    if rules_file is None:
-        default_rules = subfolder(folder, "rules", create=False) / f"{feed_stem(feed)}.rules"
-        rules_file = default_rules if default_rules.exists() else None
-    rules = load_rules(rules_file, tree=tree) if rules_file is not None else RuleSet([])
-
-    source = open_profiled_feed(feed, folder)
-    error: InputError | None = None
-    summary = MapSummary()
     with Progress(
         SpinnerColumn(),
         TextColumn("mapping {task.description}"),
@@ -247,30 +179,24 @@ def map_command(
         disable=not err_console.is_terminal,
     ) as progress:
         task = progress.add_task(feed.name, total=None)
-        try:
-            summary = map_feed(
-                source,
-                out_dir,
-                mapper=mapper,
-                rules=rules,
-                threshold=backoff_threshold,
-                format=output_format,
-                workers=workers,
-                on_progress=lambda read: progress.update(task, completed=read),
-            )
-        except InputError as fatal:
-            error = fatal
-    facts: dict[str, Any] = {
-        "feed": str(feed),
-        "model": str(model_folder) if mapper.model is not None else None,
-        **summary.to_dict(),
-    }
+        result = map_project_feed(
+            feed,
+            out_dir,
+            project=project_dir(project),
+            tree_version=tree_version,
+            model_dir=model_path,
+            rules_file=rules_file,
+            backoff_threshold=backoff_threshold,
+            format=output_format,
+            workers=workers,
+            on_progress=lambda read: progress.update(task, completed=read),
+        )
     if as_json:
-        echo_json(facts)
+        echo_json(result.facts)
     else:
-        _render_map(facts)
-    if error is not None:
-        raise error
+        _render_map(result.facts)
+    if result.error is not None:
+        raise result.error
 
 
 def _render_map(facts: dict[str, Any]) -> None:

@@ -4,7 +4,8 @@ spreadsheet) and ``catmap demo`` (the whole job on the invented demo world)."""
 
 from __future__ import annotations
 
-import time
+from collections.abc import Callable, Iterator
+from contextlib import AbstractContextManager, contextmanager
 from pathlib import Path
 from typing import Any
 
@@ -17,39 +18,18 @@ from rich.table import Table
 from catmap.cli._render import console, echo_json, err_console, json_option
 from catmap.cli._render import project_option as _project_option
 from catmap.decide.threshold import DEFAULT_DELTA, DEFAULT_MAX_ERROR
-from catmap.errors import ModelNotTrained
 from catmap.feeds.writers import FORMATS
-from catmap.jobs.decisions import export_decisions, import_decisions
-from catmap.jobs.export import export_feed
-from catmap.jobs.onboard import (
-    DEFAULT_AUDIT_SHARE,
-    OnboardOptions,
-    OnboardSummary,
-    calibration_sources,
-    check_against_gold,
-    default_model_dir,
-    load_extractor,
-    onboard_feed,
-)
+from catmap.jobs.decisions import export_project_decisions, import_project_decisions
+from catmap.jobs.demo import run_demo
+from catmap.jobs.export import export_project
+from catmap.jobs.onboard import DEFAULT_AUDIT_SHARE, OnboardOptions, onboard_feed, project_tree
+from catmap.jobs.status import project_status
 from catmap.project import project_dir
-from catmap.store import Store, store_path
-from catmap.tree.taxonomy import CategoryTree, load_default_tree
 
 
 def _say(*objects: Any) -> None:
     """Print without wrapping long lines: paths stay whole and can be copied."""
     console.print(*objects, soft_wrap=True)
-
-
-def _tree_for(project: Path) -> CategoryTree:
-    """The tree of the project's model (version 1 when there is no model yet)."""
-    from catmap.classify.storage import read_manifest
-
-    try:
-        version = str(read_manifest(default_model_dir(project)).get("tree_version", "1"))
-    except ModelNotTrained:
-        version = "1"
-    return load_default_tree(version)
 
 
 def _progress() -> Progress:
@@ -64,18 +44,16 @@ def _progress() -> Progress:
     )
 
 
-def _onboard_with_progress(
-    feed: Path, project: Path, tree: CategoryTree, options: OnboardOptions, **more: Any
-) -> OnboardSummary:
+@contextmanager
+def _onboarding_progress(feed: Path) -> Iterator[Callable[[str, int], None]]:
+    """A progress line on stderr while a feed is onboarded: its stage and records read."""
     with _progress() as progress:
         task = progress.add_task(feed.name, total=None)
 
         def show(stage: str, count: int) -> None:
             progress.update(task, description=f"{feed.name}: {stage}", completed=count)
 
-        return onboard_feed(
-            feed, project=project, tree=tree, options=options, on_progress=show, **more
-        )
+        yield show
 
 
 # -- onboard ----------------------------------------------------------------------------------
@@ -146,7 +124,7 @@ def onboard_command(
     again on the same feed updates the store in place (reviewed mappings are kept).
     """
     folder = project_dir(project)
-    tree = _tree_for(folder)
+    tree = project_tree(folder)
     options = OnboardOptions(
         max_error=max_error,
         delta=1 - confidence,
@@ -154,7 +132,10 @@ def onboard_command(
         rules=rules,
         validation_feed=validation_feed or None,
     )
-    summary = _onboard_with_progress(feed, folder, tree, options)
+    with _onboarding_progress(feed) as show:
+        summary = onboard_feed(
+            feed, project=folder, tree=tree, options=options, on_progress=show
+        )
     facts = summary.to_dict()
     if as_json:
         echo_json(facts)
@@ -219,40 +200,6 @@ def _render_onboard(facts: dict[str, Any]) -> None:
 # -- status -----------------------------------------------------------------------------------
 
 
-def _status_facts(store: Store, feed: str | None, confidence: float) -> list[dict[str, Any]]:
-    names = [feed] if feed else [record.name for record in store.feeds()]
-    out = []
-    for name in names:
-        status = store.feed_status(name, confidence=confidence)
-        error = status.audit_error
-        out.append(
-            {
-                "feed": name,
-                "read": status.read,
-                "kept": status.kept,
-                "rejected": status.rejected,
-                "products": status.products,
-                "accepted": status.accepted + status.audit,
-                "queued": status.queued,
-                "reviewed": status.reviewed,
-                "open_items": status.open_items + status.claimed_items,
-                "done_items": status.done_items,
-                "audit_checked": status.audit_checked,
-                "audit_wrong": status.audit_wrong,
-                "audit_error": None
-                if error is None
-                else {
-                    "rate": error.rate,
-                    "low": error.low,
-                    "high": error.high,
-                    "confidence": error.confidence,
-                    "text": error.describe(),
-                },
-            }
-        )
-    return out
-
-
 @click.command("status")
 @_project_option
 @click.option("--feed", default=None, help="Only this feed (its name: the file stem).")
@@ -263,21 +210,13 @@ def status_command(project: str | None, feed: str | None, as_json: bool) -> None
     The audited error is the share of reviewed audit samples that were wrong, with its exact
     (Clopper-Pearson) 95% interval: the real error of the auto-accepted part.
     """
-    folder = project_dir(project)
-    path = store_path(folder)
-    if not path.exists():
-        from catmap.errors import StoreError
-
-        raise StoreError(
-            "no project store here", path=path, hint="run `catmap onboard FEED` first"
-        )
-    with Store.open(path) as store:
-        feeds = _status_facts(store, feed, 0.95)
+    facts = project_status(project_dir(project), feed)
     if as_json:
-        echo_json({"store": str(path), "feeds": feeds})
+        echo_json(facts)
         return
+    feeds = facts["feeds"]
     table = Table(
-        title=f"Feeds in {escape(str(path))}",
+        title=f"Feeds in {escape(facts['store'])}",
         title_justify="left",
         box=box.SIMPLE_HEAD,
         padding=(0, 1),
@@ -336,14 +275,7 @@ def export_command(
 ) -> None:
     """Write each feed's enriched products (node, confidence, status, attributes), its rejects
     and the accounting of its last run."""
-    folder = project_dir(project)
-    tree = _tree_for(folder)
-    with Store.open(store_path(folder)) as store:
-        names = [feed] if feed else [record.name for record in store.feeds()]
-        results = [
-            export_feed(store, name, out_dir, tree=tree, project=folder, format=output_format)
-            for name in names
-        ]
+    results = export_project(project_dir(project), out_dir, feed=feed, format=output_format)
     exported = [r.to_dict() for r in results]
     if as_json:
         echo_json({"out": str(out_dir), "feeds": exported})
@@ -392,10 +324,7 @@ def decisions_export_command(
 ) -> None:
     """Write the review queue to a CSV: open items with empty columns to fill (reviewer_node,
     action, brand, who, age, note), and the items already decided."""
-    folder = project_dir(project)
-    tree = _tree_for(folder)
-    with Store.open(store_path(folder)) as store:
-        counts = export_decisions(store, out, tree=tree, feed=feed)
+    counts = export_project_decisions(project_dir(project), out, feed=feed)
     if as_json:
         echo_json(counts.to_dict())
         return
@@ -425,17 +354,9 @@ def decisions_import_command(
 ) -> None:
     """Apply the filled rows of a decisions CSV (each one audited); bad rows are reported with
     their line and reason and written to a rejects CSV, good rows are applied."""
-    folder = project_dir(project)
-    tree = _tree_for(folder)
-    with Store.open(store_path(folder)) as store:
-        result = import_decisions(
-            store,
-            file,
-            tree=tree,
-            reviewer=reviewer,
-            rejects=rejects,
-            extractor=load_extractor(folder, tree),
-        )
+    result = import_project_decisions(
+        project_dir(project), file, reviewer=reviewer, rejects=rejects
+    )
     facts = result.to_dict()
     if as_json:
         echo_json(facts)
@@ -454,8 +375,19 @@ def decisions_import_command(
 # -- demo -------------------------------------------------------------------------------------
 
 
-def _default_world() -> Path:
-    return Path(__file__).resolve().parent.parent.parent / "feeds_demo"
+class _DemoScreen:
+    """Shows on stderr what the demo does: its world, a training spinner, onboarding progress."""
+
+    def world(self, root: Path) -> None:
+        err_console.print(f"demo world: {root}")
+
+    @contextmanager
+    def training(self) -> Iterator[Callable[[str], None]]:
+        with err_console.status("training on the demo reference catalog") as status:
+            yield lambda text: status.update(f"training: {text}")
+
+    def onboarding(self, feed: Path) -> AbstractContextManager[Callable[[str, int], None]]:
+        return _onboarding_progress(feed)
 
 
 @click.command("demo")
@@ -492,68 +424,13 @@ def demo_command(
     split and on the labelled feed of Oskelund, a retailer the model never trained on (the
     feeds to onboard come from new retailers); the strictest of the two is used.
     """
-    from catmap.classify.training import train_model
-    from catmap.demo import ensure_demo_world
-    from catmap.evaluate.run import read_gold_csv
-
-    started = time.perf_counter()
-    folder = project_dir(project)
-    root = world or _default_world()
-    err_console.print(f"demo world: {root}")
-    paths = ensure_demo_world(root)
-    tree = load_default_tree(1)
-    model_dir = default_model_dir(folder)
-    trained: dict[str, Any] | None = None
-    if not (model_dir / "manifest.json").exists():
-        with err_console.status("training on the demo reference catalog") as status:
-            report = train_model(
-                [paths.reference],
-                tree=tree,
-                project=folder,
-                model_dir=model_dir,
-                on_stage=lambda text: status.update(f"training: {text}"),
-            )
-        trained = report.to_dict()
-    from catmap.classify.storage import load_model
-    from catmap.jobs.onboard import FeedMapper
-
-    model, manifest = load_model(model_dir, tree)
-    # New feeds come from new retailers: the threshold must also hold on labelled products
-    # of a retailer the model never saw (see catmap.jobs.onboard.accept_threshold).
-    calibration = list(validation_feed) or [paths.reference] + [
-        paths.feeds[name] for name in ("oskelund_labelled",) if name in paths.feeds
-    ]
-    validation = calibration_sources(
-        FeedMapper(model, manifest, tree), model_dir, project=folder,
-        feeds=calibration, as_default=True,
+    facts = run_demo(
+        project_dir(project),
+        world=world,
+        max_error=max_error,
+        validation_feed=validation_feed,
+        reporter=_DemoScreen(),
     )
-    options = OnboardOptions(max_error=max_error)
-    feeds: list[dict[str, Any]] = []
-    export_dir = folder / "export"
-    for name, gold_file in paths.gold.items():
-        summary = _onboard_with_progress(
-            paths.feeds[name], folder, tree, options, validation=validation
-        )
-        gold = {pid: g.node for pid, g in read_gold_csv(gold_file).items()}
-        with Store.open(store_path(folder)) as store:
-            check = check_against_gold(store, summary.feed, gold)
-            exported = export_feed(store, summary.feed, export_dir, tree=tree, project=folder)
-        feeds.append(
-            {
-                **summary.to_dict(),
-                "gold": check.to_dict(),
-                "export": exported.to_dict(),
-            }
-        )
-    facts = {
-        "project": str(folder),
-        "world": str(root),
-        "trained": trained,
-        "feeds": feeds,
-        "export": str(export_dir),
-        "seconds": round(time.perf_counter() - started, 1),
-        "review_command": f"catmap review --project {folder}",
-    }
     if as_json:
         echo_json(facts)
         return

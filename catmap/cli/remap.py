@@ -15,21 +15,15 @@ from rich.markup import escape
 
 from catmap.cli._render import console, echo_json, json_option, model_option
 from catmap.cli._render import project_option as _project_option
-from catmap.errors import InputError, StoreError
-from catmap.jobs.onboard import default_model_dir, load_extractor
 from catmap.jobs.remap import (
     RemapReport,
     finalise_remap,
-    latest_remap,
-    open_tree,
-    remap_store,
+    open_project_store,
+    project_remap_state,
+    remap_project,
     rollback_remap,
-    scorer_for_project,
-    stored_tree_versions,
 )
 from catmap.project import project_dir
-from catmap.store import Store, store_path
-from catmap.tree.diff import load_crosswalk
 
 
 def _actor() -> str:
@@ -37,31 +31,6 @@ def _actor() -> str:
         return getpass.getuser()
     except (KeyError, OSError):  # no login name (e.g. a container without a passwd entry)
         return "catmap"
-
-
-def _open_store(project: str | None) -> Store:
-    folder = project_dir(project)
-    path = store_path(folder)
-    if not path.is_file():
-        raise StoreError(f"no project store in {folder}: run `catmap onboard FEED` first")
-    return Store.open(path)
-
-
-def _old_version(store: Store, new_version: str) -> str:
-    versions = {v for v in stored_tree_versions(store) if v != new_version}
-    if not versions:
-        raise StoreError(
-            f"no stored mapping is on another tree version than {new_version}",
-            path=store.path,
-            hint="nothing to remap",
-        )
-    known = sorted(v for v in versions if v)
-    if len(known) > 1:
-        raise InputError(
-            f"the store holds mappings of tree versions {', '.join(known)}",
-            hint="say which to move with --from",
-        )
-    return known[0] if known else "1"
 
 
 def render_report(facts: dict[str, Any]) -> None:
@@ -105,113 +74,111 @@ def render_report(facts: dict[str, Any]) -> None:
         )
 
 
+@click.command("remap")
+@click.option("--to", "to", required=True, help="New tree: a version number or a tree file.")
+@click.option(
+    "--from",
+    "from_",
+    default=None,
+    help="Tree the stored mappings use (default: the version recorded with them).",
+)
+@click.option(
+    "--crosswalk",
+    "crosswalk_file",
+    default=None,
+    type=click.Path(exists=True, dir_okay=False, path_type=Path),
+    help="Crosswalk file to use (default: computed by comparing the two trees).",
+)
+@click.option(
+    "--min-confidence",
+    type=click.FloatRange(0.0, 1.0),
+    default=None,
+    help="Accept threshold for re-scored mappings (default: each feed's onboarding one).",
+)
+@model_option("Model folder (default: <project>/models/current).")
+@_project_option
+@json_option
+def remap_command(
+    to: str,
+    from_: str | None,
+    crosswalk_file: Path | None,
+    min_confidence: float | None,
+    model_path: Path | None,
+    project: str | None,
+    as_json: bool,
+) -> None:
+    """Move every stored mapping onto a new version of the category tree.
+
+    Renamed, moved, merged and unchanged nodes move as they are; products of split or
+    removed nodes are re-scored, and those below the accept threshold go back to review
+    (reason remap, grouped by old node). Keep the result with `catmap remap-finalise`
+    or undo it with `catmap remap-rollback`.
+    """
+    report = remap_project(
+        project_dir(project),
+        to,
+        from_=from_,
+        crosswalk_file=crosswalk_file,
+        min_confidence=min_confidence,
+        model_dir=model_path,
+        actor=_actor(),
+    )
+    facts = report.to_dict()
+    if as_json:
+        echo_json(facts)
+        return
+    render_report(facts)
+    console.print(
+        "Keep it with `catmap remap-finalise`, or undo it with `catmap remap-rollback`."
+    )
+
+
+@click.command("remap-report")
+@_project_option
+@json_option
+def remap_report_command(project: str | None, as_json: bool) -> None:
+    """Show what the last remap did, and whether it can still be rolled back."""
+    state = project_remap_state(project_dir(project))
+    facts = {**state.report.to_dict(), "state": state.state}
+    if as_json:
+        echo_json(facts)
+        return
+    render_report(facts)
+    console.print(f"  state                {state.state}")
+
+
+@click.command("remap-rollback")
+@_project_option
+@json_option
+def remap_rollback_command(project: str | None, as_json: bool) -> None:
+    """Undo the last remap: every mapping and review item goes back as it was."""
+    with open_project_store(project_dir(project)) as store:
+        restored = rollback_remap(store, actor=_actor())
+    if as_json:
+        echo_json({"mappings_restored": restored})
+        return
+    console.print(f"Rolled back: {restored:,} mappings restored.")
+
+
+@click.command("remap-finalise")
+@_project_option
+@json_option
+def remap_finalise_command(project: str | None, as_json: bool) -> None:
+    """Keep the last remap for good (the previous mappings are dropped)."""
+    with open_project_store(project_dir(project)) as store:
+        dropped = finalise_remap(store, actor=_actor())
+    if as_json:
+        echo_json({"previous_mappings_dropped": dropped})
+        return
+    console.print(f"Finalised: {dropped:,} previous mappings dropped; no rollback now.")
+
+
 def register(main: click.Group) -> None:
     """Add ``remap``, ``remap-report``, ``remap-rollback`` and ``remap-finalise``."""
-
-    @main.command("remap")
-    @click.option("--to", "to", required=True, help="New tree: a version number or a tree file.")
-    @click.option(
-        "--from",
-        "from_",
-        default=None,
-        help="Tree the stored mappings use (default: the version recorded with them).",
-    )
-    @click.option(
-        "--crosswalk",
-        "crosswalk_file",
-        default=None,
-        type=click.Path(exists=True, dir_okay=False, path_type=Path),
-        help="Crosswalk file to use (default: computed by comparing the two trees).",
-    )
-    @click.option(
-        "--min-confidence",
-        type=click.FloatRange(0.0, 1.0),
-        default=None,
-        help="Accept threshold for re-scored mappings (default: each feed's onboarding one).",
-    )
-    @model_option("Model folder (default: <project>/models/current).")
-    @_project_option
-    @json_option
-    def remap_command(
-        to: str,
-        from_: str | None,
-        crosswalk_file: Path | None,
-        min_confidence: float | None,
-        model_path: Path | None,
-        project: str | None,
-        as_json: bool,
-    ) -> None:
-        """Move every stored mapping onto a new version of the category tree.
-
-        Renamed, moved, merged and unchanged nodes move as they are; products of split or
-        removed nodes are re-scored, and those below the accept threshold go back to review
-        (reason remap, grouped by old node). Keep the result with `catmap remap-finalise`
-        or undo it with `catmap remap-rollback`.
-        """
-        new_tree = open_tree(to)
-        with _open_store(project) as store:
-            old_tree = open_tree(from_ or _old_version(store, str(new_tree.version)))
-            crosswalk = load_crosswalk(crosswalk_file) if crosswalk_file is not None else None
-            folder = model_path or default_model_dir(project_dir(project))
-            scorer = scorer_for_project(folder, old_tree, new_tree)
-            report = remap_store(
-                store,
-                old_tree,
-                new_tree,
-                crosswalk=crosswalk,
-                scorer=scorer,
-                min_confidence=min_confidence,
-                actor=_actor(),
-                extractor=load_extractor(project_dir(project), new_tree),
-            )
-        facts = report.to_dict()
-        if as_json:
-            echo_json(facts)
-            return
-        render_report(facts)
-        console.print(
-            "Keep it with `catmap remap-finalise`, or undo it with `catmap remap-rollback`."
-        )
-
-    @main.command("remap-report")
-    @_project_option
-    @json_option
-    def remap_report_command(project: str | None, as_json: bool) -> None:
-        """Show what the last remap did, and whether it can still be rolled back."""
-        with _open_store(project) as store:
-            state = latest_remap(store)
-        if state is None:
-            raise StoreError("no remap in this store", hint="run `catmap remap --to VERSION`")
-        facts = {**state.report.to_dict(), "state": state.state}
-        if as_json:
-            echo_json(facts)
-            return
-        render_report(facts)
-        console.print(f"  state                {state.state}")
-
-    @main.command("remap-rollback")
-    @_project_option
-    @json_option
-    def remap_rollback_command(project: str | None, as_json: bool) -> None:
-        """Undo the last remap: every mapping and review item goes back as it was."""
-        with _open_store(project) as store:
-            restored = rollback_remap(store, actor=_actor())
-        if as_json:
-            echo_json({"mappings_restored": restored})
-            return
-        console.print(f"Rolled back: {restored:,} mappings restored.")
-
-    @main.command("remap-finalise")
-    @_project_option
-    @json_option
-    def remap_finalise_command(project: str | None, as_json: bool) -> None:
-        """Keep the last remap for good (the previous mappings are dropped)."""
-        with _open_store(project) as store:
-            dropped = finalise_remap(store, actor=_actor())
-        if as_json:
-            echo_json({"previous_mappings_dropped": dropped})
-            return
-        console.print(f"Finalised: {dropped:,} previous mappings dropped; no rollback now.")
+    main.add_command(remap_command)
+    main.add_command(remap_report_command)
+    main.add_command(remap_rollback_command)
+    main.add_command(remap_finalise_command)
 
 
 __all__ = ["RemapReport", "register", "render_report"]

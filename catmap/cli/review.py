@@ -6,13 +6,10 @@ import getpass
 
 import click
 
-from catmap.attributes import BrandDictionary
-from catmap.attributes.brand import dictionary_in_use
 from catmap.cli._render import project_option
-from catmap.errors import StoreError
+from catmap.jobs.review import project_review_session
 from catmap.project import project_dir
 from catmap.review.session import ReviewSession
-from catmap.store import Store, store_path
 
 
 def _default_reviewer() -> str:
@@ -47,18 +44,9 @@ def register(main: click.Group) -> None:
         q; the next `catmap review` resumes on the item you left.
         """
         folder = project_dir(project)
-        path = store_path(folder)
-        if not path.is_file():
-            raise StoreError(f"no project store in {folder}: run `catmap onboard FEED` first")
-        name = reviewer or _default_reviewer()
-        with Store.open(path) as store:
-            if feed is not None:
-                store.feed(feed)  # an unknown feed fails here, with a hint
-            # A chosen node's who / age are read again with the project's brands, so that a
-            # brand's name is not read as an audience.
-            dictionary = dictionary_in_use(folder)
-            brands = BrandDictionary.from_csv(dictionary) if dictionary is not None else None
-            session = ReviewSession(store, name, feed=feed, brands=brands)
+        with project_review_session(
+            folder, reviewer or _default_reviewer(), feed=feed
+        ) as session:
             if session.next() is None:
                 where = f"feed {feed}" if feed else str(folder)
                 click.echo(f"The review queue of {where} is empty: nothing to review.")

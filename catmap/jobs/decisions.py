@@ -27,7 +27,7 @@ from catmap.errors import InputError, StoreError
 from catmap.feeds.writers import CsvWriter
 from catmap.records import AGE_VALUES, WHO_VALUES
 from catmap.review.follow import NodeFollower
-from catmap.store import DECISION_ACTIONS, NodeAttributes, Store
+from catmap.store import DECISION_ACTIONS, NodeAttributes, Store, store_path
 from catmap.tree.taxonomy import CategoryTree
 
 __all__ = [
@@ -37,7 +37,9 @@ __all__ = [
     "ExportCounts",
     "ImportResult",
     "export_decisions",
+    "export_project_decisions",
     "import_decisions",
+    "import_project_decisions",
 ]
 
 INPUT_COLUMNS = ("reviewer_node", "action", "brand", "who", "age", "note")
@@ -336,3 +338,43 @@ def import_decisions(
                 writer.write(bad)
         result.rejects_file = target
     return result
+
+
+def export_project_decisions(
+    project: str | Path, out: str | Path, *, feed: str | None = None
+) -> ExportCounts:
+    """Write a project's review queue to a CSV (see :func:`export_decisions`).
+
+    Node paths are read on the tree of the project's model.
+    """
+    from catmap.jobs.onboard import project_tree
+
+    tree = project_tree(project)
+    with Store.open(store_path(project)) as store:
+        return export_decisions(store, out, tree=tree, feed=feed)
+
+
+def import_project_decisions(
+    project: str | Path,
+    path: str | Path,
+    *,
+    reviewer: str,
+    rejects: str | Path | None = None,
+) -> ImportResult:
+    """Apply a filled decisions CSV to a project's store (see :func:`import_decisions`).
+
+    Node ids are checked against the tree of the project's model, and who / age are read again
+    with the project's brand dictionary.
+    """
+    from catmap.jobs.onboard import load_extractor, project_tree
+
+    tree = project_tree(project)
+    with Store.open(store_path(project)) as store:
+        return import_decisions(
+            store,
+            path,
+            tree=tree,
+            reviewer=reviewer,
+            rejects=rejects,
+            extractor=load_extractor(project, tree),
+        )

@@ -19,10 +19,17 @@ from catmap.attributes import RESTRICTION_CAUTION
 from catmap.feeds.writers import FORMATS, CsvWriter, JsonLinesWriter, RecordWriter
 from catmap.jobs.onboard import rejects_path
 from catmap.records import Product
-from catmap.store import Store, StoredMapping
+from catmap.store import Store, StoredMapping, store_path
 from catmap.tree.taxonomy import CategoryTree
 
-__all__ = ["EXPORT_COLUMNS", "ExportResult", "export_feed", "export_row", "export_status"]
+__all__ = [
+    "EXPORT_COLUMNS",
+    "ExportResult",
+    "export_feed",
+    "export_project",
+    "export_row",
+    "export_status",
+]
 
 EXPORT_COLUMNS = (
     "product_id",
@@ -236,3 +243,30 @@ def export_feed(
         json.dumps(accounting, indent=2, ensure_ascii=False) + "\n", encoding="utf-8"
     )
     return result
+
+
+def export_project(
+    project: str | Path, out_dir: str | Path, *, feed: str | None = None, format: str = "csv"
+) -> list[ExportResult]:
+    """Export one feed, or every feed, of a project's store (see :func:`export_feed`).
+
+    The nodes are read on the tree of the project's model.
+
+    Args:
+        project: the project folder.
+        out_dir: the output folder (created).
+        feed: only this feed (default: every feed).
+        format: ``csv``, ``jsonl`` or ``parquet``.
+
+    Returns:
+        What was written, one result per feed.
+    """
+    from catmap.jobs.onboard import project_tree
+
+    tree = project_tree(project)
+    with Store.open(store_path(project)) as store:
+        names = [feed] if feed else [record.name for record in store.feeds()]
+        return [
+            export_feed(store, name, out_dir, tree=tree, project=project, format=format)
+            for name in names
+        ]

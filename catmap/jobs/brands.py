@@ -1,0 +1,113 @@
+"""The brand dictionary grows: names that repeat in a feed but are unknown (candidates), and a
+brand added with its spellings (the facts ``catmap brands`` prints)."""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from pathlib import Path
+from typing import Any
+
+from catmap.attributes import BrandCandidates, BrandDictionary
+from catmap.attributes.brand import (
+    append_brand,
+    demo_dictionary_path,
+    dictionary_in_use,
+    project_dictionary_path,
+)
+from catmap.feeds.fieldmap import suggest_profile
+from catmap.feeds.ingest import FATAL_FEED_ERRORS, Accounting, iter_products
+from catmap.jobs._feed_profile import SAMPLE_SIZE, open_with_profile, saved_profile
+from catmap.project import profile_path
+from catmap.records import Product
+
+__all__ = ["accept_brand", "brand_candidates"]
+
+
+def brand_candidates(
+    feed: Path,
+    *,
+    project: Path,
+    min_count: int = 5,
+    retailers: Sequence[str] = (),
+    dictionary: Path | None = None,
+) -> dict[str, Any]:
+    """Return the names that repeat in a feed's brand field or leading title words but are
+    not in the brand dictionary.
+
+    The feed is read with its saved profile, or one suggested without saving it.
+
+    Args:
+        feed: the feed file.
+        project: the project folder.
+        min_count: names seen at least this many times.
+        retailers: the retailer's own names (never a candidate).
+        dictionary: the brand dictionary CSV (default: the project's, else the demo one).
+
+    Returns:
+        The facts: products read, the candidates with counts and example titles, and why
+        reading stopped early (None when it did not).
+    """
+    dictionary_path = dictionary_in_use(project, dictionary)
+    brands = BrandDictionary.from_csv(dictionary_path) if dictionary_path else BrandDictionary([])
+    profile = saved_profile(profile_path(project, feed))
+    opened = open_with_profile(feed, profile)
+    if profile is None:
+        profile = suggest_profile(opened.info, opened.sample(SAMPLE_SIZE))
+    collector = BrandCandidates(brands, retailer_names=tuple(retailers))
+    accounting = Accounting()
+    stopped: str | None = None
+    try:
+        for item in iter_products(opened, profile, accounting):
+            if isinstance(item, Product):
+                collector.add(item.brand, item.title)
+    except FATAL_FEED_ERRORS as error:
+        stopped = str(error)
+    found = collector.candidates(min_count)
+    return {
+        "feed": str(feed),
+        "dictionary": str(dictionary_path) if dictionary_path else None,
+        "products": accounting.kept,
+        "min_count": min_count,
+        "candidates": [
+            {"name": c.name, "count": c.count, "source": c.source, "examples": c.examples}
+            for c in found
+        ],
+        "stopped_early": stopped,
+    }
+
+
+def accept_brand(
+    name: str,
+    *,
+    project: Path,
+    variants: Sequence[str] = (),
+    departments: Sequence[str] = (),
+    dictionary: Path | None = None,
+) -> dict[str, Any]:
+    """Add a brand (with case, joined and legal-suffix spellings) to the brand dictionary.
+
+    The project's dictionary ``<project>/brands.csv`` is created from the demo one on first
+    use.
+
+    Args:
+        name: the brand's name.
+        project: the project folder.
+        variants: other spellings.
+        departments: department node ids the brand sells in.
+        dictionary: the brand dictionary CSV (default: the project's).
+
+    Returns:
+        The facts: the entry as saved, the dictionary, and whether it was created.
+    """
+    path = dictionary or project_dictionary_path(project)
+    created = not path.exists()
+    entry = append_brand(
+        path, name, variants=variants, departments=departments, seed_from=demo_dictionary_path()
+    )
+    return {
+        "brand": entry.name,
+        "variants": list(entry.variants),
+        "departments": list(entry.departments),
+        "dictionary": str(path),
+        "created": created,
+    }

@@ -1,0 +1,62 @@
+"""Map a labelled feed, compare with its gold labels and write the report (``report.html``
+with plots and ``metrics.json``), as ``catmap evaluate`` does."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any
+
+__all__ = ["EvaluationResult", "evaluate_and_report"]
+
+
+@dataclass(frozen=True, slots=True)
+class EvaluationResult:
+    """The evaluation report and the files it was written to."""
+
+    report: dict[str, Any]
+    html_path: Path
+    json_path: Path
+
+
+def evaluate_and_report(
+    labelled_feed: Path,
+    *,
+    project: Path,
+    gold_file: Path | None = None,
+    label_column: str = "gold_node",
+    model_dir: Path | None = None,
+    out_dir: Path | None = None,
+    split: str | None = None,
+    backoff_threshold: float = 0.5,
+    tree_version: str = "1",
+) -> EvaluationResult:
+    """Evaluate the mapping of a labelled feed and write its report.
+
+    Args:
+        labelled_feed: the feed with gold labels (or joined to ``gold_file``).
+        project: the project folder.
+        gold_file: gold labels CSV joined by product id (default: the feed's own columns).
+        label_column: column holding the gold node id.
+        model_dir: the model folder (default: the project's; none: keywords only).
+        out_dir: folder for the report (default: ``<project>/reports/<feed name>``).
+        split: evaluate only rows whose ``split`` column is this.
+        backoff_threshold: below this confidence, answer the deepest sure parent node.
+        tree_version: the category tree version.
+    """
+    from catmap.evaluate.report_html import write_report
+    from catmap.evaluate.run import evaluate_feed
+
+    report = evaluate_feed(
+        labelled_feed,
+        project=project,
+        gold_path=gold_file,
+        label_column=label_column,
+        model_folder=model_dir,
+        tree_version=tree_version,
+        split=split,
+        threshold=backoff_threshold,
+    )
+    target = out_dir or project / "reports" / labelled_feed.name.split(".")[0]
+    html_path, json_path = write_report(report, target)
+    return EvaluationResult(report, html_path, json_path)

@@ -1,0 +1,113 @@
+"""Map a feed to files: the project's model (or the tree's keywords when none is trained), the
+feed's rules first, then :func:`catmap.classify.mapping.map_feed` (the facts ``catmap map``
+prints)."""
+
+from __future__ import annotations
+
+from collections.abc import Callable
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any
+
+from catmap.classify.mapping import Mapper, MapSummary, map_feed
+from catmap.classify.rules import RuleSet, load_rules
+from catmap.classify.storage import MANIFEST, load_model
+from catmap.errors import InputError
+from catmap.feeds.profiled import open_profiled_feed
+from catmap.jobs.onboard import default_model_dir
+from catmap.project import feed_stem, subfolder
+from catmap.tree.taxonomy import CategoryTree, load_default_tree
+
+__all__ = ["MapResult", "map_project_feed", "project_mapper"]
+
+
+@dataclass(frozen=True, slots=True)
+class MapResult:
+    """What mapping a feed did.
+
+    Attributes:
+        facts: the summary's facts, with the feed and the model folder used (None: keywords).
+        error: the fatal feed error that stopped reading early (the records before it were
+            mapped and written), else None.
+    """
+
+    facts: dict[str, Any]
+    error: InputError | None
+
+
+def project_mapper(
+    project: Path, tree: CategoryTree, model_dir: Path | None = None
+) -> tuple[Mapper, Path]:
+    """Return the mapper of a project and its model folder.
+
+    A model folder given must hold a model; without one, the project's model is used when
+    trained, else the tree's own keywords (cold start).
+    """
+    folder = model_dir if model_dir is not None else default_model_dir(project)
+    if model_dir is not None or (folder / MANIFEST).exists():
+        model, manifest = load_model(folder, tree)
+        consensus = float(manifest.get("consensus_weight", 0.0))
+        return Mapper(tree, model, consensus_weight=consensus), folder
+    return Mapper(tree, None), folder
+
+
+def map_project_feed(
+    feed: Path,
+    out_dir: Path,
+    *,
+    project: Path,
+    tree_version: str = "1",
+    model_dir: Path | None = None,
+    rules_file: Path | None = None,
+    backoff_threshold: float = 0.5,
+    format: str = "jsonl",
+    workers: int = 2,
+    on_progress: Callable[[int], None] | None = None,
+) -> MapResult:
+    """Map every product of a feed and write the mappings, rejects and accounting.
+
+    Args:
+        feed: the feed file.
+        out_dir: folder for mappings, rejects and ``accounting.json``.
+        project: the project folder (profile, rules, model).
+        tree_version: version of the shared category tree.
+        model_dir: the model folder (default: the project's, keywords only when none).
+        rules_file: rules applied first (default: ``<project>/rules/<feed name>.rules`` if it
+            exists).
+        backoff_threshold: below this confidence, answer the deepest sure parent node.
+        format: file format of the mappings.
+        workers: processes computing probabilities.
+        on_progress: told the records read so far.
+
+    Returns:
+        The facts, and the fatal feed error if reading stopped early.
+    """
+    tree = load_default_tree(tree_version)
+    mapper, model_folder = project_mapper(project, tree, model_dir)
+    if rules_file is None:
+        default_rules = subfolder(project, "rules", create=False) / f"{feed_stem(feed)}.rules"
+        rules_file = default_rules if default_rules.exists() else None
+    rules = load_rules(rules_file, tree=tree) if rules_file is not None else RuleSet([])
+
+    source = open_profiled_feed(feed, project)
+    error: InputError | None = None
+    summary = MapSummary()
+    try:
+        summary = map_feed(
+            source,
+            out_dir,
+            mapper=mapper,
+            rules=rules,
+            threshold=backoff_threshold,
+            format=format,
+            workers=workers,
+            on_progress=on_progress,
+        )
+    except InputError as fatal:
+        error = fatal
+    facts: dict[str, Any] = {
+        "feed": str(feed),
+        "model": str(model_folder) if mapper.model is not None else None,
+        **summary.to_dict(),
+    }
+    return MapResult(facts, error)

@@ -1,0 +1,84 @@
+"""Where each feed of a project stands: rows read and kept, accepted, queued, reviewed, and the
+audited error of the auto-accepted part (the facts ``catmap status`` prints)."""
+
+from __future__ import annotations
+
+from pathlib import Path
+from typing import Any
+
+from catmap.errors import StoreError
+from catmap.store import Store, store_path
+
+__all__ = ["AUDIT_CONFIDENCE", "feed_status_facts", "project_status"]
+
+# Confidence of the exact (Clopper-Pearson) interval around the audited error.
+AUDIT_CONFIDENCE = 0.95
+
+
+def feed_status_facts(
+    store: Store, feed: str | None = None, confidence: float = AUDIT_CONFIDENCE
+) -> list[dict[str, Any]]:
+    """Return the status facts of one feed, or of every feed in the store.
+
+    Args:
+        store: the project store.
+        feed: only this feed (its name); default: every feed.
+        confidence: confidence of the interval around the audited error.
+
+    Returns:
+        One dict per feed, JSON-ready.
+    """
+    names = [feed] if feed else [record.name for record in store.feeds()]
+    out = []
+    for name in names:
+        status = store.feed_status(name, confidence=confidence)
+        error = status.audit_error
+        out.append(
+            {
+                "feed": name,
+                "read": status.read,
+                "kept": status.kept,
+                "rejected": status.rejected,
+                "products": status.products,
+                "accepted": status.accepted + status.audit,
+                "queued": status.queued,
+                "reviewed": status.reviewed,
+                "open_items": status.open_items + status.claimed_items,
+                "done_items": status.done_items,
+                "audit_checked": status.audit_checked,
+                "audit_wrong": status.audit_wrong,
+                "audit_error": None
+                if error is None
+                else {
+                    "rate": error.rate,
+                    "low": error.low,
+                    "high": error.high,
+                    "confidence": error.confidence,
+                    "text": error.describe(),
+                },
+            }
+        )
+    return out
+
+
+def project_status(
+    project: str | Path, feed: str | None = None, *, confidence: float = AUDIT_CONFIDENCE
+) -> dict[str, Any]:
+    """Return where each feed of a project stands: ``{"store": path, "feeds": [...]}``.
+
+    Args:
+        project: the project folder.
+        feed: only this feed (its name); default: every feed.
+        confidence: confidence of the interval around the audited error.
+
+    Raises:
+        StoreError: the project has no store yet.
+    """
+    path = store_path(project)
+    if not path.exists():
+        raise StoreError(
+            "no project store here", path=path, hint="run `catmap onboard FEED` first"
+        )
+    with Store.open(path) as store:
+        feeds = feed_status_facts(store, feed, confidence)
+    return {"store": str(path), "feeds": feeds}
