@@ -3,7 +3,6 @@
 from __future__ import annotations
 
 from collections.abc import Callable, Mapping
-from pathlib import Path
 from typing import Any, TypeVar
 
 import click
@@ -12,13 +11,13 @@ from rich.text import Text
 from rich.tree import Tree
 
 from catmap.cli._render import console, echo_json, json_option
-from catmap.errors import UnknownNode
 from catmap.tree.taxonomy import (
     CategoryTree,
     Node,
     default_tree_path,
     load_default_tree,
     load_tree,
+    open_tree,
     summarize_tree,
 )
 
@@ -55,20 +54,6 @@ def _open_tree(tree_file: str | None, tree_version: int) -> CategoryTree:
     if tree_file is not None:
         return load_tree(tree_file)
     return load_default_tree(tree_version)
-
-
-def _resolve_node(tree: CategoryTree, text: str) -> Node:
-    """Find a node by id, or by a path of names separated by '>'."""
-    text = text.strip()
-    if text in tree:
-        return tree[text]
-    if text.isdigit():
-        raise UnknownNode(
-            f"no node with id '{text}' in tree version {tree.version}",
-            path=tree.path,
-            hint="find ids with `catmap tree search TEXT`",
-        )
-    return tree.find_path(text)
 
 
 @click.group("tree")
@@ -183,7 +168,7 @@ def show_command(node: str | None, depth: int, tree_version: int, tree_file: str
     Without NODE the departments are shown; use --depth to go deeper.
     """
     tree = _open_tree(tree_file, tree_version)
-    root = _resolve_node(tree, node).id if node is not None else None
+    root = tree.resolve(node).id if node is not None else None
     console.print(render_tree(tree, root, depth))
 
 
@@ -229,7 +214,7 @@ def search_command(
     from 0 to 100.
     """
     tree = _open_tree(tree_file, tree_version)
-    under_id = _resolve_node(tree, under).id if under is not None else None
+    under_id = tree.resolve(under).id if under is not None else None
     matches = tree.search_matches(text, limit=limit, under=under_id, min_score=min_score)
     rows = [
         {
@@ -266,14 +251,6 @@ def search_command(
     console.print(table)
 
 
-def _tree_from_argument(text: str) -> CategoryTree:
-    """A tree file, or a version number of the shared tree ("1", "2", "v2")."""
-    stripped = text.strip()
-    if stripped.removeprefix("v").isdigit() and not Path(stripped).exists():
-        return load_tree(default_tree_path(stripped))
-    return load_tree(stripped)
-
-
 @tree_group.command("diff")
 @click.argument("old")
 @click.argument("new")
@@ -293,7 +270,7 @@ def diff_command(old: str, new: str, out: str | None, as_json: bool) -> None:
     """
     from catmap.tree.diff import diff_trees, save_crosswalk
 
-    old_tree, new_tree = _tree_from_argument(old), _tree_from_argument(new)
+    old_tree, new_tree = open_tree(old), open_tree(new)
     crosswalk = diff_trees(old_tree, new_tree)
     if out is not None:
         save_crosswalk(crosswalk, out)

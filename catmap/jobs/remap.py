@@ -65,7 +65,7 @@ from catmap.jobs._remap_record import (
 from catmap.jobs._remap_scoring import AttributeFollower, RemapScorer, scorer_for_project
 from catmap.store import Store, store_path
 from catmap.tree.diff import Crosswalk, diff_trees
-from catmap.tree.taxonomy import CategoryTree, load_default_tree, load_tree
+from catmap.tree.taxonomy import CategoryTree, open_tree
 
 __all__ = [
     "BATCH_SIZE",
@@ -90,19 +90,6 @@ __all__ = [
     "stored_tree_versions",
     "write_remapped_catalog",
 ]
-
-
-def open_tree(version_or_file: str) -> CategoryTree:
-    """Return a tree from a file path, or the shared tree of that version ("2")."""
-    path = Path(version_or_file)
-    if path.is_file():
-        return load_tree(path)
-    if not version_or_file.strip().isdigit():
-        raise InputError(
-            f"'{version_or_file}' is neither a tree file nor a tree version",
-            hint="give a version number such as 2, or the path of a tree file",
-        )
-    return load_default_tree(version_or_file.strip())
 
 
 def stored_tree_versions(store: Store) -> dict[str, int]:

@@ -22,6 +22,7 @@ from catmap.tree.taxonomy import (
     dump_tree,
     load_default_tree,
     load_tree,
+    open_tree,
     summarize_tree,
 )
 from catmap.tree.treefile import Node, parse_audience
@@ -43,6 +44,7 @@ __all__ = [
     "load_crosswalk",
     "load_default_tree",
     "load_tree",
+    "open_tree",
     "parse_audience",
     "save_crosswalk",
     "summarize_tree",

@@ -41,6 +41,7 @@ __all__ = [
     "dump_tree",
     "load_default_tree",
     "load_tree",
+    "open_tree",
     "summarize_tree",
 ]
 
@@ -280,6 +281,23 @@ class CategoryTree:
         """Return the node's path as text, e.g. ``"Footwear > Boots > Ankle boots"``."""
         return sep.join(self.path_names(node_id))
 
+    def resolve(self, text: str) -> Node:
+        """Return the node named by an id, or by a path of names separated by ``>``.
+
+        Raises:
+            UnknownNode: no node has that id or path.
+        """
+        text = text.strip()
+        if text in self:
+            return self[text]
+        if text.isdigit():
+            raise UnknownNode(
+                f"no node with id '{text}' in tree version {self.version}",
+                path=self.path,
+                hint="find ids with `catmap tree search TEXT`",
+            )
+        return self.find_path(text)
+
     def find_path(self, path_text: str) -> Node:
         """Return the node at a path of names from a department down, separated by ``>``.
 
@@ -484,6 +502,22 @@ def load_default_tree(version: int | str = 1) -> CategoryTree:
     tree = load_tree(path)
     _DEFAULT_CACHE[key] = (stamp, tree)
     return tree
+
+
+def open_tree(version_or_file: str | Path) -> CategoryTree:
+    """Return the tree of a file, or the shared tree of a version ("2" or "v2").
+
+    An existing file wins over a version of the same name.
+
+    Raises:
+        TreeError: the file is missing or invalid, or the version has no tree file.
+    """
+    text = str(version_or_file).strip()
+    if Path(text).is_file():
+        return load_tree(text)
+    if text.removeprefix("v").isdigit():
+        return load_default_tree(text)
+    return load_tree(text)
 
 
 def summarize_tree(tree: CategoryTree) -> dict[str, Any]:
