@@ -451,17 +451,22 @@ def _group_by_retailer(rows: Sequence[tuple[Product, str]]) -> dict[str, list[tu
     return dict(sorted(groups.items()))
 
 
-def _map_by_retailer(
-    mapper: Any, rows: Sequence[tuple[Product, str]]
-) -> dict[str, tuple[list[str], list[Any]]]:
-    """Map each retailer's products together, as one feed is onboarded (path consensus)."""
-    out: dict[str, tuple[list[str], list[Any]]] = {}
+Mapped = dict[str, tuple[list[str], list[Any], list[dict[str, str]]]]
+
+
+def _map_by_retailer(mapper: Any, rows: Sequence[tuple[Product, str]]) -> Mapped:
+    """Map each retailer's products together, as one feed is onboarded (path consensus).
+
+    Returns:
+        Retailer → (gold leaves, mappings, the products' extra columns).
+    """
+    out: Mapped = {}
     for retailer, group in _group_by_retailer(rows).items():
         labels = [label for _, label in group]
         mappings: list[Any] = []
         for start in range(0, len(group), 20_000):
             mappings.extend(mapper.map([p for p, _ in group[start : start + 20_000]]))
-        out[retailer] = (labels, mappings)
+        out[retailer] = (labels, mappings, [dict(p.extra) for p, _ in group])
     return out
 
 
@@ -502,6 +507,43 @@ def _set_row(
     )
 
 
+# The unseen part's columns that say how a product was written (catmap.demo.unseen).
+STYLE_COLUMNS = ("gold_title_lang", "gold_title_style", "gold_synonyms", "gold_path_kind")
+
+
+def _print_slices(
+    tree: CategoryTree, parts: dict[str, Mapped], thresholds: tuple[float | None, float | None]
+) -> None:
+    """Accuracy and accepted error of both unseen parts together, by how products were written."""
+    rows = [
+        (label, mapping, extra)
+        for part, groups in parts.items()
+        if part.startswith("unseen")
+        for labels, mappings, extras in groups.values()
+        for label, mapping, extra in zip(labels, mappings, extras, strict=True)
+    ]
+    print("\nboth unseen parts, by how the product was written")
+    for column in STYLE_COLUMNS:
+        slices: dict[str, list[tuple[str, Any]]] = {}
+        for label, mapping, extra in rows:
+            values = extra.get(column, "") or "-"
+            # a style such as "short+code+caps" counts under each of its parts
+            for value in values.split("+") if column == "gold_title_style" else [values]:
+                slices.setdefault(value, []).append((label, mapping))
+        for value, members in sorted(slices.items(), key=lambda kv: -len(kv[1])):
+            r = _set_row(
+                f"{column.removeprefix('gold_')}={value}",
+                tree,
+                [g for g, _ in members],
+                [m for _, m in members],
+                thresholds,
+            )
+            print(
+                f"  {r.name:<32} {r.products:>8,} acc {r.accuracy:.3f}  cov A {r.coverage:.3f} "
+                f"err A {r.accepted_error:.4f}"
+            )
+
+
 def run_unseen(tree: CategoryTree, reference: Path, workdir: Path, max_error: float) -> None:
     """Train as ``catmap train`` does, then print seen vs unseen retailers side by side."""
     from catmap.classify.storage import load_model
@@ -530,7 +572,7 @@ def run_unseen(tree: CategoryTree, reference: Path, workdir: Path, max_error: fl
 
     unseen = ensure_unseen_world(ROOT / "feeds_demo")
     seen_rows = read_labelled([reference], tree=tree, project=project).test
-    parts: dict[str, dict[str, tuple[list[str], list[Any]]]] = {
+    parts: dict[str, Mapped] = {
         "seen (reference test split)": _map_by_retailer(mapper, seen_rows)
     }
     for part, path in unseen.labelled.items():
@@ -539,7 +581,7 @@ def run_unseen(tree: CategoryTree, reference: Path, workdir: Path, max_error: fl
 
     validation = [
         (label, m)
-        for labels, mappings in parts["unseen validation"].values()
+        for labels, mappings, _ in parts["unseen validation"].values()
         for label, m in zip(labels, mappings, strict=True)
     ]
     with_validation = accept_threshold(
@@ -574,12 +616,12 @@ def run_unseen(tree: CategoryTree, reference: Path, workdir: Path, max_error: fl
         return "-" if value != value else format(value, spec)
 
     for part, groups in parts.items():
-        labels = [g for lab, _ in groups.values() for g in lab]
-        mappings = [m for _, maps in groups.values() for m in maps]
+        labels = [g for lab, _, _ in groups.values() for g in lab]
+        mappings = [m for _, maps, _ in groups.values() for m in maps]
         rows = [_set_row(part, tree, labels, mappings, thresholds)]
         rows += [
             _set_row(f"  {retailer}", tree, lab, maps, thresholds)
-            for retailer, (lab, maps) in groups.items()
+            for retailer, (lab, maps, _) in groups.items()
         ]
         for r in rows:
             print(
@@ -588,6 +630,7 @@ def run_unseen(tree: CategoryTree, reference: Path, workdir: Path, max_error: fl
                 f"{f(r.coverage_with_validation, '.3f'):>6} "
                 f"{f(r.accepted_error_with_validation, '.4f'):>6}"
             )
+    _print_slices(tree, parts, thresholds)
     print(
         "\nacc: best leaf (before back-off); ECE: the mapping's confidence (back-off answers "
         "count as right when the gold leaf lies under them), 15 bins; cov / err: share "
@@ -740,6 +783,8 @@ def _speed_rounds(rows: list[Row]) -> None:
     pace drifts during the run (a shared or virtual machine) slows every model alike.
     """
     timed = [row for row in rows if row.speed is not None]
+    if not timed:
+        return
     speeds: dict[str, list[float]] = {row.name: [] for row in timed}
     for round_number in range(SPEED_REPEATS):
         for row in timed:

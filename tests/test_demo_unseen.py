@@ -173,4 +173,21 @@ def test_part_has_the_stated_styles(world: Path) -> None:
     retailers = {r.name for r in UNSEEN_RETAILERS}
     assert any(r["brand"] in retailers for r in rows)  # the retailer's own name as brand
     numeric = [r for r in rows if re.fullmatch(r"[\d\s>|/:›]+", r["retailer_category"])]
-    assert numeric
+    assert numeric and all(r["gold_path_kind"] == "numeric" for r in numeric)
+    assert {r["gold_title_lang"] for r in rows} == {"en", "fr", "de", "es", "it"}
+    assert all(r["title"].isupper() for r in rows if "+caps" in r["gold_title_style"])
+    bad = {"numeric", "code", "bucket", "other_department"}
+    assert 0.2 < sum(r["gold_path_kind"] in bad for r in rows) / len(rows) < 0.4
+
+
+def test_leaf_paths_name_the_gold_leaf(world: Path, tree: CategoryTree) -> None:
+    """A path of kind "leaf" ends with the gold leaf's name (in the retailer's path language)."""
+    from catmap.demo._products import leaf_infos
+
+    names = {leaf.id: {p[-1] for p in leaf.path.values()} for leaf in leaf_infos(tree)}
+    seps = {r.name: r.category_sep for r in UNSEEN_RETAILERS}
+    for part in PARTS:
+        for row in _rows(unseen_paths(world).labelled[part]):
+            if row["gold_path_kind"] == "leaf":
+                last = row["retailer_category"].split(seps[row["retailer"]])[-1]
+                assert last in names[row["gold_node"]], row

@@ -72,7 +72,8 @@ P_PARENT_TERM = 0.04
 UNSEEN_COLUMNS = ("product_id", "retailer", "title", "description", "brand",
                   "retailer_category", "price", "currency", "gtin", "gender", "colour", "size",
                   "url", "image_url", "availability", "gold_node", "gold_brand",
-                  "gold_brand_known", "gold_who", "gold_age", "gold_restriction")
+                  "gold_brand_known", "gold_who", "gold_age", "gold_restriction",
+                  "gold_title_lang", "gold_title_style", "gold_synonyms", "gold_path_kind")
 _TEMPLATES = ("by", "colon", "bar", "dash", "paren", "attribute_first", "short", "plain")
 
 
@@ -172,6 +173,11 @@ class UnseenProduct:
     gold_who: str
     gold_age: str
     gold_restriction: str
+    # How the product was written (not labels: for slicing the figures by style).
+    title_lang: str = ""
+    title_style: str = ""
+    synonyms: bool = False
+    path_kind: str = ""
 
     def row(self) -> list[str]:
         """The product as a row of :data:`UNSEEN_COLUMNS`."""
@@ -179,7 +185,8 @@ class UnseenProduct:
                 self.retailer_category, self.price, self.currency, self.gtin, self.gender,
                 self.colour, self.size, self.url, self.image_url, self.availability,
                 self.gold_node, self.gold_brand, "true" if self.gold_brand_known else "false",
-                self.gold_who, self.gold_age, self.gold_restriction]
+                self.gold_who, self.gold_age, self.gold_restriction, self.title_lang,
+                self.title_style, "true" if self.synonyms else "false", self.path_kind]
 
 
 @dataclass(frozen=True, slots=True)
@@ -330,23 +337,24 @@ class _Maker:
         langs = sorted(self.r.langs)
         return self.rng.choices(langs, weights=[self.r.langs[k] for k in langs])[0]
 
-    def _term(self, leaf: LeafInfo, lang: str, who: str, age: str) -> tuple[str, str]:
-        """The product words and the language they ended up in."""
+    def _term(self, leaf: LeafInfo, lang: str, who: str, age: str) -> tuple[str, str, bool]:
+        """The product words, the language they ended up in, whether synonyms replaced some."""
         rng = self.rng
         terms = leaf.parent_terms if rng.random() < P_PARENT_TERM else leaf.own_terms
         usable = [t for t in terms["en"] if _fits_audience(t, who, age)] or list(terms["en"])
         if lang == "it":
             italian = [t for t in (_italian(u) for u in usable) if t]
             if italian:
-                return rng.choice(italian), "it"
+                return rng.choice(italian), "it", False
             lang = "en"  # no Italian words for this product: the retailer writes English
         if lang == "en":
             term = rng.choice(usable)
+            swapped = None
             if rng.random() < self.r.synonym_p:
-                term = _with_synonyms(term, self.synonyms, rng) or term
-            return term, "en"
+                swapped = _with_synonyms(term, self.synonyms, rng)
+            return swapped or term, "en", swapped is not None
         own = [t for t in terms[lang] if _fits_audience(t, who, age)] or list(terms[lang])
-        return rng.choice(own), lang
+        return rng.choice(own), lang, False
 
     def _audience(self, leaf: LeafInfo) -> tuple[str, str]:
         who = self.rng.choice(leaf.who) if leaf.who else "not_applicable"
@@ -360,29 +368,30 @@ class _Maker:
             return self.rng.choice(U.ITALIAN_AUDIENCE[key])
         return self.rng.choice(V.AUDIENCE_WORDS[key][lang])
 
-    def _path(self, leaf: LeafInfo) -> str:
+    def _path(self, leaf: LeafInfo) -> tuple[str, str]:
+        """The category path and its kind (numeric, code, bucket, other_department, leaf)."""
         rng = self.rng
         sep = self.r.category_sep
         if rng.random() < self.r.bad_path_p:
             kind = rng.random()
             if kind < 0.3:
                 depth = rng.choice(U.NUMERIC_PATH_DEPTHS)
-                return sep.join(str(rng.randint(1, 40)) for _ in range(depth))
+                return sep.join(str(rng.randint(1, 40)) for _ in range(depth)), "numeric"
             if kind < 0.5:
                 return rng.choice(U.INTERNAL_CODES).format(
                     n=rng.randint(10, 9999), m=rng.randint(1, 99), A=rng.choice("ABCDKMQRTX"),
-                    B=rng.choice("ABCDKMQRTX"))
+                    B=rng.choice("ABCDKMQRTX")), "code"
             if kind < 0.75:
-                return rng.choice(U.BUCKETS[self.r.path_lang]).replace(" > ", sep)
+                return rng.choice(U.BUCKETS[self.r.path_lang]).replace(" > ", sep), "bucket"
             other = rng.choice([x for x in self.leaves if x.department != leaf.department])
-            return sep.join(other.path[self.r.path_lang])
+            return sep.join(other.path[self.r.path_lang]), "other_department"
         levels = leaf.path[self.r.path_lang]
         shape = rng.random()
         if shape < 0.5:
-            return sep.join(levels)
+            return sep.join(levels), "leaf"
         if shape < 0.8:
-            return sep.join((levels[0], levels[-1]))
-        return levels[-1]
+            return sep.join((levels[0], levels[-1])), "leaf"
+        return levels[-1], "leaf"
 
     def _brand(self, leaf: LeafInfo) -> tuple[Brand | None, bool]:
         rng = self.rng
@@ -402,7 +411,7 @@ class _Maker:
         r = self.r
         lang = self._lang()
         who, age = self._audience(leaf)
-        term, lang = self._term(leaf, lang, who, age)
+        term, lang, synonyms = self._term(leaf, lang, who, age)
         shop = r.path_lang
         key = None if who == "not_applicable" and age == "not_applicable" else (
             "unisex" if who == "not_applicable" else who,
@@ -437,15 +446,17 @@ class _Maker:
 
         brand, known = self._brand(leaf)
         brand_field, brand_title = self._brand_fields(brand)
-        title = self._title(lang, term, aud, shade, size, mod, brand_title)
+        title, style = self._title(lang, term, aud, shade, size, mod, brand_title)
         if rng.random() < r.sku_p:
             code = rng.choice(U.SKU_FORMS).format(
                 n=rng.randint(100, 99999), m=rng.randint(1, 99), c=rng.choice(("BLK", "WHT",
                                                                                "NVY", "01", "XL")),
                 A=rng.choice("ABCDEFHKLMRSTX"), B=rng.choice("ABCDEFHKLMRSTX"))
             title = f"{title} {code}" if rng.random() < 0.6 else f"{code} {title}"
+            style += "+code"
         if rng.random() < r.caps_p:
             title = title.upper()
+            style += "+caps"
         title = " ".join(title.split())
 
         description = ""
@@ -456,6 +467,7 @@ class _Maker:
         value = Decimal(str(round(rng.lognormvariate(0, 0.8) * leaf.profile.price_median, 2)
                             + 0.01))
         restriction = self.tree.restriction(leaf.id) or "none"
+        path, path_kind = self._path(leaf)
         availability = (rng.choice(U.ITALIAN_AVAILABILITY) if shop == "it"
                         else rng.choice(V.AVAILABILITY_WORDS[shop]))
         return UnseenProduct(
@@ -465,7 +477,7 @@ class _Maker:
             title=title,
             description=description,
             brand=brand_field,
-            retailer_category=self._path(leaf),
+            retailer_category=path,
             price=format_price(value, r.price_style, r.currency, rng.random() < 0.3),
             currency=r.currency,
             gtin=self._gtin(),
@@ -481,6 +493,10 @@ class _Maker:
             gold_who=who,
             gold_age=age,
             gold_restriction=restriction,
+            title_lang=lang,
+            title_style=style,
+            synonyms=synonyms,
+            path_kind=path_kind,
         )
 
     def _brand_fields(self, brand: Brand | None) -> tuple[str, str]:
@@ -499,14 +515,15 @@ class _Maker:
         return spelling, in_title
 
     def _title(self, lang: str, term: str, aud: str, shade: str, size: str, mod: str,
-               brand: str) -> str:
+               brand: str) -> tuple[str, str]:
+        """The title and the template it was written with."""
         rng = self.rng
         names = sorted(self.r.templates)
         template = rng.choices(names, weights=[self.r.templates[n] for n in names])[0]
         if template == "short":
             words = [term, aud] if lang in ("fr", "es", "it") else [aud, term]
             phrase = " ".join(w for w in words if w)
-            return f"{brand} {phrase}" if brand else phrase
+            return (f"{brand} {phrase}" if brand else phrase), template
         if lang in ("fr", "es", "it"):
             words = [term, mod, shade, aud]
         else:
@@ -518,11 +535,11 @@ class _Maker:
             head = " / ".join(lead)
             body = " ".join(w for w in (aud, term) if w)
             text = f"{head} - {body}" if head else body
-            return f"{text} ({brand})" if brand else text
+            return (f"{text} ({brand})" if brand else text), template
         if size and rng.random() < 0.5:
             phrase = f"{phrase} {size}"
         if not brand:
-            return phrase
+            return phrase, "plain"
         return {
             "by": f"{phrase} by {brand}",
             "colon": f"{brand}: {phrase}",
@@ -530,7 +547,7 @@ class _Maker:
             "dash": f"{brand} - {phrase}",
             "paren": f"{phrase} ({brand})",
             "plain": f"{brand} {phrase}",
-        }[template]
+        }[template], template
 
     def _gtin(self) -> str:
         rng = self.rng
