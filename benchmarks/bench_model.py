@@ -544,11 +544,17 @@ def _print_slices(
             )
 
 
-def run_unseen(tree: CategoryTree, reference: Path, workdir: Path, max_error: float) -> None:
-    """Train as ``catmap train`` does, then print seen vs unseen retailers side by side."""
+def run_unseen(
+    tree: CategoryTree, reference: Path, workdir: Path, max_error: float, unseen_seed: int = 0
+) -> None:
+    """Train as ``catmap train`` does, then print seen vs unseen retailers side by side.
+
+    Seed 0 is the part under ``feeds_demo/generated/unseen``; another seed builds the part
+    afresh in the working folder (a rerun of the generator).
+    """
     from catmap.classify.storage import load_model
     from catmap.classify.training import read_labelled, train_model
-    from catmap.demo.unseen import ensure_unseen_world
+    from catmap.demo.unseen import build_unseen_world, ensure_unseen_world
     from catmap.jobs.onboard import (
         FeedMapper,
         ValidationPredictions,
@@ -570,7 +576,10 @@ def run_unseen(tree: CategoryTree, reference: Path, workdir: Path, max_error: fl
     )
     default_choice = accept_threshold(sources, max_error=max_error)
 
-    unseen = ensure_unseen_world(ROOT / "feeds_demo")
+    if unseen_seed:
+        unseen = build_unseen_world(workdir / "unseen-demo", seed=unseen_seed, tree=tree)
+    else:
+        unseen = ensure_unseen_world(ROOT / "feeds_demo")
     seen_rows = read_labelled([reference], tree=tree, project=project).test
     parts: dict[str, Mapped] = {
         "seen (reference test split)": _map_by_retailer(mapper, seen_rows)
@@ -600,7 +609,10 @@ def run_unseen(tree: CategoryTree, reference: Path, workdir: Path, max_error: fl
     def t(value: float | None) -> str:
         return "none (accept nothing)" if value is None else f"{value:.3f}"
 
-    print(f"\nretailers seen in training vs never seen (max error {max_error:.0%})")
+    print(
+        f"\nretailers seen in training vs never seen (max error {max_error:.0%}, unseen part "
+        f"seed {unseen_seed})"
+    )
     print(f"threshold A (onboarding's default sources): {t(thresholds[0])}")
     for source in sources:
         print(f"    source: {source.source}")
@@ -693,6 +705,12 @@ def main(argv: list[str] | None = None) -> int:
         default=0.02,
         help="error rate allowed among auto-accepted mappings, for the unseen part (default 0.02)",
     )
+    parser.add_argument(
+        "--unseen-seed",
+        type=int,
+        default=0,
+        help="seed of the unseen-retailer part (default 0, the one in feeds_demo/generated/unseen)",
+    )
     args = parser.parse_args(argv)
     chosen = {name.strip() for name in args.only.split(",")}
     if args.no_baselines:
@@ -772,7 +790,7 @@ def main(argv: list[str] | None = None) -> int:
             _print_table(rows, (len(train), len(valid), len(test)))
         if "unseen" in chosen:
             print("running unseen ...", file=sys.stderr)
-            run_unseen(tree, source, workdir, args.max_error)
+            run_unseen(tree, source, workdir, args.max_error, args.unseen_seed)
     return 0
 
 
