@@ -8,6 +8,7 @@ from pathlib import Path
 
 import pytest
 
+from catmap.demo._blocklist import is_blocked
 from catmap.demo._products import audience_said
 from catmap.demo._unseen_vocab import ITALIAN_AUDIENCE
 from catmap.demo.unseen import (
@@ -82,6 +83,8 @@ def test_retailers_are_new(world: Path) -> None:
 
     old = {r.name for r in ALL_RETAILERS}
     assert old.isdisjoint(r.name for r in UNSEEN_RETAILERS)
+    assert not any(is_blocked(r.name) for r in UNSEEN_RETAILERS)
+    assert not any(is_blocked(word) for r in UNSEEN_RETAILERS for word in r.name.split())
 
 
 def test_unknown_brands_are_absent_from_the_brand_list(world: Path) -> None:
