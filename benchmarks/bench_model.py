@@ -15,8 +15,19 @@ catmap's is the full path from the CSV file (reading + normalising + the best cl
 scoring step ``catmap map`` uses, ``Mapper.top_k``); the baselines' is ``predict_proba`` on already
 extracted text; fastText's is ``predict`` per product in Python.
 
+Then, side by side, how the model holds on retailers it never saw (``--only unseen``): a model
+trained as ``catmap train`` trains it (reference catalog, train split; calibrated on the valid
+split), mapped as ``catmap onboard`` maps a feed (path consensus, back-off), one retailer at a
+time, on the reference test split (seen retailers) and on the demo's unseen-retailer part
+(:mod:`catmap.demo.unseen`: a validation part and a test part). Per set and per retailer:
+accuracy of the best leaf, ECE, and the auto-accepted share (coverage) and its error at the
+threshold onboarding would choose at ``--max-error`` (default 0.02) from its default
+calibration sources (the reference valid split and Oskelund's labelled feed), and at the
+threshold chosen with the unseen validation part as one more source.
+
 Usage:
     python benchmarks/bench_model.py                   # the 60k demo catalog
+    python benchmarks/bench_model.py --no-baselines    # catmap only, with the unseen retailers
     python benchmarks/bench_model.py --quick           # a small run (a few thousand products)
     python benchmarks/bench_model.py --train-size 1000000 --only catmap   # training-time check
 """
@@ -416,6 +427,230 @@ def run_fasttext(
     return row
 
 
+# -- retailers the model never saw ------------------------------------------------------------
+
+
+@dataclass
+class SetRow:
+    """The figures of one evaluation set (a part, or one retailer of it)."""
+
+    name: str
+    products: int
+    accuracy: float
+    ece: float
+    coverage: float
+    accepted_error: float
+    coverage_with_validation: float
+    accepted_error_with_validation: float
+
+
+def _group_by_retailer(rows: Sequence[tuple[Product, str]]) -> dict[str, list[tuple[Product, str]]]:
+    groups: dict[str, list[tuple[Product, str]]] = {}
+    for product, label in rows:
+        groups.setdefault(product.extra.get("retailer", "") or "-", []).append((product, label))
+    return dict(sorted(groups.items()))
+
+
+Mapped = dict[str, tuple[list[str], list[Any], list[dict[str, str]]]]
+
+
+def _map_by_retailer(mapper: Any, rows: Sequence[tuple[Product, str]]) -> Mapped:
+    """Map each retailer's products together, as one feed is onboarded (path consensus).
+
+    Returns:
+        Retailer → (gold leaves, mappings, the products' extra columns).
+    """
+    out: Mapped = {}
+    for retailer, group in _group_by_retailer(rows).items():
+        labels = [label for _, label in group]
+        mappings: list[Any] = []
+        for start in range(0, len(group), 20_000):
+            mappings.extend(mapper.map([p for p, _ in group[start : start + 20_000]]))
+        out[retailer] = (labels, mappings, [dict(p.extra) for p, _ in group])
+    return out
+
+
+def _set_row(
+    name: str,
+    tree: CategoryTree,
+    labels: Sequence[str],
+    mappings: Sequence[Any],
+    thresholds: tuple[float | None, float | None],
+) -> SetRow:
+    from catmap.jobs.onboard import acceptance_score
+
+    leaf = [m.alternatives[0].node_id if m.method == "backoff" else m.node_id for m in mappings]
+    right = [
+        m.node_id == g or (m.node_id in tree and any(a.id == m.node_id for a in tree.ancestors(g)))
+        for g, m in zip(labels, mappings, strict=True)
+    ]
+    scores = np.array([acceptance_score(m) for m in mappings])
+    wrong = np.array([m.node_id != g for g, m in zip(labels, mappings, strict=True)])
+
+    def accepted(threshold: float | None) -> tuple[float, float]:
+        if threshold is None:
+            return 0.0, float("nan")
+        taken = scores >= threshold
+        return float(taken.mean()), float(wrong[taken].mean()) if taken.any() else float("nan")
+
+    cov, err = accepted(thresholds[0])
+    cov_v, err_v = accepted(thresholds[1])
+    return SetRow(
+        name,
+        len(labels),
+        accuracy(list(labels), leaf),
+        expected_calibration_error([min(1.0, max(0.0, m.confidence)) for m in mappings], right),
+        cov,
+        err,
+        cov_v,
+        err_v,
+    )
+
+
+# The unseen part's columns that say how a product was written (catmap.demo.unseen).
+STYLE_COLUMNS = ("gold_title_lang", "gold_title_style", "gold_synonyms", "gold_path_kind")
+
+
+def _print_slices(
+    tree: CategoryTree, parts: dict[str, Mapped], thresholds: tuple[float | None, float | None]
+) -> None:
+    """Accuracy and accepted error of both unseen parts together, by how products were written."""
+    rows = [
+        (label, mapping, extra)
+        for part, groups in parts.items()
+        if part.startswith("unseen")
+        for labels, mappings, extras in groups.values()
+        for label, mapping, extra in zip(labels, mappings, extras, strict=True)
+    ]
+    print("\nboth unseen parts, by how the product was written")
+    for column in STYLE_COLUMNS:
+        slices: dict[str, list[tuple[str, Any]]] = {}
+        for label, mapping, extra in rows:
+            values = extra.get(column, "") or "-"
+            # a style such as "short+code+caps" counts under each of its parts
+            for value in values.split("+") if column == "gold_title_style" else [values]:
+                slices.setdefault(value, []).append((label, mapping))
+        for value, members in sorted(slices.items(), key=lambda kv: -len(kv[1])):
+            r = _set_row(
+                f"{column.removeprefix('gold_')}={value}",
+                tree,
+                [g for g, _ in members],
+                [m for _, m in members],
+                thresholds,
+            )
+            print(
+                f"  {r.name:<32} {r.products:>8,} acc {r.accuracy:.3f}  cov A {r.coverage:.3f} "
+                f"err A {r.accepted_error:.4f}"
+            )
+
+
+def run_unseen(
+    tree: CategoryTree, reference: Path, workdir: Path, max_error: float, unseen_seed: int = 0
+) -> None:
+    """Train as ``catmap train`` does, then print seen vs unseen retailers side by side.
+
+    Seed 0 is the part under ``feeds_demo/generated/unseen``; another seed builds the part
+    afresh in the working folder (a rerun of the generator).
+    """
+    from catmap.classify.storage import load_model
+    from catmap.classify.training import read_labelled, train_model
+    from catmap.demo.unseen import build_unseen_world, ensure_unseen_world
+    from catmap.jobs.onboard import (
+        FeedMapper,
+        ValidationPredictions,
+        accept_threshold,
+        acceptance_score,
+        calibration_sources,
+        default_calibration_feeds,
+    )
+
+    project = workdir / "unseen-project"
+    model_dir = project / "models" / "current"
+    started = time.perf_counter()
+    train_model([reference], tree=tree, project=project, model_dir=model_dir)
+    print(f"  trained in {time.perf_counter() - started:.0f} s", file=sys.stderr)
+    model, manifest = load_model(model_dir, tree)
+    mapper = FeedMapper(model, manifest, tree)
+    sources = calibration_sources(
+        mapper, model_dir, project=project, feeds=default_calibration_feeds()
+    )
+    default_choice = accept_threshold(sources, max_error=max_error)
+
+    if unseen_seed:
+        unseen = build_unseen_world(workdir / "unseen-demo", seed=unseen_seed, tree=tree)
+    else:
+        unseen = ensure_unseen_world(ROOT / "feeds_demo")
+    seen_rows = read_labelled([reference], tree=tree, project=project).test
+    parts: dict[str, Mapped] = {
+        "seen (reference test split)": _map_by_retailer(mapper, seen_rows)
+    }
+    for part, path in unseen.labelled.items():
+        data = read_labelled([path], tree=tree, project=project)
+        parts[f"unseen {part}"] = _map_by_retailer(mapper, data.train + data.valid + data.test)
+
+    validation = [
+        (label, m)
+        for labels, mappings, _ in parts["unseen validation"].values()
+        for label, m in zip(labels, mappings, strict=True)
+    ]
+    with_validation = accept_threshold(
+        [
+            *sources,
+            ValidationPredictions(
+                np.array([acceptance_score(m) for _, m in validation]),
+                np.array([m.node_id == label for label, m in validation], dtype=bool),
+                "unseen validation part",
+            ),
+        ],
+        max_error=max_error,
+    )
+    thresholds = (default_choice.threshold, with_validation.threshold)
+
+    def t(value: float | None) -> str:
+        return "none (accept nothing)" if value is None else f"{value:.3f}"
+
+    print(
+        f"\nretailers seen in training vs never seen (max error {max_error:.0%}, unseen part "
+        f"seed {unseen_seed})"
+    )
+    print(f"threshold A (onboarding's default sources): {t(thresholds[0])}")
+    for source in sources:
+        print(f"    source: {source.source}")
+    print(f"threshold B (A's sources + the unseen validation part): {t(thresholds[1])}")
+    header = (
+        f"{'set':<34} {'products':>8} {'acc':>6} {'ECE':>7} {'cov A':>6} {'err A':>6} "
+        f"{'cov B':>6} {'err B':>6}"
+    )
+    print(header)
+    print("-" * len(header))
+
+    def f(value: float, spec: str) -> str:
+        return "-" if value != value else format(value, spec)
+
+    for part, groups in parts.items():
+        labels = [g for lab, _, _ in groups.values() for g in lab]
+        mappings = [m for _, maps, _ in groups.values() for m in maps]
+        rows = [_set_row(part, tree, labels, mappings, thresholds)]
+        rows += [
+            _set_row(f"  {retailer}", tree, lab, maps, thresholds)
+            for retailer, (lab, maps, _) in groups.items()
+        ]
+        for r in rows:
+            print(
+                f"{r.name:<34} {r.products:>8,} {f(r.accuracy, '.3f'):>6} {f(r.ece, '.4f'):>7} "
+                f"{f(r.coverage, '.3f'):>6} {f(r.accepted_error, '.4f'):>6} "
+                f"{f(r.coverage_with_validation, '.3f'):>6} "
+                f"{f(r.accepted_error_with_validation, '.4f'):>6}"
+            )
+    _print_slices(tree, parts, thresholds)
+    print(
+        "\nacc: best leaf (before back-off); ECE: the mapping's confidence (back-off answers "
+        "count as right when the gold leaf lies under them), 15 bins; cov / err: share "
+        "auto-accepted and the error among them (back-off answers are never accepted); each "
+        "retailer mapped as one feed."
+    )
+
+
 # -- main -----------------------------------------------------------------------------------
 
 
@@ -455,11 +690,31 @@ def main(argv: list[str] | None = None) -> int:
     )
     parser.add_argument(
         "--only",
-        default="catmap,tfidf-all,tfidf-title,fasttext",
-        help="comma-separated subset of: catmap, tfidf-all, tfidf-title, fasttext",
+        default="catmap,tfidf-all,tfidf-title,fasttext,unseen",
+        help="comma-separated subset of: catmap, tfidf-all, tfidf-title, fasttext, unseen",
+    )
+    parser.add_argument(
+        "--no-baselines",
+        action="store_true",
+        help="skip the TF-IDF and fastText baselines and the speed rounds (catmap and the "
+        "unseen retailers only)",
+    )
+    parser.add_argument(
+        "--max-error",
+        type=float,
+        default=0.02,
+        help="error rate allowed among auto-accepted mappings, for the unseen part (default 0.02)",
+    )
+    parser.add_argument(
+        "--unseen-seed",
+        type=int,
+        default=0,
+        help="seed of the unseen-retailer part (default 0, the one in feeds_demo/generated/unseen)",
     )
     args = parser.parse_args(argv)
     chosen = {name.strip() for name in args.only.split(",")}
+    if args.no_baselines:
+        chosen -= {"tfidf-all", "tfidf-title", "fasttext"}
 
     tree = load_default_tree(1)
     parents = parent_map(tree)
@@ -529,8 +784,13 @@ def main(argv: list[str] | None = None) -> int:
                     f"mem {done.memory_mb:.1f} MB",
                     file=sys.stderr,
                 )
-        _speed_rounds(rows)
-        _print_table(rows, (len(train), len(valid), len(test)))
+        if not args.no_baselines:
+            _speed_rounds(rows)
+        if rows:
+            _print_table(rows, (len(train), len(valid), len(test)))
+        if "unseen" in chosen:
+            print("running unseen ...", file=sys.stderr)
+            run_unseen(tree, source, workdir, args.max_error, args.unseen_seed)
     return 0
 
 
@@ -541,6 +801,8 @@ def _speed_rounds(rows: list[Row]) -> None:
     pace drifts during the run (a shared or virtual machine) slows every model alike.
     """
     timed = [row for row in rows if row.speed is not None]
+    if not timed:
+        return
     speeds: dict[str, list[float]] = {row.name: [] for row in timed}
     for round_number in range(SPEED_REPEATS):
         for row in timed:

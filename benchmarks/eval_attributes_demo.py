@@ -9,7 +9,15 @@ Brand F1 counts a product as a true positive when the extracted brand equals the
 a false positive when a brand was extracted that is not the gold one, and a false negative when
 the gold brand was not extracted (a wrong brand counts as both).
 
-    python benchmarks/eval_attributes_demo.py [--root feeds_demo] [--errors 10]
+Then the same on the unseen-retailer part (:mod:`catmap.demo.unseen`, built on first use
+under ``feeds_demo/generated/unseen/``), per part and per retailer: brand precision / recall /
+F1 separately for products of brands in the demo brand list ("known"), of brands absent from
+it ("unseen"), and the share of unbranded products given a brand; who and age accuracy; and
+precision / recall of each restriction flag. These brand figures compare case-insensitively
+(:func:`catmap.evaluate.metrics.brand_scores`, as ``catmap evaluate`` does). ``--no-unseen``
+skips this part.
+
+    python benchmarks/eval_attributes_demo.py [--root feeds_demo] [--errors 10] [--no-unseen]
 """
 
 from __future__ import annotations
@@ -22,11 +30,13 @@ from pathlib import Path
 
 from catmap.attributes import AttributeExtractor, BrandDictionary
 from catmap.demo import demo_paths
+from catmap.evaluate.metrics import brand_scores
+from catmap.evaluate.run import profile_without_gold
 from catmap.feeds import open_feed
 from catmap.feeds.fieldmap import suggest_profile
 from catmap.feeds.ingest import Accounting, iter_products
 from catmap.records import Product
-from catmap.tree.taxonomy import load_default_tree
+from catmap.tree.taxonomy import CategoryTree, load_default_tree
 
 FEEDS = {"ferravelle": "Ferravelle", "quorvane": "Quorvane", "tallimbra": "Tallimbra"}
 SAMPLE_SIZE = 200
@@ -102,6 +112,104 @@ def score_feed(feed: Path, gold_path: Path, extractor: AttributeExtractor,
     return scores
 
 
+@dataclass
+class OpenWorldScores:
+    """Gold and extracted values of an unseen-part group (a part or a retailer)."""
+
+    gold_brand: list[str] = field(default_factory=list)
+    got_brand: list[str] = field(default_factory=list)
+    known: list[bool] = field(default_factory=list)
+    who: list[tuple[str, str]] = field(default_factory=list)
+    age: list[tuple[str, str]] = field(default_factory=list)
+    restriction: list[tuple[str, str]] = field(default_factory=list)
+
+    def add(self, other: OpenWorldScores) -> None:
+        """Add another group's values to these."""
+        for name in ("gold_brand", "got_brand", "known", "who", "age", "restriction"):
+            getattr(self, name).extend(getattr(other, name))
+
+    def line(self, name: str) -> str:
+        """One table line: products, who, age, brand P / R / F1 known and unseen, unbranded."""
+        n = max(1, len(self.who))
+
+        def brand(want_known: bool) -> str:
+            rows = [(g, p) for g, p, k in zip(self.gold_brand, self.got_brand, self.known,
+                                              strict=True) if g and k == want_known]
+            if not rows:
+                return f"{'-':>6} {'-':>6} {'-':>6}"
+            prf = brand_scores([g for g, _ in rows], [p for _, p in rows])
+            return f"{prf.precision:>6.3f} {prf.recall:>6.3f} {prf.f1:>6.3f}"
+
+        unbranded = [p for g, p in zip(self.gold_brand, self.got_brand, strict=True) if not g]
+        given = sum(1 for p in unbranded if p) / max(1, len(unbranded))
+        who = sum(g == p for g, p in self.who) / n
+        age = sum(g == p for g, p in self.age) / n
+        return (f"{name:<20} {len(self.who):>8} {who:>6.3f} {age:>6.3f} {brand(True)} "
+                f"{brand(False)} {given:>7.3f}")
+
+    def restriction_lines(self) -> list[str]:
+        """Precision and recall of each restriction flag."""
+        flags = sorted({g for g, _ in self.restriction} - {"none"})
+        out = []
+        for flag in flags:
+            tp = sum(1 for g, p in self.restriction if g == flag and p == flag)
+            fp = sum(1 for g, p in self.restriction if g != flag and p == flag)
+            fn = sum(1 for g, p in self.restriction if g == flag and p != flag)
+            out.append(f"    {flag:<10} gold {tp + fn:>5}  precision {tp / max(1, tp + fp):.3f}  "
+                       f"recall {tp / max(1, tp + fn):.3f}")
+        return out
+
+
+def score_unseen_part(path: Path, brands: BrandDictionary,
+                      tree: CategoryTree) -> dict[str, OpenWorldScores]:
+    """Extract attributes of a labelled unseen part, per retailer (its name given as such)."""
+    opened = open_feed(path)
+    profile = profile_without_gold(suggest_profile(opened.info, opened.sample(SAMPLE_SIZE)),
+                                   "gold_node")
+    extractors: dict[str, AttributeExtractor] = {}
+    out: dict[str, OpenWorldScores] = {}
+    for item in iter_products(opened, profile, Accounting()):
+        if not isinstance(item, Product):
+            continue
+        g = item.extra
+        retailer = g.get("retailer", "")
+        if retailer not in extractors:
+            extractors[retailer] = AttributeExtractor(brands=brands, tree=tree,
+                                                      retailer_names=(retailer,))
+        got = extractors[retailer].extract(item, g["gold_node"])
+        scores = out.setdefault(retailer, OpenWorldScores())
+        scores.gold_brand.append(g.get("gold_brand", ""))
+        scores.got_brand.append(got.brand)
+        scores.known.append(g.get("gold_brand_known", "") == "true")
+        scores.who.append((g.get("gold_who", ""), got.who))
+        scores.age.append((g.get("gold_age", ""), got.age))
+        gold_flag = g.get("gold_restriction", "") or "none"
+        scores.restriction.append((gold_flag, got.restriction or "none"))
+    return out
+
+
+def report_unseen(root: Path, brands: BrandDictionary, tree: CategoryTree) -> None:
+    """Print the unseen part's table: per part and per retailer."""
+    from catmap.demo.unseen import ensure_unseen_world
+
+    paths = ensure_unseen_world(root)
+    print("\nunseen retailers (brand P / R / F1 on known-list brands, then on unseen brands; "
+          "'given': share of unbranded products given a brand)")
+    print(f"{'set':<20} {'products':>8} {'who':>6} {'age':>6} {'kn P':>6} {'kn R':>6} "
+          f"{'kn F1':>6} {'un P':>6} {'un R':>6} {'un F1':>6} {'given':>7}")
+    for part, path in paths.labelled.items():
+        per_retailer = score_unseen_part(path, brands, tree)
+        total = OpenWorldScores()
+        for scores in per_retailer.values():
+            total.add(scores)
+        print(total.line(f"{part}"))
+        for retailer, scores in per_retailer.items():
+            print(scores.line(f"  {retailer}"))
+        print("  restriction flags:")
+        for line in total.restriction_lines():
+            print(line)
+
+
 def main(argv: list[str] | None = None) -> int:
     """Score the three demo feeds and print the table."""
     parser = argparse.ArgumentParser(description=__doc__.split("\n\n")[0])
@@ -109,6 +217,8 @@ def main(argv: list[str] | None = None) -> int:
                         help="demo folder (default: feeds_demo)")
     parser.add_argument("--errors", type=int, default=0,
                         help="print this many who / age errors per feed")
+    parser.add_argument("--no-unseen", action="store_true",
+                        help="skip the unseen-retailer part")
     args = parser.parse_args(argv)
     paths = demo_paths(args.root)
     tree = load_default_tree(1)
@@ -129,6 +239,8 @@ def main(argv: list[str] | None = None) -> int:
     print(total.line("all"))
     print("who errors (gold → got):", dict(total.who_errors.most_common(6)))
     print("age errors (gold → got):", dict(total.age_errors.most_common(6)))
+    if not args.no_unseen:
+        report_unseen(args.root, brands, tree)
     return 0
 
 

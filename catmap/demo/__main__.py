@@ -1,4 +1,4 @@
-"""Rebuild the demo world: ``python -m catmap.demo [--root feeds_demo] [--seed 0]``."""
+"""Rebuild the demo world: ``python -m catmap.demo [--root feeds_demo] [--seed 0] [--unseen]``."""
 
 from __future__ import annotations
 
@@ -6,6 +6,7 @@ import argparse
 import sys
 from pathlib import Path
 
+from catmap.demo.unseen import build_unseen_world
 from catmap.demo.world import REFERENCE_SIZE, build_demo_world
 
 
@@ -18,9 +19,15 @@ def main(argv: list[str] | None = None) -> int:
     parser.add_argument("--seed", type=int, default=0, help="random seed (default: 0)")
     parser.add_argument("--reference-size", type=int, default=REFERENCE_SIZE,
                         help=f"products in the reference catalog (default: {REFERENCE_SIZE})")
+    parser.add_argument("--unseen", action="store_true",
+                        help="also rebuild the unseen-retailer part under generated/unseen/ "
+                        "(for measuring only, never for training)")
     args = parser.parse_args(argv)
     paths = build_demo_world(args.root, seed=args.seed, reference_size=args.reference_size)
-    for file in paths.all_files():
+    files = paths.all_files()
+    if args.unseen:
+        files += build_unseen_world(args.root, seed=args.seed).all_files()
+    for file in files:
         print(f"{file}  {file.stat().st_size:,} bytes")
     return 0
 
