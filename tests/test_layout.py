@@ -133,3 +133,19 @@ def test_the_checker_sees_lazy_relative_and_package_imports() -> None:
 
 def _stage_set(source: str) -> set[str | None]:
     return {_stage(target) for target in _imports_in(source, "catmap.feeds")} - {None}
+
+
+def test_the_developers_guide_table_matches_the_folders() -> None:
+    """DEVELOPERS.md's layout table lists exactly the stage packages, in pipeline order."""
+    guide = (PACKAGE.parent / "DEVELOPERS.md").read_text(encoding="utf-8")
+    listed = [
+        line.split("`")[1].removeprefix("catmap/").rstrip("/")
+        for line in guide.splitlines()
+        if line.startswith("| `catmap/")
+    ]
+    folders = {p.name for p in PACKAGE.iterdir() if (p / "__init__.py").exists()}
+    assert sorted(listed) == sorted(folders)
+    assert set(listed) == set(ALLOWED)
+    # A stage may only lean on stages listed above it in the table.
+    for position, stage in enumerate(listed):
+        assert ALLOWED[stage] <= set(listed[:position]), stage
