@@ -46,6 +46,20 @@ from catmap.attributes.colour import (
     colour_family,
     colour_family_folded,
 )
+from catmap.attributes.discover import (
+    CANDIDATE_MARK,
+    FeedBrandLearner,
+    RetailerFinding,
+    TitleCandidate,
+    brand_is_candidate,
+)
+from catmap.attributes.registry import (
+    BrandRegistry,
+    BrandVariant,
+    RegistryBrand,
+    brand_key,
+    clean_spelling,
+)
 from catmap.attributes.restriction import (
     RESTRICTION_CAUTION,
     RESTRICTIONS,
@@ -59,6 +73,16 @@ if TYPE_CHECKING:
     from catmap.tree.taxonomy import CategoryTree
 
 __all__ = [
+    "CANDIDATE_MARK",
+    "BrandRegistry",
+    "BrandVariant",
+    "FeedBrandLearner",
+    "RegistryBrand",
+    "RetailerFinding",
+    "TitleCandidate",
+    "brand_is_candidate",
+    "brand_key",
+    "clean_spelling",
     "FAMILIES",
     "FUZZY_THRESHOLD",
     "LEGAL_SUFFIXES",
@@ -114,6 +138,10 @@ class AttributeExtractor:
         brands: the brand dictionary.
         tree: the category tree the node ids belong to (None: decide from the text only).
         retailer_names: the retailer's own names; a brand field holding one counts as empty.
+        feed_brands: a :class:`FeedBrandLearner` fitted on this feed: brands no dictionary
+            knows are then found too (marked as candidates until confirmed), field spellings
+            resolve to the feed's canonical brand, and the retailer's own name found in the
+            feed counts as empty when the learner's setting says so.
 
     Example:
         >>> extractor = AttributeExtractor(brands=BrandDictionary([]), tree=None)
@@ -127,10 +155,12 @@ class AttributeExtractor:
         brands: BrandDictionary,
         tree: CategoryTree | None,
         retailer_names: Iterable[str] = (),
+        feed_brands: FeedBrandLearner | None = None,
     ) -> None:
         self.brands = brands
         self.tree = tree
         self.retailer_names = tuple(retailer_names)
+        self.feed_brands = feed_brands
         self._finder = BrandFinder(
             brands, retailer_names=self.retailer_names, fuzzy_skip=_ATTRIBUTE_WORDS
         )
@@ -157,6 +187,24 @@ class AttributeExtractor:
             self._nodes[node_id] = facts
         return facts
 
+    @staticmethod
+    def _from_feed_field(
+        value: str, match: BrandMatch, learner: FeedBrandLearner
+    ) -> BrandMatch | None:
+        """Let what the feed taught override the dictionary's guess for a brand field value:
+        an unknown value resolves to the feed's canonical brand, and a value the dictionary
+        took as a typo stays the feed's own brand when the feed writes it that way often."""
+        if learner.retailer_as_no_brand and learner.is_retailer(value):
+            return None
+        if match.evidence.startswith(("field not in dictionary", "field fuzzy")):
+            resolved = learner.resolve_field(value)
+            if resolved is not None and (
+                match.evidence.startswith("field not in dictionary")
+                or resolved.brand != match.brand
+            ):
+                return resolved
+        return match
+
     def extract(self, product: Product, node_id: str | None) -> Attributes:
         """Return the attributes of one product mapped to ``node_id`` (None: not mapped yet)."""
         facts = self._node(node_id)
@@ -164,7 +212,10 @@ class AttributeExtractor:
         folded_description = ""
 
         # brand
+        learner = self.feed_brands
         match = self._finder.from_field(product.brand) if product.brand else None
+        if match is not None and learner is not None:
+            match = self._from_feed_field(product.brand, match, learner)
         if match is not None:
             spans = tuple(
                 (s, e)
@@ -173,6 +224,10 @@ class AttributeExtractor:
             )
         else:
             match = self._finder.from_text(folded_title, "title", product.title)
+            if learner is not None and (match is None or match.evidence.startswith("title fuzzy")):
+                learned = learner.find_in_title(product.title, folded_title)
+                if learned is not None:
+                    match = learned
             if match is None and product.description:
                 folded_description = fold(product.description)
                 found = self._finder.from_text(folded_description, "description")

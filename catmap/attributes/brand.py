@@ -27,13 +27,16 @@ from catmap.attributes._text import PhraseIndex, fold
 from catmap.errors import InputError
 
 # Legal-form suffixes stripped from the end of a brand name, written as folded tokens
-# (dots and case already removed: "S.A.S." → "sas", "& Co" → "and co"). Written from memory of
-# common company forms in English, French, German, Spanish, Italian, Dutch and Nordic trade.
+# (dots and case already removed: "S.A.S." → "sas", "& Co" → "and co"). Company forms of the
+# markets of the seven languages (English, French, German, Spanish, Italian, Dutch,
+# Portuguese) and a few Nordic ones; common practice, no source.
 LEGAL_SUFFIXES: tuple[str, ...] = (
     "inc", "incorporated", "ltd", "limited", "llc", "llp", "lp", "plc", "corp", "corporation",
-    "co", "and co", "company", "gmbh", "gmbh and co kg", "ag", "kg", "kgaa", "ohg", "ug",
-    "sa", "sas", "sarl", "sasu", "eurl", "sl", "slu", "sau", "bv", "nv", "vof",
-    "srl", "spa", "snc", "oy", "oyj", "ab", "as", "aps", "pty", "pty ltd", "sro", "kft",
+    "co", "and co", "company", "gmbh", "gmbh and co kg", "ag", "kg", "kgaa", "ohg", "ug", "ek",
+    "mbh", "gbr", "sa", "sas", "sarl", "sasu", "eurl", "sca", "and cie", "et cie", "cie",
+    "sl", "slu", "sau", "sll", "y cia", "cia", "bv", "nv", "vof", "cv", "bvba",
+    "srl", "srls", "spa", "snc", "sapa", "lda", "ltda", "unipessoal lda", "eireli",
+    "oy", "oyj", "ab", "as", "aps", "pty", "pty ltd", "sro", "kft",
 )
 _SUFFIX_TOKENS = sorted((tuple(s.split()) for s in LEGAL_SUFFIXES), key=len, reverse=True)
 _SUFFIX_LAST = frozenset(s[-1] for s in _SUFFIX_TOKENS)
