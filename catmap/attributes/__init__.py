@@ -64,6 +64,7 @@ from catmap.attributes.restriction import (
     RESTRICTION_CAUTION,
     RESTRICTIONS,
     is_generic_node,
+    restriction_for_node,
     restriction_from_text,
     restriction_from_text_folded,
 )
@@ -110,6 +111,7 @@ __all__ = [
     "extract_audience_folded",
     "is_body_sized",
     "read_cues",
+    "restriction_for_node",
     "restriction_from_text",
     "restriction_from_text_folded",
 ]
@@ -285,11 +287,11 @@ class AttributeExtractor:
             colour = colour_family_folded("", title_without_brand)
 
         # restriction
-        restriction = facts.restriction or ""
-        if not restriction and facts.read_keywords:
-            restriction, _why = restriction_from_text_folded(
-                f"{title_without_brand} {folded_path}".strip()
-            )
+        restriction = restriction_for_node(
+            facts.restriction or "",
+            facts.read_keywords,
+            f"{title_without_brand} {folded_path}".strip(),
+        )
 
         return Attributes(
             brand=match.brand,
