@@ -23,7 +23,9 @@ from pathlib import Path
 
 from catmap.attributes import RESTRICTION_CAUTION, RESTRICTIONS, restriction_from_text
 
-DEFAULT_DATA = Path(__file__).resolve().parent.parent / "tests" / "data" / "restriction_labelled.csv"
+DEFAULT_DATA = (
+    Path(__file__).resolve().parent.parent / "tests" / "data" / "restriction_labelled.csv"
+)
 
 
 def main(argv: list[str] | None = None) -> int:
@@ -51,7 +53,9 @@ def main(argv: list[str] | None = None) -> int:
             if want:
                 tp[want] += 1
             continue
-        wrong.append(f"  [{row['lang']}] {row['text']!r}: want {want or '-'} got {got or '-'} {why}")
+        wrong.append(
+            f"  [{row['lang']}] {row['text']!r}: want {want or '-'} got {got or '-'} {why}"
+        )
         if got:
             fp[got] += 1
         if want:
