@@ -24,6 +24,7 @@ from catmap.attributes.audience import (
     extract_audience,
     extract_audience_folded,
     is_body_sized,
+    is_personal_item,
     read_cues,
 )
 from catmap.attributes.brand import (
@@ -110,6 +111,7 @@ __all__ = [
     "colour_family_folded",
     "extract_audience_folded",
     "is_body_sized",
+    "is_personal_item",
     "read_cues",
     "restriction_for_node",
     "restriction_from_text",
@@ -131,6 +133,7 @@ class _NodeFacts:
     restriction: str | None
     read_keywords: bool  # the node cannot say: read restriction keywords
     body_sizes: bool  # apparel / footwear (or unknown): heights and shoe sizes say kids / baby
+    said_only: bool  # no audience by default, but worn or carried: an explicit cue decides
 
 
 class AttributeExtractor:
@@ -174,17 +177,22 @@ class AttributeExtractor:
         facts = self._nodes.get(node_id)
         if facts is None:
             if node_id is None or self.tree is None or node_id not in self.tree:
-                facts = _NodeFacts(None, None, None, True, True)
+                facts = _NodeFacts(None, None, None, True, True, False)
             else:
                 tree = self.tree
                 node = tree[node_id]
                 generic = is_generic_node(node.name)
+                who, ages = tree.who(node_id), tree.ages(node_id)
+                words = tree.all_terms(node_id)
+                if node.parent:
+                    words += tree.all_terms(node.parent)
                 facts = _NodeFacts(
-                    tree.who(node_id),
-                    tree.ages(node_id),
+                    who,
+                    ages,
                     tree.restriction(node_id),
                     generic or not tree.is_leaf(node_id),
                     is_body_sized(tree.all_terms(tree.department(node_id).id)),
+                    not who and not ages and is_personal_item(words),
                 )
             self._nodes[node_id] = facts
         return facts
@@ -271,6 +279,7 @@ class AttributeExtractor:
             allowed_who=facts.who,
             allowed_ages=facts.ages,
             body_sizes=facts.body_sizes,
+            said_only=facts.said_only,
         )
 
         # colour
