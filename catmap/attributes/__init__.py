@@ -233,11 +233,18 @@ class AttributeExtractor:
                 if name == match.brand
             )
         else:
-            match = self._finder.from_text(folded_title, "title", product.title)
-            if learner is not None and (match is None or match.evidence.startswith("title fuzzy")):
-                learned = learner.find_in_title(product.title, folded_title)
-                if learned is not None:
-                    match = learned
+            if learner is None:
+                match = self._finder.from_text(folded_title, "title", product.title)
+            else:
+                # Exact before fuzzy: a spelling the feed taught beats a dictionary brand one
+                # letter away, and spares the fuzzy look-ups for the feed's own brands.
+                match = self._finder.from_text(folded_title, "title", fuzzy=False)
+                if match is None:
+                    match = learner.find_in_title(product.title, folded_title, typos=False)
+                if match is None:
+                    match = self._finder.fuzzy_in_title(folded_title, product.title)
+                if match is None:
+                    match = learner.find_in_title(product.title, folded_title)
             if match is None and product.description:
                 folded_description = fold(product.description)
                 found = self._finder.from_text(folded_description, "description")

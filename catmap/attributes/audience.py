@@ -145,9 +145,7 @@ _COMPOUND_CUES = {
     "jongens": (MALE, KIDS),
 }
 # Substrings that must be there for a compound to be (a cheap test before the pattern).
-_COMPOUND_STEMS = (
-    "dame", "herren", "heren", "kinder", "jungen", "jongen", "madchen", "meisje", "baby"
-)
+_COMPOUND_QUICK = re.compile("dame|herren|heren|kinder|jungen|jongen|madchen|meisje|baby")
 _COMPOUND_EXCEPTIONS = frozenset(
     {"babyblau", "babyrosa", "babydoll", "kindergarten", "babyblauw", "babyroze", "herenhuis"}
 )
@@ -402,7 +400,7 @@ def read_cues(folded: str, *, column: bool = False) -> Cues:
             who.append((w, key))
         if a:
             age.append((a, key))
-    if any(stem in folded for stem in _COMPOUND_STEMS):
+    if _COMPOUND_QUICK.search(folded) is not None:
         for found in _COMPOUND.finditer(folded):
             if found.group(0) in _COMPOUND_EXCEPTIONS:
                 continue

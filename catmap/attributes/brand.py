@@ -408,7 +408,9 @@ class BrandFinder:
         self._field_cache[value] = match
         return match if match.evidence else None
 
-    def from_text(self, folded: str, where: str, raw: str = "") -> BrandMatch | None:
+    def from_text(
+        self, folded: str, where: str, raw: str = "", *, fuzzy: bool = True
+    ) -> BrandMatch | None:
         """Find a brand in a folded title or description: exact pass, then fuzzy on the lead.
 
         Args:
@@ -416,6 +418,7 @@ class BrandFinder:
             where: "title" or "description", for the evidence.
             raw: the title as written; when given, capitalised words elsewhere in the title
                 are looked up fuzzily too once the lead finds nothing.
+            fuzzy: False to stop after the exact pass (see :meth:`fuzzy_in_title`).
         """
         mentions = self.dictionary.find_in_text(folded)
         if mentions:
@@ -424,8 +427,12 @@ class BrandFinder:
             confidence = TITLE_EXACT_CONFIDENCE if start == 0 else TITLE_EXACT_CONFIDENCE - 0.1
             spans = tuple((s, e) for s, e, _k, n in mentions if n == name)
             return BrandMatch(name, confidence, f"{where} exact '{key}'", spans)
-        if where != "title":
+        if where != "title" or not fuzzy:
             return None
+        return self.fuzzy_in_title(folded, raw)
+
+    def fuzzy_in_title(self, folded: str, raw: str = "") -> BrandMatch | None:
+        """The fuzzy passes of :meth:`from_text` alone: the lead, then capitalised words."""
         found = self._from_lead(folded)
         if found is None and raw:
             found = self._from_capitalised(raw, folded)

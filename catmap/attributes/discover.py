@@ -249,6 +249,8 @@ class FeedBrandLearner:
         leads: dict[str, _Seen] = {}
         children: dict[str, set[str]] = {}
         lower_inside: Counter[str] = Counter()
+        title_ends: Counter[str] = Counter()
+        lead_raw: Counter[str] = Counter()  # every opening of one to three words, unfiltered
         branded = total = 0
         for product in products:
             node = next(node_iter, None) if node_iter is not None else None
@@ -267,6 +269,12 @@ class FeedBrandLearner:
             for word in title_words[1:]:
                 if word[:1].islower():
                     lower_inside[word] += 1
+            folded_words = fold(product.title).split()
+            if folded_words:
+                title_ends[folded_words[-1]] += 1
+            opening = [fold(m.group(0)) for m in _lead_words(product.title)]
+            for n in range(1, len(opening) + 1):
+                lead_raw["".join(opening[:n]).replace(" ", "")] += 1
             longer = ""
             for candidate in self.title_candidates(product.title):
                 kind = group or _rest_word(product.title, candidate)
@@ -283,6 +291,8 @@ class FeedBrandLearner:
                 longer = candidate.key
         self.products_seen_ = total
         self._lower_inside = lower_inside
+        self._title_ends = title_ends
+        self._lead_raw = lead_raw
         self.retailer_ = self._find_retailer(fields, field_departments, branded)
         retailer_key = brand_key(self.retailer_.name) if self.retailer_ else ""
 
@@ -302,7 +312,10 @@ class FeedBrandLearner:
         for (pattern, key), seen in patterns.items():
             if key == retailer_key:
                 continue
-            if key in fields or self._recurs(seen):
+            if key in fields or (
+                self._recurs(seen)
+                and (pattern not in ("colon", "dash") or not self._ends_titles(seen))
+            ):
                 if learned.get(key, ("", 0))[1] < seen.count:
                     learned[key] = (pattern, seen.count)
         for key, seen in leads.items():
@@ -325,12 +338,15 @@ class FeedBrandLearner:
                 for i in range(len(key)):
                     self._blocks.setdefault(key[:i] + key[i + 1:], []).append(key)
                 self._blocks.setdefault(key, []).append(key)
-        self._index = PhraseIndex(
-            (" ".join(fold(s).split()), key)
-            for key in self.learned_
-            for s in registry.resolve(key).variants  # type: ignore[union-attr]
-            if brand_key(s) == key
-        )
+        self._pattern = {key: pattern for key, (pattern, _n) in learned.items()}
+        phrases: dict[str, str] = {}
+        for key in self.learned_:
+            phrases.setdefault(key, key)  # the joined form: "benchlow" for "Bench Low"
+            brand = registry.resolve(key)
+            for spelling in brand.variants if brand is not None else ():
+                if brand_key(spelling) == key:
+                    phrases.setdefault(normalize_brand(spelling), key)
+        self._index = PhraseIndex(phrases.items())
         self._lead_cache: dict[str, BrandMatch | None] = {}
         return self
 
@@ -361,6 +377,12 @@ class FeedBrandLearner:
             return False
         return count >= self.min_products and count > dictionary_counts.get(fuzzy[0], 0)
 
+    def _ends_titles(self, seen: _Seen) -> bool:
+        """A product phrase: its last word ends titles as often as the phrase opens them
+        ("Yoga mat ..." / "... yoga mat"); a brand opening titles seldom ends them."""
+        last = fold(seen.spellings.most_common(1)[0][0]).split()[-1]
+        return 2 * self._title_ends.get(last, 0) >= seen.count
+
     def _lead_is_name(
         self,
         key: str,
@@ -375,7 +397,7 @@ class FeedBrandLearner:
             return False
         spelling = seen.spellings.most_common(1)[0][0]
         words = fold(spelling).split()
-        if words[-1] in self.common_:
+        if words[-1] in self.common_ or words[0] in LEXICON_WORDS or self._ends_titles(seen):
             return False
         if len(words) == 1:
             # An ordinary word opens titles too ("Klappbar ..."), but inside titles it is
@@ -384,9 +406,10 @@ class FeedBrandLearner:
             if 2 * inside >= seen.capitalised:
                 return False
         if len(words) > 1:
-            shorter = brand_key(" ".join(spelling.split()[:-1]))
-            before = leads.get(shorter)
-            if before is not None and seen.count < _LEAD_STAY * before.count:
+            # Against every title opening with the same first words, not only those kept as
+            # candidates: "Azul marino chef ..." is one of many "Azul marino ..." titles.
+            before = self._lead_raw.get("".join(words[:-1]), 0)
+            if seen.count < _LEAD_STAY * before:
                 return False
         # A longer lead that stays as frequent is the name ("Bench Low" over "Bench").
         for longer_key in children:
@@ -431,8 +454,9 @@ class FeedBrandLearner:
         """Return the places in a title where a brand may sit, the most explicit first.
 
         The patterns: "… by X" (also "von", "par", "door"), "… | X", "X: …", "X - …", "(X)"
-        at the end, and the first one to three words. A candidate of more than four words, or
-        starting with an ordinary word, is left out.
+        at the end, and the first one to three words (after up to two opening shop or
+        audience words: "Damen Benchlow ...", "New Benchlow ..."). A candidate of more than
+        four words, starting with a shop word, or made of ordinary words only, is left out.
         """
         common = getattr(self, "common_", _SHOP_WORDS)
         out: list[TitleCandidate] = []
@@ -443,12 +467,14 @@ class FeedBrandLearner:
             candidate = _candidate(name, found.group(1), found.start(1), found.end(1), common)
             if candidate is not None:
                 out.append(candidate)
-        words = list(re.finditer(r"\S+", title))[:_LEAD_WORDS]
+        words = _lead_words(title)
+        seen: set[str] = set()
         for n in range(len(words), 0, -1):
             start, end = words[0].start(), words[n - 1].end()
             text = title[start:end].rstrip(",;:-–—|")
             candidate = _candidate("lead", text, start, start + len(text), common)
-            if candidate is not None:
+            if candidate is not None and candidate.key not in seen:
+                seen.add(candidate.key)
                 out.append(candidate)
         return out
 
@@ -483,12 +509,16 @@ class FeedBrandLearner:
             f"field not in dictionary '{shown}' → '{brand.name}'{mark}",
         )
 
-    def find_in_title(self, title: str, folded: str | None = None) -> BrandMatch | None:
-        """Find a learned brand in a title: its positional places first, then anywhere.
+    def find_in_title(
+        self, title: str, folded: str | None = None, *, typos: bool = True
+    ) -> BrandMatch | None:
+        """Find a learned brand in a title: any spelling seen of it, else a one-letter typo
+        of it at the opening of the title.
 
         Args:
             title: the title as written.
             folded: the same, folded (computed when not given).
+            typos: False to look for the spellings seen only.
 
         Returns:
             The brand with its span in the folded title, or None.
@@ -497,22 +527,41 @@ class FeedBrandLearner:
         if not self.learned_:
             return None
         folded = fold(title) if folded is None else folded
-        for candidate in self.title_candidates(title):
-            key = candidate.key
-            if key not in self.learned_:
-                key = self._typo_of(key)
-                if not key:
-                    continue
-            return self._match(key, candidate.pattern, folded, candidate.spelling)
         mentions = self._index.find(folded)
         if mentions:
             start, end, _phrase, payload = min(mentions, key=lambda m: (m[0], m[0] - m[1]))
-            name = self.learned_[str(payload)]
+            key = str(payload)
+            name, pattern = self.learned_[key], self._pattern[key]
+            where = pattern if start == 0 or pattern != "lead" else "learned"
             return BrandMatch(
-                name, LEARNED_TITLE_CONFIDENCE - 0.1,
-                f"title learned '{folded[start:end]}'{self._mark(name)}", ((start, end),)
+                name,
+                LEARNED_TITLE_CONFIDENCE if where != "learned" else LEARNED_TITLE_CONFIDENCE - 0.1,
+                f"title {where} '{folded[start:end]}'{self._mark(name)}",
+                ((start, end),),
             )
-        return None
+        if not typos:
+            return None
+        # One-letter typos, at the opening only (folded words: no second fold of the title).
+        words = folded.split(" ", _LEAD_SKIP + _LEAD_WORDS)[: _LEAD_SKIP + _LEAD_WORDS]
+        skip = 0
+        while skip < _LEAD_SKIP and skip < len(words) - 1 and (
+            words[skip] in _SHOP_WORDS or words[skip] in LEXICON_WORDS
+        ):
+            skip += 1
+        words = words[skip:skip + _LEAD_WORDS]
+        opening = " ".join(words)
+        if opening in self._lead_cache:
+            return self._lead_cache[opening]
+        found: BrandMatch | None = None
+        for n in range(len(words), 0, -1):
+            key = self._typo_of("".join(words[:n]))
+            if key:
+                found = self._match(key, self._pattern[key], folded, " ".join(words[:n]))
+                break
+        if len(self._lead_cache) > 200_000:
+            self._lead_cache.clear()
+        self._lead_cache[opening] = found
+        return found
 
     def _typo_of(self, key: str) -> str:
         if len(key) < MIN_TYPO_KEY:
@@ -572,6 +621,20 @@ def _tree_words(tree: CategoryTree | None) -> frozenset[str]:
                 # end ("carte mémoire", "memory card").
                 words.update((" ".join(folded), folded[0], folded[-1]))
     return frozenset(words)
+
+
+_WORD = re.compile(r"\S+")
+_LEAD_SKIP = 2
+
+
+def _lead_words(title: str) -> list[re.Match[str]]:
+    words = list(_WORD.finditer(title))
+    skip = 0
+    while skip < _LEAD_SKIP and skip < len(words) - 1 and (
+        fold(words[skip].group(0)) in _SHOP_WORDS or fold(words[skip].group(0)) in LEXICON_WORDS
+    ):
+        skip += 1
+    return words[skip:skip + _LEAD_WORDS]
 
 
 def _rest_word(title: str, candidate: TitleCandidate) -> str:

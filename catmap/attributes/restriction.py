@@ -209,6 +209,7 @@ _COMPOUND_ENDINGS: dict[str, str] = {
     "sigaretten": "tobacco",
 }
 _COMPOUND = re.compile(r"\b([a-z]{3,}?)(" + "|".join(_COMPOUND_ENDINGS) + r")\b")
+_COMPOUND_QUICK = re.compile("|".join(_COMPOUND_ENDINGS))  # one C-level scan first
 
 
 def _build_index() -> PhraseIndex:
@@ -230,13 +231,19 @@ def restriction_hits(folded: str) -> list[tuple[str, str, bool]]:
     ``strong`` is False for keywords too general to flag a product the tree left unrestricted.
     """
     matches = _INDEX.find(folded)
-    if any(ending in folded for ending in _COMPOUND_ENDINGS):
+    if _COMPOUND_QUICK.search(folded) is not None:
         matches = matches + [
             (found.start(), found.end(), found.group(0), _COMPOUND_ENDINGS[found.group(2)])
             for found in _COMPOUND.finditer(folded)
         ]
     if not matches:
         return []
+    if len(matches) == 1:
+        # The common case: one phrase; nothing to choose between, nothing nearby to undo it.
+        _start, _end, key, payload = matches[0]
+        if not payload or payload == _NEGATIVE:
+            return []
+        return [(str(payload), key, key not in _PLAIN_KEYWORDS)]
     kept: list[tuple[int, int, str, object]] = []
     last_end = -1
     for match in sorted(matches, key=lambda m: (m[0], m[0] - m[1])):
