@@ -41,7 +41,9 @@ _KEYWORDS: dict[str, tuple[str, ...]] = {
         "vodka", "gin", "rum", "tequila", "brandy", "cognac", "liqueur", "beer", "ale", "lager",
         "cider", "champagne", "prosecco", "sake", "mezcal", "absinthe", "bourbon", "port wine",
         "sherry", "vermouth", "spirits", "alcohol", "alcoholic", "grappa", "schnapps",
-        "brown ale", "chocolate liqueur", "cream liqueur", "liqueur au chocolat",
+        "brown ale", "chocolate liqueur", "cream liqueur", "liqueur au chocolat", "single malt",
+        "whiskies", "pastis", "ouzo", "sangria", "gluhwein", "amaro", "ginja", "moscato",
+        "porto tawny", "vinho do porto", "birre",
         "schokoladenlikor", "licor de chocolate", "liquore al cioccolato",
         # fr
         "vin", "vin rouge", "vin blanc", "biere", "rhum", "liqueur", "eau de vie", "spiritueux",
@@ -76,6 +78,9 @@ _KEYWORDS: dict[str, tuple[str, ...]] = {
         "tabacco trinciato", "trinciato",
         "sigaar", "sigaren", "sigaret", "sigaretten", "e sigaret", "shag", "rooktabak",
         "charuto", "charutos", "cigarro", "cigarros", "cigarro eletronico", "tabaco de enrolar",
+        "zigarillo", "zigarillos", "sigarillo", "sigarillos", "cigarrilho", "cigarrilhos",
+        "vapeador", "vapeadores", "svapo", "sigaretta usa e getta", "e cig", "ecig",
+        "disposable vape", "vape jetable", "einweg vape", "vape descartavel",
     ),
     "weapons": (
         "knife", "knives", "hunting knife", "pocket knife", "crossbow", "air rifle", "airgun",
@@ -96,12 +101,20 @@ _KEYWORDS: dict[str, tuple[str, ...]] = {
         "pepperspray", "katapult", "vlindermes",
         "faca", "facas", "faca de caca", "canivete", "espingarda de pressao", "punhal",
         "spray de pimenta", "fisga", "besta de caca",
+        "pistolet a air comprime", "pistolet a plomb", "machette", "springmesser",
+        "butterflymesser", "kampfmesser", "wurfmesser", "luftdruckpistole", "luftdruckgewehr",
+        "pistola de aire comprimido", "pistola de pressao", "pistola de pressao de ar",
+        "carabina de pressao", "tactical knife", "couteau tactique", "coltello tattico",
+        "faca tatica", "cuchillo tactico",
     ),
     "adult": (
         "adult toy", "adults only", "erotic", "erotique", "erotik", "erotico", "sex toy",
         "18+ only", "lingerie erotique", "vibrator", "vibromasseur", "sexspielzeug",
         "juguete sexual", "giocattolo erotico", "vibratore", "solo adulti", "seksspeeltje",
         "erotisch", "brinquedo sexual", "vibrador", "erotica", "erotici",
+        # inflected forms: "érotiques", "eróticos", "erotische"
+        "erotiques", "eroticos", "eroticas", "erotiche", "erotische", "erotiek",
+        "vibratoren", "vibradores", "vibratori", "vibrators", "vibromasseurs",
     ),
     "medicine": (
         "paracetamol", "ibuprofen", "ibuprofene", "aspirin", "aspirine", "antihistamine",
@@ -192,6 +205,11 @@ _NEGATIVE_CUES: tuple[str, ...] = (
     # pt
     "cheiro", "cor", "cor de", "em forma de", "sabonete", "brinquedo", "fantasia", "castanho",
     "rebucado", "bombom", "perfumada", "gelado", "sorvete",
+    # furniture and body care named after a drink or a smoke ("whiskey barrel coffee table",
+    # "beer shower gel")
+    "table", "coffee table", "chair", "lounge chair", "shelf", "body wash", "shower gel",
+    "chocolates", "pralines", "truffles", "gel douche", "duschgel", "gel de ducha",
+    "bagnoschiuma", "douchegel", "gel de banho", "shampoing",
 )
 # How many words away a negative cue may stand ("gin and tonic candle", "caramelle al gusto
 # di rum": four words between the object and the drink it tastes of).
@@ -204,6 +222,7 @@ _NEGATABLE = frozenset({"alcohol", "tobacco", "weapons"})
 
 # German and Dutch write compounds: "Weizenbier", "Kräuterlikör", "Pfeifentabak".
 _COMPOUND_ENDINGS: dict[str, str] = {
+    "vibrator": "adult",
     "bier": "alcohol", "likor": "alcohol", "likeur": "alcohol", "schnaps": "alcohol",
     "tabak": "tobacco", "zigarren": "tobacco", "zigaretten": "tobacco", "sigaren": "tobacco",
     "sigaretten": "tobacco",
@@ -212,12 +231,25 @@ _COMPOUND = re.compile(r"\b([a-z]{3,}?)(" + "|".join(_COMPOUND_ENDINGS) + r")\b"
 _COMPOUND_QUICK = re.compile("|".join(_COMPOUND_ENDINGS))  # one C-level scan first
 
 
+def _plurals(word: str) -> tuple[str, ...]:
+    # Plural forms of one-word keywords ("cervezas", "sigarillos", "daggers"); the phrases
+    # are listed as written.
+    if " " in word or len(word) < 4:
+        return (word,)
+    return (word, f"{word}s", f"{word}es")
+
+
 def _build_index() -> PhraseIndex:
-    phrases: list[tuple[str, object]] = [(p, "") for p in _HARMLESS]
-    phrases.extend((p, _NEGATIVE) for p in _NEGATIVE_CUES)
+    phrases: dict[str, object] = {}
     for restriction, words in _KEYWORDS.items():
-        phrases.extend((word, restriction) for word in words)
-    return PhraseIndex(phrases)
+        for word in words:
+            for form in _plurals(word):
+                phrases.setdefault(form, restriction)
+    for phrase in _NEGATIVE_CUES:
+        phrases[phrase] = _NEGATIVE
+    for phrase in _HARMLESS:
+        phrases[phrase] = ""
+    return PhraseIndex(phrases.items())
 
 
 _INDEX = _build_index()
