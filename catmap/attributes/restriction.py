@@ -43,7 +43,9 @@ _KEYWORDS: dict[str, tuple[str, ...]] = {
         "sherry", "vermouth", "spirits", "alcohol", "alcoholic", "grappa", "schnapps",
         "brown ale", "chocolate liqueur", "cream liqueur", "liqueur au chocolat", "single malt",
         "whiskies", "pastis", "ouzo", "sangria", "gluhwein", "amaro", "ginja", "moscato",
-        "porto tawny", "vinho do porto", "birre",
+        "porto tawny", "vinho do porto", "birre", "calvados", "kirschwasser", "vermut",
+        "sambuca", "advocaat", "rakia", "slivovitz", "armagnac", "mirabelle", "genever",
+        "aquavit", "akvavit", "pisco", "soju", "baijiu", "bitter liqueur", "anisette",
         "schokoladenlikor", "licor de chocolate", "liquore al cioccolato",
         # fr
         "vin", "vin rouge", "vin blanc", "biere", "rhum", "liqueur", "eau de vie", "spiritueux",
@@ -80,7 +82,9 @@ _KEYWORDS: dict[str, tuple[str, ...]] = {
         "charuto", "charutos", "cigarro", "cigarros", "cigarro eletronico", "tabaco de enrolar",
         "zigarillo", "zigarillos", "sigarillo", "sigarillos", "cigarrilho", "cigarrilhos",
         "vapeador", "vapeadores", "svapo", "sigaretta usa e getta", "e cig", "ecig",
-        "disposable vape", "vape jetable", "einweg vape", "vape descartavel",
+        "disposable vape", "vape jetable", "einweg vape", "vape descartavel", "nikotinsalz",
+        "nic salt", "nicotine salt", "sel de nicotine", "sales de nicotina", "sali di nicotina",
+        "nicotinezout", "sais de nicotina",
     ),
     "weapons": (
         "knife", "knives", "hunting knife", "pocket knife", "crossbow", "air rifle", "airgun",
@@ -105,7 +109,9 @@ _KEYWORDS: dict[str, tuple[str, ...]] = {
         "butterflymesser", "kampfmesser", "wurfmesser", "luftdruckpistole", "luftdruckgewehr",
         "pistola de aire comprimido", "pistola de pressao", "pistola de pressao de ar",
         "carabina de pressao", "tactical knife", "couteau tactique", "coltello tattico",
-        "faca tatica", "cuchillo tactico",
+        "faca tatica", "cuchillo tactico", "fahrtenmesser", "besta", "karambit",
+        "balisong", "nunchaku", "brass knuckles", "knuckle duster", "schlagring",
+        "coup de poing americain", "tirapugni", "boksbeugel", "soqueira",
     ),
     "adult": (
         "adult toy", "adults only", "erotic", "erotique", "erotik", "erotico", "sex toy",
@@ -115,6 +121,8 @@ _KEYWORDS: dict[str, tuple[str, ...]] = {
         # inflected forms: "érotiques", "eróticos", "erotische"
         "erotiques", "eroticos", "eroticas", "erotiche", "erotische", "erotiek",
         "vibratoren", "vibradores", "vibratori", "vibrators", "vibromasseurs",
+        "dildo", "godemichet", "gode", "plug anal", "anal plug", "bondage", "strap on",
+        "fleshlight", "masturbator", "masturbateur", "kamasutra",
     ),
     "medicine": (
         "paracetamol", "ibuprofen", "ibuprofene", "aspirin", "aspirine", "antihistamine",
@@ -138,7 +146,7 @@ _PLAIN_KEYWORDS = frozenset(
         "facas ale gin rum ron sake cava vin wein vino vinho wijn korn port spirits alcohol "
         "alcool alkohol alcoholic alcolico medicine medicament medicamento medicinale farmaco "
         "geneesmiddel medicijn arzneimittel sword espada spada epee schwert zwaard catapult "
-        "katapult slingshot fionda machete shag trinciato"
+        "katapult slingshot fionda machete shag trinciato besta gode amaro"
     ).split()
 )
 
@@ -211,6 +219,47 @@ _NEGATIVE_CUES: tuple[str, ...] = (
     "chocolates", "pralines", "truffles", "gel douche", "duschgel", "gel de ducha",
     "bagnoschiuma", "douchegel", "gel de banho", "shampoing",
 )
+# Objects that a product can be while naming a drink, a smoke or a weapon as its motif or
+# material ("tobacco leaf wallpaper", "vodka bottle lamp", "jupe plissée couteau"); seven
+# languages, common practice, no source. They count only at the head of the title.
+_OBJECT_WORDS: tuple[str, ...] = (
+    "lamp", "wallpaper", "board", "cork board", "purse", "bag", "skirt", "dress", "shirt",
+    "t shirt", "socks", "mug", "coaster", "coasters",
+    "scrub", "body scrub", "lotion", "cream", "poster", "sign", "cushion", "pillow", "blanket",
+    "towel", "apron", "clock", "frame", "ornament", "magnet", "notebook", "puzzle", "wallet",
+    "belt", "boots", "jacket", "earrings", "necklace", "cufflinks", "rug", "curtain",
+    "curtains", "figurine", "charm", "pendant", "phone case", "tote",
+    "lampe", "papier peint", "tableau", "sac", "jupe", "robe", "chemise", "chaussettes",
+    "porte cles", "tasse", "sous verre", "gommage", "creme", "affiche", "coussin",
+    "couverture", "serviette", "tablier", "horloge", "cadre", "aimant", "carnet",
+    "portefeuille", "ceinture", "bottes", "collier", "tapis", "rideau",
+    "tapete", "tasche", "rock", "kleid", "hemd", "socken", "schlusselanhanger", "becher",
+    "untersetzer", "peeling", "poster", "kissen", "decke", "handtuch", "schurze", "rahmen",
+    "notizbuch", "geldborse", "gurtel", "stiefel", "ohrringe", "teppich", "vorhang",
+    "pinnwand",
+    "lampara", "papel pintado", "tablero", "bolso", "falda", "vestido", "camisa",
+    "calcetines", "llavero", "taza", "posavasos", "exfoliante", "crema", "cartel", "cojin",
+    "manta", "toalla", "delantal", "marco", "cuaderno", "cartera", "cinturon", "botas",
+    "pendientes", "alfombra", "cortina", "corcho",
+    "lampada", "carta da parati", "borsa", "gonna", "vestito", "camicia", "calzini",
+    "portachiavi", "tazza", "sottobicchiere", "cuscino", "coperta", "asciugamano",
+    "grembiule", "cornice", "quaderno", "portafoglio", "cintura", "stivali", "orecchini",
+    "collana", "tappeto", "tenda",
+    "behang", "prikbord", "tas", "rok", "jurk", "overhemd", "sokken", "sleutelhanger", "mok",
+    "onderzetter", "onderzetters", "kussen", "deken", "handdoek", "schort", "klok",
+    "portemonnee", "riem", "laarzen", "oorbellen", "ketting", "vloerkleed", "gordijn",
+    "candeeiro", "papel de parede", "quadro", "bolsa", "saia", "meias", "porta chaves",
+    "caneca", "base para copos", "esfoliante", "creme", "cartaz", "almofada", "toalha",
+    "avental", "moldura", "caderno", "carteira", "cinto", "brincos", "colar", "tapete",
+)
+_OBJECTS = PhraseIndex((word, "") for word in _OBJECT_WORDS)
+# Words before an object that make it an accessory of the product, not the product.
+_CONNECTORS = frozenset(
+    "with and avec et mit und con y met en com e plus".split()
+)
+_UNITS = frozenset("cl ml l g kg cm mm m x oz lbs pack pcs st stuck".split())
+_DIGIT = re.compile(r"\d")
+
 # How many words away a negative cue may stand ("gin and tonic candle", "caramelle al gusto
 # di rum": four words between the object and the drink it tastes of).
 _NEGATIVE_WINDOW = 4
@@ -222,7 +271,7 @@ _NEGATABLE = frozenset({"alcohol", "tobacco", "weapons"})
 
 # German and Dutch write compounds: "Weizenbier", "Kräuterlikör", "Pfeifentabak".
 _COMPOUND_ENDINGS: dict[str, str] = {
-    "vibrator": "adult",
+    "vibrator": "adult", "armbrust": "weapons", "kruisboog": "weapons",
     "bier": "alcohol", "likor": "alcohol", "likeur": "alcohol", "schnaps": "alcohol",
     "tabak": "tobacco", "zigarren": "tobacco", "zigaretten": "tobacco", "sigaren": "tobacco",
     "sigaretten": "tobacco",
@@ -258,9 +307,11 @@ _INDEX = _build_index()
 def restriction_hits(folded: str) -> list[tuple[str, str, bool]]:
     """Return the restriction keywords of a folded text as (restriction, keyword, strong).
 
-    Harmless phrases hide their words; a keyword with a negative cue within
-    :data:`_NEGATIVE_WINDOW` words (a flavour, a scent, a colour, a shape, a toy) is dropped.
-    ``strong`` is False for keywords too general to flag a product the tree left unrestricted.
+    Harmless phrases hide their words; a drink, smoke or weapon keyword is dropped when a
+    negative cue stands within :data:`_NEGATIVE_WINDOW` words (a scent, a colour, a shape, a
+    toy) or when the title names another object as its head ("tobacco leaf wallpaper",
+    "lampada a bottiglia di vodka": see :func:`_object_is_head`). ``strong`` is False for
+    keywords too general to flag a product the tree left unrestricted.
     """
     matches = _INDEX.find(folded)
     if _COMPOUND_QUICK.search(folded) is not None:
@@ -270,12 +321,6 @@ def restriction_hits(folded: str) -> list[tuple[str, str, bool]]:
         ]
     if not matches:
         return []
-    if len(matches) == 1:
-        # The common case: one phrase; nothing to choose between, nothing nearby to undo it.
-        _start, _end, key, payload = matches[0]
-        if not payload or payload == _NEGATIVE:
-            return []
-        return [(str(payload), key, key not in _PLAIN_KEYWORDS)]
     kept: list[tuple[int, int, str, object]] = []
     last_end = -1
     for match in sorted(matches, key=lambda m: (m[0], m[0] - m[1])):
@@ -283,20 +328,53 @@ def restriction_hits(folded: str) -> list[tuple[str, str, bool]]:
             continue
         last_end = match[1]
         kept.append(match)
-    negatives = [folded.count(" ", 0, m[0]) for m in kept if m[3] == _NEGATIVE]
+    negatives = [
+        (folded.count(" ", 0, m[0]), folded.count(" ", 0, m[1]))
+        for m in kept if m[3] == _NEGATIVE
+    ]
     hits: list[tuple[str, str, bool]] = []
     for start, end, key, payload in kept:
         if not payload or payload == _NEGATIVE:
             continue
-        if negatives and payload in _NEGATABLE:
+        if payload in _NEGATABLE:
             first = folded.count(" ", 0, start)
             last = folded.count(" ", 0, end)
             if any(
-                first - _NEGATIVE_WINDOW <= n <= last + _NEGATIVE_WINDOW for n in negatives
+                first - _NEGATIVE_WINDOW <= n_end and n_start <= last + _NEGATIVE_WINDOW
+                for n_start, n_end in negatives
             ):
+                continue
+            if _object_is_head(folded, first, last):
                 continue
         hits.append((str(payload), key, key not in _PLAIN_KEYWORDS))
     return hits
+
+
+def _object_is_head(folded: str, first: int, last: int) -> bool:
+    """Whether the title is about another object: an object noun stands at the head of the
+    title (its last word, as in English "vodka bottle lamp", or its first, as in Romance
+    languages "lampada a bottiglia di vodka"), apart from the keyword at tokens first..last,
+    and is not an accessory ("knife with case", "coffret whisky et deux verres")."""
+    objects = _OBJECTS.find(folded)
+    if not objects:
+        return False
+    tokens = folded.split(" ")
+    end = len(tokens) - 1
+    while end > 0 and (_DIGIT.search(tokens[end]) or tokens[end] in _UNITS):
+        end -= 1
+    for start_char, end_char, _key, _payload in objects:
+        o_first = folded.count(" ", 0, start_char)
+        o_last = folded.count(" ", 0, end_char)
+        if o_first <= last and first <= o_last:
+            continue  # the object word is part of the keyword's phrase
+        if o_first != 0 and o_last != end:
+            continue
+        if o_first > 0 and (
+            tokens[o_first - 1] in _CONNECTORS or _DIGIT.search(tokens[o_first - 1])
+        ):
+            continue
+        return True
+    return False
 
 
 def restriction_from_text_folded(folded: str, *, strong_only: bool = False) -> tuple[str, str]:
