@@ -191,3 +191,12 @@ def test_never_raises_on_any_strings(rows: list[tuple[str, str]], title: str) ->
     learner = FeedBrandLearner(min_products=1, min_groups=1).fit(products)
     learner.find_in_title(title)
     learner.resolve_field(title)
+
+
+def test_the_learned_registry_keeps_departments_of_the_brand_field() -> None:
+    products = [
+        Product(str(i), f"Item {i}", brand="Quillar", category_path=(dept,))
+        for i, dept in enumerate(["Home", "Home", "Garden"])
+    ]
+    brand = FeedBrandLearner().fit(products).registry_.resolve("quillar")
+    assert brand is not None and brand.departments == {"Home": 2, "Garden": 1}

@@ -195,3 +195,20 @@ def test_any_spellings_round_trip_and_resolve(pairs: list[tuple[str, str]]) -> N
         brand = registry.resolve(spelling)
         assert brand is None or brand.name
     assert BrandRegistry.from_dict(registry.to_dict()).to_dict() == registry.to_dict()
+
+
+def test_feed_registries_merge_into_the_project_and_typos_join_across_feeds() -> None:
+    first, second = BrandRegistry(), BrandRegistry()
+    first.observe("Benchlow", feed="f1", count=30, department="1000")
+    second.observe("Benchlov", feed="f2", count=3, department="1000")
+    second.observe("Orvanti", feed="f2", count=2)
+    second.confirm("Orvanti")
+    project = BrandRegistry()
+    project.update(first)
+    project.update(second)
+    assert project.cluster_typos() == [("Benchlov", "Benchlow")]
+    benchlow = project.resolve("Benchlov")
+    assert benchlow is not None
+    assert (benchlow.feeds, benchlow.departments) == ({"f1": 30, "f2": 3}, {"1000": 33})
+    assert benchlow.sources == {"brand field": 33}
+    assert [b.name for b in project.brands(CONFIRMED)] == ["Orvanti"]

@@ -245,6 +245,7 @@ class FeedBrandLearner:
         node_iter: Iterator[str | None] | None = iter(nodes) if nodes is not None else None
         fields: dict[str, _Seen] = {}
         field_departments: dict[str, set[str]] = {}
+        department_counts: dict[str, Counter[str]] = {}  # brand key → department → products
         patterns: dict[tuple[str, str], _Seen] = {}
         leads: dict[str, _Seen] = {}
         children: dict[str, set[str]] = {}
@@ -265,6 +266,8 @@ class FeedBrandLearner:
                 departments = field_departments.setdefault(key, set())
                 if len(departments) < 64:
                     departments.add(department)
+                if department:
+                    department_counts.setdefault(key, Counter())[department] += 1
             title_words = product.title.split()
             for word in title_words[1:]:
                 if word[:1].islower():
@@ -305,9 +308,13 @@ class FeedBrandLearner:
                     dictionary_counts[known] += seen.count
         for key, seen in fields.items():
             own = self._own_spelling(key, seen.count, dictionary_counts)
+            brand = None
             for spelling, n in seen.spellings.items():
-                registry.observe(spelling, feed=self.feed, source="brand field", count=n,
-                                 dictionary_typos=not own)
+                brand = registry.observe(spelling, feed=self.feed, source="brand field", count=n,
+                                         dictionary_typos=not own)
+            if brand is not None:
+                for department, n in department_counts.get(key, Counter()).items():
+                    brand.departments[department] = brand.departments.get(department, 0) + n
         learned: dict[str, tuple[str, int]] = {}  # key → (pattern, products)
         for (pattern, key), seen in patterns.items():
             if key == retailer_key:

@@ -330,6 +330,28 @@ class BrandRegistry:
         brand.status = CONFIRMED
         return brand
 
+    def update(self, other: BrandRegistry) -> None:
+        """Add everything another registry saw (a feed's, into the project's).
+
+        Each variant is observed with its counts per feed; departments and sources are
+        added; a brand confirmed in either stays confirmed. Call :meth:`cluster_typos`
+        afterwards to join typos across feeds.
+        """
+        for brand in other.brands():
+            joined: RegistryBrand | None = None
+            for variant in brand.variants.values():
+                for feed, n in variant.feeds.items():
+                    joined = self.observe(variant.spelling, feed=feed, source="", count=n)
+            if joined is None:
+                continue
+            joined.sources.pop("", None)
+            for department, n in brand.departments.items():
+                joined.departments[department] = joined.departments.get(department, 0) + n
+            for where, n in brand.sources.items():
+                joined.sources[where] = joined.sources.get(where, 0) + n
+            if brand.status == CONFIRMED:
+                joined.status = CONFIRMED
+
     # -- typo clusters -----------------------------------------------------------------------
 
     def cluster_typos(self) -> list[tuple[str, str]]:
