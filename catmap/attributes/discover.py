@@ -308,13 +308,9 @@ class FeedBrandLearner:
                     dictionary_counts[known] += seen.count
         for key, seen in fields.items():
             own = self._own_spelling(key, seen.count, dictionary_counts)
-            brand = None
             for spelling, n in seen.spellings.items():
-                brand = registry.observe(spelling, feed=self.feed, source="brand field", count=n,
-                                         dictionary_typos=not own)
-            if brand is not None:
-                for department, n in department_counts.get(key, Counter()).items():
-                    brand.departments[department] = brand.departments.get(department, 0) + n
+                registry.observe(spelling, feed=self.feed, source="brand field", count=n,
+                                 dictionary_typos=not own)
         learned: dict[str, tuple[str, int]] = {}  # key → (pattern, products)
         for (pattern, key), seen in patterns.items():
             if key == retailer_key:
@@ -337,6 +333,13 @@ class FeedBrandLearner:
             for spelling, n in seen.spellings.items():
                 registry.observe(spelling, feed=self.feed, source=f"title {pattern}", count=n)
         self.typo_joins_ = registry.cluster_typos()
+        # Departments are added after the typos are joined: within one feed they are the
+        # retailer's own categories, too uneven to keep a typo apart from its brand.
+        for key, counts in department_counts.items():
+            found = registry.resolve(key)
+            if found is not None:
+                for department, n in counts.items():
+                    found.departments[department] = found.departments.get(department, 0) + n
         self.registry_ = registry
         self.learned_ = {key: registry.canonical(key) for key in learned}
         self._blocks: dict[str, list[str]] = {}
