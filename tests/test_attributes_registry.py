@@ -60,7 +60,8 @@ def test_spellings_join_and_the_most_frequent_clean_spelling_is_shown() -> None:
     assert len(registry) == 1
     brand = registry.resolve("bench low")
     assert brand is not None
-    # "Benchlow" (3 + 2 = 5) ties "BENCHLOW" (5): the mixed-case spelling wins the tie.
+    # "BENCHLOW" (5) and "Benchlow" (3 + 2) are one spelling in two cases (10 of 12): shown
+    # in mixed case.
     assert brand.name == "Benchlow"
     assert brand.count == 12
     assert brand.status == CANDIDATE
@@ -212,3 +213,12 @@ def test_feed_registries_merge_into_the_project_and_typos_join_across_feeds() ->
     assert (benchlow.feeds, benchlow.departments) == ({"f1": 30, "f2": 3}, {"1000": 33})
     assert benchlow.sources == {"brand field": 33}
     assert [b.name for b in project.brands(CONFIRMED)] == ["Orvanti"]
+
+
+def test_case_variants_count_together_and_show_in_mixed_case() -> None:
+    registry = BrandRegistry()
+    registry.observe("ASH MILL", count=6)
+    registry.observe("ash mill", count=5)
+    registry.observe("Ash Mill", count=2)
+    registry.observe("Ash-Mill", count=7)  # the most frequent single way, but 7 < 13
+    assert registry.canonical("ashmill") == "Ash Mill"

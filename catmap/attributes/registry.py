@@ -164,8 +164,11 @@ class RegistryBrand:
         """The name to show: the dictionary's, else the most frequent clean spelling (marks
         and company forms removed; a partnership ending such as "& Co." kept).
 
-        Ties go to a spelling in mixed case ("Benchlow" over "BENCHLOW" and "benchlow"), then
-        to the shorter, then alphabetically, so the choice never depends on arrival order.
+        Spellings that differ only in case count together ("BENCHLOW", "benchlow" and
+        "Benchlow" are one spelling written three ways); the way shown is the most frequent
+        one in mixed case, since feeds shout or lower-case whole titles and fields, not the
+        brand alone. Remaining ties go to the shorter, then alphabetically, so the choice
+        never depends on arrival order.
         """
         if self.dictionary_name:
             return self.dictionary_name
@@ -176,9 +179,13 @@ class RegistryBrand:
                 tally[shown] = tally.get(shown, 0) + variant.count
         if not tally:
             return self.name
+        by_letters: dict[str, int] = {}
+        for shown, n in tally.items():
+            by_letters[shown.casefold()] = by_letters.get(shown.casefold(), 0) + n
+        letters = min(by_letters, key=lambda k: (-by_letters[k], len(k), k))
         return min(
-            tally,
-            key=lambda s: (-tally[s], s.isupper() or s.islower(), len(s), s),
+            (s for s in tally if s.casefold() == letters),
+            key=lambda s: (s.isupper() or s.islower(), -tally[s], s),
         )
 
     def to_dict(self) -> dict[str, Any]:
