@@ -8,7 +8,12 @@ import pytest
 from hypothesis import given
 from hypothesis import strategies as st
 
-from catmap.attributes import AttributeExtractor, BrandDictionary, extract_audience
+from catmap.attributes import (
+    AttributeExtractor,
+    BrandDictionary,
+    extract_audience,
+    is_personal_item,
+)
 from catmap.records import AGE_VALUES, WHO_VALUES, Product
 from catmap.tree.taxonomy import CategoryTree, load_tree
 
@@ -332,3 +337,132 @@ def test_a_baby_word_in_the_shop_path_does_not_outvote_the_product(
     path = ("Enfant", "Sécurité bébé", "Babyphone")
     attributes = extractor.extract(Product("1", title, category_path=path, size=size), "4011")
     assert attributes.age == age
+
+
+# -- seven languages, personal items, traps -------------------------------------------------
+
+
+@pytest.mark.parametrize(
+    ("title", "who", "age"),
+    [
+        ("Maglione di lana da donna", "female", "adult"),
+        ("Camicia uomo in lino", "male", "adult"),
+        ("Vestito bambina a fiori", "female", "kids"),
+        ("Body neonato in cotone", None, "baby"),
+        ("Damesjas van wol", "female", "adult"),
+        ("Herenoverhemd katoen", "male", "adult"),
+        ("Meisjesjurk met print", "female", "kids"),
+        ("Regenjas voor kinderen", None, "kids"),
+        ("Casaco de mulher em lã", "female", "adult"),
+        ("Camisa de homem", "male", "adult"),
+        ("Vestido menina", "female", "kids"),
+        ("Ténis unissex", "unisex", None),
+        ("T-shirt uniseks", "unisex", None),
+        ("Pigiama bambini 4 anni", None, "kids"),
+        ("Rompertje 6 maanden", None, "baby"),
+    ],
+)
+def test_cues_in_italian_dutch_and_portuguese(title: str, who: str | None, age: str | None) -> None:
+    got_who, got_age = _apparel(title=title)
+    if who is not None:
+        assert got_who == who
+    if age is not None:
+        assert got_age == age
+
+
+# Traps: words that hold "man", "lady", "for him / for her", kids' sizes. Common practice, no
+# source; each row is a case a reviewer would mark.
+@pytest.mark.parametrize(
+    ("title", "size", "who", "age"),
+    [
+        ("Spider-Man graphic tee", "", "unisex", "adult"),
+        ("Iron Man hoodie", "", "unisex", "adult"),
+        ("Lady finger print jeans", "", "unisex", "adult"),
+        ("Man-made fibre jumper", "", "unisex", "adult"),
+        ("Baby pink hoodie", "", "unisex", "adult"),
+        ("Hoodie, age 4-5", "", "unisex", "kids"),
+        ("Jeans", "116 cm", "unisex", "kids"),
+        ("Jeans", "8 ans", "unisex", "kids"),
+        ("Jeans, 2 anni di garanzia", "", "unisex", "adult"),
+        ("Girls' night out jeans", "", "unisex", "adult"),
+    ],
+)
+def test_trap_table_on_an_apparel_node(
+    extractor: AttributeExtractor, title: str, size: str, who: str, age: str
+) -> None:
+    got = extractor.extract(Product("1", title, size=size), "1021")
+    assert (got.who, got.age) == (who, age), got.audience_evidence
+
+
+@pytest.mark.parametrize(
+    "title", ["Gift set for him: mug and coaster", "Gift for her: bath salts", "Gift for him"]
+)
+def test_for_him_for_her_gift_sets_where_gender_does_not_apply(
+    extractor: AttributeExtractor, title: str
+) -> None:
+    got = extractor.extract(Product("1", title), "2021")
+    assert (got.who, got.age) == ("not_applicable", "not_applicable")
+
+
+def test_a_brand_holding_man_or_lady_does_not_speak_for_the_product(
+    extractor: AttributeExtractor,
+) -> None:
+    got = extractor.extract(Product("1", "Lady Corvell jeans"), "1021")
+    assert got.who == "unisex"
+
+
+PERSONAL_TREE = """\
+@tree-version 1
+5000 | - | Electronics | none | - | en: electronics | fr: électronique | de: Elektronik | es: x
+5100 | 5000 | Wearables | . | - | en: wearables | fr: x | de: x | es: x
+5101 | 5100 | Smartwatches | . | - | en: smartwatch | fr: montre connectée | de: x | es: x
+5104 | 5100 | Smartwatch bands | . | - | en: watch strap | fr: bracelet | de: Armband | es: x
+4000 | - | Home | none | - | en: home | fr: maison | de: Haus | es: casa
+4270 | 4000 | Cleaning | . | - | en: cleaning | fr: nettoyage | de: x | es: x
+4271 | 4270 | Vacuum cleaners | . | - | en: vacuum cleaner | fr: aspirateur | de: Sauger | es: x
+2000 | - | Accessories | none | - | en: accessories | fr: x | de: x | es: x
+2200 | 2000 | Rain | . | - | en: rain | fr: x | de: x | es: x
+2210 | 2200 | Umbrellas | . | - | en: umbrella | fr: parapluie | de: Regenschirm | es: paraguas
+6000 | - | Sports | none | - | en: sports | fr: sport | de: Sport | es: deporte
+6040 | 6000 | Cycling | . | - | en: cycling | fr: vélo | de: Radsport | es: x
+6047 | 6040 | Bike helmets | . | - | en: bike helmet | fr: casque vélo | de: Fahrradhelm | es: x
+"""
+
+
+@pytest.fixture(scope="module")
+def personal(tmp_path_factory: pytest.TempPathFactory) -> AttributeExtractor:
+    path = Path(tmp_path_factory.mktemp("tree")) / "tree.txt"
+    path.write_text(PERSONAL_TREE, encoding="utf-8")
+    return AttributeExtractor(brands=BrandDictionary([]), tree=load_tree(path))
+
+
+@pytest.mark.parametrize(
+    ("title", "node", "who", "age"),
+    [
+        ("Bracelet de montre connectée pour femme", "5104", "female", "adult"),
+        ("Smartwatch for women, 41 mm", "5101", "female", "adult"),
+        ("Damen Regenschirm", "2210", "female", "adult"),
+        ("Parapluie mixte", "2210", "unisex", "not_applicable"),
+        ("Men's cycling helmet", "6047", "male", "adult"),
+        ("Casco bici da donna", "6047", "female", "adult"),
+        ("Girls' bike helmet", "6047", "female", "kids"),
+        # Nothing said, or only a weak or age-only cue: no audience.
+        ("Folding umbrella", "2210", "not_applicable", "not_applicable"),
+        ("Umbrella gift for her", "2210", "not_applicable", "not_applicable"),
+        ("Kids bike helmet", "6047", "not_applicable", "not_applicable"),
+        # A vacuum cleaner is no one's: even a gender word does not give it an audience.
+        ("Cordless vacuum cleaner", "4271", "not_applicable", "not_applicable"),
+        ("Aspirateur balai pour homme pressé", "4271", "not_applicable", "not_applicable"),
+    ],
+)
+def test_an_explicit_cue_wins_where_the_product_is_worn_or_carried(
+    personal: AttributeExtractor, title: str, node: str, who: str, age: str
+) -> None:
+    got = personal.extract(Product("1", title), node)
+    assert (got.who, got.age) == (who, age), got.audience_evidence
+
+
+def test_the_personal_item_words_come_from_the_node_and_its_parent() -> None:
+    assert is_personal_item(["Folding umbrellas", "parapluie pliant"])
+    assert is_personal_item(["Bike helmets"])
+    assert not is_personal_item(["Vacuum cleaners", "aspirateur", "Sauger"])

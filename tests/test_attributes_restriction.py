@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import csv
 from pathlib import Path
 
 import pytest
@@ -19,6 +20,8 @@ from catmap.attributes.restriction import is_generic_node
 from catmap.records import Product
 from catmap.tree.taxonomy import CategoryTree, load_tree
 
+DATA = Path(__file__).parent / "data" / "restriction_labelled.csv"
+
 TREE = """\
 @tree-version 1
 1000 | - | Food and drink | none | - | en: food | fr: alimentation | de: Lebensmittel | es: x
@@ -30,6 +33,9 @@ TREE = """\
 2011 | 2010 | Gift sets | . | - | en: gift set | fr: coffret | de: Geschenkset | es: set de regalo
 2020 | 2000 | Kitchen | . | - | en: kitchen | fr: cuisine | de: Küche | es: cocina
 2021 | 2020 | Kitchen knives | . | - | en: kitchen knife | fr: couteau | de: Messer | es: x
+3000 | - | Leisure | none | tobacco | en: leisure | fr: x | de: x | es: x
+3010 | 3000 | Smoking | . | - | en: smoking | fr: x | de: x | es: x
+3011 | 3010 | Pipe tobacco | . | - | en: pipe tobacco | fr: x | de: x | es: x
 """
 
 
@@ -111,3 +117,93 @@ def test_never_raises_and_ignores_case_and_outer_spaces(text: str) -> None:
     assert plain[0] in RESTRICTIONS or plain[0] == ""
     if text.upper().lower() == text.lower():
         assert restriction_from_text(f"  {text.upper()} ")[0] == plain[0]
+
+
+# -- seven languages, negative cues, leaves ------------------------------------------------
+
+
+@pytest.mark.parametrize(
+    ("title", "restriction"),
+    [
+        ("Grappa di Barolo 70 cl", "alcohol"),
+        ("Coltello da caccia con fodero", "weapons"),
+        ("Paracetamolo 500 mg 20 compresse", "medicine"),
+        ("Sigari toscani confezione da 5", "tobacco"),
+        ("Jonge jenever 1 liter", "alcohol"),
+        ("Jachtmes met leren schede", "weapons"),
+        ("Pijnstiller extra sterk", "medicine"),
+        ("Vinho tinto Douro", "alcohol"),
+        ("Faca de caça com bainha", "weapons"),
+        ("Charutos cubanos caixa de 5", "tobacco"),
+        ("Weizenbier 20 x 0,5 l", "alcohol"),
+        ("Pfeifentabak 50 g", "tobacco"),
+        ("Vibratore ricaricabile", "adult"),
+    ],
+)
+def test_keywords_in_italian_dutch_and_portuguese(title: str, restriction: str) -> None:
+    assert restriction_from_text(title)[0] == restriction
+
+
+@pytest.mark.parametrize(
+    "title",
+    [
+        # The Italian false positives: "puro" is Spanish for a cigar, Italian for "pure".
+        "Padella antiaderente in alluminio puro 28 cm",
+        "Olio extravergine di oliva puro",
+        "Tablet 10 pollici", "Pad per mouse XXL",
+        # A flavour, scent, colour or shape named after a restricted good.
+        "Whisky-scented candle", "Tobacco brown leather belt", "Cigar-shaped USB lighter",
+        "Vodka-flavoured lip balm", "Bougie parfum whisky", "Ceinture couleur tabac",
+        "Candela profumata al whisky", "Caramelle al gusto di rum", "Geurkaars whisky",
+        "Cinto cor de tabaco", "Bourbon vanilla pods", "Toy sword foam", "Pesce spada fresco",
+        # Drinks without alcohol.
+        "Cerveza sin alcohol 0,0", "Birra analcolica 33 cl", "Alcoholvrij bier 0,0",
+        "Shag rug grey 160 x 230",
+    ],
+)
+def test_traps_are_not_flagged(title: str) -> None:
+    assert restriction_from_text(title) == ("", ""), restriction_from_text(title)
+
+
+@pytest.mark.parametrize(
+    ("title", "restriction"),
+    [
+        # A flavour word alone does not undo the drink or the smoke.
+        ("Raspberry flavoured vodka 70 cl", "alcohol"),
+        ("E-liquide parfum fraise 10 ml", "tobacco"),
+        # Negative cues undo drinks, smokes and weapons, not an adult product or a medicine.
+        ("Erotic massage candle", "adult"),
+    ],
+)
+def test_negative_cues_are_narrow(title: str, restriction: str) -> None:
+    assert restriction_from_text(title)[0] == restriction
+
+
+def test_an_unrestricted_leaf_still_reads_unmistakable_keywords(
+    extractor: AttributeExtractor,
+) -> None:
+    # The classifier put a hunting knife and a grappa on leaves the tree leaves unrestricted.
+    assert extractor.extract(Product("1", "Coltello da caccia"), "2021").restriction == "weapons"
+    assert extractor.extract(Product("2", "Grappa 70 cl"), "1012").restriction == "alcohol"
+    # General words still do not flag such a leaf.
+    assert extractor.extract(Product("3", "Chef knife 20 cm"), "2021").restriction == ""
+
+
+def test_a_restricted_node_yields_only_to_another_named_good(
+    extractor: AttributeExtractor,
+) -> None:
+    got = extractor.extract(Product("1", "Paracetamolo 500 mg compresse"), "3011")
+    assert got.restriction == "medicine"
+    assert extractor.extract(Product("2", "Robusto No. 4"), "3011").restriction == "tobacco"
+    assert extractor.extract(Product("3", "Tabacco e paracetamolo"), "3011").restriction == (
+        "tobacco"
+    )
+
+
+def test_the_labelled_set_covers_every_flag_in_seven_languages() -> None:
+    rows = list(csv.DictReader(DATA.open(encoding="utf-8", newline="")))
+    languages = {"en", "fr", "de", "es", "it", "nl", "pt"}
+    for flag in RESTRICTIONS:
+        assert {r["lang"] for r in rows if r["restriction"] == flag} == languages
+    assert {r["lang"] for r in rows if r["kind"] == "trap"} == languages
+    assert all(r["restriction"] == "" for r in rows if r["kind"] in ("trap", "plain"))

@@ -33,6 +33,7 @@ from catmap.attributes.audience import (
     extract_audience,
     extract_audience_folded,
     is_body_sized,
+    is_personal_item,
     read_cues,
 )
 from catmap.attributes.brand import (
@@ -55,10 +56,25 @@ from catmap.attributes.colour import (
     colour_family,
     colour_family_folded,
 )
+from catmap.attributes.discover import (
+    CANDIDATE_MARK,
+    FeedBrandLearner,
+    RetailerFinding,
+    TitleCandidate,
+    brand_is_candidate,
+)
+from catmap.attributes.registry import (
+    BrandRegistry,
+    BrandVariant,
+    RegistryBrand,
+    brand_key,
+    clean_spelling,
+)
 from catmap.attributes.restriction import (
     RESTRICTION_CAUTION,
     RESTRICTIONS,
     is_generic_node,
+    restriction_for_node,
     restriction_from_text,
     restriction_from_text_folded,
 )
@@ -68,6 +84,16 @@ if TYPE_CHECKING:
     from catmap.tree.taxonomy import CategoryTree
 
 __all__ = [
+    "CANDIDATE_MARK",
+    "BrandRegistry",
+    "BrandVariant",
+    "FeedBrandLearner",
+    "RegistryBrand",
+    "RetailerFinding",
+    "TitleCandidate",
+    "brand_is_candidate",
+    "brand_key",
+    "clean_spelling",
     "FAMILIES",
     "FUZZY_THRESHOLD",
     "LEGAL_SUFFIXES",
@@ -94,7 +120,9 @@ __all__ = [
     "colour_family_folded",
     "extract_audience_folded",
     "is_body_sized",
+    "is_personal_item",
     "read_cues",
+    "restriction_for_node",
     "restriction_from_text",
     "restriction_from_text_folded",
 ]
@@ -114,6 +142,7 @@ class _NodeFacts:
     restriction: str | None
     read_keywords: bool  # the node cannot say: read restriction keywords
     body_sizes: bool  # apparel / footwear (or unknown): heights and shoe sizes say kids / baby
+    said_only: bool  # no audience by default, but worn or carried: an explicit cue decides
 
 
 class AttributeExtractor:
@@ -123,6 +152,10 @@ class AttributeExtractor:
         brands: the brand dictionary.
         tree: the category tree the node ids belong to (None: decide from the text only).
         retailer_names: the retailer's own names; a brand field holding one counts as empty.
+        feed_brands: a :class:`FeedBrandLearner` fitted on this feed: brands no dictionary
+            knows are then found too (marked as candidates until confirmed), field spellings
+            resolve to the feed's canonical brand, and the retailer's own name found in the
+            feed counts as empty when the learner's setting says so.
 
     Example:
         >>> extractor = AttributeExtractor(brands=BrandDictionary([]), tree=None)
@@ -136,10 +169,12 @@ class AttributeExtractor:
         brands: BrandDictionary,
         tree: CategoryTree | None,
         retailer_names: Iterable[str] = (),
+        feed_brands: FeedBrandLearner | None = None,
     ) -> None:
         self.brands = brands
         self.tree = tree
         self.retailer_names = tuple(retailer_names)
+        self.feed_brands = feed_brands
         self._finder = BrandFinder(
             brands, retailer_names=self.retailer_names, fuzzy_skip=_ATTRIBUTE_WORDS
         )
@@ -151,20 +186,43 @@ class AttributeExtractor:
         facts = self._nodes.get(node_id)
         if facts is None:
             if node_id is None or self.tree is None or node_id not in self.tree:
-                facts = _NodeFacts(None, None, None, True, True)
+                facts = _NodeFacts(None, None, None, True, True, False)
             else:
                 tree = self.tree
                 node = tree[node_id]
                 generic = is_generic_node(node.name)
+                who, ages = tree.who(node_id), tree.ages(node_id)
+                words = tree.all_terms(node_id)
+                if node.parent:
+                    words += tree.all_terms(node.parent)
                 facts = _NodeFacts(
-                    tree.who(node_id),
-                    tree.ages(node_id),
+                    who,
+                    ages,
                     tree.restriction(node_id),
                     generic or not tree.is_leaf(node_id),
                     is_body_sized(tree.all_terms(tree.department(node_id).id)),
+                    not who and not ages and is_personal_item(words),
                 )
             self._nodes[node_id] = facts
         return facts
+
+    @staticmethod
+    def _from_feed_field(
+        value: str, match: BrandMatch, learner: FeedBrandLearner
+    ) -> BrandMatch | None:
+        """Let what the feed taught override the dictionary's guess for a brand field value:
+        an unknown value resolves to the feed's canonical brand, and a value the dictionary
+        took as a typo stays the feed's own brand when the feed writes it that way often."""
+        if learner.retailer_as_no_brand and learner.is_retailer(value):
+            return None
+        if match.evidence.startswith(("field not in dictionary", "field fuzzy")):
+            resolved = learner.resolve_field(value)
+            if resolved is not None and (
+                match.evidence.startswith("field not in dictionary")
+                or resolved.brand != match.brand
+            ):
+                return resolved
+        return match
 
     def extract(self, product: Product, node_id: str | None) -> Attributes:
         """Return the attributes of one product mapped to ``node_id`` (None: not mapped yet)."""
@@ -173,7 +231,10 @@ class AttributeExtractor:
         folded_description = ""
 
         # brand
+        learner = self.feed_brands
         match = self._finder.from_field(product.brand) if product.brand else None
+        if match is not None and learner is not None:
+            match = self._from_feed_field(product.brand, match, learner)
         if match is not None:
             spans = tuple(
                 (s, e)
@@ -181,7 +242,18 @@ class AttributeExtractor:
                 if name == match.brand
             )
         else:
-            match = self._finder.from_text(folded_title, "title", product.title)
+            if learner is None:
+                match = self._finder.from_text(folded_title, "title", product.title)
+            else:
+                # Exact before fuzzy: a spelling the feed taught beats a dictionary brand one
+                # letter away, and spares the fuzzy look-ups for the feed's own brands.
+                match = self._finder.from_text(folded_title, "title", fuzzy=False)
+                if match is None:
+                    match = learner.find_in_title(product.title, folded_title, typos=False)
+                if match is None:
+                    match = self._finder.fuzzy_in_title(folded_title, product.title)
+                if match is None:
+                    match = learner.find_in_title(product.title, folded_title)
             if match is None and product.description:
                 folded_description = fold(product.description)
                 found = self._finder.from_text(folded_description, "description")
@@ -223,6 +295,7 @@ class AttributeExtractor:
             allowed_who=facts.who,
             allowed_ages=facts.ages,
             body_sizes=facts.body_sizes,
+            said_only=facts.said_only,
         )
 
         # colour
@@ -239,11 +312,11 @@ class AttributeExtractor:
             colour = colour_family_folded("", title_without_brand)
 
         # restriction
-        restriction = facts.restriction or ""
-        if not restriction and facts.read_keywords:
-            restriction, _why = restriction_from_text_folded(
-                f"{title_without_brand} {folded_path}".strip()
-            )
+        restriction = restriction_for_node(
+            facts.restriction or "",
+            facts.read_keywords,
+            f"{title_without_brand} {folded_path}".strip(),
+        )
 
         return Attributes(
             brand=match.brand,

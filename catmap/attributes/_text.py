@@ -21,8 +21,9 @@ _MARKS = re.compile(r"[®™©℠]")
 _AND = re.compile(r"\s*[&+]\s*")
 _NON_WORD = re.compile(r"[^0-9a-z]+")
 # Letters NFKD does not decompose into a base letter plus a mark.
-# A trade mark written in letters and glued to the name: "KentonTM", "Priso(R)".
-_GLUED_MARK = re.compile(r"(?<=[a-z])TM\b|\((?:TM|tm|R|r|C|c)\)")
+# A trade mark written in letters and glued to the name: "KentonTM", "KENTONTM", "Priso(R)"
+# (after two capitals only, so that "ATM" stays a word).
+_GLUED_MARK = re.compile(r"(?<=[a-z])TM\b|(?<=[A-Z]{2})TM\b|\((?:TM|tm|R|r|C|c)\)")
 _SPECIAL = str.maketrans({"ß": "ss", "ø": "o", "æ": "ae", "œ": "oe", "ł": "l", "đ": "d", "ı": "i"})
 
 

@@ -35,8 +35,9 @@ ALL_AGES = frozenset({ADULT, KIDS, BABY})
 
 STRONG, WEAK, TRAP = "strong", "weak", "trap"
 
-# (who, age, strength) per phrase, four languages. Matching is on folded text (no case, no
-# accents, no apostrophes), so "Men's", "mens" and "MENS" are one entry.
+# (who, age, strength) per phrase, seven languages (en, fr, de, es, it, nl, pt). Matching is
+# on folded text (no case, no accents, no apostrophes), so "Men's", "mens" and "MENS" are one
+# entry.
 _CUES: dict[tuple[str | None, str | None, str], tuple[str, ...]] = {
     (FEMALE, ADULT, STRONG): (
         "women", "womens", "woman", "ladies", "lady", "wmns", "wmn", "wms", "womenswear",
@@ -44,21 +45,36 @@ _CUES: dict[tuple[str | None, str | None, str], tuple[str, ...]] = {
         "femme", "femmes", "pour femme", "dame", "dames",
         "damen", "fur damen", "frauen", "frau",
         "mujer", "mujeres", "de mujer", "para mujer", "senora", "senoras", "dama",
+        "donna", "donne", "da donna", "per donna", "signora",
+        "voor dames", "vrouwen", "vrouw",
+        "mulher", "mulheres", "para mulher", "de mulher", "feminino", "feminina", "senhora",
+        "senhoras",
     ),
     (MALE, ADULT, STRONG): (
         "men", "mens", "mns", "man", "gents", "menswear", "male", "gentlemen", "gentleman",
         "homme", "hommes", "pour homme",
         "herren", "fur herren", "manner",
         "hombre", "hombres", "de hombre", "para hombre", "caballero", "caballeros",
+        "uomo", "uomini", "da uomo", "per uomo",
+        "heren", "voor heren", "mannen",
+        "homem", "homens", "para homem", "de homem", "masculino", "masculina",
     ),
-    (UNISEX, None, STRONG): ("unisex", "unisexe", "mixte", "unisex adult", "unisex adulto"),
+    (UNISEX, None, STRONG): (
+        "unisex", "unisexe", "mixte", "unisex adult", "unisex adulto", "uniseks", "unissex",
+    ),
     (FEMALE, KIDS, STRONG): (
         "girls", "girl", "girlswear", "fille", "filles", "pour fille", "fillette",
         "madchen", "nina", "ninas", "de nina", "para nina",
+        "bambina", "bambine", "ragazza", "ragazze",
+        "meisje", "meisjes", "voor meisjes",
+        "menina", "meninas", "rapariga", "raparigas",
     ),
     (MALE, KIDS, STRONG): (
         "boys", "boy", "boyswear", "garcon", "garcons", "pour garcon",
         "jungen", "junge", "knaben", "nino", "de nino", "para nino",
+        "bambino", "ragazzo",
+        "jongen", "jongens", "voor jongens",
+        "menino", "meninos", "rapaz", "rapazes",
     ),
     (None, KIDS, STRONG): (
         "kids", "kid", "kidswear", "children", "childrens", "child", "junior", "juniors",
@@ -66,21 +82,31 @@ _CUES: dict[tuple[str | None, str | None, str], tuple[str, ...]] = {
         "enfant", "enfants", "pour enfant", "junior",
         "kinder", "fur kinder", "kleinkind",
         "ninos", "infantil", "para ninos", "juvenil",
+        "bambini", "per bambini", "bimbi", "bimbo",
+        "kinderen", "voor kinderen", "peuter", "peuters",
+        "crianca", "criancas", "para criancas", "para crianca",
     ),
     (None, BABY, STRONG): (
         "baby", "babys", "infant", "infants", "newborn", "new born",
         "bebe", "bebes", "naissance", "nourrisson",
         "saugling", "neugeborene", "erstlings",
         "recien nacido", "bebes",
+        "neonato", "neonata", "neonati", "prima infanzia",
+        "pasgeboren", "zuigeling",
+        "recem nascido", "recem nascida",
     ),
     # Weak cues: a style or a gift, not a statement of whom the item fits.
     (FEMALE, None, WEAK): (
         "boyfriend", "for her", "pour elle", "fur sie", "para ella", "gift for her",
         "cadeau pour elle", "geschenk fur sie", "regalo para ella",
+        "per lei", "regalo per lei", "voor haar", "cadeau voor haar", "para ela",
+        "presente para ela",
     ),
     (MALE, None, WEAK): (
         "for him", "pour lui", "fur ihn", "gift for him", "cadeau pour lui",
         "geschenk fur ihn", "regalo para el",
+        "per lui", "regalo per lui", "voor hem", "cadeau voor hem", "para ele",
+        "presente para ele",
     ),
     # "babies" is also a French shoe style (strap shoes): it counts only when nothing else
     # speaks for the age and the node allows babies.
@@ -93,6 +119,12 @@ _CUES: dict[tuple[str | None, str | None, str], tuple[str, ...]] = {
         "madelsabend", "noche de chicas", "boys night", "man made", "man made fibre",
         "bebe fille", "bebe garcon",  # handled by the two cues below
         "baby girl", "baby boy", "baby girls", "baby boys", "nina bebe", "nino bebe",
+        "azzurro bebe", "babyroze", "babyblauw", "azul bebe", "cor de rosa bebe",
+        "serata tra ragazze", "meidenavond", "noite das meninas",
+        # names and dishes holding a gender word
+        "lady finger", "lady fingers", "ladies finger", "ladies fingers", "lady bug",
+        "spider man", "iron man", "pac man", "he man", "snow man", "dame blanche",
+        "notre dame", "old man", "gingerbread man",
     ),
 }
 # Phrases that map to both a who and the baby age (override the trap list above).
@@ -101,13 +133,21 @@ _BABY_PAIRS: dict[str, str] = {
     "bebe garcon": MALE, "baby boy": MALE, "baby boys": MALE, "nino bebe": MALE,
 }
 
-# German compounds: "Damenjacke", "Herrenschuhe", "Kinderhose", "Mädchenkleid", "Babybody".
-_COMPOUND = re.compile(r"\b(damen|herren|kinder|madchen|jungen|baby)([a-z]{3,})\b")
+# German and Dutch compounds: "Damenjacke", "Herrenschuhe", "Kinderhose", "Mädchenkleid",
+# "Babybody", "damesjas", "herenhorloge", "meisjesjurk", "jongensschoenen".
+_COMPOUND = re.compile(
+    r"\b(damen|herren|kinder|madchen|jungen|baby|dames|heren|meisjes|jongens)([a-z]{3,})\b"
+)
 _COMPOUND_CUES = {
     "damen": (FEMALE, ADULT), "herren": (MALE, ADULT), "kinder": (None, KIDS),
     "madchen": (FEMALE, KIDS), "jungen": (MALE, KIDS), "baby": (None, BABY),
+    "dames": (FEMALE, ADULT), "heren": (MALE, ADULT), "meisjes": (FEMALE, KIDS),
+    "jongens": (MALE, KIDS),
 }
-_COMPOUND_EXCEPTIONS = frozenset({"babyblau", "babyrosa", "babydoll", "kindergarten"})
+# Substrings that must be there for a compound to be (a cheap test before the pattern).
+_COMPOUND_EXCEPTIONS = frozenset(
+    {"babyblau", "babyrosa", "babydoll", "kindergarten", "babyblauw", "babyroze", "herenhuis"}
+)
 
 # Single letters and abbreviations only a gender column uses (folded: "Hr." → "hr"). They
 # are too ambiguous in running text ("24 hr", "vitamin D", Spanish "da"); common practice,
@@ -133,18 +173,23 @@ _COLUMN_PAIRS: dict[tuple[str, str], tuple[str | None, str | None]] = {
 _BABY_HEIGHTS = frozenset({62, 68, 74, 80, 86})
 _BABY_HEIGHTS_SAID = _BABY_HEIGHTS | {50, 56}
 _KIDS_HEIGHTS = frozenset(range(92, 177, 6))
-_MONTHS = r"(?:months?|mths?|mois|monate?n?|meses|mes)"
-_YEARS = r"(?:ans?|jahren?|anos?|years?(?:\sold)?|yrs?|y|j)"
-# "2 years warranty", "2 ans de garantie" are not ages.
-_NOT_AN_AGE = r"(?!\s(?:de\s)?(?:warranty|guarantee|garantie|garantia|gewahrleistung))"
-_SIZE_WORD = r"(?:gr|grosse|groesse|size|taille|talla|height|hauteur)"
+_MONTHS = r"(?:months?|mths?|mois|monate?n?|meses|mes|mesi|maanden|mnd)"
+_YEARS = r"(?:ans?|jahren?|anos?|anni|jaar|years?(?:\sold)?|yrs?|y|j)"
+# "2 years warranty", "2 ans de garantie", "2 anni di garanzia" are not ages.
+_NOT_AN_AGE = (
+    r"(?!\s(?:de\s|di\s)?(?:warranty|guarantee|garantie|garantia|garanzia|gewahrleistung))"
+)
+_SIZE_WORD = r"(?:gr|grosse|groesse|size|taille|talla|taglia|maat|tamanho|height|hauteur)"
 _AGE_PATTERNS: tuple[tuple[re.Pattern[str], str], ...] = (
     # "3-6 months", "6-12 mois", "12-18M"
     (re.compile(rf"\b(\d{{1,2}})\s(?:to\s|a\s|bis\s)?(\d{{1,2}})\s?(?:{_MONTHS}|m)\b"), BABY),
     # "6 months", "18m"
     (re.compile(rf"\b(\d{{1,2}})(?:\s{_MONTHS}|m)\b"), BABY),
     (
-        re.compile(r"\b(?:age|ages|alter|edad|taille)\s(\d{1,2})(?:\s(?:to\s|a\s)?(\d{1,2}))?\b"),
+        re.compile(
+            r"\b(?:age|ages|alter|edad|eta|leeftijd|idade|taille)\s(\d{1,2})"
+            r"(?:\s(?:to\s|a\s|tot\s)?(\d{1,2}))?\b"
+        ),
         KIDS,
     ),
     # "8 ans", "7-8 years", "3-4Y"
@@ -174,8 +219,47 @@ _BODY_SIZED_WORDS = frozenset(
         "vetements", "habillement", "chaussures",
         "bekleidung", "kleidung", "schuhe", "schuhwerk",
         "ropa", "prendas", "calzado", "zapatos",
+        "abbigliamento", "calzature", "scarpe", "kleding", "schoenen", "vestuario", "roupa",
+        "calcado", "sapatos",
     }
 )
+
+
+# Things worn or carried by one person: where the tree says no audience applies to their node
+# (umbrellas, luggage, helmets, smartwatches, bike saddles), a product that says whom it is for
+# ("pour femme", "for women", "Damen", "mixte") is still for them. Words of node names and
+# terms, seven languages; common practice, no source.
+_PERSONAL_WORDS = frozenset(
+    fold(word)
+    for word in (
+        "strap straps band bands watch watches smartwatch smartwatches wristband helmet helmets "
+        "umbrella umbrellas parasol parasols brolly brollies bag bags backpack backpacks "
+        "rucksack rucksacks suitcase suitcases luggage holdall holdalls wallet wallets glove "
+        "gloves goggles sunglasses wetsuit wetsuits bike bikes bicycle bicycles saddle saddles "
+        "razor razors shaver shavers tracker trackers "
+        "bracelet bracelets casque casques parapluie parapluies ombrelle ombrelles sac sacs "
+        "valise valises bagages montre montres gants lunettes velo velos selle rasoir "
+        "armband armbander uhr uhren helm helme schirm schirme regenschirm regenschirme tasche "
+        "taschen koffer handschuhe brille fahrrad fahrrader sattel rasierer "
+        "correa correas reloj relojes casco cascos paraguas bolso bolsos bolsa mochila "
+        "mochilas maleta maletas guantes gafas bicicleta bicicletas sillin maquinilla "
+        "cinturino orologio orologi ombrello ombrelli borsa borse zaino valigia guanti occhiali "
+        "bici sella rasoio horlogeband horloge horloges paraplu tas tassen rugzak fiets zadel "
+        "pulseira relogio relogios capacete guarda chuva mala malas luvas oculos bicicleta "
+        "selim"
+    ).split()
+)
+
+
+def is_personal_item(node_words: Iterable[str]) -> bool:
+    """Return whether a node sells things worn or carried by one person (see above).
+
+    Args:
+        node_words: the node's name and terms, any language.
+    """
+    return any(
+        word in _PERSONAL_WORDS for term in node_words for word in fold(term).split()
+    )
 
 
 def is_body_sized(department_words: Iterable[str]) -> bool:
@@ -315,8 +399,9 @@ def read_cues(folded: str, *, column: bool = False) -> Cues:
             who.append((w, key))
         if a:
             age.append((a, key))
-    if "damen" in folded or "herren" in folded or "kinder" in folded or "jungen" in folded or (
-        "madchen" in folded or "baby" in folded
+    if (
+        "dame" in folded or "her" in folded or "kinder" in folded or "ngen" in folded
+        or "madchen" in folded or "meisje" in folded or "baby" in folded
     ):
         for found in _COMPOUND.finditer(folded):
             if found.group(0) in _COMPOUND_EXCEPTIONS:
@@ -594,8 +679,15 @@ def extract_audience_folded(
     allowed_who: frozenset[str] | None,
     allowed_ages: frozenset[str] | None,
     body_sizes: bool = True,
+    said_only: bool = False,
 ) -> Audience:
     """As :func:`extract_audience`, with title, path and description already folded.
+
+    ``said_only``: the node says no audience applies but its products are worn or carried by
+    one person (:func:`is_personal_item`): an explicit gender cue of the column or the title
+    ("pour femme", "Damen", "mixte", "girls") still decides, with the age its words carry; a
+    weak cue ("for her"), an age alone, a size, the path or the description do not, and with
+    no such cue the audience stays not applicable.
 
     Who comes from the title and the path together, else from the description. Age comes from
     the most product-specific source that says one: the title, then the size, then the path
@@ -603,6 +695,20 @@ def extract_audience_folded(
     description.
     """
     column = _column_cues(gender_text) if gender_text else _NO_CUES
+    if said_only and allowed_who is not None and not allowed_who and not allowed_ages:
+        # Only the product's own words: a retailer's aisle ("Bike bags and child seats") says
+        # nothing of this product, and an age alone ("kids sleeping bag") is a size.
+        said = read_cues(folded_title)
+        if column.who or said.who:
+            decided = _decide(
+                None, None, Cues(column.who, column.age), Cues(said.who, said.age),
+                None, _column_text(gender_text) if gender_text else "",
+            )
+            return Audience(
+                decided.who, decided.age,
+                f"node: audience only when said; {decided.evidence}",
+                decided.conflict, decided.who_confidence, decided.age_confidence,
+            )
     folded_size, size_age = _size_facts(size, body_sizes) if size else ("", None)
     title = read_cues(f"{folded_title} {folded_size}") if folded_size else read_cues(folded_title)
     path = _path_cues(folded_path) if folded_path else _NO_CUES

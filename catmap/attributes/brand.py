@@ -27,13 +27,16 @@ from catmap.attributes._text import PhraseIndex, fold
 from catmap.errors import InputError
 
 # Legal-form suffixes stripped from the end of a brand name, written as folded tokens
-# (dots and case already removed: "S.A.S." → "sas", "& Co" → "and co"). Written from memory of
-# common company forms in English, French, German, Spanish, Italian, Dutch and Nordic trade.
+# (dots and case already removed: "S.A.S." → "sas", "& Co" → "and co"). Company forms of the
+# markets of the seven languages (English, French, German, Spanish, Italian, Dutch,
+# Portuguese) and a few Nordic ones; common practice, no source.
 LEGAL_SUFFIXES: tuple[str, ...] = (
     "inc", "incorporated", "ltd", "limited", "llc", "llp", "lp", "plc", "corp", "corporation",
-    "co", "and co", "company", "gmbh", "gmbh and co kg", "ag", "kg", "kgaa", "ohg", "ug",
-    "sa", "sas", "sarl", "sasu", "eurl", "sl", "slu", "sau", "bv", "nv", "vof",
-    "srl", "spa", "snc", "oy", "oyj", "ab", "as", "aps", "pty", "pty ltd", "sro", "kft",
+    "co", "and co", "company", "gmbh", "gmbh and co kg", "ag", "kg", "kgaa", "ohg", "ug", "ek",
+    "mbh", "gbr", "sa", "sas", "sarl", "sasu", "eurl", "sca", "and cie", "et cie", "cie",
+    "sl", "slu", "sau", "sll", "y cia", "cia", "bv", "nv", "vof", "cv", "bvba",
+    "srl", "srls", "spa", "snc", "sapa", "lda", "ltda", "unipessoal lda", "eireli",
+    "oy", "oyj", "ab", "as", "aps", "pty", "pty ltd", "sro", "kft",
 )
 _SUFFIX_TOKENS = sorted((tuple(s.split()) for s in LEGAL_SUFFIXES), key=len, reverse=True)
 _SUFFIX_LAST = frozenset(s[-1] for s in _SUFFIX_TOKENS)
@@ -405,7 +408,9 @@ class BrandFinder:
         self._field_cache[value] = match
         return match if match.evidence else None
 
-    def from_text(self, folded: str, where: str, raw: str = "") -> BrandMatch | None:
+    def from_text(
+        self, folded: str, where: str, raw: str = "", *, fuzzy: bool = True
+    ) -> BrandMatch | None:
         """Find a brand in a folded title or description: exact pass, then fuzzy on the lead.
 
         Args:
@@ -413,6 +418,7 @@ class BrandFinder:
             where: "title" or "description", for the evidence.
             raw: the title as written; when given, capitalised words elsewhere in the title
                 are looked up fuzzily too once the lead finds nothing.
+            fuzzy: False to stop after the exact pass (see :meth:`fuzzy_in_title`).
         """
         mentions = self.dictionary.find_in_text(folded)
         if mentions:
@@ -421,8 +427,12 @@ class BrandFinder:
             confidence = TITLE_EXACT_CONFIDENCE if start == 0 else TITLE_EXACT_CONFIDENCE - 0.1
             spans = tuple((s, e) for s, e, _k, n in mentions if n == name)
             return BrandMatch(name, confidence, f"{where} exact '{key}'", spans)
-        if where != "title":
+        if where != "title" or not fuzzy:
             return None
+        return self.fuzzy_in_title(folded, raw)
+
+    def fuzzy_in_title(self, folded: str, raw: str = "") -> BrandMatch | None:
+        """The fuzzy passes of :meth:`from_text` alone: the lead, then capitalised words."""
         found = self._from_lead(folded)
         if found is None and raw:
             found = self._from_capitalised(raw, folded)
