@@ -650,7 +650,7 @@ def profile_for(department_name: str) -> Profile:
     """Return the modifier profile of a department, matched on its English name.
 
     Args:
-        department_name: the department's display name, e.g. "Home and kitchen".
+        department_name: the department's display name, e.g. "Cooking and home living".
 
     Returns:
         The matching :class:`Profile`; departments nothing matches get a generic one.
