@@ -46,7 +46,7 @@ def test_diff_json_between_shared_versions() -> None:
     rows = {row["old_id"]: row for row in facts["changes"]}
     # Change log line: rename 1530 | Trainers and sports shoes -> Trainers and sneakers
     assert rows["1530"]["change"] == "renamed"
-    assert rows["1530"]["new_paths"] == ["Footwear > Trainers and sneakers"]
+    assert rows["1530"]["new_paths"] == ["Shoes, boots and sandals > Trainers and sneakers"]
 
 
 def test_diff_of_a_missing_file_is_one_line() -> None:
