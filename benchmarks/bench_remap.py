@@ -165,6 +165,13 @@ def bench_demo(folder: Path, min_confidence: float, *, with_log: bool = False) -
     print(f"  re-scored            {report.rescored:,}")
     print(f"  back to review       {report.requeued:,}")
     print(f"  needed no review     {report.no_review_share:.2%}")
+    for kind in sorted(report.by_change):
+        if {"split", "merged", "removed"} & set(kind.split("+")):
+            counts = report.by_change[kind]
+            print(
+                f"  {kind:<20} {counts['products']:,} products: {counts['automatic']:,} moved "
+                f"as is, {counts['rescored']:,} re-scored, {counts['requeued']:,} to review"
+            )
     print(
         f"translatable gold      {len(keep):,} products "
         f"({len(labelled) - len(keep):,} under split nodes left out)"

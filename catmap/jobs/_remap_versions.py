@@ -10,8 +10,10 @@ would map the new feed and the remap's fate are both still open.
 from __future__ import annotations
 
 from collections.abc import Callable
+from pathlib import Path
 
 from catmap.errors import TreeVersionMismatch
+from catmap.jobs._remap_record import pending_remap
 from catmap.store import Store
 from catmap.tree.taxonomy import CategoryTree, load_default_tree
 
@@ -87,8 +89,6 @@ def check_one_version(store: Store, action: str) -> None:
     recorded = {v for v in feed_tree_versions(store).values() if v}
     if len(known | recorded) <= 1:
         return
-    from catmap.jobs._remap_record import pending_remap
-
     pending = pending_remap(store)
     hint = (
         "run `catmap remap` again to complete the remap, or `catmap remap-rollback`"
@@ -113,8 +113,6 @@ def check_onboarding(store: Store, tree_version: str) -> None:
         TreeVersionMismatch: a remap waits to be finalised or rolled back, or the store's
             mappings are on another version than ``tree_version``.
     """
-    from catmap.jobs._remap_record import pending_remap
-
     pending = pending_remap(store)
     if pending is not None:
         raise TreeVersionMismatch(
@@ -150,7 +148,7 @@ def tree_by_version(fallback: CategoryTree) -> Callable[[str], CategoryTree]:
     return tree_of
 
 
-def project_store_tree(project: object, store: Store, action: str) -> CategoryTree:
+def project_store_tree(project: str | Path, store: Store, action: str) -> CategoryTree:
     """Return the tree of the store's one version (the model's tree when nothing is stored).
 
     Args:
@@ -165,8 +163,6 @@ def project_store_tree(project: object, store: Store, action: str) -> CategoryTr
     version = store_tree_version(store)
     if version is not None:
         return load_default_tree(version)
-    from pathlib import Path
+    from catmap.jobs.onboard import project_tree  # onboarding imports this module
 
-    from catmap.jobs.onboard import project_tree
-
-    return project_tree(Path(str(project)))
+    return project_tree(project)

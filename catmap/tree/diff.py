@@ -392,9 +392,9 @@ def _splits_and_new_ids(
             continue
         explained.update(parts)
         scores = [links.found[(old_id, a)].score for a in parts]
-        siblings = _unlinked_siblings(links, parts, explained_new | explained) if len(
-            parts
-        ) == 1 and old.is_leaf(old_id) else []
+        siblings: list[str] = []
+        if len(parts) == 1 and old.is_leaf(old_id):
+            siblings = _unlinked_siblings(links, old_id, parts[0], explained_new | explained)
         if siblings:
             # One part found on its words and new nodes added beside it with none: ids are
             # never reused, so this is a split whose other parts took new words.
@@ -433,20 +433,22 @@ def _splits_and_new_ids(
     return explained
 
 
-def _unlinked_siblings(links: _Links, parts: list[str], taken: set[str]) -> list[str]:
-    """Added nodes beside the one part found that no removed node explains.
+def _unlinked_siblings(links: _Links, old_id: str, part: str, taken: set[str]) -> list[str]:
+    """New leaves beside the one part found for ``old_id`` that no removed node explains.
 
     With products given, a sibling counts only when some of the old node's products went there.
     """
     matcher = links.matcher
-    parent = matcher.new[parts[0]].parent
+    parent = matcher.new[part].parent
     found = []
     for new_id in links.added:
-        if new_id in taken or new_id in parts or matcher.new[new_id].parent != parent:
+        if new_id in taken or new_id == part or matcher.new[new_id].parent != parent:
             continue
         if any((r, new_id) in links.found for r in links.removed):
             continue
         if not matcher.new.is_leaf(new_id):
+            continue
+        if matcher.with_products and matcher.product_link(old_id, new_id) is None:
             continue
         found.append(new_id)
     return found
