@@ -269,6 +269,7 @@ def test_a_log_that_does_not_lead_to_the_new_tree_is_refused(
         (Correspondence("1", ("1",), ("renamed",), 1.0), True),
         (Correspondence("1", ("1",), ("renamed",), 0.9), False),  # unsure of the meaning
         (Correspondence("1", ("2",), ("merged",), 1.0), False),  # a merge the diff found alone
+        (Correspondence("1", ("1",), ("merged", "renamed"), 1.0), True),  # the node it keeps
         (Correspondence("1", ("2",), ("merged",), 1.0, source="log"), True),
         (Correspondence("1", ("2", "3"), ("split",), 1.0, source="log"), False),
         (Correspondence("1", ("2",), ("removed",), 1.0), False),

@@ -595,9 +595,9 @@ def moves_as_is(corr: Correspondence) -> bool:
     """Whether a correspondence may move products with no model look (the evidence is enough).
 
     Only a one-to-one correspondence the diff is sure of (same meaning, at least :data:`SURE`)
-    or one a change log states (a removal's too, when the log names where its products go); a
-    merge or removal found by the diff alone, a split and any correspondence the diff is unsure
-    of are re-scored instead.
+    or one a change log states (a removal's too, when the log names where its products go); the
+    node a merge keeps stays where it is. A merge or removal found by the diff alone, a split and
+    any correspondence the diff is unsure of are re-scored instead.
     """
     if len(corr.new_ids) != 1 or {"split", "added"} & set(corr.changes):
         return False
@@ -605,7 +605,9 @@ def moves_as_is(corr: Correspondence) -> bool:
         return True  # the log says where the products go, a removal's too
     if "removed" in corr.changes:
         return False
-    return "merged" not in corr.changes and corr.confidence >= SURE
+    if "merged" in corr.changes and corr.new_ids != (corr.old_id,):
+        return False  # a merge the diff found alone; the target that keeps its id stays put
+    return corr.confidence >= SURE
 
 
 def _check_log_trees(old: CategoryTree, new: CategoryTree, log: ChangeLog) -> None:
