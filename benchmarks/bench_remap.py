@@ -16,7 +16,7 @@ Two measurements, each printed:
   keywords) is measured on the same products for comparison.
 
     python benchmarks/bench_remap.py --mappings 100000
-    python benchmarks/bench_remap.py --demo --mappings 0
+    python benchmarks/bench_remap.py --demo --mappings 0 [--changes]
 """
 
 from __future__ import annotations
@@ -41,7 +41,7 @@ from catmap.classify.training import read_labelled  # noqa: E402
 from catmap.jobs.remap import remap_store, rollback_remap  # noqa: E402
 from catmap.records import Mapping, Product  # noqa: E402
 from catmap.store import MappedRow, Store  # noqa: E402
-from catmap.tree.changelog import load_changes  # noqa: E402
+from catmap.tree.changelog import load_change_log, load_changes  # noqa: E402
 from catmap.tree.taxonomy import load_default_tree  # noqa: E402
 
 FEED = "bench"
@@ -116,7 +116,7 @@ def translate_gold(changes_path: Path) -> tuple[dict[str, str], set[str]]:
     return mapping, split
 
 
-def bench_demo(folder: Path, min_confidence: float) -> None:
+def bench_demo(folder: Path, min_confidence: float, *, with_log: bool = False) -> None:
     from catmap.demo import ensure_demo_world
 
     old, new = load_default_tree(1), load_default_tree(2)
@@ -138,7 +138,8 @@ def bench_demo(folder: Path, min_confidence: float) -> None:
         store.add_feed(FEED)
         store.save_mapped(FEED, None, rows(), tree_version="1")
         started = time.perf_counter()
-        report = remap_store(store, old, new, min_confidence=min_confidence)
+        changes = load_change_log(ROOT / "taxonomies" / "changes-v1-v2.txt") if with_log else None
+        report = remap_store(store, old, new, changes=changes, min_confidence=min_confidence)
         seconds = time.perf_counter() - started
         remapped = {p.product_id: m.mapping.node_id for p, m in store.mappings(FEED)}
 
@@ -156,11 +157,21 @@ def bench_demo(folder: Path, min_confidence: float) -> None:
         right_scratch += sum(best[j] == gold_new[i] for j, i in enumerate(part))
 
     print(f"demo reference catalog {len(labelled):,} products (gold stored on tree version 1)")
-    print(f"remap to version 2     {seconds:.1f} s, accept threshold {min_confidence}")
+    print(
+        f"remap to version 2     {seconds:.1f} s, accept threshold {min_confidence}, "
+        f"crosswalk: {report.crosswalk}"
+    )
     print(f"  moved automatically  {report.moved_automatically:,}")
     print(f"  re-scored            {report.rescored:,}")
     print(f"  back to review       {report.requeued:,}")
     print(f"  needed no review     {report.no_review_share:.2%}")
+    for kind in sorted(report.by_change):
+        if {"split", "merged", "removed"} & set(kind.split("+")):
+            counts = report.by_change[kind]
+            print(
+                f"  {kind:<20} {counts['products']:,} products: {counts['automatic']:,} moved "
+                f"as is, {counts['rescored']:,} re-scored, {counts['requeued']:,} to review"
+            )
     print(
         f"translatable gold      {len(keep):,} products "
         f"({len(labelled) - len(keep):,} under split nodes left out)"
@@ -176,12 +187,15 @@ def main(argv: list[str] | None = None) -> None:
     )
     parser.add_argument("--demo", action="store_true", help="measure on the demo catalog")
     parser.add_argument("--min-confidence", type=float, default=0.9, help="accept threshold (demo)")
+    parser.add_argument(
+        "--changes", action="store_true", help="remap with the shipped change log as crosswalk"
+    )
     args = parser.parse_args(argv)
     with tempfile.TemporaryDirectory(prefix="catmap-bench-remap-") as tmp:
         if args.mappings > 0:
             bench_scale(args.mappings, Path(tmp))
         if args.demo:
-            bench_demo(Path(tmp), args.min_confidence)
+            bench_demo(Path(tmp), args.min_confidence, with_log=args.changes)
 
 
 if __name__ == "__main__":

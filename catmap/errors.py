@@ -14,7 +14,7 @@ EXIT_OK = 0
 EXIT_FAILURE = 1
 EXIT_USAGE = 2
 EXIT_INPUT = 3  # a feed, profile, tree or decisions file that cannot be used
-EXIT_MODEL = 4  # no model, or a model for another tree version
+EXIT_MODEL = 4  # no model, or a model or store on another tree version
 EXIT_STORE = 5  # the project store cannot be opened or is inconsistent
 EXIT_INTERRUPTED = 130
 
@@ -116,6 +116,10 @@ class ModelNotTrained(ModelError):
 
 class ModelTreeMismatch(ModelError):
     """A model trained for another version of the category tree."""
+
+
+class TreeVersionMismatch(ModelError):
+    """Work that would mix two versions of the category tree in one store."""
 
 
 class StoreError(CatmapError):

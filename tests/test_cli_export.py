@@ -53,7 +53,8 @@ def test_export_every_feed_as_csv(world: SmallWorld, tmp_path: Path) -> None:
         assert accounting["kept"] == feed["rows"]
 
     text = " ".join(_export(project, out, "--feed", "tallimbra").stdout.split())
-    assert text.startswith("tallimbra: ")
+    assert text.startswith(f"tallimbra: {facts['feeds'][1]['rows']:,} products on tree version ")
+    assert all(f["tree_version"] == str(world.tree.version) for f in facts["feeds"])
     assert f"products: {out / 'tallimbra.products.csv'}" in text
     assert "ferravelle" not in text
 

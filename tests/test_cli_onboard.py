@@ -112,3 +112,21 @@ def test_onboard_has_help() -> None:
     for option in ("--max-error", "--confidence", "--audit-share", "--rules", "--project",
                    "--json", "--validation"):
         assert option in result.stdout
+
+
+def test_onboarding_waits_for_a_pending_remap(world: SmallWorld, tmp_path: Path) -> None:
+    project = new_project(world, tmp_path / "p")
+    assert onboard(world, project, "ferravelle").exit_code == 0
+    # A remap of the store waiting to be finalised (as `catmap remap` leaves it).
+    with Store.open(store_path(project)) as store, store._transaction() as conn:
+        conn.execute(
+            "INSERT INTO remaps (from_version, to_version, state, started_at) "
+            "VALUES ('1', '2', 'pending', '2026-01-01T00:00:00Z')"
+        )
+    result = onboard(world, project, "quorvane")
+    assert result.exit_code == EXIT_MODEL == 4
+    text = " ".join(result.output.split())
+    assert "cannot onboard while remap 1 (tree 1 -> 2) is pending" in text
+    assert "run `catmap remap-finalise` to keep it or `catmap remap-rollback`" in text
+    with Store.open(store_path(project)) as store:
+        assert [f.name for f in store.feeds()] == ["ferravelle"]

@@ -117,3 +117,37 @@ def test_commands_have_help() -> None:
     for command in ("remap", "remap-report", "remap-rollback", "remap-finalise"):
         result = _run(command, "--help")
         assert result.exit_code == 0 and "Usage:" in result.output
+
+
+def _split_log(tmp_path: Path) -> Path:
+    """The change log of split.txt: 211 split into 214 and 215 (node lines from the file)."""
+    parts = [
+        line for line in Path(NEW).read_text("utf-8").splitlines()
+        if line.startswith(("214 |", "215 |"))
+    ]
+    log = tmp_path / "changes.txt"
+    log.write_text(
+        "@tree-change 1 -> 2\nsplit 211 -> 214, 215 | note: two kinds of headphones\n"
+        + "".join(f"+ {line}\n" for line in parts),
+        "utf-8",
+    )
+    return log
+
+
+def test_remap_with_a_change_log_and_the_per_node_report(project: Path, tmp_path: Path) -> None:
+    log = _split_log(tmp_path)
+    result = _run(
+        "remap", "--to", NEW, "--from", OLD, "--changes", str(log), "--project", str(project),
+        "--min-confidence", "1",
+    )
+    assert result.exit_code == 0, result.output
+    assert "(change log crosswalk, re-scored with cold start)" in result.output.splitlines()[0]
+    report = _run("remap-report", "--project", str(project))
+    lines = report.output.splitlines()
+    assert "    211 -> 214, 215  split (log): 0 / 2 / 2" in lines
+    assert any(line.startswith("      evidence: change log line 2: two kinds") for line in lines)
+    facts = json.loads(_run("remap-report", "--project", str(project), "--json").output)
+    node = facts["nodes"]["211"]
+    assert (node["moved"], node["rescored"], node["queued"]) == (0, 2, 2)
+    assert node["new_ids"] == ["214", "215"] and node["change"] == "split"
+    assert node["old_path"] == "Audio > Listening > Headphones"

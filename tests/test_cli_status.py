@@ -51,6 +51,7 @@ def test_status_before_and_after_reviewing_audit_samples(
         assert feed["accepted"] + feed["queued"] == feed["products"]
         assert feed["audit_error"] is None
         assert feed["done_items"] == 0
+        assert feed["tree_version"] == str(world.tree.version)
 
     # Review every audit sample of ferravelle: one is judged wrong, the rest right.
     with Store.open(store_path(project)) as store:

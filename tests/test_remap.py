@@ -16,7 +16,7 @@ import pytest
 from catmap.attributes import AttributeExtractor, BrandDictionary
 from catmap.classify.model import CategoryModel
 from catmap.classify.storage import load_model, save_model
-from catmap.errors import ModelTreeMismatch, StoreError
+from catmap.errors import ModelTreeMismatch, StoreError, TreeError
 from catmap.jobs.remap import (
     RemapScorer,
     finalise_remap,
@@ -28,6 +28,7 @@ from catmap.jobs.remap import (
 )
 from catmap.records import Mapping, Product
 from catmap.store import MappedRow, Store
+from catmap.tree.changelog import load_change_log
 from catmap.tree.taxonomy import CategoryTree, load_tree
 from tests._classify_fixtures import labelled_rows, write_tree
 
@@ -175,13 +176,49 @@ def test_split_below_the_threshold_goes_back_to_review_grouped_by_old_node(store
         ("merged_new.txt", "123", "125"),
     ],
 )
-def test_merged_node_moves_one_to_one(
+def test_merge_found_by_the_diff_alone_moves_no_product_without_a_model_look(
     store: Store, tree_file: str, before: str, after: str
 ) -> None:
     _save(store, [("p1", "Indoor court shoes", before, 0.91, "accepted")])
     report = remap_store(store, _tree("old.txt"), _tree(tree_file))
-    assert _node(store, "p1") == (after, "accepted", "2", 0.91)
+    node, status, version, _ = _node(store, "p1")
+    assert (node, version) == (after, "2")
+    assert report.by_change["merged"]["automatic"] == 0
+    assert report.by_change["merged"]["rescored"] == 1
+    assert report.nodes[before]["rescored"] == 1 and report.nodes[before]["moved"] == 0
+
+
+def _merge_log(tmp_path: Path) -> Path:
+    """The change log of merged_new.txt: 123 and 124 merged into the new node 125."""
+    line = next(
+        raw for raw in (DATA / "merged_new.txt").read_text("utf-8").splitlines()
+        if raw.startswith("125 |")
+    )
+    log = tmp_path / "changes.txt"
+    log.write_text(f"@tree-change 1 -> 2\nmerge 123, 124 -> 125\n+ {line}\n", "utf-8")
+    return log
+
+
+@pytest.mark.parametrize("before", ["123", "124"])
+def test_merge_stated_by_a_change_log_moves_one_to_one(
+    store: Store, tmp_path: Path, before: str
+) -> None:
+    _save(store, [("p1", "Indoor court shoes", before, 0.91, "accepted")])
+    log = load_change_log(_merge_log(tmp_path))
+    report = remap_store(store, _tree("old.txt"), _tree("merged_new.txt"), changes=log)
+    assert _node(store, "p1") == ("125", "accepted", "2", 0.91)
+    assert report.crosswalk == "change log"
     assert report.by_change["merged"]["automatic"] == 1
+    entry = report.nodes[before]
+    assert entry["source"] == "log" and entry["moved"] == 1
+    assert entry["evidence"].startswith("change log line 2")
+
+
+def test_a_change_log_for_other_trees_is_refused(store: Store, tmp_path: Path) -> None:
+    _save(store, [("p1", "Indoor court shoes", "123", 0.91, "accepted")])
+    log = load_change_log(_merge_log(tmp_path))
+    with pytest.raises(TreeError, match="the log makes node 120 'Trainers' under 100"):
+        remap_store(store, _tree("old.txt"), _tree("renamed.txt"), changes=log)
 
 
 def test_removed_node_is_rescored_over_the_whole_new_tree(store: Store) -> None:

@@ -86,8 +86,10 @@ async def test_first_item_is_shown_and_claimed(store: Store, tree: CategoryTree)
         await pilot.pause()
         assert "Ostravel suede ankle boot" in _screen_text(app, "product")
         assert "low confidence" in _screen_text(app, "product")
-        assert "Footwear > Boots > Ankle boots" in _screen_text(app, "suggestion")
-        assert "6 products, 100% → Footwear > Boots > Ankle boots" in _screen_text(app, "group")
+        assert "Shoes, boots and sandals > Boots > Ankle boots" in _screen_text(app, "suggestion")
+        assert "6 products, 100% → Shoes, boots and sandals > Boots > Ankle boots" in (
+            _screen_text(app, "group")
+        )
         item = store.item(app.session.current.item.id)  # type: ignore[union-attr]
         assert (item.state, item.claimed_by) == ("claimed", "ana")
         await pilot.press("q")
@@ -469,7 +471,7 @@ def test_tree_follows_the_mapping_tree_version(memory_store: Store) -> None:
     session = ReviewSession(memory_store, "ana")  # no tree given: the shared tree of the mapping
     session.next()
     assert session.tree.version == "1"  # sample_rows are saved with tree_version="1"
-    assert session.path_text(ANKLE_BOOTS) == "Footwear > Boots > Ankle boots"
+    assert session.path_text(ANKLE_BOOTS) == "Shoes, boots and sandals > Boots > Ankle boots"
     assert session.path_text("") == "(no fitting node)"
     assert session.path_text("999999").startswith("node 999999 (not in tree version 1)")
 

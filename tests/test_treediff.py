@@ -7,18 +7,22 @@ from pathlib import Path
 
 import pytest
 
-from catmap.errors import InputError
-from catmap.tree.changelog import Change
+from catmap.errors import InputError, TreeError
+from catmap.tree.changelog import Change, ChangeLog, load_change_log
 from catmap.tree.diff import (
     Correspondence,
     Crosswalk,
+    crosswalk_from_changes,
     diff_trees,
     label_equality_crosswalk,
     load_crosswalk,
+    moves_as_is,
+    overridden,
+    reconcile,
     save_crosswalk,
     score_against_changelog,
 )
-from catmap.tree.taxonomy import CategoryTree, load_tree
+from catmap.tree.taxonomy import CategoryTree, default_tree_path, load_default_tree, load_tree
 
 DATA = Path(__file__).parent / "data" / "treediff"
 
@@ -195,3 +199,82 @@ def test_score_against_changelog_worked_example() -> None:
     assert scores["per_type"]["renamed"]["recall"] == 1.0
     assert scores["per_type"]["split"]["recall"] == 0.0
     assert scores["non_trivial"] is None
+
+
+# -- the change log as the crosswalk ----------------------------------------------------------
+
+
+@pytest.fixture(scope="module")
+def shipped() -> tuple[CategoryTree, CategoryTree, ChangeLog]:
+    old, new = load_default_tree(1), load_default_tree(2)
+    return old, new, load_change_log(default_tree_path(1).parent / "changes-v1-v2.txt")
+
+
+def test_the_shipped_log_as_a_crosswalk_is_the_reference(
+    shipped: tuple[CategoryTree, CategoryTree, ChangeLog],
+) -> None:
+    old, new, log = shipped
+    crosswalk = crosswalk_from_changes(old, new, log)
+    scores = score_against_changelog(crosswalk, log.changes)
+    assert scores["overall"]["precision"] == scores["overall"]["recall"] == 1.0
+    assert all(c.source == "log" for c in crosswalk.correspondences)
+    split = next(c for c in crosswalk.correspondences if c.old_id == "9176")
+    assert split.changes == ("split",) and split.new_ids == ("9177", "9178", "9179")
+    assert split.evidence.startswith("change log line")
+    # remove 8693 -> 8691: the log says where the products go.
+    removed = next(c for c in crosswalk.correspondences if c.old_id == "8693")
+    assert removed.new_ids == ("8691",) and moves_as_is(removed)
+
+
+def test_craft_materials_is_a_split_for_the_diff_too(
+    shipped: tuple[CategoryTree, CategoryTree, ChangeLog],
+) -> None:
+    old, new, _log = shipped
+    found = next(c for c in diff_trees(old, new).correspondences if c.old_id == "9176")
+    assert found.changes == ("split",)
+    assert set(found.new_ids) == {"9177", "9178", "9179"}
+    assert not moves_as_is(found)
+
+
+def test_the_log_overrides_the_diff_and_says_so(
+    shipped: tuple[CategoryTree, CategoryTree, ChangeLog],
+) -> None:
+    old, new, log = shipped
+    merged = reconcile(diff_trees(old, new), crosswalk_from_changes(old, new, log))
+    by_old = {c.old_id: c for c in merged.correspondences}
+    assert by_old["1530"].evidence.endswith("diff agrees")
+    # The diff sends 8693's products to its parent; the log names DVDs (8691).
+    assert by_old["8693"].new_ids == ("8691",)
+    assert by_old["8693"].evidence.endswith("overridden")
+    assert "8693" in {c.old_id for c in overridden(merged)}
+
+
+def test_a_log_that_does_not_lead_to_the_new_tree_is_refused(
+    shipped: tuple[CategoryTree, CategoryTree, ChangeLog], tmp_path: Path
+) -> None:
+    old, new, _log = shipped
+    short = tmp_path / "changes.txt"
+    short.write_text("@tree-change 1 -> 2\nrename 1530 | Trainers and sports shoes -> Kicks\n")
+    with pytest.raises(TreeError, match="the log makes node 1530 'Kicks'"):
+        crosswalk_from_changes(old, new, load_change_log(short))
+    other = tmp_path / "other.txt"
+    other.write_text("@tree-change 2 -> 3\n")
+    with pytest.raises(TreeError, match="goes from tree 2 to 3, not from 1 to 2"):
+        crosswalk_from_changes(old, new, load_change_log(other))
+
+
+@pytest.mark.parametrize(
+    ("corr", "moves"),
+    [
+        (Correspondence("1", ("1",), ("renamed",), 1.0), True),
+        (Correspondence("1", ("1",), ("renamed",), 0.9), False),  # unsure of the meaning
+        (Correspondence("1", ("2",), ("merged",), 1.0), False),  # a merge the diff found alone
+        (Correspondence("1", ("1",), ("merged", "renamed"), 1.0), True),  # the node it keeps
+        (Correspondence("1", ("2",), ("merged",), 1.0, source="log"), True),
+        (Correspondence("1", ("2", "3"), ("split",), 1.0, source="log"), False),
+        (Correspondence("1", ("2",), ("removed",), 1.0), False),
+        (Correspondence("1", ("2",), ("removed",), 1.0, source="log"), True),
+    ],
+)
+def test_what_moves_with_no_model_look(corr: Correspondence, moves: bool) -> None:
+    assert moves_as_is(corr) is moves

@@ -224,6 +224,7 @@ def status_command(project: str | None, feed: str | None, as_json: bool) -> None
         collapse_padding=True,
     )
     table.add_column("feed", no_wrap=True)
+    table.add_column("tree", justify="right", no_wrap=True)
     for header in ("read", "kept", "rejected", "accepted", "queued", "reviewed", "open",
                    "done"):
         table.add_column(header, justify="right", no_wrap=True)
@@ -233,7 +234,8 @@ def status_command(project: str | None, feed: str | None, as_json: bool) -> None
 
     for f in feeds:
         table.add_row(
-            escape(f["feed"]), number(f["read"]), number(f["kept"]), number(f["rejected"]),
+            escape(f["feed"]), escape(f["tree_version"] or "-"), number(f["read"]),
+            number(f["kept"]), number(f["rejected"]),
             number(f["accepted"]), number(f["queued"]), number(f["reviewed"]),
             number(f["open_items"]), number(f["done_items"]),
         )
@@ -287,7 +289,10 @@ def _render_export(feeds: list[dict[str, Any]]) -> None:
     caution = ""
     for f in feeds:
         statuses = ", ".join(f"{k} {v:,}" for k, v in sorted(f["by_status"].items()))
-        _say(f"{escape(f['feed'])}: {f['rows']:,} products ({escape(statuses)})")
+        _say(
+            f"{escape(f['feed'])}: {f['rows']:,} products on tree version "
+            f"{escape(f['tree_version'])} ({escape(statuses)})"
+        )
         _say(f"  products:   {escape(f['products'])}")
         if f["rejects"]:
             _say(f"  rejects:    {escape(f['rejects'])}")
@@ -447,6 +452,7 @@ def _render_demo(facts: dict[str, Any]) -> None:
     table = Table(title="Demo feeds", title_justify="left", box=box.SIMPLE_HEAD,
                   padding=(0, 1), pad_edge=False, collapse_padding=True)
     table.add_column("feed", no_wrap=True)
+    table.add_column("tree", justify="right", no_wrap=True)
     for header in ("read", "kept", "rejected", "accepted", "queued", "coverage", "gold error"):
         table.add_column(header, justify="right", no_wrap=True)
     for f in facts["feeds"]:

@@ -33,6 +33,28 @@ def _actor() -> str:
         return "catmap"
 
 
+def render_nodes(facts: dict[str, Any]) -> None:
+    """Print the remap's per-node lines: old → new, change, evidence, and the product counts."""
+    nodes = facts.get("nodes") or {}
+    if not nodes:
+        console.print("  no changed node held a product")
+        return
+    console.print(
+        "  per node: old -> new, change (source): moved as is / re-scored / to review; evidence"
+    )
+    for entry in nodes.values():
+        new = ", ".join(entry["new_ids"]) or "-"
+        console.print(
+            f"    {entry['old_id']} -> {new}  {entry['change']} ({entry['source']}): "
+            f"{entry['moved']:,} / {entry['rescored']:,} / {entry['queued']:,}",
+            highlight=False,
+        )
+        console.print(f"      {escape(entry['old_path'])}", highlight=False)
+        for path in entry["new_paths"]:
+            console.print(f"      -> {escape(path)}", highlight=False)
+        console.print(f"      evidence: {escape(entry['evidence'])}", highlight=False)
+
+
 def render_report(facts: dict[str, Any]) -> None:
     """Print a remap report as readable lines."""
     total = facts["mappings"]
@@ -90,6 +112,13 @@ def render_report(facts: dict[str, Any]) -> None:
     help="Crosswalk file to use (default: computed by comparing the two trees).",
 )
 @click.option(
+    "--changes",
+    "changes_file",
+    default=None,
+    type=click.Path(exists=True, dir_okay=False, path_type=Path),
+    help="Change log between the two trees: it is the crosswalk; a computed one only suggests.",
+)
+@click.option(
     "--min-confidence",
     type=click.FloatRange(0.0, 1.0),
     default=None,
@@ -102,6 +131,7 @@ def remap_command(
     to: str,
     from_: str | None,
     crosswalk_file: Path | None,
+    changes_file: Path | None,
     min_confidence: float | None,
     model_path: Path | None,
     project: str | None,
@@ -109,16 +139,18 @@ def remap_command(
 ) -> None:
     """Move every stored mapping onto a new version of the category tree.
 
-    Renamed, moved, merged and unchanged nodes move as they are; products of split or
-    removed nodes are re-scored, and those below the accept threshold go back to review
-    (reason remap, grouped by old node). Keep the result with `catmap remap-finalise`
-    or undo it with `catmap remap-rollback`.
+    Unchanged nodes, and renamed or moved ones the crosswalk is sure keep their meaning,
+    move as they are, as do merges a change log states; products of split nodes, of merges
+    or removals the diff found alone, and of any change it is unsure of are re-scored, and
+    those below the accept threshold go back to review (reason remap, grouped by old node).
+    Keep the result with `catmap remap-finalise` or undo it with `catmap remap-rollback`.
     """
     report = remap_project(
         project_dir(project),
         to,
         from_=from_,
         crosswalk_file=crosswalk_file,
+        changes_file=changes_file,
         min_confidence=min_confidence,
         model_dir=model_path,
         actor=_actor(),
@@ -137,7 +169,12 @@ def remap_command(
 @_project_option
 @json_option
 def remap_report_command(project: str | None, as_json: bool) -> None:
-    """Show what the last remap did, and whether it can still be rolled back."""
+    """Show what the last remap did, node by node, and whether it can still be rolled back.
+
+    Per changed node: old -> new ids and paths, the change and its source (diff or change
+    log), the evidence, and how many products moved as they were, were re-scored and went
+    to review.
+    """
     state = project_remap_state(project_dir(project))
     facts = {**state.report.to_dict(), "state": state.state}
     if as_json:
@@ -145,6 +182,7 @@ def remap_report_command(project: str | None, as_json: bool) -> None:
         return
     render_report(facts)
     console.print(f"  state                {state.state}")
+    render_nodes(facts)
 
 
 @click.command("remap-rollback")
@@ -181,4 +219,4 @@ def register(main: click.Group) -> None:
     main.add_command(remap_finalise_command)
 
 
-__all__ = ["RemapReport", "register", "render_report"]
+__all__ = ["RemapReport", "register", "render_nodes", "render_report"]

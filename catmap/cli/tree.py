@@ -164,7 +164,8 @@ def render_tree(
 def show_command(node: str | None, depth: int, tree_version: int, tree_file: str | None) -> None:
     """Show the tree as an indented outline.
 
-    NODE is a node id (e.g. 1520) or a path of names such as "Food and drink > Drinks".
+    NODE is a node id (e.g. 1520) or a path of names such as
+    "Groceries and drinks > Coffee".
     Without NODE the departments are shown; use --depth to go deeper.
     """
     tree = _open_tree(tree_file, tree_version)
@@ -261,17 +262,40 @@ def search_command(
     metavar="FILE",
     help="Write the crosswalk (tab-separated: old_id, new_ids, change, confidence, evidence).",
 )
+@click.option(
+    "--changes",
+    "changes_file",
+    type=click.Path(exists=True, dir_okay=False),
+    default=None,
+    metavar="FILE",
+    help="Change log between the two trees: it is the crosswalk, the computed one a suggestion.",
+)
 @json_option
-def diff_command(old: str, new: str, out: str | None, as_json: bool) -> None:
+def diff_command(
+    old: str, new: str, out: str | None, changes_file: str | None, as_json: bool
+) -> None:
     """Show what changed between two trees and where each old node's products go.
 
     OLD and NEW are tree files or versions of the shared tree ("1", "2"). Ids decide first;
     where ids changed, nodes are matched on their words in all languages and their place.
+    With --changes the change log decides, and each line says whether the diff agreed.
     """
-    from catmap.tree.diff import diff_trees, save_crosswalk
+    from catmap.tree.changelog import load_change_log
+    from catmap.tree.diff import (
+        crosswalk_from_changes,
+        diff_trees,
+        overridden,
+        reconcile,
+        save_crosswalk,
+    )
 
     old_tree, new_tree = open_tree(old), open_tree(new)
     crosswalk = diff_trees(old_tree, new_tree)
+    overrides: list[str] | None = None
+    if changes_file is not None:
+        log = load_change_log(changes_file)
+        crosswalk = reconcile(crosswalk, crosswalk_from_changes(old_tree, new_tree, log))
+        overrides = [c.old_id or ",".join(c.new_ids) for c in overridden(crosswalk)]
     if out is not None:
         save_crosswalk(crosswalk, out)
 
@@ -284,6 +308,7 @@ def diff_command(old: str, new: str, out: str | None, as_json: bool) -> None:
             "new_ids": list(c.new_ids),
             "change": "+".join(c.changes),
             "confidence": c.confidence,
+            "source": c.source,
             "old_path": old_tree.path_text(c.old_id) if c.old_id else None,
             "new_paths": paths(new_tree, c.new_ids),
             "evidence": c.evidence,
@@ -296,6 +321,8 @@ def diff_command(old: str, new: str, out: str | None, as_json: bool) -> None:
                 "old": {"path": old_tree.path, "version": old_tree.version},
                 "new": {"path": new_tree.path, "version": new_tree.version},
                 "counts": crosswalk.counts(),
+                "change_log": changes_file,
+                "overridden": overrides,
                 "changes": rows,
                 "crosswalk_file": out,
             }
@@ -309,6 +336,11 @@ def diff_command(old: str, new: str, out: str | None, as_json: bool) -> None:
     for kind, count in crosswalk.counts().items():
         counts.add_row(kind, str(count))
     console.print(counts)
+    if overrides is not None:
+        _say(
+            f"Change log {changes_file}: the crosswalk; the diff disagreed on "
+            f"{len(overrides)} node(s)" + (f": {', '.join(overrides)}" if overrides else "")
+        )
     if rows:
         table = Table(title="Changes", title_justify="left")
         table.add_column("Change")

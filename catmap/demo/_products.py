@@ -160,7 +160,7 @@ def leaf_infos(tree: CategoryTree) -> list[LeafInfo]:
         out.append(LeafInfo(
             id=leaf.id,
             department=dept.id,
-            profile=V.profile_for(dept.name),
+            profile=V.profile_for(dept.name, dept.id),
             who=tuple(sorted(tree.who(leaf.id))),
             ages=tuple(sorted(tree.ages(leaf.id))),
             own_terms={lg: _terms_of(leaf.name, dict(leaf.terms), lg) for lg in V.LANGS},

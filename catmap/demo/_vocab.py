@@ -646,17 +646,32 @@ _PROFILE_MATCH: tuple[tuple[str, str], ...] = (
 )
 
 
-def profile_for(department_name: str) -> Profile:
-    """Return the modifier profile of a department, matched on its English name.
+# The shared tree's departments by id, so that renaming a department never changes how its
+# demo products look.
+_PROFILE_BY_DEPARTMENT: dict[str, str] = {
+    "1000": "apparel", "1500": "footwear", "2000": "bags", "2500": "jewellery",
+    "3000": "beauty", "3500": "health", "4000": "home", "4500": "furniture",
+    "5000": "electronics", "5500": "electronics", "6000": "sports", "6500": "toys",
+    "7000": "pet", "7500": "garden", "8000": "food", "8500": "books", "9000": "office",
+    "9500": "automotive", "10000": "tobacco",
+}
+
+
+def profile_for(department_name: str, department_id: str | None = None) -> Profile:
+    """Return the modifier profile of a department: by its id in the shared tree, else matched
+    on its English name.
 
     Args:
-        department_name: the department's display name, e.g. "Home and kitchen".
+        department_name: the department's display name, e.g. "Cooking and home living".
+        department_id: its id; a department of the shared tree is known by id.
 
     Returns:
         The matching :class:`Profile`; departments nothing matches get a generic one.
     """
     low = department_name.lower() + " "
-    key = next((k for frag, k in _PROFILE_MATCH if frag in low), "generic")
+    key = _PROFILE_BY_DEPARTMENT.get(department_id or "") or next(
+        (k for frag, k in _PROFILE_MATCH if frag in low), "generic"
+    )
     colour_p, size_kind, price, mods = _PROFILE_DATA[key]
     return Profile(key, colour_p, size_kind, price, mods + _COMMON_MODS)
 

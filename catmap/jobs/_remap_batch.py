@@ -17,7 +17,7 @@ from catmap.jobs._remap_record import ITEM_COLUMNS, PREVIOUS_COLUMNS, RemapRepor
 from catmap.jobs._remap_scoring import AttributeFollower, RemapScorer
 from catmap.records import Product
 from catmap.store import Store, product_from_json
-from catmap.tree.diff import Correspondence
+from catmap.tree.diff import Correspondence, moves_as_is
 from catmap.tree.taxonomy import CategoryTree
 
 # Used only when neither the option nor an onboarding run gives a threshold: a mapping right
@@ -119,13 +119,39 @@ class PageRemapper:
             kind, {"products": 0, "automatic": 0, "rescored": 0, "requeued": 0}
         )
         counts["products"] += 1
-        if _one_to_one(corr) and corr.new_ids[0] in self.new_tree:
+        per_node = self._node_entry(node, corr)
+        if moves_as_is(corr) and corr.new_ids[0] in self.new_tree:
             self._move(row, corr, page)
             counts["automatic"] += 1
+            per_node["moved"] += 1
             return
         targets = tuple(t for t in corr.new_ids if t in self.new_tree and self.new_tree.is_leaf(t))
         key = targets if "split" in corr.changes and len(targets) >= 2 else None
         page.to_score.setdefault(key, []).append(row)
+
+    def _node_entry(self, old_id: str, corr: Correspondence) -> dict[str, Any]:
+        """The report's line for one changed old node (unchanged nodes get none)."""
+        if corr.changes == ("unchanged",):
+            return {"moved": 0, "rescored": 0, "queued": 0}
+        entry = self.report.nodes.get(old_id)
+        if entry is None:
+            entry = {
+                "old_id": old_id,
+                "old_path": self.old_tree.path_text(old_id) if old_id in self.old_tree else "",
+                "new_ids": list(corr.new_ids),
+                "new_paths": [
+                    self.new_tree.path_text(n) for n in corr.new_ids if n in self.new_tree
+                ],
+                "change": _change_kind(corr),
+                "source": corr.source,
+                "confidence": corr.confidence,
+                "evidence": corr.evidence,
+                "moved": 0,
+                "rescored": 0,
+                "queued": 0,
+            }
+            self.report.nodes[old_id] = entry
+        return entry
 
     def _move(self, row: dict[str, Any], corr: Correspondence, page: _Page) -> None:
         """Translate a one-to-one row's node id; its confidence, method and status stay."""
@@ -172,6 +198,9 @@ class PageRemapper:
             change_counts = self.report.by_change.get(row["_kind"])
             if change_counts is not None:
                 change_counts["rescored"] += 1
+            per_node = self.report.nodes.get(row["node_id"])
+            if per_node is not None:
+                per_node["rescored"] += 1
             self._decide_rescored(row, ranking, product, targets, change_counts, page)
 
     def _decide_rescored(
@@ -210,6 +239,9 @@ class PageRemapper:
             self.report.requeued += 1
             if change_counts is not None:
                 change_counts["requeued"] += 1
+            per_node = self.report.nodes.get(row["node_id"])
+            if per_node is not None:
+                per_node["queued"] += 1
             group = remap_group_key(old_tree, row["node_id"])
             changed["status"] = "queued"
             changed["group_key"] = group

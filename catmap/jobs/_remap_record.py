@@ -67,6 +67,9 @@ class RemapReport:
     departments_after: dict[str, int] = field(default_factory=dict)
     queue_groups: dict[str, int] = field(default_factory=dict)
     thresholds: dict[str, dict[str, Any]] = field(default_factory=dict)
+    # Per changed old node: old and new ids and paths, change, source, evidence, and how many
+    # products moved as they were, were re-scored and went to review.
+    nodes: dict[str, dict[str, Any]] = field(default_factory=dict)
 
     @property
     def no_review_share(self) -> float:
@@ -196,6 +199,7 @@ def rollback_remap(store: Store, *, actor: str = "catmap", batch_size: int = BAT
                 )
         conn.execute("DELETE FROM remap_items WHERE remap_id = ?", (remap_id,))
         conn.execute("DELETE FROM remap_previous WHERE remap_id = ?", (remap_id,))
+        conn.execute("UPDATE feeds SET tree_version = ?", (remap["from_version"],))
         conn.execute(
             "UPDATE remaps SET state = 'rolled_back', finished_at = ? WHERE id = ?",
             (store._now(), remap_id),

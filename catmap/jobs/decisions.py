@@ -345,12 +345,13 @@ def export_project_decisions(
 ) -> ExportCounts:
     """Write a project's review queue to a CSV (see :func:`export_decisions`).
 
-    Node paths are read on the tree of the project's model.
+    Node paths are read on the tree version of the store's mappings (refused when the store
+    mixes versions).
     """
-    from catmap.jobs.onboard import project_tree
+    from catmap.jobs._remap_versions import project_store_tree
 
-    tree = project_tree(project)
     with Store.open(store_path(project)) as store:
+        tree = project_store_tree(project, store, "export the decisions")
         return export_decisions(store, out, tree=tree, feed=feed)
 
 
@@ -363,13 +364,14 @@ def import_project_decisions(
 ) -> ImportResult:
     """Apply a filled decisions CSV to a project's store (see :func:`import_decisions`).
 
-    Node ids are checked against the tree of the project's model, and who / age are read again
-    with the project's brand dictionary.
+    Node ids are checked against the tree version of the store's mappings (refused when the
+    store mixes versions), and who / age are read again with the project's brand dictionary.
     """
-    from catmap.jobs.onboard import load_extractor, project_tree
+    from catmap.jobs._remap_versions import project_store_tree
+    from catmap.jobs.onboard import load_extractor
 
-    tree = project_tree(project)
     with Store.open(store_path(project)) as store:
+        tree = project_store_tree(project, store, "import decisions")
         return import_decisions(
             store,
             path,

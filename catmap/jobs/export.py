@@ -17,6 +17,7 @@ from typing import Any
 
 from catmap.attributes import RESTRICTION_CAUTION
 from catmap.feeds.writers import FORMATS, CsvWriter, JsonLinesWriter, RecordWriter
+from catmap.jobs._remap_versions import project_store_tree, tree_by_version
 from catmap.jobs.onboard import rejects_path
 from catmap.records import Product
 from catmap.store import Store, StoredMapping, store_path
@@ -138,6 +139,7 @@ class ExportResult:
     rejects: Path | None
     accounting: Path
     rows: int = 0
+    tree_version: str = ""
     by_status: dict[str, int] = field(default_factory=dict)
     restricted: dict[str, int] = field(default_factory=dict)
     caution: str = ""
@@ -149,6 +151,7 @@ class ExportResult:
             "products": str(self.products),
             "rejects": str(self.rejects) if self.rejects else None,
             "accounting": str(self.accounting),
+            "tree_version": self.tree_version,
             "rows": self.rows,
             "by_status": self.by_status,
             "restricted": self.restricted,
@@ -157,8 +160,10 @@ class ExportResult:
 
 
 def _rows(store: Store, feed: str, tree: CategoryTree) -> Iterator[dict[str, Any]]:
+    # Each path is read on the tree of its own mapping's version, never on another's.
+    tree_of = tree_by_version(tree)
     for product, stored in store.mappings(feed):
-        yield export_row(product, stored, tree)
+        yield export_row(product, stored, tree_of(stored.tree_version))
 
 
 def _last_accounting(store: Store, feed: str) -> dict[str, Any]:
@@ -224,6 +229,7 @@ def export_feed(
     out.mkdir(parents=True, exist_ok=True)
     products_file = out / f"{feed}.products.{format}"
     result = ExportResult(feed, products_file, None, out / f"{feed}.accounting.json")
+    result.tree_version = str(tree.version)
     with _open_writer(products_file, format) as writer:
         for row in _rows(store, feed, tree):
             writer.write(row)
@@ -250,7 +256,8 @@ def export_project(
 ) -> list[ExportResult]:
     """Export one feed, or every feed, of a project's store (see :func:`export_feed`).
 
-    The nodes are read on the tree of the project's model.
+    The nodes are read on the tree version of the store's mappings (refused when the store
+    mixes versions).
 
     Args:
         project: the project folder.
@@ -260,11 +267,12 @@ def export_project(
 
     Returns:
         What was written, one result per feed.
-    """
-    from catmap.jobs.onboard import project_tree
 
-    tree = project_tree(project)
+    Raises:
+        TreeVersionMismatch: the store's mappings use more than one tree version.
+    """
     with Store.open(store_path(project)) as store:
+        tree = project_store_tree(project, store, "export")
         names = [feed] if feed else [record.name for record in store.feeds()]
         return [
             export_feed(store, name, out_dir, tree=tree, project=project, format=format)

@@ -65,6 +65,7 @@ from catmap.jobs._feed_mapper import (
     acceptance_score,
 )
 from catmap.jobs._gold import GoldCheck, check_against_gold
+from catmap.jobs._remap_versions import check_onboarding, record_feed_versions
 from catmap.project import feed_stem, subfolder
 from catmap.records import Attributes, Mapping, Product, Reject
 from catmap.store import MappedRow, Store, store_path
@@ -273,6 +274,7 @@ def onboard_feed(
 
     Raises:
         ModelNotTrained: no model in the model folder.
+        TreeVersionMismatch: a remap is pending, or the store is on another tree version.
         InputError: the feed, its profile or the rules file cannot be used; a fatal feed error
             is raised after the records before it were saved (the run is recorded as stopped).
     """
@@ -302,6 +304,7 @@ def onboard_feed(
     name = feed_stem(feed_path)
     store = Store.for_project(project)
     try:
+        check_onboarding(store, str(tree.version))
         store.add_feed(name, source_path=feed_path, profile_path=source.profile_path)
         summary = _start_run(
             store, name, feed_path, project, options, choice, statement, sources,
@@ -323,6 +326,7 @@ def onboard_feed(
             tree_version=str(tree.version),
             on_batch=lambda total: progress("saving", total),
         )
+        record_feed_versions(store, str(tree.version), name)
         error = mapped.fatal
 
         progress("planning the review queue", source.accounting.read)

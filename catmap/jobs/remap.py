@@ -3,8 +3,9 @@
 :func:`remap_store` reads the crosswalk from the old tree to the new one (computed with
 :func:`catmap.tree.diff.diff_trees`, or given) and walks the store's mappings in batches:
 
-- **one-to-one** changes (unchanged, renamed, moved, merged into one node) move with no model
-  call: the node id is translated, the confidence, method and status stay. A person's decision
+- **one-to-one** changes the crosswalk is sure of (unchanged; renamed or moved with the same
+  meaning; merged as a change log says) move with no model call: the node id is translated, the
+  confidence, method and status stay (:func:`catmap.tree.diff.moves_as_is`). A person's decision
   stays a decision: a reviewed mapping on a renamed or moved node is still ``reviewed``.
 - **split** nodes: the product is re-scored over the split's target leaves only. The model on
   disk usually knows the old leaves only (and the split's old leaf is retired), so the targets
@@ -15,8 +16,9 @@
   id, since only there does its probability mean anything. The confidence is
   ``P(old node right) × P(target | old node)``, with ``P(old node right)`` = 1 for a reviewed or
   rule mapping, else the stored confidence.
-- **removed** nodes (and any old node with no target): re-scored over the whole new tree with
-  the keyword mapper (or the new-tree model).
+- **removed** nodes, merges the diff found alone, nodes found under a new id and any change the
+  diff is unsure of: re-scored over the whole new tree with the keyword mapper (or the new-tree
+  model); no product moves on the diff's guess alone.
 
 The attributes that the node decides follow the product to its new node
 (:class:`AttributeFollower`): when the new node's effective restriction, who / age applicability
@@ -64,7 +66,8 @@ from catmap.jobs._remap_record import (
 )
 from catmap.jobs._remap_scoring import AttributeFollower, RemapScorer, scorer_for_project
 from catmap.store import Store, store_path
-from catmap.tree.diff import Crosswalk, diff_trees
+from catmap.tree.changelog import ChangeLog, load_change_log
+from catmap.tree.diff import Crosswalk, crosswalk_from_changes, diff_trees, reconcile
 from catmap.tree.taxonomy import CategoryTree, open_tree
 
 __all__ = [
@@ -106,6 +109,7 @@ def remap_store(
     new_tree: CategoryTree,
     *,
     crosswalk: Crosswalk | None = None,
+    changes: ChangeLog | None = None,
     scorer: RemapScorer | None = None,
     min_confidence: float | None = None,
     actor: str = "catmap",
@@ -120,6 +124,8 @@ def remap_store(
             an empty tree version counts as the old tree's).
         new_tree: the tree to move to.
         crosswalk: old id → new ids (default: :func:`catmap.tree.diff.diff_trees`).
+        changes: a change log from ``old_tree`` to ``new_tree``: it is the crosswalk, and the
+            computed (or given) one only a suggestion it confirms or overrides.
         scorer: scores re-scored products (default: keywords of the new tree).
         min_confidence: the accept threshold for re-scored mappings (default: each feed's
             onboarding threshold, else :data:`DEFAULT_MIN_CONFIDENCE`).
@@ -133,6 +139,7 @@ def remap_store(
 
     Raises:
         StoreError: another remap is waiting to be finalised or rolled back.
+        TreeError: the change log does not lead from ``old_tree`` to ``new_tree``.
     """
     old_version, new_version = str(old_tree.version), str(new_tree.version)
     pending = _resumable_remap(store, old_version, new_version)
@@ -140,6 +147,9 @@ def remap_store(
     if crosswalk is None:
         crosswalk = diff_trees(old_tree, new_tree)
         source = "computed"
+    if changes is not None:
+        crosswalk = reconcile(crosswalk, crosswalk_from_changes(old_tree, new_tree, changes))
+        source = "change log"
     scorer = scorer or RemapScorer(new_tree)
     follower = AttributeFollower(old_tree, new_tree, extractor=extractor)
     thresholds = _feed_thresholds(store, min_confidence)
@@ -268,6 +278,8 @@ def _finish_remap(store: Store, report: RemapReport, actor: str) -> None:
             "UPDATE remaps SET state = 'pending', finished_at = ?, report = ? WHERE id = ?",
             (store._now(), json.dumps(facts), report.remap_id),
         )
+        # Every mapping is now on the new version: so is every feed.
+        conn.execute("UPDATE feeds SET tree_version = ?", (report.to_version,))
         store._audit(
             conn,
             "remap_done",
@@ -373,6 +385,7 @@ def remap_project(
     *,
     from_: str | None = None,
     crosswalk_file: Path | None = None,
+    changes_file: Path | None = None,
     min_confidence: float | None = None,
     model_dir: Path | None = None,
     actor: str = "catmap",
@@ -384,6 +397,7 @@ def remap_project(
         to: the new tree: a version number or a tree file.
         from_: the tree the stored mappings use (default: the version recorded with them).
         crosswalk_file: the crosswalk to use (default: computed by comparing the two trees).
+        changes_file: the change log between the two trees; it overrides the crosswalk.
         min_confidence: accept threshold for re-scored mappings (default: each feed's
             onboarding one).
         model_dir: the model folder that re-scores (default: the project's).
@@ -399,6 +413,7 @@ def remap_project(
     with open_project_store(project) as store:
         old_tree = open_tree(from_ or old_tree_version(store, str(new_tree.version)))
         crosswalk = load_crosswalk(crosswalk_file) if crosswalk_file is not None else None
+        changes = load_change_log(changes_file) if changes_file is not None else None
         folder = model_dir or default_model_dir(project)
         scorer = scorer_for_project(folder, old_tree, new_tree)
         return remap_store(
@@ -406,6 +421,7 @@ def remap_project(
             old_tree,
             new_tree,
             crosswalk=crosswalk,
+            changes=changes,
             scorer=scorer,
             min_confidence=min_confidence,
             actor=actor,

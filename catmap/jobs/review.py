@@ -10,6 +10,7 @@ from pathlib import Path
 from catmap.attributes import BrandDictionary
 from catmap.attributes.brand import dictionary_in_use
 from catmap.errors import StoreError
+from catmap.jobs._remap_versions import check_one_version
 from catmap.review.session import ReviewSession
 from catmap.store import Store, store_path
 
@@ -29,6 +30,7 @@ def project_review_session(
 
     Raises:
         StoreError: the project has no store, or no such feed.
+        TreeVersionMismatch: the store's mappings use more than one tree version.
     """
     path = store_path(project)
     if not path.is_file():
@@ -36,6 +38,7 @@ def project_review_session(
     with Store.open(path) as store:
         if feed is not None:
             store.feed(feed)  # an unknown feed fails here, with a hint
+        check_one_version(store, "review")
         # A chosen node's who / age are read again with the project's brands, so that a
         # brand's name is not read as an audience.
         dictionary = dictionary_in_use(project)

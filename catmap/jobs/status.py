@@ -7,6 +7,7 @@ from pathlib import Path
 from typing import Any
 
 from catmap.errors import StoreError
+from catmap.jobs._remap_versions import feed_tree_versions, mapping_tree_versions
 from catmap.store import Store, store_path
 
 __all__ = ["AUDIT_CONFIDENCE", "feed_status_facts", "project_status"]
@@ -29,6 +30,7 @@ def feed_status_facts(
         One dict per feed, JSON-ready.
     """
     names = [feed] if feed else [record.name for record in store.feeds()]
+    versions = feed_tree_versions(store)
     out = []
     for name in names:
         status = store.feed_status(name, confidence=confidence)
@@ -36,6 +38,8 @@ def feed_status_facts(
         out.append(
             {
                 "feed": name,
+                "tree_version": versions.get(name, "")
+                or ",".join(sorted(v for v in mapping_tree_versions(store, name) if v)),
                 "read": status.read,
                 "kept": status.kept,
                 "rejected": status.rejected,

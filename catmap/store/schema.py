@@ -186,6 +186,13 @@ _SCHEMA_V6: tuple[str, ...] = (
     "CREATE INDEX review_items_claim ON review_items (state, skips, priority DESC, id)",
 )
 
+# Version 7: one tree version per store: each feed records the tree version its mappings use
+# ('' = not recorded, a store from before: read from its mappings).
+_SCHEMA_V7: tuple[str, ...] = (
+    "ALTER TABLE feeds ADD COLUMN tree_version TEXT NOT NULL DEFAULT ''",
+    "UPDATE feeds SET tree_version = COALESCE((SELECT MAX(m.tree_version) FROM mappings AS m "
+    "WHERE m.feed_id = feeds.id), '')",
+)
 MIGRATIONS: tuple[tuple[str, ...], ...] = (
     _SCHEMA_V1,
     _SCHEMA_V2,
@@ -193,6 +200,7 @@ MIGRATIONS: tuple[tuple[str, ...], ...] = (
     _SCHEMA_V4,
     _SCHEMA_V5,
     _SCHEMA_V6,
+    _SCHEMA_V7,
 )
 SCHEMA_VERSION = len(MIGRATIONS)
 

@@ -7,7 +7,9 @@ its item, claimed by the reviewer, in one transaction with its audit entry.
 from __future__ import annotations
 
 import json
+from typing import Any
 
+from catmap.errors import TreeVersionMismatch
 from catmap.store.audit import AuditMixin
 from catmap.store.queue import DEFAULT_LEASE_SECONDS
 
@@ -25,6 +27,10 @@ class UndoMixin(AuditMixin):
 
         Returns:
             The ids of the items reopened (empty when there is nothing to undo).
+
+        Raises:
+            TreeVersionMismatch: the decision was made on another tree version than the
+                mapping's now (a remap came between): undoing it would mix versions.
         """
         with self._transaction() as conn:
             last = conn.execute(
@@ -52,6 +58,7 @@ class UndoMixin(AuditMixin):
                 before = json.loads(decision["before"])
                 mapping = before["mapping"]
                 feed_id = mapping["feed_id"]
+                _same_tree_version(conn, mapping, decision["id"], self.path)
                 if decision["action"] != "skip":
                     columns = [c for c in mapping if c not in ("feed_id", "product_id")]
                     conn.execute(
@@ -82,3 +89,21 @@ class UndoMixin(AuditMixin):
                 },
             )
         return item_ids
+
+
+def _same_tree_version(conn: Any, saved: dict[str, Any], decision_id: int, path: Any) -> None:
+    """Refuse to put back a mapping saved on another tree version than the one stored now."""
+    row = conn.execute(
+        "SELECT tree_version FROM mappings WHERE feed_id = ? AND product_id = ?",
+        (saved["feed_id"], saved["product_id"]),
+    ).fetchone()
+    version = saved.get("tree_version")
+    if row is None or version is None or version == row[0]:
+        return
+    raise TreeVersionMismatch(
+        f"decision {decision_id} was made on tree version {version or '(not recorded)'}; the "
+        f"mapping of product {saved['product_id']} is now on version {row[0]}: undoing it "
+        "would put one mapping back on the old tree",
+        path=path,
+        hint="decide the item again in the review screen instead of undoing",
+    )

@@ -26,8 +26,8 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any, Protocol
 
-from catmap.errors import InputError
-from catmap.tree.changelog import Change
+from catmap.errors import InputError, TreeError
+from catmap.tree.changelog import Change, ChangeLog, apply_changes
 from catmap.tree.search import fold_text
 from catmap.tree.taxonomy import CategoryTree
 from catmap.tree.treefile import Node
@@ -37,9 +37,14 @@ __all__ = [
     "Correspondence",
     "Crosswalk",
     "ProductScorer",
+    "SURE",
+    "crosswalk_from_changes",
     "diff_trees",
     "label_equality_crosswalk",
     "load_crosswalk",
+    "moves_as_is",
+    "overridden",
+    "reconcile",
     "reference_items",
     "save_crosswalk",
     "score_against_changelog",
@@ -58,8 +63,18 @@ CHANGE_TYPES: tuple[str, ...] = (
 # A removed and an added node are linked when their similarity reaches this (0..1). Chosen on
 # the hand-made pairs in tests/data/treediff (common practice, no source).
 LINK_THRESHOLD = 0.5
+# Between siblings sharing no word, a name links them only from this similarity on (chosen on
+# the generated tuning change sets, seeds 0-9: sibling names score 0.55-0.65 by chance).
+NAME_ALONE = 0.8
 # A removed node is merged into a kept node when this share of its words is found there.
 MERGE_COVER = 0.6
+# A one-to-one correspondence moves products with no model look only at or above this
+# confidence: below it the diff is not sure the new node means the same (common practice, no
+# source: a link right nineteen times in twenty).
+SURE = 0.95
+# A node found under a new id is at most this sure: the tree's ids are never reused, so a new id
+# for an old node is a split, a merge or a new node as often as a renamed one.
+REKEYED_CONFIDENCE = 0.8
 # Words that say nothing about what a node holds.
 _STOP_WORDS = frozenset({"and", "or", "for", "with", "the", "of", "other"})
 
@@ -79,6 +94,7 @@ class Correspondence:
             moved.
         confidence: 0..1; 1.0 when ids alone decide.
         evidence: a short human-readable account of what decided.
+        source: what decided: ``diff`` (the two trees compared) or ``log`` (a change log).
     """
 
     old_id: str | None
@@ -86,6 +102,7 @@ class Correspondence:
     changes: tuple[str, ...]
     confidence: float
     evidence: str = ""
+    source: str = "diff"
 
 
 @dataclass(slots=True)
@@ -193,7 +210,10 @@ class _Matcher:
         # A name alone links nodes only close together in the tree: far apart, "Ovens" and
         # "Pizza ovens" are different things; there shared keywords must speak.
         if same_parent:
-            score = min(1.0, max(overlap, 0.9 * name) + 0.1)
+            # With no shared word a name must nearly contain the other ("Ovens" in "Mini and
+            # countertop ovens"): two siblings always look a little alike by name.
+            by_name = 0.9 * name if shared or name >= NAME_ALONE else 0.0
+            score = min(1.0, max(overlap, by_name) + 0.1)
             place = "same parent"
         elif same_department:
             score = max(overlap, 0.75 * name)
@@ -296,6 +316,7 @@ class _Links:
     """The links strong enough to count between removed old nodes and added new nodes."""
 
     def __init__(self, matcher: _Matcher, removed: list[str], added: list[str]) -> None:
+        self.matcher = matcher
         self.removed = removed
         self.added = added
         self.found: dict[tuple[str, str], _Link] = {}
@@ -371,7 +392,25 @@ def _splits_and_new_ids(
             continue
         explained.update(parts)
         scores = [links.found[(old_id, a)].score for a in parts]
-        if len(parts) >= 2:
+        siblings: list[str] = []
+        if len(parts) == 1 and old.is_leaf(old_id):
+            siblings = _unlinked_siblings(links, old_id, parts[0], explained_new | explained)
+        if siblings:
+            # One part found on its words and new nodes added beside it with none: ids are
+            # never reused, so this is a split whose other parts took new words.
+            explained.update(siblings)
+            evidence = (
+                f"{parts[0]}: {links.found[(old_id, parts[0])].evidence}; "
+                f"added beside it: {', '.join(siblings)}"
+            )
+            result[old_id] = Correspondence(
+                old_id,
+                (parts[0], *siblings),
+                ("split",),
+                round(min(scores[0], REKEYED_CONFIDENCE), 3),
+                evidence,
+            )
+        elif len(parts) >= 2:
             evidence = "; ".join(f"{a}: {links.found[(old_id, a)].evidence}" for a in parts)
             result[old_id] = Correspondence(
                 old_id, tuple(parts), ("split",), round(min(scores), 3), evidence
@@ -385,9 +424,34 @@ def _splits_and_new_ids(
                 changes.append("moved")
             evidence = f"new id {new_id}; {links.found[(old_id, new_id)].evidence}"
             result[old_id] = Correspondence(
-                old_id, (new_id,), tuple(changes) or ("renamed",), round(scores[0], 3), evidence
+                old_id,
+                (new_id,),
+                tuple(changes) or ("renamed",),
+                round(min(scores[0], REKEYED_CONFIDENCE), 3),
+                evidence,
             )
     return explained
+
+
+def _unlinked_siblings(links: _Links, old_id: str, part: str, taken: set[str]) -> list[str]:
+    """New leaves beside the one part found for ``old_id`` that no removed node explains.
+
+    With products given, a sibling counts only when some of the old node's products went there.
+    """
+    matcher = links.matcher
+    parent = matcher.new[part].parent
+    found = []
+    for new_id in links.added:
+        if new_id in taken or new_id == part or matcher.new[new_id].parent != parent:
+            continue
+        if any((r, new_id) in links.found for r in links.removed):
+            continue
+        if not matcher.new.is_leaf(new_id):
+            continue
+        if matcher.with_products and matcher.product_link(old_id, new_id) is None:
+            continue
+        found.append(new_id)
+    return found
 
 
 def _merges_into_kept(
@@ -443,9 +507,11 @@ def _kept_nodes(
         if node.id in kept_targets:
             changes.append("merged")
             notes.append(f"takes in {', '.join(kept_targets[node.id])}")
+        confidence = 1.0
         if node.name != after.name:
             changes.append("renamed")
-            notes.append(f"name '{node.name}' -> '{after.name}'")
+            confidence = _same_meaning(node, after)
+            notes.append(f"name '{node.name}' -> '{after.name}' (same meaning {confidence:.2f})")
         if node.parent != after.parent:
             changes.append("moved")
             notes.append(f"parent {node.parent or '-'} -> {after.parent or '-'}")
@@ -453,9 +519,17 @@ def _kept_nodes(
             node.id,
             (node.id,),
             tuple(changes) or ("unchanged",),
-            1.0,
+            round(confidence, 3),
             "same id" + (f"; {'; '.join(notes)}" if notes else ""),
         )
+
+
+def _same_meaning(before: Node, after: Node) -> float:
+    """How sure a renamed node still means the same: its keywords kept, or a close name."""
+    kept_words = _terms(before) - {fold_text(before.name)}
+    new_words = _terms(after) - {fold_text(after.name)}
+    kept = len(kept_words & new_words) / len(kept_words) if kept_words else 0.0
+    return max(kept, _name_similarity(before, after))
 
 
 def _removed_nodes(
@@ -512,6 +586,186 @@ def label_equality_crosswalk(old: CategoryTree, new: CategoryTree) -> Crosswalk:
                 Correspondence(None, (node.id,), ("added",), 1.0, "no equal name")
             )
     return Crosswalk(old.version, new.version, correspondences)
+
+
+# -- a change log as the crosswalk ----------------------------------------------------------
+
+
+def moves_as_is(corr: Correspondence) -> bool:
+    """Whether a correspondence may move products with no model look (the evidence is enough).
+
+    Only a one-to-one correspondence the diff is sure of (same meaning, at least :data:`SURE`)
+    or one a change log states (a removal's too, when the log names where its products go); the
+    node a merge keeps stays where it is. A merge or removal found by the diff alone, a split and
+    any correspondence the diff is unsure of are re-scored instead.
+    """
+    if len(corr.new_ids) != 1 or {"split", "added"} & set(corr.changes):
+        return False
+    if corr.source == "log":
+        return True  # the log says where the products go, a removal's too
+    if "removed" in corr.changes:
+        return False
+    if "merged" in corr.changes and corr.new_ids != (corr.old_id,):
+        return False  # a merge the diff found alone; the target that keeps its id stays put
+    return corr.confidence >= SURE
+
+
+def _check_log_trees(old: CategoryTree, new: CategoryTree, log: ChangeLog) -> None:
+    """Refuse a change log that does not lead from ``old`` to ``new``.
+
+    Raises:
+        TreeError: the versions differ, or replaying the log on ``old`` does not give ``new``.
+    """
+    shown = log.path
+    if (str(log.from_version), str(log.to_version)) != (str(old.version), str(new.version)):
+        raise TreeError(
+            f"the change log goes from tree {log.from_version} to {log.to_version}, "
+            f"not from {old.version} to {new.version}",
+            path=shown,
+            hint="give the change log written for these two tree versions",
+        )
+    replayed = apply_changes(old, log.changes, version=str(new.version), path=shown)
+    for node in new:
+        if node.id not in replayed:
+            raise TreeError(
+                f"node {node.id} ({node.name}) of tree {new.version} is not made by the log",
+                path=shown,
+                hint="add the change that creates it to the log",
+            )
+        made = replayed[node.id]
+        if (made.name, made.parent) != (node.name, node.parent):
+            raise TreeError(
+                f"the log makes node {node.id} '{made.name}' under {made.parent or '-'}, "
+                f"tree {new.version} has '{node.name}' under {node.parent or '-'}",
+                path=shown,
+                hint="the log and the tree files must agree: fix one of them",
+            )
+    extra = [n.id for n in replayed if n.id not in new]
+    if extra:
+        raise TreeError(
+            f"the log keeps node {extra[0]}, which tree {new.version} does not have",
+            path=shown,
+            hint="add the change that retires it to the log",
+        )
+
+
+def crosswalk_from_changes(old: CategoryTree, new: CategoryTree, log: ChangeLog) -> Crosswalk:
+    """Turn a change log into the crosswalk from ``old`` to ``new`` (the log is the truth).
+
+    Args:
+        old: the tree the log starts from.
+        new: the tree it leads to.
+        log: the change log, as :func:`catmap.tree.changelog.load_change_log` reads it.
+
+    Returns:
+        One correspondence per old node (old tree order), then the added nodes; every one has
+        source ``log``, confidence 1.0 and the log line as evidence.
+
+    Raises:
+        TreeError: the log does not lead from ``old`` to ``new``.
+    """
+    _check_log_trees(old, new, log)
+    kinds: dict[str, list[str]] = defaultdict(list)
+    targets: dict[str, tuple[str, ...]] = {}
+    lines: dict[str, list[str]] = defaultdict(list)
+    added: list[Correspondence] = []
+
+    def note(change: Change) -> str:
+        return f"change log line {change.line}" + (f": {change.note}" if change.note else "")
+
+    for change in log.changes:
+        if change.kind in ("rename", "move"):
+            kinds[change.node_id].append("renamed" if change.kind == "rename" else "moved")
+            lines[change.node_id].append(note(change))
+        elif change.kind == "split":
+            kinds[change.node_id].append("split")
+            targets[change.node_id] = tuple(change.targets)
+            lines[change.node_id].append(note(change))
+        elif change.kind == "merge":
+            for source in change.sources:
+                kinds[source].append("merged")
+                targets[source] = (change.node_id,)
+                lines[source].append(note(change))
+        elif change.kind == "remove":
+            kinds[change.node_id].append("removed")
+            home = change.new or next(
+                (a.id for a in reversed(old.ancestors(change.node_id)) if a.id in new), None
+            )
+            targets[change.node_id] = (home,) if home else ()
+            lines[change.node_id].append(note(change))
+        elif change.kind == "add":
+            added.append(
+                Correspondence(None, (change.node_id,), ("added",), 1.0, note(change), "log")
+            )
+    correspondences = []
+    for node in old:
+        found = kinds.get(node.id)
+        if not found:
+            correspondences.append(
+                Correspondence(node.id, (node.id,), ("unchanged",), 1.0, "same id", "log")
+            )
+            continue
+        order = [k for k in CHANGE_TYPES if k in found]
+        correspondences.append(
+            Correspondence(
+                node.id,
+                targets.get(node.id, (node.id,)),
+                tuple(order),
+                1.0,
+                "; ".join(lines[node.id]),
+                "log",
+            )
+        )
+    return Crosswalk(old.version, new.version, correspondences + added)
+
+
+def _same_correspondence(a: Correspondence, b: Correspondence) -> bool:
+    return set(a.new_ids) == set(b.new_ids) and set(a.changes) == set(b.changes)
+
+
+def reconcile(computed: Crosswalk, logged: Crosswalk) -> Crosswalk:
+    """The log's crosswalk, each line saying whether the computed one confirms or differs.
+
+    An explicit change log is the crosswalk; what the diff computed is only a suggestion, kept
+    in the evidence where the log overrides it.
+
+    Returns:
+        The log's correspondences, their evidence ending in ``diff agrees`` or
+        ``diff suggested ...``.
+    """
+    by_old = {c.old_id: c for c in computed.correspondences if c.old_id is not None}
+    added = {c.new_ids: c for c in computed.correspondences if c.old_id is None}
+    result = []
+    for corr in logged.correspondences:
+        suggestion = by_old.get(corr.old_id) if corr.old_id is not None else added.get(corr.new_ids)
+        if suggestion is not None and _same_correspondence(corr, suggestion):
+            verdict = "diff agrees"
+        elif suggestion is None:
+            verdict = "diff did not find it"
+        else:
+            verdict = (
+                f"diff suggested {'+'.join(suggestion.changes)} -> "
+                f"{','.join(suggestion.new_ids) or '-'} ({suggestion.confidence:.2f}), overridden"
+            )
+        if corr.changes == ("unchanged",) and verdict == "diff agrees":
+            result.append(corr)
+            continue
+        result.append(
+            Correspondence(
+                corr.old_id,
+                corr.new_ids,
+                corr.changes,
+                corr.confidence,
+                f"{corr.evidence}; {verdict}",
+                "log",
+            )
+        )
+    return Crosswalk(logged.old_version, logged.new_version, result)
+
+
+def overridden(crosswalk: Crosswalk) -> list[Correspondence]:
+    """Return the log's correspondences where the computed crosswalk said otherwise."""
+    return [c for c in crosswalk.correspondences if c.evidence.endswith(", overridden")]
 
 
 # -- evaluation -----------------------------------------------------------------------------
