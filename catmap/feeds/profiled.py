@@ -95,7 +95,15 @@ def format_mismatch(profile: FeedProfile, feed_path: Path) -> str | None:
     found = sniff_format(feed_path)
     if profile.format is None or found is None or found == profile.format:
         return None
-    return f"the profile was made for a {profile.format} feed; this file is {found}"
+    made = _FORMAT_NAMES.get(profile.format, profile.format)
+    article = "an" if made[0] in "AEIOU" else "a"
+    return (
+        f"the profile was made for {article} {made} feed; this file is "
+        f"{_FORMAT_NAMES.get(found, found)}"
+    )
+
+
+_FORMAT_NAMES = {"delimited": "delimited text", "xml": "XML", "jsonl": "JSON Lines"}
 
 
 def column_mismatch(profile: FeedProfile, info: FeedInfo) -> str | None:
