@@ -17,7 +17,6 @@ flat whatever the feed size.
 from __future__ import annotations
 
 import codecs
-
 import re
 from collections import Counter
 from collections.abc import Iterator
