@@ -9,7 +9,7 @@ import shlex
 from pathlib import Path
 
 import pytest
-from click.testing import CliRunner
+from click.testing import CliRunner, Result
 
 from catmap.attributes.brand import dictionary_in_use
 from catmap.cli import main
@@ -26,11 +26,13 @@ LABELLED = EXAMPLE / "labelled.csv"
 NEW_FEED = EXAMPLE / "new-shop_2026-11-30.csv"
 
 
-def run(*args: str | Path) -> object:
+def run(*args: str | Path) -> Result:
     return CliRunner().invoke(main, [str(a) for a in args])
 
 
-def test_the_readme_commands_run_as_written(tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
+def test_the_readme_commands_run_as_written(
+    tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
     readme = (ROOT / "README.md").read_text(encoding="utf-8")
     section = readme.split("## A project of your own", 1)[1].split("\n## ", 1)[0]
     commands = re.search(r"```\n(.*?)```", section, re.S)
