@@ -220,11 +220,13 @@ def settings_text(settings: ProjectSettings) -> str:
         lines.append(f"file = {_toml_text(settings.tree_file)}")
     lines += [
         f"version = {_toml_text(settings.tree_version)}",
-        "# SHA-256 of the tree file; catmap refuses a tree file that no longer matches it.",
+        "# SHA-256 of the tree file when the project was made; the project's own tree file is",
+        "# refused when it no longer matches.",
         f"fingerprint = {_toml_text(settings.tree_fingerprint)}",
         "",
         "[brands]",
-        "# The project's brand list (relative to this folder); omitted: no brand list.",
+        "# The brand list given to `catmap init` (relative to this folder); omitted: brands.csv",
+        "# when there is one (`catmap brands accept NAME` starts it), else none.",
     ]
     if settings.brands_file is not None:
         lines.append(f"file = {_toml_text(settings.brands_file)}")
