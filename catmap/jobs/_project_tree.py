@@ -5,11 +5,12 @@ from __future__ import annotations
 
 from pathlib import Path
 
-from catmap.errors import TreeError
+from catmap.errors import ModelTreeMismatch, TreeError
 from catmap.project import SETTINGS_FILE, fingerprint, load_settings
+from catmap.store import Store
 from catmap.tree.taxonomy import CategoryTree, load_default_tree, load_tree
 
-__all__ = ["open_project_tree"]
+__all__ = ["check_store_tree", "open_project_tree"]
 
 
 def open_project_tree(
@@ -59,3 +60,31 @@ def open_project_tree(
             "`catmap init DIR --tree FILE`; a new tree version is moved to with `catmap remap`",
         )
     return tree
+
+
+def check_store_tree(store: Store, tree: CategoryTree) -> None:
+    """Refuse a tree other than the one the store's latest onboarding mapped onto.
+
+    A remap moves the store to a new tree; after one, the check waits for the next onboarding.
+
+    Raises:
+        ModelTreeMismatch: the store's mappings are on another tree (named with its file and
+            fingerprint).
+    """
+    latest = next(
+        (run for run in reversed(store.runs()) if run.kind in ("onboard", "remap")), None
+    )
+    if latest is None or latest.kind != "onboard":
+        return
+    recorded = str(latest.params.get("tree_fingerprint") or "")
+    current = fingerprint(tree.path) if tree.path and Path(tree.path).is_file() else ""
+    if not recorded or not current or recorded == current:
+        return
+    raise ModelTreeMismatch(
+        f"the project store's mappings are on tree version {latest.params.get('tree_version')} "
+        f"({latest.params.get('tree_file')}, fingerprint {recorded[:12]}); the tree in use is "
+        f"version {tree.version} ({tree.path}, fingerprint {current[:12]})",
+        path=store.path,
+        hint="use the store's tree (--tree-file FILE), or move the store to this tree with "
+        "`catmap remap --to FILE`",
+    )

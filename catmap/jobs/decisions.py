@@ -345,12 +345,13 @@ def export_project_decisions(
 ) -> ExportCounts:
     """Write a project's review queue to a CSV (see :func:`export_decisions`).
 
-    Node paths are read on the tree of the project's model.
+    Node paths are read on the project's tree (refused when the store is on another one).
     """
-    from catmap.jobs.onboard import project_tree
+    from catmap.jobs.onboard import check_store_tree, project_tree
 
     tree = project_tree(project)
     with Store.open(store_path(project)) as store:
+        check_store_tree(store, tree)
         return export_decisions(store, out, tree=tree, feed=feed)
 
 
@@ -363,13 +364,14 @@ def import_project_decisions(
 ) -> ImportResult:
     """Apply a filled decisions CSV to a project's store (see :func:`import_decisions`).
 
-    Node ids are checked against the tree of the project's model, and who / age are read again
-    with the project's brand dictionary.
+    Node ids are checked against the project's tree (refused when the store is on another
+    one), and who / age are read again with the project's brand dictionary.
     """
-    from catmap.jobs.onboard import load_extractor, project_tree
+    from catmap.jobs.onboard import check_store_tree, load_extractor, project_tree
 
     tree = project_tree(project)
     with Store.open(store_path(project)) as store:
+        check_store_tree(store, tree)
         return import_decisions(
             store,
             path,

@@ -250,7 +250,7 @@ def export_project(
 ) -> list[ExportResult]:
     """Export one feed, or every feed, of a project's store (see :func:`export_feed`).
 
-    The nodes are read on the tree of the project's model.
+    The nodes are read on the project's tree.
 
     Args:
         project: the project folder.
@@ -260,11 +260,15 @@ def export_project(
 
     Returns:
         What was written, one result per feed.
+
+    Raises:
+        ModelTreeMismatch: the store's mappings are on another tree than the project's.
     """
-    from catmap.jobs.onboard import project_tree
+    from catmap.jobs.onboard import check_store_tree, project_tree
 
     tree = project_tree(project)
     with Store.open(store_path(project)) as store:
+        check_store_tree(store, tree)
         names = [feed] if feed else [record.name for record in store.feeds()]
         return [
             export_feed(store, name, out_dir, tree=tree, project=project, format=format)

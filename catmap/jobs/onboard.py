@@ -46,7 +46,7 @@ from catmap.classify.rules import RuleSet, load_rules
 from catmap.classify.storage import file_fingerprint, load_model, read_manifest
 from catmap.decide.queue import Candidate, expected_gain, plan_queue
 from catmap.decide.threshold import DEFAULT_DELTA, DEFAULT_MAX_ERROR, ThresholdChoice
-from catmap.errors import InputError, ModelNotTrained, ModelTreeMismatch
+from catmap.errors import InputError, ModelNotTrained
 from catmap.feeds.ingest import FATAL_FEED_ERRORS, Accounting
 from catmap.feeds.profiled import ProfiledFeed, open_profiled_feed
 from catmap.feeds.writers import open_reject_writer
@@ -65,7 +65,7 @@ from catmap.jobs._feed_mapper import (
     acceptance_score,
 )
 from catmap.jobs._gold import GoldCheck, check_against_gold
-from catmap.jobs._project_tree import open_project_tree
+from catmap.jobs._project_tree import check_store_tree, open_project_tree
 from catmap.project import feed_name, load_settings, subfolder
 from catmap.records import Attributes, Mapping, Product, Reject
 from catmap.store import MappedRow, Store, store_path
@@ -453,33 +453,6 @@ def check_same_folder(store: Store, name: str, feed_path: Path, *, given: bool) 
             "retailer's feed",
         )
 
-
-def check_store_tree(store: Store, tree: CategoryTree) -> None:
-    """Refuse a tree other than the one the store's latest onboarding mapped onto.
-
-    A remap moves the store to a new tree; after one, the check waits for the next onboarding.
-
-    Raises:
-        ModelTreeMismatch: the store's mappings are on another tree (named with its file and
-            fingerprint).
-    """
-    latest = next(
-        (run for run in reversed(store.runs()) if run.kind in ("onboard", "remap")), None
-    )
-    if latest is None or latest.kind != "onboard":
-        return
-    recorded = str(latest.params.get("tree_fingerprint") or "")
-    current = file_fingerprint(tree.path)
-    if not recorded or not current or recorded == current:
-        return
-    raise ModelTreeMismatch(
-        f"the project store's mappings are on tree version {latest.params.get('tree_version')} "
-        f"({latest.params.get('tree_file')}, fingerprint {recorded[:12]}); the tree in use is "
-        f"version {tree.version} ({tree.path}, fingerprint {current[:12]})",
-        path=store.path,
-        hint="use the store's tree (--tree-file FILE), or move the store to this tree with "
-        "`catmap remap --to FILE`",
-    )
 
 
 def _validation_feeds(options: OnboardOptions) -> list[Path] | None:

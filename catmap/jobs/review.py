@@ -10,7 +10,7 @@ from pathlib import Path
 from catmap.attributes import BrandDictionary
 from catmap.attributes.brand import dictionary_in_use
 from catmap.errors import StoreError
-from catmap.jobs._project_tree import open_project_tree
+from catmap.jobs._project_tree import check_store_tree, open_project_tree
 from catmap.project import load_settings
 from catmap.review.session import ReviewSession
 from catmap.store import Store, store_path
@@ -46,4 +46,6 @@ def project_review_session(
         # looked up per item (a remap may leave items on two versions).
         settings = load_settings(project)
         tree = open_project_tree(project) if settings is not None and settings.tree_file else None
+        if tree is not None:
+            check_store_tree(store, tree)
         yield ReviewSession(store, reviewer, feed=feed, brands=brands, tree=tree)
