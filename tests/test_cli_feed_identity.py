@@ -153,3 +153,16 @@ def test_a_file_of_the_same_name_from_another_folder_is_refused(tmp_path: Path) 
     # The same retailer's next daily file, from the first folder: the same feed.
     again = run("onboard", feed, "--project", project)
     assert again.exit_code == 0, again.output
+
+
+def test_a_utf16_csv_profile_never_reaches_an_xml_file_of_the_same_name(tmp_path: Path) -> None:
+    # The case that ended in a traceback: the CSV's encoding imposed on the XML reader.
+    project = tmp_path / "p"
+    (tmp_path / "shop.csv").write_bytes(CSV.encode("utf-16-le"))
+    (tmp_path / "shop.xml").write_text(XML, encoding="utf-8")
+    assert run("inspect", tmp_path / "shop.csv", "--project", project).exit_code == 0
+    assert load_profile(project / "profiles" / "shop.toml").encoding == "utf-16-le"
+    result = run("normalize", tmp_path / "shop.xml", "--out", tmp_path / "o", "--project", project)
+    assert result.exit_code == 3
+    assert "this file is XML" in result.stderr
+    assert "Traceback" not in result.output
