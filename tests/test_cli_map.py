@@ -143,7 +143,9 @@ def test_map_refuses_a_model_of_another_tree_version(
         ],
     )
     assert result.exit_code == 4
-    assert "run `catmap train --tree-version 2`" in result.stderr
+    # The error names the cause (both trees), not only a remedy.
+    assert "the model was trained on tree version 1" in result.stderr
+    assert "the tree in use is version 2" in result.stderr
 
 
 def test_map_summary_uses_two_workers_and_writes_parquet(

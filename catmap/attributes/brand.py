@@ -654,10 +654,19 @@ def project_dictionary_path(project: str | Path) -> Path:
 
 
 def dictionary_in_use(project: str | Path, given: str | Path | None = None) -> Path | None:
-    """Return the dictionary to read: the given one, the project's, the demo one, or None."""
+    """Return the dictionary to read: the given one, the project's, or None.
+
+    The demo dictionary is read only by the project of ``catmap demo``: its invented brands
+    include ordinary words, which would come out as brands on a real feed.
+    """
+    from catmap.project import is_demo_project
+
     if given is not None:
         return Path(given)
-    for path in (project_dictionary_path(project), demo_dictionary_path()):
+    candidates = [project_dictionary_path(project)]
+    if is_demo_project(project):
+        candidates.append(demo_dictionary_path())
+    for path in candidates:
         if path.exists():
             return path
     return None

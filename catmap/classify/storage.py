@@ -31,7 +31,14 @@ from catmap.classify.model import CategoryModel
 from catmap.errors import ModelError, ModelNotTrained, ModelTreeMismatch
 from catmap.tree.taxonomy import CategoryTree
 
-__all__ = ["FORMAT_VERSION", "file_fingerprint", "load_model", "read_manifest", "save_model"]
+__all__ = [
+    "FORMAT_VERSION",
+    "check_model_tree",
+    "file_fingerprint",
+    "load_model",
+    "read_manifest",
+    "save_model",
+]
 
 # 2: keywords blend inside each department (keyword_blend_temperature); 1 is not read.
 FORMAT_VERSION = 2
@@ -120,6 +127,7 @@ def save_model(
         "sklearn_version": sklearn.__version__,
         "tree_version": model.tree.version,
         "tree_fingerprint": file_fingerprint(model.tree.path),
+        "tree_file": str(model.tree.path or ""),
         "settings": {
             "classifier": model.classifier,
             "C": model.C,
@@ -187,6 +195,34 @@ def read_manifest(folder: str | Path) -> dict[str, Any]:
     return manifest
 
 
+def check_model_tree(manifest: dict[str, Any], tree: CategoryTree, where: Path) -> None:
+    """Refuse a model trained on another tree, naming both trees (version, file, fingerprint).
+
+    Args:
+        manifest: the model's manifest.
+        tree: the tree in use.
+        where: the manifest file, named in the error.
+
+    Raises:
+        ModelTreeMismatch: another version, or the same version from a different file content.
+    """
+    trained_version = str(manifest.get("tree_version"))
+    trained_print = str(manifest.get("tree_fingerprint") or "")
+    current_print = file_fingerprint(tree.path)
+    same_version = trained_version == str(tree.version)
+    if same_version and (not trained_print or not current_print or trained_print == current_print):
+        return
+    trained_file = manifest.get("tree_file") or "its tree file"
+    raise ModelTreeMismatch(
+        f"the model was trained on tree version {trained_version} ({trained_file}, fingerprint "
+        f"{trained_print[:12] or 'unknown'}); the tree in use is version {tree.version} "
+        f"({tree.path or 'in memory'}, fingerprint {current_print[:12] or 'unknown'})",
+        path=where,
+        hint="use the model's tree (--tree-file FILE or --tree-version N), or train a model "
+        "on this tree with `catmap train`",
+    )
+
+
 def load_model(folder: str | Path, tree: CategoryTree) -> tuple[CategoryModel, dict[str, Any]]:
     """Load a model folder for a tree.
 
@@ -204,13 +240,7 @@ def load_model(folder: str | Path, tree: CategoryTree) -> tuple[CategoryModel, d
     """
     src = Path(folder)
     manifest = read_manifest(src)
-    if str(manifest.get("tree_version")) != str(tree.version):
-        raise ModelTreeMismatch(
-            f"the model was trained for tree version {manifest.get('tree_version')}, "
-            f"but the tree in use is version {tree.version}",
-            path=src / MANIFEST,
-            hint=f"run `catmap train --tree-version {tree.version}`",
-        )
+    check_model_tree(manifest, tree, src / MANIFEST)
     settings = manifest["settings"]
     try:
         model = CategoryModel(
@@ -279,8 +309,10 @@ def load_model(folder: str | Path, tree: CategoryTree) -> tuple[CategoryModel, d
     unknown = [c for c in model.classes_.tolist() if c not in tree]
     if unknown:
         raise ModelTreeMismatch(
-            f"the model knows node {unknown[0]}, which tree version {tree.version} lacks",
+            f"the model knows node {unknown[0]}, which tree version {tree.version} "
+            f"({tree.path or 'in memory'}) lacks: it was trained on another tree",
             path=src / MANIFEST,
-            hint=f"run `catmap train --tree-version {tree.version}`",
+            hint="use the model's tree (--tree-file FILE), or train a model on this tree with "
+            "`catmap train`",
         )
     return model, manifest

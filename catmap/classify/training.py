@@ -8,8 +8,11 @@ seeded 90/10 split is made. Review decisions will later come in as ``extra_examp
 from __future__ import annotations
 
 import hashlib
+import inspect
 import random
+import statistics
 import time
+from collections import Counter
 from collections.abc import Callable, Iterable, Iterator, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -38,6 +41,17 @@ __all__ = [
 
 CONSENSUS_WEIGHT_GRID = (0.0, 0.1, 0.2, 0.3, 0.4, 0.5)
 VALID_SHARE = 0.1
+# Above this share of labelled rows naming nodes the tree lacks, the labels most likely belong
+# to another tree, and training stops (a chosen setting: a few retired ids are normal, a
+# twentieth is not; common practice, no source).
+MAX_UNKNOWN_LABEL_SHARE = 0.05
+# Unknown node ids named in the report and the error.
+UNKNOWN_IDS_SHOWN = 5
+
+
+def default_max_per_class() -> int | None:
+    """The model's own cap on products per class (what ``--max-per-class`` defaults to)."""
+    return inspect.signature(CategoryModel).parameters["max_per_class"].default
 
 
 @dataclass
@@ -67,6 +81,15 @@ class TrainingReport:
     model_dir: str
     model_bytes: int
     tree_version: str
+    tree_file: str = ""
+    rows_read: int = 0
+    rejected: int = 0
+    unknown_share: float = 0.0
+    unknown_examples: list[str] = field(default_factory=list)
+    max_per_class: int | None = None
+    left_out_by_cap: int = 0
+    products_used: int = 0
+    per_class: dict[str, float] = field(default_factory=dict)
 
     def to_dict(self) -> dict[str, Any]:
         """Return the facts as JSON-ready values."""
@@ -82,8 +105,13 @@ def _labelled_stream(
     random_state: int,
     counts: dict[str, int],
     digest: Any,
+    unknown_ids: list[str] | None = None,
 ) -> Iterator[tuple[Product, str, str]]:
-    """Yield (product, node id, split) of every labelled product, counting the skipped ones."""
+    """Yield (product, node id, split) of every labelled product, counting the skipped ones.
+
+    ``counts`` gets ``read`` (records), ``rejected``, ``unlabelled`` and ``unknown_labels``;
+    ``unknown_ids`` the first distinct node ids the tree lacks.
+    """
     rng = random.Random(random_state)
     for feed_path in feeds:
         opened = open_profiled_feed(feed_path, project, reserved=(label_column, "split"))
@@ -95,7 +123,9 @@ def _labelled_stream(
                 hint=f"columns found: {', '.join(opened.info.columns)}; use --label-column",
             )
         for item in opened.products():
+            counts["read"] = counts.get("read", 0) + 1
             if not isinstance(item, Product):
+                counts["rejected"] = counts.get("rejected", 0) + 1
                 continue
             label = item.extra.get(label_column, "").strip()
             if not label:
@@ -103,11 +133,18 @@ def _labelled_stream(
                 continue
             if label not in tree:
                 counts["unknown_labels"] += 1
+                if (
+                    unknown_ids is not None
+                    and len(unknown_ids) < UNKNOWN_IDS_SHOWN
+                    and label not in unknown_ids
+                ):
+                    unknown_ids.append(label)
                 continue
             digest.update(f"{item.product_id}\0{item.title}\0{label}\n".encode())
             split = item.extra.get("split", "").strip().lower()
             if split not in ("train", "valid", "test"):
                 split = "valid" if rng.random() < VALID_SHARE else "train"
+            counts[split] = counts.get(split, 0) + 1
             yield item, label, split
 
 
@@ -182,12 +219,13 @@ def _read_training_texts(
     project: Path,
     label_column: str,
     extra_examples: Iterable[tuple[Product, str]],
+    unknown_ids: list[str] | None = None,
 ) -> tuple[_LabelledTexts, _LabelledTexts, dict[str, int], str]:
     """Stream labelled feeds into compact train / valid texts (test rows are not kept)."""
     train, valid = _LabelledTexts(), _LabelledTexts()
     shared: dict[str, str] = {}
     digest = hashlib.sha256()
-    counts = {"unlabelled": 0, "unknown_labels": 0}
+    counts = {"read": 0, "rejected": 0, "unlabelled": 0, "unknown_labels": 0}
     for item, label, split in _labelled_stream(
         feeds,
         tree=tree,
@@ -196,6 +234,7 @@ def _read_training_texts(
         random_state=0,
         counts=counts,
         digest=digest,
+        unknown_ids=unknown_ids,
     ):
         if split == "train":
             train.add(item, label, shared)
@@ -305,6 +344,7 @@ def train_model(
     extra_examples: Iterable[tuple[Product, str]] = (),
     model_options: dict[str, Any] | None = None,
     on_stage: Callable[[str], None] | None = None,
+    max_unknown_share: float = MAX_UNKNOWN_LABEL_SHARE,
 ) -> TrainingReport:
     """Read labelled feeds, train, calibrate on the validation rows, save the model folder.
 
@@ -317,18 +357,30 @@ def train_model(
         extra_examples: more (product, node id) training examples, e.g. review decisions.
         model_options: keyword arguments for :class:`CategoryModel` (classifier, C, ...).
         on_stage: called with a short text as each stage starts.
+        max_unknown_share: above this share of labelled rows naming nodes the tree lacks,
+            training stops.
 
     Returns:
         The report.
 
     Raises:
-        InputError: no labelled products, or a feed without the label column.
+        InputError: no labelled products, a feed without the label column, or too many labels
+            the tree lacks (the error names the share and the first ids).
     """
     stage = on_stage or (lambda _text: None)
     started = time.perf_counter()
     stage("reading labelled products")
+    unknown_ids: list[str] = []
     train, valid, counts, fingerprint = _read_training_texts(
-        feeds, tree=tree, project=project, label_column=label_column, extra_examples=extra_examples
+        feeds,
+        tree=tree,
+        project=project,
+        label_column=label_column,
+        extra_examples=extra_examples,
+        unknown_ids=unknown_ids,
+    )
+    unknown_share = _check_unknown_labels(
+        counts, unknown_ids, tree, feeds, label_column, max_unknown_share
     )
     labels = train.labels
     if len(set(labels)) < 2:
@@ -339,8 +391,13 @@ def train_model(
             hint="check the label column holds node ids of the tree",
         )
     texts = train.texts()
-    stage(f"training on {len(labels):,} products")
-    model = CategoryModel(tree=tree, **(model_options or {})).fit(texts, labels)
+    options = dict(model_options or {})
+    cap = options.get("max_per_class", default_max_per_class())
+    per_class = Counter(labels)
+    # The model keeps min(count, cap) products of each class (a seeded sample): say so.
+    used = {label: min(count, cap) if cap else count for label, count in per_class.items()}
+    stage(f"training on {sum(used.values()):,} of {len(labels):,} products")
+    model = CategoryModel(tree=tree, **options).fit(texts, labels)
     del texts
     stage(f"calibrating on {len(valid.labels):,} products")
     valid_texts = valid.texts()
@@ -373,4 +430,57 @@ def train_model(
         model_dir=str(model_dir),
         model_bytes=folder_bytes(model_dir),
         tree_version=tree.version,
+        tree_file=str(tree.path or ""),
+        rows_read=counts["read"],
+        rejected=counts["rejected"],
+        unknown_share=round(unknown_share, 4),
+        unknown_examples=unknown_ids,
+        max_per_class=cap,
+        left_out_by_cap=len(labels) - sum(used.values()),
+        products_used=sum(used.values()),
+        per_class=_class_summary(list(used.values())),
     )
+
+
+def _class_summary(sizes: list[int]) -> dict[str, float]:
+    """Classes and the min / median / max of products used per class."""
+    if not sizes:
+        return {"classes": 0, "min": 0, "median": 0, "max": 0}
+    return {
+        "classes": len(sizes),
+        "min": min(sizes),
+        "median": float(statistics.median(sizes)),
+        "max": max(sizes),
+    }
+
+
+def _check_unknown_labels(
+    counts: dict[str, int],
+    unknown_ids: Sequence[str],
+    tree: CategoryTree,
+    feeds: Sequence[Path],
+    label_column: str,
+    max_share: float,
+) -> float:
+    """Return the share of labelled rows whose node the tree lacks; stop when it is too high.
+
+    Raises:
+        InputError: the share is above ``max_share``: the labels likely belong to another tree.
+    """
+    unknown = counts["unknown_labels"]
+    labelled = unknown + sum(
+        counts[key] for key in ("train", "valid", "test") if key in counts
+    )
+    share = unknown / labelled if labelled else 0.0
+    if share > max_share:
+        where = f"{tree.path}" if tree.path else "the tree in use"
+        raise InputError(
+            f"{share:.1%} of the labelled rows ({unknown:,} of {labelled:,}) name node ids "
+            f"that tree version {tree.version} ({where}) lacks, first: "
+            f"{', '.join(unknown_ids)}; the labels likely belong to another tree",
+            path=feeds[0] if len(feeds) == 1 else None,
+            field=label_column,
+            hint=f"train on the labels' own tree (--tree-file FILE), fix the label column, or "
+            f"raise --max-unknown-share (now {max_share:g})",
+        )
+    return share

@@ -20,6 +20,7 @@ from catmap.errors import EXIT_FAILURE, EXIT_INTERRUPTED, CatmapError
 # (``register(group)``). Modules are imported only when one of their commands runs, so that a quick
 # command does not pay for the model's imports.
 COMMANDS: dict[str, str] = {
+    "init": "project",
     "inspect": "feeds",
     "normalize": "feeds",
     "tree": "tree",

@@ -54,3 +54,33 @@ def model_option(help_text: str) -> Any:
         type=click.Path(file_okay=False, path_type=Path),
         help=help_text,
     )
+
+feed_name_option = click.option(
+    "--feed",
+    "feed_name",
+    default=None,
+    metavar="NAME",
+    help="The feed's name, which keeps its profile, rules and reviews (default: the file name "
+    "without suffixes, dates and run counters: shop-a_2026-11-30.csv is shop-a).",
+)
+
+
+_TREE_FILE_HELP = "A category tree file of your own (default: the project's tree)."
+
+
+def tree_file_option(help_text: str = _TREE_FILE_HELP) -> Any:
+    """The ``--tree-file FILE`` option: a tree file that wins over the project's tree."""
+    return click.option(
+        "--tree-file",
+        "tree_file",
+        default=None,
+        type=click.Path(exists=True, dir_okay=False, path_type=Path),
+        help=help_text,
+    )
+
+
+tree_version_option = click.option(
+    "--tree-version",
+    default=None,
+    help="Version of the shared category tree (default: the project's tree).",
+)

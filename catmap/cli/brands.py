@@ -9,7 +9,7 @@ import click
 from rich.markup import escape
 from rich.table import Table
 
-from catmap.cli._render import console, echo_json, json_option
+from catmap.cli._render import console, echo_json, feed_name_option, json_option
 from catmap.cli._render import project_option as _project_option
 from catmap.jobs.brands import accept_brand, brand_candidates
 from catmap.project import project_dir
@@ -19,7 +19,8 @@ _dictionary_option = click.option(
     "dictionary",
     default=None,
     type=click.Path(dir_okay=False, path_type=Path),
-    help="Brand dictionary CSV (default: <project>/brands.csv, else the demo one).",
+    help="Brand dictionary CSV (default: <project>/brands.csv; the demo's project: the demo "
+    "one).",
 )
 
 
@@ -44,6 +45,7 @@ def brands_group() -> None:
     help="The retailer's own name (never a candidate); repeat for several.",
 )
 @_dictionary_option
+@feed_name_option
 @_project_option
 @json_option
 def candidates_command(
@@ -51,6 +53,7 @@ def candidates_command(
     min_count: int,
     retailers: tuple[str, ...],
     dictionary: Path | None,
+    feed_name: str | None,
     project: str | None,
     as_json: bool,
 ) -> None:
@@ -64,6 +67,7 @@ def candidates_command(
         min_count=min_count,
         retailers=retailers,
         dictionary=dictionary,
+        feed_name=feed_name,
     )
     found = facts["candidates"]
     stopped = facts["stopped_early"]

@@ -9,7 +9,16 @@ import click
 from rich.markup import escape
 from rich.table import Table
 
-from catmap.cli._render import console, echo_json, json_option, model_option, project_option
+from catmap.cli._render import (
+    console,
+    echo_json,
+    feed_name_option,
+    json_option,
+    model_option,
+    project_option,
+    tree_file_option,
+    tree_version_option,
+)
 from catmap.jobs.evaluate import evaluate_and_report
 from catmap.project import project_dir
 
@@ -47,7 +56,9 @@ CONFUSIONS_SHOWN = 10
     show_default=True,
     help="Below this confidence, answer the deepest sure parent node.",
 )
-@click.option("--tree-version", default="1", show_default=True, help="Category tree version.")
+@tree_version_option
+@tree_file_option()
+@feed_name_option
 @project_option
 @json_option
 def evaluate_command(
@@ -58,7 +69,9 @@ def evaluate_command(
     out_dir: Path | None,
     split: str | None,
     backoff_threshold: float,
-    tree_version: str,
+    tree_version: str | None,
+    tree_file: Path | None,
+    feed_name: str | None,
     project: str | None,
     as_json: bool,
 ) -> None:
@@ -77,6 +90,8 @@ def evaluate_command(
         split=split,
         backoff_threshold=backoff_threshold,
         tree_version=tree_version,
+        tree_file=tree_file,
+        feed_name=feed_name,
     )
     if as_json:
         echo_json(result.report)

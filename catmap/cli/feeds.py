@@ -11,7 +11,7 @@ from rich.markup import escape
 from rich.progress import Progress, SpinnerColumn, TextColumn, TimeElapsedColumn
 from rich.table import Table
 
-from catmap.cli._render import console, echo_json, err_console, json_option
+from catmap.cli._render import console, echo_json, err_console, feed_name_option, json_option
 from catmap.cli._render import project_option as _project_option
 from catmap.feeds.ingest import Accounting, OutputPaths
 from catmap.feeds.normalize import normalize_currency
@@ -47,6 +47,7 @@ _delimiter_option = click.option(
 @_delimiter_option
 @_project_option
 @click.option("--fresh", is_flag=True, help="Suggest the mapping anew even if one is saved.")
+@feed_name_option
 @json_option
 def inspect_command(
     feed: Path,
@@ -55,6 +56,7 @@ def inspect_command(
     delimiter: str | None,
     project: str | None,
     fresh: bool,
+    feed_name: str | None,
     as_json: bool,
 ) -> None:
     """Show what a feed is and which column feeds which field; save that as the feed's profile.
@@ -69,6 +71,7 @@ def inspect_command(
         record_path=record_path,
         delimiter=delimiter,
         fresh=fresh,
+        feed_name=feed_name,
     )
     if as_json:
         echo_json(facts)
@@ -111,7 +114,14 @@ def _render_inspect(facts: dict[str, Any]) -> None:
         console.print("Not found: " + ", ".join(parts))
     if facts["extras"]:
         console.print("Other columns (kept as extras): " + escape(", ".join(facts["extras"])))
-    if facts["profile_status"] == "existing":
+    if facts["profile_status"] == "mismatch":
+        console.print(
+            f"[bold yellow]The saved profile {escape(facts['profile'])} does not fit this file: "
+            f"{escape(facts['profile_mismatch'])}.[/bold yellow] The mapping above is a new "
+            "suggestion and was not saved: run with --fresh to replace the profile with it, or "
+            "give this file its own name with --feed NAME if it is another feed."
+        )
+    elif facts["profile_status"] == "existing":
         console.print(
             f"Using the saved profile {escape(facts['profile'])} "
             "(edit it to change the mapping, or run with --fresh to suggest it anew)."
@@ -156,6 +166,7 @@ def _short(value: str, limit: int = 30) -> str:
     type=click.Path(exists=True, dir_okay=False, path_type=Path),
     help="Use this profile instead of the feed's saved one.",
 )
+@feed_name_option
 @_project_option
 @json_option
 def normalize_command(
@@ -167,6 +178,7 @@ def normalize_command(
     delimiter: str | None,
     currency: str | None,
     profile_file: Path | None,
+    feed_name: str | None,
     project: str | None,
     as_json: bool,
 ) -> None:
@@ -209,6 +221,7 @@ def normalize_command(
             default_currency=default_currency,
             profile_file=profile_file,
             on_progress=show,
+            feed_name=feed_name,
         )
     if as_json:
         echo_json(result.facts)

@@ -10,16 +10,22 @@ from rich.markup import escape
 from rich.progress import Progress, SpinnerColumn, TextColumn, TimeElapsedColumn
 from rich.table import Table
 
-from catmap.cli._render import console, echo_json, err_console, json_option, model_option
+from catmap.classify.training import MAX_UNKNOWN_LABEL_SHARE, default_max_per_class
+from catmap.cli._render import (
+    console,
+    echo_json,
+    err_console,
+    feed_name_option,
+    json_option,
+    model_option,
+    tree_file_option,
+)
 from catmap.cli._render import project_option as _project_option
+from catmap.cli._render import tree_version_option as _tree_version_option
 from catmap.feeds.writers import FORMATS
 from catmap.jobs.map import map_project_feed
 from catmap.jobs.train import train_project
 from catmap.project import project_dir
-
-_tree_version_option = click.option(
-    "--tree-version", default="1", show_default=True, help="Version of the shared category tree."
-)
 
 
 @click.command("train")
@@ -31,6 +37,23 @@ _tree_version_option = click.option(
     help="Column holding the node id of each product.",
 )
 @_tree_version_option
+@tree_file_option()
+@click.option(
+    "--max-per-class",
+    type=click.IntRange(min=0),
+    default=default_max_per_class() or 0,
+    show_default=True,
+    help="Train on at most this many products of one class (a seeded sample); 0: no cap. "
+    "The summary says how many rows it left out.",
+)
+@click.option(
+    "--max-unknown-share",
+    type=click.FloatRange(0, 1),
+    default=MAX_UNKNOWN_LABEL_SHARE,
+    show_default=True,
+    help="Stop (exit 3) when more than this share of labelled rows name node ids the tree "
+    "lacks: the labels likely belong to another tree.",
+)
 @click.option(
     "--classifier",
     type=click.Choice(("linear_svc", "sgd", "logistic")),
@@ -50,17 +73,21 @@ _tree_version_option = click.option(
 def train_command(
     feeds: tuple[Path, ...],
     label_column: str,
-    tree_version: str,
+    tree_version: str | None,
+    tree_file: Path | None,
+    max_per_class: int,
+    max_unknown_share: float,
     classifier: str,
     model_path: Path | None,
     with_reviews: bool,
     project: str | None,
     as_json: bool,
 ) -> None:
-    """Train the mapping model on labelled feeds (default: the demo reference catalog).
+    """Train the mapping model on labelled feeds (default: the project's, see `catmap init`).
 
     A labelled feed has a column of node ids (--label-column). Rows with split=train train and
     rows with split=valid calibrate when a split column exists; else a seeded 90/10 split is made.
+    The project of `catmap demo` trains on the demo reference catalog.
     """
     with Progress(
         SpinnerColumn(),
@@ -75,19 +102,36 @@ def train_command(
             feeds,
             project=project_dir(project),
             tree_version=tree_version,
+            tree_file=tree_file,
             label_column=label_column,
             classifier=classifier,
             model_dir=model_path,
             with_reviews=with_reviews,
             on_stage=lambda text: progress.update(task, description=text),
+            max_per_class=max_per_class,
+            max_unknown_share=max_unknown_share,
         )
     if as_json:
         echo_json(facts)
         return
     metrics = facts["metrics"]
+    per_class = facts["per_class"]
+    cap = facts["max_per_class"]
     console.print(
-        f"Trained on {facts['products_train']:,} products, {facts['classes']:,} classes "
-        f"(tree version {facts['tree_version']})"
+        f"Trained on {facts['products_used']:,} products, {facts['classes']:,} classes "
+        f"(tree version {facts['tree_version']}, {escape(facts['tree_file'] or 'in memory')})"
+    )
+    console.print(
+        f"  rows read            {facts['rows_read']:,} ({facts['rejected']:,} rejected)"
+    )
+    console.print(
+        f"  training rows        {facts['products_train']:,}, of which "
+        f"{facts['left_out_by_cap']:,} left out by the cap of "
+        f"{'no cap' if not cap else f'{cap:,} per class'} (--max-per-class)"
+    )
+    console.print(
+        f"  per class            min {per_class['min']:,}, median {per_class['median']:,.0f}, "
+        f"max {per_class['max']:,} products used"
     )
     console.print(f"  validation products  {facts['products_valid']:,}")
     console.print(
@@ -103,8 +147,10 @@ def train_command(
     console.print(f"  training time        {facts['training_seconds']:.1f} s")
     console.print(f"  model size           {facts['model_bytes'] / 1e6:.1f} MB")
     if facts["unknown_labels"] or facts["unlabelled"]:
+        examples = ", ".join(facts["unknown_examples"])
         console.print(
-            f"  skipped              {facts['unknown_labels']:,} unknown node ids, "
+            f"  skipped              {facts['unknown_labels']:,} rows with node ids the tree "
+            f"lacks ({facts['unknown_share']:.1%}{': ' + escape(examples) if examples else ''}), "
             f"{facts['unlabelled']:,} without a label"
         )
     console.print(f"Model saved to {escape(facts['model_dir'])}")
@@ -143,6 +189,8 @@ def train_command(
 )
 @model_option("Model folder (default: <project>/models/current; none = keywords only).")
 @_tree_version_option
+@tree_file_option()
+@feed_name_option
 @click.option(
     "--workers",
     type=click.IntRange(1, 64),
@@ -159,7 +207,9 @@ def map_command(
     backoff_threshold: float,
     rules_file: Path | None,
     model_path: Path | None,
-    tree_version: str,
+    tree_version: str | None,
+    tree_file: Path | None,
+    feed_name: str | None,
     workers: int,
     project: str | None,
     as_json: bool,
@@ -184,6 +234,8 @@ def map_command(
             out_dir,
             project=project_dir(project),
             tree_version=tree_version,
+            tree_file=tree_file,
+            feed_name_given=feed_name,
             model_dir=model_path,
             rules_file=rules_file,
             backoff_threshold=backoff_threshold,

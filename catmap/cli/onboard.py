@@ -15,7 +15,14 @@ from rich.markup import escape
 from rich.progress import Progress, SpinnerColumn, TextColumn, TimeElapsedColumn
 from rich.table import Table
 
-from catmap.cli._render import console, echo_json, err_console, json_option
+from catmap.cli._render import (
+    console,
+    echo_json,
+    err_console,
+    feed_name_option,
+    json_option,
+    tree_file_option,
+)
 from catmap.cli._render import project_option as _project_option
 from catmap.decide.threshold import DEFAULT_DELTA, DEFAULT_MAX_ERROR
 from catmap.feeds.writers import FORMATS
@@ -101,9 +108,11 @@ _max_error_option = click.option(
     help="Labelled feed that sets the accept threshold, best one from a retailer the model "
     "was not trained on: all its rows calibrate (a feed with a split column gives its "
     "split=valid rows). Repeat it for several sources: the strictest threshold wins. "
-    "Default: the reference catalog's valid split and the demo's Oskelund feed. Computed "
-    "once per model.",
+    "Default: the project's labelled feeds, the part training held out (the demo's project: "
+    "the reference catalog's valid split and the Oskelund feed). Computed once per model.",
 )
+@feed_name_option
+@tree_file_option()
 @_project_option
 @json_option
 def onboard_command(
@@ -113,6 +122,8 @@ def onboard_command(
     audit_share: float,
     rules: Path | None,
     validation_feed: tuple[Path, ...],
+    feed_name: str | None,
+    tree_file: Path | None,
     project: str | None,
     as_json: bool,
 ) -> None:
@@ -124,7 +135,7 @@ def onboard_command(
     again on the same feed updates the store in place (reviewed mappings are kept).
     """
     folder = project_dir(project)
-    tree = project_tree(folder)
+    tree = project_tree(folder, tree_file=tree_file)
     options = OnboardOptions(
         max_error=max_error,
         delta=1 - confidence,
@@ -134,7 +145,7 @@ def onboard_command(
     )
     with _onboarding_progress(feed) as show:
         summary = onboard_feed(
-            feed, project=folder, tree=tree, options=options, on_progress=show
+            feed, project=folder, tree=tree, options=options, on_progress=show, feed=feed_name
         )
     facts = summary.to_dict()
     if as_json:

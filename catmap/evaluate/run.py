@@ -514,6 +514,8 @@ def evaluate_feed(
     split: str | None = None,
     threshold: float = 0.5,
     brands_path: str | Path | None = None,
+    tree: CategoryTree | None = None,
+    feed_name: str | None = None,
 ) -> dict[str, Any]:
     """Map a labelled feed with the trained model and return the evaluation report.
 
@@ -527,7 +529,9 @@ def evaluate_feed(
         tree_version: the category tree version.
         split: evaluate only rows whose ``split`` column has this value.
         threshold: the back-off threshold.
-        brands_path: the brand dictionary (default: the project's, else the demo one).
+        brands_path: the brand dictionary (default: the project's).
+        tree: the category tree (wins over ``tree_version``; e.g. the project's own).
+        feed_name: the feed's name, which names its profile (default: from the file name).
 
     Returns:
         The report of :func:`evaluation_report` plus the run's facts (feed, gold, model,
@@ -542,10 +546,10 @@ def evaluate_feed(
 
     feed = Path(feed_path)
     folder = Path(project)
-    tree = load_default_tree(tree_version)
+    tree = tree if tree is not None else load_default_tree(tree_version)
     classifier, model_text = _classifier(tree, folder, model_folder)
 
-    source = open_profiled_feed(feed, folder)
+    source = open_profiled_feed(feed, folder, name=feed_name)
     gold = read_gold_csv(gold_path, label_column=label_column) if gold_path else None
     if gold is None and label_column not in source.info.columns:
         raise InputError(

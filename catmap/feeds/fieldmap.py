@@ -12,6 +12,7 @@ by hand; :func:`load_profile` reads it back and reports a bad line with :class:`
 
 from __future__ import annotations
 
+import codecs
 import dataclasses
 import re
 import tomllib
@@ -93,6 +94,8 @@ class FeedProfile:
         encoding: remembered reader encoding (None = detect).
         delimiter: remembered cell separator (None = detect).
         record_path: remembered XML record element (None = detect).
+        format: the feed format the profile was made for ("delimited", "xml", "jsonl"; None in
+            profiles written before it was saved); a file of another format is refused.
         suggestions: what :func:`suggest_profile` found (not saved in the file).
         source_columns: the columns the feed had when the profile was made (saved, and used by
             :func:`load_profile` to catch a misspelt column).
@@ -103,6 +106,7 @@ class FeedProfile:
     encoding: str | None = None
     delimiter: str | None = None
     record_path: str | None = None
+    format: str | None = None
     suggestions: list[FieldSuggestion] = dataclasses.field(default_factory=list)
     source_columns: tuple[str, ...] = ()
 
@@ -506,6 +510,7 @@ def suggest_profile(info: FeedInfo, sample: Sequence[SourceRecord]) -> FeedProfi
         encoding=info.encoding or None,
         delimiter=info.delimiter,
         record_path=info.record_path,
+        format=info.format,
         suggestions=suggestions,
         source_columns=tuple(columns),
     )
@@ -514,7 +519,8 @@ def suggest_profile(info: FeedInfo, sample: Sequence[SourceRecord]) -> FeedProfi
 # ---------------------------------------------------------------------------------------------
 # Profile file
 
-_FEED_KEYS = ("default_currency", "encoding", "delimiter", "record_path", "columns")
+_FEED_KEYS = ("default_currency", "format", "encoding", "delimiter", "record_path", "columns")
+_FORMATS = ("delimited", "xml", "jsonl")
 
 
 def _toml_string(value: str) -> str:
@@ -561,6 +567,9 @@ def profile_text(profile: FeedProfile) -> str:
         lines.append(f"{key} = {_toml_string(value)}" if value is not None else f"# {key} = \"\"")
 
     option("default_currency", profile.default_currency)
+    if profile.format is not None:
+        lines.append("# The format this profile was made for; a file of another format is refused.")
+        option("format", profile.format)
     lines.append("# Reader options to reuse; comment out to let catmap detect them again.")
     option("encoding", profile.encoding)
     option("delimiter", profile.delimiter)
@@ -686,6 +695,13 @@ def load_profile(path: str | Path) -> FeedProfile:
             raise fail(f"unknown currency '{default_currency}'", "feed", "default_currency",
                        'use an ISO 4217 code such as "EUR"')  # fmt: skip
         default_currency = code
+    if feed.get("format") is not None and feed["format"] not in _FORMATS:
+        raise fail(f"unknown format '{feed['format']}'", "feed", "format",
+                   "formats are " + ", ".join(_FORMATS))  # fmt: skip
+    encoding = feed.get("encoding")
+    if encoding is not None and not _is_text_encoding(encoding):
+        raise fail(f"'{encoding}' is not a text encoding Python knows", "feed", "encoding",
+                   'use a codec name such as "utf-8", or comment the line out')  # fmt: skip
     source_columns = tuple(feed.get("columns", ()))
     columns: dict[str, str] = {}
     for name, column in mapped.items():
@@ -702,8 +718,18 @@ def load_profile(path: str | Path) -> FeedProfile:
     return FeedProfile(
         columns=columns,
         default_currency=default_currency,
-        encoding=feed.get("encoding"),
+        encoding=encoding,
         delimiter=feed.get("delimiter"),
         record_path=feed.get("record_path"),
+        format=feed.get("format"),
         source_columns=source_columns,
     )
+
+
+def _is_text_encoding(name: str) -> bool:
+    """Whether ``name`` is a codec that turns bytes into text (not rot13, base64...)."""
+    try:
+        info = codecs.lookup(name)
+    except LookupError:
+        return False
+    return bool(getattr(info, "_is_text_encoding", True))

@@ -16,6 +16,7 @@ flat whatever the feed size.
 
 from __future__ import annotations
 
+import codecs
 import re
 from collections import Counter
 from collections.abc import Iterator
@@ -138,6 +139,28 @@ def _syntax_error(exc: etree.XMLSyntaxError, path: str | Path, read: int) -> Fee
     )
 
 
+# Python codec names libxml2 spells otherwise (it takes "UTF-16LE", not "utf-16-le"; the
+# BOM-skipping utf-8-sig is plain UTF-8 to a parser that skips the BOM itself).
+_LIBXML_NAMES = {
+    "utf-16-le": "UTF-16LE",
+    "utf-16-be": "UTF-16BE",
+    "utf-32-le": "UTF-32LE",
+    "utf-32-be": "UTF-32BE",
+    "utf-8-sig": "UTF-8",
+}
+
+
+def lxml_encoding(encoding: str | None) -> str | None:
+    """Return the name lxml knows for a Python codec name (None stays None)."""
+    if encoding is None:
+        return None
+    try:
+        name = codecs.lookup(encoding).name
+    except LookupError:
+        return encoding
+    return _LIBXML_NAMES.get(name, encoding)
+
+
 def scan(
     path: str | Path, encoding: str | None
 ) -> tuple[Counter[str], set[str], dict[str, str], FeedFormatError | None]:
@@ -156,7 +179,10 @@ def scan(
     stream, _ = open_binary(path)
     try:
         events = etree.iterparse(
-            stream, events=("start-ns", "start", "end"), encoding=encoding, **_PARSER_OPTIONS
+            stream,
+            events=("start-ns", "start", "end"),
+            encoding=lxml_encoding(encoding),
+            **_PARSER_OPTIONS,
         )
         for event, item in events:
             if event == "start-ns":
@@ -273,7 +299,7 @@ def iter_xml(
             stream,
             events=("end",),
             tag=("{*}" + local, local),
-            encoding=encoding,
+            encoding=lxml_encoding(encoding),
             **_PARSER_OPTIONS,
         )
         # Records share their parent: its path is checked once per parent, not per record.

@@ -2,10 +2,12 @@
 
 In the order a feed goes through catmap:
 
+- :mod:`~catmap.jobs.init`: a project of one's own started (its tree, brand list, labelled feeds).
 - :mod:`~catmap.jobs.inspect`: what a feed is and which column feeds which field (its profile).
 - :mod:`~catmap.jobs.normalize`: a feed cleaned into products, rejects and the accounting.
 - :mod:`~catmap.jobs.brands`: unknown brand names that repeat in a feed; a brand added.
-- :mod:`~catmap.jobs.train`: the mapping model trained (labelled feeds, demo or remapped catalog).
+- :mod:`~catmap.jobs.train`: the mapping model trained (the project's labelled feeds, the demo's
+  catalog in the demo's project, or a remapped catalog).
 - :mod:`~catmap.jobs.map`: a feed mapped to files with the project's model and rules.
 - :mod:`~catmap.jobs.evaluate`: a labelled feed mapped, measured, and its report written.
 - :mod:`~catmap.jobs.onboard`: a feed read, mapped, decided and stored, the rest queued.

@@ -20,7 +20,7 @@ from catmap.decide.threshold import (
 )
 from catmap.errors import ModelError
 from catmap.jobs._feed_mapper import CHUNK_SIZE, FeedMapper, acceptance_score
-from catmap.project import feed_stem
+from catmap.project import feed_stem, is_demo_project, load_settings
 from catmap.records import Product
 from catmap.tree.taxonomy import CategoryTree
 
@@ -74,10 +74,19 @@ def _calibration_rows(
     """
     rows: list[tuple[Product, str]] = []
     described: list[str] = []
+    settings = load_settings(project)
+    trained_on = {Path(f).resolve() for f in settings.labelled} if settings is not None else set()
     for feed in feeds:
         data = read_labelled([feed], tree=tree, project=project)
         everything = data.train + data.valid + data.test
-        if any(product.extra.get("split") for product, _label in everything):
+        if Path(feed).resolve() in trained_on:
+            # One of the project's training feeds: only the part training held out.
+            rows.extend(data.valid)
+            described.append(
+                f"{len(data.valid):,} products of {feed} held out from training (the "
+                "project's labelled feed)"
+            )
+        elif any(product.extra.get("split") for product, _label in everything):
             rows.extend(data.valid)
             described.append(
                 f"{len(data.valid):,} split=valid products of {feed} (held out from "
@@ -199,8 +208,28 @@ def _load_sources(path: Path, stamp: str) -> list[ValidationPredictions] | None:
         return result
 
 
-def default_calibration_feeds() -> list[Path]:
-    """The demo's calibration feeds: the reference catalog and, when present, Oskelund's."""
+def default_calibration_feeds(project: str | Path | None = None) -> list[Path]:
+    """The feeds onboarding calibrates on when given none.
+
+    The project of ``catmap demo`` (or ``project`` None): the reference catalog and, when
+    present, Oskelund's labelled feed. Any other project: its labelled feeds
+    (``catmap init --labelled``), the part training held out.
+
+    Raises:
+        ModelError: a project of one's own without labelled feeds.
+    """
+    if project is not None and not is_demo_project(project):
+        settings = load_settings(project)
+        labelled = [Path(f) for f in settings.labelled] if settings is not None else []
+        if not labelled:
+            raise ModelError(
+                "no labelled feed to choose the accept threshold from",
+                path=project,
+                hint="give --validation FEED (a labelled feed, best from a retailer the model "
+                "was not trained on), or record labelled feeds with `catmap init DIR "
+                "--labelled FEED`",
+            )
+        return labelled
     feeds = [_reference_feed()]
     outside = _default_calibration_feed()
     if outside != feeds[0]:
@@ -235,7 +264,7 @@ def calibration_sources(
         saved = _load_sources(folder / VALIDATION_FILE, model_stamp)
         if saved is not None:
             return saved
-        feeds, as_default = default_calibration_feeds(), True
+        feeds, as_default = default_calibration_feeds(project), True
     sources = [
         validation_predictions(mapper, folder, project=project, labelled_feeds=[Path(feed)])
         for feed in feeds

@@ -160,9 +160,10 @@ def project_store_tree(project: str | Path, store: Store, action: str) -> Catego
         TreeVersionMismatch: the store mixes tree versions.
     """
     check_one_version(store, action)
-    version = store_tree_version(store)
-    if version is not None:
-        return load_default_tree(version)
     from catmap.jobs.onboard import project_tree  # onboarding imports this module
 
-    return project_tree(project)
+    own = project_tree(project)
+    version = store_tree_version(store)
+    if version is None or version == str(own.version):
+        return own
+    return load_default_tree(version)

@@ -17,7 +17,7 @@ from catmap.attributes.brand import (
 from catmap.feeds.fieldmap import suggest_profile
 from catmap.feeds.ingest import FATAL_FEED_ERRORS, Accounting, iter_products
 from catmap.jobs._feed_profile import SAMPLE_SIZE, open_with_profile, saved_profile
-from catmap.project import profile_path
+from catmap.project import is_demo_project, profile_path
 from catmap.records import Product
 
 __all__ = ["accept_brand", "brand_candidates"]
@@ -30,6 +30,7 @@ def brand_candidates(
     min_count: int = 5,
     retailers: Sequence[str] = (),
     dictionary: Path | None = None,
+    feed_name: str | None = None,
 ) -> dict[str, Any]:
     """Return the names that repeat in a feed's brand field or leading title words but are
     not in the brand dictionary.
@@ -41,7 +42,8 @@ def brand_candidates(
         project: the project folder.
         min_count: names seen at least this many times.
         retailers: the retailer's own names (never a candidate).
-        dictionary: the brand dictionary CSV (default: the project's, else the demo one).
+        dictionary: the brand dictionary CSV (default: the project's).
+        feed_name: the feed's name, which names its profile (default: from the file name).
 
     Returns:
         The facts: products read, the candidates with counts and example titles, and why
@@ -49,7 +51,7 @@ def brand_candidates(
     """
     dictionary_path = dictionary_in_use(project, dictionary)
     brands = BrandDictionary.from_csv(dictionary_path) if dictionary_path else BrandDictionary([])
-    profile = saved_profile(profile_path(project, feed))
+    profile = saved_profile(profile_path(project, feed, name=feed_name))
     opened = open_with_profile(feed, profile)
     if profile is None:
         profile = suggest_profile(opened.info, opened.sample(SAMPLE_SIZE))
@@ -86,8 +88,8 @@ def accept_brand(
 ) -> dict[str, Any]:
     """Add a brand (with case, joined and legal-suffix spellings) to the brand dictionary.
 
-    The project's dictionary ``<project>/brands.csv`` is created from the demo one on first
-    use.
+    The project's dictionary ``<project>/brands.csv`` is created on first use (from the demo
+    one in the project of ``catmap demo``, else empty).
 
     Args:
         name: the brand's name.
@@ -101,9 +103,8 @@ def accept_brand(
     """
     path = dictionary or project_dictionary_path(project)
     created = not path.exists()
-    entry = append_brand(
-        path, name, variants=variants, departments=departments, seed_from=demo_dictionary_path()
-    )
+    seed = demo_dictionary_path() if is_demo_project(project) else None
+    entry = append_brand(path, name, variants=variants, departments=departments, seed_from=seed)
     return {
         "brand": entry.name,
         "variants": list(entry.variants),

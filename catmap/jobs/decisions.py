@@ -348,10 +348,12 @@ def export_project_decisions(
     Node paths are read on the tree version of the store's mappings (refused when the store
     mixes versions).
     """
+    from catmap.jobs._project_tree import check_store_tree
     from catmap.jobs._remap_versions import project_store_tree
 
     with Store.open(store_path(project)) as store:
         tree = project_store_tree(project, store, "export the decisions")
+        check_store_tree(store, tree)
         return export_decisions(store, out, tree=tree, feed=feed)
 
 
@@ -367,11 +369,13 @@ def import_project_decisions(
     Node ids are checked against the tree version of the store's mappings (refused when the
     store mixes versions), and who / age are read again with the project's brand dictionary.
     """
+    from catmap.jobs._project_tree import check_store_tree
     from catmap.jobs._remap_versions import project_store_tree
     from catmap.jobs.onboard import load_extractor
 
     with Store.open(store_path(project)) as store:
         tree = project_store_tree(project, store, "import decisions")
+        check_store_tree(store, tree)
         return import_decisions(
             store,
             path,

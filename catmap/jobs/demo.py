@@ -17,6 +17,7 @@ from typing import Any, Protocol
 
 from catmap.decide.threshold import DEFAULT_MAX_ERROR
 from catmap.jobs.export import export_feed
+from catmap.jobs.init import ensure_demo_project
 from catmap.jobs.onboard import (
     OnboardOptions,
     calibration_sources,
@@ -93,6 +94,7 @@ def run_demo(
     root = world or DEMO_WORLD
     tell.world(root)
     paths = ensure_demo_world(root)
+    ensure_demo_project(project, Path(paths.reference))
     tree = load_default_tree(1)
     model_dir = default_model_dir(project)
     trained = _train_when_missing(paths.reference, tree, project, model_dir, tell)

@@ -29,7 +29,9 @@ def evaluate_and_report(
     out_dir: Path | None = None,
     split: str | None = None,
     backoff_threshold: float = 0.5,
-    tree_version: str = "1",
+    tree_version: str | None = None,
+    tree_file: Path | None = None,
+    feed_name: str | None = None,
 ) -> EvaluationResult:
     """Evaluate the mapping of a labelled feed and write its report.
 
@@ -42,21 +44,27 @@ def evaluate_and_report(
         out_dir: folder for the report (default: ``<project>/reports/<feed name>``).
         split: evaluate only rows whose ``split`` column is this.
         backoff_threshold: below this confidence, answer the deepest sure parent node.
-        tree_version: the category tree version.
+        tree_version: the shared category tree version (default: the project's tree).
+        tree_file: a tree file of one's own (wins over ``tree_version``).
+        feed_name: the feed's name (``--feed``; default: from the file name).
     """
     from catmap.evaluate.report_html import write_report
     from catmap.evaluate.run import evaluate_feed
+    from catmap.jobs.onboard import project_tree
+    from catmap.project import feed_stem
 
+    tree = project_tree(project, tree_file=tree_file, tree_version=tree_version)
     report = evaluate_feed(
         labelled_feed,
         project=project,
         gold_path=gold_file,
         label_column=label_column,
         model_folder=model_dir,
-        tree_version=tree_version,
+        tree=tree,
+        feed_name=feed_name,
         split=split,
         threshold=backoff_threshold,
     )
-    target = out_dir or project / "reports" / labelled_feed.name.split(".")[0]
+    target = out_dir or project / "reports" / (feed_name or feed_stem(labelled_feed))
     html_path, json_path = write_report(report, target)
     return EvaluationResult(report, html_path, json_path)

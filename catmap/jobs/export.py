@@ -17,6 +17,7 @@ from typing import Any
 
 from catmap.attributes import RESTRICTION_CAUTION
 from catmap.feeds.writers import FORMATS, CsvWriter, JsonLinesWriter, RecordWriter
+from catmap.jobs._project_tree import check_store_tree
 from catmap.jobs._remap_versions import project_store_tree, tree_by_version
 from catmap.jobs.onboard import rejects_path
 from catmap.records import Product
@@ -273,6 +274,7 @@ def export_project(
     """
     with Store.open(store_path(project)) as store:
         tree = project_store_tree(project, store, "export")
+        check_store_tree(store, tree)
         names = [feed] if feed else [record.name for record in store.feeds()]
         return [
             export_feed(store, name, out_dir, tree=tree, project=project, format=format)

@@ -6,9 +6,21 @@ from __future__ import annotations
 from pathlib import Path
 from typing import Any
 
-from catmap.feeds.fieldmap import REQUIRED_FIELDS, TARGET_FIELDS, FeedProfile, load_profile
+from catmap.feeds.fieldmap import (
+    REQUIRED_FIELDS,
+    TARGET_FIELDS,
+    FeedProfile,
+    load_profile,
+    suggest_profile,
+)
+from catmap.feeds.profiled import column_mismatch, format_mismatch
 from catmap.feeds.read import Feed
-from catmap.jobs._feed_profile import SAMPLE_SIZE, open_with_profile, suggest_and_save
+from catmap.jobs._feed_profile import (
+    SAMPLE_SIZE,
+    open_with_profile,
+    remember_options,
+    suggest_and_save,
+)
 from catmap.project import profile_path
 
 __all__ = ["SAMPLES_SHOWN", "inspect_feed", "mapping_rows"]
@@ -63,6 +75,7 @@ def inspect_feed(
     record_path: str | None = None,
     delimiter: str | None = None,
     fresh: bool = False,
+    feed_name: str | None = None,
 ) -> dict[str, Any]:
     """Describe a feed and its field mapping; suggest and save the profile when it has none.
 
@@ -73,16 +86,32 @@ def inspect_feed(
         record_path: XML only: the repeating record element.
         delimiter: delimited text only: the column separator.
         fresh: suggest the mapping anew even if one is saved.
+        feed_name: the feed's name, which names its profile (default: from the file name).
 
     Returns:
-        The facts: format, encoding, columns, the mapping, missing fields, the profile.
+        The facts: format, encoding, columns, the mapping, missing fields, the profile, and
+        ``profile_mismatch``: why the saved profile does not fit this file (then the mapping
+        shown is a new suggestion, not saved), else None.
     """
-    saved_path = profile_path(project, feed)
+    saved_path = profile_path(project, feed, name=feed_name)
     existing = saved_path.exists() and not fresh
     profile = load_profile(saved_path) if existing else None
+    mismatch = format_mismatch(profile, feed) if profile is not None else None
+    if mismatch is not None:
+        profile = None
     opened = open_with_profile(feed, profile, encoding, record_path, delimiter)
+    if profile is not None:
+        mismatch = column_mismatch(profile, opened.info)
+        if mismatch is not None:
+            profile = None
+            opened = open_with_profile(feed, None, encoding, record_path, delimiter)
     info = opened.info
-    if profile is None:
+    if mismatch is not None:
+        # Never overwrite the feed's profile unasked: show what a new one would be.
+        profile = suggest_profile(opened.info, opened.sample(SAMPLE_SIZE))
+        remember_options(profile, encoding, record_path, delimiter)
+        existing = False
+    elif profile is None:
         profile = suggest_and_save(opened, saved_path, encoding, record_path, delimiter)
     rows = mapping_rows(profile, opened, sample_needed=existing)
     mapped_columns = set(profile.columns.values())
@@ -102,5 +131,6 @@ def inspect_feed(
         "missing_required": [name for name in missing if name in REQUIRED_FIELDS],
         "extras": [column for column in info.columns if column not in mapped_columns],
         "profile": str(saved_path),
-        "profile_status": "existing" if existing else "saved",
+        "profile_status": "mismatch" if mismatch else ("existing" if existing else "saved"),
+        "profile_mismatch": mismatch,
     }

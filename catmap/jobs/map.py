@@ -14,9 +14,9 @@ from catmap.classify.rules import RuleSet, load_rules
 from catmap.classify.storage import MANIFEST, load_model
 from catmap.errors import InputError
 from catmap.feeds.profiled import open_profiled_feed
-from catmap.jobs.onboard import default_model_dir
-from catmap.project import feed_stem, subfolder
-from catmap.tree.taxonomy import CategoryTree, load_default_tree
+from catmap.jobs.onboard import default_model_dir, default_rules_path, project_tree
+from catmap.project import feed_name
+from catmap.tree.taxonomy import CategoryTree
 
 __all__ = ["MapResult", "map_project_feed", "project_mapper"]
 
@@ -56,7 +56,9 @@ def map_project_feed(
     out_dir: Path,
     *,
     project: Path,
-    tree_version: str = "1",
+    tree_version: str | None = None,
+    tree_file: Path | None = None,
+    feed_name_given: str | None = None,
     model_dir: Path | None = None,
     rules_file: Path | None = None,
     backoff_threshold: float = 0.5,
@@ -70,7 +72,9 @@ def map_project_feed(
         feed: the feed file.
         out_dir: folder for mappings, rejects and ``accounting.json``.
         project: the project folder (profile, rules, model).
-        tree_version: version of the shared category tree.
+        tree_version: version of the shared category tree (default: the project's tree).
+        tree_file: a tree file of one's own (wins over ``tree_version``).
+        feed_name_given: the feed's name (``--feed``; default: from the file name).
         model_dir: the model folder (default: the project's, keywords only when none).
         rules_file: rules applied first (default: ``<project>/rules/<feed name>.rules`` if it
             exists).
@@ -82,14 +86,15 @@ def map_project_feed(
     Returns:
         The facts, and the fatal feed error if reading stopped early.
     """
-    tree = load_default_tree(tree_version)
+    tree = project_tree(project, tree_file=tree_file, tree_version=tree_version)
+    name = feed_name(feed, feed_name_given)
     mapper, model_folder = project_mapper(project, tree, model_dir)
     if rules_file is None:
-        default_rules = subfolder(project, "rules", create=False) / f"{feed_stem(feed)}.rules"
+        default_rules = default_rules_path(project, feed, name)
         rules_file = default_rules if default_rules.exists() else None
     rules = load_rules(rules_file, tree=tree) if rules_file is not None else RuleSet([])
 
-    source = open_profiled_feed(feed, project)
+    source = open_profiled_feed(feed, project, name=name)
     error: InputError | None = None
     summary = MapSummary()
     try:
@@ -107,6 +112,7 @@ def map_project_feed(
         error = fatal
     facts: dict[str, Any] = {
         "feed": str(feed),
+        "feed_name": name,
         "model": str(model_folder) if mapper.model is not None else None,
         **summary.to_dict(),
     }

@@ -17,6 +17,7 @@ from catmap.feeds.ingest import (
     normalize_feed_to,
     output_paths,
 )
+from catmap.feeds.profiled import column_mismatch, format_mismatch, profile_mismatch_error
 from catmap.jobs._feed_profile import open_with_profile, saved_profile, suggest_and_save
 from catmap.project import profile_path
 
@@ -51,6 +52,7 @@ def normalize_project_feed(
     default_currency: str | None = None,
     profile_file: Path | None = None,
     on_progress: Callable[[Accounting], None] | None = None,
+    feed_name: str | None = None,
 ) -> NormalizeResult:
     """Normalise a feed with its profile (given, saved, or suggested and saved).
 
@@ -65,17 +67,24 @@ def normalize_project_feed(
         default_currency: currency of prices that name none (an ISO 4217 code).
         profile_file: use this profile instead of the feed's saved one.
         on_progress: told the accounting as records are read.
+        feed_name: the feed's name, which names its profile (default: from the file name).
 
     Returns:
         The facts, the files written, and the fatal feed error if reading stopped early.
 
     Raises:
-        InputError: the profile does not fit the feed.
+        InputError: the profile does not fit the feed (another format, or columns renamed).
     """
-    path = profile_file or profile_path(project, feed)
+    path = profile_file or profile_path(project, feed, name=feed_name)
     profile_status = "given" if profile_file else "existing"
     profile = saved_profile(path)
+    reason = format_mismatch(profile, feed) if profile is not None else None
+    if reason is not None:
+        raise profile_mismatch_error(reason, path, feed, feed_name)
     opened = open_with_profile(feed, profile, encoding, record_path, delimiter)
+    reason = column_mismatch(profile, opened.info) if profile is not None else None
+    if reason is not None:
+        raise profile_mismatch_error(reason, path, feed, feed_name)
     if profile is None:
         profile = suggest_and_save(opened, path, encoding, record_path, delimiter)
         profile_status = "saved"

@@ -43,7 +43,7 @@ from catmap.attributes import AttributeExtractor, BrandDictionary
 from catmap.attributes._text import fold
 from catmap.attributes.brand import dictionary_in_use, normalize_brand
 from catmap.classify.rules import RuleSet, load_rules
-from catmap.classify.storage import load_model, read_manifest
+from catmap.classify.storage import file_fingerprint, load_model, read_manifest
 from catmap.decide.queue import Candidate, expected_gain, plan_queue
 from catmap.decide.threshold import DEFAULT_DELTA, DEFAULT_MAX_ERROR, ThresholdChoice
 from catmap.errors import InputError, ModelNotTrained
@@ -65,11 +65,12 @@ from catmap.jobs._feed_mapper import (
     acceptance_score,
 )
 from catmap.jobs._gold import GoldCheck, check_against_gold
+from catmap.jobs._project_tree import check_store_tree, open_project_tree
 from catmap.jobs._remap_versions import check_onboarding, record_feed_versions
-from catmap.project import feed_stem, subfolder
+from catmap.project import feed_name, load_settings, subfolder
 from catmap.records import Attributes, Mapping, Product, Reject
 from catmap.store import MappedRow, Store, store_path
-from catmap.tree.taxonomy import CategoryTree, load_default_tree
+from catmap.tree.taxonomy import CategoryTree
 
 __all__ = [
     "CHUNK_SIZE",
@@ -84,6 +85,8 @@ __all__ = [
     "calibration_sources",
     "default_calibration_feeds",
     "check_against_gold",
+    "check_same_folder",
+    "check_store_tree",
     "default_model_dir",
     "default_rules_path",
     "onboard_feed",
@@ -105,9 +108,17 @@ def default_model_dir(project: str | Path) -> Path:
     return Path(project) / "models" / "current"
 
 
-def default_rules_path(project: str | Path, feed_path: str | Path) -> Path:
-    """Return a feed's default rules file: ``<project>/rules/<feed stem>.rules``."""
-    return Path(project) / "rules" / f"{feed_stem(feed_path)}.rules"
+def default_rules_path(
+    project: str | Path, feed_path: str | Path, name: str | None = None
+) -> Path:
+    """Return a feed's default rules file: ``<project>/rules/<feed name>.rules``.
+
+    Args:
+        project: the project folder.
+        feed_path: the feed file.
+        name: the feed's name (``--feed``; default: from the file name).
+    """
+    return Path(project) / "rules" / f"{feed_name(feed_path, name)}.rules"
 
 
 def rejects_path(project: str | Path, feed_name: str) -> Path:
@@ -115,13 +126,26 @@ def rejects_path(project: str | Path, feed_name: str) -> Path:
     return Path(project) / "rejects" / f"{feed_name}.jsonl"
 
 
-def project_tree(project: str | Path) -> CategoryTree:
-    """Return the tree of the project's model (version 1 when there is no model yet)."""
-    try:
-        version = str(read_manifest(default_model_dir(project)).get("tree_version", "1"))
-    except ModelNotTrained:
-        version = "1"
-    return load_default_tree(version)
+def project_tree(
+    project: str | Path,
+    *,
+    tree_file: str | Path | None = None,
+    tree_version: str | None = None,
+) -> CategoryTree:
+    """Return the tree a command works on (see :func:`catmap.project.open_project_tree`).
+
+    A project ``catmap init`` did not make falls back to its model's tree version (version 1
+    when there is no model yet).
+    """
+    fallback = "1"
+    if tree_file is None and not tree_version and load_settings(project) is None:
+        try:
+            fallback = str(read_manifest(default_model_dir(project)).get("tree_version", "1"))
+        except ModelNotTrained:
+            pass
+    return open_project_tree(
+        project, tree_file=tree_file, tree_version=tree_version, fallback_version=fallback
+    )
 
 
 # --------------------------------------------------------------------------------------------
@@ -255,11 +279,14 @@ def onboard_feed(
     validation: ValidationPredictions | Sequence[ValidationPredictions] | None = None,
     extractor: AttributeExtractor | None = None,
     on_progress: Callable[[str, int], None] | None = None,
+    feed: str | None = None,
 ) -> OnboardSummary:
     """Onboard one feed into the project store.
 
     Args:
         feed_path: the feed file.
+        feed: the feed's name (``--feed``; default: the file name without dates and run
+            counters, see :func:`catmap.project.feed_stem`).
         project: the project folder (profile, rules, model, store, rejects live there).
         tree: the category tree of the model.
         model_dir: the model folder (default: ``<project>/models/current``).
@@ -275,16 +302,23 @@ def onboard_feed(
     Raises:
         ModelNotTrained: no model in the model folder.
         TreeVersionMismatch: a remap is pending, or the store is on another tree version.
-        InputError: the feed, its profile or the rules file cannot be used; a fatal feed error
-            is raised after the records before it were saved (the run is recorded as stopped).
+        ModelTreeMismatch: the model or the store was made on another tree.
+        InputError: the feed, its profile or the rules file cannot be used, or a feed of the
+            same name came from another folder; a fatal feed error is raised after the records
+            before it were saved (the run is recorded as stopped).
     """
     started = time.perf_counter()
     options = options or OnboardOptions()
     project = Path(project)
     feed_path = Path(feed_path)
+    name = feed_name(feed_path, feed)
     folder = Path(model_dir) if model_dir else default_model_dir(project)
     model, manifest = load_model(folder, tree)
-    rules_file = _rules_file(project, feed_path, options)
+    if store_path(project).is_file():
+        with Store.open(store_path(project)) as existing:
+            check_same_folder(existing, name, feed_path, given=feed is not None)
+            check_store_tree(existing, tree)
+    rules_file = _rules_file(project, feed_path, options, name)
     rules = load_rules(rules_file, tree=tree) if rules_file is not None else None
     mapper = FeedMapper(
         model, manifest, tree, rules=rules, backoff_threshold=options.backoff_threshold
@@ -299,16 +333,15 @@ def onboard_feed(
     choice, statement = _choose_threshold(sources, options)
     extractor = extractor or load_extractor(project, tree)
 
-    source = open_profiled_feed(feed_path, project)
+    source = open_profiled_feed(feed_path, project, name=name)
 
-    name = feed_stem(feed_path)
     store = Store.for_project(project)
     try:
         check_onboarding(store, str(tree.version))
-        store.add_feed(name, source_path=feed_path, profile_path=source.profile_path)
+        store.add_feed(name, source_path=feed_path.resolve(), profile_path=source.profile_path)
         summary = _start_run(
             store, name, feed_path, project, options, choice, statement, sources,
-            rules_file=rules_file, model_dir=folder,
+            rules_file=rules_file, model_dir=folder, tree=tree,
         )
         run_id = summary.run_id
         reject_file = rejects_path(project, name)
@@ -352,6 +385,7 @@ def _start_run(
     *,
     rules_file: Path | None,
     model_dir: Path,
+    tree: CategoryTree,
 ) -> OnboardSummary:
     """Record the onboard run with its parameters; return its summary, facts known so far."""
     run_id = store.start_run(
@@ -364,6 +398,10 @@ def _start_run(
             "threshold": choice.threshold,
             "rules": str(rules_file) if rules_file else None,
             "model": str(model_dir),
+            # The tree the mappings are on, so that a later run on another tree is refused.
+            "tree_version": str(tree.version),
+            "tree_file": str(tree.path or ""),
+            "tree_fingerprint": file_fingerprint(tree.path),
         },
     )
     return OnboardSummary(
@@ -383,11 +421,42 @@ def _start_run(
     )
 
 
-def _rules_file(project: Path, feed_path: Path, options: OnboardOptions) -> Path | None:
+def _rules_file(
+    project: Path, feed_path: Path, options: OnboardOptions, name: str
+) -> Path | None:
     """The rules file given, else the feed's default one when it exists."""
-    if options.rules is None and default_rules_path(project, feed_path).exists():
-        return default_rules_path(project, feed_path)
+    default = default_rules_path(project, feed_path, name)
+    if options.rules is None and default.exists():
+        return default
     return options.rules
+
+
+def check_same_folder(store: Store, name: str, feed_path: Path, *, given: bool) -> None:
+    """Refuse a file that would silently join a feed first onboarded from another folder.
+
+    Two retailers may send files of the same name; merging them would overwrite one's
+    products and put its reviewed decisions on the other's. A name given with ``--feed``
+    says the user means that feed, wherever the file is.
+
+    Raises:
+        InputError: the feed's name is known from another folder and was not given.
+    """
+    if given or name not in {record.name for record in store.feeds()}:
+        return
+    known = store.feed(name).source_path
+    if not known:
+        return
+    known_folder = Path(known).resolve().parent
+    folder = feed_path.resolve().parent
+    if known_folder != folder:
+        raise InputError(
+            f"a feed named '{name}' was onboarded from the folder {known_folder}; this file is "
+            f"in {folder}",
+            path=feed_path,
+            hint=f"give it its own name with --feed NAME, or --feed {name} if it is the same "
+            "retailer's feed",
+        )
+
 
 
 def _validation_feeds(options: OnboardOptions) -> list[Path] | None:

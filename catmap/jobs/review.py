@@ -10,7 +10,9 @@ from pathlib import Path
 from catmap.attributes import BrandDictionary
 from catmap.attributes.brand import dictionary_in_use
 from catmap.errors import StoreError
+from catmap.jobs._project_tree import check_store_tree, open_project_tree
 from catmap.jobs._remap_versions import check_one_version
+from catmap.project import load_settings
 from catmap.review.session import ReviewSession
 from catmap.store import Store, store_path
 
@@ -43,4 +45,10 @@ def project_review_session(
         # brand's name is not read as an audience.
         dictionary = dictionary_in_use(project)
         brands = BrandDictionary.from_csv(dictionary) if dictionary is not None else None
-        yield ReviewSession(store, reviewer, feed=feed, brands=brands)
+        # A project's own tree is the one its items are on; the shared tree's versions are
+        # looked up per item (a remap may leave items on two versions).
+        settings = load_settings(project)
+        tree = open_project_tree(project) if settings is not None and settings.tree_file else None
+        if tree is not None:
+            check_store_tree(store, tree)
+        yield ReviewSession(store, reviewer, feed=feed, brands=brands, tree=tree)

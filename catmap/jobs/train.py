@@ -7,11 +7,11 @@ from collections.abc import Callable, Sequence
 from pathlib import Path
 from typing import Any
 
-from catmap.errors import ModelNotTrained
-from catmap.jobs.onboard import default_model_dir, project_review_examples
-from catmap.project import subfolder
+from catmap.errors import InputError, ModelNotTrained
+from catmap.jobs.onboard import default_model_dir, project_review_examples, project_tree
+from catmap.project import load_settings, settings_path, subfolder
 from catmap.records import Product
-from catmap.tree.taxonomy import CategoryTree, load_default_tree
+from catmap.tree.taxonomy import CategoryTree, default_tree_path
 
 __all__ = ["DEMO_TREE_VERSION", "remapped_catalog", "train_project", "training_sources"]
 
@@ -53,26 +53,44 @@ def training_sources(
 ) -> tuple[list[Path], list[tuple[Product, str]]]:
     """Return the labelled feeds to train on and the reviewed products to add.
 
-    Without feeds: the demo reference catalog (built when missing) for the demo's tree
-    version, else the project's remapped catalog (:func:`remapped_catalog`), which already
-    holds the reviewed products.
+    Without feeds: the project's labelled feeds (``catmap init --labelled``). The project of
+    ``catmap demo`` learns from the demo reference catalog (built when missing) on the demo's
+    tree version; on a newer shared tree, a project learns from its remapped catalog
+    (:func:`remapped_catalog`), which already holds the reviewed products.
 
     Args:
         project: the project folder.
         tree: the category tree to train on.
         feeds: the labelled feeds given.
         with_reviews: add the products reviewers decided in the project store.
+
+    Raises:
+        InputError: no feeds given and the project has none to learn from.
     """
-    if not feeds and str(tree.version) != DEMO_TREE_VERSION:
-        # A newer tree than the demo catalog's: learn from the project's remapped catalog.
-        return [remapped_catalog(project, tree)], []
+    settings = load_settings(project)
     sources = list(feeds)
-    if not sources:
+    labels_version = settings.tree_version if settings is not None else DEMO_TREE_VERSION
+    shared = tree.path == str(default_tree_path(tree.version))
+    if not sources and shared and str(tree.version) != labels_version:
+        # A newer shared tree than the project's labels: learn from its remapped catalog.
+        return [remapped_catalog(project, tree)], []
+    if not sources and settings is not None and settings.labelled:
+        sources = [Path(feed) for feed in settings.labelled]
+    demo = settings is not None and settings.demo
+    if not sources and demo:
         from catmap.demo import ensure_demo_world
         from catmap.jobs.demo import DEMO_WORLD
 
         paths = ensure_demo_world(DEMO_WORLD, tree=tree)
         sources = [Path(paths.reference)]
+    if not sources:
+        raise InputError(
+            "no labelled feeds to train on",
+            path=settings_path(project) if settings is not None else project,
+            hint="give labelled feeds: `catmap train FEED...` (a column of node ids, see "
+            "--label-column), or record them in the project with `catmap init DIR --labelled "
+            "FEED`; `catmap demo` trains on the invented demo world",
+        )
     reviewed = project_review_examples(project, tree) if with_reviews else []
     return sources, reviewed
 
@@ -81,41 +99,58 @@ def train_project(
     feeds: Sequence[Path],
     *,
     project: Path,
-    tree_version: str = DEMO_TREE_VERSION,
+    tree_version: str | None = None,
+    tree_file: Path | None = None,
     label_column: str = "gold_node",
     classifier: str = "linear_svc",
     model_dir: Path | None = None,
     with_reviews: bool = True,
     on_stage: Callable[[str], None] | None = None,
+    max_per_class: int | None = None,
+    max_unknown_share: float | None = None,
 ) -> dict[str, Any]:
     """Train the mapping model and save it; return the training report's facts.
 
     Args:
         feeds: labelled feeds (none: see :func:`training_sources`).
         project: the project folder.
-        tree_version: version of the shared category tree.
+        tree_version: version of the shared category tree (default: the project's tree).
+        tree_file: a tree file of one's own (wins over ``tree_version``).
         label_column: column holding the node id of each product.
         classifier: the linear model to train.
         model_dir: the model folder to write (default: ``<project>/models/current``).
         with_reviews: add the products reviewers decided as training examples.
         on_stage: told each training stage.
+        max_per_class: train on at most this many products of one class (None: the model's
+            default; 0: no cap).
+        max_unknown_share: stop when more labelled rows than this share name nodes the tree
+            lacks (None: :data:`~catmap.classify.training.MAX_UNKNOWN_LABEL_SHARE`).
 
     Returns:
         The report's facts, with ``reviewed_examples``: how many reviewed products were added.
-    """
-    from catmap.classify.training import train_model
 
-    tree = load_default_tree(tree_version)
+    Raises:
+        InputError: no labelled feeds, or labels of another tree.
+    """
+    from catmap.classify.training import MAX_UNKNOWN_LABEL_SHARE, train_model
+
+    tree = project_tree(project, tree_file=tree_file, tree_version=tree_version)
     sources, reviewed = training_sources(project, tree, feeds, with_reviews=with_reviews)
+    options: dict[str, Any] = {"classifier": classifier}
+    if max_per_class is not None:
+        options["max_per_class"] = max_per_class or None
     report = train_model(
         sources,
         tree=tree,
         project=project,
         model_dir=model_dir if model_dir is not None else default_model_dir(project),
         label_column=label_column,
-        model_options={"classifier": classifier},
+        model_options=options,
         extra_examples=reviewed,
         on_stage=on_stage,
+        max_unknown_share=(
+            MAX_UNKNOWN_LABEL_SHARE if max_unknown_share is None else max_unknown_share
+        ),
     )
     facts = report.to_dict()
     facts["reviewed_examples"] = len(reviewed)

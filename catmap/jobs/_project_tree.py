@@ -1,0 +1,90 @@
+"""The tree a command works on: the one given, the project's own (checked against the
+fingerprint ``catmap init`` recorded), or the shared tree of a version."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+from catmap.errors import ModelTreeMismatch, TreeError
+from catmap.project import SETTINGS_FILE, fingerprint, load_settings
+from catmap.store import Store
+from catmap.tree.taxonomy import CategoryTree, load_default_tree, load_tree
+
+__all__ = ["check_store_tree", "open_project_tree"]
+
+
+def open_project_tree(
+    project: str | Path,
+    *,
+    tree_file: str | Path | None = None,
+    tree_version: str | None = None,
+    fallback_version: str = "1",
+) -> CategoryTree:
+    """Return the tree a command works on.
+
+    In order: the file given (``--tree-file``), the shared tree of the version given
+    (``--tree-version``), the project's tree (its settings), else the shared tree of
+    ``fallback_version`` (a project ``catmap init`` did not make).
+
+    Args:
+        project: the project folder.
+        tree_file: a tree file given on the command line.
+        tree_version: a shared tree version given on the command line.
+        fallback_version: the version for a project without settings.
+
+    Returns:
+        The validated tree.
+
+    Raises:
+        TreeError: the tree file is missing or invalid, or the project's own tree file no
+            longer matches the fingerprint recorded by ``catmap init``.
+    """
+    if tree_file is not None:
+        return load_tree(tree_file)
+    if tree_version:
+        return load_default_tree(tree_version)
+    settings = load_settings(project)
+    if settings is None:
+        return load_default_tree(fallback_version)
+    if settings.tree_file is None:
+        return load_default_tree(settings.tree_version)
+    path = Path(project) / settings.tree_file
+    tree = load_tree(path)
+    found = fingerprint(path)
+    if settings.tree_fingerprint and found != settings.tree_fingerprint:
+        raise TreeError(
+            f"the project's tree file was changed after `catmap init`: fingerprint "
+            f"{found[:12]} now, {settings.tree_fingerprint[:12]} recorded in {SETTINGS_FILE}",
+            path=path,
+            hint="put the original file back, or start a new project with "
+            "`catmap init DIR --tree FILE`; a new tree version is moved to with `catmap remap`",
+        )
+    return tree
+
+
+def check_store_tree(store: Store, tree: CategoryTree) -> None:
+    """Refuse a tree other than the one the store's latest onboarding mapped onto.
+
+    A remap moves the store to a new tree; after one, the check waits for the next onboarding.
+
+    Raises:
+        ModelTreeMismatch: the store's mappings are on another tree (named with its file and
+            fingerprint).
+    """
+    latest = next(
+        (run for run in reversed(store.runs()) if run.kind in ("onboard", "remap")), None
+    )
+    if latest is None or latest.kind != "onboard":
+        return
+    recorded = str(latest.params.get("tree_fingerprint") or "")
+    current = fingerprint(tree.path) if tree.path and Path(tree.path).is_file() else ""
+    if not recorded or not current or recorded == current:
+        return
+    raise ModelTreeMismatch(
+        f"the project store's mappings are on tree version {latest.params.get('tree_version')} "
+        f"({latest.params.get('tree_file')}, fingerprint {recorded[:12]}); the tree in use is "
+        f"version {tree.version} ({tree.path}, fingerprint {current[:12]})",
+        path=store.path,
+        hint="use the store's tree (--tree-file FILE), or move the store to this tree with "
+        "`catmap remap --to FILE`",
+    )

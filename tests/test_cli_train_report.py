@@ -1,0 +1,98 @@
+"""catmap train says what it used: rows read, rows per class, the cap and what it left out, and
+labels the tree lacks (too many of them stop training)."""
+
+from __future__ import annotations
+
+import csv
+import json
+from pathlib import Path
+
+import pytest
+from click.testing import CliRunner
+
+from catmap.classify.training import MAX_UNKNOWN_LABEL_SHARE, default_max_per_class
+from catmap.cli import main
+from tests._classify_fixtures import labelled_rows, write_tree
+
+
+@pytest.fixture()
+def project(tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> Path:
+    write_tree(tmp_path / "taxonomies")
+    monkeypatch.setenv("CATMAP_TAXONOMIES", str(tmp_path / "taxonomies"))
+    return tmp_path / "project"
+
+
+def _feed(path: Path, unknown: int = 0) -> Path:
+    """The tiny labelled feed (240 rows), the first ``unknown`` rows labelled with ids the tree
+    lacks (a few distinct ones)."""
+    rows = labelled_rows(240)
+    for i in range(unknown):
+        rows[i]["gold_node"] = f"99{i % 7}"
+    with open(path, "w", encoding="utf-8", newline="") as handle:
+        writer = csv.DictWriter(handle, fieldnames=list(rows[0]))
+        writer.writeheader()
+        writer.writerows(rows)
+    return path
+
+
+def test_the_cap_is_an_option_with_its_default_shown() -> None:
+    result = CliRunner().invoke(main, ["train", "--help"])
+    assert result.exit_code == 0
+    text = " ".join(result.stdout.split())  # help lines wrap anywhere
+    cap = text.split("--max-per-class", 1)[1].split("--max-unknown-share", 1)[0]
+    assert f"[default: {default_max_per_class()};" in cap
+    assert f"[default: {MAX_UNKNOWN_LABEL_SHARE};" in text
+
+
+def test_training_reports_rows_read_and_used_per_class(project: Path, tmp_path: Path) -> None:
+    feed = _feed(tmp_path / "shop.csv")
+    args = ["train", str(feed), "--project", str(project), "--max-per-class", "10"]
+    result = CliRunner().invoke(main, [*args, "--json"])
+    assert result.exit_code == 0, result.output
+    facts = json.loads(result.stdout)
+    assert facts["rows_read"] == 240
+    # 144 split=train rows over 6 classes, 24 each: the cap of 10 keeps 60 and leaves out 84.
+    assert facts["products_train"] == 144
+    assert facts["products_used"] == 60
+    assert facts["left_out_by_cap"] == 84
+    assert facts["per_class"] == {"classes": 6, "min": 10, "median": 10.0, "max": 10}
+    manifest = json.loads((project / "models" / "current" / "manifest.json").read_text())
+    assert manifest["settings"]["max_per_class"] == 10
+    text = CliRunner().invoke(main, args)
+    assert "Trained on 60 products" in text.stdout
+    assert "84 left out by the cap of 10 per class" in text.stdout
+
+
+def test_no_cap_leaves_nothing_out(project: Path, tmp_path: Path) -> None:
+    feed = _feed(tmp_path / "shop.csv")
+    result = CliRunner().invoke(
+        main, ["train", str(feed), "--project", str(project), "--max-per-class", "0", "--json"]
+    )
+    assert result.exit_code == 0, result.output
+    facts = json.loads(result.stdout)
+    assert facts["left_out_by_cap"] == 0
+    assert facts["max_per_class"] is None
+
+
+def test_a_few_unknown_labels_are_reported(project: Path, tmp_path: Path) -> None:
+    feed = _feed(tmp_path / "shop.csv", unknown=3)
+    result = CliRunner().invoke(main, ["train", str(feed), "--project", str(project), "--json"])
+    assert result.exit_code == 0, result.output
+    facts = json.loads(result.stdout)
+    assert facts["unknown_labels"] == 3
+    assert facts["unknown_examples"] == ["990", "991", "992"]
+    assert facts["unknown_share"] == pytest.approx(3 / 240, abs=1e-4)
+
+
+def test_labels_of_another_tree_stop_training(project: Path, tmp_path: Path) -> None:
+    feed = _feed(tmp_path / "shop.csv", unknown=48)
+    result = CliRunner().invoke(main, ["train", str(feed), "--project", str(project)])
+    assert result.exit_code == 3
+    assert "20.0% of the labelled rows (48 of 240)" in result.stderr
+    assert "first: 990, 991, 992, 993, 994" in result.stderr
+    assert "--max-unknown-share" in result.stderr
+    assert not (project / "models" / "current" / "manifest.json").exists()
+    allowed = CliRunner().invoke(
+        main, ["train", str(feed), "--project", str(project), "--max-unknown-share", "0.25"]
+    )
+    assert allowed.exit_code == 0, allowed.output
