@@ -161,3 +161,26 @@ def test_map_summary_uses_two_workers_and_writes_parquet(
     table = pq.read_table(out / "mappings.parquet")
     assert table.num_rows == 240
     assert table.column_names[:3] == ["product_id", "title", "node_id"]
+
+
+@pytest.mark.parametrize("workers", ["1", "2"])
+def test_map_writes_the_products_read_before_a_fatal_feed_error(
+    setup: tuple[Path, Path], tmp_path: Path, workers: str
+) -> None:
+    feed, project = setup
+    broken = tmp_path / "broken.csv"
+    # An unterminated quote on the last line stops the reading after 240 good records.
+    broken.write_text(
+        feed.read_text(encoding="utf-8") + 'p-broken,"Unclosed title\n', encoding="utf-8"
+    )
+    out = tmp_path / "out"
+    result = CliRunner().invoke(
+        main,
+        ["map", str(broken), "--out", str(out), "--project", str(project), "--json",
+         "--workers", workers],
+    )
+    assert result.exit_code == 3, result.output
+    accounting = json.loads((out / "accounting.json").read_text(encoding="utf-8"))
+    rows = read_jsonl(out / "mappings.jsonl")
+    assert accounting["kept"] == 240
+    assert len(rows) == accounting["kept"]

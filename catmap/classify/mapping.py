@@ -231,14 +231,26 @@ def _parquet_schema() -> Any:
 
 
 def _chunks(
-    items: Iterable[Product | Reject], size: int, on_reject: Callable[[Reject], None]
+    items: Iterable[Product | Reject],
+    size: int,
+    on_reject: Callable[[Reject], None],
+    stopped: list[BaseException],
 ) -> Iterator[list[Product]]:
+    """Chunks of products; a fatal feed error ends the stream and lands in ``stopped``.
+
+    The error is caught below the chunker so that the last, partial chunk (the products read
+    before the error) is still yielded and mapped.
+    """
+
     def products() -> Iterator[Product]:
-        for item in items:
-            if isinstance(item, Reject):
-                on_reject(item)
-            else:
-                yield item
+        try:
+            for item in items:
+                if isinstance(item, Reject):
+                    on_reject(item)
+                else:
+                    yield item
+        except FATAL_FEED_ERRORS as error:
+            stopped.append(error)
 
     return chunked(products(), size)
 
@@ -423,7 +435,8 @@ def _first_pass(
 
         try:
             products = source.products()
-            for chunk in _chunks(products, chunk_size, write_reject):
+            stopped: list[BaseException] = []
+            for chunk in _chunks(products, chunk_size, write_reject, stopped):
                 rows = _rule_rows(chunk, rules)
                 texts = product_texts(chunk)
                 fields = (texts.title, texts.path, texts.brand, texts.description)
@@ -435,6 +448,8 @@ def _first_pass(
                     finish(rows, mapper.top_k(texts))
                 if on_progress is not None:
                     on_progress(accounting.read)
+            if stopped:
+                raise stopped[0]
         except FATAL_FEED_ERRORS as error:
             accounting.stopped_early = str(error)
             fatal = error
