@@ -23,6 +23,7 @@ from typing import IO, Any
 import numpy as np
 import scipy.sparse as sp
 
+from catmap._atomic import AtomicFile, write_text_atomic
 from catmap._iterate import chunked
 from catmap.classify.backoff import NodeIndex, backoff_rows
 from catmap.classify.consensus import MIN_PRODUCTS, PathConsensus, path_consensus
@@ -181,10 +182,11 @@ class _MappingWriter:
         self.path, self.format = path, format
         self._handle: IO[str] | None = None
         self._parquet: Any = None
+        self._target = AtomicFile(path)
         if format == "jsonl":
-            self._handle = open(path, "w", encoding="utf-8", newline="\n")
+            self._handle = self._target.open("w", encoding="utf-8", newline="\n")
         elif format == "csv":
-            self._handle = open(path, "w", encoding="utf-8", newline="")
+            self._handle = self._target.open("w", encoding="utf-8", newline="")
             self._csv = csv.writer(self._handle)
             self._csv.writerow(MAPPING_COLUMNS)
 
@@ -203,7 +205,7 @@ class _MappingWriter:
 
             table = pa.Table.from_pylist(rows, schema=_parquet_schema())
             if self._parquet is None:
-                self._parquet = pq.ParquetWriter(self.path, table.schema)
+                self._parquet = pq.ParquetWriter(str(self._target.temporary), table.schema)
             self._parquet.write_table(table)
 
     def close(self) -> None:
@@ -213,9 +215,10 @@ class _MappingWriter:
             import pyarrow.parquet as pq
 
             if self._parquet is None:
-                pq.write_table(_parquet_schema().empty_table(), self.path)
+                pq.write_table(_parquet_schema().empty_table(), str(self._target.temporary))
             else:
                 self._parquet.close()
+        self._target.commit()
 
 
 def _parquet_schema() -> Any:
@@ -388,9 +391,7 @@ def map_feed(
         "accounting": str(accounting_path),
     }
     facts = {**accounting.to_dict(), "outputs": summary.outputs, "format": format}
-    accounting_path.write_text(
-        json.dumps(facts, ensure_ascii=False, indent=2) + "\n", encoding="utf-8"
-    )
+    write_text_atomic(accounting_path, json.dumps(facts, ensure_ascii=False, indent=2) + "\n")
     if fatal is not None:
         raise fatal
     return summary

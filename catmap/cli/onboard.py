@@ -18,6 +18,7 @@ from rich.table import Table
 from catmap.cli._render import console, echo_json, err_console, json_option
 from catmap.cli._render import project_option as _project_option
 from catmap.decide.threshold import DEFAULT_DELTA, DEFAULT_MAX_ERROR
+from catmap.errors import InputError
 from catmap.feeds.writers import FORMATS
 from catmap.jobs.decisions import export_project_decisions, import_project_decisions
 from catmap.jobs.demo import run_demo
@@ -347,29 +348,49 @@ def decisions_export_command(
     type=click.Path(dir_okay=False, path_type=Path),
     help="Where to write bad rows (default: <file>.rejects.csv beside the file).",
 )
+@click.option(
+    "--encoding",
+    default="utf-8",
+    show_default=True,
+    help="The file's text encoding, e.g. cp1252 for a file a spreadsheet saved as plain CSV.",
+)
 @_project_option
 @json_option
 def decisions_import_command(
-    file: Path, reviewer: str, rejects: Path | None, project: str | None, as_json: bool
+    file: Path,
+    reviewer: str,
+    rejects: Path | None,
+    encoding: str,
+    project: str | None,
+    as_json: bool,
 ) -> None:
     """Apply the filled rows of a decisions CSV (each one audited); bad rows are reported with
-    their line and reason and written to a rejects CSV, good rows are applied."""
+    their line and reason and written to a rejects CSV, good rows are applied. Exits with 3
+    when any row was bad. Comma, semicolon or tab separated; a byte-order mark is fine."""
     result = import_project_decisions(
-        project_dir(project), file, reviewer=reviewer, rejects=rejects
+        project_dir(project), file, reviewer=reviewer, rejects=rejects, encoding=encoding
     )
     facts = result.to_dict()
     if as_json:
         echo_json(facts)
-        return
-    actions = ", ".join(f"{k} {v:,}" for k, v in sorted(result.by_action.items()))
-    _say(
-        f"Applied {result.applied:,} decisions ({escape(actions) or 'none'}); "
-        f"{len(result.bad):,} bad rows; {result.empty:,} rows left empty."
-    )
-    for bad in result.bad[:20]:
-        _say(f"  {escape(str(file))}:{bad.line}: {escape(bad.reason)}")
+    else:
+        actions = ", ".join(f"{k} {v:,}" for k, v in sorted(result.by_action.items()))
+        _say(
+            f"Applied {result.applied:,} decisions ({escape(actions) or 'none'}); "
+            f"{result.bad_count:,} bad rows; {result.empty:,} rows left empty."
+        )
+        for bad in result.bad:
+            _say(f"  {escape(str(file))}:{bad.line}: {escape(bad.reason)}")
+        if result.bad_count > len(result.bad):
+            _say(f"  ... and {result.bad_count - len(result.bad):,} more")
     if result.rejects_file:
-        _say(f"Bad rows written to {escape(str(result.rejects_file))}")
+        # The good rows are applied; the bad ones make the run fail so a script notices them.
+        raise InputError(
+            f"{result.bad_count:,} of {result.rows:,} filled rows were not applied; "
+            f"they are written with their reasons to {result.rejects_file}",
+            path=file,
+            hint="fix them in that file and import it again",
+        )
 
 
 # -- demo -------------------------------------------------------------------------------------

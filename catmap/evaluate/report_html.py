@@ -16,6 +16,8 @@ from html import escape
 from pathlib import Path
 from typing import Any
 
+from catmap._atomic import write_text_atomic
+
 __all__ = [
     "department_png",
     "reliability_png",
@@ -319,8 +321,8 @@ def write_report(report: dict[str, Any], out_dir: str | Path) -> tuple[Path, Pat
     folder.mkdir(parents=True, exist_ok=True)
     html_path = folder / "report.html"
     json_path = folder / "metrics.json"
-    html_path.write_text(render_report_html(report), encoding="utf-8")
-    json_path.write_text(
-        json.dumps(report, ensure_ascii=False, indent=2, sort_keys=False) + "\n", encoding="utf-8"
+    write_text_atomic(html_path, render_report_html(report))
+    write_text_atomic(
+        json_path, json.dumps(report, ensure_ascii=False, indent=2, sort_keys=False) + "\n"
     )
     return html_path, json_path

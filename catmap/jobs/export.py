@@ -15,6 +15,7 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
+from catmap._atomic import AtomicFile, atomic_path, write_text_atomic
 from catmap.attributes import RESTRICTION_CAUTION
 from catmap.feeds.writers import FORMATS, CsvWriter, JsonLinesWriter, RecordWriter
 from catmap.jobs.onboard import rejects_path
@@ -101,7 +102,8 @@ class _ParquetRows(RecordWriter):
         self._rows: list[dict[str, Any]] = []
         fields = [(c, pa.float64() if c == "confidence" else pa.string()) for c in EXPORT_COLUMNS]
         self._schema = pa.schema(fields)
-        self._writer: Any = pq.ParquetWriter(str(path), self._schema)
+        self._target = AtomicFile(path)
+        self._writer: Any = pq.ParquetWriter(str(self._target.temporary), self._schema)
 
     def write(self, record: Any) -> None:
         self._rows.append(record)
@@ -119,6 +121,7 @@ class _ParquetRows(RecordWriter):
             self._flush()
             self._writer.close()
             self._writer = None
+            self._target.commit()
 
 
 def _open_writer(path: Path, format: str) -> RecordWriter:
@@ -173,7 +176,8 @@ def _last_accounting(store: Store, feed: str) -> dict[str, Any]:
 
 def _write_rejects(source: Path, target: Path, format: str) -> Path:
     if format != "csv":
-        shutil.copyfile(source, target)
+        with atomic_path(target) as temporary:
+            shutil.copyfile(source, temporary)
         return target
     from catmap.feeds.writers import REJECT_COLUMNS
 
@@ -239,8 +243,8 @@ def export_feed(
         result.rejects = _write_rejects(source, out / f"{feed}.rejects.{suffix}", format)
     accounting = _last_accounting(store, feed)
     accounting["rejects_file"] = str(result.rejects) if result.rejects else None
-    result.accounting.write_text(
-        json.dumps(accounting, indent=2, ensure_ascii=False) + "\n", encoding="utf-8"
+    write_text_atomic(
+        result.accounting, json.dumps(accounting, indent=2, ensure_ascii=False) + "\n"
     )
     return result
 
