@@ -409,3 +409,22 @@ def test_a_feed_cut_short_keeps_the_records_before_the_damage(
     assert summary["stopped_early"]
     assert saved == summary["kept"] > 0
     assert summary["read"] == summary["kept"] + summary["rejected"]
+
+
+def test_onboarding_marks_a_crashed_run_stopped_and_says_so(
+    world: SmallWorld, project: Path
+) -> None:
+    feed = world.paths.feeds["quorvane"]
+    with Store.open(store_path(project)) as store:
+        store.add_feed("quorvane")
+        # What a killed onboarding left: a run "running" whose process is gone (recorded by a
+        # catmap that kept no process id, so nothing can still be running it).
+        with store._transaction() as conn:
+            conn.execute(
+                "INSERT INTO runs (feed_id, kind, params, started_at) "
+                "VALUES (1, 'onboard', '{}', '2026-01-01T00:00:00')"
+            )
+    summary = onboard_feed(feed, project=project, tree=world.tree, options=options())
+    assert [run["run"] for run in summary.stale_runs_stopped] == [1]
+    with Store.open(store_path(project)) as store:
+        assert [run.status for run in store.runs()] == ["stopped", "done"]

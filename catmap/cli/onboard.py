@@ -192,6 +192,12 @@ def _render_onboard(facts: dict[str, Any]) -> None:
         _say(f"  restriction flags: {escape(flags)}")
     if facts["rule_conflicts"]:
         _say(f"  rule conflicts: {facts['rule_conflicts']:,}")
+    for run in facts.get("stale_runs_stopped", []):
+        started = escape(run["started_at"])
+        _say(
+            f"  marked run {run['run']} ({escape(run['kind'])}, started {started}) as stopped: "
+            "its process ended without finishing"
+        )
     if facts["stopped_early"]:
         stopped = escape(facts["stopped_early"])
         _say(f"  [bold red]reading stopped early:[/bold red] {stopped}")
