@@ -1,5 +1,5 @@
 """Feed commands: ``catmap inspect`` (what is this feed, which column is which field) and
-``catmap normalize`` (feed → clean products, rejects and the row accounting)."""
+``catmap normalise`` (feed → clean products, rejects and the row accounting)."""
 
 from __future__ import annotations
 
@@ -119,7 +119,7 @@ def _render_inspect(facts: dict[str, Any]) -> None:
     else:
         console.print(
             f"Profile saved to {escape(facts['profile'])}: edit it to fix the mapping; "
-            "`catmap normalize` uses it."
+            "`catmap normalise` uses it."
         )
 
 
@@ -128,7 +128,7 @@ def _short(value: str, limit: int = 30) -> str:
     return value if len(value) <= limit else value[: limit - 1] + "…"
 
 
-@click.command("normalize")
+@click.command("normalise")
 @_feed_argument
 @click.option(
     "--out",
@@ -256,6 +256,6 @@ def _render_normalize(facts: dict[str, Any], paths: OutputPaths) -> None:
 
 
 def register(main: click.Group) -> None:
-    """Add ``inspect`` and ``normalize`` to the catmap command group."""
+    """Add ``inspect`` and ``normalise`` to the catmap command group."""
     main.add_command(inspect_command)
     main.add_command(normalize_command)
