@@ -86,3 +86,5 @@ def test_status_without_a_store_is_a_store_error(tmp_path: Path) -> None:
     assert result.exit_code == EXIT_STORE
     assert "no project store here" in result.stderr
     assert "catmap onboard FEED" in result.stderr
+    # Run from the wrong folder: the message says how to point at the project.
+    assert "--project DIR" in result.stderr and "CATMAP_PROJECT=DIR" in result.stderr

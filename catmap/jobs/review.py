@@ -10,6 +10,7 @@ from pathlib import Path
 from catmap.attributes import BrandDictionary
 from catmap.attributes.brand import dictionary_in_use
 from catmap.errors import StoreError
+from catmap.project import NO_STORE_HINT
 from catmap.review.session import ReviewSession
 from catmap.store import Store, store_path
 
@@ -32,7 +33,7 @@ def project_review_session(
     """
     path = store_path(project)
     if not path.is_file():
-        raise StoreError(f"no project store in {project}: run `catmap onboard FEED` first")
+        raise StoreError(f"no project store in {project}", hint=NO_STORE_HINT)
     with Store.open(path) as store:
         if feed is not None:
             store.feed(feed)  # an unknown feed fails here, with a hint

@@ -7,6 +7,7 @@ from pathlib import Path
 from typing import Any
 
 from catmap.errors import StoreError
+from catmap.project import NO_STORE_HINT
 from catmap.store import Store, store_path
 
 __all__ = ["AUDIT_CONFIDENCE", "feed_status_facts", "project_status"]
@@ -76,9 +77,7 @@ def project_status(
     """
     path = store_path(project)
     if not path.exists():
-        raise StoreError(
-            "no project store here", path=path, hint="run `catmap onboard FEED` first"
-        )
+        raise StoreError("no project store here", path=path, hint=NO_STORE_HINT)
     with Store.open(path) as store:
         feeds = feed_status_facts(store, feed, confidence)
     return {"store": str(path), "feeds": feeds}
