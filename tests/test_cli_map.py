@@ -184,3 +184,24 @@ def test_map_writes_the_products_read_before_a_fatal_feed_error(
     rows = read_jsonl(out / "mappings.jsonl")
     assert accounting["kept"] == 240
     assert len(rows) == accounting["kept"]
+
+
+def test_progress_lines_go_to_a_piped_stderr(
+    setup: tuple[Path, Path], tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    import catmap.cli._render as render
+
+    # Every update prints (the real interval is a few seconds); CliRunner's stderr is no tty.
+    monkeypatch.setattr(render, "PIPED_PROGRESS_SECONDS", 0.0)
+    feed, project = setup
+    runner = CliRunner()
+    trained = runner.invoke(main, ["train", str(feed), "--project", str(project)])
+    assert trained.exit_code == 0, trained.output
+    assert "catmap: training: " in trained.stderr
+    result = runner.invoke(
+        main,
+        ["map", str(feed), "--out", str(tmp_path / "out"), "--project", str(project),
+         "--workers", "1"],
+    )
+    assert result.exit_code == 0, result.output
+    assert "catmap: mapping shop.csv, 240 records (" in result.stderr

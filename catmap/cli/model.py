@@ -10,7 +10,14 @@ from rich.markup import escape
 from rich.progress import Progress, SpinnerColumn, TextColumn, TimeElapsedColumn
 from rich.table import Table
 
-from catmap.cli._render import console, echo_json, err_console, json_option, model_option
+from catmap.cli._render import (
+    PipedProgress,
+    console,
+    echo_json,
+    err_console,
+    json_option,
+    model_option,
+)
 from catmap.cli._render import project_option as _project_option
 from catmap.feeds.writers import FORMATS
 from catmap.jobs.map import map_project_feed
@@ -69,8 +76,13 @@ def train_command(
         console=err_console,
         transient=True,
         disable=not err_console.is_terminal,
-    ) as progress:
+    ) as progress, PipedProgress("training") as lines:
         task = progress.add_task("starting", total=None)
+
+        def show(text: str) -> None:
+            progress.update(task, description=text)
+            lines.update(text)
+
         facts = train_project(
             feeds,
             project=project_dir(project),
@@ -79,7 +91,7 @@ def train_command(
             classifier=classifier,
             model_dir=model_path,
             with_reviews=with_reviews,
-            on_stage=lambda text: progress.update(task, description=text),
+            on_stage=show,
         )
     if as_json:
         echo_json(facts)
@@ -177,8 +189,13 @@ def map_command(
         console=err_console,
         transient=True,
         disable=not err_console.is_terminal,
-    ) as progress:
+    ) as progress, PipedProgress(f"mapping {feed.name}") as lines:
         task = progress.add_task(feed.name, total=None)
+
+        def show(read: int) -> None:
+            progress.update(task, completed=read)
+            lines.update(count=read)
+
         result = map_project_feed(
             feed,
             out_dir,
@@ -189,7 +206,7 @@ def map_command(
             backoff_threshold=backoff_threshold,
             format=output_format,
             workers=workers,
-            on_progress=lambda read: progress.update(task, completed=read),
+            on_progress=show,
         )
     if as_json:
         echo_json(result.facts)

@@ -15,7 +15,7 @@ from rich.markup import escape
 from rich.progress import Progress, SpinnerColumn, TextColumn, TimeElapsedColumn
 from rich.table import Table
 
-from catmap.cli._render import console, echo_json, err_console, json_option
+from catmap.cli._render import PipedProgress, console, echo_json, err_console, json_option
 from catmap.cli._render import project_option as _project_option
 from catmap.decide.threshold import DEFAULT_DELTA, DEFAULT_MAX_ERROR
 from catmap.errors import InputError
@@ -48,11 +48,12 @@ def _progress() -> Progress:
 @contextmanager
 def _onboarding_progress(feed: Path) -> Iterator[Callable[[str, int], None]]:
     """A progress line on stderr while a feed is onboarded: its stage and records read."""
-    with _progress() as progress:
+    with _progress() as progress, PipedProgress(f"onboarding {feed.name}") as lines:
         task = progress.add_task(feed.name, total=None)
 
         def show(stage: str, count: int) -> None:
             progress.update(task, description=f"{feed.name}: {stage}", completed=count)
+            lines.update(stage, count)
 
         yield show
 
@@ -410,8 +411,16 @@ class _DemoScreen:
 
     @contextmanager
     def training(self) -> Iterator[Callable[[str], None]]:
-        with err_console.status("training on the demo reference catalog") as status:
-            yield lambda text: status.update(f"training: {text}")
+        with (
+            err_console.status("training on the demo reference catalog") as status,
+            PipedProgress("training on the demo reference catalog") as lines,
+        ):
+
+            def show(text: str) -> None:
+                status.update(f"training: {text}")
+                lines.update(text)
+
+            yield show
 
     def onboarding(self, feed: Path) -> AbstractContextManager[Callable[[str, int], None]]:
         return _onboarding_progress(feed)
