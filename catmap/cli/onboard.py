@@ -215,8 +215,11 @@ def _render_onboard(facts: dict[str, Any]) -> None:
 def status_command(project: str | None, feed: str | None, as_json: bool) -> None:
     """Show where each feed stands: rows, accepted, queue, reviews and the audited error.
 
-    The audited error is the share of reviewed audit samples that were wrong, with its exact
-    (Clopper-Pearson) 95% interval: the real error of the auto-accepted part.
+    "queued" and "reviewed" count products by the state of their mapping; "open" and "done"
+    count review items, which also check products whose node is accepted (a brand
+    conflict, the audit sample, the audience), so there can be more open items than queued
+    products. The audited error is the share of reviewed audit samples that were wrong, with its
+    exact (Clopper-Pearson) 95% interval: the real error of the auto-accepted part.
     """
     facts = project_status(project_dir(project), feed)
     if as_json:
@@ -246,6 +249,14 @@ def status_command(project: str | None, feed: str | None, as_json: bool) -> None
             number(f["open_items"]), number(f["done_items"]),
         )
     _say(table)
+    _say(
+        "queued / reviewed count products by mapping state; open / done count review items, "
+        "which also check accepted products (brand conflict, audit sample, audience)."
+    )
+    for f in feeds:
+        if f["open_by_reason"]:
+            reasons = ", ".join(f"{k} {v:,}" for k, v in f["open_by_reason"].items())
+            _say(f"{escape(f['feed'])}: open items by reason: {escape(reasons)}")
     for f in feeds:
         if f["audit_error"] is None:
             _say(f"{escape(f['feed'])}: no audit sample reviewed yet")

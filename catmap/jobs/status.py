@@ -34,6 +34,12 @@ def feed_status_facts(
     for name in names:
         status = store.feed_status(name, confidence=confidence)
         error = status.audit_error
+        by_reason = store.queue_summary(name).by_reason
+        open_by_reason = {
+            reason: states.get("open", 0) + states.get("claimed", 0)
+            for reason, states in sorted(by_reason.items())
+            if states.get("open", 0) + states.get("claimed", 0)
+        }
         out.append(
             {
                 "feed": name,
@@ -45,6 +51,7 @@ def feed_status_facts(
                 "queued": status.queued,
                 "reviewed": status.reviewed,
                 "open_items": status.open_items + status.claimed_items,
+                "open_by_reason": open_by_reason,
                 "done_items": status.done_items,
                 "audit_checked": status.audit_checked,
                 "audit_wrong": status.audit_wrong,
