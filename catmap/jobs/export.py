@@ -30,6 +30,8 @@ __all__ = [
     "export_project",
     "export_row",
     "export_status",
+    "NO_FIT",
+    "NO_RESTRICTION",
 ]
 
 EXPORT_COLUMNS = (
@@ -39,6 +41,9 @@ EXPORT_COLUMNS = (
     "price",
     "currency",
     "gtin",
+    "availability",
+    "url",
+    "image_url",
     "retailer_path",
     "node_id",
     "node_path",
@@ -53,16 +58,33 @@ EXPORT_COLUMNS = (
 )
 
 
-def export_status(stored_status: str) -> str:
-    """Return the status users see: an audit sample not yet reviewed is still accepted."""
+# The status of a product a reviewer said no node fits (it has no node and no confidence).
+NO_FIT = "no_fit"
+# How an export says "no restriction" (as the review screen does), rather than an empty cell.
+NO_RESTRICTION = "none"
+
+
+def export_status(stored_status: str, node_id: str = "-") -> str:
+    """Return the status users see.
+
+    An audit sample not yet reviewed is still ``accepted``; a reviewed product without a node is
+    ``no_fit`` (a reviewer said no node fits).
+    """
+    if stored_status == "reviewed" and not node_id:
+        return NO_FIT
     return {"audit": "accepted"}.get(stored_status, stored_status)
 
 
 def export_row(product: Product, stored: StoredMapping, tree: CategoryTree) -> dict[str, Any]:
-    """Return one export row (plain values, in :data:`EXPORT_COLUMNS` order)."""
+    """Return one export row (plain values, in :data:`EXPORT_COLUMNS` order).
+
+    A "no fit" product has an empty node, status ``no_fit`` and no confidence (there is no node
+    to be sure of).
+    """
     node_id = stored.mapping.node_id
     path = tree.path_text(node_id) if node_id and node_id in tree else ""
     attributes = stored.attributes
+    status = export_status(stored.status, node_id)
     return {
         "product_id": product.product_id,
         "title": product.title,
@@ -70,17 +92,20 @@ def export_row(product: Product, stored: StoredMapping, tree: CategoryTree) -> d
         "price": str(product.price) if product.price is not None else None,
         "currency": product.currency,
         "gtin": product.gtin,
+        "availability": product.availability,
+        "url": product.url,
+        "image_url": product.image_url,
         "retailer_path": " > ".join(product.category_path),
         "node_id": node_id,
         "node_path": path,
-        "confidence": round(stored.mapping.confidence, 4),
+        "confidence": None if status == NO_FIT else round(stored.mapping.confidence, 4),
         "method": stored.mapping.method,
-        "status": export_status(stored.status),
+        "status": status,
         "extracted_brand": attributes.brand,
         "who": attributes.who,
         "age": attributes.age,
         "colour_family": attributes.colour_family,
-        "restriction": attributes.restriction,
+        "restriction": attributes.restriction or NO_RESTRICTION,
     }
 
 
@@ -233,7 +258,7 @@ def export_feed(
             writer.write(row)
             result.rows += 1
             result.by_status[row["status"]] = result.by_status.get(row["status"], 0) + 1
-            if row["restriction"]:
+            if row["restriction"] != NO_RESTRICTION:
                 flag = row["restriction"]
                 result.restricted[flag] = result.restricted.get(flag, 0) + 1
     result.caution = RESTRICTION_CAUTION if result.restricted else ""
