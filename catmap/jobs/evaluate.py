@@ -7,7 +7,7 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
-__all__ = ["EvaluationResult", "evaluate_and_report"]
+__all__ = ["EvaluationResult", "evaluate_and_report", "last_accept_threshold"]
 
 
 @dataclass(frozen=True, slots=True)
@@ -17,6 +17,22 @@ class EvaluationResult:
     report: dict[str, Any]
     html_path: Path
     json_path: Path
+
+
+def last_accept_threshold(project: Path) -> float | None:
+    """The accept threshold of the project's latest finished onboarding run (None: none yet)."""
+    from catmap.store import Store, store_path
+
+    path = store_path(project)
+    if not path.is_file():
+        return None
+    with Store.open(path) as store:
+        runs = [r for r in store.runs() if r.kind == "onboard" and r.finished_at]
+    for run in reversed(runs):
+        threshold = run.params.get("threshold")
+        if threshold is not None:
+            return float(threshold)
+    return None
 
 
 def evaluate_and_report(
@@ -30,6 +46,7 @@ def evaluate_and_report(
     split: str | None = None,
     backoff_threshold: float = 0.5,
     tree_version: str = "1",
+    accept_threshold: float | None = None,
 ) -> EvaluationResult:
     """Evaluate the mapping of a labelled feed and write its report.
 
@@ -43,6 +60,8 @@ def evaluate_and_report(
         split: evaluate only rows whose ``split`` column is this.
         backoff_threshold: below this confidence, answer the deepest sure parent node.
         tree_version: the category tree version.
+        accept_threshold: the auto-accept threshold to give the error rate at (default: the
+            one of the project's latest onboarding run, if any).
     """
     from catmap.evaluate.report_html import write_report
     from catmap.evaluate.run import evaluate_feed
@@ -56,6 +75,9 @@ def evaluate_and_report(
         tree_version=tree_version,
         split=split,
         threshold=backoff_threshold,
+        accept_threshold=(
+            accept_threshold if accept_threshold is not None else last_accept_threshold(project)
+        ),
     )
     target = out_dir or project / "reports" / labelled_feed.name.split(".")[0]
     html_path, json_path = write_report(report, target)
