@@ -178,8 +178,9 @@ def map_command(
 ) -> None:
     """Map every product of a feed to a node of the tree, with a calibrated confidence.
 
-    Per-feed rules apply first (one per line, e.g. path contains "Bottines" => 1523; # comments),
-    then the trained model, or the tree's own keywords when no model is trained yet.
+    Per-feed rules apply first (one per line, e.g. path contains "Bottines" => 1511; # comments;
+    every operator in docs/rules.md), then the trained model, or the tree's own keywords when no
+    model is trained yet.
     """
     with Progress(
         SpinnerColumn(),
