@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import re
 from pathlib import Path
 
 import pytest
@@ -38,3 +39,29 @@ def test_restore_undoes_neutralise(value: str) -> None:
     if value.startswith("'") and value[1:2] in ("=", "+", "-", "@", "\t", "\r"):
         return  # the one documented exception
     assert restore_cell(neutralise_cell(value)) == value
+
+
+# Writes that may stay plain: the pass-1 spill of `map`, in its own temporary folder that no
+# later run reads.
+_PLAIN_WRITES_ALLOWED = {("catmap/classify/mapping.py", "base.with_suffix")}
+_PLAIN_WRITE = re.compile(
+    r"\.write_text\(|\.write_bytes\(|np\.save\(\s*base|"
+    r"(?<![\w.])open\([^)]*[\"'](?:w|wb|a|ab|x)[\"']|"
+    r"(?<!_target)\.open\([^)]*[\"'](?:w|wb|a|ab)[\"']"
+)
+
+
+def test_no_module_writes_a_file_without_the_atomic_helper() -> None:
+    """Every file catmap writes goes through catmap._atomic (temp file + rename)."""
+    root = Path(__file__).resolve().parents[1]
+    found = []
+    for path in sorted((root / "catmap").rglob("*.py")):
+        name = path.relative_to(root).as_posix()
+        if name == "catmap/_atomic.py":
+            continue
+        for number, line in enumerate(path.read_text(encoding="utf-8").splitlines(), 1):
+            if _PLAIN_WRITE.search(line) and not any(
+                name == allowed and marker in line for allowed, marker in _PLAIN_WRITES_ALLOWED
+            ):
+                found.append(f"{name}:{number}: {line.strip()}")
+    assert found == []
