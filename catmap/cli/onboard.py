@@ -5,7 +5,7 @@ spreadsheet) and ``catmap demo`` (the whole job on the invented demo world)."""
 from __future__ import annotations
 
 from collections.abc import Callable, Iterator
-from contextlib import AbstractContextManager, contextmanager
+from contextlib import AbstractContextManager, contextmanager, nullcontext
 from pathlib import Path
 from typing import Any
 
@@ -46,15 +46,23 @@ def _progress() -> Progress:
 
 
 @contextmanager
-def _onboarding_progress(feed: Path) -> Iterator[Callable[[str, int], None]]:
-    """A progress line on stderr while a feed is onboarded: its stage and records read."""
-    with _progress() as progress, PipedProgress(f"onboarding {feed.name}") as lines:
-        task = progress.add_task(feed.name, total=None)
+def _onboarding_progress(
+    feed: Path, lines: PipedProgress | None = None
+) -> Iterator[Callable[[str, int], None]]:
+    """A progress line on stderr while a feed is onboarded: its stage and records read.
+
+    On a piped stderr the lines go through ``lines`` when given (the demo's, which runs
+    through every stage), else through their own.
+    """
+    # The demo's lines are already running: entering them again would stop them at the end.
+    own = nullcontext(lines) if lines is not None else PipedProgress(f"onboarding {feed.name}")
+    with _progress() as progress, own as piped:
 
         def show(stage: str, count: int) -> None:
             progress.update(task, description=f"{feed.name}: {stage}", completed=count)
-            lines.update(stage, count)
+            piped.update(f"{feed.name}: {stage}" if lines is not None else stage, count)
 
+        task = progress.add_task(feed.name, total=None)
         yield show
 
 
@@ -415,26 +423,32 @@ def decisions_import_command(
 
 
 class _DemoScreen:
-    """Shows on stderr what the demo does: its world, a training spinner, onboarding progress."""
+    """Shows on stderr what the demo does: its world, a training spinner, onboarding progress.
+
+    On a piped stderr, one :class:`PipedProgress` runs through the whole demo, so the world
+    build and the calibration print lines too.
+    """
+
+    def __init__(self, lines: PipedProgress) -> None:
+        self.lines = lines
 
     def world(self, root: Path) -> None:
         err_console.print(f"demo world: {root}")
+        self.lines.update("building or reading the demo world")
 
     @contextmanager
     def training(self) -> Iterator[Callable[[str], None]]:
-        with (
-            err_console.status("training on the demo reference catalog") as status,
-            PipedProgress("training on the demo reference catalog") as lines,
-        ):
+        with err_console.status("training on the demo reference catalog") as status:
 
             def show(text: str) -> None:
                 status.update(f"training: {text}")
-                lines.update(text)
+                self.lines.update(f"training: {text}")
 
             yield show
+        self.lines.update("choosing the accept threshold")
 
     def onboarding(self, feed: Path) -> AbstractContextManager[Callable[[str, int], None]]:
-        return _onboarding_progress(feed)
+        return _onboarding_progress(feed, self.lines)
 
 
 @click.command("demo")
@@ -471,13 +485,14 @@ def demo_command(
     split and on the labelled feed of Oskelund, a retailer the model never trained on (the
     feeds to onboard come from new retailers); the strictest of the two is used.
     """
-    facts = run_demo(
-        project_dir(project),
-        world=world,
-        max_error=max_error,
-        validation_feed=validation_feed,
-        reporter=_DemoScreen(),
-    )
+    with PipedProgress("demo") as lines:
+        facts = run_demo(
+            project_dir(project),
+            world=world,
+            max_error=max_error,
+            validation_feed=validation_feed,
+            reporter=_DemoScreen(lines),
+        )
     if as_json:
         echo_json(facts)
         return
