@@ -243,7 +243,7 @@ def test_a_cp1252_file_is_a_clear_error_or_read_with_its_encoding(
         writer.writeheader()
         writer.writerows(rows)
     with Store.open(store_path(project)) as store:
-        with pytest.raises(InputError, match=r"queue.csv:2: .*not utf-8-sig text.*--encoding"):
+        with pytest.raises(InputError, match=r"queue.csv:2: .*not UTF-8 text.*--encoding"):
             import_decisions(store, sheet, tree=world.tree, reviewer="r")
         assert store.decisions() == []
         result = import_decisions(store, sheet, tree=world.tree, reviewer="r", encoding="cp1252")

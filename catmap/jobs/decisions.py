@@ -266,8 +266,9 @@ def _check_encoding(source: Path, encoding: str) -> None:
                 decoder.decode(block)
             except UnicodeDecodeError as error:
                 line += block[: error.start].count(b"\n")
+                shown = "UTF-8" if encoding == "utf-8-sig" else encoding
                 raise InputError(
-                    f"the decisions file is not {encoding} text (byte {block[error.start]:#04x})",
+                    f"the decisions file is not {shown} text (byte {block[error.start]:#04x})",
                     path=source,
                     line=line,
                     hint="save it as 'CSV UTF-8', or give its encoding, e.g. --encoding cp1252",
@@ -276,8 +277,9 @@ def _check_encoding(source: Path, encoding: str) -> None:
         try:
             decoder.decode(b"", final=True)
         except UnicodeDecodeError:
+            shown = "UTF-8" if encoding == "utf-8-sig" else encoding
             raise InputError(
-                f"the decisions file ends in the middle of a {encoding} character",
+                f"the decisions file ends in the middle of a {shown} character",
                 path=source,
                 line=line,
                 hint="save it again as 'CSV UTF-8'",
