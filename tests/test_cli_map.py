@@ -205,3 +205,27 @@ def test_progress_lines_go_to_a_piped_stderr(
     )
     assert result.exit_code == 0, result.output
     assert "catmap: mapping shop.csv, 240 records (" in result.stderr
+
+
+def test_map_writes_the_products_read_before_a_gzip_cut_short(
+    setup: tuple[Path, Path], tmp_path: Path
+) -> None:
+    import gzip
+
+    feed, project = setup
+    data = gzip.compress(feed.read_bytes())
+    # Cut inside the part the format sniffing reads first: a small truncated download.
+    cut = tmp_path / "cut.csv.gz"
+    cut.write_bytes(data[: len(data) * 3 // 4])
+    out = tmp_path / "out"
+    result = CliRunner().invoke(
+        main,
+        ["map", str(cut), "--out", str(out), "--project", str(project), "--json",
+         "--workers", "1"],
+    )
+    assert result.exit_code == 3, result.output
+    assert "gzip data is damaged or cut short" in result.stderr
+    accounting = json.loads((out / "accounting.json").read_text(encoding="utf-8"))
+    rows = read_jsonl(out / "mappings.jsonl")
+    assert 0 < accounting["kept"] < 240
+    assert len(rows) == accounting["kept"]
