@@ -25,6 +25,12 @@ from catmap.errors import InputError
 DEFAULT_PROJECT_DIR = "catmap-work"
 PROJECT_ENV = "CATMAP_PROJECT"
 
+# What to do when a command finds no project store: it may simply run in another folder.
+NO_STORE_HINT = (
+    "run `catmap onboard FEED` first, or name the project folder with --project DIR "
+    f"or {PROJECT_ENV}=DIR"
+)
+
 # Suffixes that say how a feed is packed rather than what it is; stripped before the stem is taken.
 _COMPRESSION_SUFFIXES = (".gz", ".gzip", ".zip")
 

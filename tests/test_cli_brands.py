@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import csv
 import json
 from pathlib import Path
 
@@ -99,3 +100,16 @@ def test_every_command_has_help(command: list[str]) -> None:
     result = CliRunner().invoke(main, [*command, "--help"])
     assert result.exit_code == 0
     assert "Usage:" in result.output
+
+
+def test_accept_writes_no_formula_cell_and_reads_the_name_back(dictionary: Path) -> None:
+    name = '=HYPERLINK("http://example.invalid","Click")'
+    result = CliRunner().invoke(
+        main, ["brands", "accept", name, "--dictionary", str(dictionary)]
+    )
+    assert result.exit_code == 0, result.output
+    # OWASP "CSV Injection": no cell of the file may start with = + - @ TAB or CR.
+    with dictionary.open(encoding="utf-8", newline="") as handle:
+        cells = [cell for row in csv.reader(handle) for cell in row]
+    assert not [cell for cell in cells if cell[:1] in ("=", "+", "-", "@", "\t", "\r")]
+    assert BrandDictionary.from_csv(dictionary).lookup_exact(name) == name

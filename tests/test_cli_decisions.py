@@ -52,14 +52,19 @@ def test_export_edit_import_round_trip(world: SmallWorld, tmp_path: Path) -> Non
     result = _run(
         "decisions", "import", str(sheet), "--reviewer", "ana", "--project", str(project)
     )
-    assert result.exit_code == 0, result.output
+    # The good rows are applied, and the bad one makes the run fail (exit 3) so scripts notice.
+    assert result.exit_code == 3, result.output
     text = " ".join(result.stdout.split())
     assert (
         "Applied 2 decisions (accept 1, fix_attributes 1); 1 bad rows; "
         f"{len(rows) - 3:,} rows left empty." in text
     )
     assert f"{sheet}:3: node 'not-a-node' is not in the category tree (version 1)" in text
-    assert f"Bad rows written to {tmp_path / 'queue.rejects.csv'}" in text
+    error = " ".join(result.stderr.split())
+    assert (
+        f"1 of 3 filled rows were not applied; they are written with their reasons to "
+        f"{tmp_path / 'queue.rejects.csv'}" in error
+    )
 
     with Store.open(store_path(project)) as store:
         decided = store.decisions()
@@ -89,7 +94,7 @@ def test_import_json_reports_bad_rows(world: SmallWorld, tmp_path: Path) -> None
         writer.writerows(rows[:1])
     result = _run("decisions", "import", str(sheet), "--project", str(project), "--json",
                   "--rejects", str(tmp_path / "bad.csv"))
-    assert result.exit_code == 0, result.output
+    assert result.exit_code == 3, result.output
     facts = json.loads(result.stdout)
     assert (facts["applied"], facts["bad"]) == (0, 1)
     assert facts["bad_rows"][0]["line"] == 2

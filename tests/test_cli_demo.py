@@ -62,11 +62,21 @@ def test_demo_onboards_measures_and_exports(world: SmallWorld, tmp_path: Path) -
 
 
 def test_demo_trains_when_there_is_no_model_and_prints_the_summary(
-    world: SmallWorld, tmp_path: Path
+    world: SmallWorld, tmp_path: Path, monkeypatch: pytest.MonkeyPatch
 ) -> None:
+    import catmap.cli._render as render
+
+    # stderr is no terminal here: progress comes as lines (each update, for the test).
+    monkeypatch.setattr(render, "PIPED_PROGRESS_SECONDS", 0.0)
     project = tmp_path / "fresh"
     result = _demo(world, project)
     assert result.exit_code == 0, result.output
+    lines = [line for line in result.stderr.splitlines() if line.startswith("catmap: demo: ")]
+    stages = " ".join(lines)
+    assert "building or reading the demo world" in stages
+    assert "training: " in stages
+    assert "choosing the accept threshold" in stages
+    assert "tallimbra.tsv: saving, " in stages
     text = " ".join(result.stdout.split())
     assert text.startswith("Trained on ")
     assert "Demo feeds" in text

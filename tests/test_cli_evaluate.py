@@ -64,12 +64,22 @@ def test_evaluate_with_gold_file_prints_summary(tmp_path: Path) -> None:
             str(tmp_path / "proj"),
             "--out",
             str(tmp_path / "r"),
+            "--accept-threshold",
+            "0.0",
         ],
     )
     assert result.exit_code == 0, result.output
     text = " ".join(result.output.split())  # rich wraps long lines
     assert "4 products evaluated" in text
     assert "hierarchical F1" in text
+    assert "ECE: the mean gap between the stated confidence and the share right" in text
+    assert "AURC: the mean error rate over all accept thresholds" in text
+    assert "At the auto-accept threshold 0.000: " in text
+
+
+def test_evaluate_readme_line_names_the_gold_option() -> None:
+    readme = (Path(__file__).resolve().parents[1] / "README.md").read_text(encoding="utf-8")
+    assert "`catmap evaluate FEED [--gold GOLD.csv]`" in readme
 
 
 def test_evaluate_without_gold_column_exits_with_input_code(tmp_path: Path) -> None:

@@ -4,13 +4,15 @@ from __future__ import annotations
 
 import importlib
 import re
+import subprocess
+import sys
 from pathlib import Path
 
 import click
 import pytest
 from click.testing import CliRunner
 
-from catmap.cli import COMMANDS, main
+from catmap.cli import COMMANDS, SHORT_HELP, main
 
 ROOT = Path(__file__).resolve().parents[1]
 
@@ -67,3 +69,39 @@ def test_a_catmap_error_is_one_line_and_a_named_exit_code(tmp_path: Path) -> Non
     assert result.output.count("\n") == 1
     assert result.output.startswith("catmap: error: ")
     assert "Traceback" not in result.output
+
+
+@pytest.mark.parametrize("name", sorted(COMMANDS))
+def test_the_static_short_help_is_the_commands_own(name: str) -> None:
+    command = _registered()[name]
+    assert SHORT_HELP[name] == command.get_short_help_str(limit=10_000)
+    for width in (40, 80, 200):
+        limit = width - 6 - max(len(n) for n in COMMANDS)
+        listed = click.Command(name, help=SHORT_HELP[name]).get_short_help_str(limit)
+        assert listed == command.get_short_help_str(limit)
+
+
+def test_help_imports_no_command_module() -> None:
+    probe = (
+        "import sys\n"
+        "from catmap.cli import main\n"
+        "try:\n"
+        "    main(['--help'])\n"
+        "except SystemExit:\n"
+        "    pass\n"
+        "loaded = sorted(m for m in sys.modules if m.startswith(('catmap.cli.', 'catmap.jobs',"
+        " 'sklearn', 'numpy')))\n"
+        "print('loaded:', loaded, file=sys.stderr)\n"
+    )
+    done = subprocess.run(
+        [sys.executable, "-c", probe], capture_output=True, text=True, cwd=ROOT, check=True
+    )
+    assert "loaded: []" in done.stderr
+    assert "normalise" in done.stdout
+
+
+def test_the_old_spelling_still_runs_but_is_not_listed() -> None:
+    listed = CliRunner().invoke(main, ["--help"]).output
+    assert "  normalise " in listed and "normalize" not in listed
+    old = CliRunner().invoke(main, ["normalize", "--help"])
+    assert old.exit_code == 0 and "normalise [OPTIONS] FEED" in old.output

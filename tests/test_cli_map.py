@@ -163,3 +163,71 @@ def test_map_summary_uses_two_workers_and_writes_parquet(
     table = pq.read_table(out / "mappings.parquet")
     assert table.num_rows == 240
     assert table.column_names[:3] == ["product_id", "title", "node_id"]
+
+
+@pytest.mark.parametrize("workers", ["1", "2"])
+def test_map_writes_the_products_read_before_a_fatal_feed_error(
+    setup: tuple[Path, Path], tmp_path: Path, workers: str
+) -> None:
+    feed, project = setup
+    broken = tmp_path / "broken.csv"
+    # An unterminated quote on the last line stops the reading after 240 good records.
+    broken.write_text(
+        feed.read_text(encoding="utf-8") + 'p-broken,"Unclosed title\n', encoding="utf-8"
+    )
+    out = tmp_path / "out"
+    result = CliRunner().invoke(
+        main,
+        ["map", str(broken), "--out", str(out), "--project", str(project), "--json",
+         "--workers", workers],
+    )
+    assert result.exit_code == 3, result.output
+    accounting = json.loads((out / "accounting.json").read_text(encoding="utf-8"))
+    rows = read_jsonl(out / "mappings.jsonl")
+    assert accounting["kept"] == 240
+    assert len(rows) == accounting["kept"]
+
+
+def test_progress_lines_go_to_a_piped_stderr(
+    setup: tuple[Path, Path], tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    import catmap.cli._render as render
+
+    # Every update prints (the real interval is a few seconds); CliRunner's stderr is no tty.
+    monkeypatch.setattr(render, "PIPED_PROGRESS_SECONDS", 0.0)
+    feed, project = setup
+    runner = CliRunner()
+    trained = runner.invoke(main, ["train", str(feed), "--project", str(project)])
+    assert trained.exit_code == 0, trained.output
+    assert "catmap: training: " in trained.stderr
+    result = runner.invoke(
+        main,
+        ["map", str(feed), "--out", str(tmp_path / "out"), "--project", str(project),
+         "--workers", "1"],
+    )
+    assert result.exit_code == 0, result.output
+    assert "catmap: mapping shop.csv, 240 records (" in result.stderr
+
+
+def test_map_writes_the_products_read_before_a_gzip_cut_short(
+    setup: tuple[Path, Path], tmp_path: Path
+) -> None:
+    import gzip
+
+    feed, project = setup
+    data = gzip.compress(feed.read_bytes())
+    # Cut inside the part the format sniffing reads first: a small truncated download.
+    cut = tmp_path / "cut.csv.gz"
+    cut.write_bytes(data[: len(data) * 3 // 4])
+    out = tmp_path / "out"
+    result = CliRunner().invoke(
+        main,
+        ["map", str(cut), "--out", str(out), "--project", str(project), "--json",
+         "--workers", "1"],
+    )
+    assert result.exit_code == 3, result.output
+    assert "gzip data is damaged or cut short" in result.stderr
+    accounting = json.loads((out / "accounting.json").read_text(encoding="utf-8"))
+    rows = read_jsonl(out / "mappings.jsonl")
+    assert 0 < accounting["kept"] < 240
+    assert len(rows) == accounting["kept"]

@@ -1,4 +1,4 @@
-"""Tests for `catmap normalize`: outputs, summary, --json, profile errors, fatal feed errors."""
+"""Tests for `catmap normalise`: outputs, summary, --json, profile errors, fatal feed errors."""
 
 from __future__ import annotations
 
@@ -35,7 +35,7 @@ def _run(*args: str) -> object:
 
 def test_normalize_writes_products_rejects_and_accounting(feed: Path, tmp_path: Path) -> None:
     out = tmp_path / "out"
-    result = _run("normalize", str(feed), "--out", str(out), "--project", str(tmp_path / "p"))
+    result = _run("normalise", str(feed), "--out", str(out), "--project", str(tmp_path / "p"))
     assert result.exit_code == 0, result.output  # type: ignore[attr-defined]
     text = result.stdout  # type: ignore[attr-defined]
     assert "read 5 = kept 3 + rejected 2" in text
@@ -57,7 +57,7 @@ def test_normalize_writes_products_rejects_and_accounting(feed: Path, tmp_path: 
 
 def test_normalize_json(feed: Path, tmp_path: Path) -> None:
     result = _run(
-        "normalize",
+        "normalise",
         str(feed),
         "--out",
         str(tmp_path / "o"),
@@ -83,7 +83,7 @@ def test_normalize_formats(
 ) -> None:
     out = tmp_path / "o"
     result = _run(
-        "normalize", str(feed), "--out", str(out), "--format", fmt, "--project", str(tmp_path)
+        "normalise", str(feed), "--out", str(out), "--format", fmt, "--project", str(tmp_path)
     )
     assert result.exit_code == 0  # type: ignore[attr-defined]
     frame = (
@@ -97,7 +97,7 @@ def test_profile_without_title_is_a_clear_error(feed: Path, tmp_path: Path) -> N
     profile_file = tmp_path / "broken.toml"
     save_profile(FeedProfile(columns={"product_id": "id"}), profile_file)
     result = _run(
-        "normalize", str(feed), "--out", str(tmp_path / "o"), "--profile", str(profile_file)
+        "normalise", str(feed), "--out", str(tmp_path / "o"), "--profile", str(profile_file)
     )
     assert result.exit_code == 3  # type: ignore[attr-defined]
     error = result.stderr  # type: ignore[attr-defined]
@@ -108,7 +108,7 @@ def test_profile_without_title_is_a_clear_error(feed: Path, tmp_path: Path) -> N
 
 
 def test_unknown_currency_is_a_usage_error(feed: Path, tmp_path: Path) -> None:
-    result = _run("normalize", str(feed), "--out", str(tmp_path / "o"), "--currency", "zorkmid")
+    result = _run("normalise", str(feed), "--out", str(tmp_path / "o"), "--currency", "zorkmid")
     assert result.exit_code == 2  # type: ignore[attr-defined]
     assert "--currency" in result.stderr  # type: ignore[attr-defined]
 
@@ -124,7 +124,7 @@ def test_fatal_feed_error_keeps_good_records_and_exits_3(tmp_path: Path) -> None
         encoding="utf-8",
     )
     out = tmp_path / "o"
-    result = _run("normalize", str(feed), "--out", str(out), "--project", str(tmp_path), "--json")
+    result = _run("normalise", str(feed), "--out", str(out), "--project", str(tmp_path), "--json")
     assert result.exit_code == 3  # type: ignore[attr-defined]
     assert result.stderr.startswith("catmap: error:")  # type: ignore[attr-defined]
     facts = json.loads(result.stdout)  # type: ignore[attr-defined]
@@ -140,13 +140,13 @@ def test_fatal_feed_error_keeps_good_records_and_exits_3(tmp_path: Path) -> None
 def test_unreadable_feed_exits_3(tmp_path: Path) -> None:
     empty = tmp_path / "empty.csv"
     empty.write_text("", encoding="utf-8")
-    result = _run("normalize", str(empty), "--out", str(tmp_path / "o"), "--project", str(tmp_path))
+    result = _run("normalise", str(empty), "--out", str(tmp_path / "o"), "--project", str(tmp_path))
     assert result.exit_code == 3  # type: ignore[attr-defined]
     assert result.stderr.startswith("catmap: error:")  # type: ignore[attr-defined]
     assert len(result.stderr.strip().splitlines()) == 1  # type: ignore[attr-defined]
 
 
 def test_help_text() -> None:
-    result = _run("normalize", "--help")
+    result = _run("normalise", "--help")
     assert result.exit_code == 0  # type: ignore[attr-defined]
     assert "read = kept + rejected" in " ".join(result.stdout.split())  # type: ignore[attr-defined]

@@ -50,10 +50,17 @@ def _facts(result: Result) -> dict[str, Any]:
     return facts
 
 
-def test_onboard_prints_the_summary(world: SmallWorld, tmp_path: Path) -> None:
+def test_onboard_prints_the_summary(
+    world: SmallWorld, tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    import catmap.cli._render as render
+
+    # stderr is no terminal here: progress comes as lines (each update, for the test).
+    monkeypatch.setattr(render, "PIPED_PROGRESS_SECONDS", 0.0)
     project = new_project(world, tmp_path / "p")
     result = onboard(world, project, "ferravelle")
     assert result.exit_code == 0, result.output
+    assert "catmap: onboarding ferravelle.csv: saving, " in result.stderr
     # rich wraps long lines at the terminal width: compare with whitespace collapsed.
     text = " ".join(result.stdout.split())
     assert text.startswith("ferravelle (")

@@ -42,7 +42,8 @@ def test_no_store_is_a_one_line_error(tmp_path: Path, screens: list[ReviewSessio
     result = _run("review", "--project", str(folder))
     assert result.exit_code == 5  # EXIT_STORE
     assert result.stderr == (
-        f"catmap: error: no project store in {folder}: run `catmap onboard FEED` first\n"
+        f"catmap: error: no project store in {folder} (run `catmap onboard FEED` first, or name "
+        "the project folder with --project DIR or CATMAP_PROJECT=DIR)\n"
     )
     assert screens == []
 

@@ -52,6 +52,15 @@ def test_status_before_and_after_reviewing_audit_samples(
         assert feed["audit_error"] is None
         assert feed["done_items"] == 0
         assert feed["tree_version"] == str(world.tree.version)
+        # Open items are more than queued products: they also check accepted ones.
+        assert sum(feed["open_by_reason"].values()) == feed["open_items"]
+        assert feed["open_by_reason"].get("audit_sample", 0) > 0
+    text = " ".join(_status(project).stdout.split())
+    assert (
+        "queued / reviewed count products by mapping state; open / done count review items, "
+        "which also check accepted products (brand conflict, audit sample, audience)." in text
+    )
+    assert "ferravelle: open items by reason: " in text
 
     # Review every audit sample of ferravelle: one is judged wrong, the rest right.
     with Store.open(store_path(project)) as store:
@@ -87,3 +96,5 @@ def test_status_without_a_store_is_a_store_error(tmp_path: Path) -> None:
     assert result.exit_code == EXIT_STORE
     assert "no project store here" in result.stderr
     assert "catmap onboard FEED" in result.stderr
+    # Run from the wrong folder: the message says how to point at the project.
+    assert "--project DIR" in result.stderr and "CATMAP_PROJECT=DIR" in result.stderr

@@ -188,3 +188,84 @@ def test_import_moves_the_restriction_flag_and_who_age_with_the_node(tmp_path: P
             "not_applicable",
         )
         assert store.mapping(SAMPLE_FEED, "HD-002").attributes.age == "kids"
+
+
+@pytest.mark.parametrize(
+    ("item_id", "reason"),
+    [
+        ("²", "is not a number"),  # a digit to str.isdigit(), not to int()
+        ("12345678901234567890", "too long to be a review item"),
+    ],
+)
+def test_an_item_id_that_is_no_id_is_a_bad_row(
+    world: SmallWorld, project: Path, tmp_path: Path, item_id: str, reason: str
+) -> None:
+    sheet = tmp_path / "queue.csv"
+    with Store.open(store_path(project)) as store:
+        export_decisions(store, sheet, tree=world.tree)
+    rows = _read(sheet)[:1]
+    rows[0].update({"item_id": item_id, "action": "accept"})
+    _write(sheet, rows)
+    with Store.open(store_path(project)) as store:
+        result = import_decisions(store, sheet, tree=world.tree, reviewer="r")
+    assert result.bad_count == 1 and reason in result.bad[0].reason
+
+
+def test_a_semicolon_file_with_a_byte_order_mark_is_read(
+    world: SmallWorld, project: Path, tmp_path: Path
+) -> None:
+    sheet = tmp_path / "queue.csv"
+    with Store.open(store_path(project)) as store:
+        export_decisions(store, sheet, tree=world.tree)
+    rows = _read(sheet)[:2]
+    for row in rows:
+        row["action"] = "accept"
+    # What a spreadsheet saves as "CSV" where the decimal mark is a comma: ';' and a BOM.
+    with sheet.open("w", encoding="utf-8-sig", newline="") as handle:
+        writer = csv.DictWriter(handle, fieldnames=list(DECISION_COLUMNS), delimiter=";")
+        writer.writeheader()
+        writer.writerows(rows)
+    with Store.open(store_path(project)) as store:
+        result = import_decisions(store, sheet, tree=world.tree, reviewer="r")
+    assert (result.applied, result.bad_count) == (2, 0)
+
+
+def test_a_cp1252_file_is_a_clear_error_or_read_with_its_encoding(
+    world: SmallWorld, project: Path, tmp_path: Path
+) -> None:
+    sheet = tmp_path / "queue.csv"
+    with Store.open(store_path(project)) as store:
+        export_decisions(store, sheet, tree=world.tree)
+    rows = _read(sheet)[:2]
+    rows[0].update({"action": "accept", "note": "déjà vu"})
+    with sheet.open("w", encoding="cp1252", newline="", errors="replace") as handle:
+        writer = csv.DictWriter(handle, fieldnames=list(DECISION_COLUMNS))
+        writer.writeheader()
+        writer.writerows(rows)
+    with Store.open(store_path(project)) as store:
+        with pytest.raises(InputError, match=r"queue.csv:2: .*not UTF-8 text.*--encoding"):
+            import_decisions(store, sheet, tree=world.tree, reviewer="r")
+        assert store.decisions() == []
+        result = import_decisions(store, sheet, tree=world.tree, reviewer="r", encoding="cp1252")
+        assert result.applied == 1
+        assert store.decisions()[0].note == "déjà vu"
+
+
+def test_bad_rows_are_streamed_to_the_rejects_file_and_counted(
+    world: SmallWorld, project: Path, tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    import catmap.jobs.decisions as decisions
+
+    monkeypatch.setattr(decisions, "SHOWN_BAD_ROWS", 3)
+    sheet = tmp_path / "queue.csv"
+    with sheet.open("w", encoding="utf-8", newline="") as handle:
+        writer = csv.DictWriter(handle, fieldnames=list(DECISION_COLUMNS))
+        writer.writeheader()
+        for number in range(50):
+            writer.writerow({**dict.fromkeys(DECISION_COLUMNS, ""),
+                             "item_id": f"x{number}", "action": "accept"})
+    with Store.open(store_path(project)) as store:
+        result = import_decisions(store, sheet, tree=world.tree, reviewer="r")
+    assert result.bad_count == 50 and len(result.bad) == 3
+    assert result.rejects_file is not None
+    assert len(_read(result.rejects_file)) == 50

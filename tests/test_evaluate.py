@@ -290,7 +290,32 @@ def test_evaluation_report_figures(small_tree: CategoryTree) -> None:
         "1500": pytest.approx(1.0),
     }
     assert report["attributes"] is None
+    assert report["at_accept_threshold"] is None
     json.dumps(report)  # the report must be JSON-ready as it is
+
+
+def test_error_rate_at_the_accept_threshold_and_nodes_by_errors(
+    small_tree: CategoryTree,
+) -> None:
+    # The four products above, worked by hand at threshold 0.75: 1011 @0.9 (right) and 1011
+    # @0.8 (wrong, gold 1012) are accepted; the back-off never is; 1510 @0.7 is below.
+    gold = [Gold("1011"), Gold("1012"), Gold("1012"), Gold("1510")]
+    mappings = [
+        _mapping("1011", 0.9),
+        _mapping("1011", 0.8),
+        _mapping("1010", 0.6, "backoff"),
+        _mapping("1510", 0.7),
+    ]
+    report = evaluation_report(
+        tree=small_tree, gold=gold, mappings=mappings, accept_threshold=0.75
+    )
+    assert report["at_accept_threshold"] == {
+        "threshold": 0.75, "accepted": 2, "coverage": 0.5, "wrong": 1, "error_rate": 0.5,
+    }
+    # 1012: both its products missed (2 errors); 1011: one wrongly here; 1010: one wrongly
+    # here; 1510: none. Most errors first, then most gold products.
+    nodes = [(n["node_id"], n["errors"], n["missed"], n["wrongly_here"]) for n in report["nodes"]]
+    assert nodes == [("1012", 2, 2, 0), ("1011", 1, 0, 1), ("1010", 1, 0, 1), ("1510", 0, 0, 0)]
 
 
 def test_evaluation_report_attributes(small_tree: CategoryTree) -> None:

@@ -120,3 +120,30 @@ def test_formula_cells_are_neutralised_in_csv(world: SmallWorld, tmp_path: Path)
 def test_unknown_feed_is_a_store_error(world: SmallWorld, onboarded: Path, tmp_path: Path) -> None:
     with Store.open(store_path(onboarded)) as store, pytest.raises(StoreError, match="no feed"):
         export_feed(store, "nothing-here", tmp_path / "out", tree=world.tree, project=onboarded)
+
+
+def test_no_fit_restriction_none_and_the_offer_columns(
+    world: SmallWorld, onboarded: Path, tmp_path: Path
+) -> None:
+    with Store.open(store_path(onboarded)) as store:
+        item = next(iter(store.items(feed="ferravelle")))
+        store.decide(item.id, "r", "no_fit")
+        result = export_feed(
+            store, "ferravelle", tmp_path / "out", tree=world.tree, project=onboarded
+        )
+        products = {p.product_id: p for p, _stored in store.mappings("ferravelle")}
+    with result.products.open(encoding="utf-8", newline="") as handle:
+        rows = {row["product_id"]: row for row in csv.DictReader(handle)}
+    no_fit = rows[item.product_id]
+    assert (no_fit["node_id"], no_fit["status"], no_fit["confidence"]) == ("", "no_fit", "")
+    assert result.by_status["no_fit"] == 1
+    # The same word as the review screen for "no restriction", never an empty cell.
+    assert all(row["restriction"] for row in rows.values())
+    assert "none" in {row["restriction"] for row in rows.values()}
+    assert "none" not in result.restricted
+    for product_id, row in rows.items():
+        product = products[product_id]
+        assert (row["availability"], row["url"], row["image_url"]) == (
+            product.availability or "", product.url or "", product.image_url or ""
+        )
+    assert any(row["url"] for row in rows.values())

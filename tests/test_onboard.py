@@ -273,6 +273,56 @@ def test_validation_predictions_are_cached_beside_the_model(
     assert np.all((cached.scores >= 0) & (cached.scores <= 1))
 
 
+@pytest.mark.parametrize("damage", ["empty", "truncated"])
+def test_a_damaged_calibration_cache_is_recomputed_with_one_warning(
+    world: SmallWorld, project: Path, damage: str, caplog: pytest.LogCaptureFixture
+) -> None:
+    model, manifest = load_model(default_model_dir(project), world.tree)
+    mapper = FeedMapper(model, manifest, world.tree)
+    feeds = [world.paths.reference]
+    folder = default_model_dir(project)
+    first = validation_predictions(mapper, folder, project=project, labelled_feeds=feeds)
+    # What a run killed while the cache was written used to leave behind.
+    cache = folder / "calibration-reference.npz"
+    data = cache.read_bytes()
+    cache.write_bytes(b"" if damage == "empty" else data[: len(data) // 2])
+    with caplog.at_level("WARNING"):
+        again = validation_predictions(mapper, folder, project=project, labelled_feeds=feeds)
+    assert np.array_equal(again.scores, first.scores)
+    warned = [r for r in caplog.records if "cannot be read" in r.getMessage()]
+    assert len(warned) == 1
+    caplog.clear()
+    with caplog.at_level("WARNING"):
+        validation_predictions(mapper, folder, project=project, labelled_feeds=feeds)
+    assert not [r for r in caplog.records if "cannot be read" in r.getMessage()]
+
+
+def test_the_calibration_cache_is_written_atomically(
+    world: SmallWorld, project: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    import catmap.jobs._calibration as calibration
+
+    model, manifest = load_model(default_model_dir(project), world.tree)
+    mapper = FeedMapper(model, manifest, world.tree)
+    folder = default_model_dir(project)
+    for cache in folder.glob("*.npz"):
+        cache.unlink()
+
+    def killed(*args: object, **kwargs: object) -> None:
+        handle = args[0]
+        handle.write(b"PK\x03\x04 half a zip")  # type: ignore[attr-defined]
+        raise KeyboardInterrupt
+
+    monkeypatch.setattr(calibration.np, "savez", killed)
+    with pytest.raises(KeyboardInterrupt):
+        validation_predictions(
+            mapper, folder, project=project, labelled_feeds=[world.paths.reference]
+        )
+    # Neither the cache nor a temporary file is left behind.
+    assert sorted(p.name for p in folder.glob("*.npz")) == []
+    assert [p.name for p in folder.iterdir() if ".tmp" in p.name] == []
+
+
 def _csv_rows(path: Path) -> list[dict[str, str]]:
     opener = gzip.open if path.suffix == ".gz" else open
     with opener(path, "rt", encoding="utf-8", newline="") as handle:
@@ -359,3 +409,22 @@ def test_a_feed_cut_short_keeps_the_records_before_the_damage(
     assert summary["stopped_early"]
     assert saved == summary["kept"] > 0
     assert summary["read"] == summary["kept"] + summary["rejected"]
+
+
+def test_onboarding_marks_a_crashed_run_stopped_and_says_so(
+    world: SmallWorld, project: Path
+) -> None:
+    feed = world.paths.feeds["quorvane"]
+    with Store.open(store_path(project)) as store:
+        store.add_feed("quorvane")
+        # What a killed onboarding left: a run "running" whose process is gone (recorded by a
+        # catmap that kept no process id, so nothing can still be running it).
+        with store._transaction() as conn:
+            conn.execute(
+                "INSERT INTO runs (feed_id, kind, params, started_at) "
+                "VALUES (1, 'onboard', '{}', '2026-01-01T00:00:00')"
+            )
+    summary = onboard_feed(feed, project=project, tree=world.tree, options=options())
+    assert [run["run"] for run in summary.stale_runs_stopped] == [1]
+    with Store.open(store_path(project)) as store:
+        assert [run.status for run in store.runs()] == ["stopped", "done"]

@@ -532,15 +532,17 @@ def test_remapped_catalog_is_a_labelled_feed_catmap_can_train_on(
     _save(
         store,
         [
-            ("p1", "Indoor court shoes", "124", 0.91, "accepted"),
+            ("p1", "=HYPERLINK(0) Indoor court shoes", "124", 0.91, "accepted"),
             ("p2", "Snow boots", "113", 0.5, "queued"),
         ],
     )
     new = _tree("merged_kept.txt")
     remap_store(store, _tree("old.txt"), new)
-    catalog = tmp_path / "remapped.csv"
+    catalog = tmp_path / "remapped.jsonl"
     assert write_remapped_catalog(store, new, catalog) == 1
+    # Machine-only JSON Lines: no spreadsheet formula cell, and the title reads back as it was.
+    assert catalog.read_text(encoding="utf-8").startswith('{"product_id": "p1"')
     data = read_labelled([catalog], tree=new, project=tmp_path)
     rows = data.train + data.valid + data.test
     assert [(product.product_id, label) for product, label in rows] == [("p1", "123")]
-    assert rows[0][0].title == "Indoor court shoes"
+    assert rows[0][0].title == "=HYPERLINK(0) Indoor court shoes"

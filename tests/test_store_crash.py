@@ -144,3 +144,28 @@ def test_killed_reviewer_loses_no_committed_decision(tmp_path: Path) -> None:
         summary = store.queue_summary()
         assert (summary.open, summary.claimed, summary.done) == (0, 0, 300)
         assert len(store.decisions()) == 300
+
+
+def test_a_run_whose_process_died_is_marked_stopped_by_the_next(tmp_path: Path) -> None:
+    path = tmp_path / "store.sqlite"
+    script = (
+        "import sys, os, signal\n"
+        "from catmap.store import Store\n"
+        "store = Store.open(sys.argv[1])\n"
+        "store.add_feed('shop')\n"
+        "store.start_run('onboard', feed='shop')\n"
+        "os.kill(os.getpid(), signal.SIGKILL)\n"
+    )
+    env = {**os.environ, "PYTHONPATH": str(Path(__file__).resolve().parents[1])}
+    child = subprocess.run([sys.executable, "-c", script, str(path)], env=env, check=False)
+    assert child.returncode == -signal.SIGKILL
+    with Store.open(path) as store:
+        assert [run.status for run in store.runs()] == ["running"]
+        mine = store.start_run("onboard", feed="shop")  # this process is alive: not stale
+        stopped = store.stop_stale_runs()
+        assert [run.id for run in stopped] == [1]
+        runs = {run.id: run for run in store.runs()}
+        assert runs[1].status == "stopped" and runs[1].finished_at
+        assert "ended without finishing" in runs[1].summary["stopped_early"]
+        assert runs[mine].status == "running"
+        assert store.stop_stale_runs() == []

@@ -23,6 +23,8 @@ from pathlib import Path
 from rapidfuzz import process
 from rapidfuzz.distance import OSA
 
+from catmap._atomic import atomic_open, write_bytes_atomic
+from catmap._cells import neutralise_cell, restore_cell
 from catmap.attributes._text import PhraseIndex, fold
 from catmap.errors import InputError
 
@@ -245,7 +247,11 @@ class BrandDictionary:
                         hint="the header must be: brand,variants,departments",
                     )
                 rows = [
-                    (r.get("brand") or "", r.get("variants") or "", r.get("departments") or "")
+                    (
+                        restore_cell(r.get("brand") or ""),
+                        restore_cell(r.get("variants") or ""),
+                        restore_cell(r.get("departments") or ""),
+                    )
                     for r in reader
                 ]
         except OSError as error:
@@ -705,9 +711,9 @@ def append_brand(
     if not path.exists():
         path.parent.mkdir(parents=True, exist_ok=True)
         if seed_from is not None and Path(seed_from).exists():
-            path.write_bytes(Path(seed_from).read_bytes())
+            write_bytes_atomic(path, Path(seed_from).read_bytes())
         else:
-            with open(path, "w", encoding="utf-8", newline="") as handle:
+            with atomic_open(path, "w", encoding="utf-8", newline="") as handle:
                 csv.writer(handle).writerow(_HEADER)
     existing = BrandDictionary.from_csv(path)
     known = existing.lookup_exact(name)
@@ -720,11 +726,18 @@ def append_brand(
     all_variants = list(dict.fromkeys([*(" ".join(v.split()) for v in variants if v.strip()),
                                        *brand_variants(name)]))
     entry = BrandEntry(name, tuple(v for v in all_variants if v != name), tuple(departments))
-    text = path.read_text(encoding="utf-8-sig")
-    with open(path, "a", encoding="utf-8", newline="") as handle:
+    text = path.read_text(encoding="utf-8")
+    # The dictionary is a user-editable file that a spreadsheet may open: every cell is
+    # neutralised against formulas (and restored when read, see BrandDictionary.from_csv).
+    # The whole file is rewritten beside and renamed, so a crash never leaves half a row.
+    with atomic_open(path, "w", encoding="utf-8", newline="") as handle:
+        handle.write(text)
         if text and not text.endswith("\n"):
             handle.write("\n")
         csv.writer(handle).writerow(
-            (entry.name, ";".join(entry.variants), ";".join(entry.departments))
+            [
+                neutralise_cell(cell)
+                for cell in (entry.name, ";".join(entry.variants), ";".join(entry.departments))
+            ]
         )
     return entry

@@ -23,6 +23,7 @@ from typing import IO, Any
 import numpy as np
 import scipy.sparse as sp
 
+from catmap._atomic import AtomicFile, write_text_atomic
 from catmap._iterate import chunked
 from catmap.classify.backoff import NodeIndex, backoff_rows
 from catmap.classify.consensus import MIN_PRODUCTS, PathConsensus, path_consensus
@@ -181,10 +182,11 @@ class _MappingWriter:
         self.path, self.format = path, format
         self._handle: IO[str] | None = None
         self._parquet: Any = None
+        self._target = AtomicFile(path)
         if format == "jsonl":
-            self._handle = open(path, "w", encoding="utf-8", newline="\n")
+            self._handle = self._target.open("w", encoding="utf-8", newline="\n")
         elif format == "csv":
-            self._handle = open(path, "w", encoding="utf-8", newline="")
+            self._handle = self._target.open("w", encoding="utf-8", newline="")
             self._csv = csv.writer(self._handle)
             self._csv.writerow(MAPPING_COLUMNS)
 
@@ -203,7 +205,7 @@ class _MappingWriter:
 
             table = pa.Table.from_pylist(rows, schema=_parquet_schema())
             if self._parquet is None:
-                self._parquet = pq.ParquetWriter(self.path, table.schema)
+                self._parquet = pq.ParquetWriter(str(self._target.temporary), table.schema)
             self._parquet.write_table(table)
 
     def close(self) -> None:
@@ -213,9 +215,10 @@ class _MappingWriter:
             import pyarrow.parquet as pq
 
             if self._parquet is None:
-                pq.write_table(_parquet_schema().empty_table(), self.path)
+                pq.write_table(_parquet_schema().empty_table(), str(self._target.temporary))
             else:
                 self._parquet.close()
+        self._target.commit()
 
 
 def _parquet_schema() -> Any:
@@ -231,14 +234,26 @@ def _parquet_schema() -> Any:
 
 
 def _chunks(
-    items: Iterable[Product | Reject], size: int, on_reject: Callable[[Reject], None]
+    items: Iterable[Product | Reject],
+    size: int,
+    on_reject: Callable[[Reject], None],
+    stopped: list[BaseException],
 ) -> Iterator[list[Product]]:
+    """Chunks of products; a fatal feed error ends the stream and lands in ``stopped``.
+
+    The error is caught below the chunker so that the last, partial chunk (the products read
+    before the error) is still yielded and mapped.
+    """
+
     def products() -> Iterator[Product]:
-        for item in items:
-            if isinstance(item, Reject):
-                on_reject(item)
-            else:
-                yield item
+        try:
+            for item in items:
+                if isinstance(item, Reject):
+                    on_reject(item)
+                else:
+                    yield item
+        except FATAL_FEED_ERRORS as error:
+            stopped.append(error)
 
     return chunked(products(), size)
 
@@ -376,9 +391,7 @@ def map_feed(
         "accounting": str(accounting_path),
     }
     facts = {**accounting.to_dict(), "outputs": summary.outputs, "format": format}
-    accounting_path.write_text(
-        json.dumps(facts, ensure_ascii=False, indent=2) + "\n", encoding="utf-8"
-    )
+    write_text_atomic(accounting_path, json.dumps(facts, ensure_ascii=False, indent=2) + "\n")
     if fatal is not None:
         raise fatal
     return summary
@@ -423,7 +436,8 @@ def _first_pass(
 
         try:
             products = source.products()
-            for chunk in _chunks(products, chunk_size, write_reject):
+            stopped: list[BaseException] = []
+            for chunk in _chunks(products, chunk_size, write_reject, stopped):
                 rows = _rule_rows(chunk, rules)
                 texts = product_texts(chunk)
                 fields = (texts.title, texts.path, texts.brand, texts.description)
@@ -435,6 +449,8 @@ def _first_pass(
                     finish(rows, mapper.top_k(texts))
                 if on_progress is not None:
                     on_progress(accounting.read)
+            if stopped:
+                raise stopped[0]
         except FATAL_FEED_ERRORS as error:
             accounting.stopped_early = str(error)
             fatal = error

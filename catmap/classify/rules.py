@@ -4,15 +4,16 @@ A rules file is plain UTF-8 text, one rule per line; ``#`` starts a comment (out
 and slashes); blank lines are ignored::
 
     # retailer paths we trust
-    path contains "Bottines" => 1523
-    title matches /\\bespresso\\b/i and brand is "Kavako" => 4012
-    title contains "gift card" and not path contains "Toys" => 9001
+    path contains "Bottines" => 1511
+    title matches /\\bespresso\\b/i and brand is "Kavako" => 4058
+    title contains "gift card" and not path contains "Toys" => 8723
 
 A condition is ``FIELD OPERATOR VALUE``, optionally preceded by ``not``; conditions are joined by
 ``and``. Fields: ``title``, ``path`` (the retailer category path, levels joined by " > "),
 ``brand``, ``description``, ``id``. Operators: ``contains "text"`` and ``is "text"``
 (case-insensitive), ``starts with "text"``, ``matches /regex/flags`` (flags: ``i``). Text values
-are double-quoted (``\\"`` for a quote). After ``=>`` comes the node id.
+are double-quoted (``\\"`` for a quote). After ``=>`` comes the node id. The full reference,
+with an example of each operator: ``docs/rules.md``.
 
 The first matching rule in file order wins; a product also matched by a later rule pointing to
 another node is a conflict, reported with both rules' lines.
@@ -32,7 +33,7 @@ from catmap.tree.taxonomy import CategoryTree
 __all__ = ["FIELDS", "Rule", "RuleMatch", "RuleSet", "load_rules", "parse_rules"]
 
 FIELDS = ("title", "path", "brand", "description", "id")
-_HINT = 'rules look like: path contains "Bottines" => 1523 (see `catmap map --help`)'
+_HINT = 'rules look like: path contains "Bottines" => 1511 (the syntax: docs/rules.md)'
 
 _TOKEN = re.compile(
     r"""\s*(?:

@@ -16,7 +16,6 @@ from __future__ import annotations
 
 import hashlib
 import json
-import os
 from pathlib import Path
 from typing import Any
 
@@ -25,6 +24,7 @@ import scipy.sparse as sp
 import sklearn
 from sklearn.feature_extraction.text import TfidfVectorizer
 
+from catmap._atomic import atomic_open, write_text_atomic
 from catmap.classify.features import ProductFeaturizer
 from catmap.classify.keywords import KeywordMapper, make_keyword_vectorizer
 from catmap.classify.model import CategoryModel
@@ -68,16 +68,24 @@ def _catmap_version() -> str:
         return "unknown"
 
 
+def _save_array(path: Path, array: np.ndarray[Any, Any]) -> None:
+    """Save one array atomically (a killed run never leaves a truncated file)."""
+    with atomic_open(path, "wb") as handle:
+        np.save(handle, array, allow_pickle=False)
+
+
+def _save_sparse(path: Path, matrix: Any) -> None:
+    """Save one sparse matrix atomically."""
+    with atomic_open(path, "wb") as handle:
+        sp.save_npz(handle, matrix)
+
+
 def _save_vocabulary(folder: Path, name: str, vectorizer: TfidfVectorizer) -> None:
     terms = sorted(vectorizer.vocabulary_, key=vectorizer.vocabulary_.__getitem__)
     # Terms never contain NUL (text is cleaned), so NUL-joined UTF-8 is compact and exact.
     joined = "\0".join(terms).encode("utf-8")
-    np.save(folder / f"vocab-{name}.npy", np.frombuffer(joined, dtype=np.uint8), allow_pickle=False)
-    np.save(
-        folder / f"idf-{name}.npy",
-        np.asarray(vectorizer.idf_, dtype=np.float64),
-        allow_pickle=False,
-    )
+    _save_array(folder / f"vocab-{name}.npy", np.frombuffer(joined, dtype=np.uint8))
+    _save_array(folder / f"idf-{name}.npy", np.asarray(vectorizer.idf_, dtype=np.float64))
 
 
 def _load_vocabulary(folder: Path, name: str, vectorizer: TfidfVectorizer) -> TfidfVectorizer:
@@ -107,19 +115,22 @@ def save_model(
     model._check()
     out = Path(folder)
     out.mkdir(parents=True, exist_ok=True)
+    # Arrays are replaced one by one: drop the old manifest first, so that a run killed half-way
+    # leaves a folder that says "not trained" instead of old settings over new arrays.
+    (out / MANIFEST).unlink(missing_ok=True)
     for block, vectorizer in model.featurizer_.vectorizers_.items():
         _save_vocabulary(out, block, vectorizer)
     _save_vocabulary(out, "keywords", model.keywords_.vectorizer_)
-    sp.save_npz(out / "keyword-documents.npz", model.keywords_.documents_)
-    np.save(out / "keyword-classes.npy", model.keywords_.classes_, allow_pickle=False)
-    np.save(out / "classes.npy", model.classes_, allow_pickle=False)
-    np.save(out / "groups.npy", model.groups_, allow_pickle=False)
-    np.save(out / "linear-classes.npy", model.linear_classes_, allow_pickle=False)
-    np.save(out / "class-group.npy", model.class_group_, allow_pickle=False)
-    sp.save_npz(out / "group-coef.npz", model.group_coef_.tocsr())
-    np.save(out / "group-intercept.npy", model.group_intercept_, allow_pickle=False)
-    sp.save_npz(out / "class-coef.npz", model.class_coef_.tocsr())
-    np.save(out / "class-intercept.npy", model.class_intercept_, allow_pickle=False)
+    _save_sparse(out / "keyword-documents.npz", model.keywords_.documents_)
+    _save_array(out / "keyword-classes.npy", model.keywords_.classes_)
+    _save_array(out / "classes.npy", model.classes_)
+    _save_array(out / "groups.npy", model.groups_)
+    _save_array(out / "linear-classes.npy", model.linear_classes_)
+    _save_array(out / "class-group.npy", model.class_group_)
+    _save_sparse(out / "group-coef.npz", model.group_coef_.tocsr())
+    _save_array(out / "group-intercept.npy", model.group_intercept_)
+    _save_sparse(out / "class-coef.npz", model.class_coef_.tocsr())
+    _save_array(out / "class-intercept.npy", model.class_intercept_)
     manifest: dict[str, Any] = {
         "format": "catmap-model",
         "format_version": FORMAT_VERSION,
@@ -161,11 +172,8 @@ def save_model(
         **(extra or {}),
     }
     manifest_path = out / MANIFEST
-    temporary = manifest_path.with_suffix(".tmp")
-    temporary.write_text(
-        json.dumps(manifest, indent=2, ensure_ascii=False) + "\n", encoding="utf-8"
-    )
-    os.replace(temporary, manifest_path)  # the manifest last: a half-written folder never loads
+    # The manifest last: a half-written folder never loads.
+    write_text_atomic(manifest_path, json.dumps(manifest, indent=2, ensure_ascii=False) + "\n")
     return manifest_path
 
 

@@ -22,7 +22,7 @@ from catmap.errors import EXIT_FAILURE, EXIT_INTERRUPTED, CatmapError
 COMMANDS: dict[str, str] = {
     "init": "project",
     "inspect": "feeds",
-    "normalize": "feeds",
+    "normalise": "feeds",
     "tree": "tree",
     "train": "model",
     "map": "model",
@@ -40,6 +40,40 @@ COMMANDS: dict[str, str] = {
     "remap-finalise": "remap",
 }
 
+# The first sentence of each command's help, so that `catmap --help` lists the commands without
+# importing their modules (which import the model: seconds and hundreds of MB). A test checks
+# each entry against the command's own help text.
+SHORT_HELP: dict[str, str] = {
+    "init": "Start a project of your own in FOLDER: its tree, brand list and labelled feeds.",
+    "inspect": "Show what a feed is and which column feeds which field; save that as the "
+    "feed's profile.",
+    "normalise": "Clean every record of a feed into products; write them, the rejects and the "
+    "accounting.",
+    "tree": "Check, show and search the shared category tree.",
+    "train": "Train the mapping model on labelled feeds (default: the project's, see `catmap "
+    "init`).",
+    "map": "Map every product of a feed to a node of the tree, with a calibrated confidence.",
+    "evaluate": "Measure mapping and attribute quality on a feed with gold labels.",
+    "brands": "Find brands the dictionary does not know yet, and add them.",
+    "onboard": "Read, normalise, map and store a feed; auto-accept what is safe, queue the rest.",
+    "status": "Show where each feed stands: rows, accepted, queue, reviews and the audited "
+    "error.",
+    "review": "Review uncertain mappings one product at a time, with single keys.",
+    "decisions": "Review in a spreadsheet: export the queue to CSV, import the filled rows.",
+    "export": "Write each feed's enriched products (node, confidence, status, attributes), its "
+    "rejects and the accounting of its last run.",
+    "demo": "Run the whole job on the invented demo world: build it, train, onboard, measure, "
+    "export.",
+    "remap": "Move every stored mapping onto a new version of the category tree.",
+    "remap-report": "Show what the last remap did, node by node, and whether it can still be "
+    "rolled back.",
+    "remap-rollback": "Undo the last remap: every mapping and review item goes back as it was.",
+    "remap-finalise": "Keep the last remap for good (the previous mappings are dropped).",
+}
+
+# Old spellings that still run (not listed): catmap spells its words the British way.
+ALIASES: dict[str, str] = {"normalize": "normalise"}
+
 
 class _Boundary(click.Group):
     """The top-level group: loads command modules on demand, and is the one error boundary.
@@ -51,10 +85,30 @@ class _Boundary(click.Group):
         return list(COMMANDS)
 
     def get_command(self, ctx: click.Context, cmd_name: str) -> click.Command | None:
+        cmd_name = ALIASES.get(cmd_name, cmd_name)
         if cmd_name not in self.commands and cmd_name in COMMANDS:
             module = importlib.import_module(f"catmap.cli.{COMMANDS[cmd_name]}")
             module.register(self)
         return self.commands.get(cmd_name)
+
+    def resolve_command(
+        self, ctx: click.Context, args: list[str]
+    ) -> tuple[str | None, click.Command | None, list[str]]:
+        # An alias runs under its command's own name (its usage line and errors say that one).
+        if args and args[0] in ALIASES:
+            args = [ALIASES[args[0]], *args[1:]]
+        return super().resolve_command(ctx, args)
+
+    def format_commands(self, ctx: click.Context, formatter: click.HelpFormatter) -> None:
+        """List the commands from :data:`SHORT_HELP`, shortened as click would, no import."""
+        width = max(len(name) for name in COMMANDS)
+        limit = formatter.width - 6 - width
+        rows = [
+            (name, click.Command(name, help=SHORT_HELP[name]).get_short_help_str(limit))
+            for name in COMMANDS
+        ]
+        with formatter.section("Commands"):
+            formatter.write_dl(rows)
 
     def invoke(self, ctx: click.Context) -> Any:
         debug = bool(ctx.params.get("debug")) or os.environ.get("CATMAP_DEBUG") == "1"

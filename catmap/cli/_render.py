@@ -3,6 +3,8 @@
 from __future__ import annotations
 
 import json
+import threading
+import time
 from collections.abc import Mapping
 from datetime import date, datetime
 from decimal import Decimal
@@ -84,3 +86,70 @@ tree_version_option = click.option(
     default=None,
     help="Version of the shared category tree (default: the project's tree).",
 )
+
+# Seconds between two progress lines when stderr is not a terminal (a log, a pipe, CI).
+PIPED_PROGRESS_SECONDS = 5.0
+
+
+class PipedProgress:
+    """Progress as plain lines on stderr, every few seconds, when stderr is not a terminal.
+
+    A terminal gets rich's live progress line instead; a pipe or a log file would only get
+    silence from it. Here each :meth:`update` prints a line when :data:`PIPED_PROGRESS_SECONDS`
+    have passed since the last one (stage, records so far, rate), and a background thread
+    prints a "still ..." line through long stretches without an update (model fitting).
+
+    Args:
+        label: what runs, e.g. "mapping shop.csv".
+        enabled: print at all (default: when stderr is not a terminal).
+    """
+
+    def __init__(self, label: str, *, enabled: bool | None = None) -> None:
+        self.label = label
+        self.enabled = (not err_console.is_terminal) if enabled is None else enabled
+        self.stage = ""
+        self.count: int | None = None
+        self._started = self._last = time.monotonic()
+        self._lock = threading.Lock()
+        self._stop = threading.Event()
+        self._thread: threading.Thread | None = None
+
+    def __enter__(self) -> PipedProgress:
+        if self.enabled:
+            self._thread = threading.Thread(target=self._heartbeat, daemon=True)
+            self._thread.start()
+        return self
+
+    def __exit__(self, *exc: object) -> None:
+        self._stop.set()
+        if self._thread is not None:
+            self._thread.join()
+
+    def update(self, stage: str | None = None, count: int | None = None) -> None:
+        """Record the stage and / or the records so far; print a line when one is due."""
+        with self._lock:
+            if stage is not None:
+                self.stage = stage
+            if count is not None:
+                self.count = count
+            if self.enabled and time.monotonic() - self._last >= PIPED_PROGRESS_SECONDS:
+                self._print("")
+
+    def _heartbeat(self) -> None:
+        while not self._stop.wait(max(PIPED_PROGRESS_SECONDS, 0.05)):
+            with self._lock:
+                if time.monotonic() - self._last >= PIPED_PROGRESS_SECONDS:
+                    self._print("still ")
+
+    def _print(self, prefix: str) -> None:
+        now = time.monotonic()
+        elapsed = now - self._started
+        parts = [f"catmap: {prefix}{self.label}"]
+        if self.stage:
+            parts.append(self.stage)
+        text = ": ".join(parts)
+        if self.count is not None:
+            rate = self.count / elapsed if elapsed > 0 else 0.0
+            text += f", {self.count:,} records ({rate:,.0f}/s)"
+        click.echo(f"{text}, {elapsed:.0f} s", err=True)
+        self._last = now

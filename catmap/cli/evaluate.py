@@ -23,6 +23,7 @@ from catmap.jobs.evaluate import evaluate_and_report
 from catmap.project import project_dir
 
 CONFUSIONS_SHOWN = 10
+NODES_SHOWN = 10
 
 
 @click.command("evaluate")
@@ -59,6 +60,13 @@ CONFUSIONS_SHOWN = 10
 @tree_version_option
 @tree_file_option()
 @feed_name_option
+@click.option(
+    "--accept-threshold",
+    type=click.FloatRange(0.0, 1.0),
+    default=None,
+    help="Give the error rate among products accepted at this confidence (default: the "
+    "threshold of the project's latest onboarding run).",
+)
 @project_option
 @json_option
 def evaluate_command(
@@ -72,13 +80,17 @@ def evaluate_command(
     tree_version: str | None,
     tree_file: Path | None,
     feed_name: str | None,
+    accept_threshold: float | None,
     project: str | None,
     as_json: bool,
 ) -> None:
     """Measure mapping and attribute quality on a feed with gold labels.
 
-    Prints accuracy, F1, hierarchical F1, calibration error (ECE), AURC, the top confusions and
-    brand / who / age scores; writes report.html (with plots) and metrics.json.
+    The gold labels are the feed's own gold_node column, or a separate CSV given with --gold
+    (e.g. catmap evaluate feeds_demo/ferravelle.csv --gold feeds_demo/gold/ferravelle.csv).
+    Prints accuracy, F1, hierarchical F1, calibration error (ECE), AURC, the error rate at the
+    auto-accept threshold, the top confusions, the nodes with most errors and brand / who / age
+    scores; writes report.html (with plots) and metrics.json.
     """
     result = evaluate_and_report(
         labelled_feed,
@@ -92,6 +104,7 @@ def evaluate_command(
         tree_version=tree_version,
         tree_file=tree_file,
         feed_name=feed_name,
+        accept_threshold=accept_threshold,
     )
     if as_json:
         echo_json(result.report)
@@ -127,6 +140,24 @@ def _render(report: dict[str, Any], html_path: Path, json_path: Path) -> None:
     ):
         table.add_row(label, value)
     console.print(table)
+    console.print(
+        "ECE: the mean gap between the stated confidence and the share right, over confidence "
+        "bins (0 = confidence means what it says).\n"
+        "AURC: the mean error rate over all accept thresholds, products taken most confident "
+        "first (lower = confidence ranks right answers first)."
+    )
+    accepted = report.get("at_accept_threshold")
+    if accepted is None:
+        console.print(
+            "Error rate at the auto-accept threshold: no onboarding run yet "
+            "(give --accept-threshold)"
+        )
+    else:
+        console.print(
+            f"At the auto-accept threshold {accepted['threshold']:.3f}: "
+            f"{accepted['accepted']:,} products accepted ({accepted['coverage']:.1%}), "
+            f"{accepted['wrong']:,} wrong: error rate {accepted['error_rate']:.2%}"
+        )
 
     if report["confusions"]:
         confusions = Table(title="Most frequent confusions")
@@ -140,6 +171,18 @@ def _render(report: dict[str, Any], html_path: Path, json_path: Path) -> None:
                 escape(f"{c['predicted']} {c['predicted_path']}"),
             )
         console.print(confusions)
+
+    worst = [n for n in report["nodes"] if n["errors"]][:NODES_SHOWN]
+    if worst:
+        nodes = Table(title="Nodes with most errors")
+        for header in ("node", "path", "errors", "missed", "wrongly here", "gold products"):
+            nodes.add_column(header, justify="left" if header in ("node", "path") else "right")
+        for n in worst:
+            nodes.add_row(
+                escape(n["node_id"]), escape(n["path"]), f"{n['errors']:,}", f"{n['missed']:,}",
+                f"{n['wrongly_here']:,}", f"{n['support']:,}",
+            )
+        console.print(nodes)
 
     attributes = report.get("attributes") or {}
     brand = attributes.get("brand")

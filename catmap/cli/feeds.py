@@ -1,5 +1,5 @@
 """Feed commands: ``catmap inspect`` (what is this feed, which column is which field) and
-``catmap normalize`` (feed → clean products, rejects and the row accounting)."""
+``catmap normalise`` (feed → clean products, rejects and the row accounting)."""
 
 from __future__ import annotations
 
@@ -129,7 +129,7 @@ def _render_inspect(facts: dict[str, Any]) -> None:
     else:
         console.print(
             f"Profile saved to {escape(facts['profile'])}: edit it to fix the mapping; "
-            "`catmap normalize` uses it."
+            "`catmap normalise` uses it."
         )
 
 
@@ -138,7 +138,7 @@ def _short(value: str, limit: int = 30) -> str:
     return value if len(value) <= limit else value[: limit - 1] + "…"
 
 
-@click.command("normalize")
+@click.command("normalise")
 @_feed_argument
 @click.option(
     "--out",
@@ -269,6 +269,6 @@ def _render_normalize(facts: dict[str, Any], paths: OutputPaths) -> None:
 
 
 def register(main: click.Group) -> None:
-    """Add ``inspect`` and ``normalize`` to the catmap command group."""
+    """Add ``inspect`` and ``normalise`` to the catmap command group."""
     main.add_command(inspect_command)
     main.add_command(normalize_command)

@@ -12,6 +12,7 @@ from rich.table import Table
 
 from catmap.classify.training import MAX_UNKNOWN_LABEL_SHARE, default_max_per_class
 from catmap.cli._render import (
+    PipedProgress,
     console,
     echo_json,
     err_console,
@@ -96,8 +97,13 @@ def train_command(
         console=err_console,
         transient=True,
         disable=not err_console.is_terminal,
-    ) as progress:
+    ) as progress, PipedProgress("training") as lines:
         task = progress.add_task("starting", total=None)
+
+        def show(text: str) -> None:
+            progress.update(task, description=text)
+            lines.update(text)
+
         facts = train_project(
             feeds,
             project=project_dir(project),
@@ -107,7 +113,7 @@ def train_command(
             classifier=classifier,
             model_dir=model_path,
             with_reviews=with_reviews,
-            on_stage=lambda text: progress.update(task, description=text),
+            on_stage=show,
             max_per_class=max_per_class,
             max_unknown_share=max_unknown_share,
         )
@@ -216,8 +222,9 @@ def map_command(
 ) -> None:
     """Map every product of a feed to a node of the tree, with a calibrated confidence.
 
-    Per-feed rules apply first (one per line, e.g. path contains "Bottines" => 1523; # comments),
-    then the trained model, or the tree's own keywords when no model is trained yet.
+    Per-feed rules apply first (one per line, e.g. path contains "Bottines" => 1511; # comments;
+    every operator in docs/rules.md), then the trained model, or the tree's own keywords when no
+    model is trained yet.
     """
     with Progress(
         SpinnerColumn(),
@@ -227,8 +234,13 @@ def map_command(
         console=err_console,
         transient=True,
         disable=not err_console.is_terminal,
-    ) as progress:
+    ) as progress, PipedProgress(f"mapping {feed.name}") as lines:
         task = progress.add_task(feed.name, total=None)
+
+        def show(read: int) -> None:
+            progress.update(task, completed=read)
+            lines.update(count=read)
+
         result = map_project_feed(
             feed,
             out_dir,
@@ -241,7 +253,7 @@ def map_command(
             backoff_threshold=backoff_threshold,
             format=output_format,
             workers=workers,
-            on_progress=lambda read: progress.update(task, completed=read),
+            on_progress=show,
         )
     if as_json:
         echo_json(result.facts)

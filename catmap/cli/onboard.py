@@ -5,7 +5,7 @@ spreadsheet) and ``catmap demo`` (the whole job on the invented demo world)."""
 from __future__ import annotations
 
 from collections.abc import Callable, Iterator
-from contextlib import AbstractContextManager, contextmanager
+from contextlib import AbstractContextManager, contextmanager, nullcontext
 from pathlib import Path
 from typing import Any
 
@@ -16,6 +16,7 @@ from rich.progress import Progress, SpinnerColumn, TextColumn, TimeElapsedColumn
 from rich.table import Table
 
 from catmap.cli._render import (
+    PipedProgress,
     console,
     echo_json,
     err_console,
@@ -25,6 +26,7 @@ from catmap.cli._render import (
 )
 from catmap.cli._render import project_option as _project_option
 from catmap.decide.threshold import DEFAULT_DELTA, DEFAULT_MAX_ERROR
+from catmap.errors import InputError
 from catmap.feeds.writers import FORMATS
 from catmap.jobs.decisions import export_project_decisions, import_project_decisions
 from catmap.jobs.demo import run_demo
@@ -52,14 +54,23 @@ def _progress() -> Progress:
 
 
 @contextmanager
-def _onboarding_progress(feed: Path) -> Iterator[Callable[[str, int], None]]:
-    """A progress line on stderr while a feed is onboarded: its stage and records read."""
-    with _progress() as progress:
-        task = progress.add_task(feed.name, total=None)
+def _onboarding_progress(
+    feed: Path, lines: PipedProgress | None = None
+) -> Iterator[Callable[[str, int], None]]:
+    """A progress line on stderr while a feed is onboarded: its stage and records read.
+
+    On a piped stderr the lines go through ``lines`` when given (the demo's, which runs
+    through every stage), else through their own.
+    """
+    # The demo's lines are already running: entering them again would stop them at the end.
+    own = nullcontext(lines) if lines is not None else PipedProgress(f"onboarding {feed.name}")
+    with _progress() as progress, own as piped:
 
         def show(stage: str, count: int) -> None:
             progress.update(task, description=f"{feed.name}: {stage}", completed=count)
+            piped.update(f"{feed.name}: {stage}" if lines is not None else stage, count)
 
+        task = progress.add_task(feed.name, total=None)
         yield show
 
 
@@ -202,6 +213,12 @@ def _render_onboard(facts: dict[str, Any]) -> None:
         _say(f"  restriction flags: {escape(flags)}")
     if facts["rule_conflicts"]:
         _say(f"  rule conflicts: {facts['rule_conflicts']:,}")
+    for run in facts.get("stale_runs_stopped", []):
+        started = escape(run["started_at"])
+        _say(
+            f"  marked run {run['run']} ({escape(run['kind'])}, started {started}) as stopped: "
+            "its process ended without finishing"
+        )
     if facts["stopped_early"]:
         stopped = escape(facts["stopped_early"])
         _say(f"  [bold red]reading stopped early:[/bold red] {stopped}")
@@ -218,8 +235,11 @@ def _render_onboard(facts: dict[str, Any]) -> None:
 def status_command(project: str | None, feed: str | None, as_json: bool) -> None:
     """Show where each feed stands: rows, accepted, queue, reviews and the audited error.
 
-    The audited error is the share of reviewed audit samples that were wrong, with its exact
-    (Clopper-Pearson) 95% interval: the real error of the auto-accepted part.
+    "queued" and "reviewed" count products by the state of their mapping; "open" and "done"
+    count review items, which also check products whose node is accepted (a brand
+    conflict, the audit sample, the audience), so there can be more open items than queued
+    products. The audited error is the share of reviewed audit samples that were wrong, with its
+    exact (Clopper-Pearson) 95% interval: the real error of the auto-accepted part.
     """
     facts = project_status(project_dir(project), feed)
     if as_json:
@@ -251,6 +271,14 @@ def status_command(project: str | None, feed: str | None, as_json: bool) -> None
             number(f["open_items"]), number(f["done_items"]),
         )
     _say(table)
+    _say(
+        "queued / reviewed count products by mapping state; open / done count review items, "
+        "which also check accepted products (brand conflict, audit sample, audience)."
+    )
+    for f in feeds:
+        if f["open_by_reason"]:
+            reasons = ", ".join(f"{k} {v:,}" for k, v in f["open_by_reason"].items())
+            _say(f"{escape(f['feed'])}: open items by reason: {escape(reasons)}")
     for f in feeds:
         if f["audit_error"] is None:
             _say(f"{escape(f['feed'])}: no audit sample reviewed yet")
@@ -363,47 +391,81 @@ def decisions_export_command(
     type=click.Path(dir_okay=False, path_type=Path),
     help="Where to write bad rows (default: <file>.rejects.csv beside the file).",
 )
+@click.option(
+    "--encoding",
+    default="utf-8",
+    show_default=True,
+    help="The file's text encoding, e.g. cp1252 for a file a spreadsheet saved as plain CSV.",
+)
 @_project_option
 @json_option
 def decisions_import_command(
-    file: Path, reviewer: str, rejects: Path | None, project: str | None, as_json: bool
+    file: Path,
+    reviewer: str,
+    rejects: Path | None,
+    encoding: str,
+    project: str | None,
+    as_json: bool,
 ) -> None:
     """Apply the filled rows of a decisions CSV (each one audited); bad rows are reported with
-    their line and reason and written to a rejects CSV, good rows are applied."""
+    their line and reason and written to a rejects CSV, good rows are applied. Exits with 3
+    when any row was bad. Comma, semicolon or tab separated; a byte-order mark is fine."""
     result = import_project_decisions(
-        project_dir(project), file, reviewer=reviewer, rejects=rejects
+        project_dir(project), file, reviewer=reviewer, rejects=rejects, encoding=encoding
     )
     facts = result.to_dict()
     if as_json:
         echo_json(facts)
-        return
-    actions = ", ".join(f"{k} {v:,}" for k, v in sorted(result.by_action.items()))
-    _say(
-        f"Applied {result.applied:,} decisions ({escape(actions) or 'none'}); "
-        f"{len(result.bad):,} bad rows; {result.empty:,} rows left empty."
-    )
-    for bad in result.bad[:20]:
-        _say(f"  {escape(str(file))}:{bad.line}: {escape(bad.reason)}")
+    else:
+        actions = ", ".join(f"{k} {v:,}" for k, v in sorted(result.by_action.items()))
+        _say(
+            f"Applied {result.applied:,} decisions ({escape(actions) or 'none'}); "
+            f"{result.bad_count:,} bad rows; {result.empty:,} rows left empty."
+        )
+        for bad in result.bad:
+            _say(f"  {escape(str(file))}:{bad.line}: {escape(bad.reason)}")
+        if result.bad_count > len(result.bad):
+            _say(f"  ... and {result.bad_count - len(result.bad):,} more")
     if result.rejects_file:
-        _say(f"Bad rows written to {escape(str(result.rejects_file))}")
+        # The good rows are applied; the bad ones make the run fail so a script notices them.
+        raise InputError(
+            f"{result.bad_count:,} of {result.rows:,} filled rows were not applied; "
+            f"they are written with their reasons to {result.rejects_file}",
+            path=file,
+            hint="fix them in that file and import it again",
+        )
 
 
 # -- demo -------------------------------------------------------------------------------------
 
 
 class _DemoScreen:
-    """Shows on stderr what the demo does: its world, a training spinner, onboarding progress."""
+    """Shows on stderr what the demo does: its world, a training spinner, onboarding progress.
+
+    On a piped stderr, one :class:`PipedProgress` runs through the whole demo, so the world
+    build and the calibration print lines too.
+    """
+
+    def __init__(self, lines: PipedProgress) -> None:
+        self.lines = lines
 
     def world(self, root: Path) -> None:
         err_console.print(f"demo world: {root}")
+        self.lines.update("building or reading the demo world")
 
     @contextmanager
     def training(self) -> Iterator[Callable[[str], None]]:
         with err_console.status("training on the demo reference catalog") as status:
-            yield lambda text: status.update(f"training: {text}")
+
+            def show(text: str) -> None:
+                status.update(f"training: {text}")
+                self.lines.update(f"training: {text}")
+
+            yield show
+        self.lines.update("choosing the accept threshold")
 
     def onboarding(self, feed: Path) -> AbstractContextManager[Callable[[str, int], None]]:
-        return _onboarding_progress(feed)
+        return _onboarding_progress(feed, self.lines)
 
 
 @click.command("demo")
@@ -440,13 +502,14 @@ def demo_command(
     split and on the labelled feed of Oskelund, a retailer the model never trained on (the
     feeds to onboard come from new retailers); the strictest of the two is used.
     """
-    facts = run_demo(
-        project_dir(project),
-        world=world,
-        max_error=max_error,
-        validation_feed=validation_feed,
-        reporter=_DemoScreen(),
-    )
+    with PipedProgress("demo") as lines:
+        facts = run_demo(
+            project_dir(project),
+            world=world,
+            max_error=max_error,
+            validation_feed=validation_feed,
+            reporter=_DemoScreen(lines),
+        )
     if as_json:
         echo_json(facts)
         return

@@ -164,7 +164,7 @@ def render_tree(
 def show_command(node: str | None, depth: int, tree_version: int, tree_file: str | None) -> None:
     """Show the tree as an indented outline.
 
-    NODE is a node id (e.g. 1520) or a path of names such as
+    NODE is a node id (e.g. 1510) or a path of names such as
     "Groceries and drinks > Coffee".
     Without NODE the departments are shown; use --depth to go deeper.
     """

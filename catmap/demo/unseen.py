@@ -35,6 +35,7 @@ from pathlib import Path
 from typing import TYPE_CHECKING
 from xml.sax.saxutils import escape
 
+from catmap._atomic import write_bytes_atomic
 from catmap.demo import _unseen_vocab as U
 from catmap.demo import _vocab as V
 from catmap.demo._blocklist import is_blocked
@@ -662,9 +663,7 @@ def write_labelled(products: list[UnseenProduct], path: Path) -> None:
 
 
 def _atomic_write(path: Path, data: bytes) -> None:
-    temp = path.with_name(f".{path.name}.tmp")
-    temp.write_bytes(data)
-    temp.replace(path)
+    write_bytes_atomic(path, data)
 
 
 # -- entry points -------------------------------------------------------------------------------

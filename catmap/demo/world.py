@@ -23,6 +23,7 @@ from pathlib import Path
 from typing import TYPE_CHECKING
 from xml.sax.saxutils import escape, quoteattr
 
+from catmap._atomic import write_bytes_atomic
 from catmap.demo._names import Brand, invent_brands
 from catmap.demo._products import DemoProduct, LeafInfo, ProductFactory, leaf_infos
 from catmap.demo._retailers import (
@@ -214,7 +215,7 @@ def write_brands(brands: list[Brand], path: Path) -> None:
     rows = [["brand", "variants", "departments"]]
     rows += [[b.name, ";".join(b.variants), ";".join(b.departments)] for b in brands]
     path.parent.mkdir(parents=True, exist_ok=True)
-    path.write_bytes(_csv_text(rows, delimiter=",", lineterminator="\n").encode("utf-8"))
+    write_bytes_atomic(path, _csv_text(rows, delimiter=",", lineterminator="\n").encode("utf-8"))
 
 
 def write_reference(products: list[DemoProduct], path: Path) -> None:
@@ -227,7 +228,7 @@ def write_reference(products: list[DemoProduct], path: Path) -> None:
     # mtime=0 and no file name in the header keep the bytes identical between builds
     with gzip.GzipFile(filename="", mode="wb", fileobj=buf, mtime=0, compresslevel=6) as gz:
         gz.write(data)
-    path.write_bytes(buf.getvalue())
+    write_bytes_atomic(path, buf.getvalue())
 
 
 def write_gold(products: list[DemoProduct], path: Path) -> None:
@@ -239,7 +240,7 @@ def write_gold(products: list[DemoProduct], path: Path) -> None:
             seen.add(p.product_id)
             rows.append([p.product_id, *_gold_row(p)])
     path.parent.mkdir(parents=True, exist_ok=True)
-    path.write_bytes(_csv_text(rows, delimiter=",", lineterminator="\n").encode("utf-8"))
+    write_bytes_atomic(path, _csv_text(rows, delimiter=",", lineterminator="\n").encode("utf-8"))
 
 
 def _cp1252_safe(text: str) -> str:
@@ -256,7 +257,7 @@ def write_feed_a(products: list[DemoProduct], path: Path) -> None:
             p.product_id, p.title, p.description, p.brand, p.retailer_category, p.price, p.gtin,
             p.gender, p.colour, p.size, p.url, p.image_url, p.availability)])
     text = _csv_text(rows, delimiter=";", lineterminator="\r\n")
-    path.write_bytes(text.encode("cp1252"))
+    write_bytes_atomic(path, text.encode("cp1252"))
 
 
 def write_feed_b(products: list[DemoProduct], path: Path) -> None:
@@ -293,7 +294,7 @@ def write_feed_b(products: list[DemoProduct], path: Path) -> None:
             out.append(f"      <qv:availability>{escape(p.availability)}</qv:availability>")
         out.append("    </offer>")
     out += ["  </offers>", "</catalogue>", ""]
-    path.write_bytes("\n".join(out).encode("utf-8"))
+    write_bytes_atomic(path, "\n".join(out).encode("utf-8"))
 
 
 def write_feed_c(products: list[DemoProduct], path: Path) -> None:
@@ -307,14 +308,14 @@ def write_feed_c(products: list[DemoProduct], path: Path) -> None:
                      p.gtin, p.gender, p.colour, p.size, p.url, p.image_url, p.availability,
                      p.description])
     text = _csv_text(rows, delimiter="\t", lineterminator="\n")
-    path.write_bytes(text.encode("utf-8-sig"))
+    write_bytes_atomic(path, text.encode("utf-8-sig"))
 
 
 def write_labelled_feed(products: list[DemoProduct], path: Path) -> None:
     """A small comma-separated UTF-8 feed with its gold columns, as a user's own labelled feed."""
     rows = [[*REFERENCE_COLUMNS, *GOLD_COLUMNS]]
     rows += [[*_reference_row(p), *_gold_row(p)] for p in products]
-    path.write_bytes(_csv_text(rows, delimiter=",", lineterminator="\n").encode("utf-8"))
+    write_bytes_atomic(path, _csv_text(rows, delimiter=",", lineterminator="\n").encode("utf-8"))
 
 
 _FEED_WRITERS = {"ferravelle": write_feed_a, "quorvane": write_feed_b, "tallimbra": write_feed_c,

@@ -16,6 +16,8 @@ from html import escape
 from pathlib import Path
 from typing import Any
 
+from catmap._atomic import write_text_atomic
+
 __all__ = [
     "department_png",
     "reliability_png",
@@ -214,8 +216,18 @@ def _mapping_html(report: dict[str, Any]) -> list[str]:
     parts.append(
         '<p class="note">Leaf accuracy and F1 compare node ids exactly; hierarchical scores '
         "give partial credit to a near or backed-off answer. ECE and the risk-coverage curve "
-        "count an answer as right when the gold leaf lies under the answered node.</p>"
+        "count an answer as right when the gold leaf lies under the answered node. "
+        "ECE: the mean gap between the stated confidence and the share right, over confidence "
+        "bins (0 = confidence means what it says). AURC: the mean error rate over all accept "
+        "thresholds, products taken most confident first (lower = better ranking).</p>"
     )
+    accepted = report.get("at_accept_threshold")
+    if accepted is not None:
+        parts.append(
+            f"<p>At the auto-accept threshold {accepted['threshold']:.3f}: "
+            f"{accepted['accepted']:,} products accepted ({accepted['coverage']:.1%}), "
+            f"{accepted['wrong']:,} wrong: error rate {accepted['error_rate']:.2%}.</p>"
+        )
 
     plots = []
     if report["products"]:
@@ -281,20 +293,30 @@ def _attributes_html(attributes: dict[str, Any]) -> list[str]:
 
 
 def _nodes_html(node_scores: list[dict[str, Any]]) -> list[str]:
-    """The per-node table: the nodes with most gold products first."""
-    nodes = sorted(node_scores, key=lambda n: (-n["support"], n["node_id"]))
+    """The per-node table: the nodes with most errors first."""
+    nodes = sorted(
+        node_scores, key=lambda n: (-n.get("errors", 0), -n["support"], n["node_id"])
+    )
     parts = []
     parts.append(
-        f"<h2>Per node (the {min(len(nodes), NODES_SHOWN)} with most products; "
+        f"<h2>Per node (the {min(len(nodes), NODES_SHOWN)} with most errors; "
         "all in metrics.json)</h2>"
     )
     parts.append(
+        '<p class="note">errors = missed (its products mapped elsewhere) + wrongly here '
+        "(other nodes' products mapped to it).</p>"
+    )
+    parts.append(
         _table(
-            ["node", "path", "precision", "recall", "F1", "gold products", "mapped products"],
+            ["node", "path", "errors", "missed", "wrongly here", "precision", "recall", "F1",
+             "gold products", "mapped products"],
             [
                 [
                     n["node_id"],
                     n["path"],
+                    n.get("errors", 0),
+                    n.get("missed", 0),
+                    n.get("wrongly_here", 0),
                     _number(n["precision"]),
                     _number(n["recall"]),
                     _number(n["f1"]),
@@ -303,7 +325,7 @@ def _nodes_html(node_scores: list[dict[str, Any]]) -> list[str]:
                 ]
                 for n in nodes[:NODES_SHOWN]
             ],
-            {2, 3, 4, 5, 6},
+            {2, 3, 4, 5, 6, 7, 8, 9},
         )
     )
     return parts
@@ -319,8 +341,8 @@ def write_report(report: dict[str, Any], out_dir: str | Path) -> tuple[Path, Pat
     folder.mkdir(parents=True, exist_ok=True)
     html_path = folder / "report.html"
     json_path = folder / "metrics.json"
-    html_path.write_text(render_report_html(report), encoding="utf-8")
-    json_path.write_text(
-        json.dumps(report, ensure_ascii=False, indent=2, sort_keys=False) + "\n", encoding="utf-8"
+    write_text_atomic(html_path, render_report_html(report))
+    write_text_atomic(
+        json_path, json.dumps(report, ensure_ascii=False, indent=2, sort_keys=False) + "\n"
     )
     return html_path, json_path

@@ -285,6 +285,51 @@ def _path(tree: CategoryTree, node_id: str) -> str:
     return tree.path_text(node_id) if node_id in tree else f"(unknown node {node_id})"
 
 
+def _node_facts(tree: CategoryTree, scores: Any) -> dict[str, Any]:
+    """One node's scores, with its errors: its products mapped elsewhere (``missed``) plus
+    other nodes' products mapped to it (``wrongly_here``)."""
+    correct = round(scores.recall * scores.support)
+    missed = scores.support - correct
+    wrongly_here = scores.predicted - correct
+    return {
+        "node_id": scores.node_id,
+        "path": _path(tree, scores.node_id),
+        "precision": scores.precision,
+        "recall": scores.recall,
+        "f1": scores.f1,
+        "support": scores.support,
+        "predicted": scores.predicted,
+        "missed": missed,
+        "wrongly_here": wrongly_here,
+        "errors": missed + wrongly_here,
+    }
+
+
+def _at_threshold(
+    y_true: Sequence[str], mappings: Sequence[Mapping], threshold: float | None
+) -> dict[str, Any] | None:
+    """The products onboarding would auto-accept at ``threshold`` and their error rate.
+
+    Scored as onboarding scores them: a rule is always accepted, a backed-off answer (an inner
+    node) never; an accepted product is right only when its leaf is the gold one.
+    """
+    if threshold is None:
+        return None
+    accepted = wrong = 0
+    for gold, mapping in zip(y_true, mappings, strict=True):
+        score = {"rule": 1.0, "backoff": 0.0}.get(mapping.method, float(mapping.confidence))
+        if score >= threshold:
+            accepted += 1
+            wrong += mapping.node_id != gold
+    return {
+        "threshold": threshold,
+        "accepted": accepted,
+        "coverage": accepted / len(y_true) if y_true else 0.0,
+        "wrong": wrong,
+        "error_rate": wrong / accepted if accepted else 0.0,
+    }
+
+
 def evaluation_report(
     *,
     tree: CategoryTree,
@@ -292,6 +337,7 @@ def evaluation_report(
     mappings: Sequence[Mapping],
     attributes: Sequence[Attributes] | None = None,
     confusions: int = CONFUSIONS_SHOWN,
+    accept_threshold: float | None = None,
 ) -> dict[str, Any]:
     """Compute every figure of the evaluation and return it as one JSON-ready dictionary.
 
@@ -306,6 +352,8 @@ def evaluation_report(
         mappings: the mappings, in the same order.
         attributes: the extracted attributes, in the same order; None to skip them.
         confusions: how many of the most frequent confusions to list.
+        accept_threshold: the auto-accept threshold onboarding uses; the report then gives
+            the error rate among the products it would accept (``at_accept_threshold``).
 
     Returns:
         The report (see ``metrics.json``).
@@ -356,18 +404,11 @@ def evaluation_report(
             }
             for dep, (acc, count) in by_department.items()
         ],
-        "nodes": [
-            {
-                "node_id": s.node_id,
-                "path": _path(tree, s.node_id),
-                "precision": s.precision,
-                "recall": s.recall,
-                "f1": s.f1,
-                "support": s.support,
-                "predicted": s.predicted,
-            }
-            for s in per_node_scores(y_true, y_pred)
-        ],
+        "at_accept_threshold": _at_threshold(y_true, mappings, accept_threshold),
+        "nodes": sorted(
+            (_node_facts(tree, s) for s in per_node_scores(y_true, y_pred)),
+            key=lambda n: (-n["errors"], -n["support"], n["node_id"]),
+        ),
         "confusions": [
             {
                 "true": t,
@@ -516,6 +557,7 @@ def evaluate_feed(
     brands_path: str | Path | None = None,
     tree: CategoryTree | None = None,
     feed_name: str | None = None,
+    accept_threshold: float | None = None,
 ) -> dict[str, Any]:
     """Map a labelled feed with the trained model and return the evaluation report.
 
@@ -532,6 +574,7 @@ def evaluate_feed(
         brands_path: the brand dictionary (default: the project's).
         tree: the category tree (wins over ``tree_version``; e.g. the project's own).
         feed_name: the feed's name, which names its profile (default: from the file name).
+        accept_threshold: the auto-accept threshold to report the error rate at.
 
     Returns:
         The report of :func:`evaluation_report` plus the run's facts (feed, gold, model,
@@ -575,6 +618,7 @@ def evaluate_feed(
         gold=collected.gold,
         mappings=collected.mappings,
         attributes=collected.attributes,
+        accept_threshold=accept_threshold,
     )
     facts: dict[str, Any] = {
         "feed": str(feed),

@@ -150,26 +150,45 @@ def open_binary(path: str | Path) -> tuple[IO[bytes], str | None]:
     return open(path, "rb"), None
 
 
+_HEAD_BLOCK = 8192
+
+
 def read_head(path: str | Path, size: int) -> tuple[bytes, bool, str | None]:
     """Read the first ``size`` decompressed bytes of ``path``.
+
+    A file damaged inside the head (a small truncated .gz) gives the bytes before the damage,
+    not an error: reading the records then stops at the damage with a clear error, after the
+    records before it are kept.
 
     Returns:
         The bytes, whether they are the whole file, and the compression.
 
     Raises:
-        FeedFormatError: the file cannot be opened or decompressed.
+        FeedFormatError: the file cannot be opened or decompressed at all.
     """
     stream, compression = open_binary(path)
+    blocks: list[bytes] = []
+    held = 0
     try:
-        try:
-            head = stream.read(size + 1)
-        except (OSError, EOFError, zipfile.BadZipFile) as exc:
-            raise FeedFormatError(
-                f"cannot decompress the feed ({compression}): {exc}",
-                path=path,
-                hint="the file may be truncated; ask the sender for it again",
-            ) from exc
+        while held <= size:
+            try:
+                # Small reads: a read that meets the damage loses what it decoded.
+                block = stream.read(min(_HEAD_BLOCK, size + 1 - held))
+            except (OSError, EOFError, zipfile.BadZipFile, FeedFormatError) as exc:
+                if held:
+                    # The damage comes after some records; the reader reports it there.
+                    return b"".join(blocks)[:size], False, compression
+                raise FeedFormatError(
+                    f"cannot decompress the feed ({compression}): {exc}",
+                    path=path,
+                    hint="the file may be truncated; ask the sender for it again",
+                ) from exc
+            if not block:
+                break
+            blocks.append(block)
+            held += len(block)
     finally:
         stream.close()
+    head = b"".join(blocks)
     complete = len(head) <= size
     return head[:size], complete, compression

@@ -25,6 +25,7 @@ from typing import Any
 
 from rapidfuzz import fuzz
 
+from catmap._atomic import write_text_atomic
 from catmap.errors import ProfileError
 from catmap.feeds.normalize import (
     clean_line,
@@ -608,7 +609,7 @@ def save_profile(profile: FeedProfile, path: str | Path) -> None:
     """
     target = Path(path)
     target.parent.mkdir(parents=True, exist_ok=True)
-    target.write_text(profile_text(profile), encoding="utf-8")
+    write_text_atomic(target, profile_text(profile))
 
 
 def _line_of(text: str, table: str, key: str) -> int | None:

@@ -44,6 +44,7 @@ from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
+from catmap._atomic import write_text_atomic
 from catmap.errors import FeedEncodingError, FeedFormatError, ProfileError, UnsafeFeedError
 from catmap.feeds.normalize import (
     clean_line,
@@ -721,8 +722,8 @@ def normalize_feed_to(
         facts = accounting.to_dict()
         facts["outputs"] = paths.to_dict()
         facts["format"] = format
-        paths.accounting.write_text(
-            json.dumps(facts, ensure_ascii=False, indent=2) + "\n", encoding="utf-8"
+        write_text_atomic(
+            paths.accounting, json.dumps(facts, ensure_ascii=False, indent=2) + "\n"
         )
     if on_progress is not None:
         on_progress(accounting)

@@ -17,12 +17,13 @@ from __future__ import annotations
 
 import csv
 import json
-import re
 from collections.abc import Callable
 from pathlib import Path
 from types import TracebackType
 from typing import IO, Any
 
+from catmap._atomic import AtomicFile
+from catmap._cells import neutralise_cell
 from catmap.records import Product, Reject
 
 FORMATS = ("jsonl", "csv", "parquet")
@@ -54,31 +55,6 @@ CATEGORY_SEPARATOR = " > "
 FLAG_SEPARATOR = ";"
 EXCERPT_LENGTH = 300
 PARQUET_ROW_GROUP = 50_000
-
-# OWASP "CSV Injection" guidance: a cell that starts with = + - @ TAB or CR can be read as a
-# formula by a spreadsheet; prefixing a single quote makes it plain text.
-_FORMULA_STARTS = ("=", "+", "-", "@", "\t", "\r")
-# A plain negative number ("-12.5", "-3,75") is left alone: spreadsheets read it as the number it
-# is, it runs no formula, and prices / stock deltas would otherwise become text. (Our choice.)
-_PLAIN_NEGATIVE_NUMBER = re.compile(r"-\d+(?:[.,]\d+)?")
-
-
-def neutralise_cell(value: str) -> str:
-    """Return ``value`` safe to put in a CSV cell that a spreadsheet may open.
-
-    A cell starting with ``=``, ``+``, ``-``, ``@``, TAB or CR gets a leading single quote
-    (OWASP CSV Injection guidance), except a plain negative number such as ``-12.5``.
-
-    Args:
-        value: the cell text.
-
-    Returns:
-        The text, quoted when it could be read as a formula.
-    """
-    if value and value[0] in _FORMULA_STARTS and not _PLAIN_NEGATIVE_NUMBER.fullmatch(value):
-        return "'" + value
-    return value
-
 
 def product_to_dict(product: Product) -> dict[str, Any]:
     """Return a product as plain JSON-ready values (lists, text price, object extra)."""
@@ -191,7 +167,8 @@ class JsonLinesWriter(RecordWriter):
         self.path = Path(path)
         self.count = 0
         self._to_dict = to_dict
-        self._file: IO[str] | None = self.path.open("w", encoding="utf-8", newline="\n")
+        self._target = AtomicFile(self.path)
+        self._file: IO[str] | None = self._target.open("w", encoding="utf-8", newline="\n")
         self._dumps = json.JSONEncoder(ensure_ascii=False, separators=(",", ":")).encode
 
     def write(self, record: Any) -> None:
@@ -201,10 +178,11 @@ class JsonLinesWriter(RecordWriter):
         self.count += 1
 
     def close(self) -> None:
-        """Flush and close the file (idempotent)."""
+        """Flush and close the file, which then replaces the target (idempotent)."""
         if self._file is not None:
             self._file.close()
             self._file = None
+            self._target.commit()
 
 
 class CsvWriter(RecordWriter):
@@ -225,7 +203,8 @@ class CsvWriter(RecordWriter):
         self.path = Path(path)
         self.count = 0
         self._to_row = to_row
-        self._file: IO[str] | None = self.path.open("w", encoding="utf-8", newline="")
+        self._target = AtomicFile(self.path)
+        self._file: IO[str] | None = self._target.open("w", encoding="utf-8", newline="")
         self._writer = csv.writer(self._file)
         self._writer.writerow(columns)
 
@@ -236,10 +215,11 @@ class CsvWriter(RecordWriter):
         self.count += 1
 
     def close(self) -> None:
-        """Flush and close the file (idempotent)."""
+        """Flush and close the file, which then replaces the target (idempotent)."""
         if self._file is not None:
             self._file.close()
             self._file = None
+            self._target.commit()
 
 
 class ParquetProductWriter(RecordWriter):
@@ -285,7 +265,8 @@ class ParquetProductWriter(RecordWriter):
             ]
         )
         self._columns: list[list[Any]] = [[] for _ in PRODUCT_COLUMNS]
-        self._writer: Any = pq.ParquetWriter(str(self.path), self._schema)
+        self._target = AtomicFile(self.path)
+        self._writer: Any = pq.ParquetWriter(str(self._target.temporary), self._schema)
 
     def write(self, record: Any) -> None:
         """Buffer one product; a full row group is written out."""
@@ -335,6 +316,7 @@ class ParquetProductWriter(RecordWriter):
             self._flush()
             self._writer.close()
             self._writer = None
+            self._target.commit()
 
 
 def open_product_writer(path: str | Path, format: str = "jsonl") -> RecordWriter:

@@ -3,13 +3,16 @@ beside the model) and the strictest Learn-then-Test threshold over them."""
 
 from __future__ import annotations
 
+import logging
+import zipfile
 from collections.abc import Sequence
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Any
+from typing import IO, Any
 
 import numpy as np
 
+from catmap._atomic import atomic_open
 from catmap.classify.storage import file_fingerprint
 from catmap.classify.training import read_labelled
 from catmap.decide.threshold import (
@@ -23,6 +26,8 @@ from catmap.jobs._feed_mapper import CHUNK_SIZE, FeedMapper, acceptance_score
 from catmap.project import feed_stem, is_demo_project, load_settings
 from catmap.records import Product
 from catmap.tree.taxonomy import CategoryTree
+
+_log = logging.getLogger(__name__)
 
 VALIDATION_FILE = "validation-confidences.npz"
 # The demo's labelled feed from a retailer (Oskelund) that is not in the reference catalog.
@@ -180,8 +185,13 @@ def validation_predictions(
 
 
 def _save_sources(path: Path, sources: Sequence[ValidationPredictions], stamp: str) -> None:
+    with atomic_open(path, "wb") as handle:
+        _savez(handle, sources, stamp)
+
+
+def _savez(handle: IO[bytes], sources: Sequence[ValidationPredictions], stamp: str) -> None:
     np.savez(
-        path,
+        handle,
         scores=np.concatenate([v.scores for v in sources]),
         correct=np.concatenate([v.correct for v in sources]),
         sizes=np.array([len(v) for v in sources], dtype=np.int64),
@@ -194,18 +204,29 @@ def _load_sources(path: Path, stamp: str) -> list[ValidationPredictions] | None:
     """Read saved calibration sources (None when missing or made for another model / data)."""
     if not path.exists():
         return None
-    with np.load(path, allow_pickle=False) as saved:
-        if str(saved["manifest"]) != stamp:
-            return None
-        scores, correct = saved["scores"], saved["correct"].astype(bool)
-        if "sizes" not in saved.files:  # one source, as saved before several were kept
-            return [ValidationPredictions(scores, correct, str(saved["source"]))]
-        result, start = [], 0
-        for size, source in zip(saved["sizes"].tolist(), saved["sources"].tolist(), strict=True):
-            part = slice(start, start + int(size))
-            result.append(ValidationPredictions(scores[part], correct[part], str(source)))
-            start += int(size)
-        return result
+    try:
+        with np.load(path, allow_pickle=False) as saved:
+            if str(saved["manifest"]) != stamp:
+                return None
+            scores, correct = saved["scores"], saved["correct"].astype(bool)
+            if "sizes" not in saved.files:  # one source, as saved before several were kept
+                return [ValidationPredictions(scores, correct, str(saved["source"]))]
+            result, start = [], 0
+            sizes, sources = saved["sizes"].tolist(), saved["sources"].tolist()
+            for size, source in zip(sizes, sources, strict=True):
+                part = slice(start, start + int(size))
+                result.append(ValidationPredictions(scores[part], correct[part], str(source)))
+                start += int(size)
+            return result
+    except (OSError, ValueError, KeyError, EOFError, zipfile.BadZipFile) as error:
+        # A cache is only a shortcut: a damaged one (e.g. a run killed while an older catmap
+        # wrote it) is recomputed and rewritten, so the warning shows once.
+        _log.warning(
+            "catmap: warning: the calibration cache %s cannot be read (%s); computing it again",
+            path,
+            error or type(error).__name__,
+        )
+        return None
 
 
 def default_calibration_feeds(project: str | Path | None = None) -> list[Path]:

@@ -6,6 +6,7 @@ from __future__ import annotations
 from collections.abc import Iterator
 from pathlib import Path
 
+from catmap._atomic import atomic_open
 from catmap.records import Product
 from catmap.store import Store, product_from_json
 from catmap.tree.taxonomy import CategoryTree
@@ -21,35 +22,34 @@ def write_remapped_catalog(store: Store, tree: CategoryTree, path: str | Path) -
     This is how the model follows the tree: after a remap, the accepted and reviewed mappings
     of the new version are the labelled catalog ``catmap train --tree-version N`` learns from.
     Columns: :data:`REMAPPED_CATALOG_COLUMNS`; ``split`` is a fixed 90/10 train / valid split by
-    a hash of the product id, so a rerun keeps the same validation products. The file is for
-    catmap's own reader, never a spreadsheet, so cells are written as they are.
+    a hash of the product id, so a rerun keeps the same validation products. The file is JSON
+    Lines, for catmap's own reader: no spreadsheet reads a formula in it, and every value
+    (one that starts with ``=`` too) comes back exactly as it was.
 
     Returns:
         How many products were written.
     """
-    import csv
     import hashlib
+    import json
 
     target = Path(path)
     target.parent.mkdir(parents=True, exist_ok=True)
     count = 0
-    with target.open("w", encoding="utf-8", newline="") as handle:
-        writer = csv.writer(handle)
-        writer.writerow(REMAPPED_CATALOG_COLUMNS)
+    with atomic_open(target, "w", encoding="utf-8", newline="\n") as handle:
         for product, node in remapped_examples(store, tree):
             digest = hashlib.blake2b(product.product_id.encode("utf-8"), digest_size=8).digest()
             split = "valid" if int.from_bytes(digest, "big") % 10 == 0 else "train"
-            writer.writerow(
-                (
-                    product.product_id,
-                    product.title,
-                    product.description,
-                    product.brand,
-                    " > ".join(product.category_path),
-                    node,
-                    split,
-                )
+            values = (
+                product.product_id,
+                product.title,
+                product.description,
+                product.brand,
+                " > ".join(product.category_path),
+                node,
+                split,
             )
+            row = dict(zip(REMAPPED_CATALOG_COLUMNS, values, strict=True))
+            handle.write(json.dumps(row, ensure_ascii=False) + "\n")
             count += 1
     return count
 

@@ -64,6 +64,12 @@ DECISION_COLUMNS = (
 # Actions a spreadsheet row may carry; "skip" means nothing in a file: leave the row empty.
 IMPORT_ACTIONS = tuple(a for a in DECISION_ACTIONS if a != "skip")
 REJECT_COLUMNS = ("line", "item_id", "reason", *INPUT_COLUMNS)
+# Bad rows kept in memory to show; all of them are streamed to the rejects file.
+SHOWN_BAD_ROWS = 20
+# SQLite's INTEGER is 64-bit signed: a longer item id can only be a typing mistake.
+_LARGEST_ITEM_ID = 2**63 - 1
+# Separators a spreadsheet may save a CSV with (a semicolon where the decimal mark is a comma).
+_DELIMITERS = (",", ";", "\t", "|")
 
 
 def _unquote(value: str) -> str:
@@ -168,15 +174,16 @@ class ImportResult:
     empty: int = 0
     by_action: dict[str, int] = field(default_factory=dict)
     bad: list[BadRow] = field(default_factory=list)
+    bad_count: int = 0
     rejects_file: Path | None = None
 
     def to_dict(self) -> dict[str, Any]:
-        """Return the facts as JSON-ready values."""
+        """Return the facts as JSON-ready values (the first bad rows; all are in the file)."""
         return {
             "rows": self.rows,
             "applied": self.applied,
             "empty": self.empty,
-            "bad": len(self.bad),
+            "bad": self.bad_count,
             "by_action": self.by_action,
             "bad_rows": [
                 {"line": b.line, "item_id": b.item_id, "reason": b.reason} for b in self.bad
@@ -190,9 +197,12 @@ def _check_row(
 ) -> tuple[int, str, str | None, dict[str, str | None]] | str:
     """Return (item id, action, node, corrections) or the reason the row is bad."""
     raw_id = values.get("item_id", "")
-    if not raw_id.isdigit():
+    # isdigit() alone also takes superscripts and other scripts' digits, which int() refuses.
+    if not (raw_id.isascii() and raw_id.isdigit()):
         return f"item_id '{raw_id}' is not a number"
     item_id = int(raw_id)
+    if item_id > _LARGEST_ITEM_ID:
+        return f"item_id '{raw_id}' is too long to be a review item"
     try:
         view = store.review_item(item_id)
     except StoreError:
@@ -238,6 +248,51 @@ def _reject_cells(bad: BadRow) -> list[str]:
     return [str(bad.line), bad.item_id, bad.reason, *(bad.values.get(c, "") for c in INPUT_COLUMNS)]
 
 
+def _check_encoding(source: Path, encoding: str) -> None:
+    """Refuse a file that is not in ``encoding`` before any row is applied, naming the line.
+
+    Reads the file in blocks (flat memory), so a long file costs one quick extra pass.
+    """
+    import codecs
+
+    try:
+        decoder = codecs.getincrementaldecoder(encoding)()
+    except LookupError:
+        raise InputError(f"unknown encoding '{encoding}'", path=source) from None
+    line = 1
+    with source.open("rb") as handle:
+        for block in iter(lambda: handle.read(1 << 20), b""):
+            try:
+                decoder.decode(block)
+            except UnicodeDecodeError as error:
+                line += block[: error.start].count(b"\n")
+                shown = "UTF-8" if encoding == "utf-8-sig" else encoding
+                raise InputError(
+                    f"the decisions file is not {shown} text (byte {block[error.start]:#04x})",
+                    path=source,
+                    line=line,
+                    hint="save it as 'CSV UTF-8', or give its encoding, e.g. --encoding cp1252",
+                ) from None
+            line += block.count(b"\n")
+        try:
+            decoder.decode(b"", final=True)
+        except UnicodeDecodeError:
+            shown = "UTF-8" if encoding == "utf-8-sig" else encoding
+            raise InputError(
+                f"the decisions file ends in the middle of a {shown} character",
+                path=source,
+                line=line,
+                hint="save it again as 'CSV UTF-8'",
+            ) from None
+
+
+def _delimiter(header: str) -> str:
+    """The separator of a header line: the candidate it holds most of (a comma when none)."""
+    counts = {d: header.count(d) for d in _DELIMITERS}
+    best = max(_DELIMITERS, key=lambda d: counts[d])
+    return best if counts[best] else ","
+
+
 def import_decisions(
     store: Store,
     path: str | Path,
@@ -246,12 +301,17 @@ def import_decisions(
     reviewer: str,
     rejects: str | Path | None = None,
     extractor: AttributeExtractor | None = None,
+    encoding: str = "utf-8",
 ) -> ImportResult:
     """Apply the filled rows of a decisions CSV through the store.
 
     Rows whose input columns are all empty are skipped (counted as ``empty``). Each other row
     is validated and applied as one audited decision; a bad row is reported and written to the
-    rejects CSV (default: ``<file stem>.rejects.csv`` beside the file) with its line and reason.
+    rejects CSV (default: ``<file stem>.rejects.csv`` beside the file) with its line and reason,
+    as it is met (the first :data:`SHOWN_BAD_ROWS` are also kept in the result).
+
+    The separator is read from the header (comma, semicolon, tab or bar: spreadsheets save a
+    semicolon where the decimal mark is a comma); a byte-order mark is ignored.
 
     Args:
         store: the open project store.
@@ -261,82 +321,110 @@ def import_decisions(
         rejects: where to write the bad rows.
         extractor: the attribute extractor on ``tree``, used to read who / age again for a
             chosen node (default: one with no brand dictionary).
+        encoding: the file's text encoding.
 
     Returns:
-        Counts, and the bad rows with their line and reason.
+        Counts, and the first bad rows with their line and reason.
 
     Raises:
-        InputError: the file cannot be read or lacks the ``item_id`` column.
+        InputError: the file cannot be read, is not in ``encoding``, or lacks the ``item_id``
+            column.
     """
     source = Path(path)
     result = ImportResult()
     follower = NodeFollower(tree, extractor=extractor)
+    target = Path(rejects) if rejects else source.with_name(f"{source.stem}.rejects.csv")
+    writer: CsvWriter | None = None
+    # utf-8-sig reads a file with or without the byte-order mark spreadsheets put first.
+    encoding = "utf-8-sig" if encoding.lower().replace("_", "-") in ("utf-8", "utf8") else encoding
     try:
-        handle = source.open(encoding="utf-8-sig", newline="")
+        _check_encoding(source, encoding)
+        handle = source.open(encoding=encoding, newline="")
     except OSError as error:
         raise InputError(f"cannot read the decisions file: {error.strerror}", path=source) from None
-    with handle:
-        reader = csv.DictReader(handle)
-        header = reader.fieldnames or []
-        if "item_id" not in header:
-            raise InputError(
-                "the decisions file has no 'item_id' column",
-                path=source,
-                line=1,
-                field="item_id",
-                hint=f"columns found: {', '.join(header) or 'none'}; "
-                "start from `catmap decisions export`",
-            )
-        for raw in reader:
-            line = reader.line_num
-            values = {k: _unquote(v or "") for k, v in raw.items() if k is not None}
-            if not any(values.get(c) for c in INPUT_COLUMNS):
-                result.empty += 1
-                continue
-            result.rows += 1
-            checked = _check_row(values, store, tree)
-            if isinstance(checked, str):
-                result.bad.append(BadRow(line, values.get("item_id", ""), checked, values))
-                continue
-            item_id, action, node, corrections = checked
-            who, age = corrections["who"], corrections["age"]
-            follow: NodeAttributes | None = None
-            try:
-                if action == "choose" and node is not None:
-                    item = store.item(item_id)
-                    stored = store.mapping(item.feed_id, item.product_id)
-                    if stored.mapping.node_id != node:
-                        product = store.product(item.feed_id, item.product_id)
-                        follow = follower.node_attributes(product, stored, node)
-                        who, age = follower.reviewer_values(node, who, age)
-                store.decide(
-                    item_id,
-                    reviewer,
-                    action,
-                    node_id=node,
-                    brand=corrections["brand"],
-                    who=who,
-                    age=age,
-                    note=values.get("note", ""),
-                    node_attributes=follow,
+
+    def reject(bad: BadRow) -> None:
+        nonlocal writer
+        if writer is None:
+            writer = CsvWriter(target, REJECT_COLUMNS, _reject_cells)
+        writer.write(bad)
+        result.bad_count += 1
+        if len(result.bad) < SHOWN_BAD_ROWS:
+            result.bad.append(bad)
+
+    try:
+        with handle:
+            reader = csv.DictReader(handle, delimiter=_delimiter(handle.readline()))
+            handle.seek(0)
+            reader.fieldnames = [
+                name.lstrip("\ufeff").strip() for name in (reader.fieldnames or [])
+            ]
+            header = reader.fieldnames
+            if "item_id" not in header:
+                raise InputError(
+                    "the decisions file has no 'item_id' column",
+                    path=source,
+                    line=1,
+                    field="item_id",
+                    hint=f"columns found: {', '.join(header) or 'none'}; "
+                    "start from `catmap decisions export`",
                 )
-            except (StoreError, ValueError) as error:
-                message = error.message if isinstance(error, StoreError) else str(error)
-                result.bad.append(BadRow(line, str(item_id), message, values))
-                continue
-            result.applied += 1
-            result.by_action[action] = result.by_action.get(action, 0) + 1
+            for raw in reader:
+                line = reader.line_num
+                values = {k: _unquote(v or "") for k, v in raw.items() if k is not None}
+                if not any(values.get(c) for c in INPUT_COLUMNS):
+                    result.empty += 1
+                    continue
+                result.rows += 1
+                checked = _check_row(values, store, tree)
+                if isinstance(checked, str):
+                    reject(BadRow(line, values.get("item_id", ""), checked, values))
+                    continue
+                item_id, action, node, corrections = checked
+                who, age = corrections["who"], corrections["age"]
+                follow: NodeAttributes | None = None
+                try:
+                    if action == "choose" and node is not None:
+                        item = store.item(item_id)
+                        stored = store.mapping(item.feed_id, item.product_id)
+                        if stored.mapping.node_id != node:
+                            product = store.product(item.feed_id, item.product_id)
+                            follow = follower.node_attributes(product, stored, node)
+                            who, age = follower.reviewer_values(node, who, age)
+                    store.decide(
+                        item_id,
+                        reviewer,
+                        action,
+                        node_id=node,
+                        brand=corrections["brand"],
+                        who=who,
+                        age=age,
+                        note=values.get("note", ""),
+                        node_attributes=follow,
+                    )
+                except (StoreError, ValueError) as error:
+                    message = error.message if isinstance(error, StoreError) else str(error)
+                    reject(BadRow(line, str(item_id), message, values))
+                    continue
+                result.applied += 1
+                result.by_action[action] = result.by_action.get(action, 0) + 1
+    except csv.Error as error:
+        raise InputError(
+            f"the decisions file cannot be read as CSV: {error}",
+            path=source,
+            line=reader.line_num + 1,
+            hint="save it again from the spreadsheet as CSV",
+        ) from None
+    finally:
+        # Every bad row met so far reaches the rejects file, even when the import stops.
+        if writer is not None:
+            writer.close()
+            result.rejects_file = target
     store.record_event(
         "decisions_import",
         reviewer,
-        detail={"file": str(source), "applied": result.applied, "bad": len(result.bad)},
+        detail={"file": str(source), "applied": result.applied, "bad": result.bad_count},
     )
-    if result.bad:
-        target = Path(rejects) if rejects else source.with_name(f"{source.stem}.rejects.csv")
-        with CsvWriter(target, REJECT_COLUMNS, _reject_cells) as writer:
-            for bad in result.bad:
-                writer.write(bad)
-        result.rejects_file = target
     return result
 
 
@@ -363,6 +451,7 @@ def import_project_decisions(
     *,
     reviewer: str,
     rejects: str | Path | None = None,
+    encoding: str = "utf-8",
 ) -> ImportResult:
     """Apply a filled decisions CSV to a project's store (see :func:`import_decisions`).
 
@@ -383,4 +472,5 @@ def import_project_decisions(
             reviewer=reviewer,
             rejects=rejects,
             extractor=load_extractor(project, tree),
+            encoding=encoding,
         )

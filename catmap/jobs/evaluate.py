@@ -7,7 +7,7 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
-__all__ = ["EvaluationResult", "evaluate_and_report"]
+__all__ = ["EvaluationResult", "evaluate_and_report", "last_accept_threshold"]
 
 
 @dataclass(frozen=True, slots=True)
@@ -17,6 +17,22 @@ class EvaluationResult:
     report: dict[str, Any]
     html_path: Path
     json_path: Path
+
+
+def last_accept_threshold(project: Path) -> float | None:
+    """The accept threshold of the project's latest finished onboarding run (None: none yet)."""
+    from catmap.store import Store, store_path
+
+    path = store_path(project)
+    if not path.is_file():
+        return None
+    with Store.open(path) as store:
+        runs = [r for r in store.runs() if r.kind == "onboard" and r.finished_at]
+    for run in reversed(runs):
+        threshold = run.params.get("threshold")
+        if threshold is not None:
+            return float(threshold)
+    return None
 
 
 def evaluate_and_report(
@@ -32,6 +48,7 @@ def evaluate_and_report(
     tree_version: str | None = None,
     tree_file: Path | None = None,
     feed_name: str | None = None,
+    accept_threshold: float | None = None,
 ) -> EvaluationResult:
     """Evaluate the mapping of a labelled feed and write its report.
 
@@ -47,6 +64,8 @@ def evaluate_and_report(
         tree_version: the shared category tree version (default: the project's tree).
         tree_file: a tree file of one's own (wins over ``tree_version``).
         feed_name: the feed's name (``--feed``; default: from the file name).
+        accept_threshold: the auto-accept threshold to give the error rate at (default: the
+            one of the project's latest onboarding run, if any).
     """
     from catmap.evaluate.report_html import write_report
     from catmap.evaluate.run import evaluate_feed
@@ -64,6 +83,9 @@ def evaluate_and_report(
         feed_name=feed_name,
         split=split,
         threshold=backoff_threshold,
+        accept_threshold=(
+            accept_threshold if accept_threshold is not None else last_accept_threshold(project)
+        ),
     )
     target = out_dir or project / "reports" / (feed_name or feed_stem(labelled_feed))
     html_path, json_path = write_report(report, target)

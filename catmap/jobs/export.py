@@ -15,6 +15,7 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
+from catmap._atomic import AtomicFile, atomic_path, write_text_atomic
 from catmap.attributes import RESTRICTION_CAUTION
 from catmap.feeds.writers import FORMATS, CsvWriter, JsonLinesWriter, RecordWriter
 from catmap.jobs._project_tree import check_store_tree
@@ -31,6 +32,8 @@ __all__ = [
     "export_project",
     "export_row",
     "export_status",
+    "NO_FIT",
+    "NO_RESTRICTION",
 ]
 
 EXPORT_COLUMNS = (
@@ -40,6 +43,9 @@ EXPORT_COLUMNS = (
     "price",
     "currency",
     "gtin",
+    "availability",
+    "url",
+    "image_url",
     "retailer_path",
     "node_id",
     "node_path",
@@ -54,16 +60,33 @@ EXPORT_COLUMNS = (
 )
 
 
-def export_status(stored_status: str) -> str:
-    """Return the status users see: an audit sample not yet reviewed is still accepted."""
+# The status of a product a reviewer said no node fits (it has no node and no confidence).
+NO_FIT = "no_fit"
+# How an export says "no restriction" (as the review screen does), rather than an empty cell.
+NO_RESTRICTION = "none"
+
+
+def export_status(stored_status: str, node_id: str = "-") -> str:
+    """Return the status users see.
+
+    An audit sample not yet reviewed is still ``accepted``; a reviewed product without a node is
+    ``no_fit`` (a reviewer said no node fits).
+    """
+    if stored_status == "reviewed" and not node_id:
+        return NO_FIT
     return {"audit": "accepted"}.get(stored_status, stored_status)
 
 
 def export_row(product: Product, stored: StoredMapping, tree: CategoryTree) -> dict[str, Any]:
-    """Return one export row (plain values, in :data:`EXPORT_COLUMNS` order)."""
+    """Return one export row (plain values, in :data:`EXPORT_COLUMNS` order).
+
+    A "no fit" product has an empty node, status ``no_fit`` and no confidence (there is no node
+    to be sure of).
+    """
     node_id = stored.mapping.node_id
     path = tree.path_text(node_id) if node_id and node_id in tree else ""
     attributes = stored.attributes
+    status = export_status(stored.status, node_id)
     return {
         "product_id": product.product_id,
         "title": product.title,
@@ -71,17 +94,20 @@ def export_row(product: Product, stored: StoredMapping, tree: CategoryTree) -> d
         "price": str(product.price) if product.price is not None else None,
         "currency": product.currency,
         "gtin": product.gtin,
+        "availability": product.availability,
+        "url": product.url,
+        "image_url": product.image_url,
         "retailer_path": " > ".join(product.category_path),
         "node_id": node_id,
         "node_path": path,
-        "confidence": round(stored.mapping.confidence, 4),
+        "confidence": None if status == NO_FIT else round(stored.mapping.confidence, 4),
         "method": stored.mapping.method,
-        "status": export_status(stored.status),
+        "status": status,
         "extracted_brand": attributes.brand,
         "who": attributes.who,
         "age": attributes.age,
         "colour_family": attributes.colour_family,
-        "restriction": attributes.restriction,
+        "restriction": attributes.restriction or NO_RESTRICTION,
     }
 
 
@@ -103,7 +129,8 @@ class _ParquetRows(RecordWriter):
         self._rows: list[dict[str, Any]] = []
         fields = [(c, pa.float64() if c == "confidence" else pa.string()) for c in EXPORT_COLUMNS]
         self._schema = pa.schema(fields)
-        self._writer: Any = pq.ParquetWriter(str(path), self._schema)
+        self._target = AtomicFile(path)
+        self._writer: Any = pq.ParquetWriter(str(self._target.temporary), self._schema)
 
     def write(self, record: Any) -> None:
         self._rows.append(record)
@@ -121,6 +148,7 @@ class _ParquetRows(RecordWriter):
             self._flush()
             self._writer.close()
             self._writer = None
+            self._target.commit()
 
 
 def _open_writer(path: Path, format: str) -> RecordWriter:
@@ -179,7 +207,8 @@ def _last_accounting(store: Store, feed: str) -> dict[str, Any]:
 
 def _write_rejects(source: Path, target: Path, format: str) -> Path:
     if format != "csv":
-        shutil.copyfile(source, target)
+        with atomic_path(target) as temporary:
+            shutil.copyfile(source, temporary)
         return target
     from catmap.feeds.writers import REJECT_COLUMNS
 
@@ -236,7 +265,7 @@ def export_feed(
             writer.write(row)
             result.rows += 1
             result.by_status[row["status"]] = result.by_status.get(row["status"], 0) + 1
-            if row["restriction"]:
+            if row["restriction"] != NO_RESTRICTION:
                 flag = row["restriction"]
                 result.restricted[flag] = result.restricted.get(flag, 0) + 1
     result.caution = RESTRICTION_CAUTION if result.restricted else ""
@@ -246,8 +275,8 @@ def export_feed(
         result.rejects = _write_rejects(source, out / f"{feed}.rejects.{suffix}", format)
     accounting = _last_accounting(store, feed)
     accounting["rejects_file"] = str(result.rejects) if result.rejects else None
-    result.accounting.write_text(
-        json.dumps(accounting, indent=2, ensure_ascii=False) + "\n", encoding="utf-8"
+    write_text_atomic(
+        result.accounting, json.dumps(accounting, indent=2, ensure_ascii=False) + "\n"
     )
     return result
 

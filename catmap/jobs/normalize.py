@@ -1,5 +1,5 @@
 """Clean every record of a feed into products, with its saved (or suggested) profile; write
-them, the rejects and the accounting (the facts ``catmap normalize`` prints)."""
+them, the rejects and the accounting (the facts ``catmap normalise`` prints)."""
 
 from __future__ import annotations
 

@@ -212,6 +212,7 @@ class OnboardSummary:
     store: str = ""
     seconds: float = 0.0
     stopped_early: str | None = None
+    stale_runs_stopped: list[dict[str, Any]] = field(default_factory=list)
 
     @property
     def coverage(self) -> float:
@@ -387,7 +388,14 @@ def _start_run(
     model_dir: Path,
     tree: CategoryTree,
 ) -> OnboardSummary:
-    """Record the onboard run with its parameters; return its summary, facts known so far."""
+    """Record the onboard run with its parameters; return its summary, facts known so far.
+
+    Runs left ``running`` by a process that died are marked stopped first (and listed).
+    """
+    stale = [
+        {"run": run.id, "kind": run.kind, "started_at": run.started_at}
+        for run in store.stop_stale_runs()
+    ]
     run_id = store.start_run(
         "onboard",
         feed=name,
@@ -418,6 +426,7 @@ def _start_run(
         delta=options.delta,
         rules_file=str(rules_file) if rules_file else None,
         store=str(store_path(project)),
+        stale_runs_stopped=stale,
     )
 
 

@@ -65,6 +65,7 @@ from catmap.jobs._remap_record import (
     rollback_remap,
 )
 from catmap.jobs._remap_scoring import AttributeFollower, RemapScorer, scorer_for_project
+from catmap.project import NO_STORE_HINT
 from catmap.store import Store, store_path
 from catmap.tree.changelog import ChangeLog, load_change_log
 from catmap.tree.diff import Crosswalk, crosswalk_from_changes, diff_trees, reconcile
@@ -352,7 +353,7 @@ def open_project_store(project: Path) -> Store:
     """
     path = store_path(project)
     if not path.is_file():
-        raise StoreError(f"no project store in {project}: run `catmap onboard FEED` first")
+        raise StoreError(f"no project store in {project}", hint=NO_STORE_HINT)
     return Store.open(path)
 
 

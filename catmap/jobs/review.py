@@ -12,7 +12,7 @@ from catmap.attributes.brand import dictionary_in_use
 from catmap.errors import StoreError
 from catmap.jobs._project_tree import check_store_tree, open_project_tree
 from catmap.jobs._remap_versions import check_one_version
-from catmap.project import load_settings
+from catmap.project import NO_STORE_HINT, load_settings
 from catmap.review.session import ReviewSession
 from catmap.store import Store, store_path
 
@@ -36,7 +36,7 @@ def project_review_session(
     """
     path = store_path(project)
     if not path.is_file():
-        raise StoreError(f"no project store in {project}: run `catmap onboard FEED` first")
+        raise StoreError(f"no project store in {project}", hint=NO_STORE_HINT)
     with Store.open(path) as store:
         if feed is not None:
             store.feed(feed)  # an unknown feed fails here, with a hint

@@ -8,6 +8,7 @@ from typing import Any
 
 from catmap.errors import StoreError
 from catmap.jobs._remap_versions import feed_tree_versions, mapping_tree_versions
+from catmap.project import NO_STORE_HINT
 from catmap.store import Store, store_path
 
 __all__ = ["AUDIT_CONFIDENCE", "feed_status_facts", "project_status"]
@@ -35,6 +36,12 @@ def feed_status_facts(
     for name in names:
         status = store.feed_status(name, confidence=confidence)
         error = status.audit_error
+        by_reason = store.queue_summary(name).by_reason
+        open_by_reason = {
+            reason: states.get("open", 0) + states.get("claimed", 0)
+            for reason, states in sorted(by_reason.items())
+            if states.get("open", 0) + states.get("claimed", 0)
+        }
         out.append(
             {
                 "feed": name,
@@ -48,6 +55,7 @@ def feed_status_facts(
                 "queued": status.queued,
                 "reviewed": status.reviewed,
                 "open_items": status.open_items + status.claimed_items,
+                "open_by_reason": open_by_reason,
                 "done_items": status.done_items,
                 "audit_checked": status.audit_checked,
                 "audit_wrong": status.audit_wrong,
@@ -80,9 +88,7 @@ def project_status(
     """
     path = store_path(project)
     if not path.exists():
-        raise StoreError(
-            "no project store here", path=path, hint="run `catmap onboard FEED` first"
-        )
+        raise StoreError("no project store here", path=path, hint=NO_STORE_HINT)
     with Store.open(path) as store:
         feeds = feed_status_facts(store, feed, confidence)
     return {"store": str(path), "feeds": feeds}

@@ -36,7 +36,7 @@ def remapped_catalog(project: Path, tree: CategoryTree) -> Path:
         raise ModelNotTrained(
             f"no labelled products for tree version {tree.version}", path=project, hint=hint
         )
-    catalog = subfolder(project, "models") / f"remapped-catalog-v{tree.version}.csv"
+    catalog = subfolder(project, "models") / f"remapped-catalog-v{tree.version}.jsonl"
     with Store.open(store_path(project)) as store:
         written = write_remapped_catalog(store, tree, catalog)
     if written == 0:

@@ -3,6 +3,8 @@
 from __future__ import annotations
 
 import json
+import os
+import socket
 from pathlib import Path
 from typing import Any
 
@@ -10,6 +12,26 @@ from catmap.errors import StoreError
 from catmap.store.connection import StoreConnection
 from catmap.store.queue import _STATE_OR_WITHDRAWN
 from catmap.store.records import FeedRecord, FeedStatus, RunRecord
+
+# Where start_run keeps the process of a run among its parameters.
+_PROCESS_KEY = "_process"
+
+
+def _host() -> str:
+    return socket.gethostname()
+
+
+def _alive(pid: int) -> bool:
+    """Whether a process with this id exists on this host (signal 0 checks, sends nothing)."""
+    if pid <= 0:
+        return False
+    try:
+        os.kill(pid, 0)
+    except ProcessLookupError:
+        return False
+    except PermissionError:  # it exists, under another user
+        return True
+    return True
 
 
 class FeedsMixin(StoreConnection):
@@ -59,16 +81,52 @@ class FeedsMixin(StoreConnection):
     ) -> int:
         """Record the start of a run (``onboard``, ``map``, ``remap``, ``import``...).
 
+        The process id and host are kept with the parameters (``_process``), so that a later
+        run can tell a run that is still going from one whose process died
+        (:meth:`stop_stale_runs`).
+
         Returns:
             The run id, to pass to :meth:`save_mapped` and :meth:`finish_run`.
         """
         feed_id = self._feed_id(feed) if feed is not None else None
+        stored = {**(params or {}), _PROCESS_KEY: {"pid": os.getpid(), "host": _host()}}
         with self._transaction() as conn:
             cursor = conn.execute(
                 "INSERT INTO runs (feed_id, kind, params, started_at) VALUES (?, ?, ?, ?)",
-                (feed_id, kind, json.dumps(params or {}, default=str), self._now()),
+                (feed_id, kind, json.dumps(stored, default=str), self._now()),
             )
         return int(cursor.lastrowid or 0)
+
+    def stop_stale_runs(self) -> list[RunRecord]:
+        """Mark as ``stopped`` every run still ``running`` whose process is gone.
+
+        A run whose process was killed (``kill -9``, a crash, a closed terminal) never
+        recorded its end. Its process is known gone when it ran on this host and no process
+        has its id any more; a run recorded without a process (by an older catmap) counts as
+        gone too. A run on another host is left alone: it may still be going.
+
+        Returns:
+            The runs marked stopped (as they were before).
+        """
+        here = _host()
+        stale = []
+        for run in self.runs():
+            if run.status != "running":
+                continue
+            process = run.process
+            if process is not None:
+                if process.get("host") != here or _alive(int(process.get("pid", 0))):
+                    continue
+            stale.append(run)
+        for run in stale:
+            reason = "the process ended without finishing (killed or crashed)"
+            with self._transaction() as conn:
+                conn.execute(
+                    "UPDATE runs SET finished_at = ?, status = 'stopped', summary = ? "
+                    "WHERE id = ? AND status = 'running'",
+                    (self._now(), json.dumps({**run.summary, "stopped_early": reason}), run.id),
+                )
+        return stale
 
     def finish_run(
         self, run_id: int, *, status: str = "done", summary: dict[str, Any] | None = None
@@ -90,19 +148,24 @@ class FeedsMixin(StoreConnection):
             rows = self._read(
                 "SELECT * FROM runs WHERE feed_id = ? ORDER BY id", (self._feed_id(feed),)
             ).fetchall()
-        return [
-            RunRecord(
-                r["id"],
-                r["feed_id"],
-                r["kind"],
-                json.loads(r["params"]),
-                r["started_at"],
-                r["finished_at"],
-                r["status"],
-                json.loads(r["summary"]),
+        records = []
+        for r in rows:
+            params = json.loads(r["params"])
+            process = params.pop(_PROCESS_KEY, None)
+            records.append(
+                RunRecord(
+                    r["id"],
+                    r["feed_id"],
+                    r["kind"],
+                    params,
+                    r["started_at"],
+                    r["finished_at"],
+                    r["status"],
+                    json.loads(r["summary"]),
+                    process if isinstance(process, dict) else None,
+                )
             )
-            for r in rows
-        ]
+        return records
 
     def feed_status(self, feed: int | str, *, confidence: float = 0.95) -> FeedStatus:
         """Return where a feed stands.

@@ -36,7 +36,11 @@ class FeedRecord:
 
 @dataclass(frozen=True, slots=True)
 class RunRecord:
-    """One run of a command (onboard, map, remap, import...) and its summary."""
+    """One run of a command (onboard, map, remap, import...) and its summary.
+
+    ``process`` is the process id and host that ran it (None for runs recorded before it
+    was kept).
+    """
 
     id: int
     feed_id: int | None
@@ -46,6 +50,7 @@ class RunRecord:
     finished_at: str | None
     status: str
     summary: dict[str, Any]
+    process: dict[str, Any] | None = None
 
 
 @dataclass(frozen=True, slots=True)

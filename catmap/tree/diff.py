@@ -26,6 +26,8 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any, Protocol
 
+from catmap._atomic import atomic_open
+from catmap._cells import neutralise_cell, restore_cell
 from catmap.errors import InputError, TreeError
 from catmap.tree.changelog import Change, ChangeLog, apply_changes
 from catmap.tree.search import fold_text
@@ -885,7 +887,7 @@ def save_crosswalk(crosswalk: Crosswalk, path: str | Path) -> None:
     node), new_ids (comma-separated, ``-`` for none), change (types joined by ``+``),
     confidence (0..1) and evidence.
     """
-    with Path(path).open("w", encoding="utf-8", newline="") as handle:
+    with atomic_open(path, "w", encoding="utf-8", newline="") as handle:
         handle.write(f"{_HEADER} {crosswalk.old_version} -> {crosswalk.new_version}\n")
         handle.write("# catmap crosswalk: where each old node's products go in the new tree.\n")
         handle.write("# old_id '-' = a node added in the new tree; new_ids '-' = nowhere;\n")
@@ -900,7 +902,8 @@ def save_crosswalk(crosswalk: Crosswalk, path: str | Path) -> None:
                     ",".join(corr.new_ids) or "-",
                     "+".join(corr.changes),
                     f"{corr.confidence:.3f}",
-                    corr.evidence.replace("\t", " ").replace("\n", " "),
+                    # Free text (node names): neutralised, a spreadsheet may open the file.
+                    neutralise_cell(corr.evidence.replace("\t", " ").replace("\n", " ")),
                 ]
             )
 
@@ -957,7 +960,9 @@ def load_crosswalk(path: str | Path) -> Crosswalk:
             raise fail(f"confidence {certainty} is outside 0..1", number)
         ids = () if new_ids == "-" else tuple(p.strip() for p in new_ids.split(","))
         correspondences.append(
-            Correspondence(None if old_id == "-" else old_id, ids, kinds, certainty, evidence)
+            Correspondence(
+                None if old_id == "-" else old_id, ids, kinds, certainty, restore_cell(evidence)
+            )
         )
     if versions is None:
         raise fail(f"missing header '{_HEADER} OLD -> NEW'", 1)

@@ -21,6 +21,7 @@ from collections.abc import Iterable, Iterator
 from pathlib import Path
 from typing import Any
 
+from catmap._atomic import write_text_atomic
 from catmap.errors import TreeError, UnknownNode
 from catmap.tree.search import SearchMatch, TermIndex, fold_text
 from catmap.tree.treefile import (
@@ -460,7 +461,7 @@ def dump_tree(tree: CategoryTree, path: str | Path) -> None:
         tree: the tree to write.
         path: the file to write (replaced if it exists).
     """
-    Path(path).write_text(format_tree(tree.version, tree), encoding="utf-8")
+    write_text_atomic(path, format_tree(tree.version, tree))
 
 
 def default_tree_path(version: int | str = 1) -> Path:
