@@ -34,6 +34,7 @@ from catmap.feeds.normalize import (
     split_category_path,
 )
 from catmap.feeds.read import FeedInfo
+from catmap.feeds.writers import write_text_atomic
 from catmap.records import SourceRecord
 
 __all__ = [
@@ -526,15 +527,21 @@ def _toml_string(value: str) -> str:
             escaped.append('\\"')
         elif char in "\b\t\n\f\r":
             escaped.append({"\b": "\\b", "\t": "\\t", "\n": "\\n", "\f": "\\f", "\r": "\\r"}[char])
-        elif ord(char) < 0x20 or ord(char) == 0x7F:
+        elif ord(char) < 0x20 or 0x7F <= ord(char) <= 0x9F:
             escaped.append(f"\\u{ord(char):04x}")
+        elif 0xD800 <= ord(char) <= 0xDFFF:
+            escaped.append("\ufffd")  # TOML has no escape for a lone surrogate
         else:
             escaped.append(char)
     return '"' + "".join(escaped) + '"'
 
 
+_COMMENT_UNSAFE = re.compile("[\x00-\x08\x0b-\x1f\x7f-\x9f\ud800-\udfff]")
+
+
 def _comment(text: str) -> str:
-    return " ".join(text.split())
+    # TOML forbids control characters in comments, and a lone surrogate cannot be written.
+    return " ".join(_COMMENT_UNSAFE.sub("\ufffd", text).split())
 
 
 def profile_text(profile: FeedProfile) -> str:
@@ -599,7 +606,8 @@ def save_profile(profile: FeedProfile, path: str | Path) -> None:
     """
     target = Path(path)
     target.parent.mkdir(parents=True, exist_ok=True)
-    target.write_text(profile_text(profile), encoding="utf-8")
+    write_text_atomic(target, profile_text(profile))
+
 
 
 def _line_of(text: str, table: str, key: str) -> int | None:

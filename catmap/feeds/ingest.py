@@ -54,7 +54,13 @@ from catmap.feeds.normalize import (
     parse_price,
     split_category_path,
 )
-from catmap.feeds.writers import EXCERPT_LENGTH, EXTENSIONS, open_product_writer, open_reject_writer
+from catmap.feeds.writers import (
+    EXCERPT_LENGTH,
+    EXTENSIONS,
+    open_product_writer,
+    open_reject_writer,
+    write_text_atomic,
+)
 from catmap.records import Product, Reject, SourceRecord
 
 if TYPE_CHECKING:
@@ -721,8 +727,8 @@ def normalize_feed_to(
         facts = accounting.to_dict()
         facts["outputs"] = paths.to_dict()
         facts["format"] = format
-        paths.accounting.write_text(
-            json.dumps(facts, ensure_ascii=False, indent=2) + "\n", encoding="utf-8"
+        write_text_atomic(
+            paths.accounting, json.dumps(facts, ensure_ascii=False, indent=2) + "\n"
         )
     if on_progress is not None:
         on_progress(accounting)

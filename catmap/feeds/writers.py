@@ -15,9 +15,12 @@ CSV cells are made safe against formula injection (see :func:`neutralise_cell`).
 
 from __future__ import annotations
 
+import contextlib
 import csv
 import json
+import os
 import re
+import tempfile
 from collections.abc import Callable
 from pathlib import Path
 from types import TracebackType
@@ -377,3 +380,25 @@ def open_reject_writer(path: str | Path, format: str = "jsonl") -> RecordWriter:
     if format == "csv":
         return CsvWriter(path, REJECT_COLUMNS, _reject_csv_row)
     raise ValueError(f"unknown reject file format {format!r}; use jsonl or csv")
+
+
+def write_text_atomic(target: Path, text: str) -> None:
+    """Write UTF-8 text to a temporary file beside ``target``, then rename it over ``target``.
+
+    A run stopped half-way leaves the old file or the new one, never a cut one.
+
+    Args:
+        target: the file to create or replace (its folder must exist).
+        text: the content.
+    """
+    handle, temporary = tempfile.mkstemp(
+        dir=target.parent, prefix=f".{target.name}.", suffix=".tmp"
+    )
+    try:
+        with os.fdopen(handle, "w", encoding="utf-8", newline="\n") as out:
+            out.write(text)
+        os.replace(temporary, target)
+    except BaseException:
+        with contextlib.suppress(OSError):
+            os.unlink(temporary)
+        raise

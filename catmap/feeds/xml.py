@@ -89,15 +89,49 @@ def check_prolog(text: str, path: str | Path, complete: bool) -> None:
 
 
 def _doctype_end(text: str, start: int) -> int:
-    """Index just after the DOCTYPE's closing '>', or -1 if it does not end in ``text``."""
-    bracket = text.find("[", start)
-    close = text.find(">", start)
-    if bracket != -1 and (close == -1 or bracket < close):
-        subset_end = text.find("]", bracket)
-        if subset_end == -1:
-            return -1
-        close = text.find(">", subset_end)
-    return -1 if close == -1 else close + 1
+    """Index just after the DOCTYPE's closing '>', or -1 if it does not end in ``text``.
+
+    Quoted literals are skipped, inside the internal subset and out: a default value such as
+    ``"]>"`` in an ATTLIST declaration must not end the DTD early and hide what follows it.
+    """
+    index = start
+    in_subset = False
+    length = len(text)
+    while index < length:
+        char = text[index]
+        if char in "\"'":
+            close = text.find(char, index + 1)
+            if close == -1:
+                return -1
+            index = close + 1
+            continue
+        if char == "[" and not in_subset:
+            in_subset = True
+        elif char == "]" and in_subset:
+            in_subset = False
+        elif char == ">" and not in_subset:
+            return index + 1
+        index += 1
+    return -1
+
+
+def lxml_encoding(name: str | None) -> str | None:
+    """Spell a Python codec name the way libxml2 knows it ("utf-16-le" -> "UTF-16LE")."""
+    if name is None:
+        return None
+    upper = name.upper().replace("_", "-")
+    for family in ("UTF-16-", "UTF-32-"):
+        if upper.startswith(family):
+            return family[:-1] + upper[len(family) :]
+    return upper
+
+
+def _unknown_encoding(exc: LookupError, path: str | Path, encoding: str | None) -> FeedFormatError:
+    return FeedFormatError(
+        f"the XML reader does not know the encoding {encoding!r}: {exc}",
+        path=path,
+        hint="use --encoding utf-8, utf-16 or the encoding the file declares",
+    )
 
 
 def _qname(element: Any) -> str:
@@ -156,7 +190,10 @@ def scan(
     stream, _ = open_binary(path)
     try:
         events = etree.iterparse(
-            stream, events=("start-ns", "start", "end"), encoding=encoding, **_PARSER_OPTIONS
+            stream,
+            events=("start-ns", "start", "end"),
+            encoding=lxml_encoding(encoding),
+            **_PARSER_OPTIONS,
         )
         for event, item in events:
             if event == "start-ns":
@@ -175,6 +212,8 @@ def scan(
                     break
     except etree.XMLSyntaxError as exc:
         error = _syntax_error(exc, path, 0)
+    except LookupError as exc:
+        raise _unknown_encoding(exc, path, encoding) from exc
     finally:
         stream.close()
     return counts, parents, namespaces, error
@@ -273,7 +312,7 @@ def iter_xml(
             stream,
             events=("end",),
             tag=("{*}" + local, local),
-            encoding=encoding,
+            encoding=lxml_encoding(encoding),
             **_PARSER_OPTIONS,
         )
         # Records share their parent: its path is checked once per parent, not per record.
@@ -306,5 +345,7 @@ def iter_xml(
                     del parent[0]
     except etree.XMLSyntaxError as exc:
         raise _syntax_error(exc, path, read) from exc
+    except LookupError as exc:
+        raise _unknown_encoding(exc, path, encoding) from exc
     finally:
         stream.close()
