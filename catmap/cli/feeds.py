@@ -229,6 +229,13 @@ def _render_normalize(facts: dict[str, Any], paths: OutputPaths) -> None:
         for reason, count in facts["by_reason"].items():
             table.add_row(reason, f"{count:,}")
         console.print(table)
+    if facts.get("by_flag"):
+        table = Table(title="Kept but flagged")
+        table.add_column("flag")
+        table.add_column("products", justify="right")
+        for flag, count in facts["by_flag"].items():
+            table.add_row(flag, f"{count:,}")
+        console.print(table)
     if facts["duplicate_id_count"]:
         shown = list(facts["duplicate_ids"].items())[:DUPLICATES_SHOWN]
         listed = ", ".join(
@@ -244,6 +251,7 @@ def _render_normalize(facts: dict[str, Any], paths: OutputPaths) -> None:
         console.print(
             f"[bold red]Reading stopped early:[/bold red] {escape(facts['stopped_early'])}"
         )
+    _render_warnings(facts)
     status = {
         "saved": "suggested and saved",
         "existing": "saved",
@@ -253,6 +261,14 @@ def _render_normalize(facts: dict[str, Any], paths: OutputPaths) -> None:
     console.print(f"Products:   {escape(str(paths.products))}")
     console.print(f"Rejects:    {escape(str(paths.rejects))}")
     console.print(f"Accounting: {escape(str(paths.accounting))}")
+
+
+def _render_warnings(facts: dict[str, Any]) -> None:
+    language = facts.get("language") or {}
+    if language.get("name"):
+        console.print(f"Language:   {language['name']} ({language['share']:.0%} of marker words)")
+    for warning in facts.get("warnings", []):
+        console.print(f"[bold yellow]Warning:[/bold yellow] {escape(warning)}")
 
 
 def register(main: click.Group) -> None:
