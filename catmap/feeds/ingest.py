@@ -596,8 +596,9 @@ def iter_products(
                 if first_line == _NOT_FOUND:
                     recent[key] = record.line
                     accounting.kept += 1
-                    if result.flags:
-                        accounting.count_flags(result.flags)
+                    flags = result.flags  # type: ignore[union-attr]  # a Product here
+                    if flags:
+                        accounting.count_flags(flags)
                     yield result
                     continue
             product_id = result.product_id

@@ -762,13 +762,18 @@ def normalize_gender_text(value: str) -> str:
         "unknown" when no word is recognised or two ages are named.
     """
     words = [word for word in _WORD_SPLIT_RE.split(_plain(value)) if word]
-    found = {_GENDER_WORDS.get(word) for word in words}
-    if not words or None in found:
+    found: set[str] = set()
+    for word in words:
+        known = _GENDER_WORDS.get(word)
+        if known is None:
+            return "unknown"
+        found.add(known)
+    if not found:
         return "unknown"
     if found <= {"female", "male", "unisex"}:
         return found.pop() if len(found) == 1 else "unisex"
     if len(found) == 1:
-        return found.pop()  # type: ignore[return-value]
+        return found.pop()
     return "kids" if found <= {"girls", "boys", "kids"} else "unknown"
 
 
