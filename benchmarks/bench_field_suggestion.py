@@ -29,7 +29,6 @@ from _feed_layouts import FIELDS, REQUIRED, Layout, write_layouts  # noqa: E402
 from catmap.feeds import open_feed  # noqa: E402
 from catmap.feeds.fieldmap import suggest_profile  # noqa: E402
 
-
 Wrong = tuple[str, str, str | None, str | None]
 
 

@@ -165,7 +165,9 @@ _ADJECTIVES = {
     "nl": ("warme", "lichte", "klassieke", "kleine", "grote", "waterdichte"),
     "pt": ("quente", "leve", "clássico", "pequeno", "grande", "impermeável"),
 }
-_WITH = {"en": "with", "fr": "avec", "de": "mit", "es": "con", "it": "con", "nl": "met", "pt": "com"}
+_WITH = {
+    "en": "with", "fr": "avec", "de": "mit", "es": "con", "it": "con", "nl": "met", "pt": "com",
+}  # fmt: skip
 _EXTRAS = {
     "en": ("hood", "zip", "lid", "strap"),
     "fr": ("capuche", "zip", "couvercle", "sangle"),
@@ -218,7 +220,7 @@ _SENTENCE = {
     "es": "Una {noun} {adj} para todos los días, hecha para durar. Fácil de cuidar.",
     "it": "Una {noun} {adj} per tutti i giorni, fatta per durare. Facile da curare.",
     "nl": "Een {adj} {noun} voor elke dag, gemaakt om lang mee te gaan. Makkelijk schoon.",
-    "pt": "Um(a) {noun} {adj} para todos os dias, feito para durar. Fácil de cuidar.",
+    "pt": "Um(a) {noun} {adj} para todos os dias, feito para durar. Fácil de tratar.",
 }
 _BRANDS = ("Velloro", "Quillo", "Tamsel", "Corvane", "Brindle & Oak", "Nessa", "Orvik")
 _SIZES = ("S", "M", "L", "XL", "38", "40", "42", "one size")

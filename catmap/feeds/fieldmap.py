@@ -13,6 +13,7 @@ by hand; :func:`load_profile` reads it back and reports a bad line with :class:`
 from __future__ import annotations
 
 import dataclasses
+import functools
 import re
 import tomllib
 import unicodedata
@@ -62,6 +63,8 @@ HEADER_THRESHOLD = 82
 # A header word that is a one-word synonym ("price_eur") scores this much.
 WORD_SCORE = 86.0
 NESTED_FACTOR = 0.95
+# How readers join the values of a repeated element or a list.
+_JOIN = " | "
 SAMPLES_KEPT = 3
 
 
@@ -75,6 +78,8 @@ class FieldSuggestion:
         confidence: 0..1.
         evidence: short human text, e.g. "header 'prix' ~ price (96); 100% price-like values".
         samples: up to three distinct non-empty values of the column.
+        against: what speaks against the choice: columns whose values vetoed their header
+            ("'EAN': 0% valid GTIN check digits"), and the next best column, if any.
     """
 
     field: str
@@ -82,6 +87,7 @@ class FieldSuggestion:
     confidence: float
     evidence: str
     samples: list[str] = dataclasses.field(default_factory=list)
+    against: list[str] = dataclasses.field(default_factory=list)
 
 
 @dataclass
@@ -116,9 +122,14 @@ class FeedProfile:
 # Header names
 
 # Normalised header names (lower case, no accents, words separated by one space) per field.
-# Common practice, no source: words seen in shop exports in English, French, German, Spanish.
+# Common practice, no source: words seen in shop exports in English, French, German, Spanish,
+# Italian, Dutch and Portuguese, with their common abbreviations.
 _SYNONYMS: dict[str, tuple[str, ...]] = {
     "product_id": (
+        "codice", "codice articolo", "cod art", "id prodotto", "rif", "riferimento",
+        "codice prodotto", "artikelnr", "artikel nummer", "product id", "referentie",
+        "productnummer", "referencia", "codigo artigo", "cod artigo", "id produto",
+        "ref produto", "cod articulo", "item no", "item nr", "art no", "sku id", "mpn",
         "id", "product id", "item id", "article id", "sku", "article number", "item number",
         "product number", "product code", "item code", "reference", "ref", "offer id",
         "id produit", "identifiant", "reference produit", "ref produit", "code article",
@@ -127,6 +138,8 @@ _SYNONYMS: dict[str, tuple[str, ...]] = {
         "codigo", "codigo producto", "codigo articulo", "numero de articulo",
     ),
     "title": (
+        "nome", "titolo", "nome prodotto", "denominazione", "productnaam", "naam", "titel",
+        "omschrijving kort", "nome do produto", "designacao", "denominacion", "item title",
         "title", "name", "product name", "product title", "item name", "item title",
         "titre", "nom", "nom produit", "nom du produit", "libelle", "designation",
         "titel", "name des produkts", "produktname", "produkt name", "artikelname",
@@ -134,60 +147,80 @@ _SYNONYMS: dict[str, tuple[str, ...]] = {
         "nombre del producto", "titulo producto",
     ),
     "description": (
+        "descrizione", "descrizione lunga", "descr", "beschrijving", "omschrijving",
+        "productomschrijving", "descricao", "descricao longa", "desc longue",
         "description", "desc", "long description", "product description", "details",
         "description produit", "descriptif", "description longue", "beschreibung",
         "produktbeschreibung", "artikelbeschreibung", "langtext", "descripcion",
         "descripcion producto", "descripcion larga", "body", "text",
     ),
     "brand": (
+        "marchio", "produttore", "merk", "fabrikant", "marca", "mrk",
         "brand", "brand name", "manufacturer", "maker", "make", "label", "marque", "fabricant",
         "marke", "hersteller", "markenname", "marca", "fabricante",
     ),
     "category_path": (
+        "percorso categoria", "reparto", "categorie", "productcategorie", "rubriek",
+        "caminho da categoria", "seccao", "ruta de categoria", "fil d ariane", "arborescence",
+        "cat", "dept", "product type", "tipo prodotto", "categoria prodotto",
         "category", "categories", "category path", "product category", "breadcrumb",
         "breadcrumbs", "department", "categorie", "categories produit", "rayon", "chemin",
         "kategorie", "kategorien", "warengruppe", "produktkategorie", "kategoriepfad",
         "categoria", "categorias", "ruta categoria", "seccion", "shop category",
     ),
     "price": (
+        "prezzo", "prezzo di vendita", "prz", "importo", "prijs", "verkoopprijs",
+        "prijs incl btw", "preco", "preco de venda", "valor", "pvp",
         "price", "sale price", "current price", "unit price", "amount", "cost", "prix",
         "prix ttc", "prix de vente", "tarif", "montant", "preis", "verkaufspreis", "vk preis",
         "bruttopreis", "precio", "precio venta", "importe", "pvp",
     ),
     "currency": (
+        "valuta", "munteenheid", "moeda", "whg", "currency iso",
         "currency", "currency code", "curr", "devise", "monnaie", "wahrung", "waehrung",
         "moneda", "divisa",
     ),
     "gtin": (
+        "codice a barre", "ean code", "streepjescode", "codigo de barras", "gencod",
+        "ean 8", "gtin 13", "gtin 8", "gtin 12",
         "gtin", "ean", "ean13", "ean 13", "ean8", "upc", "upc a", "barcode", "bar code",
         "gtin13", "gtin14", "gtin 14", "isbn", "code barre", "code barres", "code ean",
         "strichcode", "barcode nummer", "ean code", "ean nummer", "codigo de barras",
         "codigo barras", "codigo ean",
     ),
     "gender_text": (
+        "sesso", "genere", "geslacht", "doelgroep", "genero", "gender target",
         "gender", "sex", "target gender", "audience", "genre", "sexe", "geschlecht",
         "zielgruppe", "sexo", "genero",
     ),
     "colour": (
+        "colore", "kleur", "cor", "cores", "col", "kl", "farbe", "colour family",
         "colour", "color", "colour name", "color name", "couleur", "coloris", "farbe",
         "farbton", "colores",
     ),
     "size": (
+        "taglia", "misura", "maat", "afmeting", "tamanho", "tam", "sz", "gr",
         "size", "sizes", "taille", "tailles", "pointure", "grosse", "groesse", "konfektionsgrosse",
         "talla", "tallas", "tamano", "medida",
     ),
     "url": (
+        "collegamento", "url prodotto", "productlink", "product url", "url do produto",
+        "ligacao", "link prodotto",
         "url", "link", "product url", "product link", "page url", "deeplink", "deep link",
         "lien", "lien produit", "url produit", "produkt url", "produktlink", "artikel url",
         "enlace", "url producto", "enlace producto",
     ),
     "image_url": (
+        "immagine", "url immagine", "afbeelding", "afbeelding url", "imagem", "url da imagem",
+        "image src", "img src",
         "image", "image url", "image link", "picture", "picture url", "photo", "img",
         "img url", "main image", "thumbnail", "url image", "lien image", "image produit",
         "bild", "bild url", "bildlink", "produktbild", "bild link", "imagen", "url imagen",
         "foto", "enlace imagen",
     ),
     "availability": (
+        "disponibilita", "disp", "stato magazzino", "beschikbaarheid", "voorraadstatus",
+        "levertijd status", "disponibilidade", "estoque", "voorraad", "giacenza",
         "availability", "available", "stock", "stock status", "in stock", "inventory",
         "stock level", "quantity", "qty", "disponibilite", "dispo", "etat du stock",
         "verfugbarkeit", "lagerbestand", "lagerstatus", "bestand", "lieferstatus",
@@ -227,11 +260,8 @@ _SYNONYM_INDEX: dict[str, str] = {
 }
 
 
-def _header_scores(column: str) -> dict[str, tuple[float, str]]:
-    """Best rapidfuzz score (0..100) of a column name per field, with the synonym it matched."""
-    header = normalize_header(column)
-    # A nested name ("shipping.price") is less likely the record's own field than a plain one.
-    nested = "." in column.strip(".").replace(".@", "@")
+def _name_scores(header: str) -> dict[str, tuple[float, str]]:
+    """Best rapidfuzz score (0..100) of one normalised name per field, with the synonym matched."""
     scores: dict[str, tuple[float, str]] = {}
     if not header:
         return scores
@@ -249,11 +279,71 @@ def _header_scores(column: str) -> dict[str, tuple[float, str]]:
             )
             if " " not in synonym and synonym in header.split():
                 score = max(score, WORD_SCORE)  # "price eur", "old price": a word is the name
-        if nested:
-            score *= NESTED_FACTOR
         if score >= HEADER_THRESHOLD and score > scores.get(name, (0.0, ""))[0]:
             scores[name] = (score, synonym)
     return scores
+
+
+# A nested key that only names its parent's value ("brand.name", "images.url"), its parent's
+# own identifier ("brand.id": the brand's id, not the product's), or the order of repeated
+# elements ("crumb.@level"). Common practice, no source; seven languages.
+_VALUE_KEYS = frozenset(
+    "name nom nome naam nombre label value valor valore wert waarde text texte testo tekst "
+    "url link href src uri".split()
+)
+_ID_KEYS = frozenset(
+    "id code ref key sku codigo codice nummer nr number numero nummer identifier uid".split()
+)
+_LEVEL_KEYS = frozenset(
+    "level niveau ebene nivel livello depth tiefe profondeur profundidad profondita diepte "
+    "profundidade order position pos rank index".split()
+)
+
+
+def _split_nested(column: str) -> tuple[str, str]:
+    """(parent's last name, own name), normalised; the parent is "" for a top-level column."""
+    text = column.strip()
+    parts = [part for part in re.split(r"\.(?=@)|\.", text) if part]
+    if len(parts) < 2:
+        return "", normalize_header(text)
+    return normalize_header(parts[-2]), normalize_header(parts[-1])
+
+
+def _is_parent_id(column: str) -> bool:
+    """True for an id key under a parent that names another field ("brand.id", "marca.codigo")."""
+    parent, own = _split_nested(column)
+    if not parent or own not in _ID_KEYS:
+        return False
+    by_parent = _name_scores(parent)
+    return bool(by_parent) and max(by_parent, key=lambda n: by_parent[n][0]) != "product_id"
+
+
+@functools.lru_cache(maxsize=4096)
+def _header_scores(column: str) -> dict[str, tuple[float, str]]:
+    """Best header score (0..100) of a column per field, with the reason.
+
+    A nested name is read with its parent: under a parent that names a field, a value key
+    ("brand.name", "images.url") is that field, and an id key ("brand.id") is nothing (the
+    parent's own id); under a neutral parent ("info.nome") the key stands for itself, a little
+    less sure than the same name at the top level.
+    """
+    parent, own = _split_nested(column)
+    if not parent:
+        return _name_scores(own)
+    if own in _LEVEL_KEYS:
+        return {}
+    by_parent = _name_scores(parent)
+    parent_field = max(by_parent, key=lambda name: by_parent[name][0]) if by_parent else None
+    if parent_field is not None and parent_field != "product_id":
+        score, synonym = by_parent[parent_field]
+        if own in _VALUE_KEYS:
+            if parent_field == "url" and own in ("url", "link", "href", "src", "uri"):
+                return {"url": (score * NESTED_FACTOR, f"{synonym}.{own}")}
+            return {parent_field: (score * NESTED_FACTOR, f"{synonym}.{own}")}
+        if own in _ID_KEYS:
+            return {}
+    scores = _name_scores(own)
+    return {name: (score * NESTED_FACTOR, synonym) for name, (score, synonym) in scores.items()}
 
 
 # ---------------------------------------------------------------------------------------------
@@ -317,6 +407,9 @@ def _value_scores(values: list[str]) -> dict[str, tuple[float, str]]:
         if share > 0:
             scores[name] = (share * weight, evidence)
 
+    # A list of links read as one field ("https://a.jpg | https://b.jpg"): its first link.
+    values = [value.split(_JOIN, 1)[0] if _JOIN in value and "//" in value else value
+              for value in values]  # fmt: skip
     urls = [value for value in values if _URL_RE.match(value)]
     if urls:
         images = _share(urls, _IMAGE_URL_RE.search) * len(urls) / total
@@ -394,6 +487,46 @@ def _value_scores(values: list[str]) -> dict[str, tuple[float, str]]:
 # Suggestion
 
 
+_LETTER_RE = re.compile(r"[^\W\d_]")
+
+
+def _value_veto(name: str, values: list[str], by_value: dict[str, tuple[float, str]]) -> str:
+    """Why a column's values rule it out for a field whatever its header says ("" if nothing).
+
+    The header says what the sender meant; the values say what the column holds. A column of
+    letter-and-digit codes named "ean" is the product id, a "level" attribute holds numbers
+    and no category names, an "id" that repeats is nobody's product id.
+    """
+    if len(values) < 3:
+        return ""
+    share = by_value.get(name, (0.0, ""))[0] / 100
+    if name == "gtin" and share < 0.5:
+        return f"only {share:.0%} valid GTIN check digits (GS1)"
+    if name == "category_path":
+        named = _share(
+            values, lambda value: all(_LETTER_RE.search(level)
+                                      for level in split_category_path(value) or (value,))
+        )  # fmt: skip
+        if named < 0.5:
+            return f"only {named:.0%} of the values have textual levels (numbers are no path)"
+    if name in ("url", "image_url"):
+        links = _share(values, lambda value: bool(_URL_RE.match(value.split(_JOIN, 1)[0])))
+        if links < 0.5:
+            return f"only {links:.0%} of the values are links"
+    if name == "price":
+        prices = _share(values, lambda value: parse_price(value)[0] is not None)
+        if prices < 0.3:
+            return f"only {prices:.0%} of the values are amounts"
+    distinct = len(set(values)) / len(values)
+    if name == "product_id" and len(values) >= 10 and distinct < 0.9:
+        return f"values repeat ({distinct:.0%} distinct), an id is unique"
+    if name == "size" and len(values) >= 20 and distinct > 0.9:
+        return f"values are all different ({distinct:.0%} distinct), not sizes"
+    if name == "title" and _share(values, lambda value: not _LETTER_RE.search(value)) > 0.5:
+        return "the values hold no letters"
+    return ""
+
+
 def _combine(header: float, values: float) -> float:
     """One confidence (0..1) from a header score and a value score (both 0..100).
 
@@ -442,7 +575,10 @@ def suggest_profile(info: FeedInfo, sample: Sequence[SourceRecord]) -> FeedProfi
                 columns.append(name)
     values = {column: _column_values(sample, column) for column in columns}
     candidates: list[tuple[float, int, str, str, str]] = []
+    against: dict[str, list[str]] = {name: [] for name in TARGET_FIELDS}
     for position, column in enumerate(columns):
+        if _is_parent_id(column):
+            continue  # "brand.id": the brand's own id, no field of the product
         by_header = _header_scores(column)
         by_value = _value_scores(values[column])
         for name in TARGET_FIELDS:
@@ -450,6 +586,13 @@ def suggest_profile(info: FeedInfo, sample: Sequence[SourceRecord]) -> FeedProfi
             value_score, value_evidence = by_value.get(name, (0.0, ""))
             confidence = _combine(header_score, value_score)
             if confidence <= 0:
+                continue
+            veto = _value_veto(name, values[column], by_value)
+            if veto:
+                if header_score:
+                    against[name].append(
+                        f"header '{column}' ~ {synonym} ({header_score:.0f}), but {veto}"
+                    )
                 continue
             clues = []
             if header_score:
@@ -469,9 +612,16 @@ def suggest_profile(info: FeedInfo, sample: Sequence[SourceRecord]) -> FeedProfi
             best_rejected.setdefault(name, (confidence, column))
             continue
         chosen[name] = FieldSuggestion(
-            name, column, round(confidence, 3), evidence, _samples(values[column])
-        )
+            name, column, round(confidence, 3), evidence, _samples(values[column]),
+            against[name],
+        )  # fmt: skip
         used.add(column)
+    for confidence, _, name, column, _evidence in candidates:
+        suggestion = chosen.get(name)
+        if suggestion is not None and column != suggestion.column and not any(
+            text.startswith("next best") for text in suggestion.against
+        ):
+            suggestion.against.append(f"next best '{column}' ({confidence:.2f})")
 
     price = chosen.get("price")
     if "currency" not in chosen and price is not None:
@@ -498,9 +648,12 @@ def suggest_profile(info: FeedInfo, sample: Sequence[SourceRecord]) -> FeedProfi
             suggestions.append(FieldSuggestion(
                 name, None, 0.0,
                 f"no column fits; best was '{column}' ({confidence:.2f}, below {MIN_CONFIDENCE})",
+                [], against[name],
             ))  # fmt: skip
         else:
-            suggestions.append(FieldSuggestion(name, None, 0.0, "no column fits"))
+            suggestions.append(
+                FieldSuggestion(name, None, 0.0, "no column fits", [], against[name])
+            )
     mapped = {s.field: s.column for s in suggestions if s.column is not None}
     return FeedProfile(
         columns=mapped,
