@@ -90,15 +90,19 @@ def _render_inspect(facts: dict[str, Any]) -> None:
         console.print(f"  records      {escape(str(facts['record_path']))}")
 
     table = Table(title="Suggested mapping" if facts["profile_status"] == "saved" else "Mapping")
-    for header in ("field", "source column", "confidence", "evidence", "sample values"):
+    for header in ("field", "source column", "confidence", "evidence for", "evidence against",
+                   "sample values"):  # fmt: skip
         table.add_column(header)
     for row in facts["mapping"]:
+        if not row["column"] and not row["against"]:
+            continue  # nothing fits and nothing was ruled out: listed under "Not found"
         confidence = "-" if row["confidence"] is None else f"{row['confidence']:.2f}"
         table.add_row(
             row["field"],
-            escape(row["column"]),
+            escape(row["column"] or "(none)"),
             confidence,
-            escape(row["evidence"]),
+            escape(row["evidence"]) if row["column"] else "",
+            escape("; ".join(row["against"])),
             escape(" | ".join(_short(v) for v in row["samples"])),
         )
     console.print(table)
@@ -111,6 +115,8 @@ def _render_inspect(facts: dict[str, Any]) -> None:
         console.print("Not found: " + ", ".join(parts))
     if facts["extras"]:
         console.print("Other columns (kept as extras): " + escape(", ".join(facts["extras"])))
+    _render_preview(facts["preview"])
+    _render_warnings(facts)
     if facts["profile_status"] == "existing":
         console.print(
             f"Using the saved profile {escape(facts['profile'])} "
@@ -121,6 +127,33 @@ def _render_inspect(facts: dict[str, Any]) -> None:
             f"Profile saved to {escape(facts['profile'])}: edit it to fix the mapping; "
             "`catmap normalize` uses it."
         )
+
+
+def _render_preview(preview: list[dict[str, Any]]) -> None:
+    if not preview:
+        console.print("No preview: the profile maps no product id or no title.")
+        return
+    table = Table(title=f"First {len(preview)} records, normalised")
+    for header in ("line", "product id", "title", "price", "category path", "brand",
+                   "availability", "flags"):  # fmt: skip
+        table.add_column(header)
+    for item in preview:
+        if "rejected" in item:
+            table.add_row(str(item["line"]), "", f"[red]rejected: {escape(item['rejected'])}[/red]",
+                          "", "", "", "", escape(_short(item["detail"], 60)))  # fmt: skip
+            continue
+        price = f"{item['price']} {item['currency'] or ''}".strip() if item["price"] else ""
+        table.add_row(
+            str(item["source_line"]),
+            escape(item["product_id"]),
+            escape(_short(item["title"], 40)),
+            escape(price),
+            escape(" > ".join(item["category_path"])),
+            escape(item["brand"]),
+            item["availability"],
+            escape(", ".join(item["flags"])),
+        )
+    console.print(table)
 
 
 def _short(value: str, limit: int = 30) -> str:

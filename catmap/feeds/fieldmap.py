@@ -28,8 +28,10 @@ from rapidfuzz import fuzz
 from catmap.errors import ProfileError
 from catmap.feeds.normalize import (
     clean_line,
+    is_colour_value,
     normalize_availability,
     normalize_currency,
+    normalize_gender_text,
     normalize_gtin,
     parse_price,
     split_category_path,
@@ -437,12 +439,18 @@ def _value_scores(values: list[str]) -> dict[str, tuple[float, str]]:
     path_share = _share(values, lambda value: len(split_category_path(value)) >= 2)
     put("category_path", path_share, f"{path_share:.0%} category paths with separators", 90)
 
-    tokens = [_plain_token(value) for value in values]
     few_distinct = distinct <= 12 and (total < 10 or unique_ratio <= 0.5)
     if few_distinct:
-        share = _share(tokens, _GENDER_TOKENS.__contains__)
+        share = _share(
+            values,
+            lambda value: _plain_token(value) in _GENDER_TOKENS
+            or normalize_gender_text(value) != "unknown",
+        )
         put("gender_text", share, f"{share:.0%} who words, {distinct} distinct values", 90)
-        colour = _share(tokens, _COLOUR_TOKENS.__contains__)
+        colour = _share(
+            values,
+            lambda value: _plain_token(value) in _COLOUR_TOKENS or is_colour_value(value),
+        )
         put("colour", colour, f"{colour:.0%} colour words", 85)
     size = _share(values, lambda value: bool(_SIZE_RE.match(value.strip())))
     if distinct <= 40:
