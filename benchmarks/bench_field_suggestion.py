@@ -2,9 +2,11 @@
 
 Writes the seeded corpus of invented feed layouts of ``tests/_feed_layouts.py`` (CSV dialects,
 XML with namespaces, attributes and repeated elements, nested JSON Lines, headers in seven
-languages) to a temporary folder, opens each feed, suggests its profile and compares it with the
-layout's expected mapping. A field counts as right when the suggested column is the expected
-one, and, for a field the layout does not have, when nothing is suggested.
+languages; from the 50th layout on, half the CSV layouts have tagged names such as "prezzo_it",
+from the 99th on, names that say nothing such as "f03") to a temporary folder, opens each
+feed, suggests its profile and compares it with the layout's expected mapping. A field counts
+as right when the suggested column is the expected one, and, for a field the layout does not
+have, when nothing is suggested.
 
 Prints one line: the share of required fields right, the share of all fields right, and the
 layouts with a wrong field (``--verbose`` lists each wrong field).
@@ -12,7 +14,7 @@ layouts with a wrong field (``--verbose`` lists each wrong field).
 Usage::
 
     python benchmarks/bench_field_suggestion.py
-    python benchmarks/bench_field_suggestion.py --layouts 98 --seed 1 --verbose
+    python benchmarks/bench_field_suggestion.py --layouts 49 --seed 1 --verbose
 """
 
 from __future__ import annotations
@@ -53,7 +55,9 @@ def score(layouts: list[Layout]) -> tuple[float, float, list[Wrong]]:
 
 def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
-    parser.add_argument("--layouts", type=int, default=49, help="How many layouts (default 49).")
+    parser.add_argument(
+        "--layouts", type=int, default=147, help="How many layouts (default 147; see the corpus)."
+    )
     parser.add_argument("--seed", type=int, default=0, help="Corpus seed (default 0).")
     parser.add_argument("--verbose", action="store_true", help="List every wrong field.")
     args = parser.parse_args()

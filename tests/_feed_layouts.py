@@ -7,7 +7,9 @@ feed file written to a folder: CSV dialects (comma, semicolon, tab, pipe, quoted
 elements with a level attribute, out of order), nested JSON Lines (a brand object with its own
 id, an ``info`` object with the title, lists of image objects), with headers in English,
 French, German, Spanish, Italian, Dutch and Portuguese, written out, abbreviated, in camelCase
-or upper case, or misleading (a column of letter-and-digit codes named like a barcode).
+or upper case, or misleading (a column of letter-and-digit codes named like a barcode); from
+the 50th layout on, half the CSV layouts carry tags in their names ("prezzo_it", "p_titre"),
+and from the 99th on, half have names that say nothing ("f01", "f02"...).
 
 All names and words are invented or plain dictionary words; no real brand or shop appears.
 """
@@ -258,6 +260,14 @@ def _gtin(rng: random.Random) -> str:
     return body + str(gs1_check_digit(body))
 
 
+# Decorations exports add around a name: a language or currency tag, a table prefix, a number.
+_DECORATIONS = ("{}_{lang}", "{} ({lang})", "p_{}", "{}_1", "{} [{lang}]", "item_{}")
+
+
+def _decorate(header: str, lang: str, rng: random.Random) -> str:
+    return rng.choice(_DECORATIONS).replace("{lang}", lang).format(header)
+
+
 def _header_style(header: str, style: str) -> str:
     words = header.replace("-", " ").replace("_", " ").split()
     if style == "snake":
@@ -334,7 +344,9 @@ def _headers(lang: str, fields: list[str], rng: random.Random, style: str) -> di
     return names
 
 
-def _csv_layout(name: str, folder: Path, lang: str, rng: random.Random) -> Layout:
+def _csv_layout(
+    name: str, folder: Path, lang: str, rng: random.Random, decorate: random.Random | None = None
+) -> Layout:
     delimiter = rng.choice((",", ";", "\t", "|"))
     quote_all = rng.random() < 0.4
     line_end = rng.choice(("\n", "\r\n"))
@@ -343,6 +355,8 @@ def _csv_layout(name: str, folder: Path, lang: str, rng: random.Random) -> Layou
     misleading = "gtin" not in fields and rng.random() < 0.5
     id_style = "letters" if misleading else rng.choice(("numeric", "prefixed", "letters"))
     headers = _headers(lang, fields, rng, style)
+    if decorate is not None:  # names that carry tags; own random stream, layouts 0-48 unchanged
+        headers = {field: _decorate(header, lang, decorate) for field, header in headers.items()}
     if misleading:  # letter-and-digit product codes in a column named like a barcode
         headers["product_id"] = _header_style(rng.choice(("ean", "gtin", "barcode")), style)
     price_style = rng.choice(("plain", "comma", "symbol", "code"))
@@ -372,12 +386,32 @@ def _csv_layout(name: str, folder: Path, lang: str, rng: random.Random) -> Layou
     return Layout(name, path, {f: headers[f] for f in fields})
 
 
+def _opaque_layout(
+    name: str, folder: Path, lang: str, rng: random.Random, decorate: random.Random | None = None
+) -> Layout:
+    """A CSV whose names say nothing ("f01", "f02"...): only the values can tell."""
+    layout = _csv_layout(name, folder, lang, rng, None)
+    text = layout.path.read_bytes().decode("utf-8")
+    header, _, rest = text.partition("\n")
+    ending = "\r\n" if header.endswith("\r") else "\n"
+    delimiter = next(d for d in (";", "\t", "|", ",") if d in header)
+    columns = header.rstrip("\r").split(delimiter)
+    opaque = {column: f"f{index:02d}" for index, column in enumerate(columns, start=1)}
+    quoted = columns[0].startswith('"')
+    names = [f'"{opaque[c]}"' if quoted else opaque[c] for c in columns]
+    layout.path.write_bytes((delimiter.join(names) + ending + rest).encode("utf-8"))
+    plain = {c.strip('"'): opaque[c] for c in columns}
+    return Layout(name, layout.path, {f: plain[c] for f, c in layout.expected.items()})
+
+
 def _xml_name(header: str) -> str:
     words = "".join(ch if ch.isalnum() else " " for ch in header).split()
     return words[0].lower() + "".join(w.capitalize() for w in words[1:]) if words else "x"
 
 
-def _xml_layout(name: str, folder: Path, lang: str, rng: random.Random) -> Layout:
+def _xml_layout(
+    name: str, folder: Path, lang: str, rng: random.Random, decorate: random.Random | None = None
+) -> Layout:
     fields = _choose_fields(rng)
     headers = {f: _xml_name(h) for f, h in _headers(lang, fields, rng, "plain").items()}
     prefix = rng.choice(("", "", "g"))
@@ -439,7 +473,9 @@ def _xml_layout(name: str, folder: Path, lang: str, rng: random.Random) -> Layou
     return Layout(name, path, expected)
 
 
-def _jsonl_layout(name: str, folder: Path, lang: str, rng: random.Random) -> Layout:
+def _jsonl_layout(
+    name: str, folder: Path, lang: str, rng: random.Random, decorate: random.Random | None = None
+) -> Layout:
     fields = _choose_fields(rng)
     headers = {f: _xml_name(h) for f, h in _headers(lang, fields, rng, "plain").items()}
     info_key = {"en": "info", "fr": "infos", "de": "info", "es": "datos", "it": "info",
@@ -494,7 +530,9 @@ def write_layouts(folder: Path, count: int = 49, seed: int = 0) -> list[Layout]:
 
     Args:
         folder: where the feed files go.
-        count: how many layouts (49 = 7 languages x 7 variants).
+        count: how many layouts (49 = 7 languages x 7 variants; from the 50th on, half the
+            CSV layouts have tagged column names: "prezzo_it", "p_titre", "Preis (de)"; from the
+            99th on, half have names that say nothing).
         seed: the random seed.
 
     Returns:
@@ -508,5 +546,9 @@ def write_layouts(folder: Path, count: int = 49, seed: int = 0) -> list[Layout]:
         lang = LANGUAGES[number % len(LANGUAGES)]
         maker = makers[(number // len(LANGUAGES)) % len(makers)]
         kind = maker.__name__.strip("_").split("_")[0]
-        layouts.append(maker(f"{number:02d}-{lang}-{kind}", folder, lang, rng))
+        # From the 50th layout on, every second CSV layout has tagged names ("prezzo_it").
+        decorate = random.Random(seed * 100_003 + number) if number >= 49 and number % 2 else None
+        if number >= 98 and number % 2:  # from the 99th on, names that say nothing
+            maker, kind = _opaque_layout, "opaque"
+        layouts.append(maker(f"{number:02d}-{lang}-{kind}", folder, lang, rng, decorate))
     return layouts

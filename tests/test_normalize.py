@@ -452,6 +452,7 @@ def test_normalize_gender_text(raw: str, expected: str) -> None:
     [
         ("black", True), ("Bleu marine", True), ("Dunkelblau", True), ("azul claro", True),
         ("nero", True), ("zwart", True), ("vermelho escuro", True), ("navy/white", True),
+        ("donkerblauw", True),
         ("", False), ("xyzzy", False), ("dark", False), ("Lantern", False),
     ],
 )  # fmt: skip

@@ -535,6 +535,31 @@ def _value_veto(name: str, values: list[str], by_value: dict[str, tuple[float, s
     return ""
 
 
+def _brand_in_titles(
+    sample: Sequence[SourceRecord], column: str, by_value: dict[str, tuple[float, str]]
+) -> None:
+    """Raise a brand candidate whose values are named in the same records' longer texts.
+
+    Titles often begin with the brand ("Velloro field jacket"): a short repeated value that
+    reappears in the record's own title is a brand much more surely than by its shape alone.
+    """
+    seen = named = 0
+    for record in sample:
+        value = record.fields.get(column, "").strip().casefold()
+        if len(value) < 2:
+            continue
+        seen += 1
+        if any(
+            other != column and len(text) > len(value) + 5 and value in text.casefold()
+            for other, text in record.fields.items()
+        ):
+            named += 1
+    if seen and named / seen >= 0.5:
+        share = named / seen
+        score = max(by_value["brand"][0], 85 * share)
+        by_value["brand"] = (score, f"{share:.0%} named in the same record's longer text")
+
+
 def _combine(header: float, values: float) -> float:
     """One confidence (0..1) from a header score and a value score (both 0..100).
 
@@ -589,6 +614,8 @@ def suggest_profile(info: FeedInfo, sample: Sequence[SourceRecord]) -> FeedProfi
             continue  # "brand.id": the brand's own id, no field of the product
         by_header = _header_scores(column)
         by_value = _value_scores(values[column])
+        if "brand" in by_value:
+            _brand_in_titles(sample, column, by_value)
         for name in TARGET_FIELDS:
             header_score, synonym = by_header.get(name, (0.0, ""))
             value_score, value_evidence = by_value.get(name, (0.0, ""))

@@ -796,13 +796,16 @@ _SHADE_WORDS = frozenset(
     "marino mat matte".split()
 )
 
+# Shades written as one word with the colour in German and Dutch ("Dunkelblau", "donkerblauw").
+_COMPOUND_SHADES = ("dunkel", "hell", "donker", "licht")
+
 
 @lru_cache(maxsize=4096)
 def is_colour_value(value: str) -> bool:
     """Tell whether a colour field names colours catmap knows (seven languages, with shades).
 
     Compound names count ("Dunkelblau", "navy/white"): every word must be a colour or a shade,
-    and one at least a colour; a German compound is read as shade + colour.
+    and one at least a colour; a German or Dutch compound is read as shade + colour.
 
     Args:
         value: the raw colour text.
@@ -822,7 +825,7 @@ def is_colour_value(value: str) -> bool:
         if word in _SHADE_WORDS:
             continue
         compound = next(
-            (word[len(shade) :] for shade in ("dunkel", "hell") if word.startswith(shade)), ""
+            (word[len(shade) :] for shade in _COMPOUND_SHADES if word.startswith(shade)), ""
         )
         if compound in _COLOUR_WORDS:
             seen_colour = True
