@@ -423,3 +423,28 @@ def test_chosen_field_names_the_next_best_column() -> None:
     price = next(s for s in profile.suggestions if s.field == "price")
     assert price.column == "price"
     assert any(text.startswith("next best 'old_price'") for text in price.against)
+
+
+def test_xml_element_text_wins_over_its_attributes(tmp_path: Path) -> None:
+    from catmap.feeds import open_feed
+
+    brands = ["Velloro", "Quillo", "Tamsel"]
+    records = "".join(
+        f'<product><id>A{i}</id><name>Kettle classic {i}</name>'
+        f'<brand id="{800 + i % 3}">{brands[i % 3]}</brand>'
+        f'<price currency="EUR">{10 + i}.90</price>'
+        f'<breadcrumb level="2">Kitchen</breadcrumb><breadcrumb level="1">Home</breadcrumb>'
+        "</product>"
+        for i in range(12)
+    )
+    path = tmp_path / "attributes.xml"
+    path.write_text(f"<catalog>{records}</catalog>", encoding="utf-8")
+    feed = open_feed(path)
+    sample = feed.sample()
+    assert sample[0].fields["breadcrumb"] == "Home | Kitchen"
+    profile = suggest_profile(feed.info, sample)
+    assert profile.columns["brand"] == "brand"
+    assert profile.columns["price"] == "price"
+    assert profile.columns["currency"] == "price.@currency"
+    assert profile.columns["category_path"] == "breadcrumb"
+    assert not {"brand.@id", "breadcrumb.@level"} & set(profile.columns.values())
