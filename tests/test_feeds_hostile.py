@@ -137,3 +137,9 @@ def test_profile_is_written_atomically(tmp_path: Path) -> None:
     assert [p.name for p in target.parent.iterdir()] == ["shop.toml"]
     loaded = load_profile(target)
     assert loaded.columns == {"product_id": "id", "title": "ti\x01tle"}
+
+
+def test_bad_utf16_code_unit_says_the_file_is_damaged() -> None:
+    rejects = [r for r in open_feed(BAD / "bad_code_unit_utf16.csv") if isinstance(r, Reject)]
+    assert [r.reason for r in rejects] == ["bad_encoding"]
+    assert "damaged" in rejects[0].detail and "cp1252" not in rejects[0].detail

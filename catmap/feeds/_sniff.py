@@ -304,3 +304,13 @@ def detect_format(text: str) -> str:
 def suggest_other_encoding(encoding: str) -> str:
     """Name the encoding to try with --encoding when ``encoding`` failed on some bytes."""
     return "cp1252" if encoding.startswith("utf") else "utf-8"
+
+
+def bad_bytes_detail(encoding: str) -> str:
+    """The reject detail for a record with bytes that ``encoding`` cannot decode.
+
+    In UTF-16 or UTF-32 such bytes are a damaged code unit, not a sign of another encoding.
+    """
+    if encoding.startswith(("utf-16", "utf-32")):
+        return f"a code unit that is not valid {encoding}: the file is damaged at this record"
+    return f"bytes that are not valid {encoding}; try --encoding {suggest_other_encoding(encoding)}"

@@ -205,7 +205,7 @@ def iter_delimited(
         FeedFormatError: an unterminated quote, or a field larger than the limit.
     """
     width = len(columns)
-    other = _sniff.suggest_other_encoding(encoding)
+    bad_bytes = _sniff.bad_bytes_detail(encoding)
     escapes = _sniff.ESCAPES
     seen = escapes.produced
     pending = 0
@@ -267,7 +267,7 @@ def iter_delimited(
                     excerpt = _sniff.SURROGATES.sub("\ufffd", _excerpt(row, delimiter))
                     yield Reject(
                         "bad_encoding",
-                        f"bytes that are not valid {encoding}; try --encoding {other}",
+                        bad_bytes,
                         start,
                         f"line {start}",
                         excerpt,

@@ -57,7 +57,7 @@ def iter_jsonl(path: str | Path, *, encoding: str) -> Iterator[SourceRecord | Re
         Records, or rejects "unparseable_record" (not JSON, or not an object) and
         "bad_encoding".
     """
-    other = _sniff.suggest_other_encoding(encoding)
+    bad_bytes = _sniff.bad_bytes_detail(encoding)
     stream, _ = open_binary(path)
     with io.TextIOWrapper(
         stream, encoding=encoding, errors=_sniff.ERROR_HANDLER, newline="\n"
@@ -71,7 +71,7 @@ def iter_jsonl(path: str | Path, *, encoding: str) -> Iterator[SourceRecord | Re
             if _sniff.SURROGATES.search(line):
                 yield Reject(
                     "bad_encoding",
-                    f"bytes that are not valid {encoding}; try --encoding {other}",
+                    bad_bytes,
                     number,
                     location,
                     _sniff.SURROGATES.sub("\ufffd", excerpt),
