@@ -23,7 +23,8 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
-from rapidfuzz import fuzz
+import numpy as np
+from rapidfuzz import fuzz, process
 
 from catmap.errors import ProfileError
 from catmap.feeds.normalize import (
@@ -262,26 +263,49 @@ _SYNONYM_INDEX: dict[str, str] = {
 }
 
 
+# The synonyms as parallel arrays, for rapidfuzz's vectorised comparison (one C call per scorer
+# instead of a Python loop over every synonym).
+_SYNONYM_LIST: tuple[str, ...] = tuple(_SYNONYM_INDEX)
+_SYNONYM_COMPACT: tuple[str, ...] = tuple(s.replace(" ", "") for s in _SYNONYM_LIST)
+_SYNONYM_POSITION: dict[str, int] = {s: i for i, s in enumerate(_SYNONYM_LIST)}
+_SYNONYM_SHORT = np.array([len(s) <= 3 for s in _SYNONYM_LIST])
+
+
+@functools.lru_cache(maxsize=4096)
 def _name_scores(header: str) -> dict[str, tuple[float, str]]:
-    """Best rapidfuzz score (0..100) of one normalised name per field, with the synonym matched."""
+    """Best rapidfuzz score (0..100) of one normalised name per field, with the synonym matched.
+
+    Short names ("id", "ean") only count when they match exactly; a one-word synonym that is a
+    word of the name ("price eur", "old price") scores at least :data:`WORD_SCORE`.
+    """
     scores: dict[str, tuple[float, str]] = {}
     if not header:
         return scores
-    compact = header.replace(" ", "")
-    for synonym, name in _SYNONYM_INDEX.items():
-        if synonym == header:
-            score = 100.0
-        elif min(len(header), len(synonym)) <= 3:
-            continue  # short names ("id", "ean") only count when they match exactly
-        else:
-            score = max(
-                fuzz.ratio(header, synonym),
-                fuzz.ratio(compact, synonym.replace(" ", "")),
-                fuzz.token_sort_ratio(header, synonym),
-            )
-            if " " not in synonym and synonym in header.split():
-                score = max(score, WORD_SCORE)  # "price eur", "old price": a word is the name
-        if score >= HEADER_THRESHOLD and score > scores.get(name, (0.0, ""))[0]:
+    if len(header) <= 3:
+        found = np.zeros(len(_SYNONYM_LIST))
+    else:
+        found = np.maximum.reduce(
+            [
+                process.cdist([header], _SYNONYM_LIST, scorer=fuzz.ratio)[0],
+                process.cdist(
+                    [header.replace(" ", "")], _SYNONYM_COMPACT, scorer=fuzz.ratio
+                )[0],
+                process.cdist([header], _SYNONYM_LIST, scorer=fuzz.token_sort_ratio)[0],
+            ]
+        ).astype(float)
+        found[_SYNONYM_SHORT] = 0.0
+        for word in set(header.split()):
+            position = _SYNONYM_POSITION.get(word)
+            if position is not None and len(word) > 3:
+                found[position] = max(found[position], WORD_SCORE)
+    exact = _SYNONYM_POSITION.get(header)
+    if exact is not None:
+        found[exact] = 100.0
+    for index in np.flatnonzero(found >= HEADER_THRESHOLD).tolist():
+        synonym = _SYNONYM_LIST[index]
+        name = _SYNONYM_INDEX[synonym]
+        score = float(found[index])
+        if score > scores.get(name, (0.0, ""))[0]:
             scores[name] = (score, synonym)
     return scores
 
