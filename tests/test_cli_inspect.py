@@ -96,3 +96,38 @@ def test_help_text() -> None:
     result = _run("inspect", "--help")
     assert result.exit_code == 0  # type: ignore[attr-defined]
     assert "profile" in result.stdout  # type: ignore[attr-defined]
+
+
+ITALIAN_FEED = (
+    "EAN,nome,prezzo,disponibilita,sesso\n"
+    + "".join(
+        f"KX{4100 + i}B,Giacca uomo nera con cappuccio {i},\"49,90 €\","
+        f"{'disponibile' if i % 2 else 'boh'},{'uomo' if i % 2 else 'donna'}\n"
+        for i in range(12)
+    )
+)
+
+
+def test_inspect_shows_evidence_against_preview_and_language(tmp_path: Path) -> None:
+    feed = tmp_path / "negozio.csv"
+    feed.write_text(ITALIAN_FEED, encoding="utf-8")
+    result = _run("inspect", str(feed), "--project", str(tmp_path / "p"), "--json")
+    assert result.exit_code == 0, result.output  # type: ignore[attr-defined]
+    facts = json.loads(result.stdout)  # type: ignore[attr-defined]
+    rows = {row["field"]: row for row in facts["mapping"]}
+    assert rows["product_id"]["column"] == "EAN"
+    assert rows["gtin"]["column"] is None
+    assert any("valid GTIN check digits" in text for text in rows["gtin"]["against"])
+    preview = facts["preview"]
+    assert [item["product_id"] for item in preview] == ["KX4100B", "KX4101B", "KX4102B",
+                                                        "KX4103B", "KX4104B"]  # fmt: skip
+    assert preview[0]["availability"] == "unknown"
+    assert "availability_unrecognised" in preview[0]["flags"]
+    assert preview[1]["availability"] == "available"
+    assert facts["language"]["language"] == "it"
+    assert facts["warnings"] and "Italian" in facts["warnings"][0]
+
+    text = _run("inspect", str(feed), "--project", str(tmp_path / "p")).stdout  # type: ignore[attr-defined]
+    assert "against" in text  # the table header (narrow terminals wrap it)
+    assert "normalised" in text
+    assert "Warning:" in text

@@ -150,3 +150,28 @@ def test_help_text() -> None:
     result = _run("normalise", "--help")
     assert result.exit_code == 0  # type: ignore[attr-defined]
     assert "read = kept + rejected" in " ".join(result.stdout.split())  # type: ignore[attr-defined]
+
+
+def test_normalize_counts_flags_and_names_an_uncovered_language(tmp_path: Path) -> None:
+    feed = tmp_path / "negozio.csv"
+    feed.write_text(
+        "codice,nome,prezzo,disponibilita\n"
+        + "".join(
+            f"A{i},Giacca uomo nera con cappuccio {i},{10 + i}.90,"
+            f"{'disponibile' if i % 2 else 'boh'}\n"
+            for i in range(10)
+        ),
+        encoding="utf-8",
+    )
+    out = tmp_path / "o"
+    args = ("normalize", str(feed), "--out", str(out), "--project", str(tmp_path / "p"))
+    facts = json.loads(_run(*args, "--json").stdout)  # type: ignore[attr-defined]
+    assert facts["by_flag"] == {"availability_unrecognised": 5, "currency_missing": 10}
+    assert facts["language"]["language"] == "it"
+    assert "Italian" in facts["warnings"][0]
+    saved = json.loads((out / "accounting.json").read_text("utf-8"))
+    assert saved["by_flag"] == facts["by_flag"]
+    text = _run(*args).stdout  # type: ignore[attr-defined]
+    assert "Kept but flagged" in text
+    assert "availability_unrecognised" in text
+    assert "Warning:" in text

@@ -186,6 +186,20 @@ BAD_EXPECTATIONS: dict[str, dict[str, Any]] = {
     "mismatched_tag.xml": {"raises": (FeedFormatError, 5, "XML is broken"), "good_before": 2},
     "bad_lines.jsonl": {"reads": (["unparseable_record", "unparseable_record"], 2)},
     "two_members.zip": {"raises": (FeedFormatError, None, "feed-a.csv, feed-b.csv")},
+    "lone_surrogate_value.jsonl": {"reads": (["bad_encoding"], 1)},
+    "lone_surrogate_key.jsonl": {"reads": (["bad_encoding"], 1)},
+    "encrypted_member.zip": {"raises": (FeedFormatError, None, "is encrypted")},
+    "unsupported_method.zip": {"raises": (FeedFormatError, None, "compression method 99")},
+    # The bad code unit spoils the record it is in (and the one it runs into); the rest reads.
+    "bad_code_unit_utf16.csv": {"reads": (["bad_encoding"], 2)},
+    "bad_code_unit_utf32.csv": {"reads": (["bad_encoding"], 2)},
+    "utf16_no_bom.xml": {"reads": ([], 2)},
+    "control_in_header.csv": {"reads": ([], 2)},
+    "entity_behind_attlist.xml": {"raises": (UnsafeFeedError, 4, "declares XML entities")},
+    "not_utf8_given_utf8.csv": {
+        "reads": (["bad_encoding", "bad_encoding"], 0),
+        "kwargs": {"encoding": "utf-8"},
+    },
 }
 
 

@@ -105,6 +105,27 @@ HEADERS = {
         "colour": "color", "size": "talla", "url": "enlace", "image_url": "url_imagen",
         "availability": "disponibilidad",
     },
+    "it": {
+        "product_id": "cod_art", "title": "nome_prodotto", "description": "descrizione",
+        "brand": "marchio", "category_path": "categoria", "price": "prezzo",
+        "currency": "valuta", "gtin": "codice_a_barre", "gender_text": "sesso",
+        "colour": "colore", "size": "taglia", "url": "link_prodotto",
+        "image_url": "url_immagine", "availability": "disponibilità",
+    },
+    "nl": {
+        "product_id": "artikelnr", "title": "productnaam", "description": "omschrijving",
+        "brand": "merk", "category_path": "categorie", "price": "prijs",
+        "currency": "valuta", "gtin": "streepjescode", "gender_text": "geslacht",
+        "colour": "kleur", "size": "maat", "url": "productlink", "image_url": "afbeelding",
+        "availability": "voorraadstatus",
+    },
+    "pt": {
+        "product_id": "cód_artigo", "title": "nome_do_produto", "description": "descrição",
+        "brand": "marca", "category_path": "categoria", "price": "preço",
+        "currency": "moeda", "gtin": "código_de_barras", "gender_text": "género",
+        "colour": "cor", "size": "tamanho", "url": "url_do_produto", "image_url": "imagem",
+        "availability": "disponibilidade",
+    },
 }  # fmt: skip
 
 
@@ -327,3 +348,103 @@ def test_plain_token_of_ascii_text_equals_the_full_decomposition(value: str) -> 
     decomposed = unicodedata.normalize("NFKD", value.strip().casefold().replace("ß", "ss"))
     expected = "".join(ch for ch in decomposed if not unicodedata.combining(ch)).strip(" .")
     assert _plain_token(value) == expected
+
+
+# --- values that veto a header ----------------------------------------------------------------
+
+
+def test_letter_codes_named_like_a_barcode_are_the_product_id() -> None:
+    # GS1 General Specifications: a GTIN is digits only with a mod-10 check digit; codes of
+    # letters and digits can never pass it.
+    rows = [
+        {"EAN": f"KX{4100 + i}B", "Bezeichnung": f"Wasserkocher klassisch Modell {i}"}
+        for i in range(12)
+    ]
+    profile = suggest_profile(_info(["EAN", "Bezeichnung"]), _records(rows))
+    assert profile.columns == {"product_id": "EAN", "title": "Bezeichnung"}
+    gtin = next(s for s in profile.suggestions if s.field == "gtin")
+    assert gtin.column is None
+    assert any("valid GTIN check digits" in text for text in gtin.against)
+
+
+def test_category_levels_must_be_text() -> None:
+    rows = [
+        {"id": f"A{i}", "title": f"Lantern small model {i}", "category": f"{i % 3} > {i % 5}",
+         "breadcrumb": "Outdoor > Lighting"}
+        for i in range(12)
+    ]  # fmt: skip
+    profile = suggest_profile(_info(list(rows[0])), _records(rows))
+    assert profile.columns["category_path"] == "breadcrumb"
+    category = next(s for s in profile.suggestions if s.field == "category_path")
+    assert any("textual levels" in text for text in category.against)
+
+
+def test_xml_breadcrumb_maps_to_the_text_in_level_order(tmp_path: Path) -> None:
+    from catmap.feeds import open_feed
+
+    records = "".join(
+        f"<product><id>A{i}</id><name>Kettle classic {i}</name><breadcrumb>"
+        f'<crumb level="2">Kitchen</crumb><crumb level="1">Home</crumb>'
+        f'<crumb level="3">Kettles</crumb></breadcrumb></product>'
+        for i in range(6)
+    )
+    path = tmp_path / "crumbs.xml"
+    path.write_text(f"<catalog>{records}</catalog>", encoding="utf-8")
+    feed = open_feed(path)
+    sample = feed.sample()
+    assert sample[0].fields["breadcrumb.crumb"] == "Home | Kitchen | Kettles"
+    profile = suggest_profile(feed.info, sample)
+    assert profile.columns["category_path"] == "breadcrumb.crumb"
+    assert "breadcrumb.crumb.@level" not in profile.columns.values()
+
+
+def test_nested_keys_are_read_with_their_parent() -> None:
+    rows = [
+        {"codice": f"IT-{i:04d}", "info.nome": f"Zaino leggero con cinghia {i}",
+         "marca.id": str(800 + i % 3), "marca.nome": ["Velloro", "Quillo", "Tamsel"][i % 3],
+         "immagini.url": f"https://media.example/{i}.jpg | https://media.example/{i}-2.jpg",
+         "taglia": ["S", "M", "L"][i % 3]}
+        for i in range(12)
+    ]  # fmt: skip
+    profile = suggest_profile(_info(list(rows[0])), _records(rows))
+    assert profile.columns["title"] == "info.nome"
+    assert profile.columns["brand"] == "marca.nome"
+    assert profile.columns["image_url"] == "immagini.url"
+    assert profile.columns["size"] == "taglia"
+    assert "marca.id" not in profile.columns.values()
+
+
+def test_chosen_field_names_the_next_best_column() -> None:
+    rows = [
+        {"price": f"{10 + i}.90", "old_price": f"{20 + i}.90", "id": f"A{i}", "name": f"Mug {i} x"}
+        for i in range(12)
+    ]
+    profile = suggest_profile(_info(list(rows[0])), _records(rows))
+    price = next(s for s in profile.suggestions if s.field == "price")
+    assert price.column == "price"
+    assert any(text.startswith("next best 'old_price'") for text in price.against)
+
+
+def test_xml_element_text_wins_over_its_attributes(tmp_path: Path) -> None:
+    from catmap.feeds import open_feed
+
+    brands = ["Velloro", "Quillo", "Tamsel"]
+    records = "".join(
+        f'<product><id>A{i}</id><name>Kettle classic {i}</name>'
+        f'<brand id="{800 + i % 3}">{brands[i % 3]}</brand>'
+        f'<price currency="EUR">{10 + i}.90</price>'
+        f'<breadcrumb level="2">Kitchen</breadcrumb><breadcrumb level="1">Home</breadcrumb>'
+        "</product>"
+        for i in range(12)
+    )
+    path = tmp_path / "attributes.xml"
+    path.write_text(f"<catalog>{records}</catalog>", encoding="utf-8")
+    feed = open_feed(path)
+    sample = feed.sample()
+    assert sample[0].fields["breadcrumb"] == "Home | Kitchen"
+    profile = suggest_profile(feed.info, sample)
+    assert profile.columns["brand"] == "brand"
+    assert profile.columns["price"] == "price"
+    assert profile.columns["currency"] == "price.@currency"
+    assert profile.columns["category_path"] == "breadcrumb"
+    assert not {"brand.@id", "breadcrumb.@level"} & set(profile.columns.values())

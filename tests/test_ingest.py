@@ -422,3 +422,36 @@ def test_accounting_identity_on_broken_feeds(path: Path, tmp_path: Path) -> None
     assert accounting.read == accounting.kept + accounting.rejected
     rejects = (tmp_path / "rejects.jsonl").read_text(encoding="utf-8").splitlines()
     assert len(rejects) == accounting.rejected
+
+
+def test_flagged_products_are_counted_by_flag() -> None:
+    records = [
+        _record(2, sku="A", stock="disponibile", shade="nero", **{"for": "uomo"}),
+        _record(3, sku="B", stock="maybe later", shade="glimmer", **{"for": "aliens"}),
+        _record(4, sku="C", ean="4006381333932", cost="12.50"),  # check digit should be 1
+        _record(5, sku="D", cost="12.50", currency="zorkmid"),
+    ]
+    profile = _profile(default_currency=None)
+    profile.columns["currency"] = "currency"
+    accounting = Accounting()
+    products = list(iter_products(records, profile, accounting))
+    assert [p.flags for p in products if isinstance(p, Product)][0] == ()
+    assert accounting.by_flag == {
+        "availability_unrecognised": 1,
+        "colour_unrecognised": 1,
+        "gender_unrecognised": 1,
+        "gtin_invalid": 1,
+        "gtin_invalid_check_digit": 1,
+        "currency_missing": 2,
+        "currency_unknown": 1,
+    }
+    assert accounting.read == accounting.kept + accounting.rejected == 4
+    assert accounting.to_dict()["by_flag"]["currency_missing"] == 2
+
+
+def test_accounting_file_has_the_flag_counts(tmp_path: Path) -> None:
+    records = [_record(2, sku="A", stock="???"), _record(3, sku="B", stock="auf Lager")]
+    accounting, paths = normalize_feed_to(records, _profile(), tmp_path)
+    saved = json.loads(paths.accounting.read_text(encoding="utf-8"))
+    assert saved["by_flag"] == {"availability_unrecognised": 1}
+    assert saved["read"] == saved["kept"] + saved["rejected"]

@@ -15,12 +15,16 @@ from stdnum import ean
 from catmap.feeds._currency import ISO_4217_CODES, SYMBOLS, WORDS
 from catmap.feeds.normalize import (
     _INVISIBLE_RE,
+    GENDER_VALUES,
     clean_line,
     clean_text,
     gs1_check_digit,
+    is_colour_value,
     normalize_availability,
     normalize_currency,
+    normalize_gender_text,
     normalize_gtin,
+    normalize_yes_no,
     parse_price,
     split_category_path,
 )
@@ -341,6 +345,15 @@ def test_normalize_gtin_never_raises(raw: str) -> None:
         ("disponible", "available"), ("en existencia", "available"),
         ("agotado", "sold_out"), ("no disponible", "sold_out"), ("sin stock", "sold_out"),
         ("preventa", "coming_soon"), ("últimas unidades", "limited"),
+        # Italian
+        ("disponibile", "available"), ("esaurito", "sold_out"), ("non disponibile", "sold_out"),
+        ("in arrivo", "coming_soon"), ("ultimi pezzi", "limited"), ("sì", "available"),
+        # Dutch
+        ("op voorraad", "available"), ("uitverkocht", "sold_out"), ("binnenkort", "coming_soon"),
+        ("niet leverbaar", "sold_out"), ("nee", "sold_out"),
+        # Portuguese
+        ("em stock", "available"), ("disponível", "available"), ("esgotado", "sold_out"),
+        ("em breve", "coming_soon"), ("não", "sold_out"), ("sim", "available"),
         # counts and booleans (common practice, no source)
         ("1", "available"), ("17", "available"), ("0", "sold_out"), ("stock: 0", "sold_out"),
         ("true", "available"), ("yes", "available"), ("false", "sold_out"), ("no", "sold_out"),
@@ -415,3 +428,52 @@ def test_no_normaliser_raises(raw: str) -> None:
     normalize_gtin(raw)
     normalize_availability(raw)
     split_category_path(raw)
+
+
+# Common practice, no source: who-words, colour words and yes / no in seven languages.
+@pytest.mark.parametrize(
+    ("raw", "expected"),
+    [
+        ("women's", "female"), ("Femme", "female"), ("Damen", "female"), ("mujer", "female"),
+        ("donna", "female"), ("dames", "female"), ("mulher", "female"),
+        ("men", "male"), ("Homme", "male"), ("Herren", "male"), ("hombre", "male"),
+        ("Uomo", "male"), ("heren", "male"), ("homem", "male"),
+        ("unisex", "unisex"), ("mixte", "unisex"), ("Damen / Herren", "unisex"),
+        ("bambina", "girls"), ("meninos", "boys"), ("Kinder", "kids"), ("Girls & Boys", "kids"),
+        ("bébé", "baby"), ("", "unknown"), ("blue", "unknown"), ("women and kettles", "unknown"),
+    ],
+)  # fmt: skip
+def test_normalize_gender_text(raw: str, expected: str) -> None:
+    assert normalize_gender_text(raw) == expected
+
+
+@pytest.mark.parametrize(
+    ("raw", "expected"),
+    [
+        ("black", True), ("Bleu marine", True), ("Dunkelblau", True), ("azul claro", True),
+        ("nero", True), ("zwart", True), ("vermelho escuro", True), ("navy/white", True),
+        ("donkerblauw", True),
+        ("", False), ("xyzzy", False), ("dark", False), ("Lantern", False),
+    ],
+)  # fmt: skip
+def test_is_colour_value(raw: str, expected: bool) -> None:
+    assert is_colour_value(raw) is expected
+
+
+@pytest.mark.parametrize(
+    ("raw", "expected"),
+    [
+        ("yes", True), ("Oui", True), ("ja", True), ("sí", True), ("sim", True), ("1", True),
+        ("no", False), ("nein", False), ("nee", False), ("não", False), ("0", False),
+        ("maybe", None), ("", None),
+    ],
+)  # fmt: skip
+def test_normalize_yes_no(raw: str, expected: bool | None) -> None:
+    assert normalize_yes_no(raw) is expected
+
+
+@given(st.text())
+def test_value_word_readers_never_raise(raw: str) -> None:
+    assert normalize_gender_text(raw) in GENDER_VALUES
+    assert isinstance(is_colour_value(raw), bool)
+    assert normalize_yes_no(raw) in (True, False, None)

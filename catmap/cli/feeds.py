@@ -93,15 +93,19 @@ def _render_inspect(facts: dict[str, Any]) -> None:
         console.print(f"  records      {escape(str(facts['record_path']))}")
 
     table = Table(title="Suggested mapping" if facts["profile_status"] == "saved" else "Mapping")
-    for header in ("field", "source column", "confidence", "evidence", "sample values"):
+    for header in ("field", "source column", "confidence", "evidence for", "evidence against",
+                   "sample values"):  # fmt: skip
         table.add_column(header)
     for row in facts["mapping"]:
+        if not row["column"] and not row["against"]:
+            continue  # nothing fits and nothing was ruled out: listed under "Not found"
         confidence = "-" if row["confidence"] is None else f"{row['confidence']:.2f}"
         table.add_row(
             row["field"],
-            escape(row["column"]),
+            escape(row["column"] or "(none)"),
             confidence,
-            escape(row["evidence"]),
+            escape(row["evidence"]) if row["column"] else "",
+            escape("; ".join(row["against"])),
             escape(" | ".join(_short(v) for v in row["samples"])),
         )
     console.print(table)
@@ -114,6 +118,8 @@ def _render_inspect(facts: dict[str, Any]) -> None:
         console.print("Not found: " + ", ".join(parts))
     if facts["extras"]:
         console.print("Other columns (kept as extras): " + escape(", ".join(facts["extras"])))
+    _render_preview(facts["preview"])
+    _render_warnings(facts)
     if facts["profile_status"] == "mismatch":
         console.print(
             f"[bold yellow]The saved profile {escape(facts['profile'])} does not fit this file: "
@@ -131,6 +137,33 @@ def _render_inspect(facts: dict[str, Any]) -> None:
             f"Profile saved to {escape(facts['profile'])}: edit it to fix the mapping; "
             "`catmap normalise` uses it."
         )
+
+
+def _render_preview(preview: list[dict[str, Any]]) -> None:
+    if not preview:
+        console.print("No preview: the profile maps no product id or no title.")
+        return
+    table = Table(title=f"First {len(preview)} records, normalised")
+    for header in ("line", "product id", "title", "price", "category path", "brand",
+                   "availability", "flags"):  # fmt: skip
+        table.add_column(header)
+    for item in preview:
+        if "rejected" in item:
+            table.add_row(str(item["line"]), "", f"[red]rejected: {escape(item['rejected'])}[/red]",
+                          "", "", "", "", escape(_short(item["detail"], 60)))  # fmt: skip
+            continue
+        price = f"{item['price']} {item['currency'] or ''}".strip() if item["price"] else ""
+        table.add_row(
+            str(item["source_line"]),
+            escape(item["product_id"]),
+            escape(_short(item["title"], 40)),
+            escape(price),
+            escape(" > ".join(item["category_path"])),
+            escape(item["brand"]),
+            item["availability"],
+            escape(", ".join(item["flags"])),
+        )
+    console.print(table)
 
 
 def _short(value: str, limit: int = 30) -> str:
@@ -242,6 +275,13 @@ def _render_normalize(facts: dict[str, Any], paths: OutputPaths) -> None:
         for reason, count in facts["by_reason"].items():
             table.add_row(reason, f"{count:,}")
         console.print(table)
+    if facts.get("by_flag"):
+        table = Table(title="Kept but flagged")
+        table.add_column("flag")
+        table.add_column("products", justify="right")
+        for flag, count in facts["by_flag"].items():
+            table.add_row(flag, f"{count:,}")
+        console.print(table)
     if facts["duplicate_id_count"]:
         shown = list(facts["duplicate_ids"].items())[:DUPLICATES_SHOWN]
         listed = ", ".join(
@@ -257,6 +297,7 @@ def _render_normalize(facts: dict[str, Any], paths: OutputPaths) -> None:
         console.print(
             f"[bold red]Reading stopped early:[/bold red] {escape(facts['stopped_early'])}"
         )
+    _render_warnings(facts)
     status = {
         "saved": "suggested and saved",
         "existing": "saved",
@@ -266,6 +307,14 @@ def _render_normalize(facts: dict[str, Any], paths: OutputPaths) -> None:
     console.print(f"Products:   {escape(str(paths.products))}")
     console.print(f"Rejects:    {escape(str(paths.rejects))}")
     console.print(f"Accounting: {escape(str(paths.accounting))}")
+
+
+def _render_warnings(facts: dict[str, Any]) -> None:
+    language = facts.get("language") or {}
+    if language.get("name"):
+        console.print(f"Language:   {language['name']} ({language['share']:.0%} of marker words)")
+    for warning in facts.get("warnings", []):
+        console.print(f"[bold yellow]Warning:[/bold yellow] {escape(warning)}")
 
 
 def register(main: click.Group) -> None:

@@ -18,6 +18,10 @@ from catmap.errors import FeedFormatError
 _GZIP_MAGIC = b"\x1f\x8b"
 _ZIP_MAGIC = b"PK\x03\x04"
 _ZIP_EMPTY_MAGIC = b"PK\x05\x06"
+# The zip compression methods the standard library reads.
+_ZIP_METHODS = frozenset(
+    {zipfile.ZIP_STORED, zipfile.ZIP_DEFLATED, zipfile.ZIP_BZIP2, zipfile.ZIP_LZMA}
+)
 
 
 def detect_compression(path: str | Path) -> str | None:
@@ -113,6 +117,22 @@ def _zip_member_name(archive: zipfile.ZipFile, path: str | Path) -> str:
             path=path,
             hint=f"unzip it and give catmap one of: {listed}",
         )
+    info = archive.getinfo(members[0])
+    # Bit 0 of the general purpose flags marks an encrypted member (zip file format
+    # specification, APPNOTE 4.4.4); catmap takes no password.
+    if info.flag_bits & 0x1:
+        raise FeedFormatError(
+            f"the zip member '{info.filename}' is encrypted",
+            path=path,
+            hint="ask the sender for the feed without a password",
+        )
+    if info.compress_type not in _ZIP_METHODS:
+        raise FeedFormatError(
+            f"the zip member '{info.filename}' uses compression method {info.compress_type}, "
+            "which catmap cannot read",
+            path=path,
+            hint="ask the sender for a plain, gzip or deflate-zipped feed",
+        )
     return members[0]
 
 
@@ -143,7 +163,16 @@ def open_binary(path: str | Path) -> tuple[IO[bytes], str | None]:
             ) from exc
         try:
             member = _zip_member_name(archive, path)
-            return cast(IO[bytes], _Checked(_ZipMember(archive, member), path, "zip")), compression
+            try:
+                opened = _ZipMember(archive, member)
+            except (RuntimeError, NotImplementedError, zipfile.BadZipFile, OSError) as exc:
+                # RuntimeError: encrypted; NotImplementedError: an unknown method.
+                raise FeedFormatError(
+                    f"the zip member '{member}' cannot be opened: {exc}",
+                    path=path,
+                    hint="ask the sender for the file again, plain or gzip",
+                ) from exc
+            return cast(IO[bytes], _Checked(opened, path, "zip")), compression
         except BaseException:
             archive.close()
             raise

@@ -17,7 +17,7 @@ from pathlib import Path
 
 import charset_normalizer
 
-from catmap.errors import FeedFormatError
+from catmap.errors import FeedEncodingError, FeedFormatError
 
 SAMPLE_SIZE = 1 << 20
 FORMATS = ("delimited", "xml", "jsonl")
@@ -69,6 +69,25 @@ def _escape(exc: UnicodeError) -> tuple[str, int]:
 
 codecs.register_error(ERROR_HANDLER, _escape)
 
+# The same escape for a sample looked at before reading (not counted: no record is read from it).
+_HEAD_ERROR_HANDLER = "catmap-escape-head"
+
+
+def _escape_head(exc: UnicodeError) -> tuple[str, int]:
+    if not isinstance(exc, UnicodeDecodeError):
+        raise exc
+    return "".join(chr(0xDC00 + b) for b in exc.object[exc.start : exc.end]), exc.end
+
+
+codecs.register_error(_HEAD_ERROR_HANDLER, _escape_head)
+
+# Codecs that are text encodings to Python but cannot be read safely as a feed: they take no
+# error handler (idna, punycode), or can spell markup in plain letters (utf-7 writes "<" as
+# "+ADw-"), or turn escapes into characters (unicode_escape).
+_REFUSED_CODECS = frozenset(
+    {"utf-7", "idna", "punycode", "unicode-escape", "raw-unicode-escape", "undefined"}
+)
+
 
 def normalize_format(value: str, path: str | Path) -> str:
     """Map a user's format name ("csv", "xml", "jsonl", ...) onto one of :data:`FORMATS`.
@@ -92,14 +111,19 @@ def codec_name(encoding: str, path: str | Path) -> str:
     Raises:
         FeedFormatError: Python knows no such encoding.
     """
+    hint = "use --encoding utf-8, cp1252, latin-1, utf-16 ..."
     try:
-        return codecs.lookup(encoding).name
-    except LookupError as exc:
+        info = codecs.lookup(encoding)
+    except (LookupError, ValueError) as exc:  # ValueError: a name with a NUL byte
+        raise FeedFormatError(f"unknown encoding {encoding!r}", path=path, hint=hint) from exc
+    # _is_text_encoding is False for bytes-to-bytes and str-to-str codecs (base64, zlib, rot13).
+    if not getattr(info, "_is_text_encoding", True) or info.name in _REFUSED_CODECS:
         raise FeedFormatError(
-            f"unknown encoding {encoding!r}",
+            f"{encoding!r} is not a text encoding catmap can read a feed with",
             path=path,
-            hint="use --encoding utf-8, cp1252, latin-1, utf-16 ...",
-        ) from exc
+            hint=hint,
+        )
+    return info.name
 
 
 def _looks_utf16(head: bytes) -> str | None:
@@ -113,6 +137,33 @@ def _looks_utf16(head: bytes) -> str | None:
     if even.count(0) > 0.9 * len(even) and odd.count(0) < 0.1 * len(odd):
         return "utf-16-be"
     return None
+
+
+def _byte_order(head: bytes, name: str, path: str | Path) -> str:
+    """Choose "-le" or "-be" for UTF-16 / UTF-32 text that has no byte-order mark.
+
+    Python's "utf-16" and "utf-32" codecs need the mark; without it the zero bytes of ASCII
+    characters show the byte order.
+
+    Raises:
+        FeedEncodingError: the zero bytes show no order.
+    """
+    if name == "utf-16":
+        found = _looks_utf16(head)
+        if found:
+            return found
+    else:
+        sample = head[: 4096 - 4096 % 4]
+        columns = [sample[i::4] for i in range(4)]
+        if all(column.count(0) > 0.9 * len(column) for column in columns[1:]):
+            return "utf-32-le"
+        if all(column.count(0) > 0.9 * len(column) for column in columns[:3]):
+            return "utf-32-be"
+    raise FeedEncodingError(
+        f"the feed has no byte-order mark to tell how to read it as {name}",
+        path=path,
+        hint=f"use --encoding {name}-le or {name}-be",
+    )
 
 
 def check_text(head: bytes, path: str | Path) -> None:
@@ -149,6 +200,8 @@ def detect_encoding(head: bytes, given: str | None, path: str | Path) -> tuple[s
         name = codec_name(given, path)
         if name == "utf-8" and head.startswith(codecs.BOM_UTF8):
             name = "utf-8-sig"
+        if name in ("utf-16", "utf-32") and not any(head.startswith(b) for b, _ in _BOMS):
+            name = _byte_order(head, name, path)
         if not name.startswith(("utf-16", "utf-32")):
             check_text(head, path)
         return name, "given"
@@ -226,7 +279,7 @@ _WESTERN_SYMBOLS = set("€‚„…†‡‰‹›‘’“”•–—™«»�
 
 def decode_head(head: bytes, encoding: str) -> str:
     """Decode a sample, dropping a character cut at its end; bad bytes become surrogates."""
-    decoder = codecs.getincrementaldecoder(encoding)("surrogateescape")
+    decoder = codecs.getincrementaldecoder(encoding)(_HEAD_ERROR_HANDLER)
     return decoder.decode(head, final=False)
 
 
@@ -240,7 +293,7 @@ def detect_format(text: str) -> str:
         try:
             if isinstance(json.loads(first), dict):
                 return "jsonl"
-        except ValueError:
+        except (ValueError, RecursionError):  # RecursionError: nested too deep to decode
             pass
         # A first line cut by the sample, or a damaged first record: still JSON Lines.
         if "\n" not in stripped or first.endswith("}"):
@@ -251,3 +304,13 @@ def detect_format(text: str) -> str:
 def suggest_other_encoding(encoding: str) -> str:
     """Name the encoding to try with --encoding when ``encoding`` failed on some bytes."""
     return "cp1252" if encoding.startswith("utf") else "utf-8"
+
+
+def bad_bytes_detail(encoding: str) -> str:
+    """The reject detail for a record with bytes that ``encoding`` cannot decode.
+
+    In UTF-16 or UTF-32 such bytes are a damaged code unit, not a sign of another encoding.
+    """
+    if encoding.startswith(("utf-16", "utf-32")):
+        return f"a code unit that is not valid {encoding}: the file is damaged at this record"
+    return f"bytes that are not valid {encoding}; try --encoding {suggest_other_encoding(encoding)}"

@@ -35,6 +35,7 @@ csv.field_size_limit(max(csv.field_size_limit(), FIELD_SIZE_LIMIT))
 _NUMBER = re.compile(r"^[-+]?[\d\s.,]*\d[\d\s.,]*\s*(%|[A-Za-z]{3}|[€$£¥])?$")
 _URL = re.compile(r"^(https?://|www\.)", re.IGNORECASE)
 _EXCERPT = 200
+_HEADER_NOISE = re.compile("[\x00-\x08\x0b\x0c\x0e-\x1f\x7f-\x9f]")
 # One line with its end, split as a text stream opened with ``newline=""`` splits it ("\r\n",
 # "\r" or "\n"), so that the csv reader sees the same lines. Lines are found lazily: reading
 # a few rows of a 1 MB sample no longer copies the whole sample into a StringIO first.
@@ -130,6 +131,9 @@ def header_names(row: list[str]) -> tuple[str, ...]:
     names: list[str] = []
     seen: set[str] = set()
     for index, cell in enumerate(row, start=1):
+        # Control characters in a header are noise from the export; an undecodable byte (a lone
+        # surrogate here) cannot be written in a profile: both go from the column's name.
+        cell = _HEADER_NOISE.sub("", _sniff.SURROGATES.sub("\ufffd", cell))
         name = cell.strip().lstrip("\ufeff") or f"column_{index}"
         base, suffix = name, 2
         while name in seen:
@@ -160,6 +164,22 @@ def read_first_row(path: str | Path, encoding: str, delimiter: str) -> list[str]
     return None
 
 
+def _row_has_quote(path: str | Path, encoding: str, line: int) -> bool:
+    """Tell whether the physical line ``line`` (1-based) holds a double quote.
+
+    Read only after the csv reader stopped on an oversized cell, to say whether a quote that
+    never closed is to blame or the cell is simply too large.
+    """
+    stream, _ = open_binary(path)
+    with io.TextIOWrapper(
+        stream, encoding=encoding, errors=_sniff.ERROR_HANDLER, newline=""
+    ) as text:
+        for number, row in enumerate(text, start=1):
+            if number == line:
+                return '"' in row
+    return True
+
+
 def iter_delimited(
     path: str | Path,
     *,
@@ -185,7 +205,7 @@ def iter_delimited(
         FeedFormatError: an unterminated quote, or a field larger than the limit.
     """
     width = len(columns)
-    other = _sniff.suggest_other_encoding(encoding)
+    bad_bytes = _sniff.bad_bytes_detail(encoding)
     escapes = _sniff.ESCAPES
     seen = escapes.produced
     pending = 0
@@ -205,6 +225,14 @@ def iter_delimited(
                 start = previous + 1
                 previous = reader.line_num
                 message = str(exc)
+                if "field larger" in message and not _row_has_quote(path, encoding, start):
+                    raise FeedFormatError(
+                        f"a cell on this row is larger than {FIELD_SIZE_LIMIT >> 20} MiB",
+                        path=path,
+                        line=start,
+                        hint="the row has no quote; ask the sender to cut the cell, "
+                        "or split the file",
+                    ) from exc
                 if "unexpected end of data" in message or "field larger" in message:
                     raise FeedFormatError(
                         "a quoted field opened here is never closed"
@@ -239,7 +267,7 @@ def iter_delimited(
                     excerpt = _sniff.SURROGATES.sub("\ufffd", _excerpt(row, delimiter))
                     yield Reject(
                         "bad_encoding",
-                        f"bytes that are not valid {encoding}; try --encoding {other}",
+                        bad_bytes,
                         start,
                         f"line {start}",
                         excerpt,

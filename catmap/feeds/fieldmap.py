@@ -14,6 +14,7 @@ from __future__ import annotations
 
 import codecs
 import dataclasses
+import functools
 import re
 import tomllib
 import unicodedata
@@ -23,14 +24,17 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
-from rapidfuzz import fuzz
+import numpy as np
+from rapidfuzz import fuzz, process
 
 from catmap._atomic import write_text_atomic
 from catmap.errors import ProfileError
 from catmap.feeds.normalize import (
     clean_line,
+    is_colour_value,
     normalize_availability,
     normalize_currency,
+    normalize_gender_text,
     normalize_gtin,
     parse_price,
     split_category_path,
@@ -63,6 +67,8 @@ HEADER_THRESHOLD = 82
 # A header word that is a one-word synonym ("price_eur") scores this much.
 WORD_SCORE = 86.0
 NESTED_FACTOR = 0.95
+# How readers join the values of a repeated element or a list.
+_JOIN = " | "
 SAMPLES_KEPT = 3
 
 
@@ -76,6 +82,8 @@ class FieldSuggestion:
         confidence: 0..1.
         evidence: short human text, e.g. "header 'prix' ~ price (96); 100% price-like values".
         samples: up to three distinct non-empty values of the column.
+        against: what speaks against the choice: columns whose values vetoed their header
+            ("'EAN': 0% valid GTIN check digits"), and the next best column, if any.
     """
 
     field: str
@@ -83,6 +91,7 @@ class FieldSuggestion:
     confidence: float
     evidence: str
     samples: list[str] = dataclasses.field(default_factory=list)
+    against: list[str] = dataclasses.field(default_factory=list)
 
 
 @dataclass
@@ -120,9 +129,14 @@ class FeedProfile:
 # Header names
 
 # Normalised header names (lower case, no accents, words separated by one space) per field.
-# Common practice, no source: words seen in shop exports in English, French, German, Spanish.
+# Common practice, no source: words seen in shop exports in English, French, German, Spanish,
+# Italian, Dutch and Portuguese, with their common abbreviations.
 _SYNONYMS: dict[str, tuple[str, ...]] = {
     "product_id": (
+        "codice", "codice articolo", "cod art", "id prodotto", "rif", "riferimento",
+        "codice prodotto", "artikelnr", "artikel nummer", "product id", "referentie",
+        "productnummer", "referencia", "codigo artigo", "cod artigo", "id produto",
+        "ref produto", "cod articulo", "item no", "item nr", "art no", "sku id", "mpn",
         "id", "product id", "item id", "article id", "sku", "article number", "item number",
         "product number", "product code", "item code", "reference", "ref", "offer id",
         "id produit", "identifiant", "reference produit", "ref produit", "code article",
@@ -131,6 +145,8 @@ _SYNONYMS: dict[str, tuple[str, ...]] = {
         "codigo", "codigo producto", "codigo articulo", "numero de articulo",
     ),
     "title": (
+        "nome", "titolo", "nome prodotto", "denominazione", "productnaam", "naam", "titel",
+        "omschrijving kort", "nome do produto", "designacao", "denominacion", "item title",
         "title", "name", "product name", "product title", "item name", "item title",
         "titre", "nom", "nom produit", "nom du produit", "libelle", "designation",
         "titel", "name des produkts", "produktname", "produkt name", "artikelname",
@@ -138,60 +154,80 @@ _SYNONYMS: dict[str, tuple[str, ...]] = {
         "nombre del producto", "titulo producto",
     ),
     "description": (
+        "descrizione", "descrizione lunga", "descr", "beschrijving", "omschrijving",
+        "productomschrijving", "descricao", "descricao longa", "desc longue",
         "description", "desc", "long description", "product description", "details",
         "description produit", "descriptif", "description longue", "beschreibung",
         "produktbeschreibung", "artikelbeschreibung", "langtext", "descripcion",
         "descripcion producto", "descripcion larga", "body", "text",
     ),
     "brand": (
+        "marchio", "produttore", "merk", "fabrikant", "marca", "mrk",
         "brand", "brand name", "manufacturer", "maker", "make", "label", "marque", "fabricant",
         "marke", "hersteller", "markenname", "marca", "fabricante",
     ),
     "category_path": (
+        "percorso categoria", "reparto", "categorie", "productcategorie", "rubriek",
+        "caminho da categoria", "seccao", "ruta de categoria", "fil d ariane", "arborescence",
+        "cat", "dept", "product type", "tipo prodotto", "categoria prodotto",
         "category", "categories", "category path", "product category", "breadcrumb",
         "breadcrumbs", "department", "categorie", "categories produit", "rayon", "chemin",
         "kategorie", "kategorien", "warengruppe", "produktkategorie", "kategoriepfad",
         "categoria", "categorias", "ruta categoria", "seccion", "shop category",
     ),
     "price": (
+        "prezzo", "prezzo di vendita", "prz", "importo", "prijs", "verkoopprijs",
+        "prijs incl btw", "preco", "preco de venda", "valor", "pvp",
         "price", "sale price", "current price", "unit price", "amount", "cost", "prix",
         "prix ttc", "prix de vente", "tarif", "montant", "preis", "verkaufspreis", "vk preis",
         "bruttopreis", "precio", "precio venta", "importe", "pvp",
     ),
     "currency": (
+        "valuta", "munteenheid", "moeda", "whg", "currency iso",
         "currency", "currency code", "curr", "devise", "monnaie", "wahrung", "waehrung",
         "moneda", "divisa",
     ),
     "gtin": (
+        "codice a barre", "ean code", "streepjescode", "codigo de barras", "gencod",
+        "ean 8", "gtin 13", "gtin 8", "gtin 12",
         "gtin", "ean", "ean13", "ean 13", "ean8", "upc", "upc a", "barcode", "bar code",
         "gtin13", "gtin14", "gtin 14", "isbn", "code barre", "code barres", "code ean",
         "strichcode", "barcode nummer", "ean code", "ean nummer", "codigo de barras",
         "codigo barras", "codigo ean",
     ),
     "gender_text": (
+        "sesso", "genere", "geslacht", "doelgroep", "genero", "gender target",
         "gender", "sex", "target gender", "audience", "genre", "sexe", "geschlecht",
         "zielgruppe", "sexo", "genero",
     ),
     "colour": (
+        "colore", "kleur", "cor", "cores", "col", "kl", "farbe", "colour family",
         "colour", "color", "colour name", "color name", "couleur", "coloris", "farbe",
         "farbton", "colores",
     ),
     "size": (
+        "taglia", "misura", "maat", "afmeting", "tamanho", "tam", "sz", "gr",
         "size", "sizes", "taille", "tailles", "pointure", "grosse", "groesse", "konfektionsgrosse",
         "talla", "tallas", "tamano", "medida",
     ),
     "url": (
+        "collegamento", "url prodotto", "productlink", "product url", "url do produto",
+        "ligacao", "link prodotto",
         "url", "link", "product url", "product link", "page url", "deeplink", "deep link",
         "lien", "lien produit", "url produit", "produkt url", "produktlink", "artikel url",
         "enlace", "url producto", "enlace producto",
     ),
     "image_url": (
+        "immagine", "url immagine", "afbeelding", "afbeelding url", "imagem", "url da imagem",
+        "image src", "img src",
         "image", "image url", "image link", "picture", "picture url", "photo", "img",
         "img url", "main image", "thumbnail", "url image", "lien image", "image produit",
         "bild", "bild url", "bildlink", "produktbild", "bild link", "imagen", "url imagen",
         "foto", "enlace imagen",
     ),
     "availability": (
+        "disponibilita", "disp", "stato magazzino", "beschikbaarheid", "voorraadstatus",
+        "levertijd status", "disponibilidade", "estoque", "voorraad", "giacenza",
         "availability", "available", "stock", "stock status", "in stock", "inventory",
         "stock level", "quantity", "qty", "disponibilite", "dispo", "etat du stock",
         "verfugbarkeit", "lagerbestand", "lagerstatus", "bestand", "lieferstatus",
@@ -231,33 +267,113 @@ _SYNONYM_INDEX: dict[str, str] = {
 }
 
 
-def _header_scores(column: str) -> dict[str, tuple[float, str]]:
-    """Best rapidfuzz score (0..100) of a column name per field, with the synonym it matched."""
-    header = normalize_header(column)
-    # A nested name ("shipping.price") is less likely the record's own field than a plain one.
-    nested = "." in column.strip(".").replace(".@", "@")
+# The synonyms as parallel arrays, for rapidfuzz's vectorised comparison (one C call per scorer
+# instead of a Python loop over every synonym).
+_SYNONYM_LIST: tuple[str, ...] = tuple(_SYNONYM_INDEX)
+_SYNONYM_COMPACT: tuple[str, ...] = tuple(s.replace(" ", "") for s in _SYNONYM_LIST)
+_SYNONYM_POSITION: dict[str, int] = {s: i for i, s in enumerate(_SYNONYM_LIST)}
+_SYNONYM_SHORT = np.array([len(s) <= 3 for s in _SYNONYM_LIST])
+
+
+@functools.lru_cache(maxsize=4096)
+def _name_scores(header: str) -> dict[str, tuple[float, str]]:
+    """Best rapidfuzz score (0..100) of one normalised name per field, with the synonym matched.
+
+    Short names ("id", "ean") only count when they match exactly; a one-word synonym that is a
+    word of the name ("price eur", "old price") scores at least :data:`WORD_SCORE`.
+    """
     scores: dict[str, tuple[float, str]] = {}
     if not header:
         return scores
-    compact = header.replace(" ", "")
-    for synonym, name in _SYNONYM_INDEX.items():
-        if synonym == header:
-            score = 100.0
-        elif min(len(header), len(synonym)) <= 3:
-            continue  # short names ("id", "ean") only count when they match exactly
-        else:
-            score = max(
-                fuzz.ratio(header, synonym),
-                fuzz.ratio(compact, synonym.replace(" ", "")),
-                fuzz.token_sort_ratio(header, synonym),
-            )
-            if " " not in synonym and synonym in header.split():
-                score = max(score, WORD_SCORE)  # "price eur", "old price": a word is the name
-        if nested:
-            score *= NESTED_FACTOR
-        if score >= HEADER_THRESHOLD and score > scores.get(name, (0.0, ""))[0]:
+    if len(header) <= 3:
+        found = np.zeros(len(_SYNONYM_LIST))
+    else:
+        found = np.maximum.reduce(
+            [
+                process.cdist([header], _SYNONYM_LIST, scorer=fuzz.ratio)[0],
+                process.cdist(
+                    [header.replace(" ", "")], _SYNONYM_COMPACT, scorer=fuzz.ratio
+                )[0],
+                process.cdist([header], _SYNONYM_LIST, scorer=fuzz.token_sort_ratio)[0],
+            ]
+        ).astype(float)
+        found[_SYNONYM_SHORT] = 0.0
+        for word in set(header.split()):
+            position = _SYNONYM_POSITION.get(word)
+            if position is not None and len(word) > 3:
+                found[position] = max(found[position], WORD_SCORE)
+    exact = _SYNONYM_POSITION.get(header)
+    if exact is not None:
+        found[exact] = 100.0
+    for index in np.flatnonzero(found >= HEADER_THRESHOLD).tolist():
+        synonym = _SYNONYM_LIST[index]
+        name = _SYNONYM_INDEX[synonym]
+        score = float(found[index])
+        if score > scores.get(name, (0.0, ""))[0]:
             scores[name] = (score, synonym)
     return scores
+
+
+# A nested key that only names its parent's value ("brand.name", "images.url"), its parent's
+# own identifier ("brand.id": the brand's id, not the product's), or the order of repeated
+# elements ("crumb.@level"). Common practice, no source; seven languages.
+_VALUE_KEYS = frozenset(
+    "name nom nome naam nombre label value valor valore wert waarde text texte testo tekst "
+    "url link href src uri".split()
+)
+_ID_KEYS = frozenset(
+    "id code ref key sku codigo codice nummer nr number numero nummer identifier uid".split()
+)
+_LEVEL_KEYS = frozenset(
+    "level niveau ebene nivel livello depth tiefe profondeur profundidad profondita diepte "
+    "profundidade order position pos rank index".split()
+)
+
+
+def _split_nested(column: str) -> tuple[str, str]:
+    """(parent's last name, own name), normalised; the parent is "" for a top-level column."""
+    text = column.strip()
+    parts = [part for part in re.split(r"\.(?=@)|\.", text) if part]
+    if len(parts) < 2:
+        return "", normalize_header(text)
+    return normalize_header(parts[-2]), normalize_header(parts[-1])
+
+
+def _is_parent_id(column: str) -> bool:
+    """True for an id key under a parent that names another field ("brand.id", "marca.codigo")."""
+    parent, own = _split_nested(column)
+    if not parent or own not in _ID_KEYS:
+        return False
+    by_parent = _name_scores(parent)
+    return bool(by_parent) and max(by_parent, key=lambda n: by_parent[n][0]) != "product_id"
+
+
+@functools.lru_cache(maxsize=4096)
+def _header_scores(column: str) -> dict[str, tuple[float, str]]:
+    """Best header score (0..100) of a column per field, with the reason.
+
+    A nested name is read with its parent: under a parent that names a field, a value key
+    ("brand.name", "images.url") is that field, and an id key ("brand.id") is nothing (the
+    parent's own id); under a neutral parent ("info.nome") the key stands for itself, a little
+    less sure than the same name at the top level.
+    """
+    parent, own = _split_nested(column)
+    if not parent:
+        return _name_scores(own)
+    if own in _LEVEL_KEYS:
+        return {}
+    by_parent = _name_scores(parent)
+    parent_field = max(by_parent, key=lambda name: by_parent[name][0]) if by_parent else None
+    if parent_field is not None and parent_field != "product_id":
+        score, synonym = by_parent[parent_field]
+        if own in _VALUE_KEYS:
+            if parent_field == "url" and own in ("url", "link", "href", "src", "uri"):
+                return {"url": (score * NESTED_FACTOR, f"{synonym}.{own}")}
+            return {parent_field: (score * NESTED_FACTOR, f"{synonym}.{own}")}
+        if own in _ID_KEYS:
+            return {}
+    scores = _name_scores(own)
+    return {name: (score * NESTED_FACTOR, synonym) for name, (score, synonym) in scores.items()}
 
 
 # ---------------------------------------------------------------------------------------------
@@ -321,6 +437,9 @@ def _value_scores(values: list[str]) -> dict[str, tuple[float, str]]:
         if share > 0:
             scores[name] = (share * weight, evidence)
 
+    # A list of links read as one field ("https://a.jpg | https://b.jpg"): its first link.
+    values = [value.split(_JOIN, 1)[0] if _JOIN in value and "//" in value else value
+              for value in values]  # fmt: skip
     urls = [value for value in values if _URL_RE.match(value)]
     if urls:
         images = _share(urls, _IMAGE_URL_RE.search) * len(urls) / total
@@ -348,12 +467,18 @@ def _value_scores(values: list[str]) -> dict[str, tuple[float, str]]:
     path_share = _share(values, lambda value: len(split_category_path(value)) >= 2)
     put("category_path", path_share, f"{path_share:.0%} category paths with separators", 90)
 
-    tokens = [_plain_token(value) for value in values]
     few_distinct = distinct <= 12 and (total < 10 or unique_ratio <= 0.5)
     if few_distinct:
-        share = _share(tokens, _GENDER_TOKENS.__contains__)
+        share = _share(
+            values,
+            lambda value: _plain_token(value) in _GENDER_TOKENS
+            or normalize_gender_text(value) != "unknown",
+        )
         put("gender_text", share, f"{share:.0%} who words, {distinct} distinct values", 90)
-        colour = _share(tokens, _COLOUR_TOKENS.__contains__)
+        colour = _share(
+            values,
+            lambda value: _plain_token(value) in _COLOUR_TOKENS or is_colour_value(value),
+        )
         put("colour", colour, f"{colour:.0%} colour words", 85)
     size = _share(values, lambda value: bool(_SIZE_RE.match(value.strip())))
     if distinct <= 40:
@@ -396,6 +521,71 @@ def _value_scores(values: list[str]) -> dict[str, tuple[float, str]]:
 
 # ---------------------------------------------------------------------------------------------
 # Suggestion
+
+
+_LETTER_RE = re.compile(r"[^\W\d_]")
+
+
+def _value_veto(name: str, values: list[str], by_value: dict[str, tuple[float, str]]) -> str:
+    """Why a column's values rule it out for a field whatever its header says ("" if nothing).
+
+    The header says what the sender meant; the values say what the column holds. A column of
+    letter-and-digit codes named "ean" is the product id, a "level" attribute holds numbers
+    and no category names, an "id" that repeats is nobody's product id.
+    """
+    if len(values) < 3:
+        return ""
+    share = by_value.get(name, (0.0, ""))[0] / 100
+    if name == "gtin" and share < 0.5:
+        return f"only {share:.0%} valid GTIN check digits (GS1)"
+    if name == "category_path":
+        named = _share(
+            values, lambda value: all(_LETTER_RE.search(level)
+                                      for level in split_category_path(value) or (value,))
+        )  # fmt: skip
+        if named < 0.5:
+            return f"only {named:.0%} of the values have textual levels (numbers are no path)"
+    if name in ("url", "image_url"):
+        links = _share(values, lambda value: bool(_URL_RE.match(value.split(_JOIN, 1)[0])))
+        if links < 0.5:
+            return f"only {links:.0%} of the values are links"
+    if name == "price":
+        prices = _share(values, lambda value: parse_price(value)[0] is not None)
+        if prices < 0.3:
+            return f"only {prices:.0%} of the values are amounts"
+    distinct = len(set(values)) / len(values)
+    if name == "product_id" and len(values) >= 10 and distinct < 0.9:
+        return f"values repeat ({distinct:.0%} distinct), an id is unique"
+    if name == "size" and len(values) >= 20 and distinct > 0.9:
+        return f"values are all different ({distinct:.0%} distinct), not sizes"
+    if name == "title" and _share(values, lambda value: not _LETTER_RE.search(value)) > 0.5:
+        return "the values hold no letters"
+    return ""
+
+
+def _brand_in_titles(
+    sample: Sequence[SourceRecord], column: str, by_value: dict[str, tuple[float, str]]
+) -> None:
+    """Raise a brand candidate whose values are named in the same records' longer texts.
+
+    Titles often begin with the brand ("Velloro field jacket"): a short repeated value that
+    reappears in the record's own title is a brand much more surely than by its shape alone.
+    """
+    seen = named = 0
+    for record in sample:
+        value = record.fields.get(column, "").strip().casefold()
+        if len(value) < 2:
+            continue
+        seen += 1
+        if any(
+            other != column and len(text) > len(value) + 5 and value in text.casefold()
+            for other, text in record.fields.items()
+        ):
+            named += 1
+    if seen and named / seen >= 0.5:
+        share = named / seen
+        score = max(by_value["brand"][0], 85 * share)
+        by_value["brand"] = (score, f"{share:.0%} named in the same record's longer text")
 
 
 def _combine(header: float, values: float) -> float:
@@ -446,14 +636,26 @@ def suggest_profile(info: FeedInfo, sample: Sequence[SourceRecord]) -> FeedProfi
                 columns.append(name)
     values = {column: _column_values(sample, column) for column in columns}
     candidates: list[tuple[float, int, str, str, str]] = []
+    against: dict[str, list[str]] = {name: [] for name in TARGET_FIELDS}
     for position, column in enumerate(columns):
+        if _is_parent_id(column):
+            continue  # "brand.id": the brand's own id, no field of the product
         by_header = _header_scores(column)
         by_value = _value_scores(values[column])
+        if "brand" in by_value:
+            _brand_in_titles(sample, column, by_value)
         for name in TARGET_FIELDS:
             header_score, synonym = by_header.get(name, (0.0, ""))
             value_score, value_evidence = by_value.get(name, (0.0, ""))
             confidence = _combine(header_score, value_score)
             if confidence <= 0:
+                continue
+            veto = _value_veto(name, values[column], by_value)
+            if veto:
+                if header_score:
+                    against[name].append(
+                        f"header '{column}' ~ {synonym} ({header_score:.0f}), but {veto}"
+                    )
                 continue
             clues = []
             if header_score:
@@ -473,9 +675,16 @@ def suggest_profile(info: FeedInfo, sample: Sequence[SourceRecord]) -> FeedProfi
             best_rejected.setdefault(name, (confidence, column))
             continue
         chosen[name] = FieldSuggestion(
-            name, column, round(confidence, 3), evidence, _samples(values[column])
-        )
+            name, column, round(confidence, 3), evidence, _samples(values[column]),
+            against[name],
+        )  # fmt: skip
         used.add(column)
+    for confidence, _, name, column, _evidence in candidates:
+        suggestion = chosen.get(name)
+        if suggestion is not None and column != suggestion.column and not any(
+            text.startswith("next best") for text in suggestion.against
+        ):
+            suggestion.against.append(f"next best '{column}' ({confidence:.2f})")
 
     price = chosen.get("price")
     if "currency" not in chosen and price is not None:
@@ -502,9 +711,12 @@ def suggest_profile(info: FeedInfo, sample: Sequence[SourceRecord]) -> FeedProfi
             suggestions.append(FieldSuggestion(
                 name, None, 0.0,
                 f"no column fits; best was '{column}' ({confidence:.2f}, below {MIN_CONFIDENCE})",
+                [], against[name],
             ))  # fmt: skip
         else:
-            suggestions.append(FieldSuggestion(name, None, 0.0, "no column fits"))
+            suggestions.append(
+                FieldSuggestion(name, None, 0.0, "no column fits", [], against[name])
+            )
     mapped = {s.field: s.column for s in suggestions if s.column is not None}
     return FeedProfile(
         columns=mapped,
@@ -533,15 +745,21 @@ def _toml_string(value: str) -> str:
             escaped.append('\\"')
         elif char in "\b\t\n\f\r":
             escaped.append({"\b": "\\b", "\t": "\\t", "\n": "\\n", "\f": "\\f", "\r": "\\r"}[char])
-        elif ord(char) < 0x20 or ord(char) == 0x7F:
+        elif ord(char) < 0x20 or 0x7F <= ord(char) <= 0x9F:
             escaped.append(f"\\u{ord(char):04x}")
+        elif 0xD800 <= ord(char) <= 0xDFFF:
+            escaped.append("\ufffd")  # TOML has no escape for a lone surrogate
         else:
             escaped.append(char)
     return '"' + "".join(escaped) + '"'
 
 
+_COMMENT_UNSAFE = re.compile("[\x00-\x08\x0b-\x1f\x7f-\x9f\ud800-\udfff]")
+
+
 def _comment(text: str) -> str:
-    return " ".join(text.split())
+    # TOML forbids control characters in comments, and a lone surrogate cannot be written.
+    return " ".join(_COMMENT_UNSAFE.sub("\ufffd", text).split())
 
 
 def profile_text(profile: FeedProfile) -> str:

@@ -49,13 +49,20 @@ from catmap.errors import FeedEncodingError, FeedFormatError, ProfileError, Unsa
 from catmap.feeds.normalize import (
     clean_line,
     clean_text,
+    is_colour_value,
     normalize_availability,
     normalize_currency,
+    normalize_gender_text,
     normalize_gtin,
     parse_price,
     split_category_path,
 )
-from catmap.feeds.writers import EXCERPT_LENGTH, EXTENSIONS, open_product_writer, open_reject_writer
+from catmap.feeds.writers import (
+    EXCERPT_LENGTH,
+    EXTENSIONS,
+    open_product_writer,
+    open_reject_writer,
+)
 from catmap.records import Product, Reject, SourceRecord
 
 if TYPE_CHECKING:
@@ -78,6 +85,9 @@ FLAG_PRICE_UNPARSED = "price_unparsed"
 FLAG_CURRENCY_UNKNOWN = "currency_unknown"
 FLAG_CURRENCY_MISSING = "currency_missing"
 FLAG_CURRENCY_CONFLICT = "currency_conflict"
+FLAG_AVAILABILITY_UNRECOGNISED = "availability_unrecognised"
+FLAG_GENDER_UNRECOGNISED = "gender_unrecognised"
+FLAG_COLOUR_UNRECOGNISED = "colour_unrecognised"
 
 # The accounting lists at most this many duplicated ids, each with at most this many later lines;
 # the full count is in ``by_reason["duplicate_id"]`` and every duplicate is in the rejects file.
@@ -97,6 +107,7 @@ class Accounting:
         kept: products made.
         rejected: rejects, whatever stage made them.
         by_reason: reject reason → count.
+        by_flag: flag → count of kept products carrying it (a product may carry several).
         duplicate_ids: product id → the later lines where it appeared again (bounded: at most
             :data:`MAX_DUPLICATE_IDS_LISTED` ids and :data:`MAX_LINES_PER_DUPLICATE_ID` lines each).
         stopped_early: the message of a fatal feed error after which reading stopped, else None.
@@ -106,6 +117,7 @@ class Accounting:
     kept: int = 0
     rejected: int = 0
     by_reason: dict[str, int] = field(default_factory=dict)
+    by_flag: dict[str, int] = field(default_factory=dict)
     duplicate_ids: dict[str, list[int]] = field(default_factory=dict)
     stopped_early: str | None = None
 
@@ -119,6 +131,12 @@ class Accounting:
         self.rejected += 1
         self.by_reason[reason] = self.by_reason.get(reason, 0) + 1
 
+    def count_flags(self, flags: tuple[str, ...]) -> None:
+        """Count the flags of one kept product."""
+        by_flag = self.by_flag
+        for flag in flags:
+            by_flag[flag] = by_flag.get(flag, 0) + 1
+
     def to_dict(self) -> dict[str, Any]:
         """Return the accounting as JSON-ready values (reasons most frequent first)."""
         return {
@@ -126,6 +144,7 @@ class Accounting:
             "kept": self.kept,
             "rejected": self.rejected,
             "by_reason": dict(sorted(self.by_reason.items(), key=lambda item: (-item[1], item[0]))),
+            "by_flag": dict(sorted(self.by_flag.items(), key=lambda item: (-item[1], item[0]))),
             "duplicate_ids": {key: list(lines) for key, lines in self.duplicate_ids.items()},
             "stopped_early": self.stopped_early,
         }
@@ -215,6 +234,16 @@ class ProductBuilder:
         self.price_column = columns.get("price")
         self.currency_column = columns.get("currency")
         self.gtin_column = columns.get("gtin")
+        # Value words that are flagged when not recognised: (source column, flag).
+        self.word_checks: tuple[tuple[str, str], ...] = tuple(
+            (columns[name], flag)
+            for name, flag in (
+                ("availability", FLAG_AVAILABILITY_UNRECOGNISED),
+                ("gender_text", FLAG_GENDER_UNRECOGNISED),
+                ("colour", FLAG_COLOUR_UNRECOGNISED),
+            )
+            if name in columns
+        )
         # The price step runs when either column is mapped.
         self.has_price = self.price_column is not None or self.currency_column is not None
         # Raw price text → parse_price's answer for this profile's default currency. Feeds repeat
@@ -250,6 +279,11 @@ class ProductBuilder:
 
         if self.has_price:
             self._price(get, values, flags)
+
+        for column, flag in self.word_checks:
+            raw = get(column)
+            if raw and raw.strip() and not _WORD_RECOGNISED[flag](raw):
+                flags.append(flag)
 
         if self.gtin_column is not None:
             raw = get(self.gtin_column)
@@ -336,6 +370,12 @@ class ProductBuilder:
         elif price is not None:
             flags.append(FLAG_CURRENCY_MISSING)
 
+
+_WORD_RECOGNISED: dict[str, Callable[[str], bool]] = {
+    FLAG_AVAILABILITY_UNRECOGNISED: lambda raw: normalize_availability(raw) != "unknown",
+    FLAG_GENDER_UNRECOGNISED: lambda raw: normalize_gender_text(raw) != "unknown",
+    FLAG_COLOUR_UNRECOGNISED: is_colour_value,
+}
 
 _PRODUCT_ID = _PRODUCT_INDEX["product_id"]
 _TITLE = _PRODUCT_INDEX["title"]
@@ -556,6 +596,9 @@ def iter_products(
                 if first_line == _NOT_FOUND:
                     recent[key] = record.line
                     accounting.kept += 1
+                    flags = result.flags  # type: ignore[union-attr]  # a Product here
+                    if flags:
+                        accounting.count_flags(flags)
                     yield result
                     continue
             product_id = result.product_id

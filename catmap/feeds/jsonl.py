@@ -57,7 +57,7 @@ def iter_jsonl(path: str | Path, *, encoding: str) -> Iterator[SourceRecord | Re
         Records, or rejects "unparseable_record" (not JSON, or not an object) and
         "bad_encoding".
     """
-    other = _sniff.suggest_other_encoding(encoding)
+    bad_bytes = _sniff.bad_bytes_detail(encoding)
     stream, _ = open_binary(path)
     with io.TextIOWrapper(
         stream, encoding=encoding, errors=_sniff.ERROR_HANDLER, newline="\n"
@@ -71,7 +71,7 @@ def iter_jsonl(path: str | Path, *, encoding: str) -> Iterator[SourceRecord | Re
             if _sniff.SURROGATES.search(line):
                 yield Reject(
                     "bad_encoding",
-                    f"bytes that are not valid {encoding}; try --encoding {other}",
+                    bad_bytes,
                     number,
                     location,
                     _sniff.SURROGATES.sub("\ufffd", excerpt),
@@ -84,6 +84,15 @@ def iter_jsonl(path: str | Path, *, encoding: str) -> Iterator[SourceRecord | Re
                     "unparseable_record", f"not valid JSON: {exc}", number, location, excerpt
                 )
                 continue
+            except RecursionError:
+                yield Reject(
+                    "unparseable_record",
+                    "the JSON is nested too deep to read (Python's recursion limit)",
+                    number,
+                    location,
+                    excerpt,
+                )
+                continue
             if not isinstance(value, dict):
                 yield Reject(
                     "unparseable_record",
@@ -94,5 +103,31 @@ def iter_jsonl(path: str | Path, *, encoding: str) -> Iterator[SourceRecord | Re
                 )
                 continue
             fields: dict[str, str] = {}
-            flatten(value, "", fields)
+            try:
+                flatten(value, "", fields)
+            except RecursionError:
+                yield Reject(
+                    "unparseable_record",
+                    "the JSON is nested too deep to read (Python's recursion limit)",
+                    number,
+                    location,
+                    excerpt,
+                )
+                continue
+            # JSON can spell a lone surrogate ("\\ud800"), which is no character: such text
+            # cannot be written out again as UTF-8, in a value or in a key.
+            if "\\u" in line and _has_surrogate(fields):
+                yield Reject(
+                    "bad_encoding",
+                    "an escaped lone surrogate (\\ud800-\\udfff) is not a character",
+                    number,
+                    location,
+                    excerpt,
+                )
+                continue
             yield SourceRecord(fields, number, location)
+
+
+def _has_surrogate(fields: dict[str, str]) -> bool:
+    search = _sniff.SURROGATES.search
+    return any(search(key) or search(value) for key, value in fields.items())

@@ -34,10 +34,13 @@ __all__ = [
     "clean_line",
     "clean_text",
     "gs1_check_digit",
+    "is_colour_value",
     "normalize_availability",
     "normalize_currency",
+    "normalize_gender_text",
     "normalize_gtin",
     "parse_price",
+    "normalize_yes_no",
     "split_category_path",
 ]
 
@@ -535,6 +538,8 @@ _AVAILABILITY_EXACT: dict[str, str] = {
             "true", "yes", "y", "oui", "ja", "si", "available", "disponible", "instock",
             "in stock", "en stock", "auf lager", "lieferbar", "sofort lieferbar", "verfugbar",
             "vorratig", "lagernd", "en existencia", "hay stock", "con stock",
+            "disponibile", "in magazzino", "op voorraad", "leverbaar", "beschikbaar",
+            "disponivel", "em stock", "em estoque", "sim",
         ],
         "available",
     ),
@@ -542,7 +547,9 @@ _AVAILABILITY_EXACT: dict[str, str] = {
         [
             "false", "no", "n", "non", "nein", "sold out", "soldout", "out of stock",
             "outofstock", "unavailable", "indisponible", "epuise", "ausverkauft", "agotado",
-            "agotada", "vergriffen",
+            "agotada", "vergriffen", "esaurito", "esaurita", "non disponibile", "nee",
+            "uitverkocht", "niet op voorraad", "niet leverbaar", "nao", "esgotado", "esgotada",
+            "indisponivel", "sem stock", "sem estoque",
         ],
         "sold_out",
     ),
@@ -550,12 +557,17 @@ _AVAILABILITY_EXACT: dict[str, str] = {
         [
             "preorder", "pre order", "precommande", "pre commande", "vorbestellbar",
             "vorbestellung", "preventa", "reserva", "coming soon", "backorder", "back order",
-            "demnachst", "proximamente",
+            "demnachst", "proximamente", "in arrivo", "preordine", "prossimamente",
+            "binnenkort", "voorverkoop", "pre order", "em breve", "pre venda", "brevemente",
         ],
         "coming_soon",
     ),
     **dict.fromkeys(
-        ["limited", "low stock", "few left", "limitee", "limitado", "begrenzt"], "limited"
+        [
+            "limited", "low stock", "few left", "limitee", "limitado", "begrenzt", "limitato",
+            "ultimi pezzi", "beperkt", "beperkte voorraad", "ultimas pecas", "poucas unidades",
+        ],
+        "limited",
     ),
 }
 
@@ -569,7 +581,9 @@ _AVAILABILITY_PATTERNS: tuple[tuple[str, re.Pattern[str]], ...] = (
             r"pre ?order|pre ?commande|precommander|vorbestell|pre ?venta|\breserva|"
             r"coming soon|bientot|prochainement|demnachst|in kurze|proximamente|"
             r"back ?order|reapprovisionnement|available (?:from|on)|lieferbar ab|"
-            r"disponible (?:a partir|des le|desde|el)|sur commande|auf bestellung|bajo pedido"
+            r"disponible (?:a partir|des le|desde|el)|sur commande|auf bestellung|bajo pedido|"
+            r"in arrivo|disponibile (?:dal|da)|su ordinazione|binnenkort|vanaf \d|"
+            r"em breve|disponivel (?:a partir|em)|sob encomenda"
         ),
     ),
     (
@@ -578,7 +592,9 @@ _AVAILABILITY_PATTERNS: tuple[tuple[str, re.Pattern[str]], ...] = (
             r"limited|limitee?s?\b|limitad[oa]|few left|only \d+ left|low stock|"
             r"last (?:items|units|pieces)|derni(?:er|ere)s? (?:articles|exemplaires|pieces)|"
             r"plus que \d+|quelques|wenige|nur noch|geringer bestand|begrenzt|"
-            r"ultimas unidades|pocas unidades|quedan \d+|almost gone|selling fast"
+            r"ultimas unidades|pocas unidades|quedan \d+|almost gone|selling fast|"
+            r"ultimi pezzi|pochi pezzi|limitat[oa]|beperkt|nog \d+ (?:stuks|op voorraad)|"
+            r"ultimas pecas|poucas unidades|restam \d+"
         ),
     ),
     (
@@ -588,7 +604,9 @@ _AVAILABILITY_PATTERNS: tuple[tuple[str, re.Pattern[str]], ...] = (
             r"discontinued|rupture|epuise|indisponible|(?:non|pas|plus|n'est pas) disponible|"
             r"pas en stock|hors stock|ausverkauft|vergriffen|nicht (?:mehr )?(?:auf lager|"
             r"verfugbar|lieferbar|vorratig|erhaltlich)|agotad[oa]|sin (?:stock|existencias)|"
-            r"no disponible|fuera de stock|no hay stock"
+            r"no disponible|fuera de stock|no hay stock|esaurit[oa]|non disponibile|"
+            r"uitverkocht|niet (?:op voorraad|leverbaar|beschikbaar)|esgotad[oa]|"
+            r"indisponivel|sem (?:stock|estoque)|nao disponivel"
         ),
     ),
     (
@@ -596,19 +614,24 @@ _AVAILABILITY_PATTERNS: tuple[tuple[str, re.Pattern[str]], ...] = (
         re.compile(
             r"in ?stock|en stock|auf lager|lagernd|vorratig|verfugbar|lieferbar|available|"
             r"disponible|en existencia|hay stock|con stock|ships in|expedie sous|"
-            r"versandbereit|sofort"
+            r"versandbereit|sofort|disponibile|in magazzino|op voorraad|leverbaar|"
+            r"beschikbaar|disponivel|em stock|em estoque"
         ),
     ),
 )
 _COUNT_RE = re.compile(
-    r"(?:(?:stock|lager|bestand|qty|quantity|quantite|cantidad|existencias)\s*:?\s*)?"
+    r"(?:(?:stock|lager|bestand|qty|quantity|quantite|cantidad|existencias|quantita|"
+    r"voorraad|aantal|quantidade)\s*:?\s*)?"
     r"(\d+)(?:\.0+)?(?:\s*(?:pcs|pieces|stuck|unidades|units|items))?"
 )
 
 
 @lru_cache(maxsize=4096)
 def normalize_availability(value: str) -> str:
-    """Map free availability text (English, French, German, Spanish) to catmap's own values.
+    """Map free availability text to catmap's own values.
+
+    Words in English, French, German, Spanish, Italian, Dutch and Portuguese, and yes / no
+    in those languages, are read.
 
     Stock counts count too: "0" is sold out, a positive whole number is available.
 
@@ -676,3 +699,158 @@ def split_category_path(value: str) -> tuple[str, ...]:
     else:
         parts = _DASH_RE.split(text)
     return tuple(filter(None, map(clean_line, parts)))
+
+
+# ---------------------------------------------------------------------------------------------
+# Value words: who a product is for, colours, yes / no
+
+# Common practice, no source: how feeds in English, French, German, Spanish, Italian, Dutch and
+# Portuguese write who a product is for (accents removed, lower case).
+_GENDER_WORDS: dict[str, str] = {
+    **dict.fromkeys(
+        "women woman womens ladies lady female females f w femme femmes dame dames damen frau "
+        "frauen weiblich mujer mujeres senora senoras donna donne vrouw vrouwen mulher "
+        "mulheres senhora senhoras feminino feminina femenino femenina femminile".split(),
+        "female",
+    ),
+    **dict.fromkeys(
+        "men man mens male males gents gentlemen m homme hommes herren mann manner mannlich "
+        "hombre hombres caballero caballeros uomo uomini heren mannen homem homens masculino "
+        "maschile".split(),
+        "male",
+    ),
+    **dict.fromkeys(
+        "unisex mixte unisexe unissex unissexo unisexo uni u all everyone".split(), "unisex"
+    ),
+    **dict.fromkeys(
+        "girls girl fille filles madchen nina ninas bambina bambine ragazza ragazze meisje "
+        "meisjes menina meninas".split(),
+        "girls",
+    ),
+    **dict.fromkeys(
+        "boys boy garcon garcons jungen junge nino ninos bambino ragazzo ragazzi jongen jongens "
+        "menino meninos".split(),
+        "boys",
+    ),
+    **dict.fromkeys(
+        "kids kid children child enfant enfants kinder kind infantil bambini kinderen "
+        "crianca criancas junior juniors".split(),
+        "kids",
+    ),
+    **dict.fromkeys(
+        "baby babies infant infants bebe bebes neonato neonata neonati bambinos".split(), "baby"
+    ),
+}
+GENDER_VALUES = ("female", "male", "unisex", "girls", "boys", "kids", "baby", "unknown")
+_WORD_SPLIT_RE = re.compile(r"[\s/,;&+|()]+|\band\b|\bet\b|\bund\b|\by\b|\be\b|\ben\b")
+
+
+def _plain(value: str) -> str:
+    text = _strip_accents(clean_line(value).casefold().replace("ß", "ss"))
+    return text.replace("'s", "").replace("’s", "").strip(" .!:-_")
+
+
+@lru_cache(maxsize=4096)
+def normalize_gender_text(value: str) -> str:
+    """Read who a product is for from a feed's gender / audience value, in seven languages.
+
+    Args:
+        value: e.g. "Damen", "Uomo", "women's", "Heren / Dames", "menina".
+
+    Returns:
+        One of :data:`GENDER_VALUES`: a value naming both women and men is "unisex";
+        "unknown" when no word is recognised or two ages are named.
+    """
+    words = [word for word in _WORD_SPLIT_RE.split(_plain(value)) if word]
+    found: set[str] = set()
+    for word in words:
+        known = _GENDER_WORDS.get(word)
+        if known is None:
+            return "unknown"
+        found.add(known)
+    if not found:
+        return "unknown"
+    if found <= {"female", "male", "unisex"}:
+        return found.pop() if len(found) == 1 else "unisex"
+    if len(found) == 1:
+        return found.pop()
+    return "kids" if found <= {"girls", "boys", "kids"} else "unknown"
+
+
+# Colour words in the same seven languages (accents removed), with the shade words that may
+# come with them ("dark", "hell", "scuro"...). Common practice, no source.
+_COLOUR_WORDS = frozenset(
+    "black white grey gray red blue green yellow orange pink purple violet brown beige navy "
+    "cream ivory gold silver khaki olive turquoise burgundy camel taupe multicolour multicolor "
+    "multi noir noire blanc blanche gris rouge bleu bleue vert verte jaune rose marron brun "
+    "kaki bordeaux argent or ecru multicolore schwarz weiss grau rot blau grun gelb rosa lila "
+    "braun silber bunt negro negra blanco blanca rojo roja azul verde amarillo morado marron "
+    "dorado plateado nero nera bianco bianca grigio rosso rossa blu azzurro giallo viola "
+    "marrone arancione oro argento zwart wit grijs rood blauw groen geel paars bruin oranje "
+    "zilver goud preto preta branco branca cinza vermelho vermelha amarelo roxo castanho "
+    "laranja dourado prateado marinho".split()
+)
+_SHADE_WORDS = frozenset(
+    "dark light pale deep bright navy royal sky baby clair fonce claire foncee marine dunkel "
+    "hell oscuro oscura claro clara scuro scura chiaro chiara donker licht escuro escura "
+    "marino mat matte".split()
+)
+
+# Shades written as one word with the colour in German and Dutch ("Dunkelblau", "donkerblauw").
+_COMPOUND_SHADES = ("dunkel", "hell", "donker", "licht")
+
+
+@lru_cache(maxsize=4096)
+def is_colour_value(value: str) -> bool:
+    """Tell whether a colour field names colours catmap knows (seven languages, with shades).
+
+    Compound names count ("Dunkelblau", "navy/white"): every word must be a colour or a shade,
+    and one at least a colour; a German or Dutch compound is read as shade + colour.
+
+    Args:
+        value: the raw colour text.
+
+    Returns:
+        True when recognised.
+    """
+    words = [w for w in re.split(r"[\s/,;&+|()\-]+|\band\b|\bet\b|\bund\b|\by\b|\be\b",
+                                 _plain(value)) if w]  # fmt: skip
+    if not words:
+        return False
+    seen_colour = False
+    for word in words:
+        if word in _COLOUR_WORDS:
+            seen_colour = True
+            continue
+        if word in _SHADE_WORDS:
+            continue
+        compound = next(
+            (word[len(shade) :] for shade in _COMPOUND_SHADES if word.startswith(shade)), ""
+        )
+        if compound in _COLOUR_WORDS:
+            seen_colour = True
+            continue
+        return False
+    return seen_colour
+
+
+_YES_WORDS = frozenset("yes y true 1 oui ja si sim vrai wahr verdadero vero waar x".split())
+_NO_WORDS = frozenset("no n false 0 non nein nee nao faux falsch falso onwaar".split())
+
+
+@lru_cache(maxsize=1024)
+def normalize_yes_no(value: str) -> bool | None:
+    """Read a yes / no value in seven languages ("ja", "sì", "não", "true", "1"...).
+
+    Args:
+        value: the raw text.
+
+    Returns:
+        True, False, or None when it is neither.
+    """
+    text = _plain(value)
+    if text in _YES_WORDS:
+        return True
+    if text in _NO_WORDS:
+        return False
+    return None

@@ -262,7 +262,11 @@ def _open_xml(text: str, complete: bool, common: dict[str, Any], record_path: st
     else:
         xml_encoding = None
     if declared and source == "detected":
-        common = {**common, "encoding": _sniff.codec_name(declared, path)}
+        named = _sniff.codec_name(declared, path)
+        # "UTF-16" declared in a file with no byte-order mark: the detected "utf-16-le" (or
+        # "-be") says how to read it again; plain "utf-16" could not be read without the mark.
+        if not (named in ("utf-16", "utf-32") and encoding.startswith(named + "-")):
+            common = {**common, "encoding": named}
     counts, parents, namespaces, error = xml.scan(path, xml_encoding)
     if record_path:
         chosen = xml.resolve_record_path(record_path, counts, path)

@@ -359,3 +359,4 @@ def open_reject_writer(path: str | Path, format: str = "jsonl") -> RecordWriter:
     if format == "csv":
         return CsvWriter(path, REJECT_COLUMNS, _reject_csv_row)
     raise ValueError(f"unknown reject file format {format!r}; use jsonl or csv")
+

@@ -90,15 +90,38 @@ def check_prolog(text: str, path: str | Path, complete: bool) -> None:
 
 
 def _doctype_end(text: str, start: int) -> int:
-    """Index just after the DOCTYPE's closing '>', or -1 if it does not end in ``text``."""
-    bracket = text.find("[", start)
-    close = text.find(">", start)
-    if bracket != -1 and (close == -1 or bracket < close):
-        subset_end = text.find("]", bracket)
-        if subset_end == -1:
-            return -1
-        close = text.find(">", subset_end)
-    return -1 if close == -1 else close + 1
+    """Index just after the DOCTYPE's closing '>', or -1 if it does not end in ``text``.
+
+    Quoted literals are skipped, inside the internal subset and out: a default value such as
+    ``"]>"`` in an ATTLIST declaration must not end the DTD early and hide what follows it.
+    """
+    index = start
+    in_subset = False
+    length = len(text)
+    while index < length:
+        char = text[index]
+        if char in "\"'":
+            close = text.find(char, index + 1)
+            if close == -1:
+                return -1
+            index = close + 1
+            continue
+        if char == "[" and not in_subset:
+            in_subset = True
+        elif char == "]" and in_subset:
+            in_subset = False
+        elif char == ">" and not in_subset:
+            return index + 1
+        index += 1
+    return -1
+
+
+def _unknown_encoding(exc: LookupError, path: str | Path, encoding: str | None) -> FeedFormatError:
+    return FeedFormatError(
+        f"the XML reader does not know the encoding {encoding!r}: {exc}",
+        path=path,
+        hint="use --encoding utf-8, utf-16 or the encoding the file declares",
+    )
 
 
 def _qname(element: Any) -> str:
@@ -201,6 +224,8 @@ def scan(
                     break
     except etree.XMLSyntaxError as exc:
         error = _syntax_error(exc, path, 0)
+    except LookupError as exc:
+        raise _unknown_encoding(exc, path, encoding) from exc
     finally:
         stream.close()
     return counts, parents, namespaces, error
@@ -252,14 +277,30 @@ def resolve_record_path(given: str, counts: Counter[str], path: str | Path) -> s
     return min(matches, key=lambda p: (p.count("/"), -counts[p]))
 
 
-def _flatten(element: Any, prefix: str, out: dict[str, str]) -> None:
+# Attributes that give the order of repeated elements (a breadcrumb's levels). Common practice,
+# no source; seven languages.
+LEVEL_ATTRIBUTES = frozenset(
+    "level niveau ebene nivel livello depth tiefe profondeur profundidad diepte profundidade "
+    "order position rank".split()
+)
+
+
+def _flatten(
+    element: Any, prefix: str, out: dict[str, str], levelled: list[str] | None = None
+) -> None:
     # Runs for every record: lxml calls are the cost, so each is made once per child, cheap ones
     # first (keys() rather than the attrib proxy; attributes only read when there are some).
     if element.keys():
         for name, value in element.items():
             if value:
-                key = f"{prefix}@{_attribute_name(name, element)}"
-                out[key] = out[key] + JOIN + value if key in out else value
+                attribute = _attribute_name(name, element)
+                key = f"{prefix}@{attribute}"
+                if key in out:
+                    out[key] = out[key] + JOIN + value
+                else:
+                    out[key] = value
+                    if levelled is not None and attribute.lower() in LEVEL_ATTRIBUTES:
+                        levelled.append(prefix[:-1])
     for child in element:
         tag = child.tag
         if type(tag) is not str:
@@ -270,10 +311,40 @@ def _flatten(element: Any, prefix: str, out: dict[str, str]) -> None:
             tag = f"{child_prefix}:{local}" if child_prefix else local
         key = prefix + tag if prefix else tag
         if len(child) or child.keys():
-            _flatten(child, key + ".", out)
+            _flatten(child, key + ".", out, levelled)
         text = child.text
         if text and not text.isspace():
             out[key] = out[key] + JOIN + text if key in out else text
+
+
+def order_by_level(fields: dict[str, str], keys: list[str]) -> None:
+    """Put the values of repeated elements in the order of their level attribute, in place.
+
+    ``<crumb level="2">Kettles</crumb><crumb level="1">Kitchen</crumb>`` flattens to
+    "Kettles | Kitchen" with "crumb.@level" "2 | 1"; the path is "Kitchen | Kettles". Nothing
+    changes unless every element has a whole-number level.
+
+    Args:
+        fields: a flattened record.
+        keys: the element keys that carried a level attribute (e.g. "path.crumb").
+    """
+    for key in keys:
+        text = fields.get(key)
+        if text is None or JOIN not in text:
+            continue
+        for name in LEVEL_ATTRIBUTES:
+            found = [k for k in (f"{key}.@{name}", f"{key}.@{name.capitalize()}") if k in fields]
+            if found:
+                break
+        else:
+            continue
+        levels = fields[found[0]].split(JOIN)
+        values = text.split(JOIN)
+        if len(levels) != len(values) or not all(level.strip().isdigit() for level in levels):
+            continue
+        pairs = sorted(zip((int(level) for level in levels), values, strict=True))
+        fields[key] = JOIN.join(value for _, value in pairs)
+        fields[found[0]] = JOIN.join(str(level) for level, _ in pairs)
 
 
 def iter_xml(
@@ -322,7 +393,10 @@ def iter_xml(
             if (tag if tag[0] != "{" else _qname(element)) != name:
                 continue
             fields: dict[str, str] = {}
-            _flatten(element, "", fields)
+            levelled: list[str] = []
+            _flatten(element, "", fields, levelled)
+            if levelled:
+                order_by_level(fields, levelled)
             read += 1
             line = element.sourceline or 0
             yield SourceRecord(fields, line, f"<{name}> #{read} at line {line}")
@@ -332,5 +406,7 @@ def iter_xml(
                     del parent[0]
     except etree.XMLSyntaxError as exc:
         raise _syntax_error(exc, path, read) from exc
+    except LookupError as exc:
+        raise _unknown_encoding(exc, path, encoding) from exc
     finally:
         stream.close()

@@ -3,6 +3,7 @@
 
 from __future__ import annotations
 
+from itertools import islice
 from pathlib import Path
 from typing import Any
 
@@ -13,8 +14,11 @@ from catmap.feeds.fieldmap import (
     load_profile,
     suggest_profile,
 )
+from catmap.feeds.ingest import FATAL_FEED_ERRORS, Accounting, iter_products
+from catmap.feeds.language import feed_language, language_warning
 from catmap.feeds.profiled import column_mismatch, format_mismatch
 from catmap.feeds.read import Feed
+from catmap.feeds.writers import product_to_dict
 from catmap.jobs._feed_profile import (
     SAMPLE_SIZE,
     open_with_profile,
@@ -22,49 +26,105 @@ from catmap.jobs._feed_profile import (
     suggest_and_save,
 )
 from catmap.project import profile_path
+from catmap.records import Reject, SourceRecord
+from catmap.tree.treefile import LANGUAGES
 
-__all__ = ["SAMPLES_SHOWN", "inspect_feed", "mapping_rows"]
+__all__ = ["PREVIEW_RECORDS", "SAMPLES_SHOWN", "inspect_feed", "mapping_rows", "preview_products"]
 
 # Sample values shown per mapped field.
 SAMPLES_SHOWN = 3
+# Normalised records shown as a preview.
+PREVIEW_RECORDS = 5
 
 
-def mapping_rows(profile: FeedProfile, feed: Feed, sample_needed: bool) -> list[dict[str, Any]]:
-    """Return one row per mapped field: column, confidence, evidence, sample values.
+def mapping_rows(
+    profile: FeedProfile, feed: Feed, sample_needed: bool, sample: list[SourceRecord] | None = None
+) -> list[dict[str, Any]]:
+    """Return one row per target field: column, confidence, evidence for and against, samples.
+
+    A saved profile keeps no evidence: the mapping is then suggested again from the sample
+    (not saved) to give each saved column its evidence, and a different suggestion is named
+    against the saved one.
 
     Args:
         profile: the feed's profile.
         feed: the open feed.
-        sample_needed: read a sample for sample values (a saved profile keeps none).
+        sample_needed: the profile is a saved one (no suggestions of its own).
+        sample: the first records, when already read.
     """
-    by_field = {s.field: s for s in profile.suggestions if s.column}
-    samples: list[dict[str, str]] = []
-    if sample_needed:
-        samples = [record.fields for record in feed.sample(SAMPLE_SIZE)]
+    if sample is None:
+        sample = feed.sample(SAMPLE_SIZE)
+    suggestions = profile.suggestions
+    if sample_needed or not suggestions:
+        suggestions = suggest_profile(feed.info, sample).suggestions
+    by_field = {s.field: s for s in suggestions}
     rows = []
     for name in TARGET_FIELDS:
         column = profile.columns.get(name)
-        if not column:
-            continue
         suggestion = by_field.get(name)
+        against = list(suggestion.against) if suggestion is not None else []
         if suggestion is not None and suggestion.column == column:
-            confidence: float | None = suggestion.confidence
+            confidence: float | None = suggestion.confidence if column else None
             evidence = suggestion.evidence
             values = list(suggestion.samples[:SAMPLES_SHOWN])
         else:
             confidence = None
-            evidence = "from the saved profile"
-            values = [r[column] for r in samples if r.get(column)][:SAMPLES_SHOWN]
+            evidence = "from the saved profile" if column else "not mapped in the saved profile"
+            values = (
+                [r.fields[column] for r in sample if r.fields.get(column)][:SAMPLES_SHOWN]
+                if column
+                else []
+            )
+            if suggestion is not None and suggestion.column:
+                against.insert(
+                    0,
+                    f"catmap would suggest '{suggestion.column}' ({suggestion.confidence:.2f}: "
+                    f"{suggestion.evidence})",
+                )
         rows.append(
             {
                 "field": name,
-                "column": column,
+                "column": column or None,
                 "confidence": confidence,
                 "evidence": evidence,
+                "against": against,
                 "samples": values,
             }
         )
     return rows
+
+
+def preview_products(
+    feed: Feed, profile: FeedProfile, count: int = PREVIEW_RECORDS
+) -> list[dict[str, Any]]:
+    """Normalise the first records of a feed with its profile, as ``catmap normalize`` would.
+
+    Args:
+        feed: the open feed.
+        profile: the profile (it must map the required fields, else nothing is shown).
+        count: how many products (and the rejects among them) to show.
+
+    Returns:
+        Up to ``count`` products as JSON-ready values, or rejects as ``{"rejected": reason,
+        "detail": ..., "line": ...}``, in feed order.
+    """
+    if any(not profile.columns.get(name) for name in REQUIRED_FIELDS):
+        return []
+    records = iter(feed)
+    preview: list[dict[str, Any]] = []
+    try:
+        for item in iter_products(islice(records, count), profile, Accounting()):
+            if isinstance(item, Reject):
+                preview.append({"rejected": item.reason, "detail": item.detail, "line": item.line})
+            else:
+                preview.append(product_to_dict(item))
+    except FATAL_FEED_ERRORS:
+        pass  # the error is the normalize run's to report; the preview shows what came before
+    finally:
+        close = getattr(records, "close", None)
+        if close is not None:
+            close()
+    return preview
 
 
 def inspect_feed(
@@ -113,9 +173,12 @@ def inspect_feed(
         existing = False
     elif profile is None:
         profile = suggest_and_save(opened, saved_path, encoding, record_path, delimiter)
-    rows = mapping_rows(profile, opened, sample_needed=existing)
+    sample = opened.sample(SAMPLE_SIZE)
+    rows = mapping_rows(profile, opened, sample_needed=existing, sample=sample)
     mapped_columns = set(profile.columns.values())
     missing = profile.missing()
+    language = feed_language(sample, profile.columns)
+    warning = language_warning(language, LANGUAGES)
     return {
         "feed": str(feed),
         "format": info.format,
@@ -133,4 +196,7 @@ def inspect_feed(
         "profile": str(saved_path),
         "profile_status": "mismatch" if mismatch else ("existing" if existing else "saved"),
         "profile_mismatch": mismatch,
+        "preview": preview_products(opened, profile),
+        "language": language.to_dict(),
+        "warnings": [warning] if warning else [],
     }

@@ -17,9 +17,16 @@ from catmap.feeds.ingest import (
     normalize_feed_to,
     output_paths,
 )
+from catmap.feeds.language import feed_language, language_warning
 from catmap.feeds.profiled import column_mismatch, format_mismatch, profile_mismatch_error
-from catmap.jobs._feed_profile import open_with_profile, saved_profile, suggest_and_save
+from catmap.jobs._feed_profile import (
+    SAMPLE_SIZE,
+    open_with_profile,
+    saved_profile,
+    suggest_and_save,
+)
 from catmap.project import profile_path
+from catmap.tree.treefile import LANGUAGES
 
 __all__ = ["NormalizeResult", "normalize_project_feed"]
 
@@ -91,6 +98,8 @@ def normalize_project_feed(
     if default_currency is not None:
         profile.default_currency = default_currency
     check_profile(profile, opened.info, profile_path=path)
+    language = feed_language(opened.sample(SAMPLE_SIZE), profile.columns)
+    warning = language_warning(language, LANGUAGES)
 
     accounting = Accounting()
     paths = output_paths(out_dir, format)
@@ -110,5 +119,7 @@ def normalize_project_feed(
         "format": format,
         "profile": str(path),
         "profile_status": profile_status,
+        "language": language.to_dict(),
+        "warnings": [warning] if warning else [],
     }
     return NormalizeResult(facts, paths, error)
