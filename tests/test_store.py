@@ -583,6 +583,47 @@ def test_undo_restores_the_mapping_and_reclaims_the_item(store: Store) -> None:
     assert store.undo_last("ann") == []
 
 
+def test_undo_refuses_to_discard_a_later_decision_by_another_reviewer(store: Store) -> None:
+    # A accepts one item of a product; B chooses another node on the product's second item;
+    # A's undo must not put the mapping back under B's live decision.
+    feed = seed(store, [make_row(1), make_row(2)])
+    first = store.claim_next("ann")
+    assert first is not None and first.product_id == "p0001"
+    store.decide(first.id, "ann", "accept")
+    second = store.enqueue(feed, "p0001", "audit_sample", priority=9.0)
+    claimed = store.claim_next("bob")
+    assert claimed is not None and claimed.id == second
+    store.decide(second, "bob", "choose", node_id="1600")
+    with pytest.raises(StoreError, match="bob decided it after you"):
+        store.undo_last("ann")
+    stored = store.mapping(feed, "p0001")
+    assert (stored.status, stored.mapping.node_id) == ("reviewed", "1600")
+    assert [d.reviewer for d in store.decisions()] == ["ann", "bob"]
+    assert [t.node_id for t in store.training_examples(feed)] == ["1600"]
+    assert store.item(first.id).state == "done"
+    # Once bob takes his back, ann's undo goes through and restores what hers changed.
+    assert store.undo_last("bob") == [second]
+    assert store.undo_last("ann") == [first.id]
+    assert store.mapping(feed, "p0001").status == "queued"
+
+
+def test_undoing_a_skip_does_not_take_the_item_from_another_reviewer(
+    store: Store, clock: FakeClock
+) -> None:
+    seed(store, [make_row(1)])
+    item = store.claim_next("ann")
+    assert item is not None
+    store.decide(item.id, "ann", "skip")
+    assert store.claim_next("bob") is not None
+    with pytest.raises(StoreError, match="bob has it on screen"):
+        store.undo_last("ann")
+    store.decide(item.id, "bob", "accept")
+    with pytest.raises(StoreError, match="bob decided it after you"):
+        store.undo_last("ann")
+    assert store.item(item.id).state == "done"
+    assert [d.action for d in store.decisions()] == ["skip", "accept"]
+
+
 def test_review_item_gives_the_screen_everything(store: Store) -> None:
     rows = [make_row(i, confidence=0.6) for i in range(9)] + [
         make_row(9, node="1700", confidence=0.7)

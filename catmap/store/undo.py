@@ -2,12 +2,19 @@
 
 A decision is never deleted: undo marks it undone, restores the mapping it saved and reopens
 its item, claimed by the reviewer, in one transaction with its audit entry.
+
+Undo only takes back what its own decision changed. When someone else decided the same product
+after it (on any of its items), restoring the saved mapping would silently throw their live
+decision away, so the undo is refused with a message naming that decision; likewise when the
+item of an undone skip has since been taken by another reviewer.
 """
 
 from __future__ import annotations
 
 import json
+import sqlite3
 
+from catmap.errors import StoreError
 from catmap.store.audit import AuditMixin
 from catmap.store.queue import DEFAULT_LEASE_SECONDS
 
@@ -25,6 +32,10 @@ class UndoMixin(AuditMixin):
 
         Returns:
             The ids of the items reopened (empty when there is nothing to undo).
+
+        Raises:
+            StoreError: another reviewer decided one of the products after this decision, or
+                holds the item of an undone skip; nothing is changed.
         """
         with self._transaction() as conn:
             last = conn.execute(
@@ -45,6 +56,8 @@ class UndoMixin(AuditMixin):
                     "SELECT * FROM decisions WHERE id = ?", (last["id"],)
                 ).fetchall()
             now = self._now()
+            for decision in rows:
+                self._check_undoable(conn, reviewer, decision, now)
             lease = self._lease_until(lease_seconds)
             item_ids: list[int] = []
             feed_id: int | None = None
@@ -82,3 +95,44 @@ class UndoMixin(AuditMixin):
                 },
             )
         return item_ids
+
+    def _check_undoable(
+        self, conn: sqlite3.Connection, reviewer: str, decision: sqlite3.Row, now: str
+    ) -> None:
+        """Refuse to undo ``decision`` when that would discard another reviewer's work."""
+        item = conn.execute(
+            "SELECT feed_id, product_id, state, claimed_by, lease_until FROM review_items "
+            "WHERE id = ?",
+            (decision["item_id"],),
+        ).fetchone()
+        later = conn.execute(
+            "SELECT d.id, d.reviewer, d.action FROM decisions AS d "
+            "JOIN review_items AS i ON i.id = d.item_id "
+            "WHERE i.feed_id = ? AND i.product_id = ? AND d.id > ? AND d.undone_at IS NULL "
+            "AND d.action != 'skip' AND (d.bulk_id IS NULL OR d.bulk_id IS NOT ?) "
+            "ORDER BY d.id LIMIT 1",
+            (item["feed_id"], item["product_id"], decision["id"], decision["bulk_id"]),
+        ).fetchone()
+        if later is not None:
+            raise StoreError(
+                f"cannot undo your {decision['action']} of product {item['product_id']}: "
+                f"{later['reviewer']} decided it after you ({later['action']}, decision "
+                f"{later['id']}), and undoing yours would discard theirs",
+                path=self.path,
+                product_id=item["product_id"],
+                hint="ask them to undo theirs first, or decide the product again",
+            )
+        taken = (
+            decision["action"] == "skip"
+            and item["state"] == "claimed"
+            and item["claimed_by"] != reviewer
+            and (item["lease_until"] or "") >= now
+        )
+        if taken:
+            raise StoreError(
+                f"cannot undo your skip of product {item['product_id']}: "
+                f"{item['claimed_by']} has it on screen now",
+                path=self.path,
+                product_id=item["product_id"],
+                hint="let them decide it",
+            )
