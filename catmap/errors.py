@@ -122,3 +122,8 @@ class StoreError(CatmapError):
     """The project store cannot be opened, migrated or written."""
 
     exit_code = EXIT_STORE
+
+
+class ReviewError(CatmapError):
+    """A review action that cannot be done on the item on screen (e.g. a group decision with
+    no node to put the group on)."""

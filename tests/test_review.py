@@ -14,6 +14,7 @@ import pytest
 from textual.widgets import OptionList, Static
 
 from catmap.attributes import RESTRICTION_CAUTION
+from catmap.errors import ReviewError
 from catmap.records import Alternative, Attributes, Mapping, Product
 from catmap.review.app import ReviewApp, confidence_bar
 from catmap.review.sample import (
@@ -659,3 +660,47 @@ async def test_a_restricted_suggestion_shows_the_caution_before_the_flag_is_set(
             assert "[alcohol]" in suggestion  # the alternative is marked too
             assert _flat(RESTRICTION_CAUTION) in _flat(_screen_text(app, "attributes"))
             await pilot.press("q")
+
+
+# -- a group decision on a product already set to no fitting node ----------------------------
+
+
+def _no_fit_through_a_sibling(store: Store, tree: CategoryTree) -> ReviewSession:
+    """BT-001 set to no fitting node by ana; a second item of BT-001 then claimed by bo."""
+    ana = _session(store, tree, "ana")
+    view = ana.next()
+    assert view is not None and view.product.product_id == "BT-001"
+    ana.no_fit()
+    ana.close()
+    store.enqueue(SAMPLE_FEED, "BT-001", "audit_sample", priority=99.0)
+    bo = _session(store, tree, "bo")
+    view = bo.next()
+    assert view is not None and view.product.product_id == "BT-001"
+    assert view.mapping.node_id == ""
+    return bo
+
+
+def test_group_decision_without_a_node_says_why(memory_store: Store, tree: CategoryTree) -> None:
+    bo = _no_fit_through_a_sibling(memory_store, tree)
+    with pytest.raises(ReviewError, match="no fitting node") as raised:
+        bo.decide_group()
+    assert "no node with id" not in str(raised.value)
+    assert "pick the group's node" in str(raised.value)
+    assert len(memory_store.decisions()) == 1  # nothing written
+    assert len(bo.decide_group(ANKLE_BOOTS)) == 6  # a node picked for the group works
+
+
+@sync
+async def test_group_key_without_a_node_shows_a_clear_message(
+    memory_store: Store, tree: CategoryTree
+) -> None:
+    app = ReviewApp(_no_fit_through_a_sibling(memory_store, tree))
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("g", "enter")
+        await pilot.pause()
+        await pilot.press("y")
+        await pilot.pause()
+        message = _screen_text(app, "message")
+        assert "no fitting node" in message and "no node with id" not in message
+        assert len(memory_store.decisions()) == 1
+        await pilot.press("q")

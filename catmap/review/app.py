@@ -425,7 +425,13 @@ class ReviewApp(App[None]):
                     self.message += f" (restricted node: flagged {flag})"
             self.render_item()
             return
-        target = node_id or view.mapping.node_id
+        try:
+            target = session.group_target(node_id)
+        except CatmapError as error:
+            self.group_mode = False
+            self.message = f"could not do that: {error}"
+            self.render_item()
+            return
         count = session.group_targets()
         question = (
             f"Put {count} product{'s' if count != 1 else ''} of group "

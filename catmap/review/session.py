@@ -23,7 +23,7 @@ from dataclasses import dataclass
 from datetime import UTC, datetime, timedelta
 
 from catmap.attributes import AttributeExtractor, BrandDictionary
-from catmap.errors import StoreError, UnknownNode
+from catmap.errors import ReviewError, StoreError, UnknownNode
 from catmap.records import AGE_VALUES, WHO_VALUES
 from catmap.review.follow import NodeFollower
 from catmap.store import (
@@ -326,6 +326,32 @@ class ReviewSession:
                 count += 1
         return count + 1  # the item on screen is decided too
 
+    def group_target(self, node_id: str | None = None) -> str:
+        """The node a group decision would put the on-screen item's group on.
+
+        Args:
+            node_id: the node picked for the group; None means the on-screen suggestion.
+
+        Returns:
+            The node id.
+
+        Raises:
+            ReviewError: there is no node to use (the product was set to no fitting node,
+                e.g. through another of its review items, and no node was picked).
+            UnknownNode: the node is not in the tree.
+        """
+        view = self._require()
+        target = node_id or view.mapping.node_id
+        if not target:
+            raise ReviewError(
+                "this product is set to 'no fitting node', so there is no suggested node to "
+                "put its group on",
+                product_id=view.product.product_id,
+                hint="pick the group's node with 1-3 or /, or decide this item alone",
+            )
+        self.tree[target]
+        return target
+
     def decide_group(self, node_id: str | None = None) -> list[Decision]:
         """Put every open item of the on-screen item's group on one node.
 
@@ -338,10 +364,12 @@ class ReviewSession:
 
         Returns:
             Every decision written.
+
+        Raises:
+            ReviewError: no node to put the group on (see :meth:`group_target`).
         """
         view = self._require()
-        target = node_id or view.mapping.node_id
-        self.tree[target]
+        target = self.group_target(node_id)
         decisions: list[Decision] = []
         single = self.pending.any() or view.item.reason not in GROUP_REASONS
         if single:
