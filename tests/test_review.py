@@ -704,3 +704,18 @@ async def test_group_key_without_a_node_shows_a_clear_message(
         assert "no fitting node" in message and "no node with id" not in message
         assert len(memory_store.decisions()) == 1
         await pilot.press("q")
+
+
+@sync
+async def test_an_item_shows_every_reason_of_its_product(store: Store, tree: CategoryTree) -> None:
+    store.enqueue(SAMPLE_FEED, "BT-001", "brand_conflict", priority=5.0)
+    app = ReviewApp(_session(store, tree))
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.pause()
+        product = _screen_text(app, "product")
+        assert "BT-001" in product
+        assert "low confidence" in product and "brand conflict" in product
+        # A brand conflict needs a person: the group decision leaves the item to be decided
+        # on its own first.
+        assert app.session.group_targets() == 6
+        await pilot.press("q")

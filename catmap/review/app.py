@@ -316,9 +316,9 @@ class ReviewApp(App[None]):
         text.append(f"price    {price}\n")
         text.append(f"retailer {view.retailer_path or '—'}\n")
         text.append(f"id       {product.product_id}   feed {view.item.feed_name}\n")
-        reason = REASON_TEXT.get(view.item.reason, view.item.reason)
-        text.append("queued   ", style="bold")
-        text.append(reason + "\n", style="bold yellow")
+        for number, code in enumerate(view.item.reasons or (view.item.reason,)):
+            text.append("queued   " if number == 0 else "         ", style="bold")
+            text.append(REASON_TEXT.get(code, code) + "\n", style="bold yellow")
         if view.item.skips:
             text.append(f"skipped {view.item.skips}×\n", style="dim")
         if view.description_excerpt:

@@ -318,7 +318,7 @@ class ReviewSession:
             for item in self.store.items(feed=view.item.feed_id, state=state):
                 if item.group_key != view.item.group_key or item.id == view.item.id:
                     continue
-                if item.reason not in GROUP_REASONS:
+                if any(r not in GROUP_REASONS for r in item.reasons):
                     continue
                 if state == "claimed" and item.claimed_by != self.reviewer:
                     if (item.lease_until or "") >= now:
@@ -371,7 +371,7 @@ class ReviewSession:
         view = self._require()
         target = self.group_target(node_id)
         decisions: list[Decision] = []
-        single = self.pending.any() or view.item.reason not in GROUP_REASONS
+        single = self.pending.any() or any(r not in GROUP_REASONS for r in view.item.reasons)
         if single:
             action = "accept" if target == view.mapping.node_id else "choose"
             decisions.append(

@@ -16,7 +16,7 @@ import sqlite3
 
 from catmap.errors import StoreError
 from catmap.store.audit import AuditMixin
-from catmap.store.queue import DEFAULT_LEASE_SECONDS
+from catmap.store.queue import DEFAULT_LEASE_SECONDS, reasons_of
 
 
 class UndoMixin(AuditMixin):
@@ -78,6 +78,7 @@ class UndoMixin(AuditMixin):
                     "skips = ? WHERE id = ?",
                     (reviewer, lease, before.get("skips", 0), decision["item_id"]),
                 )
+                _fold_waiting(conn, decision["item_id"])
                 conn.execute(
                     "UPDATE decisions SET undone_at = ? WHERE id = ?", (now, decision["id"])
                 )
@@ -122,6 +123,20 @@ class UndoMixin(AuditMixin):
                 product_id=item["product_id"],
                 hint="ask them to undo theirs first, or decide the product again",
             )
+        waiting = conn.execute(
+            "SELECT product_id, claimed_by FROM review_items WHERE feed_id = ? "
+            "AND product_id = ? AND id != ? AND state = 'claimed' AND claimed_by != ? "
+            "AND lease_until >= ?",
+            (item["feed_id"], item["product_id"], decision["item_id"], reviewer, now),
+        ).fetchone()
+        if waiting is not None:
+            raise StoreError(
+                f"cannot undo your {decision['action']} of product {item['product_id']}: "
+                f"{waiting['claimed_by']} has it on screen now (another review item of it)",
+                path=self.path,
+                product_id=item["product_id"],
+                hint="let them decide it, then undo",
+            )
         taken = (
             decision["action"] == "skip"
             and item["state"] == "claimed"
@@ -136,3 +151,28 @@ class UndoMixin(AuditMixin):
                 product_id=item["product_id"],
                 hint="let them decide it",
             )
+
+
+def _fold_waiting(conn: sqlite3.Connection, item_id: int) -> None:
+    """Keep one waiting item per product: another waiting item of the reopened item's product
+    (queued after the decision) joins it with its reasons and is closed as merged."""
+    item = conn.execute("SELECT * FROM review_items WHERE id = ?", (item_id,)).fetchone()
+    others = conn.execute(
+        "SELECT * FROM review_items WHERE feed_id = ? AND product_id = ? AND id != ? "
+        "AND state != 'done' ORDER BY id",
+        (item["feed_id"], item["product_id"], item_id),
+    ).fetchall()
+    if not others:
+        return
+    reasons = list(reasons_of(item))
+    for other in others:
+        reasons.extend(r for r in reasons_of(other) if r not in reasons)
+    conn.execute(
+        "UPDATE review_items SET reasons = ?, priority = MAX(priority, ?) WHERE id = ?",
+        (" ".join(reasons), max(o["priority"] for o in others), item_id),
+    )
+    conn.executemany(
+        "UPDATE review_items SET state = 'done', claimed_by = NULL, lease_until = NULL, "
+        "withdrawn_reason = ? WHERE id = ?",
+        [(f"merged into review item {item_id}", o["id"]) for o in others],
+    )
