@@ -8,7 +8,11 @@ through the store (one transaction each) and reads the item back. Layout, from t
   description excerpt) and its attributes (brand, who, age, colour family, restriction);
 - right column: the suggested node (path, confidence as a percentage and a bar), the
   numbered alternatives, and the retailer category group with its consensus;
-- a message line, then the keys.
+- a message line, then two lines of keys (every key the screen takes, always visible).
+
+The layout fits an 80×24 terminal: each attribute, path and source is one line cut to the
+column's width (a path keeps its end, the node's own name), and the product panel gives up its
+description first. A larger terminal shows the whole description and the feed's own fields.
 
 Product text is shown as plain text (never read as markup): feeds contain brackets.
 
@@ -24,19 +28,75 @@ from collections.abc import Callable
 from typing import ClassVar
 
 from rich.text import Text
+from textual import events
 from textual.app import App, ComposeResult
 from textual.binding import Binding, BindingType
 from textual.containers import Horizontal, Vertical
 from textual.screen import ModalScreen
-from textual.widgets import Footer, Input, OptionList, Static
+from textual.widgets import Input, OptionList, Static
 from textual.widgets.option_list import Option
 
 from catmap.errors import CatmapError
+from catmap.records import AGE_VALUES, WHO_VALUES
 from catmap.review.session import MAX_ALTERNATIVES, REASON_TEXT, ReviewSession
 from catmap.store import ReviewView
 
 BAR_WIDTH = 20
 SEARCH_LIMIT = 12
+# Below this size the screen drops the description and the feed fields.
+ROOMY_WIDTH = 120
+ROOMY_HEIGHT = 36
+DESCRIPTION_ROOMY = 1200
+
+# Direct keys for each who and age value (upper case: the lower-case letters are taken).
+WHO_KEYS = {"female": "F", "male": "M", "unisex": "U", "not_applicable": "X"}
+AGE_KEYS = {"adult": "A", "kids": "K", "baby": "B", "not_applicable": "Z"}
+assert set(WHO_KEYS) == set(WHO_VALUES) and set(AGE_KEYS) == set(AGE_VALUES)
+
+# The keys the screen shows, two lines that fit 80 columns: (key, what it does).
+KEY_LINES: tuple[tuple[tuple[str, str], ...], ...] = (
+    (
+        ("⏎", "accept"),
+        ("1-3", "alt"),
+        ("/", "search"),
+        ("n", "no fit"),
+        ("s", "skip"),
+        ("u", "undo"),
+        ("g", "group"),
+        ("b", "brand"),
+        ("q", "quit"),
+    ),
+    (
+        ("w", "who"),
+        *((key, value.replace("not_applicable", "n/a")) for value, key in WHO_KEYS.items()),
+        ("a", "age"),
+        *((key, value.replace("not_applicable", "n/a")) for value, key in AGE_KEYS.items()),
+    ),
+)
+
+
+def keys_text() -> Text:
+    """The two key lines, keys in bold."""
+    text = Text(no_wrap=True, overflow="ellipsis")
+    for number, line in enumerate(KEY_LINES):
+        if number:
+            text.append("\n")
+        for index, (key, label) in enumerate(line):
+            if index:
+                text.append(" ")
+            text.append(key, style="bold reverse")
+            text.append(f" {label}")
+    return text
+
+
+def fit(text: str, width: int) -> str:
+    """``text`` cut to ``width`` cells with an ellipsis at the end."""
+    return text if len(text) <= width else text[: max(width - 1, 0)] + "…"
+
+
+def fit_path(text: str, width: int) -> str:
+    """A path cut to ``width`` cells from the start, so that the node's own name stays."""
+    return text if len(text) <= width else "…" + text[-max(width - 1, 0) :]
 
 
 def confidence_bar(confidence: float, width: int = BAR_WIDTH) -> str:
@@ -189,18 +249,23 @@ class ReviewApp(App[None]):
     ENABLE_COMMAND_PALETTE = False
     CSS = """
     Screen { layout: vertical; }
-    #topbar { height: 1; background: $primary-darken-2; color: $text; padding: 0 1; }
+    #topbar { height: 1; background: $primary-darken-2; color: $text; padding: 0 1;
+              text-wrap: nowrap; text-overflow: ellipsis; }
     #columns { height: 1fr; }
     #left, #right { width: 1fr; }
     .panel { border: round $secondary; padding: 0 1; height: auto; }
-    #product { height: auto; }
-    #group { height: 1fr; }
-    #message { height: 2; padding: 0 1; color: $warning; }
+    #product { height: 1fr; min-height: 5; }
+    #attributes { height: auto; }
+    #suggestion { height: auto; }
+    #group { height: 1fr; min-height: 4; }
+    #message { height: 1; padding: 0 1; color: $warning; text-wrap: nowrap;
+               text-overflow: ellipsis; }
+    #keys { height: 2; padding: 0 1; background: $panel; }
     ConfirmScreen, BrandScreen, SearchScreen { align: center middle; }
-    #dialog { width: 70; height: auto; border: thick $accent; padding: 1 2;
-              background: $surface; }
-    #search-dialog { width: 90; height: 24; border: thick $accent; padding: 0 1;
-                     background: $surface; }
+    #dialog { width: 100%; max-width: 72; height: auto; max-height: 100%;
+              border: thick $accent; padding: 0 1; background: $surface; }
+    #search-dialog { width: 100%; max-width: 100; height: 100%; max-height: 30;
+                     border: thick $accent; padding: 0 1; background: $surface; }
     #search-results { height: 1fr; }
     #search-caution { height: auto; }
     .hint { color: $text-muted; margin-top: 1; }
@@ -219,6 +284,14 @@ class ReviewApp(App[None]):
         Binding("b", "brand", "Brand"),
         Binding("w", "who", "Who"),
         Binding("a", "age", "Age"),
+        *(
+            Binding(key, f"set_who('{value}')", f"Who {value}", show=False)
+            for value, key in WHO_KEYS.items()
+        ),
+        *(
+            Binding(key, f"set_age('{value}')", f"Age {value}", show=False)
+            for value, key in AGE_KEYS.items()
+        ),
         Binding("escape", "cancel_group", "Cancel group", show=False),
         Binding("q", "leave", "Quit"),
     ]
@@ -242,7 +315,7 @@ class ReviewApp(App[None]):
                 yield Static(id="suggestion", classes="panel")
                 yield Static(id="group", classes="panel")
         yield Static(id="message")
-        yield Footer()
+        yield Static(keys_text(), id="keys")
 
     def on_mount(self) -> None:
         for widget_id, title in (
@@ -307,89 +380,130 @@ class ReviewApp(App[None]):
         panels["suggestion"].update(self._suggestion_text(view))
         panels["group"].update(self._group_text(view))
 
+    def _inner_width(self) -> int:
+        """Cells inside a panel: half the screen less the border and padding."""
+        return max(self.size.width // 2 - 4, 16)
+
+    def _roomy(self) -> bool:
+        return self.size.width >= ROOMY_WIDTH and self.size.height >= ROOMY_HEIGHT
+
+    def on_resize(self, event: events.Resize) -> None:
+        self.render_item()
+
     def _product_text(self, view: ReviewView) -> Text:
         product = view.product
+        width = self._inner_width()
         text = Text()
         text.append(product.title + "\n", style="bold")
         price = f"{product.price} {product.currency or ''}".strip() if product.price else "—"
-        text.append(f"brand    {product.brand or '—'}\n")
-        text.append(f"price    {price}\n")
-        text.append(f"retailer {view.retailer_path or '—'}\n")
-        text.append(f"id       {product.product_id}   feed {view.item.feed_name}\n")
+        text.append(fit(f"brand {product.brand or '—'} · price {price}", width) + "\n")
+        text.append(fit_path(f"retailer {view.retailer_path or '—'}", width) + "\n")
+        text.append(fit(f"id {product.product_id} · feed {view.item.feed_name}", width) + "\n")
         for number, code in enumerate(view.item.reasons or (view.item.reason,)):
-            text.append("queued   " if number == 0 else "         ", style="bold")
-            text.append(REASON_TEXT.get(code, code) + "\n", style="bold yellow")
+            text.append("queued " if number == 0 else "       ", style="bold")
+            text.append(fit(REASON_TEXT.get(code, code), width - 7) + "\n", style="bold yellow")
         if view.item.skips:
             text.append(f"skipped {view.item.skips}×\n", style="dim")
-        if view.description_excerpt:
-            text.append("\n" + view.description_excerpt, style="italic")
+        if self._roomy():
+            fields = (
+                ("colour field", product.colour),
+                ("size", product.size),
+                ("gender field", product.gender_text),
+                ("GTIN", product.gtin or product.gtin_raw),
+                ("availability", product.availability),
+                ("link", product.url),
+            )
+            for label, value in fields:
+                if value:
+                    text.append(fit(f"{label:<13}{value}", width) + "\n", style="dim")
+            description = product.description
+            if len(description) > DESCRIPTION_ROOMY:
+                description = description[: DESCRIPTION_ROOMY - 1].rstrip() + "…"
+        else:
+            description = view.description_excerpt
+        if description:
+            text.append("\n" + description, style="italic")
         return text
 
     def _attributes_text(self, view: ReviewView) -> Text:
         attributes, pending = view.attributes, self.session.pending
+        width = self._inner_width()
+        sources = self.session.sources()
         text = Text()
 
-        def row(label: str, value: str, fixed: str | None) -> None:
-            text.append(f"{label:<12}{value or '—'}")
+        def row(label: str, value: str, fixed: str | None, source: str) -> None:
+            # One line each: label, value (→ correction), and where the value came from.
+            shown = value or "—"
             if fixed is not None and fixed != value:
-                text.append(f"  → {fixed or '—'}", style="bold green")
+                shown = f"{shown} → {fixed or '—'}"
+            line = f"{label:<7}{shown}"
+            text.append(fit(line, width), style="bold green" if fixed is not None else "")
+            room = width - len(line) - 3
+            if source and room >= 6:
+                text.append(f" · {fit(source, room)}", style="dim")
             text.append("\n")
 
         brand = attributes.brand
-        if attributes.brand_confidence:
-            brand = f"{brand} ({attributes.brand_confidence:.0%})" if brand else brand
-        row("brand", brand, pending.brand)
-        row("who", attributes.who, pending.who)
-        row("age", attributes.age, pending.age)
+        if attributes.brand_confidence and brand:
+            brand = f"{brand} ({attributes.brand_confidence:.0%})"
+        row("brand", brand, pending.brand, sources["brand"])
+        row("who", attributes.who, pending.who, sources["who"])
+        row("age", attributes.age, pending.age, sources["age"])
         if attributes.audience_conflict:
-            text.append("            text and node disagree on who / age\n", style="yellow")
-        row("colour", attributes.colour_family, None)
-        row("restriction", attributes.restriction or "none", None)
+            text.append(fit("       text and node disagree on who / age", width) + "\n",
+                        style="yellow")
+        row("colour", attributes.colour_family, None, sources["colour"])
+        row("flag", attributes.restriction or "none", None, "")
         # The caution goes with the product's flag and with a restricted suggested node (the
         # flag may not be set yet, e.g. when the node was suggested after the flag was read).
         if attributes.restriction or self.session.restriction(view.mapping.node_id):
             text.append(_restriction_caution() + "\n", style="italic yellow")
         if pending.any():
-            text.append("corrections are saved with your decision on this item", style="dim")
+            text.append(fit("corrections are saved with your decision", width), style="dim")
         return text
 
     def _suggestion_text(self, view: ReviewView) -> Text:
         session = self.session
         mapping = view.mapping
+        width = self._inner_width()
         text = Text()
-        text.append(session.path_text(mapping.node_id) + "\n", style="bold")
+        text.append(fit_path(session.path_text(mapping.node_id), width) + "\n", style="bold")
         flag = session.restriction(mapping.node_id)
         if flag:
-            text.append(f"restricted node: {flag} (see the caution beside)\n", style="bold yellow")
-        text.append(f"{mapping.confidence:6.1%}  {confidence_bar(mapping.confidence)}")
-        text.append(f"  {mapping.method}\n")
+            text.append(fit(f"restricted node: {flag} (see the caution)", width) + "\n",
+                        style="bold yellow")
+        bar = confidence_bar(mapping.confidence, max(min(BAR_WIDTH, width - 16), 4))
+        text.append(fit(f"{mapping.confidence:6.1%}  {bar}  {mapping.method}", width) + "\n")
         if mapping.reason:
-            text.append(mapping.reason + "\n", style="dim")
+            text.append(fit(mapping.reason, width) + "\n", style="dim")
         alternatives = mapping.alternatives[:MAX_ALTERNATIVES]
         if alternatives:
-            text.append("\nalternatives\n", style="underline")
+            text.append("alternatives\n", style="underline")
         for number, alternative in enumerate(alternatives, start=1):
-            text.append(f" {number}  ", style="bold")
-            text.append(f"{alternative.confidence:6.1%}  {session.path_text(alternative.node_id)}")
             flag = session.restriction(alternative.node_id)
-            if flag:
-                text.append(f"  [{flag}]", style="bold yellow")
+            mark = f" [{flag}]" if flag else ""
+            text.append(f"{number} ", style="bold")
+            path = session.path_text(alternative.node_id)
+            text.append(f"{alternative.confidence:4.0%} ")
+            text.append(fit_path(path, width - 7 - len(mark)))
+            if mark:
+                text.append(mark, style="bold yellow")
             text.append("\n")
         return text
 
     def _group_text(self, view: ReviewView) -> Text:
         group = view.group
+        width = self._inner_width()
         text = Text()
-        text.append((group.key or "(no retailer category)") + "\n", style="bold")
+        text.append(fit_path(group.key or "(no retailer category)", width) + "\n", style="bold")
         products = "product" if group.size == 1 else "products"
         text.append(f"{group.size} {products}")
         if group.top_node:
-            text.append(f", {group.top_share:.0%} → {self.session.path_text(group.top_node)}")
+            text.append(f", {group.top_share:.0%} →\n")
+            text.append(fit_path(self.session.path_text(group.top_node), width))
         text.append(f"\n{group.open_items} still to review in this group\n")
         if group.strong:
-            text.append(
-                "strong consensus: g then Enter settles the group in one step", style="green"
-            )
+            text.append(fit("strong consensus: g then ⏎ settles it", width), style="green")
         return text
 
     # -- running actions -----------------------------------------------------------------------
@@ -537,9 +651,15 @@ class ReviewApp(App[None]):
             current = view.attributes.brand or view.product.brand
 
         def typed(brand: str | None) -> None:
-            if brand is not None:
-                self.session.set_brand(brand)
-                self.message = "brand corrected: saved with your decision"
+            if brand is None:
+                self.message = "brand unchanged"
+            else:
+                try:
+                    self.session.set_brand(brand)
+                except CatmapError as error:
+                    self.message = str(error)
+                else:
+                    self.message = "brand corrected: saved with your decision"
             self.render_item()
 
         self.push_screen(BrandScreen(current), typed)
@@ -554,6 +674,18 @@ class ReviewApp(App[None]):
         if self.session.current is None:
             return
         self.message = f"age → {self.session.cycle_age()} (saved with your decision)"
+        self.render_item()
+
+    def action_set_who(self, value: str) -> None:
+        if self.session.current is None:
+            return
+        self.message = f"who → {self.session.set_who(value)} (saved with your decision)"
+        self.render_item()
+
+    def action_set_age(self, value: str) -> None:
+        if self.session.current is None:
+            return
+        self.message = f"age → {self.session.set_age(value)} (saved with your decision)"
         self.render_item()
 
     def action_leave(self) -> None:
