@@ -12,6 +12,7 @@ from typing import Any
 
 import pytest
 from rich.text import Text
+from textual import events
 from textual.widgets import OptionList, Static
 
 from catmap.attributes import RESTRICTION_CAUTION
@@ -870,7 +871,12 @@ async def test_a_brand_typed_after_clearing_the_box_is_kept(
 ) -> None:
     app = ReviewApp(_session(store, tree))
     async with app.run_test(size=(80, 24)) as pilot:
-        await pilot.press("b", "ctrl+u", *"Zeltmo", "enter")
+        await pilot.press("b")
+        await pilot.pause()
+        # Typed fast, as a terminal delivers them: every key queued before any is handled.
+        for key, character in [("ctrl+u", None), *((c, c) for c in "Zeltmo"), ("enter", "\r")]:
+            app.post_message(events.Key(key, character))
+        await pilot.pause()
         await pilot.pause()
         assert app.session.pending.brand == "Zeltmo"
         # An empty box is not saved as the brand.

@@ -147,9 +147,41 @@ class ConfirmScreen(ModalScreen[bool]):
         self.dismiss(answer)
 
 
-class BrandScreen(ModalScreen[str | None]):
-    """A one-line input for the corrected brand."""
+class BrandInput(Input):
+    """The brand box: its editing keys act in the order they were typed.
 
+    A plain input leaves keys such as Ctrl+U, Backspace and Enter to its bindings, which run
+    once the key has bubbled up to the app, after the letters typed behind them were already
+    put in the box: "Ctrl+U, then a brand" typed fast cleared the brand just typed and saved
+    an empty box. Here every bound key is handled at once, in the box's own turn.
+    """
+
+    _ACTIONS: ClassVar[dict[str, str]] = {
+        key.strip(): binding.action
+        for binding in Input.BINDINGS
+        if isinstance(binding, Binding)
+        for key in binding.key.split(",")
+    }
+
+    async def _on_key(self, event: events.Key) -> None:
+        action = self._ACTIONS.get(event.key)
+        if action is None:
+            await super()._on_key(event)
+            return
+        event.stop()
+        event.prevent_default()
+        await self.run_action(action)
+
+
+class BrandScreen(ModalScreen[str | None]):
+    """A one-line input for the corrected brand.
+
+    Keys typed before the box has focus (a fast typist right after ``b``) go into the box,
+    and focusing the box never selects its text: a selection would make the next key replace
+    what was typed or cleared just before.
+    """
+
+    AUTO_FOCUS = "#brand-input"
     BINDINGS: ClassVar[list[BindingType]] = [Binding("escape", "cancel", "Cancel")]
 
     def __init__(self, brand: str) -> None:
@@ -159,7 +191,15 @@ class BrandScreen(ModalScreen[str | None]):
     def compose(self) -> ComposeResult:
         with Vertical(id="dialog"):
             yield Static(Text("Correct brand (Enter saves with your decision, Esc cancels)"))
-            yield Input(value=self.brand, id="brand-input")
+            yield BrandInput(value=self.brand, id="brand-input", select_on_focus=False)
+
+    def on_mount(self) -> None:
+        self.query_one("#brand-input", Input).focus()
+        app = self.app
+        if isinstance(app, ReviewApp):
+            # Keys typed while this dialog was being opened are replayed into it, in order.
+            for key in app.take_typed_ahead():
+                app.post_message(events.Key(key.key, key.character))
 
     def on_input_submitted(self, event: Input.Submitted) -> None:
         self.dismiss(event.value)
@@ -302,6 +342,23 @@ class ReviewApp(App[None]):
         self.group_mode = False
         self.message = ""
         self._closed = False
+        # Keys pressed between ``b`` and the brand dialog taking them (None: not opening).
+        self._typed_ahead: list[events.Key] | None = None
+
+    # -- keys typed ahead of the brand dialog ---------------------------------------------------
+
+    async def on_event(self, event: events.Event) -> None:
+        if isinstance(event, events.Key) and self._typed_ahead is not None:
+            # The brand dialog is on its way: these keys are meant for it, not for the
+            # review keys (an "s" or an Enter here would skip or accept the item).
+            self._typed_ahead.append(event)
+            return
+        await super().on_event(event)
+
+    def take_typed_ahead(self) -> list[events.Key]:
+        """The keys held while the brand dialog opened; from now on keys go to it directly."""
+        held, self._typed_ahead = self._typed_ahead or [], None
+        return held
 
     # -- layout --------------------------------------------------------------------------------
 
@@ -662,6 +719,7 @@ class ReviewApp(App[None]):
                     self.message = "brand corrected: saved with your decision"
             self.render_item()
 
+        self._typed_ahead = []
         self.push_screen(BrandScreen(current), typed)
 
     def action_who(self) -> None:
