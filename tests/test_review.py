@@ -756,6 +756,7 @@ def _assert_laid_out(app: ReviewApp, size: tuple[int, int]) -> None:
         panel = app.query_one(f"#{name}", Static)
         assert panel.region.bottom <= columns.bottom and panel.region.right <= width
         inner = panel.content_size
+        text.rstrip()  # as the screen draws it
         assert _wrapped_lines(app, text, inner.width) <= inner.height, name
 
 
@@ -795,6 +796,11 @@ async def test_a_large_screen_uses_its_room(store: Store, tree: CategoryTree) ->
         assert sum(r.height for r in left) == columns.height
         assert sum(r.height for r in right) == columns.height
         assert columns.height == 45 - 1 - 1 - 2  # top line, message, two key lines
+        # The room is used: the feed's fields, the group's other waiting products.
+        assert "availability" in _screen_text(app, "product")
+        group = _screen_text(app, "group")
+        assert "also waiting in this group" in group
+        assert "Ostravel leather boot with side zip" in group
         await pilot.press("q")
 
 

@@ -420,8 +420,7 @@ class ReviewApp(App[None]):
         message = Text(self.message)
         if self.group_mode:
             message = Text(
-                "WHOLE GROUP: your next node decision (Enter, 1-3, /) applies to the group; "
-                "Esc cancels.",
+                "GROUP: the next node key (⏎, 1-3, /) decides the whole group; Esc cancels",
                 style="bold",
             )
         self.query_one("#message", Static).update(message)
@@ -432,10 +431,14 @@ class ReviewApp(App[None]):
             for name in ("attributes", "suggestion", "group"):
                 panels[name].update("")
             return
-        panels["product"].update(self._product_text(view))
-        panels["attributes"].update(self._attributes_text(view))
-        panels["suggestion"].update(self._suggestion_text(view))
-        panels["group"].update(self._group_text(view))
+        for name, text in (
+            ("product", self._product_text(view)),
+            ("attributes", self._attributes_text(view)),
+            ("suggestion", self._suggestion_text(view)),
+            ("group", self._group_text(view)),
+        ):
+            text.rstrip()  # no blank last line inside a panel
+            panels[name].update(text)
 
     def _inner_width(self) -> int:
         """Cells inside a panel: half the screen less the border and padding."""
@@ -454,7 +457,7 @@ class ReviewApp(App[None]):
         text.append(product.title + "\n", style="bold")
         price = f"{product.price} {product.currency or ''}".strip() if product.price else "—"
         text.append(fit(f"brand {product.brand or '—'} · price {price}", width) + "\n")
-        text.append(fit_path(f"retailer {view.retailer_path or '—'}", width) + "\n")
+        text.append("retailer " + fit_path(view.retailer_path or "—", width - 9) + "\n")
         text.append(fit(f"id {product.product_id} · feed {view.item.feed_name}", width) + "\n")
         for number, code in enumerate(view.item.reasons or (view.item.reason,)):
             text.append("queued " if number == 0 else "       ", style="bold")
@@ -511,6 +514,14 @@ class ReviewApp(App[None]):
                         style="yellow")
         row("colour", attributes.colour_family, None, sources["colour"])
         row("flag", attributes.restriction or "none", None, "")
+        if self._roomy():
+            # The extraction's own notes, word for word, when there is room for them.
+            for label, evidence in (
+                ("brand evidence", attributes.brand_evidence),
+                ("audience evidence", attributes.audience_evidence),
+            ):
+                if evidence:
+                    text.append(fit(f"{label}: {evidence}", width) + "\n", style="dim")
         # The caution goes with the product's flag and with a restricted suggested node (the
         # flag may not be set yet, e.g. when the node was suggested after the flag was read).
         if attributes.restriction or self.session.restriction(view.mapping.node_id):
@@ -560,8 +571,32 @@ class ReviewApp(App[None]):
             text.append(fit_path(self.session.path_text(group.top_node), width))
         text.append(f"\n{group.open_items} still to review in this group\n")
         if group.strong:
-            text.append(fit("strong consensus: g then ⏎ settles it", width), style="green")
+            text.append(fit("strong: g then ⏎ settles the group", width) + "\n", style="green")
+        room = self._group_list_room(view)
+        if room > 1:
+            # With room to spare: what a group decision would settle, before pressing g.
+            waiting = self.session.store.group_waiting(
+                view.item.feed_id, view.item.group_key, limit=room
+            )
+            others = [w for w in waiting if w[0] != view.product.product_id][: room - 1]
+            if others:
+                text.append("\nalso waiting in this group\n", style="underline")
+            session = self.session
+            for _product_id, title, node_id, confidence in others:
+                leaf = session.path_text(node_id).rsplit(" > ", 1)[-1]
+                line = f"{confidence:4.0%} {leaf} ← "
+                text.append(line, style="dim")
+                text.append(fit(title, width - len(line)) + "\n")
         return text
+
+    def _group_list_room(self, view: ReviewView) -> int:
+        """Lines left in the group panel for the group's other waiting products (0: none)."""
+        if not self._roomy():
+            return 0
+        columns = self.size.height - 4  # top line, message, two key lines
+        suggestion = len(self._suggestion_text(view).plain.rstrip("\n").split("\n")) + 2
+        used = 2 + 5 + 2  # borders, the group's own lines, the list's heading
+        return max(columns - suggestion - used, 0)
 
     # -- running actions -----------------------------------------------------------------------
 

@@ -462,6 +462,30 @@ class QueueMixin(AuditMixin):
         sql += " ORDER BY review_items.skips, review_items.priority DESC, review_items.id"
         return [_item_from_row(r) for r in self._read(sql, params).fetchall()]
 
+    def group_waiting(
+        self, feed: int | str, group_key: str, *, limit: int = 20
+    ) -> list[tuple[str, str, str, float]]:
+        """The products of a group still waiting for review, in queue order.
+
+        Args:
+            feed: the feed (id or name).
+            group_key: the retailer category path of the group.
+            limit: at most this many.
+
+        Returns:
+            ``(product_id, title, suggested node, confidence)`` per product.
+        """
+        fid = self._feed_id(feed)
+        rows = self._read(
+            "SELECT i.product_id, p.title, m.node_id, m.confidence FROM review_items AS i "
+            "JOIN products AS p USING (feed_id, product_id) "
+            "JOIN mappings AS m USING (feed_id, product_id) "
+            "WHERE i.feed_id = ? AND i.group_key = ? AND i.state != 'done' "
+            "ORDER BY i.skips, i.priority DESC, i.id LIMIT ?",
+            (fid, group_key, limit),
+        ).fetchall()
+        return [(r[0], r[1], r[2], float(r[3])) for r in rows]
+
     def group_info(self, feed: int | str, group_key: str) -> GroupInfo:
         """Return how a retailer category group stands: size, open items, consensus."""
         fid = self._feed_id(feed)
