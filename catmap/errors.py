@@ -126,3 +126,14 @@ class StoreError(CatmapError):
     """The project store cannot be opened, migrated or written."""
 
     exit_code = EXIT_STORE
+
+
+class ReviewError(CatmapError):
+    """A review action that cannot be done on the item on screen (e.g. a group decision with
+    no node to put the group on)."""
+
+
+class NoTerminal(ReviewError):
+    """The review screen was asked for without a terminal (stdin or stdout redirected)."""
+
+    exit_code = EXIT_USAGE

@@ -6,6 +6,9 @@ records the session it was given.
 
 from __future__ import annotations
 
+import os
+import subprocess
+import sys
 from pathlib import Path
 
 import pytest
@@ -30,6 +33,7 @@ def screens(monkeypatch: pytest.MonkeyPatch) -> list[ReviewSession]:
     """Replace the screen: record each session it would show, decide nothing."""
     shown: list[ReviewSession] = []
     monkeypatch.setattr(review_command, "run_screen", shown.append)
+    monkeypatch.setattr(review_command, "_has_terminal", lambda: True)
     return shown
 
 
@@ -126,3 +130,23 @@ def test_help_text() -> None:
     assert result.exit_code == 0
     for option in ("--project", "--feed", "--reviewer"):
         assert option in result.stdout
+
+
+def test_without_a_terminal_it_says_so_and_exits(project: Path) -> None:
+    # stdin and stdout are pipes here, as in a script or CI: no screen, no escape codes.
+    done = subprocess.run(
+        [sys.executable, "-c", "from catmap.cli import main; main()", "review",
+         "--project", str(project), "--reviewer", "ana"],
+        stdin=subprocess.DEVNULL,
+        capture_output=True,
+        text=True,
+        timeout=120,
+        env={**os.environ, "PYTHONPATH": str(Path(__file__).resolve().parents[1])},
+    )
+    assert done.returncode == 2
+    assert done.stdout == ""
+    (line,) = done.stderr.splitlines()
+    assert "needs a terminal" in line and "\x1b" not in line
+    with Store.open(store_path(project)) as store:  # the first item was given back
+        taken = store.claim_next("bo")
+        assert taken is not None and taken.product_id == "BT-001"

@@ -11,11 +11,14 @@ from pathlib import Path
 from typing import Any
 
 import pytest
+from rich.text import Text
+from textual import events
 from textual.widgets import OptionList, Static
 
 from catmap.attributes import RESTRICTION_CAUTION
+from catmap.errors import ReviewError
 from catmap.records import Alternative, Attributes, Mapping, Product
-from catmap.review.app import ReviewApp, confidence_bar
+from catmap.review.app import AGE_KEYS, KEY_LINES, WHO_KEYS, ReviewApp, confidence_bar
 from catmap.review.sample import (
     ANKLE_BOOTS,
     BOOT_GROUP,
@@ -26,7 +29,7 @@ from catmap.review.sample import (
     T_SHIRTS,
     build_sample_store,
 )
-from catmap.review.session import ReviewSession
+from catmap.review.session import ReviewSession, _audience_source, _brand_source
 from catmap.store import MappedRow, ReviewItem, Store
 from catmap.tree.taxonomy import CategoryTree, load_default_tree
 
@@ -87,9 +90,8 @@ async def test_first_item_is_shown_and_claimed(store: Store, tree: CategoryTree)
         assert "Ostravel suede ankle boot" in _screen_text(app, "product")
         assert "low confidence" in _screen_text(app, "product")
         assert "Shoes, boots and sandals > Boots > Ankle boots" in _screen_text(app, "suggestion")
-        assert "6 products, 100% → Shoes, boots and sandals > Boots > Ankle boots" in (
-            _screen_text(app, "group")
-        )
+        group = _screen_text(app, "group")
+        assert "6 products, 100% →\nShoes, boots and sandals > Boots > Ankle boots" in group
         item = store.item(app.session.current.item.id)  # type: ignore[union-attr]
         assert (item.state, item.claimed_by) == ("claimed", "ana")
         await pilot.press("q")
@@ -661,3 +663,234 @@ async def test_a_restricted_suggestion_shows_the_caution_before_the_flag_is_set(
             assert "[alcohol]" in suggestion  # the alternative is marked too
             assert _flat(RESTRICTION_CAUTION) in _flat(_screen_text(app, "attributes"))
             await pilot.press("q")
+
+
+# -- a group decision on a product already set to no fitting node ----------------------------
+
+
+def _no_fit_through_a_sibling(store: Store, tree: CategoryTree) -> ReviewSession:
+    """BT-001 set to no fitting node by ana; a second item of BT-001 then claimed by bo."""
+    ana = _session(store, tree, "ana")
+    view = ana.next()
+    assert view is not None and view.product.product_id == "BT-001"
+    ana.no_fit()
+    ana.close()
+    store.enqueue(SAMPLE_FEED, "BT-001", "audit_sample", priority=99.0)
+    bo = _session(store, tree, "bo")
+    view = bo.next()
+    assert view is not None and view.product.product_id == "BT-001"
+    assert view.mapping.node_id == ""
+    return bo
+
+
+def test_group_decision_without_a_node_says_why(memory_store: Store, tree: CategoryTree) -> None:
+    bo = _no_fit_through_a_sibling(memory_store, tree)
+    with pytest.raises(ReviewError, match="no fitting node") as raised:
+        bo.decide_group()
+    assert "no node with id" not in str(raised.value)
+    assert "pick the group's node" in str(raised.value)
+    assert len(memory_store.decisions()) == 1  # nothing written
+    assert len(bo.decide_group(ANKLE_BOOTS)) == 6  # a node picked for the group works
+
+
+@sync
+async def test_group_key_without_a_node_shows_a_clear_message(
+    memory_store: Store, tree: CategoryTree
+) -> None:
+    app = ReviewApp(_no_fit_through_a_sibling(memory_store, tree))
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("g", "enter")
+        await pilot.pause()
+        await pilot.press("y")
+        await pilot.pause()
+        message = _screen_text(app, "message")
+        assert "no fitting node" in message and "no node with id" not in message
+        assert len(memory_store.decisions()) == 1
+        await pilot.press("q")
+
+
+@sync
+async def test_an_item_shows_every_reason_of_its_product(store: Store, tree: CategoryTree) -> None:
+    store.enqueue(SAMPLE_FEED, "BT-001", "brand_conflict", priority=5.0)
+    app = ReviewApp(_session(store, tree))
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.pause()
+        product = _screen_text(app, "product")
+        assert "BT-001" in product
+        assert "low confidence" in product and "brand conflict" in product
+        # A brand conflict needs a person: the group decision leaves the item to be decided
+        # on its own first.
+        assert app.session.group_targets() == 6
+        await pilot.press("q")
+
+
+# -- the layout at 80×24 and 160×45 -----------------------------------------------------------
+
+
+def _wrapped_lines(app: ReviewApp, text: Any, width: int) -> int:
+    return len(text.wrap(app.console, width))
+
+
+def _assert_laid_out(app: ReviewApp, size: tuple[int, int]) -> None:
+    width, height = size
+    keys = app.query_one("#keys", Static)
+    region = keys.region
+    assert region.right <= width and region.bottom <= height and region.height == 2
+    shown = str(keys.render())
+    for line in KEY_LINES:
+        for key, label in line:
+            assert f"{key} {label}" in shown
+    for line in shown.splitlines():
+        assert len(line) <= keys.content_size.width  # nothing cut at the right
+    columns = app.query_one("#columns").region
+    view = app.session.current
+    assert view is not None
+    texts = {
+        # The description may give way; everything above it must show.
+        "product": Text(app._product_text(view).plain.split("\n\n")[0]),
+        "attributes": app._attributes_text(view),
+        "suggestion": app._suggestion_text(view),
+        "group": app._group_text(view),
+    }
+    for name, text in texts.items():
+        panel = app.query_one(f"#{name}", Static)
+        assert panel.region.bottom <= columns.bottom and panel.region.right <= width
+        inner = panel.content_size
+        text.rstrip()  # as the screen draws it
+        assert _wrapped_lines(app, text, inner.width) <= inner.height, name
+
+
+@pytest.mark.parametrize("size", [(80, 24), (160, 45)])
+@sync
+async def test_every_key_and_panel_shows_at_both_sizes(
+    store: Store, tree: CategoryTree, size: tuple[int, int]
+) -> None:
+    app = ReviewApp(_session(store, tree))
+    async with app.run_test(size=size) as pilot:
+        await pilot.pause()
+        _assert_laid_out(app, size)
+        # A restricted product (the caution shows) with a correction pending, and the
+        # product with a brand conflict: the most the panels hold.
+        await pilot.press("g", "enter", "y")
+        await pilot.pause()
+        assert app.session.current is not None
+        assert app.session.current.product.product_id == "WN-001"
+        await pilot.press("F", "K")
+        await pilot.pause()
+        _assert_laid_out(app, size)
+        await pilot.press("s", "s")
+        await pilot.pause()
+        assert app.session.current.product.product_id == "JP-001"
+        _assert_laid_out(app, size)
+        await pilot.press("q")
+
+
+@sync
+async def test_a_large_screen_uses_its_room(store: Store, tree: CategoryTree) -> None:
+    app = ReviewApp(_session(store, tree))
+    async with app.run_test(size=(160, 45)) as pilot:
+        await pilot.pause()
+        columns = app.query_one("#columns").region
+        left = [app.query_one(f"#{n}", Static).region for n in ("product", "attributes")]
+        right = [app.query_one(f"#{n}", Static).region for n in ("suggestion", "group")]
+        assert sum(r.height for r in left) == columns.height
+        assert sum(r.height for r in right) == columns.height
+        assert columns.height == 45 - 1 - 1 - 2  # top line, message, two key lines
+        # The room is used: the feed's fields, the group's other waiting products.
+        assert "availability" in _screen_text(app, "product")
+        group = _screen_text(app, "group")
+        assert "also waiting in this group" in group
+        assert "Ostravel leather boot with side zip" in group
+        await pilot.press("q")
+
+
+@sync
+async def test_direct_keys_set_each_who_and_age_value(store: Store, tree: CategoryTree) -> None:
+    app = ReviewApp(_session(store, tree))
+    async with app.run_test(size=(80, 24)) as pilot:
+        for value, key in WHO_KEYS.items():
+            await pilot.press(key)
+            assert app.session.pending.who == value
+        for value, key in AGE_KEYS.items():
+            await pilot.press(key)
+            assert app.session.pending.age == value
+        await pilot.press("M", "K", "enter")
+        await pilot.pause()
+        (decision,) = store.decisions()
+        assert (decision.who_to, decision.age_to) == ("male", "kids")
+        await pilot.press("q")
+
+
+@sync
+async def test_attributes_say_where_each_value_came_from(
+    store: Store, tree: CategoryTree
+) -> None:
+    app = ReviewApp(_session(store, tree))
+    async with app.run_test(size=(160, 45)) as pilot:
+        assert set(app.session.sources()) == {"brand", "who", "age", "colour"}
+        await pilot.press("b", "ctrl+u", *"Ostravel Works", "enter", "F")
+        await pilot.pause()
+        attributes = _screen_text(app, "attributes")
+        assert "brand  Ostravel" in attributes
+        assert "→ Ostravel Works · your correction" in attributes
+        assert "your correction" in attributes.split("who")[1]
+        await pilot.press("q")
+
+
+def test_sources_name_field_title_dictionary_node_and_reviewer(
+    memory_store: Store, tree: CategoryTree
+) -> None:
+    # Evidence as the attributes stage writes it (catmap/attributes), read back in words.
+    assert _brand_source("field exact") == "brand field, dictionary name"
+    assert _brand_source("field fuzzy 91 'Vellomar'") == "brand field, near a dictionary name"
+    assert _brand_source("field not in dictionary 'Acme'") == "brand field, not in the dictionary"
+    assert _brand_source("title exact 'vellomar'") == "title, dictionary name"
+    assert _audience_source("column 'Damen' → female; text 'kids' → kids", "who") == (
+        "gender / age field"
+    )
+    assert _audience_source("column 'Damen' → female; text 'kids' → kids", "age") == (
+        "title / text"
+    )
+    assert _audience_source("node allows only not_applicable; node allows only adult", "age") == (
+        "node default"
+    )
+    assert _audience_source("node: gender does not apply; text 'men' → adult (weak)", "who") == (
+        "node default"
+    )
+    session = _session(memory_store, tree, "ana")
+    session.next()
+    session.set_brand("Ostravel Works")
+    session.set_who("female")
+    assert session.sources()["brand"] == "your correction"
+    session.accept()
+    other = _session(memory_store, tree, "bo")
+    memory_store.enqueue(SAMPLE_FEED, "BT-001", "audit_sample", priority=99.0)
+    other.next()
+    assert other.sources()["brand"] == "reviewer ana"
+    assert other.sources()["who"] == "reviewer ana"
+    assert other.sources()["colour"] in {"colour field", "title", "none found"}
+
+
+@sync
+async def test_a_brand_typed_after_clearing_the_box_is_kept(
+    store: Store, tree: CategoryTree
+) -> None:
+    app = ReviewApp(_session(store, tree))
+    async with app.run_test(size=(80, 24)) as pilot:
+        await pilot.press("b")
+        await pilot.pause()
+        # Typed fast, as a terminal delivers them: every key queued before any is handled.
+        for key, character in [("ctrl+u", None), *((c, c) for c in "Zeltmo"), ("enter", "\r")]:
+            app.post_message(events.Key(key, character))
+        await pilot.pause()
+        await pilot.pause()
+        assert app.session.pending.brand == "Zeltmo"
+        # An empty box is not saved as the brand.
+        await pilot.press("b", "ctrl+u", "enter")
+        await pilot.pause()
+        assert app.session.pending.brand == "Zeltmo"
+        assert "empty brand is not saved" in _screen_text(app, "message")
+        await pilot.press("enter")
+        await pilot.pause()
+        assert store.decisions()[0].brand_to == "Zeltmo"
+        await pilot.press("q")

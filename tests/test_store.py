@@ -165,6 +165,51 @@ def test_migration_from_version_1_keeps_the_data(tmp_path: Path) -> None:
         assert store.undo_last("ann") == [item.id]
 
 
+def test_migration_to_version_7_merges_a_product_s_waiting_items(tmp_path: Path) -> None:
+    path = tmp_path / "store.sqlite"
+    with Store.open(path) as store:
+        seed(store, [make_row(1), make_row(2), make_row(3)])
+    conn = sqlite3.connect(path, isolation_level=None)
+    # Back to version 6, with the duplicates an older catmap made: p0001 has a second open
+    # item (brand conflict, higher priority), p0002 a claimed one beside its open one, p0003 a
+    # decided one beside an open one.
+    conn.execute("PRAGMA user_version = 6")
+    conn.execute("DROP INDEX IF EXISTS review_items_one_waiting")
+    conn.execute("ALTER TABLE review_items DROP COLUMN reasons")
+    now = "2026-01-01T00:00:00.000000Z"
+    conn.executemany(
+        "INSERT INTO review_items (feed_id, product_id, group_key, reason, priority, state, "
+        "claimed_by, lease_until, created_at) VALUES (1, ?, 'Shoes > Boots', ?, ?, ?, ?, ?, ?)",
+        [
+            ("p0001", "brand_conflict", 0.9, "open", None, None, now),
+            ("p0002", "audience_conflict", 0.1, "claimed", "bob", "2099-01-01", now),
+        ],
+    )
+    conn.execute("UPDATE review_items SET state = 'done' WHERE product_id = 'p0003'")
+    conn.execute(
+        "INSERT INTO review_items (feed_id, product_id, reason, priority, created_at) "
+        "VALUES (1, 'p0003', 'audit_sample', 0.2, ?)",
+        (now,),
+    )
+    conn.close()
+    with Store.open(path) as store:
+        assert store.schema_version == SCHEMA_VERSION
+        waiting = [i for i in store.items() if i.state != "done"]
+        assert sorted(i.product_id for i in waiting) == ["p0001", "p0002", "p0003"]
+        by_product = {i.product_id: i for i in waiting}
+        # The kept item leads with its own reason (the higher priority one here).
+        assert by_product["p0001"].reasons == ("brand_conflict", "low_confidence")
+        assert by_product["p0001"].priority == 0.9
+        assert by_product["p0002"].claimed_by == "bob"
+        assert by_product["p0002"].reasons == ("audience_conflict", "low_confidence")
+        assert by_product["p0003"].reasons == ("audit_sample",)
+        merged = [i for i in store.items() if i.withdrawn]
+        assert {i.withdrawn_reason for i in merged} == {
+            f"merged into review item {by_product['p0001'].id}",
+            f"merged into review item {by_product['p0002'].id}",
+        }
+
+
 def test_migrating_twice_changes_nothing(tmp_path: Path) -> None:
     path = tmp_path / "store.sqlite"
     Store.open(path).close()
@@ -364,13 +409,54 @@ def test_save_mapped_queues_by_status_and_reasons(store: Store) -> None:
     ]
     seed(store, rows)
     summary = store.queue_summary("shop-a")
-    assert summary.open == 5
+    assert summary.open == 4  # one item per product, counted under its leading reason
     assert {reason: counts["open"] for reason, counts in summary.by_reason.items()} == {
         "low_confidence": 2,
         "audit_sample": 1,
         "brand_conflict": 1,
-        "audience_conflict": 1,
     }
+    reasons = {i.product_id: i.reasons for i in store.items()}
+    assert reasons["p0005"] == ("low_confidence", "audience_conflict")
+
+
+def test_a_second_reason_joins_the_product_s_waiting_item(store: Store) -> None:
+    feed = seed(store, [make_row(1), make_row(2)])
+    (first, second) = store.items()
+    # A brand conflict found later on a queued product: no second item for it.
+    assert store.enqueue(feed, first.product_id, "brand_conflict", priority=0.9) == first.id
+    assert store.enqueue(feed, first.product_id, "brand_conflict", priority=0.9) == first.id
+    assert len(store.items()) == 2
+    assert store.item(first.id).reasons == ("low_confidence", "brand_conflict")
+    # A claimed item takes the reason too; the one who holds it sees it.
+    held = store.claim_next("ann")
+    assert held is not None and held.id == first.id
+    store.save_mapped(feed, None, [make_row(1, reasons=("low_confidence", "audience_conflict"))])
+    assert store.item(first.id).reasons == (
+        "low_confidence",
+        "brand_conflict",
+        "audience_conflict",
+    )
+    # Two reviewers cannot decide the product side by side: bob gets the other product.
+    other = store.claim_next("bob")
+    assert other is not None and other.id == second.id
+    store.decide(first.id, "ann", "accept")
+    assert store.claim_next("bob") == other  # his own claim comes back; nothing else waits
+    # A group decision leaves an item with a conflict to a person.
+    store.enqueue(feed, second.product_id, "brand_conflict")
+    assert store.claim_group("carl", feed, "Shoes > Boots") == []
+
+
+def test_withdrawing_a_reason_keeps_the_item_for_its_other_reasons(store: Store) -> None:
+    feed = seed(store, [make_row(1), make_row(2)])
+    store.enqueue(feed, "p0001", "brand_conflict")
+    store.save_mapped(
+        feed, None, [make_row(i, confidence=0.97, status="accepted") for i in (1, 2)]
+    )
+    withdrawn = store.withdraw_items(feed, why="accepted by run 2")
+    items = {i.product_id: i for i in store.items(feed=feed)}
+    assert withdrawn == [items["p0002"].id]
+    assert items["p0001"].state == "open" and items["p0001"].reasons == ("brand_conflict",)
+    assert items["p0001"].reason == "brand_conflict"
 
 
 def test_stale_low_confidence_items_are_withdrawn_audited_and_can_reopen(
@@ -581,6 +667,55 @@ def test_undo_restores_the_mapping_and_reclaims_the_item(store: Store) -> None:
     assert undone.undone_at is not None
     assert [e.action for e in store.audit_log()][-2:] == ["decision", "undo"]
     assert store.undo_last("ann") == []
+
+
+def test_undo_refuses_to_discard_a_later_decision_by_another_reviewer(store: Store) -> None:
+    # A accepts one item of a product; B chooses another node on the product's second item;
+    # A's undo must not put the mapping back under B's live decision.
+    feed = seed(store, [make_row(1), make_row(2)])
+    first = store.claim_next("ann")
+    assert first is not None and first.product_id == "p0001"
+    store.decide(first.id, "ann", "accept")
+    second = store.enqueue(feed, "p0001", "audit_sample", priority=9.0)
+    claimed = store.claim_next("bob")
+    assert claimed is not None and claimed.id == second
+    store.decide(second, "bob", "choose", node_id="1600")
+    with pytest.raises(StoreError, match="bob decided it after you"):
+        store.undo_last("ann")
+    stored = store.mapping(feed, "p0001")
+    assert (stored.status, stored.mapping.node_id) == ("reviewed", "1600")
+    assert [d.reviewer for d in store.decisions()] == ["ann", "bob"]
+    assert [t.node_id for t in store.training_examples(feed)] == ["1600"]
+    assert store.item(first.id).state == "done"
+    # Once bob takes his back (and leaves it), ann's undo restores what hers changed, and the
+    # product is back to one waiting item, with both reasons.
+    assert store.undo_last("bob") == [second]
+    with pytest.raises(StoreError, match="bob has it on screen"):
+        store.undo_last("ann")
+    assert store.release(second, "bob")
+    assert store.undo_last("ann") == [first.id]
+    assert store.mapping(feed, "p0001").status == "queued"
+    waiting = [i for i in store.items() if i.product_id == "p0001" and i.state != "done"]
+    assert [(i.id, i.reasons) for i in waiting] == [
+        (first.id, ("low_confidence", "audit_sample"))
+    ]
+
+
+def test_undoing_a_skip_does_not_take_the_item_from_another_reviewer(
+    store: Store, clock: FakeClock
+) -> None:
+    seed(store, [make_row(1)])
+    item = store.claim_next("ann")
+    assert item is not None
+    store.decide(item.id, "ann", "skip")
+    assert store.claim_next("bob") is not None
+    with pytest.raises(StoreError, match="bob has it on screen"):
+        store.undo_last("ann")
+    store.decide(item.id, "bob", "accept")
+    with pytest.raises(StoreError, match="bob decided it after you"):
+        store.undo_last("ann")
+    assert store.item(item.id).state == "done"
+    assert [d.action for d in store.decisions()] == ["skip", "accept"]
 
 
 def test_review_item_gives_the_screen_everything(store: Store) -> None:

@@ -3,10 +3,12 @@
 from __future__ import annotations
 
 import getpass
+import sys
 
 import click
 
 from catmap.cli._render import project_option
+from catmap.errors import NoTerminal
 from catmap.jobs.review import project_review_session
 from catmap.project import project_dir
 from catmap.review.session import ReviewSession
@@ -17,6 +19,11 @@ def _default_reviewer() -> str:
         return getpass.getuser()
     except (KeyError, OSError):  # no login name (e.g. a container without a passwd entry)
         return "reviewer"
+
+
+def _has_terminal() -> bool:
+    """True when both stdin and stdout are a terminal (the screen reads keys and draws)."""
+    return sys.stdin.isatty() and sys.stdout.isatty()
 
 
 def run_screen(session: ReviewSession) -> None:
@@ -51,6 +58,15 @@ def register(main: click.Group) -> None:
                 where = f"feed {feed}" if feed else str(folder)
                 click.echo(f"The review queue of {where} is empty: nothing to review.")
                 return
+            if not _has_terminal():
+                # Drawing the screen into a pipe would print escape codes and wait for keys
+                # that never come.
+                session.close()
+                raise NoTerminal(
+                    "catmap review needs a terminal: stdin and stdout must not be redirected",
+                    hint="run it in a terminal window; `catmap decisions` exports and "
+                    "imports decisions as a file",
+                )
             run_screen(session)
             session.close()  # idempotent; the screen closes it too
             pace = session.pace()

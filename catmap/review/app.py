@@ -8,7 +8,11 @@ through the store (one transaction each) and reads the item back. Layout, from t
   description excerpt) and its attributes (brand, who, age, colour family, restriction);
 - right column: the suggested node (path, confidence as a percentage and a bar), the
   numbered alternatives, and the retailer category group with its consensus;
-- a message line, then the keys.
+- a message line, then two lines of keys (every key the screen takes, always visible).
+
+The layout fits an 80×24 terminal: each attribute, path and source is one line cut to the
+column's width (a path keeps its end, the node's own name), and the product panel gives up its
+description first. A larger terminal shows the whole description and the feed's own fields.
 
 Product text is shown as plain text (never read as markup): feeds contain brackets.
 
@@ -24,19 +28,75 @@ from collections.abc import Callable
 from typing import ClassVar
 
 from rich.text import Text
+from textual import events
 from textual.app import App, ComposeResult
 from textual.binding import Binding, BindingType
 from textual.containers import Horizontal, Vertical
 from textual.screen import ModalScreen
-from textual.widgets import Footer, Input, OptionList, Static
+from textual.widgets import Input, OptionList, Static
 from textual.widgets.option_list import Option
 
 from catmap.errors import CatmapError
+from catmap.records import AGE_VALUES, WHO_VALUES
 from catmap.review.session import MAX_ALTERNATIVES, REASON_TEXT, ReviewSession
 from catmap.store import ReviewView
 
 BAR_WIDTH = 20
 SEARCH_LIMIT = 12
+# Below this size the screen drops the description and the feed fields.
+ROOMY_WIDTH = 120
+ROOMY_HEIGHT = 36
+DESCRIPTION_ROOMY = 1200
+
+# Direct keys for each who and age value (upper case: the lower-case letters are taken).
+WHO_KEYS = {"female": "F", "male": "M", "unisex": "U", "not_applicable": "X"}
+AGE_KEYS = {"adult": "A", "kids": "K", "baby": "B", "not_applicable": "Z"}
+assert set(WHO_KEYS) == set(WHO_VALUES) and set(AGE_KEYS) == set(AGE_VALUES)
+
+# The keys the screen shows, two lines that fit 80 columns: (key, what it does).
+KEY_LINES: tuple[tuple[tuple[str, str], ...], ...] = (
+    (
+        ("⏎", "accept"),
+        ("1-3", "alt"),
+        ("/", "search"),
+        ("n", "no fit"),
+        ("s", "skip"),
+        ("u", "undo"),
+        ("g", "group"),
+        ("b", "brand"),
+        ("q", "quit"),
+    ),
+    (
+        ("w", "who"),
+        *((key, value.replace("not_applicable", "n/a")) for value, key in WHO_KEYS.items()),
+        ("a", "age"),
+        *((key, value.replace("not_applicable", "n/a")) for value, key in AGE_KEYS.items()),
+    ),
+)
+
+
+def keys_text() -> Text:
+    """The two key lines, keys in bold."""
+    text = Text(no_wrap=True, overflow="ellipsis")
+    for number, line in enumerate(KEY_LINES):
+        if number:
+            text.append("\n")
+        for index, (key, label) in enumerate(line):
+            if index:
+                text.append(" ")
+            text.append(key, style="bold reverse")
+            text.append(f" {label}")
+    return text
+
+
+def fit(text: str, width: int) -> str:
+    """``text`` cut to ``width`` cells with an ellipsis at the end."""
+    return text if len(text) <= width else text[: max(width - 1, 0)] + "…"
+
+
+def fit_path(text: str, width: int) -> str:
+    """A path cut to ``width`` cells from the start, so that the node's own name stays."""
+    return text if len(text) <= width else "…" + text[-max(width - 1, 0) :]
 
 
 def confidence_bar(confidence: float, width: int = BAR_WIDTH) -> str:
@@ -87,9 +147,41 @@ class ConfirmScreen(ModalScreen[bool]):
         self.dismiss(answer)
 
 
-class BrandScreen(ModalScreen[str | None]):
-    """A one-line input for the corrected brand."""
+class BrandInput(Input):
+    """The brand box: its editing keys act in the order they were typed.
 
+    A plain input leaves keys such as Ctrl+U, Backspace and Enter to its bindings, which run
+    once the key has bubbled up to the app, after the letters typed behind them were already
+    put in the box: "Ctrl+U, then a brand" typed fast cleared the brand just typed and saved
+    an empty box. Here every bound key is handled at once, in the box's own turn.
+    """
+
+    _ACTIONS: ClassVar[dict[str, str]] = {
+        key.strip(): binding.action
+        for binding in Input.BINDINGS
+        if isinstance(binding, Binding)
+        for key in binding.key.split(",")
+    }
+
+    async def _on_key(self, event: events.Key) -> None:
+        action = self._ACTIONS.get(event.key)
+        if action is None:
+            await super()._on_key(event)
+            return
+        event.stop()
+        event.prevent_default()
+        await self.run_action(action)
+
+
+class BrandScreen(ModalScreen[str | None]):
+    """A one-line input for the corrected brand.
+
+    Keys typed before the box has focus (a fast typist right after ``b``) go into the box,
+    and focusing the box never selects its text: a selection would make the next key replace
+    what was typed or cleared just before.
+    """
+
+    AUTO_FOCUS = "#brand-input"
     BINDINGS: ClassVar[list[BindingType]] = [Binding("escape", "cancel", "Cancel")]
 
     def __init__(self, brand: str) -> None:
@@ -99,7 +191,15 @@ class BrandScreen(ModalScreen[str | None]):
     def compose(self) -> ComposeResult:
         with Vertical(id="dialog"):
             yield Static(Text("Correct brand (Enter saves with your decision, Esc cancels)"))
-            yield Input(value=self.brand, id="brand-input")
+            yield BrandInput(value=self.brand, id="brand-input", select_on_focus=False)
+
+    def on_mount(self) -> None:
+        self.query_one("#brand-input", Input).focus()
+        app = self.app
+        if isinstance(app, ReviewApp):
+            # Keys typed while this dialog was being opened are replayed into it, in order.
+            for key in app.take_typed_ahead():
+                app.post_message(events.Key(key.key, key.character))
 
     def on_input_submitted(self, event: Input.Submitted) -> None:
         self.dismiss(event.value)
@@ -189,18 +289,23 @@ class ReviewApp(App[None]):
     ENABLE_COMMAND_PALETTE = False
     CSS = """
     Screen { layout: vertical; }
-    #topbar { height: 1; background: $primary-darken-2; color: $text; padding: 0 1; }
+    #topbar { height: 1; background: $primary-darken-2; color: $text; padding: 0 1;
+              text-wrap: nowrap; text-overflow: ellipsis; }
     #columns { height: 1fr; }
     #left, #right { width: 1fr; }
     .panel { border: round $secondary; padding: 0 1; height: auto; }
-    #product { height: auto; }
-    #group { height: 1fr; }
-    #message { height: 2; padding: 0 1; color: $warning; }
+    #product { height: 1fr; min-height: 5; }
+    #attributes { height: auto; }
+    #suggestion { height: auto; }
+    #group { height: 1fr; min-height: 4; }
+    #message { height: 1; padding: 0 1; color: $warning; text-wrap: nowrap;
+               text-overflow: ellipsis; }
+    #keys { height: 2; padding: 0 1; background: $panel; }
     ConfirmScreen, BrandScreen, SearchScreen { align: center middle; }
-    #dialog { width: 70; height: auto; border: thick $accent; padding: 1 2;
-              background: $surface; }
-    #search-dialog { width: 90; height: 24; border: thick $accent; padding: 0 1;
-                     background: $surface; }
+    #dialog { width: 100%; max-width: 72; height: auto; max-height: 100%;
+              border: thick $accent; padding: 0 1; background: $surface; }
+    #search-dialog { width: 100%; max-width: 100; height: 100%; max-height: 30;
+                     border: thick $accent; padding: 0 1; background: $surface; }
     #search-results { height: 1fr; }
     #search-caution { height: auto; }
     .hint { color: $text-muted; margin-top: 1; }
@@ -219,6 +324,14 @@ class ReviewApp(App[None]):
         Binding("b", "brand", "Brand"),
         Binding("w", "who", "Who"),
         Binding("a", "age", "Age"),
+        *(
+            Binding(key, f"set_who('{value}')", f"Who {value}", show=False)
+            for value, key in WHO_KEYS.items()
+        ),
+        *(
+            Binding(key, f"set_age('{value}')", f"Age {value}", show=False)
+            for value, key in AGE_KEYS.items()
+        ),
         Binding("escape", "cancel_group", "Cancel group", show=False),
         Binding("q", "leave", "Quit"),
     ]
@@ -229,6 +342,23 @@ class ReviewApp(App[None]):
         self.group_mode = False
         self.message = ""
         self._closed = False
+        # Keys pressed between ``b`` and the brand dialog taking them (None: not opening).
+        self._typed_ahead: list[events.Key] | None = None
+
+    # -- keys typed ahead of the brand dialog ---------------------------------------------------
+
+    async def on_event(self, event: events.Event) -> None:
+        if isinstance(event, events.Key) and self._typed_ahead is not None:
+            # The brand dialog is on its way: these keys are meant for it, not for the
+            # review keys (an "s" or an Enter here would skip or accept the item).
+            self._typed_ahead.append(event)
+            return
+        await super().on_event(event)
+
+    def take_typed_ahead(self) -> list[events.Key]:
+        """The keys held while the brand dialog opened; from now on keys go to it directly."""
+        held, self._typed_ahead = self._typed_ahead or [], None
+        return held
 
     # -- layout --------------------------------------------------------------------------------
 
@@ -242,7 +372,7 @@ class ReviewApp(App[None]):
                 yield Static(id="suggestion", classes="panel")
                 yield Static(id="group", classes="panel")
         yield Static(id="message")
-        yield Footer()
+        yield Static(keys_text(), id="keys")
 
     def on_mount(self) -> None:
         for widget_id, title in (
@@ -290,8 +420,7 @@ class ReviewApp(App[None]):
         message = Text(self.message)
         if self.group_mode:
             message = Text(
-                "WHOLE GROUP: your next node decision (Enter, 1-3, /) applies to the group; "
-                "Esc cancels.",
+                "GROUP: the next node key (⏎, 1-3, /) decides the whole group; Esc cancels",
                 style="bold",
             )
         self.query_one("#message", Static).update(message)
@@ -302,95 +431,172 @@ class ReviewApp(App[None]):
             for name in ("attributes", "suggestion", "group"):
                 panels[name].update("")
             return
-        panels["product"].update(self._product_text(view))
-        panels["attributes"].update(self._attributes_text(view))
-        panels["suggestion"].update(self._suggestion_text(view))
-        panels["group"].update(self._group_text(view))
+        for name, text in (
+            ("product", self._product_text(view)),
+            ("attributes", self._attributes_text(view)),
+            ("suggestion", self._suggestion_text(view)),
+            ("group", self._group_text(view)),
+        ):
+            text.rstrip()  # no blank last line inside a panel
+            panels[name].update(text)
+
+    def _inner_width(self) -> int:
+        """Cells inside a panel: half the screen less the border and padding."""
+        return max(self.size.width // 2 - 4, 16)
+
+    def _roomy(self) -> bool:
+        return self.size.width >= ROOMY_WIDTH and self.size.height >= ROOMY_HEIGHT
+
+    def on_resize(self, event: events.Resize) -> None:
+        self.render_item()
 
     def _product_text(self, view: ReviewView) -> Text:
         product = view.product
+        width = self._inner_width()
         text = Text()
         text.append(product.title + "\n", style="bold")
         price = f"{product.price} {product.currency or ''}".strip() if product.price else "—"
-        text.append(f"brand    {product.brand or '—'}\n")
-        text.append(f"price    {price}\n")
-        text.append(f"retailer {view.retailer_path or '—'}\n")
-        text.append(f"id       {product.product_id}   feed {view.item.feed_name}\n")
-        reason = REASON_TEXT.get(view.item.reason, view.item.reason)
-        text.append("queued   ", style="bold")
-        text.append(reason + "\n", style="bold yellow")
+        text.append(fit(f"brand {product.brand or '—'} · price {price}", width) + "\n")
+        text.append("retailer " + fit_path(view.retailer_path or "—", width - 9) + "\n")
+        text.append(fit(f"id {product.product_id} · feed {view.item.feed_name}", width) + "\n")
+        for number, code in enumerate(view.item.reasons or (view.item.reason,)):
+            text.append("queued " if number == 0 else "       ", style="bold")
+            text.append(fit(REASON_TEXT.get(code, code), width - 7) + "\n", style="bold yellow")
         if view.item.skips:
             text.append(f"skipped {view.item.skips}×\n", style="dim")
-        if view.description_excerpt:
-            text.append("\n" + view.description_excerpt, style="italic")
+        if self._roomy():
+            fields = (
+                ("colour field", product.colour),
+                ("size", product.size),
+                ("gender field", product.gender_text),
+                ("GTIN", product.gtin or product.gtin_raw),
+                ("availability", product.availability),
+                ("link", product.url),
+            )
+            for label, value in fields:
+                if value:
+                    text.append(fit(f"{label:<13}{value}", width) + "\n", style="dim")
+            description = product.description
+            if len(description) > DESCRIPTION_ROOMY:
+                description = description[: DESCRIPTION_ROOMY - 1].rstrip() + "…"
+        else:
+            description = view.description_excerpt
+        if description:
+            text.append("\n" + description, style="italic")
         return text
 
     def _attributes_text(self, view: ReviewView) -> Text:
         attributes, pending = view.attributes, self.session.pending
+        width = self._inner_width()
+        sources = self.session.sources()
         text = Text()
 
-        def row(label: str, value: str, fixed: str | None) -> None:
-            text.append(f"{label:<12}{value or '—'}")
+        def row(label: str, value: str, fixed: str | None, source: str) -> None:
+            # One line each: label, value (→ correction), and where the value came from.
+            shown = value or "—"
             if fixed is not None and fixed != value:
-                text.append(f"  → {fixed or '—'}", style="bold green")
+                shown = f"{shown} → {fixed or '—'}"
+            line = f"{label:<7}{shown}"
+            text.append(fit(line, width), style="bold green" if fixed is not None else "")
+            room = width - len(line) - 3
+            if source and room >= 6:
+                text.append(f" · {fit(source, room)}", style="dim")
             text.append("\n")
 
         brand = attributes.brand
-        if attributes.brand_confidence:
-            brand = f"{brand} ({attributes.brand_confidence:.0%})" if brand else brand
-        row("brand", brand, pending.brand)
-        row("who", attributes.who, pending.who)
-        row("age", attributes.age, pending.age)
+        if attributes.brand_confidence and brand:
+            brand = f"{brand} ({attributes.brand_confidence:.0%})"
+        row("brand", brand, pending.brand, sources["brand"])
+        row("who", attributes.who, pending.who, sources["who"])
+        row("age", attributes.age, pending.age, sources["age"])
         if attributes.audience_conflict:
-            text.append("            text and node disagree on who / age\n", style="yellow")
-        row("colour", attributes.colour_family, None)
-        row("restriction", attributes.restriction or "none", None)
+            text.append(fit("       text and node disagree on who / age", width) + "\n",
+                        style="yellow")
+        row("colour", attributes.colour_family, None, sources["colour"])
+        row("flag", attributes.restriction or "none", None, "")
+        if self._roomy():
+            # The extraction's own notes, word for word, when there is room for them.
+            for label, evidence in (
+                ("brand evidence", attributes.brand_evidence),
+                ("audience evidence", attributes.audience_evidence),
+            ):
+                if evidence:
+                    text.append(fit(f"{label}: {evidence}", width) + "\n", style="dim")
         # The caution goes with the product's flag and with a restricted suggested node (the
         # flag may not be set yet, e.g. when the node was suggested after the flag was read).
         if attributes.restriction or self.session.restriction(view.mapping.node_id):
             text.append(_restriction_caution() + "\n", style="italic yellow")
         if pending.any():
-            text.append("corrections are saved with your decision on this item", style="dim")
+            text.append(fit("corrections are saved with your decision", width), style="dim")
         return text
 
     def _suggestion_text(self, view: ReviewView) -> Text:
         session = self.session
         mapping = view.mapping
+        width = self._inner_width()
         text = Text()
-        text.append(session.path_text(mapping.node_id) + "\n", style="bold")
+        text.append(fit_path(session.path_text(mapping.node_id), width) + "\n", style="bold")
         flag = session.restriction(mapping.node_id)
         if flag:
-            text.append(f"restricted node: {flag} (see the caution beside)\n", style="bold yellow")
-        text.append(f"{mapping.confidence:6.1%}  {confidence_bar(mapping.confidence)}")
-        text.append(f"  {mapping.method}\n")
+            text.append(fit(f"restricted node: {flag} (see the caution)", width) + "\n",
+                        style="bold yellow")
+        bar = confidence_bar(mapping.confidence, max(min(BAR_WIDTH, width - 16), 4))
+        text.append(fit(f"{mapping.confidence:6.1%}  {bar}  {mapping.method}", width) + "\n")
         if mapping.reason:
-            text.append(mapping.reason + "\n", style="dim")
+            text.append(fit(mapping.reason, width) + "\n", style="dim")
         alternatives = mapping.alternatives[:MAX_ALTERNATIVES]
         if alternatives:
-            text.append("\nalternatives\n", style="underline")
+            text.append("alternatives\n", style="underline")
         for number, alternative in enumerate(alternatives, start=1):
-            text.append(f" {number}  ", style="bold")
-            text.append(f"{alternative.confidence:6.1%}  {session.path_text(alternative.node_id)}")
             flag = session.restriction(alternative.node_id)
-            if flag:
-                text.append(f"  [{flag}]", style="bold yellow")
+            mark = f" [{flag}]" if flag else ""
+            text.append(f"{number} ", style="bold")
+            path = session.path_text(alternative.node_id)
+            text.append(f"{alternative.confidence:4.0%} ")
+            text.append(fit_path(path, width - 7 - len(mark)))
+            if mark:
+                text.append(mark, style="bold yellow")
             text.append("\n")
         return text
 
     def _group_text(self, view: ReviewView) -> Text:
         group = view.group
+        width = self._inner_width()
         text = Text()
-        text.append((group.key or "(no retailer category)") + "\n", style="bold")
+        text.append(fit_path(group.key or "(no retailer category)", width) + "\n", style="bold")
         products = "product" if group.size == 1 else "products"
         text.append(f"{group.size} {products}")
         if group.top_node:
-            text.append(f", {group.top_share:.0%} → {self.session.path_text(group.top_node)}")
+            text.append(f", {group.top_share:.0%} →\n")
+            text.append(fit_path(self.session.path_text(group.top_node), width))
         text.append(f"\n{group.open_items} still to review in this group\n")
         if group.strong:
-            text.append(
-                "strong consensus: g then Enter settles the group in one step", style="green"
+            text.append(fit("strong: g then ⏎ settles the group", width) + "\n", style="green")
+        room = self._group_list_room(view)
+        if room > 1:
+            # With room to spare: what a group decision would settle, before pressing g.
+            waiting = self.session.store.group_waiting(
+                view.item.feed_id, view.item.group_key, limit=room
             )
+            others = [w for w in waiting if w[0] != view.product.product_id][: room - 1]
+            if others:
+                text.append("\nalso waiting in this group\n", style="underline")
+            session = self.session
+            for _product_id, title, node_id, confidence in others:
+                leaf = session.path_text(node_id).rsplit(" > ", 1)[-1]
+                line = f"{confidence:4.0%} {leaf} ← "
+                text.append(line, style="dim")
+                text.append(fit(title, width - len(line)) + "\n")
         return text
+
+    def _group_list_room(self, view: ReviewView) -> int:
+        """Lines left in the group panel for the group's other waiting products (0: none)."""
+        if not self._roomy():
+            return 0
+        columns = self.size.height - 4  # top line, message, two key lines
+        suggestion = len(self._suggestion_text(view).plain.rstrip("\n").split("\n")) + 2
+        used = 2 + 5 + 2  # borders, the group's own lines, the list's heading
+        return max(columns - suggestion - used, 0)
 
     # -- running actions -----------------------------------------------------------------------
 
@@ -425,7 +631,13 @@ class ReviewApp(App[None]):
                     self.message += f" (restricted node: flagged {flag})"
             self.render_item()
             return
-        target = node_id or view.mapping.node_id
+        try:
+            target = session.group_target(node_id)
+        except CatmapError as error:
+            self.group_mode = False
+            self.message = f"could not do that: {error}"
+            self.render_item()
+            return
         count = session.group_targets()
         question = (
             f"Put {count} product{'s' if count != 1 else ''} of group "
@@ -531,11 +743,18 @@ class ReviewApp(App[None]):
             current = view.attributes.brand or view.product.brand
 
         def typed(brand: str | None) -> None:
-            if brand is not None:
-                self.session.set_brand(brand)
-                self.message = "brand corrected: saved with your decision"
+            if brand is None:
+                self.message = "brand unchanged"
+            else:
+                try:
+                    self.session.set_brand(brand)
+                except CatmapError as error:
+                    self.message = str(error)
+                else:
+                    self.message = "brand corrected: saved with your decision"
             self.render_item()
 
+        self._typed_ahead = []
         self.push_screen(BrandScreen(current), typed)
 
     def action_who(self) -> None:
@@ -548,6 +767,18 @@ class ReviewApp(App[None]):
         if self.session.current is None:
             return
         self.message = f"age → {self.session.cycle_age()} (saved with your decision)"
+        self.render_item()
+
+    def action_set_who(self, value: str) -> None:
+        if self.session.current is None:
+            return
+        self.message = f"who → {self.session.set_who(value)} (saved with your decision)"
+        self.render_item()
+
+    def action_set_age(self, value: str) -> None:
+        if self.session.current is None:
+            return
+        self.message = f"age → {self.session.set_age(value)} (saved with your decision)"
         self.render_item()
 
     def action_leave(self) -> None:

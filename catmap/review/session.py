@@ -22,8 +22,8 @@ from collections.abc import Callable
 from dataclasses import dataclass
 from datetime import UTC, datetime, timedelta
 
-from catmap.attributes import AttributeExtractor, BrandDictionary
-from catmap.errors import StoreError, UnknownNode
+from catmap.attributes import AttributeExtractor, BrandDictionary, colour_family
+from catmap.errors import ReviewError, StoreError, UnknownNode
 from catmap.records import AGE_VALUES, WHO_VALUES
 from catmap.review.follow import NodeFollower
 from catmap.store import (
@@ -318,13 +318,39 @@ class ReviewSession:
             for item in self.store.items(feed=view.item.feed_id, state=state):
                 if item.group_key != view.item.group_key or item.id == view.item.id:
                     continue
-                if item.reason not in GROUP_REASONS:
+                if any(r not in GROUP_REASONS for r in item.reasons):
                     continue
                 if state == "claimed" and item.claimed_by != self.reviewer:
                     if (item.lease_until or "") >= now:
                         continue  # another reviewer holds it
                 count += 1
         return count + 1  # the item on screen is decided too
+
+    def group_target(self, node_id: str | None = None) -> str:
+        """The node a group decision would put the on-screen item's group on.
+
+        Args:
+            node_id: the node picked for the group; None means the on-screen suggestion.
+
+        Returns:
+            The node id.
+
+        Raises:
+            ReviewError: there is no node to use (the product was set to no fitting node,
+                e.g. through another of its review items, and no node was picked).
+            UnknownNode: the node is not in the tree.
+        """
+        view = self._require()
+        target = node_id or view.mapping.node_id
+        if not target:
+            raise ReviewError(
+                "this product is set to 'no fitting node', so there is no suggested node to "
+                "put its group on",
+                product_id=view.product.product_id,
+                hint="pick the group's node with 1-3 or /, or decide this item alone",
+            )
+        self.tree[target]
+        return target
 
     def decide_group(self, node_id: str | None = None) -> list[Decision]:
         """Put every open item of the on-screen item's group on one node.
@@ -338,12 +364,14 @@ class ReviewSession:
 
         Returns:
             Every decision written.
+
+        Raises:
+            ReviewError: no node to put the group on (see :meth:`group_target`).
         """
         view = self._require()
-        target = node_id or view.mapping.node_id
-        self.tree[target]
+        target = self.group_target(node_id)
         decisions: list[Decision] = []
-        single = self.pending.any() or view.item.reason not in GROUP_REASONS
+        single = self.pending.any() or any(r not in GROUP_REASONS for r in view.item.reasons)
         if single:
             action = "accept" if target == view.mapping.node_id else "choose"
             decisions.append(
@@ -371,9 +399,60 @@ class ReviewSession:
     # -- attribute corrections -----------------------------------------------------------------
 
     def set_brand(self, brand: str) -> None:
-        """Correct the brand (saved with the next decision on this item)."""
+        """Correct the brand (saved with the next decision on this item).
+
+        Raises:
+            ReviewError: the brand is empty (an empty box is never saved as the brand).
+        """
+        view = self._require()
+        cleaned = " ".join(brand.split())
+        if not cleaned:
+            raise ReviewError(
+                "an empty brand is not saved; the brand stays as it was",
+                product_id=view.product.product_id,
+                hint="press b and type the brand",
+            )
+        self.pending = Pending(cleaned, self.pending.who, self.pending.age)
+
+    def set_who(self, value: str) -> str:
+        """Set who to ``value`` (one of ``WHO_VALUES``; saved with the next decision)."""
         self._require()
-        self.pending = Pending(brand.strip(), self.pending.who, self.pending.age)
+        if value not in WHO_VALUES:
+            raise ValueError(f"unknown who {value!r}; expected one of {WHO_VALUES}")
+        self.pending = Pending(self.pending.brand, value, self.pending.age)
+        return value
+
+    def set_age(self, value: str) -> str:
+        """Set age to ``value`` (one of ``AGE_VALUES``; saved with the next decision)."""
+        self._require()
+        if value not in AGE_VALUES:
+            raise ValueError(f"unknown age {value!r}; expected one of {AGE_VALUES}")
+        self.pending = Pending(self.pending.brand, self.pending.who, value)
+        return value
+
+    def sources(self) -> dict[str, str]:
+        """Where the brand, who, age and colour on screen came from, in a few words each.
+
+        A value typed on this screen is "your correction"; one a reviewer saved is "reviewer
+        NAME"; otherwise the extraction's evidence says which field, the title, the brand
+        dictionary or the node's default gave it.
+        """
+        view = self._require()
+        attributes, pending = view.attributes, self.pending
+        people = self.store.attribute_correctors(view.item.feed_id, view.product.product_id)
+        found = {
+            "brand": _brand_source(attributes.brand_evidence),
+            "who": _audience_source(attributes.audience_evidence, "who"),
+            "age": _audience_source(attributes.audience_evidence, "age"),
+            "colour": _colour_source(view),
+        }
+        for name in ("brand", "who", "age"):
+            if name in people:
+                found[name] = f"reviewer {people[name]}"
+        for name, value in (("brand", pending.brand), ("who", pending.who), ("age", pending.age)):
+            if value is not None:
+                found[name] = "your correction"
+        return found
 
     def cycle_who(self) -> str:
         """Move who to the next allowed value (saved with the next decision on this item)."""
@@ -429,3 +508,70 @@ def _next_value(values: tuple[str, ...], current: str) -> str:
     if current not in values:
         return values[0]
     return values[(values.index(current) + 1) % len(values)]
+
+
+def _brand_source(evidence: str) -> str:
+    """The extraction's brand evidence in a reviewer's words."""
+    words = evidence.split(" ", 2)
+    if not evidence or evidence == "no brand found":
+        return "none found"
+    place = {"field": "brand field", "title": "title", "description": "description"}.get(
+        words[0]
+    )
+    if place is None:
+        return evidence
+    rest = words[1:]
+    if rest[:1] == ["exact"]:
+        return f"{place}, dictionary name"
+    if rest[:1] == ["fuzzy"]:
+        return f"{place}, near a dictionary name"
+    if rest[:1] == ["not"]:
+        return f"{place}, not in the dictionary"
+    return f"{place} ({' '.join(rest)})" if rest else place
+
+
+def _audience_source(evidence: str, name: str) -> str:
+    """Which source gave who (or age), read from the audience evidence notes.
+
+    The extraction writes at most one note per attribute besides its conflicts, who's first;
+    "not_applicable" ends notes of both, so who takes the first match and age the last.
+    """
+    values = WHO_VALUES if name == "who" else AGE_VALUES
+    marks = ("gender does not apply", "unisex by default") if name == "who" else (
+        "age does not apply",
+        "adult by default",
+    )
+    notes = [n.strip() for n in evidence.split(";") if n.strip()]
+    mine = [
+        n
+        for n in notes
+        if not n.startswith("conflict")
+        and (n.endswith(marks) or any(n.endswith(v) or n.endswith(f"{v} (weak)") for v in values))
+    ]
+    if not mine:
+        return "not read (no cue)"
+    note = mine[0] if name == "who" else mine[-1]
+    if note.startswith("column"):
+        return "gender / age field"
+    if note.startswith("text"):
+        return "title / text" + (", weak cue" if note.endswith("(weak)") else "")
+    if note.startswith("node"):
+        return "node default"
+    if note.startswith("nothing said"):
+        return "default, nothing said"
+    return note
+
+
+def _colour_source(view: ReviewView) -> str:
+    """Where the colour family came from: the colour field or the title ('' when unknown)."""
+    family = view.attributes.colour_family
+    if not family:
+        return "none found"
+    found, evidence = colour_family(view.product.colour, view.product.title)
+    if found != family:
+        return "as the run stored it"
+    if evidence.startswith("colour field"):
+        return "colour field"
+    if evidence.startswith("title"):
+        return "title"
+    return evidence

@@ -356,6 +356,31 @@ class DecisionsMixin(QueueMixin, ProductsMixin):
             ).fetchall()
         return [_decision_from_row(r) for r in rows]
 
+    def attribute_correctors(self, feed: int | str, product_id: str) -> dict[str, str]:
+        """Who last corrected each of a product's brand, who and age (live decisions only).
+
+        Args:
+            feed: the feed (id or name).
+            product_id: the product.
+
+        Returns:
+            ``{"brand": reviewer, "who": ..., "age": ...}`` for the attributes a person set.
+        """
+        fid = self._feed_id(feed)
+        rows = self._read(
+            "SELECT d.reviewer, d.brand_to, d.who_to, d.age_to FROM decisions AS d "
+            "JOIN review_items AS i ON i.id = d.item_id WHERE i.feed_id = ? "
+            "AND i.product_id = ? AND d.undone_at IS NULL AND d.action != 'skip' "
+            "ORDER BY d.id",
+            (fid, product_id),
+        ).fetchall()
+        found: dict[str, str] = {}
+        for row in rows:
+            for name in ("brand", "who", "age"):
+                if row[f"{name}_to"] is not None:
+                    found[name] = row["reviewer"]
+        return found
+
     def decisions(
         self, feed: int | str | None = None, *, include_undone: bool = False
     ) -> list[Decision]:

@@ -10,7 +10,7 @@ from typing import Any
 
 from catmap.errors import StoreError
 from catmap.store.connection import StoreConnection
-from catmap.store.queue import _STATE_OR_WITHDRAWN
+from catmap.store.queue import _STATE_OR_WITHDRAWN, has_reason_sql
 from catmap.store.records import FeedRecord, FeedStatus, RunRecord
 
 # Where start_run keeps the process of a run among its parameters.
@@ -203,7 +203,8 @@ class FeedsMixin(StoreConnection):
                 "SELECT COUNT(*), COALESCE(SUM(d.action IN ('choose', 'no_fit') "
                 "AND d.to_node IS NOT d.from_node), 0) FROM decisions AS d "
                 "JOIN review_items AS i ON i.id = d.item_id WHERE i.feed_id = ? "
-                "AND i.reason = 'audit_sample' AND d.undone_at IS NULL AND d.action != 'skip'",
+                "AND " + has_reason_sql("audit_sample", "i") + " AND d.undone_at IS NULL "
+                "AND d.action != 'skip'",
                 (fid,),
             ).fetchone()
         checked, wrong = int(audit[0]), int(audit[1])

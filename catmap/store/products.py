@@ -22,7 +22,7 @@ from catmap.store.encoding import (
     product_from_json,
     product_to_json,
 )
-from catmap.store.queue import _ITEM_UPSERT
+from catmap.store.queue import queue_products
 from catmap.store.records import MAPPING_STATUSES, REVIEW_REASONS, MappedRow, StoredMapping
 
 DEFAULT_BATCH_SIZE = 5000
@@ -96,14 +96,6 @@ _MAPPING_UPSERT = (
     "colour_family = excluded.colour_family, restriction = excluded.restriction "
     "WHERE mappings.status != 'reviewed'"
 )
-# No review item for a product a person already reviewed.
-_ITEMS_UPSERT = (
-    "INSERT INTO review_items (feed_id, product_id, group_key, reason, priority, "
-    "created_at) SELECT ?1, ?2, ?3, ?4, ?5, ?6 WHERE NOT EXISTS (SELECT 1 FROM "
-    "mappings WHERE feed_id = ?1 AND product_id = ?2 AND status = 'reviewed') " + _ITEM_UPSERT
-)
-
-
 class ProductsMixin(StoreConnection):
     """Saved products and their mappings."""
 
@@ -229,12 +221,13 @@ class ProductsMixin(StoreConnection):
             for reason in reasons:
                 if reason not in REVIEW_REASONS:
                     raise ValueError(f"unknown review reason {reason!r}")
-                items.append((feed_id, product_id, row.group_key, reason, row.priority, now))
+            items.append((product_id, row.group_key, tuple(reasons), row.priority))
         with self._bulk_transaction() as conn:
             conn.executemany(_PRODUCT_UPSERT, products)
             conn.executemany(_MAPPING_UPSERT, mappings)
             if items:
-                conn.executemany(_ITEMS_UPSERT, items)
+                # One item per product, all its reasons; none for a product a person reviewed.
+                queue_products(conn, feed_id, items, now, skip_reviewed=True)
         return len(batch)
 
     @contextmanager

@@ -2,12 +2,17 @@
 
 A claim takes the write lock first (``BEGIN IMMEDIATE``), so two reviewers claiming at once are
 serialised and never get the same item; a claim holds for a lease and lapses without a decision.
+
+A product has at most one item waiting (open or claimed) at a time, carrying every reason it is
+queued for (``reasons``, the first one leading): a second reason joins the waiting item instead
+of opening another, so that two reviewers never decide the same product side by side. The
+``reason`` column stays the key the item was opened under.
 """
 
 from __future__ import annotations
 
 import sqlite3
-from collections.abc import Iterable
+from collections.abc import Iterable, Sequence
 from typing import Any
 
 from catmap.decide.queue import STRONG_GROUP_MIN_SIZE, STRONG_GROUP_SHARE
@@ -32,14 +37,129 @@ DEFAULT_LEASE_SECONDS = 600
 # An item's state for counting: a withdrawn item is 'done' in the table but was never decided.
 _STATE_OR_WITHDRAWN = "CASE WHEN withdrawn_reason IS NOT NULL THEN 'withdrawn' ELSE state END"
 
-# Queueing a product again reopens an item that a run had withdrawn (the product is uncertain
-# again); an item a person decided stays decided.
-_ITEM_UPSERT = (
-    "ON CONFLICT(feed_id, product_id, reason) DO UPDATE SET "
-    "group_key = excluded.group_key, priority = excluded.priority, state = 'open', "
-    "claimed_by = NULL, lease_until = NULL, withdrawn_reason = NULL "
-    "WHERE review_items.state = 'open' OR review_items.withdrawn_reason IS NOT NULL"
+# Every reason of an item, space-separated, the leading one first (an item written without the
+# reasons column, e.g. by an older catmap, has its key reason only).
+ALL_REASONS_SQL = "(CASE WHEN {t}reasons = '' THEN {t}reason ELSE {t}reasons END)"
+_ALL = ALL_REASONS_SQL.format(t="")
+# The leading reason, for counting items by reason.
+LEADING_REASON_SQL = (
+    f"(CASE WHEN instr({_ALL}, ' ') > 0 THEN substr({_ALL}, 1, instr({_ALL}, ' ') - 1) "
+    f"ELSE {_ALL} END)"
 )
+
+# Products looked up per query when queueing a batch (well under SQLite's variable limit).
+_LOOKUP_CHUNK = 500
+
+
+def has_reason_sql(reason: str, table: str = "") -> str:
+    """An SQL condition: the item (of ``table``, when given) carries ``reason``."""
+    if reason not in REVIEW_REASONS:
+        raise ValueError(f"unknown review reason {reason!r}")
+    all_reasons = ALL_REASONS_SQL.format(t=f"{table}." if table else "")
+    return f"instr(' ' || {all_reasons} || ' ', ' {reason} ') > 0"
+
+
+def reasons_of(row: sqlite3.Row) -> tuple[str, ...]:
+    """Every reason of an item row, the leading one first."""
+    return tuple((row["reasons"] or row["reason"]).split())
+
+
+def queue_products(
+    conn: sqlite3.Connection,
+    feed_id: int,
+    entries: Sequence[tuple[str, str, tuple[str, ...], float]],
+    now: str,
+    *,
+    skip_reviewed: bool,
+) -> None:
+    """Queue products for review, one waiting item per product, inside the caller's transaction.
+
+    A product with an item waiting gets the new reasons added to it (and, when the item is
+    open, the new group and priority). Otherwise the reasons not already decided on one of
+    its items open an item: a withdrawn item of one of those reasons is reopened, else a new
+    item is inserted under the first of them.
+
+    Args:
+        conn: the connection, in a write transaction.
+        feed_id: the feed.
+        entries: ``(product_id, group_key, reasons, priority)`` per product.
+        now: the time stamp of new items.
+        skip_reviewed: queue nothing for a product whose mapping a person reviewed.
+    """
+    for reasons in (e[2] for e in entries):
+        for reason in reasons:
+            if reason not in REVIEW_REASONS:
+                raise ValueError(f"unknown review reason {reason!r}")
+    existing: dict[str, list[sqlite3.Row]] = {}
+    reviewed: set[str] = set()
+    ids = list(dict.fromkeys(e[0] for e in entries))
+    for start in range(0, len(ids), _LOOKUP_CHUNK):
+        part = ids[start : start + _LOOKUP_CHUNK]
+        marks = ", ".join("?" for _ in part)
+        for row in conn.execute(
+            "SELECT id, product_id, reason, reasons, state, withdrawn_reason FROM review_items "
+            f"WHERE feed_id = ? AND product_id IN ({marks}) ORDER BY id",
+            (feed_id, *part),
+        ):
+            existing.setdefault(row["product_id"], []).append(row)
+        if skip_reviewed:
+            reviewed.update(
+                r[0]
+                for r in conn.execute(
+                    "SELECT product_id FROM mappings WHERE feed_id = ? "
+                    f"AND product_id IN ({marks}) AND status = 'reviewed'",
+                    (feed_id, *part),
+                )
+            )
+    for product_id, group_key, reasons, priority in entries:
+        if not reasons:
+            continue
+        rows = existing.get(product_id, [])
+        waiting = [r for r in rows if r["state"] != "done"]
+        if waiting:
+            item = waiting[0]
+            have = reasons_of(item)
+            added = tuple(r for r in reasons if r not in have)
+            merged = " ".join(have + added)
+            if item["state"] == "open":
+                # The same reasons again: the new run's priority; a reason added: the item
+                # is worth at least what either reason makes it.
+                conn.execute(
+                    "UPDATE review_items SET reasons = ?, group_key = ?, "
+                    "priority = CASE WHEN ? THEN MAX(priority, ?) ELSE ? END WHERE id = ?",
+                    (merged, group_key, bool(added), priority, priority, item["id"]),
+                )
+            else:  # a reviewer holds it: they see the new reason, the queue order stays
+                conn.execute(
+                    "UPDATE review_items SET reasons = ? WHERE id = ?", (merged, item["id"])
+                )
+            continue
+        if product_id in reviewed:
+            continue
+        decided = {
+            reason for r in rows if r["withdrawn_reason"] is None for reason in reasons_of(r)
+        }
+        fresh = tuple(dict.fromkeys(r for r in reasons if r not in decided))
+        if not fresh:
+            continue  # an item a person decided stays decided
+        withdrawn = {r["reason"]: r for r in rows if r["withdrawn_reason"] is not None}
+        reuse = next((withdrawn[r] for r in fresh if r in withdrawn), None)
+        if reuse is not None:
+            # The product is uncertain again: the item a run had withdrawn reopens.
+            ordered = (reuse["reason"], *(r for r in fresh if r != reuse["reason"]))
+            conn.execute(
+                "UPDATE review_items SET reasons = ?, group_key = ?, priority = ?, "
+                "state = 'open', claimed_by = NULL, lease_until = NULL, withdrawn_reason = NULL "
+                "WHERE id = ?",
+                (" ".join(ordered), group_key, priority, reuse["id"]),
+            )
+        else:
+            conn.execute(
+                "INSERT INTO review_items (feed_id, product_id, group_key, reason, reasons, "
+                "priority, created_at) VALUES (?, ?, ?, ?, ?, ?, ?)",
+                (feed_id, product_id, group_key, fresh[0], " ".join(fresh), priority, now),
+            )
+
 
 _ITEM_SELECT = (
     "SELECT review_items.*, feeds.name AS feed_name FROM review_items "
@@ -48,19 +168,21 @@ _ITEM_SELECT = (
 
 
 def _item_from_row(row: sqlite3.Row) -> ReviewItem:
+    reasons = reasons_of(row)
     return ReviewItem(
         id=row["id"],
         feed_id=row["feed_id"],
         feed_name=row["feed_name"],
         product_id=row["product_id"],
         group_key=row["group_key"],
-        reason=row["reason"],
+        reason=reasons[0],
         priority=row["priority"],
         state=row["state"],
         claimed_by=row["claimed_by"],
         lease_until=row["lease_until"],
         skips=row["skips"],
         withdrawn_reason=row["withdrawn_reason"],
+        reasons=reasons,
     )
 
 
@@ -78,6 +200,8 @@ class QueueMixin(AuditMixin):
     ) -> int:
         """Queue a saved product for review (idempotent per feed, product and reason).
 
+        When the product already has an item waiting, ``reason`` joins that item.
+
         Args:
             feed: the feed (id or name).
             product_id: a product already saved with :meth:`save_mapped`.
@@ -86,7 +210,7 @@ class QueueMixin(AuditMixin):
             priority: expected gain of reviewing it.
 
         Returns:
-            The item id.
+            The id of the item carrying the reason.
 
         Raises:
             StoreError: the product is not in the store.
@@ -104,13 +228,14 @@ class QueueMixin(AuditMixin):
                     "no such product in the store", path=self.path, product_id=product_id
                 )
             key = found[0] if group_key is None else group_key
-            conn.execute(
-                "INSERT INTO review_items (feed_id, product_id, group_key, reason, priority, "
-                "created_at) VALUES (?, ?, ?, ?, ?, ?) " + _ITEM_UPSERT,
-                (fid, product_id, key, reason, priority, self._now()),
+            queue_products(
+                conn, fid, [(product_id, key, (reason,), priority)], self._now(),
+                skip_reviewed=False,
             )
             row = conn.execute(
-                "SELECT id FROM review_items WHERE feed_id = ? AND product_id = ? AND reason = ?",
+                "SELECT id FROM review_items WHERE feed_id = ? AND product_id = ? AND "
+                + has_reason_sql(reason)
+                + " ORDER BY state != 'done' DESC, reason = ? DESC, id DESC LIMIT 1",
                 (fid, product_id, reason),
             ).fetchone()
         return int(row[0])
@@ -128,10 +253,12 @@ class QueueMixin(AuditMixin):
     ) -> list[int]:
         """Close review items nobody decided yet, because what made them uncertain is settled.
 
-        An item is withdrawn when it is open (or its claim's lease ran out) and has no
-        decision: its state becomes ``done`` with ``why`` as its withdrawn reason, and one audit
-        entry (action ``withdraw``) lists every item closed. An item a reviewer holds with a
-        live lease is left to them. Queueing the product again later reopens the item.
+        An item is withdrawn when it is open (or its claim's lease ran out), carries ``reason``
+        and has no decision; an item queued for other reasons too only loses ``reason`` and
+        stays open for the others. A withdrawn item's state becomes ``done`` with ``why`` as
+        its withdrawn reason, and one audit entry (action ``withdraw``) lists every item
+        closed. An item a reviewer holds with a live lease is left to them. Queueing the
+        product again later reopens the item.
 
         Args:
             feed: the feed (id or name).
@@ -152,17 +279,26 @@ class QueueMixin(AuditMixin):
         wanted = None if product_ids is None else set(product_ids)
         with self._transaction() as conn:
             sql = (
-                "SELECT i.id, i.product_id FROM review_items AS i "
+                "SELECT i.id, i.product_id, i.reason, i.reasons FROM review_items AS i "
                 "JOIN mappings AS m USING (feed_id, product_id) "
-                "WHERE i.feed_id = ? AND i.reason = ? AND (i.state = 'open' OR "
+                "WHERE i.feed_id = ? AND "
+                + has_reason_sql(reason, "i")
+                + " AND (i.state = 'open' OR "
                 "(i.state = 'claimed' AND i.lease_until < ?)) "
                 "AND NOT EXISTS (SELECT 1 FROM decisions AS d WHERE d.item_id = i.id "
                 "AND d.undone_at IS NULL AND d.action != 'skip')"
             )
             if only_settled:
                 sql += " AND m.status IN ('accepted', 'audit')"
-            rows = conn.execute(sql + " ORDER BY i.id", (fid, reason, self._now())).fetchall()
-            chosen = [(int(r[0]), str(r[1])) for r in rows if wanted is None or r[1] in wanted]
+            rows = conn.execute(sql + " ORDER BY i.id", (fid, self._now())).fetchall()
+            found = [r for r in rows if wanted is None or r["product_id"] in wanted]
+            # An item queued for other reasons too stays open for them, without this one.
+            kept = [(r, [x for x in reasons_of(r) if x != reason]) for r in found]
+            chosen = [(int(r["id"]), str(r["product_id"])) for r, rest in kept if not rest]
+            conn.executemany(
+                "UPDATE review_items SET reasons = ? WHERE id = ?",
+                [(" ".join(rest), r["id"]) for r, rest in kept if rest],
+            )
             if not chosen:
                 return []
             conn.executemany(
@@ -272,18 +408,23 @@ class QueueMixin(AuditMixin):
     ) -> list[ReviewItem]:
         now = self._now()
         lease = self._lease_until(lease_seconds)
-        marks = ", ".join("?" for _ in GROUP_REASONS)
+        # Only items every reason of which can be settled in bulk: a conflict or an audit
+        # sample riding on a low-confidence item still needs a person to look at it.
+        bulk_only = " AND ".join(
+            f"NOT {has_reason_sql(r, 'review_items')}" for r in REVIEW_REASONS
+            if r not in GROUP_REASONS
+        )
         conn.execute(
             "UPDATE review_items SET state = 'claimed', claimed_by = ?, lease_until = ? "
-            f"WHERE feed_id = ? AND group_key = ? AND reason IN ({marks}) AND (state = 'open' "
+            f"WHERE feed_id = ? AND group_key = ? AND {bulk_only} AND (state = 'open' "
             "OR (state = 'claimed' AND (claimed_by = ? OR lease_until < ?)))",
-            (reviewer, lease, feed_id, group_key, *GROUP_REASONS, reviewer, now),
+            (reviewer, lease, feed_id, group_key, reviewer, now),
         )
         rows = conn.execute(
             _ITEM_SELECT + " WHERE review_items.feed_id = ? AND review_items.group_key = ? "
             "AND review_items.state = 'claimed' AND review_items.claimed_by = ? "
-            f"AND review_items.reason IN ({marks}) ORDER BY review_items.id",
-            (feed_id, group_key, reviewer, *GROUP_REASONS),
+            f"AND {bulk_only} ORDER BY review_items.id",
+            (feed_id, group_key, reviewer),
         ).fetchall()
         return [_item_from_row(r) for r in rows]
 
@@ -321,6 +462,30 @@ class QueueMixin(AuditMixin):
         sql += " ORDER BY review_items.skips, review_items.priority DESC, review_items.id"
         return [_item_from_row(r) for r in self._read(sql, params).fetchall()]
 
+    def group_waiting(
+        self, feed: int | str, group_key: str, *, limit: int = 20
+    ) -> list[tuple[str, str, str, float]]:
+        """The products of a group still waiting for review, in queue order.
+
+        Args:
+            feed: the feed (id or name).
+            group_key: the retailer category path of the group.
+            limit: at most this many.
+
+        Returns:
+            ``(product_id, title, suggested node, confidence)`` per product.
+        """
+        fid = self._feed_id(feed)
+        rows = self._read(
+            "SELECT i.product_id, p.title, m.node_id, m.confidence FROM review_items AS i "
+            "JOIN products AS p USING (feed_id, product_id) "
+            "JOIN mappings AS m USING (feed_id, product_id) "
+            "WHERE i.feed_id = ? AND i.group_key = ? AND i.state != 'done' "
+            "ORDER BY i.skips, i.priority DESC, i.id LIMIT ?",
+            (fid, group_key, limit),
+        ).fetchall()
+        return [(r[0], r[1], r[2], float(r[3])) for r in rows]
+
     def group_info(self, feed: int | str, group_key: str) -> GroupInfo:
         """Return how a retailer category group stands: size, open items, consensus."""
         fid = self._feed_id(feed)
@@ -351,13 +516,13 @@ class QueueMixin(AuditMixin):
         )
 
     def queue_summary(self, feed: int | str | None = None) -> QueueSummary:
-        """Count open, claimed and done items, by reason and by group."""
+        """Count open, claimed and done items, by (leading) reason and by group."""
         where, params = "", []
         if feed is not None:
             where, params = " WHERE feed_id = ?", [self._feed_id(feed)]
         with self._lock:
             reason_rows = self._conn.execute(
-                f"SELECT reason, {_STATE_OR_WITHDRAWN}, COUNT(*) FROM review_items"
+                f"SELECT {LEADING_REASON_SQL}, {_STATE_OR_WITHDRAWN}, COUNT(*) FROM review_items"
                 + where
                 + " GROUP BY 1, 2",
                 params,

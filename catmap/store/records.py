@@ -118,7 +118,10 @@ NodeAttributesFor = Callable[[Product, StoredMapping], NodeAttributes]
 
 @dataclass(frozen=True, slots=True)
 class ReviewItem:
-    """One entry of the review queue."""
+    """One entry of the review queue: one product, with every reason it is queued for.
+
+    ``reason`` is the leading reason (the first of ``reasons``).
+    """
 
     id: int
     feed_id: int
@@ -132,6 +135,7 @@ class ReviewItem:
     lease_until: str | None
     skips: int
     withdrawn_reason: str | None = None
+    reasons: tuple[str, ...] = ()
 
     @property
     def withdrawn(self) -> bool:

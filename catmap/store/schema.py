@@ -193,6 +193,38 @@ _SCHEMA_V7: tuple[str, ...] = (
     "UPDATE feeds SET tree_version = COALESCE((SELECT MAX(m.tree_version) FROM mappings AS m "
     "WHERE m.feed_id = feeds.id), '')",
 )
+# Version 8: one review item per product. An item carries every reason it is queued for
+# (``reasons``, space-separated, the leading one first); a product's second reason joins its
+# waiting item instead of opening another. Existing stores are merged: of a product's waiting
+# (open or claimed) items, one is kept (a claimed one first, then the highest priority) with all
+# their reasons; the others are closed as withdrawn, "merged into review item N".
+_SCHEMA_V8: tuple[str, ...] = (
+    "ALTER TABLE review_items ADD COLUMN reasons TEXT NOT NULL DEFAULT ''",
+    "UPDATE review_items SET reasons = reason",
+    """CREATE TEMP TABLE item_merge AS
+        SELECT i.id AS id, (SELECT k.id FROM review_items AS k WHERE k.feed_id = i.feed_id
+            AND k.product_id = i.product_id AND k.state != 'done'
+            ORDER BY k.state = 'claimed' DESC, k.priority DESC, k.id LIMIT 1) AS keeper
+        FROM review_items AS i WHERE i.state != 'done'""",
+    # The keeper's own reason leads, then the others in the order they were queued.
+    """CREATE TEMP TABLE item_merged AS
+        SELECT keeper, group_concat(reason, ' ') AS reasons, MAX(priority) AS priority
+        FROM (SELECT m.keeper AS keeper, r.reason AS reason, r.priority AS priority
+            FROM item_merge AS m JOIN review_items AS r ON r.id = m.id
+            ORDER BY m.keeper, r.id != m.keeper, r.id)
+        GROUP BY keeper HAVING COUNT(*) > 1""",
+    """UPDATE review_items SET
+        reasons = (SELECT reasons FROM item_merged WHERE keeper = review_items.id),
+        priority = (SELECT priority FROM item_merged WHERE keeper = review_items.id)
+        WHERE id IN (SELECT keeper FROM item_merged)""",
+    """UPDATE review_items SET state = 'done', claimed_by = NULL, lease_until = NULL,
+        withdrawn_reason = 'merged into review item '
+            || (SELECT keeper FROM item_merge WHERE item_merge.id = review_items.id)
+        WHERE id IN (SELECT id FROM item_merge WHERE keeper != id)""",
+    "DROP TABLE item_merge",
+    "DROP TABLE item_merged",
+)
+
 MIGRATIONS: tuple[tuple[str, ...], ...] = (
     _SCHEMA_V1,
     _SCHEMA_V2,
@@ -201,6 +233,7 @@ MIGRATIONS: tuple[tuple[str, ...], ...] = (
     _SCHEMA_V5,
     _SCHEMA_V6,
     _SCHEMA_V7,
+    _SCHEMA_V8,
 )
 SCHEMA_VERSION = len(MIGRATIONS)
 

@@ -2,16 +2,22 @@
 
 A decision is never deleted: undo marks it undone, restores the mapping it saved and reopens
 its item, claimed by the reviewer, in one transaction with its audit entry.
+
+Undo only takes back what its own decision changed. When someone else decided the same product
+after it (on any of its items), restoring the saved mapping would silently throw their live
+decision away, so the undo is refused with a message naming that decision; likewise when the
+item of an undone skip has since been taken by another reviewer.
 """
 
 from __future__ import annotations
 
 import json
+import sqlite3
 from typing import Any
 
-from catmap.errors import TreeVersionMismatch
+from catmap.errors import StoreError, TreeVersionMismatch
 from catmap.store.audit import AuditMixin
-from catmap.store.queue import DEFAULT_LEASE_SECONDS
+from catmap.store.queue import DEFAULT_LEASE_SECONDS, reasons_of
 
 
 class UndoMixin(AuditMixin):
@@ -31,6 +37,8 @@ class UndoMixin(AuditMixin):
         Raises:
             TreeVersionMismatch: the decision was made on another tree version than the
                 mapping's now (a remap came between): undoing it would mix versions.
+            StoreError: another reviewer decided one of the products after this decision, or
+                holds the item of an undone skip; nothing is changed.
         """
         with self._transaction() as conn:
             last = conn.execute(
@@ -51,6 +59,8 @@ class UndoMixin(AuditMixin):
                     "SELECT * FROM decisions WHERE id = ?", (last["id"],)
                 ).fetchall()
             now = self._now()
+            for decision in rows:
+                self._check_undoable(conn, reviewer, decision, now)
             lease = self._lease_until(lease_seconds)
             item_ids: list[int] = []
             feed_id: int | None = None
@@ -72,6 +82,7 @@ class UndoMixin(AuditMixin):
                     "skips = ? WHERE id = ?",
                     (reviewer, lease, before.get("skips", 0), decision["item_id"]),
                 )
+                _fold_waiting(conn, decision["item_id"])
                 conn.execute(
                     "UPDATE decisions SET undone_at = ? WHERE id = ?", (now, decision["id"])
                 )
@@ -89,6 +100,86 @@ class UndoMixin(AuditMixin):
                 },
             )
         return item_ids
+
+    def _check_undoable(
+        self, conn: sqlite3.Connection, reviewer: str, decision: sqlite3.Row, now: str
+    ) -> None:
+        """Refuse to undo ``decision`` when that would discard another reviewer's work."""
+        item = conn.execute(
+            "SELECT feed_id, product_id, state, claimed_by, lease_until FROM review_items "
+            "WHERE id = ?",
+            (decision["item_id"],),
+        ).fetchone()
+        later = conn.execute(
+            "SELECT d.id, d.reviewer, d.action FROM decisions AS d "
+            "JOIN review_items AS i ON i.id = d.item_id "
+            "WHERE i.feed_id = ? AND i.product_id = ? AND d.id > ? AND d.undone_at IS NULL "
+            "AND d.action != 'skip' AND (d.bulk_id IS NULL OR d.bulk_id IS NOT ?) "
+            "ORDER BY d.id LIMIT 1",
+            (item["feed_id"], item["product_id"], decision["id"], decision["bulk_id"]),
+        ).fetchone()
+        if later is not None:
+            raise StoreError(
+                f"cannot undo your {decision['action']} of product {item['product_id']}: "
+                f"{later['reviewer']} decided it after you ({later['action']}, decision "
+                f"{later['id']}), and undoing yours would discard theirs",
+                path=self.path,
+                product_id=item["product_id"],
+                hint="ask them to undo theirs first, or decide the product again",
+            )
+        waiting = conn.execute(
+            "SELECT product_id, claimed_by FROM review_items WHERE feed_id = ? "
+            "AND product_id = ? AND id != ? AND state = 'claimed' AND claimed_by != ? "
+            "AND lease_until >= ?",
+            (item["feed_id"], item["product_id"], decision["item_id"], reviewer, now),
+        ).fetchone()
+        if waiting is not None:
+            raise StoreError(
+                f"cannot undo your {decision['action']} of product {item['product_id']}: "
+                f"{waiting['claimed_by']} has it on screen now (another review item of it)",
+                path=self.path,
+                product_id=item["product_id"],
+                hint="let them decide it, then undo",
+            )
+        taken = (
+            decision["action"] == "skip"
+            and item["state"] == "claimed"
+            and item["claimed_by"] != reviewer
+            and (item["lease_until"] or "") >= now
+        )
+        if taken:
+            raise StoreError(
+                f"cannot undo your skip of product {item['product_id']}: "
+                f"{item['claimed_by']} has it on screen now",
+                path=self.path,
+                product_id=item["product_id"],
+                hint="let them decide it",
+            )
+
+
+def _fold_waiting(conn: sqlite3.Connection, item_id: int) -> None:
+    """Keep one waiting item per product: another waiting item of the reopened item's product
+    (queued after the decision) joins it with its reasons and is closed as merged."""
+    item = conn.execute("SELECT * FROM review_items WHERE id = ?", (item_id,)).fetchone()
+    others = conn.execute(
+        "SELECT * FROM review_items WHERE feed_id = ? AND product_id = ? AND id != ? "
+        "AND state != 'done' ORDER BY id",
+        (item["feed_id"], item["product_id"], item_id),
+    ).fetchall()
+    if not others:
+        return
+    reasons = list(reasons_of(item))
+    for other in others:
+        reasons.extend(r for r in reasons_of(other) if r not in reasons)
+    conn.execute(
+        "UPDATE review_items SET reasons = ?, priority = MAX(priority, ?) WHERE id = ?",
+        (" ".join(reasons), max(o["priority"] for o in others), item_id),
+    )
+    conn.executemany(
+        "UPDATE review_items SET state = 'done', claimed_by = NULL, lease_until = NULL, "
+        "withdrawn_reason = ? WHERE id = ?",
+        [(f"merged into review item {item_id}", o["id"]) for o in others],
+    )
 
 
 def _same_tree_version(conn: Any, saved: dict[str, Any], decision_id: int, path: Any) -> None:
