@@ -20,6 +20,7 @@ import tomllib
 from dataclasses import dataclass, field
 from pathlib import Path
 
+from catmap._atomic import write_text_atomic
 from catmap.errors import InputError
 
 DEFAULT_PROJECT_DIR = "catmap-work"
@@ -251,18 +252,11 @@ def settings_text(settings: ProjectSettings) -> str:
     return "\n".join(lines) + "\n"
 
 
-def write_atomically(path: Path, text: str) -> None:
-    """Write a text file through a temporary file and a rename, so no reader sees half of it."""
-    path.parent.mkdir(parents=True, exist_ok=True)
-    temporary = path.with_name(f".{path.name}.{os.getpid()}.tmp")
-    temporary.write_text(text, encoding="utf-8")
-    os.replace(temporary, path)
-
-
 def save_settings(project: str | Path, settings: ProjectSettings) -> Path:
     """Write the project's settings atomically; return the file."""
     path = settings_path(project)
-    write_atomically(path, settings_text(settings))
+    path.parent.mkdir(parents=True, exist_ok=True)
+    write_text_atomic(path, settings_text(settings))
     return path
 
 

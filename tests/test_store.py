@@ -165,15 +165,15 @@ def test_migration_from_version_1_keeps_the_data(tmp_path: Path) -> None:
         assert store.undo_last("ann") == [item.id]
 
 
-def test_migration_to_version_7_merges_a_product_s_waiting_items(tmp_path: Path) -> None:
+def test_migration_to_version_8_merges_a_product_s_waiting_items(tmp_path: Path) -> None:
     path = tmp_path / "store.sqlite"
     with Store.open(path) as store:
         seed(store, [make_row(1), make_row(2), make_row(3)])
     conn = sqlite3.connect(path, isolation_level=None)
-    # Back to version 6, with the duplicates an older catmap made: p0001 has a second open
+    # Back to version 7, with the duplicates an older catmap made: p0001 has a second open
     # item (brand conflict, higher priority), p0002 a claimed one beside its open one, p0003 a
     # decided one beside an open one.
-    conn.execute("PRAGMA user_version = 6")
+    conn.execute("PRAGMA user_version = 7")
     conn.execute("DROP INDEX IF EXISTS review_items_one_waiting")
     conn.execute("ALTER TABLE review_items DROP COLUMN reasons")
     now = "2026-01-01T00:00:00.000000Z"

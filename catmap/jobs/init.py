@@ -13,6 +13,7 @@ from collections.abc import Sequence
 from pathlib import Path
 from typing import Any
 
+from catmap._atomic import write_bytes_atomic, write_text_atomic
 from catmap.attributes import BrandDictionary
 from catmap.attributes.brand import project_dictionary_path
 from catmap.errors import InputError
@@ -23,7 +24,6 @@ from catmap.project import (
     load_settings,
     save_settings,
     settings_path,
-    write_atomically,
 )
 from catmap.tree.taxonomy import default_tree_path, load_default_tree, load_tree
 
@@ -74,7 +74,7 @@ def init_project(
         data = Path(tree_file).read_bytes()
         folder.mkdir(parents=True, exist_ok=True)
         copy = folder / PROJECT_TREE_FILE
-        write_atomically_bytes(copy, data)
+        write_bytes_atomic(copy, data)
         settings = ProjectSettings(
             tree_file=PROJECT_TREE_FILE,
             tree_version=str(tree.version),
@@ -90,7 +90,7 @@ def init_project(
     folder.mkdir(parents=True, exist_ok=True)
     if brands_file is not None:
         target = project_dictionary_path(folder)
-        write_atomically(target, Path(brands_file).read_text(encoding="utf-8-sig"))
+        write_text_atomic(target, Path(brands_file).read_text(encoding="utf-8-sig"))
         settings.brands_file = target.name
     settings.labelled = [str(Path(feed).resolve()) for feed in labelled]
     written = save_settings(folder, settings)
@@ -112,13 +112,6 @@ def init_project(
         },
         "labelled": settings.labelled,
     }
-
-
-def write_atomically_bytes(path: Path, data: bytes) -> None:
-    """Write bytes through a temporary file and a rename."""
-    temporary = path.with_name(f".{path.name}.tmp")
-    temporary.write_bytes(data)
-    temporary.replace(path)
 
 
 def ensure_demo_project(folder: Path, reference: Path) -> None:
