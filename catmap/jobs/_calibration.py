@@ -35,9 +35,11 @@ VALIDATION_FILE = "validation-confidences.npz"
 # The demo's labelled feed from a retailer (Oskelund) that is not in the reference catalog.
 OUTSIDE_RETAILER_FEED = "oskelund_labelled"
 # A retailer with fewer calibration products than this is pooled with the source's other small
-# ones: Learn-then-Test at 2% cannot accept anything below about 150 products, and one small
-# retailer would then veto every threshold.
-MIN_RETAILER_PRODUCTS = 500
+# ones. At 2% and delta 5%, the first threshold tested accepts about 150 products and fails on
+# a single wrong one among them; with fewer than a few thousand products a retailer then
+# vetoes every threshold by chance (on the demo, two reference retailers' ~800 valid products
+# did), while the pooled ones still count.
+MIN_RETAILER_PRODUCTS = 2000
 
 
 @dataclass(frozen=True, slots=True)
