@@ -115,7 +115,10 @@ def write_tree(sections: list[str], path: Path) -> dict[str, str]:
             lines.append(f"{lid} | {sid} | {section} packages | . | - | {cells}")
             leaf_of[section] = str(lid)
     path.parent.mkdir(parents=True, exist_ok=True)
-    path.write_text("\n".join(lines) + "\n", encoding="utf-8")
+    # temp + rename: a run started beside this one never reads a half-written tree
+    with tempfile.NamedTemporaryFile("w", dir=path.parent, delete=False, encoding="utf-8") as out:
+        out.write("\n".join(lines) + "\n")
+    Path(out.name).replace(path)
     return leaf_of
 
 
@@ -125,8 +128,13 @@ def _one_thread() -> Any:
     return threadpool_limits(limits=1)
 
 
-def run_model(name: str, data_file: str, tree_file: str) -> dict[str, Any]:
-    """Train and score one model (in its own process); return its figures."""
+def run_model(
+    name: str, data_file: str, tree_file: str, options: dict[str, Any] | None = None
+) -> dict[str, Any]:
+    """Train and score one model (in its own process); return its figures.
+
+    ``options`` are catmap's ``CategoryModel`` settings (ignored by the other models).
+    """
     import numpy as np
     from sklearn.metrics import accuracy_score, f1_score
 
@@ -150,7 +158,7 @@ def run_model(name: str, data_file: str, tree_file: str) -> dict[str, Any]:
         valid = rng.random(len(x_train)) < 0.1
         fit_x = [x for x, v in zip(x_train, valid, strict=True) if not v]
         fit_y = [y for y, v in zip(y_train, valid, strict=True) if not v]
-        model = CategoryModel(tree=tree).fit(texts(fit_x), fit_y)
+        model = CategoryModel(tree=tree, **(options or {})).fit(texts(fit_x), fit_y)
         model.calibrate(
             texts([x for x, v in zip(x_train, valid, strict=True) if v]),
             [y for y, v in zip(y_train, valid, strict=True) if v],
@@ -224,8 +232,17 @@ def main(argv: list[str] | None = None) -> int:
         "--only", default="catmap,logreg,svc,fasttext",
         help="comma-separated subset of: catmap, logreg, svc, fasttext",
     )
+    parser.add_argument(
+        "--catmap-option",
+        action="append",
+        default=[],
+        metavar="NAME=JSON",
+        help="a CategoryModel setting for catmap, e.g. C=2 or hierarchical=false (repeatable)",
+    )
     args = parser.parse_args(argv)
     from sklearn.model_selection import train_test_split
+
+    options = {k: json.loads(v) for k, v in (o.split("=", 1) for o in args.catmap_option)}
 
     packages = read_packages()
     counts = Counter(section for _, section, _ in packages)
@@ -255,7 +272,7 @@ def main(argv: list[str] | None = None) -> int:
         )
         for name in [n.strip() for n in args.only.split(",") if n.strip()]:
             with multiprocessing.get_context("spawn").Pool(1) as pool:
-                row = pool.apply(run_model, (name, str(data_file), str(tree_file)))
+                row = pool.apply(run_model, (name, str(data_file), str(tree_file), options))
             rows.append(row)
             print(f"  {row}", file=sys.stderr, flush=True)
     header = (
