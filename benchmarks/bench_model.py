@@ -38,6 +38,7 @@ import argparse
 import copy
 import csv
 import gc
+import json
 import os
 import pickle
 import sys
@@ -466,8 +467,43 @@ def _map_by_retailer(mapper: Any, rows: Sequence[tuple[Product, str]]) -> Mapped
         mappings: list[Any] = []
         for start in range(0, len(group), 20_000):
             mappings.extend(mapper.map([p for p, _ in group[start : start + 20_000]]))
-        out[retailer] = (labels, mappings, [dict(p.extra) for p, _ in group])
+        out[retailer] = (labels, mappings, [{**p.extra, "_title": p.title} for p, _ in group])
     return out
+
+
+def _decide(
+    parts: dict[str, Mapped], mapper: Any, sources: Sequence[Sequence[Any]], max_error: float
+) -> list[dict[str, str]]:
+    """Decide every product as onboarding does, feed by feed: per calibration choice (A, B),
+    the feed check's threshold and capped scores (``catmap.jobs.onboard.check_feed_shift``).
+
+    The decisions go into each product's extra columns (``_accept_A``, ``_accept_B``); the
+    feed check's mode per feed is returned, one dict per choice.
+    """
+    from catmap.jobs._calibration import model_vocabulary
+    from catmap.jobs.onboard import acceptance_score, check_feed_shift, title_familiarity
+
+    vocabulary = model_vocabulary(mapper)
+    modes: list[dict[str, str]] = [{} for _ in sources]
+    for part, groups in parts.items():
+        for retailer, (_labels, mappings, extras) in groups.items():
+            raw = np.array([acceptance_score(m) for m in mappings])
+            familiar = title_familiarity([e["_title"] for e in extras], vocabulary)
+            for which, given in enumerate(sources):
+                shift = check_feed_shift(raw, familiar, given, max_error=max_error)
+                scores = shift.acceptance_scores(raw, familiar)
+                taken = (
+                    scores >= shift.threshold
+                    if shift.threshold is not None
+                    else np.zeros(len(raw), dtype=bool)
+                )
+                for extra, flag in zip(extras, taken.tolist(), strict=True):
+                    extra[f"_accept_{'AB'[which]}"] = flag
+                modes[which][f"{part}/{retailer}"] = (
+                    f"{shift.mode} ({shift.unfamiliar_share:.0%} unfamiliar titles, "
+                    f"threshold {_t(shift.threshold)})"
+                )
+    return modes
 
 
 def _set_row(
@@ -475,26 +511,22 @@ def _set_row(
     tree: CategoryTree,
     labels: Sequence[str],
     mappings: Sequence[Any],
-    thresholds: tuple[float | None, float | None],
+    extras: Sequence[dict[str, Any]],
 ) -> SetRow:
-    from catmap.jobs.onboard import acceptance_score
-
+    """The figures of a set of mapped products, decided beforehand by :func:`_decide`."""
     leaf = [m.alternatives[0].node_id if m.method == "backoff" else m.node_id for m in mappings]
     right = [
         m.node_id == g or (m.node_id in tree and any(a.id == m.node_id for a in tree.ancestors(g)))
         for g, m in zip(labels, mappings, strict=True)
     ]
-    scores = np.array([acceptance_score(m) for m in mappings])
     wrong = np.array([m.node_id != g for g, m in zip(labels, mappings, strict=True)])
 
-    def accepted(threshold: float | None) -> tuple[float, float]:
-        if threshold is None:
-            return 0.0, float("nan")
-        taken = scores >= threshold
+    def accepted(which: str) -> tuple[float, float]:
+        taken = np.array([bool(e.get(f"_accept_{which}")) for e in extras], dtype=bool)
         return float(taken.mean()), float(wrong[taken].mean()) if taken.any() else float("nan")
 
-    cov, err = accepted(thresholds[0])
-    cov_v, err_v = accepted(thresholds[1])
+    cov, err = accepted("A")
+    cov_v, err_v = accepted("B")
     return SetRow(
         name,
         len(labels),
@@ -511,9 +543,7 @@ def _set_row(
 STYLE_COLUMNS = ("gold_title_lang", "gold_title_style", "gold_synonyms", "gold_path_kind")
 
 
-def _print_slices(
-    tree: CategoryTree, parts: dict[str, Mapped], thresholds: tuple[float | None, float | None]
-) -> None:
+def _print_slices(tree: CategoryTree, parts: dict[str, Mapped]) -> None:
     """Accuracy and accepted error of both unseen parts together, by how products were written."""
     rows = [
         (label, mapping, extra)
@@ -524,19 +554,19 @@ def _print_slices(
     ]
     print("\nboth unseen parts, by how the product was written")
     for column in STYLE_COLUMNS:
-        slices: dict[str, list[tuple[str, Any]]] = {}
+        slices: dict[str, list[tuple[str, Any, dict[str, Any]]]] = {}
         for label, mapping, extra in rows:
             values = extra.get(column, "") or "-"
             # a style such as "short+code+caps" counts under each of its parts
             for value in values.split("+") if column == "gold_title_style" else [values]:
-                slices.setdefault(value, []).append((label, mapping))
+                slices.setdefault(value, []).append((label, mapping, extra))
         for value, members in sorted(slices.items(), key=lambda kv: -len(kv[1])):
             r = _set_row(
                 f"{column.removeprefix('gold_')}={value}",
                 tree,
-                [g for g, _ in members],
-                [m for _, m in members],
-                thresholds,
+                [g for g, _, _ in members],
+                [m for _, m, _ in members],
+                [e for _, _, e in members],
             )
             print(
                 f"  {r.name:<32} {r.products:>8,} acc {r.accuracy:.3f}  cov A {r.coverage:.3f} "
@@ -545,78 +575,168 @@ def _print_slices(
 
 
 def run_unseen(
-    tree: CategoryTree, reference: Path, workdir: Path, max_error: float, unseen_seed: int = 0
+    tree: CategoryTree,
+    reference: Path,
+    workdir: Path,
+    max_error: float,
+    seeds: Sequence[int] = (0,),
+    model_options: dict[str, Any] | None = None,
 ) -> None:
     """Train as ``catmap train`` does, then print seen vs unseen retailers side by side.
 
     Seed 0 is the part under ``feeds_demo/generated/unseen``; another seed builds the part
-    afresh in the working folder (a rerun of the generator).
+    afresh in the working folder (a rerun of the generator). With several seeds, one line per
+    seed and the count of seeds where every unseen test feed stays within ``max_error``.
     """
     from catmap.classify.storage import load_model
     from catmap.classify.training import read_labelled, train_model
-    from catmap.demo.unseen import build_unseen_world, ensure_unseen_world
-    from catmap.jobs.onboard import (
-        FeedMapper,
-        ValidationPredictions,
-        accept_threshold,
-        acceptance_score,
-        calibration_sources,
-        default_calibration_feeds,
-    )
+    from catmap.jobs.onboard import FeedMapper, calibration_sources, default_calibration_feeds
 
     project = workdir / "unseen-project"
     model_dir = project / "models" / "current"
     started = time.perf_counter()
-    train_model([reference], tree=tree, project=project, model_dir=model_dir)
+    train_model(
+        [reference], tree=tree, project=project, model_dir=model_dir, model_options=model_options
+    )
     print(f"  trained in {time.perf_counter() - started:.0f} s", file=sys.stderr)
     model, manifest = load_model(model_dir, tree)
     mapper = FeedMapper(model, manifest, tree)
     sources = calibration_sources(
         mapper, model_dir, project=project, feeds=default_calibration_feeds()
     )
-    default_choice = accept_threshold(sources, max_error=max_error)
+    seen_rows = read_labelled([reference], tree=tree, project=project).test
+    seen = _map_by_retailer(mapper, seen_rows)
+    if len(seeds) == 1:
+        _one_seed(tree, mapper, project, workdir, sources, seen, max_error, seeds[0])
+        return
+    passed = 0
+    print(f"\nunseen-retailer feeds over {len(seeds)} reruns of the generator "
+          f"(max error {max_error:.0%}, threshold A: onboarding's default sources)")
+    for seed in seeds:
+        parts, thresholds, modes = _unseen_parts(
+            tree, mapper, project, workdir, sources, max_error, seed
+        )
+        feeds = {
+            f"{part.removeprefix('unseen ')}/{retailer}": _set_row(
+                retailer, tree, labels, mappings, extras
+            )
+            for part, groups in parts.items()
+            for retailer, (labels, mappings, extras) in groups.items()
+        }
+        test = {name: r for name, r in feeds.items() if name.startswith("test/")}
+        worst = max(test.items(), key=lambda kv: _nan_to(kv[1].accepted_error, 0.0))
+        ok = all(_nan_to(r.accepted_error, 0.0) <= max_error for r in test.values())
+        passed += ok
+        print(
+            f"  seed {seed:>3}: A {_t(thresholds[0])}  test feeds err A "
+            + " ".join(f"{_nan_to(r.accepted_error, 0.0):.4f}" for r in test.values())
+            + f"  cov A {np.mean([r.coverage for r in test.values()]):.3f}"
+            + "  validation feeds err A "
+            + " ".join(
+                f"{_nan_to(r.accepted_error, 0.0):.4f}"
+                for name, r in feeds.items()
+                if name.startswith("validation/")
+            )
+            + f"  worst {worst[0]}  {'ok' if ok else 'OVER'}"
+            + "  checked: "
+            + ", ".join(
+                f"{feed.split('/')[-1]} {mode.split(' (')[0]}"
+                for feed, mode in modes[0].items()
+                if feed.startswith("unseen test") and not mode.startswith("as calibrated")
+            ),
+            flush=True,
+        )
+    print(
+        f"every unseen test feed within {max_error:.0%} at threshold A (with the feed check) in "
+        f"{passed} of {len(seeds)} seeds"
+    )
 
-    if unseen_seed:
-        unseen = build_unseen_world(workdir / "unseen-demo", seed=unseen_seed, tree=tree)
+
+def _nan_to(value: float, default: float) -> float:
+    return default if value != value else value
+
+
+def _t(value: float | None) -> str:
+    return "none (accept nothing)" if value is None else f"{value:.3f}"
+
+
+def _unseen_parts(
+    tree: CategoryTree,
+    mapper: Any,
+    project: Path,
+    workdir: Path,
+    sources: Sequence[Any],
+    max_error: float,
+    seed: int,
+    seen: dict[str, Mapped] | None = None,
+) -> tuple[dict[str, Mapped], tuple[float | None, float | None], list[dict[str, str]]]:
+    """Map the unseen part of one seed; thresholds A (default sources) and B (+ its validation),
+    each feed decided with the feed check (:func:`_decide`)."""
+    from catmap.classify.training import read_labelled
+    from catmap.demo.unseen import build_unseen_world, ensure_unseen_world
+    from catmap.jobs.onboard import ValidationPredictions, accept_threshold, acceptance_score
+
+    if seed:
+        unseen = build_unseen_world(workdir / f"unseen-demo-{seed}", seed=seed, tree=tree)
     else:
         unseen = ensure_unseen_world(ROOT / "feeds_demo")
-    seen_rows = read_labelled([reference], tree=tree, project=project).test
-    parts: dict[str, Mapped] = {
-        "seen (reference test split)": _map_by_retailer(mapper, seen_rows)
-    }
+    parts: dict[str, Mapped] = {}
     for part, path in unseen.labelled.items():
         data = read_labelled([path], tree=tree, project=project)
         parts[f"unseen {part}"] = _map_by_retailer(mapper, data.train + data.valid + data.test)
-
     validation = [
-        (label, m)
-        for labels, mappings, _ in parts["unseen validation"].values()
+        (retailer, label, m)
+        for retailer, (labels, mappings, _) in parts["unseen validation"].items()
         for label, m in zip(labels, mappings, strict=True)
     ]
-    with_validation = accept_threshold(
-        [
-            *sources,
-            ValidationPredictions(
-                np.array([acceptance_score(m) for _, m in validation]),
-                np.array([m.node_id == label for label, m in validation], dtype=bool),
-                "unseen validation part",
-            ),
-        ],
-        max_error=max_error,
+    from catmap.jobs._calibration import model_vocabulary, title_familiarity
+
+    extras = [e for _, (_, _, es) in parts["unseen validation"].items() for e in es]
+    sources_b = [
+        *sources,
+        ValidationPredictions(
+            np.array([acceptance_score(m) for _, _, m in validation]),
+            np.array([m.node_id == label for _, label, m in validation], dtype=bool),
+            f"unseen validation part, seed {seed}",
+            np.array([retailer for retailer, _, _ in validation], dtype=str),
+            title_familiarity([e["_title"] for e in extras], model_vocabulary(mapper)),
+        ),
+    ]
+    with_validation = accept_threshold(sources_b, max_error=max_error)
+    default_choice = accept_threshold(sources, max_error=max_error)
+    modes = _decide({**parts, **(seen or {})}, mapper, [sources, sources_b], max_error)
+    return parts, (default_choice.threshold, with_validation.threshold), modes
+
+
+def _one_seed(
+    tree: CategoryTree,
+    mapper: Any,
+    project: Path,
+    workdir: Path,
+    sources: Sequence[Any],
+    seen: Mapped,
+    max_error: float,
+    seed: int,
+) -> None:
+    """The side-by-side table of one seed, per set and retailer, then the style slices."""
+    from catmap.jobs.onboard import retailer_parts
+
+    name = "seen (reference test split)"
+    unseen, thresholds, modes = _unseen_parts(
+        tree, mapper, project, workdir, sources, max_error, seed, {name: seen}
     )
-    thresholds = (default_choice.threshold, with_validation.threshold)
-
-    def t(value: float | None) -> str:
-        return "none (accept nothing)" if value is None else f"{value:.3f}"
-
+    parts: dict[str, Mapped] = {name: seen, **unseen}
     print(
         f"\nretailers seen in training vs never seen (max error {max_error:.0%}, unseen part "
-        f"seed {unseen_seed})"
+        f"seed {seed})"
     )
-    print(f"threshold A (onboarding's default sources): {t(thresholds[0])}")
-    for source in sources:
-        print(f"    source: {source.source}")
-    print(f"threshold B (A's sources + the unseen validation part): {t(thresholds[1])}")
+    print(
+        "threshold A (onboarding's default sources, each retailer; each feed then checked, "
+        f"see below): {_t(thresholds[0])}"
+    )
+    for source in retailer_parts(sources):
+        print(f"    source: {source.source} ({len(source):,} products)")
+    print(f"threshold B (A's sources + this seed's unseen validation part): {_t(thresholds[1])}")
     header = (
         f"{'set':<34} {'products':>8} {'acc':>6} {'ECE':>7} {'cov A':>6} {'err A':>6} "
         f"{'cov B':>6} {'err B':>6}"
@@ -630,10 +750,11 @@ def run_unseen(
     for part, groups in parts.items():
         labels = [g for lab, _, _ in groups.values() for g in lab]
         mappings = [m for _, maps, _ in groups.values() for m in maps]
-        rows = [_set_row(part, tree, labels, mappings, thresholds)]
+        extras = [e for _, _, es in groups.values() for e in es]
+        rows = [_set_row(part, tree, labels, mappings, extras)]
         rows += [
-            _set_row(f"  {retailer}", tree, lab, maps, thresholds)
-            for retailer, (lab, maps, _) in groups.items()
+            _set_row(f"  {retailer}", tree, lab, maps, es)
+            for retailer, (lab, maps, es) in groups.items()
         ]
         for r in rows:
             print(
@@ -642,7 +763,10 @@ def run_unseen(
                 f"{f(r.coverage_with_validation, '.3f'):>6} "
                 f"{f(r.accepted_error_with_validation, '.4f'):>6}"
             )
-    _print_slices(tree, parts, thresholds)
+    print("\nfeed check per feed at A:")
+    for feed, mode in modes[0].items():
+        print(f"  {feed:<50} {mode}")
+    _print_slices(tree, parts)
     print(
         "\nacc: best leaf (before back-off); ECE: the mapping's confidence (back-off answers "
         "count as right when the gold leaf lies under them), 15 bins; cov / err: share "
@@ -710,6 +834,22 @@ def main(argv: list[str] | None = None) -> int:
         type=int,
         default=0,
         help="seed of the unseen-retailer part (default 0, the one in feeds_demo/generated/unseen)",
+    )
+    parser.add_argument(
+        "--unseen-seeds",
+        type=int,
+        default=0,
+        metavar="N",
+        help="rerun the generator with seeds 1..N (one model, trained once) and count the seeds "
+        "where every unseen test feed stays within --max-error",
+    )
+    parser.add_argument(
+        "--model-option",
+        action="append",
+        default=[],
+        metavar="NAME=JSON",
+        help="a CategoryModel setting for the unseen step's training, e.g. path_noise=0.3 or "
+        "max_per_class=500 (repeatable)",
     )
     args = parser.parse_args(argv)
     chosen = {name.strip() for name in args.only.split(",")}
@@ -790,7 +930,12 @@ def main(argv: list[str] | None = None) -> int:
             _print_table(rows, (len(train), len(valid), len(test)))
         if "unseen" in chosen:
             print("running unseen ...", file=sys.stderr)
-            run_unseen(tree, source, workdir, args.max_error, args.unseen_seed)
+            seeds = list(range(1, args.unseen_seeds + 1)) or [args.unseen_seed]
+            options = {
+                name: json.loads(value)
+                for name, value in (o.split("=", 1) for o in args.model_option)
+            }
+            run_unseen(tree, source, workdir, args.max_error, seeds, options or None)
     return 0
 
 

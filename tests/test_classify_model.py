@@ -181,3 +181,40 @@ def test_departments_below_the_floor_share_their_probability_evenly(
     left_out = dense.copy()
     left_out[sparse.nonzero()] = 0.0
     assert left_out.max() < trained.department_floor
+
+
+def test_tree_examples_teach_the_terms_no_labelled_product_uses(tree: CategoryTree) -> None:
+    """Trained only on English titles, the model still knows the tree's German terms."""
+    english = ["ankle boots", "rain boots", "flip flops", "espresso machine", "coffee grinder"]
+    leaves = ["1101", "1102", "1201", "2101", "2102"]
+    titles = [f"{t} {i}" for i in range(20) for t in english]
+    labels = [leaf for _ in range(20) for leaf in leaves]
+    texts = ProductTexts(titles, [""] * len(titles), [""] * len(titles), [""] * len(titles))
+    german = ProductTexts(["Gummistiefel", "Kaffeemühle"], ["", ""], ["", ""], ["", ""])
+    settings: dict[str, Any] = {"min_df": 1, "keyword_weight": 0.0}
+    with_terms = CategoryModel(tree=tree, **settings).fit(texts, labels)
+    without = CategoryModel(tree=tree, tree_examples=False, **settings).fit(texts, labels)
+    assert with_terms.predict(german).tolist() == ["1102", "2102"]
+    assert without.featurizer_.vectorizers_["title_words"].vocabulary_.get("gummistiefel") is None
+
+
+def test_path_noise_swaps_the_stated_share_of_paths() -> None:
+    from catmap.classify.model import _swap_paths
+
+    n = 10_000
+    texts = ProductTexts(["t"] * n, [f"path {i}" for i in range(n)], [""] * n, [""] * n)
+    swapped = _swap_paths(texts, 0.3, np.random.default_rng(0))
+    changed = np.mean([a != b for a, b in zip(texts.path, swapped.path, strict=True)])
+    assert changed == pytest.approx(0.3, abs=0.02)
+    assert swapped.title == texts.title
+
+
+def test_training_keeps_every_product_unless_a_cap_is_set(tree: CategoryTree) -> None:
+    rows = [r for r in labelled_rows(300) if r["split"] == "train"]
+    texts, labels = texts_and_labels(rows)
+    assert CategoryModel(tree=tree).max_per_class is None
+    capped = CategoryModel(tree=tree, min_df=1, max_per_class=5, tree_examples=False)
+    full = CategoryModel(tree=tree, min_df=1, tree_examples=False)
+    # A capped model learns from fewer rows: its vocabulary is a subset of the full one's.
+    small = capped.fit(texts, labels).featurizer_.n_features_
+    assert small < full.fit(texts, labels).featurizer_.n_features_

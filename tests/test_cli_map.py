@@ -231,3 +231,52 @@ def test_map_writes_the_products_read_before_a_gzip_cut_short(
     rows = read_jsonl(out / "mappings.jsonl")
     assert 0 < accounting["kept"] < 240
     assert len(rows) == accounting["kept"]
+
+
+@pytest.mark.parametrize("top_k", [10, 1])
+@pytest.mark.parametrize("cold_start", [False, True])
+def test_map_and_evaluate_give_the_same_confidence_to_every_answer(
+    setup: tuple[Path, Path],
+    tmp_path: Path,
+    monkeypatch: pytest.MonkeyPatch,
+    top_k: int,
+    cold_start: bool,
+) -> None:
+    """A back-off answer's confidence sums every class under it, not only the classes kept for
+    pass 2 (with 1 kept, the sum over it alone would fall short)."""
+    import catmap.classify.mapping as mapping
+    from catmap.classify.storage import load_model
+    from catmap.evaluate.run import model_mapper
+    from catmap.feeds.profiled import open_profiled_feed
+    from catmap.records import Product
+    from catmap.tree.taxonomy import load_default_tree
+
+    feed, project = setup
+    assert CliRunner().invoke(main, ["train", str(feed), "--project", str(project)]).exit_code == 0
+    tree = load_default_tree(1)
+    model, _ = load_model(project / "models" / "current", tree)
+    # The tiny model is sure of everything; a flatter final temperature makes answers back off.
+    model.blend_temperature_ *= 30
+    mapper = mapping.Mapper(tree, None if cold_start else model)
+    monkeypatch.setattr(mapping, "TOP_K", top_k)
+    products = [
+        p for p in open_profiled_feed(feed, project).products() if isinstance(p, Product)
+    ]
+    # Halfway between two best-leaf confidences near the median: about half the answers back
+    # off, and none lies on the threshold itself (float32 vs float64 rounding).
+    confidences = sorted({round(m.confidence, 4) for m in model_mapper(mapper, 0.0)(products)})
+    middle = len(confidences) // 2
+    threshold = (confidences[middle - 1] + confidences[middle]) / 2
+    mapping.map_feed(
+        open_profiled_feed(feed, project), tmp_path / "out", mapper=mapper,
+        threshold=threshold, workers=1,
+    )
+    written = {r["product_id"]: r for r in read_jsonl(tmp_path / "out" / "mappings.jsonl")}
+    evaluated = model_mapper(mapper, threshold)(products)
+    backed_off = 0
+    for product, expected in zip(products, evaluated, strict=True):
+        row = written[product.product_id]
+        assert (row["node_id"], row["method"]) == (expected.node_id, expected.method)
+        assert row["confidence"] == pytest.approx(expected.confidence, abs=1e-4)
+        backed_off += expected.method == "backoff"
+    assert backed_off > 0

@@ -428,3 +428,82 @@ def test_onboarding_marks_a_crashed_run_stopped_and_says_so(
     assert [run["run"] for run in summary.stale_runs_stopped] == [1]
     with Store.open(store_path(project)) as store:
         assert [run.status for run in store.runs()] == ["stopped", "done"]
+
+
+def test_each_retailer_of_a_source_must_pass_the_threshold() -> None:
+    """Pooled, an easy retailer hides a hard one; split by retailer, the hard one decides."""
+    from catmap.jobs.onboard import retailer_parts
+
+    rng = np.random.default_rng(0)
+    scores = rng.uniform(0.5, 1.0, 6000)
+    retailers = np.array(["easy"] * 5000 + ["hard"] * 1000)
+    # The easy retailer is always right; the hard one 10% wrong below 0.9.
+    correct = np.where(retailers == "easy", True, (scores >= 0.9) | (rng.random(6000) > 0.1))
+    pooled = ValidationPredictions(scores, correct, "both")
+    split = ValidationPredictions(scores, correct, "both", retailers)
+    assert [len(p) for p in retailer_parts([split])] == [5000, 1000]
+    hard_alone = accept_threshold(ValidationPredictions(scores[5000:], correct[5000:], "hard"))
+    assert accept_threshold(split).threshold == hard_alone.threshold
+    assert (accept_threshold(pooled).threshold or 0.0) < (hard_alone.threshold or 0.0)
+
+
+def test_a_small_retailer_is_pooled_rather_than_vetoing_every_threshold() -> None:
+    from catmap.jobs.onboard import retailer_parts
+
+    scores = np.linspace(0.5, 1.0, 3000)
+    retailers = np.array(["big"] * 2900 + ["tiny-a"] * 50 + ["tiny-b"] * 50)
+    parts = retailer_parts([ValidationPredictions(scores, scores > 0.6, "s", retailers)])
+    assert [len(p) for p in parts] == [2900, 100]
+    assert "smaller retailers" in parts[1].source
+
+
+def test_title_familiarity_counts_the_words_the_model_knows() -> None:
+    from catmap.jobs.onboard import title_familiarity
+
+    known = frozenset({"ankle", "boots", "leather"})
+    found = title_familiarity(
+        ["Ankle boots leather", "stivaletti pelle nero", "Ankle stivaletti", "42 XL"], known
+    )
+    assert found.tolist() == [1.0, 0.0, 0.5, 1.0]
+
+
+def test_feed_check_tightens_a_feed_unlike_the_calibration_data() -> None:
+    from catmap.jobs.onboard import check_feed_shift
+
+    rng = np.random.default_rng(0)
+    scores = rng.uniform(0.5, 1.0, 4000)
+    correct = (scores >= 0.8) | (rng.random(4000) > 0.05)
+    source = ValidationPredictions(
+        scores, correct, "calibration", np.array(["a"] * 4000), np.ones(4000)
+    )
+    alike = check_feed_shift(scores[:1000], np.ones(1000), [source])
+    assert alike.mode == "as calibrated"
+    assert alike.threshold == accept_threshold(source).threshold
+    assert not alike.notes
+    # A third of the titles mostly unknown: stricter threshold (the one for half the error).
+    familiarity = np.where(np.arange(1000) % 3 == 0, 0.2, 1.0)
+    shifted = check_feed_shift(scores[:1000], familiarity, [source])
+    assert shifted.mode == "tightened"
+    assert shifted.threshold == accept_threshold(source, max_error=0.01).threshold
+    assert shifted.threshold is not None and alike.threshold is not None
+    assert shifted.threshold > alike.threshold
+    assert "does not know" in shifted.notes[0]
+    # Much lower confidence than the calibration retailer: tightened too.
+    assert check_feed_shift(scores[:1000] - 0.2, np.ones(1000), [source]).mode == "tightened"
+
+
+def test_a_feed_in_an_uncovered_language_has_its_unfamiliar_products_capped() -> None:
+    from catmap.jobs.onboard import UNCOVERED_LANGUAGE_CAP, check_feed_shift
+
+    scores = np.linspace(0.5, 1.0, 4000)
+    source = ValidationPredictions(
+        scores, scores > 0.55, "c", np.array(["a"] * 4000), np.ones(4000)
+    )
+    familiarity = np.where(np.arange(1000) % 4 == 0, 1.0, 0.0)  # three quarters unknown words
+    shift = check_feed_shift(scores[:1000], familiarity, [source])
+    assert shift.uncovered_language
+    assert any("language" in note for note in shift.notes)
+    capped = shift.acceptance_scores(np.full(1000, 0.99), familiarity)
+    assert capped[familiarity == 0.0].max() == UNCOVERED_LANGUAGE_CAP
+    assert capped[familiarity == 1.0].min() == 0.99
+    assert shift.threshold is None or shift.threshold > UNCOVERED_LANGUAGE_CAP

@@ -17,7 +17,7 @@ import scipy.sparse as sp
 
 from catmap.tree.taxonomy import CategoryTree
 
-__all__ = ["BackoffResult", "NodeIndex", "backoff", "backoff_rows"]
+__all__ = ["BackoffResult", "NodeIndex", "backoff", "backoff_rows", "choose_nodes"]
 
 
 @dataclass(frozen=True, slots=True)
@@ -118,11 +118,23 @@ def backoff_rows(
     rows = np.flatnonzero(backed)
     if len(rows):
         node_p = np.asarray((matrix[rows] @ index.matrix).toarray())
-        # Deepest node reaching the threshold; at one depth the more probable one.
-        reached = node_p >= threshold
-        key = np.where(reached, index.depth[None, :] * 2.0 + np.minimum(node_p, 1.0), -1.0)
-        fallback = np.where((index.depth == 1)[None, :], node_p, -1.0)
-        picked = np.where(reached.any(axis=1), key.argmax(axis=1), fallback.argmax(axis=1))
-        chosen[rows] = picked
-        chosen_p[rows] = node_p[np.arange(len(rows)), picked]
+        chosen[rows], chosen_p[rows] = choose_nodes(node_p, index, threshold)
     return best_class, chosen, chosen_p, backed
+
+
+def choose_nodes(
+    node_p: np.ndarray[Any, Any], index: NodeIndex, threshold: float
+) -> tuple[np.ndarray[Any, Any], np.ndarray[Any, Any]]:
+    """The back-off answer of rows of node probabilities (columns as ``index.nodes``).
+
+    The deepest node reaching the threshold, at one depth the more probable one; when none
+    reaches it, the most probable department.
+
+    Returns:
+        (node column, its probability) per row.
+    """
+    reached = node_p >= threshold
+    key = np.where(reached, index.depth[None, :] * 2.0 + np.minimum(node_p, 1.0), -1.0)
+    fallback = np.where((index.depth == 1)[None, :], node_p, -1.0)
+    picked = np.where(reached.any(axis=1), key.argmax(axis=1), fallback.argmax(axis=1))
+    return picked, node_p[np.arange(len(node_p)), picked]

@@ -5,6 +5,13 @@ each chunk's class probabilities (the featurisation and the sparse products are 
 it keeps only each product's ``TOP_K`` most probable classes in a temporary folder and counts
 the retailer-path consensus. Pass 2 blends each product with its path's share vector, backs off,
 and writes the mappings. Memory stays flat in feed size apart from the per-path counts.
+
+A back-off answer's confidence is its node's probability: the sum over *every* class under it,
+not over the top classes kept. So pass 1 also keeps, for each product that may back off (its
+best class, even after the largest possible path blend, below the threshold), the exact
+probability of every node of the tree (entries below :data:`NODE_FLOOR` left out); pass 2
+blends those with the path's share vector, as it blends the classes. Without a blend these are
+the confidences ``catmap evaluate`` gives.
 """
 
 from __future__ import annotations
@@ -25,7 +32,7 @@ import scipy.sparse as sp
 
 from catmap._atomic import AtomicFile, write_text_atomic
 from catmap._iterate import chunked
-from catmap.classify.backoff import NodeIndex, backoff_rows
+from catmap.classify.backoff import NodeIndex, backoff_rows, choose_nodes
 from catmap.classify.consensus import MIN_PRODUCTS, PathConsensus, path_consensus
 from catmap.classify.features import ProductTexts, product_texts
 from catmap.classify.keywords import KeywordMapper
@@ -40,6 +47,14 @@ from catmap.tree.taxonomy import CategoryTree
 __all__ = ["MAPPING_COLUMNS", "CONFIDENCE_BANDS", "MapSummary", "Mapper", "map_feed"]
 
 TOP_K = 10
+# Node probabilities below this are not kept for pass 2 (they can neither reach a threshold nor
+# change a rounded confidence).
+NODE_FLOOR = 1e-9
+# Pass 1 of one chunk: top-k class columns and probabilities, the rows that may back off and
+# their node probabilities (None when no row may).
+_Scored = tuple[
+    np.ndarray[Any, Any], np.ndarray[Any, Any], np.ndarray[Any, Any], sp.csr_matrix | None
+]
 CHUNK_SIZE = 20_000
 SCORE_BATCH = 20_000
 CONFIDENCE_BANDS = ((0.0, 0.5), (0.5, 0.8), (0.8, 0.95), (0.95, 1.0))
@@ -115,6 +130,53 @@ class Mapper:
             return empty, empty.astype(np.float32)
         return np.vstack([i for i, _ in parts]), np.vstack([v for _, v in parts])
 
+    def node_probabilities(self, texts: ProductTexts) -> np.ndarray[Any, Any]:
+        """Return (n, nodes) probabilities of every node (columns as ``index.nodes``), exact.
+
+        A node's probability is the sum of its classes'; the classes of a department the
+        model did not score share that department's probability evenly (as in
+        :meth:`CategoryModel.predict_proba`), so they are added by count, without the dense
+        class matrix.
+        """
+        if self.model is None:
+            assert self.keywords is not None
+            return np.asarray(self.keywords.predict_proba(texts) @ self.index.matrix)
+        matrix, rest, floor = self.model._sparse_with_rest(texts)
+        scored = np.asarray((matrix @ self.index.matrix).toarray())
+        return scored + np.concatenate([rest, floor[:, None]], axis=1) @ self._group_nodes()
+
+    def _group_nodes(self) -> np.ndarray[Any, Any]:
+        # (groups + 1, nodes): how many classes of each group (the last: no group) lie under
+        # each node.
+        cached: np.ndarray[Any, Any] | None = self.__dict__.get("_group_node_counts")
+        if cached is None:
+            assert self.model is not None
+            class_group = self.model._layout().class_group
+            n_groups = len(self.model.groups_) + 1
+            membership = sp.csr_matrix(
+                (np.ones(len(class_group)), (np.arange(len(class_group)), class_group)),
+                shape=(len(class_group), n_groups),
+            )
+            cached = np.asarray((membership.T @ self.index.matrix).toarray())
+            self.__dict__["_group_node_counts"] = cached
+        return cached
+
+    def first_pass(self, texts: ProductTexts, threshold: float) -> _Scored:
+        """Pass 1 of :func:`map_feed` for one chunk: top-k classes, and node probabilities of
+        the rows that may back off.
+
+        A row may back off when its best class is below the threshold after the largest blend
+        the path consensus can make, ``(1 - consensus_weight) · p``.
+        """
+        idx, vals = self.top_k(texts, TOP_K)
+        rows = np.flatnonzero((1.0 - self.consensus_weight) * vals[:, 0] < threshold)
+        nodes: sp.csr_matrix | None = None
+        if len(rows):
+            dense = self.node_probabilities(texts.subset(rows))
+            dense[dense < NODE_FLOOR] = 0.0
+            nodes = sp.csr_matrix(dense)
+        return idx, vals, rows, nodes
+
     def _top_k(
         self, texts: ProductTexts, k: int
     ) -> tuple[np.ndarray[Any, Any], np.ndarray[Any, Any]]:
@@ -148,11 +210,11 @@ def _freeze_heap() -> None:
 _WORKER_MAPPER: Mapper | None = None
 
 
-def _worker_top_k(
-    fields: tuple[list[str], list[str], list[str], list[str]],
-) -> tuple[np.ndarray[Any, Any], np.ndarray[Any, Any]]:
+def _worker_first_pass(
+    fields: tuple[list[str], list[str], list[str], list[str]], threshold: float
+) -> _Scored:
     assert _WORKER_MAPPER is not None
-    return _WORKER_MAPPER.top_k(ProductTexts(*fields))
+    return _WORKER_MAPPER.first_pass(ProductTexts(*fields), threshold)
 
 
 @dataclass
@@ -272,8 +334,15 @@ IN_MEMORY_PRODUCTS = 200_000
 
 # What pass 2 needs of a product: (product_id, title, retailer path, rule node, rule reason).
 _Row = tuple[str, str, str, str, str]
-# One chunk's pass-1 results: top-k class columns, their probabilities, the rows.
-_Chunk = tuple[np.ndarray[Any, Any], np.ndarray[Any, Any], list[_Row]]
+# One chunk's pass-1 results: top-k class columns, their probabilities, the rows that may back
+# off and their node probabilities, the rows.
+_Chunk = tuple[
+    np.ndarray[Any, Any],
+    np.ndarray[Any, Any],
+    np.ndarray[Any, Any],
+    sp.csr_matrix | None,
+    list[_Row],
+]
 
 
 class _PassOneStore:
@@ -285,15 +354,19 @@ class _PassOneStore:
         self.held = 0
         self._chunks: list[_Chunk | Path] = []
 
-    def add(self, idx: np.ndarray[Any, Any], vals: np.ndarray[Any, Any], rows: list[_Row]) -> None:
+    def add(self, scored: _Scored, rows: list[_Row]) -> None:
         """Keep one chunk's results (in order)."""
+        idx, vals, backing, nodes = scored
         if self.held + len(rows) <= self.budget:
             self.held += len(rows)
-            self._chunks.append((idx, vals, rows))
+            self._chunks.append((idx, vals, backing, nodes, rows))
             return
         base = self.folder / f"chunk-{len(self._chunks):06d}"
         np.save(base.with_suffix(".idx.npy"), idx, allow_pickle=False)
         np.save(base.with_suffix(".vals.npy"), vals, allow_pickle=False)
+        np.save(base.with_suffix(".backing.npy"), backing, allow_pickle=False)
+        if nodes is not None:
+            sp.save_npz(base.with_suffix(".nodes.npz"), nodes)
         base.with_suffix(".jsonl").write_text(
             "".join(json.dumps(r, ensure_ascii=False) + "\n" for r in rows), encoding="utf-8"
         )
@@ -307,9 +380,12 @@ class _PassOneStore:
                 continue
             idx = np.load(chunk.with_suffix(".idx.npy"), allow_pickle=False)
             vals = np.load(chunk.with_suffix(".vals.npy"), allow_pickle=False)
+            backing = np.load(chunk.with_suffix(".backing.npy"), allow_pickle=False)
+            node_file = chunk.with_suffix(".nodes.npz")
+            nodes = sp.load_npz(node_file).tocsr() if node_file.exists() else None
             with open(chunk.with_suffix(".jsonl"), encoding="utf-8") as handle:
                 rows: list[_Row] = [tuple(json.loads(line)) for line in handle]
-            yield idx, vals, rows
+            yield idx, vals, backing, nodes, rows
 
 
 def map_feed(
@@ -365,6 +441,7 @@ def map_feed(
             rules,
             store,
             rejects.write,
+            threshold=threshold,
             chunk_size=chunk_size,
             workers=workers,
             on_progress=on_progress,
@@ -404,6 +481,7 @@ def _first_pass(
     store: _PassOneStore,
     write_reject: Callable[[Reject], None],
     *,
+    threshold: float,
     chunk_size: int,
     workers: int,
     on_progress: Callable[[int], None] | None,
@@ -426,13 +504,13 @@ def _first_pass(
         pending: deque[tuple[list[_Row], Any]] = deque()
 
         def finish(rows: list[_Row], result: Any) -> None:
-            idx, vals = result.get() if pool is not None else result
+            scored: _Scored = result.get() if pool is not None else result
             classes = mapper.classes
             pairs.extend(
                 (row[2], row[3] or classes[top])
-                for row, top in zip(rows, idx[:, 0].tolist(), strict=True)
+                for row, top in zip(rows, scored[0][:, 0].tolist(), strict=True)
             )
-            store.add(idx, vals, rows)
+            store.add(scored, rows)
 
         try:
             products = source.products()
@@ -442,11 +520,12 @@ def _first_pass(
                 texts = product_texts(chunk)
                 fields = (texts.title, texts.path, texts.brand, texts.description)
                 if pool is not None:
-                    pending.append((rows, pool.apply_async(_worker_top_k, (fields,))))
+                    work = pool.apply_async(_worker_first_pass, (fields, threshold))
+                    pending.append((rows, work))
                     while len(pending) > workers:
                         finish(*pending.popleft())
                 else:
-                    finish(rows, mapper.top_k(texts))
+                    finish(rows, mapper.first_pass(texts, threshold))
                 if on_progress is not None:
                     on_progress(accounting.read)
             if stopped:
@@ -530,6 +609,37 @@ def _share_matrix(
     return rows, matrix
 
 
+def _exact_backoff(
+    mapper: Mapper,
+    backing: np.ndarray[Any, Any],
+    nodes: sp.csr_matrix,
+    which: np.ndarray[Any, Any],
+    shares: sp.csr_matrix | None,
+    weight: float,
+    threshold: float,
+    backed: np.ndarray[Any, Any],
+    chosen: np.ndarray[Any, Any],
+    chosen_p: np.ndarray[Any, Any],
+) -> None:
+    """Redo the back-off of the backed rows on their exact node probabilities (in place).
+
+    The top-k classes kept for pass 2 give each node only the part of its probability that
+    lies in those classes; pass 1 kept every node's full probability for the rows that may
+    back off (``backing``), blended here with the path's share vector as the classes were.
+    """
+    position = np.full(len(backed), -1)
+    position[backing] = np.arange(len(backing))
+    rows = np.flatnonzero(backed & (position >= 0))
+    if not len(rows):
+        return
+    node_p = np.asarray(nodes[position[rows]].toarray())
+    blended = which[rows] >= 0
+    if shares is not None and blended.any():
+        share_nodes = np.asarray((shares[which[rows[blended]]] @ mapper.index.matrix).toarray())
+        node_p[blended] = (1 - weight) * node_p[blended] + weight * share_nodes
+    chosen[rows], chosen_p[rows] = choose_nodes(node_p, mapper.index, threshold)
+
+
 def _second_pass(
     chunks: Iterable[_Chunk],
     mapper: Mapper,
@@ -552,12 +662,13 @@ def _second_pass(
             text = node_path_cache[node] = tree.path_text(node)
         return text
 
-    for idx, vals32, rows in chunks:
+    for idx, vals32, backing, nodes, rows in chunks:
         vals = vals32.astype(np.float64)
         n, k = idx.shape
         p = sp.csr_matrix(
             (vals.ravel(), idx.ravel(), np.arange(0, n * k + 1, k)), shape=(n, len(mapper.classes))
         )
+        which = np.full(n, -1)
         if shares is not None and share_rows:
             which = np.array([share_rows.get(r[2], -1) for r in rows])
             blend = which >= 0
@@ -567,6 +678,10 @@ def _second_pass(
                 order = np.concatenate([np.flatnonzero(~blend), np.flatnonzero(blend)])
                 p = p[np.argsort(order)]
         best_class, chosen, chosen_p, backed = backoff_rows(p, mapper.index, threshold)
+        if nodes is not None and backed.any():
+            _exact_backoff(
+                mapper, backing, nodes, which, shares, weight, threshold, backed, chosen, chosen_p
+            )
         out_rows = []
         # Plain lists: reading a row's few entries from them is far cheaper than getrow().
         p = sp.csr_matrix(p)

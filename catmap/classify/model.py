@@ -88,8 +88,15 @@ class CategoryModel:
             class by class; their classes share the department's probability evenly.
         keyword_weight: fixed keyword blend weight; None = chosen on validation data.
         max_per_class: train on at most this many products of one class (a seeded sample;
-            None = all): past a few hundred examples a linear class barely moves, while the
-            training time grows with every row.
+            None = all, the default). A cap trades accuracy for training time: past a few
+            hundred examples a linear class moves little, but on a set with a few large
+            classes a cap throws their evidence away.
+        path_noise: share of training products whose retailer path is swapped for the path
+            of another random training product (seeded), so that the model learns that a
+            path can mislead and leans on the title where they disagree.
+        tree_examples: also train on one short example per term of each leaf in every
+            language of the tree (the term as the title, no path), so that the tree's own
+            words are known even where no labelled product uses them.
         department_sample: the department classifier learns from at most this many of the
             training products (a seeded sample; None = all).
         random_state: seed.
@@ -124,7 +131,9 @@ class CategoryModel:
         keyword_prune_below: float = 0.02,
         department_floor: float = DEPARTMENT_FLOOR,
         keyword_weight: float | None = None,
-        max_per_class: int | None = 500,
+        max_per_class: int | None = None,
+        path_noise: float = 0.0,
+        tree_examples: bool = True,
         department_sample: int | None = 300_000,
         random_state: int = 0,
         n_jobs: int = 2,
@@ -141,6 +150,8 @@ class CategoryModel:
         self.department_floor = department_floor
         self.keyword_weight = keyword_weight
         self.max_per_class = max_per_class
+        self.path_noise = path_noise
+        self.tree_examples = tree_examples
         self.department_sample = department_sample
         self.random_state = random_state
         self.n_jobs = n_jobs
@@ -170,6 +181,10 @@ class CategoryModel:
             keep = _cap_per_class(labels, self.max_per_class, rng)
             if len(keep) < len(labels):
                 texts, labels = texts.subset(keep), [labels[i] for i in keep]
+        if self.path_noise > 0:
+            texts = _swap_paths(texts, self.path_noise, rng)
+        if self.tree_examples:
+            texts, labels = _with_tree_examples(texts, labels, self.tree)
 
         leaves = [node.id for node in self.tree.leaves()]
         extra = sorted(set(labels) - set(leaves))
@@ -218,6 +233,8 @@ class CategoryModel:
             self.tree[label]  # raises UnknownNode
         if len(set(checked)) < 2:
             raise ValueError("training needs products of at least two different nodes")
+        if not 0 <= self.path_noise <= 1:
+            raise ValueError("path_noise must be between 0 and 1")
         for name in ("max_per_class", "department_sample"):
             value = getattr(self, name)
             if value is not None and value < 1:
@@ -704,6 +721,34 @@ def _cap_per_class(labels: Sequence[str], cap: int, rng: np.random.Generator) ->
     starts = np.searchsorted(sorted_codes, sorted_codes, side="left")
     rank = np.arange(len(order)) - starts
     return np.sort(order[rank < cap])
+
+
+def _swap_paths(texts: ProductTexts, share: float, rng: np.random.Generator) -> ProductTexts:
+    """Give ``share`` of the rows the retailer path of another random row."""
+    n = len(texts)
+    rows = np.flatnonzero(rng.random(n) < share)
+    donors = rng.integers(0, n, size=len(rows))
+    paths = list(texts.path)
+    for row, donor in zip(rows.tolist(), donors.tolist(), strict=True):
+        paths[row] = texts.path[donor]
+    return ProductTexts(texts.title, paths, texts.brand, texts.description)
+
+
+def _with_tree_examples(
+    texts: ProductTexts, labels: list[str], tree: CategoryTree
+) -> tuple[ProductTexts, list[str]]:
+    """Append one example per leaf term (every language): the term as title, nothing else."""
+    titles, extra_labels = [], []
+    for leaf in tree.leaves():
+        for term in dict.fromkeys(tree.all_terms(leaf.id)):
+            titles.append(term)
+            extra_labels.append(leaf.id)
+    empty = [""] * len(titles)
+    return (
+        ProductTexts(texts.title + titles, texts.path + empty, texts.brand + empty,
+                     texts.description + empty),
+        labels + extra_labels,
+    )
 
 
 def _fit_block_temperature(klass: Array, y_lin: Array, class_group: Array) -> float:

@@ -149,6 +149,8 @@ def save_model(
             "keyword_prune_below": model.keyword_prune_below,
             "department_floor": model.department_floor,
             "max_per_class": model.max_per_class,
+            "path_noise": model.path_noise,
+            "tree_examples": model.tree_examples,
             "department_sample": model.department_sample,
             "random_state": model.random_state,
         },
@@ -264,6 +266,8 @@ def load_model(folder: str | Path, tree: CategoryTree) -> tuple[CategoryModel, d
             department_floor=settings.get("department_floor", _EARLIER_DEPARTMENT_FLOOR),
             keyword_weight=manifest["keyword_weight"],
             max_per_class=settings.get("max_per_class"),
+            path_noise=settings.get("path_noise", 0.0),
+            tree_examples=settings.get("tree_examples", False),  # older folders: none
             department_sample=settings.get("department_sample"),
             random_state=settings["random_state"],
         )

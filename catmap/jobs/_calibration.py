@@ -1,12 +1,19 @@
 """The accept threshold of onboarding: held-out predictions per calibration source (cached
-beside the model) and the strictest Learn-then-Test threshold over them."""
+beside the model) and the strictest Learn-then-Test threshold over them.
+
+The retailer is the unit of exchangeability: a new feed comes from a new retailer, whose
+products resemble each other more than they resemble another retailer's. So each source is
+split by retailer (the ``retailer`` column of a labelled feed) and the threshold must pass on
+every retailer with enough products on its own: it holds on the worst held-out retailer, not
+only on the pooled products, where an easy retailer can hide a hard one."""
 
 from __future__ import annotations
 
 import logging
+import re
 import zipfile
 from collections.abc import Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from pathlib import Path
 from typing import IO, Any
 
@@ -32,6 +39,12 @@ _log = logging.getLogger(__name__)
 VALIDATION_FILE = "validation-confidences.npz"
 # The demo's labelled feed from a retailer (Oskelund) that is not in the reference catalog.
 OUTSIDE_RETAILER_FEED = "oskelund_labelled"
+# A retailer with fewer calibration products than this is pooled with the source's other small
+# ones. At 2% and delta 5%, the first threshold tested accepts about 150 products and fails on
+# a single wrong one among them; with fewer than a few thousand products a retailer then
+# vetoes every threshold by chance (on the demo, two reference retailers' ~800 valid products
+# did), while the pooled ones still count.
+MIN_RETAILER_PRODUCTS = 2000
 
 
 @dataclass(frozen=True, slots=True)
@@ -42,14 +55,50 @@ class ValidationPredictions:
         scores: acceptance score per calibration product.
         correct: whether the mapped node was the labelled one.
         source: which data, in words (what the guarantee rests on).
+        retailers: the retailer of each product (empty: one unknown retailer).
+        familiarity: the share of each product's title words the model knows (empty: not
+            measured); see :func:`title_familiarity`.
     """
 
     scores: np.ndarray[Any, Any]
     correct: np.ndarray[Any, Any]
     source: str
+    retailers: np.ndarray[Any, Any] = field(default_factory=lambda: np.zeros(0, dtype=str))
+    familiarity: np.ndarray[Any, Any] = field(default_factory=lambda: np.zeros(0))
 
     def __len__(self) -> int:
         return int(self.scores.size)
+
+    def by_retailer(self, minimum: int = MIN_RETAILER_PRODUCTS) -> list[ValidationPredictions]:
+        """Split into one part per retailer of at least ``minimum`` products (the rest pooled).
+
+        Args:
+            minimum: the fewest products a retailer needs to be a part of its own.
+
+        Returns:
+            The parts, largest retailer first; the whole source when it names no retailers.
+        """
+        if len(self.retailers) != len(self) or len(self) == 0:
+            return [self]
+        names, counts = np.unique(self.retailers, return_counts=True)
+        big = [str(n) for n, c in sorted(zip(names, counts, strict=True), key=lambda x: -x[1])
+               if c >= minimum]
+        if len(big) <= 1 and len(names) <= 1:
+            return [self]
+        parts = []
+        for name in big:
+            keep = self.retailers == name
+            parts.append(self._part(keep, f"retailer {name} of {self.source}"))
+        rest = ~np.isin(self.retailers, big)
+        if rest.any():
+            parts.append(self._part(rest, f"the smaller retailers of {self.source}"))
+        return parts
+
+    def _part(self, keep: np.ndarray[Any, Any], source: str) -> ValidationPredictions:
+        familiar = self.familiarity[keep] if len(self.familiarity) == len(self) else np.zeros(0)
+        return ValidationPredictions(
+            self.scores[keep], self.correct[keep], source, self.retailers[keep], familiar
+        )
 
 
 def _reference_feed() -> Path:
@@ -169,6 +218,8 @@ def validation_predictions(
         )
     scores: list[float] = []
     correct: list[bool] = []
+    retailers = [product.extra.get("retailer", "") for product, _ in rows]
+    familiar = title_familiarity([p.title for p, _ in rows], model_vocabulary(mapper))
     for start in range(0, len(rows), CHUNK_SIZE):
         chunk = rows[start : start + CHUNK_SIZE]
         for (_product, label), mapping in zip(
@@ -177,7 +228,13 @@ def validation_predictions(
             scores.append(acceptance_score(mapping))
             correct.append(mapping.node_id == label)
     source = "; ".join(described)
-    result = ValidationPredictions(np.array(scores), np.array(correct, dtype=bool), source)
+    result = ValidationPredictions(
+        np.array(scores),
+        np.array(correct, dtype=bool),
+        source,
+        np.array(retailers, dtype=str),
+        familiar,
+    )
     _save_sources(cache, [result], stamp)
     if as_default and given:
         _save_sources(folder / VALIDATION_FILE, [result], model_stamp)
@@ -196,6 +253,12 @@ def _savez(handle: IO[bytes], sources: Sequence[ValidationPredictions], stamp: s
         correct=np.concatenate([v.correct for v in sources]),
         sizes=np.array([len(v) for v in sources], dtype=np.int64),
         sources=np.array([v.source for v in sources]),
+        retailers=np.concatenate(
+            [v.retailers if len(v.retailers) == len(v) else np.full(len(v), "") for v in sources]
+        ).astype(str),
+        familiarity=np.concatenate(
+            [v.familiarity if len(v.familiarity) == len(v) else np.ones(len(v)) for v in sources]
+        ),
         manifest=np.array(stamp),
     )
 
@@ -208,14 +271,19 @@ def _load_sources(path: Path, stamp: str) -> list[ValidationPredictions] | None:
         with np.load(path, allow_pickle=False) as saved:
             if str(saved["manifest"]) != stamp:
                 return None
+            if "familiarity" not in saved.files:  # saved before retailers and familiarity
+                return None
             scores, correct = saved["scores"], saved["correct"].astype(bool)
-            if "sizes" not in saved.files:  # one source, as saved before several were kept
-                return [ValidationPredictions(scores, correct, str(saved["source"]))]
+            retailers, familiar = saved["retailers"], saved["familiarity"]
             result, start = [], 0
             sizes, sources = saved["sizes"].tolist(), saved["sources"].tolist()
             for size, source in zip(sizes, sources, strict=True):
                 part = slice(start, start + int(size))
-                result.append(ValidationPredictions(scores[part], correct[part], str(source)))
+                result.append(
+                    ValidationPredictions(
+                        scores[part], correct[part], str(source), retailers[part], familiar[part]
+                    )
+                )
                 start += int(size)
             return result
     except (OSError, ValueError, KeyError, EOFError, zipfile.BadZipFile) as error:
@@ -232,9 +300,11 @@ def _load_sources(path: Path, stamp: str) -> list[ValidationPredictions] | None:
 def default_calibration_feeds(project: str | Path | None = None) -> list[Path]:
     """The feeds onboarding calibrates on when given none.
 
-    The project of ``catmap demo`` (or ``project`` None): the reference catalog and, when
-    present, Oskelund's labelled feed. Any other project: its labelled feeds
-    (``catmap init --labelled``), the part training held out.
+    The project of ``catmap demo`` (or ``project`` None): the reference catalog, Oskelund's
+    labelled feed when present, and the validation part of the retailers the model never saw
+    (three retailers in styles no training retailer has; built on first use, see
+    :mod:`catmap.demo.unseen`). Any other project: its labelled feeds (``catmap init
+    --labelled``), the part training held out.
 
     Raises:
         ModelError: a project of one's own without labelled feeds.
@@ -251,10 +321,14 @@ def default_calibration_feeds(project: str | Path | None = None) -> list[Path]:
                 "--labelled FEED`",
             )
         return labelled
+    from catmap.demo.unseen import ensure_unseen_world
+
     feeds = [_reference_feed()]
     outside = _default_calibration_feed()
     if outside != feeds[0]:
         feeds.append(outside)
+    root = Path(__file__).resolve().parents[2] / "feeds_demo"
+    feeds.append(ensure_unseen_world(root).labelled["validation"])
     return feeds
 
 
@@ -308,17 +382,24 @@ def accept_threshold(
     kept: fixed-sequence testing rejected the null for every threshold above each source's
     own choice, so the bound holds for each source's population (each with probability
     1 - delta). No feed is exchangeable with a single other retailer's products; requiring
-    all sources is the cautious reading. If one source passes no threshold, nothing is
-    accepted.
+    all sources is the cautious reading. Each source is first split by retailer (see the
+    module docstring), so the threshold holds on the worst held-out retailer. If one part
+    passes no threshold, nothing is accepted.
     """
-    sources = [validation] if isinstance(validation, ValidationPredictions) else list(validation)
-    if not sources:
+    given = [validation] if isinstance(validation, ValidationPredictions) else list(validation)
+    if not given:
         raise ValueError("no calibration source")
     choices = [
-        choose_threshold(v.scores, v.correct, max_error=max_error, delta=delta) for v in sources
+        choose_threshold(v.scores, v.correct, max_error=max_error, delta=delta)
+        for v in retailer_parts(given)
     ]
     _index, choice = strictest_choice(choices)
     return choice
+
+
+def retailer_parts(sources: Sequence[ValidationPredictions]) -> list[ValidationPredictions]:
+    """Every source split by retailer (see :meth:`ValidationPredictions.by_retailer`)."""
+    return [part for source in sources for part in source.by_retailer()]
 
 
 def strictest_choice(choices: Sequence[ThresholdChoice]) -> tuple[int, ThresholdChoice]:
@@ -328,3 +409,186 @@ def strictest_choice(choices: Sequence[ThresholdChoice]) -> tuple[int, Threshold
             return index, choice
     index = max(range(len(choices)), key=lambda i: choices[i].threshold or 0.0)
     return index, choices[index]
+
+
+# ---- the per-feed shift check ----------------------------------------------------------------
+
+# A title word: three letters or more (sizes, codes and short function words say little about
+# the language or the product).
+_WORD = re.compile(r"[^\W\d_]{3,}")
+# A product knowing fewer than this share of its title words is "unfamiliar".
+UNFAMILIAR_BELOW = 0.5
+# A feed whose unfamiliar share exceeds every calibration retailer's by this much, or whose mean
+# acceptance score falls this far below every calibration retailer's, looks unlike the data
+# the threshold was chosen on.
+SHIFT_MARGIN = 0.05
+# At least this share of unfamiliar products: the feed is mostly in a language the tree and
+# the training data do not cover.
+UNCOVERED_LANGUAGE_SHARE = 0.5
+# Confidence (for acceptance) of an unfamiliar product of a feed in an uncovered language:
+# below any threshold, so that none is auto-accepted.
+UNCOVERED_LANGUAGE_CAP = 0.5
+
+
+def model_vocabulary(mapper: FeedMapper) -> frozenset[str]:
+    """The words the model knows: its title vocabulary and every word of the tree's terms."""
+    cached: frozenset[str] | None = mapper.__dict__.get("_vocabulary")
+    if cached is not None:
+        return cached
+    words: set[str] = set()
+    vectorizer = mapper.model.featurizer_.vectorizers_.get("title_words")
+    if vectorizer is not None:
+        words.update(term for term in vectorizer.vocabulary_ if " " not in term)
+    for node in mapper.tree:
+        for term in mapper.tree.all_terms(node.id):
+            words.update(_WORD.findall(term.lower()))
+    vocabulary = frozenset(words)
+    mapper.__dict__["_vocabulary"] = vocabulary
+    return vocabulary
+
+
+def title_familiarity(titles: Sequence[str], vocabulary: frozenset[str]) -> np.ndarray[Any, Any]:
+    """Return the share of each title's words (three letters or more) found in ``vocabulary``.
+
+    A title without such words counts as familiar (1.0): nothing in it is foreign.
+    """
+    result = np.ones(len(titles))
+    for i, title in enumerate(titles):
+        words = _WORD.findall(title.lower())
+        if words:
+            result[i] = sum(word in vocabulary for word in words) / len(words)
+    return result
+
+
+@dataclass(frozen=True, slots=True)
+class FeedShift:
+    """How a feed compares with the calibration data, and the threshold it gets.
+
+    Attributes:
+        products: products the check looked at.
+        unfamiliar_share: share of them knowing fewer than half their title words.
+        calibration_unfamiliar: the highest such share among the calibration retailers.
+        mean_score: the feed's mean acceptance score.
+        calibration_mean_score: the lowest mean among the calibration retailers.
+        mode: ``as calibrated``, ``tightened`` or ``audit first``.
+        threshold: the accept threshold for this feed (None: accept nothing).
+        uncovered_language: the feed is mostly in words neither the tree nor the training
+            data know (a language the tree does not cover).
+        notes: what the check found, in words (the run summary shows them).
+    """
+
+    products: int
+    unfamiliar_share: float
+    calibration_unfamiliar: float
+    mean_score: float
+    calibration_mean_score: float
+    mode: str
+    threshold: float | None
+    uncovered_language: bool
+    notes: tuple[str, ...]
+
+    def acceptance_scores(
+        self, scores: np.ndarray[Any, Any], familiarity: np.ndarray[Any, Any]
+    ) -> np.ndarray[Any, Any]:
+        """The scores compared with :attr:`threshold`: unfamiliar products of a feed in an
+        uncovered language are capped at :data:`UNCOVERED_LANGUAGE_CAP`."""
+        if not self.uncovered_language:
+            return scores
+        return np.where(
+            familiarity < UNFAMILIAR_BELOW, np.minimum(scores, UNCOVERED_LANGUAGE_CAP), scores
+        )
+
+    def to_dict(self) -> dict[str, Any]:
+        """Return the facts as JSON-ready values."""
+        return {
+            "products": self.products,
+            "unfamiliar_share": round(self.unfamiliar_share, 4),
+            "calibration_unfamiliar": round(self.calibration_unfamiliar, 4),
+            "mean_score": round(self.mean_score, 4),
+            "calibration_mean_score": round(self.calibration_mean_score, 4),
+            "mode": self.mode,
+            "threshold": self.threshold,
+            "uncovered_language": self.uncovered_language,
+            "notes": list(self.notes),
+        }
+
+
+def check_feed_shift(
+    scores: np.ndarray[Any, Any],
+    familiarity: np.ndarray[Any, Any],
+    sources: Sequence[ValidationPredictions],
+    *,
+    max_error: float = DEFAULT_MAX_ERROR,
+    delta: float = DEFAULT_DELTA,
+) -> FeedShift:
+    """Compare a feed's mapped products with the calibration retailers; choose its threshold.
+
+    The threshold is the strictest over the calibration retailers (:func:`accept_threshold`).
+    A feed unlike all of them (more unfamiliar titles, or lower confidence, than any by
+    :data:`SHIFT_MARGIN`) gets the threshold chosen for half the error rate; a feed mostly in
+    an uncovered language is treated so too, and its unfamiliar products' scores are capped.
+    When even that threshold accepts nothing, the feed is audited first (mode
+    ``audit first``: nothing auto-accepted, everything reviewed).
+
+    Args:
+        scores: the feed's acceptance scores (:func:`acceptance_score`).
+        familiarity: its products' title familiarity (:func:`title_familiarity`).
+        sources: the calibration sources the threshold is chosen on.
+        max_error: the error rate allowed among auto-accepted mappings.
+        delta: 1 − the confidence of that guarantee.
+
+    Returns:
+        The check's facts and the feed's threshold.
+    """
+    parts = retailer_parts(sources)
+    choice = accept_threshold(parts, max_error=max_error, delta=delta)
+    measured = [p for p in parts if len(p.familiarity) == len(p) and len(p)]
+    unfamiliar = float(np.mean(familiarity < UNFAMILIAR_BELOW)) if len(familiarity) else 0.0
+    mean_score = float(np.mean(scores)) if len(scores) else 0.0
+    calibration_unfamiliar = max(
+        (float(np.mean(p.familiarity < UNFAMILIAR_BELOW)) for p in measured), default=1.0
+    )
+    calibration_mean = min((float(np.mean(p.scores)) for p in parts if len(p)), default=0.0)
+    notes: list[str] = []
+    uncovered = unfamiliar >= UNCOVERED_LANGUAGE_SHARE
+    shifted = False
+    if unfamiliar > calibration_unfamiliar + SHIFT_MARGIN:
+        shifted = True
+        notes.append(
+            f"{unfamiliar:.0%} of the titles use mostly words the model does not know "
+            f"(at most {calibration_unfamiliar:.0%} for any calibration retailer)"
+        )
+    if mean_score < calibration_mean - SHIFT_MARGIN:
+        shifted = True
+        notes.append(
+            f"mean confidence {mean_score:.2f}, below every calibration retailer's "
+            f"(lowest {calibration_mean:.2f})"
+        )
+    threshold = choice.threshold
+    mode = "as calibrated"
+    if uncovered:
+        shifted = True
+        notes.append(
+            "most titles are in a language neither the tree nor the training data cover: the "
+            f"confidence of those products is capped at {UNCOVERED_LANGUAGE_CAP} (never "
+            "auto-accepted)"
+        )
+    if shifted:
+        threshold = accept_threshold(parts, max_error=max_error / 2, delta=delta).threshold
+        mode = "tightened" if threshold is not None else "audit first"
+        what = "nothing is auto-accepted" if threshold is None else f"{threshold:.3f}"
+        notes.append(
+            "the feed looks unlike the calibration data: the threshold is the one for "
+            f"{max_error / 2:.1%} error ({what})"
+        )
+    return FeedShift(
+        products=len(scores),
+        unfamiliar_share=unfamiliar,
+        calibration_unfamiliar=calibration_unfamiliar,
+        mean_score=mean_score,
+        calibration_mean_score=calibration_mean,
+        mode=mode,
+        threshold=threshold,
+        uncovered_language=uncovered,
+        notes=tuple(notes),
+    )

@@ -38,6 +38,8 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
+import numpy as np
+
 from catmap._iterate import chunked
 from catmap.attributes import AttributeExtractor, BrandDictionary
 from catmap.attributes._text import fold
@@ -51,11 +53,17 @@ from catmap.feeds.ingest import FATAL_FEED_ERRORS, Accounting
 from catmap.feeds.profiled import ProfiledFeed, open_profiled_feed
 from catmap.feeds.writers import open_reject_writer
 from catmap.jobs._calibration import (
+    UNCOVERED_LANGUAGE_CAP,
+    FeedShift,
     ValidationPredictions,
     accept_threshold,
     calibration_sources,
+    check_feed_shift,
     default_calibration_feeds,
+    model_vocabulary,
+    retailer_parts,
     strictest_choice,
+    title_familiarity,
     validation_predictions,
 )
 from catmap.jobs._feed_mapper import (
@@ -75,7 +83,9 @@ from catmap.tree.taxonomy import CategoryTree
 __all__ = [
     "CHUNK_SIZE",
     "DEFAULT_BACKOFF_THRESHOLD",
+    "UNCOVERED_LANGUAGE_CAP",
     "FeedMapper",
+    "FeedShift",
     "OnboardOptions",
     "OnboardSummary",
     "ValidationPredictions",
@@ -87,13 +97,16 @@ __all__ = [
     "check_against_gold",
     "check_same_folder",
     "check_store_tree",
+    "check_feed_shift",
     "default_model_dir",
     "default_rules_path",
     "onboard_feed",
     "project_tree",
     "project_review_examples",
     "rejects_path",
+    "retailer_parts",
     "review_examples",
+    "title_familiarity",
     "validation_predictions",
 ]
 
@@ -203,6 +216,7 @@ class OnboardSummary:
     validation_products: int = 0
     validation_source: str = ""
     statement: str = ""
+    feed_check: dict[str, Any] = field(default_factory=dict)
     max_error: float = DEFAULT_MAX_ERROR
     delta: float = DEFAULT_DELTA
     restricted: dict[str, int] = field(default_factory=dict)
@@ -349,7 +363,7 @@ def onboard_feed(
         subfolder(project, "rejects")
         summary.rejects_file = str(reject_file)
         mapped = _MappedRows(
-            source, reject_file, mapper, extractor, choice.threshold, summary, options, progress
+            source, reject_file, mapper, extractor, sources, summary, options, progress
         )
         model_version = str(manifest.get("training_data_fingerprint", ""))[:12]
         store.save_mapped(
@@ -365,7 +379,7 @@ def onboard_feed(
 
         progress("planning the review queue", source.accounting.read)
         _apply_plan(store, name, run_id, mapped.candidates, options, summary, model_version, tree)
-        summary.withdrawn = _withdraw_stale_items(store, name, run_id, choice.threshold)
+        summary.withdrawn = _withdraw_stale_items(store, name, run_id, summary.threshold)
         _finish_run(store, summary, source.accounting, rules, started, stopped=error is not None)
     finally:
         store.close()
@@ -498,6 +512,10 @@ class _MappedRows:
     Rejects go to the rejects file as they come; each row is counted in the summary and leaves
     a :class:`~catmap.decide.queue.Candidate` for the review plan. A fatal feed error ends the
     rows early and is kept in :attr:`fatal`.
+
+    The feed's threshold comes from the shift check (:func:`check_feed_shift`) on its first
+    chunk (a whole feed of usual size): a feed unlike the calibration data gets a stricter
+    one, and the summary says why.
     """
 
     def __init__(
@@ -506,7 +524,7 @@ class _MappedRows:
         reject_file: Path,
         mapper: FeedMapper,
         extractor: AttributeExtractor,
-        threshold: float | None,
+        sources: Sequence[ValidationPredictions],
         summary: OnboardSummary,
         options: OnboardOptions,
         progress: Callable[[str, int], None],
@@ -515,7 +533,9 @@ class _MappedRows:
         self.reject_file = reject_file
         self.mapper = mapper
         self.extractor = extractor
-        self.threshold = threshold
+        self.sources = sources
+        self.options = options
+        self.shift: FeedShift | None = None
         self.summary = summary
         self.chunk_size = options.chunk_size
         self.progress = progress
@@ -539,12 +559,23 @@ class _MappedRows:
                 self.fatal = fatal
                 accounting.stopped_early = str(fatal)
 
+    def _check(self, scores: np.ndarray[Any, Any], familiarity: np.ndarray[Any, Any]) -> FeedShift:
+        return _check_shift(self.summary, self.sources, self.options, scores, familiarity)
+
     def __iter__(self) -> Iterator[MappedRow]:
         tree = self.mapper.tree
+        vocabulary = model_vocabulary(self.mapper)
         for chunk in chunked(self.products(), self.chunk_size):
             self.progress("mapping", self.source.accounting.read)
-            for product, mapping in zip(chunk, self.mapper.map(chunk), strict=True):
-                row = _first_row(product, mapping, self.threshold, self.extractor, tree)
+            mappings = self.mapper.map(chunk)
+            familiarity = title_familiarity([p.title for p in chunk], vocabulary)
+            raw = np.array([acceptance_score(m) for m in mappings])
+            if self.shift is None:
+                self.shift = self._check(raw, familiarity)
+            scores = self.shift.acceptance_scores(raw, familiarity)
+            threshold = self.shift.threshold
+            for product, mapping, score in zip(chunk, mappings, scores.tolist(), strict=True):
+                row = _first_row(product, mapping, score, threshold, self.extractor, tree)
                 self.candidates.append(
                     Candidate(
                         product.product_id,
@@ -559,6 +590,24 @@ class _MappedRows:
                 )
                 _count(self.summary, product, row, tree)
                 yield row
+
+
+def _check_shift(
+    summary: OnboardSummary,
+    sources: Sequence[ValidationPredictions],
+    options: OnboardOptions,
+    scores: np.ndarray[Any, Any],
+    familiarity: np.ndarray[Any, Any],
+) -> FeedShift:
+    """Run the feed's shift check and record its threshold and findings in the summary."""
+    shift = check_feed_shift(
+        scores, familiarity, sources, max_error=options.max_error, delta=options.delta
+    )
+    summary.feed_check = shift.to_dict()
+    if shift.mode != "as calibrated":
+        summary.threshold = shift.threshold
+        summary.statement += " Feed check: " + "; ".join(shift.notes) + "."
+    return shift
 
 
 def _withdraw_stale_items(store: Store, feed: str, run_id: int, threshold: float | None) -> int:
@@ -603,13 +652,18 @@ def _finish_run(
 def _first_row(
     product: Product,
     mapping: Mapping,
+    score: float,
     threshold: float | None,
     extractor: AttributeExtractor,
     tree: CategoryTree,
 ) -> MappedRow:
-    """The row as known before the whole feed is seen (no audit slice, no group gain yet)."""
+    """The row as known before the whole feed is seen (no audit slice, no group gain yet).
+
+    ``score`` is the mapping's acceptance score after the feed check (see
+    :class:`FeedShift`), compared with the feed's ``threshold``.
+    """
     attributes = extractor.extract(product, mapping.node_id or None)
-    accepted = threshold is not None and acceptance_score(mapping) >= threshold
+    accepted = threshold is not None and score >= threshold
     reasons: list[str] = [] if accepted else ["low_confidence"]
     if _brand_conflict(product, attributes, extractor.brands):
         reasons.append("brand_conflict")
