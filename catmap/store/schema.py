@@ -186,6 +186,18 @@ _SCHEMA_V6: tuple[str, ...] = (
     "CREATE INDEX review_items_claim ON review_items (state, skips, priority DESC, id)",
 )
 
+# Version 7: the project's brand registry (catmap.attributes.registry): one row per canonical
+# brand, its whole record as JSON; :mod:`catmap.store.brands` rewrites it in one transaction.
+_SCHEMA_V7: tuple[str, ...] = (
+    """CREATE TABLE brand_registry (
+        position INTEGER PRIMARY KEY,
+        name TEXT NOT NULL,
+        status TEXT NOT NULL CHECK (status IN ('candidate', 'confirmed')),
+        data TEXT NOT NULL,
+        updated_at TEXT NOT NULL
+    )""",
+)
+
 MIGRATIONS: tuple[tuple[str, ...], ...] = (
     _SCHEMA_V1,
     _SCHEMA_V2,
@@ -193,6 +205,7 @@ MIGRATIONS: tuple[tuple[str, ...], ...] = (
     _SCHEMA_V4,
     _SCHEMA_V5,
     _SCHEMA_V6,
+    _SCHEMA_V7,
 )
 SCHEMA_VERSION = len(MIGRATIONS)
 

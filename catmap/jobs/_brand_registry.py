@@ -1,0 +1,89 @@
+"""The project's brand registry between the store's plain records and
+:class:`~catmap.attributes.registry.BrandRegistry`: load it, merge a feed's into it, confirm
+a brand. Every change runs under the store's write lock (:meth:`Store.change_brand_records`)."""
+
+from __future__ import annotations
+
+from typing import Any
+
+from catmap.attributes.brand import BrandDictionary
+from catmap.attributes.registry import (
+    REGISTRY_FORMAT,
+    REGISTRY_VERSION,
+    BrandRegistry,
+    RegistryBrand,
+)
+from catmap.store import Store
+
+
+def _registry(records: list[dict[str, Any]], dictionary: BrandDictionary | None) -> BrandRegistry:
+    return BrandRegistry.from_dict(
+        {"format": REGISTRY_FORMAT, "version": REGISTRY_VERSION, "brands": records},
+        dictionary=dictionary,
+    )
+
+
+def _records(registry: BrandRegistry) -> list[dict[str, Any]]:
+    return list(registry.to_dict()["brands"])
+
+
+def load_registry(store: Store, dictionary: BrandDictionary | None = None) -> BrandRegistry:
+    """Return the project's brand registry (empty before the first onboarding).
+
+    Raises:
+        InputError: a stored brand record is malformed.
+    """
+    return _registry(store.brand_records(), dictionary)
+
+
+def merge_feed_registry(
+    store: Store, found: BrandRegistry, *, dictionary: BrandDictionary | None, feed: str
+) -> tuple[list[tuple[str, str]], BrandRegistry]:
+    """Add a feed's brands to the project's registry, join typos across feeds, and save.
+
+    Args:
+        store: the project store.
+        found: the brands the feed showed (a fitted learner's ``registry_``).
+        dictionary: the brand dictionary in use.
+        feed: the feed's name (it must be in the store).
+
+    Returns:
+        The typo joins made across feeds as (joined, into) names, and the registry as saved.
+    """
+
+    def merge(
+        records: list[dict[str, Any]],
+    ) -> tuple[list[dict[str, Any]], tuple[list[tuple[str, str]], BrandRegistry]]:
+        registry = _registry(records, dictionary)
+        registry.update(found)
+        joins = registry.cluster_typos()
+        return _records(registry), (joins, registry)
+
+    return store.change_brand_records(
+        merge, action="brands_merged", actor="onboard", feed=feed,
+        detail=lambda result: {
+            "brands": len(result[1]), "from_feed": len(found),
+            "typo_joins": [list(pair) for pair in result[0]],
+        },
+    )  # fmt: skip
+
+
+def confirm_brand(store: Store, name: str, *, actor: str = "cli") -> tuple[RegistryBrand, str]:
+    """Mark a brand of the registry confirmed (audited); return it and its status before.
+
+    Raises:
+        InputError: no brand of that name or spelling is in the registry.
+    """
+
+    def confirm(
+        records: list[dict[str, Any]],
+    ) -> tuple[list[dict[str, Any]], tuple[RegistryBrand, str]]:
+        registry = _registry(records, None)
+        before = registry.resolve(name)
+        brand = registry.confirm(name)
+        return _records(registry), (brand, before.status if before is not None else "")
+
+    return store.change_brand_records(
+        confirm, action="brand_confirmed", actor=actor,
+        detail=lambda result: {"brand": result[0].name, "asked": name, "was": result[1]},
+    )  # fmt: skip
