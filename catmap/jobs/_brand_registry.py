@@ -1,6 +1,7 @@
 """The project's brand registry between the store's plain records and
 :class:`~catmap.attributes.registry.BrandRegistry`: load it, merge a feed's into it, confirm
-a brand. Every change runs under the store's write lock (:meth:`Store.change_brand_records`)."""
+a brand. Every change runs under the store's write lock (:meth:`Store.change_brand_records`).
+"""
 
 from __future__ import annotations
 
@@ -8,6 +9,7 @@ from typing import Any
 
 from catmap.attributes.brand import BrandDictionary
 from catmap.attributes.registry import (
+    CONFIRMED,
     REGISTRY_FORMAT,
     REGISTRY_VERSION,
     BrandRegistry,
@@ -39,7 +41,12 @@ def load_registry(store: Store, dictionary: BrandDictionary | None = None) -> Br
 def merge_feed_registry(
     store: Store, found: BrandRegistry, *, dictionary: BrandDictionary | None, feed: str
 ) -> tuple[list[tuple[str, str]], BrandRegistry]:
-    """Add a feed's brands to the project's registry, join typos across feeds, and save.
+    """Save a feed's brands and rebuild the project's registry from every feed's, typos
+    joined across feeds; a brand a person confirmed stays confirmed.
+
+    The project's registry is rebuilt (``update`` with each feed's, then ``cluster_typos``)
+    rather than added to, so that onboarding a feed again replaces its counts instead of
+    adding them twice. A confirmed brand no feed shows any longer is kept as it was.
 
     Args:
         store: the project store.
@@ -52,15 +59,26 @@ def merge_feed_registry(
     """
 
     def merge(
-        records: list[dict[str, Any]],
+        records: list[dict[str, Any]], feeds: dict[str, dict[str, Any]]
     ) -> tuple[list[dict[str, Any]], tuple[list[tuple[str, str]], BrandRegistry]]:
-        registry = _registry(records, dictionary)
-        registry.update(found)
+        registry = BrandRegistry(dictionary)
+        for data in feeds.values():
+            registry.update(BrandRegistry.from_dict(data))
         joins = registry.cluster_typos()
-        return _records(registry), (joins, registry)
+        kept: list[dict[str, Any]] = []
+        for brand in _registry(records, None).brands(CONFIRMED):
+            now = next(
+                (b for b in map(registry.resolve, (brand.name, *brand.variants)) if b), None
+            )
+            if now is None:
+                kept.append(brand.to_dict())
+            else:
+                now.status = CONFIRMED
+        return _records(registry) + kept, (joins, registry)
 
     return store.change_brand_records(
         merge, action="brands_merged", actor="onboard", feed=feed,
+        feed_brands=found.to_dict(),
         detail=lambda result: {
             "brands": len(result[1]), "from_feed": len(found),
             "typo_joins": [list(pair) for pair in result[0]],
@@ -76,12 +94,13 @@ def confirm_brand(store: Store, name: str, *, actor: str = "cli") -> tuple[Regis
     """
 
     def confirm(
-        records: list[dict[str, Any]],
+        records: list[dict[str, Any]], _feeds: dict[str, dict[str, Any]]
     ) -> tuple[list[dict[str, Any]], tuple[RegistryBrand, str]]:
         registry = _registry(records, None)
-        before = registry.resolve(name)
+        found = registry.resolve(name)
+        before = found.status if found is not None else ""
         brand = registry.confirm(name)
-        return _records(registry), (brand, before.status if before is not None else "")
+        return _records(registry), (brand, before)
 
     return store.change_brand_records(
         confirm, action="brand_confirmed", actor=actor,

@@ -187,8 +187,15 @@ _SCHEMA_V6: tuple[str, ...] = (
 )
 
 # Version 7: the project's brand registry (catmap.attributes.registry): one row per canonical
-# brand, its whole record as JSON; :mod:`catmap.store.brands` rewrites it in one transaction.
+# brand, its whole record as JSON, and the brands each feed showed on its last onboarding (the
+# project's are rebuilt from them, so onboarding a feed again counts it once);
+# :mod:`catmap.store.brands` rewrites them in one transaction.
 _SCHEMA_V7: tuple[str, ...] = (
+    """CREATE TABLE feed_brands (
+        feed_id INTEGER PRIMARY KEY REFERENCES feeds(id),
+        data TEXT NOT NULL,
+        updated_at TEXT NOT NULL
+    )""",
     """CREATE TABLE brand_registry (
         position INTEGER PRIMARY KEY,
         name TEXT NOT NULL,
