@@ -134,20 +134,20 @@ def test_onboarding_twice_and_another_feed_merge_the_registry(
     once = _brands(project)["Benchlow"]
     assert once["status"] == "candidate"
     # Counts are per sighting: a product's brand field and its title each count once.
-    assert once["products"] >= 6
-    assert once["feeds"] == {"kelvora": once["products"]}
+    assert once["seen"] >= 6
+    assert once["feeds"] == {"kelvora": once["seen"]}
     assert {"Bench Low", "Benchlow GmbH", "BENCHLOW", "Benchlow"} <= {
         v["spelling"] for v in once["variants"]
     }
 
     _json(_onboard(world, project, kelvora, "--json"))  # again: counted once, not twice
-    assert _brands(project)["Benchlow"]["products"] == once["products"]
+    assert _brands(project)["Benchlow"]["seen"] == once["seen"]
     facts = _json(_onboard(world, project, marlune, "--json"))
     brand = _brands(project)["Benchlow"]
     # The typo "Benchlov" of the second feed joins the brand across feeds.
-    assert brand["feeds"]["kelvora"] == once["products"]
+    assert brand["feeds"]["kelvora"] == once["seen"]
     assert brand["feeds"]["marlune"] >= 5
-    assert brand["products"] == once["products"] + brand["feeds"]["marlune"]
+    assert brand["seen"] == once["seen"] + brand["feeds"]["marlune"]
     assert "Benchlov" in {v["spelling"] for v in brand["variants"]}
     assert facts["brands"]["registry_brands"] == len(_brands(project))
 

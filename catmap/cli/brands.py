@@ -151,7 +151,8 @@ def accept_command(
 @json_option
 def list_command(status: str | None, limit: int, project: str | None, as_json: bool) -> None:
     """List the project's brand registry: each canonical brand with its status, spellings,
-    products and feeds (filled by `catmap onboard`)."""
+    sightings and feeds (filled by `catmap onboard`; "seen" counts a product's brand field and
+    its title once each)."""
     facts = registry_brands(project_dir(project), status=status)
     if as_json:
         echo_json(facts)
@@ -166,15 +167,15 @@ def list_command(status: str | None, limit: int, project: str | None, as_json: b
         title=f"Brand registry: {facts['total']:,} brands ({counts['confirmed']:,} confirmed, "
         f"{counts['candidate']:,} candidates)"
     )
-    for header in ("brand", "status", "products", "feeds", "spellings"):
-        table.add_column(header, justify="right" if header == "products" else "left")
+    for header in ("brand", "status", "seen", "feeds", "spellings"):
+        table.add_column(header, justify="right" if header == "seen" else "left")
     for b in found[: limit or None]:
-        spellings = ", ".join(f"{v['spelling']} ({v['products']:,})" for v in b["variants"][:4])
+        spellings = ", ".join(f"{v['spelling']} ({v['seen']:,})" for v in b["variants"][:4])
         more = len(b["variants"]) - 4
         table.add_row(
             escape(b["name"]),
             b["status"] + (" (dictionary)" if b["in_dictionary"] else ""),
-            f"{b['products']:,}",
+            f"{b['seen']:,}",
             escape(", ".join(b["feeds"])),
             escape(spellings + (f", +{more}" if more > 0 else "")),
         )
@@ -199,7 +200,7 @@ def confirm_command(name: str, project: str | None, as_json: bool) -> None:
     if facts["was"] == "confirmed":
         console.print(f"{escape(facts['name'])} was already confirmed.")
     else:
-        console.print(f"Confirmed {escape(facts['name'])} ({facts['products']:,} products).")
+        console.print(f"Confirmed {escape(facts['name'])} (seen {facts['seen']:,} times).")
     console.print("Spellings: " + escape(", ".join(v["spelling"] for v in facts["variants"])))
 
 

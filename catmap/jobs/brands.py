@@ -122,10 +122,10 @@ def _brand_facts(brand: RegistryBrand) -> dict[str, Any]:
         "name": brand.name,
         "status": brand.status,
         "in_dictionary": bool(brand.dictionary_name),
-        "products": brand.count,
+        "seen": brand.count,
         "feeds": dict(sorted(brand.feeds.items())),
         "variants": [
-            {"spelling": v.spelling, "products": v.count}
+            {"spelling": v.spelling, "seen": v.count}
             for v in sorted(brand.variants.values(), key=lambda v: (-v.count, v.spelling))
         ],
         "departments": dict(sorted(brand.departments.items(), key=lambda d: -d[1])),
@@ -141,8 +141,9 @@ def registry_brands(project: Path, *, status: str | None = None) -> dict[str, An
         status: only brands of this status (``candidate`` or ``confirmed``; None: all).
 
     Returns:
-        The facts: the store, counts per status, and each brand (most products first) with
-        its status, products, feeds, variants with counts, departments and sources.
+        The facts: the store, counts per status, and each brand (most seen first) with its
+        status, sightings ("seen": a product's brand field and its title count one each), the
+        sightings per feed, variants with counts, departments and sources.
     """
     if not store_path(project).exists():
         everything: list[RegistryBrand] = []
