@@ -15,9 +15,12 @@ F1 separately for products of brands in the demo brand list ("known"), of brands
 it ("unseen"), and the share of unbranded products given a brand; who and age accuracy; and
 precision / recall of each restriction flag. These brand figures compare case-insensitively
 (:func:`catmap.evaluate.metrics.brand_scores`, as ``catmap evaluate`` does). ``--no-unseen``
-skips this part.
+skips this part. ``--feed-brands`` scores it a second time as ``catmap onboard`` extracts: a
+:class:`catmap.attributes.FeedBrandLearner` fitted first on each retailer's products (at most
+:data:`catmap.jobs.onboard.BRAND_SAMPLE`) is given to the extractor.
 
     python benchmarks/eval_attributes_demo.py [--root feeds_demo] [--errors 10] [--no-unseen]
+        [--feed-brands]
 """
 
 from __future__ import annotations
@@ -26,15 +29,17 @@ import argparse
 import csv
 from collections import Counter
 from dataclasses import dataclass, field
+from itertools import islice
 from pathlib import Path
 
-from catmap.attributes import AttributeExtractor, BrandDictionary
+from catmap.attributes import AttributeExtractor, BrandDictionary, FeedBrandLearner
 from catmap.demo import demo_paths
 from catmap.evaluate.metrics import brand_scores
 from catmap.evaluate.run import profile_without_gold
 from catmap.feeds import open_feed
 from catmap.feeds.fieldmap import suggest_profile
 from catmap.feeds.ingest import Accounting, iter_products
+from catmap.jobs.onboard import BRAND_SAMPLE
 from catmap.records import Product
 from catmap.tree.taxonomy import CategoryTree, load_default_tree
 
@@ -160,36 +165,44 @@ class OpenWorldScores:
         return out
 
 
-def score_unseen_part(path: Path, brands: BrandDictionary,
-                      tree: CategoryTree) -> dict[str, OpenWorldScores]:
-    """Extract attributes of a labelled unseen part, per retailer (its name given as such)."""
+def score_unseen_part(path: Path, brands: BrandDictionary, tree: CategoryTree,
+                      feed_brands: bool = False) -> dict[str, OpenWorldScores]:
+    """Extract attributes of a labelled unseen part, per retailer (its name given as such);
+    with ``feed_brands``, each retailer's brands are learned first, as onboarding does."""
     opened = open_feed(path)
     profile = profile_without_gold(suggest_profile(opened.info, opened.sample(SAMPLE_SIZE)),
                                    "gold_node")
-    extractors: dict[str, AttributeExtractor] = {}
-    out: dict[str, OpenWorldScores] = {}
+    by_retailer: dict[str, list[Product]] = {}
     for item in iter_products(opened, profile, Accounting()):
-        if not isinstance(item, Product):
-            continue
-        g = item.extra
-        retailer = g.get("retailer", "")
-        if retailer not in extractors:
-            extractors[retailer] = AttributeExtractor(brands=brands, tree=tree,
-                                                      retailer_names=(retailer,))
-        got = extractors[retailer].extract(item, g["gold_node"])
+        if isinstance(item, Product):
+            by_retailer.setdefault(item.extra.get("retailer", ""), []).append(item)
+    out: dict[str, OpenWorldScores] = {}
+    for retailer, products in by_retailer.items():
+        learner = (
+            FeedBrandLearner(dictionary=brands, tree=tree, feed=retailer).fit(
+                islice(products, BRAND_SAMPLE))
+            if feed_brands else None
+        )
+        extractor = AttributeExtractor(brands=brands, tree=tree, retailer_names=(retailer,),
+                                       feed_brands=learner)
         scores = out.setdefault(retailer, OpenWorldScores())
-        scores.gold_brand.append(g.get("gold_brand", ""))
-        scores.got_brand.append(got.brand)
-        scores.known.append(g.get("gold_brand_known", "") == "true")
-        scores.who.append((g.get("gold_who", ""), got.who))
-        scores.age.append((g.get("gold_age", ""), got.age))
-        gold_flag = g.get("gold_restriction", "") or "none"
-        scores.restriction.append((gold_flag, got.restriction or "none"))
+        for item in products:
+            g = item.extra
+            got = extractor.extract(item, g["gold_node"])
+            scores.gold_brand.append(g.get("gold_brand", ""))
+            scores.got_brand.append(got.brand)
+            scores.known.append(g.get("gold_brand_known", "") == "true")
+            scores.who.append((g.get("gold_who", ""), got.who))
+            scores.age.append((g.get("gold_age", ""), got.age))
+            gold_flag = g.get("gold_restriction", "") or "none"
+            scores.restriction.append((gold_flag, got.restriction or "none"))
     return out
 
 
-def report_unseen(root: Path, brands: BrandDictionary, tree: CategoryTree) -> None:
-    """Print the unseen part's table: per part and per retailer."""
+def report_unseen(root: Path, brands: BrandDictionary, tree: CategoryTree,
+                  feed_brands: bool = False) -> None:
+    """Print the unseen part's table: per part and per retailer (and again with each
+    retailer's brands learned first, when ``feed_brands``)."""
     from catmap.demo.unseen import ensure_unseen_world
 
     paths = ensure_unseen_world(root)
@@ -197,17 +210,19 @@ def report_unseen(root: Path, brands: BrandDictionary, tree: CategoryTree) -> No
           "'given': share of unbranded products given a brand)")
     print(f"{'set':<20} {'products':>8} {'who':>6} {'age':>6} {'kn P':>6} {'kn R':>6} "
           f"{'kn F1':>6} {'un P':>6} {'un R':>6} {'un F1':>6} {'given':>7}")
-    for part, path in paths.labelled.items():
-        per_retailer = score_unseen_part(path, brands, tree)
-        total = OpenWorldScores()
-        for scores in per_retailer.values():
-            total.add(scores)
-        print(total.line(f"{part}"))
-        for retailer, scores in per_retailer.items():
-            print(scores.line(f"  {retailer}"))
-        print("  restriction flags:")
-        for line in total.restriction_lines():
-            print(line)
+    for learned in (False, True) if feed_brands else (False,):
+        for part, path in paths.labelled.items():
+            per_retailer = score_unseen_part(path, brands, tree, learned)
+            total = OpenWorldScores()
+            for scores in per_retailer.values():
+                total.add(scores)
+            print(total.line(f"{part}{' +feed brands' if learned else ''}"))
+            for retailer, scores in per_retailer.items():
+                print(scores.line(f"  {retailer}"))
+            if not learned:
+                print("  restriction flags:")
+                for line in total.restriction_lines():
+                    print(line)
 
 
 def main(argv: list[str] | None = None) -> int:
@@ -219,6 +234,9 @@ def main(argv: list[str] | None = None) -> int:
                         help="print this many who / age errors per feed")
     parser.add_argument("--no-unseen", action="store_true",
                         help="skip the unseen-retailer part")
+    parser.add_argument("--feed-brands", action="store_true",
+                        help="score the unseen part again with each retailer's brands learned "
+                             "first, as onboarding does")
     args = parser.parse_args(argv)
     paths = demo_paths(args.root)
     tree = load_default_tree(1)
@@ -240,7 +258,7 @@ def main(argv: list[str] | None = None) -> int:
     print("who errors (gold → got):", dict(total.who_errors.most_common(6)))
     print("age errors (gold → got):", dict(total.age_errors.most_common(6)))
     if not args.no_unseen:
-        report_unseen(args.root, brands, tree)
+        report_unseen(args.root, brands, tree, args.feed_brands)
     return 0
 
 

@@ -222,3 +222,18 @@ def test_case_variants_count_together_and_show_in_mixed_case() -> None:
     registry.observe("Ash Mill", count=2)
     registry.observe("Ash-Mill", count=7)  # the most frequent single way, but 7 < 13
     assert registry.canonical("ashmill") == "Ash Mill"
+
+
+def test_update_keeps_a_typo_the_other_registry_joined_in_one_brand() -> None:
+    feed = BrandRegistry()
+    for written, n in (("Bench Low", 10), ("Benchlow SAS", 5), ("Benchlov", 1)):
+        feed.observe(written, feed="f1", department="d1", count=n)
+    assert feed.cluster_typos() == [("Benchlov", "Bench Low")]
+    project = BrandRegistry()
+    project.update(feed)
+    assert len(project) == 1
+    (brand,) = project.brands()
+    assert brand.name == "Bench Low"
+    assert brand.count == 16
+    assert brand.departments == {"d1": 16}
+    assert brand.sources == {"brand field": 16}

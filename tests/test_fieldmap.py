@@ -448,3 +448,25 @@ def test_xml_element_text_wins_over_its_attributes(tmp_path: Path) -> None:
     assert profile.columns["currency"] == "price.@currency"
     assert profile.columns["category_path"] == "breadcrumb"
     assert not {"brand.@id", "breadcrumb.@level"} & set(profile.columns.values())
+
+
+def test_the_retailer_setting_is_saved_and_loaded(tmp_path: Path) -> None:
+    path = tmp_path / "p.toml"
+    save_profile(FeedProfile(columns={"product_id": "id", "title": "title"}), path)
+    assert "# retailer_as_no_brand = true" in path.read_text(encoding="utf-8")
+    assert load_profile(path).retailer_as_no_brand is False
+    save_profile(
+        FeedProfile(columns={"product_id": "id", "title": "title"}, retailer_as_no_brand=True),
+        path,
+    )
+    assert load_profile(path).retailer_as_no_brand is True
+
+
+def test_a_retailer_setting_that_is_not_a_boolean_is_a_profile_error(tmp_path: Path) -> None:
+    path = tmp_path / "p.toml"
+    path.write_text('[feed]\nretailer_as_no_brand = "yes"\n[columns]\nproduct_id = "id"\n',
+                    encoding="utf-8")
+    with pytest.raises(ProfileError) as caught:
+        load_profile(path)
+    assert caught.value.line == 2
+    assert "true or false" in str(caught.value)

@@ -345,12 +345,24 @@ class BrandRegistry:
         afterwards to join typos across feeds.
         """
         for brand in other.brands():
-            joined: RegistryBrand | None = None
+            landed: list[int] = []
             for variant in brand.variants.values():
                 for feed, n in variant.feeds.items():
-                    joined = self.observe(variant.spelling, feed=feed, source="", count=n)
-            if joined is None:
+                    if self.observe(variant.spelling, feed=feed, source="", count=n) is not None:
+                        landed.append(self._by_key[brand_key(variant.spelling)])
+            if not landed:
                 continue
+            # The other registry already joined these spellings (a typo it clustered): they
+            # stay one brand here, unless they name two brands known for sure.
+            into = landed[0]
+            for gone in dict.fromkeys(landed[1:]):
+                if gone == into or gone not in self._brands or into not in self._brands:
+                    continue
+                if self._brands[into].anchored and self._brands[gone].anchored:
+                    continue
+                into, gone = self._order(into, gone)
+                self._join(into, gone)
+            joined = self._brands[into]
             joined.sources.pop("", None)
             for department, n in brand.departments.items():
                 joined.departments[department] = joined.departments.get(department, 0) + n

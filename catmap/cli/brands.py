@@ -1,5 +1,6 @@
-"""Brand commands: ``catmap brands candidates`` (unknown names that repeat in a feed) and
-``catmap brands accept`` (add a brand to the project's brand dictionary)."""
+"""Brand commands: ``catmap brands candidates`` (unknown names that repeat in a feed),
+``catmap brands accept`` (add a brand to the project's brand dictionary), ``catmap brands list``
+(the project's brand registry) and ``catmap brands confirm`` (trust a brand of the registry)."""
 
 from __future__ import annotations
 
@@ -11,7 +12,12 @@ from rich.table import Table
 
 from catmap.cli._render import console, echo_json, feed_name_option, json_option
 from catmap.cli._render import project_option as _project_option
-from catmap.jobs.brands import accept_brand, brand_candidates
+from catmap.jobs.brands import (
+    accept_brand,
+    brand_candidates,
+    confirm_registry_brand,
+    registry_brands,
+)
 from catmap.project import project_dir
 
 _dictionary_option = click.option(
@@ -26,7 +32,8 @@ _dictionary_option = click.option(
 
 @click.group("brands")
 def brands_group() -> None:
-    """Find brands the dictionary does not know yet, and add them."""
+    """Find brands the dictionary does not know yet, add them, and confirm the brands
+    onboarding found."""
 
 
 @brands_group.command("candidates")
@@ -128,6 +135,77 @@ def accept_command(
     console.print("Spellings: " + escape(", ".join(facts["variants"])))
     if facts["departments"]:
         console.print("Departments: " + escape(", ".join(facts["departments"])))
+
+
+@brands_group.command("list")
+@click.option(
+    "--status",
+    type=click.Choice(["candidate", "confirmed"]),
+    default=None,
+    help="Show only brands of this status (default: all).",
+)
+@click.option(
+    "--limit",
+    default=50,
+    show_default=True,
+    type=click.IntRange(min=0),
+    help="Rows shown in the table (0: all); --json always gives all.",
+)
+@_project_option
+@json_option
+def list_command(status: str | None, limit: int, project: str | None, as_json: bool) -> None:
+    """List the project's brand registry: each canonical brand with its status, spellings,
+    sightings and feeds (filled by `catmap onboard`; "seen" counts a product's brand field and
+    its title once each)."""
+    facts = registry_brands(project_dir(project), status=status)
+    if as_json:
+        echo_json(facts)
+        return
+    found = facts["brands"]
+    counts = facts["by_status"]
+    if not found:
+        console.print("No brand in the registry yet: `catmap onboard FEED` fills it."
+                      if not facts["total"] else f"No {status} brand in the registry.")
+        return
+    table = Table(
+        title=f"Brand registry: {facts['total']:,} brands ({counts['confirmed']:,} confirmed, "
+        f"{counts['candidate']:,} candidates)"
+    )
+    for header in ("brand", "status", "seen", "feeds", "spellings"):
+        table.add_column(header, justify="right" if header == "seen" else "left")
+    for b in found[: limit or None]:
+        spellings = ", ".join(f"{v['spelling']} ({v['seen']:,})" for v in b["variants"][:4])
+        more = len(b["variants"]) - 4
+        table.add_row(
+            escape(b["name"]),
+            b["status"] + (" (dictionary)" if b["in_dictionary"] else ""),
+            f"{b['seen']:,}",
+            escape(", ".join(b["feeds"])),
+            escape(spellings + (f", +{more}" if more > 0 else "")),
+        )
+    console.print(table)
+    if limit and len(found) > limit:
+        console.print(f"{len(found) - limit:,} more: use --limit 0 or --json.")
+    if counts["candidate"]:
+        console.print("Trust a candidate with: catmap brands confirm NAME")
+
+
+@brands_group.command("confirm")
+@click.argument("name")
+@_project_option
+@json_option
+def confirm_command(name: str, project: str | None, as_json: bool) -> None:
+    """Confirm a candidate brand of the registry (NAME or any spelling seen of it): later
+    runs trust it as a brand of the dictionary."""
+    facts = confirm_registry_brand(name, project=project_dir(project))
+    if as_json:
+        echo_json(facts)
+        return
+    if facts["was"] == "confirmed":
+        console.print(f"{escape(facts['name'])} was already confirmed.")
+    else:
+        console.print(f"Confirmed {escape(facts['name'])} (seen {facts['seen']:,} times).")
+    console.print("Spellings: " + escape(", ".join(v["spelling"] for v in facts["variants"])))
 
 
 def register(main: click.Group) -> None:

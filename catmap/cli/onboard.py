@@ -219,10 +219,36 @@ def _render_onboard(facts: dict[str, Any]) -> None:
             f"  marked run {run['run']} ({escape(run['kind'])}, started {started}) as stopped: "
             "its process ended without finishing"
         )
+    _render_brands(facts.get("brands") or {})
     if facts["stopped_early"]:
         stopped = escape(facts["stopped_early"])
         _say(f"  [bold red]reading stopped early:[/bold red] {stopped}")
     _say(f"  store: {escape(facts['store'])}  ({facts['seconds']:.1f} s)")
+
+
+def _render_brands(brands: dict[str, Any]) -> None:
+    if not brands:
+        return
+    _say(
+        f"  brands: {brands['feed_brands']:,} in this feed ({brands['feed_candidates']:,} "
+        f"unconfirmed); registry {brands['registry_brands']:,} "
+        f"({brands['registry_candidates']:,} to confirm: `catmap brands list`)"
+    )
+    retailer = brands.get("retailer")
+    if retailer:
+        why = "matches the feed's name" if retailer["reason"] == "feed name" else (
+            f"on {retailer['share']:.0%} of branded products in {retailer['departments']} "
+            "departments"
+        )
+        then = (
+            "read as no brand" if retailer["as_no_brand"]
+            else "kept as a brand; set retailer_as_no_brand = true in the feed's profile to "
+            "read it as no brand"
+        )
+        _say(
+            f"  [bold]retailer's own name in the brand field:[/bold] "
+            f"{escape(retailer['name'])} ({why}); {then}"
+        )
 
 
 # -- status -----------------------------------------------------------------------------------

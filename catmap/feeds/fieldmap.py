@@ -109,6 +109,8 @@ class FeedProfile:
         suggestions: what :func:`suggest_profile` found (not saved in the file).
         source_columns: the columns the feed had when the profile was made (saved, and used by
             :func:`load_profile` to catch a misspelt column).
+        retailer_as_no_brand: read the retailer's own name in the brand field as no brand
+            (onboarding finds and reports that name; this setting says what to do with it).
     """
 
     columns: dict[str, str]
@@ -119,6 +121,7 @@ class FeedProfile:
     format: str | None = None
     suggestions: list[FieldSuggestion] = dataclasses.field(default_factory=list)
     source_columns: tuple[str, ...] = ()
+    retailer_as_no_brand: bool = False
 
     def missing(self) -> list[str]:
         """Return the target fields that have no column, in :data:`TARGET_FIELDS` order."""
@@ -732,7 +735,15 @@ def suggest_profile(info: FeedInfo, sample: Sequence[SourceRecord]) -> FeedProfi
 # ---------------------------------------------------------------------------------------------
 # Profile file
 
-_FEED_KEYS = ("default_currency", "format", "encoding", "delimiter", "record_path", "columns")
+_FEED_KEYS = (
+    "default_currency",
+    "format",
+    "encoding",
+    "delimiter",
+    "record_path",
+    "columns",
+    "retailer_as_no_brand",
+)
 _FORMATS = ("delimited", "xml", "jsonl")
 
 
@@ -793,6 +804,8 @@ def profile_text(profile: FeedProfile) -> str:
     option("encoding", profile.encoding)
     option("delimiter", profile.delimiter)
     option("record_path", profile.record_path)
+    lines.append("# Uncomment to read the retailer's own name in the brand field as no brand.")
+    lines.append(("" if profile.retailer_as_no_brand else "# ") + "retailer_as_no_brand = true")
     if profile.source_columns:
         lines.append("# The feed's columns when this profile was made (mapped ones must be here).")
         lines.append("columns = [")
@@ -900,7 +913,11 @@ def load_profile(path: str | Path) -> FeedProfile:
         if key not in _FEED_KEYS:
             raise fail(f"unknown option '{key}'", "feed", key,
                        "options are " + ", ".join(_FEED_KEYS))  # fmt: skip
-        if key == "columns":
+        if key == "retailer_as_no_brand":
+            if not isinstance(value, bool):
+                raise fail("'retailer_as_no_brand' must be true or false", "feed", key,
+                           "write retailer_as_no_brand = true (no quotes)")  # fmt: skip
+        elif key == "columns":
             if not isinstance(value, list) or not all(isinstance(v, str) for v in value):
                 raise fail("'columns' must be a list of column names", "feed", key,
                            'write columns = ["id", "title", ...]')  # fmt: skip
@@ -942,6 +959,7 @@ def load_profile(path: str | Path) -> FeedProfile:
         record_path=feed.get("record_path"),
         format=feed.get("format"),
         source_columns=source_columns,
+        retailer_as_no_brand=bool(feed.get("retailer_as_no_brand", False)),
     )
 
 

@@ -1,5 +1,6 @@
 """The brand dictionary grows: names that repeat in a feed but are unknown (candidates), and a
-brand added with its spellings (the facts ``catmap brands`` prints)."""
+brand added with its spellings; the project's brand registry listed, and a brand in it confirmed
+(the facts ``catmap brands`` prints)."""
 
 from __future__ import annotations
 
@@ -7,20 +8,23 @@ from collections.abc import Sequence
 from pathlib import Path
 from typing import Any
 
-from catmap.attributes import BrandCandidates, BrandDictionary
+from catmap.attributes import BrandCandidates, BrandDictionary, RegistryBrand
 from catmap.attributes.brand import (
     append_brand,
     demo_dictionary_path,
     dictionary_in_use,
     project_dictionary_path,
 )
+from catmap.errors import InputError
 from catmap.feeds.fieldmap import suggest_profile
 from catmap.feeds.ingest import FATAL_FEED_ERRORS, Accounting, iter_products
+from catmap.jobs._brand_registry import confirm_brand, load_registry
 from catmap.jobs._feed_profile import SAMPLE_SIZE, open_with_profile, saved_profile
 from catmap.project import is_demo_project, profile_path
 from catmap.records import Product
+from catmap.store import Store, store_path
 
-__all__ = ["accept_brand", "brand_candidates"]
+__all__ = ["accept_brand", "brand_candidates", "confirm_registry_brand", "registry_brands"]
 
 
 def brand_candidates(
@@ -112,3 +116,75 @@ def accept_brand(
         "dictionary": str(path),
         "created": created,
     }
+
+
+def _brand_facts(brand: RegistryBrand) -> dict[str, Any]:
+    return {
+        "name": brand.name,
+        "status": brand.status,
+        "in_dictionary": bool(brand.dictionary_name),
+        "seen": brand.count,
+        "feeds": dict(sorted(brand.feeds.items())),
+        "variants": [
+            {"spelling": v.spelling, "seen": v.count}
+            for v in sorted(brand.variants.values(), key=lambda v: (-v.count, v.spelling))
+        ],
+        "departments": dict(sorted(brand.departments.items(), key=lambda d: -d[1])),
+        "sources": dict(sorted(brand.sources.items())),
+    }
+
+
+def registry_brands(project: Path, *, status: str | None = None) -> dict[str, Any]:
+    """Return the project's brand registry: every canonical brand seen by onboarding.
+
+    Args:
+        project: the project folder.
+        status: only brands of this status (``candidate`` or ``confirmed``; None: all).
+
+    Returns:
+        The facts: the store, counts per status, and each brand (most seen first) with its
+        status, sightings ("seen": a product's brand field and its title count one each), the
+        sightings per feed, variants with counts, departments and sources.
+    """
+    if not store_path(project).exists():
+        everything: list[RegistryBrand] = []
+    else:
+        with Store.for_project(project) as store:
+            everything = load_registry(store).brands()
+    shown = [b for b in everything if status is None or b.status == status]
+    counts = {"candidate": 0, "confirmed": 0}
+    for brand in everything:
+        counts[brand.status] = counts.get(brand.status, 0) + 1
+    return {
+        "store": str(store_path(project)),
+        "total": len(everything),
+        "by_status": counts,
+        "brands": [_brand_facts(b) for b in shown],
+    }
+
+
+def confirm_registry_brand(name: str, *, project: Path) -> dict[str, Any]:
+    """Mark a brand of the project's registry as confirmed: later runs trust it as a brand of
+    the dictionary (every spelling seen of it included).
+
+    Args:
+        name: the brand's name, or any spelling of it seen.
+        project: the project folder.
+
+    Returns:
+        The facts: the brand as now stored, and its status before.
+
+    Raises:
+        InputError: no brand of that name or spelling is in the registry.
+    """
+    if not store_path(project).exists():
+        raise InputError(
+            f"no brand '{name}' in the registry: the project has no store yet",
+            path=store_path(project), field="brand",
+            hint="onboard a feed first (`catmap onboard FEED`)",
+        )  # fmt: skip
+    with Store.for_project(project) as store:
+        brand, before = confirm_brand(store, name)
+    facts = _brand_facts(brand)
+    facts["was"] = before
+    return facts

@@ -35,13 +35,14 @@ import time
 from collections import Counter
 from collections.abc import Callable, Iterator, Sequence
 from dataclasses import dataclass, field
+from itertools import islice
 from pathlib import Path
 from typing import Any
 
 import numpy as np
 
 from catmap._iterate import chunked
-from catmap.attributes import AttributeExtractor, BrandDictionary
+from catmap.attributes import AttributeExtractor, BrandDictionary, FeedBrandLearner
 from catmap.attributes._text import fold
 from catmap.attributes.brand import dictionary_in_use, normalize_brand
 from catmap.classify.rules import RuleSet, load_rules
@@ -52,6 +53,7 @@ from catmap.errors import InputError, ModelNotTrained
 from catmap.feeds.ingest import FATAL_FEED_ERRORS, Accounting
 from catmap.feeds.profiled import ProfiledFeed, open_profiled_feed
 from catmap.feeds.writers import open_reject_writer
+from catmap.jobs._brand_registry import load_registry, merge_feed_registry
 from catmap.jobs._calibration import (
     UNCOVERED_LANGUAGE_CAP,
     FeedShift,
@@ -100,7 +102,9 @@ __all__ = [
     "check_feed_shift",
     "default_model_dir",
     "default_rules_path",
+    "learn_feed_brands",
     "onboard_feed",
+    "project_brands",
     "project_tree",
     "project_review_examples",
     "rejects_path",
@@ -111,6 +115,9 @@ __all__ = [
 ]
 
 DEFAULT_AUDIT_SHARE = 0.02
+# Products read to learn a feed's own brands before mapping it: the brands of a feed recur
+# early, and the first pass then stays a small share of the run on a large feed.
+BRAND_SAMPLE = 20_000
 # An extracted brand below this confidence that disagrees with the feed's brand field is worth a
 # look (common practice, no source).
 BRAND_CONFLICT_CONFIDENCE = 0.75
@@ -227,6 +234,7 @@ class OnboardSummary:
     seconds: float = 0.0
     stopped_early: str | None = None
     stale_runs_stopped: list[dict[str, Any]] = field(default_factory=list)
+    brands: dict[str, Any] = field(default_factory=dict)
 
     @property
     def coverage(self) -> float:
@@ -250,10 +258,22 @@ def _brand_conflict(product: Product, attributes: Attributes, brands: BrandDicti
 
 
 def load_extractor(project: str | Path, tree: CategoryTree) -> AttributeExtractor:
-    """Return the attribute extractor with the project's (or the demo) brand dictionary."""
+    """Return the attribute extractor with the project's brands (see :func:`project_brands`)."""
+    return AttributeExtractor(brands=project_brands(project), tree=tree)
+
+
+def project_brands(project: str | Path) -> BrandDictionary:
+    """Return the project's (or the demo) brand dictionary with the brands a person confirmed
+    in the project's brand registry, every spelling seen of them as a variant."""
     path = dictionary_in_use(project)
     brands = BrandDictionary.from_csv(path) if path is not None else BrandDictionary([])
-    return AttributeExtractor(brands=brands, tree=tree)
+    if not store_path(project).exists():
+        return brands
+    with Store.for_project(project) as store:
+        confirmed = load_registry(store, brands).as_dictionary()
+    for entry in confirmed.entries.values():
+        brands.add(entry)
+    return brands
 
 
 def review_examples(
@@ -350,6 +370,12 @@ def onboard_feed(
 
     source = open_profiled_feed(feed_path, project, name=name)
 
+    progress("learning the feed's brands", 0)
+    learner = learn_feed_brands(feed_path, project, name, extractor.brands, tree)
+    extractor = AttributeExtractor(
+        brands=extractor.brands, tree=extractor.tree,
+        retailer_names=extractor.retailer_names, feed_brands=learner,
+    )  # fmt: skip
     store = Store.for_project(project)
     try:
         check_onboarding(store, str(tree.version))
@@ -380,12 +406,81 @@ def onboard_feed(
         progress("planning the review queue", source.accounting.read)
         _apply_plan(store, name, run_id, mapped.candidates, options, summary, model_version, tree)
         summary.withdrawn = _withdraw_stale_items(store, name, run_id, summary.threshold)
+        summary.brands = _merge_brands(store, learner, extractor.brands, name)
         _finish_run(store, summary, source.accounting, rules, started, stopped=error is not None)
     finally:
         store.close()
     if error is not None:
         raise error
     return summary
+
+
+def learn_feed_brands(
+    feed_path: Path,
+    project: Path,
+    name: str,
+    brands: BrandDictionary,
+    tree: CategoryTree,
+    *,
+    sample: int = BRAND_SAMPLE,
+) -> FeedBrandLearner:
+    """Learn a feed's own brands and its retailer's name from its first products.
+
+    A first pass over at most ``sample`` products, read with the feed's profile (whose
+    ``retailer_as_no_brand`` setting the learner follows). Rejects are skipped and a fatal
+    feed error ends the pass quietly: the main pass reports both.
+
+    Args:
+        feed_path: the feed file.
+        project: the project folder.
+        name: the feed's name (compared with brand values to find the retailer's own).
+        brands: the brand dictionary in use.
+        tree: the category tree (its product words are never brands).
+        sample: products read at most.
+
+    Returns:
+        The fitted learner.
+    """
+    source = open_profiled_feed(feed_path, project, name=name)
+
+    def products() -> Iterator[Product]:
+        try:
+            for item in source.products():
+                if isinstance(item, Product):
+                    yield item
+        except FATAL_FEED_ERRORS:
+            return
+
+    learner = FeedBrandLearner(
+        dictionary=brands, tree=tree, feed=name,
+        retailer_as_no_brand=source.profile.retailer_as_no_brand,
+    )  # fmt: skip
+    return learner.fit(islice(products(), sample))
+
+
+def _merge_brands(
+    store: Store, learner: FeedBrandLearner, brands: BrandDictionary, feed: str
+) -> dict[str, Any]:
+    """Merge the feed's brands into the project registry; return the summary's brand facts."""
+    joins, project_registry = merge_feed_registry(
+        store, learner.registry_, dictionary=brands, feed=feed
+    )
+    retailer = learner.retailer_
+    return {
+        "sampled": learner.products_seen_,
+        "feed_brands": len(learner.registry_),
+        "feed_candidates": len(learner.registry_.brands("candidate")),
+        "registry_brands": len(project_registry),
+        "registry_candidates": len(project_registry.brands("candidate")),
+        "typo_joins": [list(pair) for pair in [*learner.typo_joins_, *joins]],
+        "retailer": None if retailer is None else {
+            "name": retailer.name,
+            "share": retailer.share,
+            "departments": retailer.departments,
+            "reason": retailer.reason,
+            "as_no_brand": learner.retailer_as_no_brand,
+        },
+    }  # fmt: skip
 
 
 def _start_run(

@@ -15,6 +15,7 @@ One :class:`Store` class, composed of one module per concern:
 - :mod:`~catmap.store.decisions`: reviewers' decisions and bulk accept.
 - :mod:`~catmap.store.undo`: taking the last decision back.
 - :mod:`~catmap.store.audit`: the append-only audit log.
+- :mod:`~catmap.store.brands`: the project's brand registry.
 - :mod:`~catmap.store.records` and :mod:`~catmap.store.encoding`: what the store gives back,
   and how products are written as JSON.
 

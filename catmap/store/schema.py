@@ -224,6 +224,24 @@ _SCHEMA_V8: tuple[str, ...] = (
     "DROP TABLE item_merge",
     "DROP TABLE item_merged",
 )
+# Version 9: the project's brand registry (catmap.attributes.registry): one row per canonical
+# brand, its whole record as JSON, and the brands each feed showed on its last onboarding (the
+# project's are rebuilt from them, so onboarding a feed again counts it once);
+# :mod:`catmap.store.brands` rewrites them in one transaction.
+_SCHEMA_V9: tuple[str, ...] = (
+    """CREATE TABLE feed_brands (
+        feed_id INTEGER PRIMARY KEY REFERENCES feeds(id),
+        data TEXT NOT NULL,
+        updated_at TEXT NOT NULL
+    )""",
+    """CREATE TABLE brand_registry (
+        position INTEGER PRIMARY KEY,
+        name TEXT NOT NULL,
+        status TEXT NOT NULL CHECK (status IN ('candidate', 'confirmed')),
+        data TEXT NOT NULL,
+        updated_at TEXT NOT NULL
+    )""",
+)
 
 MIGRATIONS: tuple[tuple[str, ...], ...] = (
     _SCHEMA_V1,
@@ -234,6 +252,7 @@ MIGRATIONS: tuple[tuple[str, ...], ...] = (
     _SCHEMA_V6,
     _SCHEMA_V7,
     _SCHEMA_V8,
+    _SCHEMA_V9,
 )
 SCHEMA_VERSION = len(MIGRATIONS)
 

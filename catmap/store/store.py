@@ -7,6 +7,7 @@ the write transaction) and keeps its SQL beside the code that runs it.
 from __future__ import annotations
 
 from catmap.store.audit import AuditMixin
+from catmap.store.brands import BrandsMixin
 from catmap.store.decisions import DecisionsMixin
 from catmap.store.feeds import FeedsMixin
 from catmap.store.products import ProductsMixin
@@ -14,14 +15,17 @@ from catmap.store.queue import QueueMixin
 from catmap.store.undo import UndoMixin
 
 
-class Store(DecisionsMixin, UndoMixin, QueueMixin, AuditMixin, ProductsMixin, FeedsMixin):
+class Store(
+    DecisionsMixin, UndoMixin, QueueMixin, BrandsMixin, AuditMixin, ProductsMixin, FeedsMixin
+):
     """A project's SQLite store. Open with :meth:`open`; use as a context manager.
 
     Its methods come from one module per concern: :mod:`~catmap.store.feeds` (feeds, runs,
     feed status), :mod:`~catmap.store.products` (products, mappings, bulk writes),
     :mod:`~catmap.store.queue` (the review queue and leases), :mod:`~catmap.store.decisions`
     (decisions, bulk accept, training examples), :mod:`~catmap.store.undo` and
-    :mod:`~catmap.store.audit` (the audit log).
+    :mod:`~catmap.store.audit` (the audit log), :mod:`~catmap.store.brands` (the brand
+    registry).
 
     Args:
         conn: an open connection in autocommit mode, already migrated.

@@ -1,0 +1,189 @@
+"""Tests for the brand registry through the commands: `catmap onboard` fills it,
+`catmap brands list` shows it, `catmap brands confirm` trusts a candidate, and the retailer's
+own name in the brand field is reported (and read as no brand when the profile says so)."""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+from typing import Any
+
+import pytest
+from click.testing import CliRunner, Result
+from test_onboard import TEST_MAX_ERROR, SmallWorld, new_project, small_world
+
+from catmap.cli import main
+from catmap.errors import EXIT_INPUT
+from catmap.project import profile_path
+from catmap.store import Store, store_path
+
+
+@pytest.fixture(scope="module")
+def world(tmp_path_factory: pytest.TempPathFactory) -> SmallWorld:
+    return small_world(tmp_path_factory)
+
+
+@pytest.fixture(autouse=True)
+def tiny_tree(world: SmallWorld, monkeypatch: pytest.MonkeyPatch) -> None:
+    monkeypatch.setenv("CATMAP_TAXONOMIES", str(world.tree_dir))
+
+
+# An invented shop, Kelvora, writes its own name in the brand field of its house products
+# (8 of 14 branded, in 4 categories), and one invented brand three ways.
+KELVORA = [
+    *(f"K{i},Kelvora {kind},Kelvora,{path},9.90 EUR" for i, (kind, path) in enumerate([
+        ("cotton shirt", "Men > Shirts"), ("wool coat", "Women > Coats"),
+        ("leather belt", "Men > Belts"), ("canvas bag", "Bags"), ("linen shirt", "Men > Shirts"),
+        ("rain coat", "Women > Coats"), ("cotton socks", "Men > Socks"), ("tote bag", "Bags"),
+    ])),
+    "B1,Bench Low wool scarf,Bench Low,Women > Scarves,19.00 EUR",
+    "B2,Benchlow cotton scarf,Benchlow GmbH,Women > Scarves,19.00 EUR",
+    "B3,Benchlow linen scarf,BENCHLOW,Women > Scarves,19.00 EUR",
+    "B4,Benchlow silk scarf,Benchlow,Women > Scarves,29.00 EUR",
+    "B5,Benchlow wool gloves,Benchlow,Women > Gloves,19.00 EUR",
+    "B6,Benchlow leather gloves,Benchlow,Women > Gloves,39.00 EUR",
+]
+# Another shop sells the same brand, once misspelt.
+MARLUNE = [
+    "M1,Benchlow wool hat,Benchlow,Hats,19.00 EUR",
+    "M2,Benchlow cotton hat,Benchlow,Hats,19.00 EUR",
+    "M3,Benchlow linen hat,Benchlow,Hats,19.00 EUR",
+    "M4,Benchlow rain hat,Benchlow,Hats,19.00 EUR",
+    "M5,Benchlov wool hat,Benchlov,Hats,19.00 EUR",
+    "M6,Plain mug,,Kitchen,5.00 EUR",
+]
+
+
+def _feed(folder: Path, name: str, rows: list[str]) -> Path:
+    path = folder / f"{name}.csv"
+    path.write_text("id,title,brand,category,price\n" + "\n".join(rows) + "\n", encoding="utf-8")
+    return path
+
+
+def _run(*args: str) -> Result:
+    return CliRunner().invoke(main, list(args), catch_exceptions=False)
+
+
+def _onboard(world: SmallWorld, project: Path, feed: Path, *more: str) -> Result:
+    return _run(
+        "onboard", str(feed), "--project", str(project), "--max-error", str(TEST_MAX_ERROR),
+        "--validation", str(world.paths.reference), *more,
+    )  # fmt: skip
+
+
+def _json(result: Result) -> dict[str, Any]:
+    assert result.exit_code == 0, result.output
+    facts: dict[str, Any] = json.loads(result.stdout)
+    return facts
+
+
+def _brands(project: Path) -> dict[str, dict[str, Any]]:
+    facts = _json(_run("brands", "list", "--project", str(project), "--json"))
+    return {b["name"]: b for b in facts["brands"]}
+
+
+def _evidence(project: Path, feed: str) -> dict[str, str]:
+    with Store.open(store_path(project)) as store:
+        return {p.product_id: m.attributes.brand_evidence for p, m in store.mappings(feed)}
+
+
+def _brand_of(project: Path, feed: str) -> dict[str, str]:
+    with Store.open(store_path(project)) as store:
+        return {p.product_id: m.attributes.brand for p, m in store.mappings(feed)}
+
+
+def test_onboarding_reports_the_retailers_own_name(world: SmallWorld, tmp_path: Path) -> None:
+    project = new_project(world, tmp_path / "p")
+    feed = _feed(tmp_path, "kelvora", KELVORA)
+    facts = _json(_onboard(world, project, feed, "--json"))
+    retailer = facts["brands"]["retailer"]
+    assert retailer["name"] == "Kelvora"
+    assert retailer["reason"] == "feed name"
+    assert retailer["as_no_brand"] is False
+    assert _brand_of(project, "kelvora")["K0"] == "Kelvora"
+
+    text = " ".join(_onboard(world, project, feed).stdout.split())
+    assert "retailer's own name in the brand field: Kelvora (matches the feed's name)" in text
+
+
+def test_the_profile_setting_reads_the_retailers_name_as_no_brand(
+    world: SmallWorld, tmp_path: Path
+) -> None:
+    project = new_project(world, tmp_path / "p")
+    feed = _feed(tmp_path, "kelvora", KELVORA)
+    _json(_onboard(world, project, feed, "--json"))
+    profile = profile_path(project, feed)
+    text = profile.read_text(encoding="utf-8")
+    assert "# retailer_as_no_brand = true" in text
+    profile.write_text(text.replace("# retailer_as_no_brand = true", "retailer_as_no_brand = true"),
+                       encoding="utf-8")
+    facts = _json(_onboard(world, project, feed, "--json"))
+    assert facts["brands"]["retailer"]["as_no_brand"] is True
+    brands = _brand_of(project, "kelvora")
+    assert all(brands[f"K{i}"] != "Kelvora" for i in range(8))
+    assert brands["B4"] == "Benchlow"
+
+
+def test_onboarding_twice_and_another_feed_merge_the_registry(
+    world: SmallWorld, tmp_path: Path
+) -> None:
+    project = new_project(world, tmp_path / "p")
+    kelvora = _feed(tmp_path, "kelvora", KELVORA)
+    marlune = _feed(tmp_path, "marlune", MARLUNE)
+    _json(_onboard(world, project, kelvora, "--json"))
+    once = _brands(project)["Benchlow"]
+    assert once["status"] == "candidate"
+    # Counts are per sighting: a product's brand field and its title each count once.
+    assert once["seen"] >= 6
+    assert once["feeds"] == {"kelvora": once["seen"]}
+    assert {"Bench Low", "Benchlow GmbH", "BENCHLOW", "Benchlow"} <= {
+        v["spelling"] for v in once["variants"]
+    }
+
+    _json(_onboard(world, project, kelvora, "--json"))  # again: counted once, not twice
+    assert _brands(project)["Benchlow"]["seen"] == once["seen"]
+    facts = _json(_onboard(world, project, marlune, "--json"))
+    brand = _brands(project)["Benchlow"]
+    # The typo "Benchlov" of the second feed joins the brand across feeds.
+    assert brand["feeds"]["kelvora"] == once["seen"]
+    assert brand["feeds"]["marlune"] >= 5
+    assert brand["seen"] == once["seen"] + brand["feeds"]["marlune"]
+    assert "Benchlov" in {v["spelling"] for v in brand["variants"]}
+    assert facts["brands"]["registry_brands"] == len(_brands(project))
+
+    shown = " ".join(_run("brands", "list", "--project", str(project)).stdout.split())
+    total = len(_brands(project))
+    assert f"Brand registry: {total} brands (0 confirmed, {total} candidates)" in shown
+    assert "Benchlow" in shown and "catmap brands confirm NAME" in shown
+
+
+def test_confirm_changes_the_status_and_later_runs_trust_the_brand(
+    world: SmallWorld, tmp_path: Path
+) -> None:
+    project = new_project(world, tmp_path / "p")
+    feed = _feed(tmp_path, "kelvora", KELVORA)
+    _json(_onboard(world, project, feed, "--json"))
+    assert _evidence(project, "kelvora")["B4"].endswith("[candidate]")
+
+    facts = _json(_run("brands", "confirm", "bench low", "--project", str(project), "--json"))
+    assert facts["name"] == "Benchlow"
+    assert (facts["was"], facts["status"]) == ("candidate", "confirmed")
+    assert _brands(project)["Benchlow"]["status"] == "confirmed"
+    again = _run("brands", "confirm", "Benchlow", "--project", str(project))
+    assert "already confirmed" in again.stdout
+
+    _json(_onboard(world, project, feed, "--json"))
+    assert _brands(project)["Benchlow"]["status"] == "confirmed"
+    evidence = _evidence(project, "kelvora")
+    assert not evidence["B4"].endswith("[candidate]")
+    assert _brand_of(project, "kelvora")["B2"] == "Benchlow"
+
+
+def test_confirming_an_unknown_brand_is_an_input_error(world: SmallWorld, tmp_path: Path) -> None:
+    project = new_project(world, tmp_path / "p")
+    result = CliRunner().invoke(main, ["brands", "confirm", "Nowhere", "--project", str(project)])
+    assert result.exit_code == EXIT_INPUT
+    assert result.output.startswith("catmap: error: ")
+    assert "onboard a feed first" in result.output
+    listed = _run("brands", "list", "--project", str(project))
+    assert "No brand in the registry yet" in listed.stdout
