@@ -138,9 +138,9 @@ def plan_ranges(info: FeedInfo, *, target_bytes: int = PARTITION_BYTES) -> list[
                 quotes += block.count(b'"', position)
             lines += block.count(b"\n", position)
             offset += len(block)
-    ranges = []
+    ranges: list[ByteRange] = []
     bounds = [*cuts, (offset, 0)]
-    for index, ((start, first_line), (end, _)) in enumerate(zip(bounds, bounds[1:], strict=False)):
+    for (start, first_line), (end, _) in zip(bounds, bounds[1:], strict=False):
         if end > start:
             ranges.append(ByteRange(len(ranges), start, end, first_line))
     return ranges or [ByteRange(0, 0, offset, 1)]

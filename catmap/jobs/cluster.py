@@ -49,8 +49,8 @@ from catmap.classify.features import product_texts
 from catmap.classify.mapping import (
     CHUNK_SIZE,
     CONFIDENCE_BANDS,
-    MapSummary,
     Mapper,
+    MapSummary,
     _band,
     _MappingWriter,
     _path_facts,
@@ -83,6 +83,7 @@ from catmap.feeds.partition import (
 from catmap.feeds.profiled import open_profiled_feed
 from catmap.feeds.read import FeedInfo
 from catmap.feeds.writers import open_reject_writer
+from catmap.jobs.map import MapResult, project_mapper
 from catmap.jobs.onboard import default_model_dir
 from catmap.project import feed_stem, subfolder
 from catmap.records import Product, Reject, SourceRecord
@@ -93,6 +94,7 @@ __all__ = [
     "ClusterProgress",
     "MapSetup",
     "map_feed_on_cluster",
+    "map_project_feed_on_cluster",
     "open_cluster",
 ]
 
@@ -156,8 +158,6 @@ def _worker_setup(setup: MapSetup) -> tuple[Mapper, RuleSet, threading.Lock]:
     with _SETUP_LOCK:
         found = _SETUPS.get(setup)
         if found is None:
-            from catmap.jobs.map import project_mapper
-
             tree = load_default_tree(setup.tree_version)
             model_dir = Path(setup.model_dir) if setup.model_dir else None
             mapper, _ = project_mapper(Path(setup.project), tree, model_dir)
@@ -882,3 +882,53 @@ def _concatenate(target: Path, parts: list[Path], format: str) -> None:
                     shutil.copyfileobj(source, handle, 1024 * 1024)
 
     _save_atomic(target, write)
+
+
+def map_project_feed_on_cluster(
+    feed: Path,
+    out_dir: Path,
+    *,
+    cluster: str,
+    project: Path,
+    tree_version: str = "1",
+    model_dir: Path | None = None,
+    rules_file: Path | None = None,
+    backoff_threshold: float = 0.5,
+    format: str = "jsonl",
+    on_progress: Callable[[ClusterProgress], None] | None = None,
+) -> MapResult:
+    """``catmap map --cluster``: connect to (or start) the cluster and map the feed on it.
+
+    Args:
+        feed: the feed file.
+        out_dir: folder for mappings, rejects and ``accounting.json``.
+        cluster: ``local:N`` or a scheduler address (see :func:`open_cluster`).
+        project: the project folder (profile, rules, model).
+        tree_version: version of the shared category tree.
+        model_dir: the model folder (default: the project's, keywords only when none).
+        rules_file: rules applied first (default: ``<project>/rules/<feed name>.rules``).
+        backoff_threshold: below this confidence, answer the deepest sure parent node.
+        format: file format of the mappings.
+        on_progress: told where the run is after each task.
+
+    Returns:
+        The facts (with the cluster's partitions and dashboard) and the fatal feed error, if
+        reading stopped early.
+
+    Raises:
+        ClusterError: dask is missing, or the cluster cannot be started or reached.
+    """
+    with open_cluster(cluster) as client:
+        facts, error = map_feed_on_cluster(
+            feed,
+            out_dir,
+            client=client,
+            project=project,
+            tree_version=tree_version,
+            model_dir=model_dir,
+            rules_file=rules_file,
+            backoff_threshold=backoff_threshold,
+            format=format,
+            on_progress=on_progress,
+        )
+    return MapResult(facts, error)
