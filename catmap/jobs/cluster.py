@@ -149,23 +149,36 @@ class MapSetup:
 # One mapper per worker process, loaded by its first task. A Mapper keeps caches that two
 # threads must not use at once: a worker with several threads takes turns (the lock), so start
 # workers with one thread each (``local:N`` does; ``dask worker --nthreads 1``).
-_SETUPS: dict[MapSetup, tuple[Mapper, RuleSet, threading.Lock]] = {}
+_MAPPERS: dict[tuple[str, str | None], tuple[Mapper, threading.Lock]] = {}
+_RULES: dict[tuple[str, str], RuleSet] = {}
 _SETUP_LOCK = threading.Lock()
 
 
 def _worker_setup(setup: MapSetup) -> tuple[Mapper, RuleSet, threading.Lock]:
-    """The mapper, rules and mapper lock of ``setup``, loaded once per worker process."""
+    """The mapper, rules and mapper lock of ``setup``, loaded once per worker process.
+
+    Mappers are kept by tree version and model folder (projects without a model share the
+    tree's keywords), rules by file.
+    """
     with _SETUP_LOCK:
-        found = _SETUPS.get(setup)
+        folder = Path(setup.model_dir) if setup.model_dir else default_model_dir(
+            Path(setup.project)
+        )
+        uses_model = setup.model_dir is not None or (folder / MANIFEST).exists()
+        key = (setup.tree_version, str(folder.resolve()) if uses_model else None)
+        found = _MAPPERS.get(key)
         if found is None:
             tree = load_default_tree(setup.tree_version)
-            model_dir = Path(setup.model_dir) if setup.model_dir else None
-            mapper, _ = project_mapper(Path(setup.project), tree, model_dir)
-            rules = (
-                load_rules(Path(setup.rules_file), tree=tree) if setup.rules_file else RuleSet([])
-            )
-            found = _SETUPS[setup] = (mapper, rules, threading.Lock())
-        return found
+            mapper, _ = project_mapper(Path(setup.project), tree, folder if uses_model else None)
+            found = _MAPPERS[key] = (mapper, threading.Lock())
+        mapper, lock = found
+        rules = RuleSet([])
+        if setup.rules_file:
+            rules_key = (setup.tree_version, setup.rules_file)
+            if rules_key not in _RULES:
+                _RULES[rules_key] = load_rules(Path(setup.rules_file), tree=mapper.tree)
+            rules = _RULES[rules_key]
+        return mapper, rules, lock
 
 
 # A partition: a byte range of the feed, or a block file of raw records in the work folder.
