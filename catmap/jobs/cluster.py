@@ -113,7 +113,7 @@ class ClusterProgress:
     """Where a cluster run is.
 
     Attributes:
-        stage: "keys", "duplicates", "pass 1", "pass 2" or "writing".
+        stage: "loading", "keys", "duplicates", "pass 1", "pass 2" or "writing".
         done: tasks of the stage finished.
         total: tasks of the stage.
         rows: records read so far in pass 1 (the last read figure afterwards).
@@ -179,6 +179,10 @@ def _worker_setup(setup: MapSetup) -> tuple[Mapper, RuleSet, threading.Lock]:
                 _RULES[rules_key] = load_rules(Path(setup.rules_file), tree=mapper.tree)
             rules = _RULES[rules_key]
         return mapper, rules, lock
+
+
+def _warm(setup: MapSetup) -> None:
+    _worker_setup(setup)
 
 
 # A partition: a byte range of the feed, or a block file of raw records in the work folder.
@@ -593,7 +597,7 @@ def map_feed_on_cluster(
     rules_file: Path | None = None,
     backoff_threshold: float = 0.5,
     format: str = "jsonl",
-    partition_bytes: int = PARTITION_BYTES,
+    partition_bytes: int | None = None,
     block_records: int = BLOCK_RECORDS,
     chunk_size: int = CHUNK_SIZE,
     work_dir: Path | None = None,
@@ -612,7 +616,8 @@ def map_feed_on_cluster(
         rules_file: rules applied first (default: ``<project>/rules/<feed name>.rules``).
         backoff_threshold: below this confidence, answer the deepest sure parent node.
         format: "jsonl", "csv" or "parquet".
-        partition_bytes: about how many bytes each byte-range partition holds.
+        partition_bytes: about how many bytes each byte-range partition holds (default: four
+            partitions per worker, between 1 MiB and :data:`PARTITION_BYTES`).
         block_records: records per block for feeds that cannot be cut by bytes.
         chunk_size: products scored at a time inside a partition.
         work_dir: the folder shared with the workers for the parts (default: a folder in
@@ -660,6 +665,15 @@ def map_feed_on_cluster(
 
     try:
         fatal: dict[str, Any] | None = None
+        if partition_bytes is None:
+            workers = max(1, len(client.scheduler_info().get("workers", {})))
+            size = feed.stat().st_size
+            partition_bytes = max(2**20, min(PARTITION_BYTES, size // (4 * workers) + 1))
+        # Every worker loads the model, tree and rules once, all at the same time, before the
+        # first round (instead of inside its first pass-1 task).
+        progress("loading", 0, 1)
+        client.run(_warm, setup)
+        progress("loading", 1, 1)
         ranges = plan_ranges(info, target_bytes=partition_bytes)
         parts: list[Part]
         if ranges is not None:
