@@ -53,6 +53,7 @@ from catmap.classify.mapping import (
     MapSummary,
     _band,
     _MappingWriter,
+    _parquet_schema,
     _path_facts,
     _rule_facts,
     _rule_rows,
@@ -898,7 +899,9 @@ def _concatenate(target: Path, parts: list[Path], format: str) -> None:
                     writer = pq.ParquetWriter(temporary, table.schema)
                 if table.num_rows or part is parts[-1]:
                     writer.write_table(table)
-            if writer is not None:
+            if writer is None:
+                pq.write_table(_parquet_schema().empty_table(), temporary)
+            else:
                 writer.close()
             return
         with open(temporary, "wb") as handle:
