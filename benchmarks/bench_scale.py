@@ -128,7 +128,9 @@ def run_one(feed: str, out: str, project: str, mode: str) -> dict[str, Any]:
             stage: marks[i + 1][1] - mark for i, (stage, mark) in enumerate(marks[:-1])
         }
         cpus_after = client.run(_cpu_seconds)
-        cpu = _cpu_seconds() - cpu + sum(cpus_after[w] - cpus[w] for w in cpus)
+        # A worker started again after a kill has a new address: all its CPU counts. (The
+        # killed one's CPU is lost with it: a kill run's CPU figure is a lower bound.)
+        cpu = _cpu_seconds() - cpu + sum(t - cpus.get(w, 0.0) for w, t in cpus_after.items())
         workers = client.run(_peak_mib)
         peaks = {"coordinator": _peak_mib()}
         peaks.update({f"worker {i + 1}": mib for i, mib in enumerate(workers.values())})
