@@ -530,13 +530,20 @@ def open_cluster(address: str, *, processes: bool = True) -> Iterator[Any]:
                 field="--cluster",
                 hint="use local:N with N workers, e.g. local:2",
             )
-        cluster = LocalCluster(
-            n_workers=int(count),
-            threads_per_worker=1,
-            processes=processes,
-            dashboard_address=":0",
-            silence_logs=40,
-        )
+        try:
+            cluster = LocalCluster(
+                n_workers=int(count),
+                threads_per_worker=1,
+                processes=processes,
+                dashboard_address=":0",
+                silence_logs=40,
+            )
+        except (OSError, RuntimeError) as exc:
+            raise ClusterError(
+                f"cannot start {count} local workers: {exc}",
+                field="--cluster",
+                hint="try fewer workers, or start them with `dask scheduler` / `dask worker`",
+            ) from exc
         try:
             with Client(cluster) as client:
                 yield client
