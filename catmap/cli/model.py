@@ -204,6 +204,14 @@ def train_command(
     show_default=True,
     help="Processes computing probabilities.",
 )
+@click.option(
+    "--cluster",
+    "cluster",
+    default=None,
+    metavar="ADDRESS",
+    help="Map on a dask.distributed cluster: local:N starts N workers on this machine, "
+    "tcp://HOST:PORT uses a running scheduler (needs the cluster extra).",
+)
 @_project_option
 @json_option
 def map_command(
@@ -217,6 +225,7 @@ def map_command(
     tree_file: Path | None,
     feed_name: str | None,
     workers: int,
+    cluster: str | None,
     project: str | None,
     as_json: bool,
 ) -> None:
@@ -226,6 +235,20 @@ def map_command(
     every operator in docs/rules.md), then the trained model, or the tree's own keywords when no
     model is trained yet.
     """
+    if cluster is not None:
+        _map_on_cluster(
+            feed,
+            out_dir,
+            cluster=cluster,
+            project=project,
+            tree_version=tree_version,
+            model_dir=model_path,
+            rules_file=rules_file,
+            backoff_threshold=backoff_threshold,
+            format=output_format,
+            as_json=as_json,
+        )
+        return
     with Progress(
         SpinnerColumn(),
         TextColumn("mapping {task.description}"),
@@ -259,6 +282,48 @@ def map_command(
         echo_json(result.facts)
     else:
         _render_map(result.facts)
+    if result.error is not None:
+        raise result.error
+
+
+def _map_on_cluster(
+    feed: Path, out_dir: Path, *, cluster: str, project: str | None, as_json: bool,
+    **options: Any,
+) -> None:
+    """``catmap map --cluster``: progress (partitions, rows per second, dashboard), facts."""
+    from catmap.jobs.cluster import ClusterProgress, map_project_feed_on_cluster
+
+    shown: set[str] = set()
+
+    def show(where: ClusterProgress) -> None:
+        if where.dashboard and "dashboard" not in shown:
+            shown.add("dashboard")
+            err_console.print(f"cluster dashboard: {where.dashboard}")
+        progress.update(
+            task,
+            description=f"{where.stage}: {where.done}/{where.total} partitions, "
+            f"{where.rows:,} records, {where.rows_per_second:,.0f}/s",
+        )
+
+    with Progress(
+        SpinnerColumn(),
+        TextColumn("{task.description}"),
+        TimeElapsedColumn(),
+        console=err_console,
+        transient=True,
+        disable=not err_console.is_terminal,
+    ) as progress:
+        task = progress.add_task(f"starting {cluster}", total=None)
+        result = map_project_feed_on_cluster(
+            feed, out_dir, cluster=cluster, project=project_dir(project), on_progress=show,
+            **options,
+        )
+    if as_json:
+        echo_json(result.facts)
+    else:
+        _render_map(result.facts)
+        parts = result.facts["cluster"]["partitions"]
+        console.print(f"cluster: {parts['count']} partitions ({parts['kind']})")
     if result.error is not None:
         raise result.error
 

@@ -9,6 +9,7 @@ In the order a feed goes through catmap:
 - :mod:`~catmap.jobs.train`: the mapping model trained (the project's labelled feeds, the demo's
   catalog in the demo's project, or a remapped catalog).
 - :mod:`~catmap.jobs.map`: a feed mapped to files with the project's model and rules.
+- :mod:`~catmap.jobs.cluster`: a feed mapped over the workers of a dask.distributed cluster.
 - :mod:`~catmap.jobs.evaluate`: a labelled feed mapped, measured, and its report written.
 - :mod:`~catmap.jobs.onboard`: a feed read, mapped, decided and stored, the rest queued.
 - :mod:`~catmap.jobs.status`: where each feed of a project stands.

@@ -1,0 +1,333 @@
+"""Split a feed into partitions that separate processes can read on their own, in feed order.
+
+Two kinds of partition:
+
+* :class:`ByteRange`: a slice of an uncompressed delimited or JSON Lines file, cut just after a
+  newline that ends a record, with the number of the slice's first line so that records and
+  rejects keep the file's real line numbers. :func:`iter_range` reads one slice exactly as the
+  whole-file reader would have read those records.
+* Record blocks, for the feeds a byte offset cannot cut safely (XML, gzip or zip, encodings
+  that are not ASCII-compatible, lone carriage returns, stray quotes): the coordinator reads the
+  feed once and hands out blocks of raw records (:func:`iter_record_blocks`).
+
+Where a delimited record ends: a newline ends a record when the quote characters before it are
+balanced. In a quoted field a quote is written twice, so an even count of quotes from the start
+of the file means the newline is outside any quoted field (RFC 4180, section 2, rules 5-7).
+:func:`plan_ranges` counts them in one pass over the bytes (``bytes.count``, no parsing). The
+count is wrong only for a quote inside an unquoted field (``55" screen``), which the reader keeps
+as a literal character: when the first megabyte shows one, the feed is not cut by bytes at all
+and goes the record-block way. JSON Lines needs no such care: JSON text cannot hold a raw
+newline, so every newline ends a record.
+"""
+
+from __future__ import annotations
+
+import csv
+import io
+import re
+from collections.abc import Iterator
+from dataclasses import dataclass
+from itertools import compress, islice
+
+from catmap.errors import FeedFormatError
+from catmap.feeds import _sniff, delimited, jsonl
+from catmap.feeds.read import Feed, FeedInfo
+from catmap.records import Reject, SourceRecord
+
+__all__ = [
+    "BLOCK_RECORDS",
+    "PARTITION_BYTES",
+    "ByteRange",
+    "iter_range",
+    "iter_record_blocks",
+    "plan_ranges",
+]
+
+# About this many bytes per byte-range partition: a few hundred thousand products, a few
+# seconds of work, small enough that a worker holds one slice in memory at ease.
+PARTITION_BYTES = 32 * 1024 * 1024
+# Records per block when the feed cannot be cut by bytes.
+BLOCK_RECORDS = 100_000
+# Bytes read at a time while counting newlines and quotes.
+_SCAN_BLOCK = 8 * 1024 * 1024
+# Bytes at the start of the file looked at for stray quotes.
+_STRAY_SAMPLE = 1024 * 1024
+# Encodings in which b"\n" and b'"' are always those characters (no multi-byte unit holds them).
+_ASCII_COMPATIBLE = re.compile(r"^(utf-8(-sig)?|ascii|cp125\d|latin-1|iso8859-\d+)$")
+
+
+@dataclass(frozen=True, slots=True)
+class ByteRange:
+    """One slice of a feed file, starting and ending on record boundaries.
+
+    Attributes:
+        index: position of the slice in the file (0 first).
+        start: first byte.
+        end: one past the last byte.
+        first_line: 1-based line number of the slice's first line in the whole file.
+    """
+
+    index: int
+    start: int
+    end: int
+    first_line: int
+
+
+def _stray_quote(info: FeedInfo) -> bool:
+    """True when the file's first megabyte has a quote inside an unquoted field.
+
+    A quote that neither opens nor closes a field nor is doubled has a character other than the
+    delimiter, a quote or a line end on both sides.
+    """
+    with open(info.path, "rb") as handle:
+        head = handle.read(_STRAY_SAMPLE)
+    text = _sniff.decode_head(head, info.encoding)
+    delimiter = re.escape(info.delimiter or ",")
+    pattern = rf'(?<=[^{delimiter}"\r\n])"(?=[^{delimiter}"\r\n])'
+    return re.search(pattern, text) is not None
+
+
+def plan_ranges(info: FeedInfo, *, target_bytes: int = PARTITION_BYTES) -> list[ByteRange] | None:
+    """Cut a feed into byte ranges of about ``target_bytes`` on record boundaries.
+
+    Args:
+        info: what :func:`catmap.feeds.read.open_feed` found out about the feed.
+        target_bytes: about how large each range is.
+
+    Returns:
+        The ranges in file order (one when the file is small), or None when the feed cannot be
+        cut by bytes: XML, compressed, an encoding that is not ASCII-compatible, a lone
+        carriage return as line end, or a stray quote in the first megabyte of a delimited
+        feed. Read those with :func:`iter_record_blocks`.
+    """
+    if info.format not in ("delimited", "jsonl") or info.compression is not None:
+        return None
+    if not _ASCII_COMPATIBLE.match(info.encoding.lower().replace("_", "-")):
+        return None
+    quoted = info.format == "delimited"
+    if quoted and _stray_quote(info):
+        return None
+    target_bytes = max(1, target_bytes)
+    cuts: list[tuple[int, int]] = [(0, 1)]  # (byte offset, its line number)
+    offset = lines = quotes = 0
+    next_cut = target_bytes
+    last_cr = False
+    with open(info.path, "rb") as handle:
+        while True:
+            block = handle.read(_SCAN_BLOCK)
+            if not block:
+                break
+            crs = block.count(b"\r")
+            pairs = block.count(b"\r\n") + (1 if last_cr and block.startswith(b"\n") else 0)
+            if crs - (1 if block.endswith(b"\r") else 0) + (1 if last_cr else 0) != pairs:
+                return None  # "\r" alone ends a line: the line count below would be wrong
+            last_cr = block.endswith(b"\r")
+            position = 0
+            while next_cut < offset + len(block):
+                found = block.find(b"\n", max(position, next_cut - offset))
+                if found < 0:
+                    break
+                if quoted:
+                    quotes += block.count(b'"', position, found + 1)
+                lines += block.count(b"\n", position, found + 1)
+                position = found + 1
+                if quotes % 2 == 0:
+                    cuts.append((offset + position, lines + 1))
+                    next_cut = offset + position + target_bytes
+            if quoted:
+                quotes += block.count(b'"', position)
+            lines += block.count(b"\n", position)
+            offset += len(block)
+    ranges: list[ByteRange] = []
+    bounds = [*cuts, (offset, 0)]
+    for (start, first_line), (end, _) in zip(bounds, bounds[1:], strict=False):
+        if end > start:
+            ranges.append(ByteRange(len(ranges), start, end, first_line))
+    return ranges or [ByteRange(0, 0, offset, 1)]
+
+
+def _open_range(info: FeedInfo, part: ByteRange, newline: str) -> io.TextIOWrapper:
+    with open(info.path, "rb") as handle:
+        handle.seek(part.start)
+        data = handle.read(part.end - part.start)
+    # A BOM exists only at the start of the file; later slices decode as plain UTF-8.
+    encoding = info.encoding
+    if part.start > 0 and encoding.lower().replace("_", "-") == "utf-8-sig":
+        encoding = "utf-8"
+    return io.TextIOWrapper(
+        io.BytesIO(data), encoding=encoding, errors=_sniff.ERROR_HANDLER, newline=newline
+    )
+
+
+def iter_range(info: FeedInfo, part: ByteRange) -> Iterator[SourceRecord | Reject]:
+    """Yield the records and rejects of one byte range, with the whole file's line numbers.
+
+    The same records, rejects and fatal errors as the whole-file reader gives for that part of
+    the file (:func:`catmap.feeds.delimited.iter_delimited`, :func:`catmap.feeds.jsonl.iter_jsonl`).
+
+    Args:
+        info: the feed.
+        part: the range.
+
+    Yields:
+        Records and rejects in file order.
+
+    Raises:
+        FeedFormatError: an unterminated quote (delimited), after the records before it.
+    """
+    if info.format == "jsonl":
+        yield from _iter_jsonl_range(info, part)
+    else:
+        yield from _iter_delimited_range(info, part)
+
+
+def _iter_jsonl_range(info: FeedInfo, part: ByteRange) -> Iterator[SourceRecord | Reject]:
+    # The loop of catmap.feeds.jsonl.iter_jsonl, over a slice, with line numbers shifted.
+    encoding = info.encoding
+    other = _sniff.suggest_other_encoding(encoding)
+    with _open_range(info, part, "\n") as text:
+        for number, raw in enumerate(text, start=part.first_line):
+            line = raw.strip()
+            if not line:
+                continue
+            location = f"line {number}"
+            excerpt = line[: jsonl._EXCERPT]
+            if _sniff.SURROGATES.search(line):
+                yield Reject(
+                    "bad_encoding",
+                    f"bytes that are not valid {encoding}; try --encoding {other}",
+                    number,
+                    location,
+                    _sniff.SURROGATES.sub("\ufffd", excerpt),
+                )
+                continue
+            try:
+                value = jsonl._decoder.decode(line)
+            except ValueError as exc:
+                yield Reject(
+                    "unparseable_record", f"not valid JSON: {exc}", number, location, excerpt
+                )
+                continue
+            if not isinstance(value, dict):
+                yield Reject(
+                    "unparseable_record",
+                    f"the line holds a JSON {type(value).__name__}, not an object",
+                    number,
+                    location,
+                    excerpt,
+                )
+                continue
+            fields: dict[str, str] = {}
+            jsonl.flatten(value, "", fields)
+            yield SourceRecord(fields, number, location)
+
+
+def _iter_delimited_range(info: FeedInfo, part: ByteRange) -> Iterator[SourceRecord | Reject]:
+    # The loop of catmap.feeds.delimited.iter_delimited, over a slice, with line numbers shifted.
+    assert info.delimiter is not None
+    columns = info.columns
+    width = len(columns)
+    encoding = info.encoding
+    delimiter = info.delimiter
+    other = _sniff.suggest_other_encoding(encoding)
+    escapes = _sniff.ESCAPES
+    seen = escapes.produced
+    pending = 0
+    header_pending = info.has_header and part.start == 0
+    shift = part.first_line - 1
+    with _open_range(info, part, "") as text:
+        reader = csv.reader(text, delimiter=delimiter, strict=True)
+        previous = shift
+        while True:
+            try:
+                row = next(reader)
+            except StopIteration:
+                return
+            except csv.Error as exc:
+                start = previous + 1
+                previous = reader.line_num + shift
+                message = str(exc)
+                if "unexpected end of data" in message or "field larger" in message:
+                    raise FeedFormatError(
+                        "a quoted field opened here is never closed"
+                        + (" (it grew past the field size limit)" if "larger" in message else ""),
+                        path=info.path,
+                        line=start,
+                        hint='a stray " swallowed the rest of the file; double it ("") inside '
+                        "quoted text or remove it",
+                    ) from exc
+                yield Reject(
+                    "unparseable_record", f"cannot split the row: {message}", start,
+                    f"line {start}", "",
+                )
+                continue
+            start = previous + 1
+            previous = reader.line_num + shift
+            if not row:
+                continue
+            if header_pending:
+                header_pending = False
+                continue
+            if escapes.produced != seen:
+                pending += escapes.produced - seen
+                seen = escapes.produced
+            if pending:
+                found = sum(len(_sniff.SURROGATES.findall(cell)) for cell in row)
+                if found:
+                    pending = max(0, pending - found)
+                    excerpt = _sniff.SURROGATES.sub("\ufffd", _excerpt(row, delimiter))
+                    yield Reject(
+                        "bad_encoding",
+                        f"bytes that are not valid {encoding}; try --encoding {other}",
+                        start,
+                        f"line {start}",
+                        excerpt,
+                    )
+                    continue
+            if len(row) != width:
+                yield Reject(
+                    "ragged_row",
+                    f"expected {width} cells, found {len(row)}",
+                    start,
+                    f"line {start}",
+                    _excerpt(row, delimiter),
+                )
+                continue
+            fields = dict(compress(zip(columns, row, strict=True), row))
+            yield SourceRecord(fields, start, f"line {start}")
+
+
+def _excerpt(row: list[str], delimiter: str) -> str:
+    return delimited._excerpt(row, delimiter)
+
+
+def iter_record_blocks(
+    feed: Feed, *, size: int = BLOCK_RECORDS
+) -> Iterator[list[SourceRecord | Reject]]:
+    """Read a feed once, in order, as blocks of at most ``size`` records and rejects.
+
+    Args:
+        feed: the opened feed.
+        size: records per block.
+
+    Yields:
+        Blocks in feed order.
+
+    Raises:
+        FeedFormatError, FeedEncodingError, UnsafeFeedError: after the block holding the
+            records read before the error was yielded.
+    """
+    records = iter(feed)
+    while True:
+        block: list[SourceRecord | Reject] = []
+        try:
+            block.extend(islice(records, size))
+        except Exception:
+            if block:
+                yield block
+            raise
+        if not block:
+            return
+        yield block
+        if len(block) < size:
+            return
