@@ -174,6 +174,8 @@ def test_migration_to_version_8_merges_a_product_s_waiting_items(tmp_path: Path)
     # item (brand conflict, higher priority), p0002 a claimed one beside its open one, p0003 a
     # decided one beside an open one.
     conn.execute("PRAGMA user_version = 7")
+    conn.execute("DROP TABLE feed_brands")
+    conn.execute("DROP TABLE brand_registry")
     conn.execute("DROP INDEX IF EXISTS review_items_one_waiting")
     conn.execute("ALTER TABLE review_items DROP COLUMN reasons")
     now = "2026-01-01T00:00:00.000000Z"

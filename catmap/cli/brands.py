@@ -32,8 +32,7 @@ _dictionary_option = click.option(
 
 @click.group("brands")
 def brands_group() -> None:
-    """Find brands the dictionary does not know yet, add them, and confirm the brands
-    onboarding found."""
+    """Find brands the dictionary does not know yet, add them, and confirm found ones."""
 
 
 @brands_group.command("candidates")
