@@ -552,7 +552,6 @@ def _render_demo(facts: dict[str, Any]) -> None:
     table = Table(title="Demo feeds", title_justify="left", box=box.SIMPLE_HEAD,
                   padding=(0, 1), pad_edge=False, collapse_padding=True)
     table.add_column("feed", no_wrap=True)
-    table.add_column("tree", justify="right", no_wrap=True)
     for header in ("read", "kept", "rejected", "accepted", "queued", "coverage", "gold error"):
         table.add_column(header, justify="right", no_wrap=True)
     for f in facts["feeds"]:

@@ -22,6 +22,7 @@ from catmap.jobs.onboard import (
     OnboardOptions,
     calibration_sources,
     check_against_gold,
+    default_calibration_feeds,
     default_model_dir,
     onboard_feed,
 )
@@ -77,7 +78,8 @@ def run_demo(
         world: the demo world folder (default: :data:`DEMO_WORLD`; built when missing).
         max_error: error rate allowed among auto-accepted mappings.
         validation_feed: labelled feeds that set the accept threshold (default: the reference
-            catalog's valid split and the Oskelund feed).
+            catalog's held-out part, the Oskelund feed and the validation part of the unseen
+            retailers, see :func:`catmap.jobs.onboard.default_calibration_feeds`).
         reporter: told what happens as it goes (default: nothing is told).
 
     Returns:
@@ -100,10 +102,8 @@ def run_demo(
     trained = _train_when_missing(paths.reference, tree, project, model_dir, tell)
     model, manifest = load_model(model_dir, tree)
     # New feeds come from new retailers: the threshold must also hold on labelled products
-    # of a retailer the model never saw (see catmap.jobs.onboard.accept_threshold).
-    calibration = list(validation_feed) or [paths.reference] + [
-        paths.feeds[name] for name in ("oskelund_labelled",) if name in paths.feeds
-    ]
+    # of retailers the model never saw (see catmap.jobs.onboard.accept_threshold).
+    calibration = list(validation_feed) or default_calibration_feeds(project)
     validation = calibration_sources(
         FeedMapper(model, manifest, tree), model_dir, project=project,
         feeds=calibration, as_default=True,
