@@ -10,8 +10,8 @@ Four rounds of tasks run over them, each a plain function of files in a work fol
    each id's later occurrences, with the line of the first (the first one is kept, as in
    :func:`catmap.feeds.ingest.iter_products`). No process ever holds every id.
 3. **pass 1**: each partition reads again, rejects the duplicates in place, applies the rules and
-   the model, and writes its top-k probabilities, rows and rejects; it returns its
-   (retailer path, node) counts.
+   the model, and writes its top-k probabilities, the exact node probabilities of the rows that
+   may back off, its rows and rejects; it returns its (retailer path, node) and flag counts.
 4. **pass 2**: the coordinator adds up the counts in partition order into the path consensus,
    sends it to every worker once, and each partition blends, backs off and writes its mappings.
 
@@ -29,7 +29,6 @@ dask is imported only here and only when a cluster run starts.
 from __future__ import annotations
 
 import json
-import os
 import shutil
 import threading
 import time
@@ -42,8 +41,10 @@ from pathlib import Path
 from typing import Any
 
 import numpy as np
+import scipy.sparse as sp
 
 from catmap import errors
+from catmap._atomic import atomic_open, atomic_path, write_text_atomic
 from catmap.classify.consensus import PathConsensus
 from catmap.classify.features import product_texts
 from catmap.classify.mapping import (
@@ -194,31 +195,19 @@ def _part_name(index: int) -> str:
     return f"p{index:06d}"
 
 
-def _save_atomic(path: Path, write: Callable[[Path], None]) -> None:
-    """Write ``path`` through ``write`` under a temporary name, then rename it into place."""
-    temporary = path.with_name(f".{path.name}.{uuid.uuid4().hex}.tmp")
-    try:
-        write(temporary)
-        os.replace(temporary, path)
-    finally:
-        if temporary.exists():
-            temporary.unlink()
-
-
 def _save_npy(path: Path, array: np.ndarray[Any, Any]) -> None:
-    def write(target: Path) -> None:
-        with open(target, "wb") as handle:
-            np.save(handle, array, allow_pickle=False)
+    with atomic_open(path, "wb") as handle:
+        np.save(handle, array, allow_pickle=False)
 
-    _save_atomic(path, write)
+
+def _save_npz(path: Path, matrix: sp.csr_matrix) -> None:
+    with atomic_open(path, "wb") as handle:
+        sp.save_npz(handle, matrix)
 
 
 def _save_lines(path: Path, items: Iterator[Any] | list[Any]) -> None:
-    def write(target: Path) -> None:
-        with open(target, "w", encoding="utf-8", newline="\n") as handle:
-            handle.writelines(json.dumps(item, ensure_ascii=False) + "\n" for item in items)
-
-    _save_atomic(path, write)
+    with atomic_open(path, "w", encoding="utf-8", newline="\n") as handle:
+        handle.writelines(json.dumps(item, ensure_ascii=False) + "\n" for item in items)
 
 
 def _load_lines(path: Path) -> Iterator[Any]:
@@ -351,10 +340,13 @@ def _pass_one_task(
     duplicates: list[dict[int, list[tuple[int, int]]]],
     work: str,
     chunk_size: int,
+    threshold: float,
 ) -> dict[str, Any]:
-    """Round 3: products and rejects of one partition, the rules and the model's top-k.
+    """Round 3: products and rejects of one partition, the rules and the model's pass 1.
 
-    Writes the partition's top-k arrays, rows and rejects; returns its counts.
+    Writes the partition's top-k arrays, the rows that may back off (positions in the
+    partition) with their exact node probabilities, the rows and the rejects, as
+    :func:`catmap.classify.mapping.map_feed` keeps them per chunk; returns its counts.
     """
     mapper, loaded, lock = _worker_setup(setup)
     rules = RuleSet(loaded.rules, path=loaded.path)
@@ -366,21 +358,28 @@ def _pass_one_task(
     read = 0
     idx_parts: list[np.ndarray[Any, Any]] = []
     val_parts: list[np.ndarray[Any, Any]] = []
+    backing_parts: list[np.ndarray[Any, Any]] = []
+    node_parts: list[sp.csr_matrix] = []
     rows: list[Any] = []
     counts: dict[str, Counter[str]] = {}
+    flags: Counter[str] = Counter()
     chunk: list[Product] = []
     fatal = None
 
     def flush() -> None:
         chunk_rows = _rule_rows(chunk, rules)
         with lock:
-            idx, vals = mapper.top_k(product_texts(chunk))
+            idx, vals, backing, nodes = mapper.first_pass(product_texts(chunk), threshold)
         classes = mapper.classes
         for row, top in zip(chunk_rows, idx[:, 0].tolist(), strict=True):
             if row[2]:
                 counts.setdefault(row[2], Counter())[row[3] or classes[top]] += 1
         idx_parts.append(idx)
         val_parts.append(vals)
+        # Positions in the partition, not the chunk: pass 2 cuts its own chunks.
+        backing_parts.append(backing.astype(np.int64) + len(rows))
+        if nodes is not None:
+            node_parts.append(nodes)
         rows.extend(chunk_rows)
         chunk.clear()
 
@@ -410,6 +409,7 @@ def _pass_one_task(
                     )
                 )
                 continue
+            flags.update(result.flags)  # of kept products only, as the accounting counts them
             chunk.append(result)
             if len(chunk) >= chunk_size:
                 flush()
@@ -423,11 +423,16 @@ def _pass_one_task(
               np.zeros((0, k), dtype=np.int32))
     _save_npy(base.with_suffix(".vals.npy"), np.vstack(val_parts) if val_parts else
               np.zeros((0, k), dtype=np.float32))
+    _save_npy(base.with_suffix(".backing.npy"), np.concatenate(backing_parts) if backing_parts
+              else np.zeros(0, dtype=np.int64))
+    _save_npz(base.with_suffix(".nodes.npz"), sp.vstack(node_parts, format="csr") if node_parts
+              else sp.csr_matrix((0, len(mapper.index.nodes))))
     _save_lines(base.with_suffix(".rows.jsonl"), rows)
     _save_lines(base.with_suffix(".rejects.jsonl"), rejects)
     return {
         "read": read,
         "kept": len(rows),
+        "flags": dict(flags),
         "counts": {path: list(counter.items()) for path, counter in counts.items()},
         "matched": list(rules.matched.items()),
         "conflicts": rules.conflicts,
@@ -468,6 +473,8 @@ def _pass_two_task(
     base = Path(work) / _part_name(index)
     idx = np.load(base.with_suffix(".idx.npy"), allow_pickle=False)
     vals = np.load(base.with_suffix(".vals.npy"), allow_pickle=False)
+    backing = np.load(base.with_suffix(".backing.npy"), allow_pickle=False)
+    nodes = sp.load_npz(base.with_suffix(".nodes.npz")).tocsr()
     rows = [tuple(row) for row in _load_lines(base.with_suffix(".rows.jsonl"))]
     summary = MapSummary(threshold=threshold, mode=mapper.method)
     target = base.with_suffix(f".mappings.{format}")
@@ -475,21 +482,25 @@ def _pass_two_task(
     def chunks() -> Iterator[Any]:
         for start in range(0, len(rows), chunk_size):
             end = start + chunk_size
-            yield idx[start:end], vals[start:end], rows[start:end]
+            # The backing rows of this chunk (sorted positions) and their node probabilities;
+            # None when no row may back off, as pass 1 of one process leaves it.
+            low, high = np.searchsorted(backing, [start, end]).tolist()
+            chunk_nodes = nodes[low:high] if high > low else None
+            yield idx[start:end], vals[start:end], backing[low:high] - start, chunk_nodes, \
+                rows[start:end]
 
-    def write(temporary: Path) -> None:
+    facts: dict[str, Any] = {}
+    with lock, atomic_path(target) as temporary:
+        # The writer commits its file on close even after an error; the part under its own
+        # temporary name is then dropped, and the target left as it was.
         writer = _MappingWriter(temporary, format)
         counting = _CountingWriter(writer, mapper)
         try:
             _second_pass(chunks(), mapper, consensus, threshold, counting, summary)  # type: ignore[arg-type]
         finally:
             writer.close()
-        facts["methods"] = list(counting.methods)
-        facts["departments"] = list(counting.departments)
-
-    facts: dict[str, Any] = {}
-    with lock:
-        _save_atomic(target, write)
+    facts["methods"] = list(counting.methods)
+    facts["departments"] = list(counting.departments)
     facts.update(
         products=summary.products,
         by_method=summary.by_method,
@@ -756,7 +767,7 @@ def _map_parts(
         "pass 1",
         [
             (_pass_one_task, (setup, info, profile, part, i, shared_duplicates, folder,
-                              chunk_size))
+                              chunk_size, threshold))
             for i, part in enumerate(parts)
         ],
         progress,
@@ -831,6 +842,8 @@ def _write_outputs(
         for index, first in enumerate(summary["firsts"]):
             accounting.read += first["read"]
             accounting.kept += first["kept"]
+            for flag, count in first["flags"].items():
+                accounting.by_flag[flag] = accounting.by_flag.get(flag, 0) + count
             for fields in _load_lines(work / f"{_part_name(index)}.rejects.jsonl"):
                 reject = Reject(*fields)
                 accounting.count_reject(reject.reason)
@@ -886,19 +899,16 @@ def _write_outputs(
         "accounting": str(accounting_path),
     }
     facts = {**accounting.to_dict(), "outputs": result.outputs, "format": format}
-    accounting_path.write_text(
-        json.dumps(facts, ensure_ascii=False, indent=2) + "\n", encoding="utf-8"
-    )
+    write_text_atomic(accounting_path, json.dumps(facts, ensure_ascii=False, indent=2) + "\n")
     return result
 
 
 def _concatenate(target: Path, parts: list[Path], format: str) -> None:
     """Join the mapping parts into one file, in order (the CSV header once)."""
+    if format == "parquet":
+        import pyarrow.parquet as pq
 
-    def write(temporary: Path) -> None:
-        if format == "parquet":
-            import pyarrow.parquet as pq
-
+        with atomic_path(target) as temporary:
             writer = None
             for part in parts:
                 table = pq.read_table(part)
@@ -910,15 +920,13 @@ def _concatenate(target: Path, parts: list[Path], format: str) -> None:
                 pq.write_table(_parquet_schema().empty_table(), temporary)
             else:
                 writer.close()
-            return
-        with open(temporary, "wb") as handle:
-            for number, part in enumerate(parts):
-                with open(part, "rb") as source:
-                    if format == "csv" and number > 0:
-                        source.readline()  # each part starts with the header; keep the first
-                    shutil.copyfileobj(source, handle, 1024 * 1024)
-
-    _save_atomic(target, write)
+        return
+    with atomic_open(target, "wb") as handle:
+        for number, part in enumerate(parts):
+            with open(part, "rb") as source:
+                if format == "csv" and number > 0:
+                    source.readline()  # each part starts with the header; keep the first
+                shutil.copyfileobj(source, handle, 1024 * 1024)
 
 
 def map_project_feed_on_cluster(
