@@ -16,7 +16,7 @@ import csv
 import io
 import re
 from collections import Counter
-from collections.abc import Iterator
+from collections.abc import Iterable, Iterator
 from itertools import compress
 from pathlib import Path
 
@@ -204,85 +204,120 @@ def iter_delimited(
     Raises:
         FeedFormatError: an unterminated quote, or a field larger than the limit.
     """
+    stream, _ = open_binary(path)
+    with io.TextIOWrapper(
+        stream, encoding=encoding, errors=_sniff.ERROR_HANDLER, newline=""
+    ) as text:
+        yield from read_delimited_text(
+            text, path=path, encoding=encoding, delimiter=delimiter, columns=columns,
+            has_header=has_header,
+        )  # fmt: skip
+
+
+def read_delimited_text(
+    text: Iterable[str],
+    *,
+    path: str | Path,
+    encoding: str,
+    delimiter: str,
+    columns: tuple[str, ...],
+    has_header: bool,
+    first_line: int = 1,
+) -> Iterator[SourceRecord | Reject]:
+    """Yield the records and rejects of delimited text (a whole file, or a slice of one).
+
+    Args:
+        text: the decoded text, opened with ``newline=""``.
+        path: the feed file (named in errors; re-read to explain an oversized cell).
+        encoding: the codec the text was decoded with.
+        delimiter: the cell separator.
+        columns: the column names.
+        has_header: skip the first non-empty row.
+        first_line: the file's line number of the text's first line (a slice's records and
+            rejects keep the file's real line numbers).
+
+    Yields:
+        Records and rejects, as :func:`iter_delimited` describes.
+
+    Raises:
+        FeedFormatError: an unterminated quote, or a field larger than the limit.
+    """
     width = len(columns)
     bad_bytes = _sniff.bad_bytes_detail(encoding)
     escapes = _sniff.ESCAPES
     seen = escapes.produced
     pending = 0
     header_pending = has_header
-    stream, _ = open_binary(path)
-    with io.TextIOWrapper(
-        stream, encoding=encoding, errors=_sniff.ERROR_HANDLER, newline=""
-    ) as text:
-        reader = csv.reader(text, delimiter=delimiter, strict=True)
-        previous = 0  # reader.line_num after the previous row: the next row starts one later
-        while True:
-            try:
-                row = next(reader)
-            except StopIteration:
-                return
-            except csv.Error as exc:
-                start = previous + 1
-                previous = reader.line_num
-                message = str(exc)
-                if "field larger" in message and not _row_has_quote(path, encoding, start):
-                    raise FeedFormatError(
-                        f"a cell on this row is larger than {FIELD_SIZE_LIMIT >> 20} MiB",
-                        path=path,
-                        line=start,
-                        hint="the row has no quote; ask the sender to cut the cell, "
-                        "or split the file",
-                    ) from exc
-                if "unexpected end of data" in message or "field larger" in message:
-                    raise FeedFormatError(
-                        "a quoted field opened here is never closed"
-                        + (" (it grew past the field size limit)" if "larger" in message else ""),
-                        path=path,
-                        line=start,
-                        hint='a stray " swallowed the rest of the file; double it ("") inside '
-                        "quoted text or remove it",
-                    ) from exc
-                yield Reject(
-                    "unparseable_record",
-                    f"cannot split the row: {message}",
-                    start,
-                    f"line {start}",
-                    "",
-                )
-                continue
+    shift = first_line - 1
+    reader = csv.reader(text, delimiter=delimiter, strict=True)
+    previous = shift  # reader.line_num after the previous row: the next row starts one later
+    while True:
+        try:
+            row = next(reader)
+        except StopIteration:
+            return
+        except csv.Error as exc:
             start = previous + 1
-            previous = reader.line_num
-            if not row:
-                continue
-            if header_pending:
-                header_pending = False
-                continue
-            if escapes.produced != seen:
-                pending += escapes.produced - seen
-                seen = escapes.produced
-            if pending:
-                found = sum(len(_sniff.SURROGATES.findall(cell)) for cell in row)
-                if found:
-                    pending = max(0, pending - found)
-                    excerpt = _sniff.SURROGATES.sub("\ufffd", _excerpt(row, delimiter))
-                    yield Reject(
-                        "bad_encoding",
-                        bad_bytes,
-                        start,
-                        f"line {start}",
-                        excerpt,
-                    )
-                    continue
-            if len(row) != width:
+            previous = reader.line_num + shift
+            message = str(exc)
+            if "field larger" in message and not _row_has_quote(path, encoding, start):
+                raise FeedFormatError(
+                    f"a cell on this row is larger than {FIELD_SIZE_LIMIT >> 20} MiB",
+                    path=path,
+                    line=start,
+                    hint="the row has no quote; ask the sender to cut the cell, "
+                    "or split the file",
+                ) from exc
+            if "unexpected end of data" in message or "field larger" in message:
+                raise FeedFormatError(
+                    "a quoted field opened here is never closed"
+                    + (" (it grew past the field size limit)" if "larger" in message else ""),
+                    path=path,
+                    line=start,
+                    hint='a stray " swallowed the rest of the file; double it ("") inside '
+                    "quoted text or remove it",
+                ) from exc
+            yield Reject(
+                "unparseable_record",
+                f"cannot split the row: {message}",
+                start,
+                f"line {start}",
+                "",
+            )
+            continue
+        start = previous + 1
+        previous = reader.line_num + shift
+        if not row:
+            continue
+        if header_pending:
+            header_pending = False
+            continue
+        if escapes.produced != seen:
+            pending += escapes.produced - seen
+            seen = escapes.produced
+        if pending:
+            found = sum(len(_sniff.SURROGATES.findall(cell)) for cell in row)
+            if found:
+                pending = max(0, pending - found)
+                excerpt = _sniff.SURROGATES.sub("\ufffd", _excerpt(row, delimiter))
                 yield Reject(
-                    "ragged_row",
-                    f"expected {width} cells, found {len(row)}",
+                    "bad_encoding",
+                    bad_bytes,
                     start,
                     f"line {start}",
-                    _excerpt(row, delimiter),
+                    excerpt,
                 )
                 continue
-            # compress() keeps the (column, cell) pairs whose cell is non-empty: the row's own
-            # cells are the selectors (the row has exactly ``width`` cells, checked above).
-            fields = dict(compress(zip(columns, row, strict=True), row))
-            yield SourceRecord(fields, start, f"line {start}")
+        if len(row) != width:
+            yield Reject(
+                "ragged_row",
+                f"expected {width} cells, found {len(row)}",
+                start,
+                f"line {start}",
+                _excerpt(row, delimiter),
+            )
+            continue
+        # compress() keeps the (column, cell) pairs whose cell is non-empty: the row's own
+        # cells are the selectors (the row has exactly ``width`` cells, checked above).
+        fields = dict(compress(zip(columns, row, strict=True), row))
+        yield SourceRecord(fields, start, f"line {start}")

@@ -9,7 +9,7 @@ from __future__ import annotations
 
 import io
 import json
-from collections.abc import Iterator
+from collections.abc import Iterable, Iterator
 from pathlib import Path
 from typing import Any
 
@@ -57,75 +57,92 @@ def iter_jsonl(path: str | Path, *, encoding: str) -> Iterator[SourceRecord | Re
         Records, or rejects "unparseable_record" (not JSON, or not an object) and
         "bad_encoding".
     """
-    bad_bytes = _sniff.bad_bytes_detail(encoding)
     stream, _ = open_binary(path)
     with io.TextIOWrapper(
         stream, encoding=encoding, errors=_sniff.ERROR_HANDLER, newline="\n"
     ) as text:
-        for number, raw in enumerate(text, start=1):
-            line = raw.strip()
-            if not line:
-                continue
-            location = f"line {number}"
-            excerpt = line[:_EXCERPT]
-            if _sniff.SURROGATES.search(line):
-                yield Reject(
-                    "bad_encoding",
-                    bad_bytes,
-                    number,
-                    location,
-                    _sniff.SURROGATES.sub("\ufffd", excerpt),
-                )
-                continue
-            try:
-                value = _decoder.decode(line)
-            except ValueError as exc:
-                yield Reject(
-                    "unparseable_record", f"not valid JSON: {exc}", number, location, excerpt
-                )
-                continue
-            except RecursionError:
-                yield Reject(
-                    "unparseable_record",
-                    "the JSON is nested too deep to read (Python's recursion limit)",
-                    number,
-                    location,
-                    excerpt,
-                )
-                continue
-            if not isinstance(value, dict):
-                yield Reject(
-                    "unparseable_record",
-                    f"the line holds a JSON {type(value).__name__}, not an object",
-                    number,
-                    location,
-                    excerpt,
-                )
-                continue
-            fields: dict[str, str] = {}
-            try:
-                flatten(value, "", fields)
-            except RecursionError:
-                yield Reject(
-                    "unparseable_record",
-                    "the JSON is nested too deep to read (Python's recursion limit)",
-                    number,
-                    location,
-                    excerpt,
-                )
-                continue
-            # JSON can spell a lone surrogate ("\\ud800"), which is no character: such text
-            # cannot be written out again as UTF-8, in a value or in a key.
-            if "\\u" in line and _has_surrogate(fields):
-                yield Reject(
-                    "bad_encoding",
-                    "an escaped lone surrogate (\\ud800-\\udfff) is not a character",
-                    number,
-                    location,
-                    excerpt,
-                )
-                continue
-            yield SourceRecord(fields, number, location)
+        yield from read_jsonl_text(text, encoding=encoding)
+
+
+def read_jsonl_text(
+    text: Iterable[str], *, encoding: str, first_line: int = 1
+) -> Iterator[SourceRecord | Reject]:
+    """Yield the records and rejects of JSON Lines text (a whole file, or a slice of one).
+
+    Args:
+        text: the decoded lines, newline kept.
+        encoding: the codec they were decoded with (named in bad-bytes rejects).
+        first_line: the file's line number of the first line (a slice's rejects keep the
+            file's real line numbers).
+
+    Yields:
+        Records and rejects, as :func:`iter_jsonl` describes.
+    """
+    bad_bytes = _sniff.bad_bytes_detail(encoding)
+    for number, raw in enumerate(text, start=first_line):
+        line = raw.strip()
+        if not line:
+            continue
+        location = f"line {number}"
+        excerpt = line[:_EXCERPT]
+        if _sniff.SURROGATES.search(line):
+            yield Reject(
+                "bad_encoding",
+                bad_bytes,
+                number,
+                location,
+                _sniff.SURROGATES.sub("\ufffd", excerpt),
+            )
+            continue
+        try:
+            value = _decoder.decode(line)
+        except ValueError as exc:
+            yield Reject(
+                "unparseable_record", f"not valid JSON: {exc}", number, location, excerpt
+            )
+            continue
+        except RecursionError:
+            yield Reject(
+                "unparseable_record",
+                "the JSON is nested too deep to read (Python's recursion limit)",
+                number,
+                location,
+                excerpt,
+            )
+            continue
+        if not isinstance(value, dict):
+            yield Reject(
+                "unparseable_record",
+                f"the line holds a JSON {type(value).__name__}, not an object",
+                number,
+                location,
+                excerpt,
+            )
+            continue
+        fields: dict[str, str] = {}
+        try:
+            flatten(value, "", fields)
+        except RecursionError:
+            yield Reject(
+                "unparseable_record",
+                "the JSON is nested too deep to read (Python's recursion limit)",
+                number,
+                location,
+                excerpt,
+            )
+            continue
+        # JSON can spell a lone surrogate ("\\ud800"), which is no character: such text
+        # cannot be written out again as UTF-8, in a value or in a key.
+        if "\\u" in line and _has_surrogate(fields):
+            yield Reject(
+                "bad_encoding",
+                "an escaped lone surrogate (\\ud800-\\udfff) is not a character",
+                number,
+                location,
+                excerpt,
+            )
+            continue
+        yield SourceRecord(fields, number, location)
 
 
 def _has_surrogate(fields: dict[str, str]) -> bool:

@@ -22,14 +22,12 @@ newline, so every newline ends a record.
 
 from __future__ import annotations
 
-import csv
 import io
 import re
 from collections.abc import Iterator
 from dataclasses import dataclass
-from itertools import compress, islice
+from itertools import islice
 
-from catmap.errors import FeedFormatError
 from catmap.feeds import _sniff, delimited, jsonl
 from catmap.feeds.read import Feed, FeedInfo
 from catmap.records import Reject, SourceRecord
@@ -182,123 +180,23 @@ def iter_range(info: FeedInfo, part: ByteRange) -> Iterator[SourceRecord | Rejec
 
 
 def _iter_jsonl_range(info: FeedInfo, part: ByteRange) -> Iterator[SourceRecord | Reject]:
-    # The loop of catmap.feeds.jsonl.iter_jsonl, over a slice, with line numbers shifted.
-    encoding = info.encoding
-    other = _sniff.suggest_other_encoding(encoding)
     with _open_range(info, part, "\n") as text:
-        for number, raw in enumerate(text, start=part.first_line):
-            line = raw.strip()
-            if not line:
-                continue
-            location = f"line {number}"
-            excerpt = line[: jsonl._EXCERPT]
-            if _sniff.SURROGATES.search(line):
-                yield Reject(
-                    "bad_encoding",
-                    f"bytes that are not valid {encoding}; try --encoding {other}",
-                    number,
-                    location,
-                    _sniff.SURROGATES.sub("\ufffd", excerpt),
-                )
-                continue
-            try:
-                value = jsonl._decoder.decode(line)
-            except ValueError as exc:
-                yield Reject(
-                    "unparseable_record", f"not valid JSON: {exc}", number, location, excerpt
-                )
-                continue
-            if not isinstance(value, dict):
-                yield Reject(
-                    "unparseable_record",
-                    f"the line holds a JSON {type(value).__name__}, not an object",
-                    number,
-                    location,
-                    excerpt,
-                )
-                continue
-            fields: dict[str, str] = {}
-            jsonl.flatten(value, "", fields)
-            yield SourceRecord(fields, number, location)
+        yield from jsonl.read_jsonl_text(text, encoding=info.encoding, first_line=part.first_line)
 
 
 def _iter_delimited_range(info: FeedInfo, part: ByteRange) -> Iterator[SourceRecord | Reject]:
-    # The loop of catmap.feeds.delimited.iter_delimited, over a slice, with line numbers shifted.
     assert info.delimiter is not None
-    columns = info.columns
-    width = len(columns)
-    encoding = info.encoding
-    delimiter = info.delimiter
-    other = _sniff.suggest_other_encoding(encoding)
-    escapes = _sniff.ESCAPES
-    seen = escapes.produced
-    pending = 0
-    header_pending = info.has_header and part.start == 0
-    shift = part.first_line - 1
     with _open_range(info, part, "") as text:
-        reader = csv.reader(text, delimiter=delimiter, strict=True)
-        previous = shift
-        while True:
-            try:
-                row = next(reader)
-            except StopIteration:
-                return
-            except csv.Error as exc:
-                start = previous + 1
-                previous = reader.line_num + shift
-                message = str(exc)
-                if "unexpected end of data" in message or "field larger" in message:
-                    raise FeedFormatError(
-                        "a quoted field opened here is never closed"
-                        + (" (it grew past the field size limit)" if "larger" in message else ""),
-                        path=info.path,
-                        line=start,
-                        hint='a stray " swallowed the rest of the file; double it ("") inside '
-                        "quoted text or remove it",
-                    ) from exc
-                yield Reject(
-                    "unparseable_record", f"cannot split the row: {message}", start,
-                    f"line {start}", "",
-                )
-                continue
-            start = previous + 1
-            previous = reader.line_num + shift
-            if not row:
-                continue
-            if header_pending:
-                header_pending = False
-                continue
-            if escapes.produced != seen:
-                pending += escapes.produced - seen
-                seen = escapes.produced
-            if pending:
-                found = sum(len(_sniff.SURROGATES.findall(cell)) for cell in row)
-                if found:
-                    pending = max(0, pending - found)
-                    excerpt = _sniff.SURROGATES.sub("\ufffd", _excerpt(row, delimiter))
-                    yield Reject(
-                        "bad_encoding",
-                        f"bytes that are not valid {encoding}; try --encoding {other}",
-                        start,
-                        f"line {start}",
-                        excerpt,
-                    )
-                    continue
-            if len(row) != width:
-                yield Reject(
-                    "ragged_row",
-                    f"expected {width} cells, found {len(row)}",
-                    start,
-                    f"line {start}",
-                    _excerpt(row, delimiter),
-                )
-                continue
-            fields = dict(compress(zip(columns, row, strict=True), row))
-            yield SourceRecord(fields, start, f"line {start}")
-
-
-def _excerpt(row: list[str], delimiter: str) -> str:
-    return delimited._excerpt(row, delimiter)
+        yield from delimited.read_delimited_text(
+            text,
+            path=info.path,
+            encoding=info.encoding,
+            delimiter=info.delimiter,
+            columns=info.columns,
+            # Only the file's first slice holds the header row.
+            has_header=info.has_header and part.start == 0,
+            first_line=part.first_line,
+        )
 
 
 def iter_record_blocks(
