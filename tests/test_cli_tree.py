@@ -26,8 +26,10 @@ def run(*args: str) -> Result:
 
 @pytest.fixture
 def shared_tree(tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> Path:
-    """Make the small good tree the shared tree of version 1."""
+    """Make the small good tree the shared tree of version 1 (no project in the way)."""
     monkeypatch.setenv("CATMAP_TAXONOMIES", str(tmp_path))
+    monkeypatch.delenv("CATMAP_PROJECT", raising=False)
+    monkeypatch.chdir(tmp_path)
     shutil.copy(GOOD, tmp_path / "tree-v1.txt")
     return tmp_path / "tree-v1.txt"
 
@@ -126,6 +128,34 @@ def test_show_departments_by_default(shared_tree: Path) -> None:
         "├── Apparel  [1000]  (+6 below)\n"
         "└── Food and drink  [1500]  (+15 below)\n"
     )
+
+
+def test_show_search_and_validate_read_the_projects_own_tree(
+    shared_tree: Path, tmp_path: Path
+) -> None:
+    """A project started with its own tree is what the tree commands show by default."""
+    project = tmp_path / "own"
+    own_tree = Path(__file__).resolve().parents[1] / "examples" / "own-project" / "tree.txt"
+    assert CliRunner().invoke(main, ["init", str(project), "--tree", str(own_tree)]).exit_code == 0
+    own = load_tree(own_tree)
+    department = own.departments()[0]
+
+    shown = run("show", "--project", str(project))
+    assert shown.exit_code == 0, shown.output
+    assert department.name in shown.output
+    assert "Apparel  [1000]" not in shown.output
+
+    found = run("search", department.name, "--project", str(project), "--json")
+    assert found.exit_code == 0, found.output
+    assert json.loads(found.output)["matches"][0]["id"] == department.id
+
+    checked = run("validate", "--project", str(project), "--json")
+    assert checked.exit_code == 0, checked.output
+    assert json.loads(checked.output)["nodes"] == len(own)
+
+    # --tree-version still picks the shared tree.
+    shared = run("show", "--project", str(project), "--tree-version", "1")
+    assert "Apparel  [1000]" in shared.output
 
 
 def test_show_a_node_by_id_from_a_tree_file() -> None:

@@ -49,7 +49,7 @@ SHORT_HELP: dict[str, str] = {
     "feed's profile.",
     "normalise": "Clean every record of a feed into products; write them, the rejects and the "
     "accounting.",
-    "tree": "Check, show and search the shared category tree.",
+    "tree": "Check, show, search and diff the category tree (the project's, or a shared version).",
     "train": "Train the mapping model on labelled feeds (default: the project's, see `catmap "
     "init`).",
     "map": "Map every product of a feed to a node of the tree, with a calibrated confidence.",

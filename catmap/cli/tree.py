@@ -10,11 +10,10 @@ from rich.table import Table
 from rich.text import Text
 from rich.tree import Tree
 
-from catmap.cli._render import console, echo_json, json_option
+from catmap.cli._render import console, echo_json, json_option, project_option
 from catmap.tree.taxonomy import (
     CategoryTree,
     Node,
-    default_tree_path,
     load_default_tree,
     load_tree,
     open_tree,
@@ -28,10 +27,10 @@ def _tree_version_option(func: F) -> F:
     return click.option(
         "--tree-version",
         type=click.IntRange(min=1),
-        default=1,
-        show_default=True,
+        default=None,
         metavar="N",
-        help="Use the shared tree of this version (taxonomies/tree-vN.txt).",
+        help="Use the shared tree of this version (taxonomies/tree-vN.txt). Default: the "
+        "project's tree (its own from `catmap init`, else shared version 1).",
     )(func)
 
 
@@ -50,29 +49,39 @@ def _say(text: str) -> None:
     console.print(text, markup=False, soft_wrap=True)
 
 
-def _open_tree(tree_file: str | None, tree_version: int) -> CategoryTree:
+def _open_tree(
+    tree_file: str | None, tree_version: int | None, project: str | None
+) -> CategoryTree:
+    """The tree given, else the shared tree of the version given, else the project's tree."""
     if tree_file is not None:
         return load_tree(tree_file)
-    return load_default_tree(tree_version)
+    if tree_version is not None:
+        return load_default_tree(tree_version)
+    from catmap.jobs._project_tree import open_project_tree
+    from catmap.project import project_dir
+
+    return open_project_tree(project_dir(project))
 
 
 @click.group("tree")
 def tree_group() -> None:
-    """Check, show and search the shared category tree."""
+    """Check, show, search and diff the category tree (the project's, or a shared version)."""
 
 
 @tree_group.command("validate")
 @click.argument("tree_file", required=False, type=click.Path(dir_okay=False))
 @_tree_version_option
+@project_option
 @json_option
-def validate_command(tree_file: str | None, tree_version: int, as_json: bool) -> None:
+def validate_command(
+    tree_file: str | None, tree_version: int | None, project: str | None, as_json: bool
+) -> None:
     """Check a tree file and count its nodes.
 
-    TREE_FILE defaults to the shared tree (see --tree-version). A broken file stops with one
-    line naming the file and line of the first problem.
+    TREE_FILE defaults to the project's tree (see --tree-version for a shared one). A broken
+    file stops with one line naming the file and line of the first problem.
     """
-    path = tree_file if tree_file is not None else default_tree_path(tree_version)
-    facts = summarize_tree(load_tree(path))
+    facts = summarize_tree(_open_tree(tree_file, tree_version, project))
     if as_json:
         echo_json(facts)
         return
@@ -161,14 +170,18 @@ def render_tree(
 )
 @_tree_version_option
 @_tree_file_option
-def show_command(node: str | None, depth: int, tree_version: int, tree_file: str | None) -> None:
+@project_option
+def show_command(
+    node: str | None, depth: int, tree_version: int | None, tree_file: str | None,
+    project: str | None,
+) -> None:
     """Show the tree as an indented outline.
 
     NODE is a node id (e.g. 1510) or a path of names such as
     "Groceries and drinks > Coffee".
     Without NODE the departments are shown; use --depth to go deeper.
     """
-    tree = _open_tree(tree_file, tree_version)
+    tree = _open_tree(tree_file, tree_version, project)
     root = tree.resolve(node).id if node is not None else None
     console.print(render_tree(tree, root, depth))
 
@@ -199,14 +212,16 @@ def show_command(node: str | None, depth: int, tree_version: int, tree_file: str
 )
 @_tree_version_option
 @_tree_file_option
+@project_option
 @json_option
 def search_command(
     text: str,
     limit: int,
     under: str | None,
     min_score: float,
-    tree_version: int,
+    tree_version: int | None,
     tree_file: str | None,
+    project: str | None,
     as_json: bool,
 ) -> None:
     """Find nodes whose name or keywords resemble TEXT, in any of the tree's languages.
@@ -214,7 +229,7 @@ def search_command(
     Accents and letter case do not matter; small typing mistakes are forgiven. The score runs
     from 0 to 100.
     """
-    tree = _open_tree(tree_file, tree_version)
+    tree = _open_tree(tree_file, tree_version, project)
     under_id = tree.resolve(under).id if under is not None else None
     matches = tree.search_matches(text, limit=limit, under=under_id, min_score=min_score)
     rows = [
