@@ -24,7 +24,7 @@ from __future__ import annotations
 
 import re
 from collections import Counter
-from collections.abc import Iterable, Iterator
+from collections.abc import Container, Iterable, Iterator
 from dataclasses import dataclass, field
 from typing import TYPE_CHECKING
 
@@ -183,6 +183,8 @@ class FeedBrandLearner:
         retailer_departments: see :data:`RETAILER_DEPARTMENTS`.
         retailer_as_no_brand: the feed's setting: read the retailer's own name as no brand.
         common_words: more ordinary words that are never a brand on their own.
+        not_brands: spellings a person said name no brand (rejected in the project's brand
+            registry): never learned, from the brand field or from titles.
 
     Example:
         >>> products = [Product(str(i), f"Dorvanta {w} scarf") for i, w in
@@ -204,6 +206,7 @@ class FeedBrandLearner:
         retailer_departments: int = RETAILER_DEPARTMENTS,
         retailer_as_no_brand: bool = False,
         common_words: Iterable[str] = (),
+        not_brands: Iterable[str] = (),
     ) -> None:
         self.dictionary = dictionary
         self.tree = tree
@@ -214,6 +217,7 @@ class FeedBrandLearner:
         self.retailer_departments = retailer_departments
         self.retailer_as_no_brand = retailer_as_no_brand
         self.common_words = common_words
+        self.not_brands = not_brands
 
     # -- fitting ---------------------------------------------------------------------------
 
@@ -242,6 +246,7 @@ class FeedBrandLearner:
             | (self.dictionary.common_words if self.dictionary is not None else set())
             | _tree_words(self.tree)
         )
+        not_keys = frozenset(brand_key(s) for s in self.not_brands) - {""}
         node_iter: Iterator[str | None] | None = iter(nodes) if nodes is not None else None
         fields: dict[str, _Seen] = {}
         field_departments: dict[str, set[str]] = {}
@@ -259,7 +264,12 @@ class FeedBrandLearner:
             department = self._department(product, node)
             total += 1
             value = " ".join(product.brand.split())
-            if value and normalize_brand(value) not in NO_BRAND_VALUES and brand_key(value):
+            if (
+                value
+                and normalize_brand(value) not in NO_BRAND_VALUES
+                and brand_key(value)
+                and brand_key(value) not in not_keys
+            ):
                 branded += 1
                 key = brand_key(value)
                 fields.setdefault(key, _Seen()).add(value, department)
@@ -313,7 +323,7 @@ class FeedBrandLearner:
                                  dictionary_typos=not own)
         learned: dict[str, tuple[str, int]] = {}  # key → (pattern, products)
         for (pattern, key), seen in patterns.items():
-            if key == retailer_key:
+            if key == retailer_key or key in not_keys:
                 continue
             if key in fields or (
                 self._recurs(seen)
@@ -322,7 +332,7 @@ class FeedBrandLearner:
                 if learned.get(key, ("", 0))[1] < seen.count:
                     learned[key] = (pattern, seen.count)
         for key, seen in leads.items():
-            if key == retailer_key or not self._lead_is_name(
+            if key == retailer_key or key in not_keys or not self._lead_is_name(
                 key, seen, leads, fields, children.get(key, set())
             ):
                 continue
@@ -660,3 +670,33 @@ def _rest_word(title: str, candidate: TitleCandidate) -> str:
 def brand_is_candidate(evidence: str) -> bool:
     """Whether a brand's evidence says it is a candidate no person has confirmed yet."""
     return evidence.endswith(CANDIDATE_MARK)
+
+
+def brand_status(brand: str, evidence: str, confirmed: Container[str] = ()) -> str:
+    """Return how far an extracted brand is trusted (one of :data:`catmap.records.BRAND_STATUSES`).
+
+    Args:
+        brand: the brand found ("" for none).
+        evidence: the extraction's evidence for it.
+        confirmed: canonical names of the brands a person confirmed in the project's brand
+            registry (beyond the brand dictionary).
+
+    Returns:
+        "none" without a brand; "candidate" for a brand learned from the feed and not
+        confirmed yet, or a brand field value nothing knows; "confirmed" for a brand a person
+        confirmed; else "dictionary".
+
+    Example:
+        >>> brand_status("Dorvanta", "title lead 'dorvanta' [candidate]")
+        'candidate'
+    """
+    if not brand:
+        return "none"
+    if brand_is_candidate(evidence):
+        return "candidate"
+    if brand in confirmed:
+        return "confirmed"
+    # An unknown brand field value passed through as it is (no feed registry resolved it).
+    if evidence.startswith("field not in dictionary") and "→" not in evidence:
+        return "candidate"
+    return "dictionary"
