@@ -526,7 +526,7 @@ class ReviewApp(App[None]):
         row("brand", brand, pending.brand, sources["brand"])
         if self.session.candidate_brand():
             text.append(
-                fit("       new brand: c confirms it, r: not a brand", width) + "\n",
+                fit("       c confirm · r not a brand", width) + "\n",
                 style="yellow",
             )
         row("who", attributes.who, pending.who, sources["who"])
