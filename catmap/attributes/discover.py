@@ -120,6 +120,29 @@ _SHOP_WORDS = _COMMON_LEAD_WORDS | frozenset(
         "gelimiteerde"
     ).split()
 )
+# Labels a feed puts before a value ("Style: cordless - drill", "Größe: 41 / Farbe: rot",
+# "P/N H65194 ..."): the names of product attributes and of part numbers, in the seven
+# languages. In a brand's place they recur like one, across every kind of product, so they are
+# ruled out by name; common practice, no source.
+_LABEL_WORDS = frozenset(
+    fold(w)
+    for w in (
+        "size colour color style material pattern type capacity length width height weight "
+        "volume finish shape version variant edition format "
+        "taille couleur coloris matiere motif forme longueur largeur hauteur poids contenance "
+        "groesse grosse farbe stil muster form laenge lange breite hoehe hohe gewicht inhalt "
+        "ausfuehrung ausfuhrung "
+        "talla color estilo tipo forma longitud ancho alto peso capacidad acabado "
+        "taglia colore stile materiale tipo forma lunghezza larghezza altezza peso capacita "
+        "finitura "
+        "maat kleur stijl materiaal vorm lengte breedte hoogte gewicht inhoud uitvoering "
+        "tamanho cor estilo tipo formato comprimento largura altura peso capacidade acabamento"
+    ).split()
+)
+# Part-number labels, as folded phrases ("P/N" folds to "p n").
+_CODE_LABELS = frozenset(
+    fold(w) for w in ("p/n", "s/n", "pn", "part no", "part nr", "art nr", "art-nr", "ref no")
+)
 _ATTRIBUTE_WORDS = LEXICON_WORDS | frozenset(
     fold(word) for by_lang in COLOUR_WORDS.values() for words in by_lang.values() for word in words
 )
@@ -573,7 +596,10 @@ class FeedBrandLearner:
         if opening in self._lead_cache:
             return self._lead_cache[opening]
         found: BrandMatch | None = None
+        common = self.common_
         for n in range(len(words), 0, -1):
+            if all(word in common for word in words[:n]):
+                continue  # ordinary words ("linen ...") are no misspelt brand
             key = self._typo_of("".join(words[:n]))
             if key:
                 found = self._match(key, self._pattern[key], folded, " ".join(words[:n]))
@@ -619,6 +645,10 @@ def _candidate(
     spelling = clean_spelling(text.strip(" \t\"'“”«»"), keep_partnership=True)
     words = fold(spelling).split()
     if not words or len(words) > _MAX_WORDS or words[0] in _SHOP_WORDS or words[0][0].isdigit():
+        return None
+    if words[0] in _LABEL_WORDS and (len(words) == 1 or pattern == "colon" or ":" in spelling):
+        return None  # "Style: ..." labels a value; "Style Quay ..." may still be a name
+    if " ".join(words) in _CODE_LABELS:
         return None
     if all(word in common for word in words) or " ".join(words) in common:
         return None
