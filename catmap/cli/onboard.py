@@ -308,8 +308,9 @@ def status_command(project: str | None, feed: str | None, as_json: bool) -> None
     for f in feeds:
         candidates = f["brand_status"].get("candidate", 0)
         if candidates:
+            carry = "product carries" if candidates == 1 else "products carry"
             _say(
-                f"{escape(f['feed'])}: {candidates:,} products carry a candidate brand "
+                f"{escape(f['feed'])}: {candidates:,} {carry} a candidate brand "
                 "(confirm it in `catmap review` or with `catmap brands confirm NAME`)"
             )
     for f in feeds:
