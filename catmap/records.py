@@ -18,6 +18,11 @@ AVAILABILITY_VALUES = ("available", "limited", "sold_out", "coming_soon", "unkno
 WHO_VALUES = ("female", "male", "unisex", "not_applicable")
 AGE_VALUES = ("adult", "kids", "baby", "not_applicable")
 
+# How far a product's brand is trusted (catmap's own values): named by the brand dictionary,
+# confirmed by a person in the project's brand registry, a candidate the feed showed that no
+# person has confirmed yet, set on this product by a reviewer, or no brand.
+BRAND_STATUSES = ("dictionary", "confirmed", "candidate", "corrected", "none")
+
 # How a node was chosen for a product.
 MAPPING_METHODS = ("rule", "model", "backoff", "cold_start", "review")
 
@@ -118,11 +123,15 @@ class Mapping:
 
 @dataclass(frozen=True, slots=True)
 class Attributes:
-    """Product attributes catmap extracts, each with its confidence and evidence."""
+    """Product attributes catmap extracts, each with its confidence and evidence.
+
+    ``brand_status`` is one of :data:`BRAND_STATUSES`: how far the brand is trusted.
+    """
 
     brand: str = ""
     brand_confidence: float = 0.0
     brand_evidence: str = ""
+    brand_status: str = "none"
     who: str = "not_applicable"
     age: str = "not_applicable"
     audience_evidence: str = ""

@@ -7,10 +7,12 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from catmap.attributes import (
+    CANDIDATE_MARK,
     AttributeExtractor,
     BrandDictionary,
     FeedBrandLearner,
     brand_is_candidate,
+    brand_status,
 )
 from catmap.errors import ModelNotTrained
 from catmap.records import Product
@@ -200,3 +202,54 @@ def test_the_learned_registry_keeps_departments_of_the_brand_field() -> None:
     ]
     brand = FeedBrandLearner().fit(products).registry_.resolve("quillar")
     assert brand is not None and brand.departments == {"Home": 2, "Garden": 1}
+
+
+def test_attribute_labels_and_part_numbers_are_no_brands() -> None:
+    # "Label: value - product" and "P/N code product" recur in a brand's place across every
+    # kind of product; they label a value (common practice, no source).
+    kinds = ["drill", "kettle", "lamp", "scarf", "mug", "towel"]
+    products = [
+        *(Product(f"s{i}", f"Style: cordless - {k}") for i, k in enumerate(kinds)),
+        *(Product(f"g{i}", f"Größe: 41 / Farbe: rot - {k}") for i, k in enumerate(kinds)),
+        *(Product(f"p{i}", f"P/N H6519{i} {k}") for i, k in enumerate(kinds)),
+        *(Product(f"d{i}", f"Dorvanta {k}") for i, k in enumerate(kinds)),
+    ]
+    learner = FeedBrandLearner(min_products=3).fit(products)
+    assert set(learner.learned_.values()) == {"Dorvanta"}
+    assert learner.find_in_title("Style: corded - drill") is None
+    assert learner.find_in_title("P/N X1 kettle") is None
+
+
+def test_an_ordinary_opening_word_is_no_typo_of_a_learned_brand() -> None:
+    products = [Product(str(i), f"Linden {k}") for i, k in enumerate(["mug", "lamp", "scarf"])]
+    learner = FeedBrandLearner(min_products=3).fit(products)
+    assert learner.find_in_title("Lindan teapot") is not None  # one letter off: a typo
+    assert learner.find_in_title("linen tea towel") is None  # "linen" is a plain word
+
+
+def test_brand_status_reads_the_evidence() -> None:
+    assert brand_status("", "no brand found") == "none"
+    assert brand_status("Dorvanta", f"title lead 'dorvanta' {CANDIDATE_MARK}") == "candidate"
+    assert brand_status("Acme", "field not in dictionary 'Acme'") == "candidate"
+    assert brand_status("Benchlow", "field not in dictionary 'bench low' → 'Benchlow'") == (
+        "dictionary"
+    )
+    assert brand_status("Vellomar", "title exact 'vellomar'") == "dictionary"
+    assert brand_status("Dorvanta", "title exact 'dorvanta'", {"Dorvanta"}) == "confirmed"
+
+
+def test_a_spelling_rejected_as_no_brand_is_never_learned_or_read() -> None:
+    products = [
+        *(Product(f"a{i}", f"Assorted {k}", brand="Assorted") for i, k in
+          enumerate(["mug", "lamp", "scarf", "towel"])),
+        *(Product(f"d{i}", f"Dorvanta {k}") for i, k in enumerate(["mug", "lamp", "scarf"])),
+    ]
+    learner = FeedBrandLearner(min_products=3, not_brands=["Assorted"]).fit(products)
+    assert learner.registry_.resolve("Assorted") is None
+    extractor = AttributeExtractor(
+        brands=BrandDictionary([]), tree=None, feed_brands=learner, not_brands=["ASSORTED"]
+    )
+    got = extractor.extract(products[0], None)
+    assert (got.brand, got.brand_status) == ("", "none")
+    got = extractor.extract(products[5], None)
+    assert (got.brand, got.brand_status) == ("Dorvanta", "candidate")

@@ -15,6 +15,7 @@ from test_onboard import TEST_MAX_ERROR, SmallWorld, new_project, small_world
 from catmap.cli import main
 from catmap.errors import EXIT_INPUT
 from catmap.project import profile_path
+from catmap.review import reject_brand
 from catmap.store import Store, store_path
 
 
@@ -85,6 +86,11 @@ def _brands(project: Path) -> dict[str, dict[str, Any]]:
 def _evidence(project: Path, feed: str) -> dict[str, str]:
     with Store.open(store_path(project)) as store:
         return {p.product_id: m.attributes.brand_evidence for p, m in store.mappings(feed)}
+
+
+def _status_of(project: Path, feed: str) -> dict[str, str]:
+    with Store.open(store_path(project)) as store:
+        return {p.product_id: m.attributes.brand_status for p, m in store.mappings(feed)}
 
 
 def _brand_of(project: Path, feed: str) -> dict[str, str]:
@@ -164,11 +170,18 @@ def test_confirm_changes_the_status_and_later_runs_trust_the_brand(
     feed = _feed(tmp_path, "kelvora", KELVORA)
     _json(_onboard(world, project, feed, "--json"))
     assert _evidence(project, "kelvora")["B4"].endswith("[candidate]")
+    assert _status_of(project, "kelvora")["B4"] == "candidate"
 
     facts = _json(_run("brands", "confirm", "bench low", "--project", str(project), "--json"))
     assert facts["name"] == "Benchlow"
     assert (facts["was"], facts["status"]) == ("candidate", "confirmed")
     assert _brands(project)["Benchlow"]["status"] == "confirmed"
+    # The products that carry it are trusted at once, before any later run.
+    benchlow = [pid for pid, brand in _brand_of(project, "kelvora").items() if brand == "Benchlow"]
+    assert len(benchlow) == facts["products_confirmed"] >= 6
+    statuses = _status_of(project, "kelvora")
+    assert {statuses[pid] for pid in benchlow} == {"confirmed"}
+    assert not _evidence(project, "kelvora")["B4"].endswith("[candidate]")
     again = _run("brands", "confirm", "Benchlow", "--project", str(project))
     assert "already confirmed" in again.stdout
 
@@ -177,6 +190,32 @@ def test_confirm_changes_the_status_and_later_runs_trust_the_brand(
     evidence = _evidence(project, "kelvora")
     assert not evidence["B4"].endswith("[candidate]")
     assert _brand_of(project, "kelvora")["B2"] == "Benchlow"
+    assert _status_of(project, "kelvora")["B4"] == "confirmed"
+    status = _json(_run("status", "--project", str(project), "--json"))["feeds"][0]
+    kelvora = [pid for pid, brand in _brand_of(project, "kelvora").items() if brand == "Kelvora"]
+    # Only the shop's own name is left a candidate.
+    assert status["brand_status"] == {"confirmed": len(benchlow), "candidate": len(kelvora)}
+
+
+def test_a_rejected_brand_stays_rejected_and_is_never_learned_again(
+    world: SmallWorld, tmp_path: Path
+) -> None:
+    project = new_project(world, tmp_path / "p")
+    kelvora = _feed(tmp_path, "kelvora", KELVORA)
+    _json(_onboard(world, project, kelvora, "--json"))
+    with Store.open(store_path(project)) as store:
+        verdict = reject_brand(store, "Benchlow", actor="ana")
+    assert verdict.products >= 6
+    assert all(b != "Benchlow" for b in _brand_of(project, "kelvora").values())
+
+    # Onboarding again, and another feed with the brand: it stays rejected, no product gets it.
+    _json(_onboard(world, project, kelvora, "--json"))
+    _json(_onboard(world, project, _feed(tmp_path, "marlune", MARLUNE), "--json"))
+    assert _brands(project)["Benchlow"]["status"] == "rejected"
+    for feed in ("kelvora", "marlune"):
+        assert all(b not in ("Benchlow", "Bench Low") for b in _brand_of(project, feed).values())
+    shown = " ".join(_run("brands", "list", "--project", str(project)).stdout.split())
+    assert "1 rejected)" in shown
 
 
 def test_confirming_an_unknown_brand_is_an_input_error(world: SmallWorld, tmp_path: Path) -> None:

@@ -894,3 +894,110 @@ async def test_a_brand_typed_after_clearing_the_box_is_kept(
         await pilot.pause()
         assert store.decisions()[0].brand_to == "Zeltmo"
         await pilot.press("q")
+
+
+# -- a candidate brand confirmed or rejected from the screen ----------------------------------
+
+
+def _brand_statuses(store: Store) -> dict[str, tuple[str, str]]:
+    return {
+        p.product_id: (m.attributes.brand, m.attributes.brand_status)
+        for p, m in store.mappings(SAMPLE_FEED)
+    }
+
+
+@sync
+async def test_c_confirms_the_candidate_brand_for_every_product_carrying_it(
+    store: Store, tree: CategoryTree
+) -> None:
+    app = ReviewApp(_session(store, tree))
+    async with app.run_test(size=(80, 24)) as pilot:
+        await pilot.pause()
+        attributes = _screen_text(app, "attributes")
+        assert "Ostravel (70%, candidate)" in attributes
+        assert "c confirm · r not a brand" in attributes
+        await pilot.press("c")
+        await pilot.pause()
+        assert "brand Ostravel confirmed: 6 products now trusted" in _screen_text(app, "message")
+        # A verdict on the brand, not a decision on the item: it stays on screen, undecided.
+        assert app.session.current is not None
+        assert app.session.current.product.product_id == "BT-001"
+        assert store.decisions() == []
+        assert "Ostravel (70%, confirmed)" in _screen_text(app, "attributes")
+        assert "c confirm" not in _screen_text(app, "attributes")
+        statuses = _brand_statuses(store)
+        assert {statuses[f"BT-{n:03d}"] for n in range(1, 7)} == {("Ostravel", "confirmed")}
+        assert statuses["TS-001"] == ("Quillmere", "dictionary")
+        # The candidate mark leaves the evidence; the registry says confirmed.
+        evidence = store.mapping(SAMPLE_FEED, "BT-002").attributes.brand_evidence
+        assert evidence == "title lead 'ostravel'"
+        (record,) = [r for r in store.brand_records() if r["name"] == "Ostravel"]
+        assert record["status"] == "confirmed"
+        (entry,) = [e for e in store.audit_log() if e.action == "brand_confirmed"]
+        assert (entry.actor, entry.item_id) == ("ana", app.session.current.item.id)
+        assert entry.detail == {
+            "brand": "Ostravel", "asked": "Ostravel", "was": "candidate", "products": 6,
+        }  # fmt: skip
+        # Again: the brand is no longer a candidate, nothing changes.
+        await pilot.press("c")
+        await pilot.pause()
+        assert "is confirmed, not a candidate" in _screen_text(app, "message")
+        await pilot.press("enter")
+        await pilot.pause()
+        (decision,) = store.decisions()
+        assert decision.product_id == "BT-001"
+        await pilot.press("q")
+
+
+@sync
+async def test_r_rejects_the_candidate_brand_and_takes_it_off_its_products(
+    store: Store, tree: CategoryTree
+) -> None:
+    app = ReviewApp(_session(store, tree))
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("r")
+        await pilot.pause()
+        assert "'Ostravel' is not a brand: taken off 6 products" in _screen_text(app, "message")
+        statuses = _brand_statuses(store)
+        assert {statuses[f"BT-{n:03d}"] for n in range(1, 7)} == {("", "none")}
+        stored = store.mapping(SAMPLE_FEED, "BT-003").attributes
+        assert stored.brand_evidence == "'Ostravel' rejected as no brand by ana"
+        assert stored.brand_confidence == 0
+        (record,) = [r for r in store.brand_records() if r["name"] == "Ostravel"]
+        assert record["status"] == "rejected"
+        assert [e.action for e in store.audit_log()].count("brand_rejected") == 1
+        # The product's own brand field is what the feed said; it is still shown.
+        assert "brand Ostravel" in _screen_text(app, "product")
+        await pilot.press("c")  # nothing left to confirm on this product
+        await pilot.pause()
+        assert "no brand to confirm or reject" in _screen_text(app, "message")
+        await pilot.press("q")
+
+
+def test_a_brand_a_reviewer_set_is_left_alone_by_the_verdict(memory_store: Store,
+                                                               tree: CategoryTree) -> None:
+    session = _session(memory_store, tree)
+    session.next()
+    session.set_brand("Ostravel Works")
+    session.accept()  # BT-001 now carries the reviewer's brand
+    assert session.candidate_brand() == "Ostravel"  # BT-002 on screen
+    verdict = session.confirm_brand()
+    assert (verdict.name, verdict.was, verdict.products) == ("Ostravel", "candidate", 5)
+    statuses = _brand_statuses(memory_store)
+    assert statuses["BT-001"] == ("Ostravel Works", "corrected")
+    assert statuses["BT-002"] == ("Ostravel", "confirmed")
+
+
+def test_only_a_candidate_brand_takes_a_verdict(memory_store: Store, tree: CategoryTree) -> None:
+    session = _session(memory_store, tree)
+    session.next()
+    session.skip()  # skipped to the back: the six boots, then the wine
+    for _ in range(5):
+        session.skip()
+    assert session.current is not None
+    assert session.current.product.product_id == "WN-001"
+    assert session.candidate_brand() == ""
+    with pytest.raises(ReviewError, match="'Valle Serena' is dictionary, not a candidate"):
+        session.reject_brand()
+    assert [r["status"] for r in memory_store.brand_records() if r["name"] == "Valle Serena"] \
+        == ["confirmed"]

@@ -14,7 +14,15 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from catmap.errors import StoreError
-from catmap.records import AGE_VALUES, WHO_VALUES, Alternative, Attributes, Mapping, Product
+from catmap.records import (
+    AGE_VALUES,
+    BRAND_STATUSES,
+    WHO_VALUES,
+    Alternative,
+    Attributes,
+    Mapping,
+    Product,
+)
 from catmap.store import (
     MIGRATIONS,
     SCHEMA_VERSION,
@@ -176,6 +184,8 @@ def test_migration_to_version_8_merges_a_product_s_waiting_items(tmp_path: Path)
     conn.execute("PRAGMA user_version = 7")
     conn.execute("DROP TABLE feed_brands")
     conn.execute("DROP TABLE brand_registry")
+    conn.execute("DROP INDEX mappings_brand_status")
+    conn.execute("ALTER TABLE mappings DROP COLUMN brand_status")
     conn.execute("DROP INDEX IF EXISTS review_items_one_waiting")
     conn.execute("ALTER TABLE review_items DROP COLUMN reasons")
     now = "2026-01-01T00:00:00.000000Z"
@@ -210,6 +220,65 @@ def test_migration_to_version_8_merges_a_product_s_waiting_items(tmp_path: Path)
             f"merged into review item {by_product['p0001'].id}",
             f"merged into review item {by_product['p0002'].id}",
         }
+
+
+def test_migration_to_version_10_reads_each_product_s_brand_status(tmp_path: Path) -> None:
+    path = tmp_path / "store.sqlite"
+    conn = sqlite3.connect(path, isolation_level=None)
+    assert migrate(conn, target=9) == 9
+    now = "2026-01-01T00:00:00.000000Z"
+    conn.execute(
+        "INSERT INTO feeds (name, source_path, profile_path, created_at) "
+        "VALUES ('shop', 'shop.csv', '', ?)",
+        (now,),
+    )
+    # (product, brand, evidence, a reviewer set the brand) → the status version 10 reads.
+    cases = {
+        "p1": ("", "no brand found", False, "none"),
+        "p2": ("Dorvanta", "title lead 'dorvanta' [candidate]", False, "candidate"),
+        "p3": ("Acme", "field not in dictionary 'Acme'", False, "candidate"),
+        "p4": ("Benchlow", "field not in dictionary 'bench low' → 'Benchlow'", False,
+               "dictionary"),
+        "p5": ("Vellomar", "field exact", False, "dictionary"),
+        "p6": ("Ostravel Works", "title lead 'ostravel' [candidate]", True, "corrected"),
+    }  # fmt: skip
+    for product_id, (brand, evidence, corrected, _want) in cases.items():
+        conn.execute(
+            "INSERT INTO products (feed_id, product_id, data, title, brand, retailer_path) "
+            "VALUES (1, ?, ?, 'Lamp', '', '')",
+            (product_id, product_to_json(Product(product_id=product_id, title="Lamp"))),
+        )
+        conn.execute(
+            "INSERT INTO mappings (feed_id, product_id, node_id, confidence, method, status, "
+            "brand, brand_evidence) VALUES (1, ?, '4100', 0.4, 'model', 'reviewed', ?, ?)",
+            (product_id, brand, evidence),
+        )
+        if corrected:
+            item = conn.execute(
+                "INSERT INTO review_items (feed_id, product_id, reason, reasons, state, "
+                "created_at) VALUES (1, ?, 'low_confidence', 'low_confidence', 'done', ?)",
+                (product_id, now),
+            ).lastrowid
+            conn.execute(
+                "INSERT INTO decisions (item_id, reviewer, at, action, brand_from, brand_to) "
+                "VALUES (?, 'ana', ?, 'fix_attributes', 'Ostravel', ?)",
+                (item, now, brand),
+            )
+    conn.execute(
+        "INSERT INTO brand_registry (position, name, status, data, updated_at) "
+        "VALUES (0, 'Dorvanta', 'candidate', '{\"name\": \"Dorvanta\", "
+        "\"status\": \"candidate\"}', ?)",
+        (now,),
+    )
+    conn.close()
+    with Store.open(path) as store:
+        assert store.schema_version == SCHEMA_VERSION
+        got = {p.product_id: m.attributes.brand_status for p, m in store.mappings("shop")}
+        assert got == {pid: case[3] for pid, case in cases.items()}
+        assert store.brand_records() == [{"name": "Dorvanta", "status": "candidate"}]
+        # The rebuilt registry table takes the new status.
+        store.save_brand_records([{"name": "Dorvanta", "status": "rejected"}])
+        assert store.brand_records()[0]["status"] == "rejected"
 
 
 def test_migrating_twice_changes_nothing(tmp_path: Path) -> None:
@@ -259,6 +328,7 @@ _attributes = st.builds(
     brand=_text,
     brand_confidence=_unit,
     brand_evidence=_text,
+    brand_status=st.sampled_from(BRAND_STATUSES),
     who=st.sampled_from(WHO_VALUES),
     age=st.sampled_from(AGE_VALUES),
     audience_evidence=_text,

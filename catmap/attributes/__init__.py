@@ -62,6 +62,7 @@ from catmap.attributes.discover import (
     RetailerFinding,
     TitleCandidate,
     brand_is_candidate,
+    brand_status,
 )
 from catmap.attributes.registry import (
     BrandRegistry,
@@ -92,6 +93,7 @@ __all__ = [
     "RetailerFinding",
     "TitleCandidate",
     "brand_is_candidate",
+    "brand_status",
     "brand_key",
     "clean_spelling",
     "FAMILIES",
@@ -156,6 +158,10 @@ class AttributeExtractor:
             knows are then found too (marked as candidates until confirmed), field spellings
             resolve to the feed's canonical brand, and the retailer's own name found in the
             feed counts as empty when the learner's setting says so.
+        confirmed_brands: names of the brands a person confirmed in the project's brand
+            registry (they are in ``brands`` too): their status is "confirmed".
+        not_brands: spellings a person said name no brand: a brand field holding one counts
+            as empty.
 
     Example:
         >>> extractor = AttributeExtractor(brands=BrandDictionary([]), tree=None)
@@ -170,11 +176,16 @@ class AttributeExtractor:
         tree: CategoryTree | None,
         retailer_names: Iterable[str] = (),
         feed_brands: FeedBrandLearner | None = None,
+        confirmed_brands: Iterable[str] = (),
+        not_brands: Iterable[str] = (),
     ) -> None:
         self.brands = brands
         self.tree = tree
         self.retailer_names = tuple(retailer_names)
         self.feed_brands = feed_brands
+        self.confirmed_brands = frozenset(confirmed_brands)
+        self.not_brands = tuple(not_brands)
+        self._not_brand_keys = frozenset(brand_key(s) for s in self.not_brands) - {""}
         self._finder = BrandFinder(
             brands, retailer_names=self.retailer_names, fuzzy_skip=_ATTRIBUTE_WORDS
         )
@@ -232,9 +243,12 @@ class AttributeExtractor:
 
         # brand
         learner = self.feed_brands
-        match = self._finder.from_field(product.brand) if product.brand else None
+        field_value = product.brand
+        if field_value and self._not_brand_keys and brand_key(field_value) in self._not_brand_keys:
+            field_value = ""
+        match = self._finder.from_field(field_value) if field_value else None
         if match is not None and learner is not None:
-            match = self._from_feed_field(product.brand, match, learner)
+            match = self._from_feed_field(field_value, match, learner)
         if match is not None:
             spans = tuple(
                 (s, e)
@@ -322,6 +336,7 @@ class AttributeExtractor:
             brand=match.brand,
             brand_confidence=match.confidence,
             brand_evidence=match.evidence,
+            brand_status=brand_status(match.brand, match.evidence, self.confirmed_brands),
             who=audience.who,
             age=audience.age,
             audience_evidence=audience.evidence,

@@ -24,7 +24,7 @@ from __future__ import annotations
 
 import re
 from collections import Counter
-from collections.abc import Iterable, Iterator
+from collections.abc import Container, Iterable, Iterator
 from dataclasses import dataclass, field
 from typing import TYPE_CHECKING
 
@@ -120,6 +120,29 @@ _SHOP_WORDS = _COMMON_LEAD_WORDS | frozenset(
         "gelimiteerde"
     ).split()
 )
+# Labels a feed puts before a value ("Style: cordless - drill", "Größe: 41 / Farbe: rot",
+# "P/N H65194 ..."): the names of product attributes and of part numbers, in the seven
+# languages. In a brand's place they recur like one, across every kind of product, so they are
+# ruled out by name; common practice, no source.
+_LABEL_WORDS = frozenset(
+    fold(w)
+    for w in (
+        "size colour color style material pattern type capacity length width height weight "
+        "volume finish shape version variant edition format "
+        "taille couleur coloris matiere motif forme longueur largeur hauteur poids contenance "
+        "groesse grosse farbe stil muster form laenge lange breite hoehe hohe gewicht inhalt "
+        "ausfuehrung ausfuhrung "
+        "talla color estilo tipo forma longitud ancho alto peso capacidad acabado "
+        "taglia colore stile materiale tipo forma lunghezza larghezza altezza peso capacita "
+        "finitura "
+        "maat kleur stijl materiaal vorm lengte breedte hoogte gewicht inhoud uitvoering "
+        "tamanho cor estilo tipo formato comprimento largura altura peso capacidade acabamento"
+    ).split()
+)
+# Part-number labels, as folded phrases ("P/N" folds to "p n").
+_CODE_LABELS = frozenset(
+    fold(w) for w in ("p/n", "s/n", "pn", "part no", "part nr", "art nr", "art-nr", "ref no")
+)
 _ATTRIBUTE_WORDS = LEXICON_WORDS | frozenset(
     fold(word) for by_lang in COLOUR_WORDS.values() for words in by_lang.values() for word in words
 )
@@ -183,6 +206,8 @@ class FeedBrandLearner:
         retailer_departments: see :data:`RETAILER_DEPARTMENTS`.
         retailer_as_no_brand: the feed's setting: read the retailer's own name as no brand.
         common_words: more ordinary words that are never a brand on their own.
+        not_brands: spellings a person said name no brand (rejected in the project's brand
+            registry): never learned, from the brand field or from titles.
 
     Example:
         >>> products = [Product(str(i), f"Dorvanta {w} scarf") for i, w in
@@ -204,6 +229,7 @@ class FeedBrandLearner:
         retailer_departments: int = RETAILER_DEPARTMENTS,
         retailer_as_no_brand: bool = False,
         common_words: Iterable[str] = (),
+        not_brands: Iterable[str] = (),
     ) -> None:
         self.dictionary = dictionary
         self.tree = tree
@@ -214,6 +240,7 @@ class FeedBrandLearner:
         self.retailer_departments = retailer_departments
         self.retailer_as_no_brand = retailer_as_no_brand
         self.common_words = common_words
+        self.not_brands = not_brands
 
     # -- fitting ---------------------------------------------------------------------------
 
@@ -242,6 +269,7 @@ class FeedBrandLearner:
             | (self.dictionary.common_words if self.dictionary is not None else set())
             | _tree_words(self.tree)
         )
+        not_keys = frozenset(brand_key(s) for s in self.not_brands) - {""}
         node_iter: Iterator[str | None] | None = iter(nodes) if nodes is not None else None
         fields: dict[str, _Seen] = {}
         field_departments: dict[str, set[str]] = {}
@@ -259,7 +287,12 @@ class FeedBrandLearner:
             department = self._department(product, node)
             total += 1
             value = " ".join(product.brand.split())
-            if value and normalize_brand(value) not in NO_BRAND_VALUES and brand_key(value):
+            if (
+                value
+                and normalize_brand(value) not in NO_BRAND_VALUES
+                and brand_key(value)
+                and brand_key(value) not in not_keys
+            ):
                 branded += 1
                 key = brand_key(value)
                 fields.setdefault(key, _Seen()).add(value, department)
@@ -313,7 +346,7 @@ class FeedBrandLearner:
                                  dictionary_typos=not own)
         learned: dict[str, tuple[str, int]] = {}  # key → (pattern, products)
         for (pattern, key), seen in patterns.items():
-            if key == retailer_key:
+            if key == retailer_key or key in not_keys:
                 continue
             if key in fields or (
                 self._recurs(seen)
@@ -322,7 +355,7 @@ class FeedBrandLearner:
                 if learned.get(key, ("", 0))[1] < seen.count:
                     learned[key] = (pattern, seen.count)
         for key, seen in leads.items():
-            if key == retailer_key or not self._lead_is_name(
+            if key == retailer_key or key in not_keys or not self._lead_is_name(
                 key, seen, leads, fields, children.get(key, set())
             ):
                 continue
@@ -563,7 +596,10 @@ class FeedBrandLearner:
         if opening in self._lead_cache:
             return self._lead_cache[opening]
         found: BrandMatch | None = None
+        common = self.common_
         for n in range(len(words), 0, -1):
+            if all(word in common for word in words[:n]):
+                continue  # ordinary words ("linen ...") are no misspelt brand
             key = self._typo_of("".join(words[:n]))
             if key:
                 found = self._match(key, self._pattern[key], folded, " ".join(words[:n]))
@@ -609,6 +645,10 @@ def _candidate(
     spelling = clean_spelling(text.strip(" \t\"'“”«»"), keep_partnership=True)
     words = fold(spelling).split()
     if not words or len(words) > _MAX_WORDS or words[0] in _SHOP_WORDS or words[0][0].isdigit():
+        return None
+    if words[0] in _LABEL_WORDS and (len(words) == 1 or pattern == "colon" or ":" in spelling):
+        return None  # "Style: ..." labels a value; "Style Quay ..." may still be a name
+    if " ".join(words) in _CODE_LABELS:
         return None
     if all(word in common for word in words) or " ".join(words) in common:
         return None
@@ -660,3 +700,33 @@ def _rest_word(title: str, candidate: TitleCandidate) -> str:
 def brand_is_candidate(evidence: str) -> bool:
     """Whether a brand's evidence says it is a candidate no person has confirmed yet."""
     return evidence.endswith(CANDIDATE_MARK)
+
+
+def brand_status(brand: str, evidence: str, confirmed: Container[str] = ()) -> str:
+    """Return how far an extracted brand is trusted (one of :data:`catmap.records.BRAND_STATUSES`).
+
+    Args:
+        brand: the brand found ("" for none).
+        evidence: the extraction's evidence for it.
+        confirmed: canonical names of the brands a person confirmed in the project's brand
+            registry (beyond the brand dictionary).
+
+    Returns:
+        "none" without a brand; "candidate" for a brand learned from the feed and not
+        confirmed yet, or a brand field value nothing knows; "confirmed" for a brand a person
+        confirmed; else "dictionary".
+
+    Example:
+        >>> brand_status("Dorvanta", "title lead 'dorvanta' [candidate]")
+        'candidate'
+    """
+    if not brand:
+        return "none"
+    if brand_is_candidate(evidence):
+        return "candidate"
+    if brand in confirmed:
+        return "confirmed"
+    # An unknown brand field value passed through as it is (no feed registry resolved it).
+    if evidence.startswith("field not in dictionary") and "→" not in evidence:
+        return "candidate"
+    return "dictionary"

@@ -12,7 +12,8 @@ A feed writes the same brand many ways: "Bench Low", "Bench-Low", "Benchlow", "B
   most frequent spelling (marks and legal forms removed).
 
 Each brand keeps its variants with counts and feeds, its departments and whether a person has
-confirmed it (``confirmed``) or it was only seen (``candidate``). :meth:`BrandRegistry.to_dict`
+confirmed it (``confirmed``), said it names no brand (``rejected``) or it was only seen
+(``candidate``). :meth:`BrandRegistry.to_dict`
 and :meth:`BrandRegistry.from_dict` turn it into plain JSON-ready data for a store to keep.
 """
 
@@ -36,8 +37,8 @@ from catmap.attributes.brand import (
 )
 from catmap.errors import InputError
 
-CANDIDATE, CONFIRMED = "candidate", "confirmed"
-STATUSES = (CANDIDATE, CONFIRMED)
+CANDIDATE, CONFIRMED, REJECTED = "candidate", "confirmed", "rejected"
+STATUSES = (CANDIDATE, CONFIRMED, REJECTED)
 
 # Keys shorter than this never join by a typo: between short names one letter is as likely
 # another name ("Ardo" / "Arno") as a slip. Common practice, no source.
@@ -123,7 +124,8 @@ class RegistryBrand:
 
     Attributes:
         name: the canonical display name.
-        status: ``candidate`` (seen, not trusted yet) or ``confirmed``.
+        status: ``candidate`` (seen, not trusted yet), ``confirmed`` or ``rejected`` (a person
+            said it names no brand).
         dictionary_name: the brand dictionary's name for it ("" when not in the dictionary).
         variants: spelling → :class:`BrandVariant`.
         departments: department id → products seen there.
@@ -328,13 +330,32 @@ class BrandRegistry:
         Raises:
             InputError: no brand of that name or spelling has been seen.
         """
+        return self.set_status(name, CONFIRMED)
+
+    def reject(self, name: str) -> RegistryBrand:
+        """Mark a brand as rejected by a person: the spelling names no brand.
+
+        Raises:
+            InputError: no brand of that name or spelling has been seen.
+        """
+        return self.set_status(name, REJECTED)
+
+    def set_status(self, name: str, status: str) -> RegistryBrand:
+        """Set the status of the brand a name or spelling belongs to; return the brand.
+
+        Raises:
+            InputError: no brand of that name or spelling has been seen.
+            ValueError: the status is not one of :data:`STATUSES`.
+        """
+        if status not in STATUSES:
+            raise ValueError(f"unknown brand status {status!r}; expected one of {STATUSES}")
         brand = self.resolve(name)
         if brand is None:
             raise InputError(
                 f"no brand '{name}' in the registry", field="brand",
                 hint="list the brands seen so far and use one of their names",
             )
-        brand.status = CONFIRMED
+        brand.status = status
         return brand
 
     def update(self, other: BrandRegistry) -> None:
@@ -483,7 +504,7 @@ class BrandRegistry:
                 tuple(sorted(b.departments, key=lambda d: -b.departments[d])),
             )
             for b in self.brands()
-            if include_candidates or b.status == CONFIRMED
+            if b.status == CONFIRMED or (include_candidates and b.status == CANDIDATE)
         ]
         return BrandDictionary(entries)
 

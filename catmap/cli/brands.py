@@ -139,7 +139,7 @@ def accept_command(
 @brands_group.command("list")
 @click.option(
     "--status",
-    type=click.Choice(["candidate", "confirmed"]),
+    type=click.Choice(["candidate", "confirmed", "rejected"]),
     default=None,
     help="Show only brands of this status (default: all).",
 )
@@ -168,7 +168,8 @@ def list_command(status: str | None, limit: int, project: str | None, as_json: b
         return
     table = Table(
         title=f"Brand registry: {facts['total']:,} brands ({counts['confirmed']:,} confirmed, "
-        f"{counts['candidate']:,} candidates)"
+        f"{counts['candidate']:,} candidates"
+        + (f", {counts['rejected']:,} rejected" if counts["rejected"] else "") + ")"
     )
     for header in ("brand", "status", "seen", "feeds", "spellings"):
         table.add_column(header, justify="right" if header == "seen" else "left")
@@ -194,8 +195,8 @@ def list_command(status: str | None, limit: int, project: str | None, as_json: b
 @_project_option
 @json_option
 def confirm_command(name: str, project: str | None, as_json: bool) -> None:
-    """Confirm a candidate brand of the registry (NAME or any spelling seen of it): later
-    runs trust it as a brand of the dictionary."""
+    """Confirm a candidate brand of the registry (NAME or any spelling seen of it): its
+    products and later runs trust it as a brand of the dictionary."""
     facts = confirm_registry_brand(name, project=project_dir(project))
     if as_json:
         echo_json(facts)
@@ -203,7 +204,10 @@ def confirm_command(name: str, project: str | None, as_json: bool) -> None:
     if facts["was"] == "confirmed":
         console.print(f"{escape(facts['name'])} was already confirmed.")
     else:
-        console.print(f"Confirmed {escape(facts['name'])} (seen {facts['seen']:,} times).")
+        console.print(
+            f"Confirmed {escape(facts['name'])} (seen {facts['seen']:,} times; "
+            f"{facts['products_confirmed']:,} products now carry it as confirmed)."
+        )
     console.print("Spellings: " + escape(", ".join(v["spelling"] for v in facts["variants"])))
 
 

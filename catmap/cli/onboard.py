@@ -306,6 +306,14 @@ def status_command(project: str | None, feed: str | None, as_json: bool) -> None
             reasons = ", ".join(f"{k} {v:,}" for k, v in f["open_by_reason"].items())
             _say(f"{escape(f['feed'])}: open items by reason: {escape(reasons)}")
     for f in feeds:
+        candidates = f["brand_status"].get("candidate", 0)
+        if candidates:
+            carry = "product carries" if candidates == 1 else "products carry"
+            _say(
+                f"{escape(f['feed'])}: {candidates:,} {carry} a candidate brand "
+                "(confirm it in `catmap review` or with `catmap brands confirm NAME`)"
+            )
+    for f in feeds:
         if f["audit_error"] is None:
             _say(f"{escape(f['feed'])}: no audit sample reviewed yet")
         else:

@@ -1,6 +1,7 @@
 """The project's brand registry between the store's plain records and
 :class:`~catmap.attributes.registry.BrandRegistry`: load it, merge a feed's into it, confirm
-a brand. Every change runs under the store's write lock (:meth:`Store.change_brand_records`).
+a brand (with the products that carry it: :func:`catmap.review.brands.settle_brand`). Every
+change runs under the store's write lock (:meth:`Store.change_brand_records`).
 """
 
 from __future__ import annotations
@@ -12,9 +13,11 @@ from catmap.attributes.registry import (
     CONFIRMED,
     REGISTRY_FORMAT,
     REGISTRY_VERSION,
+    REJECTED,
     BrandRegistry,
     RegistryBrand,
 )
+from catmap.review.brands import settle_brand
 from catmap.store import Store
 
 
@@ -42,11 +45,12 @@ def merge_feed_registry(
     store: Store, found: BrandRegistry, *, dictionary: BrandDictionary | None, feed: str
 ) -> tuple[list[tuple[str, str]], BrandRegistry]:
     """Save a feed's brands and rebuild the project's registry from every feed's, typos
-    joined across feeds; a brand a person confirmed stays confirmed.
+    joined across feeds; a brand a person confirmed (or rejected as no brand) stays so.
 
     The project's registry is rebuilt (``update`` with each feed's, then ``cluster_typos``)
     rather than added to, so that onboarding a feed again replaces its counts instead of
-    adding them twice. A confirmed brand no feed shows any longer is kept as it was.
+    adding them twice. A confirmed or rejected brand no feed shows any longer is kept as it
+    was; a rejected spelling that now joins a dictionary brand stays the dictionary's.
 
     Args:
         store: the project store.
@@ -66,14 +70,15 @@ def merge_feed_registry(
             registry.update(BrandRegistry.from_dict(data))
         joins = registry.cluster_typos()
         kept: list[dict[str, Any]] = []
-        for brand in _registry(records, None).brands(CONFIRMED):
+        before = _registry(records, None)
+        for brand in before.brands(CONFIRMED) + before.brands(REJECTED):
             now = next(
                 (b for b in map(registry.resolve, (brand.name, *brand.variants)) if b), None
             )
             if now is None:
                 kept.append(brand.to_dict())
-            else:
-                now.status = CONFIRMED
+            elif brand.status == CONFIRMED or not now.dictionary_name:
+                now.status = brand.status
         return _records(registry) + kept, (joins, registry)
 
     return store.change_brand_records(
@@ -86,23 +91,14 @@ def merge_feed_registry(
     )  # fmt: skip
 
 
-def confirm_brand(store: Store, name: str, *, actor: str = "cli") -> tuple[RegistryBrand, str]:
-    """Mark a brand of the registry confirmed (audited); return it and its status before.
+def confirm_brand(store: Store, name: str, *, actor: str = "cli") -> tuple[RegistryBrand, str, int]:
+    """Mark a brand of the registry confirmed, and its products with it (audited); return it,
+    its status before and the products now confirmed.
 
     Raises:
         InputError: no brand of that name or spelling is in the registry.
     """
-
-    def confirm(
-        records: list[dict[str, Any]], _feeds: dict[str, dict[str, Any]]
-    ) -> tuple[list[dict[str, Any]], tuple[RegistryBrand, str]]:
-        registry = _registry(records, None)
-        found = registry.resolve(name)
-        before = found.status if found is not None else ""
-        brand = registry.confirm(name)
-        return _records(registry), (brand, before)
-
-    return store.change_brand_records(
-        confirm, action="brand_confirmed", actor=actor,
-        detail=lambda result: {"brand": result[0].name, "asked": name, "was": result[1]},
-    )  # fmt: skip
+    verdict = settle_brand(store, name, CONFIRMED, actor=actor)
+    brand = load_registry(store).resolve(verdict.name)
+    assert brand is not None  # just saved
+    return brand, verdict.was, verdict.products

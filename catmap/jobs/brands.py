@@ -139,7 +139,8 @@ def registry_brands(project: Path, *, status: str | None = None) -> dict[str, An
 
     Args:
         project: the project folder.
-        status: only brands of this status (``candidate`` or ``confirmed``; None: all).
+        status: only brands of this status (``candidate``, ``confirmed`` or ``rejected``;
+            None: all).
 
     Returns:
         The facts: the store, counts per status, and each brand (most seen first) with its
@@ -152,7 +153,7 @@ def registry_brands(project: Path, *, status: str | None = None) -> dict[str, An
         with Store.for_project(project) as store:
             everything = load_registry(store).brands()
     shown = [b for b in everything if status is None or b.status == status]
-    counts = {"candidate": 0, "confirmed": 0}
+    counts = {"candidate": 0, "confirmed": 0, "rejected": 0}
     for brand in everything:
         counts[brand.status] = counts.get(brand.status, 0) + 1
     return {
@@ -172,7 +173,8 @@ def confirm_registry_brand(name: str, *, project: Path) -> dict[str, Any]:
         project: the project folder.
 
     Returns:
-        The facts: the brand as now stored, and its status before.
+        The facts: the brand as now stored, its status before, and how many products that
+        carried it as a candidate are now confirmed.
 
     Raises:
         InputError: no brand of that name or spelling is in the registry.
@@ -184,7 +186,8 @@ def confirm_registry_brand(name: str, *, project: Path) -> dict[str, Any]:
             hint="onboard a feed first (`catmap onboard FEED`)",
         )  # fmt: skip
     with Store.for_project(project) as store:
-        brand, before = confirm_brand(store, name)
+        brand, before, products = confirm_brand(store, name)
     facts = _brand_facts(brand)
     facts["was"] = before
+    facts["products_confirmed"] = products
     return facts

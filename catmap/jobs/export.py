@@ -1,9 +1,10 @@
 """Export an onboarded feed from the project store: the enriched products, rejects, accounting.
 
 One row per product: its fields, the node (id and path), confidence, method, status
-(``accepted`` / ``reviewed`` / ``queued``), and the attributes (brand, who, age, colour family,
-restriction flag). Beside it: the feed's rejects from its last onboarding run and that run's
-row accounting. CSV cells are made safe against formula injection (:mod:`catmap.feeds.writers`).
+(``accepted`` / ``reviewed`` / ``queued``), and the attributes (brand and how far it is
+trusted, :data:`catmap.records.BRAND_STATUSES`; who, age, colour family, restriction flag).
+Beside it: the feed's rejects from its last onboarding run and that run's row accounting. CSV
+cells are made safe against formula injection (:mod:`catmap.feeds.writers`).
 """
 
 from __future__ import annotations
@@ -53,6 +54,7 @@ EXPORT_COLUMNS = (
     "method",
     "status",
     "extracted_brand",
+    "brand_status",
     "who",
     "age",
     "colour_family",
@@ -104,6 +106,7 @@ def export_row(product: Product, stored: StoredMapping, tree: CategoryTree) -> d
         "method": stored.mapping.method,
         "status": status,
         "extracted_brand": attributes.brand,
+        "brand_status": attributes.brand_status,
         "who": attributes.who,
         "age": attributes.age,
         "colour_family": attributes.colour_family,

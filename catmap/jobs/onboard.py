@@ -33,7 +33,7 @@ from __future__ import annotations
 
 import time
 from collections import Counter
-from collections.abc import Callable, Iterator, Sequence
+from collections.abc import Callable, Iterable, Iterator, Sequence
 from dataclasses import dataclass, field
 from itertools import islice
 from pathlib import Path
@@ -45,6 +45,7 @@ from catmap._iterate import chunked
 from catmap.attributes import AttributeExtractor, BrandDictionary, FeedBrandLearner
 from catmap.attributes._text import fold
 from catmap.attributes.brand import dictionary_in_use, normalize_brand
+from catmap.attributes.registry import CONFIRMED, REJECTED
 from catmap.classify.rules import RuleSet, load_rules
 from catmap.classify.storage import file_fingerprint, load_model, read_manifest
 from catmap.decide.queue import Candidate, expected_gain, plan_queue
@@ -105,6 +106,7 @@ __all__ = [
     "learn_feed_brands",
     "onboard_feed",
     "project_brands",
+    "registry_decisions",
     "project_tree",
     "project_review_examples",
     "rejects_path",
@@ -258,8 +260,14 @@ def _brand_conflict(product: Product, attributes: Attributes, brands: BrandDicti
 
 
 def load_extractor(project: str | Path, tree: CategoryTree) -> AttributeExtractor:
-    """Return the attribute extractor with the project's brands (see :func:`project_brands`)."""
-    return AttributeExtractor(brands=project_brands(project), tree=tree)
+    """Return the attribute extractor with the project's brands (see :func:`project_brands`):
+    the brands a person confirmed in the registry count as confirmed, and the spellings a
+    person rejected as no brand are never read as one."""
+    brands = project_brands(project)
+    confirmed, rejected = registry_decisions(project)
+    return AttributeExtractor(
+        brands=brands, tree=tree, confirmed_brands=confirmed, not_brands=rejected
+    )
 
 
 def project_brands(project: str | Path) -> BrandDictionary:
@@ -274,6 +282,21 @@ def project_brands(project: str | Path) -> BrandDictionary:
     for entry in confirmed.entries.values():
         brands.add(entry)
     return brands
+
+
+def registry_decisions(project: str | Path) -> tuple[tuple[str, ...], tuple[str, ...]]:
+    """Return what people decided in the project's brand registry: the names of the brands
+    they confirmed (not in the brand dictionary), and every spelling of the brands they
+    rejected as no brand (both empty before the project has a store)."""
+    if not store_path(project).exists():
+        return (), ()
+    with Store.for_project(project) as store:
+        registry = load_registry(store)
+    confirmed = tuple(b.name for b in registry.brands(CONFIRMED) if not b.dictionary_name)
+    rejected = tuple(
+        spelling for b in registry.brands(REJECTED) for spelling in (b.name, *b.variants)
+    )
+    return confirmed, rejected
 
 
 def review_examples(
@@ -371,10 +394,13 @@ def onboard_feed(
     source = open_profiled_feed(feed_path, project, name=name)
 
     progress("learning the feed's brands", 0)
-    learner = learn_feed_brands(feed_path, project, name, extractor.brands, tree)
+    learner = learn_feed_brands(
+        feed_path, project, name, extractor.brands, tree, not_brands=extractor.not_brands
+    )
     extractor = AttributeExtractor(
         brands=extractor.brands, tree=extractor.tree,
         retailer_names=extractor.retailer_names, feed_brands=learner,
+        confirmed_brands=extractor.confirmed_brands, not_brands=extractor.not_brands,
     )  # fmt: skip
     store = Store.for_project(project)
     try:
@@ -423,6 +449,7 @@ def learn_feed_brands(
     tree: CategoryTree,
     *,
     sample: int = BRAND_SAMPLE,
+    not_brands: Iterable[str] = (),
 ) -> FeedBrandLearner:
     """Learn a feed's own brands and its retailer's name from its first products.
 
@@ -437,6 +464,7 @@ def learn_feed_brands(
         brands: the brand dictionary in use.
         tree: the category tree (its product words are never brands).
         sample: products read at most.
+        not_brands: spellings a person rejected as no brand (never learned).
 
     Returns:
         The fitted learner.
@@ -453,7 +481,7 @@ def learn_feed_brands(
 
     learner = FeedBrandLearner(
         dictionary=brands, tree=tree, feed=name,
-        retailer_as_no_brand=source.profile.retailer_as_no_brand,
+        retailer_as_no_brand=source.profile.retailer_as_no_brand, not_brands=not_brands,
     )  # fmt: skip
     return learner.fit(islice(products(), sample))
 

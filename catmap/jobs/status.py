@@ -1,5 +1,6 @@
-"""Where each feed of a project stands: rows read and kept, accepted, queued, reviewed, and the
-audited error of the auto-accepted part (the facts ``catmap status`` prints)."""
+"""Where each feed of a project stands: rows read and kept, accepted, queued, reviewed, products
+per brand status, and the audited error of the auto-accepted part (the facts ``catmap status``
+prints)."""
 
 from __future__ import annotations
 
@@ -9,6 +10,7 @@ from typing import Any
 from catmap.errors import StoreError
 from catmap.jobs._remap_versions import feed_tree_versions, mapping_tree_versions
 from catmap.project import NO_STORE_HINT
+from catmap.records import BRAND_STATUSES
 from catmap.store import Store, store_path
 
 __all__ = ["AUDIT_CONFIDENCE", "feed_status_facts", "project_status"]
@@ -57,6 +59,11 @@ def feed_status_facts(
                 "open_items": status.open_items + status.claimed_items,
                 "open_by_reason": open_by_reason,
                 "done_items": status.done_items,
+                "brand_status": {
+                    name: status.brand_statuses[name]
+                    for name in BRAND_STATUSES
+                    if name in status.brand_statuses
+                },
                 "audit_checked": status.audit_checked,
                 "audit_wrong": status.audit_wrong,
                 "audit_error": None

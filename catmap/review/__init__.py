@@ -6,6 +6,7 @@ Output: decisions (accepted or corrected node, attribute corrections) written ba
 - :mod:`~catmap.review.session`: the logic, without a screen.
 - :mod:`~catmap.review.app`: the textual screen.
 - :mod:`~catmap.review.follow`: the attributes that follow a product to its new node.
+- :mod:`~catmap.review.brands`: a person's verdict on a candidate brand (confirm, reject).
 - :mod:`~catmap.review.sample`: a tiny store of invented products to try the screen on.
 
 :class:`ReviewSession` holds the logic (claims, decisions, undo, group decisions, attribute
@@ -15,9 +16,19 @@ screen on top of it. Only this package and :mod:`catmap.cli` import textual.
 
 from __future__ import annotations
 
+from catmap.review.brands import confirm_brand, reject_brand, settle_brand
 from catmap.review.session import REASON_TEXT, Pace, Pending, ReviewSession
 
-__all__ = ["REASON_TEXT", "Pace", "Pending", "ReviewApp", "ReviewSession"]
+__all__ = [
+    "REASON_TEXT",
+    "Pace",
+    "Pending",
+    "ReviewApp",
+    "ReviewSession",
+    "confirm_brand",
+    "reject_brand",
+    "settle_brand",
+]
 
 
 def __getattr__(name: str) -> object:

@@ -5,7 +5,8 @@ through the store (one transaction each) and reads the item back. Layout, from t
 
 - the top line: feed, reviewer, and the pace (done this session, left, per minute, finish);
 - left column: the product (title, brand, price, retailer path, id, why it is queued, a
-  description excerpt) and its attributes (brand, who, age, colour family, restriction);
+  description excerpt) and its attributes (brand with how far it is trusted, who, age, colour
+  family, restriction); a candidate brand says so, with the keys that confirm or reject it;
 - right column: the suggested node (path, confidence as a percentage and a bar), the
   numbered alternatives, and the retailer category group with its consensus;
 - a message line, then two lines of keys (every key the screen takes, always visible).
@@ -53,24 +54,34 @@ WHO_KEYS = {"female": "F", "male": "M", "unisex": "U", "not_applicable": "X"}
 AGE_KEYS = {"adult": "A", "kids": "K", "baby": "B", "not_applicable": "Z"}
 assert set(WHO_KEYS) == set(WHO_VALUES) and set(AGE_KEYS) == set(AGE_VALUES)
 
+# How far a brand is trusted, in the words the screen shows (catmap.records.BRAND_STATUSES).
+BRAND_STATUS_TEXT = {
+    "dictionary": "dictionary",
+    "confirmed": "confirmed",
+    "candidate": "candidate",
+    "corrected": "set by a reviewer",
+    "none": "",
+}
+
 # The keys the screen shows, two lines that fit 80 columns: (key, what it does).
 KEY_LINES: tuple[tuple[tuple[str, str], ...], ...] = (
     (
         ("⏎", "accept"),
         ("1-3", "alt"),
-        ("/", "search"),
+        ("/", "find"),
         ("n", "no fit"),
         ("s", "skip"),
         ("u", "undo"),
         ("g", "group"),
         ("b", "brand"),
-        ("q", "quit"),
+        ("c/r", "brand ok/no"),
     ),
     (
         ("w", "who"),
         *((key, value.replace("not_applicable", "n/a")) for value, key in WHO_KEYS.items()),
         ("a", "age"),
         *((key, value.replace("not_applicable", "n/a")) for value, key in AGE_KEYS.items()),
+        ("q", "quit"),
     ),
 )
 
@@ -322,6 +333,8 @@ class ReviewApp(App[None]):
         Binding("u", "undo", "Undo"),
         Binding("g", "group_mode", "Group"),
         Binding("b", "brand", "Brand"),
+        Binding("c", "confirm_brand", "Confirm brand"),
+        Binding("r", "reject_brand", "Not a brand"),
         Binding("w", "who", "Who"),
         Binding("a", "age", "Age"),
         *(
@@ -504,9 +517,18 @@ class ReviewApp(App[None]):
             text.append("\n")
 
         brand = attributes.brand
-        if attributes.brand_confidence and brand:
-            brand = f"{brand} ({attributes.brand_confidence:.0%})"
+        if brand:
+            trust = BRAND_STATUS_TEXT.get(attributes.brand_status, attributes.brand_status)
+            confidence = (
+                f"{attributes.brand_confidence:.0%}, " if attributes.brand_confidence else ""
+            )
+            brand = f"{brand} ({confidence}{trust})"
         row("brand", brand, pending.brand, sources["brand"])
+        if self.session.candidate_brand():
+            text.append(
+                fit("       c confirm · r not a brand", width) + "\n",
+                style="yellow",
+            )
         row("who", attributes.who, pending.who, sources["who"])
         row("age", attributes.age, pending.age, sources["age"])
         if attributes.audience_conflict:
@@ -756,6 +778,30 @@ class ReviewApp(App[None]):
 
         self._typed_ahead = []
         self.push_screen(BrandScreen(current), typed)
+
+    def _brand_verdict(self, confirm: bool) -> None:
+        session = self.session
+        if session.current is None:
+            return
+        brand = session.candidate_brand()
+        try:
+            verdict = session.confirm_brand() if confirm else session.reject_brand()
+        except CatmapError as error:
+            self.message = str(error)
+        else:
+            products = f"{verdict.products} product{'s' if verdict.products != 1 else ''}"
+            self.message = (
+                f"brand {verdict.name} confirmed: {products} now trusted"
+                if confirm
+                else f"'{brand}' is not a brand: taken off {products}"
+            )
+        self.render_item()
+
+    def action_confirm_brand(self) -> None:
+        self._brand_verdict(True)
+
+    def action_reject_brand(self) -> None:
+        self._brand_verdict(False)
 
     def action_who(self) -> None:
         if self.session.current is None:

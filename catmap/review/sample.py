@@ -4,16 +4,19 @@ Everything goes through the store's public API (:meth:`~catmap.store.Store.add_f
 :meth:`~catmap.store.Store.start_run`, :meth:`~catmap.store.Store.save_mapped`), on nodes of the
 shared tree version 1. Brands and products are invented.
 
-Queue order (priority, highest first): the six boots of one retailer category (a strong group),
+Queue order (priority, highest first): the six boots of one retailer category (a strong group;
+their brand "Ostravel" is a candidate of the project's brand registry, learned from the titles),
 the red wine, the T-shirt, the jumper with a brand conflict, the kids' hoodie with an audience
 conflict, then the audit sample.
 """
 
 from __future__ import annotations
 
+from dataclasses import replace
 from decimal import Decimal
 from pathlib import Path
 
+from catmap.attributes import CANDIDATE_MARK, BrandRegistry
 from catmap.records import Alternative, Attributes, Mapping, Product
 from catmap.store import MappedRow, Store
 
@@ -65,10 +68,13 @@ def _row(
         method="model",
         alternatives=tuple(Alternative(n, c) for n, c in alternatives),
     )
+    attributes = attributes or Attributes(brand=brand, brand_confidence=0.9)
+    if attributes.brand and attributes.brand_status == "none":
+        attributes = replace(attributes, brand_status="dictionary")
     return MappedRow(
         product=product,
         mapping=mapping,
-        attributes=attributes or Attributes(brand=brand, brand_confidence=0.9),
+        attributes=attributes,
         status=status,
         group_key=" > ".join(path),
         priority=priority,
@@ -95,6 +101,12 @@ def _boot_group() -> list[MappedRow]:
             brand="Ostravel",
             price="89.00",
             priority=3.0 - n / 100,
+            attributes=Attributes(
+                brand="Ostravel",
+                brand_confidence=0.7,
+                brand_evidence=f"title lead 'ostravel' {CANDIDATE_MARK}",
+                brand_status="candidate",
+            ),
         )
         for n, title in enumerate(
             (
@@ -214,4 +226,11 @@ def build_sample_store(path: str | Path) -> Store:
     rows = sample_rows()
     store.save_mapped(feed, run, rows, model_version="sample", tree_version="1")
     store.finish_run(run, summary={"read": len(rows), "kept": len(rows), "rejected": 0})
+    registry = BrandRegistry()
+    for row in rows:
+        registry.observe(row.attributes.brand, feed=SAMPLE_FEED)
+    for brand in registry.brands():
+        if brand.name != "Ostravel":
+            registry.confirm(brand.name)  # stand-ins for brands of the dictionary
+    store.save_brand_records(registry.to_dict()["brands"])
     return store

@@ -6,6 +6,12 @@ store calls (one transaction each: :meth:`~catmap.store.Store.decide`,
 the few things only a session knows: the item on screen, attribute corrections typed but not
 yet decided, and the pace of this session.
 
+A brand on screen that is a candidate (learned from a feed, no person has confirmed it) can be
+confirmed into the project's brand registry or rejected as no brand at once
+(:meth:`ReviewSession.confirm_brand`, :meth:`ReviewSession.reject_brand`, through
+:mod:`catmap.review.brands`): a verdict on the brand, for every product that carries it, not a
+decision on the item, which stays on screen.
+
 Attribute corrections (brand, who, age) travel with the reviewer's decision on the item, in the
 same transaction: a correction alone does not close an item whose node still needs judging.
 When a decision moves a product to another node, the restriction flag and who / age
@@ -25,10 +31,12 @@ from datetime import UTC, datetime, timedelta
 from catmap.attributes import AttributeExtractor, BrandDictionary, colour_family
 from catmap.errors import ReviewError, StoreError, UnknownNode
 from catmap.records import AGE_VALUES, WHO_VALUES
+from catmap.review.brands import settle_brand
 from catmap.review.follow import NodeFollower
 from catmap.store import (
     DEFAULT_LEASE_SECONDS,
     GROUP_REASONS,
+    BrandVerdict,
     Decision,
     NodeAttributes,
     ReviewView,
@@ -429,6 +437,56 @@ class ReviewSession:
             raise ValueError(f"unknown age {value!r}; expected one of {AGE_VALUES}")
         self.pending = Pending(self.pending.brand, self.pending.who, value)
         return value
+
+    # -- the brand registry --------------------------------------------------------------------
+
+    def candidate_brand(self) -> str:
+        """The brand on screen when it is a candidate no person has confirmed ('' otherwise)."""
+        view = self.current
+        if view is None or view.attributes.brand_status != "candidate":
+            return ""
+        return view.attributes.brand
+
+    def confirm_brand(self) -> BrandVerdict:
+        """Confirm the candidate brand on screen in the project's brand registry: it and every
+        product carrying it as a candidate are trusted from now on (audited; the item stays
+        on screen to be decided).
+
+        Raises:
+            ReviewError: the brand on screen is not a candidate.
+            InputError: the registry does not hold the brand (it was onboarded before the
+                registry existed).
+        """
+        return self._brand_verdict("confirmed")
+
+    def reject_brand(self) -> BrandVerdict:
+        """Reject the candidate brand on screen as no brand: every product carrying it as a
+        candidate loses it, and later runs never read it as a brand (audited; the item stays
+        on screen to be decided).
+
+        Raises:
+            ReviewError: the brand on screen is not a candidate.
+            InputError: the registry does not hold the brand.
+        """
+        return self._brand_verdict("rejected")
+
+    def _brand_verdict(self, status: str) -> BrandVerdict:
+        view = self._require()
+        brand = self.candidate_brand()
+        if not brand:
+            shown = view.attributes.brand
+            raise ReviewError(
+                f"the brand '{shown}' is {view.attributes.brand_status}, not a candidate"
+                if shown
+                else "this product has no brand to confirm or reject",
+                product_id=view.product.product_id,
+                hint="press b to correct this product's brand",
+            )
+        verdict = settle_brand(
+            self.store, brand, status, actor=self.reviewer, item_id=view.item.id
+        )
+        self.refresh()
+        return verdict
 
     def sources(self) -> dict[str, str]:
         """Where the brand, who, age and colour on screen came from, in a few words each.

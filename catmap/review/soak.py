@@ -122,7 +122,9 @@ def soak_rows(products: int, *, groups: int, seed: int) -> list[MappedRow]:
             MappedRow(
                 product=product,
                 mapping=Mapping(node, 0.5, "model", alternatives),
-                attributes=Attributes(brand="Ralvendo", brand_confidence=0.9),
+                attributes=Attributes(
+                    brand="Ralvendo", brand_confidence=0.9, brand_status="dictionary"
+                ),
                 status="queued",
                 group_key=" > ".join(product.category_path),
                 priority=draw.random(),

@@ -37,12 +37,14 @@ from catmap.store.encoding import product_from_json, product_to_json
 from catmap.store.products import DEFAULT_BATCH_SIZE
 from catmap.store.queue import CLAIM_EXPIRED, CLAIM_OPEN, DEFAULT_LEASE_SECONDS
 from catmap.store.records import (
+    BRAND_VERDICTS,
     DECISION_ACTIONS,
     GROUP_REASONS,
     ITEM_STATES,
     MAPPING_STATUSES,
     REVIEW_REASONS,
     AuditEntry,
+    BrandVerdict,
     Decision,
     FeedRecord,
     FeedStatus,
@@ -63,6 +65,8 @@ from catmap.store.store import Store
 
 __all__ = [
     "AuditEntry",
+    "BRAND_VERDICTS",
+    "BrandVerdict",
     "CLAIM_EXPIRED",
     "CLAIM_OPEN",
     "Clock",

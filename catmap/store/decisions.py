@@ -462,12 +462,15 @@ def _mark_reviewed(
     age: str | None,
 ) -> None:
     """Write a person's verdict on the mapping: its node (full confidence when moved, method
-    ``review``), the corrected brand / who / age, and status ``reviewed``."""
+    ``review``), the corrected brand / who / age (a brand a person set is ``corrected``), and
+    status ``reviewed``."""
     conn.execute(
         "UPDATE mappings SET status = 'reviewed', node_id = ?, "
         "confidence = CASE WHEN ? THEN 1.0 ELSE confidence END, "
         "method = CASE WHEN ? THEN 'review' ELSE method END, "
         "brand = COALESCE(?, brand), who = COALESCE(?, who), age = COALESCE(?, age), "
+        "brand_status = CASE WHEN ? IS NULL THEN brand_status WHEN ? = '' THEN 'none' "
+        "ELSE 'corrected' END, "
         "audience_conflict = CASE WHEN ? IS NULL AND ? IS NULL "
         "THEN audience_conflict ELSE 0 END "
         "WHERE feed_id = ? AND product_id = ?",
@@ -478,6 +481,8 @@ def _mark_reviewed(
             brand,
             who,
             age,
+            brand,
+            brand,
             who,
             age,
             feed_id,

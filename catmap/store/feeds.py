@@ -192,6 +192,13 @@ class FeedsMixin(StoreConnection):
                     (fid,),
                 ).fetchall()
             )
+            brand_statuses = dict(
+                self._conn.execute(
+                    "SELECT brand_status, COUNT(*) FROM mappings WHERE feed_id = ? "
+                    "GROUP BY brand_status ORDER BY brand_status",
+                    (fid,),
+                ).fetchall()
+            )
             states = dict(
                 self._conn.execute(
                     f"SELECT {_STATE_OR_WITHDRAWN}, COUNT(*) FROM review_items WHERE feed_id = ? "
@@ -227,4 +234,5 @@ class FeedsMixin(StoreConnection):
                 estimate_error(checked - wrong, checked, confidence=confidence) if checked else None
             ),
             withdrawn_items=states.get("withdrawn", 0),
+            brand_statuses=brand_statuses,
         )

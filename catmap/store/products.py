@@ -14,7 +14,7 @@ from contextlib import contextmanager
 from typing import Any
 
 from catmap.errors import StoreError
-from catmap.records import Attributes, Mapping, Product
+from catmap.records import BRAND_STATUSES, Attributes, Mapping, Product
 from catmap.store.connection import StoreConnection
 from catmap.store.encoding import (
     _alternatives_from_json,
@@ -37,7 +37,7 @@ _BULK_CHECKPOINT_PAGES = 16_000
 _MAPPING_COLUMNS = (
     "feed_id, product_id, run_id, node_id, confidence, method, alternatives, reason, "
     "model_version, tree_version, status, group_key, brand, brand_confidence, brand_evidence, "
-    "who, age, audience_evidence, audience_conflict, colour_family, restriction"
+    "who, age, audience_evidence, audience_conflict, colour_family, restriction, brand_status"
 )
 
 
@@ -56,6 +56,7 @@ def _mapping_from_row(row: sqlite3.Row) -> StoredMapping:
             brand=row["brand"],
             brand_confidence=row["brand_confidence"],
             brand_evidence=row["brand_evidence"],
+            brand_status=row["brand_status"],
             who=row["who"],
             age=row["age"],
             audience_evidence=row["audience_evidence"],
@@ -82,7 +83,7 @@ _PRODUCT_UPSERT = (
 # A mapping a person reviewed is never overwritten by a later run.
 _MAPPING_UPSERT = (
     f"INSERT INTO mappings ({_MAPPING_COLUMNS}) VALUES "
-    "(?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?) "
+    "(?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?) "
     "ON CONFLICT(feed_id, product_id) DO UPDATE SET run_id = excluded.run_id, "
     "node_id = excluded.node_id, confidence = excluded.confidence, "
     "method = excluded.method, alternatives = excluded.alternatives, "
@@ -93,7 +94,8 @@ _MAPPING_UPSERT = (
     "brand_evidence = excluded.brand_evidence, who = excluded.who, "
     "age = excluded.age, audience_evidence = excluded.audience_evidence, "
     "audience_conflict = excluded.audience_conflict, "
-    "colour_family = excluded.colour_family, restriction = excluded.restriction "
+    "colour_family = excluded.colour_family, restriction = excluded.restriction, "
+    "brand_status = excluded.brand_status "
     "WHERE mappings.status != 'reviewed'"
 )
 class ProductsMixin(StoreConnection):
@@ -169,6 +171,8 @@ class ProductsMixin(StoreConnection):
             product, mapping, attrs, status = row.product, row.mapping, row.attributes, row.status
             if status not in statuses:
                 raise ValueError(f"unknown mapping status {status!r}")
+            if attrs.brand_status not in BRAND_STATUSES:
+                raise ValueError(f"unknown brand status {attrs.brand_status!r}")
             product_id = product.product_id
             price = product.price
             path_text = " > ".join(product.category_path)
@@ -208,6 +212,7 @@ class ProductsMixin(StoreConnection):
                     int(attrs.audience_conflict),
                     attrs.colour_family,
                     attrs.restriction,
+                    attrs.brand_status,
                 )
             )
             reasons = row.reasons

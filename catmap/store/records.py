@@ -20,7 +20,30 @@ DECISION_ACTIONS = ("accept", "choose", "no_fit", "skip", "fix_attributes")
 # Reasons a whole retailer category can be settled for in one key; conflicts and audit samples
 # are judged one product at a time (an audit sample accepted in bulk would measure nothing).
 GROUP_REASONS = ("low_confidence", "remap")
+# What a person can decide about a brand of the registry.
+BRAND_VERDICTS = ("confirmed", "rejected")
 
+
+
+@dataclass(frozen=True, slots=True)
+class BrandVerdict:
+    """A person's verdict on a brand of the project's registry, as the store applies it.
+
+    Attributes:
+        name: the brand's canonical name.
+        status: ``confirmed`` or ``rejected`` (one of :data:`BRAND_VERDICTS`).
+        was: its status before.
+        spellings: the products' brand values that are this brand (they change with it).
+        asked: the name or spelling the person gave.
+        products: how many products' brand changed (filled in by the store).
+    """
+
+    name: str
+    status: str
+    was: str
+    spellings: tuple[str, ...] = ()
+    asked: str = ""
+    products: int = 0
 
 
 @dataclass(frozen=True, slots=True)
@@ -323,3 +346,5 @@ class FeedStatus:
     audit_wrong: int
     audit_error: Any = None  # catmap.decide.threshold.ErrorEstimate | None
     withdrawn_items: int = 0
+    # products per brand status (catmap.records.BRAND_STATUSES), the statuses present only
+    brand_statuses: dict[str, int] = field(default_factory=dict)

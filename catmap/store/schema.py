@@ -243,6 +243,38 @@ _SCHEMA_V9: tuple[str, ...] = (
     )""",
 )
 
+# Version 10: how far each product's brand is trusted (catmap.records.BRAND_STATUSES), and a
+# brand a person rejected as no brand is kept in the registry as such. The status of stored
+# products is read from what they hold: no brand; a brand a reviewer set; a candidate (its
+# evidence ends in the candidate mark, or an unknown brand field value passed through as it
+# is); else a brand of the dictionary. (A brand confirmed before this version reads as the
+# dictionary's: the two were not told apart then.) The registry table is rebuilt to take the
+# new status (SQLite cannot change a CHECK in place; nothing refers to the table).
+_SCHEMA_V10: tuple[str, ...] = (
+    "ALTER TABLE mappings ADD COLUMN brand_status TEXT NOT NULL DEFAULT 'none'",
+    """UPDATE mappings SET brand_status = CASE
+        WHEN brand = '' THEN 'none'
+        WHEN EXISTS (SELECT 1 FROM decisions AS d JOIN review_items AS i ON i.id = d.item_id
+            WHERE i.feed_id = mappings.feed_id AND i.product_id = mappings.product_id
+            AND d.brand_to IS NOT NULL AND d.undone_at IS NULL) THEN 'corrected'
+        WHEN brand_evidence LIKE '%[candidate]' THEN 'candidate'
+        WHEN brand_evidence LIKE 'field not in dictionary%'
+            AND instr(brand_evidence, '→') = 0 THEN 'candidate'
+        ELSE 'dictionary' END""",
+    """CREATE TABLE brand_registry_v10 (
+        position INTEGER PRIMARY KEY,
+        name TEXT NOT NULL,
+        status TEXT NOT NULL CHECK (status IN ('candidate', 'confirmed', 'rejected')),
+        data TEXT NOT NULL,
+        updated_at TEXT NOT NULL
+    )""",
+    "INSERT INTO brand_registry_v10 (position, name, status, data, updated_at) "
+    "SELECT position, name, status, data, updated_at FROM brand_registry",
+    "DROP TABLE brand_registry",
+    "ALTER TABLE brand_registry_v10 RENAME TO brand_registry",
+    "CREATE INDEX mappings_brand_status ON mappings (brand_status, brand)",
+)
+
 MIGRATIONS: tuple[tuple[str, ...], ...] = (
     _SCHEMA_V1,
     _SCHEMA_V2,
@@ -253,6 +285,7 @@ MIGRATIONS: tuple[tuple[str, ...], ...] = (
     _SCHEMA_V7,
     _SCHEMA_V8,
     _SCHEMA_V9,
+    _SCHEMA_V10,
 )
 SCHEMA_VERSION = len(MIGRATIONS)
 
