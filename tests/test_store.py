@@ -182,6 +182,7 @@ def test_migration_to_version_8_merges_a_product_s_waiting_items(tmp_path: Path)
     # item (brand conflict, higher priority), p0002 a claimed one beside its open one, p0003 a
     # decided one beside an open one.
     conn.execute("PRAGMA user_version = 7")
+    conn.execute("DROP TABLE brand_rejected_products")
     conn.execute("DROP TABLE feed_brands")
     conn.execute("DROP TABLE brand_registry")
     conn.execute("DROP INDEX mappings_brand_status")

@@ -352,8 +352,9 @@ class BrandRegistry:
         brand = self.resolve(name)
         if brand is None:
             raise InputError(
-                f"no brand '{name}' in the registry", field="brand",
-                hint="list the brands seen so far and use one of their names",
+                f"no brand '{name}' in the project's brand registry", field="brand",
+                hint="`catmap brands list` shows the brands seen so far; use one of their "
+                "names or spellings (a brand enters the registry when `catmap onboard` sees it)",
             )
         brand.status = status
         return brand

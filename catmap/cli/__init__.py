@@ -54,7 +54,8 @@ SHORT_HELP: dict[str, str] = {
     "init`).",
     "map": "Map every product of a feed to a node of the tree, with a calibrated confidence.",
     "evaluate": "Measure mapping and attribute quality on a feed with gold labels.",
-    "brands": "Find brands the dictionary does not know yet, add them, and confirm found ones.",
+    "brands": "Find brands the dictionary does not know yet, add them, and confirm or reject found "
+    "ones.",
     "onboard": "Read, normalise, map and store a feed; auto-accept what is safe, queue the rest.",
     "status": "Show where each feed stands: rows, accepted, queue, reviews and the audited "
     "error.",

@@ -1,10 +1,12 @@
 """Brand commands: ``catmap brands candidates`` (unknown names that repeat in a feed),
 ``catmap brands accept`` (add a brand to the project's brand dictionary), ``catmap brands list``
-(the project's brand registry) and ``catmap brands confirm`` (trust a brand of the registry)."""
+(the project's brand registry), ``catmap brands confirm`` (trust a brand of the registry),
+``catmap brands reject`` (say it is no brand) and ``catmap brands reset`` (a candidate again)."""
 
 from __future__ import annotations
 
 from pathlib import Path
+from typing import Any
 
 import click
 from rich.markup import escape
@@ -17,6 +19,8 @@ from catmap.jobs.brands import (
     brand_candidates,
     confirm_registry_brand,
     registry_brands,
+    reject_registry_brand,
+    reset_registry_brand,
 )
 from catmap.project import project_dir
 
@@ -32,7 +36,8 @@ _dictionary_option = click.option(
 
 @click.group("brands")
 def brands_group() -> None:
-    """Find brands the dictionary does not know yet, add them, and confirm found ones."""
+    """Find brands the dictionary does not know yet, add them, and confirm or reject found
+    ones."""
 
 
 @brands_group.command("candidates")
@@ -171,23 +176,53 @@ def list_command(status: str | None, limit: int, project: str | None, as_json: b
         f"{counts['candidate']:,} candidates"
         + (f", {counts['rejected']:,} rejected" if counts["rejected"] else "") + ")"
     )
-    for header in ("brand", "status", "seen", "feeds", "spellings"):
+    for header in ("brand", "status", "seen", "feeds", "spellings", "example titles"):
         table.add_column(header, justify="right" if header == "seen" else "left")
     for b in found[: limit or None]:
         spellings = ", ".join(f"{v['spelling']} ({v['seen']:,})" for v in b["variants"][:4])
         more = len(b["variants"]) - 4
+        own = b["feed_own_name"]
         table.add_row(
-            escape(b["name"]),
+            escape(b["name"])
+            + (f"\n[bold yellow]{_own_name_words(own)}[/bold yellow]" if own is not None else ""),
             b["status"] + (" (dictionary)" if b["in_dictionary"] else ""),
             f"{b['seen']:,}",
-            escape(", ".join(b["feeds"])),
+            escape(", ".join(f"{feed} ({n:,})" for feed, n in b["feeds"].items())),
             escape(spellings + (f", +{more}" if more > 0 else "")),
+            escape(" | ".join(b["examples"])),
         )
     console.print(table)
     if limit and len(found) > limit:
         console.print(f"{len(found) - limit:,} more: use --limit 0 or --json.")
+    if any(b["feed_own_name"] is not None for b in found):
+        console.print(
+            "A feed's own name is the shop writing its name in the brand field, seldom a "
+            "brand: reject it, or set retailer_as_no_brand = true in that feed's profile."
+        )
     if counts["candidate"]:
-        console.print("Trust a candidate with: catmap brands confirm NAME")
+        console.print(
+            "Trust a candidate with: catmap brands confirm NAME; "
+            "say it is no brand with: catmap brands reject NAME"
+        )
+
+
+def _own_name_words(feed: str | None) -> str:
+    return f"the feed's own name ({feed})" if feed else "a feed's own name"
+
+
+def _print_settled(facts: dict[str, Any], done: str, products: str) -> None:
+    if facts["was"] == facts["status"]:
+        console.print(f"{escape(facts['name'])} was already {done}.")
+    else:
+        console.print(
+            f"{done.capitalize()} {escape(facts['name'])} (was {facts['was']}; seen "
+            f"{facts['seen']:,} times; {facts['products_changed']:,} products {products})."
+        )
+    if facts["feed_own_name"] is not None:
+        console.print(
+            f"Note: {escape(facts['name'])} is {_own_name_words(facts['feed_own_name'])}."
+        )
+    console.print("Spellings: " + escape(", ".join(v["spelling"] for v in facts["variants"])))
 
 
 @brands_group.command("confirm")
@@ -201,14 +236,39 @@ def confirm_command(name: str, project: str | None, as_json: bool) -> None:
     if as_json:
         echo_json(facts)
         return
-    if facts["was"] == "confirmed":
-        console.print(f"{escape(facts['name'])} was already confirmed.")
-    else:
-        console.print(
-            f"Confirmed {escape(facts['name'])} (seen {facts['seen']:,} times; "
-            f"{facts['products_confirmed']:,} products now carry it as confirmed)."
-        )
-    console.print("Spellings: " + escape(", ".join(v["spelling"] for v in facts["variants"])))
+    _print_settled(facts, "confirmed", "now carry it as confirmed")
+
+
+@brands_group.command("reject")
+@click.argument("name")
+@_project_option
+@json_option
+def reject_command(name: str, project: str | None, as_json: bool) -> None:
+    """Reject a brand of the registry as no brand (NAME or any spelling seen of it): the
+    products that carry it as a candidate lose it, and later runs never learn it again."""
+    facts = reject_registry_brand(name, project=project_dir(project))
+    if as_json:
+        echo_json(facts)
+        return
+    _print_settled(facts, "rejected", "lost it as their brand")
+
+
+@brands_group.command("reset")
+@click.argument("name")
+@_project_option
+@json_option
+def reset_command(name: str, project: str | None, as_json: bool) -> None:
+    """Set a confirmed or rejected brand of the registry back to a candidate (NAME or any
+    spelling seen of it), taking the verdict back: its products are candidates of it again."""
+    facts = reset_registry_brand(name, project=project_dir(project))
+    if as_json:
+        echo_json(facts)
+        return
+    if facts["was"] == "candidate" and not facts["products_changed"]:
+        console.print(f"{escape(facts['name'])} was already a candidate.")
+        console.print("Spellings: " + escape(", ".join(v["spelling"] for v in facts["variants"])))
+        return
+    _print_settled(facts, "set back to a candidate", "are candidates of it again")
 
 
 def register(main: click.Group) -> None:

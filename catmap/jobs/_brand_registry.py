@@ -1,6 +1,7 @@
 """The project's brand registry between the store's plain records and
-:class:`~catmap.attributes.registry.BrandRegistry`: load it, merge a feed's into it, confirm
-a brand (with the products that carry it: :func:`catmap.review.brands.settle_brand`). Every
+:class:`~catmap.attributes.registry.BrandRegistry`: load it, merge a feed's into it, confirm,
+reject or reset a brand (with the products that carry it:
+:func:`catmap.review.brands.settle_brand`). Every
 change runs under the store's write lock (:meth:`Store.change_brand_records`).
 """
 
@@ -18,7 +19,7 @@ from catmap.attributes.registry import (
     RegistryBrand,
 )
 from catmap.review.brands import settle_brand
-from catmap.store import Store
+from catmap.store import BrandVerdict, Store
 
 
 def _registry(records: list[dict[str, Any]], dictionary: BrandDictionary | None) -> BrandRegistry:
@@ -91,14 +92,18 @@ def merge_feed_registry(
     )  # fmt: skip
 
 
-def confirm_brand(store: Store, name: str, *, actor: str = "cli") -> tuple[RegistryBrand, str, int]:
-    """Mark a brand of the registry confirmed, and its products with it (audited); return it,
-    its status before and the products now confirmed.
+def settle_registry_brand(
+    store: Store, name: str, status: str, *, actor: str = "cli"
+) -> tuple[RegistryBrand, BrandVerdict]:
+    """Confirm a brand of the registry, reject it as no brand or set it back to a candidate,
+    with its products (audited); return the brand as now stored and the verdict (its status
+    before, the products changed).
 
     Raises:
-        InputError: no brand of that name or spelling is in the registry.
+        InputError: no brand of that name or spelling is in the registry, or it is a brand
+            of the dictionary and the status is not ``confirmed``.
     """
-    verdict = settle_brand(store, name, CONFIRMED, actor=actor)
+    verdict = settle_brand(store, name, status, actor=actor)
     brand = load_registry(store).resolve(verdict.name)
     assert brand is not None  # just saved
-    return brand, verdict.was, verdict.products
+    return brand, verdict

@@ -16,7 +16,7 @@ screen on top of it. Only this package and :mod:`catmap.cli` import textual.
 
 from __future__ import annotations
 
-from catmap.review.brands import confirm_brand, reject_brand, settle_brand
+from catmap.review.brands import confirm_brand, reject_brand, reset_brand, settle_brand
 from catmap.review.session import REASON_TEXT, Pace, Pending, ReviewSession
 
 __all__ = [
@@ -27,6 +27,7 @@ __all__ = [
     "ReviewSession",
     "confirm_brand",
     "reject_brand",
+    "reset_brand",
     "settle_brand",
 ]
 

@@ -7,8 +7,8 @@ its last onboarding. :meth:`BrandsMixin.change_brand_records` saves a feed's bra
 everything, lets the caller change the project's records and writes every row back inside one
 write transaction, so two runs merging at once never lose each other's brands and a killed run
 leaves the registry as it was. :meth:`BrandsMixin.settle_brand` does the same for a person's
-verdict on one brand (confirmed, or rejected as no brand) and brings the products that carry
-the brand as a candidate in line, in that transaction.
+verdict on one brand (confirmed, rejected as no brand, or set back to a candidate) and brings
+the products that carry the brand in line, in that transaction.
 """
 
 from __future__ import annotations
@@ -19,8 +19,9 @@ from collections.abc import Callable, Sequence
 from dataclasses import replace
 from typing import Any, TypeVar
 
+from catmap.errors import StoreError
 from catmap.store.audit import AuditMixin
-from catmap.store.records import BRAND_VERDICTS, BrandVerdict
+from catmap.store.records import BRAND_VERDICT_ACTIONS, BRAND_VERDICTS, BrandVerdict
 
 _T = TypeVar("_T")
 
@@ -107,16 +108,25 @@ class BrandsMixin(AuditMixin):
         item_id: int | None = None,
         candidate_mark: str = "",
         rejected_evidence: Callable[[BrandVerdict], str] | None = None,
+        taking_back: int | None = None,
     ) -> BrandVerdict:
         """Apply a person's verdict on a brand: its registry record and its products (audited).
 
         In one write transaction: ``decide`` gets the project's brand records and the brand
-        values products carry as candidates (``brand_status = 'candidate'``), and returns the
-        new records and the verdict naming the values that are the brand. The products with
-        one of those values as a candidate then change: a confirmed brand's become
-        ``confirmed`` (``candidate_mark`` taken off the end of their evidence); a rejected
-        brand's lose the brand (status ``none``, evidence ``rejected_evidence``). A brand a
-        reviewer set on a product (``corrected``) is left alone.
+        values products carry as candidates or confirmed, and returns the new records and the
+        verdict naming the brand's spellings. The products with one of those values then
+        change:
+
+        - ``confirmed``: its candidates become ``confirmed`` (``candidate_mark`` taken off the
+          end of their evidence);
+        - ``rejected``: its candidates lose the brand (status ``none``, evidence
+          ``rejected_evidence``); what each held is kept for a later reset;
+        - ``candidate`` (set back): its confirmed products are candidates again (the mark
+          put back), and the products the brand's last rejection took it from get it back,
+          those still as the rejection left them.
+
+        A brand a reviewer set on a product (``corrected``) is left alone, and so is a brand
+        of the dictionary (``dictionary``).
 
         Args:
             decide: see above.
@@ -125,18 +135,23 @@ class BrandsMixin(AuditMixin):
             candidate_mark: the mark that ends a candidate brand's evidence.
             rejected_evidence: the evidence of a product whose brand was rejected, from the
                 verdict (default: "rejected as no brand").
+            taking_back: the audit entry of the verdict this one takes back (the review
+                screen's undo): refused when another verdict on the brand came after it.
 
         Returns:
-            The verdict, with the number of products changed.
+            The verdict, with the number of products changed and its audit entry.
 
         Raises:
             ValueError: the verdict's status is not one of :data:`BRAND_VERDICTS`.
+            StoreError: ``taking_back`` is not the brand's last verdict (someone settled the
+                brand since); nothing is changed.
         """
         with self._transaction() as conn:
             rows = conn.execute("SELECT data FROM brand_registry ORDER BY position").fetchall()
             values = [
                 r[0] for r in conn.execute(
-                    "SELECT DISTINCT brand FROM mappings WHERE brand_status = 'candidate'"
+                    "SELECT DISTINCT brand FROM mappings "
+                    "WHERE brand_status IN ('candidate', 'confirmed')"
                 )
             ]  # fmt: skip
             records, verdict = decide([json.loads(r[0]) for r in rows], values)
@@ -144,13 +159,31 @@ class BrandsMixin(AuditMixin):
                 raise ValueError(
                     f"unknown brand verdict {verdict.status!r}; expected one of {BRAND_VERDICTS}"
                 )
-            self._write_brand_records(conn, records)
             spellings = list(dict.fromkeys(verdict.spellings))
-            changed = 0
+            last = _last_verdict(conn, [verdict.name, *spellings])
+            if taking_back is not None and (last is None or last["id"] != taking_back):
+                raise StoreError(
+                    f"the brand '{verdict.name}' was "
+                    + (
+                        f"{_VERDICT_WORDS[last['action']]} by {last['actor']} at {last['at']} "
+                        "since"
+                        if last is not None else "not settled by that verdict"
+                    )
+                    + "; nothing was changed",
+                    hint="see `catmap brands list`; set the brand as you want it with "
+                    "`catmap brands confirm / reject / reset NAME`",
+                )  # fmt: skip
+            self._write_brand_records(conn, records)
             evidence = (
                 rejected_evidence(verdict) if rejected_evidence is not None
                 else "rejected as no brand"
             )  # fmt: skip
+            changed = 0
+            if verdict.status == "candidate" and last is not None and (
+                last["action"] == "brand_rejected"
+            ):
+                changed += _give_back(conn, last)
+            taken: list[tuple[Any, ...]] = []
             # In slices: SQLite caps the parameters of one statement.
             for start in range(0, len(spellings), 500):
                 part = spellings[start:start + 500]
@@ -164,7 +197,23 @@ class BrandsMixin(AuditMixin):
                         f"WHERE brand_status = 'candidate' AND brand IN ({marks})",
                         [candidate_mark] * 4 + part,
                     )
+                elif verdict.status == "candidate":
+                    cursor = conn.execute(
+                        "UPDATE mappings SET brand_status = 'candidate', brand_evidence = "
+                        "CASE WHEN ? = '' OR substr(brand_evidence, -length(?)) = ? "
+                        "THEN brand_evidence ELSE brand_evidence || ' ' || ? END "
+                        f"WHERE brand_status = 'confirmed' AND brand IN ({marks})",
+                        [candidate_mark] * 4 + part,
+                    )
                 else:
+                    taken.extend(
+                        tuple(r) for r in conn.execute(
+                            "SELECT feed_id, product_id, brand, brand_confidence, "
+                            "brand_evidence FROM mappings "
+                            f"WHERE brand_status = 'candidate' AND brand IN ({marks})",
+                            part,
+                        )
+                    )  # fmt: skip
                     cursor = conn.execute(
                         "UPDATE mappings SET brand = '', brand_confidence = 0, "
                         "brand_status = 'none', brand_evidence = ? "
@@ -172,13 +221,42 @@ class BrandsMixin(AuditMixin):
                         [evidence, *part],
                     )
                 changed += cursor.rowcount
-            verdict = replace(verdict, products=changed)
-            self._audit(
-                conn, f"brand_{verdict.status}", actor, item_id=item_id,
-                detail={"brand": verdict.name, "asked": verdict.asked, "was": verdict.was,
-                        "products": changed},
+            detail: dict[str, Any] = {
+                "brand": verdict.name, "asked": verdict.asked, "was": verdict.was,
+                "products": changed,
+            }  # fmt: skip
+            if verdict.status == "rejected":
+                detail["evidence"] = evidence
+            audit_id = self._audit(
+                conn, BRAND_VERDICT_ACTIONS[verdict.status], actor, item_id=item_id,
+                detail=detail,
             )  # fmt: skip
+            conn.executemany(
+                "INSERT INTO brand_rejected_products (audit_id, feed_id, product_id, brand, "
+                "brand_confidence, brand_evidence) VALUES (?, ?, ?, ?, ?, ?)",
+                [(audit_id, *row) for row in taken],
+            )
+            verdict = replace(verdict, products=changed, audit_id=audit_id)
         return verdict
+
+    def brand_example_titles(self, spellings: Sequence[str], *, limit: int = 2) -> list[str]:
+        """Return up to ``limit`` titles of products that carry one of these brand values (or
+        carried it before a rejection took it away), distinct, in stored order."""
+        spellings = list(dict.fromkeys(spellings))[:500]
+        if not spellings or limit <= 0:
+            return []
+        marks = ", ".join("?" * len(spellings))
+        rows = self._read(
+            "SELECT p.title FROM mappings AS m JOIN products AS p "
+            "ON p.feed_id = m.feed_id AND p.product_id = m.product_id "
+            "WHERE m.brand_status IN ('candidate', 'confirmed', 'dictionary', 'corrected') "
+            f"AND m.brand IN ({marks}) "
+            "UNION ALL SELECT p.title FROM brand_rejected_products AS r JOIN products AS p "
+            "ON p.feed_id = r.feed_id AND p.product_id = r.product_id "
+            f"WHERE r.brand IN ({marks}) LIMIT ?",
+            [*spellings, *spellings, limit * 4],
+        ).fetchall()
+        return list(dict.fromkeys(r[0] for r in rows))[:limit]
 
     def _write_brand_records(
         self, conn: sqlite3.Connection, records: Sequence[dict[str, Any]]
@@ -194,3 +272,42 @@ class BrandsMixin(AuditMixin):
                 for position, record in enumerate(records)
             ],
         )  # fmt: skip
+
+
+_VERDICT_WORDS = {"brand_confirmed": "confirmed", "brand_rejected": "rejected as no brand",
+                  "brand_reset": "set back to a candidate"}
+
+
+def _last_verdict(conn: sqlite3.Connection, names: Sequence[str]) -> sqlite3.Row | None:
+    """The latest verdict on a brand known by any of these names (None: never settled)."""
+    names = list(dict.fromkeys(names))
+    found: sqlite3.Row | None = None
+    for start in range(0, len(names), 500):
+        part = names[start:start + 500]
+        row = conn.execute(
+            "SELECT id, at, actor, action, detail FROM audit_log "
+            "WHERE action IN ('brand_confirmed', 'brand_rejected', 'brand_reset') "
+            f"AND json_extract(detail, '$.brand') IN ({', '.join('?' * len(part))}) "
+            "ORDER BY id DESC LIMIT 1",
+            part,
+        ).fetchone()
+        if row is not None and (found is None or row["id"] > found["id"]):
+            found = row
+    return found
+
+
+def _give_back(conn: sqlite3.Connection, rejection: sqlite3.Row) -> int:
+    """Give the products a rejection took the brand from their brand back, as candidates; a
+    product changed since (a reviewer set its brand, a new onboarding) is left as it is.
+    Returns how many got it back."""
+    evidence = json.loads(rejection["detail"]).get("evidence", "")
+    cursor = conn.execute(
+        "UPDATE mappings SET brand = r.brand, brand_confidence = r.brand_confidence, "
+        "brand_evidence = r.brand_evidence, brand_status = 'candidate' "
+        "FROM brand_rejected_products AS r WHERE r.audit_id = ? "
+        "AND mappings.feed_id = r.feed_id AND mappings.product_id = r.product_id "
+        "AND mappings.brand = '' AND mappings.brand_status = 'none' "
+        "AND mappings.brand_evidence = ?",
+        (rejection["id"], evidence),
+    )
+    return cursor.rowcount

@@ -21,7 +21,11 @@ DECISION_ACTIONS = ("accept", "choose", "no_fit", "skip", "fix_attributes")
 # are judged one product at a time (an audit sample accepted in bulk would measure nothing).
 GROUP_REASONS = ("low_confidence", "remap")
 # What a person can decide about a brand of the registry.
-BRAND_VERDICTS = ("confirmed", "rejected")
+BRAND_VERDICTS = ("confirmed", "rejected", "candidate")
+# The audit log's action for each verdict ("candidate": set back, taking the last one back).
+BRAND_VERDICT_ACTIONS = {
+    "confirmed": "brand_confirmed", "rejected": "brand_rejected", "candidate": "brand_reset",
+}
 
 
 
@@ -31,11 +35,14 @@ class BrandVerdict:
 
     Attributes:
         name: the brand's canonical name.
-        status: ``confirmed`` or ``rejected`` (one of :data:`BRAND_VERDICTS`).
+        status: ``confirmed``, ``rejected`` as no brand, or ``candidate`` again (set back,
+            taking the last verdict back; one of :data:`BRAND_VERDICTS`).
         was: its status before.
-        spellings: the products' brand values that are this brand (they change with it).
+        spellings: the brand's spellings, among them every brand value of products that is
+            this brand (they change with it).
         asked: the name or spelling the person gave.
         products: how many products' brand changed (filled in by the store).
+        audit_id: the verdict's audit log entry (filled in by the store).
     """
 
     name: str
@@ -44,6 +51,7 @@ class BrandVerdict:
     spellings: tuple[str, ...] = ()
     asked: str = ""
     products: int = 0
+    audit_id: int = 0
 
 
 @dataclass(frozen=True, slots=True)

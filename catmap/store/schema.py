@@ -275,6 +275,21 @@ _SCHEMA_V10: tuple[str, ...] = (
     "CREATE INDEX mappings_brand_status ON mappings (brand_status, brand)",
 )
 
+# Version 11: a brand rejected as no brand takes its products' brand away; what each product
+# held before is kept (keyed by the rejection's audit entry), so that setting the brand back
+# to a candidate (`catmap brands reset`, the review screen's undo) gives it back exactly.
+_SCHEMA_V11: tuple[str, ...] = (
+    """CREATE TABLE brand_rejected_products (
+        audit_id INTEGER NOT NULL REFERENCES audit_log(id),
+        feed_id INTEGER NOT NULL,
+        product_id TEXT NOT NULL,
+        brand TEXT NOT NULL,
+        brand_confidence REAL NOT NULL,
+        brand_evidence TEXT NOT NULL,
+        PRIMARY KEY (audit_id, feed_id, product_id)
+    )""",
+)
+
 MIGRATIONS: tuple[tuple[str, ...], ...] = (
     _SCHEMA_V1,
     _SCHEMA_V2,
@@ -286,6 +301,7 @@ MIGRATIONS: tuple[tuple[str, ...], ...] = (
     _SCHEMA_V8,
     _SCHEMA_V9,
     _SCHEMA_V10,
+    _SCHEMA_V11,
 )
 SCHEMA_VERSION = len(MIGRATIONS)
 
