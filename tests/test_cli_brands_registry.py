@@ -226,3 +226,99 @@ def test_confirming_an_unknown_brand_is_an_input_error(world: SmallWorld, tmp_pa
     assert "onboard a feed first" in result.output
     listed = _run("brands", "list", "--project", str(project))
     assert "No brand in the registry yet" in listed.stdout
+
+
+def test_reject_takes_the_brand_off_its_candidates_and_reset_gives_it_back(
+    world: SmallWorld, tmp_path: Path
+) -> None:
+    project = new_project(world, tmp_path / "p")
+    feed = _feed(tmp_path, "kelvora", KELVORA)
+    _json(_onboard(world, project, feed, "--json"))
+    before = _brand_of(project, "kelvora")
+    evidence = _evidence(project, "kelvora")
+    benchlow = sorted(pid for pid, brand in before.items() if brand == "Benchlow")
+    assert len(benchlow) >= 6
+
+    facts = _json(_run("brands", "reject", "BENCHLOW", "--project", str(project), "--json"))
+    assert facts["name"] == "Benchlow"
+    assert (facts["was"], facts["status"]) == ("candidate", "rejected")
+    assert facts["products_cleared"] == len(benchlow)
+    assert _brands(project)["Benchlow"]["status"] == "rejected"
+    after = _brand_of(project, "kelvora")
+    statuses = _status_of(project, "kelvora")
+    assert {after[pid] for pid in benchlow} == {""}
+    assert {statuses[pid] for pid in benchlow} == {"none"}
+    # The shop's own name is another brand: untouched.
+    assert all(after[pid] == "Kelvora" for pid, b in before.items() if b == "Kelvora")
+    with Store.open(store_path(project)) as store:
+        entry = [e for e in store.audit_log() if e.action == "brand_rejected"]
+    assert [(e.actor, e.detail["brand"], e.detail["products"]) for e in entry] == [
+        ("cli", "Benchlow", len(benchlow))
+    ]
+    text = _run("brands", "reject", "Benchlow", "--project", str(project)).stdout
+    assert text.startswith("Benchlow was already rejected.")
+
+    facts = _json(_run("brands", "reset", "Benchlow", "--project", str(project), "--json"))
+    assert (facts["was"], facts["status"]) == ("rejected", "candidate")
+    assert facts["products_reset"] == len(benchlow)
+    # Every product holds again exactly what it held before the rejection.
+    assert _brand_of(project, "kelvora") == before
+    assert _evidence(project, "kelvora") == evidence
+    assert {_status_of(project, "kelvora")[pid] for pid in benchlow} == {"candidate"}
+    again = _run("brands", "reset", "Benchlow", "--project", str(project))
+    assert again.stdout.startswith("Benchlow was already a candidate.")
+
+
+def test_reset_takes_a_confirmation_back(world: SmallWorld, tmp_path: Path) -> None:
+    project = new_project(world, tmp_path / "p")
+    feed = _feed(tmp_path, "kelvora", KELVORA)
+    _json(_onboard(world, project, feed, "--json"))
+    evidence = _evidence(project, "kelvora")
+    confirmed = _json(_run("brands", "confirm", "Benchlow", "--project", str(project), "--json"))
+    text = " ".join(_run("brands", "reset", "bench low", "--project", str(project)).stdout.split())
+    assert text.startswith(
+        f"Set back to a candidate Benchlow (was confirmed; seen {confirmed['seen']} times; "
+        f"{confirmed['products_confirmed']} products are candidates of it again)."
+    )
+    assert _brands(project)["Benchlow"]["status"] == "candidate"
+    assert _evidence(project, "kelvora") == evidence
+    with Store.open(store_path(project)) as store:
+        actions = [e.action for e in store.audit_log() if e.action.startswith("brand_")]
+    assert actions[-2:] == ["brand_confirmed", "brand_reset"]
+
+
+def test_brands_list_helps_decide_examples_and_the_feeds_own_name(
+    world: SmallWorld, tmp_path: Path
+) -> None:
+    project = new_project(world, tmp_path / "p")
+    _json(_onboard(world, project, _feed(tmp_path, "kelvora", KELVORA), "--json"))
+    brands = _brands(project)
+    titles = {row.split(",")[1] for row in KELVORA}
+    assert 1 <= len(brands["Benchlow"]["examples"]) <= 2
+    assert set(brands["Benchlow"]["examples"]) <= titles
+    assert all("enchlow" in t or "Bench Low" in t for t in brands["Benchlow"]["examples"])
+    assert brands["Kelvora"]["feed_own_name"] == "kelvora"
+    assert brands["Benchlow"]["feed_own_name"] is None
+
+    shown = " ".join(_run("brands", "list", "--project", str(project)).stdout.split())
+    assert "own name" in shown
+    assert "reject it, or set retailer_as_no_brand = true" in shown
+    assert "catmap brands reject NAME" in shown
+    # A person warned before rejecting or confirming the shop's name.
+    said = " ".join(_run("brands", "reject", "Kelvora", "--project", str(project)).stdout.split())
+    assert "Note: Kelvora is the feed's own name (kelvora)." in said
+
+
+@pytest.mark.parametrize("command", ["reject", "reset"])
+def test_an_unknown_brand_names_it_and_says_what_to_do(
+    world: SmallWorld, tmp_path: Path, command: str
+) -> None:
+    project = new_project(world, tmp_path / "p")
+    _json(_onboard(world, project, _feed(tmp_path, "kelvora", KELVORA), "--json"))
+    result = CliRunner().invoke(main, ["brands", command, "Nowhere", "--project", str(project)])
+    assert result.exit_code == EXIT_INPUT
+    assert result.output == (
+        "catmap: error: field 'brand': no brand 'Nowhere' in the project's brand registry "
+        "(`catmap brands list` shows the brands `catmap onboard` has seen; use one of their "
+        "names or spellings)\n"
+    )

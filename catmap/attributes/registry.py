@@ -353,8 +353,8 @@ class BrandRegistry:
         if brand is None:
             raise InputError(
                 f"no brand '{name}' in the project's brand registry", field="brand",
-                hint="`catmap brands list` shows the brands seen so far; use one of their "
-                "names or spellings (a brand enters the registry when `catmap onboard` sees it)",
+                hint="`catmap brands list` shows the brands `catmap onboard` has seen; use "
+                "one of their names or spellings",
             )
         brand.status = status
         return brand

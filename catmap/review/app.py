@@ -525,10 +525,15 @@ class ReviewApp(App[None]):
             brand = f"{brand} ({confidence}{trust})"
         row("brand", brand, pending.brand, sources["brand"])
         if self.session.candidate_brand():
+            shop = self.session.candidate_shop_name()
             text.append(
-                fit("       c confirm · r not a brand", width) + "\n",
+                fit(
+                    "       c confirm · r not a brand" if shop is None
+                    else "       the feed's own shop name: r not a brand · c confirm",
+                    width,
+                ) + "\n",
                 style="yellow",
-            )
+            )  # fmt: skip
         row("who", attributes.who, pending.who, sources["who"])
         row("age", attributes.age, pending.age, sources["age"])
         if attributes.audience_conflict:
@@ -736,8 +741,14 @@ class ReviewApp(App[None]):
             reopened.extend(self.session.undo())
 
         if self._run(undo):
+            brand = self.session.undone_brand
+            products = (
+                f"{brand.products} product{'s' if brand.products != 1 else ''}" if brand else ""
+            )
             self.message = (
-                f"undone: {len(reopened)} item{'s' if len(reopened) != 1 else ''} reopened"
+                f"undone: brand {brand.name} is a candidate again ({products})"
+                if brand is not None
+                else f"undone: {len(reopened)} item{'s' if len(reopened) != 1 else ''} reopened"
                 if reopened
                 else "nothing to undo"
             )

@@ -28,10 +28,10 @@ from collections.abc import Callable
 from dataclasses import dataclass
 from datetime import UTC, datetime, timedelta
 
-from catmap.attributes import AttributeExtractor, BrandDictionary, colour_family
+from catmap.attributes import AttributeExtractor, BrandDictionary, brand_key, colour_family
 from catmap.errors import ReviewError, StoreError, UnknownNode
 from catmap.records import AGE_VALUES, WHO_VALUES
-from catmap.review.brands import settle_brand
+from catmap.review.brands import feed_own_names, reset_brand, settle_brand
 from catmap.review.follow import NodeFollower
 from catmap.store import (
     DEFAULT_LEASE_SECONDS,
@@ -138,6 +138,12 @@ class ReviewSession:
         # Items each store-level decision of this session settled (0 for a skip), newest last:
         # undo takes back what the last one counted, and nothing for an older session's.
         self._history: list[int] = []
+        # Brands this session confirmed or rejected, each with the length of _history then:
+        # undo takes back whichever came last, a brand verdict or a decision.
+        self._brand_history: list[tuple[int, BrandVerdict]] = []
+        # What the last undo took back when it was a brand verdict (None: a decision).
+        self.undone_brand: BrandVerdict | None = None
+        self._own_names: dict[str, str] | None = None
         self.current: ReviewView | None = None
         self.pending = Pending()
 
@@ -295,14 +301,32 @@ class ReviewSession:
         return self._decide("skip")
 
     def undo(self) -> list[int]:
-        """Undo this reviewer's last decision (a group decision as a whole).
+        """Undo this reviewer's last decision (a group decision as a whole), or the brand
+        this session confirmed or rejected last when that came after it.
 
         The item on screen is released; a reopened item comes on screen (the others stay
-        claimed by the reviewer and come next).
+        claimed by the reviewer and come next). A brand verdict taken back sets the brand
+        back to a candidate, and its products with it (:attr:`undone_brand` says which); it
+        is refused when someone else settled the brand since, and is then dropped from this
+        session's undo.
 
         Returns:
-            The ids of the items reopened (empty when there was nothing to undo).
+            The ids of the items reopened (empty when there was nothing to undo, or a brand
+            verdict was taken back).
+
+        Raises:
+            StoreError: the decision or brand verdict was overtaken by someone else's.
         """
+        self.undone_brand = None
+        if self._brand_history and self._brand_history[-1][0] >= len(self._history):
+            _position, verdict = self._brand_history.pop()
+            self.undone_brand = reset_brand(
+                self.store, verdict.name, actor=self.reviewer,
+                item_id=self.current.item.id if self.current is not None else None,
+                taking_back=verdict.audit_id,
+            )  # fmt: skip
+            self.refresh()
+            return []
         reopened = self.store.undo_last(self.reviewer, lease_seconds=self.lease_seconds)
         if not reopened:
             return []
@@ -485,8 +509,20 @@ class ReviewSession:
         verdict = settle_brand(
             self.store, brand, status, actor=self.reviewer, item_id=view.item.id
         )
+        self._brand_history.append((len(self._history), verdict))
         self.refresh()
         return verdict
+
+    def candidate_shop_name(self) -> str | None:
+        """The feed whose own shop name the candidate brand on screen is (onboarding found
+        the shop writing its name in the brand field), '' when the feed is not known, None
+        when it is no feed's own name (or not a candidate)."""
+        brand = self.candidate_brand()
+        if not brand:
+            return None
+        if self._own_names is None:
+            self._own_names = feed_own_names(self.store)
+        return self._own_names.get(brand_key(brand))
 
     def sources(self) -> dict[str, str]:
         """Where the brand, who, age and colour on screen came from, in a few words each.

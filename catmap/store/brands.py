@@ -241,7 +241,8 @@ class BrandsMixin(AuditMixin):
 
     def brand_example_titles(self, spellings: Sequence[str], *, limit: int = 2) -> list[str]:
         """Return up to ``limit`` titles of products that carry one of these brand values (or
-        carried it before a rejection took it away), distinct, in stored order."""
+        carried it before a rejection took it away), distinct, in stored order; short of
+        those, titles that hold the first spellings (a name seen only inside a longer one)."""
         spellings = list(dict.fromkeys(spellings))[:500]
         if not spellings or limit <= 0:
             return []
@@ -256,7 +257,19 @@ class BrandsMixin(AuditMixin):
             f"WHERE r.brand IN ({marks}) LIMIT ?",
             [*spellings, *spellings, limit * 4],
         ).fetchall()
-        return list(dict.fromkeys(r[0] for r in rows))[:limit]
+        titles = list(dict.fromkeys(r[0] for r in rows))
+        for spelling in spellings[:3]:
+            if len(titles) >= limit:
+                break
+            pattern = spelling.replace("\\", "\\\\").replace("%", "\\%").replace("_", "\\_")
+            titles.extend(
+                r[0] for r in self._read(
+                    "SELECT title FROM products WHERE title LIKE ? ESCAPE '\\' LIMIT ?",
+                    (f"%{pattern}%", limit * 2),
+                ).fetchall()
+            )  # fmt: skip
+            titles = list(dict.fromkeys(titles))
+        return titles[:limit]
 
     def _write_brand_records(
         self, conn: sqlite3.Connection, records: Sequence[dict[str, Any]]
@@ -279,7 +292,8 @@ _VERDICT_WORDS = {"brand_confirmed": "confirmed", "brand_rejected": "rejected as
 
 
 def _last_verdict(conn: sqlite3.Connection, names: Sequence[str]) -> sqlite3.Row | None:
-    """The latest verdict on a brand known by any of these names (None: never settled)."""
+    """The latest verdict on a brand known by any of these names that changed its status
+    (None: never settled); a verdict repeated on a brand already so changed nothing."""
     names = list(dict.fromkeys(names))
     found: sqlite3.Row | None = None
     for start in range(0, len(names), 500):
@@ -288,7 +302,9 @@ def _last_verdict(conn: sqlite3.Connection, names: Sequence[str]) -> sqlite3.Row
             "SELECT id, at, actor, action, detail FROM audit_log "
             "WHERE action IN ('brand_confirmed', 'brand_rejected', 'brand_reset') "
             f"AND json_extract(detail, '$.brand') IN ({', '.join('?' * len(part))}) "
-            "ORDER BY id DESC LIMIT 1",
+            "AND json_extract(detail, '$.was') IS NOT CASE action "
+            "WHEN 'brand_confirmed' THEN 'confirmed' WHEN 'brand_rejected' THEN 'rejected' "
+            "ELSE 'candidate' END ORDER BY id DESC LIMIT 1",
             part,
         ).fetchone()
         if row is not None and (found is None or row["id"] > found["id"]):
