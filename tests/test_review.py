@@ -16,8 +16,9 @@ from textual import events
 from textual.widgets import OptionList, Static
 
 from catmap.attributes import RESTRICTION_CAUTION
-from catmap.errors import ReviewError
+from catmap.errors import ReviewError, StoreError
 from catmap.records import Alternative, Attributes, Mapping, Product
+from catmap.review import reject_brand, reset_brand
 from catmap.review.app import AGE_KEYS, KEY_LINES, WHO_KEYS, ReviewApp, confidence_bar
 from catmap.review.sample import (
     ANKLE_BOOTS,
@@ -1001,3 +1002,77 @@ def test_only_a_candidate_brand_takes_a_verdict(memory_store: Store, tree: Categ
         session.reject_brand()
     assert [r["status"] for r in memory_store.brand_records() if r["name"] == "Valle Serena"] \
         == ["confirmed"]
+
+
+@sync
+async def test_u_takes_the_brand_verdict_back_when_it_came_last(
+    store: Store, tree: CategoryTree
+) -> None:
+    before = _brand_statuses(store)
+    app = ReviewApp(_session(store, tree))
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("r")
+        await pilot.pause()
+        assert {_brand_statuses(store)[f"BT-{n:03d}"] for n in range(1, 7)} == {("", "none")}
+        await pilot.press("enter")  # then a decision on the product on screen
+        await pilot.pause()
+        await pilot.press("u")  # takes the decision back first
+        await pilot.pause()
+        assert "undone: 1 item reopened" in _screen_text(app, "message")
+        await pilot.press("u")  # then the brand verdict
+        await pilot.pause()
+        assert "undone: brand Ostravel is a candidate again (6 products)" in _screen_text(
+            app, "message"
+        )
+        assert _brand_statuses(store) == before
+        assert "c confirm · r not a brand" in _screen_text(app, "attributes")
+        assert [e.action for e in store.audit_log() if e.action.startswith("brand_")] == [
+            "brand_rejected", "brand_reset",
+        ]  # fmt: skip
+        await pilot.press("u")
+        await pilot.pause()
+        assert "nothing to undo" in _screen_text(app, "message")
+        await pilot.press("q")
+
+
+def test_undo_never_takes_a_brand_back_over_another_reviewers_verdict(
+    memory_store: Store, tree: CategoryTree
+) -> None:
+    ana = _session(memory_store, tree, "ana")
+    ana.next()
+    ana.confirm_brand()
+    # Bob sets it back and rejects it: ana's undo would throw his verdict away.
+    reset_brand(memory_store, "Ostravel", actor="bob")
+    reject_brand(memory_store, "Ostravel", actor="bob")
+    settled = _brand_statuses(memory_store)
+    with pytest.raises(StoreError, match="was rejected as no brand by bob"):
+        ana.undo()
+    assert _brand_statuses(memory_store) == settled
+    assert ana.undo() == []  # dropped from ana's undo; nothing else to take back
+    assert ana.undone_brand is None
+
+
+def test_a_candidate_that_is_the_feeds_own_shop_name_says_so(
+    memory_store: Store, tree: CategoryTree
+) -> None:
+    # An onboarding run found the shop writing "Ostravel" in its brand field.
+    run = memory_store.start_run("onboard", feed=SAMPLE_FEED)
+    memory_store.finish_run(run, summary={"brands": {"retailer": {
+        "name": "OSTRAVEL", "share": 0.6, "departments": 4, "reason": "share",
+        "as_no_brand": False,
+    }}})  # fmt: skip
+    session = _session(memory_store, tree)
+    session.next()
+    assert session.candidate_brand() == "Ostravel"
+    assert session.candidate_shop_name() == SAMPLE_FEED
+    app = ReviewApp(session)
+
+    async def look() -> str:
+        async with app.run_test(size=(80, 24)) as pilot:
+            await pilot.pause()
+            shown = _screen_text(app, "attributes")
+            await pilot.press("q")
+        return shown
+
+    shown = asyncio.run(look())
+    assert "       the feed's own shop name\n       c confirm · r not a brand" in shown

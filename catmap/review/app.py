@@ -525,15 +525,12 @@ class ReviewApp(App[None]):
             brand = f"{brand} ({confidence}{trust})"
         row("brand", brand, pending.brand, sources["brand"])
         if self.session.candidate_brand():
-            shop = self.session.candidate_shop_name()
-            text.append(
-                fit(
-                    "       c confirm · r not a brand" if shop is None
-                    else "       the feed's own shop name: r not a brand · c confirm",
-                    width,
-                ) + "\n",
-                style="yellow",
-            )  # fmt: skip
+            if self.session.candidate_shop_name() is not None:
+                # Onboarding found the shop writing its own name in the brand field: seldom
+                # a brand, so the reviewer is told before pressing c.
+                text.append(fit("       the feed's own shop name", width) + "\n",
+                            style="bold yellow")
+            text.append(fit("       c confirm · r not a brand", width) + "\n", style="yellow")
         row("who", attributes.who, pending.who, sources["who"])
         row("age", attributes.age, pending.age, sources["age"])
         if attributes.audience_conflict:
