@@ -277,7 +277,7 @@ def test_reset_takes_a_confirmation_back(world: SmallWorld, tmp_path: Path) -> N
     confirmed = _json(_run("brands", "confirm", "Benchlow", "--project", str(project), "--json"))
     text = " ".join(_run("brands", "reset", "bench low", "--project", str(project)).stdout.split())
     assert text.startswith(
-        f"Set back to a candidate Benchlow (was confirmed; seen {confirmed['seen']} times; "
+        f"Set Benchlow back to a candidate (was confirmed; seen {confirmed['seen']} times; "
         f"{confirmed['products_confirmed']} products are candidates of it again)."
     )
     assert _brands(project)["Benchlow"]["status"] == "candidate"

@@ -210,12 +210,12 @@ def _own_name_words(feed: str | None) -> str:
     return f"the feed's own name ({feed})" if feed else "a feed's own name"
 
 
-def _print_settled(facts: dict[str, Any], done: str, products: str) -> None:
+def _print_settled(facts: dict[str, Any], done: str, products: str, *, action: str) -> None:
     if facts["was"] == facts["status"]:
         console.print(f"{escape(facts['name'])} was already {done}.")
     else:
         console.print(
-            f"{done.capitalize()} {escape(facts['name'])} (was {facts['was']}; seen "
+            action.format(name=escape(facts["name"])) + f" (was {facts['was']}; seen "
             f"{facts['seen']:,} times; {facts['products_changed']:,} products {products})."
         )
     if facts["feed_own_name"] is not None:
@@ -236,7 +236,7 @@ def confirm_command(name: str, project: str | None, as_json: bool) -> None:
     if as_json:
         echo_json(facts)
         return
-    _print_settled(facts, "confirmed", "now carry it as confirmed")
+    _print_settled(facts, "confirmed", "now carry it as confirmed", action="Confirmed {name}")
 
 
 @brands_group.command("reject")
@@ -250,7 +250,7 @@ def reject_command(name: str, project: str | None, as_json: bool) -> None:
     if as_json:
         echo_json(facts)
         return
-    _print_settled(facts, "rejected", "lost it as their brand")
+    _print_settled(facts, "rejected", "lost it as their brand", action="Rejected {name}")
 
 
 @brands_group.command("reset")
@@ -268,7 +268,10 @@ def reset_command(name: str, project: str | None, as_json: bool) -> None:
         console.print(f"{escape(facts['name'])} was already a candidate.")
         console.print("Spellings: " + escape(", ".join(v["spelling"] for v in facts["variants"])))
         return
-    _print_settled(facts, "set back to a candidate", "are candidates of it again")
+    _print_settled(
+        facts, "a candidate", "are candidates of it again",
+        action="Set {name} back to a candidate",
+    )  # fmt: skip
 
 
 def register(main: click.Group) -> None:
