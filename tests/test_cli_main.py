@@ -105,3 +105,16 @@ def test_the_old_spelling_still_runs_but_is_not_listed() -> None:
     assert "  normalise " in listed and "normalize" not in listed
     old = CliRunner().invoke(main, ["normalize", "--help"])
     assert old.exit_code == 0 and "normalise [OPTIONS] FEED" in old.output
+
+
+def test_python_dash_m_runs_the_same_command_line() -> None:
+    """``python -m catmap`` is the ``catmap`` script: same usage line, same commands."""
+    import subprocess
+    import sys
+
+    done = subprocess.run(
+        [sys.executable, "-m", "catmap", "--help"], capture_output=True, text=True, check=False
+    )
+    assert done.returncode == 0, done.stderr
+    assert done.stdout.startswith("Usage: catmap ")
+    assert "onboard" in done.stdout
