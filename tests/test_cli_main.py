@@ -109,9 +109,6 @@ def test_the_old_spelling_still_runs_but_is_not_listed() -> None:
 
 def test_python_dash_m_runs_the_same_command_line() -> None:
     """``python -m catmap`` is the ``catmap`` script: same usage line, same commands."""
-    import subprocess
-    import sys
-
     done = subprocess.run(
         [sys.executable, "-m", "catmap", "--help"], capture_output=True, text=True, check=False
     )
