@@ -25,6 +25,7 @@ from catmap.cli._render import (
     tree_file_option,
 )
 from catmap.cli._render import project_option as _project_option
+from catmap.cli.audit import audit_lines
 from catmap.decide.threshold import DEFAULT_DELTA, DEFAULT_MAX_ERROR
 from catmap.errors import InputError
 from catmap.feeds.writers import FORMATS
@@ -313,6 +314,8 @@ def status_command(project: str | None, feed: str | None, as_json: bool) -> None
                 f"{escape(f['feed'])}: audited error of the auto-accepted part: "
                 f"{escape(f['audit_error']['text'])}"
             )
+    for line in audit_lines([f["audit_check"] for f in feeds if f["audit_check"]["audited"]]):
+        _say(line)
 
 
 # -- export -----------------------------------------------------------------------------------
