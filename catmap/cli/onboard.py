@@ -455,6 +455,9 @@ def decisions_import_command(
             _say(f"  {escape(str(file))}:{bad.line}: {escape(bad.reason)}")
         if result.bad_count > len(result.bad):
             _say(f"  ... and {result.bad_count - len(result.bad):,} more")
+        telling = [f for f in result.audit_checks if f["verdict"].startswith("over_target")]
+        for line in audit_lines(telling):
+            _say(line)
     if result.rejects_file:
         # The good rows are applied; the bad ones make the run fail so a script notices them.
         raise InputError(
