@@ -159,7 +159,10 @@ def test_over_target_raises_the_threshold_and_requeues(tmp_path: Path) -> None:
     assert _statuses(project) == after
 
     text = " ".join(_run("status", "--project", str(project)).stdout.split())
-    assert f"{FEED}: audit check: 0 wrong of 80 audited (0.0%; target 2.0%): within target" in text
+    assert (
+        f"{FEED}: audit check at threshold {done['new_threshold']:.3f}: 0 wrong of 80 audited "
+        "(0.0%; target 2.0%): within target" in text
+    )
     facts = json.loads(_run("status", "--project", str(project), "--json").stdout)
     (feed,) = facts["feeds"]
     assert feed["threshold"] == done["new_threshold"]
@@ -200,7 +203,7 @@ def test_review_session_end_runs_the_check(
     assert result.exit_code == 0, result.output
     assert len(shown) == 1
     text = " ".join(result.stdout.split())
-    assert f"{FEED}: audit check: 8 wrong of 100 audited" in text
+    assert f"{FEED}: audit check at threshold 0.800: 8 wrong of 100 audited" in text
     assert "150 accepted mappings back in the review queue" in text
     with Store.open(store_path(project)) as store:
         raised = [e for e in store.audit_log(FEED) if e.action == "threshold_raised"]

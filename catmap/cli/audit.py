@@ -23,7 +23,8 @@ def audit_lines(feeds: list[dict[str, Any]]) -> list[str]:
     """
     lines = []
     for f in feeds:
-        line = f"{escape(f['feed'])}: audit check: {escape(f['text'])}"
+        at = f" at threshold {f['threshold']:.3f}" if f.get("threshold") is not None else ""
+        line = f"{escape(f['feed'])}: audit check{at}: {escape(f['text'])}"
         if f["verdict"] == "over_target":
             if f.get("applied"):
                 line += f"; {f['requeued']:,} accepted mappings back in the review queue"

@@ -314,7 +314,7 @@ def status_command(project: str | None, feed: str | None, as_json: bool) -> None
                 f"{escape(f['feed'])}: audited error of the auto-accepted part: "
                 f"{escape(f['audit_error']['text'])}"
             )
-    for line in audit_lines([f["audit_check"] for f in feeds if f["audit_check"]["audited"]]):
+    for line in audit_lines([f["audit_check"] for f in feeds if f["audit_check"].get("audited")]):
         _say(line)
 
 

@@ -74,9 +74,12 @@ def feed_acceptance(store: Store, feed: str) -> FeedAcceptance | None:
     for run in reversed(store.runs(feed)):
         if run.kind not in ("onboard", AUDIT_CHECK_RUN) or not run.finished_at:
             continue
-        if "threshold" not in run.summary:
+        # The summary has the threshold the run used (after the feed check); its parameters
+        # the calibrated one (a run that stopped before its summary).
+        recorded = run.summary if "threshold" in run.summary else run.params
+        if "threshold" not in recorded:
             continue
-        threshold = run.summary["threshold"]
+        threshold = recorded["threshold"]
         return FeedAcceptance(
             None if threshold is None else float(threshold),
             float(run.summary.get("max_error", run.params.get("max_error", DEFAULT_MAX_ERROR))),
@@ -126,7 +129,11 @@ def check_feed_audit(
     """
     acceptance = feed_acceptance(store, feed)
     if acceptance is None:
-        return {"feed": feed, "verdict": "not_onboarded", "text": "not onboarded yet"}
+        return {
+            "feed": feed,
+            "verdict": "not_onboarded",
+            "text": "no accept threshold recorded for this feed (run `catmap onboard` on it)",
+        }
     outcomes = store.audit_outcomes(feed)
     confidences = np.array([c for _p, c, _w in outcomes], dtype=float)
     wrong = np.array([w for _p, _c, w in outcomes], dtype=bool)
