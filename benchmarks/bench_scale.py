@@ -183,12 +183,8 @@ def ensure_model(project: Path, cold_start: bool) -> None:
         return
     from catmap.jobs.train import train_project
 
-    from catmap.demo import ensure_demo_world
-    from catmap.jobs.demo import DEMO_WORLD
-
     print("training the demo model once into", project, flush=True)
-    paths = ensure_demo_world(DEMO_WORLD)
-    train_project([Path(paths.reference)], project=project)
+    train_project([], project=project)
 
 
 def main() -> None:

@@ -282,6 +282,39 @@ def test_migration_to_version_10_reads_each_product_s_brand_status(tmp_path: Pat
         assert store.brand_records()[0]["status"] == "rejected"
 
 
+def test_migration_to_version_12_rebuilds_the_queue_with_its_ids(tmp_path: Path) -> None:
+    path = tmp_path / "store.sqlite"
+    conn = sqlite3.connect(path, isolation_level=None)
+    conn.execute("PRAGMA foreign_keys=ON")
+    assert migrate(conn, target=11) == 11
+    conn.close()
+    with Store.open(path, migrate_schema=False) as store:
+        assert store.schema_version == 11
+        seed(store, [make_row(1), make_row(2, status="accepted", confidence=0.95)])
+        item = store.claim_next("ann")
+        assert item is not None
+        store.decide(item.id, "ann", "choose", node_id="1524")
+    conn = sqlite3.connect(path, isolation_level=None)
+    with pytest.raises(sqlite3.IntegrityError):  # version 11 does not know the reason
+        conn.execute(
+            "INSERT INTO review_items (feed_id, product_id, reason, created_at) "
+            "VALUES (1, 'p0002', 'audit_over_target', 'x')"
+        )
+    conn.close()
+    with Store.open(path) as store:
+        assert store.schema_version == SCHEMA_VERSION
+        assert store._conn.execute("PRAGMA foreign_keys").fetchone()[0] == 1
+        (decision,) = store.decisions()
+        assert decision.item_id == item.id and store.item(item.id).state == "done"
+        assert store.requeue_accepted("shop-a", below=0.99, why="test") == ["p0002"]
+        (again,) = [i for i in store.items() if i.product_id == "p0002"]
+        assert again.reasons == ("audit_over_target",)
+        indexes = {r[0] for r in store._conn.execute(
+            "SELECT name FROM sqlite_master WHERE tbl_name = 'review_items' AND type = 'index' "
+            "AND name NOT LIKE 'sqlite_%'")}  # fmt: skip
+        assert indexes == {"review_items_group", "review_items_claim"}
+
+
 def test_migrating_twice_changes_nothing(tmp_path: Path) -> None:
     path = tmp_path / "store.sqlite"
     Store.open(path).close()

@@ -20,12 +20,10 @@ from __future__ import annotations
 import re
 from collections.abc import Sequence
 from itertools import chain, repeat
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 import scipy.sparse as sp
-from sklearn.feature_extraction.text import TfidfVectorizer
-from sklearn.preprocessing import normalize
 
 from catmap.classify._kernels import (
     char_wb_features,
@@ -36,6 +34,9 @@ from catmap.classify._kernels import (
     sum_rows,
     token_ngram_counts,
 )
+
+if TYPE_CHECKING:
+    from sklearn.feature_extraction.text import TfidfVectorizer
 
 __all__ = ["WordCachedTfidf", "WordNgramTfidf", "fast_transformer"]
 
@@ -261,9 +262,16 @@ class WordNgramTfidf(_PerWordCache):
         pair_features: list[int] = []
         for term, feature in self._vocabulary.items():
             parts = term.split(" ")
-            if len(parts) > 2 or any(not part or self._findall(part) != [part] for part in parts):
+            if len(parts) > 2:
                 return False  # a token pattern that keeps spaces: the plain path is exact
-            numbers = [token.setdefault(part, len(token)) for part in parts]
+            for part in parts:
+                # Each distinct token is checked once (a bigram's parts are mostly unigrams
+                # already seen): the regex over the whole vocabulary was most of a model's load.
+                if part not in token:
+                    if not part or self._findall(part) != [part]:
+                        return False
+                    token[part] = len(token)
+            numbers = [token[part] for part in parts]
             if len(numbers) == 1:
                 unigram_tokens.append(numbers[0])
                 unigram_features.append(feature)
@@ -386,6 +394,8 @@ def _weighted(vectorizer: TfidfVectorizer, idf: Any, matrix: sp.csr_matrix) -> s
         # float32 / double, rounded to float32: the same arithmetic as scikit-learn's.
         np.divide(data, norms[row], out=data, casting="unsafe")
     elif vectorizer.norm is not None:
+        from sklearn.preprocessing import normalize
+
         matrix = normalize(matrix, norm=vectorizer.norm, copy=False)
     result: sp.csr_matrix = sp.csr_matrix(matrix, dtype=np.float32)
     return result

@@ -11,7 +11,6 @@ from __future__ import annotations
 from typing import Any
 
 import numpy as np
-from scipy.optimize import minimize_scalar
 
 __all__ = ["ECE_BINS", "expected_calibration_error", "fit_temperature", "softmax"]
 
@@ -60,6 +59,8 @@ def fit_temperature(
     if scores.ndim != 2 or len(scores) == 0 or len(labels) != len(scores):
         raise ValueError("scores must be (n, k) with one label per row, n > 0")
     # Searched on log T: the likelihood is smooth and unimodal in it for one shared temperature.
+    from scipy.optimize import minimize_scalar
+
     result = minimize_scalar(
         lambda log_t: _nll(scores, labels, float(np.exp(log_t))),
         bounds=(np.log(bounds[0]), np.log(bounds[1])),

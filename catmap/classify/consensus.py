@@ -12,7 +12,7 @@ from collections import Counter
 from collections.abc import Iterable
 from dataclasses import dataclass
 
-__all__ = ["MIN_PRODUCTS", "PathConsensus", "path_consensus"]
+__all__ = ["MIN_PRODUCTS", "PathConsensus", "PathCounts", "path_consensus"]
 
 MIN_PRODUCTS = 5
 
@@ -36,6 +36,37 @@ class PathConsensus:
         return list(self.shares.items())[:n]
 
 
+class PathCounts:
+    """Products per (retailer path, predicted node), counted as a feed streams by.
+
+    Its size grows with the feed's distinct paths and the nodes each path's products go to,
+    never with the number of products (a list of one pair per product did: ~160 bytes each).
+    """
+
+    def __init__(self) -> None:
+        self.counts: dict[str, Counter[str]] = {}
+
+    def add(self, pairs: Iterable[tuple[str, str]]) -> None:
+        """Count (retailer path, predicted node id) pairs; empty paths are skipped."""
+        counts = self.counts
+        for path, node in pairs:
+            if path:
+                counter = counts.get(path)
+                if counter is None:
+                    counter = counts[path] = Counter()
+                counter[node] += 1
+
+    def consensus(self) -> dict[str, PathConsensus]:
+        """Return path -> its consensus, paths with most products first."""
+        result = {}
+        ordered = sorted(self.counts.items(), key=lambda item: (-item[1].total(), item[0]))
+        for path, counter in ordered:
+            total = counter.total()
+            shares = {node: count / total for node, count in counter.most_common()}
+            result[path] = PathConsensus(path, total, shares)
+        return result
+
+
 def path_consensus(pairs: Iterable[tuple[str, str]]) -> dict[str, PathConsensus]:
     """Count, per retailer path, the share of its products in each predicted node.
 
@@ -45,13 +76,6 @@ def path_consensus(pairs: Iterable[tuple[str, str]]) -> dict[str, PathConsensus]
     Returns:
         path -> its consensus, paths with most products first.
     """
-    counts: dict[str, Counter[str]] = {}
-    for path, node in pairs:
-        if path:
-            counts.setdefault(path, Counter())[node] += 1
-    result = {}
-    for path, counter in sorted(counts.items(), key=lambda item: (-item[1].total(), item[0])):
-        total = counter.total()
-        shares = {node: count / total for node, count in counter.most_common()}
-        result[path] = PathConsensus(path, total, shares)
-    return result
+    counts = PathCounts()
+    counts.add(pairs)
+    return counts.consensus()

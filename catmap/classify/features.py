@@ -17,15 +17,17 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 from dataclasses import dataclass
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 import scipy.sparse as sp
-from sklearn.feature_extraction.text import TfidfVectorizer
 
 from catmap.classify._wordcache import WordCachedTfidf, WordNgramTfidf, fast_transformer
 from catmap.errors import ModelNotTrained
 from catmap.records import Product
+
+if TYPE_CHECKING:
+    from sklearn.feature_extraction.text import TfidfVectorizer
 
 __all__ = ["FIELD_BLOCKS", "ProductFeaturizer", "ProductTexts", "product_texts"]
 
@@ -140,21 +142,36 @@ class ProductFeaturizer:
             max_features: vocabulary cap.
             ngram_range: another n-gram range than the block's (a model folder's own).
         """
+        from sklearn.feature_extraction.text import TfidfVectorizer
+
+        return TfidfVectorizer(
+            **ProductFeaturizer.vectorizer_settings(block, min_df, max_features, ngram_range)
+        )
+
+    @staticmethod
+    def vectorizer_settings(
+        block: str,
+        min_df: int = 1,
+        max_features: int | None = None,
+        ngram_range: tuple[int, int] | None = None,
+    ) -> dict[str, Any]:
+        """Return the ``TfidfVectorizer`` keyword arguments of a block (see
+        :meth:`make_vectorizer`)."""
         settings = next(s for name, _, s in FIELD_BLOCKS if name == block)
         if ngram_range is not None:
             settings = {**settings, "ngram_range": tuple(ngram_range)}
         extra: dict[str, Any] = {}
         if settings["analyzer"] == "word":
             extra["token_pattern"] = _TOKEN_PATTERN
-        return TfidfVectorizer(
-            lowercase=True,
-            sublinear_tf=True,
-            min_df=min_df,
-            max_features=max_features,
-            dtype=np.float32,
+        return {
+            "lowercase": True,
+            "sublinear_tf": True,
+            "min_df": min_df,
+            "max_features": max_features,
+            "dtype": np.float32,
             **settings,
             **extra,
-        )
+        }
 
     def fit(self, texts: ProductTexts) -> ProductFeaturizer:
         """Learn each block's vocabulary and idf from training texts.

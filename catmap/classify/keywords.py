@@ -11,11 +11,10 @@ mapping works on day one.
 from __future__ import annotations
 
 from collections.abc import Sequence
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 import scipy.sparse as sp
-from sklearn.feature_extraction.text import TfidfVectorizer
 
 from catmap.classify._kernels import add_rows
 from catmap.classify._wordcache import WordCachedTfidf
@@ -23,6 +22,9 @@ from catmap.classify.calibration import softmax
 from catmap.classify.features import ProductTexts, distinct_values
 from catmap.errors import ModelNotTrained
 from catmap.tree.taxonomy import CategoryTree
+
+if TYPE_CHECKING:
+    from sklearn.feature_extraction.text import TfidfVectorizer
 
 __all__ = ["KeywordMapper", "node_document"]
 
@@ -51,11 +53,21 @@ def node_document(tree: CategoryTree, node_id: str) -> str:
     return " ; ".join(parts)
 
 
+# The keyword mapper's TfidfVectorizer keyword arguments.
+KEYWORD_VECTORIZER_SETTINGS: dict[str, Any] = {
+    "analyzer": "char_wb",
+    "ngram_range": (3, 5),
+    "sublinear_tf": True,
+    "lowercase": True,
+    "dtype": np.float32,
+}
+
+
 def make_keyword_vectorizer() -> TfidfVectorizer:
     """Return the unfitted vectorizer of the keyword mapper."""
-    return TfidfVectorizer(
-        analyzer="char_wb", ngram_range=(3, 5), sublinear_tf=True, lowercase=True, dtype=np.float32
-    )
+    from sklearn.feature_extraction.text import TfidfVectorizer
+
+    return TfidfVectorizer(**KEYWORD_VECTORIZER_SETTINGS)
 
 
 class KeywordMapper:

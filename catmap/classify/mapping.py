@@ -33,7 +33,7 @@ import scipy.sparse as sp
 from catmap._atomic import AtomicFile, write_text_atomic
 from catmap._iterate import chunked
 from catmap.classify.backoff import NodeIndex, backoff_rows, choose_nodes
-from catmap.classify.consensus import MIN_PRODUCTS, PathConsensus, path_consensus
+from catmap.classify.consensus import MIN_PRODUCTS, PathConsensus, PathCounts
 from catmap.classify.features import ProductTexts, product_texts
 from catmap.classify.keywords import KeywordMapper
 from catmap.classify.model import CategoryModel
@@ -435,7 +435,7 @@ def map_feed(
     temporary = tempfile.TemporaryDirectory(prefix="catmap-map-")
     store = _PassOneStore(Path(temporary.name))
     try:
-        pairs, fatal = _first_pass(
+        counts, fatal = _first_pass(
             source,
             mapper,
             rules,
@@ -449,7 +449,7 @@ def map_feed(
     finally:
         rejects.close()
 
-    consensus = path_consensus(pairs)
+    consensus = counts.consensus()
     writer = _MappingWriter(mappings_path, format)
     try:
         _second_pass(store.chunks(), mapper, consensus, threshold, writer, summary)
@@ -485,16 +485,17 @@ def _first_pass(
     chunk_size: int,
     workers: int,
     on_progress: Callable[[int], None] | None,
-) -> tuple[list[tuple[str, str]], BaseException | None]:
+) -> tuple[PathCounts, BaseException | None]:
     """Read the feed in chunks, match the rules and store each chunk's top-k probabilities.
 
     Returns:
-        (retailer path, first-pass node) per product, for the path consensus; and the fatal
-        feed error that stopped the reading early, if any (raised once the outputs are written).
+        The products per (retailer path, first-pass node), for the path consensus; and the
+        fatal feed error that stopped the reading early, if any (raised once the outputs are
+        written).
     """
     global _WORKER_MAPPER
     accounting = source.accounting
-    pairs: list[tuple[str, str]] = []
+    counts = PathCounts()
     fatal: BaseException | None = None
     pool = None
     try:
@@ -506,7 +507,7 @@ def _first_pass(
         def finish(rows: list[_Row], result: Any) -> None:
             scored: _Scored = result.get() if pool is not None else result
             classes = mapper.classes
-            pairs.extend(
+            counts.add(
                 (row[2], row[3] or classes[top])
                 for row, top in zip(rows, scored[0][:, 0].tolist(), strict=True)
             )
@@ -540,7 +541,7 @@ def _first_pass(
             pool.close()
             pool.join()
         _WORKER_MAPPER = None
-    return pairs, fatal
+    return counts, fatal
 
 
 def _rule_rows(chunk: list[Product], rules: RuleSet) -> list[_Row]:

@@ -27,8 +27,6 @@ from typing import Any
 
 import numpy as np
 import scipy.sparse as sp
-from sklearn.linear_model import LogisticRegression, SGDClassifier
-from sklearn.svm import LinearSVC
 
 from catmap.classify._kernels import pack_rows, score_rows
 from catmap.classify.calibration import expected_calibration_error, fit_temperature, softmax
@@ -56,6 +54,10 @@ Array = np.ndarray[Any, Any]
 
 
 def _linear(classifier: str, c: float, random_state: int, n: int) -> Any:
+    # Imported here: mapping with a saved model never fits, and scikit-learn's import is slow.
+    from sklearn.linear_model import LogisticRegression, SGDClassifier
+    from sklearn.svm import LinearSVC
+
     if classifier == "linear_svc":
         return LinearSVC(C=c, random_state=random_state, dual=True, max_iter=2000)
     if classifier == "sgd":

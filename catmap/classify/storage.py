@@ -17,19 +17,21 @@ from __future__ import annotations
 import hashlib
 import json
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 import scipy.sparse as sp
-import sklearn
-from sklearn.feature_extraction.text import TfidfVectorizer
 
 from catmap._atomic import atomic_open, write_text_atomic
+from catmap.classify._tfidf import LoadedTfidf
 from catmap.classify.features import ProductFeaturizer
-from catmap.classify.keywords import KeywordMapper, make_keyword_vectorizer
+from catmap.classify.keywords import KEYWORD_VECTORIZER_SETTINGS, KeywordMapper
 from catmap.classify.model import CategoryModel
 from catmap.errors import ModelError, ModelNotTrained, ModelTreeMismatch
 from catmap.tree.taxonomy import CategoryTree
+
+if TYPE_CHECKING:
+    from sklearn.feature_extraction.text import TfidfVectorizer
 
 __all__ = [
     "FORMAT_VERSION",
@@ -80,6 +82,12 @@ def _save_sparse(path: Path, matrix: Any) -> None:
         sp.save_npz(handle, matrix)
 
 
+def _sklearn_version() -> str:
+    import sklearn
+
+    return str(sklearn.__version__)
+
+
 def _save_vocabulary(folder: Path, name: str, vectorizer: TfidfVectorizer) -> None:
     terms = sorted(vectorizer.vocabulary_, key=vectorizer.vocabulary_.__getitem__)
     # Terms never contain NUL (text is cleaned), so NUL-joined UTF-8 is compact and exact.
@@ -88,12 +96,13 @@ def _save_vocabulary(folder: Path, name: str, vectorizer: TfidfVectorizer) -> No
     _save_array(folder / f"idf-{name}.npy", np.asarray(vectorizer.idf_, dtype=np.float64))
 
 
-def _load_vocabulary(folder: Path, name: str, vectorizer: TfidfVectorizer) -> TfidfVectorizer:
+def _load_vocabulary(folder: Path, name: str, settings: dict[str, Any]) -> LoadedTfidf:
+    """A fitted vectorizer from its settings and the folder's arrays (no scikit-learn import)."""
     raw = np.load(folder / f"vocab-{name}.npy", allow_pickle=False).tobytes().decode("utf-8")
     terms = raw.split("\0") if raw else []
-    vectorizer.vocabulary_ = {term: i for i, term in enumerate(terms)}
-    vectorizer.idf_ = np.load(folder / f"idf-{name}.npy", allow_pickle=False)
-    return vectorizer
+    vocabulary = dict(zip(terms, range(len(terms)), strict=True))
+    idf = np.load(folder / f"idf-{name}.npy", allow_pickle=False)
+    return LoadedTfidf(settings, vocabulary, idf)
 
 
 def save_model(
@@ -135,7 +144,7 @@ def save_model(
         "format": "catmap-model",
         "format_version": FORMAT_VERSION,
         "catmap_version": _catmap_version(),
-        "sklearn_version": sklearn.__version__,
+        "sklearn_version": _sklearn_version(),
         "tree_version": model.tree.version,
         "tree_fingerprint": file_fingerprint(model.tree.path),
         "tree_file": str(model.tree.path or ""),
@@ -281,7 +290,7 @@ def load_model(folder: str | Path, tree: CategoryTree) -> tuple[CategoryModel, d
             block: _load_vocabulary(
                 src,
                 block,
-                ProductFeaturizer.make_vectorizer(block, ngram_range=ranges.get(block)),
+                ProductFeaturizer.vectorizer_settings(block, ngram_range=ranges.get(block)),
             )
             for block in manifest["feature_blocks"]
         }
@@ -292,7 +301,7 @@ def load_model(folder: str | Path, tree: CategoryTree) -> tuple[CategoryModel, d
             temperature=manifest["keyword_temperature"],
             path_weight=manifest["keyword_path_weight"],
         )
-        keywords.vectorizer_ = _load_vocabulary(src, "keywords", make_keyword_vectorizer())
+        keywords.vectorizer_ = _load_vocabulary(src, "keywords", KEYWORD_VECTORIZER_SETTINGS)
         keywords.documents_ = sp.load_npz(src / "keyword-documents.npz").tocsr()
         keywords.classes_ = np.load(src / "keyword-classes.npy", allow_pickle=False)
         model.keywords_ = keywords

@@ -31,6 +31,7 @@ COMMANDS: dict[str, str] = {
     "onboard": "onboard",
     "status": "onboard",
     "review": "review",
+    "audit-check": "audit",
     "decisions": "onboard",
     "export": "onboard",
     "demo": "onboard",
@@ -60,6 +61,8 @@ SHORT_HELP: dict[str, str] = {
     "status": "Show where each feed stands: rows, accepted, queue, reviews and the audited "
     "error.",
     "review": "Review uncertain mappings one product at a time, with single keys.",
+    "audit-check": "Check each feed's audited error against its target; raise the threshold "
+    "when over.",
     "decisions": "Review in a spreadsheet: export the queue to CSV, import the filled rows.",
     "export": "Write each feed's enriched products (node, confidence, status, attributes), its "
     "rejects and the accounting of its last run.",

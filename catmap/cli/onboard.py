@@ -25,6 +25,7 @@ from catmap.cli._render import (
     tree_file_option,
 )
 from catmap.cli._render import project_option as _project_option
+from catmap.cli.audit import audit_lines
 from catmap.decide.threshold import DEFAULT_DELTA, DEFAULT_MAX_ERROR
 from catmap.errors import InputError
 from catmap.feeds.writers import FORMATS
@@ -321,6 +322,8 @@ def status_command(project: str | None, feed: str | None, as_json: bool) -> None
                 f"{escape(f['feed'])}: audited error of the auto-accepted part: "
                 f"{escape(f['audit_error']['text'])}"
             )
+    for line in audit_lines([f["audit_check"] for f in feeds if f["audit_check"].get("audited")]):
+        _say(line)
 
 
 # -- export -----------------------------------------------------------------------------------
@@ -460,6 +463,9 @@ def decisions_import_command(
             _say(f"  {escape(str(file))}:{bad.line}: {escape(bad.reason)}")
         if result.bad_count > len(result.bad):
             _say(f"  ... and {result.bad_count - len(result.bad):,} more")
+        telling = [f for f in result.audit_checks if f["verdict"].startswith("over_target")]
+        for line in audit_lines(telling):
+            _say(line)
     if result.rejects_file:
         # The good rows are applied; the bad ones make the run fail so a script notices them.
         raise InputError(

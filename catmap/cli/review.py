@@ -7,8 +7,10 @@ import sys
 
 import click
 
-from catmap.cli._render import project_option
+from catmap.cli._render import console, project_option
+from catmap.cli.audit import audit_lines
 from catmap.errors import NoTerminal
+from catmap.jobs.audit import audit_check_project
 from catmap.jobs.review import project_review_session
 from catmap.project import project_dir
 from catmap.review.session import ReviewSession
@@ -74,3 +76,9 @@ def register(main: click.Group) -> None:
                 f"Reviewed {pace.done} item{'s' if pace.done != 1 else ''} this session; "
                 f"{pace.left} left in the queue."
             )
+        # The audit samples decided (in this session or beside it) may put a feed over its
+        # target: act on it now, and say so when the audit asks for something.
+        checked = audit_check_project(folder, feed, actor=reviewer or _default_reviewer())
+        telling = [f for f in checked["feeds"] if f["verdict"].startswith("over_target")]
+        for line in audit_lines(telling):
+            console.print(line, soft_wrap=True)

@@ -6,6 +6,8 @@ Output: the accept threshold for a stated error rate (Learn-then-Test) and the r
 
 - :mod:`~catmap.decide.threshold`: the accept threshold and the error estimate of an audit.
 - :mod:`~catmap.decide.queue`: the review order and the audit slice.
+- :mod:`~catmap.decide.audit`: whether a feed's audited error is over its target, and the
+  threshold to raise it to.
 """
 
 from __future__ import annotations

@@ -14,6 +14,7 @@ In the order a feed goes through catmap:
 - :mod:`~catmap.jobs.onboard`: a feed read, mapped, decided and stored, the rest queued.
 - :mod:`~catmap.jobs.status`: where each feed of a project stands.
 - :mod:`~catmap.jobs.review`: a review session on the project's store.
+- :mod:`~catmap.jobs.audit`: each feed's audited error fed back into its threshold.
 - :mod:`~catmap.jobs.decisions`: the review queue as a CSV, and its filled rows back.
 - :mod:`~catmap.jobs.export`: the enriched feed written out.
 - :mod:`~catmap.jobs.remap`: the stored mappings moved to a new tree version.

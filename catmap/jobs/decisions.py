@@ -176,6 +176,8 @@ class ImportResult:
     bad: list[BadRow] = field(default_factory=list)
     bad_count: int = 0
     rejects_file: Path | None = None
+    # What each feed's audit check said after the import (catmap.jobs.audit).
+    audit_checks: list[dict[str, Any]] = field(default_factory=list)
 
     def to_dict(self) -> dict[str, Any]:
         """Return the facts as JSON-ready values (the first bad rows; all are in the file)."""
@@ -189,6 +191,7 @@ class ImportResult:
                 {"line": b.line, "item_id": b.item_id, "reason": b.reason} for b in self.bad
             ],
             "rejects_file": str(self.rejects_file) if self.rejects_file else None,
+            "audit_checks": self.audit_checks,
         }
 
 
@@ -460,12 +463,13 @@ def import_project_decisions(
     """
     from catmap.jobs._project_tree import check_store_tree
     from catmap.jobs._remap_versions import project_store_tree
+    from catmap.jobs.audit import check_feed_audit
     from catmap.jobs.onboard import load_extractor
 
     with Store.open(store_path(project)) as store:
         tree = project_store_tree(project, store, "import decisions")
         check_store_tree(store, tree)
-        return import_decisions(
+        result = import_decisions(
             store,
             path,
             tree=tree,
@@ -474,3 +478,8 @@ def import_project_decisions(
             extractor=load_extractor(project, tree),
             encoding=encoding,
         )
+        # The audit samples just decided may put a feed over its target: act on it now.
+        result.audit_checks = [
+            check_feed_audit(store, record.name, actor=reviewer) for record in store.feeds()
+        ]
+        return result

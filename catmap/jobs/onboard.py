@@ -34,7 +34,7 @@ from __future__ import annotations
 import time
 from collections import Counter
 from collections.abc import Callable, Iterable, Iterator, Sequence
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from itertools import islice
 from pathlib import Path
 from typing import Any
@@ -78,6 +78,7 @@ from catmap.jobs._feed_mapper import (
 from catmap.jobs._gold import GoldCheck, check_against_gold
 from catmap.jobs._project_tree import check_store_tree, open_project_tree
 from catmap.jobs._remap_versions import check_onboarding, record_feed_versions
+from catmap.jobs.audit import raised_floor
 from catmap.project import feed_name, load_settings, subfolder
 from catmap.records import Attributes, Mapping, Product, Reject
 from catmap.store import MappedRow, Store, store_path
@@ -417,6 +418,7 @@ def onboard_feed(
         mapped = _MappedRows(
             source, reject_file, mapper, extractor, sources, summary, options, progress
         )
+        mapped.audit_floor = raised_floor(store, name)
         model_version = str(manifest.get("training_data_fingerprint", ""))[:12]
         store.save_mapped(
             name,
@@ -664,6 +666,8 @@ class _MappedRows:
         self.progress = progress
         self.candidates: list[Candidate] = []
         self.fatal: InputError | None = None
+        # The feed's threshold as its audit last raised it (catmap.jobs.audit), if ever.
+        self.audit_floor: tuple[bool, float | None] = (False, None)
 
     def products(self) -> Iterator[Product]:
         """The feed's products; rejects are written as they come."""
@@ -694,7 +698,8 @@ class _MappedRows:
             familiarity = title_familiarity([p.title for p in chunk], vocabulary)
             raw = np.array([acceptance_score(m) for m in mappings])
             if self.shift is None:
-                self.shift = self._check(raw, familiarity)
+                self.shift = _keep_audit_raise(self._check(raw, familiarity), *self.audit_floor,
+                                               self.summary)
             scores = self.shift.acceptance_scores(raw, familiarity)
             threshold = self.shift.threshold
             for product, mapping, score in zip(chunk, mappings, scores.tolist(), strict=True):
@@ -731,6 +736,20 @@ def _check_shift(
         summary.threshold = shift.threshold
         summary.statement += " Feed check: " + "; ".join(shift.notes) + "."
     return shift
+
+
+def _keep_audit_raise(
+    shift: FeedShift, raised: bool, floor: float | None, summary: OnboardSummary
+) -> FeedShift:
+    """The feed's threshold, at least as strict as the one its audit raised it to."""
+    if not raised or shift.threshold is None:
+        return shift
+    if floor is not None and shift.threshold >= floor:
+        return shift
+    summary.threshold = floor
+    kept = "accept nothing" if floor is None else f"{floor:.3f}"
+    summary.statement += f" The feed's audit raised its threshold: kept at {kept}."
+    return replace(shift, threshold=floor)
 
 
 def _withdraw_stale_items(store: Store, feed: str, run_id: int, threshold: float | None) -> int:

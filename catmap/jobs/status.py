@@ -9,6 +9,7 @@ from typing import Any
 
 from catmap.errors import StoreError
 from catmap.jobs._remap_versions import feed_tree_versions, mapping_tree_versions
+from catmap.jobs.audit import check_feed_audit
 from catmap.project import NO_STORE_HINT
 from catmap.records import BRAND_STATUSES
 from catmap.store import Store, store_path
@@ -44,9 +45,11 @@ def feed_status_facts(
             for reason, states in sorted(by_reason.items())
             if states.get("open", 0) + states.get("claimed", 0)
         }
+        check = check_feed_audit(store, name, apply=False)
         out.append(
             {
                 "feed": name,
+                "threshold": check.get("threshold"),
                 "tree_version": versions.get(name, "")
                 or ",".join(sorted(v for v in mapping_tree_versions(store, name) if v)),
                 "read": status.read,
@@ -75,6 +78,8 @@ def feed_status_facts(
                     "confidence": error.confidence,
                     "text": error.describe(),
                 },
+                # What the audit says about the threshold (``catmap audit-check`` acts on it).
+                "audit_check": check,
             }
         )
     return out

@@ -52,6 +52,8 @@ REASON_TEXT = {
     "brand_conflict": "brand conflict: the brand found disagrees with the feed's brand",
     "audience_conflict": "audience conflict: who / age from the text contradict the node",
     "remap": "remap: the category tree changed under this product",
+    "audit_over_target": "audit over target: auto-accepted, but the feed's audits found more "
+    "errors than its target at this confidence",
 }
 
 # Alternatives offered by number (keys 1..3).

@@ -236,3 +236,35 @@ class FeedsMixin(StoreConnection):
             withdrawn_items=states.get("withdrawn", 0),
             brand_statuses=brand_statuses,
         )
+
+    def audit_outcomes(self, feed: int | str) -> list[tuple[str, float, bool]]:
+        """Return the reviewed audit samples of a feed: what they were and what the reviewer said.
+
+        Counted as :meth:`feed_status` counts them (a decision not undone, not a skip; wrong
+        when the reviewer chose another node or said no node fits).
+
+        Returns:
+            ``(product_id, confidence when it was auto-accepted, wrong)`` per decision, in
+            decision order.
+        """
+        fid = self._feed_id(feed)
+        rows = self._read(
+            "SELECT i.product_id, d.before, (d.action IN ('choose', 'no_fit') "
+            "AND d.to_node IS NOT d.from_node) AS wrong FROM decisions AS d "
+            "JOIN review_items AS i ON i.id = d.item_id WHERE i.feed_id = ? "
+            "AND " + has_reason_sql("audit_sample", "i") + " AND d.undone_at IS NULL "
+            "AND d.action != 'skip' ORDER BY d.id",
+            (fid,),
+        ).fetchall()
+        out = []
+        for row in rows:
+            before = json.loads(row["before"] or "{}").get("mapping") or {}
+            confidence = before.get("confidence")
+            if confidence is None:  # a decision recorded without its mapping: ask the mapping
+                found = self._read(
+                    "SELECT confidence FROM mappings WHERE feed_id = ? AND product_id = ?",
+                    (fid, row["product_id"]),
+                ).fetchone()
+                confidence = found[0] if found is not None else 0.0
+            out.append((str(row["product_id"]), float(confidence), bool(row["wrong"])))
+        return out

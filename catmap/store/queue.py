@@ -240,6 +240,94 @@ class QueueMixin(AuditMixin):
             ).fetchone()
         return int(row[0])
 
+    def count_accepted_below(self, feed: int | str, below: float | None) -> int:
+        """Return how many mappings :meth:`requeue_accepted` would take back at ``below``."""
+        sql = (
+            "SELECT COUNT(*) FROM mappings WHERE feed_id = ? AND status = 'accepted' "
+            "AND method != 'rule'"
+        )
+        params: list[Any] = [self._feed_id(feed)]
+        if below is not None:
+            sql += " AND confidence < ?"
+            params.append(below)
+        return int(self._read(sql, params).fetchone()[0])
+
+    def requeue_accepted(
+        self,
+        feed: int | str,
+        *,
+        below: float | None,
+        reason: str = "audit_over_target",
+        priority: float = 0.0,
+        why: str,
+        actor: str = "catmap",
+        run_id: int | None = None,
+    ) -> list[str]:
+        """Take auto-accepted mappings below a threshold back to the review queue, in one go.
+
+        Every mapping of the feed with status ``accepted`` whose confidence is below ``below``
+        (every one when ``below`` is None), except rule mappings (the team's own decision),
+        becomes ``queued`` and gets one review item carrying ``reason`` (joining the item the
+        product may already have waiting). One audit entry (action ``requeue``) lists them.
+        Audit samples and reviewed mappings are left as they are.
+
+        Args:
+            feed: the feed (id or name).
+            below: the new threshold (None: accept nothing automatically).
+            reason: the review reason (one of :data:`REVIEW_REASONS`).
+            priority: priority of each item; at least the mapping's own expected gain.
+            why: recorded in the audit log.
+            actor: who re-queues (for the audit log).
+            run_id: the run that decided it (recorded in the audit log).
+
+        Returns:
+            The product ids re-queued, sorted.
+        """
+        if reason not in REVIEW_REASONS:
+            raise ValueError(f"unknown review reason {reason!r}; expected one of {REVIEW_REASONS}")
+        fid = self._feed_id(feed)
+        with self._transaction() as conn:
+            sql = (
+                "SELECT product_id, group_key, confidence FROM mappings WHERE feed_id = ? "
+                "AND status = 'accepted' AND method != 'rule'"
+            )
+            params: list[Any] = [fid]
+            if below is not None:
+                sql += " AND confidence < ?"
+                params.append(below)
+            rows = conn.execute(sql + " ORDER BY product_id", params).fetchall()
+            if not rows:
+                return []
+            ids = [str(r["product_id"]) for r in rows]
+            conn.executemany(
+                "UPDATE mappings SET status = 'queued' WHERE feed_id = ? AND product_id = ?",
+                [(fid, product_id) for product_id in ids],
+            )
+            entries = [
+                (
+                    str(r["product_id"]),
+                    str(r["group_key"]),
+                    (reason,),
+                    max(priority, 1.0 - float(r["confidence"])),
+                )
+                for r in rows
+            ]
+            queue_products(conn, fid, entries, self._now(), skip_reviewed=True)
+            self._audit(
+                conn,
+                "requeue",
+                actor,
+                feed_id=fid,
+                detail={
+                    "reason": reason,
+                    "why": why,
+                    "below": below,
+                    "run_id": run_id,
+                    "product_ids": ids,
+                },
+            )
+        return ids
+
     def withdraw_items(
         self,
         feed: int | str,

@@ -14,7 +14,14 @@ from typing import Any
 from catmap.records import Alternative, Attributes, Mapping, Product
 
 MAPPING_STATUSES = ("accepted", "queued", "audit", "reviewed")
-REVIEW_REASONS = ("low_confidence", "audit_sample", "brand_conflict", "audience_conflict", "remap")
+REVIEW_REASONS = (
+    "low_confidence",
+    "audit_sample",
+    "brand_conflict",
+    "audience_conflict",
+    "remap",
+    "audit_over_target",
+)
 ITEM_STATES = ("open", "claimed", "done")
 DECISION_ACTIONS = ("accept", "choose", "no_fit", "skip", "fix_attributes")
 # Reasons a whole retailer category can be settled for in one key; conflicts and audit samples

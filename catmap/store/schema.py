@@ -290,6 +290,39 @@ _SCHEMA_V11: tuple[str, ...] = (
     )""",
 )
 
+# Version 12: a feed whose audited error is over its target with confidence gets its threshold
+# raised, and the mappings it no longer accepts go back to the queue under their own reason,
+# ``audit_over_target`` (catmap.jobs.audit). SQLite cannot change a CHECK in place: the table is
+# rebuilt with the same rows and ids (decisions point at them), and its indexes made again.
+_SCHEMA_V12: tuple[str, ...] = (
+    """CREATE TABLE review_items_v12 (
+        id INTEGER PRIMARY KEY,
+        feed_id INTEGER NOT NULL,
+        product_id TEXT NOT NULL,
+        group_key TEXT NOT NULL DEFAULT '',
+        reason TEXT NOT NULL CHECK (reason IN ('low_confidence', 'audit_sample',
+            'brand_conflict', 'audience_conflict', 'remap', 'audit_over_target')),
+        priority REAL NOT NULL DEFAULT 0,
+        state TEXT NOT NULL DEFAULT 'open' CHECK (state IN ('open', 'claimed', 'done')),
+        claimed_by TEXT,
+        lease_until TEXT,
+        created_at TEXT NOT NULL,
+        skips INTEGER NOT NULL DEFAULT 0,
+        withdrawn_reason TEXT,
+        reasons TEXT NOT NULL DEFAULT '',
+        UNIQUE (feed_id, product_id, reason),
+        FOREIGN KEY (feed_id, product_id) REFERENCES products(feed_id, product_id)
+    )""",
+    """INSERT INTO review_items_v12 (id, feed_id, product_id, group_key, reason, priority, state,
+        claimed_by, lease_until, created_at, skips, withdrawn_reason, reasons)
+        SELECT id, feed_id, product_id, group_key, reason, priority, state, claimed_by,
+        lease_until, created_at, skips, withdrawn_reason, reasons FROM review_items""",
+    "DROP TABLE review_items",
+    "ALTER TABLE review_items_v12 RENAME TO review_items",
+    "CREATE INDEX review_items_group ON review_items (feed_id, group_key)",
+    "CREATE INDEX review_items_claim ON review_items (state, skips, priority DESC, id)",
+)
+
 MIGRATIONS: tuple[tuple[str, ...], ...] = (
     _SCHEMA_V1,
     _SCHEMA_V2,
@@ -302,8 +335,11 @@ MIGRATIONS: tuple[tuple[str, ...], ...] = (
     _SCHEMA_V9,
     _SCHEMA_V10,
     _SCHEMA_V11,
+    _SCHEMA_V12,
 )
 SCHEMA_VERSION = len(MIGRATIONS)
+# The tables whose references a migration's rebuild could break, checked before it commits.
+_CHECK_AFTER: dict[int, tuple[str, ...]] = {12: ("review_items", "decisions")}
 
 
 def migrate(conn: sqlite3.Connection, *, target: int = SCHEMA_VERSION) -> int:
@@ -325,6 +361,20 @@ def migrate(conn: sqlite3.Connection, *, target: int = SCHEMA_VERSION) -> int:
             f"the store has schema version {version}; this catmap knows up to {SCHEMA_VERSION}",
             hint="upgrade catmap",
         )
+    if version >= target:
+        return version
+    # A migration may rebuild a table others point at (version 10): foreign keys are checked
+    # again after it, not while the old table is dropped. The pragma only takes effect outside
+    # a transaction, hence here.
+    foreign_keys = int(conn.execute("PRAGMA foreign_keys").fetchone()[0])
+    conn.execute("PRAGMA foreign_keys=OFF")
+    try:
+        return _migrate(conn, version, target)
+    finally:
+        conn.execute(f"PRAGMA foreign_keys={'ON' if foreign_keys else 'OFF'}")
+
+
+def _migrate(conn: sqlite3.Connection, version: int, target: int) -> int:
     while version < target:
         statements = MIGRATIONS[version]
         conn.execute("BEGIN IMMEDIATE")
@@ -337,6 +387,20 @@ def migrate(conn: sqlite3.Connection, *, target: int = SCHEMA_VERSION) -> int:
                 continue
             for statement in statements:
                 conn.execute(statement)
+            broken = next(
+                (
+                    row
+                    for table in _CHECK_AFTER.get(version + 1, ())
+                    for row in conn.execute(f"PRAGMA foreign_key_check({table})").fetchall()
+                ),
+                None,
+            )
+            if broken is not None:
+                raise StoreError(
+                    f"migrating the store to version {version + 1} broke a reference in table "
+                    f"{broken[0]}",
+                    hint="keep the file and report it; the store was left as it was",
+                )
             conn.execute(f"PRAGMA user_version = {version + 1}")
             conn.execute("COMMIT")
         except BaseException:
