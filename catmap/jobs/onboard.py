@@ -37,7 +37,7 @@ from collections.abc import Callable, Iterator, Sequence
 from dataclasses import dataclass, field
 from itertools import islice
 from pathlib import Path
-from typing import Any
+from typing import Any, Protocol
 
 import numpy as np
 
@@ -96,18 +96,27 @@ __all__ = [
     "acceptance_score",
     "calibration_sources",
     "default_calibration_feeds",
+    "candidate",
     "check_against_gold",
     "check_same_folder",
     "check_store_tree",
     "check_feed_shift",
     "default_model_dir",
+    "decided_row",
     "default_rules_path",
+    "extract_attributes",
     "learn_feed_brands",
+    "MappedRowSource",
+    "PreparedOnboarding",
+    "RowsFactory",
+    "check_shift",
     "onboard_feed",
+    "prepare_onboarding",
     "project_brands",
     "project_tree",
     "project_review_examples",
     "rejects_path",
+    "store_onboarding",
     "retailer_parts",
     "review_examples",
     "title_familiarity",
@@ -235,6 +244,7 @@ class OnboardSummary:
     stopped_early: str | None = None
     stale_runs_stopped: list[dict[str, Any]] = field(default_factory=list)
     brands: dict[str, Any] = field(default_factory=dict)
+    cluster: dict[str, Any] | None = None
 
     @property
     def coverage(self) -> float:
@@ -245,6 +255,8 @@ class OnboardSummary:
         """Return the facts as JSON-ready values."""
         facts = dict(self.__dict__)
         facts["coverage"] = round(self.coverage, 4)
+        if facts["cluster"] is None:  # a cluster run's partitions and dashboard only
+            del facts["cluster"]
         return facts
 
 
@@ -315,6 +327,8 @@ def onboard_feed(
     extractor: AttributeExtractor | None = None,
     on_progress: Callable[[str, int], None] | None = None,
     feed: str | None = None,
+    client: Any | None = None,
+    on_cluster_progress: Callable[[Any], None] | None = None,
 ) -> OnboardSummary:
     """Onboard one feed into the project store.
 
@@ -330,6 +344,11 @@ def onboard_feed(
             :func:`calibration_sources` for ``options.validation_feed``).
         extractor: attribute extractor (default: with the project's brand dictionary).
         on_progress: called with a stage name and the records read so far.
+        client: a ``dask.distributed.Client``: read, normalise, map and extract over the
+            feed's partitions on its workers (see :mod:`catmap.jobs._onboard_cluster`); this
+            process still writes the store, with the same result as without.
+        on_cluster_progress: told where the cluster run is (a
+            :class:`~catmap.jobs.cluster.ClusterProgress`) after each task.
 
     Returns:
         The run's summary.
@@ -341,8 +360,66 @@ def onboard_feed(
         InputError: the feed, its profile or the rules file cannot be used, or a feed of the
             same name came from another folder; a fatal feed error is raised after the records
             before it were saved (the run is recorded as stopped).
+        ClusterError: the cluster failed.
     """
     started = time.perf_counter()
+    progress = on_progress or (lambda _stage, _count: None)
+    prepared = prepare_onboarding(
+        feed_path, project=project, tree=tree, model_dir=model_dir, options=options,
+        validation=validation, extractor=extractor, on_progress=progress, feed=feed,
+    )  # fmt: skip
+    if client is None:
+        return store_onboarding(prepared, None, started=started, on_progress=progress)
+    from catmap.jobs._onboard_cluster import onboard_rounds
+
+    with onboard_rounds(client, prepared, on_progress=on_cluster_progress) as rounds:
+        return store_onboarding(prepared, rounds, started=started, on_progress=progress)
+
+
+@dataclass
+class PreparedOnboarding:
+    """What a feed's onboarding knows before it maps a product: the feed opened with its
+    profile, the mapper with its rules, the accept threshold and the extractor with the
+    feed's own brands (see :func:`prepare_onboarding`)."""
+
+    name: str
+    feed_path: Path
+    project: Path
+    tree: CategoryTree
+    model_dir: Path
+    manifest: dict[str, Any]
+    options: OnboardOptions
+    rules_file: Path | None
+    rules: RuleSet | None
+    mapper: FeedMapper
+    sources: list[ValidationPredictions]
+    choice: ThresholdChoice
+    statement: str
+    extractor: AttributeExtractor
+    source: ProfiledFeed
+    learner: FeedBrandLearner
+
+
+def prepare_onboarding(
+    feed_path: str | Path,
+    *,
+    project: str | Path,
+    tree: CategoryTree,
+    model_dir: str | Path | None = None,
+    options: OnboardOptions | None = None,
+    validation: ValidationPredictions | Sequence[ValidationPredictions] | None = None,
+    extractor: AttributeExtractor | None = None,
+    on_progress: Callable[[str, int], None] | None = None,
+    feed: str | None = None,
+) -> PreparedOnboarding:
+    """Check the store, load the model and rules, choose the accept threshold and learn the
+    feed's own brands: every step of :func:`onboard_feed` before the feed is mapped.
+
+    Args and Raises: as :func:`onboard_feed`.
+
+    Returns:
+        What mapping and storing the feed need.
+    """
     options = options or OnboardOptions()
     project = Path(project)
     feed_path = Path(feed_path)
@@ -376,22 +453,84 @@ def onboard_feed(
         brands=extractor.brands, tree=extractor.tree,
         retailer_names=extractor.retailer_names, feed_brands=learner,
     )  # fmt: skip
-    store = Store.for_project(project)
+    return PreparedOnboarding(
+        name=name, feed_path=feed_path, project=project, tree=tree, model_dir=folder,
+        manifest=manifest, options=options, rules_file=rules_file, rules=rules, mapper=mapper,
+        sources=sources, choice=choice, statement=statement, extractor=extractor,
+        source=source, learner=learner,
+    )  # fmt: skip
+
+
+class MappedRowSource(Protocol):
+    """Where the store phase takes a feed's rows from (iterate once): one process maps them
+    as it reads (:class:`_MappedRows`), a cluster run reads its workers' parts."""
+
+    candidates: list[Candidate]
+    fatal: InputError | None
+
+    @property
+    def accounting(self) -> Accounting:
+        """The feed's row accounting (complete once the rows are iterated)."""
+
+    def __iter__(self) -> Iterator[MappedRow]: ...
+
+
+class RowsFactory(Protocol):
+    """Makes the rows of a feed for the store phase, given the run's summary so far."""
+
+    def rows(
+        self, summary: OnboardSummary, reject_file: Path, progress: Callable[[str, int], None]
+    ) -> MappedRowSource:
+        """The rows; their rejects go to ``reject_file``, their counts to ``summary``."""
+
+
+def store_onboarding(
+    prepared: PreparedOnboarding,
+    mapped_by: RowsFactory | None,
+    *,
+    started: float,
+    on_progress: Callable[[str, int], None] | None = None,
+) -> OnboardSummary:
+    """Record the run, save every row, plan the review queue and merge the feed's brands.
+
+    Args:
+        prepared: see :func:`prepare_onboarding`.
+        mapped_by: where the rows come from (None: mapped here as the feed is read).
+        started: when the run started (``time.perf_counter()``).
+        on_progress: called with a stage name and a count.
+
+    Returns:
+        The run's summary.
+
+    Raises:
+        InputError: a fatal feed error, after the records before it were saved.
+    """
+    p = prepared
+    name, tree, options = p.name, p.tree, p.options
+    progress = on_progress or (lambda _stage, _count: None)
+    store = Store.for_project(p.project)
     try:
         check_onboarding(store, str(tree.version))
-        store.add_feed(name, source_path=feed_path.resolve(), profile_path=source.profile_path)
+        store.add_feed(
+            name, source_path=p.feed_path.resolve(), profile_path=p.source.profile_path
+        )
         summary = _start_run(
-            store, name, feed_path, project, options, choice, statement, sources,
-            rules_file=rules_file, model_dir=folder, tree=tree,
+            store, name, p.feed_path, p.project, options, p.choice, p.statement, p.sources,
+            rules_file=p.rules_file, model_dir=p.model_dir, tree=tree,
         )
         run_id = summary.run_id
-        reject_file = rejects_path(project, name)
-        subfolder(project, "rejects")
+        reject_file = rejects_path(p.project, name)
+        subfolder(p.project, "rejects")
         summary.rejects_file = str(reject_file)
-        mapped = _MappedRows(
-            source, reject_file, mapper, extractor, sources, summary, options, progress
-        )
-        model_version = str(manifest.get("training_data_fingerprint", ""))[:12]
+        mapped: MappedRowSource
+        if mapped_by is None:
+            mapped = _MappedRows(
+                p.source, reject_file, p.mapper, p.extractor, p.sources, summary, options,
+                progress,
+            )
+        else:
+            mapped = mapped_by.rows(summary, reject_file, progress)
+        model_version = str(p.manifest.get("training_data_fingerprint", ""))[:12]
         store.save_mapped(
             name,
             run_id,
@@ -403,11 +542,13 @@ def onboard_feed(
         record_feed_versions(store, str(tree.version), name)
         error = mapped.fatal
 
-        progress("planning the review queue", source.accounting.read)
+        progress("planning the review queue", mapped.accounting.read)
         _apply_plan(store, name, run_id, mapped.candidates, options, summary, model_version, tree)
         summary.withdrawn = _withdraw_stale_items(store, name, run_id, summary.threshold)
-        summary.brands = _merge_brands(store, learner, extractor.brands, name)
-        _finish_run(store, summary, source.accounting, rules, started, stopped=error is not None)
+        summary.brands = _merge_brands(store, p.learner, p.extractor.brands, name)
+        _finish_run(
+            store, summary, mapped.accounting, p.rules, started, stopped=error is not None
+        )
     finally:
         store.close()
     if error is not None:
@@ -654,8 +795,13 @@ class _MappedRows:
                 self.fatal = fatal
                 accounting.stopped_early = str(fatal)
 
+    @property
+    def accounting(self) -> Accounting:
+        """The feed's row accounting."""
+        return self.source.accounting
+
     def _check(self, scores: np.ndarray[Any, Any], familiarity: np.ndarray[Any, Any]) -> FeedShift:
-        return _check_shift(self.summary, self.sources, self.options, scores, familiarity)
+        return check_shift(self.summary, self.sources, self.options, scores, familiarity)
 
     def __iter__(self) -> Iterator[MappedRow]:
         tree = self.mapper.tree
@@ -671,23 +817,26 @@ class _MappedRows:
             threshold = self.shift.threshold
             for product, mapping, score in zip(chunk, mappings, scores.tolist(), strict=True):
                 row = _first_row(product, mapping, score, threshold, self.extractor, tree)
-                self.candidates.append(
-                    Candidate(
-                        product.product_id,
-                        row.group_key,
-                        mapping.node_id,
-                        mapping.confidence,
-                        row.status == "accepted",
-                        brand_conflict="brand_conflict" in row.reasons,
-                        brand_confidence=row.attributes.brand_confidence,
-                        audience_conflict=row.attributes.audience_conflict,
-                    )
-                )
+                self.candidates.append(candidate(row))
                 _count(self.summary, product, row, tree)
                 yield row
 
 
-def _check_shift(
+def candidate(row: MappedRow) -> Candidate:
+    """The row as the review-queue plan sees it."""
+    return Candidate(
+        row.product.product_id,
+        row.group_key,
+        row.mapping.node_id,
+        row.mapping.confidence,
+        row.status == "accepted",
+        brand_conflict="brand_conflict" in row.reasons,
+        brand_confidence=row.attributes.brand_confidence,
+        audience_conflict=row.attributes.audience_conflict,
+    )
+
+
+def check_shift(
     summary: OnboardSummary,
     sources: Sequence[ValidationPredictions],
     options: OnboardOptions,
@@ -757,13 +906,37 @@ def _first_row(
     ``score`` is the mapping's acceptance score after the feed check (see
     :class:`FeedShift`), compared with the feed's ``threshold``.
     """
+    attributes, conflicts = extract_attributes(product, mapping, extractor)
+    return decided_row(product, mapping, attributes, conflicts, score, threshold)
+
+
+def extract_attributes(
+    product: Product, mapping: Mapping, extractor: AttributeExtractor
+) -> tuple[Attributes, tuple[str, ...]]:
+    """The product's attributes, and the conflicts that queue it whatever its confidence
+    (``brand_conflict``, ``audience_conflict``): the part of a row that needs no threshold."""
     attributes = extractor.extract(product, mapping.node_id or None)
+    conflicts: list[str] = []
+    if _brand_conflict(product, attributes, extractor.brands):
+        conflicts.append("brand_conflict")
+    if attributes.audience_conflict:
+        conflicts.append("audience_conflict")
+    return attributes, tuple(conflicts)
+
+
+def decided_row(
+    product: Product,
+    mapping: Mapping,
+    attributes: Attributes,
+    conflicts: tuple[str, ...],
+    score: float,
+    threshold: float | None,
+) -> MappedRow:
+    """The row accepted when ``score`` reaches ``threshold``, else queued; queued for its
+    ``conflicts`` too (see :func:`extract_attributes`)."""
     accepted = threshold is not None and score >= threshold
     reasons: list[str] = [] if accepted else ["low_confidence"]
-    if _brand_conflict(product, attributes, extractor.brands):
-        reasons.append("brand_conflict")
-    if attributes.audience_conflict:
-        reasons.append("audience_conflict")
+    reasons.extend(conflicts)
     return MappedRow(
         product=product,
         mapping=mapping,
