@@ -65,6 +65,7 @@ from catmap.jobs.cluster import (
     default_partition_bytes,
     find_duplicates,
     gather_rejects,
+    open_cluster,
     plan_parts,
 )
 from catmap.jobs.onboard import (
@@ -80,7 +81,14 @@ from catmap.records import Alternative, Attributes, Mapping, Product
 from catmap.store import MappedRow
 from catmap.store.encoding import product_from_json, product_to_json
 
-__all__ = ["OnboardKit", "OnboardRounds", "chunk_slices", "onboard_rounds", "send_mapper"]
+__all__ = [
+    "OnboardKit",
+    "OnboardRounds",
+    "chunk_slices",
+    "onboard_rounds",
+    "run_feeds_on_cluster",
+    "send_mapper",
+]
 
 _ATTRIBUTE_FIELDS = [f.name for f in fields(Attributes)]
 # A worker with several threads (``processes=False`` in the tests) shares one kit between
@@ -431,3 +439,56 @@ def send_mapper(client: Any, mapper: FeedMapper) -> Any:
     shared.rules = None
     model_vocabulary(shared)  # computed here once, sent with the mapper
     return client.scatter([shared], broadcast=True)[0]
+
+
+@contextmanager
+def run_feeds_on_cluster(
+    address: str,
+    prepared: list[PreparedOnboarding],
+    *,
+    on_progress: Callable[[str, ClusterProgress], None] | None = None,
+) -> Iterator[list[OnboardRounds]]:
+    """Start (or reach) one cluster and run every feed's rounds on it at once.
+
+    The mapper goes to every worker once for all feeds; one thread per feed submits its
+    rounds, so the scheduler interleaves every feed's partitions.
+
+    Args:
+        address: ``local:N`` or a scheduler address (see :func:`open_cluster`).
+        prepared: the feeds' onboarding as prepared, in order.
+        on_progress: called with the feed's name and where its run is.
+
+    Yields:
+        Each feed's finished rounds, in order; the parts stay until the block ends.
+
+    Raises:
+        ClusterError: the cluster cannot be started or reached.
+        Exception: the first error of a feed's rounds (e.g. a worker failing every retry).
+    """
+    from concurrent.futures import ThreadPoolExecutor
+
+    if not prepared:
+        yield []
+        return
+    root = prepared[0].project / f".cluster-{uuid.uuid4().hex[:8]}"
+    try:
+        with open_cluster(address) as client:
+            mapper = send_mapper(client, prepared[0].mapper)
+
+            def one(index: int) -> OnboardRounds:
+                feed = prepared[index]
+
+                def progress(where: ClusterProgress) -> None:
+                    if on_progress is not None:
+                        on_progress(feed.name, where)
+
+                with onboard_rounds(
+                    client, feed, on_progress=progress, mapper=mapper,
+                    work_dir=root / f"feed-{index:03d}",
+                ) as rounds:  # fmt: skip
+                    return rounds
+
+            with ThreadPoolExecutor(max_workers=len(prepared)) as pool:
+                yield list(pool.map(one, range(len(prepared))))
+    finally:
+        shutil.rmtree(root, ignore_errors=True)

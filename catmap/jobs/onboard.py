@@ -87,6 +87,7 @@ __all__ = [
     "DEFAULT_BACKOFF_THRESHOLD",
     "UNCOVERED_LANGUAGE_CAP",
     "FeedMapper",
+    "FeedOutcome",
     "FeedShift",
     "OnboardOptions",
     "OnboardSummary",
@@ -111,6 +112,7 @@ __all__ = [
     "RowsFactory",
     "check_shift",
     "onboard_feed",
+    "onboard_feeds",
     "prepare_onboarding",
     "project_brands",
     "project_tree",
@@ -374,6 +376,126 @@ def onboard_feed(
 
     with onboard_rounds(client, prepared, on_progress=on_cluster_progress) as rounds:
         return store_onboarding(prepared, rounds, started=started, on_progress=progress)
+
+
+@dataclass
+class FeedOutcome:
+    """One feed of :func:`onboard_feeds`: its summary, or the error that stopped it.
+
+    Attributes:
+        feed: the feed file.
+        summary: the run's summary (None when the run raised).
+        error: a fatal feed error raised after the records before it were saved, or None.
+    """
+
+    feed: Path
+    summary: OnboardSummary | None
+    error: InputError | None = None
+
+
+def onboard_feeds(
+    feed_paths: Sequence[str | Path],
+    *,
+    project: str | Path,
+    tree: CategoryTree,
+    model_dir: str | Path | None = None,
+    options: OnboardOptions | None = None,
+    validation: ValidationPredictions | Sequence[ValidationPredictions] | None = None,
+    cluster: str | None = None,
+    feed: str | None = None,
+    on_progress: Callable[[str, str, int], None] | None = None,
+    on_cluster_progress: Callable[[str, Any], None] | None = None,
+) -> list[FeedOutcome]:
+    """Onboard several feeds, on one cluster when given; the store as when onboarded one by one.
+
+    On a cluster, the model goes to every worker once, every feed's partitions are scheduled
+    together (one thread per feed submits its rounds), and the store is then written feed by
+    feed in the order given, so run numbers and the store's contents are those of onboarding
+    the feeds one after another. A feed that stops on a fatal error keeps the records before
+    it, as :func:`onboard_feed` does, and the others go on.
+
+    Args:
+        feed_paths: the feed files (their names must differ).
+        project: the project folder.
+        tree: the category tree of the model.
+        model_dir: the model folder (default: ``<project>/models/current``).
+        options: thresholds, audit share, rules file (one rules file for every feed).
+        validation: precomputed held-out predictions (default: chosen once for all feeds).
+        cluster: ``local:N`` or a scheduler address; None: one feed after another here.
+        feed: the feed's name (only with one feed).
+        on_progress: called with the feed's name, a stage and a count.
+        on_cluster_progress: called with the feed's name and where its cluster run is.
+
+    Returns:
+        One outcome per feed, in order.
+
+    Raises:
+        InputError: two feeds have the same name, or ``feed`` was given with several feeds;
+            a feed, profile or rules file cannot be used (before anything is stored).
+        ClusterError: the cluster cannot be started or reached, or failed.
+    """
+    paths = [Path(f) for f in feed_paths]
+    if feed is not None and len(paths) > 1:
+        raise InputError(
+            "--feed names one feed, and several were given",
+            field="--feed",
+            hint="onboard the feeds one by one to name each, or let their file names name them",
+        )
+    names = [feed_name(path, feed) for path in paths]
+    seen: dict[str, Path] = {}
+    for path, name in zip(paths, names, strict=True):
+        if name in seen:
+            raise InputError(
+                f"two feeds are named '{name}': {seen[name]} and {path}",
+                path=path,
+                hint="onboard them in separate runs with --feed NAME",
+            )
+        seen[name] = path
+    prepared: list[PreparedOnboarding] = []
+    starts: list[float] = []
+    for path, name in zip(paths, names, strict=True):
+        starts.append(time.perf_counter())
+        progress = _feed_progress(on_progress, name)
+        prepared.append(
+            prepare_onboarding(
+                path, project=project, tree=tree, model_dir=model_dir, options=options,
+                validation=validation, on_progress=progress, feed=feed,
+            )
+        )  # fmt: skip
+        validation = prepared[-1].sources  # chosen once, for the same model and options
+    if cluster is None:
+        return [
+            _stored(p, None, started, _feed_progress(on_progress, p.name))
+            for p, started in zip(prepared, starts, strict=True)
+        ]
+    from catmap.jobs._onboard_cluster import run_feeds_on_cluster
+
+    with run_feeds_on_cluster(cluster, prepared, on_progress=on_cluster_progress) as rounds:
+        return [
+            _stored(p, r, started, _feed_progress(on_progress, p.name))
+            for p, r, started in zip(prepared, rounds, starts, strict=True)
+        ]
+
+
+def _feed_progress(
+    on_progress: Callable[[str, str, int], None] | None, name: str
+) -> Callable[[str, int], None]:
+    if on_progress is None:
+        return lambda _stage, _count: None
+    return lambda stage, count: on_progress(name, stage, count)
+
+
+def _stored(
+    prepared: PreparedOnboarding,
+    rounds: RowsFactory | None,
+    started: float,
+    progress: Callable[[str, int], None],
+) -> FeedOutcome:
+    try:
+        summary = store_onboarding(prepared, rounds, started=started, on_progress=progress)
+    except FATAL_FEED_ERRORS as error:
+        return FeedOutcome(prepared.feed_path, None, error)
+    return FeedOutcome(prepared.feed_path, summary)
 
 
 @dataclass
