@@ -14,10 +14,11 @@ cluster keeps exactly those chunks. The rounds, each a plain function of files i
    score and title familiarity.
 
 The mapper (model, tree, rules) and the extractor (brand dictionary, the feed's learned brands)
-go to every worker once. The coordinator is the single writer: it runs the feed check on the
-first chunk's scores as one process does, decides accept or queue row by row, writes the rejects
-in order, rebuilds the accounting from them and saves the rows through ``Store.save_mapped``; the
-review plan and the rest follow as in :func:`catmap.jobs.onboard.store_onboarding`.
+go to every worker once (see :func:`catmap.jobs.cluster.share`). The coordinator is the single
+writer: it runs the feed check on the first chunk's scores as one process does, decides accept or
+queue row by row, writes the rejects in order, rebuilds the accounting from them and saves the
+rows through ``Store.save_mapped``; the review plan and the rest follow as in
+:func:`catmap.jobs.onboard.store_onboarding`.
 
 Every part is written under a temporary name and renamed, and the coordinator reads the parts
 only once every task is done: a task the scheduler runs again after a lost worker replaces its
@@ -67,6 +68,7 @@ from catmap.jobs.cluster import (
     gather_rejects,
     open_cluster,
     plan_parts,
+    share,
 )
 from catmap.jobs.onboard import (
     OnboardSummary,
@@ -376,9 +378,7 @@ def onboard_rounds(
         progress("loading", 0, 1)
         if mapper is None:
             mapper = send_mapper(client, prepared.mapper)
-        kit = client.scatter(
-            [OnboardKit(prepared.rules, prepared.extractor)], broadcast=True
-        )[0]
+        kit = share(client, OnboardKit(prepared.rules, prepared.extractor), "kit")
         progress("loading", 1, 1)
         source = prepared.source
         size = partition_bytes or default_partition_bytes(client, prepared.feed_path)
@@ -438,7 +438,7 @@ def send_mapper(client: Any, mapper: FeedMapper) -> Any:
     shared = copy.copy(mapper)
     shared.rules = None
     model_vocabulary(shared)  # computed here once, sent with the mapper
-    return client.scatter([shared], broadcast=True)[0]
+    return share(client, shared, "mapper")
 
 
 @contextmanager

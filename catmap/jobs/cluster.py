@@ -98,6 +98,7 @@ __all__ = [
     "map_feed_on_cluster",
     "map_project_feed_on_cluster",
     "open_cluster",
+    "share",
 ]
 
 # Task attempts after the first when a task fails or its worker is lost.
@@ -612,6 +613,33 @@ def open_cluster(address: str, *, processes: bool = True) -> Iterator[Any]:
         yield client
 
 
+def _given(value: Any) -> Any:
+    return value
+
+
+def share(client: Any, value: Any, name: str) -> Any:
+    """Put ``value`` on the cluster for every task of the run that needs it; return its future.
+
+    The value is the result of a task rather than scattered data: workers fetch it from one
+    another, and when every worker holding it is lost the scheduler computes it again from
+    the task (scattered data would be lost for good, and the run with it).
+
+    Args:
+        client: a ``dask.distributed.Client``.
+        value: what the tasks need (the model, the duplicates, the path consensus...).
+        name: a word for the task's key.
+    """
+    import warnings
+
+    with warnings.catch_warnings():
+        # Sending the model once in the task is the point; dask warns about large graphs.
+        warnings.simplefilter("ignore", UserWarning)
+        return client.submit(
+            _given, value, key=f"catmap-{name}-{uuid.uuid4().hex[:8]}", pure=False,
+            retries=RETRIES,
+        )
+
+
 def _run(
     client: Any,
     stage: str,
@@ -807,7 +835,7 @@ def find_duplicates(
         [(_duplicates_task, (folder, bucket, len(parts))) for bucket in range(buckets)],
         progress,
     )
-    return parts, client.scatter([duplicates], broadcast=True)[0]
+    return parts, share(client, duplicates, "duplicates")
 
 
 def gather_rejects(work: Path, facts: list[dict[str, Any]], writer: Any) -> Accounting:
@@ -876,7 +904,7 @@ def _map_parts(
             for node, count in pairs:
                 counter[node] += count
     consensus = _consensus(counts)
-    shared = client.scatter([consensus], broadcast=True)[0]
+    shared = share(client, consensus, "consensus")
     seconds = _run(
         client,
         "pass 2",
