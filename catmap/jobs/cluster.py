@@ -97,8 +97,10 @@ __all__ = [
     "MapSetup",
     "map_feed_on_cluster",
     "map_project_feed_on_cluster",
+    "map_project_feeds_on_cluster",
     "open_cluster",
     "share",
+    "unique_feed_names",
 ]
 
 # Task attempts after the first when a task fails or its worker is lost.
@@ -1084,3 +1086,75 @@ def map_project_feed_on_cluster(
             on_progress=on_progress,
         )
     return MapResult(facts, error)
+
+
+def map_project_feeds_on_cluster(
+    feeds: list[Path],
+    out_dir: Path,
+    *,
+    cluster: str,
+    project: Path,
+    on_progress: Callable[[str, ClusterProgress], None] | None = None,
+    **options: Any,
+) -> list[MapResult]:
+    """``catmap map --cluster FEED FEED...``: map several feeds at once on one cluster.
+
+    The cluster starts (or is reached) once; one thread per feed submits that feed's rounds, so
+    the scheduler interleaves every feed's partitions. Each feed's outputs go to
+    ``<out_dir>/<feed name>/`` and are those of mapping it alone.
+
+    Args:
+        feeds: the feed files (their names must differ).
+        out_dir: the folder that gets one folder per feed.
+        cluster: ``local:N`` or a scheduler address (see :func:`open_cluster`).
+        project: the project folder (profiles, rules, model).
+        on_progress: called with the feed's name and where its run is.
+        options: as :func:`map_feed_on_cluster` takes them (tree version, model, rules,
+            back-off threshold, format).
+
+    Returns:
+        One result per feed, in order.
+
+    Raises:
+        InputError: two feeds have the same name.
+        ClusterError: dask is missing, or the cluster cannot be started or reached.
+    """
+    from concurrent.futures import ThreadPoolExecutor
+
+    names = unique_feed_names(feeds)
+    with open_cluster(cluster) as client:
+
+        def one(index: int) -> MapResult:
+            name = names[index]
+
+            def progress(where: ClusterProgress) -> None:
+                if on_progress is not None:
+                    on_progress(name, where)
+
+            facts, error = map_feed_on_cluster(
+                feeds[index], out_dir / name, client=client, project=project,
+                on_progress=progress, **options,
+            )  # fmt: skip
+            return MapResult(facts, error)
+
+        with ThreadPoolExecutor(max_workers=max(1, len(feeds))) as pool:
+            return list(pool.map(one, range(len(feeds))))
+
+
+def unique_feed_names(feeds: list[Path]) -> list[str]:
+    """The feeds' names (file names without dates and run counters), checked to differ.
+
+    Raises:
+        InputError: two feeds have the same name.
+    """
+    names = [feed_stem(feed) for feed in feeds]
+    seen: dict[str, Path] = {}
+    for feed, name in zip(feeds, names, strict=True):
+        if name in seen:
+            raise InputError(
+                f"two feeds are named '{name}': {seen[name]} and {feed}",
+                path=feed,
+                hint="map them in separate runs, each with its own --out",
+            )
+        seen[name] = feed
+    return names
