@@ -75,9 +75,10 @@ def test_onboard_several_feeds_on_a_cluster_as_one_by_one(
     assert all(f["cluster"]["dashboard"] for f in facts["feeds"])
     assert store_contents(single) == store_contents(spread)
     assert _exported(single, tmp_path / "out1") == _exported(spread, tmp_path / "out2")
-    # A progress line per feed: its round, partitions done of total, records per second.
+    # A progress line per feed: its round, tasks done of total, records per second.
     for name in names:
-        assert f"{name}: mapping 1/1 partitions, " in result.stderr
+        assert f"{name}: reading 1/1 partitions, " in result.stderr
+        assert f"{name}: mapping 1/1 chunks, " in result.stderr
     assert "records, " in result.stderr and "/s" in result.stderr
 
 

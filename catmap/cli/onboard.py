@@ -245,9 +245,10 @@ def _feeds_progress(
             if where.dashboard and "dashboard" not in shown:
                 shown.add("dashboard")
                 err_console.print(f"cluster dashboard: {where.dashboard}")
+            unit = {"mapping": "chunks", "duplicates": "buckets"}.get(where.stage, "partitions")
             text(
                 name,
-                f"{where.stage} {where.done}/{where.total} partitions, {where.rows:,} records, "
+                f"{where.stage} {where.done}/{where.total} {unit}, {where.rows:,} records, "
                 f"{where.rows_per_second:,.0f}/s",
                 None,
             )

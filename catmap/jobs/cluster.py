@@ -118,7 +118,9 @@ class ClusterProgress:
     """Where a cluster run is.
 
     Attributes:
-        stage: "loading", "keys", "duplicates", "pass 1", "pass 2" or "writing".
+        stage: "loading", "keys", "duplicates", "pass 1", "pass 2" or "writing" (map);
+            "loading", "keys", "duplicates", "reading" or "mapping" (onboard: its tasks are
+            partitions, then chunks).
         done: tasks of the stage finished.
         total: tasks of the stage.
         rows: records read so far in pass 1 (the last read figure afterwards).
