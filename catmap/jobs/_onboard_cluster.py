@@ -36,12 +36,12 @@ import uuid
 from collections.abc import Callable, Iterator
 from contextlib import contextmanager
 from dataclasses import dataclass, fields
-from itertools import islice
 from pathlib import Path
 from typing import Any
 
 import numpy as np
 
+from catmap._atomic import atomic_open
 from catmap.attributes import AttributeExtractor
 from catmap.classify.rules import RuleSet
 from catmap.decide.queue import Candidate
@@ -56,6 +56,7 @@ from catmap.jobs._feed_mapper import FeedMapper, acceptance_score
 from catmap.jobs.cluster import (
     ClusterProgress,
     Part,
+    _duplicates_of,
     _fatal_error,
     _load_lines,
     _part_name,
@@ -121,37 +122,36 @@ def _reading_task(
     duplicates: list[dict[int, list[tuple[int, int]]]],
     work: str,
 ) -> dict[str, Any]:
-    """Round "reading": one partition's kept products and rejects, written; its counts."""
-    from catmap.jobs.cluster import _duplicates_of
+    """Round "reading": one partition's kept products and rejects, written; its counts.
 
+    The products file has one JSON line per product; beside it, the byte offset where each
+    line starts (and the file's end), so that a chunk task reads only its own lines.
+    """
     reading = _PartReader(info, profile, part, _duplicates_of(duplicates, index))
     base = Path(work) / _part_name(index)
-    with _lines_writer(base.with_suffix(".products.jsonl")) as write:
+    offsets = [0]
+    with atomic_open(base.with_suffix(".products.jsonl"), "wb") as handle:
         for product in reading:
-            write(product_to_json(product))
+            line = (product_to_json(product) + "\n").encode("utf-8")
+            handle.write(line)
+            offsets.append(offsets[-1] + len(line))
+    _save_npy(base.with_suffix(".offsets.npy"), np.array(offsets, dtype=np.int64))
     _save_lines(base.with_suffix(".rejects.jsonl"), reading.rejects)
     return reading.facts()
-
-
-@contextmanager
-def _lines_writer(path: Path) -> Iterator[Callable[[str], None]]:
-    from catmap._atomic import atomic_open
-
-    with atomic_open(path, "w", encoding="utf-8", newline="\n") as handle:
-
-        def write(text: str) -> None:
-            handle.write(text + "\n")
-
-        yield write
 
 
 def _read_products(work: str, slices: list[tuple[int, int, int]]) -> list[Product]:
     """The kept products of ``slices`` (partition, first, end), in order."""
     products: list[Product] = []
     for index, first, end in slices:
-        path = Path(work) / f"{_part_name(index)}.products.jsonl"
-        with open(path, encoding="utf-8") as handle:
-            products.extend(product_from_json(line) for line in islice(handle, first, end))
+        base = Path(work) / _part_name(index)
+        offsets = np.load(base.with_suffix(".offsets.npy"), allow_pickle=False)
+        start, stop = int(offsets[first]), int(offsets[end])
+        with open(base.with_suffix(".products.jsonl"), "rb") as handle:
+            handle.seek(start)
+            text = handle.read(stop - start).decode("utf-8")
+        # Split on "\n" only, as the lines were written (splitlines would cut at U+2028 too).
+        products.extend(product_from_json(line) for line in text.split("\n")[:-1])
     return products
 
 
