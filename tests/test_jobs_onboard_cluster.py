@@ -12,11 +12,13 @@ import json
 import sqlite3
 import time
 from collections.abc import Iterator
+from contextlib import contextmanager
 from pathlib import Path
 from typing import Any
 
 import pytest
 
+from catmap.errors import InputError
 from catmap.jobs._onboard_cluster import chunk_slices, onboard_rounds
 from catmap.jobs.cluster import ClusterProgress, open_cluster
 from catmap.jobs.export import export_project
@@ -170,7 +172,7 @@ def test_a_fatal_error_keeps_the_same_rows(world: SmallWorld, tmp_path: Path, cl
     errors = []
     for name, use in (("single", None), ("cluster", client)):
         project = _project(world, tmp_path / name)
-        with pytest.raises(Exception) as raised:
+        with pytest.raises(InputError) as raised:
             onboard_feed(feed, project=project, tree=world.tree, options=opts, client=use)
         errors.append(str(raised.value))
     assert errors[0] == errors[1]
@@ -209,3 +211,35 @@ def test_several_feeds_on_one_cluster_as_one_by_one(
     for where in seen.values():
         assert where[-1].stage == "mapping" and where[-1].done == where[-1].total
     assert not list(spread.glob(".cluster-*"))
+
+
+def test_a_broken_feed_among_several_keeps_its_rows_and_the_others_go_on(
+    world: SmallWorld, tmp_path: Path, client: Any, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    import catmap.jobs._onboard_cluster as onboard_cluster
+
+    @contextmanager
+    def the_test_cluster(address: str) -> Iterator[Any]:
+        yield client
+
+    monkeypatch.setattr(onboard_cluster, "open_cluster", the_test_cluster)
+    lines = world.paths.feeds["tallimbra"].read_bytes().splitlines(keepends=True)
+    broken = tmp_path / "feeds" / "tallimbra.tsv"
+    broken.parent.mkdir()
+    broken.write_bytes(b"".join(lines[:60]) + b'X1\t"never closed\n')
+    feeds = [broken, world.paths.feeds["ferravelle"]]
+    opts = OnboardOptions(
+        max_error=TEST_MAX_ERROR, chunk_size=CHUNK, validation_feed=[world.paths.reference]
+    )
+    single = _project(world, tmp_path / "single")
+    with pytest.raises(InputError) as raised:
+        onboard_feed(broken, project=single, tree=world.tree, options=opts)
+    onboard_feed(feeds[1], project=single, tree=world.tree, options=opts)
+    for cluster in (None, "local:2"):  # one after another here, and at once on the cluster
+        project = _project(world, tmp_path / f"several-{cluster}")
+        outcomes = onboard_feeds(
+            feeds, project=project, tree=world.tree, options=opts, cluster=cluster
+        )
+        assert str(outcomes[0].error) == str(raised.value) and outcomes[0].summary is None
+        assert outcomes[1].error is None and outcomes[1].summary is not None
+        assert store_contents(single) == store_contents(project)
