@@ -74,3 +74,14 @@ def test_several_feeds_map_at_once_as_each_alone(
             alone_dir, spread_dir = (str(tmp_path / d).encode() for d in ("alone", "spread"))
             assert mine.replace(alone_dir, b"OUT") == theirs.replace(spread_dir, b"OUT"), name
         assert f"{stem}: pass 2 " in result.stderr  # a progress line per feed
+
+
+def test_a_tree_file_is_refused_on_a_cluster(tmp_path: Path) -> None:
+    tree = Path(__file__).resolve().parents[1] / "taxonomies" / "tree-v1.txt"
+    result = CliRunner().invoke(
+        main,
+        ["map", str(FEED), "--out", str(tmp_path / "out"), "--project", str(tmp_path / "p"),
+         "--cluster", "local:2", "--tree-file", str(tree)],
+    )
+    assert result.exit_code != 0 and "--tree-file" in result.output
+    assert "Traceback" not in result.output and not (tmp_path / "out").exists()

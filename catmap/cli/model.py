@@ -241,6 +241,13 @@ def map_command(
     every operator in docs/rules.md), then the trained model, or the tree's own keywords when no
     model is trained yet. Give several feeds to map each into its own folder under --out.
     """
+    if cluster is not None and tree_file is not None:
+        raise InputError(
+            "map --cluster works on the shared tree's versions, not on a tree file",
+            field="--tree-file",
+            hint="use --tree-version N, or map without --cluster (onboard --cluster takes "
+            "--tree-file)",
+        )
     if cluster is not None and tree_version is None:
         # Workers load the shared tree by its version: the project's (or its model's).
         tree_version = str(project_tree(project_dir(project)).version)
