@@ -181,10 +181,16 @@ def ensure_model(project: Path, cold_start: bool) -> None:
     """Train the demo model into the project once (skipped with --cold-start)."""
     if cold_start or (project / "models" / "current").exists():
         return
+    from catmap.demo import ensure_demo_world
+    from catmap.jobs.demo import DEMO_WORLD
     from catmap.jobs.train import train_project
+    from catmap.tree.taxonomy import load_default_tree
 
     print("training the demo model once into", project, flush=True)
-    train_project([], project=project)
+    # The demo reference catalog (built once when missing), named: a new project has no
+    # labelled feeds of its own.
+    paths = ensure_demo_world(DEMO_WORLD, tree=load_default_tree("1"))
+    train_project([Path(paths.reference)], project=project)
 
 
 def main() -> None:

@@ -18,7 +18,7 @@ from catmap.cli import review as review_command
 from catmap.decide.audit import audits_needed, raised_threshold
 from catmap.jobs._calibration import FeedShift
 from catmap.jobs.audit import feed_acceptance, raised_floor
-from catmap.jobs.onboard import OnboardSummary, _keep_audit_raise
+from catmap.jobs.onboard import OnboardSummary, keep_audit_raise
 from catmap.records import Alternative, Attributes, Mapping, Product
 from catmap.review.session import ReviewSession
 from catmap.store import MappedRow, Store, store_path
@@ -213,15 +213,15 @@ def test_review_session_end_runs_the_check(
 def test_onboarding_keeps_the_raise() -> None:
     shift = FeedShift(100, 0.0, 0.0, 0.9, 0.9, "as calibrated", 0.8, False, ())
     summary = OnboardSummary(feed=FEED, path="f.csv", run_id=1, accounting={}, threshold=0.8)
-    assert _keep_audit_raise(shift, False, None, summary) is shift
-    kept = _keep_audit_raise(shift, True, 0.9, summary)
+    assert keep_audit_raise(shift, False, None, summary) is shift
+    kept = keep_audit_raise(shift, True, 0.9, summary)
     assert kept.threshold == 0.9 and summary.threshold == 0.9
     assert "audit raised its threshold: kept at 0.900" in summary.statement
     # A calibration threshold already stricter than the raise stays.
     strict = FeedShift(100, 0.0, 0.0, 0.9, 0.9, "tightened", 0.95, False, ())
-    assert _keep_audit_raise(strict, True, 0.9, summary).threshold == 0.95
+    assert keep_audit_raise(strict, True, 0.9, summary).threshold == 0.95
     # A raise to "accept nothing" stays so.
-    assert _keep_audit_raise(shift, True, None, summary).threshold is None
+    assert keep_audit_raise(shift, True, None, summary).threshold is None
 
 
 def test_unknown_feed_and_no_store(tmp_path: Path) -> None:

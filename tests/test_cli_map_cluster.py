@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import json
 from pathlib import Path
 
 import pytest
@@ -23,3 +24,64 @@ def test_a_bad_cluster_address_is_a_user_error(address: str, tmp_path: Path) -> 
     )
     assert result.exit_code == 1
     assert "--cluster" in result.output and "Traceback" not in result.output
+
+
+def test_several_feeds_map_at_once_as_each_alone(
+    tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    from collections.abc import Iterator
+    from contextlib import contextmanager
+    from typing import Any
+
+    import catmap.cli._render as render
+    import catmap.jobs.cluster as cluster
+
+    real = cluster.open_cluster
+    asked: list[str] = []
+
+    @contextmanager
+    def threads(address: str) -> Iterator[Any]:  # the workers are threads of this process
+        asked.append(address)
+        with real(address, processes=False) as client:
+            yield client
+
+    monkeypatch.setattr(cluster, "open_cluster", threads)
+    monkeypatch.setattr(render, "PIPED_PROGRESS_SECONDS", 0.0)
+    demo = FEED.parent
+    feeds = []
+    for name in ("ferravelle.csv", "tallimbra.tsv"):  # their first 1,000 lines: a short test
+        feed = tmp_path / "feeds" / name
+        feed.parent.mkdir(exist_ok=True)
+        feed.write_bytes(b"".join((demo / name).read_bytes().splitlines(True)[:1000]))
+        feeds.append(str(feed))
+    project = ["--project", str(tmp_path / "p")]
+    alone = CliRunner().invoke(
+        main, ["map", *feeds, "--out", str(tmp_path / "alone"), "--workers", "1", *project]
+    )
+    assert alone.exit_code == 0, alone.output
+    result = CliRunner().invoke(
+        main, ["map", *feeds, "--out", str(tmp_path / "spread"), "--cluster", "local:2",
+               "--json", *project],
+    )
+    assert result.exit_code == 0, result.output
+    assert asked == ["local:2"]  # one cluster for both feeds
+    facts = json.loads(result.stdout)["feeds"]
+    assert [Path(f["feed"]).name for f in facts] == [Path(f).name for f in feeds]
+    for stem in ("ferravelle", "tallimbra"):
+        for name in ("mappings.jsonl", "rejects.jsonl", "accounting.json"):
+            mine = (tmp_path / "alone" / stem / name).read_bytes()
+            theirs = (tmp_path / "spread" / stem / name).read_bytes()
+            alone_dir, spread_dir = (str(tmp_path / d).encode() for d in ("alone", "spread"))
+            assert mine.replace(alone_dir, b"OUT") == theirs.replace(spread_dir, b"OUT"), name
+        assert f"{stem}: pass 2 " in result.stderr  # a progress line per feed
+
+
+def test_a_tree_file_is_refused_on_a_cluster(tmp_path: Path) -> None:
+    tree = Path(__file__).resolve().parents[1] / "taxonomies" / "tree-v1.txt"
+    result = CliRunner().invoke(
+        main,
+        ["map", str(FEED), "--out", str(tmp_path / "out"), "--project", str(tmp_path / "p"),
+         "--cluster", "local:2", "--tree-file", str(tree)],
+    )
+    assert result.exit_code != 0 and "--tree-file" in result.output
+    assert "Traceback" not in result.output and not (tmp_path / "out").exists()

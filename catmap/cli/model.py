@@ -23,8 +23,10 @@ from catmap.cli._render import (
 )
 from catmap.cli._render import project_option as _project_option
 from catmap.cli._render import tree_version_option as _tree_version_option
+from catmap.errors import InputError
 from catmap.feeds.writers import FORMATS
 from catmap.jobs.map import map_project_feed
+from catmap.jobs.onboard import project_tree
 from catmap.jobs.train import train_project
 from catmap.project import project_dir
 
@@ -163,13 +165,16 @@ def train_command(
 
 
 @click.command("map")
-@click.argument("feed", type=click.Path(exists=True, dir_okay=False, path_type=Path))
+@click.argument(
+    "feeds", nargs=-1, required=True, type=click.Path(exists=True, dir_okay=False, path_type=Path)
+)
 @click.option(
     "--out",
     "out_dir",
     required=True,
     type=click.Path(file_okay=False, path_type=Path),
-    help="Folder for mappings, rejects and accounting.json.",
+    help="Folder for mappings, rejects and accounting.json (with several feeds: one folder "
+    "per feed in it, named after the feed).",
 )
 @click.option(
     "--format",
@@ -210,12 +215,13 @@ def train_command(
     default=None,
     metavar="ADDRESS",
     help="Map on a dask.distributed cluster: local:N starts N workers on this machine, "
-    "tcp://HOST:PORT uses a running scheduler (needs the cluster extra).",
+    "tcp://HOST:PORT uses a running scheduler (needs the cluster extra). Several feeds are "
+    "mapped at once on it.",
 )
 @_project_option
 @json_option
 def map_command(
-    feed: Path,
+    feeds: tuple[Path, ...],
     out_dir: Path,
     output_format: str,
     backoff_threshold: float,
@@ -233,8 +239,27 @@ def map_command(
 
     Per-feed rules apply first (one per line, e.g. path contains "Bottines" => 1511; # comments;
     every operator in docs/rules.md), then the trained model, or the tree's own keywords when no
-    model is trained yet.
+    model is trained yet. Give several feeds to map each into its own folder under --out.
     """
+    if cluster is not None and tree_file is not None:
+        raise InputError(
+            "map --cluster works on the shared tree's versions, not on a tree file",
+            field="--tree-file",
+            hint="use --tree-version N, or map without --cluster (onboard --cluster takes "
+            "--tree-file)",
+        )
+    if cluster is not None and tree_version is None:
+        # Workers load the shared tree by its version: the project's (or its model's).
+        tree_version = str(project_tree(project_dir(project)).version)
+    if len(feeds) > 1:
+        _map_several(
+            list(feeds), out_dir, cluster=cluster, project=project, feed_name=feed_name,
+            as_json=as_json, tree_version=tree_version, tree_file=tree_file,
+            model_dir=model_path, rules_file=rules_file, backoff_threshold=backoff_threshold,
+            format=output_format, workers=workers,
+        )  # fmt: skip
+        return
+    feed = feeds[0]
     if cluster is not None:
         _map_on_cluster(
             feed,
@@ -326,6 +351,90 @@ def _map_on_cluster(
         console.print(f"cluster: {parts['count']} partitions ({parts['kind']})")
     if result.error is not None:
         raise result.error
+
+
+def _map_several(
+    feeds: list[Path],
+    out_dir: Path,
+    *,
+    cluster: str | None,
+    project: str | None,
+    feed_name: str | None,
+    as_json: bool,
+    tree_version: str | None,
+    tree_file: Path | None,
+    workers: int,
+    **options: Any,
+) -> None:
+    """``catmap map FEED FEED...``: each feed into ``<out>/<feed name>/``; on a cluster, all at
+    once with a progress line per feed; the first fatal feed error is raised at the end."""
+    from catmap.jobs.cluster import (
+        ClusterProgress,
+        map_project_feeds_on_cluster,
+        unique_feed_names,
+    )
+
+    if feed_name is not None:
+        raise InputError(
+            "--feed names one feed, and several were given",
+            field="--feed",
+            hint="map the feeds one by one to name each, or let their file names name them",
+        )
+    names = unique_feed_names(feeds)
+    folder = project_dir(project)
+    with Progress(
+        SpinnerColumn(),
+        TextColumn("{task.description}"),
+        TimeElapsedColumn(),
+        console=err_console,
+        transient=True,
+        disable=not err_console.is_terminal,
+    ) as progress, PipedProgress(f"mapping {len(feeds)} feeds") as lines:
+        tasks = {name: progress.add_task(f"{name}: waiting", total=None) for name in names}
+        shown: set[str] = set()
+
+        def show(name: str, text: str, count: int | None = None) -> None:
+            progress.update(tasks[name], description=f"{name}: {text}")
+            lines.update(f"{name}: {text}", count)
+
+        def on_cluster(name: str, where: ClusterProgress) -> None:
+            if where.dashboard and "dashboard" not in shown:
+                shown.add("dashboard")
+                err_console.print(f"cluster dashboard: {where.dashboard}")
+            show(name, f"{where.stage} {where.done}/{where.total} partitions, {where.rows:,} "
+                 f"records, {where.rows_per_second:,.0f}/s")
+
+        if cluster is not None:
+            results = map_project_feeds_on_cluster(
+                feeds, out_dir, cluster=cluster, project=folder, on_progress=on_cluster,
+                tree_version=tree_version, **options,
+            )  # fmt: skip
+        else:
+            results = []
+            for feed, name in zip(feeds, names, strict=True):
+
+                def on_read(read: int, name: str = name) -> None:
+                    show(name, "mapping", read)
+
+                results.append(
+                    map_project_feed(
+                        feed, out_dir / name, project=folder, tree_version=tree_version,
+                        tree_file=tree_file, workers=workers, on_progress=on_read, **options,
+                    )
+                )  # fmt: skip
+                show(name, "done")
+    if as_json:
+        echo_json({"feeds": [result.facts for result in results]})
+    else:
+        for name, result in zip(names, results, strict=True):
+            console.print(f"[bold]{escape(name)}[/bold]")
+            _render_map(result.facts)
+            if "cluster" in result.facts:
+                parts = result.facts["cluster"]["partitions"]
+                console.print(f"cluster: {parts['count']} partitions ({parts['kind']})")
+    for result in results:
+        if result.error is not None:
+            raise result.error
 
 
 def _render_map(facts: dict[str, Any]) -> None:

@@ -32,7 +32,13 @@ from catmap.feeds.writers import FORMATS
 from catmap.jobs.decisions import export_project_decisions, import_project_decisions
 from catmap.jobs.demo import run_demo
 from catmap.jobs.export import export_project
-from catmap.jobs.onboard import DEFAULT_AUDIT_SHARE, OnboardOptions, onboard_feed, project_tree
+from catmap.jobs.onboard import (
+    DEFAULT_AUDIT_SHARE,
+    OnboardOptions,
+    onboard_feed,
+    onboard_feeds,
+    project_tree,
+)
 from catmap.jobs.status import project_status
 from catmap.project import project_dir
 
@@ -89,7 +95,9 @@ _max_error_option = click.option(
 
 
 @click.command("onboard")
-@click.argument("feed", type=click.Path(exists=True, dir_okay=False, path_type=Path))
+@click.argument(
+    "feeds", nargs=-1, required=True, type=click.Path(exists=True, dir_okay=False, path_type=Path)
+)
 @_max_error_option
 @click.option(
     "--confidence",
@@ -123,17 +131,27 @@ _max_error_option = click.option(
     "Default: the project's labelled feeds, the part training held out (the demo's project: "
     "the reference catalog's valid split and the Oskelund feed). Computed once per model.",
 )
+@click.option(
+    "--cluster",
+    default=None,
+    metavar="ADDRESS",
+    help="Read, normalise, map and extract on a dask.distributed cluster: local:N starts N "
+    "workers on this machine, tcp://HOST:PORT uses a running scheduler (needs the cluster "
+    "extra). Workers must see the feeds and the project folder at the same paths. This "
+    "process writes the store; the result is the same as without --cluster.",
+)
 @feed_name_option
 @tree_file_option()
 @_project_option
 @json_option
 def onboard_command(
-    feed: Path,
+    feeds: tuple[Path, ...],
     max_error: float,
     confidence: float,
     audit_share: float,
     rules: Path | None,
     validation_feed: tuple[Path, ...],
+    cluster: str | None,
     feed_name: str | None,
     tree_file: Path | None,
     project: str | None,
@@ -145,6 +163,10 @@ def onboard_command(
     with the stated --confidence on the calibration data (--validation); it holds for feeds
     like that data, and the reviewed audit sample measures each feed's real error. Running it
     again on the same feed updates the store in place (reviewed mappings are kept).
+
+    Several feeds are onboarded one after another, or all at once with --cluster (one
+    cluster, a progress line per feed: partitions done, records per second), and stored in
+    the order given: the store is the same as after onboarding them one by one.
     """
     folder = project_dir(project)
     tree = project_tree(folder, tree_file=tree_file)
@@ -155,15 +177,84 @@ def onboard_command(
         rules=rules,
         validation_feed=validation_feed or None,
     )
-    with _onboarding_progress(feed) as show:
-        summary = onboard_feed(
-            feed, project=folder, tree=tree, options=options, on_progress=show, feed=feed_name
-        )
-    facts = summary.to_dict()
+    if len(feeds) == 1 and cluster is None:
+        with _onboarding_progress(feeds[0]) as show:
+            summary = onboard_feed(
+                feeds[0], project=folder, tree=tree, options=options, on_progress=show,
+                feed=feed_name,
+            )  # fmt: skip
+        facts = summary.to_dict()
+        if as_json:
+            echo_json(facts)
+        else:
+            _render_onboard(facts)
+        return
+    with _feeds_progress(list(feeds)) as (show, show_cluster):
+        outcomes = onboard_feeds(
+            list(feeds), project=folder, tree=tree, options=options, cluster=cluster,
+            feed=feed_name, on_progress=show, on_cluster_progress=show_cluster,
+        )  # fmt: skip
+    done = [o.summary.to_dict() for o in outcomes if o.summary is not None]
     if as_json:
-        echo_json(facts)
+        echo_json(done[0] if len(feeds) == 1 and done else {"feeds": done})
     else:
-        _render_onboard(facts)
+        for facts in done:
+            _render_onboard(facts)
+            if facts.get("cluster"):
+                c = facts["cluster"]
+                _say(
+                    f"  cluster: {c['partitions']:,} partitions ({c['kind']}), "
+                    f"{c['chunks']:,} chunks mapped on the workers"
+                )
+    for outcome in outcomes:
+        if outcome.error is not None:
+            raise outcome.error
+
+
+@contextmanager
+def _feeds_progress(
+    feeds: list[Path],
+) -> Iterator[tuple[Callable[[str, str, int], None], Callable[[str, Any], None]]]:
+    """A progress line per feed while several feeds (or one on a cluster) are onboarded.
+
+    Yields:
+        Two callbacks: a feed's stage and count, and a feed's cluster progress (partitions
+        done of total, records, records per second; the dashboard's address is printed once).
+    """
+    shown: set[str] = set()
+    label = f"onboarding {len(feeds)} feeds" if len(feeds) > 1 else f"onboarding {feeds[0].name}"
+    with Progress(
+        SpinnerColumn(),
+        TextColumn("{task.description}"),
+        TimeElapsedColumn(),
+        console=err_console,
+        transient=True,
+        disable=not err_console.is_terminal,
+    ) as progress, PipedProgress(label) as piped:
+        tasks: dict[str, Any] = {}
+
+        def text(name: str, what: str, count: int | None) -> None:
+            if name not in tasks:
+                tasks[name] = progress.add_task(name, total=None)
+            progress.update(tasks[name], description=f"{name}: {what}")
+            piped.update(f"{name}: {what}", count)
+
+        def show(name: str, stage: str, count: int) -> None:
+            text(name, f"{stage}, {count:,} records" if count else stage, count)
+
+        def show_cluster(name: str, where: Any) -> None:
+            if where.dashboard and "dashboard" not in shown:
+                shown.add("dashboard")
+                err_console.print(f"cluster dashboard: {where.dashboard}")
+            unit = {"mapping": "chunks", "duplicates": "buckets"}.get(where.stage, "partitions")
+            text(
+                name,
+                f"{where.stage} {where.done}/{where.total} {unit}, {where.rows:,} records, "
+                f"{where.rows_per_second:,.0f}/s",
+                None,
+            )
+
+        yield show, show_cluster
 
 
 def _render_onboard(facts: dict[str, Any]) -> None:

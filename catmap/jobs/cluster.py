@@ -82,7 +82,7 @@ from catmap.feeds.partition import (
     iter_record_blocks,
     plan_ranges,
 )
-from catmap.feeds.profiled import open_profiled_feed
+from catmap.feeds.profiled import ProfiledFeed, open_profiled_feed
 from catmap.feeds.read import FeedInfo
 from catmap.feeds.writers import open_reject_writer
 from catmap.jobs.map import MapResult, project_mapper
@@ -97,7 +97,10 @@ __all__ = [
     "MapSetup",
     "map_feed_on_cluster",
     "map_project_feed_on_cluster",
+    "map_project_feeds_on_cluster",
     "open_cluster",
+    "share",
+    "unique_feed_names",
 ]
 
 # Task attempts after the first when a task fails or its worker is lost.
@@ -115,7 +118,9 @@ class ClusterProgress:
     """Where a cluster run is.
 
     Attributes:
-        stage: "loading", "keys", "duplicates", "pass 1", "pass 2" or "writing".
+        stage: "loading", "keys", "duplicates", "pass 1", "pass 2" or "writing" (map);
+            "loading", "keys", "duplicates", "reading" or "mapping" (onboard: its tasks are
+            partitions, then chunks).
         done: tasks of the stage finished.
         total: tasks of the stage.
         rows: records read so far in pass 1 (the last read figure afterwards).
@@ -331,6 +336,77 @@ def _duplicates_task(work: str, bucket: int, parts: int) -> dict[int, list[tuple
     return found
 
 
+def _duplicates_of(
+    duplicates: list[dict[int, list[tuple[int, int]]]], index: int
+) -> dict[int, int]:
+    """Position in partition ``index`` → line of the first occurrence, of each duplicate."""
+    found: dict[int, int] = {}
+    for bucket in duplicates:
+        found.update(bucket.get(index, []))
+    return found
+
+
+class _PartReader:
+    """The kept products of one partition, in order (iterate once).
+
+    Rejects (the normaliser's, and the duplicates named by round 2, worded as
+    :func:`catmap.feeds.ingest.iter_products` words them) are kept in :attr:`rejects` as
+    fields; a fatal feed error ends the products and is kept in :attr:`fatal` as facts.
+    """
+
+    def __init__(
+        self, info: FeedInfo, profile: FeedProfile, part: Part, duplicates: dict[int, int]
+    ) -> None:
+        self.info = info
+        self.part = part
+        self.build = ProductBuilder(profile)
+        self.duplicates = duplicates
+        self.rejects: list[list[Any]] = []
+        self.read = 0
+        self.kept = 0
+        self.flags: Counter[str] = Counter()
+        self.fatal: dict[str, Any] | None = None
+
+    def __iter__(self) -> Iterator[Product]:
+        build, duplicates, rejects, flags = self.build, self.duplicates, self.rejects, self.flags
+        try:
+            for position, item in enumerate(_records(self.info, self.part)):
+                self.read += 1
+                result = build(item) if type(item) is SourceRecord else item
+                if type(result) is Reject:
+                    rejects.append(_reject_fields(result))
+                    continue
+                assert isinstance(result, Product) and isinstance(item, SourceRecord)
+                first_line = duplicates.get(position)
+                if first_line is not None:
+                    where = f"line {first_line}" if first_line else "earlier in the feed"
+                    product_id = result.product_id
+                    rejects.append(
+                        _reject_fields(
+                            Reject(
+                                DUPLICATE_ID,
+                                f"product id '{product_id}' was already seen at {where}; "
+                                "the first one is kept",
+                                item.line,
+                                item.location,
+                                record_excerpt(item),
+                                product_id,
+                            )
+                        )
+                    )
+                    continue
+                flags.update(result.flags)  # of kept products only, as the accounting counts
+                self.kept += 1
+                yield result
+        except FATAL_FEED_ERRORS as error:
+            self.fatal = _fatal_facts(error)
+
+    def facts(self) -> dict[str, Any]:
+        """What the coordinator adds up into the accounting (see :func:`gather_rejects`)."""
+        return {"read": self.read, "kept": self.kept, "flags": dict(self.flags),
+                "fatal": self.fatal}
+
+
 def _pass_one_task(
     setup: MapSetup,
     info: FeedInfo,
@@ -350,21 +426,13 @@ def _pass_one_task(
     """
     mapper, loaded, lock = _worker_setup(setup)
     rules = RuleSet(loaded.rules, path=loaded.path)
-    dup_first: dict[int, int] = {}
-    for found in duplicates:
-        dup_first.update(found.get(index, []))
-    build = ProductBuilder(profile)
-    rejects: list[list[Any]] = []
-    read = 0
     idx_parts: list[np.ndarray[Any, Any]] = []
     val_parts: list[np.ndarray[Any, Any]] = []
     backing_parts: list[np.ndarray[Any, Any]] = []
     node_parts: list[sp.csr_matrix] = []
     rows: list[Any] = []
     counts: dict[str, Counter[str]] = {}
-    flags: Counter[str] = Counter()
     chunk: list[Product] = []
-    fatal = None
 
     def flush() -> None:
         chunk_rows = _rule_rows(chunk, rules)
@@ -383,38 +451,11 @@ def _pass_one_task(
         rows.extend(chunk_rows)
         chunk.clear()
 
-    try:
-        for position, item in enumerate(_records(info, part)):
-            read += 1
-            result = build(item) if type(item) is SourceRecord else item
-            if type(result) is Reject:
-                rejects.append(_reject_fields(result))
-                continue
-            assert isinstance(result, Product) and isinstance(item, SourceRecord)
-            first_line = dup_first.get(position)
-            if first_line is not None:
-                where = f"line {first_line}" if first_line else "earlier in the feed"
-                product_id = result.product_id
-                rejects.append(
-                    _reject_fields(
-                        Reject(
-                            DUPLICATE_ID,
-                            f"product id '{product_id}' was already seen at {where}; "
-                            "the first one is kept",
-                            item.line,
-                            item.location,
-                            record_excerpt(item),
-                            product_id,
-                        )
-                    )
-                )
-                continue
-            flags.update(result.flags)  # of kept products only, as the accounting counts them
-            chunk.append(result)
-            if len(chunk) >= chunk_size:
-                flush()
-    except FATAL_FEED_ERRORS as error:
-        fatal = _fatal_facts(error)
+    reading = _PartReader(info, profile, part, _duplicates_of(duplicates, index))
+    for product in reading:
+        chunk.append(product)
+        if len(chunk) >= chunk_size:
+            flush()
     if chunk:
         flush()
     base = Path(work) / _part_name(index)
@@ -428,16 +469,13 @@ def _pass_one_task(
     _save_npz(base.with_suffix(".nodes.npz"), sp.vstack(node_parts, format="csr") if node_parts
               else sp.csr_matrix((0, len(mapper.index.nodes))))
     _save_lines(base.with_suffix(".rows.jsonl"), rows)
-    _save_lines(base.with_suffix(".rejects.jsonl"), rejects)
+    _save_lines(base.with_suffix(".rejects.jsonl"), reading.rejects)
     return {
-        "read": read,
-        "kept": len(rows),
-        "flags": dict(flags),
+        **reading.facts(),
         "counts": {path: list(counter.items()) for path, counter in counts.items()},
         "matched": list(rules.matched.items()),
         "conflicts": rules.conflicts,
         "conflict_examples": rules.conflict_examples,
-        "fatal": fatal,
     }
 
 
@@ -579,6 +617,33 @@ def open_cluster(address: str, *, processes: bool = True) -> Iterator[Any]:
         yield client
 
 
+def _given(value: Any) -> Any:
+    return value
+
+
+def share(client: Any, value: Any, name: str) -> Any:
+    """Put ``value`` on the cluster for every task of the run that needs it; return its future.
+
+    The value is the result of a task rather than scattered data: workers fetch it from one
+    another, and when every worker holding it is lost the scheduler computes it again from
+    the task (scattered data would be lost for good, and the run with it).
+
+    Args:
+        client: a ``dask.distributed.Client``.
+        value: what the tasks need (the model, the duplicates, the path consensus...).
+        name: a word for the task's key.
+    """
+    import warnings
+
+    with warnings.catch_warnings():
+        # Sending the model once in the task is the point; dask warns about large graphs.
+        warnings.simplefilter("ignore", UserWarning)
+        return client.submit(
+            _given, value, key=f"catmap-{name}-{uuid.uuid4().hex[:8]}", pure=False,
+            retries=RETRIES,
+        )
+
+
 def _run(
     client: Any,
     stage: str,
@@ -683,29 +748,14 @@ def map_feed_on_cluster(
             )
 
     try:
-        fatal: dict[str, Any] | None = None
         if partition_bytes is None:
-            workers = max(1, len(client.scheduler_info().get("workers", {})))
-            size = feed.stat().st_size
-            partition_bytes = max(2**20, min(PARTITION_BYTES, size // (4 * workers) + 1))
+            partition_bytes = default_partition_bytes(client, feed)
         # Every worker loads the model, tree and rules once, all at the same time, before the
         # first round (instead of inside its first pass-1 task).
         progress("loading", 0, 1)
         client.run(_warm, setup)
         progress("loading", 1, 1)
-        ranges = plan_ranges(info, target_bytes=partition_bytes)
-        parts: list[Part]
-        if ranges is not None:
-            parts = list(ranges)
-        else:
-            parts = []
-            try:
-                for block in iter_record_blocks(source.feed, size=block_records):
-                    path = work / f"block-{len(parts):06d}.jsonl"
-                    _write_block(path, block)
-                    parts.append(str(path))
-            except FATAL_FEED_ERRORS as error:
-                fatal = _fatal_facts(error)
+        parts, fatal = plan_parts(source, work, partition_bytes, block_records)
         summary = _map_parts(
             client, setup, info, profile, parts, work, chunk_size, backoff_threshold, format,
             progress, count_read,
@@ -729,6 +779,101 @@ def map_feed_on_cluster(
     return facts, _fatal_error(fatal) if fatal is not None else None
 
 
+def default_partition_bytes(client: Any, feed: Path) -> int:
+    """Four partitions per worker, between 1 MiB and :data:`PARTITION_BYTES`."""
+    workers = max(1, len(client.scheduler_info().get("workers", {})))
+    return max(2**20, min(PARTITION_BYTES, feed.stat().st_size // (4 * workers) + 1))
+
+
+def plan_parts(
+    source: ProfiledFeed, work: Path, partition_bytes: int, block_records: int
+) -> tuple[list[Part], dict[str, Any] | None]:
+    """Cut a feed into partitions: byte ranges, else blocks of records written to ``work``.
+
+    Returns:
+        The partitions in feed order, and the fatal feed error met while cutting blocks (the
+        blocks before it are kept), as facts.
+    """
+    ranges = plan_ranges(source.info, target_bytes=partition_bytes)
+    if ranges is not None:
+        return list(ranges), None
+    parts: list[Part] = []
+    try:
+        for block in iter_record_blocks(source.feed, size=block_records):
+            path = work / f"block-{len(parts):06d}.jsonl"
+            _write_block(path, block)
+            parts.append(str(path))
+    except FATAL_FEED_ERRORS as error:
+        return parts, _fatal_facts(error)
+    return parts, None
+
+
+def find_duplicates(
+    client: Any,
+    info: FeedInfo,
+    profile: FeedProfile,
+    parts: list[Part],
+    work: Path,
+    progress: Callable[[str, int, int], None],
+) -> tuple[list[Part], Any]:
+    """Rounds 1 and 2: the later occurrences of every product id, over every partition.
+
+    Returns:
+        The partitions to read (those after a fatal feed error are left out: the feed is not
+        read past it), and the duplicates, on every worker (a future).
+    """
+    folder = str(work)
+    buckets = max(1, min(len(parts), 64))
+    fatals = _run(
+        client,
+        "keys",
+        [(_keys_task, (info, profile, part, i, folder, buckets)) for i, part in enumerate(parts)],
+        progress,
+    )
+    stop = next((i for i, fatal in enumerate(fatals) if fatal is not None), None)
+    if stop is not None:
+        parts = parts[: stop + 1]
+    duplicates = _run(
+        client,
+        "duplicates",
+        [(_duplicates_task, (folder, bucket, len(parts))) for bucket in range(buckets)],
+        progress,
+    )
+    return parts, share(client, duplicates, "duplicates")
+
+
+def gather_rejects(work: Path, facts: list[dict[str, Any]], writer: Any) -> Accounting:
+    """Write every partition's rejects in order and rebuild the feed's accounting from them.
+
+    Args:
+        work: the work folder holding ``<part>.rejects.jsonl``.
+        facts: each partition's counts (read, kept, flags), in order.
+        writer: the reject writer (``open_reject_writer``), left open.
+
+    Returns:
+        The accounting, as :func:`catmap.feeds.ingest.iter_products` keeps it.
+    """
+    accounting = Accounting()
+    duplicates = accounting.duplicate_ids
+    for index, first in enumerate(facts):
+        accounting.read += first["read"]
+        accounting.kept += first["kept"]
+        for flag, count in first["flags"].items():
+            accounting.by_flag[flag] = accounting.by_flag.get(flag, 0) + count
+        for fields in _load_lines(work / f"{_part_name(index)}.rejects.jsonl"):
+            reject = Reject(*fields)
+            accounting.count_reject(reject.reason)
+            if reject.reason == DUPLICATE_ID:
+                lines = duplicates.get(reject.product_id)
+                if lines is None:
+                    if len(duplicates) < MAX_DUPLICATE_IDS_LISTED:
+                        duplicates[reject.product_id] = [reject.line]
+                elif len(lines) < MAX_LINES_PER_DUPLICATE_ID:
+                    lines.append(reject.line)
+            writer.write(reject)
+    return accounting
+
+
 def _map_parts(
     client: Any,
     setup: MapSetup,
@@ -744,24 +889,7 @@ def _map_parts(
 ) -> dict[str, Any]:
     """Run the four rounds; return what the coordinator needs to write the outputs."""
     folder = str(work)
-    buckets = max(1, min(len(parts), 64))
-    fatals = _run(
-        client,
-        "keys",
-        [(_keys_task, (info, profile, part, i, folder, buckets)) for i, part in enumerate(parts)],
-        progress,
-    )
-    # Past a fatal error the feed is not read: the partitions after it are left out.
-    stop = next((i for i, fatal in enumerate(fatals) if fatal is not None), None)
-    if stop is not None:
-        parts = parts[: stop + 1]
-    duplicates = _run(
-        client,
-        "duplicates",
-        [(_duplicates_task, (folder, bucket, len(parts))) for bucket in range(buckets)],
-        progress,
-    )
-    shared_duplicates = client.scatter([duplicates], broadcast=True)[0]
+    parts, shared_duplicates = find_duplicates(client, info, profile, parts, work, progress)
     firsts = _run(
         client,
         "pass 1",
@@ -780,7 +908,7 @@ def _map_parts(
             for node, count in pairs:
                 counter[node] += count
     consensus = _consensus(counts)
-    shared = client.scatter([consensus], broadcast=True)[0]
+    shared = share(client, consensus, "consensus")
     seconds = _run(
         client,
         "pass 2",
@@ -835,26 +963,9 @@ def _write_outputs(
     rejects_path = out / ("rejects.csv" if format == "csv" else "rejects.jsonl")
     accounting_path = out / "accounting.json"
     parts = summary["parts"]
-    accounting = Accounting()
-    duplicates = accounting.duplicate_ids
     rejects = open_reject_writer(rejects_path, "csv" if format == "csv" else "jsonl")
     try:
-        for index, first in enumerate(summary["firsts"]):
-            accounting.read += first["read"]
-            accounting.kept += first["kept"]
-            for flag, count in first["flags"].items():
-                accounting.by_flag[flag] = accounting.by_flag.get(flag, 0) + count
-            for fields in _load_lines(work / f"{_part_name(index)}.rejects.jsonl"):
-                reject = Reject(*fields)
-                accounting.count_reject(reject.reason)
-                if reject.reason == DUPLICATE_ID:
-                    lines = duplicates.get(reject.product_id)
-                    if lines is None:
-                        if len(duplicates) < MAX_DUPLICATE_IDS_LISTED:
-                            duplicates[reject.product_id] = [reject.line]
-                    elif len(lines) < MAX_LINES_PER_DUPLICATE_ID:
-                        lines.append(reject.line)
-                rejects.write(reject)
+        accounting = gather_rejects(work, summary["firsts"], rejects)
     finally:
         rejects.close()
     if fatal is not None:
@@ -977,3 +1088,75 @@ def map_project_feed_on_cluster(
             on_progress=on_progress,
         )
     return MapResult(facts, error)
+
+
+def map_project_feeds_on_cluster(
+    feeds: list[Path],
+    out_dir: Path,
+    *,
+    cluster: str,
+    project: Path,
+    on_progress: Callable[[str, ClusterProgress], None] | None = None,
+    **options: Any,
+) -> list[MapResult]:
+    """``catmap map --cluster FEED FEED...``: map several feeds at once on one cluster.
+
+    The cluster starts (or is reached) once; one thread per feed submits that feed's rounds, so
+    the scheduler interleaves every feed's partitions. Each feed's outputs go to
+    ``<out_dir>/<feed name>/`` and are those of mapping it alone.
+
+    Args:
+        feeds: the feed files (their names must differ).
+        out_dir: the folder that gets one folder per feed.
+        cluster: ``local:N`` or a scheduler address (see :func:`open_cluster`).
+        project: the project folder (profiles, rules, model).
+        on_progress: called with the feed's name and where its run is.
+        options: as :func:`map_feed_on_cluster` takes them (tree version, model, rules,
+            back-off threshold, format).
+
+    Returns:
+        One result per feed, in order.
+
+    Raises:
+        InputError: two feeds have the same name.
+        ClusterError: dask is missing, or the cluster cannot be started or reached.
+    """
+    from concurrent.futures import ThreadPoolExecutor
+
+    names = unique_feed_names(feeds)
+    with open_cluster(cluster) as client:
+
+        def one(index: int) -> MapResult:
+            name = names[index]
+
+            def progress(where: ClusterProgress) -> None:
+                if on_progress is not None:
+                    on_progress(name, where)
+
+            facts, error = map_feed_on_cluster(
+                feeds[index], out_dir / name, client=client, project=project,
+                on_progress=progress, **options,
+            )  # fmt: skip
+            return MapResult(facts, error)
+
+        with ThreadPoolExecutor(max_workers=max(1, len(feeds))) as pool:
+            return list(pool.map(one, range(len(feeds))))
+
+
+def unique_feed_names(feeds: list[Path]) -> list[str]:
+    """The feeds' names (file names without dates and run counters), checked to differ.
+
+    Raises:
+        InputError: two feeds have the same name.
+    """
+    names = [feed_stem(feed) for feed in feeds]
+    seen: dict[str, Path] = {}
+    for feed, name in zip(feeds, names, strict=True):
+        if name in seen:
+            raise InputError(
+                f"two feeds are named '{name}': {seen[name]} and {feed}",
+                path=feed,
+                hint="map them in separate runs, each with its own --out",
+            )
+        seen[name] = feed
+    return names

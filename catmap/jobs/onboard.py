@@ -37,7 +37,7 @@ from collections.abc import Callable, Iterable, Iterator, Sequence
 from dataclasses import dataclass, field, replace
 from itertools import islice
 from pathlib import Path
-from typing import Any
+from typing import Any, Protocol
 
 import numpy as np
 
@@ -89,6 +89,7 @@ __all__ = [
     "DEFAULT_BACKOFF_THRESHOLD",
     "UNCOVERED_LANGUAGE_CAP",
     "FeedMapper",
+    "FeedOutcome",
     "FeedShift",
     "OnboardOptions",
     "OnboardSummary",
@@ -98,19 +99,30 @@ __all__ = [
     "acceptance_score",
     "calibration_sources",
     "default_calibration_feeds",
+    "candidate",
     "check_against_gold",
     "check_same_folder",
     "check_store_tree",
     "check_feed_shift",
     "default_model_dir",
+    "decided_row",
     "default_rules_path",
+    "extract_attributes",
+    "keep_audit_raise",
     "learn_feed_brands",
+    "MappedRowSource",
+    "PreparedOnboarding",
+    "RowsFactory",
+    "check_shift",
     "onboard_feed",
+    "onboard_feeds",
+    "prepare_onboarding",
     "project_brands",
     "registry_decisions",
     "project_tree",
     "project_review_examples",
     "rejects_path",
+    "store_onboarding",
     "retailer_parts",
     "review_examples",
     "title_familiarity",
@@ -238,6 +250,7 @@ class OnboardSummary:
     stopped_early: str | None = None
     stale_runs_stopped: list[dict[str, Any]] = field(default_factory=list)
     brands: dict[str, Any] = field(default_factory=dict)
+    cluster: dict[str, Any] | None = None
 
     @property
     def coverage(self) -> float:
@@ -248,6 +261,8 @@ class OnboardSummary:
         """Return the facts as JSON-ready values."""
         facts = dict(self.__dict__)
         facts["coverage"] = round(self.coverage, 4)
+        if facts["cluster"] is None:  # a cluster run's partitions and dashboard only
+            del facts["cluster"]
         return facts
 
 
@@ -339,6 +354,8 @@ def onboard_feed(
     extractor: AttributeExtractor | None = None,
     on_progress: Callable[[str, int], None] | None = None,
     feed: str | None = None,
+    client: Any | None = None,
+    on_cluster_progress: Callable[[Any], None] | None = None,
 ) -> OnboardSummary:
     """Onboard one feed into the project store.
 
@@ -354,6 +371,11 @@ def onboard_feed(
             :func:`calibration_sources` for ``options.validation_feed``).
         extractor: attribute extractor (default: with the project's brand dictionary).
         on_progress: called with a stage name and the records read so far.
+        client: a ``dask.distributed.Client``: read, normalise, map and extract over the
+            feed's partitions on its workers (see :mod:`catmap.jobs._onboard_cluster`); this
+            process still writes the store, with the same result as without.
+        on_cluster_progress: told where the cluster run is (a
+            :class:`~catmap.jobs.cluster.ClusterProgress`) after each task.
 
     Returns:
         The run's summary.
@@ -365,8 +387,186 @@ def onboard_feed(
         InputError: the feed, its profile or the rules file cannot be used, or a feed of the
             same name came from another folder; a fatal feed error is raised after the records
             before it were saved (the run is recorded as stopped).
+        ClusterError: the cluster failed.
     """
     started = time.perf_counter()
+    progress = on_progress or (lambda _stage, _count: None)
+    prepared = prepare_onboarding(
+        feed_path, project=project, tree=tree, model_dir=model_dir, options=options,
+        validation=validation, extractor=extractor, on_progress=progress, feed=feed,
+    )  # fmt: skip
+    if client is None:
+        return store_onboarding(prepared, None, started=started, on_progress=progress)
+    from catmap.jobs._onboard_cluster import onboard_rounds
+
+    with onboard_rounds(client, prepared, on_progress=on_cluster_progress) as rounds:
+        return store_onboarding(prepared, rounds, started=started, on_progress=progress)
+
+
+@dataclass
+class FeedOutcome:
+    """One feed of :func:`onboard_feeds`: its summary, or the error that stopped it.
+
+    Attributes:
+        feed: the feed file.
+        summary: the run's summary (None when the run raised).
+        error: a fatal feed error raised after the records before it were saved, or None.
+    """
+
+    feed: Path
+    summary: OnboardSummary | None
+    error: InputError | None = None
+
+
+def onboard_feeds(
+    feed_paths: Sequence[str | Path],
+    *,
+    project: str | Path,
+    tree: CategoryTree,
+    model_dir: str | Path | None = None,
+    options: OnboardOptions | None = None,
+    validation: ValidationPredictions | Sequence[ValidationPredictions] | None = None,
+    cluster: str | None = None,
+    feed: str | None = None,
+    on_progress: Callable[[str, str, int], None] | None = None,
+    on_cluster_progress: Callable[[str, Any], None] | None = None,
+) -> list[FeedOutcome]:
+    """Onboard several feeds, on one cluster when given; the store as when onboarded one by one.
+
+    On a cluster, the model goes to every worker once, every feed's partitions are scheduled
+    together (one thread per feed submits its rounds), and the store is then written feed by
+    feed in the order given, so run numbers and the store's contents are those of onboarding
+    the feeds one after another. A feed that stops on a fatal error keeps the records before
+    it, as :func:`onboard_feed` does, and the others go on.
+
+    Args:
+        feed_paths: the feed files (their names must differ).
+        project: the project folder.
+        tree: the category tree of the model.
+        model_dir: the model folder (default: ``<project>/models/current``).
+        options: thresholds, audit share, rules file (one rules file for every feed).
+        validation: precomputed held-out predictions (default: chosen once for all feeds).
+        cluster: ``local:N`` or a scheduler address; None: one feed after another here.
+        feed: the feed's name (only with one feed).
+        on_progress: called with the feed's name, a stage and a count.
+        on_cluster_progress: called with the feed's name and where its cluster run is.
+
+    Returns:
+        One outcome per feed, in order.
+
+    Raises:
+        InputError: two feeds have the same name, or ``feed`` was given with several feeds;
+            a feed, profile or rules file cannot be used (before anything is stored).
+        ClusterError: the cluster cannot be started or reached, or failed.
+    """
+    paths = [Path(f) for f in feed_paths]
+    if feed is not None and len(paths) > 1:
+        raise InputError(
+            "--feed names one feed, and several were given",
+            field="--feed",
+            hint="onboard the feeds one by one to name each, or let their file names name them",
+        )
+    names = [feed_name(path, feed) for path in paths]
+    seen: dict[str, Path] = {}
+    for path, name in zip(paths, names, strict=True):
+        if name in seen:
+            raise InputError(
+                f"two feeds are named '{name}': {seen[name]} and {path}",
+                path=path,
+                hint="onboard them in separate runs with --feed NAME",
+            )
+        seen[name] = path
+    prepared: list[PreparedOnboarding] = []
+    starts: list[float] = []
+    for path, name in zip(paths, names, strict=True):
+        starts.append(time.perf_counter())
+        progress = _feed_progress(on_progress, name)
+        prepared.append(
+            prepare_onboarding(
+                path, project=project, tree=tree, model_dir=model_dir, options=options,
+                validation=validation, on_progress=progress, feed=feed,
+            )
+        )  # fmt: skip
+        validation = prepared[-1].sources  # chosen once, for the same model and options
+    if cluster is None:
+        return [
+            _stored(p, None, started, _feed_progress(on_progress, p.name))
+            for p, started in zip(prepared, starts, strict=True)
+        ]
+    from catmap.jobs._onboard_cluster import run_feeds_on_cluster
+
+    with run_feeds_on_cluster(cluster, prepared, on_progress=on_cluster_progress) as rounds:
+        return [
+            _stored(p, r, started, _feed_progress(on_progress, p.name))
+            for p, r, started in zip(prepared, rounds, starts, strict=True)
+        ]
+
+
+def _feed_progress(
+    on_progress: Callable[[str, str, int], None] | None, name: str
+) -> Callable[[str, int], None]:
+    if on_progress is None:
+        return lambda _stage, _count: None
+    return lambda stage, count: on_progress(name, stage, count)
+
+
+def _stored(
+    prepared: PreparedOnboarding,
+    rounds: RowsFactory | None,
+    started: float,
+    progress: Callable[[str, int], None],
+) -> FeedOutcome:
+    try:
+        summary = store_onboarding(prepared, rounds, started=started, on_progress=progress)
+    except FATAL_FEED_ERRORS as error:
+        return FeedOutcome(prepared.feed_path, None, error)
+    return FeedOutcome(prepared.feed_path, summary)
+
+
+@dataclass
+class PreparedOnboarding:
+    """What a feed's onboarding knows before it maps a product: the feed opened with its
+    profile, the mapper with its rules, the accept threshold and the extractor with the
+    feed's own brands (see :func:`prepare_onboarding`)."""
+
+    name: str
+    feed_path: Path
+    project: Path
+    tree: CategoryTree
+    model_dir: Path
+    manifest: dict[str, Any]
+    options: OnboardOptions
+    rules_file: Path | None
+    rules: RuleSet | None
+    mapper: FeedMapper
+    sources: list[ValidationPredictions]
+    choice: ThresholdChoice
+    statement: str
+    extractor: AttributeExtractor
+    source: ProfiledFeed
+    learner: FeedBrandLearner
+
+
+def prepare_onboarding(
+    feed_path: str | Path,
+    *,
+    project: str | Path,
+    tree: CategoryTree,
+    model_dir: str | Path | None = None,
+    options: OnboardOptions | None = None,
+    validation: ValidationPredictions | Sequence[ValidationPredictions] | None = None,
+    extractor: AttributeExtractor | None = None,
+    on_progress: Callable[[str, int], None] | None = None,
+    feed: str | None = None,
+) -> PreparedOnboarding:
+    """Check the store, load the model and rules, choose the accept threshold and learn the
+    feed's own brands: every step of :func:`onboard_feed` before the feed is mapped.
+
+    Args and Raises: as :func:`onboard_feed`.
+
+    Returns:
+        What mapping and storing the feed need.
+    """
     options = options or OnboardOptions()
     project = Path(project)
     feed_path = Path(feed_path)
@@ -403,23 +603,88 @@ def onboard_feed(
         retailer_names=extractor.retailer_names, feed_brands=learner,
         confirmed_brands=extractor.confirmed_brands, not_brands=extractor.not_brands,
     )  # fmt: skip
-    store = Store.for_project(project)
+    return PreparedOnboarding(
+        name=name, feed_path=feed_path, project=project, tree=tree, model_dir=folder,
+        manifest=manifest, options=options, rules_file=rules_file, rules=rules, mapper=mapper,
+        sources=sources, choice=choice, statement=statement, extractor=extractor,
+        source=source, learner=learner,
+    )  # fmt: skip
+
+
+class MappedRowSource(Protocol):
+    """Where the store phase takes a feed's rows from (iterate once): one process maps them
+    as it reads (:class:`_MappedRows`), a cluster run reads its workers' parts."""
+
+    candidates: list[Candidate]
+    fatal: InputError | None
+    # The feed's threshold as its audit last raised it (catmap.jobs.audit), if ever: set
+    # before iterating; the rows keep at least that threshold.
+    audit_floor: tuple[bool, float | None]
+
+    @property
+    def accounting(self) -> Accounting:
+        """The feed's row accounting (complete once the rows are iterated)."""
+
+    def __iter__(self) -> Iterator[MappedRow]: ...
+
+
+class RowsFactory(Protocol):
+    """Makes the rows of a feed for the store phase, given the run's summary so far."""
+
+    def rows(
+        self, summary: OnboardSummary, reject_file: Path, progress: Callable[[str, int], None]
+    ) -> MappedRowSource:
+        """The rows; their rejects go to ``reject_file``, their counts to ``summary``."""
+
+
+def store_onboarding(
+    prepared: PreparedOnboarding,
+    mapped_by: RowsFactory | None,
+    *,
+    started: float,
+    on_progress: Callable[[str, int], None] | None = None,
+) -> OnboardSummary:
+    """Record the run, save every row, plan the review queue and merge the feed's brands.
+
+    Args:
+        prepared: see :func:`prepare_onboarding`.
+        mapped_by: where the rows come from (None: mapped here as the feed is read).
+        started: when the run started (``time.perf_counter()``).
+        on_progress: called with a stage name and a count.
+
+    Returns:
+        The run's summary.
+
+    Raises:
+        InputError: a fatal feed error, after the records before it were saved.
+    """
+    p = prepared
+    name, tree, options = p.name, p.tree, p.options
+    progress = on_progress or (lambda _stage, _count: None)
+    store = Store.for_project(p.project)
     try:
         check_onboarding(store, str(tree.version))
-        store.add_feed(name, source_path=feed_path.resolve(), profile_path=source.profile_path)
+        store.add_feed(
+            name, source_path=p.feed_path.resolve(), profile_path=p.source.profile_path
+        )
         summary = _start_run(
-            store, name, feed_path, project, options, choice, statement, sources,
-            rules_file=rules_file, model_dir=folder, tree=tree,
+            store, name, p.feed_path, p.project, options, p.choice, p.statement, p.sources,
+            rules_file=p.rules_file, model_dir=p.model_dir, tree=tree,
         )
         run_id = summary.run_id
-        reject_file = rejects_path(project, name)
-        subfolder(project, "rejects")
+        reject_file = rejects_path(p.project, name)
+        subfolder(p.project, "rejects")
         summary.rejects_file = str(reject_file)
-        mapped = _MappedRows(
-            source, reject_file, mapper, extractor, sources, summary, options, progress
-        )
+        mapped: MappedRowSource
+        if mapped_by is None:
+            mapped = _MappedRows(
+                p.source, reject_file, p.mapper, p.extractor, p.sources, summary, options,
+                progress,
+            )
+        else:
+            mapped = mapped_by.rows(summary, reject_file, progress)
         mapped.audit_floor = raised_floor(store, name)
-        model_version = str(manifest.get("training_data_fingerprint", ""))[:12]
+        model_version = str(p.manifest.get("training_data_fingerprint", ""))[:12]
         store.save_mapped(
             name,
             run_id,
@@ -431,11 +696,13 @@ def onboard_feed(
         record_feed_versions(store, str(tree.version), name)
         error = mapped.fatal
 
-        progress("planning the review queue", source.accounting.read)
+        progress("planning the review queue", mapped.accounting.read)
         _apply_plan(store, name, run_id, mapped.candidates, options, summary, model_version, tree)
         summary.withdrawn = _withdraw_stale_items(store, name, run_id, summary.threshold)
-        summary.brands = _merge_brands(store, learner, extractor.brands, name)
-        _finish_run(store, summary, source.accounting, rules, started, stopped=error is not None)
+        summary.brands = _merge_brands(store, p.learner, p.extractor.brands, name)
+        _finish_run(
+            store, summary, mapped.accounting, p.rules, started, stopped=error is not None
+        )
     finally:
         store.close()
     if error is not None:
@@ -686,8 +953,13 @@ class _MappedRows:
                 self.fatal = fatal
                 accounting.stopped_early = str(fatal)
 
+    @property
+    def accounting(self) -> Accounting:
+        """The feed's row accounting."""
+        return self.source.accounting
+
     def _check(self, scores: np.ndarray[Any, Any], familiarity: np.ndarray[Any, Any]) -> FeedShift:
-        return _check_shift(self.summary, self.sources, self.options, scores, familiarity)
+        return check_shift(self.summary, self.sources, self.options, scores, familiarity)
 
     def __iter__(self) -> Iterator[MappedRow]:
         tree = self.mapper.tree
@@ -698,29 +970,32 @@ class _MappedRows:
             familiarity = title_familiarity([p.title for p in chunk], vocabulary)
             raw = np.array([acceptance_score(m) for m in mappings])
             if self.shift is None:
-                self.shift = _keep_audit_raise(self._check(raw, familiarity), *self.audit_floor,
+                self.shift = keep_audit_raise(self._check(raw, familiarity), *self.audit_floor,
                                                self.summary)
             scores = self.shift.acceptance_scores(raw, familiarity)
             threshold = self.shift.threshold
             for product, mapping, score in zip(chunk, mappings, scores.tolist(), strict=True):
                 row = _first_row(product, mapping, score, threshold, self.extractor, tree)
-                self.candidates.append(
-                    Candidate(
-                        product.product_id,
-                        row.group_key,
-                        mapping.node_id,
-                        mapping.confidence,
-                        row.status == "accepted",
-                        brand_conflict="brand_conflict" in row.reasons,
-                        brand_confidence=row.attributes.brand_confidence,
-                        audience_conflict=row.attributes.audience_conflict,
-                    )
-                )
+                self.candidates.append(candidate(row))
                 _count(self.summary, product, row, tree)
                 yield row
 
 
-def _check_shift(
+def candidate(row: MappedRow) -> Candidate:
+    """The row as the review-queue plan sees it."""
+    return Candidate(
+        row.product.product_id,
+        row.group_key,
+        row.mapping.node_id,
+        row.mapping.confidence,
+        row.status == "accepted",
+        brand_conflict="brand_conflict" in row.reasons,
+        brand_confidence=row.attributes.brand_confidence,
+        audience_conflict=row.attributes.audience_conflict,
+    )
+
+
+def check_shift(
     summary: OnboardSummary,
     sources: Sequence[ValidationPredictions],
     options: OnboardOptions,
@@ -738,7 +1013,7 @@ def _check_shift(
     return shift
 
 
-def _keep_audit_raise(
+def keep_audit_raise(
     shift: FeedShift, raised: bool, floor: float | None, summary: OnboardSummary
 ) -> FeedShift:
     """The feed's threshold, at least as strict as the one its audit raised it to."""
@@ -804,13 +1079,37 @@ def _first_row(
     ``score`` is the mapping's acceptance score after the feed check (see
     :class:`FeedShift`), compared with the feed's ``threshold``.
     """
+    attributes, conflicts = extract_attributes(product, mapping, extractor)
+    return decided_row(product, mapping, attributes, conflicts, score, threshold)
+
+
+def extract_attributes(
+    product: Product, mapping: Mapping, extractor: AttributeExtractor
+) -> tuple[Attributes, tuple[str, ...]]:
+    """The product's attributes, and the conflicts that queue it whatever its confidence
+    (``brand_conflict``, ``audience_conflict``): the part of a row that needs no threshold."""
     attributes = extractor.extract(product, mapping.node_id or None)
+    conflicts: list[str] = []
+    if _brand_conflict(product, attributes, extractor.brands):
+        conflicts.append("brand_conflict")
+    if attributes.audience_conflict:
+        conflicts.append("audience_conflict")
+    return attributes, tuple(conflicts)
+
+
+def decided_row(
+    product: Product,
+    mapping: Mapping,
+    attributes: Attributes,
+    conflicts: tuple[str, ...],
+    score: float,
+    threshold: float | None,
+) -> MappedRow:
+    """The row accepted when ``score`` reaches ``threshold``, else queued; queued for its
+    ``conflicts`` too (see :func:`extract_attributes`)."""
     accepted = threshold is not None and score >= threshold
     reasons: list[str] = [] if accepted else ["low_confidence"]
-    if _brand_conflict(product, attributes, extractor.brands):
-        reasons.append("brand_conflict")
-    if attributes.audience_conflict:
-        reasons.append("audience_conflict")
+    reasons.extend(conflicts)
     return MappedRow(
         product=product,
         mapping=mapping,
