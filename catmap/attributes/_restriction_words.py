@@ -74,6 +74,11 @@ ALCOHOL = (
     "chocolate liqueur", "coffee liqueur", "herbal liqueur", "liqueur au chocolat",
     "schokoladenlikor", "licor de chocolate", "liquore al cioccolato", "licor beirao",
     "gin tonic", "gin and tonic", "alcopop", "premix",
+    "korn", "porto", "pineau", "floc de gascogne", "kir royal", "creme de cassis",
+    "creme de menthe", "genepi", "federweisser", "weinschorle", "tinto de verano", "txakoli",
+    "mencia", "vin santo", "vinsanto", "passito", "negroamaro", "brachetto", "nocino",
+    "medronho", "poncha", "trollinger", "lemberger", "licor de cafe", "liqueur de cafe",
+    "liquore al caffe", "licor de hierbas", "crema de orujo", "anejo", "reposado",
 )
 
 TOBACCO = (
@@ -165,6 +170,7 @@ WEAPONS = (
     "fucile subacqueo", "harpoen", "arpao", "ammunition", "ammo", "munitions", "munition",
     "municion", "munizioni", "munitie", "municao", "diabolos", "balines", "piombini",
     "chumbinhos", "airgun pellets", "air rifle pellets",
+    "kunai", "tonfa", "kubotan", "wurfstern",
 )
 
 ADULT = (
@@ -239,7 +245,7 @@ MEDICINE = (
     "lidocaine", "lidocain", "lidocaina", "mebendazole", "permethrin", "minoxidil",
     "sumatriptan", "sildenafil", "tadalafil", "finasteride", "orlistat", "salbutamol",
     "amoxicillin", "amoxicilline", "amoxicilina", "amoxicillina", "levonorgestrel",
-    "melatonina", "nicotine replacement",
+    "nicotine replacement",
 )
 
 # Words too general to flag a product the tree left unrestricted (a kitchen knife on a
@@ -388,6 +394,13 @@ DESCRIPTORS = (
     "kids", "kid", "children", "childrens", "child", "enfant", "enfants", "kinder",
     "kinderen", "ninos", "nino", "ninas", "bambini", "bambino", "criancas", "crianca",
     "infantil", "junior",
+    # foods and drinks named after a drink they taste of
+    "coffee", "cafe", "kaffee", "caffe", "koffie", "tea", "tee", "thee", "cha",
+    "biscuits", "cookies", "kekse", "galletas", "biscotti", "koekjes", "bolachas", "popcorn",
+    "crisps", "extract", "flavouring", "flavoring", "baking", "patisserie", "backen",
+    "reposteria", "pasticceria", "pastelaria", "oil", "olive oil", "huile", "ol", "aceite",
+    "olio", "olie", "azeite", "juice", "jus de", "zumo", "succo", "sumo", "nectar",
+    "lemonade", "limonade", "limonata", "limonada",
 )
 
 # Accessories and objects of a drink, a smoke, a weapon or a medicine ("whisky stones",
@@ -744,3 +757,15 @@ STEM_PREFIXES: dict[str, str] = {
     "paracetamol": "medicine", "ibuprofen": "medicine", "aspirin": "medicine",
     "diclofenac": "medicine",
 }
+
+# Words that name a drink only beside a bottle's measure ("Rosé de Provence 75 cl",
+# "Porto Ruby 75 cl", "Stout imperial 33 cl"): a colour, a town, an adjective elsewhere.
+WEAK_ALCOHOL = (
+    "rose", "rosado", "rosato", "port", "stout", "porter", "aperitivo", "aperitif", "bitter",
+    "tinto", "rosso", "bianco", "blanco", "branco", "brut", "reserva", "riserva",
+    "gran reserva", "doc", "docg", "aoc", "aop", "igt", "igp", "magnum", "malt", "bordeaux",
+    "bourgogne", "marsala", "madeira", "demi sec", "trocken", "halbtrocken", "lieblich",
+    "seco", "secco", "frizzante", "barrique", "vintage", "cuvee", "tawny", "ruby",
+    "years old", "year old", "ans d age", "jahre", "anos", "anni", "jaar", "grand cru",
+    "premier cru", "chateau", "domaine", "weingut", "bodega", "cantina", "quinta",
+)

@@ -36,11 +36,15 @@ from __future__ import annotations
 
 import re
 from collections.abc import Iterable
+from typing import TYPE_CHECKING
 
 import ahocorasick
 
 from catmap.attributes import _restriction_words as words
 from catmap.attributes._text import PhraseIndex, fold
+
+if TYPE_CHECKING:
+    from catmap.tree.taxonomy import CategoryTree
 
 RESTRICTIONS: tuple[str, ...] = ("alcohol", "tobacco", "weapons", "adult", "medicine")
 
@@ -71,7 +75,10 @@ _KITCHEN = "k"
 _CONDITION = "c"
 _FORM = "f"
 _NICOTINE_FORM = "n"
-_CUES = frozenset({_DESCRIPTOR, _ACCESSORY, _KITCHEN, _CONDITION, _FORM, _NICOTINE_FORM})
+_WEAK = "w"
+_CUES = frozenset(
+    {_DESCRIPTOR, _ACCESSORY, _KITCHEN, _CONDITION, _FORM, _NICOTINE_FORM, _WEAK}
+)
 
 # How many words away a cue may stand ("gin and tonic candle", "caramelle al gusto di rum":
 # four words between the object and the drink it tastes of).
@@ -109,6 +116,8 @@ def _phrases() -> dict[str, object]:
         for word in keywords:
             for form in _plurals(fold(word)):
                 phrases.setdefault(form, restriction)
+    for phrase in words.WEAK_ALCOHOL:
+        phrases.setdefault(fold(phrase), _WEAK)
     for phrase in words.HARMLESS:
         phrases[fold(phrase)] = ""
     return phrases
@@ -164,6 +173,11 @@ def _scan(folded: str) -> tuple[list[_Match], list[_PartHit]]:
 _PACKS = words.PACKS
 _STRENGTH = re.compile(r"\b(\d{1,2})(?:d(\d+))? (?:vol|abv|alc)\b")
 _DIGIT = re.compile(r"\d")
+# A bottle's or a can's measure: 70 cl, 0,75 l, 750 ml, 33 cl, magnum.
+_BOTTLE = re.compile(
+    r"\b(?:(?:70|75|50|35|37d5|20|33|25|44|150) ?cl|0d(?:7|75|5|33|35|375|2) ?l"
+    r"|(?:700|750|500|330|375|1500) ?ml|1d5 ?l|magnum)\b"
+)
 _ANTI = re.compile(r"\banti (?=[a-z])")
 _DOSE = re.compile(r"\b\d+(?:d\d+)? ?(?:mg|mcg|ug|g|ml|iu)\b")
 
@@ -249,16 +263,17 @@ def restriction_hits(folded: str) -> list[tuple[str, str, bool]]:
         folded = _ANTI.sub("anti", folded)
     matches, found_parts = _scan(folded)
     strength = (
-        _STRENGTH.findall(folded)
+        list(_STRENGTH.finditer(folded))
         if (" vol" in folded or " abv" in folded or " alc" in folded) else []
     )
     named = any(m[3] and m[3] not in _CUES for m in matches)
+    bottle = any(m[3] == _WEAK for m in matches) and bool(_BOTTLE.search(folded))
     if found_parts:
         covered = [(m[0], m[1]) for m in matches if m[3] not in _CUES]
         parts = _word_parts(folded, found_parts, covered, matches)
     else:
         parts = []
-    if not named and not parts and not strength:
+    if not named and not parts and not strength and not bottle:
         # the common case: nothing restricted named, only colours, objects...
         return _conditions(folded, matches) if matches else []
     kept: list[_Match] = []
@@ -270,22 +285,24 @@ def restriction_hits(folded: str) -> list[tuple[str, str, bool]]:
         kept.append(match)
     tokens = folded.split(" ")
     cues: dict[object, list[tuple[int, int]]] = {}
-    goods: list[tuple[int, int, str, str]] = []
+    goods: list[tuple[int, int, str, str, bool]] = []
     for start, end, key, payload in kept:
         first, last = _position(folded, start, end)
-        if payload in _CUES:
+        if payload == _WEAK:
+            if bottle:
+                goods.append((first, last, key, "alcohol", False))
+        elif payload in _CUES:
             cues.setdefault(payload, []).append((first, last))
         elif payload:
-            goods.append((first, last, key, str(payload)))
-    for whole, fraction in strength:
-        value = float(f"{whole}.{fraction or 0}")
-        found = re.search(rf"\b{whole}(?:d{fraction})? (?:vol|abv|alc)\b" if fraction else
-                          rf"\b{whole} (?:vol|abv|alc)\b", folded)
-        where = _position(folded, *found.span()) if found else (0, 0)
-        if value <= 1.2:  # "0,5 % vol": an alcohol-free drink by the usual threshold
-            cues.setdefault(_DESCRIPTOR, []).append(where)
+            goods.append((first, last, key, str(payload), key not in _PLAIN_KEYWORDS))
+    for found in strength:
+        whole, fraction = found.groups()
+        first, last = _position(folded, *found.span())
+        if float(f"{whole}.{fraction or 0}") <= 1.2:
+            # "0,5 % vol": a drink without alcohol by the usual threshold
+            cues.setdefault(_DESCRIPTOR, []).append((first, last))
         else:
-            goods.append((where[0], where[1], f"{whole} % vol", "alcohol"))
+            goods.append((first, last, found.group(0), "alcohol", True))
 
     def near(kind: str, first: int, last: int, window: int = _WINDOW) -> list[tuple[int, int]]:
         return [
@@ -294,7 +311,7 @@ def restriction_hits(folded: str) -> list[tuple[str, str, bool]]:
         ]
 
     hits: list[tuple[str, str, bool]] = []
-    for first, last, key, flag in goods:
+    for first, last, key, flag, strong in goods:
         if flag in _NEGATABLE and near(_DESCRIPTOR, first, last):
             continue
         if flag in _ACCESSORY_NEGATABLE:
@@ -310,7 +327,7 @@ def restriction_hits(folded: str) -> list[tuple[str, str, bool]]:
             continue
         if key in _NICOTINE_WORDS and near(_NICOTINE_FORM, first, last, 2):
             flag = "medicine"
-        hits.append((flag, key, key not in _PLAIN_KEYWORDS))
+        hits.append((flag, key, strong))
     if not any(flag == "medicine" for flag, _k, _s in hits):
         hits.extend(_conditions(folded, matches))
     return hits
@@ -423,6 +440,31 @@ def quiet_flags(node_words: Iterable[str]) -> frozenset[str]:
         if folded & context:
             quiet |= flags
     return quiet
+
+
+def node_context(tree: CategoryTree, node_id: str) -> tuple[str, bool, frozenset[str]]:
+    """Return what a node says for the restriction flag of its products.
+
+    Args:
+        tree: the category tree.
+        node_id: a node of it.
+
+    Returns:
+        (the node's inherited restriction or "", whether the node cannot say so that every
+        keyword is read (an inner or a generic node), the flags its context silences: see
+        :func:`quiet_flags`, read from the names and terms of the node and its ancestors).
+
+    Raises:
+        UnknownNode: no such node.
+    """
+    node_words: list[str] = []
+    for node in tree.lineage(node_id):
+        node_words.extend(tree.all_terms(node.id))
+    return (
+        tree.restriction(node_id) or "",
+        is_generic_node(tree[node_id].name) or not tree.is_leaf(node_id),
+        quiet_flags(node_words),
+    )
 
 
 def restriction_for_node(
