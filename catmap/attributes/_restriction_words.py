@@ -112,6 +112,7 @@ TOBACCO = (
     "tabac a macher", "tabaco de mascar", "tabacco da masticare", "pruimtabak",
     "puro dominicano", "puro cubano", "puro robusto", "puro corona", "nicotine pouches",
     "nicotine pods", "pods nicotine",
+    "nikotinbeutel",
 )
 
 WEAPONS = (
@@ -171,6 +172,9 @@ WEAPONS = (
     "municion", "munizioni", "munitie", "municao", "diabolos", "balines", "piombini",
     "chumbinhos", "airgun pellets", "air rifle pellets",
     "kunai", "tonfa", "kubotan", "wurfstern",
+    "spray de defense", "bombe au poivre", "gaz lacrymogene", "spray de defensa",
+    "spray antiaggressione", "spray de defesa", "arco y flechas", "arco e frecce",
+    "arc et fleches", "pijl en boog", "arco e flechas", "bow and arrows",
 )
 
 ADULT = (
@@ -202,6 +206,9 @@ ADULT = (
     "ovetto vibrante", "vibrerend eitje", "ovo vibratorio", "porno", "adult film",
     "adult dvd", "film pour adultes", "erwachsenenfilm", "pelicula para adultos",
     "film per adulti", "film voor volwassenen", "filme adulto", "sex shop", "sexshop",
+    "handcuffs", "fluffy handcuffs", "menottes", "handschellen", "handboeien", "algemas",
+    "sex doll", "love doll", "poupee sexuelle", "sexpuppe", "liebespuppe", "muneca sexual",
+    "bambola sessuale", "sekspop", "boneca sexual",
 )
 
 MEDICINE = (
@@ -321,6 +328,9 @@ HARMLESS = (
     "taglia adulto", "volwassenenmaat", "tamanho adulto", "concrete vibrator",
     "vibrateur a beton", "betonvibrator", "vibrador de hormigon", "vibratore per calcestruzzo",
     "vibrador de betao", "coquin de chat", "kriek juice", "bock saw",
+    "toy handcuffs", "police handcuffs", "menottes jouet", "menottes de police",
+    "spielzeug handschellen", "handschellen spielzeug", "polizei handschellen",
+    "esposas de juguete", "manette giocattolo", "speelgoed handboeien", "algemas de brinquedo",
     "champagne sabre", "champagne saber", "sabre a champagne", "sable de champan",
     "sciabola da champagne", "champagnesabel", "sabre laser", "sable de luz", "spada laser",
     "sabre de luz", "light saber", "lightsaber", "levure de biere", "levadura de cerveza",
@@ -390,10 +400,7 @@ DESCRIPTORS = (
     "bath salts", "beard oil", "aftershave", "after shave", "deodorant",
     "face mask", "masque", "gesichtsmaske", "mascarilla", "maschera", "gezichtsmasker",
     "tattoo", "tatouage", "tatuaje", "tatuaggio", "tatoeage", "tatuagem",
-    # children's things: a bow for kids, a pretend drink
-    "kids", "kid", "children", "childrens", "child", "enfant", "enfants", "kinder",
-    "kinderen", "ninos", "nino", "ninas", "bambini", "bambino", "criancas", "crianca",
-    "infantil", "junior",
+
     # foods and drinks named after a drink they taste of
     "coffee", "cafe", "kaffee", "caffe", "koffie", "tea", "tee", "thee", "cha",
     "biscuits", "cookies", "kekse", "galletas", "biscotti", "koekjes", "bolachas", "popcorn",
@@ -401,6 +408,10 @@ DESCRIPTORS = (
     "reposteria", "pasticceria", "pastelaria", "oil", "olive oil", "huile", "ol", "aceite",
     "olio", "olie", "azeite", "juice", "jus de", "zumo", "succo", "sumo", "nectar",
     "lemonade", "limonade", "limonata", "limonada",
+    "salt", "sel", "salz", "zout", "jelly", "gelee", "gelatina", "gelei", "marmalade",
+    "marmelade", "mermelada", "marmellata", "marmelada", "bread", "brot", "brood", "torte",
+    "tarte", "tarta", "torta", "taart", "gateau", "gummibarchen", "fruchtgummi",
+    "gominolas", "caramelle gommose", "snoepjes",
 )
 
 # Accessories and objects of a drink, a smoke, a weapon or a medicine ("whisky stones",
@@ -424,7 +435,14 @@ ACCESSORIES = (
     "umbrella", "necklace", "pendant", "earrings", "brooch", "pin badge", "tie clip",
     "cufflinks", "apron", "t shirt", "tshirt", "hoodie", "socks", "making kit", "planter",
     "barrel planter", "mould", "mold", "tray", "bar tray", "dish", "saucer",
-    "pouch", "tester", "brewing", "brew kit", "brassage", "homebrew", "elaboracion",
+    "pouch", "tester",
+    "rolling papers", "papers", "papier a cigarette", "papier a rouler", "feuilles a rouler",
+    "blattchen", "papel de fumar", "papel de liar", "cartine", "vloeitjes", "mortalhas",
+    "filter tips", "filtres", "filter", "filtri", "filtros", "tubes", "tubeuse",
+    "stopfmaschine", "humidificador", "umidificatore", "bevochtiger", "pitillera",
+    "portasigarette", "cigarreira", "thermometer", "thermometre", "termometro", "preserver",
+    "vacuum pump", "pompe a vide", "cup", "cups", "gobelet", "gobelets", "brewing", "brew kit",
+    "brassage", "homebrew", "elaboracion",
     "breathalyser", "breathalyzer", "spoon", "fountain", "pitcher",
     "blague", "blague a tabac", "ethylotest", "alcootest", "cuillere", "fontaine", "pichet",
     "alkoholtester", "loffel", "alcoholimetro", "cuchara", "petaca", "etilometro",
@@ -497,14 +515,18 @@ KITCHEN_TOOLS = (
     "cocina", "cocinero", "chef", "de pan", "jamonero", "de carne", "verduras", "pelar",
     "mondador", "fileteador", "de mesa", "cebollero", "deshuesador", "cubiertos",
     "de injertar", "de poda",
+    "para pan", "para carne", "para queso", "para verduras", "pan", "queso", "carne",
     "cucina", "cuoco", "da pane", "bistecca", "da bistecca", "verdure", "prosciutto",
     "sfilettare", "disossare", "spelucchino", "mannaia", "trinciante", "posate",
     "da tavola", "innesto", "da innesto", "potatura",
+    "per pane", "per carne", "per formaggio", "per verdure", "pane", "formaggio",
     "keuken", "keukenmes", "koksmes", "broodmes", "schilmesje", "groentemes", "vleesmes",
     "steakmes", "fileermes", "uitbeenmes", "tomatenmes", "santokumes", "oestermes", "bestek",
     "tafelmes", "hakmes", "entmes", "snoeimes", "messenset",
     "cozinha", "cozinheiro", "de pao", "legumes", "descascar", "presunto", "filetar",
     "desossar", "talheres", "de enxertia", "de poda",
+    "para pao", "para queijo", "pao", "queijo", "kaas", "groente", "fromage", "gemuse",
+    "navaja de afeitar", "rasoir", "rasoio", "navalha de barbear", "straight razor",
 )
 KITCHEN_TOOLS_SET = frozenset(KITCHEN_TOOLS)
 
@@ -649,7 +671,8 @@ COMPOUND_HEADS: dict[str, tuple[str, tuple[str, ...], tuple[str, ...]]] = {
     "bogen": ("weapons", (), ("recurve", "compound", "lang", "jagd", "reiter", "pistolen",
                               "sport")),
     "schleuder": ("weapons", (), ("stein", "jagd", "sport", "profi", "zwillen")),
-    "spray": ("weapons", (), ("pfeffer", "abwehr", "tierabwehr", "verteidigungs", "pepper",
+    "spray": ("weapons", (), ("pfeffer", "abwehr", "tierabwehr", "verteidigungs", "verdedigings",
+                              "pepper",
                               "cs", "hundeabwehr")),
     "vibrator": ("adult", ("beton", "concrete"), ()),
     "vibratoren": ("adult", ("beton",), ()),
@@ -768,4 +791,22 @@ WEAK_ALCOHOL = (
     "seco", "secco", "frizzante", "barrique", "vintage", "cuvee", "tawny", "ruby",
     "years old", "year old", "ans d age", "jahre", "anos", "anni", "jaar", "grand cru",
     "premier cru", "chateau", "domaine", "weingut", "bodega", "cantina", "quinta",
+)
+
+# Children's things: a bow and arrows for kids, a pretend drink, toy handcuffs. They undo
+# drinks, smokes, weapons and adult products named near them, not a medicine ("paracetamol
+# sirop enfant").
+CHILDREN = (
+    "kids", "kid", "children", "childrens", "child", "toddler", "baby", "enfant", "enfants",
+    "bebe", "kinder", "kinderen", "ninos", "nino", "ninas", "nina", "infantil",
+    "bambini", "bambino", "bambina", "criancas", "crianca", "junior", "peuter", "kleuter",
+)
+
+# Words that name a vape product only beside a nicotine dose or a puff count ("Pods menthe
+# 20 mg", "Liquid Erdbeere 10 ml 12 mg"): elsewhere a coffee pod or a washing liquid.
+WEAK_TOBACCO = (
+    "pod", "pods", "liquid", "liquids", "liquide", "liquides", "liquido", "liquidos",
+    "e juice", "shortfill", "booster", "nic shot", "nicotine shot", "recharge", "recharges",
+    "cartridge", "cartridges", "cartouche", "cartouches", "kartusche", "cartucho",
+    "cartuchos", "cartuccia", "cartucce", "cartridges", "aroma", "arome",
 )

@@ -75,10 +75,17 @@ _KITCHEN = "k"
 _CONDITION = "c"
 _FORM = "f"
 _NICOTINE_FORM = "n"
+_CHILD = "ch"
 _WEAK = "w"
+_WEAK_TOBACCO = "wt"
+_PUFF = "p"
+_PUFF_WORDS = ("puffs", "bouffees", "zuge", "caladas", "tiri", "trekjes", "tragadas",
+               "baforadas", "hits")
 _CUES = frozenset(
-    {_DESCRIPTOR, _ACCESSORY, _KITCHEN, _CONDITION, _FORM, _NICOTINE_FORM, _WEAK}
+    {_DESCRIPTOR, _ACCESSORY, _KITCHEN, _CONDITION, _FORM, _NICOTINE_FORM, _CHILD, _WEAK,
+     _WEAK_TOBACCO, _PUFF}
 )
+_CUES_OR_HARMLESS = _CUES | {""}
 
 # How many words away a cue may stand ("gin and tonic candle", "caramelle al gusto di rum":
 # four words between the object and the drink it tastes of).
@@ -109,6 +116,7 @@ def _phrases() -> dict[str, object]:
         (words.NICOTINE_REPLACEMENT, _NICOTINE_FORM), (words.DOSAGE_FORMS, _FORM),
         (words.CONDITIONS, _CONDITION), (words.KITCHEN_TOOLS, _KITCHEN),
         (words.ACCESSORIES, _ACCESSORY), (words.DESCRIPTORS, _DESCRIPTOR),
+        (words.CHILDREN, _CHILD),
     ):
         for phrase in cue:
             phrases[fold(phrase)] = payload
@@ -118,6 +126,10 @@ def _phrases() -> dict[str, object]:
                 phrases.setdefault(form, restriction)
     for phrase in words.WEAK_ALCOHOL:
         phrases.setdefault(fold(phrase), _WEAK)
+    for phrase in _PUFF_WORDS:
+        phrases.setdefault(phrase, _PUFF)
+    for phrase in words.WEAK_TOBACCO:
+        phrases.setdefault(fold(phrase), _WEAK_TOBACCO)
     for phrase in words.HARMLESS:
         phrases[fold(phrase)] = ""
     return phrases
@@ -157,22 +169,27 @@ _Match = tuple[int, int, str, object]
 _PartHit = tuple[int, tuple[str, tuple[tuple[str, ...], ...]]]
 
 
-def _scan(folded: str) -> tuple[list[_Match], list[_PartHit]]:
-    """Return the phrases (start, end, phrase, payload) and the parts of words (end index,
-    (part, roles)) found in a folded text, in one pass."""
+def _scan(folded: str) -> tuple[list[_Match], list[_PartHit], set[object]]:
+    """Return the phrases (start, end, phrase, payload), the parts of words (end index,
+    (part, roles)) and the phrases' payloads found in a folded text, in one pass."""
     matches: list[_Match] = []
     found_parts: list[_PartHit] = []
+    kinds: set[object] = set()
     for end, (whole, key, payload) in _AUTOMATON.iter(f" {folded} "):
         if whole:
             matches.append((end - len(key) - 1, end - 1, key, payload))
+            kinds.add(payload)
         else:
             found_parts.append((end - 1, (key, payload)))
-    return matches, found_parts
+    return matches, found_parts, kinds
 
 
 _PACKS = words.PACKS
 _STRENGTH = re.compile(r"\b(\d{1,2})(?:d(\d+))? (?:vol|abv|alc)\b")
 _DIGIT = re.compile(r"\d")
+# A vape's nicotine dose ("20 mg", "12mg/ml") and puff count ("600 puffs", "800 tiri").
+_NICOTINE_DOSE = re.compile(r"\b\d{1,2}(?:d\d)? ?mg\b")
+_PUFFS = re.compile(rf"\b\d{{3,5}} ?(?:{'|'.join(_PUFF_WORDS)})\b")
 # A bottle's or a can's measure: 70 cl, 0,75 l, 750 ml, 33 cl, magnum.
 _BOTTLE = re.compile(
     r"\b(?:(?:70|75|50|35|37d5|20|33|25|44|150) ?cl|0d(?:7|75|5|33|35|375|2) ?l"
@@ -261,21 +278,24 @@ def restriction_hits(folded: str) -> list[tuple[str, str, bool]]:
     """
     if "anti " in folded:  # "anti-histamínico" as "antihistaminico"
         folded = _ANTI.sub("anti", folded)
-    matches, found_parts = _scan(folded)
+    matches, found_parts, kinds = _scan(folded)
     strength = (
         list(_STRENGTH.finditer(folded))
         if (" vol" in folded or " abv" in folded or " alc" in folded) else []
     )
-    named = any(m[3] and m[3] not in _CUES for m in matches)
-    bottle = any(m[3] == _WEAK for m in matches) and bool(_BOTTLE.search(folded))
+    named = not kinds <= _CUES_OR_HARMLESS
+    bottle = _WEAK in kinds and bool(_BOTTLE.search(folded))
+    # a nicotine dose or a puff count beside "pods", "liquid"...; a puff count alone
+    puffs = _PUFFS.search(folded) if _PUFF in kinds else None
+    dose = bool(puffs) or (_WEAK_TOBACCO in kinds and bool(_NICOTINE_DOSE.search(folded)))
     if found_parts:
         covered = [(m[0], m[1]) for m in matches if m[3] not in _CUES]
         parts = _word_parts(folded, found_parts, covered, matches)
     else:
         parts = []
-    if not named and not parts and not strength and not bottle:
+    if not named and not parts and not strength and not bottle and not dose:
         # the common case: nothing restricted named, only colours, objects...
-        return _conditions(folded, matches) if matches else []
+        return _conditions(folded, matches) if _CONDITION in kinds else []
     kept: list[_Match] = []
     last_end = -1
     for match in sorted(matches + parts, key=lambda m: (m[0], m[0] - m[1])):
@@ -291,10 +311,16 @@ def restriction_hits(folded: str) -> list[tuple[str, str, bool]]:
         if payload == _WEAK:
             if bottle:
                 goods.append((first, last, key, "alcohol", False))
+        elif payload == _WEAK_TOBACCO:
+            if dose:
+                goods.append((first, last, key, "tobacco", False))
         elif payload in _CUES:
             cues.setdefault(payload, []).append((first, last))
         elif payload:
             goods.append((first, last, key, str(payload), key not in _PLAIN_KEYWORDS))
+    if puffs:
+        first, last = _position(folded, *puffs.span())
+        goods.append((first, last, puffs.group(0), "tobacco", True))
     for found in strength:
         whole, fraction = found.groups()
         first, last = _position(folded, *found.span())
@@ -313,6 +339,8 @@ def restriction_hits(folded: str) -> list[tuple[str, str, bool]]:
     hits: list[tuple[str, str, bool]] = []
     for first, last, key, flag, strong in goods:
         if flag in _NEGATABLE and near(_DESCRIPTOR, first, last):
+            continue
+        if flag != "medicine" and near(_CHILD, first, last):
             continue
         if flag in _ACCESSORY_NEGATABLE:
             inside = _after_connector(tokens, first)
