@@ -113,6 +113,7 @@ TOBACCO = (
     "puro dominicano", "puro cubano", "puro robusto", "puro corona", "nicotine pouches",
     "nicotine pods", "pods nicotine",
     "nikotinbeutel",
+    "e shisha", "e hookah", "kit pod", "rookwaren", "tabakwaren",
 )
 
 WEAPONS = (
@@ -172,6 +173,9 @@ WEAPONS = (
     "municion", "munizioni", "munitie", "municao", "diabolos", "balines", "piombini",
     "chumbinhos", "airgun pellets", "air rifle pellets",
     "kunai", "tonfa", "kubotan", "wurfstern",
+    "fusil", "fusil de chasse", "shotgun", "rifle", "hunting rifle", "escopeta",
+    "rifle de caza", "fucile", "fucile da caccia", "espingarda", "carabina", "revolver",
+    "pistol", "pistolet", "pistola", "pistool", "coltello a scatto",
     "spray de defense", "bombe au poivre", "gaz lacrymogene", "spray de defensa",
     "spray antiaggressione", "spray de defesa", "arco y flechas", "arco e frecce",
     "arc et fleches", "pijl en boog", "arco e flechas", "bow and arrows",
@@ -209,6 +213,11 @@ ADULT = (
     "handcuffs", "fluffy handcuffs", "menottes", "handschellen", "handboeien", "algemas",
     "sex doll", "love doll", "poupee sexuelle", "sexpuppe", "liebespuppe", "muneca sexual",
     "bambola sessuale", "sekspop", "boneca sexual",
+    "sex", "sexual", "sexuales", "sexuel", "sexuelle", "sexuels", "sexuell", "sexuelles",
+    "sessuale", "sessuali", "seksueel", "seksuele", "sexuais", "cockring", "strapon",
+    "gleitmittel", "striptease", "shibari", "fesseln", "fetisch", "feticcio", "flogger",
+    "nippelklemmen", "pinces a tetons", "pinzas para pezones", "mollette per capezzoli",
+    "tepelklemmen", "grampos para mamilos", "kegel balls",
 )
 
 MEDICINE = (
@@ -412,6 +421,13 @@ DESCRIPTORS = (
     "marmelade", "mermelada", "marmellata", "marmelada", "bread", "brot", "brood", "torte",
     "tarte", "tarta", "torta", "taart", "gateau", "gummibarchen", "fruchtgummi",
     "gominolas", "caramelle gommose", "snoepjes",
+    "chocolat", "chocolats", "chocolade", "truffes", "pralinen", "truffel", "bombones",
+    "cioccolatini", "tartufi", "bombons", "chewing gum", "kaugummi", "seeds", "graines",
+    "samen", "semillas", "semi", "zaden", "sementes", "plant", "plante", "pflanze", "planta",
+    "pianta", "ceramic", "ceramique", "keramik", "ceramica", "keramiek", "porcelain",
+    "porcelaine", "porzellan", "porcelana", "porcellana", "porselein", "spice mix", "spices",
+    "epices", "gewurz", "gewurzmischung", "especias", "spezie", "specerijen", "especiarias",
+    "botanicals", "0 alcohol", "0 alcool", "0 alkohol", "0 alcol", "dealcolizzato",
 )
 
 # Accessories and objects of a drink, a smoke, a weapon or a medicine ("whisky stones",
@@ -441,7 +457,13 @@ ACCESSORIES = (
     "filter tips", "filtres", "filter", "filtri", "filtros", "tubes", "tubeuse",
     "stopfmaschine", "humidificador", "umidificatore", "bevochtiger", "pitillera",
     "portasigarette", "cigarreira", "thermometer", "thermometre", "termometro", "preserver",
-    "vacuum pump", "pompe a vide", "cup", "cups", "gobelet", "gobelets", "brewing", "brew kit",
+    "vacuum pump", "pompe a vide",
+    "voucher", "gift card", "gutschein", "bon cadeau", "carte cadeau", "tarjeta regalo",
+    "buono regalo", "cadeaubon", "vale presente", "experience", "erlebnis", "abrecartas",
+    "coupe papier", "tagliacarte", "briefopener", "scope", "rifle scope", "zielfernrohr",
+    "lunette de visee", "mira telescopica", "cannocchiale", "richtkijker", "bulb", "ampoule",
+    "gluhbirne", "bombilla", "lampadina", "lamp", "tabaquera", "lanyard", "cup", "cups",
+    "gobelet", "gobelets", "brewing", "brew kit",
     "brassage", "homebrew", "elaboracion",
     "breathalyser", "breathalyzer", "spoon", "fountain", "pitcher",
     "blague", "blague a tabac", "ethylotest", "alcootest", "cuillere", "fontaine", "pichet",
@@ -526,6 +548,14 @@ KITCHEN_TOOLS = (
     "cozinha", "cozinheiro", "de pao", "legumes", "descascar", "presunto", "filetar",
     "desossar", "talheres", "de enxertia", "de poda",
     "para pao", "para queijo", "pao", "queijo", "kaas", "groente", "fromage", "gemuse",
+    # tools and toys that are called guns or pistols
+    "water", "eau", "a eau", "wasser", "agua", "de agua", "acqua", "ad acqua", "de agua",
+    "glue", "colle", "a colle", "kleber", "cola", "colla", "lijm", "massage", "de massage",
+    "paint", "peinture", "a peinture", "pintura", "vernice", "verf", "silicone", "silikon",
+    "heat", "thermique", "nail", "clous", "nagel", "clavos", "chiodi", "spijker", "pregos",
+    "staple", "agrafes", "grease", "caulking", "soldering", "bubble", "bulles", "burbujas",
+    "bolle", "bellen", "bolhas", "foam", "mousse", "nerf", "blaster", "spray gun",
+    "pistola de pintura", "pistola per verniciare", "airbrush",
     "navaja de afeitar", "rasoir", "rasoio", "navalha de barbear", "straight razor",
 )
 KITCHEN_TOOLS_SET = frozenset(KITCHEN_TOOLS)
@@ -645,6 +675,8 @@ COMPOUND_HEADS: dict[str, tuple[str, tuple[str, ...], tuple[str, ...]]] = {
         "schal", "gemuse", "steak", "filetier", "ausbein", "tomaten", "fleisch", "office",
         "allzweck", "universal", "tranchier", "wiege", "austern", "pilz", "garten",
         "veredelungs", "hobel", "mahwerks", "rasenmaher", "hacksler", "ersatz", "mixer",
+        "spachtel", "maler", "kabel", "abisolier", "linoleum", "abbrech", "trapez",
+        "sicherheits", "paket", "japan", "schnitz", "kinder",
     ), ()),
     "mes": ("weapons", (), ("jacht", "zak", "vlinder", "survival", "outdoor", "gevechts", "werp",
                             "spring", "klap", "vecht", "bowie", "tactisch", "leger", "duik",
@@ -715,7 +747,8 @@ PACKS = frozenset(
     "paket pakete pakket pakketten set sets box boxen kiste kisten kist kisten probe proben "
     "proeverij degustation geschenk geschenke geschenkset geschenkbox geschenkdoos selectie "
     "auswahl sortiment mix karton kartons doos dozen kasten tasting abo abonnement "
-    "adventskalender proefpakket fass fles flessen flasche flaschen pack packs sticks".split()
+    "adventskalender proefpakket fass fles flessen flasche flaschen pack packs sticks waren "
+    "produkte mischung mischungen sorte vorrat".split()
 )
 
 # Medicine: a condition and a dosage form together name a medicine ("hay fever tablets",

@@ -236,7 +236,10 @@ def _word_parts(
                 if not (_DOSE.search(folded) or any(m[3] == _FORM for m in matches)):
                     continue
                 payload, level = flag, 2
-            elif kind == "first" and start == w_start and w_end - end - 1 >= 3:
+            elif kind == "first" and w_end - end - 1 >= 3 and (
+                start == w_start or (len(part) >= 5 and start - w_start >= 3)
+            ):
+                # "Bieröffner", "Pfeifentabakmischung" (a long part may stand inside)
                 rest = word[end + 1 - w_start:]
                 payload = flag if rest in _PACKS or rest.lstrip("s") in _PACKS else _ACCESSORY
                 level = 1
@@ -252,11 +255,14 @@ def _position(folded: str, start: int, end: int) -> tuple[int, int]:
     return folded.count(" ", 0, start), folded.count(" ", 0, end)
 
 
-def _after_connector(tokens: list[str], first: int) -> bool:
+def _after_connector(tokens: list[str], first: int, *, measured: bool = True) -> bool:
     """Whether the words before token ``first`` join it to the rest as an addition
-    ("with two glasses", "et deux verres") or measure it ("50 g pouch")."""
+    ("with two glasses", "et deux verres") or, with ``measured``, measure it
+    ("50 g pouch")."""
     index = first - 1
-    if index >= 0 and (_DIGIT.search(tokens[index]) or tokens[index] in words.UNITS):
+    if measured and index >= 0 and (
+        _DIGIT.search(tokens[index]) or tokens[index] in words.UNITS
+    ):
         return True
     for _ in range(3):
         if index < 0:
@@ -343,10 +349,11 @@ def restriction_hits(folded: str) -> list[tuple[str, str, bool]]:
         if flag != "medicine" and near(_CHILD, first, last):
             continue
         if flag in _ACCESSORY_NEGATABLE:
-            inside = _after_connector(tokens, first)
+            inside = _after_connector(tokens, first, measured=False)
             if any(
                 not _after_connector(tokens, a_first) and not (inside and a_last < first)
-                for a_first, a_last in near(_ACCESSORY, first, last)
+                for a_first, a_last in near(_ACCESSORY, first, last, len(tokens))
+                if a_first == 0 or first - _WINDOW <= a_last and a_first <= last + _WINDOW
             ):
                 continue
         if flag == "weapons" and near(_KITCHEN, first, last, _KITCHEN_WINDOW):
