@@ -114,6 +114,8 @@ TOBACCO = (
     "nicotine pods", "pods nicotine",
     "nikotinbeutel",
     "e shisha", "e hookah", "kit pod", "rookwaren", "tabakwaren",
+    "purito", "puritos", "cigarrilha", "cigarrilhas", "tabac a chiquer", "chique", "bidi",
+    "bidis", "kretek",
 )
 
 WEAPONS = (
@@ -176,6 +178,9 @@ WEAPONS = (
     "fusil", "fusil de chasse", "shotgun", "rifle", "hunting rifle", "escopeta",
     "rifle de caza", "fucile", "fucile da caccia", "espingarda", "carabina", "revolver",
     "pistol", "pistolet", "pistola", "pistool", "coltello a scatto",
+    "antiagression", "spray antiagression", "bombe antiagression", "arco e flecha",
+    "arco y flecha", "arc et fleche", "porra extensible", "baston extensible",
+    "bastone telescopico", "bastao extensivel", "blowpipe",
     "spray de defense", "bombe au poivre", "gaz lacrymogene", "spray de defensa",
     "spray antiaggressione", "spray de defesa", "arco y flechas", "arco e frecce",
     "arc et fleches", "pijl en boog", "arco e flechas", "bow and arrows",
@@ -428,6 +433,14 @@ DESCRIPTORS = (
     "porcelaine", "porzellan", "porcelana", "porcellana", "porselein", "spice mix", "spices",
     "epices", "gewurz", "gewurzmischung", "especias", "spezie", "specerijen", "especiarias",
     "botanicals", "0 alcohol", "0 alcool", "0 alkohol", "0 alcol", "dealcolizzato",
+    "chips", "patatas", "snack", "snacks", "pretzels", "bretzel", "brezel", "nuts",
+    "cacahuetes", "peanuts", "noten", "nusse", "noci", "nozes", "amendoins", "frutos secos",
+    "air freshener", "desodorisant", "lufterfrischer", "ambientador", "deodorante per ambienti",
+    "luchtverfrisser", "room spray", "spray d ambiance", "raumspray", "incense", "encens",
+    "weihrauch", "incienso", "incenso", "wierook", "sofa", "canape", "couch", "armchair",
+    "fauteuil", "sessel", "sillon", "poltrona", "stool", "tabouret", "hocker", "taburete",
+    "sgabello", "kruk", "velvet", "velours", "samt", "terciopelo", "velluto", "fluweel",
+    "veludo", "satin", "satijn", "raso",
 )
 
 # Accessories and objects of a drink, a smoke, a weapon or a medicine ("whisky stones",
@@ -458,7 +471,10 @@ ACCESSORIES = (
     "stopfmaschine", "humidificador", "umidificatore", "bevochtiger", "pitillera",
     "portasigarette", "cigarreira", "thermometer", "thermometre", "termometro", "preserver",
     "vacuum pump", "pompe a vide",
-    "voucher", "gift card", "gutschein", "bon cadeau", "carte cadeau", "tarjeta regalo",
+    "voucher", "gift card",
+    "flask", "hip flask", "flasque", "flachmann", "fiaschetta", "heupfles", "cantil",
+    "jar", "tarro", "barattolo", "pot a tabac", "cellar", "carrier", "charms", "gutschein",
+    "bon cadeau", "carte cadeau", "tarjeta regalo",
     "buono regalo", "cadeaubon", "vale presente", "experience", "erlebnis", "abrecartas",
     "coupe papier", "tagliacarte", "briefopener", "scope", "rifle scope", "zielfernrohr",
     "lunette de visee", "mira telescopica", "cannocchiale", "richtkijker", "bulb", "ampoule",
@@ -842,4 +858,18 @@ WEAK_TOBACCO = (
     "e juice", "shortfill", "booster", "nic shot", "nicotine shot", "recharge", "recharges",
     "cartridge", "cartridges", "cartouche", "cartouches", "kartusche", "cartucho",
     "cartuchos", "cartuccia", "cartucce", "cartridges", "aroma", "arome",
+)
+
+# Vape products: a flavour named after a sweet ("e-liquid candy", "pods ice cream") is the
+# vape's flavour, so descriptors do not undo them.
+VAPE = (
+    "e liquid", "e liquids", "eliquid", "e liquide", "e liquides", "e liquido",
+    "e liquidos", "e liquida", "vape", "vapes", "vape juice", "vape pen", "vape kit",
+    "disposable vape", "puff jetable", "vape jetable", "einweg vape", "wegwerp vape",
+    "vape descartavel", "shortfill", "nic salt", "nicotine salt", "sel de nicotine",
+    "nikotinsalz", "sales de nicotina", "sali di nicotina", "nicotinezout", "sais de nicotina",
+    "svapo", "vapeador", "vapeadores", "vapoteuse", "pod kit", "kit pod", "e cigarette",
+    "e cigarettes", "e zigarette", "e zigaretten", "e sigaret", "e sigaretten",
+    "cigarette electronique", "sigaretta elettronica", "cigarrillo electronico",
+    "cigarro eletronico", "liquid nikotin", "nikotinliquid",
 )

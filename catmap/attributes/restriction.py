@@ -99,6 +99,7 @@ _KITCHEN_WINDOW = 3
 _NEGATABLE = frozenset({"alcohol", "tobacco", "weapons"})
 # Flags an accessory can undo ("pill box" is not a medicine; a vibrator case is still adult).
 _ACCESSORY_NEGATABLE = frozenset({"alcohol", "tobacco", "weapons", "medicine"})
+_VAPE = frozenset(fold(word) for word in words.VAPE)
 _NICOTINE_WORDS = frozenset({"nicotine", "nicotina", "nikotin", "nicotine salt"})
 
 
@@ -344,7 +345,7 @@ def restriction_hits(folded: str) -> list[tuple[str, str, bool]]:
 
     hits: list[tuple[str, str, bool]] = []
     for first, last, key, flag, strong in goods:
-        if flag in _NEGATABLE and near(_DESCRIPTOR, first, last):
+        if flag in _NEGATABLE and key not in _VAPE and near(_DESCRIPTOR, first, last):
             continue
         if flag != "medicine" and near(_CHILD, first, last):
             continue
