@@ -114,7 +114,10 @@ TOBACCO = (
     "nicotine pods", "pods nicotine",
     "nikotinbeutel",
     "e shisha", "e hookah", "kit pod", "rookwaren", "tabakwaren",
-    "purito", "puritos", "cigarrilha", "cigarrilhas", "tabac a chiquer", "chique", "bidi",
+    "salt nic", "salt nics", "nic salts", "nic shot", "nic shots", "nicotine shot",
+    "nikotin shot", "nikotinshot", "nikotinhaltig", "nikotinhaltiges", "nikotinhaltige",
+    "nicotine booster", "booster de nicotine", "luftgewehrkugeln", "purito", "puritos",
+    "cigarrilha", "cigarrilhas", "tabac a chiquer", "chique", "bidi",
     "bidis", "kretek",
 )
 
@@ -872,4 +875,15 @@ VAPE = (
     "e cigarettes", "e zigarette", "e zigaretten", "e sigaret", "e sigaretten",
     "cigarette electronique", "sigaretta elettronica", "cigarrillo electronico",
     "cigarro eletronico", "liquid nikotin", "nikotinliquid",
+)
+
+# Words that say a drink is meant, for a keyword that is also a colour name ("wine",
+# "champagne", "cognac": "Jacket - cognac" is a colour, "Cognac XO 70 cl" a drink).
+DRINK_CONTEXT = (
+    "bottle", "bottles", "bouteille", "bouteilles", "flasche", "flaschen", "botella",
+    "botellas", "bottiglia", "bottiglie", "fles", "flessen", "garrafa", "garrafas", "brut",
+    "sec", "demi sec", "dry", "extra dry", "trocken", "seco", "secco", "xo", "vsop", "vs",
+    "napoleon", "fine champagne", "grand cru", "premier cru", "millesime", "millesimato",
+    "vintage", "cuvee", "gift box", "coffret", "geschenkbox", "confezione regalo",
+    "geschenkdoos", "case of", "x 75", "x 70", "bodega",
 )

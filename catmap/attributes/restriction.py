@@ -42,6 +42,7 @@ import ahocorasick
 
 from catmap.attributes import _restriction_words as words
 from catmap.attributes._text import PhraseIndex, fold
+from catmap.attributes.colour import COLOUR_WORDS
 
 if TYPE_CHECKING:
     from catmap.tree.taxonomy import CategoryTree
@@ -76,6 +77,7 @@ _CONDITION = "c"
 _FORM = "f"
 _NICOTINE_FORM = "n"
 _CHILD = "ch"
+_DRINK = "dr"
 _WEAK = "w"
 _WEAK_TOBACCO = "wt"
 _PUFF = "p"
@@ -83,7 +85,7 @@ _PUFF_WORDS = ("puffs", "bouffees", "zuge", "caladas", "tiri", "trekjes", "traga
                "baforadas", "hits")
 _CUES = frozenset(
     {_DESCRIPTOR, _ACCESSORY, _KITCHEN, _CONDITION, _FORM, _NICOTINE_FORM, _CHILD, _WEAK,
-     _WEAK_TOBACCO, _PUFF}
+     _WEAK_TOBACCO, _PUFF, _DRINK}
 )
 _CUES_OR_HARMLESS = _CUES | {""}
 
@@ -100,15 +102,50 @@ _NEGATABLE = frozenset({"alcohol", "tobacco", "weapons"})
 # Flags an accessory can undo ("pill box" is not a medicine; a vibrator case is still adult).
 _ACCESSORY_NEGATABLE = frozenset({"alcohol", "tobacco", "weapons", "medicine"})
 _VAPE = frozenset(fold(word) for word in words.VAPE)
+# Keywords that are also colour names ("wine", "champagne", "cognac", "tobacco", French
+# "sable"): away from the title's start they count only with something that says the good
+# is meant (a bottle, a measure, a vintage, another keyword of the same flag).
+_COLOUR_NAMES = frozenset(
+    fold(word) for by_lang in COLOUR_WORDS.values() for names in by_lang.values()
+    for word in names
+)
 _NICOTINE_WORDS = frozenset({"nicotine", "nicotina", "nikotin", "nicotine salt"})
 
 
 def _plurals(word: str) -> tuple[str, ...]:
-    # Plural forms of one-word keywords ("cervezas", "sigarillos", "daggers"); the phrases
-    # are listed as written.
-    if " " in word or len(word) < 4:
+    """Return a keyword with its plural forms in the seven languages: "s"/"es" ("cervezas",
+    "vins", "daggers"), the Italian vowel change ("vino" "vini", "birra" "birre"), the
+    German and Dutch "e"/"en"/"er" ("Weine", "wijnen", "Schwerter"); a phrase puts its
+    last word or every word in the plural ("red wines", "vinos tintos")."""
+    if " " in word:
+        parts = word.split(" ")
+        return (word, " ".join(parts[:-1] + [f"{parts[-1]}s"]), " ".join(f"{p}s" for p in parts))
+    if len(word) < 3:
         return (word,)
-    return (word, f"{word}s", f"{word}es")
+    forms = [word, f"{word}s", f"{word}es"]
+    if len(word) >= 4:
+        forms += [f"{word}e", f"{word}en", f"{word}er"]
+        vowel = {"o": "i", "a": "e", "e": "i"}.get(word[-1])
+        if vowel:
+            forms.append(word[:-1] + vowel)
+    return tuple(form for form in forms if form == word or form not in _NOT_PLURALS)
+
+
+# Forms the plural rules would make that are other words: "vines", "face" (from "faca"),
+# "cave" (from "cava"), "spade" (from "spada"), "grappe" (bunches of grapes), "beste".
+_NOT_PLURALS = frozenset(
+    "vines anise grappe cave spade beste face godi sakes weiner sekte sexes rone korne "
+    "ales gines".split()
+)
+
+
+def _elided(phrase: str) -> tuple[str, ...]:
+    # "cran d'arrêt" folds to "cran darret" (the apostrophe is deleted): the lists write
+    # such phrases with a space ("cran d arret") and both forms are looked for.
+    if " d " in f" {phrase}" or " l " in f" {phrase}":
+        joined = re.sub(r"(^| )([dl]) ", r"\1\2", phrase)
+        return (phrase, joined)
+    return (phrase,)
 
 
 def _phrases() -> dict[str, object]:
@@ -117,22 +154,26 @@ def _phrases() -> dict[str, object]:
         (words.NICOTINE_REPLACEMENT, _NICOTINE_FORM), (words.DOSAGE_FORMS, _FORM),
         (words.CONDITIONS, _CONDITION), (words.KITCHEN_TOOLS, _KITCHEN),
         (words.ACCESSORIES, _ACCESSORY), (words.DESCRIPTORS, _DESCRIPTOR),
-        (words.CHILDREN, _CHILD),
+        (words.CHILDREN, _CHILD), (words.DRINK_CONTEXT, _DRINK),
     ):
         for phrase in cue:
-            phrases[fold(phrase)] = payload
+            for form in _elided(fold(phrase)):
+                phrases[form] = payload
     for restriction, keywords in _KEYWORDS.items():
         for word in keywords:
             for form in _plurals(fold(word)):
-                phrases.setdefault(form, restriction)
+                for elided in _elided(form):
+                    phrases.setdefault(elided, restriction)
     for phrase in words.WEAK_ALCOHOL:
-        phrases.setdefault(fold(phrase), _WEAK)
+        for form in _elided(fold(phrase)):
+            phrases.setdefault(form, _WEAK)
     for phrase in _PUFF_WORDS:
         phrases.setdefault(phrase, _PUFF)
     for phrase in words.WEAK_TOBACCO:
         phrases.setdefault(fold(phrase), _WEAK_TOBACCO)
     for phrase in words.HARMLESS:
-        phrases[fold(phrase)] = ""
+        for form in _elided(fold(phrase)):
+            phrases[form] = ""
     return phrases
 
 
@@ -188,6 +229,8 @@ def _scan(folded: str) -> tuple[list[_Match], list[_PartHit], set[object]]:
 _PACKS = words.PACKS
 _STRENGTH = re.compile(r"\b(\d{1,2})(?:d(\d+))? (?:vol|abv|alc)\b")
 _DIGIT = re.compile(r"\d")
+_VINTAGE = re.compile(r"\b(?:19[5-9]\d|20[0-4]\d)\b")
+_WEIGHT = re.compile(r"\b\d+ ?(?:g|gr|gramm|grammes|gram|oz)\b")
 # A vape's nicotine dose ("20 mg", "12mg/ml") and puff count ("600 puffs", "800 tiri").
 _NICOTINE_DOSE = re.compile(r"\b\d{1,2}(?:d\d)? ?mg\b")
 _PUFFS = re.compile(rf"\b\d{{3,5}} ?(?:{'|'.join(_PUFF_WORDS)})\b")
@@ -343,9 +386,16 @@ def restriction_hits(folded: str) -> list[tuple[str, str, bool]]:
             if first - window <= c_last and c_first <= last + window
         ]
 
+    # the title's last word before its measures: the head of an English or German title
+    head_end = len(tokens) - 1
+    while head_end > 0 and (_DIGIT.search(tokens[head_end]) or tokens[head_end] in words.UNITS):
+        head_end -= 1
     hits: list[tuple[str, str, bool]] = []
     for first, last, key, flag, strong in goods:
-        if flag in _NEGATABLE and key not in _VAPE and near(_DESCRIPTOR, first, last):
+        if flag in _NEGATABLE and key not in _VAPE and any(
+            d_first == 0 or first - _WINDOW <= d_last and d_first <= last + _WINDOW
+            for d_first, d_last in cues.get(_DESCRIPTOR, ())
+        ):
             continue
         if flag != "medicine" and near(_CHILD, first, last):
             continue
@@ -353,13 +403,18 @@ def restriction_hits(folded: str) -> list[tuple[str, str, bool]]:
             inside = _after_connector(tokens, first, measured=False)
             if any(
                 not _after_connector(tokens, a_first) and not (inside and a_last < first)
-                for a_first, a_last in near(_ACCESSORY, first, last, len(tokens))
-                if a_first == 0 or first - _WINDOW <= a_last and a_first <= last + _WINDOW
+                for a_first, a_last in cues.get(_ACCESSORY, ())
+                if a_first == 0 or a_last == head_end
+                or first - _WINDOW <= a_last and a_first <= last + _WINDOW
             ):
                 continue
         if flag == "weapons" and near(_KITCHEN, first, last, _KITCHEN_WINDOW):
             continue
         if flag in _NEGATABLE and _object_is_head(folded, first, last):
+            continue
+        if key in _COLOUR_NAMES and first != 0 and not _corroborated(
+            flag, key, folded, kinds, goods, bottle or bool(strength)
+        ):
             continue
         if key in _NICOTINE_WORDS and near(_NICOTINE_FORM, first, last, 2):
             flag = "medicine"
@@ -367,6 +422,26 @@ def restriction_hits(folded: str) -> list[tuple[str, str, bool]]:
     if not any(flag == "medicine" for flag, _k, _s in hits):
         hits.extend(_conditions(folded, matches))
     return hits
+
+
+def _corroborated(
+    flag: str,
+    key: str,
+    folded: str,
+    kinds: set[object],
+    goods: list[tuple[int, int, str, str, bool]],
+    measured: bool,
+) -> bool:
+    """Whether a keyword that is also a colour name is meant as the good: another keyword
+    of its flag, or for a drink a bottle, a measure, a strength, a vintage or a weak drink
+    word, for tobacco a weight."""
+    if any(g[3] == flag and g[2] != key and g[2] not in _COLOUR_NAMES for g in goods):
+        return True
+    if flag == "alcohol":
+        return measured or bool(kinds & {_DRINK, _WEAK}) or bool(_VINTAGE.search(folded))
+    if flag == "tobacco":
+        return bool(_WEIGHT.search(folded))
+    return False
 
 
 def _conditions(folded: str, matches: list[_Match]) -> list[tuple[str, str, bool]]:
