@@ -181,7 +181,13 @@ WEAPONS = (
     "fusil", "fusil de chasse", "shotgun", "rifle", "hunting rifle", "escopeta",
     "rifle de caza", "fucile", "fucile da caccia", "espingarda", "carabina", "revolver",
     "pistol", "pistolet", "pistola", "pistool", "coltello a scatto",
-    "antiagression", "spray antiagression", "bombe antiagression", "arco e flecha",
+    "antiagression", "spray antiagression",
+    "fixed blade", "lame fixe", "feststehende klinge", "hoja fija", "lama fissa",
+    "vast lemmet", "lamina fixa", "parang", "golok", "degen", "streitaxt", "wurfbeil",
+    "ascia da lancio", "hacha arrojadiza", "hache de lancer", "werpbijl",
+    "machado de arremesso", "stroomstootwapen", "arma de choque", "facao", "catana",
+    "adaga", "navalha", "baionetta", "bajonet", "baionnette", "bayoneta", "baioneta",
+    "scimitarra", "fronde", "bombe antiagression", "arco e flecha",
     "arco y flecha", "arc et fleche", "porra extensible", "baston extensible",
     "bastone telescopico", "bastao extensivel", "blowpipe",
     "spray de defense", "bombe au poivre", "gaz lacrymogene", "spray de defensa",
@@ -226,6 +232,10 @@ ADULT = (
     "gleitmittel", "striptease", "shibari", "fesseln", "fetisch", "feticcio", "flogger",
     "nippelklemmen", "pinces a tetons", "pinzas para pezones", "mollette per capezzoli",
     "tepelklemmen", "grampos para mamilos", "kegel balls",
+    "reizwasche", "crotchless", "love toy", "liebesspielzeug", "toy for adults",
+    "jouet pour adultes", "spielzeug fur erwachsene", "juguete para adultos",
+    "giocattolo per adulti", "speeltje voor volwassenen", "brinquedo para adultos",
+    "bullet vibe",
 )
 
 MEDICINE = (
@@ -444,6 +454,9 @@ DESCRIPTORS = (
     "fauteuil", "sessel", "sillon", "poltrona", "stool", "tabouret", "hocker", "taburete",
     "sgabello", "kruk", "velvet", "velours", "samt", "terciopelo", "velluto", "fluweel",
     "veludo", "satin", "satijn", "raso",
+    "parfum", "parfum d ambiance", "diffuseur", "diffusor", "difusor", "diffusore",
+    "pudding", "pudim", "budino", "flan", "tiramisu", "dessert", "postre", "nachtisch",
+    "toetje", "te negro", "te verde", "te rojo", "te blanco", "te nero", "cha preto",
 )
 
 # Accessories and objects of a drink, a smoke, a weapon or a medicine ("whisky stones",
@@ -886,4 +899,19 @@ DRINK_CONTEXT = (
     "napoleon", "fine champagne", "grand cru", "premier cru", "millesime", "millesimato",
     "vintage", "cuvee", "gift box", "coffret", "geschenkbox", "confezione regalo",
     "geschenkdoos", "case of", "x 75", "x 70", "bodega",
+)
+
+# A drink's name beside these is a flavouring for the kitchen, not the drink ("Rum-Aroma",
+# "extrait de rhum"); they undo alcohol only (a pipe tobacco is sold "aromatic").
+FLAVOURINGS = (
+    "aroma", "aromas", "arome", "aromes", "extract", "extrait", "extrakt", "extracto",
+    "estratto", "extrato", "essence", "essenz", "esencia", "essenza", "essencia",
+    "flavouring", "flavoring", "backaroma", "aroma para reposteria", "aroma per dolci",
+    "bakaroma",
+)
+# Words that say what follows them is a flavour ("sabor chicle", "goût café", "Geschmack
+# Schokolade"): a sweet's name after them is the product's flavour, not the product.
+FLAVOUR_WORDS = frozenset(
+    "flavour flavor taste aroma arome gout saveur geschmack sabor gusto sapore smaak "
+    "parfum".split()
 )

@@ -78,6 +78,7 @@ _FORM = "f"
 _NICOTINE_FORM = "n"
 _CHILD = "ch"
 _DRINK = "dr"
+_FLAVOURING = "fl"
 _WEAK = "w"
 _WEAK_TOBACCO = "wt"
 _PUFF = "p"
@@ -85,7 +86,7 @@ _PUFF_WORDS = ("puffs", "bouffees", "zuge", "caladas", "tiri", "trekjes", "traga
                "baforadas", "hits")
 _CUES = frozenset(
     {_DESCRIPTOR, _ACCESSORY, _KITCHEN, _CONDITION, _FORM, _NICOTINE_FORM, _CHILD, _WEAK,
-     _WEAK_TOBACCO, _PUFF, _DRINK}
+     _WEAK_TOBACCO, _PUFF, _DRINK, _FLAVOURING}
 )
 _CUES_OR_HARMLESS = _CUES | {""}
 
@@ -155,6 +156,7 @@ def _phrases() -> dict[str, object]:
         (words.CONDITIONS, _CONDITION), (words.KITCHEN_TOOLS, _KITCHEN),
         (words.ACCESSORIES, _ACCESSORY), (words.DESCRIPTORS, _DESCRIPTOR),
         (words.CHILDREN, _CHILD), (words.DRINK_CONTEXT, _DRINK),
+        (words.FLAVOURINGS, _FLAVOURING),
     ):
         for phrase in cue:
             for form in _elided(fold(phrase)):
@@ -358,6 +360,8 @@ def restriction_hits(folded: str) -> list[tuple[str, str, bool]]:
     goods: list[tuple[int, int, str, str, bool]] = []
     for start, end, key, payload in kept:
         first, last = _position(folded, start, end)
+        if payload == _DESCRIPTOR and first > 0 and tokens[first - 1] in words.FLAVOUR_WORDS:
+            continue  # "sabor chicle": the product's flavour
         if payload == _WEAK:
             if bottle:
                 goods.append((first, last, key, "alcohol", False))
@@ -398,6 +402,11 @@ def restriction_hits(folded: str) -> list[tuple[str, str, bool]]:
         ):
             continue
         if flag != "medicine" and near(_CHILD, first, last):
+            continue
+        if flag == "alcohol" and (
+            near(_FLAVOURING, first, last, 2)
+            or last + 1 < len(tokens) and tokens[last + 1] in ("0", "zero")  # "Gin 0%"
+        ):
             continue
         if flag in _ACCESSORY_NEGATABLE:
             inside = _after_connector(tokens, first, measured=False)
