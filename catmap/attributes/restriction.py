@@ -89,6 +89,10 @@ _CUES = frozenset(
      _WEAK_TOBACCO, _PUFF, _DRINK, _FLAVOURING}
 )
 _CUES_OR_HARMLESS = _CUES | {""}
+# Payloads that on their own never make a flag (no drink, weak word, dose or condition).
+_INERT = frozenset({_DESCRIPTOR, _ACCESSORY, _KITCHEN, _FORM, _NICOTINE_FORM, _CHILD, _DRINK,
+                    _FLAVOURING, ""})
+_INERT_OR_WEAK = _INERT | {_WEAK}
 
 # How many words away a cue may stand ("gin and tonic candle", "caramelle al gusto di rum":
 # four words between the object and the drink it tastes of).
@@ -216,16 +220,17 @@ _PartHit = tuple[int, tuple[str, tuple[tuple[str, ...], ...]]]
 def _scan(folded: str) -> tuple[list[_Match], list[_PartHit], set[object]]:
     """Return the phrases (start, end, phrase, payload), the parts of words (end index,
     (part, roles)) and the phrases' payloads found in a folded text, in one pass."""
-    matches: list[_Match] = []
-    found_parts: list[_PartHit] = []
-    kinds: set[object] = set()
-    for end, (whole, key, payload) in _AUTOMATON.iter(f" {folded} "):
-        if whole:
-            matches.append((end - len(key) - 1, end - 1, key, payload))
-            kinds.add(payload)
-        else:
-            found_parts.append((end - 1, (key, payload)))
-    return matches, found_parts, kinds
+    found = list(_AUTOMATON.iter(f" {folded} "))
+    if not found:
+        return [], [], set()
+    matches = [
+        (end - len(key) - 1, end - 1, key, payload)
+        for end, (whole, key, payload) in found if whole
+    ]
+    if len(matches) == len(found):
+        return matches, [], {m[3] for m in matches}
+    found_parts = [(end - 1, (key, roles)) for end, (whole, key, roles) in found if not whole]
+    return matches, found_parts, {m[3] for m in matches}
 
 
 _PACKS = words.PACKS
@@ -236,11 +241,24 @@ _WEIGHT = re.compile(r"\b\d+ ?(?:g|gr|gramm|grammes|gram|oz)\b")
 # A vape's nicotine dose ("20 mg", "12mg/ml") and puff count ("600 puffs", "800 tiri").
 _NICOTINE_DOSE = re.compile(r"\b\d{1,2}(?:d\d)? ?mg\b")
 _PUFFS = re.compile(rf"\b\d{{3,5}} ?(?:{'|'.join(_PUFF_WORDS)})\b")
-# A bottle's or a can's measure: 70 cl, 0,75 l, 750 ml, 33 cl, magnum.
-_BOTTLE = re.compile(
-    r"\b(?:(?:70|75|50|35|37d5|20|33|25|44|150) ?cl|0d(?:7|75|5|33|35|375|2) ?l"
-    r"|(?:700|750|500|330|375|1500) ?ml|1d5 ?l|magnum)\b"
-)
+# A bottle's or a can's measure: 70 cl, 0,75 l, 750 ml, 33 cl (and "magnum").
+_MEASURE = re.compile(r"\b(\d+(?:d\d+)?) ?(cl|ml|l)\b")
+_BOTTLE_SIZES = {
+    "cl": frozenset("70 75 50 35 37d5 20 33 25 44 150".split()),
+    "l": frozenset("0d7 0d75 0d5 0d33 0d35 0d375 0d2 1d5".split()),
+    "ml": frozenset("700 750 500 330 375 1500".split()),
+}
+
+
+def _bottle(folded: str) -> bool:
+    """Whether a folded text gives a bottle's or a can's measure."""
+    if "magnum" in folded:
+        return True
+    if not ("cl" in folded or "ml" in folded or " l" in folded or "0d" in folded):
+        return False
+    return any(
+        amount in _BOTTLE_SIZES[unit] for amount, unit in _MEASURE.findall(folded)
+    )
 _ANTI = re.compile(r"\banti (?=[a-z])")
 _DOSE = re.compile(r"\b\d+(?:d\d+)? ?(?:mg|mcg|ug|g|ml|iu)\b")
 
@@ -331,12 +349,16 @@ def restriction_hits(folded: str) -> list[tuple[str, str, bool]]:
     if "anti " in folded:  # "anti-histamínico" as "antihistaminico"
         folded = _ANTI.sub("anti", folded)
     matches, found_parts, kinds = _scan(folded)
+    if not found_parts and " vol" not in folded and (
+        kinds <= _INERT or kinds <= _INERT_OR_WEAK and not _bottle(folded)
+    ):
+        return []  # the common case: nothing restricted named, only colours, objects...
     strength = (
         list(_STRENGTH.finditer(folded))
         if (" vol" in folded or " abv" in folded or " alc" in folded) else []
     )
     named = not kinds <= _CUES_OR_HARMLESS
-    bottle = _WEAK in kinds and bool(_BOTTLE.search(folded))
+    bottle = _WEAK in kinds and bool(_bottle(folded))
     # a nicotine dose or a puff count beside "pods", "liquid"...; a puff count alone
     puffs = _PUFFS.search(folded) if _PUFF in kinds else None
     dose = bool(puffs) or (_WEAK_TOBACCO in kinds and bool(_NICOTINE_DOSE.search(folded)))
