@@ -344,6 +344,7 @@ def test_node_context(tree: CategoryTree) -> None:
         "", False, frozenset({"weapons", "alcohol", "tobacco"})
     )
     assert quiet_flags(["Garten", "Werkzeuge"]) == frozenset({"weapons"})
+    assert quiet_flags(["Moda", "Zapatos"]) == frozenset({"alcohol", "tobacco"})
     assert quiet_flags(["Drinks", "Spirits"]) == frozenset()
 
 

@@ -13,15 +13,24 @@ Spanish, Italian, Dutch, Portuguese) for what the product *is*:
   or "pistole" is undone by first parts that make it a tool or a toy ("Brotmesser",
   "Wasserpistole");
 - word stems ("érotique", "antihistaminique") and active-ingredient endings next to a dose or a
-  dosage form ("Naproxen 250 mg"), an alcohol strength ("13,5 % vol"), a condition with a
-  dosage form ("sirop contre la toux");
+  dosage form ("Naproxen 250 mg"), a condition with a dosage form ("sirop contre la toux"),
+  a nicotine word with a replacement form (a medicine: "nicotine gum");
+- measures: an alcohol strength ("13,5 % vol"), a bottle's measure beside a word that
+  names a drink only there ("Rosé de Provence 75 cl"), a nicotine dose or a puff count
+  beside a vape word ("pods menthe 20 mg", "600 bouffées");
 
-and the words that make a named good something else undo it when they stand near it: a
-descriptor (a scent, flavour carrier, colour, shape, print or toy: "whisky-scented candle",
-"tobacco brown", "sans alcool"), an accessory ("whisky stones", "cigar cutter", "pill box"),
-unless the accessory comes with the good ("coffret whisky et deux verres") or the good with
-it ("humidor with cigars"), a kitchen or garden word for a blade ("chef knife", "couteau à
-pain"), or an object at the head of the title ("tobacco leaf wallpaper").
+and the words that make a named good something else undo it: a descriptor near it (a scent,
+a flavour carrier, a colour, a shape, a print: "whisky-scented candle", "tobacco brown",
+"sans alcool"; at the title's start, at any distance: "Bougie parfumée ... whisky"), a
+child's or toy word ("épée en mousse pour enfants"), an accessory near it or at the title's
+start or end ("whisky stones", "cigar cutter", "pill box"), unless the accessory comes with
+the good ("coffret whisky et deux verres") or the good with it ("humidor with cigars"), a
+kitchen, garden or tool word for a blade or a gun ("chef knife", "couteau à pain",
+"pistolet à colle"), a kitchen flavouring for a drink ("Rum-Aroma"), or an object at the head
+of the title ("tobacco leaf wallpaper"). A keyword that is also a colour name ("cognac",
+"champagne", "wine") counts away from the title's start only when something says the good
+is meant (a bottle, a measure, a vintage, another keyword of its flag); a vape keeps its flag
+beside a sweet's name (its flavour).
 
 On an unrestricted leaf only keywords that name the restricted good itself count ("hunting
 knife", "grappa"; not "knife" or "wine"), and a node whose words say kitchen, garden, tools
@@ -555,6 +564,20 @@ _NODE_CONTEXTS: tuple[tuple[frozenset[str], frozenset[str]], ...] = (
         ),
         frozenset({"weapons", "alcohol", "tobacco"}),
     ),
+    (
+        frozenset(
+            "clothing clothes apparel fashion shoes footwear jewellery jewelry handbags "
+            "vetements mode chaussures bijoux sacs bekleidung kleidung schuhe schmuck "
+            "taschen ropa moda zapatos calzado joyeria bolsos abbigliamento scarpe "
+            "calzature gioielli borse kleding schoenen sieraden tassen roupa vestuario "
+            "calcado joias malas beauty cosmetics fragrance fragrances perfume perfumes "
+            "parfums beaute cosmetiques kosmetik dufte belleza cosmetica perfumeria "
+            "bellezza cosmetici profumi schoonheid cosmetica parfums beleza perfumaria "
+            "candles bougies kerzen velas candele kaarsen glassware barware verrerie "
+            "glaser cristaleria bicchieri glaswerk copos".split()
+        ),
+        frozenset({"alcohol", "tobacco"}),
+    ),
 )
 
 
@@ -562,9 +585,11 @@ def quiet_flags(node_words: Iterable[str]) -> frozenset[str]:
     """Return the flags whose general keywords a node's words silence.
 
     A kitchen, garden, tools or crafts node holds knives and blades that are tools; a toys
-    or costumes node holds toy swords and pretend drinks. There a general keyword ("knife",
-    "sword", "wine") does not flag the product; one that names the good itself
-    ("hunting knife", "crossbow") still does.
+    or costumes node holds toy swords and pretend drinks; a clothing, shoes, jewellery,
+    beauty, candles or glassware node holds colours, scents and glasses named after drinks
+    and smokes ("cognac", "champagne", "tabac"). There a general keyword ("knife", "sword",
+    "wine") does not flag the product; one that names the good itself ("hunting knife",
+    "crossbow", "grappa") still does.
 
     Args:
         node_words: the names and terms of the node and its ancestors.
