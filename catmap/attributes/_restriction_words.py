@@ -126,7 +126,8 @@ WEAPONS = (
     "tactical knife", "combat knife", "throwing knife", "butterfly knife", "bowie knife",
     "fixed blade knife", "switchblade", "flick knife", "karambit", "balisong", "kukri",
     "machete", "dagger", "stiletto knife", "bayonet", "sword", "katana", "sabre", "saber",
-    "rapier", "scimitar", "longsword", "wakizashi", "tanto knife", "crossbow", "compound bow",
+    "rapier", "scimitar", "sable japones", "sable samurai", "sable de caballeria", "longsword",
+    "wakizashi", "tanto knife", "crossbow", "compound bow",
     "recurve bow", "longbow", "bow and arrow", "hunting bow", "air rifle", "airgun",
     "air gun", "air pistol", "bb gun", "pellet gun", "airsoft", "airsoft gun", "blank gun",
     "stun gun", "taser", "pepper spray", "pepper spray keyring", "pepper spray key ring",
@@ -153,7 +154,7 @@ WEAPONS = (
     "cuchillo", "cuchillos", "cuchillo de caza", "cuchillo de monte", "cuchillo tactico",
     "cuchillo de supervivencia", "cuchillo mariposa", "navaja", "navajas", "ballesta",
     "rifle de aire", "escopeta de aire", "carabina de aire", "pistola de aire",
-    "pistola de aire comprimido", "pistola de balines", "daga", "espada", "sable", "machete",
+    "pistola de aire comprimido", "pistola de balines", "daga", "espada", "machete",
     "spray de pimienta", "tirachinas", "punal", "arco de caza", "arco compuesto",
     "arco recurvo", "puno americano",
     "coltello", "coltelli", "coltello da caccia", "coltello a serramanico",
@@ -187,7 +188,10 @@ WEAPONS = (
     "ascia da lancio", "hacha arrojadiza", "hache de lancer", "werpbijl",
     "machado de arremesso", "stroomstootwapen", "arma de choque", "facao", "catana",
     "adaga", "navalha", "baionetta", "bajonet", "baionnette", "bayoneta", "baioneta",
-    "scimitarra", "fronde", "bombe antiagression", "arco e flecha",
+    "scimitarra", "fronde",
+    "arme a feu", "armes a feu", "armes", "arme blanche", "armes de chasse", "waffe", "waffen",
+    "arma", "armas", "armi", "wapen", "wapens", "arc classique", "arc de tir", "arc compound",
+    "carreaux d arbalete", "bombe antiagression", "arco e flecha",
     "arco y flecha", "arc et fleche", "porra extensible", "baston extensible",
     "bastone telescopico", "bastao extensivel", "blowpipe",
     "spray de defense", "bombe au poivre", "gaz lacrymogene", "spray de defensa",
@@ -236,6 +240,7 @@ ADULT = (
     "jouet pour adultes", "spielzeug fur erwachsene", "juguete para adultos",
     "giocattolo per adulti", "speeltje voor volwassenen", "brinquedo para adultos",
     "bullet vibe",
+    "gel lubrifiant", "lubricant gel", "gel lubricante", "gel lubrificante", "glijgel",
 )
 
 MEDICINE = (
@@ -261,6 +266,8 @@ MEDICINE = (
     "nicotinekauwgom",
     "antigripal", "xarope para a tosse", "adesivo de nicotina", "pastilhas de nicotina",
     "remedio para a tosse",
+    "antidouleur", "anti douleur", "mucolitico", "mucolytique", "mukolytikum", "mucolytisch",
+    "sleep aid", "aide au sommeil", "ayuda para dormir", "sonnifero", "slaapmiddel",
     # active ingredients (international non-proprietary names and their local spellings)
     "paracetamol", "paracetamolo", "acetaminophen", "ibuprofen", "ibuprofene", "ibuprofeno",
     "aspirin", "aspirine", "aspirina", "acetylsalicylic acid", "naproxen", "naproxene",
@@ -355,7 +362,9 @@ HARMLESS = (
     "taglia adulto", "volwassenenmaat", "tamanho adulto", "concrete vibrator",
     "vibrateur a beton", "betonvibrator", "vibrador de hormigon", "vibratore per calcestruzzo",
     "vibrador de betao", "coquin de chat", "kriek juice", "bock saw",
-    "toy handcuffs", "police handcuffs", "menottes jouet", "menottes de police",
+    "toy handcuffs", "police handcuffs",
+    "allume cigare", "allume cigares", "cigarette lighter charger", "encendedor de cigarrillos",
+    "menottes jouet", "menottes de police",
     "spielzeug handschellen", "handschellen spielzeug", "polizei handschellen",
     "esposas de juguete", "manette giocattolo", "speelgoed handboeien", "algemas de brinquedo",
     "champagne sabre", "champagne saber", "sabre a champagne", "sable de champan",
@@ -488,7 +497,9 @@ ACCESSORIES = (
     "portasigarette", "cigarreira", "thermometer", "thermometre", "termometro", "preserver",
     "vacuum pump", "pompe a vide",
     "voucher", "gift card",
-    "flask", "hip flask", "flasque", "flachmann", "fiaschetta", "heupfles", "cantil",
+    "flask", "hip flask",
+    "storage", "rangement", "aufbewahrung", "almacenamiento", "contenitore", "opslag",
+    "arrumacao", "flasque", "flachmann", "fiaschetta", "heupfles", "cantil",
     "jar", "tarro", "barattolo", "pot a tabac", "cellar", "carrier", "charms", "gutschein",
     "bon cadeau", "carte cadeau", "tarjeta regalo",
     "buono regalo", "cadeaubon", "vale presente", "experience", "erlebnis", "abrecartas",
@@ -799,6 +810,9 @@ CONDITIONS = (
     "koorts", "hooikoorts", "verkoudheid", "griep", "hoofdpijn", "maagzuur", "diarree",
     "keelpijn", "dor", "dores", "febre", "constipacao", "dor de cabeca", "azia", "diarreia",
     "dor de garganta",
+    "allergy relief", "travel sickness", "motion sickness", "mal des transports",
+    "reisekrankheit", "mareo", "wagenziekte", "enjoo", "throat", "gorge", "garganta", "gola",
+    "keel",
 )
 DOSAGE_FORMS = (
     "tablet", "tablets", "caplets", "capsule", "capsules", "softgels", "syrup", "lozenge",
@@ -814,6 +828,7 @@ DOSAGE_FORMS = (
     "zetpil", "zetpillen", "zalf", "druppels", "bruistabletten", "comprimidos", "capsulas",
     "xarope", "pastilhas", "supositorios", "saquetas", "efervescente", "effervescente",
     "bruisend",
+    "tabs", "nasal spray", "spray nasal", "nasenspray", "spray nasale", "neusspray",
 )
 NICOTINE_REPLACEMENT = (
     "patch", "patches", "gum", "chewing gum", "lozenge", "lozenges", "pastille", "pastilles",
@@ -897,7 +912,7 @@ DRINK_CONTEXT = (
     "botellas", "bottiglia", "bottiglie", "fles", "flessen", "garrafa", "garrafas", "brut",
     "sec", "demi sec", "dry", "extra dry", "trocken", "seco", "secco", "xo", "vsop", "vs",
     "napoleon", "fine champagne", "grand cru", "premier cru", "millesime", "millesimato",
-    "vintage", "cuvee", "gift box", "coffret", "geschenkbox", "confezione regalo",
+    "cuvee", "gift box", "coffret", "geschenkbox", "confezione regalo",
     "geschenkdoos", "case of", "x 75", "x 70", "bodega",
 )
 

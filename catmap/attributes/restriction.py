@@ -145,21 +145,25 @@ def _plurals(word: str) -> tuple[str, ...]:
     return tuple(form for form in forms if form == word or form not in _NOT_PLURALS)
 
 
-# Forms the plural rules would make that are other words: "vines", "face" (from "faca"),
-# "cave" (from "cava"), "spade" (from "spada"), "grappe" (bunches of grapes), "beste".
+# Forms the plural and elision rules would make that are other words: "vines", "face" (from
+# "faca"), "cave" (from "cava"), "spade" (from "spada"), "grappe" (bunches of grapes),
+# "beste", "larme" (a tear, from "arme").
 _NOT_PLURALS = frozenset(
     "vines anise grappe cave spade beste face godi sakes weiner sekte sexes rone korne "
-    "ales gines".split()
+    "ales gines larme larmes".split()
 )
 
 
 def _elided(phrase: str) -> tuple[str, ...]:
-    # "cran d'arrêt" folds to "cran darret" (the apostrophe is deleted): the lists write
-    # such phrases with a space ("cran d arret") and both forms are looked for.
+    """Return a phrase with the forms French and Italian elision gives it once folded (the
+    apostrophe is deleted): "cran d arret" also as "cran darret", "arbalete" also as
+    "darbalete" and "larbalete" ("carreaux d'arbalète", "l'alcool")."""
+    forms = [phrase]
     if " d " in f" {phrase}" or " l " in f" {phrase}":
-        joined = re.sub(r"(^| )([dl]) ", r"\1\2", phrase)
-        return (phrase, joined)
-    return (phrase,)
+        forms.append(re.sub(r"(^| )([dl]) ", r"\1\2", phrase))
+    if len(phrase) >= 4 and phrase[0] in "aeiouh":
+        forms += [f"d{form}" for form in list(forms)] + [f"l{form}" for form in list(forms)]
+    return tuple(form for form in forms if form not in _NOT_PLURALS)
 
 
 def _phrases() -> dict[str, object]:
@@ -478,7 +482,7 @@ def _corroborated(
     if any(g[3] == flag and g[2] != key and g[2] not in _COLOUR_NAMES for g in goods):
         return True
     if flag == "alcohol":
-        return measured or bool(kinds & {_DRINK, _WEAK}) or bool(_VINTAGE.search(folded))
+        return measured or _DRINK in kinds or bool(_VINTAGE.search(folded))
     if flag == "tobacco":
         return bool(_WEIGHT.search(folded))
     return False
