@@ -116,7 +116,7 @@ TOBACCO = (
     "e shisha", "e hookah", "kit pod", "rookwaren", "tabakwaren",
     "salt nic", "salt nics", "nic salts", "nic shot", "nic shots", "nicotine shot",
     "nikotin shot", "nikotinshot", "nikotinhaltig", "nikotinhaltiges", "nikotinhaltige",
-    "nicotine booster", "booster de nicotine", "luftgewehrkugeln", "purito", "puritos",
+    "nicotine booster", "booster de nicotine", "purito", "puritos",
     "cigarrilha", "cigarrilhas", "tabac a chiquer", "chique", "bidi",
     "bidis", "kretek",
 )
@@ -191,7 +191,7 @@ WEAPONS = (
     "scimitarra", "fronde",
     "arme a feu", "armes a feu", "armes", "arme blanche", "armes de chasse", "waffe", "waffen",
     "arma", "armas", "armi", "wapen", "wapens", "arc classique", "arc de tir", "arc compound",
-    "carreaux d arbalete", "bombe antiagression", "arco e flecha",
+    "carreaux d arbalete", "luftgewehrkugeln", "bombe antiagression", "arco e flecha",
     "arco y flecha", "arc et fleche", "porra extensible", "baston extensible",
     "bastone telescopico", "bastao extensivel", "blowpipe",
     "spray de defense", "bombe au poivre", "gaz lacrymogene", "spray de defensa",
