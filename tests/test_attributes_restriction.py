@@ -292,6 +292,10 @@ def test_traps_in_seven_languages(title: str) -> None:
         # a condition with a dosage form, a nicotine replacement
         ("Hay fever tablets 30", "medicine"), ("Sirop contre la toux enfant", "medicine"),
         ("Jarabe para la tos", "medicine"), ("Nicotine gum 2 mg mint", "medicine"),
+        ("Nicotine chewing gum 2 mg", "medicine"), ("Gomme à mâcher nicotine 2 mg", "medicine"),
+        # French elision, plurals in the seven languages
+        ("Couteau à cran d'arrêt", "weapons"), ("Carreaux d'arbalète x 12", "weapons"),
+        ("Vins rouges de Bordeaux x 6", "alcohol"), ("Vini rossi toscani 6 bottiglie", "alcohol"),
         # an alcohol strength, a bottle's measure beside a weak word, a vape's dose or puffs
         ("Reserva 2018 tinto 13,5% vol", "alcohol"), ("Rosé de Provence 2022 75 cl", "alcohol"),
         ("Porto Ruby 75 cl", "alcohol"), ("Recharges pods menthe 20 mg", "tobacco"),
@@ -322,6 +326,24 @@ def test_compounds_stems_and_measures(title: str, restriction: str) -> None:
     ],
 )
 def test_accessories_and_what_comes_with_them(title: str, restriction: str) -> None:
+    assert restriction_from_text(title)[0] == restriction
+
+
+@pytest.mark.parametrize(
+    ("title", "restriction"),
+    [
+        # A keyword that is also a colour name is the colour away from the title's start...
+        ("Jean jacket striped cognac 3XL", ""),
+        ("Golf bag classic champagne", ""),
+        ("Ear muffs large vintage set cognac", ""),
+        # ...unless something says the good is meant, or the title starts with it.
+        ("Fine cognac XO 70 cl", "alcohol"),
+        ("Coffret champagne brut et deux flûtes", "alcohol"),
+        ("Cognac VSOP", "alcohol"),
+        ("Cuvée 2015 champagne", "alcohol"),
+    ],
+)
+def test_keywords_that_are_colour_names(title: str, restriction: str) -> None:
     assert restriction_from_text(title)[0] == restriction
 
 

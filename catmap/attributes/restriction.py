@@ -123,6 +123,7 @@ _COLOUR_NAMES = frozenset(
     fold(word) for by_lang in COLOUR_WORDS.values() for names in by_lang.values()
     for word in names
 )
+_NICOTINE_REPLACEMENT = tuple(fold(word) for word in words.NICOTINE_REPLACEMENT)
 _NICOTINE_WORDS = frozenset({"nicotine", "nicotina", "nikotin", "nicotine salt"})
 
 
@@ -431,6 +432,10 @@ def restriction_hits(folded: str) -> list[tuple[str, str, bool]]:
         head_end -= 1
     hits: list[tuple[str, str, bool]] = []
     for first, last, key, flag, strong in goods:
+        if key in _NICOTINE_WORDS:
+            around = f" {' '.join(tokens[max(0, first - 3):last + 4])} "
+            if any(f" {form} " in around for form in _NICOTINE_REPLACEMENT):
+                flag = "medicine"  # "nicotine chewing gum", "gomme à mâcher nicotine"
         if flag in _NEGATABLE and key not in _VAPE and any(
             d_first == 0 or first - _WINDOW <= d_last and d_first <= last + _WINDOW
             for d_first, d_last in cues.get(_DESCRIPTOR, ())
@@ -460,8 +465,6 @@ def restriction_hits(folded: str) -> list[tuple[str, str, bool]]:
             flag, key, folded, kinds, goods, bottle or bool(strength)
         ):
             continue
-        if key in _NICOTINE_WORDS and near(_NICOTINE_FORM, first, last, 2):
-            flag = "medicine"
         hits.append((flag, key, strong))
     if not any(flag == "medicine" for flag, _k, _s in hits):
         hits.extend(_conditions(folded, matches))
