@@ -363,6 +363,8 @@ HARMLESS = (
     "vibrateur a beton", "betonvibrator", "vibrador de hormigon", "vibratore per calcestruzzo",
     "vibrador de betao", "coquin de chat", "kriek juice", "bock saw",
     "toy handcuffs", "police handcuffs",
+    "barrel aged", "cask aged", "barrel proof", "single barrel", "single cask",
+    "cask strength", "fut de chene", "elevado en barrica", "affinato in botte",
     "allume cigare", "allume cigares", "cigarette lighter charger", "encendedor de cigarrillos",
     "menottes jouet", "menottes de police",
     "spielzeug handschellen", "handschellen spielzeug", "polizei handschellen",
@@ -466,6 +468,8 @@ DESCRIPTORS = (
     "parfum", "parfum d ambiance", "diffuseur", "diffusor", "difusor", "diffusore",
     "pudding", "pudim", "budino", "flan", "tiramisu", "dessert", "postre", "nachtisch",
     "toetje", "te negro", "te verde", "te rojo", "te blanco", "te nero", "cha preto",
+    "forma de", "con forma de", "salsa", "sosse", "shampooing", "champu", "champo", "empty",
+    "vide", "leer", "vacio", "vacia", "vuoto", "vuota", "leeg", "vazio", "vazia",
 )
 
 # Accessories and objects of a drink, a smoke, a weapon or a medicine ("whisky stones",
@@ -498,7 +502,12 @@ ACCESSORIES = (
     "vacuum pump", "pompe a vide",
     "voucher", "gift card",
     "flask", "hip flask",
-    "storage", "rangement", "aufbewahrung", "almacenamiento", "contenitore", "opslag",
+    "storage", "rangement",
+    "casier", "botellero", "portabottiglie", "porte bouteilles", "vase", "jarron", "florero",
+    "vaas", "tonneau", "barril", "barrica", "barrel", "bouchon", "bouchons",
+    "sous plat", "dessous de plat", "trivet", "salvamanteles", "sottopentola",
+    "pannenonderzetter", "base para tachos", "aufbewahrung",
+    "almacenamiento", "contenitore", "opslag",
     "arrumacao", "flasque", "flachmann", "fiaschetta", "heupfles", "cantil",
     "jar", "tarro", "barattolo", "pot a tabac", "cellar", "carrier", "charms", "gutschein",
     "bon cadeau", "carte cadeau", "tarjeta regalo",
@@ -930,3 +939,22 @@ FLAVOUR_WORDS = frozenset(
     "flavour flavor taste aroma arome gout saveur geschmack sabor gusto sapore smaak "
     "parfum".split()
 )
+
+# Last parts of German and Dutch compounds that make the compound a descriptor or an
+# accessory ("Karamellsoße", "Duftkerze", "Flaschenöffner", "Wijnkoeler"): the compound then
+# undoes a good named beside it, as the word alone would.
+COMPOUND_CUE_HEADS: dict[str, str] = {
+    "sosse": "descriptor", "sauce": "descriptor", "saus": "descriptor", "kerze": "descriptor",
+    "kerzen": "descriptor", "kaars": "descriptor", "seife": "descriptor", "zeep": "descriptor",
+    "shampoo": "descriptor", "schokolade": "descriptor", "chocolade": "descriptor",
+    "bonbons": "descriptor", "torte": "descriptor", "taart": "descriptor",
+    "kuchen": "descriptor", "balsam": "descriptor", "balsem": "descriptor",
+    "duft": "descriptor", "geur": "descriptor", "snoep": "descriptor", "gummi": "descriptor",
+    "offner": "accessory", "opener": "accessory", "glas": "accessory", "glaser": "accessory",
+    "glazen": "accessory", "halter": "accessory", "houder": "accessory", "regal": "accessory",
+    "kuhler": "accessory", "koeler": "accessory", "stander": "accessory",
+    "standaard": "accessory", "becher": "accessory", "krug": "accessory",
+    "karaffe": "accessory", "karaf": "accessory", "etui": "accessory", "dose": "accessory",
+    "schneider": "accessory", "knipper": "accessory", "zieher": "accessory",
+    "trekker": "accessory", "untersetzer": "accessory", "onderzetter": "accessory",
+}

@@ -177,7 +177,9 @@ def _phrases() -> dict[str, object]:
         (words.FLAVOURINGS, _FLAVOURING),
     ):
         for phrase in cue:
-            for form in _elided(fold(phrase)):
+            folded = fold(phrase)
+            plurals = (folded, f"{folded}s") if " " not in folded and len(folded) >= 4 else ()
+            for form in (*_elided(folded), *plurals):
                 phrases[form] = payload
     for restriction, keywords in _KEYWORDS.items():
         for word in keywords:
@@ -191,9 +193,15 @@ def _phrases() -> dict[str, object]:
         phrases.setdefault(phrase, _PUFF)
     for phrase in words.WEAK_TOBACCO:
         phrases.setdefault(fold(phrase), _WEAK_TOBACCO)
+    keyword_words = {word for form, payload in phrases.items() if payload in RESTRICTIONS
+                     for word in form.split(" ")}
     for phrase in words.HARMLESS:
-        for form in _elided(fold(phrase)):
-            phrases[form] = ""
+        folded = fold(phrase)
+        # A phrase without a keyword in it cannot hide one: it is the accessory or tool a
+        # good is named beside ("portabottiglie vino", "aiguiseur couteau").
+        payload = "" if keyword_words & set(folded.split(" ")) else _ACCESSORY
+        for form in _elided(folded):
+            phrases[form] = payload
     return phrases
 
 
@@ -209,6 +217,9 @@ def _parts() -> dict[str, tuple[tuple[str, ...], ...]]:
         roles.setdefault(stem, []).append(("stem", flag))
     for ending in words.INN_ENDINGS:
         roles.setdefault(ending, []).append(("inn", "medicine"))
+    for head, kind in words.COMPOUND_CUE_HEADS.items():
+        cue = _DESCRIPTOR if kind == "descriptor" else _ACCESSORY
+        roles.setdefault(head, []).append(("cue", cue))
     return {part: tuple(part_roles) for part, part_roles in roles.items()}
 
 
@@ -314,6 +325,8 @@ def _word_parts(
                 if not (_DOSE.search(folded) or any(m[3] == _FORM for m in matches)):
                     continue
                 payload, level = flag, 2
+            elif kind == "cue" and w_end == end + 1 and start - w_start >= 3:
+                payload, level = flag, 1
             elif kind == "first" and w_end - end - 1 >= 3 and (
                 start == w_start or (len(part) >= 5 and start - w_start >= 3)
             ):
