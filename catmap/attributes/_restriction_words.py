@@ -506,7 +506,13 @@ ACCESSORIES = (
     "casier", "botellero", "portabottiglie", "porte bouteilles", "vase", "jarron", "florero",
     "vaas", "tonneau", "barril", "barrica", "barrel", "bouchon", "bouchons",
     "sous plat", "dessous de plat", "trivet", "salvamanteles", "sottopentola",
-    "pannenonderzetter", "base para tachos", "aufbewahrung",
+    "pannenonderzetter", "base para tachos",
+    "machine", "machines", "maquina", "maquinas", "macchina", "macchinetta", "maschine",
+    "machine a rouler", "maquina de liar", "carry case", "carrying case", "housse", "hoesje",
+    "block", "bloc", "ceppo", "blok", "corta papel", "sharpening", "sharpening stone",
+    "whetstone", "aiguiser", "pierre a aiguiser", "schleifstein", "afilar", "piedra de afilar",
+    "affilare", "pietra per affilare", "wetsteen", "slijpsteen", "afiar", "pedra de afiar",
+    "aufbewahrung",
     "almacenamiento", "contenitore", "opslag",
     "arrumacao", "flasque", "flachmann", "fiaschetta", "heupfles", "cantil",
     "jar", "tarro", "barattolo", "pot a tabac", "cellar", "carrier", "charms", "gutschein",
@@ -608,6 +614,7 @@ KITCHEN_TOOLS = (
     "staple", "agrafes", "grease", "caulking", "soldering", "bubble", "bulles", "burbujas",
     "bolle", "bellen", "bolhas", "foam", "mousse", "nerf", "blaster", "spray gun",
     "pistola de pintura", "pistola per verniciare", "airbrush",
+    "masaje", "de masaje", "massaggiante", "massaggio", "massagem", "de massagem",
     "navaja de afeitar", "rasoir", "rasoio", "navalha de barbear", "straight razor",
 )
 KITCHEN_TOOLS_SET = frozenset(KITCHEN_TOOLS)

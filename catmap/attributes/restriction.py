@@ -162,7 +162,7 @@ def _elided(phrase: str) -> tuple[str, ...]:
     forms = [phrase]
     if " d " in f" {phrase}" or " l " in f" {phrase}":
         forms.append(re.sub(r"(^| )([dl]) ", r"\1\2", phrase))
-    if len(phrase) >= 4 and phrase[0] in "aeiouh":
+    if len(phrase.split(" ")[0]) >= 4 and phrase[0] in "aeiouh":
         forms += [f"d{form}" for form in list(forms)] + [f"l{form}" for form in list(forms)]
     return tuple(form for form in forms if form not in _NOT_PLURALS)
 
