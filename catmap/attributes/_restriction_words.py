@@ -168,7 +168,7 @@ WEAPONS = (
     "sabel", "pepperspray", "katapult", "boksbeugel", "handboog", "compoundboog",
     "recurveboog", "wapenstok",
     "faca", "facas", "faca de caca", "faca tatica", "faca de sobrevivencia", "faca borboleta",
-    "faca dobravel", "canivete", "canivetes", "espingarda de pressao", "carabina de pressao",
+    "faca dobravel", "canivete", "canivetes", "canivete de bolso", "faca de bolso", "espingarda de pressao", "carabina de pressao",
     "pistola de pressao", "pistola de pressao de ar", "punhal", "espada", "sabre",
     "spray de pimenta", "fisga", "besta", "besta de caca", "soqueira", "arco composto",
     "cassetete",
