@@ -73,7 +73,7 @@ ALCOHOL = (
     "grappa", "digestif", "kruidenbitter", "beerenburg", "bitter liqueur", "cream liqueur",
     "chocolate liqueur", "coffee liqueur", "herbal liqueur", "liqueur au chocolat",
     "schokoladenlikor", "licor de chocolate", "liquore al cioccolato", "licor beirao",
-    "gin tonic", "gin and tonic", "alcopop", "premix",
+    "gin tonic", "gin and tonic", "alcopop", "premix", "conac", "champana", "bagaco",
     "korn", "porto", "pineau", "floc de gascogne", "kir royal", "creme de cassis",
     "creme de menthe", "genepi", "federweisser", "weinschorle", "tinto de verano", "txakoli",
     "mencia", "vin santo", "vinsanto", "passito", "negroamaro", "brachetto", "nocino",
@@ -287,7 +287,11 @@ MEDICINE = (
     "lidocaine", "lidocain", "lidocaina", "mebendazole", "permethrin", "minoxidil",
     "sumatriptan", "sildenafil", "tadalafil", "finasteride", "orlistat", "salbutamol",
     "amoxicillin", "amoxicilline", "amoxicilina", "amoxicillina", "levonorgestrel",
-    "nicotine replacement",
+    "nicotine replacement", "acetaminofen", "acido acetilsalicilico",
+    "acide acetylsalicylique", "acetylsalicylsaure", "acetylsalicylzuur", "dimenhydrinate",
+    "dimenhidrinato", "dimenidrinato", "dimenhydrinat", "metformin", "metformine",
+    "metformina", "prednisolone", "prednisolon", "prednisone", "prednisona", "insulin",
+    "insuline", "insulina",
 )
 
 # Words too general to flag a product the tree left unrestricted (a kitchen knife on a
