@@ -386,3 +386,16 @@ def test_the_labelled_sets_stay_read() -> None:
             assert len(hit) >= 0.95 * len(got), (path.name, flag)
         assert not [r["text"] for r in rows if r["kind"] == "trap" and
                     restriction_from_text(r["text"])[0]], path.name
+
+
+def test_a_remapped_product_follows_its_new_nodes_context(tree: CategoryTree) -> None:
+    # Two inner nodes, neither restricted: only the kitchen one silences "knife", so a move
+    # between them can change the flag and the remap follower must re-read the product.
+    from catmap.jobs._remap_scoring import AttributeFollower
+
+    follower = AttributeFollower(tree, tree)
+    assert follower.changes("2000", "4000")
+    assert not follower.changes("4000", "4000")
+    row = {"status": "auto", "restriction": "weapons"}
+    follower.follow(row, Product("1", "Knife 20 cm"), "4000")
+    assert row["restriction"] == ""
