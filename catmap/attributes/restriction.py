@@ -45,7 +45,7 @@ from __future__ import annotations
 
 import re
 from collections.abc import Iterable
-from typing import TYPE_CHECKING
+from typing import TYPE_CHECKING, Any
 
 import ahocorasick
 
@@ -242,12 +242,12 @@ _Match = tuple[int, int, str, object]
 _PartHit = tuple[int, tuple[str, tuple[tuple[str, ...], ...]]]
 
 
-def _scan(folded: str) -> tuple[list[_Match], list[_PartHit], set[object]]:
+def _scan(
+    found: list[tuple[int, tuple[bool, str, Any]]],
+) -> tuple[list[_Match], list[_PartHit], set[object]]:
     """Return the phrases (start, end, phrase, payload), the parts of words (end index,
-    (part, roles)) and the phrases' payloads found in a folded text, in one pass."""
-    found = list(_AUTOMATON.iter(f" {folded} "))
-    if not found:
-        return [], [], set()
+    (part, roles)) and the phrases' payloads from what the automaton found in a padded
+    folded text."""
     matches = [
         (end - len(key) - 1, end - 1, key, payload)
         for end, (whole, key, payload) in found if whole
@@ -375,11 +375,16 @@ def restriction_hits(folded: str) -> list[tuple[str, str, bool]]:
     """
     if "anti " in folded:  # "anti-histamínico" as "antihistaminico"
         folded = _ANTI.sub("anti", folded)
-    matches, found_parts, kinds = _scan(folded)
-    if not found_parts and " vol" not in folded and (
-        kinds <= _INERT or kinds <= _INERT_OR_WEAK and not _bottle(folded)
+    found = list(_AUTOMATON.iter(f" {folded} "))
+    if not found:
+        return []  # the common case: no word of any list
+    # the payloads found (a part of a word counts as a flag: it may name a good)
+    seen = {value[2] if value[0] else "part" for _end, value in found}
+    if " vol" not in folded and (
+        seen <= _INERT or seen <= _INERT_OR_WEAK and not _bottle(folded)
     ):
-        return []  # the common case: nothing restricted named, only colours, objects...
+        return []  # nothing restricted named: only colours, objects, a weak word...
+    matches, found_parts, kinds = _scan(found)
     strength = (
         list(_STRENGTH.finditer(folded))
         if (" vol" in folded or " abv" in folded or " alc" in folded) else []
@@ -424,14 +429,14 @@ def restriction_hits(folded: str) -> list[tuple[str, str, bool]]:
     if puffs:
         first, last = _position(folded, *puffs.span())
         goods.append((first, last, puffs.group(0), "tobacco", True))
-    for found in strength:
-        whole, fraction = found.groups()
-        first, last = _position(folded, *found.span())
+    for measure in strength:
+        whole, fraction = measure.groups()
+        first, last = _position(folded, *measure.span())
         if float(f"{whole}.{fraction or 0}") <= 1.2:
             # "0,5 % vol": a drink without alcohol by the usual threshold
             cues.setdefault(_DESCRIPTOR, []).append((first, last))
         else:
-            goods.append((first, last, found.group(0), "alcohol", True))
+            goods.append((first, last, measure.group(0), "alcohol", True))
 
     def near(kind: str, first: int, last: int, window: int = _WINDOW) -> list[tuple[int, int]]:
         return [
