@@ -137,12 +137,15 @@ def _plurals(word: str) -> tuple[str, ...]:
         return (word, " ".join(parts[:-1] + [f"{parts[-1]}s"]), " ".join(f"{p}s" for p in parts))
     if len(word) < 3:
         return (word,)
-    forms = [word, f"{word}s", f"{word}es"]
-    if len(word) >= 4:
-        forms += [f"{word}e", f"{word}en", f"{word}er"]
+    forms = [word, f"{word}s"]
+    if word[-1] in "aeiou":
         vowel = {"o": "i", "a": "e", "e": "i"}.get(word[-1])
-        if vowel:
+        if vowel and len(word) >= 4:
             forms.append(word[:-1] + vowel)
+    else:
+        forms.append(f"{word}es")
+        if len(word) >= 4:
+            forms += [f"{word}e", f"{word}en", f"{word}er"]
     return tuple(form for form in forms if form == word or form not in _NOT_PLURALS)
 
 
@@ -183,9 +186,9 @@ def _phrases() -> dict[str, object]:
                 phrases[form] = payload
     for restriction, keywords in _KEYWORDS.items():
         for word in keywords:
-            for form in _plurals(fold(word)):
-                for elided in _elided(form):
-                    phrases.setdefault(elided, restriction)
+            folded = fold(word)
+            for form in (*_plurals(folded), *_elided(folded)):
+                phrases.setdefault(form, restriction)
     for phrase in words.WEAK_ALCOHOL:
         for form in _elided(fold(phrase)):
             phrases.setdefault(form, _WEAK)
