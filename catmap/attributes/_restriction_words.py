@@ -858,8 +858,8 @@ NICOTINE_REPLACEMENT = (
     "gomma", "gomme", "pleister", "pleisters", "kauwgom", "zuigtabletten", "adesivo",
     "adesivos", "pastilhas", "pastilha", "goma",
 )
-# Word endings of active ingredients (the international non-proprietary names' common
-# stems, WHO "The use of stems in the selection of INN"), with their local spellings: a word
+# Word endings that the international non-proprietary names of active ingredients share
+# by drug class ("-profen", "-prazole", "-tadine"), with their local spellings: a word
 # ending so, next to a dose or a dosage form, is a medicine ("Naproxen 250 mg tablets").
 INN_ENDINGS = (
     "profen", "profene", "profeno", "fenac", "fenaco", "prazole", "prazol", "prazolo",
