@@ -16,11 +16,12 @@ from catmap.attributes import (
     BrandDictionary,
     restriction_from_text,
 )
-from catmap.attributes.restriction import is_generic_node
+from catmap.attributes.restriction import is_generic_node, node_context, quiet_flags
 from catmap.records import Product
 from catmap.tree.taxonomy import CategoryTree, load_tree
 
 DATA = Path(__file__).parent / "data" / "restriction_labelled.csv"
+SETS = sorted((Path(__file__).parent / "data").glob("restriction_*.csv"))
 
 TREE = """\
 @tree-version 1
@@ -36,6 +37,12 @@ TREE = """\
 3000 | - | Leisure | none | tobacco | en: leisure | fr: x | de: x | es: x
 3010 | 3000 | Smoking | . | - | en: smoking | fr: x | de: x | es: x
 3011 | 3010 | Pipe tobacco | . | - | en: pipe tobacco | fr: x | de: x | es: x
+4000 | - | Kitchen and dining | none | - | en: kitchen | fr: cuisine | de: Küche | es: cocina
+4010 | 4000 | Cutlery | . | - | en: cutlery | fr: couverts | de: Besteck | es: cubiertos
+4011 | 4010 | Table knives | . | - | en: table knife | fr: x | de: x | es: x
+5000 | - | Toys | none | - | en: toys | fr: jouets | de: Spielzeug | es: juguetes
+5010 | 5000 | Pretend play | . | - | en: pretend play | fr: x | de: x | es: x
+5011 | 5010 | Toy weapons | . | - | en: toy sword | fr: x | de: x | es: x
 """
 
 
@@ -207,3 +214,188 @@ def test_the_labelled_set_covers_every_flag_in_seven_languages() -> None:
         assert {r["lang"] for r in rows if r["restriction"] == flag} == languages
     assert {r["lang"] for r in rows if r["kind"] == "trap"} == languages
     assert all(r["restriction"] == "" for r in rows if r["kind"] in ("trap", "plain"))
+
+
+# -- what the product is: traps in seven languages -----------------------------------------
+# Each names a restricted good without being one. Invented titles; which products count as
+# the good follows the labelled sets' convention (an accessory, a scent, a colour, a toy or
+# a drink without alcohol is not the good; common practice, no source).
+
+
+@pytest.mark.parametrize(
+    "title",
+    [
+        # an accessory or a tool of a drink (glass, opener, stones, cooler, tester)
+        "Whisky glasses set of 2", "Champagne flutes set of 4", "Beer bottle opener",
+        "Décapsuleur bière", "Flaschenöffner Bier", "Bieröffner Edelstahl", "Weinregal Holz",
+        "Abridor de cerveza", "Piedras de whisky", "Apribottiglie birra", "Pietre per whisky",
+        "Whiskystenen set van 9", "Wijnkoeler RVS", "Abre-garrafas de cerveja",
+        "Pedras de whisky", "Alcohol tester digital", "Weinkühler Edelstahl",
+        # a smoke's accessory (humidor, ashtray, cutter, case, lighter, papers)
+        "Cigar humidor cedar", "Cendrier en verre", "Aschenbecher Glas", "Cenicero de cristal",
+        "Posacenere in vetro", "Asbak glas", "Cinzeiro de vidro", "Zigarrenabschneider",
+        "Cortapuros doble hoja", "Tagliasigari in acciaio", "Sigarenknipper",
+        "Corta charutos", "Cigarette case silver", "Rolling papers king size slim",
+        # a kitchen, table or craft knife
+        "Chef's knife 20 cm", "Bread knife serrated", "Couteau de cuisine 20 cm",
+        "Couteau à pain", "Kochmesser 20 cm", "Brotmesser Wellenschliff",
+        "Cuchillo de cocina 20 cm", "Cuchillo jamonero", "Coltello da cucina 20 cm",
+        "Coltello per il pane", "Koksmes 20 cm", "Broodmes", "Faca de cozinha 20 cm",
+        "Faca de pão", "Steak knives set of 6", "Santoku knife 18 cm", "Knife sharpener",
+        # a toy, a costume, a shape
+        "Toy sword plastic", "Wasserpistole für Kinder", "Waterpistool", "Heißklebepistole",
+        "Épée en mousse pour enfants", "Kinder Pfeil und Bogen Set", "Sword-shaped letter opener",
+        "Katana umbrella", "Toy handcuffs police",
+        # a scent, a flavour carrier, a colour
+        "Tobacco-scented candle", "Bougie parfum whisky", "Duftkerze Whisky",
+        "Vela aroma a ron", "Candela profumata al whisky", "Geurkaars whisky",
+        "Vela perfumada de whisky", "Beer-scented shower gel", "Whisky fudge 150 g",
+        "Rum cake", "Wine gums 200 g", "Champagne coloured dress", "Robe couleur champagne",
+        "Kleid champagnerfarben", "Vestido color champán", "Abito color champagne",
+        "Jurk champagnekleur", "Vestido cor champanhe", "Tabakbraune Stiefel",
+        "Cognac leather belt",
+        # a drink without alcohol
+        "Alcohol-free gin 70 cl", "Vin sans alcool rouge", "Alkoholfreier Sekt",
+        "Vino sin alcohol", "Vino analcolico", "Alcoholvrije wijn", "Vinho sem álcool",
+        "Pils 0,0 % vol", "Kinderpunsch alkoholfrei",
+        # hand sanitiser and cleaning alcohol
+        "Hand sanitiser 500 ml 70% alcohol", "Gel hydroalcoolique 100 ml",
+        "Desinfektionsgel 70 % Alkohol", "Gel hidroalcohólico 500 ml",
+        "Gel igienizzante mani 80 ml", "Alcoholgel handen 100 ml", "Álcool gel 70%",
+        "Brewer's yeast flakes", "Levadura de cerveza en copos",
+        # adult-size clothing, medicine accessories, supplements
+        "Adult size unicorn onesie", "Déguisement taille adulte", "Pill organiser 7 days",
+        "Pilulier semaine", "Medicine cabinet white", "Vitamin C 1000 mg tablets",
+        "Magnesium 400 mg Tabletten", "Medicine ball 5 kg",
+    ],
+)
+def test_traps_in_seven_languages(title: str) -> None:
+    assert restriction_from_text(title) == ("", ""), restriction_from_text(title)
+
+
+@pytest.mark.parametrize(
+    ("title", "restriction"),
+    [
+        # German and Dutch compounds by their head
+        ("Himbeergeist 0,5 l", "alcohol"), ("Kruidenbitter 1 liter", "alcohol"),
+        ("Zwetschgenbrand 40% vol", "alcohol"), ("Bierpaket Craft 12 Flaschen", "alcohol"),
+        ("Wijnpakket 6 flessen rood", "alcohol"), ("Zigarettentabak 40 g", "tobacco"),
+        ("Kautabak 50 g", "tobacco"), ("Outdoormesser feststehend", "weapons"),
+        ("Survivalmes met schede", "weapons"), ("Luftdruckpistole 4,5 mm", "weapons"),
+        ("Auflegevibrator", "adult"), ("Kopfschmerztabletten 20 Stück", "medicine"),
+        ("Hustensaft 200 ml", "medicine"),
+        # stems and active-ingredient endings
+        ("Antihistaminique comprimés", "medicine"), ("Anti-histamínico comprimidos", "medicine"),
+        ("Antistaminico compresse", "medicine"), ("Naproxen 250 mg tablets", "medicine"),
+        ("Cetirizin 10 mg Filmtabletten", "medicine"), ("Omeprazolo 20 mg capsule", "medicine"),
+        ("Jeu de cartes érotique", "adult"), ("Erotische kaarten", "adult"),
+        # a condition with a dosage form, a nicotine replacement
+        ("Hay fever tablets 30", "medicine"), ("Sirop contre la toux enfant", "medicine"),
+        ("Jarabe para la tos", "medicine"), ("Nicotine gum 2 mg mint", "medicine"),
+        ("Nicotine chewing gum 2 mg", "medicine"), ("Gomme à mâcher nicotine 2 mg", "medicine"),
+        # French elision, plurals in the seven languages
+        ("Couteau à cran d'arrêt", "weapons"), ("Carreaux d'arbalète x 12", "weapons"),
+        ("Vins rouges de Bordeaux x 6", "alcohol"), ("Vini rossi toscani 6 bottiglie", "alcohol"),
+        # an alcohol strength, a bottle's measure beside a weak word, a vape's dose or puffs
+        ("Reserva 2018 tinto 13,5% vol", "alcohol"), ("Rosé de Provence 2022 75 cl", "alcohol"),
+        ("Porto Ruby 75 cl", "alcohol"), ("Recharges pods menthe 20 mg", "tobacco"),
+        ("Einweg Vape 800 Züge Mango", "tobacco"), ("Svapo 600 tiri anguria", "tobacco"),
+        # regional and style names
+        ("Ginebra premium 70 cl", "alcohol"), ("Bordeaux Supérieur 2019 75 cl", "alcohol"),
+        ("Aguardente bagaceira velha", "alcohol"), ("Licor de café 70 cl", "alcohol"),
+        ("Swiss army knife 15 functions", "weapons"), ("Schreckschusspistole 9 mm", "weapons"),
+        ("Spray de défense 50 ml", "weapons"),
+    ],
+)
+def test_compounds_stems_and_measures(title: str, restriction: str) -> None:
+    assert restriction_from_text(title)[0] == restriction
+
+
+@pytest.mark.parametrize(
+    ("title", "restriction"),
+    [
+        # the good comes with the accessory, or the accessory with the good
+        ("Cigar humidor gift set with cigars", "tobacco"),
+        ("Coffret whisky et deux verres", "alcohol"),
+        ("Gin Tonic Set mit Gläsern", "alcohol"),
+        ("Damascus dagger with case", "weapons"),
+        ("Rolling tobacco 50 g pouch", "tobacco"),
+        # the accessory alone is not the good
+        ("Cigar humidor with cutter", ""),
+        ("Whisky glasses with gold rim", ""),
+    ],
+)
+def test_accessories_and_what_comes_with_them(title: str, restriction: str) -> None:
+    assert restriction_from_text(title)[0] == restriction
+
+
+@pytest.mark.parametrize(
+    ("title", "restriction"),
+    [
+        # A keyword that is also a colour name is the colour away from the title's start...
+        ("Jean jacket striped cognac 3XL", ""),
+        ("Golf bag classic champagne", ""),
+        ("Ear muffs large vintage set cognac", ""),
+        # ...unless something says the good is meant, or the title starts with it.
+        ("Fine cognac XO 70 cl", "alcohol"),
+        ("Coffret champagne brut et deux flûtes", "alcohol"),
+        ("Cognac VSOP", "alcohol"),
+        ("Cuvée 2015 champagne", "alcohol"),
+    ],
+)
+def test_keywords_that_are_colour_names(title: str, restriction: str) -> None:
+    assert restriction_from_text(title)[0] == restriction
+
+
+def test_a_nodes_context_silences_general_keywords(extractor: AttributeExtractor) -> None:
+    # An inner kitchen node cannot say, so keywords are read, but "knife" there is a tool.
+    assert extractor.extract(Product("1", "Knife 20 cm"), "4000").restriction == ""
+    assert extractor.extract(Product("2", "Knife 20 cm"), None).restriction == "weapons"
+    # An unmistakable weapon still counts there.
+    assert extractor.extract(Product("3", "Crossbow 150 lbs"), "4000").restriction == "weapons"
+    # Under toys, a sword is a toy.
+    assert extractor.extract(Product("4", "Sword 60 cm"), "5010").restriction == ""
+    assert extractor.extract(Product("5", "Sword 60 cm"), "2000").restriction == "weapons"
+
+
+def test_node_context(tree: CategoryTree) -> None:
+    assert node_context(tree, "1011") == ("alcohol", False, frozenset())
+    assert node_context(tree, "2011") == ("", True, frozenset())
+    assert node_context(tree, "4000") == ("", True, frozenset({"weapons"}))
+    assert node_context(tree, "5011") == (
+        "", False, frozenset({"weapons", "alcohol", "tobacco"})
+    )
+    assert quiet_flags(["Garten", "Werkzeuge"]) == frozenset({"weapons"})
+    assert quiet_flags(["Moda", "Zapatos"]) == frozenset({"alcohol", "tobacco"})
+    assert quiet_flags(["Drinks", "Spirits"]) == frozenset()
+
+
+def test_the_labelled_sets_stay_read() -> None:
+    # Every set in tests/data is read above the targets (recall 0.98, precision 0.95 per
+    # flag; no trap flagged). They were all seen while the word lists were written, so this
+    # guards against regressions, not a measure of generalisation (see
+    # benchmarks/bench_restriction.py for that).
+    assert len(SETS) >= 4
+    for path in SETS:
+        rows = list(csv.DictReader(path.open(encoding="utf-8", newline="")))
+        for flag in RESTRICTIONS:
+            want = [r for r in rows if r["restriction"] == flag]
+            got = [r for r in rows if restriction_from_text(r["text"])[0] == flag]
+            hit = [r for r in want if restriction_from_text(r["text"])[0] == flag]
+            assert len(hit) >= 0.98 * len(want), (path.name, flag)
+            assert len(hit) >= 0.95 * len(got), (path.name, flag)
+        assert not [r["text"] for r in rows if r["kind"] == "trap" and
+                    restriction_from_text(r["text"])[0]], path.name
+
+
+def test_a_remapped_product_follows_its_new_nodes_context(tree: CategoryTree) -> None:
+    # Two inner nodes, neither restricted: only the kitchen one silences "knife", so a move
+    # between them can change the flag and the remap follower must re-read the product.
+    from catmap.jobs._remap_scoring import AttributeFollower
+
+    follower = AttributeFollower(tree, tree)
+    assert follower.changes("2000", "4000")
+    assert not follower.changes("4000", "4000")
+    row = {"status": "auto", "restriction": "weapons"}
+    follower.follow(row, Product("1", "Knife 20 cm"), "4000")
+    assert row["restriction"] == ""

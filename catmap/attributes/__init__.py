@@ -74,7 +74,8 @@ from catmap.attributes.registry import (
 from catmap.attributes.restriction import (
     RESTRICTION_CAUTION,
     RESTRICTIONS,
-    is_generic_node,
+    node_context,
+    quiet_flags,
     restriction_for_node,
     restriction_from_text,
     restriction_from_text_folded,
@@ -124,6 +125,8 @@ __all__ = [
     "is_body_sized",
     "is_personal_item",
     "read_cues",
+    "node_context",
+    "quiet_flags",
     "restriction_for_node",
     "restriction_from_text",
     "restriction_from_text_folded",
@@ -143,6 +146,7 @@ class _NodeFacts:
     ages: frozenset[str] | None
     restriction: str | None
     read_keywords: bool  # the node cannot say: read restriction keywords
+    quiet: frozenset[str]  # flags whose general keywords the node's context silences
     body_sizes: bool  # apparel / footwear (or unknown): heights and shoe sizes say kids / baby
     said_only: bool  # no audience by default, but worn or carried: an explicit cue decides
 
@@ -197,11 +201,11 @@ class AttributeExtractor:
         facts = self._nodes.get(node_id)
         if facts is None:
             if node_id is None or self.tree is None or node_id not in self.tree:
-                facts = _NodeFacts(None, None, None, True, True, False)
+                facts = _NodeFacts(None, None, None, True, frozenset(), True, False)
             else:
                 tree = self.tree
                 node = tree[node_id]
-                generic = is_generic_node(node.name)
+                restriction, read_keywords, quiet = node_context(tree, node_id)
                 who, ages = tree.who(node_id), tree.ages(node_id)
                 words = tree.all_terms(node_id)
                 if node.parent:
@@ -209,8 +213,9 @@ class AttributeExtractor:
                 facts = _NodeFacts(
                     who,
                     ages,
-                    tree.restriction(node_id),
-                    generic or not tree.is_leaf(node_id),
+                    restriction or None,
+                    read_keywords,
+                    quiet,
                     is_body_sized(tree.all_terms(tree.department(node_id).id)),
                     not who and not ages and is_personal_item(words),
                 )
@@ -330,6 +335,7 @@ class AttributeExtractor:
             facts.restriction or "",
             facts.read_keywords,
             f"{title_without_brand} {folded_path}".strip(),
+            facts.quiet,
         )
 
         return Attributes(

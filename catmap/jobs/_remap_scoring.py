@@ -10,7 +10,7 @@ from typing import Any
 import numpy as np
 
 from catmap.attributes import AttributeExtractor, BrandDictionary
-from catmap.attributes.restriction import is_generic_node
+from catmap.attributes.restriction import node_context
 from catmap.classify.calibration import softmax
 from catmap.classify.features import product_texts
 from catmap.classify.keywords import DEFAULT_TEMPERATURE, KeywordMapper
@@ -119,8 +119,9 @@ class RemapScorer:
 
 # What a node decides about its products' attributes: who and age applicability (empty = does
 # not apply), the restriction flag, and whether the node is too generic to say (then the
-# restriction keywords of the text are read).
-_NodeFacts = tuple[frozenset[str], frozenset[str], str, bool]
+# restriction keywords of the text are read), and the flags whose general keywords its context
+# silences (a kitchen node's "knife").
+_NodeFacts = tuple[frozenset[str], frozenset[str], str, bool, frozenset[str]]
 
 
 class AttributeFollower:
@@ -157,10 +158,7 @@ class AttributeFollower:
                 self._facts[key] = None
             else:
                 self._facts[key] = (
-                    tree.who(node_id),
-                    tree.ages(node_id),
-                    tree.restriction(node_id) or "",
-                    is_generic_node(tree[node_id].name) or not tree.is_leaf(node_id),
+                    tree.who(node_id), tree.ages(node_id), *node_context(tree, node_id)
                 )
         return self._facts[key]
 
