@@ -17,14 +17,19 @@ Spanish, Italian, Dutch, Portuguese) for what the product *is*:
   a nicotine word with a replacement form (a medicine: "nicotine gum");
 - measures: an alcohol strength ("13,5 % vol"), a bottle's measure beside a word that
   names a drink only there ("Rosé de Provence 75 cl"), a nicotine dose or a puff count
-  beside a vape word ("pods menthe 20 mg", "600 bouffées");
+  beside a vape word ("pods menthe 20 mg", "600 bouffées"); a cartridge or a shell beside a
+  calibre or a hunting word ("cartuchos de caza calibre 12");
+- pairs of words that name the adult flag only together, a qualifier beside an object
+  ("lubricante anal", "anello vibrante");
 
 and the words that make a named good something else undo it: a descriptor near it (a scent,
 a flavour carrier, a colour, a shape, a print: "whisky-scented candle", "tobacco brown",
 "sans alcool"; at the title's start, at any distance: "Bougie parfumée ... whisky"), a
 child's or toy word ("épée en mousse pour enfants"), an accessory near it or at the title's
-start or end ("whisky stones", "cigar cutter", "pill box"), unless the accessory comes with
-the good ("coffret whisky et deux verres") or the good with it ("humidor with cigars"), a
+start or end ("whisky stones", "cigar cutter", "pill box", "copos de vinho do Porto"; a
+drink's barrel undoes drinks only, and "filter" right before a smoke's name says its kind),
+unless the accessory comes with the good ("coffret whisky et deux verres") or the good with
+it ("humidor with cigars"), a flavour word just before the good ("al gusto di limoncello"), a
 kitchen, garden or tool word for a blade or a gun ("chef knife", "couteau à pain",
 "pistolet à colle"), a kitchen flavouring for a drink ("Rum-Aroma"), or an object at the head
 of the title ("tobacco leaf wallpaper"). A keyword that is also a colour name ("cognac",
