@@ -32,7 +32,7 @@ ALCOHOL = (
     "espumante", "champanhe", "moscatel",
     "prosecco", "franciacorta", "lambrusco", "sangria", "vermouth", "vermut", "wermut",
     "vermute", "sherry", "jerez", "oloroso", "amontillado", "madeira wine", "marsala wine",
-    "porto tawny", "tawny port", "ruby port", "ginja", "ginjinha", "moscato", "retsina",
+    "porto tawny", "tawny port", "ruby port", "ginjinha", "ginja de obidos", "moscato", "retsina",
     "tokaji", "sauternes", "riesling", "merlot", "cabernet", "cabernet sauvignon",
     "sauvignon blanc", "chardonnay", "pinot noir", "pinot grigio", "pinot gris", "pinot blanc",
     "syrah", "shiraz", "malbec", "tempranillo", "garnacha", "grenache", "sangiovese",
@@ -50,7 +50,8 @@ ALCOHOL = (
     "vinho de mesa", "india pale ale", "ipa", "lager",
     "pilsner", "pilsener", "pils", "stout beer", "imperial stout", "oatmeal stout",
     "milk stout", "porter beer", "wheat beer", "lambic", "gueuze", "geuze", "kriek",
-    "tripel", "dubbel", "quadrupel", "bock", "doppelbock", "kolsch", "radler", "shandy",
+    "trappist", "trappistenbier", "abdijbier", "abbey beer", "biere d abbaye", "bock",
+    "doppelbock", "kolsch", "radler", "shandy",
     "biere", "bieres", "biere blonde", "biere brune", "biere ambree",
     "bier", "weissbier", "hefeweizen", "weizenbier", "altbier", "starkbier", "bockbier",
     "cerveza", "cervezas", "birra", "birre", "bier", "cerveja", "cervejas",
@@ -68,7 +69,8 @@ ALCOHOL = (
     "absinth", "assenzio", "absinto", "sambuca", "limoncello", "amaretto", "liqueur",
     "liqueurs", "likor", "likore", "licor", "liquore", "liquori", "likeur", "licor de",
     "advocaat", "eierlikor", "eggnog liqueur", "triple sec", "pacharan", "ratafia", "amaro",
-    "amari", "anisette", "anis", "aquavit", "akvavit", "pisco", "soju", "sake", "shochu",
+    "amari", "anisette", "anis del", "anis seco", "anis dulce", "aquavit", "akvavit", "pisco",
+    "soju", "sake", "shochu",
     "baijiu", "weinbrand", "tresterbrand", "marc de bourgogne", "poire williams",
     "grappa", "digestif", "kruidenbitter", "beerenburg", "bitter liqueur", "cream liqueur",
     "chocolate liqueur", "coffee liqueur", "herbal liqueur", "liqueur au chocolat",
@@ -119,6 +121,12 @@ TOBACCO = (
     "nikotin shot", "nikotinshot", "nikotinhaltig", "nikotinhaltiges", "nikotinhaltige",
     "nicotine booster", "booster de nicotine", "purito", "puritos",
     "cigarrilha", "cigarrilhas", "tabac a chiquer", "chique", "bidi",
+    # cuts of rolling and pipe tobacco, which name the tobacco on their own
+    "fine cut", "fine cut tobacco", "ready rubbed", "feinschnitt", "feinschnitttabak",
+    "volumentabak", "stopftabak", "halfzware", "halfzware shag", "zware shag", "kerftabak",
+    "tabac coupe fine", "tabac fine coupe", "picadura fina", "tabaco picado",
+    "tabaco de corte fino", "trinciato fine", "trinciato per sigarette", "tabacco trinciato fine",
+    "tabaco de corte", "tabaco para enrolar", "tabaco de enrolar fino", "navy cut", "flake tobacco",
     "bidis", "kretek",
 )
 
@@ -178,7 +186,8 @@ WEAPONS = (
     "sarbacane", "blasrohr", "cerbatana", "cerbottana", "blaaspijp", "zarabatana",
     "harpoon gun", "fusil harpon", "fusil de chasse sous marine", "harpune", "arpon",
     "fucile subacqueo", "harpoen", "arpao", "ammunition", "ammo", "munitions", "munition",
-    "municion", "munizioni", "munitie", "municao", "diabolos", "balines", "piombini",
+    "municion", "munizioni", "munitie", "municao", "municoes", "munizione", "munities",
+    "diabolos", "balines", "piombini",
     "chumbinhos", "airgun pellets", "air rifle pellets",
     "kunai", "tonfa", "kubotan", "wurfstern",
     "fusil", "fusil de chasse", "shotgun", "rifle", "hunting rifle", "escopeta",
@@ -248,11 +257,15 @@ ADULT = (
 MEDICINE = (
     "medicine", "medicines", "medication", "painkiller", "painkillers", "pain relief tablets",
     "analgesic", "antipyretic", "antihistamine", "antihistamines", "antacid", "laxative",
-    "decongestant", "expectorant", "cough syrup", "cough medicine", "antibiotic",
+    "decongestant", "decongestants", "nasal decongestant", "expectorant", "cough syrup",
+    "cough medicine", "antibiotic",
     "antibiotics", "antifungal cream", "nicotine patch", "nicotine patches", "nicotine gum",
     "nicotine lozenges", "nicotine spray", "morning after pill", "contraceptive pill",
     "medicament", "medicaments", "antalgique", "analgesique", "antipyretique", "antiacide",
-    "laxatif", "decongestionnant", "expectorant", "sirop contre la toux", "antibiotique",
+    "laxatif", "decongestionnant", "decongestionante", "decongestionanti", "abschwellend",
+    "abschwellendes", "abschwellende", "decongestivum", "neusdecongestivum", "decongestief",
+    "descongestivo", "descongestionante nasal", "expectorant", "sirop contre la toux",
+    "antibiotique",
     "patch nicotine", "patchs nicotine", "gomme a la nicotine", "pilule du lendemain",
     "arzneimittel", "medikament", "medikamente", "schmerzmittel", "schmerztabletten",
     "kopfschmerztabletten", "hustensaft", "hustensirup", "hustenloser", "antibiotikum",
@@ -282,7 +295,8 @@ MEDICINE = (
     "loperamida", "bisacodyl", "macrogol", "lactulose", "simeticone", "simethicone",
     "dextromethorphan", "guaifenesin", "ambroxol", "bromhexine", "bromhexin",
     "acetylcysteine", "acetylcystein", "acetilcisteina", "carbocisteine", "pseudoephedrine",
-    "phenylephrine", "xylometazoline", "xylometazolin", "oxymetazoline", "hydrocortisone",
+    "phenylephrine", "naphazoline", "nafazolina", "naphazolin", "tetryzoline", "tetrizolina",
+    "xylometazoline", "xylometazolin", "oxymetazoline", "hydrocortisone",
     "hydrocortison", "hidrocortisona", "idrocortisone", "clotrimazole", "clotrimazol",
     "miconazole", "terbinafine", "terbinafin", "aciclovir", "acyclovir", "benzocaine",
     "lidocaine", "lidocain", "lidocaina", "mebendazole", "permethrin", "minoxidil",
@@ -306,8 +320,8 @@ PLAIN = (
     "medicamento medicamentos medicinale medicinali farmaco farmaci geneesmiddel medicijn "
     "medicijnen arzneimittel medikament sword espada spada epee schwert zwaard sabre saber sabel "
     "sable catapult katapult slingshot fionda machete machette shag trinciato besta gode amaro "
-    "amari lager ipa bock kriek poire perry mead mede anis digestif coquin coquine porn "
-    "liquor sherry jerez tripel dubbel champagne champan champanhe bourbon cognac picadura "
+    "amari lager ipa bock kriek poire perry mead mede digestif coquin coquine porn "
+    "liquor sherry jerez champagne champan champanhe bourbon cognac picadura "
     "stiletto tomahawk taser crianza premix fetish rioja chianti chablis porto cassetete "
     "dague daga dolk dolch bayonet katana"
 ).split()
@@ -333,7 +347,12 @@ HARMLESS = (
     "alcohol swabs", "alcool menager", "alcool a bruler", "alcool isopropylique",
     "brennspiritus", "isopropylalkohol", "alcohol isopropilico", "alcohol de quemar",
     "alcool denaturato", "alcool isopropilico", "ontsmettingsalcohol", "isopropylalcohol",
-    "alcool etilico 70", "alcohol 70", "alcool 70", "alkohol 70",
+    "alcool etilico 70", "alcohol 70", "alcool 70", "alkohol 70", "alcohol 96", "alcool 90",
+    "alcool 95", "alcohol etilico 96", "alcool etilico 96",
+    # alcohols for the skin: camphor, rosemary ("alcohol de romero para masajes")
+    "camphorated alcohol", "rosemary alcohol", "alcool camphre", "alcool de romarin",
+    "kampferspiritus", "alcohol alcanforado", "alcohol de romero", "alcool canforato",
+    "alcool al rosmarino", "kamferspiritus", "alcool canforado", "alcool de alecrim",
     "knife sharpener", "knife block", "knife rack", "knife holder", "knife roll",
     "magnetic knife strip", "knife strip", "knife case", "knife bag",
     "butter knife", "palette knife", "cake knife", "putty knife", "utility knife",
@@ -474,6 +493,20 @@ DESCRIPTORS = (
     "parfum", "parfum d ambiance", "diffuseur", "diffusor", "difusor", "diffusore",
     "pudding", "pudim", "budino", "flan", "tiramisu", "dessert", "postre", "nachtisch",
     "toetje", "te negro", "te verde", "te rojo", "te blanco", "te nero", "cha preto",
+    # for the skin, not to drink ("alcohol de romero para masajes")
+    "massage", "massages", "masaje", "masajes", "massaggio", "massaggi", "massagem",
+    "massagens", "massageol", "massageolie", "external use", "usage externe",
+    "uso externo", "uso esterno", "uitwendig gebruik", "ausseren anwendung", "friction",
+    "friccion", "frizione", "liniment", "linimento", "einreibung",
+    # infusions, compotes and cakes named after a drink or a fruit of the same name
+    "infusion", "infusions", "herbal tea", "tisane", "tisanes", "krautertee",
+    "infuso", "infusi", "tisana", "kruidenthee", "infusao", "cha de ervas",
+    "tea bags", "teebeutel", "bolsitas", "theezakjes", "digestive tea",
+    "compote", "compotes", "kompott", "compota", "compotas", "composta", "coulis",
+    "panettone", "pandoro", "colomba", "stollen", "christstollen", "kerststol", "bolo",
+    "bolo rei", "bizcocho", "roscon", "brioche", "muffin", "muffins", "cupcake", "cupcakes",
+    "brownie", "brownies", "cantucci", "amaretti", "biscotto", "nougat", "turron", "torrone",
+    "buche", "tronchetto", "savarin", "glassato", "glace au", "glaseado", "glasiert",
     "forma de", "con forma de", "salsa", "sosse", "shampooing", "champu", "champo", "empty",
     "vide", "leer", "vacio", "vacia", "vuoto", "vuota", "leeg", "vazio", "vazia",
 )
@@ -516,7 +549,10 @@ ACCESSORIES = (
     "machine", "machines", "maquina", "maquinas", "macchina", "macchinetta", "maschine",
     "machine a rouler", "maquina de liar", "carry case", "carrying case", "housse", "hoesje",
     "block", "bloc", "ceppo", "blok", "corta papel", "sharpening", "sharpening stone",
-    "whetstone", "aiguiser", "pierre a aiguiser", "schleifstein", "afilar", "piedra de afilar",
+    "whetstone", "aiguiser", "amolador", "amoladores", "affuteur", "affuteuse",
+    "fusil a aiguiser", "wetzstahl", "messerschleifer", "chaira", "acciaino", "aanzetstaal",
+    "sharpening steel", "honing steel", "honing rod", "afiadora", "amoladora",
+    "pierre a aiguiser", "schleifstein", "afilar", "piedra de afilar",
     "affilare", "pietra per affilare", "wetsteen", "slijpsteen", "afiar", "pedra de afiar",
     "aufbewahrung",
     "almacenamiento", "contenitore", "opslag",
@@ -704,7 +740,7 @@ COMPOUND_HEADS: dict[str, tuple[str, tuple[str, ...], tuple[str, ...]]] = {
     # head: (flag, first parts that undo it, first parts required (empty: any))
     "bier": ("alcohol", ("malz", "ingwer", "gember", "kinder", "root"), ()),
     "biere": ("alcohol", ("malz", "ingwer", "gember"), ()),
-    "wein": ("alcohol", ("kinder", "trauben"), ()),
+    "wein": ("alcohol", ("kinder", "trauben", "franzbrannt"), ()),
     "wijn": ("alcohol", ("kinder",), ()),
     "likor": ("alcohol", (), ()),
     "likeur": ("alcohol", (), ()),
@@ -751,6 +787,14 @@ COMPOUND_HEADS: dict[str, tuple[str, tuple[str, ...], tuple[str, ...]]] = {
                             "overlevings", "vouw", "buiten", "dolk")),
     "armbrust": ("weapons", ("spielzeug", "kinder"), ()),
     "kruisboog": ("weapons", ("speelgoed", "kinder"), ()),
+    # ammunition by its kind ("Jagdpatronen", "Schrotpatronen", "hagelpatronen"); a printer's
+    # or a gun's cartridge otherwise ("Druckerpatronen", "Kartuschen")
+    "patronen": ("weapons", (), ("jagd", "schrot", "hagel", "flinten", "buchsen", "buchs",
+                                 "kleinkaliber", "gewehr", "pistolen", "revolver", "jacht",
+                                 "geweer", "pistool", "kogel", "hagl", "trap", "skeet")),
+    "patrone": ("weapons", (), ("jagd", "schrot", "flinten", "buchsen", "kleinkaliber")),
+    "munition": ("weapons", (), ()),
+    "munitie": ("weapons", (), ()),
     "gewehr": ("weapons", ("wasser", "spielzeug", "kinder", "schaumstoff", "seifenblasen",
                            "konfetti", "spritz"), ()),
     "pistole": ("weapons", ("wasser", "spielzeug", "kinder", "heissklebe", "klebe",
@@ -872,6 +916,11 @@ INN_ENDINGS = (
     "mycine", "micina", "micin", "floxacin", "floxacine", "floxacino", "conazole",
     "conazol", "conazolo", "tidine", "tidina", "olol", "lukast", "oxetine", "oxetina",
     "setron", "dronate", "gliptin",
+    # decongestants (-azoline), calcium blockers, benzodiazepines, local anaesthetics,
+    # tetracyclines, corticoids, bronchodilators, diuretics
+    "azoline", "azolin", "azolina", "dipine", "dipin", "dipina", "dipino", "zepam", "zolam",
+    "caine", "cain", "caina", "cycline", "cyclin", "ciclina", "asone", "ason", "asona",
+    "terol", "semide", "semid", "semida",
 )
 # Word beginnings of a medicine class ("antihistaminique", "Antihistaminikum",
 # "antistaminico") and of the adult flag ("érotique", "Erotik", "erotisch").
@@ -892,7 +941,11 @@ STEM_PREFIXES: dict[str, str] = {
 WEAK_ALCOHOL = (
     "rose", "rosado", "rosato", "port", "stout", "porter", "aperitivo", "aperitif", "bitter",
     "tinto", "rosso", "bianco", "blanco", "branco", "brut", "reserva", "riserva",
-    "gran reserva", "doc", "docg", "aoc", "aop", "igt", "igp", "magnum", "malt", "bordeaux",
+    "gran reserva", "doc", "docg",
+    # a fruit, a spice or a number in one language, a drink in another ("ginja" a sour
+    # cherry, "anis" a spice, Dutch "dubbel" double)
+    "ginja", "anis", "dubbel", "tripel", "quadrupel", "aoc", "aop", "igt", "igp", "magnum",
+    "malt", "bordeaux",
     "bourgogne", "marsala", "madeira", "demi sec", "trocken", "halbtrocken", "lieblich",
     "seco", "secco", "frizzante", "barrique", "vintage", "cuvee", "tawny", "ruby",
     "years old", "year old", "ans d age", "jahre", "anos", "anni", "jaar", "grand cru",
@@ -975,3 +1028,48 @@ COMPOUND_CUE_HEADS: dict[str, str] = {
     "schneider": "accessory", "knipper": "accessory", "zieher": "accessory",
     "trekker": "accessory", "untersetzer": "accessory", "onderzetter": "accessory",
 }
+
+# Accessories that are a drink's container and, for another good, a part of it ("wine
+# barrel" is a barrel; a "break-barrel air rifle" is a rifle): they undo drinks only.
+DRINK_ACCESSORIES = (
+    "barrel", "barrels", "tonneau", "tonneaux", "barril", "barriles", "barrica", "barricas",
+    "barile", "botte", "fust", "barrel planter",
+)
+# Accessories that, directly before a smoke's name, say which kind it is ("filter
+# cigarettes"); with a word between they are the accessory ("filtres à cigarettes").
+PART_MODIFIERS = frozenset({"filter", "filtre", "filtro"})
+
+# Ammunition: words that name it only beside a calibre or a hunting or shooting word
+# ("Cartuchos de caza calibre 12", "cartucce calibro 12 per caccia"); elsewhere a printer
+# cartridge, a vape cartridge, a shell or a ball.
+WEAK_AMMUNITION = (
+    "cartridge", "cartridges", "cartouche", "cartouches", "patrone", "patronen", "cartucho",
+    "cartuchos", "cartuccia", "cartucce", "patroon", "shell", "shells", "shotshells",
+    "bullet", "bullets", "balles", "kugeln", "balas", "proiettili", "kogels", "projectiles",
+    "projectielen", "projeteis", "plombs", "pellets",
+)
+HUNTING = (
+    "hunting", "hunt", "shooting", "chasse", "tir", "jagd", "schiessen", "schiesssport",
+    "sportschiessen", "caza", "tiro", "caccia", "jacht", "schietsport", "caca", "skeet",
+    "clay shooting", "ball trap",
+)
+# A calibre ("calibre 12", "Kaliber .22" folded "kaliber 22") or a gauge ("12 gauge").
+CALIBRE_WORDS = ("calibre", "caliber", "calibro", "kaliber", "kal")
+
+# The adult flag from two words that say it only together: a qualifier (anal, intimate,
+# vibrating) near an object (a lubricant, a ring, an egg, beads, a toy): "Lubricante anal",
+# "anello vibrante", "perles anales".
+ADULT_QUALIFIERS = (
+    "anal", "anale", "anales", "anali", "anaal", "anais", "intimate", "intime", "intimes",
+    "intim", "intimo", "intima", "intimi", "intimos", "intimas", "intiem", "intieme",
+    "vibrating", "vibrant", "vibrante", "vibrantes", "vibranti", "vibrierend", "vibrierender",
+    "vibrierendes", "vibrierende", "vibrerend", "vibrerende", "vibratorio", "vibratoria",
+)
+ADULT_OBJECTS = frozenset(
+    "lubricant lubricants lube lubrifiant lubrifiants gleitmittel gleitgel lubricante "
+    "lubricantes lubrificante lubrificanti lubrificantes glijmiddel glijmiddelen ring rings "
+    "anneau anneaux anillo anillos anello anelli anel aneis egg eggs oeuf oeufs ei eier huevo "
+    "huevos uovo ovetto ovo ovos eitje bullet beads perles kugeln bolas palline perline "
+    "kralen toy toys jouet jouets spielzeug juguete juguetes giocattolo giocattoli speeltje "
+    "speeltjes brinquedo brinquedos plug plugs dilatador dilatatore".split()
+)

@@ -17,14 +17,19 @@ Spanish, Italian, Dutch, Portuguese) for what the product *is*:
   a nicotine word with a replacement form (a medicine: "nicotine gum");
 - measures: an alcohol strength ("13,5 % vol"), a bottle's measure beside a word that
   names a drink only there ("Rosé de Provence 75 cl"), a nicotine dose or a puff count
-  beside a vape word ("pods menthe 20 mg", "600 bouffées");
+  beside a vape word ("pods menthe 20 mg", "600 bouffées"); a cartridge or a shell beside a
+  calibre or a hunting word ("cartuchos de caza calibre 12");
+- pairs of words that name the adult flag only together, a qualifier beside an object
+  ("lubricante anal", "anello vibrante");
 
 and the words that make a named good something else undo it: a descriptor near it (a scent,
 a flavour carrier, a colour, a shape, a print: "whisky-scented candle", "tobacco brown",
 "sans alcool"; at the title's start, at any distance: "Bougie parfumée ... whisky"), a
 child's or toy word ("épée en mousse pour enfants"), an accessory near it or at the title's
-start or end ("whisky stones", "cigar cutter", "pill box"), unless the accessory comes with
-the good ("coffret whisky et deux verres") or the good with it ("humidor with cigars"), a
+start or end ("whisky stones", "cigar cutter", "pill box", "copos de vinho do Porto"; a
+drink's barrel undoes drinks only, and "filter" right before a smoke's name says its kind),
+unless the accessory comes with the good ("coffret whisky et deux verres") or the good with
+it ("humidor with cigars"), a flavour word just before the good ("al gusto di limoncello"), a
 kitchen, garden or tool word for a blade or a gun ("chef knife", "couteau à pain",
 "pistolet à colle"), a kitchen flavouring for a drink ("Rum-Aroma"), or an object at the head
 of the title ("tobacco leaf wallpaper"). A keyword that is also a colour name ("cognac",
@@ -91,16 +96,21 @@ _FLAVOURING = "fl"
 _WEAK = "w"
 _WEAK_TOBACCO = "wt"
 _PUFF = "p"
+_DRINK_ACCESSORY = "+d"
+_WEAK_AMMO = "wa"
+_HUNT = "h"
+_ADULT_QUALIFIER = "aq"
 _PUFF_WORDS = ("puffs", "bouffees", "zuge", "caladas", "tiri", "trekjes", "tragadas",
                "baforadas", "hits")
 _CUES = frozenset(
     {_DESCRIPTOR, _ACCESSORY, _KITCHEN, _CONDITION, _FORM, _NICOTINE_FORM, _CHILD, _WEAK,
-     _WEAK_TOBACCO, _PUFF, _DRINK, _FLAVOURING}
+     _WEAK_TOBACCO, _PUFF, _DRINK, _FLAVOURING, _DRINK_ACCESSORY, _WEAK_AMMO, _HUNT,
+     _ADULT_QUALIFIER}
 )
 _CUES_OR_HARMLESS = _CUES | {""}
 # Payloads that on their own never make a flag (no drink, weak word, dose or condition).
 _INERT = frozenset({_DESCRIPTOR, _ACCESSORY, _KITCHEN, _FORM, _NICOTINE_FORM, _CHILD, _DRINK,
-                    _FLAVOURING, ""})
+                    _FLAVOURING, _DRINK_ACCESSORY, _HUNT, ""})
 _INERT_OR_WEAK = _INERT | {_WEAK}
 
 # How many words away a cue may stand ("gin and tonic candle", "caramelle al gusto di rum":
@@ -125,6 +135,16 @@ _COLOUR_NAMES = frozenset(
 )
 _NICOTINE_REPLACEMENT = tuple(fold(word) for word in words.NICOTINE_REPLACEMENT)
 _NICOTINE_WORDS = frozenset({"nicotine", "nicotina", "nikotin", "nicotine salt"})
+_AMMUNITION = frozenset(fold(word) for word in words.WEAK_AMMUNITION)
+_CALIBRE = re.compile(
+    rf"\b(?:{'|'.join(words.CALIBRE_WORDS)}) \d{{1,3}}(?:d\d{{1,3}})?\b"
+    r"|\b(?:10|12|16|20|28|410) ?(?:gauge|ga)\b"
+)
+# Small words between a flavour word and what it names ("al gusto di limoncello",
+# "saveur au rhum", "sabor a anís").
+_FLAVOUR_LINKS = frozenset(
+    "a al alla allo ai au aux d de del della di do da du van met mit com con".split()
+)
 
 
 def _plurals(word: str) -> tuple[str, ...]:
@@ -189,6 +209,9 @@ def _phrases() -> dict[str, object]:
             folded = fold(word)
             for form in (*_plurals(folded), *_elided(folded)):
                 phrases.setdefault(form, restriction)
+    for phrase in words.DRINK_ACCESSORIES:
+        for form in _elided(fold(phrase)):
+            phrases[form] = _DRINK_ACCESSORY
     for phrase in words.WEAK_ALCOHOL:
         for form in _elided(fold(phrase)):
             phrases.setdefault(form, _WEAK)
@@ -196,13 +219,24 @@ def _phrases() -> dict[str, object]:
         phrases.setdefault(phrase, _PUFF)
     for phrase in words.WEAK_TOBACCO:
         phrases.setdefault(fold(phrase), _WEAK_TOBACCO)
+    for phrase in words.WEAK_AMMUNITION:
+        phrases.setdefault(fold(phrase), _WEAK_AMMO)
+    for phrase in words.HUNTING:
+        phrases.setdefault(fold(phrase), _HUNT)
+    for phrase in words.ADULT_QUALIFIERS:
+        phrases.setdefault(fold(phrase), _ADULT_QUALIFIER)
     keyword_words = {word for form, payload in phrases.items() if payload in RESTRICTIONS
                      for word in form.split(" ")}
+    accessory_words = {fold(word) for word in words.ACCESSORIES if " " not in fold(word)}
     for phrase in words.HARMLESS:
         folded = fold(phrase)
         # A phrase without a keyword in it cannot hide one: it is the accessory or tool a
-        # good is named beside ("portabottiglie vino", "aiguiseur couteau").
-        payload = "" if keyword_words & set(folded.split(" ")) else _ACCESSORY
+        # good is named beside ("portabottiglie vino", "aiguiseur couteau"); so is one that
+        # names an accessory ("copos de vinho do Porto": the glasses are the product).
+        in_phrase = set(folded.split(" "))
+        payload = "" if keyword_words & in_phrase and not accessory_words & in_phrase else (
+            _ACCESSORY
+        )
         for form in _elided(folded):
             phrases[form] = payload
     return phrases
@@ -240,6 +274,7 @@ def _build_automaton() -> ahocorasick.Automaton:
 
 
 _AUTOMATON = _build_automaton()
+_HARMLESS_KEYS = frozenset(form for phrase in words.HARMLESS for form in _elided(fold(phrase)))
 _OBJECTS = PhraseIndex((word, "") for word in words.OBJECT_WORDS)
 _Match = tuple[int, int, str, object]
 _PartHit = tuple[int, tuple[str, tuple[tuple[str, ...], ...]]]
@@ -349,6 +384,21 @@ def _position(folded: str, start: int, end: int) -> tuple[int, int]:
     return folded.count(" ", 0, start), folded.count(" ", 0, end)
 
 
+def _flavour_before(tokens: list[str], first: int) -> bool:
+    """Whether a flavour word stands just before token ``first``, at most two small words
+    between ("al gusto di limoncello", "saveur rhum"): the good is the product's flavour."""
+    index = first - 1
+    for _ in range(3):
+        if index < 0:
+            return False
+        if tokens[index] in words.FLAVOUR_WORDS:
+            return True
+        if tokens[index] not in _FLAVOUR_LINKS:
+            return False
+        index -= 1
+    return False
+
+
 def _after_connector(tokens: list[str], first: int, *, measured: bool = True) -> bool:
     """Whether the words before token ``first`` join it to the rest as an addition
     ("with two glasses", "et deux verres") or, with ``measured``, measure it
@@ -397,12 +447,19 @@ def restriction_hits(folded: str) -> list[tuple[str, str, bool]]:
     # a nicotine dose or a puff count beside "pods", "liquid"...; a puff count alone
     puffs = _PUFFS.search(folded) if _PUFF in kinds else None
     dose = bool(puffs) or (_WEAK_TOBACCO in kinds and bool(_NICOTINE_DOSE.search(folded)))
+    # a cartridge or a shell beside a calibre or a hunting word; a qualifier of the adult flag
+    calibres = (
+        list(_CALIBRE.finditer(folded))
+        if ("cal" in folded or "kal" in folded or "ga" in folded) else []
+    )
+    ammo = (_WEAK_AMMO in kinds or _WEAK_TOBACCO in kinds) and (_HUNT in kinds or bool(calibres))
+    pair = _ADULT_QUALIFIER in kinds
     if found_parts:
-        covered = [(m[0], m[1]) for m in matches if m[3] not in _CUES]
+        covered = [(m[0], m[1]) for m in matches if m[3] not in _CUES or m[2] in _HARMLESS_KEYS]
         parts = _word_parts(folded, found_parts, covered, matches)
     else:
         parts = []
-    if not named and not parts and not strength and not bottle and not dose:
+    if not (named or parts or strength or bottle or dose or ammo or pair):
         # the common case: nothing restricted named, only colours, objects...
         return _conditions(folded, matches) if _CONDITION in kinds else []
     kept: list[_Match] = []
@@ -415,6 +472,7 @@ def restriction_hits(folded: str) -> list[tuple[str, str, bool]]:
     tokens = folded.split(" ")
     cues: dict[object, list[tuple[int, int]]] = {}
     goods: list[tuple[int, int, str, str, bool]] = []
+    ammunition: list[tuple[int, int, str]] = []
     for start, end, key, payload in kept:
         first, last = _position(folded, start, end)
         if payload == _DESCRIPTOR and first > 0 and tokens[first - 1] in words.FLAVOUR_WORDS:
@@ -422,9 +480,11 @@ def restriction_hits(folded: str) -> list[tuple[str, str, bool]]:
         if payload == _WEAK:
             if bottle:
                 goods.append((first, last, key, "alcohol", False))
-        elif payload == _WEAK_TOBACCO:
-            if dose:
-                goods.append((first, last, key, "tobacco", False))
+        elif payload == _WEAK_TOBACCO and dose:
+            goods.append((first, last, key, "tobacco", False))
+        elif payload in (_WEAK_AMMO, _WEAK_TOBACCO):
+            if ammo and key in _AMMUNITION:
+                ammunition.append((first, last, key))
         elif payload in _CUES:
             cues.setdefault(payload, []).append((first, last))
         elif payload:
@@ -447,6 +507,20 @@ def restriction_hits(folded: str) -> list[tuple[str, str, bool]]:
             if first - window <= c_last and c_first <= last + window
         ]
 
+    for measure in calibres:
+        cues.setdefault(_HUNT, []).append(_position(folded, *measure.span()))
+    for first, last, key in ammunition:
+        if near(_HUNT, first, last):  # "cartuchos de caza", "cartucce calibro 12"
+            goods.append((first, last, key, "weapons", True))
+    for first, last in cues.get(_ADULT_QUALIFIER, ()) if pair else ():
+        # "lubricante anal", "anello vibrante": a qualifier beside an object of the flag
+        if any(
+            tokens[i] in words.ADULT_OBJECTS
+            for i in range(max(0, first - 2), min(len(tokens), last + 3))
+            if not first <= i <= last
+        ):
+            goods.append((first, last, tokens[first], "adult", True))
+
     # the title's last word before its measures: the head of an English or German title
     head_end = len(tokens) - 1
     while head_end > 0 and (_DIGIT.search(tokens[head_end]) or tokens[head_end] in words.UNITS):
@@ -464,6 +538,8 @@ def restriction_hits(folded: str) -> list[tuple[str, str, bool]]:
             continue
         if flag != "medicine" and near(_CHILD, first, last):
             continue
+        if flag in ("alcohol", "tobacco") and key not in _VAPE and _flavour_before(tokens, first):
+            continue  # "panettone al gusto limoncello", "saveur tabac"
         if flag == "alcohol" and (
             near(_FLAVOURING, first, last, 2)
             or last + 1 < len(tokens) and tokens[last + 1] in ("0", "zero")  # "Gin 0%"
@@ -471,9 +547,14 @@ def restriction_hits(folded: str) -> list[tuple[str, str, bool]]:
             continue
         if flag in _ACCESSORY_NEGATABLE:
             inside = _after_connector(tokens, first, measured=False)
+            accessories = cues.get(_ACCESSORY, [])
+            if flag == "alcohol":
+                accessories = accessories + cues.get(_DRINK_ACCESSORY, [])
             if any(
                 not _after_connector(tokens, a_first) and not (inside and a_last < first)
-                for a_first, a_last in cues.get(_ACCESSORY, ())
+                # "filter cigarettes": a part that says which kind of the good
+                and not (a_first == a_last == first - 1 and tokens[a_first] in words.PART_MODIFIERS)
+                for a_first, a_last in accessories
                 if a_first == 0 or a_last == head_end
                 or first - _WINDOW <= a_last and a_first <= last + _WINDOW
             ):
