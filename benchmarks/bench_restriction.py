@@ -30,7 +30,27 @@ phrasing, each covered in the seven languages (ammunition by calibre or hunting 
 qualifier and object pairs of the adult flag, a flavour word before a drink, accessories
 that undo drinks only, weak words that are a fruit or a number elsewhere...). All six sets
 have therefore been seen while tuning: their figures measure coverage, not generalisation;
-only a set written later, blind, measures that. Pass such a file with ``--data``
+only a set written later, blind, measures that. ``tests/data/heldout_restriction_fresh6.csv``
+(240 rows) is one: written blind by someone else after round 2 and scored once (its name
+keeps it out of the default sets and of the tests' guard). Text only, no node:
+
+    ========  ====================  ====================
+    flag      before round 1 (P/R)  after round 2 (P/R)
+    ========  ====================  ====================
+    alcohol   0.560 / 0.700         0.909 / 1.000
+    tobacco   0.850 / 0.850         0.947 / 0.900
+    weapons   0.750 / 0.600         0.895 / 0.850
+    adult     1.000 / 0.700         1.000 / 1.000
+    medicine  0.857 / 0.300         1.000 / 0.850
+    traps     18 of 85 flagged      4 of 85 flagged
+    ========  ====================  ====================
+
+Below the targets (recall 0.98, precision 0.95) on four flags; the misses are nicotine forms
+(pods, pouches, lozenges, a mouth spray), pellets, a stun device, broadheads, a homeopathic
+remedy; the false flags a caulking gun, a silicone gun, a nail-polish colour, a brewing kit.
+In the pipeline the node adds its own restriction and silences general words in tool,
+kitchen, toy and clothing nodes, which this table does not see. Fixing those rows would spend
+this set too. Pass such a file with ``--data``
 (repeatable; ``--data default`` adds the six above); ``--errors`` prints the wrong rows, so
 do not use it on a held-out set.
 
