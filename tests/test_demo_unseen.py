@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import csv
+import json
 import re
 from pathlib import Path
 
@@ -10,9 +11,11 @@ import pytest
 
 from catmap.demo._blocklist import is_blocked
 from catmap.demo._products import audience_said
+from catmap.demo._stamp import generated_dir
 from catmap.demo._unseen_vocab import ITALIAN_AUDIENCE
 from catmap.demo.unseen import (
     PARTS,
+    STAMP,
     UNSEEN_RETAILERS,
     _synonym_table,
     _tree_words,
@@ -24,7 +27,7 @@ from catmap.feeds import open_feed
 from catmap.feeds.fieldmap import suggest_profile
 from catmap.feeds.ingest import Accounting, iter_products
 from catmap.records import Product
-from catmap.tree.taxonomy import CategoryTree, load_default_tree
+from catmap.tree.taxonomy import CategoryTree, load_default_tree, load_tree
 
 SIZE = 80  # products per retailer: enough to meet every style, small enough for seconds
 REPO = Path(__file__).resolve().parent.parent
@@ -68,6 +71,34 @@ def test_ensure_builds_only_when_missing(world: Path) -> None:
     before = {f: f.stat().st_mtime_ns for f in paths.all_files()}
     ensure_unseen_world(world, size=SIZE)
     assert {f: f.stat().st_mtime_ns for f in paths.all_files()} == before
+
+
+def test_ensure_rebuilds_what_other_inputs_built(tmp_path: Path, tree: CategoryTree) -> None:
+    """Files built from another size (or seed, tree, generator) are not reused: their record
+    of what they were built from differs; a damaged record counts as absent."""
+    small = build_unseen_world(tmp_path, size=SIZE // 2, tree=tree)
+    half = small.labelled["test"].read_bytes()
+    again = ensure_unseen_world(tmp_path, size=SIZE, tree=tree)
+    assert again.labelled["test"].read_bytes() != half
+    assert len(_rows(again.labelled["test"])) > len(half.splitlines()) - 1
+    stamp = again.root / STAMP
+    stamp.write_text("{ not json", encoding="utf-8")
+    before = again.labelled["test"].stat().st_mtime_ns
+    rebuilt = ensure_unseen_world(tmp_path, size=SIZE, tree=tree)
+    assert rebuilt.labelled["test"].stat().st_mtime_ns != before
+    assert json.loads(stamp.read_text(encoding="utf-8"))["size"] == SIZE
+
+
+def test_another_tree_in_the_repository_demo_folder_gets_a_folder_of_its_own() -> None:
+    """A test's or project's tree never overwrites the demo's generated files."""
+    own = load_default_tree(1)
+    small = load_tree(REPO / "tests" / "data" / "trees" / "small_world.txt")
+    demo = REPO / "feeds_demo"
+    assert generated_dir(demo, own) == demo / "generated"
+    other = generated_dir(demo, small)
+    assert other.parent == demo / "generated" and other.name.startswith("tree-")
+    # Elsewhere (a test's own demo folder) the layout stays as it is.
+    assert generated_dir(Path("/somewhere"), small) == Path("/somewhere/generated")
 
 
 def test_parts_are_disjoint_in_retailers_and_products(world: Path) -> None:

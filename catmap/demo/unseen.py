@@ -42,6 +42,7 @@ from catmap.demo._blocklist import is_blocked
 from catmap.demo._names import Brand, _gender_tokens, _misspell, _syllable_name
 from catmap.demo._products import LeafInfo, _fits_audience, format_price, leaf_infos
 from catmap.demo._retailers import ALL_RETAILERS
+from catmap.demo._stamp import build_facts, generated_dir, stamp_matches, write_stamp
 
 if TYPE_CHECKING:
     from catmap.tree.taxonomy import CategoryTree
@@ -209,9 +210,20 @@ class UnseenPaths:
         return [*self.labelled.values(), *self.feeds.values()]
 
 
-def unseen_paths(demo_root: str | Path) -> UnseenPaths:
-    """Return the unseen part's file locations under a demo folder (nothing is built)."""
-    base = Path(demo_root) / "generated" / "unseen"
+# What the files were built from (catmap.demo._stamp), beside them.
+STAMP = "built-from.json"
+
+
+def unseen_paths(demo_root: str | Path, *, generated: Path | None = None) -> UnseenPaths:
+    """Return the unseen part's file locations under a demo folder (nothing is built).
+
+    Args:
+        demo_root: the demo folder.
+        generated: its folder of generated files for the tree in use (default
+            ``<demo_root>/generated``, the demo tree's; see
+            :func:`catmap.demo._stamp.generated_dir`).
+    """
+    base = (generated or Path(demo_root) / "generated") / "unseen"
     return UnseenPaths(
         root=base,
         labelled={part: base / f"{part}_labelled.csv" for part in PARTS},
@@ -670,13 +682,17 @@ def _atomic_write(path: Path, data: bytes) -> None:
 
 def _build(demo_root: Path, *, seed: int, size: int, tree: CategoryTree | None,
            only_missing: bool) -> UnseenPaths:
-    paths = unseen_paths(demo_root)
-    if only_missing and all(f.exists() for f in paths.all_files()):
-        return paths
     if tree is None:
         from catmap.tree.taxonomy import load_default_tree
 
         tree = load_default_tree(1)
+    paths = unseen_paths(demo_root, generated=generated_dir(demo_root, tree))
+    # Files built from another seed, size, tree or generator are built again.
+    facts = build_facts(tree, seed=seed, size=size)
+    stamp = paths.root / STAMP
+    if (only_missing and all(f.exists() for f in paths.all_files())
+            and stamp_matches(stamp, facts)):
+        return paths
     from catmap.demo.world import _brands
 
     products = unseen_products(tree, _brands(tree, 0), seed=seed, size=size)
@@ -685,6 +701,7 @@ def _build(demo_root: Path, *, seed: int, size: int, tree: CategoryTree | None,
     for part in PARTS:
         rows = [p for r in UNSEEN_RETAILERS if r.part == part for p in products[r.slug]]
         write_labelled(rows, paths.labelled[part])
+    write_stamp(stamp, facts)
     return paths
 
 

@@ -35,6 +35,7 @@ from catmap.demo._retailers import (
     REFERENCE_RETAILERS,
     Retailer,
 )
+from catmap.demo._stamp import build_facts, generated_dir, stamp_matches, write_stamp
 
 if TYPE_CHECKING:
     from catmap.tree.taxonomy import CategoryTree
@@ -42,6 +43,8 @@ if TYPE_CHECKING:
 BRAND_COUNT = 440
 MIN_PER_LEAF = 40
 REFERENCE_SIZE = 66000
+# What the generated reference catalog was built from (catmap.demo._stamp), beside it.
+REFERENCE_STAMP = "reference.built-from.json"
 FEED_SIZES: dict[str, int] = {"ferravelle": 3200, "quorvane": 2600, "tallimbra": 4100,
                               "oskelund_labelled": 3000}
 FEED_FILES: dict[str, str] = {"ferravelle": "ferravelle.csv", "quorvane": "quorvane.xml",
@@ -63,7 +66,8 @@ class DemoPaths:
     Attributes:
         root: the demo folder (``feeds_demo/`` in the repository).
         brands: the brand list.
-        reference: the labelled reference catalog (gzip CSV, under ``generated/``).
+        reference: the labelled reference catalog (gzip CSV, under ``generated/``; built for
+            another tree than the demo's, under ``generated/tree-<digest>/``).
         feeds: feed name → feed file (the three new feeds and the small labelled feed).
         gold: feed name → its gold label file (for the three new feeds).
     """
@@ -331,6 +335,7 @@ def _build(root: Path, *, seed: int, reference_size: int, feed_sizes: Mapping[st
 
         tree = load_default_tree(1)
     paths = demo_paths(root)
+    paths = replace(paths, reference=generated_dir(root, tree) / paths.reference.name)
     root.mkdir(parents=True, exist_ok=True)
     brands = _brands(tree, seed)
 
@@ -339,9 +344,14 @@ def _build(root: Path, *, seed: int, reference_size: int, feed_sizes: Mapping[st
 
     if wanted(paths.brands):
         write_brands(brands, paths.brands)
-    if wanted(paths.reference):
+    # The reference catalog is generated, not committed: one built from another seed, size,
+    # tree or generator is built again.
+    facts = build_facts(tree, seed=seed, size=reference_size)
+    stamp = paths.reference.with_name(REFERENCE_STAMP)
+    if wanted(paths.reference) or not stamp_matches(stamp, facts):
         write_reference(reference_products(tree, brands, seed=seed, size=reference_size),
                         paths.reference)
+        write_stamp(stamp, facts)
     for name, file in paths.feeds.items():
         gold = paths.gold.get(name)
         if wanted(file, *([gold] if gold else [])):
