@@ -128,14 +128,29 @@ def _one_thread() -> Any:
     return threadpool_limits(limits=1)
 
 
+def calibration_rows(n: int) -> list[bool]:
+    """Which training rows calibrate catmap (a seeded tenth), for the API and the CLI alike."""
+    import numpy as np
+
+    return [bool(v) for v in np.random.default_rng(0).random(n) < 0.1]
+
+
 def run_model(
-    name: str, data_file: str, tree_file: str, options: dict[str, Any] | None = None
+    name: str,
+    data_file: str,
+    tree_file: str,
+    options: dict[str, Any] | None = None,
+    save_dir: str | None = None,
 ) -> dict[str, Any]:
     """Train and score one model (in its own process); return its figures.
 
-    ``options`` are catmap's ``CategoryModel`` settings (ignored by the other models).
+    Args:
+        name: catmap, logreg, svc or fasttext.
+        data_file: the split (JSON).
+        tree_file: the tree file.
+        options: catmap's ``CategoryModel`` settings (ignored by the other models).
+        save_dir: catmap and fastText save their trained model here, for the speed rounds.
     """
-    import numpy as np
     from sklearn.metrics import accuracy_score, f1_score
 
     data = json.loads(Path(data_file).read_text(encoding="utf-8"))
@@ -145,7 +160,6 @@ def run_model(
     predict: Any
     if name == "catmap":
         from catmap.classify.features import ProductTexts
-        from catmap.classify.model import CategoryModel
         from catmap.tree.taxonomy import load_tree
 
         tree = load_tree(tree_file)
@@ -154,16 +168,24 @@ def run_model(
             empty = [""] * len(values)
             return ProductTexts(list(values), empty, empty, empty)
 
-        rng = np.random.default_rng(0)
-        valid = rng.random(len(x_train)) < 0.1
-        fit_x = [x for x, v in zip(x_train, valid, strict=True) if not v]
-        fit_y = [y for y, v in zip(y_train, valid, strict=True) if not v]
-        model = CategoryModel(tree=tree, **(options or {})).fit(texts(fit_x), fit_y)
-        model.calibrate(
+        from catmap.classify.training import fit_model
+
+        valid = calibration_rows(len(x_train))
+        # As `catmap train` does (the same function): trained on nine tenths of train and
+        # calibrated on the rest, structure chosen on that tenth, then trained on all of train.
+        model = fit_model(
+            tree,
+            texts([x for x, v in zip(x_train, valid, strict=True) if not v]),
+            [y for y, v in zip(y_train, valid, strict=True) if not v],
             texts([x for x, v in zip(x_train, valid, strict=True) if v]),
             [y for y, v in zip(y_train, valid, strict=True) if v],
+            options=options,
         )
         model.prepare()
+        if save_dir:
+            from catmap.classify.storage import save_model
+
+            save_model(model, Path(save_dir) / "catmap-model")
 
         def predict(values: list[str]) -> list[str]:
             best, _ = model.top_k(texts(values), 1)
@@ -206,10 +228,11 @@ def run_model(
         ft = fasttext.train_supervised(
             input=str(train_file), wordNgrams=2, epoch=25, lr=0.5, thread=2, seed=0, verbose=0
         )
+        if save_dir:
+            ft.save_model(str(Path(save_dir) / "fasttext.bin"))
 
         def predict(values: list[str]) -> list[str]:
-            found = [ft.f.predict(v.lower(), 1, 0.0, "strict") for v in values]
-            return [f[0][1].removeprefix("__label__") if f else "" for f in found]
+            return fasttext_predict(ft, values)
 
     train_seconds = time.perf_counter() - started
     with _one_thread():
@@ -226,11 +249,120 @@ def run_model(
     }
 
 
+def fasttext_predict(ft: Any, values: list[str]) -> list[str]:
+    """fastText's best label of each text (its C++ predict, one call per text)."""
+    # ``ft.f.predict``: the wrapper's ``predict`` builds arrays in a way NumPy 2 refuses.
+    found = [ft.f.predict(v.lower(), 1, 0.0, "strict") for v in values]
+    return [f[0][1].removeprefix("__label__") if f else "" for f in found]
+
+
+def run_cli(data_file: str, tree_file: str, work_dir: str) -> dict[str, Any]:
+    """Train and map with catmap's command line, each command timed from its start-up.
+
+    The training feed is a CSV (``id,title,gold_node,split``: the same tenth calibrates as in
+    the API run); the test split is a feed of its own (``id,title``). ``catmap map`` runs with
+    ``--backoff-threshold 0`` (every product gets its best leaf, as the other models answer)
+    and ``--workers 1``.
+    """
+    import csv
+    import os
+
+    from sklearn.metrics import accuracy_score, f1_score
+
+    data = json.loads(Path(data_file).read_text(encoding="utf-8"))
+    x_train, y_train = data["x_train"], data["y_train"]
+    x_test, y_test = data["x_test"], data["y_test"]
+    work = Path(work_dir) / "cli"
+    work.mkdir(parents=True, exist_ok=True)
+    train_feed, test_feed = work / "train.csv", work / "test.csv"
+    with train_feed.open("w", newline="", encoding="utf-8") as out:
+        writer = csv.writer(out)
+        writer.writerow(["id", "title", "gold_node", "split"])
+        for i, (x, y, v) in enumerate(
+            zip(x_train, y_train, calibration_rows(len(x_train)), strict=True)
+        ):
+            writer.writerow([f"train-{i}", x, y, "valid" if v else "train"])
+    with test_feed.open("w", newline="", encoding="utf-8") as out:
+        writer = csv.writer(out)
+        writer.writerow(["id", "title"])
+        for i, x in enumerate(x_test):
+            writer.writerow([f"test-{i}", x])
+    project, model_dir, out_dir = work / "project", work / "model", work / "mapped"
+    project.mkdir(exist_ok=True)
+    cli = [sys.executable, "-c", "from catmap.cli import main; main()"]
+    env = {**os.environ, "PYTHONPATH": str(ROOT)}
+    common = ["--tree-file", tree_file, "--project", str(project), "--model", str(model_dir)]
+    started = time.perf_counter()
+    subprocess.run(
+        [*cli, "train", str(train_feed), *common], env=env, check=True, capture_output=True
+    )
+    train_seconds = time.perf_counter() - started
+    started = time.perf_counter()
+    subprocess.run(
+        [*cli, "map", str(test_feed), *common, "--out", str(out_dir), "--backoff-threshold", "0",
+         "--workers", "1"],
+        env=env, check=True, capture_output=True,
+    )
+    map_seconds = time.perf_counter() - started
+    found = {}
+    with (out_dir / "mappings.jsonl").open(encoding="utf-8") as lines:
+        for line in lines:
+            row = json.loads(line)
+            found[row["product_id"]] = row["node_id"]
+    predicted = [found.get(f"test-{i}", "") for i in range(len(x_test))]
+    return {
+        "name": "catmap CLI",
+        "accuracy": float(accuracy_score(y_test, predicted)),
+        "macro_f1": float(f1_score(y_test, predicted, average="macro")),
+        "train_seconds": train_seconds,
+        "peak_mb": resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss / 1024,
+        "per_second": len(x_test) / map_seconds,
+    }
+
+
+def speed_rounds(data_file: str, tree_file: str, save_dir: str, rounds: int) -> dict[str, Any]:
+    """Products/s of catmap and fastText in one process, one thread, in alternate rounds.
+
+    Both predict the whole test split each round from their saved models (catmap:
+    ``CategoryModel.top_k(texts, 1)``; fastText: its predict per text). Returns each one's
+    per-round figures and the load average before and after.
+    """
+    import os
+
+    import fasttext
+
+    from catmap.classify.features import ProductTexts
+    from catmap.classify.storage import load_model
+    from catmap.tree.taxonomy import load_tree
+
+    x_test = json.loads(Path(data_file).read_text(encoding="utf-8"))["x_test"]
+    model, _ = load_model(Path(save_dir) / "catmap-model", load_tree(tree_file))
+    model.prepare()
+    ft = fasttext.load_model(str(Path(save_dir) / "fasttext.bin"))
+    empty = [""] * len(x_test)
+    texts = ProductTexts(list(x_test), empty, empty, empty)
+    load_before = os.getloadavg()
+    figures: dict[str, list[float]] = {"catmap": [], "fasttext": []}
+    with _one_thread():
+        for _ in range(rounds):
+            started = time.perf_counter()
+            model.top_k(texts, 1)
+            figures["catmap"].append(len(x_test) / (time.perf_counter() - started))
+            started = time.perf_counter()
+            fasttext_predict(ft, x_test)
+            figures["fasttext"].append(len(x_test) / (time.perf_counter() - started))
+    return {"rounds": figures, "load": [load_before, os.getloadavg()]}
+
+
 def main(argv: list[str] | None = None) -> int:
     parser = argparse.ArgumentParser(description=__doc__.split("\n\n")[0])
     parser.add_argument(
-        "--only", default="catmap,logreg,svc,fasttext",
-        help="comma-separated subset of: catmap, logreg, svc, fasttext",
+        "--only", default="catmap,cli,logreg,svc,fasttext",
+        help="comma-separated subset of: catmap, cli, logreg, svc, fasttext",
+    )
+    parser.add_argument(
+        "--rounds", type=int, default=5,
+        help="alternate speed rounds of catmap and fastText (default 5; 0: none)",
     )
     parser.add_argument(
         "--catmap-option",
@@ -262,6 +394,8 @@ def main(argv: list[str] | None = None) -> int:
         flush=True,
     )
     rows = []
+    speed: dict[str, Any] | None = None
+    chosen = [n.strip() for n in args.only.split(",") if n.strip()]
     with tempfile.TemporaryDirectory(prefix="catmap-debian-") as tmp:
         data_file = Path(tmp) / "split.json"
         data_file.write_text(
@@ -270,30 +404,56 @@ def main(argv: list[str] | None = None) -> int:
             ),
             encoding="utf-8",
         )
-        for name in [n.strip() for n in args.only.split(",") if n.strip()]:
+        for name in chosen:
             with multiprocessing.get_context("spawn").Pool(1) as pool:
-                row = pool.apply(run_model, (name, str(data_file), str(tree_file), options))
+                if name == "cli":
+                    row = pool.apply(run_cli, (str(data_file), str(tree_file), tmp))
+                else:
+                    row = pool.apply(
+                        run_model, (name, str(data_file), str(tree_file), options, tmp)
+                    )
             rows.append(row)
             print(f"  {row}", file=sys.stderr, flush=True)
+        saved = (Path(tmp) / "catmap-model").is_dir() and (Path(tmp) / "fasttext.bin").is_file()
+        if args.rounds > 0 and saved:
+            with multiprocessing.get_context("spawn").Pool(1) as pool:
+                speed = pool.apply(
+                    speed_rounds, (str(data_file), str(tree_file), tmp, args.rounds)
+                )
     header = (
-        f"{'model':<10} {'acc':>6} {'macroF1':>8} {'train s':>8} {'peak MB':>8} "
+        f"{'model':<11} {'acc':>6} {'macroF1':>8} {'train s':>8} {'peak MB':>8} "
         f"{'products/s':>11}"
     )
     print(header)
     print("-" * len(header))
     for r in rows:
         if "skipped" in r:
-            print(f"{r['name']:<10} skipped: {r['skipped']}")
+            print(f"{r['name']:<11} skipped: {r['skipped']}")
             continue
         print(
-            f"{r['name']:<10} {r['accuracy']:>6.3f} {r['macro_f1']:>8.3f} "
+            f"{r['name']:<11} {r['accuracy']:>6.3f} {r['macro_f1']:>8.3f} "
             f"{r['train_seconds']:>8.1f} {r['peak_mb']:>8.0f} {r['per_second']:>11,.0f}"
         )
+    if speed is not None:
+        cat, ft = speed["rounds"]["catmap"], speed["rounds"]["fasttext"]
+        print(
+            f"\nalternate speed rounds ({len(cat)}, one process, one thread, test split, "
+            f"load average {speed['load'][0][0]:.1f} before, {speed['load'][1][0]:.1f} after on "
+            f"{multiprocessing.cpu_count()} cores), products/s:"
+        )
+        print("  catmap   " + " ".join(f"{v:>8,.0f}" for v in cat)
+              + f"   median {sorted(cat)[len(cat) // 2]:,.0f}")
+        print("  fasttext " + " ".join(f"{v:>8,.0f}" for v in ft)
+              + f"   median {sorted(ft)[len(ft) // 2]:,.0f}")
     print(
-        "\ncatmap: CategoryModel via the Python API on the tree file above (90% of train fits, "
-        "10% calibrates); logreg: TF-IDF word 1-2 + LogisticRegression(C=10); svc: TF-IDF word "
-        "1-2 + char_wb 2-5 + LinearSVC(C=0.5); fasttext: wordNgrams=2, 25 epochs. Text: package "
-        "name + summary. products/s: predicting the test split in-process, one thread."
+        "\nData: the Debian archive's package index (apt-cache dumpavail). catmap: CategoryModel "
+        "via the Python API on the tree file above (calibrated on a seeded tenth of train, then "
+        "trained on all of train); catmap CLI: `catmap train --tree-file` on a CSV of the train "
+        "split, then `catmap map --tree-file --backoff-threshold 0 --workers 1` on a CSV of the "
+        "test split, each timed from start-up (train s and products/s include it; peak MB is "
+        "the larger process); logreg: TF-IDF word 1-2 + LogisticRegression(C=10); svc: TF-IDF "
+        "word 1-2 + char_wb 2-5 + LinearSVC(C=0.5); fasttext: wordNgrams=2, 25 epochs. Text: "
+        "package name + summary. products/s in-process: predicting the test split, one thread."
     )
     return 0
 

@@ -32,6 +32,7 @@ from catmap.tree.taxonomy import CategoryTree
 
 __all__ = [
     "CONSENSUS_WEIGHT_GRID",
+    "FLAT_MAX_CLASSES",
     "LabelledData",
     "TrainingReport",
     "consensus_blend",
@@ -40,6 +41,12 @@ __all__ = [
 ]
 
 CONSENSUS_WEIGHT_GRID = (0.0, 0.1, 0.2, 0.3, 0.4, 0.5)
+# Up to this many classes, a flat model (one classifier over every class) is trained beside the
+# department step and the one with the better validation macro-F1 is kept; above it, the
+# department step alone (a flat classifier over a thousand classes trains too slowly and the
+# department step holds the demo world's results). A chosen setting (common practice, no
+# source).
+FLAT_MAX_CLASSES = 300
 VALID_SHARE = 0.1
 # Above this share of labelled rows naming nodes the tree lacks, the labels most likely belong
 # to another tree, and training stops (a chosen setting: a few retired ids are normal, a
@@ -199,6 +206,8 @@ class _LabelledTexts:
     brand: list[str] = field(default_factory=list)
     description: list[str] = field(default_factory=list)
     labels: list[str] = field(default_factory=list)
+    # The rows are copies of training rows (no validation rows were given).
+    copied: bool = False
 
     def add(self, product: Product, label: str, shared: dict[str, str]) -> None:
         texts = product_texts([product])
@@ -242,6 +251,7 @@ def _read_training_texts(
             valid.add(item, label, shared)
     if not valid.labels:
         # No validation rows: calibrate on the first tenth of the training rows.
+        valid.copied = True
         for i in range(max(1, len(train.labels) // 10)):
             if i < len(train.labels):
                 valid.title.append(train.title[i])
@@ -329,6 +339,86 @@ def _choose_consensus_weight(
     return best_w, {"valid_accuracy_with_consensus": best_acc}
 
 
+def fit_model(
+    tree: CategoryTree,
+    texts: ProductTexts,
+    labels: Sequence[str],
+    valid_texts: ProductTexts,
+    valid_labels: Sequence[str],
+    *,
+    options: dict[str, Any] | None = None,
+    held_out: bool = True,
+    on_stage: Callable[[str], None] | None = None,
+    before_refit: Callable[[CategoryModel], None] | None = None,
+) -> CategoryModel:
+    """Train, calibrate and retrain the model ``catmap train`` saves.
+
+    With no ``hierarchical`` option and at most :data:`FLAT_MAX_CLASSES` classes, both
+    structures are trained and calibrated, and the one with the better validation macro-F1
+    (``sklearn.metrics.f1_score(average="macro")``) is kept, the department step on a tie.
+    When the validation products are held out from training, the kept model then learns from
+    them too (:meth:`CategoryModel.refit`), keeping its calibration.
+
+    Args:
+        tree: the category tree.
+        texts: training texts.
+        labels: their node ids.
+        valid_texts: validation texts (calibration and the choice).
+        valid_labels: their node ids.
+        options: :class:`CategoryModel` keyword arguments.
+        held_out: the validation products are not among the training ones.
+        on_stage: told each stage.
+        before_refit: called with the calibrated model before it learns from the validation
+            products (what else is chosen on them is chosen here).
+
+    Returns:
+        The calibrated model.
+
+    Raises:
+        ValueError: as :meth:`CategoryModel.fit`.
+    """
+    from sklearn.metrics import f1_score
+
+    stage = on_stage or (lambda _text: None)
+    options = dict(options or {})
+    given = options.pop("hierarchical", None)
+    choices = [True if given is None else bool(given)]
+    if given is None and len(valid_labels) and len(set(labels)) <= FLAT_MAX_CLASSES:
+        choices = [True, False]
+    best: tuple[float, CategoryModel | None] = (-1.0, None)
+    for hierarchical in choices:
+        structure = "department step" if hierarchical else "flat"
+        stage(f"training ({structure}) on {len(labels):,} products")
+        model = CategoryModel(tree=tree, hierarchical=hierarchical, **options).fit(texts, labels)
+        stage(f"calibrating ({structure}) on {len(valid_labels):,} products")
+        model.calibrate(valid_texts, valid_labels)
+        if len(choices) == 1:
+            best = (0.0, model)
+            break
+        predicted = [str(c) for c in model.predict(valid_texts)]
+        score = float(f1_score(list(valid_labels), predicted, average="macro"))
+        model.metrics_["valid_macro_f1"] = score
+        if score > best[0]:
+            best = (score, model)
+    chosen = best[1]
+    assert chosen is not None
+    if before_refit is not None:
+        before_refit(chosen)
+    if held_out and len(valid_labels):
+        stage(f"training again on {len(labels) + len(valid_labels):,} products")
+        chosen.refit(_joined(texts, valid_texts), [*labels, *valid_labels])
+    return chosen
+
+
+def _joined(first: ProductTexts, second: ProductTexts) -> ProductTexts:
+    return ProductTexts(
+        first.title + second.title,
+        first.path + second.path,
+        first.brand + second.brand,
+        first.description + second.description,
+    )
+
+
 def folder_bytes(folder: Path) -> int:
     """Return the total size of the files in a folder."""
     return sum(p.stat().st_size for p in folder.iterdir() if p.is_file())
@@ -397,13 +487,25 @@ def train_model(
     # The model keeps min(count, cap) products of each class (a seeded sample): say so.
     used = {label: min(count, cap) if cap else count for label, count in per_class.items()}
     stage(f"training on {sum(used.values()):,} of {len(labels):,} products")
-    model = CategoryModel(tree=tree, **options).fit(texts, labels)
-    del texts
-    stage(f"calibrating on {len(valid.labels):,} products")
     valid_texts = valid.texts()
     valid_labels = valid.labels
-    model.calibrate(valid_texts, valid_labels)
-    consensus_weight, consensus_metrics = _choose_consensus_weight(model, valid_texts, valid_labels)
+    # Chosen before the retraining, while the validation products are still held out.
+    consensus: list[tuple[float, dict[str, float]]] = []
+    model = fit_model(
+        tree,
+        texts,
+        labels,
+        valid_texts,
+        valid_labels,
+        options=options,
+        held_out=not valid.copied,
+        on_stage=stage,
+        before_refit=lambda m: consensus.append(
+            _choose_consensus_weight(m, valid_texts, valid_labels)
+        ),
+    )
+    del texts
+    consensus_weight, consensus_metrics = consensus[0]
     model.metrics_.update(consensus_metrics)
     elapsed = time.perf_counter() - started
     stage("saving the model")
