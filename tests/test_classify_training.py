@@ -9,7 +9,7 @@ from sklearn.metrics import f1_score
 
 from catmap.classify.features import ProductTexts
 from catmap.classify.model import CategoryModel
-from catmap.classify.training import FLAT_MAX_CLASSES, fit_model
+from catmap.classify.training import FLAT_MAX_CLASSES, FLAT_SETTINGS, fit_model
 from catmap.tree.taxonomy import CategoryTree, load_tree
 from tests._classify_fixtures import labelled_rows, write_tree
 
@@ -42,7 +42,8 @@ def _validation_macro_f1(
                                                           list[str]]
 ) -> float:
     train, labels, valid, valid_labels = split
-    model = CategoryModel(tree=tree, min_df=1, hierarchical=hierarchical).fit(train, labels)
+    settings = {"min_df": 1} if hierarchical else {**FLAT_SETTINGS, "min_df": 1}
+    model = CategoryModel(tree=tree, hierarchical=hierarchical, **settings).fit(train, labels)
     model.calibrate(valid, valid_labels)
     # Reference: scikit-learn's macro-averaged F1 (sklearn.metrics.f1_score).
     return float(f1_score(valid_labels, [str(c) for c in model.predict(valid)], average="macro"))
@@ -75,6 +76,7 @@ def test_a_given_structure_is_the_only_one_trained(
         options={"min_df": 1, "hierarchical": False}, held_out=False, on_stage=stages.append,
     )
     assert model.hierarchical is False
+    assert model.prune_below == CategoryModel(tree=tree).prune_below  # no flat settings: given
     assert not any("department step" in s for s in stages)
 
 
@@ -83,7 +85,7 @@ def test_held_out_products_join_the_training_after_calibration(
 ) -> None:
     train, labels, valid, valid_labels = split
     # One thread: liblinear's random state is shared by the threads of one process.
-    options = {"min_df": 1, "hierarchical": True, "n_jobs": 1}
+    options = {"min_df": 1, "n_jobs": 1}
     seen: list[tuple[float, float]] = []
     model = fit_model(
         tree, train, labels, valid, valid_labels, options=options,
@@ -93,16 +95,26 @@ def test_held_out_products_join_the_training_after_calibration(
         train.title + valid.title, train.path + valid.path, train.brand + valid.brand,
         train.description + valid.description,
     )
-    fresh = CategoryModel(tree=tree, **options).fit(everything, labels + valid_labels)
+    fresh = CategoryModel(
+        tree=tree, hierarchical=model.hierarchical, prune_below=model.prune_below, **options
+    ).fit(everything, labels + valid_labels)
     assert (model.class_coef_ != fresh.class_coef_).nnz == 0
     assert model.temperatures_ == seen[0] != (1.0, 1.0)
 
 
-def test_validation_rows_copied_from_training_are_not_learned_twice(
-    tree: CategoryTree, split: tuple[ProductTexts, list[str], ProductTexts, list[str]]
+@pytest.mark.parametrize(
+    ("options", "held_out"),
+    [({"min_df": 1, "n_jobs": 1}, False), ({"min_df": 1, "n_jobs": 1, "hierarchical": True}, True)],
+    ids=["validation rows copied from training", "structure given"],
+)
+def test_no_second_training(
+    tree: CategoryTree,
+    split: tuple[ProductTexts, list[str], ProductTexts, list[str]],
+    options: dict[str, object],
+    held_out: bool,
 ) -> None:
     train, labels, valid, valid_labels = split
-    options = {"min_df": 1, "hierarchical": True, "n_jobs": 1}
-    model = fit_model(tree, train, labels, valid, valid_labels, options=options, held_out=False)
-    fresh = CategoryModel(tree=tree, **options).fit(train, labels)
+    model = fit_model(tree, train, labels, valid, valid_labels, options=options, held_out=held_out)
+    settings = {"hierarchical": model.hierarchical, "prune_below": model.prune_below, **options}
+    fresh = CategoryModel(tree=tree, **settings).fit(train, labels)
     assert (model.class_coef_ != fresh.class_coef_).nnz == 0
