@@ -63,6 +63,7 @@ def test_few_classes_keep_the_structure_with_the_better_validation_macro_f1(
     flat = _validation_macro_f1(tree, False, split)
     assert model.hierarchical == (department >= flat)
     assert model.metrics_["valid_macro_f1"] == pytest.approx(max(department, flat))
+    assert model.metrics_["structure"] == ("department step" if model.hierarchical else "flat")
     assert any("flat" in s for s in stages) and any("department step" in s for s in stages)
 
 

@@ -405,6 +405,7 @@ def fit_model(
         predicted = [str(c) for c in model.predict(valid_texts)]
         score = float(f1_score(list(valid_labels), predicted, average="macro"))
         model.metrics_["valid_macro_f1"] = score
+        model.metrics_["structure"] = structure
         if score > best[0]:
             best = (score, model)
     chosen = best[1]
