@@ -15,7 +15,7 @@ Models, each trained and scored in a fresh process (so that the peak memory is i
 * catmap: trained through the Python API with ``catmap.classify.training.fit_model`` (what
   ``catmap train`` runs) on the tree above: nine tenths of the training split train it, a
   seeded tenth calibrates it and chooses its structure (department step or flat, by validation
-  macro-F1), then it learns from the whole training split;
+  macro-F1) and never trains it (onboarding calibrates on such held-out products);
 * catmap CLI: the same through the command line, as a user runs it: ``catmap train --tree-file``
   on a CSV of the training split (a ``split`` column marks the same tenth ``valid``), then
   ``catmap map --tree-file --backoff-threshold 0 --workers 1`` on a CSV of the test split; both
@@ -182,8 +182,8 @@ def run_model(
         from catmap.classify.training import fit_model
 
         valid = calibration_rows(len(x_train))
-        # As `catmap train` does (the same function): trained on nine tenths of train and
-        # calibrated on the rest, structure chosen on that tenth, then trained on all of train.
+        # As `catmap train` does (the same function): trained on nine tenths of train,
+        # calibrated and its structure chosen on the rest.
         model = fit_model(
             tree,
             texts([x for x, v in zip(x_train, valid, strict=True) if not v]),
@@ -470,7 +470,7 @@ def main(argv: list[str] | None = None) -> int:
     print(
         "\nData: the Debian archive's package index (apt-cache dumpavail). catmap: fit_model "
         "via the Python API on the tree file above (calibrated and its structure chosen on a "
-        "seeded tenth of train, then trained on all of train); catmap CLI: `catmap train "
+        "seeded tenth of train, trained on the rest); catmap CLI: `catmap train "
         "--tree-file` on a CSV of the train split, then `catmap map --tree-file "
         "--backoff-threshold 0 --workers 1` on a CSV of the test split, each timed from "
         "start-up (train s and products/s include it; peak MB is the larger process); logreg: "

@@ -218,34 +218,3 @@ def test_training_keeps_every_product_unless_a_cap_is_set(tree: CategoryTree) ->
     # A capped model learns from fewer rows: its vocabulary is a subset of the full one's.
     small = capped.fit(texts, labels).featurizer_.n_features_
     assert small < full.fit(texts, labels).featurizer_.n_features_
-
-
-def test_refit_learns_from_more_products_and_keeps_the_calibration(tree: CategoryTree) -> None:
-    rows = labelled_rows(300)
-    train, labels = texts_and_labels([r for r in rows if r["split"] == "train"])
-    valid, valid_labels = texts_and_labels([r for r in rows if r["split"] == "valid"])
-    # One thread: liblinear's random state is shared by the threads of one process.
-    trained = CategoryModel(tree=tree, min_df=1, n_jobs=1).fit(train, labels)
-    trained.calibrate(valid, valid_labels)
-    kept = (trained.temperatures_, trained.keyword_weight_, trained.blend_temperature_)
-    metrics = dict(trained.metrics_)
-    weights_before = trained.class_coef_
-    everything = ProductTexts(
-        train.title + valid.title,
-        train.path + valid.path,
-        train.brand + valid.brand,
-        train.description + valid.description,
-    )
-    trained.refit(everything, labels + valid_labels)
-    assert (trained.temperatures_, trained.keyword_weight_, trained.blend_temperature_) == kept
-    assert trained.metrics_ == metrics
-    # The weights are those of a model trained from scratch on every product.
-    fresh = CategoryModel(tree=tree, min_df=1, n_jobs=1).fit(everything, labels + valid_labels)
-    assert trained.class_coef_ is not weights_before
-    assert (trained.class_coef_ != fresh.class_coef_).nnz == 0
-
-
-def test_refit_needs_a_trained_model(tree: CategoryTree) -> None:
-    texts, labels = texts_and_labels(labelled_rows(30))
-    with pytest.raises(ModelNotTrained):
-        CategoryModel(tree=tree).refit(texts, labels)

@@ -1,4 +1,4 @@
-"""fit_model: the structure chosen on validation data, then trained again on every product."""
+"""fit_model: the structure chosen on validation data, which never trains the model."""
 
 from __future__ import annotations
 
@@ -56,8 +56,7 @@ def test_few_classes_keep_the_structure_with_the_better_validation_macro_f1(
     assert len(set(labels)) <= FLAT_MAX_CLASSES
     stages: list[str] = []
     model = fit_model(
-        tree, train, labels, valid, valid_labels, options={"min_df": 1}, held_out=False,
-        on_stage=stages.append,
+        tree, train, labels, valid, valid_labels, options={"min_df": 1}, on_stage=stages.append
     )
     department = _validation_macro_f1(tree, True, split)
     flat = _validation_macro_f1(tree, False, split)
@@ -74,48 +73,28 @@ def test_a_given_structure_is_the_only_one_trained(
     stages: list[str] = []
     model = fit_model(
         tree, train, labels, valid, valid_labels,
-        options={"min_df": 1, "hierarchical": False}, held_out=False, on_stage=stages.append,
+        options={"min_df": 1, "hierarchical": False}, on_stage=stages.append,
     )
     assert model.hierarchical is False
     assert model.prune_below == CategoryModel(tree=tree).prune_below  # no flat settings: given
     assert not any("department step" in s for s in stages)
 
 
-def test_held_out_products_join_the_training_after_calibration(
-    tree: CategoryTree, split: tuple[ProductTexts, list[str], ProductTexts, list[str]]
-) -> None:
-    train, labels, valid, valid_labels = split
-    # One thread: liblinear's random state is shared by the threads of one process.
-    options = {"min_df": 1, "n_jobs": 1}
-    seen: list[tuple[float, float]] = []
-    model = fit_model(
-        tree, train, labels, valid, valid_labels, options=options,
-        before_refit=lambda m: seen.append(m.temperatures_),
-    )
-    everything = ProductTexts(
-        train.title + valid.title, train.path + valid.path, train.brand + valid.brand,
-        train.description + valid.description,
-    )
-    fresh = CategoryModel(
-        tree=tree, hierarchical=model.hierarchical, prune_below=model.prune_below, **options
-    ).fit(everything, labels + valid_labels)
-    assert (model.class_coef_ != fresh.class_coef_).nnz == 0
-    assert model.temperatures_ == seen[0] != (1.0, 1.0)
-
-
 @pytest.mark.parametrize(
-    ("options", "held_out"),
-    [({"min_df": 1, "n_jobs": 1}, False), ({"min_df": 1, "n_jobs": 1, "hierarchical": True}, True)],
-    ids=["validation rows copied from training", "structure given"],
+    "options",
+    [{"min_df": 1, "n_jobs": 1}, {"min_df": 1, "n_jobs": 1, "hierarchical": True}],
+    ids=["structure chosen", "structure given"],
 )
-def test_no_second_training(
+def test_the_validation_products_never_train_the_model(
     tree: CategoryTree,
     split: tuple[ProductTexts, list[str], ProductTexts, list[str]],
     options: dict[str, object],
-    held_out: bool,
 ) -> None:
+    # Onboarding calibrates its accept threshold on them as held-out products.
     train, labels, valid, valid_labels = split
-    model = fit_model(tree, train, labels, valid, valid_labels, options=options, held_out=held_out)
+    model = fit_model(tree, train, labels, valid, valid_labels, options=options)
+    # One thread (n_jobs=1): liblinear's random state is shared by the threads of a process.
     settings = {"hierarchical": model.hierarchical, "prune_below": model.prune_below, **options}
     fresh = CategoryModel(tree=tree, **settings).fit(train, labels)
     assert (model.class_coef_ != fresh.class_coef_).nnz == 0
+    assert model.temperatures_ != (1.0, 1.0)  # calibrated

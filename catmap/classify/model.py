@@ -211,35 +211,6 @@ class CategoryModel:
         self.metrics_: dict[str, Any] = {}
         return self
 
-    def refit(self, texts: ProductTexts, labels: Sequence[str]) -> CategoryModel:
-        """Train again on more labelled products, keeping the calibration already fitted.
-
-        Calibration needs products the model did not learn from; once it is fitted, the
-        held-out products can join the training set: the final weights learn from every
-        labelled product, and the temperatures and keyword weight fitted on the first model
-        are kept (a model trained on a tenth more data is scored on the same scale).
-
-        Args:
-            texts: every labelled product's texts (the training and the calibration ones).
-            labels: their node ids.
-
-        Returns:
-            self.
-
-        Raises:
-            ModelNotTrained: the model was never trained.
-            ValueError: as :meth:`fit`.
-        """
-        self._check()
-        kept = {
-            name: getattr(self, name)
-            for name in ("temperatures_", "keyword_weight_", "blend_temperature_", "metrics_")
-        }
-        self.fit(texts, labels)
-        for name, value in kept.items():
-            setattr(self, name, value)
-        return self
-
     def _check_training_input(self, texts: ProductTexts, labels: Sequence[str]) -> list[str]:
         """Check the parameters and the labels; return the labels as strings.
 

@@ -210,8 +210,6 @@ class _LabelledTexts:
     brand: list[str] = field(default_factory=list)
     description: list[str] = field(default_factory=list)
     labels: list[str] = field(default_factory=list)
-    # The rows are copies of training rows (no validation rows were given).
-    copied: bool = False
 
     def add(self, product: Product, label: str, shared: dict[str, str]) -> None:
         texts = product_texts([product])
@@ -255,7 +253,6 @@ def _read_training_texts(
             valid.add(item, label, shared)
     if not valid.labels:
         # No validation rows: calibrate on the first tenth of the training rows.
-        valid.copied = True
         for i in range(max(1, len(train.labels) // 10)):
             if i < len(train.labels):
                 valid.title.append(train.title[i])
@@ -351,19 +348,17 @@ def fit_model(
     valid_labels: Sequence[str],
     *,
     options: dict[str, Any] | None = None,
-    held_out: bool = True,
     on_stage: Callable[[str], None] | None = None,
-    before_refit: Callable[[CategoryModel], None] | None = None,
 ) -> CategoryModel:
-    """Train, calibrate and retrain the model ``catmap train`` saves.
+    """Train and calibrate the model ``catmap train`` saves, choosing its structure.
 
     With no ``hierarchical`` option and at most :data:`FLAT_MAX_CLASSES` classes, both
     structures are trained and calibrated (the flat one with :data:`FLAT_SETTINGS` where the
     options leave them), and the one with the better validation macro-F1
-    (``sklearn.metrics.f1_score(average="macro")``) is kept, the department step on a tie; when
-    the validation products are held out from training, the kept model then learns from them
-    too (:meth:`CategoryModel.refit`), keeping its calibration. With more classes, or a
-    structure given, one model is trained and calibrated, as before.
+    (``sklearn.metrics.f1_score(average="macro")``) is kept, the department step on a tie. With
+    more classes, or a structure given, one model is trained and calibrated, as before. The
+    validation products never train the model: onboarding calibrates its accept threshold on
+    them as held-out products.
 
     Args:
         tree: the category tree.
@@ -372,10 +367,7 @@ def fit_model(
         valid_texts: validation texts (calibration and the choice).
         valid_labels: their node ids.
         options: :class:`CategoryModel` keyword arguments.
-        held_out: the validation products are not among the training ones.
         on_stage: told each stage.
-        before_refit: called with the calibrated model before it learns from the validation
-            products (what else is chosen on them is chosen here).
 
     Returns:
         The calibrated model.
@@ -410,26 +402,7 @@ def fit_model(
             best = (score, model)
     chosen = best[1]
     assert chosen is not None
-    if before_refit is not None:
-        before_refit(chosen)
-    # Only where the structure was chosen: on the Debian sections (57 classes) it added 0.002
-    # accuracy on a validation slice of the training split. On the demo world (1,165 classes;
-    # benchmarks/bench_model.py --no-baselines) it moved accuracy by +0.002 seen, 0.000 unseen
-    # validation, +0.003 unseen test and ECE by +0.0017, +0.0005, -0.0015, for twice the
-    # training time: a mixed result, so that path trains once, as before.
-    if held_out and len(choices) > 1:
-        stage(f"training again on {len(labels) + len(valid_labels):,} products")
-        chosen.refit(_joined(texts, valid_texts), [*labels, *valid_labels])
     return chosen
-
-
-def _joined(first: ProductTexts, second: ProductTexts) -> ProductTexts:
-    return ProductTexts(
-        first.title + second.title,
-        first.path + second.path,
-        first.brand + second.brand,
-        first.description + second.description,
-    )
 
 
 def folder_bytes(folder: Path) -> int:
@@ -502,23 +475,11 @@ def train_model(
     stage(f"training on {sum(used.values()):,} of {len(labels):,} products")
     valid_texts = valid.texts()
     valid_labels = valid.labels
-    # Chosen before the retraining, while the validation products are still held out.
-    consensus: list[tuple[float, dict[str, float]]] = []
     model = fit_model(
-        tree,
-        texts,
-        labels,
-        valid_texts,
-        valid_labels,
-        options=options,
-        held_out=not valid.copied,
-        on_stage=stage,
-        before_refit=lambda m: consensus.append(
-            _choose_consensus_weight(m, valid_texts, valid_labels)
-        ),
+        tree, texts, labels, valid_texts, valid_labels, options=options, on_stage=stage
     )
     del texts
-    consensus_weight, consensus_metrics = consensus[0]
+    consensus_weight, consensus_metrics = _choose_consensus_weight(model, valid_texts, valid_labels)
     model.metrics_.update(consensus_metrics)
     elapsed = time.perf_counter() - started
     stage("saving the model")
