@@ -12,20 +12,30 @@ that catmap's department step has groups to learn.
 
 Models, each trained and scored in a fresh process (so that the peak memory is its own):
 
-* catmap: ``CategoryModel`` through its Python API, on the tree above, calibrated on a seeded
-  tenth of the training split (the rest trains it);
+* catmap: trained through the Python API with ``catmap.classify.training.fit_model`` (what
+  ``catmap train`` runs) on the tree above: nine tenths of the training split train it, a
+  seeded tenth calibrates it and chooses its structure (department step or flat, by validation
+  macro-F1) and never trains it (onboarding calibrates on such held-out products);
+* catmap CLI: the same through the command line, as a user runs it: ``catmap train --tree-file``
+  on a CSV of the training split (a ``split`` column marks the same tenth ``valid``), then
+  ``catmap map --tree-file --backoff-threshold 0 --workers 1`` on a CSV of the test split; both
+  commands timed from start-up (interpreter, imports, reading the feed, writing the files);
 * TF-IDF (word 1-2) + LogisticRegression;
 * word 1-2 + char 2-5 TF-IDF + LinearSVC;
-* fastText supervised (``pip install fasttext-wheel``; the row says so when it does not import).
+* fastText supervised (``pip install -e '.[bench]'``, the fasttext-wheel package; the row says so
+  when it does not import).
 
 Every model reads the same text: the package name and its summary. Printed per model:
 accuracy, macro-F1 (``sklearn.metrics.f1_score(average="macro")``), training seconds, peak
-resident memory of its process (MB), and products per second when predicting the test split
-in-process on one thread.
+resident memory of its process (MB; the CLI row: the larger of its two processes), and products
+per second when predicting the test split (in-process on one thread; the CLI row: test products
+over the wall time of ``catmap map``). Then catmap and fastText predict the test split again in
+one process, in alternate rounds (``--rounds``), with the load average before and after: the
+machine may be shared, and alternating puts both under the same load.
 
 Usage:
     python benchmarks/bench_real_sections.py
-    python benchmarks/bench_real_sections.py --only catmap,svc
+    python benchmarks/bench_real_sections.py --only catmap,cli,fasttext --rounds 5
 """
 
 from __future__ import annotations
@@ -128,14 +138,29 @@ def _one_thread() -> Any:
     return threadpool_limits(limits=1)
 
 
+def calibration_rows(n: int) -> list[bool]:
+    """Which training rows calibrate catmap (a seeded tenth), for the API and the CLI alike."""
+    import numpy as np
+
+    return [bool(v) for v in np.random.default_rng(0).random(n) < 0.1]
+
+
 def run_model(
-    name: str, data_file: str, tree_file: str, options: dict[str, Any] | None = None
+    name: str,
+    data_file: str,
+    tree_file: str,
+    options: dict[str, Any] | None = None,
+    save_dir: str | None = None,
 ) -> dict[str, Any]:
     """Train and score one model (in its own process); return its figures.
 
-    ``options`` are catmap's ``CategoryModel`` settings (ignored by the other models).
+    Args:
+        name: catmap, logreg, svc or fasttext.
+        data_file: the split (JSON).
+        tree_file: the tree file.
+        options: catmap's ``CategoryModel`` settings (ignored by the other models).
+        save_dir: catmap and fastText save their trained model here, for the speed rounds.
     """
-    import numpy as np
     from sklearn.metrics import accuracy_score, f1_score
 
     data = json.loads(Path(data_file).read_text(encoding="utf-8"))
@@ -143,9 +168,9 @@ def run_model(
     x_test, y_test = data["x_test"], data["y_test"]
     started = time.perf_counter()
     predict: Any
+    note = ""
     if name == "catmap":
         from catmap.classify.features import ProductTexts
-        from catmap.classify.model import CategoryModel
         from catmap.tree.taxonomy import load_tree
 
         tree = load_tree(tree_file)
@@ -154,16 +179,28 @@ def run_model(
             empty = [""] * len(values)
             return ProductTexts(list(values), empty, empty, empty)
 
-        rng = np.random.default_rng(0)
-        valid = rng.random(len(x_train)) < 0.1
-        fit_x = [x for x, v in zip(x_train, valid, strict=True) if not v]
-        fit_y = [y for y, v in zip(y_train, valid, strict=True) if not v]
-        model = CategoryModel(tree=tree, **(options or {})).fit(texts(fit_x), fit_y)
-        model.calibrate(
+        from catmap.classify.training import fit_model
+
+        valid = calibration_rows(len(x_train))
+        # As `catmap train` does (the same function): trained on nine tenths of train,
+        # calibrated and its structure chosen on the rest.
+        model = fit_model(
+            tree,
+            texts([x for x, v in zip(x_train, valid, strict=True) if not v]),
+            [y for y, v in zip(y_train, valid, strict=True) if not v],
             texts([x for x, v in zip(x_train, valid, strict=True) if v]),
             [y for y, v in zip(y_train, valid, strict=True) if v],
+            options=options,
         )
         model.prepare()
+        note = (
+            f"kept the {'department step' if model.hierarchical else 'flat'} structure "
+            f"(validation macro-F1 {model.metrics_.get('valid_macro_f1', float('nan')):.3f})"
+        )
+        if save_dir:
+            from catmap.classify.storage import save_model
+
+            save_model(model, Path(save_dir) / "catmap-model")
 
         def predict(values: list[str]) -> list[str]:
             best, _ = model.top_k(texts(values), 1)
@@ -197,7 +234,10 @@ def run_model(
         try:
             import fasttext
         except ImportError as error:
-            return {"name": name, "skipped": f"fasttext does not import ({error})"}
+            return {
+                "name": name,
+                "skipped": f"fasttext does not import ({error}); pip install -e '.[bench]'",
+            }
         train_file = Path(data_file).with_suffix(".fasttext.txt")
         train_file.write_text(
             "".join(f"__label__{y} {x.lower()}\n" for x, y in zip(x_train, y_train, strict=True)),
@@ -206,10 +246,11 @@ def run_model(
         ft = fasttext.train_supervised(
             input=str(train_file), wordNgrams=2, epoch=25, lr=0.5, thread=2, seed=0, verbose=0
         )
+        if save_dir:
+            ft.save_model(str(Path(save_dir) / "fasttext.bin"))
 
         def predict(values: list[str]) -> list[str]:
-            found = [ft.f.predict(v.lower(), 1, 0.0, "strict") for v in values]
-            return [f[0][1].removeprefix("__label__") if f else "" for f in found]
+            return fasttext_predict(ft, values)
 
     train_seconds = time.perf_counter() - started
     with _one_thread():
@@ -223,14 +264,124 @@ def run_model(
         "train_seconds": train_seconds,
         "peak_mb": resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024,
         "per_second": per_second,
+        "note": note,
     }
+
+
+def fasttext_predict(ft: Any, values: list[str]) -> list[str]:
+    """fastText's best label of each text (its C++ predict, one call per text)."""
+    # ``ft.f.predict``: the wrapper's ``predict`` builds arrays in a way NumPy 2 refuses.
+    found = [ft.f.predict(v.lower(), 1, 0.0, "strict") for v in values]
+    return [f[0][1].removeprefix("__label__") if f else "" for f in found]
+
+
+def run_cli(data_file: str, tree_file: str, work_dir: str) -> dict[str, Any]:
+    """Train and map with catmap's command line, each command timed from its start-up.
+
+    The training feed is a CSV (``id,title,gold_node,split``: the same tenth calibrates as in
+    the API run); the test split is a feed of its own (``id,title``). ``catmap map`` runs with
+    ``--backoff-threshold 0`` (every product gets its best leaf, as the other models answer)
+    and ``--workers 1``.
+    """
+    import csv
+    import os
+
+    from sklearn.metrics import accuracy_score, f1_score
+
+    data = json.loads(Path(data_file).read_text(encoding="utf-8"))
+    x_train, y_train = data["x_train"], data["y_train"]
+    x_test, y_test = data["x_test"], data["y_test"]
+    work = Path(work_dir) / "cli"
+    work.mkdir(parents=True, exist_ok=True)
+    train_feed, test_feed = work / "train.csv", work / "test.csv"
+    with train_feed.open("w", newline="", encoding="utf-8") as out:
+        writer = csv.writer(out)
+        writer.writerow(["id", "title", "gold_node", "split"])
+        for i, (x, y, v) in enumerate(
+            zip(x_train, y_train, calibration_rows(len(x_train)), strict=True)
+        ):
+            writer.writerow([f"train-{i}", x, y, "valid" if v else "train"])
+    with test_feed.open("w", newline="", encoding="utf-8") as out:
+        writer = csv.writer(out)
+        writer.writerow(["id", "title"])
+        for i, x in enumerate(x_test):
+            writer.writerow([f"test-{i}", x])
+    project, model_dir, out_dir = work / "project", work / "model", work / "mapped"
+    project.mkdir(exist_ok=True)
+    cli = [sys.executable, "-c", "from catmap.cli import main; main()"]
+    env = {**os.environ, "PYTHONPATH": str(ROOT)}
+    common = ["--tree-file", tree_file, "--project", str(project), "--model", str(model_dir)]
+    started = time.perf_counter()
+    subprocess.run(
+        [*cli, "train", str(train_feed), *common], env=env, check=True, capture_output=True
+    )
+    train_seconds = time.perf_counter() - started
+    started = time.perf_counter()
+    subprocess.run(
+        [*cli, "map", str(test_feed), *common, "--out", str(out_dir), "--backoff-threshold", "0",
+         "--workers", "1"],
+        env=env, check=True, capture_output=True,
+    )
+    map_seconds = time.perf_counter() - started
+    found = {}
+    with (out_dir / "mappings.jsonl").open(encoding="utf-8") as lines:
+        for line in lines:
+            row = json.loads(line)
+            found[row["product_id"]] = row["node_id"]
+    predicted = [found.get(f"test-{i}", "") for i in range(len(x_test))]
+    return {
+        "name": "catmap CLI",
+        "accuracy": float(accuracy_score(y_test, predicted)),
+        "macro_f1": float(f1_score(y_test, predicted, average="macro")),
+        "train_seconds": train_seconds,
+        "peak_mb": resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss / 1024,
+        "per_second": len(x_test) / map_seconds,
+    }
+
+
+def speed_rounds(data_file: str, tree_file: str, save_dir: str, rounds: int) -> dict[str, Any]:
+    """Products/s of catmap and fastText in one process, one thread, in alternate rounds.
+
+    Both predict the whole test split each round from their saved models (catmap:
+    ``CategoryModel.top_k(texts, 1)``; fastText: its predict per text). Returns each one's
+    per-round figures and the load average before and after.
+    """
+    import os
+
+    import fasttext
+
+    from catmap.classify.features import ProductTexts
+    from catmap.classify.storage import load_model
+    from catmap.tree.taxonomy import load_tree
+
+    x_test = json.loads(Path(data_file).read_text(encoding="utf-8"))["x_test"]
+    model, _ = load_model(Path(save_dir) / "catmap-model", load_tree(tree_file))
+    model.prepare()
+    ft = fasttext.load_model(str(Path(save_dir) / "fasttext.bin"))
+    empty = [""] * len(x_test)
+    texts = ProductTexts(list(x_test), empty, empty, empty)
+    load_before = os.getloadavg()
+    figures: dict[str, list[float]] = {"catmap": [], "fasttext": []}
+    with _one_thread():
+        for _ in range(rounds):
+            started = time.perf_counter()
+            model.top_k(texts, 1)
+            figures["catmap"].append(len(x_test) / (time.perf_counter() - started))
+            started = time.perf_counter()
+            fasttext_predict(ft, x_test)
+            figures["fasttext"].append(len(x_test) / (time.perf_counter() - started))
+    return {"rounds": figures, "load": [load_before, os.getloadavg()]}
 
 
 def main(argv: list[str] | None = None) -> int:
     parser = argparse.ArgumentParser(description=__doc__.split("\n\n")[0])
     parser.add_argument(
-        "--only", default="catmap,logreg,svc,fasttext",
-        help="comma-separated subset of: catmap, logreg, svc, fasttext",
+        "--only", default="catmap,cli,logreg,svc,fasttext",
+        help="comma-separated subset of: catmap, cli, logreg, svc, fasttext",
+    )
+    parser.add_argument(
+        "--rounds", type=int, default=5,
+        help="alternate speed rounds of catmap and fastText (default 5; 0: none)",
     )
     parser.add_argument(
         "--catmap-option",
@@ -262,6 +413,8 @@ def main(argv: list[str] | None = None) -> int:
         flush=True,
     )
     rows = []
+    speed: dict[str, Any] | None = None
+    chosen = [n.strip() for n in args.only.split(",") if n.strip()]
     with tempfile.TemporaryDirectory(prefix="catmap-debian-") as tmp:
         data_file = Path(tmp) / "split.json"
         data_file.write_text(
@@ -270,30 +423,60 @@ def main(argv: list[str] | None = None) -> int:
             ),
             encoding="utf-8",
         )
-        for name in [n.strip() for n in args.only.split(",") if n.strip()]:
+        for name in chosen:
             with multiprocessing.get_context("spawn").Pool(1) as pool:
-                row = pool.apply(run_model, (name, str(data_file), str(tree_file), options))
+                if name == "cli":
+                    row = pool.apply(run_cli, (str(data_file), str(tree_file), tmp))
+                else:
+                    row = pool.apply(
+                        run_model, (name, str(data_file), str(tree_file), options, tmp)
+                    )
             rows.append(row)
             print(f"  {row}", file=sys.stderr, flush=True)
+        saved = (Path(tmp) / "catmap-model").is_dir() and (Path(tmp) / "fasttext.bin").is_file()
+        if args.rounds > 0 and saved:
+            with multiprocessing.get_context("spawn").Pool(1) as pool:
+                speed = pool.apply(
+                    speed_rounds, (str(data_file), str(tree_file), tmp, args.rounds)
+                )
     header = (
-        f"{'model':<10} {'acc':>6} {'macroF1':>8} {'train s':>8} {'peak MB':>8} "
+        f"{'model':<11} {'acc':>6} {'macroF1':>8} {'train s':>8} {'peak MB':>8} "
         f"{'products/s':>11}"
     )
     print(header)
     print("-" * len(header))
     for r in rows:
         if "skipped" in r:
-            print(f"{r['name']:<10} skipped: {r['skipped']}")
+            print(f"{r['name']:<11} skipped: {r['skipped']}")
             continue
         print(
-            f"{r['name']:<10} {r['accuracy']:>6.3f} {r['macro_f1']:>8.3f} "
+            f"{r['name']:<11} {r['accuracy']:>6.3f} {r['macro_f1']:>8.3f} "
             f"{r['train_seconds']:>8.1f} {r['peak_mb']:>8.0f} {r['per_second']:>11,.0f}"
         )
+    for r in rows:
+        if r.get("note"):
+            print(f"  {r['name']}: {r['note']}")
+    if speed is not None:
+        cat, ft = speed["rounds"]["catmap"], speed["rounds"]["fasttext"]
+        print(
+            f"\nalternate speed rounds ({len(cat)}, one process, one thread, test split, "
+            f"load average {speed['load'][0][0]:.1f} before, {speed['load'][1][0]:.1f} after on "
+            f"{multiprocessing.cpu_count()} cores), products/s:"
+        )
+        print("  catmap   " + " ".join(f"{v:>8,.0f}" for v in cat)
+              + f"   median {sorted(cat)[len(cat) // 2]:,.0f}")
+        print("  fasttext " + " ".join(f"{v:>8,.0f}" for v in ft)
+              + f"   median {sorted(ft)[len(ft) // 2]:,.0f}")
     print(
-        "\ncatmap: CategoryModel via the Python API on the tree file above (90% of train fits, "
-        "10% calibrates); logreg: TF-IDF word 1-2 + LogisticRegression(C=10); svc: TF-IDF word "
-        "1-2 + char_wb 2-5 + LinearSVC(C=0.5); fasttext: wordNgrams=2, 25 epochs. Text: package "
-        "name + summary. products/s: predicting the test split in-process, one thread."
+        "\nData: the Debian archive's package index (apt-cache dumpavail). catmap: fit_model "
+        "via the Python API on the tree file above (calibrated and its structure chosen on a "
+        "seeded tenth of train, trained on the rest); catmap CLI: `catmap train "
+        "--tree-file` on a CSV of the train split, then `catmap map --tree-file "
+        "--backoff-threshold 0 --workers 1` on a CSV of the test split, each timed from "
+        "start-up (train s and products/s include it; peak MB is the larger process); logreg: "
+        "TF-IDF word 1-2 + LogisticRegression(C=10); svc: TF-IDF word 1-2 + char_wb 2-5 + "
+        "LinearSVC(C=0.5); fasttext: wordNgrams=2, 25 epochs. Text: package name + summary. "
+        "products/s in-process: predicting the test split, one thread."
     )
     return 0
 

@@ -32,6 +32,7 @@ from catmap.tree.taxonomy import CategoryTree
 
 __all__ = [
     "CONSENSUS_WEIGHT_GRID",
+    "FLAT_MAX_CLASSES",
     "LabelledData",
     "TrainingReport",
     "consensus_blend",
@@ -40,6 +41,17 @@ __all__ = [
 ]
 
 CONSENSUS_WEIGHT_GRID = (0.0, 0.1, 0.2, 0.3, 0.4, 0.5)
+# Up to this many classes, a flat model (one classifier over every class) is trained beside the
+# department step and the one with the better validation macro-F1 is kept; above it, the
+# department step alone (a flat classifier over a thousand classes trains too slowly and the
+# department step holds the demo world's results). A chosen setting (common practice, no
+# source).
+FLAT_MAX_CLASSES = 300
+# The flat candidate's own settings where the options leave them: every term seen once and no
+# pruning (a few classes keep the weights small). On validation slices of the Debian sections'
+# training split (benchmarks/bench_real_sections.py) they added 0.003 macro-F1 to the flat model
+# (0.798 to 0.802, both retrained on their validation tenth as an earlier version did).
+FLAT_SETTINGS: dict[str, Any] = {"min_df": 1, "prune_below": 0.0}
 VALID_SHARE = 0.1
 # Above this share of labelled rows naming nodes the tree lacks, the labels most likely belong
 # to another tree, and training stops (a chosen setting: a few retired ids are normal, a
@@ -329,6 +341,71 @@ def _choose_consensus_weight(
     return best_w, {"valid_accuracy_with_consensus": best_acc}
 
 
+def fit_model(
+    tree: CategoryTree,
+    texts: ProductTexts,
+    labels: Sequence[str],
+    valid_texts: ProductTexts,
+    valid_labels: Sequence[str],
+    *,
+    options: dict[str, Any] | None = None,
+    on_stage: Callable[[str], None] | None = None,
+) -> CategoryModel:
+    """Train and calibrate the model ``catmap train`` saves, choosing its structure.
+
+    With no ``hierarchical`` option and at most :data:`FLAT_MAX_CLASSES` classes, both
+    structures are trained and calibrated (the flat one with :data:`FLAT_SETTINGS` where the
+    options leave them), and the one with the better validation macro-F1
+    (``sklearn.metrics.f1_score(average="macro")``) is kept, the department step on a tie. With
+    more classes, or a structure given, one model is trained and calibrated, as before. The
+    validation products never train the model: onboarding calibrates its accept threshold on
+    them as held-out products.
+
+    Args:
+        tree: the category tree.
+        texts: training texts.
+        labels: their node ids.
+        valid_texts: validation texts (calibration and the choice).
+        valid_labels: their node ids.
+        options: :class:`CategoryModel` keyword arguments.
+        on_stage: told each stage.
+
+    Returns:
+        The calibrated model.
+
+    Raises:
+        ValueError: as :meth:`CategoryModel.fit`.
+    """
+    from sklearn.metrics import f1_score
+
+    stage = on_stage or (lambda _text: None)
+    options = dict(options or {})
+    given = options.pop("hierarchical", None)
+    choices = [True if given is None else bool(given)]
+    if given is None and len(valid_labels) and len(set(labels)) <= FLAT_MAX_CLASSES:
+        choices = [True, False]
+    best: tuple[float, CategoryModel | None] = (-1.0, None)
+    for hierarchical in choices:
+        structure = "department step" if hierarchical else "flat"
+        stage(f"training ({structure}) on {len(labels):,} products")
+        settings = options if hierarchical or len(choices) == 1 else {**FLAT_SETTINGS, **options}
+        model = CategoryModel(tree=tree, hierarchical=hierarchical, **settings).fit(texts, labels)
+        stage(f"calibrating ({structure}) on {len(valid_labels):,} products")
+        model.calibrate(valid_texts, valid_labels)
+        if len(choices) == 1:
+            best = (0.0, model)
+            break
+        predicted = [str(c) for c in model.predict(valid_texts)]
+        score = float(f1_score(list(valid_labels), predicted, average="macro"))
+        model.metrics_["valid_macro_f1"] = score
+        model.metrics_["structure"] = structure
+        if score > best[0]:
+            best = (score, model)
+    chosen = best[1]
+    assert chosen is not None
+    return chosen
+
+
 def folder_bytes(folder: Path) -> int:
     """Return the total size of the files in a folder."""
     return sum(p.stat().st_size for p in folder.iterdir() if p.is_file())
@@ -397,12 +474,12 @@ def train_model(
     # The model keeps min(count, cap) products of each class (a seeded sample): say so.
     used = {label: min(count, cap) if cap else count for label, count in per_class.items()}
     stage(f"training on {sum(used.values()):,} of {len(labels):,} products")
-    model = CategoryModel(tree=tree, **options).fit(texts, labels)
-    del texts
-    stage(f"calibrating on {len(valid.labels):,} products")
     valid_texts = valid.texts()
     valid_labels = valid.labels
-    model.calibrate(valid_texts, valid_labels)
+    model = fit_model(
+        tree, texts, labels, valid_texts, valid_labels, options=options, on_stage=stage
+    )
+    del texts
     consensus_weight, consensus_metrics = _choose_consensus_weight(model, valid_texts, valid_labels)
     model.metrics_.update(consensus_metrics)
     elapsed = time.perf_counter() - started

@@ -150,6 +150,11 @@ def train_command(
         f"  ECE (15 bins)        {metrics.get('valid_ece_before_calibration', 0):.3f} before "
         f"calibration, {metrics.get('valid_ece', 0):.3f} after"
     )
+    if "structure" in metrics:
+        console.print(
+            f"  structure            {metrics['structure']} (the better validation macro-F1, "
+            f"{metrics['valid_macro_f1']:.3f})"
+        )
     console.print(f"  keyword weight       {metrics.get('keyword_weight', 0):.2f}")
     console.print(f"  consensus weight     {metrics.get('consensus_weight', 0):.2f}")
     console.print(f"  training time        {facts['training_seconds']:.1f} s")
