@@ -18,6 +18,22 @@ console = Console(highlight=False)
 err_console = Console(stderr=True, highlight=False)
 
 
+def spinner(*middle: str) -> Any:
+    """A transient progress line on stderr (only on a terminal): spinner, the task's
+    description (or the ``middle`` columns' templates, when given), elapsed time."""
+    from rich.progress import Progress, SpinnerColumn, TextColumn, TimeElapsedColumn
+
+    columns = [TextColumn(text) for text in (middle or ("{task.description}",))]
+    return Progress(
+        SpinnerColumn(),
+        *columns,
+        TimeElapsedColumn(),
+        console=err_console,
+        transient=True,
+        disable=not err_console.is_terminal,
+    )
+
+
 def _default(value: Any) -> Any:
     if isinstance(value, Decimal):
         return str(value)

@@ -8,10 +8,15 @@ from typing import Any
 
 import click
 from rich.markup import escape
-from rich.progress import Progress, SpinnerColumn, TextColumn, TimeElapsedColumn
 from rich.table import Table
 
-from catmap.cli._render import console, echo_json, err_console, feed_name_option, json_option
+from catmap.cli._render import (
+    console,
+    echo_json,
+    feed_name_option,
+    json_option,
+    spinner,
+)
 from catmap.cli._render import project_option as _project_option
 from catmap.feeds.ingest import Accounting, OutputPaths
 from catmap.feeds.normalize import normalize_currency
@@ -229,15 +234,7 @@ def normalize_command(
                 param_hint="--currency",
             )
 
-    with Progress(
-        SpinnerColumn(),
-        TextColumn("normalising {task.description}"),
-        TextColumn("{task.completed:,.0f} records"),
-        TimeElapsedColumn(),
-        console=err_console,
-        transient=True,
-        disable=not err_console.is_terminal,
-    ) as progress:
+    with spinner("normalising {task.description}", "{task.completed:,.0f} records") as progress:
         task = progress.add_task(feed.name, total=None)
 
         def show(current: Accounting) -> None:

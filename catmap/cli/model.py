@@ -7,7 +7,6 @@ from typing import Any
 
 import click
 from rich.markup import escape
-from rich.progress import Progress, SpinnerColumn, TextColumn, TimeElapsedColumn
 from rich.table import Table
 
 from catmap.classify.training import MAX_UNKNOWN_LABEL_SHARE, default_max_per_class
@@ -19,6 +18,7 @@ from catmap.cli._render import (
     feed_name_option,
     json_option,
     model_option,
+    spinner,
     tree_file_option,
 )
 from catmap.cli._render import project_option as _project_option
@@ -92,14 +92,7 @@ def train_command(
     rows with split=valid calibrate when a split column exists; else a seeded 90/10 split is made.
     The project of `catmap demo` trains on the demo reference catalog.
     """
-    with Progress(
-        SpinnerColumn(),
-        TextColumn("{task.description}"),
-        TimeElapsedColumn(),
-        console=err_console,
-        transient=True,
-        disable=not err_console.is_terminal,
-    ) as progress, PipedProgress("training") as lines:
+    with spinner() as progress, PipedProgress("training") as lines:
         task = progress.add_task("starting", total=None)
 
         def show(text: str) -> None:
@@ -279,15 +272,10 @@ def map_command(
             as_json=as_json,
         )
         return
-    with Progress(
-        SpinnerColumn(),
-        TextColumn("mapping {task.description}"),
-        TextColumn("{task.completed:,.0f} records"),
-        TimeElapsedColumn(),
-        console=err_console,
-        transient=True,
-        disable=not err_console.is_terminal,
-    ) as progress, PipedProgress(f"mapping {feed.name}") as lines:
+    with (
+        spinner("mapping {task.description}", "{task.completed:,.0f} records") as progress,
+        PipedProgress(f"mapping {feed.name}") as lines,
+    ):
         task = progress.add_task(feed.name, total=None)
 
         def show(read: int) -> None:
@@ -335,14 +323,7 @@ def _map_on_cluster(
             f"{where.rows:,} records, {where.rows_per_second:,.0f}/s",
         )
 
-    with Progress(
-        SpinnerColumn(),
-        TextColumn("{task.description}"),
-        TimeElapsedColumn(),
-        console=err_console,
-        transient=True,
-        disable=not err_console.is_terminal,
-    ) as progress:
+    with spinner() as progress:
         task = progress.add_task(f"starting {cluster}", total=None)
         result = map_project_feed_on_cluster(
             feed, out_dir, cluster=cluster, project=project_dir(project), on_progress=show,
@@ -387,14 +368,7 @@ def _map_several(
         )
     names = unique_feed_names(feeds)
     folder = project_dir(project)
-    with Progress(
-        SpinnerColumn(),
-        TextColumn("{task.description}"),
-        TimeElapsedColumn(),
-        console=err_console,
-        transient=True,
-        disable=not err_console.is_terminal,
-    ) as progress, PipedProgress(f"mapping {len(feeds)} feeds") as lines:
+    with spinner() as progress, PipedProgress(f"mapping {len(feeds)} feeds") as lines:
         tasks = {name: progress.add_task(f"{name}: waiting", total=None) for name in names}
         shown: set[str] = set()
 

@@ -12,7 +12,7 @@ from typing import Any
 import click
 from rich import box
 from rich.markup import escape
-from rich.progress import Progress, SpinnerColumn, TextColumn, TimeElapsedColumn
+from rich.progress import Progress
 from rich.table import Table
 
 from catmap.cli._render import (
@@ -22,6 +22,7 @@ from catmap.cli._render import (
     err_console,
     feed_name_option,
     json_option,
+    spinner,
     tree_file_option,
 )
 from catmap.cli._render import project_option as _project_option
@@ -49,15 +50,7 @@ def _say(*objects: Any) -> None:
 
 
 def _progress() -> Progress:
-    return Progress(
-        SpinnerColumn(),
-        TextColumn("{task.description}"),
-        TextColumn("{task.completed:,.0f} records"),
-        TimeElapsedColumn(),
-        console=err_console,
-        transient=True,
-        disable=not err_console.is_terminal,
-    )
+    return spinner("{task.description}", "{task.completed:,.0f} records")
 
 
 @contextmanager
@@ -223,14 +216,7 @@ def _feeds_progress(
     """
     shown: set[str] = set()
     label = f"onboarding {len(feeds)} feeds" if len(feeds) > 1 else f"onboarding {feeds[0].name}"
-    with Progress(
-        SpinnerColumn(),
-        TextColumn("{task.description}"),
-        TimeElapsedColumn(),
-        console=err_console,
-        transient=True,
-        disable=not err_console.is_terminal,
-    ) as progress, PipedProgress(label) as piped:
+    with spinner() as progress, PipedProgress(label) as piped:
         tasks: dict[str, Any] = {}
 
         def text(name: str, what: str, count: int | None) -> None:
