@@ -17,6 +17,7 @@ import json
 import os
 import re
 import tomllib
+from collections.abc import Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -139,6 +140,41 @@ def feed_name(feed_path: str | Path, given: str | None = None) -> str:
             "starting with a letter or digit",
         )
     return name
+
+
+def feed_names(
+    feed_paths: Sequence[str | Path], given: str | None = None, *, verb: str
+) -> list[str]:
+    """Return the names of the feeds of one run, checked to differ.
+
+    Args:
+        feed_paths: the feed files, in the order given.
+        given: the name given with ``--feed`` (one feed only).
+        verb: what the run does ("map", "onboard"), for the hints.
+
+    Returns:
+        Each feed's name (:func:`feed_name`), in order.
+
+    Raises:
+        InputError: ``--feed`` was given with several feeds, or two feeds have the same name.
+    """
+    if given is not None and len(feed_paths) > 1:
+        raise InputError(
+            "--feed names one feed, and several were given",
+            field="--feed",
+            hint=f"{verb} the feeds one by one to name each, or let their file names name them",
+        )
+    names = [feed_name(path, given) for path in feed_paths]
+    seen: dict[str, str | Path] = {}
+    for path, name in zip(feed_paths, names, strict=True):
+        if name in seen:
+            raise InputError(
+                f"two feeds are named '{name}': {seen[name]} and {path}",
+                path=path,
+                hint=f"{verb} them in separate runs, each with --feed NAME",
+            )
+        seen[name] = path
+    return names
 
 
 def profile_path(

@@ -10,6 +10,7 @@ from catmap.errors import InputError
 from catmap.project import (
     ProjectSettings,
     feed_name,
+    feed_names,
     feed_stem,
     is_demo_project,
     load_settings,
@@ -86,3 +87,14 @@ def test_damaged_settings_are_an_input_error(tmp_path: Path) -> None:
     settings_path(tmp_path).write_text("[train]\nlabelled = 3\n", encoding="utf-8")
     with pytest.raises(InputError, match="not in catmap's format"):
         load_settings(tmp_path)
+
+
+def test_feed_names_of_one_run_must_differ() -> None:
+    """A run of several feeds names each by its file; two files that name one feed (a dated
+    copy of the same retailer's export) are refused, and --feed names one feed only."""
+    assert feed_names(["a/shop-a.csv", "b/shop-b.xml"], verb="map") == ["shop-a", "shop-b"]
+    assert feed_names(["x.csv"], "mine", verb="onboard") == ["mine"]
+    with pytest.raises(InputError, match="two feeds are named 'shop-a'"):
+        feed_names(["shop-a_2026-11-30.csv", "shop-a.csv.gz"], verb="onboard")
+    with pytest.raises(InputError, match="--feed names one feed"):
+        feed_names(["a.csv", "b.csv"], "mine", verb="map")

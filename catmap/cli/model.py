@@ -357,16 +357,10 @@ def _map_several(
     from catmap.jobs.cluster import (
         ClusterProgress,
         map_project_feeds_on_cluster,
-        unique_feed_names,
     )
+    from catmap.project import feed_names
 
-    if feed_name is not None:
-        raise InputError(
-            "--feed names one feed, and several were given",
-            field="--feed",
-            hint="map the feeds one by one to name each, or let their file names name them",
-        )
-    names = unique_feed_names(feeds)
+    names = feed_names(feeds, feed_name, verb="map")
     folder = project_dir(project)
     with spinner() as progress, PipedProgress(f"mapping {len(feeds)} feeds") as lines:
         tasks = {name: progress.add_task(f"{name}: waiting", total=None) for name in names}

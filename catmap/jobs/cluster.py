@@ -87,7 +87,7 @@ from catmap.feeds.read import FeedInfo
 from catmap.feeds.writers import open_reject_writer
 from catmap.jobs.map import MapResult, project_mapper
 from catmap.jobs.onboard import default_model_dir
-from catmap.project import feed_stem, subfolder
+from catmap.project import feed_names, feed_stem, subfolder
 from catmap.records import Product, Reject, SourceRecord
 from catmap.tree.taxonomy import load_default_tree
 
@@ -100,7 +100,6 @@ __all__ = [
     "map_project_feeds_on_cluster",
     "open_cluster",
     "share",
-    "unique_feed_names",
 ]
 
 # Task attempts after the first when a task fails or its worker is lost.
@@ -1123,7 +1122,7 @@ def map_project_feeds_on_cluster(
     """
     from concurrent.futures import ThreadPoolExecutor
 
-    names = unique_feed_names(feeds)
+    names = feed_names(feeds, verb="map")
     with open_cluster(cluster) as client:
 
         def one(index: int) -> MapResult:
@@ -1141,22 +1140,3 @@ def map_project_feeds_on_cluster(
 
         with ThreadPoolExecutor(max_workers=max(1, len(feeds))) as pool:
             return list(pool.map(one, range(len(feeds))))
-
-
-def unique_feed_names(feeds: list[Path]) -> list[str]:
-    """The feeds' names (file names without dates and run counters), checked to differ.
-
-    Raises:
-        InputError: two feeds have the same name.
-    """
-    names = [feed_stem(feed) for feed in feeds]
-    seen: dict[str, Path] = {}
-    for feed, name in zip(feeds, names, strict=True):
-        if name in seen:
-            raise InputError(
-                f"two feeds are named '{name}': {seen[name]} and {feed}",
-                path=feed,
-                hint="map them in separate runs, each with its own --out",
-            )
-        seen[name] = feed
-    return names

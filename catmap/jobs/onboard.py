@@ -79,7 +79,7 @@ from catmap.jobs._gold import GoldCheck, check_against_gold
 from catmap.jobs._project_tree import check_store_tree, open_project_tree
 from catmap.jobs._remap_versions import check_onboarding, record_feed_versions
 from catmap.jobs.audit import raised_floor
-from catmap.project import feed_name, load_settings, subfolder
+from catmap.project import feed_name, feed_names, load_settings, subfolder
 from catmap.records import Attributes, Mapping, Product, Reject
 from catmap.store import MappedRow, Store, store_path
 from catmap.tree.taxonomy import CategoryTree
@@ -460,22 +460,7 @@ def onboard_feeds(
         ClusterError: the cluster cannot be started or reached, or failed.
     """
     paths = [Path(f) for f in feed_paths]
-    if feed is not None and len(paths) > 1:
-        raise InputError(
-            "--feed names one feed, and several were given",
-            field="--feed",
-            hint="onboard the feeds one by one to name each, or let their file names name them",
-        )
-    names = [feed_name(path, feed) for path in paths]
-    seen: dict[str, Path] = {}
-    for path, name in zip(paths, names, strict=True):
-        if name in seen:
-            raise InputError(
-                f"two feeds are named '{name}': {seen[name]} and {path}",
-                path=path,
-                hint="onboard them in separate runs with --feed NAME",
-            )
-        seen[name] = path
+    names = feed_names(paths, feed, verb="onboard")
     prepared: list[PreparedOnboarding] = []
     starts: list[float] = []
     for path, name in zip(paths, names, strict=True):
