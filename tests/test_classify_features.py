@@ -2,11 +2,20 @@
 
 from __future__ import annotations
 
+import pickle
+from unittest.mock import patch
+
 import numpy as np
 import pytest
 from sklearn.feature_extraction.text import TfidfVectorizer
 
-from catmap.classify._wordcache import WordCachedTfidf, WordNgramTfidf, fast_transformer
+from catmap.classify import _wordcache
+from catmap.classify._wordcache import (
+    WordCachedTfidf,
+    WordNgramTfidf,
+    _WordIndex,
+    fast_transformer,
+)
 
 TRAIN = [
     "Bottines cuir femme noir",
@@ -146,3 +155,44 @@ def test_class_cap_keeps_at_most_the_cap_of_each_label_and_every_small_class_who
     kept = [labels[i] for i in keep]
     assert kept.count("a") == 4 and kept.count("b") == 3 and kept.count("c") == 4
     assert list(keep) == sorted(set(keep.tolist()))
+
+
+SPLIT_CASES = [
+    "ΟΔΟΣ Σίσυφος ΣΑΣ",  # final sigma: lower-cased as a whole text, ends at each text's end
+    "İstanbul İİ",  # lower-casing makes this text longer
+    "a\u3000b\u00a0c\u2028d\x1ce\x1ff\u205fg",  # what str.split() splits on, beyond ASCII
+    "zero\u200bwidth stays one word",  # not whitespace for str.split()
+    "",
+    "   ",
+    "\U0001f525 fire\U0001f525",
+    "tab\tand\nnewline",
+]
+
+
+@pytest.mark.parametrize("texts", [SPLIT_CASES, [*SPLIT_CASES, "a\x00b", "\x00"], []])
+def test_word_index_cuts_like_str_split(texts: list[str]) -> None:
+    index = _WordIndex(max_words=7)  # small: restarts along the way
+    for batch in (texts, texts[::-1], texts):
+        split = index.split(batch)
+        got = [
+            [split.words[n] for n in split.numbers[a:b]]
+            for a, b in zip(split.indptr[:-1], split.indptr[1:], strict=True)
+        ]
+        # reference: Python's own str.lower and str.split
+        assert got == [text.lower().split() for text in batch]
+
+
+def test_a_cache_sent_to_another_process_starts_empty_and_stays_exact() -> None:
+    vectorizer = TfidfVectorizer(analyzer="char_wb", ngram_range=(3, 4), sublinear_tf=True).fit(
+        TRAIN
+    )
+    fast = WordCachedTfidf(vectorizer)
+    expected = vectorizer.transform(QUERIES).toarray()
+    assert np.allclose(fast.transform(QUERIES).toarray(), expected, atol=1e-6)
+    copy = pickle.loads(pickle.dumps(fast))
+    # The other process's word index numbers words otherwise (here: other words first).
+    other = _WordIndex()
+    other.split(["completely different words first", *PUNCTUATED])
+    with patch.object(_wordcache, "_WORDS", other), patch.object(_wordcache, "_RECENT_SPLITS", []):
+        # reference: scikit-learn's own TfidfVectorizer.transform
+        assert np.allclose(copy.transform(QUERIES).toarray(), expected, atol=1e-6)

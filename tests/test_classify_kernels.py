@@ -9,10 +9,20 @@ from __future__ import annotations
 import numpy as np
 import pytest
 import scipy.sparse as sp
-from sklearn.feature_extraction.text import TfidfTransformer
+from sklearn.feature_extraction.text import TfidfTransformer, TfidfVectorizer
 from sklearn.preprocessing import normalize
 
-from catmap.classify._kernels import add_rows, idf_l2_rows, pack_rows, score_rows, sum_rows
+from catmap.classify._kernels import (
+    add_rows,
+    dense_rows,
+    idf_l2_rows,
+    pack_rows,
+    score_columns_dense,
+    score_rows,
+    score_words_dense,
+    sum_rows,
+)
+from catmap.classify._wordcache import WordCachedTfidf
 
 
 def _random_csr(rows: int, columns: int, density: float, seed: int) -> sp.csr_matrix:
@@ -84,3 +94,55 @@ def test_idf_and_row_norm_equal_the_tfidf_transformer_bit_for_bit() -> None:
     idf_l2_rows(got.indptr, got.indices, got.data, np.asarray(transformer.idf_, np.float64))
     # reference: scikit-learn's TfidfTransformer on the same float32 counts
     assert np.array_equal(got.toarray(), transformer.transform(counts).toarray())
+
+
+def test_dense_weights_by_column_add_the_selected_rows_product() -> None:
+    x = _random_csr(50, 120, 0.1, 10)
+    keep = np.ones(120, dtype=np.float32)
+    keep[5] = 0  # an empty weight row is left out of the dense block
+    w = sp.csr_matrix(sp.diags(keep) @ _random_csr(120, 9, 0.5, 11))
+    w.eliminate_zeros()
+    row_of, block = dense_rows(w)
+    assert row_of[5] == -1 and block.shape == (119, 9)
+    rows = np.array([7, 0, 49, 22], dtype=np.int64)
+    out_row = np.full(50, -1, dtype=np.int64)
+    out_row[rows] = np.arange(len(rows))
+    out = np.ones((len(rows), 9), dtype=np.float32)
+    csc = x.tocsc()
+    score_columns_dense(csc.indptr, csc.indices, csc.data, out_row, row_of, block, out)
+    # reference: SciPy row indexing and sparse product
+    assert np.allclose(out, 1.0 + (x[rows] @ w).toarray(), rtol=1e-5)
+
+
+@pytest.mark.parametrize("sublinear", [True, False])
+def test_scoring_by_words_equals_scoring_the_tfidf_matrix(sublinear: bool) -> None:
+    texts = [
+        "ankle boots ankle boots",  # repeated words: sublinear tf differs from a word sum
+        "bottines cuir noir",
+        "banana bandana",  # n-grams repeated inside a word and across words
+        "",
+        "unseen zzq",
+    ]
+    vectorizer = TfidfVectorizer(
+        analyzer="char_wb", ngram_range=(2, 4), sublinear_tf=sublinear
+    ).fit(["ankle boots black", "bottines cuir noir", "banana bread", "bandana red"])
+    cache = WordCachedTfidf(vectorizer)
+    offsets, numbers, rows = cache.cached_words(texts)
+    n_features = len(vectorizer.vocabulary_)
+    w = _random_csr(n_features + 3, 6, 0.6, 12)  # the block starts at row 3 of the weights
+    row_of, block = dense_rows(w)
+    out_row = np.array([0, 1, 2, 3, -1], dtype=np.int64)  # the last text is not scored
+    out = np.zeros((4, 6), dtype=np.float32)
+    scores = np.zeros((rows.shape[0], 6), dtype=np.float32)
+    ready = np.zeros(rows.shape[0], dtype=np.uint8)
+    for _ in range(2):  # the second time from the per-word scores made the first time
+        out[:] = 0.0
+        score_words_dense(
+            offsets, numbers, rows.indptr, rows.indices, rows.data,
+            cache.idf[rows.indices], sublinear, 0.5, row_of, block, 3,
+            scores, ready, out_row, out,
+        )
+        # reference: scikit-learn's own TfidfVectorizer.transform, then SciPy's product
+        expected = 0.5 * (vectorizer.transform(texts[:4]) @ w[3:]).toarray()
+        assert np.allclose(out, expected, atol=1e-5)
+    assert ready[numbers[: offsets[4]]].all()  # the scored texts' words, made once

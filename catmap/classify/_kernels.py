@@ -31,13 +31,18 @@ from numba import njit
 __all__ = [
     "add_rows",
     "char_wb_features",
+    "dense_rows",
     "hash_table",
     "idf_l2_rows",
+    "index_words",
     "mix_keys",
     "pack_rows",
     "score_rows",
+    "score_words_dense",
+    "score_columns_dense",
     "string_hashes",
     "sum_rows",
+    "table_add",
     "token_ngram_counts",
 ]
 
@@ -214,6 +219,173 @@ def score_rows(
                 out[i, w_columns[2 * q]] += value * w_values[2 * q + 1]
 
 
+def dense_rows(matrix: sp.csr_matrix) -> tuple[Array, Array]:
+    """Return a CSR matrix's non-empty rows as a dense block, for :func:`score_columns_dense`.
+
+    Returns:
+        (row_of, block): ``row_of[f]`` is row f's place in ``block`` (-1: an empty row);
+        ``block`` is (non-empty rows, columns) float32, C order.
+    """
+    matrix = sp.csr_matrix(matrix)
+    used = np.flatnonzero(np.diff(matrix.indptr))
+    row_of = np.full(matrix.shape[0], -1, dtype=np.int64)
+    row_of[used] = np.arange(len(used))
+    block = np.ascontiguousarray(matrix[used].toarray(), dtype=np.float32)
+    return row_of, block
+
+
+@njit(cache=True, nogil=True, fastmath=True)
+def score_columns_dense(
+    x_indptr: Array,
+    x_indices: Array,
+    x_data: Array,
+    out_row: Array,
+    row_of: Array,
+    block: Array,
+    out: Array,
+    offset: int = 0,
+) -> None:
+    """As :func:`score_rows`, with ``X`` in CSC form and ``W`` from :func:`dense_rows`.
+
+    Feature by feature: each weight row is fetched once per batch and added, with vector
+    instructions, to the rows that hold the feature. Row by row, the same weight row would be
+    fetched again for every product holding it, and those fetches are most of the time.
+
+    Args:
+        x_indptr, x_indices, x_data: ``X`` in CSC form.
+        out_row: the row of ``out`` each row of ``X`` adds to (-1: not scored).
+        row_of, block: ``W`` from :func:`dense_rows`.
+        out: float32 (scored rows, k), usually holding the intercepts already.
+        offset: as in :func:`score_rows`.
+    """
+    k = block.shape[1]
+    for column in range(len(x_indptr) - 1):
+        r = row_of[column + offset]
+        if r < 0:
+            continue
+        for p in range(x_indptr[column], x_indptr[column + 1]):
+            i = out_row[x_indices[p]]
+            if i < 0:
+                continue
+            value = x_data[p]
+            for c in range(k):
+                out[i, c] += value * block[r, c]
+
+
+@njit(cache=True, nogil=True, fastmath=True)
+def score_words_dense(
+    groups: Array,
+    words: Array,
+    c_indptr: Array,
+    c_indices: Array,
+    c_data: Array,
+    c_idf: Array,
+    sublinear: bool,
+    weight: float,
+    row_of: Array,
+    block: Array,
+    offset: int,
+    word_scores: Array,
+    word_ready: Array,
+    out_row: Array,
+    out: Array,
+) -> None:
+    """Score one TF-IDF block straight from the texts' words, each word's scores made once.
+
+    The block's vector of a text is ``g(c) · idf / ‖g(c) · idf‖`` where ``c`` is the sum of its
+    words' cached count rows and ``g`` is ``1 + log`` (sublinear tf) or the identity. Its scores
+    are ``W`` applied to that vector. As ``c`` is a sum over words, ``W (c · idf)`` is the sum of
+    each word's ``W (c_w · idf)``: a dense row per distinct word, made the first time the word is
+    seen (``word_scores``, ``word_ready``) and then added per occurrence. The terms a word sum
+    gets wrong are the n-grams a text holds more than once under sublinear tf; they are put right
+    one by one, and the norm is taken from ``c`` itself. The result equals scoring the block's
+    TF-IDF matrix (:func:`score_columns_dense`), up to float32 rounding.
+
+    Args:
+        groups: (texts + 1,) offsets into ``words``.
+        words: the cached-word number of each word of each text.
+        c_indptr, c_indices, c_data: the cached words' n-gram count rows (CSR).
+        c_idf: the idf of each entry's n-gram (float64, beside ``c_data``).
+        sublinear: the vectorizer's ``sublinear_tf``.
+        weight: the block's weight.
+        row_of, block: ``W`` from :func:`dense_rows`.
+        offset: the row of ``W`` that the block's first feature stands for.
+        word_scores: float32 (cached words, k): each word's ``W (c_w · idf)``, once ready.
+        word_ready: uint8 per cached word, set here when its row of ``word_scores`` is made.
+        out_row: the row of ``out`` each text adds to (-1: not scored).
+        out: float32 (scored texts, k).
+    """
+    k = block.shape[1]
+    bound = 0
+    for i in range(len(groups) - 1):
+        size = 0
+        for j in range(groups[i], groups[i + 1]):
+            size += c_indptr[words[j] + 1] - c_indptr[words[j]]
+        bound = max(bound, size)
+    # A text's n-gram counts in a small hash table (a few hundred slots, in the fastest cache)
+    # rather than in arrays as long as the vocabulary, read at random.
+    size = 16
+    while size < 2 * bound:
+        size *= 2
+    slot_feature = np.full(size, -1, dtype=np.int64)
+    slot_count = np.zeros(size, dtype=np.float64)
+    slot_idf = np.zeros(size, dtype=np.float64)
+    listed = np.empty(max(bound, 1), dtype=np.int64)
+    mask = size - 1
+    total = np.zeros(k, dtype=np.float32)
+    for i in range(len(groups) - 1):
+        target = out_row[i]
+        if target < 0:
+            continue
+        total[:] = 0.0
+        n_listed = 0
+        for j in range(groups[i], groups[i + 1]):
+            w = words[j]
+            if not word_ready[w]:
+                word_scores[w, :] = 0.0
+                for p in range(c_indptr[w], c_indptr[w + 1]):
+                    r = row_of[c_indices[p] + offset]
+                    if r >= 0:
+                        value = np.float32(c_data[p] * c_idf[p])
+                        for c in range(k):
+                            word_scores[w, c] += value * block[r, c]
+                word_ready[w] = 1
+            for c in range(k):
+                total[c] += word_scores[w, c]
+            for p in range(c_indptr[w], c_indptr[w + 1]):
+                f = c_indices[p]
+                slot = (f * 40503) & mask
+                while slot_feature[slot] != -1 and slot_feature[slot] != f:
+                    slot = (slot + 1) & mask
+                if slot_feature[slot] == -1:
+                    slot_feature[slot] = f
+                    slot_count[slot] = 0.0
+                    slot_idf[slot] = c_idf[p]
+                    listed[n_listed] = slot
+                    n_listed += 1
+                slot_count[slot] += c_data[p]
+        square = 0.0
+        for q in range(n_listed):
+            slot = listed[q]
+            f = slot_feature[slot]
+            slot_feature[slot] = -1
+            count = slot_count[slot]
+            tf = count
+            if sublinear and tf > 1.0:
+                tf = 1.0 + np.log(tf)
+                r = row_of[f + offset]
+                if r >= 0:
+                    fix = np.float32((tf - count) * slot_idf[slot])
+                    for c in range(k):
+                        total[c] += fix * block[r, c]
+            value = tf * slot_idf[slot]
+            square += value * value
+        if square > 0.0:
+            scale = np.float32(weight / np.sqrt(square))
+            for c in range(k):
+                out[target, c] += total[c] * scale
+
+
 # 64-bit FNV-1a over code points: a fast first test; every hit is confirmed character by character.
 _FNV_OFFSET = np.uint64(14695981039346656037)
 _FNV_PRIME = np.uint64(1099511628211)
@@ -231,6 +403,94 @@ def string_hashes(codes: Array, offsets: Array) -> Array:
             h = (h ^ np.uint64(codes[p])) * _FNV_PRIME
         out[i] = h
     return out
+
+
+@njit(cache=True, nogil=True)
+def index_words(
+    codes: Array,
+    is_space: Array,
+    slots: Array,
+    hashes: Array,
+    store_codes: Array,
+    store_offsets: Array,
+    n_texts: int,
+) -> tuple[Array, Array, Array, Array]:
+    """Cut texts into whitespace-separated words and find each word in a table of known words.
+
+    Args:
+        codes: the texts' code points end to end, one 0 between two texts (uint32).
+        is_space: 1 for each code point below its length that ``str.split()`` splits on.
+        slots: :func:`hash_table` of the known words' ``hashes`` (:func:`string_hashes`).
+        store_codes, store_offsets: the known words' code points end to end, and offsets.
+        n_texts: how many texts ``codes`` holds.
+
+    Returns:
+        (offsets per text, number of each word or -1 when unknown, start and end of each word
+        in ``codes``). Text i holds words ``offsets[i]:offsets[i + 1]``.
+    """
+    n = len(codes)
+    indptr = np.zeros(n_texts + 1, dtype=np.int64)
+    bound = n // 2 + 2
+    numbers = np.empty(bound, dtype=np.int64)
+    starts = np.empty(bound, dtype=np.int64)
+    ends = np.empty(bound, dtype=np.int64)
+    mask = np.uint64(len(slots) - 1)
+    n_space = len(is_space)
+    text = 0
+    m = 0
+    p = 0
+    while p < n:
+        code = codes[p]
+        if code == 0:
+            text += 1
+            indptr[text] = m
+            p += 1
+            continue
+        if code < n_space and is_space[code]:
+            p += 1
+            continue
+        start = p
+        h = _FNV_OFFSET
+        while p < n:
+            code = codes[p]
+            if code == 0 or (code < n_space and is_space[code]):
+                break
+            h = (h ^ np.uint64(code)) * _FNV_PRIME
+            p += 1
+        length = p - start
+        number = -1
+        slot = np.int64(h & mask)
+        while slots[slot] != -1:
+            entry = slots[slot]
+            begin = store_offsets[entry]
+            if hashes[entry] == h and store_offsets[entry + 1] - begin == length:
+                same = True
+                for q in range(length):
+                    if store_codes[begin + q] != codes[start + q]:
+                        same = False
+                        break
+                if same:
+                    number = entry
+                    break
+            slot = (slot + 1) & (len(slots) - 1)
+        numbers[m] = number
+        starts[m] = start
+        ends[m] = p
+        m += 1
+    for t in range(text + 1, n_texts + 1):
+        indptr[t] = m
+    return indptr, numbers[:m].copy(), starts[:m].copy(), ends[:m].copy()
+
+
+@njit(cache=True, nogil=True)
+def table_add(slots: Array, hashes: Array, first: int) -> None:
+    """Add entries ``first:`` of ``hashes`` to a :func:`hash_table` with room for them."""
+    mask = np.uint64(len(slots) - 1)
+    for entry in range(first, len(hashes)):
+        slot = np.int64(hashes[entry] & mask)
+        while slots[slot] != -1:
+            slot = (slot + 1) & (len(slots) - 1)
+        slots[slot] = entry
 
 
 @njit(cache=True, nogil=True)
@@ -347,7 +607,19 @@ def idf_l2_rows(indptr: Array, indices: Array, data: Array, idf: Array) -> None:
                 data[p] = np.float32(np.float64(data[p]) / norm)
 
 
-_MIX = np.uint64(0x9E3779B97F4A7C15)  # Fibonacci hashing: spreads nearby keys over the table
+# The SplitMix64 finaliser: every bit of the key moves the low bits the table is indexed by.
+# (A multiplication alone only carries low bits upwards: for ``first << 32 | second`` keys the
+# low bits then depend on ``second`` alone, and every bigram ending in the same token collided.)
+_MIX_1 = np.uint64(0xBF58476D1CE4E5B9)
+_MIX_2 = np.uint64(0x94D049BB133111EB)
+
+
+@njit(cache=True, nogil=True, inline="always")
+def _mix(key: int) -> np.uint64:
+    z = np.uint64(key)
+    z = (z ^ (z >> np.uint64(30))) * _MIX_1
+    z = (z ^ (z >> np.uint64(27))) * _MIX_2
+    return z ^ (z >> np.uint64(31))
 
 
 @njit(cache=True, nogil=True)
@@ -355,7 +627,7 @@ def mix_keys(keys: Array) -> Array:
     """Return well-spread uint64 hashes of int64 keys, for :func:`hash_table`."""
     out = np.empty(len(keys), dtype=np.uint64)
     for i in range(len(keys)):
-        out[i] = np.uint64(keys[i]) * _MIX
+        out[i] = _mix(keys[i])
     return out
 
 
@@ -412,7 +684,7 @@ def token_ngram_counts(
                             feature = unigram[token]
                     elif bigrams and previous >= 0:
                         key = (previous << 32) | token
-                        slot = np.int64((np.uint64(key) * _MIX) & mask)
+                        slot = np.int64(_mix(key) & mask)
                         while slots[slot] != -1:
                             if pair_keys[slots[slot]] == key:
                                 feature = pair_features[slots[slot]]

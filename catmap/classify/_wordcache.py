@@ -29,9 +29,11 @@ from catmap.classify._kernels import (
     char_wb_features,
     hash_table,
     idf_l2_rows,
+    index_words,
     mix_keys,
     string_hashes,
     sum_rows,
+    table_add,
     token_ngram_counts,
 )
 
@@ -46,28 +48,141 @@ Array = np.ndarray[Any, Any]
 
 
 class _Split:
-    """A list of texts cut into words: every word in a row (lower-cased), per-text offsets."""
+    """A list of texts cut into words, each word given as its number in the word index.
 
-    __slots__ = ("_distinct", "flat", "indptr")
+    Attributes:
+        indptr: text i holds the words ``indptr[i]:indptr[i + 1]``.
+        numbers: each word's number in :attr:`words` (int64).
+        words: the word index's words, by number (the index's list when the split was made).
+        generation: the word index's generation when the split was made.
+    """
 
-    def __init__(self, flat: list[str], indptr: Array) -> None:
-        self.flat = flat
+    __slots__ = ("generation", "indptr", "numbers", "words")
+
+    def __init__(self, indptr: Array, numbers: Array, words: list[str], generation: int) -> None:
         self.indptr = indptr
-        self._distinct: list[str] | None = None
-
-    @property
-    def distinct(self) -> list[str]:
-        """The distinct words, in first-seen order (made once, when first asked for)."""
-        if self._distinct is None:
-            self._distinct = list(dict.fromkeys(self.flat))
-        return self._distinct
+        self.numbers = numbers
+        self.words = words
+        self.generation = generation
 
 
+# What str.split() splits on, below U+3001 (no whitespace lies above U+3000).
+_IS_SPACE = np.array([chr(c).isspace() for c in range(0x3001)], dtype=np.uint8)
+_SEPARATOR = "\x00"
+
+
+class _WordIndex:
+    """Every distinct lower-cased word seen by this process, numbered (bounded, then restarted).
+
+    Texts are cut into words and the words looked up by compiled code (:func:`index_words`) over
+    their code points: no Python string is made for a word already known. The transformers'
+    caches keep what they derive from a word by its number here; a restart (past ``max_words``)
+    raises :attr:`generation`, and the caches start again with it.
+    """
+
+    def __init__(self, max_words: int = MAX_CACHED_WORDS) -> None:
+        self.max_words = max_words
+        self.generation = -1
+        self._restart()
+
+    def _restart(self) -> None:
+        self.generation += 1
+        self.words: list[str] = []
+        self._codes = np.zeros(1 << 16, dtype=np.uint32)
+        self._n_codes = 0
+        self._offsets = np.zeros(1 << 12, dtype=np.int64)
+        self._hashes = np.zeros(1 << 12, dtype=np.uint64)
+        self._slots = np.full(16, -1, dtype=np.int64)
+
+    def split(self, texts: Sequence[str]) -> _Split:
+        """Return the texts (lower-cased, cut as by ``str.split()``) as word numbers."""
+        joined = _SEPARATOR.join(texts)
+        if joined.count(_SEPARATOR) != max(len(texts) - 1, 0):
+            # A text holding the separator itself (a damaged feed): cut in Python.
+            return self._split_in_python(texts)
+        # Lower-cased as a whole: the same as text by text, the separator ending each context.
+        lowered = joined.lower()
+        codes = np.frombuffer(lowered.encode("utf-32-le", "surrogatepass"), dtype=np.uint32)
+        n = len(self.words)
+        indptr, numbers, starts, ends = index_words(
+            codes, _IS_SPACE, self._slots, self._hashes[:n], self._codes,
+            self._offsets[: n + 1], len(texts),
+        )
+        unknown = np.flatnonzero(numbers < 0)
+        if len(unknown):
+            found = [lowered[a:b] for a, b in zip(starts[unknown].tolist(), ends[unknown].tolist(),
+                                                  strict=True)]
+            new = list(dict.fromkeys(found))
+            if self.words and len(self.words) + len(new) > self.max_words:
+                self._restart()
+                return self.split(texts)
+            return self._grown(indptr, numbers, unknown, found, new)
+        return _Split(indptr, numbers, self.words, self.generation)
+
+    def _grown(
+        self,
+        indptr: Array,
+        numbers: Array,
+        unknown: Array,
+        found: list[str],
+        new: list[str],
+    ) -> _Split:
+        first = self._add(new)
+        position = {word: first + i for i, word in enumerate(new)}
+        numbers[unknown] = np.fromiter(map(position.__getitem__, found), np.int64, len(found))
+        return _Split(indptr, numbers, self.words, self.generation)
+
+    def _add(self, new: list[str]) -> int:
+        """Number new words (not yet in the index); return the first new number."""
+        first = len(self.words)
+        codes, offsets = _code_points(new)
+        hashes = string_hashes(codes, offsets)
+        total = first + len(new)
+        if total + 1 > len(self._offsets):
+            size = max(2 * len(self._offsets), total + 1)
+            self._offsets = np.concatenate([self._offsets, np.zeros(size - len(self._offsets),
+                                                                    np.int64)])
+            self._hashes = np.concatenate([self._hashes, np.zeros(size - len(self._hashes),
+                                                                  np.uint64)])
+        if self._n_codes + len(codes) > len(self._codes):
+            size = max(2 * len(self._codes), self._n_codes + len(codes))
+            self._codes = np.concatenate([self._codes, np.zeros(size - len(self._codes),
+                                                                np.uint32)])
+        self._codes[self._n_codes : self._n_codes + len(codes)] = codes
+        self._offsets[first + 1 : total + 1] = self._n_codes + offsets[1:]
+        self._n_codes += len(codes)
+        self._hashes[first:total] = hashes
+        self.words.extend(new)
+        if 2 * total > len(self._slots):
+            self._slots = hash_table(self._hashes[:total])
+        else:
+            table_add(self._slots, self._hashes[:total], first)
+        return first
+
+    def _split_in_python(self, texts: Sequence[str]) -> _Split:
+        words = [text.lower().split() for text in texts]
+        indptr = np.zeros(len(words) + 1, dtype=np.int64)
+        np.cumsum(np.fromiter(map(len, words), np.int64, count=len(words)), out=indptr[1:])
+        flat = list(chain.from_iterable(words))
+        known = dict(zip(self.words, range(len(self.words)), strict=True))
+        new = [word for word in dict.fromkeys(flat) if word not in known]
+        if self.words and len(self.words) + len(new) > self.max_words:
+            self._restart()
+            known, new = {}, list(dict.fromkeys(flat))
+        if new:
+            first = self._add(new)
+            known.update(zip(new, range(first, first + len(new)), strict=True))
+        numbers = np.fromiter(map(known.__getitem__, flat), np.int64, count=len(flat))
+        return _Split(indptr, numbers, self.words, self.generation)
+
+
+_WORDS = _WordIndex()
 # The latest few splits, as (text list, its length, its split): see _split_words.
 _RECENT_SPLITS: list[tuple[Sequence[str], int, _Split]] = []
 _RECENT_SPLITS_KEPT = 4
-# How many first words of a batch tell whether most of its words are new.
-_PROBE_WORDS = 64
+# Lists this short are not kept (the distinct values of an absent field, one placeholder): they
+# would push out the batch's title list that later readers split again.
+_SMALL_LIST = 8
 
 
 def _split_words(texts: Sequence[str]) -> _Split:
@@ -79,14 +194,12 @@ def _split_words(texts: Sequence[str]) -> _Split:
     be reused by another; lists are not changed in place once built.
     """
     for kept, length, split in _RECENT_SPLITS:
-        if kept is texts and length == len(texts):
+        if kept is texts and length == len(texts) and split.generation == _WORDS.generation:
             return split
-    words = [text.lower().split() for text in texts]
-    indptr = np.zeros(len(words) + 1, dtype=np.int64)
-    np.cumsum(np.fromiter(map(len, words), dtype=np.int64, count=len(words)), out=indptr[1:])
-    split = _Split(list(chain.from_iterable(words)), indptr)
-    _RECENT_SPLITS.insert(0, (texts, len(texts), split))
-    del _RECENT_SPLITS[_RECENT_SPLITS_KEPT:]
+    split = _WORDS.split(texts)
+    if len(texts) > _SMALL_LIST:
+        _RECENT_SPLITS.insert(0, (texts, len(texts), split))
+        del _RECENT_SPLITS[_RECENT_SPLITS_KEPT:]
     return split
 
 
@@ -101,45 +214,69 @@ def _code_points(strings: Sequence[str]) -> tuple[Array, Array]:
 
 
 class _PerWordCache:
-    """What the two cached transformers share: a number per cached word, grown batch by batch.
+    """What the cached transformers share: what they derive from a word, kept by its number.
 
-    Subclasses keep ``_word_row`` (word → number), ``max_words``, and implement ``_reset`` and
-    ``_add_words``.
+    ``_row_of[n]`` is the cached row of word index number n (-1: not cached yet). Subclasses
+    keep ``max_words`` and implement ``_clear`` (empty their rows) and ``_add_words`` (append
+    the rows of some words, in order).
     """
 
-    _word_row: dict[str, int]
     max_words: int
+    _row_of: Array
+    _n_rows: int
+    _generation: int
+    # What a subclass derives from words (emptied by _clear), left out of a pickle.
+    _DERIVED: tuple[str, ...] = ()
+
+    def __getstate__(self) -> dict[str, Any]:
+        # The rows are kept by word index number, and the index belongs to this process: a
+        # copy sent to another process (a cluster worker) starts with an empty cache.
+        derived = {"_row_of", "_n_rows", "_generation", *self._DERIVED}
+        return {k: v for k, v in self.__dict__.items() if k not in derived}
+
+    def __setstate__(self, state: dict[str, Any]) -> None:
+        self.__dict__.update(state)
+        self._reset()
 
     def _reset(self) -> None:
+        # Counts the resets: word numbers handed out before a reset mean nothing after it.
+        self.generation = getattr(self, "generation", -1) + 1
+        self._row_of = np.zeros(0, dtype=np.int64)
+        self._n_rows = 0
+        self._generation = -1
+        self._clear()
+
+    def _clear(self) -> None:
         raise NotImplementedError
 
     def _add_words(self, words: Sequence[str]) -> None:
         raise NotImplementedError
 
     def _word_numbers(self, split: _Split) -> Array:
-        """Return the number of each word of a split, caching the words not seen yet first.
-
-        Past the first batches of a feed nearly every word is known: then one look-up per word,
-        and the new words are gathered only when there are some. Whether a batch is mostly new
-        is told from its first words.
-        """
-        flat, known = split.flat, self._word_row
-        sample = flat[:_PROBE_WORDS]
-        if 2 * sum(word not in known for word in sample) > len(sample):
-            # Mostly new words (a feed's first batches): find them among the distinct ones.
-            new = [word for word in split.distinct if word not in known]
-        else:
-            numbers = np.fromiter(map(known.get, flat, repeat(-1)), np.int64, count=len(flat))
-            missing = np.flatnonzero(numbers < 0)
-            if not len(missing):
-                return numbers
-            new = list(dict.fromkeys([flat[i] for i in missing]))
-        if len(self._word_row) + len(new) > self.max_words:
+        """Return the cached row of each word of a split, caching the words not seen yet first."""
+        if split.generation != self._generation:
             self._reset()
-            new = split.distinct
-        if new:
-            self._add_words(new)
-        return np.fromiter(map(self._word_row.__getitem__, flat), dtype=np.int64, count=len(flat))
+            self._generation = split.generation
+        if len(self._row_of) < len(split.words):
+            grown = np.full(max(len(split.words), 2 * len(self._row_of)), -1, dtype=np.int64)
+            grown[: len(self._row_of)] = self._row_of
+            self._row_of = grown
+        rows = self._row_of[split.numbers]
+        missing = split.numbers[rows < 0]
+        if len(missing):
+            missing = np.unique(missing)
+            if self._n_rows + len(missing) > self.max_words:
+                generation = split.generation
+                self._reset()
+                self._generation = generation
+                self._row_of = np.full(len(split.words), -1, dtype=np.int64)
+                missing = np.unique(split.numbers)
+            words = split.words
+            self._add_words([words[i] for i in missing.tolist()])
+            self._row_of[missing] = np.arange(self._n_rows, self._n_rows + len(missing))
+            self._n_rows += len(missing)
+            rows = self._row_of[split.numbers]
+        return rows
 
 
 class WordCachedTfidf(_PerWordCache):
@@ -161,8 +298,9 @@ class WordCachedTfidf(_PerWordCache):
         self._n_features = len(self._vocabulary)
         self._reset()
 
-    def _reset(self) -> None:
-        self._word_row: dict[str, int] = {}
+    _DERIVED = ("_blocks", "_rows", "_stale")
+
+    def _clear(self) -> None:
         self._blocks: list[sp.csr_matrix] = []
         self._rows = sp.csr_matrix((0, self._n_features), dtype=np.float32)
         self._stale = False
@@ -187,8 +325,6 @@ class WordCachedTfidf(_PerWordCache):
             shape=(len(words), self._n_features),
         )
         block.sum_duplicates()
-        first = len(self._word_row)
-        self._word_row.update(zip(words, range(first, first + len(words)), strict=True))
         self._blocks.append(block)
         self._stale = True
 
@@ -198,6 +334,21 @@ class WordCachedTfidf(_PerWordCache):
             self._blocks = []
             self._stale = False
         return self._rows
+
+    def cached_words(self, texts: Sequence[str]) -> tuple[Array, Array, sp.csr_matrix]:
+        """Return the texts as cached words: (offsets per text, word numbers, word count rows).
+
+        Row ``numbers[j]`` of the count rows is the n-gram counts of word j; text i holds the
+        words ``offsets[i]:offsets[i + 1]``. The numbers hold until :attr:`generation` changes.
+        """
+        split = _split_words(texts)
+        numbers = self._word_numbers(split)
+        return split.indptr, numbers, self._matrix()
+
+    @property
+    def idf(self) -> Array:
+        """The vectorizer's idf (float64)."""
+        return self._idf
 
     def counts(self, texts: Sequence[str]) -> sp.csr_matrix:
         """Return the (texts, features) n-gram count matrix (float32 CSR)."""
@@ -286,11 +437,14 @@ class WordNgramTfidf(_PerWordCache):
         self._pair_slots = hash_table(mix_keys(self._pair_keys))
         return True
 
-    def _reset(self) -> None:
+    _DERIVED = ("_token", "_unigram", "_word_start", "_word_length", "_tokens")
+
+    def _clear(self) -> None:
+        if not self._by_token:
+            return
         # Tokens outside the vocabulary get numbers past the unigram table's end.
         self._token = dict(self._known_tokens)
         self._unigram = self._unigram_base
-        self._word_row = {}
         self._word_start = np.zeros(0, dtype=np.int64)
         self._word_length = np.zeros(0, dtype=np.int64)
         self._tokens = np.zeros(0, dtype=np.int64)
@@ -305,8 +459,6 @@ class WordNgramTfidf(_PerWordCache):
         )
         lengths = np.fromiter(map(len, cut), dtype=np.int64, count=len(cut))
         starts = len(self._tokens) + np.concatenate([[0], np.cumsum(lengths)[:-1]])
-        first = len(self._word_row)
-        self._word_row.update(zip(words, range(first, first + len(words)), strict=True))
         self._word_start = np.concatenate([self._word_start, starts.astype(np.int64)])
         self._word_length = np.concatenate([self._word_length, lengths])
         self._tokens = np.concatenate([self._tokens, numbers])

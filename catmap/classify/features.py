@@ -251,10 +251,13 @@ class ProductFeaturizer:
         )
         return stacked
 
-    def transform_blocks(self, texts: ProductTexts) -> list[tuple[sp.csr_matrix, int]]:
+    def transform_blocks(
+        self, texts: ProductTexts, *, skip: frozenset[str] = frozenset()
+    ) -> list[tuple[sp.csr_matrix, int]]:
         """Return each block's weighted matrix with its first column in the stacked matrix.
 
         What :meth:`transform` stacks, without the copy: scoring can read the blocks in turn.
+        Blocks named in ``skip`` are left out (their columns keep their place).
         """
         vectorizers = self._check()
         blocks = []
@@ -262,6 +265,9 @@ class ProductFeaturizer:
         for block, field_name, _ in FIELD_BLOCKS:
             vectorizer = vectorizers.get(block)
             if vectorizer is None:
+                continue
+            if block in skip:
+                start += len(vectorizer.vocabulary_)
                 continue
             values = texts.field(field_name)
             fast = self._fast(block, vectorizer)
@@ -275,6 +281,16 @@ class ProductFeaturizer:
             blocks.append((sp.csr_matrix(matrix, dtype=np.float32), start))
             start += len(vectorizer.vocabulary_)
         return blocks
+
+    def word_cached_block(self, block: str) -> tuple[WordCachedTfidf, int, float] | None:
+        """Return a block's per-word cache, first column and weight, when it has such a cache."""
+        vectorizer = self._check().get(block)
+        if vectorizer is None:
+            return None
+        fast = self._fast(block, vectorizer)
+        if not isinstance(fast, WordCachedTfidf):
+            return None
+        return fast, self.block_slices()[block].start, self._weight(block)
 
     def _fast(
         self, block: str, vectorizer: TfidfVectorizer
@@ -308,6 +324,9 @@ def _transform_distinct(vectorizer: Any, values: list[str]) -> sp.csr_matrix:
 
 def distinct_values(values: Sequence[str]) -> tuple[list[str], np.ndarray[Any, Any]]:
     """Return the distinct values in first-seen order, and each value's position among them."""
+    if values and values.count(values[0]) == len(values):
+        # One value throughout (a field the feed does not have): no dictionary needed.
+        return [values[0]], np.zeros(len(values), dtype=np.int64)
     distinct = list(dict.fromkeys(values))
     position = {value: i for i, value in enumerate(distinct)}
     rows = np.fromiter(map(position.__getitem__, values), dtype=np.int64, count=len(values))

@@ -28,7 +28,13 @@ from typing import Any
 import numpy as np
 import scipy.sparse as sp
 
-from catmap.classify._kernels import pack_rows, score_rows
+from catmap.classify._kernels import (
+    dense_rows,
+    pack_rows,
+    score_columns_dense,
+    score_rows,
+    score_words_dense,
+)
 from catmap.classify.calibration import expected_calibration_error, fit_temperature, softmax
 from catmap.classify.features import ProductFeaturizer, ProductTexts
 from catmap.classify.keywords import KeywordMapper
@@ -157,6 +163,10 @@ class CategoryModel:
         self.department_sample = department_sample
         self.random_state = random_state
         self.n_jobs = n_jobs
+
+    def __getstate__(self) -> dict[str, Any]:
+        # The per-word scores are numbered by this process's word index: not sent elsewhere.
+        return {k: v for k, v in self.__dict__.items() if k != "_word_scores"}
 
     # ---- training -------------------------------------------------------------------------
 
@@ -378,8 +388,10 @@ class CategoryModel:
         """
         self._check()
         layout = self._layout()
+        by_words = self._words_block(layout)
         # The feature blocks are read in turn rather than stacked into one matrix (a copy).
-        features = self.featurizer_.transform_blocks(texts)
+        skip = frozenset({_WORDS_BLOCK}) if by_words else frozenset()
+        features = self.featurizer_.transform_blocks(texts, skip=skip)
         n = len(texts)
         group = np.repeat(self.group_intercept_[None, :].astype(np.float64), n, axis=0)
         for matrix, start in features:
@@ -388,15 +400,29 @@ class CategoryModel:
         selected = p_group >= self.department_floor
         selected[np.arange(n), p_group.argmax(axis=1)] = True
         query = self.keywords_.query(texts) if keywords else None
+        by_column: list[tuple[sp.csc_matrix, int]] | None = None
         blocks = []
         for g, part in enumerate(layout.parts):
             rows = np.flatnonzero(selected[:, g])
             if not len(rows):
                 continue
-            scores = np.repeat(part.intercept[None, :].astype(np.float64), len(rows), axis=0)
-            for matrix, start in features:
-                x = (matrix.indptr, matrix.indices, matrix.data)
-                score_rows(*x, rows, *part.coef, scores, start)
+            if part.dense is not None:
+                if by_column is None:
+                    by_column = [(matrix.tocsc(), start) for matrix, start in features]
+                out_row = np.full(n, -1, dtype=np.int64)
+                out_row[rows] = np.arange(len(rows))
+                dense = np.repeat(part.intercept[None, :].astype(np.float32), len(rows), axis=0)
+                for matrix, start in by_column:
+                    x = (matrix.indptr, matrix.indices, matrix.data)
+                    score_columns_dense(*x, out_row, *part.dense, dense, start)
+                if by_words:
+                    self._score_words(texts, part.dense, out_row, dense)
+                scores = dense.astype(np.float64)
+            else:
+                scores = np.repeat(part.intercept[None, :].astype(np.float64), len(rows), axis=0)
+                for matrix, start in features:
+                    x = (matrix.indptr, matrix.indices, matrix.data)
+                    score_rows(*x, rows, *part.coef, scores, start)
             linear = np.zeros((len(rows), len(part.columns)), dtype=np.float64)
             linear[:, part.linear_pos] = softmax(scores, self.temperatures_[1])
             linear *= p_group[rows, g][:, None]
@@ -409,6 +435,50 @@ class CategoryModel:
                 keyword *= p_group[rows, g][:, None]
             blocks.append(_Block(g, rows, linear, keyword))
         return _Parts(n, p_group, selected, blocks)
+
+    def _words_block(self, layout: _Layout) -> bool:
+        """Whether the title n-grams are scored word by word (:func:`score_words_dense`).
+
+        Only for a flat model whose weights are a dense block (one group, so the department
+        score needs no n-gram matrix either), and while the per-word scores fit the memory
+        the dense block may take.
+        """
+        if len(layout.parts) != 1 or layout.parts[0].dense is None or len(self.groups_) != 1:
+            return False
+        found = self.featurizer_.word_cached_block(_WORDS_BLOCK)
+        if found is None or found[0].vectorizer.norm != "l2" or not found[0].vectorizer.use_idf:
+            return False
+        k = layout.parts[0].dense[1].shape[1]
+        return found[0].max_words * k * 4 <= DENSE_MAX_BYTES
+
+    def _score_words(
+        self, texts: ProductTexts, dense: tuple[Array, Array], out_row: Array, out: Array
+    ) -> None:
+        found = self.featurizer_.word_cached_block(_WORDS_BLOCK)
+        assert found is not None
+        cache, start, weight = found
+        offsets, numbers, rows = cache.cached_words(texts.field(_WORDS_FIELD))
+        row_of, block = dense
+        # Each cached word's scores, kept while the word cache keeps its numbers and the
+        # weights stay the same.
+        key = (cache, cache.generation, block)
+        state = self.__dict__.get("_word_scores")
+        if state is None or any(a is not b for a, b in zip(state[0], key, strict=True)):
+            state = (key, np.zeros((0, block.shape[1]), np.float32), np.zeros(0, np.uint8))
+        if len(state[2]) < rows.shape[0]:
+            size = max(rows.shape[0], 2 * len(state[2]), 1024)
+            scores = np.zeros((size, block.shape[1]), np.float32)
+            scores[: len(state[1])] = state[1]
+            ready = np.zeros(size, np.uint8)
+            ready[: len(state[2])] = state[2]
+            state = (key, scores, ready)
+        self.__dict__["_word_scores"] = state
+        vectorizer = cache.vectorizer
+        score_words_dense(
+            offsets, numbers, rows.indptr, rows.indices, rows.data, cache.idf[rows.indices],
+            bool(vectorizer.sublinear_tf), weight, row_of, block, start,
+            state[1], state[2], out_row, out,
+        )
 
     def _final(self, parts: _Parts, w: float, t_blend: float) -> tuple[list[Array], Array, Array]:
         """Blend, apply the final temperature; return per-block values, row sums, rest values.
@@ -616,6 +686,7 @@ class _GroupPart:
     columns: Array  # class columns (in classes_) of the group: linear classes ∪ keyword leaves
     linear_pos: Array  # positions in ``columns`` of the linear classes, in weight order
     coef: tuple[Array, Array, Array]  # (features, linear classes of the group), pack_rows
+    dense: tuple[Array, Array] | None  # the same weights from dense_rows, when they pay
     intercept: Array
     keyword_pos: Array  # positions in ``columns`` of the keyword leaves, in document order
     documents_t: tuple[Array, Array, Array]  # (keyword features, keyword leaves), pack_rows
@@ -655,11 +726,13 @@ class _Layout:
             lin_columns = model.linear_classes_[lin]
             kw = keyword_column[class_group[: len(keyword_classes)] == g]
             columns = np.union1d(lin_columns, kw)
+            weights = class_coef[:, lin].tocsr()
             parts.append(
                 _GroupPart(
                     columns=columns,
                     linear_pos=np.searchsorted(columns, lin_columns),
-                    coef=pack_rows(class_coef[:, lin].tocsr()),
+                    coef=pack_rows(weights),
+                    dense=dense_rows(weights) if _dense_pays(weights) else None,
                     intercept=model.class_intercept_[lin],
                     keyword_pos=np.searchsorted(columns, kw),
                     documents_t=pack_rows(documents_t[:, kw].tocsr()),
@@ -690,6 +763,23 @@ class _Parts:
     p_group: Array
     selected: Array
     blocks: list[_Block]
+
+
+# A department's weights are also kept as a dense block when that costs at most this many times
+# the packed form's memory (8 bytes an entry) and at most DENSE_MAX_BYTES. On the Debian
+# sections' flat model (57 classes, unpruned, 18% of entries filled: 76 MB dense, 28 MB packed)
+# the dense block scored the test split 4.9 times as fast (benchmarks/bench_real_sections.py);
+# the demo world's pruned department classifiers stay packed.
+DENSE_MEMORY_FACTOR = 4.0
+# The block a flat dense model scores word by word, and the product field it reads.
+_WORDS_BLOCK, _WORDS_FIELD = "title_chars", "title"
+DENSE_MAX_BYTES = 256 * 2**20
+
+
+def _dense_pays(weights: sp.csr_matrix) -> bool:
+    used = int(np.count_nonzero(np.diff(weights.indptr)))
+    dense_bytes = used * weights.shape[1] * 4
+    return dense_bytes <= min(DENSE_MEMORY_FACTOR * 8 * weights.nnz, DENSE_MAX_BYTES)
 
 
 def _padded(parts: _Parts, layout: _Layout) -> tuple[Array, Array, Array]:
