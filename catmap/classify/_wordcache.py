@@ -18,6 +18,7 @@ same tokens, n-grams and weighting as the fitted vectorizer.
 from __future__ import annotations
 
 import re
+import threading
 from collections.abc import Sequence
 from itertools import chain, repeat
 from typing import TYPE_CHECKING, Any
@@ -177,6 +178,10 @@ class _WordIndex:
 
 
 _WORDS = _WordIndex()
+# Mappers of different models may run in threads of one process (a cluster worker with several
+# threads); each model's caches take turns under its mapper's lock, the shared index under this.
+# A split's words stay readable after: within a generation the index only appends.
+_WORDS_LOCK = threading.Lock()
 # The latest few splits, as (text list, its length, its split): see _split_words.
 _RECENT_SPLITS: list[tuple[Sequence[str], int, _Split]] = []
 _RECENT_SPLITS_KEPT = 4
@@ -193,14 +198,15 @@ def _split_words(texts: Sequence[str]) -> _Split:
     objects are kept, so each list is split once. A kept list is held, so its identity cannot
     be reused by another; lists are not changed in place once built.
     """
-    for kept, length, split in _RECENT_SPLITS:
-        if kept is texts and length == len(texts) and split.generation == _WORDS.generation:
-            return split
-    split = _WORDS.split(texts)
-    if len(texts) > _SMALL_LIST:
-        _RECENT_SPLITS.insert(0, (texts, len(texts), split))
-        del _RECENT_SPLITS[_RECENT_SPLITS_KEPT:]
-    return split
+    with _WORDS_LOCK:
+        for kept, length, split in _RECENT_SPLITS:
+            if kept is texts and length == len(texts) and split.generation == _WORDS.generation:
+                return split
+        split = _WORDS.split(texts)
+        if len(texts) > _SMALL_LIST:
+            _RECENT_SPLITS.insert(0, (texts, len(texts), split))
+            del _RECENT_SPLITS[_RECENT_SPLITS_KEPT:]
+        return split
 
 
 def _code_points(strings: Sequence[str]) -> tuple[Array, Array]:
