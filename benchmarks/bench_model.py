@@ -586,7 +586,9 @@ def run_unseen(
 
     Seed 0 is the part under ``feeds_demo/generated/unseen``; another seed builds the part
     afresh in the working folder (a rerun of the generator). With several seeds, one line per
-    seed and the count of seeds where every unseen test feed stays within ``max_error``.
+    seed, the auto-accepted share and highest accepted error over every unseen feed, and the
+    count of seeds where every unseen feed (the validation part's retailers and the test
+    part's) stays within ``max_error`` (also the count over the test feeds alone).
     """
     from catmap.classify.storage import load_model
     from catmap.classify.training import read_labelled, train_model
@@ -609,9 +611,12 @@ def run_unseen(
     if len(seeds) == 1:
         _one_seed(tree, mapper, project, workdir, sources, seen, max_error, seeds[0])
         return
-    passed = 0
-    print(f"\nunseen-retailer feeds over {len(seeds)} reruns of the generator "
-          f"(max error {max_error:.0%}, threshold A: onboarding's default sources)")
+    print(f"\nunseen-retailer feeds over {len(seeds)} reruns of the generator, seeds "
+          f"{seeds[0]}..{seeds[-1]} (max error {max_error:.0%}, threshold A: onboarding's "
+          "default sources; each feed then checked)")
+    passed_all = passed_test = 0
+    worst_all: tuple[float, str] = (-1.0, "")
+    coverages: list[float] = []
     for seed in seeds:
         parts, thresholds, modes = _unseen_parts(
             tree, mapper, project, workdir, sources, max_error, seed
@@ -624,31 +629,43 @@ def run_unseen(
             for retailer, (labels, mappings, extras) in groups.items()
         }
         test = {name: r for name, r in feeds.items() if name.startswith("test/")}
-        worst = max(test.items(), key=lambda kv: _nan_to(kv[1].accepted_error, 0.0))
-        ok = all(_nan_to(r.accepted_error, 0.0) <= max_error for r in test.values())
-        passed += ok
+        validation = {name: r for name, r in feeds.items() if name.startswith("validation/")}
+        worst = max(feeds.items(), key=lambda kv: _nan_to(kv[1].accepted_error, 0.0))
+        worst_error = _nan_to(worst[1].accepted_error, 0.0)
+        worst_all = max(worst_all, (worst_error, f"{worst[0]}, seed {seed}"))
+        ok_test = all(_nan_to(r.accepted_error, 0.0) <= max_error for r in test.values())
+        ok = all(_nan_to(r.accepted_error, 0.0) <= max_error for r in feeds.values())
+        passed_test += ok_test
+        passed_all += ok
+        coverages.extend(r.coverage for r in feeds.values())
         print(
             f"  seed {seed:>3}: A {_t(thresholds[0])}  test feeds err A "
             + " ".join(f"{_nan_to(r.accepted_error, 0.0):.4f}" for r in test.values())
             + f"  cov A {np.mean([r.coverage for r in test.values()]):.3f}"
             + "  validation feeds err A "
-            + " ".join(
-                f"{_nan_to(r.accepted_error, 0.0):.4f}"
-                for name, r in feeds.items()
-                if name.startswith("validation/")
-            )
+            + " ".join(f"{_nan_to(r.accepted_error, 0.0):.4f}" for r in validation.values())
+            + f"  cov A {np.mean([r.coverage for r in validation.values()]):.3f}"
             + f"  worst {worst[0]}  {'ok' if ok else 'OVER'}"
             + "  checked: "
             + ", ".join(
                 f"{feed.split('/')[-1]} {mode.split(' (')[0]}"
                 for feed, mode in modes[0].items()
-                if feed.startswith("unseen test") and not mode.startswith("as calibrated")
+                if feed.startswith("unseen") and not mode.startswith("as calibrated")
             ),
             flush=True,
         )
     print(
+        f"auto-accepted share (cov A) per unseen feed: mean {np.mean(coverages):.3f}, "
+        f"lowest {min(coverages):.3f}, highest {max(coverages):.3f}; highest accepted error "
+        f"{worst_all[0]:.4f} ({worst_all[1]})"
+    )
+    print(
         f"every unseen test feed within {max_error:.0%} at threshold A (with the feed check) in "
-        f"{passed} of {len(seeds)} seeds"
+        f"{passed_test} of {len(seeds)} seeds"
+    )
+    print(
+        f"every unseen feed (validation and test retailers) within {max_error:.0%} at threshold "
+        f"A (with the feed check) in {passed_all} of {len(seeds)} seeds"
     )
 
 
@@ -840,8 +857,17 @@ def main(argv: list[str] | None = None) -> int:
         type=int,
         default=0,
         metavar="N",
-        help="rerun the generator with seeds 1..N (one model, trained once) and count the seeds "
-        "where every unseen test feed stays within --max-error",
+        help="rerun the generator with N seeds (1..N, or from --unseen-seed-start; one model, "
+        "trained once) and count the seeds where every unseen feed (validation and test "
+        "retailers) stays within --max-error",
+    )
+    parser.add_argument(
+        "--unseen-seed-start",
+        type=int,
+        default=1,
+        metavar="S",
+        help="the first seed of --unseen-seeds: seeds S..S+N-1 (default 1; seeds 1..20 are the "
+        "reported test, so choose settings on others, e.g. 101 or 201)",
     )
     parser.add_argument(
         "--model-option",
@@ -930,7 +956,8 @@ def main(argv: list[str] | None = None) -> int:
             _print_table(rows, (len(train), len(valid), len(test)))
         if "unseen" in chosen:
             print("running unseen ...", file=sys.stderr)
-            seeds = list(range(1, args.unseen_seeds + 1)) or [args.unseen_seed]
+            start = args.unseen_seed_start
+            seeds = list(range(start, start + args.unseen_seeds)) or [args.unseen_seed]
             options = {
                 name: json.loads(value)
                 for name, value in (o.split("=", 1) for o in args.model_option)
