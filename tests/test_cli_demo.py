@@ -59,6 +59,12 @@ def test_demo_onboards_measures_and_exports(world: SmallWorld, tmp_path: Path) -
         assert feed["gold"]["wrong"] == wrong
         assert feed["gold"]["products"] == len(rows)
         assert feed["gold"]["coverage"] == pytest.approx(len(accepted) / len(rows), abs=1e-4)
+        # The feed's threshold is its own check's, never below the calibration data's.
+        check = feed["feed_check"]
+        assert feed["threshold"] == check["threshold"]
+        assert feed["statement"].startswith(feed["calibration_statement"] + " Feed check: ")
+        if check["threshold"] is not None and check["calibrated_threshold"] is not None:
+            assert check["threshold"] >= check["calibrated_threshold"]
 
 
 def test_demo_trains_when_there_is_no_model_and_prints_the_summary(
@@ -82,6 +88,9 @@ def test_demo_trains_when_there_is_no_model_and_prints_the_summary(
     assert "Demo feeds" in text
     for name in ("ferravelle", "quorvane", "tallimbra"):
         assert name in text
+    # The calibration data's guarantee once, then each feed's own threshold.
+    assert "calibration items" in text
+    assert "Each feed's own threshold (ferravelle " in text
     assert f"Exported to {project / 'export'}/" in text
     assert f"Review the queue: catmap review --project {project}" in text
     assert (project / "models" / "current" / "manifest.json").exists()

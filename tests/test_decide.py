@@ -6,12 +6,13 @@ import math
 
 import numpy as np
 import pytest
-from scipy.stats import binomtest
+from scipy.stats import binom, binomtest
 
 from catmap.decide.threshold import (
     audit_sample_rate,
     choose_threshold,
     estimate_error,
+    feed_error_target,
     min_accepted_for,
 )
 
@@ -129,6 +130,80 @@ def test_bad_arguments() -> None:
         choose_threshold([0.5], [True], max_error=0.0)
     with pytest.raises(ValueError, match=r"\[0, 1\]"):
         choose_threshold([1.5], [True])
+
+
+@pytest.mark.parametrize("accepted", [3, 10, 49, 50, 120, 2000, 16_000])
+def test_feed_error_target_is_the_rate_at_which_a_feed_exceeds_by_chance_delta(
+    accepted: int,
+) -> None:
+    target = float(feed_error_target(accepted, MAX_ERROR, DELTA))
+    over = math.floor(MAX_ERROR * accepted)  # more wrong ones than this exceed 2%
+    # scipy.stats.binom: at the target, a feed of that many accepted products has more than
+    # 2% of them wrong with probability delta; at a slightly higher rate, more often.
+    assert binom.sf(over, accepted, target) == pytest.approx(DELTA, rel=1e-6)
+    assert binom.sf(over, accepted, target * 1.01) > DELTA
+    assert 0.0 < target < MAX_ERROR
+
+
+def test_feed_error_target_edges() -> None:
+    # Nothing accepted: nothing can be wrong, the rate is held to max_error as without a feed.
+    assert float(feed_error_target(0, MAX_ERROR, DELTA)) == MAX_ERROR
+    # One product: wrong with probability p, so p = delta = 5% would do; capped at 2%.
+    assert float(feed_error_target(1, MAX_ERROR, DELTA)) == MAX_ERROR
+    # Under 50 accepted products 2% allows no error: 1 - (1 - delta) ** (1 / m).
+    assert float(feed_error_target(30, MAX_ERROR, DELTA)) == pytest.approx(1 - 0.95 ** (1 / 30))
+    # A large feed's own sampling hardly matters; the target rises towards max_error.
+    targets = feed_error_target([500, 2000, 16_000, 1_000_000], MAX_ERROR, DELTA)
+    assert np.all(np.diff(targets) > 0) and targets[-1] > 0.0197
+
+
+def _calibrated(rng: np.random.Generator, n: int) -> tuple[np.ndarray, np.ndarray]:
+    """Scores 1 − Beta(1, 40) (2.4% wrong on average); right with the probability they say."""
+    confidences = 1.0 - rng.beta(1.0, 40.0, size=n)
+    return confidences, rng.random(n) < confidences
+
+
+def test_a_feeds_own_share_of_wrong_accepted_mappings_is_controlled() -> None:
+    # Fresh calibration data (3,000 items) and a fresh feed (2,500) per repetition. With the
+    # feed's scores, at most delta of such feeds exceed 2% with probability 1 - delta over the
+    # calibration data, so a feed exceeds it in at most 2 · delta of the repetitions. The
+    # threshold for the population's rate alone bounds the rate, not the feed's own share:
+    # a feed of 2,500 products goes over by chance far more often.
+    rng = np.random.default_rng(0)
+    repetitions = 200
+    over_feed = over_rate = found = 0
+    for _ in range(repetitions):
+        conf, right = _calibrated(rng, 3000)
+        feed, feed_right = _calibrated(rng, 2500)
+        for feed_scores in (feed, None):
+            choice = choose_threshold(conf, right, feed_scores=feed_scores)
+            if choice.threshold is None:
+                continue
+            taken = feed >= choice.threshold
+            exceeded = bool(taken.any()) and 1.0 - feed_right[taken].mean() > MAX_ERROR
+            if feed_scores is None:
+                over_rate += exceeded
+                continue
+            found += 1
+            over_feed += exceeded
+            assert choice.feed_products == 2500 and choice.feed_accepted == int(taken.sum())
+            assert choice.target is not None and choice.target < MAX_ERROR
+    assert found >= repetitions * 0.7  # not vacuous
+    margin = 3 * math.sqrt(2 * DELTA * (1 - 2 * DELTA) / repetitions)
+    assert over_feed / repetitions <= 2 * DELTA + margin
+    assert over_rate / repetitions > DELTA
+    assert over_feed < over_rate
+
+
+def test_the_tests_start_where_the_confidences_say_they_can_pass() -> None:
+    # 2,000 items at 0.99 with a few wrong among the very top: starting where zero errors
+    # could pass (the top 149) would end the sequence at once; the confidences predict about
+    # 20 errors among the 2,000, where the test passes, so the sequence starts there.
+    conf = np.r_[np.linspace(0.999, 0.99, 2000), np.full(1000, 0.5)]
+    right = np.r_[np.arange(2000) % 500 != 3, np.zeros(1000, dtype=bool)]
+    choice = choose_threshold(conf, right)
+    assert choice.threshold is not None and choice.threshold < 0.995
+    assert (choice.n_accepted, choice.errors) == (2000, 4)
 
 
 @pytest.mark.parametrize(("correct", "total"), [(0, 10), (3, 10), (10, 10), (97, 120), (1, 1)])

@@ -142,6 +142,12 @@ def test_onboard_small_feed_end_to_end(world: SmallWorld, project: Path) -> None
             else:
                 assert stored.status == "queued"
                 assert score < summary.threshold
+    # The feed's own threshold (its check's), which `catmap evaluate` then reports at.
+    assert summary.threshold == summary.feed_check["threshold"]
+    assert summary.statement.startswith(summary.calibration_statement + " Feed check: ")
+    from catmap.jobs.evaluate import last_accept_threshold
+
+    assert last_accept_threshold(project) == summary.threshold
 
 
 def test_onboard_twice_changes_nothing(world: SmallWorld, project: Path) -> None:
@@ -476,20 +482,57 @@ def test_feed_check_tightens_a_feed_unlike_the_calibration_data() -> None:
     source = ValidationPredictions(
         scores, correct, "calibration", np.array(["a"] * 4000), np.ones(4000)
     )
-    alike = check_feed_shift(scores[:1000], np.ones(1000), [source])
+    feed = scores[:1000]
+    alike = check_feed_shift(feed, np.ones(1000), [source])
     assert alike.mode == "as calibrated"
-    assert alike.threshold == accept_threshold(source).threshold
-    assert not alike.notes
-    # A third of the titles mostly unknown: stricter threshold (the one for half the error).
+    # The feed's own threshold: the calibration data's, held to a lower rate for the feed's
+    # own sampling (1,000 products), so stricter than the calibration data's alone.
+    assert alike.threshold == accept_threshold(source, feed_scores=feed).threshold
+    assert alike.calibrated_threshold == accept_threshold(source).threshold
+    assert alike.threshold is not None and alike.calibrated_threshold is not None
+    assert alike.threshold > alike.calibrated_threshold
+    assert alike.feed_accepted == int(np.sum(feed >= alike.threshold))
+    assert len(alike.notes) == 1 and "products looked at reach" in alike.notes[0]
+    # A third of the titles mostly unknown: at least the threshold for half the error.
     familiarity = np.where(np.arange(1000) % 3 == 0, 0.2, 1.0)
-    shifted = check_feed_shift(scores[:1000], familiarity, [source])
+    shifted = check_feed_shift(feed, familiarity, [source])
     assert shifted.mode == "tightened"
-    assert shifted.threshold == accept_threshold(source, max_error=0.01).threshold
-    assert shifted.threshold is not None and alike.threshold is not None
+    half = accept_threshold(source, max_error=0.01).threshold
+    assert half is not None
+    assert shifted.threshold == max(half, alike.threshold)
     assert shifted.threshold > alike.threshold
     assert "does not know" in shifted.notes[0]
+    assert "at least the one for 1.0% error" in shifted.notes[-1]
     # Much lower confidence than the calibration retailer: tightened too.
     assert check_feed_shift(scores[:1000] - 0.2, np.ones(1000), [source]).mode == "tightened"
+
+
+def test_the_feed_check_holds_a_small_feed_to_a_stricter_threshold() -> None:
+    from catmap.jobs.onboard import check_feed_shift
+
+    # Calibrated scores (a product is right with the probability its score says), 1.6% wrong
+    # in all: the calibration data alone accepts everything at 2%.
+    rng = np.random.default_rng(1)
+    scores = 1.0 - rng.beta(1.0, 60.0, 8000)
+    source = ValidationPredictions(
+        scores, rng.random(8000) < scores, "calibration", np.array(["a"] * 8000), np.ones(8000)
+    )
+    alone = accept_threshold(source).threshold
+    assert alone == 0.0
+    # Feeds like it of 400 to 8,000 products: the fewer products, the more their own share of
+    # wrong ones varies, the higher the threshold.
+    feed = 1.0 - rng.beta(1.0, 60.0, 8000)
+    checks = [check_feed_shift(feed[:size], np.ones(size), [source]) for size in (400, 2000, 8000)]
+    thresholds = [check.threshold or 0.0 for check in checks]
+    assert thresholds[0] > thresholds[1] > thresholds[2] > alone
+    assert all(check.mode == "as calibrated" for check in checks)
+    targets = [check.feed_target or 0.0 for check in checks]
+    assert targets[0] < targets[1] < targets[2] < 0.02
+    # Calibration data on which no threshold passes: none for the feed either, and it says so.
+    hopeless = ValidationPredictions(scores, np.arange(8000) % 2 == 0, "hopeless")
+    none = check_feed_shift(feed[:400], np.ones(400), [hopeless])
+    assert none.threshold is None and none.calibrated_threshold is None
+    assert "no threshold keeps" in none.notes[0]
 
 
 def test_a_feed_in_an_uncovered_language_has_its_unfamiliar_products_capped() -> None:

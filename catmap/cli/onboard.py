@@ -97,7 +97,8 @@ _max_error_option = click.option(
     default=1 - DEFAULT_DELTA,
     show_default=True,
     type=click.FloatRange(0, 1, min_open=True, max_open=True),
-    help="How sure the error bound must be (1 - the chance it fails).",
+    help="How sure the error bound must be: 1 - the chance that the calibration data "
+    "misleads, and the share of feeds like it that must stay within --max-error.",
 )
 @click.option(
     "--audit-share",
@@ -152,10 +153,12 @@ def onboard_command(
 ) -> None:
     """Read, normalise, map and store a feed; auto-accept what is safe, queue the rest.
 
-    The accept threshold keeps the error of auto-accepted mappings at or below --max-error
-    with the stated --confidence on the calibration data (--validation); it holds for feeds
-    like that data, and the reviewed audit sample measures each feed's real error. Running it
-    again on the same feed updates the store in place (reviewed mappings are kept).
+    Each feed's accept threshold keeps the share of wrong mappings among its auto-accepted
+    products at or below --max-error, with the stated --confidence over the calibration data
+    (--validation) and in that share of the feeds like it (its size counts: the fewer
+    products a threshold accepts, the more that share varies by chance, so the stricter it
+    is). The reviewed audit sample measures each feed's real error. Running it again on the
+    same feed updates the store in place (reviewed mappings are kept).
 
     Several feeds are onboarded one after another, or all at once with --cluster (one
     cluster, a progress line per feed: partitions done, records per second), and stored in
@@ -659,7 +662,20 @@ def _render_demo(facts: dict[str, Any]) -> None:
         )
     _say(table)
     if facts["feeds"]:
-        _say(escape(facts["feeds"][0]["statement"]))
+        first = facts["feeds"][0]
+        _say(escape(first["calibration_statement"] or first["statement"]))
+        thresholds = ", ".join(
+            f"{escape(f['feed'])} "
+            + ("none" if f["threshold"] is None else f"{f['threshold']:.3f}")
+            for f in facts["feeds"]
+        )
+        _say(
+            f"Each feed's own threshold ({thresholds}) keeps the share of wrong mappings among "
+            f"its auto-accepted products at or below {first['max_error']:.1%} in all but "
+            f"{first['delta']:.0%} of feeds like it, its own sampling included: the fewer "
+            "products it accepts, the stricter; a feed unlike the calibration data gets a "
+            "stricter one still (`catmap demo --json` gives each feed's check)."
+        )
         _say(
             f"Calibration data: {escape(facts['feeds'][0]['validation_source'])}. "
             "The gold error column measures each feed's real error; on your own feeds the "

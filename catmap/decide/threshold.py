@@ -15,8 +15,33 @@ at most ``max_error``. It follows Learn-then-Test (Angelopoulos, Bates, Candès,
 
 The candidate grid starts where enough items are accepted for a rejection to be possible at
 all (``n ≥ log(delta) / log(1 - max_error)``, about 148 items for 2% and 5%); above that every
-p-value exceeds ``delta`` and the sequence would stop before it began. This uses only the
-confidences, never whether they were right.
+p-value exceeds ``delta`` and the sequence would stop before it began. It starts lower still
+when the first thresholds would need fewer errors than the confidences predict: at the first
+threshold where the test would pass if the accepted items' errors were as many as their
+confidences say (``Σ (1 - confidence)``, rounded up), or, when that happens nowhere, where zero
+errors would pass. A first test that needs zero errors among the top items ends the sequence
+at the first one of them that is wrong, before it reaches the thresholds that matter. Both
+rules use only the confidences, never whether they were right, so the order of the tests is
+fixed in advance.
+
+**The error of one feed, not of the population.** That bound is on the error *rate* of the
+population the calibration items come from. A feed is a finite sample of it: a feed whose
+threshold accepts ``m`` products has ``K`` wrong ones with ``K ~ Binomial(m, p)`` (``p`` the
+rate above the threshold), so its own share ``K / m`` exceeds ``max_error`` by chance even when
+``p`` does not (at ``p`` = 1.5% and ``m`` = 2,000 it does in 3% of feeds, at 1.9% in a
+third). Given the scores of the feed to decide (``feed_scores``), each candidate threshold
+``t`` is therefore tested against a lower rate: :func:`feed_error_target` of the number of the
+feed's products it accepts, ``m(t)``, the highest ``p`` at which more than ``max_error`` of
+``m(t)`` products are wrong with probability at most ``delta``
+(``P(Binomial(m, p) > ⌊max_error · m⌋) ≤ delta``). The guarantee is then two-level, as a
+tolerance interval's: with probability at least ``1 - delta`` over the calibration data, at
+most a share ``delta`` of feeds of that size from the calibration data's population have more
+than ``max_error`` of their auto-accepted mappings wrong (so a given feed exceeds it with
+probability at most ``2 · delta``). Each ``m(t)`` comes from the feed's scores alone, never from
+whether the calibration items were right, so the test order is still fixed in advance. A large
+feed's own sampling is small (for 2% and ``delta`` 5% the target is 1.83% at ``m`` = 16,000,
+1.56% at 2,000); a small feed needs a stricter threshold, and one that would accept fewer than
+``1 / max_error`` products allows not one error.
 
 Why not "auto-accept when the conformal prediction set holds a single class"? Split conformal
 prediction guarantees *marginal coverage of the set*: over all products, the true node is in
@@ -61,6 +86,11 @@ class ThresholdChoice:
         max_error: the error rate asked for.
         delta: the allowed probability that the guarantee fails.
         statement: the guarantee in plain English.
+        feed_products: products of the feed the threshold was chosen for (None: chosen for
+            the population, without a feed).
+        feed_accepted: those the threshold accepts (0 when none or without a feed).
+        target: the error rate the calibration data was tested against at the threshold
+            (``max_error`` without a feed, :func:`feed_error_target` with one).
     """
 
     threshold: float | None
@@ -73,6 +103,9 @@ class ThresholdChoice:
     max_error: float
     delta: float
     statement: str
+    feed_products: int | None = None
+    feed_accepted: int = 0
+    target: float | None = None
 
     @property
     def accepts_any(self) -> bool:
@@ -107,24 +140,68 @@ def min_accepted_for(max_error: float, delta: float) -> int:
     return math.ceil(math.log(delta) / math.log1p(-max_error))
 
 
+def feed_error_target(
+    accepted: int | Sequence[int] | np.ndarray,
+    max_error: float = DEFAULT_MAX_ERROR,
+    delta: float = DEFAULT_DELTA,
+) -> np.ndarray:
+    """Return the highest error rate at which a feed keeps ``max_error`` despite its own sampling.
+
+    For ``m`` accepted products drawn from a population whose error rate is ``p``, the wrong
+    ones are ``Binomial(m, p)``; the result is the largest ``p`` with
+    ``P(Binomial(m, p) ≥ c) ≤ delta``, ``c = ⌊max_error · m⌋ + 1`` the fewest wrong products
+    over ``max_error``. As ``P(Binomial(m, p) ≥ c)`` is the regularised incomplete beta function
+    ``I_p(c, m - c + 1)``, that ``p`` is the ``delta`` quantile of ``Beta(c, m - c + 1)`` (the
+    Clopper-Pearson lower limit's formula). It rises towards ``max_error`` as ``m`` grows.
+
+    The result never exceeds ``max_error``: a feed of one or two accepted products would
+    allow a higher rate (one wrong product of two is over 2% with probability under 5% when
+    ``p`` is 2.5%), but the rate itself is held to ``max_error`` as without a feed.
+
+    Args:
+        accepted: products the feed accepts (``m``; 0 gives ``max_error``: nothing can err).
+        max_error: the error rate allowed among the feed's auto-accepted mappings.
+        delta: the allowed share of feeds over ``max_error``.
+
+    Returns:
+        One rate per ``accepted`` value (a 0-d array for a single one).
+    """
+    from scipy.stats import beta
+
+    m = np.asarray(accepted, dtype=np.int64)
+    # The fewest wrong products over max_error (guarding 0.02 · 50 = 1.0000000000000002).
+    c = np.floor(max_error * m + 1e-9).astype(np.int64) + 1
+    target = np.full(m.shape, max_error, dtype=float)
+    some = m > 0
+    target[some] = beta.ppf(delta, c[some], m[some] - c[some] + 1)
+    return np.minimum(target, max_error)
+
+
 def choose_threshold(
     confidences: Sequence[float] | np.ndarray,
     correct: Sequence[bool] | np.ndarray,
     *,
     max_error: float = DEFAULT_MAX_ERROR,
     delta: float = DEFAULT_DELTA,
+    feed_scores: Sequence[float] | np.ndarray | None = None,
 ) -> ThresholdChoice:
     """Choose the lowest confidence threshold whose accepted part errs at most ``max_error``.
 
     With probability at least ``1 - delta`` over the calibration data (drawn like the data the
     threshold is used on), the error among mappings with confidence ≥ the threshold is at most
     ``max_error`` (Learn-then-Test with fixed-sequence testing; see the module docstring).
+    With ``feed_scores``, the bound is on that feed's own share of wrong auto-accepted
+    mappings: at most ``max_error`` in all but a share ``delta`` of such feeds, with
+    probability at least ``1 - delta`` over the calibration data (each threshold tested
+    against :func:`feed_error_target` of the feed's products it accepts).
 
     Args:
         confidences: calibrated confidences of held-out mappings, in [0, 1].
         correct: whether each of those mappings was right.
         max_error: the error rate allowed among auto-accepted mappings.
         delta: the allowed probability that the guarantee fails.
+        feed_scores: the scores of the feed the threshold is for (compared with it as the
+            confidences are); None: a threshold for the population's error rate.
 
     Returns:
         The choice; ``threshold`` is None (accept nothing) when no threshold passes.
@@ -152,12 +229,32 @@ def choose_threshold(
     grid = np.linspace(1.0, 0.0, GRID_STEPS + 1)
     # Items with confidence ≥ t are the first n of the descending order.
     accepted = np.searchsorted(-sorted_conf, -grid, side="right")
-    # The grid starts where a rejection is possible at all (uses the confidences only).
-    grid, accepted = grid[accepted >= n_min], accepted[accepted >= n_min]
-    best: tuple[float, int, int, float] | None = None
+    feed: np.ndarray | None = None
+    if feed_scores is None:
+        targets = np.full(grid.shape, max_error)
+        possible = accepted >= n_min
+    else:
+        feed = np.sort(np.asarray(feed_scores, dtype=float))[::-1]
+        feed_accepted = np.searchsorted(-feed, -grid, side="right")
+        targets = feed_error_target(feed_accepted, max_error, delta)
+        # Zero errors among n items reject p ≥ target when (1 - target) ** n ≤ delta.
+        possible = accepted * -np.log1p(-targets) >= -math.log(delta)
+    # The grid starts where a rejection is possible at all, and where the test would pass with
+    # the errors the confidences predict (see the module docstring); scores only, never labels.
+    predicted = (
+        np.cumsum(1.0 - sorted_conf)[np.maximum(accepted - 1, 0)] if total else accepted * 0.0
+    )
+    hopeful = possible & (accepted > 0) & (
+        binom.cdf(np.ceil(predicted - 1e-9), accepted, targets) <= delta
+    )
+    start = np.flatnonzero(hopeful if hopeful.any() else possible)
+    if start.size:
+        possible[: start[0]] = False
+    grid, accepted, targets = grid[possible], accepted[possible], targets[possible]
+    best: tuple[float, int, int, float, float] | None = None
     if accepted.size:
         errors = wrong_cumulative[accepted - 1]
-        p_values = binom.cdf(errors, accepted, max_error)
+        p_values = binom.cdf(errors, accepted, targets)
         failed = np.flatnonzero(p_values > delta)
         # Fixed-sequence testing: the first failure ends the sequence.
         passed = int(failed[0]) if failed.size else int(grid.size)
@@ -168,26 +265,49 @@ def choose_threshold(
                 int(accepted[last]),
                 int(errors[last]),
                 float(p_values[last]),
+                float(targets[last]),
             )
+    feed_products = None if feed is None else int(feed.size)
 
     if best is None:
+        of_what = "of auto-accepted mappings" if feed is None else (
+            f"of this feed's auto-accepted mappings (of its {feed_products:,} products)"
+        )
         statement = (
-            f"No threshold keeps the error of auto-accepted mappings at or below {max_error:.1%} "
+            f"No threshold keeps the error {of_what} at or below {max_error:.1%} "
             f"with {1 - delta:.0%} confidence on {total} calibration items: accept nothing "
             "automatically and review everything (or add calibration data)."
         )
-        return ThresholdChoice(None, 0.0, 0.0, total, 0, 0, None, max_error, delta, statement)
+        return ThresholdChoice(
+            None, 0.0, 0.0, total, 0, 0, None, max_error, delta, statement, feed_products
+        )
 
-    threshold, n, k, p_value = best
+    threshold, n, k, p_value, target = best
     coverage = n / total
+    calibration = (
+        f"On {total} calibration items this accepts {coverage:.1%} ({n}), of which {k} were "
+        f"wrong ({k / n:.2%})."
+    )
+    if feed is None:
+        statement = (
+            f"Auto-accept mappings with confidence ≥ {threshold:.3f}: with {1 - delta:.0%} "
+            f"confidence their error rate is at most {max_error:.1%}. {calibration}"
+        )
+        return ThresholdChoice(
+            threshold, coverage, k / n, total, n, k, p_value, max_error, delta, statement,
+            None, 0, max_error,
+        )  # fmt: skip
+    taken = int(np.searchsorted(-feed, -threshold, side="right"))
     statement = (
-        f"Auto-accept mappings with confidence ≥ {threshold:.3f}: with {1 - delta:.0%} "
-        f"confidence their error rate is at most {max_error:.1%}. On {total} calibration items "
-        f"this accepts {coverage:.1%} ({n}), of which {k} were wrong ({k / n:.2%})."
+        f"Auto-accept this feed's mappings with confidence ≥ {threshold:.3f} ({taken:,} of its "
+        f"{feed_products:,} products): with {1 - delta:.0%} confidence, at most "
+        f"{delta:.0%} of feeds like it have more than {max_error:.1%} of those wrong (the "
+        f"error rate above the threshold is at most {target:.2%}). {calibration}"
     )
     return ThresholdChoice(
-        threshold, coverage, k / n, total, n, k, p_value, max_error, delta, statement
-    )
+        threshold, coverage, k / n, total, n, k, p_value, max_error, delta, statement,
+        feed_products, taken, target,
+    )  # fmt: skip
 
 
 def estimate_error(

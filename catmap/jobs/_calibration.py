@@ -1,5 +1,7 @@
 """The accept threshold of onboarding: held-out predictions per calibration source (cached
-beside the model) and the strictest Learn-then-Test threshold over them.
+beside the model), the strictest Learn-then-Test threshold over them, and each feed's own
+(:func:`check_feed_shift`: the bound is on the feed's own share of wrong auto-accepted
+mappings, so its size counts, and a feed unlike the calibration data gets a stricter one).
 
 The retailer is the unit of exchangeability: a new feed comes from a new retailer, whose
 products resemble each other more than they resemble another retailer's. So each source is
@@ -374,6 +376,7 @@ def accept_threshold(
     *,
     max_error: float = DEFAULT_MAX_ERROR,
     delta: float = DEFAULT_DELTA,
+    feed_scores: np.ndarray[Any, Any] | None = None,
 ) -> ThresholdChoice:
     """Choose the accept threshold on held-out predictions (Learn-then-Test).
 
@@ -384,13 +387,18 @@ def accept_threshold(
     1 - delta). No feed is exchangeable with a single other retailer's products; requiring
     all sources is the cautious reading. Each source is first split by retailer (see the
     module docstring), so the threshold holds on the worst held-out retailer. If one part
-    passes no threshold, nothing is accepted.
+    passes no threshold, nothing is accepted. With ``feed_scores`` (a feed's acceptance
+    scores) the threshold is that feed's: each part's bound is on the share of the feed's own
+    auto-accepted mappings that are wrong, its sampling included (see
+    :func:`catmap.decide.threshold.choose_threshold`).
     """
     given = [validation] if isinstance(validation, ValidationPredictions) else list(validation)
     if not given:
         raise ValueError("no calibration source")
     choices = [
-        choose_threshold(v.scores, v.correct, max_error=max_error, delta=delta)
+        choose_threshold(
+            v.scores, v.correct, max_error=max_error, delta=delta, feed_scores=feed_scores
+        )
         for v in retailer_parts(given)
     ]
     _index, choice = strictest_choice(choices)
@@ -475,6 +483,13 @@ class FeedShift:
         uncovered_language: the feed is mostly in words neither the tree nor the training
             data know (a language the tree does not cover).
         notes: what the check found, in words (the run summary shows them).
+        calibrated_threshold: the calibration data's threshold without the feed (the
+            population's error rate; None: it accepts nothing).
+        feed_accepted: the products looked at that :attr:`threshold` accepts.
+        feed_target: the error rate the calibration data was held to at the feed's own
+            threshold (before any tightening) so that the feed's share of wrong accepted
+            mappings stays within target (:func:`catmap.decide.threshold.feed_error_target`;
+            None: no threshold).
     """
 
     products: int
@@ -486,17 +501,16 @@ class FeedShift:
     threshold: float | None
     uncovered_language: bool
     notes: tuple[str, ...]
+    calibrated_threshold: float | None = None
+    feed_accepted: int = 0
+    feed_target: float | None = None
 
     def acceptance_scores(
         self, scores: np.ndarray[Any, Any], familiarity: np.ndarray[Any, Any]
     ) -> np.ndarray[Any, Any]:
         """The scores compared with :attr:`threshold`: unfamiliar products of a feed in an
         uncovered language are capped at :data:`UNCOVERED_LANGUAGE_CAP`."""
-        if not self.uncovered_language:
-            return scores
-        return np.where(
-            familiarity < UNFAMILIAR_BELOW, np.minimum(scores, UNCOVERED_LANGUAGE_CAP), scores
-        )
+        return _capped(scores, familiarity, uncovered=self.uncovered_language)
 
     def to_dict(self) -> dict[str, Any]:
         """Return the facts as JSON-ready values."""
@@ -510,7 +524,22 @@ class FeedShift:
             "threshold": self.threshold,
             "uncovered_language": self.uncovered_language,
             "notes": list(self.notes),
+            "calibrated_threshold": self.calibrated_threshold,
+            "feed_accepted": self.feed_accepted,
+            "feed_target": None if self.feed_target is None else round(self.feed_target, 5),
         }
+
+
+def _capped(
+    scores: np.ndarray[Any, Any], familiarity: np.ndarray[Any, Any], *, uncovered: bool
+) -> np.ndarray[Any, Any]:
+    """Cap unfamiliar products' scores at :data:`UNCOVERED_LANGUAGE_CAP` in an uncovered
+    language (the scores unchanged otherwise)."""
+    if not uncovered:
+        return scores
+    return np.where(
+        familiarity < UNFAMILIAR_BELOW, np.minimum(scores, UNCOVERED_LANGUAGE_CAP), scores
+    )
 
 
 def check_feed_shift(
@@ -523,11 +552,18 @@ def check_feed_shift(
 ) -> FeedShift:
     """Compare a feed's mapped products with the calibration retailers; choose its threshold.
 
-    The threshold is the strictest over the calibration retailers (:func:`accept_threshold`).
-    A feed unlike all of them (more unfamiliar titles, or lower confidence, than any by
-    :data:`SHIFT_MARGIN`) gets the threshold chosen for half the error rate; a feed mostly in
-    an uncovered language is treated so too, and its unfamiliar products' scores are capped.
-    When even that threshold accepts nothing, the feed is audited first (mode
+    The threshold is the feed's own (:func:`accept_threshold` with the feed's scores): the
+    strictest over the calibration retailers of the lowest one at which, with probability
+    ``1 - delta`` over the calibration data, at most a share ``delta`` of feeds of this size
+    like that retailer's have more than ``max_error`` of their auto-accepted mappings wrong.
+    The products looked at stand for the feed (onboarding passes its first chunk, a whole feed
+    of usual size; a longer feed's share varies less, so this errs on the safe side).
+
+    A feed unlike all calibration retailers (more unfamiliar titles, or lower confidence, than
+    any by :data:`SHIFT_MARGIN`) gets at least the threshold chosen for half the error rate, a
+    margin for a retailer the calibration data does not stand for (common practice, no
+    source); a feed mostly in an uncovered language is treated so too, and its unfamiliar
+    products' scores are capped. When no threshold is left, the feed is audited first (mode
     ``audit first``: nothing auto-accepted, everything reviewed).
 
     Args:
@@ -541,7 +577,7 @@ def check_feed_shift(
         The check's facts and the feed's threshold.
     """
     parts = retailer_parts(sources)
-    choice = accept_threshold(parts, max_error=max_error, delta=delta)
+    calibrated = accept_threshold(parts, max_error=max_error, delta=delta)
     measured = [p for p in parts if len(p.familiarity) == len(p) and len(p)]
     unfamiliar = float(np.mean(familiarity < UNFAMILIAR_BELOW)) if len(familiarity) else 0.0
     mean_score = float(np.mean(scores)) if len(scores) else 0.0
@@ -564,8 +600,6 @@ def check_feed_shift(
             f"mean confidence {mean_score:.2f}, below every calibration retailer's "
             f"(lowest {calibration_mean:.2f})"
         )
-    threshold = choice.threshold
-    mode = "as calibrated"
     if uncovered:
         shifted = True
         notes.append(
@@ -573,14 +607,26 @@ def check_feed_shift(
             f"confidence of those products is capped at {UNCOVERED_LANGUAGE_CAP} (never "
             "auto-accepted)"
         )
+    acceptance = _capped(np.asarray(scores, dtype=float), familiarity, uncovered=uncovered)
+    own = accept_threshold(parts, max_error=max_error, delta=delta, feed_scores=acceptance)
+    notes.append(_sampling_note(own, calibrated, max_error, delta))
+    threshold = own.threshold
+    mode = "as calibrated" if threshold is not None or calibrated.threshold is None else (
+        "audit first"
+    )
     if shifted:
-        threshold = accept_threshold(parts, max_error=max_error / 2, delta=delta).threshold
+        tightened = accept_threshold(parts, max_error=max_error / 2, delta=delta).threshold
+        if threshold is not None and tightened is not None and tightened > threshold:
+            threshold = tightened
+        elif tightened is None:
+            threshold = None
         mode = "tightened" if threshold is not None else "audit first"
         what = "nothing is auto-accepted" if threshold is None else f"{threshold:.3f}"
         notes.append(
-            "the feed looks unlike the calibration data: the threshold is the one for "
-            f"{max_error / 2:.1%} error ({what})"
+            "the feed looks unlike the calibration data: the threshold is at least the one "
+            f"for {max_error / 2:.1%} error ({what})"
         )
+    accepted = int(np.sum(acceptance >= threshold)) if threshold is not None else 0
     return FeedShift(
         products=len(scores),
         unfamiliar_share=unfamiliar,
@@ -591,4 +637,30 @@ def check_feed_shift(
         threshold=threshold,
         uncovered_language=uncovered,
         notes=tuple(notes),
+        calibrated_threshold=calibrated.threshold,
+        feed_accepted=accepted,
+        feed_target=own.target,
+    )
+
+
+def _sampling_note(
+    own: ThresholdChoice, calibrated: ThresholdChoice, max_error: float, delta: float
+) -> str:
+    """What the feed's own sampling did to its threshold, in words."""
+    alone = (
+        "accepts nothing" if calibrated.threshold is None else f"{calibrated.threshold:.3f}"
+    )
+    if own.threshold is None or own.target is None:
+        return (
+            f"no threshold keeps the share of wrong mappings among this feed's auto-accepted "
+            f"ones at or below {max_error:.1%} with {1 - delta:.0%} confidence (the calibration "
+            f"data alone: {alone}; the fewer products a feed has, the fewer errors "
+            f"{max_error:.1%} of them allows)"
+        )
+    return (
+        f"{own.feed_accepted:,} of the {own.feed_products or 0:,} products looked at reach "
+        f"{own.threshold:.3f}; for at most {delta:.0%} of feeds like this one to have more "
+        f"than {max_error:.1%} of those wrong, the calibration error above it must be at most "
+        f"{own.target:.2%} (with {1 - delta:.0%} confidence; the calibration data alone: "
+        f"{alone})"
     )

@@ -20,7 +20,9 @@ class EvaluationResult:
 
 
 def last_accept_threshold(project: Path) -> float | None:
-    """The accept threshold of the project's latest finished onboarding run (None: none yet)."""
+    """The accept threshold of the project's latest finished onboarding run (None: none yet):
+    the one its feed check set for its feed, else (a run recorded without it) the calibration
+    data's."""
     from catmap.store import Store, store_path
 
     path = store_path(project)
@@ -29,7 +31,8 @@ def last_accept_threshold(project: Path) -> float | None:
     with Store.open(path) as store:
         runs = [r for r in store.runs() if r.kind == "onboard" and r.finished_at]
     for run in reversed(runs):
-        threshold = run.params.get("threshold")
+        recorded = run.summary if "threshold" in run.summary else run.params
+        threshold = recorded.get("threshold")
         if threshold is not None:
             return float(threshold)
     return None

@@ -20,9 +20,12 @@ model never trained on are a calibration source (``OnboardOptions.validation_fee
 labelled row of a feed without a ``split`` column calibrates); the model's own validation split
 of the reference catalog is another (the retailers it trained on). No single retailer stands
 for all new ones (on the demo, Oskelund's feed turned out easier than the reference's valid
-split), so with several sources the threshold must pass on each: the strictest is kept. By
-default the demo's two are used (reference valid split + Oskelund). Either way the seeded audit
-sample measures each feed's real error.
+split), so with several sources the threshold must pass on each: the strictest is kept (see
+:func:`default_calibration_feeds` for the default sources). Each feed then gets its own
+threshold from its first chunk (:func:`check_feed_shift`): the bound is on the share of wrong
+mappings among *its* auto-accepted products, so its own sampling counts (the fewer products
+the threshold accepts, the stricter it is), and a feed unlike the calibration data gets a
+stricter one. Either way the seeded audit sample measures each feed's real error.
 
 Running onboard again on the same feed updates in place: the store upserts by product id, review
 items are unique per product and reason, and a person's decision is never overwritten. A run
@@ -219,7 +222,12 @@ class OnboardOptions:
 
 @dataclass
 class OnboardSummary:
-    """What one onboarding run did to one feed (the facts ``catmap onboard`` prints)."""
+    """What one onboarding run did to one feed (the facts ``catmap onboard`` prints).
+
+    ``statement`` is the guarantee of the feed's threshold in words: the calibration data's
+    (``calibration_statement``, the same for every feed of a model) and then the feed check's
+    (``feed_check``), which sets the feed's own ``threshold``.
+    """
 
     feed: str
     path: str
@@ -238,6 +246,7 @@ class OnboardSummary:
     validation_products: int = 0
     validation_source: str = ""
     statement: str = ""
+    calibration_statement: str = ""
     feed_check: dict[str, Any] = field(default_factory=dict)
     max_error: float = DEFAULT_MAX_ERROR
     delta: float = DEFAULT_DELTA
@@ -813,6 +822,7 @@ def _start_run(
         validation_products=choice.n_calibration,
         validation_source="; ".join(v.source for v in sources),
         statement=statement,
+        calibration_statement=statement,
         max_error=options.max_error,
         delta=options.delta,
         rules_file=str(rules_file) if rules_file else None,
@@ -987,14 +997,18 @@ def check_shift(
     scores: np.ndarray[Any, Any],
     familiarity: np.ndarray[Any, Any],
 ) -> FeedShift:
-    """Run the feed's shift check and record its threshold and findings in the summary."""
+    """Run the feed's check and record its threshold and findings in the summary.
+
+    The feed's threshold replaces the calibration data's: it accounts for the feed's own
+    sampling (how many of its products the threshold accepts) and for a feed unlike the
+    calibration data (see :func:`check_feed_shift`).
+    """
     shift = check_feed_shift(
         scores, familiarity, sources, max_error=options.max_error, delta=options.delta
     )
     summary.feed_check = shift.to_dict()
-    if shift.mode != "as calibrated":
-        summary.threshold = shift.threshold
-        summary.statement += " Feed check: " + "; ".join(shift.notes) + "."
+    summary.threshold = shift.threshold
+    summary.statement += " Feed check: " + "; ".join(shift.notes) + "."
     return shift
 
 
