@@ -76,12 +76,43 @@ def test_several_feeds_map_at_once_as_each_alone(
         assert f"{stem}: pass 2 " in result.stderr  # a progress line per feed
 
 
-def test_a_tree_file_is_refused_on_a_cluster(tmp_path: Path) -> None:
-    tree = Path(__file__).resolve().parents[1] / "taxonomies" / "tree-v1.txt"
-    result = CliRunner().invoke(
-        main,
-        ["map", str(FEED), "--out", str(tmp_path / "out"), "--project", str(tmp_path / "p"),
-         "--cluster", "local:2", "--tree-file", str(tree)],
+def test_a_tree_file_maps_on_a_cluster_as_in_one_process(
+    tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    from collections.abc import Iterator
+    from contextlib import contextmanager
+    from typing import Any
+
+    import catmap.jobs.cluster as cluster
+
+    real = cluster.open_cluster
+
+    @contextmanager
+    def threads(address: str) -> Iterator[Any]:  # the workers are threads of this process
+        with real(address, processes=False) as client:
+            yield client
+
+    monkeypatch.setattr(cluster, "open_cluster", threads)
+    # A tree file of one's own (the garden-and-crafts example) and a feed of that shop.
+    example = Path(__file__).resolve().parents[1] / "examples" / "own-project"
+    tree = example / "tree.txt"
+    feed = example / "new-shop_2026-11-30.csv"
+    own_ids = {line.split("|")[0].strip() for line in tree.read_text("utf-8").splitlines()
+               if "|" in line}
+    common = ["--project", str(tmp_path / "p"), "--tree-file", str(tree)]
+    alone = CliRunner().invoke(
+        main, ["map", str(feed), "--out", str(tmp_path / "alone"), "--workers", "1", *common]
     )
-    assert result.exit_code != 0 and "--tree-file" in result.output
-    assert "Traceback" not in result.output and not (tmp_path / "out").exists()
+    assert alone.exit_code == 0, alone.output
+    spread = CliRunner().invoke(
+        main, ["map", str(feed), "--out", str(tmp_path / "spread"), "--cluster", "local:2",
+               "--json", *common],
+    )
+    assert spread.exit_code == 0, spread.output
+    for name in ("mappings.jsonl", "rejects.jsonl"):
+        mine = (tmp_path / "alone" / name).read_bytes()
+        theirs = (tmp_path / "spread" / name).read_bytes()
+        assert mine == theirs, name
+    mapped = [json.loads(line) for line in (tmp_path / "spread" / "mappings.jsonl").open()]
+    # every product sits in the file's tree, whose ids the shared tree does not use
+    assert mapped and {m["node_id"] for m in mapped} <= own_ids

@@ -23,12 +23,12 @@ from catmap.cli._render import (
 )
 from catmap.cli._render import project_option as _project_option
 from catmap.cli._render import tree_version_option as _tree_version_option
-from catmap.errors import InputError
 from catmap.feeds.writers import FORMATS
 from catmap.jobs.map import map_project_feed
 from catmap.jobs.onboard import project_tree
 from catmap.jobs.train import train_project
 from catmap.project import project_dir
+from catmap.tree.taxonomy import load_tree
 
 
 @click.command("train")
@@ -239,14 +239,10 @@ def map_command(
     every operator in docs/rules.md), then the trained model, or the tree's own keywords when no
     model is trained yet. Give several feeds to map each into its own folder under --out.
     """
-    if cluster is not None and tree_file is not None:
-        raise InputError(
-            "map --cluster works on the shared tree's versions, not on a tree file",
-            field="--tree-file",
-            hint="use --tree-version N, or map without --cluster (onboard --cluster takes "
-            "--tree-file)",
-        )
-    if cluster is not None and tree_version is None:
+    if cluster is not None and tree_version is None and tree_file is not None:
+        # A tree file wins over the version; the run's facts name the file's own version.
+        tree_version = str(load_tree(tree_file).version)
+    elif cluster is not None and tree_version is None:
         # Workers load the shared tree by its version: the project's (or its model's).
         tree_version = str(project_tree(project_dir(project)).version)
     if len(feeds) > 1:
@@ -265,6 +261,7 @@ def map_command(
             cluster=cluster,
             project=project,
             tree_version=tree_version,
+            tree_file=tree_file,
             model_dir=model_path,
             rules_file=rules_file,
             backoff_threshold=backoff_threshold,
@@ -380,7 +377,7 @@ def _map_several(
         if cluster is not None:
             results = map_project_feeds_on_cluster(
                 feeds, out_dir, cluster=cluster, project=folder, on_progress=on_cluster,
-                tree_version=tree_version, **options,
+                tree_version=tree_version, tree_file=tree_file, **options,
             )  # fmt: skip
         else:
             results = []

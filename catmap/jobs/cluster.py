@@ -89,7 +89,7 @@ from catmap.jobs.map import MapResult, project_mapper
 from catmap.jobs.onboard import default_model_dir
 from catmap.project import feed_names, feed_stem, subfolder
 from catmap.records import Product, Reject, SourceRecord
-from catmap.tree.taxonomy import load_default_tree
+from catmap.tree.taxonomy import load_default_tree, load_tree
 
 __all__ = [
     "ClusterError",
@@ -144,18 +144,20 @@ class MapSetup:
         tree_version: version of the shared tree.
         model_dir: the model folder (None: the project's, or keywords when none is trained).
         rules_file: the rules file, or None.
+        tree_file: a tree file of one's own (wins over ``tree_version``), or None.
     """
 
     project: str
     tree_version: str
     model_dir: str | None
     rules_file: str | None
+    tree_file: str | None = None
 
 
 # One mapper per worker process, loaded by its first task. A Mapper keeps caches that two
 # threads must not use at once: a worker with several threads takes turns (the lock), so start
 # workers with one thread each (``local:N`` does; ``dask worker --nthreads 1``).
-_MAPPERS: dict[tuple[str, str | None], tuple[Mapper, threading.Lock]] = {}
+_MAPPERS: dict[tuple[str, str | None], tuple[Mapper, threading.Lock]] = {}  # by tree, model
 _RULES: dict[tuple[str, str], RuleSet] = {}
 _SETUP_LOCK = threading.Lock()
 
@@ -171,16 +173,21 @@ def _worker_setup(setup: MapSetup) -> tuple[Mapper, RuleSet, threading.Lock]:
             Path(setup.project)
         )
         uses_model = setup.model_dir is not None or (folder / MANIFEST).exists()
-        key = (setup.tree_version, str(folder.resolve()) if uses_model else None)
+        which_tree = setup.tree_file or setup.tree_version
+        key = (which_tree, str(folder.resolve()) if uses_model else None)
         found = _MAPPERS.get(key)
         if found is None:
-            tree = load_default_tree(setup.tree_version)
+            tree = (
+                load_tree(setup.tree_file)
+                if setup.tree_file
+                else load_default_tree(setup.tree_version)
+            )
             mapper, _ = project_mapper(Path(setup.project), tree, folder if uses_model else None)
             found = _MAPPERS[key] = (mapper, threading.Lock())
         mapper, lock = found
         rules = RuleSet([])
         if setup.rules_file:
-            rules_key = (setup.tree_version, setup.rules_file)
+            rules_key = (which_tree, setup.rules_file)
             if rules_key not in _RULES:
                 _RULES[rules_key] = load_rules(Path(setup.rules_file), tree=mapper.tree)
             rules = _RULES[rules_key]
@@ -676,6 +683,7 @@ def map_feed_on_cluster(
     client: Any,
     project: Path,
     tree_version: str = "1",
+    tree_file: Path | None = None,
     model_dir: Path | None = None,
     rules_file: Path | None = None,
     backoff_threshold: float = 0.5,
@@ -695,6 +703,8 @@ def map_feed_on_cluster(
         client: a ``dask.distributed.Client`` (see :func:`open_cluster`).
         project: the project folder (profile, rules, model), readable by every worker.
         tree_version: version of the shared category tree.
+        tree_file: a tree file of one's own, readable by every worker at this path (wins
+            over ``tree_version``).
         model_dir: the model folder (default: the project's, keywords only when none).
         rules_file: rules applied first (default: ``<project>/rules/<feed name>.rules``).
         backoff_threshold: below this confidence, answer the deepest sure parent node.
@@ -713,7 +723,7 @@ def map_feed_on_cluster(
         partitions and dashboard), and the fatal feed error that stopped reading early.
     """
     started = time.perf_counter()
-    tree = load_default_tree(tree_version)
+    tree = load_tree(tree_file) if tree_file is not None else load_default_tree(tree_version)
     folder = model_dir if model_dir is not None else default_model_dir(project)
     uses_model = model_dir is not None or (folder / MANIFEST).exists()
     if rules_file is None:
@@ -725,6 +735,7 @@ def map_feed_on_cluster(
         tree_version,
         str(Path(model_dir).resolve()) if model_dir is not None else None,
         str(Path(rules_file).resolve()) if rules_file is not None else None,
+        str(Path(tree_file).resolve()) if tree_file is not None else None,
     )
     source = open_profiled_feed(feed, project)
     info, profile = source.info, source.profile
@@ -1046,6 +1057,7 @@ def map_project_feed_on_cluster(
     cluster: str,
     project: Path,
     tree_version: str = "1",
+    tree_file: Path | None = None,
     model_dir: Path | None = None,
     rules_file: Path | None = None,
     backoff_threshold: float = 0.5,
@@ -1060,6 +1072,7 @@ def map_project_feed_on_cluster(
         cluster: ``local:N`` or a scheduler address (see :func:`open_cluster`).
         project: the project folder (profile, rules, model).
         tree_version: version of the shared category tree.
+        tree_file: a tree file of one's own (wins over ``tree_version``).
         model_dir: the model folder (default: the project's, keywords only when none).
         rules_file: rules applied first (default: ``<project>/rules/<feed name>.rules``).
         backoff_threshold: below this confidence, answer the deepest sure parent node.
@@ -1080,6 +1093,7 @@ def map_project_feed_on_cluster(
             client=client,
             project=project,
             tree_version=tree_version,
+            tree_file=tree_file,
             model_dir=model_dir,
             rules_file=rules_file,
             backoff_threshold=backoff_threshold,
