@@ -218,3 +218,25 @@ def test_training_keeps_every_product_unless_a_cap_is_set(tree: CategoryTree) ->
     # A capped model learns from fewer rows: its vocabulary is a subset of the full one's.
     small = capped.fit(texts, labels).featurizer_.n_features_
     assert small < full.fit(texts, labels).featurizer_.n_features_
+
+
+def test_a_flat_dense_model_scores_title_ngrams_word_by_word_as_the_feature_matrix(
+    tree: CategoryTree, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    rows = labelled_rows(300)
+    train, labels = texts_and_labels([r for r in rows if r["split"] == "train"])
+    valid, valid_labels = texts_and_labels([r for r in rows if r["split"] == "valid"])
+    flat = CategoryModel(tree=tree, hierarchical=False, min_df=1, prune_below=0.0)
+    flat.fit(train, labels).calibrate(valid, valid_labels)
+    layout = flat._layout()
+    assert layout.parts[0].dense is not None and flat._words_block(layout)
+    texts, _ = texts_and_labels(labelled_rows(80, seed=3))
+    by_words = [flat.top_k(texts, 3) for _ in range(2)]  # the second from the per-word scores
+    monkeypatch.setattr(CategoryModel, "_words_block", lambda self, layout: False)
+    idx, vals = flat.top_k(texts, 3)
+    # reference: the same model scoring its stacked TF-IDF matrix (scikit-learn's vectorizers)
+    dense = flat.predict_proba(texts)
+    assert np.allclose(vals, -np.sort(-dense, axis=1)[:, :3], atol=1e-6)
+    for got_idx, got_vals in by_words:
+        assert np.array_equal(got_idx[:, 0], idx[:, 0])
+        assert np.allclose(got_vals, vals, atol=1e-5)

@@ -219,6 +219,13 @@ def _code_points(strings: Sequence[str]) -> tuple[Array, Array]:
     return np.frombuffer(raw, dtype=np.uint32), offsets
 
 
+def _distinct_numbers(numbers: Array, size: int) -> Array:
+    """The distinct values of ``numbers`` (all below ``size``), in order, without a sort."""
+    seen = np.zeros(size, dtype=bool)
+    seen[numbers] = True
+    return np.flatnonzero(seen)
+
+
 class _PerWordCache:
     """What the cached transformers share: what they derive from a word, kept by its number.
 
@@ -270,13 +277,13 @@ class _PerWordCache:
         rows = self._row_of[split.numbers]
         missing = split.numbers[rows < 0]
         if len(missing):
-            missing = np.unique(missing)
+            missing = _distinct_numbers(missing, len(split.words))
             if self._n_rows + len(missing) > self.max_words:
                 generation = split.generation
                 self._reset()
                 self._generation = generation
                 self._row_of = np.full(len(split.words), -1, dtype=np.int64)
-                missing = np.unique(split.numbers)
+                missing = _distinct_numbers(split.numbers, len(split.words))
             words = split.words
             self._add_words([words[i] for i in missing.tolist()])
             self._row_of[missing] = np.arange(self._n_rows, self._n_rows + len(missing))

@@ -473,6 +473,23 @@ class CategoryModel:
             ready[: len(state[2])] = state[2]
             state = (key, scores, ready)
         self.__dict__["_word_scores"] = state
+        # The batch's new words get their scores feature by feature, each weight row fetched
+        # once for all of them (the kernel would fetch it once per word holding it).
+        new = np.zeros(len(state[2]), dtype=bool)
+        new[numbers] = True
+        new[state[2] == 1] = False
+        need = np.flatnonzero(new)
+        if len(need):
+            counts = rows[need]
+            counts.data = (counts.data * cache.idf[counts.indices]).astype(np.float32)
+            by_feature = counts.tocsc()
+            made = np.zeros((len(need), block.shape[1]), np.float32)
+            score_columns_dense(
+                by_feature.indptr, by_feature.indices, by_feature.data,
+                np.arange(len(need), dtype=np.int64), row_of, block, made, start,
+            )
+            state[1][need] = made
+            state[2][need] = 1
         vectorizer = cache.vectorizer
         score_words_dense(
             offsets, numbers, rows.indptr, rows.indices, rows.data, cache.idf[rows.indices],
