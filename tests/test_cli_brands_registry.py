@@ -10,7 +10,7 @@ from typing import Any
 
 import pytest
 from click.testing import CliRunner, Result
-from test_onboard import TEST_MAX_ERROR, SmallWorld, new_project, small_world
+from test_onboard import TEST_MAX_ERROR, SmallWorld, new_project
 
 from catmap.cli import main
 from catmap.errors import EXIT_INPUT
@@ -18,15 +18,7 @@ from catmap.project import profile_path
 from catmap.review import reject_brand
 from catmap.store import Store, store_path
 
-
-@pytest.fixture(scope="module")
-def world(tmp_path_factory: pytest.TempPathFactory) -> SmallWorld:
-    return small_world(tmp_path_factory)
-
-
-@pytest.fixture(autouse=True)
-def tiny_tree(world: SmallWorld, monkeypatch: pytest.MonkeyPatch) -> None:
-    monkeypatch.setenv("CATMAP_TAXONOMIES", str(world.tree_dir))
+pytestmark = pytest.mark.usefixtures("tiny_tree")  # world, tiny_tree: tests/conftest.py
 
 
 # An invented shop, Kelvora, writes its own name in the brand field of its house products

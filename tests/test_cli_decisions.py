@@ -9,21 +9,13 @@ from pathlib import Path
 import pytest
 from click.testing import CliRunner, Result
 from test_cli_onboard import onboard
-from test_onboard import SmallWorld, new_project, small_world
+from test_onboard import SmallWorld, new_project
 
 from catmap.cli import main
 from catmap.jobs.decisions import DECISION_COLUMNS
 from catmap.store import Store, store_path
 
-
-@pytest.fixture(scope="module")
-def world(tmp_path_factory: pytest.TempPathFactory) -> SmallWorld:
-    return small_world(tmp_path_factory)
-
-
-@pytest.fixture(autouse=True)
-def tiny_tree(world: SmallWorld, monkeypatch: pytest.MonkeyPatch) -> None:
-    monkeypatch.setenv("CATMAP_TAXONOMIES", str(world.tree_dir))
+pytestmark = pytest.mark.usefixtures("tiny_tree")  # world, tiny_tree: tests/conftest.py
 
 
 def _run(*args: str) -> Result:

@@ -8,19 +8,11 @@ from pathlib import Path
 
 import pytest
 from click.testing import CliRunner, Result
-from test_onboard import TEST_MAX_ERROR, SmallWorld, new_project, small_world
+from test_onboard import TEST_MAX_ERROR, SmallWorld, new_project
 
 from catmap.cli import main
 
-
-@pytest.fixture(scope="module")
-def world(tmp_path_factory: pytest.TempPathFactory) -> SmallWorld:
-    return small_world(tmp_path_factory)
-
-
-@pytest.fixture(autouse=True)
-def tiny_tree(world: SmallWorld, monkeypatch: pytest.MonkeyPatch) -> None:
-    monkeypatch.setenv("CATMAP_TAXONOMIES", str(world.tree_dir))
+pytestmark = pytest.mark.usefixtures("tiny_tree")  # world, tiny_tree: tests/conftest.py
 
 
 def _demo(world: SmallWorld, project: Path, *more: str) -> Result:

@@ -10,20 +10,12 @@ import pytest
 from click.testing import CliRunner, Result
 from test_cli_onboard import onboard
 from test_export import DANGEROUS_TITLES, _injection_feed
-from test_onboard import TEST_MAX_ERROR, SmallWorld, new_project, small_world
+from test_onboard import TEST_MAX_ERROR, SmallWorld, new_project
 
 from catmap.cli import main
 from catmap.errors import EXIT_STORE
 
-
-@pytest.fixture(scope="module")
-def world(tmp_path_factory: pytest.TempPathFactory) -> SmallWorld:
-    return small_world(tmp_path_factory)
-
-
-@pytest.fixture(autouse=True)
-def tiny_tree(world: SmallWorld, monkeypatch: pytest.MonkeyPatch) -> None:
-    monkeypatch.setenv("CATMAP_TAXONOMIES", str(world.tree_dir))
+pytestmark = pytest.mark.usefixtures("tiny_tree")  # world, tiny_tree: tests/conftest.py
 
 
 def _export(project: Path, out: Path, *more: str) -> Result:

@@ -22,19 +22,12 @@ from catmap.cli import main
 from catmap.jobs.cluster import open_cluster
 from tests.test_cli_onboard import onboard
 from tests.test_jobs_onboard_cluster import _exported, store_contents
-from tests.test_onboard import SmallWorld, new_project, small_world
+from tests.test_onboard import SmallWorld, new_project
 
 pytest.importorskip("distributed")
 
 
-@pytest.fixture(scope="module")
-def world(tmp_path_factory: pytest.TempPathFactory) -> SmallWorld:
-    return small_world(tmp_path_factory)
-
-
-@pytest.fixture(autouse=True)
-def tiny_tree(world: SmallWorld, monkeypatch: pytest.MonkeyPatch) -> None:
-    monkeypatch.setenv("CATMAP_TAXONOMIES", str(world.tree_dir))
+pytestmark = pytest.mark.usefixtures("tiny_tree")  # world, tiny_tree: tests/conftest.py
 
 
 @pytest.fixture()

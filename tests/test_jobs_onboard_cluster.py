@@ -30,7 +30,7 @@ from catmap.jobs.onboard import (
     store_onboarding,
 )
 from catmap.store import store_path
-from tests.test_onboard import TEST_MAX_ERROR, SmallWorld, new_project, small_world
+from tests.test_onboard import TEST_MAX_ERROR, SmallWorld, new_project
 
 pytest.importorskip("distributed")
 
@@ -38,14 +38,7 @@ pytest.importorskip("distributed")
 CHUNK = 23
 
 
-@pytest.fixture(scope="module")
-def world(tmp_path_factory: pytest.TempPathFactory) -> SmallWorld:
-    return small_world(tmp_path_factory)
-
-
-@pytest.fixture(autouse=True)
-def tiny_tree(world: SmallWorld, monkeypatch: pytest.MonkeyPatch) -> None:
-    monkeypatch.setenv("CATMAP_TAXONOMIES", str(world.tree_dir))
+pytestmark = pytest.mark.usefixtures("tiny_tree")  # world, tiny_tree: tests/conftest.py
 
 
 @pytest.fixture(scope="module")
