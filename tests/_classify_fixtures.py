@@ -6,6 +6,8 @@ import csv
 import random
 from pathlib import Path
 
+from catmap.classify.features import ProductTexts
+
 _NODES = (
     (
         "1000",
@@ -138,3 +140,14 @@ def write_labelled_feed(path: Path, count: int = 240, seed: int = 0) -> Path:
         writer.writeheader()
         writer.writerows(rows)
     return path
+
+
+def texts_and_labels(rows: list[dict[str, str]]) -> tuple[ProductTexts, list[str]]:
+    """The model's texts and the gold node ids of labelled rows (see :func:`labelled_rows`)."""
+    texts = ProductTexts(
+        [r["title"] for r in rows],
+        [r["retailer_category"] for r in rows],
+        [r["brand"] for r in rows],
+        [r["description"] for r in rows],
+    )
+    return texts, [r["gold_node"] for r in rows]

@@ -15,22 +15,12 @@ from catmap.classify.model import CategoryModel
 from catmap.classify.storage import load_model, save_model
 from catmap.errors import ModelNotTrained, ModelTreeMismatch
 from catmap.tree.taxonomy import CategoryTree, load_tree
-from tests._classify_fixtures import labelled_rows, write_tree
+from tests._classify_fixtures import labelled_rows, texts_and_labels, write_tree
 
 
 @pytest.fixture()
 def tree(tmp_path: Path) -> CategoryTree:
     return load_tree(write_tree(tmp_path / "v1"))
-
-
-def texts_and_labels(rows: list[dict[str, str]]) -> tuple[ProductTexts, list[str]]:
-    texts = ProductTexts(
-        [r["title"] for r in rows],
-        [r["retailer_category"] for r in rows],
-        [r["brand"] for r in rows],
-        [r["description"] for r in rows],
-    )
-    return texts, [r["gold_node"] for r in rows]
 
 
 @pytest.fixture()

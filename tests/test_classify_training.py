@@ -11,7 +11,7 @@ from catmap.classify.features import ProductTexts
 from catmap.classify.model import CategoryModel
 from catmap.classify.training import FLAT_MAX_CLASSES, FLAT_SETTINGS, fit_model
 from catmap.tree.taxonomy import CategoryTree, load_tree
-from tests._classify_fixtures import labelled_rows, write_tree
+from tests._classify_fixtures import labelled_rows, texts_and_labels, write_tree
 
 
 @pytest.fixture()
@@ -19,21 +19,11 @@ def tree(tmp_path: Path) -> CategoryTree:
     return load_tree(write_tree(tmp_path / "v1"))
 
 
-def _texts(rows: list[dict[str, str]]) -> tuple[ProductTexts, list[str]]:
-    texts = ProductTexts(
-        [r["title"] for r in rows],
-        [r["retailer_category"] for r in rows],
-        [r["brand"] for r in rows],
-        [r["description"] for r in rows],
-    )
-    return texts, [r["gold_node"] for r in rows]
-
-
 @pytest.fixture()
 def split() -> tuple[ProductTexts, list[str], ProductTexts, list[str]]:
     rows = labelled_rows(300)
-    train, labels = _texts([r for r in rows if r["split"] == "train"])
-    valid, valid_labels = _texts([r for r in rows if r["split"] == "valid"])
+    train, labels = texts_and_labels([r for r in rows if r["split"] == "train"])
+    valid, valid_labels = texts_and_labels([r for r in rows if r["split"] == "valid"])
     return train, labels, valid, valid_labels
 
 
