@@ -221,12 +221,15 @@ def test_a_flat_dense_model_scores_title_ngrams_word_by_word_as_the_feature_matr
     layout = flat._layout()
     assert layout.parts[0].dense is not None and flat._words_block(layout)
     texts, _ = texts_and_labels(labelled_rows(80, seed=3))
+    later, _ = texts_and_labels(labelled_rows(80, seed=4))  # new words after the first batch
     by_words = [flat.top_k(texts, 3) for _ in range(2)]  # the second from the per-word scores
+    later_by_words = flat.top_k(later, 3)
     monkeypatch.setattr(CategoryModel, "_words_block", lambda self, layout: False)
-    idx, vals = flat.top_k(texts, 3)
-    # reference: the same model scoring its stacked TF-IDF matrix (scikit-learn's vectorizers)
-    dense = flat.predict_proba(texts)
-    assert np.allclose(vals, -np.sort(-dense, axis=1)[:, :3], atol=1e-6)
-    for got_idx, got_vals in by_words:
-        assert np.array_equal(got_idx[:, 0], idx[:, 0])
-        assert np.allclose(got_vals, vals, atol=1e-5)
+    for batch, got in ((texts, by_words), (later, [later_by_words])):
+        idx, vals = flat.top_k(batch, 3)
+        # reference: the same model scoring its stacked TF-IDF matrix (scikit-learn's vectorizers)
+        dense = flat.predict_proba(batch)
+        assert np.allclose(vals, -np.sort(-dense, axis=1)[:, :3], atol=1e-6)
+        for got_idx, got_vals in got:
+            assert np.array_equal(got_idx[:, 0], idx[:, 0])
+            assert np.allclose(got_vals, vals, atol=1e-5)

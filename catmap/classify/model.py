@@ -464,14 +464,20 @@ class CategoryModel:
         key = (cache, cache.generation, block)
         state = self.__dict__.get("_word_scores")
         if state is None or any(a is not b for a, b in zip(state[0], key, strict=True)):
-            state = (key, np.zeros((0, block.shape[1]), np.float32), np.zeros(0, np.uint8))
+            empty = np.zeros(0)
+            state = (key, np.zeros((0, block.shape[1]), np.float32), np.zeros(0, np.uint8), empty)
         if len(state[2]) < rows.shape[0]:
             size = max(rows.shape[0], 2 * len(state[2]), 1024)
             scores = np.zeros((size, block.shape[1]), np.float32)
             scores[: len(state[1])] = state[1]
             ready = np.zeros(size, np.uint8)
             ready[: len(state[2])] = state[2]
-            state = (key, scores, ready)
+            state = (key, scores, ready, state[3])
+        if len(state[3]) < rows.nnz:
+            # The idf beside each cached count: new words' rows are appended, so only their
+            # entries are looked up (not every cached word's, every batch).
+            tail = cache.idf[rows.indices[len(state[3]) :]]
+            state = (*state[:3], np.concatenate([state[3], tail]))
         self.__dict__["_word_scores"] = state
         # The batch's new words get their scores feature by feature, each weight row fetched
         # once for all of them (the kernel would fetch it once per word holding it).
@@ -492,7 +498,7 @@ class CategoryModel:
             state[2][need] = 1
         vectorizer = cache.vectorizer
         score_words_dense(
-            offsets, numbers, rows.indptr, rows.indices, rows.data, cache.idf[rows.indices],
+            offsets, numbers, rows.indptr, rows.indices, rows.data, state[3],
             bool(vectorizer.sublinear_tf), weight, row_of, block, start,
             state[1], state[2], out_row, out,
         )
