@@ -419,6 +419,7 @@ class CategoryModel:
                     self._score_words(texts, part.dense, out_row, dense)
                 scores = dense.astype(np.float64)
             else:
+                assert part.coef is not None
                 scores = np.repeat(part.intercept[None, :].astype(np.float64), len(rows), axis=0)
                 for matrix, start in features:
                     x = (matrix.indptr, matrix.indices, matrix.data)
@@ -708,8 +709,8 @@ class _GroupPart:
 
     columns: Array  # class columns (in classes_) of the group: linear classes ∪ keyword leaves
     linear_pos: Array  # positions in ``columns`` of the linear classes, in weight order
-    coef: tuple[Array, Array, Array]  # (features, linear classes of the group), pack_rows
-    dense: tuple[Array, Array] | None  # the same weights from dense_rows, when they pay
+    coef: tuple[Array, Array, Array] | None  # (features, group's linear classes), pack_rows
+    dense: tuple[Array, Array] | None  # the same weights from dense_rows, when that pays
     intercept: Array
     keyword_pos: Array  # positions in ``columns`` of the keyword leaves, in document order
     documents_t: tuple[Array, Array, Array]  # (keyword features, keyword leaves), pack_rows
@@ -750,12 +751,14 @@ class _Layout:
             kw = keyword_column[class_group[: len(keyword_classes)] == g]
             columns = np.union1d(lin_columns, kw)
             weights = class_coef[:, lin].tocsr()
+            dense_pays = _dense_pays(weights)
             parts.append(
                 _GroupPart(
                     columns=columns,
                     linear_pos=np.searchsorted(columns, lin_columns),
-                    coef=pack_rows(weights),
-                    dense=dense_rows(weights) if _dense_pays(weights) else None,
+                    # One form of the weights: the dense block where it pays, else packed.
+                    coef=None if dense_pays else pack_rows(weights),
+                    dense=dense_rows(weights) if dense_pays else None,
                     intercept=model.class_intercept_[lin],
                     keyword_pos=np.searchsorted(columns, kw),
                     documents_t=pack_rows(documents_t[:, kw].tocsr()),
