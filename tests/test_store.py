@@ -312,7 +312,7 @@ def test_migration_to_version_12_rebuilds_the_queue_with_its_ids(tmp_path: Path)
         indexes = {r[0] for r in store._conn.execute(
             "SELECT name FROM sqlite_master WHERE tbl_name = 'review_items' AND type = 'index' "
             "AND name NOT LIKE 'sqlite_%'")}  # fmt: skip
-        assert indexes == {"review_items_group", "review_items_claim"}
+        assert indexes == {"review_items_group", "review_items_claim", "review_items_brand"}
 
 
 def test_migrating_twice_changes_nothing(tmp_path: Path) -> None:

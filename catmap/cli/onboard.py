@@ -386,6 +386,13 @@ def status_command(project: str | None, feed: str | None, as_json: bool) -> None
         if f["open_by_reason"]:
             reasons = ", ".join(f"{k} {v:,}" for k, v in f["open_by_reason"].items())
             _say(f"{escape(f['feed'])}: open items by reason: {escape(reasons)}")
+    waiting = facts.get("brands_waiting", 0)
+    if waiting:
+        brands = "1 brand waits" if waiting == 1 else f"{waiting:,} brands wait"
+        _say(
+            f"{brands} in the review queue for a verdict (c / r in `catmap review`, or "
+            "`catmap brands confirm / reject NAME`)"
+        )
     for f in feeds:
         candidates = f["brand_status"].get("candidate", 0)
         if candidates:

@@ -4,7 +4,9 @@ Pure functions, no I/O. Given each product's suggested node, confidence and whet
 auto-accepted, :func:`plan_queue` decides
 
 - which products are queued and why (``low_confidence``, ``brand_conflict``,
-  ``audience_conflict``, ``audit_sample``),
+  ``audience_conflict``, ``audit_sample``; a candidate brand gets ``brand_candidate``, one item
+  per brand per feed, placed once the feed's brands are known: :func:`brand_candidate_priority`
+  and :mod:`catmap.store.brand_items`),
 - the priority of each: the expected gain of reviewing it, ``uncertainty × products affected``
   (:func:`expected_gain`),
 - which retailer categories are offered as one group item: when at least
@@ -32,6 +34,13 @@ STRONG_GROUP_MIN_SIZE = 5
 # An audit sample's worth is the error estimate, not a likely correction: it ranks behind a
 # product that is more likely wrong than right, ahead of near-certain ones. (Our choice.)
 DEFAULT_AUDIT_PRIORITY = 0.5
+# A candidate brand's item ranks behind this share of the feed's low-confidence items: a brand
+# verdict settles many products at once but rarely changes a node, so the uncertain nodes come
+# first and the brand a little before the queue's tail. Chosen setting, no source.
+BRAND_CANDIDATE_BEHIND = 0.75
+# Its priority when the feed has no low-confidence item to rank against. Chosen setting, no
+# source.
+BRAND_CANDIDATE_PRIORITY = 0.3
 
 
 @dataclass(frozen=True, slots=True)
@@ -255,3 +264,38 @@ def plan_queue(
             status, tuple(reasons), max(gains, default=0.0), group_offer
         )
     return QueuePlan(reviews, groups, tuple(audit_ids))
+
+
+def brand_candidate_priority(
+    low_confidence: Iterable[float],
+    *,
+    behind: float = BRAND_CANDIDATE_BEHIND,
+    default: float = BRAND_CANDIDATE_PRIORITY,
+) -> float:
+    """Return the priority of a candidate brand's review item in a feed.
+
+    The item ranks behind ``behind`` of the feed's low-confidence items: its priority is the
+    value that share of their priorities reaches or passes, i.e. the ``1 − behind`` quantile of
+    their priorities (linear interpolation between the sorted values). With ``behind = 0.75``
+    that is the 75th percentile counted down the queue from its head (the 25th of the values).
+
+    Args:
+        low_confidence: the priorities of the feed's waiting low-confidence items.
+        behind: the share of them that ranks ahead of the brand's item (0..1).
+        default: the priority when there are none.
+
+    Returns:
+        The priority.
+
+    Raises:
+        ValueError: ``behind`` is outside [0, 1].
+    """
+    if not 0.0 <= behind <= 1.0:
+        raise ValueError(f"behind must be within [0, 1], got {behind}")
+    values = sorted(float(p) for p in low_confidence)
+    if not values:
+        return default
+    position = (1.0 - behind) * (len(values) - 1)
+    low = int(position)
+    high = min(low + 1, len(values) - 1)
+    return values[low] + (values[high] - values[low]) * (position - low)

@@ -57,6 +57,7 @@ from catmap.errors import InputError, ModelNotTrained
 from catmap.feeds.ingest import FATAL_FEED_ERRORS, Accounting
 from catmap.feeds.profiled import ProfiledFeed, open_profiled_feed
 from catmap.feeds.writers import open_reject_writer
+from catmap.jobs._brand_queue import queue_brand_candidates
 from catmap.jobs._brand_registry import load_registry, merge_feed_registry
 from catmap.jobs._calibration import (
     UNCOVERED_LANGUAGE_CAP,
@@ -694,6 +695,7 @@ def store_onboarding(
         _apply_plan(store, name, run_id, mapped.candidates, options, summary, model_version, tree)
         summary.withdrawn = _withdraw_stale_items(store, name, run_id, summary.threshold)
         summary.brands = _merge_brands(store, p.learner, p.extractor.brands, name)
+        summary.queued_by_reason.update(queue_brand_candidates(store, name, run_id))
         _finish_run(
             store, summary, mapped.accounting, p.rules, started, stopped=error is not None
         )

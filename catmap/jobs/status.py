@@ -61,6 +61,8 @@ def feed_status_facts(
                 "reviewed": status.reviewed,
                 "open_items": status.open_items + status.claimed_items,
                 "open_by_reason": open_by_reason,
+                # Candidate brands whose review item waits: one verdict each settles them.
+                "brands_waiting": len(store.brands_waiting(name)),
                 "done_items": status.done_items,
                 "brand_status": {
                     name: status.brand_statuses[name]
@@ -88,7 +90,9 @@ def feed_status_facts(
 def project_status(
     project: str | Path, feed: str | None = None, *, confidence: float = AUDIT_CONFIDENCE
 ) -> dict[str, Any]:
-    """Return where each feed of a project stands: ``{"store": path, "feeds": [...]}``.
+    """Return where each feed of a project stands: ``{"store": path, "feeds": [...],
+    "brands_waiting": N}`` (the candidate brands waiting in the review queue, each counted
+    once however many feeds it waits in).
 
     Args:
         project: the project folder.
@@ -103,4 +107,5 @@ def project_status(
         raise StoreError("no project store here", path=path, hint=NO_STORE_HINT)
     with Store.open(path) as store:
         feeds = feed_status_facts(store, feed, confidence)
-    return {"store": str(path), "feeds": feeds}
+        waiting = len(store.brands_waiting(feed))
+    return {"store": str(path), "feeds": feeds, "brands_waiting": waiting}

@@ -6,7 +6,8 @@ through the store (one transaction each) and reads the item back. Layout, from t
 - the top line: feed, reviewer, and the pace (done this session, left, per minute, finish);
 - left column: the product (title, brand, price, retailer path, id, why it is queued, a
   description excerpt) and its attributes (brand with how far it is trusted, who, age, colour
-  family, restriction); a candidate brand says so, with the keys that confirm or reject it;
+  family, restriction); a candidate brand says so, with the keys that confirm or reject it (an
+  item queued for its candidate brand alone takes no Enter: the verdict settles it);
 - right column: the suggested node (path, confidence as a percentage and a bar), the
   numbered alternatives, and the retailer category group with its consensus;
 - a message line, then two lines of keys (every key the screen takes, always visible).
@@ -531,6 +532,9 @@ class ReviewApp(App[None]):
                 text.append(fit("       the feed's own shop name", width) + "\n",
                             style="bold yellow")
             text.append(fit("       c confirm · r not a brand", width) + "\n", style="yellow")
+            if self.session.waits_for_brand():
+                text.append(fit("       queued for this brand alone: ⏎ is not asked", width)
+                            + "\n", style="yellow")
         row("who", attributes.who, pending.who, sources["who"])
         row("age", attributes.age, pending.age, sources["age"])
         if attributes.audience_conflict:
@@ -653,6 +657,16 @@ class ReviewApp(App[None]):
                 flag = session.restriction(node_id or view.mapping.node_id)
                 if flag:
                     self.message += f" (restricted node: flagged {flag})"
+                after = session.current
+                if (
+                    after is not None
+                    and after.product.product_id == view.product.product_id
+                    and "brand_candidate" in after.item.reasons
+                ):
+                    self.message += (
+                        f"; the brand {after.attributes.brand} still waits: c confirm · r not "
+                        "a brand"
+                    )
             self.render_item()
             return
         try:
@@ -684,6 +698,16 @@ class ReviewApp(App[None]):
         self.push_screen(ConfirmScreen(question), answered)
 
     def action_accept(self) -> None:
+        session = self.session
+        if not self.group_mode and session.waits_for_brand() and session.current is not None:
+            # Queued for its brand alone: its node is not in question, so Enter writes nothing
+            # (it would not settle the brand either).
+            self.message = (
+                f"this item waits for a verdict on the brand "
+                f"'{session.current.attributes.brand}': c confirm · r not a brand · s skip"
+            )
+            self.render_item()
+            return
         self._node_decision(None, "accepted")
 
     def action_alternative(self, number: int) -> None:
@@ -744,6 +768,7 @@ class ReviewApp(App[None]):
             )
             self.message = (
                 f"undone: brand {brand.name} is a candidate again ({products})"
+                + ("; its review item is back" if brand.items else "")
                 if brand is not None
                 else f"undone: {len(reopened)} item{'s' if len(reopened) != 1 else ''} reopened"
                 if reopened
@@ -803,6 +828,9 @@ class ReviewApp(App[None]):
                 if confirm
                 else f"'{brand}' is not a brand: taken off {products}"
             )
+            if verdict.items:
+                settled = len(verdict.items)
+                self.message += f"; {settled} brand item{'s' if settled != 1 else ''} settled"
         self.render_item()
 
     def action_confirm_brand(self) -> None:

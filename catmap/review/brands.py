@@ -7,6 +7,10 @@ brand as a candidate in line, in one store transaction, audited: a confirmed bra
 become ``confirmed``; a rejected one's lose the brand (later onboarding runs never learn it
 again and read a brand field holding it as empty). :func:`reset_brand` takes either back:
 the brand is a candidate again, and so are its products.
+
+The brand's ``brand_candidate`` review items (one per feed, :mod:`catmap.store.brand_items`)
+go with the verdict, in the same transaction: settled by a confirmation or rejection, brought
+back when the brand is set back to a candidate.
 """
 
 from __future__ import annotations
@@ -22,7 +26,7 @@ from catmap.attributes.registry import (
     REJECTED,
 )
 from catmap.errors import InputError
-from catmap.store import BrandVerdict, Store
+from catmap.store import DEFAULT_LEASE_SECONDS, BrandVerdict, Store
 
 __all__ = ["confirm_brand", "feed_own_names", "reject_brand", "reset_brand", "settle_brand"]
 
@@ -35,9 +39,12 @@ def settle_brand(
     actor: str,
     item_id: int | None = None,
     taking_back: int | None = None,
+    claim_items_for: str | None = None,
+    lease_seconds: float = DEFAULT_LEASE_SECONDS,
 ) -> BrandVerdict:
     """Confirm a brand of the registry, reject it as no brand, or set it back to a candidate
-    (audited).
+    (audited). The brand's ``brand_candidate`` review items are settled, or placed again when
+    it is set back (see :meth:`Store.settle_brand`).
 
     Args:
         store: the project store.
@@ -47,6 +54,8 @@ def settle_brand(
         item_id: the review item it was decided on, if any.
         taking_back: the audit entry of the verdict this takes back (see
             :meth:`Store.settle_brand`).
+        claim_items_for: a reviewer who gets the brand's items brought back claimed.
+        lease_seconds: the lease of those claims.
 
     Returns:
         The verdict: the brand's name, its status before, the products changed.
@@ -84,7 +93,7 @@ def settle_brand(
     return store.settle_brand(
         decide, actor=actor, item_id=item_id, candidate_mark=CANDIDATE_MARK,
         rejected_evidence=lambda v: f"'{v.name}' rejected as no brand by {actor}",
-        taking_back=taking_back,
+        taking_back=taking_back, claim_items_for=claim_items_for, lease_seconds=lease_seconds,
     )  # fmt: skip
 
 
@@ -110,13 +119,16 @@ def reset_brand(
     actor: str,
     item_id: int | None = None,
     taking_back: int | None = None,
+    claim_items_for: str | None = None,
+    lease_seconds: float = DEFAULT_LEASE_SECONDS,
 ) -> BrandVerdict:
     """Set a brand of the registry back to a candidate, taking its confirmation or rejection
     back: confirmed products are candidates again and the products its last rejection took
     it from get it back (see :func:`settle_brand`)."""
     return settle_brand(
-        store, name, CANDIDATE, actor=actor, item_id=item_id, taking_back=taking_back
-    )
+        store, name, CANDIDATE, actor=actor, item_id=item_id, taking_back=taking_back,
+        claim_items_for=claim_items_for, lease_seconds=lease_seconds,
+    )  # fmt: skip
 
 
 def feed_own_names(store: Store) -> dict[str, str]:

@@ -10,7 +10,11 @@ A brand on screen that is a candidate (learned from a feed, no person has confir
 confirmed into the project's brand registry or rejected as no brand at once
 (:meth:`ReviewSession.confirm_brand`, :meth:`ReviewSession.reject_brand`, through
 :mod:`catmap.review.brands`): a verdict on the brand, for every product that carries it, not a
-decision on the item, which stays on screen.
+decision on the item, which stays on screen. The verdict settles the brand's ``brand_candidate``
+items: an item queued for the brand alone is done with it, and the next item comes on screen;
+undo brings it back. Accepting the node of an item queued for the brand alone is refused (its
+node is not in question; :meth:`ReviewSession.waits_for_brand`); a node chosen on an item that
+carries the brand leaves it waiting for the brand.
 
 Attribute corrections (brand, who, age) travel with the reviewer's decision on the item, in the
 same transaction: a correction alone does not close an item whose node still needs judging.
@@ -54,6 +58,8 @@ REASON_TEXT = {
     "remap": "remap: the category tree changed under this product",
     "audit_over_target": "audit over target: auto-accepted, but the feed's audits found more "
     "errors than its target at this confidence",
+    "brand_candidate": "brand candidate: a brand found in the feed that no person has confirmed "
+    "(one item per brand and feed)",
 }
 
 # Alternatives offered by number (keys 1..3).
@@ -264,8 +270,31 @@ class ReviewSession:
         )
 
     def accept(self) -> Decision:
-        """The suggested node is right (attribute corrections go with it)."""
+        """The suggested node is right (attribute corrections go with it).
+
+        Raises:
+            ReviewError: the item is queued for its candidate brand alone
+                (:meth:`waits_for_brand`): nothing is written.
+        """
+        view = self._require()
+        if self.waits_for_brand():
+            raise ReviewError(
+                f"this item waits for a verdict on the brand '{view.attributes.brand}', not "
+                "on its node",
+                product_id=view.product.product_id,
+                hint="c confirms the brand, r says it is no brand, s skips; 1-3 or / moves the "
+                "product if its node is wrong",
+            )
         return self._decide("accept")
+
+    def waits_for_brand(self) -> bool:
+        """True when the item on screen is queued for its candidate brand alone."""
+        view = self.current
+        return (
+            view is not None
+            and view.item.reasons == ("brand_candidate",)
+            and bool(self.candidate_brand())
+        )
 
     def choose(self, node_id: str) -> Decision:
         """Put the product on ``node_id`` (from an alternative or the tree search).
@@ -322,12 +351,20 @@ class ReviewSession:
         self.undone_brand = None
         if self._brand_history and self._brand_history[-1][0] >= len(self._history):
             _position, verdict = self._brand_history.pop()
+            current = self.current.item.id if self.current is not None else None
             self.undone_brand = reset_brand(
-                self.store, verdict.name, actor=self.reviewer,
-                item_id=self.current.item.id if self.current is not None else None,
-                taking_back=verdict.audit_id,
+                self.store, verdict.name, actor=self.reviewer, item_id=current,
+                taking_back=verdict.audit_id, claim_items_for=self.reviewer,
+                lease_seconds=self.lease_seconds,
             )  # fmt: skip
-            self.refresh()
+            # The item the verdict settled (an item queued for the brand alone) comes back.
+            back = [i for i in self.undone_brand.items if i in verdict.items and i != current]
+            if back and any(self.store.item(i).claimed_by == self.reviewer for i in back):
+                if current is not None:
+                    self.store.release(current, self.reviewer)
+                self.next()
+            else:
+                self.refresh()
             return []
         reopened = self.store.undo_last(self.reviewer, lease_seconds=self.lease_seconds)
         if not reopened:
@@ -512,7 +549,9 @@ class ReviewSession:
             self.store, brand, status, actor=self.reviewer, item_id=view.item.id
         )
         self._brand_history.append((len(self._history), verdict))
-        self.refresh()
+        current = self.refresh()
+        if current is not None and current.item.state == "done":
+            self.next()  # the item waited for the brand alone: the verdict settled it
         return verdict
 
     def candidate_shop_name(self) -> str | None:

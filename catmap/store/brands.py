@@ -21,6 +21,7 @@ from typing import Any, TypeVar
 
 from catmap.errors import StoreError
 from catmap.store.audit import AuditMixin
+from catmap.store.brand_items import ensure_brand_item, feed_brand_priority, settle_brand_items
 from catmap.store.records import BRAND_VERDICT_ACTIONS, BRAND_VERDICTS, BrandVerdict
 
 _T = TypeVar("_T")
@@ -109,8 +110,11 @@ class BrandsMixin(AuditMixin):
         candidate_mark: str = "",
         rejected_evidence: Callable[[BrandVerdict], str] | None = None,
         taking_back: int | None = None,
+        claim_items_for: str | None = None,
+        lease_seconds: float = 600,
     ) -> BrandVerdict:
-        """Apply a person's verdict on a brand: its registry record and its products (audited).
+        """Apply a person's verdict on a brand: its registry record, its products and its review
+        items (audited).
 
         In one write transaction: ``decide`` gets the project's brand records and the brand
         values products carry as candidates or confirmed, and returns the new records and the
@@ -128,6 +132,12 @@ class BrandsMixin(AuditMixin):
         A brand a reviewer set on a product (``corrected``) is left alone, and so is a brand
         of the dictionary (``dictionary``).
 
+        The brand's ``brand_candidate`` review items (:mod:`catmap.store.brand_items`) follow:
+        a confirmation or rejection settles them (the reason comes off; an item queued for
+        nothing else is closed, withdrawn with the verdict as its reason); setting the brand
+        back places one again in each feed whose products carry it as a candidate, the item
+        the verdict settled first. The audit entry lists them (``items``).
+
         Args:
             decide: see above.
             actor: who decides (the audit log's actor).
@@ -137,6 +147,9 @@ class BrandsMixin(AuditMixin):
                 verdict (default: "rejected as no brand").
             taking_back: the audit entry of the verdict this one takes back (the review
                 screen's undo): refused when another verdict on the brand came after it.
+            claim_items_for: a reviewer who gets the items brought back claimed (the review
+                screen's undo puts the item back on screen).
+            lease_seconds: the lease of those claims.
 
         Returns:
             The verdict, with the number of products changed and its audit entry.
@@ -221,10 +234,16 @@ class BrandsMixin(AuditMixin):
                         [evidence, *part],
                     )
                 changed += cursor.rowcount
+            items = _brand_items_after(
+                conn, verdict, spellings, actor, self._now(),
+                claim_items_for, self._lease_until(lease_seconds),
+            )  # fmt: skip
             detail: dict[str, Any] = {
                 "brand": verdict.name, "asked": verdict.asked, "was": verdict.was,
                 "products": changed,
             }  # fmt: skip
+            if items:
+                detail["items"] = items
             if verdict.status == "rejected":
                 detail["evidence"] = evidence
             audit_id = self._audit(
@@ -236,7 +255,9 @@ class BrandsMixin(AuditMixin):
                 "brand_confidence, brand_evidence) VALUES (?, ?, ?, ?, ?, ?)",
                 [(audit_id, *row) for row in taken],
             )
-            verdict = replace(verdict, products=changed, audit_id=audit_id)
+            verdict = replace(
+                verdict, products=changed, audit_id=audit_id, items=tuple(items)
+            )
         return verdict
 
     def brand_example_titles(self, spellings: Sequence[str], *, limit: int = 2) -> list[str]:
@@ -285,6 +306,44 @@ class BrandsMixin(AuditMixin):
                 for position, record in enumerate(records)
             ],
         )  # fmt: skip
+
+
+def _brand_items_after(
+    conn: sqlite3.Connection,
+    verdict: BrandVerdict,
+    spellings: Sequence[str],
+    actor: str,
+    now: str,
+    claim_for: str | None,
+    lease_until: str,
+) -> list[int]:
+    """Settle the brand's review items (confirmed, rejected) or place them again (candidate);
+    return the ids of the items changed."""
+    names = [verdict.name, *spellings]
+    if verdict.status != "candidate":
+        words = _VERDICT_WORDS[BRAND_VERDICT_ACTIONS[verdict.status]]
+        why = f"brand '{verdict.name}' {words} by {actor}"
+        return settle_brand_items(conn, names, why)
+    items: list[int] = []
+    feeds = sorted(
+        {
+            int(r[0])
+            for start in range(0, len(names), 500)
+            for r in conn.execute(
+                "SELECT DISTINCT feed_id FROM mappings WHERE brand_status = 'candidate' "
+                f"AND brand IN ({', '.join('?' * len(names[start:start + 500]))})",
+                names[start:start + 500],
+            )
+        }
+    )  # fmt: skip
+    for feed_id in feeds:
+        item_id, changed = ensure_brand_item(
+            conn, feed_id, verdict.name, spellings, priority=feed_brand_priority(conn, feed_id),
+            now=now, claim_for=claim_for, lease_until=lease_until,
+        )  # fmt: skip
+        if item_id is not None and changed:
+            items.append(item_id)
+    return items
 
 
 _VERDICT_WORDS = {"brand_confirmed": "confirmed", "brand_rejected": "rejected as no brand",

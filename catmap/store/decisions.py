@@ -15,6 +15,7 @@ from typing import Any
 
 from catmap.errors import StoreError
 from catmap.records import AGE_VALUES, WHO_VALUES
+from catmap.store.brand_items import keep_brand_waiting
 from catmap.store.encoding import product_from_json
 from catmap.store.products import ProductsMixin, _mapping_from_row
 from catmap.store.queue import DEFAULT_LEASE_SECONDS, QueueMixin
@@ -224,6 +225,8 @@ class DecisionsMixin(QueueMixin, ProductsMixin):
         _close_item(conn, item["id"], reviewer)
         changed_node = to_node != from_node
         _mark_reviewed(conn, feed_id, product_id, to_node, changed_node, brand, who, age)
+        # A candidate brand the item stands for is not settled by the node: it keeps waiting.
+        keep_brand_waiting(conn, item, priority=float(item["priority"]), now=self._now())
         if node_attributes is not None and changed_node and to_node:
             _follow_node(conn, feed_id, product_id, node_attributes, who, age)
             return decision_id, {"from": current["restriction"], "to": node_attributes.restriction}

@@ -21,11 +21,13 @@ REVIEW_REASONS = (
     "audience_conflict",
     "remap",
     "audit_over_target",
+    "brand_candidate",
 )
 ITEM_STATES = ("open", "claimed", "done")
 DECISION_ACTIONS = ("accept", "choose", "no_fit", "skip", "fix_attributes")
-# Reasons a whole retailer category can be settled for in one key; conflicts and audit samples
-# are judged one product at a time (an audit sample accepted in bulk would measure nothing).
+# Reasons a whole retailer category can be settled for in one key; conflicts, audit samples and
+# candidate brands are judged one product (or one brand) at a time (an audit sample accepted in
+# bulk would measure nothing).
 GROUP_REASONS = ("low_confidence", "remap")
 # What a person can decide about a brand of the registry.
 BRAND_VERDICTS = ("confirmed", "rejected", "candidate")
@@ -50,6 +52,8 @@ class BrandVerdict:
         asked: the name or spelling the person gave.
         products: how many products' brand changed (filled in by the store).
         audit_id: the verdict's audit log entry (filled in by the store).
+        items: the ``brand_candidate`` review items the verdict settled, or brought back when
+            it sets the brand back to a candidate (filled in by the store).
     """
 
     name: str
@@ -59,6 +63,7 @@ class BrandVerdict:
     asked: str = ""
     products: int = 0
     audit_id: int = 0
+    items: tuple[int, ...] = ()
 
 
 @dataclass(frozen=True, slots=True)

@@ -323,6 +323,44 @@ _SCHEMA_V12: tuple[str, ...] = (
     "CREATE INDEX review_items_claim ON review_items (state, skips, priority DESC, id)",
 )
 
+# Version 13: a candidate brand (found in titles, no person has confirmed it) gets a review reason
+# of its own, ``brand_candidate``: one item per candidate brand per feed
+# (:mod:`catmap.store.brand_items`), riding on an item of one of its products. The item names
+# the brand it stands for (``brand``, the registry's canonical name; '' for every other item),
+# so that a verdict on the brand settles it and setting the brand back brings it back. The table
+# is rebuilt for the new reason in its CHECK, as in version 12, rows and ids kept.
+_SCHEMA_V13: tuple[str, ...] = (
+    """CREATE TABLE review_items_v13 (
+        id INTEGER PRIMARY KEY,
+        feed_id INTEGER NOT NULL,
+        product_id TEXT NOT NULL,
+        group_key TEXT NOT NULL DEFAULT '',
+        reason TEXT NOT NULL CHECK (reason IN ('low_confidence', 'audit_sample',
+            'brand_conflict', 'audience_conflict', 'remap', 'audit_over_target',
+            'brand_candidate')),
+        priority REAL NOT NULL DEFAULT 0,
+        state TEXT NOT NULL DEFAULT 'open' CHECK (state IN ('open', 'claimed', 'done')),
+        claimed_by TEXT,
+        lease_until TEXT,
+        created_at TEXT NOT NULL,
+        skips INTEGER NOT NULL DEFAULT 0,
+        withdrawn_reason TEXT,
+        reasons TEXT NOT NULL DEFAULT '',
+        brand TEXT NOT NULL DEFAULT '',
+        UNIQUE (feed_id, product_id, reason),
+        FOREIGN KEY (feed_id, product_id) REFERENCES products(feed_id, product_id)
+    )""",
+    """INSERT INTO review_items_v13 (id, feed_id, product_id, group_key, reason, priority, state,
+        claimed_by, lease_until, created_at, skips, withdrawn_reason, reasons)
+        SELECT id, feed_id, product_id, group_key, reason, priority, state, claimed_by,
+        lease_until, created_at, skips, withdrawn_reason, reasons FROM review_items""",
+    "DROP TABLE review_items",
+    "ALTER TABLE review_items_v13 RENAME TO review_items",
+    "CREATE INDEX review_items_group ON review_items (feed_id, group_key)",
+    "CREATE INDEX review_items_claim ON review_items (state, skips, priority DESC, id)",
+    "CREATE INDEX review_items_brand ON review_items (brand) WHERE brand != ''",
+)
+
 MIGRATIONS: tuple[tuple[str, ...], ...] = (
     _SCHEMA_V1,
     _SCHEMA_V2,
@@ -336,10 +374,14 @@ MIGRATIONS: tuple[tuple[str, ...], ...] = (
     _SCHEMA_V10,
     _SCHEMA_V11,
     _SCHEMA_V12,
+    _SCHEMA_V13,
 )
 SCHEMA_VERSION = len(MIGRATIONS)
 # The tables whose references a migration's rebuild could break, checked before it commits.
-_CHECK_AFTER: dict[int, tuple[str, ...]] = {12: ("review_items", "decisions")}
+_CHECK_AFTER: dict[int, tuple[str, ...]] = {
+    12: ("review_items", "decisions"),
+    13: ("review_items", "decisions"),
+}
 
 
 def migrate(conn: sqlite3.Connection, *, target: int = SCHEMA_VERSION) -> int:

@@ -7,6 +7,7 @@ the write transaction) and keeps its SQL beside the code that runs it.
 from __future__ import annotations
 
 from catmap.store.audit import AuditMixin
+from catmap.store.brand_items import BrandItemsMixin
 from catmap.store.brands import BrandsMixin
 from catmap.store.decisions import DecisionsMixin
 from catmap.store.feeds import FeedsMixin
@@ -16,7 +17,14 @@ from catmap.store.undo import UndoMixin
 
 
 class Store(
-    DecisionsMixin, UndoMixin, QueueMixin, BrandsMixin, AuditMixin, ProductsMixin, FeedsMixin
+    DecisionsMixin,
+    UndoMixin,
+    QueueMixin,
+    BrandItemsMixin,
+    BrandsMixin,
+    AuditMixin,
+    ProductsMixin,
+    FeedsMixin,
 ):
     """A project's SQLite store. Open with :meth:`open`; use as a context manager.
 
@@ -25,7 +33,7 @@ class Store(
     :mod:`~catmap.store.queue` (the review queue and leases), :mod:`~catmap.store.decisions`
     (decisions, bulk accept, training examples), :mod:`~catmap.store.undo` and
     :mod:`~catmap.store.audit` (the audit log), :mod:`~catmap.store.brands` (the brand
-    registry).
+    registry), :mod:`~catmap.store.brand_items` (the candidate brands' review items).
 
     Args:
         conn: an open connection in autocommit mode, already migrated.

@@ -171,10 +171,17 @@ def _fold_waiting(conn: sqlite3.Connection, item_id: int) -> None:
     reasons = list(reasons_of(item))
     for other in others:
         reasons.extend(r for r in reasons_of(other) if r not in reasons)
+    # The brand a merged item stood for (a candidate brand's item) now rides on this one.
+    if "brand" not in item.keys():  # a store before version 13
+        brand = ""
+    else:
+        brand = item["brand"] or next((o["brand"] for o in others if o["brand"]), "")
     conn.execute(
         "UPDATE review_items SET reasons = ?, priority = MAX(priority, ?) WHERE id = ?",
         (" ".join(reasons), max(o["priority"] for o in others), item_id),
     )
+    if brand:
+        conn.execute("UPDATE review_items SET brand = ? WHERE id = ?", (brand, item_id))
     conn.executemany(
         "UPDATE review_items SET state = 'done', claimed_by = NULL, lease_until = NULL, "
         "withdrawn_reason = ? WHERE id = ?",
