@@ -1076,3 +1076,102 @@ def test_a_candidate_that_is_the_feeds_own_shop_name_says_so(
 
     shown = asyncio.run(look())
     assert "       the feed's own shop name\n       c confirm · r not a brand" in shown
+
+
+# -- a candidate brand's own review item (brand_candidate) -----------------------------------
+
+
+@pytest.fixture()
+def brand_store() -> Iterator[Store]:
+    """Solvex, a candidate brand whose products are all accepted (a brand-only item), and one
+    product queued for its node (D-01)."""
+    from test_store_brand_items import BRANDS, FEED, _build, _rows
+
+    opened = Store.open(":memory:")
+    rows = _rows()
+    _build(opened, [r for r in rows if r.product.product_id in ("S-11", "S-12", "D-01")])
+    opened.place_brand_items(FEED, {"Solvex": BRANDS["Solvex"]})
+    yield opened
+    opened.close()
+
+
+def _solvex(store: Store) -> ReviewItem:
+    (item,) = [i for i in store.items() if i.product_id == "S-12"]
+    return item
+
+
+def test_session_c_settles_a_brand_only_item_u_brings_it_back_r_settles_it(
+    brand_store: Store, tree: CategoryTree
+) -> None:
+    from catmap.jobs.status import feed_status_facts
+
+    session = _session(brand_store, tree)
+    assert session.next() is not None and session.current is not None
+    assert session.current.product.product_id == "D-01"
+    session.skip()
+    view = session.current
+    assert view is not None and view.item.reasons == ("brand_candidate",)
+    assert session.waits_for_brand() and session.candidate_brand() == "Solvex"
+    assert feed_status_facts(brand_store)[0]["brands_waiting"] == 1
+    # Enter on a brand-only item writes nothing: the verdict is what it waits for.
+    with pytest.raises(ReviewError, match="waits for a verdict on the brand 'Solvex'"):
+        session.accept()
+    assert [d.action for d in brand_store.decisions()] == ["skip"]
+    item_id = view.item.id
+
+    verdict = session.confirm_brand()
+    assert verdict.items == (item_id,)
+    assert brand_store.item(item_id).state == "done"
+    # The item is settled: the next one (the skipped D-01) is on screen.
+    assert session.current is not None and session.current.product.product_id == "D-01"
+    assert feed_status_facts(brand_store)[0]["brands_waiting"] == 0
+
+    session.undo()
+    assert session.undone_brand is not None and session.undone_brand.items == (item_id,)
+    back = brand_store.item(item_id)
+    assert (back.state, back.claimed_by, back.reasons) == ("claimed", "ana", ("brand_candidate",))
+    assert session.current is not None and session.current.item.id == item_id
+    assert session.candidate_brand() == "Solvex"
+    assert feed_status_facts(brand_store)[0]["brands_waiting"] == 1
+
+    verdict = session.reject_brand()
+    assert verdict.items == (item_id,) and brand_store.item(item_id).state == "done"
+    # The products lose the brand; the accepted mapping stays accepted.
+    assert brand_store.mapping("shop-a", "S-12").attributes.brand == ""
+    assert brand_store.mapping("shop-a", "S-12").status == "accepted"
+    assert feed_status_facts(brand_store)[0]["brands_waiting"] == 0
+
+
+@sync
+async def test_the_screen_shows_the_reason_refuses_enter_and_settles_with_c(
+    brand_store: Store, tree: CategoryTree
+) -> None:
+    app = ReviewApp(_session(brand_store, tree))
+    async with app.run_test(size=(100, 30)) as pilot:
+        await pilot.pause()
+        await pilot.press("s")
+        await pilot.pause()
+        product = _screen_text(app, "product")
+        assert "queued brand candidate: a brand no person" in product
+        attributes = _screen_text(app, "attributes")
+        assert "Solvex (70%, candidate)" in attributes
+        assert "queued for this brand alone" in attributes
+        item_id = _solvex(brand_store).id
+        await pilot.press("enter")
+        await pilot.pause()
+        assert "waits for a verdict on the brand 'Solvex'" in _screen_text(app, "message")
+        assert [d.action for d in brand_store.decisions()] == ["skip"]
+        assert app.session.current is not None and app.session.current.item.id == item_id
+        await pilot.press("c")
+        await pilot.pause()
+        assert "1 brand item settled" in _screen_text(app, "message")
+        assert brand_store.item(item_id).state == "done"
+        await pilot.press("u")
+        await pilot.pause()
+        assert "its review item is back" in _screen_text(app, "message")
+        assert app.session.current is not None and app.session.current.item.id == item_id
+        await pilot.press("r")
+        await pilot.pause()
+        assert "'Solvex' is not a brand" in _screen_text(app, "message")
+        assert brand_store.item(item_id).state == "done"
+        await pilot.press("q")

@@ -336,3 +336,14 @@ def test_a_store_of_version_12_migrates_with_its_items(tmp_path: Path) -> None:
         _registry(store)
         store.place_brand_items(FEED, BRANDS)
         assert set(_brand_items(store)) == {"Nimbra", "Solvex"}
+
+
+def test_a_group_decision_leaves_the_brand_item_to_a_person(store: Store) -> None:
+    store.place_brand_items(FEED, BRANDS)
+    nimbra = _brand_items(store)["Nimbra"][0]
+    decisions = store.accept_group("bo", FEED, "Shoes > Boots")
+    # Every low-confidence item of the group is settled in bulk, not the one with the brand.
+    assert nimbra not in {d.item_id for d in decisions}
+    assert len(decisions) == len(LOW) + 1  # D-01..D-07 and N-02
+    item = store.item(nimbra)
+    assert (item.state, item.reasons) == ("open", ("low_confidence", "brand_candidate"))

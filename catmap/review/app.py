@@ -533,7 +533,7 @@ class ReviewApp(App[None]):
                             style="bold yellow")
             text.append(fit("       c confirm · r not a brand", width) + "\n", style="yellow")
             if self.session.waits_for_brand():
-                text.append(fit("       queued for this brand alone: ⏎ is not asked", width)
+                text.append(fit("       queued for this brand alone: c or r settles it", width)
                             + "\n", style="yellow")
         row("who", attributes.who, pending.who, sources["who"])
         row("age", attributes.age, pending.age, sources["age"])

@@ -58,8 +58,8 @@ REASON_TEXT = {
     "remap": "remap: the category tree changed under this product",
     "audit_over_target": "audit over target: auto-accepted, but the feed's audits found more "
     "errors than its target at this confidence",
-    "brand_candidate": "brand candidate: a brand found in the feed that no person has confirmed "
-    "(one item per brand and feed)",
+    "brand_candidate": "brand candidate: a brand no person has confirmed yet (one item per "
+    "brand and feed)",
 }
 
 # Alternatives offered by number (keys 1..3).

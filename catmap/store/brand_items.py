@@ -411,6 +411,7 @@ class BrandItemsMixin(AuditMixin):
                     placed.append(item_id)
                     if was_changed:
                         changed.append(item_id)
+            kept = set(placed)
             stale = [
                 row
                 for row in conn.execute(
@@ -418,7 +419,7 @@ class BrandItemsMixin(AuditMixin):
                     "AND state != 'done' AND " + has_reason_sql(BRAND_REASON),
                     (fid,),
                 )
-                if int(row["id"]) not in set(placed)
+                if int(row["id"]) not in kept
             ]
             why = (
                 f"the brand is no longer a candidate in this feed (onboard run {run_id})"
