@@ -314,3 +314,49 @@ def test_an_unknown_brand_names_it_and_says_what_to_do(
         "(`catmap brands list` shows the brands `catmap onboard` has seen; use one of their "
         "names or spellings)\n"
     )
+
+
+def _brand_item(project: Path, brand: str) -> tuple[int, str, tuple[str, ...], str] | None:
+    """The review item standing for a candidate brand: (id, product, reasons, state)."""
+    with Store.open(store_path(project)) as store:
+        found = [
+            (i.id, i.product_id, i.reasons, i.state)
+            for i in store.items()
+            if i.state != "done" and "brand_candidate" in i.reasons
+            and store._conn.execute(
+                "SELECT brand FROM review_items WHERE id = ?", (i.id,)
+            ).fetchone()[0] == brand
+        ]  # fmt: skip
+    assert len(found) <= 1
+    return found[0] if found else None
+
+
+def test_onboarding_queues_each_candidate_brand_once_and_verdicts_settle_it(
+    world: SmallWorld, tmp_path: Path
+) -> None:
+    project = new_project(world, tmp_path / "p")
+    feed = _feed(tmp_path, "kelvora", KELVORA)
+    facts = _json(_onboard(world, project, feed, "--json"))
+    candidates = _brands(project)
+    waiting = sorted(n for n, b in candidates.items() if b["status"] == "candidate")
+    assert facts["queued_by_reason"]["brand_candidate"] == len(waiting)
+    item = _brand_item(project, "Benchlow")
+    assert item is not None
+    statuses = _status_of(project, "kelvora")
+    assert statuses[item[1]] == "candidate" and _brand_of(project, "kelvora")[item[1]] == "Benchlow"
+    # Onboarding again picks the same item.
+    _json(_onboard(world, project, feed, "--json"))
+    assert _brand_item(project, "Benchlow") == item
+    status = " ".join(_run("status", "--project", str(project)).stdout.split())
+    count = len(waiting)
+    assert f"{count} brand{'s wait' if count != 1 else ' waits'} in the review queue" in status
+
+    _json(_run("brands", "reject", "Benchlow", "--project", str(project), "--json"))
+    assert _brand_item(project, "Benchlow") is None
+    status = json.loads(_run("status", "--project", str(project), "--json").stdout)
+    assert status["brands_waiting"] == count - 1
+    _json(_run("brands", "reset", "Benchlow", "--project", str(project), "--json"))
+    assert _brand_item(project, "Benchlow") == item
+    with Store.open(store_path(project)) as store:
+        entries = [e for e in store.audit_log() if e.action in ("brand_rejected", "brand_reset")]
+    assert [e.detail["items"] for e in entries] == [[item[0]], [item[0]]]

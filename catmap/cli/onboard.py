@@ -344,9 +344,11 @@ def status_command(project: str | None, feed: str | None, as_json: bool) -> None
 
     "queued" and "reviewed" count products by the state of their mapping; "open" and "done"
     count review items, which also check products whose node is accepted (a brand
-    conflict, the audit sample, the audience), so there can be more open items than queued
-    products. The audited error is the share of reviewed audit samples that were wrong, with its
-    exact (Clopper-Pearson) 95% interval: the real error of the auto-accepted part.
+    conflict, the audit sample, the audience, a candidate brand: one item per brand and feed),
+    so there can be more open items than queued products; the brands waiting for a verdict are
+    counted once each. The audited error is the share of reviewed audit samples that were
+    wrong, with its exact (Clopper-Pearson) 95% interval: the real error of the auto-accepted
+    part.
     """
     facts = project_status(project_dir(project), feed)
     if as_json:
