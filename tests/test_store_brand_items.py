@@ -288,6 +288,8 @@ def test_deciding_a_joined_item_hands_the_brand_to_a_brand_only_item(store: Stor
     assert (decided.state, decided.reasons) == ("done", ("low_confidence", "brand_candidate"))
     waiting = _brand_items(store)["Nimbra"]
     assert waiting[1:4] == ("N-03", ("brand_candidate",), "claimed")
+    # At the feed's brand priority, not the decided item's.
+    assert waiting[4] == pytest.approx(brand_candidate_priority([0.4, *LOW]))
     assert store.claim_next("bo").id == waiting[0]  # type: ignore[union-attr]
     # Undo folds the brand back into the reopened item.
     assert store.undo_last("bo") == [nimbra]

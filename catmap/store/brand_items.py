@@ -300,9 +300,7 @@ def _take_reason_off(conn: sqlite3.Connection, rows: Sequence[sqlite3.Row], why:
     return settled
 
 
-def keep_brand_waiting(
-    conn: sqlite3.Connection, item: sqlite3.Row, *, priority: float, now: str
-) -> int | None:
+def keep_brand_waiting(conn: sqlite3.Connection, item: sqlite3.Row, *, now: str) -> int | None:
     """After a person decided the node of ``item`` (already closed): when the item stood for a
     candidate brand that no verdict settled, keep the brand waiting.
 
@@ -310,7 +308,8 @@ def keep_brand_waiting(
     audit count). When the product still carries the brand as a candidate, the brand waits on
     it: an item queued for the brand alone stays waiting as the decision found it (claimed by
     the reviewer, or open); an item queued for more hands the brand to a brand-only item of the
-    product, claimed like the decided one was (the review screen shows it next). When the
+    product at the feed's brand priority, claimed like the decided one was (the review screen
+    shows it next). When the
     reviewer corrected the product's brand, the brand's item goes to another product of the
     feed carrying it (see :func:`ensure_brand_item`), if any.
 
@@ -332,6 +331,7 @@ def keep_brand_waiting(
             )
             return int(item["id"])
         claimed = item["state"] == "claimed" and item["lease_until"] is not None
+        priority = feed_brand_priority(conn, int(item["feed_id"]))
         return _put_on_product(
             conn, item["feed_id"], item["product_id"], name, priority, now,
             item["claimed_by"] if claimed else None, item["lease_until"] if claimed else None,
@@ -342,6 +342,7 @@ def keep_brand_waiting(
         (item["id"],),
     ).fetchone()
     spellings = [str(before[0])] if before is not None and before[0] else []
+    priority = feed_brand_priority(conn, int(item["feed_id"]))
     placed, _changed = ensure_brand_item(
         conn, item["feed_id"], name, spellings, priority=priority, now=now
     )

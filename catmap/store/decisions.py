@@ -226,7 +226,7 @@ class DecisionsMixin(QueueMixin, ProductsMixin):
         changed_node = to_node != from_node
         _mark_reviewed(conn, feed_id, product_id, to_node, changed_node, brand, who, age)
         # A candidate brand the item stands for is not settled by the node: it keeps waiting.
-        keep_brand_waiting(conn, item, priority=float(item["priority"]), now=self._now())
+        keep_brand_waiting(conn, item, now=self._now())
         if node_attributes is not None and changed_node and to_node:
             _follow_node(conn, feed_id, product_id, node_attributes, who, age)
             return decision_id, {"from": current["restriction"], "to": node_attributes.restriction}
