@@ -25,7 +25,7 @@ COMMANDS: dict[str, str] = {
     "normalise": "feeds",
     "tree": "tree",
     "train": "model",
-    "map": "model",
+    "map": "map",
     "evaluate": "evaluate",
     "brands": "brands",
     "onboard": "onboard",

@@ -14,7 +14,7 @@ from catmap.classify.rules import RuleSet, load_rules
 from catmap.classify.storage import MANIFEST, load_model
 from catmap.errors import InputError
 from catmap.feeds.profiled import open_profiled_feed
-from catmap.jobs.onboard import default_model_dir, default_rules_path, project_tree
+from catmap.jobs._project_tree import default_model_dir, default_rules_path, project_tree
 from catmap.project import feed_name
 from catmap.tree.taxonomy import CategoryTree
 
