@@ -17,7 +17,6 @@ the confidences ``catmap evaluate`` gives.
 from __future__ import annotations
 
 import csv
-import gc
 import json
 import multiprocessing
 import tempfile
@@ -30,6 +29,7 @@ from typing import IO, Any
 import numpy as np
 import scipy.sparse as sp
 
+from catmap import _collector
 from catmap._atomic import AtomicFile, write_text_atomic
 from catmap._iterate import chunked
 from catmap.classify.backoff import NodeIndex, backoff_rows, choose_nodes
@@ -104,7 +104,8 @@ class Mapper:
         self.method = "model" if model is not None else "cold_start"
         self.index = NodeIndex(tree, self.classes)
         self.column = {c: i for i, c in enumerate(self.classes)}
-        _freeze_heap()
+        # The model lives as long as a program: out of the collector's rounds from here on.
+        _collector.settle()
 
     def predict_proba(self, texts: ProductTexts) -> np.ndarray[Any, Any]:
         """Return (n, classes) probabilities."""
@@ -191,19 +192,6 @@ class Mapper:
             np.take_along_axis(idx, order, axis=1).astype(np.int32),
             np.take_along_axis(vals, order, axis=1).astype(np.float32),
         )
-
-
-def _freeze_heap() -> None:
-    """Take the loaded model out of the garbage collector's rounds (``gc.freeze``).
-
-    A model is hundreds of thousands of long-lived Python objects (vocabularies, caches, the
-    tree); every full collection walks them all while a feed streams through, which cost about
-    a quarter of the mapping time. Frozen objects are never collected, so what is garbage is
-    collected first; the model lives as long as the process anyway. Freezing before worker
-    processes fork also keeps the collector from touching (and copying) the shared pages.
-    """
-    gc.collect()
-    gc.freeze()
 
 
 # The mapper a worker process uses: set before the pool forks, so it is shared, not copied.
