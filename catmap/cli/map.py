@@ -13,6 +13,7 @@ import click
 from rich.markup import escape
 from rich.table import Table
 
+from catmap.classify.mapping import CHUNK_SIZE
 from catmap.cli._render import (
     PipedProgress,
     console,
@@ -76,7 +77,8 @@ from catmap.tree.taxonomy import load_tree
     type=click.IntRange(1, 64),
     default=2,
     show_default=True,
-    help="Processes computing probabilities.",
+    help=f"Processes computing probabilities (started once the feed has more than one chunk "
+    f"of {CHUNK_SIZE:,} products: a smaller feed is mapped in the main process).",
 )
 @click.option(
     "--cluster",
