@@ -529,6 +529,8 @@ def _first_pass(
                     first = (rows, texts)
                 else:
                     if pool is None:
+                        if mapper.model is not None:
+                            mapper.model.prepare_departments()  # shared by the workers
                         _WORKER_MAPPER = mapper
                         pool = _fork_pool(workers)
                         assert first is not None
