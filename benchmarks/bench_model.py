@@ -256,6 +256,7 @@ def _time_mapping(
         (products mapped, wall seconds, CPU seconds) of the timed part, and the growth of the
         resident memory while loading and preparing the model (MB).
     """
+    from catmap import _collector
     from catmap.classify.features import product_texts
     from catmap.classify.mapping import Mapper
     from catmap.classify.storage import load_model
@@ -263,6 +264,9 @@ def _time_mapping(
     from catmap.feeds.fieldmap import suggest_profile
     from catmap.feeds.ingest import Accounting, iter_products
 
+    # A process of its own, as `catmap map` is: the loaded model is frozen out of the garbage
+    # collector's rounds as there (catmap/_collector.py).
+    _collector.run_as_program()
     tree = load_default_tree(1)
     gc.collect()
     before = _rss_mb()

@@ -84,7 +84,11 @@ def run_one(feed: str, out: str, project: str, mode: str) -> dict[str, Any]:
     """
     kill = mode.endswith("+kill")
     mode = mode.removesuffix("+kill")
+    from catmap import _collector
     from catmap.jobs.map import map_project_feed
+
+    # A fresh process that maps as `catmap map` does, the garbage collector's settings included.
+    _collector.run_as_program()
 
     if mode == "single":
         started, cpu = time.perf_counter(), _cpu_seconds()

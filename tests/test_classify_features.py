@@ -124,6 +124,32 @@ def test_word_ngrams_by_token_number_equal_the_vectorizer_across_batches(pattern
         assert np.allclose(fast.transform(batch).toarray(), expected, atol=1e-6)
 
 
+HASHTAGGED = [" ".join("#" + word for word in text.split()) for text in TRAIN + PUNCTUATED]
+
+
+@pytest.mark.parametrize(
+    ("pattern", "texts"),
+    [
+        # A token may hold a space: a bigram of two such tokens has more than two parts.
+        (r"(?u)\b\w+ \w+\b|\w+", TRAIN + PUNCTUATED),
+        # Tokens only after a "#": on its own, a vocabulary token is no token at all.
+        (r"(?u)(?<=#)\w+", HASHTAGGED),
+    ],
+)
+def test_word_ngrams_fall_back_to_the_plain_path_when_terms_are_no_token_pairs(
+    pattern: str, texts: list[str]
+) -> None:
+    vectorizer = TfidfVectorizer(
+        analyzer="word", ngram_range=(1, 2), token_pattern=pattern, sublinear_tf=True
+    ).fit(texts)
+    fast = WordNgramTfidf(vectorizer)
+    assert not fast._by_token
+    for batch in (texts[:5], QUERIES + HASHTAGGED[-5:]):
+        # reference: scikit-learn's own TfidfVectorizer.transform
+        expected = vectorizer.transform(batch).toarray()
+        assert np.allclose(fast.transform(batch).toarray(), expected, atol=1e-6)
+
+
 def test_unsupported_settings_fall_back_to_the_vectorizer() -> None:
     stemmed = TfidfVectorizer(analyzer="word", stop_words=["de"]).fit(TRAIN)
     assert fast_transformer(stemmed) is None

@@ -86,8 +86,8 @@ def test_a_folder_saved_before_keyword_pruning_loads_with_every_keyword_entry(
     assert manifest["settings"]["keyword_prune_below"] == trained.keyword_prune_below > 0
     loaded, _ = load_model(tmp_path / "model", tree)
     assert loaded.keyword_prune_below == 0.0
-    pruned = sum(len(part.documents_t[1]) for part in trained._layout().parts)
-    unpruned = sum(len(part.documents_t[1]) for part in loaded._layout().parts)
+    pruned = sum(len(part.documents_t[1]) for part in trained._layout().complete())
+    unpruned = sum(len(part.documents_t[1]) for part in loaded._layout().complete())
     assert unpruned > pruned  # the small entries are kept, as the model was calibrated with
 
 
@@ -219,7 +219,7 @@ def test_a_flat_dense_model_scores_title_ngrams_word_by_word_as_the_feature_matr
     flat = CategoryModel(tree=tree, hierarchical=False, min_df=1, prune_below=0.0)
     flat.fit(train, labels).calibrate(valid, valid_labels)
     layout = flat._layout()
-    assert layout.parts[0].dense is not None and flat._words_block(layout)
+    assert layout.part(0).dense is not None and flat._words_block(layout)
     texts, _ = texts_and_labels(labelled_rows(80, seed=3))
     later, _ = texts_and_labels(labelled_rows(80, seed=4))  # new words after the first batch
     by_words = [flat.top_k(texts, 3) for _ in range(2)]  # the second from the per-word scores
@@ -233,3 +233,37 @@ def test_a_flat_dense_model_scores_title_ngrams_word_by_word_as_the_feature_matr
         for got_idx, got_vals in got:
             assert np.array_equal(got_idx[:, 0], idx[:, 0])
             assert np.allclose(got_vals, vals, atol=1e-5)
+
+
+def test_a_departments_weights_are_regrouped_when_a_product_first_needs_them(
+    trained: CategoryModel, tree: CategoryTree, tmp_path: Path
+) -> None:
+    save_model(trained, tmp_path / "model")
+    lazy, _ = load_model(tmp_path / "model", tree)
+    upfront, _ = load_model(tmp_path / "model", tree)
+    upfront.prepare_departments()
+    full = upfront._layout()
+    assert full.sources is None and all(part is not None for part in full.parts)
+
+    one, _ = texts_and_labels(labelled_rows(1, seed=5))
+    lazy.top_k(one, 3)
+    layout = lazy._layout()
+    built = [g for g, part in enumerate(layout.parts) if part is not None]
+    # Only the departments this product may belong to (at least its most likely one).
+    assert 0 < len(built) < layout.n_groups and layout.sources is not None
+
+    texts, _ = texts_and_labels(labelled_rows(60, seed=2))
+    for got, expected in zip(lazy.top_k(texts, 3), upfront.top_k(texts, 3), strict=True):
+        assert np.array_equal(got, expected)
+    assert np.array_equal(lazy.predict_proba(texts), upfront.predict_proba(texts))
+    # Built on first need or all at once, a department's part is the same.
+    for g, part in enumerate(lazy._layout().complete()):
+        expected = full.parts[g]
+        assert expected is not None
+        assert np.array_equal(part.columns, expected.columns)
+        assert all(np.array_equal(a, b) for a, b in zip(part.documents_t, expected.documents_t,
+                                                        strict=True))  # fmt: skip
+        assert (part.coef is None) == (expected.coef is None)
+        if part.coef is not None and expected.coef is not None:
+            assert all(np.array_equal(a, b) for a, b in zip(part.coef, expected.coef, strict=True))
+    assert lazy._layout().sources is None

@@ -62,7 +62,8 @@ def test_unknown_setting_is_refused() -> None:
 
 def test_mapping_modules_do_not_import_scikit_learn() -> None:
     code = (
-        "import sys; import catmap.cli.model, catmap.jobs.map, catmap.classify.storage; "
+        "import sys; import catmap.cli.map, catmap.cli.model, catmap.jobs.map, "
+        "catmap.classify.storage; "
         "print(sorted(m for m in ('sklearn', 'pandas', 'scipy.stats', 'scipy.optimize') "
         "if m in sys.modules))"
     )

@@ -4,6 +4,9 @@ from __future__ import annotations
 
 import csv
 import json
+import os
+import subprocess
+import sys
 from pathlib import Path
 
 import pyarrow.parquet as pq
@@ -148,21 +151,138 @@ def test_map_refuses_a_model_of_another_tree_version(
     assert "the tree in use is version 2" in result.stderr
 
 
+def _small_chunks(monkeypatch: pytest.MonkeyPatch, size: int) -> None:
+    """Map in chunks of ``size`` products (the 240-product feed is then several chunks)."""
+    import catmap.classify.mapping as mapping
+
+    defaults = {**mapping.map_feed.__kwdefaults__, "chunk_size": size}
+    monkeypatch.setattr(mapping.map_feed, "__kwdefaults__", defaults)
+
+
+def _count_forks(monkeypatch: pytest.MonkeyPatch, events: list[object]) -> None:
+    """Record each worker pool forked (with its size) in ``events``; the pool still runs."""
+    import catmap.classify.mapping as mapping
+
+    real = mapping._fork_pool
+
+    def fork(workers: int) -> object:
+        events.append(("fork", workers))
+        return real(workers)
+
+    monkeypatch.setattr(mapping, "_fork_pool", fork)
+
+
 def test_map_summary_uses_two_workers_and_writes_parquet(
-    setup: tuple[Path, Path], tmp_path: Path
+    setup: tuple[Path, Path], tmp_path: Path, monkeypatch: pytest.MonkeyPatch
 ) -> None:
     feed, project = setup
+    _small_chunks(monkeypatch, 100)  # three chunks: the two workers are started
+    forks: list[object] = []
+    _count_forks(monkeypatch, forks)
     out = tmp_path / "out"
     result = CliRunner().invoke(
         main,
         ["map", str(feed), "--out", str(out), "--project", str(project), "--format", "parquet"],
     )
     assert result.exit_code == 0, result.output
+    assert forks == [("fork", 2)]
     assert "Mapped 240 products with the cold start" in result.stdout
     assert "'Maison > Café': 80 products" in result.stdout
     table = pq.read_table(out / "mappings.parquet")
     assert table.num_rows == 240
     assert table.column_names[:3] == ["product_id", "title", "node_id"]
+
+
+def test_the_worker_pool_is_forked_once_a_second_chunk_is_read(
+    setup: tuple[Path, Path], tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    from catmap.classify.mapping import Mapper, map_feed
+    from catmap.feeds.profiled import open_profiled_feed
+    from catmap.tree.taxonomy import load_default_tree
+
+    feed, project = setup
+    events: list[object] = []
+    _count_forks(monkeypatch, events)
+    mapper = Mapper(load_default_tree(1), None)
+    outputs = []
+    for workers in (2, 1):
+        out = tmp_path / f"out-{workers}"
+        map_feed(
+            open_profiled_feed(feed, project), out, mapper=mapper, chunk_size=100,
+            workers=workers, on_progress=lambda read: events.append(("read", read)),
+        )  # fmt: skip
+        outputs.append((out / "mappings.jsonl").read_bytes())
+    # Two workers: the first chunk waits for the second, then the pool starts and takes both.
+    assert events[:4] == [("read", 100), ("fork", 2), ("read", 200), ("read", 240)]
+    assert events[4:] == [("read", 100), ("read", 200), ("read", 240)]  # one worker: no pool
+    assert outputs[0] == outputs[1]
+
+
+def test_a_feed_of_one_chunk_is_mapped_without_forking_workers(
+    setup: tuple[Path, Path], tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    feed, project = setup
+    runner = CliRunner()
+    assert runner.invoke(main, ["train", str(feed), "--project", str(project)]).exit_code == 0
+    forks: list[object] = []
+    _count_forks(monkeypatch, forks)
+    outputs = []
+    for workers in ("2", "1"):
+        out = tmp_path / f"out-{workers}"
+        args = ["map", str(feed), "--out", str(out), "--project", str(project),
+                "--workers", workers]  # fmt: skip
+        assert runner.invoke(main, args).exit_code == 0
+        outputs.append((out / "mappings.jsonl").read_bytes())
+    assert forks == []  # 240 products: one chunk, mapped in this process
+    assert outputs[0] == outputs[1]
+    assert len(outputs[0].splitlines()) == 240
+
+
+# Modules `catmap map` has no use for on a CSV feed with a trained model and a saved profile:
+# onboarding and what only it uses, training, the tree diff, and the libraries of other feeds
+# and of fitting.
+NOT_IMPORTED_BY_MAP = (
+    "catmap.jobs.onboard", "catmap.store", "catmap.attributes", "catmap.review",
+    "catmap.decide", "catmap.classify.training", "catmap.jobs.train", "catmap.tree.diff",
+    "catmap.tree.changelog", "ftfy", "rapidfuzz", "lxml", "sqlite3",
+    "sklearn", "pandas", "scipy.stats", "scipy.optimize", "textual",
+)  # fmt: skip
+
+
+def test_map_in_a_fresh_process_imports_only_what_mapping_needs(
+    setup: tuple[Path, Path], tmp_path: Path
+) -> None:
+    feed, project = setup
+    runner = CliRunner()
+    # Training saves the feed's profile too (suggesting one would compare names).
+    assert runner.invoke(main, ["train", str(feed), "--project", str(project)]).exit_code == 0
+    assert (project / "profiles" / "shop.toml").is_file()
+    out = tmp_path / "out"
+    code = (
+        "import json, sys\n"
+        "from catmap.cli import main\n"
+        "try:\n"
+        f"    main({['map', str(feed), '--out', str(out), '--project', str(project)]!r})\n"
+        "except SystemExit as done:\n"
+        "    assert not done.code, done.code\n"
+        f"print(json.dumps(sorted(m for m in sys.modules if m.split('.')[0] in "
+        f"('catmap', 'ftfy', 'rapidfuzz', 'lxml', 'sqlite3', 'sklearn', "
+        f"'pandas', 'scipy', 'textual'))))\n"
+    )
+    root = Path(__file__).resolve().parents[1]
+    done = subprocess.run(
+        [sys.executable, "-c", code], capture_output=True, text=True, check=False,
+        cwd=tmp_path, env={**os.environ, "PYTHONPATH": str(root)},
+    )  # fmt: skip
+    assert done.returncode == 0, done.stderr
+    imported = set(json.loads(done.stdout.splitlines()[-1]))
+    assert len(read_jsonl(out / "mappings.jsonl")) == 240
+    # The check sees what mapping does import...
+    assert {"catmap.classify.mapping", "catmap.jobs.map", "catmap.feeds.profiled"} <= imported
+    # ...and none of what it has no use for.
+    unneeded = {m for m in imported for name in NOT_IMPORTED_BY_MAP
+                if m == name or m.startswith(name + ".")}  # fmt: skip
+    assert unneeded == set()
 
 
 @pytest.mark.parametrize("workers", ["1", "2"])

@@ -418,35 +418,34 @@ class WordNgramTfidf(_PerWordCache):
             self._reset()
 
     def _tables(self) -> bool:
-        """Number the vocabulary's tokens; index its unigrams and bigrams by token numbers."""
-        token: dict[str, int] = {}
-        unigram_tokens: list[int] = []
-        unigram_features: list[int] = []
-        pair_keys: list[int] = []
-        pair_features: list[int] = []
-        for term, feature in self._vocabulary.items():
-            parts = term.split(" ")
-            if len(parts) > 2:
-                return False  # a token pattern that keeps spaces: the plain path is exact
-            for part in parts:
-                # Each distinct token is checked once (a bigram's parts are mostly unigrams
-                # already seen): the regex over the whole vocabulary was most of a model's load.
-                if part not in token:
-                    if not part or self._findall(part) != [part]:
-                        return False
-                    token[part] = len(token)
-            numbers = [token[part] for part in parts]
-            if len(numbers) == 1:
-                unigram_tokens.append(numbers[0])
-                unigram_features.append(feature)
-            else:
-                pair_keys.append((numbers[0] << 32) | numbers[1])
-                pair_features.append(feature)
+        """Number the vocabulary's tokens; index its unigrams and bigrams by token numbers.
+
+        Array by array rather than term by term (a model's vocabularies hold hundreds of
+        thousands of terms, and this runs as the model loads): the terms are cut at their
+        spaces in one split, each distinct token gets the number of its first appearance and
+        is checked against the token pattern once.
+        """
+        terms = list(self._vocabulary)
+        features = np.fromiter(self._vocabulary.values(), dtype=np.int64, count=len(terms))
+        spaces = np.fromiter(map(str.count, terms, repeat(" ")), dtype=np.int64, count=len(terms))
+        if len(terms) and int(spaces.max()) > 1:
+            return False  # a token pattern that keeps spaces: the plain path is exact
+        parts = " ".join(terms).split(" ") if terms else []
+        distinct = dict.fromkeys(parts)
+        if "" in distinct:
+            return False
+        findall = self._findall
+        if any(findall(part) != [part] for part in distinct):
+            return False
+        token = dict(zip(distinct, range(len(distinct)), strict=True))
+        numbers = np.fromiter(map(token.__getitem__, parts), dtype=np.int64, count=len(parts))
+        first = np.cumsum(spaces + 1) - (spaces + 1)  # each term's first part in ``parts``
+        unigrams, pairs = spaces == 0, spaces == 1
         self._known_tokens = token
         self._unigram_base = np.full(len(token), -1, dtype=np.int64)
-        self._unigram_base[unigram_tokens] = unigram_features
-        self._pair_keys = np.array(pair_keys, dtype=np.int64)
-        self._pair_features = np.array(pair_features, dtype=np.int64)
+        self._unigram_base[numbers[first[unigrams]]] = features[unigrams]
+        self._pair_keys = (numbers[first[pairs]] << 32) | numbers[first[pairs] + 1]
+        self._pair_features = features[pairs]
         self._pair_slots = hash_table(mix_keys(self._pair_keys))
         return True
 

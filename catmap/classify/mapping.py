@@ -1,7 +1,8 @@
 """Map a whole feed: read → normalise → rules → model (or keywords) → consensus → back-off → write.
 
 Streaming in chunks. Pass 1 reads the feed, applies the rules, and has worker processes compute
-each chunk's class probabilities (the featurisation and the sparse products are the costly part);
+each chunk's class probabilities (the featurisation and the sparse products are the costly part;
+a feed of one chunk is scored in this process, no worker is forked for it);
 it keeps only each product's ``TOP_K`` most probable classes in a temporary folder and counts
 the retailer-path consensus. Pass 2 blends each product with its path's share vector, backs off,
 and writes the mappings. Memory stays flat in feed size apart from the per-path counts.
@@ -17,7 +18,6 @@ the confidences ``catmap evaluate`` gives.
 from __future__ import annotations
 
 import csv
-import gc
 import json
 import multiprocessing
 import tempfile
@@ -30,6 +30,7 @@ from typing import IO, Any
 import numpy as np
 import scipy.sparse as sp
 
+from catmap import _collector
 from catmap._atomic import AtomicFile, write_text_atomic
 from catmap._iterate import chunked
 from catmap.classify.backoff import NodeIndex, backoff_rows, choose_nodes
@@ -104,7 +105,8 @@ class Mapper:
         self.method = "model" if model is not None else "cold_start"
         self.index = NodeIndex(tree, self.classes)
         self.column = {c: i for i, c in enumerate(self.classes)}
-        _freeze_heap()
+        # The model lives as long as a program: out of the collector's rounds from here on.
+        _collector.settle()
 
     def predict_proba(self, texts: ProductTexts) -> np.ndarray[Any, Any]:
         """Return (n, classes) probabilities."""
@@ -193,21 +195,13 @@ class Mapper:
         )
 
 
-def _freeze_heap() -> None:
-    """Take the loaded model out of the garbage collector's rounds (``gc.freeze``).
-
-    A model is hundreds of thousands of long-lived Python objects (vocabularies, caches, the
-    tree); every full collection walks them all while a feed streams through, which cost about
-    a quarter of the mapping time. Frozen objects are never collected, so what is garbage is
-    collected first; the model lives as long as the process anyway. Freezing before worker
-    processes fork also keeps the collector from touching (and copying) the shared pages.
-    """
-    gc.collect()
-    gc.freeze()
-
-
 # The mapper a worker process uses: set before the pool forks, so it is shared, not copied.
 _WORKER_MAPPER: Mapper | None = None
+
+
+def _fork_pool(workers: int) -> Any:
+    """Start ``workers`` processes forked from this one (they share the loaded model)."""
+    return multiprocessing.get_context("fork").Pool(workers)
 
 
 def _worker_first_pass(
@@ -411,7 +405,8 @@ def map_feed(
         threshold: back-off threshold.
         format: "jsonl", "csv" or "parquet" for the mappings.
         chunk_size: products per chunk.
-        workers: processes computing probabilities (1 = in this process).
+        workers: processes computing probabilities (1 = in this process); they are forked
+            once a second chunk has been read.
         on_progress: called with the number of records read so far.
         top_paths: how many retailer paths the summary lists.
 
@@ -488,6 +483,9 @@ def _first_pass(
 ) -> tuple[PathCounts, BaseException | None]:
     """Read the feed in chunks, match the rules and store each chunk's top-k probabilities.
 
+    With several workers, the pool is forked once a second chunk has been read: a feed of one
+    chunk is mapped in this process, without the cost of starting worker processes.
+
     Returns:
         The products per (retailer path, first-pass node), for the path consensus; and the
         fatal feed error that stopped the reading early, if any (raised once the outputs are
@@ -498,10 +496,9 @@ def _first_pass(
     counts = PathCounts()
     fatal: BaseException | None = None
     pool = None
+    # The first chunk, held until the second one shows the feed needs the workers.
+    first: tuple[list[_Row], ProductTexts] | None = None
     try:
-        if workers > 1:
-            _WORKER_MAPPER = mapper
-            pool = multiprocessing.get_context("fork").Pool(workers)
         pending: deque[tuple[list[_Row], Any]] = deque()
 
         def finish(rows: list[_Row], result: Any) -> None:
@@ -513,20 +510,33 @@ def _first_pass(
             )
             store.add(scored, rows)
 
+        def submit(rows: list[_Row], texts: ProductTexts) -> None:
+            assert pool is not None
+            fields = (texts.title, texts.path, texts.brand, texts.description)
+            pending.append((rows, pool.apply_async(_worker_first_pass, (fields, threshold))))
+            while len(pending) > workers:
+                finish(*pending.popleft())
+
         try:
             products = source.products()
             stopped: list[BaseException] = []
             for chunk in _chunks(products, chunk_size, write_reject, stopped):
                 rows = _rule_rows(chunk, rules)
                 texts = product_texts(chunk)
-                fields = (texts.title, texts.path, texts.brand, texts.description)
-                if pool is not None:
-                    work = pool.apply_async(_worker_first_pass, (fields, threshold))
-                    pending.append((rows, work))
-                    while len(pending) > workers:
-                        finish(*pending.popleft())
-                else:
+                if workers <= 1:
                     finish(rows, mapper.first_pass(texts, threshold))
+                elif pool is None and first is None:
+                    first = (rows, texts)
+                else:
+                    if pool is None:
+                        if mapper.model is not None:
+                            mapper.model.prepare_departments()  # shared by the workers
+                        _WORKER_MAPPER = mapper
+                        pool = _fork_pool(workers)
+                        assert first is not None
+                        submit(*first)
+                        first = None
+                    submit(rows, texts)
                 if on_progress is not None:
                     on_progress(accounting.read)
             if stopped:
@@ -534,6 +544,9 @@ def _first_pass(
         except FATAL_FEED_ERRORS as error:
             accounting.stopped_early = str(error)
             fatal = error
+        if first is not None:
+            # The only chunk (or the only one read before a fatal error): mapped here.
+            finish(first[0], mapper.first_pass(first[1], threshold))
         while pending:
             finish(*pending.popleft())
     finally:

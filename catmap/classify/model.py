@@ -330,15 +330,29 @@ class CategoryModel:
     def prepare(self) -> CategoryModel:
         """Build what scoring derives from the learned state, before the first chunk needs it.
 
-        The weights regrouped by department, the fast vectorizers and the compiled loops are made
-        (or loaded from Numba's disk cache) on first use: about a second that otherwise lands on
-        the first chunk of a feed. Scoring one placeholder product does all of it.
+        The fast vectorizers and the compiled loops are made (or loaded from Numba's disk
+        cache) on first use: most of a second that otherwise lands on the first chunk of a
+        feed. Scoring one placeholder product does all of it. A department's weights are
+        regrouped when a product first needs them (:meth:`prepare_departments` does all).
 
         Returns:
             self.
         """
         self._check()
         self.top_k(ProductTexts(["placeholder product"], ["placeholder"], [""], [""]), 1)
+        return self
+
+    def prepare_departments(self) -> CategoryModel:
+        """Regroup every department's weights now (each is otherwise regrouped on first need).
+
+        Before worker processes fork: they then share one copy rather than each building its
+        own.
+
+        Returns:
+            self.
+        """
+        self._check()
+        self._layout().complete()
         return self
 
     def scores(self, texts: ProductTexts) -> tuple[Array, Array]:
@@ -402,10 +416,11 @@ class CategoryModel:
         query = self.keywords_.query(texts) if keywords else None
         by_column: list[tuple[sp.csc_matrix, int]] | None = None
         blocks = []
-        for g, part in enumerate(layout.parts):
+        for g in range(layout.n_groups):
             rows = np.flatnonzero(selected[:, g])
             if not len(rows):
                 continue
+            part = layout.part(g)
             if part.dense is not None:
                 if by_column is None:
                     by_column = [(matrix.tocsc(), start) for matrix, start in features]
@@ -444,12 +459,15 @@ class CategoryModel:
         score needs no n-gram matrix either), and while the per-word scores fit the memory
         the dense block may take.
         """
-        if len(layout.parts) != 1 or layout.parts[0].dense is None or len(self.groups_) != 1:
+        if layout.n_groups != 1 or len(self.groups_) != 1:
+            return False
+        dense = layout.part(0).dense
+        if dense is None:
             return False
         found = self.featurizer_.word_cached_block(_WORDS_BLOCK)
         if found is None or found[0].vectorizer.norm != "l2" or not found[0].vectorizer.use_idf:
             return False
-        k = layout.parts[0].dense[1].shape[1]
+        k = dense[1].shape[1]
         return found[0].max_words * k * 4 <= DENSE_MAX_BYTES
 
     def _score_words(
@@ -544,7 +562,7 @@ class CategoryModel:
         values, total, rest = self._final(parts, self.keyword_weight_, self.blend_temperature_)
         rows, cols, data = [], [], []
         for block, powered in zip(parts.blocks, values, strict=True):
-            columns = layout.parts[block.group].columns
+            columns = layout.part(block.group).columns
             rows.append(np.repeat(block.rows, len(columns)))
             cols.append(np.tile(columns, len(block.rows)))
             data.append((powered / total[block.rows][:, None]).ravel())
@@ -586,7 +604,7 @@ class CategoryModel:
         n, k = parts.n, min(k, len(self.classes_))
         rows, cols, vals = [np.zeros(0, np.int64)], [np.zeros(0, np.int64)], [np.zeros(0)]
         for block, powered in zip(parts.blocks, values, strict=True):
-            columns = layout.parts[block.group].columns
+            columns = layout.part(block.group).columns
             width = min(k, len(columns))
             if width < len(columns):
                 best = np.argpartition(-powered, width - 1, axis=1)[:, :width]
@@ -717,13 +735,74 @@ class _GroupPart:
 
 
 @dataclass(frozen=True, slots=True)
+class _PartSources:
+    """What each department's :class:`_GroupPart` is cut from."""
+
+    class_coef: sp.csc_matrix  # (features, linear classes)
+    documents_t: sp.csc_matrix  # (keyword features, keyword leaves), pruned
+    keyword_group: Array  # group of each keyword leaf (a leaf's column is its position)
+    class_group: Array  # group of each linear class
+    linear_classes: Array  # column (in classes_) of each linear class
+    class_intercept: Array
+
+    def build(self, g: int) -> _GroupPart:
+        lin = np.flatnonzero(self.class_group == g)
+        lin_columns = self.linear_classes[lin]
+        kw = np.flatnonzero(self.keyword_group == g)
+        columns = np.union1d(lin_columns, kw)
+        weights = self.class_coef[:, lin].tocsr()
+        dense_pays = _dense_pays(weights)
+        return _GroupPart(
+            columns=columns,
+            linear_pos=np.searchsorted(columns, lin_columns),
+            # One form of the weights: the dense block where it pays, else packed.
+            coef=None if dense_pays else pack_rows(weights),
+            dense=dense_rows(weights) if dense_pays else None,
+            intercept=self.class_intercept[lin],
+            keyword_pos=np.searchsorted(columns, kw),
+            documents_t=pack_rows(self.documents_t[:, kw].tocsr()),
+        )
+
+
+@dataclass(slots=True)
 class _Layout:
+    """The learned weights arranged for scoring.
+
+    Each department's part (its weights and keyword documents, regrouped and packed) is built
+    on first need (:meth:`part`): a small feed touches a few departments, and the parts of all
+    of them are tens of MB that take a while to build. :meth:`complete` builds the rest (before
+    worker processes fork, so that they share one copy).
+    """
+
     class_coef: sp.csr_matrix  # the weights this layout was built from
     group_coef: Array  # dense (features, groups): a sparse × dense product is the fast one
-    parts: list[_GroupPart]
     class_group: Array  # group of every class column; len(groups) = no group (floor)
     group_sizes: Array  # classes per group
     ungrouped: int  # classes in no group
+    parts: list[_GroupPart | None]  # by group; None until built
+    sources: _PartSources | None  # dropped once every part is built
+
+    @property
+    def n_groups(self) -> int:
+        return len(self.parts)
+
+    def part(self, g: int) -> _GroupPart:
+        """Return department ``g``'s part, built now if it is the first time."""
+        built = self.parts[g]
+        if built is None:
+            sources = self.sources
+            if sources is None:  # completed meanwhile (by another thread)
+                built = self.parts[g]
+                assert built is not None
+                return built
+            built = self.parts[g] = sources.build(g)
+        return built
+
+    def complete(self) -> list[_GroupPart]:
+        """Build every department's part not built yet; return them all."""
+        parts = [self.part(g) for g in range(self.n_groups)]
+        self.sources = None  # every part is built: what they were cut from can go
+        return parts
 
     @staticmethod
     def build(model: CategoryModel) -> _Layout:
@@ -736,42 +815,27 @@ class _Layout:
         else:
             for c, node_id in enumerate(classes):
                 class_group[c] = index.get(model.tree.department(node_id).id, len(groups))
-        keyword_classes = model.keywords_.classes_.tolist()
         # Leaves come first in classes_, in the keyword mapper's order.
-        keyword_column = np.arange(len(keyword_classes))
+        n_keyword = len(model.keywords_.classes_)
         documents = model.keywords_.documents_.copy()
         documents.data[documents.data < model.keyword_prune_below] = 0.0
         documents.eliminate_zeros()
-        documents_t = documents.T.tocsc()
-        class_coef = model.class_coef_.tocsc()
-        parts = []
-        for g in range(len(groups)):
-            lin = np.flatnonzero(model.class_group_ == g)
-            lin_columns = model.linear_classes_[lin]
-            kw = keyword_column[class_group[: len(keyword_classes)] == g]
-            columns = np.union1d(lin_columns, kw)
-            weights = class_coef[:, lin].tocsr()
-            dense_pays = _dense_pays(weights)
-            parts.append(
-                _GroupPart(
-                    columns=columns,
-                    linear_pos=np.searchsorted(columns, lin_columns),
-                    # One form of the weights: the dense block where it pays, else packed.
-                    coef=None if dense_pays else pack_rows(weights),
-                    dense=dense_rows(weights) if dense_pays else None,
-                    intercept=model.class_intercept_[lin],
-                    keyword_pos=np.searchsorted(columns, kw),
-                    documents_t=pack_rows(documents_t[:, kw].tocsr()),
-                )
-            )
         sizes = np.bincount(class_group, minlength=len(groups) + 1)
         return _Layout(
             class_coef=model.class_coef_,
             group_coef=np.asarray(model.group_coef_.toarray(), dtype=np.float32),
-            parts=parts,
             class_group=class_group,
             group_sizes=np.maximum(sizes[: len(groups)], 1).astype(np.float64),
             ungrouped=int(sizes[len(groups)]),
+            parts=[None] * len(groups),
+            sources=_PartSources(
+                class_coef=model.class_coef_.tocsc(),
+                documents_t=documents.T.tocsc(),
+                keyword_group=class_group[:n_keyword],
+                class_group=model.class_group_,
+                linear_classes=model.linear_classes_,
+                class_intercept=model.class_intercept_,
+            ),
         )
 
 
@@ -812,14 +876,14 @@ def _padded(parts: _Parts, layout: _Layout) -> tuple[Array, Array, Array]:
     """Rows of scored classes side by side: (class columns or -1, linear, keyword)."""
     counts = np.zeros(parts.n, dtype=np.int64)
     for block in parts.blocks:
-        counts[block.rows] += len(layout.parts[block.group].columns)
+        counts[block.rows] += len(layout.part(block.group).columns)
     width = int(counts.max()) if parts.n else 0
     columns = np.full((parts.n, width), -1, dtype=np.int64)
     linear = np.zeros((parts.n, width), dtype=np.float64)
     keyword = np.zeros((parts.n, width), dtype=np.float64)
     filled = np.zeros(parts.n, dtype=np.int64)
     for block in parts.blocks:
-        cols = layout.parts[block.group].columns
+        cols = layout.part(block.group).columns
         start = filled[block.rows]
         positions = start[:, None] + np.arange(len(cols))[None, :]
         rows = block.rows[:, None]

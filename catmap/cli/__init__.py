@@ -14,6 +14,7 @@ from typing import Any
 
 import click
 
+from catmap import _collector
 from catmap.errors import EXIT_FAILURE, EXIT_INTERRUPTED, CatmapError
 
 # Every command, in the order a product flows through catmap, with the module that registers it
@@ -25,7 +26,7 @@ COMMANDS: dict[str, str] = {
     "normalise": "feeds",
     "tree": "tree",
     "train": "model",
-    "map": "model",
+    "map": "map",
     "evaluate": "evaluate",
     "brands": "brands",
     "onboard": "onboard",
@@ -85,13 +86,24 @@ class _Boundary(click.Group):
     A catmap error becomes one line on stderr and the error's named exit code.
     """
 
+    def __call__(self, *args: Any, **kwargs: Any) -> Any:
+        # How the `catmap` script and `python -m catmap` start catmap (a test's CliRunner calls
+        # `main.main()` instead): a program, whose loaded model may be frozen out of the
+        # garbage collector's rounds (catmap/_collector.py).
+        _collector.run_as_program()
+        return super().__call__(*args, **kwargs)
+
     def list_commands(self, ctx: click.Context) -> list[str]:
         return list(COMMANDS)
 
     def get_command(self, ctx: click.Context, cmd_name: str) -> click.Command | None:
         cmd_name = ALIASES.get(cmd_name, cmd_name)
         if cmd_name not in self.commands and cmd_name in COMMANDS:
-            module = importlib.import_module(f"catmap.cli.{COMMANDS[cmd_name]}")
+            # A command's modules live as long as the process: no collection while they load,
+            # and (in a program) frozen out of the collector's rounds once loaded.
+            with _collector.paused():
+                module = importlib.import_module(f"catmap.cli.{COMMANDS[cmd_name]}")
+                _collector.settle()
             module.register(self)
         return self.commands.get(cmd_name)
 

@@ -15,8 +15,6 @@ import re
 import unicodedata
 from pathlib import Path
 
-import charset_normalizer
-
 from catmap.errors import FeedEncodingError, FeedFormatError
 
 SAMPLE_SIZE = 1 << 20
@@ -218,6 +216,9 @@ def detect_encoding(head: bytes, given: str | None, path: str | Path) -> tuple[s
         return "utf-8", "detected"
     except UnicodeDecodeError:
         pass
+    # Imported here: a UTF-8 feed (most of them) never needs the detector.
+    import charset_normalizer
+
     matches = list(charset_normalizer.from_bytes(head))
     if not matches:
         return ("cp1252" if _western_cp1252(head) else "latin-1"), "detected"

@@ -25,7 +25,6 @@ from pathlib import Path
 from typing import Any
 
 import numpy as np
-from rapidfuzz import fuzz, process
 
 from catmap._atomic import write_text_atomic
 from catmap.errors import ProfileError
@@ -291,6 +290,9 @@ def _name_scores(header: str) -> dict[str, tuple[float, str]]:
     if len(header) <= 3:
         found = np.zeros(len(_SYNONYM_LIST))
     else:
+        # Imported here: only suggesting a profile compares names (not mapping with a saved one).
+        from rapidfuzz import fuzz, process
+
         found = np.maximum.reduce(
             [
                 process.cdist([header], _SYNONYM_LIST, scorer=fuzz.ratio)[0],

@@ -18,8 +18,6 @@ import unicodedata
 from decimal import Decimal, InvalidOperation
 from functools import lru_cache
 
-import ftfy
-
 from catmap.feeds._currency import (
     DOLLAR_CURRENCIES,
     ISO_4217_CODES,
@@ -153,6 +151,9 @@ def _one_pass(text: str, one_line: bool) -> str:
             text = _ASCII_INVISIBLE_RE.sub("", text)
         return _collapse(text, one_line)
     if _MOJIBAKE_RE.search(text):
+        # Imported on the first suspect text: most feeds never need it, and it is slow to load.
+        import ftfy
+
         text = ftfy.fix_encoding(text)
     if not unicodedata.is_normalized("NFKC", text):
         text = unicodedata.normalize("NFKC", text)

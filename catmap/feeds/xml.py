@@ -21,13 +21,14 @@ import re
 from collections import Counter
 from collections.abc import Iterator
 from pathlib import Path
-from typing import Any
-
-from lxml import etree
+from typing import TYPE_CHECKING, Any
 
 from catmap.errors import FeedFormatError, UnsafeFeedError
 from catmap.feeds._compression import open_binary
 from catmap.records import Reject, SourceRecord
+
+if TYPE_CHECKING:
+    from lxml import etree
 
 SCAN_ELEMENTS = 2000
 JOIN = " | "
@@ -199,6 +200,9 @@ def scan(
     stack: list[str] = []
     ends = 0
     error: FeedFormatError | None = None
+    # Imported here: only an XML feed needs lxml, and its import is not free.
+    from lxml import etree
+
     stream, _ = open_binary(path)
     try:
         events = etree.iterparse(
@@ -364,6 +368,8 @@ def iter_xml(
     local = steps[-1].split(":")[-1]
     name = steps[-1]
     read = 0
+    from lxml import etree  # only an XML feed needs lxml
+
     stream, _ = open_binary(path)
     try:
         events = etree.iterparse(

@@ -1,16 +1,72 @@
 """The tree a command works on: the one given, the project's own (checked against the
-fingerprint ``catmap init`` recorded), or the shared tree of a version."""
+fingerprint ``catmap init`` recorded), or the shared tree of a version; and where a project
+keeps its model and a feed's rules.
+
+Small on purpose: ``catmap map`` takes these from here, so that it does not import onboarding
+(the store, attributes, review) to find its tree and model.
+"""
 
 from __future__ import annotations
 
 from pathlib import Path
+from typing import TYPE_CHECKING
 
-from catmap.errors import ModelTreeMismatch, TreeError
-from catmap.project import SETTINGS_FILE, fingerprint, load_settings
-from catmap.store import Store
+from catmap.errors import ModelNotTrained, ModelTreeMismatch, TreeError
+from catmap.project import SETTINGS_FILE, feed_name, fingerprint, load_settings
 from catmap.tree.taxonomy import CategoryTree, load_default_tree, load_tree
 
-__all__ = ["check_store_tree", "open_project_tree"]
+if TYPE_CHECKING:
+    from catmap.store import Store
+
+__all__ = [
+    "check_store_tree",
+    "default_model_dir",
+    "default_rules_path",
+    "open_project_tree",
+    "project_tree",
+]
+
+
+def default_model_dir(project: str | Path) -> Path:
+    """Return where ``catmap train`` saves the model: ``<project>/models/current``."""
+    return Path(project) / "models" / "current"
+
+
+def default_rules_path(project: str | Path, feed_path: str | Path, name: str | None = None) -> Path:
+    """Return a feed's default rules file: ``<project>/rules/<feed name>.rules``.
+
+    Args:
+        project: the project folder.
+        feed_path: the feed file.
+        name: the feed's name (``--feed``; default: from the file name).
+    """
+    return Path(project) / "rules" / f"{feed_name(feed_path, name)}.rules"
+
+
+def project_tree(
+    project: str | Path,
+    *,
+    tree_file: str | Path | None = None,
+    tree_version: str | None = None,
+) -> CategoryTree:
+    """Return the tree a command works on (see :func:`open_project_tree`).
+
+    A project ``catmap init`` did not make falls back to its model's tree version (version 1
+    when there is no model yet).
+    """
+    fallback = "1"
+    if tree_file is None and not tree_version and load_settings(project) is None:
+        # Imported here: the model's modules (NumPy, SciPy, Numba) are only needed to read
+        # the manifest of a project without settings.
+        from catmap.classify.storage import read_manifest
+
+        try:
+            fallback = str(read_manifest(default_model_dir(project)).get("tree_version", "1"))
+        except ModelNotTrained:
+            pass
+    return open_project_tree(
+        project, tree_file=tree_file, tree_version=tree_version, fallback_version=fallback
+    )
 
 
 def open_project_tree(
@@ -71,9 +127,7 @@ def check_store_tree(store: Store, tree: CategoryTree) -> None:
         ModelTreeMismatch: the store's mappings are on another tree (named with its file and
             fingerprint).
     """
-    latest = next(
-        (run for run in reversed(store.runs()) if run.kind in ("onboard", "remap")), None
-    )
+    latest = next((run for run in reversed(store.runs()) if run.kind in ("onboard", "remap")), None)
     if latest is None or latest.kind != "onboard":
         return
     recorded = str(latest.params.get("tree_fingerprint") or "")

@@ -13,6 +13,7 @@ from collections.abc import Callable
 from pathlib import Path
 
 from catmap.errors import TreeVersionMismatch
+from catmap.jobs._project_tree import project_tree
 from catmap.jobs._remap_record import pending_remap
 from catmap.store import Store
 from catmap.tree.taxonomy import CategoryTree, load_default_tree
@@ -160,8 +161,6 @@ def project_store_tree(project: str | Path, store: Store, action: str) -> Catego
         TreeVersionMismatch: the store mixes tree versions.
     """
     check_one_version(store, action)
-    from catmap.jobs.onboard import project_tree  # onboarding imports this module
-
     own = project_tree(project)
     version = store_tree_version(store)
     if version is None or version == str(own.version):

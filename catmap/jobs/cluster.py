@@ -85,8 +85,8 @@ from catmap.feeds.partition import (
 from catmap.feeds.profiled import ProfiledFeed, open_profiled_feed
 from catmap.feeds.read import FeedInfo
 from catmap.feeds.writers import open_reject_writer
+from catmap.jobs._project_tree import default_model_dir
 from catmap.jobs.map import MapResult, project_mapper
-from catmap.jobs.onboard import default_model_dir
 from catmap.project import feed_names, feed_stem, subfolder
 from catmap.records import Product, Reject, SourceRecord
 from catmap.tree.taxonomy import load_default_tree, load_tree

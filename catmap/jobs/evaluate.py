@@ -72,7 +72,7 @@ def evaluate_and_report(
     """
     from catmap.evaluate.report_html import write_report
     from catmap.evaluate.run import evaluate_feed
-    from catmap.jobs.onboard import project_tree
+    from catmap.jobs._project_tree import project_tree
     from catmap.project import feed_stem
 
     tree = project_tree(project, tree_file=tree_file, tree_version=tree_version)

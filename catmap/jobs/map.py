@@ -9,12 +9,13 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
+from catmap import _collector
 from catmap.classify.mapping import Mapper, MapSummary, map_feed
 from catmap.classify.rules import RuleSet, load_rules
 from catmap.classify.storage import MANIFEST, load_model
 from catmap.errors import InputError
 from catmap.feeds.profiled import open_profiled_feed
-from catmap.jobs.onboard import default_model_dir, default_rules_path, project_tree
+from catmap.jobs._project_tree import default_model_dir, default_rules_path, project_tree
 from catmap.project import feed_name
 from catmap.tree.taxonomy import CategoryTree
 
@@ -41,14 +42,16 @@ def project_mapper(
     """Return the mapper of a project and its model folder.
 
     A model folder given must hold a model; without one, the project's model is used when
-    trained, else the tree's own keywords (cold start).
+    trained, else the tree's own keywords (cold start). The garbage collector pauses while the
+    model loads (see :mod:`catmap._collector`).
     """
     folder = model_dir if model_dir is not None else default_model_dir(project)
-    if model_dir is not None or (folder / MANIFEST).exists():
-        model, manifest = load_model(folder, tree)
-        consensus = float(manifest.get("consensus_weight", 0.0))
-        return Mapper(tree, model, consensus_weight=consensus), folder
-    return Mapper(tree, None), folder
+    with _collector.paused():
+        if model_dir is not None or (folder / MANIFEST).exists():
+            model, manifest = load_model(folder, tree)
+            consensus = float(manifest.get("consensus_weight", 0.0))
+            return Mapper(tree, model, consensus_weight=consensus), folder
+        return Mapper(tree, None), folder
 
 
 def map_project_feed(
@@ -86,9 +89,10 @@ def map_project_feed(
     Returns:
         The facts, and the fatal feed error if reading stopped early.
     """
-    tree = project_tree(project, tree_file=tree_file, tree_version=tree_version)
     name = feed_name(feed, feed_name_given)
-    mapper, model_folder = project_mapper(project, tree, model_dir)
+    with _collector.paused():  # start-up: the tree and the model, long-lived objects
+        tree = project_tree(project, tree_file=tree_file, tree_version=tree_version)
+        mapper, model_folder = project_mapper(project, tree, model_dir)
     if rules_file is None:
         default_rules = default_rules_path(project, feed, name)
         rules_file = default_rules if default_rules.exists() else None

@@ -50,10 +50,10 @@ from catmap.attributes._text import fold
 from catmap.attributes.brand import dictionary_in_use, normalize_brand
 from catmap.attributes.registry import CONFIRMED, REJECTED
 from catmap.classify.rules import RuleSet, load_rules
-from catmap.classify.storage import file_fingerprint, load_model, read_manifest
+from catmap.classify.storage import file_fingerprint, load_model
 from catmap.decide.queue import Candidate, expected_gain, plan_queue
 from catmap.decide.threshold import DEFAULT_DELTA, DEFAULT_MAX_ERROR, ThresholdChoice
-from catmap.errors import InputError, ModelNotTrained
+from catmap.errors import InputError
 from catmap.feeds.ingest import FATAL_FEED_ERRORS, Accounting
 from catmap.feeds.profiled import ProfiledFeed, open_profiled_feed
 from catmap.feeds.writers import open_reject_writer
@@ -80,10 +80,15 @@ from catmap.jobs._feed_mapper import (
     acceptance_score,
 )
 from catmap.jobs._gold import GoldCheck, check_against_gold
-from catmap.jobs._project_tree import check_store_tree, open_project_tree
+from catmap.jobs._project_tree import (
+    check_store_tree,
+    default_model_dir,
+    default_rules_path,
+    project_tree,
+)
 from catmap.jobs._remap_versions import check_onboarding, record_feed_versions
 from catmap.jobs.audit import raised_floor
-from catmap.project import feed_name, feed_names, load_settings, subfolder
+from catmap.project import feed_name, feed_names, subfolder
 from catmap.records import Attributes, Mapping, Product, Reject
 from catmap.store import MappedRow, Store, store_path
 from catmap.tree.taxonomy import CategoryTree
@@ -142,49 +147,9 @@ BRAND_SAMPLE = 20_000
 BRAND_CONFLICT_CONFIDENCE = 0.75
 
 
-def default_model_dir(project: str | Path) -> Path:
-    """Return where ``catmap train`` saves the model: ``<project>/models/current``."""
-    return Path(project) / "models" / "current"
-
-
-def default_rules_path(
-    project: str | Path, feed_path: str | Path, name: str | None = None
-) -> Path:
-    """Return a feed's default rules file: ``<project>/rules/<feed name>.rules``.
-
-    Args:
-        project: the project folder.
-        feed_path: the feed file.
-        name: the feed's name (``--feed``; default: from the file name).
-    """
-    return Path(project) / "rules" / f"{feed_name(feed_path, name)}.rules"
-
-
 def rejects_path(project: str | Path, feed_name: str) -> Path:
     """Return where onboarding writes a feed's rejects: ``<project>/rejects/<feed>.jsonl``."""
     return Path(project) / "rejects" / f"{feed_name}.jsonl"
-
-
-def project_tree(
-    project: str | Path,
-    *,
-    tree_file: str | Path | None = None,
-    tree_version: str | None = None,
-) -> CategoryTree:
-    """Return the tree a command works on (see :func:`catmap.project.open_project_tree`).
-
-    A project ``catmap init`` did not make falls back to its model's tree version (version 1
-    when there is no model yet).
-    """
-    fallback = "1"
-    if tree_file is None and not tree_version and load_settings(project) is None:
-        try:
-            fallback = str(read_manifest(default_model_dir(project)).get("tree_version", "1"))
-        except ModelNotTrained:
-            pass
-    return open_project_tree(
-        project, tree_file=tree_file, tree_version=tree_version, fallback_version=fallback
-    )
 
 
 # --------------------------------------------------------------------------------------------

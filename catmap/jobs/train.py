@@ -8,7 +8,8 @@ from pathlib import Path
 from typing import Any
 
 from catmap.errors import InputError, ModelNotTrained
-from catmap.jobs.onboard import default_model_dir, project_review_examples, project_tree
+from catmap.jobs._project_tree import default_model_dir, project_tree
+from catmap.jobs.onboard import project_review_examples
 from catmap.project import load_settings, settings_path, subfolder
 from catmap.records import Product
 from catmap.tree.taxonomy import CategoryTree, default_tree_path

@@ -13,8 +13,9 @@ version's nodes to the next one's.
 
 from __future__ import annotations
 
-from catmap.tree.changelog import Change, ChangeLog, apply_changes, load_change_log
-from catmap.tree.diff import Correspondence, Crosswalk, diff_trees, load_crosswalk, save_crosswalk
+import importlib
+from typing import TYPE_CHECKING, Any
+
 from catmap.tree.search import SearchMatch, fold_text
 from catmap.tree.taxonomy import (
     CategoryTree,
@@ -26,6 +27,30 @@ from catmap.tree.taxonomy import (
     summarize_tree,
 )
 from catmap.tree.treefile import Node, parse_audience
+
+if TYPE_CHECKING:
+    from catmap.tree.changelog import Change, ChangeLog, apply_changes, load_change_log
+    from catmap.tree.diff import (
+        Correspondence,
+        Crosswalk,
+        diff_trees,
+        load_crosswalk,
+        save_crosswalk,
+    )
+
+# Loaded on first use: a command that only reads the tree (``catmap map``) does not pay for the
+# change log's and the diff's imports.
+_LAZY = {
+    "Change": "changelog",
+    "ChangeLog": "changelog",
+    "apply_changes": "changelog",
+    "load_change_log": "changelog",
+    "Correspondence": "diff",
+    "Crosswalk": "diff",
+    "diff_trees": "diff",
+    "load_crosswalk": "diff",
+    "save_crosswalk": "diff",
+}
 
 __all__ = [
     "CategoryTree",
@@ -49,3 +74,12 @@ __all__ = [
     "save_crosswalk",
     "summarize_tree",
 ]
+
+
+def __getattr__(name: str) -> Any:
+    module = _LAZY.get(name)
+    if module is None:
+        raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
+    value = getattr(importlib.import_module(f"{__name__}.{module}"), name)
+    globals()[name] = value
+    return value
