@@ -526,11 +526,72 @@ def index_words(
     numbers = np.empty(bound, dtype=np.int64)
     new_starts = np.empty(bound, dtype=np.int64)
     new_ends = np.empty(bound, dtype=np.int64)
+    # (position, text, words so far, words in the table): the cutting stops where a new word
+    # needs more room, the arrays grow here, and it goes on. The arrays are fixed within a
+    # run, which keeps the look-up loop as fast as a plain one.
+    state = np.array([0, 0, 0, n_known], dtype=np.int64)
+    while True:
+        done = _index_run(
+            codes,
+            is_space,
+            slots,
+            hashes,
+            store_codes,
+            store_offsets,
+            n_known,
+            state,
+            indptr,
+            numbers,
+            new_starts,
+            new_ends,
+        )
+        if done:
+            break
+        total = state[3]
+        if total + 2 > len(store_offsets):
+            store_offsets = _grown(store_offsets, 2 * (total + 2))
+            hashes = _grown(hashes, 2 * (total + 2))
+        if store_offsets[total] + n - state[0] > len(store_codes):
+            store_codes = _grown(store_codes, 2 * len(store_codes) + n - state[0])
+        if 2 * (total + 1) > len(slots):
+            slots = _rehashed(hashes, total, 2 * len(slots))
+    total, m = state[3], state[2]
+    for t in range(state[1] + 1, n_texts + 1):
+        indptr[t] = m
+    added = total - n_known
+    return (
+        indptr,
+        numbers[:m].copy(),
+        slots,
+        hashes,
+        store_codes,
+        store_offsets,
+        total,
+        new_starts[:added].copy(),
+        new_ends[:added].copy(),
+    )
+
+
+@njit(cache=True, nogil=True)
+def _index_run(
+    codes: Array,
+    is_space: Array,
+    slots: Array,
+    hashes: Array,
+    store_codes: Array,
+    store_offsets: Array,
+    n_known: int,
+    state: Array,
+    indptr: Array,
+    numbers: Array,
+    new_starts: Array,
+    new_ends: Array,
+) -> bool:
+    """:func:`index_words` from ``state`` on; False when a new word needs more room first."""
+    n = len(codes)
     n_space = len(is_space)
-    total = n_known
-    text = 0
-    m = 0
-    p = 0
+    mask = np.uint64(len(slots) - 1)
+    p, text, m, total = state[0], state[1], state[2], state[3]
     while p < n:
         code = codes[p]
         if code == 0:
@@ -551,8 +612,7 @@ def index_words(
             p += 1
         length = p - start
         number = -1
-        mask = len(slots) - 1
-        slot = np.int64(h & np.uint64(mask))
+        slot = np.int64(h & mask)
         while slots[slot] != -1:
             entry = slots[slot]
             begin = store_offsets[entry]
@@ -565,41 +625,29 @@ def index_words(
                 if same:
                     number = entry
                     break
-            slot = (slot + 1) & mask
+            slot = (slot + 1) & (len(slots) - 1)
         if number < 0:
-            number = total
-            if total + 2 > len(store_offsets):
-                store_offsets = _grown(store_offsets, 2 * (total + 2))
-                hashes = _grown(hashes, 2 * (total + 2))
             end = store_offsets[total]
-            if end + length > len(store_codes):
-                store_codes = _grown(store_codes, 2 * (end + length))
-            store_codes[end : end + length] = codes[start:p]
+            if (
+                total + 2 > len(store_offsets)
+                or end + length > len(store_codes)
+                or 2 * (total + 1) > len(slots)
+            ):
+                state[0], state[1], state[2], state[3] = start, text, m, total
+                return False
+            number = total
+            for q in range(length):
+                store_codes[end + q] = codes[start + q]
             store_offsets[total + 1] = end + length
             hashes[total] = h
+            slots[slot] = number
             new_starts[total - n_known] = start
             new_ends[total - n_known] = p
             total += 1
-            if 2 * total > len(slots):
-                slots = _rehashed(hashes, total, 2 * len(slots))
-            else:
-                slots[slot] = number
         numbers[m] = number
         m += 1
-    for t in range(text + 1, n_texts + 1):
-        indptr[t] = m
-    added = total - n_known
-    return (
-        indptr,
-        numbers[:m].copy(),
-        slots,
-        hashes,
-        store_codes,
-        store_offsets,
-        total,
-        new_starts[:added].copy(),
-        new_ends[:added].copy(),
-    )
+    state[0], state[1], state[2], state[3] = p, text, m, total
+    return True
 
 
 @njit(cache=True, nogil=True)
