@@ -84,7 +84,12 @@ class _Split:
         self.offsets = offsets
 
     def code_points(self, numbers: Array) -> tuple[Array, Array]:
-        """The words ``numbers`` as code points end to end (uint32) and each word's offsets."""
+        """The words ``numbers`` (increasing) as code points end to end and each one's offsets."""
+        first, last = int(numbers[0]), int(numbers[-1])
+        if last - first + 1 == len(numbers):
+            # Consecutive numbers (a batch's new words): their code points lie end to end.
+            offsets = self.offsets[first : last + 2]
+            return self.codes[offsets[0] : offsets[-1]], offsets - offsets[0]
         return gather_strings(self.codes, self.offsets, numbers)
 
 
@@ -338,8 +343,9 @@ class _PerWordCache:
 class CountRows:
     """The cached words' n-gram count rows, CSR arrays grown in place, and each entry's idf.
 
-    Appending a batch's new words copies only them (the arrays double when full), and the idf
-    of each entry's n-gram is looked up once, when the entry is added.
+    Appending a batch's new words copies only them (the arrays double when full; the first
+    rows are taken as they are), and the idf of each entry's n-gram is looked up once, on the
+    first read of :attr:`entry_idf` after the entry was added.
 
     Attributes:
         indptr: row i is entries ``indptr[i]:indptr[i + 1]`` (int64).
@@ -349,29 +355,34 @@ class CountRows:
 
     def __init__(self, idf: Array) -> None:
         self.idf = idf
-        self._indptr = np.zeros(1024, dtype=np.int64)
+        self._indptr = np.zeros(1, dtype=np.int64)
         self._indices = np.zeros(0, dtype=np.int32)
         self._data = np.zeros(0, dtype=np.float32)
         self._entry_idf = np.zeros(0, dtype=np.float64)
+        self._with_idf = 0  # entries whose idf is filled in
         self.n_rows = 0
         self.nnz = 0
 
     def append(self, data: Array, indices: Array, indptr: Array) -> None:
-        """Append CSR rows (``indptr`` starting at 0)."""
+        """Append CSR rows (``indptr`` starting at 0); the arrays may be kept, not copied."""
         rows, nnz = len(indptr) - 1, len(indices)
+        if self.n_rows == 0:
+            self._indptr = np.asarray(indptr, dtype=np.int64)
+            self._indices = np.asarray(indices, dtype=np.int32)
+            self._data = np.asarray(data, dtype=np.float32)
+            self.n_rows, self.nnz = rows, nnz
+            return
         if self.n_rows + rows + 1 > len(self._indptr):
             self._indptr = _extended(
                 self._indptr, max(2 * len(self._indptr), self.n_rows + rows + 1)
             )
         if self.nnz + nnz > len(self._indices):
-            size = max(2 * len(self._indices), self.nnz + nnz, 4096)
+            size = max(2 * len(self._indices), self.nnz + nnz)
             self._indices = _extended(self._indices, size)
             self._data = _extended(self._data, size)
-            self._entry_idf = _extended(self._entry_idf, size)
         self._indptr[self.n_rows + 1 : self.n_rows + rows + 1] = self.nnz + indptr[1:]
         self._indices[self.nnz : self.nnz + nnz] = indices
         self._data[self.nnz : self.nnz + nnz] = data
-        self._entry_idf[self.nnz : self.nnz + nnz] = self.idf[indices]
         self.n_rows += rows
         self.nnz += nnz
 
@@ -389,6 +400,14 @@ class CountRows:
 
     @property
     def entry_idf(self) -> Array:
+        if self._with_idf < self.nnz:
+            if len(self._entry_idf) < self.nnz:
+                self._entry_idf = _extended(
+                    self._entry_idf, max(len(self._indices), 2 * len(self._entry_idf))
+                )
+            done = self._with_idf
+            self._entry_idf[done : self.nnz] = self.idf[self._indices[done : self.nnz]]
+            self._with_idf = self.nnz
         return self._entry_idf[: self.nnz]
 
 

@@ -426,18 +426,15 @@ class CategoryModel:
                 for matrix, start in features:
                     x = (matrix.indptr, matrix.indices, matrix.data)
                     score_rows(*x, rows, *part.coef, scores, start)
-            linear = np.zeros((len(rows), len(part.columns)), dtype=np.float64)
-            linear[:, part.linear_pos] = softmax(scores, self.temperatures_[1], in_place=True)
-            linear *= p_group[rows, g][:, None]
+            share = p_group[rows, g][:, None]
+            probabilities = softmax(scores, self.temperatures_[1], in_place=True)
+            linear = _placed(probabilities, part.linear_pos, len(part.columns), share)
             keyword = None
             if query is not None and len(part.keyword_pos):
                 sims = np.zeros((len(rows), len(part.keyword_pos)))
                 score_rows(query.indptr, query.indices, query.data, rows, *part.documents_t, sims)
-                keyword = np.zeros_like(linear)
-                keyword[:, part.keyword_pos] = softmax(
-                    sims, self.keyword_blend_temperature_, in_place=True
-                )
-                keyword *= p_group[rows, g][:, None]
+                similar = softmax(sims, self.keyword_blend_temperature_, in_place=True)
+                keyword = _placed(similar, part.keyword_pos, len(part.columns), share)
             blocks.append(_Block(g, rows, linear, keyword))
         return _Parts(n, p_group, selected, blocks)
 
@@ -838,6 +835,22 @@ def _dense_pays(weights: sp.csr_matrix) -> bool:
     used = int(np.count_nonzero(np.diff(weights.indptr)))
     dense_bytes = used * weights.shape[1] * 4
     return dense_bytes <= min(DENSE_MEMORY_FACTOR * 8 * weights.nnz, DENSE_MAX_BYTES)
+
+
+def _placed(values: Array, positions: Array, width: int, share: Array) -> Array:
+    """``values`` put at column ``positions`` of a (rows, width) zero array, times ``share``.
+
+    When the positions are every column in order, ``values`` itself is used (and changed); a
+    share of exactly 1 (a single department) is not multiplied by.
+    """
+    if len(positions) == width and bool((positions == np.arange(width)).all()):
+        placed = values
+    else:
+        placed = np.zeros((len(values), width), dtype=np.float64)
+        placed[:, positions] = values
+    if not bool((share == 1.0).all()):
+        placed *= share
+    return placed
 
 
 def _padded(parts: _Parts, layout: _Layout) -> tuple[Array, Array, Array]:
