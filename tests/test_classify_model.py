@@ -233,3 +233,19 @@ def test_a_flat_dense_model_scores_title_ngrams_word_by_word_as_the_feature_matr
         for got_idx, got_vals in got:
             assert np.array_equal(got_idx[:, 0], idx[:, 0])
             assert np.allclose(got_vals, vals, atol=1e-5)
+
+
+@pytest.mark.parametrize("positions", [[0, 1, 2, 3], [3, 0, 2], [1, 2]])
+@pytest.mark.parametrize("share", [1.0, 0.25])
+def test_a_blocks_values_are_placed_in_their_columns_times_the_share(
+    positions: list[int], share: float
+) -> None:
+    from catmap.classify.model import _placed
+
+    values = np.random.default_rng(0).random((5, len(positions)))
+    shares = np.full((5, 1), share)
+    expected = np.zeros((5, 4))
+    expected[:, positions] = values  # reference: NumPy's fancy assignment
+    expected = expected * shares
+    got = _placed(values.copy(), np.array(positions), 4, shares)
+    assert got.shape == (5, 4) and np.array_equal(got, expected)
