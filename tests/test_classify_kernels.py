@@ -196,6 +196,7 @@ def test_packed_ngram_rows_count_the_analyzers_known_ngrams(low: int, high: int)
     features = np.random.default_rng(1).permutation(len(terms)).astype(np.int64)
     codes, offsets = _code_points(terms)
     table = ngram_table(codes, offsets, features, low)
+    assert 2 * int((table[:, 0] != 0).sum()) <= len(table)  # at most half full, grown if need be
     queries = [w for w in words if w]  # words as str.split() gives them: never empty
     codes, offsets = _code_points(queries)
     data, indices, indptr = char_wb_rows(codes, offsets, low, high, table)

@@ -999,13 +999,23 @@ def ngram_table(codes: Array, offsets: Array, features: Array, low: int) -> Arra
         and feature, a key at the first free slot from its hash on (linear probing). A key's
         slot and feature sit side by side: a look-up reads one cache line.
     """
-    bound = 0
-    for i in range(len(offsets) - 1):
-        bound += max(1, offsets[i + 1] - offsets[i] - low + 1)
+    # Sized for the terms: most prefixes are terms too (a larger table is slower to read).
+    # Should the prefix-only entries fill it past half, it is made again twice the size.
     size = 16
-    while size < 2 * bound:
+    while size < 2 * (len(offsets) - 1):
         size *= 2
+    while True:
+        table = _ngram_entries(codes, offsets, features, low, size)
+        if len(table):
+            return table
+        size *= 2
+
+
+@njit(cache=True, nogil=True)
+def _ngram_entries(codes: Array, offsets: Array, features: Array, low: int, size: int) -> Array:
+    """:func:`ngram_table` of ``size`` slots, or an empty table when over half would be full."""
     table = np.zeros((size, 3), dtype=np.int64)
+    n = 0
     for i in range(len(offsets) - 1):
         length = offsets[i + 1] - offsets[i]
         key_low = np.int64(0)
@@ -1024,6 +1034,9 @@ def ngram_table(codes: Array, offsets: Array, features: Array, low: int) -> Arra
                 if feature >= 0:
                     table[found, 2] = feature
             else:
+                n += 1
+                if 2 * n > size:
+                    return np.zeros((0, 3), dtype=np.int64)
                 slot = -found - 1
                 table[slot, 0], table[slot, 1], table[slot, 2] = key_low, key_high, feature
     return table
