@@ -395,10 +395,14 @@ class CategoryModel:
         skip = frozenset({_WORDS_BLOCK}) if by_words else frozenset()
         features = self.featurizer_.transform_blocks(texts, skip=skip)
         n = len(texts)
-        group = np.repeat(self.group_intercept_[None, :].astype(np.float64), n, axis=0)
-        for matrix, start in features:
-            group += matrix @ layout.group_coef[start : start + matrix.shape[1]]
-        p_group = softmax(group, self.temperatures_[0], in_place=True)
+        if len(self.groups_) == 1:
+            # One group (a flat model): a softmax over one finite score is exactly 1.
+            p_group = np.ones((n, 1))
+        else:
+            group = np.repeat(self.group_intercept_[None, :].astype(np.float64), n, axis=0)
+            for matrix, start in features:
+                group += matrix @ layout.group_coef[start : start + matrix.shape[1]]
+            p_group = softmax(group, self.temperatures_[0], in_place=True)
         selected = p_group >= self.department_floor
         selected[np.arange(n), p_group.argmax(axis=1)] = True
         query = self.keywords_.query(texts) if keywords else None
