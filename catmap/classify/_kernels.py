@@ -999,10 +999,12 @@ def ngram_table(codes: Array, offsets: Array, features: Array, low: int) -> Arra
         and feature, a key at the first free slot from its hash on (linear probing). A key's
         slot and feature sit side by side: a look-up reads one cache line.
     """
-    # Sized for the terms: most prefixes are terms too (a larger table is slower to read).
-    # Should the prefix-only entries fill it past half, it is made again twice the size.
+    # Sized for the terms: most prefixes are terms too (a larger table is slower to read);
+    # a small one (up to 256 KiB at a quarter full) has room for short probes. Should the
+    # prefix-only entries fill it past half, it is made again twice the size.
+    terms = len(offsets) - 1
     size = 16
-    while size < 2 * (len(offsets) - 1):
+    while size < (4 * terms if 4 * terms * 24 <= 1 << 18 else 2 * terms):
         size *= 2
     while True:
         table = _ngram_entries(codes, offsets, features, low, size)

@@ -397,7 +397,7 @@ class CategoryModel:
         n = len(texts)
         if len(self.groups_) == 1:
             # One group (a flat model): a softmax over one finite score is exactly 1.
-            p_group = np.ones((n, 1))
+            p_group: Array = np.ones((n, 1))
         else:
             group = np.repeat(self.group_intercept_[None, :].astype(np.float64), n, axis=0)
             for matrix, start in features:
