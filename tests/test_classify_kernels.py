@@ -20,6 +20,7 @@ from catmap.classify._kernels import (
     hash_table,
     idf_l2_rows,
     index_words,
+    mix_keys,
     ngram_table,
     pack_rows,
     score_columns_dense,
@@ -28,6 +29,7 @@ from catmap.classify._kernels import (
     score_words_dense,
     string_hashes,
     sum_rows,
+    token_ngram_counts,
     word_tokens,
 )
 from catmap.classify._wordcache import (
@@ -343,3 +345,54 @@ def test_new_words_scores_equal_scoring_their_rows_by_column_bit_for_bit() -> No
     assert np.allclose(scores[need], (counts @ w[3:]).toarray(), rtol=1e-5, atol=1e-6)
     assert ready[need].all() and ready.sum() == len(need)
     assert (scores[1] == 9.0).all()  # other words untouched
+
+
+@pytest.mark.parametrize("bigrams", [True, False])
+def test_token_ngram_counts_count_as_a_dictionary_in_order_of_first_appearance(
+    bigrams: bool,
+) -> None:
+    rng = np.random.default_rng(30)
+    known = 12  # tokens 0-11 are the vocabulary's; 12 and past are unknown
+    unigram = np.where(rng.random(known) < 0.7, rng.permutation(known), -1).astype(np.int64)
+    pairs = {(int(a), int(b)) for a, b in rng.integers(0, known, size=(40, 2))}
+    pair_list = sorted(pairs)
+    pair_keys = np.array([(a << 32) | b for a, b in pair_list], dtype=np.int64)
+    pair_features = np.arange(known, known + len(pair_list), dtype=np.int64)
+    # words of one to three tokens; texts of zero to six words, words repeated
+    lengths = rng.integers(0, 4, size=30)
+    word_start = np.concatenate([[0], np.cumsum(lengths)[:-1]]).astype(np.int64)
+    tokens = rng.integers(0, known + 3, size=int(lengths.sum())).astype(np.int64)
+    text_lengths = rng.integers(0, 7, size=25)
+    groups = np.concatenate([[0], np.cumsum(text_lengths)]).astype(np.int64)
+    words = rng.integers(0, 30, size=int(text_lengths.sum())).astype(np.int64)
+    data, indices, indptr = token_ngram_counts(
+        groups,
+        words,
+        word_start,
+        lengths.astype(np.int64),
+        tokens,
+        unigram,
+        bigrams,
+        hash_table(mix_keys(pair_keys)),
+        pair_keys,
+        pair_features,
+    )
+    feature_of_pair = dict(zip(pair_list, pair_features.tolist(), strict=True))
+    for i in range(len(text_lengths)):
+        # reference: the text's token sequence counted with a dict (insertion order)
+        sequence = [
+            int(t)
+            for w in words[groups[i] : groups[i + 1]]
+            for t in tokens[word_start[w] : word_start[w] + lengths[w]]
+        ]
+        expected: dict[int, float] = {}
+        for position, token in enumerate(sequence):
+            found = [int(unigram[token])] if token < known else [-1]
+            if bigrams and position:
+                found.append(feature_of_pair.get((sequence[position - 1], token), -1))
+            for feature in found:
+                if feature >= 0:
+                    expected[feature] = expected.get(feature, 0.0) + 1.0
+        row = slice(indptr[i], indptr[i + 1])
+        assert indices[row].tolist() == list(expected)
+        assert data[row].tolist() == list(expected.values())

@@ -909,7 +909,6 @@ def token_ngram_counts(
     slots: Array,
     pair_keys: Array,
     pair_features: Array,
-    n_columns: int,
 ) -> tuple[Array, Array, Array]:
     """Count each text's known unigrams (and bigrams) from its words' cached token numbers.
 
@@ -918,23 +917,40 @@ def token_ngram_counts(
         words: the number of each word of each text, in order.
         word_start, word_length: where each word's token numbers lie in ``tokens``.
         tokens: token numbers, word after word.
-        unigram: the feature of each token number (-1: not in the vocabulary).
+        unigram: the feature of each token number (-1: not in the vocabulary); token numbers
+            past its end are in no vocabulary term.
         bigrams: count bigrams too (two tokens in a row in the same text).
         slots: :func:`hash_table` of ``mix_keys(pair_keys)``.
         pair_keys: ``first << 32 | second`` token numbers of each vocabulary bigram.
         pair_features: the feature of each vocabulary bigram.
-        n_columns: the vocabulary size.
 
     Returns:
-        (data, indices, indptr) of the (texts, n_columns) float32 count matrix (SciPy's order),
-        no duplicate entries.
+        (data, indices, indptr) of the (texts, vocabulary) float32 count matrix (SciPy's order:
+        a row's columns in order of first appearance), no duplicate entries.
     """
     n = len(groups) - 1
     bound = 0
-    for j in range(len(words)):
-        bound += 2 * word_length[words[j]]
-    out_indptr, out_indices, out_data, total, last_row = _buffers(n, bound, n_columns)
+    longest = 0
+    for i in range(n):
+        size = 0
+        for j in range(groups[i], groups[i + 1]):
+            size += 2 * word_length[words[j]]
+        bound += size
+        longest = max(longest, size)
+    out_indptr = np.zeros(n + 1, dtype=np.int64)
+    out_indices = np.empty(bound, dtype=np.int32)
+    out_data = np.empty(bound, dtype=np.float32)
+    # A text's counts in a small hash table (in the fastest cache), not in arrays as long as
+    # the vocabulary read at random; its features listed in order of first appearance.
+    size = 16
+    while size < 2 * longest:
+        size *= 2
+    slot_feature = np.full(size, -1, dtype=np.int64)
+    slot_entry = np.empty(size, dtype=np.int64)
+    listed = np.empty(max(longest, 1), dtype=np.int64)
+    table_mask = size - 1
     mask = np.uint64(len(slots) - 1)
+    known = len(unigram)  # a vocabulary bigram is made of two tokens of the vocabulary
     nnz = 0
     for i in range(n):
         start = nnz
@@ -946,9 +962,9 @@ def token_ngram_counts(
                 for step in range(2):
                     feature = -1
                     if step == 0:
-                        if token < len(unigram):
+                        if token < known:
                             feature = unigram[token]
-                    elif bigrams and previous >= 0:
+                    elif bigrams and 0 <= previous < known and token < known:
                         key = (previous << 32) | token
                         slot = np.int64(_mix(key) & mask)
                         while slots[slot] != -1:
@@ -957,12 +973,20 @@ def token_ngram_counts(
                                 break
                             slot = (slot + 1) & (len(slots) - 1)
                     if feature >= 0:
-                        if last_row[feature] != i:
-                            last_row[feature], total[feature], out_indices[nnz] = i, 0.0, feature
+                        here = (feature * 40503) & table_mask
+                        while slot_feature[here] != -1 and slot_feature[here] != feature:
+                            here = (here + 1) & table_mask
+                        if slot_feature[here] == -1:
+                            slot_feature[here] = feature
+                            slot_entry[here] = nnz
+                            listed[nnz - start] = here
+                            out_indices[nnz] = feature
+                            out_data[nnz] = 0.0
                             nnz += 1
-                        total[feature] += 1.0
+                        out_data[slot_entry[here]] += 1.0
                 previous = token
-        _close_row(start, nnz, total, out_indices, out_data)
+        for q in range(nnz - start):  # the table emptied for the next text
+            slot_feature[listed[q]] = -1
         out_indptr[i + 1] = nnz
     return out_data[:nnz].copy(), out_indices[:nnz].copy(), out_indptr
 

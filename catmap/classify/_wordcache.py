@@ -650,7 +650,6 @@ class WordNgramTfidf(_PerWordCache):
             self._pair_slots,
             self._pair_keys,
             self._pair_features,
-            len(self._vocabulary),
         )
         return sp.csr_matrix(counted, shape=(len(texts), len(self._vocabulary)))
 
