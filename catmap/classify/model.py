@@ -513,18 +513,22 @@ class CategoryModel:
         """Blend, apply the final temperature; return per-block values, row sums, rest values.
 
         The final temperature acts on log-probabilities: ``p ∝ max(p, 1e-12) ** (1 / T)``.
+        The blocks' arrays are used up: the values are computed in them, in place (the same
+        arithmetic as with new arrays).
         """
         layout = self._layout()
         inv_t = 1.0 / t_blend
         total = np.zeros(parts.n, dtype=np.float64)
         values = []
         for block in parts.blocks:
-            mix = (
-                block.linear
-                if block.keyword is None or w == 0
-                else ((1.0 - w) * block.linear + w * block.keyword)
-            )
-            powered = np.maximum(mix, _FLOOR) ** inv_t
+            powered = block.linear
+            if block.keyword is not None and w != 0:
+                powered *= 1.0 - w
+                keyword = block.keyword
+                keyword *= w
+                powered += keyword
+            np.maximum(powered, _FLOOR, out=powered)
+            powered **= inv_t
             total[block.rows] += powered.sum(axis=1)
             values.append(powered)
         # Unscored departments: their classes share the department's probability evenly.
