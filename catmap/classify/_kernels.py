@@ -2,13 +2,19 @@
 
 Mapping a chunk of products does a few kinds of work again and again:
 
+* cutting texts into words and numbering them, new words added on the way
+  (:func:`index_words`), and cutting new words into tokens (:func:`word_tokens`);
 * cutting new title words into character n-grams and finding them in the vocabulary
-  (:func:`char_wb_features`, with :func:`string_hashes` and :func:`hash_table`);
+  (:func:`char_wb_rows` on an :func:`ngram_table` of packed keys; :func:`char_wb_features`
+  with :func:`string_hashes` and :func:`hash_table` for longer n-grams);
+* counting each text's word unigrams and bigrams (:func:`token_ngram_counts`);
 * summing the cached n-gram rows of each title's words (:func:`sum_rows`), then the idf and the
   row norm (:func:`idf_l2_rows`);
 * adding two normalised query vectors, one of them shared by many rows (:func:`add_rows`);
 * scoring a subset of rows against one department's weights, straight into a dense block
-  (:func:`score_rows`, on weights laid out by :func:`pack_rows`).
+  (:func:`score_rows`, on weights laid out by :func:`pack_rows`), or a flat model's title
+  n-grams word by word (:func:`score_new_words` once per new word, then
+  :func:`score_words_dense`).
 
 In Python, the look-ups make one string per n-gram; SciPy does the sums and products as general
 sparse × sparse products, in two passes over the data (one to size the result, one to fill it),
@@ -16,8 +22,9 @@ with a sparse result converted to dense afterwards and a row selection copied be
 loops here do one pass each, into the layout the caller needs. They are compiled with Numba on
 first use and cached on disk (``cache=True``), and release the GIL (``nogil=True``).
 
-Each function is checked against the SciPy expression it replaces in
-``tests/test_classify_kernels.py``.
+Each function is checked in ``tests/test_classify_kernels.py`` against the SciPy expression it
+replaces or the plain Python it stands for (the analyzer's n-grams, ``str.split``, the token
+pattern, a dict).
 """
 
 from __future__ import annotations

@@ -8,11 +8,13 @@ the same few thousand words across millions of products: analysing each distinct
 summing the cached count rows per text gives exactly the fitted vectorizer's output — the same
 counts, the same sublinear tf, idf and L2 norm — for a fraction of the time the per-text
 analyzer takes. A new word's n-grams are looked up in a hash table of the vocabulary by compiled
-code (each hit confirmed character by character), without making a Python string per n-gram.
+code (keys of packed characters, or hits confirmed character by character), without making a
+Python string per n-gram.
 
-Word unigrams and bigrams work the same way: each distinct word is cut into tokens once and
-cached as token numbers; a batch's unigrams and bigrams are then looked up with NumPy, with the
-same tokens, n-grams and weighting as the fitted vectorizer.
+Word unigrams and bigrams work the same way: each distinct word is cut into tokens once (by
+compiled code for the standard token patterns) and cached as token numbers; a batch's unigrams
+and bigrams are then counted by compiled code, with the same tokens, n-grams and weighting as the
+fitted vectorizer.
 """
 
 from __future__ import annotations
