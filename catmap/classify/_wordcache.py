@@ -511,8 +511,8 @@ class WordNgramTfidf(_PerWordCache):
 
     For unigrams and bigrams (the ranges catmap uses), every distinct whitespace-separated word
     is cut into tokens once and cached as token numbers; a text's unigrams and bigrams are then
-    looked up for the whole batch with NumPy (a bigram is a pair of token numbers, found by a
-    binary search among the vocabulary's pairs). The token pattern never matches whitespace, so
+    counted for the whole batch by compiled code (a bigram is a pair of token numbers, found in a
+    hash table of the vocabulary's pairs). The token pattern never matches whitespace, so
     cutting word by word gives the same tokens as cutting the whole text. Other n-gram ranges
     take the plain path (tokens and n-grams per text).
 
