@@ -37,3 +37,19 @@ def test_softmax_rows_sum_to_one() -> None:
     p = softmax(np.array([[1.0, 2.0, 3.0], [1000.0, 0.0, -1000.0]]), 0.5)
     assert np.allclose(p.sum(axis=1), 1.0)
     assert p[1, 0] == pytest.approx(1.0)
+
+
+def test_softmax_in_place_gives_the_same_bits_and_reuses_the_array() -> None:
+    scores = np.random.default_rng(3).normal(size=(20, 6)) * 5
+    scores[2, 1] = -np.inf
+    expected = softmax(scores.copy(), 0.7)
+    own = scores.copy()
+    got = softmax(own, 0.7, in_place=True)
+    assert got is own and np.array_equal(got, expected)
+    # reference: the textbook formula exp(s / T) / sum exp(s / T)
+    plain = np.exp(scores / 0.7) / np.exp(scores / 0.7).sum(axis=1, keepdims=True)
+    assert np.allclose(got, plain)
+    # other dtypes are not overwritten
+    single = scores.astype(np.float32)
+    softmax(single, 0.7, in_place=True)
+    assert np.array_equal(single, scores.astype(np.float32))

@@ -222,3 +222,50 @@ def test_a_cache_sent_to_another_process_starts_empty_and_stays_exact() -> None:
     with patch.object(_wordcache, "_WORDS", other), patch.object(_wordcache, "_RECENT_SPLITS", []):
         # reference: scikit-learn's own TfidfVectorizer.transform
         assert np.allclose(copy.transform(QUERIES).toarray(), expected, atol=1e-6)
+
+
+def test_word_characters_are_what_the_pattern_matches() -> None:
+    import re
+
+    table = _wordcache._word_characters()
+    word = re.compile(r"(?u)\w")
+    # reference: Python's own regular expression, on every code point of the table
+    assert [c for c in range(len(table)) if table[c]] == [
+        c for c in range(len(table)) if word.fullmatch(chr(c))
+    ]
+
+
+@pytest.mark.parametrize("pattern", [r"(?u)\b\w+\b", r"(?u)\b\w\w+\b"])
+def test_word_ngrams_of_words_beyond_the_character_table_equal_the_vectorizer(
+    pattern: str,
+) -> None:
+    train = ["\U0001f525fire sale", "fire\U00020000 pit", "ab c d", "deux\u3042mots ab"]
+    queries = ["\U0001f525fire ab c", "sale fire\U00020000 pit ab", "deux\u3042mots c d ab"]
+    vectorizer = TfidfVectorizer(ngram_range=(1, 2), token_pattern=pattern, dtype=np.float32).fit(
+        train
+    )
+    fast = WordNgramTfidf(vectorizer)
+    # reference: scikit-learn's own TfidfVectorizer.transform
+    assert np.array_equal(
+        fast.transform(queries).toarray(), vectorizer.transform(queries).toarray()
+    )
+
+
+def test_count_rows_grow_as_the_stacked_rows() -> None:
+    import scipy.sparse as sp
+
+    idf = np.linspace(1.0, 3.0, 50)
+    rows = _wordcache.CountRows(idf)
+    parts = [
+        sp.random(n, 50, density=0.2, format="csr", dtype=np.float32, rng=n)
+        for n in (3, 0, 1500, 7)
+    ]
+    for part in parts:
+        rows.append(part.data, part.indices, part.indptr)
+    stacked = sp.vstack(parts, format="csr")
+    # reference: SciPy's vstack of the same rows
+    assert rows.n_rows == stacked.shape[0]
+    assert np.array_equal(rows.indptr, stacked.indptr)
+    assert np.array_equal(rows.indices, stacked.indices)
+    assert np.array_equal(rows.data, stacked.data)
+    assert np.array_equal(rows.entry_idf, idf[stacked.indices])

@@ -14,15 +14,30 @@ from sklearn.preprocessing import normalize
 
 from catmap.classify._kernels import (
     add_rows,
+    char_wb_rows,
     dense_rows,
+    gather_strings,
+    hash_table,
     idf_l2_rows,
+    index_words,
+    mix_keys,
+    ngram_table,
     pack_rows,
     score_columns_dense,
+    score_new_words,
     score_rows,
     score_words_dense,
+    string_hashes,
     sum_rows,
+    token_ngram_counts,
+    word_tokens,
 )
-from catmap.classify._wordcache import WordCachedTfidf
+from catmap.classify._wordcache import (
+    _IS_SPACE,
+    WordCachedTfidf,
+    _code_points,
+    _word_characters,
+)
 
 
 def _random_csr(rows: int, columns: int, density: float, seed: int) -> sp.csr_matrix:
@@ -133,16 +148,251 @@ def test_scoring_by_words_equals_scoring_the_tfidf_matrix(sublinear: bool) -> No
     row_of, block = dense_rows(w)
     out_row = np.array([0, 1, 2, 3, -1], dtype=np.int64)  # the last text is not scored
     out = np.zeros((4, 6), dtype=np.float32)
-    scores = np.zeros((rows.shape[0], 6), dtype=np.float32)
-    ready = np.zeros(rows.shape[0], dtype=np.uint8)
+    scores = np.zeros((rows.n_rows, 6), dtype=np.float32)
+    ready = np.zeros(rows.n_rows, dtype=np.uint8)
     for _ in range(2):  # the second time from the per-word scores made the first time
         out[:] = 0.0
         score_words_dense(
-            offsets, numbers, rows.indptr, rows.indices, rows.data,
-            cache.idf[rows.indices], sublinear, 0.5, row_of, block, 3,
-            scores, ready, out_row, out,
+            offsets,
+            numbers,
+            rows.indptr,
+            rows.indices,
+            rows.data,
+            rows.entry_idf,
+            sublinear,
+            0.5,
+            row_of,
+            block,
+            3,
+            scores,
+            ready,
+            out_row,
+            out,
         )
         # reference: scikit-learn's own TfidfVectorizer.transform, then SciPy's product
         expected = 0.5 * (vectorizer.transform(texts[:4]) @ w[3:]).toarray()
         assert np.allclose(out, expected, atol=1e-5)
     assert ready[numbers[: offsets[4]]].all()  # the scored texts' words, made once
+
+
+def _words(n: int, seed: int) -> list[str]:
+    """Random short words over a small alphabet (probes meet), accents and a non-BMP letter."""
+    rng = np.random.default_rng(seed)
+    alphabet = [*"abcé", "\u0301", "\U0001f525", "\x00"]
+    return ["".join(rng.choice(alphabet, size=rng.integers(1, 9))) for _ in range(n)]
+
+
+def _char_wb_ngrams(word: str, low: int, high: int) -> list[str]:
+    """scikit-learn's ``char_wb`` n-grams of one word, as its analyzer cuts them."""
+    analyzer = TfidfVectorizer(analyzer="char_wb", ngram_range=(low, high)).build_analyzer()
+    return list(analyzer(word))
+
+
+@pytest.mark.parametrize(("low", "high"), [(3, 4), (3, 5), (1, 6), (5, 6), (2, 2)])
+def test_packed_ngram_rows_count_the_analyzers_known_ngrams(low: int, high: int) -> None:
+    words = _words(300, low * 10 + high)
+    ngrams = sorted({g for w in words for g in _char_wb_ngrams(w, low, high)})
+    # Every other n-gram only: a term's prefixes are often missing from the vocabulary (as
+    # under max_features), and the early stop must still find the term.
+    terms = ngrams[::2]
+    features = np.random.default_rng(1).permutation(len(terms)).astype(np.int64)
+    codes, offsets = _code_points(terms)
+    table = ngram_table(codes, offsets, features, low)
+    assert 2 * int((table[:, 0] != 0).sum()) <= len(table)  # at most half full, grown if need be
+    queries = [w for w in words if w]  # words as str.split() gives them: never empty
+    codes, offsets = _code_points(queries)
+    data, indices, indptr = char_wb_rows(codes, offsets, low, high, table)
+    vocabulary = dict(zip(terms, features.tolist(), strict=True))
+    for i, word in enumerate(queries):
+        expected: dict[int, float] = {}
+        for gram in _char_wb_ngrams(word, low, high):
+            if gram in vocabulary:
+                expected[vocabulary[gram]] = expected.get(vocabulary[gram], 0.0) + 1.0
+        row = slice(indptr[i], indptr[i + 1])
+        # reference: the analyzer's n-grams counted with a dict; columns in order, no repeats
+        assert indices[row].tolist() == sorted(expected)
+        assert data[row].tolist() == [expected[f] for f in sorted(expected)]
+
+
+def test_index_words_numbers_words_as_a_dictionary_and_grows_its_arrays() -> None:
+    texts = [" ".join(_words(12, seed)) for seed in range(40)]
+    words: dict[str, int] = {}
+    slots = np.full(16, -1, dtype=np.int64)
+    hashes = np.zeros(2, dtype=np.uint64)
+    store_codes = np.zeros(3, dtype=np.uint32)
+    store_offsets = np.zeros(2, dtype=np.int64)
+    known = 0
+    for batch in (texts[:25], texts[10:]):  # the second batch repeats words of the first
+        # Texts holding no U+0000 are joined by it, as the word index does.
+        batch = [t.replace("\x00", "") for t in batch]
+        joined = "\x00".join(batch)
+        codes = np.frombuffer(joined.encode("utf-32-le", "surrogatepass"), dtype=np.uint32)
+        (indptr, numbers, slots, hashes, store_codes, store_offsets, total, starts, ends) = (
+            index_words(
+                codes, _IS_SPACE, slots, hashes, store_codes, store_offsets, known, len(batch)
+            )
+        )
+        # reference: str.split and a dict numbering words in the order first seen
+        for i, text in enumerate(batch):
+            expected = [words.setdefault(w, len(words)) for w in text.split()]
+            assert numbers[indptr[i] : indptr[i + 1]].tolist() == expected
+        assert total == len(words)
+        new = list(words)[known:]
+        assert [joined[a:b] for a, b in zip(starts, ends, strict=True)] == new
+        assert 2 * total <= len(slots)
+        known = total
+    stored, _ = gather_strings(store_codes, store_offsets, np.arange(known))
+    assert stored.tobytes().decode("utf-32-le") == "".join(words)
+
+
+def test_gather_strings_picks_the_strings_in_the_order_asked() -> None:
+    strings = ["", "ab", "\U0001f525c", "d", "éé"]
+    codes, offsets = _code_points(strings)
+    which = np.array([4, 0, 2, 2, 1], dtype=np.int64)
+    got, got_offsets = gather_strings(codes, offsets, which)
+    text = got.tobytes().decode("utf-32-le")
+    # reference: Python's list indexing
+    assert [text[a:b] for a, b in zip(got_offsets[:-1], got_offsets[1:], strict=True)] == [
+        strings[i] for i in which
+    ]
+
+
+@pytest.mark.parametrize(("pattern", "shortest"), [(r"(?u)\b\w+\b", 1), (r"(?u)\b\w\w+\b", 2)])
+def test_word_tokens_cut_and_number_tokens_as_the_pattern_and_a_dictionary(
+    pattern: str, shortest: int
+) -> None:
+    import re
+
+    words = [
+        "ab-c",
+        "x",
+        "l'eau",
+        "__init__",
+        "naïve",
+        "e\u0301t",
+        "\U0001f525ab",
+        "12.5",
+        "",
+        "ab",
+        "c",
+        "ünï",
+        "a_b",
+        "—",
+        "\u3042\u3044",
+        "ab\U00020000",
+    ]
+    known = ["ab", "c", "eau", "12", "ünï", "a_b", "__init__"]
+    codes, offsets = _code_points(known)
+    hashes = string_hashes(codes, offsets)
+    table = (hash_table(hashes), hashes, codes, offsets)
+    word_codes, word_offsets = _code_points(words)
+    counts, tokens, uncut = word_tokens(
+        word_codes, word_offsets, _word_characters(), shortest, *table
+    )
+    number = {t: i for i, t in enumerate(known)}
+    findall = re.compile(pattern).findall
+    for i, word in enumerate(words):
+        got = tokens[counts[i] : counts[i + 1]].tolist()
+        if i in uncut:
+            # a code point past the table's: left to the caller, given no tokens
+            assert got == [] and any(ord(c) >= len(_word_characters()) for c in word)
+            continue
+        # reference: the regular expression, and a dict of the known tokens
+        assert got == [number.get(t, len(known)) for t in findall(word)]
+    assert set(uncut.tolist()) == {
+        i for i, w in enumerate(words) if any(ord(c) >= 0x10000 for c in w)
+    }
+
+
+def test_new_words_scores_equal_scoring_their_rows_by_column_bit_for_bit() -> None:
+    rows = _random_csr(60, 200, 0.08, 20)
+    rows.sort_indices()
+    idf = np.random.default_rng(21).uniform(1.0, 4.0, size=200)
+    w = _random_csr(200 + 3, 7, 0.5, 22)
+    row_of, block = dense_rows(w)
+    need = np.array([0, 3, 4, 17, 59], dtype=np.int64)
+    scores = np.full((60, 7), 9.0, dtype=np.float32)
+    ready = np.zeros(60, dtype=np.uint8)
+    score_new_words(
+        need,
+        rows.indptr.astype(np.int64),
+        rows.indices,
+        rows.data,
+        idf,
+        row_of,
+        block,
+        3,
+        scores,
+        ready,
+    )
+    # reference: the words' idf-weighted rows scored by score_columns_dense (feature by
+    # feature), and a plain SciPy product
+    counts = rows[need]
+    counts.data = (counts.data * idf[counts.indices]).astype(np.float32)
+    by_feature = counts.tocsc()
+    made = np.zeros((len(need), 7), np.float32)
+    score_columns_dense(
+        by_feature.indptr,
+        by_feature.indices,
+        by_feature.data,
+        np.arange(len(need), dtype=np.int64),
+        row_of,
+        block,
+        made,
+        3,
+    )
+    assert np.array_equal(scores[need], made)
+    assert np.allclose(scores[need], (counts @ w[3:]).toarray(), rtol=1e-5, atol=1e-6)
+    assert ready[need].all() and ready.sum() == len(need)
+    assert (scores[1] == 9.0).all()  # other words untouched
+
+
+@pytest.mark.parametrize("bigrams", [True, False])
+def test_token_ngram_counts_count_as_a_dictionary_in_order_of_first_appearance(
+    bigrams: bool,
+) -> None:
+    rng = np.random.default_rng(30)
+    known = 12  # tokens 0-11 are the vocabulary's; 12 and past are unknown
+    unigram = np.where(rng.random(known) < 0.7, rng.permutation(known), -1).astype(np.int64)
+    pairs = {(int(a), int(b)) for a, b in rng.integers(0, known, size=(40, 2))}
+    pair_list = sorted(pairs)
+    pair_keys = np.array([(a << 32) | b for a, b in pair_list], dtype=np.int64)
+    pair_features = np.arange(known, known + len(pair_list), dtype=np.int64)
+    # words of one to three tokens; texts of zero to six words, words repeated
+    lengths = rng.integers(0, 4, size=30)
+    word_start = np.concatenate([[0], np.cumsum(lengths)[:-1]]).astype(np.int64)
+    tokens = rng.integers(0, known + 3, size=int(lengths.sum())).astype(np.int64)
+    text_lengths = rng.integers(0, 7, size=25)
+    groups = np.concatenate([[0], np.cumsum(text_lengths)]).astype(np.int64)
+    words = rng.integers(0, 30, size=int(text_lengths.sum())).astype(np.int64)
+    data, indices, indptr = token_ngram_counts(
+        groups,
+        words,
+        word_start,
+        lengths.astype(np.int64),
+        tokens,
+        unigram,
+        bigrams,
+        hash_table(mix_keys(pair_keys)),
+        pair_keys,
+        pair_features,
+    )
+    feature_of_pair = dict(zip(pair_list, pair_features.tolist(), strict=True))
+    for i in range(len(text_lengths)):
+        # reference: the text's token sequence counted with a dict (insertion order)
+        sequence = [
+            int(t)
+            for w in words[groups[i] : groups[i + 1]]
+            for t in tokens[word_start[w] : word_start[w] + lengths[w]]
+        ]
+        expected: dict[int, float] = {}
+        for position, token in enumerate(sequence):
+            found = [int(unigram[token])] if token < known else [-1]
+            if bigrams and position:
+                found.append(feature_of_pair.get((sequence[position - 1], token), -1))
+            for feature in found:
+                if feature >= 0:
+                    expected[feature] = expected.get(feature, 0.0) + 1.0
+        row = slice(indptr[i], indptr[i + 1])
+        assert indices[row].tolist() == list(expected)
+        assert data[row].tolist() == list(expected.values())

@@ -267,3 +267,19 @@ def test_a_departments_weights_are_regrouped_when_a_product_first_needs_them(
         if part.coef is not None and expected.coef is not None:
             assert all(np.array_equal(a, b) for a, b in zip(part.coef, expected.coef, strict=True))
     assert lazy._layout().sources is None
+
+
+@pytest.mark.parametrize("positions", [[0, 1, 2, 3], [3, 0, 2], [1, 2]])
+@pytest.mark.parametrize("share", [1.0, 0.25])
+def test_a_blocks_values_are_placed_in_their_columns_times_the_share(
+    positions: list[int], share: float
+) -> None:
+    from catmap.classify.model import _placed
+
+    values = np.random.default_rng(0).random((5, len(positions)))
+    shares = np.full((5, 1), share)
+    expected = np.zeros((5, 4))
+    expected[:, positions] = values  # reference: NumPy's fancy assignment
+    expected = expected * shares
+    got = _placed(values.copy(), np.array(positions), 4, shares)
+    assert got.shape == (5, 4) and np.array_equal(got, expected)

@@ -2,13 +2,19 @@
 
 Mapping a chunk of products does a few kinds of work again and again:
 
+* cutting texts into words and numbering them, new words added on the way
+  (:func:`index_words`), and cutting new words into tokens (:func:`word_tokens`);
 * cutting new title words into character n-grams and finding them in the vocabulary
-  (:func:`char_wb_features`, with :func:`string_hashes` and :func:`hash_table`);
+  (:func:`char_wb_rows` on an :func:`ngram_table` of packed keys; :func:`char_wb_features`
+  with :func:`string_hashes` and :func:`hash_table` for longer n-grams);
+* counting each text's word unigrams and bigrams (:func:`token_ngram_counts`);
 * summing the cached n-gram rows of each title's words (:func:`sum_rows`), then the idf and the
   row norm (:func:`idf_l2_rows`);
 * adding two normalised query vectors, one of them shared by many rows (:func:`add_rows`);
 * scoring a subset of rows against one department's weights, straight into a dense block
-  (:func:`score_rows`, on weights laid out by :func:`pack_rows`).
+  (:func:`score_rows`, on weights laid out by :func:`pack_rows`), or a flat model's title
+  n-grams word by word (:func:`score_new_words` once per new word, then
+  :func:`score_words_dense`).
 
 In Python, the look-ups make one string per n-gram; SciPy does the sums and products as general
 sparse × sparse products, in two passes over the data (one to size the result, one to fill it),
@@ -16,8 +22,9 @@ with a sparse result converted to dense afterwards and a row selection copied be
 loops here do one pass each, into the layout the caller needs. They are compiled with Numba on
 first use and cached on disk (``cache=True``), and release the GIL (``nogil=True``).
 
-Each function is checked against the SciPy expression it replaces in
-``tests/test_classify_kernels.py``.
+Each function is checked in ``tests/test_classify_kernels.py`` against the SciPy expression it
+replaces or the plain Python it stands for (the analyzer's n-grams, ``str.split``, the token
+pattern, a dict).
 """
 
 from __future__ import annotations
@@ -31,19 +38,24 @@ from numba import njit
 __all__ = [
     "add_rows",
     "char_wb_features",
+    "char_wb_rows",
     "dense_rows",
+    "gather_strings",
     "hash_table",
     "idf_l2_rows",
     "index_words",
     "mix_keys",
+    "ngram_table",
     "pack_rows",
     "score_rows",
     "score_words_dense",
     "score_columns_dense",
+    "score_new_words",
     "string_hashes",
     "sum_rows",
     "table_add",
     "token_ngram_counts",
+    "word_tokens",
 ]
 
 Array = np.ndarray[Any, Any]
@@ -386,6 +398,66 @@ def score_words_dense(
                 out[target, c] += total[c] * scale
 
 
+@njit(cache=True, nogil=True, fastmath=True)
+def score_new_words(
+    words: Array,
+    c_indptr: Array,
+    c_indices: Array,
+    c_data: Array,
+    idf: Array,
+    row_of: Array,
+    block: Array,
+    offset: int,
+    word_scores: Array,
+    word_ready: Array,
+) -> None:
+    """Make the rows of ``word_scores`` of some words: each word's ``W (c_w · idf)``.
+
+    Feature by feature, each weight row fetched once for all the words holding the feature,
+    as :func:`score_columns_dense` scores the words' ``c_w · idf`` rows (the same sums, in the
+    same order), then marks the words ready.
+
+    Args:
+        words: the cached-word numbers to score, in increasing order, each once.
+        c_indptr, c_indices, c_data: the cached words' n-gram count rows (CSR).
+        idf: the idf of each of the block's features (float64).
+        row_of, block, offset: as in :func:`score_words_dense`.
+        word_scores, word_ready: as in :func:`score_words_dense`.
+    """
+    k = block.shape[1]
+    n_features = len(idf)
+    # The words' entries grouped by feature (a counting sort), words in order within each.
+    start = np.zeros(n_features + 1, dtype=np.int64)
+    for i in range(len(words)):
+        w = words[i]
+        for p in range(c_indptr[w], c_indptr[w + 1]):
+            start[c_indices[p] + 1] += 1
+    for f in range(n_features):
+        start[f + 1] += start[f]
+    fill = start[:-1].copy()
+    owner = np.empty(start[-1], dtype=np.int64)
+    value = np.empty(start[-1], dtype=np.float32)
+    for i in range(len(words)):
+        w = words[i]
+        word_scores[w, :] = 0.0
+        for p in range(c_indptr[w], c_indptr[w + 1]):
+            f = c_indices[p]
+            owner[fill[f]] = w
+            value[fill[f]] = np.float32(c_data[p] * idf[f])
+            fill[f] += 1
+    for f in range(n_features):
+        r = row_of[f + offset]
+        if r < 0:
+            continue
+        for q in range(start[f], start[f + 1]):
+            w = owner[q]
+            v = value[q]
+            for c in range(k):
+                word_scores[w, c] += v * block[r, c]
+    for i in range(len(words)):
+        word_ready[words[i]] = 1
+
+
 # 64-bit FNV-1a over code points: a fast first test; every hit is confirmed character by character.
 _FNV_OFFSET = np.uint64(14695981039346656037)
 _FNV_PRIME = np.uint64(1099511628211)
@@ -406,6 +478,24 @@ def string_hashes(codes: Array, offsets: Array) -> Array:
 
 
 @njit(cache=True, nogil=True)
+def _grown(array: Array, size: int) -> Array:
+    out = np.zeros(size, dtype=array.dtype)
+    out[: len(array)] = array
+    return out
+
+
+@njit(cache=True, nogil=True)
+def _rehashed(hashes: Array, n: int, size: int) -> Array:
+    slots = np.full(size, -1, dtype=np.int64)
+    for entry in range(n):
+        slot = np.int64(hashes[entry] & np.uint64(size - 1))
+        while slots[slot] != -1:
+            slot = (slot + 1) & (size - 1)
+        slots[slot] = entry
+    return slots
+
+
+@njit(cache=True, nogil=True)
 def index_words(
     codes: Array,
     is_space: Array,
@@ -413,32 +503,102 @@ def index_words(
     hashes: Array,
     store_codes: Array,
     store_offsets: Array,
+    n_known: int,
     n_texts: int,
-) -> tuple[Array, Array, Array, Array]:
-    """Cut texts into whitespace-separated words and find each word in a table of known words.
+) -> tuple[Array, Array, Array, Array, Array, Array, int, Array, Array]:
+    """Cut texts into whitespace-separated words, number them, and add the new ones to the table.
+
+    A word already in the table gets its number; a new word is appended (its code points, its
+    hash, a slot) and gets the next number. The arrays grow (new arrays are returned) when full.
 
     Args:
         codes: the texts' code points end to end, one 0 between two texts (uint32).
         is_space: 1 for each code point below its length that ``str.split()`` splits on.
-        slots: :func:`hash_table` of the known words' ``hashes`` (:func:`string_hashes`).
-        store_codes, store_offsets: the known words' code points end to end, and offsets.
+        slots: :func:`hash_table` of the known words' ``hashes`` (:func:`string_hashes`),
+            at most half full.
+        hashes: each known word's hash (room for more past ``n_known``).
+        store_codes, store_offsets: the known words' code points end to end, and where each
+            starts (``store_offsets[n_known]``: the end of the last); room for more.
+        n_known: how many words the table holds.
         n_texts: how many texts ``codes`` holds.
 
     Returns:
-        (offsets per text, number of each word or -1 when unknown, start and end of each word
-        in ``codes``). Text i holds words ``offsets[i]:offsets[i + 1]``.
+        (offsets per text, number of each word, slots, hashes, store_codes, store_offsets,
+        words in the table now, start and end in ``codes`` of each new word in number order).
+        Text i holds words ``offsets[i]:offsets[i + 1]``.
     """
     n = len(codes)
     indptr = np.zeros(n_texts + 1, dtype=np.int64)
     bound = n // 2 + 2
     numbers = np.empty(bound, dtype=np.int64)
-    starts = np.empty(bound, dtype=np.int64)
-    ends = np.empty(bound, dtype=np.int64)
-    mask = np.uint64(len(slots) - 1)
+    new_starts = np.empty(bound, dtype=np.int64)
+    new_ends = np.empty(bound, dtype=np.int64)
+    # (position, text, words so far, words in the table): the cutting stops where a new word
+    # needs more room, the arrays grow here, and it goes on. The arrays are fixed within a
+    # run, which keeps the look-up loop as fast as a plain one.
+    state = np.array([0, 0, 0, n_known], dtype=np.int64)
+    while True:
+        done = _index_run(
+            codes,
+            is_space,
+            slots,
+            hashes,
+            store_codes,
+            store_offsets,
+            n_known,
+            state,
+            indptr,
+            numbers,
+            new_starts,
+            new_ends,
+        )
+        if done:
+            break
+        total = state[3]
+        if total + 2 > len(store_offsets):
+            store_offsets = _grown(store_offsets, 2 * (total + 2))
+            hashes = _grown(hashes, 2 * (total + 2))
+        if store_offsets[total] + n - state[0] > len(store_codes):
+            store_codes = _grown(store_codes, 2 * len(store_codes) + n - state[0])
+        if 2 * (total + 1) > len(slots):
+            slots = _rehashed(hashes, total, 2 * len(slots))
+    total, m = state[3], state[2]
+    for t in range(state[1] + 1, n_texts + 1):
+        indptr[t] = m
+    added = total - n_known
+    return (
+        indptr,
+        numbers[:m].copy(),
+        slots,
+        hashes,
+        store_codes,
+        store_offsets,
+        total,
+        new_starts[:added].copy(),
+        new_ends[:added].copy(),
+    )
+
+
+@njit(cache=True, nogil=True)
+def _index_run(
+    codes: Array,
+    is_space: Array,
+    slots: Array,
+    hashes: Array,
+    store_codes: Array,
+    store_offsets: Array,
+    n_known: int,
+    state: Array,
+    indptr: Array,
+    numbers: Array,
+    new_starts: Array,
+    new_ends: Array,
+) -> bool:
+    """:func:`index_words` from ``state`` on; False when a new word needs more room first."""
+    n = len(codes)
     n_space = len(is_space)
-    text = 0
-    m = 0
-    p = 0
+    mask = np.uint64(len(slots) - 1)
+    p, text, m, total = state[0], state[1], state[2], state[3]
     while p < n:
         code = codes[p]
         if code == 0:
@@ -473,13 +633,126 @@ def index_words(
                     number = entry
                     break
             slot = (slot + 1) & (len(slots) - 1)
+        if number < 0:
+            end = store_offsets[total]
+            if (
+                total + 2 > len(store_offsets)
+                or end + length > len(store_codes)
+                or 2 * (total + 1) > len(slots)
+            ):
+                state[0], state[1], state[2], state[3] = start, text, m, total
+                return False
+            number = total
+            for q in range(length):
+                store_codes[end + q] = codes[start + q]
+            store_offsets[total + 1] = end + length
+            hashes[total] = h
+            slots[slot] = number
+            new_starts[total - n_known] = start
+            new_ends[total - n_known] = p
+            total += 1
         numbers[m] = number
-        starts[m] = start
-        ends[m] = p
         m += 1
-    for t in range(text + 1, n_texts + 1):
-        indptr[t] = m
-    return indptr, numbers[:m].copy(), starts[:m].copy(), ends[:m].copy()
+    state[0], state[1], state[2], state[3] = p, text, m, total
+    return True
+
+
+@njit(cache=True, nogil=True)
+def gather_strings(codes: Array, offsets: Array, which: Array) -> tuple[Array, Array]:
+    """Return strings ``which`` of (codes, offsets) end to end, as (codes, offsets) again."""
+    out_offsets = np.zeros(len(which) + 1, dtype=np.int64)
+    for i in range(len(which)):
+        out_offsets[i + 1] = out_offsets[i] + offsets[which[i] + 1] - offsets[which[i]]
+    out = np.empty(out_offsets[-1], dtype=codes.dtype)
+    for i in range(len(which)):
+        begin = offsets[which[i]]
+        length = out_offsets[i + 1] - out_offsets[i]
+        out[out_offsets[i] : out_offsets[i + 1]] = codes[begin : begin + length]
+    return out, out_offsets
+
+
+@njit(cache=True, nogil=True)
+def word_tokens(
+    codes: Array,
+    offsets: Array,
+    is_word: Array,
+    min_length: int,
+    slots: Array,
+    token_hashes: Array,
+    token_codes: Array,
+    token_offsets: Array,
+) -> tuple[Array, Array, Array]:
+    """Cut words into tokens (runs of word characters) and number each by a table of tokens.
+
+    A token is a longest run of code points with ``is_word`` set, of at least ``min_length``:
+    what the patterns ``\\b\\w+\\b`` (1) and ``\\b\\w\\w+\\b`` (2) find, with ``is_word``
+    made from ``\\w``. A token in the table (:func:`hash_table` of :func:`string_hashes`,
+    confirmed character by character) gets its entry number, any other ``len(token_offsets) - 1``.
+
+    Args:
+        codes, offsets: the words (uint32 code points); word i is
+            ``codes[offsets[i]:offsets[i + 1]]``.
+        is_word: 1 for each word character below its length.
+        min_length: the shortest token.
+        slots, token_hashes, token_codes, token_offsets: the table of known tokens.
+
+    Returns:
+        (offsets of each word's tokens in the token numbers, the token numbers, the words left
+        uncut: those holding a code point past ``is_word``, given no tokens here).
+    """
+    n_words = len(offsets) - 1
+    unknown = len(token_offsets) - 1
+    counts = np.zeros(n_words + 1, dtype=np.int64)
+    tokens = np.empty(len(codes) // max(min_length, 1) + 1, dtype=np.int64)
+    uncut = np.empty(n_words, dtype=np.int64)
+    n_uncut = 0
+    mask = len(slots) - 1
+    n_table = len(is_word)
+    m = 0
+    for i in range(n_words):
+        outside = False
+        for p in range(offsets[i], offsets[i + 1]):
+            if codes[p] >= n_table:
+                outside = True
+                break
+        if outside:
+            uncut[n_uncut] = i
+            n_uncut += 1
+            counts[i + 1] = m
+            continue
+        p = offsets[i]
+        end = offsets[i + 1]
+        while p < end:
+            if not is_word[codes[p]]:
+                p += 1
+                continue
+            start = p
+            h = _FNV_OFFSET
+            while p < end and is_word[codes[p]]:
+                h = (h ^ np.uint64(codes[p])) * _FNV_PRIME
+                p += 1
+            length = p - start
+            if length < min_length:
+                continue
+            number = unknown
+            slot = np.int64(h & np.uint64(mask))
+            while slots[slot] != -1:
+                entry = slots[slot]
+                begin = token_offsets[entry]
+                if token_hashes[entry] == h and token_offsets[entry + 1] - begin == length:
+                    same = True
+                    for q in range(length):
+                        if token_codes[begin + q] != codes[start + q]:
+                            same = False
+                            break
+                    if same:
+                        number = entry
+                        break
+                slot = (slot + 1) & mask
+            tokens[m] = number
+            m += 1
+        counts[i + 1] = m
+    return counts, tokens[:m].copy(), uncut[:n_uncut].copy()
 
 
 @njit(cache=True, nogil=True)
@@ -615,7 +888,7 @@ _MIX_2 = np.uint64(0x94D049BB133111EB)
 
 
 @njit(cache=True, nogil=True, inline="always")
-def _mix(key: int) -> np.uint64:
+def _mix(key: Any) -> np.uint64:
     z = np.uint64(key)
     z = (z ^ (z >> np.uint64(30))) * _MIX_1
     z = (z ^ (z >> np.uint64(27))) * _MIX_2
@@ -643,7 +916,6 @@ def token_ngram_counts(
     slots: Array,
     pair_keys: Array,
     pair_features: Array,
-    n_columns: int,
 ) -> tuple[Array, Array, Array]:
     """Count each text's known unigrams (and bigrams) from its words' cached token numbers.
 
@@ -652,23 +924,40 @@ def token_ngram_counts(
         words: the number of each word of each text, in order.
         word_start, word_length: where each word's token numbers lie in ``tokens``.
         tokens: token numbers, word after word.
-        unigram: the feature of each token number (-1: not in the vocabulary).
+        unigram: the feature of each token number (-1: not in the vocabulary); token numbers
+            past its end are in no vocabulary term.
         bigrams: count bigrams too (two tokens in a row in the same text).
         slots: :func:`hash_table` of ``mix_keys(pair_keys)``.
         pair_keys: ``first << 32 | second`` token numbers of each vocabulary bigram.
         pair_features: the feature of each vocabulary bigram.
-        n_columns: the vocabulary size.
 
     Returns:
-        (data, indices, indptr) of the (texts, n_columns) float32 count matrix (SciPy's order),
-        no duplicate entries.
+        (data, indices, indptr) of the (texts, vocabulary) float32 count matrix (SciPy's order:
+        a row's columns in order of first appearance), no duplicate entries.
     """
     n = len(groups) - 1
     bound = 0
-    for j in range(len(words)):
-        bound += 2 * word_length[words[j]]
-    out_indptr, out_indices, out_data, total, last_row = _buffers(n, bound, n_columns)
+    longest = 0
+    for i in range(n):
+        size = 0
+        for j in range(groups[i], groups[i + 1]):
+            size += 2 * word_length[words[j]]
+        bound += size
+        longest = max(longest, size)
+    out_indptr = np.zeros(n + 1, dtype=np.int64)
+    out_indices = np.empty(bound, dtype=np.int32)
+    out_data = np.empty(bound, dtype=np.float32)
+    # A text's counts in a small hash table (in the fastest cache), not in arrays as long as
+    # the vocabulary read at random; its features listed in order of first appearance.
+    size = 16
+    while size < 2 * longest:
+        size *= 2
+    slot_feature = np.full(size, -1, dtype=np.int64)
+    slot_entry = np.empty(size, dtype=np.int64)
+    listed = np.empty(max(longest, 1), dtype=np.int64)
+    table_mask = size - 1
     mask = np.uint64(len(slots) - 1)
+    known = len(unigram)  # a vocabulary bigram is made of two tokens of the vocabulary
     nnz = 0
     for i in range(n):
         start = nnz
@@ -680,9 +969,9 @@ def token_ngram_counts(
                 for step in range(2):
                     feature = -1
                     if step == 0:
-                        if token < len(unigram):
+                        if token < known:
                             feature = unigram[token]
-                    elif bigrams and previous >= 0:
+                    elif bigrams and 0 <= previous < known and token < known:
                         key = (previous << 32) | token
                         slot = np.int64(_mix(key) & mask)
                         while slots[slot] != -1:
@@ -691,11 +980,169 @@ def token_ngram_counts(
                                 break
                             slot = (slot + 1) & (len(slots) - 1)
                     if feature >= 0:
-                        if last_row[feature] != i:
-                            last_row[feature], total[feature], out_indices[nnz] = i, 0.0, feature
+                        here = (feature * 40503) & table_mask
+                        while slot_feature[here] != -1 and slot_feature[here] != feature:
+                            here = (here + 1) & table_mask
+                        if slot_feature[here] == -1:
+                            slot_feature[here] = feature
+                            slot_entry[here] = nnz
+                            listed[nnz - start] = here
+                            out_indices[nnz] = feature
+                            out_data[nnz] = 0.0
                             nnz += 1
-                        total[feature] += 1.0
+                        out_data[slot_entry[here]] += 1.0
                 previous = token
-        _close_row(start, nnz, total, out_indices, out_data)
+        for q in range(nnz - start):  # the table emptied for the next text
+            slot_feature[listed[q]] = -1
         out_indptr[i + 1] = nnz
     return out_data[:nnz].copy(), out_indices[:nnz].copy(), out_indptr
+
+
+# Character n-grams of up to six characters as two int64 keys: three characters of 21 bits each
+# (a code point plus one, so that no character packs to 0 and a shorter n-gram never equals a
+# longer one). Comparing two keys replaces comparing the characters one by one.
+PACKED_NGRAM_MAX = 6
+_CHAR_BITS = 21
+
+
+@njit(cache=True, nogil=True, inline="always")
+def _find_key(table: Array, low: Any, high: Any) -> Any:
+    size = len(table)
+    slot = np.int64(_mix(np.int64(low) ^ np.int64(_mix(high))) & np.uint64(size - 1))
+    while table[slot, 0] != 0:
+        if table[slot, 0] == low and table[slot, 1] == high:
+            return slot
+        slot = (slot + 1) & (size - 1)
+    return -slot - 1  # not found: -1 - the free slot where it would go
+
+
+@njit(cache=True, nogil=True)
+def ngram_table(codes: Array, offsets: Array, features: Array, low: int) -> Array:
+    """Return a table of character n-grams (at most six characters) keyed by packed characters.
+
+    Each term ``codes[offsets[i]:offsets[i + 1]]`` is entered with its feature, and each of its
+    prefixes of at least ``low`` characters with feature -1 unless it is a term itself: an
+    n-gram missing from the table then starts no term, and a lookup that extends it one
+    character at a time can stop (:func:`char_wb_rows`).
+
+    Returns:
+        An open-addressing table, (slots, 3) int64: each slot's key (two int64; 0, 0 when free)
+        and feature, a key at the first free slot from its hash on (linear probing). A key's
+        slot and feature sit side by side: a look-up reads one cache line.
+    """
+    # Sized for the terms: most prefixes are terms too (a larger table is slower to read);
+    # a small one (up to 256 KiB at a quarter full) has room for short probes. Should the
+    # prefix-only entries fill it past half, it is made again twice the size.
+    terms = len(offsets) - 1
+    size = 16
+    while size < (4 * terms if 4 * terms * 24 <= 1 << 18 else 2 * terms):
+        size *= 2
+    while True:
+        table = _ngram_entries(codes, offsets, features, low, size)
+        if len(table):
+            return table
+        size *= 2
+
+
+@njit(cache=True, nogil=True)
+def _ngram_entries(codes: Array, offsets: Array, features: Array, low: int, size: int) -> Array:
+    """:func:`ngram_table` of ``size`` slots, or an empty table when over half would be full."""
+    table = np.zeros((size, 3), dtype=np.int64)
+    n = 0
+    for i in range(len(offsets) - 1):
+        length = offsets[i + 1] - offsets[i]
+        key_low = np.int64(0)
+        key_high = np.int64(0)
+        for j in range(length):
+            code = np.int64(codes[offsets[i] + j]) + 1
+            if j < 3:
+                key_low |= code << (_CHAR_BITS * j)
+            else:
+                key_high |= code << (_CHAR_BITS * (j - 3))
+            if j + 1 < low and j + 1 < length:
+                continue
+            feature = features[i] if j + 1 == length else -1
+            found = _find_key(table, key_low, key_high)
+            if found >= 0:
+                if feature >= 0:
+                    table[found, 2] = feature
+            else:
+                n += 1
+                if 2 * n > size:
+                    return np.zeros((0, 3), dtype=np.int64)
+                slot = -found - 1
+                table[slot, 0], table[slot, 1], table[slot, 2] = key_low, key_high, feature
+    return table
+
+
+@njit(cache=True, nogil=True)
+def char_wb_rows(
+    codes: Array,
+    offsets: Array,
+    low: int,
+    high: int,
+    table: Array,
+) -> tuple[Array, Array, Array]:
+    """Count the known ``char_wb`` n-grams of each word: one CSR row per word.
+
+    The n-grams are those of :func:`char_wb_features` (scikit-learn's ``char_wb`` rule), looked
+    up in an :func:`ngram_table` (``high`` at most six). From each start they are extended one
+    character at a time, and the extension stops at the first n-gram the table does not hold.
+
+    Returns:
+        (data, indices, indptr) of the (words, features) float32 count matrix, each row's
+        columns in increasing order, no duplicates (SciPy's canonical form).
+    """
+    n_words = len(offsets) - 1
+    bound = 0
+    for i in range(n_words):
+        bound += (offsets[i + 1] - offsets[i] + 2) * (high - low + 1)
+    indptr = np.zeros(n_words + 1, dtype=np.int64)
+    indices = np.empty(bound, dtype=np.int32)
+    data = np.empty(bound, dtype=np.float32)
+    nnz = 0
+    for i in range(n_words):
+        start = offsets[i]
+        size = offsets[i + 1] - start + 2  # padded length
+        row_start = nnz
+        last_first = max(size - low, 0)
+        for first in range(last_first + 1):
+            key_low = np.int64(0)
+            key_high = np.int64(0)
+            for j in range(min(high, size - first)):
+                p = first + j
+                code = _SPACE if p == 0 or p == size - 1 else codes[start + p - 1]
+                if j < 3:
+                    key_low |= (np.int64(code) + 1) << (_CHAR_BITS * j)
+                else:
+                    key_high |= (np.int64(code) + 1) << (_CHAR_BITS * (j - 3))
+                if j + 1 < low and j + 1 < size:
+                    continue
+                slot = _find_key(table, key_low, key_high)
+                if slot < 0:
+                    break
+                feature = table[slot, 2]
+                if feature >= 0:
+                    indices[nnz] = feature
+                    nnz += 1
+                if j + 1 == size:
+                    break
+        # The row's columns in order (insertion sort: a word has a few dozen), then merged.
+        for p in range(row_start + 1, nnz):
+            value = indices[p]
+            q = p - 1
+            while q >= row_start and indices[q] > value:
+                indices[q + 1] = indices[q]
+                q -= 1
+            indices[q + 1] = value
+        kept = row_start
+        for p in range(row_start, nnz):
+            if p > row_start and indices[p] == indices[kept - 1]:
+                data[kept - 1] += 1.0
+            else:
+                indices[kept] = indices[p]
+                data[kept] = 1.0
+                kept += 1
+        nnz = kept
+        indptr[i + 1] = nnz
+    return data[:nnz].copy(), indices[:nnz].copy(), indptr

@@ -8,11 +8,13 @@ the same few thousand words across millions of products: analysing each distinct
 summing the cached count rows per text gives exactly the fitted vectorizer's output — the same
 counts, the same sublinear tf, idf and L2 norm — for a fraction of the time the per-text
 analyzer takes. A new word's n-grams are looked up in a hash table of the vocabulary by compiled
-code (each hit confirmed character by character), without making a Python string per n-gram.
+code (keys of packed characters, or hits confirmed character by character), without making a
+Python string per n-gram.
 
-Word unigrams and bigrams work the same way: each distinct word is cut into tokens once and
-cached as token numbers; a batch's unigrams and bigrams are then looked up with NumPy, with the
-same tokens, n-grams and weighting as the fitted vectorizer.
+Word unigrams and bigrams work the same way: each distinct word is cut into tokens once (by
+compiled code for the standard token patterns) and cached as token numbers; a batch's unigrams
+and bigrams are then counted by compiled code, with the same tokens, n-grams and weighting as the
+fitted vectorizer.
 """
 
 from __future__ import annotations
@@ -27,21 +29,26 @@ import numpy as np
 import scipy.sparse as sp
 
 from catmap.classify._kernels import (
+    PACKED_NGRAM_MAX,
     char_wb_features,
+    char_wb_rows,
+    gather_strings,
     hash_table,
     idf_l2_rows,
     index_words,
     mix_keys,
+    ngram_table,
     string_hashes,
     sum_rows,
     table_add,
     token_ngram_counts,
+    word_tokens,
 )
 
 if TYPE_CHECKING:
     from sklearn.feature_extraction.text import TfidfVectorizer
 
-__all__ = ["WordCachedTfidf", "WordNgramTfidf", "fast_transformer"]
+__all__ = ["CountRows", "WordCachedTfidf", "WordNgramTfidf", "fast_transformer"]
 
 # Past this many cached words the cache starts again (bounded memory on endless feeds).
 MAX_CACHED_WORDS = 1_000_000
@@ -56,20 +63,54 @@ class _Split:
         numbers: each word's number in :attr:`words` (int64).
         words: the word index's words, by number (the index's list when the split was made).
         generation: the word index's generation when the split was made.
+        codes, offsets: the index's code points of its words end to end, and where each word
+            starts (the arrays when the split was made: they only grow past its words).
     """
 
-    __slots__ = ("generation", "indptr", "numbers", "words")
+    __slots__ = ("codes", "generation", "indptr", "numbers", "offsets", "words")
 
-    def __init__(self, indptr: Array, numbers: Array, words: list[str], generation: int) -> None:
+    def __init__(
+        self,
+        indptr: Array,
+        numbers: Array,
+        words: list[str],
+        generation: int,
+        codes: Array,
+        offsets: Array,
+    ) -> None:
         self.indptr = indptr
         self.numbers = numbers
         self.words = words
         self.generation = generation
+        self.codes = codes
+        self.offsets = offsets
+
+    def code_points(self, numbers: Array) -> tuple[Array, Array]:
+        """The words ``numbers`` (increasing) as code points end to end and each one's offsets."""
+        first, last = int(numbers[0]), int(numbers[-1])
+        if last - first + 1 == len(numbers):
+            # Consecutive numbers (a batch's new words): their code points lie end to end.
+            offsets = self.offsets[first : last + 2]
+            return self.codes[offsets[0] : offsets[-1]], offsets - offsets[0]
+        return gather_strings(self.codes, self.offsets, numbers)
 
 
 # What str.split() splits on, below U+3001 (no whitespace lies above U+3000).
 _IS_SPACE = np.array([chr(c).isspace() for c in range(0x3001)], dtype=np.uint8)
 _SEPARATOR = "\x00"
+# The token patterns cut by compiled code (:func:`word_tokens`), with their shortest token.
+_TOKEN_PATTERNS = {r"(?u)\b\w+\b": 1, r"(?u)\b\w\w+\b": 2}
+_IS_WORD: list[Array] = []
+
+
+def _word_characters() -> Array:
+    """1 for each code point below U+10000 that the pattern ``\\w`` matches (made once)."""
+    if not _IS_WORD:
+        every = "".join(map(chr, range(0x10000)))
+        # Everything else becomes U+0000, itself no word character.
+        marked = re.sub(r"(?u)\W", "\x00", every).encode("utf-32-le", "surrogatepass")
+        _IS_WORD.append((np.frombuffer(marked, dtype=np.uint32) != 0).astype(np.uint8))
+    return _IS_WORD[0]
 
 
 class _WordIndex:
@@ -90,7 +131,6 @@ class _WordIndex:
         self.generation += 1
         self.words: list[str] = []
         self._codes = np.zeros(1 << 16, dtype=np.uint32)
-        self._n_codes = 0
         self._offsets = np.zeros(1 << 12, dtype=np.int64)
         self._hashes = np.zeros(1 << 12, dtype=np.uint64)
         self._slots = np.full(16, -1, dtype=np.int64)
@@ -104,34 +144,42 @@ class _WordIndex:
         # Lower-cased as a whole: the same as text by text, the separator ending each context.
         lowered = joined.lower()
         codes = np.frombuffer(lowered.encode("utf-32-le", "surrogatepass"), dtype=np.uint32)
-        n = len(self.words)
-        indptr, numbers, starts, ends = index_words(
-            codes, _IS_SPACE, self._slots, self._hashes[:n], self._codes,
-            self._offsets[: n + 1], len(texts),
+        known = len(self.words)
+        # New words are numbered and added to the table by the compiled loop itself.
+        (
+            indptr,
+            numbers,
+            self._slots,
+            self._hashes,
+            self._codes,
+            self._offsets,
+            total,
+            starts,
+            ends,
+        ) = index_words(
+            codes,
+            _IS_SPACE,
+            self._slots,
+            self._hashes,
+            self._codes,
+            self._offsets,
+            known,
+            len(texts),
         )
-        unknown = np.flatnonzero(numbers < 0)
-        if len(unknown):
-            found = [lowered[a:b] for a, b in zip(starts[unknown].tolist(), ends[unknown].tolist(),
-                                                  strict=True)]
-            new = list(dict.fromkeys(found))
-            if self.words and len(self.words) + len(new) > self.max_words:
-                self._restart()
-                return self.split(texts)
-            return self._grown(indptr, numbers, unknown, found, new)
-        return _Split(indptr, numbers, self.words, self.generation)
+        if known and total > self.max_words:
+            self._restart()
+            return self.split(texts)
+        if len(starts):
+            self.words.extend(
+                [lowered[a:b] for a, b in zip(starts.tolist(), ends.tolist(), strict=True)]
+            )
+        return self._made(indptr, numbers)
 
-    def _grown(
-        self,
-        indptr: Array,
-        numbers: Array,
-        unknown: Array,
-        found: list[str],
-        new: list[str],
-    ) -> _Split:
-        first = self._add(new)
-        position = {word: first + i for i, word in enumerate(new)}
-        numbers[unknown] = np.fromiter(map(position.__getitem__, found), np.int64, len(found))
-        return _Split(indptr, numbers, self.words, self.generation)
+    def _made(self, indptr: Array, numbers: Array) -> _Split:
+        n = len(self.words)
+        return _Split(
+            indptr, numbers, self.words, self.generation, self._codes, self._offsets[: n + 1]
+        )
 
     def _add(self, new: list[str]) -> int:
         """Number new words (not yet in the index); return the first new number."""
@@ -139,19 +187,15 @@ class _WordIndex:
         codes, offsets = _code_points(new)
         hashes = string_hashes(codes, offsets)
         total = first + len(new)
+        used = int(self._offsets[first])
         if total + 1 > len(self._offsets):
             size = max(2 * len(self._offsets), total + 1)
-            self._offsets = np.concatenate([self._offsets, np.zeros(size - len(self._offsets),
-                                                                    np.int64)])
-            self._hashes = np.concatenate([self._hashes, np.zeros(size - len(self._hashes),
-                                                                  np.uint64)])
-        if self._n_codes + len(codes) > len(self._codes):
-            size = max(2 * len(self._codes), self._n_codes + len(codes))
-            self._codes = np.concatenate([self._codes, np.zeros(size - len(self._codes),
-                                                                np.uint32)])
-        self._codes[self._n_codes : self._n_codes + len(codes)] = codes
-        self._offsets[first + 1 : total + 1] = self._n_codes + offsets[1:]
-        self._n_codes += len(codes)
+            self._offsets = _extended(self._offsets, size)
+            self._hashes = _extended(self._hashes, size)
+        if used + len(codes) > len(self._codes):
+            self._codes = _extended(self._codes, max(2 * len(self._codes), used + len(codes)))
+        self._codes[used : used + len(codes)] = codes
+        self._offsets[first + 1 : total + 1] = used + offsets[1:]
         self._hashes[first:total] = hashes
         self.words.extend(new)
         if 2 * total > len(self._slots):
@@ -174,7 +218,7 @@ class _WordIndex:
             first = self._add(new)
             known.update(zip(new, range(first, first + len(new)), strict=True))
         numbers = np.fromiter(map(known.__getitem__, flat), np.int64, count=len(flat))
-        return _Split(indptr, numbers, self.words, self.generation)
+        return self._made(indptr, numbers)
 
 
 _WORDS = _WordIndex()
@@ -209,6 +253,13 @@ def _split_words(texts: Sequence[str]) -> _Split:
         return split
 
 
+def _extended(array: Array, size: int) -> Array:
+    """A copy of ``array`` with zeros appended up to ``size``."""
+    out = np.zeros(size, dtype=array.dtype)
+    out[: len(array)] = array
+    return out
+
+
 def _code_points(strings: Sequence[str]) -> tuple[Array, Array]:
     """Return the strings' code points end to end (uint32) and each string's offsets."""
     lengths = np.fromiter(map(len, strings), dtype=np.int64, count=len(strings))
@@ -231,7 +282,7 @@ class _PerWordCache:
 
     ``_row_of[n]`` is the cached row of word index number n (-1: not cached yet). Subclasses
     keep ``max_words`` and implement ``_clear`` (empty their rows) and ``_add_words`` (append
-    the rows of some words, in order).
+    the rows of some words of a split, in order).
     """
 
     max_words: int
@@ -262,7 +313,7 @@ class _PerWordCache:
     def _clear(self) -> None:
         raise NotImplementedError
 
-    def _add_words(self, words: Sequence[str]) -> None:
+    def _add_words(self, split: _Split, numbers: Array) -> None:
         raise NotImplementedError
 
     def _word_numbers(self, split: _Split) -> Array:
@@ -284,12 +335,82 @@ class _PerWordCache:
                 self._generation = generation
                 self._row_of = np.full(len(split.words), -1, dtype=np.int64)
                 missing = _distinct_numbers(split.numbers, len(split.words))
-            words = split.words
-            self._add_words([words[i] for i in missing.tolist()])
+            self._add_words(split, missing)
             self._row_of[missing] = np.arange(self._n_rows, self._n_rows + len(missing))
             self._n_rows += len(missing)
             rows = self._row_of[split.numbers]
         return rows
+
+
+class CountRows:
+    """The cached words' n-gram count rows, CSR arrays grown in place, and each entry's idf.
+
+    Appending a batch's new words copies only them (the arrays double when full; the first
+    rows are taken as they are), and the idf of each entry's n-gram is looked up once, on the
+    first read of :attr:`entry_idf` after the entry was added.
+
+    Attributes:
+        indptr: row i is entries ``indptr[i]:indptr[i + 1]`` (int64).
+        indices, data: each entry's n-gram (int32) and count (float32).
+        entry_idf: each entry's n-gram's idf (float64).
+    """
+
+    def __init__(self, idf: Array) -> None:
+        self.idf = idf
+        self._indptr = np.zeros(1, dtype=np.int64)
+        self._indices = np.zeros(0, dtype=np.int32)
+        self._data = np.zeros(0, dtype=np.float32)
+        self._entry_idf = np.zeros(0, dtype=np.float64)
+        self._with_idf = 0  # entries whose idf is filled in
+        self.n_rows = 0
+        self.nnz = 0
+
+    def append(self, data: Array, indices: Array, indptr: Array) -> None:
+        """Append CSR rows (``indptr`` starting at 0); the arrays may be kept, not copied."""
+        rows, nnz = len(indptr) - 1, len(indices)
+        if self.n_rows == 0:
+            self._indptr = np.asarray(indptr, dtype=np.int64)
+            self._indices = np.asarray(indices, dtype=np.int32)
+            self._data = np.asarray(data, dtype=np.float32)
+            self.n_rows, self.nnz = rows, nnz
+            return
+        if self.n_rows + rows + 1 > len(self._indptr):
+            self._indptr = _extended(
+                self._indptr, max(2 * len(self._indptr), self.n_rows + rows + 1)
+            )
+        if self.nnz + nnz > len(self._indices):
+            size = max(2 * len(self._indices), self.nnz + nnz)
+            self._indices = _extended(self._indices, size)
+            self._data = _extended(self._data, size)
+        self._indptr[self.n_rows + 1 : self.n_rows + rows + 1] = self.nnz + indptr[1:]
+        self._indices[self.nnz : self.nnz + nnz] = indices
+        self._data[self.nnz : self.nnz + nnz] = data
+        self.n_rows += rows
+        self.nnz += nnz
+
+    @property
+    def indptr(self) -> Array:
+        return self._indptr[: self.n_rows + 1]
+
+    @property
+    def indices(self) -> Array:
+        return self._indices[: self.nnz]
+
+    @property
+    def data(self) -> Array:
+        return self._data[: self.nnz]
+
+    @property
+    def entry_idf(self) -> Array:
+        if self._with_idf < self.nnz:
+            if len(self._entry_idf) < self.nnz:
+                self._entry_idf = _extended(
+                    self._entry_idf, max(len(self._indices), 2 * len(self._entry_idf))
+                )
+            done = self._with_idf
+            self._entry_idf[done : self.nnz] = self.idf[self._indices[done : self.nnz]]
+            self._with_idf = self.nnz
+        return self._entry_idf[: self.nnz]
 
 
 class WordCachedTfidf(_PerWordCache):
@@ -311,52 +432,55 @@ class WordCachedTfidf(_PerWordCache):
         self._n_features = len(self._vocabulary)
         self._reset()
 
-    _DERIVED = ("_blocks", "_rows", "_stale")
+    _DERIVED = ("_rows",)
 
     def _clear(self) -> None:
-        self._blocks: list[sp.csr_matrix] = []
-        self._rows = sp.csr_matrix((0, self._n_features), dtype=np.float32)
-        self._stale = False
+        self._rows = CountRows(self._idf)
 
     def _table(self) -> tuple[Array, ...]:
-        """The vocabulary as a lookup table for :func:`char_wb_features` (built once)."""
+        """The vocabulary as a lookup table, built once.
+
+        :func:`ngram_table`'s (for :func:`char_wb_rows`) when no term and no n-gram is longer
+        than six characters, else :func:`char_wb_features`'s.
+        """
         table: tuple[Array, ...] | None = self.__dict__.get("_lookup")
         if table is None:
             terms = list(self._vocabulary)
             codes, offsets = _code_points(terms)
-            hashes = string_hashes(codes, offsets)
             features = np.fromiter(self._vocabulary.values(), dtype=np.int64, count=len(terms))
-            table = (hash_table(hashes), hashes, features, codes, offsets)
+            longest = int(np.diff(offsets).max()) if len(terms) else 0
+            if max(self._high, longest) <= PACKED_NGRAM_MAX:
+                table = (ngram_table(codes, offsets, features, self._low),)
+            else:
+                hashes = string_hashes(codes, offsets)
+                table = (hash_table(hashes), hashes, features, codes, offsets)
             self.__dict__["_lookup"] = table
         return table
 
-    def _add_words(self, words: Sequence[str]) -> None:
-        codes, offsets = _code_points(words)
-        owner, feature = char_wb_features(codes, offsets, self._low, self._high, *self._table())
+    def _add_words(self, split: _Split, numbers: Array) -> None:
+        codes, offsets = split.code_points(numbers)
+        table = self._table()
+        if len(table) == 1:
+            self._rows.append(*char_wb_rows(codes, offsets, self._low, self._high, *table))
+            return
+        owner, feature = char_wb_features(codes, offsets, self._low, self._high, *table)
         block = sp.csr_matrix(
             (np.ones(len(owner), dtype=np.float32), (owner, feature)),
-            shape=(len(words), self._n_features),
+            shape=(len(numbers), self._n_features),
         )
         block.sum_duplicates()
-        self._blocks.append(block)
-        self._stale = True
+        self._rows.append(block.data, block.indices, block.indptr)
 
-    def _matrix(self) -> sp.csr_matrix:
-        if self._stale:
-            self._rows = sp.vstack([self._rows, *self._blocks], format="csr", dtype=np.float32)
-            self._blocks = []
-            self._stale = False
-        return self._rows
-
-    def cached_words(self, texts: Sequence[str]) -> tuple[Array, Array, sp.csr_matrix]:
+    def cached_words(self, texts: Sequence[str]) -> tuple[Array, Array, CountRows]:
         """Return the texts as cached words: (offsets per text, word numbers, word count rows).
 
         Row ``numbers[j]`` of the count rows is the n-gram counts of word j; text i holds the
-        words ``offsets[i]:offsets[i + 1]``. The numbers hold until :attr:`generation` changes.
+        words ``offsets[i]:offsets[i + 1]``. The numbers hold until :attr:`generation` changes;
+        the rows only grow until then.
         """
         split = _split_words(texts)
         numbers = self._word_numbers(split)
-        return split.indptr, numbers, self._matrix()
+        return split.indptr, numbers, self._rows
 
     @property
     def idf(self) -> Array:
@@ -367,7 +491,7 @@ class WordCachedTfidf(_PerWordCache):
         """Return the (texts, features) n-gram count matrix (float32 CSR)."""
         split = _split_words(texts)
         rows = self._word_numbers(split)
-        cached = self._matrix()
+        cached = self._rows
         # Each text's count row is the sum of its words' cached rows (no duplicate entries;
         # the column order within a row is left as it comes).
         return sp.csr_matrix(
@@ -387,8 +511,8 @@ class WordNgramTfidf(_PerWordCache):
 
     For unigrams and bigrams (the ranges catmap uses), every distinct whitespace-separated word
     is cut into tokens once and cached as token numbers; a text's unigrams and bigrams are then
-    looked up for the whole batch with NumPy (a bigram is a pair of token numbers, found by a
-    binary search among the vocabulary's pairs). The token pattern never matches whitespace, so
+    counted for the whole batch by compiled code (a bigram is a pair of token numbers, found in a
+    hash table of the vocabulary's pairs). The token pattern never matches whitespace, so
     cutting word by word gives the same tokens as cutting the whole text. Other n-gram ranges
     take the plain path (tokens and n-grams per text).
 
@@ -442,6 +566,12 @@ class WordNgramTfidf(_PerWordCache):
         first = np.cumsum(spaces + 1) - (spaces + 1)  # each term's first part in ``parts``
         unigrams, pairs = spaces == 0, spaces == 1
         self._known_tokens = token
+        self._token_table = None
+        shortest = _TOKEN_PATTERNS.get(self.vectorizer.token_pattern)
+        if shortest is not None:
+            codes, offsets = _code_points(list(token))
+            hashes = string_hashes(codes, offsets)
+            self._token_table = (shortest, hash_table(hashes), hashes, codes, offsets)
         self._unigram_base = np.full(len(token), -1, dtype=np.int64)
         self._unigram_base[numbers[first[unigrams]]] = features[unigrams]
         self._pair_keys = (numbers[first[pairs]] << 32) | numbers[first[pairs] + 1]
@@ -461,19 +591,40 @@ class WordNgramTfidf(_PerWordCache):
         self._word_length = np.zeros(0, dtype=np.int64)
         self._tokens = np.zeros(0, dtype=np.int64)
 
-    def _add_words(self, words: Sequence[str]) -> None:
-        cut = [self._findall(word) for word in words]
+    def _add_words(self, split: _Split, numbers: Array) -> None:
+        if self._token_table is not None:
+            codes, offsets = split.code_points(numbers)
+            shortest, *table = self._token_table
+            counts, tokens, uncut = word_tokens(
+                codes, offsets, _word_characters(), shortest, *table
+            )
+            # Tokens outside the vocabulary all get one number, past the unigram table.
+            lengths = np.diff(counts)
+            if len(uncut):
+                # Words holding a code point past the table's: cut in Python, put in place.
+                words = split.words
+                cut = [self._findall(words[i]) for i in numbers[uncut].tolist()]
+                lengths[uncut] = [len(c) for c in cut]
+                known = [self._token.get(t, len(self._known_tokens)) for c in cut for t in c]
+                where = np.repeat(counts[uncut], lengths[uncut])
+                tokens = np.insert(tokens, where, np.array(known, dtype=np.int64))
+            self._append_tokens(lengths, tokens)
+            return
+        words = split.words
+        cut = [self._findall(words[i]) for i in numbers.tolist()]
         flat = list(chain.from_iterable(cut))
-        numbers = np.fromiter(
+        tokens = np.fromiter(
             (self._token.setdefault(t, len(self._token)) for t in flat),
             dtype=np.int64,
             count=len(flat),
         )
-        lengths = np.fromiter(map(len, cut), dtype=np.int64, count=len(cut))
+        self._append_tokens(np.fromiter(map(len, cut), dtype=np.int64, count=len(cut)), tokens)
+
+    def _append_tokens(self, lengths: Array, tokens: Array) -> None:
         starts = len(self._tokens) + np.concatenate([[0], np.cumsum(lengths)[:-1]])
         self._word_start = np.concatenate([self._word_start, starts.astype(np.int64)])
         self._word_length = np.concatenate([self._word_length, lengths])
-        self._tokens = np.concatenate([self._tokens, numbers])
+        self._tokens = np.concatenate([self._tokens, tokens])
 
     def _terms(self, text: str) -> list[str]:
         tokens: list[str] = self._findall(text.lower())
@@ -500,7 +651,6 @@ class WordNgramTfidf(_PerWordCache):
             self._pair_slots,
             self._pair_keys,
             self._pair_features,
-            len(self._vocabulary),
         )
         return sp.csr_matrix(counted, shape=(len(texts), len(self._vocabulary)))
 

@@ -20,13 +20,18 @@ _FLOOR = 1e-12
 FloatArray = np.ndarray[Any, np.dtype[np.floating[Any]]]
 
 
-def softmax(scores: FloatArray, temperature: float = 1.0) -> FloatArray:
+def softmax(scores: FloatArray, temperature: float = 1.0, *, in_place: bool = False) -> FloatArray:
     """Return row-wise softmax(scores / temperature), computed stably.
 
-    ``-inf`` scores get probability 0.
+    ``-inf`` scores get probability 0. With ``in_place``, a float64 array of scores is
+    overwritten with the result (no copies: the same arithmetic, in the same order).
     """
-    scaled = np.asarray(scores, dtype=np.float64) / temperature
-    scaled = scaled - scaled.max(axis=1, keepdims=True)
+    if in_place and isinstance(scores, np.ndarray) and scores.dtype == np.float64:
+        scaled = scores
+        scaled /= temperature
+    else:
+        scaled = np.asarray(scores, dtype=np.float64) / temperature
+    scaled -= scaled.max(axis=1, keepdims=True)
     np.exp(scaled, out=scaled)
     scaled /= scaled.sum(axis=1, keepdims=True)
     return scaled

@@ -32,9 +32,11 @@ from catmap.classify._kernels import (
     dense_rows,
     pack_rows,
     score_columns_dense,
+    score_new_words,
     score_rows,
     score_words_dense,
 )
+from catmap.classify._wordcache import WordCachedTfidf
 from catmap.classify.calibration import expected_calibration_error, fit_temperature, softmax
 from catmap.classify.features import ProductFeaturizer, ProductTexts
 from catmap.classify.keywords import KeywordMapper
@@ -407,10 +409,14 @@ class CategoryModel:
         skip = frozenset({_WORDS_BLOCK}) if by_words else frozenset()
         features = self.featurizer_.transform_blocks(texts, skip=skip)
         n = len(texts)
-        group = np.repeat(self.group_intercept_[None, :].astype(np.float64), n, axis=0)
-        for matrix, start in features:
-            group += matrix @ layout.group_coef[start : start + matrix.shape[1]]
-        p_group = softmax(group, self.temperatures_[0])
+        if len(self.groups_) == 1:
+            # One group (a flat model): a softmax over one finite score is exactly 1.
+            p_group: Array = np.ones((n, 1))
+        else:
+            group = np.repeat(self.group_intercept_[None, :].astype(np.float64), n, axis=0)
+            for matrix, start in features:
+                group += matrix @ layout.group_coef[start : start + matrix.shape[1]]
+            p_group = softmax(group, self.temperatures_[0], in_place=True)
         selected = p_group >= self.department_floor
         selected[np.arange(n), p_group.argmax(axis=1)] = True
         query = self.keywords_.query(texts) if keywords else None
@@ -439,16 +445,15 @@ class CategoryModel:
                 for matrix, start in features:
                     x = (matrix.indptr, matrix.indices, matrix.data)
                     score_rows(*x, rows, *part.coef, scores, start)
-            linear = np.zeros((len(rows), len(part.columns)), dtype=np.float64)
-            linear[:, part.linear_pos] = softmax(scores, self.temperatures_[1])
-            linear *= p_group[rows, g][:, None]
+            share = p_group[rows, g][:, None]
+            probabilities = softmax(scores, self.temperatures_[1], in_place=True)
+            linear = _placed(probabilities, part.linear_pos, len(part.columns), share)
             keyword = None
             if query is not None and len(part.keyword_pos):
                 sims = np.zeros((len(rows), len(part.keyword_pos)))
                 score_rows(query.indptr, query.indices, query.data, rows, *part.documents_t, sims)
-                keyword = np.zeros_like(linear)
-                keyword[:, part.keyword_pos] = softmax(sims, self.keyword_blend_temperature_)
-                keyword *= p_group[rows, g][:, None]
+                similar = softmax(sims, self.keyword_blend_temperature_, in_place=True)
+                keyword = _placed(similar, part.keyword_pos, len(part.columns), share)
             blocks.append(_Block(g, rows, linear, keyword))
         return _Parts(n, p_group, selected, blocks)
 
@@ -480,64 +485,68 @@ class CategoryModel:
         row_of, block = dense
         # Each cached word's scores, kept while the word cache keeps its numbers and the
         # weights stay the same.
-        key = (cache, cache.generation, block)
-        state = self.__dict__.get("_word_scores")
-        if state is None or any(a is not b for a, b in zip(state[0], key, strict=True)):
-            empty = np.zeros(0)
-            state = (key, np.zeros((0, block.shape[1]), np.float32), np.zeros(0, np.uint8), empty)
-        if len(state[2]) < rows.shape[0]:
-            size = max(rows.shape[0], 2 * len(state[2]), 1024)
-            scores = np.zeros((size, block.shape[1]), np.float32)
-            scores[: len(state[1])] = state[1]
-            ready = np.zeros(size, np.uint8)
-            ready[: len(state[2])] = state[2]
-            state = (key, scores, ready, state[3])
-        if len(state[3]) < rows.nnz:
-            # The idf beside each cached count: new words' rows are appended, so only their
-            # entries are looked up (not every cached word's, every batch).
-            tail = cache.idf[rows.indices[len(state[3]) :]]
-            state = (*state[:3], np.concatenate([state[3], tail]))
-        self.__dict__["_word_scores"] = state
+        scores: _WordScores | None = self.__dict__.get("_word_scores")
+        if scores is None or not scores.holds(cache, block):
+            scores = self.__dict__["_word_scores"] = _WordScores(cache, block)
+        scores.grow(rows.n_rows)
         # The batch's new words get their scores feature by feature, each weight row fetched
         # once for all of them (the kernel would fetch it once per word holding it).
-        new = np.zeros(len(state[2]), dtype=bool)
+        new = np.zeros(len(scores.ready), dtype=bool)
         new[numbers] = True
-        new[state[2] == 1] = False
+        new[scores.ready == 1] = False
         need = np.flatnonzero(new)
         if len(need):
-            counts = rows[need]
-            counts.data = (counts.data * cache.idf[counts.indices]).astype(np.float32)
-            by_feature = counts.tocsc()
-            made = np.zeros((len(need), block.shape[1]), np.float32)
-            score_columns_dense(
-                by_feature.indptr, by_feature.indices, by_feature.data,
-                np.arange(len(need), dtype=np.int64), row_of, block, made, start,
+            score_new_words(
+                need,
+                rows.indptr,
+                rows.indices,
+                rows.data,
+                cache.idf,
+                row_of,
+                block,
+                start,
+                scores.scores,
+                scores.ready,
             )
-            state[1][need] = made
-            state[2][need] = 1
         vectorizer = cache.vectorizer
         score_words_dense(
-            offsets, numbers, rows.indptr, rows.indices, rows.data, state[3],
-            bool(vectorizer.sublinear_tf), weight, row_of, block, start,
-            state[1], state[2], out_row, out,
+            offsets,
+            numbers,
+            rows.indptr,
+            rows.indices,
+            rows.data,
+            rows.entry_idf,
+            bool(vectorizer.sublinear_tf),
+            weight,
+            row_of,
+            block,
+            start,
+            scores.scores,
+            scores.ready,
+            out_row,
+            out,
         )
 
     def _final(self, parts: _Parts, w: float, t_blend: float) -> tuple[list[Array], Array, Array]:
         """Blend, apply the final temperature; return per-block values, row sums, rest values.
 
         The final temperature acts on log-probabilities: ``p ∝ max(p, 1e-12) ** (1 / T)``.
+        The blocks' arrays are used up: the values are computed in them, in place (the same
+        arithmetic as with new arrays).
         """
         layout = self._layout()
         inv_t = 1.0 / t_blend
         total = np.zeros(parts.n, dtype=np.float64)
         values = []
         for block in parts.blocks:
-            mix = (
-                block.linear
-                if block.keyword is None or w == 0
-                else ((1.0 - w) * block.linear + w * block.keyword)
-            )
-            powered = np.maximum(mix, _FLOOR) ** inv_t
+            powered = block.linear
+            if block.keyword is not None and w != 0:
+                powered *= 1.0 - w
+                keyword = block.keyword
+                keyword *= w
+                powered += keyword
+            np.maximum(powered, _FLOOR, out=powered)
+            powered **= inv_t
             total[block.rows] += powered.sum(axis=1)
             values.append(powered)
         # Unscored departments: their classes share the department's probability evenly.
@@ -721,6 +730,34 @@ class CategoryModel:
         return self
 
 
+class _WordScores:
+    """The dense scores of each cached word of a word cache (:func:`score_words_dense`).
+
+    Kept while the cache keeps its word numbers (its generation) and the weights stay the
+    same block; rows are added, never remade, as the cache grows.
+    """
+
+    def __init__(self, cache: WordCachedTfidf, block: Array) -> None:
+        self._key = (cache, cache.generation, block)
+        self.scores = np.zeros((0, block.shape[1]), np.float32)
+        self.ready = np.zeros(0, np.uint8)
+
+    def holds(self, cache: WordCachedTfidf, block: Array) -> bool:
+        """Whether these are the scores of this cache's current words under this block."""
+        return all(a is b for a, b in zip(self._key, (cache, cache.generation, block), strict=True))
+
+    def grow(self, words: int) -> None:
+        """Make room for at least ``words`` cached words (new rows not ready)."""
+        if len(self.ready) >= words:
+            return
+        size = max(words, 2 * len(self.ready), 1024)
+        scores = np.zeros((size, self.scores.shape[1]), np.float32)
+        scores[: len(self.scores)] = self.scores
+        ready = np.zeros(size, np.uint8)
+        ready[: len(self.ready)] = self.ready
+        self.scores, self.ready = scores, ready
+
+
 @dataclass(frozen=True, slots=True)
 class _GroupPart:
     """What scoring one department needs: its classes, weights and keyword documents."""
@@ -872,6 +909,22 @@ def _dense_pays(weights: sp.csr_matrix) -> bool:
     return dense_bytes <= min(DENSE_MEMORY_FACTOR * 8 * weights.nnz, DENSE_MAX_BYTES)
 
 
+def _placed(values: Array, positions: Array, width: int, share: Array) -> Array:
+    """``values`` put at column ``positions`` of a (rows, width) zero array, times ``share``.
+
+    When the positions are every column in order, ``values`` itself is used (and changed); a
+    share of exactly 1 (a single department) is not multiplied by.
+    """
+    if len(positions) == width and bool((positions == np.arange(width)).all()):
+        placed = values
+    else:
+        placed = np.zeros((len(values), width), dtype=np.float64)
+        placed[:, positions] = values
+    if not bool((share == 1.0).all()):
+        placed *= share
+    return placed
+
+
 def _padded(parts: _Parts, layout: _Layout) -> tuple[Array, Array, Array]:
     """Rows of scored classes side by side: (class columns or -1, linear, keyword)."""
     counts = np.zeros(parts.n, dtype=np.int64)
@@ -927,8 +980,9 @@ def _with_tree_examples(
             extra_labels.append(leaf.id)
     empty = [""] * len(titles)
     return (
-        ProductTexts(texts.title + titles, texts.path + empty, texts.brand + empty,
-                     texts.description + empty),
+        ProductTexts(
+            texts.title + titles, texts.path + empty, texts.brand + empty, texts.description + empty
+        ),
         labels + extra_labels,
     )
 
