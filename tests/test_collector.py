@@ -83,3 +83,26 @@ def test_the_command_line_runs_as_a_program_and_a_test_runner_does_not() -> None
         env={**os.environ, "PYTHONPATH": str(ROOT)},
     )  # fmt: skip
     assert done.stderr.strip() == "True"
+
+
+def _blas_threads_after_map_loads(env: dict[str, str]) -> list[int]:
+    code = (
+        "import threadpoolctl\nfrom catmap.cli import main\n"
+        "try:\n    main(['map', '--help'])\nexcept SystemExit:\n    pass\n"
+        "import sys, numpy\n"
+        "print([p['num_threads'] for p in threadpoolctl.threadpool_info() "
+        "if p['user_api'] == 'blas'], file=sys.stderr)\n"
+    )
+    done = subprocess.run(
+        [sys.executable, "-c", code], capture_output=True, text=True, check=True, cwd=ROOT,
+        env={**env, "PYTHONPATH": str(ROOT)},
+    )  # fmt: skip
+    return [int(n) for n in done.stderr.strip().strip("[]").split(",") if n.strip()]
+
+
+def test_the_command_line_gives_blas_one_thread_unless_the_user_set_it() -> None:
+    # Reference: threadpoolctl (PyPI) reads the thread count NumPy's BLAS library runs with.
+    unset = ("OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS", "OMP_NUM_THREADS")
+    env = {k: v for k, v in os.environ.items() if k not in unset}
+    assert _blas_threads_after_map_loads(env) == [1]
+    assert _blas_threads_after_map_loads({**env, "OPENBLAS_NUM_THREADS": "2"}) == [2]
