@@ -52,7 +52,7 @@ def test_status_before_and_after_reviewing_audit_samples(
         "queued / reviewed count products by mapping state; open / done count review items, "
         "which also check accepted products (brand conflict, audit sample, audience)." in text
     )
-    assert "ferravelle: open items by reason: " in text
+    assert "ferravelle: open items by leading reason: " in text
 
     # Review every audit sample of ferravelle: one is judged wrong, the rest right.
     with Store.open(store_path(project)) as store:

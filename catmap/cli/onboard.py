@@ -387,7 +387,7 @@ def status_command(project: str | None, feed: str | None, as_json: bool) -> None
     for f in feeds:
         if f["open_by_reason"]:
             reasons = ", ".join(f"{k} {v:,}" for k, v in f["open_by_reason"].items())
-            _say(f"{escape(f['feed'])}: open items by reason: {escape(reasons)}")
+            _say(f"{escape(f['feed'])}: open items by leading reason: {escape(reasons)}")
     waiting = facts.get("brands_waiting", 0)
     if waiting:
         brands = "1 brand waits" if waiting == 1 else f"{waiting:,} brands wait"
