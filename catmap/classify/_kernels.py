@@ -477,6 +477,41 @@ def string_hashes(codes: Array, offsets: Array) -> Array:
     return out
 
 
+@njit(cache=True, nogil=True, inline="always")
+def _probe(
+    slots: Array,
+    hashes: Array,
+    store_codes: Array,
+    store_offsets: Array,
+    codes: Array,
+    start: int,
+    length: int,
+    h: np.uint64,
+) -> tuple[int, np.int64]:
+    """Look ``codes[start:start + length]`` (hash ``h``) up in a :func:`hash_table` of strings
+    ``store_codes[store_offsets[i]:store_offsets[i + 1]]`` whose hashes are ``hashes``.
+
+    Returns:
+        (its entry, or -1 when absent; the slot the probe ended on: the entry's, or the free
+        slot where it would go).
+    """
+    mask = len(slots) - 1
+    slot = np.int64(h & np.uint64(mask))
+    while slots[slot] != -1:
+        entry = slots[slot]
+        begin = store_offsets[entry]
+        if hashes[entry] == h and store_offsets[entry + 1] - begin == length:
+            same = True
+            for q in range(length):
+                if store_codes[begin + q] != codes[start + q]:
+                    same = False
+                    break
+            if same:
+                return entry, slot
+        slot = (slot + 1) & mask
+    return -1, slot
+
+
 @njit(cache=True, nogil=True)
 def _grown(array: Array, size: int) -> Array:
     out = np.zeros(size, dtype=array.dtype)
@@ -597,7 +632,6 @@ def _index_run(
     """:func:`index_words` from ``state`` on; False when a new word needs more room first."""
     n = len(codes)
     n_space = len(is_space)
-    mask = np.uint64(len(slots) - 1)
     p, text, m, total = state[0], state[1], state[2], state[3]
     while p < n:
         code = codes[p]
@@ -618,21 +652,7 @@ def _index_run(
             h = (h ^ np.uint64(code)) * _FNV_PRIME
             p += 1
         length = p - start
-        number = -1
-        slot = np.int64(h & mask)
-        while slots[slot] != -1:
-            entry = slots[slot]
-            begin = store_offsets[entry]
-            if hashes[entry] == h and store_offsets[entry + 1] - begin == length:
-                same = True
-                for q in range(length):
-                    if store_codes[begin + q] != codes[start + q]:
-                        same = False
-                        break
-                if same:
-                    number = entry
-                    break
-            slot = (slot + 1) & (len(slots) - 1)
+        number, slot = _probe(slots, hashes, store_codes, store_offsets, codes, start, length, h)
         if number < 0:
             end = store_offsets[total]
             if (
@@ -706,7 +726,6 @@ def word_tokens(
     tokens = np.empty(len(codes) // max(min_length, 1) + 1, dtype=np.int64)
     uncut = np.empty(n_words, dtype=np.int64)
     n_uncut = 0
-    mask = len(slots) - 1
     n_table = len(is_word)
     m = 0
     for i in range(n_words):
@@ -734,22 +753,10 @@ def word_tokens(
             length = p - start
             if length < min_length:
                 continue
-            number = unknown
-            slot = np.int64(h & np.uint64(mask))
-            while slots[slot] != -1:
-                entry = slots[slot]
-                begin = token_offsets[entry]
-                if token_hashes[entry] == h and token_offsets[entry + 1] - begin == length:
-                    same = True
-                    for q in range(length):
-                        if token_codes[begin + q] != codes[start + q]:
-                            same = False
-                            break
-                    if same:
-                        number = entry
-                        break
-                slot = (slot + 1) & mask
-            tokens[m] = number
+            entry, _ = _probe(
+                slots, token_hashes, token_codes, token_offsets, codes, start, length, h
+            )
+            tokens[m] = entry if entry >= 0 else unknown
             m += 1
         counts[i + 1] = m
     return counts, tokens[:m].copy(), uncut[:n_uncut].copy()
