@@ -31,11 +31,15 @@ resident memory of its process (MB; the CLI row: the larger of its two processes
 per second when predicting the test split (in-process on one thread; the CLI row: test products
 over the wall time of ``catmap map``). Then catmap and fastText predict the test split again in
 one process, in alternate rounds (``--rounds``), with the load average before and after: the
-machine may be shared, and alternating puts both under the same load.
+machine may be shared, and alternating puts both under the same load. Last, ``--cold`` new
+processes each load both saved models and time their first prediction of the test split (what a
+new feed costs: catmap's word caches are empty), catmap first in every other process; printed:
+the median, lowest and highest products/s of each, and of catmap / fastText per process.
 
 Usage:
     python benchmarks/bench_real_sections.py
     python benchmarks/bench_real_sections.py --only catmap,cli,fasttext --rounds 5
+    python benchmarks/bench_real_sections.py --only catmap,fasttext --rounds 5 --cold 9
 """
 
 from __future__ import annotations
@@ -339,6 +343,41 @@ def run_cli(data_file: str, tree_file: str, work_dir: str) -> dict[str, Any]:
     }
 
 
+def _saved_models(data_file: str, tree_file: str, save_dir: str) -> tuple[list[str], Any, Any]:
+    """The test texts, catmap's saved model (prepared) and fastText's, loaded in this process."""
+    import fasttext
+
+    from catmap.classify.storage import load_model
+    from catmap.tree.taxonomy import load_tree
+
+    x_test = json.loads(Path(data_file).read_text(encoding="utf-8"))["x_test"]
+    model, _ = load_model(Path(save_dir) / "catmap-model", load_tree(tree_file))
+    model.prepare()
+    return x_test, model, fasttext.load_model(str(Path(save_dir) / "fasttext.bin"))
+
+
+def cold_pass(data_file: str, tree_file: str, save_dir: str, catmap_first: bool) -> list[float]:
+    """Seconds of catmap's and of fastText's first prediction of the test split in a new process.
+
+    What a new feed costs: catmap's word caches are empty. Loading and preparing the models is
+    not timed. One thread; ``catmap_first`` chooses which runs first (alternate it over runs).
+    """
+    from catmap.classify.features import ProductTexts
+
+    x_test, model, ft = _saved_models(data_file, tree_file, save_dir)
+    empty = [""] * len(x_test)
+    seconds = {}
+    with _one_thread():
+        for name in ("catmap", "fasttext") if catmap_first else ("fasttext", "catmap"):
+            started = time.perf_counter()
+            if name == "catmap":
+                model.top_k(ProductTexts(list(x_test), empty, empty, empty), 1)
+            else:
+                fasttext_predict(ft, x_test)
+            seconds[name] = time.perf_counter() - started
+    return [seconds["catmap"], seconds["fasttext"]]
+
+
 def speed_rounds(data_file: str, tree_file: str, save_dir: str, rounds: int) -> dict[str, Any]:
     """Products/s of catmap and fastText in one process, one thread, in alternate rounds.
 
@@ -348,16 +387,9 @@ def speed_rounds(data_file: str, tree_file: str, save_dir: str, rounds: int) -> 
     """
     import os
 
-    import fasttext
-
     from catmap.classify.features import ProductTexts
-    from catmap.classify.storage import load_model
-    from catmap.tree.taxonomy import load_tree
 
-    x_test = json.loads(Path(data_file).read_text(encoding="utf-8"))["x_test"]
-    model, _ = load_model(Path(save_dir) / "catmap-model", load_tree(tree_file))
-    model.prepare()
-    ft = fasttext.load_model(str(Path(save_dir) / "fasttext.bin"))
+    x_test, model, ft = _saved_models(data_file, tree_file, save_dir)
     empty = [""] * len(x_test)
     load_before = os.getloadavg()
     figures: dict[str, list[float]] = {"catmap": [], "fasttext": []}
@@ -383,6 +415,11 @@ def main(argv: list[str] | None = None) -> int:
     parser.add_argument(
         "--rounds", type=int, default=5,
         help="alternate speed rounds of catmap and fastText (default 5; 0: none)",
+    )
+    parser.add_argument(
+        "--cold", type=int, default=7,
+        help="new processes that each time catmap's and fastText's first prediction of the test "
+        "split (default 7; 0: none)",
     )
     parser.add_argument(
         "--catmap-option",
@@ -440,6 +477,14 @@ def main(argv: list[str] | None = None) -> int:
                 speed = pool.apply(
                     speed_rounds, (str(data_file), str(tree_file), tmp, args.rounds)
                 )
+        cold: list[list[float]] = []
+        for run in range(args.cold if saved else 0):
+            with multiprocessing.get_context("spawn").Pool(1) as pool:
+                cold.append(
+                    pool.apply(
+                        cold_pass, (str(data_file), str(tree_file), tmp, run % 2 == 0)
+                    )
+                )
     header = (
         f"{'model':<11} {'acc':>6} {'macroF1':>8} {'train s':>8} {'peak MB':>8} "
         f"{'products/s':>11}"
@@ -473,6 +518,24 @@ def main(argv: list[str] | None = None) -> int:
             f"  catmap / fasttext per round: median {ratios[len(ratios) // 2]:.2f} "
             f"(lowest {ratios[0]:.2f}, highest {ratios[-1]:.2f}); catmap's first round starts "
             "with empty word caches, later rounds reuse them, as a long feed does"
+        )
+    if cold:
+        n = len(x_test)
+        cat = sorted(n / c for c, _ in cold)
+        ft = sorted(n / f for _, f in cold)
+        ratios = sorted(f / c for c, f in cold)
+        print(
+            f"\nfirst prediction of the test split in {len(cold)} new processes (one thread, "
+            "catmap's word caches empty, models loaded beforehand, which one runs first "
+            "alternating), products/s:"
+        )
+        print(f"  catmap   median {cat[len(cat) // 2]:,.0f} (lowest {cat[0]:,.0f}, highest "
+              f"{cat[-1]:,.0f})")
+        print(f"  fasttext median {ft[len(ft) // 2]:,.0f} (lowest {ft[0]:,.0f}, highest "
+              f"{ft[-1]:,.0f})")
+        print(
+            f"  catmap / fasttext per process: median {ratios[len(ratios) // 2]:.2f} (lowest "
+            f"{ratios[0]:.2f}, highest {ratios[-1]:.2f})"
         )
     print(
         "\nData: the Debian archive's package index (apt-cache dumpavail). catmap: fit_model "
