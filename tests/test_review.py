@@ -1175,3 +1175,16 @@ async def test_the_screen_shows_the_reason_refuses_enter_and_settles_with_c(
         assert "'Solvex' is not a brand" in _screen_text(app, "message")
         assert brand_store.item(item_id).state == "done"
         await pilot.press("q")
+
+
+def test_the_finish_shows_the_clock_today_the_weekday_within_a_week_else_the_days() -> None:
+    from datetime import UTC, datetime, timedelta
+
+    from catmap.review.app import finish_label
+
+    now = datetime(2026, 12, 3, 9, 0, tzinfo=UTC).astimezone()  # 2026-12-03 is a Thursday
+    start = now.replace(hour=9, minute=0)
+    assert finish_label(start + timedelta(hours=2, minutes=5), start) == "11:05"
+    tomorrow = start + timedelta(days=1, hours=-3)
+    assert finish_label(tomorrow, start) == tomorrow.strftime("%a ") + "06:00"
+    assert finish_label(start + timedelta(days=9), start) == "in 9 days"

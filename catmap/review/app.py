@@ -27,6 +27,7 @@ when the group's node is.
 from __future__ import annotations
 
 from collections.abc import Callable
+from datetime import datetime
 from typing import ClassVar
 
 from rich.text import Text
@@ -115,6 +116,18 @@ def confidence_bar(confidence: float, width: int = BAR_WIDTH) -> str:
     """A bar of ``width`` cells, filled in proportion to ``confidence`` (0..1)."""
     filled = round(max(0.0, min(1.0, confidence)) * width)
     return "█" * filled + "·" * (width - filled)
+
+
+def finish_label(finish: datetime, now: datetime) -> str:
+    """When the queue would be empty, as the top line shows it: the clock time today, the day
+    and time within a week, else in how many days (times in the local time zone)."""
+    finish, now = finish.astimezone(), now.astimezone()
+    days = (finish.date() - now.date()).days
+    if days <= 0:
+        return finish.strftime("%H:%M")
+    if days < 7:
+        return finish.strftime("%a %H:%M")
+    return f"in {days} days"
 
 
 def _restriction_caution() -> str:
@@ -420,7 +433,7 @@ class ReviewApp(App[None]):
         if pace.per_minute is not None:
             line.append(f"  ·  {pace.per_minute:.1f}/min")
         if pace.finish is not None:
-            line.append(f"  ·  finish ≈ {pace.finish.astimezone().strftime('%H:%M')}")
+            line.append(f"  ·  finish ≈ {finish_label(pace.finish, session.now())}")
         self.query_one("#topbar", Static).update(line)
 
     def render_item(self) -> None:

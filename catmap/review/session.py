@@ -607,6 +607,10 @@ class ReviewSession:
 
     # -- progress and leaving ------------------------------------------------------------------
 
+    def now(self) -> datetime:
+        """The session clock's time (the clock given to the session; the wall clock by default)."""
+        return self._clock()
+
     def pace(self) -> Pace:
         """Items done this session, left in the queue, items per minute, projected finish."""
         summary = self.store.queue_summary(self.feed)
