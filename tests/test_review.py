@@ -18,12 +18,14 @@ from textual.widgets import OptionList, Static
 from catmap.attributes import RESTRICTION_CAUTION
 from catmap.errors import ReviewError, StoreError
 from catmap.records import Alternative, Attributes, Mapping, Product
-from catmap.review import reject_brand, reset_brand
+from catmap.review import confirm_brand, reject_brand, reset_brand
 from catmap.review.app import AGE_KEYS, KEY_LINES, WHO_KEYS, ReviewApp, confidence_bar
 from catmap.review.sample import (
     ANKLE_BOOTS,
     BOOT_GROUP,
+    BRAND_ONLY,
     CHELSEA_BOOTS,
+    JOINED_BRAND,
     RED_WINE,
     RUNNING_SHOES,
     SAMPLE_FEED,
@@ -350,7 +352,10 @@ async def test_restricted_product_shows_the_caution(store: Store, tree: Category
 
 @sync
 async def test_empty_queue_is_said(memory_store: Store, tree: CategoryTree) -> None:
-    for item in memory_store.items():
+    # A candidate brand's item waits for a verdict on the brand, not for a node decision.
+    for brand in (JOINED_BRAND, BRAND_ONLY):
+        confirm_brand(memory_store, brand, actor="setup")
+    for item in memory_store.items(state="open"):
         memory_store.decide(item.id, "setup", "accept")
     app = ReviewApp(_session(memory_store, tree))
     async with app.run_test(size=SIZE) as pilot:
@@ -358,7 +363,7 @@ async def test_empty_queue_is_said(memory_store: Store, tree: CategoryTree) -> N
         assert "review queue is empty" in _screen_text(app, "product")
         await pilot.press("enter")  # nothing to accept: nothing happens
         await pilot.press("q")
-    assert len(memory_store.decisions()) == 11
+    assert len(memory_store.decisions()) == 12  # every item but the brand-only one
 
 
 @sync
@@ -405,9 +410,9 @@ def test_pace_counts_decisions_and_projects_the_finish(
     session.accept()
     session.accept()
     pace = session.pace()
-    # 2 items in 1 minute; 11 queued - 2 done = 9 left (one of them on screen): 4.5 minutes.
-    assert (pace.done, pace.left, pace.per_minute) == (2, 9, 2.0)
-    assert pace.finish == clock.now + timedelta(minutes=4.5)
+    # 2 items in 1 minute; 13 queued - 2 done = 11 left (one of them on screen): 5.5 minutes.
+    assert (pace.done, pace.left, pace.per_minute) == (2, 11, 2.0)
+    assert pace.finish == clock.now + timedelta(minutes=5.5)
     session.skip()
     assert session.pace().done == 2  # a skip is not a decision on the node
     session.undo()  # undoes the skip (the last decision)
