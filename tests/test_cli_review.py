@@ -16,7 +16,8 @@ from click.testing import CliRunner, Result
 
 from catmap.cli import main
 from catmap.cli import review as review_command
-from catmap.review.sample import SAMPLE_FEED, build_sample_store
+from catmap.review import confirm_brand
+from catmap.review.sample import BRAND_ONLY, JOINED_BRAND, SAMPLE_FEED, build_sample_store
 from catmap.review.session import ReviewSession
 from catmap.store import Store, store_path
 
@@ -56,7 +57,10 @@ def test_empty_queue_says_so_without_the_screen(
     project: Path, screens: list[ReviewSession]
 ) -> None:
     with Store.open(store_path(project)) as store:
-        for item in store.items():
+        # The candidate brands' items wait for a verdict on the brand, not for a decision.
+        for brand in (JOINED_BRAND, BRAND_ONLY):
+            confirm_brand(store, brand, actor="setup")
+        for item in store.items(state="open"):
             store.decide(item.id, "setup", "accept")
     result = _run("review", "--project", str(project), "--reviewer", "ana")
     assert result.exit_code == 0
@@ -69,7 +73,7 @@ def test_opens_the_screen_on_a_claimed_item(project: Path, screens: list[ReviewS
     assert result.exit_code == 0, result.output
     (session,) = screens
     assert session.reviewer == "ana"
-    assert result.stdout == "Reviewed 0 items this session; 11 left in the queue.\n"
+    assert result.stdout == "Reviewed 0 items this session; 13 left in the queue.\n"
     with Store.open(store_path(project)) as store:
         claimed = store.items(state="claimed")
     assert [(i.product_id, i.claimed_by) for i in claimed] == [("BT-001", "ana")]

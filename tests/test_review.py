@@ -18,12 +18,14 @@ from textual.widgets import OptionList, Static
 from catmap.attributes import RESTRICTION_CAUTION
 from catmap.errors import ReviewError, StoreError
 from catmap.records import Alternative, Attributes, Mapping, Product
-from catmap.review import reject_brand, reset_brand
+from catmap.review import confirm_brand, reject_brand, reset_brand
 from catmap.review.app import AGE_KEYS, KEY_LINES, WHO_KEYS, ReviewApp, confidence_bar
 from catmap.review.sample import (
     ANKLE_BOOTS,
     BOOT_GROUP,
+    BRAND_ONLY,
     CHELSEA_BOOTS,
+    JOINED_BRAND,
     RED_WINE,
     RUNNING_SHOES,
     SAMPLE_FEED,
@@ -350,7 +352,10 @@ async def test_restricted_product_shows_the_caution(store: Store, tree: Category
 
 @sync
 async def test_empty_queue_is_said(memory_store: Store, tree: CategoryTree) -> None:
-    for item in memory_store.items():
+    # A candidate brand's item waits for a verdict on the brand, not for a node decision.
+    for brand in (JOINED_BRAND, BRAND_ONLY):
+        confirm_brand(memory_store, brand, actor="setup")
+    for item in memory_store.items(state="open"):
         memory_store.decide(item.id, "setup", "accept")
     app = ReviewApp(_session(memory_store, tree))
     async with app.run_test(size=SIZE) as pilot:
@@ -358,7 +363,7 @@ async def test_empty_queue_is_said(memory_store: Store, tree: CategoryTree) -> N
         assert "review queue is empty" in _screen_text(app, "product")
         await pilot.press("enter")  # nothing to accept: nothing happens
         await pilot.press("q")
-    assert len(memory_store.decisions()) == 11
+    assert len(memory_store.decisions()) == 12  # every item but the brand-only one
 
 
 @sync
@@ -405,9 +410,9 @@ def test_pace_counts_decisions_and_projects_the_finish(
     session.accept()
     session.accept()
     pace = session.pace()
-    # 2 items in 1 minute; 11 queued - 2 done = 9 left (one of them on screen): 4.5 minutes.
-    assert (pace.done, pace.left, pace.per_minute) == (2, 9, 2.0)
-    assert pace.finish == clock.now + timedelta(minutes=4.5)
+    # 2 items in 1 minute; 13 queued - 2 done = 11 left (one of them on screen): 5.5 minutes.
+    assert (pace.done, pace.left, pace.per_minute) == (2, 11, 2.0)
+    assert pace.finish == clock.now + timedelta(minutes=5.5)
     session.skip()
     assert session.pace().done == 2  # a skip is not a decision on the node
     session.undo()  # undoes the skip (the last decision)
@@ -1174,6 +1179,210 @@ async def test_the_screen_shows_the_reason_refuses_enter_and_settles_with_c(
         await pilot.pause()
         assert "'Solvex' is not a brand" in _screen_text(app, "message")
         assert brand_store.item(item_id).state == "done"
+        await pilot.press("q")
+
+
+# -- the sample's candidate brands, reached on the screen -------------------------------------
+
+# The sample queues its brand items last: the tote (its node and its brand "Pellivane") after
+# the 11 items before it, then the socks' brand-only item ("Kelvadra").
+BEFORE_TOTE = 11
+
+
+async def _skip(pilot: Any, times: int) -> None:
+    for _ in range(times):
+        await pilot.press("s")
+    await pilot.pause()
+
+
+def _record_status(store: Store, name: str) -> str:
+    (record,) = [r for r in store.brand_records() if r["name"] == name]
+    return str(record["status"])
+
+
+def _sample_products(store: Store, *product_ids: str) -> dict[str, tuple[str, str, str]]:
+    """Each product's (brand, brand status, mapping status)."""
+    return {
+        p.product_id: (m.attributes.brand, m.attributes.brand_status, m.status)
+        for p, m in store.mappings(SAMPLE_FEED)
+        if p.product_id in product_ids
+    }
+
+
+@sync
+async def test_the_sample_brand_only_item_refuses_enter_and_takes_c_u_r(
+    store: Store, tree: CategoryTree
+) -> None:
+    socks = ("KV-001", "KV-002")
+    before = _sample_products(store, *socks)
+    assert before == {s: (BRAND_ONLY, "candidate", "accepted") for s in socks}
+    app = ReviewApp(_session(store, tree))
+    async with app.run_test(size=SIZE) as pilot:
+        await _skip(pilot, BEFORE_TOTE + 1)
+        view = app.session.current
+        assert view is not None and view.product.product_id == "KV-001"
+        item_id = view.item.id
+        assert store.item(item_id).reasons == ("brand_candidate",)
+        assert "queued brand candidate: a brand no person" in _screen_text(app, "product")
+        attributes = _screen_text(app, "attributes")
+        assert f"{BRAND_ONLY} (70%, candidate)" in attributes
+        assert "queued for this brand alone" in attributes
+
+        # Enter: refused, nothing written, the item stays on screen and claimed.
+        await pilot.press("enter")
+        await pilot.pause()
+        assert (
+            f"this item waits for a verdict on the brand '{BRAND_ONLY}': c confirm · "
+            "r not a brand · s skip" in _screen_text(app, "message")
+        )
+        assert {d.action for d in store.decisions()} == {"skip"}
+        assert len(store.decisions()) == BEFORE_TOTE + 1
+        item = store.item(item_id)
+        assert (item.state, item.claimed_by) == ("claimed", "ana")
+        assert app.session.current is not None and app.session.current.item.id == item_id
+
+        # c: the brand is confirmed for both pairs of socks, the item is settled and leaves.
+        await pilot.press("c")
+        await pilot.pause()
+        assert (
+            f"brand {BRAND_ONLY} confirmed: 2 products now trusted; 1 brand item settled"
+            in _screen_text(app, "message")
+        )
+        item = store.item(item_id)
+        assert (item.state, item.withdrawn_reason) == (
+            "done", f"brand '{BRAND_ONLY}' confirmed by ana",
+        )  # fmt: skip
+        assert _sample_products(store, *socks) == {
+            s: (BRAND_ONLY, "confirmed", "accepted") for s in socks
+        }
+        assert _record_status(store, BRAND_ONLY) == "confirmed"
+        assert store.brands_waiting(SAMPLE_FEED) == [JOINED_BRAND]
+        # The next item is the first of those skipped: the first boot.
+        assert app.session.current is not None
+        assert app.session.current.product.product_id == "BT-001"
+
+        # u: the confirmation is taken back, the item comes back on screen.
+        await pilot.press("u")
+        await pilot.pause()
+        assert (
+            f"undone: brand {BRAND_ONLY} is a candidate again (2 products); its review item "
+            "is back" in _screen_text(app, "message")
+        )
+        item = store.item(item_id)
+        assert (item.state, item.claimed_by, item.reasons) == (
+            "claimed", "ana", ("brand_candidate",),
+        )  # fmt: skip
+        assert app.session.current is not None and app.session.current.item.id == item_id
+        assert _sample_products(store, *socks) == before
+        assert _record_status(store, BRAND_ONLY) == "candidate"
+        assert store.brands_waiting(SAMPLE_FEED) == [BRAND_ONLY, JOINED_BRAND]
+
+        # r: not a brand; the socks lose it, their accepted mappings stay accepted.
+        await pilot.press("r")
+        await pilot.pause()
+        assert (
+            f"'{BRAND_ONLY}' is not a brand: taken off 2 products; 1 brand item settled"
+            in _screen_text(app, "message")
+        )
+        item = store.item(item_id)
+        assert (item.state, item.withdrawn_reason) == (
+            "done", f"brand '{BRAND_ONLY}' rejected as no brand by ana",
+        )  # fmt: skip
+        assert _sample_products(store, *socks) == {s: ("", "none", "accepted") for s in socks}
+        evidence = store.mapping(SAMPLE_FEED, "KV-002").attributes.brand_evidence
+        assert evidence == f"'{BRAND_ONLY}' rejected as no brand by ana"
+        assert _record_status(store, BRAND_ONLY) == "rejected"
+        await pilot.press("q")
+    # Verdicts on the brand, never decisions on the item.
+    assert {d.action for d in store.decisions()} == {"skip"}
+    assert [e.action for e in store.audit_log() if e.action.startswith("brand_")] == [
+        "brand_confirmed", "brand_reset", "brand_rejected",
+    ]  # fmt: skip
+
+
+@sync
+async def test_the_sample_tote_stands_for_its_node_and_its_brand(
+    store: Store, tree: CategoryTree
+) -> None:
+    totes = ("PV-001", "PV-002")
+    app = ReviewApp(_session(store, tree))
+    async with app.run_test(size=SIZE) as pilot:
+        await _skip(pilot, BEFORE_TOTE)
+        view = app.session.current
+        assert view is not None and view.product.product_id == "PV-001"
+        item_id = view.item.id
+        assert store.item(item_id).reasons == ("low_confidence", "brand_candidate")
+        product = _screen_text(app, "product")
+        assert "low confidence" in product and "brand candidate" in product
+        attributes = _screen_text(app, "attributes")
+        assert "c confirm · r not a brand" in attributes
+        assert "queued for this brand alone" not in attributes
+
+        # c settles the brand; the item stays on screen, queued for its node alone.
+        await pilot.press("c")
+        await pilot.pause()
+        assert (
+            f"brand {JOINED_BRAND} confirmed: 2 products now trusted; 1 brand item settled"
+            in _screen_text(app, "message")
+        )
+        item = store.item(item_id)
+        assert (item.state, item.reasons) == ("claimed", ("low_confidence",))
+        assert app.session.current is not None and app.session.current.item.id == item_id
+        assert _sample_products(store, *totes) == {
+            "PV-001": (JOINED_BRAND, "confirmed", "queued"),
+            "PV-002": (JOINED_BRAND, "confirmed", "accepted"),
+        }
+
+        # Enter decides the node; no brand waits on the tote, the socks' brand item is next.
+        await pilot.press("enter")
+        await pilot.pause()
+        (decision,) = [d for d in store.decisions() if d.action != "skip"]
+        assert (decision.product_id, decision.action) == ("PV-001", "accept")
+        assert store.mapping(SAMPLE_FEED, "PV-001").status == "reviewed"
+        assert store.item(item_id).state == "done"
+        assert app.session.current is not None
+        assert app.session.current.product.product_id == "KV-001"
+        assert store.brands_waiting(SAMPLE_FEED) == [BRAND_ONLY]
+        await pilot.press("q")
+
+
+@sync
+async def test_the_sample_tote_decided_without_a_verdict_leaves_its_brand_waiting(
+    store: Store, tree: CategoryTree
+) -> None:
+    app = ReviewApp(_session(store, tree))
+    async with app.run_test(size=SIZE) as pilot:
+        await _skip(pilot, BEFORE_TOTE)
+        assert app.session.current is not None
+        assert app.session.current.product.product_id == "PV-001"
+        await pilot.press("enter")
+        await pilot.pause()
+        (decision,) = [d for d in store.decisions() if d.action != "skip"]
+        assert (decision.product_id, decision.action) == ("PV-001", "accept")
+        # The node is decided; the brand still waits, on a brand-only item of the same tote,
+        # shown next.
+        view = app.session.current
+        assert view is not None and view.product.product_id == "PV-001"
+        assert view.item.reasons == ("brand_candidate",)
+        assert store.brands_waiting(SAMPLE_FEED) == [BRAND_ONLY, JOINED_BRAND]
+        await pilot.press("enter")
+        await pilot.pause()
+        message = _screen_text(app, "message")
+        assert f"waits for a verdict on the brand '{JOINED_BRAND}'" in message
+        await pilot.press("r")
+        await pilot.pause()
+        assert (
+            f"'{JOINED_BRAND}' is not a brand: taken off 2 products; 1 brand item settled"
+            in _screen_text(app, "message")
+        )
+        assert store.item(view.item.id).state == "done"
+        # The reviewed tote keeps its node; both totes lose the brand.
+        assert _sample_products(store, "PV-001", "PV-002") == {
+            "PV-001": ("", "none", "reviewed"),
+            "PV-002": ("", "none", "accepted"),
+        }
+        assert app.session.current is not None
+        assert app.session.current.product.product_id == "KV-001"
         await pilot.press("q")
 
 

@@ -160,6 +160,22 @@ def test_one_item_per_brand_joined_to_the_best_queued_item_else_on_the_first_pro
     assert store.brands_waiting() == ["Nimbra", "Solvex"]
 
 
+def test_a_priority_given_places_brand_only_items_there_and_a_joined_item_keeps_its_own(
+    store: Store,
+) -> None:
+    store.place_brand_items(FEED, BRANDS, priority=0.02)
+    items = _brand_items(store)
+    assert items["Solvex"][2] == ("brand_candidate",)
+    assert items["Solvex"][4] == pytest.approx(0.02)
+    # Nimbra joined N-03's item, worth more than the priority given: it keeps its 0.6.
+    assert items["Nimbra"][1] == "N-03" and items["Nimbra"][4] == pytest.approx(0.6)
+    (entry,) = [e for e in store.audit_log() if e.action == "queue_brand_items"]
+    assert entry.detail["priority"] == pytest.approx(0.02)
+    # Below every other waiting item: the brand-only item comes last in the queue.
+    others = [i.priority for i in store.items(state="open") if i.id != items["Solvex"][0]]
+    assert len(others) == len(LOW) + 2 and min(others) > 0.02  # D-01..D-07, N-02, N-03
+
+
 def test_placing_again_and_onboarding_again_choose_the_same_items(store: Store) -> None:
     first = store.place_brand_items(FEED, BRANDS)
     items = len(store.items())

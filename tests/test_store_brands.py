@@ -4,8 +4,8 @@ candidate; the products that carry the brand follow, a brand a reviewer typed is
 every verdict is audited, and one verdict is never taken back over another person's later one.
 
 The verdicts are tried on the review screen's sample store (catmap.review.sample): six boots
-carry the candidate brand "Ostravel" (learned from their titles), the other products brands
-taken as the dictionary's."""
+carry the candidate brand "Ostravel" (learned from their titles); the totes and the socks carry
+candidate brands of their own, the other products brands taken as the dictionary's."""
 
 from __future__ import annotations
 

@@ -7,7 +7,16 @@ shared tree version 1. Brands and products are invented.
 Queue order (priority, highest first): the six boots of one retailer category (a strong group;
 their brand "Ostravel" is a candidate of the project's brand registry, learned from the titles),
 the red wine, the T-shirt, the jumper with a brand conflict, the kids' hoodie with an audience
-conflict, then the audit sample.
+conflict, the audit sample, then two items of candidate brands
+(:meth:`~catmap.store.Store.place_brand_items`): a tote bag queued for its node that also
+stands for its brand "Pellivane" (learned from the titles), and a brand-only item for
+"Kelvadra", read from the brand field of two pairs of socks already accepted.
+
+The two brand items come last, at priorities chosen here, where onboarding would rank them
+behind three quarters of the feed's low-confidence items (right after the boots), so that the
+items before them keep the order the screen's tests walk. For the same reason "Ostravel" has no
+item of its own (onboarding would add the brand's reason to the first boot's item); its
+products still take ``c`` and ``r`` like any product carrying a candidate brand.
 """
 
 from __future__ import annotations
@@ -33,8 +42,19 @@ JUMPERS = "1051"
 HOODIES = "1053"
 SWEATSHIRTS = "1054"
 RED_WINE = "8211"
+TOTE_BAGS = "2012"
+SHOULDER_BAGS = "2011"
+CROSSBODY_BAGS = "2013"
+WOOL_SOCKS = "1246"
 
 BOOT_GROUP = "Shoes > Boots"
+
+# The candidate brands queued for a person's verdict (see the module's docstring).
+JOINED_BRAND = "Pellivane"
+BRAND_ONLY = "Kelvadra"
+# Below the audit sample's 0.5: the brand items come last.
+JOINED_PRIORITY = 0.45
+BRAND_ONLY_PRIORITY = 0.4
 
 
 def _row(
@@ -84,7 +104,7 @@ def _row(
 
 def sample_rows() -> list[MappedRow]:
     """Return the sample products with their mappings and queue placement."""
-    return [*_boot_group(), *_single_reviews(), *_audit_and_accepted()]
+    return [*_boot_group(), *_single_reviews(), *_audit_and_accepted(), *_candidate_brands()]
 
 
 def _boot_group() -> list[MappedRow]:
@@ -218,6 +238,64 @@ def _audit_and_accepted() -> list[MappedRow]:
     ]
 
 
+def _candidate(brand: str, evidence: str) -> Attributes:
+    return Attributes(
+        brand=brand,
+        brand_confidence=0.7,
+        brand_evidence=f"{evidence} {CANDIDATE_MARK}",
+        brand_status="candidate",
+    )
+
+
+def _candidate_brands() -> list[MappedRow]:
+    """Two candidate brands: Pellivane on a tote queued for its node and on an accepted one,
+    Kelvadra on two pairs of socks, both accepted."""
+    totes = (("Clothing", "Bags"), TOTE_BAGS, "34.00")
+    socks = (("Clothing", "Socks"), WOOL_SOCKS, "15.90")
+    return [
+        _row(
+            "PV-001",
+            "Pellivane waxed canvas tote, olive",
+            path=totes[0],
+            node=totes[1],
+            confidence=0.58,
+            alternatives=((SHOULDER_BAGS, 0.27), (CROSSBODY_BAGS, 0.09)),
+            brand=JOINED_BRAND,
+            price=totes[2],
+            priority=JOINED_PRIORITY,
+            attributes=_candidate(JOINED_BRAND, "title lead 'pellivane'"),
+        ),
+        _row(
+            "PV-002",
+            "Pellivane canvas tote, natural",
+            path=totes[0],
+            node=totes[1],
+            confidence=0.97,
+            brand=JOINED_BRAND,
+            price=totes[2],
+            status="accepted",
+            attributes=_candidate(JOINED_BRAND, "title lead 'pellivane'"),
+        ),
+        *(
+            _row(
+                product_id,
+                title,
+                path=socks[0],
+                node=socks[1],
+                confidence=0.98,
+                brand=BRAND_ONLY,
+                price=socks[2],
+                status="accepted",
+                attributes=_candidate(BRAND_ONLY, f"field not in dictionary '{BRAND_ONLY}'"),
+            )
+            for product_id, title in (
+                ("KV-001", "Kelvadra merino hiking socks, 2 pairs"),
+                ("KV-002", "Kelvadra thermal bed socks, grey"),
+            )
+        ),
+    ]
+
+
 def build_sample_store(path: str | Path) -> Store:
     """Create (or fill again) a store at ``path`` with the sample products; return it open."""
     store = Store.open(path)
@@ -229,8 +307,14 @@ def build_sample_store(path: str | Path) -> Store:
     registry = BrandRegistry()
     for row in rows:
         registry.observe(row.attributes.brand, feed=SAMPLE_FEED)
+    candidates = ("Ostravel", JOINED_BRAND, BRAND_ONLY)
     for brand in registry.brands():
-        if brand.name != "Ostravel":
+        if brand.name not in candidates:
             registry.confirm(brand.name)  # stand-ins for brands of the dictionary
     store.save_brand_records(registry.to_dict()["brands"])
+    # The socks' brand-only item at its priority; the tote's item, worth more, keeps its own.
+    store.place_brand_items(
+        feed, {name: [name] for name in (JOINED_BRAND, BRAND_ONLY)}, run_id=run,
+        priority=BRAND_ONLY_PRIORITY,
+    )  # fmt: skip
     return store

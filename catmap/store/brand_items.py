@@ -380,6 +380,7 @@ class BrandItemsMixin(AuditMixin):
         *,
         run_id: int | None = None,
         actor: str = "catmap",
+        priority: float | None = None,
     ) -> list[int]:
         """Give each candidate brand of a feed one waiting review item, in one transaction.
 
@@ -394,6 +395,9 @@ class BrandItemsMixin(AuditMixin):
                 carry.
             run_id: the run that placed them (recorded in the audit log).
             actor: who places them.
+            priority: the priority of a brand-only item (an item joined keeps a higher one);
+                None: behind three quarters of the feed's waiting low-confidence items
+                (:func:`feed_brand_priority`), as onboarding places them.
 
         Returns:
             The ids of the items standing for the brands, in the order of ``brands``.
@@ -401,7 +405,8 @@ class BrandItemsMixin(AuditMixin):
         fid = self._feed_id(feed)
         with self._transaction() as conn:
             now = self._now()
-            priority = feed_brand_priority(conn, fid)
+            if priority is None:
+                priority = feed_brand_priority(conn, fid)
             placed: list[int] = []
             changed: list[int] = []
             for name, spellings in brands.items():
