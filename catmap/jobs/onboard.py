@@ -61,6 +61,7 @@ from catmap.jobs._brand_queue import queue_brand_candidates
 from catmap.jobs._brand_registry import load_registry, merge_feed_registry
 from catmap.jobs._calibration import (
     UNCOVERED_LANGUAGE_CAP,
+    UNCOVERED_LANGUAGE_FLOOR,
     FeedShift,
     ValidationPredictions,
     accept_threshold,
@@ -97,6 +98,7 @@ __all__ = [
     "CHUNK_SIZE",
     "DEFAULT_BACKOFF_THRESHOLD",
     "UNCOVERED_LANGUAGE_CAP",
+    "UNCOVERED_LANGUAGE_FLOOR",
     "FeedMapper",
     "FeedOutcome",
     "FeedShift",
