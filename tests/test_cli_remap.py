@@ -113,6 +113,31 @@ def test_version_detected_from_the_store(project: Path) -> None:
     assert json.loads(result.output)["from_version"] == "1"
 
 
+def test_a_project_of_ones_own_remaps_from_its_own_tree(tmp_path: Path) -> None:
+    folder = tmp_path / "own"
+    assert _run("init", str(folder), "--tree", OLD).exit_code == 0
+    with Store.open(store_path(folder)) as store:
+        store.add_feed("shop-a")
+        run = store.start_run("onboard", feed="shop-a")
+        rows = [
+            MappedRow(
+                product=Product(product_id=pid, title=title),
+                mapping=Mapping(node_id=node, confidence=0.95, method="model"),
+                group_key="Footwear",
+            )
+            for pid, title, node in (("p1", "Suede ankle boots", "111"), ("p2", "Earbuds", "211"))
+        ]
+        store.save_mapped("shop-a", run, rows, tree_version="1")
+        store.finish_run(run, summary={"threshold": 0.5})
+    # Without --from: the project's own tree of the stored version, not the shared tree 1.
+    result = _run("remap", "--to", NEW, "--project", str(folder), "--json")
+    assert result.exit_code == 0, result.output
+    facts = json.loads(result.output)
+    assert facts["from_version"] == "1"
+    assert facts["by_change"]["unchanged"]["products"] == 1  # 111 Ankle boots
+    assert facts["by_change"]["split"]["products"] == 1  # 211 Headphones
+
+
 def test_commands_have_help() -> None:
     for command in ("remap", "remap-report", "remap-rollback", "remap-finalise"):
         result = _run(command, "--help")
