@@ -152,3 +152,20 @@ def test_one_class_only_names_the_node(project: Path, tmp_path: Path) -> None:
         result.stderr
     )
     assert not (project / "models" / "current" / "manifest.json").exists()
+
+
+def test_labels_on_inner_nodes_train_and_are_reported(project: Path, tmp_path: Path) -> None:
+    # The ankle boots labelled with their parent, Boots (1100), which has children.
+    feed = _feed(tmp_path / "shop.csv", label=lambda node: "1100" if node == "1101" else node)
+    args = ["train", str(feed), "--project", str(project)]
+    facts = json.loads(CliRunner().invoke(main, [*args, "--json"]).stdout)
+    assert facts["inner_labels"] == 24  # the 1101 rows of the 144 split=train ones
+    assert facts["inner_examples"] == ["1100 Boots"]
+    manifest = json.loads((project / "models" / "current" / "manifest.json").read_text())
+    assert "1100" in manifest["class_ids"]
+    text = " ".join(CliRunner().invoke(main, args).stdout.split())
+    assert (
+        "inner nodes 24 training rows are labelled with nodes that have children (1100 Boots)"
+        in (text)
+    )
+    assert "none left out: no cap per class" in text

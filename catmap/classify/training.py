@@ -102,6 +102,8 @@ class TrainingReport:
     left_out_by_cap: int = 0
     products_used: int = 0
     per_class: dict[str, float] = field(default_factory=dict)
+    inner_labels: int = 0
+    inner_examples: list[str] = field(default_factory=list)
 
     def to_dict(self) -> dict[str, Any]:
         """Return the facts as JSON-ready values."""
@@ -466,6 +468,9 @@ def train_model(
     options = dict(model_options or {})
     cap = options.get("max_per_class", default_max_per_class())
     per_class = Counter(labels)
+    # Labels on inner nodes train those nodes as classes: their products are mapped to the
+    # inner node, never to a leaf below it. Allowed, and said in the report.
+    inner = sorted(node for node in per_class if not tree.is_leaf(node))
     # The model keeps min(count, cap) products of each class (a seeded sample): say so.
     used = {label: min(count, cap) if cap else count for label, count in per_class.items()}
     stage(f"training on {sum(used.values()):,} of {len(labels):,} products")
@@ -511,6 +516,8 @@ def train_model(
         left_out_by_cap=len(labels) - sum(used.values()),
         products_used=sum(used.values()),
         per_class=_class_summary(list(used.values())),
+        inner_labels=sum(count for node, count in per_class.items() if node in inner),
+        inner_examples=[f"{node} {tree[node].name}" for node in inner[:UNKNOWN_IDS_SHOWN]],
     )
 
 
