@@ -345,6 +345,8 @@ def _render_map(facts: dict[str, Any]) -> None:
                 f"{example['rule_line']} wins over line(s) "
                 f"{', '.join(str(n) for n in example['other_rule_lines'])}"
             )
+    for warning in facts.get("warnings", []):
+        console.print(f"[bold yellow]Warning:[/bold yellow] {escape(warning)}")
     for name, path in facts["outputs"].items():
         console.print(f"{name.capitalize() + ':':<12}{escape(path)}")
 

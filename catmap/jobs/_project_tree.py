@@ -14,6 +14,7 @@ from typing import TYPE_CHECKING
 from catmap.errors import ModelNotTrained, ModelTreeMismatch, TreeError
 from catmap.project import SETTINGS_FILE, feed_name, fingerprint, load_settings
 from catmap.tree.taxonomy import CategoryTree, load_default_tree, load_tree
+from catmap.tree.treefile import LANGUAGES
 
 if TYPE_CHECKING:
     from catmap.store import Store
@@ -24,6 +25,7 @@ __all__ = [
     "default_rules_path",
     "open_project_tree",
     "project_tree",
+    "project_tree_languages",
 ]
 
 
@@ -142,3 +144,15 @@ def check_store_tree(store: Store, tree: CategoryTree) -> None:
         hint="use the store's tree (--tree-file FILE), or move the store to this tree with "
         "`catmap remap --to FILE`",
     )
+
+
+def project_tree_languages(project: str | Path) -> tuple[str, ...]:
+    """Return the languages the project's tree has terms in (:meth:`CategoryTree.languages`).
+
+    A tree that cannot be opened counts as having every language of the format: the commands
+    that need the tree say what is wrong with it.
+    """
+    try:
+        return open_project_tree(project).languages()
+    except TreeError:
+        return LANGUAGES
