@@ -6,6 +6,7 @@ The trees are the small hand-made pair tests/data/treediff/old.txt (version 1) a
 
 from __future__ import annotations
 
+import csv
 import json
 from pathlib import Path
 
@@ -13,7 +14,8 @@ import pytest
 from click.testing import CliRunner, Result
 
 from catmap.cli import main
-from catmap.errors import EXIT_STORE
+from catmap.errors import EXIT_STORE, TreeVersionMismatch
+from catmap.jobs._remap_versions import check_onboarding
 from catmap.records import Mapping, Product
 from catmap.store import MappedRow, Store, store_path
 
@@ -136,6 +138,23 @@ def test_a_project_of_ones_own_remaps_from_its_own_tree(tmp_path: Path) -> None:
     assert facts["from_version"] == "1"
     assert facts["by_change"]["unchanged"]["products"] == 1  # 111 Ankle boots
     assert facts["by_change"]["split"]["products"] == 1  # 211 Headphones
+    # The new tree file stays with the project, so that the commands finding a tree by the
+    # stored version (export, review, decisions) read the remapped mappings on it.
+    kept = folder / "tree-v2.txt"
+    assert kept.read_bytes() == Path(NEW).read_bytes()
+    assert _run("remap-finalise", "--project", str(folder)).exit_code == 0
+    exported = _run("export", "--project", str(folder), "--out", str(tmp_path / "out"))
+    assert exported.exit_code == 0, exported.output
+    with open(tmp_path / "out" / "shop-a.products.csv", encoding="utf-8", newline="") as handle:
+        paths = {row["product_id"]: row["node_path"] for row in csv.DictReader(handle)}
+    assert paths["p1"] == "Footwear > Boots > Ankle boots"
+    new_paths = {line.split(" | ")[0]: line.split(" | ")[2] for line in Path(NEW).open()
+                 if " | " in line}  # fmt: skip
+    assert paths["p2"].rsplit(" > ", 1)[-1] in {new_paths["214"], new_paths["215"]}
+    # Onboarding on the project's first tree is refused, naming the kept file to use.
+    with Store.open(store_path(folder)) as store, pytest.raises(TreeVersionMismatch) as refused:
+        check_onboarding(store, "1", folder)
+    assert f"--tree-file {kept}" in str(refused.value)
 
 
 def test_commands_have_help() -> None:

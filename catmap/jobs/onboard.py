@@ -625,7 +625,7 @@ def store_onboarding(
     progress = on_progress or (lambda _stage, _count: None)
     store = Store.for_project(p.project)
     try:
-        check_onboarding(store, str(tree.version))
+        check_onboarding(store, str(tree.version), p.project)
         store.add_feed(
             name, source_path=p.feed_path.resolve(), profile_path=p.source.profile_path
         )

@@ -49,7 +49,7 @@ from typing import Any
 
 from catmap.attributes import AttributeExtractor
 from catmap.errors import InputError, StoreError
-from catmap.jobs._project_tree import open_project_tree
+from catmap.jobs._project_tree import keep_version_tree, project_version_tree
 from catmap.jobs._remap_batch import DEFAULT_MIN_CONFIDENCE, PageRemapper, remap_group_key
 from catmap.jobs._remap_catalog import (
     REMAPPED_CATALOG_COLUMNS,
@@ -384,16 +384,15 @@ def old_tree_version(store: Store, new_version: str) -> str:
 def _stored_tree(
     project: Path, store: Store, given: str | None, new_tree: CategoryTree
 ) -> CategoryTree:
-    """The tree the stored mappings use: the one given, else the project's own tree when it
-    has the version recorded with them (``catmap init --tree``), else the shared tree of it."""
+    """The tree the stored mappings use: the one given, else, for a project of one's own
+    (``catmap init --tree``), its tree of the version recorded with them
+    (:func:`project_version_tree`), else the shared tree of that version."""
     if given:
         return open_tree(given)
     version = old_tree_version(store, str(new_tree.version))
     settings = load_settings(project)
     if settings is not None and settings.tree_file is not None:
-        own = open_project_tree(project)
-        if str(own.version) == version:
-            return own
+        return project_version_tree(project, version)
     return open_tree(version)
 
 
@@ -431,6 +430,9 @@ def remap_project(
     new_tree = open_tree(to)
     with open_project_store(project) as store:
         old_tree = _stored_tree(project, store, from_, new_tree)
+        # A tree file of one's own stays with the project: export and review find the
+        # remapped mappings' tree by its version.
+        keep_version_tree(project, new_tree)
         crosswalk = load_crosswalk(crosswalk_file) if crosswalk_file is not None else None
         changes = load_change_log(changes_file) if changes_file is not None else None
         folder = model_dir or default_model_dir(project)
