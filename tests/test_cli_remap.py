@@ -16,6 +16,7 @@ from click.testing import CliRunner, Result
 from catmap.cli import main
 from catmap.errors import EXIT_STORE, TreeVersionMismatch
 from catmap.jobs._remap_versions import check_onboarding
+from catmap.jobs.review import project_review_session
 from catmap.records import Mapping, Product
 from catmap.store import MappedRow, Store, store_path
 
@@ -151,6 +152,10 @@ def test_a_project_of_ones_own_remaps_from_its_own_tree(tmp_path: Path) -> None:
     new_paths = {line.split(" | ")[0]: line.split(" | ")[2] for line in Path(NEW).open()
                  if " | " in line}  # fmt: skip
     assert paths["p2"].rsplit(" > ", 1)[-1] in {new_paths["214"], new_paths["215"]}
+    # The review screen shows the remapped products on that tree too.
+    with project_review_session(folder, "ana") as session:
+        assert session.tree.version == "2"
+        assert session.path_text("214") == f"Audio > Listening > {new_paths['214']}"
     # Onboarding on the project's first tree is refused, naming the kept file to use.
     with Store.open(store_path(folder)) as store, pytest.raises(TreeVersionMismatch) as refused:
         check_onboarding(store, "1", folder)
