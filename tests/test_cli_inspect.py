@@ -131,3 +131,21 @@ def test_inspect_shows_evidence_against_preview_and_language(tmp_path: Path) -> 
     assert "against" in text  # the table header (narrow terminals wrap it)
     assert "normalised" in text
     assert "Warning:" in text
+
+
+def test_inspect_warns_by_the_languages_of_the_projects_own_tree(tmp_path: Path) -> None:
+    own = Path(__file__).parent / "data" / "own-tree"
+    project = tmp_path / "p"
+    init = CliRunner().invoke(main, ["init", str(project), "--tree", str(own / "english-only.txt")])
+    assert init.exit_code == 0, init.output
+    feed = own / "gartenladen.csv"
+    facts = json.loads(
+        CliRunner().invoke(main, ["inspect", str(feed), "--project", str(project), "--json"]).stdout
+    )
+    assert facts["language"]["language"] == "de"
+    assert "(it has English)" in facts["warnings"][0]
+    out = tmp_path / "out"
+    normalised = CliRunner().invoke(
+        main, ["normalise", str(feed), "--out", str(out), "--project", str(project), "--json"]
+    )
+    assert "(it has English)" in json.loads(normalised.stdout)["warnings"][0]

@@ -400,3 +400,21 @@ def test_map_and_evaluate_give_the_same_confidence_to_every_answer(
         assert row["confidence"] == pytest.approx(expected.confidence, abs=1e-4)
         backed_off += expected.method == "backoff"
     assert backed_off > 0
+
+
+def test_map_warns_of_a_feed_in_a_language_the_tree_has_no_terms_in(tmp_path: Path) -> None:
+    own = Path(__file__).parent / "data" / "own-tree"
+    common = ["--project", str(tmp_path / "p"), "--tree-file", str(own / "english-only.txt")]
+    args = ["map", str(own / "gartenladen.csv"), "--out", str(tmp_path / "out"), *common]
+    result = CliRunner().invoke(main, [*args, "--json"])
+    assert result.exit_code == 0, result.output
+    facts = json.loads(result.stdout)
+    assert facts["language"]["language"] == "de"
+    assert len(facts["warnings"]) == 1
+    assert "in German" in facts["warnings"][0]
+    assert "(it has English)" in facts["warnings"][0]
+    text = " ".join(CliRunner().invoke(main, args).stdout.split())
+    assert "Warning: the feed seems to be in German" in text
+    # The same feed on the shared tree, which has German terms: no warning.
+    shared = CliRunner().invoke(main, [*args[:4], "--project", str(tmp_path / "p"), "--json"])
+    assert json.loads(shared.stdout)["warnings"] == []

@@ -116,3 +116,44 @@ def test_a_tree_file_maps_on_a_cluster_as_in_one_process(
     mapped = [json.loads(line) for line in (tmp_path / "spread" / "mappings.jsonl").open()]
     # every product sits in the file's tree, whose ids the shared tree does not use
     assert mapped and {m["node_id"] for m in mapped} <= own_ids
+
+
+def test_a_project_of_ones_own_maps_on_a_cluster_with_its_own_tree(
+    tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    from collections.abc import Iterator
+    from contextlib import contextmanager
+    from typing import Any
+
+    import catmap.jobs.cluster as cluster
+
+    real = cluster.open_cluster
+
+    @contextmanager
+    def threads(address: str) -> Iterator[Any]:  # the workers are threads of this process
+        with real(address, processes=False) as client:
+            yield client
+
+    monkeypatch.setattr(cluster, "open_cluster", threads)
+    example = Path(__file__).resolve().parents[1] / "examples" / "own-project"
+    tree = example / "tree.txt"
+    feed = example / "new-shop_2026-11-30.csv"
+    own_ids = {line.split("|")[0].strip() for line in tree.read_text("utf-8").splitlines()
+               if "|" in line}
+    project = tmp_path / "p"
+    assert CliRunner().invoke(main, ["init", str(project), "--tree", str(tree)]).exit_code == 0
+    # No --tree-file: the project's own tree, on the workers as in one process.
+    common = ["--project", str(project)]
+    alone = CliRunner().invoke(
+        main, ["map", str(feed), "--out", str(tmp_path / "alone"), "--workers", "1", *common]
+    )
+    assert alone.exit_code == 0, alone.output
+    spread = CliRunner().invoke(
+        main, ["map", str(feed), "--out", str(tmp_path / "spread"), "--cluster", "local:2",
+               *common],
+    )
+    assert spread.exit_code == 0, spread.output
+    mapped = [json.loads(line) for line in (tmp_path / "spread" / "mappings.jsonl").open()]
+    assert mapped and {m["node_id"] for m in mapped} <= own_ids
+    mine = (tmp_path / "alone" / "mappings.jsonl").read_bytes()
+    assert (tmp_path / "spread" / "mappings.jsonl").read_bytes() == mine

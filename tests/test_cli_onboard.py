@@ -129,3 +129,57 @@ def test_onboarding_waits_for_a_pending_remap(world: SmallWorld, tmp_path: Path)
     assert "run `catmap remap-finalise` to keep it or `catmap remap-rollback`" in text
     with Store.open(store_path(project)) as store:
         assert [f.name for f in store.feeds()] == ["ferravelle"]
+
+
+def test_a_feed_in_a_language_the_tree_lacks_has_no_capped_product_accepted(
+    tmp_path: Path,
+) -> None:
+    # A tree of one's own in English only, clean English labels: every held-out product is
+    # right, so the calibration data alone accepts any score (threshold 0.000, below the cap).
+    own = Path(__file__).parent / "data" / "own-tree"
+    words = {
+        "111": "carrot seeds", "112": "tulip bulbs", "121": "digging spade",
+        "122": "pruning shears", "123": "watering can", "131": "solar lantern",
+        "211": "leather thimble", "212": "sewing thread", "221": "paint brush",
+        "222": "acrylic paint",
+    }  # fmt: skip
+    labelled = tmp_path / "labelled.csv"
+    labelled.write_text(
+        "sku,title,price,gold_node\n"
+        + "".join(
+            f"L{i},{('Tarrow', 'Quillmere')[i % 2]} {words[node]} "
+            f"{('small', 'large', 'green')[i % 3]},{3 + i % 40}.99,{node}\n"
+            for i in range(4000)
+            for node in [sorted(words)[i % 10]]
+        ),
+        encoding="utf-8",
+    )
+    def run(*args: str) -> Result:
+        return CliRunner().invoke(main, list(args), catch_exceptions=False)
+
+    project = tmp_path / "p"
+    init = ["init", str(project), "--tree", str(own / "english-only.txt")]
+    assert run(*init, "--labelled", str(labelled)).exit_code == 0
+    assert run("train", "--project", str(project)).exit_code == 0
+    # A feed of one shop: three quarters of its titles German, a quarter English.
+    feed = tmp_path / "mixed.csv"
+    german = ["Tulpenzwiebeln für den Garten", "Gießkanne aus Metall grün", "Fingerhut aus Leder"]
+    feed.write_text(
+        "artikel;titel;preis\n"
+        + "".join(
+            f"G{i:03d};{'Tarrow tulip bulbs small' if i % 4 == 0 else german[i % 3]} {i};4.99\n"
+            for i in range(300)
+        ),
+        encoding="utf-8",
+    )
+    result = run("onboard", str(feed), "--project", str(project), "--json")
+    assert result.exit_code == 0, result.output
+    facts = json.loads(result.stdout)
+    assert facts["feed_check"]["uncovered_language"]
+    assert facts["threshold"] > 0.5
+    assert "raised to 0.501" in facts["statement"]
+    with Store.open(store_path(project)) as store:
+        status = {m.product_id: m.status for _, m in store.mappings("mixed")}
+    german_ids = [f"G{i:03d}" for i in range(300) if i % 4]
+    assert {status[pid] for pid in german_ids} == {"queued"}  # none auto-accepted
+    assert "accepted" in {status[f"G{i:03d}"] for i in range(0, 300, 4)}

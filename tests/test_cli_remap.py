@@ -6,6 +6,7 @@ The trees are the small hand-made pair tests/data/treediff/old.txt (version 1) a
 
 from __future__ import annotations
 
+import csv
 import json
 from pathlib import Path
 
@@ -13,7 +14,9 @@ import pytest
 from click.testing import CliRunner, Result
 
 from catmap.cli import main
-from catmap.errors import EXIT_STORE
+from catmap.errors import EXIT_STORE, TreeVersionMismatch
+from catmap.jobs._remap_versions import check_onboarding
+from catmap.jobs.review import project_review_session
 from catmap.records import Mapping, Product
 from catmap.store import MappedRow, Store, store_path
 
@@ -111,6 +114,52 @@ def test_version_detected_from_the_store(project: Path) -> None:
     result = _run("remap", "--to", NEW, "--project", str(project), "--json")
     # Without --from, the old tree is the version recorded with the stored mappings.
     assert json.loads(result.output)["from_version"] == "1"
+
+
+def test_a_project_of_ones_own_remaps_from_its_own_tree(tmp_path: Path) -> None:
+    folder = tmp_path / "own"
+    assert _run("init", str(folder), "--tree", OLD).exit_code == 0
+    with Store.open(store_path(folder)) as store:
+        store.add_feed("shop-a")
+        run = store.start_run("onboard", feed="shop-a")
+        rows = [
+            MappedRow(
+                product=Product(product_id=pid, title=title),
+                mapping=Mapping(node_id=node, confidence=0.95, method="model"),
+                group_key="Footwear",
+            )
+            for pid, title, node in (("p1", "Suede ankle boots", "111"), ("p2", "Earbuds", "211"))
+        ]
+        store.save_mapped("shop-a", run, rows, tree_version="1")
+        store.finish_run(run, summary={"threshold": 0.5})
+    # Without --from: the project's own tree of the stored version, not the shared tree 1.
+    result = _run("remap", "--to", NEW, "--project", str(folder), "--json")
+    assert result.exit_code == 0, result.output
+    facts = json.loads(result.output)
+    assert facts["from_version"] == "1"
+    assert facts["by_change"]["unchanged"]["products"] == 1  # 111 Ankle boots
+    assert facts["by_change"]["split"]["products"] == 1  # 211 Headphones
+    # The new tree file stays with the project, so that the commands finding a tree by the
+    # stored version (export, review, decisions) read the remapped mappings on it.
+    kept = folder / "tree-v2.txt"
+    assert kept.read_bytes() == Path(NEW).read_bytes()
+    assert _run("remap-finalise", "--project", str(folder)).exit_code == 0
+    exported = _run("export", "--project", str(folder), "--out", str(tmp_path / "out"))
+    assert exported.exit_code == 0, exported.output
+    with open(tmp_path / "out" / "shop-a.products.csv", encoding="utf-8", newline="") as handle:
+        paths = {row["product_id"]: row["node_path"] for row in csv.DictReader(handle)}
+    assert paths["p1"] == "Footwear > Boots > Ankle boots"
+    new_paths = {line.split(" | ")[0]: line.split(" | ")[2] for line in Path(NEW).open()
+                 if " | " in line}  # fmt: skip
+    assert paths["p2"].rsplit(" > ", 1)[-1] in {new_paths["214"], new_paths["215"]}
+    # The review screen shows the remapped products on that tree too.
+    with project_review_session(folder, "ana") as session:
+        assert session.tree.version == "2"
+        assert session.path_text("214") == f"Audio > Listening > {new_paths['214']}"
+    # Onboarding on the project's first tree is refused, naming the kept file to use.
+    with Store.open(store_path(folder)) as store, pytest.raises(TreeVersionMismatch) as refused:
+        check_onboarding(store, "1", folder)
+    assert f"--tree-file {kept}" in str(refused.value)
 
 
 def test_commands_have_help() -> None:

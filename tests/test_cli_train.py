@@ -50,3 +50,45 @@ def test_missing_label_column_is_an_input_error(setup: tuple[Path, Path]) -> Non
     )
     assert result.exit_code == 3
     assert "no label column 'node'" in result.stderr
+
+
+def test_a_project_of_ones_own_trains_on_its_remapped_tree_from_the_store(
+    tmp_path: Path,
+) -> None:
+    from catmap.records import Mapping, Product
+    from catmap.store import MappedRow, Store, store_path
+
+    treediff = Path(__file__).parent / "data" / "treediff"
+    project = tmp_path / "own"
+    runner = CliRunner()
+    init = runner.invoke(main, ["init", str(project), "--tree", str(treediff / "old.txt")])
+    assert init.exit_code == 0, init.output
+    # The store after a remap to version 2 of the project's tree (a copy kept in the project).
+    kept = project / "tree-v2.txt"
+    kept.write_bytes((treediff / "split.txt").read_bytes())
+    titles = {"111": "suede ankle boots", "112": "rubber rain wellies", "212": "portable radio",
+              "214": "closed over-ear headphones"}  # fmt: skip
+    with Store.open(store_path(project)) as store:
+        store.add_feed("shop-a")
+        run = store.start_run("onboard", feed="shop-a")
+        rows = [
+            MappedRow(
+                product=Product(product_id=f"{node}-{i}", title=f"{title} {i}"),
+                mapping=Mapping(node_id=node, confidence=0.99, method="model"),
+                group_key="",
+            )
+            for node, title in titles.items()
+            for i in range(12)
+        ]
+        store.save_mapped("shop-a", run, rows, tree_version="2")
+        store.finish_run(run, summary={"threshold": 0.5})
+    # No labelled feeds given: the project's labels are on version 1, so version 2 learns
+    # from the store's mappings on it.
+    result = runner.invoke(
+        main, ["train", "--project", str(project), "--tree-file", str(kept), "--json"]
+    )
+    assert result.exit_code == 0, result.output
+    facts = json.loads(result.stdout)
+    assert facts["tree_version"] == "2"
+    assert [Path(feed).name for feed in facts["feeds"]] == ["remapped-catalog-v2.jsonl"]
+    assert facts["rows_read"] == 48

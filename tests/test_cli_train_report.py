@@ -5,6 +5,7 @@ from __future__ import annotations
 
 import csv
 import json
+from collections.abc import Callable
 from pathlib import Path
 
 import pytest
@@ -22,12 +23,14 @@ def project(tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> Path:
     return tmp_path / "project"
 
 
-def _feed(path: Path, unknown: int = 0) -> Path:
+def _feed(path: Path, unknown: int = 0, label: Callable[[str], str] | None = None) -> Path:
     """The tiny labelled feed (240 rows), the first ``unknown`` rows labelled with ids the tree
-    lacks (a few distinct ones)."""
+    lacks (a few distinct ones); ``label`` rewrites every label."""
     rows = labelled_rows(240)
     for i in range(unknown):
         rows[i]["gold_node"] = f"99{i % 7}"
+    for row in rows:
+        row["gold_node"] = label(row["gold_node"]) if label else row["gold_node"]
     with open(path, "w", encoding="utf-8", newline="") as handle:
         writer = csv.DictWriter(handle, fieldnames=list(rows[0]))
         writer.writeheader()
@@ -96,3 +99,73 @@ def test_labels_of_another_tree_stop_training(project: Path, tmp_path: Path) -> 
         main, ["train", str(feed), "--project", str(project), "--max-unknown-share", "0.25"]
     )
     assert allowed.exit_code == 0, allowed.output
+
+
+NAMES = {"1101": "Ankle boots", "1102": "Rain boots", "1201": "Flip-flops"}
+
+
+@pytest.mark.parametrize(
+    ("label", "said"),
+    [
+        # Node names instead of ids (the rows of other nodes keep their ids).
+        (
+            lambda node: NAMES.get(node, node),
+            "look like node names or paths, not ids ('Ankle boots' is node 1101)",
+        ),
+        # Paths of names from the department down.
+        (
+            lambda node: "Footwear > Boots > Ankle boots" if node == "1101" else node,
+            "('Footwear > Boots > Ankle boots' is node 1101)",
+        ),
+        # Ids a spreadsheet wrote as decimals.
+        (lambda node: f"{node}.0", "look like ids written as decimals ('1101.0' is node 1101)"),
+    ],
+)
+def test_labels_naming_the_trees_nodes_otherwise_than_by_id_say_so(
+    project: Path, tmp_path: Path, label: Callable[[str], str], said: str
+) -> None:
+    feed = _feed(tmp_path / "shop.csv", label=label)
+    result = CliRunner().invoke(main, ["train", str(feed), "--project", str(project)])
+    assert result.exit_code == 3
+    assert result.stderr.startswith(f"catmap: error: {feed}, field 'gold_node': ")
+    assert said in result.stderr
+    assert "belong to another tree" not in result.stderr
+    assert len(result.stderr.strip().splitlines()) == 1
+
+
+def test_an_empty_label_column_is_named_as_such(project: Path, tmp_path: Path) -> None:
+    feed = _feed(tmp_path / "shop.csv", label=lambda _node: "  ")
+    result = CliRunner().invoke(main, ["train", str(feed), "--project", str(project)])
+    assert result.exit_code == 3
+    assert "field 'gold_node': the label column 'gold_node' is empty in all 240 rows" in (
+        result.stderr
+    )
+    assert "--label-column" in result.stderr
+
+
+def test_one_class_only_names_the_node(project: Path, tmp_path: Path) -> None:
+    feed = _feed(tmp_path / "shop.csv", label=lambda _node: "2102")
+    result = CliRunner().invoke(main, ["train", str(feed), "--project", str(project)])
+    assert result.exit_code == 3
+    # 144 of the 240 rows are split=train.
+    assert "every labelled training product (144) is labelled 2102 (Kitchen > Coffee > " in (
+        result.stderr
+    )
+    assert not (project / "models" / "current" / "manifest.json").exists()
+
+
+def test_labels_on_inner_nodes_train_and_are_reported(project: Path, tmp_path: Path) -> None:
+    # The ankle boots labelled with their parent, Boots (1100), which has children.
+    feed = _feed(tmp_path / "shop.csv", label=lambda node: "1100" if node == "1101" else node)
+    args = ["train", str(feed), "--project", str(project)]
+    facts = json.loads(CliRunner().invoke(main, [*args, "--json"]).stdout)
+    assert facts["inner_labels"] == 24  # the 1101 rows of the 144 split=train ones
+    assert facts["inner_examples"] == ["1100 Boots"]
+    manifest = json.loads((project / "models" / "current" / "manifest.json").read_text())
+    assert "1100" in manifest["class_ids"]
+    text = " ".join(CliRunner().invoke(main, args).stdout.split())
+    assert (
+        "inner nodes 24 training rows are labelled with nodes that have children (1100 Boots)"
+        in (text)
+    )
+    assert "none left out: no cap per class" in text

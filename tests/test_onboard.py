@@ -550,3 +550,29 @@ def test_a_feed_in_an_uncovered_language_has_its_unfamiliar_products_capped() ->
     assert capped[familiarity == 0.0].max() == UNCOVERED_LANGUAGE_CAP
     assert capped[familiarity == 1.0].min() == 0.99
     assert shift.threshold is None or shift.threshold > UNCOVERED_LANGUAGE_CAP
+
+
+def test_an_uncovered_language_keeps_capped_products_out_at_a_low_threshold() -> None:
+    from catmap.jobs.onboard import (
+        UNCOVERED_LANGUAGE_CAP,
+        UNCOVERED_LANGUAGE_FLOOR,
+        check_feed_shift,
+    )
+
+    # Clean labels on a small tree: every held-out product right, so the calibration data
+    # accepts every score (threshold 0.0), below the cap of an uncovered language.
+    scores = np.linspace(0.2, 1.0, 4000)
+    source = ValidationPredictions(
+        scores, np.ones(4000, bool), "c", np.array(["a"] * 4000), np.ones(4000)
+    )
+    assert accept_threshold(source).threshold == 0.0
+    familiarity = np.where(np.arange(400) % 8 == 0, 1.0, 0.0)  # seven eighths unknown words
+    raw = np.full(400, 0.99)
+    shift = check_feed_shift(raw, familiarity, [source])
+    assert shift.uncovered_language
+    assert shift.threshold == UNCOVERED_LANGUAGE_FLOOR > UNCOVERED_LANGUAGE_CAP
+    accepted = shift.acceptance_scores(raw, familiarity) >= shift.threshold
+    assert not accepted[familiarity == 0.0].any()  # "never auto-accepted" holds
+    assert accepted[familiarity == 1.0].all()
+    assert shift.feed_accepted == 50
+    assert "raised to 0.501" in shift.notes[-1]

@@ -393,3 +393,10 @@ def test_summary(tree: CategoryTree) -> None:
     assert facts["departments"][0] == {"id": "1000", "name": "Apparel", "nodes": 7, "leaves": 4}
     assert facts["departments"][1]["nodes"] == 16
     assert facts["valid"] is True
+
+
+def test_a_tree_says_which_languages_it_has_terms_in(tree: CategoryTree) -> None:
+    assert tree.languages() == ("en", "fr", "de", "es")
+    # Empty fr / de / es cells: the tree is in English only.
+    english = load_tree(Path(__file__).parent / "data" / "own-tree" / "english-only.txt")
+    assert english.languages() == ("en",)

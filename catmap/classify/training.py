@@ -16,7 +16,7 @@ from collections import Counter
 from collections.abc import Callable, Iterable, Iterator, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Any
+from typing import Any, NoReturn
 
 import numpy as np
 import scipy.sparse as sp
@@ -25,7 +25,7 @@ from catmap.classify.consensus import MIN_PRODUCTS
 from catmap.classify.features import ProductTexts, product_texts
 from catmap.classify.model import CategoryModel
 from catmap.classify.storage import save_model
-from catmap.errors import InputError
+from catmap.errors import InputError, UnknownNode
 from catmap.feeds.profiled import open_profiled_feed
 from catmap.records import Product
 from catmap.tree.taxonomy import CategoryTree
@@ -102,6 +102,8 @@ class TrainingReport:
     left_out_by_cap: int = 0
     products_used: int = 0
     per_class: dict[str, float] = field(default_factory=dict)
+    inner_labels: int = 0
+    inner_examples: list[str] = field(default_factory=list)
 
     def to_dict(self) -> dict[str, Any]:
         """Return the facts as JSON-ready values."""
@@ -461,16 +463,14 @@ def train_model(
     )
     labels = train.labels
     if len(set(labels)) < 2:
-        raise InputError(
-            "training needs labelled products of at least two different nodes",
-            path=feeds[0] if feeds else None,
-            field=label_column,
-            hint="check the label column holds node ids of the tree",
-        )
+        _too_few_classes(labels, counts, tree, feeds, label_column)
     texts = train.texts()
     options = dict(model_options or {})
     cap = options.get("max_per_class", default_max_per_class())
     per_class = Counter(labels)
+    # Labels on inner nodes train those nodes as classes: their products are mapped to the
+    # inner node, never to a leaf below it. Allowed, and said in the report.
+    inner = sorted(node for node in per_class if not tree.is_leaf(node))
     # The model keeps min(count, cap) products of each class (a seeded sample): say so.
     used = {label: min(count, cap) if cap else count for label, count in per_class.items()}
     stage(f"training on {sum(used.values()):,} of {len(labels):,} products")
@@ -516,6 +516,8 @@ def train_model(
         left_out_by_cap=len(labels) - sum(used.values()),
         products_used=sum(used.values()),
         per_class=_class_summary(list(used.values())),
+        inner_labels=sum(count for node, count in per_class.items() if node in inner),
+        inner_examples=[f"{node} {tree[node].name}" for node in inner[:UNKNOWN_IDS_SHOWN]],
     )
 
 
@@ -550,6 +552,17 @@ def _check_unknown_labels(
     )
     share = unknown / labelled if labelled else 0.0
     if share > max_share:
+        path = feeds[0] if len(feeds) == 1 else None
+        misread = _misread_labels(unknown_ids, tree)
+        if misread is not None:
+            message, hint = misread
+            raise InputError(
+                f"{share:.1%} of the labelled rows ({unknown:,} of {labelled:,}) are not node "
+                f"ids of tree version {tree.version}: {message}",
+                path=path,
+                field=label_column,
+                hint=hint,
+            )
         where = f"{tree.path}" if tree.path else "the tree in use"
         raise InputError(
             f"{share:.1%} of the labelled rows ({unknown:,} of {labelled:,}) name node ids "
@@ -561,3 +574,78 @@ def _check_unknown_labels(
             f"raise --max-unknown-share (now {max_share:g})",
         )
     return share
+
+
+def _misread_labels(labels: Sequence[str], tree: CategoryTree) -> tuple[str, str] | None:
+    """Say what labels the tree lacks are when they still name its nodes: node names or paths
+    instead of ids, or ids a spreadsheet wrote as decimals ("111.0"). None when they do not.
+
+    Returns:
+        (what the labels are, with an example; what to do), or None.
+    """
+    names: dict[str, list[str]] = {}
+    for node in tree:
+        names.setdefault(" ".join(node.name.split()).casefold(), []).append(node.id)
+    for label in labels:
+        whole, dot, zeros = label.partition(".")
+        if dot and whole in tree and zeros and not zeros.strip("0"):
+            return (
+                f"they look like ids written as decimals ('{label}' is node {whole})",
+                "save the label column as whole numbers or text: a spreadsheet adds '.0' to "
+                "numbers",
+            )
+        found = names.get(" ".join(label.split()).casefold())
+        if found is None and ">" in label:
+            try:
+                found = [tree.find_path(label).id]
+            except UnknownNode:
+                found = None
+        if found:
+            shown = found[0] if len(found) == 1 else " or ".join(found)
+            return (
+                f"they look like node names or paths, not ids ('{label}' is node {shown})",
+                "write the node id in the label column; `catmap tree show` and `catmap tree "
+                "search TEXT` give the ids",
+            )
+    return None
+
+
+def _too_few_classes(
+    labels: Sequence[str],
+    counts: dict[str, int],
+    tree: CategoryTree,
+    feeds: Sequence[Path],
+    label_column: str,
+) -> NoReturn:
+    """Stop training that has fewer than two nodes to learn, saying why.
+
+    Raises:
+        InputError: always; the message says whether the label column is empty, or which one
+            node every product has.
+    """
+    path = feeds[0] if len(feeds) == 1 else None
+    if not labels and counts["unlabelled"]:
+        raise InputError(
+            f"the label column '{label_column}' is empty in all {counts['unlabelled']:,} rows "
+            "read; training needs labelled products of at least two different nodes",
+            path=path,
+            field=label_column,
+            hint="fill it with node ids of the tree, or name the column that holds them with "
+            "--label-column",
+        )
+    if not labels:
+        raise InputError(
+            "no labelled products to train on; training needs products of at least two "
+            "different nodes",
+            path=path,
+            field=label_column,
+            hint="check the label column holds node ids of the tree",
+        )
+    node = labels[0]
+    raise InputError(
+        f"every labelled training product ({len(labels):,}) is labelled {node} "
+        f"({tree.path_text(node)}); training needs products of at least two different nodes",
+        path=path,
+        field=label_column,
+        hint="add labelled products of the tree's other nodes",
+    )

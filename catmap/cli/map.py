@@ -31,7 +31,7 @@ from catmap.feeds.writers import FORMATS
 from catmap.jobs._project_tree import project_tree
 from catmap.jobs.map import map_project_feed
 from catmap.project import project_dir
-from catmap.tree.taxonomy import load_tree
+from catmap.tree.taxonomy import CategoryTree, default_tree_path, load_tree
 
 
 @click.command("map")
@@ -116,8 +116,12 @@ def map_command(
         # A tree file wins over the version; the run's facts name the file's own version.
         tree_version = str(load_tree(tree_file).version)
     elif cluster is not None and tree_version is None:
-        # Workers load the shared tree by its version: the project's (or its model's).
-        tree_version = str(project_tree(project_dir(project)).version)
+        # Workers load the tree by its file, else the shared tree by its version: the
+        # project's own tree file (`catmap init --tree`), else its version (or its model's).
+        tree = project_tree(project_dir(project))
+        tree_version = str(tree.version)
+        if tree.path is not None and not _is_shared_tree(tree):
+            tree_file = Path(tree.path)
     if len(feeds) > 1:
         _map_several(
             list(feeds), out_dir, cluster=cluster, project=project, feed_name=feed_name,
@@ -292,6 +296,12 @@ def _map_several(
             raise result.error
 
 
+def _is_shared_tree(tree: CategoryTree) -> bool:
+    """Whether the tree is the shared tree file of its version (``taxonomies/tree-vN.txt``)."""
+    shared = default_tree_path(tree.version)
+    return tree.path is not None and Path(tree.path).resolve() == shared.resolve()
+
+
 def _render_map(facts: dict[str, Any]) -> None:
     acc = facts["accounting"]
     console.print(
@@ -335,6 +345,8 @@ def _render_map(facts: dict[str, Any]) -> None:
                 f"{example['rule_line']} wins over line(s) "
                 f"{', '.join(str(n) for n in example['other_rule_lines'])}"
             )
+    for warning in facts.get("warnings", []):
+        console.print(f"[bold yellow]Warning:[/bold yellow] {escape(warning)}")
     for name, path in facts["outputs"].items():
         console.print(f"{name.capitalize() + ':':<12}{escape(path)}")
 

@@ -118,8 +118,12 @@ def train_command(
     console.print(f"  rows read            {facts['rows_read']:,} ({facts['rejected']:,} rejected)")
     console.print(
         f"  training rows        {facts['products_train']:,}, of which "
-        f"{facts['left_out_by_cap']:,} left out by the cap of "
-        f"{'no cap' if not cap else f'{cap:,} per class'} (--max-per-class)"
+        + (
+            f"{facts['left_out_by_cap']:,} left out by the cap of {cap:,} per class"
+            if cap
+            else "none left out: no cap per class"
+        )
+        + " (--max-per-class)"
     )
     console.print(
         f"  per class            min {per_class['min']:,}, median {per_class['median']:,.0f}, "
@@ -147,6 +151,13 @@ def train_command(
             f"  skipped              {facts['unknown_labels']:,} rows with node ids the tree "
             f"lacks ({facts['unknown_share']:.1%}{': ' + escape(examples) if examples else ''}), "
             f"{facts['unlabelled']:,} without a label"
+        )
+    if facts["inner_labels"]:
+        console.print(
+            f"  inner nodes          {facts['inner_labels']:,} training rows are labelled with "
+            f"nodes that have children ({escape(', '.join(facts['inner_examples']))}): "
+            "products like them are mapped to those nodes, not to a leaf below; label them "
+            "with leaves for leaf answers"
         )
     console.print(f"Model saved to {escape(facts['model_dir'])}")
 

@@ -102,7 +102,8 @@ def render_report(facts: dict[str, Any]) -> None:
     "--from",
     "from_",
     default=None,
-    help="Tree the stored mappings use (default: the version recorded with them).",
+    help="Tree the stored mappings use (default: the version recorded with them: the "
+    "project's own tree when it has that version, else the shared tree).",
 )
 @click.option(
     "--crosswalk",

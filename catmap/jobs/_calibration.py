@@ -434,8 +434,12 @@ SHIFT_MARGIN = 0.05
 # the training data do not cover.
 UNCOVERED_LANGUAGE_SHARE = 0.5
 # Confidence (for acceptance) of an unfamiliar product of a feed in an uncovered language:
-# below any threshold, so that none is auto-accepted.
+# below the feed's threshold, so that none is auto-accepted.
 UNCOVERED_LANGUAGE_CAP = 0.5
+# The lowest threshold of a feed in an uncovered language: above the cap, so that a capped
+# product never reaches it, even when the calibration data would accept every score (a
+# small tree, clean labels: threshold 0.0).
+UNCOVERED_LANGUAGE_FLOOR = 0.501
 
 
 def model_vocabulary(mapper: FeedMapper) -> frozenset[str]:
@@ -563,8 +567,9 @@ def check_feed_shift(
     any by :data:`SHIFT_MARGIN`) gets at least the threshold chosen for half the error rate, a
     margin for a retailer the calibration data does not stand for (common practice, no
     source); a feed mostly in an uncovered language is treated so too, and its unfamiliar
-    products' scores are capped. When no threshold is left, the feed is audited first (mode
-    ``audit first``: nothing auto-accepted, everything reviewed).
+    products' scores are capped at :data:`UNCOVERED_LANGUAGE_CAP` under a threshold of at
+    least :data:`UNCOVERED_LANGUAGE_FLOOR`. When no threshold is left, the feed is audited
+    first (mode ``audit first``: nothing auto-accepted, everything reviewed).
 
     Args:
         scores: the feed's acceptance scores (:func:`acceptance_score`).
@@ -625,6 +630,12 @@ def check_feed_shift(
         notes.append(
             "the feed looks unlike the calibration data: the threshold is at least the one "
             f"for {max_error / 2:.1%} error ({what})"
+        )
+    if uncovered and threshold is not None and threshold < UNCOVERED_LANGUAGE_FLOOR:
+        threshold = UNCOVERED_LANGUAGE_FLOOR
+        notes.append(
+            f"the threshold is raised to {UNCOVERED_LANGUAGE_FLOOR:.3f}, above the cap, so that "
+            "no capped product is auto-accepted"
         )
     accepted = int(np.sum(acceptance >= threshold)) if threshold is not None else 0
     return FeedShift(

@@ -11,9 +11,11 @@ from __future__ import annotations
 from pathlib import Path
 from typing import TYPE_CHECKING
 
+from catmap._atomic import write_bytes_atomic
 from catmap.errors import ModelNotTrained, ModelTreeMismatch, TreeError
 from catmap.project import SETTINGS_FILE, feed_name, fingerprint, load_settings
 from catmap.tree.taxonomy import CategoryTree, load_default_tree, load_tree
+from catmap.tree.treefile import LANGUAGES
 
 if TYPE_CHECKING:
     from catmap.store import Store
@@ -23,7 +25,11 @@ __all__ = [
     "default_model_dir",
     "default_rules_path",
     "open_project_tree",
+    "keep_version_tree",
     "project_tree",
+    "project_tree_languages",
+    "project_version_tree",
+    "version_tree_path",
 ]
 
 
@@ -142,3 +148,60 @@ def check_store_tree(store: Store, tree: CategoryTree) -> None:
         hint="use the store's tree (--tree-file FILE), or move the store to this tree with "
         "`catmap remap --to FILE`",
     )
+
+
+def project_tree_languages(project: str | Path) -> tuple[str, ...]:
+    """Return the languages the project's tree has terms in (:meth:`CategoryTree.languages`).
+
+    A tree that cannot be opened counts as having every language of the format: the commands
+    that need the tree say what is wrong with it.
+    """
+    try:
+        return open_project_tree(project).languages()
+    except TreeError:
+        return LANGUAGES
+
+
+def version_tree_path(project: str | Path, version: str) -> Path:
+    """Where a project of one's own keeps its tree of another version than its settings'
+    (``<project>/tree-v{N}.txt``, written by ``catmap remap --to FILE``)."""
+    return Path(project) / f"tree-v{version}.txt"
+
+
+def keep_version_tree(project: str | Path, tree: CategoryTree) -> Path | None:
+    """Keep a copy of a tree file a project of one's own is remapped to, for the commands that
+    find a tree by the version recorded with the store's mappings (export, review, decisions).
+
+    Returns:
+        The copy, or None: the project uses the shared tree, the tree is the project's own
+        version, or it comes from no file.
+    """
+    settings = load_settings(project)
+    if settings is None or settings.tree_file is None or tree.path is None:
+        return None
+    if str(tree.version) == str(settings.tree_version):
+        return None
+    target = version_tree_path(project, str(tree.version))
+    source = Path(tree.path)
+    if target.exists() and target.resolve() == source.resolve():
+        return target
+    write_bytes_atomic(target, source.read_bytes())
+    return target
+
+
+def project_version_tree(project: str | Path, version: str) -> CategoryTree:
+    """Return the project's tree of a version: its own tree when that is the version, the copy
+    ``catmap remap --to FILE`` kept of a tree of one's own (:func:`keep_version_tree`), else
+    the shared tree of the version.
+
+    Raises:
+        TreeError: the tree file is missing or invalid.
+    """
+    own = project_tree(project)
+    if str(own.version) == str(version):
+        return own
+    settings = load_settings(project)
+    kept = version_tree_path(project, str(version))
+    if settings is not None and settings.tree_file is not None and kept.is_file():
+        return load_tree(kept)
+    return load_default_tree(version)

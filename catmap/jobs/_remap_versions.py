@@ -13,7 +13,7 @@ from collections.abc import Callable
 from pathlib import Path
 
 from catmap.errors import TreeVersionMismatch
-from catmap.jobs._project_tree import project_tree
+from catmap.jobs._project_tree import project_tree, project_version_tree, version_tree_path
 from catmap.jobs._remap_record import pending_remap
 from catmap.store import Store
 from catmap.tree.taxonomy import CategoryTree, load_default_tree
@@ -107,8 +107,11 @@ def check_one_version(store: Store, action: str) -> None:
     )
 
 
-def check_onboarding(store: Store, tree_version: str) -> None:
+def check_onboarding(store: Store, tree_version: str, project: Path | None = None) -> None:
     """Refuse onboarding while a remap is pending, or onto another tree version than the store's.
+
+    ``project`` (when given) names, for a project of one's own, the copy of its tree of the
+    store's version that ``catmap remap --to FILE`` kept, in the hint.
 
     Raises:
         TreeVersionMismatch: a remap waits to be finalised or rolled back, or the store's
@@ -125,12 +128,18 @@ def check_onboarding(store: Store, tree_version: str) -> None:
         )
     current = store_tree_version(store)
     if current is not None and current != str(tree_version):
+        kept = version_tree_path(project, current) if project is not None else None
+        which = (
+            f"--tree-file {kept}" if kept is not None and kept.is_file() else
+            f"--tree-version {current}"
+        )  # fmt: skip
         raise TreeVersionMismatch(
             f"cannot onboard on tree version {tree_version}: the store's mappings are on "
             f"version {current}",
             path=store.path,
-            hint=f"train a model on tree version {current} (`catmap train --tree-version "
-            f"{current}`), or remap the store with `catmap remap --to {tree_version}` first",
+            hint=f"train a model on tree version {current} (`catmap train {which}`) and "
+            f"onboard with {which}, or remap the store with `catmap remap --to "
+            f"{tree_version}` first",
         )
 
 
@@ -161,8 +170,7 @@ def project_store_tree(project: str | Path, store: Store, action: str) -> Catego
         TreeVersionMismatch: the store mixes tree versions.
     """
     check_one_version(store, action)
-    own = project_tree(project)
     version = store_tree_version(store)
-    if version is None or version == str(own.version):
-        return own
-    return load_default_tree(version)
+    if version is None:
+        return project_tree(project)
+    return project_version_tree(project, version)

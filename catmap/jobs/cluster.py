@@ -86,7 +86,7 @@ from catmap.feeds.profiled import ProfiledFeed, open_profiled_feed
 from catmap.feeds.read import FeedInfo
 from catmap.feeds.writers import open_reject_writer
 from catmap.jobs._project_tree import default_model_dir
-from catmap.jobs.map import MapResult, project_mapper
+from catmap.jobs.map import MapResult, language_facts, project_mapper
 from catmap.project import feed_names, feed_stem, subfolder
 from catmap.records import Product, Reject, SourceRecord
 from catmap.tree.taxonomy import load_default_tree, load_tree
@@ -785,6 +785,7 @@ def map_feed_on_cluster(
         "model": str(folder) if uses_model else None,
         **result.to_dict(),
         "cluster": {"partitions": summary["partitions"], "dashboard": dashboard},
+        **language_facts(source, tree),
     }
     return facts, _fatal_error(fatal) if fatal is not None else None
 

@@ -25,9 +25,9 @@ from catmap.jobs._feed_profile import (
     remember_options,
     suggest_and_save,
 )
+from catmap.jobs._project_tree import project_tree_languages
 from catmap.project import profile_path
 from catmap.records import Reject, SourceRecord
-from catmap.tree.treefile import LANGUAGES
 
 __all__ = ["PREVIEW_RECORDS", "SAMPLES_SHOWN", "inspect_feed", "mapping_rows", "preview_products"]
 
@@ -178,7 +178,7 @@ def inspect_feed(
     mapped_columns = set(profile.columns.values())
     missing = profile.missing()
     language = feed_language(sample, profile.columns)
-    warning = language_warning(language, LANGUAGES)
+    warning = language_warning(language, project_tree_languages(project))
     return {
         "feed": str(feed),
         "format": info.format,

@@ -14,12 +14,16 @@ from catmap.classify.mapping import Mapper, MapSummary, map_feed
 from catmap.classify.rules import RuleSet, load_rules
 from catmap.classify.storage import MANIFEST, load_model
 from catmap.errors import InputError
-from catmap.feeds.profiled import open_profiled_feed
+from catmap.feeds.language import feed_language, language_warning
+from catmap.feeds.profiled import ProfiledFeed, open_profiled_feed
 from catmap.jobs._project_tree import default_model_dir, default_rules_path, project_tree
 from catmap.project import feed_name
 from catmap.tree.taxonomy import CategoryTree
 
-__all__ = ["MapResult", "map_project_feed", "project_mapper"]
+__all__ = ["MapResult", "language_facts", "map_project_feed", "project_mapper"]
+
+# Records the feed's language is guessed from (as `catmap inspect` does).
+LANGUAGE_SAMPLE = 200
 
 
 @dataclass(frozen=True, slots=True)
@@ -119,5 +123,22 @@ def map_project_feed(
         "feed_name": name,
         "model": str(model_folder) if mapper.model is not None else None,
         **summary.to_dict(),
+        **language_facts(source, tree),
     }
     return MapResult(facts, error)
+
+
+def language_facts(source: ProfiledFeed, tree: CategoryTree) -> dict[str, Any]:
+    """The feed's language guessed from its first records, and a warning when the tree has no
+    terms in it (the model's confidence is then less to be trusted).
+
+    Returns:
+        ``language`` (:meth:`LanguageGuess.to_dict`) and ``warnings`` (a list of sentences).
+    """
+    try:
+        sample = source.feed.sample(LANGUAGE_SAMPLE)
+    except InputError:  # no good record: the mapping's own error says why
+        sample = []
+    guess = feed_language(sample, source.profile.columns)
+    warning = language_warning(guess, tree.languages())
+    return {"language": guess.to_dict(), "warnings": [warning] if warning else []}

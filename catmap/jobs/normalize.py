@@ -25,8 +25,8 @@ from catmap.jobs._feed_profile import (
     saved_profile,
     suggest_and_save,
 )
+from catmap.jobs._project_tree import project_tree_languages
 from catmap.project import profile_path
-from catmap.tree.treefile import LANGUAGES
 
 __all__ = ["NormalizeResult", "normalize_project_feed"]
 
@@ -99,7 +99,7 @@ def normalize_project_feed(
         profile.default_currency = default_currency
     check_profile(profile, opened.info, profile_path=path)
     language = feed_language(opened.sample(SAMPLE_SIZE), profile.columns)
-    warning = language_warning(language, LANGUAGES)
+    warning = language_warning(language, project_tree_languages(project))
 
     accounting = Accounting()
     paths = output_paths(out_dir, format)

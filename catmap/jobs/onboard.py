@@ -61,6 +61,7 @@ from catmap.jobs._brand_queue import queue_brand_candidates
 from catmap.jobs._brand_registry import load_registry, merge_feed_registry
 from catmap.jobs._calibration import (
     UNCOVERED_LANGUAGE_CAP,
+    UNCOVERED_LANGUAGE_FLOOR,
     FeedShift,
     ValidationPredictions,
     accept_threshold,
@@ -97,6 +98,7 @@ __all__ = [
     "CHUNK_SIZE",
     "DEFAULT_BACKOFF_THRESHOLD",
     "UNCOVERED_LANGUAGE_CAP",
+    "UNCOVERED_LANGUAGE_FLOOR",
     "FeedMapper",
     "FeedOutcome",
     "FeedShift",
@@ -623,7 +625,7 @@ def store_onboarding(
     progress = on_progress or (lambda _stage, _count: None)
     store = Store.for_project(p.project)
     try:
-        check_onboarding(store, str(tree.version))
+        check_onboarding(store, str(tree.version), p.project)
         store.add_feed(
             name, source_path=p.feed_path.resolve(), profile_path=p.source.profile_path
         )

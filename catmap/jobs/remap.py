@@ -49,6 +49,7 @@ from typing import Any
 
 from catmap.attributes import AttributeExtractor
 from catmap.errors import InputError, StoreError
+from catmap.jobs._project_tree import keep_version_tree, project_version_tree
 from catmap.jobs._remap_batch import DEFAULT_MIN_CONFIDENCE, PageRemapper, remap_group_key
 from catmap.jobs._remap_catalog import (
     REMAPPED_CATALOG_COLUMNS,
@@ -65,7 +66,7 @@ from catmap.jobs._remap_record import (
     rollback_remap,
 )
 from catmap.jobs._remap_scoring import AttributeFollower, RemapScorer, scorer_for_project
-from catmap.project import NO_STORE_HINT
+from catmap.project import NO_STORE_HINT, load_settings
 from catmap.store import Store, store_path
 from catmap.tree.changelog import ChangeLog, load_change_log
 from catmap.tree.diff import Crosswalk, crosswalk_from_changes, diff_trees, reconcile
@@ -380,6 +381,21 @@ def old_tree_version(store: Store, new_version: str) -> str:
     return known[0] if known else "1"
 
 
+def _stored_tree(
+    project: Path, store: Store, given: str | None, new_tree: CategoryTree
+) -> CategoryTree:
+    """The tree the stored mappings use: the one given, else, for a project of one's own
+    (``catmap init --tree``), its tree of the version recorded with them
+    (:func:`project_version_tree`), else the shared tree of that version."""
+    if given:
+        return open_tree(given)
+    version = old_tree_version(store, str(new_tree.version))
+    settings = load_settings(project)
+    if settings is not None and settings.tree_file is not None:
+        return project_version_tree(project, version)
+    return open_tree(version)
+
+
 def remap_project(
     project: Path,
     to: str,
@@ -396,7 +412,8 @@ def remap_project(
     Args:
         project: the project folder.
         to: the new tree: a version number or a tree file.
-        from_: the tree the stored mappings use (default: the version recorded with them).
+        from_: the tree the stored mappings use (default: the version recorded with them:
+            the project's own tree when it has that version, else the shared tree).
         crosswalk_file: the crosswalk to use (default: computed by comparing the two trees).
         changes_file: the change log between the two trees; it overrides the crosswalk.
         min_confidence: accept threshold for re-scored mappings (default: each feed's
@@ -412,7 +429,10 @@ def remap_project(
 
     new_tree = open_tree(to)
     with open_project_store(project) as store:
-        old_tree = open_tree(from_ or old_tree_version(store, str(new_tree.version)))
+        old_tree = _stored_tree(project, store, from_, new_tree)
+        # A tree file of one's own stays with the project: export and review find the
+        # remapped mappings' tree by its version.
+        keep_version_tree(project, new_tree)
         crosswalk = load_crosswalk(crosswalk_file) if crosswalk_file is not None else None
         changes = load_change_log(changes_file) if changes_file is not None else None
         folder = model_dir or default_model_dir(project)

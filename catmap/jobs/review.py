@@ -10,8 +10,8 @@ from pathlib import Path
 from catmap.attributes import BrandDictionary
 from catmap.attributes.brand import dictionary_in_use
 from catmap.errors import StoreError
-from catmap.jobs._project_tree import check_store_tree, open_project_tree
-from catmap.jobs._remap_versions import check_one_version
+from catmap.jobs._project_tree import check_store_tree, open_project_tree, project_version_tree
+from catmap.jobs._remap_versions import check_one_version, store_tree_version
 from catmap.project import NO_STORE_HINT, load_settings
 from catmap.review.session import ReviewSession
 from catmap.store import Store, store_path
@@ -48,7 +48,10 @@ def project_review_session(
         # A project's own tree is the one its items are on; the shared tree's versions are
         # looked up per item (a remap may leave items on two versions).
         settings = load_settings(project)
-        tree = open_project_tree(project) if settings is not None and settings.tree_file else None
-        if tree is not None:
+        tree = None
+        if settings is not None and settings.tree_file:
+            # After a remap to a tree file of one's own: that tree (kept in the project).
+            version = store_tree_version(store)
+            tree = project_version_tree(project, version) if version else open_project_tree(project)
             check_store_tree(store, tree)
         yield ReviewSession(store, reviewer, feed=feed, brands=brands, tree=tree)

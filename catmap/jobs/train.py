@@ -56,7 +56,8 @@ def training_sources(
 
     Without feeds: the project's labelled feeds (``catmap init --labelled``). The project of
     ``catmap demo`` learns from the demo reference catalog (built when missing) on the demo's
-    tree version; on a newer shared tree, a project learns from its remapped catalog
+    tree version; on a newer shared tree, or a newer tree of one's own, a project learns from
+    its remapped catalog
     (:func:`remapped_catalog`), which already holds the reviewed products.
 
     Args:
@@ -72,8 +73,10 @@ def training_sources(
     sources = list(feeds)
     labels_version = settings.tree_version if settings is not None else DEMO_TREE_VERSION
     shared = tree.path == str(default_tree_path(tree.version))
-    if not sources and shared and str(tree.version) != labels_version:
-        # A newer shared tree than the project's labels: learn from its remapped catalog.
+    own = settings is not None and settings.tree_file is not None
+    if not sources and (shared or own) and str(tree.version) != labels_version:
+        # A newer tree than the project's labels (the shared one, or a tree of one's own the
+        # project was remapped to): learn from its remapped catalog.
         return [remapped_catalog(project, tree)], []
     if not sources and settings is not None and settings.labelled:
         sources = [Path(feed) for feed in settings.labelled]

@@ -359,6 +359,12 @@ class CategoryTree:
                 terms.extend(words)
         return terms
 
+    def languages(self) -> tuple[str, ...]:
+        """Return the language codes the tree has terms in (a node's keywords or synonyms),
+        in the file format's order; a language whose cells are all empty is not among them."""
+        used = {code for node in self._order for code, words in node.terms.items() if words}
+        return tuple(code for code in LANGUAGES if code in used)
+
     def search_matches(
         self, text: str, *, limit: int = 10, under: str | None = None, min_score: float = 0.0
     ) -> list[SearchMatch]:
