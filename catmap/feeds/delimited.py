@@ -35,11 +35,16 @@ csv.field_size_limit(max(csv.field_size_limit(), FIELD_SIZE_LIMIT))
 _NUMBER = re.compile(r"^[-+]?[\d\s.,]*\d[\d\s.,]*\s*(%|[A-Za-z]{3}|[€$£¥])?$")
 _URL = re.compile(r"^(https?://|www\.)", re.IGNORECASE)
 _EXCERPT = 200
+# Rows looked at to tell a header with blank or repeated names from a first record.
+_HEADER_SAMPLE = 10
 _HEADER_NOISE = re.compile("[\x00-\x08\x0b\x0c\x0e-\x1f\x7f-\x9f]")
 # One line with its end, split as a text stream opened with ``newline=""`` splits it ("\r\n",
 # "\r" or "\n"), so that the csv reader sees the same lines. Lines are found lazily: reading
 # a few rows of a 1 MB sample no longer copies the whole sample into a StringIO first.
 _LINE_RE = re.compile(r"[^\r\n]*(?:\r\n|\r|\n)|[^\r\n]+")
+# A spreadsheet program's first line "sep=;" names the delimiter for the program that opens
+# the file; it is no record (common practice, no source).
+_SEPARATOR_LINE = re.compile(r"\ufeff?sep=([^\r\n])(?:\r\n|\r|\n|$)", re.IGNORECASE)
 
 
 def parse_delimiter(value: str, path: str | Path) -> str:
@@ -56,6 +61,23 @@ def parse_delimiter(value: str, path: str | Path) -> str:
             hint="use --delimiter ',' ';' '|' or tab",
         )
     return found
+
+
+def separator_line(text: str) -> str | None:
+    """Return the delimiter a leading "sep=X" line names, or None when there is no such line."""
+    match = _SEPARATOR_LINE.match(text)
+    return match.group(1) if match else None
+
+
+def without_separator_line(text: str) -> str:
+    """Return the decoded sample without its leading "sep=X" line, if it has one."""
+    match = _SEPARATOR_LINE.match(text)
+    return text[match.end() :] if match else text
+
+
+def is_separator_row(row: list[str]) -> bool:
+    """Tell whether a parsed first row is a "sep=X" line (read with its own delimiter X)."""
+    return len(row) == 2 and not row[1] and row[0].lstrip("\ufeff").lower() == "sep="
 
 
 def sample_rows(text: str, delimiter: str, limit: int) -> list[list[str]]:
@@ -108,22 +130,30 @@ def _looks_like_value(cell: str) -> bool:
 def sniff_header(text: str, delimiter: str) -> bool:
     """Tell whether the first row names the columns.
 
-    A header row has no empty cell, no cell that looks like a value (a number, a URL, long
-    text), no repeated cell; and when a second row exists, either it has a value-looking cell
-    or its cells differ from the first row's (common practice, no source).
+    A header row has no cell that looks like a value (a number, a URL, long text). When it
+    has no empty and no repeated cell, it is a header unless a second row repeats it with no
+    value-looking cell. An empty or repeated cell (a blank column name, trailing empty columns
+    of a spreadsheet export, two "image" columns) is allowed when a later row has a value
+    under one of its names: "price" over "10.00" (common practice, no source).
     """
-    rows = sample_rows(text, delimiter, 2)
+    rows = sample_rows(text, delimiter, _HEADER_SAMPLE)
     if not rows:
         return False
     first = rows[0]
-    if any(not cell.strip() or _looks_like_value(cell) for cell in first):
+    if any(_looks_like_value(cell) for cell in first if cell.strip()):
         return False
-    if len(set(first)) != len(first):
+    names = [cell for cell in first if cell.strip()]
+    if not names:
         return False
-    if len(rows) == 1:
-        return True
-    second = rows[1]
-    return any(_looks_like_value(cell) for cell in second) or second != first
+    if len(names) == len(first) and len(set(first)) == len(first):
+        if len(rows) == 1:
+            return True
+        second = rows[1]
+        return any(_looks_like_value(cell) for cell in second) or second != first
+    named = [index for index, cell in enumerate(first) if cell.strip()]
+    return any(
+        index < len(row) and _looks_like_value(row[index]) for row in rows[1:] for index in named
+    )
 
 
 def header_names(row: list[str]) -> tuple[str, ...]:
@@ -144,6 +174,18 @@ def header_names(row: list[str]) -> tuple[str, ...]:
     return tuple(names)
 
 
+def _named_width(columns: tuple[str, ...]) -> int:
+    """The number of header columns up to the last one with a name of its own.
+
+    :func:`header_names` calls a blank header cell "column_N" (N its position); the blank
+    cells at the end of a header are the empty columns a spreadsheet export adds.
+    """
+    width = len(columns)
+    while width and columns[width - 1] == f"column_{width}":
+        width -= 1
+    return width
+
+
 def _excerpt(row: list[str], delimiter: str) -> str:
     text = delimiter.join(row)
     return text[:_EXCERPT] + ("..." if len(text) > _EXCERPT else "")
@@ -156,8 +198,12 @@ def read_first_row(path: str | Path, encoding: str, delimiter: str) -> list[str]
         stream, encoding=encoding, errors=_sniff.ERROR_HANDLER, newline=""
     ) as text:
         try:
+            first = True
             for row in csv.reader(text, delimiter=delimiter, strict=True):
                 if row:
+                    if first and is_separator_row(row):
+                        first = False
+                        continue
                     return row
         except csv.Error:
             return None
@@ -223,6 +269,7 @@ def read_delimited_text(
     columns: tuple[str, ...],
     has_header: bool,
     first_line: int = 1,
+    named_columns: bool | None = None,
 ) -> Iterator[SourceRecord | Reject]:
     """Yield the records and rejects of delimited text (a whole file, or a slice of one).
 
@@ -235,9 +282,12 @@ def read_delimited_text(
         has_header: skip the first non-empty row.
         first_line: the file's line number of the text's first line (a slice's records and
             rejects keep the file's real line numbers).
+        named_columns: the columns are the file's header row (default: ``has_header``; a
+            slice after the first has no header row but its columns may still be named).
 
     Yields:
-        Records and rejects, as :func:`iter_delimited` describes.
+        Records and rejects, as :func:`iter_delimited` describes, and "repeated_header" for
+        the header row written again inside the feed (files joined by hand).
 
     Raises:
         FeedFormatError: an unterminated quote, or a field larger than the limit.
@@ -248,6 +298,11 @@ def read_delimited_text(
     seen = escapes.produced
     pending = 0
     header_pending = has_header
+    # Only the file's first row can be a "sep=X" line.
+    preamble = first_line == 1
+    named = has_header if named_columns is None else named_columns
+    first_name = columns[0] if named and columns else None
+    named_width = _named_width(columns) if named else width
     shift = first_line - 1
     reader = csv.reader(text, delimiter=delimiter, strict=True)
     previous = shift  # reader.line_num after the previous row: the next row starts one later
@@ -265,8 +320,7 @@ def read_delimited_text(
                     f"a cell on this row is larger than {FIELD_SIZE_LIMIT >> 20} MiB",
                     path=path,
                     line=start,
-                    hint="the row has no quote; ask the sender to cut the cell, "
-                    "or split the file",
+                    hint="the row has no quote; ask the sender to cut the cell, or split the file",
                 ) from exc
             if "unexpected end of data" in message or "field larger" in message:
                 raise FeedFormatError(
@@ -289,6 +343,10 @@ def read_delimited_text(
         previous = reader.line_num + shift
         if not row:
             continue
+        if preamble:
+            preamble = False
+            if is_separator_row(row):
+                continue
         if header_pending:
             header_pending = False
             continue
@@ -308,10 +366,23 @@ def read_delimited_text(
                     excerpt,
                 )
                 continue
+        if len(row) != width and len(row) == named_width:
+            # The header ends in cells with no name (a spreadsheet's trailing empty columns)
+            # and the row stops where the names stop: nothing is missing.
+            row = row + [""] * (width - len(row))
         if len(row) != width:
             yield Reject(
                 "ragged_row",
                 f"expected {width} cells, found {len(row)}",
+                start,
+                f"line {start}",
+                _excerpt(row, delimiter),
+            )
+            continue
+        if first_name is not None and row[0].strip() == first_name and header_names(row) == columns:
+            yield Reject(
+                "repeated_header",
+                "the header row again, inside the feed (files joined with their headers?)",
                 start,
                 f"line {start}",
                 _excerpt(row, delimiter),

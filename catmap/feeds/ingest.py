@@ -74,7 +74,8 @@ REQUIRED = ("product_id", "title")
 # Distinct raw prices a ProductBuilder remembers (see ProductBuilder._prices).
 PRICE_CACHE_SIZE = 8192
 
-# Reject reasons of this stage (the readers add "ragged_row", "bad_encoding", "unparseable_record").
+# Reject reasons of this stage (the readers add "ragged_row", "repeated_header", "bad_encoding",
+# "unparseable_record").
 MISSING_ID = "missing_id"
 MISSING_TITLE = "missing_title"
 DUPLICATE_ID = "duplicate_id"

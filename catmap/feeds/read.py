@@ -4,8 +4,8 @@
 by magic bytes) to choose its encoding, format, delimiter and header, or XML record element,
 and returns a :class:`Feed`. Iterating a feed yields :class:`~catmap.records.SourceRecord` for
 each good record and :class:`~catmap.records.Reject` for each bad one ("ragged_row",
-"bad_encoding", "unparseable_record"); a fatal error is raised only after the good records
-before it were yielded.
+"repeated_header", "bad_encoding", "unparseable_record"); a fatal error is raised only after the
+good records before it were yielded.
 
 Example:
     >>> feed = open_feed("products.csv.gz")            # doctest: +SKIP
@@ -212,9 +212,12 @@ def _open_delimited(
 ) -> Feed:
     path = str(common["path"])
     encoding = str(common["encoding"])
-    chosen = (
-        delimited.parse_delimiter(delimiter, path) if delimiter else delimited.sniff_delimiter(text)
-    )
+    declared = delimited.separator_line(text)
+    text = delimited.without_separator_line(text)
+    if delimiter:
+        chosen = delimited.parse_delimiter(delimiter, path)
+    else:
+        chosen = declared or delimited.sniff_delimiter(text)
     header = delimited.sniff_header(text, chosen) if has_header is None else has_header
     first = delimited.read_first_row(path, encoding, chosen)
     if first is None:
