@@ -87,6 +87,17 @@ def test_unknown_given_encoding_is_a_feed_error() -> None:
         open_feed(GOOD / "comma.csv", encoding="no-such-codec")
 
 
+def test_utf8_with_a_cp1252_row_keeps_the_good_rows_as_written() -> None:
+    feed = open_feed(BAD / "cp1252_row_in_utf8.csv")
+    assert (feed.info.encoding, feed.info.encoding_source) == ("utf-8", "detected")
+    results = list(feed)
+    assert _titles(feed) == ["Bouilloire électrique", "Pull mérinos", "Sac à dos randonnée"]
+    reject = results[1]
+    assert isinstance(reject, Reject)
+    assert (reject.reason, reject.line) == ("bad_encoding", 3)
+    assert "try --encoding cp1252" in reject.detail
+
+
 def test_bad_byte_after_the_sample_rejects_only_its_record(tmp_path: Path) -> None:
     # The sample is the first megabyte: put the bad byte well after it.
     path = tmp_path / "late.csv"
@@ -196,6 +207,10 @@ BAD_EXPECTATIONS: dict[str, dict[str, Any]] = {
     "utf16_no_bom.xml": {"reads": ([], 2)},
     "control_in_header.csv": {"reads": ([], 2)},
     "entity_behind_attlist.xml": {"raises": (UnsafeFeedError, 4, "declares XML entities")},
+    # UTF-8 with one row pasted from a cp1252 file: read as UTF-8, that row rejected (read as
+    # a single-byte code page, the three good rows would be garbled).
+    "cp1252_row_in_utf8.csv": {"reads": (["bad_encoding"], 3)},
+    "repeated_header.csv": {"reads": (["repeated_header"], 2)},
     "not_utf8_given_utf8.csv": {
         "reads": (["bad_encoding", "bad_encoding"], 0),
         "kwargs": {"encoding": "utf-8"},

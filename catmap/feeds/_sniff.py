@@ -215,7 +215,8 @@ def detect_encoding(head: bytes, given: str | None, path: str | Path) -> tuple[s
         decoder.decode(head, final=False)  # a sample cut mid-character is still UTF-8
         return "utf-8", "detected"
     except UnicodeDecodeError:
-        pass
+        if _mostly_utf8(head):
+            return "utf-8", "detected"
     # Imported here: a UTF-8 feed (most of them) never needs the detector.
     import charset_normalizer
 
@@ -232,6 +233,25 @@ def detect_encoding(head: bytes, given: str | None, path: str | Path) -> tuple[s
         if _latin_family(name) and name not in ("cp1252", "latin_1", "iso8859_15"):
             return name, "detected"
     return best, "detected"
+
+
+_NON_ASCII = re.compile("[^\x00-\x7f\ud800-\udfff]")
+
+
+def _mostly_utf8(head: bytes) -> bool:
+    """Tell whether ``head`` is UTF-8 text with a few bytes that are not UTF-8.
+
+    A UTF-8 feed with some rows pasted from a cp1252 file, or a few stray bytes, must still
+    be read as UTF-8: read as a single-byte code page, every good row would be garbled without
+    a word. Its multi-byte characters decode; in text written in a single-byte or a two-byte
+    East Asian encoding, a byte sequence that happens to be valid UTF-8 is rare (under a
+    quarter of the non-ASCII characters), so at least twice as many good characters as bad
+    bytes tells. The rows with the bad bytes are then rejected, with a hint of the encoding to
+    try.
+    """
+    text = codecs.getincrementaldecoder("utf-8")("surrogateescape").decode(head, final=False)
+    bad = len(SURROGATES.findall(text))
+    return len(_NON_ASCII.findall(text)) >= 2 * bad
 
 
 def _latin_family(name: str) -> bool:
