@@ -187,15 +187,16 @@ def lxml_encoding(encoding: str | None) -> str | None:
 
 def scan(
     path: str | Path, encoding: str | None
-) -> tuple[Counter[str], set[str], dict[str, str], FeedFormatError | None]:
+) -> tuple[Counter[str], dict[str, set[str]], dict[str, str], FeedFormatError | None]:
     """Walk the first :data:`SCAN_ELEMENTS` element ends of the feed.
 
     Returns:
-        (element path -> count, paths of elements that had children, namespaces prefix -> URI,
-        the parse error met, if any).
+        (element path -> count; path of each element that had children or attributes -> its
+        own fields, the names of its attributes ("@id") and of its children that hold text;
+        namespaces prefix -> URI; the parse error met, if any).
     """
     counts: Counter[str] = Counter()
-    parents: set[str] = set()
+    parents: dict[str, set[str]] = {}
     namespaces: dict[str, str] = {}
     stack: list[str] = []
     ends = 0
@@ -217,13 +218,18 @@ def scan(
                 namespaces.setdefault(prefix or "", uri)
             elif event == "start":
                 if stack:
-                    parents.add(stack[-1])
+                    parents.setdefault(stack[-1], set())
                 stack.append(stack[-1] + "/" + _qname(item) if stack else "/" + _qname(item))
+                if item.keys():
+                    parents.setdefault(stack[-1], set()).update("@" + k for k in item.keys())
             else:
-                counts[stack.pop()] += 1
+                element_path = stack.pop()
+                counts[element_path] += 1
                 ends += 1
                 if len(item):
                     item.clear(keep_tail=True)
+                elif stack and item.text and not item.text.isspace():
+                    parents[stack[-1]].add(element_path.rsplit("/", 1)[1])
                 if ends >= SCAN_ELEMENTS:
                     break
     except etree.XMLSyntaxError as exc:
@@ -235,14 +241,44 @@ def scan(
     return counts, parents, namespaces, error
 
 
-def choose_record_path(counts: Counter[str], parents: set[str]) -> str | None:
-    """Pick the repeating element with children at the shallowest depth (most repeats wins ties)."""
+# A grouping element (a department, a category) names itself with a few fields: a name, an
+# id, a path. Common practice, no source.
+GROUP_FIELDS = 3
+
+
+def choose_record_path(counts: Counter[str], parents: dict[str, set[str]]) -> str | None:
+    """Pick the record element: it repeats and has children or attributes.
+
+    The shallowest such element wins (most repeats breaks ties), unless it looks like a group
+    of records: no more than :data:`GROUP_FIELDS` fields of its own, and an element inside it
+    repeats more often and has more fields (``<department name="..."><group name="...">
+    <product>``: the products are the records, not the departments).
+
+    Args:
+        counts: element path -> count, as :func:`scan` gives them.
+        parents: element path -> its own fields, as :func:`scan` gives them.
+    """
     candidates = [p for p in counts if p in parents and counts[p] >= 2]
     if not candidates:
         candidates = [p for p in counts if p in parents and p.count("/") == 2]
     if not candidates:
         return None
-    return min(candidates, key=lambda p: (p.count("/"), -counts[p], p))
+
+    def first(paths: list[str]) -> str:
+        return min(paths, key=lambda p: (p.count("/"), -counts[p], p))
+
+    chosen = first(candidates)
+    while len(parents[chosen]) <= GROUP_FIELDS:
+        own = len(parents[chosen])
+        inner = [
+            p
+            for p in candidates
+            if p.startswith(chosen + "/") and counts[p] > counts[chosen] and len(parents[p]) > own
+        ]
+        if not inner:
+            break
+        chosen = first(inner)
+    return chosen
 
 
 def _steps_match(given: list[str], actual: list[str]) -> bool:
