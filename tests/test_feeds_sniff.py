@@ -211,6 +211,9 @@ BAD_EXPECTATIONS: dict[str, dict[str, Any]] = {
     # a single-byte code page, the three good rows would be garbled).
     "cp1252_row_in_utf8.csv": {"reads": (["bad_encoding"], 3)},
     "repeated_header.csv": {"reads": (["repeated_header"], 2)},
+    # A first record broken across lines: the lines after it show JSON Lines, not CSV.
+    "broken_first_line.jsonl": {"reads": (["unparseable_record"], 2)},
+    "json_array.json": {"raises": (FeedFormatError, 1, "one JSON array")},
     "not_utf8_given_utf8.csv": {
         "reads": (["bad_encoding", "bad_encoding"], 0),
         "kwargs": {"encoding": "utf-8"},

@@ -319,7 +319,31 @@ def detect_format(text: str) -> str:
         # A first line cut by the sample, or a damaged first record: still JSON Lines.
         if "\n" not in stripped or first.endswith("}"):
             return "jsonl"
+        # A first record broken across lines: the next lines tell.
+        if _json_objects(stripped.split("\n", 1)[1]):
+            return "jsonl"
     return "delimited"
+
+
+def _json_objects(text: str, lines: int = 20) -> bool:
+    """Tell whether most of the first non-empty ``lines`` of ``text`` are JSON objects."""
+    found = [line.strip() for line in text.split("\n", lines * 2)[: lines * 2] if line.strip()]
+    found = found[:lines]
+    if not found:
+        return False
+    good = 0
+    for line in found:
+        try:
+            good += isinstance(json.loads(line), dict)
+        except (ValueError, RecursionError):
+            pass
+    return good * 2 > len(found)
+
+
+def is_json_array(text: str) -> bool:
+    """Tell whether the decoded start of a feed is a JSON array of objects ("[{...}, ...]")."""
+    stripped = text.lstrip("\ufeff \t\r\n")
+    return stripped.startswith("[") and stripped[1:].lstrip(" \t\r\n").startswith("{")
 
 
 def suggest_other_encoding(encoding: str) -> str:

@@ -167,6 +167,13 @@ def open_feed(
     chosen_encoding, source = _sniff.detect_encoding(head, encoding, path_text)
     text = _sniff.decode_head(head, chosen_encoding)
     kind = _sniff.normalize_format(format, path_text) if format else _sniff.detect_format(text)
+    if kind == "delimited" and not format and _sniff.is_json_array(text):
+        raise FeedFormatError(
+            "the feed is one JSON array; catmap reads JSON Lines, one object per line",
+            path=path_text,
+            line=1,
+            hint="write each object on its own line, e.g. jq -c '.[]' feed.json > feed.jsonl",
+        )
     common: dict[str, Any] = {
         "path": path_text,
         "encoding": chosen_encoding,
