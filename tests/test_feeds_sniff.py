@@ -214,6 +214,11 @@ BAD_EXPECTATIONS: dict[str, dict[str, Any]] = {
     # A first record broken across lines: the lines after it show JSON Lines, not CSV.
     "broken_first_line.jsonl": {"reads": (["unparseable_record"], 2)},
     "json_array.json": {"raises": (FeedFormatError, 1, "one JSON array")},
+    # An HTML entity name XML does not define: the error names it, its line and column.
+    "html_entity.xml": {
+        "raises": (FeedFormatError, 4, "column 40: Entity 'eacute' not defined"),
+        "good_before": 1,
+    },
     "not_utf8_given_utf8.csv": {
         "reads": (["bad_encoding", "bad_encoding"], 0),
         "kwargs": {"encoding": "utf-8"},

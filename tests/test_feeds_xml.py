@@ -266,3 +266,18 @@ def test_records_with_attributes_only_are_found(tmp_path: Path) -> None:
         {"@id": "A-1", "@title": "Lamp", "@price": "10.00"},
         {"@id": "A-2", "@title": "Chair", "@price": "20.00"},
     ]
+
+
+def test_text_over_the_parser_limit_is_named_after_the_records_before_it(tmp_path: Path) -> None:
+    # libxml2 refuses a text node over 10,000,000 bytes unless its huge-tree option is on,
+    # which catmap leaves off.
+    path = tmp_path / "huge.xml"
+    records = "".join(f"<product><id>H-{i}</id><title>Item</title></product>\n" for i in range(3))
+    huge = "<product><id>H-9</id><description>" + "x" * 10_500_000 + "</description></product>"
+    path.write_text(f"<catalog>\n{records}{huge}\n</catalog>\n")
+    read: list[object] = []
+    with pytest.raises(FeedFormatError, match="text in record #4 is longer") as info:
+        read.extend(open_feed(path))
+    assert len(read) == 3
+    assert info.value.line == 5
+    assert info.value.hint and "shorten" in info.value.hint

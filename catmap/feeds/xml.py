@@ -46,6 +46,7 @@ _COMMENT = re.compile(r"<!--.*?-->", re.DOTALL)
 _ELEMENT_START = re.compile(r"<[A-Za-z_]")
 _DECLARED_ENCODING = re.compile(r"""^\s*<\?xml[^>]*encoding\s*=\s*["']([A-Za-z0-9._-]+)["']""")
 _NO_PARENT = object()
+_UNDEFINED_ENTITY = re.compile(r"Entity '([^']+)' not defined")
 _UNSAFE_HINT = (
     "the feed declares XML entities; catmap never expands them; "
     "ask the sender for a feed without a DTD"
@@ -146,16 +147,38 @@ def _attribute_name(name: str, element: Any) -> str:
     return local
 
 
-def _syntax_error(exc: etree.XMLSyntaxError, path: str | Path, read: int) -> FeedFormatError:
+def _syntax_error(exc: etree.XMLSyntaxError, path: str | Path, read: int | None) -> FeedFormatError:
+    """The error for a parse that stopped; ``read`` counts the records before it (None: not
+    counted, while scanning)."""
     line, column = exc.position if exc.position else (exc.lineno, 0)
     message = exc.msg or str(exc)
-    if "encoding" in message.lower() or "utf-8" in message.lower():
+    # iterparse can end with a vague "no element found" at line 0 while libxml2's log holds
+    # the error that stopped it, with its line and column: the log's last fatal entry (the log
+    # belongs to the thread and may still hold errors of earlier parses).
+    fatal = [entry for entry in exc.error_log if entry.level_name == "FATAL"]
+    if fatal and (not line or message == "no element found"):
+        entry = fatal[-1]
+        line, column, message = entry.line, entry.column, entry.message
+    undefined = _UNDEFINED_ENTITY.search(message)
+    if undefined:
+        hint = (
+            f"&{undefined.group(1)}; is an HTML name XML does not define; ask the sender to "
+            "write the character itself or as a numeric reference (&#233;)"
+        )
+    elif "text node too long" in message.lower() or "huge" in message.lower():
+        record = "" if read is None else f" in record #{read + 1}"
+        message = f"a text{record} is longer than the XML reader's limit (10 MB)"
+        hint = (
+            "ask the sender to shorten that text (a description of several megabytes is "
+            "usually an export error); the records before it are read"
+        )
+    elif "encoding" in message.lower() or "utf-8" in message.lower():
         hint = (
             "the bytes do not match the feed's encoding; use --encoding cp1252 (or the right one)"
         )
     else:
         hint = (
-            f"{read} records before it were read; the file may be truncated or hand-edited, "
+            f"{read or 0} records before it were read; the file may be truncated or hand-edited, "
             "ask the sender for a complete, well-formed file"
         )
     return FeedFormatError(
@@ -233,7 +256,7 @@ def scan(
                 if ends >= SCAN_ELEMENTS:
                     break
     except etree.XMLSyntaxError as exc:
-        error = _syntax_error(exc, path, 0)
+        error = _syntax_error(exc, path, None)
     except LookupError as exc:
         raise _unknown_encoding(exc, path, encoding) from exc
     finally:
