@@ -263,3 +263,26 @@ def test_truncated_gzip_is_a_feed_error(tmp_path: Path, name: str) -> None:
         feed = open_feed(path)
         list(feed)
     assert info.value.path == str(path)
+
+
+def test_small_truncated_gzip_keeps_the_whole_records_before_the_cut(tmp_path: Path) -> None:
+    rows = "".join(f"T-{i},Item number {i},{i}.00\n" for i in range(1, 41))
+    whole = gzip.compress(("id,title,price\n" + rows).encode())
+    path = tmp_path / "cut.csv.gz"
+    path.write_bytes(whole[: len(whole) - 30])  # the trailer and the last few rows
+    read: list[object] = []
+    with pytest.raises(FeedFormatError, match="the gzip data is damaged or cut short") as info:
+        read.extend(open_feed(path))
+    ids = [r.fields["id"] for r in read if isinstance(r, SourceRecord)]
+    assert 30 < len(ids) < 40
+    assert ids == [f"T-{i}" for i in range(1, len(ids) + 1)]
+    assert str(info.value).count(str(path)) == 1
+
+
+def test_gzip_cut_inside_its_first_block_is_one_clear_error(tmp_path: Path) -> None:
+    path = tmp_path / "stub.csv.gz"
+    path.write_bytes(gzip.compress(b"id,title\nS-1,Lamp\n")[:14])  # the header and no data
+    with pytest.raises(FeedFormatError) as info:
+        list(open_feed(path))
+    assert str(info.value).count(str(path)) == 1
+    assert "cut short" in str(info.value)
