@@ -57,6 +57,27 @@ def test_utf16_without_bom_is_detected(tmp_path: Path) -> None:
     assert _titles(feed) == ["Crème brûlée dish", "Teapot"]
 
 
+@pytest.mark.parametrize("encoding", ["utf-16-le", "utf-16-be"])
+def test_utf16_without_bom_of_non_latin_text_is_detected(tmp_path: Path, encoding: str) -> None:
+    # Few zero bytes (only the ASCII delimiters, digits and line ends have them): it was
+    # refused as binary data.
+    path = tmp_path / "ja.csv"
+    text = (
+        "id,title,price\nJ-1,緑茶 ティーバッグ,480\nJ-2,木製 箸 五膳,1200\nJ-3,綿 タオル 白,980\n"
+    )
+    path.write_bytes(text.encode(encoding))
+    feed = open_feed(path)
+    assert (feed.info.encoding, feed.info.encoding_source) == (encoding, "detected")
+    assert _titles(feed) == ["緑茶 ティーバッグ", "木製 箸 五膳", "綿 タオル 白"]
+
+
+def test_binary_numbers_with_zeros_on_one_side_are_not_utf16(tmp_path: Path) -> None:
+    path = tmp_path / "counts.dat"
+    path.write_bytes(b"".join(i.to_bytes(2, "little") for i in range(3, 3000, 7)))
+    with pytest.raises(FeedFormatError, match="not a text feed"):
+        open_feed(path)
+
+
 def test_cp1252_is_detected_with_euro_and_accents() -> None:
     feed = open_feed(GOOD / "cp1252.csv")
     assert (feed.info.encoding, feed.info.encoding_source) == ("cp1252", "detected")

@@ -125,7 +125,12 @@ def codec_name(encoding: str, path: str | Path) -> str:
 
 
 def _looks_utf16(head: bytes) -> str | None:
-    """Return "utf-16-le"/"utf-16-be" for BOM-less UTF-16 of mostly ASCII text, else None."""
+    """Return "utf-16-le"/"utf-16-be" for BOM-less UTF-16 text, else None.
+
+    Mostly ASCII text has a zero in nearly every other byte. Text mostly in another script
+    (Japanese, Chinese, Greek...) has zeros only where its delimiters, digits and line ends
+    are, all on the same side: then the sample must also decode as clean text with line breaks.
+    """
     sample = head[:4096]
     if len(sample) < 4:
         return None
@@ -134,7 +139,26 @@ def _looks_utf16(head: bytes) -> str | None:
         return "utf-16-le"
     if even.count(0) > 0.9 * len(even) and odd.count(0) < 0.1 * len(odd):
         return "utf-16-be"
+    for name, zeros, others in (("utf-16-le", odd, even), ("utf-16-be", even, odd)):
+        if (
+            zeros.count(0) >= 0.05 * len(zeros)
+            and others.count(0) <= 0.02 * len(others)
+            and _clean_utf16(sample, name)
+        ):
+            return name
     return None
+
+
+_UTF16_NOISE = re.compile("[\x00-\x08\x0b\x0c\x0e-\x1f\ufffe\uffff]")
+
+
+def _clean_utf16(sample: bytes, name: str) -> bool:
+    """Tell whether ``sample`` decodes as ``name`` into text with line breaks and no controls."""
+    try:
+        text = codecs.getincrementaldecoder(name)("strict").decode(sample, final=False)
+    except UnicodeDecodeError:  # a lone surrogate: not UTF-16 in this byte order
+        return False
+    return "\n" in text and not _UTF16_NOISE.search(text)
 
 
 def _byte_order(head: bytes, name: str, path: str | Path) -> str:
