@@ -129,3 +129,32 @@ def test_onboarding_waits_for_a_pending_remap(world: SmallWorld, tmp_path: Path)
     assert "run `catmap remap-finalise` to keep it or `catmap remap-rollback`" in text
     with Store.open(store_path(project)) as store:
         assert [f.name for f in store.feeds()] == ["ferravelle"]
+
+
+@pytest.mark.parametrize("as_json", [False, True])
+def test_a_feed_cut_short_shows_what_was_saved_then_the_error(
+    world: SmallWorld, tmp_path: Path, as_json: bool
+) -> None:
+    whole = world.paths.feeds["quorvane"].read_bytes()
+    cut = tmp_path / "quorvane_cut.xml"
+    cut.write_bytes(whole[: len(whole) // 2])
+    project = new_project(world, tmp_path / "p")
+    args = ["onboard", str(cut), "--project", str(project), "--max-error", str(TEST_MAX_ERROR),
+            "--validation", str(world.paths.reference)]  # fmt: skip
+    result = CliRunner().invoke(main, args + (["--json"] if as_json else []))
+    assert result.exit_code == 3, result.output
+    assert "catmap: error: " in result.stderr and "the XML is broken" in result.stderr
+    with Store.open(store_path(project)) as store:
+        summary = store.runs("quorvane_cut")[0].summary
+    assert summary["kept"] > 0
+    if as_json:
+        facts = json.loads(result.stdout)
+        assert (facts["accounting"]["read"], facts["accounting"]["kept"]) == (
+            summary["read"],
+            summary["kept"],
+        )
+        assert facts["stopped_early"] == summary["stopped_early"]
+    else:
+        text = " ".join(result.stdout.split())
+        assert f"read {summary['read']:,} = kept {summary['kept']:,}" in text
+        assert "reading stopped early: " in text
