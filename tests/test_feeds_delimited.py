@@ -219,3 +219,44 @@ def test_header_repeated_inside_the_feed_is_rejected(tmp_path: Path) -> None:
     assert isinstance(reject, Reject)
     assert (reject.reason, reject.excerpt) == ("repeated_header", "id , title")
     assert [r.fields["id"] for r in results if isinstance(r, SourceRecord)] == ["J-1", "J-2"]
+
+
+def test_a_stray_quote_does_not_swallow_the_rows_up_to_the_next_quote(tmp_path: Path) -> None:
+    # The quote opening line 2's title never closes on its line: the csv reader runs on to
+    # the next quote (line 5) and cannot split what it took. Only line 2 is bad.
+    path = tmp_path / "stray.csv"
+    path.write_text(
+        "id,title,price\n"
+        'S-1,"55 inch screen,499.00\n'
+        "S-2,Radio,29.00\n"
+        "S-3,Headset,19.00\n"
+        'S-4,"Lamp, red",9.00\n'
+        "S-5,Table,99.00\n"
+    )
+    results = list(open_feed(path))
+    assert [(type(r).__name__, r.line) for r in results] == [
+        ("Reject", 2),
+        ("SourceRecord", 3),
+        ("SourceRecord", 4),
+        ("SourceRecord", 5),
+        ("SourceRecord", 6),
+    ]
+    reject = results[0]
+    assert isinstance(reject, Reject)
+    assert reject.reason == "unparseable_record"
+    assert reject.excerpt == 'S-1,"55 inch screen,499.00'
+    assert "runs on to line 5" in reject.detail
+    assert results[3].fields == {"id": "S-4", "title": "Lamp, red", "price": "9.00"}
+
+
+def test_two_stray_quotes_reject_their_own_lines_only(tmp_path: Path) -> None:
+    path = tmp_path / "strays.csv"
+    path.write_text('id,title\nT-1,"Screen\nT-2,"Radio\nT-3,Headset\nT-4,"Lamp, red"\nT-5,Table\n')
+    results = list(open_feed(path))
+    rejects = [r for r in results if isinstance(r, Reject)]
+    assert [(r.line, r.excerpt) for r in rejects] == [(2, 'T-1,"Screen'), (3, 'T-2,"Radio')]
+    assert [r.fields["id"] for r in results if isinstance(r, SourceRecord)] == [
+        "T-3",
+        "T-4",
+        "T-5",
+    ]

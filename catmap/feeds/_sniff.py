@@ -68,7 +68,7 @@ def _escape(exc: UnicodeError) -> tuple[str, int]:
 codecs.register_error(ERROR_HANDLER, _escape)
 
 # The same escape for a sample looked at before reading (not counted: no record is read from it).
-_HEAD_ERROR_HANDLER = "catmap-escape-head"
+HEAD_ERROR_HANDLER = "catmap-escape-head"
 
 
 def _escape_head(exc: UnicodeError) -> tuple[str, int]:
@@ -77,7 +77,7 @@ def _escape_head(exc: UnicodeError) -> tuple[str, int]:
     return "".join(chr(0xDC00 + b) for b in exc.object[exc.start : exc.end]), exc.end
 
 
-codecs.register_error(_HEAD_ERROR_HANDLER, _escape_head)
+codecs.register_error(HEAD_ERROR_HANDLER, _escape_head)
 
 # Codecs that are text encodings to Python but cannot be read safely as a feed: they take no
 # error handler (idna, punycode), or can spell markup in plain letters (utf-7 writes "<" as
@@ -324,7 +324,7 @@ _WESTERN_SYMBOLS = set("€‚„…†‡‰‹›‘’“”•–—™«»�
 
 def decode_head(head: bytes, encoding: str) -> str:
     """Decode a sample, dropping a character cut at its end; bad bytes become surrogates."""
-    decoder = codecs.getincrementaldecoder(encoding)(_HEAD_ERROR_HANDLER)
+    decoder = codecs.getincrementaldecoder(encoding)(HEAD_ERROR_HANDLER)
     return decoder.decode(head, final=False)
 
 

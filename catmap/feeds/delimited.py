@@ -226,6 +226,84 @@ def _row_has_quote(path: str | Path, encoding: str, line: int) -> bool:
     return True
 
 
+# Rows the csv reader cannot split that are read again from the file (each read goes through
+# the file up to that row): enough for a feed with a few stray quotes, bounded for one with many.
+REREAD_LIMIT = 20
+
+
+def _lines_again(path: str | Path, encoding: str, first: int, last: int) -> list[str]:
+    """Return the physical lines ``first``..``last`` (1-based) of the feed, line ends kept.
+
+    Split as the readers split them (``newline=""``); undecodable bytes become lone surrogates
+    without counting them again (they were counted when first read).
+    """
+    stream, _ = open_binary(path)
+    lines: list[str] = []
+    with io.TextIOWrapper(
+        stream, encoding=encoding, errors=_sniff.HEAD_ERROR_HANDLER, newline=""
+    ) as text:
+        for number, line in enumerate(text, start=1):
+            if number >= first:
+                lines.append(line)
+            if number >= last:
+                break
+    return lines
+
+
+def _unsplittable(
+    path: str | Path,
+    encoding: str,
+    delimiter: str,
+    columns: tuple[str, ...],
+    named: bool,
+    start: int,
+    end: int,
+    message: str,
+    rereads: list[int],
+) -> Iterator[SourceRecord | Reject]:
+    """Reject a row the csv reader could not split (lines ``start``..``end``), and read again
+    the lines it swallowed.
+
+    A stray quote at the start of a cell (``"55 inch screen``) makes the reader take the
+    following lines into that cell until the next quote: one reject would hide good rows.
+    The row's first line is rejected with its text, and the lines after it are read again on
+    their own.
+    """
+    if rereads[0] <= 0:
+        span = f" (lines {start}-{end})" if end > start else ""
+        yield Reject(
+            "unparseable_record", f"cannot split the row{span}: {message}", start,
+            f"line {start}", "",
+        )  # fmt: skip
+        return
+    rereads[0] -= 1
+    lines = _lines_again(path, encoding, start, end)
+    first = lines[0].rstrip("\r\n") if lines else ""
+    excerpt = _sniff.SURROGATES.sub(
+        "\ufffd", first[:_EXCERPT] + ("..." if len(first) > _EXCERPT else "")
+    )
+    if len(lines) <= 1:
+        yield Reject(
+            "unparseable_record", f"cannot split the row: {message}", start, f"line {start}",
+            excerpt,
+        )  # fmt: skip
+        return
+    yield Reject(
+        "unparseable_record",
+        f"cannot split the row: {message}; a quote on this line runs on to line {end}: the "
+        "lines after it are read on their own",
+        start,
+        f"line {start}",
+        excerpt,
+    )
+    again = lines[1:]
+    yield from _read_rows(
+        again, path=path, encoding=encoding, delimiter=delimiter, columns=columns,
+        has_header=False, first_line=start + 1, named=named, rereads=rereads,
+        pending=sum(len(_sniff.SURROGATES.findall(line)) for line in again), part=True,
+    )  # fmt: skip
+
+
 def iter_delimited(
     path: str | Path,
     *,
@@ -292,15 +370,43 @@ def read_delimited_text(
     Raises:
         FeedFormatError: an unterminated quote, or a field larger than the limit.
     """
+    named = has_header if named_columns is None else named_columns
+    yield from _read_rows(
+        text, path=path, encoding=encoding, delimiter=delimiter, columns=columns,
+        has_header=has_header, first_line=first_line, named=named, rereads=[REREAD_LIMIT],
+    )  # fmt: skip
+
+
+def _read_rows(
+    text: Iterable[str],
+    *,
+    path: str | Path,
+    encoding: str,
+    delimiter: str,
+    columns: tuple[str, ...],
+    has_header: bool,
+    first_line: int,
+    named: bool,
+    rereads: list[int],
+    pending: int = 0,
+    part: bool = False,
+) -> Iterator[SourceRecord | Reject]:
+    """:func:`read_delimited_text`'s loop.
+
+    Args:
+        rereads: how many more unsplittable rows may be read again from the file (shared by
+            the nested readers of one feed).
+        pending: undecodable characters already in ``text`` (lines read again).
+        part: ``text`` is a part of the feed read again: a quote still open at its end is
+            the fault of the row it opened in, not a fatal error.
+    """
     width = len(columns)
     bad_bytes = _sniff.bad_bytes_detail(encoding)
     escapes = _sniff.ESCAPES
     seen = escapes.produced
-    pending = 0
     header_pending = has_header
     # Only the file's first row can be a "sep=X" line.
     preamble = first_line == 1
-    named = has_header if named_columns is None else named_columns
     first_name = columns[0] if named and columns else None
     named_width = _named_width(columns) if named else width
     shift = first_line - 1
@@ -315,6 +421,12 @@ def read_delimited_text(
             start = previous + 1
             previous = reader.line_num + shift
             message = str(exc)
+            if part and "unexpected end of data" in message:
+                # Inside lines read again, a quote left open at their end is this row's fault.
+                yield from _unsplittable(
+                    path, encoding, delimiter, columns, named, start, previous, message, rereads
+                )
+                return
             if "field larger" in message and not _row_has_quote(path, encoding, start):
                 raise FeedFormatError(
                     f"a cell on this row is larger than {FIELD_SIZE_LIMIT >> 20} MiB",
@@ -331,12 +443,8 @@ def read_delimited_text(
                     hint='a stray " swallowed the rest of the file; double it ("") inside '
                     "quoted text or remove it",
                 ) from exc
-            yield Reject(
-                "unparseable_record",
-                f"cannot split the row: {message}",
-                start,
-                f"line {start}",
-                "",
+            yield from _unsplittable(
+                path, encoding, delimiter, columns, named, start, previous, message, rereads
             )
             continue
         start = previous + 1
