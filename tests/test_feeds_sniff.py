@@ -71,6 +71,27 @@ def test_utf16_without_bom_of_non_latin_text_is_detected(tmp_path: Path, encodin
     assert _titles(feed) == ["緑茶 ティーバッグ", "木製 箸 五膳", "綿 タオル 白"]
 
 
+@pytest.mark.parametrize(
+    ("encoding", "titles", "expected"),
+    [
+        # A few bytes each: the detector's first guess was Korean (cp949), read from its
+        # rare extension characters, and Big5 for the lone "ñ".
+        ("shift_jis", ["緑茶", "緑茶 x"], "cp932"),
+        ("shift_jis", ["木製 箸", "木製 箸 x"], "cp932"),
+        ("latin-1", ["Niño", "Niño x"], "cp1252"),
+    ],
+)
+def test_short_feeds_in_a_legacy_encoding_keep_their_titles(
+    tmp_path: Path, encoding: str, titles: list[str], expected: str
+) -> None:
+    path = tmp_path / "short.csv"
+    rows = "".join(f"S-{i},{title},1.00\n" for i, title in enumerate(titles))
+    path.write_bytes(("id,title,price\n" + rows).encode(encoding))
+    feed = open_feed(path)
+    assert (feed.info.encoding, feed.info.encoding_source) == (expected, "detected")
+    assert _titles(feed) == titles
+
+
 def test_binary_numbers_with_zeros_on_one_side_are_not_utf16(tmp_path: Path) -> None:
     path = tmp_path / "counts.dat"
     path.write_bytes(b"".join(i.to_bytes(2, "little") for i in range(3, 3000, 7)))

@@ -248,6 +248,10 @@ def detect_encoding(head: bytes, given: str | None, path: str | Path) -> tuple[s
     if not matches:
         return ("cp1252" if _western_cp1252(head) else "latin-1"), "detected"
     best = codec_name(matches[0].encoding, path)
+    if best in _COMMON_LEADS:
+        return _double_byte_choice(
+            head, [codec_name(m.encoding, path) for m in matches]
+        ), "detected"
     if not _latin_family(best):
         return best, "detected"
     if _western_cp1252(head):
@@ -257,6 +261,66 @@ def detect_encoding(head: bytes, given: str | None, path: str | Path) -> tuple[s
         if _latin_family(name) and name not in ("cp1252", "latin_1", "iso8859_15"):
             return name, "detected"
     return best, "detected"
+
+
+# The lead bytes of the common part of each East Asian double-byte character set: the
+# characters a shop writes (KS X 1001 for Korean, GB 2312 for Chinese, the symbols, kana,
+# level-1 and the start of level-2 kanji of JIS X 0208 in Shift-JIS, Big5 proper). A short
+# feed gives the detector few bytes, and another set's reading of them falls among the rare
+# characters of its extensions (cp949's 0x81-0xA0 leads, GBK's 0x81-0xA0). Johab is kept out:
+# no shop feed uses it.
+_KOREAN = range(0xA1, 0xFF)
+_CHINESE = range(0xA1, 0xF8)
+_SHIFT_JIS = range(0x81, 0xA0)
+_COMMON_LEADS: dict[str, range] = {
+    "cp949": _KOREAN,
+    "euc_kr": _KOREAN,
+    "johab": range(0),
+    "gb18030": _CHINESE,
+    "gbk": _CHINESE,
+    "gb2312": _CHINESE,
+    "cp932": _SHIFT_JIS,
+    "shift_jis": _SHIFT_JIS,
+    "shift_jis_2004": _SHIFT_JIS,
+    "shift_jisx0213": _SHIFT_JIS,
+    "euc_jp": range(0xA1, 0xF5),
+    "euc_jis_2004": range(0xA1, 0xF5),
+    "euc_jisx0213": range(0xA1, 0xF5),
+    "big5": range(0xA1, 0xFA),
+    "cp950": range(0xA1, 0xFA),
+    "big5hkscs": range(0xA1, 0xFA),
+}
+_HIGH_RUN = re.compile(rb"[\x80-\xff]+")
+
+
+def _double_byte_choice(head: bytes, names: list[str]) -> str:
+    """Choose among the detector's readings when its best is an East Asian double-byte set.
+
+    Western text with a few accented letters, each alone between ASCII characters ("Niño"),
+    can also be read as pairs of a lead byte and an ASCII trail byte: it is cp1252 when that
+    reads as Western text. Otherwise the first reading whose characters all come from the
+    common part of their set wins (the detector's first when none does).
+    """
+    if all(len(run) == 1 for run in _HIGH_RUN.findall(head)) and _western_cp1252(head):
+        return "cp1252"
+    for name in names:
+        if name in _COMMON_LEADS and _common_characters(head, name):
+            return name
+    return names[0]
+
+
+def _common_characters(head: bytes, name: str) -> bool:
+    """Tell whether ``head`` decodes as ``name`` into characters of the set's common part."""
+    try:
+        text = codecs.getincrementaldecoder(name)("strict").decode(head, final=False)
+    except UnicodeDecodeError:
+        return False
+    leads = _COMMON_LEADS[name]
+    for char in set(_NON_ASCII.findall(text)):
+        encoded = char.encode(name)
+        if len(encoded) > 2 or (len(encoded) == 2 and encoded[0] not in leads):
+            return False
+    return True
 
 
 _NON_ASCII = re.compile("[^\x00-\x7f\ud800-\udfff]")
