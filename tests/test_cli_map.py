@@ -308,6 +308,29 @@ def test_map_writes_the_products_read_before_a_fatal_feed_error(
     assert len(rows) == accounting["kept"]
 
 
+def test_map_summary_counts_the_products_mapped_before_a_fatal_feed_error(
+    setup: tuple[Path, Path], tmp_path: Path
+) -> None:
+    feed, project = setup
+    broken = tmp_path / "broken.csv"
+    broken.write_text(
+        feed.read_text(encoding="utf-8") + 'p-broken,"Unclosed title\n', encoding="utf-8"
+    )
+    out = tmp_path / "out"
+    args = ["map", str(broken), "--out", str(out), "--project", str(project), "--workers", "1"]
+    result = CliRunner().invoke(main, [*args, "--json"])
+    assert result.exit_code == 3, result.output
+    facts = json.loads(result.stdout)
+    accounting = json.loads((out / "accounting.json").read_text(encoding="utf-8"))
+    assert facts["products"] == accounting["kept"] == 240
+    assert facts["accounting"]["stopped_early"] == accounting["stopped_early"]
+    assert "never closed" in accounting["stopped_early"]
+    text = CliRunner().invoke(main, args)
+    assert text.exit_code == 3
+    assert "read 240 = kept 240 + rejected 0" in text.stdout
+    assert "Mapped 240 products" in text.stdout
+
+
 def test_progress_lines_go_to_a_piped_stderr(
     setup: tuple[Path, Path], tmp_path: Path, monkeypatch: pytest.MonkeyPatch
 ) -> None:

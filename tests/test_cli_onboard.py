@@ -183,3 +183,32 @@ def test_a_feed_in_a_language_the_tree_lacks_has_no_capped_product_accepted(
     german_ids = [f"G{i:03d}" for i in range(300) if i % 4]
     assert {status[pid] for pid in german_ids} == {"queued"}  # none auto-accepted
     assert "accepted" in {status[f"G{i:03d}"] for i in range(0, 300, 4)}
+
+
+@pytest.mark.parametrize("as_json", [False, True])
+def test_a_feed_cut_short_shows_what_was_saved_then_the_error(
+    world: SmallWorld, tmp_path: Path, as_json: bool
+) -> None:
+    whole = world.paths.feeds["quorvane"].read_bytes()
+    cut = tmp_path / "quorvane_cut.xml"
+    cut.write_bytes(whole[: len(whole) // 2])
+    project = new_project(world, tmp_path / "p")
+    args = ["onboard", str(cut), "--project", str(project), "--max-error", str(TEST_MAX_ERROR),
+            "--validation", str(world.paths.reference)]  # fmt: skip
+    result = CliRunner().invoke(main, args + (["--json"] if as_json else []))
+    assert result.exit_code == 3, result.output
+    assert "catmap: error: " in result.stderr and "the XML is broken" in result.stderr
+    with Store.open(store_path(project)) as store:
+        summary = store.runs("quorvane_cut")[0].summary
+    assert summary["kept"] > 0
+    if as_json:
+        facts = json.loads(result.stdout)
+        assert (facts["accounting"]["read"], facts["accounting"]["kept"]) == (
+            summary["read"],
+            summary["kept"],
+        )
+        assert facts["stopped_early"] == summary["stopped_early"]
+    else:
+        text = " ".join(result.stdout.split())
+        assert f"read {summary['read']:,} = kept {summary['kept']:,}" in text
+        assert "reading stopped early: " in text

@@ -98,7 +98,11 @@ def test_has_header_override() -> None:
         ("sku,name,price\nA1,Lamp,10.00\n", True),
         ("A1,Lamp,10.00\nA2,Chair,20.00\n", False),
         ("sku,name,url\nA1,Lamp,https://x.example/a\n", True),
-        ("sku,,price\nA1,Lamp,10.00\n", False),  # an empty cell is no column name
+        # A blank or repeated name is a header when a value stands under one of its names.
+        ("sku,,price\nA1,Lamp,10.00\n", True),
+        ("sku,title,price,,\nA1,Lamp,10.00,,\n", True),
+        ("sku,image,image,price\nA1,a.jpg,b.jpg,10.00\n", True),
+        ("A1,,Lamp\nA2,,Chair\n", False),  # no value under any name: a record
         ("name,name\nx,y\n", False),  # repeated names
     ],
 )
@@ -173,3 +177,86 @@ def test_sample_returns_the_first_good_records(tmp_path: Path) -> None:
     path.write_text("id,title\nO-1,One\nO-2,Two,extra\nO-3,Three\nO-4,Four\n")
     sample = open_feed(path).sample(2)
     assert [r.fields["id"] for r in sample] == ["O-1", "O-3"]
+
+
+def test_trailing_blank_header_cells_keep_the_rows_that_stop_before_them(tmp_path: Path) -> None:
+    # A spreadsheet export: the header ends in two empty cells, the rows do not.
+    path = tmp_path / "trailing.csv"
+    path.write_text("id,title,price,,\nT-1,Lamp,10.00\nT-2,Chair\nT-3,Desk,50.00,,\n")
+    feed = open_feed(path)
+    assert feed.info.has_header is True
+    assert feed.info.columns == ("id", "title", "price", "column_4", "column_5")
+    results = list(feed)
+    assert [type(r).__name__ for r in results] == ["SourceRecord", "Reject", "SourceRecord"]
+    assert results[0].fields == {"id": "T-1", "title": "Lamp", "price": "10.00"}
+    reject = results[1]
+    assert isinstance(reject, Reject)
+    assert (reject.reason, reject.line, reject.detail) == (
+        "ragged_row",
+        3,
+        "expected 5 cells, found 2",
+    )
+
+
+@pytest.mark.parametrize("line_end", ["\n", "\r\n"])
+def test_spreadsheet_separator_line_names_the_delimiter(tmp_path: Path, line_end: str) -> None:
+    path = tmp_path / "excel.csv"
+    lines = ["sep=;", "id;title;price", "X-1;Lamp, red;10,00", "X-2;Chair;20,00"]
+    path.write_bytes(b"\xef\xbb\xbf" + line_end.join(lines).encode() + line_end.encode())
+    feed = open_feed(path)
+    assert (feed.info.delimiter, feed.info.has_header) == (";", True)
+    assert feed.info.columns == ("id", "title", "price")
+    records = _records(path)
+    assert [(r.line, r.fields["title"]) for r in records] == [(3, "Lamp, red"), (4, "Chair")]
+
+
+def test_header_repeated_inside_the_feed_is_rejected(tmp_path: Path) -> None:
+    path = tmp_path / "joined.csv"
+    path.write_text("id,title\nJ-1,Lamp\nid , title\nJ-2,Chair\n")
+    results = list(open_feed(path))
+    assert [r.line for r in results] == [2, 3, 4]
+    reject = results[1]
+    assert isinstance(reject, Reject)
+    assert (reject.reason, reject.excerpt) == ("repeated_header", "id , title")
+    assert [r.fields["id"] for r in results if isinstance(r, SourceRecord)] == ["J-1", "J-2"]
+
+
+def test_a_stray_quote_does_not_swallow_the_rows_up_to_the_next_quote(tmp_path: Path) -> None:
+    # The quote opening line 2's title never closes on its line: the csv reader runs on to
+    # the next quote (line 5) and cannot split what it took. Only line 2 is bad.
+    path = tmp_path / "stray.csv"
+    path.write_text(
+        "id,title,price\n"
+        'S-1,"55 inch screen,499.00\n'
+        "S-2,Radio,29.00\n"
+        "S-3,Headset,19.00\n"
+        'S-4,"Lamp, red",9.00\n'
+        "S-5,Table,99.00\n"
+    )
+    results = list(open_feed(path))
+    assert [(type(r).__name__, r.line) for r in results] == [
+        ("Reject", 2),
+        ("SourceRecord", 3),
+        ("SourceRecord", 4),
+        ("SourceRecord", 5),
+        ("SourceRecord", 6),
+    ]
+    reject = results[0]
+    assert isinstance(reject, Reject)
+    assert reject.reason == "unparseable_record"
+    assert reject.excerpt == 'S-1,"55 inch screen,499.00'
+    assert "runs on to line 5" in reject.detail
+    assert results[3].fields == {"id": "S-4", "title": "Lamp, red", "price": "9.00"}
+
+
+def test_two_stray_quotes_reject_their_own_lines_only(tmp_path: Path) -> None:
+    path = tmp_path / "strays.csv"
+    path.write_text('id,title\nT-1,"Screen\nT-2,"Radio\nT-3,Headset\nT-4,"Lamp, red"\nT-5,Table\n')
+    results = list(open_feed(path))
+    rejects = [r for r in results if isinstance(r, Reject)]
+    assert [(r.line, r.excerpt) for r in rejects] == [(2, 'T-1,"Screen'), (3, 'T-2,"Radio')]
+    assert [r.fields["id"] for r in results if isinstance(r, SourceRecord)] == [
+        "T-3",
+        "T-4",
+        "T-5",
+    ]

@@ -46,11 +46,25 @@ def test_a_quoted_newline_never_splits_a_record(tmp_path: Path) -> None:
     assert [record.line for record in parts] == [2, 4, 7, 8]  # type: ignore[attr-defined]
 
 
+def test_a_repeated_header_and_a_separator_line_read_the_same_by_ranges(tmp_path: Path) -> None:
+    feed = tmp_path / "joined.csv"
+    rows = [f"{i};t{i}" for i in range(1, 9)]
+    feed.write_text(
+        "sep=;\nid;title\n" + "\n".join(rows[:4]) + "\nid;title\n" + "\n".join(rows[4:]) + "\n"
+    )
+    whole, parts, count = _by_ranges(feed, 8)
+    assert count > 3
+    assert parts == whole
+    assert [getattr(item, "reason", "record") for item in parts].count("repeated_header") == 1
+    assert len(parts) == 9
+
+
 def test_json_lines_and_crlf_line_ends(tmp_path: Path) -> None:
     feed = tmp_path / "feed.jsonl"
     rows = [json.dumps({"id": str(i), "title": f"t{i}"}) for i in range(50)]
-    feed.write_bytes(("\r\n".join(rows[:20]) + "\r\nnot json\r\n\r\n" + "\n".join(rows[20:]))
-                     .encode())
+    feed.write_bytes(
+        ("\r\n".join(rows[:20]) + "\r\nnot json\r\n\r\n" + "\n".join(rows[20:])).encode()
+    )
     whole, parts, count = _by_ranges(feed, 64)
     assert count > 5
     assert parts == whole

@@ -57,6 +57,48 @@ def test_utf16_without_bom_is_detected(tmp_path: Path) -> None:
     assert _titles(feed) == ["Crème brûlée dish", "Teapot"]
 
 
+@pytest.mark.parametrize("encoding", ["utf-16-le", "utf-16-be"])
+def test_utf16_without_bom_of_non_latin_text_is_detected(tmp_path: Path, encoding: str) -> None:
+    # Few zero bytes (only the ASCII delimiters, digits and line ends have them): it was
+    # refused as binary data.
+    path = tmp_path / "ja.csv"
+    text = (
+        "id,title,price\nJ-1,緑茶 ティーバッグ,480\nJ-2,木製 箸 五膳,1200\nJ-3,綿 タオル 白,980\n"
+    )
+    path.write_bytes(text.encode(encoding))
+    feed = open_feed(path)
+    assert (feed.info.encoding, feed.info.encoding_source) == (encoding, "detected")
+    assert _titles(feed) == ["緑茶 ティーバッグ", "木製 箸 五膳", "綿 タオル 白"]
+
+
+@pytest.mark.parametrize(
+    ("encoding", "titles", "expected"),
+    [
+        # A few bytes each: the detector's first guess was Korean (cp949), read from its
+        # rare extension characters, and Big5 for the lone "ñ".
+        ("shift_jis", ["緑茶", "緑茶 x"], "cp932"),
+        ("shift_jis", ["木製 箸", "木製 箸 x"], "cp932"),
+        ("latin-1", ["Niño", "Niño x"], "cp1252"),
+    ],
+)
+def test_short_feeds_in_a_legacy_encoding_keep_their_titles(
+    tmp_path: Path, encoding: str, titles: list[str], expected: str
+) -> None:
+    path = tmp_path / "short.csv"
+    rows = "".join(f"S-{i},{title},1.00\n" for i, title in enumerate(titles))
+    path.write_bytes(("id,title,price\n" + rows).encode(encoding))
+    feed = open_feed(path)
+    assert (feed.info.encoding, feed.info.encoding_source) == (expected, "detected")
+    assert _titles(feed) == titles
+
+
+def test_binary_numbers_with_zeros_on_one_side_are_not_utf16(tmp_path: Path) -> None:
+    path = tmp_path / "counts.dat"
+    path.write_bytes(b"".join(i.to_bytes(2, "little") for i in range(3, 3000, 7)))
+    with pytest.raises(FeedFormatError, match="not a text feed"):
+        open_feed(path)
+
+
 def test_cp1252_is_detected_with_euro_and_accents() -> None:
     feed = open_feed(GOOD / "cp1252.csv")
     assert (feed.info.encoding, feed.info.encoding_source) == ("cp1252", "detected")
@@ -85,6 +127,17 @@ def test_given_encoding_wins(tmp_path: Path) -> None:
 def test_unknown_given_encoding_is_a_feed_error() -> None:
     with pytest.raises(FeedFormatError, match="unknown encoding"):
         open_feed(GOOD / "comma.csv", encoding="no-such-codec")
+
+
+def test_utf8_with_a_cp1252_row_keeps_the_good_rows_as_written() -> None:
+    feed = open_feed(BAD / "cp1252_row_in_utf8.csv")
+    assert (feed.info.encoding, feed.info.encoding_source) == ("utf-8", "detected")
+    results = list(feed)
+    assert _titles(feed) == ["Bouilloire électrique", "Pull mérinos", "Sac à dos randonnée"]
+    reject = results[1]
+    assert isinstance(reject, Reject)
+    assert (reject.reason, reject.line) == ("bad_encoding", 3)
+    assert "try --encoding cp1252" in reject.detail
 
 
 def test_bad_byte_after_the_sample_rejects_only_its_record(tmp_path: Path) -> None:
@@ -196,6 +249,18 @@ BAD_EXPECTATIONS: dict[str, dict[str, Any]] = {
     "utf16_no_bom.xml": {"reads": ([], 2)},
     "control_in_header.csv": {"reads": ([], 2)},
     "entity_behind_attlist.xml": {"raises": (UnsafeFeedError, 4, "declares XML entities")},
+    # UTF-8 with one row pasted from a cp1252 file: read as UTF-8, that row rejected (read as
+    # a single-byte code page, the three good rows would be garbled).
+    "cp1252_row_in_utf8.csv": {"reads": (["bad_encoding"], 3)},
+    "repeated_header.csv": {"reads": (["repeated_header"], 2)},
+    # A first record broken across lines: the lines after it show JSON Lines, not CSV.
+    "broken_first_line.jsonl": {"reads": (["unparseable_record"], 2)},
+    "json_array.json": {"raises": (FeedFormatError, 1, "one JSON array")},
+    # An HTML entity name XML does not define: the error names it, its line and column.
+    "html_entity.xml": {
+        "raises": (FeedFormatError, 4, "column 40: Entity 'eacute' not defined"),
+        "good_before": 1,
+    },
     "not_utf8_given_utf8.csv": {
         "reads": (["bad_encoding", "bad_encoding"], 0),
         "kwargs": {"encoding": "utf-8"},
@@ -240,3 +305,26 @@ def test_truncated_gzip_is_a_feed_error(tmp_path: Path, name: str) -> None:
         feed = open_feed(path)
         list(feed)
     assert info.value.path == str(path)
+
+
+def test_small_truncated_gzip_keeps_the_whole_records_before_the_cut(tmp_path: Path) -> None:
+    rows = "".join(f"T-{i},Item number {i},{i}.00\n" for i in range(1, 41))
+    whole = gzip.compress(("id,title,price\n" + rows).encode())
+    path = tmp_path / "cut.csv.gz"
+    path.write_bytes(whole[: len(whole) - 30])  # the trailer and the last few rows
+    read: list[object] = []
+    with pytest.raises(FeedFormatError, match="the gzip data is damaged or cut short") as info:
+        read.extend(open_feed(path))
+    ids = [r.fields["id"] for r in read if isinstance(r, SourceRecord)]
+    assert 30 < len(ids) < 40
+    assert ids == [f"T-{i}" for i in range(1, len(ids) + 1)]
+    assert str(info.value).count(str(path)) == 1
+
+
+def test_gzip_cut_inside_its_first_block_is_one_clear_error(tmp_path: Path) -> None:
+    path = tmp_path / "stub.csv.gz"
+    path.write_bytes(gzip.compress(b"id,title\nS-1,Lamp\n")[:14])  # the header and no data
+    with pytest.raises(FeedFormatError) as info:
+        list(open_feed(path))
+    assert str(info.value).count(str(path)) == 1
+    assert "cut short" in str(info.value)

@@ -232,3 +232,52 @@ def test_bad_byte_after_the_sample_stops_with_an_encoding_hint(tmp_path: Path) -
     assert count == 30000
     assert info.value.line == 30002
     assert info.value.hint and "--encoding cp1252" in info.value.hint
+
+
+def test_records_nested_in_two_levels_of_groups_are_the_products(tmp_path: Path) -> None:
+    # Departments and groups repeat too, but they only name themselves: the products inside
+    # them are the records, one each, never joined into their department.
+    path = tmp_path / "nested.xml"
+    products = "".join(
+        f"<product><id>N-{i}</id><title>Item {i}</title></product>" for i in range(1, 7)
+    )
+    groups = f'<group name="Kitchen">{products[: len(products) // 2]}</group>'
+    groups += f'<group name="Garden">{products[len(products) // 2 :]}</group>'
+    path.write_text(
+        f'<shop><department name="Home">{groups}</department>'
+        f'<department name="Outdoor"><group name="Tools"/></department></shop>'
+    )
+    feed = open_feed(path)
+    assert feed.info.record_path == "/shop/department/group/product"
+    records = _records(path)
+    assert [r.fields["id"] for r in records] == [f"N-{i}" for i in range(1, 7)]
+    assert records[0].fields == {"id": "N-1", "title": "Item 1"}
+
+
+def test_records_with_attributes_only_are_found(tmp_path: Path) -> None:
+    path = tmp_path / "attributes.xml"
+    path.write_text(
+        '<catalog><product id="A-1" title="Lamp" price="10.00"/>'
+        '<product id="A-2" title="Chair" price="20.00"/></catalog>'
+    )
+    assert open_feed(path).info.record_path == "/catalog/product"
+    records = _records(path)
+    assert [r.fields for r in records] == [
+        {"@id": "A-1", "@title": "Lamp", "@price": "10.00"},
+        {"@id": "A-2", "@title": "Chair", "@price": "20.00"},
+    ]
+
+
+def test_text_over_the_parser_limit_is_named_after_the_records_before_it(tmp_path: Path) -> None:
+    # libxml2 refuses a text node over 10,000,000 bytes unless its huge-tree option is on,
+    # which catmap leaves off.
+    path = tmp_path / "huge.xml"
+    records = "".join(f"<product><id>H-{i}</id><title>Item</title></product>\n" for i in range(3))
+    huge = "<product><id>H-9</id><description>" + "x" * 10_500_000 + "</description></product>"
+    path.write_text(f"<catalog>\n{records}{huge}\n</catalog>\n")
+    read: list[object] = []
+    with pytest.raises(FeedFormatError, match="text in record #4 is longer") as info:
+        read.extend(open_feed(path))
+    assert len(read) == 3
+    assert info.value.line == 5
+    assert info.value.hint and "shorten" in info.value.hint

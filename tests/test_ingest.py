@@ -141,6 +141,24 @@ def test_currency_column_and_default_currency() -> None:
     assert (plain.price, plain.currency) == (Decimal("12.50"), "GBP")
 
 
+@pytest.mark.parametrize(
+    ("cost", "cur", "price", "flags"),
+    [
+        ("¥48", "CNY", Decimal("48.00"), ()),  # the yen sign is the yuan's too
+        ("¥480", "JPY", Decimal("480"), ()),
+        ("$25", "AUD", Decimal("25.00"), ()),
+        ("12 kr", "SEK", Decimal("12.00"), ()),
+        ("€12.00", "USD", Decimal("12.00"), ("currency_conflict",)),
+    ],
+)
+def test_currency_column_sharing_the_price_symbol_is_no_conflict(
+    cost: str, cur: str, price: Decimal, flags: tuple[str, ...]
+) -> None:
+    product = to_product(_record(cost=cost, cur=cur), _profile(None, currency="cur"))
+    assert isinstance(product, Product)
+    assert (product.price, product.currency, product.flags) == (price, cur, flags)
+
+
 def test_unreadable_price_is_flagged_not_rejected() -> None:
     product = to_product(_record(cost="ask in store"), _profile())
     assert isinstance(product, Product)

@@ -233,6 +233,10 @@ def test_a_broken_feed_among_several_keeps_its_rows_and_the_others_go_on(
         outcomes = onboard_feeds(
             feeds, project=project, tree=world.tree, options=opts, cluster=cluster
         )
-        assert str(outcomes[0].error) == str(raised.value) and outcomes[0].summary is None
+        # The broken feed keeps the summary of what was saved before its error.
+        stopped = outcomes[0].summary
+        assert str(outcomes[0].error) == str(raised.value) and stopped is not None
+        assert stopped.stopped_early == str(raised.value)
+        assert stopped.accounting["kept"] == stopped.mapped > 0
         assert outcomes[1].error is None and outcomes[1].summary is not None
         assert store_contents(single) == store_contents(project)

@@ -394,6 +394,7 @@ def map_feed(
     workers: int = 2,
     on_progress: Callable[[int], None] | None = None,
     top_paths: int = 10,
+    into: MapSummary | None = None,
 ) -> MapSummary:
     """Map every product of a feed and write mappings, rejects and the accounting to ``out_dir``.
 
@@ -409,12 +410,15 @@ def map_feed(
             once a second chunk has been read.
         on_progress: called with the number of records read so far.
         top_paths: how many retailer paths the summary lists.
+        into: a summary to fill in (and return): a caller that catches the fatal error still
+            has the facts of what was mapped before it.
 
     Returns:
         The summary.
 
     Raises:
-        FeedFormatError, FeedEncodingError, UnsafeFeedError: after what was read is written.
+        FeedFormatError, FeedEncodingError, UnsafeFeedError: after what was read is written
+            and the summary filled in.
     """
     accounting = source.accounting
     out = Path(out_dir)
@@ -424,7 +428,8 @@ def map_feed(
     rejects_path = out / ("rejects.csv" if format == "csv" else "rejects.jsonl")
     accounting_path = out / "accounting.json"
     rules = rules if rules is not None else RuleSet([])
-    summary = MapSummary(threshold=threshold, mode=mapper.method)
+    summary = into if into is not None else MapSummary()
+    summary.threshold, summary.mode = threshold, mapper.method
 
     rejects = open_reject_writer(rejects_path, "csv" if format == "csv" else "jsonl")
     temporary = tempfile.TemporaryDirectory(prefix="catmap-map-")

@@ -36,7 +36,6 @@ from catmap.jobs.export import export_project
 from catmap.jobs.onboard import (
     DEFAULT_AUDIT_SHARE,
     OnboardOptions,
-    onboard_feed,
     onboard_feeds,
     project_tree,
 )
@@ -175,15 +174,19 @@ def onboard_command(
     )
     if len(feeds) == 1 and cluster is None:
         with _onboarding_progress(feeds[0]) as show:
-            summary = onboard_feed(
-                feeds[0], project=folder, tree=tree, options=options, on_progress=show,
-                feed=feed_name,
+            (outcome,) = onboard_feeds(
+                list(feeds), project=folder, tree=tree, options=options, feed=feed_name,
+                on_progress=lambda _name, stage, count: show(stage, count),
             )  # fmt: skip
-        facts = summary.to_dict()
-        if as_json:
-            echo_json(facts)
-        else:
-            _render_onboard(facts)
+        # A feed that stopped on a fatal error still shows what was saved before it.
+        if outcome.summary is not None:
+            facts = outcome.summary.to_dict()
+            if as_json:
+                echo_json(facts)
+            else:
+                _render_onboard(facts)
+        if outcome.error is not None:
+            raise outcome.error
         return
     with _feeds_progress(list(feeds)) as (show, show_cluster):
         outcomes = onboard_feeds(

@@ -68,7 +68,7 @@ class _Checked(io.BufferedIOBase):
     traceback.
     """
 
-    def __init__(self, inner: IO[bytes], path: str | Path, compression: str) -> None:
+    def __init__(self, inner: io.BufferedIOBase, path: str | Path, compression: str) -> None:
         super().__init__()
         self._inner = inner
         self._path = path
@@ -86,7 +86,12 @@ class _Checked(io.BufferedIOBase):
 
     def read(self, size: int | None = -1) -> bytes:
         try:
-            return self._inner.read(-1 if size is None else size)
+            if size is None or size < 0:
+                return self._inner.read(-1)
+            # One read of the compressed data at a time: a read that fills ``size`` from several
+            # loses what it decoded when the last one meets the damage, so a small cut file
+            # would give no record at all. The damage is raised on the read after.
+            return self._inner.read1(size)
         except (OSError, EOFError, zlib.error, zipfile.BadZipFile) as exc:
             raise self._failed(exc) from exc
 
@@ -150,7 +155,7 @@ def open_binary(path: str | Path) -> tuple[IO[bytes], str | None]:
     """
     compression = detect_compression(path)
     if compression == "gzip":
-        inner = cast(IO[bytes], gzip.open(path, "rb"))
+        inner = gzip.GzipFile(path, "rb")
         return cast(IO[bytes], _Checked(inner, path, "gzip")), compression
     if compression == "zip":
         try:
@@ -207,8 +212,9 @@ def read_head(path: str | Path, size: int) -> tuple[bytes, bool, str | None]:
                 if held:
                     # The damage comes after some records; the reader reports it there.
                     return b"".join(blocks)[:size], False, compression
+                detail = exc.message if isinstance(exc, FeedFormatError) else str(exc)
                 raise FeedFormatError(
-                    f"cannot decompress the feed ({compression}): {exc}",
+                    f"cannot decompress the feed ({compression}): {detail}",
                     path=path,
                     hint="the file may be truncated; ask the sender for it again",
                 ) from exc

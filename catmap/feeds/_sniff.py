@@ -68,7 +68,7 @@ def _escape(exc: UnicodeError) -> tuple[str, int]:
 codecs.register_error(ERROR_HANDLER, _escape)
 
 # The same escape for a sample looked at before reading (not counted: no record is read from it).
-_HEAD_ERROR_HANDLER = "catmap-escape-head"
+HEAD_ERROR_HANDLER = "catmap-escape-head"
 
 
 def _escape_head(exc: UnicodeError) -> tuple[str, int]:
@@ -77,7 +77,7 @@ def _escape_head(exc: UnicodeError) -> tuple[str, int]:
     return "".join(chr(0xDC00 + b) for b in exc.object[exc.start : exc.end]), exc.end
 
 
-codecs.register_error(_HEAD_ERROR_HANDLER, _escape_head)
+codecs.register_error(HEAD_ERROR_HANDLER, _escape_head)
 
 # Codecs that are text encodings to Python but cannot be read safely as a feed: they take no
 # error handler (idna, punycode), or can spell markup in plain letters (utf-7 writes "<" as
@@ -125,7 +125,12 @@ def codec_name(encoding: str, path: str | Path) -> str:
 
 
 def _looks_utf16(head: bytes) -> str | None:
-    """Return "utf-16-le"/"utf-16-be" for BOM-less UTF-16 of mostly ASCII text, else None."""
+    """Return "utf-16-le"/"utf-16-be" for BOM-less UTF-16 text, else None.
+
+    Mostly ASCII text has a zero in nearly every other byte. Text mostly in another script
+    (Japanese, Chinese, Greek...) has zeros only where its delimiters, digits and line ends
+    are, all on the same side: then the sample must also decode as clean text with line breaks.
+    """
     sample = head[:4096]
     if len(sample) < 4:
         return None
@@ -134,7 +139,26 @@ def _looks_utf16(head: bytes) -> str | None:
         return "utf-16-le"
     if even.count(0) > 0.9 * len(even) and odd.count(0) < 0.1 * len(odd):
         return "utf-16-be"
+    for name, zeros, others in (("utf-16-le", odd, even), ("utf-16-be", even, odd)):
+        if (
+            zeros.count(0) >= 0.05 * len(zeros)
+            and others.count(0) <= 0.02 * len(others)
+            and _clean_utf16(sample, name)
+        ):
+            return name
     return None
+
+
+_UTF16_NOISE = re.compile("[\x00-\x08\x0b\x0c\x0e-\x1f\ufffe\uffff]")
+
+
+def _clean_utf16(sample: bytes, name: str) -> bool:
+    """Tell whether ``sample`` decodes as ``name`` into text with line breaks and no controls."""
+    try:
+        text = codecs.getincrementaldecoder(name)("strict").decode(sample, final=False)
+    except UnicodeDecodeError:  # a lone surrogate: not UTF-16 in this byte order
+        return False
+    return "\n" in text and not _UTF16_NOISE.search(text)
 
 
 def _byte_order(head: bytes, name: str, path: str | Path) -> str:
@@ -215,7 +239,8 @@ def detect_encoding(head: bytes, given: str | None, path: str | Path) -> tuple[s
         decoder.decode(head, final=False)  # a sample cut mid-character is still UTF-8
         return "utf-8", "detected"
     except UnicodeDecodeError:
-        pass
+        if _mostly_utf8(head):
+            return "utf-8", "detected"
     # Imported here: a UTF-8 feed (most of them) never needs the detector.
     import charset_normalizer
 
@@ -223,6 +248,10 @@ def detect_encoding(head: bytes, given: str | None, path: str | Path) -> tuple[s
     if not matches:
         return ("cp1252" if _western_cp1252(head) else "latin-1"), "detected"
     best = codec_name(matches[0].encoding, path)
+    if best in _COMMON_LEADS:
+        return _double_byte_choice(
+            head, [codec_name(m.encoding, path) for m in matches]
+        ), "detected"
     if not _latin_family(best):
         return best, "detected"
     if _western_cp1252(head):
@@ -232,6 +261,85 @@ def detect_encoding(head: bytes, given: str | None, path: str | Path) -> tuple[s
         if _latin_family(name) and name not in ("cp1252", "latin_1", "iso8859_15"):
             return name, "detected"
     return best, "detected"
+
+
+# The lead bytes of the common part of each East Asian double-byte character set: the
+# characters a shop writes (KS X 1001 for Korean, GB 2312 for Chinese, the symbols, kana,
+# level-1 and the start of level-2 kanji of JIS X 0208 in Shift-JIS, Big5 proper). A short
+# feed gives the detector few bytes, and another set's reading of them falls among the rare
+# characters of its extensions (cp949's 0x81-0xA0 leads, GBK's 0x81-0xA0). Johab is kept out:
+# no shop feed uses it.
+_KOREAN = range(0xA1, 0xFF)
+_CHINESE = range(0xA1, 0xF8)
+_SHIFT_JIS = range(0x81, 0xA0)
+_COMMON_LEADS: dict[str, range] = {
+    "cp949": _KOREAN,
+    "euc_kr": _KOREAN,
+    "johab": range(0),
+    "gb18030": _CHINESE,
+    "gbk": _CHINESE,
+    "gb2312": _CHINESE,
+    "cp932": _SHIFT_JIS,
+    "shift_jis": _SHIFT_JIS,
+    "shift_jis_2004": _SHIFT_JIS,
+    "shift_jisx0213": _SHIFT_JIS,
+    "euc_jp": range(0xA1, 0xF5),
+    "euc_jis_2004": range(0xA1, 0xF5),
+    "euc_jisx0213": range(0xA1, 0xF5),
+    "big5": range(0xA1, 0xFA),
+    "cp950": range(0xA1, 0xFA),
+    "big5hkscs": range(0xA1, 0xFA),
+}
+_HIGH_RUN = re.compile(rb"[\x80-\xff]+")
+
+
+def _double_byte_choice(head: bytes, names: list[str]) -> str:
+    """Choose among the detector's readings when its best is an East Asian double-byte set.
+
+    Western text with a few accented letters, each alone between ASCII characters ("Niño"),
+    can also be read as pairs of a lead byte and an ASCII trail byte: it is cp1252 when that
+    reads as Western text. Otherwise the first reading whose characters all come from the
+    common part of their set wins (the detector's first when none does).
+    """
+    if all(len(run) == 1 for run in _HIGH_RUN.findall(head)) and _western_cp1252(head):
+        return "cp1252"
+    for name in names:
+        if name in _COMMON_LEADS and _common_characters(head, name):
+            return name
+    return names[0]
+
+
+def _common_characters(head: bytes, name: str) -> bool:
+    """Tell whether ``head`` decodes as ``name`` into characters of the set's common part."""
+    try:
+        text = codecs.getincrementaldecoder(name)("strict").decode(head, final=False)
+    except UnicodeDecodeError:
+        return False
+    leads = _COMMON_LEADS[name]
+    for char in set(_NON_ASCII.findall(text)):
+        encoded = char.encode(name)
+        if len(encoded) > 2 or (len(encoded) == 2 and encoded[0] not in leads):
+            return False
+    return True
+
+
+_NON_ASCII = re.compile("[^\x00-\x7f\ud800-\udfff]")
+
+
+def _mostly_utf8(head: bytes) -> bool:
+    """Tell whether ``head`` is UTF-8 text with a few bytes that are not UTF-8.
+
+    A UTF-8 feed with some rows pasted from a cp1252 file, or a few stray bytes, must still
+    be read as UTF-8: read as a single-byte code page, every good row would be garbled without
+    a word. Its multi-byte characters decode; in text written in a single-byte or a two-byte
+    East Asian encoding, a byte sequence that happens to be valid UTF-8 is rare (under a
+    quarter of the non-ASCII characters), so at least twice as many good characters as bad
+    bytes tells. The rows with the bad bytes are then rejected, with a hint of the encoding to
+    try.
+    """
+    text = codecs.getincrementaldecoder("utf-8")("surrogateescape").decode(head, final=False)
+    bad = len(SURROGATES.findall(text))
+    return len(_NON_ASCII.findall(text)) >= 2 * bad
 
 
 def _latin_family(name: str) -> bool:
@@ -280,7 +388,7 @@ _WESTERN_SYMBOLS = set("€‚„…†‡‰‹›‘’“”•–—™«»�
 
 def decode_head(head: bytes, encoding: str) -> str:
     """Decode a sample, dropping a character cut at its end; bad bytes become surrogates."""
-    decoder = codecs.getincrementaldecoder(encoding)(_HEAD_ERROR_HANDLER)
+    decoder = codecs.getincrementaldecoder(encoding)(HEAD_ERROR_HANDLER)
     return decoder.decode(head, final=False)
 
 
@@ -299,7 +407,31 @@ def detect_format(text: str) -> str:
         # A first line cut by the sample, or a damaged first record: still JSON Lines.
         if "\n" not in stripped or first.endswith("}"):
             return "jsonl"
+        # A first record broken across lines: the next lines tell.
+        if _json_objects(stripped.split("\n", 1)[1]):
+            return "jsonl"
     return "delimited"
+
+
+def _json_objects(text: str, lines: int = 20) -> bool:
+    """Tell whether most of the first non-empty ``lines`` of ``text`` are JSON objects."""
+    found = [line.strip() for line in text.split("\n", lines * 2)[: lines * 2] if line.strip()]
+    found = found[:lines]
+    if not found:
+        return False
+    good = 0
+    for line in found:
+        try:
+            good += isinstance(json.loads(line), dict)
+        except (ValueError, RecursionError):
+            pass
+    return good * 2 > len(found)
+
+
+def is_json_array(text: str) -> bool:
+    """Tell whether the decoded start of a feed is a JSON array of objects ("[{...}, ...]")."""
+    stripped = text.lstrip("\ufeff \t\r\n")
+    return stripped.startswith("[") and stripped[1:].lstrip(" \t\r\n").startswith("{")
 
 
 def suggest_other_encoding(encoding: str) -> str:

@@ -35,11 +35,16 @@ csv.field_size_limit(max(csv.field_size_limit(), FIELD_SIZE_LIMIT))
 _NUMBER = re.compile(r"^[-+]?[\d\s.,]*\d[\d\s.,]*\s*(%|[A-Za-z]{3}|[€$£¥])?$")
 _URL = re.compile(r"^(https?://|www\.)", re.IGNORECASE)
 _EXCERPT = 200
+# Rows looked at to tell a header with blank or repeated names from a first record.
+_HEADER_SAMPLE = 10
 _HEADER_NOISE = re.compile("[\x00-\x08\x0b\x0c\x0e-\x1f\x7f-\x9f]")
 # One line with its end, split as a text stream opened with ``newline=""`` splits it ("\r\n",
 # "\r" or "\n"), so that the csv reader sees the same lines. Lines are found lazily: reading
 # a few rows of a 1 MB sample no longer copies the whole sample into a StringIO first.
 _LINE_RE = re.compile(r"[^\r\n]*(?:\r\n|\r|\n)|[^\r\n]+")
+# A spreadsheet program's first line "sep=;" names the delimiter for the program that opens
+# the file; it is no record (common practice, no source).
+_SEPARATOR_LINE = re.compile(r"\ufeff?sep=([^\r\n])(?:\r\n|\r|\n|$)", re.IGNORECASE)
 
 
 def parse_delimiter(value: str, path: str | Path) -> str:
@@ -56,6 +61,23 @@ def parse_delimiter(value: str, path: str | Path) -> str:
             hint="use --delimiter ',' ';' '|' or tab",
         )
     return found
+
+
+def separator_line(text: str) -> str | None:
+    """Return the delimiter a leading "sep=X" line names, or None when there is no such line."""
+    match = _SEPARATOR_LINE.match(text)
+    return match.group(1) if match else None
+
+
+def without_separator_line(text: str) -> str:
+    """Return the decoded sample without its leading "sep=X" line, if it has one."""
+    match = _SEPARATOR_LINE.match(text)
+    return text[match.end() :] if match else text
+
+
+def is_separator_row(row: list[str]) -> bool:
+    """Tell whether a parsed first row is a "sep=X" line (read with its own delimiter X)."""
+    return len(row) == 2 and not row[1] and row[0].lstrip("\ufeff").lower() == "sep="
 
 
 def sample_rows(text: str, delimiter: str, limit: int) -> list[list[str]]:
@@ -108,22 +130,30 @@ def _looks_like_value(cell: str) -> bool:
 def sniff_header(text: str, delimiter: str) -> bool:
     """Tell whether the first row names the columns.
 
-    A header row has no empty cell, no cell that looks like a value (a number, a URL, long
-    text), no repeated cell; and when a second row exists, either it has a value-looking cell
-    or its cells differ from the first row's (common practice, no source).
+    A header row has no cell that looks like a value (a number, a URL, long text). When it
+    has no empty and no repeated cell, it is a header unless a second row repeats it with no
+    value-looking cell. An empty or repeated cell (a blank column name, trailing empty columns
+    of a spreadsheet export, two "image" columns) is allowed when a later row has a value
+    under one of its names: "price" over "10.00" (common practice, no source).
     """
-    rows = sample_rows(text, delimiter, 2)
+    rows = sample_rows(text, delimiter, _HEADER_SAMPLE)
     if not rows:
         return False
     first = rows[0]
-    if any(not cell.strip() or _looks_like_value(cell) for cell in first):
+    if any(_looks_like_value(cell) for cell in first if cell.strip()):
         return False
-    if len(set(first)) != len(first):
+    names = [cell for cell in first if cell.strip()]
+    if not names:
         return False
-    if len(rows) == 1:
-        return True
-    second = rows[1]
-    return any(_looks_like_value(cell) for cell in second) or second != first
+    if len(names) == len(first) and len(set(first)) == len(first):
+        if len(rows) == 1:
+            return True
+        second = rows[1]
+        return any(_looks_like_value(cell) for cell in second) or second != first
+    named = [index for index, cell in enumerate(first) if cell.strip()]
+    return any(
+        index < len(row) and _looks_like_value(row[index]) for row in rows[1:] for index in named
+    )
 
 
 def header_names(row: list[str]) -> tuple[str, ...]:
@@ -144,6 +174,18 @@ def header_names(row: list[str]) -> tuple[str, ...]:
     return tuple(names)
 
 
+def _named_width(columns: tuple[str, ...]) -> int:
+    """The number of header columns up to the last one with a name of its own.
+
+    :func:`header_names` calls a blank header cell "column_N" (N its position); the blank
+    cells at the end of a header are the empty columns a spreadsheet export adds.
+    """
+    width = len(columns)
+    while width and columns[width - 1] == f"column_{width}":
+        width -= 1
+    return width
+
+
 def _excerpt(row: list[str], delimiter: str) -> str:
     text = delimiter.join(row)
     return text[:_EXCERPT] + ("..." if len(text) > _EXCERPT else "")
@@ -156,8 +198,12 @@ def read_first_row(path: str | Path, encoding: str, delimiter: str) -> list[str]
         stream, encoding=encoding, errors=_sniff.ERROR_HANDLER, newline=""
     ) as text:
         try:
+            first = True
             for row in csv.reader(text, delimiter=delimiter, strict=True):
                 if row:
+                    if first and is_separator_row(row):
+                        first = False
+                        continue
                     return row
         except csv.Error:
             return None
@@ -178,6 +224,84 @@ def _row_has_quote(path: str | Path, encoding: str, line: int) -> bool:
             if number == line:
                 return '"' in row
     return True
+
+
+# Rows the csv reader cannot split that are read again from the file (each read goes through
+# the file up to that row): enough for a feed with a few stray quotes, bounded for one with many.
+REREAD_LIMIT = 20
+
+
+def _lines_again(path: str | Path, encoding: str, first: int, last: int) -> list[str]:
+    """Return the physical lines ``first``..``last`` (1-based) of the feed, line ends kept.
+
+    Split as the readers split them (``newline=""``); undecodable bytes become lone surrogates
+    without counting them again (they were counted when first read).
+    """
+    stream, _ = open_binary(path)
+    lines: list[str] = []
+    with io.TextIOWrapper(
+        stream, encoding=encoding, errors=_sniff.HEAD_ERROR_HANDLER, newline=""
+    ) as text:
+        for number, line in enumerate(text, start=1):
+            if number >= first:
+                lines.append(line)
+            if number >= last:
+                break
+    return lines
+
+
+def _unsplittable(
+    path: str | Path,
+    encoding: str,
+    delimiter: str,
+    columns: tuple[str, ...],
+    named: bool,
+    start: int,
+    end: int,
+    message: str,
+    rereads: list[int],
+) -> Iterator[SourceRecord | Reject]:
+    """Reject a row the csv reader could not split (lines ``start``..``end``), and read again
+    the lines it swallowed.
+
+    A stray quote at the start of a cell (``"55 inch screen``) makes the reader take the
+    following lines into that cell until the next quote: one reject would hide good rows.
+    The row's first line is rejected with its text, and the lines after it are read again on
+    their own.
+    """
+    if rereads[0] <= 0:
+        span = f" (lines {start}-{end})" if end > start else ""
+        yield Reject(
+            "unparseable_record", f"cannot split the row{span}: {message}", start,
+            f"line {start}", "",
+        )  # fmt: skip
+        return
+    rereads[0] -= 1
+    lines = _lines_again(path, encoding, start, end)
+    first = lines[0].rstrip("\r\n") if lines else ""
+    excerpt = _sniff.SURROGATES.sub(
+        "\ufffd", first[:_EXCERPT] + ("..." if len(first) > _EXCERPT else "")
+    )
+    if len(lines) <= 1:
+        yield Reject(
+            "unparseable_record", f"cannot split the row: {message}", start, f"line {start}",
+            excerpt,
+        )  # fmt: skip
+        return
+    yield Reject(
+        "unparseable_record",
+        f"cannot split the row: {message}; a quote on this line runs on to line {end}: the "
+        "lines after it are read on their own",
+        start,
+        f"line {start}",
+        excerpt,
+    )
+    again = lines[1:]
+    yield from _read_rows(
+        again, path=path, encoding=encoding, delimiter=delimiter, columns=columns,
+        has_header=False, first_line=start + 1, named=named, rereads=rereads,
+        pending=sum(len(_sniff.SURROGATES.findall(line)) for line in again), part=True,
+    )  # fmt: skip
 
 
 def iter_delimited(
@@ -223,6 +347,7 @@ def read_delimited_text(
     columns: tuple[str, ...],
     has_header: bool,
     first_line: int = 1,
+    named_columns: bool | None = None,
 ) -> Iterator[SourceRecord | Reject]:
     """Yield the records and rejects of delimited text (a whole file, or a slice of one).
 
@@ -235,19 +360,55 @@ def read_delimited_text(
         has_header: skip the first non-empty row.
         first_line: the file's line number of the text's first line (a slice's records and
             rejects keep the file's real line numbers).
+        named_columns: the columns are the file's header row (default: ``has_header``; a
+            slice after the first has no header row but its columns may still be named).
 
     Yields:
-        Records and rejects, as :func:`iter_delimited` describes.
+        Records and rejects, as :func:`iter_delimited` describes, and "repeated_header" for
+        the header row written again inside the feed (files joined by hand).
 
     Raises:
         FeedFormatError: an unterminated quote, or a field larger than the limit.
+    """
+    named = has_header if named_columns is None else named_columns
+    yield from _read_rows(
+        text, path=path, encoding=encoding, delimiter=delimiter, columns=columns,
+        has_header=has_header, first_line=first_line, named=named, rereads=[REREAD_LIMIT],
+    )  # fmt: skip
+
+
+def _read_rows(
+    text: Iterable[str],
+    *,
+    path: str | Path,
+    encoding: str,
+    delimiter: str,
+    columns: tuple[str, ...],
+    has_header: bool,
+    first_line: int,
+    named: bool,
+    rereads: list[int],
+    pending: int = 0,
+    part: bool = False,
+) -> Iterator[SourceRecord | Reject]:
+    """:func:`read_delimited_text`'s loop.
+
+    Args:
+        rereads: how many more unsplittable rows may be read again from the file (shared by
+            the nested readers of one feed).
+        pending: undecodable characters already in ``text`` (lines read again).
+        part: ``text`` is a part of the feed read again: a quote still open at its end is
+            the fault of the row it opened in, not a fatal error.
     """
     width = len(columns)
     bad_bytes = _sniff.bad_bytes_detail(encoding)
     escapes = _sniff.ESCAPES
     seen = escapes.produced
-    pending = 0
     header_pending = has_header
+    # Only the file's first row can be a "sep=X" line.
+    preamble = first_line == 1
+    first_name = columns[0] if named and columns else None
+    named_width = _named_width(columns) if named else width
     shift = first_line - 1
     reader = csv.reader(text, delimiter=delimiter, strict=True)
     previous = shift  # reader.line_num after the previous row: the next row starts one later
@@ -260,13 +421,18 @@ def read_delimited_text(
             start = previous + 1
             previous = reader.line_num + shift
             message = str(exc)
+            if part and "unexpected end of data" in message:
+                # Inside lines read again, a quote left open at their end is this row's fault.
+                yield from _unsplittable(
+                    path, encoding, delimiter, columns, named, start, previous, message, rereads
+                )
+                return
             if "field larger" in message and not _row_has_quote(path, encoding, start):
                 raise FeedFormatError(
                     f"a cell on this row is larger than {FIELD_SIZE_LIMIT >> 20} MiB",
                     path=path,
                     line=start,
-                    hint="the row has no quote; ask the sender to cut the cell, "
-                    "or split the file",
+                    hint="the row has no quote; ask the sender to cut the cell, or split the file",
                 ) from exc
             if "unexpected end of data" in message or "field larger" in message:
                 raise FeedFormatError(
@@ -277,18 +443,18 @@ def read_delimited_text(
                     hint='a stray " swallowed the rest of the file; double it ("") inside '
                     "quoted text or remove it",
                 ) from exc
-            yield Reject(
-                "unparseable_record",
-                f"cannot split the row: {message}",
-                start,
-                f"line {start}",
-                "",
+            yield from _unsplittable(
+                path, encoding, delimiter, columns, named, start, previous, message, rereads
             )
             continue
         start = previous + 1
         previous = reader.line_num + shift
         if not row:
             continue
+        if preamble:
+            preamble = False
+            if is_separator_row(row):
+                continue
         if header_pending:
             header_pending = False
             continue
@@ -308,10 +474,23 @@ def read_delimited_text(
                     excerpt,
                 )
                 continue
+        if len(row) != width and len(row) == named_width:
+            # The header ends in cells with no name (a spreadsheet's trailing empty columns)
+            # and the row stops where the names stop: nothing is missing.
+            row = row + [""] * (width - len(row))
         if len(row) != width:
             yield Reject(
                 "ragged_row",
                 f"expected {width} cells, found {len(row)}",
+                start,
+                f"line {start}",
+                _excerpt(row, delimiter),
+            )
+            continue
+        if first_name is not None and row[0].strip() == first_name and header_names(row) == columns:
+            yield Reject(
+                "repeated_header",
+                "the header row again, inside the feed (files joined with their headers?)",
                 start,
                 f"line {start}",
                 _excerpt(row, delimiter),

@@ -74,7 +74,8 @@ REQUIRED = ("product_id", "title")
 # Distinct raw prices a ProductBuilder remembers (see ProductBuilder._prices).
 PRICE_CACHE_SIZE = 8192
 
-# Reject reasons of this stage (the readers add "ragged_row", "bad_encoding", "unparseable_record").
+# Reject reasons of this stage (the readers add "ragged_row", "repeated_header", "bad_encoding",
+# "unparseable_record").
 MISSING_ID = "missing_id"
 MISSING_TITLE = "missing_title"
 DUPLICATE_ID = "duplicate_id"
@@ -361,9 +362,15 @@ class ProductBuilder:
             values[_PRICE] = price
         if column_currency is not None:
             # The currency column is explicit; a different symbol in the price text (not merely
-            # the profile's default) is worth a flag.
+            # the profile's default) is worth a flag, unless the column's currency shares the
+            # symbol ("$" for AUD, "¥" for CNY, "kr" for SEK): then the amount is read as that
+            # currency's (its minor units).
             if currency is not None and currency not in (column_currency, self.default_currency):
-                flags.append(FLAG_CURRENCY_CONFLICT)
+                shared, shared_currency = parse_price(raw_price, column_currency)
+                if shared_currency == column_currency and shared is not None:
+                    values[_PRICE] = shared
+                else:
+                    flags.append(FLAG_CURRENCY_CONFLICT)
             currency = column_currency
         if currency is not None:
             values[_CURRENCY] = currency

@@ -196,6 +196,7 @@ def _iter_delimited_range(info: FeedInfo, part: ByteRange) -> Iterator[SourceRec
             # Only the file's first slice holds the header row.
             has_header=info.has_header and part.start == 0,
             first_line=part.first_line,
+            named_columns=info.has_header,
         )
 
 

@@ -4,8 +4,8 @@
 by magic bytes) to choose its encoding, format, delimiter and header, or XML record element,
 and returns a :class:`Feed`. Iterating a feed yields :class:`~catmap.records.SourceRecord` for
 each good record and :class:`~catmap.records.Reject` for each bad one ("ragged_row",
-"bad_encoding", "unparseable_record"); a fatal error is raised only after the good records
-before it were yielded.
+"repeated_header", "bad_encoding", "unparseable_record"); a fatal error is raised only after the
+good records before it were yielded.
 
 Example:
     >>> feed = open_feed("products.csv.gz")            # doctest: +SKIP
@@ -167,6 +167,13 @@ def open_feed(
     chosen_encoding, source = _sniff.detect_encoding(head, encoding, path_text)
     text = _sniff.decode_head(head, chosen_encoding)
     kind = _sniff.normalize_format(format, path_text) if format else _sniff.detect_format(text)
+    if kind == "delimited" and not format and _sniff.is_json_array(text):
+        raise FeedFormatError(
+            "the feed is one JSON array; catmap reads JSON Lines, one object per line",
+            path=path_text,
+            line=1,
+            hint="write each object on its own line, e.g. jq -c '.[]' feed.json > feed.jsonl",
+        )
     common: dict[str, Any] = {
         "path": path_text,
         "encoding": chosen_encoding,
@@ -212,9 +219,12 @@ def _open_delimited(
 ) -> Feed:
     path = str(common["path"])
     encoding = str(common["encoding"])
-    chosen = (
-        delimited.parse_delimiter(delimiter, path) if delimiter else delimited.sniff_delimiter(text)
-    )
+    declared = delimited.separator_line(text)
+    text = delimited.without_separator_line(text)
+    if delimiter:
+        chosen = delimited.parse_delimiter(delimiter, path)
+    else:
+        chosen = declared or delimited.sniff_delimiter(text)
     header = delimited.sniff_header(text, chosen) if has_header is None else has_header
     first = delimited.read_first_row(path, encoding, chosen)
     if first is None:

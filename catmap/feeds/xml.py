@@ -46,6 +46,7 @@ _COMMENT = re.compile(r"<!--.*?-->", re.DOTALL)
 _ELEMENT_START = re.compile(r"<[A-Za-z_]")
 _DECLARED_ENCODING = re.compile(r"""^\s*<\?xml[^>]*encoding\s*=\s*["']([A-Za-z0-9._-]+)["']""")
 _NO_PARENT = object()
+_UNDEFINED_ENTITY = re.compile(r"Entity '([^']+)' not defined")
 _UNSAFE_HINT = (
     "the feed declares XML entities; catmap never expands them; "
     "ask the sender for a feed without a DTD"
@@ -146,16 +147,38 @@ def _attribute_name(name: str, element: Any) -> str:
     return local
 
 
-def _syntax_error(exc: etree.XMLSyntaxError, path: str | Path, read: int) -> FeedFormatError:
+def _syntax_error(exc: etree.XMLSyntaxError, path: str | Path, read: int | None) -> FeedFormatError:
+    """The error for a parse that stopped; ``read`` counts the records before it (None: not
+    counted, while scanning)."""
     line, column = exc.position if exc.position else (exc.lineno, 0)
     message = exc.msg or str(exc)
-    if "encoding" in message.lower() or "utf-8" in message.lower():
+    # iterparse can end with a vague "no element found" at line 0 while libxml2's log holds
+    # the error that stopped it, with its line and column: the log's last fatal entry (the log
+    # belongs to the thread and may still hold errors of earlier parses).
+    fatal = [entry for entry in exc.error_log if entry.level_name == "FATAL"]
+    if fatal and (not line or message == "no element found"):
+        entry = fatal[-1]
+        line, column, message = entry.line, entry.column, entry.message
+    undefined = _UNDEFINED_ENTITY.search(message)
+    if undefined:
+        hint = (
+            f"&{undefined.group(1)}; is an HTML name XML does not define; ask the sender to "
+            "write the character itself or as a numeric reference (&#233;)"
+        )
+    elif "text node too long" in message.lower() or "huge" in message.lower():
+        record = "" if read is None else f" in record #{read + 1}"
+        message = f"a text{record} is longer than the XML reader's limit (10 MB)"
+        hint = (
+            "ask the sender to shorten that text (a description of several megabytes is "
+            "usually an export error); the records before it are read"
+        )
+    elif "encoding" in message.lower() or "utf-8" in message.lower():
         hint = (
             "the bytes do not match the feed's encoding; use --encoding cp1252 (or the right one)"
         )
     else:
         hint = (
-            f"{read} records before it were read; the file may be truncated or hand-edited, "
+            f"{read or 0} records before it were read; the file may be truncated or hand-edited, "
             "ask the sender for a complete, well-formed file"
         )
     return FeedFormatError(
@@ -187,15 +210,16 @@ def lxml_encoding(encoding: str | None) -> str | None:
 
 def scan(
     path: str | Path, encoding: str | None
-) -> tuple[Counter[str], set[str], dict[str, str], FeedFormatError | None]:
+) -> tuple[Counter[str], dict[str, set[str]], dict[str, str], FeedFormatError | None]:
     """Walk the first :data:`SCAN_ELEMENTS` element ends of the feed.
 
     Returns:
-        (element path -> count, paths of elements that had children, namespaces prefix -> URI,
-        the parse error met, if any).
+        (element path -> count; path of each element that had children or attributes -> its
+        own fields, the names of its attributes ("@id") and of its children that hold text;
+        namespaces prefix -> URI; the parse error met, if any).
     """
     counts: Counter[str] = Counter()
-    parents: set[str] = set()
+    parents: dict[str, set[str]] = {}
     namespaces: dict[str, str] = {}
     stack: list[str] = []
     ends = 0
@@ -217,17 +241,22 @@ def scan(
                 namespaces.setdefault(prefix or "", uri)
             elif event == "start":
                 if stack:
-                    parents.add(stack[-1])
+                    parents.setdefault(stack[-1], set())
                 stack.append(stack[-1] + "/" + _qname(item) if stack else "/" + _qname(item))
+                if item.keys():
+                    parents.setdefault(stack[-1], set()).update("@" + k for k in item.keys())
             else:
-                counts[stack.pop()] += 1
+                element_path = stack.pop()
+                counts[element_path] += 1
                 ends += 1
                 if len(item):
                     item.clear(keep_tail=True)
+                elif stack and item.text and not item.text.isspace():
+                    parents[stack[-1]].add(element_path.rsplit("/", 1)[1])
                 if ends >= SCAN_ELEMENTS:
                     break
     except etree.XMLSyntaxError as exc:
-        error = _syntax_error(exc, path, 0)
+        error = _syntax_error(exc, path, None)
     except LookupError as exc:
         raise _unknown_encoding(exc, path, encoding) from exc
     finally:
@@ -235,14 +264,44 @@ def scan(
     return counts, parents, namespaces, error
 
 
-def choose_record_path(counts: Counter[str], parents: set[str]) -> str | None:
-    """Pick the repeating element with children at the shallowest depth (most repeats wins ties)."""
+# A grouping element (a department, a category) names itself with a few fields: a name, an
+# id, a path. Common practice, no source.
+GROUP_FIELDS = 3
+
+
+def choose_record_path(counts: Counter[str], parents: dict[str, set[str]]) -> str | None:
+    """Pick the record element: it repeats and has children or attributes.
+
+    The shallowest such element wins (most repeats breaks ties), unless it looks like a group
+    of records: no more than :data:`GROUP_FIELDS` fields of its own, and an element inside it
+    repeats more often and has more fields (``<department name="..."><group name="...">
+    <product>``: the products are the records, not the departments).
+
+    Args:
+        counts: element path -> count, as :func:`scan` gives them.
+        parents: element path -> its own fields, as :func:`scan` gives them.
+    """
     candidates = [p for p in counts if p in parents and counts[p] >= 2]
     if not candidates:
         candidates = [p for p in counts if p in parents and p.count("/") == 2]
     if not candidates:
         return None
-    return min(candidates, key=lambda p: (p.count("/"), -counts[p], p))
+
+    def first(paths: list[str]) -> str:
+        return min(paths, key=lambda p: (p.count("/"), -counts[p], p))
+
+    chosen = first(candidates)
+    while len(parents[chosen]) <= GROUP_FIELDS:
+        own = len(parents[chosen])
+        inner = [
+            p
+            for p in candidates
+            if p.startswith(chosen + "/") and counts[p] > counts[chosen] and len(parents[p]) > own
+        ]
+        if not inner:
+            break
+        chosen = first(inner)
+    return chosen
 
 
 def _steps_match(given: list[str], actual: list[str]) -> bool:

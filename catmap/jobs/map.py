@@ -104,9 +104,11 @@ def map_project_feed(
 
     source = open_profiled_feed(feed, project, name=name)
     error: InputError | None = None
+    # Filled in by map_feed even when a fatal feed error stops the reading: the records before
+    # it were mapped and written, and the facts say so.
     summary = MapSummary()
     try:
-        summary = map_feed(
+        map_feed(
             source,
             out_dir,
             mapper=mapper,
@@ -115,6 +117,7 @@ def map_project_feed(
             format=format,
             workers=workers,
             on_progress=on_progress,
+            into=summary,
         )
     except InputError as fatal:
         error = fatal

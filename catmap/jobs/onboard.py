@@ -386,7 +386,8 @@ class FeedOutcome:
 
     Attributes:
         feed: the feed file.
-        summary: the run's summary (None when the run raised).
+        summary: the run's summary (None when the run raised before saving anything; a feed
+            that stopped early on a fatal error has both its summary and its error).
         error: a fatal feed error raised after the records before it were saved, or None.
     """
 
@@ -479,10 +480,11 @@ def _stored(
     progress: Callable[[str, int], None],
 ) -> FeedOutcome:
     try:
-        summary = store_onboarding(prepared, rounds, started=started, on_progress=progress)
+        summary, stopped = _store_onboarding(prepared, rounds, started=started, progress=progress)
     except FATAL_FEED_ERRORS as error:
         return FeedOutcome(prepared.feed_path, None, error)
-    return FeedOutcome(prepared.feed_path, summary)
+    # A feed that stopped early keeps its summary: the records before the error were saved.
+    return FeedOutcome(prepared.feed_path, summary, stopped)
 
 
 @dataclass
@@ -620,9 +622,24 @@ def store_onboarding(
     Raises:
         InputError: a fatal feed error, after the records before it were saved.
     """
+    progress = on_progress or (lambda _stage, _count: None)
+    summary, error = _store_onboarding(prepared, mapped_by, started=started, progress=progress)
+    if error is not None:
+        raise error
+    return summary
+
+
+def _store_onboarding(
+    prepared: PreparedOnboarding,
+    mapped_by: RowsFactory | None,
+    *,
+    started: float,
+    progress: Callable[[str, int], None],
+) -> tuple[OnboardSummary, InputError | None]:
+    """:func:`store_onboarding`, returning the fatal feed error that stopped the reading (the
+    records before it saved) beside the summary instead of raising it."""
     p = prepared
     name, tree, options = p.name, p.tree, p.options
-    progress = on_progress or (lambda _stage, _count: None)
     store = Store.for_project(p.project)
     try:
         check_onboarding(store, str(tree.version), p.project)
@@ -668,9 +685,7 @@ def store_onboarding(
         )
     finally:
         store.close()
-    if error is not None:
-        raise error
-    return summary
+    return summary, error
 
 
 def learn_feed_brands(
