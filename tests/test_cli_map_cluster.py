@@ -15,6 +15,34 @@ pytest.importorskip("distributed")
 FEED = Path(__file__).resolve().parents[1] / "feeds_demo" / "tallimbra.tsv"
 
 
+@pytest.fixture
+def thread_workers(monkeypatch: pytest.MonkeyPatch) -> None:
+    """A local cluster whose workers are threads of this process."""
+    from collections.abc import Iterator
+    from contextlib import contextmanager
+    from typing import Any
+
+    import catmap.jobs.cluster as cluster
+
+    real = cluster.open_cluster
+
+    @contextmanager
+    def threads(address: str) -> Iterator[Any]:
+        with real(address, processes=False) as client:
+            yield client
+
+    monkeypatch.setattr(cluster, "open_cluster", threads)
+
+
+def _own_example() -> tuple[Path, Path, set[str]]:
+    """The garden-and-crafts example's tree file, a feed of that shop and the tree's ids."""
+    example = Path(__file__).resolve().parents[1] / "examples" / "own-project"
+    tree = example / "tree.txt"
+    own_ids = {line.split("|")[0].strip() for line in tree.read_text("utf-8").splitlines()
+               if "|" in line}
+    return tree, example / "new-shop_2026-11-30.csv", own_ids
+
+
 @pytest.mark.parametrize("address", ["local:0", "somewhere:8786"])
 def test_a_bad_cluster_address_is_a_user_error(address: str, tmp_path: Path) -> None:
     result = CliRunner().invoke(
@@ -77,28 +105,10 @@ def test_several_feeds_map_at_once_as_each_alone(
 
 
 def test_a_tree_file_maps_on_a_cluster_as_in_one_process(
-    tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+    tmp_path: Path, thread_workers: None
 ) -> None:
-    from collections.abc import Iterator
-    from contextlib import contextmanager
-    from typing import Any
-
-    import catmap.jobs.cluster as cluster
-
-    real = cluster.open_cluster
-
-    @contextmanager
-    def threads(address: str) -> Iterator[Any]:  # the workers are threads of this process
-        with real(address, processes=False) as client:
-            yield client
-
-    monkeypatch.setattr(cluster, "open_cluster", threads)
     # A tree file of one's own (the garden-and-crafts example) and a feed of that shop.
-    example = Path(__file__).resolve().parents[1] / "examples" / "own-project"
-    tree = example / "tree.txt"
-    feed = example / "new-shop_2026-11-30.csv"
-    own_ids = {line.split("|")[0].strip() for line in tree.read_text("utf-8").splitlines()
-               if "|" in line}
+    tree, feed, own_ids = _own_example()
     common = ["--project", str(tmp_path / "p"), "--tree-file", str(tree)]
     alone = CliRunner().invoke(
         main, ["map", str(feed), "--out", str(tmp_path / "alone"), "--workers", "1", *common]
@@ -119,27 +129,9 @@ def test_a_tree_file_maps_on_a_cluster_as_in_one_process(
 
 
 def test_a_project_of_ones_own_maps_on_a_cluster_with_its_own_tree(
-    tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+    tmp_path: Path, thread_workers: None
 ) -> None:
-    from collections.abc import Iterator
-    from contextlib import contextmanager
-    from typing import Any
-
-    import catmap.jobs.cluster as cluster
-
-    real = cluster.open_cluster
-
-    @contextmanager
-    def threads(address: str) -> Iterator[Any]:  # the workers are threads of this process
-        with real(address, processes=False) as client:
-            yield client
-
-    monkeypatch.setattr(cluster, "open_cluster", threads)
-    example = Path(__file__).resolve().parents[1] / "examples" / "own-project"
-    tree = example / "tree.txt"
-    feed = example / "new-shop_2026-11-30.csv"
-    own_ids = {line.split("|")[0].strip() for line in tree.read_text("utf-8").splitlines()
-               if "|" in line}
+    tree, feed, own_ids = _own_example()
     project = tmp_path / "p"
     assert CliRunner().invoke(main, ["init", str(project), "--tree", str(tree)]).exit_code == 0
     # No --tree-file: the project's own tree, on the workers as in one process.
