@@ -18,11 +18,14 @@ from catmap.tree.taxonomy import (
     load_tree,
     summarize_tree,
 )
-from catmap.tree.treefile import Node, parse_audience
+from catmap.tree.treefile import MAX_LEVEL, SHARED_LEAF_LEVELS, Node, parse_audience
 
 TREES = Path(__file__).parent / "data" / "trees"
 GOOD = TREES / "good.txt"
 BAD_FILES = sorted(TREES.glob("bad_*.txt"))
+# Valid trees of any depth, each with a leaf outside the shared tree's own levels (3 to 5).
+SHARED_RULE_FILES = sorted((TREES / "shared_rule").glob("*.txt"))
+ROOT = Path(__file__).resolve().parents[1]
 
 
 def _expectation(path: Path) -> tuple[str, int]:
@@ -57,6 +60,62 @@ def test_broken_tree_raises_tree_error_naming_file_and_line(path: Path) -> None:
     assert info.value.path == str(path)
     assert str(info.value).startswith(f"{path}:{line}: ")
     assert info.value.exit_code == 3
+
+
+@pytest.mark.parametrize("path", SHARED_RULE_FILES, ids=lambda p: p.stem)
+def test_a_tree_of_ones_own_may_have_leaves_outside_the_shared_trees_levels(path: Path) -> None:
+    fragment, line = _expectation(path)
+    tree = load_tree(path)  # valid as a tree of one's own
+    with pytest.raises(TreeError, match=re.escape(fragment)) as info:
+        tree.check_leaf_levels(*SHARED_LEAF_LEVELS)
+    assert info.value.line == line
+    assert "--tree-file" in str(info.value.hint)
+
+
+def test_the_shipped_trees_keep_the_shared_trees_levels() -> None:
+    for version in (1, 2):
+        tree = load_tree(ROOT / "taxonomies" / f"tree-v{version}.txt")
+        tree.check_leaf_levels(*SHARED_LEAF_LEVELS)
+        depths = {tree.depth(n.id) for n in tree.leaves()}
+        assert min(depths) >= SHARED_LEAF_LEVELS[0] and max(depths) <= SHARED_LEAF_LEVELS[1]
+
+
+def _chain(levels: int) -> list[Node]:
+    terms = {"en": ("word",), "fr": (), "de": (), "es": ()}
+    nodes = [Node(id="1", parent=None, name="Level 1", terms=terms, line=1)]
+    for level in range(2, levels + 1):
+        nodes.append(Node(str(level), str(level - 1), f"Level {level}", terms, line=level))
+    return nodes
+
+
+def test_trees_of_one_to_max_level_levels_are_valid() -> None:
+    for levels in (1, 2, 7, MAX_LEVEL):
+        tree = CategoryTree(_chain(levels))
+        assert [n.id for n in tree.leaves()] == [str(levels)]
+        assert tree.depth(str(levels)) == levels
+        assert tree.path_names(str(levels))[-1] == f"Level {levels}"
+    with pytest.raises(TreeError, match=f"at level {MAX_LEVEL + 1}; nodes sit at most"):
+        CategoryTree(_chain(MAX_LEVEL + 1))
+
+
+def test_a_flat_tree_each_category_its_own_department(tmp_path: Path) -> None:
+    flat = tmp_path / "flat.txt"
+    flat.write_text(
+        "@tree-version 1\n"
+        "10 | - | Teapots | none | - | en: teapot | fr: | de: | es:\n"
+        "20 | - | Cider | who=unisex age=adult | alcohol | en: cider | fr: | de: | es:\n",
+        encoding="utf-8",
+    )
+    tree = load_tree(flat)
+    assert [n.id for n in tree.leaves()] == ["10", "20"] == [n.id for n in tree.departments()]
+    assert tree.department("20").id == "20" and tree.ancestors("20") == []
+    assert tree.path_text("20") == "Cider"
+    assert tree.restriction("20") == "alcohol" and tree.restriction("10") is None
+    assert tree.who("20") == {"unisex"} and tree.ages("10") == frozenset()
+    facts = summarize_tree(tree)
+    assert facts["levels"] == {"1": 2}
+    # A department with no children is a leaf itself.
+    assert [d["leaves"] for d in facts["departments"]] == [1, 1]
 
 
 def test_missing_file_is_a_tree_error(tmp_path: Path) -> None:

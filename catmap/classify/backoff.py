@@ -4,6 +4,12 @@ A node's probability is the sum of the probabilities of the classes (leaves) und
 best leaf reaches the threshold it is the answer; otherwise the answer climbs to the deepest node
 whose probability reaches the threshold (ties at one depth: the more probable node). When not
 even a department reaches it, the most probable department is answered.
+
+A back-off answer is always an inner node. Where the climb would end on a leaf, there is
+nothing above it to answer: the best leaf is a department itself (a one-level tree, or a leaf
+at level 1 of a deeper tree) and the most probable department, so the best leaf stays the
+answer with its own probability, not backed off (below the threshold, it goes to review like
+any unsure mapping). The tree has no single root, so a back-off never answers "everything".
 """
 
 from __future__ import annotations
@@ -17,7 +23,14 @@ import scipy.sparse as sp
 
 from catmap.tree.taxonomy import CategoryTree
 
-__all__ = ["BackoffResult", "NodeIndex", "backoff", "backoff_rows", "choose_nodes"]
+__all__ = [
+    "BackoffResult",
+    "NodeIndex",
+    "backoff",
+    "backoff_rows",
+    "choose_nodes",
+    "keep_leaf_answers",
+]
 
 
 @dataclass(frozen=True, slots=True)
@@ -67,6 +80,9 @@ def backoff(
     else:
         departments = [(p, n) for n, p in node_probability.items() if tree.depth(n) == 1]
         probability, node_id = max(departments)
+    if tree.is_leaf(node_id):
+        # A leaf at level 1 with nothing above it: no inner node to back off to.
+        return BackoffResult(best_leaf, float(best), None)
     return BackoffResult(node_id, float(probability), best_leaf)
 
 
@@ -91,6 +107,7 @@ class NodeIndex:
             shape=(len(classes), len(self.nodes)),
         )
         self.depth = np.array([tree.depth(n) for n in self.nodes], dtype=np.float64)
+        self.leaf = np.array([tree.is_leaf(n) for n in self.nodes], dtype=bool)
         self.classes = list(classes)
 
 
@@ -119,7 +136,27 @@ def backoff_rows(
     if len(rows):
         node_p = np.asarray((matrix[rows] @ index.matrix).toarray())
         chosen[rows], chosen_p[rows] = choose_nodes(node_p, index, threshold)
+        keep_leaf_answers(rows, best, index, backed, chosen, chosen_p)
     return best_class, chosen, chosen_p, backed
+
+
+def keep_leaf_answers(
+    rows: np.ndarray[Any, Any],
+    best: np.ndarray[Any, Any],
+    index: NodeIndex,
+    backed: np.ndarray[Any, Any],
+    chosen: np.ndarray[Any, Any],
+    chosen_p: np.ndarray[Any, Any],
+) -> None:
+    """Undo the back-off of the rows whose climb ended on a leaf (in place).
+
+    That leaf is a department with nothing above it (see the module docstring): the row keeps
+    its best class, with that class's probability ``best``, and is not backed off.
+    """
+    stays = rows[index.leaf[chosen[rows]]]
+    backed[stays] = False
+    chosen[stays] = -1
+    chosen_p[stays] = best[stays]
 
 
 def choose_nodes(

@@ -33,7 +33,7 @@ import scipy.sparse as sp
 from catmap import _collector
 from catmap._atomic import AtomicFile, write_text_atomic
 from catmap._iterate import chunked
-from catmap.classify.backoff import NodeIndex, backoff_rows, choose_nodes
+from catmap.classify.backoff import NodeIndex, backoff_rows, choose_nodes, keep_leaf_answers
 from catmap.classify.consensus import MIN_PRODUCTS, PathConsensus, PathCounts
 from catmap.classify.features import ProductTexts, product_texts
 from catmap.classify.keywords import KeywordMapper
@@ -636,6 +636,7 @@ def _exact_backoff(
     shares: sp.csr_matrix | None,
     weight: float,
     threshold: float,
+    best: np.ndarray[Any, Any],
     backed: np.ndarray[Any, Any],
     chosen: np.ndarray[Any, Any],
     chosen_p: np.ndarray[Any, Any],
@@ -657,6 +658,7 @@ def _exact_backoff(
         share_nodes = np.asarray((shares[which[rows[blended]]] @ mapper.index.matrix).toarray())
         node_p[blended] = (1 - weight) * node_p[blended] + weight * share_nodes
     chosen[rows], chosen_p[rows] = choose_nodes(node_p, mapper.index, threshold)
+    keep_leaf_answers(rows, best, mapper.index, backed, chosen, chosen_p)
 
 
 def _second_pass(
@@ -698,9 +700,11 @@ def _second_pass(
                 p = p[np.argsort(order)]
         best_class, chosen, chosen_p, backed = backoff_rows(p, mapper.index, threshold)
         if nodes is not None and backed.any():
+            best = np.asarray(p[np.arange(n), best_class]).ravel()
             _exact_backoff(
-                mapper, backing, nodes, which, shares, weight, threshold, backed, chosen, chosen_p
-            )
+                mapper, backing, nodes, which, shares, weight, threshold, best, backed, chosen,
+                chosen_p,
+            )  # fmt: skip
         out_rows = []
         # Plain lists: reading a row's few entries from them is far cheaper than getrow().
         p = sp.csr_matrix(p)

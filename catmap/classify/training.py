@@ -359,7 +359,9 @@ def fit_model(
     structures are trained and calibrated (the flat one with :data:`FLAT_SETTINGS` where the
     options leave them), and the one with the better validation macro-F1
     (``sklearn.metrics.f1_score(average="macro")``) is kept, the department step on a tie. With
-    more classes, or a structure given, one model is trained and calibrated, as before. The
+    more classes, or a structure given, one model is trained and calibrated, as before. When
+    every class is its own department (a one-level tree), only the flat model is trained,
+    whatever was given: the department step would hold one class per department. The
     validation products never train the model: onboarding calibrates its accept threshold on
     them as held-out products.
 
@@ -386,6 +388,12 @@ def fit_model(
     choices = [True if given is None else bool(given)]
     if given is None and len(valid_labels) and len(set(labels)) <= FLAT_MAX_CLASSES:
         choices = [True, False]
+    flat_only = _one_class_per_department(tree, labels)
+    if flat_only:
+        # Every class is its own department (a flat list of categories, a one-level tree): a
+        # department step would be the flat classifier again, followed by a classifier of one
+        # class in each department, which leaves its calibration nothing to fit. Flat only.
+        choices = [False]
     best: tuple[float, CategoryModel | None] = (-1.0, None)
     for hierarchical in choices:
         structure = "department step" if hierarchical else "flat"
@@ -395,6 +403,9 @@ def fit_model(
         stage(f"calibrating ({structure}) on {len(valid_labels):,} products")
         model.calibrate(valid_texts, valid_labels)
         if len(choices) == 1:
+            if flat_only:
+                model.metrics_["structure"] = "flat"
+                model.metrics_["structure_reason"] = "each class is its own department"
             best = (0.0, model)
             break
         predicted = [str(c) for c in model.predict(valid_texts)]
@@ -406,6 +417,12 @@ def fit_model(
     chosen = best[1]
     assert chosen is not None
     return chosen
+
+
+def _one_class_per_department(tree: CategoryTree, labels: Sequence[str]) -> bool:
+    """Return True when no department holds two of the labels' classes."""
+    classes = set(labels)
+    return len({tree.department(label).id for label in classes}) == len(classes)
 
 
 def folder_bytes(folder: Path) -> int:

@@ -136,7 +136,11 @@ def train_command(
         f"  ECE (15 bins)        {metrics.get('valid_ece_before_calibration', 0):.3f} before "
         f"calibration, {metrics.get('valid_ece', 0):.3f} after"
     )
-    if "structure" in metrics:
+    if "structure_reason" in metrics:
+        console.print(
+            f"  structure            {metrics['structure']} ({metrics['structure_reason']})"
+        )
+    elif "structure" in metrics:
         console.print(
             f"  structure            {metrics['structure']} (the better validation macro-F1, "
             f"{metrics['valid_macro_f1']:.3f})"

@@ -108,8 +108,20 @@ def fit(text: str, width: int) -> str:
 
 
 def fit_path(text: str, width: int) -> str:
-    """A path cut to ``width`` cells from the start, so that the node's own name stays."""
-    return text if len(text) <= width else "…" + text[-max(width - 1, 0) :]
+    """A path cut to ``width`` cells so that the node's own name stays.
+
+    Levels are left out from the middle first ("Workshop > … > Hand saws > Pull saws"), so that
+    a deep path (a tree of one's own may run ten levels deep) still shows its department; when
+    even the department, "…" and the last name do not fit, the path is cut from the start.
+    """
+    if len(text) <= width:
+        return text
+    names = text.split(" > ")
+    for keep in range(len(names) - 2, 0, -1):
+        short = " > ".join([names[0], "…", *names[-keep:]])
+        if len(short) <= width:
+            return short
+    return "…" + text[-max(width - 1, 0) :]
 
 
 def confidence_bar(confidence: float, width: int = BAR_WIDTH) -> str:

@@ -206,7 +206,9 @@ class _Matcher:
         t_old, t_new = self.terms(self.old, old_id), self.terms(self.new, new_id)
         shared = len(t_old & t_new)
         overlap = shared / min(len(t_old), len(t_new)) if t_old and t_new else 0.0
-        same_parent = before.parent is not None and before.parent == after.parent
+        # Departments are siblings too: in a one-level tree (a list of categories) every node
+        # is one, and a renamed category must be found as a renamed leaf is among its siblings.
+        same_parent = before.parent == after.parent
         same_department = self.old.department(old_id).id == self.new.department(new_id).id
         name = _name_similarity(before, after)
         # A name alone links nodes only close together in the tree: far apart, "Ovens" and
@@ -216,7 +218,7 @@ class _Matcher:
             # countertop ovens"): two siblings always look a little alike by name.
             by_name = 0.9 * name if shared or name >= NAME_ALONE else 0.0
             score = min(1.0, max(overlap, by_name) + 0.1)
-            place = "same parent"
+            place = "same parent" if before.parent is not None else "both departments"
         elif same_department:
             score = max(overlap, 0.75 * name)
             place = "same department"
@@ -439,9 +441,13 @@ def _unlinked_siblings(links: _Links, old_id: str, part: str, taken: set[str]) -
     """New leaves beside the one part found for ``old_id`` that no removed node explains.
 
     With products given, a sibling counts only when some of the old node's products went there.
+    A department has none to count: a new department beside it (in a one-level tree, any new
+    category) is not a part of it split off, unless its products went there.
     """
     matcher = links.matcher
     parent = matcher.new[part].parent
+    if parent is None and not matcher.with_products:
+        return []
     found = []
     for new_id in links.added:
         if new_id in taken or new_id == part or matcher.new[new_id].parent != parent:

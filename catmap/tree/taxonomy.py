@@ -27,8 +27,8 @@ from catmap.tree.search import SearchMatch, TermIndex, fold_text
 from catmap.tree.treefile import (
     FORMAT_HINT,
     LANGUAGES,
-    MAX_LEAF_LEVEL,
-    MIN_LEAF_LEVEL,
+    MAX_LEVEL,
+    SHARED_LEAF_LEVELS,
     Node,
     format_tree,
     parse_audience,
@@ -51,7 +51,7 @@ class CategoryTree:
     """A validated category tree with fast look-ups and fuzzy search.
 
     Building one checks the structure (unique ids, known parents, no cycles, audience and
-    restriction values, leaves three to five levels deep) and raises :class:`TreeError` naming
+    restriction values, no node deeper than ``MAX_LEVEL``) and raises :class:`TreeError` naming
     the offending node's line.
 
     Args:
@@ -105,19 +105,12 @@ class CategoryTree:
 
         for node in file_order:
             level = self._depth[node.id]
-            if level > MAX_LEAF_LEVEL:
+            if level > MAX_LEVEL:
                 raise self._error(
-                    f"node {node.id} is at level {level}; leaves sit {MIN_LEAF_LEVEL} to "
-                    f"{MAX_LEAF_LEVEL} levels deep, deeper than {MAX_LEAF_LEVEL} is not allowed",
+                    f"node {node.id} is at level {level}; nodes sit at most {MAX_LEVEL} levels "
+                    "deep (a department is level 1)",
                     node,
-                    "attach the node higher up",
-                )
-            if level < MIN_LEAF_LEVEL and node.id not in self._children:
-                raise self._error(
-                    f"leaf {node.id} is at level {level}, shallower than {MIN_LEAF_LEVEL}; "
-                    f"leaves sit {MIN_LEAF_LEVEL} to {MAX_LEAF_LEVEL} levels deep",
-                    node,
-                    "give it children or move it down",
+                    "attach the node higher up, or check its parent id",
                 )
 
         # Effective values, computed once in parents-first order so each parent is ready.
@@ -164,6 +157,27 @@ class CategoryTree:
         if missing:
             raise self._error(
                 f"missing language cell '{missing[0]}:' for node {node.id}", node, FORMAT_HINT
+            )
+
+    def check_leaf_levels(self, lowest: int, deepest: int) -> None:
+        """Check that every leaf sits ``lowest`` to ``deepest`` levels deep (a department is 1).
+
+        The shared tree's own rule (:data:`~catmap.tree.treefile.SHARED_LEAF_LEVELS`); a tree of
+        one's own only has to keep within ``MAX_LEVEL``.
+
+        Raises:
+            TreeError: a leaf outside those levels, naming its line.
+        """
+        for node in self._order:
+            level = self._depth[node.id]
+            if node.id in self._children or lowest <= level <= deepest:
+                continue
+            side = "shallower" if level < lowest else "deeper"
+            raise self._error(
+                f"leaf {node.id} is at level {level}, {side} than the shared tree allows "
+                f"(its leaves sit {lowest} to {deepest} levels deep)",
+                node,
+                "a tree of one's own may have any depth: give it with --tree-file",
             )
 
     def _compute_depth(self, start: Node) -> int:
@@ -424,6 +438,10 @@ def _parents_first(nodes: list[Node]) -> list[Node]:
     return order
 
 
+# catmap's own shared trees: the only files held to the shared tree's stricter leaf levels.
+_SHIPPED_TAXONOMIES = Path(__file__).resolve().parents[2] / "taxonomies"
+
+
 def load_tree(path: str | Path) -> CategoryTree:
     """Read and validate a tree file.
 
@@ -455,7 +473,10 @@ def load_tree(path: str | Path) -> CategoryTree:
             "the tree file is not valid UTF-8", path=shown, line=line, hint="save it as UTF-8"
         ) from None
     version, nodes = parse_tree_text(text, shown)
-    return CategoryTree(nodes, version=version, path=shown)
+    tree = CategoryTree(nodes, version=version, path=shown)
+    if Path(path).resolve().parent == _SHIPPED_TAXONOMIES:
+        tree.check_leaf_levels(*SHARED_LEAF_LEVELS)
+    return tree
 
 
 def dump_tree(tree: CategoryTree, path: str | Path) -> None:
@@ -483,7 +504,7 @@ def default_tree_path(version: int | str = 1) -> Path:
     if not text.isdigit():
         raise TreeError(f"tree version '{version}' is not an integer", hint="use 1 or 2")
     folder = os.environ.get("CATMAP_TAXONOMIES")
-    base = Path(folder) if folder else Path(__file__).resolve().parents[2] / "taxonomies"
+    base = Path(folder) if folder else _SHIPPED_TAXONOMIES
     return base / f"tree-v{int(text)}.txt"
 
 
@@ -544,7 +565,8 @@ def summarize_tree(tree: CategoryTree) -> dict[str, Any]:
                 "id": dept.id,
                 "name": dept.name,
                 "nodes": 1 + len(below),
-                "leaves": sum(1 for n in below if tree.is_leaf(n.id)),
+                # A department with no children is a leaf itself (a one-level tree).
+                "leaves": len(tree.leaves(dept.id)),
             }
         )
     return {

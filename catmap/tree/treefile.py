@@ -18,8 +18,8 @@ __all__ = [
     "AGE_VALUES",
     "FORMAT_HINT",
     "LANGUAGES",
-    "MAX_LEAF_LEVEL",
-    "MIN_LEAF_LEVEL",
+    "MAX_LEVEL",
+    "SHARED_LEAF_LEVELS",
     "RESTRICTION_VALUES",
     "WHO_VALUES",
     "Node",
@@ -35,8 +35,13 @@ LANGUAGES: tuple[str, ...] = ("en", "fr", "de", "es")
 WHO_VALUES: tuple[str, ...] = ("female", "male", "unisex")
 AGE_VALUES: tuple[str, ...] = ("adult", "kids", "baby")
 RESTRICTION_VALUES: tuple[str, ...] = ("alcohol", "tobacco", "weapons", "adult", "medicine")
-MIN_LEAF_LEVEL = 3
-MAX_LEAF_LEVEL = 5
+# The deepest level a node of any tree may sit at (a department is level 1). A chosen setting,
+# generous on purpose: real trees of one's own run from a flat list of categories to eight or
+# so levels; the limit only stops a file whose parents run away (a mistaken parent column).
+MAX_LEVEL = 10
+# The shared tree's own, stricter rule (taxonomies/README.md): its leaves sit three to five
+# levels deep. A tree of one's own may have leaves at any level from 1 to MAX_LEVEL.
+SHARED_LEAF_LEVELS = (3, 5)
 
 HEADER = "@tree-version"
 _CELLS = 5 + len(LANGUAGES)
