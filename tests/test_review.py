@@ -531,9 +531,7 @@ def test_choosing_a_t_shirt_node_for_a_wine_clears_the_flag(
     assert (again.mapping.node_id, again.attributes.restriction) == (RED_WINE, "alcohol")
 
 
-def test_an_explicit_who_is_kept_where_it_applies(
-    memory_store: Store, tree: CategoryTree
-) -> None:
+def test_an_explicit_who_is_kept_where_it_applies(memory_store: Store, tree: CategoryTree) -> None:
     memory_store.accept_group("setup", SAMPLE_FEED, BOOT_GROUP)
     session = _session(memory_store, tree)
     session.next()  # the wine
@@ -828,9 +826,7 @@ async def test_direct_keys_set_each_who_and_age_value(store: Store, tree: Catego
 
 
 @sync
-async def test_attributes_say_where_each_value_came_from(
-    store: Store, tree: CategoryTree
-) -> None:
+async def test_attributes_say_where_each_value_came_from(store: Store, tree: CategoryTree) -> None:
     app = ReviewApp(_session(store, tree))
     async with app.run_test(size=(160, 45)) as pilot:
         assert set(app.session.sources()) == {"brand", "who", "age", "colour"}
@@ -980,8 +976,9 @@ async def test_r_rejects_the_candidate_brand_and_takes_it_off_its_products(
         await pilot.press("q")
 
 
-def test_a_brand_a_reviewer_set_is_left_alone_by_the_verdict(memory_store: Store,
-                                                               tree: CategoryTree) -> None:
+def test_a_brand_a_reviewer_set_is_left_alone_by_the_verdict(
+    memory_store: Store, tree: CategoryTree
+) -> None:
     session = _session(memory_store, tree)
     session.next()
     session.set_brand("Ostravel Works")
@@ -1005,8 +1002,9 @@ def test_only_a_candidate_brand_takes_a_verdict(memory_store: Store, tree: Categ
     assert session.candidate_brand() == ""
     with pytest.raises(ReviewError, match="'Valle Serena' is dictionary, not a candidate"):
         session.reject_brand()
-    assert [r["status"] for r in memory_store.brand_records() if r["name"] == "Valle Serena"] \
-        == ["confirmed"]
+    assert [r["status"] for r in memory_store.brand_records() if r["name"] == "Valle Serena"] == [
+        "confirmed"
+    ]
 
 
 @sync
@@ -1397,3 +1395,36 @@ def test_the_finish_shows_the_clock_today_the_weekday_within_a_week_else_the_day
     tomorrow = start + timedelta(days=1, hours=-3)
     assert finish_label(tomorrow, start) == tomorrow.strftime("%a ") + "06:00"
     assert finish_label(start + timedelta(days=9), start) == "in 9 days"
+
+
+# -- resizing ---------------------------------------------------------------------------------
+
+
+def _drawn_lines(app: ReviewApp, widget_id: str) -> list[str]:
+    """The lines inside a panel as the screen draws them (what does not fit is not drawn)."""
+    panel = app.query_one(f"#{widget_id}", Static)
+    return [panel.render_line(y).text.rstrip() for y in range(panel.content_size.height)]
+
+
+@sync
+async def test_a_resize_draws_the_item_at_the_new_size(store: Store, tree: CategoryTree) -> None:
+    app = ReviewApp(_session(store, tree))
+    async with app.run_test(size=(80, 24)) as pilot:
+        await pilot.pause()
+        path = "Shoes, boots and sandals > Boots > Ankle boots"
+        assert path not in _drawn_lines(app, "suggestion")  # not on one line at 80 columns
+        assert "availability" not in _screen_text(app, "product")
+        await pilot.resize_terminal(200, 50)
+        await pilot.pause()
+        # Drawn for 200×50 at once, not for the size before: the path on one line, the feed's
+        # fields and the group's waiting products in the room there is now.
+        assert _drawn_lines(app, "suggestion")[0] == path
+        assert "availability" in _screen_text(app, "product")
+        assert "also waiting in this group" in _screen_text(app, "group")
+        _assert_laid_out(app, (200, 50))
+        await pilot.resize_terminal(80, 24)
+        await pilot.pause()
+        assert "availability" not in _screen_text(app, "product")
+        assert "also waiting in this group" not in _screen_text(app, "group")
+        _assert_laid_out(app, (80, 24))
+        await pilot.press("q")

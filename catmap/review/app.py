@@ -15,6 +15,7 @@ through the store (one transaction each) and reads the item back. Layout, from t
 The layout fits an 80×24 terminal: each attribute, path and source is one line cut to the
 column's width (a path keeps its end, the node's own name), and the product panel gives up its
 description first. A larger terminal shows the whole description and the feed's own fields.
+A resize draws the item again at the new size.
 
 Product text is shown as plain text (never read as markup): feeds contain brackets.
 
@@ -35,6 +36,7 @@ from textual import events
 from textual.app import App, ComposeResult
 from textual.binding import Binding, BindingType
 from textual.containers import Horizontal, Vertical
+from textual.geometry import Size
 from textual.screen import ModalScreen
 from textual.widgets import Input, OptionList, Static
 from textual.widgets.option_list import Option
@@ -371,6 +373,9 @@ class ReviewApp(App[None]):
         self._closed = False
         # Keys pressed between ``b`` and the brand dialog taking them (None: not opening).
         self._typed_ahead: list[events.Key] | None = None
+        # The terminal's size as the last resize event gave it: this screen's resize handler
+        # runs before the app's own, while ``self.size`` still holds the size before.
+        self._terminal_size: Size | None = None
 
     # -- keys typed ahead of the brand dialog ---------------------------------------------------
 
@@ -467,14 +472,19 @@ class ReviewApp(App[None]):
             text.rstrip()  # no blank last line inside a panel
             panels[name].update(text)
 
+    def _screen_size(self) -> Size:
+        return self._terminal_size or self.size
+
     def _inner_width(self) -> int:
         """Cells inside a panel: half the screen less the border and padding."""
-        return max(self.size.width // 2 - 4, 16)
+        return max(self._screen_size().width // 2 - 4, 16)
 
     def _roomy(self) -> bool:
-        return self.size.width >= ROOMY_WIDTH and self.size.height >= ROOMY_HEIGHT
+        size = self._screen_size()
+        return size.width >= ROOMY_WIDTH and size.height >= ROOMY_HEIGHT
 
     def on_resize(self, event: events.Resize) -> None:
+        self._terminal_size = event.size
         self.render_item()
 
     def _product_text(self, view: ReviewView) -> Text:
@@ -542,17 +552,21 @@ class ReviewApp(App[None]):
             if self.session.candidate_shop_name() is not None:
                 # Onboarding found the shop writing its own name in the brand field: seldom
                 # a brand, so the reviewer is told before pressing c.
-                text.append(fit("       the feed's own shop name", width) + "\n",
-                            style="bold yellow")
+                text.append(
+                    fit("       the feed's own shop name", width) + "\n", style="bold yellow"
+                )
             text.append(fit("       c confirm · r not a brand", width) + "\n", style="yellow")
             if self.session.waits_for_brand():
-                text.append(fit("       queued for this brand alone: c or r settles it", width)
-                            + "\n", style="yellow")
+                text.append(
+                    fit("       queued for this brand alone: c or r settles it", width) + "\n",
+                    style="yellow",
+                )
         row("who", attributes.who, pending.who, sources["who"])
         row("age", attributes.age, pending.age, sources["age"])
         if attributes.audience_conflict:
-            text.append(fit("       text and node disagree on who / age", width) + "\n",
-                        style="yellow")
+            text.append(
+                fit("       text and node disagree on who / age", width) + "\n", style="yellow"
+            )
         row("colour", attributes.colour_family, None, sources["colour"])
         row("flag", attributes.restriction or "none", None, "")
         if self._roomy():
@@ -579,8 +593,9 @@ class ReviewApp(App[None]):
         text.append(fit_path(session.path_text(mapping.node_id), width) + "\n", style="bold")
         flag = session.restriction(mapping.node_id)
         if flag:
-            text.append(fit(f"restricted node: {flag} (see the caution)", width) + "\n",
-                        style="bold yellow")
+            text.append(
+                fit(f"restricted node: {flag} (see the caution)", width) + "\n", style="bold yellow"
+            )
         bar = confidence_bar(mapping.confidence, max(min(BAR_WIDTH, width - 16), 4))
         text.append(fit(f"{mapping.confidence:6.1%}  {bar}  {mapping.method}", width) + "\n")
         if mapping.reason:
@@ -634,7 +649,7 @@ class ReviewApp(App[None]):
         """Lines left in the group panel for the group's other waiting products (0: none)."""
         if not self._roomy():
             return 0
-        columns = self.size.height - 4  # top line, message, two key lines
+        columns = self._screen_size().height - 4  # top line, message, two key lines
         suggestion = len(self._suggestion_text(view).plain.rstrip("\n").split("\n")) + 2
         used = 2 + 5 + 2  # borders, the group's own lines, the list's heading
         return max(columns - suggestion - used, 0)
