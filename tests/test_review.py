@@ -13,7 +13,7 @@ from typing import Any
 import pytest
 from rich.text import Text
 from textual import events
-from textual.widgets import OptionList, Static
+from textual.widgets import Input, OptionList, Static
 
 from catmap.attributes import RESTRICTION_CAUTION
 from catmap.errors import ReviewError, StoreError
@@ -1427,4 +1427,43 @@ async def test_a_resize_draws_the_item_at_the_new_size(store: Store, tree: Categ
         assert "availability" not in _screen_text(app, "product")
         assert "also waiting in this group" not in _screen_text(app, "group")
         _assert_laid_out(app, (80, 24))
+        await pilot.press("q")
+
+
+# -- the tree search when nothing matches -----------------------------------------------------
+
+
+@sync
+async def test_search_says_when_nothing_or_nothing_close_matches(
+    store: Store, tree: CategoryTree
+) -> None:
+    app = ReviewApp(_session(store, tree))
+    async with app.run_test(size=(80, 24)) as pilot:
+        await pilot.press("slash")
+        await pilot.pause()
+        search = app.screen
+        box = search.query_one("#search-input", Input)
+        note = search.query_one("#search-note", Static)
+        results = search.query_one("#search-results", OptionList)
+        box.value = "зонт"  # no term of the tree is written in Cyrillic
+        await pilot.pause()
+        assert results.option_count == 0
+        assert "no node matches 'зонт'" in str(note.render())
+        await pilot.press("enter")  # nothing to pick: nothing happens
+        await pilot.pause()
+        assert app.screen is search and store.decisions() == []
+        box.value = "zzqxw"
+        await pilot.pause()
+        assert results.option_count > 0
+        assert "no close match for 'zzqxw'" in str(note.render())
+        box.value = "bottines"  # a French synonym of the tree
+        await pilot.pause()
+        assert str(note.render()).strip() == ""
+        highlighted = results.get_option_at_index(results.highlighted or 0).id
+        assert highlighted == ANKLE_BOOTS
+        await pilot.press("escape")
+        await pilot.pause()
+        assert app.screen is not search
+        assert "search cancelled" in _screen_text(app, "message")
+        assert store.decisions() == []
         await pilot.press("q")

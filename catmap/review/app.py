@@ -48,6 +48,9 @@ from catmap.store import ReviewView
 
 BAR_WIDTH = 20
 SEARCH_LIMIT = 12
+# Below this score (0..100) the best search match is only a distant guess, and the dialog says
+# so: random letters still find something ("zzqxw" scores 48 against "fizzy water").
+SEARCH_CLOSE_SCORE = 60.0
 # Below this size the screen drops the description and the feed fields.
 ROOMY_WIDTH = 120
 ROOMY_HEIGHT = 36
@@ -250,8 +253,9 @@ class SearchScreen(ModalScreen[str | None]):
 
     def compose(self) -> ComposeResult:
         with Vertical(id="search-dialog"):
-            yield Static(Text("Find a node: type words in any language; ↑↓ move, Enter picks"))
+            yield Static(Text("Find a node, in any language: ↑↓ move · Enter picks · Esc back"))
             yield Input(placeholder="e.g. ankle boot, bottines, Stiefelette", id="search-input")
+            yield Static(id="search-note")
             yield OptionList(id="search-results")
             yield Static(id="search-caution")
 
@@ -259,7 +263,14 @@ class SearchScreen(ModalScreen[str | None]):
         results = self.query_one("#search-results", OptionList)
         results.clear_options()
         tree = self.session.tree
-        for match in self.session.search(event.value, limit=SEARCH_LIMIT):
+        matches = self.session.search(event.value, limit=SEARCH_LIMIT)
+        note = ""
+        if event.value.strip() and not matches:
+            note = f"no node matches '{event.value.strip()}': try other words, or Esc to go back"
+        elif matches and matches[0].score < SEARCH_CLOSE_SCORE:
+            note = f"no close match for '{event.value.strip()}': these are distant guesses"
+        self.query_one("#search-note", Static).update(Text(note, style="bold yellow"))
+        for match in matches:
             label = Text(f"{match.score:5.1f}  {tree.path_text(match.node.id)}")
             if not match.is_name:
                 label.append(f"   ({match.language}: {match.term})", style="dim")
@@ -334,7 +345,7 @@ class ReviewApp(App[None]):
     #search-dialog { width: 100%; max-width: 100; height: 100%; max-height: 30;
                      border: thick $accent; padding: 0 1; background: $surface; }
     #search-results { height: 1fr; }
-    #search-caution { height: auto; }
+    #search-caution, #search-note { height: auto; }
     .hint { color: $text-muted; margin-top: 1; }
     """
 
