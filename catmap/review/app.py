@@ -250,7 +250,7 @@ class SearchScreen(ModalScreen[str | None]):
         with Vertical(id="search-dialog"):
             yield Static(Text("Find a node, in any language: ↑↓ move · Enter picks · Esc back"))
             yield Input(placeholder="e.g. ankle boot, bottines, Stiefelette", id="search-input")
-            yield Static(id="search-note")
+            yield Static(id="search-note")  # shown only when it has something to say
             yield OptionList(id="search-results")
             yield Static(id="search-caution")
 
@@ -264,7 +264,9 @@ class SearchScreen(ModalScreen[str | None]):
             note = f"no node matches '{event.value.strip()}': try other words, or Esc to go back"
         elif matches and matches[0].score < SEARCH_CLOSE_SCORE:
             note = f"no close match for '{event.value.strip()}': these are distant guesses"
-        self.query_one("#search-note", Static).update(Text(note, style="bold yellow"))
+        shown = self.query_one("#search-note", Static)
+        shown.update(Text(note, style="bold yellow"))
+        shown.display = bool(note)  # no blank line above the results when all is well
         for match in matches:
             label = Text(f"{match.score:5.1f}  {tree.path_text(match.node.id)}")
             if not match.is_name:
@@ -341,6 +343,7 @@ class ReviewApp(App[None]):
                      border: thick $accent; padding: 0 1; background: $surface; }
     #search-results { height: 1fr; }
     #search-caution, #search-note { height: auto; }
+    #search-note { display: none; }
     .hint { color: $text-muted; margin-top: 1; }
     """
 
