@@ -11,9 +11,10 @@ from pathlib import Path
 from typing import Any
 
 import pytest
+from rich.cells import cell_len
 from rich.text import Text
 from textual import events
-from textual.widgets import OptionList, Static
+from textual.widgets import Input, OptionList, Static
 
 from catmap.attributes import RESTRICTION_CAUTION
 from catmap.errors import ReviewError, StoreError
@@ -32,7 +33,12 @@ from catmap.review.sample import (
     T_SHIRTS,
     build_sample_store,
 )
-from catmap.review.session import ReviewSession, _audience_source, _brand_source
+from catmap.review.session import (
+    REASON_TEXT,
+    ReviewSession,
+    _audience_source,
+    _brand_source,
+)
 from catmap.store import MappedRow, ReviewItem, Store
 from catmap.tree.taxonomy import CategoryTree, load_default_tree
 
@@ -531,9 +537,7 @@ def test_choosing_a_t_shirt_node_for_a_wine_clears_the_flag(
     assert (again.mapping.node_id, again.attributes.restriction) == (RED_WINE, "alcohol")
 
 
-def test_an_explicit_who_is_kept_where_it_applies(
-    memory_store: Store, tree: CategoryTree
-) -> None:
+def test_an_explicit_who_is_kept_where_it_applies(memory_store: Store, tree: CategoryTree) -> None:
     memory_store.accept_group("setup", SAMPLE_FEED, BOOT_GROUP)
     session = _session(memory_store, tree)
     session.next()  # the wine
@@ -828,9 +832,7 @@ async def test_direct_keys_set_each_who_and_age_value(store: Store, tree: Catego
 
 
 @sync
-async def test_attributes_say_where_each_value_came_from(
-    store: Store, tree: CategoryTree
-) -> None:
+async def test_attributes_say_where_each_value_came_from(store: Store, tree: CategoryTree) -> None:
     app = ReviewApp(_session(store, tree))
     async with app.run_test(size=(160, 45)) as pilot:
         assert set(app.session.sources()) == {"brand", "who", "age", "colour"}
@@ -980,8 +982,9 @@ async def test_r_rejects_the_candidate_brand_and_takes_it_off_its_products(
         await pilot.press("q")
 
 
-def test_a_brand_a_reviewer_set_is_left_alone_by_the_verdict(memory_store: Store,
-                                                               tree: CategoryTree) -> None:
+def test_a_brand_a_reviewer_set_is_left_alone_by_the_verdict(
+    memory_store: Store, tree: CategoryTree
+) -> None:
     session = _session(memory_store, tree)
     session.next()
     session.set_brand("Ostravel Works")
@@ -1005,8 +1008,9 @@ def test_only_a_candidate_brand_takes_a_verdict(memory_store: Store, tree: Categ
     assert session.candidate_brand() == ""
     with pytest.raises(ReviewError, match="'Valle Serena' is dictionary, not a candidate"):
         session.reject_brand()
-    assert [r["status"] for r in memory_store.brand_records() if r["name"] == "Valle Serena"] \
-        == ["confirmed"]
+    assert [r["status"] for r in memory_store.brand_records() if r["name"] == "Valle Serena"] == [
+        "confirmed"
+    ]
 
 
 @sync
@@ -1397,3 +1401,229 @@ def test_the_finish_shows_the_clock_today_the_weekday_within_a_week_else_the_day
     tomorrow = start + timedelta(days=1, hours=-3)
     assert finish_label(tomorrow, start) == tomorrow.strftime("%a ") + "06:00"
     assert finish_label(start + timedelta(days=9), start) == "in 9 days"
+
+
+# -- long, wide and right-to-left text; deep nodes; resizing -----------------------------------
+
+ESPRESSO_MACHINES = "4057"  # Cooking and home living > … > Espresso machines > Bean-to-cup …
+PORTAFILTER_MACHINES = "4058"  # the deepest path of tree version 1 (120 characters)
+PLANT_PROTEIN = "3525"
+LONG_TITLE = (
+    "Velmora ultra quiet lightweight all-season portafilter espresso machine with stainless "
+    "steel housing, dual boiler, integrated conical burr grinder, pressure gauge, hot water "
+    "spout, cup warmer, milk jug, tamper, cleaning tablets and a name that goes on and on "
+    "until it reaches three hundred characters in all, as some feeds do"
+)[:300]
+EDGE_PRODUCTS = (
+    # id, title, node, alternatives, brand, price, reasons, retailer path
+    ("ED-LONG", LONG_TITLE, PORTAFILTER_MACHINES, (ESPRESSO_MACHINES, PLANT_PROTEIN),
+     "Velmora", "899.00", ("low_confidence", "audit_over_target", "brand_candidate"),
+     ("Kitchen", "Coffee", "Espresso and more espresso machines for the home barista")),
+    ("ED-CJK", "全自動エスプレッソマシン 豆から挽きたてのコーヒーを毎日楽しめる高級モデル 黒色",
+     ESPRESSO_MACHINES, (PORTAFILTER_MACHINES,), "黒川珈琲", "54800", ("low_confidence",),
+     ("家電", "キッチン家電", "コーヒー売り場")),
+    ("ED-RTL", "מכונת אספרסו ביתית עם מטחנה – ماكينة إسبريسو منزلية مع مطحنة",
+     PORTAFILTER_MACHINES, (), "", "", ("brand_conflict",), ("מטבח", "קפה")),
+)  # fmt: skip
+
+
+def _edge_store(path: Path) -> Store:
+    """Products whose text is long, wide (CJK), accented or right to left, on deep nodes."""
+    from decimal import Decimal
+
+    store = Store.open(path)
+    feed = store.add_feed("shop-edge")
+    run = store.start_run("onboard", feed=feed)
+    rows = []
+    for rank, (product_id, title, node, others, brand, price, reasons, path_parts) in enumerate(
+        EDGE_PRODUCTS
+    ):
+        product = Product(
+            product_id, title, description=f"{title}. Invented.", brand=brand,
+            price=Decimal(price) if price else None, currency="EUR" if price else None,
+            category_path=path_parts,
+        )  # fmt: skip
+        alternatives = tuple(Alternative(n, 0.2) for n in (node, *others))
+        rows.append(
+            MappedRow(
+                product=product,
+                mapping=Mapping(node, 0.42, "model", alternatives),
+                attributes=Attributes(brand=brand),
+                status="queued",
+                group_key=" > ".join(path_parts),
+                priority=10.0 - rank,
+                reasons=reasons,
+            )
+        )
+    store.save_mapped(feed, run, rows, tree_version="1")
+    return store
+
+
+def _drawn_lines(app: ReviewApp, widget_id: str) -> list[str]:
+    """The lines inside a panel as the screen draws them (what does not fit is not drawn)."""
+    panel = app.query_one(f"#{widget_id}", Static)
+    return [panel.render_line(y).text.rstrip() for y in range(panel.content_size.height)]
+
+
+@pytest.mark.parametrize("size", [(80, 24), (160, 45)])
+@sync
+async def test_a_long_title_leaves_every_reason_and_the_whole_node_path_in_sight(
+    tmp_path: Path, tree: CategoryTree, size: tuple[int, int]
+) -> None:
+    with _edge_store(tmp_path / "store.sqlite") as store:
+        app = ReviewApp(_session(store, tree))
+        async with app.run_test(size=size) as pilot:
+            await pilot.pause()
+            assert app.session.current is not None
+            assert app.session.current.product.product_id == "ED-LONG"
+            _assert_laid_out(app, size)
+            product = _drawn_lines(app, "product")
+            shown = " ".join(" ".join(product).split())
+            # Every reason shows, after the id, each at least by its name.
+            for name in ("low confidence", "audit over target", "brand candidate"):
+                assert name in shown
+            assert "id ED-LONG · feed shop-edge" in product
+            assert product[0].startswith("Velmora ultra quiet")
+            # Shortened at a word: every line ending in "…" ends on a whole word.
+            words = set(LONG_TITLE.replace(",", " ").split()) | set(
+                " ".join(REASON_TEXT.values()).replace(",", " ").split()
+            )
+            for line in product:
+                if line.endswith("…"):
+                    assert line[:-1].split()[-1] in words, line
+            if size[0] >= 160:  # room for each reason in full, over two lines if need be
+                assert REASON_TEXT["brand_candidate"] in shown
+            # The suggested node: its top level and its own name, never cut inside a word.
+            suggestion = " ".join(_drawn_lines(app, "suggestion"))
+            assert "Cooking and home living >" in suggestion
+            assert "> Portafilter espresso machines" in suggestion
+            for line in _drawn_lines(app, "suggestion") + product:
+                assert cell_len(line) <= app.query_one("#product", Static).content_size.width
+            await pilot.press("q")
+
+
+@sync
+async def test_wide_and_right_to_left_text_fits_its_lines_at_80x24(
+    tmp_path: Path, tree: CategoryTree
+) -> None:
+    with _edge_store(tmp_path / "store.sqlite") as store:
+        app = ReviewApp(_session(store, tree))
+        async with app.run_test(size=(80, 24)) as pilot:
+            await pilot.press("s")  # on to the CJK product
+            await pilot.pause()
+            assert app.session.current is not None
+            assert app.session.current.product.product_id == "ED-CJK"
+            _assert_laid_out(app, (80, 24))
+            product = _drawn_lines(app, "product")
+            width = app.query_one("#product", Static).content_size.width
+            # The retailer path is one line of at most the panel's cells (two per character),
+            # keeping its top and its last name.
+            (retailer,) = [line for line in product if line.startswith("retailer ")]
+            assert retailer == "retailer 家電 > … > コーヒー売り場"
+            assert cell_len(retailer) <= width
+            assert all(cell_len(line) <= width for line in product)
+            assert "brand 黒川珈琲 · price 54800 EUR" in product
+            # A brand with no trust level and no confidence shows no empty brackets.
+            attributes = _drawn_lines(app, "attributes")
+            assert attributes[0].startswith("brand  黒川珈琲 · ")
+            assert "()" not in attributes[0]
+            await pilot.press("s")  # the right-to-left product, with no brand and no price
+            await pilot.pause()
+            product = _drawn_lines(app, "product")
+            assert product[0].startswith("מכונת אספרסו ביתית")
+            assert "brand — · price —" in product
+            assert any(line.startswith("queued brand conflict:") for line in product)
+            await pilot.press("q")
+
+
+@sync
+async def test_a_resize_draws_the_item_at_the_new_size(store: Store, tree: CategoryTree) -> None:
+    app = ReviewApp(_session(store, tree))
+    async with app.run_test(size=(80, 24)) as pilot:
+        await pilot.pause()
+        path = "Shoes, boots and sandals > Boots > Ankle boots"
+        assert path not in _drawn_lines(app, "suggestion")  # wrapped at 80 columns
+        assert "availability" not in _screen_text(app, "product")
+        await pilot.resize_terminal(200, 50)
+        await pilot.pause()
+        # Drawn for 200×50 at once, not for the size before: the path on one line, the feed's
+        # fields and the group's waiting products in the room there is now.
+        assert _drawn_lines(app, "suggestion")[0] == path
+        assert "availability" in _screen_text(app, "product")
+        assert "also waiting in this group" in _screen_text(app, "group")
+        _assert_laid_out(app, (200, 50))
+        await pilot.resize_terminal(80, 24)
+        await pilot.pause()
+        assert "availability" not in _screen_text(app, "product")
+        assert "also waiting in this group" not in _screen_text(app, "group")
+        assert _drawn_lines(app, "suggestion")[:2] == [
+            "Shoes, boots and sandals > Boots >",
+            "Ankle boots",
+        ]
+        _assert_laid_out(app, (80, 24))
+        await pilot.press("q")
+
+
+# -- the tree search when nothing matches -----------------------------------------------------
+
+
+@sync
+async def test_search_says_when_nothing_or_nothing_close_matches(
+    store: Store, tree: CategoryTree
+) -> None:
+    app = ReviewApp(_session(store, tree))
+    async with app.run_test(size=(80, 24)) as pilot:
+        await pilot.press("slash")
+        await pilot.pause()
+        search = app.screen
+        box = search.query_one("#search-input", Input)
+        note = search.query_one("#search-note", Static)
+        results = search.query_one("#search-results", OptionList)
+        box.value = "зонт"  # no term of the tree is written in Cyrillic
+        await pilot.pause()
+        assert results.option_count == 0
+        assert "no node matches 'зонт'" in str(note.render()) and note.display
+        await pilot.press("enter")  # nothing to pick: nothing happens
+        await pilot.pause()
+        assert app.screen is search and store.decisions() == []
+        box.value = "zzqxw"
+        await pilot.pause()
+        assert results.option_count > 0
+        assert "no close match for 'zzqxw'" in str(note.render())
+        box.value = "bottines"  # a French synonym of the tree
+        await pilot.pause()
+        assert str(note.render()).strip() == "" and not note.display
+        highlighted = results.get_option_at_index(results.highlighted or 0).id
+        assert highlighted == ANKLE_BOOTS
+        await pilot.press("escape")
+        await pilot.pause()
+        assert app.screen is not search
+        assert "search cancelled" in _screen_text(app, "message")
+        assert store.decisions() == []
+        await pilot.press("q")
+
+
+def test_text_is_shortened_at_words_and_paths_lose_their_middle_first() -> None:
+    from catmap.review._fit import fit, fit_path, wrap, wrap_path
+
+    path = (
+        "Cooking and home living > Small kitchen appliances > Coffee machines > Espresso machines"
+    )
+    assert fit_path(path, 60) == "Cooking and home living > … > Espresso machines"
+    assert fit_path(path, 30) == "… > Espresso machines"
+    assert fit_path(path, 17) == "Espresso machines"
+    assert fit_path(path, 12) == "Espresso…"
+    assert fit("low confidence: the model is unsure", 20) == "low confidence: the…"
+    assert cell_len(fit("豆から挽きたてのコーヒー", 9)) <= 9
+    assert wrap("a brand no person has confirmed yet", 12) == [
+        "a brand no",
+        "person has",
+        "confirmed",
+        "yet",
+    ]
+    assert wrap("a brand no person has confirmed yet", 12, 2) == ["a brand no", "person has…"]
+    assert wrap_path(path, 30, 3) == [
+        "Cooking and home living > … >",
+        "Coffee machines >",
+        "Espresso machines",
+    ]

@@ -12,9 +12,13 @@ through the store (one transaction each) and reads the item back. Layout, from t
   numbered alternatives, and the retailer category group with its consensus;
 - a message line, then two lines of keys (every key the screen takes, always visible).
 
-The layout fits an 80×24 terminal: each attribute, path and source is one line cut to the
-column's width (a path keeps its end, the node's own name), and the product panel gives up its
-description first. A larger terminal shows the whole description and the feed's own fields.
+The layout fits an 80×24 terminal, measured in cells (CJK text takes two each): each
+attribute, path and source is one line shortened to the column's width at a word boundary (a
+path gives up its middle segments first, keeping its top and the node's own name); the suggested
+node's path takes up to three lines; the title and the reasons for queueing share the product
+panel (a long title is shortened, never the reasons pushed out), which gives up its description
+first. A larger terminal shows the whole description and the feed's own fields. A resize draws
+the item again at the new size.
 
 Product text is shown as plain text (never read as markup): feeds contain brackets.
 
@@ -30,22 +34,28 @@ from collections.abc import Callable
 from datetime import datetime
 from typing import ClassVar
 
+from rich.cells import cell_len
 from rich.text import Text
 from textual import events
 from textual.app import App, ComposeResult
 from textual.binding import Binding, BindingType
 from textual.containers import Horizontal, Vertical
+from textual.geometry import Size
 from textual.screen import ModalScreen
 from textual.widgets import Input, OptionList, Static
 from textual.widgets.option_list import Option
 
 from catmap.errors import CatmapError
 from catmap.records import AGE_VALUES, WHO_VALUES
+from catmap.review._fit import fit, fit_path, wrap, wrap_path
 from catmap.review.session import MAX_ALTERNATIVES, REASON_TEXT, ReviewSession
 from catmap.store import ReviewView
 
 BAR_WIDTH = 20
 SEARCH_LIMIT = 12
+# Below this score (0..100) the best search match is only a distant guess, and the dialog says
+# so: random letters still find something ("zzqxw" scores 48 against "fizzy water").
+SEARCH_CLOSE_SCORE = 60.0
 # Below this size the screen drops the description and the feed fields.
 ROOMY_WIDTH = 120
 ROOMY_HEIGHT = 36
@@ -100,28 +110,6 @@ def keys_text() -> Text:
             text.append(key, style="bold reverse")
             text.append(f" {label}")
     return text
-
-
-def fit(text: str, width: int) -> str:
-    """``text`` cut to ``width`` cells with an ellipsis at the end."""
-    return text if len(text) <= width else text[: max(width - 1, 0)] + "…"
-
-
-def fit_path(text: str, width: int) -> str:
-    """A path cut to ``width`` cells so that the node's own name stays.
-
-    Levels are left out from the middle first ("Workshop > … > Hand saws > Pull saws"), so that
-    a deep path (a tree of one's own may run ten levels deep) still shows its department; when
-    even the department, "…" and the last name do not fit, the path is cut from the start.
-    """
-    if len(text) <= width:
-        return text
-    names = text.split(" > ")
-    for keep in range(len(names) - 2, 0, -1):
-        short = " > ".join([names[0], "…", *names[-keep:]])
-        if len(short) <= width:
-            return short
-    return "…" + text[-max(width - 1, 0) :]
 
 
 def confidence_bar(confidence: float, width: int = BAR_WIDTH) -> str:
@@ -260,8 +248,9 @@ class SearchScreen(ModalScreen[str | None]):
 
     def compose(self) -> ComposeResult:
         with Vertical(id="search-dialog"):
-            yield Static(Text("Find a node: type words in any language; ↑↓ move, Enter picks"))
+            yield Static(Text("Find a node, in any language: ↑↓ move · Enter picks · Esc back"))
             yield Input(placeholder="e.g. ankle boot, bottines, Stiefelette", id="search-input")
+            yield Static(id="search-note")  # shown only when it has something to say
             yield OptionList(id="search-results")
             yield Static(id="search-caution")
 
@@ -269,7 +258,16 @@ class SearchScreen(ModalScreen[str | None]):
         results = self.query_one("#search-results", OptionList)
         results.clear_options()
         tree = self.session.tree
-        for match in self.session.search(event.value, limit=SEARCH_LIMIT):
+        matches = self.session.search(event.value, limit=SEARCH_LIMIT)
+        note = ""
+        if event.value.strip() and not matches:
+            note = f"no node matches '{event.value.strip()}': try other words, or Esc to go back"
+        elif matches and matches[0].score < SEARCH_CLOSE_SCORE:
+            note = f"no close match for '{event.value.strip()}': these are distant guesses"
+        shown = self.query_one("#search-note", Static)
+        shown.update(Text(note, style="bold yellow"))
+        shown.display = bool(note)  # no blank line above the results when all is well
+        for match in matches:
             label = Text(f"{match.score:5.1f}  {tree.path_text(match.node.id)}")
             if not match.is_name:
                 label.append(f"   ({match.language}: {match.term})", style="dim")
@@ -344,7 +342,8 @@ class ReviewApp(App[None]):
     #search-dialog { width: 100%; max-width: 100; height: 100%; max-height: 30;
                      border: thick $accent; padding: 0 1; background: $surface; }
     #search-results { height: 1fr; }
-    #search-caution { height: auto; }
+    #search-caution, #search-note { height: auto; }
+    #search-note { display: none; }
     .hint { color: $text-muted; margin-top: 1; }
     """
 
@@ -383,6 +382,9 @@ class ReviewApp(App[None]):
         self._closed = False
         # Keys pressed between ``b`` and the brand dialog taking them (None: not opening).
         self._typed_ahead: list[events.Key] | None = None
+        # The terminal's size as the last resize event gave it: this screen's resize handler
+        # runs before the app's own, while ``self.size`` still holds the size before.
+        self._terminal_size: Size | None = None
 
     # -- keys typed ahead of the brand dialog ---------------------------------------------------
 
@@ -479,28 +481,60 @@ class ReviewApp(App[None]):
             text.rstrip()  # no blank last line inside a panel
             panels[name].update(text)
 
+    def _screen_size(self) -> Size:
+        return self._terminal_size or self.size
+
     def _inner_width(self) -> int:
         """Cells inside a panel: half the screen less the border and padding."""
-        return max(self.size.width // 2 - 4, 16)
+        return max(self._screen_size().width // 2 - 4, 16)
 
     def _roomy(self) -> bool:
-        return self.size.width >= ROOMY_WIDTH and self.size.height >= ROOMY_HEIGHT
+        size = self._screen_size()
+        return size.width >= ROOMY_WIDTH and size.height >= ROOMY_HEIGHT
 
     def on_resize(self, event: events.Resize) -> None:
+        self._terminal_size = event.size
         self.render_item()
+
+    def _product_room(self, view: ReviewView) -> int:
+        """Lines inside the product panel: the columns less the attributes panel and borders."""
+        columns = self._screen_size().height - 4  # top line, message, two key lines
+        attributes = self._attributes_text(view)
+        attributes.rstrip()
+        used = len(attributes.wrap(self.console, self._inner_width())) + 2
+        return max(columns - used - 2, 3)
 
     def _product_text(self, view: ReviewView) -> Text:
         product = view.product
         width = self._inner_width()
         text = Text()
-        text.append(product.title + "\n", style="bold")
+        codes = view.item.reasons or (view.item.reason,)
+        reasons = [REASON_TEXT.get(code, code) for code in codes]
+        title_full = len(wrap(product.title, width))
+        reason_full = [len(wrap(reason, width - 7)) for reason in reasons]
+        # The title and the reasons share the lines the other product lines leave: one line
+        # each at least, then up to three for the title, then the whole reasons, then the
+        # rest of the title (a long title never pushes why the item is queued out of sight).
+        spare = self._product_room(view) - 3 - (1 if view.item.skips else 0)
+        spare -= 1 + len(reasons)
+        title_lines = 1 + max(min(min(title_full, 3) - 1, spare), 0)
+        spare -= title_lines - 1
+        reason_lines = []
+        for full in reason_full:
+            more = max(min(full - 1, spare), 0)
+            reason_lines.append(1 + more)
+            spare -= more
+        title_lines += max(min(title_full - title_lines, spare), 0)
+        text.append("\n".join(wrap(product.title, width, title_lines)) + "\n", style="bold")
         price = f"{product.price} {product.currency or ''}".strip() if product.price else "—"
         text.append(fit(f"brand {product.brand or '—'} · price {price}", width) + "\n")
         text.append("retailer " + fit_path(view.retailer_path or "—", width - 9) + "\n")
         text.append(fit(f"id {product.product_id} · feed {view.item.feed_name}", width) + "\n")
-        for number, code in enumerate(view.item.reasons or (view.item.reason,)):
-            text.append("queued " if number == 0 else "       ", style="bold")
-            text.append(fit(REASON_TEXT.get(code, code), width - 7) + "\n", style="bold yellow")
+        for number, (reason, lines) in enumerate(zip(reasons, reason_lines, strict=True)):
+            for index, line in enumerate(wrap(reason, width - 7, lines)):
+                lead = "queued " if number == 0 and index == 0 else "       "
+                text.append(lead, style="bold")
+                text.append(line + "\n", style="bold yellow")
         if view.item.skips:
             text.append(f"skipped {view.item.skips}×\n", style="dim")
         if self._roomy():
@@ -537,7 +571,7 @@ class ReviewApp(App[None]):
                 shown = f"{shown} → {fixed or '—'}"
             line = f"{label:<7}{shown}"
             text.append(fit(line, width), style="bold green" if fixed is not None else "")
-            room = width - len(line) - 3
+            room = width - cell_len(line) - 3
             if source and room >= 6:
                 text.append(f" · {fit(source, room)}", style="dim")
             text.append("\n")
@@ -545,26 +579,31 @@ class ReviewApp(App[None]):
         brand = attributes.brand
         if brand:
             trust = BRAND_STATUS_TEXT.get(attributes.brand_status, attributes.brand_status)
-            confidence = (
-                f"{attributes.brand_confidence:.0%}, " if attributes.brand_confidence else ""
-            )
-            brand = f"{brand} ({confidence}{trust})"
+            confidence = f"{attributes.brand_confidence:.0%}" if attributes.brand_confidence else ""
+            # A brand with neither a confidence nor a trust level shows no empty "()".
+            notes = ", ".join(note for note in (confidence, trust) if note)
+            if notes:
+                brand = f"{brand} ({notes})"
         row("brand", brand, pending.brand, sources["brand"])
         if self.session.candidate_brand():
             if self.session.candidate_shop_name() is not None:
                 # Onboarding found the shop writing its own name in the brand field: seldom
                 # a brand, so the reviewer is told before pressing c.
-                text.append(fit("       the feed's own shop name", width) + "\n",
-                            style="bold yellow")
+                text.append(
+                    fit("       the feed's own shop name", width) + "\n", style="bold yellow"
+                )
             text.append(fit("       c confirm · r not a brand", width) + "\n", style="yellow")
             if self.session.waits_for_brand():
-                text.append(fit("       queued for this brand alone: c or r settles it", width)
-                            + "\n", style="yellow")
+                text.append(
+                    fit("       queued for this brand alone: c or r settles it", width) + "\n",
+                    style="yellow",
+                )
         row("who", attributes.who, pending.who, sources["who"])
         row("age", attributes.age, pending.age, sources["age"])
         if attributes.audience_conflict:
-            text.append(fit("       text and node disagree on who / age", width) + "\n",
-                        style="yellow")
+            text.append(
+                fit("       text and node disagree on who / age", width) + "\n", style="yellow"
+            )
         row("colour", attributes.colour_family, None, sources["colour"])
         row("flag", attributes.restriction or "none", None, "")
         if self._roomy():
@@ -588,15 +627,19 @@ class ReviewApp(App[None]):
         mapping = view.mapping
         width = self._inner_width()
         text = Text()
-        text.append(fit_path(session.path_text(mapping.node_id), width) + "\n", style="bold")
+        # The node on offer is the decision: its whole path over up to three lines, middle
+        # segments giving way only when it needs more.
+        for line in wrap_path(session.path_text(mapping.node_id), width, 3):
+            text.append(line + "\n", style="bold")
         flag = session.restriction(mapping.node_id)
         if flag:
-            text.append(fit(f"restricted node: {flag} (see the caution)", width) + "\n",
-                        style="bold yellow")
+            text.append(
+                fit(f"restricted node: {flag} (see the caution)", width) + "\n", style="bold yellow"
+            )
         bar = confidence_bar(mapping.confidence, max(min(BAR_WIDTH, width - 16), 4))
         text.append(fit(f"{mapping.confidence:6.1%}  {bar}  {mapping.method}", width) + "\n")
         if mapping.reason:
-            text.append(fit(mapping.reason, width) + "\n", style="dim")
+            text.append("\n".join(wrap(mapping.reason, width, 2)) + "\n", style="dim")
         alternatives = mapping.alternatives[:MAX_ALTERNATIVES]
         if alternatives:
             text.append("alternatives\n", style="underline")
@@ -639,14 +682,14 @@ class ReviewApp(App[None]):
                 leaf = session.path_text(node_id).rsplit(" > ", 1)[-1]
                 line = f"{confidence:4.0%} {leaf} ← "
                 text.append(line, style="dim")
-                text.append(fit(title, width - len(line)) + "\n")
+                text.append(fit(title, width - cell_len(line)) + "\n")
         return text
 
     def _group_list_room(self, view: ReviewView) -> int:
         """Lines left in the group panel for the group's other waiting products (0: none)."""
         if not self._roomy():
             return 0
-        columns = self.size.height - 4  # top line, message, two key lines
+        columns = self._screen_size().height - 4  # top line, message, two key lines
         suggestion = len(self._suggestion_text(view).plain.rstrip("\n").split("\n")) + 2
         used = 2 + 5 + 2  # borders, the group's own lines, the list's heading
         return max(columns - suggestion - used, 0)
