@@ -283,3 +283,23 @@ def test_a_blocks_values_are_placed_in_their_columns_times_the_share(
     expected = expected * shares
     got = _placed(values.copy(), np.array(positions), 4, shares)
     assert got.shape == (5, 4) and np.array_equal(got, expected)
+
+
+def test_training_twice_gives_the_same_weights_in_parallel_or_not(tree: CategoryTree) -> None:
+    # liblinear shuffles with the C library's one global generator: per-department classifiers
+    # trained at once in threads of one process drew from it in turn and came out different
+    # from run to run. Noisy labels keep each solver busy long enough for runs to overlap.
+    rng = np.random.default_rng(0)
+    train, labels = texts_and_labels(labelled_rows(3000, seed=3))
+    leaves = sorted(set(labels))
+    noisy = [str(rng.choice(leaves)) if rng.random() < 0.3 else label for label in labels]
+
+    def weights(n_jobs: int) -> tuple[np.ndarray[Any, Any], ...]:
+        model = CategoryModel(tree=tree, min_df=1, n_jobs=n_jobs, C=5.0).fit(train, noisy)
+        coef = model.class_coef_
+        return coef.indptr, coef.indices, coef.data, model.class_intercept_
+
+    serial = weights(1)
+    for _ in range(3):
+        parallel = weights(2)
+        assert all(np.array_equal(a, b) for a, b in zip(serial, parallel, strict=True))

@@ -20,8 +20,8 @@ departments share their department's (small) probability evenly.
 
 from __future__ import annotations
 
-from collections.abc import Sequence
-from concurrent.futures import ThreadPoolExecutor
+import multiprocessing
+from collections.abc import Iterator, Sequence
 from dataclasses import dataclass
 from typing import Any
 
@@ -110,7 +110,8 @@ class CategoryModel:
         department_sample: the department classifier learns from at most this many of the
             training products (a seeded sample; None = all).
         random_state: seed.
-        n_jobs: threads training the per-department classifiers.
+        n_jobs: processes training the per-department classifiers (forked; 1 = in this
+            process).
 
     Attributes:
         featurizer_: the fitted :class:`ProductFeaturizer`.
@@ -288,19 +289,14 @@ class CategoryModel:
             y = np.array([local[label] for label in label_array[rows]])
             jobs.append((rows, y, len(group_labels)))
 
-        def train_group(job: tuple[Array, Array, int]) -> tuple[sp.csr_matrix, Array]:
-            rows, y, k = job
-            if k == 1:
-                return sp.csr_matrix((n_features, 1), dtype=np.float32), np.zeros(1, np.float32)
-            return self._train_level(features[rows], y, k)
-
-        # liblinear releases the GIL while it trains: threads use both cores, no copies.
-        with ThreadPoolExecutor(max_workers=self.n_jobs) as pool:
-            trained = list(pool.map(train_group, sorted(jobs, key=lambda j: -len(j[0]))))
-        by_size = sorted(range(len(jobs)), key=lambda i: -len(jobs[i][0]))
-        ordered: list[tuple[sp.csr_matrix, Array]] = [trained[0]] * len(jobs)
-        for position, i in enumerate(by_size):
-            ordered[i] = trained[position]
+        one_class = (sp.csr_matrix((n_features, 1), dtype=np.float32), np.zeros(1, np.float32))
+        ordered: list[tuple[sp.csr_matrix, Array]] = [one_class] * len(jobs)
+        # Largest first, so that the last job to start is a small one.
+        todo = sorted(
+            (i for i, job in enumerate(jobs) if job[2] > 1), key=lambda i: -len(jobs[i][0])
+        )
+        for i, trained in zip(todo, _train_groups(self, features, jobs, todo), strict=True):
+            ordered[i] = trained
         coefs = [c for c, _ in ordered]
         intercepts = [b for _, b in ordered]
         self.linear_classes_ = np.array(class_columns, dtype=np.int64)
@@ -728,6 +724,52 @@ class CategoryModel:
             "department_floor": self.department_floor,
         }
         return self
+
+
+# What the forked training processes read: set just before they fork, so they share it.
+_TRAINING: dict[str, Any] = {}
+
+
+def _train_groups(
+    model: CategoryModel,
+    features: sp.csr_matrix,
+    jobs: list[tuple[Array, Array, int]],
+    order: list[int],
+) -> Iterator[tuple[sp.csr_matrix, Array]]:
+    """Train the per-department classifiers ``order`` of ``jobs``; yield them in that order.
+
+    With ``model.n_jobs`` above 1 they are trained in forked processes, not threads: liblinear
+    draws its random order from the C library's single global generator, so classifiers
+    trained at once in threads of one process interleave their draws, and the same data and
+    seed gave other weights from run to run. Each process reseeds it per classifier. A process
+    that may not fork (no "fork" start method, or itself a daemonic worker) trains them one
+    after the other, which gives the same weights.
+    """
+    workers = min(model.n_jobs, len(order))
+    can_fork = (
+        "fork" in multiprocessing.get_all_start_methods()
+        and not multiprocessing.current_process().daemon
+    )
+    if workers <= 1 or not can_fork:
+        for i in order:
+            rows, y, k = jobs[i]
+            yield model._train_level(features[rows], y, k)
+        return
+    _TRAINING.update(model=model, features=features, jobs=jobs)
+    try:
+        with multiprocessing.get_context("fork").Pool(workers) as pool:
+            yield from pool.imap(_train_group, order, chunksize=1)
+    finally:
+        _TRAINING.clear()
+
+
+def _train_group(index: int) -> tuple[sp.csr_matrix, Array]:
+    """One department's classifier, in a forked training process (see :func:`_train_groups`)."""
+    rows, y, k = _TRAINING["jobs"][index]
+    trained: tuple[sp.csr_matrix, Array] = _TRAINING["model"]._train_level(
+        _TRAINING["features"][rows], y, k
+    )
+    return trained
 
 
 class _WordScores:
