@@ -15,8 +15,10 @@ from click.testing import CliRunner, Result
 
 from catmap.cli import main
 from catmap.errors import EXIT_STORE, TreeVersionMismatch
+from catmap.jobs._project_tree import open_project_tree
 from catmap.jobs._remap_versions import check_onboarding
 from catmap.jobs.review import project_review_session
+from catmap.project import load_settings
 from catmap.records import Mapping, Product
 from catmap.store import MappedRow, Store, store_path
 
@@ -143,7 +145,18 @@ def test_a_project_of_ones_own_remaps_from_its_own_tree(tmp_path: Path) -> None:
     # stored version (export, review, decisions) read the remapped mappings on it.
     kept = folder / "tree-v2.txt"
     assert kept.read_bytes() == Path(NEW).read_bytes()
-    assert _run("remap-finalise", "--project", str(folder)).exit_code == 0
+    first = (folder / "tree.txt").read_bytes()
+    finalised = _run("remap-finalise", "--project", str(folder))
+    assert finalised.exit_code == 0, finalised.output
+    assert f"The project's tree is now {kept}" in " ".join(finalised.output.split())
+    # From now on the project's own tree is version 2 (no --tree-file needed); version 1 is
+    # kept beside it for the records of that version.
+    assert open_project_tree(folder).version == "2"
+    assert (load_settings(folder).tree_file, load_settings(folder).tree_version) == (
+        "tree-v2.txt",
+        "2",
+    )
+    assert (folder / "tree-v1.txt").read_bytes() == first
     exported = _run("export", "--project", str(folder), "--out", str(tmp_path / "out"))
     assert exported.exit_code == 0, exported.output
     with open(tmp_path / "out" / "shop-a.products.csv", encoding="utf-8", newline="") as handle:

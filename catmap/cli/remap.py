@@ -17,7 +17,7 @@ from catmap.cli._render import console, echo_json, json_option, model_option
 from catmap.cli._render import project_option as _project_option
 from catmap.jobs.remap import (
     RemapReport,
-    finalise_remap,
+    finalise_project_remap,
     open_project_store,
     project_remap_state,
     remap_project,
@@ -204,12 +204,20 @@ def remap_rollback_command(project: str | None, as_json: bool) -> None:
 @json_option
 def remap_finalise_command(project: str | None, as_json: bool) -> None:
     """Keep the last remap for good (the previous mappings are dropped)."""
-    with open_project_store(project_dir(project)) as store:
-        dropped = finalise_remap(store, actor=_actor())
+    dropped, adopted = finalise_project_remap(project_dir(project), actor=_actor())
     if as_json:
-        echo_json({"previous_mappings_dropped": dropped})
+        echo_json(
+            {
+                "previous_mappings_dropped": dropped,
+                "project_tree": str(adopted) if adopted else None,
+            }
+        )
         return
     console.print(f"Finalised: {dropped:,} previous mappings dropped; no rollback now.")
+    if adopted is not None:
+        console.print(
+            f"The project's tree is now {escape(str(adopted))}: train, onboard and map use it."
+        )
 
 
 def register(main: click.Group) -> None:

@@ -8,12 +8,13 @@ Small on purpose: ``catmap map`` takes these from here, so that it does not impo
 
 from __future__ import annotations
 
+import dataclasses
 from pathlib import Path
 from typing import TYPE_CHECKING
 
 from catmap._atomic import write_bytes_atomic
 from catmap.errors import ModelNotTrained, ModelTreeMismatch, TreeError
-from catmap.project import SETTINGS_FILE, feed_name, fingerprint, load_settings
+from catmap.project import SETTINGS_FILE, feed_name, fingerprint, load_settings, save_settings
 from catmap.tree.taxonomy import CategoryTree, load_default_tree, load_tree
 from catmap.tree.treefile import LANGUAGES
 
@@ -187,6 +188,38 @@ def keep_version_tree(project: str | Path, tree: CategoryTree) -> Path | None:
         return target
     write_bytes_atomic(target, source.read_bytes())
     return target
+
+
+def adopt_version_tree(project: str | Path, version: str) -> Path | None:
+    """Make the kept copy of a tree of one's own of ``version`` the project's tree, once the
+    remap to it is final: later commands (train, onboard, map) then use it with no
+    ``--tree-file``. The tree it replaces is kept as ``tree-v{N}.txt`` of its version first,
+    so that the records of that version still find it.
+
+    Returns:
+        The project's tree file now, or None: the project uses the shared tree, the version is
+        already its tree's, or no copy of that version is kept.
+    """
+    settings = load_settings(project)
+    if settings is None or settings.tree_file is None or str(version) == settings.tree_version:
+        return None
+    path = version_tree_path(project, str(version))
+    if not path.is_file():
+        return None
+    old = Path(project) / settings.tree_file
+    kept = version_tree_path(project, settings.tree_version)
+    if old.is_file() and not kept.exists():
+        write_bytes_atomic(kept, old.read_bytes())
+    save_settings(
+        project,
+        dataclasses.replace(
+            settings,
+            tree_file=path.name,
+            tree_version=str(version),
+            tree_fingerprint=fingerprint(path),
+        ),
+    )
+    return path
 
 
 def project_version_tree(project: str | Path, version: str) -> CategoryTree:

@@ -49,7 +49,11 @@ from typing import Any
 
 from catmap.attributes import AttributeExtractor
 from catmap.errors import InputError, StoreError
-from catmap.jobs._project_tree import keep_version_tree, project_version_tree
+from catmap.jobs._project_tree import (
+    adopt_version_tree,
+    keep_version_tree,
+    project_version_tree,
+)
 from catmap.jobs._remap_batch import DEFAULT_MIN_CONFIDENCE, PageRemapper, remap_group_key
 from catmap.jobs._remap_catalog import (
     REMAPPED_CATALOG_COLUMNS,
@@ -80,6 +84,7 @@ __all__ = [
     "RemapReport",
     "RemapScorer",
     "RemapState",
+    "finalise_project_remap",
     "finalise_remap",
     "latest_remap",
     "old_tree_version",
@@ -356,6 +361,24 @@ def open_project_store(project: Path) -> Store:
     if not path.is_file():
         raise StoreError(f"no project store in {project}", hint=NO_STORE_HINT)
     return Store.open(path)
+
+
+def finalise_project_remap(project: Path, *, actor: str = "catmap") -> tuple[int, Path | None]:
+    """Keep a project's pending remap for good (:func:`finalise_remap`); a project of one's own
+    then takes the new tree as its own (:func:`adopt_version_tree`).
+
+    Returns:
+        How many saved previous mappings were dropped, and the project's new tree file (None:
+        the project's tree did not change).
+
+    Raises:
+        StoreError: no store, or no remap waiting to be finalised.
+    """
+    with open_project_store(project) as store:
+        pending = pending_remap(store)
+        dropped = finalise_remap(store, actor=actor)
+    adopted = adopt_version_tree(project, str(pending["to_version"])) if pending else None
+    return dropped, adopted
 
 
 def old_tree_version(store: Store, new_version: str) -> str:
