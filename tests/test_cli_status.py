@@ -3,6 +3,9 @@
 from __future__ import annotations
 
 import json
+import os
+import subprocess
+import sys
 from pathlib import Path
 from typing import Any
 
@@ -90,3 +93,36 @@ def test_status_without_a_store_is_a_store_error(tmp_path: Path) -> None:
     assert "catmap onboard FEED" in result.stderr
     # Run from the wrong folder: the message says how to point at the project.
     assert "--project DIR" in result.stderr and "CATMAP_PROJECT=DIR" in result.stderr
+
+
+STATUS_HEADERS = "feed tree read kept rejected accepted queued reviewed open done".split()
+
+
+def _status_lines(project: Path, columns: int) -> list[str]:
+    """The table lines of `catmap status` printed for a terminal this many columns wide."""
+    run = subprocess.run(
+        [sys.executable, "-m", "catmap", "status", "--project", str(project)],
+        env={**os.environ, "COLUMNS": str(columns)},
+        capture_output=True,
+        text=True,
+        check=True,
+    )
+    lines = run.stdout.splitlines()
+    start = next(i for i, line in enumerate(lines) if line.split()[:2] == ["feed", "tree"])
+    return lines[start : start + 4]  # header, rule, the two feeds
+
+
+def test_status_table_keeps_every_header_whole_in_a_narrow_terminal(
+    world: SmallWorld, tmp_path: Path
+) -> None:
+    project = new_project(world, tmp_path / "p")
+    assert onboard(world, project, "ferravelle").exit_code == 0
+    assert onboard(world, project, "quorvane").exit_code == 0
+    roomy = _status_lines(project, 200)
+    assert roomy[0].split() == STATUS_HEADERS
+    width = max(len(line.rstrip()) for line in roomy)
+    # One column short of the roomy table: the spacing gives way, not the words.
+    narrow = _status_lines(project, width - 1)
+    assert narrow[0].split() == STATUS_HEADERS
+    assert all(len(line) <= width - 1 and "…" not in line for line in narrow)
+    assert [line.split() for line in narrow[2:]] == [line.split() for line in roomy[2:]]

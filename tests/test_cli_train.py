@@ -52,14 +52,13 @@ def test_missing_label_column_is_an_input_error(setup: tuple[Path, Path]) -> Non
     assert "no label column 'node'" in result.stderr
 
 
-def test_a_project_of_ones_own_trains_on_its_remapped_tree_from_the_store(
-    tmp_path: Path,
-) -> None:
+def _own_project_on_version_two(project: Path, status: str) -> Path:
+    """A project of one's own whose store holds 48 mappings on version 2 of its tree, all
+    with ``status``; returns the kept copy of version 2."""
     from catmap.records import Mapping, Product
     from catmap.store import MappedRow, Store, store_path
 
     treediff = Path(__file__).parent / "data" / "treediff"
-    project = tmp_path / "own"
     runner = CliRunner()
     init = runner.invoke(main, ["init", str(project), "--tree", str(treediff / "old.txt")])
     assert init.exit_code == 0, init.output
@@ -75,6 +74,7 @@ def test_a_project_of_ones_own_trains_on_its_remapped_tree_from_the_store(
             MappedRow(
                 product=Product(product_id=f"{node}-{i}", title=f"{title} {i}"),
                 mapping=Mapping(node_id=node, confidence=0.99, method="model"),
+                status=status,
                 group_key="",
             )
             for node, title in titles.items()
@@ -82,6 +82,15 @@ def test_a_project_of_ones_own_trains_on_its_remapped_tree_from_the_store(
         ]
         store.save_mapped("shop-a", run, rows, tree_version="2")
         store.finish_run(run, summary={"threshold": 0.5})
+    return kept
+
+
+def test_a_project_of_ones_own_trains_on_its_remapped_tree_from_the_store(
+    tmp_path: Path,
+) -> None:
+    project = tmp_path / "own"
+    runner = CliRunner()
+    kept = _own_project_on_version_two(project, "accepted")
     # No labelled feeds given: the project's labels are on version 1, so version 2 learns
     # from the store's mappings on it.
     result = runner.invoke(
@@ -92,3 +101,19 @@ def test_a_project_of_ones_own_trains_on_its_remapped_tree_from_the_store(
     assert facts["tree_version"] == "2"
     assert [Path(feed).name for feed in facts["feeds"]] == ["remapped-catalog-v2.jsonl"]
     assert facts["rows_read"] == 48
+
+
+def test_training_on_a_remapped_tree_with_nothing_settled_says_what_to_do(
+    tmp_path: Path,
+) -> None:
+    project = tmp_path / "own"
+    kept = _own_project_on_version_two(project, "queued")
+    result = CliRunner().invoke(
+        main, ["train", "--project", str(project), "--tree-file", str(kept)]
+    )
+    assert result.exit_code == 4, result.output
+    message = " ".join(result.stderr.split())
+    assert "no settled mappings on tree version 2" in message
+    # The remap is done already: the way out is reviewing or labelled feeds, not another remap.
+    assert "its 48 mappings on this version all wait for review" in message
+    assert "catmap remap" not in message

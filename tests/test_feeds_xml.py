@@ -130,6 +130,20 @@ def test_entity_bomb_is_refused_before_parsing() -> None:
     assert info.value.hint and "without a DTD" in info.value.hint
 
 
+def test_entity_error_says_what_it_found_once(tmp_path: Path) -> None:
+    """The hint says what to try; it neither repeats the message nor claims entities a DTD
+    too large to check may not have."""
+    with pytest.raises(UnsafeFeedError) as info:
+        open_feed(DATA / "bad" / "billion_laughs.xml")
+    assert str(info.value).count("declares XML entities") == 1
+    large = tmp_path / "large_dtd.xml"
+    comment = "<!-- " + "x" * 2_000_000 + " -->"
+    large.write_text(f'<?xml version="1.0"?>\n<!DOCTYPE shop [\n{comment}\n')
+    with pytest.raises(UnsafeFeedError, match="too large to check") as too_large:
+        open_feed(large)
+    assert "declares" not in str(too_large.value)
+
+
 def test_external_entity_is_refused_and_never_read(tmp_path: Path) -> None:
     secret = tmp_path / "secret.txt"
     secret.write_text("TOP-SECRET-VALUE")

@@ -9,13 +9,31 @@ from collections.abc import Mapping
 from datetime import date, datetime
 from decimal import Decimal
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import click
 from rich.console import Console
 
+if TYPE_CHECKING:
+    from rich.table import Table
+
 console = Console(highlight=False)
 err_console = Console(stderr=True, highlight=False)
+
+_UNBOUNDED = 100_000
+
+
+def fit_table(table: Table) -> Table:
+    """Drop a table's cell padding when it is wider than the terminal, then return it.
+
+    Columns that must stay whole (``no_wrap``: counts, feed names) would otherwise be cut to
+    ``accept…`` in an 80-column terminal; without the padding each column is still set apart
+    by the box's column divider.
+    """
+    wide = console.options.update_width(_UNBOUNDED)
+    if console.measure(table, options=wide).maximum > console.width:
+        table.padding = (0, 0)
+    return table
 
 
 def spinner(*middle: str) -> Any:
@@ -72,6 +90,7 @@ def model_option(help_text: str) -> Any:
         type=click.Path(file_okay=False, path_type=Path),
         help=help_text,
     )
+
 
 feed_name_option = click.option(
     "--feed",

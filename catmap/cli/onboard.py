@@ -21,6 +21,7 @@ from catmap.cli._render import (
     echo_json,
     err_console,
     feed_name_option,
+    fit_table,
     json_option,
     spinner,
     tree_file_option,
@@ -382,7 +383,7 @@ def status_command(project: str | None, feed: str | None, as_json: bool) -> None
             number(f["accepted"]), number(f["queued"]), number(f["reviewed"]),
             number(f["open_items"]), number(f["done_items"]),
         )
-    _say(table)
+    _say(fit_table(table))
     _say(
         "queued / reviewed count products by mapping state; open / done count review items, "
         "which also check accepted products (brand conflict, audit sample, audience)."
@@ -672,7 +673,7 @@ def _render_demo(facts: dict[str, Any]) -> None:
             f"{g['coverage']:.1%}",
             f"{g['error']:.2%}",
         )
-    _say(table)
+    _say(fit_table(table))
     if facts["feeds"]:
         first = facts["feeds"][0]
         _say(escape(first["calibration_statement"] or first["statement"]))

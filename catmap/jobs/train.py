@@ -29,7 +29,7 @@ def remapped_catalog(project: Path, tree: CategoryTree) -> Path:
     Raises:
         ModelNotTrained: the project has no store, or no settled mapping on that version.
     """
-    from catmap.jobs.remap import write_remapped_catalog
+    from catmap.jobs.remap import stored_tree_versions, write_remapped_catalog
     from catmap.store import Store, store_path
 
     hint = f"run `catmap remap --to {tree.version}` first, or give labelled feeds"
@@ -40,6 +40,14 @@ def remapped_catalog(project: Path, tree: CategoryTree) -> Path:
     catalog = subfolder(project, "models") / f"remapped-catalog-v{tree.version}.jsonl"
     with Store.open(store_path(project)) as store:
         written = write_remapped_catalog(store, tree, catalog)
+        on_version = stored_tree_versions(store).get(str(tree.version), 0) if not written else 0
+    if on_version:
+        # The remap is done: its mappings on this version all wait for a person.
+        hint = (
+            f"its {on_version:,} mappings on this version all wait for review: settle some with "
+            "`catmap review` or `catmap decisions import`, or give labelled feeds on this "
+            "tree: `catmap train FEED...`"
+        )
     if written == 0:
         raise ModelNotTrained(
             f"the project store has no settled mappings on tree version {tree.version}",
