@@ -682,10 +682,22 @@ def split_category_path(value: str) -> tuple[str, ...]:
     Returns:
         The non-empty levels, each cleaned with :func:`clean_line`; ``()`` for an empty value.
     """
-    text = clean_line(value)
-    if not text:
-        return ()
-    parts = _STRONG_SEPARATOR_RE.split(text)
+    # Split before cleaning where a strong separator is written: the repair of mis-decoded
+    # text must not reach across one ("á† | 0" read whole is "ᆠ| 0": the space taken for a
+    # lost no-break space). Cleaning can make separators too (&gt;, ＞, mis-decoded ›): each
+    # cleaned part is split again. Text with markup is cleaned first: a tag holds a ">".
+    raw_parts = _STRONG_SEPARATOR_RE.split(value) if "<" not in value else [value]
+    if len(raw_parts) > 1:
+        parts = [
+            level
+            for part in raw_parts
+            for level in _STRONG_SEPARATOR_RE.split(clean_line(part.strip()))
+        ]
+    else:
+        text = clean_line(value)
+        if not text:
+            return ()
+        parts = _STRONG_SEPARATOR_RE.split(text)
     if len(parts) > 1:
         levels = tuple(filter(None, map(clean_line, parts)))  # the non-empty cleaned levels
         if len(levels) != 1 or _STRONG_SEPARATOR_RE.search(levels[0]):
