@@ -101,12 +101,23 @@ _CUES: dict[tuple[str | None, str | None, str], tuple[str, ...]] = {
         "cadeau pour elle", "geschenk fur sie", "regalo para ella",
         "per lei", "regalo per lei", "voor haar", "cadeau voor haar", "para ela",
         "presente para ela",
+        # A parent as the gift's recipient: "for" and the parent together, so that an
+        # occasion naming the other parent ("Mother's Day", "fête des pères") says nothing.
+        "for mum", "for mom", "for mummy", "for mommy", "for mother", "for grandma",
+        "pour maman", "pour mamie", "pour ma mere", "fur mama", "fur mutti", "fur oma",
+        "fur die mama", "para mama", "para la abuela", "para mi madre", "per mamma",
+        "per la mamma", "per la nonna", "voor mama", "voor moeder", "voor oma", "para a mae",
+        "para a avo",
     ),
     (MALE, None, WEAK): (
         "for him", "pour lui", "fur ihn", "gift for him", "cadeau pour lui",
         "geschenk fur ihn", "regalo para el",
         "per lui", "regalo per lui", "voor hem", "cadeau voor hem", "para ele",
         "presente para ele",
+        "for dad", "for daddy", "for father", "for grandad", "for grandpa", "pour papa",
+        "pour papi", "pour papy", "pour mon pere", "fur papa", "fur opa", "fur den papa",
+        "para papa", "para el abuelo", "para mi padre", "per papa", "per il papa",
+        "per il nonno", "voor papa", "voor vader", "voor opa", "para o pai", "para o avo",
     ),
     # "babies" is also a French shoe style (strap shoes): it counts only when nothing else
     # speaks for the age and the node allows babies.
@@ -294,6 +305,20 @@ class Audience:
     age_confidence: float = 0.0
 
 
+# French and Italian elide an article or a preposition before a vowel or a mute h, and folding
+# deletes the apostrophe: "d'homme" reads "dhomme", "pour l'enfant" "pour lenfant", "dell'uomo"
+# "delluomo". Every cue word starting with a vowel or an h is read after these too.
+_ELIDED = ("d", "l", "dell", "all", "dall", "nell", "sull")
+# Elided forms that are words of their own ("duomo": a cathedral).
+_NOT_ELIDED = frozenset({"duomo"})
+
+
+def _elided(word: str) -> tuple[str, ...]:
+    if " " in word or not word or word[0] not in "aeiouh":
+        return ()
+    return tuple(form for form in (prefix + word for prefix in _ELIDED) if form not in _NOT_ELIDED)
+
+
 def _build_index() -> PhraseIndex:
     phrases: list[tuple[str, object]] = []
     for (who, age, strength), words in _CUES.items():
@@ -301,15 +326,19 @@ def _build_index() -> PhraseIndex:
             if word in _BABY_PAIRS:
                 phrases.append((word, (_BABY_PAIRS[word], BABY, STRONG)))
             else:
-                phrases.append((word, (who, age, strength)))
+                payload = (who, age, strength)
+                phrases.append((word, payload))
+                phrases.extend((form, payload) for form in _elided(word))
     return PhraseIndex(phrases)
 
 
 _INDEX = _build_index()
 
 # Every folded word and phrase the audience lexicon reads (never a fuzzy brand match).
-LEXICON_WORDS = frozenset(fold(word) for words in _CUES.values() for word in words) | frozenset(
-    _COMPOUND_CUES
+LEXICON_WORDS = (
+    frozenset(fold(word) for words in _CUES.values() for word in words)
+    | frozenset(form for words in _CUES.values() for word in words for form in _elided(word))
+    | frozenset(_COMPOUND_CUES)
 )
 
 
