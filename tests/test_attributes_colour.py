@@ -128,3 +128,11 @@ def test_never_raises_and_ignores_case_and_outer_spaces(colour: str, title: str)
     assert plain[0] in FAMILIES or plain[0] == ""
     if colour.upper().lower() == colour.lower() and title.upper().lower() == title.lower():
         assert colour_family(f"  {colour.upper()} ", f" {title.upper()}  ")[0] == plain[0]
+
+
+def test_every_css_named_colour_has_a_family() -> None:
+    # A feed's colour field may hold any CSS named colour ("lavenderblush", "darkslateblue").
+    missing = [name for name in webcolors.names("css3") if not colour_family(name)[0]]
+    assert missing == []
+    assert colour_family("LavenderBlush")[0] == "white"
+    assert colour_family("darkslateblue")[0] == "blue"
