@@ -194,15 +194,66 @@ _END_TOKENS = frozenset(
 )
 
 
+def _plural(word: str, lang: str) -> str:
+    """The plural a French or Spanish colour adjective takes after a plural noun
+    ("chaussettes multicolores", "zapatos azules"); "" where there is none to add."""
+    if lang not in ("fr", "es") or " " in word or "-" in word or word[-1] in "sxz":
+        return ""
+    if lang == "es" and word[-1] not in "aeiou":
+        return f"{word}es"
+    return f"{word}s"
+
+
+def _words_with_plurals() -> dict[str, str]:
+    """Every colour word (folded) → its family, with the French and Spanish plurals; a plural
+    that is a colour word of its own keeps that word's family."""
+    words = {
+        fold(word): family
+        for family, by_lang in COLOUR_WORDS.items()
+        for listed in by_lang.values()
+        for word in listed
+    }
+    plurals: dict[str, str] = {}
+    for family, by_lang in COLOUR_WORDS.items():
+        for lang, listed in by_lang.items():
+            for word in listed:
+                plural = _plural(fold(word), lang)
+                if plural and plural not in words:
+                    plurals.setdefault(plural, family)
+    return words | plurals
+
+
+_ALL_WORDS = _words_with_plurals()
+
+
 def _build_index() -> PhraseIndex:
     phrases: list[tuple[str, object]] = [(p, "") for p in MATERIAL_PHRASES]
-    for family, by_lang in COLOUR_WORDS.items():
-        for words in by_lang.values():
-            phrases.extend((word, family) for word in words)
+    phrases.extend(_ALL_WORDS.items())
     return PhraseIndex(phrases)
 
 
 _INDEX = _build_index()
+# The plural of a word that is often a product is one too ("roses", "olives", "cafes").
+AMBIGUOUS_IN_TITLE = AMBIGUOUS_IN_TITLE | frozenset(
+    plural
+    for word in AMBIGUOUS_IN_TITLE
+    for plural in (f"{word}s", f"{word}es")
+    if plural in _ALL_WORDS
+)
+
+# A model code glued from capitals and digits ("RED-42", "BLK200", "GRN-5") names no colour.
+_CODE = re.compile(r"\b[A-Z]{2,}-?\d[\w-]*")
+
+
+def blank_codes(title: str, folded: str) -> str:
+    """Return ``folded`` (the folded ``title``) with its model codes replaced by spaces."""
+    if not folded or not any(c.isdigit() for c in title):
+        return folded
+    for code in _CODE.findall(title):
+        key = fold(code)
+        if key:
+            folded = re.sub(rf"(?<![0-9a-z]){re.escape(key)}(?![0-9a-z])", " " * len(key), folded)
+    return folded
 
 
 def _matches(folded: str) -> list[tuple[int, int, str, str]]:
@@ -258,4 +309,4 @@ def colour_family(colour: str, title: str = "") -> tuple[str, str]:
         >>> colour_family("Vieux rose")
         ('pink', "colour field 'vieux rose'")
     """
-    return colour_family_folded(fold(colour), fold(title))
+    return colour_family_folded(fold(colour), blank_codes(title, fold(title)))
