@@ -169,3 +169,16 @@ def test_a_colour_word_inside_a_model_code_is_no_colour(title: str, family: str)
     assert colour_family("", title)[0] == family
     extractor = AttributeExtractor(brands=BrandDictionary([]), tree=None)
     assert extractor.extract(Product("1", title), None).colour_family == family
+
+
+@pytest.mark.parametrize(
+    ("title", "family"),
+    [
+        ("Handtasche mit roten Streifen", "red"),
+        ("Schwarzes Lederportemonnaie", "black"),
+        ("Kissen mit bunten Punkten", "multicolour"),
+        ("Nature sounds speaker", ""),
+    ],
+)
+def test_german_declined_colour_words(title: str, family: str) -> None:
+    assert colour_family("", title)[0] == family

@@ -5,7 +5,9 @@ green, blue, purple, gold, silver, multicolour. The colour field is read first; 
 families there: the first one named is the main colour
 ("multicolour" only when said). Without a colour field the title is read, skipping words
 that are colours only sometimes ("cream", "orange", "rose", "wine", ...): in a title they are
-more often a product (face cream, orange juice, rosé wine).
+more often a product (face cream, orange juice, rosé wine). Colour words are read in the forms
+they take beside a noun (French and Spanish plurals, German declensions: "multicolores",
+"azules", "roten"); a model code such as "RED-42" names no colour.
 """
 
 from __future__ import annotations
@@ -194,36 +196,48 @@ _END_TOKENS = frozenset(
 )
 
 
-def _plural(word: str, lang: str) -> str:
-    """The plural a French or Spanish colour adjective takes after a plural noun
-    ("chaussettes multicolores", "zapatos azules"); "" where there is none to add."""
-    if lang not in ("fr", "es") or " " in word or "-" in word or word[-1] in "sxz":
-        return ""
-    if lang == "es" and word[-1] not in "aeiou":
-        return f"{word}es"
-    return f"{word}s"
+# German declines a colour adjective before its noun ("mit roten Streifen", "schwarzes
+# Leder"); forms that are words of another language are left out ("nature").
+_GERMAN_ENDINGS = ("e", "en", "er", "es", "em")
+_NOT_INFLECTED = frozenset({"nature"})
 
 
-def _words_with_plurals() -> dict[str, str]:
-    """Every colour word (folded) → its family, with the French and Spanish plurals; a plural
-    that is a colour word of its own keeps that word's family."""
+def _inflections(word: str, lang: str) -> tuple[str, ...]:
+    """The forms a colour adjective takes beside its noun: the French and Spanish plural
+    ("chaussettes multicolores", "zapatos azules"), the German declensions ("roten")."""
+    if " " in word or "-" in word:
+        return ()
+    if lang in ("fr", "es"):
+        if word[-1] in "sxz":
+            return ()
+        return (f"{word}es",) if lang == "es" and word[-1] not in "aeiou" else (f"{word}s",)
+    if lang == "de" and word[-1] not in "aeiouy" and not word.endswith(("er", "en")):
+        return tuple(f"{word}{ending}" for ending in _GERMAN_ENDINGS)
+    return ()
+
+
+def _words_with_inflections() -> tuple[dict[str, str], dict[str, str]]:
+    """Every colour word (folded) → its family, with the forms above; a form that is a colour
+    word of its own keeps that word's family. Also each added form → the word it comes from."""
     words = {
         fold(word): family
         for family, by_lang in COLOUR_WORDS.items()
         for listed in by_lang.values()
         for word in listed
     }
-    plurals: dict[str, str] = {}
+    added: dict[str, tuple[str, str]] = {}
     for family, by_lang in COLOUR_WORDS.items():
         for lang, listed in by_lang.items():
             for word in listed:
-                plural = _plural(fold(word), lang)
-                if plural and plural not in words:
-                    plurals.setdefault(plural, family)
-    return words | plurals
+                for form in _inflections(fold(word), lang):
+                    if form not in words and form not in _NOT_INFLECTED:
+                        added.setdefault(form, (family, fold(word)))
+    return words | {form: family for form, (family, _b) in added.items()}, {
+        form: base for form, (_f, base) in added.items()
+    }
 
 
-_ALL_WORDS = _words_with_plurals()
+_ALL_WORDS, _BASE_OF = _words_with_inflections()
 
 
 def _build_index() -> PhraseIndex:
@@ -233,12 +247,9 @@ def _build_index() -> PhraseIndex:
 
 
 _INDEX = _build_index()
-# The plural of a word that is often a product is one too ("roses", "olives", "cafes").
+# A form of a word that is often a product is one too ("roses", "olives", "cafes").
 AMBIGUOUS_IN_TITLE = AMBIGUOUS_IN_TITLE | frozenset(
-    plural
-    for word in AMBIGUOUS_IN_TITLE
-    for plural in (f"{word}s", f"{word}es")
-    if plural in _ALL_WORDS
+    form for form, base in _BASE_OF.items() if base in AMBIGUOUS_IN_TITLE
 )
 
 # A model code glued from capitals and digits ("RED-42", "BLK200", "GRN-5") names no colour.
