@@ -504,3 +504,30 @@ def test_a_parent_gift_says_nothing_where_gender_does_not_apply(
 ) -> None:
     attributes = extractor.extract(Product("1", "Mother's Day gift for dad: mug"), "2021")
     assert attributes.who == "not_applicable"
+
+
+@pytest.mark.parametrize(
+    "title",
+    [
+        "Adult colouring book mandalas",
+        "Livre de coloriage pour adultes",
+        "Malbuch für Erwachsene",
+        "Libro para colorear para adultos",
+        "Vélo d'adulte 28 pouces",
+    ],
+)
+def test_the_age_said_without_a_gender(title: str) -> None:
+    audience = extract_audience(title=title, allowed_ages=ALL_AGES)
+    assert audience.age == "adult"
+    assert "text" in audience.evidence
+
+
+def test_adult_text_on_a_node_for_children_is_a_conflict(extractor: AttributeExtractor) -> None:
+    attributes = extractor.extract(Product("1", "Adult colouring book"), "4011")
+    assert attributes.age == "adult"
+    assert attributes.audience_conflict
+
+
+def test_young_adult_is_no_adult_cue() -> None:
+    audience = extract_audience(title="Young adult novel, paperback", allowed_ages=ALL_AGES)
+    assert "text" not in audience.evidence

@@ -86,6 +86,13 @@ _CUES: dict[tuple[str | None, str | None, str], tuple[str, ...]] = {
         "kinderen", "voor kinderen", "peuter", "peuters",
         "crianca", "criancas", "para criancas", "para crianca",
     ),
+    # The age said without a gender ("adult colouring book", "pour adultes").
+    (None, ADULT, STRONG): (
+        "adult", "adults", "for adults", "adulte", "adultes", "pour adultes", "erwachsene",
+        "erwachsenen", "erwachsener", "fur erwachsene", "adulto", "adultos", "adulta",
+        "adultas", "para adultos", "adulti", "per adulti", "volwassene", "volwassenen",
+        "voor volwassenen",
+    ),
     (None, BABY, STRONG): (
         "baby", "babys", "infant", "infants", "newborn", "new born",
         "bebe", "bebes", "naissance", "nourrisson",
@@ -136,6 +143,9 @@ _CUES: dict[tuple[str | None, str | None, str], tuple[str, ...]] = {
         "lady finger", "lady fingers", "ladies finger", "ladies fingers", "lady bug",
         "spider man", "iron man", "pac man", "he man", "snow man", "dame blanche",
         "notre dame", "old man", "gingerbread man",
+        # "young adult" books and fiction are for teenagers
+        "young adult", "young adults", "jeune adulte", "jeunes adultes", "junge erwachsene",
+        "jovenes adultos", "giovani adulti", "jongvolwassenen", "jovens adultos",
     ),
 }
 # Phrases that map to both a who and the baby age (override the trap list above).
