@@ -12,10 +12,12 @@ single value, sets the conflict flag and the evidence names both: nothing is sil
 
 Traps handled before looking for words: brand names holding a gender word (the brand span is
 removed first), "boyfriend" fits (a women's style), "baby pink" / "baby blue" (colours),
-"girls' night" (an occasion), "for her" gifts (a weak cue that counts only where the node lets
-gender apply), "babies" (also a French shoe style: a weak cue), and kids' sizes ("8 ans",
-"7-8 years", "age 4-5", "6-12 mois"; heights such as "116 cm", "Gr. 140", "104/110" only on
-apparel and footwear nodes).
+"girls' night" (an occasion), "for her" gifts and a parent as the gift's recipient ("for dad",
+"pour maman": weak cues that count only where the node lets gender apply; the occasion, such as
+"Mother's Day", says nothing), "young adult" (books for teenagers), "babies" (also a French
+shoe style: a weak cue), and kids' sizes ("8 ans", "7-8 years", "age 4-5", "6-12 mois"; heights
+such as "116 cm", "Gr. 140", "104/110" only on apparel and footwear nodes). French and Italian
+elisions are read through ("d'homme", "pour l'enfant", "dell'uomo").
 """
 
 from __future__ import annotations
