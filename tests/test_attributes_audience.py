@@ -531,3 +531,17 @@ def test_adult_text_on_a_node_for_children_is_a_conflict(extractor: AttributeExt
 def test_young_adult_is_no_adult_cue() -> None:
     audience = extract_audience(title="Young adult novel, paperback", allowed_ages=ALL_AGES)
     assert "text" not in audience.evidence
+
+
+@pytest.mark.parametrize(
+    "title",
+    [
+        "Ladies' night cocktail shaker set",
+        "Ladies Day hat box",
+        "Damenabend Partyspiel",
+        "Jeu pour soirée entre femmes",
+    ],
+)
+def test_a_night_out_named_after_a_group_is_not_about_it(title: str) -> None:
+    assert _apparel(title=title) == ("unisex", "adult")
+    assert "text" not in extract_audience(title=title, allowed_who=ALL_WHO).evidence

@@ -141,6 +141,10 @@ _CUES: dict[tuple[str | None, str | None, str], tuple[str, ...]] = {
         "baby girl", "baby boy", "baby girls", "baby boys", "nina bebe", "nino bebe",
         "azzurro bebe", "babyroze", "babyblauw", "azul bebe", "cor de rosa bebe",
         "serata tra ragazze", "meidenavond", "noite das meninas",
+        # a night or a day out named after a group, like the girls' night above
+        "ladies night", "ladies nights", "ladies night out", "ladies day", "mens night",
+        "mens night out", "soiree entre femmes", "soiree entre hommes", "noche de damas",
+        "serata tra donne", "serata tra uomini", "noite das mulheres",
         # names and dishes holding a gender word
         "lady finger", "lady fingers", "ladies finger", "ladies fingers", "lady bug",
         "spider man", "iron man", "pac man", "he man", "snow man", "dame blanche",
@@ -169,7 +173,8 @@ _COMPOUND_CUES = {
 }
 # Substrings that must be there for a compound to be (a cheap test before the pattern).
 _COMPOUND_EXCEPTIONS = frozenset(
-    {"babyblau", "babyrosa", "babydoll", "kindergarten", "babyblauw", "babyroze", "herenhuis"}
+    {"babyblau", "babyrosa", "babydoll", "kindergarten", "babyblauw", "babyroze", "herenhuis",
+     "damenabend", "herrenabend", "damesavond", "herenavond"}
 )
 
 # Single letters and abbreviations only a gender column uses (folded: "Hr." → "hr"). They
