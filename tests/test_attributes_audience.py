@@ -466,3 +466,82 @@ def test_the_personal_item_words_come_from_the_node_and_its_parent() -> None:
     assert is_personal_item(["Folding umbrellas", "parapluie pliant"])
     assert is_personal_item(["Bike helmets"])
     assert not is_personal_item(["Vacuum cleaners", "aspirateur", "Sauger"])
+
+
+@pytest.mark.parametrize(
+    ("title", "who", "age"),
+    [
+        ("Pyjama d'homme en coton", "male", "adult"),
+        ("Chemise d’homme à carreaux", "male", "adult"),
+        ("Ensemble pour l'enfant, coton bio", "unisex", "kids"),
+        ("Giacca dell'uomo imbottita", "male", "adult"),
+    ],
+)
+def test_an_elided_article_before_an_audience_word(title: str, who: str, age: str) -> None:
+    assert _apparel(title=title) == (who, age)
+
+
+def test_an_elided_form_that_is_a_word_of_its_own_says_nothing() -> None:
+    assert _apparel(title="Poster Piazza del Duomo") == ("unisex", "adult")
+
+
+@pytest.mark.parametrize(
+    ("title", "who"),
+    [
+        ("Mother's Day gift for dad: engraved keyring", "male"),
+        ("Cadeau fête des pères pour maman", "female"),
+        ("Vatertag Geschenk für Mama", "female"),
+    ],
+)
+def test_a_parent_as_the_recipient_not_the_occasion(title: str, who: str) -> None:
+    audience = extract_audience(title=title, allowed_who=ALL_WHO)
+    assert audience.who == who
+    assert "(weak)" in audience.evidence
+
+
+def test_a_parent_gift_says_nothing_where_gender_does_not_apply(
+    extractor: AttributeExtractor,
+) -> None:
+    attributes = extractor.extract(Product("1", "Mother's Day gift for dad: mug"), "2021")
+    assert attributes.who == "not_applicable"
+
+
+@pytest.mark.parametrize(
+    "title",
+    [
+        "Adult colouring book mandalas",
+        "Livre de coloriage pour adultes",
+        "Malbuch für Erwachsene",
+        "Libro para colorear para adultos",
+        "Vélo d'adulte 28 pouces",
+    ],
+)
+def test_the_age_said_without_a_gender(title: str) -> None:
+    audience = extract_audience(title=title, allowed_ages=ALL_AGES)
+    assert audience.age == "adult"
+    assert "text" in audience.evidence
+
+
+def test_adult_text_on_a_node_for_children_is_a_conflict(extractor: AttributeExtractor) -> None:
+    attributes = extractor.extract(Product("1", "Adult colouring book"), "4011")
+    assert attributes.age == "adult"
+    assert attributes.audience_conflict
+
+
+def test_young_adult_is_no_adult_cue() -> None:
+    audience = extract_audience(title="Young adult novel, paperback", allowed_ages=ALL_AGES)
+    assert "text" not in audience.evidence
+
+
+@pytest.mark.parametrize(
+    "title",
+    [
+        "Ladies' night cocktail shaker set",
+        "Ladies Day hat box",
+        "Damenabend Partyspiel",
+        "Jeu pour soirée entre femmes",
+    ],
+)
+def test_a_night_out_named_after_a_group_is_not_about_it(title: str) -> None:
+    assert _apparel(title=title) == ("unisex", "adult")
+    assert "text" not in extract_audience(title=title, allowed_who=ALL_WHO).evidence

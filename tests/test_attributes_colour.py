@@ -9,8 +9,9 @@ import webcolors
 from hypothesis import given
 from hypothesis import strategies as st
 
-from catmap.attributes import FAMILIES, colour_family, fold
+from catmap.attributes import FAMILIES, AttributeExtractor, BrandDictionary, colour_family, fold
 from catmap.attributes.colour import COLOUR_WORDS
+from catmap.records import Product
 
 
 @pytest.mark.parametrize(
@@ -128,3 +129,56 @@ def test_never_raises_and_ignores_case_and_outer_spaces(colour: str, title: str)
     assert plain[0] in FAMILIES or plain[0] == ""
     if colour.upper().lower() == colour.lower() and title.upper().lower() == title.lower():
         assert colour_family(f"  {colour.upper()} ", f" {title.upper()}  ")[0] == plain[0]
+
+
+def test_every_css_named_colour_has_a_family() -> None:
+    # A feed's colour field may hold any CSS named colour ("lavenderblush", "darkslateblue").
+    missing = [name for name in webcolors.names("css3") if not colour_family(name)[0]]
+    assert missing == []
+    assert colour_family("LavenderBlush")[0] == "white"
+    assert colour_family("darkslateblue")[0] == "blue"
+
+
+@pytest.mark.parametrize(
+    ("colour", "title", "family"),
+    [
+        ("", "Chaussettes multicolores lot de 5", "multicolour"),
+        ("", "Zapatos azules de piel", "blue"),
+        ("", "Pantalones grises de lana", "grey"),
+        ("rosas", "", "pink"),
+    ],
+)
+def test_french_and_spanish_plural_colour_words(colour: str, title: str, family: str) -> None:
+    assert colour_family(colour, title)[0] == family
+
+
+def test_the_plural_of_an_often_a_product_word_stays_one() -> None:
+    assert colour_family("", "Bouquet de roses séchées") == ("", "")
+
+
+@pytest.mark.parametrize(
+    ("title", "family"),
+    [
+        ("Running shoe RED-42 edition", ""),
+        ("Desk lamp model BLACK2000", ""),
+        ("Sneakers NAVY-2 with white sole", "white"),
+        ("Red running shoe 42", "red"),
+    ],
+)
+def test_a_colour_word_inside_a_model_code_is_no_colour(title: str, family: str) -> None:
+    assert colour_family("", title)[0] == family
+    extractor = AttributeExtractor(brands=BrandDictionary([]), tree=None)
+    assert extractor.extract(Product("1", title), None).colour_family == family
+
+
+@pytest.mark.parametrize(
+    ("title", "family"),
+    [
+        ("Handtasche mit roten Streifen", "red"),
+        ("Schwarzes Lederportemonnaie", "black"),
+        ("Kissen mit bunten Punkten", "multicolour"),
+        ("Nature sounds speaker", ""),
+    ],
+)
+def test_german_declined_colour_words(title: str, family: str) -> None:
+    assert colour_family("", title)[0] == family

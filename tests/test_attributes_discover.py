@@ -253,3 +253,15 @@ def test_a_spelling_rejected_as_no_brand_is_never_learned_or_read() -> None:
     assert (got.brand, got.brand_status) == ("", "none")
     got = extractor.extract(products[5], None)
     assert (got.brand, got.brand_status) == ("Dorvanta", "candidate")
+
+
+def test_a_learned_brand_written_in_lower_case_mid_title_is_the_word() -> None:
+    # The feed writes the brand with a capital; "pinecone" in running text is the word.
+    products = _products([f"Pinecone {k}" for k in KINDS[:4]], ["Pinecone", "Pinecone", "", ""])
+    learner = FeedBrandLearner().fit(products)
+    assert learner.find_in_title("Wreath with real pinecone and ribbon") is None
+    assert learner.find_in_title("Pinecone garland") is not None
+    assert learner.find_in_title("Wreath with real Pinecone cones") is not None
+    assert learner.find_in_title("Lunch box, kids' size PINECONE") is not None
+    # A title written all in lower case says nothing about case.
+    assert learner.find_in_title("wreath with real pinecone") is not None

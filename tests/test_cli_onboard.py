@@ -10,6 +10,7 @@ import pytest
 from click.testing import CliRunner, Result
 from test_onboard import TEST_MAX_ERROR, SmallWorld, new_project
 
+from catmap.attributes import RESTRICTION_CAUTION
 from catmap.cli import main
 from catmap.errors import EXIT_MODEL
 from catmap.store import Store, store_path
@@ -212,3 +213,22 @@ def test_a_feed_cut_short_shows_what_was_saved_then_the_error(
         text = " ".join(result.stdout.split())
         assert f"read {summary['read']:,} = kept {summary['kept']:,}" in text
         assert "reading stopped early: " in text
+
+
+def test_the_restriction_flags_come_with_the_caution(world: SmallWorld, tmp_path: Path) -> None:
+    feed = tmp_path / "kestrow.csv"
+    rows = ["product_id,title,brand,retailer_category,price"]
+    rows += [f"K{i},Vodka 70cl 40% vol no {i},Ardel,Drinks,19.90" for i in range(6)]
+    rows += [f"K{i + 6},Linen shirt no {i},Ardel,Shirts,29.90" for i in range(6)]
+    feed.write_text("\n".join(rows) + "\n", encoding="utf-8")
+    project = new_project(world, tmp_path / "p")
+    args = ["onboard", str(feed), "--project", str(project), "--max-error", str(TEST_MAX_ERROR)]
+    args += ["--validation", str(world.paths.reference)]
+    facts = _facts(CliRunner().invoke(main, [*args, "--json"], catch_exceptions=False))
+    assert facts["restricted"].get("alcohol", 0) >= 6
+    assert facts["caution"] == RESTRICTION_CAUTION
+    result = CliRunner().invoke(main, args, catch_exceptions=False)
+    assert result.exit_code == 0, result.output
+    text = " ".join(result.stdout.split())
+    caution = " ".join(RESTRICTION_CAUTION.split())
+    assert text.index("restriction flags: alcohol") < text.index(f"Note: {caution}")

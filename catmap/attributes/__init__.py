@@ -53,6 +53,7 @@ from catmap.attributes.brand import (
 from catmap.attributes.colour import (
     COLOUR_WORDS,
     FAMILIES,
+    blank_codes,
     colour_family,
     colour_family_folded,
 )
@@ -114,6 +115,7 @@ __all__ = [
     "age_from_size",
     "blank_spans",
     "brand_variants",
+    "blank_codes",
     "colour_family",
     "compact_key",
     "decide_audience",
@@ -326,9 +328,9 @@ class AttributeExtractor:
                     self._colour_cache.clear()
                 self._colour_cache[product.colour] = colour
             if not colour[0]:
-                colour = colour_family_folded("", title_without_brand)
+                colour = colour_family_folded("", blank_codes(product.title, title_without_brand))
         else:
-            colour = colour_family_folded("", title_without_brand)
+            colour = colour_family_folded("", blank_codes(product.title, title_without_brand))
 
         # restriction
         restriction = restriction_for_node(

@@ -12,10 +12,12 @@ single value, sets the conflict flag and the evidence names both: nothing is sil
 
 Traps handled before looking for words: brand names holding a gender word (the brand span is
 removed first), "boyfriend" fits (a women's style), "baby pink" / "baby blue" (colours),
-"girls' night" (an occasion), "for her" gifts (a weak cue that counts only where the node lets
-gender apply), "babies" (also a French shoe style: a weak cue), and kids' sizes ("8 ans",
-"7-8 years", "age 4-5", "6-12 mois"; heights such as "116 cm", "Gr. 140", "104/110" only on
-apparel and footwear nodes).
+"girls' night" (an occasion), "for her" gifts and a parent as the gift's recipient ("for dad",
+"pour maman": weak cues that count only where the node lets gender apply; the occasion, such as
+"Mother's Day", says nothing), "young adult" (books for teenagers), "babies" (also a French
+shoe style: a weak cue), and kids' sizes ("8 ans", "7-8 years", "age 4-5", "6-12 mois"; heights
+such as "116 cm", "Gr. 140", "104/110" only on apparel and footwear nodes). French and Italian
+elisions are read through ("d'homme", "pour l'enfant", "dell'uomo").
 """
 
 from __future__ import annotations
@@ -86,6 +88,13 @@ _CUES: dict[tuple[str | None, str | None, str], tuple[str, ...]] = {
         "kinderen", "voor kinderen", "peuter", "peuters",
         "crianca", "criancas", "para criancas", "para crianca",
     ),
+    # The age said without a gender ("adult colouring book", "pour adultes").
+    (None, ADULT, STRONG): (
+        "adult", "adults", "for adults", "adulte", "adultes", "pour adultes", "erwachsene",
+        "erwachsenen", "erwachsener", "fur erwachsene", "adulto", "adultos", "adulta",
+        "adultas", "para adultos", "adulti", "per adulti", "volwassene", "volwassenen",
+        "voor volwassenen",
+    ),
     (None, BABY, STRONG): (
         "baby", "babys", "infant", "infants", "newborn", "new born",
         "bebe", "bebes", "naissance", "nourrisson",
@@ -101,12 +110,23 @@ _CUES: dict[tuple[str | None, str | None, str], tuple[str, ...]] = {
         "cadeau pour elle", "geschenk fur sie", "regalo para ella",
         "per lei", "regalo per lei", "voor haar", "cadeau voor haar", "para ela",
         "presente para ela",
+        # A parent as the gift's recipient: "for" and the parent together, so that an
+        # occasion naming the other parent ("Mother's Day", "fête des pères") says nothing.
+        "for mum", "for mom", "for mummy", "for mommy", "for mother", "for grandma",
+        "pour maman", "pour mamie", "pour ma mere", "fur mama", "fur mutti", "fur oma",
+        "fur die mama", "para mama", "para la abuela", "para mi madre", "per mamma",
+        "per la mamma", "per la nonna", "voor mama", "voor moeder", "voor oma", "para a mae",
+        "para a avo",
     ),
     (MALE, None, WEAK): (
         "for him", "pour lui", "fur ihn", "gift for him", "cadeau pour lui",
         "geschenk fur ihn", "regalo para el",
         "per lui", "regalo per lui", "voor hem", "cadeau voor hem", "para ele",
         "presente para ele",
+        "for dad", "for daddy", "for father", "for grandad", "for grandpa", "pour papa",
+        "pour papi", "pour papy", "pour mon pere", "fur papa", "fur opa", "fur den papa",
+        "para papa", "para el abuelo", "para mi padre", "per papa", "per il papa",
+        "per il nonno", "voor papa", "voor vader", "voor opa", "para o pai", "para o avo",
     ),
     # "babies" is also a French shoe style (strap shoes): it counts only when nothing else
     # speaks for the age and the node allows babies.
@@ -121,10 +141,17 @@ _CUES: dict[tuple[str | None, str | None, str], tuple[str, ...]] = {
         "baby girl", "baby boy", "baby girls", "baby boys", "nina bebe", "nino bebe",
         "azzurro bebe", "babyroze", "babyblauw", "azul bebe", "cor de rosa bebe",
         "serata tra ragazze", "meidenavond", "noite das meninas",
+        # a night or a day out named after a group, like the girls' night above
+        "ladies night", "ladies nights", "ladies night out", "ladies day", "mens night",
+        "mens night out", "soiree entre femmes", "soiree entre hommes", "noche de damas",
+        "serata tra donne", "serata tra uomini", "noite das mulheres",
         # names and dishes holding a gender word
         "lady finger", "lady fingers", "ladies finger", "ladies fingers", "lady bug",
         "spider man", "iron man", "pac man", "he man", "snow man", "dame blanche",
         "notre dame", "old man", "gingerbread man",
+        # "young adult" books and fiction are for teenagers
+        "young adult", "young adults", "jeune adulte", "jeunes adultes", "junge erwachsene",
+        "jovenes adultos", "giovani adulti", "jongvolwassenen", "jovens adultos",
     ),
 }
 # Phrases that map to both a who and the baby age (override the trap list above).
@@ -146,7 +173,8 @@ _COMPOUND_CUES = {
 }
 # Substrings that must be there for a compound to be (a cheap test before the pattern).
 _COMPOUND_EXCEPTIONS = frozenset(
-    {"babyblau", "babyrosa", "babydoll", "kindergarten", "babyblauw", "babyroze", "herenhuis"}
+    {"babyblau", "babyrosa", "babydoll", "kindergarten", "babyblauw", "babyroze", "herenhuis",
+     "damenabend", "herrenabend", "damesavond", "herenavond"}
 )
 
 # Single letters and abbreviations only a gender column uses (folded: "Hr." → "hr"). They
@@ -294,6 +322,20 @@ class Audience:
     age_confidence: float = 0.0
 
 
+# French and Italian elide an article or a preposition before a vowel or a mute h, and folding
+# deletes the apostrophe: "d'homme" reads "dhomme", "pour l'enfant" "pour lenfant", "dell'uomo"
+# "delluomo". Every cue word starting with a vowel or an h is read after these too.
+_ELIDED = ("d", "l", "dell", "all", "dall", "nell", "sull")
+# Elided forms that are words of their own ("duomo": a cathedral).
+_NOT_ELIDED = frozenset({"duomo"})
+
+
+def _elided(word: str) -> tuple[str, ...]:
+    if " " in word or not word or word[0] not in "aeiouh":
+        return ()
+    return tuple(form for form in (prefix + word for prefix in _ELIDED) if form not in _NOT_ELIDED)
+
+
 def _build_index() -> PhraseIndex:
     phrases: list[tuple[str, object]] = []
     for (who, age, strength), words in _CUES.items():
@@ -301,15 +343,19 @@ def _build_index() -> PhraseIndex:
             if word in _BABY_PAIRS:
                 phrases.append((word, (_BABY_PAIRS[word], BABY, STRONG)))
             else:
-                phrases.append((word, (who, age, strength)))
+                payload = (who, age, strength)
+                phrases.append((word, payload))
+                phrases.extend((form, payload) for form in _elided(word))
     return PhraseIndex(phrases)
 
 
 _INDEX = _build_index()
 
 # Every folded word and phrase the audience lexicon reads (never a fuzzy brand match).
-LEXICON_WORDS = frozenset(fold(word) for words in _CUES.values() for word in words) | frozenset(
-    _COMPOUND_CUES
+LEXICON_WORDS = (
+    frozenset(fold(word) for words in _CUES.values() for word in words)
+    | frozenset(form for words in _CUES.values() for word in words for form in _elided(word))
+    | frozenset(_COMPOUND_CUES)
 )
 
 

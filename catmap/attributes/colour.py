@@ -5,7 +5,9 @@ green, blue, purple, gold, silver, multicolour. The colour field is read first; 
 families there: the first one named is the main colour
 ("multicolour" only when said). Without a colour field the title is read, skipping words
 that are colours only sometimes ("cream", "orange", "rose", "wine", ...): in a title they are
-more often a product (face cream, orange juice, rosé wine).
+more often a product (face cream, orange juice, rosé wine). Colour words are read in the forms
+they take beside a noun (French and Spanish plurals, German declensions: "multicolores",
+"azules", "roten"); a model code such as "RED-42" names no colour.
 """
 
 from __future__ import annotations
@@ -29,7 +31,8 @@ COLOUR_WORDS: dict[str, dict[str, tuple[str, ...]]] = {
     },
     "white": {
         "en": ("white", "off-white", "off white", "ivory", "snow", "snow white", "optic white",
-               "chalk", "whitesmoke", "ghostwhite", "floralwhite", "seashell", "linen"),
+               "chalk", "whitesmoke", "ghostwhite", "floralwhite", "seashell", "linen",
+               "aliceblue", "azure", "honeydew", "lavenderblush", "mintcream"),
         "fr": ("blanc", "blanche", "blanc casse", "ivoire", "ecru blanc"),
         "de": ("weiss", "weisse", "weisser", "wollweiss", "cremeweiss", "elfenbein"),
         "es": ("blanco", "blanca", "blanco roto", "marfil", "hueso"),
@@ -38,7 +41,8 @@ COLOUR_WORDS: dict[str, dict[str, tuple[str, ...]]] = {
         "en": ("grey", "gray", "charcoal", "anthracite", "heather grey", "slate", "graphite",
                "ash", "dark grey", "light grey", "silver grey", "dimgray", "dimgrey",
                "darkgray", "darkgrey", "lightgray", "lightgrey", "gainsboro", "slategray",
-               "slategrey", "gunmetal"),
+               "slategrey", "gunmetal", "darkslategray", "darkslategrey",
+               "lightslategray", "lightslategrey"),
         "fr": ("gris", "grise", "anthracite", "gris chine", "ardoise", "gris fonce", "gris clair"),
         "de": ("grau", "anthrazit", "hellgrau", "dunkelgrau", "grau meliert", "graue"),
         "es": ("gris", "antracita", "gris jaspeado", "gris marengo", "gris oscuro", "marengo"),
@@ -46,7 +50,8 @@ COLOUR_WORDS: dict[str, dict[str, tuple[str, ...]]] = {
     "beige": {
         "en": ("beige", "sand", "stone", "ecru", "oatmeal", "nude", "cream",
                "wheat", "oat", "natural", "champagne beige", "bisque", "blanchedalmond",
-               "moccasin", "navajowhite", "cornsilk", "oldlace", "antiquewhite", "papayawhip"),
+               "moccasin", "navajowhite", "cornsilk", "oldlace", "antiquewhite", "papayawhip",
+               "peachpuff"),
         "fr": ("beige", "sable", "ecru", "grege", "creme", "naturel"),
         "de": ("beige", "sand", "natur", "creme", "ecru", "sandfarben"),
         "es": ("beige", "arena", "crudo", "piedra", "crema", "caqui claro"),
@@ -71,7 +76,8 @@ COLOUR_WORDS: dict[str, dict[str, tuple[str, ...]]] = {
     "pink": {
         "en": ("pink", "blush", "rose", "fuchsia", "dusty pink", "salmon", "hot pink",
                "baby pink", "magenta", "lightpink", "hotpink", "deeppink", "palevioletred",
-               "mediumvioletred", "powder pink", "old rose", "dusky pink"),
+               "mediumvioletred", "powder pink", "old rose", "dusky pink", "mistyrose",
+               "lightcoral", "darksalmon", "lightsalmon"),
         "fr": ("rose", "rose poudre", "fuchsia", "vieux rose", "rose pale", "framboise"),
         "de": ("rosa", "pink", "altrosa", "pudrig rosa", "pudrosa", "babyrosa", "fuchsia"),
         "es": ("rosa", "fucsia", "rosa palo", "rosa empolvado", "rosado"),
@@ -85,7 +91,8 @@ COLOUR_WORDS: dict[str, dict[str, tuple[str, ...]]] = {
     },
     "yellow": {
         "en": ("yellow", "mustard", "lemon", "ochre", "canary", "lightyellow", "lemonchiffon",
-               "goldenrod", "khaki yellow"),
+               "goldenrod", "khaki yellow", "darkgoldenrod", "lightgoldenrodyellow",
+               "palegoldenrod"),
         "fr": ("jaune", "moutarde", "ocre", "jaune citron", "citron"),
         "de": ("gelb", "senfgelb", "ocker", "zitronengelb", "senf"),
         "es": ("amarillo", "amarilla", "mostaza", "ocre", "amarillo limon"),
@@ -94,7 +101,9 @@ COLOUR_WORDS: dict[str, dict[str, tuple[str, ...]]] = {
         "en": ("green", "olive", "sage", "forest green", "mint", "bottle green", "emerald",
                "lime", "teal green", "army green", "darkgreen", "forestgreen", "seagreen",
                "olivedrab", "darkolivegreen", "lawngreen", "limegreen", "springgreen",
-               "mediumseagreen", "yellowgreen", "darkkhaki", "aquamarine"),
+               "mediumseagreen", "yellowgreen", "darkkhaki", "aquamarine", "chartreuse",
+               "greenyellow", "darkseagreen", "lightgreen", "palegreen", "mediumaquamarine",
+               "mediumspringgreen"),
         "fr": ("vert", "verte", "kaki", "olive", "vert sapin", "vert deau", "vert bouteille",
                "menthe", "emeraude"),
         "de": ("grun", "grune", "oliv", "khaki", "dunkelgrun", "salbei", "mint", "hellgrun",
@@ -108,7 +117,9 @@ COLOUR_WORDS: dict[str, dict[str, tuple[str, ...]]] = {
                "turquoise", "aqua", "cyan", "midnight blue", "steel blue", "powder blue",
                "midnightblue", "royalblue", "skyblue", "steelblue", "powderblue", "lightblue",
                "darkblue", "cornflowerblue", "dodgerblue", "deepskyblue", "mediumblue",
-               "cadetblue", "darkturquoise", "lightseagreen"),
+               "cadetblue", "darkturquoise", "lightseagreen", "darkcyan", "lightcyan",
+               "lightskyblue", "lightsteelblue", "mediumturquoise", "paleturquoise", "slateblue",
+               "darkslateblue", "mediumslateblue"),
         "fr": ("bleu", "bleue", "bleu marine", "bleu ciel", "marine", "bleu roi", "petrole",
                "turquoise", "bleu nuit", "bleu clair", "bleu fonce"),
         "de": ("blau", "blaue", "marineblau", "dunkelblau", "hellblau", "navy", "petrol",
@@ -119,7 +130,7 @@ COLOUR_WORDS: dict[str, dict[str, tuple[str, ...]]] = {
     "purple": {
         "en": ("purple", "lilac", "lavender", "plum", "violet", "mauve", "aubergine", "indigo",
                "orchid", "grape", "darkviolet", "darkorchid", "mediumpurple", "blueviolet",
-               "thistle", "rebeccapurple"),
+               "thistle", "rebeccapurple", "darkmagenta", "mediumorchid"),
         "fr": ("violet", "violette", "lilas", "prune", "lavande", "mauve", "aubergine", "parme"),
         "de": ("lila", "violett", "flieder", "aubergine", "pflaume", "lavendel"),
         "es": ("morado", "morada", "lila", "malva", "violeta", "berenjena", "purpura"),
@@ -185,15 +196,75 @@ _END_TOKENS = frozenset(
 )
 
 
+# German declines a colour adjective before its noun ("mit roten Streifen", "schwarzes
+# Leder"); forms that are words of another language are left out ("nature").
+_GERMAN_ENDINGS = ("e", "en", "er", "es", "em")
+_NOT_INFLECTED = frozenset({"nature"})
+
+
+def _inflections(word: str, lang: str) -> tuple[str, ...]:
+    """The forms a colour adjective takes beside its noun: the French and Spanish plural
+    ("chaussettes multicolores", "zapatos azules"), the German declensions ("roten")."""
+    if " " in word or "-" in word:
+        return ()
+    if lang in ("fr", "es"):
+        if word[-1] in "sxz":
+            return ()
+        return (f"{word}es",) if lang == "es" and word[-1] not in "aeiou" else (f"{word}s",)
+    if lang == "de" and word[-1] not in "aeiouy" and not word.endswith(("er", "en")):
+        return tuple(f"{word}{ending}" for ending in _GERMAN_ENDINGS)
+    return ()
+
+
+def _words_with_inflections() -> tuple[dict[str, str], dict[str, str]]:
+    """Every colour word (folded) → its family, with the forms above; a form that is a colour
+    word of its own keeps that word's family. Also each added form → the word it comes from."""
+    words = {
+        fold(word): family
+        for family, by_lang in COLOUR_WORDS.items()
+        for listed in by_lang.values()
+        for word in listed
+    }
+    added: dict[str, tuple[str, str]] = {}
+    for family, by_lang in COLOUR_WORDS.items():
+        for lang, listed in by_lang.items():
+            for word in listed:
+                for form in _inflections(fold(word), lang):
+                    if form not in words and form not in _NOT_INFLECTED:
+                        added.setdefault(form, (family, fold(word)))
+    return words | {form: family for form, (family, _b) in added.items()}, {
+        form: base for form, (_f, base) in added.items()
+    }
+
+
+_ALL_WORDS, _BASE_OF = _words_with_inflections()
+
+
 def _build_index() -> PhraseIndex:
     phrases: list[tuple[str, object]] = [(p, "") for p in MATERIAL_PHRASES]
-    for family, by_lang in COLOUR_WORDS.items():
-        for words in by_lang.values():
-            phrases.extend((word, family) for word in words)
+    phrases.extend(_ALL_WORDS.items())
     return PhraseIndex(phrases)
 
 
 _INDEX = _build_index()
+# A form of a word that is often a product is one too ("roses", "olives", "cafes").
+AMBIGUOUS_IN_TITLE = AMBIGUOUS_IN_TITLE | frozenset(
+    form for form, base in _BASE_OF.items() if base in AMBIGUOUS_IN_TITLE
+)
+
+# A model code glued from capitals and digits ("RED-42", "BLK200", "GRN-5") names no colour.
+_CODE = re.compile(r"\b[A-Z]{2,}-?\d[\w-]*")
+
+
+def blank_codes(title: str, folded: str) -> str:
+    """Return ``folded`` (the folded ``title``) with its model codes replaced by spaces."""
+    if not folded or not any(c.isdigit() for c in title):
+        return folded
+    for code in _CODE.findall(title):
+        key = fold(code)
+        if key:
+            folded = re.sub(rf"(?<![0-9a-z]){re.escape(key)}(?![0-9a-z])", " " * len(key), folded)
+    return folded
 
 
 def _matches(folded: str) -> list[tuple[int, int, str, str]]:
@@ -249,4 +320,4 @@ def colour_family(colour: str, title: str = "") -> tuple[str, str]:
         >>> colour_family("Vieux rose")
         ('pink', "colour field 'vieux rose'")
     """
-    return colour_family_folded(fold(colour), fold(title))
+    return colour_family_folded(fold(colour), blank_codes(title, fold(title)))

@@ -571,6 +571,8 @@ class FeedBrandLearner:
             return None
         folded = fold(title) if folded is None else folded
         mentions = self._index.find(folded)
+        if mentions and title != title.lower():
+            mentions = [m for m in mentions if not self._written_as_a_word(title, m)]
         if mentions:
             start, end, _phrase, payload = min(mentions, key=lambda m: (m[0], m[0] - m[1]))
             key = str(payload)
@@ -608,6 +610,20 @@ class FeedBrandLearner:
             self._lead_cache.clear()
         self._lead_cache[opening] = found
         return found
+
+    def _written_as_a_word(self, title: str, mention: tuple[int, int, str, object]) -> bool:
+        """Return whether a mention past the title's start is written all in lower case in a
+        title that has capitals, of a brand the feed writes with capitals: "Wreath with real
+        pinecone" holds the word, not the brand Pinecone."""
+        start, _end, phrase, payload = mention
+        if start == 0:
+            return False
+        name = self.learned_[str(payload)]
+        if name == name.lower():
+            return False
+        pattern = r"[\W_]*".join(re.escape(word) for word in phrase.split())
+        written = re.findall(rf"(?<![^\W_]){pattern}(?![^\W_])", title, re.IGNORECASE)
+        return bool(written) and all(w == w.lower() for w in written)
 
     def _typo_of(self, key: str) -> str:
         if len(key) < MIN_TYPO_KEY:

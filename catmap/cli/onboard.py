@@ -296,6 +296,7 @@ def _render_onboard(facts: dict[str, Any]) -> None:
     if facts["restricted"]:
         flags = ", ".join(f"{k} {v:,}" for k, v in sorted(facts["restricted"].items()))
         _say(f"  restriction flags: {escape(flags)}")
+        _say(f"  Note: {escape(facts['caution'])}")
     if facts["rule_conflicts"]:
         _say(f"  rule conflicts: {facts['rule_conflicts']:,}")
     for run in facts.get("stale_runs_stopped", []):

@@ -45,7 +45,12 @@ from typing import Any, Protocol
 import numpy as np
 
 from catmap._iterate import chunked
-from catmap.attributes import AttributeExtractor, BrandDictionary, FeedBrandLearner
+from catmap.attributes import (
+    RESTRICTION_CAUTION,
+    AttributeExtractor,
+    BrandDictionary,
+    FeedBrandLearner,
+)
 from catmap.attributes._text import fold
 from catmap.attributes.brand import dictionary_in_use, normalize_brand
 from catmap.attributes.registry import CONFIRMED, REJECTED
@@ -238,6 +243,8 @@ class OnboardSummary:
         """Return the facts as JSON-ready values."""
         facts = dict(self.__dict__)
         facts["coverage"] = round(self.coverage, 4)
+        # Wherever the flags are shown, the caution comes with them.
+        facts["caution"] = RESTRICTION_CAUTION if self.restricted else ""
         if facts["cluster"] is None:  # a cluster run's partitions and dashboard only
             del facts["cluster"]
         return facts
