@@ -218,7 +218,10 @@ def run_catmap(
     model = CategoryModel(tree=tree, random_state=0).fit(product_texts(train), labels)
     model.calibrate(product_texts(valid), [p.extra["gold_node"] for p in valid])
     row.train_seconds = time.perf_counter() - started
-    row.notes.append("training: fit + calibration on the valid split, per-department classifiers in 2 forked processes")
+    row.notes.append(
+        "training: fit + calibration on the valid split, per-department classifiers in 2 "
+        "forked processes"
+    )
 
     row.disk_mb = _save_catmap(model, workdir / "catmap-model")
 
