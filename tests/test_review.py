@@ -20,7 +20,14 @@ from catmap.attributes import RESTRICTION_CAUTION
 from catmap.errors import ReviewError, StoreError
 from catmap.records import Alternative, Attributes, Mapping, Product
 from catmap.review import confirm_brand, reject_brand, reset_brand
-from catmap.review.app import AGE_KEYS, KEY_LINES, WHO_KEYS, ReviewApp, confidence_bar
+from catmap.review.app import (
+    AGE_KEYS,
+    KEY_LINES,
+    WHO_KEYS,
+    ReviewApp,
+    confidence_bar,
+    topbar_text,
+)
 from catmap.review.sample import (
     ANKLE_BOOTS,
     BOOT_GROUP,
@@ -1627,3 +1634,29 @@ def test_text_is_shortened_at_words_and_paths_lose_their_middle_first() -> None:
         "Coffee machines >",
         "Espresso machines",
     ]
+
+
+@sync
+async def test_the_top_line_keeps_the_projected_finish_on_a_narrow_screen(
+    store: Store, tree: CategoryTree
+) -> None:
+    clock = FakeClock()
+    app = ReviewApp(ReviewSession(store, "ana", tree=tree, clock=clock))
+    async with app.run_test(size=(80, 24)) as pilot:
+        await pilot.pause()
+        clock.now += timedelta(minutes=1)
+        await pilot.press("enter", "enter")
+        await pilot.pause()
+        top = _screen_text(app, "topbar")
+        # 2 decisions in a minute, 11 left: the finish is shown whole, the app's name gave way.
+        assert top.endswith("done 2 · left 11 · 2.0/min · finish ≈ " + top.rsplit("≈ ", 1)[1])
+        assert cell_len(top) <= 80 and "…" not in top and not top.startswith("catmap review")
+        await pilot.press("q")
+
+
+def test_the_top_line_is_spaced_out_when_there_is_room() -> None:
+    who, progress = ["feed shop", "reviewer ana"], ["done 0", "left 3"]
+    wide = "catmap review  ·  feed shop  ·  reviewer ana    done 0  ·  left 3"
+    assert topbar_text(who, progress, 200) == wide
+    assert topbar_text(who, progress, len(wide)) == wide
+    assert topbar_text(who, progress, len(wide) - 1) == "feed shop · reviewer ana  done 0 · left 3"

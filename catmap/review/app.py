@@ -112,6 +112,15 @@ def keys_text() -> Text:
     return text
 
 
+def topbar_text(who: list[str], progress: list[str], width: int) -> str:
+    """The top line: the app's name, who reviews which feed, then the progress; on a narrow
+    screen the name goes and the spacing tightens, so that the projected finish stays."""
+    wide = "  ·  ".join(["catmap review", *who]) + "    " + "  ·  ".join(progress)
+    if cell_len(wide) <= width:
+        return wide
+    return " · ".join(who) + "  " + " · ".join(progress)
+
+
 def confidence_bar(confidence: float, width: int = BAR_WIDTH) -> str:
     """A bar of ``width`` cells, filled in proportion to ``confidence`` (0..1)."""
     filled = round(max(0.0, min(1.0, confidence)) * width)
@@ -442,13 +451,13 @@ class ReviewApp(App[None]):
         pace = session.pace()
         view = session.current
         feed = view.item.feed_name if view is not None else (str(session.feed or "all feeds"))
-        line = Text(f"catmap review  ·  feed {feed}  ·  reviewer {session.reviewer}")
-        line.append(f"    done {pace.done}  ·  left {pace.left}")
+        who = [f"feed {feed}", f"reviewer {session.reviewer}"]
+        progress = [f"done {pace.done}", f"left {pace.left}"]
         if pace.per_minute is not None:
-            line.append(f"  ·  {pace.per_minute:.1f}/min")
+            progress.append(f"{pace.per_minute:.1f}/min")
         if pace.finish is not None:
-            line.append(f"  ·  finish ≈ {finish_label(pace.finish, session.now())}")
-        self.query_one("#topbar", Static).update(line)
+            progress.append(f"finish ≈ {finish_label(pace.finish, session.now())}")
+        self.query_one("#topbar", Static).update(Text(topbar_text(who, progress, self.size.width)))
 
     def render_item(self) -> None:
         """Draw the item on screen (or the empty queue) and the message line."""
