@@ -48,24 +48,24 @@ def fit_path(text: str, width: int) -> str:
     marks (the last name alone); only a last name that does not fit on its own is cut, at its
     end.
     """
-    if cell_len(text) <= width:
-        return text
     parts = text.split(PATH_SEPARATOR)
+    for candidate in _shortened(parts):
+        joined = PATH_SEPARATOR.join(candidate)
+        if cell_len(joined) <= width:
+            return joined
     leaf = parts[-1]
-    if len(parts) > 2:
-        # Drop middle segments one by one, those nearest the top first.
-        for start in range(1, len(parts) - 1):
-            candidate = PATH_SEPARATOR.join([parts[0], ELLIPSIS, *parts[start + 1 :]])
-            if cell_len(candidate) <= width:
-                return candidate
-    if len(parts) > 1:
-        for start in range(1, len(parts)):
-            candidate = PATH_SEPARATOR.join([ELLIPSIS, *parts[start:]])
-            if cell_len(candidate) <= width:
-                return candidate
     if cell_len(leaf) <= width:
         return leaf
     return fit(leaf, width)
+
+
+def _shortened(parts: list[str]) -> list[list[str]]:
+    """A path's segments, then the shorter forms tried in turn: middle segments dropped one by
+    one, those nearest the top first ("Top > … > Leaf"), then the top too ("… > Leaf")."""
+    forms = [parts]
+    forms += [[parts[0], ELLIPSIS, *parts[start + 1 :]] for start in range(1, len(parts) - 1)]
+    forms += [[ELLIPSIS, *parts[start:]] for start in range(1, len(parts))]
+    return forms
 
 
 def wrap(text: str, width: int, max_lines: int | None = None) -> list[str]:
@@ -123,12 +123,7 @@ def wrap_path(text: str, width: int, max_lines: int) -> list[str]:
     """A category path over at most ``max_lines`` lines of ``width`` cells, broken after its
     separators; when it needs more, middle segments give way as in :func:`fit_path`."""
     parts = text.split(PATH_SEPARATOR)
-    candidates = [parts]
-    for start in range(1, len(parts) - 1):
-        candidates.append([parts[0], ELLIPSIS, *parts[start + 1 :]])
-    for start in range(1, len(parts)):
-        candidates.append([ELLIPSIS, *parts[start:]])
-    for candidate in candidates:
+    for candidate in _shortened(parts):
         lines = _path_lines(candidate, width)
         if len(lines) <= max_lines:
             return lines
