@@ -16,7 +16,13 @@ from catmap.attributes import (
     BrandDictionary,
     restriction_from_text,
 )
-from catmap.attributes.restriction import is_generic_node, node_context, quiet_flags
+from catmap.attributes._text import fold
+from catmap.attributes.restriction import (
+    is_generic_node,
+    node_context,
+    quiet_flags,
+    restriction_for_node,
+)
 from catmap.records import Product
 from catmap.tree.taxonomy import CategoryTree, load_tree
 
@@ -451,3 +457,11 @@ def test_a_remapped_product_follows_its_new_nodes_context(tree: CategoryTree) ->
     row = {"status": "auto", "restriction": "weapons"}
     follower.follow(row, Product("1", "Knife 20 cm"), "4000")
     assert row["restriction"] == ""
+
+
+@pytest.mark.parametrize("title", ["Bière sans alcool 33 cl", "Alcohol-free lager 6 x 330 ml"])
+def test_an_alcohol_free_title_keeps_its_restricted_nodes_flag(title: str) -> None:
+    # The title's words stop it raising a flag of its own, not the node's (README, the
+    # cautious reading of advertising rules; common practice, no source).
+    assert restriction_from_text(title) == ("", "")
+    assert restriction_for_node("alcohol", False, fold(title)) == "alcohol"
