@@ -79,6 +79,15 @@ def test_utf16_without_bom_of_non_latin_text_is_detected(tmp_path: Path, encodin
         ("shift_jis", ["緑茶", "緑茶 x"], "cp932"),
         ("shift_jis", ["木製 箸", "木製 箸 x"], "cp932"),
         ("latin-1", ["Niño", "Niño x"], "cp1252"),
+        # Read before as half-width katakana (cp932), Korean extension syllables (cp949) or
+        # another Chinese set: the reading that keeps to the set's most used part wins.
+        ("gb18030", ["衬衫", "鞋子"], "gb18030"),
+        ("gb18030", ["连衣裙", "茶叶"], "gb18030"),
+        ("big5", ["襯衫", "連衣裙"], "big5"),
+        ("big5", ["運動鞋 男", "手錶"], "big5"),
+        ("euc_jp", ["緑茶", "木製 箸"], "euc_jis_2004"),
+        # Half-width katakana stay readable when no other reading is clean.
+        ("shift_jis", ["ｼｬﾂ", "靴下"], "cp932"),
     ],
 )
 def test_short_feeds_in_a_legacy_encoding_keep_their_titles(
@@ -328,3 +337,13 @@ def test_gzip_cut_inside_its_first_block_is_one_clear_error(tmp_path: Path) -> N
         list(open_feed(path))
     assert str(info.value).count(str(path)) == 1
     assert "cut short" in str(info.value)
+
+
+def test_a_feed_without_a_zero_byte_is_never_read_as_utf16(tmp_path: Path) -> None:
+    # One short Chinese title: the detector's first guess was UTF-16, which would need a zero
+    # byte beside each ASCII character of the header.
+    path = tmp_path / "one.csv"
+    path.write_bytes("id,title\n1,鞋子\n".encode("gb18030"))
+    feed = open_feed(path)
+    assert feed.info.encoding == "gb18030"
+    assert _titles(feed) == ["鞋子"]

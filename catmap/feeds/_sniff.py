@@ -245,6 +245,10 @@ def detect_encoding(head: bytes, given: str | None, path: str | Path) -> tuple[s
     import charset_normalizer
 
     matches = list(charset_normalizer.from_bytes(head))
+    if b"\x00" not in head:
+        # UTF-16 and UTF-32 write a zero byte beside every ASCII character: a sample with
+        # none (a short feed in a double-byte set) is neither, whatever the detector says.
+        matches = [m for m in matches if not m.encoding.startswith(("utf_16", "utf_32"))]
     if not matches:
         return ("cp1252" if _western_cp1252(head) else "latin-1"), "detected"
     best = codec_name(matches[0].encoding, path)
@@ -290,6 +294,28 @@ _COMMON_LEADS: dict[str, range] = {
     "cp950": range(0xA1, 0xFA),
     "big5hkscs": range(0xA1, 0xFA),
 }
+# The lead bytes of the most used part of each set, tried first: the symbols and the first
+# level of characters by frequency (GB 2312's level 1, Big5's frequent characters, JIS X 0208's
+# level-1 kanji, KS X 1001's hangul). Two characters of a short Chinese title can also read as
+# four half-width katakana in Shift-JIS, or as a frequent and a rare character in Big5; a
+# reading that keeps to these parts is the likelier one. The ranges are the sets' published
+# row layouts, written from memory.
+_FREQUENT_LEADS: dict[str, tuple[range, ...]] = {
+    **dict.fromkeys(("cp949", "euc_kr"), (range(0xA1, 0xAD), range(0xB0, 0xC9))),
+    **dict.fromkeys(("gb18030", "gbk", "gb2312"), (range(0xA1, 0xAA), range(0xB0, 0xD8))),
+    **dict.fromkeys(
+        ("cp932", "shift_jis", "shift_jis_2004", "shift_jisx0213"), (range(0x81, 0x99),)
+    ),
+    **dict.fromkeys(
+        ("euc_jp", "euc_jis_2004", "euc_jisx0213"), (range(0xA1, 0xA9), range(0xB0, 0xD0))
+    ),
+    **dict.fromkeys(("big5", "cp950", "big5hkscs"), (range(0xA1, 0xC7),)),
+}
+# The sets whose common characters have trail bytes below 0xA1 too (the rest keep them in
+# 0xA1-0xFE).
+_LOW_TRAILS = frozenset(
+    ("cp932", "shift_jis", "shift_jis_2004", "shift_jisx0213", "big5", "cp950", "big5hkscs")
+)
 _HIGH_RUN = re.compile(rb"[\x80-\xff]+")
 
 
@@ -299,26 +325,35 @@ def _double_byte_choice(head: bytes, names: list[str]) -> str:
     Western text with a few accented letters, each alone between ASCII characters ("Niño"),
     can also be read as pairs of a lead byte and an ASCII trail byte: it is cp1252 when that
     reads as Western text. Otherwise the first reading whose characters all come from the
-    common part of their set wins (the detector's first when none does).
+    most used part of their set wins (double-byte characters only), then the first whose
+    characters all come from the common part, else the detector's first.
     """
     if all(len(run) == 1 for run in _HIGH_RUN.findall(head)) and _western_cp1252(head):
         return "cp1252"
+    for name in names:
+        if name in _FREQUENT_LEADS and _common_characters(head, name, frequent=True):
+            return name
     for name in names:
         if name in _COMMON_LEADS and _common_characters(head, name):
             return name
     return names[0]
 
 
-def _common_characters(head: bytes, name: str) -> bool:
-    """Tell whether ``head`` decodes as ``name`` into characters of the set's common part."""
+def _common_characters(head: bytes, name: str, *, frequent: bool = False) -> bool:
+    """Tell whether ``head`` decodes as ``name`` into characters of the set's common part
+    (``frequent``: of its most used part, and no single-byte character outside ASCII)."""
     try:
         text = codecs.getincrementaldecoder(name)("strict").decode(head, final=False)
     except UnicodeDecodeError:
         return False
-    leads = _COMMON_LEADS[name]
     for char in set(_NON_ASCII.findall(text)):
         encoded = char.encode(name)
-        if len(encoded) > 2 or (len(encoded) == 2 and encoded[0] not in leads):
+        if frequent:
+            if len(encoded) != 2 or not any(encoded[0] in r for r in _FREQUENT_LEADS[name]):
+                return False
+            if name not in _LOW_TRAILS and encoded[1] < 0xA1:
+                return False  # an extension character (GBK's, cp949's): not the frequent part
+        elif len(encoded) > 2 or (len(encoded) == 2 and encoded[0] not in _COMMON_LEADS[name]):
             return False
     return True
 
