@@ -149,3 +149,33 @@ def test_inspect_warns_by_the_languages_of_the_projects_own_tree(tmp_path: Path)
         main, ["normalise", str(feed), "--out", str(out), "--project", str(project), "--json"]
     )
     assert "(it has English)" in json.loads(normalised.stdout)["warnings"][0]
+
+
+def test_inspect_names_other_readings_of_a_short_double_byte_feed(tmp_path: Path) -> None:
+    # Two Japanese titles of kanji only, in EUC-JP: GB 18030 reads the same bytes as
+    # frequent Chinese characters, so the detection is a guess and inspect says so.
+    path = tmp_path / "short.csv"
+    path.write_bytes("id,title,price\n1,緑茶,480\n2,木製 箸,900\n".encode("euc_jp"))
+    project = tmp_path / "project"
+    first = json.loads(_run("inspect", str(path), "--project", str(project), "--json").stdout)  # type: ignore[attr-defined]
+    assert first["encoding_source"] == "detected"
+    assert first["encoding_alternatives"] == ["gb18030"]
+    again = _run("inspect", str(path), "--project", str(project))
+    text = again.stdout  # type: ignore[attr-defined]
+    assert "kept in the feed's profile" in text
+    assert "gb18030 reads them too" in text
+    given = json.loads(
+        _run(
+            "inspect", str(path), "--project", str(project), "--json", "--encoding", "euc_jp"
+        ).stdout  # type: ignore[attr-defined]
+    )
+    assert (given["encoding_source"], given["encoding_alternatives"]) == ("given", [])
+
+
+def test_inspect_names_no_other_reading_of_a_longer_chinese_feed(tmp_path: Path) -> None:
+    path = tmp_path / "zh.csv"
+    titles = ["衬衫", "鞋子", "手表", "连衣裙", "运动鞋 男", "不锈钢 保温杯"]
+    rows = "".join(f"{i},{title},10\n" for i, title in enumerate(titles))
+    path.write_bytes(("id,title,price\n" + rows).encode("gb18030"))
+    facts = json.loads(_run("inspect", str(path), "--project", str(tmp_path), "--json").stdout)  # type: ignore[attr-defined]
+    assert (facts["encoding"], facts["encoding_alternatives"]) == ("gb18030", [])

@@ -85,11 +85,23 @@ def inspect_command(
 
 
 def _render_inspect(facts: dict[str, Any]) -> None:
-    how = {"bom": "from its byte-order mark", "detected": "detected", "given": "as given"}
+    how = {
+        "bom": "from its byte-order mark",
+        "detected": "detected",
+        "given": "as given",
+        "profile": "kept in the feed's profile",
+    }
     console.print(f"[bold]{escape(facts['feed'])}[/bold]")
     console.print(f"  format       {facts['format']}")
     source = how.get(facts["encoding_source"], facts["encoding_source"])
     console.print(f"  encoding     {facts['encoding']} ({source})")
+    others = facts.get("encoding_alternatives") or []
+    if others:
+        console.print(
+            f"  [yellow]so few bytes that {' and '.join(others)} "
+            f"{'reads' if len(others) == 1 else 'read'} them too: check the titles, or pass "
+            "--encoding[/yellow]"
+        )
     console.print(f"  compression  {facts['compression'] or 'none'}")
     if facts["format"] == "delimited":
         header = "" if facts["has_header"] else ", no header row"

@@ -339,6 +339,38 @@ def _double_byte_choice(head: bytes, names: list[str]) -> str:
     return names[0]
 
 
+def other_readings(head: bytes, chosen: str, limit: int = 2) -> list[str]:
+    """Other double-byte sets that read ``head`` as cleanly as ``chosen`` but differently.
+
+    A short feed in an East Asian set gives few bytes to tell the sets apart: a few kanji of
+    a Japanese title can read as Chinese characters in another set just as well. Empty when
+    ``chosen`` is not such a set or no other reading keeps to its set's most used part.
+
+    Args:
+        head: the feed's first bytes.
+        chosen: the codec detection chose.
+        limit: at most this many names.
+    """
+    if chosen not in _FREQUENT_LEADS:
+        return []
+    try:
+        text = head.decode(chosen, "replace")
+    except LookupError:
+        return []
+    seen = {text}
+    found: list[str] = []
+    for name in ("gb18030", "big5", "cp932", "euc_jp", "cp949"):
+        if name == chosen or len(found) >= limit or not _common_characters(
+            head, name, frequent=True
+        ):
+            continue
+        reading = head.decode(name, "replace")
+        if reading not in seen:
+            seen.add(reading)
+            found.append(name)
+    return found
+
+
 def _common_characters(head: bytes, name: str, *, frequent: bool = False) -> bool:
     """Tell whether ``head`` decodes as ``name`` into characters of the set's common part
     (``frequent``: of its most used part, and no single-byte character outside ASCII)."""
