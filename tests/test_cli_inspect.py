@@ -179,3 +179,17 @@ def test_inspect_names_no_other_reading_of_a_longer_chinese_feed(tmp_path: Path)
     path.write_bytes(("id,title,price\n" + rows).encode("gb18030"))
     facts = json.loads(_run("inspect", str(path), "--project", str(tmp_path), "--json").stdout)  # type: ignore[attr-defined]
     assert (facts["encoding"], facts["encoding_alternatives"]) == ("gb18030", [])
+
+
+def test_normalise_warns_when_a_short_feeds_encoding_is_a_guess(tmp_path: Path) -> None:
+    path = tmp_path / "short.csv"
+    path.write_bytes("id,title,price\n1,緑茶,480\n2,木製 箸,900\n".encode("euc_jp"))
+    args = ["normalise", str(path), "--out", str(tmp_path / "out"), "--project", str(tmp_path)]
+    facts = json.loads(_run(*args, "--json").stdout)  # type: ignore[attr-defined]
+    assert len(facts["warnings"]) == 1
+    assert "read as euc_jis_2004" in facts["warnings"][0]
+    assert "gb18030 reads them as well" in facts["warnings"][0]
+    utf8 = tmp_path / "short-utf8.csv"
+    utf8.write_text("id,title,price\n1,緑茶,480\n2,木製 箸,900\n", encoding="utf-8")
+    args[1] = str(utf8)
+    assert json.loads(_run(*args, "--json").stdout)["warnings"] == []  # type: ignore[attr-defined]

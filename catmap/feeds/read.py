@@ -25,7 +25,7 @@ from catmap.feeds import _sniff, delimited, jsonl, xml
 from catmap.feeds._compression import read_head
 from catmap.records import Reject, SourceRecord
 
-__all__ = ["Feed", "FeedInfo", "open_feed"]
+__all__ = ["Feed", "FeedInfo", "encoding_warning", "open_feed", "other_encodings"]
 
 COLUMN_SAMPLE = 200
 
@@ -304,3 +304,29 @@ def _open_xml(text: str, complete: bool, common: dict[str, Any], record_path: st
         xml_encoding=xml_encoding,
     )
     return _with_columns(feed)
+
+
+def other_encodings(info: FeedInfo) -> list[str]:
+    """Other East Asian double-byte sets that read the feed's first bytes as cleanly as its
+    encoding does (the detected one, or one its profile keeps): a short feed gives too few
+    bytes to tell them apart. Empty for a byte-order mark or a file that cannot be read."""
+    if info.encoding_source == "bom":
+        return []
+    try:
+        head, _complete, _compression = read_head(info.path, _sniff.SAMPLE_SIZE)
+    except (OSError, CatmapError):
+        return []
+    return _sniff.other_readings(head, info.encoding)
+
+
+def encoding_warning(info: FeedInfo) -> str:
+    """A warning when a short feed's bytes read as cleanly in another double-byte set ("" when
+    not): its titles may be mojibake, and the model would map them with confidence."""
+    others = other_encodings(info)
+    if not others:
+        return ""
+    return (
+        f"the feed is read as {info.encoding}, but it has so few bytes outside ASCII that "
+        f"{' and '.join(others)} read{'s' if len(others) == 1 else ''} them as well: check a "
+        "few titles, and give --encoding if they look wrong"
+    )

@@ -7,9 +7,6 @@ from itertools import islice
 from pathlib import Path
 from typing import Any
 
-from catmap.feeds._compression import read_head
-from catmap.feeds._sniff import SAMPLE_SIZE as SNIFF_SAMPLE
-from catmap.feeds._sniff import other_readings
 from catmap.feeds.fieldmap import (
     REQUIRED_FIELDS,
     TARGET_FIELDS,
@@ -20,7 +17,7 @@ from catmap.feeds.fieldmap import (
 from catmap.feeds.ingest import FATAL_FEED_ERRORS, Accounting, iter_products
 from catmap.feeds.language import feed_language, language_warning
 from catmap.feeds.profiled import column_mismatch, format_mismatch
-from catmap.feeds.read import Feed, FeedInfo
+from catmap.feeds.read import Feed, other_encodings
 from catmap.feeds.writers import product_to_dict
 from catmap.jobs._feed_profile import (
     SAMPLE_SIZE,
@@ -190,7 +187,7 @@ def inspect_feed(
         "encoding_source": "profile"
         if info.encoding_source == "given" and not encoding
         else info.encoding_source,
-        "encoding_alternatives": [] if encoding else _other_encodings(feed, info),
+        "encoding_alternatives": [] if encoding else other_encodings(info),
         "compression": info.compression,
         "delimiter": info.delimiter,
         "has_header": info.has_header,
@@ -208,11 +205,3 @@ def inspect_feed(
         "warnings": [warning] if warning else [],
     }
 
-
-def _other_encodings(feed: Path, info: FeedInfo) -> list[str]:
-    """Other East Asian sets that read the feed's first bytes as cleanly as its encoding (the
-    detected one, or the one its profile keeps from an earlier detection)."""
-    if info.encoding_source == "bom":
-        return []
-    head, _complete, _compression = read_head(feed, SNIFF_SAMPLE)
-    return other_readings(head, info.encoding)

@@ -16,6 +16,7 @@ from catmap.classify.storage import MANIFEST, load_model
 from catmap.errors import InputError
 from catmap.feeds.language import feed_language, language_warning
 from catmap.feeds.profiled import ProfiledFeed, open_profiled_feed
+from catmap.feeds.read import encoding_warning
 from catmap.jobs._project_tree import default_model_dir, default_rules_path, project_tree
 from catmap.project import feed_name
 from catmap.tree.taxonomy import CategoryTree
@@ -143,5 +144,6 @@ def language_facts(source: ProfiledFeed, tree: CategoryTree) -> dict[str, Any]:
     except InputError:  # no good record: the mapping's own error says why
         sample = []
     guess = feed_language(sample, source.profile.columns)
-    warning = language_warning(guess, tree.languages())
-    return {"language": guess.to_dict(), "warnings": [warning] if warning else []}
+    warnings = [language_warning(guess, tree.languages()), encoding_warning(source.feed.info)]
+    return {"language": guess.to_dict(), "warnings": [w for w in warnings if w]}
+

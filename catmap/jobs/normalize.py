@@ -19,6 +19,7 @@ from catmap.feeds.ingest import (
 )
 from catmap.feeds.language import feed_language, language_warning
 from catmap.feeds.profiled import column_mismatch, format_mismatch, profile_mismatch_error
+from catmap.feeds.read import encoding_warning
 from catmap.jobs._feed_profile import (
     SAMPLE_SIZE,
     open_with_profile,
@@ -99,7 +100,10 @@ def normalize_project_feed(
         profile.default_currency = default_currency
     check_profile(profile, opened.info, profile_path=path)
     language = feed_language(opened.sample(SAMPLE_SIZE), profile.columns)
-    warning = language_warning(language, project_tree_languages(project))
+    warnings = [
+        language_warning(language, project_tree_languages(project)),
+        encoding_warning(opened.info),
+    ]
 
     accounting = Accounting()
     paths = output_paths(out_dir, format)
@@ -120,6 +124,6 @@ def normalize_project_feed(
         "profile": str(path),
         "profile_status": profile_status,
         "language": language.to_dict(),
-        "warnings": [warning] if warning else [],
+        "warnings": [w for w in warnings if w],
     }
     return NormalizeResult(facts, paths, error)
