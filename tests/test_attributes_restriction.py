@@ -465,3 +465,19 @@ def test_an_alcohol_free_title_keeps_its_restricted_nodes_flag(title: str) -> No
     # cautious reading of advertising rules; common practice, no source).
     assert restriction_from_text(title) == ("", "")
     assert restriction_for_node("alcohol", False, fold(title)) == "alcohol"
+
+
+@pytest.mark.parametrize(
+    ("title", "on_a_leaf", "read_all"),
+    [
+        # "bidi" is also bidirectional (optics, text layout): on an unrestricted leaf it no
+        # longer flags; where the node cannot say, the smoke is still read.
+        ("10G BiDi SFP+ transceiver 20 km", "", ""),
+        ("Unicode bidi algorithm library", "", ""),
+        ("Bidis 20 pcs", "", "tobacco"),
+        ("Bidi cigarettes pack of 20", "tobacco", "tobacco"),
+    ],
+)
+def test_bidi_flags_tobacco_only_as_a_smoke(title: str, on_a_leaf: str, read_all: str) -> None:
+    assert restriction_for_node("", False, fold(title)) == on_a_leaf
+    assert restriction_from_text(title)[0] == read_all

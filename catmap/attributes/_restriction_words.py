@@ -323,13 +323,16 @@ PLAIN = (
     "amari lager ipa bock kriek poire perry mead mede digestif coquin coquine porn "
     "liquor sherry jerez champagne champan champanhe bourbon cognac picadura "
     "stiletto tomahawk taser crianza premix fetish rioja chianti chablis porto cassetete "
-    "dague daga dolk dolch bayonet katana"
+    "dague daga dolk dolch bayonet katana bidi bidis"
 ).split()
 
 # -- what a product is instead ------------------------------------------------------------
 
 # Phrases that hold a keyword but are not the restricted thing; they hide their words.
 HARMLESS = (
+    # "bidi" is also bidirectional: optics, text layout
+    "bidi sfp", "bidi transceiver", "bidi module", "bidi optic", "bidi optics",
+    "unicode bidi", "bidi algorithm", "bidi text",
     "wine glass", "wine glasses", "wine rack", "wine cooler", "wine opener", "wine red",
     "wine colour", "wine color", "wine bottle holder", "wine stopper", "wine aerator",
     "wine gums", "wine gum", "wine vinegar", "wine fridge", "wine cabinet", "wine tasting course",
