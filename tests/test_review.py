@@ -502,6 +502,20 @@ def test_tree_follows_the_mapping_tree_version(memory_store: Store) -> None:
 # empty tree.who(node) / tree.ages(node) means gender / age do not apply there.
 
 
+def test_a_back_off_reason_names_the_leaf_it_left(memory_store: Store, tree: CategoryTree) -> None:
+    session = _session(memory_store, tree)
+    reason = f"backed off from {ANKLE_BOOTS}"
+    assert session.reason_text("backoff", reason, ["1010", ANKLE_BOOTS]) == (
+        "too unsure of Ankle boots (alternative 2): answered a broader node"
+    )
+    assert session.reason_text("backoff", reason) == (
+        "too unsure of Ankle boots: answered a broader node"
+    )
+    # Other reasons, and a leaf the tree lacks, are shown as stored.
+    assert session.reason_text("rule", "line 3: title ~ boots") == "line 3: title ~ boots"
+    assert session.reason_text("backoff", "backed off from 999999") == "backed off from 999999"
+
+
 def test_choosing_a_wine_node_flags_alcohol(memory_store: Store, tree: CategoryTree) -> None:
     assert tree.restriction(RED_WINE) == "alcohol"
     assert not tree.who(RED_WINE) and not tree.ages(RED_WINE)

@@ -647,9 +647,12 @@ class ReviewApp(App[None]):
             )
         bar = confidence_bar(mapping.confidence, max(min(BAR_WIDTH, width - 16), 4))
         text.append(fit(f"{mapping.confidence:6.1%}  {bar}  {mapping.method}", width) + "\n")
-        if mapping.reason:
-            text.append("\n".join(wrap(mapping.reason, width, 2)) + "\n", style="dim")
         alternatives = mapping.alternatives[:MAX_ALTERNATIVES]
+        if mapping.reason:
+            reason = session.reason_text(
+                mapping.method, mapping.reason, [a.node_id for a in alternatives]
+            )
+            text.append("\n".join(wrap(reason, width, 2)) + "\n", style="dim")
         if alternatives:
             text.append("alternatives\n", style="underline")
         for number, alternative in enumerate(alternatives, start=1):

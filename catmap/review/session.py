@@ -28,7 +28,7 @@ No textual import here: the session can be driven and tested without a terminal.
 
 from __future__ import annotations
 
-from collections.abc import Callable
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 from datetime import UTC, datetime, timedelta
 
@@ -181,6 +181,18 @@ class ReviewSession:
             return self.tree.path_text(node_id)
         except UnknownNode:
             return f"node {node_id} (not in tree version {self.tree.version})"
+
+    def reason_text(self, method: str, reason: str, alternatives: Sequence[str] = ()) -> str:
+        """A mapping's reason for a person: a back-off names the leaf it left by name (and its
+        place among the alternatives), not by id; any other reason is shown as stored."""
+        prefix = "backed off from "
+        leaf = reason[len(prefix) :] if reason.startswith(prefix) else ""
+        if method != "backoff" or leaf not in self.tree:
+            return reason
+        place = ""
+        if leaf in alternatives:
+            place = f" (alternative {list(alternatives).index(leaf) + 1})"
+        return f"too unsure of {self.tree[leaf].name}{place}: answered a broader node"
 
     def restriction(self, node_id: str | None) -> str:
         """The restriction flag ``node_id`` carries in the tree ('' for none or no node)."""
