@@ -38,6 +38,7 @@ from catmap.review.sample import (
     RUNNING_SHOES,
     SAMPLE_FEED,
     T_SHIRTS,
+    _row,
     build_sample_store,
 )
 from catmap.review.session import (
@@ -252,6 +253,43 @@ async def test_group_decision_settles_every_item(store: Store, tree: CategoryTre
         assert app.session.current is not None
         assert app.session.current.product.product_id == "WN-001"
         assert "bulk_accept" in [e.action for e in store.audit_log()]
+        await pilot.press("q")
+
+
+def _with_a_product_of_no_category(store: Store) -> None:
+    """Put first in the queue a product whose feed gave no retailer category."""
+    (feed,) = [f for f in store.feeds() if f.name == SAMPLE_FEED]
+    run = store.start_run("onboard", feed=feed.id)
+    row = _row(
+        "NC-001", "Enamel mug 350 ml", path=(), node=T_SHIRTS, confidence=0.41,
+        priority=9.0, reasons=("low_confidence",),
+    )  # fmt: skip
+    store.save_mapped(feed.id, run, [row], model_version="sample", tree_version="1")
+    store.finish_run(run, summary={"read": 1, "kept": 1, "rejected": 0})
+
+
+@sync
+async def test_a_product_without_a_retailer_category_has_no_group(
+    store: Store, tree: CategoryTree
+) -> None:
+    # All products without a retailer category would otherwise be one "group" (thousands,
+    # in a feed that sends no categories), settled by one key.
+    _with_a_product_of_no_category(store)
+    session = _session(store, tree)
+    session.next()
+    assert session.current is not None and session.current.product.product_id == "NC-001"
+    with pytest.raises(ReviewError, match="no retailer category"):
+        session.decide_group(T_SHIRTS)
+    assert store.decisions() == []
+    app = ReviewApp(_session(store, tree))
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.pause()
+        assert "no group: decided one by one" in _screen_text(app, "group")
+        await pilot.press("g")
+        await pilot.pause()
+        assert app.group_mode is False
+        assert "no retailer category, so no group" in app.message
+        assert store.decisions() == []
         await pilot.press("q")
 
 

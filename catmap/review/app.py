@@ -671,7 +671,12 @@ class ReviewApp(App[None]):
         group = view.group
         width = self._inner_width()
         text = Text()
-        text.append(fit_path(group.key or "(no retailer category)", width) + "\n", style="bold")
+        if not group.key:
+            # Products without a retailer category share nothing: they are no group.
+            text.append("(no retailer category)\n", style="bold")
+            text.append(fit("no group: decided one by one", width) + "\n", style="dim")
+            return text
+        text.append(fit_path(group.key, width) + "\n", style="bold")
         products = "product" if group.size == 1 else "products"
         text.append(f"{group.size} {products}")
         if group.top_node:
@@ -857,7 +862,12 @@ class ReviewApp(App[None]):
         self.render_item()
 
     def action_group_mode(self) -> None:
-        if self.session.current is None:
+        view = self.session.current
+        if view is None:
+            return
+        if not self.group_mode and not view.item.group_key:
+            self.message = "no retailer category, so no group: decide this product alone"
+            self.render_item()
             return
         self.group_mode = not self.group_mode
         self.message = ""

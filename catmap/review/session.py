@@ -419,11 +419,19 @@ class ReviewSession:
             The node id.
 
         Raises:
-            ReviewError: there is no node to use (the product was set to no fitting node,
-                e.g. through another of its review items, and no node was picked).
+            ReviewError: the product has no retailer category (so no group), or there is no
+                node to use (the product was set to no fitting node, e.g. through another of
+                its review items, and no node was picked).
             UnknownNode: the node is not in the tree.
         """
         view = self._require()
+        if not view.item.group_key:
+            raise ReviewError(
+                "this product has no retailer category, so it belongs to no group: products "
+                "without one share nothing to decide them by",
+                product_id=view.product.product_id,
+                hint="decide it alone (Enter, 1-3, / or n)",
+            )
         target = node_id or view.mapping.node_id
         if not target:
             raise ReviewError(

@@ -244,6 +244,8 @@ def _act(
         session.choose(draw.choice(SOAK_NODES))
     elif action == "no_fit":
         session.no_fit()
+    elif action == "group" and not view.item.group_key:
+        session.accept()  # no retailer category: no group to decide
     elif action == "group":
         node = draw.choice((None, *SOAK_NODES))
         if node is None and not view.mapping.node_id:
