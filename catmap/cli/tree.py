@@ -11,6 +11,8 @@ from rich.text import Text
 from rich.tree import Tree
 
 from catmap.cli._render import console, echo_json, json_option, project_option
+from catmap.errors import InputError
+from catmap.jobs.tree_from_paths import write_tree_from_paths
 from catmap.tree.taxonomy import (
     CategoryTree,
     Node,
@@ -19,6 +21,7 @@ from catmap.tree.taxonomy import (
     open_tree,
     summarize_tree,
 )
+from catmap.tree.treefile import LANGUAGES
 
 F = TypeVar("F", bound=Callable[..., Any])
 
@@ -378,6 +381,86 @@ def diff_command(
         _say("No changes.")
     if out is not None:
         _say(f"Crosswalk written to {out}")
+
+
+@tree_group.command("from-paths")
+@click.argument("paths_file", type=click.Path(exists=True, dir_okay=False))
+@click.option(
+    "--out",
+    "out",
+    required=True,
+    type=click.Path(dir_okay=False),
+    metavar="TREE_FILE",
+    help="The tree file to write; the id list (<name>.ids.csv) and any lines not used "
+    "(<name>.rejects.csv) go beside it.",
+)
+@click.option(
+    "--separator",
+    default=None,
+    metavar="TEXT",
+    help="What separates the levels of a path (default: detected, e.g. ' > ' or '/').",
+)
+@click.option(
+    "--language",
+    type=click.Choice(LANGUAGES),
+    default="en",
+    show_default=True,
+    help="The language of the names: its keyword cell gets them.",
+)
+@click.option(
+    "--tree-version",
+    "version",
+    type=click.IntRange(min=1),
+    default=1,
+    show_default=True,
+    metavar="N",
+    help="The version written in the tree file's header.",
+)
+@json_option
+def from_paths_command(
+    paths_file: str, out: str, separator: str | None, language: str, version: int, as_json: bool
+) -> None:
+    """Write a tree file from a list of category paths.
+
+    PATHS_FILE holds one path per line ("Garden > Tools > Spades"), or is a CSV with a path
+    column (path, category, breadcrumb...) and maybe an id column. Every level becomes a node;
+    ids in the file are kept where they are digits, the other nodes get ids made from their
+    path (the same on every conversion). Edit the result's keywords, audience and
+    restrictions by hand (taxonomies/README.md), then `catmap init DIR --tree TREE_FILE`.
+    Lines that cannot be used are written with their reasons, and the command exits with 3.
+    """
+    facts = write_tree_from_paths(
+        paths_file, out, separator=separator, language=language, version=version
+    )
+    if as_json:
+        echo_json(facts)
+    else:
+        _say(f"Tree file: {facts['tree_file']} (version {version})")
+        _say(
+            f"Read {facts['lines']:,} paths (levels split on '{facts['separator']}'): "
+            f"{facts['nodes']:,} nodes, {facts['departments']:,} departments, "
+            f"{facts['leaves']:,} leaves, {facts['depth']} levels deep"
+        )
+        if facts["repeated"]:
+            named = "path named" if facts["repeated"] == 1 else "paths named"
+            _say(f"  {facts['repeated']:,} {named} more than once: used once")
+        _say(
+            f"Ids: {facts['ids_given']:,} kept from the file, {facts['ids_made']:,} made from "
+            f"the paths; the list: {facts['ids_file']}"
+        )
+        _say(
+            f"Next: edit its keywords, audience and restrictions (taxonomies/README.md), then "
+            f"`catmap tree validate {facts['tree_file']}` and "
+            f"`catmap init DIR --tree {facts['tree_file']}`"
+        )
+    if facts["rejects_file"]:
+        reasons = ", ".join(f"{code} {n}" for code, n in facts["rejected_by_reason"].items())
+        raise InputError(
+            f"{facts['rejected']:,} of {facts['lines']:,} lines were not used ({reasons}); "
+            f"they are written with their reasons to {facts['rejects_file']}",
+            path=paths_file,
+            hint="fix them in the list and convert it again",
+        )
 
 
 def register(main: click.Group) -> None:
