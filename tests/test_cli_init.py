@@ -144,6 +144,33 @@ def test_map_and_evaluate_use_the_projects_tree(tmp_path: Path) -> None:
     assert json.loads(evaluated.stdout)["mapping"]["accuracy"] > 0.5
 
 
+def test_a_labelled_feed_naming_nodes_by_path_trains_and_calibrates(tmp_path: Path) -> None:
+    # The team's own label column, holding paths of names: training reads them as nodes,
+    # and onboarding calibrates on the same column of the held-out part.
+    import csv
+
+    tree = load_tree(TREE)
+    with LABELLED.open(encoding="utf-8", newline="") as handle:
+        rows = list(csv.DictReader(handle))
+    labelled = tmp_path / "labelled-by-path.csv"
+    with labelled.open("w", encoding="utf-8", newline="") as handle:
+        fields = [f for f in rows[0] if f != "gold_node"] + ["category"]
+        writer = csv.DictWriter(handle, fieldnames=fields)
+        writer.writeheader()
+        for row in rows:
+            node = row.pop("gold_node")
+            writer.writerow({**row, "category": tree.path_text(node)})
+    project = tmp_path / "p"
+    assert run("init", project, "--tree", TREE, "--labelled", labelled).exit_code == 0
+    trained = run("train", "--project", project, "--label-column", "category", "--json")
+    assert trained.exit_code == 0, trained.output
+    facts = json.loads(trained.stdout)
+    assert facts["labels_as_paths"] == facts["rows_read"] == len(rows)
+    onboarded = run("onboard", NEW_FEED, "--project", project, "--json")
+    assert onboarded.exit_code == 0, onboarded.output
+    assert str(labelled) in json.loads(onboarded.stdout)["validation_source"]
+
+
 def test_a_store_on_another_tree_is_refused(tmp_path: Path) -> None:
     tree = load_tree(TREE)
     with Store.for_project(tmp_path) as store:

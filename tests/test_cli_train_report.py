@@ -112,11 +112,6 @@ NAMES = {"1101": "Ankle boots", "1102": "Rain boots", "1201": "Flip-flops"}
             lambda node: NAMES.get(node, node),
             "look like node names or paths, not ids ('Ankle boots' is node 1101)",
         ),
-        # Paths of names from the department down.
-        (
-            lambda node: "Footwear > Boots > Ankle boots" if node == "1101" else node,
-            "('Footwear > Boots > Ankle boots' is node 1101)",
-        ),
         # Ids a spreadsheet wrote as decimals.
         (lambda node: f"{node}.0", "look like ids written as decimals ('1101.0' is node 1101)"),
     ],
@@ -131,6 +126,32 @@ def test_labels_naming_the_trees_nodes_otherwise_than_by_id_say_so(
     assert said in result.stderr
     assert "belong to another tree" not in result.stderr
     assert len(result.stderr.strip().splitlines()) == 1
+
+
+def test_labels_written_as_paths_of_names_train_as_their_nodes(
+    project: Path, tmp_path: Path
+) -> None:
+    # A team's labelled feed names categories by path (a tree converted with `catmap tree
+    # from-paths` has made ids): those labels are read as their nodes, and said.
+    by_id = _feed(tmp_path / "ids.csv")
+    by_path = _feed(
+        tmp_path / "paths.csv",
+        label=lambda node: " footwear >  BOOTS > Ankle boots" if node == "1101" else node,
+    )
+    runs = [
+        json.loads(
+            CliRunner().invoke(main, ["train", str(f), "--project", str(project), "--json"]).stdout
+        )
+        for f in (by_id, by_path)
+    ]
+    assert runs[1]["labels_as_paths"] == 40  # the rows of 1101 (240 rows over 6 nodes)
+    assert runs[0]["labels_as_paths"] == 0
+    assert runs[1]["unknown_labels"] == 0
+    assert (runs[1]["classes"], runs[1]["products_train"]) == (
+        runs[0]["classes"], runs[0]["products_train"]
+    )
+    text = CliRunner().invoke(main, ["train", str(by_path), "--project", str(project)]).stdout
+    assert "labels as paths      40 rows name their node by its path of names" in text
 
 
 def test_an_empty_label_column_is_named_as_such(project: Path, tmp_path: Path) -> None:

@@ -104,6 +104,7 @@ class TrainingReport:
     per_class: dict[str, float] = field(default_factory=dict)
     inner_labels: int = 0
     inner_examples: list[str] = field(default_factory=list)
+    labels_as_paths: int = 0
 
     def to_dict(self) -> dict[str, Any]:
         """Return the facts as JSON-ready values."""
@@ -127,6 +128,7 @@ def _labelled_stream(
     ``unknown_ids`` the first distinct node ids the tree lacks.
     """
     rng = random.Random(random_state)
+    as_path = _path_labels(tree)
     for feed_path in feeds:
         opened = open_profiled_feed(feed_path, project, reserved=(label_column, "split"))
         if label_column not in opened.info.columns:
@@ -145,6 +147,10 @@ def _labelled_stream(
             if not label:
                 counts["unlabelled"] += 1
                 continue
+            if label not in tree and as_path(label):
+                # A path of names ("Garden > Tools > Spades"): its node's id, said in the report.
+                label = as_path(label)
+                counts["labels_as_paths"] = counts.get("labels_as_paths", 0) + 1
             if label not in tree:
                 counts["unknown_labels"] += 1
                 if (
@@ -160,6 +166,27 @@ def _labelled_stream(
                 split = "valid" if rng.random() < VALID_SHARE else "train"
             counts[split] = counts.get(split, 0) + 1
             yield item, label, split
+
+
+def _path_labels(tree: CategoryTree) -> Callable[[str], str]:
+    """Return a reader of labels written as paths of names: the node's id, "" for no node.
+
+    Only labels with a ``>`` are read (a bare name may be the name of several nodes); each
+    distinct label is looked up once.
+    """
+    known: dict[str, str] = {}
+
+    def node_of(label: str) -> str:
+        if ">" not in label:
+            return ""
+        if label not in known:
+            try:
+                known[label] = tree.find_path(label).id
+            except UnknownNode:
+                known[label] = ""
+        return known[label]
+
+    return node_of
 
 
 def read_labelled(
@@ -535,6 +562,7 @@ def train_model(
         per_class=_class_summary(list(used.values())),
         inner_labels=sum(count for node, count in per_class.items() if node in inner),
         inner_examples=[f"{node} {tree[node].name}" for node in inner[:UNKNOWN_IDS_SHOWN]],
+        labels_as_paths=counts.get("labels_as_paths", 0),
     )
 
 

@@ -156,6 +156,11 @@ def train_command(
             f"lacks ({facts['unknown_share']:.1%}{': ' + escape(examples) if examples else ''}), "
             f"{facts['unlabelled']:,} without a label"
         )
+    if facts.get("labels_as_paths"):
+        console.print(
+            f"  labels as paths      {facts['labels_as_paths']:,} rows name their node by its "
+            "path of names (read as the node's id)"
+        )
     if facts["inner_labels"]:
         console.print(
             f"  inner nodes          {facts['inner_labels']:,} training rows are labelled with "

@@ -22,7 +22,7 @@ from typing import IO, Any
 import numpy as np
 
 from catmap._atomic import atomic_open
-from catmap.classify.storage import file_fingerprint
+from catmap.classify.storage import file_fingerprint, read_manifest
 from catmap.classify.training import read_labelled
 from catmap.decide.threshold import (
     DEFAULT_DELTA,
@@ -30,7 +30,7 @@ from catmap.decide.threshold import (
     ThresholdChoice,
     choose_threshold,
 )
-from catmap.errors import ModelError
+from catmap.errors import InputError, ModelError
 from catmap.jobs._feed_mapper import CHUNK_SIZE, FeedMapper, acceptance_score
 from catmap.project import feed_stem, is_demo_project, load_settings
 from catmap.records import Product
@@ -120,20 +120,26 @@ def _default_calibration_feed() -> Path:
 
 
 def _calibration_rows(
-    feeds: Sequence[Path], tree: CategoryTree, project: Path
+    feeds: Sequence[Path], tree: CategoryTree, project: Path, label_column: str = "gold_node"
 ) -> tuple[list[tuple[Product, str]], list[str]]:
     """Labelled rows to calibrate on, and a description of each feed's part.
 
     A feed with a ``split`` column gives its ``valid`` rows only (the others may have trained
     the model); a feed without one is taken to be outside the training data and gives every
-    labelled row.
+    labelled row. Labels are read from ``label_column`` (the one the model was trained
+    with), or from ``gold_node`` in a feed that lacks it.
     """
     rows: list[tuple[Product, str]] = []
     described: list[str] = []
     settings = load_settings(project)
     trained_on = {Path(f).resolve() for f in settings.labelled} if settings is not None else set()
     for feed in feeds:
-        data = read_labelled([feed], tree=tree, project=project)
+        try:
+            data = read_labelled([feed], tree=tree, project=project, label_column=label_column)
+        except InputError as error:
+            if label_column == "gold_node" or error.field != label_column:
+                raise
+            data = read_labelled([feed], tree=tree, project=project)
         everything = data.train + data.valid + data.test
         if Path(feed).resolve() in trained_on:
             # One of the project's training feeds: only the part training held out.
@@ -211,7 +217,8 @@ def validation_predictions(
             _save_sources(folder / VALIDATION_FILE, cached, model_stamp)
         return cached[0]
     feeds = given or [_default_calibration_feed()]
-    rows, described = _calibration_rows(feeds, mapper.tree, Path(project))
+    label_column = str(read_manifest(folder).get("label_column") or "gold_node")
+    rows, described = _calibration_rows(feeds, mapper.tree, Path(project), label_column)
     if not rows:
         raise ModelError(
             "no labelled products to choose the accept threshold from",
