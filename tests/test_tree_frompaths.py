@@ -11,7 +11,8 @@ import pytest
 from click.testing import CliRunner
 
 from catmap.cli import main
-from catmap.tree.frompaths import detect_separator, read_paths, tree_from_paths
+from catmap.jobs.tree_from_paths import read_paths
+from catmap.tree.frompaths import detect_separator, tree_from_paths
 from catmap.tree.taxonomy import CategoryTree, load_default_tree, load_tree
 from catmap.tree.treefile import MAX_LEVEL
 

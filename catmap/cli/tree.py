@@ -422,7 +422,8 @@ def from_paths_command(
 ) -> None:
     """Write a tree file from a list of category paths.
 
-    PATHS_FILE holds one path per line ("Garden > Tools > Spades"), or is a CSV with a path
+    PATHS_FILE holds one path of your own names per line, such as 'Garden > Tools > Spades',
+    or is a CSV with a path
     column (path, category, breadcrumb...) and maybe an id column. Every level becomes a node;
     ids in the file are kept where they are digits, the other nodes get ids made from their
     path (the same on every conversion). Edit the result's keywords, audience and

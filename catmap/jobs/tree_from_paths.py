@@ -4,17 +4,31 @@ every node beside it and the lines that could not be used (see :mod:`catmap.tree
 from __future__ import annotations
 
 import csv
+import io
 from collections import Counter
 from pathlib import Path
 from typing import Any
 
 from catmap._atomic import atomic_open, write_text_atomic
 from catmap._cells import neutralise_cell
-from catmap.tree.frompaths import read_paths, tree_from_paths
+from catmap.errors import InputError
+from catmap.feeds._sniff import detect_encoding
+from catmap.tree.frompaths import tree_from_paths
 from catmap.tree.taxonomy import load_tree
 from catmap.tree.treefile import format_tree
 
-__all__ = ["ids_path", "rejects_path", "write_tree_from_paths"]
+__all__ = [
+    "ID_COLUMNS",
+    "PATH_COLUMNS",
+    "ids_path",
+    "read_paths",
+    "rejects_path",
+    "write_tree_from_paths",
+]
+
+# Header names of the path column and of the id column (compared case-insensitively).
+PATH_COLUMNS = ("path", "category", "category_path", "category path", "breadcrumb", "full_path")
+ID_COLUMNS = ("id", "node_id", "category_id", "cat_id", "code")
 
 
 def ids_path(out: Path) -> Path:
@@ -60,8 +74,6 @@ def write_tree_from_paths(
     Raises:
         InputError: the list cannot be read, or holds no usable path.
     """
-    from catmap.errors import InputError
-
     source, out = Path(source), Path(out)
     built = tree_from_paths(read_paths(source), separator=separator, language=language)
     rejected = rejects_path(out)
@@ -100,3 +112,63 @@ def write_tree_from_paths(
         "ids_given": sum(1 for given, node_id, _p in built.ids if given and given == node_id),
         "ids_made": sum(1 for given, node_id, _p in built.ids if given != node_id),
     }
+
+
+def read_paths(path: str | Path) -> list[tuple[int, str, str]]:
+    """Read the path lines of a file: (line number, id given or "", path text).
+
+    A CSV (comma, semicolon or tab) whose header names a path column (:data:`PATH_COLUMNS`)
+    is read by that column, with an id column (:data:`ID_COLUMNS`) when there is one. Any
+    other file is one path per line; blank lines and lines starting with ``#`` are skipped.
+
+    Raises:
+        InputError: the file cannot be read or decoded, or holds no path.
+    """
+    file = Path(path)
+    try:
+        data = file.read_bytes()
+    except OSError as error:
+        raise InputError(
+            f"cannot read the category list: {error.strerror or error}",
+            path=file,
+            hint="give a text file with one category path per line",
+        ) from error
+    encoding, _source = detect_encoding(data[: 1 << 20], None, file)
+    try:
+        text = data.decode(encoding)
+    except UnicodeDecodeError as error:
+        raise InputError(
+            f"the category list is not readable as {encoding}",
+            path=file,
+            hint="save it as UTF-8",
+        ) from error
+    lines = text.splitlines()
+    header = lines[0] if lines else ""
+    delimiter = max(",;\t", key=header.count)
+    columns = [c.strip().strip('"').casefold() for c in header.split(delimiter)]
+    rows: list[tuple[int, str, str]] = []
+    if header.count(delimiter) and any(c in PATH_COLUMNS for c in columns):
+        path_at = next(i for i, c in enumerate(columns) if c in PATH_COLUMNS)
+        id_at = next((i for i, c in enumerate(columns) if c in ID_COLUMNS), None)
+        reader = csv.reader(io.StringIO(text), delimiter=delimiter)
+        next(reader)
+        for record in reader:
+            number = reader.line_num
+            if not any(cell.strip() for cell in record):
+                continue
+            value = record[path_at] if path_at < len(record) else ""
+            given = record[id_at] if id_at is not None and id_at < len(record) else ""
+            rows.append((number, given, value))
+    else:
+        for number, line in enumerate(lines, start=1):
+            stripped = line.strip()
+            if stripped and not stripped.startswith("#"):
+                rows.append((number, "", stripped))
+    if not rows:
+        raise InputError(
+            "the category list holds no path",
+            path=file,
+            hint="one path per line, e.g. 'Garden > Tools > Spades', or a CSV with a 'path' "
+            "column",
+        )
+    return rows

@@ -14,32 +14,23 @@ paths...) is rejected with its line number and the reason, and the rest is built
 
 from __future__ import annotations
 
-import csv
 import hashlib
-import io
 import re
 from collections import Counter
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass, field
-from pathlib import Path
 
-from catmap.errors import InputError
 from catmap.tree.treefile import LANGUAGES, MAX_LEVEL, Node
 
 __all__ = [
-    "PATH_COLUMNS",
     "SEPARATORS",
     "PathsTree",
     "detect_separator",
-    "read_paths",
     "tree_from_paths",
 ]
 
 # Separators tried, most specific first; the one found in the most lines wins.
 SEPARATORS: tuple[str, ...] = (" > ", ">", " | ", "|", " » ", "»", " › ", "›", " / ", "/", "::")
-# Header names of the path column and of the id column (compared case-insensitively).
-PATH_COLUMNS = ("path", "category", "category_path", "category path", "breadcrumb", "full_path")
-ID_COLUMNS = ("id", "node_id", "category_id", "cat_id", "code")
 # Words that join two names in one node's name, per language ("Tops and T-shirts").
 _JOINERS = {"en": "and", "fr": "et", "de": "und", "es": "y"}
 # Generated ids: this many digits, so that they never meet the short ids a team writes.
@@ -221,65 +212,3 @@ def tree_from_paths(
             )
             ids.append((source, node_id, " > ".join(levels[:depth])))
     return PathsTree(nodes, ids, rejects, separator, len(rows), repeated)
-
-
-def read_paths(path: str | Path) -> list[tuple[int, str, str]]:
-    """Read the path lines of a file: (line number, id given or "", path text).
-
-    A CSV (comma, semicolon or tab) whose header names a path column (:data:`PATH_COLUMNS`)
-    is read by that column, with an id column (:data:`ID_COLUMNS`) when there is one. Any
-    other file is one path per line; blank lines and lines starting with ``#`` are skipped.
-
-    Raises:
-        InputError: the file cannot be read or decoded, or holds no path.
-    """
-    from catmap.feeds._sniff import detect_encoding
-
-    file = Path(path)
-    try:
-        data = file.read_bytes()
-    except OSError as error:
-        raise InputError(
-            f"cannot read the category list: {error.strerror or error}",
-            path=file,
-            hint="give a text file with one category path per line",
-        ) from error
-    encoding, _source = detect_encoding(data[: 1 << 20], None, file)
-    try:
-        text = data.decode(encoding)
-    except UnicodeDecodeError as error:
-        raise InputError(
-            f"the category list is not readable as {encoding}",
-            path=file,
-            hint="save it as UTF-8",
-        ) from error
-    lines = text.splitlines()
-    header = lines[0] if lines else ""
-    delimiter = max(",;\t", key=header.count)
-    columns = [c.strip().strip('"').casefold() for c in header.split(delimiter)]
-    rows: list[tuple[int, str, str]] = []
-    if header.count(delimiter) and any(c in PATH_COLUMNS for c in columns):
-        path_at = next(i for i, c in enumerate(columns) if c in PATH_COLUMNS)
-        id_at = next((i for i, c in enumerate(columns) if c in ID_COLUMNS), None)
-        reader = csv.reader(io.StringIO(text), delimiter=delimiter)
-        next(reader)
-        for record in reader:
-            number = reader.line_num
-            if not any(cell.strip() for cell in record):
-                continue
-            value = record[path_at] if path_at < len(record) else ""
-            given = record[id_at] if id_at is not None and id_at < len(record) else ""
-            rows.append((number, given, value))
-    else:
-        for number, line in enumerate(lines, start=1):
-            stripped = line.strip()
-            if stripped and not stripped.startswith("#"):
-                rows.append((number, "", stripped))
-    if not rows:
-        raise InputError(
-            "the category list holds no path",
-            path=file,
-            hint="one path per line, e.g. 'Garden > Tools > Spades', or a CSV with a 'path' "
-            "column",
-        )
-    return rows
