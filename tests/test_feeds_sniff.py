@@ -328,3 +328,16 @@ def test_gzip_cut_inside_its_first_block_is_one_clear_error(tmp_path: Path) -> N
         list(open_feed(path))
     assert str(info.value).count(str(path)) == 1
     assert "cut short" in str(info.value)
+
+
+def test_gzip_cut_inside_a_quoted_cell_keeps_the_records_before_it(tmp_path: Path) -> None:
+    rows = "".join(f'Q-{i},"Item {i}, two\nlines",{i}.00\n' for i in range(1, 2001))
+    whole = gzip.compress(("id,title,price\n" + rows).encode())
+    path = tmp_path / "cut.csv.gz"
+    path.write_bytes(whole[: len(whole) // 2])
+    read: list[SourceRecord | Reject] = []
+    with pytest.raises(FeedFormatError, match="cut short"):
+        read.extend(open_feed(path))
+    assert all(isinstance(r, SourceRecord) for r in read)
+    assert [r.line for r in read] == [2 * i for i in range(1, len(read) + 1)]
+    assert read[-1].fields["title"] == f"Item {len(read)}, two\nlines"

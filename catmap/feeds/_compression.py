@@ -66,13 +66,27 @@ class _Checked(io.BufferedIOBase):
     A truncated gzip or a damaged zip member is found only when reading reaches the damage,
     possibly after many good records; the user then gets one clear error instead of a
     traceback.
+
+    With ``hold_damage`` the error is not raised: the stream reads as ended and keeps the
+    error in ``damage``. A text stream over it then gives every line decoded before the cut
+    (raised through it, the error would take with it the lines a ``readlines`` call had
+    gathered); the reader raises the error after them.
     """
 
-    def __init__(self, inner: io.BufferedIOBase, path: str | Path, compression: str) -> None:
+    def __init__(
+        self,
+        inner: io.BufferedIOBase,
+        path: str | Path,
+        compression: str,
+        *,
+        hold_damage: bool = False,
+    ) -> None:
         super().__init__()
         self._inner = inner
         self._path = path
         self._compression = compression
+        self._hold_damage = hold_damage
+        self.damage: FeedFormatError | None = None
 
     def _failed(self, exc: Exception) -> FeedFormatError:
         return FeedFormatError(
@@ -85,6 +99,8 @@ class _Checked(io.BufferedIOBase):
         return True
 
     def read(self, size: int | None = -1) -> bytes:
+        if self.damage is not None:
+            return b""
         try:
             if size is None or size < 0:
                 return self._inner.read(-1)
@@ -93,7 +109,12 @@ class _Checked(io.BufferedIOBase):
             # would give no record at all. The damage is raised on the read after.
             return self._inner.read1(size)
         except (OSError, EOFError, zlib.error, zipfile.BadZipFile) as exc:
-            raise self._failed(exc) from exc
+            error = self._failed(exc)
+            if not self._hold_damage:
+                raise error from exc
+            error.__cause__ = exc
+            self.damage = error
+            return b""
 
     def read1(self, size: int = -1) -> bytes:
         return self.read(size)
@@ -103,6 +124,11 @@ class _Checked(io.BufferedIOBase):
             self._inner.close()
         finally:
             super().close()
+
+
+def damage_found(stream: IO[bytes]) -> FeedFormatError | None:
+    """The damage a stream opened with ``open_binary(..., hold_damage=True)`` found, if any."""
+    return stream.damage if isinstance(stream, _Checked) else None
 
 
 def _zip_member_name(archive: zipfile.ZipFile, path: str | Path) -> str:
@@ -141,11 +167,13 @@ def _zip_member_name(archive: zipfile.ZipFile, path: str | Path) -> str:
     return members[0]
 
 
-def open_binary(path: str | Path) -> tuple[IO[bytes], str | None]:
+def open_binary(path: str | Path, *, hold_damage: bool = False) -> tuple[IO[bytes], str | None]:
     """Open ``path`` for reading as decompressed bytes.
 
     Args:
         path: the feed file.
+        hold_damage: gzip or zip data found cut or damaged reads as ended instead of raising;
+            :func:`damage_found` gives the error.
 
     Returns:
         The byte stream (the caller closes it) and the compression found ("gzip", "zip", None).
@@ -156,7 +184,8 @@ def open_binary(path: str | Path) -> tuple[IO[bytes], str | None]:
     compression = detect_compression(path)
     if compression == "gzip":
         inner = gzip.GzipFile(path, "rb")
-        return cast(IO[bytes], _Checked(inner, path, "gzip")), compression
+        checked = _Checked(inner, path, "gzip", hold_damage=hold_damage)
+        return cast(IO[bytes], checked), compression
     if compression == "zip":
         try:
             archive = zipfile.ZipFile(path)
@@ -177,7 +206,8 @@ def open_binary(path: str | Path) -> tuple[IO[bytes], str | None]:
                     path=path,
                     hint="ask the sender for the file again, plain or gzip",
                 ) from exc
-            return cast(IO[bytes], _Checked(opened, path, "zip")), compression
+            checked = _Checked(opened, path, "zip", hold_damage=hold_damage)
+            return cast(IO[bytes], checked), compression
         except BaseException:
             archive.close()
             raise
