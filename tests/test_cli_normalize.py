@@ -137,6 +137,22 @@ def test_fatal_feed_error_keeps_good_records_and_exits_3(tmp_path: Path) -> None
     assert saved["stopped_early"] == facts["stopped_early"]
 
 
+def test_quote_never_closed_is_one_reject_and_the_rows_after_it_are_kept(tmp_path: Path) -> None:
+    feed = tmp_path / "shop-q.csv"
+    feed.write_text(FEED + 'A-5,"Ledger,2.00,Tamsel,paper\nA-6,Pencil,1.00,Tamsel,wood\n')
+    out = tmp_path / "o"
+    result = _run("normalise", str(feed), "--out", str(out), "--project", str(tmp_path), "--json")
+    assert result.exit_code == 0  # type: ignore[attr-defined]
+    facts = json.loads(result.stdout)  # type: ignore[attr-defined]
+    assert facts["stopped_early"] is None
+    rejects = [json.loads(line) for line in (out / "rejects.jsonl").read_text("utf-8").splitlines()]
+    broken = [r for r in rejects if r["reason"] == "unparseable_record"]
+    assert [(r["line"], r["excerpt"]) for r in broken] == [(7, 'A-5,"Ledger,2.00,Tamsel,paper')]
+    assert "never closed" in broken[0]["detail"]
+    written = (out / "products.jsonl").read_text("utf-8")
+    assert '"product_id":"A-6"' in written
+
+
 def test_unreadable_feed_exits_3(tmp_path: Path) -> None:
     empty = tmp_path / "empty.csv"
     empty.write_text("", encoding="utf-8")

@@ -10,7 +10,6 @@ from typing import Any
 
 import pytest
 
-from catmap.errors import FeedFormatError
 from catmap.feeds import _line_window, delimited, open_feed
 from catmap.feeds.delimited import header_names, sniff_delimiter, sniff_header
 from catmap.records import Reject, SourceRecord
@@ -138,19 +137,39 @@ def test_ragged_rows_are_rejected_with_counts(tmp_path: Path) -> None:
     assert [r.line for r in results] == [2, 4, 5]
 
 
-def test_unterminated_quote_names_the_line_where_it_opened(tmp_path: Path) -> None:
+def test_a_quote_never_closed_rejects_its_row_and_reads_the_lines_after_it(
+    tmp_path: Path,
+) -> None:
     path = tmp_path / "quote.csv"
     lines = ["id,title"] + [f"Y-{i},Item {i}" for i in range(1, 11)]
     lines.insert(6, 'Y-X,"Broken')
     path.write_text("\n".join(lines) + "\n")
-    feed = open_feed(path)
-    seen = []
-    with pytest.raises(FeedFormatError, match="never closed") as info:
-        for record in feed:
-            seen.append(record)
-    assert info.value.line == 7
-    assert info.value.hint and 'double it ("")' in info.value.hint
-    assert len(seen) == 5
+    results = list(open_feed(path))
+    rejects = [r for r in results if isinstance(r, Reject)]
+    assert [(r.reason, r.line, r.excerpt) for r in rejects] == [
+        ("unparseable_record", 7, 'Y-X,"Broken')
+    ]
+    detail = rejects[0].detail
+    assert "never closed (the feed ends inside it)" in detail
+    assert "runs on to line 12" in detail
+    assert 'double each " inside quoted text' in detail
+    records = [r for r in results if isinstance(r, SourceRecord)]
+    assert [(r.fields["id"], r.line) for r in records] == [
+        (f"Y-{i}", i + 1 if i < 6 else i + 2) for i in range(1, 11)
+    ]
+
+
+def test_a_quote_never_closed_on_the_last_line_rejects_that_line_only(tmp_path: Path) -> None:
+    path = tmp_path / "last.csv"
+    path.write_text('id,title\nL-1,Lamp\nL-2,"Chair')  # no line end either
+    results = list(open_feed(path))
+    assert [(type(r).__name__, r.line) for r in results] == [
+        ("SourceRecord", 2),
+        ("Reject", 3),
+    ]
+    reject = results[1]
+    assert isinstance(reject, Reject)
+    assert "runs on" not in reject.detail and "never closed" in reject.detail
 
 
 def test_five_megabyte_field(tmp_path: Path) -> None:

@@ -6,11 +6,11 @@ Each record keeps only its non-empty cells (a missing value is an absent key, as
 :class:`~catmap.records.SourceRecord` says), which saves memory on wide, sparse feeds.
 
 Importing this module raises the process-wide ``csv.field_size_limit`` to 64 MiB (never lowers
-it): a 5 MB description must fit, while a stray quote that would swallow a huge file still
-stops with an error instead of filling memory.
+it): a 5 MB description must fit, while a stray quote that would swallow a huge file stops at
+the limit instead of filling memory.
 
-A row the csv reader cannot split (a stray quote that ran on into the following lines) is
-rejected, and the lines it took are split again on their own from memory:
+A row the csv reader cannot split (a stray quote that ran on into the following lines, or one
+never closed) is rejected, and the lines it took are split again on their own from memory:
 the reader reads through a :class:`~catmap.feeds._line_window.LineWindow` that keeps the lines
 of the row being read, so the feed is never read again.
 """
@@ -34,7 +34,7 @@ from catmap.records import Reject, SourceRecord
 DELIMITERS = (",", ";", "\t", "|")
 _DELIMITER_NAMES = {"tab": "\t", "\\t": "\t", "comma": ",", "semicolon": ";", "pipe": "|"}
 # Large enough for a 5 MB product description, small enough that an unterminated quote in a
-# huge file stops with an error instead of swallowing it all into memory.
+# huge file stops there instead of swallowing it all into memory.
 FIELD_SIZE_LIMIT = 64 * 1024 * 1024
 csv.field_size_limit(max(csv.field_size_limit(), FIELD_SIZE_LIMIT))
 
@@ -335,7 +335,7 @@ def iter_delimited(
         "unparseable_record".
 
     Raises:
-        FeedFormatError: an unterminated quote, or a field larger than the limit; gzip or zip
+        FeedFormatError: a cell with no quote larger than the cell size limit; gzip or zip
             data cut short or damaged (after the records before the damage).
     """
     stream, _ = open_binary(path, hold_damage=True)
@@ -362,8 +362,8 @@ def read_delimited_text(
 ) -> Iterator[SourceRecord | Reject]:
     """Yield the records and rejects of delimited text (a whole file, or a slice of one).
 
-    A row the csv reader cannot split (a stray quote) is rejected, and the lines it swallowed
-    are read again on their own, from the lines kept while it was read.
+    A row the csv reader cannot split (a stray quote, or one never closed) is rejected, and the
+    lines it swallowed are read again on their own, from the lines kept while it was read.
 
     Args:
         text: the decoded text, opened with ``newline=""``.
@@ -384,7 +384,7 @@ def read_delimited_text(
         the header row written again inside the feed (files joined by hand).
 
     Raises:
-        FeedFormatError: an unterminated quote, or a field larger than the limit; the error
+        FeedFormatError: a cell with no quote larger than the cell size limit; the error
             ``damage`` gives, after the records before the damage.
     """
     named = has_header if named_columns is None else named_columns
@@ -454,15 +454,6 @@ def _read_rows(
                     path=path,
                     line=start,
                     hint="the row has no quote; ask the sender to cut the cell, or split the file",
-                ) from exc
-            if depth == 0 and ("unexpected end of data" in message or "field larger" in message):
-                raise FeedFormatError(
-                    "a quoted field opened here is never closed"
-                    + (" (it grew past the field size limit)" if "larger" in message else ""),
-                    path=path,
-                    line=start,
-                    hint='a stray " swallowed the rest of the file; double it ("") inside '
-                    "quoted text or remove it",
                 ) from exc
             yield from _unsplittable(
                 lines, path=path, encoding=encoding, delimiter=delimiter, columns=columns,
