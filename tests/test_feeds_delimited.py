@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import csv
 import gzip
 import io
 import zipfile
@@ -421,3 +422,24 @@ def test_quotes_that_never_balance_are_read_again_a_bounded_number_of_times(
     results = list(open_feed(path))
     assert all(isinstance(r, Reject) for r in results)
     assert [r.line for r in results] == list(range(2, count + 4))
+
+
+def test_a_row_too_long_to_keep_is_one_reject_naming_its_lines(
+    tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    # Each of these lines closes a cell and opens the next: one row of many small cells grows
+    # past twice the cell limit before the last line ends it in a way that cannot be split.
+    monkeypatch.setattr(_line_window, "BLOCK_CHARS", 64)
+    path = tmp_path / "long.csv"
+    path.write_text('id,title\nR-0,"open\n' + '""","x\n' * 1000 + '"y\nR-2,Lamp\n')
+    before = csv.field_size_limit(1024)
+    try:
+        results = list(open_feed(path))
+    finally:
+        csv.field_size_limit(before)
+    reject, record = results
+    assert isinstance(reject, Reject) and isinstance(record, SourceRecord)
+    assert (reject.reason, reject.line) == ("unparseable_record", 2)
+    assert reject.detail.startswith("cannot split the rows on lines 2-1003: ")
+    assert "more text than catmap keeps" in reject.detail
+    assert (record.fields["id"], record.line) == ("R-2", 1004)
