@@ -79,7 +79,7 @@ class InputError(CatmapError):
 
 
 class FeedFormatError(InputError):
-    """A feed is not well-formed (broken XML, unterminated quote, unknown format...)."""
+    """A feed is not well-formed (broken XML, gzip or zip data cut short, unknown format...)."""
 
 
 class FeedEncodingError(InputError):

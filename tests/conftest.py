@@ -6,6 +6,9 @@ that defines its own ``world`` keeps it.
 
 from __future__ import annotations
 
+import csv
+from collections.abc import Iterator
+
 import pytest
 
 from tests.test_onboard import SmallWorld, small_world
@@ -21,3 +24,18 @@ def world(tmp_path_factory: pytest.TempPathFactory) -> SmallWorld:
 def tiny_tree(world: SmallWorld, monkeypatch: pytest.MonkeyPatch) -> None:
     """Point the shared tree at the small world's tree for one test."""
     monkeypatch.setenv("CATMAP_TAXONOMIES", str(world.tree_dir))
+
+
+# The cell size limit for one test of a feed that stops early: a cell larger than the limit,
+# with no quote, is the error that still stops reading a plain delimited feed.
+SMALL_CELL_LIMIT = 1 << 16
+
+
+@pytest.fixture()
+def oversized_cell() -> Iterator[bytes]:
+    """Lower the csv cell size limit for one test and give a cell, with no quote, larger than it."""
+    before = csv.field_size_limit(SMALL_CELL_LIMIT)
+    try:
+        yield b"x" * (SMALL_CELL_LIMIT + 1)
+    finally:
+        csv.field_size_limit(before)

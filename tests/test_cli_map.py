@@ -287,14 +287,12 @@ def test_map_in_a_fresh_process_imports_only_what_mapping_needs(
 
 @pytest.mark.parametrize("workers", ["1", "2"])
 def test_map_writes_the_products_read_before_a_fatal_feed_error(
-    setup: tuple[Path, Path], tmp_path: Path, workers: str
+    setup: tuple[Path, Path], tmp_path: Path, workers: str, oversized_cell: bytes
 ) -> None:
     feed, project = setup
     broken = tmp_path / "broken.csv"
-    # An unterminated quote on the last line stops the reading after 240 good records.
-    broken.write_text(
-        feed.read_text(encoding="utf-8") + 'p-broken,"Unclosed title\n', encoding="utf-8"
-    )
+    # A cell past the cell size limit on the last line stops the reading after 240 records.
+    broken.write_bytes(feed.read_bytes() + b"p-broken," + oversized_cell + b"\n")
     out = tmp_path / "out"
     result = CliRunner().invoke(
         main,
@@ -309,13 +307,11 @@ def test_map_writes_the_products_read_before_a_fatal_feed_error(
 
 
 def test_map_summary_counts_the_products_mapped_before_a_fatal_feed_error(
-    setup: tuple[Path, Path], tmp_path: Path
+    setup: tuple[Path, Path], tmp_path: Path, oversized_cell: bytes
 ) -> None:
     feed, project = setup
     broken = tmp_path / "broken.csv"
-    broken.write_text(
-        feed.read_text(encoding="utf-8") + 'p-broken,"Unclosed title\n', encoding="utf-8"
-    )
+    broken.write_bytes(feed.read_bytes() + b"p-broken," + oversized_cell + b"\n")
     out = tmp_path / "out"
     args = ["map", str(broken), "--out", str(out), "--project", str(project), "--workers", "1"]
     result = CliRunner().invoke(main, [*args, "--json"])
@@ -324,7 +320,7 @@ def test_map_summary_counts_the_products_mapped_before_a_fatal_feed_error(
     accounting = json.loads((out / "accounting.json").read_text(encoding="utf-8"))
     assert facts["products"] == accounting["kept"] == 240
     assert facts["accounting"]["stopped_early"] == accounting["stopped_early"]
-    assert "never closed" in accounting["stopped_early"]
+    assert "larger than 64 KiB" in accounting["stopped_early"]
     text = CliRunner().invoke(main, args)
     assert text.exit_code == 3
     assert "read 240 = kept 240 + rejected 0" in text.stdout

@@ -2,7 +2,9 @@
 
 from __future__ import annotations
 
+import io
 import json
+import zipfile
 from pathlib import Path
 
 import pandas as pd
@@ -135,6 +137,43 @@ def test_fatal_feed_error_keeps_good_records_and_exits_3(tmp_path: Path) -> None
     assert len(written) == facts["kept"]
     saved = json.loads((out / "accounting.json").read_text("utf-8"))
     assert saved["stopped_early"] == facts["stopped_early"]
+
+
+def test_cut_zip_keeps_the_records_before_the_cut_and_exits_3(tmp_path: Path) -> None:
+    rows = "".join(f"Z-{n},Lamp number {n} with a shade,{n}.00\n" for n in range(1, 3001))
+    packed = io.BytesIO()
+    with zipfile.ZipFile(packed, "w", compression=zipfile.ZIP_DEFLATED) as archive:
+        archive.writestr("shop-z.csv", "id,title,price\n" + rows)
+    feed = tmp_path / "shop-z.zip"
+    feed.write_bytes(packed.getvalue()[: len(packed.getvalue()) // 2])
+    out = tmp_path / "o"
+    result = _run("normalise", str(feed), "--out", str(out), "--project", str(tmp_path), "--json")
+    assert result.exit_code == 3  # type: ignore[attr-defined]
+    error = result.stderr  # type: ignore[attr-defined]
+    assert error.startswith(f"catmap: error: {feed}: the zip data is damaged or cut short: ")
+    assert "the archive ends inside 'shop-z.csv'" in error and "ask the sender" in error
+    facts = json.loads(result.stdout)  # type: ignore[attr-defined]
+    assert 1000 < facts["kept"] < 3000 and facts["rejected"] == 0
+    written = [
+        json.loads(line) for line in (out / "products.jsonl").read_text("utf-8").splitlines()
+    ]
+    assert [p["product_id"] for p in written] == [f"Z-{n}" for n in range(1, facts["kept"] + 1)]
+
+
+def test_quote_never_closed_is_one_reject_and_the_rows_after_it_are_kept(tmp_path: Path) -> None:
+    feed = tmp_path / "shop-q.csv"
+    feed.write_text(FEED + 'A-5,"Ledger,2.00,Tamsel,paper\nA-6,Pencil,1.00,Tamsel,wood\n')
+    out = tmp_path / "o"
+    result = _run("normalise", str(feed), "--out", str(out), "--project", str(tmp_path), "--json")
+    assert result.exit_code == 0  # type: ignore[attr-defined]
+    facts = json.loads(result.stdout)  # type: ignore[attr-defined]
+    assert facts["stopped_early"] is None
+    rejects = [json.loads(line) for line in (out / "rejects.jsonl").read_text("utf-8").splitlines()]
+    broken = [r for r in rejects if r["reason"] == "unparseable_record"]
+    assert [(r["line"], r["excerpt"]) for r in broken] == [(7, 'A-5,"Ledger,2.00,Tamsel,paper')]
+    assert "never closed" in broken[0]["detail"]
+    written = (out / "products.jsonl").read_text("utf-8")
+    assert '"product_id":"A-6"' in written
 
 
 def test_unreadable_feed_exits_3(tmp_path: Path) -> None:

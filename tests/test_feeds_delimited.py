@@ -2,12 +2,16 @@
 
 from __future__ import annotations
 
+import csv
+import gzip
+import io
+import zipfile
 from pathlib import Path
+from typing import Any
 
 import pytest
 
-from catmap.errors import FeedFormatError
-from catmap.feeds import open_feed
+from catmap.feeds import _line_window, delimited, open_feed
 from catmap.feeds.delimited import header_names, sniff_delimiter, sniff_header
 from catmap.records import Reject, SourceRecord
 
@@ -134,19 +138,39 @@ def test_ragged_rows_are_rejected_with_counts(tmp_path: Path) -> None:
     assert [r.line for r in results] == [2, 4, 5]
 
 
-def test_unterminated_quote_names_the_line_where_it_opened(tmp_path: Path) -> None:
+def test_a_quote_never_closed_rejects_its_row_and_reads_the_lines_after_it(
+    tmp_path: Path,
+) -> None:
     path = tmp_path / "quote.csv"
     lines = ["id,title"] + [f"Y-{i},Item {i}" for i in range(1, 11)]
     lines.insert(6, 'Y-X,"Broken')
     path.write_text("\n".join(lines) + "\n")
-    feed = open_feed(path)
-    seen = []
-    with pytest.raises(FeedFormatError, match="never closed") as info:
-        for record in feed:
-            seen.append(record)
-    assert info.value.line == 7
-    assert info.value.hint and 'double it ("")' in info.value.hint
-    assert len(seen) == 5
+    results = list(open_feed(path))
+    rejects = [r for r in results if isinstance(r, Reject)]
+    assert [(r.reason, r.line, r.excerpt) for r in rejects] == [
+        ("unparseable_record", 7, 'Y-X,"Broken')
+    ]
+    detail = rejects[0].detail
+    assert "never closed (the feed ends inside it)" in detail
+    assert "runs on to line 12" in detail
+    assert 'double each " inside quoted text' in detail
+    records = [r for r in results if isinstance(r, SourceRecord)]
+    assert [(r.fields["id"], r.line) for r in records] == [
+        (f"Y-{i}", i + 1 if i < 6 else i + 2) for i in range(1, 11)
+    ]
+
+
+def test_a_quote_never_closed_on_the_last_line_rejects_that_line_only(tmp_path: Path) -> None:
+    path = tmp_path / "last.csv"
+    path.write_text('id,title\nL-1,Lamp\nL-2,"Chair')  # no line end either
+    results = list(open_feed(path))
+    assert [(type(r).__name__, r.line) for r in results] == [
+        ("SourceRecord", 2),
+        ("Reject", 3),
+    ]
+    reject = results[1]
+    assert isinstance(reject, Reject)
+    assert "runs on" not in reject.detail and "never closed" in reject.detail
 
 
 def test_five_megabyte_field(tmp_path: Path) -> None:
@@ -260,3 +284,162 @@ def test_two_stray_quotes_reject_their_own_lines_only(tmp_path: Path) -> None:
         "T-4",
         "T-5",
     ]
+
+
+def _stray_feed(rows: int, every: int) -> str:
+    """A feed whose every ``every``-th row opens a quote that the next row's quote closes."""
+    lines = ["id,title,price"]
+    for i in range(1, rows + 1):
+        title = f'"Screen {i}' if i % every == 0 else f'"Lamp {i}, red"'
+        lines.append(f"S-{i},{title},{i}.00")
+    return "\n".join(lines) + "\n"
+
+
+def test_many_stray_quotes_lose_no_row(tmp_path: Path) -> None:
+    path = tmp_path / "strays.csv"
+    path.write_text(_stray_feed(404, 8), encoding="utf-8")  # 50 stray quotes
+    results = list(open_feed(path))
+    rejects = [r for r in results if isinstance(r, Reject)]
+    assert [r.line for r in rejects] == [i + 1 for i in range(8, 401, 8)]
+    records = [r for r in results if isinstance(r, SourceRecord)]
+    assert [r.line for r in records] == [i + 1 for i in range(1, 405) if i % 8]
+    assert all(r.fields["title"] == f"Lamp {r.line - 1}, red" for r in records)
+
+
+def test_a_stray_quote_is_split_again_without_opening_the_feed_again(
+    tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    path = tmp_path / "strays.csv"
+    path.write_text(_stray_feed(42, 4), encoding="utf-8")
+    feed = open_feed(path)
+    opened: list[object] = []
+    real = delimited.open_binary
+
+    def counting(*args: Any, **kwargs: Any) -> Any:
+        opened.append(args)
+        return real(*args, **kwargs)
+
+    monkeypatch.setattr(delimited, "open_binary", counting)
+    results = list(feed)
+    assert len(opened) == 1
+    assert sum(isinstance(r, Reject) for r in results) == 10
+
+
+def _write_packed(path: Path, data: bytes, packing: str) -> None:
+    if packing == "gzip":
+        path.write_bytes(gzip.compress(data))
+    elif packing == "zip":
+        with zipfile.ZipFile(path, "w", compression=zipfile.ZIP_DEFLATED) as archive:
+            archive.writestr("feed.csv", data)
+    else:
+        path.write_bytes(data)
+
+
+@pytest.mark.parametrize("packing", ["plain", "gzip", "zip"])
+@pytest.mark.parametrize("encoding", ["utf-8", "cp1252", "utf-16"])
+def test_stray_quotes_in_packed_and_encoded_feeds(
+    tmp_path: Path, packing: str, encoding: str
+) -> None:
+    text = (
+        "id;title;price\r\n"
+        "C-1;Crème brûlée dish;4,50\r\n"
+        'C-2;"Pâté terrine;7,00\r\n'  # a stray quote: runs on to line 5
+        "C-3;Café cup;2,00\r\n"
+        'C-4;"Plate, déjà vu";3,00\r\n'
+        "C-5;Bol à soupe;5,00\r\n"
+    )
+    path = tmp_path / "feed.bin"
+    _write_packed(path, text.encode(encoding), packing)
+    results = list(open_feed(path, encoding=encoding))
+    assert [(type(r).__name__, r.line) for r in results] == [
+        ("SourceRecord", 2),
+        ("Reject", 3),
+        ("SourceRecord", 4),
+        ("SourceRecord", 5),
+        ("SourceRecord", 6),
+    ]
+    reject = results[1]
+    assert isinstance(reject, Reject)
+    assert (reject.excerpt, reject.reason) == ('C-2;"Pâté terrine;7,00', "unparseable_record")
+    assert "runs on to line 5" in reject.detail
+    titles = [r.fields["title"] for r in results if isinstance(r, SourceRecord)]
+    assert titles == ["Crème brûlée dish", "Café cup", "Plate, déjà vu", "Bol à soupe"]
+
+
+def test_a_slice_read_on_its_own_keeps_the_files_line_numbers() -> None:
+    text = io.StringIO('S-1,"Screen,1.00\nS-2,Radio,2.00\nS-3,"Lamp, red",3.00\n', newline="")
+    results = list(
+        delimited.read_delimited_text(
+            text,
+            path="feed.csv",
+            encoding="utf-8",
+            delimiter=",",
+            columns=("id", "title", "price"),
+            has_header=False,
+            first_line=101,
+        )  # fmt: skip
+    )
+    assert [(type(r).__name__, r.line) for r in results] == [
+        ("Reject", 101),
+        ("SourceRecord", 102),
+        ("SourceRecord", 103),
+    ]
+
+
+def test_rows_across_block_ends_read_as_in_one_block(
+    tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    lines = ["id,title,notes"]
+    for i in range(1, 121):
+        if i % 10 == 3:
+            lines.append(f'M-{i},"Shelf {i},plain')  # a stray quote, closed two rows on
+        elif i % 10 == 5:
+            lines.append(f'M-{i},Shelf {i},"a, b"')
+        elif i % 10 == 8:
+            lines.append(f'M-{i},Shelf {i},"a, b\nover two lines"')
+        else:
+            lines.append(f"M-{i},Shelf {i},plain")
+    path = tmp_path / "blocks.csv"
+    path.write_text("\n".join(lines) + "\n", encoding="utf-8")
+    whole = list(open_feed(path))
+    rejects = [r for r in whole if isinstance(r, Reject)]
+    assert [r.excerpt for r in rejects] == [f'M-{i},"Shelf {i},plain' for i in range(3, 121, 10)]
+    assert sum(isinstance(r, SourceRecord) for r in whole) == 120 - 12
+    for size in (1, 40, 100):  # a block holds one line, or ends inside rows often
+        monkeypatch.setattr(_line_window, "BLOCK_CHARS", size)
+        assert list(open_feed(path)) == whole
+
+
+def test_quotes_that_never_balance_are_read_again_a_bounded_number_of_times(
+    tmp_path: Path,
+) -> None:
+    # From any of these lines on, a quote stays open down to the last line, which the csv
+    # reader cannot split: read again from the line after each rejected one, the lines would
+    # be read about n*n/2 times.
+    count = 20_000
+    path = tmp_path / "runaway.csv"
+    path.write_text('id,title\nR-0,"open\n' + '""","x\n' * count + '"y\n', encoding="utf-8")
+    results = list(open_feed(path))
+    assert all(isinstance(r, Reject) for r in results)
+    assert [r.line for r in results] == list(range(2, count + 4))
+
+
+def test_a_row_too_long_to_keep_is_one_reject_naming_its_lines(
+    tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    # Each of these lines closes a cell and opens the next: one row of many small cells grows
+    # past twice the cell limit before the last line ends it in a way that cannot be split.
+    monkeypatch.setattr(_line_window, "BLOCK_CHARS", 64)
+    path = tmp_path / "long.csv"
+    path.write_text('id,title\nR-0,"open\n' + '""","x\n' * 1000 + '"y\nR-2,Lamp\n')
+    before = csv.field_size_limit(1024)
+    try:
+        results = list(open_feed(path))
+    finally:
+        csv.field_size_limit(before)
+    reject, record = results
+    assert isinstance(reject, Reject) and isinstance(record, SourceRecord)
+    assert (reject.reason, reject.line) == ("unparseable_record", 2)
+    assert reject.detail.startswith("cannot split the rows on lines 2-1003: ")
+    assert "more text than catmap keeps" in reject.detail
+    assert (record.fields["id"], record.line) == ("R-2", 1004)

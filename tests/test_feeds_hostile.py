@@ -112,18 +112,26 @@ def test_huge_unquoted_cell_is_not_called_an_unclosed_quote(tmp_path: Path) -> N
     assert info.value.line == 3
 
 
-def test_oversized_quoted_cell_still_names_the_quote(tmp_path: Path) -> None:
+def test_a_quote_running_past_the_cell_limit_loses_no_line(tmp_path: Path) -> None:
     feed = tmp_path / "stray.csv"
     with feed.open("w", encoding="ascii") as out:
         out.write('id,title\nA1,Lantern small\nA2,"Thimble brass\n')
         out.writelines(["y" * 1023 + "\n"] * 2048)  # 2 MiB swallowed by the open quote
+        out.write("A3,Copper kettle\n")
     before = csv.field_size_limit(1 << 20)  # a small limit keeps the test fast
     try:
-        with pytest.raises(FeedFormatError, match="never closed") as info:
-            list(open_feed(feed))
+        results = list(open_feed(feed))
     finally:
         csv.field_size_limit(before)
-    assert info.value.line == 3
+    first, broken, *swallowed, last = results
+    assert isinstance(first, SourceRecord) and isinstance(last, SourceRecord)
+    assert (first.fields["id"], last.fields["id"], last.line) == ("A1", "A3", 2052)
+    assert isinstance(broken, Reject) and broken.line == 3
+    assert "runs on past the cell size limit (1 MiB)" in broken.detail
+    # Every line the quote took is read on its own (one cell: a ragged row), once, in order.
+    assert [(r.reason, r.line) for r in swallowed if isinstance(r, Reject)] == [
+        ("ragged_row", line) for line in range(4, 2052)
+    ]
 
 
 def test_profile_is_written_atomically(tmp_path: Path) -> None:

@@ -105,11 +105,11 @@ def test_rules_csv_and_parquet_outputs(tmp_path: Path, client: Any, mapper: Any)
 
 
 def test_a_fatal_error_stops_both_runs_at_the_same_record(
-    tmp_path: Path, client: Any, mapper: Any
+    tmp_path: Path, client: Any, mapper: Any, oversized_cell: bytes
 ) -> None:
     lines = (DEMO / "tallimbra.tsv").read_bytes().splitlines(keepends=True)
     feed = tmp_path / "cut.tsv"
-    feed.write_bytes(b"".join(lines[:1500]) + b'X1\t"never closed\n')
+    feed.write_bytes(b"".join(lines[:1500]) + b"X1\t" + oversized_cell + b"\n")
     single, spread, _, _, _ = _run_both(feed, tmp_path, client, mapper)
     mine, theirs = _files(single), _files(spread)
     # Mappings, rejects and accounting byte for byte: both map the products read before the

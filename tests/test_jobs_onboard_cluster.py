@@ -154,11 +154,13 @@ def test_onboard_on_the_cluster_stores_bit_for_bit(
     assert not list(spread.glob(".cluster-*"))  # the work folder is removed
 
 
-def test_a_fatal_error_keeps_the_same_rows(world: SmallWorld, tmp_path: Path, client: Any) -> None:
+def test_a_fatal_error_keeps_the_same_rows(
+    world: SmallWorld, tmp_path: Path, client: Any, oversized_cell: bytes
+) -> None:
     lines = world.paths.feeds["tallimbra"].read_bytes().splitlines(keepends=True)
     feed = tmp_path / "feeds" / "tallimbra.tsv"
     feed.parent.mkdir()
-    feed.write_bytes(b"".join(lines[:80]) + b'X1\t"never closed\n')
+    feed.write_bytes(b"".join(lines[:80]) + b"X1\t" + oversized_cell + b"\n")
     opts = OnboardOptions(
         max_error=TEST_MAX_ERROR, chunk_size=CHUNK, validation_feed=[world.paths.reference]
     )
@@ -207,7 +209,11 @@ def test_several_feeds_on_one_cluster_as_one_by_one(
 
 
 def test_a_broken_feed_among_several_keeps_its_rows_and_the_others_go_on(
-    world: SmallWorld, tmp_path: Path, client: Any, monkeypatch: pytest.MonkeyPatch
+    world: SmallWorld,
+    tmp_path: Path,
+    client: Any,
+    monkeypatch: pytest.MonkeyPatch,
+    oversized_cell: bytes,
 ) -> None:
     import catmap.jobs._onboard_cluster as onboard_cluster
 
@@ -219,7 +225,7 @@ def test_a_broken_feed_among_several_keeps_its_rows_and_the_others_go_on(
     lines = world.paths.feeds["tallimbra"].read_bytes().splitlines(keepends=True)
     broken = tmp_path / "feeds" / "tallimbra.tsv"
     broken.parent.mkdir()
-    broken.write_bytes(b"".join(lines[:60]) + b'X1\t"never closed\n')
+    broken.write_bytes(b"".join(lines[:60]) + b"X1\t" + oversized_cell + b"\n")
     feeds = [broken, world.paths.feeds["ferravelle"]]
     opts = OnboardOptions(
         max_error=TEST_MAX_ERROR, chunk_size=CHUNK, validation_feed=[world.paths.reference]

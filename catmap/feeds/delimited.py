@@ -6,8 +6,13 @@ Each record keeps only its non-empty cells (a missing value is an absent key, as
 :class:`~catmap.records.SourceRecord` says), which saves memory on wide, sparse feeds.
 
 Importing this module raises the process-wide ``csv.field_size_limit`` to 64 MiB (never lowers
-it): a 5 MB description must fit, while a stray quote that would swallow a huge file still
-stops with an error instead of filling memory.
+it): a 5 MB description must fit, while a stray quote that would swallow a huge file stops at
+the limit instead of filling memory.
+
+A row the csv reader cannot split (a stray quote that ran on into the following lines, or one
+never closed) is rejected, and the lines it took are split again on their own from memory:
+the reader reads through a :class:`~catmap.feeds._line_window.LineWindow` that keeps the lines
+of the row being read, so the feed is never read again.
 """
 
 from __future__ import annotations
@@ -16,19 +21,20 @@ import csv
 import io
 import re
 from collections import Counter
-from collections.abc import Iterable, Iterator
+from collections.abc import Callable, Iterable, Iterator
 from itertools import compress
 from pathlib import Path
 
 from catmap.errors import FeedFormatError
 from catmap.feeds import _sniff
-from catmap.feeds._compression import open_binary
+from catmap.feeds._compression import damage_found, open_binary
+from catmap.feeds._line_window import LineWindow
 from catmap.records import Reject, SourceRecord
 
 DELIMITERS = (",", ";", "\t", "|")
 _DELIMITER_NAMES = {"tab": "\t", "\\t": "\t", "comma": ",", "semicolon": ";", "pipe": "|"}
 # Large enough for a 5 MB product description, small enough that an unterminated quote in a
-# huge file stops with an error instead of swallowing it all into memory.
+# huge file stops there instead of swallowing it all into memory.
 FIELD_SIZE_LIMIT = 64 * 1024 * 1024
 csv.field_size_limit(max(csv.field_size_limit(), FIELD_SIZE_LIMIT))
 
@@ -210,47 +216,41 @@ def read_first_row(path: str | Path, encoding: str, delimiter: str) -> list[str]
     return None
 
 
-def _row_has_quote(path: str | Path, encoding: str, line: int) -> bool:
-    """Tell whether the physical line ``line`` (1-based) holds a double quote.
-
-    Read only after the csv reader stopped on an oversized cell, to say whether a quote that
-    never closed is to blame or the cell is simply too large.
-    """
-    stream, _ = open_binary(path)
-    with io.TextIOWrapper(
-        stream, encoding=encoding, errors=_sniff.ERROR_HANDLER, newline=""
-    ) as text:
-        for number, row in enumerate(text, start=1):
-            if number == line:
-                return '"' in row
-    return True
+# How deep lines read again are read again in turn (a stray quote among the lines a stray
+# quote swallowed): each level reads at most the swallowed lines once, so a feed costs at most
+# this many readings of its text however many stray quotes it has. Below it, the lines are read
+# one by one (a quoted cell with a line break there is rejected, its lines with it).
+RESPLIT_DEPTH = 8
+# What to do about a row the csv reader cannot split: the fault is a quote.
+_QUOTE_ADVICE = (
+    'ask the sender to double each " inside quoted text ("") or remove the stray one, then '
+    "send the feed again"
+)
 
 
-# Rows the csv reader cannot split that are read again from the file (each read goes through
-# the file up to that row): enough for a feed with a few stray quotes, bounded for one with many.
-REREAD_LIMIT = 20
+def _size(characters: int) -> str:
+    if characters >= 1 << 20:
+        return f"{characters >> 20} MiB"
+    return f"{characters >> 10} KiB"
 
 
-def _lines_again(path: str | Path, encoding: str, first: int, last: int) -> list[str]:
-    """Return the physical lines ``first``..``last`` (1-based) of the feed, line ends kept.
-
-    Split as the readers split them (``newline=""``); undecodable bytes become lone surrogates
-    without counting them again (they were counted when first read).
-    """
-    stream, _ = open_binary(path)
-    lines: list[str] = []
-    with io.TextIOWrapper(
-        stream, encoding=encoding, errors=_sniff.HEAD_ERROR_HANDLER, newline=""
-    ) as text:
-        for number, line in enumerate(text, start=1):
-            if number >= first:
-                lines.append(line)
-            if number >= last:
-                break
-    return lines
+def _split_failure(message: str, top: bool) -> str:
+    """Say in the user's words why the csv reader could not split a row."""
+    if "unexpected end of data" in message:
+        if top:
+            return "a quote opened on this line is never closed (the feed ends inside it)"
+        return "a quote opened on this line is never closed"
+    if "field larger" in message:
+        return (
+            "a quote opened on this line runs on past the cell size limit "
+            f"({_size(csv.field_size_limit())})"
+        )
+    return message
 
 
 def _unsplittable(
+    lines: list[str] | None,
+    *,
     path: str | Path,
     encoding: str,
     delimiter: str,
@@ -259,49 +259,58 @@ def _unsplittable(
     start: int,
     end: int,
     message: str,
-    rereads: list[int],
+    depth: int,
 ) -> Iterator[SourceRecord | Reject]:
     """Reject a row the csv reader could not split (lines ``start``..``end``), and read again
     the lines it swallowed.
 
     A stray quote at the start of a cell (``"55 inch screen``) makes the reader take the
-    following lines into that cell until the next quote: one reject would hide good rows.
-    The row's first line is rejected with its text, and the lines after it are read again on
-    their own.
+    following lines into that cell until the next quote, or to the end of the feed: one reject
+    would hide good rows. The row's first line is rejected with its text, and the lines after
+    it are read again on their own, from memory (``lines``, kept while the row was read).
+
+    Args:
+        lines: the row's physical lines, or None when they were too long to keep.
+        depth: how many times these lines were already read again.
     """
-    if rereads[0] <= 0:
-        span = f" (lines {start}-{end})" if end > start else ""
+    why = _split_failure(message, top=depth == 0)
+    if lines is None:
         yield Reject(
-            "unparseable_record", f"cannot split the row{span}: {message}", start,
-            f"line {start}", "",
-        )  # fmt: skip
+            "unparseable_record",
+            f"cannot split the rows on lines {start}-{end}: {why}; they hold more text than "
+            f"catmap keeps to read them again on their own; {_QUOTE_ADVICE}",
+            start,
+            f"line {start}",
+            "",
+        )
         return
-    rereads[0] -= 1
-    lines = _lines_again(path, encoding, start, end)
-    first = lines[0].rstrip("\r\n") if lines else ""
+    first = lines[0].rstrip("\r\n")
     excerpt = _sniff.SURROGATES.sub(
         "\ufffd", first[:_EXCERPT] + ("..." if len(first) > _EXCERPT else "")
     )
-    if len(lines) <= 1:
-        yield Reject(
-            "unparseable_record", f"cannot split the row: {message}", start, f"line {start}",
-            excerpt,
-        )  # fmt: skip
-        return
+    again = lines[1:]
+    runs_on = ""
+    if again:
+        quote = "it" if why != message else "a quote on this line"
+        runs_on = f"; {quote} runs on to line {end}: the lines after it are read on their own"
     yield Reject(
         "unparseable_record",
-        f"cannot split the row: {message}; a quote on this line runs on to line {end}: the "
-        "lines after it are read on their own",
+        f"cannot split the row: {why}{runs_on}; {_QUOTE_ADVICE}",
         start,
         f"line {start}",
         excerpt,
     )
-    again = lines[1:]
-    yield from _read_rows(
-        again, path=path, encoding=encoding, delimiter=delimiter, columns=columns,
-        has_header=False, first_line=start + 1, named=named, rereads=rereads,
-        pending=sum(len(_sniff.SURROGATES.findall(line)) for line in again), part=True,
-    )  # fmt: skip
+    if not again:
+        return
+    parts = [(start + 1, again)]
+    if depth + 1 >= RESPLIT_DEPTH:
+        parts = [(number, [line]) for number, line in enumerate(again, start=start + 1)]
+    for first_line, part in parts:
+        yield from _read_rows(
+            part, path=path, encoding=encoding, delimiter=delimiter, columns=columns,
+            has_header=False, first_line=first_line, named=named, depth=depth + 1,
+            pending=sum(len(_sniff.SURROGATES.findall(line)) for line in part),
+        )  # fmt: skip
 
 
 def iter_delimited(
@@ -326,15 +335,16 @@ def iter_delimited(
         "unparseable_record".
 
     Raises:
-        FeedFormatError: an unterminated quote, or a field larger than the limit.
+        FeedFormatError: a cell with no quote larger than the cell size limit; gzip or zip
+            data cut short or damaged (after the records before the damage).
     """
-    stream, _ = open_binary(path)
+    stream, _ = open_binary(path, hold_damage=True)
     with io.TextIOWrapper(
         stream, encoding=encoding, errors=_sniff.ERROR_HANDLER, newline=""
     ) as text:
         yield from read_delimited_text(
             text, path=path, encoding=encoding, delimiter=delimiter, columns=columns,
-            has_header=has_header,
+            has_header=has_header, damage=lambda: damage_found(stream),
         )  # fmt: skip
 
 
@@ -348,12 +358,16 @@ def read_delimited_text(
     has_header: bool,
     first_line: int = 1,
     named_columns: bool | None = None,
+    damage: Callable[[], BaseException | None] | None = None,
 ) -> Iterator[SourceRecord | Reject]:
     """Yield the records and rejects of delimited text (a whole file, or a slice of one).
 
+    A row the csv reader cannot split (a stray quote, or one never closed) is rejected, and the
+    lines it swallowed are read again on their own, from the lines kept while it was read.
+
     Args:
         text: the decoded text, opened with ``newline=""``.
-        path: the feed file (named in errors; re-read to explain an oversized cell).
+        path: the feed file (named in errors).
         encoding: the codec the text was decoded with.
         delimiter: the cell separator.
         columns: the column names.
@@ -362,18 +376,21 @@ def read_delimited_text(
             rejects keep the file's real line numbers).
         named_columns: the columns are the file's header row (default: ``has_header``; a
             slice after the first has no header row but its columns may still be named).
+        damage: returns the error of the byte stream under ``text`` once it found the data
+            cut short or damaged (see :func:`~catmap.feeds._compression.damage_found`).
 
     Yields:
         Records and rejects, as :func:`iter_delimited` describes, and "repeated_header" for
         the header row written again inside the feed (files joined by hand).
 
     Raises:
-        FeedFormatError: an unterminated quote, or a field larger than the limit.
+        FeedFormatError: a cell with no quote larger than the cell size limit; the error
+            ``damage`` gives, after the records before the damage.
     """
     named = has_header if named_columns is None else named_columns
     yield from _read_rows(
         text, path=path, encoding=encoding, delimiter=delimiter, columns=columns,
-        has_header=has_header, first_line=first_line, named=named, rereads=[REREAD_LIMIT],
+        has_header=has_header, first_line=first_line, named=named, damage=damage,
     )  # fmt: skip
 
 
@@ -387,18 +404,16 @@ def _read_rows(
     has_header: bool,
     first_line: int,
     named: bool,
-    rereads: list[int],
+    depth: int = 0,
     pending: int = 0,
-    part: bool = False,
+    damage: Callable[[], BaseException | None] | None = None,
 ) -> Iterator[SourceRecord | Reject]:
     """:func:`read_delimited_text`'s loop.
 
     Args:
-        rereads: how many more unsplittable rows may be read again from the file (shared by
-            the nested readers of one feed).
+        depth: 0 for the feed's text, 1 or more for lines read again (see ``RESPLIT_DEPTH``).
         pending: undecodable characters already in ``text`` (lines read again).
-        part: ``text`` is a part of the feed read again: a quote still open at its end is
-            the fault of the row it opened in, not a fatal error.
+        damage: see :func:`read_delimited_text`.
     """
     width = len(columns)
     bad_bytes = _sniff.bad_bytes_detail(encoding)
@@ -410,8 +425,15 @@ def _read_rows(
     first_name = columns[0] if named and columns else None
     named_width = _named_width(columns) if named else width
     shift = first_line - 1
-    reader = csv.reader(text, delimiter=delimiter, strict=True)
     previous = shift  # reader.line_num after the previous row: the next row starts one later
+    # The lines of the row being read are kept (a record held past twice the cell limit lets
+    # its first lines go: only a row of many cells gets there, the one-cell run of a stray
+    # quote stops at the limit).
+    window = LineWindow(
+        text, first_line=first_line, record_start=lambda: previous + 1,
+        limit=2 * csv.field_size_limit(), damage=damage,
+    )  # fmt: skip
+    reader = csv.reader(window, delimiter=delimiter, strict=True)
     while True:
         try:
             row = next(reader)
@@ -421,31 +443,22 @@ def _read_rows(
             start = previous + 1
             previous = reader.line_num + shift
             message = str(exc)
-            if part and "unexpected end of data" in message:
-                # Inside lines read again, a quote left open at their end is this row's fault.
-                yield from _unsplittable(
-                    path, encoding, delimiter, columns, named, start, previous, message, rereads
-                )
-                return
-            if "field larger" in message and not _row_has_quote(path, encoding, start):
+            lines = window.lines(start, previous)
+            if (
+                "field larger" in message
+                and lines is not None
+                and not any('"' in line for line in lines)
+            ):
                 raise FeedFormatError(
-                    f"a cell on this row is larger than {FIELD_SIZE_LIMIT >> 20} MiB",
+                    f"a cell on this row is larger than {_size(csv.field_size_limit())}",
                     path=path,
                     line=start,
                     hint="the row has no quote; ask the sender to cut the cell, or split the file",
                 ) from exc
-            if "unexpected end of data" in message or "field larger" in message:
-                raise FeedFormatError(
-                    "a quoted field opened here is never closed"
-                    + (" (it grew past the field size limit)" if "larger" in message else ""),
-                    path=path,
-                    line=start,
-                    hint='a stray " swallowed the rest of the file; double it ("") inside '
-                    "quoted text or remove it",
-                ) from exc
             yield from _unsplittable(
-                path, encoding, delimiter, columns, named, start, previous, message, rereads
-            )
+                lines, path=path, encoding=encoding, delimiter=delimiter, columns=columns,
+                named=named, start=start, end=previous, message=message, depth=depth,
+            )  # fmt: skip
             continue
         start = previous + 1
         previous = reader.line_num + shift

@@ -171,7 +171,8 @@ def iter_range(info: FeedInfo, part: ByteRange) -> Iterator[SourceRecord | Rejec
         Records and rejects in file order.
 
     Raises:
-        FeedFormatError: an unterminated quote (delimited), after the records before it.
+        FeedFormatError: a cell past the size limit with no quote (delimited), after the
+            records before it.
     """
     if info.format == "jsonl":
         yield from _iter_jsonl_range(info, part)
