@@ -1704,6 +1704,68 @@ async def test_a_close_match_takes_one_enter_and_weak_rows_are_dimmed(
         await pilot.press("q")
 
 
+# Emoji sequences: rich measures each as one emoji of two cells, a terminal drawing code point
+# by code point (tmux 3.3) as the sum of its parts ("❤️" one cell, "👍🏽" four).
+EMOJI_TEXTS = (
+    "Love ❤️ socks",
+    "Flag 🏳️\u200d🌈 tee",
+    "Dev 👩\u200d💻 mug",
+    "Thumb 👍🏽 cap",
+    "Scotland 🏴\U000e0067\U000e0062\U000e0073\U000e0063\U000e0074\U000e007f scarf",
+)
+
+
+# Code points whose width tmux 3.3 and rich disagree on (seen in tmux): emoji selectors, the
+# joiner, skin-tone modifiers, tag letters.
+UNSTABLE = {0xFE0E, 0xFE0F, 0x200D, *range(0x1F3FB, 0x1F400), *range(0xE0020, 0xE0080)}
+
+
+def _drawn_alike(line: str) -> bool:
+    """Measured whole (as rich lays it out) and code point by code point the same width, with
+    no code point whose width terminals disagree on."""
+    whole = cell_len(line) == sum(cell_len(character) for character in line)
+    return whole and not any(ord(character) in UNSTABLE for character in line)
+
+
+def test_emoji_sequences_are_shown_as_plain_emoji_every_terminal_draws_alike() -> None:
+    from catmap.review._fit import fit, fit_path, plain_emoji, wrap, wrap_path
+
+    for text in EMOJI_TEXTS:
+        assert not _drawn_alike(text)
+        shown = [fit(text, 80), fit(text, 9), *wrap(text, 7), fit_path(f"Shop > {text}", 80)]
+        shown += wrap_path(f"Shop > {text} > Socks", 12, 3)
+        assert all(_drawn_alike(line) for line in shown), shown
+        assert plain_emoji(text).split()[0] == text.split()[0]  # the words stay
+    for text in ("Vêtements d'été", "家電 > コーヒー", "cafe\u0301", "🇫🇷 flag", "❤ 👍 ok"):
+        assert plain_emoji(text) == text
+
+
+@sync
+async def test_a_title_with_emoji_sequences_keeps_the_panel_borders_in_place(
+    tmp_path: Path, tree: CategoryTree, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    import dataclasses
+
+    import catmap.review.sample as sample
+
+    rows = sample.sample_rows()
+    title = " ".join(EMOJI_TEXTS)
+    first = dataclasses.replace(rows[0].product, title=title, description=title)
+    rows[0] = dataclasses.replace(rows[0], product=first)
+    monkeypatch.setattr(sample, "sample_rows", lambda: rows)
+    with sample.build_sample_store(tmp_path / "store.sqlite") as store:
+        app = ReviewApp(_session(store, tree))
+        async with app.run_test(size=(80, 24)) as pilot:
+            await pilot.pause()
+            product = _drawn_lines(app, "product")
+            assert product[0].startswith("Love ❤ socks")
+            assert any("👍 cap" in line for line in product)
+            width = app.query_one("#product", Static).content_size.width
+            for line in product:
+                assert _drawn_alike(line) and cell_len(line) <= width, line
+            await pilot.press("q")
+
+
 def test_text_is_shortened_at_words_and_paths_lose_their_middle_first() -> None:
     from catmap.review._fit import fit, fit_path, wrap, wrap_path
 

@@ -47,7 +47,7 @@ from textual.widgets.option_list import Option
 
 from catmap.errors import CatmapError
 from catmap.records import AGE_VALUES, WHO_VALUES
-from catmap.review._fit import fit, fit_path, wrap, wrap_path
+from catmap.review._fit import fit, fit_path, plain_emoji, wrap, wrap_path
 from catmap.review.session import MAX_ALTERNATIVES, REASON_TEXT, ReviewSession
 from catmap.store import ReviewView
 
@@ -600,7 +600,7 @@ class ReviewApp(App[None]):
         else:
             description = view.description_excerpt
         if description:
-            text.append("\n" + description, style="italic")
+            text.append("\n" + plain_emoji(description), style="italic")
         return text
 
     def _attributes_text(self, view: ReviewView) -> Text:
