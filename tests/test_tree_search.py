@@ -121,7 +121,7 @@ def test_typed_words_in_any_order_and_language_mix() -> None:
 def test_own_words_count_more_than_an_ancestors_and_ancestors_alone_find_nothing() -> None:
     # "kitchen knives" is node 7's own term; node 6 has "knife" and inherits "kitchen".
     assert _ids(SMALL, "kitchen knife")[:2] == ["7", "6"]
-    assert _score(SMALL, "kitchen knife", "6") > _score(SMALL, "knife xyz", "6")
+    assert _score(SMALL, "kitchen knife", "6") > _score(SMALL, "knife comic", "6")
     assert _score(SMALL, "küche knife", "6") > _score(SMALL, "knife", "6") / 2
     # Node 2 inherits "santé", but a word of its ancestors alone does not make it a match.
     assert "2" not in _ids(SMALL, "sante")
@@ -156,6 +156,14 @@ def test_joining_words_count_little() -> None:
     assert _score(SMALL, "bande de crepe", "2") == 100.0
     assert _score(SMALL, "comics de", "4") > _score(SMALL, "comics bd", "4") - 30
     assert SMALL.search_matches("de", limit=3)  # a joining word alone still searches
+
+
+def test_a_typed_word_the_tree_does_not_know_counts_little() -> None:
+    # No word of SMALL resembles "vintage": it tells no node from another.
+    assert _ids(SMALL, "vintage comics")[0] == "4"
+    assert 60 <= _score(SMALL, "vintage comics", "4") < _score(SMALL, "comics", "4")
+    # "knife" is a word of the tree, but not of the comics: a node lacking it loses half.
+    assert _score(SMALL, "knife comics", "4") <= 50
 
 
 def test_scores_stay_in_range_and_a_query_of_nothing_finds_nothing(shared: CategoryTree) -> None:

@@ -93,6 +93,10 @@ STOP_WORDS = frozenset(
     .split()
 )  # fmt: skip
 _STOP_WEIGHT = 0.25
+# A typed word no word of the tree resembles ("dry" in "dry cider" where the tree only knows
+# "cider") tells no node from another: it counts for this much of a word, so that the node
+# holding the other words still matches well, a little below one holding them all.
+_UNKNOWN_WEIGHT = 0.25
 
 # How much one typed word is worth against one word of the tree, 0..1. Chosen by hand and
 # checked on the labelled queries of tests/data/search_checks.txt (see
@@ -408,11 +412,14 @@ class TermIndex:
         content = np.fromiter((w not in STOP_WORDS for w in typed), bool, len(typed))
         if not content.any():
             content[:] = True
-        share = np.where(content, 1.0, _STOP_WEIGHT)
-        weights = share[:, None] / share.sum()  # each typed word's part of the score
         # typed word x vocabulary word, then typed word x term (its best word), x node.
         per_word = np.stack([_similarities(word, vocabulary, pieces=pieces) for word in typed])
         per_word[np.ix_(content, vocabulary.stop)] = 0.0
+        share = np.where(content, 1.0, _STOP_WEIGHT)
+        unknown = content & (per_word.max(axis=1) <= 0)
+        if (content & ~unknown).any():
+            share[unknown] = _UNKNOWN_WEIGHT
+        weights = share[:, None] / share.sum()  # each typed word's part of the score
         per_term = np.maximum.reduceat(per_word[:, self._incidence_word], self._incidence_starts,
                                        axis=1)  # fmt: skip
         own = np.maximum.reduceat(per_term, self._term_starts, axis=1)
