@@ -1662,6 +1662,162 @@ async def test_search_says_when_nothing_or_nothing_close_matches(
         await pilot.press("q")
 
 
+# -- a weak best match is not taken by a bare Enter -----------------------------------------
+
+
+def _results(search: Any) -> list[tuple[str | None, Text]]:
+    """(node id, label) of each result row of the search dialog."""
+    results = search.query_one("#search-results", OptionList)
+    rows = []
+    for index in range(results.option_count):
+        option = results.get_option_at_index(index)
+        assert isinstance(option.prompt, Text)
+        rows.append((option.id, option.prompt))
+    return rows
+
+
+def _note(search: Any) -> str:
+    return _flat(str(search.query_one("#search-note", Static).render()))
+
+
+@sync
+async def test_a_weak_best_match_takes_a_second_enter(store: Store, tree: CategoryTree) -> None:
+    app = ReviewApp(_session(store, tree))
+    async with app.run_test(size=(80, 24)) as pilot:
+        search, picked = await _search(pilot, app, "zzqxw")  # random letters: distant guesses
+        assert picked is not None and app.session.search("zzqxw", limit=1)[0].score < 60
+        await pilot.press("enter")
+        await pilot.pause()
+        assert app.screen is search and store.decisions() == []
+        assert "Enter again" in _note(search) and tree[picked].name in _note(search)
+        await pilot.press("enter")
+        await pilot.pause()
+        assert app.screen is not search
+        (decision,) = store.decisions()
+        assert (decision.product_id, decision.to_node) == ("BT-001", picked)
+        await pilot.press("q")
+
+
+@sync
+async def test_typing_or_moving_calls_off_the_question_about_a_weak_match(
+    store: Store, tree: CategoryTree
+) -> None:
+    app = ReviewApp(_session(store, tree))
+    async with app.run_test(size=SIZE) as pilot:
+        search, first = await _search(pilot, app, "zzqxw")
+        await pilot.press("enter")  # asks about the first result
+        await pilot.pause()
+        await pilot.press("down")
+        await pilot.pause()
+        assert "Enter again" not in _note(search)
+        assert "no close match for 'zzqxw'" in _note(search)
+        second = _results(search)[1][0]
+        assert second is not None and second != first
+        await pilot.press("enter")  # a new question, about the second result
+        await pilot.pause()
+        assert tree[second].name in _note(search) and store.decisions() == []
+        await pilot.press("q")  # typed into the box: the results change, the question goes
+        await pilot.pause()
+        assert "Enter again" not in _note(search)
+        assert app.session.search("zzqxwq", limit=1)[0].score < 60
+        await pilot.press("enter")  # asks again; nothing is written
+        await pilot.pause()
+        assert app.screen is search and store.decisions() == []
+        await pilot.press("escape")
+        await pilot.pause()
+        assert store.decisions() == []
+        await pilot.press("q")
+
+
+@sync
+async def test_a_close_match_takes_one_enter_and_weak_rows_are_dimmed(
+    store: Store, tree: CategoryTree
+) -> None:
+    app = ReviewApp(_session(store, tree))
+    async with app.run_test(size=SIZE) as pilot:
+        search, picked = await _search(pilot, app, "bande dess")
+        assert picked is not None and tree[picked].name.startswith("Comic")
+        assert _note(search) == ""
+        scores = {m.node.id: m.score for m in app.session.search("bande dess", limit=12)}
+        rows = _results(search)
+        assert any(scores[i] < 60 for i, _ in rows if i) and any(
+            scores[i] >= 60 for i, _ in rows if i
+        )
+        for node_id, label in rows:
+            assert node_id is not None
+            # the score and path dimmed (the matched term after them always is)
+            dimmed = any(span.start == 0 and "dim" in str(span.style) for span in label.spans)
+            assert dimmed == (scores[node_id] < 60)
+        await pilot.press("enter")
+        await pilot.pause()
+        assert app.screen is not search
+        (decision,) = store.decisions()
+        assert decision.to_node == picked
+        await pilot.press("q")
+
+
+# Emoji sequences: rich measures each as one emoji of two cells, a terminal drawing code point
+# by code point (tmux 3.3) as the sum of its parts ("❤️" one cell, "👍🏽" four).
+EMOJI_TEXTS = (
+    "Love ❤️ socks",
+    "Flag 🏳️\u200d🌈 tee",
+    "Dev 👩\u200d💻 mug",
+    "Thumb 👍🏽 cap",
+    "Scotland 🏴\U000e0067\U000e0062\U000e0073\U000e0063\U000e0074\U000e007f scarf",
+)
+
+
+# Code points whose width tmux 3.3 and rich disagree on (seen in tmux): emoji selectors, the
+# joiner, skin-tone modifiers, tag letters.
+UNSTABLE = {0xFE0E, 0xFE0F, 0x200D, *range(0x1F3FB, 0x1F400), *range(0xE0020, 0xE0080)}
+
+
+def _drawn_alike(line: str) -> bool:
+    """Measured whole (as rich lays it out) and code point by code point the same width, with
+    no code point whose width terminals disagree on."""
+    whole = cell_len(line) == sum(cell_len(character) for character in line)
+    return whole and not any(ord(character) in UNSTABLE for character in line)
+
+
+def test_emoji_sequences_are_shown_as_plain_emoji_every_terminal_draws_alike() -> None:
+    from catmap.review._fit import fit, fit_path, plain_emoji, wrap, wrap_path
+
+    for text in EMOJI_TEXTS:
+        assert not _drawn_alike(text)
+        shown = [fit(text, 80), fit(text, 9), *wrap(text, 7), fit_path(f"Shop > {text}", 80)]
+        shown += wrap_path(f"Shop > {text} > Socks", 12, 3)
+        assert all(_drawn_alike(line) for line in shown), shown
+        assert plain_emoji(text).split()[0] == text.split()[0]  # the words stay
+    for text in ("Vêtements d'été", "家電 > コーヒー", "cafe\u0301", "🇫🇷 flag", "❤ 👍 ok"):
+        assert plain_emoji(text) == text
+
+
+@sync
+async def test_a_title_with_emoji_sequences_keeps_the_panel_borders_in_place(
+    tmp_path: Path, tree: CategoryTree, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    import dataclasses
+
+    import catmap.review.sample as sample
+
+    rows = sample.sample_rows()
+    title = " ".join(EMOJI_TEXTS)
+    first = dataclasses.replace(rows[0].product, title=title, description=title)
+    rows[0] = dataclasses.replace(rows[0], product=first)
+    monkeypatch.setattr(sample, "sample_rows", lambda: rows)
+    with sample.build_sample_store(tmp_path / "store.sqlite") as store:
+        app = ReviewApp(_session(store, tree))
+        async with app.run_test(size=(80, 24)) as pilot:
+            await pilot.pause()
+            product = _drawn_lines(app, "product")
+            assert product[0].startswith("Love ❤ socks")
+            assert any("👍 cap" in line for line in product)
+            width = app.query_one("#product", Static).content_size.width
+            for line in product:
+                assert _drawn_alike(line) and cell_len(line) <= width, line
+            await pilot.press("q")
+
+
 def test_text_is_shortened_at_words_and_paths_lose_their_middle_first() -> None:
     from catmap.review._fit import fit, fit_path, wrap, wrap_path
 

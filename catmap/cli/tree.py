@@ -229,8 +229,9 @@ def search_command(
 ) -> None:
     """Find nodes whose name or keywords resemble TEXT, in any of the tree's languages.
 
-    Accents and letter case do not matter; small typing mistakes are forgiven. The score runs
-    from 0 to 100.
+    Word by word: a node holding every word of TEXT ranks first; a word may be begun, carry a
+    small typing mistake, be a plural or part of a compound. Accents and letter case do not
+    matter. The score runs from 0 to 100; a node none of whose words match scores 50 at most.
     """
     tree = _open_tree(tree_file, tree_version, project)
     under_id = tree.resolve(under).id if under is not None else None

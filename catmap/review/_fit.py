@@ -1,9 +1,10 @@
 """Fitting text into the review screen's columns, measured in terminal cells.
 
 A CJK character takes two cells and a combining accent none, so lengths are counted with
-:func:`rich.cells.cell_len`, never ``len``. Text is shortened deliberately: at a word boundary
-when there is one in reach, and a path loses whole segments from its middle (the top level and
-the node's own name stay) before anything is cut inside a name.
+:func:`rich.cells.cell_len`, never ``len``; emoji sequences whose width terminals disagree on
+are first taken apart into plain emoji (:func:`plain_emoji`). Text is shortened deliberately:
+at a word boundary when there is one in reach, and a path loses whole segments from its middle
+(the top level and the node's own name stay) before anything is cut inside a name.
 """
 
 from __future__ import annotations
@@ -14,6 +15,26 @@ ELLIPSIS = "…"
 PATH_SEPARATOR = " > "
 # A cut falls back to the last space when that keeps at least this share of the width.
 WORD_CUT_SHARE = 0.6
+
+# What joins or adorns an emoji into a sequence: the text and emoji presentation selectors, the
+# zero-width joiner, the five skin-tone modifiers and the tag letters of subdivision flags.
+# rich counts a whole sequence as one emoji of two cells, but a terminal that draws code point
+# by code point does not: tmux 3.3 draws "❤️" (heart + emoji selector) and "🏳️‍🌈" in one cell and
+# "👍🏽" in four, and the panel border after them moves. Without them every code point left
+# has the one width rich and the terminals agree on ("❤" one cell, "👍" two).
+_EMOJI_ADORNMENTS = dict.fromkeys(
+    [0xFE0E, 0xFE0F, 0x200D, *range(0x1F3FB, 0x1F400), *range(0xE0020, 0xE0080)]
+)
+
+
+def plain_emoji(text: str) -> str:
+    """``text`` with its emoji sequences taken apart into their plain emoji (see above).
+
+    Example:
+        >>> plain_emoji("Love ❤️ socks 👍🏽")
+        'Love ❤ socks 👍'
+    """
+    return text.translate(_EMOJI_ADORNMENTS)
 
 
 def _head(text: str, width: int) -> str:
@@ -29,6 +50,7 @@ def _head(text: str, width: int) -> str:
 def fit(text: str, width: int) -> str:
     """``text`` in at most ``width`` cells: whole when it fits, else cut with an ellipsis,
     at the last word boundary when that keeps most of the width."""
+    text = plain_emoji(text)
     if cell_len(text) <= width:
         return text
     if width <= 1:
@@ -48,7 +70,7 @@ def fit_path(text: str, width: int) -> str:
     marks (the last name alone); only a last name that does not fit on its own is cut, at its
     end.
     """
-    parts = text.split(PATH_SEPARATOR)
+    parts = plain_emoji(text).split(PATH_SEPARATOR)
     for candidate in _shortened(parts):
         joined = PATH_SEPARATOR.join(candidate)
         if cell_len(joined) <= width:
@@ -77,7 +99,7 @@ def wrap(text: str, width: int, max_lines: int | None = None) -> list[str]:
     width = max(width, 1)
     lines: list[str] = []
     line = ""
-    for word in text.split():
+    for word in plain_emoji(text).split():
         joined = f"{line} {word}" if line else word
         if cell_len(joined) <= width:
             line = joined
@@ -122,7 +144,7 @@ def _path_lines(parts: list[str], width: int) -> list[str]:
 def wrap_path(text: str, width: int, max_lines: int) -> list[str]:
     """A category path over at most ``max_lines`` lines of ``width`` cells, broken after its
     separators; when it needs more, middle segments give way as in :func:`fit_path`."""
-    parts = text.split(PATH_SEPARATOR)
+    parts = plain_emoji(text).split(PATH_SEPARATOR)
     for candidate in _shortened(parts):
         lines = _path_lines(candidate, width)
         if len(lines) <= max_lines:

@@ -47,14 +47,15 @@ from textual.widgets.option_list import Option
 
 from catmap.errors import CatmapError
 from catmap.records import AGE_VALUES, WHO_VALUES
-from catmap.review._fit import fit, fit_path, wrap, wrap_path
+from catmap.review._fit import fit, fit_path, plain_emoji, wrap, wrap_path
 from catmap.review.session import MAX_ALTERNATIVES, REASON_TEXT, ReviewSession
 from catmap.store import ReviewView
 
 BAR_WIDTH = 20
 SEARCH_LIMIT = 12
-# Below this score (0..100) the best search match is only a distant guess, and the dialog says
-# so: random letters still find something ("zzqxw" scores 48 against "fizzy water").
+# Below this score (0..100) a search match is weak: some typed word was found nowhere in the
+# node's words, or only as a distant guess ("zzqxw" still finds "fizzy water", at 24). The
+# dialog says so, and Enter on a weak match only asks: a second Enter takes it.
 SEARCH_CLOSE_SCORE = 60.0
 # Below this size the screen drops the description and the feed fields.
 ROOMY_WIDTH = 120
@@ -243,7 +244,12 @@ class BrandScreen(ModalScreen[str | None]):
 
 
 class SearchScreen(ModalScreen[str | None]):
-    """Fuzzy search over the tree's names and synonyms; results update as you type."""
+    """Search over the tree's names and synonyms; results update as you type.
+
+    Enter takes the highlighted node when it matches well. On a weak match (score below
+    :data:`SEARCH_CLOSE_SCORE`) the first Enter only says which node a second Enter would take;
+    typing or moving the highlight calls that off.
+    """
 
     BINDINGS: ClassVar[list[BindingType]] = [
         Binding("escape", "cancel", "Cancel"),
@@ -254,6 +260,9 @@ class SearchScreen(ModalScreen[str | None]):
     def __init__(self, session: ReviewSession) -> None:
         super().__init__()
         self.session = session
+        self._scores: dict[str, float] = {}  # node id -> score of the results shown
+        self._note = ""  # what the note line says about the results
+        self._asked: str | None = None  # the weak match a first Enter asked about
 
     def compose(self) -> ComposeResult:
         with Vertical(id="search-dialog"):
@@ -268,16 +277,19 @@ class SearchScreen(ModalScreen[str | None]):
         results.clear_options()
         tree = self.session.tree
         matches = self.session.search(event.value, limit=SEARCH_LIMIT)
-        note = ""
-        if event.value.strip() and not matches:
-            note = f"no node matches '{event.value.strip()}': try other words, or Esc to go back"
+        typed = event.value.strip()
+        self._scores = {match.node.id: match.score for match in matches}
+        self._note = ""
+        if typed and not matches:
+            self._note = f"no node matches '{typed}': try other words, or Esc to go back"
         elif matches and matches[0].score < SEARCH_CLOSE_SCORE:
-            note = f"no close match for '{event.value.strip()}': these are distant guesses"
-        shown = self.query_one("#search-note", Static)
-        shown.update(Text(note, style="bold yellow"))
-        shown.display = bool(note)  # no blank line above the results when all is well
+            self._note = f"no close match for '{typed}': type more, or Enter twice takes one"
+        self._show_note(None)
         for match in matches:
+            weak = match.score < SEARCH_CLOSE_SCORE
             label = Text(f"{match.score:5.1f}  {tree.path_text(match.node.id)}")
+            if weak:
+                label.stylize("dim")
             if not match.is_name:
                 label.append(f"   ({match.language}: {match.term})", style="dim")
             flag = self.session.restriction(match.node.id)
@@ -287,6 +299,26 @@ class SearchScreen(ModalScreen[str | None]):
         if results.option_count:
             results.highlighted = 0
         self._show_caution()
+
+    def _show_note(self, asked: str | None) -> None:
+        """Show the note on the results, or the question about the weak match ``asked``."""
+        self._asked = asked
+        note = self._note
+        if asked is not None:
+            name = self.session.tree[asked].name
+            note = f"weak match: Enter again puts it on '{name}' · type more to refine · Esc back"
+        shown = self.query_one("#search-note", Static)
+        shown.update(Text(note, style="bold yellow"))
+        shown.display = bool(note)  # no blank line above the results when all is well
+
+    def _pick(self, node_id: str | None) -> None:
+        """Take a node that matches well; for a weak one, ask first (a second pick takes it)."""
+        if node_id is None:
+            return
+        if self._scores.get(node_id, 0.0) >= SEARCH_CLOSE_SCORE or self._asked == node_id:
+            self.dismiss(node_id)
+            return
+        self._show_note(node_id)
 
     def _show_caution(self) -> None:
         """Show the restriction caution when the highlighted node is restricted."""
@@ -298,16 +330,18 @@ class SearchScreen(ModalScreen[str | None]):
         self.query_one("#search-caution", Static).update(Text(note, style="italic yellow"))
 
     def on_option_list_option_highlighted(self, event: OptionList.OptionHighlighted) -> None:
+        if self._asked is not None and event.option.id != self._asked:
+            self._show_note(None)  # the question was about another node
         self._show_caution()
 
     def on_input_submitted(self, event: Input.Submitted) -> None:
         results = self.query_one("#search-results", OptionList)
         if results.highlighted is None:
             return
-        self.dismiss(results.get_option_at_index(results.highlighted).id)
+        self._pick(results.get_option_at_index(results.highlighted).id)
 
     def on_option_list_option_selected(self, event: OptionList.OptionSelected) -> None:
-        self.dismiss(event.option.id)
+        self._pick(event.option.id)
 
     def action_move(self, step: int) -> None:
         results = self.query_one("#search-results", OptionList)
@@ -315,6 +349,8 @@ class SearchScreen(ModalScreen[str | None]):
             return
         current = results.highlighted if results.highlighted is not None else -1
         results.highlighted = max(0, min(results.option_count - 1, current + step))
+        if self._asked is not None:
+            self._show_note(None)
         self._show_caution()
 
     def action_cancel(self) -> None:
@@ -564,7 +600,7 @@ class ReviewApp(App[None]):
         else:
             description = view.description_excerpt
         if description:
-            text.append("\n" + description, style="italic")
+            text.append("\n" + plain_emoji(description), style="italic")
         return text
 
     def _attributes_text(self, view: ReviewView) -> Text:

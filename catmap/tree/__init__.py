@@ -6,7 +6,7 @@ version's nodes to the next one's.
 
 - :mod:`~catmap.tree.treefile`: a :class:`Node` and the tree file's line format.
 - :mod:`~catmap.tree.taxonomy`: the tree model, loading, look-ups.
-- :mod:`~catmap.tree.search`: fuzzy search over node names and terms in every language.
+- :mod:`~catmap.tree.search`: word-by-word search over node names and terms in every language.
 - :mod:`~catmap.tree.changelog`: the documented change log between two versions.
 - :mod:`~catmap.tree.diff`: diff two trees into a crosswalk (ids, labels, structure, products).
 """

@@ -384,9 +384,10 @@ class CategoryTree:
     ) -> list[SearchMatch]:
         """Find the nodes whose name or terms (any language) resemble ``text``.
 
-        Matching is fuzzy on case- and accent-folded text, so "vetements" finds "vêtements"
-        (:class:`~catmap.tree.search.TermIndex` scores it). Each node is ranked once, by its
-        best term.
+        Matching is word by word on case- and accent-folded text, so "vetements" finds
+        "vêtements" and "bande dess" finds "bande dessinée" before "bande" alone
+        (:class:`~catmap.tree.search.TermIndex` scores it). Each node is ranked once, by all
+        its own words and, counting less, its ancestors'; the match names its best term.
 
         Args:
             text: what to look for.
@@ -395,7 +396,7 @@ class CategoryTree:
             min_score: leave out nodes scoring below this (nodes scoring 0 are always left out).
 
         Returns:
-            Matches, best first; on equal scores the term closest to the whole query first, then
+            Matches, best first; on equal scores a node found by its display name first, then
             file order.
         """
         query = fold_text(text)
