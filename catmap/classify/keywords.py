@@ -1,6 +1,6 @@
 """Cold start: map products from the tree's own names and multilingual keywords.
 
-Each leaf gets a document: its name and terms in all four languages (twice, so that a leaf's own
+Each leaf gets a document: its name and terms in all its languages (twice, so that a leaf's own
 words outweigh its ancestors'), then the names and terms of its ancestors. A product's title and
 retailer path are compared with every document by cosine similarity over character n-grams
 (inside word boundaries, which survive plurals and inflection across languages), and a softmax

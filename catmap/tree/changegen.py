@@ -117,6 +117,7 @@ def _rename(draw: _Draw) -> bool:
     if not candidates:
         return False
     node = draw.rng.choice(candidates)
+    # The required languages only: a tree's extra ones would change what a seed draws.
     lang = draw.rng.choice(("en", "en", *[lg for lg in LANGUAGES if lg != "en"]))
     pool = _words(node, lang) or _words(node, "en")
     taken = {fold_text(s.name) for s in draw.tree.children(node.parent or "")}
@@ -171,12 +172,12 @@ def _split(draw: _Draw, products: _Products, instances: dict[str, str]) -> bool:
         terms = {
             lang: tuple(w for i, w in enumerate(_words(node, lang) or list(node.terms[lang]))
                         if i % count == index) or tuple(node.terms[lang][:1])
-            for lang in LANGUAGES
+            for lang in node.terms
         }
         if index == count - 1 and draw.rng.random() < 0.4:
             # A part with words of its own, none of the old leaf's: found only by its place.
             word = _invented_word(draw.rng)
-            terms = {lang: (word, f"{word} {lang}") for lang in LANGUAGES}
+            terms = {lang: (word, f"{word} {lang}") for lang in node.terms}
         name = _title(terms["en"][0])
         parts.append(replace(node, id=draw.new_id(node.id), name=name, terms=terms))
     draw.touched.add(node.id)
@@ -220,7 +221,8 @@ def _merge(draw: _Draw, products: _Products, instances: dict[str, str]) -> bool:
     else:
         a, b = tree[first], tree[second]
         terms = {
-            lang: tuple(dict.fromkeys((*a.terms[lang], *b.terms[lang]))) for lang in LANGUAGES
+            lang: tuple(dict.fromkeys((*a.terms.get(lang, ()), *b.terms.get(lang, ()))))
+            for lang in dict.fromkeys((*a.terms, *b.terms))
         }
         target = draw.new_id(first)
         nodes = (replace(a, id=target, name=f"{a.name} and {fold_text(b.name)}", terms=terms),)
@@ -249,16 +251,17 @@ def _addition(draw: _Draw) -> bool:
         return False
     parent = draw.rng.choice(parents)
     word = _invented_word(draw.rng)
+    languages = dict.fromkeys((*LANGUAGES, *tree.languages()))
     terms: dict[str, tuple[str, ...]]
     if draw.rng.random() < 0.5:
         name = word
-        terms = {lang: (word, f"{word} {lang}") for lang in LANGUAGES}
+        terms = {lang: (word, f"{word} {lang}") for lang in languages}
     else:
         # A new kind of the parent's things: the parent's word with a new one beside it.
         terms = {
             lang: (f"{word} {parent.terms[lang][0]}", word) if parent.terms.get(lang)
             else (word,)
-            for lang in LANGUAGES
+            for lang in languages
         }
         name = terms["en"][0]
     node = Node(

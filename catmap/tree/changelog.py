@@ -288,12 +288,15 @@ def load_changes(path: str | Path) -> list[Change]:
 
 
 def _merge_terms(nodes: Iterable[Node]) -> dict[str, tuple[str, ...]]:
+    """The nodes' terms together, per language: the required languages, then any extra one
+    (``it``...) any of them has, in the order they are first met."""
     merged: dict[str, list[str]] = {lang: [] for lang in LANGUAGES}
     for node in nodes:
-        for lang in LANGUAGES:
-            for term in node.terms.get(lang, ()):
-                if term.casefold() not in {t.casefold() for t in merged[lang]}:
-                    merged[lang].append(term)
+        for lang, terms in node.terms.items():
+            words = merged.setdefault(lang, [])
+            for term in terms:
+                if term.casefold() not in {t.casefold() for t in words}:
+                    words.append(term)
     return {lang: tuple(words) for lang, words in merged.items()}
 
 

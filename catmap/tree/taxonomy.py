@@ -31,6 +31,7 @@ from catmap.tree.treefile import (
     SHARED_LEAF_LEVELS,
     Node,
     format_tree,
+    is_language_code,
     parse_audience,
     parse_restriction,
     parse_tree_text,
@@ -157,6 +158,13 @@ class CategoryTree:
         if missing:
             raise self._error(
                 f"missing language cell '{missing[0]}:' for node {node.id}", node, FORMAT_HINT
+            )
+        unknown = [lang for lang in node.terms if not is_language_code(lang)]
+        if unknown:
+            raise self._error(
+                f"node {node.id}: '{unknown[0]}' is not a two-letter ISO 639-1 language code",
+                node,
+                FORMAT_HINT,
             )
 
     def check_leaf_levels(self, lowest: int, deepest: int) -> None:
@@ -374,10 +382,15 @@ class CategoryTree:
         return terms
 
     def languages(self) -> tuple[str, ...]:
-        """Return the language codes the tree has terms in (a node's keywords or synonyms),
-        in the file format's order; a language whose cells are all empty is not among them."""
+        """Return the language codes the tree has terms in (a node's keywords or synonyms):
+        the required ones in the file format's order, then the extra ones (``it:``...) in the
+        order the file first gives them; a language whose cells are all empty is not among
+        them."""
         used = {code for node in self._order for code, words in node.terms.items() if words}
-        return tuple(code for code in LANGUAGES if code in used)
+        extra = dict.fromkeys(
+            code for node in self._order for code in node.terms if code not in LANGUAGES
+        )
+        return tuple(code for code in (*LANGUAGES, *extra) if code in used)
 
     def search_matches(
         self, text: str, *, limit: int = 10, under: str | None = None, min_score: float = 0.0

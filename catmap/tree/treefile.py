@@ -13,11 +13,13 @@ from collections.abc import Iterable, Mapping
 from dataclasses import dataclass, field
 
 from catmap.errors import TreeError
+from catmap.tree._langcodes import ISO_639_1_CODES
 
 __all__ = [
     "AGE_VALUES",
     "FORMAT_HINT",
     "LANGUAGES",
+    "is_language_code",
     "MAX_LEVEL",
     "SHARED_LEAF_LEVELS",
     "RESTRICTION_VALUES",
@@ -31,6 +33,8 @@ __all__ = [
     "split_cells",
 ]
 
+# The required language cells, in the order every node line gives them. A line may add more
+# (``| it: ...``, any ISO 639-1 code once) after these.
 LANGUAGES: tuple[str, ...] = ("en", "fr", "de", "es")
 WHO_VALUES: tuple[str, ...] = ("female", "male", "unisex")
 AGE_VALUES: tuple[str, ...] = ("adult", "kids", "baby")
@@ -56,7 +60,8 @@ class Node:
         id: stable identifier, digits only.
         parent: the parent's id, None for a department (a top-level node).
         name: English display name.
-        terms: language code ("en", "fr", "de", "es") -> the node's own keywords and synonyms.
+        terms: language code -> the node's own keywords and synonyms: the required
+            :data:`LANGUAGES` first, then any extra language the line gives, in its order.
         audience: the raw audience cell: ".", "none" or "who=... age=...".
         restriction: the node's own restriction, None for "-". Use
             :meth:`CategoryTree.restriction` for the effective (inherited) value.
@@ -132,6 +137,15 @@ def parse_restriction(cell: str) -> str | None:
     return cell
 
 
+def is_language_code(code: str) -> bool:
+    """Whether ``code`` is a two-letter ISO 639-1 language code, in lower case ("it", "nl")."""
+    return code in ISO_639_1_CODES
+
+
+def _split_terms(words: str) -> tuple[str, ...]:
+    return tuple(filter(None, map(str.strip, words.split(";"))))
+
+
 def split_cells(text: str) -> list[str]:
     """Split a node line into its stripped cells."""
     return [cell.strip() for cell in text.split("|")]
@@ -155,11 +169,11 @@ def parse_node(cells: list[str], line: int, path: str) -> Node:
     def fail(message: str, hint: str = FORMAT_HINT) -> TreeError:
         return TreeError(message, path=path, line=line, hint=hint)
 
-    if len(cells) != _CELLS:
+    if len(cells) < _CELLS:
         present = {c.partition(":")[0].strip() for c in cells[5:] if ":" in c}
         missing = [lang for lang in LANGUAGES if lang not in present]
-        message = f"expected {_CELLS} cells separated by ' | ', found {len(cells)}"
-        if len(cells) < _CELLS and missing:
+        message = f"expected at least {_CELLS} cells separated by ' | ', found {len(cells)}"
+        if missing:
             message = f"missing language cell '{missing[0]}:' ({message})"
         raise fail(message)
     node_id, parent, name, audience, restriction = cells[:5]
@@ -177,17 +191,40 @@ def parse_node(cells: list[str], line: int, path: str) -> Node:
     except ValueError as error:
         raise fail(str(error)) from None
     terms: dict[str, tuple[str, ...]] = {}
-    for position, (lang, cell) in enumerate(zip(LANGUAGES, cells[5:], strict=True), start=6):
+    for position, (lang, cell) in enumerate(zip(LANGUAGES, cells[5:_CELLS], strict=True), start=6):
         code, sep, words = cell.partition(":")
         code = code.strip()
         if not sep or code != lang:
             if sep and code in LANGUAGES:
-                raise fail(
+                message = (
                     f"cell {position} is '{code}:' but should be '{lang}:' "
                     f"(language cells go {', '.join(LANGUAGES)})"
                 )
-            raise fail(f"missing language cell '{lang}:' (cell {position} is '{cell[:30]}')")
-        terms[lang] = tuple(filter(None, map(str.strip, words.split(";"))))
+            else:
+                message = f"missing language cell '{lang}:' (cell {position} is '{cell[:30]}')"
+            if len(cells) > _CELLS:
+                message = (
+                    f"expected {_CELLS} cells separated by ' | ' (then any extra language "
+                    f"cells), found {len(cells)}: {message}"
+                )
+            raise fail(message)
+        terms[lang] = _split_terms(words)
+    for position, cell in enumerate(cells[_CELLS:], start=_CELLS + 1):
+        code, sep, words = cell.partition(":")
+        code = code.strip()
+        if not sep:
+            raise fail(
+                f"cell {position} '{cell[:30]}' is not a language cell "
+                "(extra cells after the four required ones are 'xx: term; term')"
+            )
+        if not is_language_code(code):
+            raise fail(
+                f"cell {position}: '{code}' is not a two-letter ISO 639-1 language code",
+                "extra language cells start with a code such as 'it:', 'nl:' or 'pt:'",
+            )
+        if code in terms:
+            raise fail(f"cell {position}: language '{code}:' given twice")
+        terms[code] = _split_terms(words)
     return Node(
         id=node_id,
         parent=None if parent == "-" else parent,
@@ -263,7 +300,8 @@ def _node_line(node: Node) -> str:
         node.audience,
         node.restriction or "-",
     ]
-    for lang in LANGUAGES:
+    extra = [lang for lang in node.terms if lang not in LANGUAGES]
+    for lang in (*LANGUAGES, *extra):
         words = "; ".join(node.terms.get(lang, ()))
         cells.append(f"{lang}: {words}" if words else f"{lang}:")
     return " | ".join(cells)
