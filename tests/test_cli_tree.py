@@ -60,11 +60,12 @@ def test_validate_a_good_file() -> None:
     result = run("validate", GOOD)
     assert result.exit_code == 0, result.output
     lines = result.output.splitlines()
-    assert lines[:4] == [
+    assert lines[:5] == [
         f"Tree file: {GOOD}",
         "Tree version: 1",
         "Nodes: 23",
         "Nodes per level: level 1: 2, level 2: 5, level 3: 11, level 4: 4, level 5: 1",
+        "Languages: en, fr, de, es",
     ]
     assert "│ 1000 │ Apparel        │     7 │      4 │" in lines
     assert "│ 1500 │ Food and drink │    16 │      8 │" in lines
@@ -81,6 +82,7 @@ def test_validate_json() -> None:
     assert facts["levels"] == {"1": 2, "2": 5, "3": 11, "4": 4, "5": 1}
     assert facts["restricted"] == {"alcohol": 3}
     assert [d["id"] for d in facts["departments"]] == ["1000", "1500"]
+    assert facts["languages"] == ["en", "fr", "de", "es"]
 
 
 @pytest.mark.parametrize(
@@ -109,6 +111,15 @@ def test_validate_the_shared_tree(shared_tree: Path) -> None:
     assert result.exit_code == 0, result.output
     assert f"Tree file: {shared_tree}" in result.output
     assert result.output.endswith("valid\n")
+
+
+def test_validate_names_the_extra_languages_of_the_shipped_tree() -> None:
+    shipped = Path(__file__).resolve().parents[1] / "taxonomies" / "tree-v1.txt"
+    result = run("validate", str(shipped))
+    assert result.exit_code == 0, result.output
+    assert "Languages: en, fr, de, es, it\n" in result.output
+    facts = json.loads(run("validate", str(shipped), "--json").output)
+    assert facts["languages"] == ["en", "fr", "de", "es", "it"]
 
 
 def test_validate_a_missing_tree_version(shared_tree: Path) -> None:

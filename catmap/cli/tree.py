@@ -93,6 +93,7 @@ def validate_command(
     _say(f"Nodes: {facts['nodes']}")
     levels = ", ".join(f"level {level}: {count}" for level, count in facts["levels"].items())
     _say(f"Nodes per level: {levels}")
+    _say(f"Languages: {', '.join(facts['languages']) or 'none'}")
     table = Table(title="Nodes per department", title_justify="left")
     table.add_column("Id")
     table.add_column("Department")

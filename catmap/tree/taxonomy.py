@@ -566,8 +566,9 @@ def summarize_tree(tree: CategoryTree) -> dict[str, Any]:
     """Return the facts ``catmap tree validate`` reports, as plain JSON-ready data.
 
     Returns:
-        A dict with path, version, node count, nodes per level, per-department counts,
-        leaf count, restricted node counts (effective) and ``valid``.
+        A dict with path, version, node count, nodes per level, the languages the tree has
+        terms in (:meth:`CategoryTree.languages`), per-department counts, leaf count,
+        restricted node counts (effective) and ``valid``.
     """
     levels = Counter(tree.depth(n.id) for n in tree)
     restricted = Counter(r for n in tree if (r := tree.restriction(n.id)) is not None)
@@ -588,6 +589,7 @@ def summarize_tree(tree: CategoryTree) -> dict[str, Any]:
         "version": tree.version,
         "nodes": len(tree),
         "levels": {str(level): levels[level] for level in sorted(levels)},
+        "languages": list(tree.languages()),
         "departments": departments,
         "leaves": len(tree.leaves()),
         "restricted_nodes": sum(restricted.values()),
