@@ -113,13 +113,19 @@ def test_validate_the_shared_tree(shared_tree: Path) -> None:
     assert result.output.endswith("valid\n")
 
 
-def test_validate_names_the_extra_languages_of_the_shipped_tree() -> None:
-    shipped = Path(__file__).resolve().parents[1] / "taxonomies" / "tree-v1.txt"
-    result = run("validate", str(shipped))
+def test_validate_names_the_extra_languages_of_a_tree(tmp_path: Path) -> None:
+    tree = tmp_path / "tree.txt"
+    tree.write_text(
+        "@tree-version 1\n"
+        "1 | - | Garden | . | - | en: garden | fr: jardin | de: Garten | es: jardín | it: giardino\n"
+        "2 | 1 | Tools | . | - | en: tools | fr: | de: | es: | it: attrezzi | nl: gereedschap\n",
+        encoding="utf-8",
+    )
+    result = run("validate", str(tree))
     assert result.exit_code == 0, result.output
-    assert "Languages: en, fr, de, es, it\n" in result.output
-    facts = json.loads(run("validate", str(shipped), "--json").output)
-    assert facts["languages"] == ["en", "fr", "de", "es", "it"]
+    assert "Languages: en, fr, de, es, it, nl\n" in result.output
+    facts = json.loads(run("validate", str(tree), "--json").output)
+    assert facts["languages"] == ["en", "fr", "de", "es", "it", "nl"]
 
 
 def test_validate_a_missing_tree_version(shared_tree: Path) -> None:
