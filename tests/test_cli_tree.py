@@ -117,7 +117,8 @@ def test_validate_names_the_extra_languages_of_a_tree(tmp_path: Path) -> None:
     tree = tmp_path / "tree.txt"
     tree.write_text(
         "@tree-version 1\n"
-        "1 | - | Garden | . | - | en: garden | fr: jardin | de: Garten | es: jardín | it: giardino\n"
+        "1 | - | Garden | . | - | en: garden | fr: jardin | de: Garten | es: jardín"
+        " | it: giardino\n"
         "2 | 1 | Tools | . | - | en: tools | fr: | de: | es: | it: attrezzi | nl: gereedschap\n",
         encoding="utf-8",
     )
