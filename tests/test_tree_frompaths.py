@@ -152,3 +152,19 @@ def test_a_list_with_no_usable_line_stops_with_the_reason(tmp_path: Path) -> Non
     assert result.exit_code == 3
     assert "holds no path" in result.output
     assert not (tmp_path / "t.txt").exists()
+
+
+def test_names_in_another_language_go_into_its_own_cell(tmp_path: Path) -> None:
+    listed = tmp_path / "categorie.txt"
+    listed.write_text("Casa > Pentole e padelle\n", encoding="utf-8")
+    out = tmp_path / "albero.txt"
+    result = _run("tree", "from-paths", str(listed), "--out", str(out), "--language", "it")
+    assert result.exit_code == 0, result.output  # type: ignore[attr-defined]
+    tree = load_tree(out)
+    assert tree.languages() == ("it",)
+    leaf = tree.find_path("Casa > Pentole e padelle")
+    assert leaf.terms["it"] == ("pentole e padelle", "pentole", "padelle")
+    bad = CliRunner().invoke(
+        main, ["tree", "from-paths", str(listed), "--out", str(out), "--language", "xx"]
+    )
+    assert bad.exit_code == 2

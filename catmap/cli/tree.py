@@ -13,6 +13,7 @@ from rich.tree import Tree
 from catmap.cli._render import console, echo_json, json_option, project_option
 from catmap.errors import InputError
 from catmap.jobs.tree_from_paths import write_tree_from_paths
+from catmap.tree._langcodes import ISO_639_1_CODES
 from catmap.tree.taxonomy import (
     CategoryTree,
     Node,
@@ -21,7 +22,6 @@ from catmap.tree.taxonomy import (
     open_tree,
     summarize_tree,
 )
-from catmap.tree.treefile import LANGUAGES
 
 F = TypeVar("F", bound=Callable[..., Any])
 
@@ -404,10 +404,13 @@ def diff_command(
 )
 @click.option(
     "--language",
-    type=click.Choice(LANGUAGES),
+    type=click.Choice(sorted(ISO_639_1_CODES)),
     default="en",
     show_default=True,
-    help="The language of the names: its keyword cell gets them.",
+    metavar="CODE",
+    help="The language of the names (a two-letter ISO 639-1 code): its keyword cell gets "
+    "them, an extra cell after the four required ones for a language other than en, fr, de, "
+    "es.",
 )
 @click.option(
     "--tree-version",

@@ -20,7 +20,8 @@ from collections import Counter
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass, field
 
-from catmap.tree.treefile import LANGUAGES, MAX_LEVEL, Node
+from catmap.tree._langcodes import ISO_639_1_CODES
+from catmap.tree.treefile import MAX_LEVEL, Node
 
 __all__ = [
     "SEPARATORS",
@@ -32,7 +33,7 @@ __all__ = [
 # Separators tried, most specific first; the one found in the most lines wins.
 SEPARATORS: tuple[str, ...] = (" > ", ">", " | ", "|", " » ", "»", " › ", "›", " / ", "/", "::")
 # Words that join two names in one node's name, per language ("Tops and T-shirts").
-_JOINERS = {"en": "and", "fr": "et", "de": "und", "es": "y"}
+_JOINERS = {"en": "and", "fr": "et", "de": "und", "es": "y", "it": "e", "nl": "en", "pt": "e"}
 # Generated ids: this many digits, so that they never meet the short ids a team writes.
 _ID_DIGITS = 9
 
@@ -135,10 +136,10 @@ def tree_from_paths(
         The tree, with its id list and the rejected lines.
 
     Raises:
-        ValueError: ``language`` is not a language cell of the tree format.
+        ValueError: ``language`` is not a two-letter ISO 639-1 code.
     """
-    if language not in LANGUAGES:
-        raise ValueError(f"unknown language '{language}' (one of {', '.join(LANGUAGES)})")
+    if language not in ISO_639_1_CODES:
+        raise ValueError(f"'{language}' is not a two-letter ISO 639-1 language code")
     separator = separator or detect_separator(text for _n, _i, text in rows)
     rejects: list[tuple[int, str, str, str]] = []
     # First pass: the paths, and the ids the file gives, checked against each other.
