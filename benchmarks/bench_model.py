@@ -492,17 +492,18 @@ def _decide(
     The decisions go into each product's extra columns (``_accept_A``, ``_accept_B``); the
     feed check (a ``FeedShift``) per feed is returned, one dict per choice.
     """
-    from catmap.jobs._calibration import model_vocabulary
-    from catmap.jobs.onboard import acceptance_score, check_feed_shift, title_familiarity
+    from catmap.jobs._calibration import feed_familiarity
+    from catmap.jobs.onboard import acceptance_score, check_feed_shift
 
-    vocabulary = model_vocabulary(mapper)
     modes: list[dict[str, Any]] = [{} for _ in sources]
     for part, groups in parts.items():
         for retailer, (_labels, mappings, extras) in groups.items():
             raw = np.array([acceptance_score(m) for m in mappings])
-            familiar = title_familiarity([e["_title"] for e in extras], vocabulary)
+            familiar, labelled = feed_familiarity(mapper, [e["_title"] for e in extras])
             for which, given in enumerate(sources):
-                shift = check_feed_shift(raw, familiar, given, max_error=max_error)
+                shift = check_feed_shift(
+                    raw, familiar, given, labelled_familiarity=labelled, max_error=max_error
+                )
                 scores = shift.acceptance_scores(raw, familiar)
                 taken = (
                     scores >= shift.threshold
@@ -727,7 +728,7 @@ def _unseen_parts(
         for retailer, (labels, mappings, _) in parts["unseen validation"].items()
         for label, m in zip(labels, mappings, strict=True)
     ]
-    from catmap.jobs._calibration import model_vocabulary, title_familiarity
+    from catmap.jobs._calibration import feed_familiarity
 
     extras = [e for _, (_, _, es) in parts["unseen validation"].items() for e in es]
     sources_b = [
@@ -737,7 +738,7 @@ def _unseen_parts(
             np.array([m.node_id == label for _, label, m in validation], dtype=bool),
             f"unseen validation part, seed {seed}",
             np.array([retailer for retailer, _, _ in validation], dtype=str),
-            title_familiarity([e["_title"] for e in extras], model_vocabulary(mapper)),
+            *feed_familiarity(mapper, [e["_title"] for e in extras]),
         ),
     ]
     with_validation = accept_threshold(sources_b, max_error=max_error)

@@ -507,6 +507,60 @@ def test_feed_check_tightens_a_feed_unlike_the_calibration_data() -> None:
     assert check_feed_shift(scores[:1000] - 0.2, np.ones(1000), [source]).mode == "tightened"
 
 
+def test_words_only_the_tree_teaches_make_a_feed_unlike_the_labelled_products() -> None:
+    # A language the tree has terms in but no labelled product is written in: its titles are
+    # known (not an uncovered language, nothing capped), yet unlike the calibration data, so
+    # the feed's threshold is tightened.
+    from catmap.jobs.onboard import check_feed_shift
+
+    rng = np.random.default_rng(0)
+    scores = rng.uniform(0.5, 1.0, 4000)
+    correct = (scores >= 0.8) | (rng.random(4000) > 0.05)
+    source = ValidationPredictions(
+        scores, correct, "calibration", np.array(["a"] * 4000), np.ones(4000), np.ones(4000)
+    )
+    feed = scores[:1000]
+    known_to_the_tree = np.ones(1000)
+    used_by_labelled = np.where(np.arange(1000) % 3 == 0, 0.2, 1.0)
+    shift = check_feed_shift(
+        feed, known_to_the_tree, [source], labelled_familiarity=used_by_labelled
+    )
+    assert shift.mode == "tightened"
+    assert not shift.uncovered_language
+    assert "no labelled product used" in shift.notes[0]
+    assert (shift.unfamiliar_share, shift.unknown_share) == (pytest.approx(0.334), 0.0)
+    # Without the labelled measure (a model saved before it), the model's words decide.
+    assert check_feed_shift(feed, known_to_the_tree, [source]).mode == "as calibrated"
+
+
+def test_the_model_keeps_which_title_words_labelled_products_used(tmp_path: Path) -> None:
+    from catmap.classify.features import ProductTexts
+    from catmap.classify.model import CategoryModel
+    from catmap.classify.storage import PRODUCT_WORDS, load_model, save_model
+    from catmap.jobs._calibration import labelled_vocabulary, model_vocabulary
+    from catmap.jobs._feed_mapper import FeedMapper
+    from catmap.tree.taxonomy import load_tree
+    from tests._classify_fixtures import write_tree
+
+    tree = load_tree(write_tree(tmp_path / "tree"))
+    titles = ["Leather ankle boots", "Suede ankle boots", "Rubber rain boots", "Linen rain boots"]
+    labels = ["1101", "1101", "1102", "1102"]
+    texts = ProductTexts(titles * 3, [""] * 12, [""] * 12, [""] * 12)
+    model = CategoryModel(tree=tree, hierarchical=False, min_df=1).fit(texts, labels * 3)
+    model.calibrate(texts, labels * 3)
+    save_model(model, tmp_path / "m")
+    assert (tmp_path / "m" / PRODUCT_WORDS).exists()
+    mapper = FeedMapper(*load_model(tmp_path / "m", tree), tree)
+    labelled, known = labelled_vocabulary(mapper), model_vocabulary(mapper)
+    assert {"leather", "suede", "ankle", "boots", "linen"} <= labelled
+    # "bottines" is in the tree's French terms of ankle boots only: known, not labelled.
+    assert "bottines" in known and "bottines" not in labelled
+    # A model saved without the array (an older catmap) measures with every word it knows.
+    (tmp_path / "m" / PRODUCT_WORDS).unlink()
+    older = FeedMapper(*load_model(tmp_path / "m", tree), tree)
+    assert labelled_vocabulary(older) == model_vocabulary(older)
+
+
 def test_the_feed_check_holds_a_small_feed_to_a_stricter_threshold() -> None:
     from catmap.jobs.onboard import check_feed_shift
 

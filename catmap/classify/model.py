@@ -126,6 +126,9 @@ class CategoryModel:
         keyword_weight_: the blend weight of the keyword mapper.
         blend_temperature_: temperature applied to the blend's log-probabilities.
         metrics_: validation metrics (after :meth:`calibrate`).
+        product_words_: per title word of the featurizer's vocabulary, whether a labelled
+            product's title used it (False: only the tree's own examples did); None for a
+            model saved before it was kept.
     """
 
     def __init__(
@@ -198,6 +201,7 @@ class CategoryModel:
                 texts, labels = texts.subset(keep), [labels[i] for i in keep]
         if self.path_noise > 0:
             texts = _swap_paths(texts, self.path_noise, rng)
+        products = len(texts)  # the rows before the tree's own examples
         if self.tree_examples:
             texts, labels = _with_tree_examples(texts, labels, self.tree)
 
@@ -209,6 +213,9 @@ class CategoryModel:
             weights=self.feature_weights, min_df=self.min_df, max_features=self.max_features
         )
         features = self.featurizer_.fit_transform(texts)
+        self.product_words_ = _used_by_rows(
+            features, products, self.featurizer_.block_slices().get("title_words")
+        )
 
         group_of = {label: self._group_of(label) for label in set(labels)}
         groups = sorted(set(group_of.values()), key=lambda g: (g == _ALL, g))
@@ -1027,6 +1034,19 @@ def _with_tree_examples(
         ),
         labels + extra_labels,
     )
+
+
+def _used_by_rows(features: sp.csr_matrix, rows: int, block: slice | None) -> Array | None:
+    """Which columns of ``block`` the first ``rows`` rows use (None without the block).
+
+    The title words labelled products used, as against those only the tree's own examples
+    brought in: the feed check measures a feed against the first (see
+    :func:`catmap.jobs._calibration.labelled_vocabulary`).
+    """
+    if block is None:
+        return None
+    used = np.bincount(features.indices[: features.indptr[rows]], minlength=features.shape[1])
+    return np.asarray(used[block] > 0)
 
 
 def _fit_block_temperature(klass: Array, y_lin: Array, class_group: Array) -> float:

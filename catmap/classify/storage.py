@@ -45,6 +45,8 @@ __all__ = [
 # 2: keywords blend inside each department (keyword_blend_temperature); 1 is not read.
 FORMAT_VERSION = 2
 MANIFEST = "manifest.json"
+# Which title words labelled products used (see CategoryModel.product_words_); optional.
+PRODUCT_WORDS = "product-words.npy"
 # What folders written before these settings were saved used.
 _EARLIER_NGRAM_RANGES: dict[str, tuple[int, int]] = {"title_chars": (3, 5)}
 _EARLIER_DEPARTMENT_FLOOR = 1e-3
@@ -80,6 +82,14 @@ def _save_sparse(path: Path, matrix: Any) -> None:
     """Save one sparse matrix atomically."""
     with atomic_open(path, "wb") as handle:
         sp.save_npz(handle, matrix)
+
+
+def _optional_array(path: Path) -> np.ndarray[Any, Any] | None:
+    """An array a model may lack (saved by an older catmap): None when absent or unreadable."""
+    try:
+        return np.load(path, allow_pickle=False) if path.exists() else None
+    except (OSError, ValueError, EOFError):
+        return None
 
 
 def _sklearn_version() -> str:
@@ -140,6 +150,11 @@ def save_model(
     _save_array(out / "group-intercept.npy", model.group_intercept_)
     _save_sparse(out / "class-coef.npz", model.class_coef_.tocsr())
     _save_array(out / "class-intercept.npy", model.class_intercept_)
+    product_words = getattr(model, "product_words_", None)
+    if product_words is not None:
+        _save_array(out / PRODUCT_WORDS, product_words)
+    else:
+        (out / PRODUCT_WORDS).unlink(missing_ok=True)
     manifest: dict[str, Any] = {
         "format": "catmap-model",
         "format_version": FORMAT_VERSION,
@@ -321,6 +336,7 @@ def load_model(folder: str | Path, tree: CategoryTree) -> tuple[CategoryModel, d
         model.keyword_weight_ = float(manifest["keyword_weight"])
         model.keyword_blend_temperature_ = float(manifest["keyword_blend_temperature"])
         model.metrics_ = dict(manifest.get("metrics", {}))
+        model.product_words_ = _optional_array(src / PRODUCT_WORDS)
     except (KeyError, OSError, ValueError) as error:
         raise ModelError(
             f"the model folder is damaged or incomplete: {error}",

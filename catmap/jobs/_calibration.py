@@ -60,6 +60,9 @@ class ValidationPredictions:
         retailers: the retailer of each product (empty: one unknown retailer).
         familiarity: the share of each product's title words the model knows (empty: not
             measured); see :func:`title_familiarity`.
+        labelled_familiarity: the share of its title words that labelled products used, the
+            tree's own words not counted (empty: not measured); see
+            :func:`labelled_vocabulary`.
     """
 
     scores: np.ndarray[Any, Any]
@@ -67,6 +70,7 @@ class ValidationPredictions:
     source: str
     retailers: np.ndarray[Any, Any] = field(default_factory=lambda: np.zeros(0, dtype=str))
     familiarity: np.ndarray[Any, Any] = field(default_factory=lambda: np.zeros(0))
+    labelled_familiarity: np.ndarray[Any, Any] = field(default_factory=lambda: np.zeros(0))
 
     def __len__(self) -> int:
         return int(self.scores.size)
@@ -97,9 +101,16 @@ class ValidationPredictions:
         return parts
 
     def _part(self, keep: np.ndarray[Any, Any], source: str) -> ValidationPredictions:
-        familiar = self.familiarity[keep] if len(self.familiarity) == len(self) else np.zeros(0)
+        def kept(values: np.ndarray[Any, Any]) -> np.ndarray[Any, Any]:
+            return values[keep] if len(values) == len(self) else np.zeros(0)
+
         return ValidationPredictions(
-            self.scores[keep], self.correct[keep], source, self.retailers[keep], familiar
+            self.scores[keep],
+            self.correct[keep],
+            source,
+            self.retailers[keep],
+            kept(self.familiarity),
+            kept(self.labelled_familiarity),
         )
 
 
@@ -228,7 +239,9 @@ def validation_predictions(
     scores: list[float] = []
     correct: list[bool] = []
     retailers = [product.extra.get("retailer", "") for product, _ in rows]
-    familiar = title_familiarity([p.title for p, _ in rows], model_vocabulary(mapper))
+    titles = [p.title for p, _ in rows]
+    familiar = title_familiarity(titles, model_vocabulary(mapper))
+    labelled = title_familiarity(titles, labelled_vocabulary(mapper))
     for start in range(0, len(rows), CHUNK_SIZE):
         chunk = rows[start : start + CHUNK_SIZE]
         for (_product, label), mapping in zip(
@@ -243,6 +256,7 @@ def validation_predictions(
         source,
         np.array(retailers, dtype=str),
         familiar,
+        labelled,
     )
     _save_sources(cache, [result], stamp)
     if as_default and given:
@@ -268,6 +282,12 @@ def _savez(handle: IO[bytes], sources: Sequence[ValidationPredictions], stamp: s
         familiarity=np.concatenate(
             [v.familiarity if len(v.familiarity) == len(v) else np.ones(len(v)) for v in sources]
         ),
+        labelled_familiarity=np.concatenate(
+            [
+                v.labelled_familiarity if len(v.labelled_familiarity) == len(v) else np.ones(len(v))
+                for v in sources
+            ]
+        ),
         manifest=np.array(stamp),
     )
 
@@ -280,18 +300,20 @@ def _load_sources(path: Path, stamp: str) -> list[ValidationPredictions] | None:
         with np.load(path, allow_pickle=False) as saved:
             if str(saved["manifest"]) != stamp:
                 return None
-            if "familiarity" not in saved.files:  # saved before retailers and familiarity
+            if "labelled_familiarity" not in saved.files:  # saved by an older catmap
                 return None
             scores, correct = saved["scores"], saved["correct"].astype(bool)
             retailers, familiar = saved["retailers"], saved["familiarity"]
+            labelled = saved["labelled_familiarity"]
             result, start = [], 0
             sizes, sources = saved["sizes"].tolist(), saved["sources"].tolist()
             for size, source in zip(sizes, sources, strict=True):
                 part = slice(start, start + int(size))
                 result.append(
                     ValidationPredictions(
-                        scores[part], correct[part], str(source), retailers[part], familiar[part]
-                    )
+                        scores[part], correct[part], str(source), retailers[part],
+                        familiar[part], labelled[part],
+                    )  # fmt: skip
                 )
                 start += int(size)
             return result
@@ -466,6 +488,42 @@ def model_vocabulary(mapper: FeedMapper) -> frozenset[str]:
     return vocabulary
 
 
+def labelled_vocabulary(mapper: FeedMapper) -> frozenset[str]:
+    """The title words labelled products used: the model's title vocabulary less the words only
+    the tree's own examples brought in (``CategoryModel.product_words_``).
+
+    The feed check compares a feed with the calibration data, which are labelled products: a
+    word known only from the tree's terms (a language the tree covers but no labelled product
+    is written in) maps, but the guarantee has not been measured on it. A model saved before
+    this was kept gives :func:`model_vocabulary`.
+    """
+    cached: frozenset[str] | None = mapper.__dict__.get("_labelled_vocabulary")
+    if cached is not None:
+        return cached
+    used = getattr(mapper.model, "product_words_", None)
+    vectorizer = mapper.model.featurizer_.vectorizers_.get("title_words")
+    if used is None or vectorizer is None or len(used) != len(vectorizer.vocabulary_):
+        vocabulary = model_vocabulary(mapper)
+    else:
+        vocabulary = frozenset(
+            term for term, column in vectorizer.vocabulary_.items()
+            if used[column] and " " not in term
+        )  # fmt: skip
+    mapper.__dict__["_labelled_vocabulary"] = vocabulary
+    return vocabulary
+
+
+def feed_familiarity(
+    mapper: FeedMapper, titles: Sequence[str]
+) -> tuple[np.ndarray[Any, Any], np.ndarray[Any, Any]]:
+    """Each title's familiarity to the model (its words and the tree's) and to the labelled
+    products (see :func:`labelled_vocabulary`)."""
+    return (
+        title_familiarity(titles, model_vocabulary(mapper)),
+        title_familiarity(titles, labelled_vocabulary(mapper)),
+    )
+
+
 def title_familiarity(titles: Sequence[str], vocabulary: frozenset[str]) -> np.ndarray[Any, Any]:
     """Return the share of each title's words (three letters or more) found in ``vocabulary``.
 
@@ -485,7 +543,8 @@ class FeedShift:
 
     Attributes:
         products: products the check looked at.
-        unfamiliar_share: share of them knowing fewer than half their title words.
+        unfamiliar_share: share of them of which fewer than half the title words were used by
+            labelled products (the tree's own words not counted: :func:`labelled_vocabulary`).
         calibration_unfamiliar: the highest such share among the calibration retailers.
         mean_score: the feed's mean acceptance score.
         calibration_mean_score: the lowest mean among the calibration retailers.
@@ -501,6 +560,8 @@ class FeedShift:
             threshold (before any tightening) so that the feed's share of wrong accepted
             mappings stays within target (:func:`catmap.decide.threshold.feed_error_target`;
             None: no threshold).
+        unknown_share: share of the products looked at that know fewer than half their title
+            words from the model and the tree together (mostly so: an uncovered language).
     """
 
     products: int
@@ -515,6 +576,7 @@ class FeedShift:
     calibrated_threshold: float | None = None
     feed_accepted: int = 0
     feed_target: float | None = None
+    unknown_share: float = 0.0
 
     def acceptance_scores(
         self, scores: np.ndarray[Any, Any], familiarity: np.ndarray[Any, Any]
@@ -529,6 +591,7 @@ class FeedShift:
             "products": self.products,
             "unfamiliar_share": round(self.unfamiliar_share, 4),
             "calibration_unfamiliar": round(self.calibration_unfamiliar, 4),
+            "unknown_share": round(self.unknown_share, 4),
             "mean_score": round(self.mean_score, 4),
             "calibration_mean_score": round(self.calibration_mean_score, 4),
             "mode": self.mode,
@@ -558,6 +621,7 @@ def check_feed_shift(
     familiarity: np.ndarray[Any, Any],
     sources: Sequence[ValidationPredictions],
     *,
+    labelled_familiarity: np.ndarray[Any, Any] | None = None,
     max_error: float = DEFAULT_MAX_ERROR,
     delta: float = DEFAULT_DELTA,
 ) -> FeedShift:
@@ -571,17 +635,23 @@ def check_feed_shift(
     of usual size; a longer feed's share varies less, so this errs on the safe side).
 
     A feed unlike all calibration retailers (more unfamiliar titles, or lower confidence, than
-    any by :data:`SHIFT_MARGIN`) gets at least the threshold chosen for half the error rate, a
-    margin for a retailer the calibration data does not stand for (common practice, no
-    source); a feed mostly in an uncovered language is treated so too, and its unfamiliar
-    products' scores are capped at :data:`UNCOVERED_LANGUAGE_CAP` under a threshold of at
+    any by :data:`SHIFT_MARGIN`; a title is unfamiliar when fewer than half its words were used
+    by labelled products, the words the tree's terms alone teach not counted, since the
+    guarantee was measured on labelled products only) gets at least the threshold chosen for
+    half the error rate, a margin for a retailer the calibration data does not stand for
+    (common practice, no source); a feed mostly in an uncovered language (most titles with
+    fewer than half their words known to the model or the tree) is treated so too, and its
+    unfamiliar products' scores are capped at :data:`UNCOVERED_LANGUAGE_CAP` under a threshold of at
     least :data:`UNCOVERED_LANGUAGE_FLOOR`. When no threshold is left, the feed is audited
     first (mode ``audit first``: nothing auto-accepted, everything reviewed).
 
     Args:
         scores: the feed's acceptance scores (:func:`acceptance_score`).
-        familiarity: its products' title familiarity (:func:`title_familiarity`).
+        familiarity: its products' title familiarity (:func:`title_familiarity` with
+            :func:`model_vocabulary`): what an uncovered language is read from.
         sources: the calibration sources the threshold is chosen on.
+        labelled_familiarity: the same with :func:`labelled_vocabulary`, what the feed is
+            compared with the calibration retailers on (None: ``familiarity`` is used).
         max_error: the error rate allowed among auto-accepted mappings.
         delta: 1 − the confidence of that guarantee.
 
@@ -590,20 +660,35 @@ def check_feed_shift(
     """
     parts = retailer_parts(sources)
     calibrated = accept_threshold(parts, max_error=max_error, delta=delta)
-    measured = [p for p in parts if len(p.familiarity) == len(p) and len(p)]
-    unfamiliar = float(np.mean(familiarity < UNFAMILIAR_BELOW)) if len(familiarity) else 0.0
+    unknown = float(np.mean(familiarity < UNFAMILIAR_BELOW)) if len(familiarity) else 0.0
+    labelled = (
+        labelled_familiarity is not None
+        and len(labelled_familiarity) == len(familiarity)
+        and all(len(p.labelled_familiarity) == len(p) for p in parts)
+    )
+    feed_words = labelled_familiarity if labelled and labelled_familiarity is not None else (
+        familiarity
+    )
+    unfamiliar = float(np.mean(feed_words < UNFAMILIAR_BELOW)) if len(feed_words) else 0.0
     mean_score = float(np.mean(scores)) if len(scores) else 0.0
     calibration_unfamiliar = max(
-        (float(np.mean(p.familiarity < UNFAMILIAR_BELOW)) for p in measured), default=1.0
+        (
+            float(np.mean((p.labelled_familiarity if labelled else p.familiarity)
+                          < UNFAMILIAR_BELOW))
+            for p in parts
+            if len(p) and len(p.labelled_familiarity if labelled else p.familiarity) == len(p)
+        ),
+        default=1.0,
     )
     calibration_mean = min((float(np.mean(p.scores)) for p in parts if len(p)), default=0.0)
     notes: list[str] = []
-    uncovered = unfamiliar >= UNCOVERED_LANGUAGE_SHARE
+    uncovered = unknown >= UNCOVERED_LANGUAGE_SHARE
     shifted = False
     if unfamiliar > calibration_unfamiliar + SHIFT_MARGIN:
         shifted = True
         notes.append(
-            f"{unfamiliar:.0%} of the titles use mostly words the model does not know "
+            f"{unfamiliar:.0%} of the titles use mostly words "
+            f"{'no labelled product used' if labelled else 'the model does not know'} "
             f"(at most {calibration_unfamiliar:.0%} for any calibration retailer)"
         )
     if mean_score < calibration_mean - SHIFT_MARGIN:
@@ -658,6 +743,7 @@ def check_feed_shift(
         calibrated_threshold=calibrated.threshold,
         feed_accepted=accepted,
         feed_target=own.target,
+        unknown_share=unknown,
     )
 
 

@@ -51,7 +51,7 @@ from catmap.feeds.ingest import Accounting
 from catmap.feeds.partition import BLOCK_RECORDS
 from catmap.feeds.read import FeedInfo
 from catmap.feeds.writers import open_reject_writer
-from catmap.jobs._calibration import FeedShift, model_vocabulary, title_familiarity
+from catmap.jobs._calibration import FeedShift, feed_familiarity
 from catmap.jobs._feed_mapper import FeedMapper, acceptance_score
 from catmap.jobs.cluster import (
     ClusterProgress,
@@ -170,7 +170,7 @@ def _mapping_task(
         mapper.rules = RuleSet(kit.rules.rules, path=kit.rules.path)
     with _KIT_LOCK:
         mappings = mapper.map(products)
-        familiarity = title_familiarity([p.title for p in products], model_vocabulary(mapper))
+        familiarity, labelled = feed_familiarity(mapper, [p.title for p in products])
         rows = []
         for product, mapping in zip(products, mappings, strict=True):
             attributes, conflicts = extract_attributes(product, mapping, kit.extractor)
@@ -184,7 +184,10 @@ def _mapping_task(
             )
     raw = np.array([acceptance_score(m) for m in mappings], dtype=np.float64)
     base = Path(work) / f"c{chunk:06d}"
-    _save_npy(base.with_suffix(".scores.npy"), np.stack([raw, np.asarray(familiarity, float)]))
+    _save_npy(
+        base.with_suffix(".scores.npy"),
+        np.stack([raw, np.asarray(familiarity, float), np.asarray(labelled, float)]),
+    )
     _save_lines(base.with_suffix(".rows.jsonl"), rows)
     return {
         "products": len(products),
@@ -267,12 +270,15 @@ class _ClusterRows:
         for chunk in range(len(rounds.chunks)):
             self.progress("mapping", self._accounting.read)
             base = rounds.work / f"c{chunk:06d}"
-            raw, familiarity = np.load(base.with_suffix(".scores.npy"), allow_pickle=False)
+            raw, familiarity, labelled = np.load(
+                base.with_suffix(".scores.npy"), allow_pickle=False
+            )
             if shift is None:
                 shift = keep_audit_raise(
                     check_shift(
-                        self.summary, prepared.sources, prepared.options, raw, familiarity
-                    ),
+                        self.summary, prepared.sources, prepared.options, raw, familiarity,
+                        labelled,
+                    ),  # fmt: skip
                     *self.audit_floor,
                     self.summary,
                 )
@@ -443,7 +449,7 @@ def send_mapper(client: Any, mapper: FeedMapper) -> Any:
     """
     shared = copy.copy(mapper)
     shared.rules = None
-    model_vocabulary(shared)  # computed here once, sent with the mapper
+    feed_familiarity(shared, [])  # both vocabularies computed here once, sent with the mapper
     return share(client, shared, "mapper")
 
 

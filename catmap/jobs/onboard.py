@@ -73,7 +73,7 @@ from catmap.jobs._calibration import (
     calibration_sources,
     check_feed_shift,
     default_calibration_feeds,
-    model_vocabulary,
+    feed_familiarity,
     retailer_parts,
     strictest_choice,
     title_familiarity,
@@ -141,6 +141,7 @@ __all__ = [
     "store_onboarding",
     "retailer_parts",
     "review_examples",
+    "feed_familiarity",
     "title_familiarity",
     "validation_predictions",
 ]
@@ -944,20 +945,18 @@ class _MappedRows:
         """The feed's row accounting."""
         return self.source.accounting
 
-    def _check(self, scores: np.ndarray[Any, Any], familiarity: np.ndarray[Any, Any]) -> FeedShift:
-        return check_shift(self.summary, self.sources, self.options, scores, familiarity)
-
     def __iter__(self) -> Iterator[MappedRow]:
         tree = self.mapper.tree
-        vocabulary = model_vocabulary(self.mapper)
         for chunk in chunked(self.products(), self.chunk_size):
             self.progress("mapping", self.source.accounting.read)
             mappings = self.mapper.map(chunk)
-            familiarity = title_familiarity([p.title for p in chunk], vocabulary)
+            familiarity, labelled = feed_familiarity(self.mapper, [p.title for p in chunk])
             raw = np.array([acceptance_score(m) for m in mappings])
             if self.shift is None:
-                self.shift = keep_audit_raise(self._check(raw, familiarity), *self.audit_floor,
-                                               self.summary)
+                checked = check_shift(
+                    self.summary, self.sources, self.options, raw, familiarity, labelled
+                )
+                self.shift = keep_audit_raise(checked, *self.audit_floor, self.summary)
             scores = self.shift.acceptance_scores(raw, familiarity)
             threshold = self.shift.threshold
             for product, mapping, score in zip(chunk, mappings, scores.tolist(), strict=True):
@@ -987,6 +986,7 @@ def check_shift(
     options: OnboardOptions,
     scores: np.ndarray[Any, Any],
     familiarity: np.ndarray[Any, Any],
+    labelled_familiarity: np.ndarray[Any, Any] | None = None,
 ) -> FeedShift:
     """Run the feed's check and record its threshold and findings in the summary.
 
@@ -995,8 +995,9 @@ def check_shift(
     calibration data (see :func:`check_feed_shift`).
     """
     shift = check_feed_shift(
-        scores, familiarity, sources, max_error=options.max_error, delta=options.delta
-    )
+        scores, familiarity, sources, labelled_familiarity=labelled_familiarity,
+        max_error=options.max_error, delta=options.delta,
+    )  # fmt: skip
     summary.feed_check = shift.to_dict()
     summary.threshold = shift.threshold
     summary.statement += " Feed check: " + "; ".join(shift.notes) + "."
