@@ -18,7 +18,7 @@ from catmap.tree._langcodes import ISO_639_1_CODES
 from catmap.tree.changegen import ChangeSetSizes, generate_change_set
 from catmap.tree.changelog import apply_changes, load_change_log
 from catmap.tree.diff import diff_trees
-from catmap.tree.taxonomy import CategoryTree, dump_tree, load_tree
+from catmap.tree.taxonomy import CategoryTree, dump_tree, load_default_tree, load_tree
 from catmap.tree.treefile import LANGUAGES, Node, format_tree, is_language_code, parse_tree_text
 
 ROOT = Path(__file__).resolve().parents[1]
@@ -211,3 +211,18 @@ def test_generated_change_sets_carry_the_extra_languages(tree: CategoryTree) -> 
         assert added
         for node in added:
             assert "it" in node.terms and node.terms["it"]
+
+
+def test_the_shipped_trees_have_italian_on_every_node() -> None:
+    for version in (1, 2):
+        shipped = load_default_tree(version)
+        assert shipped.languages() == (*LANGUAGES, "it")
+        bare = [n.id for n in shipped if not n.terms.get("it")]
+        assert not bare, f"tree v{version}: no Italian terms on {bare[:5]}"
+
+
+def test_the_shipped_change_log_gives_italian_to_its_new_nodes() -> None:
+    log = load_change_log(ROOT / "taxonomies" / "changes-v1-v2.txt")
+    new_nodes = [node for change in log.changes for node in change.nodes]
+    assert new_nodes
+    assert all(node.terms.get("it") for node in new_nodes)
