@@ -125,9 +125,22 @@ def test_inspect_shows_evidence_against_preview_and_language(tmp_path: Path) -> 
     assert "availability_unrecognised" in preview[0]["flags"]
     assert preview[1]["availability"] == "available"
     assert facts["language"]["language"] == "it"
-    assert facts["warnings"] and "Italian" in facts["warnings"][0]
+    # The shared tree has Italian terms: no language warning.
+    assert not any("Italian" in warning for warning in facts["warnings"])
 
-    text = _run("inspect", str(feed), "--project", str(tmp_path / "p")).stdout  # type: ignore[attr-defined]
+    # Dutch titles: a language the shared tree has no terms in.
+    dutch = tmp_path / "winkel.csv"
+    dutch.write_text(
+        ITALIAN_FEED.replace("Giacca uomo nera con cappuccio", "Jas heren zwart met capuchon"),
+        encoding="utf-8",
+    )
+    result = _run("inspect", str(dutch), "--project", str(tmp_path / "p"), "--json")
+    facts = json.loads(result.stdout)  # type: ignore[attr-defined]
+    assert facts["language"]["language"] == "nl"
+    assert "Dutch" in facts["warnings"][0]
+    assert "(it has English, French, German, Spanish, Italian)" in facts["warnings"][0]
+
+    text = _run("inspect", str(dutch), "--project", str(tmp_path / "p")).stdout  # type: ignore[attr-defined]
     assert "against" in text  # the table header (narrow terminals wrap it)
     assert "normalised" in text
     assert "Warning:" in text
