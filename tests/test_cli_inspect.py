@@ -98,13 +98,10 @@ def test_help_text() -> None:
     assert "profile" in result.stdout  # type: ignore[attr-defined]
 
 
-ITALIAN_FEED = (
-    "EAN,nome,prezzo,disponibilita,sesso\n"
-    + "".join(
-        f"KX{4100 + i}B,Giacca uomo nera con cappuccio {i},\"49,90 €\","
-        f"{'disponibile' if i % 2 else 'boh'},{'uomo' if i % 2 else 'donna'}\n"
-        for i in range(12)
-    )
+ITALIAN_FEED = "EAN,nome,prezzo,disponibilita,sesso\n" + "".join(
+    f'KX{4100 + i}B,Giacca uomo nera con cappuccio {i},"49,90 €",'
+    f"{'disponibile' if i % 2 else 'boh'},{'uomo' if i % 2 else 'donna'}\n"
+    for i in range(12)
 )
 
 
@@ -128,19 +125,36 @@ def test_inspect_shows_evidence_against_preview_and_language(tmp_path: Path) -> 
     # The shared tree has Italian terms: no language warning.
     assert not any("Italian" in warning for warning in facts["warnings"])
 
-    # Dutch titles: a language the shared tree has no terms in.
+    # Dutch and Portuguese titles: the shared tree has terms in both, so no warning either.
     dutch = tmp_path / "winkel.csv"
     dutch.write_text(
         ITALIAN_FEED.replace("Giacca uomo nera con cappuccio", "Jas heren zwart met capuchon"),
         encoding="utf-8",
     )
-    result = _run("inspect", str(dutch), "--project", str(tmp_path / "p"), "--json")
+    portuguese = tmp_path / "loja.csv"
+    portuguese.write_text(
+        ITALIAN_FEED.replace("Giacca uomo nera con cappuccio", "Casaco homem preto com capuz"),
+        encoding="utf-8",
+    )
+    for path, code, name in ((dutch, "nl", "Dutch"), (portuguese, "pt", "Portuguese")):
+        result = _run("inspect", str(path), "--project", str(tmp_path / "p"), "--json")
+        facts = json.loads(result.stdout)  # type: ignore[attr-defined]
+        assert facts["language"]["language"] == code
+        assert not any(name in warning for warning in facts["warnings"])
+
+    # The language guess knows seven languages, all of them now in the shared tree: a project
+    # whose own tree has no Dutch terms shows the warning for the same Dutch titles.
+    own = tmp_path / "own"
+    tree = Path(__file__).parent / "data" / "own-tree" / "without-dutch.txt"
+    init = CliRunner().invoke(main, ["init", str(own), "--tree", str(tree)])
+    assert init.exit_code == 0, init.output
+    result = _run("inspect", str(dutch), "--project", str(own), "--json")
     facts = json.loads(result.stdout)  # type: ignore[attr-defined]
     assert facts["language"]["language"] == "nl"
     assert "Dutch" in facts["warnings"][0]
     assert "(it has English, French, German, Spanish, Italian)" in facts["warnings"][0]
 
-    text = _run("inspect", str(dutch), "--project", str(tmp_path / "p")).stdout  # type: ignore[attr-defined]
+    text = _run("inspect", str(dutch), "--project", str(own)).stdout  # type: ignore[attr-defined]
     assert "against" in text  # the table header (narrow terminals wrap it)
     assert "normalised" in text
     assert "Warning:" in text

@@ -192,7 +192,11 @@ def test_help_text() -> None:
 
 
 def test_normalize_counts_flags_and_names_an_uncovered_language(tmp_path: Path) -> None:
-    # Dutch titles: a language the shared tree has no terms in (it has Italian).
+    # Dutch titles: the shared tree has Dutch terms, this project's own tree has none.
+    project = tmp_path / "p"
+    tree = Path(__file__).parent / "data" / "own-tree" / "without-dutch.txt"
+    init = CliRunner().invoke(main, ["init", str(project), "--tree", str(tree)])
+    assert init.exit_code == 0, init.output
     feed = tmp_path / "winkel.csv"
     feed.write_text(
         "codice,nome,prezzo,disponibilita\n"
@@ -204,11 +208,17 @@ def test_normalize_counts_flags_and_names_an_uncovered_language(tmp_path: Path) 
         encoding="utf-8",
     )
     out = tmp_path / "o"
-    args = ("normalize", str(feed), "--out", str(out), "--project", str(tmp_path / "p"))
+    args = ("normalize", str(feed), "--out", str(out), "--project", str(project))
     facts = json.loads(_run(*args, "--json").stdout)  # type: ignore[attr-defined]
     assert facts["by_flag"] == {"availability_unrecognised": 5, "currency_missing": 10}
     assert facts["language"]["language"] == "nl"
     assert "Dutch" in facts["warnings"][0]
+    # With the shared tree (a project of its own) the same feed is covered: no warning.
+    shared_project = str(tmp_path / "s")
+    shared = ("normalize", str(feed), "--out", str(tmp_path / "o2"), "--project", shared_project)
+    facts = json.loads(_run(*shared, "--json").stdout)  # type: ignore[attr-defined]
+    assert facts["language"]["language"] == "nl"
+    assert not any("Dutch" in warning for warning in facts["warnings"])
     saved = json.loads((out / "accounting.json").read_text("utf-8"))
     assert saved["by_flag"] == facts["by_flag"]
     text = _run(*args).stdout  # type: ignore[attr-defined]

@@ -213,16 +213,33 @@ def test_generated_change_sets_carry_the_extra_languages(tree: CategoryTree) -> 
             assert "it" in node.terms and node.terms["it"]
 
 
-def test_the_shipped_trees_have_italian_on_every_node() -> None:
+EXTRA = ("it", "nl", "pt")  # the shared trees' languages beyond the four required ones
+
+
+def test_the_shipped_trees_have_italian_dutch_and_portuguese_on_every_node() -> None:
     for version in (1, 2):
         shipped = load_default_tree(version)
-        assert shipped.languages() == (*LANGUAGES, "it")
-        bare = [n.id for n in shipped if not n.terms.get("it")]
-        assert not bare, f"tree v{version}: no Italian terms on {bare[:5]}"
+        assert shipped.languages() == (*LANGUAGES, *EXTRA)
+        for language in EXTRA:
+            bare = [n.id for n in shipped if not n.terms.get(language)]
+            assert not bare, f"tree v{version}: no {language} terms on {bare[:5]}"
 
 
-def test_the_shipped_change_log_gives_italian_to_its_new_nodes() -> None:
+def test_the_shipped_change_log_gives_the_extra_languages_to_its_new_nodes() -> None:
     log = load_change_log(ROOT / "taxonomies" / "changes-v1-v2.txt")
     new_nodes = [node for change in log.changes for node in change.nodes]
     assert new_nodes
-    assert all(node.terms.get("it") for node in new_nodes)
+    for language in EXTRA:
+        assert all(node.terms.get(language) for node in new_nodes), language
+
+
+def test_the_shipped_trees_dutch_and_portuguese_terms_are_their_own() -> None:
+    # Each node's words in a new language are written for it, not copied from a neighbour:
+    # no two nodes of tree v1 share the whole list.
+    shipped = load_default_tree(1)
+    for language in ("nl", "pt"):
+        seen: dict[tuple[str, ...], str] = {}
+        for node in shipped:
+            words = tuple(node.terms[language])
+            assert words not in seen, f"{language}: {node.id} repeats {seen[words]}"
+            seen[words] = node.id
