@@ -265,3 +265,25 @@ def test_a_learned_brand_written_in_lower_case_mid_title_is_the_word() -> None:
     assert learner.find_in_title("Lunch box, kids' size PINECONE") is not None
     # A title written all in lower case says nothing about case.
     assert learner.find_in_title("wreath with real pinecone") is not None
+
+
+def test_a_title_lead_whose_products_name_brand_after_brand_is_no_brand() -> None:
+    # Spanish titles open with the product's own word ("Juego de ...", "Funda ..."), across
+    # several of the shop's sections, and the brand field names a different brand on each:
+    # those words are not brands.
+    brands = ["Zorvalia", "Quentrix", "Marbelo", "Tuvesca", "Ondrillo", "Peralux"]
+    sections = ["dormitorio", "cocina", "juegos de mesa", "baño", "comedor", "móviles"]
+    rows: list[tuple[str, str, str]] = []
+    for i, brand in enumerate(brands):
+        rows.append((f"Juego de piezas {brand} azul {i}", brand, sections[i]))
+        rows.append((f"Funda protectora {brand} gris {i}", brand, sections[-1 - i]))
+        rows.append((f"Ventilador de techo {brand} {i}", brand, "clima"))
+    # A product line whose products all name one brand in the field stays a candidate.
+    for i, kind in enumerate(KINDS):
+        rows.append((f"Lunaris {kind} {i}", "Peralux", sections[i]))
+    products = [
+        Product(str(n), title, brand=brand, category_path=("Tienda", section))
+        for n, (title, brand, section) in enumerate(rows)
+    ]
+    learner = FeedBrandLearner().fit(products)
+    assert set(learner.learned_) == {"lunaris"}

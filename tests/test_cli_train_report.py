@@ -87,6 +87,25 @@ def test_a_few_unknown_labels_are_reported(project: Path, tmp_path: Path) -> Non
     assert facts["unknown_share"] == pytest.approx(3 / 240, abs=1e-4)
 
 
+def test_a_path_the_tree_lacks_is_skipped_as_a_label_not_an_id(
+    project: Path, tmp_path: Path
+) -> None:
+    # A labelled feed of paths kept from before a category was renamed in the tree.
+    feed = _feed(
+        tmp_path / "paths.csv",
+        label=lambda node: "Footwear > Boots > Old ankle boots" if node == "1101" else node,
+    )
+    result = CliRunner().invoke(
+        main, ["train", str(feed), "--project", str(project), "--max-unknown-share", "0.5"]
+    )
+    assert result.exit_code == 0, result.output
+    text = " ".join(result.stdout.split())
+    assert "skipped 40 rows whose label names no node of the tree (16.7%: Footwear > Boots >" in (
+        text
+    )
+    assert "node ids" not in text
+
+
 def test_labels_of_another_tree_stop_training(project: Path, tmp_path: Path) -> None:
     feed = _feed(tmp_path / "shop.csv", unknown=48)
     result = CliRunner().invoke(main, ["train", str(feed), "--project", str(project)])

@@ -269,3 +269,29 @@ def test_bad_rows_are_streamed_to_the_rejects_file_and_counted(
     assert result.bad_count == 50 and len(result.bad) == 3
     assert result.rejects_file is not None
     assert len(_read(result.rejects_file)) == 50
+
+
+def test_a_reviewer_node_may_be_given_by_its_path(
+    world: SmallWorld, project: Path, tmp_path: Path
+) -> None:
+    # A specialist copies a path from suggested_path more readily than an id.
+    sheet = tmp_path / "queue.csv"
+    with Store.open(store_path(project)) as store:
+        export_decisions(store, sheet, tree=world.tree)
+    rows = _read(sheet)[:3]
+    by_path, same_path, wrong_path = rows
+    other = _other_leaf(world, by_path["suggested_node"])
+    by_path["reviewer_node"] = "  " + world.tree.path_text(other).upper() + " "
+    same_path["reviewer_node"] = same_path["suggested_path"]
+    same_path["action"] = "accept"
+    wrong_path["reviewer_node"] = world.tree.path_text(other) + " > Nowhere"
+    _write(sheet, rows)
+    with Store.open(store_path(project)) as store:
+        result = import_decisions(store, sheet, tree=world.tree, reviewer="sheet")
+        assert result.by_action == {"choose": 1, "accept": 1}
+        assert store.mapping("ferravelle", by_path["product_id"]).mapping.node_id == other
+        kept = store.mapping("ferravelle", same_path["product_id"])
+        assert kept.mapping.node_id == same_path["suggested_node"]
+        assert kept.status == "reviewed"
+    assert [b.line for b in result.bad] == [4]
+    assert "no node named 'nowhere'" in result.bad[0].reason

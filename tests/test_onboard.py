@@ -587,6 +587,23 @@ def test_the_feed_check_holds_a_small_feed_to_a_stricter_threshold() -> None:
     none = check_feed_shift(feed[:400], np.ones(400), [hopeless])
     assert none.threshold is None and none.calibrated_threshold is None
     assert "no threshold keeps" in none.notes[0]
+    assert "label more products" not in none.notes[0]  # there the model errs: no data helps
+
+
+def test_the_feed_check_names_the_remedy_when_a_flawless_calibration_is_too_small() -> None:
+    from catmap.jobs.onboard import check_feed_shift
+
+    # 168 calibration products, none wrong: enough for the calibration data's own 2% bound,
+    # too few for the lower target a feed of 500 is held to.
+    rng = np.random.default_rng(2)
+    scores = 1.0 - rng.beta(1.0, 200.0, 168)
+    source = ValidationPredictions(scores, np.ones(168, bool), "small", np.array(["a"] * 168))
+    assert accept_threshold(source).threshold is not None
+    check = check_feed_shift(1.0 - rng.beta(1.0, 200.0, 500), np.ones(500), [source])
+    assert check.threshold is None
+    (note,) = [n for n in check.notes if "no threshold keeps" in n]
+    assert "none of the 168 calibration products it accepts is wrong" in note
+    assert "--validation FILE" in note
 
 
 def test_a_feed_in_an_uncovered_language_has_its_unfamiliar_products_capped() -> None:

@@ -52,6 +52,7 @@ def _save(
     products: list[tuple[str, str, str, float, str]],
     *,
     tree_version: str = "1",
+    threshold: float | None = 0.8,
 ) -> None:
     """Save (product id, title, node, confidence, status) rows as one run."""
     run = store.start_run("onboard", feed=FEED)
@@ -65,7 +66,7 @@ def _save(
         for pid, title, node, confidence, status in products
     ]
     store.save_mapped(FEED, run, rows, model_version="m1", tree_version=tree_version)
-    store.finish_run(run, summary={"threshold": 0.8})
+    store.finish_run(run, summary={"threshold": threshold})
 
 
 def _review(store: Store, product_id: str, action: str = "accept") -> None:
@@ -250,6 +251,30 @@ def test_threshold_comes_from_the_onboarding_run(store: Store) -> None:
     report = remap_store(store, _tree("old.txt"), _tree("split.txt"))
     assert report.thresholds[FEED]["threshold"] == 0.8
     assert report.thresholds[FEED]["source"].startswith("onboard run")
+
+
+def test_a_feed_that_accepts_nothing_accepts_no_re_scored_mapping(store: Store) -> None:
+    # Onboarding found no threshold for the feed (its calibration allowed none): every product
+    # waits for a person, and a remap must not accept one at a default threshold instead.
+    _save(
+        store,
+        [("p1", "Closed-back over-ear headphones", "211", 1.0, "queued")],
+        threshold=None,
+    )
+    report = remap_store(store, _tree("old.txt"), _tree("split.txt"))
+    assert report.thresholds[FEED]["threshold"] is None
+    assert report.thresholds[FEED]["source"].startswith("onboard run")
+    assert report.rescored == 1
+    node, status, version, _confidence = _node(store, "p1")
+    assert (status, version) == ("queued", "2") and node != "211"
+
+
+def test_an_audit_raise_is_the_threshold_re_scored_mappings_meet(store: Store) -> None:
+    _save(store, [("p1", "Closed-back over-ear headphones", "211", 1.0, "accepted")])
+    run = store.start_run("audit-check", feed=FEED)
+    store.finish_run(run, summary={"threshold": 0.999})
+    report = remap_store(store, _tree("old.txt"), _tree("split.txt"))
+    assert report.thresholds[FEED] == {"threshold": 0.999, "source": f"audit-check run {run}"}
 
 
 # -- rollback and finalise --------------------------------------------------------------------

@@ -168,3 +168,72 @@ def test_names_in_another_language_go_into_its_own_cell(tmp_path: Path) -> None:
         main, ["tree", "from-paths", str(listed), "--out", str(out), "--language", "xx"]
     )
     assert bad.exit_code == 2
+
+
+def _paths_tree(tmp_path: Path, name: str, lines: list[str], version: int) -> CategoryTree:
+    listed = tmp_path / f"{name}.txt"
+    listed.write_text("\n".join(lines) + "\n", encoding="utf-8")
+    out = tmp_path / f"{name}-tree.txt"
+    result = _run(
+        "tree", "from-paths", str(listed), "--out", str(out), "--language", "es",
+        "--tree-version", str(version),
+    )  # fmt: skip
+    assert result.exit_code == 0, result.output  # type: ignore[attr-defined]
+    return load_tree(out)
+
+
+def test_a_category_split_into_new_paths_below_it_is_a_split(tmp_path: Path) -> None:
+    from catmap.jobs.remap import remap_store
+    from catmap.records import Mapping, Product
+    from catmap.store import MappedRow, Store
+    from catmap.tree.diff import diff_trees
+
+    kitchen = "Hogar > Cocina"
+    old = _paths_tree(tmp_path, "v1", [f"{kitchen} > Cafeteras", f"{kitchen} > Sartenes"], 1)
+    new = _paths_tree(
+        tmp_path,
+        "v2",
+        [
+            f"{kitchen} > Cafeteras > Cafeteras de goteo",
+            f"{kitchen} > Cafeteras > Cafeteras de cápsulas",
+            f"{kitchen} > Sartenes",
+            f"{kitchen} > Sartenes > Sartenes de hierro",  # one new leaf alone: an addition
+        ],
+        2,
+    )
+    makers = old.find_path(f"{kitchen} > Cafeteras").id
+    pans = old.find_path(f"{kitchen} > Sartenes").id
+    drip = new.find_path(f"{kitchen} > Cafeteras > Cafeteras de goteo").id
+    capsule = new.find_path(f"{kitchen} > Cafeteras > Cafeteras de cápsulas").id
+    iron = new.find_path(f"{kitchen} > Sartenes > Sartenes de hierro").id
+    by_old = {c.old_id: c for c in diff_trees(old, new).correspondences}
+    assert by_old[makers].changes == ("split",)
+    assert set(by_old[makers].new_ids) == {drip, capsule}
+    assert by_old[pans].changes == ("unchanged",)
+    added = {c.new_ids for c in diff_trees(old, new).correspondences if c.old_id is None}
+    assert added == {(iron,)}
+
+    # The products of the split category are re-scored over its new leaves, not left on a
+    # node that is no longer a leaf.
+    with Store.open(tmp_path / "store.sqlite") as store:
+        store.add_feed("tienda", source_path="tienda.csv")
+        run = store.start_run("onboard", feed="tienda")
+        rows = [
+            MappedRow(
+                product=Product(product_id=pid, title=title, category_path=("Cocina",)),
+                mapping=Mapping(node_id=node, confidence=0.99, method="model"),
+                status="accepted",
+                group_key="Cocina",
+            )
+            for pid, title, node in [
+                ("c1", "Cafetera de goteo 10 tazas", makers),
+                ("c2", "Cafetera de cápsulas compacta", makers),
+                ("s1", "Sartén antiadherente 28 cm", pans),
+            ]
+        ]
+        store.save_mapped("tienda", run, rows, model_version="m1", tree_version="1")
+        store.finish_run(run, summary={"threshold": 0.5})
+        report = remap_store(store, old, new)
+        assert report.rescored == 2
+        placed = {pid: store.mapping("tienda", pid).mapping.node_id for pid in ("c1", "c2", "s1")}
+    assert placed == {"c1": drip, "c2": capsule, "s1": pans}

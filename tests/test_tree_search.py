@@ -233,3 +233,18 @@ def test_the_check_set_is_found_while_still_being_typed(shared: CategoryTree) ->
     top1, top5 = _hit_rates(shared, cut=0.7)
     assert top1 >= 0.8
     assert top5 >= 0.93
+
+
+def test_a_name_is_in_the_language_of_the_term_written_as_it() -> None:
+    # A tree made from Spanish paths: its names are Spanish, and a match on the name says so.
+    tree = CategoryTree(
+        [
+            _node("1", None, "Hogar", es=("hogar",)),
+            _node("2", "1", "Sartenes", es=("sartenes",)),
+            _node("3", "1", "Kitchen", es=("cocina",)),
+        ]
+    )
+    best = tree.search_matches("sarten", limit=1)[0]
+    assert (best.node.id, best.is_name, best.language) == ("2", True, "es")
+    # A name no term repeats stays English, as in the shared trees.
+    assert tree.search_matches("kitchen", limit=1)[0].language == "en"

@@ -86,6 +86,12 @@ _LEAD_WORDS = 3
 _LEAD_STAY = 0.6
 _GROUPS_KEPT = 8
 _CHILDREN_KEPT = 8
+# A title lead whose products name other brands in their brand field, at least this many
+# different ones on nearly all of them (this share), is a word of the product ("Juego de
+# sábanas Peralux", "Funda nórdica Tuvesca"), not a brand: a brand's own products do not name
+# brand after brand in that field. A product line names one brand there, so it stays.
+_LEAD_OTHER_BRANDS = 3
+_LEAD_OTHER_SHARE = 0.8
 
 # Words that open titles without naming a brand, beyond the lead words of brand.py: materials
 # and plain adjectives (seven languages); common practice, no source.
@@ -280,6 +286,10 @@ class FeedBrandLearner:
         lower_inside: Counter[str] = Counter()
         title_ends: Counter[str] = Counter()
         lead_raw: Counter[str] = Counter()  # every opening of one to three words, unfiltered
+        # Per title lead: the products whose brand field names another brand, and up to
+        # _LEAD_OTHER_BRANDS of those brands.
+        lead_other: Counter[str] = Counter()
+        lead_other_keys: dict[str, set[str]] = {}
         branded = total = 0
         for product in products:
             node = next(node_iter, None) if node_iter is not None else None
@@ -287,6 +297,7 @@ class FeedBrandLearner:
             department = self._department(product, node)
             total += 1
             value = " ".join(product.brand.split())
+            field_key = ""
             if (
                 value
                 and normalize_brand(value) not in NO_BRAND_VALUES
@@ -294,7 +305,7 @@ class FeedBrandLearner:
                 and brand_key(value) not in not_keys
             ):
                 branded += 1
-                key = brand_key(value)
+                key = field_key = brand_key(value)
                 fields.setdefault(key, _Seen()).add(value, department)
                 departments = field_departments.setdefault(key, set())
                 if len(departments) < 64:
@@ -320,6 +331,11 @@ class FeedBrandLearner:
                     )
                     continue
                 leads.setdefault(candidate.key, _Seen()).add(candidate.spelling, kind)
+                if field_key and field_key != candidate.key:
+                    lead_other[candidate.key] += 1
+                    others = lead_other_keys.setdefault(candidate.key, set())
+                    if len(others) < _LEAD_OTHER_BRANDS:
+                        others.add(field_key)
                 if longer:
                     kids = children.setdefault(candidate.key, set())
                     if len(kids) < _CHILDREN_KEPT:
@@ -329,6 +345,8 @@ class FeedBrandLearner:
         self._lower_inside = lower_inside
         self._title_ends = title_ends
         self._lead_raw = lead_raw
+        self._lead_other = lead_other
+        self._lead_other_keys = lead_other_keys
         self.retailer_ = self._find_retailer(fields, field_departments, branded)
         retailer_key = brand_key(self.retailer_.name) if self.retailer_ else ""
 
@@ -438,6 +456,11 @@ class FeedBrandLearner:
             return True  # the brand field names it on other products
         if not self._recurs(seen):
             return False
+        if (
+            len(self._lead_other_keys.get(key, ())) >= _LEAD_OTHER_BRANDS
+            and self._lead_other[key] >= _LEAD_OTHER_SHARE * seen.count
+        ):
+            return False  # the brand field names brand after brand on its products
         spelling = seen.spellings.most_common(1)[0][0]
         words = fold(spelling).split()
         if words[-1] in self.common_ or words[0] in LEXICON_WORDS or self._ends_titles(seen):

@@ -152,8 +152,10 @@ def train_command(
     if facts["unknown_labels"] or facts["unlabelled"]:
         examples = ", ".join(facts["unknown_examples"])
         console.print(
-            f"  skipped              {facts['unknown_labels']:,} rows with node ids the tree "
-            f"lacks ({facts['unknown_share']:.1%}{': ' + escape(examples) if examples else ''}), "
+            # A label may be a path of names as well as an id: say what both have in common.
+            f"  skipped              {facts['unknown_labels']:,} rows whose label names no node "
+            f"of the tree ({facts['unknown_share']:.1%}"
+            f"{': ' + escape(examples) if examples else ''}), "
             f"{facts['unlabelled']:,} without a label"
         )
     if facts.get("labels_as_paths"):

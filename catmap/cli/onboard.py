@@ -507,8 +507,8 @@ def decisions_export_command(
         f"Wrote {counts.open:,} open and {counts.done:,} decided items to {escape(str(out))}"
     )
     _say(
-        "Fill reviewer_node (a node id) and/or action (accept, choose, no_fit, "
-        "fix_attributes), then run `catmap decisions import FILE`."
+        "Fill reviewer_node (a node id, or its path as in suggested_path) and/or action "
+        "(accept, choose, no_fit, fix_attributes), then run `catmap decisions import FILE`."
     )
 
 

@@ -90,9 +90,10 @@ def render_report(facts: dict[str, Any]) -> None:
                 f"{facts['departments_after'].get(name, 0):>9,}"
             )
     for feed, chosen in facts["thresholds"].items():
+        value = chosen["threshold"]
+        shown = "none (accepts nothing)" if value is None else f"{value:.3f}"
         console.print(
-            f"  accept threshold     {chosen['threshold']:.3f} for {escape(feed)} "
-            f"({chosen['source']})"
+            f"  accept threshold     {shown} for {escape(feed)} ({escape(chosen['source'])})"
         )
 
 
@@ -123,7 +124,8 @@ def render_report(facts: dict[str, Any]) -> None:
     "--min-confidence",
     type=click.FloatRange(0.0, 1.0),
     default=None,
-    help="Accept threshold for re-scored mappings (default: each feed's onboarding one).",
+    help="Accept threshold for re-scored mappings (default: each feed's own, from its "
+    "onboarding or its audit check's raise; a feed that accepts nothing accepts none).",
 )
 @model_option("Model folder (default: <project>/models/current).")
 @_project_option

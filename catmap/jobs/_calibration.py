@@ -755,12 +755,22 @@ def _sampling_note(
         "accepts nothing" if calibrated.threshold is None else f"{calibrated.threshold:.3f}"
     )
     if own.threshold is None or own.target is None:
-        return (
+        note = (
             f"no threshold keeps the share of wrong mappings among this feed's auto-accepted "
             f"ones at or below {max_error:.1%} with {1 - delta:.0%} confidence (the calibration "
             f"data alone: {alone}; the fewer products a feed has, the fewer errors "
             f"{max_error:.1%} of them allows)"
         )
+        if calibrated.threshold is not None and calibrated.errors == 0:
+            # Not one calibration product above the threshold was wrong: what is missing is
+            # evidence, not accuracy, and only more labelled products give it.
+            note += (
+                f"; none of the {calibrated.n_accepted:,} calibration products it accepts is "
+                "wrong, but they are too few to show a feed's lower target: label more "
+                "products (training holds a share of them out to calibrate on) or give a "
+                "labelled feed like this one with --validation FILE"
+            )
+        return note
     return (
         f"{own.feed_accepted:,} of the {own.feed_products or 0:,} products looked at reach "
         f"{own.threshold:.3f}; for at most {delta:.0%} of feeds like this one to have more "

@@ -23,7 +23,7 @@ from pathlib import Path
 from typing import Any
 
 from catmap.attributes import AttributeExtractor
-from catmap.errors import InputError, StoreError
+from catmap.errors import InputError, StoreError, UnknownNode
 from catmap.feeds.writers import CsvWriter
 from catmap.records import AGE_VALUES, WHO_VALUES
 from catmap.review.follow import NodeFollower
@@ -217,7 +217,16 @@ def _check_row(
     node = values.get("reviewer_node", "") or None
     action = values.get("action", "").lower() or None
     if node is not None and node not in tree:
-        return f"node '{node}' is not in the category tree (version {tree.version})"
+        if ">" not in node:
+            return f"node '{node}' is not in the category tree (version {tree.version})"
+        # A path of names ("Garden > Tools > Spades"), as the suggested_path column shows
+        # them: a specialist copies a path more readily than an id.
+        try:
+            node = tree.find_path(node).id
+        except UnknownNode as error:
+            return f"node path '{node}' is not in the category tree (version {tree.version}): " + (
+                f"{error.message}; {error.hint}" if error.hint else error.message
+            )
     if action is None:
         # A node alone means "this node": accept when it is the suggestion, else choose it.
         if node is not None:

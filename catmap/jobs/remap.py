@@ -28,8 +28,9 @@ age are read again for the new node (``not_applicable`` where the new node says 
 does not apply). A person's who / age correction is kept, unless the new node says it does not
 apply. A product moved under a restricted node gets the flag; one moved out loses it.
 
-A re-scored mapping whose score falls below the accept threshold (the one chosen when the feed
-was onboarded, read from that run's summary, unless ``min_confidence`` is given) goes back to
+A re-scored mapping whose score falls below the accept threshold (the feed's threshold now: its
+latest onboarding's or audit check's raise, read from that run's summary; a feed that accepts
+nothing accepts no re-scored mapping either; unless ``min_confidence`` is given) goes back to
 the review queue with reason ``remap``, grouped by old node: its review group (and mapping
 group key) becomes ``remap <old id>: <old path>``.
 
@@ -42,6 +43,7 @@ after the remap). The audit log records the remap, the rollback and the finalise
 from __future__ import annotations
 
 import json
+import math
 from collections import Counter
 from collections.abc import Iterator
 from pathlib import Path
@@ -135,7 +137,8 @@ def remap_store(
             computed (or given) one only a suggestion it confirms or overrides.
         scorer: scores re-scored products (default: keywords of the new tree).
         min_confidence: the accept threshold for re-scored mappings (default: each feed's
-            onboarding threshold, else :data:`DEFAULT_MIN_CONFIDENCE`).
+            threshold now, its onboarding's or its audit check's raise, none when that accepts
+            nothing; :data:`DEFAULT_MIN_CONFIDENCE` for a feed no run set one for).
         actor: who runs it (for the audit log).
         batch_size: mappings per transaction.
         extractor: the attribute extractor on ``new_tree`` used when a product's node changes
@@ -187,7 +190,11 @@ def remap_store(
         new_tree,
         scorer,
         follower,
-        thresholds,
+        # A feed that accepts nothing: no score reaches it.
+        {
+            fid: (math.inf if value is None else value, origin)
+            for fid, (value, origin) in thresholds.items()
+        },
         report,
         before=Counter(report.departments_before),
         after=Counter(report.departments_after),
@@ -302,19 +309,27 @@ def _finish_remap(store: Store, report: RemapReport, actor: str) -> None:
     store.finish_run(report.run_id, summary=facts)
 
 
-def _feed_thresholds(store: Store, min_confidence: float | None) -> dict[int, tuple[float, str]]:
-    result: dict[int, tuple[float, str]] = {}
+def _feed_thresholds(
+    store: Store, min_confidence: float | None
+) -> dict[int, tuple[float | None, str]]:
+    """Each feed's accept threshold for re-scored mappings, and where it comes from.
+
+    The feed's threshold now (its latest onboarding's, or its audit check's raise); None when
+    that run accepts nothing (a feed whose calibration allowed no threshold keeps accepting
+    nothing); :data:`DEFAULT_MIN_CONFIDENCE` only for a feed no run set one for.
+    """
+    from catmap.jobs.audit import feed_acceptance
+
+    result: dict[int, tuple[float | None, str]] = {}
     for feed in store.feeds():
         if min_confidence is not None:
             result[feed.id] = (min_confidence, "option")
             continue
-        chosen: tuple[float, str] | None = None
-        for run in reversed(store.runs(feed.id)):
-            value = run.summary.get("threshold") if run.kind == "onboard" else None
-            if value is not None:
-                chosen = (float(value), f"onboard run {run.id}")
-                break
-        result[feed.id] = chosen or (DEFAULT_MIN_CONFIDENCE, "default")
+        acceptance = feed_acceptance(store, feed.name)
+        if acceptance is None:
+            result[feed.id] = (DEFAULT_MIN_CONFIDENCE, "default")
+            continue
+        result[feed.id] = (acceptance.threshold, f"{acceptance.kind} run {acceptance.run_id}")
     return result
 
 
@@ -440,7 +455,7 @@ def remap_project(
         crosswalk_file: the crosswalk to use (default: computed by comparing the two trees).
         changes_file: the change log between the two trees; it overrides the crosswalk.
         min_confidence: accept threshold for re-scored mappings (default: each feed's
-            onboarding one).
+            threshold now, see :func:`remap_store`).
         model_dir: the model folder that re-scores (default: the project's).
         actor: who runs it (for the audit log).
 

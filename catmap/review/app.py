@@ -681,8 +681,13 @@ class ReviewApp(App[None]):
             text.append(
                 fit(f"restricted node: {flag} (see the caution)", width) + "\n", style="bold yellow"
             )
-        bar = confidence_bar(mapping.confidence, max(min(BAR_WIDTH, width - 16), 4))
-        text.append(fit(f"{mapping.confidence:6.1%}  {bar}  {mapping.method}", width) + "\n")
+        if mapping.node_id:
+            bar = confidence_bar(mapping.confidence, max(min(BAR_WIDTH, width - 16), 4))
+            text.append(fit(f"{mapping.confidence:6.1%}  {bar}  {mapping.method}", width) + "\n")
+        else:
+            # A reviewer said no node fits: there is no node to be confident of (the stored
+            # confidence is the one the node had; the export writes none).
+            text.append(fit(f"no node, no confidence  {mapping.method}", width) + "\n", style="dim")
         alternatives = mapping.alternatives[:MAX_ALTERNATIVES]
         if mapping.reason:
             reason = session.reason_text(

@@ -51,7 +51,8 @@ from catmap.tree.taxonomy import CategoryTree, load_default_tree
 
 # What each queue reason means, in the words the screen shows.
 REASON_TEXT = {
-    "low_confidence": "low confidence: the model is unsure of the node",
+    # Not "unsure": a feed with no threshold (or a high one) queues a mapping at 100% too.
+    "low_confidence": "low confidence: under the feed's accept threshold",
     "audit_sample": "audit sample: auto-accepted, checked to measure the real error rate",
     "brand_conflict": "brand conflict: the brand found disagrees with the feed's brand",
     "audience_conflict": "audience conflict: who / age from the text contradict the node",

@@ -2,7 +2,8 @@
 
 :func:`diff_trees` compares two trees and says, for every old node, where its products go in the
 new tree and why: unchanged, renamed (same id, new name), moved (same id, new parent), split
-(one old node into several new ones), merged (several old nodes into one) or removed; and which
+(one old node into several new ones; also an old leaf that keeps its id and gets two or more
+new leaves below it), merged (several old nodes into one) or removed; and which
 new nodes were added. Ids decide first. Where ids changed (an old id missing from the new tree,
 a new id missing from the old) the nodes are matched on their words (names and keywords in all
 languages), their place in the tree and, when mapped products are given, on the products
@@ -305,6 +306,7 @@ def diff_trees(
     explained_new |= _splits_and_new_ids(old, new, links, result, explained_new)
     kept_targets = _merges_into_kept(matcher, removed, result)
     _kept_nodes(old, new, kept_targets, result)
+    explained_new |= _leaves_split_below(old, new, result, explained_new)
     _removed_nodes(old, new, removed, result)
 
     correspondences = [result[n.id] for n in old]
@@ -497,6 +499,52 @@ def _merges_into_kept(
             f"into kept node {new_id}: {cover.evidence}{grew}",
         )
     return kept_targets
+
+
+def _leaves_split_below(
+    old: CategoryTree,
+    new: CategoryTree,
+    result: dict[str, Correspondence],
+    explained_new: set[str],
+) -> set[str]:
+    """Old leaves that keep their id but gain two or more new leaves below them: a split.
+
+    A list of category paths turned into a tree (``catmap tree from-paths``) splits a category
+    so: 'Coffee makers' gets 'Drip coffee makers' and 'Capsule coffee makers' below it. Its
+    products then sit on a node that is no longer a leaf; as a split, they are re-scored over
+    the new leaves (a product that fits none goes back to review). One new leaf alone below it
+    is an addition: the node stays the place of what the leaf does not hold.
+
+    Returns:
+        The added nodes these explain.
+    """
+    explained: set[str] = set()
+    for node in old:
+        kept = result.get(node.id)
+        if kept is None or kept.changes != ("unchanged",) or not old.is_leaf(node.id):
+            continue
+        if node.id not in new or new.is_leaf(node.id):
+            continue
+        parts = [
+            leaf.id
+            for leaf in new.leaves(under=node.id)
+            if leaf.id not in old and leaf.id not in explained_new
+        ]
+        if len(parts) < 2:
+            continue
+        explained.update(parts)
+        explained.update(
+            n.id for n in new.descendants(node.id) if n.id not in old and n.id not in explained_new
+        )
+        result[node.id] = Correspondence(
+            node.id,
+            tuple(parts),
+            ("split",),
+            1.0,
+            f"same id; a leaf in version {old.version}, {len(parts)} new leaves below it in "
+            f"version {new.version}: {', '.join(parts)}",
+        )
+    return explained
 
 
 def _kept_nodes(

@@ -45,7 +45,8 @@ class SearchMatch:
             none of whose words match (found by whole-term fuzzy similarity, a distant guess)
             scores 50 at most.
         term: the node's term that matched best, as written in the tree file.
-        language: the term's language ("en" for the node name).
+        language: the term's language; for the node name, that of a term written as the name
+            (a tree made from Spanish paths names its nodes in Spanish), else "en".
         is_name: True when the best term is the node's display name.
     """
 
@@ -61,6 +62,19 @@ _FOLD_EXTRA = str.maketrans({"ø": "o", "æ": "ae", "œ": "oe", "ł": "l", "đ":
 # German umlauts as typed on a keyboard without them: "Handyhuelle" for "Handyhülle".
 _UMLAUT_SPELLED = str.maketrans({"ä": "ae", "ö": "oe", "ü": "ue", "Ä": "Ae", "Ö": "Oe", "Ü": "Ue"})
 _NON_WORD = re.compile(r"[\W_]+")
+
+
+def _name_language(node: Node) -> str:
+    """The language of a node's name: that of a term written as the name, else "en".
+
+    The shared trees name their nodes in English; a tree of one's own may name them in its
+    language (``catmap tree from-paths --language es`` writes each name into that cell too).
+    """
+    name = fold_text(node.name)
+    for code, words in node.terms.items():
+        if any(fold_text(word) == name for word in words):
+            return code
+    return "en"
 
 
 def fold_text(text: str) -> str:
@@ -280,7 +294,7 @@ class TermIndex:
         term_words: list[list[str]] = []
         for rank, node in enumerate(nodes):
             seen: set[str] = set()
-            candidates = [(node.name, "en", True)] + [
+            candidates = [(node.name, _name_language(node), True)] + [
                 (term, code, False) for code, words in node.terms.items() for term in words
             ]
             for term, code, is_name in candidates:
@@ -297,7 +311,7 @@ class TermIndex:
                     term_words.append(folded.split())
             if not seen:  # a name of punctuation alone: a word no query folds to
                 choices.append("")
-                owners.append((node, node.name, "en", True))
+                owners.append((node, node.name, _name_language(node), True))
                 term_node.append(rank)
                 term_words.append(["\x00"])
         self._nodes = list(nodes)
