@@ -555,6 +555,13 @@ def test_the_model_keeps_which_title_words_labelled_products_used(tmp_path: Path
     assert {"leather", "suede", "ankle", "boots", "linen"} <= labelled
     # "bottines" is in the tree's French terms of ankle boots only: known, not labelled.
     assert "bottines" in known and "bottines" not in labelled
+    from catmap.jobs._calibration import feed_familiarity, title_familiarity
+
+    sample = ["Bottines cuir", "Leather ankle boots", "42", "bottines daim noir"]
+    both = feed_familiarity(mapper, sample)
+    assert both[0].tolist() == title_familiarity(sample, known).tolist()
+    assert both[1].tolist() == title_familiarity(sample, labelled).tolist()
+    assert both[0][0] > both[1][0]  # "bottines" counts for the model, not for the products
     # A model saved without the array (an older catmap) measures with every word it knows.
     (tmp_path / "m" / PRODUCT_WORDS).unlink()
     older = FeedMapper(*load_model(tmp_path / "m", tree), tree)

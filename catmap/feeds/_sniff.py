@@ -339,6 +339,11 @@ def _double_byte_choice(head: bytes, names: list[str]) -> str:
     return names[0]
 
 
+def is_double_byte(encoding: str) -> bool:
+    """Whether ``encoding`` is one of the East Asian double-byte sets detection chooses among."""
+    return encoding in _FREQUENT_LEADS
+
+
 def other_readings(head: bytes, chosen: str, limit: int = 2) -> list[str]:
     """Other double-byte sets that read ``head`` as cleanly as ``chosen`` but differently.
 

@@ -310,8 +310,8 @@ def other_encodings(info: FeedInfo) -> list[str]:
     """Other East Asian double-byte sets that read the feed's first bytes as cleanly as its
     encoding does (the detected one, or one its profile keeps): a short feed gives too few
     bytes to tell them apart. Empty for a byte-order mark or a file that cannot be read."""
-    if info.encoding_source == "bom":
-        return []
+    if info.encoding_source == "bom" or not _sniff.is_double_byte(info.encoding):
+        return []  # nothing to read again for the usual feed (UTF-8, a Western code page)
     try:
         head, _complete, _compression = read_head(info.path, _sniff.SAMPLE_SIZE)
     except (OSError, CatmapError):

@@ -518,10 +518,14 @@ def feed_familiarity(
 ) -> tuple[np.ndarray[Any, Any], np.ndarray[Any, Any]]:
     """Each title's familiarity to the model (its words and the tree's) and to the labelled
     products (see :func:`labelled_vocabulary`)."""
-    return (
-        title_familiarity(titles, model_vocabulary(mapper)),
-        title_familiarity(titles, labelled_vocabulary(mapper)),
-    )
+    known, labelled = model_vocabulary(mapper), labelled_vocabulary(mapper)
+    to_model, to_labelled = np.ones(len(titles)), np.ones(len(titles))
+    for i, title in enumerate(titles):  # each title's words found once, counted twice
+        words = _WORD.findall(title.lower())
+        if words:
+            to_model[i] = sum(word in known for word in words) / len(words)
+            to_labelled[i] = sum(word in labelled for word in words) / len(words)
+    return to_model, to_labelled
 
 
 def title_familiarity(titles: Sequence[str], vocabulary: frozenset[str]) -> np.ndarray[Any, Any]:
