@@ -223,5 +223,9 @@ def test_normalize_counts_flags_and_names_an_uncovered_language(tmp_path: Path) 
     assert saved["by_flag"] == facts["by_flag"]
     text = _run(*args).stdout  # type: ignore[attr-defined]
     assert "Kept but flagged" in text
+    # The missing currency comes with its remedy: the profile line to set.
+    assert facts["flag_advice"][0].startswith("currency_missing: 10 prices name no currency")
+    assert "default_currency in " + facts["profile"] in facts["flag_advice"][0]
+    assert "default_currency in" in " ".join(text.split())
     assert "availability_unrecognised" in text
     assert "Warning:" in text

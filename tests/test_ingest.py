@@ -13,9 +13,11 @@ from catmap.errors import CatmapError, FeedFormatError, ProfileError
 from catmap.feeds.fieldmap import FeedProfile
 from catmap.feeds.ingest import (
     FATAL_FEED_ERRORS,
+    FLAG_ADVICE,
     Accounting,
     IdIndex,
     check_profile,
+    flag_advice,
     iter_products,
     normalize_feed_to,
     to_product,
@@ -465,6 +467,24 @@ def test_flagged_products_are_counted_by_flag() -> None:
     }
     assert accounting.read == accounting.kept + accounting.rejected == 4
     assert accounting.to_dict()["by_flag"]["currency_missing"] == 2
+    # Every flag a product can carry that its owner can act on is explained, once, with its
+    # count; the currency remedy names the profile to edit. A flag with no advice (the GTIN
+    # problem's detail) gets no line.
+    advice = flag_advice(accounting.by_flag, "profiles/winkel.toml")
+    assert advice[0] == (
+        "currency_missing: 2 prices name no currency and are kept without one: set "
+        'default_currency in profiles/winkel.toml (an ISO 4217 code such as "EUR") or map a '
+        "currency column, then read the feed again"
+    )
+    assert [line.split(":")[0] for line in advice] == [
+        "currency_missing", "availability_unrecognised", "colour_unrecognised",
+        "currency_unknown", "gender_unrecognised", "gtin_invalid",
+    ]  # fmt: skip
+    assert all(
+        flag in FLAG_ADVICE for flag in accounting.by_flag if flag != "gtin_invalid_check_digit"
+    )
+    assert flag_advice({}, None) == []
+    assert "in the feed's profile" in flag_advice({"currency_missing": 1})[0]
 
 
 def test_accounting_file_has_the_flag_counts(tmp_path: Path) -> None:

@@ -150,6 +150,31 @@ def test_onboard_small_feed_end_to_end(world: SmallWorld, project: Path) -> None
     assert last_accept_threshold(project) == summary.threshold
 
 
+def test_prices_with_no_currency_are_explained_until_the_profile_names_one(
+    world: SmallWorld, project: Path, tmp_path: Path
+) -> None:
+    feed = tmp_path / "kantor.csv"
+    feed.write_text(
+        "id,title,price\n1,Blue cotton shirt,12.50\n2,Red wool scarf,9.99\n", encoding="utf-8"
+    )
+    summary = onboard_feed(feed, project=project, tree=world.tree, options=options())
+    assert summary.accounting["by_flag"] == {"currency_missing": 2}
+    profile = project / "profiles" / "kantor.toml"
+    assert summary.flag_advice == [
+        "currency_missing: 2 prices name no currency and are kept without one: set "
+        f'default_currency in {profile} (an ISO 4217 code such as "EUR") or map a currency '
+        "column, then read the feed again"
+    ]
+    # Doing what it says: the next run reads the prices in euros, and says nothing.
+    text = profile.read_text(encoding="utf-8")
+    profile.write_text(text.replace('# default_currency = ""', 'default_currency = "EUR"'))
+    again = onboard_feed(feed, project=project, tree=world.tree, options=options())
+    assert again.accounting["by_flag"] == {}
+    assert again.flag_advice == []
+    with Store.open(store_path(project)) as store:
+        assert {product.currency for product, _ in store.mappings("kantor")} == {"EUR"}
+
+
 def test_onboard_twice_changes_nothing(world: SmallWorld, project: Path) -> None:
     feed = world.paths.feeds["quorvane"]
     first = onboard_feed(feed, project=project, tree=world.tree, options=options())

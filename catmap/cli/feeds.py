@@ -291,6 +291,8 @@ def _render_normalize(facts: dict[str, Any], paths: OutputPaths) -> None:
         for flag, count in facts["by_flag"].items():
             table.add_row(flag, f"{count:,}")
         console.print(table)
+        for line in facts.get("flag_advice", []):
+            console.print(f"  {escape(line)}")
     if facts["duplicate_id_count"]:
         shown = list(facts["duplicate_ids"].items())[:DUPLICATES_SHOWN]
         listed = ", ".join(

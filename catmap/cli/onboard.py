@@ -257,6 +257,8 @@ def _render_onboard(facts: dict[str, Any]) -> None:
     if a["by_reason"]:
         reasons = ", ".join(f"{k} {v:,}" for k, v in a["by_reason"].items())
         _say(f"  rejects: {escape(reasons)} → {escape(facts['rejects_file'])}")
+    for line in facts.get("flag_advice", []):
+        _say(f"  kept but flagged, {escape(line)}")
     mapped = facts["mapped"]
     accepted = facts["accepted"] + facts["audit"]
     _say(

@@ -33,7 +33,7 @@ import dataclasses
 import json
 import operator
 from collections import deque
-from collections.abc import Callable, Iterable, Iterator
+from collections.abc import Callable, Iterable, Iterator, Mapping
 from dataclasses import dataclass, field
 from decimal import Decimal
 from functools import lru_cache
@@ -89,6 +89,27 @@ FLAG_CURRENCY_CONFLICT = "currency_conflict"
 FLAG_AVAILABILITY_UNRECOGNISED = "availability_unrecognised"
 FLAG_GENDER_UNRECOGNISED = "gender_unrecognised"
 FLAG_COLOUR_UNRECOGNISED = "colour_unrecognised"
+
+
+# What a flag means and what the feed's owner can do about it (``{profile}``: where the profile
+# is). Each line follows "<flag>: <count> ".
+FLAG_ADVICE: dict[str, str] = {
+    FLAG_CURRENCY_MISSING: "prices name no currency and are kept without one: set "
+    'default_currency {profile} (an ISO 4217 code such as "EUR") or map a currency column, '
+    "then read the feed again",
+    FLAG_CURRENCY_UNKNOWN: "currency values are no currency catmap knows (an ISO 4217 code, "
+    "symbol or name): those prices are kept without a currency; map another column or set "
+    "default_currency {profile}",
+    FLAG_CURRENCY_CONFLICT: "prices name another currency than the currency column: the "
+    "column's currency was kept; check which of the two is right",
+    FLAG_PRICE_UNPARSED: "prices could not be read as an amount and are kept without a price",
+    FLAG_GTIN_INVALID: "GTINs fail their GS1 check digit or length and are kept out of the "
+    "gtin field (the feed's text stays in gtin_raw)",
+    FLAG_AVAILABILITY_UNRECOGNISED: "availability values are none catmap knows: kept as unknown",
+    FLAG_GENDER_UNRECOGNISED: "values of the gender column are none catmap knows (kept as "
+    "written)",
+    FLAG_COLOUR_UNRECOGNISED: "colour values name no colour catmap knows (kept as written)",
+}
 
 # The accounting lists at most this many duplicated ids, each with at most this many later lines;
 # the full count is in ``by_reason["duplicate_id"]`` and every duplicate is in the rejects file.
@@ -149,6 +170,25 @@ class Accounting:
             "duplicate_ids": {key: list(lines) for key, lines in self.duplicate_ids.items()},
             "stopped_early": self.stopped_early,
         }
+
+
+def flag_advice(by_flag: Mapping[str, int], profile: str | None = None) -> list[str]:
+    """Say what each flag of kept products means and what to do about it, one line per flag.
+
+    Args:
+        by_flag: flag → count of kept products carrying it (``Accounting.by_flag``).
+        profile: the feed's profile file, named where editing it is the remedy.
+
+    Returns:
+        A line for each flag of :data:`FLAG_ADVICE` present, the most frequent first.
+    """
+    where = f"in {profile}" if profile else "in the feed's profile"
+    lines = []
+    for flag, count in sorted(by_flag.items(), key=lambda item: (-item[1], item[0])):
+        advice = FLAG_ADVICE.get(flag)
+        if advice and count:
+            lines.append(f"{flag}: {count:,} " + advice.format(profile=where))
+    return lines
 
 
 def record_excerpt(record: SourceRecord) -> str:
@@ -772,9 +812,7 @@ def normalize_feed_to(
         facts = accounting.to_dict()
         facts["outputs"] = paths.to_dict()
         facts["format"] = format
-        write_text_atomic(
-            paths.accounting, json.dumps(facts, ensure_ascii=False, indent=2) + "\n"
-        )
+        write_text_atomic(paths.accounting, json.dumps(facts, ensure_ascii=False, indent=2) + "\n")
     if on_progress is not None:
         on_progress(accounting)
     if fatal is not None:

@@ -14,6 +14,7 @@ from catmap.feeds.ingest import (
     Accounting,
     OutputPaths,
     check_profile,
+    flag_advice,
     normalize_feed_to,
     output_paths,
 )
@@ -125,5 +126,6 @@ def normalize_project_feed(
         "profile_status": profile_status,
         "language": language.to_dict(),
         "warnings": [w for w in warnings if w],
+        "flag_advice": flag_advice(accounting.by_flag, str(path)),
     }
     return NormalizeResult(facts, paths, error)

@@ -59,7 +59,7 @@ from catmap.classify.storage import file_fingerprint, load_model
 from catmap.decide.queue import Candidate, expected_gain, plan_queue
 from catmap.decide.threshold import DEFAULT_DELTA, DEFAULT_MAX_ERROR, ThresholdChoice
 from catmap.errors import InputError
-from catmap.feeds.ingest import FATAL_FEED_ERRORS, Accounting
+from catmap.feeds.ingest import FATAL_FEED_ERRORS, Accounting, flag_advice
 from catmap.feeds.profiled import ProfiledFeed, open_profiled_feed
 from catmap.feeds.writers import open_reject_writer
 from catmap.jobs._brand_queue import queue_brand_candidates
@@ -232,6 +232,7 @@ class OnboardSummary:
     seconds: float = 0.0
     stopped_early: str | None = None
     stale_runs_stopped: list[dict[str, Any]] = field(default_factory=list)
+    flag_advice: list[str] = field(default_factory=list)
     brands: dict[str, Any] = field(default_factory=dict)
     cluster: dict[str, Any] | None = None
 
@@ -689,7 +690,8 @@ def _store_onboarding(
         summary.brands = _merge_brands(store, p.learner, p.extractor.brands, name)
         summary.queued_by_reason.update(queue_brand_candidates(store, name, run_id))
         _finish_run(
-            store, summary, mapped.accounting, p.rules, started, stopped=error is not None
+            store, summary, mapped.accounting, p.rules, started, stopped=error is not None,
+            profile_path=str(p.source.profile_path),
         )
     finally:
         store.close()
@@ -1045,9 +1047,11 @@ def _finish_run(
     started: float,
     *,
     stopped: bool,
+    profile_path: str | None = None,
 ) -> None:
     """Fill the summary's last facts and record the run as done (or stopped early)."""
     summary.accounting = accounting.to_dict()
+    summary.flag_advice = flag_advice(accounting.by_flag, profile_path)
     summary.stopped_early = accounting.stopped_early
     summary.rule_conflicts = rules.conflicts if rules is not None else 0
     summary.seconds = round(time.perf_counter() - started, 2)
