@@ -117,3 +117,60 @@ def test_training_on_a_remapped_tree_with_nothing_settled_says_what_to_do(
     # The remap is done already: the way out is reviewing or labelled feeds, not another remap.
     assert "its 48 mappings on this version all wait for review" in message
     assert "catmap remap" not in message
+
+
+def test_labels_of_an_older_tree_are_read_through_its_changes(tmp_path: Path) -> None:
+    from catmap.classify.training import labels_translation, read_labelled
+    from catmap.tree.taxonomy import load_tree
+
+    treediff = Path(__file__).parent / "data" / "treediff"
+    old, new = treediff / "old.txt", treediff / "split.txt"  # 211 Headphones split in two
+    project = tmp_path / "own"
+    runner = CliRunner()
+    assert runner.invoke(main, ["init", str(project), "--tree", str(old)]).exit_code == 0
+    words = {"111": "suede ankle boots", "112": "rubber rain wellies", "121": "running shoes",
+             "122": "hiking shoes", "211": "closed over-ear headphones",
+             "Audio > Listening > Radios": "portable radio"}  # fmt: skip
+    feed = tmp_path / "labelled.csv"
+    feed.write_text(
+        "id,title,gold_node\n"
+        + "".join(
+            f"{n}-{i},{title} model {i},{label}\n"
+            for n, (label, title) in enumerate(words.items())
+            for i in range(16)
+        ),
+        encoding="utf-8",
+    )
+    args = ["train", str(feed), "--project", str(project), "--tree-file", str(new)]
+    # Read as ids of the new tree, the split node's labels are unknown: too many to go on,
+    # and the way out is named.
+    refused = runner.invoke(main, args)
+    assert refused.exit_code == 3, refused.output
+    assert "--labels-tree" in " ".join(refused.stderr.split())
+
+    result = runner.invoke(main, [*args, "--labels-tree", str(old), "--json"])
+    assert result.exit_code == 0, result.output
+    facts = json.loads(result.stdout)
+    assert facts["labels_translation"] == {
+        "from_version": "1",
+        "from_file": str(old.resolve()),
+        "kept": 80,
+        "translated": 0,
+        "dropped": {"split": 16},
+    }
+    assert facts["unknown_labels"] == 0
+    assert facts["classes"] == 5
+    # The model keeps where its labels came from; calibration reads them the same way, so the
+    # rows training held out are the ones it calibrates on.
+    manifest = json.loads((project / "models" / "current" / "manifest.json").read_text())
+    assert manifest["labels_tree"] == {"version": "1", "file": str(old.resolve()), "changes": ""}
+    tree = load_tree(new)
+    data = read_labelled(
+        [feed], tree=tree, project=project,
+        translation=labels_translation(manifest["labels_tree"], tree),
+    )  # fmt: skip
+    assert len(data.valid) == facts["products_valid"]
+    assert "211" not in {label for _product, label in data.train + data.valid}
+    text = runner.invoke(main, [*args, "--labels-tree", str(old)]).stdout
+    assert "labels of tree 1" in text and "80 of unchanged nodes" in " ".join(text.split())
+    assert "split 16" in text

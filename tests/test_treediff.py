@@ -12,6 +12,7 @@ from catmap.tree.changelog import Change, ChangeLog, load_change_log
 from catmap.tree.diff import (
     Correspondence,
     Crosswalk,
+    LabelTranslation,
     crosswalk_from_changes,
     diff_trees,
     label_equality_crosswalk,
@@ -278,3 +279,38 @@ def test_a_log_that_does_not_lead_to_the_new_tree_is_refused(
 )
 def test_what_moves_with_no_model_look(corr: Correspondence, moves: bool) -> None:
     assert moves_as_is(corr) is moves
+
+
+def test_labels_of_the_old_tree_follow_what_the_crosswalk_is_sure_of() -> None:
+    old = _old()
+    new = load_tree(DATA / "split.txt")
+    split = LabelTranslation(old, new, diff_trees(old, new))
+    # Unchanged nodes keep their ids, by id or by path of names; a node split in two is dropped:
+    # its products may now belong to either half.
+    assert split.node("111") == "111"
+    assert split.node("Footwear > Boots > Ankle boots") == "111"
+    assert split.node("211") == ""
+    assert split.node("Audio > Listening > Headphones") == ""
+    # Not a node of the old tree: left to the caller (it may be a new node's id).
+    assert split.node("215") is None
+    assert split.node("Audio > Nowhere") is None
+    assert split.to_dict()["kept"] == 2
+    assert split.to_dict()["dropped"] == {"split": 2}
+
+
+def test_a_rekeyed_label_moves_when_sure_and_is_dropped_when_not(tmp_path: Path) -> None:
+    old, new = _old(), load_tree(DATA / "rekeyed.txt")
+    guessed = LabelTranslation(old, new, diff_trees(old, new))
+    # The diff alone links 112 to 114 with confidence under SURE: the label is dropped.
+    assert guessed.node("112") == ""
+    assert guessed.dropped == {"renamed (unsure)": 1}
+    lines = (DATA / "rekeyed.txt").read_text(encoding="utf-8").splitlines()
+    line = next(text for text in lines if text.startswith("114 | 110 | Rain boots and wellies"))
+    written = tmp_path / "changes.txt"
+    written.write_text(f"@tree-change 1 -> 2\nadd {line}\nremove 112 -> 114\n", encoding="utf-8")
+    log = load_change_log(written)
+    stated = reconcile(diff_trees(old, new), crosswalk_from_changes(old, new, log))
+    sure = LabelTranslation(old, new, stated)
+    assert sure.node("112") == "114"
+    assert sure.node("Footwear > Boots > Wellington boots") == "114"
+    assert (sure.translated, sure.kept, dict(sure.dropped)) == (2, 0, {})

@@ -28,7 +28,9 @@ from catmap.classify.storage import save_model
 from catmap.errors import InputError, UnknownNode
 from catmap.feeds.profiled import open_profiled_feed
 from catmap.records import Product
-from catmap.tree.taxonomy import CategoryTree
+from catmap.tree.changelog import load_change_log
+from catmap.tree.diff import LabelTranslation, crosswalk_from_changes, diff_trees, reconcile
+from catmap.tree.taxonomy import CategoryTree, default_tree_path, load_tree, open_tree
 
 __all__ = [
     "CONSENSUS_WEIGHT_GRID",
@@ -105,10 +107,56 @@ class TrainingReport:
     inner_labels: int = 0
     inner_examples: list[str] = field(default_factory=list)
     labels_as_paths: int = 0
+    labels_translation: dict[str, Any] = field(default_factory=dict)
 
     def to_dict(self) -> dict[str, Any]:
         """Return the facts as JSON-ready values."""
         return dict(self.__dict__)
+
+
+def labels_tree_reference(tree: CategoryTree, changes: Path | None = None) -> dict[str, str]:
+    """What a model folder keeps of the tree its labels were written for (to reopen it): its
+    version, its file (none: a version of the shared tree) and the change log, if one was given.
+    """
+    shared = tree.path is not None and Path(tree.path) == default_tree_path(tree.version)
+    return {
+        "version": str(tree.version),
+        "file": str(Path(tree.path).resolve()) if tree.path and not shared else "",
+        "changes": str(changes.resolve()) if changes is not None else "",
+    }
+
+
+def labels_translation(
+    reference: dict[str, str] | None, tree: CategoryTree
+) -> LabelTranslation | None:
+    """Open the labels' tree a reference names and compare it with ``tree``.
+
+    The crosswalk is the two trees' diff; with a change log, the log decides (as ``catmap
+    remap --changes`` does).
+
+    Returns:
+        The translation, or None when there is no reference (the labels are ``tree``'s own).
+
+    Raises:
+        InputError: a file the reference names is gone (the message names it).
+        TreeError: the change log does not lead from the labels' tree to ``tree``.
+    """
+    if not reference:
+        return None
+    file, changes = reference.get("file") or "", reference.get("changes") or ""
+    for named in (file, changes):
+        if named and not Path(named).exists():
+            raise InputError(
+                "the labels were written for another tree, and a file that says how is gone",
+                path=Path(named),
+                hint="put the file back, or train again (`catmap train`)",
+            )
+    old = load_tree(file) if file else open_tree(reference["version"])
+    crosswalk = diff_trees(old, tree)
+    if changes:
+        stated = crosswalk_from_changes(old, tree, load_change_log(changes))
+        crosswalk = reconcile(crosswalk, stated)
+    return LabelTranslation(old, tree, crosswalk)
 
 
 def _labelled_stream(
@@ -121,10 +169,12 @@ def _labelled_stream(
     counts: dict[str, int],
     digest: Any,
     unknown_ids: list[str] | None = None,
+    translation: LabelTranslation | None = None,
 ) -> Iterator[tuple[Product, str, str]]:
     """Yield (product, node id, split) of every labelled product, counting the skipped ones.
 
-    ``counts`` gets ``read`` (records), ``rejected``, ``unlabelled`` and ``unknown_labels``;
+    ``counts`` gets ``read`` (records), ``rejected``, ``unlabelled``, ``unknown_labels`` and,
+    with a ``translation`` (labels of an older tree), ``dropped_by_tree_change``;
     ``unknown_ids`` the first distinct node ids the tree lacks.
     """
     rng = random.Random(random_state)
@@ -147,6 +197,14 @@ def _labelled_stream(
             if not label:
                 counts["unlabelled"] += 1
                 continue
+            if translation is not None:
+                translated = translation.node(label)
+                if translated == "":
+                    # Its node was split or removed: the label no longer says which node.
+                    counts["dropped_by_tree_change"] = counts.get("dropped_by_tree_change", 0) + 1
+                    continue
+                if translated is not None:
+                    label = translated
             if label not in tree and as_path(label):
                 # A path of names ("Garden > Tools > Spades"): its node's id, said in the report.
                 label = as_path(label)
@@ -196,6 +254,7 @@ def read_labelled(
     project: Path,
     label_column: str = "gold_node",
     random_state: int = 0,
+    translation: LabelTranslation | None = None,
 ) -> LabelledData:
     """Read labelled feeds into train / valid / test lists of (product, node id).
 
@@ -205,6 +264,7 @@ def read_labelled(
         project: the project folder (feed profiles are reused / saved there).
         label_column: the column holding node ids.
         random_state: seed of the 90/10 split for feeds without a ``split`` column.
+        translation: the labels are of an older tree: read them through it (as training did).
 
     Raises:
         InputError: a feed without the label column.
@@ -220,6 +280,7 @@ def read_labelled(
         random_state=random_state,
         counts=counts,
         digest=digest,
+        translation=translation,
     ):
         getattr(data, split).append((item, label))
     data.unlabelled, data.unknown_labels = counts["unlabelled"], counts["unknown_labels"]
@@ -261,6 +322,7 @@ def _read_training_texts(
     label_column: str,
     extra_examples: Iterable[tuple[Product, str]],
     unknown_ids: list[str] | None = None,
+    translation: LabelTranslation | None = None,
 ) -> tuple[_LabelledTexts, _LabelledTexts, dict[str, int], str]:
     """Stream labelled feeds into compact train / valid texts (test rows are not kept)."""
     train, valid = _LabelledTexts(), _LabelledTexts()
@@ -276,6 +338,7 @@ def _read_training_texts(
         counts=counts,
         digest=digest,
         unknown_ids=unknown_ids,
+        translation=translation,
     ):
         if split == "train":
             train.add(item, label, shared)
@@ -468,6 +531,7 @@ def train_model(
     model_options: dict[str, Any] | None = None,
     on_stage: Callable[[str], None] | None = None,
     max_unknown_share: float = MAX_UNKNOWN_LABEL_SHARE,
+    labels_from: dict[str, str] | None = None,
 ) -> TrainingReport:
     """Read labelled feeds, train, calibrate on the validation rows, save the model folder.
 
@@ -482,6 +546,11 @@ def train_model(
         on_stage: called with a short text as each stage starts.
         max_unknown_share: above this share of labelled rows naming nodes the tree lacks,
             training stops.
+        labels_from: the tree the labels were written for, when it is an older version of
+            ``tree`` (:func:`labels_tree_reference`): labels are read through the crosswalk
+            between the two (:class:`~catmap.tree.diff.LabelTranslation`), those of split or
+            removed nodes dropped and counted. The model folder keeps it, so that onboarding's
+            calibration reads them the same way.
 
     Returns:
         The report.
@@ -494,6 +563,9 @@ def train_model(
     started = time.perf_counter()
     stage("reading labelled products")
     unknown_ids: list[str] = []
+    if labels_from:
+        stage(f"comparing tree {labels_from['version']} of the labels with tree {tree.version}")
+    translation = labels_translation(labels_from, tree)
     train, valid, counts, fingerprint = _read_training_texts(
         feeds,
         tree=tree,
@@ -501,6 +573,7 @@ def train_model(
         label_column=label_column,
         extra_examples=extra_examples,
         unknown_ids=unknown_ids,
+        translation=translation,
     )
     unknown_share = _check_unknown_labels(
         counts, unknown_ids, tree, feeds, label_column, max_unknown_share
@@ -537,6 +610,7 @@ def train_model(
             "training_products": len(labels),
             "training_seconds": round(elapsed, 2),
             "label_column": label_column,
+            **({"labels_tree": labels_from} if labels_from else {}),
         },
     )
     return TrainingReport(
@@ -563,6 +637,7 @@ def train_model(
         inner_labels=sum(count for node, count in per_class.items() if node in inner),
         inner_examples=[f"{node} {tree[node].name}" for node in inner[:UNKNOWN_IDS_SHOWN]],
         labels_as_paths=counts.get("labels_as_paths", 0),
+        labels_translation=translation.to_dict() if translation is not None else {},
     )
 
 
@@ -615,8 +690,9 @@ def _check_unknown_labels(
             f"{', '.join(unknown_ids)}; the labels likely belong to another tree",
             path=feeds[0] if len(feeds) == 1 else None,
             field=label_column,
-            hint=f"train on the labels' own tree (--tree-file FILE), fix the label column, or "
-            f"raise --max-unknown-share (now {max_share:g})",
+            hint=f"train on the labels' own tree (--tree-file FILE), read them through the "
+            "changes from an older tree they were written for (--labels-tree VERSION|FILE), fix "
+            f"the label column, or raise --max-unknown-share (now {max_share:g})",
         )
     return share
 

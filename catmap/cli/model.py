@@ -51,6 +51,22 @@ from catmap.project import project_dir
     "lacks: the labels likely belong to another tree.",
 )
 @click.option(
+    "--labels-tree",
+    metavar="VERSION|FILE",
+    default=None,
+    help="The labels name nodes of this older tree (a version of the shared tree, a tree "
+    "file, or a version a project of its own was remapped from): they are read through the "
+    "changes to the project's tree; labels of split or removed nodes are dropped and counted. "
+    "Onboarding's calibration reads them the same way.",
+)
+@click.option(
+    "--labels-changes",
+    type=click.Path(exists=True, dir_okay=False, path_type=Path),
+    default=None,
+    help="Change log from --labels-tree to the project's tree: it decides where labels go "
+    "(as with `catmap remap --changes`); without it the two trees' diff does.",
+)
+@click.option(
     "--classifier",
     type=click.Choice(("linear_svc", "sgd", "logistic")),
     default="linear_svc",
@@ -73,6 +89,8 @@ def train_command(
     tree_file: Path | None,
     max_per_class: int,
     max_unknown_share: float,
+    labels_tree: str | None,
+    labels_changes: Path | None,
     classifier: str,
     model_path: Path | None,
     with_reviews: bool,
@@ -104,6 +122,8 @@ def train_command(
             on_stage=show,
             max_per_class=max_per_class,
             max_unknown_share=max_unknown_share,
+            labels_tree=labels_tree,
+            labels_changes=labels_changes,
         )
     if as_json:
         echo_json(facts)
@@ -162,6 +182,20 @@ def train_command(
         console.print(
             f"  labels as paths      {facts['labels_as_paths']:,} rows name their node by its "
             "path of names (read as the node's id)"
+        )
+    moved = facts.get("labels_translation")
+    if moved:
+        dropped = moved["dropped"]
+        console.print(
+            f"  labels of tree {escape(moved['from_version'])}  {moved['kept']:,} of unchanged "
+            f"nodes, {moved['translated']:,} read as their node's new id, "
+            f"{sum(dropped.values()):,} dropped"
+            + (
+                " (" + escape(", ".join(f"{k} {v:,}" for k, v in dropped.items())) + ": their "
+                "products may now belong to any of several nodes; review decisions teach those)"
+                if dropped
+                else ""
+            )
         )
     if facts["inner_labels"]:
         console.print(

@@ -23,7 +23,7 @@ import numpy as np
 
 from catmap._atomic import atomic_open
 from catmap.classify.storage import file_fingerprint, read_manifest
-from catmap.classify.training import read_labelled
+from catmap.classify.training import labels_translation, read_labelled
 from catmap.decide.threshold import (
     DEFAULT_DELTA,
     DEFAULT_MAX_ERROR,
@@ -34,6 +34,7 @@ from catmap.errors import InputError, ModelError
 from catmap.jobs._feed_mapper import CHUNK_SIZE, FeedMapper, acceptance_score
 from catmap.project import feed_stem, is_demo_project, load_settings
 from catmap.records import Product
+from catmap.tree.diff import LabelTranslation
 from catmap.tree.taxonomy import CategoryTree
 
 _log = logging.getLogger(__name__)
@@ -131,7 +132,12 @@ def _default_calibration_feed() -> Path:
 
 
 def _calibration_rows(
-    feeds: Sequence[Path], tree: CategoryTree, project: Path, label_column: str = "gold_node"
+    feeds: Sequence[Path],
+    tree: CategoryTree,
+    project: Path,
+    label_column: str = "gold_node",
+    *,
+    translation: LabelTranslation | None = None,
 ) -> tuple[list[tuple[Product, str]], list[str]]:
     """Labelled rows to calibrate on, and a description of each feed's part.
 
@@ -146,11 +152,14 @@ def _calibration_rows(
     trained_on = {Path(f).resolve() for f in settings.labelled} if settings is not None else set()
     for feed in feeds:
         try:
-            data = read_labelled([feed], tree=tree, project=project, label_column=label_column)
+            data = read_labelled(
+                [feed], tree=tree, project=project, label_column=label_column,
+                translation=translation,
+            )
         except InputError as error:
             if label_column == "gold_node" or error.field != label_column:
                 raise
-            data = read_labelled([feed], tree=tree, project=project)
+            data = read_labelled([feed], tree=tree, project=project, translation=translation)
         everything = data.train + data.valid + data.test
         if Path(feed).resolve() in trained_on:
             # One of the project's training feeds: only the part training held out.
@@ -228,8 +237,13 @@ def validation_predictions(
             _save_sources(folder / VALIDATION_FILE, cached, model_stamp)
         return cached[0]
     feeds = given or [_default_calibration_feed()]
-    label_column = str(read_manifest(folder).get("label_column") or "gold_node")
-    rows, described = _calibration_rows(feeds, mapper.tree, Path(project), label_column)
+    manifest = read_manifest(folder)
+    label_column = str(manifest.get("label_column") or "gold_node")
+    # Labels of an older tree are read as training read them (the same rows held out).
+    translation = labels_translation(manifest.get("labels_tree"), mapper.tree)
+    rows, described = _calibration_rows(
+        feeds, mapper.tree, Path(project), label_column, translation=translation
+    )
     if not rows:
         raise ModelError(
             "no labelled products to choose the accept threshold from",

@@ -8,11 +8,11 @@ from pathlib import Path
 from typing import Any
 
 from catmap.errors import InputError, ModelNotTrained
-from catmap.jobs._project_tree import default_model_dir, project_tree
+from catmap.jobs._project_tree import default_model_dir, project_tree, version_tree_path
 from catmap.jobs.onboard import project_review_examples
 from catmap.project import load_settings, settings_path, subfolder
 from catmap.records import Product
-from catmap.tree.taxonomy import CategoryTree, default_tree_path
+from catmap.tree.taxonomy import CategoryTree, default_tree_path, load_tree, open_tree
 
 __all__ = ["DEMO_TREE_VERSION", "remapped_catalog", "train_project", "training_sources"]
 
@@ -32,7 +32,10 @@ def remapped_catalog(project: Path, tree: CategoryTree) -> Path:
     from catmap.jobs.remap import stored_tree_versions, write_remapped_catalog
     from catmap.store import Store, store_path
 
-    hint = f"run `catmap remap --to {tree.version}` first, or give labelled feeds"
+    hint = (
+        f"run `catmap remap --to {tree.version}` first, give labelled feeds on this tree, or "
+        "read those of the older tree through its changes: `catmap train --labels-tree VERSION`"
+    )
     if not store_path(project).is_file():
         raise ModelNotTrained(
             f"no labelled products for tree version {tree.version}", path=project, hint=hint
@@ -46,7 +49,8 @@ def remapped_catalog(project: Path, tree: CategoryTree) -> Path:
         hint = (
             f"its {on_version:,} mappings on this version all wait for review: settle some with "
             "`catmap review` or `catmap decisions import`, or give labelled feeds on this "
-            "tree: `catmap train FEED...`"
+            "tree: `catmap train FEED...`, or the labelled feeds of the older tree read through "
+            "its changes: `catmap train --labels-tree VERSION`"
         )
     if written == 0:
         raise ModelNotTrained(
@@ -58,7 +62,12 @@ def remapped_catalog(project: Path, tree: CategoryTree) -> Path:
 
 
 def training_sources(
-    project: Path, tree: CategoryTree, feeds: Sequence[Path], *, with_reviews: bool = True
+    project: Path,
+    tree: CategoryTree,
+    feeds: Sequence[Path],
+    *,
+    with_reviews: bool = True,
+    labels_translated: bool = False,
 ) -> tuple[list[Path], list[tuple[Product, str]]]:
     """Return the labelled feeds to train on and the reviewed products to add.
 
@@ -73,6 +82,8 @@ def training_sources(
         tree: the category tree to train on.
         feeds: the labelled feeds given.
         with_reviews: add the products reviewers decided in the project store.
+        labels_translated: the labels are read through the changes from their older tree
+            (``--labels-tree``): the project's labelled feeds, not its remapped catalog.
 
     Raises:
         InputError: no feeds given and the project has none to learn from.
@@ -82,7 +93,8 @@ def training_sources(
     labels_version = settings.tree_version if settings is not None else DEMO_TREE_VERSION
     shared = tree.path == str(default_tree_path(tree.version))
     own = settings is not None and settings.tree_file is not None
-    if not sources and (shared or own) and str(tree.version) != labels_version:
+    newer = (shared or own) and str(tree.version) != labels_version
+    if not sources and newer and not labels_translated:
         # A newer tree than the project's labels (the shared one, or a tree of one's own the
         # project was remapped to): learn from its remapped catalog.
         return [remapped_catalog(project, tree)], []
@@ -107,6 +119,27 @@ def training_sources(
     return sources, reviewed
 
 
+def labels_tree_ref(project: Path, given: str, changes: Path | None = None) -> dict[str, str]:
+    """Name the tree labels were written for: a tree file, the copy a project of one's own
+    keeps of that version (``catmap remap --to FILE``), or a version of the shared tree
+    (:func:`~catmap.classify.training.labels_tree_reference`).
+
+    Raises:
+        TreeError: no such tree (the message says what was looked for).
+    """
+    from catmap.classify.training import labels_tree_reference
+
+    tree: CategoryTree
+    if Path(given).is_file():
+        tree = load_tree(Path(given))
+    else:
+        settings = load_settings(project)
+        kept = version_tree_path(project, given)
+        own = settings is not None and settings.tree_file is not None
+        tree = load_tree(kept) if own and kept.is_file() else open_tree(given)
+    return labels_tree_reference(tree, changes)
+
+
 def train_project(
     feeds: Sequence[Path],
     *,
@@ -120,6 +153,8 @@ def train_project(
     on_stage: Callable[[str], None] | None = None,
     max_per_class: int | None = None,
     max_unknown_share: float | None = None,
+    labels_tree: str | None = None,
+    labels_changes: Path | None = None,
 ) -> dict[str, Any]:
     """Train the mapping model and save it; return the training report's facts.
 
@@ -137,6 +172,11 @@ def train_project(
             default; 0: no cap).
         max_unknown_share: stop when more labelled rows than this share name nodes the tree
             lacks (None: :data:`~catmap.classify.training.MAX_UNKNOWN_LABEL_SHARE`).
+        labels_tree: the labels are of this older tree (a version or a tree file): they are
+            read through the crosswalk to the project's tree, those of split or removed nodes
+            dropped (see :func:`~catmap.classify.training.train_model`).
+        labels_changes: the change log from ``labels_tree`` to the tree trained on: it decides
+            where labels go, as ``catmap remap --changes`` does.
 
     Returns:
         The report's facts, with ``reviewed_examples``: how many reviewed products were added.
@@ -146,8 +186,17 @@ def train_project(
     """
     from catmap.classify.training import MAX_UNKNOWN_LABEL_SHARE, train_model
 
+    if labels_changes is not None and not labels_tree:
+        raise InputError(
+            "a change log of the labels needs the tree they were written for",
+            path=labels_changes,
+            hint="add --labels-tree VERSION|FILE",
+        )
+
     tree = project_tree(project, tree_file=tree_file, tree_version=tree_version)
-    sources, reviewed = training_sources(project, tree, feeds, with_reviews=with_reviews)
+    sources, reviewed = training_sources(
+        project, tree, feeds, with_reviews=with_reviews, labels_translated=bool(labels_tree)
+    )
     options: dict[str, Any] = {"classifier": classifier}
     if max_per_class is not None:
         options["max_per_class"] = max_per_class or None
@@ -163,6 +212,7 @@ def train_project(
         max_unknown_share=(
             MAX_UNKNOWN_LABEL_SHARE if max_unknown_share is None else max_unknown_share
         ),
+        labels_from=labels_tree_ref(project, labels_tree, labels_changes) if labels_tree else None,
     )
     facts = report.to_dict()
     facts["reviewed_examples"] = len(reviewed)

@@ -29,7 +29,7 @@ from typing import Any, Protocol
 
 from catmap._atomic import atomic_open
 from catmap._cells import neutralise_cell, restore_cell
-from catmap.errors import InputError, TreeError
+from catmap.errors import InputError, TreeError, UnknownNode
 from catmap.tree.changelog import Change, ChangeLog, apply_changes
 from catmap.tree.search import fold_text
 from catmap.tree.taxonomy import CategoryTree
@@ -39,6 +39,7 @@ __all__ = [
     "CHANGE_TYPES",
     "Correspondence",
     "Crosswalk",
+    "LabelTranslation",
     "ProductScorer",
     "SURE",
     "crosswalk_from_changes",
@@ -664,6 +665,82 @@ def moves_as_is(corr: Correspondence) -> bool:
     if "merged" in corr.changes and corr.new_ids != (corr.old_id,):
         return False  # a merge the diff found alone; the target that keeps its id stays put
     return corr.confidence >= SURE
+
+
+class LabelTranslation:
+    """Labels written for an older tree, read as nodes of the new one through a crosswalk.
+
+    A label (a node id of the old tree, or its path of names) whose node the crosswalk moves as
+    it is (:func:`moves_as_is`: unchanged, or renamed, moved or merged with the evidence to be
+    sure) becomes the new node's id. A label whose node was split, removed, or changed in a way
+    the crosswalk is unsure of is dropped: its products may now belong to any of several nodes,
+    and a wrong label teaches the model wrong. Counts say what happened.
+
+    Attributes:
+        old: the tree the labels were written for.
+        new: the tree trained on.
+        translated: labels read as another id than their own.
+        kept: labels of an unchanged node.
+        dropped: change kind (``split``, ``removed``, ...) → labels dropped.
+    """
+
+    def __init__(self, old: CategoryTree, new: CategoryTree, crosswalk: Crosswalk) -> None:
+        self.old = old
+        self.new = new
+        self.translated = 0
+        self.kept = 0
+        self.dropped: Counter[str] = Counter()
+        self._target: dict[str, str] = {}
+        self._kind: dict[str, str] = {}
+        for corr in crosswalk.correspondences:
+            if corr.old_id is None:
+                continue
+            if moves_as_is(corr) and corr.new_ids[0] in new:
+                self._target[corr.old_id] = corr.new_ids[0]
+            else:
+                kind = "+".join(corr.changes)
+                self._kind[corr.old_id] = kind if corr.confidence >= SURE else f"{kind} (unsure)"
+        self._paths: dict[str, str] = {}
+
+    def node(self, label: str) -> str | None:
+        """Return the new tree's node for a label of the old tree.
+
+        Returns:
+            The new node id; ``""`` when the label's node changed in a way that drops it; None
+            when the label names no node of the old tree (the caller reads it as it is).
+        """
+        old_id = label if label in self.old else self._old_path(label)
+        if not old_id:
+            return None
+        target = self._target.get(old_id)
+        if target is None:
+            self.dropped[self._kind.get(old_id, "removed")] += 1
+            return ""
+        if target == old_id:
+            self.kept += 1
+        else:
+            self.translated += 1
+        return target
+
+    def _old_path(self, label: str) -> str:
+        if ">" not in label:
+            return ""
+        if label not in self._paths:
+            try:
+                self._paths[label] = self.old.find_path(label).id
+            except UnknownNode:
+                self._paths[label] = ""
+        return self._paths[label]
+
+    def to_dict(self) -> dict[str, Any]:
+        """Return the counts as JSON-ready values."""
+        return {
+            "from_version": str(self.old.version),
+            "from_file": str(self.old.path or ""),
+            "kept": self.kept,
+            "translated": self.translated,
+            "dropped": dict(self.dropped.most_common()),
+        }
 
 
 def _check_log_trees(old: CategoryTree, new: CategoryTree, log: ChangeLog) -> None:
