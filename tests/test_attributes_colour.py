@@ -1,4 +1,4 @@
-"""Tests for catmap.attributes.colour: colour words in four languages → catmap's families."""
+"""Tests for catmap.feeds.colour: colour words in seven languages → catmap's families."""
 
 from __future__ import annotations
 
@@ -10,7 +10,7 @@ from hypothesis import given
 from hypothesis import strategies as st
 
 from catmap.attributes import FAMILIES, AttributeExtractor, BrandDictionary, colour_family, fold
-from catmap.attributes.colour import COLOUR_WORDS
+from catmap.feeds.colour import COLOUR_WORDS
 from catmap.records import Product
 
 
@@ -23,6 +23,9 @@ from catmap.records import Product
         ("Weiß", "white"), ("gris chiné", "grey"), ("Bleu Marine", "blue"), ("rosa palo", "pink"),
         ("jaune moutarde", "yellow"), ("Mehrfarbig", "multicolour"), ("plateado", "silver"),
         ("burdeos", "red"), ("lila", "purple"), ("marrón", "brown"), ("terracotta", "orange"),
+        ("Blu navy", "blue"), ("grigio scuro", "grey"), ("donkerblauw", "blue"),
+        ("Zwarte", "black"), ("cinza escuro", "grey"), ("Azul marinho", "blue"),
+        ("verde oliva", "green"), ("roxo", "purple"), ("prateado", "silver"),
     ],
 )
 def test_colour_field_words(word: str, family: str) -> None:

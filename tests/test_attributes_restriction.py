@@ -9,6 +9,7 @@ import pytest
 from hypothesis import given
 from hypothesis import strategies as st
 
+from catmap._text import fold
 from catmap.attributes import (
     RESTRICTION_CAUTION,
     RESTRICTIONS,
@@ -16,7 +17,6 @@ from catmap.attributes import (
     BrandDictionary,
     restriction_from_text,
 )
-from catmap.attributes._text import fold
 from catmap.attributes.restriction import (
     is_generic_node,
     node_context,

@@ -16,7 +16,7 @@ PACKAGE = Path(__file__).resolve().parents[1] / "catmap"
 # The modules every stage may use: plain records, errors, the project folder, small helpers.
 BASE = {
     "catmap", "catmap.errors", "catmap.records", "catmap.project", "catmap._iterate",
-    "catmap._atomic", "catmap._cells", "catmap._collector",
+    "catmap._atomic", "catmap._cells", "catmap._collector", "catmap._text",
 }
 
 # Stage → the stages it may import (besides BASE and itself). The order is the pipeline's.
@@ -25,7 +25,7 @@ ALLOWED: dict[str, set[str]] = {
     "tree": set(),
     "decide": set(),
     "classify": {"feeds", "tree"},
-    "attributes": {"tree"},
+    "attributes": {"tree", "feeds"},
     "demo": {"tree"},
     "evaluate": {"feeds", "tree", "classify", "attributes"},
     "store": {"decide"},

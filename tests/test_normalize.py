@@ -357,8 +357,12 @@ def test_normalize_gtin_never_raises(raw: str) -> None:
         # counts and booleans (common practice, no source)
         ("1", "available"), ("17", "available"), ("0", "sold_out"), ("stock: 0", "sold_out"),
         ("true", "available"), ("yes", "available"), ("false", "sold_out"), ("no", "sold_out"),
+        # a delivery time says it is in stock (common practice, no source)
+        ("envío en 24h", "available"), ("Ships within 2 days", "available"),
+        ("Versand in 1-2 Tagen", "available"), ("expédition sous 48h", "available"),
+        ("spedizione in 48 ore", "available"), ("envio em 3 dias", "available"),
         # anything else
-        ("", "unknown"), ("blue", "unknown"), ("-1", "unknown"),
+        ("", "unknown"), ("blue", "unknown"), ("-1", "unknown"), ("envío gratis", "unknown"),
     ],
 )
 def test_normalize_availability(raw: str, expected: str) -> None:
@@ -442,6 +446,10 @@ def test_no_normaliser_raises(raw: str) -> None:
         ("unisex", "unisex"), ("mixte", "unisex"), ("Damen / Herren", "unisex"),
         ("bambina", "girls"), ("meninos", "boys"), ("Kinder", "kids"), ("Girls & Boys", "kids"),
         ("bébé", "baby"), ("", "unknown"), ("blue", "unknown"), ("women and kettles", "unknown"),
+        # The age when a baby's gender is named too; kids' codes; a single-letter H (homme,
+        # hombre, Herren, heren).
+        ("Baby Girl", "baby"), ("Bébé garçon", "baby"), ("newborn", "baby"),
+        ("K-G", "girls"), ("Kids - Boys", "boys"), ("H", "male"), ("T-shirt", "unknown"),
     ],
 )  # fmt: skip
 def test_normalize_gender_text(raw: str, expected: str) -> None:
@@ -453,12 +461,28 @@ def test_normalize_gender_text(raw: str, expected: str) -> None:
     [
         ("black", True), ("Bleu marine", True), ("Dunkelblau", True), ("azul claro", True),
         ("nero", True), ("zwart", True), ("vermelho escuro", True), ("navy/white", True),
-        ("donkerblauw", True),
+        ("donkerblauw", True), ("ébène", True), ("blanc cassé", True), ("Bleu roi", True),
+        ("vert d'eau", True), ("rouge brique", True), ("anthracite / noir", True),
         ("", False), ("xyzzy", False), ("dark", False), ("Lantern", False),
+        # A title is not a colour value, even with a colour in it; a material is not either.
+        ("Blue cotton shirt", False), ("gold plated", False), ("glimmer", False),
     ],
 )  # fmt: skip
 def test_is_colour_value(raw: str, expected: bool) -> None:
     assert is_colour_value(raw) is expected
+
+
+def test_a_colour_field_the_family_reader_reads_is_never_flagged() -> None:
+    # Every colour word and phrase of the family reader, in every language and written as a
+    # feed would (capitals, accents kept): the normaliser recognises it too.
+    from catmap.feeds.colour import COLOUR_WORDS, colour_family
+
+    for family, by_language in COLOUR_WORDS.items():
+        for words in by_language.values():
+            for word in words:
+                written = word.title()
+                assert colour_family(written)[0] == family, word
+                assert is_colour_value(written), word
 
 
 @pytest.mark.parametrize(

@@ -6,7 +6,7 @@ evidence, who, age, colour family, restriction flag).
 
 - :mod:`~catmap.attributes.brand`: brand dictionary and finder (exact, variant, fuzzy).
 - :mod:`~catmap.attributes.audience`: who and age from text, path and size.
-- :mod:`~catmap.attributes.colour`: colour family.
+- :mod:`~catmap.feeds.colour`: colour family.
 - :mod:`~catmap.attributes.restriction`: restriction flag from the node or keywords.
 
 :class:`AttributeExtractor` fills a :class:`catmap.records.Attributes` for a product and the node
@@ -23,7 +23,7 @@ from collections.abc import Iterable
 from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
-from catmap.attributes._text import fold
+from catmap._text import fold
 from catmap.attributes.audience import (
     LEXICON_WORDS,
     Audience,
@@ -50,13 +50,6 @@ from catmap.attributes.brand import (
     compact_key,
     normalize_brand,
 )
-from catmap.attributes.colour import (
-    COLOUR_WORDS,
-    FAMILIES,
-    blank_codes,
-    colour_family,
-    colour_family_folded,
-)
 from catmap.attributes.discover import (
     CANDIDATE_MARK,
     FeedBrandLearner,
@@ -80,6 +73,13 @@ from catmap.attributes.restriction import (
     restriction_for_node,
     restriction_from_text,
     restriction_from_text_folded,
+)
+from catmap.feeds.colour import (
+    COLOUR_WORDS,
+    FAMILIES,
+    blank_codes,
+    colour_family,
+    colour_family_folded,
 )
 from catmap.records import Attributes, Product
 

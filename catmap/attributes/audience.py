@@ -28,7 +28,7 @@ from dataclasses import dataclass
 from functools import lru_cache
 from typing import cast
 
-from catmap.attributes._text import PhraseIndex, fold
+from catmap._text import PhraseIndex, fold
 
 FEMALE, MALE, UNISEX, NA = "female", "male", "unisex", "not_applicable"
 ADULT, KIDS, BABY = "adult", "kids", "baby"
@@ -424,7 +424,7 @@ def read_cues(folded: str, *, column: bool = False) -> Cues:
     """Return the audience cues of a folded text (or of a gender column value).
 
     Args:
-        folded: text folded by :func:`catmap.attributes._text.fold`.
+        folded: text folded by :func:`catmap._text.fold`.
         column: read it as a gender column (single-letter codes allowed).
     """
     who: list[tuple[str, str]] = []

@@ -25,7 +25,7 @@ from rapidfuzz.distance import OSA
 
 from catmap._atomic import atomic_open, write_bytes_atomic
 from catmap._cells import neutralise_cell, restore_cell
-from catmap.attributes._text import PhraseIndex, fold
+from catmap._text import PhraseIndex, fold
 from catmap.errors import InputError
 
 # Legal-form suffixes stripped from the end of a brand name, written as folded tokens
@@ -420,7 +420,7 @@ class BrandFinder:
         """Find a brand in a folded title or description: exact pass, then fuzzy on the lead.
 
         Args:
-            folded: the text, folded by :func:`catmap.attributes._text.fold`.
+            folded: the text, folded by :func:`catmap._text.fold`.
             where: "title" or "description", for the evidence.
             raw: the title as written; when given, capitalised words elsewhere in the title
                 are looked up fuzzily too once the lead finds nothing.

@@ -30,7 +30,7 @@ from typing import TYPE_CHECKING
 
 from rapidfuzz.distance import OSA
 
-from catmap.attributes._text import PhraseIndex, fold
+from catmap._text import PhraseIndex, fold
 from catmap.attributes.audience import LEXICON_WORDS
 from catmap.attributes.brand import (
     _COMMON_LEAD_WORDS,
@@ -39,7 +39,6 @@ from catmap.attributes.brand import (
     BrandMatch,
     normalize_brand,
 )
-from catmap.attributes.colour import COLOUR_WORDS
 from catmap.attributes.registry import (
     CANDIDATE,
     FIRST_LETTER_GUARD,
@@ -49,6 +48,7 @@ from catmap.attributes.registry import (
     clean_spelling,
 )
 from catmap.errors import ModelNotTrained
+from catmap.feeds.colour import COLOUR_WORDS
 from catmap.records import Product
 
 if TYPE_CHECKING:

@@ -26,7 +26,7 @@ from typing import Any
 
 from rapidfuzz.distance import OSA
 
-from catmap.attributes._text import fold
+from catmap._text import fold
 from catmap.attributes.brand import (
     LEGAL_SUFFIXES,
     NO_BRAND_VALUES,

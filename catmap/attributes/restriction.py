@@ -54,9 +54,9 @@ from typing import TYPE_CHECKING, Any
 
 import ahocorasick
 
+from catmap._text import PhraseIndex, fold
 from catmap.attributes import _restriction_words as words
-from catmap.attributes._text import PhraseIndex, fold
-from catmap.attributes.colour import COLOUR_WORDS
+from catmap.feeds.colour import COLOUR_WORDS
 
 if TYPE_CHECKING:
     from catmap.tree.taxonomy import CategoryTree

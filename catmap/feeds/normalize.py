@@ -18,6 +18,7 @@ import unicodedata
 from decimal import Decimal, InvalidOperation
 from functools import lru_cache
 
+from catmap._text import fold
 from catmap.feeds._currency import (
     DOLLAR_CURRENCIES,
     ISO_4217_CODES,
@@ -27,6 +28,7 @@ from catmap.feeds._currency import (
     WORDS,
     YEN_CURRENCIES,
 )
+from catmap.feeds.colour import colour_spans
 
 __all__ = [
     "clean_line",
@@ -614,7 +616,9 @@ _AVAILABILITY_PATTERNS: tuple[tuple[str, re.Pattern[str]], ...] = (
         "available",
         re.compile(
             r"in ?stock|en stock|auf lager|lagernd|vorratig|verfugbar|lieferbar|available|"
-            r"disponible|en existencia|hay stock|con stock|ships in|expedie sous|"
+            r"disponible|en existencia|hay stock|con stock|ships? (?:in|within)|"
+            r"dispatch(?:ed)? (?:in|within)|expedie sous|expedition sous|envio (?:en |em )?\d|"
+            r"versand in|spedizione in|spedito in|verzending binnen|verzonden binnen|"
             r"versandbereit|sofort|disponibile|in magazzino|op voorraad|leverbaar|"
             r"beschikbaar|disponivel|em stock|em estoque"
         ),
@@ -727,7 +731,7 @@ _GENDER_WORDS: dict[str, str] = {
         "female",
     ),
     **dict.fromkeys(
-        "men man mens male males gents gentlemen m homme hommes herren mann manner mannlich "
+        "men man mens male males gents gentlemen m h homme hommes herren mann manner mannlich "
         "hombre hombres caballero caballeros uomo uomini heren mannen homem homens masculino "
         "maschile".split(),
         "male",
@@ -737,25 +741,27 @@ _GENDER_WORDS: dict[str, str] = {
     ),
     **dict.fromkeys(
         "girls girl fille filles madchen nina ninas bambina bambine ragazza ragazze meisje "
-        "meisjes menina meninas".split(),
+        "meisjes menina meninas g".split(),
         "girls",
     ),
     **dict.fromkeys(
         "boys boy garcon garcons jungen junge nino ninos bambino ragazzo ragazzi jongen jongens "
-        "menino meninos".split(),
+        "menino meninos b".split(),
         "boys",
     ),
     **dict.fromkeys(
         "kids kid children child enfant enfants kinder kind infantil bambini kinderen "
-        "crianca criancas junior juniors".split(),
+        "crianca criancas junior juniors k".split(),
         "kids",
     ),
     **dict.fromkeys(
-        "baby babies infant infants bebe bebes neonato neonata neonati bambinos".split(), "baby"
+        "baby babies infant infants bebe bebes neonato neonata neonati bambinos newborn "
+        "newborns".split(),
+        "baby",
     ),
 }
 GENDER_VALUES = ("female", "male", "unisex", "girls", "boys", "kids", "baby", "unknown")
-_WORD_SPLIT_RE = re.compile(r"[\s/,;&+|()]+|\band\b|\bet\b|\bund\b|\by\b|\be\b|\ben\b")
+_WORD_SPLIT_RE = re.compile(r"[\s/,;&+|()\-]+|\band\b|\bet\b|\bund\b|\by\b|\be\b|\ben\b")
 
 
 def _plain(value: str) -> str:
@@ -787,7 +793,13 @@ def normalize_gender_text(value: str) -> str:
         return found.pop() if len(found) == 1 else "unisex"
     if len(found) == 1:
         return found.pop()
-    return "kids" if found <= {"girls", "boys", "kids"} else "unknown"
+    if "baby" in found and found <= {"baby", "girls", "boys"}:
+        return "baby"  # "Baby Girl", "Bébé garçon": the age; who it is for is read later
+    if found <= {"girls", "boys", "kids"}:
+        # "Kids - Girls" ("K-G"): the girls; girls and boys together: kids.
+        named = found - {"kids"}
+        return named.pop() if len(named) == 1 else "kids"
+    return "unknown"
 
 
 # Colour words in the same seven languages (accents removed), with the shade words that may
@@ -813,12 +825,18 @@ _SHADE_WORDS = frozenset(
 _COMPOUND_SHADES = ("dunkel", "hell", "donker", "licht")
 
 
+_CONNECTORS = frozenset({"and", "et", "und", "y", "e"})
+
+
 @lru_cache(maxsize=4096)
 def is_colour_value(value: str) -> bool:
     """Tell whether a colour field names colours catmap knows (seven languages, with shades).
 
-    Compound names count ("Dunkelblau", "navy/white"): every word must be a colour or a shade,
-    and one at least a colour; a German or Dutch compound is read as shade + colour.
+    Compound names count ("Dunkelblau", "navy/white", "bleu roi", "blanc cassé"): the colour
+    words and phrases the colour family reader knows (:mod:`catmap.feeds.colour`) are taken
+    out first; every word left must be a colour or a shade, and one at least a colour; a
+    German or Dutch compound is read as shade + colour. So a field the colour family reader
+    reads is not flagged, and a title ("Blue cotton shirt") is not a colour value.
 
     Args:
         value: the raw colour text.
@@ -826,11 +844,14 @@ def is_colour_value(value: str) -> bool:
     Returns:
         True when recognised.
     """
-    words = [w for w in re.split(r"[\s/,;&+|()\-]+|\band\b|\bet\b|\bund\b|\by\b|\be\b",
-                                 _plain(value)) if w]  # fmt: skip
+    folded = fold(value)
+    spans = colour_spans(folded)
+    seen_colour = bool(spans)
+    for start, end in spans:
+        folded = folded[:start] + " " * (end - start) + folded[end:]
+    words = [w for w in folded.split() if w not in _CONNECTORS]
     if not words:
-        return False
-    seen_colour = False
+        return seen_colour
     for word in words:
         if word in _COLOUR_WORDS:
             seen_colour = True

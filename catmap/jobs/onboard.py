@@ -45,13 +45,13 @@ from typing import Any, Protocol
 import numpy as np
 
 from catmap._iterate import chunked
+from catmap._text import fold
 from catmap.attributes import (
     RESTRICTION_CAUTION,
     AttributeExtractor,
     BrandDictionary,
     FeedBrandLearner,
 )
-from catmap.attributes._text import fold
 from catmap.attributes.brand import dictionary_in_use, normalize_brand
 from catmap.attributes.registry import CONFIRMED, REJECTED
 from catmap.classify.rules import RuleSet, load_rules

@@ -1,4 +1,7 @@
-"""Colour family: colour words in English, French, German and Spanish → a small set of families.
+"""Colour family: colour words in seven languages → a small set of families.
+
+English, French, German, Spanish, Italian, Dutch and Portuguese (the words written for catmap:
+common practice, no source).
 
 The families are catmap's own: black, white, grey, beige, brown, red, pink, orange, yellow,
 green, blue, purple, gold, silver, multicolour. The colour field is read first; two or more
@@ -13,8 +16,9 @@ they take beside a noun (French and Spanish plurals, German declensions: "multic
 from __future__ import annotations
 
 import re
+from functools import cache
 
-from catmap.attributes._text import PhraseIndex, fold
+from catmap._text import PhraseIndex, fold
 
 FAMILIES: tuple[str, ...] = (
     "black", "white", "grey", "beige", "brown", "red", "pink", "orange", "yellow", "green",
@@ -28,6 +32,9 @@ COLOUR_WORDS: dict[str, dict[str, tuple[str, ...]]] = {
         "fr": ("noir", "noire", "noirs", "ebene", "noir mat"),
         "de": ("schwarz", "tiefschwarz", "mattschwarz", "schwarze", "schwarzer"),
         "es": ("negro", "negra", "negros", "azabache", "negro mate"),
+        "it": ("nero", "nera", "neri", "nere", "nero opaco"),
+        "nl": ("zwart", "zwarte", "mat zwart"),
+        "pt": ("preto", "preta", "pretos", "pretas", "negro fosco"),
     },
     "white": {
         "en": ("white", "off-white", "off white", "ivory", "snow", "snow white", "optic white",
@@ -36,6 +43,9 @@ COLOUR_WORDS: dict[str, dict[str, tuple[str, ...]]] = {
         "fr": ("blanc", "blanche", "blanc casse", "ivoire", "ecru blanc"),
         "de": ("weiss", "weisse", "weisser", "wollweiss", "cremeweiss", "elfenbein"),
         "es": ("blanco", "blanca", "blanco roto", "marfil", "hueso"),
+        "it": ("bianco", "bianca", "bianchi", "bianche", "avorio", "bianco panna"),
+        "nl": ("wit", "witte", "gebroken wit", "ivoor"),
+        "pt": ("branco", "branca", "brancos", "brancas", "marfim", "off white"),
     },
     "grey": {
         "en": ("grey", "gray", "charcoal", "anthracite", "heather grey", "slate", "graphite",
@@ -46,6 +56,10 @@ COLOUR_WORDS: dict[str, dict[str, tuple[str, ...]]] = {
         "fr": ("gris", "grise", "anthracite", "gris chine", "ardoise", "gris fonce", "gris clair"),
         "de": ("grau", "anthrazit", "hellgrau", "dunkelgrau", "grau meliert", "graue"),
         "es": ("gris", "antracita", "gris jaspeado", "gris marengo", "gris oscuro", "marengo"),
+        "it": ("grigio", "grigia", "grigi", "grigie", "antracite", "grigio scuro",
+               "grigio chiaro"),
+        "nl": ("grijs", "grijze", "antraciet", "donkergrijs", "lichtgrijs"),
+        "pt": ("cinza", "cinzento", "cinzenta", "grafite", "cinza escuro", "cinza claro"),
     },
     "beige": {
         "en": ("beige", "sand", "stone", "ecru", "oatmeal", "nude", "cream",
@@ -55,6 +69,9 @@ COLOUR_WORDS: dict[str, dict[str, tuple[str, ...]]] = {
         "fr": ("beige", "sable", "ecru", "grege", "creme", "naturel"),
         "de": ("beige", "sand", "natur", "creme", "ecru", "sandfarben"),
         "es": ("beige", "arena", "crudo", "piedra", "crema", "caqui claro"),
+        "it": ("beige", "sabbia", "ecru", "tortora", "crema"),
+        "nl": ("beige", "zand", "ecru", "creme", "naturel"),
+        "pt": ("bege", "areia", "cru", "creme", "nude"),
     },
     "brown": {
         "en": ("brown", "chocolate", "cognac", "camel", "taupe", "walnut", "coffee", "mocha",
@@ -64,6 +81,9 @@ COLOUR_WORDS: dict[str, dict[str, tuple[str, ...]]] = {
                "caramel"),
         "de": ("braun", "cognac", "camel", "dunkelbraun", "taupe", "hellbraun", "nussbraun"),
         "es": ("marron", "chocolate", "conac", "camel", "topo", "cuero", "cafe", "avellana"),
+        "it": ("marrone", "marroni", "cioccolato", "cognac", "cammello", "testa di moro", "cuoio"),
+        "nl": ("bruin", "bruine", "donkerbruin", "lichtbruin", "cognac", "camel"),
+        "pt": ("castanho", "castanha", "marrom", "chocolate", "conhaque", "caramelo"),
     },
     "red": {
         "en": ("red", "burgundy", "wine", "wine red", "cherry", "scarlet", "brick red", "crimson",
@@ -72,6 +92,9 @@ COLOUR_WORDS: dict[str, dict[str, tuple[str, ...]]] = {
         "fr": ("rouge", "bordeaux", "cerise", "rouge brique", "grenat", "carmin"),
         "de": ("rot", "rote", "roter", "bordeaux", "weinrot", "kirschrot", "dunkelrot"),
         "es": ("rojo", "roja", "burdeos", "granate", "rojo cereza", "carmesi"),
+        "it": ("rosso", "rossa", "rossi", "rosse", "bordeaux", "rosso ciliegia", "granata"),
+        "nl": ("rood", "rode", "donkerrood", "bordeauxrood", "wijnrood"),
+        "pt": ("vermelho", "vermelha", "vermelhos", "bordo", "bordô", "vinho"),
     },
     "pink": {
         "en": ("pink", "blush", "rose", "fuchsia", "dusty pink", "salmon", "hot pink",
@@ -81,6 +104,9 @@ COLOUR_WORDS: dict[str, dict[str, tuple[str, ...]]] = {
         "fr": ("rose", "rose poudre", "fuchsia", "vieux rose", "rose pale", "framboise"),
         "de": ("rosa", "pink", "altrosa", "pudrig rosa", "pudrosa", "babyrosa", "fuchsia"),
         "es": ("rosa", "fucsia", "rosa palo", "rosa empolvado", "rosado"),
+        "it": ("rosa antico", "rosa cipria", "fucsia", "rosa chiaro"),
+        "nl": ("roze", "oudroze", "fuchsia", "lichtroze"),
+        "pt": ("rosa claro", "rosa choque", "fúcsia", "rosê"),
     },
     "orange": {
         "en": ("orange", "coral", "rust", "terracotta", "burnt orange", "apricot", "peach",
@@ -88,6 +114,9 @@ COLOUR_WORDS: dict[str, dict[str, tuple[str, ...]]] = {
         "fr": ("orange", "corail", "rouille", "terracotta", "abricot", "peche"),
         "de": ("orange", "koralle", "rost", "terrakotta", "apricot", "kupfer"),
         "es": ("naranja", "coral", "teja", "terracota", "melocoton", "albaricoque"),
+        "it": ("arancione", "arancio", "corallo", "ruggine", "terracotta", "rame"),
+        "nl": ("oranje", "koraal", "roest", "terracotta", "koper"),
+        "pt": ("laranja", "coral", "ferrugem", "terracota", "cobre"),
     },
     "yellow": {
         "en": ("yellow", "mustard", "lemon", "ochre", "canary", "lightyellow", "lemonchiffon",
@@ -96,6 +125,9 @@ COLOUR_WORDS: dict[str, dict[str, tuple[str, ...]]] = {
         "fr": ("jaune", "moutarde", "ocre", "jaune citron", "citron"),
         "de": ("gelb", "senfgelb", "ocker", "zitronengelb", "senf"),
         "es": ("amarillo", "amarilla", "mostaza", "ocre", "amarillo limon"),
+        "it": ("giallo", "gialla", "gialli", "gialle", "senape", "ocra"),
+        "nl": ("geel", "gele", "mosterd", "oker", "citroengeel"),
+        "pt": ("amarelo", "amarela", "mostarda", "ocre"),
     },
     "green": {
         "en": ("green", "olive", "sage", "forest green", "mint", "bottle green", "emerald",
@@ -110,6 +142,9 @@ COLOUR_WORDS: dict[str, dict[str, tuple[str, ...]]] = {
                "flaschengrun", "olivgrun"),
         "es": ("verde", "caqui", "verde oliva", "verde menta", "verde botella", "verde militar",
                "esmeralda"),
+        "it": ("verde", "verdi", "verde oliva", "verde bottiglia", "verde militare", "smeraldo"),
+        "nl": ("groen", "groene", "olijfgroen", "donkergroen", "lichtgroen", "mintgroen"),
+        "pt": ("verde escuro", "verde claro", "verde musgo", "verde militar", "esmeralda"),
     },
     "blue": {
         "en": ("blue", "navy", "navy blue", "royal blue", "sky blue", "denim blue", "petrol",
@@ -126,6 +161,11 @@ COLOUR_WORDS: dict[str, dict[str, tuple[str, ...]]] = {
                "turkis", "himmelblau", "konigsblau", "babyblau"),
         "es": ("azul", "azul marino", "azul cielo", "azul celeste", "azul klein", "turquesa",
                "azul oscuro", "azul claro", "celeste"),
+        "it": ("blu", "azzurro", "azzurra", "blu navy", "blu notte", "celeste", "turchese",
+               "petrolio"),
+        "nl": ("blauw", "blauwe", "donkerblauw", "lichtblauw", "marineblauw", "turquoise",
+               "petrol"),
+        "pt": ("azul", "azul marinho", "azul claro", "azul escuro", "turquesa", "azul petróleo"),
     },
     "purple": {
         "en": ("purple", "lilac", "lavender", "plum", "violet", "mauve", "aubergine", "indigo",
@@ -134,12 +174,18 @@ COLOUR_WORDS: dict[str, dict[str, tuple[str, ...]]] = {
         "fr": ("violet", "violette", "lilas", "prune", "lavande", "mauve", "aubergine", "parme"),
         "de": ("lila", "violett", "flieder", "aubergine", "pflaume", "lavendel"),
         "es": ("morado", "morada", "lila", "malva", "violeta", "berenjena", "purpura"),
+        "it": ("viola", "lilla", "prugna", "lavanda", "malva", "melanzana"),
+        "nl": ("paars", "paarse", "lila", "lavendel", "pruim", "aubergine"),
+        "pt": ("roxo", "roxa", "lilás", "violeta", "lavanda", "berinjela"),
     },
     "gold": {
         "en": ("gold", "gold tone", "golden", "champagne", "brass", "rose gold"),
         "fr": ("dore", "doree", "or", "champagne", "laiton", "or rose"),
         "de": ("gold", "goldfarben", "champagner", "messing", "rosegold", "vergoldet"),
         "es": ("dorado", "dorada", "oro", "champan", "laton", "oro rosa"),
+        "it": ("oro", "dorato", "dorata", "ottone", "oro rosa"),
+        "nl": ("goud", "goudkleurig", "messing", "rosegoud"),
+        "pt": ("dourado", "dourada", "ouro", "latão", "ouro rosa"),
     },
     "silver": {
         "en": ("silver", "silver tone", "chrome", "metallic silver", "platinum", "steel",
@@ -147,6 +193,9 @@ COLOUR_WORDS: dict[str, dict[str, tuple[str, ...]]] = {
         "fr": ("argent", "argente", "argentee", "chrome", "acier"),
         "de": ("silber", "silberfarben", "chrom", "versilbert", "edelstahl"),
         "es": ("plata", "plateado", "plateada", "cromado", "acero"),
+        "it": ("argento", "argentato", "argentata", "cromato", "acciaio"),
+        "nl": ("zilver", "zilverkleurig", "chroom", "rvs"),
+        "pt": ("prata", "prateado", "prateada", "cromado", "aço inox"),
     },
     "multicolour": {
         "en": ("multicolour", "multicolor", "multi", "multicoloured", "rainbow",
@@ -154,6 +203,9 @@ COLOUR_WORDS: dict[str, dict[str, tuple[str, ...]]] = {
         "fr": ("multicolore", "multi", "arc en ciel", "couleurs assorties"),
         "de": ("bunt", "mehrfarbig", "regenbogen", "farbig sortiert"),
         "es": ("multicolor", "varios colores", "arcoiris", "colores surtidos"),
+        "it": ("multicolore", "arcobaleno", "colori assortiti"),
+        "nl": ("veelkleurig", "meerkleurig", "regenboog", "diverse kleuren"),
+        "pt": ("multicor", "multicolorido", "arco íris", "cores sortidas"),
     },
 }
 
@@ -172,6 +224,12 @@ AMBIGUOUS_IN_TITLE = frozenset(
         "lavande", "lavendel", "violet", "peru", "thistle", "seashell", "teal", "noisette",
         "avellana", "espresso", "mocha", "senf", "mostaza", "moutarde", "cuero", "topo",
         "salbei", "sage", "framboise", "indigo",
+        # Italian, Dutch and Portuguese, and words of other languages that look the same.
+        "wit", "rood", "bruin", "viola", "zand", "sabbia", "areia", "cobre", "koper", "rame",
+        "ottone", "latao", "acciaio", "rvs", "cioccolato", "caramelo", "conhaque", "vinho",
+        "petrolio", "prugna", "pruim", "melanzana", "berinjela", "lavanda", "mosterd",
+        "senape", "mostarda", "smeraldo", "esmeralda", "corallo", "koraal", "roest",
+        "ruggine", "ferrugem", "ouro", "prata", "goud", "zilver", "argento", "cuoio",
     )
 )
 
@@ -240,13 +298,13 @@ def _words_with_inflections() -> tuple[dict[str, str], dict[str, str]]:
 _ALL_WORDS, _BASE_OF = _words_with_inflections()
 
 
-def _build_index() -> PhraseIndex:
+@cache
+def _index() -> PhraseIndex:
+    # Built on first use: mapping a feed with a saved profile reads no colour.
     phrases: list[tuple[str, object]] = [(p, "") for p in MATERIAL_PHRASES]
     phrases.extend(_ALL_WORDS.items())
     return PhraseIndex(phrases)
 
-
-_INDEX = _build_index()
 # A form of a word that is often a product is one too ("roses", "olives", "cafes").
 AMBIGUOUS_IN_TITLE = AMBIGUOUS_IN_TITLE | frozenset(
     form for form, base in _BASE_OF.items() if base in AMBIGUOUS_IN_TITLE
@@ -270,12 +328,18 @@ def blank_codes(title: str, folded: str) -> str:
 def _matches(folded: str) -> list[tuple[int, int, str, str]]:
     chosen: list[tuple[int, int, str, str]] = []
     last_end = -1
-    for start, end, key, family in sorted(_INDEX.find(folded), key=lambda m: (m[0], m[0] - m[1])):
+    for start, end, key, family in sorted(_index().find(folded), key=lambda m: (m[0], m[0] - m[1])):
         if start >= last_end:
             last_end = end
             if family:
                 chosen.append((start, end, key, str(family)))
     return chosen
+
+
+def colour_spans(folded: str) -> list[tuple[int, int]]:
+    """Return where a folded text names a colour: (start, end) of each colour word or phrase
+    of the lexicon (its forms included), materials such as "gold plated" left out."""
+    return [(start, end) for start, end, _key, _family in _matches(folded)]
 
 
 _QUANTITY = re.compile(r"^\d+(?:d\d+)?(?:ml|cl|l|g|kg|mg|oz|m)?$")

@@ -1,4 +1,4 @@
-"""Text folding shared by the attribute extractors.
+"""Text folding shared by the attribute extractors and the colour reader of the feeds stage.
 
 Every extractor looks at words, not characters: text is case-folded, stripped of diacritics,
 apostrophes and dots are deleted ("men's" → "mens", "S.A." → "sa"), "&" and "+" become "and",
