@@ -295,3 +295,16 @@ def test_text_over_the_parser_limit_is_named_after_the_records_before_it(tmp_pat
     assert len(read) == 3
     assert info.value.line == 5
     assert info.value.hint and "shorten" in info.value.hint
+
+
+def test_given_record_path_in_xml_broken_before_its_first_record_names_the_break(
+    tmp_path: Path,
+) -> None:
+    # No <product> closed before the break, so the scan found none: the break is the error,
+    # with its line, not "no element matches".
+    path = tmp_path / "early.xml"
+    path.write_text('<catalog>\n<product id="1"><title>Lamp</titel></product>\n</catalog>\n')
+    with pytest.raises(FeedFormatError, match="XML is broken") as info:
+        open_feed(path, record_path="product")
+    assert info.value.path == str(path)
+    assert info.value.line == 2
