@@ -295,3 +295,109 @@ def test_text_over_the_parser_limit_is_named_after_the_records_before_it(tmp_pat
     assert len(read) == 3
     assert info.value.line == 5
     assert info.value.hint and "shorten" in info.value.hint
+
+
+def test_given_record_path_in_xml_broken_before_its_first_record_names_the_break(
+    tmp_path: Path,
+) -> None:
+    # No <product> closed before the break, so the scan found none: the break is the error,
+    # with its line, not "no element matches".
+    path = tmp_path / "early.xml"
+    path.write_text('<catalog>\n<product id="1"><title>Lamp</titel></product>\n</catalog>\n')
+    with pytest.raises(FeedFormatError, match="XML is broken") as info:
+        open_feed(path, record_path="product")
+    assert info.value.path == str(path)
+    assert info.value.line == 2
+
+
+def _numbered_feed(count: int) -> bytes:
+    records = "".join(
+        f'  <product id="C-{n}"><title>Item {n}</title><price currency="EUR">{n}.50</price>'
+        "</product>\n"
+        for n in range(1, count + 1)
+    )
+    return f'<?xml version="1.0" encoding="UTF-8"?>\n<catalog>\n{records}</catalog>\n'.encode()
+
+
+def _read_to_the_break(path: Path) -> tuple[list[str], FeedFormatError | None]:
+    """The ids read before the feed stopped, and the error that stopped it (None: none)."""
+    ids: list[str] = []
+    try:
+        for record in open_feed(path, record_path="product"):
+            assert isinstance(record, SourceRecord)
+            ids.append(record.fields["@id"])
+    except FeedFormatError as exc:
+        return ids, exc
+    return ids, None
+
+
+# None: the reader's own chunk size; 7 bytes puts a chunk boundary inside every tag.
+CHUNKS = [None, 7]
+
+
+@pytest.mark.parametrize("chunk", CHUNKS, ids=lambda c: f"chunk-{c or 'default'}")
+def test_a_feed_cut_anywhere_keeps_exactly_the_records_closed_before_the_cut(
+    tmp_path: Path, monkeypatch: pytest.MonkeyPatch, chunk: int | None
+) -> None:
+    # A record counts only once its end tag is in the file: a cut record is never completed by
+    # the parser and handed over, and none closed before the cut is lost.
+    if chunk:
+        monkeypatch.setattr("catmap.feeds.xml.CHUNK_SIZE", chunk)
+    whole = _numbered_feed(4)
+    closes = []
+    start = 0
+    while (found := whole.find(b"</product>", start)) >= 0:
+        start = found + len(b"</product>")
+        closes.append(start)
+    complete = whole.index(b"</catalog>") + len(b"</catalog>")
+    path = tmp_path / "cut.xml"
+    for cut in range(whole.index(b"<product"), len(whole) + 1):
+        path.write_bytes(whole[:cut])
+        ids, error = _read_to_the_break(path)
+        expected = [f"C-{n}" for n, end in enumerate(closes, 1) if end <= cut]
+        assert ids == expected, f"cut at byte {cut}"
+        if cut < complete:
+            assert error is not None, f"cut at byte {cut}"
+            assert error.path == str(path)
+            assert error.line == whole[:cut].count(b"\n") + 1, f"cut at byte {cut}"
+        else:
+            assert error is None, f"cut at byte {cut}"
+
+
+@pytest.mark.parametrize("chunk", CHUNKS, ids=lambda c: f"chunk-{c or 'default'}")
+@pytest.mark.parametrize("good", [0, 1, 700, 1299, 2000])
+def test_a_break_after_many_records_keeps_every_record_before_it(
+    tmp_path: Path, monkeypatch: pytest.MonkeyPatch, chunk: int | None, good: int
+) -> None:
+    # 2,000 records of about 100 bytes: the break falls in any chunk, with records closed
+    # just before it in the same chunk.
+    if chunk:
+        monkeypatch.setattr("catmap.feeds.xml.CHUNK_SIZE", chunk)
+    lines = _numbered_feed(2001).decode().splitlines(keepends=True)
+    broken = 2 + good  # the declaration and <catalog> come first
+    lines[broken] = lines[broken].replace("</title>", "</titel>")
+    path = tmp_path / "broken.xml"
+    path.write_text("".join(lines))
+    ids, error = _read_to_the_break(path)
+    assert ids == [f"C-{n}" for n in range(1, good + 1)]
+    assert error is not None and error.path == str(path)
+    assert error.line == broken + 1
+    assert "mismatch" in error.message
+    assert error.hint and f"{good} records before it were read" in error.hint
+
+
+@pytest.mark.parametrize("encoding", ["utf-8", "utf-16"])
+@pytest.mark.parametrize("chunk", [1, 3, 7])
+def test_chunk_boundaries_inside_characters_change_nothing(
+    tmp_path: Path, monkeypatch: pytest.MonkeyPatch, encoding: str, chunk: int
+) -> None:
+    path = tmp_path / f"{encoding}.xml"
+    titles = ["Crème brûlée dish", "Théière 1,2 l", "茶碗 blue glaze", "Ørnefjær lamp"]
+    records = "".join(
+        f'<product id="E-{n}"><title>{title}</title></product>\n' for n, title in enumerate(titles)
+    )
+    declaration = f'<?xml version="1.0" encoding="{encoding.upper()}"?>'
+    path.write_bytes(f"{declaration}\n<catalog>\n{records}</catalog>\n".encode(encoding))
+    monkeypatch.setattr("catmap.feeds.xml.CHUNK_SIZE", chunk)
+    read = [(r.fields["@id"], r.fields["title"], r.line) for r in _records(path)]
+    assert read == [(f"E-{n}", title, n + 3) for n, title in enumerate(titles)]

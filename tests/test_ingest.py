@@ -397,9 +397,12 @@ def test_real_xml_feed_broken_after_good_records(tmp_path: Path) -> None:
     accounting = Accounting()
     with pytest.raises(FATAL_FEED_ERRORS):
         normalize_feed_to(open_feed(feed_path), profile, tmp_path / "out", accounting=accounting)
-    assert accounting.kept >= 1000
+    # Every record before the break is kept, the last ones parsed just before it included.
+    assert accounting.kept == 1000
     assert accounting.balanced
     assert accounting.stopped_early
+    assert accounting.stopped_early.startswith(f"{feed_path}:1003: the XML is broken")
+    assert "1000 records before it were read" in accounting.stopped_early
     written = (tmp_path / "out" / "products.jsonl").read_text(encoding="utf-8").splitlines()
     assert len(written) == accounting.kept
 

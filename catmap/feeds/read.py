@@ -279,7 +279,13 @@ def _open_xml(text: str, complete: bool, common: dict[str, Any], record_path: st
             common = {**common, "encoding": named}
     counts, parents, namespaces, error = xml.scan(path, xml_encoding)
     if record_path:
-        chosen = xml.resolve_record_path(record_path, counts, path)
+        try:
+            chosen = xml.resolve_record_path(record_path, counts, path)
+        except FeedFormatError:
+            if error is not None:
+                # The XML broke before any such element closed: the break is the news.
+                raise error from None
+            raise
     else:
         found = xml.choose_record_path(counts, parents)
         if found is None:

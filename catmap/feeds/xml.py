@@ -1,8 +1,9 @@
 """Read XML feeds as a stream of records, one per repeating record element.
 
-lxml's ``iterparse`` runs over the decompressed bytes with entity resolution, DTD loading and
-network access off; a DOCTYPE that declares entities is refused before parsing (entity
-expansion bombs, external entities). Each record element is flattened into fields:
+lxml's pull parser is fed the decompressed bytes a chunk at a time, with entity resolution, DTD
+loading and network access off; a DOCTYPE that declares entities is refused before parsing
+(entity expansion bombs, external entities). A parse error is raised only after every record
+the parser closed before it (see :func:`_events`). Each record element is flattened into fields:
 
 * child elements by local name; a prefixed child keeps its prefix ("ext:colour");
 * nested children dotted ("shipping.price"); attributes as "@name" ("@id", "price.@currency");
@@ -21,7 +22,7 @@ import re
 from collections import Counter
 from collections.abc import Iterator
 from pathlib import Path
-from typing import TYPE_CHECKING, Any
+from typing import IO, TYPE_CHECKING, Any
 
 from catmap.errors import FeedFormatError, UnsafeFeedError
 from catmap.feeds._compression import open_binary
@@ -31,6 +32,9 @@ if TYPE_CHECKING:
     from lxml import etree
 
 SCAN_ELEMENTS = 2000
+# Bytes handed to the parser at a time; its events are taken after each chunk, so the events
+# waiting at any moment are those of one chunk.
+CHUNK_SIZE = 64 * 1024
 JOIN = " | "
 _PARSER_OPTIONS: dict[str, Any] = {
     "resolve_entities": False,
@@ -149,7 +153,7 @@ def _syntax_error(exc: etree.XMLSyntaxError, path: str | Path, read: int | None)
     counted, while scanning)."""
     line, column = exc.position if exc.position else (exc.lineno, 0)
     message = exc.msg or str(exc)
-    # iterparse can end with a vague "no element found" at line 0 while libxml2's log holds
+    # The parser can end with a vague "no element found" at line 0 while libxml2's log holds
     # the error that stopped it, with its line and column: the log's last fatal entry (the log
     # belongs to the thread and may still hold errors of earlier parses).
     fatal = [entry for entry in exc.error_log if entry.level_name == "FATAL"]
@@ -205,6 +209,55 @@ def lxml_encoding(encoding: str | None) -> str | None:
     return _LIBXML_NAMES.get(name, encoding)
 
 
+def _events(
+    stream: IO[bytes],
+    path: str | Path,
+    encoding: str | None,
+    events: tuple[str, ...],
+    tag: tuple[str, ...] | None = None,
+) -> Iterator[tuple[str, Any]]:
+    """Parse ``stream`` with a pull parser, yielding its events a chunk at a time.
+
+    A parse error is raised after every event the parser completed before it, those of the
+    chunk that holds the error included (lxml's own ``iterparse`` drops these in some
+    versions: the records closed in the last chunk before a late error were lost). The
+    elements stay usable after the error: the parser frees no tree it handed out, and with
+    entities never expanded it takes no part of the tree back.
+
+    Args:
+        stream: the decompressed bytes (not closed here).
+        path: the feed, for the parser's messages.
+        encoding: an encoding to impose (lxml's name), or None.
+        events: the events to report ("start", "end", "start-ns").
+        tag: report only elements with one of these tags.
+
+    Raises:
+        etree.XMLSyntaxError: the XML breaks (after the events before the break).
+        LookupError: the parser does not know the encoding imposed.
+    """
+    from lxml import etree  # only an XML feed needs lxml
+
+    parser = etree.XMLPullParser(
+        events=events, tag=tag, base_url=str(path), encoding=encoding, **_PARSER_OPTIONS
+    )
+    pending = parser.read_events()
+    error: etree.XMLSyntaxError | None = None
+    try:
+        while data := stream.read(CHUNK_SIZE):
+            parser.feed(data)
+            yield from pending
+    except etree.XMLSyntaxError as exc:
+        error = exc
+    if error is not None:
+        yield from pending  # what the parser completed before the error
+        raise error
+    # Every complete tag is parsed as it is fed, so closing finishes no record. When the bytes
+    # end too soon, the parser ends the elements still open itself and reports those ends too
+    # (some versions do): raising here before reading them keeps a cut record out.
+    parser.close()
+    yield from pending
+
+
 def scan(
     path: str | Path, encoding: str | None
 ) -> tuple[Counter[str], dict[str, set[str]], dict[str, str], FeedFormatError | None]:
@@ -226,12 +279,7 @@ def scan(
 
     stream, _ = open_binary(path)
     try:
-        events = etree.iterparse(
-            stream,
-            events=("start-ns", "start", "end"),
-            encoding=lxml_encoding(encoding),
-            **_PARSER_OPTIONS,
-        )
+        events = _events(stream, path, lxml_encoding(encoding), ("start-ns", "start", "end"))
         for event, item in events:
             if event == "start-ns":
                 prefix, uri = item
@@ -428,13 +476,7 @@ def iter_xml(
 
     stream, _ = open_binary(path)
     try:
-        events = etree.iterparse(
-            stream,
-            events=("end",),
-            tag=("{*}" + local, local),
-            encoding=lxml_encoding(encoding),
-            **_PARSER_OPTIONS,
-        )
+        events = _events(stream, path, lxml_encoding(encoding), ("end",), ("{*}" + local, local))
         # Records share their parent: its path is checked once per parent, not per record.
         last_parent: Any = _NO_PARENT
         parent_matches = False
