@@ -195,7 +195,16 @@ SPLIT_CASES = [
 ]
 
 
-@pytest.mark.parametrize("texts", [SPLIT_CASES, [*SPLIT_CASES, "a\x00b", "\x00"], []])
+# Lower-cased code point by code point (no final sigma, no dotted capital I in the batch).
+CASED_CASES = [
+    "ÉCOLE Ünïcode ÀÖØÞ ΑΒΓ Привет ԱԲ",
+    "\U00010400\U00010427 deseret \U0001e900 adlam \U0001f525FIRE",
+    "ǅ ǈ ẞ Ω K Å",  # title-case letters, and capitals whose lower case is elsewhere
+    "MiXeD\u3000Case\u00a0ТЕКСТ",
+]
+
+
+@pytest.mark.parametrize("texts", [SPLIT_CASES, [*SPLIT_CASES, "a\x00b", "\x00"], [], CASED_CASES])
 def test_word_index_cuts_like_str_split(texts: list[str]) -> None:
     index = _WordIndex(max_words=7)  # small: restarts along the way
     for batch in (texts, texts[::-1], texts):
@@ -206,6 +215,28 @@ def test_word_index_cuts_like_str_split(texts: list[str]) -> None:
         ]
         # reference: Python's own str.lower and str.split
         assert got == [text.lower().split() for text in batch]
+
+
+def test_lower_case_table_lowers_as_str_lower_and_nothing_past_it_has_a_lower_case() -> None:
+    table = _wordcache._lower_cases()
+    special = {ord(c) for c in _wordcache._CONTEXT_LOWER}
+    # reference: Python's own str.lower, code point by code point
+    assert all(table[c] == ord(chr(c).lower()) for c in range(len(table)) if c not in special)
+    assert all(chr(c).lower() == chr(c) for c in range(len(table), 0x110000))
+
+
+def test_words_of_a_split_read_back_as_the_strings_numbered() -> None:
+    index = _WordIndex()
+    split = index.split(["Alpha beta \U0001f525", "beta GAMMA"])
+    words = split.words
+    # reference: the texts lower-cased and cut by Python, numbered in order of first sight
+    expected = list(dict.fromkeys(" ".join(["alpha beta \U0001f525", "beta gamma"]).split()))
+    assert len(words) == split.n_words == len(expected)
+    assert [words[i] for i in range(len(words))] == expected
+    assert words[-1] == expected[-1] and words[1:] == expected[1:]
+    assert words.all() == expected
+    with pytest.raises(IndexError):
+        words[len(expected)]
 
 
 def test_a_cache_sent_to_another_process_starts_empty_and_stays_exact() -> None:

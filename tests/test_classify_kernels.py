@@ -20,6 +20,7 @@ from catmap.classify._kernels import (
     hash_table,
     idf_l2_rows,
     index_words,
+    lower_codes,
     mix_keys,
     ngram_table,
     pack_rows,
@@ -36,6 +37,7 @@ from catmap.classify._wordcache import (
     _IS_SPACE,
     WordCachedTfidf,
     _code_points,
+    _lower_cases,
     _word_characters,
 )
 
@@ -243,6 +245,16 @@ def test_index_words_numbers_words_as_a_dictionary_and_grows_its_arrays() -> Non
         known = total
     stored, _ = gather_strings(store_codes, store_offsets, np.arange(known))
     assert stored.tobytes().decode("utf-32-le") == "".join(words)
+
+
+def test_lower_codes_lower_case_as_str_lower() -> None:
+    text = "ÉCOLE Ünïcode ΑΒΓ Привет \U00010400\U0001f525 MiXeD \U00020000 ǅ ẞ"
+    codes = np.frombuffer(text.encode("utf-32-le"), dtype=np.uint32)
+    got = lower_codes(codes, _lower_cases()).tobytes().decode("utf-32-le")
+    # reference: Python's own str.lower
+    assert got == text.lower()
+    short = np.array([ord("A"), ord("B")], dtype=np.uint32)  # a table covering only "A"
+    assert lower_codes(short, _lower_cases()[: ord("A") + 1]).tolist() == [ord("a"), ord("B")]
 
 
 def test_gather_strings_picks_the_strings_in_the_order_asked() -> None:

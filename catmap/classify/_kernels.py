@@ -2,8 +2,9 @@
 
 Mapping a chunk of products does a few kinds of work again and again:
 
-* cutting texts into words and numbering them, new words added on the way
-  (:func:`index_words`), and cutting new words into tokens (:func:`word_tokens`);
+* lower-casing texts (:func:`lower_codes`), cutting them into words and numbering them, new
+  words added on the way (:func:`index_words`), and cutting new words into tokens
+  (:func:`word_tokens`);
 * cutting new title words into character n-grams and finding them in the vocabulary
   (:func:`char_wb_rows` on an :func:`ngram_table` of packed keys; :func:`char_wb_features`
   with :func:`string_hashes` and :func:`hash_table` for longer n-grams);
@@ -44,6 +45,7 @@ __all__ = [
     "hash_table",
     "idf_l2_rows",
     "index_words",
+    "lower_codes",
     "mix_keys",
     "ngram_table",
     "pack_rows",
@@ -675,6 +677,22 @@ def _index_run(
         m += 1
     state[0], state[1], state[2], state[3] = p, text, m, total
     return True
+
+
+@njit(cache=True, nogil=True)
+def lower_codes(codes: Array, lower: Array) -> Array:
+    """Return the code points lower-cased one by one by a table (those past it stay as they are).
+
+    Args:
+        codes: uint32 code points.
+        lower: the lower case of each code point below its length (uint32).
+    """
+    out = np.empty(len(codes), dtype=np.uint32)
+    n_lower = len(lower)
+    for p in range(len(codes)):
+        code = codes[p]
+        out[p] = lower[code] if code < n_lower else code
+    return out
 
 
 @njit(cache=True, nogil=True)
