@@ -300,3 +300,26 @@ def test_count_rows_grow_as_the_stacked_rows() -> None:
     assert np.array_equal(rows.indices, stacked.indices)
     assert np.array_equal(rows.data, stacked.data)
     assert np.array_equal(rows.entry_idf, idf[stacked.indices])
+
+
+def test_count_rows_idf_filled_by_a_caller_reads_as_the_looked_up_idf() -> None:
+    import scipy.sparse as sp
+
+    idf = np.linspace(1.0, 3.0, 50)
+    rows = _wordcache.CountRows(idf)
+    first = sp.random(4, 50, density=0.2, format="csr", dtype=np.float32, rng=1)
+    rows.append(first.data, first.indices, first.indptr)
+    assert len(rows.entry_idf) == first.nnz  # the first rows looked up on reading
+    empty = sp.csr_matrix((2, 50), dtype=np.float32)  # rows without entries start the batch
+    later = sp.random(30, 50, density=0.2, format="csr", dtype=np.float32, rng=2)
+    for part in (empty, later):
+        rows.append(part.data, part.indices, part.indptr)
+    room, unfilled = rows.idf_to_fill()
+    # the first row with entries whose idf is missing: the first of ``later``
+    assert unfilled == 4 + 2 + int(np.flatnonzero(np.diff(later.indptr))[0])
+    assert len(room) >= rows.nnz
+    room[first.nnz : rows.nnz] = idf[later.indices]  # what a caller looking them up writes
+    rows.idf_filled()
+    stacked = sp.vstack([first, empty, later], format="csr")
+    # reference: NumPy's indexing of the idf by each entry's column
+    assert np.array_equal(rows.entry_idf, idf[stacked.indices])

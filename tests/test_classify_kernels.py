@@ -13,6 +13,7 @@ from sklearn.feature_extraction.text import TfidfTransformer, TfidfVectorizer
 from sklearn.preprocessing import normalize
 
 from catmap.classify._kernels import (
+    _score_new_words_wide,
     add_rows,
     char_wb_rows,
     dense_rows,
@@ -316,7 +317,8 @@ def test_word_tokens_cut_and_number_tokens_as_the_pattern_and_a_dictionary(
     }
 
 
-def test_new_words_scores_equal_scoring_their_rows_by_column_bit_for_bit() -> None:
+@pytest.mark.parametrize("wide", [False, True])
+def test_new_words_scores_equal_scoring_their_rows_by_column_bit_for_bit(wide: bool) -> None:
     rows = _random_csr(60, 200, 0.08, 20)
     rows.sort_indices()
     idf = np.random.default_rng(21).uniform(1.0, 4.0, size=200)
@@ -325,18 +327,19 @@ def test_new_words_scores_equal_scoring_their_rows_by_column_bit_for_bit() -> No
     need = np.array([0, 3, 4, 17, 59], dtype=np.int64)
     scores = np.full((60, 7), 9.0, dtype=np.float32)
     ready = np.zeros(60, dtype=np.uint8)
-    score_new_words(
-        need,
-        rows.indptr.astype(np.int64),
-        rows.indices,
-        rows.data,
-        idf,
-        row_of,
-        block,
-        3,
-        scores,
-        ready,
-    )
+    entry_idf = np.full(rows.nnz, -1.0)
+    x = (need, rows.indptr.astype(np.int64), rows.indices, rows.data, idf, row_of, block, 3)
+    if wide:  # the 64-bit steps, taken past 2**31 entries
+        _score_new_words_wide(*x, scores, entry_idf)
+        ready[need] = 1
+    else:
+        score_new_words(*x, scores, ready, entry_idf)
+    # reference: NumPy's indexing for the entries' idf (the scored words' only)
+    scored = np.zeros(rows.nnz, dtype=bool)
+    for i in need:
+        scored[rows.indptr[i] : rows.indptr[i + 1]] = True
+    assert np.array_equal(entry_idf[scored], idf[rows.indices[scored]])
+    assert (entry_idf[~scored] == -1.0).all()
     # reference: the words' idf-weighted rows scored by score_columns_dense (feature by
     # feature), and a plain SciPy product
     counts = rows[need]

@@ -412,12 +412,15 @@ def score_new_words(
     offset: int,
     word_scores: Array,
     word_ready: Array,
+    c_idf: Array,
 ) -> None:
     """Make the rows of ``word_scores`` of some words: each word's ``W (c_w · idf)``.
 
     Feature by feature, each weight row fetched once for all the words holding the feature,
     as :func:`score_columns_dense` scores the words' ``c_w · idf`` rows (the same sums, in the
-    same order), then marks the words ready.
+    same order), then marks the words ready. On the way, the idf of each of the words' entries
+    is written beside it (``c_idf``, read by :func:`score_words_dense`), from the look-up the
+    scores need anyway.
 
     Args:
         words: the cached-word numbers to score, in increasing order, each once.
@@ -425,10 +428,71 @@ def score_new_words(
         idf: the idf of each of the block's features (float64).
         row_of, block, offset: as in :func:`score_words_dense`.
         word_scores, word_ready: as in :func:`score_words_dense`.
+        c_idf: float64, room for every entry of the count rows: the words' entries' idf is
+            written here.
     """
     k = block.shape[1]
     n_features = len(idf)
     # The words' entries grouped by feature (a counting sort), words in order within each.
+    # 32-bit positions and word numbers: half the memory of 64-bit ones, written at random.
+    n_entries = 0
+    for i in range(len(words)):
+        n_entries += c_indptr[words[i] + 1] - c_indptr[words[i]]
+    wide = n_entries >= 2**31 or len(word_scores) >= 2**31
+    start = np.zeros(n_features + 1 if not wide else 0, dtype=np.int32)
+    if wide:  # never in practice (a cache holds far fewer): the same steps in 64 bits
+        _score_new_words_wide(
+            words, c_indptr, c_indices, c_data, idf, row_of, block, offset, word_scores, c_idf
+        )
+    else:
+        for i in range(len(words)):
+            w = words[i]
+            for p in range(c_indptr[w], c_indptr[w + 1]):
+                start[c_indices[p] + 1] += 1
+        for f in range(n_features):
+            start[f + 1] += start[f]
+        fill = start[:-1].copy()
+        owner = np.empty(n_entries, dtype=np.int32)
+        value = np.empty(n_entries, dtype=np.float32)
+        for i in range(len(words)):
+            w = words[i]
+            word_scores[w, :] = 0.0
+            for p in range(c_indptr[w], c_indptr[w + 1]):
+                f = c_indices[p]
+                q = fill[f]
+                owner[q] = w
+                c_idf[p] = idf[f]
+                value[q] = np.float32(c_data[p] * idf[f])
+                fill[f] = q + 1
+        for f in range(n_features):
+            r = row_of[f + offset]
+            if r < 0:
+                continue
+            for q in range(start[f], start[f + 1]):
+                w = owner[q]
+                v = value[q]
+                for c in range(k):
+                    word_scores[w, c] += v * block[r, c]
+    for i in range(len(words)):
+        word_ready[words[i]] = 1
+
+
+@njit(cache=True, nogil=True, fastmath=True)
+def _score_new_words_wide(
+    words: Array,
+    c_indptr: Array,
+    c_indices: Array,
+    c_data: Array,
+    idf: Array,
+    row_of: Array,
+    block: Array,
+    offset: int,
+    word_scores: Array,
+    c_idf: Array,
+) -> None:
+    """:func:`score_new_words`'s scores with 64-bit positions (past 2**31 entries or words)."""
+    k = block.shape[1]
+    n_features = len(idf)
     start = np.zeros(n_features + 1, dtype=np.int64)
     for i in range(len(words)):
         w = words[i]
@@ -445,6 +509,7 @@ def score_new_words(
         for p in range(c_indptr[w], c_indptr[w + 1]):
             f = c_indices[p]
             owner[fill[f]] = w
+            c_idf[p] = idf[f]
             value[fill[f]] = np.float32(c_data[p] * idf[f])
             fill[f] += 1
     for f in range(n_features):
@@ -456,8 +521,6 @@ def score_new_words(
             v = value[q]
             for c in range(k):
                 word_scores[w, c] += v * block[r, c]
-    for i in range(len(words)):
-        word_ready[words[i]] = 1
 
 
 # 64-bit FNV-1a over code points: a fast first test; every hit is confirmed character by character.

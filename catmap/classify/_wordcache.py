@@ -416,7 +416,8 @@ class CountRows:
 
     Appending a batch's new words copies only them (the arrays double when full; the first
     rows are taken as they are), and the idf of each entry's n-gram is looked up once, on the
-    first read of :attr:`entry_idf` after the entry was added.
+    first read of :attr:`entry_idf` after the entry was added (or by a caller that looks it up
+    anyway, see :meth:`idf_to_fill`).
 
     Attributes:
         indptr: row i is entries ``indptr[i]:indptr[i + 1]`` (int64).
@@ -469,13 +470,30 @@ class CountRows:
     def data(self) -> Array:
         return self._data[: self.nnz]
 
+    def idf_to_fill(self) -> tuple[Array, int]:
+        """Return the entries' idf array (room for every entry) and the first row not filled in.
+
+        For a caller that looks the idf of new rows' entries up anyway: once it has filled in
+        every row from that one on, it calls :meth:`idf_filled`.
+        """
+        self._idf_room()
+        first = int(np.searchsorted(self.indptr, self._with_idf, side="right")) - 1
+        return self._entry_idf, first
+
+    def idf_filled(self) -> None:
+        """Record that the idf of every entry is filled in (see :meth:`idf_to_fill`)."""
+        self._with_idf = self.nnz
+
+    def _idf_room(self) -> None:
+        if len(self._entry_idf) < self.nnz:
+            self._entry_idf = _extended(
+                self._entry_idf, max(len(self._indices), 2 * len(self._entry_idf))
+            )
+
     @property
     def entry_idf(self) -> Array:
         if self._with_idf < self.nnz:
-            if len(self._entry_idf) < self.nnz:
-                self._entry_idf = _extended(
-                    self._entry_idf, max(len(self._indices), 2 * len(self._entry_idf))
-                )
+            self._idf_room()
             done = self._with_idf
             self._entry_idf[done : self.nnz] = self.idf[self._indices[done : self.nnz]]
             self._with_idf = self.nnz
