@@ -225,6 +225,16 @@ def test_lower_case_table_lowers_as_str_lower_and_nothing_past_it_has_a_lower_ca
     assert all(chr(c).lower() == chr(c) for c in range(len(table), 0x110000))
 
 
+@pytest.mark.parametrize(
+    "text", ["", "a", "ab\x00", "\x00\x00", "\ud800 lone\udfff", "é\U0001f525\x00z", "\x00a"]
+)
+def test_code_array_holds_the_strings_code_points(text: str) -> None:
+    codes = _wordcache._code_array(text)
+    # reference: Python's own ord of each character
+    assert codes.tolist() == [ord(c) for c in text]
+    assert codes.dtype == np.uint32 and codes.flags.writeable
+
+
 def test_words_of_a_split_read_back_as_the_strings_numbered() -> None:
     index = _WordIndex()
     split = index.split(["Alpha beta \U0001f525", "beta GAMMA"])

@@ -743,19 +743,18 @@ def _index_run(
 
 
 @njit(cache=True, nogil=True)
-def lower_codes(codes: Array, lower: Array) -> Array:
-    """Return the code points lower-cased one by one by a table (those past it stay as they are).
+def lower_codes(codes: Array, lower: Array) -> None:
+    """Lower-case code points in place, one by one, by a table (those past it stay as they are).
 
     Args:
-        codes: uint32 code points.
+        codes: uint32 code points (changed in place).
         lower: the lower case of each code point below its length (uint32).
     """
-    out = np.empty(len(codes), dtype=np.uint32)
     n_lower = len(lower)
     for p in range(len(codes)):
         code = codes[p]
-        out[p] = lower[code] if code < n_lower else code
-    return out
+        if code < n_lower:
+            codes[p] = lower[code]
 
 
 @njit(cache=True, nogil=True)

@@ -207,16 +207,12 @@ class _WordIndex:
         if any(special in joined for special in _CONTEXT_LOWER):
             # Lower-cased as a whole: the same as text by text, the separator ending each
             # context.
-            codes = np.frombuffer(
-                joined.lower().encode("utf-32-le", "surrogatepass"), dtype=np.uint32
-            )
+            codes = _code_array(joined.lower())
         else:
             # Code point by code point, by compiled code: str.lower() takes its slow path on
             # any text not all ASCII.
-            codes = lower_codes(
-                np.frombuffer(joined.encode("utf-32-le", "surrogatepass"), dtype=np.uint32),
-                _lower_cases(),
-            )
+            codes = _code_array(joined)
+            lower_codes(codes, _lower_cases())
         known = self.n_words
         # New words are numbered and added to the table by the compiled loop itself.
         (
@@ -327,6 +323,20 @@ def _extended(array: Array, size: int) -> Array:
     out = np.zeros(size, dtype=array.dtype)
     out[: len(array)] = array
     return out
+
+
+def _code_array(text: str) -> Array:
+    """Return the code points of a string as a new, writable uint32 array.
+
+    NumPy copies a string's code points straight into its array (a lone surrogate, from a
+    badly decoded feed, too): one copy, where encoding to UTF-32 first made two.
+    """
+    if not text:
+        return np.zeros(0, dtype=np.uint32)
+    codes = np.array(text).reshape(1).view(np.uint32)
+    if len(codes) != len(text):  # not expected: the array's width is the string's length
+        return np.frombuffer(text.encode("utf-32-le", "surrogatepass"), dtype=np.uint32).copy()
+    return codes
 
 
 def _code_points(strings: Sequence[str]) -> tuple[Array, Array]:
