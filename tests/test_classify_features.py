@@ -219,10 +219,23 @@ def test_word_index_cuts_like_str_split(texts: list[str]) -> None:
 
 def test_lower_case_table_lowers_as_str_lower_and_nothing_past_it_has_a_lower_case() -> None:
     table = _wordcache._lower_cases()
+    assert table is not None
     special = {ord(c) for c in _wordcache._CONTEXT_LOWER}
     # reference: Python's own str.lower, code point by code point
     assert all(table[c] == ord(chr(c).lower()) for c in range(len(table)) if c not in special)
     assert all(chr(c).lower() == chr(c) for c in range(len(table), 0x110000))
+
+
+def test_word_index_lowers_by_python_when_there_is_no_table() -> None:
+    index = _WordIndex()
+    with patch.object(_wordcache, "_LOWER", [None]):
+        split = index.split(CASED_CASES)
+    got = [
+        [split.words[n] for n in split.numbers[a:b]]
+        for a, b in zip(split.indptr[:-1], split.indptr[1:], strict=True)
+    ]
+    # reference: Python's own str.lower and str.split
+    assert got == [text.lower().split() for text in CASED_CASES]
 
 
 @pytest.mark.parametrize(

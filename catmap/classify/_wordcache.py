@@ -151,7 +151,7 @@ _CASED_BELOW = 0x20000
 # (a final capital sigma; a dotted capital I becomes two code points): such texts are
 # lower-cased by Python.
 _CONTEXT_LOWER = ("\u03a3", "\u0130")
-_LOWER: list[Array] = []
+_LOWER: list[Array | None] = []
 
 
 def _word_characters() -> Array:
@@ -164,15 +164,20 @@ def _word_characters() -> Array:
     return _IS_WORD[0]
 
 
-def _lower_cases() -> Array:
+def _lower_cases() -> Array | None:
     """The lower case of each code point below :data:`_CASED_BELOW`, as ``str.lower()`` makes
-    it of the code point alone (made once; see :data:`_CONTEXT_LOWER` for the exceptions)."""
+    it of the code point alone (made once; see :data:`_CONTEXT_LOWER` for the exceptions), or
+    None when some code point's lower case is longer than one."""
     if not _LOWER:
-        every = "".join(map(chr, range(_CASED_BELOW)))
+        # Every code point as one string, made from an array (a few ms; chr by chr, 15 more).
+        every = np.arange(_CASED_BELOW, dtype=np.uint32).tobytes()
+        text = every.decode("utf-32-le", "surrogatepass")
         for special in _CONTEXT_LOWER:
-            every = every.replace(special, "\x00")
-        lowered = every.lower().encode("utf-32-le", "surrogatepass")
-        _LOWER.append(np.frombuffer(lowered, dtype=np.uint32).copy())
+            text = text.replace(special, "\x00")
+        lowered = _code_array(text.lower())
+        # Another code point lower-cased to two (a later Unicode version) would shift the rest:
+        # then no table, and texts are lower-cased by Python.
+        _LOWER.append(lowered if len(lowered) == _CASED_BELOW else None)
     return _LOWER[0]
 
 
@@ -204,7 +209,8 @@ class _WordIndex:
         if joined.count(_SEPARATOR) != max(len(texts) - 1, 0):
             # A text holding the separator itself (a damaged feed): cut in Python.
             return self._split_in_python(texts)
-        if any(special in joined for special in _CONTEXT_LOWER):
+        table = _lower_cases()
+        if table is None or any(special in joined for special in _CONTEXT_LOWER):
             # Lower-cased as a whole: the same as text by text, the separator ending each
             # context.
             codes = _code_array(joined.lower())
@@ -212,7 +218,7 @@ class _WordIndex:
             # Code point by code point, by compiled code: str.lower() takes its slow path on
             # any text not all ASCII.
             codes = _code_array(joined)
-            lower_codes(codes, _lower_cases())
+            lower_codes(codes, table)
         known = self.n_words
         # New words are numbered and added to the table by the compiled loop itself.
         (
