@@ -25,6 +25,7 @@ from catmap.classify._kernels import (
     mix_keys,
     ngram_table,
     pack_rows,
+    pair_table,
     score_columns_dense,
     score_new_words,
     score_rows,
@@ -365,6 +366,25 @@ def test_new_words_scores_equal_scoring_their_rows_by_column_bit_for_bit(wide: b
     assert (scores[1] == 9.0).all()  # other words untouched
 
 
+def test_pair_table_finds_each_key_with_its_feature_as_a_dictionary() -> None:
+    rng = np.random.default_rng(31)
+    keys = np.unique(rng.integers(0, 2**40, size=500)).astype(np.int64)
+    features = rng.permutation(len(keys)).astype(np.int64)
+    table = pair_table(keys, features)
+    size = len(table)
+    assert size & (size - 1) == 0 and 2 * len(keys) <= size
+    # reference: a dict of the keys, and linear probing from each key's mixed hash
+    expected = dict(zip(keys.tolist(), features.tolist(), strict=True))
+    hashes = mix_keys(keys)
+    for key, h in zip(keys.tolist(), hashes.tolist(), strict=True):
+        slot = h & (size - 1)
+        while table[slot, 0] != key:
+            assert table[slot, 0] != -1  # a key is never past a free slot
+            slot = (slot + 1) & (size - 1)
+        assert table[slot, 1] == expected[key]
+    assert int((table[:, 0] != -1).sum()) == len(keys)
+
+
 @pytest.mark.parametrize("bigrams", [True, False])
 def test_token_ngram_counts_count_as_a_dictionary_in_order_of_first_appearance(
     bigrams: bool,
@@ -391,9 +411,7 @@ def test_token_ngram_counts_count_as_a_dictionary_in_order_of_first_appearance(
         tokens,
         unigram,
         bigrams,
-        hash_table(mix_keys(pair_keys)),
-        pair_keys,
-        pair_features,
+        pair_table(pair_keys, pair_features),
     )
     feature_of_pair = dict(zip(pair_list, pair_features.tolist(), strict=True))
     for i in range(len(text_lengths)):

@@ -49,6 +49,7 @@ __all__ = [
     "mix_keys",
     "ngram_table",
     "pack_rows",
+    "pair_table",
     "score_rows",
     "score_words_dense",
     "score_columns_dense",
@@ -992,6 +993,33 @@ def mix_keys(keys: Array) -> Array:
 
 
 @njit(cache=True, nogil=True)
+def pair_table(keys: Array, features: Array) -> Array:
+    """Return an open-addressing table of non-negative int64 keys and their features.
+
+    Each key sits with its feature in one slot, at the first free slot from its hash
+    (:func:`mix_keys`) on: a look-up reads one place, where a table of entry numbers sends it
+    on to the key's and the feature's own arrays (three reads at random in a table of a
+    vocabulary's bigrams, larger than the fastest caches).
+
+    Returns:
+        (slots, 2) int64: each slot's key (-1 when free) and feature; a power-of-two number of
+        slots, at least twice the keys.
+    """
+    size = 16
+    while size < 2 * len(keys):
+        size *= 2
+    table = np.full((size, 2), -1, dtype=np.int64)
+    mask = np.uint64(size - 1)
+    for e in range(len(keys)):
+        slot = np.int64(_mix(keys[e]) & mask)
+        while table[slot, 0] != -1:
+            slot = (slot + 1) & (size - 1)
+        table[slot, 0] = keys[e]
+        table[slot, 1] = features[e]
+    return table
+
+
+@njit(cache=True, nogil=True)
 def token_ngram_counts(
     groups: Array,
     words: Array,
@@ -1000,9 +1028,7 @@ def token_ngram_counts(
     tokens: Array,
     unigram: Array,
     bigrams: bool,
-    slots: Array,
-    pair_keys: Array,
-    pair_features: Array,
+    pairs: Array,
 ) -> tuple[Array, Array, Array]:
     """Count each text's known unigrams (and bigrams) from its words' cached token numbers.
 
@@ -1014,9 +1040,8 @@ def token_ngram_counts(
         unigram: the feature of each token number (-1: not in the vocabulary); token numbers
             past its end are in no vocabulary term.
         bigrams: count bigrams too (two tokens in a row in the same text).
-        slots: :func:`hash_table` of ``mix_keys(pair_keys)``.
-        pair_keys: ``first << 32 | second`` token numbers of each vocabulary bigram.
-        pair_features: the feature of each vocabulary bigram.
+        pairs: :func:`pair_table` of the vocabulary's bigrams, keyed ``first << 32 | second``
+            by their token numbers.
 
     Returns:
         (data, indices, indptr) of the (texts, vocabulary) float32 count matrix (SciPy's order:
@@ -1043,7 +1068,8 @@ def token_ngram_counts(
     slot_entry = np.empty(size, dtype=np.int64)
     listed = np.empty(max(longest, 1), dtype=np.int64)
     table_mask = size - 1
-    mask = np.uint64(len(slots) - 1)
+    n_pairs = len(pairs)
+    mask = np.uint64(n_pairs - 1)
     known = len(unigram)  # a vocabulary bigram is made of two tokens of the vocabulary
     nnz = 0
     for i in range(n):
@@ -1061,11 +1087,11 @@ def token_ngram_counts(
                     elif bigrams and 0 <= previous < known and token < known:
                         key = (previous << 32) | token
                         slot = np.int64(_mix(key) & mask)
-                        while slots[slot] != -1:
-                            if pair_keys[slots[slot]] == key:
-                                feature = pair_features[slots[slot]]
+                        while pairs[slot, 0] != -1:
+                            if pairs[slot, 0] == key:
+                                feature = pairs[slot, 1]
                                 break
-                            slot = (slot + 1) & (len(slots) - 1)
+                            slot = (slot + 1) & (n_pairs - 1)
                     if feature >= 0:
                         here = (feature * 40503) & table_mask
                         while slot_feature[here] != -1 and slot_feature[here] != feature:

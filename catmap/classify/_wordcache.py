@@ -37,8 +37,8 @@ from catmap.classify._kernels import (
     idf_l2_rows,
     index_words,
     lower_codes,
-    mix_keys,
     ngram_table,
+    pair_table,
     string_hashes,
     sum_rows,
     table_add,
@@ -677,9 +677,9 @@ class WordNgramTfidf(_PerWordCache):
             self._token_table = (shortest, hash_table(hashes), hashes, codes, offsets)
         self._unigram_base = np.full(len(token), -1, dtype=np.int64)
         self._unigram_base[numbers[first[unigrams]]] = features[unigrams]
-        self._pair_keys = (numbers[first[pairs]] << 32) | numbers[first[pairs] + 1]
-        self._pair_features = features[pairs]
-        self._pair_slots = hash_table(mix_keys(self._pair_keys))
+        self._pairs = pair_table(
+            (numbers[first[pairs]] << 32) | numbers[first[pairs] + 1], features[pairs]
+        )
         return True
 
     _DERIVED = ("_token", "_unigram", "_word_start", "_word_length", "_tokens")
@@ -751,9 +751,7 @@ class WordNgramTfidf(_PerWordCache):
             self._tokens,
             self._unigram,
             self._high == 2,
-            self._pair_slots,
-            self._pair_keys,
-            self._pair_features,
+            self._pairs,
         )
         return sp.csr_matrix(counted, shape=(len(texts), len(self._vocabulary)))
 
