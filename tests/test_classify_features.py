@@ -195,7 +195,16 @@ SPLIT_CASES = [
 ]
 
 
-@pytest.mark.parametrize("texts", [SPLIT_CASES, [*SPLIT_CASES, "a\x00b", "\x00"], []])
+# Lower-cased code point by code point (no final sigma, no dotted capital I in the batch).
+CASED_CASES = [
+    "ÉCOLE Ünïcode ÀÖØÞ ΑΒΓ Привет ԱԲ",
+    "\U00010400\U00010427 deseret \U0001e900 adlam \U0001f525FIRE",
+    "ǅ ǈ ẞ Ω K Å",  # title-case letters, and capitals whose lower case is elsewhere
+    "MiXeD\u3000Case\u00a0ТЕКСТ",
+]
+
+
+@pytest.mark.parametrize("texts", [SPLIT_CASES, [*SPLIT_CASES, "a\x00b", "\x00"], [], CASED_CASES])
 def test_word_index_cuts_like_str_split(texts: list[str]) -> None:
     index = _WordIndex(max_words=7)  # small: restarts along the way
     for batch in (texts, texts[::-1], texts):
@@ -206,6 +215,51 @@ def test_word_index_cuts_like_str_split(texts: list[str]) -> None:
         ]
         # reference: Python's own str.lower and str.split
         assert got == [text.lower().split() for text in batch]
+
+
+def test_lower_case_table_lowers_as_str_lower_and_nothing_past_it_has_a_lower_case() -> None:
+    table = _wordcache._lower_cases()
+    assert table is not None
+    special = {ord(c) for c in _wordcache._CONTEXT_LOWER}
+    # reference: Python's own str.lower, code point by code point
+    assert all(table[c] == ord(chr(c).lower()) for c in range(len(table)) if c not in special)
+    assert all(chr(c).lower() == chr(c) for c in range(len(table), 0x110000))
+
+
+def test_word_index_lowers_by_python_when_there_is_no_table() -> None:
+    index = _WordIndex()
+    with patch.object(_wordcache, "_LOWER", [None]):
+        split = index.split(CASED_CASES)
+    got = [
+        [split.words[n] for n in split.numbers[a:b]]
+        for a, b in zip(split.indptr[:-1], split.indptr[1:], strict=True)
+    ]
+    # reference: Python's own str.lower and str.split
+    assert got == [text.lower().split() for text in CASED_CASES]
+
+
+@pytest.mark.parametrize(
+    "text", ["", "a", "ab\x00", "\x00\x00", "\ud800 lone\udfff", "é\U0001f525\x00z", "\x00a"]
+)
+def test_code_array_holds_the_strings_code_points(text: str) -> None:
+    codes = _wordcache._code_array(text)
+    # reference: Python's own ord of each character
+    assert codes.tolist() == [ord(c) for c in text]
+    assert codes.dtype == np.uint32 and codes.flags.writeable
+
+
+def test_words_of_a_split_read_back_as_the_strings_numbered() -> None:
+    index = _WordIndex()
+    split = index.split(["Alpha beta \U0001f525", "beta GAMMA"])
+    words = split.words
+    # reference: the texts lower-cased and cut by Python, numbered in order of first sight
+    expected = list(dict.fromkeys(" ".join(["alpha beta \U0001f525", "beta gamma"]).split()))
+    assert len(words) == split.n_words == len(expected)
+    assert [words[i] for i in range(len(words))] == expected
+    assert words[-1] == expected[-1] and words[1:] == expected[1:]
+    assert words.all() == expected
+    with pytest.raises(IndexError):
+        words[len(expected)]
 
 
 def test_a_cache_sent_to_another_process_starts_empty_and_stays_exact() -> None:
@@ -268,4 +322,27 @@ def test_count_rows_grow_as_the_stacked_rows() -> None:
     assert np.array_equal(rows.indptr, stacked.indptr)
     assert np.array_equal(rows.indices, stacked.indices)
     assert np.array_equal(rows.data, stacked.data)
+    assert np.array_equal(rows.entry_idf, idf[stacked.indices])
+
+
+def test_count_rows_idf_filled_by_a_caller_reads_as_the_looked_up_idf() -> None:
+    import scipy.sparse as sp
+
+    idf = np.linspace(1.0, 3.0, 50)
+    rows = _wordcache.CountRows(idf)
+    first = sp.random(4, 50, density=0.2, format="csr", dtype=np.float32, rng=1)
+    rows.append(first.data, first.indices, first.indptr)
+    assert len(rows.entry_idf) == first.nnz  # the first rows looked up on reading
+    empty = sp.csr_matrix((2, 50), dtype=np.float32)  # rows without entries start the batch
+    later = sp.random(30, 50, density=0.2, format="csr", dtype=np.float32, rng=2)
+    for part in (empty, later):
+        rows.append(part.data, part.indices, part.indptr)
+    room, unfilled = rows.idf_to_fill()
+    # the first row with entries whose idf is missing: the first of ``later``
+    assert unfilled == 4 + 2 + int(np.flatnonzero(np.diff(later.indptr))[0])
+    assert len(room) >= rows.nnz
+    room[first.nnz : rows.nnz] = idf[later.indices]  # what a caller looking them up writes
+    rows.idf_filled()
+    stacked = sp.vstack([first, empty, later], format="csr")
+    # reference: NumPy's indexing of the idf by each entry's column
     assert np.array_equal(rows.entry_idf, idf[stacked.indices])

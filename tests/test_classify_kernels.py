@@ -13,6 +13,7 @@ from sklearn.feature_extraction.text import TfidfTransformer, TfidfVectorizer
 from sklearn.preprocessing import normalize
 
 from catmap.classify._kernels import (
+    _score_new_words_wide,
     add_rows,
     char_wb_rows,
     dense_rows,
@@ -20,9 +21,11 @@ from catmap.classify._kernels import (
     hash_table,
     idf_l2_rows,
     index_words,
+    lower_codes,
     mix_keys,
     ngram_table,
     pack_rows,
+    pair_table,
     score_columns_dense,
     score_new_words,
     score_rows,
@@ -36,6 +39,7 @@ from catmap.classify._wordcache import (
     _IS_SPACE,
     WordCachedTfidf,
     _code_points,
+    _lower_cases,
     _word_characters,
 )
 
@@ -245,6 +249,19 @@ def test_index_words_numbers_words_as_a_dictionary_and_grows_its_arrays() -> Non
     assert stored.tobytes().decode("utf-32-le") == "".join(words)
 
 
+def test_lower_codes_lower_case_as_str_lower() -> None:
+    text = "ÉCOLE Ünïcode ΑΒΓ Привет \U00010400\U0001f525 MiXeD \U00020000 ǅ ẞ"
+    codes = np.frombuffer(text.encode("utf-32-le"), dtype=np.uint32).copy()
+    table = _lower_cases()
+    assert table is not None
+    lower_codes(codes, table)
+    # reference: Python's own str.lower
+    assert codes.tobytes().decode("utf-32-le") == text.lower()
+    short = np.array([ord("A"), ord("B")], dtype=np.uint32)  # a table covering only "A"
+    lower_codes(short, table[: ord("A") + 1])
+    assert short.tolist() == [ord("a"), ord("B")]
+
+
 def test_gather_strings_picks_the_strings_in_the_order_asked() -> None:
     strings = ["", "ab", "\U0001f525c", "d", "éé"]
     codes, offsets = _code_points(strings)
@@ -304,7 +321,8 @@ def test_word_tokens_cut_and_number_tokens_as_the_pattern_and_a_dictionary(
     }
 
 
-def test_new_words_scores_equal_scoring_their_rows_by_column_bit_for_bit() -> None:
+@pytest.mark.parametrize("wide", [False, True])
+def test_new_words_scores_equal_scoring_their_rows_by_column_bit_for_bit(wide: bool) -> None:
     rows = _random_csr(60, 200, 0.08, 20)
     rows.sort_indices()
     idf = np.random.default_rng(21).uniform(1.0, 4.0, size=200)
@@ -313,18 +331,19 @@ def test_new_words_scores_equal_scoring_their_rows_by_column_bit_for_bit() -> No
     need = np.array([0, 3, 4, 17, 59], dtype=np.int64)
     scores = np.full((60, 7), 9.0, dtype=np.float32)
     ready = np.zeros(60, dtype=np.uint8)
-    score_new_words(
-        need,
-        rows.indptr.astype(np.int64),
-        rows.indices,
-        rows.data,
-        idf,
-        row_of,
-        block,
-        3,
-        scores,
-        ready,
-    )
+    entry_idf = np.full(rows.nnz, -1.0)
+    x = (need, rows.indptr.astype(np.int64), rows.indices, rows.data, idf, row_of, block, 3)
+    if wide:  # the 64-bit steps, taken past 2**31 entries
+        _score_new_words_wide(*x, scores, entry_idf)
+        ready[need] = 1
+    else:
+        score_new_words(*x, scores, ready, entry_idf)
+    # reference: NumPy's indexing for the entries' idf (the scored words' only)
+    scored = np.zeros(rows.nnz, dtype=bool)
+    for i in need:
+        scored[rows.indptr[i] : rows.indptr[i + 1]] = True
+    assert np.array_equal(entry_idf[scored], idf[rows.indices[scored]])
+    assert (entry_idf[~scored] == -1.0).all()
     # reference: the words' idf-weighted rows scored by score_columns_dense (feature by
     # feature), and a plain SciPy product
     counts = rows[need]
@@ -345,6 +364,25 @@ def test_new_words_scores_equal_scoring_their_rows_by_column_bit_for_bit() -> No
     assert np.allclose(scores[need], (counts @ w[3:]).toarray(), rtol=1e-5, atol=1e-6)
     assert ready[need].all() and ready.sum() == len(need)
     assert (scores[1] == 9.0).all()  # other words untouched
+
+
+def test_pair_table_finds_each_key_with_its_feature_as_a_dictionary() -> None:
+    rng = np.random.default_rng(31)
+    keys = np.unique(rng.integers(0, 2**40, size=500)).astype(np.int64)
+    features = rng.permutation(len(keys)).astype(np.int64)
+    table = pair_table(keys, features)
+    size = len(table)
+    assert size & (size - 1) == 0 and 2 * len(keys) <= size
+    # reference: a dict of the keys, and linear probing from each key's mixed hash
+    expected = dict(zip(keys.tolist(), features.tolist(), strict=True))
+    hashes = mix_keys(keys)
+    for key, h in zip(keys.tolist(), hashes.tolist(), strict=True):
+        slot = h & (size - 1)
+        while table[slot, 0] != key:
+            assert table[slot, 0] != -1  # a key is never past a free slot
+            slot = (slot + 1) & (size - 1)
+        assert table[slot, 1] == expected[key]
+    assert int((table[:, 0] != -1).sum()) == len(keys)
 
 
 @pytest.mark.parametrize("bigrams", [True, False])
@@ -373,9 +411,7 @@ def test_token_ngram_counts_count_as_a_dictionary_in_order_of_first_appearance(
         tokens,
         unigram,
         bigrams,
-        hash_table(mix_keys(pair_keys)),
-        pair_keys,
-        pair_features,
+        pair_table(pair_keys, pair_features),
     )
     feature_of_pair = dict(zip(pair_list, pair_features.tolist(), strict=True))
     for i in range(len(text_lengths)):

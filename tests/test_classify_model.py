@@ -235,6 +235,45 @@ def test_a_flat_dense_model_scores_title_ngrams_word_by_word_as_the_feature_matr
             assert np.allclose(got_vals, vals, atol=1e-5)
 
 
+def _flat_dense_model(tree: CategoryTree) -> CategoryModel:
+    rows = labelled_rows(300)
+    train, labels = texts_and_labels([r for r in rows if r["split"] == "train"])
+    valid, valid_labels = texts_and_labels([r for r in rows if r["split"] == "valid"])
+    flat = CategoryModel(tree=tree, hierarchical=False, min_df=1, prune_below=0.0)
+    return flat.fit(train, labels).calibrate(valid, valid_labels)
+
+
+def test_new_words_idf_filled_while_scoring_gives_the_answers_of_the_lazy_look_up(
+    tree: CategoryTree, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    from catmap.classify import _wordcache
+
+    flat = _flat_dense_model(tree)
+    assert flat._words_block(flat._layout())
+    batches = [texts_and_labels(labelled_rows(80, seed=seed))[0] for seed in (3, 4, 3)]
+
+    def answers() -> list[np.ndarray]:
+        # The word index starts again (as when full): the caches with it, and every batch's
+        # words are new to them, as in a new process.
+        with _wordcache._WORDS_LOCK:
+            _wordcache._WORDS._restart()
+            _wordcache._RECENT_SPLITS.clear()
+        # every class's probability: the small ones move with the last bit of a score
+        return [flat.predict_proba(batch) for batch in batches]
+
+    filled = answers()
+    # reference: the entries' idf looked up by NumPy on reading (the scoring kernel writes its
+    # look-ups into a scratch array instead, and nothing is marked filled)
+    monkeypatch.setattr(
+        _wordcache.CountRows, "idf_to_fill", lambda self: (np.zeros(max(self.nnz, 1)), 0)
+    )
+    monkeypatch.setattr(_wordcache.CountRows, "idf_filled", lambda self: None)
+    lazy = answers()
+    for got, expected in zip(filled, lazy, strict=True):
+        assert np.array_equal(got.view(np.uint64), expected.view(np.uint64))
+        assert (got < 1e-3).any() and (got > 0.5).any()
+
+
 def test_a_departments_weights_are_regrouped_when_a_product_first_needs_them(
     trained: CategoryModel, tree: CategoryTree, tmp_path: Path
 ) -> None:

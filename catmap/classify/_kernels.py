@@ -2,8 +2,9 @@
 
 Mapping a chunk of products does a few kinds of work again and again:
 
-* cutting texts into words and numbering them, new words added on the way
-  (:func:`index_words`), and cutting new words into tokens (:func:`word_tokens`);
+* lower-casing texts (:func:`lower_codes`), cutting them into words and numbering them, new
+  words added on the way (:func:`index_words`), and cutting new words into tokens
+  (:func:`word_tokens`);
 * cutting new title words into character n-grams and finding them in the vocabulary
   (:func:`char_wb_rows` on an :func:`ngram_table` of packed keys; :func:`char_wb_features`
   with :func:`string_hashes` and :func:`hash_table` for longer n-grams);
@@ -44,9 +45,11 @@ __all__ = [
     "hash_table",
     "idf_l2_rows",
     "index_words",
+    "lower_codes",
     "mix_keys",
     "ngram_table",
     "pack_rows",
+    "pair_table",
     "score_rows",
     "score_words_dense",
     "score_columns_dense",
@@ -410,12 +413,15 @@ def score_new_words(
     offset: int,
     word_scores: Array,
     word_ready: Array,
+    c_idf: Array,
 ) -> None:
     """Make the rows of ``word_scores`` of some words: each word's ``W (c_w · idf)``.
 
     Feature by feature, each weight row fetched once for all the words holding the feature,
     as :func:`score_columns_dense` scores the words' ``c_w · idf`` rows (the same sums, in the
-    same order), then marks the words ready.
+    same order), then marks the words ready. On the way, the idf of each of the words' entries
+    is written beside it (``c_idf``, read by :func:`score_words_dense`), from the look-up the
+    scores need anyway.
 
     Args:
         words: the cached-word numbers to score, in increasing order, each once.
@@ -423,10 +429,71 @@ def score_new_words(
         idf: the idf of each of the block's features (float64).
         row_of, block, offset: as in :func:`score_words_dense`.
         word_scores, word_ready: as in :func:`score_words_dense`.
+        c_idf: float64, room for every entry of the count rows: the words' entries' idf is
+            written here.
     """
     k = block.shape[1]
     n_features = len(idf)
     # The words' entries grouped by feature (a counting sort), words in order within each.
+    # 32-bit positions and word numbers: half the memory of 64-bit ones, written at random.
+    n_entries = 0
+    for i in range(len(words)):
+        n_entries += c_indptr[words[i] + 1] - c_indptr[words[i]]
+    wide = n_entries >= 2**31 or len(word_scores) >= 2**31
+    start = np.zeros(n_features + 1 if not wide else 0, dtype=np.int32)
+    if wide:  # never in practice (a cache holds far fewer): the same steps in 64 bits
+        _score_new_words_wide(
+            words, c_indptr, c_indices, c_data, idf, row_of, block, offset, word_scores, c_idf
+        )
+    else:
+        for i in range(len(words)):
+            w = words[i]
+            for p in range(c_indptr[w], c_indptr[w + 1]):
+                start[c_indices[p] + 1] += 1
+        for f in range(n_features):
+            start[f + 1] += start[f]
+        fill = start[:-1].copy()
+        owner = np.empty(n_entries, dtype=np.int32)
+        value = np.empty(n_entries, dtype=np.float32)
+        for i in range(len(words)):
+            w = words[i]
+            word_scores[w, :] = 0.0
+            for p in range(c_indptr[w], c_indptr[w + 1]):
+                f = c_indices[p]
+                q = fill[f]
+                owner[q] = w
+                c_idf[p] = idf[f]
+                value[q] = np.float32(c_data[p] * idf[f])
+                fill[f] = q + 1
+        for f in range(n_features):
+            r = row_of[f + offset]
+            if r < 0:
+                continue
+            for q in range(start[f], start[f + 1]):
+                w = owner[q]
+                v = value[q]
+                for c in range(k):
+                    word_scores[w, c] += v * block[r, c]
+    for i in range(len(words)):
+        word_ready[words[i]] = 1
+
+
+@njit(cache=True, nogil=True, fastmath=True)
+def _score_new_words_wide(
+    words: Array,
+    c_indptr: Array,
+    c_indices: Array,
+    c_data: Array,
+    idf: Array,
+    row_of: Array,
+    block: Array,
+    offset: int,
+    word_scores: Array,
+    c_idf: Array,
+) -> None:
+    """:func:`score_new_words`'s scores with 64-bit positions (past 2**31 entries or words)."""
+    k = block.shape[1]
+    n_features = len(idf)
     start = np.zeros(n_features + 1, dtype=np.int64)
     for i in range(len(words)):
         w = words[i]
@@ -443,6 +510,7 @@ def score_new_words(
         for p in range(c_indptr[w], c_indptr[w + 1]):
             f = c_indices[p]
             owner[fill[f]] = w
+            c_idf[p] = idf[f]
             value[fill[f]] = np.float32(c_data[p] * idf[f])
             fill[f] += 1
     for f in range(n_features):
@@ -454,8 +522,6 @@ def score_new_words(
             v = value[q]
             for c in range(k):
                 word_scores[w, c] += v * block[r, c]
-    for i in range(len(words)):
-        word_ready[words[i]] = 1
 
 
 # 64-bit FNV-1a over code points: a fast first test; every hit is confirmed character by character.
@@ -675,6 +741,21 @@ def _index_run(
         m += 1
     state[0], state[1], state[2], state[3] = p, text, m, total
     return True
+
+
+@njit(cache=True, nogil=True)
+def lower_codes(codes: Array, lower: Array) -> None:
+    """Lower-case code points in place, one by one, by a table (those past it stay as they are).
+
+    Args:
+        codes: uint32 code points (changed in place).
+        lower: the lower case of each code point below its length (uint32).
+    """
+    n_lower = len(lower)
+    for p in range(len(codes)):
+        code = codes[p]
+        if code < n_lower:
+            codes[p] = lower[code]
 
 
 @njit(cache=True, nogil=True)
@@ -912,6 +993,33 @@ def mix_keys(keys: Array) -> Array:
 
 
 @njit(cache=True, nogil=True)
+def pair_table(keys: Array, features: Array) -> Array:
+    """Return an open-addressing table of non-negative int64 keys and their features.
+
+    Each key sits with its feature in one slot, at the first free slot from its hash
+    (:func:`mix_keys`) on: a look-up reads one place, where a table of entry numbers sends it
+    on to the key's and the feature's own arrays (three reads at random in a table of a
+    vocabulary's bigrams, larger than the fastest caches).
+
+    Returns:
+        (slots, 2) int64: each slot's key (-1 when free) and feature; a power-of-two number of
+        slots, at least twice the keys.
+    """
+    size = 16
+    while size < 2 * len(keys):
+        size *= 2
+    table = np.full((size, 2), -1, dtype=np.int64)
+    mask = np.uint64(size - 1)
+    for e in range(len(keys)):
+        slot = np.int64(_mix(keys[e]) & mask)
+        while table[slot, 0] != -1:
+            slot = (slot + 1) & (size - 1)
+        table[slot, 0] = keys[e]
+        table[slot, 1] = features[e]
+    return table
+
+
+@njit(cache=True, nogil=True)
 def token_ngram_counts(
     groups: Array,
     words: Array,
@@ -920,9 +1028,7 @@ def token_ngram_counts(
     tokens: Array,
     unigram: Array,
     bigrams: bool,
-    slots: Array,
-    pair_keys: Array,
-    pair_features: Array,
+    pairs: Array,
 ) -> tuple[Array, Array, Array]:
     """Count each text's known unigrams (and bigrams) from its words' cached token numbers.
 
@@ -934,9 +1040,8 @@ def token_ngram_counts(
         unigram: the feature of each token number (-1: not in the vocabulary); token numbers
             past its end are in no vocabulary term.
         bigrams: count bigrams too (two tokens in a row in the same text).
-        slots: :func:`hash_table` of ``mix_keys(pair_keys)``.
-        pair_keys: ``first << 32 | second`` token numbers of each vocabulary bigram.
-        pair_features: the feature of each vocabulary bigram.
+        pairs: :func:`pair_table` of the vocabulary's bigrams, keyed ``first << 32 | second``
+            by their token numbers.
 
     Returns:
         (data, indices, indptr) of the (texts, vocabulary) float32 count matrix (SciPy's order:
@@ -963,7 +1068,8 @@ def token_ngram_counts(
     slot_entry = np.empty(size, dtype=np.int64)
     listed = np.empty(max(longest, 1), dtype=np.int64)
     table_mask = size - 1
-    mask = np.uint64(len(slots) - 1)
+    n_pairs = len(pairs)
+    mask = np.uint64(n_pairs - 1)
     known = len(unigram)  # a vocabulary bigram is made of two tokens of the vocabulary
     nnz = 0
     for i in range(n):
@@ -981,11 +1087,11 @@ def token_ngram_counts(
                     elif bigrams and 0 <= previous < known and token < known:
                         key = (previous << 32) | token
                         slot = np.int64(_mix(key) & mask)
-                        while slots[slot] != -1:
-                            if pair_keys[slots[slot]] == key:
-                                feature = pair_features[slots[slot]]
+                        while pairs[slot, 0] != -1:
+                            if pairs[slot, 0] == key:
+                                feature = pairs[slot, 1]
                                 break
-                            slot = (slot + 1) & (len(slots) - 1)
+                            slot = (slot + 1) & (n_pairs - 1)
                     if feature >= 0:
                         here = (feature * 40503) & table_mask
                         while slot_feature[here] != -1 and slot_feature[here] != feature:

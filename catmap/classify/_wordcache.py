@@ -23,7 +23,7 @@ import re
 import threading
 from collections.abc import Sequence
 from itertools import chain, repeat
-from typing import TYPE_CHECKING, Any
+from typing import TYPE_CHECKING, Any, overload
 
 import numpy as np
 import scipy.sparse as sp
@@ -36,8 +36,9 @@ from catmap.classify._kernels import (
     hash_table,
     idf_l2_rows,
     index_words,
-    mix_keys,
+    lower_codes,
     ngram_table,
+    pair_table,
     string_hashes,
     sum_rows,
     table_add,
@@ -61,29 +62,31 @@ class _Split:
     Attributes:
         indptr: text i holds the words ``indptr[i]:indptr[i + 1]``.
         numbers: each word's number in :attr:`words` (int64).
-        words: the word index's words, by number (the index's list when the split was made).
         generation: the word index's generation when the split was made.
         codes, offsets: the index's code points of its words end to end, and where each word
             starts (the arrays when the split was made: they only grow past its words).
     """
 
-    __slots__ = ("codes", "generation", "indptr", "numbers", "offsets", "words")
+    __slots__ = ("codes", "generation", "indptr", "numbers", "offsets")
 
     def __init__(
-        self,
-        indptr: Array,
-        numbers: Array,
-        words: list[str],
-        generation: int,
-        codes: Array,
-        offsets: Array,
+        self, indptr: Array, numbers: Array, generation: int, codes: Array, offsets: Array
     ) -> None:
         self.indptr = indptr
         self.numbers = numbers
-        self.words = words
         self.generation = generation
         self.codes = codes
         self.offsets = offsets
+
+    @property
+    def n_words(self) -> int:
+        """How many words the word index held when the split was made."""
+        return len(self.offsets) - 1
+
+    @property
+    def words(self) -> _Words:
+        """The word index's words, by number (those it held when the split was made)."""
+        return _Words(self.codes, self.offsets)
 
     def code_points(self, numbers: Array) -> tuple[Array, Array]:
         """The words ``numbers`` (increasing) as code points end to end and each one's offsets."""
@@ -95,12 +98,60 @@ class _Split:
         return gather_strings(self.codes, self.offsets, numbers)
 
 
+class _Words(Sequence[str]):
+    """Words kept as code points end to end, read as strings one by one when asked for.
+
+    Most words are never needed as strings (the caches work on their code points): making one
+    per new word cost more than cutting the texts into words.
+    """
+
+    def __init__(self, codes: Array, offsets: Array) -> None:
+        self._codes = codes
+        self._offsets = offsets
+
+    def __len__(self) -> int:
+        return len(self._offsets) - 1
+
+    @overload
+    def __getitem__(self, index: int) -> str: ...
+
+    @overload
+    def __getitem__(self, index: slice) -> list[str]: ...
+
+    def __getitem__(self, index: int | slice) -> str | list[str]:
+        if isinstance(index, slice):
+            return [self[i] for i in range(*index.indices(len(self)))]
+        if not -len(self) <= index < len(self):
+            raise IndexError("word number out of range")
+        index %= len(self)
+        first, last = int(self._offsets[index]), int(self._offsets[index + 1])
+        return _text(self._codes[first:last])
+
+    def all(self) -> list[str]:
+        """Every word, in number order."""
+        text = _text(self._codes[: int(self._offsets[-1])])
+        bounds = self._offsets.tolist()
+        return [text[a:b] for a, b in zip(bounds[:-1], bounds[1:], strict=True)]
+
+
+def _text(codes: Array) -> str:
+    return bytes(codes.astype(np.uint32).data).decode("utf-32-le", "surrogatepass")
+
+
 # What str.split() splits on, below U+3001 (no whitespace lies above U+3000).
 _IS_SPACE = np.array([chr(c).isspace() for c in range(0x3001)], dtype=np.uint8)
 _SEPARATOR = "\x00"
 # The token patterns cut by compiled code (:func:`word_tokens`), with their shortest token.
 _TOKEN_PATTERNS = {r"(?u)\b\w+\b": 1, r"(?u)\b\w\w+\b": 2}
 _IS_WORD: list[Array] = []
+# Code points from here on have no lower case of their own (tests/test_classify_features.py
+# checks every one): the table of lower cases stops here.
+_CASED_BELOW = 0x20000
+# What str.lower() makes of a text holding one of these depends on more than the character
+# (a final capital sigma; a dotted capital I becomes two code points): such texts are
+# lower-cased by Python.
+_CONTEXT_LOWER = ("\u03a3", "\u0130")
+_LOWER: list[Array | None] = []
 
 
 def _word_characters() -> Array:
@@ -111,6 +162,23 @@ def _word_characters() -> Array:
         marked = re.sub(r"(?u)\W", "\x00", every).encode("utf-32-le", "surrogatepass")
         _IS_WORD.append((np.frombuffer(marked, dtype=np.uint32) != 0).astype(np.uint8))
     return _IS_WORD[0]
+
+
+def _lower_cases() -> Array | None:
+    """The lower case of each code point below :data:`_CASED_BELOW`, as ``str.lower()`` makes
+    it of the code point alone (made once; see :data:`_CONTEXT_LOWER` for the exceptions), or
+    None when some code point's lower case is longer than one."""
+    if not _LOWER:
+        # Every code point as one string, made from an array (a few ms; chr by chr, 15 more).
+        every = np.arange(_CASED_BELOW, dtype=np.uint32).tobytes()
+        text = every.decode("utf-32-le", "surrogatepass")
+        for special in _CONTEXT_LOWER:
+            text = text.replace(special, "\x00")
+        lowered = _code_array(text.lower())
+        # Another code point lower-cased to two (a later Unicode version) would shift the rest:
+        # then no table, and texts are lower-cased by Python.
+        _LOWER.append(lowered if len(lowered) == _CASED_BELOW else None)
+    return _LOWER[0]
 
 
 class _WordIndex:
@@ -129,7 +197,7 @@ class _WordIndex:
 
     def _restart(self) -> None:
         self.generation += 1
-        self.words: list[str] = []
+        self.n_words = 0
         self._codes = np.zeros(1 << 16, dtype=np.uint32)
         self._offsets = np.zeros(1 << 12, dtype=np.int64)
         self._hashes = np.zeros(1 << 12, dtype=np.uint64)
@@ -141,10 +209,17 @@ class _WordIndex:
         if joined.count(_SEPARATOR) != max(len(texts) - 1, 0):
             # A text holding the separator itself (a damaged feed): cut in Python.
             return self._split_in_python(texts)
-        # Lower-cased as a whole: the same as text by text, the separator ending each context.
-        lowered = joined.lower()
-        codes = np.frombuffer(lowered.encode("utf-32-le", "surrogatepass"), dtype=np.uint32)
-        known = len(self.words)
+        table = _lower_cases()
+        if table is None or any(special in joined for special in _CONTEXT_LOWER):
+            # Lower-cased as a whole: the same as text by text, the separator ending each
+            # context.
+            codes = _code_array(joined.lower())
+        else:
+            # Code point by code point, by compiled code: str.lower() takes its slow path on
+            # any text not all ASCII.
+            codes = _code_array(joined)
+            lower_codes(codes, table)
+        known = self.n_words
         # New words are numbered and added to the table by the compiled loop itself.
         (
             indptr,
@@ -154,8 +229,8 @@ class _WordIndex:
             self._codes,
             self._offsets,
             total,
-            starts,
-            ends,
+            _,
+            _,
         ) = index_words(
             codes,
             _IS_SPACE,
@@ -169,21 +244,16 @@ class _WordIndex:
         if known and total > self.max_words:
             self._restart()
             return self.split(texts)
-        if len(starts):
-            self.words.extend(
-                [lowered[a:b] for a, b in zip(starts.tolist(), ends.tolist(), strict=True)]
-            )
+        self.n_words = total
         return self._made(indptr, numbers)
 
     def _made(self, indptr: Array, numbers: Array) -> _Split:
-        n = len(self.words)
-        return _Split(
-            indptr, numbers, self.words, self.generation, self._codes, self._offsets[: n + 1]
-        )
+        n = self.n_words
+        return _Split(indptr, numbers, self.generation, self._codes, self._offsets[: n + 1])
 
     def _add(self, new: list[str]) -> int:
         """Number new words (not yet in the index); return the first new number."""
-        first = len(self.words)
+        first = self.n_words
         codes, offsets = _code_points(new)
         hashes = string_hashes(codes, offsets)
         total = first + len(new)
@@ -197,7 +267,7 @@ class _WordIndex:
         self._codes[used : used + len(codes)] = codes
         self._offsets[first + 1 : total + 1] = used + offsets[1:]
         self._hashes[first:total] = hashes
-        self.words.extend(new)
+        self.n_words = total
         if 2 * total > len(self._slots):
             self._slots = hash_table(self._hashes[:total])
         else:
@@ -209,9 +279,10 @@ class _WordIndex:
         indptr = np.zeros(len(words) + 1, dtype=np.int64)
         np.cumsum(np.fromiter(map(len, words), np.int64, count=len(words)), out=indptr[1:])
         flat = list(chain.from_iterable(words))
-        known = dict(zip(self.words, range(len(self.words)), strict=True))
+        indexed = _Words(self._codes, self._offsets[: self.n_words + 1]).all()
+        known = dict(zip(indexed, range(len(indexed)), strict=True))
         new = [word for word in dict.fromkeys(flat) if word not in known]
-        if self.words and len(self.words) + len(new) > self.max_words:
+        if indexed and len(indexed) + len(new) > self.max_words:
             self._restart()
             known, new = {}, list(dict.fromkeys(flat))
         if new:
@@ -258,6 +329,20 @@ def _extended(array: Array, size: int) -> Array:
     out = np.zeros(size, dtype=array.dtype)
     out[: len(array)] = array
     return out
+
+
+def _code_array(text: str) -> Array:
+    """Return the code points of a string as a new, writable uint32 array.
+
+    NumPy copies a string's code points straight into its array (a lone surrogate, from a
+    badly decoded feed, too): one copy, where encoding to UTF-32 first made two.
+    """
+    if not text:
+        return np.zeros(0, dtype=np.uint32)
+    codes = np.array(text).reshape(1).view(np.uint32)
+    if len(codes) != len(text):  # not expected: the array's width is the string's length
+        return np.frombuffer(text.encode("utf-32-le", "surrogatepass"), dtype=np.uint32).copy()
+    return codes
 
 
 def _code_points(strings: Sequence[str]) -> tuple[Array, Array]:
@@ -321,20 +406,20 @@ class _PerWordCache:
         if split.generation != self._generation:
             self._reset()
             self._generation = split.generation
-        if len(self._row_of) < len(split.words):
-            grown = np.full(max(len(split.words), 2 * len(self._row_of)), -1, dtype=np.int64)
+        if len(self._row_of) < split.n_words:
+            grown = np.full(max(split.n_words, 2 * len(self._row_of)), -1, dtype=np.int64)
             grown[: len(self._row_of)] = self._row_of
             self._row_of = grown
         rows = self._row_of[split.numbers]
         missing = split.numbers[rows < 0]
         if len(missing):
-            missing = _distinct_numbers(missing, len(split.words))
+            missing = _distinct_numbers(missing, split.n_words)
             if self._n_rows + len(missing) > self.max_words:
                 generation = split.generation
                 self._reset()
                 self._generation = generation
-                self._row_of = np.full(len(split.words), -1, dtype=np.int64)
-                missing = _distinct_numbers(split.numbers, len(split.words))
+                self._row_of = np.full(split.n_words, -1, dtype=np.int64)
+                missing = _distinct_numbers(split.numbers, split.n_words)
             self._add_words(split, missing)
             self._row_of[missing] = np.arange(self._n_rows, self._n_rows + len(missing))
             self._n_rows += len(missing)
@@ -347,7 +432,8 @@ class CountRows:
 
     Appending a batch's new words copies only them (the arrays double when full; the first
     rows are taken as they are), and the idf of each entry's n-gram is looked up once, on the
-    first read of :attr:`entry_idf` after the entry was added.
+    first read of :attr:`entry_idf` after the entry was added (or by a caller that looks it up
+    anyway, see :meth:`idf_to_fill`).
 
     Attributes:
         indptr: row i is entries ``indptr[i]:indptr[i + 1]`` (int64).
@@ -400,13 +486,30 @@ class CountRows:
     def data(self) -> Array:
         return self._data[: self.nnz]
 
+    def idf_to_fill(self) -> tuple[Array, int]:
+        """Return the entries' idf array (room for every entry) and the first row not filled in.
+
+        For a caller that looks the idf of new rows' entries up anyway: once it has filled in
+        every row from that one on, it calls :meth:`idf_filled`.
+        """
+        self._idf_room()
+        first = int(np.searchsorted(self.indptr, self._with_idf, side="right")) - 1
+        return self._entry_idf, first
+
+    def idf_filled(self) -> None:
+        """Record that the idf of every entry is filled in (see :meth:`idf_to_fill`)."""
+        self._with_idf = self.nnz
+
+    def _idf_room(self) -> None:
+        if len(self._entry_idf) < self.nnz:
+            self._entry_idf = _extended(
+                self._entry_idf, max(len(self._indices), 2 * len(self._entry_idf))
+            )
+
     @property
     def entry_idf(self) -> Array:
         if self._with_idf < self.nnz:
-            if len(self._entry_idf) < self.nnz:
-                self._entry_idf = _extended(
-                    self._entry_idf, max(len(self._indices), 2 * len(self._entry_idf))
-                )
+            self._idf_room()
             done = self._with_idf
             self._entry_idf[done : self.nnz] = self.idf[self._indices[done : self.nnz]]
             self._with_idf = self.nnz
@@ -574,9 +677,9 @@ class WordNgramTfidf(_PerWordCache):
             self._token_table = (shortest, hash_table(hashes), hashes, codes, offsets)
         self._unigram_base = np.full(len(token), -1, dtype=np.int64)
         self._unigram_base[numbers[first[unigrams]]] = features[unigrams]
-        self._pair_keys = (numbers[first[pairs]] << 32) | numbers[first[pairs] + 1]
-        self._pair_features = features[pairs]
-        self._pair_slots = hash_table(mix_keys(self._pair_keys))
+        self._pairs = pair_table(
+            (numbers[first[pairs]] << 32) | numbers[first[pairs] + 1], features[pairs]
+        )
         return True
 
     _DERIVED = ("_token", "_unigram", "_word_start", "_word_length", "_tokens")
@@ -648,9 +751,7 @@ class WordNgramTfidf(_PerWordCache):
             self._tokens,
             self._unigram,
             self._high == 2,
-            self._pair_slots,
-            self._pair_keys,
-            self._pair_features,
+            self._pairs,
         )
         return sp.csr_matrix(counted, shape=(len(texts), len(self._vocabulary)))
 

@@ -499,6 +499,9 @@ class CategoryModel:
         new[scores.ready == 1] = False
         need = np.flatnonzero(new)
         if len(need):
+            # The new words' entries get their idf on the way (the usual case: the words
+            # scored now are the rows the cache added last).
+            entry_idf, unfilled = rows.idf_to_fill()
             score_new_words(
                 need,
                 rows.indptr,
@@ -510,7 +513,11 @@ class CategoryModel:
                 start,
                 scores.scores,
                 scores.ready,
+                entry_idf,
             )
+            tail = rows.n_rows - unfilled
+            if tail <= len(need) and (tail == 0 or need[-tail] == unfilled):
+                rows.idf_filled()  # every row from the first unfilled one on was scored
         vectorizer = cache.vectorizer
         score_words_dense(
             offsets,
