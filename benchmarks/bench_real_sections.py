@@ -35,11 +35,15 @@ machine may be shared, and alternating puts both under the same load. Last, ``--
 processes each load both saved models and time their first prediction of the test split (what a
 new feed costs: catmap's word caches are empty), catmap first in every other process; printed:
 the median, lowest and highest products/s of each, and of catmap / fastText per process.
+``--cold-whole N`` does the same with every package of the index as one feed (about 63,000
+products, the size of a small retailer's feed): whether catmap's word caches pay off over a
+longer first pass (a speed figure only: the training split is in that feed).
 
 Usage:
     python benchmarks/bench_real_sections.py
     python benchmarks/bench_real_sections.py --only catmap,cli,fasttext --rounds 5
     python benchmarks/bench_real_sections.py --only catmap,fasttext --rounds 5 --cold 9
+    python benchmarks/bench_real_sections.py --only catmap,fasttext --rounds 0 --cold-whole 5
 """
 
 from __future__ import annotations
@@ -343,28 +347,35 @@ def run_cli(data_file: str, tree_file: str, work_dir: str) -> dict[str, Any]:
     }
 
 
-def _saved_models(data_file: str, tree_file: str, save_dir: str) -> tuple[list[str], Any, Any]:
-    """The test texts, catmap's saved model (prepared) and fastText's, loaded in this process."""
+def _saved_models(
+    data_file: str, tree_file: str, save_dir: str, whole: bool = False
+) -> tuple[list[str], Any, Any]:
+    """The test texts (``whole``: every package, train split first), catmap's saved model
+    (prepared) and fastText's, loaded in this process."""
     import fasttext
 
     from catmap.classify.storage import load_model
     from catmap.tree.taxonomy import load_tree
 
-    x_test = json.loads(Path(data_file).read_text(encoding="utf-8"))["x_test"]
+    data = json.loads(Path(data_file).read_text(encoding="utf-8"))
+    x_test = data["x_train"] + data["x_test"] if whole else data["x_test"]
     model, _ = load_model(Path(save_dir) / "catmap-model", load_tree(tree_file))
     model.prepare()
     return x_test, model, fasttext.load_model(str(Path(save_dir) / "fasttext.bin"))
 
 
-def cold_pass(data_file: str, tree_file: str, save_dir: str, catmap_first: bool) -> list[float]:
+def cold_pass(
+    data_file: str, tree_file: str, save_dir: str, catmap_first: bool, whole: bool = False
+) -> list[float]:
     """Seconds of catmap's and of fastText's first prediction of the test split in a new process.
 
     What a new feed costs: catmap's word caches are empty. Loading and preparing the models is
     not timed. One thread; ``catmap_first`` chooses which runs first (alternate it over runs).
+    ``whole``: every package of the index, as one feed (speed only: the train split is in it).
     """
     from catmap.classify.features import ProductTexts
 
-    x_test, model, ft = _saved_models(data_file, tree_file, save_dir)
+    x_test, model, ft = _saved_models(data_file, tree_file, save_dir, whole)
     empty = [""] * len(x_test)
     seconds = {}
     with _one_thread():
@@ -420,6 +431,12 @@ def main(argv: list[str] | None = None) -> int:
         "--cold", type=int, default=7,
         help="new processes that each time catmap's and fastText's first prediction of the test "
         "split (default 7; 0: none)",
+    )
+    parser.add_argument(
+        "--cold-whole", type=int, default=0,
+        help="new processes that each time catmap's and fastText's first prediction of every "
+        "package of the index as one feed, the size of a small retailer's (speed only; "
+        "default 0: none)",
     )
     parser.add_argument(
         "--catmap-option",
@@ -485,6 +502,14 @@ def main(argv: list[str] | None = None) -> int:
                         cold_pass, (str(data_file), str(tree_file), tmp, run % 2 == 0)
                     )
                 )
+        whole: list[list[float]] = []
+        for run in range(args.cold_whole if saved else 0):
+            with multiprocessing.get_context("spawn").Pool(1) as pool:
+                whole.append(
+                    pool.apply(
+                        cold_pass, (str(data_file), str(tree_file), tmp, run % 2 == 0, True)
+                    )
+                )
     header = (
         f"{'model':<11} {'acc':>6} {'macroF1':>8} {'train s':>8} {'peak MB':>8} "
         f"{'products/s':>11}"
@@ -519,15 +544,19 @@ def main(argv: list[str] | None = None) -> int:
             f"(lowest {ratios[0]:.2f}, highest {ratios[-1]:.2f}); catmap's first round starts "
             "with empty word caches, later rounds reuse them, as a long feed does"
         )
-    if cold:
-        n = len(x_test)
-        cat = sorted(n / c for c, _ in cold)
-        ft = sorted(n / f for _, f in cold)
-        ratios = sorted(f / c for c, f in cold)
+    for passes, n, what in (
+        (cold, len(x_test), "the test split"),
+        (whole, len(x_train) + len(x_test), "every package of the index as one feed"),
+    ):
+        if not passes:
+            continue
+        cat = sorted(n / c for c, _ in passes)
+        ft = sorted(n / f for _, f in passes)
+        ratios = sorted(f / c for c, f in passes)
         print(
-            f"\nfirst prediction of the test split in {len(cold)} new processes (one thread, "
-            "catmap's word caches empty, models loaded beforehand, which one runs first "
-            "alternating), products/s:"
+            f"\nfirst prediction of {what} ({n:,} products) in {len(passes)} new processes "
+            "(one thread, catmap's word caches empty, models loaded beforehand, which one runs "
+            "first alternating), products/s:"
         )
         print(f"  catmap   median {cat[len(cat) // 2]:,.0f} (lowest {cat[0]:,.0f}, highest "
               f"{cat[-1]:,.0f})")
