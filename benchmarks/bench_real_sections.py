@@ -57,6 +57,7 @@ import sys
 import tempfile
 import time
 from collections import Counter
+from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
@@ -138,6 +139,45 @@ def write_tree(sections: list[str], path: Path) -> dict[str, str]:
         out.write("\n".join(lines) + "\n")
     Path(out.name).replace(path)
     return leaf_of
+
+
+@dataclass(frozen=True)
+class Split:
+    """The bench's data: the seeded train / test split of the kept packages, and the tree."""
+
+    x_train: list[str]
+    x_test: list[str]
+    y_train: list[str]
+    y_test: list[str]
+    tree_file: Path
+    summary: str
+
+
+def build_split() -> Split:
+    """Read the package index, write the tree file, make the stratified 80/20 split.
+
+    Texts are the package name and its summary; labels the leaf id of its section. Also what
+    ``cv_real_sections.py`` cross-validates on (its training part only).
+    """
+    from sklearn.model_selection import train_test_split
+
+    packages = read_packages()
+    counts = Counter(section for _, section, _ in packages)
+    sections = sorted(s for s, c in counts.items() if c >= MIN_PER_SECTION)
+    kept = [p for p in packages if counts[p[1]] >= MIN_PER_SECTION]
+    tree_file = DATA / "debian-sections-tree.txt"
+    leaf_of = write_tree(sections, tree_file)
+    texts = [f"{name} {summary}" for name, _, summary in kept]
+    labels = [leaf_of[section] for _, section, _ in kept]
+    x_train, x_test, y_train, y_test = train_test_split(
+        texts, labels, test_size=TEST_SHARE, stratify=labels, random_state=0
+    )
+    summary = (
+        f"Debian archive package index (apt-cache dumpavail): {len(packages):,} packages, "
+        f"{len(sections)} sections with >= {MIN_PER_SECTION} packages ({len(kept):,} packages); "
+        f"train {len(x_train):,}, test {len(x_test):,} (stratified, random_state=0)"
+    )
+    return Split(x_train, x_test, y_train, y_test, tree_file, summary)
 
 
 def _one_thread() -> Any:
@@ -446,27 +486,13 @@ def main(argv: list[str] | None = None) -> int:
         help="a CategoryModel setting for catmap, e.g. C=2 or hierarchical=false (repeatable)",
     )
     args = parser.parse_args(argv)
-    from sklearn.model_selection import train_test_split
 
     options = {k: json.loads(v) for k, v in (o.split("=", 1) for o in args.catmap_option)}
 
-    packages = read_packages()
-    counts = Counter(section for _, section, _ in packages)
-    sections = sorted(s for s, c in counts.items() if c >= MIN_PER_SECTION)
-    kept = [p for p in packages if counts[p[1]] >= MIN_PER_SECTION]
-    tree_file = DATA / "debian-sections-tree.txt"
-    leaf_of = write_tree(sections, tree_file)
-    texts = [f"{name} {summary}" for name, _, summary in kept]
-    labels = [leaf_of[section] for _, section, _ in kept]
-    x_train, x_test, y_train, y_test = train_test_split(
-        texts, labels, test_size=TEST_SHARE, stratify=labels, random_state=0
-    )
-    print(
-        f"Debian archive package index (apt-cache dumpavail): {len(packages):,} packages, "
-        f"{len(sections)} sections with >= {MIN_PER_SECTION} packages ({len(kept):,} packages); "
-        f"train {len(x_train):,}, test {len(x_test):,} (stratified, random_state=0)",
-        flush=True,
-    )
+    split = build_split()
+    x_train, x_test, y_train, y_test = split.x_train, split.x_test, split.y_train, split.y_test
+    tree_file = split.tree_file
+    print(split.summary, flush=True)
     rows = []
     speed: dict[str, Any] | None = None
     chosen = [n.strip() for n in args.only.split(",") if n.strip()]

@@ -210,17 +210,28 @@ def test_training_keeps_every_product_unless_a_cap_is_set(tree: CategoryTree) ->
     assert small < full.fit(texts, labels).featurizer_.n_features_
 
 
+@pytest.mark.parametrize("char_weight", [1.0, 1.4], ids=["chars weigh 1", "chars weigh 1.4"])
 def test_a_flat_dense_model_scores_title_ngrams_word_by_word_as_the_feature_matrix(
-    tree: CategoryTree, monkeypatch: pytest.MonkeyPatch
+    tree: CategoryTree, monkeypatch: pytest.MonkeyPatch, char_weight: float
 ) -> None:
     rows = labelled_rows(300)
     train, labels = texts_and_labels([r for r in rows if r["split"] == "train"])
     valid, valid_labels = texts_and_labels([r for r in rows if r["split"] == "valid"])
-    flat = CategoryModel(tree=tree, hierarchical=False, min_df=1, prune_below=0.0)
+    flat = CategoryModel(
+        tree=tree,
+        hierarchical=False,
+        min_df=1,
+        prune_below=0.0,
+        feature_weights={"title_chars": char_weight},
+    )
     flat.fit(train, labels).calibrate(valid, valid_labels)
     layout = flat._layout()
     assert layout.part(0).dense is not None and flat._words_block(layout)
     texts, _ = texts_and_labels(labelled_rows(80, seed=3))
+    # The block's weight scales its TF-IDF values (scikit-learn's vectorizer is the reference).
+    chars = flat.featurizer_.transform(texts)[:, flat.featurizer_.block_slices()["title_chars"]]
+    plain = flat.featurizer_.vectorizers_["title_chars"].transform(texts.title)
+    assert np.allclose(chars.toarray(), char_weight * plain.toarray(), atol=1e-6)
     later, _ = texts_and_labels(labelled_rows(80, seed=4))  # new words after the first batch
     by_words = [flat.top_k(texts, 3) for _ in range(2)]  # the second from the per-word scores
     later_by_words = flat.top_k(later, 3)

@@ -2,13 +2,16 @@
 
 from __future__ import annotations
 
+from collections.abc import Sequence
 from pathlib import Path
 
+import numpy as np
 import pytest
 from sklearn.metrics import f1_score
 
 from catmap.classify.features import ProductTexts
 from catmap.classify.model import CategoryModel
+from catmap.classify.storage import load_model, save_model
 from catmap.classify.training import FLAT_MAX_CLASSES, FLAT_SETTINGS, fit_model
 from catmap.tree.taxonomy import CategoryTree, load_tree
 from tests._classify_fixtures import labelled_rows, texts_and_labels, write_tree
@@ -84,7 +87,56 @@ def test_the_validation_products_never_train_the_model(
     train, labels, valid, valid_labels = split
     model = fit_model(tree, train, labels, valid, valid_labels, options=options)
     # One thread (n_jobs=1): liblinear's random state is shared by the threads of a process.
-    settings = {"hierarchical": model.hierarchical, "prune_below": model.prune_below, **options}
+    settings = {
+        "hierarchical": model.hierarchical,
+        "prune_below": model.prune_below,
+        "C": model.C,
+        "feature_weights": model.feature_weights,
+        **options,
+    }
     fresh = CategoryModel(tree=tree, **settings).fit(train, labels)
     assert (model.class_coef_ != fresh.class_coef_).nnz == 0
     assert model.temperatures_ != (1.0, 1.0)  # calibrated
+
+
+@pytest.mark.parametrize(
+    ("options", "flat_c"),
+    [({"min_df": 1, "n_jobs": 1}, FLAT_SETTINGS["C"]), ({"min_df": 1, "n_jobs": 1, "C": 0.7}, 0.7)],
+    ids=["flat settings", "a given C wins"],
+)
+def test_the_flat_candidate_takes_the_flat_settings_the_options_leave(
+    tree: CategoryTree,
+    split: tuple[ProductTexts, list[str], ProductTexts, list[str]],
+    monkeypatch: pytest.MonkeyPatch,
+    tmp_path: Path,
+    options: dict[str, object],
+    flat_c: float,
+) -> None:
+    import catmap.classify.training as training
+
+    built: list[CategoryModel] = []
+
+    class Recorded(CategoryModel):
+        def fit(self, texts: ProductTexts, labels: Sequence[str]) -> CategoryModel:
+            built.append(self)
+            return super().fit(texts, labels)
+
+    monkeypatch.setattr(training, "CategoryModel", Recorded)
+    train, labels, valid, valid_labels = split
+    kept = fit_model(tree, train, labels, valid, valid_labels, options=options)
+    department, flat = built
+    assert department.hierarchical and not flat.hierarchical
+    default = CategoryModel(tree=tree)
+    assert department.C == options.get("C", default.C) and department.feature_weights is None
+    assert flat.C == flat_c and flat.prune_below == FLAT_SETTINGS["prune_below"]
+    assert flat.feature_weights == FLAT_SETTINGS["feature_weights"]
+    # The weighted blocks are saved with the model: a loaded flat model maps as the trained one.
+    save_model(flat, tmp_path / "flat")
+    loaded, manifest = load_model(tmp_path / "flat", tree)
+    assert (
+        manifest["feature_weights"]["title_chars"]
+        == FLAT_SETTINGS["feature_weights"]["title_chars"]
+    )
+    for got, expected in zip(loaded.top_k(valid, 3), flat.top_k(valid, 3), strict=True):
+        assert np.allclose(got, expected, atol=1e-6)
+    assert kept in built
