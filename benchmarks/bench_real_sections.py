@@ -227,24 +227,29 @@ def run_model(
             empty = [""] * len(values)
             return ProductTexts(list(values), empty, empty, empty)
 
-        from catmap.classify.training import fit_model
+        from catmap.classify.training import fit_model, refit_on_all
 
+        options = dict(options or {})
+        refit = bool(options.pop("refit", False))
         valid = calibration_rows(len(x_train))
-        # As `catmap train` does (the same function): trained on nine tenths of train,
-        # calibrated and its structure chosen on the rest.
-        model = fit_model(
-            tree,
+        parts = (
             texts([x for x, v in zip(x_train, valid, strict=True) if not v]),
             [y for y, v in zip(y_train, valid, strict=True) if not v],
             texts([x for x, v in zip(x_train, valid, strict=True) if v]),
             [y for y, v in zip(y_train, valid, strict=True) if v],
-            options=options,
         )
-        model.prepare()
+        # As `catmap train` does (the same function): trained on nine tenths of train,
+        # calibrated and its structure chosen on the rest; with refit=true (`catmap train
+        # --refit`), then trained again on all of train.
+        model = fit_model(tree, *parts, options=options)
         note = (
             f"kept the {'department step' if model.hierarchical else 'flat'} structure "
             f"(validation macro-F1 {model.metrics_.get('valid_macro_f1', float('nan')):.3f})"
         )
+        if refit:
+            model = refit_on_all(model, *parts)
+            note += "; then trained again on all of train (refit)"
+        model.prepare()
         if save_dir:
             from catmap.classify.storage import save_model
 

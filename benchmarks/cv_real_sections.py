@@ -8,8 +8,10 @@ fifth. Printed per variant: macro-F1 and accuracy, mean and standard deviation o
 and the mean and standard deviation of its per-fold difference from the first variant (paired:
 the folds are the same).
 
-A variant is a name and ``CategoryModel`` settings (JSON), or ``svc`` (the bench's word 1-2 +
-char_wb 2-5 TF-IDF + LinearSVC(C=0.5) baseline, trained on the same nine tenths).
+A variant is a name and ``CategoryModel`` settings (JSON; ``"refit": true`` trains the chosen
+model again on the calibration tenth too, as ``catmap train --refit`` does), or ``svc`` (the
+bench's word 1-2 + char_wb 2-5 TF-IDF + LinearSVC(C=0.5) baseline, trained on the same nine
+tenths).
 
 Usage:
     python benchmarks/cv_real_sections.py --variant 'flat={"hierarchical": false}' \\
@@ -67,21 +69,24 @@ def run_fold(
         note = ""
     else:
         from catmap.classify.features import ProductTexts
-        from catmap.classify.training import fit_model
+        from catmap.classify.training import fit_model, refit_on_all
         from catmap.tree.taxonomy import load_tree
 
         def texts(values: list[str]) -> ProductTexts:
             empty = [""] * len(values)
             return ProductTexts(list(values), empty, empty, empty)
 
-        model = fit_model(
-            load_tree(data["tree_file"]),
+        options = dict(settings)
+        refit = bool(options.pop("refit", False))
+        parts = (
             texts([t for t, v in zip(x_fit, valid, strict=True) if not v]),
             [t for t, v in zip(y_fit, valid, strict=True) if not v],
             texts([t for t, v in zip(x_fit, valid, strict=True) if v]),
             [t for t, v in zip(y_fit, valid, strict=True) if v],
-            options=dict(settings),
         )
+        model = fit_model(load_tree(data["tree_file"]), *parts, options=options)
+        if refit:  # `catmap train --refit`: trained again on the calibration tenth too
+            model = refit_on_all(model, *parts)
         best, _ = model.top_k(texts(x_held), 1)
         predicted = [str(c) for c in model.classes_[best[:, 0]]]
         note = "flat" if len(model.groups_) == 1 else "department step"

@@ -140,3 +140,34 @@ def test_the_flat_candidate_takes_the_flat_settings_the_options_leave(
     for got, expected in zip(loaded.top_k(valid, 3), flat.top_k(valid, 3), strict=True):
         assert np.allclose(got, expected, atol=1e-6)
     assert kept in built
+
+
+def test_a_refit_trains_on_the_validation_products_too_and_keeps_their_calibration(
+    tree: CategoryTree, split: tuple[ProductTexts, list[str], ProductTexts, list[str]]
+) -> None:
+    from catmap.classify.training import CALIBRATED, refit_on_all
+
+    train, labels, valid, valid_labels = split
+    options = {"min_df": 1, "n_jobs": 1, "hierarchical": False}
+    model = fit_model(tree, train, labels, valid, valid_labels, options=options)
+    refit = refit_on_all(model, train, labels, valid, valid_labels)
+    # The same settings, trained on both parts: exactly what one training on both gives.
+    both = ProductTexts(
+        train.title + valid.title, train.path + valid.path, train.brand + valid.brand,
+        train.description + valid.description,
+    )  # fmt: skip
+    settings = {"prune_below": model.prune_below, "C": model.C,
+                "feature_weights": model.feature_weights}  # fmt: skip
+    fresh = CategoryModel(tree=tree, **settings, **options).fit(both, [*labels, *valid_labels])
+    assert (refit.class_coef_ != fresh.class_coef_).nnz == 0
+    # The validation products add terms to the vocabulary or move the weights.
+    assert (
+        refit.class_coef_.shape != model.class_coef_.shape
+        or (refit.class_coef_ != model.class_coef_).nnz > 0
+    )
+    # The calibration the held-out products gave the first model is kept, as it was.
+    for name in CALIBRATED[:-1]:
+        assert getattr(refit, name) == getattr(model, name), name
+    assert refit.metrics_["refit_products"] == len(labels) + len(valid_labels)
+    assert refit.metrics_["valid_accuracy"] == model.metrics_["valid_accuracy"]
+    assert refit.hierarchical == model.hierarchical

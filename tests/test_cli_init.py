@@ -191,3 +191,39 @@ def test_the_demo_stays_out_of_a_project_of_ones_own(tmp_path: Path) -> None:
     result = run("demo", "--project", project)
     assert result.exit_code == 3
     assert "the demo world stays out of it" in result.stderr
+
+
+def test_a_refit_model_calibrates_only_on_a_feed_it_never_saw(tmp_path: Path) -> None:
+    import csv
+
+    # Half of the example's labelled rows train; the other half is a feed the model never saw.
+    with LABELLED.open(encoding="utf-8", newline="") as handle:
+        rows = list(csv.DictReader(handle))
+    halves = {"train": rows[::2], "unseen": rows[1::2]}
+    files = {}
+    for name, part in halves.items():
+        files[name] = tmp_path / f"{name}.csv"
+        with files[name].open("w", encoding="utf-8", newline="") as handle:
+            writer = csv.DictWriter(handle, fieldnames=list(rows[0]))
+            writer.writeheader()
+            writer.writerows(part)
+    project = tmp_path / "p"
+    assert run("init", project, "--tree", TREE, "--labelled", files["train"]).exit_code == 0
+    trained = run("train", "--project", project, "--refit", "--json")
+    assert trained.exit_code == 0, trained.output
+    facts = json.loads(trained.stdout)
+    assert facts["refit"] is True
+    assert facts["metrics"]["refit_products"] == facts["products_train"] + facts["products_valid"]
+    manifest = json.loads((project / "models" / "current" / "manifest.json").read_text())
+    assert manifest["refit_feeds"] == [str(files["train"].resolve())]
+    # The training feed's held-out rows trained the model too: they cannot set the threshold.
+    refused = run("onboard", NEW_FEED, "--project", project)
+    assert refused.exit_code != 0
+    message = " ".join(refused.stderr.split())
+    assert "trained on every labelled product (refit)" in message
+    assert "--validation FEED" in message
+    onboarded = run("onboard", NEW_FEED, "--project", project, "--validation", files["unseen"],
+                    "--json")  # fmt: skip
+    assert onboarded.exit_code == 0, onboarded.output
+    source = json.loads(onboarded.stdout)["validation_source"]
+    assert str(files["unseen"]) in source and "not trained on" in source

@@ -120,6 +120,7 @@ class TrainingReport:
     inner_examples: list[str] = field(default_factory=list)
     labels_as_paths: int = 0
     labels_translation: dict[str, Any] = field(default_factory=dict)
+    refit: bool = False
 
     def to_dict(self) -> dict[str, Any]:
         """Return the facts as JSON-ready values."""
@@ -525,6 +526,49 @@ def fit_model(
     return chosen
 
 
+# What calibration fits on held-out products (:meth:`CategoryModel.calibrate`): a refit model
+# keeps the values its held-out calibration gave.
+CALIBRATED = ("temperatures_", "keyword_weight_", "blend_temperature_", "metrics_")
+
+
+def refit_on_all(
+    model: CategoryModel,
+    texts: ProductTexts,
+    labels: Sequence[str],
+    valid_texts: ProductTexts,
+    valid_labels: Sequence[str],
+) -> CategoryModel:
+    """Train the chosen model again on the training and the validation products together.
+
+    The new model has the same settings (the structure chosen on validation included) and keeps
+    the calibration the held-out products gave the first one (:data:`CALIBRATED`): their
+    predictions by a model that never saw them. Cross-fitting in its simplest form: the
+    validation products then teach the model too, and cannot calibrate it, nor onboarding's
+    accept threshold, any more (``catmap train --refit``).
+
+    Returns:
+        The refit model.
+    """
+    import copy
+
+    # The settings as given (the tree shared, not copied; a dict of weights copied).
+    settings: dict[str, Any] = {
+        name: copy.copy(getattr(model, name)) if name != "tree" else model.tree
+        for name in inspect.signature(CategoryModel).parameters
+    }
+    every = ProductTexts(
+        texts.title + valid_texts.title,
+        texts.path + valid_texts.path,
+        texts.brand + valid_texts.brand,
+        texts.description + valid_texts.description,
+    )
+    refit = CategoryModel(**settings).fit(every, [*labels, *valid_labels])
+    for name in CALIBRATED:
+        setattr(refit, name, copy.deepcopy(getattr(model, name)))
+    refit.metrics_["refit_products"] = len(every)
+    return refit
+
+
 def _one_class_per_department(tree: CategoryTree, labels: Sequence[str]) -> bool:
     """Return True when no department holds two of the labels' classes."""
     classes = set(labels)
@@ -548,6 +592,7 @@ def train_model(
     on_stage: Callable[[str], None] | None = None,
     max_unknown_share: float = MAX_UNKNOWN_LABEL_SHARE,
     labels_from: dict[str, str] | None = None,
+    refit: bool = False,
 ) -> TrainingReport:
     """Read labelled feeds, train, calibrate on the validation rows, save the model folder.
 
@@ -567,6 +612,9 @@ def train_model(
             between the two (:class:`~catmap.tree.diff.LabelTranslation`), those of split or
             removed nodes dropped and counted. The model folder keeps it, so that onboarding's
             calibration reads them the same way.
+        refit: after calibration, train again on the validation products too
+            (:func:`refit_on_all`); the model folder says so, and onboarding then refuses those
+            products as calibration data.
 
     Returns:
         The report.
@@ -612,9 +660,12 @@ def train_model(
     model = fit_model(
         tree, texts, labels, valid_texts, valid_labels, options=options, on_stage=stage
     )
-    del texts
     consensus_weight, consensus_metrics = _choose_consensus_weight(model, valid_texts, valid_labels)
     model.metrics_.update(consensus_metrics)
+    if refit:
+        stage(f"training again on {len(labels) + len(valid_labels):,} products (refit)")
+        model = refit_on_all(model, texts, labels, valid_texts, valid_labels)
+    del texts
     elapsed = time.perf_counter() - started
     stage("saving the model")
     save_model(
@@ -627,6 +678,7 @@ def train_model(
             "training_seconds": round(elapsed, 2),
             "label_column": label_column,
             **({"labels_tree": labels_from} if labels_from else {}),
+            **({"refit_feeds": [str(Path(f).resolve()) for f in feeds]} if refit else {}),
         },
     )
     return TrainingReport(
@@ -654,6 +706,7 @@ def train_model(
         inner_examples=[f"{node} {tree[node].name}" for node in inner[:UNKNOWN_IDS_SHOWN]],
         labels_as_paths=counts.get("labels_as_paths", 0),
         labels_translation=translation.to_dict() if translation is not None else {},
+        refit=refit,
     )
 
 

@@ -67,6 +67,13 @@ from catmap.project import project_dir
     "(as with `catmap remap --changes`); without it the two trees' diff does.",
 )
 @click.option(
+    "--refit",
+    is_flag=True,
+    help="Once calibrated on the validation rows, train again on them too: more data for "
+    "the model, but those rows can no longer set onboarding's accept threshold; onboard "
+    "with --validation FEED, a labelled feed the model never saw.",
+)
+@click.option(
     "--classifier",
     type=click.Choice(("linear_svc", "sgd", "logistic")),
     default="linear_svc",
@@ -91,6 +98,7 @@ def train_command(
     max_unknown_share: float,
     labels_tree: str | None,
     labels_changes: Path | None,
+    refit: bool,
     classifier: str,
     model_path: Path | None,
     with_reviews: bool,
@@ -124,6 +132,7 @@ def train_command(
             max_unknown_share=max_unknown_share,
             labels_tree=labels_tree,
             labels_changes=labels_changes,
+            refit=refit,
         )
     if as_json:
         echo_json(facts)
@@ -149,7 +158,10 @@ def train_command(
         f"  per class            min {per_class['min']:,}, median {per_class['median']:,.0f}, "
         f"max {per_class['max']:,} products used"
     )
-    console.print(f"  validation products  {facts['products_valid']:,}")
+    console.print(
+        f"  validation products  {facts['products_valid']:,}"
+        + (" (then trained on too: --refit)" if facts.get("refit") else "")
+    )
     console.print(f"  reviewed examples    {facts['reviewed_examples']:,} (from the project store)")
     console.print(f"  validation accuracy  {metrics.get('valid_accuracy', 0):.3f}")
     console.print(

@@ -138,19 +138,24 @@ def _calibration_rows(
     label_column: str = "gold_node",
     *,
     translation: LabelTranslation | None = None,
+    refit_feeds: frozenset[Path] = frozenset(),
 ) -> tuple[list[tuple[Product, str]], list[str]]:
     """Labelled rows to calibrate on, and a description of each feed's part.
 
     A feed with a ``split`` column gives its ``valid`` rows only (the others may have trained
     the model); a feed without one is taken to be outside the training data and gives every
     labelled row. Labels are read from ``label_column`` (the one the model was trained
-    with), or from ``gold_node`` in a feed that lacks it.
+    with), or from ``gold_node`` in a feed that lacks it. A feed in ``refit_feeds`` (the model
+    was trained again on all its rows: ``catmap train --refit``) gives none.
     """
     rows: list[tuple[Product, str]] = []
     described: list[str] = []
     settings = load_settings(project)
     trained_on = {Path(f).resolve() for f in settings.labelled} if settings is not None else set()
     for feed in feeds:
+        if Path(feed).resolve() in refit_feeds:
+            described.append(f"none of {feed}: the model was trained on all its rows (refit)")
+            continue
         try:
             data = read_labelled(
                 [feed], tree=tree, project=project, label_column=label_column,
@@ -241,14 +246,19 @@ def validation_predictions(
     label_column = str(manifest.get("label_column") or "gold_node")
     # Labels of an older tree are read as training read them (the same rows held out).
     translation = labels_translation(manifest.get("labels_tree"), mapper.tree)
+    refit_feeds = frozenset(Path(f) for f in manifest.get("refit_feeds") or ())
     rows, described = _calibration_rows(
-        feeds, mapper.tree, Path(project), label_column, translation=translation
+        feeds, mapper.tree, Path(project), label_column, translation=translation,
+        refit_feeds=refit_feeds,
     )
     if not rows:
+        refit = any(Path(feed).resolve() in refit_feeds for feed in feeds)
         raise ModelError(
-            "no labelled products to choose the accept threshold from",
+            "no labelled products to choose the accept threshold from"
+            + ("; the model was trained on every labelled product (refit)" if refit else ""),
             path=feeds[0],
-            hint="give a labelled feed (gold_node column) the model was not trained on",
+            hint="give a labelled feed (gold_node column) the model was not trained on"
+            + (": `catmap onboard --validation FEED`" if refit else ""),
         )
     scores: list[float] = []
     correct: list[bool] = []

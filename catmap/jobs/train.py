@@ -155,6 +155,7 @@ def train_project(
     max_unknown_share: float | None = None,
     labels_tree: str | None = None,
     labels_changes: Path | None = None,
+    refit: bool = False,
 ) -> dict[str, Any]:
     """Train the mapping model and save it; return the training report's facts.
 
@@ -177,6 +178,8 @@ def train_project(
             dropped (see :func:`~catmap.classify.training.train_model`).
         labels_changes: the change log from ``labels_tree`` to the tree trained on: it decides
             where labels go, as ``catmap remap --changes`` does.
+        refit: train again on the validation products too, once calibrated (see
+            :func:`~catmap.classify.training.refit_on_all`).
 
     Returns:
         The report's facts, with ``reviewed_examples``: how many reviewed products were added.
@@ -213,6 +216,7 @@ def train_project(
             MAX_UNKNOWN_LABEL_SHARE if max_unknown_share is None else max_unknown_share
         ),
         labels_from=labels_tree_ref(project, labels_tree, labels_changes) if labels_tree else None,
+        refit=refit,
     )
     facts = report.to_dict()
     facts["reviewed_examples"] = len(reviewed)
