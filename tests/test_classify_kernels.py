@@ -13,7 +13,7 @@ from sklearn.feature_extraction.text import TfidfTransformer, TfidfVectorizer
 from sklearn.preprocessing import normalize
 
 from catmap.classify._kernels import (
-    _score_new_words_wide,
+    _score_grouped,
     add_rows,
     char_wb_rows,
     dense_rows,
@@ -334,7 +334,9 @@ def test_new_words_scores_equal_scoring_their_rows_by_column_bit_for_bit(wide: b
     entry_idf = np.full(rows.nnz, -1.0)
     x = (need, rows.indptr.astype(np.int64), rows.indices, rows.data, idf, row_of, block, 3)
     if wide:  # the 64-bit steps, taken past 2**31 entries
-        _score_new_words_wide(*x, scores, entry_idf)
+        entries = int(sum(rows.indptr[i + 1] - rows.indptr[i] for i in need))
+        start, owner = np.zeros(201, dtype=np.int64), np.empty(entries, dtype=np.int64)
+        _score_grouped(*x, scores, entry_idf, start, owner)
         ready[need] = 1
     else:
         score_new_words(*x, scores, ready, entry_idf)

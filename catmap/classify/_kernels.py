@@ -432,54 +432,26 @@ def score_new_words(
         c_idf: float64, room for every entry of the count rows: the words' entries' idf is
             written here.
     """
-    k = block.shape[1]
     n_features = len(idf)
     # The words' entries grouped by feature (a counting sort), words in order within each.
     # 32-bit positions and word numbers: half the memory of 64-bit ones, written at random.
     n_entries = 0
     for i in range(len(words)):
         n_entries += c_indptr[words[i] + 1] - c_indptr[words[i]]
-    wide = n_entries >= 2**31 or len(word_scores) >= 2**31
-    start = np.zeros(n_features + 1 if not wide else 0, dtype=np.int32)
-    if wide:  # never in practice (a cache holds far fewer): the same steps in 64 bits
-        _score_new_words_wide(
-            words, c_indptr, c_indices, c_data, idf, row_of, block, offset, word_scores, c_idf
-        )
+    x = (words, c_indptr, c_indices, c_data, idf, row_of, block, offset, word_scores, c_idf)
+    if n_entries >= 2**31 or len(word_scores) >= 2**31:
+        # Never in practice (a cache holds far fewer): the same steps in 64 bits.
+        start64 = np.zeros(n_features + 1, dtype=np.int64)
+        _score_grouped(*x, start64, np.empty(n_entries, dtype=np.int64))
     else:
-        for i in range(len(words)):
-            w = words[i]
-            for p in range(c_indptr[w], c_indptr[w + 1]):
-                start[c_indices[p] + 1] += 1
-        for f in range(n_features):
-            start[f + 1] += start[f]
-        fill = start[:-1].copy()
-        owner = np.empty(n_entries, dtype=np.int32)
-        value = np.empty(n_entries, dtype=np.float32)
-        for i in range(len(words)):
-            w = words[i]
-            word_scores[w, :] = 0.0
-            for p in range(c_indptr[w], c_indptr[w + 1]):
-                f = c_indices[p]
-                q = fill[f]
-                owner[q] = w
-                c_idf[p] = idf[f]
-                value[q] = np.float32(c_data[p] * idf[f])
-                fill[f] = q + 1
-        for f in range(n_features):
-            r = row_of[f + offset]
-            if r < 0:
-                continue
-            for q in range(start[f], start[f + 1]):
-                w = owner[q]
-                v = value[q]
-                for c in range(k):
-                    word_scores[w, c] += v * block[r, c]
+        start32 = np.zeros(n_features + 1, dtype=np.int32)
+        _score_grouped(*x, start32, np.empty(n_entries, dtype=np.int32))
     for i in range(len(words)):
         word_ready[words[i]] = 1
 
 
 @njit(cache=True, nogil=True, fastmath=True)
-def _score_new_words_wide(
+def _score_grouped(
     words: Array,
     c_indptr: Array,
     c_indices: Array,
@@ -490,11 +462,13 @@ def _score_new_words_wide(
     offset: int,
     word_scores: Array,
     c_idf: Array,
+    start: Array,
+    owner: Array,
 ) -> None:
-    """:func:`score_new_words`'s scores with 64-bit positions (past 2**31 entries or words)."""
+    """:func:`score_new_words`'s scores, with positions and word numbers in the integer type of
+    ``start`` (zeros, one more than the features) and ``owner`` (one per entry)."""
     k = block.shape[1]
     n_features = len(idf)
-    start = np.zeros(n_features + 1, dtype=np.int64)
     for i in range(len(words)):
         w = words[i]
         for p in range(c_indptr[w], c_indptr[w + 1]):
@@ -502,17 +476,17 @@ def _score_new_words_wide(
     for f in range(n_features):
         start[f + 1] += start[f]
     fill = start[:-1].copy()
-    owner = np.empty(start[-1], dtype=np.int64)
-    value = np.empty(start[-1], dtype=np.float32)
+    value = np.empty(len(owner), dtype=np.float32)
     for i in range(len(words)):
         w = words[i]
         word_scores[w, :] = 0.0
         for p in range(c_indptr[w], c_indptr[w + 1]):
             f = c_indices[p]
-            owner[fill[f]] = w
+            q = fill[f]
+            owner[q] = w
             c_idf[p] = idf[f]
-            value[fill[f]] = np.float32(c_data[p] * idf[f])
-            fill[f] += 1
+            value[q] = np.float32(c_data[p] * idf[f])
+            fill[f] = q + 1
     for f in range(n_features):
         r = row_of[f + offset]
         if r < 0:
