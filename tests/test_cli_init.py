@@ -227,3 +227,15 @@ def test_a_refit_model_calibrates_only_on_a_feed_it_never_saw(tmp_path: Path) ->
     assert onboarded.exit_code == 0, onboarded.output
     source = json.loads(onboarded.stdout)["validation_source"]
     assert str(files["unseen"]) in source and "not trained on" in source
+
+
+def test_onboard_takes_the_tree_version_its_error_hint_names(tmp_path: Path) -> None:
+    project = tmp_path / "p"
+    assert run("init", project, "--tree", TREE, "--labelled", LABELLED).exit_code == 0
+    assert run("train", "--project", project).exit_code == 0
+    # The shared tree v1 is not the model's tree: refused, and the hint's options exist here.
+    result = run("onboard", NEW_FEED, "--project", project, "--tree-version", "1")
+    assert result.exit_code == 4, result.output
+    assert "the model was trained on tree version 1" in result.stderr
+    assert "taxonomies/tree-v1.txt" in result.stderr
+    assert "--tree-version N" in result.stderr

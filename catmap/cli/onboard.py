@@ -25,6 +25,7 @@ from catmap.cli._render import (
     json_option,
     spinner,
     tree_file_option,
+    tree_version_option,
 )
 from catmap.cli._render import project_option as _project_option
 from catmap.cli.audit import audit_lines
@@ -135,6 +136,7 @@ _max_error_option = click.option(
     "process writes the store; the result is the same as without --cluster.",
 )
 @feed_name_option
+@tree_version_option
 @tree_file_option()
 @_project_option
 @json_option
@@ -147,6 +149,7 @@ def onboard_command(
     validation_feed: tuple[Path, ...],
     cluster: str | None,
     feed_name: str | None,
+    tree_version: str | None,
     tree_file: Path | None,
     project: str | None,
     as_json: bool,
@@ -165,7 +168,7 @@ def onboard_command(
     the order given: the store is the same as after onboarding them one by one.
     """
     folder = project_dir(project)
-    tree = project_tree(folder, tree_file=tree_file)
+    tree = project_tree(folder, tree_file=tree_file, tree_version=tree_version)
     options = OnboardOptions(
         max_error=max_error,
         delta=1 - confidence,
