@@ -215,6 +215,9 @@ class ProjectSettings:
         brands_file: the project's brand list, relative to the project folder (None: none).
         labelled: labelled feeds ``catmap train`` learns from when given none.
         demo: the project of ``catmap demo`` (the only one that uses the demo world).
+        labels_version: the tree version the labelled feeds' labels name, once the project's
+            tree has moved on to a newer version (``catmap remap-finalise``); None: the
+            tree's version.
     """
 
     tree_file: str | None = None
@@ -223,6 +226,12 @@ class ProjectSettings:
     brands_file: str | None = None
     labelled: list[str] = field(default_factory=list)
     demo: bool = False
+    labels_version: str | None = None
+
+    @property
+    def labels_tree_version(self) -> str:
+        """The tree version the labelled feeds' labels name."""
+        return self.labels_version or self.tree_version
 
 
 def settings_path(project: str | Path) -> Path:
@@ -280,6 +289,13 @@ def settings_text(settings: ProjectSettings) -> str:
         "labelled = [",
         *(f"    {_toml_text(feed)}," for feed in settings.labelled),
         "]",
+    ]
+    if settings.labels_version is not None:
+        lines += [
+            "# The tree version their labels name (the project's tree has moved on since).",
+            f"labels_version = {_toml_text(settings.labels_version)}",
+        ]
+    lines += [
         "",
         "[project]",
         "# true only for the project of `catmap demo`, the one that uses the demo world.",
@@ -337,6 +353,7 @@ def load_settings(project: str | Path) -> ProjectSettings | None:
         brands_file=_optional_text(brands.get("file")),
         labelled=list(labelled),
         demo=bool(info.get("demo", False)),
+        labels_version=_optional_text(train.get("labels_version")),
     )
 
 

@@ -158,6 +158,8 @@ def test_a_project_of_ones_own_remaps_from_its_own_tree(tmp_path: Path) -> None:
         "tree-v2.txt",
         "2",
     )
+    # The labelled feeds' labels still name version 1's nodes: the settings say so.
+    assert load_settings(folder).labels_tree_version == "1"
     assert (folder / "tree-v1.txt").read_bytes() == first
     exported = _run("export", "--project", str(folder), "--out", str(tmp_path / "out"))
     assert exported.exit_code == 0, exported.output

@@ -174,3 +174,32 @@ def test_labels_of_an_older_tree_are_read_through_its_changes(tmp_path: Path) ->
     text = runner.invoke(main, [*args, "--labels-tree", str(old)]).stdout
     assert "labels of tree 1" in text and "80 of unchanged nodes" in " ".join(text.split())
     assert "split 16" in text
+
+
+def test_a_finalised_remap_onto_a_newer_shared_tree_makes_it_the_projects_tree(
+    tmp_path: Path,
+) -> None:
+    from catmap.jobs._project_tree import adopt_version_tree, project_tree
+    from catmap.project import fingerprint, load_settings
+    from catmap.tree.taxonomy import default_tree_path
+
+    project = tmp_path / "shop"
+    runner = CliRunner()
+    init = runner.invoke(main, ["init", str(project)])
+    assert init.exit_code == 0, init.output
+    assert project_tree(project).version == "1"
+    # What `catmap remap-finalise` does once a remap onto shared tree 2 is kept.
+    assert adopt_version_tree(project, "2") == default_tree_path(2)
+    settings = load_settings(project)
+    assert settings is not None
+    assert (settings.tree_version, settings.labels_version) == ("2", "1")
+    assert settings.tree_fingerprint == fingerprint(default_tree_path(2))
+    assert project_tree(project).version == "2"
+    assert adopt_version_tree(project, "2") is None  # already its tree
+    # The labelled feeds still name tree 1's nodes: training with none given learns from the
+    # remapped catalog (none here), and says how to use those feeds instead.
+    result = runner.invoke(main, ["train", "--project", str(project)])
+    assert result.exit_code == 4, result.output
+    message = " ".join(result.stderr.split())
+    assert "no labelled products for tree version 2" in message
+    assert "--labels-tree VERSION" in message

@@ -15,7 +15,7 @@ from typing import TYPE_CHECKING
 from catmap._atomic import write_bytes_atomic
 from catmap.errors import ModelNotTrained, ModelTreeMismatch, TreeError
 from catmap.project import SETTINGS_FILE, feed_name, fingerprint, load_settings, save_settings
-from catmap.tree.taxonomy import CategoryTree, load_default_tree, load_tree
+from catmap.tree.taxonomy import CategoryTree, default_tree_path, load_default_tree, load_tree
 from catmap.tree.treefile import LANGUAGES
 
 if TYPE_CHECKING:
@@ -191,18 +191,40 @@ def keep_version_tree(project: str | Path, tree: CategoryTree) -> Path | None:
 
 
 def adopt_version_tree(project: str | Path, version: str) -> Path | None:
-    """Make the kept copy of a tree of one's own of ``version`` the project's tree, once the
-    remap to it is final: later commands (train, onboard, map) then use it with no
-    ``--tree-file``. The tree it replaces is kept as ``tree-v{N}.txt`` of its version first,
-    so that the records of that version still find it.
+    """Make the tree of ``version`` the project's tree, once the remap to it is final: later
+    commands (train, onboard, map) then use it with no ``--tree-file`` or ``--tree-version``.
+
+    A project of one's own takes the kept copy of its tree of that version; the tree it
+    replaces is kept as ``tree-v{N}.txt`` of its version first, so that the records of that
+    version still find it. A project on the shared tree takes the shared tree of that version.
+    Either way the settings keep which version the labelled feeds' labels name
+    (``labels_version``): training then learns from the remapped catalog, or from those
+    feeds read through the changes (``catmap train --labels-tree``).
 
     Returns:
-        The project's tree file now, or None: the project uses the shared tree, the version is
-        already its tree's, or no copy of that version is kept.
+        The project's tree file now, or None: the version is already its tree's, there is no
+        such tree, or the project has no settings.
     """
     settings = load_settings(project)
-    if settings is None or settings.tree_file is None or str(version) == settings.tree_version:
+    if settings is None or str(version) == settings.tree_version:
         return None
+    if settings.tree_file is None:
+        try:
+            shared = default_tree_path(str(version))
+        except TreeError:
+            return None
+        if not shared.is_file():
+            return None
+        save_settings(
+            project,
+            dataclasses.replace(
+                settings,
+                tree_version=str(version),
+                tree_fingerprint=fingerprint(shared),
+                labels_version=settings.labels_tree_version,
+            ),
+        )
+        return shared
     path = version_tree_path(project, str(version))
     if not path.is_file():
         return None
@@ -217,6 +239,7 @@ def adopt_version_tree(project: str | Path, version: str) -> Path | None:
             tree_file=path.name,
             tree_version=str(version),
             tree_fingerprint=fingerprint(path),
+            labels_version=settings.labels_tree_version,
         ),
     )
     return path

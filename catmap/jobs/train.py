@@ -90,7 +90,7 @@ def training_sources(
     """
     settings = load_settings(project)
     sources = list(feeds)
-    labels_version = settings.tree_version if settings is not None else DEMO_TREE_VERSION
+    labels_version = settings.labels_tree_version if settings is not None else DEMO_TREE_VERSION
     shared = tree.path == str(default_tree_path(tree.version))
     own = settings is not None and settings.tree_file is not None
     newer = (shared or own) and str(tree.version) != labels_version
