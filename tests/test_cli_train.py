@@ -101,6 +101,20 @@ def test_a_project_of_ones_own_trains_on_its_remapped_tree_from_the_store(
     assert facts["tree_version"] == "2"
     assert [Path(feed).name for feed in facts["feeds"]] == ["remapped-catalog-v2.jsonl"]
     assert facts["rows_read"] == 48
+    assert facts["older_labels"] == ""  # the project has no labelled feeds to point to
+    # With labelled feeds of version 1, the summary says they were left out and how to use them.
+    import dataclasses
+
+    from catmap.project import load_settings, save_settings
+
+    settings = load_settings(project)
+    assert settings is not None
+    save_settings(project, dataclasses.replace(settings, labelled=[str(project / "old.csv")]))
+    again = runner.invoke(main, ["train", "--project", str(project), "--tree-file", str(kept)])
+    assert again.exit_code == 0, again.output
+    said = " ".join(again.stdout.split())
+    assert "the project's labelled feeds name tree 1's nodes and were left out" in said
+    assert "`catmap train --labels-tree 1`" in said
 
 
 def test_training_on_a_remapped_tree_with_nothing_settled_says_what_to_do(

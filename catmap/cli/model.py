@@ -216,6 +216,14 @@ def train_command(
             "products like them are mapped to those nodes, not to a leaf below; label them "
             "with leaves for leaf answers"
         )
+    older = facts.get("older_labels")
+    if older:
+        console.print(
+            f"  labelled feeds       the project's labelled feeds name tree {escape(older)}'s "
+            f"nodes and were left out: `catmap train --labels-tree {escape(older)}` learns from "
+            "them, read through the changes (with `--labels-changes LOG` if you have the "
+            "change log)"
+        )
     console.print(f"Model saved to {escape(facts['model_dir'])}")
 
 

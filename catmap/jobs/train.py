@@ -220,4 +220,17 @@ def train_project(
     )
     facts = report.to_dict()
     facts["reviewed_examples"] = len(reviewed)
+    facts["older_labels"] = _older_labels(project, tree, feeds, labels_tree)
     return facts
+
+
+def _older_labels(
+    project: Path, tree: CategoryTree, feeds: Sequence[Path], labels_tree: str | None
+) -> str:
+    """The tree version of the project's labelled feeds when this training left them out for
+    the remapped catalog (they name an older tree's nodes), else ""."""
+    settings = load_settings(project)
+    if feeds or labels_tree or settings is None or not (settings.labelled or settings.demo):
+        return ""
+    older = settings.labels_tree_version
+    return older if older != str(tree.version) else ""
