@@ -68,8 +68,10 @@ def training_sources(
     *,
     with_reviews: bool = True,
     labels_translated: bool = False,
-) -> tuple[list[Path], list[tuple[Product, str]]]:
-    """Return the labelled feeds to train on and the reviewed products to add.
+) -> tuple[list[Path], list[tuple[Product, str]], str]:
+    """Return the labelled feeds to train on, the reviewed products to add, and the tree
+    version of the project's labelled feeds when they were left out for the remapped catalog
+    (they name an older tree's nodes; "" otherwise).
 
     Without feeds: the project's labelled feeds (``catmap init --labelled``). The project of
     ``catmap demo`` learns from the demo reference catalog (built when missing) on the demo's
@@ -97,7 +99,8 @@ def training_sources(
     if not sources and newer and not labels_translated:
         # A newer tree than the project's labels (the shared one, or a tree of one's own the
         # project was remapped to): learn from its remapped catalog.
-        return [remapped_catalog(project, tree)], []
+        has_labelled = settings is not None and (bool(settings.labelled) or settings.demo)
+        return [remapped_catalog(project, tree)], [], labels_version if has_labelled else ""
     if not sources and settings is not None and settings.labelled:
         sources = [Path(feed) for feed in settings.labelled]
     demo = settings is not None and settings.demo
@@ -116,7 +119,7 @@ def training_sources(
             "FEED`; `catmap demo` trains on the invented demo world",
         )
     reviewed = project_review_examples(project, tree) if with_reviews else []
-    return sources, reviewed
+    return sources, reviewed, ""
 
 
 def labels_tree_ref(project: Path, given: str, changes: Path | None = None) -> dict[str, str]:
@@ -197,7 +200,7 @@ def train_project(
         )
 
     tree = project_tree(project, tree_file=tree_file, tree_version=tree_version)
-    sources, reviewed = training_sources(
+    sources, reviewed, left_out = training_sources(
         project, tree, feeds, with_reviews=with_reviews, labels_translated=bool(labels_tree)
     )
     options: dict[str, Any] = {"classifier": classifier}
@@ -220,17 +223,5 @@ def train_project(
     )
     facts = report.to_dict()
     facts["reviewed_examples"] = len(reviewed)
-    facts["older_labels"] = _older_labels(project, tree, feeds, labels_tree)
+    facts["older_labels"] = left_out
     return facts
-
-
-def _older_labels(
-    project: Path, tree: CategoryTree, feeds: Sequence[Path], labels_tree: str | None
-) -> str:
-    """The tree version of the project's labelled feeds when this training left them out for
-    the remapped catalog (they name an older tree's nodes), else ""."""
-    settings = load_settings(project)
-    if feeds or labels_tree or settings is None or not (settings.labelled or settings.demo):
-        return ""
-    older = settings.labels_tree_version
-    return older if older != str(tree.version) else ""
