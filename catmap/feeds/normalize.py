@@ -18,7 +18,6 @@ import unicodedata
 from decimal import Decimal, InvalidOperation
 from functools import lru_cache
 
-from catmap._text import fold
 from catmap.feeds._currency import (
     DOLLAR_CURRENCIES,
     ISO_4217_CODES,
@@ -28,7 +27,6 @@ from catmap.feeds._currency import (
     WORDS,
     YEN_CURRENCIES,
 )
-from catmap.feeds.colour import colour_spans
 
 __all__ = [
     "clean_line",
@@ -844,6 +842,10 @@ def is_colour_value(value: str) -> bool:
     Returns:
         True when recognised.
     """
+    # Imported here: the lexicon is built on import, and many feeds have no colour column.
+    from catmap._text import fold
+    from catmap.feeds.colour import colour_spans
+
     folded = fold(value)
     spans = colour_spans(folded)
     seen_colour = bool(spans)
