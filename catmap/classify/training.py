@@ -31,7 +31,13 @@ from catmap.feeds.profiled import open_profiled_feed
 from catmap.records import Product
 from catmap.tree.changelog import load_change_log
 from catmap.tree.diff import LabelTranslation, crosswalk_from_changes, diff_trees, reconcile
-from catmap.tree.taxonomy import CategoryTree, default_tree_path, load_tree, open_tree
+from catmap.tree.taxonomy import (
+    CategoryTree,
+    default_tree_path,
+    load_tree,
+    open_tree,
+    path_label_reader,
+)
 
 __all__ = [
     "CONSENSUS_WEIGHT_GRID",
@@ -191,7 +197,7 @@ def _labelled_stream(
     ``unknown_ids`` the first distinct node ids the tree lacks.
     """
     rng = random.Random(random_state)
-    as_path = _path_labels(tree)
+    as_path = path_label_reader(tree)
     for feed_path in feeds:
         opened = open_profiled_feed(feed_path, project, reserved=(label_column, "split"))
         if label_column not in opened.info.columns:
@@ -237,27 +243,6 @@ def _labelled_stream(
                 split = "valid" if rng.random() < VALID_SHARE else "train"
             counts[split] = counts.get(split, 0) + 1
             yield item, label, split
-
-
-def _path_labels(tree: CategoryTree) -> Callable[[str], str]:
-    """Return a reader of labels written as paths of names: the node's id, "" for no node.
-
-    Only labels with a ``>`` are read (a bare name may be the name of several nodes); each
-    distinct label is looked up once.
-    """
-    known: dict[str, str] = {}
-
-    def node_of(label: str) -> str:
-        if ">" not in label:
-            return ""
-        if label not in known:
-            try:
-                known[label] = tree.find_path(label).id
-            except UnknownNode:
-                known[label] = ""
-        return known[label]
-
-    return node_of
 
 
 def read_labelled(

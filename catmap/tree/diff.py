@@ -29,10 +29,10 @@ from typing import Any, Protocol
 
 from catmap._atomic import atomic_open
 from catmap._cells import neutralise_cell, restore_cell
-from catmap.errors import InputError, TreeError, UnknownNode
+from catmap.errors import InputError, TreeError
 from catmap.tree.changelog import Change, ChangeLog, apply_changes
 from catmap.tree.search import fold_text
-from catmap.tree.taxonomy import CategoryTree
+from catmap.tree.taxonomy import CategoryTree, path_label_reader
 from catmap.tree.treefile import Node
 
 __all__ = [
@@ -700,7 +700,7 @@ class LabelTranslation:
             else:
                 kind = "+".join(corr.changes)
                 self._kind[corr.old_id] = kind if corr.confidence >= SURE else f"{kind} (unsure)"
-        self._paths: dict[str, str] = {}
+        self._old_path = path_label_reader(old)
 
     def node(self, label: str) -> str | None:
         """Return the new tree's node for a label of the old tree.
@@ -721,16 +721,6 @@ class LabelTranslation:
         else:
             self.translated += 1
         return target
-
-    def _old_path(self, label: str) -> str:
-        if ">" not in label:
-            return ""
-        if label not in self._paths:
-            try:
-                self._paths[label] = self.old.find_path(label).id
-            except UnknownNode:
-                self._paths[label] = ""
-        return self._paths[label]
 
     def to_dict(self) -> dict[str, Any]:
         """Return the counts as JSON-ready values."""

@@ -17,7 +17,7 @@ from __future__ import annotations
 
 import os
 from collections import Counter
-from collections.abc import Iterable, Iterator
+from collections.abc import Callable, Iterable, Iterator
 from pathlib import Path
 from typing import Any
 
@@ -44,6 +44,7 @@ __all__ = [
     "load_default_tree",
     "load_tree",
     "open_tree",
+    "path_label_reader",
     "summarize_tree",
 ]
 
@@ -454,6 +455,27 @@ def _parents_first(nodes: list[Node]) -> list[Node]:
 
 # catmap's own shared trees: the only files held to the shared tree's stricter leaf levels.
 _SHIPPED_TAXONOMIES = Path(__file__).resolve().parents[2] / "taxonomies"
+
+
+def path_label_reader(tree: CategoryTree) -> Callable[[str], str]:
+    """Return a reader of labels written as paths of names: the node's id, "" for no node.
+
+    Only labels with a ``>`` are read (a bare name may be the name of several nodes); each
+    distinct label is looked up once.
+    """
+    known: dict[str, str] = {}
+
+    def node_of(label: str) -> str:
+        if ">" not in label:
+            return ""
+        if label not in known:
+            try:
+                known[label] = tree.find_path(label).id
+            except UnknownNode:
+                known[label] = ""
+        return known[label]
+
+    return node_of
 
 
 def load_tree(path: str | Path) -> CategoryTree:
