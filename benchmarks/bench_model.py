@@ -610,13 +610,21 @@ def run_unseen(
     """
     from catmap.classify.storage import load_model
     from catmap.classify.training import read_labelled, train_model
-    from catmap.jobs.onboard import FeedMapper, calibration_sources, default_calibration_feeds
+    from catmap.jobs.onboard import (
+        FeedMapper,
+        calibration_sources,
+        default_calibration_feeds,
+        held_out_recorder,
+    )
 
     project = workdir / "unseen-project"
     model_dir = project / "models" / "current"
+    options = dict(model_options or {})
+    refit = bool(options.pop("refit", True))  # as `catmap train`
     started = time.perf_counter()
     train_model(
-        [reference], tree=tree, project=project, model_dir=model_dir, model_options=model_options
+        [reference], tree=tree, project=project, model_dir=model_dir, model_options=options,
+        refit=refit, before_refit=held_out_recorder([reference], tree=tree, project=project),
     )
     print(f"  trained in {time.perf_counter() - started:.0f} s", file=sys.stderr)
     model, manifest = load_model(model_dir, tree)
@@ -897,7 +905,7 @@ def main(argv: list[str] | None = None) -> int:
         default=[],
         metavar="NAME=JSON",
         help="a CategoryModel setting for the unseen step's training, e.g. path_noise=0.3 or "
-        "max_per_class=500 (repeatable)",
+        "max_per_class=500, or refit=false (`catmap train --no-refit`) (repeatable)",
     )
     args = parser.parse_args(argv)
     chosen = {name.strip() for name in args.only.split(",")}

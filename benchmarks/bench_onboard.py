@@ -27,6 +27,7 @@ from catmap.jobs.onboard import (
     OnboardOptions,
     check_against_gold,
     default_model_dir,
+    held_out_recorder,
     onboard_feed,
     review_examples,
 )
@@ -104,12 +105,15 @@ def _train(
     project: Path, reference: Path, extra: list[tuple[Product, str]] | None = None
 ) -> float:
     started = time.perf_counter()
-    train_model(
+    tree = load_default_tree(1)
+    train_model(  # as `catmap train` trains (refit included)
         [reference],
-        tree=load_default_tree(1),
+        tree=tree,
         project=project,
         model_dir=default_model_dir(project),
         extra_examples=extra or (),
+        refit=True,
+        before_refit=held_out_recorder([reference], tree=tree, project=project),
     )
     return time.perf_counter() - started
 

@@ -15,7 +15,9 @@ Models, each trained and scored in a fresh process (so that the peak memory is i
 * catmap: trained through the Python API with ``catmap.classify.training.fit_model`` (what
   ``catmap train`` runs) on the tree above: nine tenths of the training split train it, a
   seeded tenth calibrates it and chooses its structure (department step or flat, by validation
-  macro-F1) and never trains it (onboarding calibrates on such held-out products);
+  macro-F1), then the model is trained again on all of the training split, as ``catmap train``
+  does by default (``--catmap-option refit=false``: without that step; onboarding calibrates
+  on the predictions the tenth got before it trained the model);
 * catmap CLI: the same through the command line, as a user runs it: ``catmap train --tree-file``
   on a CSV of the training split (a ``split`` column marks the same tenth ``valid``), then
   ``catmap map --tree-file --backoff-threshold 0 --workers 1`` on a CSV of the test split; both
@@ -230,7 +232,7 @@ def run_model(
         from catmap.classify.training import fit_model, refit_on_all
 
         options = dict(options or {})
-        refit = bool(options.pop("refit", False))
+        refit = bool(options.pop("refit", True))  # as `catmap train` (refit=false: --no-refit)
         valid = calibration_rows(len(x_train))
         parts = (
             texts([x for x, v in zip(x_train, valid, strict=True) if not v]),
@@ -238,9 +240,9 @@ def run_model(
             texts([x for x, v in zip(x_train, valid, strict=True) if v]),
             [y for y, v in zip(y_train, valid, strict=True) if v],
         )
-        # As `catmap train` does (the same function): trained on nine tenths of train,
-        # calibrated and its structure chosen on the rest; with refit=true (`catmap train
-        # --refit`), then trained again on all of train.
+        # As `catmap train` does (the same functions): trained on nine tenths of train,
+        # calibrated and its structure chosen on the rest, then trained again on all of train
+        # (refit=false: `catmap train --no-refit`, without that last step).
         model = fit_model(tree, *parts, options=options)
         note = (
             f"kept the {'department step' if model.hierarchical else 'flat'} structure "
@@ -600,7 +602,8 @@ def main(argv: list[str] | None = None) -> int:
     print(
         "\nData: the Debian archive's package index (apt-cache dumpavail). catmap: fit_model "
         "via the Python API on the tree file above (calibrated and its structure chosen on a "
-        "seeded tenth of train, trained on the rest); catmap CLI: `catmap train "
+        "seeded tenth of train, trained on the rest, then on all of train unless "
+        "refit=false); catmap CLI: `catmap train "
         "--tree-file` on a CSV of the train split, then `catmap map --tree-file "
         "--backoff-threshold 0 --workers 1` on a CSV of the test split, each timed from "
         "start-up (train s and products/s include it; peak MB is the larger process); logreg: "

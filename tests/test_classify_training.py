@@ -171,3 +171,22 @@ def test_a_refit_trains_on_the_validation_products_too_and_keeps_their_calibrati
     assert refit.metrics_["refit_products"] == len(labels) + len(valid_labels)
     assert refit.metrics_["valid_accuracy"] == model.metrics_["valid_accuracy"]
     assert refit.hierarchical == model.hierarchical
+
+
+def test_a_training_feed_is_known_by_its_path_or_its_content(tmp_path: Path) -> None:
+    from catmap.classify.storage import file_fingerprint, training_feed
+
+    feed = tmp_path / "labelled.csv"
+    feed.write_text("id,title,gold_node\n1,a lamp,100\n", encoding="utf-8")
+    copy = tmp_path / "elsewhere" / "renamed.csv"
+    copy.parent.mkdir()
+    copy.write_bytes(feed.read_bytes())
+    other = tmp_path / "other.csv"
+    other.write_text("id,title,gold_node\n1,a chair,200\n", encoding="utf-8")
+    manifest = {
+        "training_feeds": [{"path": str(feed.resolve()), "fingerprint": file_fingerprint(feed)}]
+    }
+    assert training_feed(manifest, feed) == feed.resolve()
+    assert training_feed(manifest, copy) == feed.resolve()  # the same rows, another file
+    assert training_feed(manifest, other) is None
+    assert training_feed({}, feed) is None  # a model folder from before the list

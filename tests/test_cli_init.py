@@ -12,9 +12,10 @@ import pytest
 from click.testing import CliRunner, Result
 
 from catmap.attributes.brand import dictionary_in_use
+from catmap.classify.storage import load_model
 from catmap.cli import main
 from catmap.errors import ModelTreeMismatch
-from catmap.jobs.onboard import check_store_tree
+from catmap.jobs.onboard import FeedMapper, check_store_tree
 from catmap.project import SETTINGS_FILE, load_settings
 from catmap.store import Store
 from catmap.tree.taxonomy import load_tree
@@ -193,8 +194,14 @@ def test_the_demo_stays_out_of_a_project_of_ones_own(tmp_path: Path) -> None:
     assert "the demo world stays out of it" in result.stderr
 
 
-def test_a_refit_model_calibrates_only_on_a_feed_it_never_saw(tmp_path: Path) -> None:
+def test_a_refit_model_calibrates_on_what_it_predicted_before_it_saw_the_held_out_rows(
+    tmp_path: Path,
+) -> None:
     import csv
+
+    import numpy as np
+
+    from catmap.jobs.onboard import held_out_predictions, validation_predictions
 
     # Half of the example's labelled rows train; the other half is a feed the model never saw.
     with LABELLED.open(encoding="utf-8", newline="") as handle:
@@ -209,16 +216,50 @@ def test_a_refit_model_calibrates_only_on_a_feed_it_never_saw(tmp_path: Path) ->
             writer.writerows(part)
     project = tmp_path / "p"
     assert run("init", project, "--tree", TREE, "--labelled", files["train"]).exit_code == 0
+    # The same training without the refit: its model has not seen the held-out rows either.
+    plain = tmp_path / "plain-model"
+    assert run("train", "--project", project, "--no-refit", "--model", plain).exit_code == 0
     trained = run("train", "--project", project, "--refit", "--json")
     assert trained.exit_code == 0, trained.output
     facts = json.loads(trained.stdout)
     assert facts["refit"] is True
     assert facts["metrics"]["refit_products"] == facts["products_train"] + facts["products_valid"]
-    manifest = json.loads((project / "models" / "current" / "manifest.json").read_text())
+    folder = project / "models" / "current"
+    manifest = json.loads((folder / "manifest.json").read_text())
     assert manifest["refit_feeds"] == [str(files["train"].resolve())]
-    # The training feed's held-out rows trained the model too: they cannot set the threshold.
+    # The held-out rows were mapped before the refit, by the model that had not seen them: the
+    # plain model, saved and loaded, maps them to the same scores.
+    kept = held_out_predictions(folder, files["train"])
+    assert kept is not None and len(kept) == facts["products_valid"]
+    assert "cross-fitted" in kept.source
+    # A copy of the training feed is the same rows: the same held-out predictions, never the
+    # refit model's own predictions of rows it trained on.
+    copy = tmp_path / "elsewhere" / files["train"].name
+    copy.parent.mkdir()
+    copy.write_bytes(files["train"].read_bytes())
+    assert held_out_predictions(folder, copy) is not None
+    tree = load_tree(TREE)
+    model, plain_manifest = load_model(plain, tree)
+    before = validation_predictions(
+        FeedMapper(model, plain_manifest, tree), plain, project=project,
+        labelled_feeds=[files["train"]],
+    )  # fmt: skip
+    assert np.array_equal(before.correct, kept.correct)
+    assert np.allclose(before.scores, kept.scores, rtol=0, atol=1e-12)
+    assert np.array_equal(before.retailers, kept.retailers)
+    # Onboarding calibrates on them, and says so.
+    onboarded = run("onboard", NEW_FEED, "--project", project, "--json")
+    assert onboarded.exit_code == 0, onboarded.output
+    assert "cross-fitted" in json.loads(onboarded.stdout)["validation_source"]
+    # A damaged file of them is no file: refused with what to do, no traceback.
+    for cached in folder.glob("*.npz"):
+        if cached.name.startswith(("calibration-", "validation-")):
+            cached.unlink()
+    held = next(folder.glob("held-out-*.npz"))
+    held.write_bytes(b"not a zip")
     refused = run("onboard", NEW_FEED, "--project", project)
     assert refused.exit_code != 0
+    assert "Traceback" not in refused.stderr
     message = " ".join(refused.stderr.split())
     assert "trained on every labelled product (refit)" in message
     assert "--validation FEED" in message

@@ -63,6 +63,24 @@ def file_fingerprint(path: str | Path | None) -> str:
     return digest.hexdigest()
 
 
+def training_feed(manifest: dict[str, Any], feed: str | Path) -> Path | None:
+    """Which of the model's training feeds ``feed`` is: the same file, or one of the same
+    content (a copy elsewhere); None when it is none of them (or the manifest predates the
+    list)."""
+    feeds = [item for item in manifest.get("training_feeds") or () if isinstance(item, dict)]
+    if not feeds:
+        return None
+    resolved = Path(feed).resolve()
+    for item in feeds:
+        if Path(item.get("path", "")) == resolved:
+            return resolved
+    content = file_fingerprint(feed)
+    return next(
+        (Path(item["path"]) for item in feeds if content and item.get("fingerprint") == content),
+        None,
+    )
+
+
 def _catmap_version() -> str:
     try:
         from importlib.metadata import version

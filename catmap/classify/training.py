@@ -25,7 +25,7 @@ import scipy.sparse as sp
 from catmap.classify.consensus import MIN_PRODUCTS
 from catmap.classify.features import ProductTexts, product_texts
 from catmap.classify.model import CategoryModel
-from catmap.classify.storage import save_model
+from catmap.classify.storage import file_fingerprint, save_model
 from catmap.errors import InputError, UnknownNode
 from catmap.feeds.profiled import open_profiled_feed
 from catmap.records import Product
@@ -511,6 +511,11 @@ def fit_model(
     return chosen
 
 
+# Called before a refit with the calibrated model and its consensus weight; returns what to do
+# with the model folder once the refit model is saved (see ``train_model``).
+BeforeRefit = Callable[[CategoryModel, dict[str, Any]], Callable[[Path], None]]
+
+
 # What calibration fits on held-out products (:meth:`CategoryModel.calibrate`): a refit model
 # keeps the values its held-out calibration gave.
 CALIBRATED = ("temperatures_", "keyword_weight_", "blend_temperature_", "metrics_")
@@ -578,6 +583,7 @@ def train_model(
     max_unknown_share: float = MAX_UNKNOWN_LABEL_SHARE,
     labels_from: dict[str, str] | None = None,
     refit: bool = False,
+    before_refit: BeforeRefit | None = None,
 ) -> TrainingReport:
     """Read labelled feeds, train, calibrate on the validation rows, save the model folder.
 
@@ -598,8 +604,13 @@ def train_model(
             removed nodes dropped and counted. The model folder keeps it, so that onboarding's
             calibration reads them the same way.
         refit: after calibration, train again on the validation products too
-            (:func:`refit_on_all`); the model folder says so, and onboarding then refuses those
-            products as calibration data.
+            (:func:`refit_on_all`); the model folder says so, and onboarding then takes those
+            products as calibration data only through what ``before_refit`` kept.
+        before_refit: with ``refit``, called with the calibrated model and its consensus
+            weight before it trains again; the function it returns is called with the model
+            folder once the refit model is saved (onboarding keeps there the predictions of the
+            held-out rows by the model that has not seen them:
+            :func:`catmap.jobs.onboard.held_out_recorder`).
 
     Returns:
         The report.
@@ -647,7 +658,11 @@ def train_model(
     )
     consensus_weight, consensus_metrics = _choose_consensus_weight(model, valid_texts, valid_labels)
     model.metrics_.update(consensus_metrics)
+    write_held_out = None
     if refit:
+        if before_refit is not None:
+            stage(f"mapping the {len(valid_labels):,} held-out products before the refit")
+            write_held_out = before_refit(model, {"consensus_weight": consensus_weight})
         stage(f"training again on {len(labels) + len(valid_labels):,} products (refit)")
         model = refit_on_all(model, texts, labels, valid_texts, valid_labels)
     del texts
@@ -662,10 +677,15 @@ def train_model(
             "training_products": len(labels),
             "training_seconds": round(elapsed, 2),
             "label_column": label_column,
+            "training_feeds": [
+                {"path": str(Path(f).resolve()), "fingerprint": file_fingerprint(f)} for f in feeds
+            ],
             **({"labels_tree": labels_from} if labels_from else {}),
             **({"refit_feeds": [str(Path(f).resolve()) for f in feeds]} if refit else {}),
         },
     )
+    if write_held_out is not None:
+        write_held_out(model_dir)
     return TrainingReport(
         feeds=[str(f) for f in feeds],
         products_train=len(labels),

@@ -67,11 +67,12 @@ from catmap.project import project_dir
     "(as with `catmap remap --changes`); without it the two trees' diff does.",
 )
 @click.option(
-    "--refit",
-    is_flag=True,
+    "--refit/--no-refit",
+    default=True,
+    show_default=True,
     help="Once calibrated on the validation rows, train again on them too: more data for "
-    "the model, but those rows can no longer set onboarding's accept threshold; onboard "
-    "with --validation FEED, a labelled feed the model never saw.",
+    "the model, about twice the training time. Onboarding then chooses its accept threshold "
+    "on the predictions those rows got before (kept in the model folder).",
 )
 @click.option(
     "--classifier",
@@ -160,7 +161,11 @@ def train_command(
     )
     console.print(
         f"  validation products  {facts['products_valid']:,}"
-        + (" (then trained on too: --refit)" if facts.get("refit") else "")
+        + (
+            " (calibrated on, then trained on too; --no-refit: not trained on)"
+            if facts.get("refit")
+            else " (calibrated on, never trained on: --no-refit)"
+        )
     )
     console.print(f"  reviewed examples    {facts['reviewed_examples']:,} (from the project store)")
     console.print(f"  validation accuracy  {metrics.get('valid_accuracy', 0):.3f}")

@@ -11,10 +11,11 @@ only on the pooled products, where an easy retailer can hide a hard one."""
 
 from __future__ import annotations
 
+import dataclasses
 import logging
 import re
 import zipfile
-from collections.abc import Sequence
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import IO, Any
@@ -22,7 +23,8 @@ from typing import IO, Any
 import numpy as np
 
 from catmap._atomic import atomic_open
-from catmap.classify.storage import file_fingerprint, read_manifest
+from catmap.classify.model import CategoryModel
+from catmap.classify.storage import file_fingerprint, read_manifest, training_feed
 from catmap.classify.training import labels_translation, read_labelled
 from catmap.decide.threshold import (
     DEFAULT_DELTA,
@@ -138,24 +140,25 @@ def _calibration_rows(
     label_column: str = "gold_node",
     *,
     translation: LabelTranslation | None = None,
-    refit_feeds: frozenset[Path] = frozenset(),
+    trained_on: frozenset[Path] | None = None,
 ) -> tuple[list[tuple[Product, str]], list[str]]:
     """Labelled rows to calibrate on, and a description of each feed's part.
 
     A feed with a ``split`` column gives its ``valid`` rows only (the others may have trained
     the model); a feed without one is taken to be outside the training data and gives every
-    labelled row. Labels are read from ``label_column`` (the one the model was trained
-    with), or from ``gold_node`` in a feed that lacks it. A feed in ``refit_feeds`` (the model
-    was trained again on all its rows: ``catmap train --refit``) gives none.
+    labelled row, unless it is one the model trained on (``trained_on``; default: the
+    project's labelled feeds), which gives the rows training held out. Labels are read from
+    ``label_column`` (the one the model was trained with), or from ``gold_node`` in a feed
+    that lacks it.
     """
     rows: list[tuple[Product, str]] = []
     described: list[str] = []
-    settings = load_settings(project)
-    trained_on = {Path(f).resolve() for f in settings.labelled} if settings is not None else set()
+    if trained_on is None:
+        settings = load_settings(project)
+        trained_on = frozenset(
+            Path(f).resolve() for f in (settings.labelled if settings is not None else ())
+        )
     for feed in feeds:
-        if Path(feed).resolve() in refit_feeds:
-            described.append(f"none of {feed}: the model was trained on all its rows (refit)")
-            continue
         try:
             data = read_labelled(
                 [feed], tree=tree, project=project, label_column=label_column,
@@ -170,8 +173,8 @@ def _calibration_rows(
             # One of the project's training feeds: only the part training held out.
             rows.extend(data.valid)
             described.append(
-                f"{len(data.valid):,} products of {feed} held out from training (the "
-                "project's labelled feed)"
+                f"{len(data.valid):,} products of {feed} held out from training (a feed the "
+                "model trained on)"
             )
         elif any(product.extra.get("split") for product, _label in everything):
             rows.extend(data.valid)
@@ -246,26 +249,45 @@ def validation_predictions(
     label_column = str(manifest.get("label_column") or "gold_node")
     # Labels of an older tree are read as training read them (the same rows held out).
     translation = labels_translation(manifest.get("labels_tree"), mapper.tree)
-    refit_feeds = frozenset(Path(f) for f in manifest.get("refit_feeds") or ())
+    # A feed the model was trained on in full (a refit): the predictions training made of its
+    # held-out rows before the refit (cross-fitted), kept in the model folder.
+    held = {feed: held_out_predictions(folder, feed) for feed in feeds
+            if refit_feed(manifest, feed) is not None}
+    found = [source for source in held.values() if source is not None]
     rows, described = _calibration_rows(
-        feeds, mapper.tree, Path(project), label_column, translation=translation,
-        refit_feeds=refit_feeds,
+        [feed for feed in feeds if feed not in held], mapper.tree, Path(project), label_column,
+        translation=translation,
     )
-    if not rows:
-        refit = any(Path(feed).resolve() in refit_feeds for feed in feeds)
+    described += [source.source for source in found]
+    described += [f"none of {feed}: the model was trained on all its rows, and the predictions "
+                  "of its held-out rows are missing" for feed, source in held.items()
+                  if source is None]
+    if not rows and not found:
         raise ModelError(
             "no labelled products to choose the accept threshold from"
-            + ("; the model was trained on every labelled product (refit)" if refit else ""),
+            + ("; the model was trained on every labelled product (refit)" if held else ""),
             path=feeds[0],
             hint="give a labelled feed (gold_node column) the model was not trained on"
-            + (": `catmap onboard --validation FEED`" if refit else ""),
+            + (": `catmap onboard --validation FEED`, or train again" if held else ""),
         )
+    source = "; ".join(described)
+    result = _concatenate(
+        [predict_rows(mapper, rows, source), *found] if rows else found, source
+    )
+    _save_sources(cache, [result], stamp)
+    if as_default and given:
+        _save_sources(folder / VALIDATION_FILE, [result], model_stamp)
+    return result
+
+
+def predict_rows(
+    mapper: FeedMapper, rows: Sequence[tuple[Product, str]], source: str
+) -> ValidationPredictions:
+    """Map labelled rows as onboarding maps a feed; return their acceptance scores, whether
+    each mapping was right, and the retailer and familiarity of each product."""
     scores: list[float] = []
     correct: list[bool] = []
-    retailers = [product.extra.get("retailer", "") for product, _ in rows]
     titles = [p.title for p, _ in rows]
-    familiar = title_familiarity(titles, model_vocabulary(mapper))
-    labelled = title_familiarity(titles, labelled_vocabulary(mapper))
     for start in range(0, len(rows), CHUNK_SIZE):
         chunk = rows[start : start + CHUNK_SIZE]
         for (_product, label), mapping in zip(
@@ -273,19 +295,119 @@ def validation_predictions(
         ):
             scores.append(acceptance_score(mapping))
             correct.append(mapping.node_id == label)
-    source = "; ".join(described)
-    result = ValidationPredictions(
-        np.array(scores),
+    return ValidationPredictions(
+        np.array(scores, dtype=float),
         np.array(correct, dtype=bool),
         source,
-        np.array(retailers, dtype=str),
-        familiar,
-        labelled,
+        np.array([product.extra.get("retailer", "") for product, _ in rows], dtype=str),
+        title_familiarity(titles, model_vocabulary(mapper)),
+        title_familiarity(titles, labelled_vocabulary(mapper)),
     )
-    _save_sources(cache, [result], stamp)
-    if as_default and given:
-        _save_sources(folder / VALIDATION_FILE, [result], model_stamp)
-    return result
+
+
+def _concatenate(parts: Sequence[ValidationPredictions], source: str) -> ValidationPredictions:
+    if len(parts) == 1:
+        return dataclasses.replace(parts[0], source=source)
+
+    def joined(name: str, fill: float) -> np.ndarray[Any, Any]:
+        return np.concatenate([
+            getattr(v, name) if len(getattr(v, name)) == len(v) else np.full(len(v), fill)
+            for v in parts
+        ])  # fmt: skip
+
+    return ValidationPredictions(
+        np.concatenate([v.scores for v in parts]),
+        np.concatenate([v.correct for v in parts]),
+        source,
+        np.concatenate([
+            v.retailers if len(v.retailers) == len(v) else np.full(len(v), "") for v in parts
+        ]).astype(str),  # fmt: skip
+        joined("familiarity", 1.0),
+        joined("labelled_familiarity", 1.0),
+    )
+
+
+# ---- cross-fitting: calibration of a model trained again on its held-out rows ------------------
+
+
+def _held_out_file(folder: Path, feed: Path) -> Path:
+    return folder / f"held-out-{feed_stem(feed)}.npz"
+
+
+def refit_feed(manifest: dict[str, Any], feed: Path) -> Path | None:
+    """The training feed a refit model trained on in full that ``feed`` is (the same file, or
+    a copy of it: see :func:`~catmap.classify.storage.training_feed`); None when it is none."""
+    refit = {Path(f) for f in manifest.get("refit_feeds") or ()}
+    if not refit:
+        return None
+    if Path(feed).resolve() in refit:
+        return Path(feed).resolve()
+    trained = training_feed(manifest, feed)
+    return trained if trained in refit else None
+
+
+def held_out_predictions(model_dir: str | Path, feed: Path) -> ValidationPredictions | None:
+    """The predictions training made of a feed's held-out rows before it trained on them too
+    (see :func:`held_out_recorder`); None when the model was not refit on that feed, or they
+    are missing or were made for another model or feed content."""
+    folder = Path(model_dir)
+    trained = refit_feed(read_manifest(folder), Path(feed))
+    if trained is None:
+        return None
+    stamp = f"{file_fingerprint(folder / 'manifest.json')} {file_fingerprint(feed)}"
+    saved = _load_sources(_held_out_file(folder, trained), stamp)
+    return saved[0] if saved is not None and len(saved) == 1 else None
+
+
+def held_out_recorder(
+    feeds: Sequence[Path],
+    *,
+    tree: CategoryTree,
+    project: Path,
+    label_column: str = "gold_node",
+    labels_from: dict[str, str] | None = None,
+) -> Callable[[CategoryModel, dict[str, Any]], Callable[[Path], None]]:
+    """What training calls before it trains again on the held-out rows (a refit): it maps each
+    training feed's held-out rows with the model that has not seen them, as onboarding maps
+    a feed, and returns the writer that keeps those predictions beside the saved model.
+
+    Cross-fitting: the threshold is then chosen on predictions of products the predicting
+    model never saw, and applied to a model trained on more data (common practice, no
+    source; the bench of the unseen retailers measures what it gives).
+
+    Args:
+        feeds: the labelled feeds training reads.
+        tree: the tree trained on.
+        project: the project folder.
+        label_column: the column of node ids.
+        labels_from: the older tree of the labels, as training was given it.
+    """
+
+    def record(model: CategoryModel, manifest: dict[str, Any]) -> Callable[[Path], None]:
+        mapper = FeedMapper(model, manifest, tree)
+        translation = labels_translation(labels_from, tree)
+        kept: list[tuple[Path, ValidationPredictions]] = []
+        for feed in feeds:
+            rows, described = _calibration_rows(
+                [feed], tree, project, label_column, translation=translation,
+                trained_on=frozenset({Path(feed).resolve()}),
+            )
+            if rows:
+                source = (f"{described[0]}; predicted before the model trained on them too "
+                          "(cross-fitted)")
+                kept.append((Path(feed), predict_rows(mapper, rows, source)))
+
+        def write(model_dir: Path) -> None:
+            manifest_stamp = file_fingerprint(Path(model_dir) / "manifest.json")
+            for feed, predictions in kept:
+                _save_sources(
+                    _held_out_file(Path(model_dir), feed), [predictions],
+                    f"{manifest_stamp} {file_fingerprint(feed)}",
+                )
+
+        return write
+
+    return record
 
 
 def _save_sources(path: Path, sources: Sequence[ValidationPredictions], stamp: str) -> None:

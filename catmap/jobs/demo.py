@@ -144,15 +144,19 @@ def _train_when_missing(
 ) -> dict[str, Any] | None:
     """Train on the demo reference catalog when the project has no model; return the report."""
     from catmap.classify.training import train_model
+    from catmap.jobs.onboard import held_out_recorder
 
     if (model_dir / "manifest.json").exists():
         return None
     with tell.training() as stage:
+        # As `catmap train` trains (refit included).
         report = train_model(
             [reference],
             tree=tree,
             project=project,
             model_dir=model_dir,
             on_stage=stage,
+            refit=True,
+            before_refit=held_out_recorder([reference], tree=tree, project=project),
         )
     return report.to_dict()

@@ -74,6 +74,8 @@ from catmap.jobs._calibration import (
     check_feed_shift,
     default_calibration_feeds,
     feed_familiarity,
+    held_out_predictions,
+    held_out_recorder,
     retailer_parts,
     strictest_choice,
     title_familiarity,
@@ -142,6 +144,8 @@ __all__ = [
     "retailer_parts",
     "review_examples",
     "feed_familiarity",
+    "held_out_predictions",
+    "held_out_recorder",
     "title_familiarity",
     "validation_predictions",
 ]

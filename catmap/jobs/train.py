@@ -9,7 +9,7 @@ from typing import Any
 
 from catmap.errors import InputError, ModelNotTrained
 from catmap.jobs._project_tree import default_model_dir, project_tree, version_tree_path
-from catmap.jobs.onboard import project_review_examples
+from catmap.jobs.onboard import held_out_recorder, project_review_examples
 from catmap.project import load_settings, settings_path, subfolder
 from catmap.records import Product
 from catmap.tree.taxonomy import CategoryTree, default_tree_path, load_tree, open_tree
@@ -158,7 +158,7 @@ def train_project(
     max_unknown_share: float | None = None,
     labels_tree: str | None = None,
     labels_changes: Path | None = None,
-    refit: bool = False,
+    refit: bool = True,
 ) -> dict[str, Any]:
     """Train the mapping model and save it; return the training report's facts.
 
@@ -182,7 +182,8 @@ def train_project(
         labels_changes: the change log from ``labels_tree`` to the tree trained on: it decides
             where labels go, as ``catmap remap --changes`` does.
         refit: train again on the validation products too, once calibrated (see
-            :func:`~catmap.classify.training.refit_on_all`).
+            :func:`~catmap.classify.training.refit_on_all`); onboarding calibrates on the
+            predictions they got before (:func:`~catmap.jobs.onboard.held_out_recorder`).
 
     Returns:
         The report's facts, with ``reviewed_examples``: how many reviewed products were added.
@@ -203,6 +204,7 @@ def train_project(
     sources, reviewed, left_out = training_sources(
         project, tree, feeds, with_reviews=with_reviews, labels_translated=bool(labels_tree)
     )
+    labels_from = labels_tree_ref(project, labels_tree, labels_changes) if labels_tree else None
     options: dict[str, Any] = {"classifier": classifier}
     if max_per_class is not None:
         options["max_per_class"] = max_per_class or None
@@ -218,8 +220,12 @@ def train_project(
         max_unknown_share=(
             MAX_UNKNOWN_LABEL_SHARE if max_unknown_share is None else max_unknown_share
         ),
-        labels_from=labels_tree_ref(project, labels_tree, labels_changes) if labels_tree else None,
+        labels_from=labels_from,
         refit=refit,
+        before_refit=held_out_recorder(
+            sources, tree=tree, project=project, label_column=label_column,
+            labels_from=labels_from,
+        ),
     )
     facts = report.to_dict()
     facts["reviewed_examples"] = len(reviewed)
