@@ -142,7 +142,22 @@ def test_map_and_evaluate_use_the_projects_tree(tmp_path: Path) -> None:
     assert set(facts["by_department"]) <= {"Garden", "Crafts"}
     evaluated = run("evaluate", LABELLED, "--project", project, "--json")
     assert evaluated.exit_code == 0, evaluated.output
-    assert json.loads(evaluated.stdout)["mapping"]["accuracy"] > 0.5
+    report = json.loads(evaluated.stdout)
+    assert report["mapping"]["accuracy"] > 0.5
+    # The model was trained on that feed: the report says so, by name, with what to do.
+    assert str(LABELLED.resolve()) in report["trained_on"]
+    assert "--split test" in report["trained_on"]
+    shown = run("evaluate", LABELLED, "--project", project, "--out", tmp_path / "r")
+    assert "Note: the model was trained on this feed" in " ".join(shown.output.split())
+    # A feed it never trained on gets no such note.
+    other = tmp_path / "other.csv"
+    other.write_text(
+        "\n".join(LABELLED.read_text(encoding="utf-8").splitlines()[:40]) + "\n",
+        encoding="utf-8",
+    )
+    assert json.loads(run("evaluate", other, "--project", project, "--json").stdout)[
+        "trained_on"
+    ] is None
 
 
 def test_a_labelled_feed_naming_nodes_by_path_trains_and_calibrates(tmp_path: Path) -> None:

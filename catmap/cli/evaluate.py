@@ -124,6 +124,8 @@ def _render(report: dict[str, Any], html_path: Path, json_path: Path) -> None:
         + (f" (left out: {escape(left)})" if left else "")
     )
     console.print(f"Model: {escape(report['model'])}")
+    if report.get("trained_on"):
+        console.print(f"[yellow]Note: {escape(report['trained_on'])}[/yellow]")
     table = Table(title="Mapping")
     table.add_column("metric")
     table.add_column("value", justify="right")

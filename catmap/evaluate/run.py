@@ -591,6 +591,7 @@ def evaluate_feed(
     folder = Path(project)
     tree = tree if tree is not None else load_default_tree(tree_version)
     classifier, model_text = _classifier(tree, folder, model_folder)
+    trained_on = _trained_on(feed, folder, model_folder, split)
 
     source = open_profiled_feed(feed, folder, name=feed_name)
     gold = read_gold_csv(gold_path, label_column=label_column) if gold_path else None
@@ -635,8 +636,31 @@ def evaluate_feed(
             "other_split": collected.other_split,
         },
         "accounting": accounting.to_dict(),
+        "trained_on": trained_on,
     }
     return {**facts, **report}
+
+
+def _trained_on(
+    feed: Path, project: Path, model_folder: str | Path | None, split: str | None
+) -> str | None:
+    """Say so when the feed is one the model was trained on and the rows scored are not its
+    test split: the model saw most of them, and the figures flatter it."""
+    from catmap.classify.storage import MANIFEST, read_manifest, training_feed
+
+    models = Path(model_folder) if model_folder else project / "models" / "current"
+    if split == "test" or not (models / MANIFEST).is_file():
+        return None
+    manifest = read_manifest(models)
+    trained = training_feed(manifest, feed)
+    if trained is None:
+        return None
+    which = f"its {split} split" if split else "its rows"
+    return (
+        f"the model was trained on this feed ({trained}): {which} trained or calibrated it, so "
+        "these figures flatter it; score `--split test`, or a labelled feed of a retailer it "
+        "never saw"
+    )
 
 
 def _classifier(
