@@ -37,7 +37,10 @@ def test_train_summary_is_readable(setup: tuple[Path, Path]) -> None:
     feed, project = setup
     result = CliRunner().invoke(main, ["train", str(feed), "--project", str(project)])
     assert result.exit_code == 0, result.output
-    assert "Trained on 144 products, 6 classes" in result.stdout
+    text = " ".join(result.stdout.split())
+    # 144 train, then the 48 validation products too (the refit).
+    assert "Trained on 144 products, then on 192 with the validation products, 6 classes" in text
+    assert "validation products 48 (calibrated on, then trained on too" in text
     assert "validation accuracy" in result.stdout
     # Six classes: both structures were trained, the summary says which one was kept.
     assert "structure" in result.stdout and "validation macro-F1" in result.stdout

@@ -658,9 +658,11 @@ def demo_command(
 def _render_demo(facts: dict[str, Any]) -> None:
     if facts["trained"]:
         t = facts["trained"]
+        refit = t.get("metrics", {}).get("refit_products") if t.get("refit") else None
         _say(
-            f"Trained on {t['products_train']:,} products, {t['classes']:,} classes "
-            f"in {t['training_seconds']:.0f} s"
+            f"Trained on {t['products_train']:,} products"
+            + (f", then on {refit:,} with the held-out ones" if refit else "")
+            + f", {t['classes']:,} classes in {t['training_seconds']:.0f} s"
         )
     table = Table(title="Demo feeds", title_justify="left", box=box.SIMPLE_HEAD,
                   padding=(0, 1), pad_edge=False, collapse_padding=True)
