@@ -141,10 +141,10 @@ def train_command(
     metrics = facts["metrics"]
     per_class = facts["per_class"]
     cap = facts["max_per_class"]
-    refit = metrics.get("refit_products") if facts.get("refit") else None
+    refit_products = metrics.get("refit_products") if facts.get("refit") else None
     console.print(
         f"Trained on {facts['products_used']:,} products"
-        + (f", then on {refit:,} with the validation products" if refit else "")
+        + (f", then on {refit_products:,} with the validation products" if refit_products else "")
         + f", {facts['classes']:,} classes "
         f"(tree version {facts['tree_version']}, {escape(facts['tree_file'] or 'in memory')})"
     )
