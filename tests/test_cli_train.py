@@ -220,3 +220,26 @@ def test_a_finalised_remap_onto_a_newer_shared_tree_makes_it_the_projects_tree(
     message = " ".join(result.stderr.split())
     assert "no labelled products for tree version 2" in message
     assert "--labels-tree VERSION" in message
+
+
+def test_no_validation_rows_means_nothing_to_train_again_on(setup: tuple[Path, Path]) -> None:
+    import csv
+
+    feed, project = setup
+    with feed.open(encoding="utf-8", newline="") as handle:
+        rows = list(csv.DictReader(handle))
+    every = feed.with_name("all-train.csv")
+    with every.open("w", encoding="utf-8", newline="") as handle:
+        writer = csv.DictWriter(handle, fieldnames=list(rows[0]))
+        writer.writeheader()
+        writer.writerows({**row, "split": "train"} for row in rows)
+    result = CliRunner().invoke(main, ["train", str(every), "--project", str(project), "--json"])
+    assert result.exit_code == 0, result.output
+    facts = json.loads(result.stdout)
+    # Calibration borrowed a tenth of the training products: they are trained on already.
+    assert facts["refit"] is False
+    assert "validation products are training products" in facts["metrics"]["refit_skipped"]
+    manifest = json.loads((project / "models" / "current" / "manifest.json").read_text())
+    assert "refit_feeds" not in manifest
+    shown = CliRunner().invoke(main, ["train", str(every), "--project", str(project)])
+    assert "taken from the training products" in " ".join(shown.stdout.split())

@@ -344,6 +344,7 @@ def _read_training_texts(
             valid.add(item, label, shared)
     if not valid.labels:
         # No validation rows: calibrate on the first tenth of the training rows.
+        counts["valid_from_train"] = min(len(train.labels), max(1, len(train.labels) // 10))
         for i in range(max(1, len(train.labels) // 10)):
             if i < len(train.labels):
                 valid.title.append(train.title[i])
@@ -659,6 +660,10 @@ def train_model(
     consensus_weight, consensus_metrics = _choose_consensus_weight(model, valid_texts, valid_labels)
     model.metrics_.update(consensus_metrics)
     write_held_out = None
+    if refit and counts.get("valid_from_train"):
+        # The validation products are training products already: nothing to train again on.
+        refit = False
+        model.metrics_["refit_skipped"] = "the validation products are training products"
     if refit:
         if before_refit is not None:
             stage(f"mapping the {len(valid_labels):,} held-out products before the refit")

@@ -162,14 +162,13 @@ def train_command(
         f"  per class            min {per_class['min']:,}, median {per_class['median']:,.0f}, "
         f"max {per_class['max']:,} products used"
     )
-    console.print(
-        f"  validation products  {facts['products_valid']:,}"
-        + (
-            " (calibrated on, then trained on too; --no-refit: not trained on)"
-            if facts.get("refit")
-            else " (calibrated on, never trained on: --no-refit)"
-        )
-    )
+    if metrics.get("refit_skipped"):
+        held = " (taken from the training products: the feeds have no validation rows)"
+    elif facts.get("refit"):
+        held = " (calibrated on, then trained on too; --no-refit: not trained on)"
+    else:
+        held = " (calibrated on, never trained on: --no-refit)"
+    console.print(f"  validation products  {facts['products_valid']:,}{held}")
     console.print(f"  reviewed examples    {facts['reviewed_examples']:,} (from the project store)")
     console.print(f"  validation accuracy  {metrics.get('valid_accuracy', 0):.3f}")
     console.print(
