@@ -71,8 +71,9 @@ from catmap.project import project_dir
     default=True,
     show_default=True,
     help="Once calibrated on the validation rows, train again on them too: more data for "
-    "the model, about twice the training time. Onboarding then chooses its accept threshold "
-    "on the predictions those rows got before (kept in the model folder).",
+    "the model, at the cost of training the chosen model a second time. Onboarding then "
+    "chooses its accept threshold on the predictions those rows got before (kept in the "
+    "model folder).",
 )
 @click.option(
     "--classifier",
