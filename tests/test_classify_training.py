@@ -30,32 +30,40 @@ def split() -> tuple[ProductTexts, list[str], ProductTexts, list[str]]:
     return train, labels, valid, valid_labels
 
 
-def _validation_macro_f1(
+def _validation_answers(
     tree: CategoryTree, hierarchical: bool, split: tuple[ProductTexts, list[str], ProductTexts,
                                                           list[str]]
-) -> float:
+) -> tuple[float, list[str]]:
     train, labels, valid, valid_labels = split
     settings = {"min_df": 1} if hierarchical else {**FLAT_SETTINGS, "min_df": 1}
     model = CategoryModel(tree=tree, hierarchical=hierarchical, **settings).fit(train, labels)
     model.calibrate(valid, valid_labels)
+    predicted = [str(c) for c in model.predict(valid)]
     # Reference: scikit-learn's macro-averaged F1 (sklearn.metrics.f1_score).
-    return float(f1_score(valid_labels, [str(c) for c in model.predict(valid)], average="macro"))
+    return float(f1_score(valid_labels, predicted, average="macro")), predicted
 
 
-def test_few_classes_keep_the_structure_with_the_better_validation_macro_f1(
+def test_few_classes_keep_the_department_step_only_when_clearly_better(
     tree: CategoryTree, split: tuple[ProductTexts, list[str], ProductTexts, list[str]]
 ) -> None:
+    from catmap.classify.training import STRUCTURE_CONFIDENCE, department_step_wins
+
     train, labels, valid, valid_labels = split
     assert len(set(labels)) <= FLAT_MAX_CLASSES
     stages: list[str] = []
     model = fit_model(
         tree, train, labels, valid, valid_labels, options={"min_df": 1}, on_stage=stages.append
     )
-    department = _validation_macro_f1(tree, True, split)
-    flat = _validation_macro_f1(tree, False, split)
-    assert model.hierarchical == (department >= flat)
-    assert model.metrics_["valid_macro_f1"] == pytest.approx(max(department, flat))
+    department, step_answers = _validation_answers(tree, True, split)
+    flat, flat_answers = _validation_answers(tree, False, split)
+    wins = department_step_wins(valid_labels, step_answers, flat_answers)
+    assert model.hierarchical == (wins >= STRUCTURE_CONFIDENCE)
+    assert model.metrics_["structure_wins"] == wins
+    assert model.metrics_["valid_macro_f1"] == pytest.approx(
+        department if model.hierarchical else flat
+    )
     assert model.metrics_["structure"] == ("department step" if model.hierarchical else "flat")
+    assert "bootstrap resamples" in model.metrics_["structure_reason"]
     assert any("flat" in s for s in stages) and any("department step" in s for s in stages)
 
 
@@ -190,3 +198,27 @@ def test_a_training_feed_is_known_by_its_path_or_its_content(tmp_path: Path) -> 
     assert training_feed(manifest, copy) == feed.resolve()  # the same rows, another file
     assert training_feed(manifest, other) is None
     assert training_feed({}, feed) is None  # a model folder from before the list
+
+
+def test_the_bootstrap_macro_f1_is_sklearns_and_a_tie_keeps_the_flat_model() -> None:
+    from sklearn.metrics import f1_score
+
+    from catmap.classify.training import _macro_f1, department_step_wins
+
+    rng = np.random.default_rng(3)
+    truth = rng.integers(0, 7, 500)
+    predicted = np.where(rng.random(500) < 0.7, truth, rng.integers(0, 9, 500))
+    # Reference: scikit-learn's macro-F1 (classes present in the labels or the predictions).
+    assert _macro_f1(truth, predicted, 9) == pytest.approx(
+        f1_score(truth, predicted, average="macro"), abs=1e-12
+    )
+    labels = [f"c{v}" for v in truth]
+    good = list(labels)
+    poor = [f"c{v}" for v in predicted]
+    assert department_step_wins(labels, good, poor) == 1.0
+    assert department_step_wins(labels, poor, good) == 0.0
+    assert department_step_wins(labels, poor, poor) == 0.0  # equal: the flat model stays
+    # Nearly the same answers: no resample share near certainty either way.
+    close = list(poor)
+    close[0] = labels[0] if close[0] != labels[0] else close[1]
+    assert department_step_wins(labels, close, poor) < 0.95
