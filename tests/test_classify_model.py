@@ -153,6 +153,24 @@ def test_model_top_k_equals_sorting_the_dense_probabilities(trained: CategoryMod
     assert np.array_equal(np.asarray(sparse.argmax(axis=1)).ravel(), dense.argmax(axis=1))
 
 
+@pytest.mark.parametrize("hierarchical", [True, False], ids=["departments", "flat"])
+def test_model_top_one_is_the_first_of_the_top_two(tree: CategoryTree, hierarchical: bool) -> None:
+    rows = labelled_rows(300)
+    train, labels = texts_and_labels([r for r in rows if r["split"] == "train"])
+    valid, valid_labels = texts_and_labels([r for r in rows if r["split"] == "valid"])
+    model = CategoryModel(tree=tree, min_df=1, hierarchical=hierarchical)
+    model.fit(train, labels).calibrate(valid, valid_labels)
+    texts, _ = texts_and_labels(labelled_rows(120, seed=5))
+    idx, vals = model.top_k(texts, 1)
+    idx2, vals2 = model.top_k(texts, 2)
+    assert idx.shape == (len(texts), 1) and idx.dtype == idx2.dtype
+    assert vals.dtype == vals2.dtype
+    # The k = 1 path picks without sorting: the same class and the same value as the sort.
+    assert np.array_equal(idx[:, 0], idx2[:, 0])
+    assert np.array_equal(vals[:, 0], vals2[:, 0])
+    assert np.array_equal(idx[:, 0], model.predict_proba(texts).argmax(axis=1))
+
+
 def test_keyword_weight_is_searched_over_the_whole_range() -> None:
     from catmap.classify.model import KEYWORD_WEIGHT_GRID
 
