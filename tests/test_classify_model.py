@@ -154,7 +154,9 @@ def test_model_top_k_equals_sorting_the_dense_probabilities(trained: CategoryMod
 
 
 @pytest.mark.parametrize("hierarchical", [True, False], ids=["departments", "flat"])
-def test_model_top_one_is_the_first_of_the_top_two(tree: CategoryTree, hierarchical: bool) -> None:
+def test_model_top_k_of_a_flat_and_a_department_model(
+    tree: CategoryTree, hierarchical: bool
+) -> None:
     rows = labelled_rows(300)
     train, labels = texts_and_labels([r for r in rows if r["split"] == "train"])
     valid, valid_labels = texts_and_labels([r for r in rows if r["split"] == "valid"])
@@ -168,7 +170,17 @@ def test_model_top_one_is_the_first_of_the_top_two(tree: CategoryTree, hierarchi
     # The k = 1 path picks without sorting: the same class and the same value as the sort.
     assert np.array_equal(idx[:, 0], idx2[:, 0])
     assert np.array_equal(vals[:, 0], vals2[:, 0])
-    assert np.array_equal(idx[:, 0], model.predict_proba(texts).argmax(axis=1))
+    dense = model.predict_proba(texts)
+    assert np.array_equal(idx[:, 0], dense.argmax(axis=1))
+    # k > 1 (a flat model takes its own path: one department scored for every row)
+    for k in (3, 5):
+        idx, vals = model.top_k(texts, k)
+        assert idx.shape == (len(texts), k)
+        # the k largest probabilities, best first (tied classes in either order)
+        assert np.allclose(vals, -np.sort(-dense, axis=1)[:, :k], atol=1e-6)
+        assert np.allclose(vals, np.take_along_axis(dense, idx.astype(np.int64), axis=1))
+        assert (np.diff(vals, axis=1) <= 0).all()
+        assert all(len(set(row)) == k for row in idx.tolist())
 
 
 def test_keyword_weight_is_searched_over_the_whole_range() -> None:

@@ -623,6 +623,18 @@ class CategoryModel:
         n, k = parts.n, min(k, len(self.classes_))
         if k == 1:
             return self._top_one(texts, parts, values, total)
+        if len(parts.blocks) == 1 and len(parts.blocks[0].rows) == n:
+            # One department scored for every row (a flat model): each row's k best are its
+            # block's k best, sorted in the row itself (the order of the sort below).
+            columns = layout.part(parts.blocks[0].group).columns
+            powered = values[0]
+            if len(columns) > k:
+                best = np.argpartition(-powered, k - 1, axis=1)[:, :k]
+                picked = np.take_along_axis(powered, best, axis=1) / total[:, None]
+                order = np.argsort(-picked, axis=1, kind="stable")
+                best = np.take_along_axis(best, order, axis=1)
+                picked = np.take_along_axis(picked, order, axis=1)
+                return columns[best].astype(np.int32), picked.astype(np.float32)
         rows, cols, vals = [np.zeros(0, np.int64)], [np.zeros(0, np.int64)], [np.zeros(0)]
         for block, powered in zip(parts.blocks, values, strict=True):
             columns = layout.part(block.group).columns
