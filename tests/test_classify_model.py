@@ -153,6 +153,36 @@ def test_model_top_k_equals_sorting_the_dense_probabilities(trained: CategoryMod
     assert np.array_equal(np.asarray(sparse.argmax(axis=1)).ravel(), dense.argmax(axis=1))
 
 
+@pytest.mark.parametrize("hierarchical", [True, False], ids=["departments", "flat"])
+def test_model_top_k_of_a_flat_and_a_department_model(
+    tree: CategoryTree, hierarchical: bool
+) -> None:
+    rows = labelled_rows(300)
+    train, labels = texts_and_labels([r for r in rows if r["split"] == "train"])
+    valid, valid_labels = texts_and_labels([r for r in rows if r["split"] == "valid"])
+    model = CategoryModel(tree=tree, min_df=1, hierarchical=hierarchical)
+    model.fit(train, labels).calibrate(valid, valid_labels)
+    texts, _ = texts_and_labels(labelled_rows(120, seed=5))
+    idx, vals = model.top_k(texts, 1)
+    idx2, vals2 = model.top_k(texts, 2)
+    assert idx.shape == (len(texts), 1) and idx.dtype == idx2.dtype
+    assert vals.dtype == vals2.dtype
+    # The k = 1 path picks without sorting: the same class and the same value as the sort.
+    assert np.array_equal(idx[:, 0], idx2[:, 0])
+    assert np.array_equal(vals[:, 0], vals2[:, 0])
+    dense = model.predict_proba(texts)
+    assert np.array_equal(idx[:, 0], dense.argmax(axis=1))
+    # k > 1 (a flat model takes its own path: one department scored for every row)
+    for k in (3, 5):
+        idx, vals = model.top_k(texts, k)
+        assert idx.shape == (len(texts), k)
+        # the k largest probabilities, best first (tied classes in either order)
+        assert np.allclose(vals, -np.sort(-dense, axis=1)[:, :k], atol=1e-6)
+        assert np.allclose(vals, np.take_along_axis(dense, idx.astype(np.int64), axis=1))
+        assert (np.diff(vals, axis=1) <= 0).all()
+        assert all(len(set(row)) == k for row in idx.tolist())
+
+
 def test_keyword_weight_is_searched_over_the_whole_range() -> None:
     from catmap.classify.model import KEYWORD_WEIGHT_GRID
 

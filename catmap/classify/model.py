@@ -621,6 +621,20 @@ class CategoryModel:
         parts = self._parts(texts, keywords=self.keyword_weight_ > 0)
         values, total, _ = self._final(parts, self.keyword_weight_, self.blend_temperature_)
         n, k = parts.n, min(k, len(self.classes_))
+        if k == 1:
+            return self._top_one(texts, parts, values, total)
+        if len(parts.blocks) == 1 and len(parts.blocks[0].rows) == n:
+            # One department scored for every row (a flat model): each row's k best are its
+            # block's k best, sorted in the row itself (the order of the sort below).
+            columns = layout.part(parts.blocks[0].group).columns
+            powered = values[0]
+            if len(columns) > k:
+                best = np.argpartition(-powered, k - 1, axis=1)[:, :k]
+                picked = np.take_along_axis(powered, best, axis=1) / total[:, None]
+                order = np.argsort(-picked, axis=1, kind="stable")
+                best = np.take_along_axis(best, order, axis=1)
+                picked = np.take_along_axis(picked, order, axis=1)
+                return columns[best].astype(np.int32), picked.astype(np.float32)
         rows, cols, vals = [np.zeros(0, np.int64)], [np.zeros(0, np.int64)], [np.zeros(0)]
         for block, powered in zip(parts.blocks, values, strict=True):
             columns = layout.part(block.group).columns
@@ -651,6 +665,40 @@ class CategoryModel:
             best = np.argsort(-dense, axis=1, kind="stable")[:, :k]
             idx[short] = best
             top[short] = np.take_along_axis(dense, best, axis=1)
+        return idx, top
+
+    def _top_one(
+        self, texts: ProductTexts, parts: _Parts, values: list[Array], total: Array
+    ) -> tuple[Array, Array]:
+        """:meth:`top_k` for k = 1: each row's best class, block by block, without sorting.
+
+        A tie inside a department goes to the lower column (as in the dense path); between
+        departments, to the one scored first.
+        """
+        layout = self._layout()
+        best_val = np.zeros(parts.n)  # every scored value is above 0 (the floor)
+        best_col = np.zeros(parts.n, dtype=np.int64)
+        scored = np.zeros(parts.n, dtype=bool)
+        for block, powered in zip(parts.blocks, values, strict=True):
+            columns = layout.part(block.group).columns
+            if not len(columns):
+                continue
+            best = powered.argmax(axis=1)
+            picked = powered[np.arange(len(block.rows)), best] / total[block.rows]
+            better = ~scored[block.rows] | (picked > best_val[block.rows])
+            rows = block.rows[better]
+            best_val[rows] = picked[better]
+            best_col[rows] = columns[best[better]]
+            scored[block.rows] = True
+        idx = best_col.astype(np.int32)[:, None]
+        top = best_val.astype(np.float32)[:, None]
+        short = np.flatnonzero(~scored)
+        if len(short):
+            # Rows with no scored class: the dense path.
+            dense = self.predict_proba(texts.subset(short))
+            best = dense.argmax(axis=1)
+            idx[short, 0] = best
+            top[short, 0] = dense[np.arange(len(short)), best]
         return idx, top
 
     def predict(self, texts: ProductTexts) -> Array:
