@@ -243,3 +243,21 @@ def test_no_validation_rows_means_nothing_to_train_again_on(setup: tuple[Path, P
     assert "refit_feeds" not in manifest
     shown = CliRunner().invoke(main, ["train", str(every), "--project", str(project)])
     assert "taken from the training products" in " ".join(shown.stdout.split())
+
+
+def test_the_held_out_part_alone_is_the_same_rows_without_the_others(
+    setup: tuple[Path, Path],
+) -> None:
+    from catmap.classify.training import read_labelled
+    from catmap.tree.taxonomy import load_default_tree
+
+    feed, project = setup
+    tree = load_default_tree(1)
+    whole = read_labelled([feed], tree=tree, project=project)
+    valid = read_labelled([feed], tree=tree, project=project, keep=("valid",))
+    assert whole.valid and whole.train and whole.test
+    assert valid.train == [] and valid.test == []
+    assert [(p.product_id, label) for p, label in valid.valid] == [
+        (p.product_id, label) for p, label in whole.valid
+    ]
+    assert valid.fingerprint == whole.fingerprint  # every row was still read

@@ -14,7 +14,7 @@ import random
 import statistics
 import time
 from collections import Counter
-from collections.abc import Callable, Iterable, Iterator, Sequence
+from collections.abc import Callable, Collection, Iterable, Iterator, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any, NoReturn
@@ -254,6 +254,7 @@ def read_labelled(
     label_column: str = "gold_node",
     random_state: int = 0,
     translation: LabelTranslation | None = None,
+    keep: Collection[str] = ("train", "valid", "test"),
 ) -> LabelledData:
     """Read labelled feeds into train / valid / test lists of (product, node id).
 
@@ -264,6 +265,8 @@ def read_labelled(
         label_column: the column holding node ids.
         random_state: seed of the 90/10 split for feeds without a ``split`` column.
         translation: the labels are of an older tree: read them through it (as training did).
+        keep: the parts kept in memory (the others are read, split the same way, and dropped:
+            a large training feed's held-out tenth without its other rows).
 
     Raises:
         InputError: a feed without the label column.
@@ -281,7 +284,8 @@ def read_labelled(
         digest=digest,
         translation=translation,
     ):
-        getattr(data, split).append((item, label))
+        if split in keep:
+            getattr(data, split).append((item, label))
     data.unlabelled, data.unknown_labels = counts["unlabelled"], counts["unknown_labels"]
     data.fingerprint = digest.hexdigest()
     return data

@@ -159,17 +159,22 @@ def _calibration_rows(
             Path(f).resolve() for f in (settings.labelled if settings is not None else ())
         )
     for feed in feeds:
+        trained = Path(feed).resolve() in trained_on
+        # A feed the model trained on gives its held-out rows only: the others are not kept.
+        keep = ("valid",) if trained else ("train", "valid", "test")
         try:
             data = read_labelled(
                 [feed], tree=tree, project=project, label_column=label_column,
-                translation=translation,
+                translation=translation, keep=keep,
             )
         except InputError as error:
             if label_column == "gold_node" or error.field != label_column:
                 raise
-            data = read_labelled([feed], tree=tree, project=project, translation=translation)
+            data = read_labelled(
+                [feed], tree=tree, project=project, translation=translation, keep=keep
+            )
         everything = data.train + data.valid + data.test
-        if Path(feed).resolve() in trained_on:
+        if trained:
             # One of the project's training feeds: only the part training held out.
             rows.extend(data.valid)
             described.append(
