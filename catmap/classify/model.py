@@ -635,29 +635,32 @@ class CategoryModel:
                 best = np.take_along_axis(best, order, axis=1)
                 picked = np.take_along_axis(picked, order, axis=1)
                 return columns[best].astype(np.int32), picked.astype(np.float32)
-        rows, cols, vals = [np.zeros(0, np.int64)], [np.zeros(0, np.int64)], [np.zeros(0)]
-        for block, powered in zip(parts.blocks, values, strict=True):
+        # Each row's candidates (the k best of each department scored for it), in the order the
+        # departments were scored, side by side in a padded row; then each row is sorted in
+        # itself, stably: a tie goes to the department scored first.
+        widths = [min(k, len(layout.part(block.group).columns)) for block in parts.blocks]
+        counts = np.zeros(n, dtype=np.int64)
+        for block, width in zip(parts.blocks, widths, strict=True):
+            counts[block.rows] += width
+        room = max(int(counts.max()) if n else 0, k)
+        cand_val = np.full((n, room), -np.inf)
+        cand_col = np.zeros((n, room), dtype=np.int64)
+        filled = np.zeros(n, dtype=np.int64)
+        for block, powered, width in zip(parts.blocks, values, widths, strict=True):
             columns = layout.part(block.group).columns
-            width = min(k, len(columns))
             if width < len(columns):
                 best = np.argpartition(-powered, width - 1, axis=1)[:, :width]
             else:
                 best = np.broadcast_to(np.arange(width), powered.shape)
-            rows.append(np.repeat(block.rows, width))
-            cols.append(columns[best].ravel())
-            picked = np.take_along_axis(powered, best, axis=1) / total[block.rows, None]
-            vals.append(picked.ravel())
-        row, col, val = np.concatenate(rows), np.concatenate(cols), np.concatenate(vals)
-        order = np.lexsort((-val, row))
-        row, col, val = row[order], col[order], val[order]
-        counts = np.bincount(row, minlength=n)
-        starts = np.concatenate([[0], np.cumsum(counts)[:-1]])
-        rank = np.arange(len(row)) - starts[row]
-        keep = rank < k
-        idx = np.zeros((n, k), dtype=np.int32)
-        top = np.zeros((n, k), dtype=np.float32)
-        idx[row[keep], rank[keep]] = col[keep]
-        top[row[keep], rank[keep]] = val[keep]
+            at = filled[block.rows, None] + np.arange(width)
+            cand_col[block.rows[:, None], at] = columns[best]
+            cand_val[block.rows[:, None], at] = (
+                np.take_along_axis(powered, best, axis=1) / total[block.rows, None]
+            )
+            filled[block.rows] += width
+        order = np.argsort(-cand_val, axis=1, kind="stable")[:, :k]
+        idx = np.take_along_axis(cand_col, order, axis=1).astype(np.int32)
+        top = np.take_along_axis(cand_val, order, axis=1).astype(np.float32)
         short = np.flatnonzero(counts < k)
         if len(short):
             # Rows whose likely departments hold fewer than k classes: the dense path.
