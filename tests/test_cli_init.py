@@ -149,6 +149,8 @@ def test_map_and_evaluate_use_the_projects_tree(tmp_path: Path) -> None:
     assert "--split test" in report["trained_on"]
     shown = run("evaluate", LABELLED, "--project", project, "--out", tmp_path / "r")
     assert "Note: the model was trained on this feed" in " ".join(shown.output.split())
+    page = (tmp_path / "r" / "report.html").read_text(encoding="utf-8")
+    assert "the model was trained on this feed" in page
     # A feed it never trained on gets no such note.
     other = tmp_path / "other.csv"
     other.write_text(

@@ -187,6 +187,8 @@ def render_report_html(report: dict[str, Any], *, title: str = "catmap evaluatio
 def _facts_html(report: dict[str, Any]) -> str:
     """The run's facts: feed, gold, model, tree version, products evaluated and left out."""
     facts = [(k, report[k]) for k in ("feed", "gold", "model", "tree_version") if report.get(k)]
+    if report.get("trained_on"):
+        facts.append(("note", report["trained_on"]))
     facts.append(("products evaluated", report["products"]))
     left_out = report.get("left_out") or {}
     for key, value in left_out.items():
