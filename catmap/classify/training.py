@@ -52,9 +52,8 @@ __all__ = [
 CONSENSUS_WEIGHT_GRID = (0.0, 0.1, 0.2, 0.3, 0.4, 0.5)
 # Up to this many classes, a flat model (one classifier over every class) is trained beside the
 # department step, which is kept only when clearly better (:data:`STRUCTURE_CONFIDENCE`); above
-# it, the
-# department step alone (a flat classifier over a thousand classes trains too slowly and the
-# department step holds the demo world's results). A chosen setting (common practice, no
+# it, the department step alone (a flat classifier over a thousand classes trains too slowly and
+# the department step holds the demo world's results). A chosen setting (common practice, no
 # source).
 FLAT_MAX_CLASSES = 300
 # The flat candidate's own settings where the options leave them: every term seen once and no
@@ -451,14 +450,13 @@ def fit_model(
 
     With no ``hierarchical`` option and at most :data:`FLAT_MAX_CLASSES` classes, both
     structures are trained and calibrated (the flat one with :data:`FLAT_SETTINGS` where the
-    options leave them), and the one with the better validation macro-F1
-    (``sklearn.metrics.f1_score(average="macro")``) is kept when the difference holds in
+    options leave them); the department step is kept when its validation macro-F1
+    (``sklearn.metrics.f1_score(average="macro")``) is the higher in
     :data:`STRUCTURE_CONFIDENCE` of paired bootstrap resamples (:func:`department_step_wins`),
-    else the flat one. With
-    more classes, or a structure given, one model is trained and calibrated, as before. When
-    every class is its own department (a one-level tree), only the flat model is trained,
-    whatever was given: the department step would hold one class per department. The
-    validation products do not train this model; :func:`train_model` may then train the chosen
+    else the flat one. With more classes, or a structure given, one model is trained and
+    calibrated, as before. When every class is its own department (a one-level tree), only the
+    flat model is trained, whatever was given: the department step would hold one class per
+    department. The validation products do not train this model; :func:`train_model` may then train the chosen
     one again with them (:func:`refit_on_all`), keeping what they calibrated.
 
     Args:
@@ -490,8 +488,7 @@ def fit_model(
         # department step would be the flat classifier again, followed by a classifier of one
         # class in each department, which leaves its calibration nothing to fit. Flat only.
         choices = [False]
-    best: tuple[float, CategoryModel | None] = (-1.0, None)
-    predictions: dict[bool, list[str]] = {}
+    trained: dict[bool, tuple[CategoryModel, list[str]]] = {}
     for hierarchical in choices:
         structure = "department step" if hierarchical else "flat"
         stage(f"training ({structure}) on {len(labels):,} products")
@@ -507,33 +504,23 @@ def fit_model(
             if flat_only:
                 model.metrics_["structure"] = "flat"
                 model.metrics_["structure_reason"] = "each class is its own department"
-            best = (0.0, model)
-            break
+            return model
         predicted = [str(c) for c in model.predict(valid_texts)]
-        predictions[hierarchical] = predicted
-        score = float(f1_score(list(valid_labels), predicted, average="macro"))
-        model.metrics_["valid_macro_f1"] = score
+        model.metrics_["valid_macro_f1"] = float(
+            f1_score(list(valid_labels), predicted, average="macro")
+        )
         model.metrics_["structure"] = structure
-        if best[1] is None:
-            best = (score, model)
-        elif hierarchical is False:
-            step = best[1]
-            wins = department_step_wins(valid_labels, predictions[True], predicted)
-            step.metrics_["structure_wins"] = wins
-            model.metrics_["structure_wins"] = wins
-            keep_step = wins >= STRUCTURE_CONFIDENCE
-            chosen_one, other = (step, model) if keep_step else (model, step)
-            chosen_one.metrics_["structure_reason"] = (
-                f"the department step's validation macro-F1 "
-                f"({step.metrics_['valid_macro_f1']:.3f}, flat "
-                f"{model.metrics_['valid_macro_f1']:.3f}) was higher in {wins:.0%} of "
-                f"{BOOTSTRAP_RESAMPLES} bootstrap resamples of the validation products; the "
-                f"department step is kept at {STRUCTURE_CONFIDENCE:.0%} or more"
-            )
-            best = (0.0, chosen_one)
-            del other
-    chosen = best[1]
-    assert chosen is not None
+        trained[hierarchical] = (model, predicted)
+    (step, step_answers), (flat, flat_answers) = trained[True], trained[False]
+    wins = department_step_wins(valid_labels, step_answers, flat_answers)
+    chosen = step if wins >= STRUCTURE_CONFIDENCE else flat
+    chosen.metrics_["structure_wins"] = wins
+    chosen.metrics_["structure_reason"] = (
+        f"the department step's validation macro-F1 ({step.metrics_['valid_macro_f1']:.3f}, flat "
+        f"{flat.metrics_['valid_macro_f1']:.3f}) was higher in {wins:.0%} of "
+        f"{BOOTSTRAP_RESAMPLES} bootstrap resamples of the validation products; the department "
+        f"step is kept at {STRUCTURE_CONFIDENCE:.0%} or more"
+    )
     return chosen
 
 
