@@ -180,11 +180,6 @@ def train_command(
         console.print(
             f"  structure            {metrics['structure']} ({metrics['structure_reason']})"
         )
-    elif "structure" in metrics:
-        console.print(
-            f"  structure            {metrics['structure']} (the better validation macro-F1, "
-            f"{metrics['valid_macro_f1']:.3f})"
-        )
     console.print(f"  keyword weight       {metrics.get('keyword_weight', 0):.2f}")
     console.print(f"  consensus weight     {metrics.get('consensus_weight', 0):.2f}")
     console.print(f"  training time        {facts['training_seconds']:.1f} s")
