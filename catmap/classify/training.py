@@ -456,8 +456,8 @@ def fit_model(
     else the flat one. With more classes, or a structure given, one model is trained and
     calibrated, as before. When every class is its own department (a one-level tree), only the
     flat model is trained, whatever was given: the department step would hold one class per
-    department. The validation products do not train this model; :func:`train_model` may then train the chosen
-    one again with them (:func:`refit_on_all`), keeping what they calibrated.
+    department. The validation products do not train this model; :func:`train_model` may then
+    train the chosen one again with them (:func:`refit_on_all`), keeping what they calibrated.
 
     Args:
         tree: the category tree.
