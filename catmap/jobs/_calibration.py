@@ -11,7 +11,6 @@ only on the pooled products, where an easy retailer can hide a hard one."""
 
 from __future__ import annotations
 
-import dataclasses
 import logging
 import re
 import zipfile
@@ -311,10 +310,10 @@ def predict_rows(
 
 
 def _concatenate(parts: Sequence[ValidationPredictions], source: str) -> ValidationPredictions:
-    if len(parts) == 1:
-        return dataclasses.replace(parts[0], source=source)
+    """One source of the parts' products, in order; a part that did not measure retailers or
+    familiarity gets "" and 1.0 (fully familiar) for each of its products."""
 
-    def joined(name: str, fill: float) -> np.ndarray[Any, Any]:
+    def joined(name: str, fill: str | float) -> np.ndarray[Any, Any]:
         return np.concatenate([
             getattr(v, name) if len(getattr(v, name)) == len(v) else np.full(len(v), fill)
             for v in parts
@@ -324,9 +323,7 @@ def _concatenate(parts: Sequence[ValidationPredictions], source: str) -> Validat
         np.concatenate([v.scores for v in parts]),
         np.concatenate([v.correct for v in parts]),
         source,
-        np.concatenate([
-            v.retailers if len(v.retailers) == len(v) else np.full(len(v), "") for v in parts
-        ]).astype(str),  # fmt: skip
+        joined("retailers", "").astype(str),
         joined("familiarity", 1.0),
         joined("labelled_familiarity", 1.0),
     )
@@ -421,24 +418,16 @@ def _save_sources(path: Path, sources: Sequence[ValidationPredictions], stamp: s
 
 
 def _savez(handle: IO[bytes], sources: Sequence[ValidationPredictions], stamp: str) -> None:
+    every = _concatenate(sources, "")
     np.savez(
         handle,
-        scores=np.concatenate([v.scores for v in sources]),
-        correct=np.concatenate([v.correct for v in sources]),
+        scores=every.scores,
+        correct=every.correct,
         sizes=np.array([len(v) for v in sources], dtype=np.int64),
         sources=np.array([v.source for v in sources]),
-        retailers=np.concatenate(
-            [v.retailers if len(v.retailers) == len(v) else np.full(len(v), "") for v in sources]
-        ).astype(str),
-        familiarity=np.concatenate(
-            [v.familiarity if len(v.familiarity) == len(v) else np.ones(len(v)) for v in sources]
-        ),
-        labelled_familiarity=np.concatenate(
-            [
-                v.labelled_familiarity if len(v.labelled_familiarity) == len(v) else np.ones(len(v))
-                for v in sources
-            ]
-        ),
+        retailers=every.retailers,
+        familiarity=every.familiarity,
+        labelled_familiarity=every.labelled_familiarity,
         manifest=np.array(stamp),
     )
 
