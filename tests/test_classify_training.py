@@ -181,7 +181,9 @@ def test_a_refit_trains_on_the_validation_products_too_and_keeps_their_calibrati
     assert refit.hierarchical == model.hierarchical
 
 
-def test_a_training_feed_is_known_by_its_path_or_its_content(tmp_path: Path) -> None:
+def test_a_training_feed_is_known_by_its_path_or_its_content(
+    tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
     from catmap.classify.storage import file_fingerprint, training_feed
 
     feed = tmp_path / "labelled.csv"
@@ -191,13 +193,26 @@ def test_a_training_feed_is_known_by_its_path_or_its_content(tmp_path: Path) -> 
     copy.write_bytes(feed.read_bytes())
     other = tmp_path / "other.csv"
     other.write_text("id,title,gold_node\n1,a chair,200\n", encoding="utf-8")
-    manifest = {
-        "training_feeds": [{"path": str(feed.resolve()), "fingerprint": file_fingerprint(feed)}]
-    }
+    entry = {"path": str(feed.resolve()), "fingerprint": file_fingerprint(feed)}
+    manifest = {"training_feeds": [{**entry, "bytes": feed.stat().st_size}]}
     assert training_feed(manifest, feed) == feed.resolve()
     assert training_feed(manifest, copy) == feed.resolve()  # the same rows, another file
     assert training_feed(manifest, other) is None
     assert training_feed({}, feed) is None  # a model folder from before the list
+    # A file of another size is not hashed: it cannot hold the same rows.
+    longer = tmp_path / "longer.csv"
+    longer.write_bytes(feed.read_bytes() + b"2,a desk,100\n")
+    import catmap.classify.storage as storage
+
+    hashed: list[object] = []
+    real = storage.file_fingerprint
+    monkeypatch.setattr(storage, "file_fingerprint", lambda path: hashed.append(path) or real(path))
+    assert training_feed(manifest, longer) is None
+    assert hashed == []
+    assert training_feed(manifest, copy) == feed.resolve()
+    assert hashed == [copy]
+    # An entry written before sizes were kept is compared by content.
+    assert training_feed({"training_feeds": [entry]}, copy) == feed.resolve()
 
 
 def test_the_bootstrap_macro_f1_is_sklearns_and_a_tie_keeps_the_flat_model() -> None:

@@ -74,9 +74,13 @@ def training_feed(manifest: dict[str, Any], feed: str | Path) -> Path | None:
     for item in feeds:
         if Path(item.get("path", "")) == resolved:
             return resolved
-    content = file_fingerprint(feed)
+    # Only a file of a training feed's size can hold its content: a feed of another size is not
+    # read through (evaluating or calibrating on a large feed reads it once, not twice).
+    size = resolved.stat().st_size if resolved.is_file() else -1
+    alike = [item for item in feeds if item.get("bytes", size) == size]
+    content = file_fingerprint(feed) if alike else ""
     return next(
-        (Path(item["path"]) for item in feeds if content and item.get("fingerprint") == content),
+        (Path(item["path"]) for item in alike if content and item.get("fingerprint") == content),
         None,
     )
 

@@ -739,7 +739,12 @@ def train_model(
             "training_seconds": round(elapsed, 2),
             "label_column": label_column,
             "training_feeds": [
-                {"path": str(Path(f).resolve()), "fingerprint": file_fingerprint(f)} for f in feeds
+                {
+                    "path": str(Path(f).resolve()),
+                    "bytes": Path(f).stat().st_size,
+                    "fingerprint": file_fingerprint(f),
+                }
+                for f in feeds
             ],
             **({"labels_tree": labels_from} if labels_from else {}),
             **({"refit_feeds": [str(Path(f).resolve()) for f in feeds]} if refit else {}),
