@@ -331,22 +331,12 @@ def score_words_dense(
         out: float32 (scored texts, k).
     """
     k = block.shape[1]
-    bound = 0
-    for i in range(len(groups) - 1):
-        size = 0
-        for j in range(groups[i], groups[i + 1]):
-            size += c_indptr[words[j] + 1] - c_indptr[words[j]]
-        bound = max(bound, size)
-    # A text's n-gram counts in a small hash table (a few hundred slots, in the fastest cache)
-    # rather than in arrays as long as the vocabulary, read at random.
-    size = 16
-    while size < 2 * bound:
-        size *= 2
-    slot_feature = np.full(size, -1, dtype=np.int64)
-    slot_count = np.zeros(size, dtype=np.float64)
-    slot_idf = np.zeros(size, dtype=np.float64)
-    listed = np.empty(max(bound, 1), dtype=np.int64)
-    mask = size - 1
+    n_features = len(row_of) - offset  # the block's features (and those after it)
+    # Each n-gram's count in the current text, beside the text's number: one 8-byte entry per
+    # feature (text << 32 | count), read and written once per entry. A text's n-grams are
+    # mostly distinct; only the ones it holds more than once are listed for the end.
+    seen = np.full(max(n_features, 1), -1, dtype=np.int64)
+    listed = np.empty(16, dtype=np.int64)
     total = np.zeros(k, dtype=np.float32)
     for i in range(len(groups) - 1):
         target = out_row[i]
@@ -354,6 +344,8 @@ def score_words_dense(
             continue
         total[:] = 0.0
         n_listed = 0
+        square = 0.0  # the n-grams held once: idf squared each
+        stamp = np.int64(i) << 32
         for j in range(groups[i], groups[i + 1]):
             w = words[j]
             if not word_ready[w]:
@@ -369,31 +361,41 @@ def score_words_dense(
                 total[c] += word_scores[w, c]
             for p in range(c_indptr[w], c_indptr[w + 1]):
                 f = c_indices[p]
-                slot = (f * 40503) & mask
-                while slot_feature[slot] != -1 and slot_feature[slot] != f:
-                    slot = (slot + 1) & mask
-                if slot_feature[slot] == -1:
-                    slot_feature[slot] = f
-                    slot_count[slot] = 0.0
-                    slot_idf[slot] = c_idf[p]
-                    listed[n_listed] = slot
-                    n_listed += 1
-                slot_count[slot] += c_data[p]
-        square = 0.0
+                add = np.int64(c_data[p])
+                old = seen[f]
+                if old >> 32 == i:
+                    count = old & 0xFFFFFFFF
+                    if count == 1:
+                        square -= c_idf[p] * c_idf[p]
+                    else:
+                        seen[f] = stamp | (count + add)
+                        continue
+                else:
+                    count = np.int64(0)
+                    if add == 1:
+                        square += c_idf[p] * c_idf[p]
+                        seen[f] = stamp | 1
+                        continue
+                seen[f] = stamp | (count + add)
+                if n_listed == len(listed):
+                    grown = np.empty(2 * n_listed, dtype=np.int64)
+                    grown[:n_listed] = listed
+                    listed = grown
+                listed[n_listed] = p
+                n_listed += 1
         for q in range(n_listed):
-            slot = listed[q]
-            f = slot_feature[slot]
-            slot_feature[slot] = -1
-            count = slot_count[slot]
+            p = listed[q]
+            f = c_indices[p]
+            count = np.float64(seen[f] & 0xFFFFFFFF)
             tf = count
-            if sublinear and tf > 1.0:
-                tf = 1.0 + np.log(tf)
+            if sublinear:
+                tf = 1.0 + np.log(count)
                 r = row_of[f + offset]
                 if r >= 0:
-                    fix = np.float32((tf - count) * slot_idf[slot])
+                    fix = np.float32((tf - count) * c_idf[p])
                     for c in range(k):
                         total[c] += fix * block[r, c]
-            value = tf * slot_idf[slot]
+            value = tf * c_idf[p]
             square += value * value
         if square > 0.0:
             scale = np.float32(weight / np.sqrt(square))
@@ -1169,6 +1171,7 @@ def char_wb_rows(
     low: int,
     high: int,
     table: Array,
+    n_features: int,
 ) -> tuple[Array, Array, Array]:
     """Count the known ``char_wb`` n-grams of each word: one CSR row per word.
 
@@ -1176,9 +1179,12 @@ def char_wb_rows(
     up in an :func:`ngram_table` (``high`` at most six). From each start they are extended one
     character at a time, and the extension stops at the first n-gram the table does not hold.
 
+    Args:
+        n_features: more than the table's highest feature.
+
     Returns:
-        (data, indices, indptr) of the (words, features) float32 count matrix, each row's
-        columns in increasing order, no duplicates (SciPy's canonical form).
+        (data, indices, indptr) of the (words, features) float32 count matrix: no duplicate
+        entries, a row's columns in order of first appearance (as :func:`sum_rows` gives them).
     """
     n_words = len(offsets) - 1
     bound = 0
@@ -1187,6 +1193,9 @@ def char_wb_rows(
     indptr = np.zeros(n_words + 1, dtype=np.int64)
     indices = np.empty(bound, dtype=np.int32)
     data = np.empty(bound, dtype=np.float32)
+    # The word each feature was last counted for: a repeat inside a word (rare) is found
+    # without sorting the row.
+    last_word = np.full(max(n_features, 1), -1, dtype=np.int32)
     nnz = 0
     for i in range(n_words):
         start = offsets[i]
@@ -1210,26 +1219,17 @@ def char_wb_rows(
                     break
                 feature = table[slot, 2]
                 if feature >= 0:
-                    indices[nnz] = feature
-                    nnz += 1
+                    if last_word[feature] != i:
+                        last_word[feature] = i
+                        indices[nnz] = feature
+                        data[nnz] = 1.0
+                        nnz += 1
+                    else:
+                        q = row_start
+                        while indices[q] != feature:
+                            q += 1
+                        data[q] += 1.0
                 if j + 1 == size:
                     break
-        # The row's columns in order (insertion sort: a word has a few dozen), then merged.
-        for p in range(row_start + 1, nnz):
-            value = indices[p]
-            q = p - 1
-            while q >= row_start and indices[q] > value:
-                indices[q + 1] = indices[q]
-                q -= 1
-            indices[q + 1] = value
-        kept = row_start
-        for p in range(row_start, nnz):
-            if p > row_start and indices[p] == indices[kept - 1]:
-                data[kept - 1] += 1.0
-            else:
-                indices[kept] = indices[p]
-                data[kept] = 1.0
-                kept += 1
-        nnz = kept
         indptr[i + 1] = nnz
     return data[:nnz].copy(), indices[:nnz].copy(), indptr

@@ -564,7 +564,8 @@ class WordCachedTfidf(_PerWordCache):
         codes, offsets = split.code_points(numbers)
         table = self._table()
         if len(table) == 1:
-            self._rows.append(*char_wb_rows(codes, offsets, self._low, self._high, *table))
+            rows = char_wb_rows(codes, offsets, self._low, self._high, *table, self._n_features)
+            self._rows.append(*rows)
             return
         owner, feature = char_wb_features(codes, offsets, self._low, self._high, *table)
         block = sp.csr_matrix(
