@@ -29,6 +29,7 @@ from catmap.classify._kernels import (
     score_columns_dense,
     score_new_words,
     score_rows,
+    score_rows_dense,
     score_words_dense,
     string_hashes,
     sum_rows,
@@ -101,6 +102,23 @@ def test_score_rows_adds_the_selected_rows_product_to_the_output() -> None:
     # reference: SciPy row indexing and sparse product
     expected = (x[rows] @ w).toarray() + intercept
     assert np.allclose(out, expected, rtol=1e-6)
+
+
+def test_dense_row_scoring_equals_packed_row_scoring_bit_for_bit() -> None:
+    x = _random_csr(50, 120, 0.1, 16)
+    x.data[:] = np.random.default_rng(16).normal(size=x.nnz)  # signs mixed: sums meet zero
+    keep = np.ones(120, dtype=np.float32)
+    keep[[2, 30]] = 0  # empty weight rows are left out of the dense block
+    w = sp.csr_matrix(sp.diags(keep) @ _random_csr(120, 9, 0.1, 17))
+    w.eliminate_zeros()
+    rows = np.array([4, 0, 4, 49, 17], dtype=np.int64)
+    packed = np.zeros((len(rows), 9))
+    score_rows(x.indptr, x.indices, x.data, rows, *pack_rows(w), packed)
+    dense = np.zeros((len(rows), 9))
+    score_rows_dense(x.indptr, x.indices, x.data, rows, *dense_rows(w), dense)
+    assert np.array_equal(dense, packed)  # the same products added in the same order
+    # reference: SciPy row indexing and sparse product
+    assert np.allclose(dense, (x[rows] @ w).toarray(), rtol=1e-6)
 
 
 def test_idf_and_row_norm_equal_the_tfidf_transformer_bit_for_bit() -> None:

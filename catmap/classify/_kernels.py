@@ -51,6 +51,7 @@ __all__ = [
     "pack_rows",
     "pair_table",
     "score_rows",
+    "score_rows_dense",
     "score_words_dense",
     "score_columns_dense",
     "score_new_words",
@@ -247,6 +248,35 @@ def dense_rows(matrix: sp.csr_matrix) -> tuple[Array, Array]:
     row_of[used] = np.arange(len(used))
     block = np.ascontiguousarray(matrix[used].toarray(), dtype=np.float32)
     return row_of, block
+
+
+@njit(cache=True, nogil=True)
+def score_rows_dense(
+    x_indptr: Array,
+    x_indices: Array,
+    x_data: Array,
+    rows: Array,
+    row_of: Array,
+    block: Array,
+    out: Array,
+) -> None:
+    """:func:`score_rows` with ``W`` from :func:`dense_rows`: the same sums, bit for bit.
+
+    Each product is added the whole weight row of each of its features, zeros included
+    (adding a zero product leaves a sum as it is), with vector instructions; the products and
+    their order are those of :func:`score_rows`. For a small ``W`` that fits the fastest
+    caches, read row by row.
+    """
+    k = block.shape[1]
+    for i in range(len(rows)):
+        row = rows[i]
+        for p in range(x_indptr[row], x_indptr[row + 1]):
+            r = row_of[x_indices[p]]
+            if r < 0:
+                continue
+            value = x_data[p]
+            for c in range(k):
+                out[i, c] += value * block[r, c]
 
 
 @njit(cache=True, nogil=True, fastmath=True)
