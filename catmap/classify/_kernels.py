@@ -264,8 +264,8 @@ def score_rows_dense(
 
     Each product is added the whole weight row of each of its features, zeros included
     (adding a zero product leaves a sum as it is), with vector instructions; the products and
-    their order are those of :func:`score_rows`. For a small ``W`` that fits the fastest
-    caches, read row by row.
+    their order are those of :func:`score_rows` (compiled without fastmath, which would let
+    the compiler reorder them). For a small ``W`` that fits the fastest caches, read row by row.
     """
     k = block.shape[1]
     for i in range(len(rows)):
