@@ -1262,4 +1262,5 @@ def char_wb_rows(
                 if j + 1 == size:
                     break
         indptr[i + 1] = nnz
-    return data[:nnz].copy(), indices[:nnz].copy(), indptr
+    # Views, not copies: the buffers' unused ends were never written (no memory taken).
+    return data[:nnz], indices[:nnz], indptr
