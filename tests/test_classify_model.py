@@ -128,6 +128,29 @@ def test_cold_start_finds_nodes_for_multilingual_titles(tree: CategoryTree) -> N
     assert predicted.tolist() == list(titles.values())
 
 
+@pytest.mark.parametrize(
+    "paths",
+    [
+        ["Chaussures > Bottines", "", "Küche", "Chaussures > Bottines"],  # some paths
+        ["", "", "", ""],  # none: the title rows alone
+        ["zzqx", "", "", "qqqq"],  # paths with no n-gram of the tree's words
+    ],
+)
+def test_keyword_query_is_the_normalised_title_plus_weighted_path(
+    tree: CategoryTree, paths: list[str]
+) -> None:
+    from sklearn.preprocessing import normalize
+
+    mapper = KeywordMapper(tree=tree, path_weight=0.5).fit()
+    titles = ["Bottines en cuir marron", "", "Espressomaschine mit Milch", "Hiking sandals"]
+    empty = [""] * len(titles)
+    query = mapper.query(ProductTexts(titles, paths, empty, empty))
+    # reference: scikit-learn's vectorizer on the title and on the path, then its L2 norm
+    vectorizer = mapper.vectorizer_
+    expected = normalize(vectorizer.transform(titles) + 0.5 * vectorizer.transform(paths))
+    assert np.allclose(query.toarray(), expected.toarray(), atol=1e-6)
+
+
 def test_mapper_top_k_is_the_same_in_small_batches(
     tree: CategoryTree, monkeypatch: pytest.MonkeyPatch
 ) -> None:

@@ -136,21 +136,24 @@ class KeywordMapper:
         if self.path_weight > 0:
             distinct, rows = distinct_values(texts.path)
             paths = cache.transform(distinct)
-            # title + weighted path of the row's distinct path, then the L2 norm, in one pass.
-            query = sp.csr_matrix(
-                add_rows(
-                    query.indptr,
-                    query.indices,
-                    query.data,
-                    rows,
-                    paths.indptr,
-                    paths.indices,
-                    paths.data,
-                    self.path_weight,
-                    query.shape[1],
-                ),
-                shape=query.shape,
-            )
+            # With no path n-gram in the batch (no paths, or none the tree's words share), the
+            # title rows are the query already.
+            if paths.nnz:
+                # title + weighted path of the row's distinct path, then the L2 norm, in one pass.
+                query = sp.csr_matrix(
+                    add_rows(
+                        query.indptr,
+                        query.indices,
+                        query.data,
+                        rows,
+                        paths.indptr,
+                        paths.indices,
+                        paths.data,
+                        self.path_weight,
+                        query.shape[1],
+                    ),
+                    shape=query.shape,
+                )
         result: sp.csr_matrix = query
         return result
 
