@@ -459,6 +459,7 @@ class CategoryModel:
                 if part.documents_dense is not None:
                     score_rows_dense(*x, rows, *part.documents_dense, sims)
                 else:
+                    assert part.documents_t is not None
                     score_rows(*x, rows, *part.documents_t, sims)
                 similar = softmax(sims, self.keyword_blend_temperature_, in_place=True)
                 keyword = _placed(similar, part.keyword_pos, len(part.columns), share)
@@ -880,8 +881,9 @@ class _GroupPart:
     dense: tuple[Array, Array] | None  # the same weights from dense_rows, when that pays
     intercept: Array
     keyword_pos: Array  # positions in ``columns`` of the keyword leaves, in document order
-    documents_t: tuple[Array, Array, Array]  # (keyword features, keyword leaves), pack_rows
-    documents_dense: tuple[Array, Array] | None  # the same from dense_rows, when that pays
+    # (keyword features, keyword leaves) in one form: dense_rows when that pays, else pack_rows
+    documents_t: tuple[Array, Array, Array] | None
+    documents_dense: tuple[Array, Array] | None
 
 
 @dataclass(frozen=True, slots=True)
@@ -903,6 +905,7 @@ class _PartSources:
         weights = self.class_coef[:, lin].tocsr()
         dense_pays = _dense_pays(weights)
         documents = self.documents_t[:, kw].tocsr()
+        documents_dense = _dense_documents(documents)
         return _GroupPart(
             columns=columns,
             linear_pos=np.searchsorted(columns, lin_columns),
@@ -911,8 +914,8 @@ class _PartSources:
             dense=dense_rows(weights) if dense_pays else None,
             intercept=self.class_intercept[lin],
             keyword_pos=np.searchsorted(columns, kw),
-            documents_t=pack_rows(documents),
-            documents_dense=dense_rows(documents) if _dense_documents(documents) else None,
+            documents_t=None if documents_dense else pack_rows(documents),
+            documents_dense=dense_rows(documents) if documents_dense else None,
         )
 
 
