@@ -111,12 +111,36 @@ def test_a_folder_keeps_its_own_ngram_ranges_and_department_floor(
     manifest = _saved_as_earlier(
         trained, tmp_path, [("feature_ngram_ranges",), ("settings", "department_floor")]
     )
-    assert manifest["feature_ngram_ranges"]["title_chars"] == [3, 4]
+    assert manifest["feature_ngram_ranges"]["title_chars"] == [4, 4]
     assert manifest["settings"]["department_floor"] == trained.department_floor
     loaded, _ = load_model(tmp_path / "model", tree)
     assert loaded.featurizer_.vectorizers_["title_chars"].ngram_range == (3, 5)
     assert loaded.featurizer_.vectorizers_["title_words"].ngram_range == (1, 2)
     assert loaded.department_floor == 1e-3
+
+
+def test_a_folder_trained_with_other_ngram_ranges_maps_with_them(
+    tree: CategoryTree, tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    # Folders trained before the title's character n-grams became 4-grams only used 3-4.
+    import catmap.classify.features as features
+
+    earlier = tuple(
+        (name, field, {**settings, "ngram_range": (3, 4)} if name == "title_chars" else settings)
+        for name, field, settings in features.FIELD_BLOCKS
+    )
+    rows = labelled_rows(300)
+    train, labels = texts_and_labels([r for r in rows if r["split"] == "train"])
+    with monkeypatch.context() as patched:
+        patched.setattr(features, "FIELD_BLOCKS", earlier)
+        model = CategoryModel(tree=tree, min_df=1).fit(train, labels)
+        save_model(model, tmp_path / "model")
+    assert features.FIELD_BLOCKS != earlier  # the default is back
+    loaded, manifest = load_model(tmp_path / "model", tree)
+    assert manifest["feature_ngram_ranges"]["title_chars"] == [3, 4]
+    assert loaded.featurizer_.vectorizers_["title_chars"].ngram_range == (3, 4)
+    texts, _ = texts_and_labels(labelled_rows(60, seed=2))
+    assert np.array_equal(loaded.predict_proba(texts), model.predict_proba(texts))
 
 
 def test_model_for_another_tree_version_is_refused(trained: CategoryModel, tmp_path: Path) -> None:
