@@ -12,7 +12,7 @@ import scipy.sparse as sp
 
 from catmap.classify.features import ProductTexts
 from catmap.classify.keywords import KeywordMapper
-from catmap.classify.model import CategoryModel
+from catmap.classify.model import MODEL_KEYWORD_NGRAM_RANGE, CategoryModel
 from catmap.classify.storage import load_model, save_model
 from catmap.errors import ModelNotTrained, ModelTreeMismatch
 from catmap.tree.taxonomy import CategoryTree, load_tree
@@ -94,9 +94,19 @@ def _documents(part: Any) -> sp.csr_matrix:
 
 
 def test_a_folder_saved_before_keyword_pruning_loads_with_every_keyword_entry(
-    trained: CategoryModel, tree: CategoryTree, tmp_path: Path
+    tree: CategoryTree, tmp_path: Path, monkeypatch: pytest.MonkeyPatch
 ) -> None:
-    manifest = _saved_as_earlier(trained, tmp_path, [("settings", "keyword_prune_below")])
+    # Folders of that time compared keyword 3- to 5-grams, whose documents hold small entries.
+    import catmap.classify.model as model_module
+
+    monkeypatch.setattr(model_module, "MODEL_KEYWORD_NGRAM_RANGE", (3, 5))
+    rows = labelled_rows(300)
+    train, labels = texts_and_labels([r for r in rows if r["split"] == "train"])
+    valid, valid_labels = texts_and_labels([r for r in rows if r["split"] == "valid"])
+    trained = CategoryModel(tree=tree, min_df=1).fit(train, labels).calibrate(valid, valid_labels)
+    manifest = _saved_as_earlier(
+        trained, tmp_path, [("settings", "keyword_prune_below"), ("keyword_ngram_range",)]
+    )
     assert manifest["settings"]["keyword_prune_below"] == trained.keyword_prune_below > 0
     loaded, _ = load_model(tmp_path / "model", tree)
     assert loaded.keyword_prune_below == 0.0
@@ -109,12 +119,17 @@ def test_a_folder_keeps_its_own_ngram_ranges_and_department_floor(
     trained: CategoryModel, tree: CategoryTree, tmp_path: Path
 ) -> None:
     manifest = _saved_as_earlier(
-        trained, tmp_path, [("feature_ngram_ranges",), ("settings", "department_floor")]
+        trained,
+        tmp_path,
+        [("feature_ngram_ranges",), ("settings", "department_floor"), ("keyword_ngram_range",)],
     )
     assert manifest["feature_ngram_ranges"]["title_chars"] == [4, 4]
     assert manifest["settings"]["department_floor"] == trained.department_floor
+    assert manifest["keyword_ngram_range"] == list(MODEL_KEYWORD_NGRAM_RANGE)
     loaded, _ = load_model(tmp_path / "model", tree)
     assert loaded.featurizer_.vectorizers_["title_chars"].ngram_range == (3, 5)
+    assert loaded.keywords_.vectorizer_.ngram_range == (3, 5)
+    assert loaded.keywords_.ngram_range == (3, 5)
     assert loaded.featurizer_.vectorizers_["title_words"].ngram_range == (1, 2)
     assert loaded.department_floor == 1e-3
 
@@ -187,6 +202,29 @@ def test_keyword_query_is_the_normalised_title_plus_weighted_path(
     vectorizer = mapper.vectorizer_
     expected = normalize(vectorizer.transform(titles) + 0.5 * vectorizer.transform(paths))
     assert np.allclose(query.toarray(), expected.toarray(), atol=1e-6)
+
+
+@pytest.mark.parametrize("ngram_range", [None, (4, 4), (4, 5)])
+def test_keyword_documents_are_scikit_learns_tfidf_of_the_node_texts(
+    tree: CategoryTree, ngram_range: tuple[int, int] | None
+) -> None:
+    # Reference: scikit-learn's TfidfVectorizer (char_wb, sublinear tf, L2 rows) on the same
+    # node texts, with the n-gram range asked for (None: the mapper's default, 3-5).
+    from sklearn.feature_extraction.text import TfidfVectorizer
+
+    from catmap.classify.keywords import node_document
+
+    mapper = KeywordMapper(tree=tree, ngram_range=ngram_range).fit()
+    expected_range = ngram_range or (3, 5)
+    assert mapper.vectorizer_.ngram_range == expected_range
+    reference = TfidfVectorizer(analyzer="char_wb", ngram_range=expected_range, sublinear_tf=True)
+    documents = reference.fit_transform([node_document(tree, leaf) for leaf in mapper.classes_])
+    assert mapper.vectorizer_.vocabulary_ == reference.vocabulary_
+    assert np.allclose(mapper.documents_.toarray(), documents.toarray(), atol=1e-6)
+
+
+def test_a_trained_model_compares_its_own_keyword_ngrams(trained: CategoryModel) -> None:
+    assert trained.keywords_.vectorizer_.ngram_range == MODEL_KEYWORD_NGRAM_RANGE
 
 
 def test_mapper_top_k_is_the_same_in_small_batches(

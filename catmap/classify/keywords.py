@@ -63,11 +63,19 @@ KEYWORD_VECTORIZER_SETTINGS: dict[str, Any] = {
 }
 
 
-def make_keyword_vectorizer() -> TfidfVectorizer:
+def keyword_vectorizer_settings(ngram_range: tuple[int, int] | None = None) -> dict[str, Any]:
+    """Return the keyword mapper's ``TfidfVectorizer`` keyword arguments, with another n-gram
+    range than :data:`KEYWORD_VECTORIZER_SETTINGS`' when given."""
+    if ngram_range is None:
+        return dict(KEYWORD_VECTORIZER_SETTINGS)
+    return {**KEYWORD_VECTORIZER_SETTINGS, "ngram_range": tuple(ngram_range)}
+
+
+def make_keyword_vectorizer(ngram_range: tuple[int, int] | None = None) -> TfidfVectorizer:
     """Return the unfitted vectorizer of the keyword mapper."""
     from sklearn.feature_extraction.text import TfidfVectorizer
 
-    return TfidfVectorizer(**KEYWORD_VECTORIZER_SETTINGS)
+    return TfidfVectorizer(**keyword_vectorizer_settings(ngram_range))
 
 
 class KeywordMapper:
@@ -77,6 +85,8 @@ class KeywordMapper:
         tree: the category tree.
         temperature: softmax temperature over cosine similarities (smaller = sharper).
         path_weight: weight of the retailer path next to the title in the query text.
+        ngram_range: the character n-gram lengths compared (None: those of
+            :data:`KEYWORD_VECTORIZER_SETTINGS`).
 
     Attributes:
         classes_: the leaf ids (columns of the probabilities).
@@ -90,10 +100,12 @@ class KeywordMapper:
         tree: CategoryTree,
         temperature: float = DEFAULT_TEMPERATURE,
         path_weight: float = 0.5,
+        ngram_range: tuple[int, int] | None = None,
     ) -> None:
         self.tree = tree
         self.temperature = temperature
         self.path_weight = path_weight
+        self.ngram_range = ngram_range
 
     def fit(
         self, texts: ProductTexts | None = None, labels: Sequence[str] | None = None
@@ -110,7 +122,7 @@ class KeywordMapper:
         if self.temperature <= 0:
             raise ValueError("the temperature must be > 0")
         leaves = [node.id for node in self.tree.leaves()]
-        vectorizer = make_keyword_vectorizer()
+        vectorizer = make_keyword_vectorizer(self.ngram_range)
         documents = vectorizer.fit_transform([node_document(self.tree, leaf) for leaf in leaves])
         self.classes_ = np.array(leaves)
         self.vectorizer_ = vectorizer

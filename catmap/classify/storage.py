@@ -25,7 +25,7 @@ import scipy.sparse as sp
 from catmap._atomic import atomic_open, write_text_atomic
 from catmap.classify._tfidf import LoadedTfidf
 from catmap.classify.features import ProductFeaturizer
-from catmap.classify.keywords import KEYWORD_VECTORIZER_SETTINGS, KeywordMapper
+from catmap.classify.keywords import KeywordMapper, keyword_vectorizer_settings
 from catmap.classify.model import CategoryModel
 from catmap.errors import ModelError, ModelNotTrained, ModelTreeMismatch
 from catmap.tree.taxonomy import CategoryTree
@@ -49,6 +49,7 @@ MANIFEST = "manifest.json"
 PRODUCT_WORDS = "product-words.npy"
 # What folders written before these settings were saved used.
 _EARLIER_NGRAM_RANGES: dict[str, tuple[int, int]] = {"title_chars": (3, 5)}
+_EARLIER_KEYWORD_NGRAM_RANGE = (3, 5)
 _EARLIER_DEPARTMENT_FLOOR = 1e-3
 
 
@@ -215,6 +216,7 @@ def save_model(
         "keyword_blend_temperature": float(model.keyword_blend_temperature_),
         "keyword_temperature": float(model.keywords_.temperature),
         "keyword_path_weight": float(model.keywords_.path_weight),
+        "keyword_ngram_range": list(model.keywords_.vectorizer_.ngram_range),
         "metrics": model.metrics_,
         "class_ids": model.classes_.tolist(),
         **(extra or {}),
@@ -333,12 +335,16 @@ def load_model(folder: str | Path, tree: CategoryTree) -> tuple[CategoryModel, d
         }
         featurizer.n_features_ = sum(len(v.vocabulary_) for v in featurizer.vectorizers_.values())
         model.featurizer_ = featurizer
+        keyword_range = tuple(manifest.get("keyword_ngram_range", _EARLIER_KEYWORD_NGRAM_RANGE))
         keywords = KeywordMapper(
             tree=tree,
             temperature=manifest["keyword_temperature"],
             path_weight=manifest["keyword_path_weight"],
+            ngram_range=(int(keyword_range[0]), int(keyword_range[1])),
         )
-        keywords.vectorizer_ = _load_vocabulary(src, "keywords", KEYWORD_VECTORIZER_SETTINGS)
+        keywords.vectorizer_ = _load_vocabulary(
+            src, "keywords", keyword_vectorizer_settings(keywords.ngram_range)
+        )
         keywords.documents_ = sp.load_npz(src / "keyword-documents.npz").tocsr()
         keywords.classes_ = np.load(src / "keyword-classes.npy", allow_pickle=False)
         model.keywords_ = keywords
