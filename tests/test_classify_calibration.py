@@ -53,3 +53,23 @@ def test_softmax_in_place_gives_the_same_bits_and_reuses_the_array() -> None:
     single = scores.astype(np.float32)
     softmax(single, 0.7, in_place=True)
     assert np.array_equal(single, scores.astype(np.float32))
+
+
+@pytest.mark.parametrize(
+    "scale",
+    [0.5, 50.0, 500.0, 5000.0],  # within the unshifted range, near its edge, and beyond it
+)
+def test_softmax_matches_scipy_with_or_without_the_row_shift(scale: float) -> None:
+    # Reference: scipy.special.softmax (subtracts each row's maximum before exp).
+    from scipy.special import softmax as scipy_softmax
+
+    scores = np.random.default_rng(5).normal(size=(200, 57)) * scale
+    expected = scipy_softmax(scores / 0.9, axis=1)
+    got = softmax(scores, 0.9)
+    assert np.all(np.isfinite(got))
+    assert np.allclose(got, expected, rtol=1e-12, atol=1e-300)
+    with_minus_inf = scores.copy()
+    with_minus_inf[:, 3] = -np.inf
+    got = softmax(with_minus_inf, 0.9)
+    assert np.all(got[:, 3] == 0.0)
+    assert np.allclose(got, scipy_softmax(with_minus_inf / 0.9, axis=1), rtol=1e-12, atol=1e-300)

@@ -16,6 +16,8 @@ __all__ = ["ECE_BINS", "expected_calibration_error", "fit_temperature", "softmax
 
 ECE_BINS = 15
 _FLOOR = 1e-12
+# exp(±600) is finite and normal in float64 (about 1e±260), and a row sum of them stays finite.
+_EXP_SAFE = 600.0
 
 FloatArray = np.ndarray[Any, np.dtype[np.floating[Any]]]
 
@@ -31,7 +33,10 @@ def softmax(scores: FloatArray, temperature: float = 1.0, *, in_place: bool = Fa
         scaled /= temperature
     else:
         scaled = np.asarray(scores, dtype=np.float64) / temperature
-    scaled -= scaled.max(axis=1, keepdims=True)
+    if not (scaled.size and -_EXP_SAFE < scaled.min() and scaled.max() < _EXP_SAFE):
+        # Subtracting each row's largest score keeps exp finite; when every score is already
+        # within ±_EXP_SAFE (no -inf either), the shift changes nothing but the rounding.
+        scaled -= scaled.max(axis=1, keepdims=True)
     np.exp(scaled, out=scaled)
     scaled /= scaled.sum(axis=1, keepdims=True)
     return scaled
