@@ -9,7 +9,9 @@ and the mean and standard deviation of its per-fold difference from the first va
 the folds are the same).
 
 A variant is a name and ``CategoryModel`` settings (JSON; ``"refit": true`` trains the chosen
-model again on the calibration tenth too, as ``catmap train --refit`` does), or ``svc`` (the
+model again on the calibration tenth too, as ``catmap train --refit`` does;
+``"title_chars_ngram_range": [3, 4]`` and ``"keyword_ngram_range": [3, 5]`` train with other
+character n-gram lengths than catmap's, set in the fold's own process), or ``svc`` (the
 bench's word 1-2 + char_wb 2-5 TF-IDF + LinearSVC(C=0.5) baseline, trained on the same nine
 tenths).
 
@@ -78,6 +80,9 @@ def run_fold(
 
         options = dict(settings)
         refit = bool(options.pop("refit", False))
+        _set_ngram_ranges(
+            options.pop("title_chars_ngram_range", None), options.pop("keyword_ngram_range", None)
+        )
         parts = (
             texts([t for t, v in zip(x_fit, valid, strict=True) if not v]),
             [t for t, v in zip(y_fit, valid, strict=True) if not v],
@@ -98,6 +103,23 @@ def run_fold(
         "cpu_seconds": time.process_time() - started,
         "structure": note,
     }
+
+
+def _set_ngram_ranges(title_chars: list[int] | None, keywords: list[int] | None) -> None:
+    """Train this process's models with other character n-gram lengths (each fold runs in a
+    process of its own, so nothing else sees the change)."""
+    import catmap.classify.features as features
+    import catmap.classify.model as model
+
+    if title_chars is not None:
+        features.FIELD_BLOCKS = tuple(
+            (name, field, {**settings, "ngram_range": (title_chars[0], title_chars[1])})
+            if name == "title_chars"
+            else (name, field, settings)
+            for name, field, settings in features.FIELD_BLOCKS
+        )
+    if keywords is not None:
+        model.MODEL_KEYWORD_NGRAM_RANGE = (keywords[0], keywords[1])
 
 
 def _run_task(task: tuple[str, dict[str, Any] | None, int, dict[str, Any]]) -> dict[str, Any]:
@@ -143,7 +165,7 @@ def main(argv: list[str] | None = None) -> int:
     }
     tasks = [(name, settings, fold, data) for name, settings in variants for fold in range(FOLDS)]
     results: dict[str, list[dict[str, Any]]] = {name: [] for name, _ in variants}
-    # A new process per fold: monkeypatch-free, and each fold's memory is returned.
+    # A new process per fold: its n-gram lengths stay in it, and its memory is returned.
     with multiprocessing.get_context("spawn").Pool(args.workers, maxtasksperchild=1) as pool:
         for row in pool.imap_unordered(_run_task, tasks, chunksize=1):
             results[row["name"]].append(row)
