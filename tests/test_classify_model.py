@@ -14,7 +14,7 @@ from catmap.classify.features import ProductTexts
 from catmap.classify.keywords import KeywordMapper
 from catmap.classify.model import MODEL_KEYWORD_NGRAM_RANGE, CategoryModel
 from catmap.classify.storage import load_model, save_model
-from catmap.errors import ModelNotTrained, ModelTreeMismatch
+from catmap.errors import ModelError, ModelNotTrained, ModelTreeMismatch
 from catmap.tree.taxonomy import CategoryTree, load_tree
 from tests._classify_fixtures import labelled_rows, texts_and_labels, write_tree
 
@@ -132,6 +132,20 @@ def test_a_folder_keeps_its_own_ngram_ranges_and_department_floor(
     assert loaded.keywords_.ngram_range == (3, 5)
     assert loaded.featurizer_.vectorizers_["title_words"].ngram_range == (1, 2)
     assert loaded.department_floor == 1e-3
+
+
+@pytest.mark.parametrize("damaged", [4, [4], "4-4", None])
+def test_a_damaged_keyword_range_is_a_model_error_naming_the_folder(
+    trained: CategoryModel, tree: CategoryTree, tmp_path: Path, damaged: object
+) -> None:
+    save_model(trained, tmp_path / "model")
+    path = tmp_path / "model" / "manifest.json"
+    manifest = json.loads(path.read_text(encoding="utf-8"))
+    manifest["keyword_ngram_range"] = damaged
+    path.write_text(json.dumps(manifest), encoding="utf-8")
+    with pytest.raises(ModelError, match="damaged or incomplete") as error:
+        load_model(tmp_path / "model", tree)
+    assert str(tmp_path / "model") in str(error.value)
 
 
 def test_a_folder_trained_with_other_ngram_ranges_maps_with_them(

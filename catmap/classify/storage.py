@@ -335,12 +335,12 @@ def load_model(folder: str | Path, tree: CategoryTree) -> tuple[CategoryModel, d
         }
         featurizer.n_features_ = sum(len(v.vocabulary_) for v in featurizer.vectorizers_.values())
         model.featurizer_ = featurizer
-        keyword_range = tuple(manifest.get("keyword_ngram_range", _EARLIER_KEYWORD_NGRAM_RANGE))
+        low, high = manifest.get("keyword_ngram_range", _EARLIER_KEYWORD_NGRAM_RANGE)
         keywords = KeywordMapper(
             tree=tree,
             temperature=manifest["keyword_temperature"],
             path_weight=manifest["keyword_path_weight"],
-            ngram_range=(int(keyword_range[0]), int(keyword_range[1])),
+            ngram_range=(int(low), int(high)),
         )
         keywords.vectorizer_ = _load_vocabulary(
             src, "keywords", keyword_vectorizer_settings(keywords.ngram_range)
@@ -365,7 +365,7 @@ def load_model(folder: str | Path, tree: CategoryTree) -> tuple[CategoryModel, d
         model.keyword_blend_temperature_ = float(manifest["keyword_blend_temperature"])
         model.metrics_ = dict(manifest.get("metrics", {}))
         model.product_words_ = _optional_array(src / PRODUCT_WORDS)
-    except (KeyError, OSError, ValueError) as error:
+    except (KeyError, OSError, TypeError, ValueError) as error:
         raise ModelError(
             f"the model folder is damaged or incomplete: {error}",
             path=src,
